@@ -1,0 +1,205 @@
+/*!
+The command line: `serve`, `demo`, `import`, `report`, `backup`. Each command opens the database
+(migrating it), does its work through the same library code the server uses, and exits.
+*/
+
+use std::io::Write;
+use std::net::SocketAddr;
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+use std::sync::atomic::Ordering;
+use std::sync::Arc;
+
+use clap::{Parser, Subcommand};
+
+use crate::service;
+use crate::store;
+use crate::web::{self, AppState, Config};
+
+#[derive(Parser)]
+#[command(name = "airledger", version, about = "Local dashboard for compressed-air system audits")]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Serve the dashboard for one database file.
+    Serve {
+        /// The SQLite database file (created if missing).
+        #[arg(long, default_value = "airledger.sqlite")]
+        db: PathBuf,
+        /// Address to listen on.
+        #[arg(long, default_value = "127.0.0.1:8080")]
+        bind: SocketAddr,
+        /// Largest logger file accepted, in MB (bigger uploads get 413).
+        #[arg(long, default_value_t = 1024)]
+        max_upload_mb: u64,
+    },
+    /// Build the demo plant's database if it is missing, then serve it.
+    Demo {
+        #[arg(long, default_value = "airledger-demo.sqlite")]
+        db: PathBuf,
+        #[arg(long, default_value = "127.0.0.1:8080")]
+        bind: SocketAddr,
+        /// Build the database and exit without serving.
+        #[arg(long)]
+        build_only: bool,
+    },
+    /// Import logger files into an audit, through the same path as an upload.
+    Import {
+        #[arg(long)]
+        db: PathBuf,
+        #[arg(long)]
+        audit: i64,
+        /// The column mapping (JSON, as the API's `mapping` part).
+        #[arg(long)]
+        mapping: PathBuf,
+        /// Replace stored readings of the same channels in each file's span.
+        #[arg(long)]
+        replace: bool,
+        #[arg(required = true)]
+        files: Vec<PathBuf>,
+    },
+    /// Print an audit's summary (json) or write its findings page (html).
+    Report {
+        #[arg(long)]
+        db: PathBuf,
+        #[arg(long)]
+        audit: i64,
+        #[arg(long, default_value = "json")]
+        format: String,
+        /// Write to this file instead of standard output.
+        #[arg(long)]
+        out: Option<PathBuf>,
+    },
+    /// Write a consistent copy of the database, also while the server runs.
+    Backup {
+        #[arg(long)]
+        db: PathBuf,
+        #[arg(long)]
+        out: PathBuf,
+    },
+}
+
+pub fn main() -> ExitCode {
+    let cli = Cli::parse();
+    tracing_subscriber::fmt()
+        .with_env_filter(
+            tracing_subscriber::EnvFilter::try_from_default_env()
+                .unwrap_or_else(|_| tracing_subscriber::EnvFilter::new("airledger=info,warn")),
+        )
+        .with_writer(std::io::stderr)
+        .init();
+    let rt = match tokio::runtime::Builder::new_multi_thread().enable_all().build() {
+        Ok(rt) => rt,
+        Err(e) => {
+            eprintln!("error: cannot start the runtime: {e}");
+            return ExitCode::FAILURE;
+        }
+    };
+    match rt.block_on(run(cli.command)) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("error: {e:#}");
+            ExitCode::FAILURE
+        }
+    }
+}
+
+fn config(db: &Path, max_upload_mb: u64) -> Config {
+    let spool_dir = db
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."))
+        .join(".airledger-spool");
+    Config { db_path: db.to_path_buf(), max_upload_bytes: max_upload_mb * 1024 * 1024, spool_dir }
+}
+
+async fn run(command: Command) -> anyhow::Result<()> {
+    match command {
+        Command::Serve { db, bind, max_upload_mb } => {
+            let pool = store::open(&db).await?;
+            web::run_server(AppState::new(pool, config(&db, max_upload_mb)), bind).await
+        }
+        Command::Demo { db, bind, build_only } => {
+            let pool = store::open(&db).await?;
+            let cfg = config(&db, 1024);
+            let id = service::ensure_demo(&pool, &cfg.spool_dir).await?;
+            println!("demo plant: audit {id} in {}", db.display());
+            if build_only {
+                return Ok(());
+            }
+            println!("report: http://{bind}/audits/{id}/report");
+            web::run_server(AppState::new(pool, cfg), bind).await
+        }
+        Command::Import { db, audit, mapping, replace, files } => {
+            let pool = store::open(&db).await?;
+            let text = std::fs::read_to_string(&mapping)?;
+            let mapping: crate::ingest::Mapping = serde_json::from_str(&text)
+                .map_err(|e| anyhow::anyhow!("the mapping {} is not valid: {e}", mapping.display()))?;
+            for f in files {
+                let progress = Arc::new(store::import::Progress::default());
+                let p = progress.clone();
+                let name = f.display().to_string();
+                let ticker = tokio::spawn(async move {
+                    loop {
+                        tokio::time::sleep(std::time::Duration::from_millis(250)).await;
+                        let done = p.bytes_done.load(Ordering::Relaxed);
+                        let total = p.bytes_total.load(Ordering::Relaxed).max(1);
+                        let pct = (done as f64 / total as f64 * 100.0).min(100.0);
+                        let bar = "#".repeat((pct / 5.0) as usize);
+                        eprint!("\r{name}: [{bar:<20}] {pct:5.1} %");
+                        let _ = std::io::stderr().flush();
+                    }
+                });
+                let outcome = service::import_path(&pool, audit, &f, mapping.clone(), replace, progress).await;
+                ticker.abort();
+                eprintln!();
+                match outcome? {
+                    store::import::ImportOutcome::Created(s) => {
+                        println!(
+                            "{}: upload {} with {} rows, {} readings, {} to {}",
+                            f.display(),
+                            s.upload_id,
+                            s.rows,
+                            s.readings,
+                            s.first.as_deref().unwrap_or("-"),
+                            s.last.as_deref().unwrap_or("-")
+                        );
+                        for w in &s.warnings {
+                            println!("  warning: {w}");
+                        }
+                    }
+                    store::import::ImportOutcome::Duplicate { upload_id } => {
+                        println!("{}: already imported as upload {upload_id}; nothing added", f.display());
+                    }
+                }
+            }
+            Ok(())
+        }
+        Command::Report { db, audit, format, out } => {
+            let pool = store::open(&db).await?;
+            let text = match format.as_str() {
+                "json" => serde_json::to_string_pretty(&service::summary_json(&pool, audit, None).await?)?,
+                "html" => crate::web::report::findings_html(&pool, audit).await?,
+                other => anyhow::bail!("unknown format {other:?}: use json or html"),
+            };
+            match out {
+                Some(p) => std::fs::write(&p, text)?,
+                None => println!("{text}"),
+            }
+            Ok(())
+        }
+        Command::Backup { db, out } => {
+            let pool = store::open(&db).await?;
+            if out.exists() {
+                anyhow::bail!("{} exists already; choose a new file", out.display());
+            }
+            store::backup(&pool, &out).await?;
+            println!("backup written to {}", out.display());
+            Ok(())
+        }
+    }
+}

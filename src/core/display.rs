@@ -1,0 +1,226 @@
+/*!
+Every number a person sees, with its unit, in the reader's unit system. Pages and printed findings
+format through [`Fmt`]; the JSON API never does (it is SI-canonical with units in field names).
+
+Flows always say what they are: free air (volume at the site's inlet conditions, ISO 1217).
+*/
+
+use super::units::{
+    kw_per_100cfm, FreeAirFlow, PressureAbs, Temperature, Volume, UnitSystem, M3_PER_FT3, PA_PER_BAR,
+};
+
+/// A number with thousands separators and `decimals` decimals; `-` for a missing value.
+pub fn num(v: f64, decimals: usize) -> String {
+    if !v.is_finite() {
+        return "–".into();
+    }
+    let s = format!("{:.*}", decimals, v.abs());
+    let (int, frac) = match s.split_once('.') {
+        Some((i, f)) => (i.to_string(), Some(f.to_string())),
+        None => (s.clone(), None),
+    };
+    let mut grouped = String::new();
+    for (i, c) in int.chars().enumerate() {
+        if i > 0 && (int.len() - i) % 3 == 0 {
+            grouped.push(',');
+        }
+        grouped.push(c);
+    }
+    let sign = if v < 0.0 && s.chars().any(|c| c.is_ascii_digit() && c != '0') { "-" } else { "" };
+    match frac {
+        Some(f) => format!("{sign}{grouped}.{f}"),
+        None => format!("{sign}{grouped}"),
+    }
+}
+
+/// Decimals that keep about three significant figures for a value of this size.
+fn sig(v: f64) -> usize {
+    let a = v.abs();
+    if a >= 100.0 {
+        0
+    } else if a >= 10.0 {
+        1
+    } else if a >= 1.0 {
+        2
+    } else {
+        3
+    }
+}
+
+/// A number a template may hand over by value or by reference.
+pub trait Num {
+    fn f(&self) -> f64;
+}
+impl Num for f64 {
+    fn f(&self) -> f64 {
+        *self
+    }
+}
+impl<T: Num + ?Sized> Num for &T {
+    fn f(&self) -> f64 {
+        (**self).f()
+    }
+}
+
+/// Formats figures for one reader.
+#[derive(Debug, Clone, Copy)]
+pub struct Fmt {
+    pub units: UnitSystem,
+    pub atmosphere: PressureAbs,
+}
+
+impl Fmt {
+    pub fn new(units: UnitSystem, atmosphere: PressureAbs) -> Self {
+        Self { units, atmosphere }
+    }
+    pub fn is_us(&self) -> bool {
+        self.units == UnitSystem::Us
+    }
+
+    pub fn pressure_bar_g(&self, bar_g: impl Num) -> String {
+        let bar_g = bar_g.f();
+        match self.units {
+            UnitSystem::Si => format!("{} bar(g)", num(bar_g, 2)),
+            UnitSystem::Us => {
+                let p = PressureAbs(bar_g * PA_PER_BAR + self.atmosphere.0);
+                format!("{} psig", num(p.psig(self.atmosphere), 1))
+            }
+        }
+    }
+    pub fn pressure_unit(&self) -> &'static str {
+        if self.is_us() { "psig" } else { "bar(g)" }
+    }
+    pub fn pressure_delta_bar(&self, bar: impl Num) -> String {
+        let bar = bar.f();
+        match self.units {
+            UnitSystem::Si => format!("{} bar", num(bar, 2)),
+            UnitSystem::Us => format!("{} psi", num(bar * PA_PER_BAR / super::units::PA_PER_PSI, 1)),
+        }
+    }
+    pub fn flow_m3_min(&self, q: impl Num) -> String {
+        let q = q.f();
+        match self.units {
+            UnitSystem::Si => format!("{} m³/min free air", num(q, sig(q))),
+            UnitSystem::Us => {
+                let cfm = FreeAirFlow::from_m3_min(q).cfm();
+                format!("{} cfm free air", num(cfm, sig(cfm).min(1)))
+            }
+        }
+    }
+    pub fn flow_unit(&self) -> &'static str {
+        if self.is_us() { "cfm free air" } else { "m³/min free air" }
+    }
+    pub fn air_m3(&self, v: impl Num) -> String {
+        let v = v.f();
+        match self.units {
+            UnitSystem::Si => format!("{} m³ free air", num(v, 0)),
+            UnitSystem::Us => format!("{} ft³ free air", num(v / M3_PER_FT3, 0)),
+        }
+    }
+    pub fn power_kw(&self, kw: impl Num) -> String {
+        let kw = kw.f();
+        format!("{} kW", num(kw, sig(kw).min(1)))
+    }
+    pub fn energy_kwh(&self, kwh: impl Num) -> String {
+        let kwh = kwh.f();
+        if kwh.abs() >= 1.0e6 {
+            format!("{} GWh", num(kwh / 1.0e6, 2))
+        } else if kwh.abs() >= 10_000.0 {
+            format!("{} MWh", num(kwh / 1000.0, 1))
+        } else {
+            format!("{} kWh", num(kwh, 0))
+        }
+    }
+    pub fn specific_power(&self, kw_per_m3_min: impl Num) -> String {
+        let kw_per_m3_min = kw_per_m3_min.f();
+        match self.units {
+            UnitSystem::Si => format!("{} kW/(m³/min)", num(kw_per_m3_min, 2)),
+            UnitSystem::Us => format!("{} kW/100 cfm", num(kw_per_100cfm(kw_per_m3_min), 1)),
+        }
+    }
+    pub fn specific_power_unit(&self) -> &'static str {
+        if self.is_us() { "kW/100 cfm" } else { "kW/(m³/min)" }
+    }
+    /// Specific power in the reader's unit, as a bare number (for chart axes).
+    pub fn specific_power_value(&self, kw_per_m3_min: impl Num) -> f64 {
+        let kw_per_m3_min = kw_per_m3_min.f();
+        if self.is_us() { kw_per_100cfm(kw_per_m3_min) } else { kw_per_m3_min }
+    }
+    pub fn volume_m3(&self, v: impl Num) -> String {
+        let v = v.f();
+        match self.units {
+            UnitSystem::Si => format!("{} m³", num(v, sig(v).min(2))),
+            UnitSystem::Us => format!("{} US gal", num(Volume(v).us_gal(), 0)),
+        }
+    }
+    pub fn temperature_c(&self, c: impl Num) -> String {
+        let c = c.f();
+        match self.units {
+            UnitSystem::Si => format!("{} °C", num(c, 1)),
+            UnitSystem::Us => format!("{} °F", num(Temperature::from_c(c).f(), 0)),
+        }
+    }
+    pub fn money(&self, v: impl Num, currency: &str) -> String {
+        let v = v.f();
+        format!("{} {currency}", num(v, if v.abs() >= 100.0 { 0 } else { 2 }))
+    }
+    /// Cost of compressed air per 1000 m³ (SI) or per 1000 ft³ (US) of free air.
+    pub fn air_cost(&self, per_1000_m3: impl Num, currency: &str) -> String {
+        let per_1000_m3 = per_1000_m3.f();
+        match self.units {
+            UnitSystem::Si => format!("{} {currency} per 1000 m³ free air", num(per_1000_m3, 2)),
+            UnitSystem::Us => format!("{} {currency} per 1000 ft³ free air", num(per_1000_m3 * M3_PER_FT3, 3)),
+        }
+    }
+    pub fn percent(&self, fraction: impl Num) -> String {
+        let fraction = fraction.f();
+        format!("{} %", num(fraction * 100.0, 1))
+    }
+    pub fn years(&self, y: impl Num) -> String {
+        let y = y.f();
+        if !y.is_finite() {
+            "no payback".into()
+        } else if y < 1.0 {
+            format!("{} months", num(y * 12.0, 0))
+        } else {
+            format!("{} years", num(y, 1))
+        }
+    }
+    pub fn hours(&self, h: impl Num) -> String {
+        let h = h.f();
+        format!("{} h", num(h, if h >= 100.0 { 0 } else { 1 }))
+    }
+    pub fn co2_t(&self, t: impl Num) -> String {
+        let t = t.f();
+        format!("{} t CO₂", num(t, 1))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn numbers_group_thousands_and_round() {
+        assert_eq!(num(1234567.891, 2), "1,234,567.89");
+        assert_eq!(num(-0.004, 2), "0.00");
+        assert_eq!(num(-12.5, 1), "-12.5");
+        assert_eq!(num(f64::NAN, 1), "–");
+    }
+
+    #[test]
+    fn both_unit_systems_carry_units_and_reference_conditions() {
+        let atm = PressureAbs(101_325.0);
+        let si = Fmt::new(UnitSystem::Si, atm);
+        let us = Fmt::new(UnitSystem::Us, atm);
+        assert_eq!(si.pressure_bar_g(7.0), "7.00 bar(g)");
+        // 7 bar = 101.5 psi (hand calculation: 700 kPa / 6.894757 kPa/psi).
+        assert_eq!(us.pressure_bar_g(7.0), "101.5 psig");
+        assert_eq!(si.flow_m3_min(10.0), "10.0 m³/min free air");
+        assert_eq!(us.flow_m3_min(10.0), "353.1 cfm free air");
+        // FIELD-NOTES §2: 6.357 kW/(m³/min) = 18 kW/100 cfm.
+        assert_eq!(us.specific_power(6.357), "18.0 kW/100 cfm");
+        assert_eq!(si.temperature_c(20.0), "20.0 °C");
+        assert_eq!(us.temperature_c(20.0), "68 °F");
+    }
+}

@@ -1,0 +1,624 @@
+/*!
+Field tests: the leak measurements an auditor runs or reads from the logs (FIELD-NOTES §5, API.md
+"Field tests"), validated and evaluated into results the API returns as they are.
+
+Every result carries `leak_flow_m3_min`: the leak flow (free air) at the operating or production
+pressure, so estimates from different methods compare side by side, with `_low`/`_high` from the
+default instrument accuracies ([`Accuracy`]).
+
+- `bleed_down`: mean flow `V (p1 - p2) / (p_atm t)`, scaled to the operating pressure by
+  `p_op,abs / p_mean,abs` (choked leak flow is proportional to absolute pressure); the DOE rule of
+  thumb (× 1.25) beside it for comparison (US DOE compressed-air sourcebook, leaks fact sheet).
+- `load_unload`: `T / (T + t)` of the compressor's rated FAD (same source).
+- `idle_flow`: the mean logged flow in a window when nothing but leaks (and fixed users such as dryer
+  purge) draw air; scaled to the production pressure like the bleed-down when one is given.
+- `pressure_decay`: logged pressure falling while every logged compressor is off or unloaded, fitted
+  by `leaks::fit_pressure_decay`.
+
+Safety: these tests can hurt people. [`TEST_CAUTIONS`] are the cautions the pages show wherever a test
+is planned.
+*/
+
+use serde::{Deserialize, Serialize};
+
+use super::analysis::Accuracy;
+use super::leaks;
+use super::model::{CompressorSpec, StorageSpec};
+use super::series::{Frame, Signal};
+use super::states::classify;
+use super::units::{FreeAirFlow, PressureAbs, SiteAir, Volume, PA_PER_BAR};
+
+/// Shown wherever a bleed-down or decay test is planned (FIELD-NOTES §10).
+pub const TEST_CAUTIONS: &[&str] = &[
+    "isolate and lock out the compressors as the site's procedures require before a bleed-down test",
+    "never exceed a receiver's or any vessel's rated pressure; keep clear of drains and relief valves",
+    "defer to local pressure-equipment codes and licensed practice",
+];
+
+/// A field test as the API receives it.
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum FieldTestInput {
+    BleedDown {
+        /// Default: the system volume (receivers + piping and vessels).
+        #[serde(default)]
+        volume_m3: Option<f64>,
+        start_pressure_bar_g: f64,
+        end_pressure_bar_g: f64,
+        duration_s: f64,
+        /// Default: the start pressure.
+        #[serde(default)]
+        operating_pressure_bar_g: Option<f64>,
+    },
+    LoadUnload {
+        compressor: String,
+        loaded_s: f64,
+        unloaded_s: f64,
+    },
+    IdleFlow {
+        start: String,
+        end: String,
+        #[serde(default)]
+        production_pressure_bar_g: Option<f64>,
+    },
+    PressureDecay {
+        start: String,
+        end: String,
+        #[serde(default)]
+        volume_m3: Option<f64>,
+        /// Pressure to report `leak_flow_m3_min` at; default the start pressure of the fit.
+        #[serde(default)]
+        operating_pressure_bar_g: Option<f64>,
+    },
+}
+
+impl FieldTestInput {
+    pub fn method(&self) -> &'static str {
+        match self {
+            Self::BleedDown { .. } => "bleed_down",
+            Self::LoadUnload { .. } => "load_unload",
+            Self::IdleFlow { .. } => "idle_flow",
+            Self::PressureDecay { .. } => "pressure_decay",
+        }
+    }
+}
+
+/// What a test is evaluated against.
+#[derive(Debug, Clone, Copy)]
+pub struct FieldTestContext<'a> {
+    pub site: &'a SiteAir,
+    pub compressors: &'a [CompressorSpec],
+    pub storage: &'a StorageSpec,
+    /// The logged data (needed by `idle_flow` and `pressure_decay`).
+    pub frame: Option<&'a Frame>,
+}
+
+/// A test input that is well-formed but wrong (API 422).
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct FieldError {
+    pub field: String,
+    pub message: String,
+}
+
+impl std::fmt::Display for FieldError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}: {}", self.field, self.message)
+    }
+}
+
+impl std::error::Error for FieldError {}
+
+fn err(field: &str, message: impl Into<String>) -> FieldError {
+    FieldError { field: field.into(), message: message.into() }
+}
+
+impl From<leaks::LeakError> for FieldError {
+    fn from(e: leaks::LeakError) -> Self {
+        FieldError { field: e.field.to_string(), message: e.message }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct BleedDownOutcome {
+    pub mean_leak_flow_m3_min: f64,
+    pub leak_flow_at_operating_pressure_m3_min: f64,
+    /// The DOE rule of thumb (mean flow × 1.25), for comparison only.
+    pub doe_rule_of_thumb_flow_m3_min: f64,
+    pub leak_flow_m3_min: f64,
+    pub leak_flow_m3_min_low: f64,
+    pub leak_flow_m3_min_high: f64,
+    pub mean_pressure_bar_g: f64,
+    pub operating_pressure_bar_g: f64,
+    pub volume_m3: f64,
+    /// "given" or "system_volume".
+    pub volume_source: &'static str,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LoadUnloadOutcome {
+    pub compressor: String,
+    pub leak_fraction: f64,
+    pub leak_flow_m3_min: f64,
+    pub leak_flow_m3_min_low: f64,
+    pub leak_flow_m3_min_high: f64,
+    pub rated_flow_m3_min: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct IdleFlowOutcome {
+    pub leak_flow_m3_min: f64,
+    pub leak_flow_m3_min_low: f64,
+    pub leak_flow_m3_min_high: f64,
+    /// Mean logged flow in the window, at the logged pressure.
+    pub mean_flow_m3_min: f64,
+    pub mean_pressure_bar_g: Option<f64>,
+    pub production_pressure_bar_g: Option<f64>,
+    /// Share of the window's bins with flow logged.
+    pub coverage: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PressureDecayOutcome {
+    pub leak_flow_at_start_pressure_m3_min: f64,
+    pub fit_r2: f64,
+    pub leak_flow_m3_min: f64,
+    pub leak_flow_m3_min_low: f64,
+    pub leak_flow_m3_min_high: f64,
+    pub start_pressure_bar_g: f64,
+    pub end_pressure_bar_g: f64,
+    pub operating_pressure_bar_g: f64,
+    pub duration_s: f64,
+    pub volume_m3: f64,
+    pub volume_source: &'static str,
+    /// Compressors without a logged power column: their state in the window could not be checked.
+    pub unchecked_compressors: Vec<String>,
+}
+
+/// A test's result, serialized flat (the API's `result` object).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(untagged)]
+pub enum FieldTestResult {
+    BleedDown(BleedDownOutcome),
+    LoadUnload(LoadUnloadOutcome),
+    IdleFlow(IdleFlowOutcome),
+    PressureDecay(PressureDecayOutcome),
+}
+
+impl FieldTestResult {
+    /// Leak flow at the operating or production pressure, m³/min free air.
+    pub fn leak_flow_m3_min(&self) -> f64 {
+        match self {
+            Self::BleedDown(r) => r.leak_flow_m3_min,
+            Self::LoadUnload(r) => r.leak_flow_m3_min,
+            Self::IdleFlow(r) => r.leak_flow_m3_min,
+            Self::PressureDecay(r) => r.leak_flow_m3_min,
+        }
+    }
+}
+
+/// Default relative uncertainty (1 standard uncertainty, as a fraction) of a leak estimate by method,
+/// for estimates whose inputs are no longer at hand: bleed-down and pressure decay the volume (±20 %)
+/// with the pressure readings for a 1.5 bar fall; load/unload the rated FAD (±5 %, ISO 1217 capacity
+/// tolerance, from memory) with ±2 s timing on a 200 s cycle (common practice); idle flow the meter.
+pub fn default_relative_uncertainty(method: &str, acc: &Accuracy) -> f64 {
+    match method {
+        "bleed_down" | "pressure_decay" => {
+            let dp = std::f64::consts::SQRT_2 * acc.pressure_abs_bar() / 1.5;
+            quad(&[acc.volume_rel, dp])
+        }
+        "load_unload" => quad(&[0.05, 2.0 / 40.0]),
+        "idle_flow" => acc.flow_rel,
+        _ => quad(&[acc.volume_rel, acc.flow_rel]),
+    }
+}
+
+/// Root sum of squares.
+pub fn quad(parts: &[f64]) -> f64 {
+    parts.iter().map(|x| x * x).sum::<f64>().sqrt()
+}
+
+fn pressure(field: &str, bar_g: f64, site: &SiteAir) -> Result<PressureAbs, FieldError> {
+    if !bar_g.is_finite() {
+        return Err(err(field, format!("pressure must be a number, got {bar_g}")));
+    }
+    let p = PressureAbs::from_bar_g(bar_g, site.atmosphere);
+    if p.0 <= 0.0 {
+        return Err(err(field, format!("{bar_g} bar(g) is below zero absolute at this site's atmosphere")));
+    }
+    Ok(p)
+}
+
+fn volume(field: &str, given: Option<f64>, storage: &StorageSpec) -> Result<(f64, &'static str), FieldError> {
+    let (v, src) = match given {
+        Some(v) => (v, "given"),
+        None => (storage.system_volume_m3(), "system_volume"),
+    };
+    if !(v.is_finite() && v > 0.0) {
+        return Err(err(field, format!("volume must be above 0 m3, got {v} ({src})")));
+    }
+    Ok((v, src))
+}
+
+/// Parse an RFC 3339 time into ms since the epoch.
+pub fn parse_time_ms(field: &str, s: &str) -> Result<i64, FieldError> {
+    s.parse::<jiff::Timestamp>()
+        .map(|t| t.as_millisecond())
+        .map_err(|e| err(field, format!("not an RFC 3339 time with an offset: {s:?} ({e})")))
+}
+
+/// Bins of `frame` whose start lies in `start..=end` (RFC 3339), checked.
+fn window<'f>(
+    frame: Option<&'f Frame>,
+    start: &str,
+    end: &str,
+) -> Result<(&'f Frame, std::ops::Range<usize>), FieldError> {
+    let (t0, t1) = (parse_time_ms("start", start)?, parse_time_ms("end", end)?);
+    if t1 <= t0 {
+        return Err(err("end", format!("end {end} must be after start {start}")));
+    }
+    let frame = frame.ok_or_else(|| err("start", "no logged data in this audit"))?;
+    let g = frame.grid;
+    let first = if t0 <= g.start_ms { 0 } else { ((t0 - g.start_ms + g.step_ms - 1) / g.step_ms) as usize };
+    let last = if t1 < g.start_ms {
+        None
+    } else {
+        Some((((t1 - g.start_ms) / g.step_ms) as usize).min(g.len.saturating_sub(1)))
+    };
+    match last {
+        Some(l) if first <= l && first < g.len => Ok((frame, first..l + 1)),
+        _ => Err(err("start", format!("the window {start} .. {end} lies outside the logged period"))),
+    }
+}
+
+/// Evaluate one field test.
+pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldTestResult, FieldError> {
+    let site = ctx.site;
+    let acc = Accuracy::default();
+    let atm = site.atmosphere;
+    let band = |q: f64, rel: f64| (q * (1.0 - rel).max(0.0), q * (1.0 + rel));
+    match input {
+        FieldTestInput::BleedDown {
+            volume_m3,
+            start_pressure_bar_g,
+            end_pressure_bar_g,
+            duration_s,
+            operating_pressure_bar_g,
+        } => {
+            let p1 = pressure("start_pressure_bar_g", *start_pressure_bar_g, site)?;
+            let p2 = pressure("end_pressure_bar_g", *end_pressure_bar_g, site)?;
+            if p2.0 >= p1.0 {
+                return Err(err(
+                    "end_pressure_bar_g",
+                    format!(
+                        "end pressure {end_pressure_bar_g} bar(g) must be below the start pressure {start_pressure_bar_g} bar(g)"
+                    ),
+                ));
+            }
+            if !(duration_s.is_finite() && *duration_s > 0.0) {
+                return Err(err("duration_s", format!("duration must be above 0 s, got {duration_s}")));
+            }
+            let op_g = operating_pressure_bar_g.unwrap_or(*start_pressure_bar_g);
+            let op = pressure("operating_pressure_bar_g", op_g, site)?;
+            let (v, src) = volume("volume_m3", *volume_m3, ctx.storage)?;
+            let r = leaks::bleed_down(Volume(v), p1, p2, *duration_s, op, site)?;
+            let q = r.leak_flow_at_operating_pressure.m3_min();
+            let dp_rel = std::f64::consts::SQRT_2 * acc.pressure_abs_bar()
+                / (start_pressure_bar_g - end_pressure_bar_g);
+            let (lo, hi) = band(q, quad(&[acc.volume_rel, dp_rel]));
+            Ok(FieldTestResult::BleedDown(BleedDownOutcome {
+                mean_leak_flow_m3_min: r.mean_leak_flow.m3_min(),
+                leak_flow_at_operating_pressure_m3_min: q,
+                doe_rule_of_thumb_flow_m3_min: r.doe_rule_of_thumb_flow.m3_min(),
+                leak_flow_m3_min: q,
+                leak_flow_m3_min_low: lo,
+                leak_flow_m3_min_high: hi,
+                mean_pressure_bar_g: 0.5 * (start_pressure_bar_g + end_pressure_bar_g),
+                operating_pressure_bar_g: op_g,
+                volume_m3: v,
+                volume_source: src,
+            }))
+        }
+        FieldTestInput::LoadUnload { compressor, loaded_s, unloaded_s } => {
+            let c = ctx.compressors.iter().find(|c| &c.tag == compressor).ok_or_else(|| {
+                err("compressor", format!("no compressor tagged {compressor:?} in this audit"))
+            })?;
+            if !(loaded_s.is_finite() && *loaded_s > 0.0) {
+                return Err(err("loaded_s", format!("loaded time must be above 0 s, got {loaded_s}")));
+            }
+            if !(unloaded_s.is_finite() && *unloaded_s >= 0.0) {
+                return Err(err(
+                    "unloaded_s",
+                    format!("unloaded time must not be negative, got {unloaded_s}"),
+                ));
+            }
+            let (f, q) =
+                leaks::load_unload(*loaded_s, *unloaded_s, FreeAirFlow::from_m3_min(c.rated_flow_m3_min))?;
+            let q = q.m3_min();
+            let timing = 2.0 / loaded_s.min(unloaded_s.max(1.0));
+            let (lo, hi) = band(q, quad(&[0.05, timing]));
+            Ok(FieldTestResult::LoadUnload(LoadUnloadOutcome {
+                compressor: compressor.clone(),
+                leak_fraction: f,
+                leak_flow_m3_min: q,
+                leak_flow_m3_min_low: lo,
+                leak_flow_m3_min_high: hi,
+                rated_flow_m3_min: c.rated_flow_m3_min,
+            }))
+        }
+        FieldTestInput::IdleFlow { start, end, production_pressure_bar_g } => {
+            let (frame, bins) = window(ctx.frame, start, end)?;
+            let flow = frame.system_flow().ok_or_else(|| {
+                err(
+                    "start",
+                    "no flow logged: an idle-flow test needs a flow meter (a load/unload test needs none)",
+                )
+            })?;
+            let n = bins.len();
+            let vals: Vec<f64> =
+                flow[bins.clone()].iter().filter(|v| v.is_finite()).map(|&v| v as f64).collect();
+            if vals.is_empty() {
+                return Err(err("start", format!("no flow logged between {start} and {end}")));
+            }
+            let mean_q = vals.iter().sum::<f64>() / vals.len() as f64;
+            let mean_p = frame.header_pressure().and_then(|c| {
+                let v: Vec<f64> =
+                    c.values[bins.clone()].iter().filter(|v| v.is_finite()).map(|&v| v as f64).collect();
+                (!v.is_empty()).then(|| v.iter().sum::<f64>() / v.len() as f64)
+            });
+            let mut q = mean_q;
+            if let Some(pp) = production_pressure_bar_g {
+                let prod = pressure("production_pressure_bar_g", *pp, site)?;
+                let pm = mean_p.ok_or_else(|| {
+                    err("production_pressure_bar_g", "no pressure logged in the window to scale from")
+                })?;
+                q *= prod.0 / pm;
+            }
+            let (lo, hi) = band(q * 60.0, acc.flow_rel);
+            Ok(FieldTestResult::IdleFlow(IdleFlowOutcome {
+                leak_flow_m3_min: q * 60.0,
+                leak_flow_m3_min_low: lo,
+                leak_flow_m3_min_high: hi,
+                mean_flow_m3_min: mean_q * 60.0,
+                mean_pressure_bar_g: mean_p.map(|p| PressureAbs(p).bar_g(atm)),
+                production_pressure_bar_g: *production_pressure_bar_g,
+                coverage: vals.len() as f64 / n as f64,
+            }))
+        }
+        FieldTestInput::PressureDecay { start, end, volume_m3, operating_pressure_bar_g } => {
+            let (frame, bins) = window(ctx.frame, start, end)?;
+            let p =
+                frame.header_pressure().ok_or_else(|| err("start", "no pressure logged in this audit"))?;
+            let mut unchecked = Vec::new();
+            for (i, c) in ctx.compressors.iter().enumerate() {
+                match frame
+                    .columns
+                    .iter()
+                    .find(|col| col.signal == Signal::Power && col.compressor == Some(i))
+                {
+                    Some(col) => {
+                        let s = classify(c, &col.values[bins.clone()]);
+                        if let Some(k) = s.iter().position(|s| s.delivering()) {
+                            let t =
+                                jiff::Timestamp::from_millisecond(frame.grid.bin_start_ms(bins.start + k))
+                                    .map(|t| t.to_string())
+                                    .unwrap_or_default();
+                            return Err(err(
+                                "start",
+                                format!("compressor {} delivers air at {t}: a pressure-decay window needs every compressor off or unloaded", c.tag),
+                            ));
+                        }
+                    }
+                    None => unchecked.push(c.tag.clone()),
+                }
+            }
+            let (v, src) = volume("volume_m3", *volume_m3, ctx.storage)?;
+            let g = frame.grid;
+            let t_first = g.bin_start_ms(bins.start);
+            let samples: Vec<(f64, PressureAbs)> = bins
+                .clone()
+                .filter(|&i| p.values[i].is_finite())
+                .map(|i| {
+                    (
+                        (g.bin_start_ms(i) - t_first) as f64 / 1000.0 + 0.5 * g.step_s(),
+                        PressureAbs(p.values[i] as f64),
+                    )
+                })
+                .collect();
+            if samples.len() < 3 {
+                return Err(err(
+                    "start",
+                    format!(
+                        "only {} pressure bins logged between {start} and {end}; at least 3 are needed",
+                        samples.len()
+                    ),
+                ));
+            }
+            let fit = leaks::fit_pressure_decay(&samples, Volume(v), site)?;
+            let q_start = fit.leak_flow_at_start.m3_min();
+            let start_g = fit.start_pressure.bar_g(atm);
+            let op_g = operating_pressure_bar_g.unwrap_or(start_g);
+            let op = pressure("operating_pressure_bar_g", op_g, site)?;
+            let q = q_start * op.0 / fit.start_pressure.0;
+            let fall = (start_g - fit.end_pressure.bar_g(atm)).max(1e-3);
+            let rel = quad(&[acc.volume_rel, std::f64::consts::SQRT_2 * acc.pressure_abs_bar() / fall]);
+            let (lo, hi) = band(q, rel);
+            Ok(FieldTestResult::PressureDecay(PressureDecayOutcome {
+                leak_flow_at_start_pressure_m3_min: q_start,
+                fit_r2: fit.fit_r2,
+                leak_flow_m3_min: q,
+                leak_flow_m3_min_low: lo,
+                leak_flow_m3_min_high: hi,
+                start_pressure_bar_g: start_g,
+                end_pressure_bar_g: fit.end_pressure.bar_g(atm),
+                operating_pressure_bar_g: op_g,
+                duration_s: fit.duration_s,
+                volume_m3: v,
+                volume_source: src,
+                unchecked_compressors: unchecked,
+            }))
+        }
+    }
+}
+
+/// Gauge pressure in bar from Pa absolute (a helper for callers building frames in tests and demos).
+pub fn bar_g_to_pa_abs(bar_g: f64, site: &SiteAir) -> f64 {
+    bar_g * PA_PER_BAR + site.atmosphere.0
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::core::model::Control;
+    use crate::core::series::{FrameColumn, Grid};
+    use crate::core::states::tests::spec;
+
+    fn site() -> SiteAir {
+        SiteAir::new(101.325, 20.0)
+    }
+
+    #[test]
+    fn bleed_down_matches_the_doe_worked_example() {
+        // FIELD-NOTES §11 (DOE sourcebook formula): V = 5 ft³, 100 -> 50 psig in 60 min -> 0.354 cfm
+        // with the 1.25 factor. The site is at 14.7 psia as the US formula assumes.
+        let s = SiteAir::new(14.7 * 6.894_757_293_168, 20.0);
+        let psi_in_bar = 6.894_757_293_168 / 100.0;
+        let storage = StorageSpec::default();
+        let ctx = FieldTestContext { site: &s, compressors: &[], storage: &storage, frame: None };
+        let input: FieldTestInput = serde_json::from_str(&format!(
+            r#"{{"kind": "bleed_down", "volume_m3": {}, "start_pressure_bar_g": {}, "end_pressure_bar_g": {}, "duration_s": 3600}}"#,
+            5.0 * 0.028_316_846_592,
+            100.0 * psi_in_bar,
+            50.0 * psi_in_bar
+        ))
+        .unwrap();
+        let FieldTestResult::BleedDown(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
+        let cfm = |m3_min: f64| m3_min * 35.314_666_7;
+        assert!((cfm(r.doe_rule_of_thumb_flow_m3_min) - 0.354).abs() < 0.001, "{r:?}");
+        // Mean flow 5 x 50 / (60 x 14.7) cfm; at the start pressure scaled by 114.7 / 89.7 (FIELD-NOTES §5).
+        let mean = 5.0 * 50.0 / (60.0 * 14.7);
+        assert!((cfm(r.mean_leak_flow_m3_min) - mean).abs() < 1e-4);
+        assert!((cfm(r.leak_flow_m3_min) - mean * 114.7 / 89.7).abs() < 1e-4);
+        assert!(r.leak_flow_m3_min_low < r.leak_flow_m3_min && r.leak_flow_m3_min < r.leak_flow_m3_min_high);
+        let json = serde_json::to_value(FieldTestResult::BleedDown(r)).unwrap();
+        assert!(json.get("mean_leak_flow_m3_min").is_some());
+        assert!(json.get("leak_flow_at_operating_pressure_m3_min").is_some());
+    }
+
+    #[test]
+    fn load_unload_7_5_of_30_min_is_25_percent() {
+        // FIELD-NOTES §11 (DOE sourcebook): 7.5 min on-load in 30 min -> 25 % leakage.
+        let cs = vec![spec("C2", Control::LoadUnload, 55.0, 9.5)];
+        let storage = StorageSpec::default();
+        let s = site();
+        let ctx = FieldTestContext { site: &s, compressors: &cs, storage: &storage, frame: None };
+        let input: FieldTestInput = serde_json::from_str(
+            r#"{"kind": "load_unload", "compressor": "C2", "loaded_s": 450, "unloaded_s": 1350}"#,
+        )
+        .unwrap();
+        let r = evaluate(&input, &ctx).unwrap();
+        let json = serde_json::to_value(&r).unwrap();
+        assert!((json["leak_fraction"].as_f64().unwrap() - 0.25).abs() < 1e-12);
+        assert!((r.leak_flow_m3_min() - 0.25 * 9.5).abs() < 1e-12);
+        let bad = FieldTestInput::LoadUnload { compressor: "C9".into(), loaded_s: 40.0, unloaded_s: 160.0 };
+        assert_eq!(evaluate(&bad, &ctx).unwrap_err().field, "compressor");
+    }
+
+    #[test]
+    fn bad_inputs_are_rejected_with_their_field() {
+        let s = site();
+        let storage = StorageSpec { receivers_m3: vec![2.0], other_volume_m3: 0.5 };
+        let ctx = FieldTestContext { site: &s, compressors: &[], storage: &storage, frame: None };
+        let bd = |p1: f64, p2: f64, t: f64| FieldTestInput::BleedDown {
+            volume_m3: None,
+            start_pressure_bar_g: p1,
+            end_pressure_bar_g: p2,
+            duration_s: t,
+            operating_pressure_bar_g: None,
+        };
+        assert_eq!(evaluate(&bd(7.0, -1.5, 60.0), &ctx).unwrap_err().field, "end_pressure_bar_g");
+        assert_eq!(evaluate(&bd(5.0, 6.0, 60.0), &ctx).unwrap_err().field, "end_pressure_bar_g");
+        assert_eq!(evaluate(&bd(7.0, 5.0, 0.0), &ctx).unwrap_err().field, "duration_s");
+        // The default volume is the system volume, 2.5 m³.
+        let FieldTestResult::BleedDown(r) = evaluate(&bd(7.0, 5.5, 95.0), &ctx).unwrap() else { panic!() };
+        assert_eq!((r.volume_m3, r.volume_source), (2.5, "system_volume"));
+        let w = FieldTestInput::IdleFlow {
+            start: "2026-03-02T06:00:00Z".into(),
+            end: "2026-03-02T05:00:00Z".into(),
+            production_pressure_bar_g: None,
+        };
+        assert_eq!(evaluate(&w, &ctx).unwrap_err().field, "end");
+        let w = FieldTestInput::IdleFlow {
+            start: "2026-03-02T04:00:00Z".into(),
+            end: "2026-03-02T05:00:00Z".into(),
+            production_pressure_bar_g: None,
+        };
+        assert_eq!(evaluate(&w, &ctx).unwrap_err().field, "start"); // no logged data
+    }
+
+    /// A frame 2026-03-02T00:00Z, 10 s bins, one hour: pressure decaying exponentially from 7 bar(g)
+    /// with time constant `tau_s`, a constant flow of `flow_m3_min`, and C1's power.
+    pub(crate) fn decay_frame(s: &SiteAir, tau_s: f64, flow_m3_min: f64, c1_kw: f32) -> Frame {
+        let start_ms = 1_772_409_600_000; // 2026-03-02T00:00:00Z
+        let grid = Grid { start_ms, step_ms: 10_000, len: 360 };
+        let p0 = bar_g_to_pa_abs(7.0, s);
+        let pressure: Vec<f32> =
+            (0..360).map(|i| (p0 * (-(i as f64 * 10.0 + 5.0) / tau_s).exp()) as f32).collect();
+        let col =
+            |signal, compressor, values| FrameColumn { signal, compressor, label: String::new(), values };
+        Frame {
+            grid,
+            columns: vec![
+                col(Signal::Pressure, None, pressure),
+                col(Signal::Flow, None, vec![(flow_m3_min / 60.0) as f32; 360]),
+                col(Signal::Power, Some(0), vec![c1_kw * 1000.0; 360]),
+            ],
+        }
+    }
+
+    #[test]
+    fn pressure_decay_recovers_the_leak_of_an_exponential_fall() {
+        // Choked leaks flow in proportion to absolute pressure (FIELD-NOTES §5), so p = p0 e^(-t/tau)
+        // and Q_FAD = V p / (p_atm tau): at 7 bar(g), V = 3 m³, tau = 1200 s -> 3 x 8.01325 / 1200 m³/s.
+        let s = site();
+        let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+        let storage = StorageSpec { receivers_m3: vec![3.0], other_volume_m3: 0.0 };
+        let frame = decay_frame(&s, 1200.0, 0.0, 0.0);
+        let ctx = FieldTestContext { site: &s, compressors: &cs, storage: &storage, frame: Some(&frame) };
+        let input = FieldTestInput::PressureDecay {
+            start: "2026-03-02T00:00:00Z".into(),
+            end: "2026-03-02T00:10:00Z".into(),
+            volume_m3: None,
+            operating_pressure_bar_g: None,
+        };
+        let FieldTestResult::PressureDecay(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
+        let p_start = bar_g_to_pa_abs(7.0, &s) * (-5.0f64 / 1200.0).exp();
+        let expect = 3.0 * p_start / (s.atmosphere.0 * 1200.0) * 60.0;
+        assert!((r.leak_flow_at_start_pressure_m3_min - expect).abs() / expect < 1e-3, "{r:?}");
+        assert!(r.fit_r2 > 0.999);
+        assert!(r.unchecked_compressors.is_empty());
+        // The same window with C1 loaded is refused.
+        let frame = decay_frame(&s, 1200.0, 0.0, 55.0);
+        let ctx = FieldTestContext { frame: Some(&frame), ..ctx };
+        assert_eq!(evaluate(&input, &ctx).unwrap_err().field, "start");
+    }
+
+    #[test]
+    fn idle_flow_scales_to_the_production_pressure() {
+        // Choked leaks scale with absolute pressure (FIELD-NOTES §5): a flat 1.2 m³/min at the logged
+        // mean pressure, reported at 7 bar(g).
+        let s = site();
+        let storage = StorageSpec::default();
+        let frame = decay_frame(&s, 1e12, 1.2, 0.0); // tau huge: pressure flat at 7 bar(g)
+        let ctx = FieldTestContext { site: &s, compressors: &[], storage: &storage, frame: Some(&frame) };
+        let input = FieldTestInput::IdleFlow {
+            start: "2026-03-02T00:00:00Z".into(),
+            end: "2026-03-02T00:30:00Z".into(),
+            production_pressure_bar_g: Some(6.0),
+        };
+        let FieldTestResult::IdleFlow(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
+        assert!((r.mean_flow_m3_min - 1.2).abs() < 1e-6);
+        let expect = 1.2 * bar_g_to_pa_abs(6.0, &s) / bar_g_to_pa_abs(7.0, &s);
+        assert!((r.leak_flow_m3_min - expect).abs() < 1e-5, "{r:?}");
+        assert_eq!(r.coverage, 1.0);
+    }
+}

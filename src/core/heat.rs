@@ -1,0 +1,318 @@
+/*!
+Heat of compression: where a compressor's input goes, how much of it a heat-recovery system could
+deliver, and what that heat is worth (FIELD-NOTES §7; US DOE heat-recovery fact sheet in the
+"Improving Compressed Air System Performance" sourcebook).
+
+Nearly all electrical input ends as heat. What does not leave through the coolers, the motor and the
+casing is carried away by the compressed air, which leaves the package warmer than it came in:
+m cp dT, with about 10 K of delivery rise for an aftercooled package (common practice). The heat
+that can be recovered depends on the machine and its cooling; it counts only where and when the
+site can use it (the heating months for space heat, all year for process or boiler make-up water).
+
+Safety: heat recovery handles hot oil, hot ducts and water above 60 °C, and a blocked recovery
+circuit must never stop the compressor's own cooling; see [`HEAT_RECOVERY_CAUTIONS`].
+*/
+
+use super::model::{CompressorKind, Cooling};
+use super::thermo::CP_AIR;
+use super::units::Energy;
+
+/// Delivery-air temperature rise over the inlet for an aftercooled package, K (common practice).
+pub const DEFAULT_DELIVERY_TEMPERATURE_RISE_K: f64 = 10.0;
+
+/// The cautions to show wherever a user plans a heat-recovery measure (FIELD-NOTES §10).
+pub const HEAT_RECOVERY_CAUTIONS: &[&str] = &[
+    "hot oil, hot ducts and water above 60 °C can burn: guard and insulate them",
+    "interlock the recovery circuit so that a blocked or failed circuit never stops the \
+     compressor's own cooling",
+    "follow local codes and licensed practice for pressure equipment, potable water and \
+     ventilation",
+];
+
+/// Where the electrical input of a compressor package leaves, as fractions of the input (they sum
+/// to 1).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct HeatSplit {
+    /// Oil cooler of an oil-injected machine, or intercoolers (with the gear and bearing oil
+    /// cooler) of a dry multi-stage machine.
+    pub oil_or_intercooler: f64,
+    pub aftercooler: f64,
+    /// Motor losses and radiation from the casing.
+    pub motor_and_casing: f64,
+    /// Left in the compressed air (delivered warmer than the inlet).
+    pub in_air: f64,
+}
+
+impl HeatSplit {
+    pub fn total(&self) -> f64 {
+        self.oil_or_intercooler + self.aftercooler + self.motor_and_casing + self.in_air
+    }
+}
+
+/// Typical split of the input by compressor kind.
+///
+/// - Oil-injected (lubricated screw, vane): 76 % oil cooler, 13 % aftercooler, 7 % motor and
+///   casing, 4 % in the air: the middle of FIELD-NOTES §7's 72-80 / 10-15 / 4-9 % (marked there as
+///   from memory), the rest in the delivered air (about 3 % for 10 K at 18 kW/100 cfm, see the
+///   tests).
+/// - Oil-free screw, centrifugal, reciprocating: intercoolers (with the oil cooler of gears and
+///   bearings, or the cylinder jackets) take the larger part, the aftercooler most of the rest
+///   (common practice, estimates).
+/// - Scroll: no oil and no intercooler; fan-cooled scroll fins and aftercooler (common practice).
+///
+/// The cooling medium changes where the heat can be captured ([`recoverable_fraction`]), not how it
+/// leaves the compression, so `_cooling` does not change the split.
+pub fn heat_split(kind: CompressorKind, _cooling: Cooling) -> HeatSplit {
+    let (oil_or_intercooler, aftercooler, motor_and_casing, in_air) = match kind {
+        CompressorKind::LubricatedScrew | CompressorKind::Vane => (0.76, 0.13, 0.07, 0.04),
+        CompressorKind::OilFreeScrew => (0.55, 0.33, 0.08, 0.04),
+        CompressorKind::Centrifugal => (0.58, 0.32, 0.06, 0.04),
+        CompressorKind::Reciprocating => (0.55, 0.30, 0.11, 0.04),
+        CompressorKind::Scroll => (0.0, 0.55, 0.41, 0.04),
+    };
+    HeatSplit {
+        oil_or_intercooler,
+        aftercooler,
+        motor_and_casing,
+        in_air,
+    }
+}
+
+/// Heat rejected by the package over a period: the energy balance input - m cp dT, where m is the
+/// air delivered (kg) and dT its delivery temperature rise over the inlet
+/// ([`DEFAULT_DELIVERY_TEMPERATURE_RISE_K`] for an aftercooled package). Never below zero.
+pub fn heat_rejected(input: Energy, air_mass_kg: f64, delivery_temperature_rise_k: f64) -> Energy {
+    let in_air = air_mass_kg * CP_AIR * delivery_temperature_rise_k;
+    Energy((input.0 - in_air).max(0.0))
+}
+
+/// Fraction of the electrical input that a well-designed heat-recovery system could deliver as
+/// usable heat.
+///
+/// - Lubricated screw and vane (oil-injected): 0.80 air-cooled (ducted cooling air), 0.90
+///   water-cooled (the oil cooler's heat into water), inside the DOE heat-recovery fact sheet's
+///   80-93 % (FIELD-NOTES §7).
+/// - The others are common practice, estimates: oil-free screw 0.70 / 0.85 (hot intercooler and
+///   aftercooler), centrifugal 0.60 / 0.80, reciprocating 0.50 / 0.70, scroll 0.55 / 0.60.
+pub fn recoverable_fraction(kind: CompressorKind, cooling: Cooling) -> f64 {
+    match (kind, cooling) {
+        (CompressorKind::LubricatedScrew | CompressorKind::Vane, Cooling::Air) => 0.80,
+        (CompressorKind::LubricatedScrew | CompressorKind::Vane, Cooling::Water) => 0.90,
+        (CompressorKind::OilFreeScrew, Cooling::Air) => 0.70,
+        (CompressorKind::OilFreeScrew, Cooling::Water) => 0.85,
+        (CompressorKind::Centrifugal, Cooling::Air) => 0.60,
+        (CompressorKind::Centrifugal, Cooling::Water) => 0.80,
+        (CompressorKind::Reciprocating, Cooling::Air) => 0.50,
+        (CompressorKind::Reciprocating, Cooling::Water) => 0.70,
+        (CompressorKind::Scroll, Cooling::Air) => 0.55,
+        (CompressorKind::Scroll, Cooling::Water) => 0.60,
+    }
+}
+
+/// What the recovered heat would serve.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum HeatUseKind {
+    /// Space heating: useful only in the heating months.
+    SpaceHeating,
+    /// Process or boiler make-up water: useful all year.
+    ProcessWater,
+}
+
+/// A use for recovered heat.
+#[derive(Debug, Clone, PartialEq)]
+pub struct HeatUse {
+    pub kind: HeatUseKind,
+    /// Months (1 = January ... 12 = December) in which space heat is needed; ignored for process
+    /// water. Values outside 1-12 and repeats are ignored.
+    pub heating_months: Vec<u8>,
+}
+
+/// The worth of recovered heat (FIELD-NOTES §7): `recoverable_by_month_kwh[0]` is January. Counts
+/// the months in which the heat is used, and values it as the fuel the heater no longer burns:
+/// fuel = useful / heater efficiency, money = fuel x price. Returns (useful kWh, fuel kWh
+/// displaced, money). A heater efficiency that is not positive displaces nothing (0 fuel, 0 money).
+pub fn recovered_value(
+    recoverable_by_month_kwh: &[f64; 12],
+    use_: &HeatUse,
+    heater_efficiency: f64,
+    fuel_price_per_kwh: f64,
+) -> (f64, f64, f64) {
+    let mut used = [false; 12];
+    match use_.kind {
+        HeatUseKind::ProcessWater => used = [true; 12],
+        HeatUseKind::SpaceHeating => {
+            for &m in &use_.heating_months {
+                if (1..=12).contains(&m) {
+                    used[usize::from(m - 1)] = true;
+                }
+            }
+        }
+    }
+    let useful_kwh: f64 = recoverable_by_month_kwh
+        .iter()
+        .zip(used)
+        .filter(|(_, u)| *u)
+        .map(|(kwh, _)| kwh)
+        .sum();
+    let fuel_kwh = if heater_efficiency > 0.0 {
+        useful_kwh / heater_efficiency
+    } else {
+        0.0
+    };
+    (useful_kwh, fuel_kwh, fuel_kwh * fuel_price_per_kwh)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn fixture() -> serde_json::Value {
+        serde_json::from_str(include_str!("../../tests/reference/fixture.json")).unwrap()
+    }
+
+    /// A reference value from the fixture written by tests/reference/make_reference.py.
+    fn reference(name: &str) -> f64 {
+        fixture()["values"][name]["value"]
+            .as_f64()
+            .unwrap_or_else(|| panic!("fixture has no value {name}"))
+    }
+
+    fn rel(a: f64, b: f64) -> f64 {
+        ((a - b) / b).abs()
+    }
+
+    /// Mass flow of 100 cfm of free air at 101.325 kPa and 20 °C, kg/s (ideal gas, R = 287).
+    fn mass_flow_100_cfm() -> f64 {
+        let v_m3_s = 100.0 * 0.028_316_846_592 / 60.0;
+        101_325.0 * v_m3_s / (287.0 * 293.15)
+    }
+
+    #[test]
+    fn every_split_accounts_for_the_whole_input() {
+        for &kind in CompressorKind::ALL {
+            for &cooling in Cooling::ALL {
+                let s = heat_split(kind, cooling);
+                assert!((s.total() - 1.0).abs() < 1e-12, "{kind:?}");
+                // Recovery cannot take more than leaves through coolers, motor and casing.
+                assert!(
+                    recoverable_fraction(kind, cooling) <= 1.0 - s.in_air,
+                    "{kind:?}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn oil_injected_screw_split_lies_in_the_field_notes_ranges() {
+        // FIELD-NOTES §7 (from memory there): 72-80 % oil cooler, 10-15 % aftercooler, 4-9 % motor.
+        let s = heat_split(CompressorKind::LubricatedScrew, Cooling::Air);
+        assert!((0.72..=0.80).contains(&s.oil_or_intercooler));
+        assert!((0.10..=0.15).contains(&s.aftercooler));
+        assert!((0.04..=0.09).contains(&s.motor_and_casing));
+    }
+
+    #[test]
+    fn the_split_left_in_the_air_agrees_with_the_energy_balance() {
+        // 18 kW/100 cfm (FIELD-NOTES §2/§3 typical lubricated screw), one hour at full load,
+        // delivered 10 K above the inlet (common practice): m cp dT = 0.0568 x 1004.5 x 10 = 571 W,
+        // 3.2 % of the input; the split's 4 % is within one percentage point of it.
+        let input = Energy::from_kwh(18.0);
+        let air_kg = mass_flow_100_cfm() * 3600.0;
+        let rejected = heat_rejected(input, air_kg, DEFAULT_DELIVERY_TEMPERATURE_RISE_K);
+        let in_air_fraction = 1.0 - rejected.0 / input.0;
+        assert!(
+            (in_air_fraction - 0.0317).abs() < 0.0005,
+            "{in_air_fraction}"
+        );
+        let split = heat_split(CompressorKind::LubricatedScrew, Cooling::Air);
+        assert!((split.in_air - in_air_fraction).abs() < 0.01);
+    }
+
+    #[test]
+    fn heat_rejected_is_the_input_less_what_the_air_carries() {
+        // By hand: 100 kWh in, 1000 kg of air 10 K warmer: 1000 x 1004.5 x 10 J = 2.790 kWh.
+        let r = heat_rejected(Energy::from_kwh(100.0), 1000.0, 10.0);
+        assert!((r.kwh() - (100.0 - 10_045_000.0 / 3.6e6)).abs() < 1e-9);
+        // No delivery rise: every joule is rejected; never negative.
+        assert_eq!(heat_rejected(Energy(5.0), 1000.0, 0.0), Energy(5.0));
+        assert_eq!(heat_rejected(Energy(5.0), 1000.0, 10.0), Energy(0.0));
+    }
+
+    #[test]
+    fn ideal_gas_cp_is_close_to_coolprop_real_air() {
+        // fixture: CoolProp 8.0.0 Cpmass of air at 20 °C, 1 atm = 1006.1 J/(kg K); ours 1004.5:
+        // 0.16 % low. Tolerance stated: 0.5 %.
+        assert!(rel(CP_AIR, reference("thermo.coolprop_cp_20c_j_kg_k")) < 0.005);
+    }
+
+    #[test]
+    fn recoverable_heat_agrees_with_the_doe_50000_btu_per_100_cfm_rule() {
+        // DOE heat-recovery fact sheet (FIELD-NOTES §7): "about 50,000 Btu/h per 100 cfm of
+        // capacity at full load". fixture: pint 0.25.3, 50 000 Btu/h = 14.654 kW. The rule is a
+        // rounded figure for a typical lubricated screw; ours for 18 kW/100 cfm (FIELD-NOTES §2),
+        // air cooled: 0.80 x 18 kW = 14.4 kW, 1.7 % below the rule. Tolerance stated: 5 %.
+        let rule_w = reference("heat.doe_rule_50000_btu_h_in_w");
+        assert!((rule_w - 14_654.0).abs() < 1.0);
+        let input = Energy::from_kwh(18.0);
+        let frac = recoverable_fraction(CompressorKind::LubricatedScrew, Cooling::Air);
+        let recoverable_w = input.0 * frac / 3600.0;
+        assert!(rel(recoverable_w, rule_w) < 0.05, "{recoverable_w} W");
+        // And what is recoverable is less than what the package rejects.
+        let air_kg = mass_flow_100_cfm() * 3600.0;
+        let rejected = heat_rejected(input, air_kg, DEFAULT_DELIVERY_TEMPERATURE_RISE_K);
+        assert!(recoverable_w * 3600.0 < rejected.0);
+    }
+
+    #[test]
+    fn lubricated_screw_recovery_lies_in_the_doe_range() {
+        // FIELD-NOTES §7 (DOE heat-recovery fact sheet): 80-93 %.
+        for c in [Cooling::Air, Cooling::Water] {
+            let f = recoverable_fraction(CompressorKind::LubricatedScrew, c);
+            assert!((0.80..=0.93).contains(&f));
+        }
+        assert!(
+            recoverable_fraction(CompressorKind::LubricatedScrew, Cooling::Water)
+                > recoverable_fraction(CompressorKind::LubricatedScrew, Cooling::Air)
+        );
+    }
+
+    #[test]
+    fn space_heat_counts_only_in_the_heating_months() {
+        // Months 1..12 recover 100, 200, ... 1200 kWh.
+        let by_month: [f64; 12] = std::array::from_fn(|i| 100.0 * (i as f64 + 1.0));
+        let winter = HeatUse {
+            kind: HeatUseKind::SpaceHeating,
+            heating_months: vec![1, 2, 3, 11, 12],
+        };
+        let (useful, fuel, money) = recovered_value(&by_month, &winter, 0.9, 0.08);
+        // By hand: 100 + 200 + 300 + 1100 + 1200 = 2900 kWh; / 0.9 = 3222.2 kWh; x 0.08 = 257.78.
+        assert!((useful - 2900.0).abs() < 1e-9);
+        assert!((fuel - 2900.0 / 0.9).abs() < 1e-9);
+        assert!((money - 2900.0 / 0.9 * 0.08).abs() < 1e-9);
+        // Repeats and impossible months are ignored.
+        let odd = HeatUse {
+            kind: HeatUseKind::SpaceHeating,
+            heating_months: vec![1, 1, 0, 13],
+        };
+        assert!((recovered_value(&by_month, &odd, 0.9, 0.08).0 - 100.0).abs() < 1e-9);
+    }
+
+    #[test]
+    fn process_water_counts_all_year() {
+        let by_month = [500.0; 12];
+        let water = HeatUse {
+            kind: HeatUseKind::ProcessWater,
+            heating_months: vec![1],
+        };
+        let (useful, fuel, money) = recovered_value(&by_month, &water, 0.8, 0.10);
+        // By hand: 6000 kWh; / 0.8 = 7500 kWh of fuel; x 0.10 = 750.
+        assert!((useful - 6000.0).abs() < 1e-9);
+        assert!((fuel - 7500.0).abs() < 1e-9);
+        assert!((money - 750.0).abs() < 1e-9);
+        // A heater efficiency that is not positive displaces nothing.
+        assert_eq!(
+            recovered_value(&by_month, &water, 0.0, 0.10),
+            (6000.0, 0.0, 0.0)
+        );
+    }
+}

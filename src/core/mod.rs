@@ -1,0 +1,30 @@
+/*!
+The pure core: the physics and the audit arithmetic. Nothing here does IO, awaits, or knows SQL or HTTP;
+it is plain functions over plain data, each module with its unit tests beside it.
+
+Architecture invariant: `core` imports nothing from `store`, `ingest` or `web`.
+
+- [`units`]: the canonical SI types and reference conditions; [`air`]: atmosphere and unit parsing.
+- [`thermo`]: isothermal, isentropic and polytropic compression, staging, cooler duties.
+- [`series`]: one timeline: alignment of channels into equal bins, integration.
+- [`states`]: compressor states from power, loaded fractions, cycles, flow from states.
+- [`leaks`]: bleed-down, load/unload, orifice, decay fits; [`fieldtest`]: the API's field tests.
+- [`heat`]: heat of compression rejected and recoverable, and its value.
+- [`analysis`]: the audit summary (baseline, specific power, demand, pressure, leaks, heat,
+  uncertainty) and decay-event detection; [`recommend`]: measures with savings and payback.
+- [`display`]: formatting every figure a person sees with its unit, SI or US customary.
+- [`model`]: the plain description of a site, its compressors and storage.
+*/
+
+pub mod air;
+pub mod analysis;
+pub mod display;
+pub mod fieldtest;
+pub mod heat;
+pub mod leaks;
+pub mod model;
+pub mod recommend;
+pub mod series;
+pub mod states;
+pub mod thermo;
+pub mod units;

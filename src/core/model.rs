@@ -1,0 +1,161 @@
+/*!
+The plain data an audit is made of: the site, its compressors and storage, as the analysis sees them.
+Storage and the web layer fill these from SQLite rows and forms; the core never knows where they came from.
+*/
+
+use serde::{Deserialize, Serialize};
+
+use super::units::SiteAir;
+
+/// Compressor technology (API.md `kind`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum CompressorKind {
+    LubricatedScrew,
+    OilFreeScrew,
+    Reciprocating,
+    Centrifugal,
+    Scroll,
+    Vane,
+}
+
+/// Capacity control (API.md `control`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Control {
+    LoadUnload,
+    Modulation,
+    VariableSpeed,
+    StartStop,
+}
+
+/// How the package rejects its heat (API.md `cooling`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Cooling {
+    Air,
+    Water,
+}
+
+macro_rules! str_enum {
+    ($t:ty { $($v:ident => $s:literal),* $(,)? }) => {
+        impl $t {
+            pub fn as_str(self) -> &'static str {
+                match self { $(Self::$v => $s),* }
+            }
+            pub fn parse(s: &str) -> Option<Self> {
+                match s { $($s => Some(Self::$v),)* _ => None }
+            }
+            pub const ALL: &'static [Self] = &[$(Self::$v),*];
+        }
+    };
+}
+str_enum!(CompressorKind {
+    LubricatedScrew => "lubricated_screw",
+    OilFreeScrew => "oil_free_screw",
+    Reciprocating => "reciprocating",
+    Centrifugal => "centrifugal",
+    Scroll => "scroll",
+    Vane => "vane",
+});
+str_enum!(Control {
+    LoadUnload => "load_unload",
+    Modulation => "modulation",
+    VariableSpeed => "variable_speed",
+    StartStop => "start_stop",
+});
+str_enum!(Cooling { Air => "air", Water => "water" });
+
+impl CompressorKind {
+    /// Default unloaded power as a fraction of full-load power when the data sheet gives none.
+    /// Lubricated screws 15-35 % (FIELD-NOTES §4, DOE sourcebook, from memory): we take 0.25; the
+    /// others are common practice.
+    pub fn default_unloaded_power_fraction(self) -> f64 {
+        match self {
+            Self::LubricatedScrew => 0.25,
+            Self::OilFreeScrew => 0.20,
+            Self::Reciprocating => 0.15,
+            Self::Centrifugal => 0.30,
+            Self::Scroll | Self::Vane => 0.25,
+        }
+    }
+}
+
+/// One compressor with its data-sheet values.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct CompressorSpec {
+    pub tag: String,
+    pub kind: CompressorKind,
+    pub control: Control,
+    pub cooling: Cooling,
+    /// Package input power at full load, kW.
+    pub rated_power_kw: f64,
+    /// Free air delivery at full load, m³/min (ISO 1217).
+    pub rated_flow_m3_min: f64,
+    /// Full-load operating pressure, bar(g).
+    pub rated_pressure_bar_g: f64,
+    /// Unloaded (or minimum-speed idle) power / full-load power.
+    pub unloaded_power_fraction: f64,
+    pub stages: u32,
+    /// Data-sheet specific package input power, kW/(m³/min); `None` means rated power / rated flow.
+    pub rated_specific_power_kw_per_m3_min: Option<f64>,
+    /// Variable speed: data-sheet points (free air m³/min, package kW), ascending in flow.
+    pub power_curve: Vec<(f64, f64)>,
+    pub year: Option<i32>,
+}
+
+impl CompressorSpec {
+    pub fn rated_specific_power_kw_per_m3_min(&self) -> f64 {
+        self.rated_specific_power_kw_per_m3_min
+            .unwrap_or(self.rated_power_kw / self.rated_flow_m3_min)
+    }
+}
+
+/// A weekly production schedule: `hours[weekday][hour]`, weekday 0 = Monday, local time.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct WeeklySchedule {
+    pub hours: [[bool; 24]; 7],
+}
+
+/// The site: its air, prices and operating year.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SiteSpec {
+    pub air: SiteAir,
+    /// IANA time zone of the site's clocks (for weekday × hour profiles and heating months).
+    pub timezone: String,
+    pub electricity_price_per_kwh: f64,
+    /// Demand charge per kW of monthly peak, per month.
+    pub demand_charge_per_kw_month: f64,
+    pub currency: String,
+    /// Weeks a year the plant runs like the logged weeks (default 52).
+    pub operating_weeks_per_year: f64,
+    /// If given, annual figures scale mean power by these hours instead of the weekly pattern.
+    pub operating_hours_per_year: Option<f64>,
+    /// Price of the fuel that recovered heat would displace, per kWh of fuel.
+    pub heating_fuel_price_per_kwh: f64,
+    /// Efficiency of the heater whose fuel is displaced (0-1).
+    pub heater_efficiency: f64,
+    /// Months (1-12) in which the site needs space heat.
+    pub heating_months: Vec<u8>,
+    /// Grid emission factor, kg CO2 per kWh of electricity.
+    pub grid_co2_kg_per_kwh: f64,
+    /// Emission factor of the heating fuel, kg CO2 per kWh of fuel.
+    pub fuel_co2_kg_per_kwh: f64,
+    /// Production schedule, if the site gave one; otherwise production is detected from demand.
+    pub production: Option<WeeklySchedule>,
+}
+
+/// The compressed-air storage: receivers plus piping and dryer vessels.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, Default)]
+pub struct StorageSpec {
+    pub receivers_m3: Vec<f64>,
+    /// Piping, dryer and filter vessel volume, m³ (often the weakest input of a bleed-down test).
+    pub other_volume_m3: f64,
+}
+
+impl StorageSpec {
+    /// Total system volume for bleed-down and decay tests, m³.
+    pub fn system_volume_m3(&self) -> f64 {
+        self.receivers_m3.iter().sum::<f64>() + self.other_volume_m3
+    }
+}

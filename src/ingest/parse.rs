@@ -1,0 +1,677 @@
+/*!
+The streaming parse of a logger file: one pass, bounded memory, readings straight to a sink.
+
+- Lines are read with `BufRead::read_until` into one reused buffer and split at the byte level;
+  fields are byte slices, never `String`s. Numbers and timestamps are ASCII in every supported
+  encoding, so only the header (and values quoted in errors) is decoded (see `text`).
+- Quoted fields (`"…"`, with `""` for a quote) work; a quoted field may even hold a line break (the
+  record then spans lines and is reported at its first line). Lines before `header_line` are the
+  preamble and are skipped unread.
+- Blank lines (and rows whose timestamp and mapped cells are all empty) are skipped and counted.
+- Errors name the 1-based line of the file (preamble included) and the column's header name: a
+  row too short for a mapped column, a timestamp that does not match the format, a number that
+  cannot be read, a pressure below zero absolute. Missing-value cells (`""`, `NaN`, `---`, ...)
+  are not errors: they give no reading and are counted in the quality report.
+- `first_ms`/`last_ms` are the earliest and latest timestamps (not the first and last rows: a file
+  with a clock stepping back is still reported over its full span).
+*/
+
+use crate::core::units::SiteAir;
+use crate::ingest::mapping::{plan, Mapping, Plan, Quantity};
+use crate::ingest::number::{parse_cell, trim, Cell};
+use crate::ingest::quality::{QualityReport, QualityTracker};
+use crate::ingest::text::{decode_line, strip_bom, Encoding};
+use crate::ingest::IngestError;
+use serde::Serialize;
+use std::io::BufRead;
+
+/// Receives every reading: channel index (into `Plan::channels`), UTC epoch ms, SI value.
+pub trait ReadingSink {
+    fn reading(&mut self, channel: usize, t_ms: i64, value_si: f64) -> Result<(), IngestError>;
+}
+
+/// A sink that collects everything into a `Vec` (tests and small files).
+impl ReadingSink for Vec<(usize, i64, f64)> {
+    fn reading(&mut self, channel: usize, t_ms: i64, value_si: f64) -> Result<(), IngestError> {
+        self.push((channel, t_ms, value_si));
+        Ok(())
+    }
+}
+
+/// What a parse read.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ParseReport {
+    pub rows: u64,
+    pub readings: u64,
+    pub first_ms: Option<i64>,
+    pub last_ms: Option<i64>,
+    pub median_interval_s: Option<f64>,
+    pub quality: QualityReport,
+    /// The header's column names (for remembering the mapping per logger layout).
+    pub header: Option<Vec<String>>,
+}
+
+/// A record longer than this (a quote that never closes) is an error, not a memory hog.
+const MAX_RECORD_BYTES: usize = 1 << 20;
+const PROGRESS_EVERY_BYTES: u64 = 1 << 20;
+
+struct Lines<R> {
+    r: R,
+    buf: Vec<u8>,
+    /// Line number of the record in `buf` (its first line).
+    line: u64,
+    /// Lines consumed so far.
+    consumed: u64,
+    bytes: u64,
+}
+
+impl<R: BufRead> Lines<R> {
+    fn io_err(&self, e: std::io::Error) -> IngestError {
+        IngestError::new(format!("cannot read the file after line {}: {e}", self.consumed))
+    }
+
+    /// Read one physical line into `buf` (appending), without its line break. `false` at the end.
+    fn read_physical(&mut self) -> Result<bool, IngestError> {
+        let start = self.buf.len();
+        let n = self.r.read_until(b'\n', &mut self.buf).map_err(|e| self.io_err(e))?;
+        if n == 0 {
+            return Ok(false);
+        }
+        self.bytes += n as u64;
+        self.consumed += 1;
+        if self.buf.last() == Some(&b'\n') {
+            self.buf.pop();
+        }
+        if self.buf.len() > start && self.buf.last() == Some(&b'\r') {
+            self.buf.pop();
+        }
+        Ok(true)
+    }
+
+    /// The next line, raw (preamble).
+    fn next_raw(&mut self) -> Result<bool, IngestError> {
+        self.buf.clear();
+        let ok = self.read_physical()?;
+        self.line = self.consumed;
+        Ok(ok)
+    }
+
+    /// The next record: a line, plus following lines while a quoted field is open.
+    fn next_record(&mut self) -> Result<bool, IngestError> {
+        if !self.next_raw()? {
+            return Ok(false);
+        }
+        if !self.buf.contains(&b'"') {
+            return Ok(true);
+        }
+        while self.buf.iter().filter(|&&b| b == b'"').count() % 2 == 1 {
+            if self.buf.len() > MAX_RECORD_BYTES {
+                return Err(IngestError::at(self.line, None, "a quoted field never closes"));
+            }
+            self.buf.push(b'\n');
+            if !self.read_physical()? {
+                return Err(IngestError::at(self.line, None, "a quoted field never closes"));
+            }
+        }
+        Ok(true)
+    }
+}
+
+/// Split a record into fields. Ranges index `line`, or `scratch` when the record has quotes
+/// (then returns `true`): quoted fields are unescaped into `scratch`.
+fn split(line: &[u8], delim: u8, out: &mut Vec<(u32, u32)>, scratch: &mut Vec<u8>) -> bool {
+    out.clear();
+    if !line.contains(&b'"') {
+        let mut start = 0usize;
+        for (i, &b) in line.iter().enumerate() {
+            if b == delim {
+                out.push((start as u32, i as u32));
+                start = i + 1;
+            }
+        }
+        out.push((start as u32, line.len() as u32));
+        return false;
+    }
+    scratch.clear();
+    let mut i = 0usize;
+    loop {
+        let fstart = scratch.len();
+        // Leading blanks before an opening quote are dropped.
+        let mut j = i;
+        while j < line.len() && (line[j] == b' ' || line[j] == b'\t') && line[j] != delim {
+            j += 1;
+        }
+        if j < line.len() && line[j] == b'"' {
+            i = j + 1;
+            while i < line.len() {
+                if line[i] == b'"' {
+                    if line.get(i + 1) == Some(&b'"') {
+                        scratch.push(b'"');
+                        i += 2;
+                    } else {
+                        i += 1;
+                        break;
+                    }
+                } else {
+                    scratch.push(line[i]);
+                    i += 1;
+                }
+            }
+            // Anything between the closing quote and the delimiter is kept (lenient).
+            while i < line.len() && line[i] != delim {
+                scratch.push(line[i]);
+                i += 1;
+            }
+        } else {
+            while i < line.len() && line[i] != delim {
+                scratch.push(line[i]);
+                i += 1;
+            }
+        }
+        out.push((fstart as u32, scratch.len() as u32));
+        if i >= line.len() {
+            break;
+        }
+        i += 1; // the delimiter
+    }
+    true
+}
+
+/// Split a header line into names (decoded, trimmed).
+pub fn split_header(line: &[u8], delim: u8, encoding: Option<Encoding>) -> Vec<String> {
+    let mut ranges = Vec::new();
+    let mut scratch = Vec::new();
+    let quoted = split(line, delim, &mut ranges, &mut scratch);
+    let src: &[u8] = if quoted { &scratch } else { line };
+    ranges
+        .iter()
+        .map(|&(a, b)| decode_line(&src[a as usize..b as usize], encoding).trim().to_string())
+        .collect()
+}
+
+/// Read the header of a file for a mapping: skip the preamble, return the header's names.
+fn read_header<R: BufRead>(
+    lines: &mut Lines<R>,
+    mapping: &Mapping,
+    delim: u8,
+    encoding: Option<Encoding>,
+) -> Result<Vec<String>, IngestError> {
+    for _ in 1..mapping.header_line {
+        if !lines.next_raw()? {
+            return Err(IngestError::field(
+                "header_line",
+                format!(
+                    "the file ends at line {} before the header line {}",
+                    lines.consumed, mapping.header_line
+                ),
+            ));
+        }
+    }
+    if !lines.next_record()? {
+        return Err(IngestError::field(
+            "header_line",
+            format!("the file ends before the header line {}", mapping.header_line),
+        ));
+    }
+    Ok(split_header(strip_bom_if_first(&lines.buf, lines.line), delim, encoding))
+}
+
+fn strip_bom_if_first(buf: &[u8], line: u64) -> &[u8] {
+    if line == 1 {
+        strip_bom(buf)
+    } else {
+        buf
+    }
+}
+
+fn shown(b: &[u8]) -> String {
+    decode_line(b, None).into_owned()
+}
+
+/// Parse a whole logger file, handing every reading to `sink`; `progress` gets the bytes read so
+/// far about every MiB and at the end.
+pub fn parse_stream<R: BufRead>(
+    reader: R,
+    mapping: &Mapping,
+    site: &SiteAir,
+    sink: &mut dyn ReadingSink,
+    progress: &mut dyn FnMut(u64),
+) -> Result<ParseReport, IngestError> {
+    let delim = crate::ingest::mapping::delimiter_byte(&mapping.delimiter).ok_or_else(|| {
+        IngestError::field("delimiter", format!("unknown delimiter {:?}", mapping.delimiter))
+    })?;
+    let encoding = mapping.encoding.as_deref().and_then(Encoding::parse);
+    let mut lines = Lines { r: reader, buf: Vec::with_capacity(512), line: 0, consumed: 0, bytes: 0 };
+    let header = read_header(&mut lines, mapping, delim, encoding)?;
+    let mut plan: Plan = plan(mapping, &header)?;
+    let mut report = run(&mut lines, &mut plan, site, sink, progress)?;
+    report.header = Some(header);
+    Ok(report)
+}
+
+fn run<R: BufRead>(
+    lines: &mut Lines<R>,
+    plan: &mut Plan,
+    site: &SiteAir,
+    sink: &mut dyn ReadingSink,
+    progress: &mut dyn FnMut(u64),
+) -> Result<ParseReport, IngestError> {
+    let convs = plan.converters(site);
+    let mut quality = QualityTracker::new(&plan.channels, &convs, site.atmosphere.0);
+    let chans: Vec<(usize, bool)> =
+        plan.channels.iter().map(|c| (c.column_index, c.quantity == Quantity::Pressure)).collect();
+    let needed = chans
+        .iter()
+        .map(|c| c.0)
+        .chain(std::iter::once(plan.timestamp_index))
+        .chain(plan.time_index)
+        .max()
+        .unwrap_or(0);
+    let (delim, decimal) = (plan.delimiter, plan.decimal);
+    let mut ranges: Vec<(u32, u32)> = Vec::with_capacity(16);
+    let mut scratch: Vec<u8> = Vec::new();
+    let mut joined: Vec<u8> = Vec::with_capacity(64);
+    let (mut rows, mut readings) = (0u64, 0u64);
+    let (mut first, mut last): (Option<i64>, Option<i64>) = (None, None);
+    let mut next_progress = PROGRESS_EVERY_BYTES;
+
+    while lines.next_record()? {
+        if lines.bytes >= next_progress {
+            progress(lines.bytes);
+            next_progress = lines.bytes + PROGRESS_EVERY_BYTES;
+        }
+        let line_no = lines.line;
+        let line: &[u8] = &lines.buf;
+        if trim(line).is_empty() {
+            quality.blank_line();
+            continue;
+        }
+        let quoted = split(line, delim, &mut ranges, &mut scratch);
+        let src: &[u8] = if quoted { &scratch } else { line };
+        let field = |i: usize| ranges.get(i).map(|&(a, b)| &src[a as usize..b as usize]);
+        if ranges.len() <= needed {
+            // Rows of empty cells only (",,,,") are blank; otherwise too short.
+            if ranges.iter().all(|&(a, b)| trim(&src[a as usize..b as usize]).is_empty()) {
+                quality.blank_line();
+                continue;
+            }
+            let missing = chans
+                .iter()
+                .map(|c| c.0)
+                .chain(std::iter::once(plan.timestamp_index))
+                .chain(plan.time_index)
+                .find(|&i| i >= ranges.len())
+                .unwrap_or(needed);
+            let label = header_label(plan, missing);
+            return Err(IngestError::at(
+                line_no,
+                Some(&label),
+                format!("row has {} fields; column {:?} is field {}", ranges.len(), label, missing + 1),
+            ));
+        }
+        let ts_raw = field(plan.timestamp_index).unwrap_or_default();
+        let ts: &[u8] = match plan.time_index {
+            None => ts_raw,
+            Some(ti) => {
+                joined.clear();
+                joined.extend_from_slice(trim(ts_raw));
+                joined.push(b' ');
+                joined.extend_from_slice(trim(field(ti).unwrap_or_default()));
+                &joined
+            }
+        };
+        if trim(ts_raw).is_empty() && chans.iter().all(|c| trim(field(c.0).unwrap_or_default()).is_empty()) {
+            quality.blank_line();
+            continue;
+        }
+        let Some((t, dst)) = plan.timestamps.parse(ts) else {
+            return Err(IngestError::at(
+                line_no,
+                Some(&plan.timestamp_label),
+                format!("cannot read timestamp {:?} as {:?}", shown(ts), plan.timestamp_format),
+            ));
+        };
+        rows += 1;
+        quality.row(line_no, t);
+        if let Some(case) = dst {
+            quality.dst(line_no, case, t);
+        }
+        first = Some(first.map_or(t, |f| f.min(t)));
+        last = Some(last.map_or(t, |l| l.max(t)));
+        for (ch, &(ci, is_pressure)) in chans.iter().enumerate() {
+            let raw = field(ci).unwrap_or_default();
+            match parse_cell(raw, decimal) {
+                Ok(Cell::Value(v)) => {
+                    let si = convs[ch].apply(v);
+                    if is_pressure && si < 0.0 {
+                        let c = &plan.channels[ch];
+                        return Err(IngestError::at(
+                            line_no,
+                            Some(&c.label),
+                            format!(
+                                "pressure {} {} is below zero absolute ({} pa abs)",
+                                shown(trim(raw)),
+                                c.unit,
+                                si.round()
+                            ),
+                        ));
+                    }
+                    quality.reading(ch, line_no, t, si);
+                    sink.reading(ch, t, si).map_err(|mut e| {
+                        e.line = e.line.or(Some(line_no));
+                        e
+                    })?;
+                    readings += 1;
+                }
+                Ok(Cell::Missing) => quality.missing(ch, line_no),
+                Err(reason) => return Err(IngestError::at(line_no, Some(&plan.channels[ch].label), reason)),
+            }
+        }
+    }
+    progress(lines.bytes);
+    let quality = quality.finish();
+    Ok(ParseReport {
+        rows,
+        readings,
+        first_ms: first,
+        last_ms: last,
+        median_interval_s: quality.file.median_interval_s,
+        quality,
+        header: None,
+    })
+}
+
+fn header_label(plan: &Plan, index: usize) -> String {
+    if index == plan.timestamp_index {
+        return plan.timestamp_label.clone();
+    }
+    plan.channels
+        .iter()
+        .find(|c| c.column_index == index)
+        .map(|c| c.label.clone())
+        .unwrap_or_else(|| format!("field {}", index + 1))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::core::units::{PressureAbs, ReferenceConditions, M3_PER_FT3, PA_PER_PSI};
+    use crate::ingest::mapping::ColumnMap;
+
+    type Readings = Vec<(usize, i64, f64)>;
+
+    fn mapping(json: &str) -> Mapping {
+        serde_json::from_str(json).unwrap()
+    }
+
+    fn parse(bytes: &[u8], m: &Mapping, site: &SiteAir) -> Result<(ParseReport, Readings), IngestError> {
+        let mut sink = Vec::new();
+        let mut seen = 0;
+        let r = parse_stream(bytes, m, site, &mut sink, &mut |b| seen = b)?;
+        assert_eq!(seen, bytes.len() as u64, "progress ends at the file's length");
+        Ok((r, sink))
+    }
+
+    fn sea_level() -> SiteAir {
+        SiteAir::new(101.325, 20.0)
+    }
+
+    fn ms(s: &str) -> i64 {
+        s.parse::<jiff::Timestamp>().unwrap().as_millisecond()
+    }
+
+    #[test]
+    fn latin1_header_with_a_degree_sign_semicolons_and_decimal_commas() {
+        let file =
+            b"Zeit;Temp \xB0C;Netz bar\r\n02.03.2026 06:00:00;21,5;6,8\r\n02.03.2026 06:00:10;21,75;6,9\r\n";
+        let m = mapping(
+            r#"{"delimiter": ";", "decimal": ",",
+                "timestamp": {"column": "Zeit", "format": "%d.%m.%Y %H:%M:%S", "timezone": "+01:00"},
+                "columns": [{"column": "Temp °C", "quantity": "temperature", "unit": "°C"},
+                            {"column": "Netz bar", "quantity": "pressure", "unit": "bar_g"}]}"#,
+        );
+        let (r, got) = parse(file, &m, &sea_level()).unwrap();
+        assert_eq!((r.rows, r.readings), (2, 4));
+        assert_eq!(got[0], (0, ms("2026-03-02T05:00:00Z"), 21.5 + 273.15));
+        // 6.8 bar g + 101.325 kPa = 781,325 Pa abs (hand calculation).
+        assert!((got[1].2 - 781_325.0).abs() < 1e-6);
+        assert_eq!(got[2].2, 21.75 + 273.15);
+        assert_eq!(r.median_interval_s, Some(10.0));
+        assert_eq!(r.first_ms, Some(ms("2026-03-02T05:00:00Z")));
+        assert_eq!(r.last_ms, Some(ms("2026-03-02T05:00:10Z")));
+    }
+
+    #[test]
+    fn a_bom_does_not_stick_to_the_first_column_name() {
+        let file = b"\xEF\xBB\xBFTime,C1 kW\n2026-03-02T06:00:00Z,55.5\n";
+        let m = mapping(
+            r#"{"timestamp": {"column": "Time", "format": "rfc3339"},
+                "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"}]}"#,
+        );
+        let (_, got) = parse(file, &m, &sea_level()).unwrap();
+        assert_eq!(got, vec![(0, ms("2026-03-02T06:00:00Z"), 55_500.0)]);
+    }
+
+    const PREAMBLE: &[u8] =
+        b"Logger X-7 serial 0042\nSite: invented plant\nStart: 2026-03-02\n\nInterval: 1 min\n";
+
+    fn preamble_mapping() -> Mapping {
+        mapping(
+            r#"{"header_line": 6,
+                "timestamp": {"column": "Time", "format": "%Y-%m-%d %H:%M:%S"},
+                "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"},
+                            {"column": "Flow", "quantity": "flow", "unit": "m3/min"}]}"#,
+        )
+    }
+
+    #[test]
+    fn a_five_line_preamble_and_a_bad_number_at_a_known_line_and_column() {
+        let mut file = PREAMBLE.to_vec();
+        file.extend_from_slice(
+            b"Time,C1 kW,Flow\n2026-03-02 06:00:00,50.0,8.5\n2026-03-02 06:01:00,50.1,8.4x\n",
+        );
+        let e = parse(&file, &preamble_mapping(), &sea_level()).unwrap_err();
+        // Line 1-5 preamble, 6 header, 7 first row, 8 the bad cell.
+        assert_eq!(e.line, Some(8));
+        assert_eq!(e.column.as_deref(), Some("Flow"));
+        assert_eq!(e.message, "cannot read number \"8.4x\"");
+        let good = {
+            let mut f = PREAMBLE.to_vec();
+            f.extend_from_slice(b"Time,C1 kW,Flow\n2026-03-02 06:00:00,50.0,6\n");
+            f
+        };
+        let (r, got) = parse(&good, &preamble_mapping(), &sea_level()).unwrap();
+        assert_eq!(r.rows, 1);
+        assert!((got[1].2 - 0.1).abs() < 1e-15); // 6 m3/min = 0.1 m3/s
+    }
+
+    #[test]
+    fn a_too_short_row_and_a_bad_timestamp_are_errors_with_line_and_column() {
+        let file = b"Time,C1 kW,Flow\n2026-03-02 06:00:00,50.0,8.5\n2026-03-02 06:01:00,50.1\n";
+        let e = parse(file, &preamble_mapping_at(1), &sea_level()).unwrap_err();
+        assert_eq!((e.line, e.column.as_deref()), (Some(3), Some("Flow")));
+        assert_eq!(e.message, "row has 2 fields; column \"Flow\" is field 3");
+        let file = b"Time,C1 kW,Flow\n2026-03-02 06:00:00,50.0,8.5\n2026-03-02 6h01,50.1,8\n";
+        let e = parse(file, &preamble_mapping_at(1), &sea_level()).unwrap_err();
+        assert_eq!((e.line, e.column.as_deref()), (Some(3), Some("Time")));
+        assert_eq!(e.message, "cannot read timestamp \"2026-03-02 6h01\" as \"%Y-%m-%d %H:%M:%S\"");
+    }
+
+    fn preamble_mapping_at(line: u32) -> Mapping {
+        let mut m = preamble_mapping();
+        m.header_line = line;
+        m
+    }
+
+    #[test]
+    fn quoted_fields_with_escapes_and_a_line_break() {
+        let file = b"\"Time\",\"C1 kW\",\"Note\",\"Flow\"\n\
+            \"2026-03-02 06:00:00\",\"50.5\",\"said \"\"hi\"\"\",\"1,234.5\"\n\
+            \"2026-03-02 06:01:00\",51,\"two\nlines\",7\n\
+            2026-03-02 06:02:00,52,,bad\n";
+        let m = preamble_mapping_at(1);
+        let e = parse(file, &m, &sea_level()).unwrap_err();
+        // The quoted line break makes the second record span lines 3-4; the bad one is line 5.
+        assert_eq!((e.line, e.column.as_deref()), (Some(5), Some("Flow")));
+        let ok = &file[..file.len() - "2026-03-02 06:02:00,52,,bad\n".len()];
+        let (r, got) = parse(ok, &m, &sea_level()).unwrap();
+        assert_eq!(r.rows, 2);
+        assert_eq!(got[0].2, 50_500.0);
+        assert!((got[1].2 - 1234.5 / 60.0).abs() < 1e-12);
+        assert_eq!(got[3].2, 7.0 / 60.0);
+    }
+
+    #[test]
+    fn missing_value_markers_give_no_reading_and_are_counted() {
+        let file = b"Time,C1 kW,Flow\n\
+            2026-03-02 06:00:00,50,8\n\
+            2026-03-02 06:01:00,---,NaN\n\
+            2026-03-02 06:02:00,OL,\n\
+            \n\
+            2026-03-02 06:03:00,#N/A,null\n\
+            2026-03-02 06:04:00,-OL,N/A\n\
+            ,,\n";
+        let (r, got) = parse(file, &preamble_mapping_at(1), &sea_level()).unwrap();
+        assert_eq!((r.rows, r.readings, got.len()), (5, 2, 2));
+        assert_eq!(r.quality.channels[0].missing.count, 4);
+        assert_eq!(r.quality.channels[1].missing.count, 4);
+        assert_eq!(r.quality.channels[0].missing.examples, vec![3, 4, 6, 7]);
+        assert_eq!(r.quality.file.blank_lines, 2);
+        assert!(r.quality.warnings().contains(&"C1 kW: 4 missing values (first at line 3)".to_string()));
+    }
+
+    #[test]
+    fn amps_become_watts_with_loaded_and_unloaded_power_factors() {
+        let file = b"Time,C1 A\n2026-03-02 06:00:00,50\n2026-03-02 06:00:01,15\n";
+        let mut m = preamble_mapping_at(1);
+        let mut c = ColumnMap::new("C1 A", "current", "A", Some("C1"));
+        c.volts = Some(400.0);
+        c.power_factor = Some(0.85);
+        c.unloaded_power_factor = Some(0.4);
+        c.unloaded_below_a = Some(20.0);
+        m.columns = vec![c];
+        let (_, got) = parse(file, &m, &sea_level()).unwrap();
+        // sqrt(3) V I PF, IEC 60050 three-phase active power: 400 V, 50 A, 0.85 -> 29.44 kW;
+        // unloaded 15 A at PF 0.4 -> 4.157 kW (hand calculation).
+        assert!((got[0].2 / 1000.0 - 29.445).abs() < 0.001);
+        assert!((got[1].2 / 1000.0 - 4.157).abs() < 0.001);
+    }
+
+    #[test]
+    fn a_kwh_counter_with_a_reset_is_kept_exactly_and_reported() {
+        let file = b"Time,C1 kWh\n\
+            2026-03-02 06:00:00,12345.6\n\
+            2026-03-02 06:01:00,12346.5\n\
+            2026-03-02 06:02:00,0.2\n\
+            2026-03-02 06:03:00,1.1\n";
+        let mut m = preamble_mapping_at(1);
+        m.columns = vec![ColumnMap::new("C1 kWh", "energy", "kWh", Some("C1"))];
+        let (r, got) = parse(file, &m, &sea_level()).unwrap();
+        assert_eq!(got[0].2, 12345.6 * 3.6e6);
+        let d = &r.quality.channels[0].counter_drops;
+        assert_eq!((d.count, d.examples[0].kind.as_str(), d.examples[0].line), (1, "reset", 4));
+        let w = r.quality.warnings();
+        assert!(
+            w.contains(
+                &"C1 kWh: the counter went down 1 time (first a reset at line 4, 12346.5 kWh -> 0.2 kWh)"
+                    .to_string()
+            ),
+            "{w:?}"
+        );
+    }
+
+    #[test]
+    fn psig_scfm_and_nm3h_at_a_1000_m_site() {
+        // ISO 2533 / ASHRAE eq. 3: 1000 m -> 89.875 kPa (FIELD-NOTES §2, §11).
+        let site = SiteAir::new(89.875, 20.0);
+        let file = b"Time,Header,Flow A,Flow B\n2026-03-02 06:00:00,100,100,600\n";
+        let mut m = preamble_mapping_at(1);
+        let mut b = ColumnMap::new("Flow B", "flow", "Nm3/h", None);
+        b.reference = None;
+        m.columns = vec![
+            ColumnMap::new("Header", "pressure", "psig", None),
+            ColumnMap::new("Flow A", "flow", "scfm", None),
+            b,
+        ];
+        let (_, got) = parse(file, &m, &site).unwrap();
+        assert_eq!(got[0].2, PressureAbs::from_psig(100.0, site.atmosphere).0);
+        assert!((got[0].2 - 779_350.73).abs() < 0.01); // 689,475.73 + 89,875 Pa (hand calculation)
+                                                       // V_FAD = V_ref (p_ref/p_in)(T_in/T_ref), FIELD-NOTES §2; ASME scfm 14.696 psia, 68 F.
+        let scfm = 100.0 * M3_PER_FT3 / 60.0 * (14.696 * PA_PER_PSI / 89_875.0);
+        assert!((got[1].2 - scfm).abs() < 1e-12);
+        let nm3 = site.free_air_from_reference(600.0 / 3600.0, ReferenceConditions::NORMAL_DIN_1343);
+        assert!((got[2].2 - nm3).abs() < 1e-15);
+        // 600 Nm3/h -> 11.885 m3/min free air at 1000 m, 20 C (hand calculation:
+        // 10 x 101.325/89.875 x 293.15/273.15).
+        assert!((got[2].2 * 60.0 - 12.0996).abs() < 1e-3);
+    }
+
+    #[test]
+    fn pressure_below_zero_absolute_is_rejected_at_its_line() {
+        let file = b"Time,Header\n2026-03-02 06:00:00,7\n2026-03-02 06:00:01,-2\n";
+        let mut m = preamble_mapping_at(1);
+        m.columns = vec![ColumnMap::new("Header", "pressure", "bar_g", None)];
+        let e = parse(file, &m, &sea_level()).unwrap_err();
+        assert_eq!((e.line, e.column.as_deref()), (Some(3), Some("Header")));
+        assert!(e.message.starts_with("pressure -2 bar_g is below zero absolute"), "{}", e.message);
+    }
+
+    #[test]
+    fn date_and_time_in_two_columns_in_chicago_with_a_clock_offset() {
+        let file = b"Date\tTime\tC1 kW\n03/02/2026\t06:00:00 AM\t40\n03/02/2026\t06:00:05 AM\t41\n";
+        let m = mapping(
+            r#"{"delimiter": "tab", "clock_offset_s": 30,
+                "timestamp": {"column": "Date", "time_column": "Time", "format": "%m/%d/%Y %I:%M:%S %p",
+                              "timezone": "America/Chicago"},
+                "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"}]}"#,
+        );
+        let (_, got) = parse(file, &m, &sea_level()).unwrap();
+        // 06:00 CST (UTC-6) = 12:00 UTC, plus 30 s of clock offset.
+        assert_eq!(got[0].1, ms("2026-03-02T12:00:30Z"));
+        assert_eq!(got[1].1, ms("2026-03-02T12:00:35Z"));
+    }
+
+    #[test]
+    fn a_berlin_fall_back_night_is_read_in_order_and_reported() {
+        let mut file = b"Time;C1 kW\n".to_vec();
+        for (h, m) in [(1, 30), (2, 0), (2, 30), (2, 0), (2, 30), (3, 0)] {
+            file.extend_from_slice(format!("2026-10-25 {h:02}:{m:02}:00;10\n").as_bytes());
+        }
+        let m = mapping(
+            r#"{"delimiter": ";", "timestamp": {"column": "Time", "format": "%Y-%m-%d %H:%M:%S",
+                "timezone": "Europe/Berlin"},
+                "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"}]}"#,
+        );
+        let (r, got) = parse(&file, &m, &sea_level()).unwrap();
+        let times: Vec<i64> = got.iter().map(|g| g.1).collect();
+        // Half-hour steps in UTC from 23:30Z to 02:00Z, no duplicates (EU rule, 01:00 UTC change).
+        let want: Vec<i64> = (0..6).map(|i| ms("2026-10-24T23:30:00Z") + i * 1_800_000).collect();
+        assert_eq!(times, want);
+        assert_eq!(r.quality.file.dst.ambiguous_earlier, 2);
+        assert_eq!(r.quality.file.dst.ambiguous_later, 2);
+        assert_eq!(r.quality.file.out_of_order.count, 0);
+        assert_eq!(r.quality.file.dst.examples[2].local_time, "2026-10-25 02:00:00");
+        assert_eq!(r.quality.file.dst.examples[2].utc_offset_s, 3600);
+        assert!(r.quality.warnings().iter().any(|w| w.starts_with("4 local times fell in the repeated")));
+    }
+
+    #[test]
+    fn the_sink_may_stop_the_parse_and_its_error_gets_the_line() {
+        struct Full;
+        impl ReadingSink for Full {
+            fn reading(&mut self, _: usize, _: i64, _: f64) -> Result<(), IngestError> {
+                Err(IngestError::new("storage full"))
+            }
+        }
+        let file: &[u8] = b"Time,C1 kW,Flow\n2026-03-02 06:00:00,50.0,8.5\n";
+        let e =
+            parse_stream(file, &preamble_mapping_at(1), &sea_level(), &mut Full, &mut |_| {}).unwrap_err();
+        assert_eq!((e.message.as_str(), e.line), ("storage full", Some(2)));
+    }
+
+    #[test]
+    fn a_header_line_beyond_the_file_is_an_error_on_that_field() {
+        let e = parse(PREAMBLE, &preamble_mapping(), &sea_level()).unwrap_err();
+        assert_eq!(e.field.as_deref(), Some("header_line"));
+    }
+}

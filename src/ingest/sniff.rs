@@ -1,0 +1,690 @@
+/*!
+Guessing how a logger file is laid out, from its first ~64 KiB, to propose a mapping.
+
+Nothing here is final: the upload page shows the guess and the auditor confirms or corrects it.
+The guesses, in order:
+
+1. **Encoding**: valid UTF-8 is UTF-8, anything else Windows-1252 (see `text`).
+2. **Delimiter**: `,` `;` or tab, the one whose field count stays constant over the most lines at
+   the end of the head (ties: tab, then `;`, then `,`: a `;` or a tab is rarely anything else).
+3. **Header and preamble**: within that constant block, the header is the last mostly-text line
+   before the first mostly-data line (numbers, timestamps, missing markers); everything above it is
+   preamble.
+4. **Decimal mark**: `.` with `,` as delimiter; otherwise `,` when more cells look like `12,5` than
+   `12.5`.
+5. **Timestamp**: the first column (or pair of adjacent date and time columns) whose sampled cells
+   all read with one of the candidate formats; unix seconds/milliseconds and spreadsheet serial
+   days only for a column whose name says time or date. Day-first or month-first (`03/02/2026`) is
+   decided from the data (a first number above 12 means day-first); when nothing decides it,
+   day-first is proposed and `day_first_ambiguous` is set so the page asks.
+6. **Columns**: quantity and unit from the header text (`[kW]`, `(kW)`, `kW`, `psig`, `bar`,
+   `scfm`, `m³/min`, `Nm3/h`, `A`, `Amps`, `kWh`, `°C` including the Latin-1 degree sign...) and a
+   compressor from a tag such as `C1` or `Compressor 2`. A bare `bar`/`psi`/`kPa` is proposed as
+   gauge (common shop practice; the note says so).
+
+[`suggest_mapping`] keeps only columns with a confident quantity and unit, and leaves out power,
+energy and current columns without a compressor tag and current columns (volts and power factor
+must come from the auditor). [`layout_key`] fingerprints a header so a mapping can be remembered
+per logger layout.
+*/
+
+use crate::ingest::mapping::{ColumnMap, Mapping, TimestampSpec};
+use crate::ingest::number::{is_missing_marker, parse_cell, trim, Cell};
+use crate::ingest::text::{decode_line, detect, strip_bom};
+use crate::ingest::timestamp::TimestampParser;
+use crate::ingest::IngestError;
+use serde::Serialize;
+use sha2::{Digest, Sha256};
+
+/// How much of the head is looked at.
+pub const SNIFF_BYTES: usize = 64 * 1024;
+const SAMPLE_ROWS: usize = 50;
+
+/// The guessed timestamp.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TimestampGuess {
+    pub column: String,
+    /// When date and time are in two columns: the time column (format covers "date time").
+    pub time_column: Option<String>,
+    pub format: String,
+    /// The formats that read every sampled cell (the first is proposed).
+    pub candidates: Vec<String>,
+}
+
+/// The guess for one column.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ColumnGuess {
+    pub column: String,
+    pub index: usize,
+    /// Mostly numbers in the sampled rows.
+    pub numeric: bool,
+    /// `power`, `energy`, `current`, `pressure`, `flow` or `temperature`.
+    pub quantity: Option<String>,
+    /// The unit as the mapping spells it (`kW`, `psig`, `bar_g`, `Nm3_h`, `C`...).
+    pub unit: Option<String>,
+    pub compressor: Option<String>,
+    /// Why a guess needs a look (`"bar" read as gauge`...).
+    pub note: Option<String>,
+}
+
+/// Everything guessed about a file.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Sniffed {
+    pub encoding: String,
+    pub delimiter: String,
+    pub decimal: String,
+    pub header_line: u32,
+    pub header: Vec<String>,
+    /// The first 10 data rows.
+    pub preview: Vec<Vec<String>>,
+    pub timestamp: Option<TimestampGuess>,
+    pub columns: Vec<ColumnGuess>,
+    pub day_first_ambiguous: bool,
+}
+
+/// Split a decoded line into fields, honouring `"…"` quotes with `""` escapes.
+pub fn split_fields(line: &str, delim: char) -> Vec<String> {
+    let mut out = Vec::new();
+    let mut cur = String::new();
+    let mut chars = line.chars().peekable();
+    let mut in_q = false;
+    let mut at_start = true;
+    while let Some(c) = chars.next() {
+        if in_q {
+            if c == '"' {
+                if chars.peek() == Some(&'"') {
+                    cur.push('"');
+                    chars.next();
+                } else {
+                    in_q = false;
+                }
+            } else {
+                cur.push(c);
+            }
+        } else if c == delim {
+            out.push(std::mem::take(&mut cur));
+            at_start = true;
+            continue;
+        } else if c == '"' && at_start && cur.trim().is_empty() {
+            cur.clear();
+            in_q = true;
+        } else {
+            cur.push(c);
+        }
+        at_start = false;
+    }
+    out.push(cur);
+    out
+}
+
+/// The candidate timestamp formats, in order of preference.
+const FORMATS: &[&str] = &[
+    "%Y-%m-%d %H:%M:%S",
+    "%Y-%m-%d %H:%M:%S%.f",
+    "%Y-%m-%dT%H:%M:%S",
+    "rfc3339",
+    "%Y-%m-%d %H:%M",
+    "%Y/%m/%d %H:%M:%S",
+    "%Y/%m/%d %H:%M:%S%.f",
+    "%d.%m.%Y %H:%M:%S",
+    "%d.%m.%Y %H:%M:%S%.f",
+    "%d.%m.%Y %H:%M",
+    "%d/%m/%Y %H:%M:%S",
+    "%m/%d/%Y %H:%M:%S",
+    "%d/%m/%Y %H:%M:%S%.f",
+    "%m/%d/%Y %H:%M:%S%.f",
+    "%d/%m/%Y %H:%M",
+    "%m/%d/%Y %H:%M",
+    "%m/%d/%Y %I:%M:%S %p",
+    "%d/%m/%Y %I:%M:%S %p",
+    "%m/%d/%Y %I:%M %p",
+    "%d-%m-%Y %H:%M:%S",
+    "%d-%b-%Y %H:%M:%S",
+    "%d.%m.%y %H:%M:%S",
+];
+
+fn reads_all(format: &str, cells: &[&str]) -> bool {
+    let Ok(mut p) = TimestampParser::new(format, "UTC", 0.0) else {
+        return false;
+    };
+    !cells.is_empty() && cells.iter().all(|c| p.parse(c.as_bytes()).is_some())
+}
+
+/// The day-first twin of a month-first format and back, if it has one.
+fn swap_day_month(f: &str) -> Option<String> {
+    if f.starts_with("%d/%m/") {
+        Some(f.replacen("%d/%m/", "%m/%d/", 1))
+    } else if f.starts_with("%m/%d/") {
+        Some(f.replacen("%m/%d/", "%d/%m/", 1))
+    } else {
+        None
+    }
+}
+
+fn looks_like_data(cell: &str) -> bool {
+    let t = cell.trim();
+    if is_missing_marker(t.as_bytes()) {
+        return true;
+    }
+    if parse_cell(t.as_bytes(), b'.').is_ok() || parse_cell(t.as_bytes(), b',').is_ok() {
+        return true;
+    }
+    // Timestamp-ish: digits with date/time punctuation only (and AM/PM, T, Z).
+    t.bytes().any(|b| b.is_ascii_digit())
+        && t.bytes().all(|b| b.is_ascii_digit() || b":/.-+ ,TZ".contains(&b) || b"AMPamp".contains(&b))
+}
+
+fn mostly_data(fields: &[String]) -> bool {
+    let n = fields.iter().filter(|f| looks_like_data(f)).count();
+    n * 2 > fields.len() && fields.iter().any(|f| !f.trim().is_empty())
+}
+
+/// A unit hint: (quantity, unit as the mapping spells it, note).
+fn unit_hint(token: &str) -> Option<(&'static str, &'static str, Option<&'static str>)> {
+    let t = crate::ingest::mapping::normalize_unit(token);
+    let gauge_note = Some("read as gauge pressure; say _a if the logger records absolute");
+    Some(match t.as_str() {
+        "kw" => ("power", "kW", None),
+        "w" | "watt" | "watts" => ("power", "W", None),
+        "kwh" => ("energy", "kWh", None),
+        "wh" => ("energy", "Wh", None),
+        "mwh" => ("energy", "MWh", None),
+        "a" | "amp" | "amps" | "ampere" | "amperes" => ("current", "A", None),
+        "psig" | "psi_g" => ("pressure", "psig", None),
+        "psia" | "psi_a" => ("pressure", "psia", None),
+        "psi" => ("pressure", "psig", gauge_note),
+        "barg" | "bar_g" | "bar_ü" | "barü" => ("pressure", "bar_g", None),
+        "bara" | "bar_a" | "bar_abs" => ("pressure", "bar_a", None),
+        "bar" => ("pressure", "bar_g", gauge_note),
+        "kpa" => ("pressure", "kPa_g", gauge_note),
+        "kpa_g" | "kpag" => ("pressure", "kPa_g", None),
+        "kpa_a" | "kpaa" => ("pressure", "kPa_a", None),
+        "mpa" => ("pressure", "MPa_g", gauge_note),
+        "cfm" | "acfm" => ("flow", "cfm", None),
+        "scfm" => ("flow", "scfm", None),
+        "m3_min" | "m3min" => ("flow", "m3_min", None),
+        "m3_h" | "m3h" => ("flow", "m3_h", None),
+        "nm3_h" | "nm3h" => ("flow", "Nm3_h", None),
+        "nm3_min" => ("flow", "Nm3_min", None),
+        "sm3_h" => ("flow", "Sm3_h", None),
+        "sm3_min" => ("flow", "Sm3_min", None),
+        "l_s" => ("flow", "l_s", None),
+        "l_min" => ("flow", "l_min", None),
+        "c" | "degc" => ("temperature", "C", None),
+        "f" | "degf" => ("temperature", "F", None),
+        _ => return None,
+    })
+}
+
+/// Tokens of a header name: bracketed parts first (`[kW]`, `(m³/min)`), then words.
+fn header_tokens(name: &str) -> (Vec<String>, Vec<String>) {
+    let mut bracketed = Vec::new();
+    let mut rest = String::new();
+    let mut depth_part = String::new();
+    let mut in_b = false;
+    for c in name.chars() {
+        match c {
+            '[' | '(' if !in_b => {
+                in_b = true;
+                depth_part.clear();
+                rest.push(' ');
+            }
+            ']' | ')' if in_b => {
+                in_b = false;
+                bracketed.push(depth_part.trim().to_string());
+            }
+            c if in_b => depth_part.push(c),
+            c => rest.push(c),
+        }
+    }
+    let words = rest
+        .split(|c: char| c.is_whitespace() || c == '_' || c == ',' || c == ';')
+        .filter(|w| !w.is_empty())
+        .map(str::to_string)
+        .collect();
+    (bracketed, words)
+}
+
+fn is_tag(w: &str) -> bool {
+    let b = w.as_bytes();
+    let letters = b.iter().take_while(|c| c.is_ascii_alphabetic()).count();
+    let rest = &b[letters..];
+    let rest = rest.strip_prefix(b"-").unwrap_or(rest);
+    (1..=6).contains(&letters) && (1..=3).contains(&rest.len()) && rest.iter().all(u8::is_ascii_digit)
+}
+
+fn guess_column(name: &str, index: usize, numeric: bool) -> ColumnGuess {
+    let (bracketed, words) = header_tokens(name);
+    let lower: Vec<String> = words.iter().map(|w| w.to_lowercase()).collect();
+    let mut hint = bracketed.iter().find_map(|t| unit_hint(t));
+    let mut unit_word: Option<usize> = None;
+    if hint.is_none() {
+        // The last word that is a unit (single letters only for A / C / F after a quantity word).
+        for (i, w) in words.iter().enumerate().rev() {
+            let single = w.trim_start_matches(['°', 'º']).len() == 1;
+            if let Some(h) = unit_hint(w) {
+                let ok = !single
+                    || w.starts_with(['°', 'º'])
+                    || (h.0 == "current" && w == "A")
+                    || (h.0 == "temperature" && i > 0);
+                if ok {
+                    hint = Some(h);
+                    unit_word = Some(i);
+                    break;
+                }
+            }
+        }
+    }
+    if hint.is_none() && lower.iter().any(|w| w == "amps" || w == "current" || w == "strom") {
+        hint = Some(("current", "A", None));
+    }
+    let mut compressor = None;
+    for (i, w) in words.iter().enumerate() {
+        if Some(i) == unit_word {
+            continue;
+        }
+        let l = &lower[i];
+        if (l == "compressor" || l == "comp" || l == "kompressor" || l == "verdichter")
+            && words.get(i + 1).is_some_and(|n| n.chars().all(|c| c.is_ascii_digit()))
+        {
+            compressor = Some(format!("C{}", words[i + 1]));
+            break;
+        }
+        if is_tag(w) && unit_hint(w).is_none() {
+            compressor = Some(w.to_string());
+            break;
+        }
+    }
+    let (quantity, unit, note) = match hint {
+        Some((q, u, n)) if numeric => (Some(q.to_string()), Some(u.to_string()), n.map(str::to_string)),
+        _ => (None, None, None),
+    };
+    let compressor = match quantity.as_deref() {
+        Some("power" | "energy" | "current") => compressor,
+        _ => None,
+    };
+    ColumnGuess { column: name.to_string(), index, numeric, quantity, unit, compressor, note }
+}
+
+fn block_of(counts: &[usize]) -> (usize, usize) {
+    // (start, field count) of the constant block at the end, skipping trailing blank lines.
+    let mut end = counts.len();
+    while end > 0 && counts[end - 1] == 0 {
+        end -= 1;
+    }
+    if end == 0 {
+        return (0, 0);
+    }
+    let c = counts[end - 1];
+    let mut start = end - 1;
+    while start > 0 && counts[start - 1] == c {
+        start -= 1;
+    }
+    (start, c)
+}
+
+/// Guess the layout of a file from its head (the first ~64 KiB).
+pub fn sniff(head: &[u8]) -> Result<Sniffed, IngestError> {
+    let head = &head[..head.len().min(SNIFF_BYTES)];
+    let encoding = detect(head);
+    let body = strip_bom(head);
+    let mut raw_lines: Vec<&[u8]> = body.split(|&b| b == b'\n').collect();
+    // A head cut mid-line: drop the partial last line (unless it is all we have).
+    if head.len() == SNIFF_BYTES && raw_lines.len() > 2 {
+        raw_lines.pop();
+    }
+    while raw_lines.last().is_some_and(|l| trim(l).is_empty()) {
+        raw_lines.pop();
+    }
+    let lines: Vec<String> = raw_lines
+        .iter()
+        .map(|l| {
+            let l = l.strip_suffix(b"\r").unwrap_or(l);
+            decode_line(l, Some(encoding)).into_owned()
+        })
+        .collect();
+    if lines.is_empty() {
+        return Err(IngestError::new("the file is empty"));
+    }
+    // Delimiter: the longest constant block with >= 2 fields; ties by preference.
+    let mut best: Option<(char, usize, usize)> = None; // (delim, start, count)
+    for d in ['\t', ';', ','] {
+        let counts: Vec<usize> =
+            lines.iter().map(|l| if l.trim().is_empty() { 0 } else { split_fields(l, d).len() }).collect();
+        let (start, c) = block_of(&counts);
+        if c < 2 {
+            continue;
+        }
+        let len = lines.len() - start;
+        if best.is_none_or(|(_, bs, _)| len > lines.len() - bs) {
+            best = Some((d, start, c));
+        }
+    }
+    let Some((delim, block_start, _)) = best else {
+        return Err(IngestError::new(
+            "cannot find a delimiter: no run of lines splits into the same number of fields by \
+             ',', ';' or tab",
+        ));
+    };
+    let rows: Vec<Vec<String>> = lines.iter().map(|l| split_fields(l, delim)).collect();
+    // Header: the last mostly-text line before the first mostly-data line of the block.
+    let first_data = (block_start..rows.len()).find(|&i| mostly_data(&rows[i]));
+    let header_ix = match first_data {
+        Some(i) if i > block_start => i - 1,
+        Some(i) if i > 0 && !mostly_data(&rows[i - 1]) => i - 1,
+        Some(_) => {
+            return Err(IngestError::new(
+                "cannot find a header line: the first rows are data; add a line with the column \
+                 names",
+            ))
+        }
+        None => return Err(IngestError::new("cannot find data rows below a header in the first 64 kib")),
+    };
+    let header: Vec<String> = rows[header_ix].iter().map(|h| h.trim().to_string()).collect();
+    let data: Vec<&Vec<String>> = rows[header_ix + 1..]
+        .iter()
+        .filter(|r| r.iter().any(|f| !f.trim().is_empty()))
+        .take(SAMPLE_ROWS)
+        .collect();
+    // Decimal mark.
+    let decimal = if delim == ',' {
+        '.'
+    } else {
+        let (mut comma, mut dot) = (0, 0);
+        for r in &data {
+            for f in r.iter() {
+                let t = f.trim();
+                let digits_around = |m: char| {
+                    t.split_once(m).is_some_and(|(a, b)| {
+                        !a.trim_start_matches('-').is_empty()
+                            && a.trim_start_matches('-').chars().all(|c| c.is_ascii_digit())
+                            && !b.is_empty()
+                            && b.chars().all(|c| c.is_ascii_digit())
+                    })
+                };
+                if digits_around(',') {
+                    comma += 1;
+                } else if digits_around('.') {
+                    dot += 1;
+                }
+            }
+        }
+        if comma > dot {
+            ','
+        } else {
+            '.'
+        }
+    };
+    let dec = decimal as u8;
+    let ncols = header.len();
+    let column_cells = |i: usize| -> Vec<&str> {
+        data.iter().filter_map(|r| r.get(i)).map(|s| s.trim()).filter(|s| !s.is_empty()).collect()
+    };
+    let numeric: Vec<bool> = (0..ncols)
+        .map(|i| {
+            let cells = column_cells(i);
+            let n =
+                cells.iter().filter(|c| matches!(parse_cell(c.as_bytes(), dec), Ok(Cell::Value(_)))).count();
+            n > 0 && n * 2 >= cells.len()
+        })
+        .collect();
+    // Timestamp.
+    let mut timestamp = None;
+    let mut day_first_ambiguous = false;
+    let mut ts_cols: Vec<usize> = Vec::new();
+    'cols: for i in 0..ncols {
+        let cells = column_cells(i);
+        let mut single: Vec<String> =
+            FORMATS.iter().filter(|f| reads_all(f, &cells)).map(|f| f.to_string()).collect();
+        let mut time_column = None;
+        if single.is_empty() && i + 1 < ncols {
+            let joined: Vec<String> = data
+                .iter()
+                .filter_map(|r| Some(format!("{} {}", r.get(i)?.trim(), r.get(i + 1)?.trim())))
+                .collect();
+            let refs: Vec<&str> = joined.iter().map(String::as_str).collect();
+            single = FORMATS.iter().filter(|f| reads_all(f, &refs)).map(|f| f.to_string()).collect();
+            if !single.is_empty() {
+                time_column = Some(header[i + 1].clone());
+            }
+        }
+        if single.is_empty() && numeric[i] {
+            let name = header[i].to_lowercase();
+            let timey =
+                ["time", "zeit", "date", "datum", "epoch", "unix", "stamp"].iter().any(|w| name.contains(w));
+            let vals: Vec<f64> = cells
+                .iter()
+                .filter_map(|c| match parse_cell(c.as_bytes(), dec) {
+                    Ok(Cell::Value(v)) => Some(v),
+                    _ => None,
+                })
+                .collect();
+            let within = |a: f64, b: f64| !vals.is_empty() && vals.iter().all(|v| (a..b).contains(v));
+            if timey {
+                if within(1e12, 4.2e12) {
+                    single.push("unix_ms".into());
+                } else if within(1e9, 4.2e9) {
+                    single.push("unix_s".into());
+                } else if within(20_000.0, 80_000.0) {
+                    single.push("excel_days".into());
+                }
+            }
+        }
+        if single.is_empty() {
+            continue;
+        }
+        // Day-first vs month-first: if both read everything, the data does not decide.
+        let first = single[0].clone();
+        if let Some(twin) = swap_day_month(&first) {
+            if single.contains(&twin) {
+                day_first_ambiguous = true;
+                let day_first = if first.starts_with("%d") { first.clone() } else { twin };
+                single.retain(|f| f != &day_first);
+                single.insert(0, day_first);
+            }
+        }
+        ts_cols.push(i);
+        if let Some(t) = &time_column {
+            ts_cols.push(header.iter().position(|h| h == t).unwrap_or(i + 1));
+        }
+        timestamp = Some(TimestampGuess {
+            column: header[i].clone(),
+            time_column,
+            format: single[0].clone(),
+            candidates: single,
+        });
+        break 'cols;
+    }
+    let columns = (0..ncols)
+        .filter(|i| !ts_cols.contains(i))
+        .map(|i| guess_column(&header[i], i, numeric[i]))
+        .collect();
+    let preview = data.iter().take(10).map(|r| r.iter().map(|f| f.trim().to_string()).collect()).collect();
+    Ok(Sniffed {
+        encoding: encoding.name().to_string(),
+        delimiter: if delim == '\t' { "\t".into() } else { delim.to_string() },
+        decimal: decimal.to_string(),
+        header_line: header_ix as u32 + 1,
+        header,
+        preview,
+        timestamp,
+        columns,
+        day_first_ambiguous,
+    })
+}
+
+/// The mapping the page proposes from a sniff (time zone UTC until the auditor says otherwise).
+pub fn suggest_mapping(s: &Sniffed) -> Mapping {
+    let timestamp = match &s.timestamp {
+        Some(t) => TimestampSpec {
+            column: t.column.clone(),
+            format: t.format.clone(),
+            timezone: "UTC".into(),
+            time_column: t.time_column.clone(),
+        },
+        None => TimestampSpec {
+            column: s.header.first().cloned().unwrap_or_default(),
+            format: "%Y-%m-%d %H:%M:%S".into(),
+            timezone: "UTC".into(),
+            time_column: None,
+        },
+    };
+    let columns = s
+        .columns
+        .iter()
+        .filter_map(|c| {
+            let (q, u) = (c.quantity.as_deref()?, c.unit.as_deref()?);
+            match q {
+                "current" => None,
+                "power" | "energy" if c.compressor.is_none() => None,
+                _ => Some(ColumnMap::new(&c.column, q, u, c.compressor.as_deref())),
+            }
+        })
+        .collect();
+    Mapping {
+        delimiter: s.delimiter.clone(),
+        decimal: s.decimal.clone(),
+        header_line: s.header_line,
+        encoding: Some(s.encoding.clone()),
+        timestamp,
+        columns,
+        clock_offset_s: 0.0,
+    }
+}
+
+/// A stable fingerprint of a header layout (column names trimmed and lower-cased, in order):
+/// the first 16 bytes of their SHA-256, hex.
+pub fn layout_key(header: &[String]) -> String {
+    let mut h = Sha256::new();
+    h.update(b"airledger-layout-v1");
+    for name in header {
+        h.update([0x1f]);
+        h.update(name.trim().to_lowercase().as_bytes());
+    }
+    h.finalize()[..16].iter().map(|b| format!("{b:02x}")).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::core::units::SiteAir;
+    use crate::ingest::parse::parse_stream;
+    use crate::ingest::timestamp::TimeFormat;
+
+    #[test]
+    fn every_candidate_format_is_valid() {
+        assert!(FORMATS.iter().all(|f| TimeFormat::parse(f).is_ok()));
+    }
+
+    #[test]
+    fn a_latin1_semicolon_file_with_a_preamble() {
+        let file = b"Logger 7;serial 42\nStart;02.03.2026\n\nZeit;C1 kW;Netzdruck [bar];Temp \xB0C\n\
+            02.03.2026 06:00:00;50,5;6,8;21,0\n02.03.2026 06:00:10;50,7;6,9;21,5\n\
+            02.03.2026 06:00:20;12,1;7,0;21,5\n";
+        let s = sniff(file).unwrap();
+        assert_eq!(s.encoding, "windows-1252");
+        assert_eq!((s.delimiter.as_str(), s.decimal.as_str(), s.header_line), (";", ",", 4));
+        assert_eq!(s.header, vec!["Zeit", "C1 kW", "Netzdruck [bar]", "Temp °C"]);
+        let t = s.timestamp.as_ref().unwrap();
+        assert_eq!((t.column.as_str(), t.format.as_str()), ("Zeit", "%d.%m.%Y %H:%M:%S"));
+        assert!(!s.day_first_ambiguous);
+        let c: Vec<_> = s
+            .columns
+            .iter()
+            .map(|c| (c.quantity.as_deref(), c.unit.as_deref(), c.compressor.as_deref()))
+            .collect();
+        assert_eq!(
+            c,
+            vec![
+                (Some("power"), Some("kW"), Some("C1")),
+                (Some("pressure"), Some("bar_g"), None),
+                (Some("temperature"), Some("C"), None)
+            ]
+        );
+        assert!(s.columns[1].note.as_deref().unwrap().contains("gauge"));
+        assert_eq!(s.preview.len(), 3);
+        // The suggested mapping reads the file.
+        let m = suggest_mapping(&s);
+        let mut sink = Vec::new();
+        let r = parse_stream(&file[..], &m, &SiteAir::new(101.325, 20.0), &mut sink, &mut |_| {}).unwrap();
+        assert_eq!((r.rows, r.readings), (3, 9));
+    }
+
+    #[test]
+    fn a_comma_file_with_quotes_units_and_month_first_dates() {
+        let file = b"\"Date/Time\",\"Compressor 2 Amps\",\"Header (psig)\",\"Flow scfm\",\"Note\"\r\n\
+            \"03/14/2026 01:00:00 PM\",\"48.2\",\"101.5\",\"350\",\"ok\"\r\n\
+            \"03/14/2026 01:00:05 PM\",\"12.0\",\"102.0\",\"\",\"\"\r\n";
+        let s = sniff(file).unwrap();
+        assert_eq!((s.delimiter.as_str(), s.decimal.as_str(), s.header_line), (",", ".", 1));
+        assert_eq!(s.encoding, "utf-8");
+        let t = s.timestamp.as_ref().unwrap();
+        assert_eq!(t.format, "%m/%d/%Y %I:%M:%S %p"); // 14 > 12: month-first decided by the data
+        assert!(!s.day_first_ambiguous);
+        let g = |i: usize| (s.columns[i].quantity.as_deref(), s.columns[i].unit.as_deref());
+        assert_eq!(g(0), (Some("current"), Some("A")));
+        assert_eq!(s.columns[0].compressor.as_deref(), Some("C2"));
+        assert_eq!(g(1), (Some("pressure"), Some("psig")));
+        assert_eq!(g(2), (Some("flow"), Some("scfm")));
+        assert_eq!(g(3), (None, None));
+        let m = suggest_mapping(&s);
+        // Current needs volts and power factor: left for the auditor.
+        assert_eq!(
+            m.columns.iter().map(|c| c.column.as_str()).collect::<Vec<_>>(),
+            ["Header (psig)", "Flow scfm"]
+        );
+    }
+
+    #[test]
+    fn day_first_or_month_first_undecidable_is_flagged() {
+        let file = b"Time\tC1 kW\tFlow m3/min\n03/02/2026 06:00\t50\t8.1\n03/02/2026 06:01\t51\t8.2\n";
+        let s = sniff(file).unwrap();
+        assert_eq!(s.delimiter, "\t");
+        assert!(s.day_first_ambiguous);
+        let t = s.timestamp.unwrap();
+        assert_eq!(t.format, "%d/%m/%Y %H:%M");
+        assert!(t.candidates.contains(&"%m/%d/%Y %H:%M".to_string()));
+    }
+
+    #[test]
+    fn date_and_time_in_two_columns_and_a_bom() {
+        let file = "\u{feff}Date,Time,K1 kWh,T [°C]\n2026-03-02,06:00:00,1234.5,20.5\n2026-03-02,06:01:00,1235.0,20.6\n";
+        let s = sniff(file.as_bytes()).unwrap();
+        let t = s.timestamp.as_ref().unwrap();
+        assert_eq!((t.column.as_str(), t.time_column.as_deref()), ("Date", Some("Time")));
+        assert_eq!(t.format, "%Y-%m-%d %H:%M:%S");
+        assert_eq!(s.header[0], "Date");
+        assert_eq!(s.columns.len(), 2);
+        assert_eq!(s.columns[0].compressor.as_deref(), Some("K1"));
+        assert_eq!(s.columns[0].quantity.as_deref(), Some("energy"));
+        assert_eq!(s.columns[1].unit.as_deref(), Some("C"));
+    }
+
+    #[test]
+    fn unix_seconds_in_a_time_column() {
+        let file = b"timestamp,C1 kW\n1772431200,50\n1772431201,50\n";
+        let s = sniff(file).unwrap();
+        assert_eq!(s.timestamp.unwrap().format, "unix_s");
+    }
+
+    #[test]
+    fn layout_key_is_stable_and_ignores_case_and_padding() {
+        let a = layout_key(&["Time".into(), "C1 kW".into()]);
+        let b = layout_key(&[" time".into(), "c1 KW ".into()]);
+        let c = layout_key(&["C1 kW".into(), "Time".into()]);
+        assert_eq!(a, b);
+        assert_ne!(a, c);
+        assert_eq!(a.len(), 32);
+        // Pinned so a change of the fingerprint (which would forget remembered mappings) shows.
+        let mut h = Sha256::new();
+        h.update(b"airledger-layout-v1\x1ftime\x1fc1 kw");
+        let want: String = h.finalize()[..16].iter().map(|b| format!("{b:02x}")).collect();
+        assert_eq!(a, want);
+    }
+
+    #[test]
+    fn a_file_without_a_header_is_refused() {
+        let e = sniff(b"2026-03-02 06:00:00,50\n2026-03-02 06:00:01,51\n").unwrap_err();
+        assert!(e.message.contains("header"), "{}", e.message);
+    }
+}

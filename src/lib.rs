@@ -1,0 +1,25 @@
+/*!
+airledger: a local web dashboard for shop compressed-air system auditing.
+
+The module map (data takes one way: file -> `ingest` -> `store` -> `core` -> `web`):
+
+- [`core`]: the pure physics and audit arithmetic (units, air, compression, series alignment,
+  compressor states, specific power, leaks, heat, recommendations). No IO, no async, no SQL.
+- [`ingest`]: logger CSV files in: encoding, sniffing, the column mapping, streaming parse to SI
+  readings, the data-quality report.
+- [`store`]: SQLite through sqlx: audits, chunked readings, rollups, field tests, caches.
+- [`records`]: the editable records (site, compressors, receivers) and their validation.
+- [`service`]: the few async operations that join store and core (the summary, field tests).
+- [`web`]: axum router, pages (askama) and the JSON API.
+- [`demo`]: the invented demo plant, simulated and written as logger files.
+- [`cli`]: the command line.
+*/
+
+pub mod cli;
+pub mod core;
+pub mod demo;
+pub mod ingest;
+pub mod records;
+pub mod service;
+pub mod store;
+pub mod web;

@@ -1,0 +1,451 @@
+/*!
+The audit's records as people edit them (site, compressors, receivers) and their validation.
+
+These are the shapes of the JSON API and of the edit forms. [`SitePatch`] and [`CompressorInput`] are
+parsed and validated here, so an invalid value never reaches storage; the analysis gets the plain
+`core::model` types built from them by [`SiteRecord::to_spec`] and [`CompressorRecord::to_spec`].
+*/
+
+use serde::{Deserialize, Serialize};
+
+use crate::core::air::atmosphere_from_altitude;
+use crate::core::model::{CompressorKind, CompressorSpec, Control, Cooling, SiteSpec};
+use crate::core::units::{SiteAir, UnitSystem};
+
+/// A field-level validation failure (API: 422 with `field`).
+#[derive(Debug, Clone, PartialEq)]
+pub struct FieldError {
+    pub field: String,
+    pub message: String,
+}
+
+impl FieldError {
+    pub fn new(field: &str, message: impl Into<String>) -> Self {
+        Self { field: field.to_string(), message: message.into() }
+    }
+}
+
+/// The site as stored: every field has a value (documented defaults on creation).
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct SiteRecord {
+    pub altitude_m: f64,
+    /// Given directly; `None` means it follows from the altitude (ISO 2533 standard atmosphere).
+    pub atmospheric_pressure_override_kpa_abs: Option<f64>,
+    pub inlet_temperature_c: f64,
+    pub timezone: String,
+    pub electricity_price_per_kwh: f64,
+    pub demand_charge_per_kw_month: f64,
+    pub currency: String,
+    pub operating_weeks_per_year: f64,
+    pub operating_hours_per_year: Option<f64>,
+    pub display_units: UnitSystem,
+    pub heating_fuel_price_per_kwh: f64,
+    pub heater_efficiency: f64,
+    pub heating_months: Vec<u8>,
+    /// `space_heating` (counted in heating months) or `process_water` (all year).
+    pub heat_use: String,
+    pub grid_co2_kg_per_kwh: f64,
+    pub fuel_co2_kg_per_kwh: f64,
+    /// Piping, dryer and filter vessel volume, m³ (added to the receivers for bleed-down tests).
+    pub other_volume_m3: f64,
+}
+
+impl Default for SiteRecord {
+    /// The documented defaults: sea level, 20 °C inlet, 0.15/kWh, no demand charge, EUR, 52 weeks,
+    /// SI display, gas at 0.08/kWh in a 90 % heater, heating October to April, 0.4 kg CO2/kWh grid
+    /// and 0.2 kg CO2/kWh fuel (natural gas, common practice).
+    fn default() -> Self {
+        Self {
+            altitude_m: 0.0,
+            atmospheric_pressure_override_kpa_abs: None,
+            inlet_temperature_c: 20.0,
+            timezone: "UTC".into(),
+            electricity_price_per_kwh: 0.15,
+            demand_charge_per_kw_month: 0.0,
+            currency: "EUR".into(),
+            operating_weeks_per_year: 52.0,
+            operating_hours_per_year: None,
+            display_units: UnitSystem::Si,
+            heating_fuel_price_per_kwh: 0.08,
+            heater_efficiency: 0.9,
+            heating_months: vec![1, 2, 3, 4, 10, 11, 12],
+            heat_use: "space_heating".into(),
+            grid_co2_kg_per_kwh: 0.4,
+            fuel_co2_kg_per_kwh: 0.2,
+            other_volume_m3: 0.0,
+        }
+    }
+}
+
+impl SiteRecord {
+    /// Atmospheric pressure at the site, kPa absolute.
+    pub fn atmospheric_pressure_kpa_abs(&self) -> f64 {
+        self.atmospheric_pressure_override_kpa_abs
+            .unwrap_or_else(|| atmosphere_from_altitude(self.altitude_m).kpa_abs())
+    }
+
+    pub fn air(&self) -> SiteAir {
+        SiteAir::new(self.atmospheric_pressure_kpa_abs(), self.inlet_temperature_c)
+    }
+
+    pub fn to_spec(&self) -> SiteSpec {
+        SiteSpec {
+            air: self.air(),
+            timezone: self.timezone.clone(),
+            electricity_price_per_kwh: self.electricity_price_per_kwh,
+            demand_charge_per_kw_month: self.demand_charge_per_kw_month,
+            currency: self.currency.clone(),
+            operating_weeks_per_year: self.operating_weeks_per_year,
+            operating_hours_per_year: self.operating_hours_per_year,
+            heating_fuel_price_per_kwh: self.heating_fuel_price_per_kwh,
+            heater_efficiency: self.heater_efficiency,
+            heating_months: self.heating_months.clone(),
+            grid_co2_kg_per_kwh: self.grid_co2_kg_per_kwh,
+            fuel_co2_kg_per_kwh: self.fuel_co2_kg_per_kwh,
+            production: None,
+        }
+    }
+
+    /// Apply a patch, validating every field it sets.
+    pub fn apply(&mut self, p: &SitePatch) -> Result<(), FieldError> {
+        fn finite(field: &str, v: f64) -> Result<f64, FieldError> {
+            if v.is_finite() {
+                Ok(v)
+            } else {
+                Err(FieldError::new(field, format!("{field} must be a number")))
+            }
+        }
+        fn non_negative(field: &str, v: f64) -> Result<f64, FieldError> {
+            if finite(field, v)? < 0.0 {
+                return Err(FieldError::new(field, format!("{field} must not be negative, got {v}")));
+            }
+            Ok(v)
+        }
+        if let Some(v) = p.altitude_m {
+            if !(-500.0..=6000.0).contains(&finite("altitude_m", v)?) {
+                return Err(FieldError::new("altitude_m", format!("altitude must be within -500..6000 m, got {v}")));
+            }
+            self.altitude_m = v;
+        }
+        if let Some(v) = p.atmospheric_pressure_kpa_abs {
+            if !(40.0..=110.0).contains(&finite("atmospheric_pressure_kpa_abs", v)?) {
+                return Err(FieldError::new(
+                    "atmospheric_pressure_kpa_abs",
+                    format!("atmospheric pressure must be within 40..110 kPa absolute, got {v}"),
+                ));
+            }
+            self.atmospheric_pressure_override_kpa_abs = Some(v);
+        }
+        if p.atmospheric_from_altitude == Some(true) {
+            self.atmospheric_pressure_override_kpa_abs = None;
+        }
+        if let Some(v) = p.inlet_temperature_c {
+            if !(-40.0..=60.0).contains(&finite("inlet_temperature_c", v)?) {
+                return Err(FieldError::new("inlet_temperature_c", format!("inlet temperature must be within -40..60 °C, got {v}")));
+            }
+            self.inlet_temperature_c = v;
+        }
+        if let Some(tz) = &p.timezone {
+            if jiff::tz::TimeZone::get(tz).is_err() {
+                return Err(FieldError::new("timezone", format!("unknown time zone {tz:?}")));
+            }
+            self.timezone = tz.clone();
+        }
+        if let Some(v) = p.electricity_price_per_kwh {
+            self.electricity_price_per_kwh = non_negative("electricity_price_per_kwh", v)?;
+        }
+        if let Some(v) = p.demand_charge_per_kw_month {
+            self.demand_charge_per_kw_month = non_negative("demand_charge_per_kw_month", v)?;
+        }
+        if let Some(c) = &p.currency {
+            let c = c.trim();
+            if c.is_empty() || c.len() > 8 {
+                return Err(FieldError::new("currency", format!("currency must be a short code such as EUR, got {c:?}")));
+            }
+            self.currency = c.to_string();
+        }
+        if let Some(v) = p.operating_weeks_per_year {
+            if !(0.0..=53.0).contains(&finite("operating_weeks_per_year", v)?) || v == 0.0 {
+                return Err(FieldError::new("operating_weeks_per_year", format!("operating weeks must be within 0..53, got {v}")));
+            }
+            self.operating_weeks_per_year = v;
+        }
+        if let Some(v) = p.operating_hours_per_year {
+            if !(0.0..=8784.0).contains(&finite("operating_hours_per_year", v)?) {
+                return Err(FieldError::new("operating_hours_per_year", format!("operating hours must be within 0..8784 h, got {v}")));
+            }
+            self.operating_hours_per_year = if v > 0.0 { Some(v) } else { None };
+        }
+        if let Some(u) = &p.display_units {
+            self.display_units = UnitSystem::parse(u)
+                .ok_or_else(|| FieldError::new("display_units", format!("display units must be si or us, got {u:?}")))?;
+        }
+        if let Some(v) = p.heating_fuel_price_per_kwh {
+            self.heating_fuel_price_per_kwh = non_negative("heating_fuel_price_per_kwh", v)?;
+        }
+        if let Some(v) = p.heater_efficiency {
+            if !(v > 0.0 && v <= 1.2) {
+                return Err(FieldError::new("heater_efficiency", format!("heater efficiency must be within 0..1.2, got {v}")));
+            }
+            self.heater_efficiency = v;
+        }
+        if let Some(m) = &p.heating_months {
+            if m.iter().any(|&x| !(1..=12).contains(&x)) {
+                return Err(FieldError::new("heating_months", "heating months must be numbers 1 to 12"));
+            }
+            let mut m = m.clone();
+            m.sort_unstable();
+            m.dedup();
+            self.heating_months = m;
+        }
+        if let Some(h) = &p.heat_use {
+            if h != "space_heating" && h != "process_water" {
+                return Err(FieldError::new("heat_use", format!("heat use must be space_heating or process_water, got {h:?}")));
+            }
+            self.heat_use = h.clone();
+        }
+        if let Some(v) = p.grid_co2_kg_per_kwh {
+            self.grid_co2_kg_per_kwh = non_negative("grid_co2_kg_per_kwh", v)?;
+        }
+        if let Some(v) = p.fuel_co2_kg_per_kwh {
+            self.fuel_co2_kg_per_kwh = non_negative("fuel_co2_kg_per_kwh", v)?;
+        }
+        if let Some(v) = p.other_volume_m3 {
+            self.other_volume_m3 = non_negative("other_volume_m3", v)?;
+        }
+        Ok(())
+    }
+}
+
+/// Site fields as posted: any subset.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SitePatch {
+    pub altitude_m: Option<f64>,
+    pub atmospheric_pressure_kpa_abs: Option<f64>,
+    /// `true` drops a given atmospheric pressure so that it follows the altitude again.
+    pub atmospheric_from_altitude: Option<bool>,
+    pub inlet_temperature_c: Option<f64>,
+    pub timezone: Option<String>,
+    pub electricity_price_per_kwh: Option<f64>,
+    pub demand_charge_per_kw_month: Option<f64>,
+    pub currency: Option<String>,
+    pub operating_weeks_per_year: Option<f64>,
+    pub operating_hours_per_year: Option<f64>,
+    pub display_units: Option<String>,
+    pub heating_fuel_price_per_kwh: Option<f64>,
+    pub heater_efficiency: Option<f64>,
+    pub heating_months: Option<Vec<u8>>,
+    pub heat_use: Option<String>,
+    pub grid_co2_kg_per_kwh: Option<f64>,
+    pub fuel_co2_kg_per_kwh: Option<f64>,
+    pub other_volume_m3: Option<f64>,
+}
+
+/// A compressor as posted (API.md fields plus the optional extras).
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CompressorInput {
+    pub tag: String,
+    pub kind: String,
+    pub control: String,
+    pub cooling: String,
+    pub rated_power_kw: f64,
+    pub rated_flow_m3_min: f64,
+    pub rated_pressure_bar_g: f64,
+    pub unloaded_power_fraction: Option<f64>,
+    pub stages: Option<u32>,
+    pub rated_specific_power_kw_per_m3_min: Option<f64>,
+    #[serde(default)]
+    pub power_curve: Vec<(f64, f64)>,
+    pub year: Option<i32>,
+    #[serde(default)]
+    pub notes: String,
+}
+
+/// A stored compressor.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct CompressorRecord {
+    pub id: i64,
+    pub tag: String,
+    pub kind: CompressorKind,
+    pub control: Control,
+    pub cooling: Cooling,
+    pub rated_power_kw: f64,
+    pub rated_flow_m3_min: f64,
+    pub rated_pressure_bar_g: f64,
+    pub unloaded_power_fraction: f64,
+    pub stages: u32,
+    pub rated_specific_power_kw_per_m3_min: Option<f64>,
+    pub power_curve: Vec<(f64, f64)>,
+    pub year: Option<i32>,
+    pub notes: String,
+}
+
+impl CompressorRecord {
+    pub fn to_spec(&self) -> CompressorSpec {
+        CompressorSpec {
+            tag: self.tag.clone(),
+            kind: self.kind,
+            control: self.control,
+            cooling: self.cooling,
+            rated_power_kw: self.rated_power_kw,
+            rated_flow_m3_min: self.rated_flow_m3_min,
+            rated_pressure_bar_g: self.rated_pressure_bar_g,
+            unloaded_power_fraction: self.unloaded_power_fraction,
+            stages: self.stages,
+            rated_specific_power_kw_per_m3_min: self.rated_specific_power_kw_per_m3_min,
+            power_curve: self.power_curve.clone(),
+            year: self.year,
+        }
+    }
+}
+
+impl CompressorInput {
+    /// Validate into a record (id 0 until stored).
+    pub fn validate(&self) -> Result<CompressorRecord, FieldError> {
+        let tag = self.tag.trim();
+        if tag.is_empty() || tag.chars().count() > 32 {
+            return Err(FieldError::new("tag", format!("tag must be 1 to 32 characters, got {:?}", self.tag)));
+        }
+        let kind = CompressorKind::parse(&self.kind).ok_or_else(|| {
+            FieldError::new("kind", format!("unknown compressor kind {:?}", self.kind))
+        })?;
+        let control = Control::parse(&self.control)
+            .ok_or_else(|| FieldError::new("control", format!("unknown control {:?}", self.control)))?;
+        let cooling = Cooling::parse(&self.cooling)
+            .ok_or_else(|| FieldError::new("cooling", format!("unknown cooling {:?}", self.cooling)))?;
+        let positive = |field: &str, v: f64, max: f64| -> Result<f64, FieldError> {
+            if v.is_finite() && v > 0.0 && v <= max {
+                Ok(v)
+            } else {
+                Err(FieldError::new(field, format!("{field} must be above 0 and at most {max}, got {v}")))
+            }
+        };
+        let rated_power_kw = positive("rated_power_kw", self.rated_power_kw, 20_000.0)?;
+        let rated_flow_m3_min = positive("rated_flow_m3_min", self.rated_flow_m3_min, 2_000.0)?;
+        let rated_pressure_bar_g = positive("rated_pressure_bar_g", self.rated_pressure_bar_g, 100.0)?;
+        let unloaded_power_fraction =
+            self.unloaded_power_fraction.unwrap_or_else(|| kind.default_unloaded_power_fraction());
+        if !(0.0..=0.9).contains(&unloaded_power_fraction) {
+            return Err(FieldError::new(
+                "unloaded_power_fraction",
+                format!("unloaded power fraction must be within 0..0.9, got {unloaded_power_fraction}"),
+            ));
+        }
+        let stages = self.stages.unwrap_or(1);
+        if !(1..=6).contains(&stages) {
+            return Err(FieldError::new("stages", format!("stages must be 1 to 6, got {stages}")));
+        }
+        if let Some(sp) = self.rated_specific_power_kw_per_m3_min {
+            positive("rated_specific_power_kw_per_m3_min", sp, 50.0)?;
+        }
+        let mut curve = self.power_curve.clone();
+        if curve.iter().any(|&(q, p)| !(q.is_finite() && p.is_finite() && q >= 0.0 && p >= 0.0)) {
+            return Err(FieldError::new("power_curve", "power curve points must be [flow_m3_min, kw] with both >= 0"));
+        }
+        curve.sort_by(|a, b| a.0.total_cmp(&b.0));
+        if let Some(y) = self.year {
+            if !(1900..=2100).contains(&y) {
+                return Err(FieldError::new("year", format!("year must be within 1900..2100, got {y}")));
+            }
+        }
+        Ok(CompressorRecord {
+            id: 0,
+            tag: tag.to_string(),
+            kind,
+            control,
+            cooling,
+            rated_power_kw,
+            rated_flow_m3_min,
+            rated_pressure_bar_g,
+            unloaded_power_fraction,
+            stages,
+            rated_specific_power_kw_per_m3_min: self.rated_specific_power_kw_per_m3_min,
+            power_curve: curve,
+            year: self.year,
+            notes: self.notes.clone(),
+        })
+    }
+}
+
+/// A stored receiver.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct ReceiverRecord {
+    pub id: i64,
+    pub name: String,
+    pub volume_m3: f64,
+    pub notes: String,
+}
+
+/// A receiver as posted.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ReceiverInput {
+    pub name: String,
+    pub volume_m3: f64,
+    #[serde(default)]
+    pub notes: String,
+}
+
+impl ReceiverInput {
+    pub fn validate(&self) -> Result<(), FieldError> {
+        if self.name.trim().is_empty() || self.name.chars().count() > 64 {
+            return Err(FieldError::new("name", "receiver name must be 1 to 64 characters"));
+        }
+        if !(self.volume_m3.is_finite() && self.volume_m3 > 0.0 && self.volume_m3 <= 1000.0) {
+            return Err(FieldError::new("volume_m3", format!("receiver volume must be above 0 and at most 1000 m³, got {}", self.volume_m3)));
+        }
+        Ok(())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn site_atmosphere_follows_altitude_unless_given() {
+        let mut s = SiteRecord::default();
+        s.apply(&SitePatch { altitude_m: Some(1000.0), ..Default::default() }).unwrap();
+        // ASHRAE Fundamentals ch. 1 eq. 3: 1000 m -> 89.875 kPa (FIELD-NOTES §11).
+        assert!((s.atmospheric_pressure_kpa_abs() - 89.875).abs() < 0.01);
+        s.apply(&SitePatch { atmospheric_pressure_kpa_abs: Some(95.0), ..Default::default() }).unwrap();
+        assert_eq!(s.atmospheric_pressure_kpa_abs(), 95.0);
+        s.apply(&SitePatch { atmospheric_from_altitude: Some(true), ..Default::default() }).unwrap();
+        assert!((s.atmospheric_pressure_kpa_abs() - 89.875).abs() < 0.01);
+    }
+
+    #[test]
+    fn bad_site_values_name_their_field() {
+        let mut s = SiteRecord::default();
+        let e = s.apply(&SitePatch { timezone: Some("Mars/Olympus".into()), ..Default::default() });
+        assert_eq!(e.unwrap_err().field, "timezone");
+        let e = s.apply(&SitePatch { heater_efficiency: Some(0.0), ..Default::default() });
+        assert_eq!(e.unwrap_err().field, "heater_efficiency");
+    }
+
+    #[test]
+    fn compressor_defaults_its_unloaded_fraction_by_kind() {
+        let c = CompressorInput {
+            tag: " C2 ".into(),
+            kind: "lubricated_screw".into(),
+            control: "load_unload".into(),
+            cooling: "air".into(),
+            rated_power_kw: 55.0,
+            rated_flow_m3_min: 9.5,
+            rated_pressure_bar_g: 7.5,
+            unloaded_power_fraction: None,
+            stages: None,
+            rated_specific_power_kw_per_m3_min: None,
+            power_curve: vec![],
+            year: None,
+            notes: String::new(),
+        };
+        let r = c.validate().unwrap();
+        assert_eq!(r.tag, "C2");
+        assert_eq!(r.unloaded_power_fraction, 0.25);
+        let bad = CompressorInput { kind: "turbo".into(), ..c };
+        assert_eq!(bad.validate().unwrap_err().field, "kind");
+    }
+}

@@ -1,0 +1,557 @@
+/*!
+Audits and what belongs to them: site, compressors, receivers, field tests, cost overrides, the
+summary cache and remembered mappings. Every change that can alter a computed figure bumps the audit's
+`revision` in the same transaction, which invalidates the cached summary.
+*/
+
+use serde::Serialize;
+use sqlx::{Row, SqlitePool};
+
+use super::{begin_write, now_rfc3339, StoreError};
+use crate::core::model::{CompressorKind, Control, Cooling};
+use crate::core::units::UnitSystem;
+use crate::records::{CompressorRecord, ReceiverRecord, SiteRecord};
+
+/// An audit's header and site.
+#[derive(Debug, Clone, Serialize)]
+pub struct Audit {
+    pub id: i64,
+    pub name: String,
+    pub auditor: String,
+    pub notes: String,
+    pub created_at: String,
+    pub revision: i64,
+    pub site: SiteRecord,
+}
+
+/// A line of the audit list.
+#[derive(Debug, Clone, Serialize)]
+pub struct AuditListItem {
+    pub id: i64,
+    pub name: String,
+    pub created_at: String,
+    pub compressors: i64,
+    pub uploads: i64,
+}
+
+/// A stored logger file.
+#[derive(Debug, Clone, Serialize)]
+pub struct UploadRecord {
+    pub id: i64,
+    pub filename: String,
+    pub bytes: i64,
+    pub rows: i64,
+    pub readings: i64,
+    pub first: Option<String>,
+    pub last: Option<String>,
+    pub created_at: String,
+    pub warnings: Vec<String>,
+    #[serde(skip)]
+    pub quality_json: String,
+}
+
+/// A stored field test with its computed result.
+#[derive(Debug, Clone, Serialize)]
+pub struct FieldTestRecord {
+    pub id: i64,
+    pub kind: String,
+    pub input: serde_json::Value,
+    pub result: serde_json::Value,
+    pub created_at: String,
+}
+
+pub fn ms_to_rfc3339(ms: i64) -> String {
+    jiff::Timestamp::from_millisecond(ms).map(|t| t.to_string()).unwrap_or_default()
+}
+
+const SITE_COLUMNS: &str = "altitude_m, atmospheric_pressure_kpa_abs, inlet_temperature_c, timezone, \
+    electricity_price_per_kwh, demand_charge_per_kw_month, currency, operating_weeks_per_year, \
+    operating_hours_per_year, display_units, heating_fuel_price_per_kwh, heater_efficiency, \
+    heating_months, heat_use, grid_co2_kg_per_kwh, fuel_co2_kg_per_kwh, other_volume_m3";
+
+fn site_from_row(r: &sqlx::sqlite::SqliteRow) -> SiteRecord {
+    let months: String = r.get("heating_months");
+    let units: String = r.get("display_units");
+    SiteRecord {
+        altitude_m: r.get("altitude_m"),
+        atmospheric_pressure_override_kpa_abs: r.get("atmospheric_pressure_kpa_abs"),
+        inlet_temperature_c: r.get("inlet_temperature_c"),
+        timezone: r.get("timezone"),
+        electricity_price_per_kwh: r.get("electricity_price_per_kwh"),
+        demand_charge_per_kw_month: r.get("demand_charge_per_kw_month"),
+        currency: r.get("currency"),
+        operating_weeks_per_year: r.get("operating_weeks_per_year"),
+        operating_hours_per_year: r.get("operating_hours_per_year"),
+        display_units: UnitSystem::parse(&units).unwrap_or_default(),
+        heating_fuel_price_per_kwh: r.get("heating_fuel_price_per_kwh"),
+        heater_efficiency: r.get("heater_efficiency"),
+        heating_months: months.split(',').filter_map(|m| m.trim().parse().ok()).collect(),
+        heat_use: r.get("heat_use"),
+        grid_co2_kg_per_kwh: r.get("grid_co2_kg_per_kwh"),
+        fuel_co2_kg_per_kwh: r.get("fuel_co2_kg_per_kwh"),
+        other_volume_m3: r.get("other_volume_m3"),
+    }
+}
+
+fn months_text(m: &[u8]) -> String {
+    m.iter().map(|x| x.to_string()).collect::<Vec<_>>().join(",")
+}
+
+pub async fn create_audit(pool: &SqlitePool, name: &str, site: &SiteRecord) -> Result<i64, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let id = sqlx::query(&format!(
+        "INSERT INTO audit (name, created_at, {SITE_COLUMNS}) \
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)"
+    ))
+    .bind(name)
+    .bind(now_rfc3339())
+    .bind(site.altitude_m)
+    .bind(site.atmospheric_pressure_override_kpa_abs)
+    .bind(site.inlet_temperature_c)
+    .bind(&site.timezone)
+    .bind(site.electricity_price_per_kwh)
+    .bind(site.demand_charge_per_kw_month)
+    .bind(&site.currency)
+    .bind(site.operating_weeks_per_year)
+    .bind(site.operating_hours_per_year)
+    .bind(site.display_units.as_str())
+    .bind(site.heating_fuel_price_per_kwh)
+    .bind(site.heater_efficiency)
+    .bind(months_text(&site.heating_months))
+    .bind(&site.heat_use)
+    .bind(site.grid_co2_kg_per_kwh)
+    .bind(site.fuel_co2_kg_per_kwh)
+    .bind(site.other_volume_m3)
+    .execute(&mut *tx)
+    .await?
+    .last_insert_rowid();
+    tx.commit().await?;
+    Ok(id)
+}
+
+pub async fn update_audit(
+    pool: &SqlitePool,
+    id: i64,
+    name: &str,
+    auditor: &str,
+    notes: &str,
+    site: &SiteRecord,
+) -> Result<(), StoreError> {
+    let mut tx = begin_write(pool).await?;
+    sqlx::query(
+        "UPDATE audit SET name = ?, auditor = ?, notes = ?, altitude_m = ?, atmospheric_pressure_kpa_abs = ?, \
+         inlet_temperature_c = ?, timezone = ?, electricity_price_per_kwh = ?, demand_charge_per_kw_month = ?, \
+         currency = ?, operating_weeks_per_year = ?, operating_hours_per_year = ?, display_units = ?, \
+         heating_fuel_price_per_kwh = ?, heater_efficiency = ?, heating_months = ?, heat_use = ?, \
+         grid_co2_kg_per_kwh = ?, fuel_co2_kg_per_kwh = ?, other_volume_m3 = ?, revision = revision + 1 \
+         WHERE id = ?",
+    )
+    .bind(name)
+    .bind(auditor)
+    .bind(notes)
+    .bind(site.altitude_m)
+    .bind(site.atmospheric_pressure_override_kpa_abs)
+    .bind(site.inlet_temperature_c)
+    .bind(&site.timezone)
+    .bind(site.electricity_price_per_kwh)
+    .bind(site.demand_charge_per_kw_month)
+    .bind(&site.currency)
+    .bind(site.operating_weeks_per_year)
+    .bind(site.operating_hours_per_year)
+    .bind(site.display_units.as_str())
+    .bind(site.heating_fuel_price_per_kwh)
+    .bind(site.heater_efficiency)
+    .bind(months_text(&site.heating_months))
+    .bind(&site.heat_use)
+    .bind(site.grid_co2_kg_per_kwh)
+    .bind(site.fuel_co2_kg_per_kwh)
+    .bind(site.other_volume_m3)
+    .bind(id)
+    .execute(&mut *tx)
+    .await?;
+    tx.commit().await?;
+    Ok(())
+}
+
+pub async fn get_audit(pool: &SqlitePool, id: i64) -> Result<Option<Audit>, StoreError> {
+    let row = sqlx::query(&format!(
+        "SELECT id, name, auditor, notes, created_at, revision, {SITE_COLUMNS} FROM audit WHERE id = ?"
+    ))
+    .bind(id)
+    .fetch_optional(pool)
+    .await?;
+    Ok(row.map(|r| Audit {
+        id: r.get("id"),
+        name: r.get("name"),
+        auditor: r.get("auditor"),
+        notes: r.get("notes"),
+        created_at: r.get("created_at"),
+        revision: r.get("revision"),
+        site: site_from_row(&r),
+    }))
+}
+
+pub async fn list_audits(pool: &SqlitePool) -> Result<Vec<AuditListItem>, StoreError> {
+    let rows = sqlx::query(
+        "SELECT a.id, a.name, a.created_at, \
+         (SELECT count(*) FROM compressor c WHERE c.audit_id = a.id) AS compressors, \
+         (SELECT count(*) FROM upload u WHERE u.audit_id = a.id AND u.state = 'complete') AS uploads \
+         FROM audit a ORDER BY a.id",
+    )
+    .fetch_all(pool)
+    .await?;
+    Ok(rows
+        .iter()
+        .map(|r| AuditListItem {
+            id: r.get("id"),
+            name: r.get("name"),
+            created_at: r.get("created_at"),
+            compressors: r.get("compressors"),
+            uploads: r.get("uploads"),
+        })
+        .collect())
+}
+
+pub async fn find_audit_by_name(pool: &SqlitePool, name: &str) -> Result<Option<i64>, StoreError> {
+    Ok(sqlx::query_scalar("SELECT id FROM audit WHERE name = ? ORDER BY id LIMIT 1")
+        .bind(name)
+        .fetch_optional(pool)
+        .await?)
+}
+
+fn compressor_from_row(r: &sqlx::sqlite::SqliteRow) -> CompressorRecord {
+    let curve: String = r.get("power_curve");
+    let kind: String = r.get("kind");
+    let control: String = r.get("control");
+    let cooling: String = r.get("cooling");
+    let stages: i64 = r.get("stages");
+    CompressorRecord {
+        id: r.get("id"),
+        tag: r.get("tag"),
+        kind: CompressorKind::parse(&kind).unwrap_or(CompressorKind::LubricatedScrew),
+        control: Control::parse(&control).unwrap_or(Control::LoadUnload),
+        cooling: Cooling::parse(&cooling).unwrap_or(Cooling::Air),
+        rated_power_kw: r.get("rated_power_kw"),
+        rated_flow_m3_min: r.get("rated_flow_m3_min"),
+        rated_pressure_bar_g: r.get("rated_pressure_bar_g"),
+        unloaded_power_fraction: r.get("unloaded_power_fraction"),
+        stages: stages as u32,
+        rated_specific_power_kw_per_m3_min: r.get("rated_specific_power_kw_per_m3_min"),
+        power_curve: serde_json::from_str(&curve).unwrap_or_default(),
+        year: r.get::<Option<i64>, _>("year").map(|y| y as i32),
+        notes: r.get("notes"),
+    }
+}
+
+pub async fn compressors(pool: &SqlitePool, audit_id: i64) -> Result<Vec<CompressorRecord>, StoreError> {
+    let rows = sqlx::query("SELECT * FROM compressor WHERE audit_id = ? ORDER BY tag")
+        .bind(audit_id)
+        .fetch_all(pool)
+        .await?;
+    Ok(rows.iter().map(compressor_from_row).collect())
+}
+
+/// Why a compressor could not be stored.
+pub enum CompressorWrite {
+    Stored(i64),
+    TagTaken,
+}
+
+/// Insert a compressor, or update the one with the same id (`c.id != 0`).
+pub async fn save_compressor(
+    pool: &SqlitePool,
+    audit_id: i64,
+    c: &CompressorRecord,
+) -> Result<CompressorWrite, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let clash: Option<i64> =
+        sqlx::query_scalar("SELECT id FROM compressor WHERE audit_id = ? AND tag = ? AND id != ?")
+            .bind(audit_id)
+            .bind(&c.tag)
+            .bind(c.id)
+            .fetch_optional(&mut *tx)
+            .await?;
+    if clash.is_some() {
+        return Ok(CompressorWrite::TagTaken);
+    }
+    let curve = serde_json::to_string(&c.power_curve).unwrap_or_else(|_| "[]".into());
+    let id = if c.id == 0 {
+        sqlx::query(
+            "INSERT INTO compressor (audit_id, tag, kind, control, cooling, rated_power_kw, rated_flow_m3_min, \
+             rated_pressure_bar_g, unloaded_power_fraction, stages, rated_specific_power_kw_per_m3_min, \
+             power_curve, year, notes) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+        )
+        .bind(audit_id)
+        .bind(&c.tag)
+        .bind(c.kind.as_str())
+        .bind(c.control.as_str())
+        .bind(c.cooling.as_str())
+        .bind(c.rated_power_kw)
+        .bind(c.rated_flow_m3_min)
+        .bind(c.rated_pressure_bar_g)
+        .bind(c.unloaded_power_fraction)
+        .bind(c.stages as i64)
+        .bind(c.rated_specific_power_kw_per_m3_min)
+        .bind(curve)
+        .bind(c.year.map(i64::from))
+        .bind(&c.notes)
+        .execute(&mut *tx)
+        .await?
+        .last_insert_rowid()
+    } else {
+        sqlx::query(
+            "UPDATE compressor SET tag = ?, kind = ?, control = ?, cooling = ?, rated_power_kw = ?, \
+             rated_flow_m3_min = ?, rated_pressure_bar_g = ?, unloaded_power_fraction = ?, stages = ?, \
+             rated_specific_power_kw_per_m3_min = ?, power_curve = ?, year = ?, notes = ? \
+             WHERE id = ? AND audit_id = ?",
+        )
+        .bind(&c.tag)
+        .bind(c.kind.as_str())
+        .bind(c.control.as_str())
+        .bind(c.cooling.as_str())
+        .bind(c.rated_power_kw)
+        .bind(c.rated_flow_m3_min)
+        .bind(c.rated_pressure_bar_g)
+        .bind(c.unloaded_power_fraction)
+        .bind(c.stages as i64)
+        .bind(c.rated_specific_power_kw_per_m3_min)
+        .bind(curve)
+        .bind(c.year.map(i64::from))
+        .bind(&c.notes)
+        .bind(c.id)
+        .bind(audit_id)
+        .execute(&mut *tx)
+        .await?;
+        c.id
+    };
+    bump(&mut tx, audit_id).await?;
+    tx.commit().await?;
+    Ok(CompressorWrite::Stored(id))
+}
+
+pub async fn delete_compressor(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n = sqlx::query("DELETE FROM compressor WHERE id = ? AND audit_id = ?")
+        .bind(id)
+        .bind(audit_id)
+        .execute(&mut *tx)
+        .await?
+        .rows_affected();
+    bump(&mut tx, audit_id).await?;
+    tx.commit().await?;
+    Ok(n > 0)
+}
+
+pub async fn receivers(pool: &SqlitePool, audit_id: i64) -> Result<Vec<ReceiverRecord>, StoreError> {
+    let rows = sqlx::query("SELECT id, name, volume_m3, notes FROM receiver WHERE audit_id = ? ORDER BY id")
+        .bind(audit_id)
+        .fetch_all(pool)
+        .await?;
+    Ok(rows
+        .iter()
+        .map(|r| ReceiverRecord {
+            id: r.get("id"),
+            name: r.get("name"),
+            volume_m3: r.get("volume_m3"),
+            notes: r.get("notes"),
+        })
+        .collect())
+}
+
+pub async fn add_receiver(
+    pool: &SqlitePool,
+    audit_id: i64,
+    name: &str,
+    volume_m3: f64,
+    notes: &str,
+) -> Result<i64, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let id = sqlx::query("INSERT INTO receiver (audit_id, name, volume_m3, notes) VALUES (?, ?, ?, ?)")
+        .bind(audit_id)
+        .bind(name)
+        .bind(volume_m3)
+        .bind(notes)
+        .execute(&mut *tx)
+        .await?
+        .last_insert_rowid();
+    bump(&mut tx, audit_id).await?;
+    tx.commit().await?;
+    Ok(id)
+}
+
+pub async fn delete_receiver(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n = sqlx::query("DELETE FROM receiver WHERE id = ? AND audit_id = ?")
+        .bind(id)
+        .bind(audit_id)
+        .execute(&mut *tx)
+        .await?
+        .rows_affected();
+    bump(&mut tx, audit_id).await?;
+    tx.commit().await?;
+    Ok(n > 0)
+}
+
+pub async fn uploads(pool: &SqlitePool, audit_id: i64) -> Result<Vec<UploadRecord>, StoreError> {
+    let rows = sqlx::query(
+        "SELECT id, filename, bytes, rows, readings, first_ms, last_ms, created_at, warnings, quality \
+         FROM upload WHERE audit_id = ? AND state = 'complete' ORDER BY id",
+    )
+    .bind(audit_id)
+    .fetch_all(pool)
+    .await?;
+    Ok(rows
+        .iter()
+        .map(|r| {
+            let w: String = r.get("warnings");
+            UploadRecord {
+                id: r.get("id"),
+                filename: r.get("filename"),
+                bytes: r.get("bytes"),
+                rows: r.get("rows"),
+                readings: r.get("readings"),
+                first: r.get::<Option<i64>, _>("first_ms").map(ms_to_rfc3339),
+                last: r.get::<Option<i64>, _>("last_ms").map(ms_to_rfc3339),
+                created_at: r.get("created_at"),
+                warnings: serde_json::from_str(&w).unwrap_or_default(),
+                quality_json: r.get("quality"),
+            }
+        })
+        .collect())
+}
+
+pub async fn field_tests(pool: &SqlitePool, audit_id: i64) -> Result<Vec<FieldTestRecord>, StoreError> {
+    let rows = sqlx::query("SELECT id, kind, input, result, created_at FROM field_test WHERE audit_id = ? ORDER BY id")
+        .bind(audit_id)
+        .fetch_all(pool)
+        .await?;
+    Ok(rows
+        .iter()
+        .map(|r| {
+            let i: String = r.get("input");
+            let o: String = r.get("result");
+            FieldTestRecord {
+                id: r.get("id"),
+                kind: r.get("kind"),
+                input: serde_json::from_str(&i).unwrap_or_default(),
+                result: serde_json::from_str(&o).unwrap_or_default(),
+                created_at: r.get("created_at"),
+            }
+        })
+        .collect())
+}
+
+pub async fn add_field_test(
+    pool: &SqlitePool,
+    audit_id: i64,
+    kind: &str,
+    input: &serde_json::Value,
+    result: &serde_json::Value,
+) -> Result<i64, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let id = sqlx::query("INSERT INTO field_test (audit_id, kind, input, result, created_at) VALUES (?, ?, ?, ?, ?)")
+        .bind(audit_id)
+        .bind(kind)
+        .bind(input.to_string())
+        .bind(result.to_string())
+        .bind(now_rfc3339())
+        .execute(&mut *tx)
+        .await?
+        .last_insert_rowid();
+    bump(&mut tx, audit_id).await?;
+    tx.commit().await?;
+    Ok(id)
+}
+
+pub async fn delete_field_test(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n = sqlx::query("DELETE FROM field_test WHERE id = ? AND audit_id = ?")
+        .bind(id)
+        .bind(audit_id)
+        .execute(&mut *tx)
+        .await?
+        .rows_affected();
+    bump(&mut tx, audit_id).await?;
+    tx.commit().await?;
+    Ok(n > 0)
+}
+
+pub async fn cost_overrides(pool: &SqlitePool, audit_id: i64) -> Result<Vec<(String, f64)>, StoreError> {
+    let rows = sqlx::query("SELECT kind, implementation_cost FROM cost_override WHERE audit_id = ?")
+        .bind(audit_id)
+        .fetch_all(pool)
+        .await?;
+    Ok(rows.iter().map(|r| (r.get("kind"), r.get("implementation_cost"))).collect())
+}
+
+pub async fn set_cost_override(
+    pool: &SqlitePool,
+    audit_id: i64,
+    kind: &str,
+    cost: Option<f64>,
+) -> Result<(), StoreError> {
+    let mut tx = begin_write(pool).await?;
+    match cost {
+        Some(c) => {
+            sqlx::query(
+                "INSERT INTO cost_override (audit_id, kind, implementation_cost) VALUES (?, ?, ?) \
+                 ON CONFLICT (audit_id, kind) DO UPDATE SET implementation_cost = excluded.implementation_cost",
+            )
+            .bind(audit_id)
+            .bind(kind)
+            .bind(c)
+            .execute(&mut *tx)
+            .await?;
+        }
+        None => {
+            sqlx::query("DELETE FROM cost_override WHERE audit_id = ? AND kind = ?")
+                .bind(audit_id)
+                .bind(kind)
+                .execute(&mut *tx)
+                .await?;
+        }
+    }
+    bump(&mut tx, audit_id).await?;
+    tx.commit().await?;
+    Ok(())
+}
+
+/// The cached summary JSON if it was computed for `revision`.
+pub async fn cached_summary(pool: &SqlitePool, audit_id: i64, revision: i64) -> Result<Option<String>, StoreError> {
+    Ok(sqlx::query_scalar("SELECT summary FROM summary_cache WHERE audit_id = ? AND revision = ?")
+        .bind(audit_id)
+        .bind(revision)
+        .fetch_optional(pool)
+        .await?)
+}
+
+pub async fn put_summary(pool: &SqlitePool, audit_id: i64, revision: i64, json: &str) -> Result<(), StoreError> {
+    let mut tx = begin_write(pool).await?;
+    sqlx::query(
+        "INSERT INTO summary_cache (audit_id, revision, summary) VALUES (?, ?, ?) \
+         ON CONFLICT (audit_id) DO UPDATE SET revision = excluded.revision, summary = excluded.summary",
+    )
+    .bind(audit_id)
+    .bind(revision)
+    .bind(json)
+    .execute(&mut *tx)
+    .await?;
+    tx.commit().await?;
+    Ok(())
+}
+
+pub async fn remembered_mapping(pool: &SqlitePool, layout_key: &str) -> Result<Option<String>, StoreError> {
+    Ok(sqlx::query_scalar("SELECT mapping FROM remembered_mapping WHERE layout_key = ?")
+        .bind(layout_key)
+        .fetch_optional(pool)
+        .await?)
+}
+
+/// Mark the audit changed (inside the caller's write transaction).
+pub async fn bump(tx: &mut sqlx::SqliteConnection, audit_id: i64) -> Result<(), sqlx::Error> {
+    sqlx::query("UPDATE audit SET revision = revision + 1 WHERE id = ?")
+        .bind(audit_id)
+        .execute(&mut *tx)
+        .await?;
+    Ok(())
+}

@@ -1,0 +1,77 @@
+/*!
+Storage: one SQLite file per database, through sqlx.
+
+- WAL journal, foreign keys on, `synchronous = NORMAL`; every write transaction starts with
+  `BEGIN IMMEDIATE` so that two writers queue instead of failing half-way.
+- Migrations are embedded (`sqlx::migrate!()`) and applied at start-up.
+- At start-up `PRAGMA quick_check` must say `ok`, and uploads a crash left in state `importing` are
+  removed with everything they wrote: nobody ever sees a partial upload.
+
+This layer holds no physics: it stores and fetches records, chunks and rollups.
+*/
+
+pub mod audits;
+pub mod chunk;
+pub mod import;
+pub mod read;
+pub mod rollup;
+
+use std::path::Path;
+use std::str::FromStr;
+use std::time::Duration;
+
+use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, SqliteSynchronous};
+use sqlx::{Sqlite, SqlitePool, Transaction};
+
+/// Why the database could not be opened or used.
+#[derive(Debug, thiserror::Error)]
+pub enum StoreError {
+    /// SQLite or sqlx reported a failure.
+    #[error("database error: {0}")]
+    Sqlx(#[from] sqlx::Error),
+    /// A migration failed to apply.
+    #[error("migration failed: {0}")]
+    Migrate(#[from] sqlx::migrate::MigrateError),
+    /// `PRAGMA quick_check` found damage.
+    #[error("the database file {path} is damaged ({detail}); restore it from a backup")]
+    Damaged { path: String, detail: String },
+    /// A stored chunk or rollup could not be decoded.
+    #[error("{0}")]
+    Chunk(#[from] chunk::ChunkError),
+}
+
+/// Open (creating if missing) the database at `path`, check it, migrate it, clean it.
+pub async fn open(path: &Path) -> Result<SqlitePool, StoreError> {
+    let opts = SqliteConnectOptions::from_str(&format!("sqlite://{}", path.display()))?
+        .create_if_missing(true)
+        .journal_mode(SqliteJournalMode::Wal)
+        .synchronous(SqliteSynchronous::Normal)
+        .foreign_keys(true)
+        .busy_timeout(Duration::from_secs(30))
+        .pragma("cache_size", "-16000")
+        .pragma("temp_store", "memory");
+    let pool = SqlitePoolOptions::new().max_connections(6).connect_with(opts).await?;
+    let check: String = sqlx::query_scalar("PRAGMA quick_check").fetch_one(&pool).await?;
+    if check != "ok" {
+        return Err(StoreError::Damaged { path: path.display().to_string(), detail: check });
+    }
+    sqlx::migrate!("./migrations").run(&pool).await?;
+    import::remove_unfinished(&pool).await?;
+    Ok(pool)
+}
+
+/// Begin a write transaction that takes the write lock at once.
+pub async fn begin_write(pool: &SqlitePool) -> Result<Transaction<'static, Sqlite>, sqlx::Error> {
+    pool.begin_with("BEGIN IMMEDIATE").await
+}
+
+/// The current time as RFC 3339, for `created_at` columns.
+pub fn now_rfc3339() -> String {
+    jiff::Timestamp::now().round(jiff::Unit::Second).unwrap_or(jiff::Timestamp::now()).to_string()
+}
+
+/// A consistent copy of the database while the server may be running (`VACUUM INTO`).
+pub async fn backup(pool: &SqlitePool, out: &Path) -> Result<(), StoreError> {
+    sqlx::query("VACUUM INTO ?").bind(out.display().to_string()).execute(pool).await?;
+    Ok(())
+}

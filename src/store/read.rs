@@ -1,0 +1,224 @@
+/*!
+Reading logged data back: the analysis frame (raw chunks streamed into the one-timeline aligner of
+`core::series`) and downsampled chart series from the rollups.
+*/
+
+use serde::Serialize;
+use sqlx::{Row, SqlitePool};
+
+use super::chunk;
+use super::rollup::{decode_day, Acc, DAY_MS, HOUR_MS, MINUTE_MS};
+use super::StoreError;
+use crate::core::series::{Aligner, CounterAligner, Frame, FrameColumn, Grid, Signal};
+
+/// The most bins an analysis frame has; longer logs get a coarser step (documented in DEVELOPERS.md).
+pub const MAX_FRAME_BINS: usize = 1_200_000;
+
+/// A stored channel with the span of its readings.
+#[derive(Debug, Clone, Serialize)]
+pub struct ChannelInfo {
+    pub id: i64,
+    pub quantity: String,
+    pub compressor_id: Option<i64>,
+    pub compressor_tag: Option<String>,
+    pub label: String,
+    pub unit: String,
+    pub first_ms: i64,
+    pub last_ms: i64,
+    pub readings: i64,
+}
+
+impl ChannelInfo {
+    /// Median-free estimate of the logging interval: span / (readings - 1).
+    pub fn interval_ms(&self) -> i64 {
+        if self.readings > 1 {
+            ((self.last_ms - self.first_ms) / (self.readings - 1)).max(1)
+        } else {
+            60_000
+        }
+    }
+    pub fn name(&self) -> String {
+        match &self.compressor_tag {
+            Some(t) => format!("{t} {}", self.quantity),
+            None => self.label.clone(),
+        }
+    }
+}
+
+/// The audit's channels that hold complete readings.
+pub async fn channels(pool: &SqlitePool, audit_id: i64) -> Result<Vec<ChannelInfo>, StoreError> {
+    let rows = sqlx::query(
+        "SELECT c.id, c.quantity, c.compressor_id, k.tag, c.label, c.unit, \
+         min(uc.first_ms) AS first_ms, max(uc.last_ms) AS last_ms, sum(uc.readings) AS readings \
+         FROM channel c JOIN upload_channel uc ON uc.channel_id = c.id \
+         JOIN upload u ON u.id = uc.upload_id AND u.state = 'complete' \
+         LEFT JOIN compressor k ON k.id = c.compressor_id \
+         WHERE c.audit_id = ? GROUP BY c.id ORDER BY c.quantity, k.tag, c.label",
+    )
+    .bind(audit_id)
+    .fetch_all(pool)
+    .await?;
+    Ok(rows
+        .iter()
+        .map(|r| ChannelInfo {
+            id: r.get("id"),
+            quantity: r.get("quantity"),
+            compressor_id: r.get("compressor_id"),
+            compressor_tag: r.get("tag"),
+            label: r.get("label"),
+            unit: r.get("unit"),
+            first_ms: r.get("first_ms"),
+            last_ms: r.get("last_ms"),
+            readings: r.get("readings"),
+        })
+        .collect())
+}
+
+async fn chunk_blobs(
+    pool: &SqlitePool,
+    channel_id: i64,
+    from_ms: i64,
+    to_ms: i64,
+) -> Result<Vec<Vec<u8>>, StoreError> {
+    Ok(sqlx::query_scalar(
+        "SELECT ch.data FROM chunk ch JOIN upload u ON u.id = ch.upload_id AND u.state = 'complete' \
+         WHERE ch.channel_id = ? AND ch.t_end_ms >= ? AND ch.t_start_ms <= ? ORDER BY ch.t_start_ms",
+    )
+    .bind(channel_id)
+    .bind(from_ms)
+    .bind(to_ms)
+    .fetch_all(pool)
+    .await?)
+}
+
+/// Build the analysis frame for the audit's channels over `window` (default: all logged time).
+/// `compressor_ids` are the ids of the analysis' compressor slice, in its order.
+pub async fn load_frame(
+    pool: &SqlitePool,
+    chans: &[ChannelInfo],
+    compressor_ids: &[i64],
+    window: Option<(i64, i64)>,
+) -> Result<Option<Frame>, StoreError> {
+    if chans.is_empty() {
+        return Ok(None);
+    }
+    let first = chans.iter().map(|c| c.first_ms).min().unwrap_or(0);
+    let last = chans.iter().map(|c| c.last_ms).max().unwrap_or(0);
+    let (from, to) = window.map(|(a, b)| (a.max(first), b.min(last))).unwrap_or((first, last));
+    if to <= from {
+        return Ok(None);
+    }
+    let native = chans.iter().map(|c| c.interval_ms()).min().unwrap_or(1000);
+    let grid = Grid::choose(from, to, native, MAX_FRAME_BINS);
+    let mut columns = Vec::with_capacity(chans.len());
+    for c in chans {
+        let blobs = chunk_blobs(pool, c.id, from, to).await?;
+        let max_gap = (3 * c.interval_ms()).max(grid.step_ms);
+        let g = grid.clone();
+        let energy = c.quantity == "energy";
+        let values = tokio::task::spawn_blocking(move || -> Result<Vec<f32>, StoreError> {
+            if energy {
+                let mut a = CounterAligner::new(g, max_gap);
+                for b in &blobs {
+                    chunk::decode(b, |t, v| a.push(t, v))?;
+                }
+                Ok(a.finish())
+            } else {
+                let mut a = Aligner::new(g, max_gap);
+                for b in &blobs {
+                    chunk::decode(b, |t, v| a.push(t, v))?;
+                }
+                Ok(a.finish())
+            }
+        })
+        .await
+        .map_err(|e| StoreError::Damaged { path: "frame".into(), detail: e.to_string() })??;
+        let signal = match c.quantity.as_str() {
+            "power" | "energy" => Signal::Power,
+            "pressure" => Signal::Pressure,
+            "flow" => Signal::Flow,
+            _ => Signal::Temperature,
+        };
+        columns.push(FrameColumn {
+            signal,
+            compressor: c.compressor_id.and_then(|id| compressor_ids.iter().position(|&x| x == id)),
+            label: c.name(),
+            values,
+        });
+    }
+    Ok(Some(Frame { grid, columns }))
+}
+
+/// One chart point: the bucket's start and its min, mean and max (SI units).
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct ChartPoint {
+    pub t_ms: i64,
+    pub min: f64,
+    pub mean: f64,
+    pub max: f64,
+}
+
+/// A channel's readings between `from` and `to`, downsampled to at most `max_points` buckets of
+/// min/mean/max, read from the minute or hour rollups (never from raw chunks).
+pub async fn chart_series(
+    pool: &SqlitePool,
+    channel_id: i64,
+    from_ms: i64,
+    to_ms: i64,
+    max_points: usize,
+) -> Result<Vec<ChartPoint>, StoreError> {
+    let span = (to_ms - from_ms).max(MINUTE_MS);
+    let raw_bucket = span / max_points.max(1) as i64;
+    let use_hours = raw_bucket >= HOUR_MS;
+    let bucket = if use_hours {
+        raw_bucket.div_euclid(HOUR_MS).max(1) * HOUR_MS
+    } else {
+        raw_bucket.div_euclid(MINUTE_MS).max(1) * MINUTE_MS
+    };
+    let mut out: Vec<(i64, Acc)> = vec![];
+    let mut add = |t: i64, a: Acc| {
+        let b = from_ms + (t - from_ms).div_euclid(bucket) * bucket;
+        match out.last_mut() {
+            Some((bt, acc)) if *bt == b => acc.merge(&a),
+            _ => out.push((b, a)),
+        }
+    };
+    if use_hours {
+        let rows = sqlx::query(
+            "SELECT r.hour_ms, r.n, r.min, r.max, r.sum FROM rollup_hour r JOIN upload u ON u.id = r.upload_id \
+             AND u.state = 'complete' WHERE r.channel_id = ? AND r.hour_ms >= ? AND r.hour_ms <= ? ORDER BY r.hour_ms",
+        )
+        .bind(channel_id)
+        .bind(from_ms - from_ms.rem_euclid(HOUR_MS))
+        .bind(to_ms)
+        .fetch_all(pool)
+        .await?;
+        for r in rows {
+            let n: i64 = r.get("n");
+            add(r.get("hour_ms"), Acc { n: n as u32, min: r.get("min"), max: r.get("max"), sum: r.get("sum") });
+        }
+    } else {
+        let rows = sqlx::query(
+            "SELECT r.day_ms, r.data FROM rollup_minute r JOIN upload u ON u.id = r.upload_id AND u.state = 'complete' \
+             WHERE r.channel_id = ? AND r.day_ms >= ? AND r.day_ms <= ? ORDER BY r.day_ms",
+        )
+        .bind(channel_id)
+        .bind(from_ms - from_ms.rem_euclid(DAY_MS))
+        .bind(to_ms)
+        .fetch_all(pool)
+        .await?;
+        for r in rows {
+            let day: i64 = r.get("day_ms");
+            let blob: Vec<u8> = r.get("data");
+            decode_day(day, &blob, |t, a| {
+                if t >= from_ms && t <= to_ms {
+                    add(t, a)
+                }
+            })?;
+        }
+    }
+    Ok(out
+        .into_iter()
+        .map(|(t, a)| ChartPoint { t_ms: t, min: a.min, mean: a.mean(), max: a.max })
+        .collect())
+}

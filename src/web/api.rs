@@ -1,0 +1,458 @@
+/*!
+The JSON API, version 1 (`/api/v1`), as `API.md` fixes it: SI-canonical numbers with units in the
+field names, RFC 3339 times, and the error shape of [`AppError`].
+*/
+
+use axum::extract::rejection::JsonRejection;
+use axum::extract::{FromRequest, Path, Query, Request, State};
+use axum::http::StatusCode;
+use axum::response::{IntoResponse, Response};
+use serde::{Deserialize, Serialize};
+
+use super::error::AppError;
+use super::AppState;
+use crate::core::fieldtest::parse_time_ms;
+use crate::core::units::{PressureAbs, SiteAir, Temperature, FreeAirFlow};
+use crate::core::{leaks, thermo};
+use crate::records::{CompressorInput, ReceiverInput, SitePatch};
+use crate::service;
+use crate::store::audits;
+use crate::store::read;
+
+/// `Json` whose rejection is our error shape: unreadable JSON is 400, wrong types or missing fields 422.
+pub struct ApiJson<T>(pub T);
+
+impl<T, S> FromRequest<S> for ApiJson<T>
+where
+    axum::Json<T>: FromRequest<S, Rejection = JsonRejection>,
+    S: Send + Sync,
+{
+    type Rejection = AppError;
+    async fn from_request(req: Request, state: &S) -> Result<Self, Self::Rejection> {
+        match axum::Json::<T>::from_request(req, state).await {
+            Ok(axum::Json(v)) => Ok(Self(v)),
+            Err(JsonRejection::JsonDataError(e)) => Err(AppError::Unprocessable {
+                message: e.body_text(),
+                line: None,
+                column: None,
+                field: field_of(&e.body_text()),
+            }),
+            Err(e) => Err(AppError::BadRequest(e.body_text())),
+        }
+    }
+}
+
+/// Pull a field name out of serde's message ("missing field `x`", "unknown field `x`", "at `x`").
+fn field_of(msg: &str) -> Option<String> {
+    let start = msg.find('`')? + 1;
+    let end = start + msg[start..].find('`')?;
+    Some(msg[start..end].to_string())
+}
+
+fn json<T: Serialize>(status: StatusCode, v: &T) -> Response {
+    (status, axum::Json(v)).into_response()
+}
+
+pub async fn not_found() -> AppError {
+    AppError::NotFound("there is no such API endpoint".into())
+}
+
+pub async fn list_audits(State(st): State<AppState>) -> Result<Response, AppError> {
+    let list = audits::list_audits(&st.db).await?;
+    Ok(json(StatusCode::OK, &serde_json::json!({ "audits": list })))
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct NewAudit {
+    name: String,
+    #[serde(default)]
+    site: SitePatch,
+    #[serde(default)]
+    auditor: Option<String>,
+    #[serde(default)]
+    notes: Option<String>,
+}
+
+pub async fn create_audit(State(st): State<AppState>, ApiJson(body): ApiJson<NewAudit>) -> Result<Response, AppError> {
+    let id = service::create_audit(&st.db, &body.name, &body.site).await?;
+    if body.auditor.is_some() || body.notes.is_some() {
+        service::update_audit(&st.db, id, None, body.auditor.as_deref(), body.notes.as_deref(), &SitePatch::default())
+            .await?;
+    }
+    Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": id })))
+}
+
+/// The audit as the API shows it: site (with the atmosphere that follows from it), equipment, files.
+pub async fn get_audit(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
+    let b = service::bundle(&st.db, id).await?;
+    let site = &b.audit.site;
+    let storage = b.storage();
+    Ok(json(
+        StatusCode::OK,
+        &serde_json::json!({
+            "id": b.audit.id,
+            "name": b.audit.name,
+            "auditor": b.audit.auditor,
+            "notes": b.audit.notes,
+            "created_at": b.audit.created_at,
+            "revision": b.audit.revision,
+            "currency": site.currency,
+            "site": {
+                "altitude_m": site.altitude_m,
+                "atmospheric_pressure_kpa_abs": site.atmospheric_pressure_kpa_abs(),
+                "atmospheric_pressure_source": if site.atmospheric_pressure_override_kpa_abs.is_some() { "given" } else { "iso_2533_from_altitude" },
+                "inlet_temperature_c": site.inlet_temperature_c,
+                "timezone": site.timezone,
+                "electricity_price_per_kwh": site.electricity_price_per_kwh,
+                "demand_charge_per_kw_month": site.demand_charge_per_kw_month,
+                "currency": site.currency,
+                "operating_weeks_per_year": site.operating_weeks_per_year,
+                "operating_hours_per_year": site.operating_hours_per_year,
+                "display_units": site.display_units,
+                "heating_fuel_price_per_kwh": site.heating_fuel_price_per_kwh,
+                "heater_efficiency": site.heater_efficiency,
+                "heating_months": site.heating_months,
+                "heat_use": site.heat_use,
+                "grid_co2_kg_per_kwh": site.grid_co2_kg_per_kwh,
+                "fuel_co2_kg_per_kwh": site.fuel_co2_kg_per_kwh,
+                "other_volume_m3": site.other_volume_m3,
+            },
+            "compressors": b.compressors,
+            "receivers": b.receivers,
+            "storage": { "system_volume_m3": storage.system_volume_m3(), "receivers_m3": storage.receivers_m3, "other_volume_m3": storage.other_volume_m3 },
+            "uploads": b.uploads,
+            "channels": b.channels,
+            "field_tests": b.field_tests,
+        }),
+    ))
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct AuditPatch {
+    name: Option<String>,
+    auditor: Option<String>,
+    notes: Option<String>,
+    #[serde(default)]
+    site: SitePatch,
+}
+
+pub async fn patch_audit(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    ApiJson(p): ApiJson<AuditPatch>,
+) -> Result<Response, AppError> {
+    service::update_audit(&st.db, id, p.name.as_deref(), p.auditor.as_deref(), p.notes.as_deref(), &p.site).await?;
+    get_audit(State(st), Path(id)).await
+}
+
+pub async fn add_compressor(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    ApiJson(c): ApiJson<CompressorInput>,
+) -> Result<Response, AppError> {
+    let cid = service::save_compressor(&st.db, id, 0, &c).await?;
+    Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": cid })))
+}
+
+pub async fn update_compressor(
+    State(st): State<AppState>,
+    Path((id, cid)): Path<(i64, i64)>,
+    ApiJson(c): ApiJson<CompressorInput>,
+) -> Result<Response, AppError> {
+    let b = service::bundle(&st.db, id).await?;
+    if !b.compressors.iter().any(|x| x.id == cid) {
+        return Err(AppError::NotFound(format!("audit {id} has no compressor {cid}")));
+    }
+    service::save_compressor(&st.db, id, cid, &c).await?;
+    Ok(json(StatusCode::OK, &serde_json::json!({ "id": cid })))
+}
+
+pub async fn delete_compressor(State(st): State<AppState>, Path((id, cid)): Path<(i64, i64)>) -> Result<Response, AppError> {
+    service::bundle(&st.db, id).await?;
+    if !audits::delete_compressor(&st.db, id, cid).await? {
+        return Err(AppError::NotFound(format!("audit {id} has no compressor {cid}")));
+    }
+    Ok(StatusCode::NO_CONTENT.into_response())
+}
+
+pub async fn add_receiver(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    ApiJson(r): ApiJson<ReceiverInput>,
+) -> Result<Response, AppError> {
+    let rid = service::add_receiver(&st.db, id, &r).await?;
+    Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": rid })))
+}
+
+pub async fn delete_receiver(State(st): State<AppState>, Path((id, rid)): Path<(i64, i64)>) -> Result<Response, AppError> {
+    service::bundle(&st.db, id).await?;
+    if !audits::delete_receiver(&st.db, id, rid).await? {
+        return Err(AppError::NotFound(format!("audit {id} has no receiver {rid}")));
+    }
+    Ok(StatusCode::NO_CONTENT.into_response())
+}
+
+pub async fn list_uploads(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
+    let b = service::bundle(&st.db, id).await?;
+    let uploads: Vec<serde_json::Value> = b
+        .uploads
+        .iter()
+        .map(|u| {
+            let mut v = serde_json::to_value(u).unwrap_or_default();
+            v["quality"] = serde_json::from_str(&u.quality_json).unwrap_or_default();
+            v
+        })
+        .collect();
+    Ok(json(StatusCode::OK, &serde_json::json!({ "uploads": uploads })))
+}
+
+pub async fn channels(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
+    let b = service::bundle(&st.db, id).await?;
+    Ok(json(StatusCode::OK, &serde_json::json!({ "channels": b.channels })))
+}
+
+#[derive(Deserialize)]
+pub struct Window {
+    from: Option<String>,
+    to: Option<String>,
+}
+
+fn window(w: &Window) -> Result<Option<(i64, i64)>, AppError> {
+    match (&w.from, &w.to) {
+        (None, None) => Ok(None),
+        (f, t) => {
+            let from = match f {
+                Some(s) => parse_time_ms("from", s).map_err(|e| AppError::field("from", e.message))?,
+                None => i64::MIN / 4,
+            };
+            let to = match t {
+                Some(s) => parse_time_ms("to", s).map_err(|e| AppError::field("to", e.message))?,
+                None => i64::MAX / 4,
+            };
+            if to <= from {
+                return Err(AppError::field("to", "the end of the window must be after its start"));
+            }
+            Ok(Some((from, to)))
+        }
+    }
+}
+
+pub async fn summary(State(st): State<AppState>, Path(id): Path<i64>, Query(w): Query<Window>) -> Result<Response, AppError> {
+    let win = window(&w)?;
+    Ok(json(StatusCode::OK, &service::summary_json(&st.db, id, win).await?))
+}
+
+#[derive(Deserialize)]
+pub struct SeriesQuery {
+    channel: i64,
+    from: Option<String>,
+    to: Option<String>,
+    points: Option<usize>,
+}
+
+/// Downsampled min/mean/max of one channel from the rollups (SI units, see `unit_si`).
+pub async fn series(State(st): State<AppState>, Path(id): Path<i64>, Query(q): Query<SeriesQuery>) -> Result<Response, AppError> {
+    let b = service::bundle(&st.db, id).await?;
+    let c = b
+        .channels
+        .iter()
+        .find(|c| c.id == q.channel)
+        .ok_or_else(|| AppError::NotFound(format!("audit {id} has no channel {}", q.channel)))?;
+    let w = window(&Window { from: q.from.clone(), to: q.to.clone() })?.unwrap_or((c.first_ms, c.last_ms));
+    let points = q.points.unwrap_or(600).clamp(10, 2000);
+    let pts = read::chart_series(&st.db, c.id, w.0.max(c.first_ms), w.1.min(c.last_ms), points).await?;
+    let unit = match c.quantity.as_str() {
+        "power" => "W",
+        "energy" => "J",
+        "pressure" => "Pa_abs",
+        "flow" => "m3_s_free_air",
+        _ => "K",
+    };
+    Ok(json(
+        StatusCode::OK,
+        &serde_json::json!({
+            "channel": c, "unit_si": unit,
+            "t_ms": pts.iter().map(|p| p.t_ms).collect::<Vec<_>>(),
+            "min": pts.iter().map(|p| p.min).collect::<Vec<_>>(),
+            "mean": pts.iter().map(|p| p.mean).collect::<Vec<_>>(),
+            "max": pts.iter().map(|p| p.max).collect::<Vec<_>>(),
+        }),
+    ))
+}
+
+pub async fn list_field_tests(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
+    let b = service::bundle(&st.db, id).await?;
+    Ok(json(StatusCode::OK, &serde_json::json!({ "field_tests": b.field_tests })))
+}
+
+pub async fn add_field_test(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    ApiJson(body): ApiJson<serde_json::Value>,
+) -> Result<Response, AppError> {
+    let rec = service::add_field_test(&st.db, id, body).await?;
+    Ok(json(StatusCode::CREATED, &rec))
+}
+
+pub async fn delete_field_test(State(st): State<AppState>, Path((id, tid)): Path<(i64, i64)>) -> Result<Response, AppError> {
+    service::bundle(&st.db, id).await?;
+    if !audits::delete_field_test(&st.db, id, tid).await? {
+        return Err(AppError::NotFound(format!("audit {id} has no field test {tid}")));
+    }
+    Ok(StatusCode::NO_CONTENT.into_response())
+}
+
+pub async fn decay_events(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
+    let ev = service::decay_events(&st.db, id).await?;
+    Ok(json(StatusCode::OK, &serde_json::json!({ "events": ev })))
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CostBody {
+    /// `null` goes back to the documented default.
+    implementation_cost: Option<f64>,
+}
+
+pub async fn put_cost(
+    State(st): State<AppState>,
+    Path((id, kind)): Path<(i64, String)>,
+    ApiJson(body): ApiJson<CostBody>,
+) -> Result<Response, AppError> {
+    service::bundle(&st.db, id).await?;
+    if !crate::core::recommend::KINDS.contains(&kind.as_str()) {
+        return Err(AppError::field("kind", format!("unknown recommendation kind {kind:?}")));
+    }
+    if let Some(c) = body.implementation_cost {
+        if !(c.is_finite() && c >= 0.0) {
+            return Err(AppError::field("implementation_cost", format!("the cost must be 0 or more, got {c}")));
+        }
+    }
+    audits::set_cost_override(&st.db, id, &kind, body.implementation_cost).await?;
+    Ok(json(StatusCode::OK, &serde_json::json!({ "kind": kind, "implementation_cost": body.implementation_cost })))
+}
+
+/// Site air for a calculator: an audit's, or the given (default 101.325 kPa, 20 °C).
+async fn calc_site(st: &AppState, audit_id: Option<i64>, p: Option<f64>, t: Option<f64>) -> Result<SiteAir, AppError> {
+    let (mut pk, mut tc) = (101.325, 20.0);
+    if let Some(id) = audit_id {
+        let a = audits::get_audit(&st.db, id).await?.ok_or_else(|| AppError::NotFound(format!("there is no audit {id}")))?;
+        pk = a.site.atmospheric_pressure_kpa_abs();
+        tc = a.site.inlet_temperature_c;
+    }
+    let pk = p.unwrap_or(pk);
+    let tc = t.unwrap_or(tc);
+    if !(pk.is_finite() && pk > 0.0) {
+        return Err(AppError::field("atmospheric_pressure_kpa_abs", format!("atmospheric pressure must be above 0 kPa abs, got {pk}")));
+    }
+    if !(tc.is_finite() && tc > -273.15) {
+        return Err(AppError::field("inlet_temperature_c", format!("temperature must be above absolute zero, got {tc}")));
+    }
+    Ok(SiteAir::new(pk, tc))
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct OrificeBody {
+    diameter_mm: f64,
+    pressure_bar_g: f64,
+    #[serde(default = "default_cd")]
+    discharge_coefficient: f64,
+    upstream_temperature_c: Option<f64>,
+    atmospheric_pressure_kpa_abs: Option<f64>,
+    inlet_temperature_c: Option<f64>,
+    audit_id: Option<i64>,
+}
+
+fn default_cd() -> f64 {
+    // A sharp-edged hole, the usual leak (FIELD-NOTES §5: 0.61-0.65).
+    0.61
+}
+
+pub async fn calc_orifice(State(st): State<AppState>, ApiJson(b): ApiJson<OrificeBody>) -> Result<Response, AppError> {
+    let site = calc_site(&st, b.audit_id, b.atmospheric_pressure_kpa_abs, b.inlet_temperature_c).await?;
+    if !(b.diameter_mm.is_finite() && b.diameter_mm > 0.0) {
+        return Err(AppError::field("diameter_mm", format!("the diameter must be above 0 mm, got {}", b.diameter_mm)));
+    }
+    let upstream = PressureAbs::from_bar_g(b.pressure_bar_g, site.atmosphere);
+    if upstream.0 <= 0.0 {
+        return Err(AppError::field("pressure_bar_g", format!("{} bar(g) is below zero absolute", b.pressure_bar_g)));
+    }
+    let t0 = b.upstream_temperature_c.map(Temperature::from_c).unwrap_or(site.inlet_temperature);
+    let q = leaks::orifice_leak(b.diameter_mm / 1000.0, upstream, t0, b.discharge_coefficient, &site)
+        .map_err(|e| AppError::field(e.field, e.message))?;
+    Ok(json(
+        StatusCode::OK,
+        &serde_json::json!({
+            "leak_flow_m3_min": q.m3_min(),
+            "leak_flow_cfm_free_air": q.cfm(),
+            "atmospheric_pressure_kpa_abs": site.atmosphere.kpa_abs(),
+            "inlet_temperature_c": site.inlet_temperature.c(),
+            "choked": site.atmosphere.0 / upstream.0 <= leaks::critical_pressure_ratio(),
+            "formula": "choked: m = Cd A p0 sqrt(k/(R T0)) (2/(k+1))^((k+1)/(2(k-1))); free air V = m R T_in / p_atm",
+            "source": "isentropic nozzle flow of an ideal gas (k = 1.4, R = 287 J/(kg K)); checked against the published orifice discharge table (FIELD-NOTES §5)",
+        }),
+    ))
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CompressionBody {
+    flow_m3_min: f64,
+    inlet_pressure_kpa_abs: Option<f64>,
+    inlet_temperature_c: Option<f64>,
+    discharge_pressure_bar_g: f64,
+    #[serde(default = "one")]
+    stages: u32,
+    #[serde(default = "default_eta")]
+    isentropic_efficiency: f64,
+    intercooled_to_c: Option<f64>,
+    atmospheric_pressure_kpa_abs: Option<f64>,
+    audit_id: Option<i64>,
+}
+
+fn one() -> u32 {
+    1
+}
+fn default_eta() -> f64 {
+    0.8
+}
+
+pub async fn calc_compression(State(st): State<AppState>, ApiJson(b): ApiJson<CompressionBody>) -> Result<Response, AppError> {
+    let site = calc_site(&st, b.audit_id, b.atmospheric_pressure_kpa_abs.or(b.inlet_pressure_kpa_abs), b.inlet_temperature_c).await?;
+    let inlet = b.inlet_pressure_kpa_abs.map(PressureAbs::from_kpa_abs).unwrap_or(site.atmosphere);
+    let discharge = PressureAbs::from_bar_g(b.discharge_pressure_bar_g, site.atmosphere);
+    if discharge.0 <= 0.0 {
+        return Err(AppError::field("discharge_pressure_bar_g", format!("{} bar(g) is below zero absolute", b.discharge_pressure_bar_g)));
+    }
+    let input = thermo::CompressionInput {
+        flow: FreeAirFlow::from_m3_min(b.flow_m3_min),
+        inlet_pressure: inlet,
+        inlet_temperature: site.inlet_temperature,
+        discharge_pressure: discharge,
+        stages: b.stages,
+        isentropic_efficiency: b.isentropic_efficiency,
+        intercooled_to: Temperature::from_c(b.intercooled_to_c.unwrap_or(site.inlet_temperature.c())),
+    };
+    let r = thermo::compress(&input).map_err(|e| AppError::field(e.field, e.message))?;
+    Ok(json(
+        StatusCode::OK,
+        &serde_json::json!({
+            "mass_flow_kg_s": r.mass_flow_kg_s,
+            "isothermal_power_kw": r.isothermal_power.kw(),
+            "isentropic_power_kw": r.isentropic_power.kw(),
+            "shaft_power_kw": r.shaft_power.kw(),
+            "isothermal_efficiency_of_shaft": r.isothermal_power.0 / r.shaft_power.0,
+            "stages": r.stages.iter().map(|s| serde_json::json!({
+                "pressure_ratio": s.pressure_ratio,
+                "inlet_temperature_c": s.inlet_temperature.c(),
+                "discharge_temperature_c": s.discharge_temperature.c(),
+                "cooler_heat_kw": s.cooler_heat.kw(),
+                "shaft_power_kw": s.shaft_power.kw(),
+            })).collect::<Vec<_>>(),
+            "assumptions": "ideal gas air, k = 1.4, R = 287 J/(kg K); equal stage pressure ratios; each stage after the first and the aftercooler outlet at intercooled_to_c",
+        }),
+    ))
+}

@@ -1,0 +1,126 @@
+/*!
+One error type for the web layer. Client errors carry what the client needs (`line`, `column`,
+`field`); internal errors are logged with their cause chain and shown only as "internal error".
+The JSON shape is API.md's: `{"error": {"message", "line", "column", "field"}}`.
+*/
+
+use axum::http::StatusCode;
+use axum::response::{IntoResponse, Response};
+use axum::Json;
+use serde::Serialize;
+
+use crate::ingest::IngestError;
+use crate::records::FieldError;
+use crate::store::import::ImportError;
+use crate::store::StoreError;
+
+#[derive(Debug, thiserror::Error)]
+pub enum AppError {
+    /// No such audit, compressor, test or page (404).
+    #[error("{0}")]
+    NotFound(String),
+    /// The request cannot be read at all (400).
+    #[error("{0}")]
+    BadRequest(String),
+    /// Well-formed but wrong input (422), with the place it is wrong.
+    #[error("{message}")]
+    Unprocessable { message: String, line: Option<u64>, column: Option<String>, field: Option<String> },
+    /// Conflicts with stored data (409).
+    #[error("{0}")]
+    Conflict(String),
+    /// Over a size limit (413).
+    #[error("{0}")]
+    TooLarge(String),
+    /// Anything else: logged, never shown in detail (500).
+    #[error("internal error")]
+    Internal(#[from] anyhow::Error),
+}
+
+#[derive(Serialize)]
+struct ErrorBody<'a> {
+    error: ErrorDetail<'a>,
+}
+
+#[derive(Serialize)]
+struct ErrorDetail<'a> {
+    message: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    line: Option<u64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    column: Option<&'a str>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    field: Option<&'a str>,
+}
+
+impl AppError {
+    pub fn status(&self) -> StatusCode {
+        match self {
+            Self::NotFound(_) => StatusCode::NOT_FOUND,
+            Self::BadRequest(_) => StatusCode::BAD_REQUEST,
+            Self::Unprocessable { .. } => StatusCode::UNPROCESSABLE_ENTITY,
+            Self::Conflict(_) => StatusCode::CONFLICT,
+            Self::TooLarge(_) => StatusCode::PAYLOAD_TOO_LARGE,
+            Self::Internal(_) => StatusCode::INTERNAL_SERVER_ERROR,
+        }
+    }
+
+    pub fn field(field: &str, message: impl Into<String>) -> Self {
+        Self::Unprocessable { message: message.into(), line: None, column: None, field: Some(field.into()) }
+    }
+
+    pub fn log_if_internal(&self) {
+        if let Self::Internal(e) = self {
+            tracing::error!(error = format!("{e:#}"), "internal error");
+        }
+    }
+
+    pub fn place(&self) -> (Option<u64>, Option<&str>, Option<&str>) {
+        match self {
+            Self::Unprocessable { line, column, field, .. } => (*line, column.as_deref(), field.as_deref()),
+            _ => (None, None, None),
+        }
+    }
+}
+
+impl IntoResponse for AppError {
+    fn into_response(self) -> Response {
+        self.log_if_internal();
+        let (line, column, field) = self.place();
+        let body = ErrorBody { error: ErrorDetail { message: self.to_string(), line, column, field } };
+        (self.status(), Json(body)).into_response()
+    }
+}
+
+impl From<StoreError> for AppError {
+    fn from(e: StoreError) -> Self {
+        Self::Internal(anyhow::Error::new(e))
+    }
+}
+
+impl From<sqlx::Error> for AppError {
+    fn from(e: sqlx::Error) -> Self {
+        Self::Internal(anyhow::Error::new(e))
+    }
+}
+
+impl From<FieldError> for AppError {
+    fn from(e: FieldError) -> Self {
+        Self::Unprocessable { message: e.message, line: None, column: None, field: Some(e.field) }
+    }
+}
+
+impl From<IngestError> for AppError {
+    fn from(e: IngestError) -> Self {
+        Self::Unprocessable { message: e.message, line: e.line, column: e.column, field: e.field }
+    }
+}
+
+impl From<ImportError> for AppError {
+    fn from(e: ImportError) -> Self {
+        match e {
+            ImportError::Bad(i) => i.into(),
+            ImportError::Store(s) => s.into(),
+            other @ (ImportError::Overlap { .. } | ImportError::InProgress(_)) => Self::Conflict(other.to_string()),
+        }
+    }
+}

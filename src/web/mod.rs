@@ -1,0 +1,135 @@
+/*!
+The web layer: an axum router over one [`AppState`]. Pages (askama templates) and the JSON API are
+two faces of the same services (`crate::service`); handlers only parse, call and render.
+*/
+
+pub mod api;
+pub mod assets;
+pub mod error;
+pub mod pages;
+pub mod report;
+pub mod upload;
+
+use std::collections::HashMap;
+use std::net::SocketAddr;
+use std::path::PathBuf;
+use std::sync::{Arc, Mutex};
+
+use axum::extract::DefaultBodyLimit;
+use axum::http::{header, HeaderValue, Request};
+use axum::middleware::{self, Next};
+use axum::response::Response;
+use axum::routing::{get, post};
+use axum::Router;
+use sqlx::SqlitePool;
+
+use crate::store::import::Progress;
+
+/// Settings fixed at start-up.
+#[derive(Debug, Clone)]
+pub struct Config {
+    pub db_path: PathBuf,
+    pub max_upload_bytes: u64,
+    /// Where uploaded files are spooled before import (next to the database by default).
+    pub spool_dir: PathBuf,
+}
+
+/// What every handler gets.
+#[derive(Clone)]
+pub struct AppState {
+    pub db: SqlitePool,
+    pub config: Arc<Config>,
+    /// Imports running now, by the token the client chose, for progress bars.
+    pub imports: Arc<Mutex<HashMap<String, Arc<Progress>>>>,
+    /// At most this many imports parse at once; the others wait (their progress says so).
+    pub import_slots: Arc<tokio::sync::Semaphore>,
+}
+
+impl AppState {
+    pub fn new(db: SqlitePool, config: Config) -> Self {
+        Self {
+            db,
+            config: Arc::new(config),
+            imports: Arc::default(),
+            import_slots: Arc::new(tokio::sync::Semaphore::new(2)),
+        }
+    }
+}
+
+/// Content-Security-Policy: no inline script, nothing from elsewhere.
+const CSP: &str = "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data:; \
+    connect-src 'self'; object-src 'none'; base-uri 'none'; form-action 'self'; frame-ancestors 'none'";
+
+async fn security_headers(req: Request<axum::body::Body>, next: Next) -> Response {
+    let mut res = next.run(req).await;
+    let h = res.headers_mut();
+    h.insert(header::CONTENT_SECURITY_POLICY, HeaderValue::from_static(CSP));
+    h.insert(header::X_CONTENT_TYPE_OPTIONS, HeaderValue::from_static("nosniff"));
+    h.insert(header::REFERRER_POLICY, HeaderValue::from_static("same-origin"));
+    h.insert(header::X_FRAME_OPTIONS, HeaderValue::from_static("DENY"));
+    res
+}
+
+/// The whole application, without a socket (tests may drive it directly).
+pub fn build_app(state: AppState) -> Router {
+    let upload_limit = DefaultBodyLimit::max(state.config.max_upload_bytes as usize + 64 * 1024);
+    let api = Router::new()
+        .route("/audits", get(api::list_audits).post(api::create_audit))
+        .route("/audits/{id}", get(api::get_audit).patch(api::patch_audit))
+        .route("/audits/{id}/compressors", post(api::add_compressor))
+        .route(
+            "/audits/{id}/compressors/{cid}",
+            axum::routing::put(api::update_compressor).delete(api::delete_compressor),
+        )
+        .route("/audits/{id}/receivers", post(api::add_receiver))
+        .route("/audits/{id}/receivers/{rid}", axum::routing::delete(api::delete_receiver))
+        .route(
+            "/audits/{id}/uploads",
+            get(api::list_uploads).post(upload::post_upload).layer(upload_limit.clone()),
+        )
+        .route("/audits/{id}/sniff", post(upload::post_sniff).layer(upload_limit))
+        .route("/imports/{token}", get(upload::import_progress))
+        .route("/audits/{id}/summary", get(api::summary))
+        .route("/audits/{id}/channels", get(api::channels))
+        .route("/audits/{id}/series", get(api::series))
+        .route("/audits/{id}/field-tests", get(api::list_field_tests).post(api::add_field_test))
+        .route("/audits/{id}/field-tests/{tid}", axum::routing::delete(api::delete_field_test))
+        .route("/audits/{id}/decay-events", get(api::decay_events))
+        .route("/audits/{id}/costs/{kind}", axum::routing::put(api::put_cost))
+        .route("/calc/orifice-leak", post(api::calc_orifice))
+        .route("/calc/compression", post(api::calc_compression))
+        .fallback(api::not_found);
+    Router::new()
+        .route("/", get(pages::index))
+        .route("/audits", post(pages::create_audit))
+        .route("/audits/{id}", get(pages::audit))
+        .route("/audits/{id}/site", post(pages::save_site))
+        .route("/audits/{id}/compressors", post(pages::add_compressor))
+        .route("/audits/{id}/compressors/{cid}/delete", post(pages::delete_compressor))
+        .route("/audits/{id}/receivers", post(pages::add_receiver))
+        .route("/audits/{id}/receivers/{rid}/delete", post(pages::delete_receiver))
+        .route("/audits/{id}/upload", get(pages::upload))
+        .route("/audits/{id}/report", get(report::report))
+        .route("/audits/{id}/findings", get(report::findings))
+        .route("/audits/{id}/tests", get(report::tests))
+        .route("/static/{*path}", get(assets::serve))
+        .route("/favicon.ico", get(assets::favicon))
+        .nest("/api/v1", api)
+        .fallback(pages::not_found)
+        .layer(middleware::from_fn(security_headers))
+        .with_state(state)
+}
+
+/// Bind and serve until Ctrl-C. Prints the URL.
+pub async fn run_server(state: AppState, bind: SocketAddr) -> anyhow::Result<()> {
+    let listener = tokio::net::TcpListener::bind(bind).await?;
+    let addr = listener.local_addr()?;
+    println!("airledger is serving {} at http://{addr}/", state.config.db_path.display());
+    let app = build_app(state);
+    axum::serve(listener, app)
+        .with_graceful_shutdown(async {
+            let _ = tokio::signal::ctrl_c().await;
+        })
+        .await?;
+    Ok(())
+}

@@ -1,0 +1,332 @@
+/*!
+The HTML pages: one askama template struct and one handler each. Handlers fetch through `store` and
+`service`, format through `core::display::Fmt`, and render; askama escapes every value, so a user's
+text (audit names, column names, notes) can never become markup.
+*/
+
+use std::collections::HashMap;
+
+use askama::Template;
+use axum::extract::{Path, State};
+use axum::http::StatusCode;
+use axum::response::{Html, IntoResponse, Redirect, Response};
+use axum::Form;
+use sqlx::SqlitePool;
+
+use super::error::AppError;
+use super::AppState;
+use crate::core::display::Fmt;
+use crate::core::model::{CompressorKind, Control};
+use crate::records::{CompressorInput, CompressorRecord, FieldError, ReceiverInput, ReceiverRecord, SitePatch};
+use crate::service::{self, AuditBundle};
+use crate::store::audits::{self, Audit, AuditListItem, UploadRecord};
+
+/// A page-side error: the same [`AppError`], shown as HTML.
+pub struct PageError(AppError);
+
+impl<E: Into<AppError>> From<E> for PageError {
+    fn from(e: E) -> Self {
+        Self(e.into())
+    }
+}
+
+#[derive(Template)]
+#[template(path = "error.html")]
+struct ErrorPage {
+    title: String,
+    message: String,
+}
+
+impl IntoResponse for PageError {
+    fn into_response(self) -> Response {
+        self.0.log_if_internal();
+        let status = self.0.status();
+        let title = match status {
+            StatusCode::NOT_FOUND => "Not found".to_string(),
+            StatusCode::INTERNAL_SERVER_ERROR => "Something went wrong".to_string(),
+            _ => "This did not work".to_string(),
+        };
+        let page = ErrorPage { title, message: self.0.to_string() };
+        (status, render(&page)).into_response()
+    }
+}
+
+type PageResult = Result<Response, PageError>;
+
+/// Render a template; a template error is an internal error page.
+pub fn render<T: Template>(t: &T) -> Response {
+    match t.render() {
+        Ok(html) => Html(html).into_response(),
+        Err(e) => {
+            tracing::error!(error = %e, "template failed");
+            (StatusCode::INTERNAL_SERVER_ERROR, "internal error").into_response()
+        }
+    }
+}
+
+pub async fn not_found() -> PageError {
+    PageError(AppError::NotFound("there is no such page".into()))
+}
+
+#[derive(Template)]
+#[template(path = "index.html")]
+struct IndexPage {
+    audits: Vec<AuditListItem>,
+}
+
+pub async fn index(State(st): State<AppState>) -> PageResult {
+    Ok(render(&IndexPage { audits: audits::list_audits(&st.db).await? }))
+}
+
+fn opt_num(form: &HashMap<String, String>, key: &str) -> Result<Option<f64>, FieldError> {
+    match form.get(key).map(|s| s.trim()) {
+        None | Some("") => Ok(None),
+        Some(s) => s
+            .replace(',', ".")
+            .parse::<f64>()
+            .map(Some)
+            .map_err(|_| FieldError::new(key, format!("{key} must be a number, got {s:?}"))),
+    }
+}
+
+fn opt_text(form: &HashMap<String, String>, key: &str) -> Option<String> {
+    form.get(key).map(|s| s.trim().to_string()).filter(|s| !s.is_empty())
+}
+
+fn site_patch(form: &HashMap<String, String>) -> Result<SitePatch, FieldError> {
+    let months = match form.get("heating_months") {
+        Some(s) => Some(
+            s.split([',', ' ', ';'])
+                .filter(|x| !x.trim().is_empty())
+                .map(|x| {
+                    x.trim().parse::<u8>().map_err(|_| {
+                        FieldError::new("heating_months", format!("heating months must be numbers 1 to 12, got {x:?}"))
+                    })
+                })
+                .collect::<Result<Vec<u8>, _>>()?,
+        ),
+        None => None,
+    };
+    Ok(SitePatch {
+        altitude_m: opt_num(form, "altitude_m")?,
+        atmospheric_pressure_kpa_abs: opt_num(form, "atmospheric_pressure_kpa_abs")?,
+        atmospheric_from_altitude: form
+            .get("atmospheric_pressure_kpa_abs")
+            .map(|s| s.trim().is_empty())
+            .filter(|&blank| blank),
+        inlet_temperature_c: opt_num(form, "inlet_temperature_c")?,
+        timezone: opt_text(form, "timezone"),
+        electricity_price_per_kwh: opt_num(form, "electricity_price_per_kwh")?,
+        demand_charge_per_kw_month: opt_num(form, "demand_charge_per_kw_month")?,
+        currency: opt_text(form, "currency"),
+        operating_weeks_per_year: opt_num(form, "operating_weeks_per_year")?,
+        operating_hours_per_year: if form.contains_key("operating_hours_per_year") {
+            Some(opt_num(form, "operating_hours_per_year")?.unwrap_or(0.0))
+        } else {
+            None
+        },
+        display_units: opt_text(form, "display_units"),
+        heating_fuel_price_per_kwh: opt_num(form, "heating_fuel_price_per_kwh")?,
+        heater_efficiency: opt_num(form, "heater_efficiency")?,
+        heating_months: months,
+        heat_use: opt_text(form, "heat_use"),
+        grid_co2_kg_per_kwh: opt_num(form, "grid_co2_kg_per_kwh")?,
+        fuel_co2_kg_per_kwh: opt_num(form, "fuel_co2_kg_per_kwh")?,
+        other_volume_m3: opt_num(form, "other_volume_m3")?,
+    })
+}
+
+pub async fn create_audit(State(st): State<AppState>, Form(form): Form<HashMap<String, String>>) -> PageResult {
+    let name = opt_text(&form, "name").ok_or_else(|| FieldError::new("name", "the audit needs a name"))?;
+    let patch = site_patch(&form)?;
+    let id = service::create_audit(&st.db, &name, &patch).await?;
+    Ok(Redirect::to(&format!("/audits/{id}")).into_response())
+}
+
+#[derive(Template)]
+#[template(path = "audit.html")]
+struct AuditPage {
+    audit: Audit,
+    compressors: Vec<CompressorRecord>,
+    receivers: Vec<ReceiverRecord>,
+    uploads: Vec<UploadRecord>,
+    fmt: Fmt,
+    atmosphere: String,
+    atmosphere_source: &'static str,
+    system_volume_m3: f64,
+    heating_months: String,
+    kinds: Vec<&'static str>,
+    controls: Vec<&'static str>,
+    error: Option<String>,
+}
+
+fn audit_page(b: AuditBundle, error: Option<String>) -> AuditPage {
+    let fmt = b.fmt();
+    let atm = b.audit.site.atmospheric_pressure_kpa_abs();
+    let system_volume_m3 = b.storage().system_volume_m3();
+    let heating_months =
+        b.audit.site.heating_months.iter().map(|m| m.to_string()).collect::<Vec<_>>().join(", ");
+    AuditPage {
+        atmosphere: format!("{:.2} kPa abs", atm),
+        atmosphere_source: if b.audit.site.atmospheric_pressure_override_kpa_abs.is_some() {
+            "as given"
+        } else {
+            "from the altitude by the ISO 2533 standard atmosphere"
+        },
+        fmt,
+        system_volume_m3,
+        heating_months,
+        kinds: CompressorKind::ALL.iter().map(|k| k.as_str()).collect(),
+        controls: Control::ALL.iter().map(|k| k.as_str()).collect(),
+        audit: b.audit,
+        compressors: b.compressors,
+        receivers: b.receivers,
+        uploads: b.uploads,
+        error,
+    }
+}
+
+pub async fn audit(State(st): State<AppState>, Path(id): Path<i64>) -> PageResult {
+    let b = service::bundle(&st.db, id).await?;
+    Ok(render(&audit_page(b, None)))
+}
+
+/// Re-show the audit page with the error that stopped a form (422).
+async fn audit_with_error(db: &SqlitePool, id: i64, e: AppError) -> PageResult {
+    match e {
+        AppError::Unprocessable { message, .. } | AppError::Conflict(message) => {
+            let b = service::bundle(db, id).await?;
+            let mut res = render(&audit_page(b, Some(message)));
+            *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
+            Ok(res)
+        }
+        other => Err(PageError(other)),
+    }
+}
+
+pub async fn save_site(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Form(form): Form<HashMap<String, String>>,
+) -> PageResult {
+    let result = async {
+        let patch = site_patch(&form)?;
+        let name = opt_text(&form, "name");
+        service::update_audit(
+            &st.db,
+            id,
+            name.as_deref(),
+            form.get("auditor").map(|s| s.as_str()),
+            form.get("notes").map(|s| s.as_str()),
+            &patch,
+        )
+        .await
+    }
+    .await;
+    match result {
+        Ok(()) => Ok(Redirect::to(&format!("/audits/{id}")).into_response()),
+        Err(e) => audit_with_error(&st.db, id, e).await,
+    }
+}
+
+fn parse_curve(s: &str) -> Result<Vec<(f64, f64)>, FieldError> {
+    s.split_whitespace()
+        .map(|p| {
+            let (q, kw) = p.split_once(':').ok_or_else(|| {
+                FieldError::new("power_curve", format!("write each point as flow:kW, got {p:?}"))
+            })?;
+            let q: f64 = q.parse().map_err(|_| FieldError::new("power_curve", format!("bad flow in {p:?}")))?;
+            let kw: f64 = kw.parse().map_err(|_| FieldError::new("power_curve", format!("bad kW in {p:?}")))?;
+            Ok((q, kw))
+        })
+        .collect()
+}
+
+pub async fn add_compressor(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Form(form): Form<HashMap<String, String>>,
+) -> PageResult {
+    let result = async {
+        let need = |k: &str| -> Result<f64, FieldError> {
+            opt_num(&form, k)?.ok_or_else(|| FieldError::new(k, format!("{k} is required")))
+        };
+        let input = CompressorInput {
+            tag: form.get("tag").cloned().unwrap_or_default(),
+            kind: form.get("kind").cloned().unwrap_or_default(),
+            control: form.get("control").cloned().unwrap_or_default(),
+            cooling: form.get("cooling").cloned().unwrap_or_default(),
+            rated_power_kw: need("rated_power_kw")?,
+            rated_flow_m3_min: need("rated_flow_m3_min")?,
+            rated_pressure_bar_g: need("rated_pressure_bar_g")?,
+            unloaded_power_fraction: opt_num(&form, "unloaded_power_fraction")?,
+            stages: opt_num(&form, "stages")?.map(|s| s as u32),
+            rated_specific_power_kw_per_m3_min: opt_num(&form, "rated_specific_power_kw_per_m3_min")?,
+            power_curve: parse_curve(form.get("power_curve").map(|s| s.as_str()).unwrap_or(""))?,
+            year: opt_num(&form, "year")?.map(|y| y as i32),
+            notes: form.get("notes").cloned().unwrap_or_default(),
+        };
+        service::save_compressor(&st.db, id, 0, &input).await
+    }
+    .await;
+    match result {
+        Ok(_) => Ok(Redirect::to(&format!("/audits/{id}")).into_response()),
+        Err(e) => audit_with_error(&st.db, id, e).await,
+    }
+}
+
+pub async fn delete_compressor(State(st): State<AppState>, Path((id, cid)): Path<(i64, i64)>) -> PageResult {
+    service::bundle(&st.db, id).await?;
+    audits::delete_compressor(&st.db, id, cid).await?;
+    Ok(Redirect::to(&format!("/audits/{id}")).into_response())
+}
+
+pub async fn add_receiver(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Form(form): Form<HashMap<String, String>>,
+) -> PageResult {
+    let result = async {
+        let input = ReceiverInput {
+            name: form.get("name").cloned().unwrap_or_default(),
+            volume_m3: opt_num(&form, "volume_m3")?.unwrap_or(f64::NAN),
+            notes: form.get("notes").cloned().unwrap_or_default(),
+        };
+        service::add_receiver(&st.db, id, &input).await
+    }
+    .await;
+    match result {
+        Ok(_) => Ok(Redirect::to(&format!("/audits/{id}")).into_response()),
+        Err(e) => audit_with_error(&st.db, id, e).await,
+    }
+}
+
+pub async fn delete_receiver(State(st): State<AppState>, Path((id, rid)): Path<(i64, i64)>) -> PageResult {
+    service::bundle(&st.db, id).await?;
+    audits::delete_receiver(&st.db, id, rid).await?;
+    Ok(Redirect::to(&format!("/audits/{id}")).into_response())
+}
+
+#[derive(Template)]
+#[template(path = "upload.html")]
+struct UploadPage {
+    audit: Audit,
+    uploads: Vec<UploadRecord>,
+    max_upload_mb: u64,
+    page_data: serde_json::Value,
+}
+
+pub async fn upload(State(st): State<AppState>, Path(id): Path<i64>) -> PageResult {
+    let b = service::bundle(&st.db, id).await?;
+    let page_data = serde_json::json!({
+        "audit_id": id,
+        "compressors": b.compressors.iter().map(|c| c.tag.clone()).collect::<Vec<_>>(),
+        "units": crate::ingest::units_by_quantity(),
+    });
+    Ok(render(&UploadPage {
+        max_upload_mb: st.config.max_upload_bytes / (1024 * 1024),
+        audit: b.audit,
+        uploads: b.uploads,
+        page_data,
+    }))
+}

@@ -1,0 +1,228 @@
+/*!
+Logger files over HTTP: the multipart upload (streamed to a spool file with its SHA-256, bounded
+memory), the sniffer's preview for the mapping form, and import progress.
+
+`POST /api/v1/audits/{id}/uploads?replace=true` replaces stored readings of the same channels inside
+the new file's span instead of answering 409. `?token=T` (any short string the client picks) lets the
+client poll `GET /api/v1/imports/T` for progress.
+*/
+
+use std::path::PathBuf;
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::Arc;
+
+use axum::extract::multipart::Field;
+use axum::extract::{Multipart, Path, Query, State};
+use axum::http::StatusCode;
+use axum::response::{IntoResponse, Response};
+use axum::Json;
+use serde::Deserialize;
+use sha2::{Digest, Sha256};
+use tokio::io::AsyncWriteExt;
+
+use super::error::AppError;
+use super::AppState;
+use crate::ingest::{self, Mapping};
+use crate::service;
+use crate::store::import::{import_file, ImportOutcome, ImportRequest, Progress};
+
+#[derive(Deserialize)]
+pub struct UploadQuery {
+    #[serde(default)]
+    replace: Option<String>,
+    #[serde(default)]
+    token: Option<String>,
+}
+
+/// A spooled upload, removed when dropped.
+struct Spool {
+    path: PathBuf,
+}
+
+impl Drop for Spool {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_file(&self.path);
+    }
+}
+
+static SPOOL_SEQ: AtomicU64 = AtomicU64::new(0);
+
+fn multipart_error(e: axum::extract::multipart::MultipartError) -> AppError {
+    if e.status() == StatusCode::PAYLOAD_TOO_LARGE {
+        AppError::TooLarge("the file is larger than the upload limit (--max-upload-mb)".into())
+    } else {
+        AppError::BadRequest(format!("the upload cannot be read: {}", e.body_text()))
+    }
+}
+
+async fn spool(state: &AppState, mut field: Field<'_>) -> Result<(Spool, String, u64), AppError> {
+    tokio::fs::create_dir_all(&state.config.spool_dir)
+        .await
+        .map_err(|e| AppError::Internal(anyhow::anyhow!("cannot create the spool folder: {e}")))?;
+    let name = format!(
+        "upload-{}-{}-{}.part",
+        std::process::id(),
+        SPOOL_SEQ.fetch_add(1, Ordering::Relaxed),
+        jiff::Timestamp::now().as_nanosecond()
+    );
+    let spool = Spool { path: state.config.spool_dir.join(name) };
+    let mut file = tokio::fs::File::create(&spool.path)
+        .await
+        .map_err(|e| AppError::Internal(anyhow::anyhow!("cannot create a spool file: {e}")))?;
+    let mut hasher = Sha256::new();
+    let mut bytes = 0u64;
+    while let Some(piece) = field.chunk().await.map_err(multipart_error)? {
+        bytes += piece.len() as u64;
+        if bytes > state.config.max_upload_bytes {
+            return Err(AppError::TooLarge(format!(
+                "the file is larger than the upload limit of {} MB",
+                state.config.max_upload_bytes / (1024 * 1024)
+            )));
+        }
+        hasher.update(&piece);
+        file.write_all(&piece)
+            .await
+            .map_err(|e| AppError::Internal(anyhow::anyhow!("cannot write the spool file: {e}")))?;
+    }
+    file.flush().await.map_err(|e| AppError::Internal(e.into()))?;
+    let digest = hasher.finalize();
+    let hex: String = digest.iter().map(|b| format!("{b:02x}")).collect();
+    Ok((spool, hex, bytes))
+}
+
+fn parse_mapping(text: &str) -> Result<Mapping, AppError> {
+    serde_json::from_str(text).map_err(|e| AppError::Unprocessable {
+        message: format!("the mapping is not valid: {e}"),
+        line: None,
+        column: None,
+        field: Some("mapping".into()),
+    })
+}
+
+/// `POST /api/v1/audits/{id}/uploads`: multipart `file` + `mapping`.
+pub async fn post_upload(
+    State(state): State<AppState>,
+    Path(audit_id): Path<i64>,
+    Query(q): Query<UploadQuery>,
+    mut multipart: Multipart,
+) -> Result<Response, AppError> {
+    let ctx = service::import_context(&state.db, audit_id).await?;
+    let mut mapping: Option<Mapping> = None;
+    let mut file: Option<(Spool, String, u64, String)> = None;
+    while let Some(field) = multipart.next_field().await.map_err(multipart_error)? {
+        match field.name() {
+            Some("mapping") => {
+                let text = field.text().await.map_err(multipart_error)?;
+                mapping = Some(parse_mapping(&text)?);
+            }
+            Some("file") => {
+                let filename = field.file_name().unwrap_or("upload.csv").to_string();
+                let (s, sha, bytes) = spool(&state, field).await?;
+                file = Some((s, sha, bytes, filename));
+            }
+            _ => {}
+        }
+    }
+    let mapping = mapping.ok_or_else(|| AppError::field("mapping", "the upload needs a part named mapping (JSON)"))?;
+    let (spooled, sha256, bytes, filename) =
+        file.ok_or_else(|| AppError::field("file", "the upload needs a part named file"))?;
+    let replace = matches!(q.replace.as_deref(), Some("true" | "1" | "yes" | "on"));
+
+    let progress = Arc::new(Progress::default());
+    progress.bytes_total.store(bytes, Ordering::Relaxed);
+    let token = q.token.filter(|t| !t.is_empty() && t.len() <= 64);
+    if let Some(t) = &token {
+        state.imports.lock().expect("imports lock").insert(t.clone(), progress.clone());
+    }
+    let result = async {
+        let _slot = state.import_slots.acquire().await.map_err(|e| AppError::Internal(e.into()))?;
+        let req = ImportRequest {
+            audit_id,
+            filename,
+            path: spooled.path.clone(),
+            sha256,
+            bytes,
+            mapping,
+            replace,
+            site: ctx.site,
+            compressors: ctx.compressors,
+        };
+        Ok::<_, AppError>(import_file(&state.db, req, progress).await?)
+    }
+    .await;
+    if let Some(t) = &token {
+        state.imports.lock().expect("imports lock").remove(t);
+    }
+    drop(spooled);
+    match result? {
+        ImportOutcome::Created(s) => Ok((StatusCode::CREATED, Json(s)).into_response()),
+        ImportOutcome::Duplicate { upload_id } => Ok((
+            StatusCode::OK,
+            Json(serde_json::json!({
+                "upload_id": upload_id,
+                "duplicate": true,
+                "rows": 0,
+                "readings": 0,
+                "warnings": ["this file was imported before (same bytes): nothing was added"],
+            })),
+        )
+            .into_response()),
+    }
+}
+
+/// `POST /api/v1/audits/{id}/sniff`: multipart `file`; only its first 64 KiB are read.
+pub async fn post_sniff(
+    State(state): State<AppState>,
+    Path(audit_id): Path<i64>,
+    mut multipart: Multipart,
+) -> Result<Response, AppError> {
+    service::import_context(&state.db, audit_id).await?;
+    let mut head = Vec::with_capacity(64 * 1024);
+    while let Some(mut field) = multipart.next_field().await.map_err(multipart_error)? {
+        if field.name() != Some("file") {
+            continue;
+        }
+        while let Some(piece) = field.chunk().await.map_err(multipart_error)? {
+            let room = 64 * 1024 - head.len();
+            head.extend_from_slice(&piece[..piece.len().min(room)]);
+            if head.len() >= 64 * 1024 {
+                break;
+            }
+        }
+        break;
+    }
+    if head.is_empty() {
+        return Err(AppError::field("file", "the file is empty"));
+    }
+    let sniffed = ingest::sniff(&head)?;
+    let suggested = ingest::suggest_mapping(&sniffed);
+    let key = ingest::layout_key(&sniffed.header);
+    let remembered: Option<serde_json::Value> = crate::store::audits::remembered_mapping(&state.db, &key)
+        .await?
+        .and_then(|m| serde_json::from_str(&m).ok());
+    Ok(Json(serde_json::json!({
+        "sniffed": sniffed,
+        "suggested_mapping": suggested,
+        "remembered_mapping": remembered,
+        "layout_key": key,
+    }))
+    .into_response())
+}
+
+/// `GET /api/v1/imports/{token}`: progress of a running import.
+pub async fn import_progress(State(state): State<AppState>, Path(token): Path<String>) -> Json<serde_json::Value> {
+    let p = state.imports.lock().expect("imports lock").get(&token).cloned();
+    Json(match p {
+        Some(p) => {
+            let done = p.bytes_done.load(Ordering::Relaxed);
+            let total = p.bytes_total.load(Ordering::Relaxed);
+            serde_json::json!({
+                "state": if done == 0 { "waiting" } else { "importing" },
+                "bytes_done": done,
+                "bytes_total": total,
+                "readings": p.readings.load(Ordering::Relaxed),
+            })
+        }
+        None => serde_json::json!({"state": "unknown"}),
+    })
+}

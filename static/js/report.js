@@ -1,0 +1,150 @@
+// The manager's report: draws every chart from the JSON in #chart-data (already in the reader's
+// units) and from the downsampled series API; edits implementation costs in place.
+"use strict";
+(function () {
+  const A = window.airledger;
+  const d = A.pageData("chart-data");
+  if (!d || typeof Chart === "undefined") return;
+  Chart.defaults.animation = false;
+  Chart.defaults.maintainAspectRatio = false;
+  Chart.defaults.font.family = getComputedStyle(document.body).fontFamily;
+  const palette = ["#0f4c5c", "#f2a541", "#5b8e7d", "#b3261e", "#7a5195", "#2f6690", "#8a6d3b"];
+  const charts = {};
+  const fmtTime = (ms) => new Date(ms).toLocaleString(undefined, { timeZone: d.timezone, month: "short", day: "numeric", hour: "2-digit", minute: "2-digit" });
+
+  function make(id, config) {
+    const el = document.getElementById(id);
+    if (!el) return null;
+    if (charts[id]) charts[id].destroy();
+    charts[id] = new Chart(el, config);
+    return charts[id];
+  }
+
+  const timeAxis = { type: "linear", ticks: { maxTicksLimit: 7, callback: (v) => fmtTime(v) } };
+  const u = d.units;
+  const convert = {
+    power: (v) => v / 1000,
+    pressure: (v) => (v - u.pressure_offset_pa) * u.pressure_scale,
+    flow: (v) => v * u.flow_scale,
+  };
+
+  async function loadSeries(from, to) {
+    const q = (from ? "&from=" + new Date(from).toISOString() + "&to=" + new Date(to).toISOString() : "") + "&points=500";
+    const groups = { power: [], pressure: [], flow: [] };
+    for (const c of d.channels) {
+      if (c.counter || !groups[c.quantity]) continue;
+      const s = await A.json("/api/v1/audits/" + d.audit_id + "/series?channel=" + c.id + q);
+      groups[c.quantity].push({ c: c, s: s });
+    }
+    for (const [quantity, list] of Object.entries(groups)) {
+      const f = convert[quantity];
+      const datasets = [];
+      list.forEach((item, i) => {
+        const color = palette[i % palette.length];
+        const pts = (arr) => item.s.t_ms.map((t, k) => ({ x: t, y: f(arr[k]) }));
+        datasets.push({ label: item.c.name + " (mean)", data: pts(item.s.mean), borderColor: color, backgroundColor: color, pointRadius: 0, borderWidth: 1.5 });
+        if (quantity !== "power") {
+          datasets.push({ label: item.c.name + " (min)", data: pts(item.s.min), borderColor: "transparent", pointRadius: 0, fill: false });
+          datasets.push({ label: item.c.name + " (max)", data: pts(item.s.max), borderColor: "transparent", backgroundColor: color + "33", pointRadius: 0, fill: "-1" });
+        }
+      });
+      if (!datasets.length) datasets.push({ label: "not logged", data: [] });
+      make("chart-" + quantity, {
+        type: "line",
+        data: { datasets: datasets },
+        options: { parsing: false, scales: { x: timeAxis }, plugins: { legend: { labels: { filter: (it) => !/\((min|max)\)$/.test(it.text) } } } },
+      });
+    }
+  }
+
+  // Period selector: the whole log or one local day of it.
+  const sel = document.getElementById("period-select");
+  if (sel && d.first_ms && d.last_ms) {
+    const day = 86400000;
+    for (let t = d.first_ms - (d.first_ms % day); t <= d.last_ms; t += day) {
+      sel.append(A.el("option", { value: String(t) }, new Date(t).toLocaleDateString(undefined, { timeZone: "UTC", weekday: "short", month: "short", day: "numeric" })));
+    }
+    sel.addEventListener("change", () => {
+      const t = Number(sel.value);
+      loadSeries(sel.value ? t : null, sel.value ? t + day : null).catch(showError);
+    });
+  }
+  function showError(e) { console.warn("chart data: " + e.message); }
+  loadSeries().catch(showError);
+
+  make("chart-partload", {
+    type: "scatter",
+    data: { datasets: [
+      { label: "logged" + (d.estimated_flow ? " (flow estimated)" : ""), data: d.part_load, borderColor: palette[0], backgroundColor: palette[0], showLine: true },
+      { label: "data sheet at full load", data: d.rated_points, borderColor: palette[1], backgroundColor: palette[1], pointStyle: "rectRot", pointRadius: 6 },
+    ] },
+    options: { scales: { x: { title: { display: true, text: u.flow } }, y: { title: { display: true, text: u.specific_power }, beginAtZero: true } } },
+  });
+  make("chart-duration", {
+    type: "line",
+    data: { datasets: [{ label: "flow exceeded this share of the time", data: d.duration, borderColor: palette[2], backgroundColor: palette[2] + "44", fill: true, pointRadius: 0 }] },
+    options: { parsing: false, scales: { x: { type: "linear", min: 0, max: 100, title: { display: true, text: "% of time" } }, y: { beginAtZero: true, title: { display: true, text: u.flow } } } },
+  });
+  make("chart-leaks", {
+    type: "bar",
+    data: { labels: d.leaks.map((l) => l.label.replace(/_/g, " ")), datasets: [
+      { label: "leak flow", data: d.leaks.map((l) => l.y), backgroundColor: palette[3] },
+      { label: "low", data: d.leaks.map((l) => l.low), backgroundColor: palette[3] + "55" },
+      { label: "high", data: d.leaks.map((l) => l.high), backgroundColor: palette[3] + "33" },
+    ] },
+    options: { scales: { y: { beginAtZero: true, title: { display: true, text: u.flow } } } },
+  });
+  make("chart-heat", {
+    type: "bar",
+    data: { labels: d.heat_balance.labels, datasets: [{ label: "kWh per year", data: d.heat_balance.kwh, backgroundColor: [palette[0], palette[3], palette[1], palette[2]] }] },
+    options: { indexAxis: "y", plugins: { legend: { display: false } }, scales: { x: { beginAtZero: true } } },
+  });
+
+  // Weekday x hour map, drawn by hand on its canvas (Chart.js has no matrix type built in).
+  function heatmap() {
+    const canvas = document.getElementById("chart-heatmap");
+    if (!canvas) return;
+    const box = canvas.parentElement.getBoundingClientRect();
+    const ratio = window.devicePixelRatio || 1;
+    canvas.width = box.width * ratio;
+    canvas.height = box.height * ratio;
+    const ctx = canvas.getContext("2d");
+    ctx.scale(ratio, ratio);
+    const days = ["Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun"];
+    const left = 36, top = 6, bottom = 22, right = 60;
+    const w = (box.width - left - right) / 24, h = (box.height - top - bottom) / 7;
+    const vals = d.heatmap.flat().filter((v) => v !== null);
+    const max = Math.max(...vals, 1e-9);
+    ctx.font = "11px sans-serif";
+    ctx.fillStyle = "#17232b";
+    d.heatmap.forEach((row, di) => {
+      ctx.fillStyle = "#17232b";
+      ctx.fillText(days[di], 2, top + di * h + h / 2 + 4);
+      row.forEach((v, hi) => {
+        if (v === null) { ctx.fillStyle = "#e4e8ea"; } else {
+          const k = v / max;
+          ctx.fillStyle = "rgb(" + Math.round(233 - 218 * k) + "," + Math.round(245 - 169 * k) + "," + Math.round(242 - 150 * k) + ")";
+        }
+        ctx.fillRect(left + hi * w, top + di * h, w - 1, h - 1);
+      });
+    });
+    ctx.fillStyle = "#17232b";
+    for (let hi = 0; hi < 24; hi += 3) ctx.fillText(String(hi).padStart(2, "0"), left + hi * w, box.height - 6);
+    ctx.fillText("max", box.width - right + 8, top + 12);
+    ctx.fillText(max.toFixed(1), box.width - right + 8, top + 26);
+  }
+  heatmap();
+  window.addEventListener("resize", heatmap);
+
+  for (const form of document.querySelectorAll(".cost-form")) {
+    const kind = form.getAttribute("data-kind");
+    const put = async (value) => {
+      await A.json("/api/v1/audits/" + d.audit_id + "/costs/" + kind, {
+        method: "PUT", headers: { "Content-Type": "application/json" }, body: JSON.stringify({ implementation_cost: value }),
+      });
+      window.location.reload();
+    };
+    form.addEventListener("submit", (e) => { e.preventDefault(); put(Number(form.elements.implementation_cost.value)).catch((x) => alert(x.message)); });
+    form.querySelector("[data-reset]").addEventListener("click", () => put(null).catch((x) => alert(x.message)));
+  }
+})();

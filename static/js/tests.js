@@ -1,0 +1,78 @@
+// The field-tests page: posts tests to the API as JSON, lists and accepts proposed decay events.
+"use strict";
+(function () {
+  const A = window.airledger;
+  const data = A.pageData();
+  if (!data) return;
+  const base = "/api/v1/audits/" + data.audit_id;
+  const status = document.getElementById("test-status");
+
+  function formBody(form) {
+    const body = { kind: form.getAttribute("data-test-kind") };
+    for (const el of form.elements) {
+      if (!el.name || el.value === "") continue;
+      body[el.name] = el.type === "number" ? Number(el.value) : el.value;
+    }
+    return body;
+  }
+
+  async function post(body) {
+    try {
+      const r = await A.json(base + "/field-tests", {
+        method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body),
+      });
+      status.textContent = "Recorded test " + r.id + ".";
+      window.location.reload();
+    } catch (e) {
+      status.textContent = "Not recorded: " + e.message;
+      status.scrollIntoView({ block: "center" });
+    }
+  }
+
+  for (const form of document.querySelectorAll("form[data-test-kind]")) {
+    form.addEventListener("submit", (e) => { e.preventDefault(); post(formBody(form)); });
+  }
+  for (const b of document.querySelectorAll("[data-delete-test]")) {
+    b.addEventListener("click", async () => {
+      await fetch(base + "/field-tests/" + b.getAttribute("data-delete-test"), { method: "DELETE" });
+      window.location.reload();
+    });
+  }
+
+  const orifice = document.getElementById("orifice-form");
+  orifice.addEventListener("submit", async (e) => {
+    e.preventDefault();
+    const body = { audit_id: data.audit_id };
+    for (const el of orifice.elements) if (el.name && el.value !== "") body[el.name] = Number(el.value);
+    const out = document.getElementById("orifice-result");
+    try {
+      const r = await A.json("/api/v1/calc/orifice-leak", {
+        method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body),
+      });
+      out.textContent = r.leak_flow_m3_min.toFixed(3) + " m\u00b3/min free air (" + r.leak_flow_cfm_free_air.toFixed(2) + " cfm free air)" + (r.choked ? ", choked flow" : "");
+    } catch (err) { out.textContent = err.message; }
+  });
+
+  (async function events() {
+    const box = document.getElementById("decay-events");
+    try {
+      const r = await A.json(base + "/decay-events");
+      if (!r.events.length) { box.replaceChildren(A.el("p", { class: "muted" }, "No decay events found in the logs.")); return; }
+      const t = A.el("table", { class: "data" }, A.el("thead", {}, A.el("tr", {},
+        ...["Start", "End", "Pressure", "Duration", "Proposed leak flow", "Fit r\u00b2", ""].map((h) => A.el("th", {}, h)))));
+      const tb = A.el("tbody");
+      for (const ev of r.events) {
+        const accept = A.el("button", { type: "button" }, "accept as test");
+        const start = new Date(ev.start_ms).toISOString(), end = new Date(ev.end_ms).toISOString();
+        accept.addEventListener("click", () => post({ kind: "pressure_decay", start: start, end: end }));
+        tb.append(A.el("tr", {}, A.el("td", {}, start), A.el("td", {}, end),
+          A.el("td", {}, ev.start_pressure_bar_g.toFixed(2) + " \u2192 " + ev.end_pressure_bar_g.toFixed(2) + " bar(g)"),
+          A.el("td", { class: "num" }, (ev.duration_s / 60).toFixed(1) + " min"),
+          A.el("td", { class: "num" }, ev.leak_flow_at_start_pressure_m3_min.toFixed(2) + " m\u00b3/min free air"),
+          A.el("td", { class: "num" }, ev.fit_r2.toFixed(3)), A.el("td", {}, accept)));
+      }
+      t.append(tb);
+      box.replaceChildren(t);
+    } catch (e) { box.replaceChildren(A.el("p", { class: "warn" }, e.message)); }
+  })();
+})();

@@ -1,0 +1,221 @@
+// The upload page: choose a file, sniff it on the server, map its columns, import with progress,
+// then show the data-quality report. All user text is placed with textContent (never as HTML).
+"use strict";
+(function () {
+  const A = window.airledger;
+  const data = A.pageData();
+  if (!data) return;
+  const $ = (id) => document.getElementById(id);
+  const UNITS = data.units; // quantity -> [unit, ...]
+  let file = null;
+  let sniffed = null;
+
+  const drop = $("dropzone");
+  drop.addEventListener("dragover", (e) => { e.preventDefault(); drop.classList.add("over"); });
+  drop.addEventListener("dragleave", () => drop.classList.remove("over"));
+  drop.addEventListener("drop", (e) => {
+    e.preventDefault();
+    drop.classList.remove("over");
+    if (e.dataTransfer.files.length) choose(e.dataTransfer.files[0]);
+  });
+  $("file-input").addEventListener("change", (e) => { if (e.target.files.length) choose(e.target.files[0]); });
+
+  async function choose(f) {
+    file = f;
+    $("choose-status").textContent = "Reading " + f.name + " (" + (f.size / 1048576).toFixed(1) + " MB)\u2026";
+    const fd = new FormData();
+    fd.append("file", f.slice(0, 65536), f.name);
+    try {
+      const r = await A.json("/api/v1/audits/" + data.audit_id + "/sniff", { method: "POST", body: fd });
+      sniffed = r.sniffed;
+      const mapping = r.remembered_mapping || r.suggested_mapping;
+      $("map-note").textContent = r.remembered_mapping
+        ? "This logger's layout was mapped before: the earlier mapping is filled in. Check it."
+        : "Suggested from the file's header and first rows. Check every column.";
+      $("choose-status").textContent = f.name + ": " + sniffed.header.length + " columns, header on line " + sniffed.header_line + ", encoding " + sniffed.encoding + ".";
+      showMapping(mapping);
+    } catch (err) {
+      $("choose-status").textContent = "This file cannot be read: " + err.message;
+    }
+  }
+
+  function option(value, label, selected) {
+    return A.el("option", { value: value, selected: selected }, label);
+  }
+
+  function showMapping(m) {
+    $("step-map").classList.remove("hidden");
+    const pv = $("preview");
+    pv.replaceChildren();
+    const head = A.el("tr", {}, ...sniffed.header.map((h) => A.el("th", {}, h)));
+    pv.append(A.el("thead", {}, head));
+    const body = A.el("tbody");
+    for (const row of sniffed.preview.slice(0, 8)) body.append(A.el("tr", {}, ...row.map((c) => A.el("td", {}, c))));
+    pv.append(body);
+
+    $("m-delimiter").value = m.delimiter === "tab" ? "\t" : m.delimiter;
+    $("m-decimal").value = m.decimal;
+    $("m-header").value = m.header_line;
+    $("m-encoding").value = m.encoding || "";
+    const tsCol = $("m-ts-column");
+    const tsTime = $("m-ts-time");
+    tsCol.replaceChildren(...sniffed.header.map((h) => option(h, h, h === m.timestamp.column)));
+    tsTime.replaceChildren(option("", "(none)"), ...sniffed.header.map((h) => option(h, h, h === m.timestamp.time_column)));
+    $("m-ts-format").value = m.timestamp.format;
+    $("m-ts-zone").value = m.timestamp.timezone || "UTC";
+    $("m-offset").value = m.clock_offset_s || 0;
+    $("dayfirst").classList.toggle("hidden", !sniffed.day_first_ambiguous);
+
+    const tbody = $("columns-table").querySelector("tbody");
+    tbody.replaceChildren();
+    for (const h of sniffed.header) {
+      if (h === m.timestamp.column || h === m.timestamp.time_column) continue;
+      const c = (m.columns || []).find((x) => x.column === h) || { column: h, quantity: "" };
+      tbody.append(columnRow(c));
+    }
+  }
+
+  function columnRow(c) {
+    const q = A.el("select", { class: "q" }, option("", "ignore", !c.quantity),
+      ...Object.keys(UNITS).map((k) => option(k, k, k === c.quantity)));
+    const u = A.el("select", { class: "u" });
+    const comp = A.el("select", { class: "c" }, option("", "\u2014"),
+      ...data.compressors.map((t) => option(t, t, t === c.compressor)));
+    const details = A.el("div", { class: "details" });
+    const num = (cls, label, value, step) => A.el("label", {}, label + " ",
+      A.el("input", { class: cls, type: "number", step: step || "any", value: value === undefined || value === null ? "" : value }));
+    function refill() {
+      u.replaceChildren(...(UNITS[q.value] || []).map((x) => option(x, x, x === c.unit)));
+      comp.disabled = !["power", "energy", "current"].includes(q.value);
+      details.replaceChildren();
+      if (q.value === "current") {
+        details.append(num("volts", "V (line)", c.volts || 400), num("phases", "phases", c.phases || 3, "1"),
+          num("pf", "PF loaded", c.power_factor || 0.85), num("upf", "PF unloaded", c.unloaded_power_factor),
+          num("ubelow", "unloaded below, A", c.unloaded_below_a));
+      }
+      if (q.value === "flow" && /^(scfm|Nm3|Sm3)/.test(u.value)) {
+        const ref = c.reference || {};
+        details.append(num("refp", "reference kPa abs", ref.pressure_kpa_abs), num("reft", "reference \u00b0C", ref.temperature_c));
+        details.append(A.el("span", { class: "hint" }, "blank: the unit's documented default"));
+      }
+    }
+    q.addEventListener("change", refill);
+    u.addEventListener("change", () => { c.unit = u.value; refill(); });
+    refill();
+    const tr = A.el("tr", { "data-column": c.column }, A.el("td", {}, c.column), A.el("td", {}, q), A.el("td", {}, u), A.el("td", {}, comp), A.el("td", {}, details));
+    return tr;
+  }
+
+  function readMapping() {
+    const numOr = (row, cls) => {
+      const e = row.querySelector("." + cls);
+      return e && e.value !== "" ? Number(e.value) : undefined;
+    };
+    const columns = [];
+    for (const row of $("columns-table").querySelectorAll("tbody tr")) {
+      const quantity = row.querySelector(".q").value;
+      if (!quantity) continue;
+      const col = { column: row.getAttribute("data-column"), quantity: quantity, unit: row.querySelector(".u").value };
+      const comp = row.querySelector(".c").value;
+      if (comp && ["power", "energy", "current"].includes(quantity)) col.compressor = comp;
+      if (quantity === "current") {
+        col.volts = numOr(row, "volts"); col.phases = numOr(row, "phases"); col.power_factor = numOr(row, "pf");
+        col.unloaded_power_factor = numOr(row, "upf"); col.unloaded_below_a = numOr(row, "ubelow");
+      }
+      const rp = numOr(row, "refp"), rt = numOr(row, "reft");
+      if (rp !== undefined && rt !== undefined) col.reference = { pressure_kpa_abs: rp, temperature_c: rt };
+      columns.push(col);
+    }
+    let format = $("m-ts-format").value;
+    const df = $("m-dayfirst").value;
+    if (df === "month") format = format.replace("%d/%m", "%m/%d").replace("%d.%m", "%m.%d");
+    if (df === "day") format = format.replace("%m/%d", "%d/%m");
+    const m = {
+      delimiter: $("m-delimiter").value, decimal: $("m-decimal").value, header_line: Number($("m-header").value),
+      timestamp: { column: $("m-ts-column").value, format: format, timezone: $("m-ts-zone").value || "UTC" },
+      columns: columns, clock_offset_s: Number($("m-offset").value || 0),
+    };
+    if ($("m-encoding").value) m.encoding = $("m-encoding").value;
+    if ($("m-ts-time").value) m.timestamp.time_column = $("m-ts-time").value;
+    return m;
+  }
+
+  $("mapping-form").addEventListener("submit", (e) => {
+    e.preventDefault();
+    if (!file) return;
+    if (!$("dayfirst").classList.contains("hidden") && !$("m-dayfirst").value) {
+      $("import-status").textContent = "Choose day-first or month-first dates first.";
+      $("step-import").classList.remove("hidden");
+      return;
+    }
+    const mapping = readMapping();
+    const token = Math.random().toString(36).slice(2) + Date.now().toString(36);
+    const fd = new FormData();
+    fd.append("mapping", JSON.stringify(mapping));
+    fd.append("file", file, file.name);
+    const q = "?token=" + token + ($("m-replace").checked ? "&replace=true" : "");
+    const xhr = new XMLHttpRequest();
+    $("step-import").classList.remove("hidden");
+    $("import-button").disabled = true;
+    $("import-status").textContent = "Uploading\u2026";
+    xhr.upload.addEventListener("progress", (ev) => { if (ev.lengthComputable) $("upload-progress").value = (ev.loaded / ev.total) * 100; });
+    let poll = null;
+    xhr.upload.addEventListener("load", () => {
+      $("upload-progress").value = 100;
+      $("import-status").textContent = "Importing\u2026";
+      poll = setInterval(async () => {
+        try {
+          const p = await A.json("/api/v1/imports/" + token);
+          if (p.state === "waiting") $("import-status").textContent = "Waiting for another import to finish\u2026";
+          if (p.state === "importing" && p.bytes_total) {
+            $("import-progress").value = (p.bytes_done / p.bytes_total) * 100;
+            $("import-status").textContent = "Importing\u2026 " + p.readings.toLocaleString() + " readings so far";
+          }
+        } catch (_) { /* the import may just have finished */ }
+      }, 400);
+    });
+    xhr.addEventListener("loadend", () => {
+      if (poll) clearInterval(poll);
+      $("import-button").disabled = false;
+      let body = {};
+      try { body = JSON.parse(xhr.responseText); } catch (_) { /* not JSON */ }
+      if (xhr.status === 201 || xhr.status === 200) {
+        $("import-progress").value = 100;
+        $("import-status").textContent = xhr.status === 200 ? "This file was imported before: nothing was added." : "Imported.";
+        showResult(body);
+      } else {
+        const er = body.error || { message: "HTTP " + xhr.status };
+        const where = [er.line ? "line " + er.line : null, er.column ? "column \u201c" + er.column + "\u201d" : null, er.field ? "field " + er.field : null].filter(Boolean).join(", ");
+        $("import-status").textContent = "Not imported, nothing was stored: " + er.message + (where ? " (" + where + ")" : "");
+      }
+    });
+    xhr.open("POST", "/api/v1/audits/" + data.audit_id + "/uploads" + q);
+    xhr.send(fd);
+  });
+
+  function showResult(r) {
+    $("step-result").classList.remove("hidden");
+    const box = $("result");
+    box.replaceChildren();
+    const dl = A.el("dl", { class: "facts" });
+    const add = (k, v) => { dl.append(A.el("dt", {}, k), A.el("dd", {}, v)); };
+    add("Upload", String(r.upload_id));
+    add("Rows", (r.rows || 0).toLocaleString());
+    add("Readings", (r.readings || 0).toLocaleString());
+    if (r.first) add("From", r.first);
+    if (r.last) add("To", r.last);
+    if (r.interval_s) add("Interval", r.interval_s + " s");
+    box.append(dl);
+    if (r.channels && r.channels.length) {
+      const t = A.el("table", { class: "data" }, A.el("thead", {}, A.el("tr", {}, A.el("th", {}, "Channel"), A.el("th", {}, "Quantity"), A.el("th", {}, "Readings"), A.el("th", {}, "From"), A.el("th", {}, "To"))));
+      const tb = A.el("tbody");
+      for (const c of r.channels) tb.append(A.el("tr", {}, A.el("td", {}, c.compressor ? c.compressor + " (" + c.label + ")" : c.label), A.el("td", {}, c.quantity), A.el("td", { class: "num" }, c.readings.toLocaleString()), A.el("td", {}, c.first), A.el("td", {}, c.last)));
+      t.append(tb);
+      box.append(t);
+    }
+    const w = r.warnings || [];
+    box.append(A.el("h3", {}, "Data quality"));
+    if (!w.length) box.append(A.el("p", {}, "No gaps, duplicates, flat lines, out-of-range values, counter resets or daylight-saving problems were found."));
+    else box.append(A.el("ul", {}, ...w.map((x) => A.el("li", {}, x))));
+  }
+})();

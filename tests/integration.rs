@@ -1,0 +1,1 @@
+//! integration tests (placeholder while the crate is set up)

@@ -1,0 +1,318 @@
+#!/usr/bin/env python3
+"""Reference values for airledger's physics tests (src/core/air.rs, thermo.rs, leaks.rs, heat.rs).
+
+Computes every value that the Rust unit tests compare with, using general-purpose reference libraries
+(fluids, CoolProp, pint), and writes them to fixture.json beside this script: for each value its
+inputs, the value, its unit, and the library function and version that produced it.
+
+Run once by hand (not by CI); the Rust tests only read the fixture:
+
+    python3 -m venv .venv && .venv/bin/pip install fluids==1.3.1 CoolProp==8.0.0 pint==0.25.3
+    .venv/bin/python tests/reference/make_reference.py
+
+Conventions shared with the Rust code: ideal-gas air with R = 287.0 J/(kg K) (FIELD-NOTES §7) and
+k = 1.4. fluids works per mole with the universal gas constant, so a J/mol value becomes J/kg by
+dividing by the molar mass that R = 287 implies: M = 8.314462618 / 287 kg/mol.
+"""
+
+import json
+import math
+import platform
+from pathlib import Path
+
+import CoolProp
+import fluids
+import numpy
+import pint
+import scipy
+from CoolProp.CoolProp import PropsSI
+from fluids.atmosphere import ATMOSPHERE_1976
+from fluids.compressible import (
+    isentropic_T_rise_compression,
+    isentropic_work_compression,
+    isothermal_work_compression,
+    polytropic_exponent,
+)
+from fluids.safety_valve import API520_A_g
+from scipy.optimize import brentq
+
+R_UNIVERSAL = 8.314462618  # J/(mol K), the value fluids uses (fluids.constants.R)
+R_AIR = 287.0  # J/(kg K), FIELD-NOTES §7
+K_AIR = 1.4
+M_AIR = R_UNIVERSAL / R_AIR  # kg/mol implied by R = 287
+P_ATM = 101325.0
+
+ureg = pint.UnitRegistry()
+Q_ = ureg.Quantity
+
+FLUIDS = f"fluids {fluids.__version__}"
+COOLPROP = f"CoolProp {CoolProp.__version__}"
+PINT = f"pint {pint.__version__}"
+
+values = {}
+
+
+def put(name, value, unit, source, inputs, note=None):
+    """Record one reference value; names are unique so a test cannot read the wrong one silently."""
+    assert name not in values, name
+    entry = {"value": float(value), "unit": unit, "source": source, "inputs": inputs}
+    if note:
+        entry["note"] = note
+    values[name] = entry
+
+
+# ---------------------------------------------------------------- air.rs: units and the atmosphere
+# Unit factors into SI, from pint's definitions (its cfm is not defined, so ft^3/min).
+factors = [
+    ("pa_per_bar", "bar", "Pa"),
+    ("pa_per_psi", "psi", "Pa"),
+    ("pa_per_kpa", "kPa", "Pa"),
+    ("pa_per_mpa", "MPa", "Pa"),
+    ("m3_s_per_m3_min", "m^3/min", "m^3/s"),
+    ("m3_s_per_m3_h", "m^3/h", "m^3/s"),
+    ("m3_s_per_l_s", "l/s", "m^3/s"),
+    ("m3_s_per_cfm", "ft^3/min", "m^3/s"),
+    ("w_per_kw", "kW", "W"),
+    ("j_per_wh", "W*h", "J"),
+    ("j_per_kwh", "kW*h", "J"),
+    ("j_per_mwh", "MW*h", "J"),
+    ("j_per_btu", "Btu", "J"),
+]
+for name, src, dst in factors:
+    put(
+        f"unit.{name}",
+        Q_(1.0, src).to(dst).magnitude,
+        f"{dst} per {src}",
+        f"{PINT} Quantity(1, '{src}').to('{dst}')",
+        {"from": src, "to": dst},
+    )
+for name, v, src in [("degf_68", 68.0, "degF"), ("degc_20", 20.0, "degC"), ("degf_minus_40", -40.0, "degF")]:
+    put(
+        f"unit.{name}_in_k",
+        Q_(v, getattr(ureg, src)).to("K").magnitude,
+        "K",
+        f"{PINT} Quantity({v}, '{src}').to('K')",
+        {"value": v, "unit": src},
+    )
+
+# A flow meter reading 100 scfm (ASME standard air 14.696 psia, 68 F, dry-air conversion) at a site
+# at 89.875 kPa and 20 C inlet: V_FAD = V_ref (p_ref/p_in)(T_ref/T_in), done with pint quantities.
+scfm_fad = (
+    Q_(100.0, "ft^3/min") * (Q_(14.696, "psi") / Q_(89.875, "kPa")) * (Q_(68.0, ureg.degF).to("K") / Q_(20.0, ureg.degC).to("K"))
+).to("m^3/min")
+put(
+    "air.scfm_100_to_free_air_m3_min",
+    scfm_fad.magnitude,
+    "m3/min free air",
+    f"{PINT} (ideal-gas dry-air reference conversion evaluated with pint quantities)",
+    {"flow_scfm": 100.0, "reference_psia": 14.696, "reference_f": 68.0, "site_kpa_abs": 89.875, "site_c": 20.0},
+)
+# 120 Nm3/h (DIN 1343: 101.325 kPa, 0 C) at a site at 95 kPa and 30 C.
+nm3_fad = (
+    Q_(120.0, "m^3/h") * (Q_(101.325, "kPa") / Q_(95.0, "kPa")) * (Q_(30.0, ureg.degC).to("K") / Q_(0.0, ureg.degC).to("K"))
+).to("m^3/s")
+put(
+    "air.nm3_h_120_to_free_air_m3_s",
+    nm3_fad.magnitude,
+    "m3/s free air",
+    f"{PINT} (ideal-gas dry-air reference conversion evaluated with pint quantities)",
+    {"flow_nm3_h": 120.0, "site_kpa_abs": 95.0, "site_c": 30.0},
+)
+
+for z in (0.0, 250.0, 1000.0, 1500.0, 3000.0):
+    put(
+        f"air.atmosphere_1976_{int(z)}m_pa",
+        ATMOSPHERE_1976(z).P,
+        "Pa",
+        f"{FLUIDS} fluids.atmosphere.ATMOSPHERE_1976(Z).P (US Standard Atmosphere 1976, geometric Z)",
+        {"altitude_m": z},
+        note="1976 model with geometric altitude; ASHRAE eq. 3 is a fit to it, agreement ~1e-4",
+    )
+
+# ---------------------------------------------------------------- thermo.rs: compression
+T1 = 293.15
+P1 = 101325.0
+P2 = 790801.08  # FIELD-NOTES §11
+R_RATIO = P2 / P1
+base_inputs = {"t1_k": T1, "p1_pa": P1, "p2_pa": P2, "k": K_AIR}
+
+w_iso_mol = isothermal_work_compression(P1, P2, T1)
+put("thermo.isothermal_work_j_mol", w_iso_mol, "J/mol", f"{FLUIDS} isothermal_work_compression(P1, P2, T)", base_inputs)
+w_is_mol = isentropic_work_compression(T1=T1, k=K_AIR, P1=P1, P2=P2, eta=1.0)
+put("thermo.isentropic_work_j_mol", w_is_mol, "J/mol", f"{FLUIDS} isentropic_work_compression(T1, k, P1=, P2=, eta=1)", base_inputs)
+w_is08_mol = isentropic_work_compression(T1=T1, k=K_AIR, P1=P1, P2=P2, eta=0.8)
+put(
+    "thermo.isentropic_work_eta_0_8_j_mol",
+    w_is08_mol,
+    "J/mol",
+    f"{FLUIDS} isentropic_work_compression(T1, k, P1=, P2=, eta=0.8)",
+    dict(base_inputs, eta=0.8),
+)
+put(
+    "thermo.isentropic_t2_k",
+    isentropic_T_rise_compression(T1, P1, P2, K_AIR, eta=1.0),
+    "K",
+    f"{FLUIDS} isentropic_T_rise_compression(T1, P1, P2, k, eta=1)",
+    base_inputs,
+    note="despite its name the function returns the discharge temperature T2, not the rise",
+)
+put(
+    "thermo.isentropic_t2_eta_0_8_k",
+    isentropic_T_rise_compression(T1, P1, P2, K_AIR, eta=0.8),
+    "K",
+    f"{FLUIDS} isentropic_T_rise_compression(T1, P1, P2, k, eta=0.8)",
+    dict(base_inputs, eta=0.8),
+)
+# Polytropic work: the isentropic formula with k replaced by the polytropic exponent n; n from
+# fluids for a polytropic efficiency of 0.85.
+n_poly = polytropic_exponent(K_AIR, eta_p=0.85)
+put("thermo.polytropic_n_eta_p_0_85", n_poly, "-", f"{FLUIDS} polytropic_exponent(k, eta_p=0.85)", {"k": K_AIR, "eta_p": 0.85})
+put(
+    "thermo.polytropic_work_j_mol",
+    isentropic_work_compression(T1=T1, k=n_poly, P1=P1, P2=P2, eta=1.0),
+    "J/mol",
+    f"{FLUIDS} isentropic_work_compression(T1, k=n, P1=, P2=) with n = polytropic_exponent(1.4, eta_p=0.85)",
+    dict(base_inputs, n=n_poly),
+)
+put("thermo.molar_mass_kg_mol", M_AIR, "kg/mol", "R_universal (fluids.constants.R) / 287", {"R_universal": R_UNIVERSAL, "R_air": R_AIR})
+
+# Real air (CoolProp pseudo-pure 'Air'): reversible isothermal work w = (h2 - h1) - T (s2 - s1).
+h1 = PropsSI("H", "T", T1, "P", P1, "Air")
+s1 = PropsSI("S", "T", T1, "P", P1, "Air")
+h2 = PropsSI("H", "T", T1, "P", P2, "Air")
+s2 = PropsSI("S", "T", T1, "P", P2, "Air")
+put(
+    "thermo.coolprop_isothermal_work_j_kg",
+    (h2 - h1) - T1 * (s2 - s1),
+    "J/kg",
+    f"{COOLPROP} PropsSI('H'/'S', 'T', T, 'P', p, 'Air'): w = dh - T ds",
+    base_inputs,
+)
+put(
+    "thermo.coolprop_cp_20c_j_kg_k",
+    PropsSI("Cpmass", "T", T1, "P", P1, "Air"),
+    "J/(kg K)",
+    f"{COOLPROP} PropsSI('Cpmass', 'T', 293.15, 'P', 101325, 'Air')",
+    {"t_k": T1, "p_pa": P1},
+)
+
+# The API.md compression example: 10 m3/min free air at 101.325 kPa, 20 C to 7 bar(g) (atmosphere
+# 101.325 kPa), 2 stages, eta_s 0.8, intercooled and aftercooled to 30 C. fluids has no multi-stage
+# function, so each stage is evaluated with fluids and summed; mass flow from the ideal-gas law.
+ex = {
+    "flow_m3_min": 10.0,
+    "inlet_pressure_kpa_abs": 101.325,
+    "inlet_temperature_c": 20.0,
+    "discharge_pressure_bar_g": 7.0,
+    "atmosphere_kpa_abs": 101.325,
+    "stages": 2,
+    "isentropic_efficiency": 0.8,
+    "intercooled_to_c": 30.0,
+}
+p_in = ex["inlet_pressure_kpa_abs"] * 1000.0
+p_out = ex["discharge_pressure_bar_g"] * 1e5 + ex["atmosphere_kpa_abs"] * 1000.0
+t_in = ex["inlet_temperature_c"] + 273.15
+t_ic = ex["intercooled_to_c"] + 273.15
+v1 = ex["flow_m3_min"] / 60.0
+mol_s = p_in * v1 / (R_UNIVERSAL * t_in)
+mass_kg_s = mol_s * M_AIR
+r_stage = (p_out / p_in) ** (1.0 / ex["stages"])
+cp_mol = K_AIR * R_UNIVERSAL / (K_AIR - 1.0)
+src_stage = f"{FLUIDS} isentropic_work_compression and isentropic_T_rise_compression per stage, summed"
+put("compress.mass_flow_kg_s", mass_kg_s, "kg/s", "ideal gas m = p V / (R T), R = 287", ex)
+put(
+    "compress.isothermal_power_w",
+    mol_s * isothermal_work_compression(p_in, p_out, t_in),
+    "W",
+    f"{FLUIDS} isothermal_work_compression x molar flow",
+    ex,
+)
+isentropic_total = 0.0
+p_stage_in = p_in
+for i in range(ex["stages"]):
+    t_stage_in = t_in if i == 0 else t_ic
+    p_stage_out = p_stage_in * r_stage
+    w_ideal = isentropic_work_compression(T1=t_stage_in, k=K_AIR, P1=p_stage_in, P2=p_stage_out, eta=1.0)
+    t_dis = isentropic_T_rise_compression(t_stage_in, p_stage_in, p_stage_out, K_AIR, eta=ex["isentropic_efficiency"])
+    isentropic_total += mol_s * w_ideal
+    put(f"compress.stage{i + 1}.pressure_ratio", r_stage, "-", "equal ratios (p_out/p_in)^(1/N)", ex)
+    put(f"compress.stage{i + 1}.discharge_temperature_k", t_dis, "K", src_stage, ex)
+    put(f"compress.stage{i + 1}.cooler_heat_w", mol_s * cp_mol * (t_dis - t_ic), "W", src_stage + "; m cp (T2 - T_ic)", ex)
+    put(f"compress.stage{i + 1}.shaft_power_w", mol_s * w_ideal / ex["isentropic_efficiency"], "W", src_stage, ex)
+    p_stage_in = p_stage_out
+put("compress.isentropic_power_w", isentropic_total, "W", src_stage, ex)
+put("compress.shaft_power_w", isentropic_total / ex["isentropic_efficiency"], "W", src_stage, ex)
+
+# ---------------------------------------------------------------- leaks.rs: orifice flow
+# fluids' API 520 gas relief sizing, A = f(m, T, MW, k, P1, P2, Kd), is the ideal nozzle equation for
+# critical flow and a coefficient form (F2) for subcritical flow. Inverted for the mass flow through a
+# given area with Kd = 1 (the FIELD-NOTES orifice table's coefficient 1.0).
+MW_G_MOL = M_AIR * 1000.0
+
+
+def api520_mass_flow(area_m2, p0, t0, p_back):
+    return brentq(lambda m: API520_A_g(m, t0, 1.0, MW_G_MOL, K_AIR, p0, p_back, Kd=1.0) - area_m2, 1e-12, 100.0, xtol=1e-16, rtol=1e-14)
+
+
+p_atm_14_7 = Q_(14.7, "psi").to("Pa").magnitude
+for label, d_in, psig, p_back in [
+    ("choked_100psig_1_16in", 1.0 / 16.0, 100.0, p_atm_14_7),
+    ("choked_70psig_1_16in", 1.0 / 16.0, 70.0, p_atm_14_7),
+    ("choked_100psig_1_4in", 1.0 / 4.0, 100.0, p_atm_14_7),
+    ("subsonic_5psig_1_8in", 1.0 / 8.0, 5.0, p_atm_14_7),
+]:
+    d_m = Q_(d_in, "inch").to("m").magnitude
+    area = math.pi / 4.0 * d_m * d_m
+    p0 = Q_(psig, "psi").to("Pa").magnitude + p_atm_14_7
+    put(
+        f"orifice.api520_{label}_kg_s",
+        api520_mass_flow(area, p0, 293.15, p_back),
+        "kg/s",
+        f"{FLUIDS} fluids.safety_valve.API520_A_g(m, T, Z=1, MW, k, P1, P2, Kd=1) inverted with scipy {scipy.__version__} brentq",
+        {"diameter_in": d_in, "diameter_m": d_m, "upstream_pa_abs": p0, "back_pressure_pa_abs": p_back, "t0_k": 293.15, "mw_g_mol": MW_G_MOL, "k": K_AIR},
+        note="subcritical API 520 uses a rounded constant (17.9): agreement ~0.1 %" if "subsonic" in label else None,
+    )
+
+# ---------------------------------------------------------------- leaks.rs: bleed-down, DOE form
+doe = (Q_(5.0, "ft^3") * Q_(100.0 - 50.0, "psi") / (Q_(60.0, "min") * Q_(14.7, "psi")) * 1.25).to("ft^3/min")
+put(
+    "leaks.doe_bleed_down_cfm",
+    doe.magnitude,
+    "cfm free air",
+    f"{PINT}: DOE sourcebook formula V (P1 - P2) / (T x 14.7) x 1.25 evaluated with pint quantities",
+    {"volume_ft3": 5.0, "start_psig": 100.0, "end_psig": 50.0, "duration_min": 60.0, "atm_psia": 14.7},
+)
+si = (Q_(3.0, "m^3") * Q_(7.0 - 5.5, "bar") / (Q_(101.325, "kPa") * Q_(95.0, "s"))).to("m^3/min")
+put(
+    "leaks.si_bleed_down_mean_m3_min",
+    si.magnitude,
+    "m3/min free air",
+    f"{PINT}: mean Q_FAD = V dp / (p_atm t) evaluated with pint quantities (API.md example)",
+    {"volume_m3": 3.0, "start_bar_g": 7.0, "end_bar_g": 5.5, "duration_s": 95.0, "atm_kpa_abs": 101.325},
+)
+
+# ---------------------------------------------------------------- heat.rs
+put(
+    "heat.doe_rule_50000_btu_h_in_w",
+    Q_(50000.0, "Btu/hour").to("W").magnitude,
+    "W",
+    f"{PINT} Quantity(50000, 'Btu/hour').to('W') (pint's Btu is the International Table Btu)",
+    {"btu_per_h": 50000.0},
+)
+
+fixture = {
+    "generated_by": "tests/reference/make_reference.py",
+    "versions": {
+        "python": platform.python_version(),
+        "fluids": fluids.__version__,
+        "CoolProp": CoolProp.__version__,
+        "pint": pint.__version__,
+        "numpy": numpy.__version__,
+        "scipy": scipy.__version__,
+    },
+    "conventions": {"R_air_j_kg_k": R_AIR, "k_air": K_AIR, "R_universal_j_mol_k": R_UNIVERSAL, "M_air_kg_mol": M_AIR},
+    "values": values,
+}
+out = Path(__file__).with_name("fixture.json")
+out.write_text(json.dumps(fixture, indent=1, sort_keys=True) + "\n")
+print(f"wrote {len(values)} values to {out.name}")
