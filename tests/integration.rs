@@ -1,1 +1,14 @@
-//! integration tests (placeholder while the crate is set up)
+//! The one integration-test binary: every suite drives the real server over HTTP against a real
+//! SQLite file in a fresh temporary folder (see `support`).
+
+#[path = "support/mod.rs"]
+mod support;
+
+#[path = "integration/api.rs"]
+mod api;
+#[path = "integration/browser.rs"]
+mod browser;
+#[path = "integration/engine.rs"]
+mod engine;
+#[path = "integration/ingest.rs"]
+mod ingest;

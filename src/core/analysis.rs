@@ -510,7 +510,9 @@ pub fn summarize(input: &AuditInput) -> Summary {
     }
     let rule = match site.operating_hours_per_year {
         Some(h) => AnnualRule::Hours(h),
-        None if grid.hours() >= 168.0 => AnnualRule::Weekly(site.operating_weeks_per_year),
+        // A logger week rarely spans exactly 168 h (its first reading comes one interval after the
+        // hour); a weekday-hour cell without data takes the overall mean (see `annualise`).
+        None if grid.hours() >= 167.0 => AnnualRule::Weekly(site.operating_weeks_per_year),
         None => AnnualRule::Scaled(site.operating_weeks_per_year),
     };
     let rule_text = match rule {

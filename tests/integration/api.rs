@@ -1,0 +1,220 @@
+//! The JSON API and the pages over real HTTP (API.md's contract; issue 2's done-when list).
+
+use crate::support::*;
+
+#[test]
+fn the_demo_serves_every_page_and_lists_its_audit() {
+    // Arrange
+    let s = Server::demo();
+    // Act + Assert: every page answers 200 with HTML.
+    for p in ["/", "/audits/1", "/audits/1/report", "/audits/1/findings", "/audits/1/upload", "/audits/1/tests"] {
+        let r = s.get(p);
+        assert_eq!(r.status, 200, "{p}: {}", r.text);
+        assert!(r.content_type.starts_with("text/html"), "{p}: {}", r.content_type);
+    }
+    let list = s.get("/api/v1/audits").json();
+    let audits = list["audits"].as_array().unwrap();
+    assert_eq!(audits.len(), 1);
+    assert!(audits[0]["name"].as_str().unwrap().contains("demo"));
+    assert_eq!(audits[0]["compressors"], 3);
+    // The report loads Chart.js from our own server, and the server has it.
+    let report = s.get("/audits/1/report").text;
+    assert!(report.contains("<script src=\"/static/vendor/chart.umd.min.js\"></script>"));
+    let chart = s.get("/static/vendor/chart.umd.min.js");
+    assert_eq!(chart.status, 200);
+    assert!(chart.text.contains("Chart.js v4"), "the vendored file is Chart.js 4");
+    assert!(!report.contains("https://"), "the report references nothing outside this server");
+    // The demo's report shows real figures with units.
+    assert!(report.contains("kW/(m³/min)"));
+    assert!(report.contains("EUR"));
+}
+
+#[test]
+fn unknown_ids_give_404_in_the_error_shape() {
+    let s = Server::start();
+    let r = s.get("/api/v1/audits/987654321");
+    assert_eq!(r.status, 404);
+    assert!(r.json()["error"]["message"].as_str().unwrap().contains("987654321"));
+    assert_eq!(s.get("/audits/987654321").status, 404);
+    assert_eq!(s.get("/api/v1/no-such-thing").status, 404);
+    assert_eq!(s.get("/api/v1/audits/987654321/summary").status, 404);
+}
+
+#[test]
+fn an_audit_takes_documented_site_defaults_and_the_iso_2533_atmosphere() {
+    let s = Server::start();
+    let r = s.post_json("/api/v1/audits", &json!({"name": "Altitude works", "site": {"altitude_m": 1000}}));
+    assert_eq!(r.status, 201);
+    let id = r.json()["id"].as_i64().unwrap();
+    let a = s.get(&format!("/api/v1/audits/{id}")).json();
+    // ASHRAE Fundamentals ch. 1 eq. 3 (ISO 2533): 1000 m -> 89.875 kPa (FIELD-NOTES §11).
+    let p = a["site"]["atmospheric_pressure_kpa_abs"].as_f64().unwrap();
+    assert!((p - 89.875).abs() < 0.01, "{p}");
+    assert_eq!(a["site"]["inlet_temperature_c"], 20.0);
+    assert_eq!(a["site"]["currency"], "EUR");
+    assert_eq!(a["site"]["operating_weeks_per_year"], 52.0);
+    // A given atmosphere wins.
+    let r = s.post_json("/api/v1/audits", &json!({"name": "Given", "site": {"atmospheric_pressure_kpa_abs": 95.5}}));
+    let id2 = r.json()["id"].as_i64().unwrap();
+    assert_eq!(s.get(&format!("/api/v1/audits/{id2}")).json()["site"]["atmospheric_pressure_kpa_abs"], 95.5);
+}
+
+#[test]
+fn bad_audit_and_compressor_input_is_422_with_the_field_and_409_on_a_taken_tag() {
+    let s = Server::start();
+    let r = s.post_json("/api/v1/audits", &json!({"name": "x", "site": {"timezone": "Nowhere/Land"}}));
+    assert_eq!(r.status, 422);
+    assert_eq!(r.json()["error"]["field"], "timezone");
+    let r = s.post_json("/api/v1/audits", &json!({"site": {}}));
+    assert_eq!(r.status, 422, "{}", r.text);
+    let id = s.audit_with_compressor("C2");
+    let url = format!("/api/v1/audits/{id}/compressors");
+    let base = json!({"tag": "C3", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+                      "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5});
+    let mut bad = base.clone();
+    bad["kind"] = json!("turbo");
+    let r = s.post_json(&url, &bad);
+    assert_eq!(r.status, 422);
+    assert_eq!(r.json()["error"]["field"], "kind");
+    let mut bad = base.clone();
+    bad["rated_flow_m3_min"] = json!(-1);
+    assert_eq!(s.post_json(&url, &bad).json()["error"]["field"], "rated_flow_m3_min");
+    let mut taken = base.clone();
+    taken["tag"] = json!("C2");
+    assert_eq!(s.post_json(&url, &taken).status, 409);
+    let r = ureq_raw_post(&s, &url, "{not json");
+    assert_eq!(r, 400);
+    // The stored compressor carries its defaults.
+    let a = s.get(&format!("/api/v1/audits/{id}")).json();
+    assert_eq!(a["compressors"][0]["tag"], "C2");
+    assert_eq!(a["compressors"][0]["unloaded_power_fraction"], 0.25);
+}
+
+fn ureq_raw_post(s: &Server, path: &str, body: &str) -> u16 {
+    let agent: ureq::Agent = ureq::Agent::config_builder().http_status_as_error(false).build().into();
+    agent
+        .post(&s.url(path))
+        .header("Content-Type", "application/json")
+        .header("Origin", &s.base)
+        .send(body)
+        .map(|r| r.status().as_u16())
+        .unwrap_or(0)
+}
+
+#[test]
+fn pages_edit_the_site_and_equipment_and_escape_what_people_type() {
+    let s = Server::start();
+    let name = "<script>alert('x')</script> & Co";
+    let r = s.post_json("/api/v1/audits", &json!({"name": name}));
+    let id = r.json()["id"].as_i64().unwrap();
+    let page = s.get(&format!("/audits/{id}")).text;
+    assert!(!page.contains("<script>alert"), "the name must be escaped");
+    assert!(page.contains("&#60;script&#62;alert(") && page.contains("&#60;/script&#62; &#38; Co"), "askama escapes it");
+    let index = s.get("/").text;
+    assert!(!index.contains("<script>alert"));
+    // A form post edits the site; US units then show on the page.
+    let agent: ureq::Agent = ureq::Agent::config_builder().http_status_as_error(false).max_redirects(0).build().into();
+    let r = agent
+        .post(&s.url(&format!("/audits/{id}/site")))
+        .header("Origin", &s.base)
+        .send_form([("name", "Renamed plant"), ("display_units", "us"), ("altitude_m", "500"), ("heating_months", "1, 2, 12")])
+        .unwrap();
+    assert_eq!(r.status().as_u16(), 303);
+    let a = s.get(&format!("/api/v1/audits/{id}")).json();
+    assert_eq!(a["name"], "Renamed plant");
+    assert_eq!(a["site"]["display_units"], "us");
+    assert_eq!(a["site"]["heating_months"], json!([1, 2, 12]));
+    // A receiver and a compressor through the forms.
+    let r = agent
+        .post(&s.url(&format!("/audits/{id}/receivers")))
+        .header("Origin", &s.base)
+        .send_form([("name", "wet receiver"), ("volume_m3", "3")])
+        .unwrap();
+    assert_eq!(r.status().as_u16(), 303);
+    let r = agent
+        .post(&s.url(&format!("/audits/{id}/compressors")))
+        .header("Origin", &s.base)
+        .send_form([("tag", "K9"), ("kind", "oil_free_screw"), ("control", "variable_speed"), ("cooling", "water"),
+            ("rated_power_kw", "90"), ("rated_flow_m3_min", "15"), ("rated_pressure_bar_g", "8"), ("power_curve", "5:35 10:60 15:90")])
+        .unwrap();
+    assert_eq!(r.status().as_u16(), 303);
+    let a = s.get(&format!("/api/v1/audits/{id}")).json();
+    assert_eq!(a["storage"]["system_volume_m3"], 3.0);
+    assert_eq!(a["compressors"][0]["power_curve"], json!([[5.0, 35.0], [10.0, 60.0], [15.0, 90.0]]));
+    let page = s.get(&format!("/audits/{id}")).text;
+    // 15 m³/min = 529.7 cfm, shown to three figures (1 m³/min = 35.3147 cfm, FIELD-NOTES §2).
+    assert!(page.contains("530 cfm free air"), "US units on the page");
+    // A bad form value re-shows the page with the reason, 422.
+    let r = agent
+        .post(&s.url(&format!("/audits/{id}/receivers")))
+        .header("Origin", &s.base)
+        .send_form([("name", "bad"), ("volume_m3", "-2")])
+        .unwrap();
+    assert_eq!(r.status().as_u16(), 422);
+}
+
+#[test]
+fn responses_carry_the_security_headers() {
+    let s = Server::start();
+    let r = s.get("/");
+    let csp = r.header("content-security-policy").unwrap();
+    assert!(csp.contains("script-src 'self'") && csp.contains("frame-ancestors 'none'"));
+    assert!(!csp.contains("unsafe-inline"));
+    assert_eq!(r.header("x-content-type-options"), Some("nosniff"));
+    assert_eq!(r.header("referrer-policy"), Some("same-origin"));
+}
+
+#[test]
+fn the_summary_of_an_audit_without_data_says_so() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(sm["no_data"], true);
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    assert!(report.contains("No logger data yet"));
+}
+
+#[test]
+fn edited_implementation_costs_change_the_payback() {
+    let s = Server::demo();
+    let sm = s.get("/api/v1/audits/1/summary").json();
+    let recs = sm["recommendations"].as_array().unwrap();
+    assert!(!recs.is_empty(), "the demo plant has measures");
+    let first = &recs[0];
+    let kind = first["kind"].as_str().unwrap().to_string();
+    let saving = first["annual_cost_saving"].as_f64().unwrap();
+    let r = s.put_json(&format!("/api/v1/audits/1/costs/{kind}"), &json!({"implementation_cost": 12345.0}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let sm = s.get("/api/v1/audits/1/summary").json();
+    let rec = sm["recommendations"].as_array().unwrap().iter().find(|r| r["kind"] == kind.as_str()).unwrap().clone();
+    assert_eq!(rec["implementation_cost"], 12345.0);
+    let payback = rec["simple_payback_years"].as_f64().unwrap();
+    assert!((payback - 12345.0 / saving).abs() < 1e-9, "payback = cost / saving (API.md)");
+    // Ranked by payback.
+    let pb: Vec<f64> = sm["recommendations"].as_array().unwrap().iter().map(|r| r["simple_payback_years"].as_f64().unwrap()).collect();
+    assert!(pb.windows(2).all(|w| w[0] <= w[1]), "{pb:?}");
+    assert_eq!(s.put_json("/api/v1/audits/1/costs/paint_pipes", &json!({"implementation_cost": 1})).status, 422);
+}
+
+#[test]
+fn report_json_from_the_cli_matches_the_api() {
+    let s = Server::demo();
+    let api = s.get("/api/v1/audits/1/summary").json();
+    let out = std::process::Command::new(binary())
+        .args(["report", "--db"])
+        .arg(&s.db)
+        .args(["--audit", "1", "--format", "json"])
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let cli: Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(cli["system"]["energy_kwh"], api["system"]["energy_kwh"]);
+    let html = std::process::Command::new(binary())
+        .args(["report", "--db"])
+        .arg(&s.db)
+        .args(["--audit", "1", "--format", "html"])
+        .output()
+        .unwrap();
+    let html = String::from_utf8_lossy(&html.stdout);
+    assert!(html.contains("Recommendations, ranked by simple payback"));
+}

@@ -1,0 +1,2 @@
+//! browser suite
+use crate::support::*;

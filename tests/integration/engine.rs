@@ -1,0 +1,2 @@
+//! engine suite
+use crate::support::*;

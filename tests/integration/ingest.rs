@@ -1,0 +1,270 @@
+//! Logger files in, over HTTP and the CLI: every bad-input class leaves the database unchanged;
+//! the same file twice adds nothing; overlaps are refused unless replaced; a kill mid-import
+//! leaves no partial upload.
+
+use crate::support::*;
+
+fn readings(s: &Server, id: i64) -> i64 {
+    let a = s.get(&format!("/api/v1/audits/{id}")).json();
+    a["uploads"].as_array().unwrap().iter().map(|u| u["readings"].as_i64().unwrap()).sum()
+}
+
+#[test]
+fn a_file_imports_once_and_the_same_bytes_again_add_nothing() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let csv = cycling_csv(2);
+    let r = s.upload(id, "one.csv", csv.as_bytes(), &cycling_mapping(), "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let j = r.json();
+    assert_eq!(j["rows"], 720);
+    assert_eq!(j["readings"], 720 * 3);
+    assert_eq!(j["first"], "2026-05-04T08:00:00Z");
+    assert_eq!(j["last"], "2026-05-04T09:59:50Z");
+    assert_eq!(j["interval_s"], 10.0);
+    let again = s.upload(id, "renamed.csv", csv.as_bytes(), &cycling_mapping(), "");
+    assert_eq!(again.status, 200);
+    assert_eq!(again.json()["upload_id"], j["upload_id"]);
+    assert_eq!(readings(&s, id), 2160);
+    // The figures follow from the file: 4 of 20 readings loaded. Between two 10 s readings the
+    // signal is a ramp (series.rs), so each cycle's loaded time is 30 s to 50 s of 200 s
+    // depending on where the midpoint between unloaded and loaded power falls: 0.15..0.25.
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    let lf = sm["compressors"][0]["loaded_fraction"].as_f64().unwrap();
+    assert!((0.15..=0.251).contains(&lf), "{lf}");
+    let cph = sm["compressors"][0]["cycles_per_hour"].as_f64().unwrap();
+    assert!((cph - 18.0).abs() < 1.0, "one load cycle per 200 s is 18 per hour: {cph}");
+    // Energy: mean of 4 × 56 + 16 × 14 kW over 20 readings = 22.4 kW for 2 h = 44.8 kWh (the
+    // last 10 s interval is not covered by trapezoids: 22.4 kW × 1.9972 h).
+    let e = sm["system"]["energy_kwh"].as_f64().unwrap();
+    assert!((e - 44.8).abs() < 0.6, "{e}");
+}
+
+#[test]
+fn overlapping_readings_are_refused_unless_replaced() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    assert_eq!(s.upload(id, "a.csv", cycling_csv(2).as_bytes(), &cycling_mapping(), "").status, 201);
+    // The same hours in another file (other bytes): 409 naming the channel.
+    let other = cycling_csv(1).replace(",56.0,", ",55.0,");
+    let r = s.upload(id, "b.csv", other.as_bytes(), &cycling_mapping(), "");
+    assert_eq!(r.status, 409, "{}", r.text);
+    assert!(r.json()["error"]["message"].as_str().unwrap().contains("overlap"));
+    assert_eq!(readings(&s, id), 2160, "nothing of the refused file was stored");
+    // With replace=true the new file's hour replaces the stored readings of that hour.
+    let r = s.upload(id, "b.csv", other.as_bytes(), &cycling_mapping(), "?replace=true");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let a = s.get(&format!("/api/v1/audits/{id}")).json();
+    let total: i64 = a["channels"].as_array().unwrap().iter().map(|c| c["readings"].as_i64().unwrap()).sum();
+    assert_eq!(total, 2160, "one hour replaced, none doubled");
+}
+
+fn assert_unprocessable(s: &Server, id: i64, file: &str, mapping: &Value, line: Option<u64>, column: Option<&str>) {
+    let before = readings(s, id);
+    let r = s.upload(id, "bad.csv", file.as_bytes(), mapping, "");
+    assert_eq!(r.status, 422, "{}", r.text);
+    let e = &r.json()["error"];
+    if let Some(l) = line {
+        assert_eq!(e["line"], l, "{e}");
+    }
+    if let Some(c) = column {
+        assert_eq!(e["column"], c, "{e}");
+    }
+    assert_eq!(readings(s, id), before, "the database is unchanged");
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}")).json()["uploads"].as_array().unwrap().len() as i64, before.signum());
+}
+
+#[test]
+fn each_bad_input_class_names_its_line_and_column_and_stores_nothing() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let m = cycling_mapping();
+    let good = cycling_csv(1);
+    let mut lines: Vec<String> = good.lines().map(String::from).collect();
+    // A bad number on line 101 in "header bar".
+    lines[100] = lines[100].replacen(",7.20,", ",7.2x,", 1).replacen(",6.90,", ",6.9x,", 1);
+    assert_unprocessable(&s, id, &(lines.join("\n") + "\n"), &m, Some(101), Some("header bar"));
+    // A bad timestamp on line 5.
+    let mut l2: Vec<String> = good.lines().map(String::from).collect();
+    l2[4] = l2[4].replacen("2026-05-04T", "2026-13-04T", 1);
+    assert_unprocessable(&s, id, &(l2.join("\n") + "\n"), &m, Some(5), Some("time"));
+    // A row too short for a mapped column, line 7.
+    let mut l3: Vec<String> = good.lines().map(String::from).collect();
+    l3[6] = l3[6].split(',').take(2).collect::<Vec<_>>().join(",");
+    assert_unprocessable(&s, id, &(l3.join("\n") + "\n"), &m, Some(7), None);
+    // Pressure below zero absolute (API.md: 422), line 3.
+    let mut l4: Vec<String> = good.lines().map(String::from).collect();
+    l4[2] = l4[2].replacen(",7.20,", ",-1.5,", 1).replacen(",6.90,", ",-1.5,", 1);
+    assert_unprocessable(&s, id, &(l4.join("\n") + "\n"), &m, Some(3), Some("header bar"));
+    // A mapping naming a column the file does not have; an unknown unit; an unknown compressor.
+    let mut m2 = m.clone();
+    m2["columns"][1]["column"] = json!("no such column");
+    assert_unprocessable(&s, id, &good, &m2, None, None);
+    let mut m3 = m.clone();
+    m3["columns"][1]["unit"] = json!("furlongs");
+    assert_unprocessable(&s, id, &good, &m3, None, None);
+    let mut m4 = m.clone();
+    m4["columns"][0]["compressor"] = json!("C9");
+    assert_unprocessable(&s, id, &good, &m4, None, None);
+    // Now the good file still imports whole.
+    assert_eq!(s.upload(id, "good.csv", good.as_bytes(), &m, "").status, 201);
+    assert_eq!(readings(&s, id), 360 * 3);
+}
+
+#[test]
+fn european_latin1_files_with_preamble_bom_and_markup_import_and_are_escaped() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    // Windows-1252: a degree sign (0xB0) in a header, semicolons, decimal commas, a preamble.
+    let mut bytes: Vec<u8> = b"Logger 4711\r\nSerial;AB-12\r\nStart;04.05.2026\r\n".to_vec();
+    bytes.extend_from_slice(b"Zeit;C1 [kW];Druck [bar];Temp [\xb0C];<b>Flow</b> m3/min\r\n");
+    for i in 0..120 {
+        let (h, m, sec) = (10 + i * 30 / 3600, (i * 30 / 60) % 60, (i * 30) % 60);
+        bytes.extend_from_slice(format!("04.05.2026 {h:02}:{m:02}:{sec:02};{},5;7,{:02};21,5;3,25\r\n", 40 + i % 3, 10 + i % 7).as_bytes());
+    }
+    let mapping = json!({"delimiter": ";", "decimal": ",", "header_line": 4,
+        "timestamp": {"column": "Zeit", "format": "%d.%m.%Y %H:%M:%S", "timezone": "Europe/Berlin"},
+        "columns": [{"column": "C1 [kW]", "quantity": "power", "unit": "kW", "compressor": "C1"},
+                    {"column": "Druck [bar]", "quantity": "pressure", "unit": "bar_g"},
+                    {"column": "Temp [°C]", "quantity": "temperature", "unit": "C"},
+                    {"column": "<b>Flow</b> m3/min", "quantity": "flow", "unit": "m3_min"}]});
+    let r = s.upload(id, "latin1.csv", &bytes, &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let j = r.json();
+    assert_eq!(j["rows"], 120);
+    assert_eq!(j["readings"], 480);
+    // 10:00 in Berlin in May is 08:00 UTC (CEST, UTC+2).
+    assert_eq!(j["first"], "2026-05-04T08:00:00Z");
+    // The markup in the column name is shown escaped wherever it appears.
+    for p in [format!("/audits/{id}"), format!("/audits/{id}/report"), format!("/audits/{id}/upload")] {
+        let page = s.get(&p).text;
+        assert!(!page.contains("<b>Flow</b>"), "{p} shows raw markup");
+    }
+    // A UTF-8 file with a BOM.
+    let mut bom = b"\xef\xbb\xbf".to_vec();
+    bom.extend_from_slice(cycling_csv(1).replace("2026-05-04", "2026-05-05").as_bytes());
+    let r = s.upload(id, "bom.csv", &bom, &cycling_mapping(), "");
+    assert_eq!(r.status, 201, "{}", r.text);
+}
+
+#[test]
+fn the_sniffer_proposes_a_mapping_that_imports() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let csv = cycling_csv(1);
+    let boundary = "sniffBOUNDARY";
+    let body = format!("--{boundary}\r\nContent-Disposition: form-data; name=\"file\"; filename=\"x.csv\"\r\n\r\n{csv}\r\n--{boundary}--\r\n");
+    let agent: ureq::Agent = ureq::Agent::config_builder().http_status_as_error(false).build().into();
+    let mut r = agent
+        .post(&s.url(&format!("/api/v1/audits/{id}/sniff")))
+        .header("Origin", &s.base)
+        .header("Content-Type", &format!("multipart/form-data; boundary={boundary}"))
+        .send(body.as_bytes())
+        .unwrap();
+    assert_eq!(r.status().as_u16(), 200);
+    let j: Value = serde_json::from_str(&r.body_mut().read_to_string().unwrap()).unwrap();
+    assert_eq!(j["sniffed"]["delimiter"], ",");
+    assert_eq!(j["sniffed"]["header"].as_array().unwrap().len(), 4);
+    let mapping = j["suggested_mapping"].clone();
+    assert_eq!(mapping["timestamp"]["column"], "time");
+    let up = s.upload(id, "x.csv", csv.as_bytes(), &mapping, "");
+    assert_eq!(up.status, 201, "{}", up.text);
+}
+
+#[test]
+fn an_upload_over_the_limit_is_413() {
+    let s = Server::start_with(&["serve"], &["--max-upload-mb", "1"]);
+    let id = s.audit_with_compressor("C1");
+    let csv = cycling_csv(120); // ~1.9 MB
+    assert!(csv.len() > 1024 * 1024);
+    let r = s.upload(id, "big.csv", csv.as_bytes(), &cycling_mapping(), "");
+    assert_eq!(r.status, 413, "{}", r.text);
+    assert_eq!(readings(&s, id), 0);
+}
+
+#[test]
+fn the_cli_imports_through_the_same_path() {
+    let dir = TempDir::new("cli");
+    let db = dir.path().join("cli.sqlite");
+    let csv = dir.path().join("c.csv");
+    std::fs::write(&csv, cycling_csv(1)).unwrap();
+    let map = dir.path().join("m.json");
+    std::fs::write(&map, cycling_mapping().to_string()).unwrap();
+    // The audit comes from a server run on the same file.
+    {
+        let s = Server::start_on(TempDir::new("cli-srv"), db.clone(), &["serve"], &[]);
+        s.audit_with_compressor("C1");
+    }
+    let run = || {
+        std::process::Command::new(binary())
+            .args(["import", "--db"])
+            .arg(&db)
+            .args(["--audit", "1", "--mapping"])
+            .arg(&map)
+            .arg(&csv)
+            .output()
+            .unwrap()
+    };
+    let out = run();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("360 rows, 1080 readings"), "{text}");
+    let again = run();
+    assert!(String::from_utf8_lossy(&again.stdout).contains("already imported"));
+}
+
+#[test]
+fn a_server_killed_during_an_import_leaves_no_partial_upload() {
+    let dir = TempDir::new("kill");
+    let db = dir.path().join("kill.sqlite");
+    let mut s = Server::start_on(dir, db.clone(), &["serve"], &[]);
+    let id = s.audit_with_compressor("C1");
+    // A file large enough to take a while (10 days at 1 s).
+    let rows = 864_000i64;
+    let mut csv = String::from("time,C1 kW,header bar,flow m3/min\n");
+    let start = 1_777_881_600i64;
+    for i in 0..rows {
+        csv.push_str(&format!("{},{},{:.2},{:.2}\n", jiff_like_rfc3339(start + i), 14 + (i % 40), 6.9 + (i % 30) as f64 / 100.0, 2.0 + (i % 9) as f64 / 10.0));
+    }
+    let base = s.base.clone();
+    let bytes = csv.clone().into_bytes();
+    let mapping = cycling_mapping();
+    let uploader = std::thread::spawn(move || {
+        let boundary = "killBOUNDARY";
+        let mut body = format!("--{boundary}\r\nContent-Disposition: form-data; name=\"mapping\"\r\n\r\n{mapping}\r\n--{boundary}\r\nContent-Disposition: form-data; name=\"file\"; filename=\"k.csv\"\r\n\r\n").into_bytes();
+        body.extend_from_slice(&bytes);
+        body.extend_from_slice(format!("\r\n--{boundary}--\r\n").as_bytes());
+        let agent: ureq::Agent = ureq::Agent::config_builder().http_status_as_error(false).build().into();
+        let _ = agent
+            .post(&format!("{base}/api/v1/audits/{id}/uploads?token=killtest"))
+            .header("Content-Type", &format!("multipart/form-data; boundary={boundary}"))
+            .send(&body[..]);
+    });
+    // Wait until the import is under way (a quarter of the file parsed), then SIGKILL.
+    let started = wait_until(std::time::Duration::from_secs(120), || {
+        let p = s.get("/api/v1/imports/killtest").json();
+        p["state"] == "importing" && p["bytes_done"].as_f64().unwrap_or(0.0) > 0.25 * p["bytes_total"].as_f64().unwrap_or(1.0)
+    });
+    assert!(started, "the import never started writing");
+    s.kill();
+    let _ = uploader.join();
+    // Restart on the same file: integrity ok, no partial upload, and the file imports whole.
+    let dir2 = TempDir::new("kill2");
+    let s2 = Server::start_on(dir2, db.clone(), &["serve"], &[]);
+    let a = s2.get(&format!("/api/v1/audits/{id}")).json();
+    assert_eq!(a["uploads"].as_array().unwrap().len(), 0, "no partial upload is visible");
+    assert_eq!(a["channels"].as_array().unwrap().len(), 0, "no readings are visible");
+    let r = s2.upload(id, "k.csv", csv.as_bytes(), &cycling_mapping(), "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    assert_eq!(r.json()["readings"], rows * 3);
+    drop(s2);
+    // integrity_check through the CLI's own open path: a backup succeeds only on a sound file.
+    let out = std::process::Command::new(binary())
+        .args(["backup", "--db"])
+        .arg(&db)
+        .arg("--out")
+        .arg(db.with_extension("backup.sqlite"))
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+}
