@@ -92,7 +92,7 @@ impl Server {
         let (tx, rx) = std::sync::mpsc::channel();
         std::thread::spawn(move || {
             for line in BufReader::new(out).lines().map_while(Result::ok) {
-                if line.contains("http://") {
+                if line.starts_with("airledger is serving") {
                     let _ = tx.send(());
                 }
             }
