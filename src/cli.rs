@@ -109,11 +109,8 @@ pub fn main() -> ExitCode {
 }
 
 fn config(db: &Path, max_upload_mb: u64) -> Config {
-    let spool_dir = db
-        .parent()
-        .filter(|p| !p.as_os_str().is_empty())
-        .unwrap_or(Path::new("."))
-        .join(".airledger-spool");
+    let spool_dir =
+        db.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new(".")).join(".airledger-spool");
     Config { db_path: db.to_path_buf(), max_upload_bytes: max_upload_mb * 1024 * 1024, spool_dir }
 }
 
@@ -154,7 +151,8 @@ async fn run(command: Command) -> anyhow::Result<()> {
                         let _ = std::io::stderr().flush();
                     }
                 });
-                let outcome = service::import_path(&pool, audit, &f, mapping.clone(), replace, progress).await;
+                let outcome =
+                    service::import_path(&pool, audit, &f, mapping.clone(), replace, progress).await;
                 ticker.abort();
                 eprintln!();
                 match outcome? {

@@ -141,11 +141,7 @@ pub struct DemoOptions {
 
 impl Default for DemoOptions {
     fn default() -> Self {
-        Self {
-            days: 7,
-            interval_s: 5,
-            seed: 0x00A1_71ED_6E72,
-        }
+        Self { days: 7, interval_s: 5, seed: 0x00A1_71ED_6E72 }
     }
 }
 
@@ -220,13 +216,7 @@ fn compressors() -> Vec<CompressorSpec> {
             unloaded_power_fraction: 14.0 / 45.0,
             stages: 1,
             rated_specific_power_kw_per_m3_min: None,
-            power_curve: vec![
-                (2.0, 14.0),
-                (3.4, 20.6),
-                (4.8, 27.6),
-                (6.2, 35.6),
-                (7.6, 45.0),
-            ],
+            power_curve: vec![(2.0, 14.0), (3.4, 20.6), (4.8, 27.6), (6.2, 35.6), (7.6, 45.0)],
             year: Some(2021),
         },
     ]
@@ -349,13 +339,7 @@ fn berlin_local(unix_s: i64) -> (i64, i64) {
 fn push_rfc3339_utc(out: &mut String, unix_s: i64) {
     let (y, mo, d) = civil_from_days(unix_s.div_euclid(86_400));
     let s = unix_s.rem_euclid(86_400);
-    let _ = write!(
-        out,
-        "{y:04}-{mo:02}-{d:02}T{:02}:{:02}:{:02}Z",
-        s / 3600,
-        s / 60 % 60,
-        s % 60
-    );
+    let _ = write!(out, "{y:04}-{mo:02}-{d:02}T{:02}:{:02}:{:02}Z", s / 3600, s / 60 % 60, s % 60);
 }
 
 fn rfc3339_utc(unix_s: i64) -> String {
@@ -367,13 +351,7 @@ fn rfc3339_utc(unix_s: i64) -> String {
 fn push_berlin_dmy(out: &mut String, unix_s: i64) {
     let (day, s) = berlin_local(unix_s);
     let (y, mo, d) = civil_from_days(day);
-    let _ = write!(
-        out,
-        "{d:02}.{mo:02}.{y:04} {:02}:{:02}:{:02}",
-        s / 3600,
-        s / 60 % 60,
-        s % 60
-    );
+    let _ = write!(out, "{d:02}.{mo:02}.{y:04} {:02}:{:02}:{:02}", s / 3600, s / 60 % 60, s % 60);
 }
 
 /// A number with a decimal comma.
@@ -460,9 +438,7 @@ impl LoadUnload {
         let (next, flow, kw) = match state {
             LuState::Off => {
                 let next = if !forced_off && p_bar_g < self.load_below_bar_g {
-                    LuState::Starting {
-                        remaining_s: START_DELAY_S,
-                    }
+                    LuState::Starting { remaining_s: START_DELAY_S }
                 } else {
                     LuState::Off
                 };
@@ -470,11 +446,8 @@ impl LoadUnload {
             }
             LuState::Starting { remaining_s } => {
                 let left = remaining_s - DT_S;
-                let next = if left <= 0.0 {
-                    LuState::Loaded
-                } else {
-                    LuState::Starting { remaining_s: left }
-                };
+                let next =
+                    if left <= 0.0 { LuState::Loaded } else { LuState::Starting { remaining_s: left } };
                 (next, 0.0, self.rated_kw * self.unloaded_fraction)
             }
             LuState::Loaded => {
@@ -488,16 +461,13 @@ impl LoadUnload {
             }
             LuState::Unloaded { since_s } => {
                 let u = self.unloaded_fraction;
-                let fraction =
-                    u + (BLOWDOWN_START_FRACTION - u) * (-since_s / BLOWDOWN_TAU_S).exp();
+                let fraction = u + (BLOWDOWN_START_FRACTION - u) * (-since_s / BLOWDOWN_TAU_S).exp();
                 let next = if p_bar_g < self.load_below_bar_g {
                     LuState::Loaded
                 } else if since_s + DT_S >= RUN_ON_S {
                     LuState::Off
                 } else {
-                    LuState::Unloaded {
-                        since_s: since_s + DT_S,
-                    }
+                    LuState::Unloaded { since_s: since_s + DT_S }
                 };
                 (next, 0.0, self.rated_kw * fraction)
             }
@@ -597,11 +567,7 @@ pub fn simulate(options: &DemoOptions) -> DemoPlant {
     let t0 = period_start_unix_s();
     let total_s = u64::from(days) * 86_400;
     // Maintenance stop: first Sunday 10:00-10:30 local, or the first night 02:00-02:30.
-    let stop_offset_s: u64 = if days >= 7 {
-        6 * 86_400 + 10 * 3_600
-    } else {
-        2 * 3_600
-    };
+    let stop_offset_s: u64 = if days >= 7 { 6 * 86_400 + 10 * 3_600 } else { 2 * 3_600 };
     let stop_from_s = stop_offset_s;
     let stop_to_s = stop_offset_s + 1_800;
 
@@ -683,10 +649,7 @@ pub fn simulate(options: &DemoOptions) -> DemoPlant {
     let n_steps = total_s * steps_per_s;
     let power_rows = (total_s / interval_s) as usize;
     let mut power_csv = String::with_capacity(power_rows * 48 + 256);
-    let _ = writeln!(
-        power_csv,
-        "Logger;three-phase true power, 3 channels (invented)"
-    );
+    let _ = writeln!(power_csv, "Logger;three-phase true power, 3 channels (invented)");
     let _ = writeln!(power_csv, "Site;Brackwen Castings, compressor house 2");
     let _ = writeln!(power_csv, "Interval;{interval_s} s mean");
     power_csv.push_str("Time;C1 kW;C2 kW;C3 kW\n");
@@ -712,21 +675,15 @@ pub fn simulate(options: &DemoOptions) -> DemoPlant {
 
         // Demand.
         base_lag += (base - base_lag) * DT_S / base_tau;
-        slow +=
-            -slow * DT_S / slow_tau + slow_sigma * (2.0 * DT_S / slow_tau).sqrt() * process.gauss();
-        fast +=
-            -fast * DT_S / fast_tau + fast_sigma * (2.0 * DT_S / fast_tau).sqrt() * process.gauss();
+        slow += -slow * DT_S / slow_tau + slow_sigma * (2.0 * DT_S / slow_tau).sqrt() * process.gauss();
+        fast += -fast * DT_S / fast_tau + fast_sigma * (2.0 * DT_S / fast_tau).sqrt() * process.gauss();
         if spike_left_s > 0.0 {
             spike_left_s -= DT_S;
         } else if base > 1.0 && process.uniform() < spikes_per_s * DT_S {
             spike_left_s = 20.0 + 100.0 * process.uniform();
             spike_m3_min = 1.5 + 2.0 * process.uniform();
         }
-        let spike = if spike_left_s > 0.0 && base_lag > 1.0 {
-            spike_m3_min
-        } else {
-            0.0
-        };
+        let spike = if spike_left_s > 0.0 && base_lag > 1.0 { spike_m3_min } else { 0.0 };
         let production = (base_lag * (1.0 + slow + fast) + spike).max(0.0);
         let p_abs_bar = p_bar_g + atm_bar;
         let leak = leak_c * p_abs_bar;
@@ -786,9 +743,8 @@ pub fn simulate(options: &DemoOptions) -> DemoPlant {
                 push_rfc3339_utc(&mut press_csv, stamp);
                 let p_read = p_bar_g + 0.004 * meter.gauss();
                 let q_mean = flow_sum / flow_n as f64;
-                let nm3_h = (q_mean * nm3_h_per_m3_min * (1.0 + 0.005 * meter.gauss())
-                    + 0.5 * meter.gauss())
-                .max(0.0);
+                let nm3_h = (q_mean * nm3_h_per_m3_min * (1.0 + 0.005 * meter.gauss()) + 0.5 * meter.gauss())
+                    .max(0.0);
                 // Inlet air: a gentle daily swing around the site value, coldest at 05:00 local.
                 let (_, sod_end) = berlin_local(end_unix);
                 let phase = (sod_end as f64 / 3600.0 - 11.0) / 24.0 * std::f64::consts::TAU;
@@ -805,11 +761,7 @@ pub fn simulate(options: &DemoOptions) -> DemoPlant {
     let truth = DemoTruth {
         leak_coefficient_m3_min_per_bar_abs: leak_c,
         leak_flow_at_7_bar_g_m3_min: leak_c * (7.0 + atm_bar),
-        energy_kwh_by_compressor: tags
-            .iter()
-            .zip(energy_kws)
-            .map(|(t, e)| (t.clone(), e / 3600.0))
-            .collect(),
+        energy_kwh_by_compressor: tags.iter().zip(energy_kws).map(|(t, e)| (t.clone(), e / 3600.0)).collect(),
         air_m3: demand_m3,
         shutdown_start: rfc3339_utc(t0 + stop_from_s as i64),
         shutdown_end: rfc3339_utc(t0 + stop_to_s as i64),
@@ -882,16 +834,8 @@ pub fn simulate(options: &DemoOptions) -> DemoPlant {
         receivers: vec![("R1 main receiver".into(), RECEIVER_M3)],
         other_volume_m3: OTHER_VOLUME_M3,
         files: vec![
-            DemoFile {
-                filename: "power_logger.csv".into(),
-                csv: power_csv,
-                mapping: power_mapping,
-            },
-            DemoFile {
-                filename: "header_flow_logger.csv".into(),
-                csv: press_csv,
-                mapping: press_mapping,
-            },
+            DemoFile { filename: "power_logger.csv".into(), csv: power_csv, mapping: power_mapping },
+            DemoFile { filename: "header_flow_logger.csv".into(), csv: press_csv, mapping: press_mapping },
         ],
         truth,
     }
@@ -920,11 +864,7 @@ mod tests {
     }
 
     fn small(seed: u64) -> DemoOptions {
-        DemoOptions {
-            days: 2,
-            interval_s: 5,
-            seed,
-        }
+        DemoOptions { days: 2, interval_s: 5, seed }
     }
 
     /// Rows of the header/flow file: (true Unix time, bar(g), Nm³/h, inlet °C). The stamps are
@@ -934,10 +874,7 @@ mod tests {
         let file = &plant.files[1];
         let offset = file.mapping["clock_offset_s"].as_i64().unwrap();
         let mut lines = file.csv.lines();
-        assert_eq!(
-            lines.next().unwrap(),
-            "time_utc,header_bar_g,flow_Nm3_h,inlet_temp_C"
-        );
+        assert_eq!(lines.next().unwrap(), "time_utc,header_bar_g,flow_Nm3_h,inlet_temp_C");
         lines
             .map(|l| {
                 let f: Vec<&str> = l.split(',').collect();
@@ -947,12 +884,7 @@ mod tests {
                 let num = |a: usize, b: usize| ts[a..b].parse::<i64>().unwrap();
                 let days = days_from_civil(num(0, 4), num(5, 7) as u32, num(8, 10) as u32);
                 let unix = days * 86_400 + num(11, 13) * 3600 + num(14, 16) * 60 + num(17, 19);
-                (
-                    unix + offset,
-                    f[1].parse().unwrap(),
-                    f[2].parse().unwrap(),
-                    f[3].parse().unwrap(),
-                )
+                (unix + offset, f[1].parse().unwrap(), f[2].parse().unwrap(), f[3].parse().unwrap())
             })
             .collect()
     }
@@ -1002,10 +934,7 @@ mod tests {
         let atm_bar = t.atmospheric_pressure_kpa_abs / 100.0;
         let stored = t.system_volume_m3 * (t.end_pressure_bar_g - t.start_pressure_bar_g) / atm_bar;
         let net = t.supply_air_m3 - t.air_m3;
-        assert!(
-            (net - stored).abs() < 1e-6 * t.supply_air_m3,
-            "net {net} stored {stored}"
-        );
+        assert!((net - stored).abs() < 1e-6 * t.supply_air_m3, "net {net} stored {stored}");
         // A week of a 7.5 m³ system at ~9 m³/min: the supply is some 10^5 m³, the store a few m³.
         assert!(t.supply_air_m3 > 80_000.0 && t.supply_air_m3 < 120_000.0);
     }
@@ -1036,11 +965,7 @@ mod tests {
             };
             if production {
                 checked += 1;
-                assert!(
-                    (6.2..=7.8).contains(&p),
-                    "pressure {p} at {}",
-                    rfc3339_utc(unix)
-                );
+                assert!((6.2..=7.8).contains(&p), "pressure {p} at {}", rfc3339_utc(unix));
             }
         }
         // 5 × 15.25 h + 5.25 h of production at 10 s.
@@ -1059,10 +984,7 @@ mod tests {
         let atm_bar = t.atmospheric_pressure_kpa_abs / 100.0;
         let c_per_s = t.leak_coefficient_m3_min_per_bar_abs / 60.0;
         let tau_s = t.system_volume_m3 / (atm_bar * c_per_s);
-        let (from, to) = (
-            rfc3339_to_unix(&t.shutdown_start),
-            rfc3339_to_unix(&t.shutdown_end),
-        );
+        let (from, to) = (rfc3339_to_unix(&t.shutdown_start), rfc3339_to_unix(&t.shutdown_end));
         let p0_abs = t.shutdown_start_pressure_bar_g + atm_bar;
         let window: Vec<(f64, f64)> = header_rows(plant)
             .into_iter()
@@ -1072,20 +994,15 @@ mod tests {
         assert_eq!(window.len(), 180);
         for &(s, p_abs) in &window {
             let expected = p0_abs * (-s / tau_s).exp();
-            assert!(
-                (p_abs - expected).abs() < 0.02,
-                "at {s} s: {p_abs} vs {expected}"
-            );
+            assert!((p_abs - expected).abs() < 0.02, "at {s} s: {p_abs} vs {expected}");
         }
         // Least squares of ln p against t.
         let n = window.len() as f64;
-        let (sx, sy) = window
-            .iter()
-            .fold((0.0, 0.0), |a, &(x, p)| (a.0 + x, a.1 + p.ln()));
+        let (sx, sy) = window.iter().fold((0.0, 0.0), |a, &(x, p)| (a.0 + x, a.1 + p.ln()));
         let (mx, my) = (sx / n, sy / n);
-        let (sxy, sxx) = window.iter().fold((0.0, 0.0), |a, &(x, p)| {
-            (a.0 + (x - mx) * (p.ln() - my), a.1 + (x - mx).powi(2))
-        });
+        let (sxy, sxx) = window
+            .iter()
+            .fold((0.0, 0.0), |a, &(x, p)| (a.0 + (x - mx) * (p.ln() - my), a.1 + (x - mx).powi(2)));
         let fitted_c_m3_min = -sxy / sxx * t.system_volume_m3 / atm_bar * 60.0;
         let rel = fitted_c_m3_min / t.leak_coefficient_m3_min_per_bar_abs - 1.0;
         assert!(rel.abs() < 0.01, "fitted leak coefficient off by {rel}");
@@ -1108,11 +1025,7 @@ mod tests {
     #[test]
     fn loaded_fractions_fit_a_base_machine_a_standby_and_a_trim() {
         let t = &plant().truth;
-        let f: Vec<f64> = t
-            .loaded_fraction_by_compressor
-            .iter()
-            .map(|x| x.1)
-            .collect();
+        let f: Vec<f64> = t.loaded_fraction_by_compressor.iter().map(|x| x.1).collect();
         // C1 base load through ~82 production hours of 168, unloaded or off at night.
         assert!((0.3..0.7).contains(&f[0]), "C1 {}", f[0]);
         // C2 only comes in at peaks.
@@ -1137,12 +1050,7 @@ mod tests {
             let header_line = m["header_line"].as_u64().unwrap() as usize;
             let delimiter = m["delimiter"].as_str().unwrap();
             let csv = &plant.files.iter().find(|f| &f.mapping == m).unwrap().csv;
-            let names: Vec<&str> = csv
-                .lines()
-                .nth(header_line - 1)
-                .unwrap()
-                .split(delimiter)
-                .collect();
+            let names: Vec<&str> = csv.lines().nth(header_line - 1).unwrap().split(delimiter).collect();
             assert!(names.contains(&m["timestamp"]["column"].as_str().unwrap()));
             for c in m["columns"].as_array().unwrap() {
                 assert!(names.contains(&c["column"].as_str().unwrap()), "{c}");
@@ -1157,23 +1065,13 @@ mod tests {
         let rows = power_rows(plant);
         for (i, (tag, kwh)) in t.energy_kwh_by_compressor.iter().enumerate() {
             let logged: f64 = rows.iter().map(|r| r.1[i] * 5.0 / 3600.0).sum();
-            assert!(
-                (logged / kwh - 1.0).abs() < 0.005,
-                "{tag}: logged {logged} truth {kwh}"
-            );
+            assert!((logged / kwh - 1.0).abs() < 0.005, "{tag}: logged {logged} truth {kwh}");
         }
         // Nm³/h back to free air with the site's conditions (units.rs SiteAir).
         let site = SiteAir::new(t.atmospheric_pressure_kpa_abs, INLET_C);
         let to_fad = site.free_air_from_reference(1.0, ReferenceConditions::NORMAL_DIN_1343);
-        let air: f64 = header_rows(plant)
-            .iter()
-            .map(|r| r.2 * to_fad * 10.0 / 3600.0)
-            .sum();
-        assert!(
-            (air / t.air_m3 - 1.0).abs() < 0.005,
-            "logged air {air} truth {}",
-            t.air_m3
-        );
+        let air: f64 = header_rows(plant).iter().map(|r| r.2 * to_fad * 10.0 / 3600.0).sum();
+        assert!((air / t.air_m3 - 1.0).abs() < 0.005, "logged air {air} truth {}", t.air_m3);
         // Specific power in the usual range for lubricated screws near 7 bar (FIELD-NOTES §3).
         let kwh: f64 = t.energy_kwh_by_compressor.iter().map(|x| x.1).sum();
         let sp = kwh * 60.0 / t.air_m3;
@@ -1188,35 +1086,19 @@ mod tests {
         for (i, spec) in specs.iter().enumerate().take(2) {
             let near = |kw: f64, f: f64| (kw / spec.rated_power_kw - f).abs() < 0.04;
             let off = rows.iter().filter(|r| r.1[i] < 1.0).count();
-            let unloaded = rows
-                .iter()
-                .filter(|r| near(r.1[i], spec.unloaded_power_fraction))
-                .count();
-            let loaded = rows
-                .iter()
-                .filter(|r| r.1[i] > 0.9 * spec.rated_power_kw)
-                .count();
-            assert!(
-                off > 0 && unloaded > 0 && loaded > 0,
-                "{}: {off} {unloaded} {loaded}",
-                spec.tag
-            );
+            let unloaded = rows.iter().filter(|r| near(r.1[i], spec.unloaded_power_fraction)).count();
+            let loaded = rows.iter().filter(|r| r.1[i] > 0.9 * spec.rated_power_kw).count();
+            assert!(off > 0 && unloaded > 0 && loaded > 0, "{}: {off} {unloaded} {loaded}", spec.tag);
         }
         // The variable-speed machine spans its curve from minimum to maximum flow.
         let c3: Vec<f64> = rows.iter().map(|r| r.1[2]).filter(|&kw| kw > 1.0).collect();
-        let (lo, hi) = c3
-            .iter()
-            .fold((f64::MAX, 0.0f64), |a, &k| (a.0.min(k), a.1.max(k)));
+        let (lo, hi) = c3.iter().fold((f64::MAX, 0.0f64), |a, &k| (a.0.min(k), a.1.max(k)));
         assert!(lo < 15.0 && hi > 42.0, "C3 spans {lo}..{hi} kW");
     }
 
     #[test]
     fn a_short_run_has_its_stop_on_the_first_night() {
-        let p = simulate(&DemoOptions {
-            days: 1,
-            interval_s: 10,
-            seed: 3,
-        });
+        let p = simulate(&DemoOptions { days: 1, interval_s: 10, seed: 3 });
         assert_eq!(p.truth.shutdown_start, "2026-03-09T01:00:00Z");
         assert_eq!(p.truth.shutdown_end, "2026-03-09T01:30:00Z");
         assert_eq!(power_rows(&p).len(), 8_640);

@@ -123,7 +123,10 @@ impl SiteRecord {
         }
         if let Some(v) = p.altitude_m {
             if !(-500.0..=6000.0).contains(&finite("altitude_m", v)?) {
-                return Err(FieldError::new("altitude_m", format!("altitude must be within -500..6000 m, got {v}")));
+                return Err(FieldError::new(
+                    "altitude_m",
+                    format!("altitude must be within -500..6000 m, got {v}"),
+                ));
             }
             self.altitude_m = v;
         }
@@ -141,7 +144,10 @@ impl SiteRecord {
         }
         if let Some(v) = p.inlet_temperature_c {
             if !(-40.0..=60.0).contains(&finite("inlet_temperature_c", v)?) {
-                return Err(FieldError::new("inlet_temperature_c", format!("inlet temperature must be within -40..60 °C, got {v}")));
+                return Err(FieldError::new(
+                    "inlet_temperature_c",
+                    format!("inlet temperature must be within -40..60 °C, got {v}"),
+                ));
             }
             self.inlet_temperature_c = v;
         }
@@ -160,32 +166,45 @@ impl SiteRecord {
         if let Some(c) = &p.currency {
             let c = c.trim();
             if c.is_empty() || c.len() > 8 {
-                return Err(FieldError::new("currency", format!("currency must be a short code such as EUR, got {c:?}")));
+                return Err(FieldError::new(
+                    "currency",
+                    format!("currency must be a short code such as EUR, got {c:?}"),
+                ));
             }
             self.currency = c.to_string();
         }
         if let Some(v) = p.operating_weeks_per_year {
             if !(0.0..=53.0).contains(&finite("operating_weeks_per_year", v)?) || v == 0.0 {
-                return Err(FieldError::new("operating_weeks_per_year", format!("operating weeks must be within 0..53, got {v}")));
+                return Err(FieldError::new(
+                    "operating_weeks_per_year",
+                    format!("operating weeks must be within 0..53, got {v}"),
+                ));
             }
             self.operating_weeks_per_year = v;
         }
         if let Some(v) = p.operating_hours_per_year {
             if !(0.0..=8784.0).contains(&finite("operating_hours_per_year", v)?) {
-                return Err(FieldError::new("operating_hours_per_year", format!("operating hours must be within 0..8784 h, got {v}")));
+                return Err(FieldError::new(
+                    "operating_hours_per_year",
+                    format!("operating hours must be within 0..8784 h, got {v}"),
+                ));
             }
             self.operating_hours_per_year = if v > 0.0 { Some(v) } else { None };
         }
         if let Some(u) = &p.display_units {
-            self.display_units = UnitSystem::parse(u)
-                .ok_or_else(|| FieldError::new("display_units", format!("display units must be si or us, got {u:?}")))?;
+            self.display_units = UnitSystem::parse(u).ok_or_else(|| {
+                FieldError::new("display_units", format!("display units must be si or us, got {u:?}"))
+            })?;
         }
         if let Some(v) = p.heating_fuel_price_per_kwh {
             self.heating_fuel_price_per_kwh = non_negative("heating_fuel_price_per_kwh", v)?;
         }
         if let Some(v) = p.heater_efficiency {
             if !(v > 0.0 && v <= 1.2) {
-                return Err(FieldError::new("heater_efficiency", format!("heater efficiency must be within 0..1.2, got {v}")));
+                return Err(FieldError::new(
+                    "heater_efficiency",
+                    format!("heater efficiency must be within 0..1.2, got {v}"),
+                ));
             }
             self.heater_efficiency = v;
         }
@@ -200,7 +219,10 @@ impl SiteRecord {
         }
         if let Some(h) = &p.heat_use {
             if h != "space_heating" && h != "process_water" {
-                return Err(FieldError::new("heat_use", format!("heat use must be space_heating or process_water, got {h:?}")));
+                return Err(FieldError::new(
+                    "heat_use",
+                    format!("heat use must be space_heating or process_water, got {h:?}"),
+                ));
             }
             self.heat_use = h.clone();
         }
@@ -306,11 +328,13 @@ impl CompressorInput {
     pub fn validate(&self) -> Result<CompressorRecord, FieldError> {
         let tag = self.tag.trim();
         if tag.is_empty() || tag.chars().count() > 32 {
-            return Err(FieldError::new("tag", format!("tag must be 1 to 32 characters, got {:?}", self.tag)));
+            return Err(FieldError::new(
+                "tag",
+                format!("tag must be 1 to 32 characters, got {:?}", self.tag),
+            ));
         }
-        let kind = CompressorKind::parse(&self.kind).ok_or_else(|| {
-            FieldError::new("kind", format!("unknown compressor kind {:?}", self.kind))
-        })?;
+        let kind = CompressorKind::parse(&self.kind)
+            .ok_or_else(|| FieldError::new("kind", format!("unknown compressor kind {:?}", self.kind)))?;
         let control = Control::parse(&self.control)
             .ok_or_else(|| FieldError::new("control", format!("unknown control {:?}", self.control)))?;
         let cooling = Cooling::parse(&self.cooling)
@@ -342,7 +366,10 @@ impl CompressorInput {
         }
         let mut curve = self.power_curve.clone();
         if curve.iter().any(|&(q, p)| !(q.is_finite() && p.is_finite() && q >= 0.0 && p >= 0.0)) {
-            return Err(FieldError::new("power_curve", "power curve points must be [flow_m3_min, kw] with both >= 0"));
+            return Err(FieldError::new(
+                "power_curve",
+                "power curve points must be [flow_m3_min, kw] with both >= 0",
+            ));
         }
         curve.sort_by(|a, b| a.0.total_cmp(&b.0));
         if let Some(y) = self.year {
@@ -394,7 +421,10 @@ impl ReceiverInput {
             return Err(FieldError::new("name", "receiver name must be 1 to 64 characters"));
         }
         if !(self.volume_m3.is_finite() && self.volume_m3 > 0.0 && self.volume_m3 <= 1000.0) {
-            return Err(FieldError::new("volume_m3", format!("receiver volume must be above 0 and at most 1000 m³, got {}", self.volume_m3)));
+            return Err(FieldError::new(
+                "volume_m3",
+                format!("receiver volume must be above 0 and at most 1000 m³, got {}", self.volume_m3),
+            ));
         }
         Ok(())
     }

@@ -77,8 +77,9 @@ impl AuditBundle {
 
 /// The audit with all its records, or 404.
 pub async fn bundle(db: &SqlitePool, id: i64) -> Result<AuditBundle, AppError> {
-    let audit =
-        audits::get_audit(db, id).await?.ok_or_else(|| AppError::NotFound(format!("there is no audit {id}")))?;
+    let audit = audits::get_audit(db, id)
+        .await?
+        .ok_or_else(|| AppError::NotFound(format!("there is no audit {id}")))?;
     Ok(AuditBundle {
         compressors: audits::compressors(db, id).await?,
         receivers: audits::receivers(db, id).await?,
@@ -107,19 +108,29 @@ pub async fn update_audit(
     notes: Option<&str>,
     patch: &SitePatch,
 ) -> Result<(), AppError> {
-    let a = audits::get_audit(db, id).await?.ok_or_else(|| AppError::NotFound(format!("there is no audit {id}")))?;
+    let a = audits::get_audit(db, id)
+        .await?
+        .ok_or_else(|| AppError::NotFound(format!("there is no audit {id}")))?;
     let mut site = a.site.clone();
     site.apply(patch)?;
     let name = name.map(str::trim).unwrap_or(&a.name);
     if name.is_empty() || name.chars().count() > 120 {
         return Err(AppError::field("name", "the audit name must be 1 to 120 characters"));
     }
-    audits::update_audit(db, id, name, auditor.unwrap_or(&a.auditor), notes.unwrap_or(&a.notes), &site).await?;
+    audits::update_audit(db, id, name, auditor.unwrap_or(&a.auditor), notes.unwrap_or(&a.notes), &site)
+        .await?;
     Ok(())
 }
 
-pub async fn save_compressor(db: &SqlitePool, audit_id: i64, id: i64, input: &CompressorInput) -> Result<i64, AppError> {
-    audits::get_audit(db, audit_id).await?.ok_or_else(|| AppError::NotFound(format!("there is no audit {audit_id}")))?;
+pub async fn save_compressor(
+    db: &SqlitePool,
+    audit_id: i64,
+    id: i64,
+    input: &CompressorInput,
+) -> Result<i64, AppError> {
+    audits::get_audit(db, audit_id)
+        .await?
+        .ok_or_else(|| AppError::NotFound(format!("there is no audit {audit_id}")))?;
     let mut rec = input.validate()?;
     rec.id = id;
     match audits::save_compressor(db, audit_id, &rec).await? {
@@ -131,7 +142,9 @@ pub async fn save_compressor(db: &SqlitePool, audit_id: i64, id: i64, input: &Co
 }
 
 pub async fn add_receiver(db: &SqlitePool, audit_id: i64, input: &ReceiverInput) -> Result<i64, AppError> {
-    audits::get_audit(db, audit_id).await?.ok_or_else(|| AppError::NotFound(format!("there is no audit {audit_id}")))?;
+    audits::get_audit(db, audit_id)
+        .await?
+        .ok_or_else(|| AppError::NotFound(format!("there is no audit {audit_id}")))?;
     input.validate()?;
     Ok(audits::add_receiver(db, audit_id, input.name.trim(), input.volume_m3, &input.notes).await?)
 }
@@ -184,19 +197,30 @@ pub async fn import_path(
             "{}{}{}",
             i.message,
             i.line.map(|l| format!(" (line {l}")).unwrap_or_default(),
-            i.column.map(|c| format!(", column {c:?})")).unwrap_or_else(|| if i.line.is_some() { ")".into() } else { String::new() })
+            i.column.map(|c| format!(", column {c:?})")).unwrap_or_else(|| if i.line.is_some() {
+                ")".into()
+            } else {
+                String::new()
+            })
         ),
         other => anyhow::anyhow!("{other}"),
     })
 }
 
-async fn frame_for(db: &SqlitePool, b: &AuditBundle, window: Option<(i64, i64)>) -> Result<Option<Frame>, AppError> {
+async fn frame_for(
+    db: &SqlitePool,
+    b: &AuditBundle,
+    window: Option<(i64, i64)>,
+) -> Result<Option<Frame>, AppError> {
     Ok(read::load_frame(db, &b.channels, &b.compressor_ids(), window).await?)
 }
 
-
 /// Compute the summary (no cache).
-async fn compute_summary(db: &SqlitePool, b: &AuditBundle, window: Option<(i64, i64)>) -> Result<Option<Summary>, AppError> {
+async fn compute_summary(
+    db: &SqlitePool,
+    b: &AuditBundle,
+    window: Option<(i64, i64)>,
+) -> Result<Option<Summary>, AppError> {
     let Some(frame) = frame_for(db, b, window).await? else { return Ok(None) };
     let site = b.audit.site.to_spec();
     let specs = b.specs();
@@ -227,7 +251,11 @@ async fn compute_summary(db: &SqlitePool, b: &AuditBundle, window: Option<(i64, 
 
 /// The summary as JSON: from the cache when the audit has not changed, else computed and cached.
 /// A window (`from`/`to`) is always computed fresh.
-pub async fn summary_json(db: &SqlitePool, id: i64, window: Option<(i64, i64)>) -> Result<serde_json::Value, AppError> {
+pub async fn summary_json(
+    db: &SqlitePool,
+    id: i64,
+    window: Option<(i64, i64)>,
+) -> Result<serde_json::Value, AppError> {
     let b = bundle(db, id).await?;
     if window.is_none() {
         if let Some(json) = audits::cached_summary(db, id, b.audit.revision).await? {
@@ -251,14 +279,19 @@ pub async fn summary_json(db: &SqlitePool, id: i64, window: Option<(i64, i64)>) 
 }
 
 /// Evaluate and store a field test; returns the stored record.
-pub async fn add_field_test(db: &SqlitePool, id: i64, body: serde_json::Value) -> Result<FieldTestRecord, AppError> {
+pub async fn add_field_test(
+    db: &SqlitePool,
+    id: i64,
+    body: serde_json::Value,
+) -> Result<FieldTestRecord, AppError> {
     let b = bundle(db, id).await?;
-    let input: FieldTestInput = serde_json::from_value(body.clone()).map_err(|e| AppError::Unprocessable {
-        message: format!("this field test cannot be read: {e}"),
-        line: None,
-        column: None,
-        field: Some("kind".into()),
-    })?;
+    let input: FieldTestInput =
+        serde_json::from_value(body.clone()).map_err(|e| AppError::Unprocessable {
+            message: format!("this field test cannot be read: {e}"),
+            line: None,
+            column: None,
+            field: Some("kind".into()),
+        })?;
     let window = match &input {
         FieldTestInput::IdleFlow { start, end, .. } | FieldTestInput::PressureDecay { start, end, .. } => {
             let s = fieldtest::parse_time_ms("start", start).map_err(test_error)?;

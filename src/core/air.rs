@@ -57,15 +57,8 @@ pub enum PressureUnit {
 }
 
 impl PressureUnit {
-    pub const ALL: &'static [Self] = &[
-        Self::BarG,
-        Self::Psig,
-        Self::KpaG,
-        Self::MpaG,
-        Self::BarA,
-        Self::Psia,
-        Self::KpaA,
-    ];
+    pub const ALL: &'static [Self] =
+        &[Self::BarG, Self::Psig, Self::KpaG, Self::MpaG, Self::BarA, Self::Psia, Self::KpaA];
 
     /// Parses the API spelling or a common header spelling, case-insensitively: "bar_g", "barg",
     /// "bar(g)", "bar" (bare units are gauge), "psig", "psi", "kPa_g", "kPa", "MPa", "bar_a",
@@ -349,9 +342,7 @@ mod tests {
 
     /// A reference value from the fixture written by tests/reference/make_reference.py.
     fn reference(name: &str) -> f64 {
-        fixture()["values"][name]["value"]
-            .as_f64()
-            .unwrap_or_else(|| panic!("fixture has no value {name}"))
+        fixture()["values"][name]["value"].as_f64().unwrap_or_else(|| panic!("fixture has no value {name}"))
     }
 
     fn rel(a: f64, b: f64) -> f64 {
@@ -372,18 +363,9 @@ mod tests {
         // fixture: fluids 1.3.1 ATMOSPHERE_1976(Z).P. ASHRAE eq. 3 is a fit to this model (with
         // geometric altitude where eq. 3 behaves like geopotential altitude, a difference that
         // grows with height): within 0.01 % up to 1500 m and 0.03 % at 3000 m.
-        for (z, tolerance) in [
-            (0.0, 1e-9),
-            (250.0, 1e-4),
-            (1000.0, 1e-4),
-            (1500.0, 1e-4),
-            (3000.0, 3e-4),
-        ] {
+        for (z, tolerance) in [(0.0, 1e-9), (250.0, 1e-4), (1000.0, 1e-4), (1500.0, 1e-4), (3000.0, 3e-4)] {
             let expected = reference(&format!("air.atmosphere_1976_{}m_pa", z as i64));
-            assert!(
-                rel(atmosphere_from_altitude(z).0, expected) < tolerance,
-                "at {z} m"
-            );
+            assert!(rel(atmosphere_from_altitude(z).0, expected) < tolerance, "at {z} m");
         }
     }
 
@@ -420,30 +402,10 @@ mod tests {
     #[test]
     fn pressure_factors_match_pint() {
         // fixture: pint 0.25.3 Quantity(1, unit).to('Pa').
-        assert!(
-            rel(
-                PressureUnit::BarG.pa_per_unit(),
-                reference("unit.pa_per_bar")
-            ) < 1e-12
-        );
-        assert!(
-            rel(
-                PressureUnit::Psia.pa_per_unit(),
-                reference("unit.pa_per_psi")
-            ) < 1e-12
-        );
-        assert!(
-            rel(
-                PressureUnit::KpaA.pa_per_unit(),
-                reference("unit.pa_per_kpa")
-            ) < 1e-12
-        );
-        assert!(
-            rel(
-                PressureUnit::MpaG.pa_per_unit(),
-                reference("unit.pa_per_mpa")
-            ) < 1e-12
-        );
+        assert!(rel(PressureUnit::BarG.pa_per_unit(), reference("unit.pa_per_bar")) < 1e-12);
+        assert!(rel(PressureUnit::Psia.pa_per_unit(), reference("unit.pa_per_psi")) < 1e-12);
+        assert!(rel(PressureUnit::KpaA.pa_per_unit(), reference("unit.pa_per_kpa")) < 1e-12);
+        assert!(rel(PressureUnit::MpaG.pa_per_unit(), reference("unit.pa_per_mpa")) < 1e-12);
     }
 
     #[test]
@@ -493,25 +455,10 @@ mod tests {
     #[test]
     fn flow_factors_match_pint() {
         // fixture: pint 0.25.3 Quantity(1, unit).to('m^3/s').
-        assert!(
-            rel(
-                FlowUnit::M3Min.m3_s_per_unit(),
-                reference("unit.m3_s_per_m3_min")
-            ) < 1e-12
-        );
-        assert!(
-            rel(
-                FlowUnit::Nm3H.m3_s_per_unit(),
-                reference("unit.m3_s_per_m3_h")
-            ) < 1e-12
-        );
+        assert!(rel(FlowUnit::M3Min.m3_s_per_unit(), reference("unit.m3_s_per_m3_min")) < 1e-12);
+        assert!(rel(FlowUnit::Nm3H.m3_s_per_unit(), reference("unit.m3_s_per_m3_h")) < 1e-12);
         assert!(rel(FlowUnit::LS.m3_s_per_unit(), reference("unit.m3_s_per_l_s")) < 1e-12);
-        assert!(
-            rel(
-                FlowUnit::Scfm.m3_s_per_unit(),
-                reference("unit.m3_s_per_cfm")
-            ) < 1e-12
-        );
+        assert!(rel(FlowUnit::Scfm.m3_s_per_unit(), reference("unit.m3_s_per_cfm")) < 1e-12);
     }
 
     #[test]
@@ -519,14 +466,8 @@ mod tests {
         let site = SiteAir::new(89.875, 20.0);
         assert_eq!(FlowUnit::Cfm.default_reference(), None);
         assert_eq!(FlowUnit::M3H.default_reference(), None);
-        assert_eq!(
-            FlowUnit::Nm3Min.default_reference(),
-            Some(ReferenceConditions::NORMAL_DIN_1343)
-        );
-        assert_eq!(
-            FlowUnit::Sm3H.default_reference(),
-            Some(ReferenceConditions::STANDARD_ISO_1217)
-        );
+        assert_eq!(FlowUnit::Nm3Min.default_reference(), Some(ReferenceConditions::NORMAL_DIN_1343));
+        assert_eq!(FlowUnit::Sm3H.default_reference(), Some(ReferenceConditions::STANDARD_ISO_1217));
         // By hand: 12 m³/min of free air is 0.2 m³/s whatever the site.
         assert!((FlowUnit::M3Min.to_free_air(12.0, None, &site).0 - 0.2).abs() < 1e-12);
         // By hand: 1 Sm³/min (100 kPa, 20 °C) at 89.875 kPa, 20 °C = 100 / 89.875 m³/min free air.
@@ -555,10 +496,7 @@ mod tests {
         // A meter set to 101.325 kPa and 20 °C reading "scfm": by hand, at a 101.325 kPa, 20 °C
         // site that is free air already, so 100 scfm = 100 cfm.
         let site = SiteAir::new(101.325, 20.0);
-        let r = ReferenceConditions {
-            pressure_kpa_abs: 101.325,
-            temperature_c: 20.0,
-        };
+        let r = ReferenceConditions { pressure_kpa_abs: 101.325, temperature_c: 20.0 };
         let q = FlowUnit::Scfm.to_free_air(100.0, Some(r), &site);
         assert!((q.cfm() - 100.0).abs() < 1e-9);
     }

@@ -6,7 +6,7 @@ Flows always say what they are: free air (volume at the site's inlet conditions,
 */
 
 use super::units::{
-    kw_per_100cfm, FreeAirFlow, PressureAbs, Temperature, Volume, UnitSystem, M3_PER_FT3, PA_PER_BAR,
+    kw_per_100cfm, FreeAirFlow, PressureAbs, Temperature, UnitSystem, Volume, M3_PER_FT3, PA_PER_BAR,
 };
 
 /// A number with thousands separators and `decimals` decimals; `-` for a missing value.
@@ -88,7 +88,11 @@ impl Fmt {
         }
     }
     pub fn pressure_unit(&self) -> &'static str {
-        if self.is_us() { "psig" } else { "bar(g)" }
+        if self.is_us() {
+            "psig"
+        } else {
+            "bar(g)"
+        }
     }
     pub fn pressure_delta_bar(&self, bar: impl Num) -> String {
         let bar = bar.f();
@@ -108,7 +112,11 @@ impl Fmt {
         }
     }
     pub fn flow_unit(&self) -> &'static str {
-        if self.is_us() { "cfm free air" } else { "m³/min free air" }
+        if self.is_us() {
+            "cfm free air"
+        } else {
+            "m³/min free air"
+        }
     }
     pub fn air_m3(&self, v: impl Num) -> String {
         let v = v.f();
@@ -139,12 +147,20 @@ impl Fmt {
         }
     }
     pub fn specific_power_unit(&self) -> &'static str {
-        if self.is_us() { "kW/100 cfm" } else { "kW/(m³/min)" }
+        if self.is_us() {
+            "kW/100 cfm"
+        } else {
+            "kW/(m³/min)"
+        }
     }
     /// Specific power in the reader's unit, as a bare number (for chart axes).
     pub fn specific_power_value(&self, kw_per_m3_min: impl Num) -> f64 {
         let kw_per_m3_min = kw_per_m3_min.f();
-        if self.is_us() { kw_per_100cfm(kw_per_m3_min) } else { kw_per_m3_min }
+        if self.is_us() {
+            kw_per_100cfm(kw_per_m3_min)
+        } else {
+            kw_per_m3_min
+        }
     }
     pub fn volume_m3(&self, v: impl Num) -> String {
         let v = v.f();
@@ -169,7 +185,9 @@ impl Fmt {
         let per_1000_m3 = per_1000_m3.f();
         match self.units {
             UnitSystem::Si => format!("{} {currency} per 1000 m³ free air", num(per_1000_m3, 2)),
-            UnitSystem::Us => format!("{} {currency} per 1000 ft³ free air", num(per_1000_m3 * M3_PER_FT3, 3)),
+            UnitSystem::Us => {
+                format!("{} {currency} per 1000 ft³ free air", num(per_1000_m3 * M3_PER_FT3, 3))
+            }
         }
     }
     pub fn percent(&self, fraction: impl Num) -> String {
@@ -217,7 +235,8 @@ mod tests {
         // 7 bar = 101.5 psi (hand calculation: 700 kPa / 6.894757 kPa/psi).
         assert_eq!(us.pressure_bar_g(7.0), "101.5 psig");
         assert_eq!(si.flow_m3_min(10.0), "10.0 m³/min free air");
-        assert_eq!(us.flow_m3_min(10.0), "353.1 cfm free air");
+        // 10 m³/min = 353.1 cfm (FIELD-NOTES §2), shown to three significant figures.
+        assert_eq!(us.flow_m3_min(10.0), "353 cfm free air");
         // FIELD-NOTES §2: 6.357 kW/(m³/min) = 18 kW/100 cfm.
         assert_eq!(us.specific_power(6.357), "18.0 kW/100 cfm");
         assert_eq!(si.temperature_c(20.0), "20.0 °C");

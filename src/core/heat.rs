@@ -70,12 +70,7 @@ pub fn heat_split(kind: CompressorKind, _cooling: Cooling) -> HeatSplit {
         CompressorKind::Reciprocating => (0.55, 0.30, 0.11, 0.04),
         CompressorKind::Scroll => (0.0, 0.55, 0.41, 0.04),
     };
-    HeatSplit {
-        oil_or_intercooler,
-        aftercooler,
-        motor_and_casing,
-        in_air,
-    }
+    HeatSplit { oil_or_intercooler, aftercooler, motor_and_casing, in_air }
 }
 
 /// Heat rejected by the package over a period: the energy balance input - m cp dT, where m is the
@@ -148,17 +143,9 @@ pub fn recovered_value(
             }
         }
     }
-    let useful_kwh: f64 = recoverable_by_month_kwh
-        .iter()
-        .zip(used)
-        .filter(|(_, u)| *u)
-        .map(|(kwh, _)| kwh)
-        .sum();
-    let fuel_kwh = if heater_efficiency > 0.0 {
-        useful_kwh / heater_efficiency
-    } else {
-        0.0
-    };
+    let useful_kwh: f64 =
+        recoverable_by_month_kwh.iter().zip(used).filter(|(_, u)| *u).map(|(kwh, _)| kwh).sum();
+    let fuel_kwh = if heater_efficiency > 0.0 { useful_kwh / heater_efficiency } else { 0.0 };
     (useful_kwh, fuel_kwh, fuel_kwh * fuel_price_per_kwh)
 }
 
@@ -172,9 +159,7 @@ mod tests {
 
     /// A reference value from the fixture written by tests/reference/make_reference.py.
     fn reference(name: &str) -> f64 {
-        fixture()["values"][name]["value"]
-            .as_f64()
-            .unwrap_or_else(|| panic!("fixture has no value {name}"))
+        fixture()["values"][name]["value"].as_f64().unwrap_or_else(|| panic!("fixture has no value {name}"))
     }
 
     fn rel(a: f64, b: f64) -> f64 {
@@ -194,10 +179,7 @@ mod tests {
                 let s = heat_split(kind, cooling);
                 assert!((s.total() - 1.0).abs() < 1e-12, "{kind:?}");
                 // Recovery cannot take more than leaves through coolers, motor and casing.
-                assert!(
-                    recoverable_fraction(kind, cooling) <= 1.0 - s.in_air,
-                    "{kind:?}"
-                );
+                assert!(recoverable_fraction(kind, cooling) <= 1.0 - s.in_air, "{kind:?}");
             }
         }
     }
@@ -220,10 +202,7 @@ mod tests {
         let air_kg = mass_flow_100_cfm() * 3600.0;
         let rejected = heat_rejected(input, air_kg, DEFAULT_DELIVERY_TEMPERATURE_RISE_K);
         let in_air_fraction = 1.0 - rejected.0 / input.0;
-        assert!(
-            (in_air_fraction - 0.0317).abs() < 0.0005,
-            "{in_air_fraction}"
-        );
+        assert!((in_air_fraction - 0.0317).abs() < 0.0005, "{in_air_fraction}");
         let split = heat_split(CompressorKind::LubricatedScrew, Cooling::Air);
         assert!((split.in_air - in_air_fraction).abs() < 0.01);
     }
@@ -280,39 +259,27 @@ mod tests {
     fn space_heat_counts_only_in_the_heating_months() {
         // Months 1..12 recover 100, 200, ... 1200 kWh.
         let by_month: [f64; 12] = std::array::from_fn(|i| 100.0 * (i as f64 + 1.0));
-        let winter = HeatUse {
-            kind: HeatUseKind::SpaceHeating,
-            heating_months: vec![1, 2, 3, 11, 12],
-        };
+        let winter = HeatUse { kind: HeatUseKind::SpaceHeating, heating_months: vec![1, 2, 3, 11, 12] };
         let (useful, fuel, money) = recovered_value(&by_month, &winter, 0.9, 0.08);
         // By hand: 100 + 200 + 300 + 1100 + 1200 = 2900 kWh; / 0.9 = 3222.2 kWh; x 0.08 = 257.78.
         assert!((useful - 2900.0).abs() < 1e-9);
         assert!((fuel - 2900.0 / 0.9).abs() < 1e-9);
         assert!((money - 2900.0 / 0.9 * 0.08).abs() < 1e-9);
         // Repeats and impossible months are ignored.
-        let odd = HeatUse {
-            kind: HeatUseKind::SpaceHeating,
-            heating_months: vec![1, 1, 0, 13],
-        };
+        let odd = HeatUse { kind: HeatUseKind::SpaceHeating, heating_months: vec![1, 1, 0, 13] };
         assert!((recovered_value(&by_month, &odd, 0.9, 0.08).0 - 100.0).abs() < 1e-9);
     }
 
     #[test]
     fn process_water_counts_all_year() {
         let by_month = [500.0; 12];
-        let water = HeatUse {
-            kind: HeatUseKind::ProcessWater,
-            heating_months: vec![1],
-        };
+        let water = HeatUse { kind: HeatUseKind::ProcessWater, heating_months: vec![1] };
         let (useful, fuel, money) = recovered_value(&by_month, &water, 0.8, 0.10);
         // By hand: 6000 kWh; / 0.8 = 7500 kWh of fuel; x 0.10 = 750.
         assert!((useful - 6000.0).abs() < 1e-9);
         assert!((fuel - 7500.0).abs() < 1e-9);
         assert!((money - 750.0).abs() < 1e-9);
         // A heater efficiency that is not positive displaces nothing.
-        assert_eq!(
-            recovered_value(&by_month, &water, 0.0, 0.10),
-            (6000.0, 0.0, 0.0)
-        );
+        assert_eq!(recovered_value(&by_month, &water, 0.0, 0.10), (6000.0, 0.0, 0.0));
     }
 }

@@ -64,10 +64,7 @@ fn check_absolute(p: PressureAbs, field: &'static str, site: &SiteAir) -> Result
     if !(p.0 >= 0.0 && p.0.is_finite()) {
         return Err(LeakError::new(
             field,
-            format!(
-                "pressure below zero absolute: {:.3} bar(g)",
-                p.bar_g(site.atmosphere)
-            ),
+            format!("pressure below zero absolute: {:.3} bar(g)", p.bar_g(site.atmosphere)),
         ));
     }
     Ok(())
@@ -77,11 +74,7 @@ fn check_absolute(p: PressureAbs, field: &'static str, site: &SiteAir) -> Result
 /// proportion to absolute pressure (FIELD-NOTES §5). For the idle-flow test (logged flow when nothing
 /// but leaks draws air, corrected to production pressure) and for comparing tests made at different
 /// pressures. `measured_at` must be positive.
-pub fn scale_leak_flow(
-    flow: FreeAirFlow,
-    measured_at: PressureAbs,
-    to: PressureAbs,
-) -> FreeAirFlow {
+pub fn scale_leak_flow(flow: FreeAirFlow, measured_at: PressureAbs, to: PressureAbs) -> FreeAirFlow {
     FreeAirFlow(flow.0 * to.0 / measured_at.0)
 }
 
@@ -110,16 +103,10 @@ pub fn bleed_down(
     site: &SiteAir,
 ) -> Result<BleedDownResult, LeakError> {
     if !positive(volume.0) {
-        return Err(LeakError::new(
-            "volume_m3",
-            format!("volume must be positive, got {}", volume.0),
-        ));
+        return Err(LeakError::new("volume_m3", format!("volume must be positive, got {}", volume.0)));
     }
     if !positive(duration_s) {
-        return Err(LeakError::new(
-            "duration_s",
-            format!("duration must be positive, got {duration_s}"),
-        ));
+        return Err(LeakError::new("duration_s", format!("duration must be positive, got {duration_s}")));
     }
     check_absolute(p_start, "start_pressure_bar_g", site)?;
     check_absolute(p_end, "end_pressure_bar_g", site)?;
@@ -152,10 +139,7 @@ pub fn load_unload(
     rated_flow: FreeAirFlow,
 ) -> Result<(f64, FreeAirFlow), LeakError> {
     if !(loaded_s >= 0.0 && loaded_s.is_finite()) {
-        return Err(LeakError::new(
-            "loaded_s",
-            format!("loaded time must not be negative, got {loaded_s}"),
-        ));
+        return Err(LeakError::new("loaded_s", format!("loaded time must not be negative, got {loaded_s}")));
     }
     if !(unloaded_s >= 0.0 && unloaded_s.is_finite()) {
         return Err(LeakError::new(
@@ -164,18 +148,12 @@ pub fn load_unload(
         ));
     }
     if loaded_s + unloaded_s <= 0.0 {
-        return Err(LeakError::new(
-            "loaded_s",
-            "loaded and unloaded times are both zero".to_string(),
-        ));
+        return Err(LeakError::new("loaded_s", "loaded and unloaded times are both zero".to_string()));
     }
     if !positive(rated_flow.0) {
         return Err(LeakError::new(
             "rated_flow_m3_min",
-            format!(
-                "the compressor's rated flow must be positive, got {} m3/min",
-                rated_flow.m3_min()
-            ),
+            format!("the compressor's rated flow must be positive, got {} m3/min", rated_flow.m3_min()),
         ));
     }
     let fraction = loaded_s / (loaded_s + unloaded_s);
@@ -249,23 +227,13 @@ pub fn orifice_leak(
     if !positive(upstream_temperature.0) {
         return Err(LeakError::new(
             "inlet_temperature_c",
-            format!(
-                "temperature must be above absolute zero, got {} °C",
-                upstream_temperature.c()
-            ),
+            format!("temperature must be above absolute zero, got {} °C", upstream_temperature.c()),
         ));
     }
     let area = std::f64::consts::PI / 4.0 * diameter_m * diameter_m;
-    let m = orifice_mass_flow_kg_s(
-        area,
-        upstream,
-        upstream_temperature,
-        site.atmosphere,
-        discharge_coefficient,
-    );
-    Ok(FreeAirFlow(
-        m * R_AIR * site.inlet_temperature.0 / site.atmosphere.0,
-    ))
+    let m =
+        orifice_mass_flow_kg_s(area, upstream, upstream_temperature, site.atmosphere, discharge_coefficient);
+    Ok(FreeAirFlow(m * R_AIR * site.inlet_temperature.0 / site.atmosphere.0))
 }
 
 /// Least-squares fit of a pressure decay.
@@ -294,38 +262,23 @@ pub fn fit_pressure_decay(
     site: &SiteAir,
 ) -> Result<DecayFit, LeakError> {
     if !positive(volume.0) {
-        return Err(LeakError::new(
-            "volume_m3",
-            format!("volume must be positive, got {}", volume.0),
-        ));
+        return Err(LeakError::new("volume_m3", format!("volume must be positive, got {}", volume.0)));
     }
     if samples.len() < 3 {
         return Err(LeakError::new(
             "start",
-            format!(
-                "the window holds {} readings, at least 3 are needed",
-                samples.len()
-            ),
+            format!("the window holds {} readings, at least 3 are needed", samples.len()),
         ));
     }
     for w in samples.windows(2) {
         if w[1].0.is_nan() || w[1].0 <= w[0].0 {
-            return Err(LeakError::new(
-                "start",
-                format!("readings out of time order at t = {} s", w[1].0),
-            ));
+            return Err(LeakError::new("start", format!("readings out of time order at t = {} s", w[1].0)));
         }
     }
-    if let Some((t, p)) = samples
-        .iter()
-        .find(|(t, p)| !(p.0 > 0.0 && p.0.is_finite() && t.is_finite()))
-    {
+    if let Some((t, p)) = samples.iter().find(|(t, p)| !(p.0 > 0.0 && p.0.is_finite() && t.is_finite())) {
         return Err(LeakError::new(
             "start",
-            format!(
-                "reading at t = {t} s is not a positive absolute pressure: {} Pa",
-                p.0
-            ),
+            format!("reading at t = {t} s is not a positive absolute pressure: {} Pa", p.0),
         ));
     }
     let n = samples.len() as f64;
@@ -424,9 +377,7 @@ mod tests {
 
     /// A reference value from the fixture written by tests/reference/make_reference.py.
     fn reference(name: &str) -> f64 {
-        fixture()["values"][name]["value"]
-            .as_f64()
-            .unwrap_or_else(|| panic!("fixture has no value {name}"))
+        fixture()["values"][name]["value"].as_f64().unwrap_or_else(|| panic!("fixture has no value {name}"))
     }
 
     fn input(name: &str, key: &str) -> f64 {
@@ -464,12 +415,7 @@ mod tests {
         .unwrap();
         assert!((r.doe_rule_of_thumb_flow.cfm() - 0.354).abs() < 0.0005);
         // fixture: pint 0.25.3 evaluation of the DOE formula.
-        assert!(
-            rel(
-                r.doe_rule_of_thumb_flow.cfm(),
-                reference("leaks.doe_bleed_down_cfm")
-            ) < 1e-9
-        );
+        assert!(rel(r.doe_rule_of_thumb_flow.cfm(), reference("leaks.doe_bleed_down_cfm")) < 1e-9);
         // FIELD-NOTES §5: for 100 -> 50 psig the physical scaling is 1.28 (114.7 / 89.7 = 1.2787).
         let scale = r.leak_flow_at_operating_pressure.0 / r.mean_leak_flow.0;
         assert!((scale - 1.28).abs() < 0.005);
@@ -481,15 +427,7 @@ mod tests {
         let site = us_site();
         let atm = site.atmosphere;
         let p100 = PressureAbs::from_psig(100.0, atm);
-        let r = bleed_down(
-            Volume(1.0),
-            p100,
-            PressureAbs::from_psig(90.0, atm),
-            60.0,
-            p100,
-            &site,
-        )
-        .unwrap();
+        let r = bleed_down(Volume(1.0), p100, PressureAbs::from_psig(90.0, atm), 60.0, p100, &site).unwrap();
         let scale = r.leak_flow_at_operating_pressure.0 / r.mean_leak_flow.0;
         assert!((scale - 1.05).abs() < 0.005);
     }
@@ -556,14 +494,8 @@ mod tests {
         assert!((flow.m3_min() - 2.375).abs() < 1e-12);
         // API.md example: 40 s loaded, 160 s unloaded -> 0.2.
         assert!((load_unload(40.0, 160.0, rated).unwrap().0 - 0.2).abs() < 1e-12);
-        assert_eq!(
-            load_unload(-1.0, 10.0, rated).unwrap_err().field,
-            "loaded_s"
-        );
-        assert_eq!(
-            load_unload(10.0, f64::NAN, rated).unwrap_err().field,
-            "unloaded_s"
-        );
+        assert_eq!(load_unload(-1.0, 10.0, rated).unwrap_err().field, "loaded_s");
+        assert_eq!(load_unload(10.0, f64::NAN, rated).unwrap_err().field, "unloaded_s");
         assert_eq!(load_unload(0.0, 0.0, rated).unwrap_err().field, "loaded_s");
     }
 
@@ -575,13 +507,9 @@ mod tests {
         let atm = site.atmosphere;
         let t0 = Temperature::from_c(20.0);
         let p100 = PressureAbs::from_psig(100.0, atm);
-        for (d_in, cfm) in [
-            (1.0 / 64.0, 0.406),
-            (1.0 / 32.0, 1.625),
-            (1.0 / 16.0, 6.502),
-            (0.125, 26.01),
-            (0.25, 104.0),
-        ] {
+        for (d_in, cfm) in
+            [(1.0 / 64.0, 0.406), (1.0 / 32.0, 1.625), (1.0 / 16.0, 6.502), (0.125, 26.01), (0.25, 104.0)]
+        {
             let q = orifice_leak(d_in * INCH_M, p100, t0, 1.0, &site).unwrap();
             assert!(rel(q.cfm(), cfm) < 0.01, "{d_in} in: {} cfm", q.cfm());
         }
@@ -610,11 +538,7 @@ mod tests {
                 PressureAbs(input(name, "back_pressure_pa_abs")),
                 1.0,
             );
-            assert!(
-                rel(m, reference(name)) < tolerance,
-                "{name}: {m} vs {}",
-                reference(name)
-            );
+            assert!(rel(m, reference(name)) < tolerance, "{name}: {m} vs {}", reference(name));
         }
     }
 
@@ -646,13 +570,8 @@ mod tests {
         assert!(rel(sharp.0, 0.61 * ideal.0) < 1e-12);
         // By hand (choked): 0.61 x 2.0106e-6 m² x 791 325 Pa x 4.0792e-3 x 0.57870 = 2.2911e-3
         // kg/s; x 287 x 293.15 / 101 325 = 1.9024e-3 m³/s = 0.1141 m³/min.
-        assert!(
-            (sharp.m3_min() - 0.1141).abs() < 0.0005,
-            "{}",
-            sharp.m3_min()
-        );
-        let err =
-            |d: f64, p: PressureAbs, cd: f64| orifice_leak(d, p, t0, cd, &site).unwrap_err().field;
+        assert!((sharp.m3_min() - 0.1141).abs() < 0.0005, "{}", sharp.m3_min());
+        let err = |d: f64, p: PressureAbs, cd: f64| orifice_leak(d, p, t0, cd, &site).unwrap_err().field;
         assert_eq!(err(0.0, p, 0.61), "diameter_mm");
         assert_eq!(err(1e-3, PressureAbs(50_000.0), 0.61), "pressure_bar_g");
         assert_eq!(err(1e-3, p, 0.0), "discharge_coefficient");
@@ -667,15 +586,10 @@ mod tests {
         let mut state: u64 = 0x2545_f491_4f6c_dd1d;
         (0..=120)
             .map(|i| {
-                state = state
-                    .wrapping_mul(6_364_136_223_846_793_005)
-                    .wrapping_add(1_442_695_040_888_963_407);
+                state = state.wrapping_mul(6_364_136_223_846_793_005).wrapping_add(1_442_695_040_888_963_407);
                 let u = (state >> 11) as f64 / (1u64 << 53) as f64 * 2.0 - 1.0;
                 let t = f64::from(i) * 5.0;
-                (
-                    t,
-                    PressureAbs(p0 * (-c * site.atmosphere.0 * t / v).exp() + noise_pa * u),
-                )
+                (t, PressureAbs(p0 * (-c * site.atmosphere.0 * t / v).exp() + noise_pa * u))
             })
             .collect()
     }
@@ -701,13 +615,8 @@ mod tests {
         let site = SiteAir::new(101.325, 20.0);
         let v = 3.0;
         let c = (1.0 / 60.0) / PressureAbs::from_bar_g(7.0, site.atmosphere).0;
-        let fit =
-            fit_pressure_decay(&synthetic_decay(c, v, &site, 2_000.0), Volume(v), &site).unwrap();
-        assert!(
-            rel(fit.leak_coefficient_m3_s_per_pa, c) < 0.01,
-            "{}",
-            fit.leak_coefficient_m3_s_per_pa / c
-        );
+        let fit = fit_pressure_decay(&synthetic_decay(c, v, &site, 2_000.0), Volume(v), &site).unwrap();
+        assert!(rel(fit.leak_coefficient_m3_s_per_pa, c) < 0.01, "{}", fit.leak_coefficient_m3_s_per_pa / c);
         assert!(fit.fit_r2 > 0.99 && fit.fit_r2 < 1.0);
     }
 
@@ -717,27 +626,13 @@ mod tests {
         let p = |bar_g: f64| PressureAbs::from_bar_g(bar_g, site.atmosphere);
         let v = Volume(3.0);
         let two = [(0.0, p(7.0)), (10.0, p(6.9))];
-        assert_eq!(
-            fit_pressure_decay(&two, v, &site).unwrap_err().field,
-            "start"
-        );
+        assert_eq!(fit_pressure_decay(&two, v, &site).unwrap_err().field, "start");
         let rising = [(0.0, p(6.0)), (10.0, p(6.5)), (20.0, p(7.0))];
-        assert_eq!(
-            fit_pressure_decay(&rising, v, &site).unwrap_err().field,
-            "end"
-        );
+        assert_eq!(fit_pressure_decay(&rising, v, &site).unwrap_err().field, "end");
         let unordered = [(0.0, p(7.0)), (20.0, p(6.9)), (10.0, p(6.8))];
-        assert_eq!(
-            fit_pressure_decay(&unordered, v, &site).unwrap_err().field,
-            "start"
-        );
+        assert_eq!(fit_pressure_decay(&unordered, v, &site).unwrap_err().field, "start");
         let falling = [(0.0, p(7.0)), (10.0, p(6.9)), (20.0, p(6.8))];
-        assert_eq!(
-            fit_pressure_decay(&falling, Volume(0.0), &site)
-                .unwrap_err()
-                .field,
-            "volume_m3"
-        );
+        assert_eq!(fit_pressure_decay(&falling, Volume(0.0), &site).unwrap_err().field, "volume_m3");
     }
 
     #[test]
@@ -748,8 +643,6 @@ mod tests {
         assert_eq!(leak_share_band(0.20), LeakShareBand::Moderate);
         assert_eq!(leak_share_band(0.25), LeakShareBand::PoorlyMaintained);
         assert!(LeakShareBand::WellMaintained.describe().contains("10 %"));
-        assert!(LeakShareBand::PoorlyMaintained
-            .describe()
-            .contains("20-30 %"));
+        assert!(LeakShareBand::PoorlyMaintained.describe().contains("20-30 %"));
     }
 }

@@ -106,8 +106,7 @@ pub struct CompressorSpec {
 
 impl CompressorSpec {
     pub fn rated_specific_power_kw_per_m3_min(&self) -> f64 {
-        self.rated_specific_power_kw_per_m3_min
-            .unwrap_or(self.rated_power_kw / self.rated_flow_m3_min)
+        self.rated_specific_power_kw_per_m3_min.unwrap_or(self.rated_power_kw / self.rated_flow_m3_min)
     }
 }
 

@@ -28,8 +28,14 @@ use serde::{Deserialize, Serialize};
 use super::model::{CompressorSpec, Control, SiteSpec};
 
 /// Every kind of measure this module proposes (API.md names).
-pub const KINDS: &[&str] =
-    &["repair_leaks", "lower_pressure", "recover_heat", "shut_off_idle", "improve_control", "replace_compressor"];
+pub const KINDS: &[&str] = &[
+    "repair_leaks",
+    "lower_pressure",
+    "recover_heat",
+    "shut_off_idle",
+    "improve_control",
+    "replace_compressor",
+];
 
 /// Rank by simple payback, shortest first (measures without one last).
 pub fn rank(recs: &mut [Recommendation]) {

@@ -133,27 +133,18 @@ fn validate(input: &CompressionInput) -> Result<(), ThermoError> {
     // `!(x > 0.0)` rather than `x <= 0.0` so that NaN is refused too.
     if !(input.flow.0 > 0.0 && input.flow.0.is_finite()) {
         let q = input.flow.m3_min();
-        return Err(ThermoError::new(
-            "flow_m3_min",
-            format!("flow must be positive, got {q}"),
-        ));
+        return Err(ThermoError::new("flow_m3_min", format!("flow must be positive, got {q}")));
     }
     if !(input.inlet_pressure.0 > 0.0 && input.inlet_pressure.0.is_finite()) {
         return Err(ThermoError::new(
             "inlet_pressure_kpa_abs",
-            format!(
-                "inlet pressure must be above zero absolute, got {} kPa",
-                input.inlet_pressure.kpa_abs()
-            ),
+            format!("inlet pressure must be above zero absolute, got {} kPa", input.inlet_pressure.kpa_abs()),
         ));
     }
     if !(input.inlet_temperature.0 > 0.0 && input.inlet_temperature.0.is_finite()) {
         return Err(ThermoError::new(
             "inlet_temperature_c",
-            format!(
-                "inlet temperature must be above absolute zero, got {} °C",
-                input.inlet_temperature.c()
-            ),
+            format!("inlet temperature must be above absolute zero, got {} °C", input.inlet_temperature.c()),
         ));
     }
     if !(input.intercooled_to.0 > 0.0 && input.intercooled_to.0.is_finite()) {
@@ -178,9 +169,7 @@ fn validate(input: &CompressionInput) -> Result<(), ThermoError> {
     if r.is_nan() || r <= 1.0 {
         return Err(ThermoError::new(
             "discharge_pressure_bar_g",
-            format!(
-                "pressure ratio must be above 1, got {r:.4}: discharge not above inlet pressure"
-            ),
+            format!("pressure ratio must be above 1, got {r:.4}: discharge not above inlet pressure"),
         ));
     }
     if input.stages == 0 || input.stages > MAX_STAGES {
@@ -212,19 +201,14 @@ fn validate(input: &CompressionInput) -> Result<(), ThermoError> {
 pub fn compress(input: &CompressionInput) -> Result<CompressionResult, ThermoError> {
     validate(input)?;
     let eta = input.isentropic_efficiency;
-    let mass_flow_kg_s =
-        input.inlet_pressure.0 * input.flow.0 / (R_AIR * input.inlet_temperature.0);
+    let mass_flow_kg_s = input.inlet_pressure.0 * input.flow.0 / (R_AIR * input.inlet_temperature.0);
     let r_total = input.discharge_pressure.0 / input.inlet_pressure.0;
     let r_stage = r_total.powf(1.0 / f64::from(input.stages));
 
     let mut stages = Vec::with_capacity(input.stages as usize);
     let mut isentropic_w = 0.0;
     for i in 0..input.stages {
-        let t_in = if i == 0 {
-            input.inlet_temperature
-        } else {
-            input.intercooled_to
-        };
+        let t_in = if i == 0 { input.inlet_temperature } else { input.intercooled_to };
         let ideal_w = mass_flow_kg_s * isentropic_work_per_kg(t_in, r_stage);
         let t_out = isentropic_discharge_temperature(t_in, r_stage, eta);
         if t_out.0 < input.intercooled_to.0 {
@@ -249,11 +233,7 @@ pub fn compress(input: &CompressionInput) -> Result<CompressionResult, ThermoErr
     }
     Ok(CompressionResult {
         mass_flow_kg_s,
-        isothermal_power: isothermal_power(
-            input.flow,
-            input.inlet_pressure,
-            input.discharge_pressure,
-        ),
+        isothermal_power: isothermal_power(input.flow, input.inlet_pressure, input.discharge_pressure),
         isentropic_power: Power(isentropic_w),
         shaft_power: Power(isentropic_w / eta),
         stages,
@@ -270,9 +250,7 @@ mod tests {
 
     /// A reference value from the fixture written by tests/reference/make_reference.py.
     fn reference(name: &str) -> f64 {
-        fixture()["values"][name]["value"]
-            .as_f64()
-            .unwrap_or_else(|| panic!("fixture has no value {name}"))
+        fixture()["values"][name]["value"].as_f64().unwrap_or_else(|| panic!("fixture has no value {name}"))
     }
 
     fn rel(a: f64, b: f64) -> f64 {
@@ -360,11 +338,8 @@ mod tests {
     fn isothermal_power_is_p1_v1_ln_r() {
         // By hand: 10 m³/min at 101.325 kPa to 801.325 kPa:
         // 101 325 x 10/60 x ln(7.90846) = 34 922.2 W.
-        let p = isothermal_power(
-            FreeAirFlow::from_m3_min(10.0),
-            PressureAbs(101_325.0),
-            PressureAbs(801_325.0),
-        );
+        let p =
+            isothermal_power(FreeAirFlow::from_m3_min(10.0), PressureAbs(101_325.0), PressureAbs(801_325.0));
         assert!((p.kw() - 34.922).abs() < 0.001);
         assert!(rel(p.0, reference("compress.isothermal_power_w")) < 1e-9);
         // Isothermal efficiency of a 60 kW package delivering that air: 0.582.
@@ -390,19 +365,9 @@ mod tests {
         let out = compress(&api_example()).unwrap();
         // fixture: ideal-gas mass flow and fluids 1.3.1 isothermal_work_compression x molar flow.
         assert!(rel(out.mass_flow_kg_s, reference("compress.mass_flow_kg_s")) < 1e-9);
-        assert!(
-            rel(
-                out.isothermal_power.0,
-                reference("compress.isothermal_power_w")
-            ) < 1e-9
-        );
+        assert!(rel(out.isothermal_power.0, reference("compress.isothermal_power_w")) < 1e-9);
         // fixture: fluids 1.3.1 isentropic_work_compression per stage, summed.
-        assert!(
-            rel(
-                out.isentropic_power.0,
-                reference("compress.isentropic_power_w")
-            ) < 1e-9
-        );
+        assert!(rel(out.isentropic_power.0, reference("compress.isentropic_power_w")) < 1e-9);
         assert!(rel(out.shaft_power.0, reference("compress.shaft_power_w")) < 1e-9);
         assert_eq!(out.stages.len(), 2);
         for (i, s) in out.stages.iter().enumerate() {
@@ -430,11 +395,7 @@ mod tests {
         let air = out.mass_flow_kg_s * CP_AIR * (30.0 - 20.0);
         assert!(rel(out.shaft_power.0, coolers + air) < 1e-9);
         // Intercooling saves work against a single stage, and stays above the isothermal limit.
-        let single = compress(&CompressionInput {
-            stages: 1,
-            ..api_example()
-        })
-        .unwrap();
+        let single = compress(&CompressionInput { stages: 1, ..api_example() }).unwrap();
         assert!(out.isentropic_power.0 < single.isentropic_power.0);
         assert!(out.isentropic_power.0 > out.isothermal_power.0);
     }
@@ -446,53 +407,21 @@ mod tests {
             f(&mut input);
             compress(&input).unwrap_err().field
         };
-        assert_eq!(
-            bad(|i| i.discharge_pressure = i.inlet_pressure),
-            "discharge_pressure_bar_g"
-        );
-        assert_eq!(
-            bad(|i| i.isentropic_efficiency = 0.0),
-            "isentropic_efficiency"
-        );
-        assert_eq!(
-            bad(|i| i.isentropic_efficiency = 1.01),
-            "isentropic_efficiency"
-        );
-        assert_eq!(
-            bad(|i| i.isentropic_efficiency = f64::NAN),
-            "isentropic_efficiency"
-        );
+        assert_eq!(bad(|i| i.discharge_pressure = i.inlet_pressure), "discharge_pressure_bar_g");
+        assert_eq!(bad(|i| i.isentropic_efficiency = 0.0), "isentropic_efficiency");
+        assert_eq!(bad(|i| i.isentropic_efficiency = 1.01), "isentropic_efficiency");
+        assert_eq!(bad(|i| i.isentropic_efficiency = f64::NAN), "isentropic_efficiency");
         assert_eq!(bad(|i| i.stages = 0), "stages");
         assert_eq!(bad(|i| i.stages = 7), "stages");
         assert_eq!(bad(|i| i.flow = FreeAirFlow(0.0)), "flow_m3_min");
-        assert_eq!(
-            bad(|i| i.inlet_pressure = PressureAbs(-1.0)),
-            "inlet_pressure_kpa_abs"
-        );
-        assert_eq!(
-            bad(|i| i.inlet_temperature = Temperature(0.0)),
-            "inlet_temperature_c"
-        );
-        assert_eq!(
-            bad(|i| i.intercooled_to = Temperature(-5.0)),
-            "intercooled_to_c"
-        );
+        assert_eq!(bad(|i| i.inlet_pressure = PressureAbs(-1.0)), "inlet_pressure_kpa_abs");
+        assert_eq!(bad(|i| i.inlet_temperature = Temperature(0.0)), "inlet_temperature_c");
+        assert_eq!(bad(|i| i.intercooled_to = Temperature(-5.0)), "intercooled_to_c");
         // A cooler "to" 200 °C after a stage that only reaches ~146 °C would have to heat the air.
-        assert_eq!(
-            bad(|i| i.intercooled_to = Temperature::from_c(200.0)),
-            "intercooled_to_c"
-        );
-        let e = compress(&CompressionInput {
-            stages: 9,
-            ..api_example()
-        })
-        .unwrap_err();
+        assert_eq!(bad(|i| i.intercooled_to = Temperature::from_c(200.0)), "intercooled_to_c");
+        let e = compress(&CompressionInput { stages: 9, ..api_example() }).unwrap_err();
         assert_eq!(e.to_string(), "stages: stages must be 1 to 6, got 9");
         // Efficiency 1 is allowed: the ideal machine.
-        assert!(compress(&CompressionInput {
-            isentropic_efficiency: 1.0,
-            ..api_example()
-        })
-        .is_ok());
+        assert!(compress(&CompressionInput { isentropic_efficiency: 1.0, ..api_example() }).is_ok());
     }
 }

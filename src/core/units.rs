@@ -197,10 +197,8 @@ impl ReferenceConditions {
     /// marked there as from memory).
     pub const STANDARD_ISO_1217: Self = Self { pressure_kpa_abs: 100.0, temperature_c: 20.0 };
     /// ASME "standard air" for scfm: 14.696 psia, 68 °F (humidity ignored: dry-air conversion).
-    pub const STANDARD_ASME_SCFM: Self = Self {
-        pressure_kpa_abs: 14.696 * PA_PER_PSI / 1000.0,
-        temperature_c: 20.0,
-    };
+    pub const STANDARD_ASME_SCFM: Self =
+        Self { pressure_kpa_abs: 14.696 * PA_PER_PSI / 1000.0, temperature_c: 20.0 };
 }
 
 /// The air at the site's compressor inlets: what "free air" refers to.
@@ -221,7 +219,8 @@ impl SiteAir {
     /// Free air volume from a volume at reference conditions (dry air, ideal gas):
     /// V_FAD = V_ref (p_ref / p_in) (T_in / T_ref) (FIELD-NOTES §2).
     pub fn free_air_from_reference(&self, v_ref: f64, r: ReferenceConditions) -> f64 {
-        v_ref * (r.pressure_kpa_abs * 1000.0 / self.atmosphere.0)
+        v_ref
+            * (r.pressure_kpa_abs * 1000.0 / self.atmosphere.0)
             * (self.inlet_temperature.0 / Temperature::from_c(r.temperature_c).0)
     }
 

@@ -421,10 +421,12 @@ pub async fn uploads(pool: &SqlitePool, audit_id: i64) -> Result<Vec<UploadRecor
 }
 
 pub async fn field_tests(pool: &SqlitePool, audit_id: i64) -> Result<Vec<FieldTestRecord>, StoreError> {
-    let rows = sqlx::query("SELECT id, kind, input, result, created_at FROM field_test WHERE audit_id = ? ORDER BY id")
-        .bind(audit_id)
-        .fetch_all(pool)
-        .await?;
+    let rows = sqlx::query(
+        "SELECT id, kind, input, result, created_at FROM field_test WHERE audit_id = ? ORDER BY id",
+    )
+    .bind(audit_id)
+    .fetch_all(pool)
+    .await?;
     Ok(rows
         .iter()
         .map(|r| {
@@ -449,15 +451,17 @@ pub async fn add_field_test(
     result: &serde_json::Value,
 ) -> Result<i64, StoreError> {
     let mut tx = begin_write(pool).await?;
-    let id = sqlx::query("INSERT INTO field_test (audit_id, kind, input, result, created_at) VALUES (?, ?, ?, ?, ?)")
-        .bind(audit_id)
-        .bind(kind)
-        .bind(input.to_string())
-        .bind(result.to_string())
-        .bind(now_rfc3339())
-        .execute(&mut *tx)
-        .await?
-        .last_insert_rowid();
+    let id = sqlx::query(
+        "INSERT INTO field_test (audit_id, kind, input, result, created_at) VALUES (?, ?, ?, ?, ?)",
+    )
+    .bind(audit_id)
+    .bind(kind)
+    .bind(input.to_string())
+    .bind(result.to_string())
+    .bind(now_rfc3339())
+    .execute(&mut *tx)
+    .await?
+    .last_insert_rowid();
     bump(&mut tx, audit_id).await?;
     tx.commit().await?;
     Ok(id)
@@ -517,7 +521,11 @@ pub async fn set_cost_override(
 }
 
 /// The cached summary JSON if it was computed for `revision`.
-pub async fn cached_summary(pool: &SqlitePool, audit_id: i64, revision: i64) -> Result<Option<String>, StoreError> {
+pub async fn cached_summary(
+    pool: &SqlitePool,
+    audit_id: i64,
+    revision: i64,
+) -> Result<Option<String>, StoreError> {
     Ok(sqlx::query_scalar("SELECT summary FROM summary_cache WHERE audit_id = ? AND revision = ?")
         .bind(audit_id)
         .bind(revision)
@@ -525,7 +533,12 @@ pub async fn cached_summary(pool: &SqlitePool, audit_id: i64, revision: i64) -> 
         .await?)
 }
 
-pub async fn put_summary(pool: &SqlitePool, audit_id: i64, revision: i64, json: &str) -> Result<(), StoreError> {
+pub async fn put_summary(
+    pool: &SqlitePool,
+    audit_id: i64,
+    revision: i64,
+    json: &str,
+) -> Result<(), StoreError> {
     let mut tx = begin_write(pool).await?;
     sqlx::query(
         "INSERT INTO summary_cache (audit_id, revision, summary) VALUES (?, ?, ?) \

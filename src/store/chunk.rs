@@ -88,25 +88,26 @@ impl Reader<'_> {
     }
 }
 
-/// Order-preserving integer image of float bits (so that close floats have close integers).
+/// Order-preserving integer image of float bits (so that close floats have close integers); -0.0
+/// maps to -1 and 0.0 to 0, so both survive.
 fn ordered_f32(v: f32) -> i64 {
     let b = v.to_bits() as i32;
-    i64::from(if b < 0 { i32::MIN - b } else { b })
+    i64::from(if b < 0 { i32::MIN - b - 1 } else { b })
 }
 fn from_ordered_f32(o: i64) -> f32 {
     let o = o as i32;
-    f32::from_bits((if o < 0 { i32::MIN - o } else { o }) as u32)
+    f32::from_bits((if o < 0 { i32::MIN - (o + 1) } else { o }) as u32)
 }
 fn ordered_f64(v: f64) -> i64 {
     let b = v.to_bits() as i64;
     if b < 0 {
-        i64::MIN - b
+        i64::MIN - b - 1
     } else {
         b
     }
 }
 fn from_ordered_f64(o: i64) -> f64 {
-    f64::from_bits((if o < 0 { i64::MIN - o } else { o }) as u64)
+    f64::from_bits((if o < 0 { i64::MIN - (o + 1) } else { o }) as u64)
 }
 
 /// The smallest number of decimals `d <= 6` with which every value round-trips exactly at the
@@ -119,7 +120,8 @@ fn decimal_scale(values: &[f64], precision: Precision) -> Option<u32> {
             if !s.is_finite() || s.abs() > 9.0e15 {
                 continue 'scale;
             }
-            let back = s / k;
+            // Back from the integer actually stored (so that -0.0 is not mistaken for 0.0).
+            let back = (s as i64) as f64 / k;
             let same = match precision {
                 Precision::F32 => (back as f32).to_bits() == (v as f32).to_bits(),
                 Precision::F64 => back.to_bits() == v.to_bits(),

@@ -74,7 +74,9 @@ pub struct ChannelSpan {
 pub enum ImportOutcome {
     Created(ImportSummary),
     /// The same bytes were imported before into this audit: nothing added.
-    Duplicate { upload_id: i64 },
+    Duplicate {
+        upload_id: i64,
+    },
 }
 
 #[derive(Debug, thiserror::Error)]
@@ -265,18 +267,17 @@ pub async fn import_file(
     let mut planned = Vec::with_capacity(defs.len());
     for (i, d) in defs.iter().enumerate() {
         let compressor_id = match &d.compressor {
-            Some(tag) => Some(
-                req.compressors
-                    .iter()
-                    .find(|(t, _)| t == tag)
-                    .map(|(_, id)| *id)
-                    .ok_or_else(|| {
-                        bad(
-                            format!("column {:?} names compressor {tag:?}, which this audit does not have", d.label),
-                            Some(format!("columns[{i}].compressor")),
-                        )
-                    })?,
-            ),
+            Some(tag) => {
+                Some(req.compressors.iter().find(|(t, _)| t == tag).map(|(_, id)| *id).ok_or_else(|| {
+                    bad(
+                        format!(
+                            "column {:?} names compressor {tag:?}, which this audit does not have",
+                            d.label
+                        ),
+                        Some(format!("columns[{i}].compressor")),
+                    )
+                })?)
+            }
             None => None,
         };
         // A compressor's power is one channel whatever file or column it comes from.
@@ -304,11 +305,20 @@ pub async fn import_file(
         .await?;
         if planned.iter().any(|p: &PlannedChannel| p.id == id) {
             return Err(bad(
-                format!("two columns map to the same channel ({} {})", quantity, d.compressor.as_deref().unwrap_or(&d.label)),
+                format!(
+                    "two columns map to the same channel ({} {})",
+                    quantity,
+                    d.compressor.as_deref().unwrap_or(&d.label)
+                ),
                 Some(format!("columns[{i}]")),
             ));
         }
-        planned.push(PlannedChannel { id, label: d.label.clone(), quantity, compressor: d.compressor.clone() });
+        planned.push(PlannedChannel {
+            id,
+            label: d.label.clone(),
+            quantity,
+            compressor: d.compressor.clone(),
+        });
     }
     tx.commit().await?;
 
@@ -522,13 +532,15 @@ async fn write_batch(
                     .await?;
             }
             Msg::Day { channel, day_ms, blob } => {
-                sqlx::query("INSERT INTO rollup_minute (channel_id, day_ms, upload_id, data) VALUES (?, ?, ?, ?)")
-                    .bind(planned[channel].id)
-                    .bind(day_ms)
-                    .bind(upload_id)
-                    .bind(blob)
-                    .execute(&mut *tx)
-                    .await?;
+                sqlx::query(
+                    "INSERT INTO rollup_minute (channel_id, day_ms, upload_id, data) VALUES (?, ?, ?, ?)",
+                )
+                .bind(planned[channel].id)
+                .bind(day_ms)
+                .bind(upload_id)
+                .bind(blob)
+                .execute(&mut *tx)
+                .await?;
             }
             Msg::Hours { channel, hours } => {
                 for (h, a) in hours {
@@ -627,13 +639,15 @@ async fn cut_out(
         }
         rollup.finish();
         for d in &rollup.finished_days {
-            sqlx::query("INSERT INTO rollup_minute (channel_id, day_ms, upload_id, data) VALUES (?, ?, ?, ?)")
-                .bind(channel)
-                .bind(d.day_ms)
-                .bind(other)
-                .bind(encode_day(d))
-                .execute(&mut *tx)
-                .await?;
+            sqlx::query(
+                "INSERT INTO rollup_minute (channel_id, day_ms, upload_id, data) VALUES (?, ?, ?, ?)",
+            )
+            .bind(channel)
+            .bind(d.day_ms)
+            .bind(other)
+            .bind(encode_day(d))
+            .execute(&mut *tx)
+            .await?;
         }
         for (h, a) in &rollup.finished_hours {
             sqlx::query("INSERT INTO rollup_hour (channel_id, hour_ms, upload_id, n, min, max, sum) VALUES (?, ?, ?, ?, ?, ?, ?)")
@@ -662,7 +676,8 @@ async fn cut_out(
 /// Remove uploads that a crash left unfinished, with everything they wrote.
 pub async fn remove_unfinished(pool: &SqlitePool) -> Result<u64, StoreError> {
     let mut tx = begin_write(pool).await?;
-    let n = sqlx::query("DELETE FROM upload WHERE state = 'importing'").execute(&mut *tx).await?.rows_affected();
+    let n =
+        sqlx::query("DELETE FROM upload WHERE state = 'importing'").execute(&mut *tx).await?.rows_affected();
     tx.commit().await?;
     if n > 0 {
         tracing::warn!(uploads = n, "removed uploads left unfinished by an earlier stop");

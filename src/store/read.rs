@@ -114,7 +114,7 @@ pub async fn load_frame(
     for c in chans {
         let blobs = chunk_blobs(pool, c.id, from, to).await?;
         let max_gap = (3 * c.interval_ms()).max(grid.step_ms);
-        let g = grid.clone();
+        let g = grid;
         let energy = c.quantity == "energy";
         let values = tokio::task::spawn_blocking(move || -> Result<Vec<f32>, StoreError> {
             if energy {
@@ -195,7 +195,10 @@ pub async fn chart_series(
         .await?;
         for r in rows {
             let n: i64 = r.get("n");
-            add(r.get("hour_ms"), Acc { n: n as u32, min: r.get("min"), max: r.get("max"), sum: r.get("sum") });
+            add(
+                r.get("hour_ms"),
+                Acc { n: n as u32, min: r.get("min"), max: r.get("max"), sum: r.get("sum") },
+            );
         }
     } else {
         let rows = sqlx::query(
@@ -217,8 +220,5 @@ pub async fn chart_series(
             })?;
         }
     }
-    Ok(out
-        .into_iter()
-        .map(|(t, a)| ChartPoint { t_ms: t, min: a.min, mean: a.mean(), max: a.max })
-        .collect())
+    Ok(out.into_iter().map(|(t, a)| ChartPoint { t_ms: t, min: a.min, mean: a.mean(), max: a.max }).collect())
 }

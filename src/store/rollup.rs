@@ -164,10 +164,7 @@ pub fn decode_day(day_ms: i64, blob: &[u8], mut each: impl FnMut(i64, Acc)) -> R
         let min = f32::from_le_bytes(bytes[0..4].try_into().expect("4 bytes"));
         let max = f32::from_le_bytes(bytes[4..8].try_into().expect("4 bytes"));
         let sum = f64::from_le_bytes(bytes[8..16].try_into().expect("8 bytes"));
-        each(
-            day_ms + idx * MINUTE_MS,
-            Acc { n, min: f64::from(min), max: f64::from(max), sum },
-        );
+        each(day_ms + idx * MINUTE_MS, Acc { n, min: f64::from(min), max: f64::from(max), sum });
     }
     Ok(())
 }

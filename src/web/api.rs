@@ -12,7 +12,7 @@ use serde::{Deserialize, Serialize};
 use super::error::AppError;
 use super::AppState;
 use crate::core::fieldtest::parse_time_ms;
-use crate::core::units::{PressureAbs, SiteAir, Temperature, FreeAirFlow};
+use crate::core::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature};
 use crate::core::{leaks, thermo};
 use crate::records::{CompressorInput, ReceiverInput, SitePatch};
 use crate::service;
@@ -74,11 +74,21 @@ pub struct NewAudit {
     notes: Option<String>,
 }
 
-pub async fn create_audit(State(st): State<AppState>, ApiJson(body): ApiJson<NewAudit>) -> Result<Response, AppError> {
+pub async fn create_audit(
+    State(st): State<AppState>,
+    ApiJson(body): ApiJson<NewAudit>,
+) -> Result<Response, AppError> {
     let id = service::create_audit(&st.db, &body.name, &body.site).await?;
     if body.auditor.is_some() || body.notes.is_some() {
-        service::update_audit(&st.db, id, None, body.auditor.as_deref(), body.notes.as_deref(), &SitePatch::default())
-            .await?;
+        service::update_audit(
+            &st.db,
+            id,
+            None,
+            body.auditor.as_deref(),
+            body.notes.as_deref(),
+            &SitePatch::default(),
+        )
+        .await?;
     }
     Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": id })))
 }
@@ -143,7 +153,8 @@ pub async fn patch_audit(
     Path(id): Path<i64>,
     ApiJson(p): ApiJson<AuditPatch>,
 ) -> Result<Response, AppError> {
-    service::update_audit(&st.db, id, p.name.as_deref(), p.auditor.as_deref(), p.notes.as_deref(), &p.site).await?;
+    service::update_audit(&st.db, id, p.name.as_deref(), p.auditor.as_deref(), p.notes.as_deref(), &p.site)
+        .await?;
     get_audit(State(st), Path(id)).await
 }
 
@@ -169,7 +180,10 @@ pub async fn update_compressor(
     Ok(json(StatusCode::OK, &serde_json::json!({ "id": cid })))
 }
 
-pub async fn delete_compressor(State(st): State<AppState>, Path((id, cid)): Path<(i64, i64)>) -> Result<Response, AppError> {
+pub async fn delete_compressor(
+    State(st): State<AppState>,
+    Path((id, cid)): Path<(i64, i64)>,
+) -> Result<Response, AppError> {
     service::bundle(&st.db, id).await?;
     if !audits::delete_compressor(&st.db, id, cid).await? {
         return Err(AppError::NotFound(format!("audit {id} has no compressor {cid}")));
@@ -186,7 +200,10 @@ pub async fn add_receiver(
     Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": rid })))
 }
 
-pub async fn delete_receiver(State(st): State<AppState>, Path((id, rid)): Path<(i64, i64)>) -> Result<Response, AppError> {
+pub async fn delete_receiver(
+    State(st): State<AppState>,
+    Path((id, rid)): Path<(i64, i64)>,
+) -> Result<Response, AppError> {
     service::bundle(&st.db, id).await?;
     if !audits::delete_receiver(&st.db, id, rid).await? {
         return Err(AppError::NotFound(format!("audit {id} has no receiver {rid}")));
@@ -239,7 +256,11 @@ fn window(w: &Window) -> Result<Option<(i64, i64)>, AppError> {
     }
 }
 
-pub async fn summary(State(st): State<AppState>, Path(id): Path<i64>, Query(w): Query<Window>) -> Result<Response, AppError> {
+pub async fn summary(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Query(w): Query<Window>,
+) -> Result<Response, AppError> {
     let win = window(&w)?;
     Ok(json(StatusCode::OK, &service::summary_json(&st.db, id, win).await?))
 }
@@ -253,7 +274,11 @@ pub struct SeriesQuery {
 }
 
 /// Downsampled min/mean/max of one channel from the rollups (SI units, see `unit_si`).
-pub async fn series(State(st): State<AppState>, Path(id): Path<i64>, Query(q): Query<SeriesQuery>) -> Result<Response, AppError> {
+pub async fn series(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Query(q): Query<SeriesQuery>,
+) -> Result<Response, AppError> {
     let b = service::bundle(&st.db, id).await?;
     let c = b
         .channels
@@ -296,7 +321,10 @@ pub async fn add_field_test(
     Ok(json(StatusCode::CREATED, &rec))
 }
 
-pub async fn delete_field_test(State(st): State<AppState>, Path((id, tid)): Path<(i64, i64)>) -> Result<Response, AppError> {
+pub async fn delete_field_test(
+    State(st): State<AppState>,
+    Path((id, tid)): Path<(i64, i64)>,
+) -> Result<Response, AppError> {
     service::bundle(&st.db, id).await?;
     if !audits::delete_field_test(&st.db, id, tid).await? {
         return Err(AppError::NotFound(format!("audit {id} has no field test {tid}")));
@@ -327,28 +355,47 @@ pub async fn put_cost(
     }
     if let Some(c) = body.implementation_cost {
         if !(c.is_finite() && c >= 0.0) {
-            return Err(AppError::field("implementation_cost", format!("the cost must be 0 or more, got {c}")));
+            return Err(AppError::field(
+                "implementation_cost",
+                format!("the cost must be 0 or more, got {c}"),
+            ));
         }
     }
     audits::set_cost_override(&st.db, id, &kind, body.implementation_cost).await?;
-    Ok(json(StatusCode::OK, &serde_json::json!({ "kind": kind, "implementation_cost": body.implementation_cost })))
+    Ok(json(
+        StatusCode::OK,
+        &serde_json::json!({ "kind": kind, "implementation_cost": body.implementation_cost }),
+    ))
 }
 
 /// Site air for a calculator: an audit's, or the given (default 101.325 kPa, 20 °C).
-async fn calc_site(st: &AppState, audit_id: Option<i64>, p: Option<f64>, t: Option<f64>) -> Result<SiteAir, AppError> {
+async fn calc_site(
+    st: &AppState,
+    audit_id: Option<i64>,
+    p: Option<f64>,
+    t: Option<f64>,
+) -> Result<SiteAir, AppError> {
     let (mut pk, mut tc) = (101.325, 20.0);
     if let Some(id) = audit_id {
-        let a = audits::get_audit(&st.db, id).await?.ok_or_else(|| AppError::NotFound(format!("there is no audit {id}")))?;
+        let a = audits::get_audit(&st.db, id)
+            .await?
+            .ok_or_else(|| AppError::NotFound(format!("there is no audit {id}")))?;
         pk = a.site.atmospheric_pressure_kpa_abs();
         tc = a.site.inlet_temperature_c;
     }
     let pk = p.unwrap_or(pk);
     let tc = t.unwrap_or(tc);
     if !(pk.is_finite() && pk > 0.0) {
-        return Err(AppError::field("atmospheric_pressure_kpa_abs", format!("atmospheric pressure must be above 0 kPa abs, got {pk}")));
+        return Err(AppError::field(
+            "atmospheric_pressure_kpa_abs",
+            format!("atmospheric pressure must be above 0 kPa abs, got {pk}"),
+        ));
     }
     if !(tc.is_finite() && tc > -273.15) {
-        return Err(AppError::field("inlet_temperature_c", format!("temperature must be above absolute zero, got {tc}")));
+        return Err(AppError::field(
+            "inlet_temperature_c",
+            format!("temperature must be above absolute zero, got {tc}"),
+        ));
     }
     Ok(SiteAir::new(pk, tc))
 }
@@ -371,14 +418,23 @@ fn default_cd() -> f64 {
     0.61
 }
 
-pub async fn calc_orifice(State(st): State<AppState>, ApiJson(b): ApiJson<OrificeBody>) -> Result<Response, AppError> {
+pub async fn calc_orifice(
+    State(st): State<AppState>,
+    ApiJson(b): ApiJson<OrificeBody>,
+) -> Result<Response, AppError> {
     let site = calc_site(&st, b.audit_id, b.atmospheric_pressure_kpa_abs, b.inlet_temperature_c).await?;
     if !(b.diameter_mm.is_finite() && b.diameter_mm > 0.0) {
-        return Err(AppError::field("diameter_mm", format!("the diameter must be above 0 mm, got {}", b.diameter_mm)));
+        return Err(AppError::field(
+            "diameter_mm",
+            format!("the diameter must be above 0 mm, got {}", b.diameter_mm),
+        ));
     }
     let upstream = PressureAbs::from_bar_g(b.pressure_bar_g, site.atmosphere);
     if upstream.0 <= 0.0 {
-        return Err(AppError::field("pressure_bar_g", format!("{} bar(g) is below zero absolute", b.pressure_bar_g)));
+        return Err(AppError::field(
+            "pressure_bar_g",
+            format!("{} bar(g) is below zero absolute", b.pressure_bar_g),
+        ));
     }
     let t0 = b.upstream_temperature_c.map(Temperature::from_c).unwrap_or(site.inlet_temperature);
     let q = leaks::orifice_leak(b.diameter_mm / 1000.0, upstream, t0, b.discharge_coefficient, &site)
@@ -420,12 +476,24 @@ fn default_eta() -> f64 {
     0.8
 }
 
-pub async fn calc_compression(State(st): State<AppState>, ApiJson(b): ApiJson<CompressionBody>) -> Result<Response, AppError> {
-    let site = calc_site(&st, b.audit_id, b.atmospheric_pressure_kpa_abs.or(b.inlet_pressure_kpa_abs), b.inlet_temperature_c).await?;
+pub async fn calc_compression(
+    State(st): State<AppState>,
+    ApiJson(b): ApiJson<CompressionBody>,
+) -> Result<Response, AppError> {
+    let site = calc_site(
+        &st,
+        b.audit_id,
+        b.atmospheric_pressure_kpa_abs.or(b.inlet_pressure_kpa_abs),
+        b.inlet_temperature_c,
+    )
+    .await?;
     let inlet = b.inlet_pressure_kpa_abs.map(PressureAbs::from_kpa_abs).unwrap_or(site.atmosphere);
     let discharge = PressureAbs::from_bar_g(b.discharge_pressure_bar_g, site.atmosphere);
     if discharge.0 <= 0.0 {
-        return Err(AppError::field("discharge_pressure_bar_g", format!("{} bar(g) is below zero absolute", b.discharge_pressure_bar_g)));
+        return Err(AppError::field(
+            "discharge_pressure_bar_g",
+            format!("{} bar(g) is below zero absolute", b.discharge_pressure_bar_g),
+        ));
     }
     let input = thermo::CompressionInput {
         flow: FreeAirFlow::from_m3_min(b.flow_m3_min),

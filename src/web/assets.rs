@@ -33,11 +33,10 @@ const ASSETS: &[Asset] = &[
 /// `GET /static/{*path}`.
 pub async fn serve(Path(path): Path<String>) -> Response {
     match ASSETS.iter().find(|a| a.path == path) {
-        Some(a) => (
-            [(header::CONTENT_TYPE, a.mime), (header::CACHE_CONTROL, "public, max-age=3600")],
-            a.body,
-        )
-            .into_response(),
+        Some(a) => {
+            ([(header::CONTENT_TYPE, a.mime), (header::CACHE_CONTROL, "public, max-age=3600")], a.body)
+                .into_response()
+        }
         None => (StatusCode::NOT_FOUND, "no such file").into_response(),
     }
 }

@@ -17,7 +17,9 @@ use super::error::AppError;
 use super::AppState;
 use crate::core::display::Fmt;
 use crate::core::model::{CompressorKind, Control};
-use crate::records::{CompressorInput, CompressorRecord, FieldError, ReceiverInput, ReceiverRecord, SitePatch};
+use crate::records::{
+    CompressorInput, CompressorRecord, FieldError, ReceiverInput, ReceiverRecord, SitePatch,
+};
 use crate::service::{self, AuditBundle};
 use crate::store::audits::{self, Audit, AuditListItem, UploadRecord};
 
@@ -100,7 +102,10 @@ fn site_patch(form: &HashMap<String, String>) -> Result<SitePatch, FieldError> {
                 .filter(|x| !x.trim().is_empty())
                 .map(|x| {
                     x.trim().parse::<u8>().map_err(|_| {
-                        FieldError::new("heating_months", format!("heating months must be numbers 1 to 12, got {x:?}"))
+                        FieldError::new(
+                            "heating_months",
+                            format!("heating months must be numbers 1 to 12, got {x:?}"),
+                        )
                     })
                 })
                 .collect::<Result<Vec<u8>, _>>()?,
@@ -136,7 +141,10 @@ fn site_patch(form: &HashMap<String, String>) -> Result<SitePatch, FieldError> {
     })
 }
 
-pub async fn create_audit(State(st): State<AppState>, Form(form): Form<HashMap<String, String>>) -> PageResult {
+pub async fn create_audit(
+    State(st): State<AppState>,
+    Form(form): Form<HashMap<String, String>>,
+) -> PageResult {
     let name = opt_text(&form, "name").ok_or_else(|| FieldError::new("name", "the audit needs a name"))?;
     let patch = site_patch(&form)?;
     let id = service::create_audit(&st.db, &name, &patch).await?;
@@ -235,8 +243,10 @@ fn parse_curve(s: &str) -> Result<Vec<(f64, f64)>, FieldError> {
             let (q, kw) = p.split_once(':').ok_or_else(|| {
                 FieldError::new("power_curve", format!("write each point as flow:kW, got {p:?}"))
             })?;
-            let q: f64 = q.parse().map_err(|_| FieldError::new("power_curve", format!("bad flow in {p:?}")))?;
-            let kw: f64 = kw.parse().map_err(|_| FieldError::new("power_curve", format!("bad kW in {p:?}")))?;
+            let q: f64 =
+                q.parse().map_err(|_| FieldError::new("power_curve", format!("bad flow in {p:?}")))?;
+            let kw: f64 =
+                kw.parse().map_err(|_| FieldError::new("power_curve", format!("bad kW in {p:?}")))?;
             Ok((q, kw))
         })
         .collect()

@@ -153,7 +153,8 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
     }
     let estimated = sm["system"]["estimated"].as_bool().unwrap_or(false);
     let flow_note = if estimated {
-        "No flow meter was logged: flows are ESTIMATED from compressor states and rated free air delivery.".to_string()
+        "No flow meter was logged: flows are ESTIMATED from compressor states and rated free air delivery."
+            .to_string()
     } else {
         "Flows are measured (free air at the site's inlet conditions).".to_string()
     };
@@ -317,36 +318,122 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
                 Some(id) => format!("{} (test {id})", s(e, "method")),
                 None => s(e, "method").to_string(),
             },
-            flow: range(|x| fmt.flow_m3_min(x), g(e, "leak_flow_m3_min"), g(e, "leak_flow_m3_min_low"), g(e, "leak_flow_m3_min_high")),
+            flow: range(
+                |x| fmt.flow_m3_min(x),
+                g(e, "leak_flow_m3_min"),
+                g(e, "leak_flow_m3_min_low"),
+                g(e, "leak_flow_m3_min_high"),
+            ),
             share: fmt.percent(g(e, "share_of_mean_demand")),
             automatic: e["automatic"].as_bool().unwrap_or(false),
         })
         .collect();
     let pressure = vec![
         ("Mean".into(), fmt.pressure_bar_g(g(sm, "pressure.mean_bar_g"))),
-        ("Minimum / maximum".into(), format!("{} / {}", fmt.pressure_bar_g(g(sm, "pressure.min_bar_g")), fmt.pressure_bar_g(g(sm, "pressure.max_bar_g")))),
-        ("5 % / 50 % / 95 % of time below".into(), format!("{} / {} / {}", fmt.pressure_bar_g(g(sm, "pressure.p5_bar_g")), fmt.pressure_bar_g(g(sm, "pressure.p50_bar_g")), fmt.pressure_bar_g(g(sm, "pressure.p95_bar_g")))),
-        ("Uncertainty of the transmitter".into(), format!("± {}", fmt.pressure_delta_bar(g(sm, "pressure.uncertainty_bar")))),
-        ("Time below the low limit".into(), format!("{} (limit {})", fmt.percent(g(sm, "pressure.share_below_low_limit")), fmt.pressure_bar_g(g(sm, "pressure.low_limit_bar_g")))),
+        (
+            "Minimum / maximum".into(),
+            format!(
+                "{} / {}",
+                fmt.pressure_bar_g(g(sm, "pressure.min_bar_g")),
+                fmt.pressure_bar_g(g(sm, "pressure.max_bar_g"))
+            ),
+        ),
+        (
+            "5 % / 50 % / 95 % of time below".into(),
+            format!(
+                "{} / {} / {}",
+                fmt.pressure_bar_g(g(sm, "pressure.p5_bar_g")),
+                fmt.pressure_bar_g(g(sm, "pressure.p50_bar_g")),
+                fmt.pressure_bar_g(g(sm, "pressure.p95_bar_g"))
+            ),
+        ),
+        (
+            "Uncertainty of the transmitter".into(),
+            format!("± {}", fmt.pressure_delta_bar(g(sm, "pressure.uncertainty_bar"))),
+        ),
+        (
+            "Time below the low limit".into(),
+            format!(
+                "{} (limit {})",
+                fmt.percent(g(sm, "pressure.share_below_low_limit")),
+                fmt.pressure_bar_g(g(sm, "pressure.low_limit_bar_g"))
+            ),
+        ),
     ];
     let demand = vec![
-        ("Mean flow".into(), range(|x| fmt.flow_m3_min(x), g(sm, "system.mean_flow_m3_min"), g(sm, "system.mean_flow_m3_min_low"), g(sm, "system.mean_flow_m3_min_high"))),
-        ("Peak flow".into(), format!("{} (mean over {} s)", fmt.flow_m3_min(g(sm, "system.peak_flow_m3_min")), num(g(sm, "system.peak_flow_window_s"), 0))),
-        ("Production / non-production mean flow".into(), format!("{} / {}", fmt.flow_m3_min(g(sm, "demand.production_mean_flow_m3_min")), fmt.flow_m3_min(g(sm, "demand.non_production_mean_flow_m3_min")))),
-        ("Production share of time".into(), format!("{} ({})", fmt.percent(g(sm, "demand.production_share_of_time")), s(sm, "demand.production_rule"))),
-        ("Mean and peak power".into(), format!("{} / {}", fmt.power_kw(g(sm, "system.mean_power_kw")), fmt.power_kw(g(sm, "system.peak_power_kw")))),
+        (
+            "Mean flow".into(),
+            range(
+                |x| fmt.flow_m3_min(x),
+                g(sm, "system.mean_flow_m3_min"),
+                g(sm, "system.mean_flow_m3_min_low"),
+                g(sm, "system.mean_flow_m3_min_high"),
+            ),
+        ),
+        (
+            "Peak flow".into(),
+            format!(
+                "{} (mean over {} s)",
+                fmt.flow_m3_min(g(sm, "system.peak_flow_m3_min")),
+                num(g(sm, "system.peak_flow_window_s"), 0)
+            ),
+        ),
+        (
+            "Production / non-production mean flow".into(),
+            format!(
+                "{} / {}",
+                fmt.flow_m3_min(g(sm, "demand.production_mean_flow_m3_min")),
+                fmt.flow_m3_min(g(sm, "demand.non_production_mean_flow_m3_min"))
+            ),
+        ),
+        (
+            "Production share of time".into(),
+            format!(
+                "{} ({})",
+                fmt.percent(g(sm, "demand.production_share_of_time")),
+                s(sm, "demand.production_rule")
+            ),
+        ),
+        (
+            "Mean and peak power".into(),
+            format!(
+                "{} / {}",
+                fmt.power_kw(g(sm, "system.mean_power_kw")),
+                fmt.power_kw(g(sm, "system.peak_power_kw"))
+            ),
+        ),
     ];
     let heat = vec![
         ("Heat rejected in the logged period".into(), fmt.energy_kwh(g(sm, "heat.heat_rejected_kwh"))),
         ("Recoverable in the logged period".into(), fmt.energy_kwh(g(sm, "heat.recoverable_kwh"))),
         ("Recoverable at full load".into(), fmt.power_kw(g(sm, "heat.recoverable_kw_at_full_load"))),
-        ("Useful heat per year".into(), format!("{} ({})", fmt.energy_kwh(g(sm, "heat.useful_heat_kwh_per_year")), s(sm, "heat.use_kind").replace('_', " "))),
+        (
+            "Useful heat per year".into(),
+            format!(
+                "{} ({})",
+                fmt.energy_kwh(g(sm, "heat.useful_heat_kwh_per_year")),
+                s(sm, "heat.use_kind").replace('_', " ")
+            ),
+        ),
         ("Fuel displaced per year".into(), fmt.energy_kwh(g(sm, "heat.displaced_fuel_kwh_per_year"))),
-        ("Value per year / as process water all year".into(), format!("{} / {}", money(g(sm, "heat.annual_value")), money(g(sm, "heat.process_water_annual_value")))),
+        (
+            "Value per year / as process water all year".into(),
+            format!(
+                "{} / {}",
+                money(g(sm, "heat.annual_value")),
+                money(g(sm, "heat.process_water_annual_value"))
+            ),
+        ),
     ];
     let methods = sm["methods"]
         .as_array()
-        .map(|a| a.iter().map(|m| (s(m, "figure").to_string(), s(m, "formula").to_string(), s(m, "source").to_string())).collect())
+        .map(|a| {
+            a.iter()
+                .map(|m| {
+                    (s(m, "figure").to_string(), s(m, "formula").to_string(), s(m, "source").to_string())
+                })
+                .collect()
+        })
         .unwrap_or_default();
     let assumptions = sm["assumptions"]
         .as_array()
@@ -368,7 +455,15 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
         .unwrap_or_default();
     let heatmap: Vec<Vec<Option<f64>>> = sm["demand"]["weekday_hour_mean_flow_m3_min"]
         .as_array()
-        .map(|d| d.iter().map(|h| h.as_array().map(|hs| hs.iter().map(|x| x.as_f64().map(|v| v * flow_k)).collect()).unwrap_or_default()).collect())
+        .map(|d| {
+            d.iter()
+                .map(|h| {
+                    h.as_array()
+                        .map(|hs| hs.iter().map(|x| x.as_f64().map(|v| v * flow_k)).collect())
+                        .unwrap_or_default()
+                })
+                .collect()
+        })
         .unwrap_or_default();
     let rated_points: Vec<Value> = b
         .compressors
@@ -461,13 +556,20 @@ struct ReportPage {
     other_units_label: &'static str,
 }
 
-pub async fn report(State(st): State<AppState>, Path(id): Path<i64>, Query(q): Query<ViewQuery>) -> Result<Response, PageError> {
+pub async fn report(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Query(q): Query<ViewQuery>,
+) -> Result<Response, PageError> {
     let b = service::bundle(&st.db, id).await?;
     let sm = service::summary_json(&st.db, id, None).await?;
     let fmt = reader_fmt(&b, &q);
     let view = report_view(&b, &fmt, &sm);
-    let (other_units, other_units_label) =
-        if fmt.is_us() { ("si", "Show SI units (bar, m³/min)") } else { ("us", "Show US customary units (psig, cfm)") };
+    let (other_units, other_units_label) = if fmt.is_us() {
+        ("si", "Show SI units (bar, m³/min)")
+    } else {
+        ("us", "Show US customary units (psig, cfm)")
+    };
     Ok(render(&ReportPage { audit: b.audit, fmt, view, other_units, other_units_label }))
 }
 
@@ -503,7 +605,11 @@ async fn findings_page(db: &SqlitePool, id: i64, q: &ViewQuery) -> Result<Findin
     })
 }
 
-pub async fn findings(State(st): State<AppState>, Path(id): Path<i64>, Query(q): Query<ViewQuery>) -> Result<Response, PageError> {
+pub async fn findings(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Query(q): Query<ViewQuery>,
+) -> Result<Response, PageError> {
     Ok(render(&findings_page(&st.db, id, &q).await?))
 }
 
@@ -548,7 +654,9 @@ pub async fn tests(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Re
                 method: t.kind.clone(),
                 input: input.to_string(),
                 result: t.result.to_string(),
-                leak_flow: fmt.flow_m3_min(t.result.get("leak_flow_m3_min").and_then(|x| x.as_f64()).unwrap_or(f64::NAN)),
+                leak_flow: fmt.flow_m3_min(
+                    t.result.get("leak_flow_m3_min").and_then(|x| x.as_f64()).unwrap_or(f64::NAN),
+                ),
             }
         })
         .collect();

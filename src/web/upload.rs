@@ -123,7 +123,8 @@ pub async fn post_upload(
             _ => {}
         }
     }
-    let mapping = mapping.ok_or_else(|| AppError::field("mapping", "the upload needs a part named mapping (JSON)"))?;
+    let mapping =
+        mapping.ok_or_else(|| AppError::field("mapping", "the upload needs a part named mapping (JSON)"))?;
     let (spooled, sha256, bytes, filename) =
         file.ok_or_else(|| AppError::field("file", "the upload needs a part named file"))?;
     let replace = matches!(q.replace.as_deref(), Some("true" | "1" | "yes" | "on"));
@@ -210,7 +211,10 @@ pub async fn post_sniff(
 }
 
 /// `GET /api/v1/imports/{token}`: progress of a running import.
-pub async fn import_progress(State(state): State<AppState>, Path(token): Path<String>) -> Json<serde_json::Value> {
+pub async fn import_progress(
+    State(state): State<AppState>,
+    Path(token): Path<String>,
+) -> Json<serde_json::Value> {
     let p = state.imports.lock().expect("imports lock").get(&token).cloned();
     Json(match p {
         Some(p) => {

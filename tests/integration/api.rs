@@ -7,7 +7,9 @@ fn the_demo_serves_every_page_and_lists_its_audit() {
     // Arrange
     let s = Server::demo();
     // Act + Assert: every page answers 200 with HTML.
-    for p in ["/", "/audits/1", "/audits/1/report", "/audits/1/findings", "/audits/1/upload", "/audits/1/tests"] {
+    for p in
+        ["/", "/audits/1", "/audits/1/report", "/audits/1/findings", "/audits/1/upload", "/audits/1/tests"]
+    {
         let r = s.get(p);
         assert_eq!(r.status, 200, "{p}: {}", r.text);
         assert!(r.content_type.starts_with("text/html"), "{p}: {}", r.content_type);
@@ -54,7 +56,10 @@ fn an_audit_takes_documented_site_defaults_and_the_iso_2533_atmosphere() {
     assert_eq!(a["site"]["currency"], "EUR");
     assert_eq!(a["site"]["operating_weeks_per_year"], 52.0);
     // A given atmosphere wins.
-    let r = s.post_json("/api/v1/audits", &json!({"name": "Given", "site": {"atmospheric_pressure_kpa_abs": 95.5}}));
+    let r = s.post_json(
+        "/api/v1/audits",
+        &json!({"name": "Given", "site": {"atmospheric_pressure_kpa_abs": 95.5}}),
+    );
     let id2 = r.json()["id"].as_i64().unwrap();
     assert_eq!(s.get(&format!("/api/v1/audits/{id2}")).json()["site"]["atmospheric_pressure_kpa_abs"], 95.5);
 }
@@ -109,15 +114,24 @@ fn pages_edit_the_site_and_equipment_and_escape_what_people_type() {
     let id = r.json()["id"].as_i64().unwrap();
     let page = s.get(&format!("/audits/{id}")).text;
     assert!(!page.contains("<script>alert"), "the name must be escaped");
-    assert!(page.contains("&#60;script&#62;alert(") && page.contains("&#60;/script&#62; &#38; Co"), "askama escapes it");
+    assert!(
+        page.contains("&#60;script&#62;alert(") && page.contains("&#60;/script&#62; &#38; Co"),
+        "askama escapes it"
+    );
     let index = s.get("/").text;
     assert!(!index.contains("<script>alert"));
     // A form post edits the site; US units then show on the page.
-    let agent: ureq::Agent = ureq::Agent::config_builder().http_status_as_error(false).max_redirects(0).build().into();
+    let agent: ureq::Agent =
+        ureq::Agent::config_builder().http_status_as_error(false).max_redirects(0).build().into();
     let r = agent
         .post(&s.url(&format!("/audits/{id}/site")))
         .header("Origin", &s.base)
-        .send_form([("name", "Renamed plant"), ("display_units", "us"), ("altitude_m", "500"), ("heating_months", "1, 2, 12")])
+        .send_form([
+            ("name", "Renamed plant"),
+            ("display_units", "us"),
+            ("altitude_m", "500"),
+            ("heating_months", "1, 2, 12"),
+        ])
         .unwrap();
     assert_eq!(r.status().as_u16(), 303);
     let a = s.get(&format!("/api/v1/audits/{id}")).json();
@@ -134,8 +148,16 @@ fn pages_edit_the_site_and_equipment_and_escape_what_people_type() {
     let r = agent
         .post(&s.url(&format!("/audits/{id}/compressors")))
         .header("Origin", &s.base)
-        .send_form([("tag", "K9"), ("kind", "oil_free_screw"), ("control", "variable_speed"), ("cooling", "water"),
-            ("rated_power_kw", "90"), ("rated_flow_m3_min", "15"), ("rated_pressure_bar_g", "8"), ("power_curve", "5:35 10:60 15:90")])
+        .send_form([
+            ("tag", "K9"),
+            ("kind", "oil_free_screw"),
+            ("control", "variable_speed"),
+            ("cooling", "water"),
+            ("rated_power_kw", "90"),
+            ("rated_flow_m3_min", "15"),
+            ("rated_pressure_bar_g", "8"),
+            ("power_curve", "5:35 10:60 15:90"),
+        ])
         .unwrap();
     assert_eq!(r.status().as_u16(), 303);
     let a = s.get(&format!("/api/v1/audits/{id}")).json();
@@ -186,14 +208,28 @@ fn edited_implementation_costs_change_the_payback() {
     let r = s.put_json(&format!("/api/v1/audits/1/costs/{kind}"), &json!({"implementation_cost": 12345.0}));
     assert_eq!(r.status, 200, "{}", r.text);
     let sm = s.get("/api/v1/audits/1/summary").json();
-    let rec = sm["recommendations"].as_array().unwrap().iter().find(|r| r["kind"] == kind.as_str()).unwrap().clone();
+    let rec = sm["recommendations"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|r| r["kind"] == kind.as_str())
+        .unwrap()
+        .clone();
     assert_eq!(rec["implementation_cost"], 12345.0);
     let payback = rec["simple_payback_years"].as_f64().unwrap();
     assert!((payback - 12345.0 / saving).abs() < 1e-9, "payback = cost / saving (API.md)");
     // Ranked by payback.
-    let pb: Vec<f64> = sm["recommendations"].as_array().unwrap().iter().map(|r| r["simple_payback_years"].as_f64().unwrap()).collect();
+    let pb: Vec<f64> = sm["recommendations"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["simple_payback_years"].as_f64().unwrap())
+        .collect();
     assert!(pb.windows(2).all(|w| w[0] <= w[1]), "{pb:?}");
-    assert_eq!(s.put_json("/api/v1/audits/1/costs/paint_pipes", &json!({"implementation_cost": 1})).status, 422);
+    assert_eq!(
+        s.put_json("/api/v1/audits/1/costs/paint_pipes", &json!({"implementation_cost": 1})).status,
+        422
+    );
 }
 
 #[test]

@@ -59,7 +59,14 @@ fn overlapping_readings_are_refused_unless_replaced() {
     assert_eq!(total, 2160, "one hour replaced, none doubled");
 }
 
-fn assert_unprocessable(s: &Server, id: i64, file: &str, mapping: &Value, line: Option<u64>, column: Option<&str>) {
+fn assert_unprocessable(
+    s: &Server,
+    id: i64,
+    file: &str,
+    mapping: &Value,
+    line: Option<u64>,
+    column: Option<&str>,
+) {
     let before = readings(s, id);
     let r = s.upload(id, "bad.csv", file.as_bytes(), mapping, "");
     assert_eq!(r.status, 422, "{}", r.text);
@@ -71,7 +78,10 @@ fn assert_unprocessable(s: &Server, id: i64, file: &str, mapping: &Value, line: 
         assert_eq!(e["column"], c, "{e}");
     }
     assert_eq!(readings(s, id), before, "the database is unchanged");
-    assert_eq!(s.get(&format!("/api/v1/audits/{id}")).json()["uploads"].as_array().unwrap().len() as i64, before.signum());
+    assert_eq!(
+        s.get(&format!("/api/v1/audits/{id}")).json()["uploads"].as_array().unwrap().len() as i64,
+        before.signum()
+    );
 }
 
 #[test]
@@ -120,7 +130,10 @@ fn european_latin1_files_with_preamble_bom_and_markup_import_and_are_escaped() {
     bytes.extend_from_slice(b"Zeit;C1 [kW];Druck [bar];Temp [\xb0C];<b>Flow</b> m3/min\r\n");
     for i in 0..120 {
         let (h, m, sec) = (10 + i * 30 / 3600, (i * 30 / 60) % 60, (i * 30) % 60);
-        bytes.extend_from_slice(format!("04.05.2026 {h:02}:{m:02}:{sec:02};{},5;7,{:02};21,5;3,25\r\n", 40 + i % 3, 10 + i % 7).as_bytes());
+        bytes.extend_from_slice(
+            format!("04.05.2026 {h:02}:{m:02}:{sec:02};{},5;7,{:02};21,5;3,25\r\n", 40 + i % 3, 10 + i % 7)
+                .as_bytes(),
+        );
     }
     let mapping = json!({"delimiter": ";", "decimal": ",", "header_line": 4,
         "timestamp": {"column": "Zeit", "format": "%d.%m.%Y %H:%M:%S", "timezone": "Europe/Berlin"},
@@ -224,7 +237,13 @@ fn a_server_killed_during_an_import_leaves_no_partial_upload() {
     let mut csv = String::from("time,C1 kW,header bar,flow m3/min\n");
     let start = 1_777_881_600i64;
     for i in 0..rows {
-        csv.push_str(&format!("{},{},{:.2},{:.2}\n", jiff_like_rfc3339(start + i), 14 + (i % 40), 6.9 + (i % 30) as f64 / 100.0, 2.0 + (i % 9) as f64 / 10.0));
+        csv.push_str(&format!(
+            "{},{},{:.2},{:.2}\n",
+            jiff_like_rfc3339(start + i),
+            14 + (i % 40),
+            6.9 + (i % 30) as f64 / 100.0,
+            2.0 + (i % 9) as f64 / 10.0
+        ));
     }
     let base = s.base.clone();
     let bytes = csv.clone().into_bytes();
@@ -243,7 +262,8 @@ fn a_server_killed_during_an_import_leaves_no_partial_upload() {
     // Wait until the import is under way (a quarter of the file parsed), then SIGKILL.
     let started = wait_until(std::time::Duration::from_secs(120), || {
         let p = s.get("/api/v1/imports/killtest").json();
-        p["state"] == "importing" && p["bytes_done"].as_f64().unwrap_or(0.0) > 0.25 * p["bytes_total"].as_f64().unwrap_or(1.0)
+        p["state"] == "importing"
+            && p["bytes_done"].as_f64().unwrap_or(0.0) > 0.25 * p["bytes_total"].as_f64().unwrap_or(1.0)
     });
     assert!(started, "the import never started writing");
     s.kill();

@@ -122,7 +122,8 @@ impl Server {
         let boundary = "airledgerTESTboundary7d1a";
         let mut body = Vec::new();
         body.extend_from_slice(
-            format!("--{boundary}\r\nContent-Disposition: form-data; name=\"mapping\"\r\n\r\n{mapping}\r\n").as_bytes(),
+            format!("--{boundary}\r\nContent-Disposition: form-data; name=\"mapping\"\r\n\r\n{mapping}\r\n")
+                .as_bytes(),
         );
         body.extend_from_slice(
             format!("--{boundary}\r\nContent-Disposition: form-data; name=\"file\"; filename=\"{name}\"\r\nContent-Type: text/csv\r\n\r\n")
