@@ -36,6 +36,9 @@ enum Command {
         /// Largest logger file accepted, in MB (bigger uploads get 413).
         #[arg(long, default_value_t = 1024)]
         max_upload_mb: u64,
+        /// Access token; required when binding to anything but loopback.
+        #[arg(long, env = "AIRLEDGER_TOKEN", hide_env_values = true)]
+        token: Option<String>,
     },
     /// Build the demo plant's database if it is missing, then serve it.
     Demo {
@@ -43,6 +46,9 @@ enum Command {
         db: PathBuf,
         #[arg(long, default_value = "127.0.0.1:8080")]
         bind: SocketAddr,
+        /// Access token; required when binding to anything but loopback.
+        #[arg(long, env = "AIRLEDGER_TOKEN", hide_env_values = true)]
+        token: Option<String>,
         /// Build the database and exit without serving.
         #[arg(long)]
         build_only: bool,
@@ -108,21 +114,36 @@ pub fn main() -> ExitCode {
     }
 }
 
-fn config(db: &Path, max_upload_mb: u64) -> Config {
+/// Loopback needs no token; any other address does (it is reachable from the plant network).
+fn check_access(bind: &SocketAddr, token: &Option<String>) -> anyhow::Result<()> {
+    if !bind.ip().is_loopback() && token.as_deref().is_none_or(|t| t.trim().is_empty()) {
+        anyhow::bail!(
+            "binding to {bind} makes the dashboard reachable from other machines: give an access token \
+             with --token or AIRLEDGER_TOKEN (or bind to 127.0.0.1)"
+        );
+    }
+    Ok(())
+}
+
+fn config(db: &Path, max_upload_mb: u64, token: Option<String>) -> Config {
     let spool_dir =
         db.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new(".")).join(".airledger-spool");
-    Config { db_path: db.to_path_buf(), max_upload_bytes: max_upload_mb * 1024 * 1024, spool_dir }
+    Config { db_path: db.to_path_buf(), max_upload_bytes: max_upload_mb * 1024 * 1024, spool_dir, token }
 }
 
 async fn run(command: Command) -> anyhow::Result<()> {
     match command {
-        Command::Serve { db, bind, max_upload_mb } => {
+        Command::Serve { db, bind, max_upload_mb, token } => {
+            check_access(&bind, &token)?;
             let pool = store::open(&db).await?;
-            web::run_server(AppState::new(pool, config(&db, max_upload_mb)), bind).await
+            web::run_server(AppState::new(pool, config(&db, max_upload_mb, token)), bind).await
         }
-        Command::Demo { db, bind, build_only } => {
+        Command::Demo { db, bind, token, build_only } => {
+            if !build_only {
+                check_access(&bind, &token)?;
+            }
             let pool = store::open(&db).await?;
-            let cfg = config(&db, 1024);
+            let cfg = config(&db, 1024, token);
             let id = service::ensure_demo(&pool, &cfg.spool_dir).await?;
             println!("demo plant: audit {id} in {}", db.display());
             if build_only {

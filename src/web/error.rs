@@ -28,6 +28,9 @@ pub enum AppError {
     /// Conflicts with stored data (409).
     #[error("{0}")]
     Conflict(String),
+    /// No or a wrong access token (401).
+    #[error("this server needs an access token: send Authorization: Bearer TOKEN or sign in at /login")]
+    Unauthorized,
     /// Over a size limit (413).
     #[error("{0}")]
     TooLarge(String),
@@ -60,6 +63,7 @@ impl AppError {
             Self::Unprocessable { .. } => StatusCode::UNPROCESSABLE_ENTITY,
             Self::Conflict(_) => StatusCode::CONFLICT,
             Self::TooLarge(_) => StatusCode::PAYLOAD_TOO_LARGE,
+            Self::Unauthorized => StatusCode::UNAUTHORIZED,
             Self::Internal(_) => StatusCode::INTERNAL_SERVER_ERROR,
         }
     }

@@ -3,6 +3,7 @@ The web layer: an axum router over one [`AppState`]. Pages (askama templates) an
 two faces of the same services (`crate::service`); handlers only parse, call and render.
 */
 
+pub mod access;
 pub mod api;
 pub mod assets;
 pub mod error;
@@ -32,6 +33,8 @@ pub struct Config {
     pub max_upload_bytes: u64,
     /// Where uploaded files are spooled before import (next to the database by default).
     pub spool_dir: PathBuf,
+    /// Required from every client when set (see `access`).
+    pub token: Option<String>,
 }
 
 /// What every handler gets.
@@ -70,6 +73,21 @@ async fn security_headers(req: Request<axum::body::Body>, next: Next) -> Respons
     res
 }
 
+/// Every request but an upload must be answered within this time.
+const REQUEST_TIMEOUT: std::time::Duration = std::time::Duration::from_secs(120);
+
+async fn timeout(req: Request<axum::body::Body>, next: Next) -> Response {
+    use axum::response::IntoResponse;
+    // Uploads stream gigabytes on slow links; they are bounded by size instead.
+    if req.uri().path().ends_with("/uploads") {
+        return next.run(req).await;
+    }
+    match tokio::time::timeout(REQUEST_TIMEOUT, next.run(req)).await {
+        Ok(r) => r,
+        Err(_) => (axum::http::StatusCode::SERVICE_UNAVAILABLE, "the request took too long").into_response(),
+    }
+}
+
 /// The whole application, without a socket (tests may drive it directly).
 pub fn build_app(state: AppState) -> Router {
     let upload_limit = DefaultBodyLimit::max(state.config.max_upload_bytes as usize + 64 * 1024);
@@ -98,6 +116,7 @@ pub fn build_app(state: AppState) -> Router {
         .fallback(api::not_found);
     Router::new()
         .route("/", get(pages::index))
+        .route("/login", get(access::login_page).post(access::login))
         .route("/audits", post(pages::create_audit))
         .route("/audits/{id}", get(pages::audit))
         .route("/audits/{id}/site", post(pages::save_site))
@@ -113,6 +132,8 @@ pub fn build_app(state: AppState) -> Router {
         .route("/favicon.ico", get(assets::favicon))
         .nest("/api/v1", api)
         .fallback(pages::not_found)
+        .layer(middleware::from_fn_with_state(state.clone(), access::guard))
+        .layer(middleware::from_fn(timeout))
         .layer(middleware::from_fn(security_headers))
         .with_state(state)
 }

@@ -49,10 +49,12 @@
         }
       });
       if (!datasets.length) datasets.push({ label: "not logged", data: [] });
+      const xs = list.flatMap((it) => [it.s.t_ms[0], it.s.t_ms[it.s.t_ms.length - 1]]).filter((x) => x !== undefined);
+      const x = Object.assign({}, timeAxis, xs.length ? { min: Math.min(...xs), max: Math.max(...xs) } : {});
       make("chart-" + quantity, {
         type: "line",
         data: { datasets: datasets },
-        options: { parsing: false, scales: { x: timeAxis }, plugins: { legend: { labels: { filter: (it) => !/\((min|max)\)$/.test(it.text) } } } },
+        options: { parsing: false, scales: { x: x }, plugins: { legend: { labels: { filter: (it) => !/\((min|max)\)$/.test(it.text) } } } },
       });
     }
   }
@@ -88,9 +90,8 @@
   make("chart-leaks", {
     type: "bar",
     data: { labels: d.leaks.map((l) => l.label.replace(/_/g, " ")), datasets: [
-      { label: "leak flow", data: d.leaks.map((l) => l.y), backgroundColor: palette[3] },
-      { label: "low", data: d.leaks.map((l) => l.low), backgroundColor: palette[3] + "55" },
-      { label: "high", data: d.leaks.map((l) => l.high), backgroundColor: palette[3] + "33" },
+      { label: "leak flow at operating pressure", data: d.leaks.map((l) => l.y), backgroundColor: palette[3] },
+      { label: "uncertainty range (low to high)", data: d.leaks.map((l) => [l.low, l.high]), backgroundColor: palette[3] + "44" },
     ] },
     options: { scales: { y: { beginAtZero: true, title: { display: true, text: u.flow } } } },
   });

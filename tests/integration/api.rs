@@ -254,3 +254,74 @@ fn report_json_from_the_cli_matches_the_api() {
     let html = String::from_utf8_lossy(&html.stdout);
     assert!(html.contains("Recommendations, ranked by simple payback"));
 }
+
+#[test]
+fn a_token_guards_every_page_and_endpoint_and_a_cookie_signs_in() {
+    let s = Server::start_with(&["serve"], &["--token", "plant-floor-7"]);
+    // Without the token: 401 on the API and on pages; static files stay open.
+    let r = s.get("/api/v1/audits");
+    assert_eq!(r.status, 401);
+    assert!(r.json()["error"]["message"].as_str().unwrap().contains("token"));
+    assert_eq!(s.get("/").status, 401);
+    assert_eq!(s.get("/static/css/app.css").status, 200);
+    let agent: ureq::Agent =
+        ureq::Agent::config_builder().http_status_as_error(false).max_redirects(0).build().into();
+    // A bearer token opens the API; a wrong one does not.
+    let ok =
+        agent.get(&s.url("/api/v1/audits")).header("Authorization", "Bearer plant-floor-7").call().unwrap();
+    assert_eq!(ok.status().as_u16(), 200);
+    let bad =
+        agent.get(&s.url("/api/v1/audits")).header("Authorization", "Bearer plant-floor-8").call().unwrap();
+    assert_eq!(bad.status().as_u16(), 401);
+    // The sign-in page sets an HttpOnly, SameSite=Strict cookie that opens the pages.
+    let r = agent
+        .post(&s.url("/login"))
+        .header("Origin", &s.base)
+        .send_form([("token", "plant-floor-7")])
+        .unwrap();
+    assert_eq!(r.status().as_u16(), 303);
+    let cookie = r.headers().get("set-cookie").unwrap().to_str().unwrap().to_string();
+    assert!(cookie.contains("HttpOnly") && cookie.contains("SameSite=Strict"), "{cookie}");
+    assert!(!cookie.contains("plant-floor-7"), "the cookie does not hold the token itself");
+    let pair = cookie.split(';').next().unwrap();
+    let page = agent.get(&s.url("/")).header("Cookie", pair).call().unwrap();
+    assert_eq!(page.status().as_u16(), 200);
+    let r = agent.post(&s.url("/login")).header("Origin", &s.base).send_form([("token", "guess")]).unwrap();
+    assert_eq!(r.status().as_u16(), 401);
+}
+
+#[test]
+fn a_non_loopback_bind_without_a_token_refuses_to_start() {
+    let out = std::process::Command::new(binary())
+        .args(["serve", "--db"])
+        .arg(std::env::temp_dir().join(format!("airledger-refuse-{}.sqlite", std::process::id())))
+        .args(["--bind", "0.0.0.0:0"])
+        .env_remove("AIRLEDGER_TOKEN")
+        .output()
+        .unwrap();
+    assert!(!out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("--token") && err.contains("AIRLEDGER_TOKEN"), "{err}");
+}
+
+#[test]
+fn a_cross_origin_write_is_403_and_changes_nothing() {
+    let s = Server::start();
+    let agent: ureq::Agent = ureq::Agent::config_builder().http_status_as_error(false).build().into();
+    let r = agent
+        .post(&s.url("/api/v1/audits"))
+        .header("Origin", "http://evil.example")
+        .send_json(json!({"name": "planted"}))
+        .unwrap();
+    assert_eq!(r.status().as_u16(), 403);
+    let r = agent
+        .post(&s.url("/audits"))
+        .header("Sec-Fetch-Site", "cross-site")
+        .send_form([("name", "planted")])
+        .unwrap();
+    assert_eq!(r.status().as_u16(), 403);
+    assert_eq!(s.get("/api/v1/audits").json()["audits"].as_array().unwrap().len(), 0);
+    // Reads from anywhere are harmless and still answered.
+    let r = agent.get(&s.url("/api/v1/audits")).header("Origin", "http://evil.example").call().unwrap();
+    assert_eq!(r.status().as_u16(), 200);
+}
