@@ -108,3 +108,89 @@ mod tests {
         assert_eq!(f.to_string(), "unknown power unit \"kw/h\" [columns[0].unit]");
     }
 }
+
+/// Hostile input: the sniffer, the number and timestamp parsers, the streaming parser and the
+/// mapping JSON must answer every input with a value or an error, never a panic (issue 6). These
+/// are property tests with many cases, run in CI in place of a coverage-guided fuzzer.
+#[cfg(test)]
+mod hostile_input {
+    use super::*;
+    use crate::core::units::SiteAir;
+    use proptest::prelude::*;
+
+    fn csvish() -> impl Strategy<Value = Vec<u8>> {
+        // Bytes biased towards what logger files contain, so that the parsers get past the header.
+        let piece = prop_oneof![
+            Just(b",".to_vec()),
+            Just(b";".to_vec()),
+            Just(b"\t".to_vec()),
+            Just(b"\n".to_vec()),
+            Just(b"\r\n".to_vec()),
+            Just(b"\"".to_vec()),
+            Just(b"2026-03-29T02:30:00".to_vec()),
+            Just(b"29.03.2026 02:30:00".to_vec()),
+            Just(b"12/31/2026 11:59:59 PM".to_vec()),
+            Just(b"1772000000".to_vec()),
+            Just(b"45678.5".to_vec()),
+            Just(b"-1e309".to_vec()),
+            Just(b"7,25".to_vec()),
+            Just(b"NaN".to_vec()),
+            Just(b"---".to_vec()),
+            Just(b"\xef\xbb\xbf".to_vec()),
+            Just(b"\xb0C".to_vec()),
+            Just(b"time".to_vec()),
+            Just(b"C1 kW".to_vec()),
+            proptest::collection::vec(any::<u8>(), 0..8),
+        ];
+        proptest::collection::vec(piece, 0..80).prop_map(|v| v.concat())
+    }
+
+    fn mapping() -> Mapping {
+        serde_json::from_str(
+            r#"{"delimiter": ",", "decimal": ".", "header_line": 1,
+                "timestamp": {"column": "time", "format": "rfc3339", "timezone": "Europe/Berlin"},
+                "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"}]}"#,
+        )
+        .expect("mapping")
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 2000, ..ProptestConfig::default() })]
+
+        #[test]
+        fn the_sniffer_never_panics(bytes in csvish()) {
+            if let Ok(s) = sniff(&bytes) {
+                let _ = suggest_mapping(&s);
+                let _ = layout_key(&s.header);
+            }
+        }
+
+        #[test]
+        fn the_streaming_parser_never_panics(body in csvish()) {
+            let mut file = b"time,C1 kW\n".to_vec();
+            file.extend_from_slice(&body);
+            let mut sink: Vec<(usize, i64, f64)> = Vec::new();
+            let site = SiteAir::new(101.325, 20.0);
+            let _ = parse_stream(std::io::Cursor::new(file), &mapping(), &site, &mut sink, &mut |_| {});
+            for (_, _, v) in &sink {
+                prop_assert!(v.is_finite());
+            }
+        }
+
+        #[test]
+        fn numbers_never_panic(bytes in proptest::collection::vec(any::<u8>(), 0..40)) {
+            let _ = number::parse_cell(&bytes, b'.');
+            let _ = number::parse_cell(&bytes, b',');
+        }
+
+        #[test]
+        fn mapping_json_never_panics(text in "\\PC{0,300}", fmt in "[%a-zA-Z:./ -]{0,24}") {
+            if let Ok(m) = serde_json::from_str::<Mapping>(&text) {
+                let _ = channel_defs(&m);
+            }
+            let mut m = mapping();
+            m.timestamp.format = fmt;
+            let _ = mapping::plan(&m, &["time".to_string(), "C1 kW".to_string()]);
+        }
+    }
+}
