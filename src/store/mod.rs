@@ -75,3 +75,52 @@ pub async fn backup(pool: &SqlitePool, out: &Path) -> Result<(), StoreError> {
     sqlx::query("VACUUM INTO ?").bind(out.display().to_string()).execute(pool).await?;
     Ok(())
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Schema changes are tested from the first shipped schema forward on a database with data.
+    #[tokio::test]
+    async fn migrations_apply_forward_from_the_first_schema_keeping_data() {
+        let dir = std::env::temp_dir().join(format!("airledger-migrate-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        let path = dir.join("m.sqlite");
+        let opts = SqliteConnectOptions::from_str(&format!("sqlite://{}", path.display()))
+            .unwrap()
+            .create_if_missing(true)
+            .foreign_keys(true);
+        let pool = SqlitePoolOptions::new().max_connections(1).connect_with(opts).await.unwrap();
+        // The first shipped schema only, with data in it.
+        let all = sqlx::migrate!("./migrations");
+        let mut first = sqlx::migrate!("./migrations");
+        first.migrations = std::borrow::Cow::Owned(all.migrations.iter().take(1).cloned().collect());
+        first.run(&pool).await.unwrap();
+        sqlx::query("INSERT INTO audit (name, created_at) VALUES ('kept', '2026-01-01T00:00:00Z')")
+            .execute(&pool)
+            .await
+            .unwrap();
+        sqlx::query(
+            "INSERT INTO compressor (audit_id, tag, kind, control, cooling, rated_power_kw, rated_flow_m3_min, \
+             rated_pressure_bar_g, unloaded_power_fraction) VALUES (1, 'C1', 'lubricated_screw', 'load_unload', 'air', 55, 9.5, 7.5, 0.25)",
+        )
+        .execute(&pool)
+        .await
+        .unwrap();
+        pool.close().await;
+        // Then open as the server does: every later migration applies and the data is there.
+        let pool = open(&path).await.unwrap();
+        let name: String =
+            sqlx::query_scalar("SELECT name FROM audit WHERE id = 1").fetch_one(&pool).await.unwrap();
+        assert_eq!(name, "kept");
+        let n: i64 = sqlx::query_scalar("SELECT count(*) FROM compressor").fetch_one(&pool).await.unwrap();
+        assert_eq!(n, 1);
+        let applied: i64 =
+            sqlx::query_scalar("SELECT count(*) FROM _sqlx_migrations").fetch_one(&pool).await.unwrap();
+        assert_eq!(applied as usize, all.migrations.len());
+        assert!(all.migrations.len() >= 2, "there is a later migration to apply");
+        pool.close().await;
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+}
