@@ -75,4 +75,45 @@
       box.replaceChildren(t);
     } catch (e) { box.replaceChildren(A.el("p", { class: "warn" }, e.message)); }
   })();
+
+  // A chart of pressure and flow to pick a window by two clicks.
+  (async function windowChart() {
+    const canvas = document.getElementById("chart-window");
+    if (!canvas || typeof Chart === "undefined") return;
+    const st = document.getElementById("window-status");
+    const chans = (await A.json(base + "/channels")).channels.filter((c) => c.quantity === "pressure" || c.quantity === "flow");
+    if (!chans.length) { st.textContent = "No pressure or flow logged yet."; return; }
+    const datasets = [];
+    for (const c of chans) {
+      const s = await A.json(base + "/series?channel=" + c.id + "&points=600");
+      const atm = data.atmosphere_pa;
+      const f = c.quantity === "pressure" ? (v) => (v - atm) / 1e5 : (v) => v * 60;
+      datasets.push({ label: c.quantity === "pressure" ? c.label + ", bar(g)" : c.label + ", m\u00b3/min free air",
+        data: s.t_ms.map((t, i) => ({ x: t, y: f(s.mean[i]) })), yAxisID: c.quantity === "pressure" ? "p" : "q",
+        pointRadius: 0, borderWidth: 1.2, borderColor: c.quantity === "pressure" ? "#0f4c5c" : "#f2a541" });
+    }
+    const xs = datasets.flatMap((d) => d.data.length ? [d.data[0].x, d.data[d.data.length - 1].x] : []);
+    let picks = [];
+    const chart = new Chart(canvas, {
+      type: "line", data: { datasets: datasets },
+      options: { animation: false, maintainAspectRatio: false, parsing: false,
+        scales: { x: { type: "linear", min: Math.min(...xs), max: Math.max(...xs), ticks: { maxTicksLimit: 7, callback: (v) => new Date(v).toISOString().slice(5, 16).replace("T", " ") } },
+          p: { position: "left", title: { display: true, text: "bar(g)" } }, q: { position: "right", title: { display: true, text: "m\u00b3/min free air" }, grid: { drawOnChartArea: false } } },
+        onClick: (e) => {
+          const t = Math.round(chart.scales.x.getValueForPixel(e.x));
+          picks = picks.length >= 2 ? [t] : picks.concat([t]);
+          if (picks.length === 2) {
+            picks.sort((a, b) => a - b);
+            const [a, b] = picks.map((x) => new Date(x).toISOString().replace(".000Z", "Z"));
+            for (const form of document.querySelectorAll("form[data-test-kind=idle_flow], form[data-test-kind=pressure_decay]")) {
+              form.elements.start.value = a;
+              form.elements.end.value = b;
+            }
+            st.textContent = "Window " + a + " to " + b + " set in the forms below.";
+          } else {
+            st.textContent = "Start " + new Date(t).toISOString() + ": click the end.";
+          }
+        } },
+    });
+  })().catch((e) => console.warn(e.message));
 })();
