@@ -595,7 +595,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
     methods.push(m(
         "energy_kwh",
         "Σ over compressors of ∫ P dt over logged bins",
-        "series alignment rules; FIELD-NOTES §8",
+        "time-weighted integration of synchronised logger intervals (ISO 11011 measurement practice)",
     ));
 
     // Flow figures.
@@ -661,12 +661,12 @@ pub fn summarize(input: &AuditInput) -> Summary {
     methods.push(m(
         "specific_power_kw_per_m3_min",
         "Σ P / Σ Q over bins where both power and flow exist (interval-synchronous)",
-        "FIELD-NOTES §3 (ISO 1217 specific package input power)",
+        "ISO 1217 specific package input power, computed interval by interval",
     ));
     methods.push(m(
         "isothermal_efficiency",
         "Σ p_atm Q ln(p_header / p_atm) / Σ P over bins with power, flow and pressure",
-        "FIELD-NOTES §7",
+        "ideal-gas isothermal compression work (checked against the Python library fluids)",
     ));
 
     // Air per compressor (meter on the machine, else estimated) and the data-sheet comparison.
@@ -727,7 +727,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
     methods.push(m(
         "marginal_kw_per_m3_min",
         "trim machine's part-load slope: load/unload (P_full - P_unl)/Q; modulation 0.30 P/Q; VSD curve slope; start/stop P/Q",
-        "FIELD-NOTES §4, §5",
+        "US DOE compressed-air sourcebook: part-load behaviour by control",
     ));
 
     // Production hours.
@@ -795,16 +795,20 @@ pub fn summarize(input: &AuditInput) -> Summary {
     let demand_charge = site.demand_charge_per_kw_month * peak_kw * 12.0;
     let annual_cost = energy_cost + demand_charge;
     let cost_per_1000_m3 = sp.map(|s| s / 60.0 * 1000.0 * site.electricity_price_per_kwh);
-    methods.push(m("annual_energy_kwh", &rule_text, "API.md (logged pattern over the operating weeks)"));
+    methods.push(m(
+        "annual_energy_kwh",
+        &rule_text,
+        "the logged weekly pattern repeated over the operating weeks (airledger's documented rule)",
+    ));
     methods.push(m(
         "annual_cost",
         "annual kWh × price + demand charge × peak 15-min kW × 12",
-        "FIELD-NOTES §9",
+        "US DOE compressed-air tip sheet 1 (annual energy cost)",
     ));
     methods.push(m(
         "cost_per_1000_m3",
         "specific power / 60 (kWh/m³) × 1000 × price; per 1000 ft³ = kW/100 cfm / 6 × price",
-        "FIELD-NOTES §2, §9",
+        "kW/(m³/min) = kW/100 cfm × 0.353147; US DOE tip sheet 1",
     ));
 
     // Per compressor: heat and the figures the measures need.
@@ -961,7 +965,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
     methods.push(m(
         "recoverable_kwh",
         "recoverable fraction (kind, cooling) × input energy; valued as fuel displaced in the months of use",
-        "US DOE heat-recovery fact sheet; FIELD-NOTES §7",
+        "US DOE heat-recovery fact sheet",
     ));
 
     // Leaks.
@@ -1023,7 +1027,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
     methods.push(m(
         "annual_leak_cost",
         "leak flow × marginal kW/(m³/min) × annual running hours × price",
-        "FIELD-NOTES §5 (marginal, not average, specific power)",
+        "US DOE sourcebook, leaks fact sheet; priced at the marginal (trim) specific power, not the average",
     ));
 
     // Control case: the trim on a variable-speed curve, over 5-minute windows of its delivered air.

@@ -47,9 +47,26 @@ macro_rules! str_enum {
                 match s { $($s => Some(Self::$v),)* _ => None }
             }
             pub const ALL: &'static [Self] = &[$(Self::$v),*];
+            /// The name a person reads ("load/unload", "lubricated screw").
+            pub fn label(self) -> String {
+                human_label(self.as_str())
+            }
         }
     };
 }
+/// A code as words: `load_unload` -> "load/unload", `lubricated_screw` -> "lubricated screw".
+pub fn human_label(code: &str) -> String {
+    match code {
+        "load_unload" => "load/unload".into(),
+        "start_stop" => "start/stop".into(),
+        "bleed_down" => "bleed-down test".into(),
+        "idle_flow" => "idle flow in a logged window".into(),
+        "pressure_decay" => "pressure decay fitted in the logs".into(),
+        "non_production_flow" => "mean flow out of production (from the logs, an upper bound)".into(),
+        other => other.replace('_', " "),
+    }
+}
+
 str_enum!(CompressorKind {
     LubricatedScrew => "lubricated_screw",
     OilFreeScrew => "oil_free_screw",

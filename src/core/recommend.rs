@@ -284,7 +284,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
                 format!("repair fraction {:.2}", opts.leak_repair_fraction),
                 format!("marginal specific power {:.3} kW/(m³/min) ({trim_tag})", r.marginal_kw_per_m3_min),
                 format!("running hours {:.0} h/yr", r.annual_running_hours),
-            ], formula: "saving = f × Q_leak × marginal kW/(m³/min) × running hours (≤ trim energy above idle)", source: "US DOE compressed-air sourcebook (leaks fact sheet); marginal cost of air per FIELD-NOTES §5", caution: None }));
+            ], formula: "saving = f × Q_leak × marginal kW/(m³/min) × running hours (≤ trim energy above idle)", source: "US DOE compressed-air sourcebook (leaks fact sheet); priced at the marginal (trim) specific power", caution: None }));
     }
 
     // Lower pressure.
@@ -306,7 +306,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
                     format!("annual compressor energy {:.0} kWh", r.annual_energy_kwh),
                     format!("unregulated demand incl. leaks {q_unreg:.3} m³/min -> {dq:.3} m³/min less"),
                     format!("marginal specific power {:.3} kW/(m³/min)", r.marginal_kw_per_m3_min),
-                ], formula: "saving = E × 1 % × Δp / 0.138 bar + Q_unreg Δp / p_abs × marginal kW/(m³/min) × hours", source: "US DOE compressed-air sourcebook (1 % of input per 2 psi); FIELD-NOTES §6", caution: Some("check that every point of use keeps the pressure its tools need; lower in steps".into()) }));
+                ], formula: "saving = E × 1 % × Δp / 0.138 bar + Q_unreg Δp / p_abs × marginal kW/(m³/min) × hours", source: "US DOE compressed-air sourcebook (1 % of input per 2 psi)", caution: Some("check that every point of use keeps the pressure its tools need; lower in steps".into()) }));
         }
     }
 
@@ -320,7 +320,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
                 format!("heater efficiency {:.2}", r.site.heater_efficiency),
                 format!("fuel price {} per kWh", r.site.heating_fuel_price_per_kwh),
                 format!("recoverable heat {:.1} kW at full load", h.recoverable_kw),
-            ], formula: "saving = useful heat / heater efficiency × fuel price, in the months the heat is used", source: "US DOE compressed-air sourcebook, heat-recovery fact sheet; FIELD-NOTES §7", caution: Some(
+            ], formula: "saving = useful heat / heater efficiency × fuel price, in the months the heat is used", source: "US DOE compressed-air sourcebook, heat-recovery fact sheet", caution: Some(
                 "hot oil, hot ducts and water above 60 °C; interlock the recovery circuit so a blocked \
                  circuit never stops the compressor's own cooling; defer to local codes and licensed practice"
                     .into(),
@@ -341,7 +341,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
         out.extend(finish(r, Draft { kind: "shut_off_idle", title: format!("Switch off idling compressors out of production ({})", tags.join(", ")), description: "Outside production hours these machines run unloaded; a timer or sequencer rule stops them."
                 .into(), saving_kwh: kwh, money: None, cost_ctx: CostContext { compressors: idle.len() as f64, ..Default::default() }, basis: idle.iter()
                 .map(|(i, k)| format!("{} unloaded out of production {k:.0} kWh/yr", r.compressors[*i].tag))
-                .collect(), formula: "saving = Σ energy spent unloaded in non-production hours (annualised)", source: "FIELD-NOTES §4 (unloaded power 15-35 % of full); common practice", caution: Some(
+                .collect(), formula: "saving = Σ energy spent unloaded in non-production hours (annualised)", source: "US DOE sourcebook (unloaded power 15-35 % of full load); common practice", caution: Some(
                 "only where nothing needs air at those hours; leaks and dryers still draw while pressurized"
                     .into(),
             ) }));
@@ -382,7 +382,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
                     format!("same demand on {}: {:.0} kWh/yr", c.curve, c.modelled_annual_kwh),
                 ],
                 formula: "saving = logged trim energy - Σ P_vsd(mean trim flow per 5 min) × time",
-                source: "FIELD-NOTES §4 part-load behaviour by control",
+                source: "US DOE sourcebook: part-load behaviour by control",
                 caution: None,
             },
         ));

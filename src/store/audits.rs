@@ -34,6 +34,13 @@ pub struct AuditListItem {
     pub uploads: i64,
 }
 
+impl AuditListItem {
+    /// The creation date without the time.
+    pub fn created_date(&self) -> &str {
+        self.created_at.get(..10).unwrap_or(&self.created_at)
+    }
+}
+
 /// A stored logger file.
 #[derive(Debug, Clone, Serialize)]
 pub struct UploadRecord {

@@ -163,8 +163,8 @@ struct AuditPage {
     atmosphere_source: &'static str,
     system_volume_m3: f64,
     heating_months: String,
-    kinds: Vec<&'static str>,
-    controls: Vec<&'static str>,
+    kinds: Vec<(&'static str, String)>,
+    controls: Vec<(&'static str, String)>,
     error: Option<String>,
 }
 
@@ -184,8 +184,8 @@ fn audit_page(b: AuditBundle, error: Option<String>) -> AuditPage {
         fmt,
         system_volume_m3,
         heating_months,
-        kinds: CompressorKind::ALL.iter().map(|k| k.as_str()).collect(),
-        controls: Control::ALL.iter().map(|k| k.as_str()).collect(),
+        kinds: CompressorKind::ALL.iter().map(|k| (k.as_str(), k.label())).collect(),
+        controls: Control::ALL.iter().map(|k| (k.as_str(), k.label())).collect(),
         audit: b.audit,
         compressors: b.compressors,
         receivers: b.receivers,

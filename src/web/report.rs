@@ -15,6 +15,7 @@ use super::error::AppError;
 use super::pages::{render, PageError};
 use super::AppState;
 use crate::core::display::{num, Fmt};
+use crate::core::model::human_label;
 use crate::core::units::{UnitSystem, M3_PER_FT3, PA_PER_PSI};
 use crate::service::{self, AuditBundle};
 use crate::store::audits::Audit;
@@ -116,6 +117,26 @@ pub struct ReportView {
     pub assumptions: Vec<String>,
     pub baseline_rule: String,
     pub chart_data: Value,
+}
+
+/// What a summary field is called on paper.
+fn figure_label(code: &str) -> String {
+    let words = match code {
+        "energy_kwh" => "Energy of the compressors",
+        "specific_power_kw_per_m3_min" => "System specific power",
+        "isothermal_efficiency" => "Isothermal efficiency",
+        "marginal_kw_per_m3_min" => "Marginal specific power (trim machine)",
+        "annual_energy_kwh" => "Annual energy",
+        "annual_cost" => "Annual cost",
+        "cost_per_1000_m3" => "Cost of air",
+        "annual_leak_cost" => "Annual cost of leaks",
+        "air_m3" => "Free air delivered",
+        "loaded_fraction" => "Loaded fraction",
+        "heat_rejected_kwh" => "Heat rejected",
+        "recoverable_kwh" => "Recoverable heat",
+        other => return human_label(other.trim_end_matches("_kwh").trim_end_matches("_m3_min")),
+    };
+    words.to_string()
 }
 
 fn range(fmt_one: impl Fn(f64) -> String, v: f64, lo: f64, hi: f64) -> String {
@@ -295,7 +316,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
             a.iter()
                 .map(|c| CompressorRow {
                     tag: s(c, "tag").into(),
-                    control: s(c, "control").into(),
+                    control: human_label(s(c, "control")),
                     energy: fmt.energy_kwh(g(c, "energy_kwh")),
                     mean_power: fmt.power_kw(g(c, "mean_power_kw")),
                     loaded: fmt.percent(g(c, "loaded_fraction") + g(c, "part_load_fraction").max(0.0)),
@@ -315,8 +336,8 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
         .iter()
         .map(|e| LeakRow {
             method: match e["test_id"].as_i64() {
-                Some(id) => format!("{} (test {id})", s(e, "method")),
-                None => s(e, "method").to_string(),
+                Some(id) => format!("{} (test {id})", human_label(s(e, "method"))),
+                None => human_label(s(e, "method")),
             },
             flow: range(
                 |x| fmt.flow_m3_min(x),
@@ -474,7 +495,14 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
         .channels
         .iter()
         .filter(|c| c.quantity != "temperature")
-        .map(|c| serde_json::json!({"id": c.id, "quantity": if c.quantity == "energy" { "power" } else { c.quantity.as_str() }, "name": c.name(), "counter": c.quantity == "energy"}))
+        .map(|c| {
+            let name = match (&c.compressor_tag, c.quantity.as_str()) {
+                (Some(t), _) => t.clone(),
+                (None, "pressure") => format!("pressure at {}", c.label),
+                (None, q) => format!("{q} at {}", c.label),
+            };
+            serde_json::json!({"id": c.id, "quantity": if c.quantity == "energy" { "power" } else { c.quantity.as_str() }, "name": name, "counter": c.quantity == "energy"})
+        })
         .collect();
     let input_kwh = g(sm, "baseline.annual_energy_kwh");
     let chart_data = serde_json::json!({
@@ -503,7 +531,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
             "low": g(e, "leak_flow_m3_min_low") * flow_k, "high": g(e, "leak_flow_m3_min_high") * flow_k})).collect::<Vec<_>>(),
         "heat_balance": {
             "labels": ["electrical input", "heat rejected", "recoverable", "used (displaces fuel)"],
-            "kwh": [input_kwh, g(sm, "heat.annual_heat_rejected_kwh"), g(sm, "heat.annual_recoverable_kwh"), g(sm, "heat.useful_heat_kwh_per_year")],
+            "mwh": [input_kwh / 1000.0, g(sm, "heat.annual_heat_rejected_kwh") / 1000.0, g(sm, "heat.annual_recoverable_kwh") / 1000.0, g(sm, "heat.useful_heat_kwh_per_year") / 1000.0],
         },
     });
     let period = format!(

@@ -20,7 +20,7 @@
     return charts[id];
   }
 
-  const timeAxis = { type: "linear", ticks: { maxTicksLimit: 7, callback: (v) => fmtTime(v) } };
+  const timeAxis = { type: "linear", ticks: { maxTicksLimit: window.innerWidth < 640 ? 4 : 7, maxRotation: 0, callback: (v) => fmtTime(v) } };
   const u = d.units;
   const convert = {
     power: (v) => v / 1000,
@@ -97,7 +97,7 @@
   });
   make("chart-heat", {
     type: "bar",
-    data: { labels: d.heat_balance.labels, datasets: [{ label: "kWh per year", data: d.heat_balance.kwh, backgroundColor: [palette[0], palette[3], palette[1], palette[2]] }] },
+    data: { labels: d.heat_balance.labels, datasets: [{ label: "MWh per year", data: d.heat_balance.mwh, backgroundColor: [palette[0], palette[3], palette[1], palette[2]] }] },
     options: { indexAxis: "y", plugins: { legend: { display: false } }, scales: { x: { beginAtZero: true } } },
   });
 

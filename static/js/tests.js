@@ -63,7 +63,8 @@
       const tb = A.el("tbody");
       for (const ev of r.events) {
         const accept = A.el("button", { type: "button" }, "accept as test");
-        const start = new Date(ev.start_ms).toISOString(), end = new Date(ev.end_ms).toISOString();
+        const iso = (ms) => new Date(ms).toISOString().replace(".000Z", "Z");
+        const start = iso(ev.start_ms), end = iso(ev.end_ms);
         accept.addEventListener("click", () => post({ kind: "pressure_decay", start: start, end: end }));
         tb.append(A.el("tr", {}, A.el("td", {}, start), A.el("td", {}, end),
           A.el("td", {}, ev.start_pressure_bar_g.toFixed(2) + " \u2192 " + ev.end_pressure_bar_g.toFixed(2) + " bar(g)"),
@@ -72,7 +73,7 @@
           A.el("td", { class: "num" }, ev.fit_r2.toFixed(3)), A.el("td", {}, accept)));
       }
       t.append(tb);
-      box.replaceChildren(t);
+      box.replaceChildren(A.el("div", { class: "scroll" }, t));
     } catch (e) { box.replaceChildren(A.el("p", { class: "warn" }, e.message)); }
   })();
 
