@@ -395,3 +395,52 @@ pub async fn ensure_demo(db: &SqlitePool, spool_dir: &Path) -> anyhow::Result<i6
     }
     Ok(id)
 }
+
+/// Replay the logged demand through a changed compressor room (`core::simulate`) and store it.
+pub async fn add_scenario(
+    db: &SqlitePool,
+    id: i64,
+    body: serde_json::Value,
+) -> Result<(i64, serde_json::Value), AppError> {
+    use crate::core::simulate::{self, Scenario, SimInput};
+    let b = bundle(db, id).await?;
+    let scenario: Scenario = serde_json::from_value(body.clone()).map_err(|e| AppError::Unprocessable {
+        message: format!("this scenario cannot be read: {e}"),
+        line: None,
+        column: None,
+        field: Some("changes".into()),
+    })?;
+    if scenario.name.trim().is_empty() {
+        return Err(AppError::field("name", "the scenario needs a name"));
+    }
+    let Some(frame) = frame_for(db, &b, None).await? else {
+        return Err(AppError::field("changes", "the audit has no logger data to replay yet"));
+    };
+    // The leak estimate the summary adopted, if any: it is the part of demand that follows pressure.
+    let summary = summary_json(db, id, None).await?;
+    let leak = summary["leaks"]["adopted_leak_flow_m3_min"].as_f64();
+    let specs = b.specs();
+    let storage = b.storage();
+    let site = b.audit.site.air();
+    let result = tokio::task::spawn_blocking(move || {
+        simulate::run(
+            &SimInput {
+                frame: &frame,
+                compressors: &specs,
+                storage: &storage,
+                site: &site,
+                leak_flow_m3_min: leak,
+            },
+            &scenario,
+        )
+        .map(|r| (scenario.name.clone(), r))
+    })
+    .await
+    .map_err(|e| AppError::Internal(e.into()))?
+    .map_err(|e| AppError::field(&e.field, e.message))?;
+    let (name, r) = result;
+    let value = serde_json::to_value(&r).map_err(|e| AppError::Internal(e.into()))?;
+    let changes = body.get("changes").cloned().unwrap_or(serde_json::json!([]));
+    let sid = audits::add_scenario(db, id, &name, &changes, &value, b.audit.revision).await?;
+    Ok((sid, value))
+}

@@ -25,6 +25,7 @@ pub mod leaks;
 pub mod model;
 pub mod recommend;
 pub mod series;
+pub mod simulate;
 pub mod states;
 pub mod thermo;
 pub mod units;

@@ -575,3 +575,64 @@ pub async fn bump(tx: &mut sqlx::SqliteConnection, audit_id: i64) -> Result<(), 
         .await?;
     Ok(())
 }
+
+/// A stored what-if scenario with its result.
+#[derive(Debug, Clone, Serialize)]
+pub struct ScenarioRecord {
+    pub id: i64,
+    pub name: String,
+    pub changes: serde_json::Value,
+    pub result: serde_json::Value,
+    pub revision: i64,
+    pub created_at: String,
+}
+
+pub async fn scenarios(pool: &SqlitePool, audit_id: i64) -> Result<Vec<ScenarioRecord>, StoreError> {
+    let rows = sqlx::query(
+        "SELECT id, name, changes, result, revision, created_at FROM scenario WHERE audit_id = ? ORDER BY id",
+    )
+    .bind(audit_id)
+    .fetch_all(pool)
+    .await?;
+    Ok(rows
+        .iter()
+        .map(|r| {
+            let c: String = r.get("changes");
+            let o: String = r.get("result");
+            ScenarioRecord {
+                id: r.get("id"),
+                name: r.get("name"),
+                changes: serde_json::from_str(&c).unwrap_or_default(),
+                result: serde_json::from_str(&o).unwrap_or_default(),
+                revision: r.get("revision"),
+                created_at: r.get("created_at"),
+            }
+        })
+        .collect())
+}
+
+/// Store a scenario. It does not bump the revision: a what-if changes no figure of the audit.
+pub async fn add_scenario(
+    pool: &SqlitePool,
+    audit_id: i64,
+    name: &str,
+    changes: &serde_json::Value,
+    result: &serde_json::Value,
+    revision: i64,
+) -> Result<i64, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let id = sqlx::query(
+        "INSERT INTO scenario (audit_id, name, changes, result, revision, created_at) VALUES (?, ?, ?, ?, ?, ?)",
+    )
+    .bind(audit_id)
+    .bind(name)
+    .bind(changes.to_string())
+    .bind(result.to_string())
+    .bind(revision)
+    .bind(now_rfc3339())
+    .execute(&mut *tx)
+    .await?
+    .last_insert_rowid();
+    tx.commit().await?;
+    Ok(id)
+}

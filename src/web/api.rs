@@ -524,3 +524,18 @@ pub async fn calc_compression(
         }),
     ))
 }
+
+pub async fn add_scenario(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    ApiJson(body): ApiJson<serde_json::Value>,
+) -> Result<Response, AppError> {
+    let (sid, result) = service::add_scenario(&st.db, id, body).await?;
+    Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": sid, "result": result })))
+}
+
+pub async fn list_scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
+    service::bundle(&st.db, id).await?;
+    let list = audits::scenarios(&st.db, id).await?;
+    Ok(json(StatusCode::OK, &serde_json::json!({ "scenarios": list })))
+}

@@ -25,6 +25,7 @@ const ASSETS: &[Asset] = &[
     asset!("js/upload.js", "text/javascript; charset=utf-8"),
     asset!("js/report.js", "text/javascript; charset=utf-8"),
     asset!("js/tests.js", "text/javascript; charset=utf-8"),
+    asset!("js/scenarios.js", "text/javascript; charset=utf-8"),
     asset!("favicon.svg", "image/svg+xml"),
     asset!("vendor/chart.umd.min.js", "text/javascript; charset=utf-8"),
     asset!("vendor/chart.js.LICENSE.md", "text/plain; charset=utf-8"),

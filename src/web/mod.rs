@@ -111,6 +111,7 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}/field-tests/{tid}", axum::routing::delete(api::delete_field_test))
         .route("/audits/{id}/decay-events", get(api::decay_events))
         .route("/audits/{id}/costs/{kind}", axum::routing::put(api::put_cost))
+        .route("/audits/{id}/scenarios", get(api::list_scenarios).post(api::add_scenario))
         .route("/calc/orifice-leak", post(api::calc_orifice))
         .route("/calc/compression", post(api::calc_compression))
         .fallback(api::not_found);
@@ -128,6 +129,7 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}/report", get(report::report))
         .route("/audits/{id}/findings", get(report::findings))
         .route("/audits/{id}/tests", get(report::tests))
+        .route("/audits/{id}/scenarios", get(report::scenarios))
         .route("/static/{*path}", get(assets::serve))
         .route("/favicon.ico", get(assets::favicon))
         .nest("/api/v1", api)

@@ -697,3 +697,74 @@ pub async fn tests(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Re
         audit: b.audit,
     }))
 }
+
+pub struct ScenarioRow {
+    pub id: i64,
+    pub name: String,
+    pub changes: String,
+    pub energy: String,
+    pub saving: String,
+    pub cost_saving: String,
+    pub peak: String,
+    pub min_pressure: String,
+    pub below: String,
+    pub validation: String,
+    pub problems: Vec<String>,
+}
+
+#[derive(Template)]
+#[template(path = "scenarios.html")]
+struct ScenariosPage {
+    audit: Audit,
+    rows: Vec<ScenarioRow>,
+    compressors: Vec<String>,
+    page_data: Value,
+}
+
+pub async fn scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, PageError> {
+    let b = service::bundle(&st.db, id).await?;
+    let fmt = b.fmt();
+    let list = crate::store::audits::scenarios(&st.db, id).await?;
+    let cur = b.audit.site.currency.clone();
+    let price = b.audit.site.electricity_price_per_kwh;
+    let sm = service::summary_json(&st.db, id, None).await?;
+    // The replayed period's saving, scaled to the year like the audit's baseline.
+    let scale = g(&sm, "baseline.annual_energy_kwh") / g(&sm, "system.energy_kwh");
+    let rows = list
+        .iter()
+        .map(|sc| {
+            let r = &sc.result;
+            let saving = g(r, "energy_saving_kwh");
+            ScenarioRow {
+                id: sc.id,
+                name: sc.name.clone(),
+                changes: sc.changes.to_string(),
+                energy: fmt.energy_kwh(g(r, "energy_kwh")),
+                saving: fmt.energy_kwh(saving),
+                cost_saving: if scale.is_finite() {
+                    fmt.money(saving * scale * price, &cur)
+                } else {
+                    "–".into()
+                },
+                peak: fmt.power_kw(g(r, "peak_power_kw")),
+                min_pressure: fmt.pressure_bar_g(g(r, "min_pressure_bar_g")),
+                below: fmt.hours(g(r, "time_below_min_required_s") / 3600.0),
+                validation: fmt.percent(g(r, "validation_error")),
+                problems: r["problems"]
+                    .as_array()
+                    .map(|a| a.iter().filter_map(|x| x.as_str().map(String::from)).collect())
+                    .unwrap_or_default(),
+            }
+        })
+        .collect();
+    let traces: Vec<Value> = list
+        .iter()
+        .map(|sc| serde_json::json!({"name": sc.name, "points": sc.result["pressure_trace"]}))
+        .collect();
+    Ok(render(&ScenariosPage {
+        page_data: serde_json::json!({"audit_id": id, "traces": traces}),
+        compressors: b.compressors.iter().map(|c| c.tag.clone()).collect(),
+        rows,
+        audit: b.audit,
+    }))
+}

@@ -1,0 +1,42 @@
+// The what-if page: builds a scenario from the form, posts it, and draws the pressure traces.
+"use strict";
+(function () {
+  const A = window.airledger;
+  const data = A.pageData();
+  if (!data) return;
+  const form = document.getElementById("scenario-form");
+  const status = document.getElementById("scenario-status");
+  form.addEventListener("submit", async (e) => {
+    e.preventDefault();
+    const f = form.elements;
+    const changes = [];
+    if (f.remove.value) changes.push({ op: "remove", tag: f.remove.value });
+    if (f.target_bar_g.value) changes.push({ op: "set_pressure", target_bar_g: Number(f.target_bar_g.value) });
+    if (f.add_storage_m3.value) changes.push({ op: "add_storage", volume_m3: Number(f.add_storage_m3.value) });
+    if (f.reduce_leaks.value) changes.push({ op: "reduce_leaks", fraction: Number(f.reduce_leaks.value) });
+    if (f.order.value.trim()) changes.push({ op: "sequence", order: f.order.value.trim().split(/[\s,]+/) });
+    if (f.add_tag.value) {
+      const curve = f.add_curve.value.trim() ? f.add_curve.value.trim().split(/\s+/).map((p) => p.split(":").map(Number)) : [];
+      changes.push({ op: "add", compressor: { tag: f.add_tag.value, kind: "lubricated_screw", control: f.add_control.value, cooling: "air",
+        rated_power_kw: Number(f.add_power.value), rated_flow_m3_min: Number(f.add_flow.value), rated_pressure_bar_g: Number(f.add_pressure.value), power_curve: curve } });
+    }
+    status.textContent = "Replaying the logged demand\u2026";
+    try {
+      await A.json("/api/v1/audits/" + data.audit_id + "/scenarios", {
+        method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify({ name: f.name.value, changes: changes }),
+      });
+      window.location.reload();
+    } catch (err) { status.textContent = "Not replayed: " + err.message; }
+  });
+  const canvas = document.getElementById("chart-scenarios");
+  if (canvas && typeof Chart !== "undefined" && data.traces.length) {
+    const palette = ["#0f4c5c", "#f2a541", "#5b8e7d", "#b3261e", "#7a5195", "#2f6690"];
+    const xs = data.traces.flatMap((t) => t.points.length ? [t.points[0][0], t.points[t.points.length - 1][0]] : []);
+    new Chart(canvas, {
+      type: "line",
+      data: { datasets: data.traces.map((t, i) => ({ label: t.name, data: t.points.map((p) => ({ x: p[0], y: p[1] })), borderColor: palette[i % palette.length], pointRadius: 0, borderWidth: 1.2 })) },
+      options: { animation: false, maintainAspectRatio: false, parsing: false,
+        scales: { x: { type: "linear", min: Math.min(...xs), max: Math.max(...xs), ticks: { maxTicksLimit: 6, maxRotation: 0, callback: (v) => new Date(v).toISOString().slice(5, 16).replace("T", " ") } }, y: { title: { display: true, text: "bar(g)" } } } },
+    });
+  }
+})();
