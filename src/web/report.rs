@@ -451,7 +451,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
         .map(|a| {
             a.iter()
                 .map(|m| {
-                    (s(m, "figure").to_string(), s(m, "formula").to_string(), s(m, "source").to_string())
+                    (figure_label(s(m, "figure")), s(m, "formula").to_string(), s(m, "source").to_string())
                 })
                 .collect()
         })
