@@ -100,7 +100,17 @@ pub fn thresholds(spec: &CompressorSpec) -> Thresholds {
         }
         Control::Modulation | Control::VariableSpeed => {
             let lowest_loaded = power_at_flow_kw(spec, min_flow_m3_min(spec)) * 1000.0;
-            let unl_top = if lowest_loaded > unl { 0.5 * (unl + lowest_loaded) } else { unl.max(off) };
+            // A drive at minimum speed still delivers air. When the data sheet's minimum-speed power
+            // is clearly above the unloaded power, the boundary is their midpoint; when the two are
+            // (nearly) the same, only power clearly below it (75 %, our judgement) is idling: the
+            // package's power falls a few % with discharge pressure, and a running drive a hair
+            // below its rated minimum-speed power must not read as unloaded (regression: the demo
+            // plant's trim machine was 17 % "unloaded" while the simulation had it delivering).
+            let unl_top = if lowest_loaded > 1.1 * unl {
+                0.5 * (unl + lowest_loaded)
+            } else {
+                (0.75 * lowest_loaded.min(unl.max(lowest_loaded))).max(off)
+            };
             Thresholds {
                 full_w: full,
                 unloaded_w: unl,
