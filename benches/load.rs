@@ -154,5 +154,6 @@ fn main() {
     println!("  errors        {errors} (must be 0)");
     println!("  import        HTTP {status} in {:.1} s (still importing when the clients stopped: {still_importing})", import_time.as_secs_f64());
     let _ = child.kill();
+    let _ = child.wait();
     let _ = std::fs::remove_dir_all(&dir);
 }

@@ -184,7 +184,7 @@ impl AddedCompressor {
                 return err("power_curve", "needs at least two [flow_m3_min, kw] points".into());
             }
             for w in curve.windows(2) {
-                if !(w[1].0 > w[0].0) {
+                if w[1].0.partial_cmp(&w[0].0) != Some(std::cmp::Ordering::Greater) {
                     return err("power_curve", "flows must rise strictly from point to point".into());
                 }
             }

@@ -41,7 +41,7 @@ fn unix_s(rfc3339: &str) -> f64 {
     t.as_millisecond() as f64 / 1000.0
 }
 
-fn truth_value<'a>(pairs: &'a [(String, f64)], tag: &str) -> f64 {
+fn truth_value(pairs: &[(String, f64)], tag: &str) -> f64 {
     pairs.iter().find(|(t, _)| t == tag).unwrap_or_else(|| panic!("no truth for {tag}")).1
 }
 
