@@ -1300,6 +1300,12 @@ mod tests {
         assert_eq!(r.energy_saving_kwh, 0.0);
         assert!(r.validation_error.is_nan());
         assert!(r.pressure_trace.len() <= TRACE_POINTS && r.pressure_trace.len() > 400);
+        // API.md names: the result serializes with them, a NaN validation error as null.
+        let j = serde_json::to_value(&r).unwrap();
+        assert!(j["energy_kwh"].is_number() && j["min_pressure_bar_g"].is_number());
+        assert!(j["validation_error"].is_null());
+        assert!(j["compressors"][0]["cycles_per_hour"].is_number());
+        assert!(j["pressure_trace"][0][1].is_number());
         // The trace holds bucket minima: the band's bottom (load pressure 7.5 - 0.6).
         assert!(r.pressure_trace.iter().all(|&(_, p)| (p - 6.9).abs() < 0.02));
     }
@@ -1550,8 +1556,15 @@ mod tests {
             "demo: sim {} kWh, logged {} kWh, truth {truth} kWh, err {}",
             r.energy_kwh, r.logged_energy_kwh, r.validation_error
         );
-        for m in &r.compressors {
-            eprintln!("  {m:?}");
+        for (m, t) in r.compressors.iter().zip(&demo().0.truth.energy_kwh_by_compressor) {
+            eprintln!("  {m:?} truth {t:?}");
+        }
+        // Machine by machine against the demo simulation's own truth: the base and the trim within 2 %,
+        // the standby (a few short runs at the peaks, most sensitive to the demand's timing) within 10 %.
+        for (m, (tag, kwh)) in r.compressors.iter().zip(&demo().0.truth.energy_kwh_by_compressor) {
+            assert_eq!(&m.tag, tag);
+            let tol = if tag == "C2" { 0.10 } else { 0.02 };
+            assert!((m.energy_kwh - kwh).abs() / kwh < tol, "{tag}: {} vs {kwh}", m.energy_kwh);
         }
         // The log itself holds the truth within 1 %.
         assert!((r.logged_energy_kwh - truth).abs() / truth < 0.01);
