@@ -325,3 +325,39 @@ fn a_cross_origin_write_is_403_and_changes_nothing() {
     let r = agent.get(&s.url("/api/v1/audits")).header("Origin", "http://evil.example").call().unwrap();
     assert_eq!(r.status().as_u16(), 200);
 }
+
+#[test]
+fn a_scenario_replays_the_demo_and_reports_its_validation_error() {
+    let s = Server::demo();
+    let r = s.post_json("/api/v1/audits/1/scenarios", &json!({"name": "as is", "changes": []}));
+    assert_eq!(r.status, 201, "{}", r.text);
+    let res = &r.json()["result"];
+    // The unchanged plant must reproduce its logged energy (issue 7: under 3 %).
+    let v = res["validation_error"].as_f64().unwrap();
+    assert!(v.abs() < 0.03, "validation error {v}");
+    assert_eq!(res["compressors"].as_array().unwrap().len(), 3);
+    let r = s.post_json(
+        "/api/v1/audits/1/scenarios",
+        &json!({"name": "lower and tighter", "changes": [{"op": "set_pressure", "target_bar_g": 6.6}, {"op": "reduce_leaks", "fraction": 0.5}]}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let res = r.json()["result"].clone();
+    assert!(res["energy_saving_kwh"].as_f64().unwrap() > 0.0, "lower pressure and fewer leaks save energy");
+    assert!(res["validation_error"].as_f64().unwrap().abs() < 0.03, "shown beside every result");
+    // Without its base-load machine the plant cannot meet its peak: reported, not hidden.
+    let r = s.post_json(
+        "/api/v1/audits/1/scenarios",
+        &json!({"name": "no C1", "changes": [{"op": "remove", "tag": "C1"}]}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    assert_eq!(r.json()["result"]["feasible"], false);
+    let r = s.post_json(
+        "/api/v1/audits/1/scenarios",
+        &json!({"name": "typo", "changes": [{"op": "remove", "tag": "C9"}]}),
+    );
+    assert_eq!(r.status, 422);
+    assert!(r.json()["error"]["field"].as_str().unwrap().starts_with("changes[0]"));
+    let list = s.get("/api/v1/audits/1/scenarios").json();
+    assert_eq!(list["scenarios"].as_array().unwrap().len(), 3);
+    assert_eq!(s.get("/audits/1/scenarios").status, 200);
+}

@@ -145,7 +145,8 @@ fn demo_summary_matches_the_simulation_truth() {
     }
 }
 
-// BUG: src/core/states.rs `thresholds()`, Control::VariableSpeed: when the data sheet's lowest
+// Regression test for a bug since fixed in src/core/states.rs `thresholds()`. It was: for
+// Control::VariableSpeed, when the data sheet's lowest
 // curve point equals the unloaded power (the demo gives unloaded_power_fraction = minimum-speed power
 // / full power, 14/45), `unl_top = unl.max(off)` = the minimum-speed power itself, so a drive running
 // at minimum speed is counted as Unloaded whenever its power is a hair below 14 kW (any discharge
@@ -258,7 +259,8 @@ fn demo_maintenance_stop_is_proposed_and_recovers_the_simulated_leak() {
     assert!(rel_err(at_op, at_op_truth).abs() < 0.005, "at operating pressure {at_op} vs {at_op_truth}");
 }
 
-// BUG: src/core/analysis.rs `decay_events()` accepts bins where every compressor is Off or
+// Regression test for a bug since fixed with the states above. It was: `analysis::decay_events()`
+// accepts bins where every compressor is Off or
 // *Unloaded* by `states::classify`, which counts the variable-speed C3 at minimum speed as Unloaded
 // (see `demo_variable_speed_trim_delivers_whenever_it_runs`). The demo then proposes windows in which
 // C3 is delivering its 2 m³/min minimum flow, e.g. Sunday 2026-03-15T09:32:10Z..09:40:05Z (after the
