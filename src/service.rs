@@ -231,6 +231,7 @@ async fn compute_summary(
         audits::cost_overrides(db, b.audit.id).await?.into_iter().collect();
     let accuracy = b.accuracy();
     let leak_estimates = b.leak_estimates();
+    let scenarios = scenario_cases(db, &b).await?;
     let summary = tokio::task::spawn_blocking(move || {
         let mut s = analysis::summarize(&AuditInput {
             site: &site,
@@ -240,6 +241,7 @@ async fn compute_summary(
             leak_estimates,
             costs: &costs,
             accuracy: &accuracy,
+            scenarios: &scenarios,
         });
         crate::core::recommend::apply_implementation_costs(&mut s.recommendations, &edited);
         s
@@ -247,6 +249,30 @@ async fn compute_summary(
     .await
     .map_err(|e| AppError::Internal(e.into()))?;
     Ok(Some(summary))
+}
+
+/// The stored scenarios replayed on the audit's present data, as the recommendations read them.
+async fn scenario_cases(
+    db: &SqlitePool,
+    b: &AuditBundle,
+) -> Result<Vec<crate::core::recommend::ScenarioCase>, AppError> {
+    let f = |v: &serde_json::Value, k: &str| v[k].as_f64().unwrap_or(f64::NAN);
+    Ok(audits::scenarios(db, b.audit.id)
+        .await?
+        .into_iter()
+        .filter(|s| s.revision == b.audit.revision)
+        .map(|s| crate::core::recommend::ScenarioCase {
+            id: s.id,
+            energy_saving_kwh: f(&s.result, "energy_saving_kwh"),
+            baseline_energy_kwh: f(&s.result, "baseline_energy_kwh"),
+            validation_error: f(&s.result, "validation_error"),
+            feasible: s.result["feasible"].as_bool().unwrap_or(false),
+            supply_side_only: s.result["supply_side_only"].as_bool().unwrap_or(false),
+            implementation_cost: f(&s.result, "implementation_cost"),
+            simulated_hours: f(&s.result, "simulated_hours"),
+            name: s.name,
+        })
+        .collect())
 }
 
 /// The summary as JSON: from the cache when the audit has not changed, else computed and cached.

@@ -116,6 +116,8 @@ pub struct AuditInput<'a> {
     pub leak_estimates: Vec<LeakEstimate>,
     pub costs: &'a CostOverrides,
     pub accuracy: &'a Accuracy,
+    /// Stored what-if results of the present data (`recommend::ScenarioCase`).
+    pub scenarios: &'a [recommend::ScenarioCase],
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -1218,6 +1220,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
             use_kind,
         }),
         costs: input.costs,
+        scenarios: input.scenarios,
     });
 
     assumptions.push(format!(
@@ -1472,6 +1475,7 @@ mod tests {
             frame,
             leak_estimates: leaks,
             costs: &costs,
+            scenarios: &[],
             accuracy: &acc,
         })
     }

@@ -12,8 +12,15 @@ energy above idle.
 | `lower_pressure` | 1 % of compressor input per 2 psi (0.138 bar) lower (DOE sourcebook, FIELD-NOTES §6) + the artificial demand `dQ = Q_unreg (p_now - p_target) / p_now,abs` at the marginal curve; target by default 0.5 bar below the mean header pressure, never below the highest pressure the uses need | 2000 fixed (engineering, set-point changes) |
 | `recover_heat` | the displaced fuel (heater efficiency, fuel price) in the months the heat is used | 250 per kW of recoverable heat at full load |
 | `shut_off_idle` | energy spent unloaded in non-production hours | 800 per compressor (timer or sequencer rule) |
-| `improve_control` | the trim's logged energy - the same demand on a variable-speed trim (the audit's own VSD curve, or the typical curve of `states`) | 350 per kW of trim rating (a VSD trim); 3000 fixed when the audit already has a VSD to sequence as trim |
+| `improve_control` | the best replayed scenario (below), else the trim's logged energy - the same demand on a variable-speed trim (the audit's own VSD curve, or the typical curve of `states`) | the scenario's cost (quoted, or `simulate::default_cost`); else 350 per kW of trim rating (a VSD trim), 3000 fixed when the audit already has a VSD to sequence as trim |
 | `replace_compressor` | loaded hours × (measured loaded kW - data-sheet kW) | 400 per kW rated |
+
+**Replayed scenarios** (`simulate`) outrank the rule for `improve_control`: a scenario qualifies when it
+is feasible, changes only the supply side (`supply_side_only`: pressure and leaks are measures of their
+own), saves energy, and its baseline reproduced the logged energy within [`MAX_SCENARIO_VALIDATION_ERROR`]
+(3 %, the bar of the validation test). Its annual saving is its saved share of the simulated baseline
+energy times the audit's annual energy (the same annualisation as the baseline); the qualifying scenario
+with the shortest payback is offered, and it replaces the rule-of-thumb estimate.
 
 Costs are in the audit's currency. [`CostOverrides::per_kind`] replaces the *rate* of a kind (the
 number multiplied by the quantity in the table: per m³/min, per kW, per compressor, or the fixed sum).
@@ -108,6 +115,8 @@ pub struct CostContext {
     pub compressors: f64,
     /// The audit already has a variable-speed machine (a sequencer, not a new VSD, is the measure).
     pub has_vsd: bool,
+    /// The cost of a replayed scenario (quoted or estimated by `simulate`); replaces the rate.
+    pub scenario_cost: Option<f64>,
 }
 
 /// Default rate of a kind (module doc table), common practice, from memory.
@@ -142,6 +151,9 @@ fn cost_with_rate(kind: &str, ctx: &CostContext, rate: f64) -> f64 {
 
 /// Implementation cost with the audit's override of the rate, if any.
 pub fn cost(kind: &str, ctx: &CostContext, overrides: &CostOverrides) -> f64 {
+    if let Some(c) = ctx.scenario_cost {
+        return c;
+    }
     let rate = overrides.per_kind.get(kind).copied().unwrap_or_else(|| default_rate(kind, ctx));
     cost_with_rate(kind, ctx, rate)
 }
@@ -164,6 +176,42 @@ pub struct Recommendation {
     pub formula: String,
     pub source: String,
     pub caution: Option<String>,
+    /// The replayed scenario this measure rests on (`improve_control` only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub scenario_id: Option<i64>,
+}
+
+/// A scenario is offered only if its unchanged plant reproduced the logged energy this closely.
+pub const MAX_SCENARIO_VALIDATION_ERROR: f64 = 0.03;
+
+/// A stored what-if result, as the `improve_control` measure needs it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScenarioCase {
+    pub id: i64,
+    pub name: String,
+    pub energy_saving_kwh: f64,
+    pub baseline_energy_kwh: f64,
+    pub validation_error: f64,
+    pub feasible: bool,
+    pub supply_side_only: bool,
+    pub implementation_cost: f64,
+    pub simulated_hours: f64,
+}
+
+impl ScenarioCase {
+    /// Whether this scenario may be offered (module doc).
+    pub fn qualifies(&self) -> bool {
+        self.feasible
+            && self.supply_side_only
+            && self.energy_saving_kwh > 0.0
+            && self.baseline_energy_kwh > 0.0
+            && self.validation_error.abs() <= MAX_SCENARIO_VALIDATION_ERROR
+            && self.implementation_cost.is_finite()
+    }
+    /// The annual saving: the saved share of the simulated baseline times the annual energy.
+    pub fn annual_saving_kwh(&self, annual_energy_kwh: f64) -> f64 {
+        self.energy_saving_kwh / self.baseline_energy_kwh * annual_energy_kwh
+    }
 }
 
 /// What the measures need from one compressor, annualised by the audit's rule.
@@ -219,6 +267,8 @@ pub struct RecommendInput<'a> {
     pub control: Option<ControlCase>,
     pub heat: Option<HeatCase>,
     pub costs: &'a CostOverrides,
+    /// Stored what-if results of the audit's present data (may be empty).
+    pub scenarios: &'a [ScenarioCase],
 }
 
 /// A measure before its cost and payback are worked out.
@@ -234,6 +284,10 @@ struct Draft {
     formula: &'static str,
     source: &'static str,
     caution: Option<String>,
+}
+
+fn finish_scenario(r: &RecommendInput, d: Draft, id: i64) -> Option<Recommendation> {
+    finish(r, d).map(|x| Recommendation { scenario_id: Some(id), ..x })
 }
 
 fn finish(r: &RecommendInput, d: Draft) -> Option<Recommendation> {
@@ -260,6 +314,7 @@ fn finish(r: &RecommendInput, d: Draft) -> Option<Recommendation> {
         formula: formula.into(),
         source: source.into(),
         caution,
+        scenario_id: None,
     })
 }
 
@@ -347,8 +402,53 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
             ) }));
     }
 
-    // Control: a variable-speed trim.
-    if let (Some(c), Some(t)) = (&r.control, r.trim) {
+    // Control: the best replayed scenario, else a variable-speed trim by rule.
+    let price = r.site.electricity_price_per_kwh;
+    let best = r
+        .scenarios
+        .iter()
+        .filter(|s| s.qualifies())
+        .map(|s| (s, s.annual_saving_kwh(r.annual_energy_kwh)))
+        .filter(|(s, kwh)| *kwh * price > 0.0 && s.implementation_cost >= 0.0)
+        .min_by(|(a, ka), (b, kb)| {
+            (a.implementation_cost / (ka * price))
+                .total_cmp(&(b.implementation_cost / (kb * price)))
+                .then(kb.total_cmp(ka))
+        });
+    if let Some((s, kwh)) = best {
+        out.extend(finish_scenario(
+            r,
+            Draft {
+                kind: "improve_control",
+                title: format!("Change the compressor room as in scenario \u{201c}{}\u{201d}", s.name),
+                description: format!(
+                    "The logged demand replayed through the changed room (scenario {}) takes {:.1} % less \
+                     energy than the same replay of the room as it is.",
+                    s.id,
+                    s.energy_saving_kwh / s.baseline_energy_kwh * 100.0
+                ),
+                saving_kwh: kwh,
+                money: None,
+                cost_ctx: CostContext { scenario_cost: Some(s.implementation_cost), ..Default::default() },
+                basis: vec![
+                    format!(
+                        "replayed saving {:.0} kWh over {:.0} h against a simulated baseline of {:.0} kWh",
+                        s.energy_saving_kwh, s.simulated_hours, s.baseline_energy_kwh
+                    ),
+                    format!("annual energy {:.0} kWh/yr", r.annual_energy_kwh),
+                    format!("validation error of the replay {:+.2} %", s.validation_error * 100.0),
+                    format!("scenario cost {:.0}", s.implementation_cost),
+                ],
+                formula:
+                    "saving = (replayed baseline - replayed scenario) / replayed baseline × annual energy",
+                source:
+                    "receiver equation V dp/dt = p_atm (Q_supply - Q_demand) with each machine's control \
+                         (FIELD-NOTES §5, §4); validated against the logged energy",
+                caution: None,
+            },
+            s.id,
+        ));
+    } else if let (Some(c), Some(t)) = (&r.control, r.trim) {
         let kwh = c.logged_annual_kwh - c.modelled_annual_kwh;
         let spec = &r.compressors[t];
         out.extend(finish(
@@ -484,7 +584,54 @@ pub(crate) mod tests {
             control: None,
             heat: None,
             costs,
+            scenarios: &[],
         }
+    }
+
+    fn case(id: i64, saving: f64, cost: f64) -> ScenarioCase {
+        ScenarioCase {
+            id,
+            name: format!("s{id}"),
+            energy_saving_kwh: saving,
+            baseline_energy_kwh: 1000.0,
+            validation_error: 0.01,
+            feasible: true,
+            supply_side_only: true,
+            implementation_cost: cost,
+            simulated_hours: 168.0,
+        }
+    }
+
+    #[test]
+    fn the_best_qualifying_scenario_is_the_control_measure() {
+        let s = site();
+        let cs = [lu()];
+        let ms = [MachineUse::default()];
+        let costs = CostOverrides::default();
+        let mut bad_validation = case(4, 300.0, 10.0);
+        bad_validation.validation_error = 0.05;
+        let mut infeasible = case(5, 300.0, 10.0);
+        infeasible.feasible = false;
+        let mut demand_side = case(6, 300.0, 10.0);
+        demand_side.supply_side_only = false;
+        // 1: 10 % for 9000; 2: 5 % for 3000 (shorter payback); the last three do not qualify.
+        let cases = [case(1, 100.0, 9000.0), case(2, 50.0, 3000.0), bad_validation, infeasible, demand_side];
+        let mut inp = input(&s, &cs, &ms, &costs);
+        inp.scenarios = &cases;
+        let recs = recommend(&inp);
+        let ctl: Vec<_> = recs.iter().filter(|r| r.kind == "improve_control").collect();
+        assert_eq!(ctl.len(), 1);
+        // 5 % of 300 000 kWh/yr.
+        assert!((ctl[0].annual_energy_saving_kwh - 15_000.0).abs() < 1e-6);
+        assert_eq!(ctl[0].implementation_cost, 3000.0);
+        assert!(ctl[0].title.contains("s2"), "{}", ctl[0].title);
+        assert_eq!(ctl[0].scenario_id, Some(2));
+        let p = 3000.0 / (15_000.0 * s.electricity_price_per_kwh);
+        assert!((ctl[0].simple_payback_years.unwrap() - p).abs() < 1e-9);
+        // With none qualifying there is no scenario measure.
+        let cases = [cases[2].clone(), cases[3].clone(), cases[4].clone()];
+        inp.scenarios = &cases;
+        assert!(recommend(&inp).iter().all(|r| r.kind != "improve_control"));
     }
 
     #[test]
@@ -504,6 +651,7 @@ pub(crate) mod tests {
             formula: String::new(),
             source: String::new(),
             caution: None,
+            scenario_id: None,
         };
         let mut recs = vec![mk("repair_leaks", 1000.0, 1000.0), mk("recover_heat", 3000.0, 1000.0)];
         let edited = BTreeMap::from([("recover_heat".to_string(), 500.0)]);

@@ -61,6 +61,18 @@ cycle counts and loaded times do not depend on the step.
 - `feasible` is false when the 1-minute peak demand exceeds the total rated flow, or when the header
   pressure spends more than [`MAX_TIME_BELOW_S`] below `min_required_pressure_bar_g` (the lowest load
   or restart pressure of the simulated plant - 0.3 bar: the plant must hold its own control band).
+
+# Implementation cost
+A scenario may carry its own `implementation_cost` (a quotation). Without one, [`default_cost`]
+estimates it from the changes, installed, in the audit's currency (common practice, from memory; the
+same figures as the measures of `recommend` where they overlap): an added fixed-speed compressor
+[`COST_PER_KW_FIXED_SPEED`] per kW rated, an added variable-speed one [`COST_PER_KW_VARIABLE_SPEED`]
+per kW, a new sequence [`COST_SEQUENCER`], added storage [`COST_STORAGE_FIXED`] +
+[`COST_STORAGE_PER_M3`] per m³, a new set-point [`COST_SET_PRESSURE`], leak repair
+[`COST_LEAK_SURVEY`] + [`COST_LEAK_PER_M3_MIN`] per m³/min repaired; removing a machine costs nothing.
+A scenario that changes only the supply side (no `set_pressure`, no `reduce_leaks`) is
+`supply_side_only`: only such a scenario can be offered as the `improve_control` measure, because
+lower pressure and leak repair are measures of their own and would otherwise be counted twice.
 */
 
 use serde::{Deserialize, Serialize};
@@ -117,6 +129,66 @@ const EPS_BAR: f64 = 1e-9;
 const EPS_S: f64 = 1e-9;
 /// Events handled within one sub-step before the rest of it is taken in one go (a guard).
 const MAX_EVENTS_PER_SUBSTEP: usize = 64;
+
+/// Installed cost of an added fixed-speed compressor per kW rated (from memory; as `replace_compressor`).
+pub const COST_PER_KW_FIXED_SPEED: f64 = 400.0;
+/// Installed cost of an added variable-speed compressor per kW rated (from memory).
+pub const COST_PER_KW_VARIABLE_SPEED: f64 = 550.0;
+/// A sequencer or the controllers' programming for a new order (from memory; as `improve_control`).
+pub const COST_SEQUENCER: f64 = 3000.0;
+/// Added receiver: fixed part (piping, valves, inspection) and per m³ (from memory).
+pub const COST_STORAGE_FIXED: f64 = 1000.0;
+pub const COST_STORAGE_PER_M3: f64 = 1500.0;
+/// A new set-point (engineering), as `lower_pressure` (from memory).
+pub const COST_SET_PRESSURE: f64 = 2000.0;
+/// Leak repair: survey and per m³/min repaired, as `repair_leaks` (from memory).
+pub const COST_LEAK_SURVEY: f64 = 1500.0;
+pub const COST_LEAK_PER_M3_MIN: f64 = 1000.0;
+
+/// The default implementation cost of a scenario's changes (module doc) and the lines it adds up.
+pub fn default_cost(changes: &[Change], leak_flow_m3_min: Option<f64>) -> (f64, Vec<String>) {
+    let mut total = 0.0;
+    let mut lines = Vec::new();
+    let mut leak_share = 0.0;
+    for c in changes {
+        let (cost, line) = match c {
+            Change::Remove { tag } => (0.0, format!("remove {tag}: 0")),
+            Change::Add { compressor: a } => {
+                let rate = if a.control == Control::VariableSpeed {
+                    COST_PER_KW_VARIABLE_SPEED
+                } else {
+                    COST_PER_KW_FIXED_SPEED
+                };
+                let cost = rate * a.rated_power_kw.max(0.0);
+                (cost, format!("add {} ({:.0} kW at {rate:.0} per kW): {cost:.0}", a.tag, a.rated_power_kw))
+            }
+            Change::Sequence { .. } => (COST_SEQUENCER, format!("new sequence: {COST_SEQUENCER:.0}")),
+            Change::AddStorage { volume_m3 } => {
+                let cost = COST_STORAGE_FIXED + COST_STORAGE_PER_M3 * volume_m3.max(0.0);
+                (cost, format!("add {volume_m3:.2} m³ of storage: {cost:.0}"))
+            }
+            Change::SetPressure { target_bar_g } => {
+                (COST_SET_PRESSURE, format!("set-point {target_bar_g:.2} bar(g): {COST_SET_PRESSURE:.0}"))
+            }
+            Change::ReduceLeaks { fraction } => {
+                leak_share = 1.0 - (1.0 - leak_share) * (1.0 - fraction.clamp(0.0, 1.0));
+                continue;
+            }
+        };
+        total += cost;
+        lines.push(line);
+    }
+    if leak_share > 0.0 {
+        let repaired = leak_flow_m3_min.unwrap_or(0.0) * leak_share;
+        let cost = COST_LEAK_SURVEY + COST_LEAK_PER_M3_MIN * repaired;
+        total += cost;
+        lines.push(format!(
+            "repair {:.0} % of the leaks ({repaired:.2} m³/min): {cost:.0}",
+            leak_share * 100.0
+        ));
+    }
+    (total, lines)
+}
 
 /// One what-if change (API.md).
 #[derive(Deserialize, Serialize, Clone, Debug)]
@@ -220,6 +292,16 @@ pub struct Scenario {
     pub name: String,
     #[serde(default)]
     pub changes: Vec<Change>,
+    /// The installed cost, if quoted; otherwise [`default_cost`] estimates it.
+    #[serde(default)]
+    pub implementation_cost: Option<f64>,
+}
+
+impl Scenario {
+    /// No set-point change and no leak repair: a change of the supply side alone (module doc).
+    pub fn supply_side_only(&self) -> bool {
+        !self.changes.iter().any(|c| matches!(c, Change::SetPressure { .. } | Change::ReduceLeaks { .. }))
+    }
 }
 
 /// What the replay runs on.
@@ -269,6 +351,13 @@ pub struct SimResult {
     pub simulated_hours: f64,
     pub feasible: bool,
     pub problems: Vec<String>,
+    /// The scenario's installed cost: quoted, or estimated by [`default_cost`].
+    pub implementation_cost: f64,
+    /// `given` (the scenario's own figure) or `default_estimate`.
+    pub implementation_cost_source: &'static str,
+    pub implementation_cost_basis: Vec<String>,
+    /// Neither `set_pressure` nor `reduce_leaks`: may be offered as the `improve_control` measure.
+    pub supply_side_only: bool,
     pub compressors: Vec<SimCompressor>,
     /// (t_ms, bar_g), the minimum of each bucket, at most [`TRACE_POINTS`] points.
     pub pressure_trace: Vec<(i64, f64)>,
@@ -1141,6 +1230,15 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
     }
     let applied = apply(input, scenario)?;
     let demand = prepare_demand(input)?;
+    let (implementation_cost, implementation_cost_source, implementation_cost_basis) =
+        match scenario.implementation_cost {
+            Some(c) if c.is_finite() && c >= 0.0 => (c, "given", vec![format!("quoted: {c:.0}")]),
+            Some(c) => return fail("implementation_cost", format!("must be 0 or more, not {c}")),
+            None => {
+                let (c, lines) = default_cost(&scenario.changes, input.leak_flow_m3_min);
+                (c, "default_estimate", lines)
+            }
+        };
 
     let base_plant = build_plant(input.compressors, &default_order(input.compressors), 0.0, base_volume, 1.0);
     let base_threshold = if base_plant.machines.is_empty() { 0.0 } else { min_required(&base_plant) };
@@ -1223,6 +1321,10 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
         simulated_hours: hours,
         feasible: problems.is_empty(),
         problems,
+        implementation_cost,
+        implementation_cost_source,
+        implementation_cost_basis,
+        supply_side_only: scenario.supply_side_only(),
         compressors,
         pressure_trace: out.trace,
     })
@@ -1260,7 +1362,7 @@ mod tests {
     }
 
     fn as_is() -> Scenario {
-        Scenario { name: "as is".into(), changes: vec![] }
+        Scenario { name: "as is".into(), changes: vec![], implementation_cost: None }
     }
 
     fn run_plant(frame: &Frame, c: &[CompressorSpec], v: f64, leak: Option<f64>, sc: &Scenario) -> SimResult {
@@ -1316,7 +1418,11 @@ mod tests {
         let c = vec![spec("S", Control::StartStop, 60.0, 10.0)];
         let frame = flow_frame(24.0, |_| 4.0);
         let one = run_plant(&frame, &c, 6.0, None, &as_is());
-        let sc = Scenario { name: "receiver".into(), changes: vec![Change::AddStorage { volume_m3: 6.0 }] };
+        let sc = Scenario {
+            name: "receiver".into(),
+            changes: vec![Change::AddStorage { volume_m3: 6.0 }],
+            implementation_cost: None,
+        };
         let two = run_plant(&frame, &c, 6.0, None, &sc);
         let ratio = two.compressors[0].cycles_per_hour / one.compressors[0].cycles_per_hour;
         assert!((ratio - 0.5).abs() < 0.01, "{ratio}");
@@ -1364,7 +1470,11 @@ mod tests {
         let base = run_plant(&frame, &c, 7.5, None, &as_is());
         let b = base.compressors.iter().find(|m| m.tag == "B").unwrap();
         assert!(b.loaded_hours > 1.0, "B carried load: {b:?}");
-        let sc = Scenario { name: "no B".into(), changes: vec![Change::Remove { tag: "B".into() }] };
+        let sc = Scenario {
+            name: "no B".into(),
+            changes: vec![Change::Remove { tag: "B".into() }],
+            implementation_cost: None,
+        };
         let r = run_plant(&frame, &c, 7.5, None, &sc);
         assert!(r.feasible, "{:?}", r.problems);
         assert_eq!(r.compressors.len(), 2);
@@ -1388,7 +1498,11 @@ mod tests {
             "power_curve": [[2.0, 14.0], [3.4, 20.6], [4.8, 27.6], [6.2, 35.6], [7.6, 45.0]]
         }))
         .unwrap();
-        let sc = Scenario { name: "vsd".into(), changes: vec![Change::Add { compressor: vsd }] };
+        let sc = Scenario {
+            name: "vsd".into(),
+            changes: vec![Change::Add { compressor: vsd }],
+            implementation_cost: None,
+        };
         let r = run_plant(&frame, &c, 3.0, None, &sc);
         assert!(r.feasible, "{:?}", r.problems);
         // The VSD carries the part load alone: ~5 m³/min at ~28-30 kW instead of L's ~48 kW.
@@ -1447,7 +1561,8 @@ mod tests {
         ];
         for (json, field) in cases {
             let changes: Vec<Change> = serde_json::from_str(json).unwrap();
-            let e = run(&input, &Scenario { name: "bad".into(), changes }).unwrap_err();
+            let e = run(&input, &Scenario { name: "bad".into(), changes, implementation_cost: None })
+                .unwrap_err();
             assert_eq!(e.field, field, "{json}: {e}");
             assert!(!e.to_string().is_empty());
         }
@@ -1464,6 +1579,42 @@ mod tests {
     }
 
     /// The demo plant's logger files aligned onto 10 s bins, as the ingest path would.
+    #[test]
+    fn default_cost_adds_up_the_documented_rates() {
+        let vsd = AddedCompressor {
+            tag: "V".into(),
+            kind: CompressorKind::LubricatedScrew,
+            control: Control::VariableSpeed,
+            cooling: Cooling::Air,
+            rated_power_kw: 30.0,
+            rated_flow_m3_min: 5.0,
+            rated_pressure_bar_g: 7.5,
+            unloaded_power_fraction: None,
+            power_curve: vec![],
+            min_speed_fraction: None,
+        };
+        let changes = vec![
+            Change::Remove { tag: "C1".into() },
+            Change::Add { compressor: vsd },
+            Change::AddStorage { volume_m3: 2.0 },
+            Change::ReduceLeaks { fraction: 0.5 },
+            Change::ReduceLeaks { fraction: 0.5 },
+        ];
+        let (c, lines) = default_cost(&changes, Some(4.0));
+        // 30 kW x 550 + (1000 + 2 x 1500) + (1500 + 1000 x 4 x 0.75)
+        assert_eq!(c, 16_500.0 + 4_000.0 + 4_500.0);
+        assert_eq!(lines.len(), 4, "{lines:?}");
+        let sc = Scenario { name: "x".into(), changes, implementation_cost: None };
+        assert!(!sc.supply_side_only());
+        let sc = Scenario {
+            name: "y".into(),
+            changes: vec![Change::Sequence { order: vec!["C2".into()] }],
+            implementation_cost: None,
+        };
+        assert!(sc.supply_side_only());
+        assert_eq!(default_cost(&sc.changes, None).0, COST_SEQUENCER);
+    }
+
     fn demo_frame(plant: &crate::demo::DemoPlant) -> (Frame, SiteAir) {
         let t0: jiff::Timestamp = plant.truth.period_start.parse().unwrap();
         let t1: jiff::Timestamp = plant.truth.period_end.parse().unwrap();
@@ -1576,8 +1727,11 @@ mod tests {
 
     #[test]
     fn demo_without_the_standby_cannot_meet_the_peaks() {
-        let r =
-            demo_run(&Scenario { name: "no C2".into(), changes: vec![Change::Remove { tag: "C2".into() }] });
+        let r = demo_run(&Scenario {
+            name: "no C2".into(),
+            changes: vec![Change::Remove { tag: "C2".into() }],
+            implementation_cost: None,
+        });
         assert!(!r.feasible, "{r:?}");
         assert!(r.problems.iter().any(|p| p.contains("capacity of 20.1")), "{:?}", r.problems);
     }

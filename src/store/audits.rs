@@ -611,7 +611,9 @@ pub async fn scenarios(pool: &SqlitePool, audit_id: i64) -> Result<Vec<ScenarioR
         .collect())
 }
 
-/// Store a scenario. It does not bump the revision: a what-if changes no figure of the audit.
+/// Store a scenario. It does not bump the revision (the audit's data and the other scenarios stay
+/// current), but it drops the cached summary, since the best scenario may become the `improve_control`
+/// measure.
 pub async fn add_scenario(
     pool: &SqlitePool,
     audit_id: i64,
@@ -633,6 +635,7 @@ pub async fn add_scenario(
     .execute(&mut *tx)
     .await?
     .last_insert_rowid();
+    sqlx::query("DELETE FROM summary_cache WHERE audit_id = ?").bind(audit_id).execute(&mut *tx).await?;
     tx.commit().await?;
     Ok(id)
 }

@@ -710,6 +710,10 @@ pub struct ScenarioRow {
     pub below: String,
     pub validation: String,
     pub problems: Vec<String>,
+    pub cost: String,
+    /// Whether it is offered as the `improve_control` measure, and if not, why not.
+    pub offer: String,
+    pub offered: bool,
 }
 
 #[derive(Template)]
@@ -730,11 +734,30 @@ pub async fn scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Resul
     let sm = service::summary_json(&st.db, id, None).await?;
     // The replayed period's saving, scaled to the year like the audit's baseline.
     let scale = g(&sm, "baseline.annual_energy_kwh") / g(&sm, "system.energy_kwh");
+    let offered_id =
+        sm["recommendations"].as_array().and_then(|a| a.iter().find_map(|r| r["scenario_id"].as_i64()));
+    let rev = b.audit.revision;
     let rows = list
         .iter()
         .map(|sc| {
             let r = &sc.result;
             let saving = g(r, "energy_saving_kwh");
+            let max_v = crate::core::recommend::MAX_SCENARIO_VALIDATION_ERROR;
+            let offer = if offered_id == Some(sc.id) {
+                "offered as the control measure on the report".to_string()
+            } else if sc.revision != rev {
+                "replayed on earlier data: replay it again".into()
+            } else if r["feasible"] != Value::Bool(true) {
+                "not offered: the plant does not hold its pressure".into()
+            } else if r["supply_side_only"] != Value::Bool(true) {
+                "not offered: set-point and leak changes are measures of their own".into()
+            } else if !(g(r, "validation_error").abs() <= max_v) {
+                format!("not offered: validation error above {}", fmt.percent(max_v))
+            } else if !(saving > 0.0) {
+                "not offered: it saves no energy".into()
+            } else {
+                "not offered: another scenario pays back sooner".into()
+            };
             ScenarioRow {
                 id: sc.id,
                 name: sc.name.clone(),
@@ -754,6 +777,13 @@ pub async fn scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Resul
                     .as_array()
                     .map(|a| a.iter().filter_map(|x| x.as_str().map(String::from)).collect())
                     .unwrap_or_default(),
+                cost: format!(
+                    "{} ({})",
+                    fmt.money(g(r, "implementation_cost"), &cur),
+                    if r["implementation_cost_source"] == "given" { "quoted" } else { "default estimate" }
+                ),
+                offered: offered_id == Some(sc.id),
+                offer,
             }
         })
         .collect();

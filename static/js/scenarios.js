@@ -23,7 +23,8 @@
     status.textContent = "Replaying the logged demand\u2026";
     try {
       await A.json("/api/v1/audits/" + data.audit_id + "/scenarios", {
-        method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify({ name: f.name.value, changes: changes }),
+        method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(Object.assign({ name: f.name.value, changes: changes },
+          f.implementation_cost.value ? { implementation_cost: Number(f.implementation_cost.value) } : {})),
       });
       window.location.reload();
     } catch (err) { status.textContent = "Not replayed: " + err.message; }
