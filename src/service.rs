@@ -231,7 +231,7 @@ async fn compute_summary(
         audits::cost_overrides(db, b.audit.id).await?.into_iter().collect();
     let accuracy = b.accuracy();
     let leak_estimates = b.leak_estimates();
-    let scenarios = scenario_cases(db, &b).await?;
+    let scenarios = scenario_cases(db, b).await?;
     let summary = tokio::task::spawn_blocking(move || {
         let mut s = analysis::summarize(&AuditInput {
             site: &site,

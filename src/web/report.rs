@@ -751,9 +751,9 @@ pub async fn scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Resul
                 "not offered: the plant does not hold its pressure".into()
             } else if r["supply_side_only"] != Value::Bool(true) {
                 "not offered: set-point and leak changes are measures of their own".into()
-            } else if !(g(r, "validation_error").abs() <= max_v) {
+            } else if g(r, "validation_error").abs().is_nan() || g(r, "validation_error").abs() > max_v {
                 format!("not offered: validation error above {}", fmt.percent(max_v))
-            } else if !(saving > 0.0) {
+            } else if saving.is_nan() || saving <= 0.0 {
                 "not offered: it saves no energy".into()
             } else {
                 "not offered: another scenario pays back sooner".into()
