@@ -234,17 +234,7 @@ fn a_server_killed_during_an_import_leaves_no_partial_upload() {
     let id = s.audit_with_compressor("C1");
     // A file large enough to take a while (10 days at 1 s).
     let rows = 864_000i64;
-    let mut csv = String::from("time,C1 kW,header bar,flow m3/min\n");
-    let start = 1_777_881_600i64;
-    for i in 0..rows {
-        csv.push_str(&format!(
-            "{},{},{:.2},{:.2}\n",
-            jiff_like_rfc3339(start + i),
-            14 + (i % 40),
-            6.9 + (i % 30) as f64 / 100.0,
-            2.0 + (i % 9) as f64 / 10.0
-        ));
-    }
+    let csv = big_csv(rows);
     let base = s.base.clone();
     let bytes = csv.clone().into_bytes();
     let mapping = cycling_mapping();
@@ -287,4 +277,119 @@ fn a_server_killed_during_an_import_leaves_no_partial_upload() {
         .output()
         .unwrap();
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+}
+
+/// Run `f` on two threads at once and return both answers.
+fn both<T: Send>(f: impl Fn(usize) -> T + Sync) -> (T, T) {
+    std::thread::scope(|sc| {
+        let a = sc.spawn(|| f(0));
+        let b = sc.spawn(|| f(1));
+        (a.join().unwrap(), b.join().unwrap())
+    })
+}
+
+#[test]
+fn concurrent_uploads_to_one_audit_neither_interleave_nor_double() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let per_file = 24 * 360 * 3;
+    // The same bytes twice at once: one import, the other told it is a duplicate or in progress.
+    let csv = cycling_csv(24);
+    let (a, b) = both(|i| s.upload(id, &format!("same{i}.csv"), csv.as_bytes(), &cycling_mapping(), ""));
+    let mut st = [a.status, b.status];
+    st.sort();
+    assert!(st == [200, 201] || st == [201, 409], "{st:?}: {} / {}", a.text, b.text);
+    assert_eq!(readings(&s, id), per_file);
+    // Two different files over the same hours at once: one lands whole, the other is refused.
+    let day2 = 1_777_881_600 + 86_400;
+    let x = cycling_csv_at(day2, 24);
+    let y = x.replace(",56.0,", ",55.0,");
+    let files = [x.as_str(), y.as_str()];
+    let (a, b) =
+        both(|i| s.upload(id, &format!("day2-{i}.csv"), files[i].as_bytes(), &cycling_mapping(), ""));
+    let mut st = [a.status, b.status];
+    st.sort();
+    assert_eq!(st, [201, 409], "{} / {}", a.text, b.text);
+    assert_eq!(readings(&s, id), 2 * per_file);
+    // Two files of different days at once: both land.
+    let files = [cycling_csv_at(day2 + 86_400, 24), cycling_csv_at(day2 + 2 * 86_400, 24)];
+    let (a, b) =
+        both(|i| s.upload(id, &format!("day{}.csv", 3 + i), files[i].as_bytes(), &cycling_mapping(), ""));
+    assert_eq!((a.status, b.status), (201, 201), "{} / {}", a.text, b.text);
+    // Nothing interleaved or doubled: three channels, each with exactly four days of readings.
+    let audit = s.get(&format!("/api/v1/audits/{id}")).json();
+    let ch = audit["channels"].as_array().unwrap();
+    assert_eq!(ch.len(), 3, "{ch:?}");
+    for c in ch {
+        assert_eq!(c["readings"], 4 * 24 * 360, "{c}");
+    }
+    // The summary's energy follows from four whole days of the cycle: 22.4 kW mean.
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    let e = sm["system"]["energy_kwh"].as_f64().unwrap();
+    let hours = sm["period"]["hours"].as_f64().unwrap();
+    assert!((e / hours - 22.4).abs() < 0.2, "{e} kWh over {hours} h");
+}
+
+#[test]
+fn big_imports_queue_past_the_cap_and_reports_are_answered_meanwhile() {
+    let s = Server::demo();
+    let ids: Vec<i64> = (0..3).map(|_| s.audit_with_compressor("C1")).collect();
+    let rows = 400_000i64;
+    let csv = big_csv(rows);
+    let report_before = s.get("/audits/1/report");
+    assert_eq!(report_before.status, 200);
+    let mut seen_waiting = false;
+    let mut answered_while_importing = 0;
+    let mut errors = 0;
+    let results = std::thread::scope(|sc| {
+        let handles: Vec<_> = ids
+            .iter()
+            .map(|&id| {
+                let s = &s;
+                let csv = &csv;
+                sc.spawn(move || {
+                    s.upload(id, "big.csv", csv.as_bytes(), &cycling_mapping(), &format!("?token=cap{id}"))
+                })
+            })
+            .collect();
+        let states = |s: &Server| -> Vec<String> {
+            ids.iter()
+                .map(|id| {
+                    s.get(&format!("/api/v1/imports/cap{id}")).json()["state"]
+                        .as_str()
+                        .unwrap_or("")
+                        .to_string()
+                })
+                .collect()
+        };
+        loop {
+            let st = states(&s);
+            if st.iter().all(|x| x == "unknown") && handles.iter().all(|h| h.is_finished()) {
+                break;
+            }
+            let importing = st.iter().filter(|x| *x == "importing").count();
+            assert!(importing <= 2, "at most two imports run at once: {st:?}");
+            if importing == 2 && st.iter().any(|x| x == "waiting") {
+                seen_waiting = true;
+            }
+            // The report of another audit, asked for while the imports write.
+            let r = s.get("/audits/1/report");
+            if r.status != 200 {
+                errors += 1;
+            } else if states(&s).iter().any(|x| x == "importing") {
+                answered_while_importing += 1;
+            }
+        }
+        handles.into_iter().map(|h| h.join().unwrap()).collect::<Vec<_>>()
+    });
+    for r in &results {
+        assert_eq!(r.status, 201, "{}", r.text);
+        assert_eq!(r.json()["readings"], rows * 3);
+    }
+    assert_eq!(errors, 0);
+    assert!(seen_waiting, "the third import was never seen waiting for a slot");
+    assert!(
+        answered_while_importing >= 3,
+        "only {answered_while_importing} reports answered during the imports"
+    );
 }

@@ -220,8 +220,12 @@ pub fn wait_until(timeout: Duration, mut f: impl FnMut() -> bool) -> bool {
 /// A small logger CSV: one compressor cycling 40 s loaded / 160 s unloaded at 10 s, header
 /// pressure and flow; `hours` long from 2026-05-04T08:00Z.
 pub fn cycling_csv(hours: u32) -> String {
+    cycling_csv_at(1_777_881_600, hours) // 2026-05-04T08:00:00Z
+}
+
+/// [`cycling_csv`] from `start` (Unix seconds).
+pub fn cycling_csv_at(start: i64, hours: u32) -> String {
     let mut s = String::from("time,C1 kW,header bar,flow m3/min\n");
-    let start = 1_777_881_600i64; // 2026-05-04T08:00:00Z
     for i in 0..(hours as i64 * 360) {
         let loaded = (i % 20) < 4;
         let t = start + i * 10;
@@ -234,6 +238,23 @@ pub fn cycling_csv(hours: u32) -> String {
         ));
     }
     s
+}
+
+/// A long file at 1 s for the [`cycling_mapping`] layout: `rows` rows from 2026-05-04T08:00Z.
+pub fn big_csv(rows: i64) -> String {
+    let mut csv = String::with_capacity(rows as usize * 40);
+    csv.push_str("time,C1 kW,header bar,flow m3/min\n");
+    let start = 1_777_881_600i64;
+    for i in 0..rows {
+        csv.push_str(&format!(
+            "{},{},{:.2},{:.2}\n",
+            jiff_like_rfc3339(start + i),
+            14 + (i % 40),
+            6.9 + (i % 30) as f64 / 100.0,
+            2.0 + (i % 9) as f64 / 10.0
+        ));
+    }
+    csv
 }
 
 /// RFC 3339 in UTC for whole seconds since the epoch (days-from-civil, Hinnant).
