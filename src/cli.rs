@@ -196,6 +196,8 @@ async fn run(command: Command) -> anyhow::Result<()> {
                     }
                 }
             }
+            // The summary now, so that the server's first report reads it from the cache.
+            service::summary_json(&pool, audit, None).await.map_err(|e| anyhow::anyhow!("{e}"))?;
             Ok(())
         }
         Command::Report { db, audit, format, out } => {

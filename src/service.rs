@@ -275,6 +275,15 @@ async fn scenario_cases(
         .collect())
 }
 
+/// The lock that serialises summary computations of one audit.
+fn summary_lock(id: i64) -> Arc<tokio::sync::Mutex<()>> {
+    static LOCKS: std::sync::OnceLock<
+        std::sync::Mutex<std::collections::HashMap<i64, Arc<tokio::sync::Mutex<()>>>>,
+    > = std::sync::OnceLock::new();
+    let mut m = LOCKS.get_or_init(Default::default).lock().expect("summary locks");
+    m.entry(id).or_default().clone()
+}
+
 /// The summary as JSON: from the cache when the audit has not changed, else computed and cached.
 /// A window (`from`/`to`) is always computed fresh.
 pub async fn summary_json(
@@ -282,6 +291,9 @@ pub async fn summary_json(
     id: i64,
     window: Option<(i64, i64)>,
 ) -> Result<serde_json::Value, AppError> {
+    // One computation per audit at a time: a request that arrives while the summary is being worked
+    // out (after an import, say) waits for it and reads the cache instead of repeating it.
+    let _turn = if window.is_none() { Some(summary_lock(id).lock_owned().await) } else { None };
     let b = bundle(db, id).await?;
     if window.is_none() {
         if let Some(json) = audits::cached_summary(db, id, b.audit.revision).await? {
@@ -419,6 +431,7 @@ pub async fn ensure_demo(db: &SqlitePool, spool_dir: &Path) -> anyhow::Result<i6
         let _ = std::fs::remove_file(&path);
         outcome?;
     }
+    summary_json(db, id, None).await.map_err(|e| anyhow::anyhow!("{e}"))?;
     Ok(id)
 }
 
