@@ -332,10 +332,10 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
         let dq = opts.leak_repair_fraction.clamp(0.0, 1.0) * leak;
         let kwh = capped(dq * r.marginal_kw_per_m3_min * r.annual_running_hours);
         out.extend(finish(r, Draft { kind: "repair_leaks", title: format!("Repair leaks: about {dq:.2} m³/min of free air"), description: format!(
-                "Find and repair {:.0} % of the estimated {leak:.2} m³/min of leaks; the trim compressor {trim_tag} then delivers less air.",
+                "Find and repair {:.0} % of the estimated {leak:.2} m³/min (free air) of leaks; the trim compressor {trim_tag} then delivers less air.",
                 opts.leak_repair_fraction * 100.0
             ), saving_kwh: kwh, money: None, cost_ctx: CostContext { leak_repaired_m3_min: dq, ..Default::default() }, basis: vec![
-                format!("leak flow {leak:.3} m³/min"),
+                format!("leak flow {leak:.3} m³/min free air"),
                 format!("repair fraction {:.2}", opts.leak_repair_fraction),
                 format!("marginal specific power {:.3} kW/(m³/min) ({trim_tag})", r.marginal_kw_per_m3_min),
                 format!("running hours {:.0} h/yr", r.annual_running_hours),
@@ -359,7 +359,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
                     format!("mean header pressure {p_now:.2} bar(g)"),
                     format!("target {target:.2} bar(g)"),
                     format!("annual compressor energy {:.0} kWh", r.annual_energy_kwh),
-                    format!("unregulated demand incl. leaks {q_unreg:.3} m³/min -> {dq:.3} m³/min less"),
+                    format!("unregulated demand incl. leaks {q_unreg:.3} m³/min -> {dq:.3} m³/min less (free air)"),
                     format!("marginal specific power {:.3} kW/(m³/min)", r.marginal_kw_per_m3_min),
                 ], formula: "saving = E × 1 % × Δp / 0.138 bar + Q_unreg Δp / p_abs × marginal kW/(m³/min) × hours", source: "US DOE compressed-air sourcebook (1 % of input per 2 psi)", caution: Some("check that every point of use keeps the pressure its tools need; lower in steps".into()) }));
         }
@@ -373,7 +373,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
             ), saving_kwh: h.fuel_kwh_per_year, money: Some(h.value_per_year), cost_ctx: CostContext { recoverable_heat_kw: h.recoverable_kw, ..Default::default() }, basis: vec![
                 format!("useful heat {:.0} kWh/yr", h.useful_kwh_per_year),
                 format!("heater efficiency {:.2}", r.site.heater_efficiency),
-                format!("fuel price {} per kWh", r.site.heating_fuel_price_per_kwh),
+                format!("fuel price {} {} per kWh", r.site.heating_fuel_price_per_kwh, r.site.currency),
                 format!("recoverable heat {:.1} kW at full load", h.recoverable_kw),
             ], formula: "saving = useful heat / heater efficiency × fuel price, in the months the heat is used", source: "US DOE compressed-air sourcebook, heat-recovery fact sheet", caution: Some(
                 "hot oil, hot ducts and water above 60 °C; interlock the recovery circuit so a blocked \
@@ -437,7 +437,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
                     ),
                     format!("annual energy {:.0} kWh/yr", r.annual_energy_kwh),
                     format!("validation error of the replay {:+.2} %", s.validation_error * 100.0),
-                    format!("scenario cost {:.0}", s.implementation_cost),
+                    format!("scenario cost {:.0} {}", s.implementation_cost, r.site.currency),
                 ],
                 formula:
                     "saving = (replayed baseline - replayed scenario) / replayed baseline × annual energy",

@@ -183,7 +183,7 @@ pub fn default_cost(changes: &[Change], leak_flow_m3_min: Option<f64>) -> (f64, 
         let cost = COST_LEAK_SURVEY + COST_LEAK_PER_M3_MIN * repaired;
         total += cost;
         lines.push(format!(
-            "repair {:.0} % of the leaks ({repaired:.2} m³/min): {cost:.0}",
+            "repair {:.0} % of the leaks ({repaired:.2} m³/min free air): {cost:.0}",
             leak_share * 100.0
         ));
     }
