@@ -310,6 +310,43 @@ fn post_json(a: &ureq::Agent, s: &Server, path: &str, body: &Value) -> Resp {
     read(a.post(format!("{}{path}", s.base)).header("Origin", &s.base).send_json(body))
 }
 
+/// Create an audit with the bench's two compressors; returns its id.
+fn new_audit(a: &ureq::Agent, server: &Server, name: &str) -> i64 {
+    let r = post_json(a, server, "/api/v1/audits", &json!({"name": name, "site": {"altitude_m": 0}}));
+    assert_eq!(r.status, 201, "create audit: {}", r.body);
+    let audit = serde_json::from_str::<Value>(&r.body).expect("json")["id"].as_i64().expect("id");
+    for c in compressors() {
+        let r = post_json(a, server, &format!("/api/v1/audits/{audit}/compressors"), &c);
+        assert_eq!(r.status, 201, "add compressor: {}", r.body);
+    }
+    audit
+}
+
+/// Upload the logger file to an audit as one streamed multipart request; the seconds to the answer.
+fn upload(a: &ureq::Agent, server: &Server, audit: i64, csv: &Path, file_bytes: u64) -> (f64, Resp) {
+    let boundary = "airledgerBENCHboundary5f3c";
+    let head = format!(
+        "--{boundary}\r\nContent-Disposition: form-data; name=\"mapping\"\r\n\r\n{}\r\n\
+         --{boundary}\r\nContent-Disposition: form-data; name=\"file\"; filename=\"logger.csv\"\r\n\
+         Content-Type: text/csv\r\n\r\n",
+        mapping()
+    );
+    let tail = format!("\r\n--{boundary}--\r\n");
+    let length = head.len() as u64 + file_bytes + tail.len() as u64;
+    let mut body = std::io::Cursor::new(head.into_bytes())
+        .chain(BufReader::with_capacity(1 << 20, File::open(csv).expect("csv")))
+        .chain(std::io::Cursor::new(tail.into_bytes()));
+    let t = Instant::now();
+    let r = read(
+        a.post(format!("{}/api/v1/audits/{audit}/uploads", server.base))
+            .header("Origin", &server.base)
+            .header("Content-Type", &format!("multipart/form-data; boundary={boundary}"))
+            .header("Content-Length", &length.to_string())
+            .send(ureq::SendBody::from_reader(&mut body)),
+    );
+    (t.elapsed().as_secs_f64(), r)
+}
+
 /// Time `n` GETs; returns the timings in ms (sorted) and the last body.
 fn time_gets(a: &ureq::Agent, s: &Server, path: &str, n: usize) -> (Vec<f64>, Resp) {
     let mut times = Vec::with_capacity(n);
@@ -531,36 +568,9 @@ fn main() {
     let server = Server::start(&bin, &db, &dir.join("server.log"));
     let a = agent();
     let rss_idle = proc_status_kb(server.pid(), "VmHWM:");
-    let r =
-        post_json(&a, &server, "/api/v1/audits", &json!({"name": "bench plant", "site": {"altitude_m": 0}}));
-    assert_eq!(r.status, 201, "create audit: {}", r.body);
-    let audit = serde_json::from_str::<Value>(&r.body).expect("json")["id"].as_i64().expect("id");
-    for c in compressors() {
-        let r = post_json(&a, &server, &format!("/api/v1/audits/{audit}/compressors"), &c);
-        assert_eq!(r.status, 201, "add compressor: {}", r.body);
-    }
-    let boundary = "airledgerBENCHboundary5f3c";
-    let head = format!(
-        "--{boundary}\r\nContent-Disposition: form-data; name=\"mapping\"\r\n\r\n{}\r\n\
-         --{boundary}\r\nContent-Disposition: form-data; name=\"file\"; filename=\"logger.csv\"\r\n\
-         Content-Type: text/csv\r\n\r\n",
-        mapping()
-    );
-    let tail = format!("\r\n--{boundary}--\r\n");
-    let length = head.len() as u64 + file_bytes + tail.len() as u64;
-    let mut body = std::io::Cursor::new(head.into_bytes())
-        .chain(BufReader::with_capacity(1 << 20, File::open(&csv).expect("csv")))
-        .chain(std::io::Cursor::new(tail.into_bytes()));
-    println!("uploading {:.1} MB...", length as f64 / 1e6);
-    let t = Instant::now();
-    let r = read(
-        a.post(format!("{}/api/v1/audits/{audit}/uploads", server.base))
-            .header("Origin", &server.base)
-            .header("Content-Type", &format!("multipart/form-data; boundary={boundary}"))
-            .header("Content-Length", &length.to_string())
-            .send(ureq::SendBody::from_reader(&mut body)),
-    );
-    let import_s = t.elapsed().as_secs_f64();
+    let audit = new_audit(&a, &server, "bench plant");
+    println!("uploading {:.1} MB...", file_bytes as f64 / 1e6);
+    let (import_s, r) = upload(&a, &server, audit, &csv, file_bytes);
     let rss_peak_kb = proc_status_kb(server.pid(), "VmHWM:");
     let rss_now_kb = proc_status_kb(server.pid(), "VmRSS:");
     assert_eq!(r.status, 201, "upload: {}", r.body);
@@ -577,7 +587,7 @@ fn main() {
 
     println!("\n== ingest ==");
     table.add(
-        "ingest (HTTP upload to 201)",
+        "ingest (HTTP upload to 201), first upload",
         format!(
             "{readings} readings in {import_s:.2} s = {:.2} M readings/s ({:.1} MB/s of CSV)",
             readings as f64 / import_s / 1e6,
@@ -585,21 +595,6 @@ fn main() {
         ),
         "",
     );
-    match duck {
-        Some(d) => {
-            let ratio = import_s / d;
-            table.add("DuckDB one pass (read_csv + hourly GROUP BY, best of 3)", format!("{d:.2} s"), "");
-            table.add(
-                "import / DuckDB",
-                format!("{ratio:.2} x"),
-                &format!(
-                    "target <= {TARGET_IMPORT_VS_DUCKDB} x: {}",
-                    verdict(ratio <= TARGET_IMPORT_VS_DUCKDB)
-                ),
-            );
-        }
-        None => table.add("import / DuckDB", "skipped (pip install duckdb)".into(), ""),
-    }
     let bpr = on_disk as f64 / readings.max(1) as f64;
     table.add(
         "on disk after import (.sqlite + -wal + -shm)",
@@ -771,6 +766,43 @@ fn main() {
             verdict(rss_end.unwrap_or(0.0) / 1024.0 <= TARGET_PEAK_RSS_MB)
         ),
     );
+    // Two more uploads of the same file into fresh audits: the import's best of three, as DuckDB's.
+    // Each waits for the summary worked out after the previous one, so that none competes with it.
+    let mut imports = vec![import_s];
+    for k in 2..=3 {
+        let id = new_audit(&a, &server, &format!("bench plant, upload {k}"));
+        let (s, r) = upload(&a, &server, id, &csv, file_bytes);
+        assert_eq!(r.status, 201, "upload {k}: {}", r.body);
+        imports.push(s);
+        let r = get(&a, &server, &format!("/api/v1/audits/{id}/summary"));
+        assert_eq!(r.status, 200, "summary after upload {k}: {}", r.body);
+    }
+    imports.sort_by(f64::total_cmp);
+    let best = imports[0];
+    table.add(
+        "ingest, best of 3 uploads (each into a fresh audit)",
+        format!(
+            "{best:.2} s = {:.2} M readings/s (all: {})",
+            readings as f64 / best / 1e6,
+            imports.iter().map(|s| format!("{s:.2} s")).collect::<Vec<_>>().join(", ")
+        ),
+        "",
+    );
+    match duck {
+        Some(d) => {
+            let ratio = best / d;
+            table.add("DuckDB one pass (read_csv + hourly GROUP BY, best of 3)", format!("{d:.2} s"), "");
+            table.add(
+                "import / DuckDB (best of 3 each)",
+                format!("{ratio:.2} x"),
+                &format!(
+                    "target <= {TARGET_IMPORT_VS_DUCKDB} x: {}",
+                    verdict(ratio <= TARGET_IMPORT_VS_DUCKDB)
+                ),
+            );
+        }
+        None => table.add("import / DuckDB (best of 3 each)", "skipped (pip install duckdb)".into(), ""),
+    }
     drop(server);
 
     // 5. Where the import's time goes.

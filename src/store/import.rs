@@ -2,9 +2,10 @@
 One logger file into the database: streaming, bounded memory, never half-visible.
 
 The path: the file (already on disk, its SHA-256 known) is parsed by `ingest::parse` on a blocking
-thread; readings arrive per channel in a [`ChunkSink`], which cuts them into chunks of
-[`CHUNK_READINGS`](super::chunk::CHUNK_READINGS) and builds the rollups on the way. Encoded chunks go
-through a bounded queue to the writer, which commits them in batches of [`BATCH`] so that the WAL stays
+thread; readings arrive per channel in a [`ChunkSink`], which cuts them into runs of
+[`CHUNK_READINGS`](super::chunk::CHUNK_READINGS) and hands them through a bounded queue to an encoder
+thread ([`encode_runs`]), which builds the rollups and encodes the chunks, so that parsing and
+encoding use two cores. Encoded chunks go through a second bounded queue to the writer, which commits them in batches of [`BATCH`] so that the WAL stays
 small. The upload row is in state `importing` all that time, which every reader ignores; the last
 transaction checks overlaps, marks it `complete` and bumps the audit's revision. A crash before that
 leaves an `importing` row that the next start-up deletes with its chunks ([`remove_unfinished`]).
@@ -121,69 +122,53 @@ enum Msg {
     Hours { channel: usize, hours: Vec<(i64, Acc)> },
 }
 
+/// What the parse thread keeps per channel: the open chunk and the span of accepted readings.
 struct ChannelBuf {
-    precision: Precision,
     times: Vec<i64>,
     values: Vec<f64>,
     last_t: Option<i64>,
     first_t: Option<i64>,
     readings: u64,
     dropped: u64,
-    rollup: RollupBuilder,
 }
 
-/// Cuts readings into chunks and rollups and hands them to the writer.
+/// A full (or last) run of one channel's readings, handed from the parse thread to the encoder.
+enum Work {
+    Run { channel: usize, times: Vec<i64>, values: Vec<f64> },
+    Finish,
+}
+
+/// How many runs may wait for the encoder: bounds memory (each run is 8192 × 16 bytes).
+const ENCODER_QUEUE: usize = 8;
+
+/// First stage, on the parse thread: drops readings that are not later than the channel's previous
+/// one, and cuts each channel into runs of [`CHUNK_READINGS`] for the encoder.
 struct ChunkSink {
     channels: Vec<ChannelBuf>,
-    tx: mpsc::Sender<Msg>,
+    tx: std::sync::mpsc::SyncSender<Work>,
     progress: Arc<Progress>,
 }
 
-impl ChunkSink {
-    fn send(&self, m: Msg) -> Result<(), IngestError> {
-        self.tx.blocking_send(m).map_err(|_| IngestError {
-            message: "the database writer stopped".into(),
-            line: None,
-            column: None,
-            field: None,
-        })
-    }
+fn writer_stopped() -> IngestError {
+    IngestError { message: "the database writer stopped".into(), line: None, column: None, field: None }
+}
 
-    fn flush(&mut self, ch: usize, last: bool) -> Result<(), IngestError> {
+impl ChunkSink {
+    fn hand_over(&mut self, ch: usize) -> Result<(), IngestError> {
         let b = &mut self.channels[ch];
-        let mut msgs = vec![];
-        if !b.times.is_empty() {
-            let blob = chunk::encode(&b.times, &b.values, b.precision);
-            msgs.push(Msg::Chunk {
-                channel: ch,
-                t0: b.times[0],
-                t1: *b.times.last().expect("non-empty"),
-                n: b.times.len(),
-                blob,
-            });
-            b.times.clear();
-            b.values.clear();
+        if b.times.is_empty() {
+            return Ok(());
         }
-        if last {
-            b.rollup.finish();
-        }
-        for d in b.rollup.finished_days.drain(..) {
-            msgs.push(Msg::Day { channel: ch, day_ms: d.day_ms, blob: encode_day(&d) });
-        }
-        if !b.rollup.finished_hours.is_empty() {
-            msgs.push(Msg::Hours { channel: ch, hours: std::mem::take(&mut b.rollup.finished_hours) });
-        }
-        for m in msgs {
-            self.send(m)?;
-        }
-        Ok(())
+        let times = std::mem::replace(&mut b.times, Vec::with_capacity(CHUNK_READINGS));
+        let values = std::mem::replace(&mut b.values, Vec::with_capacity(CHUNK_READINGS));
+        self.tx.send(Work::Run { channel: ch, times, values }).map_err(|_| writer_stopped())
     }
 
     fn finish(&mut self) -> Result<(), IngestError> {
         for ch in 0..self.channels.len() {
-            self.flush(ch, true)?;
+            self.hand_over(ch)?;
         }
-        Ok(())
+        self.tx.send(Work::Finish).map_err(|_| writer_stopped())
     }
 }
 
@@ -199,13 +184,60 @@ impl ReadingSink for ChunkSink {
         b.readings += 1;
         b.times.push(t_ms);
         b.values.push(value_si);
-        b.rollup.push(t_ms, value_si);
         if b.times.len() >= CHUNK_READINGS {
             self.progress.readings.fetch_add(CHUNK_READINGS as u64, Ordering::Relaxed);
-            self.flush(channel, false)?;
+            self.hand_over(channel)?;
         }
         Ok(())
     }
+}
+
+/// Second stage, on its own thread so that parsing and encoding use two cores: builds the rollups
+/// and encodes the chunks, and passes both to the writer in the order they were cut.
+fn encode_runs(
+    precisions: Vec<Precision>,
+    rx: std::sync::mpsc::Receiver<Work>,
+    tx: mpsc::Sender<Msg>,
+) -> Result<(), IngestError> {
+    let mut rollups: Vec<RollupBuilder> = precisions.iter().map(|_| RollupBuilder::default()).collect();
+    let send = |m: Msg| tx.blocking_send(m).map_err(|_| writer_stopped());
+    let days_and_hours = |ch: usize, r: &mut RollupBuilder| -> Result<(), IngestError> {
+        for d in r.finished_days.drain(..) {
+            send(Msg::Day { channel: ch, day_ms: d.day_ms, blob: encode_day(&d) })?;
+        }
+        if !r.finished_hours.is_empty() {
+            send(Msg::Hours { channel: ch, hours: std::mem::take(&mut r.finished_hours) })?;
+        }
+        Ok(())
+    };
+    while let Ok(work) = rx.recv() {
+        match work {
+            Work::Run { channel, times, values } => {
+                let r = &mut rollups[channel];
+                for (&t, &v) in times.iter().zip(&values) {
+                    r.push(t, v);
+                }
+                let blob = chunk::encode(&times, &values, precisions[channel]);
+                send(Msg::Chunk {
+                    channel,
+                    t0: times[0],
+                    t1: *times.last().expect("a run is never empty"),
+                    n: times.len(),
+                    blob,
+                })?;
+                days_and_hours(channel, r)?;
+            }
+            Work::Finish => {
+                for (ch, r) in rollups.iter_mut().enumerate() {
+                    r.finish();
+                    days_and_hours(ch, r)?;
+                }
+                return Ok(());
+            }
+        }
+    }
+    // The parser stopped without finishing (a bad file): nothing more to write.
+    Ok(())
 }
 
 /// A channel this file writes, resolved against the audit.
@@ -344,17 +376,19 @@ async fn run_import(
     progress: Arc<Progress>,
 ) -> Result<ImportSummary, ImportError> {
     let (tx, mut rx) = mpsc::channel::<Msg>(32);
+    let precisions: Vec<Precision> = defs
+        .iter()
+        .map(|d| if d.quantity == ingest::Quantity::Energy { Precision::F64 } else { Precision::F32 })
+        .collect();
     let channels = defs
         .iter()
-        .map(|d| ChannelBuf {
-            precision: if d.quantity == ingest::Quantity::Energy { Precision::F64 } else { Precision::F32 },
+        .map(|_| ChannelBuf {
             times: Vec::with_capacity(CHUNK_READINGS),
             values: Vec::with_capacity(CHUNK_READINGS),
             last_t: None,
             first_t: None,
             readings: 0,
             dropped: 0,
-            rollup: RollupBuilder::default(),
         })
         .collect();
     let path = req.path.clone();
@@ -362,21 +396,39 @@ async fn run_import(
     let site = req.site;
     let prog = progress.clone();
     let parser = tokio::task::spawn_blocking(move || {
-        let mut sink = ChunkSink { channels, tx, progress: prog.clone() };
-        let file = std::fs::File::open(&path).map_err(|e| IngestError {
-            message: format!("cannot read the uploaded file: {e}"),
-            line: None,
-            column: None,
-            field: None,
-        })?;
-        let reader = std::io::BufReader::with_capacity(256 * 1024, file);
-        let report = ingest::parse_stream(reader, &mapping, &site, &mut sink, &mut |b| {
-            prog.bytes_done.store(b, Ordering::Relaxed)
-        })?;
-        sink.finish()?;
-        let spans: Vec<(Option<i64>, Option<i64>, u64, u64)> =
-            sink.channels.iter().map(|c| (c.first_t, c.last_t, c.readings, c.dropped)).collect();
-        Ok::<_, IngestError>((report, spans))
+        let (work_tx, work_rx) = std::sync::mpsc::sync_channel::<Work>(ENCODER_QUEUE);
+        std::thread::scope(|scope| {
+            let encoder = scope.spawn(move || encode_runs(precisions, work_rx, tx));
+            let parsed = (|| {
+                let mut sink = ChunkSink { channels, tx: work_tx, progress: prog.clone() };
+                let file = std::fs::File::open(&path).map_err(|e| IngestError {
+                    message: format!("cannot read the uploaded file: {e}"),
+                    line: None,
+                    column: None,
+                    field: None,
+                })?;
+                let reader = std::io::BufReader::with_capacity(256 * 1024, file);
+                let report = ingest::parse_stream(reader, &mapping, &site, &mut sink, &mut |b| {
+                    prog.bytes_done.store(b, Ordering::Relaxed)
+                })?;
+                sink.finish()?;
+                let spans: Vec<(Option<i64>, Option<i64>, u64, u64)> =
+                    sink.channels.iter().map(|c| (c.first_t, c.last_t, c.readings, c.dropped)).collect();
+                Ok::<_, IngestError>((report, spans))
+            })();
+            // The sink (and with it the encoder's queue) is dropped by now, so the encoder ends.
+            let encoded = encoder.join().unwrap_or_else(|_| {
+                Err(IngestError {
+                    message: "the encoder failed".into(),
+                    line: None,
+                    column: None,
+                    field: None,
+                })
+            });
+            let parsed = parsed?;
+            encoded?;
+            Ok::<_, IngestError>(parsed)
+        })
     });
 
     // The writer: batches of chunks and rollups, one short transaction each.
