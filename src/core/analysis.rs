@@ -611,7 +611,9 @@ pub fn summarize(input: &AuditInput) -> Summary {
 
     // Interval-synchronous specific power, part-load curve, isothermal efficiency.
     let (mut sp_p, mut sp_q) = (0.0, 0.0);
-    let (mut iso_w, mut iso_p, mut iso_ln) = (0.0, 0.0, Vec::new());
+    // The header pressure's sum and count over those bins (its mean sets the pressure's share of
+    // the isothermal efficiency's uncertainty).
+    let (mut iso_w, mut iso_p, mut iso_pa_sum, mut iso_pa_n) = (0.0, 0.0, 0.0f64, 0usize);
     let q_max = flow
         .as_ref()
         .map_or(0.0, |q| q.iter().filter(|x| x.is_finite()).fold(0.0f64, |a, &b| a.max(b as f64)));
@@ -637,7 +639,8 @@ pub fn summarize(input: &AuditInput) -> Summary {
                 if pa.is_finite() && pa > atm.0 && pw > 0.0 {
                     iso_w += thermo::isothermal_power(FreeAirFlow(qq), atm, PressureAbs(pa)).0;
                     iso_p += pw;
-                    iso_ln.push(pa);
+                    iso_pa_sum += pa;
+                    iso_pa_n += 1;
                 }
             }
         }
@@ -656,7 +659,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
         .collect();
     let iso = (iso_p > 0.0).then(|| thermo::isothermal_efficiency(Power(iso_w), Power(iso_p)));
     let u_iso = {
-        let pm = if iso_ln.is_empty() { 8e5 } else { iso_ln.iter().sum::<f64>() / iso_ln.len() as f64 };
+        let pm = if iso_pa_n == 0 { 8e5 } else { iso_pa_sum / iso_pa_n as f64 };
         let ln_r = (pm / atm.0).ln().max(1e-6);
         quad(&[u_power, u_flow, acc.pressure_abs_bar() * 1e5 / pm / ln_r])
     };
@@ -1101,12 +1104,15 @@ pub fn summarize(input: &AuditInput) -> Summary {
 
     // Pressure.
     let pressure_fig = {
-        let vals: Vec<f64> = pressure.map_or_else(Vec::new, |p| {
-            p.iter().filter(|x| x.is_finite()).map(|&x| PressureAbs(x as f64).bar_g(atm)).collect()
-        });
+        // One sorted copy in the logged SI values (f32, unstable sort: the frame's own precision),
+        // then bar(g) per figure: the conversion is linear, so percentiles commute with it.
+        let mut sorted: Vec<f32> =
+            pressure.map_or_else(Vec::new, |p| p.iter().copied().filter(|x| x.is_finite()).collect());
+        sorted.sort_unstable_by(f32::total_cmp);
+        let bar_g = |pa: f64| PressureAbs(pa).bar_g(atm);
         let low_limit = cs.iter().map(|c| c.rated_pressure_bar_g).reduce(f64::min).map(|x| x - 1.0);
         let high = cs.iter().map(|c| c.rated_pressure_bar_g).reduce(f64::max);
-        if vals.is_empty() {
+        if sorted.is_empty() {
             PressureFigures {
                 logged: false,
                 mean_bar_g: None,
@@ -1123,22 +1129,29 @@ pub fn summarize(input: &AuditInput) -> Summary {
                 share_above_highest_rated: None,
             }
         } else {
-            let mean = vals.iter().sum::<f64>() / vals.len() as f64;
-            let var = vals.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / vals.len() as f64;
-            let share =
-                |f: &dyn Fn(f64) -> bool| vals.iter().filter(|&&v| f(v)).count() as f64 / vals.len() as f64;
-            let below = low_limit.map(|l| share(&|v| v < l));
-            let above = high.map(|h| share(&|v| v > h));
-            let mut sorted = vals.clone();
-            sorted.sort_by(f64::total_cmp);
+            let len = sorted.len() as f64;
+            let mean = sorted.iter().map(|&v| bar_g(v as f64)).sum::<f64>() / len;
+            let var = sorted.iter().map(|&v| (bar_g(v as f64) - mean).powi(2)).sum::<f64>() / len;
+            let below = low_limit.map(|l| sorted.partition_point(|&v| bar_g(v as f64) < l) as f64 / len);
+            let above =
+                high.map(|h| (sorted.len() - sorted.partition_point(|&v| bar_g(v as f64) <= h)) as f64 / len);
+            let pct = |p: f64| {
+                let x = p * (sorted.len() - 1) as f64;
+                let i = x.floor() as usize;
+                let lo = bar_g(sorted[i] as f64);
+                match sorted.get(i + 1) {
+                    Some(&next) => lo + (x - i as f64) * (bar_g(next as f64) - lo),
+                    None => lo,
+                }
+            };
             PressureFigures {
                 logged: true,
                 mean_bar_g: Some(mean),
-                min_bar_g: sorted.first().copied(),
-                max_bar_g: sorted.last().copied(),
-                p5_bar_g: Some(percentile(&sorted, 0.05)),
-                p50_bar_g: Some(percentile(&sorted, 0.50)),
-                p95_bar_g: Some(percentile(&sorted, 0.95)),
+                min_bar_g: sorted.first().map(|&v| bar_g(v as f64)),
+                max_bar_g: sorted.last().map(|&v| bar_g(v as f64)),
+                p5_bar_g: Some(pct(0.05)),
+                p50_bar_g: Some(pct(0.50)),
+                p95_bar_g: Some(pct(0.95)),
                 std_dev_bar: Some(var.sqrt()),
                 uncertainty_bar: acc.pressure_abs_bar(),
                 low_limit_bar_g: low_limit,
@@ -1156,8 +1169,8 @@ pub fn summarize(input: &AuditInput) -> Summary {
 
     // Demand.
     let duration: Vec<DurationPoint> = flow.as_ref().map_or_else(Vec::new, |q| {
-        let mut v: Vec<f64> = q.iter().filter(|x| x.is_finite()).map(|&x| x as f64 * 60.0).collect();
-        v.sort_by(|a, b| b.total_cmp(a));
+        let mut v: Vec<f32> = q.iter().copied().filter(|x| x.is_finite()).collect();
+        v.sort_unstable_by(|a, b| b.total_cmp(a));
         if v.is_empty() {
             return Vec::new();
         }
@@ -1165,7 +1178,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
             .map(|k| {
                 let share = k as f64 / 49.0;
                 let idx = ((share * (v.len() - 1) as f64).round() as usize).min(v.len() - 1);
-                DurationPoint { share_of_time: share, flow_m3_min: v[idx] }
+                DurationPoint { share_of_time: share, flow_m3_min: v[idx] as f64 * 60.0 }
             })
             .collect()
     });

@@ -108,13 +108,14 @@ struct BinAccumulator {
     grid: Grid,
     /// Integral of the signal over the covered part of each bin (value × ms).
     integral: Vec<f64>,
-    /// Covered time of each bin, ms.
-    covered_ms: Vec<f64>,
+    /// Covered time of each bin, ms. Sums of whole milliseconds are exact in `f32` up to 2^24 ms
+    /// (4.6 h) a bin and within 1e-7 beyond; half the memory of `f64` for a coverage share.
+    covered_ms: Vec<f32>,
 }
 
 impl BinAccumulator {
     fn new(grid: Grid) -> Self {
-        Self { grid, integral: vec![0.0; grid.len], covered_ms: vec![0.0; grid.len] }
+        Self { grid, integral: vec![0.0; grid.len], covered_ms: vec![0.0f32; grid.len] }
     }
 
     /// Add the straight line from `(t0, v0)` to `(t1, v1)`, cut at bin edges and at the grid's ends.
@@ -133,7 +134,7 @@ impl BinAccumulator {
             let hi = b.min(self.grid.bin_start_ms(i + 1));
             let dt = (hi - lo) as f64;
             self.integral[i] += 0.5 * (value_at(lo) + value_at(hi)) * dt;
-            self.covered_ms[i] += dt;
+            self.covered_ms[i] += dt as f32;
             lo = hi;
             i += 1;
         }
@@ -144,7 +145,14 @@ impl BinAccumulator {
         self.integral
             .iter()
             .zip(&self.covered_ms)
-            .map(|(&s, &c)| if c >= half && c > 0.0 { (s / c) as f32 } else { f32::NAN })
+            .map(|(&s, &c)| {
+                let c = c as f64;
+                if c >= half && c > 0.0 {
+                    (s / c) as f32
+                } else {
+                    f32::NAN
+                }
+            })
             .collect()
     }
 }

@@ -110,13 +110,25 @@ pub async fn load_frame(
     }
     let native = chans.iter().map(|c| c.interval_ms()).min().unwrap_or(1000);
     let grid = Grid::choose(from, to, native, MAX_FRAME_BINS);
-    let mut columns = Vec::with_capacity(chans.len());
+    // Channels are decoded and aligned side by side, as many at a time as the machine has cores
+    // (each holds its chunk blobs and a bin accumulator of 12 bytes a bin while it runs).
+    let parallel = std::thread::available_parallelism().map_or(1, |n| n.get()).clamp(1, 4);
+    let mut running: std::collections::VecDeque<tokio::task::JoinHandle<Result<Vec<f32>, StoreError>>> =
+        Default::default();
+    let mut aligned: Vec<Vec<f32>> = Vec::with_capacity(chans.len());
+    let joined = |r: Result<Result<Vec<f32>, StoreError>, tokio::task::JoinError>| {
+        r.map_err(|e| StoreError::Damaged { path: "frame".into(), detail: e.to_string() })?
+    };
     for c in chans {
+        if running.len() >= parallel {
+            let oldest = running.pop_front().expect("running is not empty");
+            aligned.push(joined(oldest.await)?);
+        }
         let blobs = chunk_blobs(pool, c.id, from, to).await?;
         let max_gap = (3 * c.interval_ms()).max(grid.step_ms);
         let g = grid;
         let energy = c.quantity == "energy";
-        let values = tokio::task::spawn_blocking(move || -> Result<Vec<f32>, StoreError> {
+        running.push_back(tokio::task::spawn_blocking(move || -> Result<Vec<f32>, StoreError> {
             if energy {
                 let mut a = CounterAligner::new(g, max_gap);
                 for b in &blobs {
@@ -130,9 +142,13 @@ pub async fn load_frame(
                 }
                 Ok(a.finish())
             }
-        })
-        .await
-        .map_err(|e| StoreError::Damaged { path: "frame".into(), detail: e.to_string() })??;
+        }));
+    }
+    for h in running {
+        aligned.push(joined(h.await)?);
+    }
+    let mut columns = Vec::with_capacity(chans.len());
+    for (c, values) in chans.iter().zip(aligned) {
         let signal = match c.quantity.as_str() {
             "power" | "energy" => Signal::Power,
             "pressure" => Signal::Pressure,
