@@ -207,12 +207,55 @@ pub async fn import_path(
     })
 }
 
+/// What an audit's whole-log frame is made of: the audit, its complete uploads, its channels (with
+/// their compressor and span) and the order of the analysis' compressors. Uploads are never changed
+/// once complete except by a later upload's `replace`, which adds its own id, so an equal key means
+/// an equal frame.
+fn frame_key(b: &AuditBundle) -> String {
+    let mut key = format!("audit {} uploads", b.audit.id);
+    for u in &b.uploads {
+        key.push_str(&format!(" {}", u.id));
+    }
+    key.push_str(" channels");
+    for c in &b.channels {
+        key.push_str(&format!(" {}:{:?}:{}-{}:{}", c.id, c.compressor_id, c.first_ms, c.last_ms, c.readings));
+    }
+    key.push_str(&format!(" compressors {:?}", b.compressor_ids()));
+    key
+}
+
+/// A frame with its [`frame_key`].
+type KeptFrame = (String, Arc<Frame>);
+
+/// The last whole-log frame built, for the next computation of the same data. Decoding and aligning
+/// the readings is most of a cold summary, and an edit that leaves the data alone (prices, costs,
+/// field tests, rated data, names) needs the very same frame again. One frame at a time, so the
+/// memory it holds is bounded: at most `read::MAX_FRAME_BINS` × 4 bytes a channel.
+fn frame_cache() -> &'static std::sync::Mutex<Option<KeptFrame>> {
+    static CACHE: std::sync::OnceLock<std::sync::Mutex<Option<KeptFrame>>> = std::sync::OnceLock::new();
+    CACHE.get_or_init(Default::default)
+}
+
 async fn frame_for(
     db: &SqlitePool,
     b: &AuditBundle,
     window: Option<(i64, i64)>,
-) -> Result<Option<Frame>, AppError> {
-    Ok(read::load_frame(db, &b.channels, &b.compressor_ids(), window).await?)
+) -> Result<Option<Arc<Frame>>, AppError> {
+    if window.is_some() {
+        return Ok(read::load_frame(db, &b.channels, &b.compressor_ids(), window).await?.map(Arc::new));
+    }
+    let key = frame_key(b);
+    if let Some((k, f)) = frame_cache().lock().expect("frame cache").as_ref() {
+        if *k == key {
+            return Ok(Some(f.clone()));
+        }
+    }
+    let Some(frame) = read::load_frame(db, &b.channels, &b.compressor_ids(), None).await? else {
+        return Ok(None);
+    };
+    let frame = Arc::new(frame);
+    *frame_cache().lock().expect("frame cache") = Some((key, frame.clone()));
+    Ok(Some(frame))
 }
 
 /// Compute the summary (no cache).
@@ -348,7 +391,8 @@ pub async fn add_field_test(
     let site = b.audit.site.air();
     let specs = b.specs();
     let storage = b.storage();
-    let ctx = FieldTestContext { site: &site, compressors: &specs, storage: &storage, frame: frame.as_ref() };
+    let ctx =
+        FieldTestContext { site: &site, compressors: &specs, storage: &storage, frame: frame.as_deref() };
     let result = fieldtest::evaluate(&input, &ctx).map_err(test_error)?;
     let result = serde_json::to_value(&result).map_err(|e| AppError::Internal(e.into()))?;
     let tid = audits::add_field_test(db, id, input.method(), &body, &result).await?;

@@ -46,7 +46,7 @@ fn overlapping_readings_are_refused_unless_replaced() {
     let id = s.audit_with_compressor("C1");
     assert_eq!(s.upload(id, "a.csv", cycling_csv(2).as_bytes(), &cycling_mapping(), "").status, 201);
     // The same hours in another file (other bytes): 409 naming the channel.
-    let other = cycling_csv(1).replace(",56.0,", ",55.0,");
+    let other = cycling_csv(1).replace(",56,", ",55,");
     let r = s.upload(id, "b.csv", other.as_bytes(), &cycling_mapping(), "");
     assert_eq!(r.status, 409, "{}", r.text);
     assert!(r.json()["error"]["message"].as_str().unwrap().contains("overlap"));
@@ -57,6 +57,45 @@ fn overlapping_readings_are_refused_unless_replaced() {
     let a = s.get(&format!("/api/v1/audits/{id}")).json();
     let total: i64 = a["channels"].as_array().unwrap().iter().map(|c| c["readings"].as_i64().unwrap()).sum();
     assert_eq!(total, 2160, "one hour replaced, none doubled");
+}
+
+/// The summary is worked out again from a kept frame after an edit, and from the new readings after
+/// an upload that replaces readings over the very same span (same channels, span and count: only the
+/// upload ids tell the frames apart).
+#[test]
+fn summaries_follow_edits_and_replaced_readings() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let summary = || {
+        let r = s.get(&format!("/api/v1/audits/{id}/summary"));
+        assert_eq!(r.status, 200, "{}", r.text);
+        r.json()
+    };
+    let price = |p: f64| {
+        let r =
+            s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"electricity_price_per_kwh": p}}));
+        assert_eq!(r.status, 200, "{}", r.text);
+    };
+    price(0.10);
+    assert_eq!(s.upload(id, "a.csv", cycling_csv(2).as_bytes(), &cycling_mapping(), "").status, 201);
+    let a = summary();
+    // Loaded 4 of every 20 readings at 56 kW, else 14 kW: 22.4 kW mean over 2 h less one 10 s interval.
+    let e1 = a["system"]["energy_kwh"].as_f64().unwrap();
+    assert!((e1 - 22.4 * (7190.0 / 3600.0)).abs() < 0.5, "energy {e1} kWh");
+    let cost1 = a["baseline"]["annual_energy_cost"].as_f64().unwrap();
+    price(0.20);
+    let b = summary();
+    assert_eq!(b["system"]["energy_kwh"].as_f64().unwrap(), e1, "an edit of the price leaves the energy");
+    let cost2 = b["baseline"]["annual_energy_cost"].as_f64().unwrap();
+    assert!((cost2 / cost1 - 2.0).abs() < 1e-9, "the energy cost follows the price: {cost1} -> {cost2}");
+    // The same two hours again with the loaded power doubled, replacing the stored readings.
+    let doubled = cycling_csv(2).replace(",56,", ",112,");
+    assert_ne!(doubled, cycling_csv(2));
+    let r = s.upload(id, "b.csv", doubled.as_bytes(), &cycling_mapping(), "?replace=true");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let e2 = summary()["system"]["energy_kwh"].as_f64().unwrap();
+    // Mean (4 x 112 + 16 x 14) / 20 = 33.6 kW: 1.5 times the first file's.
+    assert!((e2 / e1 - 1.5).abs() < 0.01, "energy {e1} -> {e2} kWh after the replacing upload");
 }
 
 fn assert_unprocessable(
@@ -303,7 +342,8 @@ fn concurrent_uploads_to_one_audit_neither_interleave_nor_double() {
     // Two different files over the same hours at once: one lands whole, the other is refused.
     let day2 = 1_777_881_600 + 86_400;
     let x = cycling_csv_at(day2, 24);
-    let y = x.replace(",56.0,", ",55.0,");
+    let y = x.replace(",56,", ",55,");
+    assert_ne!(x, y, "two different files");
     let files = [x.as_str(), y.as_str()];
     let (a, b) =
         both(|i| s.upload(id, &format!("day2-{i}.csv"), files[i].as_bytes(), &cycling_mapping(), ""));

@@ -117,6 +117,10 @@ impl Server {
         send(ureq_agent().put(&self.url(path)).header("Origin", &self.base).send_json(body))
     }
 
+    pub fn patch_json(&self, path: &str, body: &Value) -> Resp {
+        send(ureq_agent().patch(&self.url(path)).header("Origin", &self.base).send_json(body))
+    }
+
     /// Multipart upload of `file` with `mapping`; `query` like `?replace=true`.
     pub fn upload(&self, audit: i64, name: &str, file: &[u8], mapping: &Value, query: &str) -> Resp {
         let boundary = "airledgerTESTboundary7d1a";
