@@ -6,8 +6,8 @@ It prints figures and asserts nothing about time. What it measures:
 1. Ingest: a generated 2,000,000-row logger file (1 s, 4 channels, 8 M readings) uploaded over HTTP
    to the real release binary (`airledger serve`), timed from request start to the 201; readings per
    second, bytes per reading on disk, the server's peak RSS. Two more uploads into fresh audits at
-   the end make the import's best of three, compared with DuckDB's best of three. Then the same file through the library
-   in phases (parse only, parse + chunk encoding and rollups, the full import without HTTP) to show
+   the end make the import's best of three, compared with DuckDB's best of three. Then the same
+   file through the library in phases (parse only, parse + chunk encoding and rollups, the full import without HTTP) to show
    where the time goes.
 2. The DuckDB baseline (`benches/duckdb_baseline.py`): one `read_csv` of the same file and an hourly
    `GROUP BY`, when python3 can `import duckdb`; otherwise skipped.

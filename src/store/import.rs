@@ -5,10 +5,11 @@ The path: the file (already on disk, its SHA-256 known) is parsed by `ingest::pa
 thread; readings arrive per channel in a [`ChunkSink`], which cuts them into runs of
 [`CHUNK_READINGS`](super::chunk::CHUNK_READINGS) and hands them through a bounded queue to an encoder
 thread ([`encode_runs`]), which builds the rollups and encodes the chunks, so that parsing and
-encoding use two cores. Encoded chunks go through a second bounded queue to the writer, which commits them in batches of [`BATCH`] so that the WAL stays
-small. The upload row is in state `importing` all that time, which every reader ignores; the last
-transaction checks overlaps, marks it `complete` and bumps the audit's revision. A crash before that
-leaves an `importing` row that the next start-up deletes with its chunks ([`remove_unfinished`]).
+encoding use two cores. Encoded chunks go through a second bounded queue to the writer, which
+commits them in batches of [`BATCH`] so that the WAL stays small. The upload row is in state
+`importing` all that time, which every reader ignores; the last transaction checks overlaps, marks
+it `complete` and bumps the audit's revision. A crash before that leaves an `importing` row that the
+next start-up deletes with its chunks ([`remove_unfinished`]).
 
 Readings of one channel must arrive in time order: a reading not later than the channel's previous one
 (a duplicate or out-of-order timestamp, which the data-quality report lists) is dropped, the first one
