@@ -7,8 +7,8 @@ It prints figures and asserts nothing about time. What it measures:
    to the real release binary (`airledger serve`), timed from request start to the 201; readings per
    second, bytes per reading on disk, the server's peak RSS. Two more uploads into fresh audits at
    the end make the import's best of three, compared with DuckDB's best of three. Then the same
-   file through the library in phases (parse only, parse + chunk encoding and rollups, the full import without HTTP) to show
-   where the time goes.
+   file through the library in phases (parse only, parse + chunk encoding and rollups, the full
+   import without HTTP) to show where the time goes.
 2. The DuckDB baseline (`benches/duckdb_baseline.py`): one `read_csv` of the same file and an hourly
    `GROUP BY`, when python3 can `import duckdb`; otherwise skipped.
 3. Reports on the same audit: the summary cold and warm, after a price edit (the kept frame, the
