@@ -555,9 +555,9 @@ pub fn summarize(input: &AuditInput) -> Summary {
     }
     let total_power: Option<Vec<f32>> = sum_columns(n, powers.iter().flatten().copied());
 
-    let measured_flow = frame.system_flow();
-    let (flow, flow_source, flow_estimated) = match &measured_flow {
-        Some(q) => (Some(q.clone()), "measured", false),
+    // The metered system flow when there is one (taken, not copied), else the compressors' estimate.
+    let (flow, flow_source, flow_estimated) = match frame.system_flow() {
+        Some(q) => (Some(q), "measured", false),
         None => (
             sum_columns(n, est_flow.iter().flatten().map(|v| v.as_slice())),
             "estimated_from_compressor_states",
@@ -1210,7 +1210,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
 
     let coverage = Coverage {
         power: total_power.as_ref().map_or(0.0, |p| integrate(&grid, p).coverage),
-        flow: measured_flow.as_ref().map_or(0.0, |q| integrate(&grid, q).coverage),
+        flow: if flow_estimated { 0.0 } else { flow.as_ref().map_or(0.0, |q| integrate(&grid, q).coverage) },
         pressure: pressure.map_or(0.0, |p| integrate(&grid, p).coverage),
     };
 
