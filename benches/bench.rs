@@ -491,8 +491,22 @@ fn library_import(dir: &Path, csv: &Path) -> LibraryRun {
         let t = Instant::now();
         airledger::service::summary_json(&pool, audit, None).await.expect("summary");
         let summary_took = t.elapsed();
+        // A price edit bumps the revision; the summary is computed again from the kept frame.
+        let price: airledger::records::SitePatch =
+            serde_json::from_value(json!({"electricity_price_per_kwh": 0.19})).expect("site");
+        airledger::service::update_audit(&pool, audit, None, None, None, &price).await.expect("edit");
+        let t = Instant::now();
+        airledger::service::summary_json(&pool, audit, None).await.expect("summary");
+        let analysis = t.elapsed();
         pool.close().await;
-        LibraryRun { import: took, readings, frame: frame_took, frame_bins: bins, summary: summary_took }
+        LibraryRun {
+            import: took,
+            readings,
+            frame: frame_took,
+            frame_bins: bins,
+            summary: summary_took,
+            analysis,
+        }
     })
 }
 
@@ -502,6 +516,7 @@ struct LibraryRun {
     frame: Duration,
     frame_bins: usize,
     summary: Duration,
+    analysis: Duration,
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -910,11 +925,12 @@ fn main() {
     );
     table.add(
         "summary cold, library: summary_json total (frame + analysis + cache)",
-        format!(
-            "{:.1} ms (=> analysis and the rest ~ {:.1} ms)",
-            lib.summary.as_secs_f64() * 1000.0,
-            (lib.summary.as_secs_f64() - lib.frame.as_secs_f64()) * 1000.0
-        ),
+        format!("{:.1} ms", lib.summary.as_secs_f64() * 1000.0),
+        "",
+    );
+    table.add(
+        "summary after a price edit, library (kept frame: analysis + cache)",
+        format!("{:.1} ms", lib.analysis.as_secs_f64() * 1000.0),
         "",
     );
 
