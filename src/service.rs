@@ -207,12 +207,12 @@ pub async fn import_path(
     })
 }
 
-/// What an audit's whole-log frame is made of: the audit, its complete uploads, its channels (with
-/// their compressor and span) and the order of the analysis' compressors. Uploads are never changed
-/// once complete except by a later upload's `replace`, which adds its own id, so an equal key means
-/// an equal frame.
-fn frame_key(b: &AuditBundle) -> String {
-    let mut key = format!("audit {} uploads", b.audit.id);
+/// What an audit's whole-log frame is made of: the database file, the audit, its complete uploads,
+/// its channels (with their compressor and span) and the order of the analysis' compressors.
+/// Uploads are never changed once complete except by a later upload's `replace`, which adds its own
+/// id, so an equal key means an equal frame.
+fn frame_key(db: &SqlitePool, b: &AuditBundle) -> String {
+    let mut key = format!("{} audit {} uploads", db.connect_options().get_filename().display(), b.audit.id);
     for u in &b.uploads {
         key.push_str(&format!(" {}", u.id));
     }
@@ -241,21 +241,20 @@ async fn frame_for(
     b: &AuditBundle,
     window: Option<(i64, i64)>,
 ) -> Result<Option<Arc<Frame>>, AppError> {
-    if window.is_some() {
-        return Ok(read::load_frame(db, &b.channels, &b.compressor_ids(), window).await?.map(Arc::new));
-    }
-    let key = frame_key(b);
-    if let Some((k, f)) = frame_cache().lock().expect("frame cache").as_ref() {
-        if *k == key {
-            return Ok(Some(f.clone()));
+    // Only whole-log frames are kept; a window is built fresh each time.
+    let key = window.is_none().then(|| frame_key(db, b));
+    if let Some(key) = &key {
+        if let Some((k, f)) = frame_cache().lock().expect("frame cache").as_ref() {
+            if k == key {
+                return Ok(Some(f.clone()));
+            }
         }
     }
-    let Some(frame) = read::load_frame(db, &b.channels, &b.compressor_ids(), None).await? else {
-        return Ok(None);
-    };
-    let frame = Arc::new(frame);
-    *frame_cache().lock().expect("frame cache") = Some((key, frame.clone()));
-    Ok(Some(frame))
+    let frame = read::load_frame(db, &b.channels, &b.compressor_ids(), window).await?.map(Arc::new);
+    if let (Some(key), Some(f)) = (key, &frame) {
+        *frame_cache().lock().expect("frame cache") = Some((key, f.clone()));
+    }
+    Ok(frame)
 }
 
 /// Compute the summary (no cache).

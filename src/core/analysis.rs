@@ -463,13 +463,14 @@ fn peak_mean(grid: &Grid, values: &[f32], window_s: f64) -> (f64, f64) {
     (if best.is_finite() { best } else { 0.0 }, k as f64 * grid.step_s())
 }
 
-fn percentile(sorted: &[f64], p: f64) -> f64 {
+fn percentile<T: Copy + Into<f64>>(sorted: &[T], p: f64) -> f64 {
     let x = p * (sorted.len() - 1) as f64;
     let (i, f) = (x.floor() as usize, x - x.floor());
+    let at = |k: usize| -> f64 { sorted[k].into() };
     if i + 1 < sorted.len() {
-        sorted[i] + f * (sorted[i + 1] - sorted[i])
+        at(i) + f * (at(i + 1) - at(i))
     } else {
-        sorted[i]
+        at(i)
     }
 }
 
@@ -1135,15 +1136,8 @@ pub fn summarize(input: &AuditInput) -> Summary {
             let below = low_limit.map(|l| sorted.partition_point(|&v| bar_g(v as f64) < l) as f64 / len);
             let above =
                 high.map(|h| (sorted.len() - sorted.partition_point(|&v| bar_g(v as f64) <= h)) as f64 / len);
-            let pct = |p: f64| {
-                let x = p * (sorted.len() - 1) as f64;
-                let i = x.floor() as usize;
-                let lo = bar_g(sorted[i] as f64);
-                match sorted.get(i + 1) {
-                    Some(&next) => lo + (x - i as f64) * (bar_g(next as f64) - lo),
-                    None => lo,
-                }
-            };
+            // Linear interpolation commutes with the linear conversion to bar(g).
+            let pct = |p: f64| bar_g(percentile(&sorted, p));
             PressureFigures {
                 logged: true,
                 mean_bar_g: Some(mean),
@@ -1558,6 +1552,48 @@ mod tests {
             assert!(j.pointer(path).is_some(), "missing {path}");
         }
         assert_eq!(j["period"]["start"], "2026-03-02T00:00:00Z");
+    }
+
+    #[test]
+    fn pressure_bands_and_the_duration_curve_come_from_the_sorted_bins() {
+        // 201 pressures 6.00..8.00 bar(g) in steps of 0.01, logged out of order, plus missing bins:
+        // p5/p50/p95 of an evenly spaced set are its values at 5/50/95 % of the range (the
+        // percentile's linear interpolation, common practice).
+        let s = site();
+        let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)]; // rated 7.5 bar(g): low limit 6.5
+        let n = 210;
+        let mut pressure = vec![f32::NAN; n];
+        let mut flow = vec![f32::NAN; n];
+        for k in 0..201usize {
+            let i = (k * 37) % 201; // every index once, shuffled
+            pressure[i] = bar_g_to_pa_abs(6.0 + 0.01 * k as f64, &s.air) as f32;
+            flow[i] = (k as f32 / 10.0) / 60.0; // 0.0..20.0 m³/min free air
+        }
+        let frame = Frame {
+            grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+            columns: vec![
+                col(Signal::Power, Some(0), vec![40_000.0; n]),
+                col(Signal::Flow, None, flow),
+                col(Signal::Pressure, None, pressure),
+            ],
+        };
+        let r = run(&s, &cs, &frame, vec![]);
+        let p = &r.pressure;
+        let close = |a: Option<f64>, b: f64| (a.unwrap() - b).abs() < 1e-4;
+        assert!(close(p.min_bar_g, 6.0) && close(p.max_bar_g, 8.0), "{p:?}");
+        assert!(close(p.p5_bar_g, 6.1) && close(p.p50_bar_g, 7.0) && close(p.p95_bar_g, 7.9), "{p:?}");
+        assert!(close(p.mean_bar_g, 7.0), "{p:?}");
+        // Population standard deviation of 201 evenly spaced values: 0.01 × sqrt((201² - 1) / 12).
+        assert!(close(p.std_dev_bar, 0.01 * ((201.0f64 * 201.0 - 1.0) / 12.0).sqrt()), "{p:?}");
+        // Below 6.5: 6.00..6.49 (50 values); above 7.5: 7.51..8.00 (50 values).
+        assert!(close(p.share_below_low_limit, 50.0 / 201.0), "{p:?}");
+        assert!(close(p.share_above_highest_rated, 50.0 / 201.0), "{p:?}");
+        let d = &r.demand.flow_duration_curve;
+        assert_eq!(d.len(), 50);
+        assert!((d[0].flow_m3_min - 20.0).abs() < 1e-4 && d[49].flow_m3_min.abs() < 1e-6, "{d:?}");
+        assert!(d.windows(2).all(|w| w[0].flow_m3_min >= w[1].flow_m3_min), "falls with the share of time");
+        // Halfway through the time the flow is the median, 10 m³/min.
+        assert!((d[24].flow_m3_min - 10.0).abs() < 0.25, "{:?}", d[24]);
     }
 
     #[test]
