@@ -11,7 +11,7 @@ use std::sync::Arc;
 use sha2::{Digest, Sha256};
 use sqlx::SqlitePool;
 
-use crate::core::analysis::{self, Accuracy, AuditInput, LeakEstimate, Summary};
+use crate::core::analysis::{self, Accuracy, AuditInput, DataFigures, DataSpec, LeakEstimate, Summary};
 use crate::core::display::Fmt;
 use crate::core::fieldtest::{self, FieldTestContext, FieldTestInput};
 use crate::core::model::{CompressorSpec, StorageSpec};
@@ -257,40 +257,86 @@ async fn frame_for(
     Ok(frame)
 }
 
-/// Compute the summary (no cache).
+/// The data figures (`analysis::DataFigures`, a few kB each) of whole-log frames, with their
+/// [`frame_key`], most recent last. They hold every pass over the bins, so an edit that leaves the
+/// data and the data's specs alone (prices, costs, field tests, scenarios, accuracies, heating)
+/// prices the kept figures again instead of analysing a million bins. They carry the `DataSpec`
+/// they were made under; after an edit of rated data, time zone or operating year they are made
+/// again from the (kept) frame.
+fn figures_cache() -> &'static std::sync::Mutex<KeptFigures> {
+    static CACHE: std::sync::OnceLock<std::sync::Mutex<KeptFigures>> = std::sync::OnceLock::new();
+    CACHE.get_or_init(Default::default)
+}
+
+/// Data figures with their [`frame_key`], most recent last.
+type KeptFigures = std::collections::VecDeque<(String, Arc<DataFigures>)>;
+
+/// How many data figures are kept (one per audit and database, the least recent dropped first).
+const KEPT_FIGURES: usize = 16;
+
+async fn data_figures_for(
+    db: &SqlitePool,
+    b: &AuditBundle,
+    window: Option<(i64, i64)>,
+    spec: DataSpec,
+) -> Result<Option<Arc<DataFigures>>, AppError> {
+    // Only whole-log data figures are kept; a window is analysed fresh each time.
+    let key = window.is_none().then(|| frame_key(db, b));
+    if let Some(key) = &key {
+        let kept = figures_cache().lock().expect("data figures cache");
+        if let Some((_, d)) = kept.iter().find(|(k, d)| k == key && d.spec == spec) {
+            return Ok(Some(d.clone()));
+        }
+    }
+    let Some(frame) = frame_for(db, b, window).await? else { return Ok(None) };
+    let d = tokio::task::spawn_blocking(move || analysis::data_figures(&frame, &spec))
+        .await
+        .map_err(|e| AppError::Internal(e.into()))?;
+    let d = Arc::new(d);
+    if let Some(key) = key {
+        let mut kept = figures_cache().lock().expect("data figures cache");
+        kept.retain(|(k, _)| *k != key);
+        kept.push_back((key, d.clone()));
+        while kept.len() > KEPT_FIGURES {
+            kept.pop_front();
+        }
+    }
+    Ok(Some(d))
+}
+
+/// Compute the summary (no summary cache; the frame and its data figures may be kept ones).
 async fn compute_summary(
     db: &SqlitePool,
     b: &AuditBundle,
     window: Option<(i64, i64)>,
 ) -> Result<Option<Summary>, AppError> {
-    let Some(frame) = frame_for(db, b, window).await? else { return Ok(None) };
     let site = b.audit.site.to_spec();
     let specs = b.specs();
+    let Some(figures) = data_figures_for(db, b, window, DataSpec::of(&site, &specs)).await? else {
+        return Ok(None);
+    };
     let storage = b.storage();
     // Rates stay the documented defaults; totals an auditor edited replace them afterwards.
     let costs = CostOverrides::default();
     let edited: std::collections::BTreeMap<String, f64> =
         audits::cost_overrides(db, b.audit.id).await?.into_iter().collect();
     let accuracy = b.accuracy();
-    let leak_estimates = b.leak_estimates();
     let scenarios = scenario_cases(db, b).await?;
-    let summary = tokio::task::spawn_blocking(move || {
-        let mut s = analysis::summarize(&AuditInput {
+    // No bin is read from here on: well under a millisecond, so it runs in place.
+    let mut s = analysis::summary_of(
+        &figures,
+        &AuditInput {
             site: &site,
             compressors: &specs,
             storage: &storage,
-            frame: &frame,
-            leak_estimates,
+            leak_estimates: b.leak_estimates(),
             costs: &costs,
             accuracy: &accuracy,
             scenarios: &scenarios,
-        });
-        crate::core::recommend::apply_implementation_costs(&mut s.recommendations, &edited);
-        s
-    })
-    .await
-    .map_err(|e| AppError::Internal(e.into()))?;
-    Ok(Some(summary))
+        },
+    );
+    crate::core::recommend::apply_implementation_costs(&mut s.recommendations, &edited);
+    Ok(Some(s))
 }
 
 /// The stored scenarios replayed on the audit's present data, as the recommendations read them.

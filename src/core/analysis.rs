@@ -44,7 +44,7 @@ use serde::{Deserialize, Serialize};
 use super::fieldtest::{default_relative_uncertainty, quad};
 use super::heat;
 use super::leaks;
-use super::model::{CompressorSpec, Control, SiteSpec, StorageSpec};
+use super::model::{CompressorSpec, Control, SiteSpec, StorageSpec, WeeklySchedule};
 use super::recommend::{
     self, ControlCase, CostOverrides, HeatCase, MachineUse, RecommendInput, Recommendation,
 };
@@ -106,13 +106,38 @@ pub struct LeakEstimate {
     pub leak_flow_m3_min: f64,
 }
 
-/// Everything the summary is computed from.
+/// What the passes over the bins read besides the frame: the compressors and the site's air, clock
+/// and operating year. [`data_figures`] is given nothing else, so an equal `DataSpec` over an equal frame
+/// gives an equal [`DataFigures`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct DataSpec {
+    pub compressors: Vec<CompressorSpec>,
+    pub air: SiteAir,
+    pub timezone: String,
+    pub operating_weeks_per_year: f64,
+    pub operating_hours_per_year: Option<f64>,
+    pub production: Option<WeeklySchedule>,
+}
+
+impl DataSpec {
+    pub fn of(site: &SiteSpec, compressors: &[CompressorSpec]) -> Self {
+        Self {
+            compressors: compressors.to_vec(),
+            air: site.air,
+            timezone: site.timezone.clone(),
+            operating_weeks_per_year: site.operating_weeks_per_year,
+            operating_hours_per_year: site.operating_hours_per_year,
+            production: site.production.clone(),
+        }
+    }
+}
+
+/// Everything the summary is computed from besides the logged frame.
 #[derive(Debug, Clone)]
 pub struct AuditInput<'a> {
     pub site: &'a SiteSpec,
     pub compressors: &'a [CompressorSpec],
     pub storage: &'a StorageSpec,
-    pub frame: &'a Frame,
     pub leak_estimates: Vec<LeakEstimate>,
     pub costs: &'a CostOverrides,
     pub accuracy: &'a Accuracy,
@@ -494,29 +519,77 @@ fn mean_where(values: &[f32], mask: impl Fn(usize) -> bool) -> Option<f64> {
 }
 
 /// Compute the audit's figures.
-pub fn summarize(input: &AuditInput) -> Summary {
-    let (site, cs, frame, acc) = (input.site, input.compressors, input.frame, input.accuracy);
+/// The data-heavy half of the summary: every pass over the frame's bins, and nothing that prices,
+/// weighs an uncertainty or reads a field test. Small (a few kB whatever the log's length), so the
+/// service keeps it beside the frame: an edit of prices, costs, tests, scenarios or accuracies then
+/// re-runs only [`summary_of`], which never touches a bin.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DataFigures {
+    /// What it was computed from besides the frame.
+    pub spec: DataSpec,
+    period: Period,
+    tz_ok: bool,
+    rule: AnnualRule,
+    rule_text: String,
+    /// Per compressor.
+    stats: Vec<Option<StateStats>>,
+    power_logged: Vec<bool>,
+    energy_kwh: Vec<f64>,
+    mean_kw: Vec<f64>,
+    annual_kwh_c: Vec<f64>,
+    comp_air: Vec<f64>,
+    /// Specific power, flow estimated, full-load specific power.
+    comp_sp: Vec<(Option<f64>, bool, Option<f64>)>,
+    machines: Vec<MachineUse>,
+    without_power: Vec<String>,
+    flow_source: &'static str,
+    flow_estimated: bool,
+    air_m3: f64,
+    mean_flow: f64,
+    peak_flow: f64,
+    peak_flow_window: f64,
+    peak_kw: f64,
+    peak_kw_window: f64,
+    sp: Option<f64>,
+    part_load_curve: Vec<PartLoadPoint>,
+    iso: Option<f64>,
+    /// Mean header pressure over the isothermal bins, Pa(abs) (sets its uncertainty).
+    iso_mean_pa: f64,
+    rated_sp: Option<f64>,
+    trim: Option<usize>,
+    marginal: f64,
+    prod_share: f64,
+    q_prod: Option<f64>,
+    q_nonprod: Option<f64>,
+    annual_running_hours: f64,
+    annual_kwh: f64,
+    control: Option<ControlCase>,
+    /// `uncertainty_bar` is set by [`summary_of`].
+    pressure: PressureFigures,
+    demand: Demand,
+    coverage: Coverage,
+}
+
+/// The summary of a frame (module doc): [`data_figures`] then [`summary_of`].
+pub fn summarize(frame: &Frame, input: &AuditInput) -> Summary {
+    summary_of(&data_figures(frame, &DataSpec::of(input.site, input.compressors)), input)
+}
+
+/// Every pass over the bins (module doc: energy, flow, specific power, states, production hours,
+/// annualisation, the control case, pressure and demand).
+pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
+    let cs = spec.compressors.as_slice();
     let grid = frame.grid;
     let n = grid.len;
-    let atm = site.air.atmosphere;
-    let mut methods: Vec<Method> = Vec::new();
-    let mut assumptions: Vec<String> = Vec::new();
-    let m = |figure: &str, formula: &str, source: &str| Method {
-        figure: figure.into(),
-        formula: formula.into(),
-        source: source.into(),
-    };
+    let atm = spec.air.atmosphere;
 
-    let (cells, tz_ok) = calendar(&grid, &site.timezone);
-    if !tz_ok {
-        assumptions.push(format!("time zone {:?} unknown: weekday and hour profiles use UTC", site.timezone));
-    }
-    let rule = match site.operating_hours_per_year {
+    let (cells, tz_ok) = calendar(&grid, &spec.timezone);
+    let rule = match spec.operating_hours_per_year {
         Some(h) => AnnualRule::Hours(h),
         // A logger week rarely spans exactly 168 h (its first reading comes one interval after the
         // hour); a weekday-hour cell without data takes the overall mean (see `annualise`).
-        None if grid.hours() >= 167.0 => AnnualRule::Weekly(site.operating_weeks_per_year),
-        None => AnnualRule::Scaled(site.operating_weeks_per_year),
+        None if grid.hours() >= 167.0 => AnnualRule::Weekly(spec.operating_weeks_per_year),
+        None => AnnualRule::Scaled(spec.operating_weeks_per_year),
     };
     let rule_text = match rule {
         AnnualRule::Hours(h) => format!("mean over the log × {h} operating hours per year"),
@@ -550,10 +623,6 @@ pub fn summarize(input: &AuditInput) -> Summary {
         .collect();
     let without_power: Vec<String> =
         cs.iter().zip(&powers).filter(|(_, p)| p.is_none()).map(|(c, _)| c.tag.clone()).collect();
-    if !without_power.is_empty() {
-        assumptions
-            .push(format!("no power logged for {}: left out of energy and cost", without_power.join(", ")));
-    }
     let total_power: Option<Vec<f32>> = sum_columns(n, powers.iter().flatten().copied());
 
     // The metered system flow when there is one (taken, not copied), else the compressors' estimate.
@@ -565,22 +634,9 @@ pub fn summarize(input: &AuditInput) -> Summary {
             true,
         ),
     };
-    if flow_estimated {
-        assumptions.push(
-            "no flow meter: flow estimated from compressor states and rated FAD (states module)".into(),
-        );
-    }
-    let u_flow = if flow_estimated { acc.flow_estimated_rel } else { acc.flow_rel };
     let pressure = frame.header_pressure().map(|c| c.values.as_slice());
 
     // Energy per compressor.
-    let power_rel = |c: &CompressorSpec| {
-        if acc.current_derived_power.contains(&c.tag) {
-            acc.power_current_rel
-        } else {
-            acc.power_true_rel
-        }
-    };
     let integ: Vec<Option<super::series::Integral>> =
         powers.iter().map(|p| p.map(|p| integrate(&grid, p))).collect();
     let energy_kwh: Vec<f64> = integ.iter().map(|i| i.map_or(0.0, |i| i.total / 3.6e6)).collect();
@@ -588,18 +644,6 @@ pub fn summarize(input: &AuditInput) -> Summary {
         .iter()
         .map(|i| i.map_or(0.0, |i| if i.mean.is_finite() { i.mean / 1000.0 } else { 0.0 }))
         .collect();
-    let sys_energy: f64 = energy_kwh.iter().sum();
-    let sys_mean_kw: f64 = mean_kw.iter().sum();
-    let u_power = if sys_energy > 0.0 {
-        cs.iter().zip(&energy_kwh).map(|(c, e)| (power_rel(c) * e).powi(2)).sum::<f64>().sqrt() / sys_energy
-    } else {
-        acc.power_true_rel
-    };
-    methods.push(m(
-        "energy_kwh",
-        "Σ over compressors of ∫ P dt over logged bins",
-        "time-weighted integration of synchronised logger intervals (ISO 11011 measurement practice)",
-    ));
 
     // Flow figures.
     let flow_i = flow.as_ref().map(|q| integrate(&grid, q));
@@ -647,7 +691,6 @@ pub fn summarize(input: &AuditInput) -> Summary {
         }
     }
     let sp = (sp_q > 0.0).then(|| (sp_p / 1000.0) / (sp_q * 60.0));
-    let u_sp = quad(&[u_power, u_flow]);
     let part_load_curve: Vec<PartLoadPoint> = curve
         .iter()
         .enumerate()
@@ -659,21 +702,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
         })
         .collect();
     let iso = (iso_p > 0.0).then(|| thermo::isothermal_efficiency(Power(iso_w), Power(iso_p)));
-    let u_iso = {
-        let pm = if iso_pa_n == 0 { 8e5 } else { iso_pa_sum / iso_pa_n as f64 };
-        let ln_r = (pm / atm.0).ln().max(1e-6);
-        quad(&[u_power, u_flow, acc.pressure_abs_bar() * 1e5 / pm / ln_r])
-    };
-    methods.push(m(
-        "specific_power_kw_per_m3_min",
-        "Σ P / Σ Q over bins where both power and flow exist (interval-synchronous)",
-        "ISO 1217 specific package input power, computed interval by interval",
-    ));
-    methods.push(m(
-        "isothermal_efficiency",
-        "Σ p_atm Q ln(p_header / p_atm) / Σ P over bins with power, flow and pressure",
-        "ideal-gas isothermal compression work (checked against the Python library fluids)",
-    ));
+    let iso_mean_pa = if iso_pa_n == 0 { 8e5 } else { iso_pa_sum / iso_pa_n as f64 };
 
     // Air per compressor (meter on the machine, else estimated) and the data-sheet comparison.
     let mut comp_air = vec![0.0; cs.len()];
@@ -699,6 +728,10 @@ pub fn summarize(input: &AuditInput) -> Summary {
         }
         let sp_c = (sp_qq > 0.0).then(|| (sp_pp / 1000.0) / (sp_qq * 60.0));
         let full = (fl_q > 0.0).then(|| (fl_p / 1000.0) / (fl_q * 60.0));
+        // Without a loaded bin with flow, the loaded power over the rated flow.
+        let full = full.or_else(|| {
+            stats[i].as_ref().and_then(|s| s.mean_loaded_power_kw).map(|p| p / cs[i].rated_flow_m3_min)
+        });
         comp_sp.push((sp_c, estimated, full));
     }
     let air_total: f64 = comp_air.iter().sum();
@@ -730,14 +763,9 @@ pub fn summarize(input: &AuditInput) -> Summary {
         || cs.first().map_or(0.0, states::marginal_kw_per_m3_min),
         |t| states::marginal_kw_per_m3_min(&cs[t]),
     );
-    methods.push(m(
-        "marginal_kw_per_m3_min",
-        "trim machine's part-load slope: load/unload (P_full - P_unl)/Q; modulation 0.30 P/Q; VSD curve slope; start/stop P/Q",
-        "US DOE compressed-air sourcebook: part-load behaviour by control",
-    ));
 
     // Production hours.
-    let (is_prod, production_source, production_rule): (Vec<bool>, &'static str, String) = match &site
+    let (is_prod, production_source, production_rule): (Vec<bool>, &'static str, String) = match &spec
         .production
     {
         Some(s) => (
@@ -794,52 +822,15 @@ pub fn summarize(input: &AuditInput) -> Summary {
     } else {
         rule.hours()
     };
+    drop(running_any);
     let annual_kwh_c: Vec<f64> =
         powers.iter().map(|p| p.map_or(0.0, |p| annualise(p, &cells, rule) / 1000.0)).collect();
     let annual_kwh: f64 = annual_kwh_c.iter().sum();
-    let energy_cost = annual_kwh * site.electricity_price_per_kwh;
-    let demand_charge = site.demand_charge_per_kw_month * peak_kw * 12.0;
-    let annual_cost = energy_cost + demand_charge;
-    let cost_per_1000_m3 = sp.map(|s| s / 60.0 * 1000.0 * site.electricity_price_per_kwh);
-    methods.push(m(
-        "annual_energy_kwh",
-        &rule_text,
-        "the logged weekly pattern repeated over the operating weeks (airledger's documented rule)",
-    ));
-    methods.push(m(
-        "annual_cost",
-        "annual kWh × price + demand charge × peak 15-min kW × 12",
-        "US DOE compressed-air tip sheet 1 (annual energy cost)",
-    ));
-    methods.push(m(
-        "cost_per_1000_m3",
-        "specific power / 60 (kWh/m³) × 1000 × price; per 1000 ft³ = kW/100 cfm / 6 × price",
-        "kW/(m³/min) = kW/100 cfm × 0.353147; US DOE tip sheet 1",
-    ));
 
-    // Per compressor: heat and the figures the measures need.
-    let rho_in = atm.0 / (287.05 * site.air.inlet_temperature.0);
-    let mut comp_fig = Vec::new();
+    // Per compressor: the annualised figures the measures need.
     let mut machines = Vec::new();
-    let (mut heat_rej, mut heat_rec, mut heat_rej_y, mut heat_rec_y, mut rec_kw) = (0.0, 0.0, 0.0, 0.0, 0.0);
     for (i, c) in cs.iter().enumerate() {
-        let s = stats[i].clone();
-        let factor = if energy_kwh[i] > 0.0 { annual_kwh_c[i] / energy_kwh[i] } else { 0.0 };
-        let e = super::units::Energy::from_kwh(energy_kwh[i]);
-        let rej =
-            heat::heat_rejected(e, comp_air[i] * rho_in, heat::DEFAULT_DELIVERY_TEMPERATURE_RISE_K).kwh();
-        let frac = heat::recoverable_fraction(c.kind, c.cooling);
-        let rec = frac * energy_kwh[i];
-        heat_rej += rej;
-        heat_rec += rec;
-        heat_rej_y += rej * factor;
-        heat_rec_y += rec * factor;
-        rec_kw += frac * c.rated_power_kw;
-        let (sp_c, estimated, full) = comp_sp[i];
-        let full =
-            full.or_else(|| s.as_ref().and_then(|s| s.mean_loaded_power_kw).map(|p| p / c.rated_flow_m3_min));
-        let rated = c.rated_specific_power_kw_per_m3_min();
-        let (lo, hi) = band(energy_kwh[i], power_rel(c));
+        let s = stats[i].as_ref();
         // Masked series for the measures: unloaded out of production, and power above idle.
         let unl_w = c.unloaded_power_fraction * c.rated_power_kw * 1000.0;
         let (idle_np, above) = match (powers[i], &st[i]) {
@@ -878,6 +869,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
                     .collect()
             })
             .unwrap_or_default();
+        let (_, estimated, full) = comp_sp[i];
         machines.push(MachineUse {
             annual_energy_kwh: annual_kwh_c[i],
             annual_above_idle_kwh: above,
@@ -887,154 +879,13 @@ pub fn summarize(input: &AuditInput) -> Summary {
             } else {
                 annualise(&loaded_ind, &cells, rule)
             },
-            loaded_fraction: s.as_ref().map_or(0.0, |s| s.loaded_fraction),
-            cycles_per_hour: s.as_ref().map_or(0.0, |s| s.cycles_per_hour),
-            mean_loaded_power_kw: s.as_ref().and_then(|s| s.mean_loaded_power_kw),
+            loaded_fraction: s.map_or(0.0, |s| s.loaded_fraction),
+            cycles_per_hour: s.map_or(0.0, |s| s.cycles_per_hour),
+            mean_loaded_power_kw: s.and_then(|s| s.mean_loaded_power_kw),
             full_load_specific_power_kw_per_m3_min: if estimated { None } else { full },
             power_logged: powers[i].is_some(),
         });
-        let s0 = s.clone().unwrap_or(StateStats {
-            logged_hours: 0.0,
-            loaded_fraction: 0.0,
-            part_load_fraction: 0.0,
-            unloaded_fraction: 0.0,
-            off_fraction: 0.0,
-            running_hours: 0.0,
-            loaded_hours: 0.0,
-            load_cycles: 0,
-            cycles_per_hour: 0.0,
-            mean_loaded_power_kw: None,
-            mean_unloaded_power_kw: None,
-            mean_loaded_time_s: None,
-            mean_unloaded_time_s: None,
-        });
-        comp_fig.push(CompressorFigures {
-            tag: c.tag.clone(),
-            control: c.control.as_str(),
-            power_logged: powers[i].is_some(),
-            power_source: if acc.current_derived_power.contains(&c.tag) {
-                "current_derived"
-            } else {
-                "true_power"
-            },
-            energy_kwh: energy_kwh[i],
-            energy_kwh_low: lo,
-            energy_kwh_high: hi,
-            mean_power_kw: mean_kw[i],
-            annual_energy_kwh: annual_kwh_c[i],
-            loaded_fraction: s0.loaded_fraction,
-            part_load_fraction: s0.part_load_fraction,
-            unloaded_fraction: s0.unloaded_fraction,
-            off_fraction: s0.off_fraction,
-            cycles_per_hour: s0.cycles_per_hour,
-            logged_hours: s0.logged_hours,
-            running_hours: s0.running_hours,
-            loaded_hours: s0.loaded_hours,
-            mean_loaded_power_kw: s0.mean_loaded_power_kw,
-            mean_unloaded_power_kw: s0.mean_unloaded_power_kw,
-            mean_loaded_time_s: s0.mean_loaded_time_s,
-            mean_unloaded_time_s: s0.mean_unloaded_time_s,
-            air_m3: comp_air[i],
-            specific_power_kw_per_m3_min: sp_c,
-            specific_power_kw_per_100cfm: sp_c.map(super::units::kw_per_100cfm),
-            estimated,
-            full_load_specific_power_kw_per_m3_min: full,
-            rated_specific_power_kw_per_m3_min: rated,
-            specific_power_degradation_percent: full.map(|f| (f / rated - 1.0) * 100.0),
-            loaded_power_vs_rated_percent: s0
-                .mean_loaded_power_kw
-                .map(|p| (p / c.rated_power_kw - 1.0) * 100.0),
-            marginal_kw_per_m3_min: states::marginal_kw_per_m3_min(c),
-            trim: trim == Some(i),
-            heat_rejected_kwh: rej,
-            recoverable_kwh: rec,
-            annual_heat_rejected_kwh: rej * factor,
-            annual_recoverable_kwh: rec * factor,
-        });
     }
-
-    // Heat value.
-    let monthly = [heat_rec_y / 12.0; 12];
-    let space =
-        heat::HeatUse { kind: heat::HeatUseKind::SpaceHeating, heating_months: site.heating_months.clone() };
-    let process = heat::HeatUse { kind: heat::HeatUseKind::ProcessWater, heating_months: vec![] };
-    let (u_s, f_s, v_s) =
-        heat::recovered_value(&monthly, &space, site.heater_efficiency, site.heating_fuel_price_per_kwh);
-    let (u_p, f_p, v_p) =
-        heat::recovered_value(&monthly, &process, site.heater_efficiency, site.heating_fuel_price_per_kwh);
-    let space_ok = !site.heating_months.is_empty();
-    let (use_kind, useful, fuel, value) =
-        if space_ok { ("space_heating", u_s, f_s, v_s) } else { ("process_water", u_p, f_p, v_p) };
-    if !space_ok {
-        assumptions.push("no heating months given: recovered heat valued as year-round process water".into());
-    }
-    methods.push(m(
-        "recoverable_kwh",
-        "recoverable fraction (kind, cooling) × input energy; valued as fuel displaced in the months of use",
-        "US DOE heat-recovery fact sheet",
-    ));
-
-    // Leaks.
-    let mut estimates: Vec<LeakEstimateFigure> = input
-        .leak_estimates
-        .iter()
-        .map(|e| {
-            let rel = default_relative_uncertainty(&e.method, acc);
-            let (lo, hi) = band(e.leak_flow_m3_min, rel);
-            LeakEstimateFigure {
-                test_id: Some(e.test_id),
-                method: e.method.clone(),
-                leak_flow_m3_min: e.leak_flow_m3_min,
-                leak_flow_m3_min_low: lo,
-                leak_flow_m3_min_high: hi,
-                share_of_mean_demand: (mean_flow > 0.0).then(|| e.leak_flow_m3_min / mean_flow),
-                automatic: false,
-                estimated: false,
-            }
-        })
-        .collect();
-    let mut tests: Vec<f64> = input.leak_estimates.iter().map(|e| e.leak_flow_m3_min).collect();
-    tests.sort_by(f64::total_cmp);
-    let (adopted, adopted_rel, adopted_rule) = if !tests.is_empty() {
-        let med = percentile(&tests, 0.5);
-        let rel = input
-            .leak_estimates
-            .iter()
-            .map(|e| default_relative_uncertainty(&e.method, acc))
-            .fold(0.0, f64::max);
-        (Some(med), rel, "median of the accepted field tests".to_string())
-    } else if let (Some(q), true) = (q_nonprod, prod_share < 1.0) {
-        (
-            Some(q),
-            u_flow,
-            "mean flow in non-production hours (an upper bound: includes fixed users)".to_string(),
-        )
-    } else {
-        (None, 0.0, "no leak estimate: run a bleed-down or load/unload test".to_string())
-    };
-    if let Some(q) = q_nonprod.filter(|_| prod_share < 1.0) {
-        let (lo, hi) = band(q, u_flow);
-        estimates.push(LeakEstimateFigure {
-            test_id: None,
-            method: "non_production_flow".into(),
-            leak_flow_m3_min: q,
-            leak_flow_m3_min_low: lo,
-            leak_flow_m3_min_high: hi,
-            share_of_mean_demand: (mean_flow > 0.0).then(|| q / mean_flow),
-            automatic: true,
-            estimated: flow_estimated,
-        });
-    }
-    let share = adopted.filter(|_| mean_flow > 0.0).map(|q| q / mean_flow);
-    let u_share = quad(&[adopted_rel, u_flow]);
-    let leak_kwh = adopted.map(|q| q * marginal * annual_running_hours);
-    let u_leak_cost = quad(&[adopted_rel, 0.05]);
-    let leak_band = share.map(leaks::leak_share_band);
-    methods.push(m(
-        "annual_leak_cost",
-        "leak flow × marginal kW/(m³/min) × annual running hours × price",
-        "US DOE sourcebook, leaks fact sheet; priced at the marginal (trim) specific power, not the average",
-    ));
 
     // Control case: the trim on a variable-speed curve, over 5-minute windows of its delivered air.
     let control = trim.and_then(|t| {
@@ -1123,7 +974,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
                 p50_bar_g: None,
                 p95_bar_g: None,
                 std_dev_bar: None,
-                uncertainty_bar: acc.pressure_abs_bar(),
+                uncertainty_bar: 0.0,
                 low_limit_bar_g: low_limit,
                 share_below_low_limit: None,
                 highest_rated_bar_g: high,
@@ -1147,7 +998,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
                 p50_bar_g: Some(pct(0.50)),
                 p95_bar_g: Some(pct(0.95)),
                 std_dev_bar: Some(var.sqrt()),
-                uncertainty_bar: acc.pressure_abs_bar(),
+                uncertainty_bar: 0.0,
                 low_limit_bar_g: low_limit,
                 share_below_low_limit: below,
                 highest_rated_bar_g: high,
@@ -1155,11 +1006,6 @@ pub fn summarize(input: &AuditInput) -> Summary {
             }
         }
     };
-    methods.push(m(
-        "pressure bands",
-        "p5/p50/p95 of header pressure; low limit = lowest rated pressure - 1 bar",
-        "common practice",
-    ));
 
     // Demand.
     let duration: Vec<DurationPoint> = flow.as_ref().map_or_else(Vec::new, |q| {
@@ -1178,7 +1024,7 @@ pub fn summarize(input: &AuditInput) -> Summary {
     });
     let demand = Demand {
         estimated: flow_estimated,
-        timezone: if tz_ok { site.timezone.clone() } else { "UTC".into() },
+        timezone: if tz_ok { spec.timezone.clone() } else { "UTC".into() },
         flow_duration_curve: duration,
         weekday_hour_mean_flow_m3_min: flow
             .as_ref()
@@ -1208,17 +1054,333 @@ pub fn summarize(input: &AuditInput) -> Summary {
         pressure: pressure.map_or(0.0, |p| integrate(&grid, p).coverage),
     };
 
+    DataFigures {
+        spec: spec.clone(),
+        period: Period {
+            start: ts_string(grid.start_ms),
+            end: ts_string(grid.end_ms()),
+            hours: grid.hours(),
+            step_s: grid.step_s(),
+            bins: n,
+        },
+        tz_ok,
+        rule,
+        rule_text,
+        stats,
+        power_logged: powers.iter().map(Option::is_some).collect(),
+        energy_kwh,
+        mean_kw,
+        annual_kwh_c,
+        comp_air,
+        comp_sp,
+        machines,
+        without_power,
+        flow_source,
+        flow_estimated,
+        air_m3,
+        mean_flow,
+        peak_flow,
+        peak_flow_window,
+        peak_kw,
+        peak_kw_window,
+        sp,
+        part_load_curve,
+        iso,
+        iso_mean_pa,
+        rated_sp,
+        trim,
+        marginal,
+        prod_share,
+        q_prod,
+        q_nonprod,
+        annual_running_hours,
+        annual_kwh,
+        control,
+        pressure: pressure_fig,
+        demand,
+        coverage,
+    }
+}
+
+/// The summary from a [`DataFigures`] of the audit's frame: prices, costs, uncertainties, heat value,
+/// leaks (field tests and logs side by side) and the recommendations. Reads no bin, so it costs
+/// well under a millisecond whatever the log's length. `d` must be the data figures of the audit's frame
+/// under `DataSpec::of(input.site, input.compressors)`; the compressors and the site's air are
+/// taken from `d.spec`.
+pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
+    debug_assert!(d.spec == DataSpec::of(input.site, input.compressors), "data figures of other specs");
+    let (site, cs, acc) = (input.site, d.spec.compressors.as_slice(), input.accuracy);
+    let atm = d.spec.air.atmosphere;
+    let mut methods: Vec<Method> = Vec::new();
+    let mut assumptions: Vec<String> = Vec::new();
+    let m = |figure: &str, formula: &str, source: &str| Method {
+        figure: figure.into(),
+        formula: formula.into(),
+        source: source.into(),
+    };
+    if !d.tz_ok {
+        assumptions
+            .push(format!("time zone {:?} unknown: weekday and hour profiles use UTC", d.spec.timezone));
+    }
+    if !d.without_power.is_empty() {
+        assumptions
+            .push(format!("no power logged for {}: left out of energy and cost", d.without_power.join(", ")));
+    }
+    let (flow_estimated, mean_flow, q_prod, q_nonprod) =
+        (d.flow_estimated, d.mean_flow, d.q_prod, d.q_nonprod);
+    if flow_estimated {
+        assumptions.push(
+            "no flow meter: flow estimated from compressor states and rated FAD (states module)".into(),
+        );
+    }
+    let u_flow = if flow_estimated { acc.flow_estimated_rel } else { acc.flow_rel };
+    let power_rel = |c: &CompressorSpec| {
+        if acc.current_derived_power.contains(&c.tag) {
+            acc.power_current_rel
+        } else {
+            acc.power_true_rel
+        }
+    };
+    let energy_kwh = &d.energy_kwh;
+    let sys_energy: f64 = energy_kwh.iter().sum();
+    let sys_mean_kw: f64 = d.mean_kw.iter().sum();
+    let u_power = if sys_energy > 0.0 {
+        cs.iter().zip(energy_kwh).map(|(c, e)| (power_rel(c) * e).powi(2)).sum::<f64>().sqrt() / sys_energy
+    } else {
+        acc.power_true_rel
+    };
+    methods.push(m(
+        "energy_kwh",
+        "Σ over compressors of ∫ P dt over logged bins",
+        "time-weighted integration of synchronised logger intervals (ISO 11011 measurement practice)",
+    ));
+    let (sp, iso) = (d.sp, d.iso);
+    let u_sp = quad(&[u_power, u_flow]);
+    let u_iso = {
+        let pm = d.iso_mean_pa;
+        let ln_r = (pm / atm.0).ln().max(1e-6);
+        quad(&[u_power, u_flow, acc.pressure_abs_bar() * 1e5 / pm / ln_r])
+    };
+    methods.push(m(
+        "specific_power_kw_per_m3_min",
+        "Σ P / Σ Q over bins where both power and flow exist (interval-synchronous)",
+        "ISO 1217 specific package input power, computed interval by interval",
+    ));
+    methods.push(m(
+        "isothermal_efficiency",
+        "Σ p_atm Q ln(p_header / p_atm) / Σ P over bins with power, flow and pressure",
+        "ideal-gas isothermal compression work (checked against the Python library fluids)",
+    ));
+    let (trim, marginal) = (d.trim, d.marginal);
+    methods.push(m(
+        "marginal_kw_per_m3_min",
+        "trim machine's part-load slope: load/unload (P_full - P_unl)/Q; modulation 0.30 P/Q; VSD curve slope; start/stop P/Q",
+        "US DOE compressed-air sourcebook: part-load behaviour by control",
+    ));
+
+    // Annual figures.
+    let (annual_kwh, annual_running_hours, peak_kw) = (d.annual_kwh, d.annual_running_hours, d.peak_kw);
+    let energy_cost = annual_kwh * site.electricity_price_per_kwh;
+    let demand_charge = site.demand_charge_per_kw_month * peak_kw * 12.0;
+    let annual_cost = energy_cost + demand_charge;
+    let cost_per_1000_m3 = sp.map(|s| s / 60.0 * 1000.0 * site.electricity_price_per_kwh);
+    methods.push(m(
+        "annual_energy_kwh",
+        &d.rule_text,
+        "the logged weekly pattern repeated over the operating weeks (airledger's documented rule)",
+    ));
+    methods.push(m(
+        "annual_cost",
+        "annual kWh × price + demand charge × peak 15-min kW × 12",
+        "US DOE compressed-air tip sheet 1 (annual energy cost)",
+    ));
+    methods.push(m(
+        "cost_per_1000_m3",
+        "specific power / 60 (kWh/m³) × 1000 × price; per 1000 ft³ = kW/100 cfm / 6 × price",
+        "kW/(m³/min) = kW/100 cfm × 0.353147; US DOE tip sheet 1",
+    ));
+
+    // Per compressor: heat and the figures shown.
+    let rho_in = atm.0 / (287.05 * d.spec.air.inlet_temperature.0);
+    let mut comp_fig = Vec::new();
+    let (mut heat_rej, mut heat_rec, mut heat_rej_y, mut heat_rec_y, mut rec_kw) = (0.0, 0.0, 0.0, 0.0, 0.0);
+    for (i, c) in cs.iter().enumerate() {
+        let factor = if energy_kwh[i] > 0.0 { d.annual_kwh_c[i] / energy_kwh[i] } else { 0.0 };
+        let e = super::units::Energy::from_kwh(energy_kwh[i]);
+        let rej =
+            heat::heat_rejected(e, d.comp_air[i] * rho_in, heat::DEFAULT_DELIVERY_TEMPERATURE_RISE_K).kwh();
+        let frac = heat::recoverable_fraction(c.kind, c.cooling);
+        let rec = frac * energy_kwh[i];
+        heat_rej += rej;
+        heat_rec += rec;
+        heat_rej_y += rej * factor;
+        heat_rec_y += rec * factor;
+        rec_kw += frac * c.rated_power_kw;
+        let (sp_c, estimated, full) = d.comp_sp[i];
+        let rated = c.rated_specific_power_kw_per_m3_min();
+        let (lo, hi) = band(energy_kwh[i], power_rel(c));
+        let s0 = d.stats[i].clone().unwrap_or(StateStats {
+            logged_hours: 0.0,
+            loaded_fraction: 0.0,
+            part_load_fraction: 0.0,
+            unloaded_fraction: 0.0,
+            off_fraction: 0.0,
+            running_hours: 0.0,
+            loaded_hours: 0.0,
+            load_cycles: 0,
+            cycles_per_hour: 0.0,
+            mean_loaded_power_kw: None,
+            mean_unloaded_power_kw: None,
+            mean_loaded_time_s: None,
+            mean_unloaded_time_s: None,
+        });
+        comp_fig.push(CompressorFigures {
+            tag: c.tag.clone(),
+            control: c.control.as_str(),
+            power_logged: d.power_logged[i],
+            power_source: if acc.current_derived_power.contains(&c.tag) {
+                "current_derived"
+            } else {
+                "true_power"
+            },
+            energy_kwh: energy_kwh[i],
+            energy_kwh_low: lo,
+            energy_kwh_high: hi,
+            mean_power_kw: d.mean_kw[i],
+            annual_energy_kwh: d.annual_kwh_c[i],
+            loaded_fraction: s0.loaded_fraction,
+            part_load_fraction: s0.part_load_fraction,
+            unloaded_fraction: s0.unloaded_fraction,
+            off_fraction: s0.off_fraction,
+            cycles_per_hour: s0.cycles_per_hour,
+            logged_hours: s0.logged_hours,
+            running_hours: s0.running_hours,
+            loaded_hours: s0.loaded_hours,
+            mean_loaded_power_kw: s0.mean_loaded_power_kw,
+            mean_unloaded_power_kw: s0.mean_unloaded_power_kw,
+            mean_loaded_time_s: s0.mean_loaded_time_s,
+            mean_unloaded_time_s: s0.mean_unloaded_time_s,
+            air_m3: d.comp_air[i],
+            specific_power_kw_per_m3_min: sp_c,
+            specific_power_kw_per_100cfm: sp_c.map(super::units::kw_per_100cfm),
+            estimated,
+            full_load_specific_power_kw_per_m3_min: full,
+            rated_specific_power_kw_per_m3_min: rated,
+            specific_power_degradation_percent: full.map(|f| (f / rated - 1.0) * 100.0),
+            loaded_power_vs_rated_percent: s0
+                .mean_loaded_power_kw
+                .map(|p| (p / c.rated_power_kw - 1.0) * 100.0),
+            marginal_kw_per_m3_min: states::marginal_kw_per_m3_min(c),
+            trim: trim == Some(i),
+            heat_rejected_kwh: rej,
+            recoverable_kwh: rec,
+            annual_heat_rejected_kwh: rej * factor,
+            annual_recoverable_kwh: rec * factor,
+        });
+    }
+
+    // Heat value.
+    let monthly = [heat_rec_y / 12.0; 12];
+    let space =
+        heat::HeatUse { kind: heat::HeatUseKind::SpaceHeating, heating_months: site.heating_months.clone() };
+    let process = heat::HeatUse { kind: heat::HeatUseKind::ProcessWater, heating_months: vec![] };
+    let (u_s, f_s, v_s) =
+        heat::recovered_value(&monthly, &space, site.heater_efficiency, site.heating_fuel_price_per_kwh);
+    let (u_p, f_p, v_p) =
+        heat::recovered_value(&monthly, &process, site.heater_efficiency, site.heating_fuel_price_per_kwh);
+    let space_ok = !site.heating_months.is_empty();
+    let (use_kind, useful, fuel, value) =
+        if space_ok { ("space_heating", u_s, f_s, v_s) } else { ("process_water", u_p, f_p, v_p) };
+    if !space_ok {
+        assumptions.push("no heating months given: recovered heat valued as year-round process water".into());
+    }
+    methods.push(m(
+        "recoverable_kwh",
+        "recoverable fraction (kind, cooling) × input energy; valued as fuel displaced in the months of use",
+        "US DOE heat-recovery fact sheet",
+    ));
+
+    // Leaks.
+    let mut estimates: Vec<LeakEstimateFigure> = input
+        .leak_estimates
+        .iter()
+        .map(|e| {
+            let rel = default_relative_uncertainty(&e.method, acc);
+            let (lo, hi) = band(e.leak_flow_m3_min, rel);
+            LeakEstimateFigure {
+                test_id: Some(e.test_id),
+                method: e.method.clone(),
+                leak_flow_m3_min: e.leak_flow_m3_min,
+                leak_flow_m3_min_low: lo,
+                leak_flow_m3_min_high: hi,
+                share_of_mean_demand: (mean_flow > 0.0).then(|| e.leak_flow_m3_min / mean_flow),
+                automatic: false,
+                estimated: false,
+            }
+        })
+        .collect();
+    let mut tests: Vec<f64> = input.leak_estimates.iter().map(|e| e.leak_flow_m3_min).collect();
+    tests.sort_by(f64::total_cmp);
+    let (adopted, adopted_rel, adopted_rule) = if !tests.is_empty() {
+        let med = percentile(&tests, 0.5);
+        let rel = input
+            .leak_estimates
+            .iter()
+            .map(|e| default_relative_uncertainty(&e.method, acc))
+            .fold(0.0, f64::max);
+        (Some(med), rel, "median of the accepted field tests".to_string())
+    } else if let (Some(q), true) = (q_nonprod, d.prod_share < 1.0) {
+        (
+            Some(q),
+            u_flow,
+            "mean flow in non-production hours (an upper bound: includes fixed users)".to_string(),
+        )
+    } else {
+        (None, 0.0, "no leak estimate: run a bleed-down or load/unload test".to_string())
+    };
+    if let Some(q) = q_nonprod.filter(|_| d.prod_share < 1.0) {
+        let (lo, hi) = band(q, u_flow);
+        estimates.push(LeakEstimateFigure {
+            test_id: None,
+            method: "non_production_flow".into(),
+            leak_flow_m3_min: q,
+            leak_flow_m3_min_low: lo,
+            leak_flow_m3_min_high: hi,
+            share_of_mean_demand: (mean_flow > 0.0).then(|| q / mean_flow),
+            automatic: true,
+            estimated: flow_estimated,
+        });
+    }
+    let share = adopted.filter(|_| mean_flow > 0.0).map(|q| q / mean_flow);
+    let u_share = quad(&[adopted_rel, u_flow]);
+    let leak_kwh = adopted.map(|q| q * marginal * annual_running_hours);
+    let u_leak_cost = quad(&[adopted_rel, 0.05]);
+    let leak_band = share.map(leaks::leak_share_band);
+    methods.push(m(
+        "annual_leak_cost",
+        "leak flow × marginal kW/(m³/min) × annual running hours × price",
+        "US DOE sourcebook, leaks fact sheet; priced at the marginal (trim) specific power, not the average",
+    ));
+
+    let mut pressure_fig = d.pressure.clone();
+    pressure_fig.uncertainty_bar = acc.pressure_abs_bar();
+    methods.push(m(
+        "pressure bands",
+        "p5/p50/p95 of header pressure; low limit = lowest rated pressure - 1 bar",
+        "common practice",
+    ));
+
     let recs = recommend::recommend(&RecommendInput {
         site,
         compressors: cs,
-        machines: &machines,
+        machines: &d.machines,
         trim,
         marginal_kw_per_m3_min: marginal,
         annual_running_hours,
         annual_energy_kwh: annual_kwh,
         leak_flow_m3_min: adopted,
         mean_pressure_bar_g: pressure_fig.mean_bar_g,
-        control,
+        control: d.control.clone(),
         heat: (value > 0.0).then_some(HeatCase {
             useful_kwh_per_year: useful,
             fuel_kwh_per_year: fuel,
@@ -1247,20 +1409,14 @@ pub fn summarize(input: &AuditInput) -> Summary {
 
     let (e_lo, e_hi) = band(sys_energy, u_power);
     let (p_lo, p_hi) = band(sys_mean_kw, u_power);
-    let (a_lo, a_hi) = band(air_m3, u_flow);
+    let (a_lo, a_hi) = band(d.air_m3, u_flow);
     let (q_lo, q_hi) = band(mean_flow, u_flow);
     let (ae_lo, ae_hi) = band(annual_kwh, u_power);
     let (ac_lo, ac_hi) = band(annual_cost, u_power);
     Summary {
-        period: Period {
-            start: ts_string(grid.start_ms),
-            end: ts_string(grid.end_ms()),
-            hours: grid.hours(),
-            step_s: grid.step_s(),
-            bins: n,
-        },
-        coverage,
-        flow_source,
+        period: d.period.clone(),
+        coverage: d.coverage.clone(),
+        flow_source: d.flow_source,
         system: SystemFigures {
             energy_kwh: sys_energy,
             energy_kwh_low: e_lo,
@@ -1269,36 +1425,36 @@ pub fn summarize(input: &AuditInput) -> Summary {
             mean_power_kw_low: p_lo,
             mean_power_kw_high: p_hi,
             peak_power_kw: peak_kw,
-            peak_power_window_s: peak_kw_window,
-            air_m3,
+            peak_power_window_s: d.peak_kw_window,
+            air_m3: d.air_m3,
             air_m3_low: a_lo,
             air_m3_high: a_hi,
             mean_flow_m3_min: mean_flow,
             mean_flow_m3_min_low: q_lo,
             mean_flow_m3_min_high: q_hi,
-            peak_flow_m3_min: peak_flow,
-            peak_flow_window_s: peak_flow_window,
-            flow_source,
+            peak_flow_m3_min: d.peak_flow,
+            peak_flow_window_s: d.peak_flow_window,
+            flow_source: d.flow_source,
             estimated: flow_estimated,
             specific_power_kw_per_m3_min: sp,
             specific_power_kw_per_m3_min_low: sp.map(|s| s * (1.0 - u_sp)),
             specific_power_kw_per_m3_min_high: sp.map(|s| s * (1.0 + u_sp)),
             specific_power_kw_per_100cfm: sp.map(super::units::kw_per_100cfm),
             specific_power_kwh_per_m3: sp.map(|s| s / 60.0),
-            rated_specific_power_kw_per_m3_min: rated_sp,
-            specific_power_degradation_percent: sp.zip(rated_sp).map(|(s, r)| (s / r - 1.0) * 100.0),
+            rated_specific_power_kw_per_m3_min: d.rated_sp,
+            specific_power_degradation_percent: sp.zip(d.rated_sp).map(|(s, r)| (s / r - 1.0) * 100.0),
             isothermal_efficiency: iso,
             isothermal_efficiency_low: iso.map(|x| x * (1.0 - u_iso)),
             isothermal_efficiency_high: iso.map(|x| x * (1.0 + u_iso)),
-            part_load_curve,
-            compressors_without_power: without_power,
+            part_load_curve: d.part_load_curve.clone(),
+            compressors_without_power: d.without_power.clone(),
         },
         pressure: pressure_fig,
         compressors: comp_fig,
-        demand,
+        demand: d.demand.clone(),
         baseline: Baseline {
-            rule: rule_text,
-            annual_hours: rule.hours(),
+            rule: d.rule_text.clone(),
+            annual_hours: d.rule.hours(),
             annual_running_hours,
             annual_energy_kwh: annual_kwh,
             annual_energy_kwh_low: ae_lo,
@@ -1475,16 +1631,18 @@ mod tests {
         let storage = StorageSpec { receivers_m3: vec![3.0], other_volume_m3: 0.0 };
         let costs = CostOverrides::default();
         let acc = Accuracy::default();
-        summarize(&AuditInput {
-            site: s,
-            compressors: cs,
-            storage: &storage,
+        summarize(
             frame,
-            leak_estimates: leaks,
-            costs: &costs,
-            scenarios: &[],
-            accuracy: &acc,
-        })
+            &AuditInput {
+                site: s,
+                compressors: cs,
+                storage: &storage,
+                leak_estimates: leaks,
+                costs: &costs,
+                scenarios: &[],
+                accuracy: &acc,
+            },
+        )
     }
 
     #[test]

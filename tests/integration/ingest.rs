@@ -88,6 +88,18 @@ fn summaries_follow_edits_and_replaced_readings() {
     assert_eq!(b["system"]["energy_kwh"].as_f64().unwrap(), e1, "an edit of the price leaves the energy");
     let cost2 = b["baseline"]["annual_energy_cost"].as_f64().unwrap();
     assert!((cost2 / cost1 - 2.0).abs() < 1e-9, "the energy cost follows the price: {cost1} -> {cost2}");
+    // An edit of what the passes over the bins read (here the operating year) is not priced from
+    // the figures kept for the old one: mean kW x 4000 h (analysis module doc, annualisation).
+    let r =
+        s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"operating_hours_per_year": 4000}}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let c = summary();
+    let (mean_kw, annual) = (
+        c["system"]["mean_power_kw"].as_f64().unwrap(),
+        c["baseline"]["annual_energy_kwh"].as_f64().unwrap(),
+    );
+    assert!((annual - mean_kw * 4000.0).abs() < 1e-6 * annual, "{annual} kWh/yr from {mean_kw} kW");
+    assert_ne!(annual, b["baseline"]["annual_energy_kwh"].as_f64().unwrap());
     // The same two hours again with the loaded power doubled, replacing the stored readings.
     let doubled = cycling_csv(2).replace(",56,", ",112,");
     assert_ne!(doubled, cycling_csv(2));
