@@ -372,6 +372,28 @@ fn summary_lock(id: i64) -> Arc<tokio::sync::Mutex<()>> {
     m.entry(id).or_default().clone()
 }
 
+/// Which build computes summaries: the package version and the running executable's size and
+/// modification time, so a rebuilt or upgraded binary never serves a summary cached by another
+/// one (its rules may differ). Falls back to the version alone if the executable cannot be read.
+pub fn build_id() -> &'static str {
+    static ID: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    ID.get_or_init(|| {
+        let version = env!("CARGO_PKG_VERSION");
+        let exe = std::env::current_exe().and_then(std::fs::metadata);
+        match exe {
+            Ok(m) => {
+                let mtime = m
+                    .modified()
+                    .ok()
+                    .and_then(|t| t.duration_since(std::time::UNIX_EPOCH).ok())
+                    .map_or(0, |d| d.as_nanos());
+                format!("{version} {} {mtime}", m.len())
+            }
+            Err(_) => version.to_string(),
+        }
+    })
+}
+
 /// The summary as JSON: from the cache when the audit has not changed, else computed and cached.
 /// A window (`from`/`to`) is always computed fresh.
 pub async fn summary_json(
@@ -384,7 +406,7 @@ pub async fn summary_json(
     let _turn = if window.is_none() { Some(summary_lock(id).lock_owned().await) } else { None };
     let b = bundle(db, id).await?;
     if window.is_none() {
-        if let Some(json) = audits::cached_summary(db, id, b.audit.revision).await? {
+        if let Some(json) = audits::cached_summary(db, id, b.audit.revision, build_id()).await? {
             return serde_json::from_str(&json).map_err(|e| AppError::Internal(e.into()));
         }
     }
@@ -399,7 +421,7 @@ pub async fn summary_json(
         }),
     };
     if window.is_none() {
-        audits::put_summary(db, id, b.audit.revision, &value.to_string()).await?;
+        audits::put_summary(db, id, b.audit.revision, build_id(), &value.to_string()).await?;
     }
     Ok(value)
 }

@@ -528,31 +528,39 @@ pub async fn set_cost_override(
 }
 
 /// The cached summary JSON if it was computed for `revision`.
+/// The cached summary of this revision, if the build `made_by` made it (`service::build_id`).
 pub async fn cached_summary(
     pool: &SqlitePool,
     audit_id: i64,
     revision: i64,
+    made_by: &str,
 ) -> Result<Option<String>, StoreError> {
-    Ok(sqlx::query_scalar("SELECT summary FROM summary_cache WHERE audit_id = ? AND revision = ?")
-        .bind(audit_id)
-        .bind(revision)
-        .fetch_optional(pool)
-        .await?)
+    Ok(sqlx::query_scalar(
+        "SELECT summary FROM summary_cache WHERE audit_id = ? AND revision = ? AND made_by = ?",
+    )
+    .bind(audit_id)
+    .bind(revision)
+    .bind(made_by)
+    .fetch_optional(pool)
+    .await?)
 }
 
 pub async fn put_summary(
     pool: &SqlitePool,
     audit_id: i64,
     revision: i64,
+    made_by: &str,
     json: &str,
 ) -> Result<(), StoreError> {
     let mut tx = begin_write(pool).await?;
     sqlx::query(
-        "INSERT INTO summary_cache (audit_id, revision, summary) VALUES (?, ?, ?) \
-         ON CONFLICT (audit_id) DO UPDATE SET revision = excluded.revision, summary = excluded.summary",
+        "INSERT INTO summary_cache (audit_id, revision, made_by, summary) VALUES (?, ?, ?, ?) \
+         ON CONFLICT (audit_id) DO UPDATE SET revision = excluded.revision, made_by = excluded.made_by, \
+         summary = excluded.summary",
     )
     .bind(audit_id)
     .bind(revision)
+    .bind(made_by)
     .bind(json)
     .execute(&mut *tx)
     .await?;

@@ -445,3 +445,36 @@ fn big_imports_queue_past_the_cap_and_reports_are_answered_meanwhile() {
         "only {answered_while_importing} reports answered during the imports"
     );
 }
+
+#[test]
+fn a_summary_cached_by_another_build_is_worked_out_again() {
+    let dir = TempDir::new("made-by");
+    let db = dir.path().join("made-by.sqlite");
+    let mut s = Server::start_on(dir, db.clone(), &["serve"], &[]);
+    let id = s.audit_with_compressor("C1");
+    assert_eq!(s.upload(id, "a.csv", cycling_csv(2).as_bytes(), &cycling_mapping(), "").status, 201);
+    let energy =
+        s.get(&format!("/api/v1/audits/{id}/summary")).json()["system"]["energy_kwh"].as_f64().unwrap();
+    s.kill();
+    // What an older build would have left: the same revision, other figures, another maker.
+    let stale = json!({"stale": true, "system": {"energy_kwh": 1.0}}).to_string();
+    let rt = tokio::runtime::Builder::new_current_thread().enable_all().build().unwrap();
+    let changed = rt.block_on(async {
+        let pool = sqlx::SqlitePool::connect(&format!("sqlite://{}", db.display())).await.unwrap();
+        let r = sqlx::query(
+            "UPDATE summary_cache SET made_by = '0.0.0 an older build', summary = ? WHERE audit_id = ?",
+        )
+        .bind(&stale)
+        .bind(id)
+        .execute(&pool)
+        .await
+        .unwrap();
+        pool.close().await;
+        r.rows_affected()
+    });
+    assert_eq!(changed, 1, "the summary was cached");
+    let s2 = Server::start_on(TempDir::new("made-by2"), db.clone(), &["serve"], &[]);
+    let again = s2.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(again["stale"], Value::Null, "served another build's cached summary");
+    assert_eq!(again["system"]["energy_kwh"].as_f64().unwrap(), energy);
+}
