@@ -32,7 +32,9 @@ use std::collections::BTreeMap;
 
 use serde::{Deserialize, Serialize};
 
+use super::display::Fmt;
 use super::model::{CompressorSpec, Control, SiteSpec};
+use super::units::UnitSystem;
 
 /// Every kind of measure this module proposes (API.md names).
 pub const KINDS: &[&str] = &[
@@ -158,6 +160,79 @@ pub fn cost(kind: &str, ctx: &CostContext, overrides: &CostOverrides) -> f64 {
     cost_with_rate(kind, ctx, rate)
 }
 
+/// A figure inside a measure's words, in canonical units, so each page shows it in its reader's
+/// units. Only the quantities whose unit differs between SI and US customary are figures; kWh, kW,
+/// hours and money read the same in both and stay words.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Quantity {
+    /// m³/min of free air (cfm of free air in US units).
+    FlowM3Min,
+    /// bar(g) (psig).
+    PressureBarG,
+    /// kW/(m³/min) (kW/100 cfm).
+    SpecificPowerKwPerM3Min,
+}
+
+/// Words, or a figure the reader's units show (JSON: a string, or `{"quantity", "value"}`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(untagged)]
+pub enum Part {
+    Words(String),
+    Figure { quantity: Quantity, value: f64 },
+}
+
+impl From<&str> for Part {
+    fn from(w: &str) -> Self {
+        Part::Words(w.into())
+    }
+}
+impl From<String> for Part {
+    fn from(w: String) -> Self {
+        Part::Words(w)
+    }
+}
+
+/// A free-air flow, m³/min.
+pub fn flow(m3_min: f64) -> Part {
+    Part::Figure { quantity: Quantity::FlowM3Min, value: m3_min }
+}
+/// A gauge pressure, bar(g).
+pub fn bar_g(bar_g: f64) -> Part {
+    Part::Figure { quantity: Quantity::PressureBarG, value: bar_g }
+}
+/// A specific power, kW/(m³/min).
+pub fn specific(kw_per_m3_min: f64) -> Part {
+    Part::Figure { quantity: Quantity::SpecificPowerKwPerM3Min, value: kw_per_m3_min }
+}
+
+/// The words of `parts` with every figure in `fmt`'s units.
+pub fn render(parts: &[Part], fmt: &Fmt) -> String {
+    parts
+        .iter()
+        .map(|p| match p {
+            Part::Words(w) => w.clone(),
+            Part::Figure { quantity: Quantity::FlowM3Min, value } => fmt.flow_m3_min(*value),
+            Part::Figure { quantity: Quantity::PressureBarG, value } => fmt.pressure_bar_g(*value),
+            Part::Figure { quantity: Quantity::SpecificPowerKwPerM3Min, value } => fmt.specific_power(*value),
+        })
+        .collect()
+}
+
+/// A measure's words in parts: `title`, `description` and `basis` of [`Recommendation`] are their
+/// SI rendering (API.md); pages render these in the reader's units.
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+pub struct Text {
+    pub title: Vec<Part>,
+    pub description: Vec<Part>,
+    pub basis: Vec<Vec<Part>>,
+}
+
+/// Words and figures: `text!["about ", flow(q)]`.
+macro_rules! text {
+    ($($p:expr),* $(,)?) => { vec![$(Part::from($p)),*] };
+}
+
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Recommendation {
     pub kind: &'static str,
@@ -173,6 +248,8 @@ pub struct Recommendation {
     /// The saving is electricity (`false` for `recover_heat`, whose kWh are fuel displaced).
     pub electricity: bool,
     pub basis: Vec<String>,
+    /// The same words in parts, for pages in either unit system.
+    pub text: Text,
     pub formula: String,
     pub source: String,
     pub caution: Option<String>,
@@ -274,13 +351,13 @@ pub struct RecommendInput<'a> {
 /// A measure before its cost and payback are worked out.
 struct Draft {
     kind: &'static str,
-    title: String,
-    description: String,
+    title: Vec<Part>,
+    description: Vec<Part>,
     saving_kwh: f64,
     /// The money saved when it is not electricity at the site's price (recovered heat).
     money: Option<f64>,
     cost_ctx: CostContext,
-    basis: Vec<String>,
+    basis: Vec<Vec<Part>>,
     formula: &'static str,
     source: &'static str,
     caution: Option<String>,
@@ -299,10 +376,11 @@ fn finish(r: &RecommendInput, d: Draft) -> Option<Recommendation> {
     }
     let implementation_cost = cost(kind, &cost_ctx, r.costs);
     let co2_kg = if electricity { r.site.grid_co2_kg_per_kwh } else { r.site.fuel_co2_kg_per_kwh };
+    let si = Fmt::new(UnitSystem::Si, r.site.air.atmosphere);
     Some(Recommendation {
         kind,
-        title,
-        description,
+        title: render(&title, &si),
+        description: render(&description, &si),
         annual_energy_saving_kwh: saving_kwh,
         annual_cost_saving,
         implementation_cost,
@@ -310,7 +388,8 @@ fn finish(r: &RecommendInput, d: Draft) -> Option<Recommendation> {
         implementation_cost_source: "default_estimate",
         annual_co2_saving_t: saving_kwh * co2_kg / 1000.0,
         electricity,
-        basis,
+        basis: basis.iter().map(|b| render(b, &si)).collect(),
+        text: Text { title, description, basis },
         formula: formula.into(),
         source: source.into(),
         caution,
@@ -331,14 +410,15 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
     if let Some(leak) = r.leak_flow_m3_min.filter(|q| *q > 0.0) {
         let dq = opts.leak_repair_fraction.clamp(0.0, 1.0) * leak;
         let kwh = capped(dq * r.marginal_kw_per_m3_min * r.annual_running_hours);
-        out.extend(finish(r, Draft { kind: "repair_leaks", title: format!("Repair leaks: about {dq:.2} m³/min of free air"), description: format!(
-                "Find and repair {:.0} % of the estimated {leak:.2} m³/min (free air) of leaks; the trim compressor {trim_tag} then delivers less air.",
-                opts.leak_repair_fraction * 100.0
-            ), saving_kwh: kwh, money: None, cost_ctx: CostContext { leak_repaired_m3_min: dq, ..Default::default() }, basis: vec![
-                format!("leak flow {leak:.3} m³/min free air"),
-                format!("repair fraction {:.2}", opts.leak_repair_fraction),
-                format!("marginal specific power {:.3} kW/(m³/min) ({trim_tag})", r.marginal_kw_per_m3_min),
-                format!("running hours {:.0} h/yr", r.annual_running_hours),
+        out.extend(finish(r, Draft { kind: "repair_leaks", title: text!["Repair leaks: about ", flow(dq)], description: text![
+                format!("Find and repair {:.0} % of the estimated ", opts.leak_repair_fraction * 100.0),
+                flow(leak),
+                format!(" of leaks; the trim compressor {trim_tag} then delivers less air."),
+            ], saving_kwh: kwh, money: None, cost_ctx: CostContext { leak_repaired_m3_min: dq, ..Default::default() }, basis: vec![
+                text!["leak flow ", flow(leak)],
+                text![format!("repair fraction {:.2}", opts.leak_repair_fraction)],
+                text!["marginal specific power ", specific(r.marginal_kw_per_m3_min), format!(" ({trim_tag})")],
+                text![format!("running hours {:.0} h/yr", r.annual_running_hours)],
             ], formula: "saving = f × Q_leak × marginal kW/(m³/min) × running hours (≤ trim energy above idle)", source: "US DOE compressed-air sourcebook (leaks fact sheet); priced at the marginal (trim) specific power", caution: None }));
     }
 
@@ -355,26 +435,26 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
             let q_unreg = opts.unregulated_flow_m3_min.unwrap_or(0.0) + r.leak_flow_m3_min.unwrap_or(0.0);
             let dq = q_unreg * dp / p_abs_bar;
             let artificial = capped(dq * r.marginal_kw_per_m3_min * r.annual_running_hours);
-            out.extend(finish(r, Draft { kind: "lower_pressure", title: format!("Lower the header pressure from {p_now:.2} to {target:.2} bar(g)"), description: "Lower the compressors' set points in steps while watching the pressure at the farthest point of use.".into(), saving_kwh: direct + artificial, money: None, cost_ctx: CostContext::default(), basis: vec![
-                    format!("mean header pressure {p_now:.2} bar(g)"),
-                    format!("target {target:.2} bar(g)"),
-                    format!("annual compressor energy {:.0} kWh", r.annual_energy_kwh),
-                    format!("unregulated demand incl. leaks {q_unreg:.3} m³/min -> {dq:.3} m³/min less (free air)"),
-                    format!("marginal specific power {:.3} kW/(m³/min)", r.marginal_kw_per_m3_min),
+            out.extend(finish(r, Draft { kind: "lower_pressure", title: text!["Lower the header pressure from ", bar_g(p_now), " to ", bar_g(target)], description: text!["Lower the compressors' set points in steps while watching the pressure at the farthest point of use."], saving_kwh: direct + artificial, money: None, cost_ctx: CostContext::default(), basis: vec![
+                    text!["mean header pressure ", bar_g(p_now)],
+                    text!["target ", bar_g(target)],
+                    text![format!("annual compressor energy {:.0} kWh", r.annual_energy_kwh)],
+                    text!["unregulated demand incl. leaks ", flow(q_unreg), ": ", flow(dq), " less at the lower pressure"],
+                    text!["marginal specific power ", specific(r.marginal_kw_per_m3_min)],
                 ], formula: "saving = E × 1 % × Δp / 0.138 bar + Q_unreg Δp / p_abs × marginal kW/(m³/min) × hours", source: "US DOE compressed-air sourcebook (1 % of input per 2 psi)", caution: Some("check that every point of use keeps the pressure its tools need; lower in steps".into()) }));
         }
     }
 
     // Heat recovery.
     if let Some(h) = &r.heat {
-        out.extend(finish(r, Draft { kind: "recover_heat", title: format!("Recover compressor heat for {}", h.use_kind.replace('_', " ")), description: format!(
+        out.extend(finish(r, Draft { kind: "recover_heat", title: text![format!("Recover compressor heat for {}", h.use_kind.replace('_', " "))], description: text![format!(
                 "Use about {:.0} kWh/yr of the compressors' heat in place of fuel ({:.0} kWh/yr of fuel).",
                 h.useful_kwh_per_year, h.fuel_kwh_per_year
-            ), saving_kwh: h.fuel_kwh_per_year, money: Some(h.value_per_year), cost_ctx: CostContext { recoverable_heat_kw: h.recoverable_kw, ..Default::default() }, basis: vec![
-                format!("useful heat {:.0} kWh/yr", h.useful_kwh_per_year),
-                format!("heater efficiency {:.2}", r.site.heater_efficiency),
-                format!("fuel price {} {} per kWh", r.site.heating_fuel_price_per_kwh, r.site.currency),
-                format!("recoverable heat {:.1} kW at full load", h.recoverable_kw),
+            )], saving_kwh: h.fuel_kwh_per_year, money: Some(h.value_per_year), cost_ctx: CostContext { recoverable_heat_kw: h.recoverable_kw, ..Default::default() }, basis: vec![
+                text![format!("useful heat {:.0} kWh/yr", h.useful_kwh_per_year)],
+                text![format!("heater efficiency {:.2}", r.site.heater_efficiency)],
+                text![format!("fuel price {} {} per kWh", r.site.heating_fuel_price_per_kwh, r.site.currency)],
+                text![format!("recoverable heat {:.1} kW at full load", h.recoverable_kw)],
             ], formula: "saving = useful heat / heater efficiency × fuel price, in the months the heat is used", source: "US DOE compressed-air sourcebook, heat-recovery fact sheet", caution: Some(
                 "hot oil, hot ducts and water above 60 °C; interlock the recovery circuit so a blocked \
                  circuit never stops the compressor's own cooling; defer to local codes and licensed practice"
@@ -393,9 +473,8 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
     if !idle.is_empty() {
         let kwh: f64 = idle.iter().map(|x| x.1).sum();
         let tags: Vec<String> = idle.iter().map(|(i, _)| r.compressors[*i].tag.clone()).collect();
-        out.extend(finish(r, Draft { kind: "shut_off_idle", title: format!("Switch off idling compressors out of production ({})", tags.join(", ")), description: "Outside production hours these machines run unloaded; a timer or sequencer rule stops them."
-                .into(), saving_kwh: kwh, money: None, cost_ctx: CostContext { compressors: idle.len() as f64, ..Default::default() }, basis: idle.iter()
-                .map(|(i, k)| format!("{} unloaded out of production {k:.0} kWh/yr", r.compressors[*i].tag))
+        out.extend(finish(r, Draft { kind: "shut_off_idle", title: text![format!("Switch off idling compressors out of production ({})", tags.join(", "))], description: text!["Outside production hours these machines run unloaded; a timer or sequencer rule stops them."], saving_kwh: kwh, money: None, cost_ctx: CostContext { compressors: idle.len() as f64, ..Default::default() }, basis: idle.iter()
+                .map(|(i, k)| text![format!("{} unloaded out of production {k:.0} kWh/yr", r.compressors[*i].tag)])
                 .collect(), formula: "saving = Σ energy spent unloaded in non-production hours (annualised)", source: "US DOE sourcebook (unloaded power 15-35 % of full load); common practice", caution: Some(
                 "only where nothing needs air at those hours; leaks and dryers still draw while pressurized"
                     .into(),
@@ -420,24 +499,24 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
             r,
             Draft {
                 kind: "improve_control",
-                title: format!("Change the compressor room as in scenario \u{201c}{}\u{201d}", s.name),
-                description: format!(
+                title: text![format!("Change the compressor room as in scenario \u{201c}{}\u{201d}", s.name)],
+                description: text![format!(
                     "The logged demand replayed through the changed room (scenario {}) takes {:.1} % less \
                      energy than the same replay of the room as it is.",
                     s.id,
                     s.energy_saving_kwh / s.baseline_energy_kwh * 100.0
-                ),
+                )],
                 saving_kwh: kwh,
                 money: None,
                 cost_ctx: CostContext { scenario_cost: Some(s.implementation_cost), ..Default::default() },
                 basis: vec![
-                    format!(
+                    text![format!(
                         "replayed saving {:.0} kWh over {:.0} h against a simulated baseline of {:.0} kWh",
                         s.energy_saving_kwh, s.simulated_hours, s.baseline_energy_kwh
-                    ),
-                    format!("annual energy {:.0} kWh/yr", r.annual_energy_kwh),
-                    format!("validation error of the replay {:+.2} %", s.validation_error * 100.0),
-                    format!("scenario cost {:.0} {}", s.implementation_cost, r.site.currency),
+                    )],
+                    text![format!("annual energy {:.0} kWh/yr", r.annual_energy_kwh)],
+                    text![format!("validation error of the replay {:+.2} %", s.validation_error * 100.0)],
+                    text![format!("scenario cost {:.0} {}", s.implementation_cost, r.site.currency)],
                 ],
                 formula:
                     "saving = (replayed baseline - replayed scenario) / replayed baseline × annual energy",
@@ -455,12 +534,12 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
             r,
             Draft {
                 kind: "improve_control",
-                title: if has_vsd {
+                title: text![if has_vsd {
                     format!("Sequence the variable-speed machine as trim instead of {}", spec.tag)
                 } else {
                     format!("Trim with a variable-speed compressor instead of {}", spec.tag)
-                },
-                description: format!(
+                }],
+                description: text![format!(
                     "{} runs loaded {:.0} % of its time and cycles {:.1} times an hour; {}",
                     spec.tag,
                     r.machines[t].loaded_fraction * 100.0,
@@ -473,13 +552,13 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
                     } else {
                         "its part-load power is high for the air it delivers".into()
                     }
-                ),
+                )],
                 saving_kwh: kwh,
                 money: None,
                 cost_ctx: CostContext { rated_kw: spec.rated_power_kw, has_vsd, ..Default::default() },
                 basis: vec![
-                    format!("logged trim energy {:.0} kWh/yr", c.logged_annual_kwh),
-                    format!("same demand on {}: {:.0} kWh/yr", c.curve, c.modelled_annual_kwh),
+                    text![format!("logged trim energy {:.0} kWh/yr", c.logged_annual_kwh)],
+                    text![format!("same demand on {}: {:.0} kWh/yr", c.curve, c.modelled_annual_kwh)],
                 ],
                 formula: "saving = logged trim energy - Σ P_vsd(mean trim flow per 5 min) × time",
                 source: "US DOE sourcebook: part-load behaviour by control",
@@ -502,13 +581,13 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
             Some(sp) if sp_high => p_meas - p_meas * spec.rated_specific_power_kw_per_m3_min() / sp,
             _ => p_meas - spec.rated_power_kw,
         };
-        out.extend(finish(r, Draft { kind: "replace_compressor", title: format!("Overhaul or replace {}", spec.tag), description: format!(
+        out.extend(finish(r, Draft { kind: "replace_compressor", title: text![format!("Overhaul or replace {}", spec.tag)], description: text![format!(
                 "{} draws {p_meas:.1} kW loaded against {:.1} kW on its data sheet.",
                 spec.tag, spec.rated_power_kw
-            ), saving_kwh: excess_kw * m.annual_loaded_hours, money: None, cost_ctx: CostContext { rated_kw: spec.rated_power_kw, ..Default::default() }, basis: vec![
-                format!("measured loaded power {p_meas:.2} kW"),
-                format!("data-sheet power {:.2} kW", spec.rated_power_kw),
-                format!("loaded hours {:.0} h/yr", m.annual_loaded_hours),
+            )], saving_kwh: excess_kw * m.annual_loaded_hours, money: None, cost_ctx: CostContext { rated_kw: spec.rated_power_kw, ..Default::default() }, basis: vec![
+                text![format!("measured loaded power {p_meas:.2} kW")],
+                text![format!("data-sheet power {:.2} kW", spec.rated_power_kw)],
+                text![format!("loaded hours {:.0} h/yr", m.annual_loaded_hours)],
             ], formula: "saving = loaded hours × (measured loaded kW - data-sheet kW at its specific power)", source: "ISO 1217 data-sheet values; threshold 10 % power / 15 % specific power (common practice)", caution: Some(
                 "check the measurement (power factor, clamp placement) and the discharge pressure first"
                     .into(),
@@ -603,6 +682,40 @@ pub(crate) mod tests {
     }
 
     #[test]
+    fn measure_texts_show_flow_and_pressure_in_the_readers_units() {
+        // 1 m³/min = 35.3147 cfm; 1 psi = 6894.757 Pa (FIELD-NOTES §2, NIST SP 811).
+        let s = site();
+        let cs = [lu()];
+        let ms = [MachineUse { annual_above_idle_kwh: 1e6, ..Default::default() }];
+        let costs = CostOverrides::default();
+        let recs = recommend(&input(&s, &cs, &ms, &costs));
+        let us = Fmt::new(UnitSystem::Us, s.air.atmosphere);
+        let leak = recs.iter().find(|r| r.kind == "repair_leaks").expect("leak measure");
+        // Half of the 2 m³/min leak repaired.
+        assert_eq!(leak.title, "Repair leaks: about 1.00 m³/min free air");
+        assert_eq!(render(&leak.text.title, &us), "Repair leaks: about 35.3 cfm free air");
+        assert_eq!(leak.basis[0], "leak flow 2.00 m³/min free air");
+        assert_eq!(render(&leak.text.basis[0], &us), "leak flow 70.6 cfm free air");
+        assert!(render(&leak.text.basis[2], &us).contains(" kW/100 cfm"), "{:?}", leak.text.basis[2]);
+        // 7.0 and 6.5 bar(g) = 101.5 and 94.3 psig.
+        let p = recs.iter().find(|r| r.kind == "lower_pressure").expect("pressure measure");
+        assert_eq!(p.title, "Lower the header pressure from 7.00 bar(g) to 6.50 bar(g)");
+        assert_eq!(render(&p.text.title, &us), "Lower the header pressure from 101.5 psig to 94.3 psig");
+        // No SI unit is left in any US rendering of these measures.
+        for r in [leak, p] {
+            let all: Vec<String> = std::iter::once(&r.text.title)
+                .chain(std::iter::once(&r.text.description))
+                .chain(&r.text.basis)
+                .map(|x| render(x, &us))
+                .collect();
+            assert!(all.iter().all(|x| !x.contains("m³") && !x.contains("bar(g)")), "{all:?}");
+        }
+        // The parts survive the summary's JSON (the pages read them back from it).
+        let back: Text = serde_json::from_value(serde_json::to_value(&leak.text).unwrap()).unwrap();
+        assert_eq!(back, leak.text);
+    }
+
+    #[test]
     fn the_best_qualifying_scenario_is_the_control_measure() {
         let s = site();
         let cs = [lu()];
@@ -648,6 +761,7 @@ pub(crate) mod tests {
             annual_co2_saving_t: 0.0,
             electricity: true,
             basis: vec![],
+            text: Text::default(),
             formula: String::new(),
             source: String::new(),
             caution: None,

@@ -16,6 +16,7 @@ use super::pages::{render, PageError};
 use super::AppState;
 use crate::core::display::{num, Fmt};
 use crate::core::model::human_label;
+use crate::core::recommend::{self, Text};
 use crate::core::units::{UnitSystem, M3_PER_FT3, PA_PER_PSI};
 use crate::service::{self, AuditBundle};
 use crate::store::audits::Audit;
@@ -268,11 +269,29 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
             tot_save += g(r, "annual_cost_saving");
             tot_cost += g(r, "implementation_cost");
             let electricity = r["electricity"].as_bool().unwrap_or(true);
+            // The words in parts, each figure in the reader's units; the SI words if a summary
+            // has no parts.
+            let text: Option<Text> = serde_json::from_value(r["text"].clone()).ok();
+            let (title, description, basis) = match text {
+                Some(t) => (
+                    recommend::render(&t.title, fmt),
+                    recommend::render(&t.description, fmt),
+                    t.basis.iter().map(|b| recommend::render(b, fmt)).collect(),
+                ),
+                None => (
+                    s(r, "title").into(),
+                    s(r, "description").into(),
+                    r["basis"]
+                        .as_array()
+                        .map(|a| a.iter().filter_map(|x| x.as_str().map(String::from)).collect())
+                        .unwrap_or_default(),
+                ),
+            };
             RecView {
                 rank: i + 1,
                 kind: s(r, "kind").into(),
-                title: s(r, "title").into(),
-                description: s(r, "description").into(),
+                title,
+                description,
                 energy: format!(
                     "{}{}",
                     fmt.energy_kwh(g(r, "annual_energy_saving_kwh")),
@@ -288,10 +307,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
                 },
                 payback: fmt.years(g(r, "simple_payback_years")),
                 co2: fmt.co2_t(g(r, "annual_co2_saving_t")),
-                basis: r["basis"]
-                    .as_array()
-                    .map(|a| a.iter().filter_map(|x| x.as_str().map(String::from)).collect())
-                    .unwrap_or_default(),
+                basis,
                 formula: s(r, "formula").into(),
                 source: s(r, "source").into(),
                 caution: s(r, "caution").into(),

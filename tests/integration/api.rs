@@ -232,6 +232,40 @@ fn edited_implementation_costs_change_the_payback() {
     );
 }
 
+/// The measures' own words (title, description, the figures behind them) of the report page, one
+/// string per measure; the formula and source lines are equations and citations, left out.
+fn measure_words(page: &str) -> Vec<String> {
+    page.split("<details class=\"rec\"")
+        .skip(1)
+        .map(|m| {
+            m.split("<p><b>Formula:").next().unwrap_or("").to_string()
+                + m.split("<p><b>From the figures:</b></p>")
+                    .nth(1)
+                    .and_then(|r| r.split("</ul>").next())
+                    .unwrap_or("")
+        })
+        .collect()
+}
+
+#[test]
+fn the_measures_words_follow_the_units_switch() {
+    let s = Server::demo();
+    let si = measure_words(&s.get("/audits/1/report?units=si").text);
+    let us = measure_words(&s.get("/audits/1/report?units=us").text);
+    assert!(si.len() >= 3, "the demo plant has measures: {}", si.len());
+    assert_eq!(si.len(), us.len());
+    // The demo's leak measure names its flow; the pressure measure its two pressures.
+    let leak_si = si.iter().find(|m| m.contains("rec-repair_leaks")).expect("leak measure");
+    assert!(leak_si.contains("m³/min free air"), "{leak_si}");
+    let leak_us = us.iter().find(|m| m.contains("rec-repair_leaks")).unwrap();
+    assert!(leak_us.contains("cfm free air"), "{leak_us}");
+    let p_us = us.iter().find(|m| m.contains("rec-lower_pressure")).expect("pressure measure");
+    assert!(p_us.matches("psig").count() >= 2, "{p_us}");
+    for m in &us {
+        assert!(!m.contains("m³") && !m.contains("bar(g)"), "SI left in a measure shown in US units: {m}");
+    }
+}
+
 #[test]
 fn report_json_from_the_cli_matches_the_api() {
     let s = Server::demo();
