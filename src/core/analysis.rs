@@ -432,9 +432,16 @@ impl AnnualRule {
 
 /// Annual integral (value × h) of a binned series under the rule.
 fn annualise(values: &[f32], cells: &[u8], rule: AnnualRule) -> f64 {
+    annualise_by(cells, rule, |k| values[k])
+}
+
+/// [`annualise`] of the series whose value in bin `k` is `value(k)`, without making it: the masked
+/// series of the measures would otherwise cost 4 bytes a bin each.
+fn annualise_by(cells: &[u8], rule: AnnualRule, value: impl Fn(usize) -> f32) -> f64 {
     let (mut sum, mut n) = ([0.0f64; 168], [0usize; 168]);
     let (mut all, mut count) = (0.0, 0usize);
-    for (&v, &c) in values.iter().zip(cells) {
+    for (k, &c) in cells.iter().enumerate() {
+        let v = value(k);
         if v.is_finite() && c != NO_CELL {
             sum[c as usize] += v as f64;
             n[c as usize] += 1;
@@ -800,29 +807,26 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
     let q_nonprod = flow.as_ref().and_then(|q| mean_where(q, |i| !is_prod[i])).map(|q| q * 60.0);
 
     // Annual figures.
-    let running_any: Vec<f32> = (0..n)
-        .map(|k| {
-            let mut known = false;
-            for s in st.iter().flatten() {
-                match s[k] {
-                    State::Unknown => {}
-                    x if x.running() => return 1.0,
-                    _ => known = true,
-                }
+    let running_any = |k: usize| {
+        let mut known = false;
+        for s in st.iter().flatten() {
+            match s[k] {
+                State::Unknown => {}
+                x if x.running() => return 1.0,
+                _ => known = true,
             }
-            if known {
-                0.0
-            } else {
-                f32::NAN
-            }
-        })
-        .collect();
+        }
+        if known {
+            0.0
+        } else {
+            f32::NAN
+        }
+    };
     let annual_running_hours = if st.iter().flatten().next().is_some() {
-        annualise(&running_any, &cells, rule)
+        annualise_by(&cells, rule, running_any)
     } else {
         rule.hours()
     };
-    drop(running_any);
     let annual_kwh_c: Vec<f64> =
         powers.iter().map(|p| p.map_or(0.0, |p| annualise(p, &cells, rule) / 1000.0)).collect();
     let annual_kwh: f64 = annual_kwh_c.iter().sum();
@@ -835,50 +839,37 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
         let unl_w = c.unloaded_power_fraction * c.rated_power_kw * 1000.0;
         let (idle_np, above) = match (powers[i], &st[i]) {
             (Some(p), Some(sv)) => {
-                let idle: Vec<f32> = (0..n)
-                    .map(|k| match sv[k] {
-                        State::Unknown => f32::NAN,
-                        State::Unloaded if !is_prod[k] => p[k],
-                        _ => 0.0,
-                    })
-                    .collect();
-                let above: Vec<f32> = (0..n)
-                    .map(|k| {
-                        if sv[k].running() {
-                            (p[k] - unl_w as f32).max(0.0)
-                        } else if p[k].is_finite() {
-                            0.0
-                        } else {
-                            f32::NAN
-                        }
-                    })
-                    .collect();
-                (annualise(&idle, &cells, rule) / 1000.0, annualise(&above, &cells, rule) / 1000.0)
+                let idle = |k: usize| match sv[k] {
+                    State::Unknown => f32::NAN,
+                    State::Unloaded if !is_prod[k] => p[k],
+                    _ => 0.0,
+                };
+                let above = |k: usize| {
+                    if sv[k].running() {
+                        (p[k] - unl_w as f32).max(0.0)
+                    } else if p[k].is_finite() {
+                        0.0
+                    } else {
+                        f32::NAN
+                    }
+                };
+                (annualise_by(&cells, rule, idle) / 1000.0, annualise_by(&cells, rule, above) / 1000.0)
             }
             _ => (0.0, 0.0),
         };
-        let loaded_ind: Vec<f32> = st[i]
-            .as_ref()
-            .map(|sv| {
-                sv.iter()
-                    .map(|x| match x {
-                        State::Unknown => f32::NAN,
-                        State::Loaded => 1.0,
-                        _ => 0.0,
-                    })
-                    .collect()
+        let annual_loaded_hours = st[i].as_ref().map_or(0.0, |sv| {
+            annualise_by(&cells, rule, |k| match sv[k] {
+                State::Unknown => f32::NAN,
+                State::Loaded => 1.0,
+                _ => 0.0,
             })
-            .unwrap_or_default();
+        });
         let (_, estimated, full) = comp_sp[i];
         machines.push(MachineUse {
             annual_energy_kwh: annual_kwh_c[i],
             annual_above_idle_kwh: above,
             annual_unloaded_non_production_kwh: idle_np,
-            annual_loaded_hours: if loaded_ind.is_empty() {
-                0.0
-            } else {
-                annualise(&loaded_ind, &cells, rule)
-            },
+            annual_loaded_hours,
             loaded_fraction: s.map_or(0.0, |s| s.loaded_fraction),
             cycles_per_hour: s.map_or(0.0, |s| s.cycles_per_hour),
             mean_loaded_power_kw: s.and_then(|s| s.mean_loaded_power_kw),
@@ -931,24 +922,27 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
         } else {
             format!("a typical variable-speed curve at {}'s rating", c.tag)
         };
+        // The modelled power of each 5-minute window (W), then of each bin with flow in it.
         let k = ((300.0 / grid.step_s()).round() as usize).max(1);
-        let mut modelled = vec![f32::NAN; n];
-        for (w, chunk) in q.chunks(k).enumerate() {
-            let v: Vec<f64> = chunk.iter().filter(|x| x.is_finite()).map(|&x| x as f64).collect();
-            if v.is_empty() {
-                continue;
-            }
-            let qm = v.iter().sum::<f64>() / v.len() as f64 * 60.0;
-            let kw = if qm > 0.0 { states::power_at_flow_kw(&vsd, qm) } else { 0.0 };
-            for (j, x) in chunk.iter().enumerate() {
-                if x.is_finite() {
-                    modelled[w * k + j] = (kw * 1000.0) as f32;
+        let window_w: Vec<f32> = q
+            .chunks(k)
+            .map(|chunk| {
+                let (sum, count) = chunk
+                    .iter()
+                    .filter(|x| x.is_finite())
+                    .fold((0.0f64, 0usize), |(s, c), &x| (s + x as f64, c + 1));
+                if count == 0 {
+                    return f32::NAN;
                 }
-            }
-        }
+                let qm = sum / count as f64 * 60.0;
+                let kw = if qm > 0.0 { states::power_at_flow_kw(&vsd, qm) } else { 0.0 };
+                (kw * 1000.0) as f32
+            })
+            .collect();
+        let modelled = |b: usize| if q[b].is_finite() { window_w[b / k] } else { f32::NAN };
         Some(ControlCase {
             logged_annual_kwh: annualise(p, &cells, rule) / 1000.0,
-            modelled_annual_kwh: annualise(&modelled, &cells, rule) / 1000.0,
+            modelled_annual_kwh: annualise_by(&cells, rule, modelled) / 1000.0,
             curve,
             simultaneous_cycling_share: simultaneous,
         })

@@ -140,20 +140,15 @@ impl BinAccumulator {
         }
     }
 
+    /// The means, written over the coverage (no third buffer of the grid's length at the peak).
     fn finish(self) -> Vec<f32> {
         let half = 0.5 * self.grid.step_ms as f64;
-        self.integral
-            .iter()
-            .zip(&self.covered_ms)
-            .map(|(&s, &c)| {
-                let c = c as f64;
-                if c >= half && c > 0.0 {
-                    (s / c) as f32
-                } else {
-                    f32::NAN
-                }
-            })
-            .collect()
+        let Self { integral, covered_ms: mut out, .. } = self;
+        for (m, &s) in out.iter_mut().zip(&integral) {
+            let c = *m as f64;
+            *m = if c >= half && c > 0.0 { (s / c) as f32 } else { f32::NAN };
+        }
+        out
     }
 }
 
