@@ -107,15 +107,13 @@ pub struct LeakEstimate {
 }
 
 /// What the passes over the bins read besides the frame: the compressors and the site's air, clock
-/// and operating year. [`data_figures`] is given nothing else, so an equal `DataSpec` over an equal frame
+/// and production schedule (the operating year is applied afterwards, to per-cell sums). [`data_figures`] is given nothing else, so an equal `DataSpec` over an equal frame
 /// gives an equal [`DataFigures`].
 #[derive(Debug, Clone, PartialEq)]
 pub struct DataSpec {
     pub compressors: Vec<CompressorSpec>,
     pub air: SiteAir,
     pub timezone: String,
-    pub operating_weeks_per_year: f64,
-    pub operating_hours_per_year: Option<f64>,
     pub production: Option<WeeklySchedule>,
 }
 
@@ -125,8 +123,6 @@ impl DataSpec {
             compressors: compressors.to_vec(),
             air: site.air,
             timezone: site.timezone.clone(),
-            operating_weeks_per_year: site.operating_weeks_per_year,
-            operating_hours_per_year: site.operating_hours_per_year,
             production: site.production.clone(),
         }
     }
@@ -430,36 +426,94 @@ impl AnnualRule {
     }
 }
 
-/// Annual integral (value × h) of a binned series under the rule.
-fn annualise(values: &[f32], cells: &[u8], rule: AnnualRule) -> f64 {
-    annualise_by(cells, rule, |k| values[k])
+/// A binned series summed per weekday-hour cell: all that its annual figure needs under any rule,
+/// so an edit of the operating year re-prices instead of passing over the bins again.
+#[derive(Debug, Clone, PartialEq)]
+struct CellSums {
+    sum: [f64; 168],
+    n: [u32; 168],
+    /// Over all cells, summed in bin order.
+    all: f64,
+    count: usize,
 }
 
-/// [`annualise`] of the series whose value in bin `k` is `value(k)`, without making it: the masked
-/// series of the measures would otherwise cost 4 bytes a bin each.
-fn annualise_by(cells: &[u8], rule: AnnualRule, value: impl Fn(usize) -> f32) -> f64 {
-    let (mut sum, mut n) = ([0.0f64; 168], [0usize; 168]);
-    let (mut all, mut count) = (0.0, 0usize);
-    for (k, &c) in cells.iter().enumerate() {
-        let v = value(k);
-        if v.is_finite() && c != NO_CELL {
-            sum[c as usize] += v as f64;
-            n[c as usize] += 1;
-            all += v as f64;
-            count += 1;
+impl CellSums {
+    /// The sums of the series whose value in bin `k` is `value(k)`, without making it (the masked
+    /// series of the measures would otherwise cost 4 bytes a bin each).
+    fn of(cells: &[u8], value: impl Fn(usize) -> f32) -> Self {
+        let mut c = Self { sum: [0.0; 168], n: [0; 168], all: 0.0, count: 0 };
+        for (k, &cell) in cells.iter().enumerate() {
+            let v = value(k);
+            if v.is_finite() && cell != NO_CELL {
+                c.sum[cell as usize] += v as f64;
+                c.n[cell as usize] += 1;
+                c.all += v as f64;
+                c.count += 1;
+            }
+        }
+        c
+    }
+
+    /// Annual integral (value × h) under the rule (module doc).
+    fn annual(&self, rule: AnnualRule) -> f64 {
+        if self.count == 0 {
+            return 0.0;
+        }
+        let mean = self.all / self.count as f64;
+        match rule {
+            AnnualRule::Hours(h) => mean * h,
+            AnnualRule::Scaled(w) => mean * 168.0 * w,
+            AnnualRule::Weekly(w) => {
+                (0..168)
+                    .map(|c| if self.n[c] > 0 { self.sum[c] / self.n[c] as f64 } else { mean })
+                    .sum::<f64>()
+                    * w
+            }
         }
     }
-    if count == 0 {
-        return 0.0;
-    }
-    let mean = all / count as f64;
-    match rule {
-        AnnualRule::Hours(h) => mean * h,
-        AnnualRule::Scaled(w) => mean * 168.0 * w,
+}
+
+/// How the site's operating year turns a log of `hours` into annual figures, and its words.
+fn annual_rule(site: &SiteSpec, hours: f64) -> (AnnualRule, String) {
+    let rule = match site.operating_hours_per_year {
+        Some(h) => AnnualRule::Hours(h),
+        // A logger week rarely spans exactly 168 h (its first reading comes one interval after the
+        // hour); a weekday-hour cell without data takes the overall mean (see `CellSums::annual`).
+        None if hours >= 167.0 => AnnualRule::Weekly(site.operating_weeks_per_year),
+        None => AnnualRule::Scaled(site.operating_weeks_per_year),
+    };
+    let text = match rule {
+        AnnualRule::Hours(h) => format!("mean over the log × {h} operating hours per year"),
         AnnualRule::Weekly(w) => {
-            (0..168).map(|c| if n[c] > 0 { sum[c] / n[c] as f64 } else { mean }).sum::<f64>() * w
+            format!("the logged weekly pattern (weekday × hour means) repeated over {w} weeks")
         }
-    }
+        AnnualRule::Scaled(w) => format!("log shorter than a week: mean over the log × 168 h × {w} weeks"),
+    };
+    (rule, text)
+}
+
+/// What the measures need from one compressor, with its annual figures as cell sums.
+#[derive(Debug, Clone, PartialEq)]
+struct MachineCells {
+    /// Unloaded power out of production, W.
+    idle: Option<CellSums>,
+    /// Power above unloaded power, W.
+    above: Option<CellSums>,
+    /// 1 while loaded.
+    loaded: Option<CellSums>,
+    loaded_fraction: f64,
+    cycles_per_hour: f64,
+    mean_loaded_power_kw: Option<f64>,
+    full_load_specific_power_kw_per_m3_min: Option<f64>,
+}
+
+/// The control case with its logged and modelled power (W) as cell sums.
+#[derive(Debug, Clone, PartialEq)]
+struct ControlCells {
+    logged: CellSums,
+    modelled: CellSums,
+    curve: String,
+    simultaneous_cycling_share: f64,
 }
 
 /// Weekday × hour means of a series, scaled by `k`.
@@ -536,18 +590,17 @@ pub struct DataFigures {
     pub spec: DataSpec,
     period: Period,
     tz_ok: bool,
-    rule: AnnualRule,
-    rule_text: String,
     /// Per compressor.
     stats: Vec<Option<StateStats>>,
     power_logged: Vec<bool>,
     energy_kwh: Vec<f64>,
     mean_kw: Vec<f64>,
-    annual_kwh_c: Vec<f64>,
+    /// Power, W, per compressor (`None`: not logged).
+    power_cells: Vec<Option<CellSums>>,
     comp_air: Vec<f64>,
     /// Specific power, flow estimated, full-load specific power.
     comp_sp: Vec<(Option<f64>, bool, Option<f64>)>,
-    machines: Vec<MachineUse>,
+    machines: Vec<MachineCells>,
     without_power: Vec<String>,
     flow_source: &'static str,
     flow_estimated: bool,
@@ -568,9 +621,9 @@ pub struct DataFigures {
     prod_share: f64,
     q_prod: Option<f64>,
     q_nonprod: Option<f64>,
-    annual_running_hours: f64,
-    annual_kwh: f64,
-    control: Option<ControlCase>,
+    /// 1 while some compressor runs (`None`: no states, every hour counts).
+    running_cells: Option<CellSums>,
+    control: Option<ControlCells>,
     /// `uncertainty_bar` is set by [`summary_of`].
     pressure: PressureFigures,
     demand: Demand,
@@ -591,20 +644,6 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
     let atm = spec.air.atmosphere;
 
     let (cells, tz_ok) = calendar(&grid, &spec.timezone);
-    let rule = match spec.operating_hours_per_year {
-        Some(h) => AnnualRule::Hours(h),
-        // A logger week rarely spans exactly 168 h (its first reading comes one interval after the
-        // hour); a weekday-hour cell without data takes the overall mean (see `annualise`).
-        None if grid.hours() >= 167.0 => AnnualRule::Weekly(spec.operating_weeks_per_year),
-        None => AnnualRule::Scaled(spec.operating_weeks_per_year),
-    };
-    let rule_text = match rule {
-        AnnualRule::Hours(h) => format!("mean over the log × {h} operating hours per year"),
-        AnnualRule::Weekly(w) => {
-            format!("the logged weekly pattern (weekday × hour means) repeated over {w} weeks")
-        }
-        AnnualRule::Scaled(w) => format!("log shorter than a week: mean over the log × 168 h × {w} weeks"),
-    };
 
     // Per-compressor power, states and flow.
     let powers: Vec<Option<&[f32]>> =
@@ -822,14 +861,9 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
             f32::NAN
         }
     };
-    let annual_running_hours = if st.iter().flatten().next().is_some() {
-        annualise_by(&cells, rule, running_any)
-    } else {
-        rule.hours()
-    };
-    let annual_kwh_c: Vec<f64> =
-        powers.iter().map(|p| p.map_or(0.0, |p| annualise(p, &cells, rule) / 1000.0)).collect();
-    let annual_kwh: f64 = annual_kwh_c.iter().sum();
+    let running_cells = st.iter().flatten().next().is_some().then(|| CellSums::of(&cells, running_any));
+    let power_cells: Vec<Option<CellSums>> =
+        powers.iter().map(|p| p.map(|p| CellSums::of(&cells, |k| p[k]))).collect();
 
     // Per compressor: the annualised figures the measures need.
     let mut machines = Vec::new();
@@ -853,28 +887,26 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
                         f32::NAN
                     }
                 };
-                (annualise_by(&cells, rule, idle) / 1000.0, annualise_by(&cells, rule, above) / 1000.0)
+                (Some(CellSums::of(&cells, idle)), Some(CellSums::of(&cells, above)))
             }
-            _ => (0.0, 0.0),
+            _ => (None, None),
         };
-        let annual_loaded_hours = st[i].as_ref().map_or(0.0, |sv| {
-            annualise_by(&cells, rule, |k| match sv[k] {
+        let loaded = st[i].as_ref().map(|sv| {
+            CellSums::of(&cells, |k| match sv[k] {
                 State::Unknown => f32::NAN,
                 State::Loaded => 1.0,
                 _ => 0.0,
             })
         });
         let (_, estimated, full) = comp_sp[i];
-        machines.push(MachineUse {
-            annual_energy_kwh: annual_kwh_c[i],
-            annual_above_idle_kwh: above,
-            annual_unloaded_non_production_kwh: idle_np,
-            annual_loaded_hours,
+        machines.push(MachineCells {
+            idle: idle_np,
+            above,
+            loaded,
             loaded_fraction: s.map_or(0.0, |s| s.loaded_fraction),
             cycles_per_hour: s.map_or(0.0, |s| s.cycles_per_hour),
             mean_loaded_power_kw: s.and_then(|s| s.mean_loaded_power_kw),
             full_load_specific_power_kw_per_m3_min: if estimated { None } else { full },
-            power_logged: powers[i].is_some(),
         });
     }
 
@@ -940,9 +972,9 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
             })
             .collect();
         let modelled = |b: usize| if q[b].is_finite() { window_w[b / k] } else { f32::NAN };
-        Some(ControlCase {
-            logged_annual_kwh: annualise(p, &cells, rule) / 1000.0,
-            modelled_annual_kwh: annualise_by(&cells, rule, modelled) / 1000.0,
+        Some(ControlCells {
+            logged: CellSums::of(&cells, |b| p[b]),
+            modelled: CellSums::of(&cells, modelled),
             curve,
             simultaneous_cycling_share: simultaneous,
         })
@@ -1058,13 +1090,11 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
             bins: n,
         },
         tz_ok,
-        rule,
-        rule_text,
         stats,
         power_logged: powers.iter().map(Option::is_some).collect(),
         energy_kwh,
         mean_kw,
-        annual_kwh_c,
+        power_cells,
         comp_air,
         comp_sp,
         machines,
@@ -1087,8 +1117,7 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
         prod_share,
         q_prod,
         q_nonprod,
-        annual_running_hours,
-        annual_kwh,
+        running_cells,
         control,
         pressure: pressure_fig,
         demand,
@@ -1173,14 +1202,19 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     ));
 
     // Annual figures.
-    let (annual_kwh, annual_running_hours, peak_kw) = (d.annual_kwh, d.annual_running_hours, d.peak_kw);
+    let (rule, rule_text) = annual_rule(site, d.period.hours);
+    let annual_kwh_c: Vec<f64> =
+        d.power_cells.iter().map(|c| c.as_ref().map_or(0.0, |c| c.annual(rule) / 1000.0)).collect();
+    let annual_kwh: f64 = annual_kwh_c.iter().sum();
+    let annual_running_hours = d.running_cells.as_ref().map_or(rule.hours(), |c| c.annual(rule));
+    let peak_kw = d.peak_kw;
     let energy_cost = annual_kwh * site.electricity_price_per_kwh;
     let demand_charge = site.demand_charge_per_kw_month * peak_kw * 12.0;
     let annual_cost = energy_cost + demand_charge;
     let cost_per_1000_m3 = sp.map(|s| s / 60.0 * 1000.0 * site.electricity_price_per_kwh);
     methods.push(m(
         "annual_energy_kwh",
-        &d.rule_text,
+        &rule_text,
         "the logged weekly pattern repeated over the operating weeks (airledger's documented rule)",
     ));
     methods.push(m(
@@ -1199,7 +1233,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     let mut comp_fig = Vec::new();
     let (mut heat_rej, mut heat_rec, mut heat_rej_y, mut heat_rec_y, mut rec_kw) = (0.0, 0.0, 0.0, 0.0, 0.0);
     for (i, c) in cs.iter().enumerate() {
-        let factor = if energy_kwh[i] > 0.0 { d.annual_kwh_c[i] / energy_kwh[i] } else { 0.0 };
+        let factor = if energy_kwh[i] > 0.0 { annual_kwh_c[i] / energy_kwh[i] } else { 0.0 };
         let e = super::units::Energy::from_kwh(energy_kwh[i]);
         let rej =
             heat::heat_rejected(e, d.comp_air[i] * rho_in, heat::DEFAULT_DELIVERY_TEMPERATURE_RISE_K).kwh();
@@ -1241,7 +1275,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             energy_kwh_low: lo,
             energy_kwh_high: hi,
             mean_power_kw: d.mean_kw[i],
-            annual_energy_kwh: d.annual_kwh_c[i],
+            annual_energy_kwh: annual_kwh_c[i],
             loaded_fraction: s0.loaded_fraction,
             part_load_fraction: s0.part_load_fraction,
             unloaded_fraction: s0.unloaded_fraction,
@@ -1272,6 +1306,23 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             annual_recoverable_kwh: rec * factor,
         });
     }
+
+    let machines: Vec<MachineUse> = d
+        .machines
+        .iter()
+        .enumerate()
+        .map(|(i, m)| MachineUse {
+            annual_energy_kwh: annual_kwh_c[i],
+            annual_above_idle_kwh: m.above.as_ref().map_or(0.0, |c| c.annual(rule) / 1000.0),
+            annual_unloaded_non_production_kwh: m.idle.as_ref().map_or(0.0, |c| c.annual(rule) / 1000.0),
+            annual_loaded_hours: m.loaded.as_ref().map_or(0.0, |c| c.annual(rule)),
+            loaded_fraction: m.loaded_fraction,
+            cycles_per_hour: m.cycles_per_hour,
+            mean_loaded_power_kw: m.mean_loaded_power_kw,
+            full_load_specific_power_kw_per_m3_min: m.full_load_specific_power_kw_per_m3_min,
+            power_logged: d.power_logged[i],
+        })
+        .collect();
 
     // Heat value.
     let monthly = [heat_rec_y / 12.0; 12];
@@ -1367,14 +1418,19 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     let recs = recommend::recommend(&RecommendInput {
         site,
         compressors: cs,
-        machines: &d.machines,
+        machines: &machines,
         trim,
         marginal_kw_per_m3_min: marginal,
         annual_running_hours,
         annual_energy_kwh: annual_kwh,
         leak_flow_m3_min: adopted,
         mean_pressure_bar_g: pressure_fig.mean_bar_g,
-        control: d.control.clone(),
+        control: d.control.as_ref().map(|c| ControlCase {
+            logged_annual_kwh: c.logged.annual(rule) / 1000.0,
+            modelled_annual_kwh: c.modelled.annual(rule) / 1000.0,
+            curve: c.curve.clone(),
+            simultaneous_cycling_share: c.simultaneous_cycling_share,
+        }),
         heat: (value > 0.0).then_some(HeatCase {
             useful_kwh_per_year: useful,
             fuel_kwh_per_year: fuel,
@@ -1447,8 +1503,8 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         compressors: comp_fig,
         demand: d.demand.clone(),
         baseline: Baseline {
-            rule: d.rule_text.clone(),
-            annual_hours: d.rule.hours(),
+            rule: rule_text,
+            annual_hours: rule.hours(),
             annual_running_hours,
             annual_energy_kwh: annual_kwh,
             annual_energy_kwh_low: ae_lo,

@@ -88,8 +88,24 @@ fn summaries_follow_edits_and_replaced_readings() {
     assert_eq!(b["system"]["energy_kwh"].as_f64().unwrap(), e1, "an edit of the price leaves the energy");
     let cost2 = b["baseline"]["annual_energy_cost"].as_f64().unwrap();
     assert!((cost2 / cost1 - 2.0).abs() < 1e-9, "the energy cost follows the price: {cost1} -> {cost2}");
-    // An edit of what the passes over the bins read (here the operating year) is not priced from
-    // the figures kept for the old one: mean kW x 4000 h (analysis module doc, annualisation).
+    // An edit of what the passes over the bins read (here the site's time zone) is not priced from
+    // the data figures kept for the old one: the weekday-hour cells move 5 h earlier in Chicago's
+    // daylight time (UTC-5 in May; IANA tz database).
+    let cells = |v: &Value| -> Vec<usize> {
+        let m = v["demand"]["weekday_hour_mean_power_kw"].as_array().unwrap();
+        (0..168).filter(|&c| !m[c / 24][c % 24].is_null()).collect()
+    };
+    let utc = cells(&b);
+    assert!(!utc.is_empty());
+    let r = s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"timezone": "America/Chicago"}}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let chicago = summary();
+    assert_eq!(chicago["demand"]["timezone"], "America/Chicago");
+    let mut shifted: Vec<usize> = utc.iter().map(|c| (c + 168 - 5) % 168).collect();
+    shifted.sort();
+    assert_eq!(cells(&chicago), shifted, "cells in local time");
+    // The operating year is applied to the kept figures' per-cell sums, without a pass over the
+    // bins: mean kW x 4000 h (analysis module doc, annualisation).
     let r =
         s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"operating_hours_per_year": 4000}}));
     assert_eq!(r.status, 200, "{}", r.text);
