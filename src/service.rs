@@ -394,6 +394,19 @@ pub fn build_id() -> &'static str {
     })
 }
 
+/// Work the summary out off the request, after something that may need a pass over the bins (an
+/// import, an edit of the compressors or the site), so the next report reads the cache instead of
+/// waiting on the decoding and analysis. A request that arrives meanwhile waits on the audit's
+/// summary lock and then reads what this stored.
+pub fn refresh_summary_in_background(db: &SqlitePool, audit_id: i64, after: &'static str) {
+    let db = db.clone();
+    tokio::spawn(async move {
+        if let Err(e) = summary_json(&db, audit_id, None).await {
+            tracing::warn!(audit_id, after, error = %e, "summary worked out in the background failed");
+        }
+    });
+}
+
 /// The summary as JSON: from the cache when the audit has not changed, else computed and cached.
 /// A window (`from`/`to`) is always computed fresh.
 pub async fn summary_json(

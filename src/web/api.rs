@@ -155,6 +155,7 @@ pub async fn patch_audit(
 ) -> Result<Response, AppError> {
     service::update_audit(&st.db, id, p.name.as_deref(), p.auditor.as_deref(), p.notes.as_deref(), &p.site)
         .await?;
+    service::refresh_summary_in_background(&st.db, id, "site edit");
     get_audit(State(st), Path(id)).await
 }
 
@@ -164,6 +165,7 @@ pub async fn add_compressor(
     ApiJson(c): ApiJson<CompressorInput>,
 ) -> Result<Response, AppError> {
     let cid = service::save_compressor(&st.db, id, 0, &c).await?;
+    service::refresh_summary_in_background(&st.db, id, "compressor added");
     Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": cid })))
 }
 
@@ -177,6 +179,7 @@ pub async fn update_compressor(
         return Err(AppError::NotFound(format!("audit {id} has no compressor {cid}")));
     }
     service::save_compressor(&st.db, id, cid, &c).await?;
+    service::refresh_summary_in_background(&st.db, id, "compressor edit");
     Ok(json(StatusCode::OK, &serde_json::json!({ "id": cid })))
 }
 
@@ -188,6 +191,7 @@ pub async fn delete_compressor(
     if !audits::delete_compressor(&st.db, id, cid).await? {
         return Err(AppError::NotFound(format!("audit {id} has no compressor {cid}")));
     }
+    service::refresh_summary_in_background(&st.db, id, "compressor deleted");
     Ok(StatusCode::NO_CONTENT.into_response())
 }
 

@@ -232,7 +232,10 @@ pub async fn save_site(
     }
     .await;
     match result {
-        Ok(()) => Ok(Redirect::to(&format!("/audits/{id}")).into_response()),
+        Ok(()) => {
+            service::refresh_summary_in_background(&st.db, id, "site edit");
+            Ok(Redirect::to(&format!("/audits/{id}")).into_response())
+        }
         Err(e) => audit_with_error(&st.db, id, e).await,
     }
 }
@@ -280,7 +283,10 @@ pub async fn add_compressor(
     }
     .await;
     match result {
-        Ok(_) => Ok(Redirect::to(&format!("/audits/{id}")).into_response()),
+        Ok(_) => {
+            service::refresh_summary_in_background(&st.db, id, "compressor added");
+            Ok(Redirect::to(&format!("/audits/{id}")).into_response())
+        }
         Err(e) => audit_with_error(&st.db, id, e).await,
     }
 }
@@ -288,6 +294,7 @@ pub async fn add_compressor(
 pub async fn delete_compressor(State(st): State<AppState>, Path((id, cid)): Path<(i64, i64)>) -> PageResult {
     service::bundle(&st.db, id).await?;
     audits::delete_compressor(&st.db, id, cid).await?;
+    service::refresh_summary_in_background(&st.db, id, "compressor deleted");
     Ok(Redirect::to(&format!("/audits/{id}")).into_response())
 }
 

@@ -159,12 +159,7 @@ pub async fn post_upload(
         ImportOutcome::Created(s) => {
             // Work out the summary now, off the request, so that the first report after an upload
             // is read from the cache instead of decoding every reading while the manager waits.
-            let db = state.db.clone();
-            tokio::spawn(async move {
-                if let Err(e) = service::summary_json(&db, audit_id, None).await {
-                    tracing::warn!(audit_id, error = %e, "summary after import failed");
-                }
-            });
+            service::refresh_summary_in_background(&state.db, audit_id, "import");
             Ok((StatusCode::CREATED, Json(s)).into_response())
         }
         ImportOutcome::Duplicate { upload_id } => Ok((

@@ -494,3 +494,38 @@ fn a_summary_cached_by_another_build_is_worked_out_again() {
     assert_eq!(again["stale"], Value::Null, "served another build's cached summary");
     assert_eq!(again["system"]["energy_kwh"].as_f64().unwrap(), energy);
 }
+
+/// The revision of the summary cached for an audit, read straight from the database file.
+fn cached_revision(db: &std::path::Path, audit: i64) -> Option<i64> {
+    let rt = tokio::runtime::Builder::new_current_thread().enable_all().build().unwrap();
+    rt.block_on(async {
+        let pool = sqlx::SqlitePool::connect(&format!("sqlite://{}", db.display())).await.unwrap();
+        let r: Option<i64> = sqlx::query_scalar("SELECT revision FROM summary_cache WHERE audit_id = ?")
+            .bind(audit)
+            .fetch_optional(&pool)
+            .await
+            .unwrap();
+        pool.close().await;
+        r
+    })
+}
+
+#[test]
+fn the_summary_is_worked_out_in_the_background_after_an_import_and_an_edit_of_the_site() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    assert_eq!(s.upload(id, "a.csv", cycling_csv(2).as_bytes(), &cycling_mapping(), "").status, 201);
+    let revision = || s.get(&format!("/api/v1/audits/{id}")).json()["revision"].as_i64().unwrap();
+    let r1 = revision();
+    // No summary was asked for: the server stores it of its own accord.
+    let cached = wait_until(std::time::Duration::from_secs(30), || cached_revision(&s.db, id) == Some(r1));
+    assert!(cached, "no summary cached for revision {r1} after the import: {:?}", cached_revision(&s.db, id));
+    let r = s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"timezone": "Europe/Berlin"}}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let r2 = revision();
+    assert!(r2 > r1);
+    let cached = wait_until(std::time::Duration::from_secs(30), || cached_revision(&s.db, id) == Some(r2));
+    assert!(cached, "no summary cached for revision {r2} after the edit: {:?}", cached_revision(&s.db, id));
+    // It is the edited site's: Berlin's profile.
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}/summary")).json()["demand"]["timezone"], "Europe/Berlin");
+}
