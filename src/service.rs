@@ -401,6 +401,16 @@ pub fn build_id() -> &'static str {
 pub fn refresh_summary_in_background(db: &SqlitePool, audit_id: i64, after: &'static str) {
     let db = db.clone();
     tokio::spawn(async move {
+        // Without readings there is nothing worth working out ahead (the no-data answer is
+        // immediate), and an audit being set up should not hold connections while it imports.
+        match audits::has_complete_upload(&db, audit_id).await {
+            Ok(true) => {}
+            Ok(false) => return,
+            Err(e) => {
+                tracing::warn!(audit_id, after, error = %e, "summary in the background: no audit");
+                return;
+            }
+        }
         if let Err(e) = summary_json(&db, audit_id, None).await {
             tracing::warn!(audit_id, after, error = %e, "summary worked out in the background failed");
         }

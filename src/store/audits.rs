@@ -528,6 +528,17 @@ pub async fn set_cost_override(
 }
 
 /// The cached summary JSON if it was computed for `revision`.
+/// Whether the audit has readings: a complete upload.
+pub async fn has_complete_upload(pool: &SqlitePool, audit_id: i64) -> Result<bool, StoreError> {
+    Ok(sqlx::query_scalar::<_, i64>(
+        "SELECT EXISTS (SELECT 1 FROM upload WHERE audit_id = ? AND state = 'complete')",
+    )
+    .bind(audit_id)
+    .fetch_one(pool)
+    .await?
+        != 0)
+}
+
 /// The cached summary of this revision, if the build `made_by` made it (`service::build_id`).
 pub async fn cached_summary(
     pool: &SqlitePool,
