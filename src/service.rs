@@ -224,55 +224,68 @@ fn frame_key(db: &SqlitePool, b: &AuditBundle) -> String {
     key
 }
 
-/// A frame with its [`frame_key`].
-type KeptFrame = (String, Arc<Frame>);
-
-/// The last whole-log frame built, for the next computation of the same data. Decoding and aligning
-/// the readings is most of a cold summary, and an edit that leaves the data alone (prices, costs,
-/// field tests, rated data, names) needs the very same frame again. One frame at a time, so the
-/// memory it holds is bounded: at most `read::MAX_FRAME_BINS` × 4 bytes a channel.
-fn frame_cache() -> &'static std::sync::Mutex<Option<KeptFrame>> {
-    static CACHE: std::sync::OnceLock<std::sync::Mutex<Option<KeptFrame>>> = std::sync::OnceLock::new();
-    CACHE.get_or_init(Default::default)
+/// Values kept in memory by [`frame_key`], at most `cap`, the least recently stored dropped first.
+struct Kept<T> {
+    cap: usize,
+    items: std::collections::VecDeque<(String, Arc<T>)>,
 }
 
+impl<T> Kept<T> {
+    const fn new(cap: usize) -> Self {
+        Self { cap, items: std::collections::VecDeque::new() }
+    }
+    fn get(&self, key: &str, fits: impl Fn(&T) -> bool) -> Option<Arc<T>> {
+        self.items.iter().find(|(k, v)| k == key && fits(v)).map(|(_, v)| v.clone())
+    }
+    fn put(&mut self, key: String, value: Arc<T>) {
+        self.items.retain(|(k, _)| *k != key);
+        self.items.push_back((key, value));
+        while self.items.len() > self.cap {
+            self.items.pop_front();
+        }
+    }
+}
+
+/// The last whole-log frame built, for the next computation of the same data. Decoding and aligning
+/// the readings is most of a cold summary, and an edit of the data's specs (rated data, time zone)
+/// needs the very same frame again. One frame at a time, so the memory it holds is bounded: at most
+/// `read::MAX_FRAME_BINS` × 4 bytes a channel.
+static FRAMES: std::sync::Mutex<Kept<Frame>> = std::sync::Mutex::new(Kept::new(1));
+
+/// The data figures (`analysis::DataFigures`, a few kB each) of whole-log frames, one per audit
+/// and database for up to 16. They hold every pass over the bins, so an edit that leaves the data
+/// and the data's specs alone (prices, costs, operating year, field tests, scenarios, accuracies,
+/// heating) prices the kept figures again instead of analysing a million bins. They carry the
+/// `DataSpec` they were made under; after an edit of rated data, site air, time zone or production
+/// schedule they are made again from the (kept) frame.
+static FIGURES: std::sync::Mutex<Kept<DataFigures>> = std::sync::Mutex::new(Kept::new(16));
+
+/// The audit's frame over `window`; the whole-log frame may be the kept one.
 async fn frame_for(
     db: &SqlitePool,
     b: &AuditBundle,
     window: Option<(i64, i64)>,
 ) -> Result<Option<Arc<Frame>>, AppError> {
-    // Only whole-log frames are kept; a window is built fresh each time.
     let key = window.is_none().then(|| frame_key(db, b));
-    if let Some(key) = &key {
-        if let Some((k, f)) = frame_cache().lock().expect("frame cache").as_ref() {
-            if k == key {
-                return Ok(Some(f.clone()));
-            }
-        }
+    frame_keyed(db, b, window, key.as_deref()).await
+}
+
+/// [`frame_for`] with its [`frame_key`] worked out (`None`: a window, built fresh and never kept).
+async fn frame_keyed(
+    db: &SqlitePool,
+    b: &AuditBundle,
+    window: Option<(i64, i64)>,
+    key: Option<&str>,
+) -> Result<Option<Arc<Frame>>, AppError> {
+    if let Some(f) = key.and_then(|k| FRAMES.lock().expect("frame cache").get(k, |_| true)) {
+        return Ok(Some(f));
     }
     let frame = read::load_frame(db, &b.channels, &b.compressor_ids(), window).await?.map(Arc::new);
     if let (Some(key), Some(f)) = (key, &frame) {
-        *frame_cache().lock().expect("frame cache") = Some((key, f.clone()));
+        FRAMES.lock().expect("frame cache").put(key.to_string(), f.clone());
     }
     Ok(frame)
 }
-
-/// The data figures (`analysis::DataFigures`, a few kB each) of whole-log frames, with their
-/// [`frame_key`], most recent last. They hold every pass over the bins, so an edit that leaves the
-/// data and the data's specs alone (prices, costs, field tests, scenarios, accuracies, heating)
-/// prices the kept figures again instead of analysing a million bins. They carry the `DataSpec`
-/// they were made under; after an edit of rated data, time zone or operating year they are made
-/// again from the (kept) frame.
-fn figures_cache() -> &'static std::sync::Mutex<KeptFigures> {
-    static CACHE: std::sync::OnceLock<std::sync::Mutex<KeptFigures>> = std::sync::OnceLock::new();
-    CACHE.get_or_init(Default::default)
-}
-
-/// Data figures with their [`frame_key`], most recent last.
-type KeptFigures = std::collections::VecDeque<(String, Arc<DataFigures>)>;
-
-/// How many data figures are kept (one per audit and database, the least recent dropped first).
-const KEPT_FIGURES: usize = 16;
 
 async fn data_figures_for(
     db: &SqlitePool,
@@ -280,26 +293,20 @@ async fn data_figures_for(
     window: Option<(i64, i64)>,
     spec: DataSpec,
 ) -> Result<Option<Arc<DataFigures>>, AppError> {
-    // Only whole-log data figures are kept; a window is analysed fresh each time.
+    // Only whole-log frames and data figures are kept; a window is analysed fresh each time.
     let key = window.is_none().then(|| frame_key(db, b));
-    if let Some(key) = &key {
-        let kept = figures_cache().lock().expect("data figures cache");
-        if let Some((_, d)) = kept.iter().find(|(k, d)| k == key && d.spec == spec) {
-            return Ok(Some(d.clone()));
-        }
+    if let Some(d) =
+        key.as_deref().and_then(|k| FIGURES.lock().expect("data figures cache").get(k, |d| d.spec == spec))
+    {
+        return Ok(Some(d));
     }
-    let Some(frame) = frame_for(db, b, window).await? else { return Ok(None) };
+    let Some(frame) = frame_keyed(db, b, window, key.as_deref()).await? else { return Ok(None) };
     let d = tokio::task::spawn_blocking(move || analysis::data_figures(&frame, &spec))
         .await
         .map_err(|e| AppError::Internal(e.into()))?;
     let d = Arc::new(d);
     if let Some(key) = key {
-        let mut kept = figures_cache().lock().expect("data figures cache");
-        kept.retain(|(k, _)| *k != key);
-        kept.push_back((key, d.clone()));
-        while kept.len() > KEPT_FIGURES {
-            kept.pop_front();
-        }
+        FIGURES.lock().expect("data figures cache").put(key, d.clone());
     }
     Ok(Some(d))
 }
@@ -315,7 +322,6 @@ async fn compute_summary(
     let Some(figures) = data_figures_for(db, b, window, DataSpec::of(&site, &specs)).await? else {
         return Ok(None);
     };
-    let storage = b.storage();
     // Rates stay the documented defaults; totals an auditor edited replace them afterwards.
     let costs = CostOverrides::default();
     let edited: std::collections::BTreeMap<String, f64> =
@@ -328,7 +334,6 @@ async fn compute_summary(
         &AuditInput {
             site: &site,
             compressors: &specs,
-            storage: &storage,
             leak_estimates: b.leak_estimates(),
             costs: &costs,
             accuracy: &accuracy,

@@ -133,7 +133,6 @@ impl DataSpec {
 pub struct AuditInput<'a> {
     pub site: &'a SiteSpec,
     pub compressors: &'a [CompressorSpec],
-    pub storage: &'a StorageSpec,
     pub leak_estimates: Vec<LeakEstimate>,
     pub costs: &'a CostOverrides,
     pub accuracy: &'a Accuracy,
@@ -1678,7 +1677,6 @@ mod tests {
     }
 
     fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame, leaks: Vec<LeakEstimate>) -> Summary {
-        let storage = StorageSpec { receivers_m3: vec![3.0], other_volume_m3: 0.0 };
         let costs = CostOverrides::default();
         let acc = Accuracy::default();
         summarize(
@@ -1686,7 +1684,6 @@ mod tests {
             &AuditInput {
                 site: s,
                 compressors: cs,
-                storage: &storage,
                 leak_estimates: leaks,
                 costs: &costs,
                 scenarios: &[],

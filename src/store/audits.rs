@@ -527,7 +527,6 @@ pub async fn set_cost_override(
     Ok(())
 }
 
-/// The cached summary JSON if it was computed for `revision`.
 /// Whether the audit has readings: a complete upload.
 pub async fn has_complete_upload(pool: &SqlitePool, audit_id: i64) -> Result<bool, StoreError> {
     Ok(sqlx::query_scalar::<_, i64>(

@@ -269,24 +269,12 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
             tot_save += g(r, "annual_cost_saving");
             tot_cost += g(r, "implementation_cost");
             let electricity = r["electricity"].as_bool().unwrap_or(true);
-            // The words in parts, each figure in the reader's units; the SI words if a summary
-            // has no parts.
-            let text: Option<Text> = serde_json::from_value(r["text"].clone()).ok();
-            let (title, description, basis) = match text {
-                Some(t) => (
-                    recommend::render(&t.title, fmt),
-                    recommend::render(&t.description, fmt),
-                    t.basis.iter().map(|b| recommend::render(b, fmt)).collect(),
-                ),
-                None => (
-                    s(r, "title").into(),
-                    s(r, "description").into(),
-                    r["basis"]
-                        .as_array()
-                        .map(|a| a.iter().filter_map(|x| x.as_str().map(String::from)).collect())
-                        .unwrap_or_default(),
-                ),
-            };
+            // The words in parts, each figure in the reader's units (every cached summary has
+            // them: summaries are cached per build, `service::build_id`).
+            let t: Text = serde_json::from_value(r["text"].clone()).unwrap_or_default();
+            let (title, description) =
+                (recommend::render(&t.title, fmt), recommend::render(&t.description, fmt));
+            let basis = t.basis.iter().map(|b| recommend::render(b, fmt)).collect();
             RecView {
                 rank: i + 1,
                 kind: s(r, "kind").into(),

@@ -462,11 +462,24 @@ fn big_imports_queue_past_the_cap_and_reports_are_answered_meanwhile() {
     );
 }
 
+/// `f` on a pool over the database file itself (beside the server, as SQLite's WAL lets it).
+fn on_db<T, F: std::future::Future<Output = T>>(
+    db: &std::path::Path,
+    f: impl FnOnce(sqlx::SqlitePool) -> F,
+) -> T {
+    let rt = tokio::runtime::Builder::new_current_thread().enable_all().build().unwrap();
+    rt.block_on(async {
+        let pool = sqlx::SqlitePool::connect(&format!("sqlite://{}", db.display())).await.unwrap();
+        let out = f(pool.clone()).await;
+        pool.close().await;
+        out
+    })
+}
+
 #[test]
 fn a_summary_cached_by_another_build_is_worked_out_again() {
-    let dir = TempDir::new("made-by");
-    let db = dir.path().join("made-by.sqlite");
-    let mut s = Server::start_on(dir, db.clone(), &["serve"], &[]);
+    let mut s = Server::start();
+    let db = s.db.clone();
     let id = s.audit_with_compressor("C1");
     assert_eq!(s.upload(id, "a.csv", cycling_csv(2).as_bytes(), &cycling_mapping(), "").status, 201);
     let energy =
@@ -474,19 +487,16 @@ fn a_summary_cached_by_another_build_is_worked_out_again() {
     s.kill();
     // What an older build would have left: the same revision, other figures, another maker.
     let stale = json!({"stale": true, "system": {"energy_kwh": 1.0}}).to_string();
-    let rt = tokio::runtime::Builder::new_current_thread().enable_all().build().unwrap();
-    let changed = rt.block_on(async {
-        let pool = sqlx::SqlitePool::connect(&format!("sqlite://{}", db.display())).await.unwrap();
-        let r = sqlx::query(
+    let changed = on_db(&db, |pool| async move {
+        sqlx::query(
             "UPDATE summary_cache SET made_by = '0.0.0 an older build', summary = ? WHERE audit_id = ?",
         )
         .bind(&stale)
         .bind(id)
         .execute(&pool)
         .await
-        .unwrap();
-        pool.close().await;
-        r.rows_affected()
+        .unwrap()
+        .rows_affected()
     });
     assert_eq!(changed, 1, "the summary was cached");
     let s2 = Server::start_on(TempDir::new("made-by2"), db.clone(), &["serve"], &[]);
@@ -497,16 +507,12 @@ fn a_summary_cached_by_another_build_is_worked_out_again() {
 
 /// The revision of the summary cached for an audit, read straight from the database file.
 fn cached_revision(db: &std::path::Path, audit: i64) -> Option<i64> {
-    let rt = tokio::runtime::Builder::new_current_thread().enable_all().build().unwrap();
-    rt.block_on(async {
-        let pool = sqlx::SqlitePool::connect(&format!("sqlite://{}", db.display())).await.unwrap();
-        let r: Option<i64> = sqlx::query_scalar("SELECT revision FROM summary_cache WHERE audit_id = ?")
+    on_db(db, |pool| async move {
+        sqlx::query_scalar("SELECT revision FROM summary_cache WHERE audit_id = ?")
             .bind(audit)
             .fetch_optional(&pool)
             .await
-            .unwrap();
-        pool.close().await;
-        r
+            .unwrap()
     })
 }
 
