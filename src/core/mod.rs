@@ -18,6 +18,7 @@ Architecture invariant: `core` imports nothing from `store`, `ingest` or `web`.
 
 pub mod air;
 pub mod analysis;
+pub mod costs;
 pub mod display;
 pub mod fieldtest;
 pub mod heat;

@@ -32,6 +32,7 @@ use std::collections::BTreeMap;
 
 use serde::{Deserialize, Serialize};
 
+use super::costs;
 use super::display::Fmt;
 use super::model::{CompressorSpec, Control, SiteSpec};
 use super::units::UnitSystem;
@@ -124,13 +125,13 @@ pub struct CostContext {
 /// Default rate of a kind (module doc table), common practice, from memory.
 pub fn default_rate(kind: &str, ctx: &CostContext) -> f64 {
     match kind {
-        "repair_leaks" => 1000.0,
-        "lower_pressure" => 2000.0,
-        "recover_heat" => 250.0,
-        "shut_off_idle" => 800.0,
-        "improve_control" if ctx.has_vsd => 3000.0,
-        "improve_control" => 350.0,
-        "replace_compressor" => 400.0,
+        "repair_leaks" => costs::LEAK_PER_M3_MIN,
+        "lower_pressure" => costs::SET_PRESSURE,
+        "recover_heat" => costs::HEAT_RECOVERY_PER_KW,
+        "shut_off_idle" => costs::SHUT_OFF_PER_COMPRESSOR,
+        "improve_control" if ctx.has_vsd => costs::SEQUENCER,
+        "improve_control" => costs::VSD_TRIM_PER_KW,
+        "replace_compressor" => costs::PER_KW_FIXED_SPEED,
         _ => 0.0,
     }
 }
@@ -142,7 +143,7 @@ pub fn default_cost(kind: &str, ctx: &CostContext) -> f64 {
 
 fn cost_with_rate(kind: &str, ctx: &CostContext, rate: f64) -> f64 {
     match kind {
-        "repair_leaks" => 1500.0 + rate * ctx.leak_repaired_m3_min,
+        "repair_leaks" => costs::LEAK_SURVEY + rate * ctx.leak_repaired_m3_min,
         "recover_heat" => rate * ctx.recoverable_heat_kw,
         "shut_off_idle" => rate * ctx.compressors.max(1.0),
         "improve_control" if ctx.has_vsd => rate,

@@ -66,10 +66,10 @@ cycle counts and loaded times do not depend on the step.
 A scenario may carry its own `implementation_cost` (a quotation). Without one, [`default_cost`]
 estimates it from the changes, installed, in the audit's currency (common practice, from memory; the
 same figures as the measures of `recommend` where they overlap): an added fixed-speed compressor
-[`COST_PER_KW_FIXED_SPEED`] per kW rated, an added variable-speed one [`COST_PER_KW_VARIABLE_SPEED`]
-per kW, a new sequence [`COST_SEQUENCER`], added storage [`COST_STORAGE_FIXED`] +
-[`COST_STORAGE_PER_M3`] per m³, a new set-point [`COST_SET_PRESSURE`], leak repair
-[`COST_LEAK_SURVEY`] + [`COST_LEAK_PER_M3_MIN`] per m³/min repaired; removing a machine costs nothing.
+[`costs::PER_KW_FIXED_SPEED`] per kW rated, an added variable-speed one [`costs::PER_KW_VARIABLE_SPEED`]
+per kW, a new sequence [`costs::SEQUENCER`], added storage [`costs::STORAGE_FIXED`] +
+[`costs::STORAGE_PER_M3`] per m³, a new set-point [`costs::SET_PRESSURE`], leak repair
+[`costs::LEAK_SURVEY`] + [`costs::LEAK_PER_M3_MIN`] per m³/min repaired; removing a machine costs nothing.
 A scenario that changes only the supply side (no `set_pressure`, no `reduce_leaks`) is
 `supply_side_only`: only such a scenario can be offered as the `improve_control` measure, because
 lower pressure and leak repair are measures of their own and would otherwise be counted twice.
@@ -130,20 +130,7 @@ const EPS_S: f64 = 1e-9;
 /// Events handled within one sub-step before the rest of it is taken in one go (a guard).
 const MAX_EVENTS_PER_SUBSTEP: usize = 64;
 
-/// Installed cost of an added fixed-speed compressor per kW rated (from memory; as `replace_compressor`).
-pub const COST_PER_KW_FIXED_SPEED: f64 = 400.0;
-/// Installed cost of an added variable-speed compressor per kW rated (from memory).
-pub const COST_PER_KW_VARIABLE_SPEED: f64 = 550.0;
-/// A sequencer or the controllers' programming for a new order (from memory; as `improve_control`).
-pub const COST_SEQUENCER: f64 = 3000.0;
-/// Added receiver: fixed part (piping, valves, inspection) and per m³ (from memory).
-pub const COST_STORAGE_FIXED: f64 = 1000.0;
-pub const COST_STORAGE_PER_M3: f64 = 1500.0;
-/// A new set-point (engineering), as `lower_pressure` (from memory).
-pub const COST_SET_PRESSURE: f64 = 2000.0;
-/// Leak repair: survey and per m³/min repaired, as `repair_leaks` (from memory).
-pub const COST_LEAK_SURVEY: f64 = 1500.0;
-pub const COST_LEAK_PER_M3_MIN: f64 = 1000.0;
+use super::costs;
 
 /// The default implementation cost of a scenario's changes (module doc) and the lines it adds up.
 pub fn default_cost(changes: &[Change], leak_flow_m3_min: Option<f64>) -> (f64, Vec<String>) {
@@ -155,20 +142,20 @@ pub fn default_cost(changes: &[Change], leak_flow_m3_min: Option<f64>) -> (f64, 
             Change::Remove { tag } => (0.0, format!("remove {tag}: 0")),
             Change::Add { compressor: a } => {
                 let rate = if a.control == Control::VariableSpeed {
-                    COST_PER_KW_VARIABLE_SPEED
+                    costs::PER_KW_VARIABLE_SPEED
                 } else {
-                    COST_PER_KW_FIXED_SPEED
+                    costs::PER_KW_FIXED_SPEED
                 };
                 let cost = rate * a.rated_power_kw.max(0.0);
                 (cost, format!("add {} ({:.0} kW at {rate:.0} per kW): {cost:.0}", a.tag, a.rated_power_kw))
             }
-            Change::Sequence { .. } => (COST_SEQUENCER, format!("new sequence: {COST_SEQUENCER:.0}")),
+            Change::Sequence { .. } => (costs::SEQUENCER, format!("new sequence: {:.0}", costs::SEQUENCER)),
             Change::AddStorage { volume_m3 } => {
-                let cost = COST_STORAGE_FIXED + COST_STORAGE_PER_M3 * volume_m3.max(0.0);
+                let cost = costs::STORAGE_FIXED + costs::STORAGE_PER_M3 * volume_m3.max(0.0);
                 (cost, format!("add {volume_m3:.2} m³ of storage: {cost:.0}"))
             }
             Change::SetPressure { target_bar_g } => {
-                (COST_SET_PRESSURE, format!("set-point {target_bar_g:.2} bar(g): {COST_SET_PRESSURE:.0}"))
+                (costs::SET_PRESSURE, format!("set-point {target_bar_g:.2} bar(g): {:.0}", costs::SET_PRESSURE))
             }
             Change::ReduceLeaks { fraction } => {
                 leak_share = 1.0 - (1.0 - leak_share) * (1.0 - fraction.clamp(0.0, 1.0));
@@ -180,7 +167,7 @@ pub fn default_cost(changes: &[Change], leak_flow_m3_min: Option<f64>) -> (f64, 
     }
     if leak_share > 0.0 {
         let repaired = leak_flow_m3_min.unwrap_or(0.0) * leak_share;
-        let cost = COST_LEAK_SURVEY + COST_LEAK_PER_M3_MIN * repaired;
+        let cost = costs::LEAK_SURVEY + costs::LEAK_PER_M3_MIN * repaired;
         total += cost;
         lines.push(format!(
             "repair {:.0} % of the leaks ({repaired:.2} m³/min free air): {cost:.0}",
@@ -1612,7 +1599,7 @@ mod tests {
             implementation_cost: None,
         };
         assert!(sc.supply_side_only());
-        assert_eq!(default_cost(&sc.changes, None).0, COST_SEQUENCER);
+        assert_eq!(default_cost(&sc.changes, None).0, costs::SEQUENCER);
     }
 
     fn demo_frame(plant: &crate::demo::DemoPlant) -> (Frame, SiteAir) {
