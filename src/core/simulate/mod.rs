@@ -93,7 +93,7 @@ use crate::core::units::SiteAir;
 
 pub use cost::default_cost;
 pub use plant::{AddedCompressor, Change, Scenario};
-pub use result::{SimCompressor, SimResult};
+pub use result::{CostSource, SimCompressor, SimResult};
 
 use demand::prepare_demand;
 use engine::{simulate, Outcome};
@@ -185,11 +185,11 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
     let demand = prepare_demand(input)?;
     let (implementation_cost, implementation_cost_source, implementation_cost_basis) =
         match scenario.implementation_cost {
-            Some(c) if c.is_finite() && c >= 0.0 => (c, "given", vec![format!("quoted: {c:.0}")]),
+            Some(c) if c.is_finite() && c >= 0.0 => (c, CostSource::Given, vec![format!("quoted: {c:.0}")]),
             Some(c) => return fail("implementation_cost", format!("must be 0 or more, not {c}")),
             None => {
                 let (c, lines) = default_cost(&scenario.changes, input.leak_flow_m3_min);
-                (c, "default_estimate", lines)
+                (c, CostSource::DefaultEstimate, lines)
             }
         };
 

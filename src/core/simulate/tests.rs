@@ -75,6 +75,62 @@ fn start_stop_against_constant_demand_cycles_as_the_receiver_equation_says() {
     assert!(r.pressure_trace.iter().all(|&(_, p)| (p - 6.9).abs() < 0.02));
 }
 
+/// The two texts are the same character by character, except that a number may differ in its last
+/// digit: serde_json 1 without its `float_roundtrip` feature reads a 17-digit number to within one
+/// unit in the last place, not always to the nearest `f64`.
+fn same_json_up_to_float_reading(a: &str, b: &str) {
+    let starts_num = |t: &str| t.starts_with(|c: char| c.is_ascii_digit() || c == '-');
+    let num_len = |t: &str| {
+        t.find(|c: char| !(c.is_ascii_digit() || matches!(c, '-' | '+' | '.' | 'e' | 'E'))).unwrap_or(t.len())
+    };
+    let (mut x, mut y) = (a, b);
+    let mut in_string = false;
+    while !x.is_empty() || !y.is_empty() {
+        if !in_string && starts_num(x) && starts_num(y) {
+            let (nx, ny) = (num_len(x), num_len(y));
+            let (u, v): (f64, f64) = (x[..nx].parse().unwrap(), y[..ny].parse().unwrap());
+            assert!((u - v).abs() <= 2.0 * f64::EPSILON * u.abs().max(v.abs()), "{u} vs {v}");
+            (x, y) = (&x[nx..], &y[ny..]);
+            continue;
+        }
+        let (cx, cy) = (x.chars().next(), y.chars().next());
+        assert_eq!(cx, cy, "at ...{}", &x[..x.len().min(60)]);
+        let mut w = cx.map_or(0, char::len_utf8);
+        match cx {
+            Some('"') => in_string = !in_string,
+            // An escape inside a string: the next character is compared with it.
+            Some('\\') if in_string => {
+                assert_eq!(x[1..].chars().next(), y[1..].chars().next());
+                w += x[1..].chars().next().map_or(0, char::len_utf8);
+            }
+            _ => {}
+        }
+        (x, y) = (&x[w..], &y[w..]);
+    }
+}
+
+#[test]
+fn a_result_reads_back_from_its_json_to_the_same_json() {
+    // No power logged: the validation error is NaN, written as null; a quoted and an estimated cost.
+    let c = vec![spec("S", Control::StartStop, 60.0, 10.0)];
+    let frame = flow_frame(2.0, |_| 4.0);
+    let quoted = Scenario { implementation_cost: Some(1200.0), ..as_is() };
+    let storage = Scenario { changes: vec![Change::AddStorage { volume_m3: 2.0 }], ..as_is() };
+    for (sc, source) in [(&quoted, "given"), (&storage, "default_estimate")] {
+        let r = run_plant(&frame, &c, 6.0, None, sc);
+        assert!(r.validation_error.is_nan());
+        let text = serde_json::to_string(&r).unwrap();
+        assert!(text.contains(&format!(r#""implementation_cost_source":"{source}""#)), "{text}");
+        assert!(text.contains(r#""validation_error":null"#), "{text}");
+        let back: SimResult = serde_json::from_str(&text).unwrap();
+        same_json_up_to_float_reading(&serde_json::to_string(&back).unwrap(), &text);
+        assert!(back.validation_error.is_nan());
+        assert_eq!(back.implementation_cost_source, r.implementation_cost_source);
+        assert_eq!(back.compressors[0].tag, "S");
+        assert_eq!(back.pressure_trace.len(), r.pressure_trace.len());
+    }
+}
+
 #[test]
 fn doubling_storage_halves_cycles_per_hour() {
     // Receiver equation: t_on and t_off are both ∝ V.
