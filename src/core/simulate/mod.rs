@@ -14,19 +14,21 @@ must reproduce the logged energy: `validation_error`) and the plant with the sce
 - The pressure-dependent part: leaks are choked orifices, their free-air flow ∝ absolute pressure
   (choked flow through an orifice is proportional to the upstream absolute pressure: the physics
   behind the pressure correction of the bleed-down test in the US DOE's *Improving Compressed Air
-  System Performance: A Sourcebook for Industry*, leaks fact sheet). With `leak_flow_m3_min` given at the mean logged header pressure `p̄`, the leak
-  coefficient is `c = Q_leak / p̄_abs`; the logged demand minus `c p_logged,abs` is the production draw,
-  replayed as is, and `(1 - reduced share) c p_sim,abs` is added at the simulated pressure. Without a
-  leak estimate the demand does not depend on pressure (unregulated uses are not modelled separately).
+  System Performance: A Sourcebook for Industry*, leaks fact sheet). With `leak_flow_m3_min` given at
+  the mean logged header pressure `p̄`, the leak coefficient is `c = Q_leak / p̄_abs`; the logged
+  demand minus `c p_logged,abs` is the production draw, replayed as is, and `(1 - reduced share) c
+  p_sim,abs` is added at the simulated pressure. Without a leak estimate the demand does not depend on
+  pressure (unregulated uses are not modelled separately).
 
 # Receiver
 One pressure node, isothermal, in free air: `V dp/dt = p_atm (Q_supply - Q_demand)` (the receiver
-equation of the bleed-down test, `Q = V Δp / (p_atm t)`, in the US DOE sourcebook's leaks fact sheet), `V` = system volume + added storage. Each bin is cut
-into sub-steps short enough that the pressure moves at most [`MAX_DP_PER_SUBSTEP_BAR`] at full
-capacity and that the continuous controls (modulation, variable speed) stay well inside their loop
-time constant. Within a sub-step the switching of load/unload and start/stop machines and their timers
-are **events**: the step is cut exactly where a pressure threshold is crossed or a timer ends, so
-cycle counts and loaded times do not depend on the step.
+equation of the bleed-down test, `Q = V Δp / (p_atm t)`, in the US DOE sourcebook's leaks fact sheet),
+`V` = system volume + added storage. Each bin is cut into sub-steps short enough that the pressure
+moves at most [`MAX_DP_PER_SUBSTEP_BAR`] at full capacity and that the continuous controls
+(modulation, variable speed) stay well inside their loop time constant. Within a sub-step the
+switching of load/unload and start/stop machines and their timers are **events**: the step is cut
+exactly where a pressure threshold is crossed or a timer ends, so cycle counts and loaded times do not
+depend on the step.
 
 # Control rules (defaults; "common practice" unless a source is named)
 - **Sequence**: fixed-speed machines in `order` (default: rated flow descending), each next machine's
@@ -69,13 +71,22 @@ cycle counts and loaded times do not depend on the step.
 A scenario may carry its own `implementation_cost` (a quotation). Without one, [`default_cost`]
 estimates it from the changes, installed, in the audit's currency (common practice, from memory; the
 same figures as the measures of `recommend` where they overlap): an added fixed-speed compressor
-[`costs::PER_KW_FIXED_SPEED`](crate::core::costs::PER_KW_FIXED_SPEED) per kW rated, an added variable-speed one [`costs::PER_KW_VARIABLE_SPEED`](crate::core::costs::PER_KW_VARIABLE_SPEED)
-per kW, a new sequence [`costs::SEQUENCER`](crate::core::costs::SEQUENCER), added storage [`costs::STORAGE_FIXED`](crate::core::costs::STORAGE_FIXED) +
-[`costs::STORAGE_PER_M3`](crate::core::costs::STORAGE_PER_M3) per m³, a new set-point [`costs::SET_PRESSURE`](crate::core::costs::SET_PRESSURE), leak repair
-[`costs::LEAK_SURVEY`](crate::core::costs::LEAK_SURVEY) + [`costs::LEAK_PER_M3_MIN`](crate::core::costs::LEAK_PER_M3_MIN) per m³/min repaired; removing a machine costs nothing.
+[`costs::PER_KW_FIXED_SPEED`] per kW rated, an added variable-speed one [`costs::PER_KW_VARIABLE_SPEED`]
+per kW, a new sequence [`costs::SEQUENCER`], added storage [`costs::STORAGE_FIXED`] +
+[`costs::STORAGE_PER_M3`] per m³, a new set-point [`costs::SET_PRESSURE`], leak repair
+[`costs::LEAK_SURVEY`] + [`costs::LEAK_PER_M3_MIN`] per m³/min repaired; removing a machine costs nothing.
 A scenario that changes only the supply side (no `set_pressure`, no `reduce_leaks`) is
 `supply_side_only`: only such a scenario can be offered as the `improve_control` measure, because
 lower pressure and leak repair are measures of their own and would otherwise be counted twice.
+
+[`costs::PER_KW_FIXED_SPEED`]: crate::core::costs::PER_KW_FIXED_SPEED
+[`costs::PER_KW_VARIABLE_SPEED`]: crate::core::costs::PER_KW_VARIABLE_SPEED
+[`costs::SEQUENCER`]: crate::core::costs::SEQUENCER
+[`costs::STORAGE_FIXED`]: crate::core::costs::STORAGE_FIXED
+[`costs::STORAGE_PER_M3`]: crate::core::costs::STORAGE_PER_M3
+[`costs::SET_PRESSURE`]: crate::core::costs::SET_PRESSURE
+[`costs::LEAK_SURVEY`]: crate::core::costs::LEAK_SURVEY
+[`costs::LEAK_PER_M3_MIN`]: crate::core::costs::LEAK_PER_M3_MIN
 */
 
 mod cost;
