@@ -10,6 +10,22 @@ use crate::core::model::Control;
 /// Events handled within one sub-step before the rest of it is taken in one go (a guard).
 const MAX_EVENTS_PER_SUBSTEP: usize = 64;
 
+/// What the sub-steps of one bin add up (the warm-up's are thrown away).
+struct BinSums {
+    /// ∫p dt, bar(g) s.
+    p_integral: f64,
+    /// Time below the minimum required pressure, s.
+    below_s: f64,
+    /// Lowest pressure, bar(g).
+    min_p: f64,
+}
+
+impl BinSums {
+    fn new() -> Self {
+        Self { p_integral: 0.0, below_s: 0.0, min_p: f64::INFINITY }
+    }
+}
+
 pub(super) struct Outcome {
     pub(super) machines: Vec<MStats>,
     pub(super) energy_kws: f64,
@@ -79,7 +95,7 @@ pub(super) fn simulate(plant: &Plant, d: &Demand, threshold_bar_g: f64, trace: b
     if let Some(&first) = d.prod.iter().find(|v| v.is_finite()) {
         let steps = (WARMUP_S / h).ceil() as usize;
         let mut scratch = vec![MStats::default(); nm];
-        let mut sink = (0.0, 0.0, 0.0, f64::INFINITY);
+        let mut sink = BinSums::new();
         for _ in 0..steps {
             substep(
                 ms,
@@ -101,8 +117,8 @@ pub(super) fn simulate(plant: &Plant, d: &Demand, threshold_bar_g: f64, trace: b
         let prod = d.prod[i];
         if prod.is_finite() {
             let e0: f64 = stats.iter().map(|s| s.energy_kws).sum();
-            // (energy is read back from the stats; sink: p integral, time below, unused, min p)
-            let mut sink = (0.0, 0.0, 0.0, f64::INFINITY);
+            // (energy is read back from the stats)
+            let mut sink = BinSums::new();
             for _ in 0..n_sub {
                 substep(
                     ms,
@@ -123,10 +139,10 @@ pub(super) fn simulate(plant: &Plant, d: &Demand, threshold_bar_g: f64, trace: b
             out.energy_kws += bin_kws;
             out.simulated_s += d.step_s;
             out.peak_kw = out.peak_kw.max(bin_kws / d.step_s);
-            out.p_integral += sink.0;
-            out.below_s += sink.1;
-            out.min_p = out.min_p.min(sink.3);
-            bucket_min = bucket_min.min(sink.3);
+            out.p_integral += sink.p_integral;
+            out.below_s += sink.below_s;
+            out.min_p = out.min_p.min(sink.min_p);
+            bucket_min = bucket_min.min(sink.min_p);
             if let Some(lw) = &d.logged_w {
                 let l = lw[i];
                 if l.is_finite() {
@@ -150,7 +166,7 @@ pub(super) fn simulate(plant: &Plant, d: &Demand, threshold_bar_g: f64, trace: b
     out
 }
 
-/// One sub-step of length h, cut at switching events. `sink`: (∫p dt, time below threshold, -, min p).
+/// One sub-step of length h, cut at switching events, adding its share to `sink`.
 #[allow(clippy::too_many_arguments)]
 #[inline]
 fn substep(
@@ -164,7 +180,7 @@ fn substep(
     p_atm: f64,
     k_v: f64,
     threshold: f64,
-    sink: &mut (f64, f64, f64, f64),
+    sink: &mut BinSums,
 ) {
     for (m, s) in ms.iter().zip(st.iter_mut()) {
         s.control(m, *p, h);
@@ -188,17 +204,17 @@ fn substep(
         for ((m, s), stt) in ms.iter().zip(st.iter_mut()).zip(stats.iter_mut()) {
             s.advance(m, p_mid, tau, stt);
         }
-        sink.0 += p_mid * tau;
+        sink.p_integral += p_mid * tau;
         // Time below the threshold: the pressure is a straight line over the interval.
         if tau > 0.0 {
             if p0 < threshold && p1 < threshold {
-                sink.1 += tau;
+                sink.below_s += tau;
             } else if (p0 < threshold) != (p1 < threshold) {
                 let below = if p0 < threshold { threshold - p0 } else { threshold - p1 };
-                sink.1 += tau * below / (p1 - p0).abs();
+                sink.below_s += tau * below / (p1 - p0).abs();
             }
         }
-        sink.3 = sink.3.min(p0.min(p1));
+        sink.min_p = sink.min_p.min(p0.min(p1));
         *p = p1;
         left -= tau;
         for ((m, s), stt) in ms.iter().zip(st.iter_mut()).zip(stats.iter_mut()) {
