@@ -79,6 +79,8 @@ A scenario that changes only the supply side (no `set_pressure`, no `reduce_leak
 `supply_side_only`: only such a scenario can be offered as the `improve_control` measure, because
 lower pressure and leak repair are measures of their own and would otherwise be counted twice.
 
+[`states::classify`]: crate::core::states::classify
+[`states::estimated_flow`]: crate::core::states::estimated_flow
 [`costs::PER_KW_FIXED_SPEED`]: crate::core::costs::PER_KW_FIXED_SPEED
 [`costs::PER_KW_VARIABLE_SPEED`]: crate::core::costs::PER_KW_VARIABLE_SPEED
 [`costs::SEQUENCER`]: crate::core::costs::SEQUENCER

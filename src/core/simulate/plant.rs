@@ -117,7 +117,7 @@ pub struct Scenario {
     pub name: String,
     #[serde(default)]
     pub changes: Vec<Change>,
-    /// The installed cost, if quoted; otherwise [`default_cost`] estimates it.
+    /// The installed cost, if quoted; otherwise [`default_cost`](super::default_cost) estimates it.
     #[serde(default)]
     pub implementation_cost: Option<f64>,
 }
