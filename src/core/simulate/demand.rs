@@ -1,0 +1,154 @@
+//! The demand replayed: from the logged system flow or the compressors' logged power, with short gaps
+//! held and long ones skipped, split into the production draw and the leaks (the module doc's
+//! "Demand").
+
+use super::{fail, ScenarioError, SimInput, BAND_BAR, HOLD_GAP_S, PEAK_WINDOW_S};
+use crate::core::series;
+use crate::core::states;
+use crate::core::units::PA_PER_BAR;
+
+pub(super) struct Demand {
+    pub(super) step_s: f64,
+    pub(super) start_ms: i64,
+    pub(super) step_ms: i64,
+    /// Production draw (demand less leaks at the logged pressure), m³/s; NaN = skipped bin.
+    pub(super) prod: Vec<f32>,
+    /// Leak coefficient, m³/s per bar absolute.
+    pub(super) leak_c: f64,
+    pub(super) p_atm_bar: f64,
+    /// Logged total power, W (NaN where any machine's is missing).
+    pub(super) logged_w: Option<Vec<f32>>,
+    pub(super) first_p_bar_g: Option<f64>,
+    /// Highest [`PEAK_WINDOW_S`] mean of the production draw, m³/s.
+    pub(super) peak_prod: f64,
+    pub(super) max_prod: f64,
+}
+
+pub(super) fn prepare_demand(input: &SimInput) -> Result<Demand, ScenarioError> {
+    let frame = input.frame;
+    let grid = frame.grid;
+    let n = grid.len;
+    let step_s = grid.step_s();
+    let atm = input.site.atmosphere.0;
+    let p_atm_bar = atm / PA_PER_BAR;
+    let pressure: Option<Vec<f64>> =
+        frame.header_pressure().map(|c| c.values.iter().map(|&v| (v as f64 - atm) / PA_PER_BAR).collect());
+    let mut q: Vec<f32> = match frame.system_flow() {
+        Some(q) => q,
+        None => {
+            let mut sum = vec![0.0f32; n];
+            for (i, spec) in input.compressors.iter().enumerate() {
+                let Some(col) = frame.power_of(i) else {
+                    return fail(
+                        "frame",
+                        format!(
+                            "no flow is logged and no power for {}: the demand cannot be estimated",
+                            spec.tag
+                        ),
+                    );
+                };
+                let st = states::classify(spec, &col.values);
+                for (s, f) in sum.iter_mut().zip(states::estimated_flow(spec, &st, &col.values)) {
+                    *s += f;
+                }
+            }
+            // Supply less the air stored: Q_d = Q_s - V/p_atm dp/dt (receiver equation).
+            if let Some(p) = &pressure {
+                let k = input.storage.system_volume_m3() / p_atm_bar;
+                for i in 1..n.saturating_sub(1) {
+                    let dp = p[i + 1] - p[i - 1];
+                    if dp.is_finite() {
+                        sum[i] -= (k * dp / (2.0 * step_s)) as f32;
+                    }
+                }
+            }
+            sum
+        }
+    };
+    if input.compressors.is_empty() && q.is_empty() {
+        return fail("frame", "the frame holds no bins");
+    }
+    // Hold short gaps, leave long ones out.
+    let hold_bins = ((HOLD_GAP_S / step_s).floor() as usize).max(1);
+    let mut i = 0;
+    while i < n {
+        if q[i].is_finite() {
+            i += 1;
+            continue;
+        }
+        let start = i;
+        while i < n && !q[i].is_finite() {
+            i += 1;
+        }
+        if start > 0 && i - start <= hold_bins && i < n {
+            let v = q[start - 1];
+            q[start..i].iter_mut().for_each(|x| *x = v);
+        }
+    }
+    let mean_p = pressure.as_ref().and_then(|p| {
+        let (s, c) = p.iter().filter(|v| v.is_finite()).fold((0.0, 0usize), |(s, c), v| (s + v, c + 1));
+        (c > 0).then(|| s / c as f64)
+    });
+    let p_ref = mean_p.unwrap_or_else(|| {
+        input.compressors.iter().map(|c| c.rated_pressure_bar_g).fold(f64::NAN, f64::max) - 0.5 * BAND_BAR
+    });
+    let leak_c = match input.leak_flow_m3_min {
+        Some(l) if l.is_finite() && l > 0.0 && (p_ref + p_atm_bar) > 0.0 => l / 60.0 / (p_ref + p_atm_bar),
+        Some(l) if !(l.is_finite() && l >= 0.0) => {
+            return fail("leak_flow_m3_min", format!("must be a flow of zero or more, not {l}"))
+        }
+        _ => 0.0,
+    };
+    let prod: Vec<f32> = (0..n)
+        .map(|i| {
+            let pl = pressure.as_ref().map(|p| p[i]).filter(|v| v.is_finite()).unwrap_or(p_ref);
+            (q[i] as f64 - leak_c * (pl + p_atm_bar)) as f32
+        })
+        .collect();
+    let logged_w = if input.compressors.is_empty() {
+        None
+    } else {
+        let cols: Option<Vec<&[f32]>> =
+            (0..input.compressors.len()).map(|i| frame.power_of(i).map(|c| c.values.as_slice())).collect();
+        cols.and_then(|c| series::sum_columns(n, c.into_iter()))
+    };
+    let w = ((PEAK_WINDOW_S / step_s).round() as usize).clamp(1, n.max(1));
+    let (mut peak, mut max_prod, mut run, mut cnt) = (0.0f64, 0.0f64, 0.0f64, 0usize);
+    let mut window = std::collections::VecDeque::with_capacity(w);
+    for &v in &prod {
+        if !v.is_finite() {
+            window.clear();
+            run = 0.0;
+            cnt = 0;
+            continue;
+        }
+        let v = v as f64;
+        max_prod = max_prod.max(v);
+        window.push_back(v);
+        run += v;
+        cnt += 1;
+        if cnt > w {
+            run -= window.pop_front().unwrap_or(0.0);
+            cnt -= 1;
+        }
+        if cnt == w {
+            peak = peak.max(run / w as f64);
+        }
+    }
+    if peak == 0.0 {
+        peak = max_prod;
+    }
+    let first_p_bar_g = pressure.as_ref().and_then(|p| p.iter().copied().find(|v| v.is_finite()));
+    Ok(Demand {
+        step_s,
+        start_ms: grid.start_ms,
+        step_ms: grid.step_ms,
+        prod,
+        leak_c,
+        p_atm_bar,
+        logged_w,
+        first_p_bar_g,
+        peak_prod: peak,
+        max_prod,
+    })
+}

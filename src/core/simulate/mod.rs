@@ -1,0 +1,297 @@
+/*!
+Scenarios: what-if replay of the logged period (API.md "Scenarios (what-if replay)").
+
+The logged demand is replayed against a simulated plant: the plant as it is (the **baseline**, which
+must reproduce the logged energy: `validation_error`) and the plant with the scenario's changes.
+
+# Demand
+- From the logged system flow ([`Frame::system_flow`], m³/s free air) if the frame has one; otherwise
+  estimated from each compressor's logged power ([`states::classify`], [`states::estimated_flow`])
+  minus the air stored in the system volume (`V/p_atm dp/dt` from the logged header pressure).
+- A missing bin holds the last demand if the gap is at most [`HOLD_GAP_S`]; a longer gap is skipped:
+  it is left out of the simulated energy and of the logged energy alike (the plant's state carries
+  over the gap unchanged).
+- The pressure-dependent part: leaks are choked orifices, their free-air flow ∝ absolute pressure
+  (choked flow through an orifice is proportional to the upstream absolute pressure: the physics
+  behind the pressure correction of the bleed-down test in the US DOE's *Improving Compressed Air
+  System Performance: A Sourcebook for Industry*, leaks fact sheet). With `leak_flow_m3_min` given at
+  the mean logged header pressure `p̄`, the leak coefficient is `c = Q_leak / p̄_abs`; the logged
+  demand minus `c p_logged,abs` is the production draw, replayed as is, and `(1 - reduced share) c
+  p_sim,abs` is added at the simulated pressure. Without a leak estimate the demand does not depend on
+  pressure (unregulated uses are not modelled separately).
+
+# Receiver
+One pressure node, isothermal, in free air: `V dp/dt = p_atm (Q_supply - Q_demand)` (the receiver
+equation of the bleed-down test, `Q = V Δp / (p_atm t)`, in the US DOE sourcebook's leaks fact sheet),
+`V` = system volume + added storage. Each bin is cut into sub-steps short enough that the pressure
+moves at most [`MAX_DP_PER_SUBSTEP_BAR`] at full capacity and that the continuous controls
+(modulation, variable speed) stay well inside their loop time constant. Within a sub-step the
+switching of load/unload and start/stop machines and their timers are **events**: the step is cut
+exactly where a pressure threshold is crossed or a timer ends, so cycle counts and loaded times do not
+depend on the step.
+
+# Control rules (defaults; "common practice" unless a source is named)
+- **Sequence**: fixed-speed machines in `order` (default: rated flow descending), each next machine's
+  band [`STAGGER_BAR`] (0.2 bar) lower: machine k unloads at `min(its rated pressure, unload(k-1) -
+  0.2)` and loads [`BAND_BAR`] (0.6 bar) below that. Variable-speed machines are trim machines: their
+  setpoint is the highest load pressure of the fixed-speed machines + 0.1 bar (a second VSD 0.2 bar
+  lower), or, with no fixed-speed machine, their rated pressure - 0.5 bar. This reproduces the demo
+  plant's own bands (C1 7.5/6.9, C2 7.3/6.7, C3 holding 7.0 bar(g)).
+- **Load/unload**: starts (star-delta, [`START_DELAY_S`] at unloaded power) when the pressure falls to
+  its load pressure, loads, unloads at its unload pressure; after unloading the power decays from
+  [`BLOWDOWN_START_FRACTION`] (65 %) of full to the unloaded fraction with a [`BLOWDOWN_TAU_S`] (20 s)
+  time constant (sump blow-down); after [`RUN_ON_S`] (10 min) unloaded it stops.
+- **Modulation**: delivers `Q_full (p_unload - p) / 0.6 bar` (full at the load pressure, none at the
+  unload pressure), power `P/P_full = 0.70 + 0.30 Q/Q_full` (common practice); after
+  10 min at zero delivery it stops, and it starts again at its load pressure.
+- **Variable speed**: a PI law on the setpoint between the curve's minimum and maximum flow, with a
+  speed ramp (gains scaled to the machine's maximum flow like the demo's drive: 2.63 Q_max per bar,
+  0.0395 Q_max per bar s, ramp 0.066 Q_max per s); power from the data-sheet curve, linear between
+  points. At minimum flow it stops once the pressure reaches setpoint + 0.6 bar and restarts below
+  setpoint - 0.1 bar.
+- **Start/stop**: runs fully loaded from its load pressure to its unload pressure, then stops, but not
+  before a minimum run time of [`MIN_RUN_S`] (30 s, from memory: motor start limits).
+- Package input power rises [`POWER_PER_BAR`] (7 %) per bar of discharge pressure above the rated
+  pressure ("each 2 psi costs about 1 %": US DOE, *Improving Compressed Air System Performance: A Sourcebook
+  for Industry*); unloaded and stopped power
+  do not.
+- **SetPressure** shifts every band by the same amount so that the simulated mean header pressure
+  lands on the target (two corrections of the shift).
+- **ReduceLeaks** removes that fraction of the leak flow (two reductions compound).
+
+# Figures
+- `validation_error` = (baseline energy - logged energy) / logged energy, over the simulated bins in
+  which every machine's power is logged (`NaN`, shown as `null`, if none is).
+- `energy_kwh` over every simulated bin; a 15-minute warm-up on the first bin's demand is not counted.
+- `feasible` is false when the 1-minute peak demand exceeds the total rated flow, or when the header
+  pressure spends more than [`MAX_TIME_BELOW_S`] below `min_required_pressure_bar_g` (the lowest load
+  or restart pressure of the simulated plant - 0.3 bar: the plant must hold its own control band).
+
+# Implementation cost
+A scenario may carry its own `implementation_cost` (a quotation). Without one, [`default_cost`]
+estimates it from the changes, installed, in the audit's currency (common practice, from memory; the
+same figures as the measures of `recommend` where they overlap): an added fixed-speed compressor
+[`costs::PER_KW_FIXED_SPEED`] per kW rated, an added variable-speed one [`costs::PER_KW_VARIABLE_SPEED`]
+per kW, a new sequence [`costs::SEQUENCER`], added storage [`costs::STORAGE_FIXED`] +
+[`costs::STORAGE_PER_M3`] per m³, a new set-point [`costs::SET_PRESSURE`], leak repair
+[`costs::LEAK_SURVEY`] + [`costs::LEAK_PER_M3_MIN`] per m³/min repaired; removing a machine costs nothing.
+A scenario that changes only the supply side (no `set_pressure`, no `reduce_leaks`) is
+`supply_side_only`: only such a scenario can be offered as the `improve_control` measure, because
+lower pressure and leak repair are measures of their own and would otherwise be counted twice.
+
+[`states::classify`]: crate::core::states::classify
+[`states::estimated_flow`]: crate::core::states::estimated_flow
+[`costs::PER_KW_FIXED_SPEED`]: crate::core::costs::PER_KW_FIXED_SPEED
+[`costs::PER_KW_VARIABLE_SPEED`]: crate::core::costs::PER_KW_VARIABLE_SPEED
+[`costs::SEQUENCER`]: crate::core::costs::SEQUENCER
+[`costs::STORAGE_FIXED`]: crate::core::costs::STORAGE_FIXED
+[`costs::STORAGE_PER_M3`]: crate::core::costs::STORAGE_PER_M3
+[`costs::SET_PRESSURE`]: crate::core::costs::SET_PRESSURE
+[`costs::LEAK_SURVEY`]: crate::core::costs::LEAK_SURVEY
+[`costs::LEAK_PER_M3_MIN`]: crate::core::costs::LEAK_PER_M3_MIN
+*/
+
+mod cost;
+mod demand;
+mod engine;
+mod machine;
+mod plant;
+mod result;
+#[cfg(test)]
+mod tests;
+
+use crate::core::model::{CompressorSpec, StorageSpec};
+use crate::core::series::Frame;
+use crate::core::units::SiteAir;
+
+pub use cost::default_cost;
+pub use plant::{AddedCompressor, Change, Scenario};
+pub use result::{CostSource, SimCompressor, SimResult};
+
+use demand::prepare_demand;
+use engine::{simulate, Outcome};
+use plant::{apply, build_plant, default_order, min_required, Plant};
+
+/// Width of a load/unload or modulation band, bar (common practice).
+pub const BAND_BAR: f64 = 0.6;
+/// Each next machine's band is this much lower, bar (common practice: 0.1-0.2 bar).
+pub const STAGGER_BAR: f64 = 0.2;
+/// A variable-speed trim holds this much above the highest load pressure, bar.
+pub const VSD_ABOVE_LOAD_BAR: f64 = 0.1;
+/// A variable-speed machine at minimum flow stops at setpoint + this, bar.
+pub const VSD_STOP_ABOVE_SETPOINT_BAR: f64 = 0.6;
+/// ... and restarts below setpoint - this, bar.
+pub const VSD_RESTART_BELOW_SETPOINT_BAR: f64 = 0.1;
+/// Sump blow-down after unloading: power starts at this fraction of full (common practice).
+pub const BLOWDOWN_START_FRACTION: f64 = 0.65;
+/// Blow-down time constant, s (common practice).
+pub const BLOWDOWN_TAU_S: f64 = 20.0;
+/// Unloaded run-on before a load/unload machine stops, s (common practice).
+pub const RUN_ON_S: f64 = 600.0;
+/// Star-delta start before a load/unload machine can load, s (common practice).
+pub const START_DELAY_S: f64 = 8.0;
+/// Minimum run time of a start/stop machine, s (from memory).
+pub const MIN_RUN_S: f64 = 30.0;
+/// Package power change per bar of discharge pressure (US DOE, *Improving Compressed Air System
+/// Performance: A Sourcebook for Industry*: about 1 % per 2 psi).
+pub const POWER_PER_BAR: f64 = 0.07;
+/// A missing demand bin holds the last value for gaps up to this long, s.
+pub const HOLD_GAP_S: f64 = 120.0;
+/// Largest pressure change within one sub-step at full capacity, bar.
+pub const MAX_DP_PER_SUBSTEP_BAR: f64 = 0.05;
+/// Time below the minimum required pressure that makes a scenario infeasible, s.
+pub const MAX_TIME_BELOW_S: f64 = 60.0;
+/// Minimum required pressure: this much below the lowest load/restart pressure, bar.
+pub const MIN_REQUIRED_MARGIN_BAR: f64 = 0.3;
+/// Warm-up on the first bin's demand before the replay is counted, s.
+pub const WARMUP_S: f64 = 900.0;
+/// Peak demand is the highest mean over this window, s.
+pub const PEAK_WINDOW_S: f64 = 60.0;
+/// Points of the pressure trace at most.
+pub const TRACE_POINTS: usize = 500;
+
+/// What the replay runs on.
+pub struct SimInput<'a> {
+    pub frame: &'a Frame,
+    /// The audit's compressors; `FrameColumn::compressor` indexes this slice.
+    pub compressors: &'a [CompressorSpec],
+    pub storage: &'a StorageSpec,
+    pub site: &'a SiteAir,
+    /// Leak flow at the mean header pressure, m³/min free air, if the audit has an estimate.
+    pub leak_flow_m3_min: Option<f64>,
+}
+
+/// A scenario that cannot be run, with the field at fault.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct ScenarioError {
+    pub field: String,
+    pub message: String,
+}
+
+impl std::fmt::Display for ScenarioError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}: {}", self.field, self.message)
+    }
+}
+
+impl std::error::Error for ScenarioError {}
+
+fn fail<T>(field: impl Into<String>, message: impl Into<String>) -> Result<T, ScenarioError> {
+    Err(ScenarioError { field: field.into(), message: message.into() })
+}
+
+/// Replay the logged period against the scenario's plant, beside the unchanged plant and the log.
+pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioError> {
+    let base_volume = input.storage.system_volume_m3();
+    if !(base_volume.is_finite() && base_volume > 0.0) {
+        return fail("storage", format!("the system volume must be above 0 m³, not {base_volume}"));
+    }
+    for (i, s) in input.compressors.iter().enumerate() {
+        if !(s.rated_flow_m3_min > 0.0 && s.rated_power_kw > 0.0) {
+            return fail(
+                format!("compressors[{i}]"),
+                format!("{}: rated flow and power must be above 0", s.tag),
+            );
+        }
+    }
+    let applied = apply(input, scenario)?;
+    let demand = prepare_demand(input)?;
+    let (implementation_cost, implementation_cost_source, implementation_cost_basis) =
+        match scenario.implementation_cost {
+            Some(c) if c.is_finite() && c >= 0.0 => (c, CostSource::Given, vec![format!("quoted: {c:.0}")]),
+            Some(c) => return fail("implementation_cost", format!("must be 0 or more, not {c}")),
+            None => {
+                let (c, lines) = default_cost(&scenario.changes, input.leak_flow_m3_min);
+                (c, CostSource::DefaultEstimate, lines)
+            }
+        };
+
+    let base_plant = build_plant(input.compressors, &default_order(input.compressors), 0.0, base_volume, 1.0);
+    let base_threshold = if base_plant.machines.is_empty() { 0.0 } else { min_required(&base_plant) };
+    let base = simulate(&base_plant, &demand, base_threshold, false);
+
+    let mean_p = |o: &Outcome| if o.simulated_s > 0.0 { o.p_integral / o.simulated_s } else { f64::NAN };
+    let mk =
+        |shift: f64| build_plant(&applied.specs, &applied.order, shift, applied.volume_m3, applied.leak_keep);
+    let mut plant = mk(0.0);
+    let threshold_of = |pl: &Plant| if pl.machines.is_empty() { base_threshold } else { min_required(pl) };
+    let mut out = simulate(&plant, &demand, threshold_of(&plant), true);
+    if let Some(target) = applied.target_bar_g {
+        let mut shift = 0.0;
+        for _ in 0..2 {
+            let m = mean_p(&out);
+            if !m.is_finite() {
+                break;
+            }
+            shift += target - m;
+            plant = mk(shift);
+            out = simulate(&plant, &demand, threshold_of(&plant), true);
+        }
+    }
+    let threshold = threshold_of(&plant);
+
+    let kwh = |kws: f64| kws / 3600.0;
+    let hours = out.simulated_s / 3600.0;
+    let validation_error = if base.compare_logged_kws > 0.0 {
+        (base.compare_sim_kws - base.compare_logged_kws) / base.compare_logged_kws
+    } else {
+        f64::NAN
+    };
+    let mut problems = Vec::new();
+    let capacity: f64 = applied.specs.iter().map(|s| s.rated_flow_m3_min).sum();
+    let mp = mean_p(&out);
+    let p_for_leaks = if mp.is_finite() { mp } else { 0.0 };
+    let peak =
+        (demand.peak_prod + demand.leak_c * applied.leak_keep * (p_for_leaks + demand.p_atm_bar)) * 60.0;
+    if applied.specs.is_empty() {
+        problems.push(format!("no compressor is left to meet the peak demand of {peak:.1} m³/min free air"));
+    } else if peak > capacity * (1.0 + 1e-9) {
+        problems.push(format!(
+            "the compressors' total capacity of {capacity:.1} m³/min free air is below the peak demand of \
+             {peak:.1} m³/min free air (1-minute mean), short by {:.1} m³/min",
+            peak - capacity
+        ));
+    }
+    if out.below_s > MAX_TIME_BELOW_S {
+        problems.push(format!(
+            "the header pressure was below {threshold:.2} bar(g) for {:.1} min: the plant does not hold its \
+             control band",
+            out.below_s / 60.0
+        ));
+    }
+    let compressors = plant
+        .machines
+        .iter()
+        .zip(&out.machines)
+        .map(|(m, s)| SimCompressor {
+            tag: m.tag.clone(),
+            energy_kwh: kwh(s.energy_kws),
+            loaded_hours: s.loaded_s / 3600.0,
+            unloaded_hours: s.unloaded_s / 3600.0,
+            cycles_per_hour: if hours > 0.0 { s.cycles as f64 / hours } else { 0.0 },
+            starts: s.starts,
+        })
+        .collect();
+    Ok(SimResult {
+        energy_kwh: kwh(out.energy_kws),
+        mean_power_kw: if out.simulated_s > 0.0 { out.energy_kws / out.simulated_s } else { 0.0 },
+        peak_power_kw: out.peak_kw,
+        min_pressure_bar_g: out.min_p,
+        mean_pressure_bar_g: mp,
+        time_below_min_required_s: out.below_s,
+        min_required_pressure_bar_g: threshold,
+        validation_error,
+        logged_energy_kwh: kwh(base.compare_logged_kws),
+        baseline_energy_kwh: kwh(base.energy_kws),
+        energy_saving_kwh: kwh(base.energy_kws - out.energy_kws),
+        simulated_hours: hours,
+        feasible: problems.is_empty(),
+        problems,
+        implementation_cost,
+        implementation_cost_source,
+        implementation_cost_basis,
+        supply_side_only: scenario.supply_side_only(),
+        compressors,
+        pressure_trace: out.trace,
+    })
+}
