@@ -1,6 +1,6 @@
 /*!
 Heat of compression: where a compressor's input goes, how much of it a heat-recovery system could
-deliver, and what that heat is worth (FIELD-NOTES §7; US DOE heat-recovery fact sheet in the
+deliver, and what that heat is worth (US DOE heat-recovery fact sheet in the
 "Improving Compressed Air System Performance" sourcebook).
 
 Nearly all electrical input ends as heat. What does not leave through the coolers, the motor and the
@@ -10,7 +10,7 @@ that can be recovered depends on the machine and its cooling; it counts only whe
 site can use it (the heating months for space heat, all year for process or boiler make-up water).
 
 Safety: heat recovery handles hot oil, hot ducts and water above 60 °C, and a blocked recovery
-circuit must never stop the compressor's own cooling; see [`HEAT_RECOVERY_CAUTIONS`].
+circuit must never stop the compressor's own cooling; see `core::safety::HEAT_RECOVERY_CAUTIONS`.
 */
 
 use super::model::{CompressorKind, Cooling};
@@ -19,15 +19,6 @@ use super::units::Energy;
 
 /// Delivery-air temperature rise over the inlet for an aftercooled package, K (common practice).
 pub const DEFAULT_DELIVERY_TEMPERATURE_RISE_K: f64 = 10.0;
-
-/// The cautions to show wherever a user plans a heat-recovery measure (FIELD-NOTES §10).
-pub const HEAT_RECOVERY_CAUTIONS: &[&str] = &[
-    "hot oil, hot ducts and water above 60 °C can burn: guard and insulate them",
-    "interlock the recovery circuit so that a blocked or failed circuit never stops the \
-     compressor's own cooling",
-    "follow local codes and licensed practice for pressure equipment, potable water and \
-     ventilation",
-];
 
 /// Where the electrical input of a compressor package leaves, as fractions of the input (they sum
 /// to 1).
@@ -236,7 +227,7 @@ mod tests {
 
     #[test]
     fn recoverable_heat_agrees_with_the_doe_50000_btu_per_100_cfm_rule() {
-        // DOE heat-recovery fact sheet (FIELD-NOTES §7): "about 50,000 Btu/h per 100 cfm of
+        // US DOE heat-recovery fact sheet: "about 50,000 Btu/h per 100 cfm of
         // capacity at full load". fixture: pint 0.25.3, 50 000 Btu/h = 14.654 kW. The rule is a
         // rounded figure for a typical lubricated screw; ours for 18 kW/100 cfm (FIELD-NOTES §2),
         // air cooled: 0.80 x 18 kW = 14.4 kW, 1.7 % below the rule. Tolerance stated: 5 %.

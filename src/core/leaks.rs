@@ -1,6 +1,6 @@
 /*!
 Leak estimates: the field tests of the US DOE sourcebook ("Improving Compressed Air System
-Performance: A Sourcebook for Industry", leaks fact sheet; FIELD-NOTES §5), the flow through an
+Performance: A Sourcebook for Industry", leaks fact sheet), the flow through an
 orifice, and the fit of a pressure decay found in the logs.
 
 The physics that ties them together: a leak is a small orifice, and at shop pressures its flow is
@@ -12,7 +12,7 @@ exponential in time. The assumptions: the air in the system stays at the inlet t
 i.e. above about 0.9 bar(g) at sea level).
 
 Safety: a bleed-down or decay test means isolating compressors and holding a pressurised system; see
-[`TEST_CAUTIONS`].
+`core::safety::PRESSURE_TEST_CAUTIONS`.
 */
 
 use std::fmt;
@@ -23,15 +23,6 @@ use super::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature, Volume};
 /// The DOE sourcebook's rule-of-thumb factor from the mean bleed-down flow to the flow at operating
 /// pressure (FIELD-NOTES §5).
 pub const DOE_BLEED_DOWN_FACTOR: f64 = 1.25;
-
-/// The cautions to show wherever a user plans a bleed-down or pressure-decay test (FIELD-NOTES
-/// §10).
-pub const TEST_CAUTIONS: &[&str] = &[
-    "isolate and lock out the compressors as the site's procedures require before the test",
-    "never exceed the rated pressure of any receiver or vessel in the system",
-    "keep clear of drains and relief valves while the system is under pressure",
-    "follow local pressure-equipment codes and licensed practice; this tool does not replace them",
-];
 
 /// A leak-test input that cannot be used, naming the API field at fault.
 #[derive(Debug, Clone, PartialEq)]

@@ -23,7 +23,7 @@ unload period.
 # Part-load models (power at a given free air delivery Q)
 - Load/unload: `P = P_unl + (P_full - P_unl) Q/Q_rated` (the time-average of loaded and unloaded,
   FIELD-NOTES §4, ideal: storage is large enough).
-- Modulation: `P/P_full = 0.70 + 0.30 Q/Q_full` (common practice, FIELD-NOTES §4).
+- Modulation: `P/P_full = 0.70 + 0.30 Q/Q_full` (common practice).
 - Variable speed: the data-sheet curve, linear between its points; without one, the typical curve
   `P/P_full = 0.12 + 0.88 Q/Q_full` for Q from 20 % to 100 % (common practice, approximate: a VSD screw's
   specific power rises only slightly towards minimum speed; from memory).
@@ -38,7 +38,7 @@ use serde::Serialize;
 use super::model::{CompressorSpec, Control};
 use super::series::Grid;
 
-/// Modulation: share of full power drawn at zero capacity (FIELD-NOTES §4, common practice).
+/// Modulation: share of full power drawn at zero capacity (common practice).
 pub const MODULATION_POWER_AT_ZERO_FLOW: f64 = 0.70;
 /// Typical variable-speed curve: P/P_full = VSD_TYPICAL_A + VSD_TYPICAL_B Q/Q_full (common practice,
 /// approximate, from memory).

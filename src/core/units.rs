@@ -169,9 +169,6 @@ impl FreeAirFlow {
     pub fn m3_min(self) -> f64 {
         self.0 * 60.0
     }
-    pub fn from_cfm(cfm: f64) -> Self {
-        Self(cfm * M3_PER_FT3 / 60.0)
-    }
     pub fn cfm(self) -> f64 {
         self.0 * 60.0 / M3_PER_FT3
     }
