@@ -240,9 +240,9 @@ mod tests {
         // 7 bar = 101.5 psi (hand calculation: 700 kPa / 6.894757 kPa/psi).
         assert_eq!(us.pressure_bar_g(7.0), "101.5 psig");
         assert_eq!(si.flow_m3_min(10.0), "10.0 m³/min free air");
-        // 10 m³/min = 353.1 cfm (FIELD-NOTES §2), shown to three significant figures.
+        // 10 m³/min = 353.1 cfm (NIST SP 811 conversions), shown to three significant figures.
         assert_eq!(us.flow_m3_min(10.0), "353 cfm free air");
-        // FIELD-NOTES §2: 6.357 kW/(m³/min) = 18 kW/100 cfm.
+        // NIST SP 811 conversions: 6.357 kW/(m³/min) = 18 kW/100 cfm.
         assert_eq!(us.specific_power(6.357), "18.0 kW/100 cfm");
         assert_eq!(si.temperature_c(20.0), "20.0 °C");
         assert_eq!(us.temperature_c(20.0), "68 °F");

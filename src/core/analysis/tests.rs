@@ -99,7 +99,8 @@ fn a_summary_reads_back_from_its_json_with_the_same_names_and_spellings() {
 
 #[test]
 fn constant_power_and_flow_give_specific_power_p_over_q_and_isothermal_efficiency() {
-    // Specific power = P/Q (FIELD-NOTES §3); isothermal power p1 V1 ln(p2/p1) (FIELD-NOTES §7).
+    // Specific power = P/Q (ISO 1217 specific package input power); isothermal power p1 V1 ln(p2/p1)
+    // (ideal-gas isothermal compression).
     let s = site();
     let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
     let n = 360;
@@ -125,7 +126,7 @@ fn constant_power_and_flow_give_specific_power_p_over_q_and_isothermal_efficienc
     assert_eq!(r.flow_source, FlowSource::Measured);
     assert!((r.pressure.mean_bar_g.unwrap() - 7.0).abs() < 1e-4);
     assert_eq!(r.coverage.power, 1.0);
-    // Cost of air (FIELD-NOTES §9): kW/100 cfm / 6 x price per 1000 ft³.
+    // Cost of air (US DOE compressed-air tip sheet 1): kW/100 cfm / 6 x price per 1000 ft³.
     let per_kft3 = r.system.specific_power_kw_per_100cfm.unwrap() / 6.0 * 0.15;
     assert!((r.baseline.cost_per_1000_ft3.unwrap() - per_kft3).abs() < 1e-4);
     // Uncertainty: power ±1 % and flow ±3 % in quadrature on the ratio.
@@ -269,7 +270,7 @@ fn a_logged_week_is_profiled_by_weekday_and_hour_and_annualised_over_52_weeks() 
     assert_eq!(r.demand.production_source, ProductionSource::Detected);
     assert!((r.demand.production_share_of_time - 80.0 / 168.0).abs() < 1e-12);
     assert!((r.demand.non_production_mean_flow_m3_min.unwrap() - 2.0).abs() < 1e-5);
-    // Leaks: the test is adopted; leak energy at the load/unload marginal power (FIELD-NOTES §5)
+    // Leaks: the test is adopted; leak energy at the load/unload marginal power (US DOE sourcebook, leaks fact sheet)
     // over the hours the machine runs (all 168 h a week).
     assert_eq!(r.leaks.adopted_leak_flow_m3_min, Some(1.5));
     let marginal = 55.0 * 0.75 / 9.5;
@@ -313,7 +314,7 @@ fn operating_hours_override_scales_the_mean_power() {
 
 #[test]
 fn a_decay_with_every_compressor_off_is_found_and_its_leak_recovered() {
-    // Choked leaks: p = p0 e^(-t/tau), Q_FAD = V p / (p_atm tau) (FIELD-NOTES §5).
+    // Choked leaks: p = p0 e^(-t/tau), Q_FAD = V p / (p_atm tau) (ideal-gas choked flow).
     let s = site();
     let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
     let storage = StorageSpec { receivers_m3: vec![3.0], other_volume_m3: 0.0 };
@@ -344,7 +345,7 @@ fn a_decay_with_every_compressor_off_is_found_and_its_leak_recovered() {
 #[test]
 fn marginal_power_is_the_trim_machine_not_the_plant_average() {
     // A base-loaded machine (always loaded) and a load/unload trim: the trim's part-load slope
-    // prices leaks (FIELD-NOTES §5).
+    // prices leaks (US DOE compressed-air sourcebook, leaks fact sheet).
     let s = site();
     let cs =
         vec![spec("BASE", Control::LoadUnload, 90.0, 16.0), spec("TRIM", Control::LoadUnload, 37.0, 6.0)];
