@@ -114,6 +114,17 @@ impl HeatUseKind {
     }
 }
 
+/// What recovered heat is worth in a year.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RecoveredHeat {
+    /// Heat used, kWh.
+    pub useful_kwh: f64,
+    /// Fuel the heater no longer burns, kWh.
+    pub fuel_kwh: f64,
+    /// That fuel's price, in the audit's currency.
+    pub money: f64,
+}
+
 /// A use for recovered heat.
 #[derive(Debug, Clone, PartialEq)]
 pub struct HeatUse {
@@ -125,14 +136,14 @@ pub struct HeatUse {
 
 /// The worth of recovered heat (US DOE heat-recovery fact sheet): `recoverable_by_month_kwh[0]` is January. Counts
 /// the months in which the heat is used, and values it as the fuel the heater no longer burns:
-/// fuel = useful / heater efficiency, money = fuel x price. Returns (useful kWh, fuel kWh
-/// displaced, money). A heater efficiency that is not positive displaces nothing (0 fuel, 0 money).
+/// fuel = useful / heater efficiency, money = fuel x price. A heater efficiency that is not positive
+/// displaces nothing (0 fuel, 0 money).
 pub fn recovered_value(
     recoverable_by_month_kwh: &[f64; 12],
     use_: &HeatUse,
     heater_efficiency: f64,
     fuel_price_per_kwh: f64,
-) -> (f64, f64, f64) {
+) -> RecoveredHeat {
     let mut used = [false; 12];
     match use_.kind {
         HeatUseKind::ProcessWater => used = [true; 12],
@@ -147,7 +158,7 @@ pub fn recovered_value(
     let useful_kwh: f64 =
         recoverable_by_month_kwh.iter().zip(used).filter(|(_, u)| *u).map(|(kwh, _)| kwh).sum();
     let fuel_kwh = if heater_efficiency > 0.0 { useful_kwh / heater_efficiency } else { 0.0 };
-    (useful_kwh, fuel_kwh, fuel_kwh * fuel_price_per_kwh)
+    RecoveredHeat { useful_kwh, fuel_kwh, money: fuel_kwh * fuel_price_per_kwh }
 }
 
 #[cfg(test)]
@@ -261,26 +272,31 @@ mod tests {
         // Months 1..12 recover 100, 200, ... 1200 kWh.
         let by_month: [f64; 12] = std::array::from_fn(|i| 100.0 * (i as f64 + 1.0));
         let winter = HeatUse { kind: HeatUseKind::SpaceHeating, heating_months: vec![1, 2, 3, 11, 12] };
-        let (useful, fuel, money) = recovered_value(&by_month, &winter, 0.9, 0.08);
+        let RecoveredHeat { useful_kwh: useful, fuel_kwh: fuel, money } =
+            recovered_value(&by_month, &winter, 0.9, 0.08);
         // By hand: 100 + 200 + 300 + 1100 + 1200 = 2900 kWh; / 0.9 = 3222.2 kWh; x 0.08 = 257.78.
         assert!((useful - 2900.0).abs() < 1e-9);
         assert!((fuel - 2900.0 / 0.9).abs() < 1e-9);
         assert!((money - 2900.0 / 0.9 * 0.08).abs() < 1e-9);
         // Repeats and impossible months are ignored.
         let odd = HeatUse { kind: HeatUseKind::SpaceHeating, heating_months: vec![1, 1, 0, 13] };
-        assert!((recovered_value(&by_month, &odd, 0.9, 0.08).0 - 100.0).abs() < 1e-9);
+        assert!((recovered_value(&by_month, &odd, 0.9, 0.08).useful_kwh - 100.0).abs() < 1e-9);
     }
 
     #[test]
     fn process_water_counts_all_year() {
         let by_month = [500.0; 12];
         let water = HeatUse { kind: HeatUseKind::ProcessWater, heating_months: vec![1] };
-        let (useful, fuel, money) = recovered_value(&by_month, &water, 0.8, 0.10);
+        let RecoveredHeat { useful_kwh: useful, fuel_kwh: fuel, money } =
+            recovered_value(&by_month, &water, 0.8, 0.10);
         // By hand: 6000 kWh; / 0.8 = 7500 kWh of fuel; x 0.10 = 750.
         assert!((useful - 6000.0).abs() < 1e-9);
         assert!((fuel - 7500.0).abs() < 1e-9);
         assert!((money - 750.0).abs() < 1e-9);
         // A heater efficiency that is not positive displaces nothing.
-        assert_eq!(recovered_value(&by_month, &water, 0.0, 0.10), (6000.0, 0.0, 0.0));
+        assert_eq!(
+            recovered_value(&by_month, &water, 0.0, 0.10),
+            RecoveredHeat { useful_kwh: 6000.0, fuel_kwh: 0.0, money: 0.0 }
+        );
     }
 }

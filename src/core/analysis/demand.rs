@@ -12,7 +12,7 @@ use crate::core::series::{integrate, Grid};
 use super::calendar::{weekday_hour, Calendar};
 use super::figures::{Demand, DurationPoint};
 use super::production::Production;
-use super::stats::{mean_where, peak_mean};
+use super::stats::{mean_where, peak_mean, Peak};
 
 /// The system's delivered air and peaks over the log.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -34,11 +34,17 @@ pub(super) fn flow_totals(grid: &Grid, flow: Option<&[f32]>, total_power: Option
     let flow_i = flow.map(|q| integrate(grid, q));
     let air_m3 = flow_i.map_or(0.0, |i| i.total);
     let mean_flow = flow_i.map_or(0.0, |i| if i.mean.is_finite() { i.mean * 60.0 } else { 0.0 });
-    let (peak_flow, peak_flow_window) = flow.map_or((0.0, 60.0), |q| peak_mean(grid, q, 60.0));
-    let peak_flow = peak_flow * 60.0;
-    let (peak_kw, peak_kw_window) = total_power.map_or((0.0, 900.0), |p| peak_mean(grid, p, 900.0));
-    let peak_kw = peak_kw / 1000.0;
-    FlowTotals { air_m3, mean_flow, peak_flow, peak_flow_window, peak_kw, peak_kw_window }
+    let none = |window_s| Peak { mean: 0.0, window_s };
+    let flow_peak = flow.map_or(none(60.0), |q| peak_mean(grid, q, 60.0));
+    let power_peak = total_power.map_or(none(900.0), |p| peak_mean(grid, p, 900.0));
+    FlowTotals {
+        air_m3,
+        mean_flow,
+        peak_flow: flow_peak.mean * 60.0,
+        peak_flow_window: flow_peak.window_s,
+        peak_kw: power_peak.mean / 1000.0,
+        peak_kw_window: power_peak.window_s,
+    }
 }
 
 /// The demand figures. `timezone` is the one the profiles were made in (UTC if the site's was unknown).

@@ -76,15 +76,14 @@ pub(super) fn heat_value(site: &SiteSpec, per_compressor: &[CompressorHeat]) -> 
     let monthly = [heat_rec_y / 12.0; 12];
     let space = HeatUse { kind: HeatUseKind::SpaceHeating, heating_months: site.heating_months.clone() };
     let process = HeatUse { kind: HeatUseKind::ProcessWater, heating_months: vec![] };
-    let (u_s, f_s, v_s) =
-        heat::recovered_value(&monthly, &space, site.heater_efficiency, site.heating_fuel_price_per_kwh);
-    let (u_p, f_p, v_p) =
+    let s = heat::recovered_value(&monthly, &space, site.heater_efficiency, site.heating_fuel_price_per_kwh);
+    let p =
         heat::recovered_value(&monthly, &process, site.heater_efficiency, site.heating_fuel_price_per_kwh);
     let space_ok = !site.heating_months.is_empty();
     let (use_kind, useful, fuel, value) = if space_ok {
-        (HeatUseKind::SpaceHeating, u_s, f_s, v_s)
+        (HeatUseKind::SpaceHeating, s.useful_kwh, s.fuel_kwh, s.money)
     } else {
-        (HeatUseKind::ProcessWater, u_p, f_p, v_p)
+        (HeatUseKind::ProcessWater, p.useful_kwh, p.fuel_kwh, p.money)
     };
     HeatValue {
         figures: HeatFigures {
@@ -97,7 +96,7 @@ pub(super) fn heat_value(site: &SiteSpec, per_compressor: &[CompressorHeat]) -> 
             useful_heat_kwh_per_year: useful,
             displaced_fuel_kwh_per_year: fuel,
             annual_value: value,
-            process_water_annual_value: v_p,
+            process_water_annual_value: p.money,
             cautions: safety::heat_recovery_cautions(),
         },
         case: (value > 0.0).then_some(HeatCase {

@@ -4,9 +4,17 @@ Small statistics over binned series: masked means, peak window means and percent
 
 use crate::core::series::Grid;
 
+/// The highest window mean of a series, and the window it was taken over.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) struct Peak {
+    /// 0 when no window has enough bins.
+    pub mean: f64,
+    pub window_s: f64,
+}
+
 /// Highest mean over consecutive non-overlapping windows of `window_s` (at least one bin); windows
 /// with fewer than half their bins present are skipped.
-pub(super) fn peak_mean(grid: &Grid, values: &[f32], window_s: f64) -> (f64, f64) {
+pub(super) fn peak_mean(grid: &Grid, values: &[f32], window_s: f64) -> Peak {
     let k = ((window_s / grid.step_s()).round() as usize).max(1);
     let mut best = f64::NAN;
     for chunk in values.chunks(k) {
@@ -18,7 +26,7 @@ pub(super) fn peak_mean(grid: &Grid, values: &[f32], window_s: f64) -> (f64, f64
             }
         }
     }
-    (if best.is_finite() { best } else { 0.0 }, k as f64 * grid.step_s())
+    Peak { mean: if best.is_finite() { best } else { 0.0 }, window_s: k as f64 * grid.step_s() }
 }
 
 /// The `p` quantile (0-1) of sorted values, interpolated linearly between neighbours (common
