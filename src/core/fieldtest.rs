@@ -1,5 +1,5 @@
 /*!
-Field tests: the leak measurements an auditor runs or reads from the logs (FIELD-NOTES §5, API.md
+Field tests: the leak measurements an auditor runs or reads from the logs (US DOE compressed-air sourcebook, leaks fact sheet; API.md
 "Field tests"), validated and evaluated into results the API returns as they are.
 
 Every result carries `leak_flow_m3_min`: the leak flow (free air) at the operating or production
@@ -15,25 +15,18 @@ default instrument accuracies ([`Accuracy`]).
 - `pressure_decay`: logged pressure falling while every logged compressor is off or unloaded, fitted
   by `leaks::fit_pressure_decay`.
 
-Safety: these tests can hurt people. [`TEST_CAUTIONS`] are the cautions the pages show wherever a test
-is planned.
+Safety: these tests can hurt people. `core::safety::PRESSURE_TEST_CAUTIONS` are the cautions the
+pages show wherever a test is planned.
 */
 
 use serde::{Deserialize, Serialize};
 
-use super::analysis::Accuracy;
+use super::analysis::uncertainty::{quad, Accuracy};
 use super::leaks;
 use super::model::{CompressorSpec, StorageSpec};
 use super::series::{Frame, Signal};
 use super::states::classify;
-use super::units::{FreeAirFlow, PressureAbs, SiteAir, Volume, PA_PER_BAR};
-
-/// Shown wherever a bleed-down or decay test is planned (FIELD-NOTES §10).
-pub const TEST_CAUTIONS: &[&str] = &[
-    "isolate and lock out the compressors as the site's procedures require before a bleed-down test",
-    "never exceed a receiver's or any vessel's rated pressure; keep clear of drains and relief valves",
-    "defer to local pressure-equipment codes and licensed practice",
-];
+use super::units::{FreeAirFlow, PressureAbs, SiteAir, Volume};
 
 /// A field test as the API receives it.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
@@ -118,7 +111,26 @@ impl From<leaks::LeakError> for FieldError {
     }
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+/// Where a test's system volume comes from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum VolumeSource {
+    /// Entered with the test.
+    Given,
+    /// The audit's system volume (receivers + piping and vessels).
+    SystemVolume,
+}
+
+impl VolumeSource {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Self::Given => "given",
+            Self::SystemVolume => "system_volume",
+        }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct BleedDownOutcome {
     pub mean_leak_flow_m3_min: f64,
     pub leak_flow_at_operating_pressure_m3_min: f64,
@@ -130,11 +142,10 @@ pub struct BleedDownOutcome {
     pub mean_pressure_bar_g: f64,
     pub operating_pressure_bar_g: f64,
     pub volume_m3: f64,
-    /// "given" or "system_volume".
-    pub volume_source: &'static str,
+    pub volume_source: VolumeSource,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct LoadUnloadOutcome {
     pub compressor: String,
     pub leak_fraction: f64,
@@ -144,7 +155,7 @@ pub struct LoadUnloadOutcome {
     pub rated_flow_m3_min: f64,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct IdleFlowOutcome {
     pub leak_flow_m3_min: f64,
     pub leak_flow_m3_min_low: f64,
@@ -157,7 +168,7 @@ pub struct IdleFlowOutcome {
     pub coverage: f64,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PressureDecayOutcome {
     pub leak_flow_at_start_pressure_m3_min: f64,
     pub fit_r2: f64,
@@ -169,13 +180,13 @@ pub struct PressureDecayOutcome {
     pub operating_pressure_bar_g: f64,
     pub duration_s: f64,
     pub volume_m3: f64,
-    pub volume_source: &'static str,
+    pub volume_source: VolumeSource,
     /// Compressors without a logged power column: their state in the window could not be checked.
     pub unchecked_compressors: Vec<String>,
 }
 
 /// A test's result, serialized flat (the API's `result` object).
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(untagged)]
 pub enum FieldTestResult {
     BleedDown(BleedDownOutcome),
@@ -196,27 +207,6 @@ impl FieldTestResult {
     }
 }
 
-/// Default relative uncertainty (1 standard uncertainty, as a fraction) of a leak estimate by method,
-/// for estimates whose inputs are no longer at hand: bleed-down and pressure decay the volume (±20 %)
-/// with the pressure readings for a 1.5 bar fall; load/unload the rated FAD (±5 %, ISO 1217 capacity
-/// tolerance, from memory) with ±2 s timing on a 200 s cycle (common practice); idle flow the meter.
-pub fn default_relative_uncertainty(method: &str, acc: &Accuracy) -> f64 {
-    match method {
-        "bleed_down" | "pressure_decay" => {
-            let dp = std::f64::consts::SQRT_2 * acc.pressure_abs_bar() / 1.5;
-            quad(&[acc.volume_rel, dp])
-        }
-        "load_unload" => quad(&[0.05, 2.0 / 40.0]),
-        "idle_flow" => acc.flow_rel,
-        _ => quad(&[acc.volume_rel, acc.flow_rel]),
-    }
-}
-
-/// Root sum of squares.
-pub fn quad(parts: &[f64]) -> f64 {
-    parts.iter().map(|x| x * x).sum::<f64>().sqrt()
-}
-
 fn pressure(field: &str, bar_g: f64, site: &SiteAir) -> Result<PressureAbs, FieldError> {
     if !bar_g.is_finite() {
         return Err(err(field, format!("pressure must be a number, got {bar_g}")));
@@ -228,13 +218,13 @@ fn pressure(field: &str, bar_g: f64, site: &SiteAir) -> Result<PressureAbs, Fiel
     Ok(p)
 }
 
-fn volume(field: &str, given: Option<f64>, storage: &StorageSpec) -> Result<(f64, &'static str), FieldError> {
+fn volume(field: &str, given: Option<f64>, storage: &StorageSpec) -> Result<(f64, VolumeSource), FieldError> {
     let (v, src) = match given {
-        Some(v) => (v, "given"),
-        None => (storage.system_volume_m3(), "system_volume"),
+        Some(v) => (v, VolumeSource::Given),
+        None => (storage.system_volume_m3(), VolumeSource::SystemVolume),
     };
     if !(v.is_finite() && v > 0.0) {
-        return Err(err(field, format!("volume must be above 0 m3, got {v} ({src})")));
+        return Err(err(field, format!("volume must be above 0 m3, got {v} ({})", src.as_str())));
     }
     Ok((v, src))
 }
@@ -461,10 +451,6 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
 }
 
 /// Gauge pressure in bar from Pa absolute (a helper for callers building frames in tests and demos).
-pub fn bar_g_to_pa_abs(bar_g: f64, site: &SiteAir) -> f64 {
-    bar_g * PA_PER_BAR + site.atmosphere.0
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -476,9 +462,18 @@ mod tests {
         SiteAir::new(101.325, 20.0)
     }
 
+    /// A result reads back from its JSON as the same variant with the same figures, and writes the
+    /// same JSON again (the application stores results typed).
+    fn assert_json_round_trip(r: &FieldTestResult) {
+        let json = serde_json::to_value(r).unwrap();
+        let back: FieldTestResult = serde_json::from_value(json.clone()).unwrap();
+        assert_eq!(&back, r);
+        assert_eq!(serde_json::to_value(&back).unwrap(), json);
+    }
+
     #[test]
     fn bleed_down_matches_the_doe_worked_example() {
-        // FIELD-NOTES §11 (DOE sourcebook formula): V = 5 ft³, 100 -> 50 psig in 60 min -> 0.354 cfm
+        // US DOE compressed-air sourcebook, leaks fact sheet (worked bleed-down formula): V = 5 ft³, 100 -> 50 psig in 60 min -> 0.354 cfm
         // with the 1.25 factor. The site is at 14.7 psia as the US formula assumes.
         let s = SiteAir::new(14.7 * 6.894_757_293_168, 20.0);
         let psi_in_bar = 6.894_757_293_168 / 100.0;
@@ -494,19 +489,22 @@ mod tests {
         let FieldTestResult::BleedDown(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
         let cfm = |m3_min: f64| m3_min * 35.314_666_7;
         assert!((cfm(r.doe_rule_of_thumb_flow_m3_min) - 0.354).abs() < 0.001, "{r:?}");
-        // Mean flow 5 x 50 / (60 x 14.7) cfm; at the start pressure scaled by 114.7 / 89.7 (FIELD-NOTES §5).
+        // Mean flow 5 x 50 / (60 x 14.7) cfm; at the start pressure scaled by 114.7 / 89.7
+        // (choked leak flow proportional to absolute pressure).
         let mean = 5.0 * 50.0 / (60.0 * 14.7);
         assert!((cfm(r.mean_leak_flow_m3_min) - mean).abs() < 1e-4);
         assert!((cfm(r.leak_flow_m3_min) - mean * 114.7 / 89.7).abs() < 1e-4);
         assert!(r.leak_flow_m3_min_low < r.leak_flow_m3_min && r.leak_flow_m3_min < r.leak_flow_m3_min_high);
+        assert_json_round_trip(&FieldTestResult::BleedDown(r.clone()));
         let json = serde_json::to_value(FieldTestResult::BleedDown(r)).unwrap();
+        assert_eq!(json["volume_source"], "given");
         assert!(json.get("mean_leak_flow_m3_min").is_some());
         assert!(json.get("leak_flow_at_operating_pressure_m3_min").is_some());
     }
 
     #[test]
     fn load_unload_7_5_of_30_min_is_25_percent() {
-        // FIELD-NOTES §11 (DOE sourcebook): 7.5 min on-load in 30 min -> 25 % leakage.
+        // US DOE compressed-air sourcebook, leaks fact sheet: 7.5 min on-load in 30 min -> 25 % leakage.
         let cs = vec![spec("C2", Control::LoadUnload, 55.0, 9.5)];
         let storage = StorageSpec::default();
         let s = site();
@@ -516,6 +514,7 @@ mod tests {
         )
         .unwrap();
         let r = evaluate(&input, &ctx).unwrap();
+        assert_json_round_trip(&r);
         let json = serde_json::to_value(&r).unwrap();
         assert!((json["leak_fraction"].as_f64().unwrap() - 0.25).abs() < 1e-12);
         assert!((r.leak_flow_m3_min() - 0.25 * 9.5).abs() < 1e-12);
@@ -540,7 +539,7 @@ mod tests {
         assert_eq!(evaluate(&bd(7.0, 5.0, 0.0), &ctx).unwrap_err().field, "duration_s");
         // The default volume is the system volume, 2.5 m³.
         let FieldTestResult::BleedDown(r) = evaluate(&bd(7.0, 5.5, 95.0), &ctx).unwrap() else { panic!() };
-        assert_eq!((r.volume_m3, r.volume_source), (2.5, "system_volume"));
+        assert_eq!((r.volume_m3, r.volume_source), (2.5, VolumeSource::SystemVolume));
         let w = FieldTestInput::IdleFlow {
             start: "2026-03-02T06:00:00Z".into(),
             end: "2026-03-02T05:00:00Z".into(),
@@ -560,7 +559,7 @@ mod tests {
     pub(crate) fn decay_frame(s: &SiteAir, tau_s: f64, flow_m3_min: f64, c1_kw: f32) -> Frame {
         let start_ms = 1_772_409_600_000; // 2026-03-02T00:00:00Z
         let grid = Grid { start_ms, step_ms: 10_000, len: 360 };
-        let p0 = bar_g_to_pa_abs(7.0, s);
+        let p0 = PressureAbs::from_bar_g(7.0, s.atmosphere).0;
         let pressure: Vec<f32> =
             (0..360).map(|i| (p0 * (-(i as f64 * 10.0 + 5.0) / tau_s).exp()) as f32).collect();
         let col =
@@ -577,7 +576,7 @@ mod tests {
 
     #[test]
     fn pressure_decay_recovers_the_leak_of_an_exponential_fall() {
-        // Choked leaks flow in proportion to absolute pressure (FIELD-NOTES §5), so p = p0 e^(-t/tau)
+        // Choked leaks flow in proportion to absolute pressure (ideal-gas choked flow), so p = p0 e^(-t/tau)
         // and Q_FAD = V p / (p_atm tau): at 7 bar(g), V = 3 m³, tau = 1200 s -> 3 x 8.01325 / 1200 m³/s.
         let s = site();
         let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
@@ -591,11 +590,12 @@ mod tests {
             operating_pressure_bar_g: None,
         };
         let FieldTestResult::PressureDecay(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
-        let p_start = bar_g_to_pa_abs(7.0, &s) * (-5.0f64 / 1200.0).exp();
+        let p_start = PressureAbs::from_bar_g(7.0, s.atmosphere).0 * (-5.0f64 / 1200.0).exp();
         let expect = 3.0 * p_start / (s.atmosphere.0 * 1200.0) * 60.0;
         assert!((r.leak_flow_at_start_pressure_m3_min - expect).abs() / expect < 1e-3, "{r:?}");
         assert!(r.fit_r2 > 0.999);
         assert!(r.unchecked_compressors.is_empty());
+        assert_json_round_trip(&FieldTestResult::PressureDecay(r.clone()));
         // The same window with C1 loaded is refused.
         let frame = decay_frame(&s, 1200.0, 0.0, 55.0);
         let ctx = FieldTestContext { frame: Some(&frame), ..ctx };
@@ -604,7 +604,7 @@ mod tests {
 
     #[test]
     fn idle_flow_scales_to_the_production_pressure() {
-        // Choked leaks scale with absolute pressure (FIELD-NOTES §5): a flat 1.2 m³/min at the logged
+        // Choked leaks scale with absolute pressure (ideal-gas choked flow): a flat 1.2 m³/min at the logged
         // mean pressure, reported at 7 bar(g).
         let s = site();
         let storage = StorageSpec::default();
@@ -617,7 +617,9 @@ mod tests {
         };
         let FieldTestResult::IdleFlow(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
         assert!((r.mean_flow_m3_min - 1.2).abs() < 1e-6);
-        let expect = 1.2 * bar_g_to_pa_abs(6.0, &s) / bar_g_to_pa_abs(7.0, &s);
+        assert_json_round_trip(&FieldTestResult::IdleFlow(r.clone()));
+        let expect =
+            1.2 * PressureAbs::from_bar_g(6.0, s.atmosphere).0 / PressureAbs::from_bar_g(7.0, s.atmosphere).0;
         assert!((r.leak_flow_m3_min - expect).abs() < 1e-5, "{r:?}");
         assert_eq!(r.coverage, 1.0);
     }

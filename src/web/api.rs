@@ -354,7 +354,7 @@ pub async fn put_cost(
     ApiJson(body): ApiJson<CostBody>,
 ) -> Result<Response, AppError> {
     service::bundle(&st.db, id).await?;
-    if !crate::core::recommend::KINDS.contains(&kind.as_str()) {
+    if crate::core::recommend::MeasureKind::parse(&kind).is_none() {
         return Err(AppError::field("kind", format!("unknown recommendation kind {kind:?}")));
     }
     if let Some(c) = body.implementation_cost {

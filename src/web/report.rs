@@ -14,9 +14,9 @@ use sqlx::SqlitePool;
 use super::error::AppError;
 use super::pages::{render, PageError};
 use super::AppState;
-use crate::core::display::{num, Fmt};
+use crate::core::display::{num, render_parts, Fmt};
 use crate::core::model::human_label;
-use crate::core::recommend::{self, Text};
+use crate::core::recommend::Text;
 use crate::core::units::{UnitSystem, M3_PER_FT3, PA_PER_PSI};
 use crate::service::{self, AuditBundle};
 use crate::store::audits::Audit;
@@ -272,9 +272,8 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
             // The words in parts, each figure in the reader's units (every cached summary has
             // them: summaries are cached per build, `service::build_id`).
             let t: Text = serde_json::from_value(r["text"].clone()).unwrap_or_default();
-            let (title, description) =
-                (recommend::render(&t.title, fmt), recommend::render(&t.description, fmt));
-            let basis = t.basis.iter().map(|b| recommend::render(b, fmt)).collect();
+            let (title, description) = (render_parts(&t.title, fmt), render_parts(&t.description, fmt));
+            let basis = t.basis.iter().map(|b| render_parts(b, fmt)).collect();
             RecView {
                 rank: i + 1,
                 kind: s(r, "kind").into(),
