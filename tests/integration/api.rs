@@ -49,7 +49,8 @@ fn an_audit_takes_documented_site_defaults_and_the_iso_2533_atmosphere() {
     assert_eq!(r.status, 201);
     let id = r.json()["id"].as_i64().unwrap();
     let a = s.get(&format!("/api/v1/audits/{id}")).json();
-    // ASHRAE Fundamentals ch. 1 eq. 3 (ISO 2533): 1000 m -> 89.875 kPa (FIELD-NOTES §11).
+    // ASHRAE Handbook Fundamentals ch. 1 eq. 3 (the ISO 2533 standard atmosphere):
+    // p = 101.325 (1 - 2.25577e-5 Z)^5.2559 kPa, 1000 m -> 89.875 kPa.
     let p = a["site"]["atmospheric_pressure_kpa_abs"].as_f64().unwrap();
     assert!((p - 89.875).abs() < 0.01, "{p}");
     assert_eq!(a["site"]["inlet_temperature_c"], 20.0);
@@ -164,7 +165,8 @@ fn pages_edit_the_site_and_equipment_and_escape_what_people_type() {
     assert_eq!(a["storage"]["system_volume_m3"], 3.0);
     assert_eq!(a["compressors"][0]["power_curve"], json!([[5.0, 35.0], [10.0, 60.0], [15.0, 90.0]]));
     let page = s.get(&format!("/audits/{id}")).text;
-    // 15 m³/min = 529.7 cfm, shown to three figures (1 m³/min = 35.3147 cfm, FIELD-NOTES §2).
+    // 15 m³/min = 529.7 cfm, shown to three figures (1 ft = 0.3048 m exactly, NIST SP 811:
+    // 1 m³/min = 35.3147 ft³/min).
     assert!(page.contains("530 cfm free air"), "US units on the page");
     // A bad form value re-shows the page with the reason, 422.
     let r = agent

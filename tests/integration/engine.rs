@@ -94,8 +94,8 @@ fn demo_summary_matches_the_simulation_truth() {
     let air = num(&sum, "/system/air_m3");
     assert!(rel_err(air, t.air_m3).abs() < 0.02, "air {air} m³ vs simulation {} m³", t.air_m3);
 
-    // Specific power. Truth: simulated energy over simulated air (kW / (m³/min) = kWh·60 / m³,
-    // FIELD-NOTES §3). 3 %: the energy (1 %) and air (2 %) tolerances combined, and the server's
+    // Specific power. Truth: simulated energy over simulated air (package input power over free air
+    // delivery, as ISO 1217 defines specific energy; kW / (m³/min) = kWh·60 / m³). 3 %: the energy (1 %) and air (2 %) tolerances combined, and the server's
     // figure counts only intervals where both power and flow were logged.
     let sp_truth = system_kwh * 60.0 / t.air_m3;
     let sp = num(&sum, "/system/specific_power_kw_per_m3_min");
@@ -104,7 +104,7 @@ fn demo_summary_matches_the_simulation_truth() {
     // Loaded fractions of the load/unload machines. Truth: the simulation's share of 0.5 s steps
     // delivering air. 0.03: the server reads states from 5 s mean power, so each load and unload edge
     // can move by one bin, and the 20 s blow-down after unloading starts at 65 % of full power, above
-    // nothing but still below the loaded threshold (FIELD-NOTES §4).
+    // nothing but still below the loaded threshold (reading states from a power log: common practice).
     for tag in ["C1", "C2"] {
         let want = truth_value(&t.loaded_fraction_by_compressor, tag);
         let got = num(compressor(&sum, tag), "/loaded_fraction");
@@ -216,8 +216,8 @@ fn demo_maintenance_stop_is_proposed_and_recovers_the_simulated_leak() {
     let res = &rec["result"];
     // The demo loader stored the plant's volumes: truth receivers + other volume.
     assert!((num(res, "/volume_m3") - t.system_volume_m3).abs() < 1e-9, "{res}");
-    // Leak flow at the fit's start pressure, scaled to 7 bar(g) with flow ∝ p_abs (choked orifice,
-    // FIELD-NOTES §5). Truth: the simulation's leak coefficient at 7 bar(g). 10 %: a fit of 10 s
+    // Leak flow at the fit's start pressure, scaled to 7 bar(g) with flow ∝ p_abs (choked orifice
+    // flow is proportional to the upstream absolute pressure: API 520 Part I's gas sizing equation). Truth: the simulation's leak coefficient at 7 bar(g). 10 %: a fit of 10 s
     // readings with 0.004 bar noise, over 30 min of an exponential decay, with the volume exactly
     // known here (in the field the volume, ±20 %, dominates).
     let q_start = num(res, "/leak_flow_at_start_pressure_m3_min");
@@ -359,14 +359,15 @@ fn reference(name: &str) -> Value {
     all["values"].get(name).cloned().unwrap_or_else(|| panic!("fixture has no {name}"))
 }
 
-/// m³/min to ft³/min (FIELD-NOTES §2: 1 m³/min = 35.3147 cfm).
+/// m³/min to ft³/min: 1 ft = 0.3048 m exactly (NIST SP 811, appendix B), so 1 m³/min = 35.3147 cfm.
 const CFM_PER_M3_MIN: f64 = 35.3147;
 
 #[test]
 fn orifice_leak_reproduces_the_published_discharge_table() {
     let s = Server::start();
-    // FIELD-NOTES §5: "discharge of air through an orifice", coefficient 1.0, free air at 14.7 psia,
-    // 100 psig: 1/64" 0.406, 1/32" 1.62, 1/16" 6.49, 1/8" 26.0, 1/4" 104 cfm. 100 psig = 6.894757
+    // The table of leakage rates through orifices of the US DOE sourcebook "Improving Compressed Air
+    // System Performance: A Sourcebook for Industry", leaks fact sheet (attribution from memory; the
+    // values as quoted there), coefficient 1.0, free air at 14.7 psia, 100 psig: 1/64" 0.406, 1/32" 1.62, 1/16" 6.49, 1/8" 26.0, 1/4" 104 cfm. 100 psig = 6.894757
     // bar(g); 14.7 psia = 101.353 kPa; 20 °C inlet as the table's standard air (from memory). 1.5 %:
     // the table's three significant figures.
     for (inch, cfm) in [(64.0, 0.406), (32.0, 1.62), (16.0, 6.49), (8.0, 26.0), (4.0, 104.0)] {
@@ -380,7 +381,7 @@ fn orifice_leak_reproduces_the_published_discharge_table() {
         let got = num(&r.json(), "/leak_flow_m3_min") * CFM_PER_M3_MIN;
         assert!(rel_err(got, cfm).abs() < 0.015, "1/{inch}\": {got} cfm vs table {cfm} cfm");
     }
-    // FIELD-NOTES §5: at 70 psig (4.826330 bar(g)) 1/16" 4.79 cfm.
+    // The same table: at 70 psig (4.826330 bar(g)) 1/16" 4.79 cfm.
     let r = s.post_json(
         "/api/v1/calc/orifice-leak",
         &json!({"diameter_mm": 25.4 / 16.0, "pressure_bar_g": 4.826330, "discharge_coefficient": 1.0,
@@ -427,7 +428,8 @@ fn compression_calculator_matches_the_isothermal_formula_and_the_fixture() {
     );
     assert_eq!(r.status, 200, "{}", r.text);
     let c = r.json();
-    // Isothermal power p1 V1 ln(p2/p1) (API.md, FIELD-NOTES §7), with p2 = 7 bar(g) on the inlet's
+    // Isothermal power p1 V1 ln(p2/p1) (API.md; the ideal-gas isothermal work that fluids 1.3.1
+    // `isothermal_work_compression` computes), with p2 = 7 bar(g) on the inlet's
     // 101.325 kPa atmosphere, V1 = 10 m³/min. 0.1 %.
     let (p1, v1): (f64, f64) = (101_325.0, 10.0 / 60.0);
     let p2 = 7e5 + p1;
@@ -553,7 +555,8 @@ fn metropt3_states_and_decay_follow_the_datasets_own_signals() {
     let id = r.json()["id"].as_i64().expect("id");
     let r = s.post_json(
         &format!("/api/v1/audits/{id}/compressors"),
-        // Flow: about 0.5 m³/min for 3.6 kW (specific power ~7 kW/(m³/min), FIELD-NOTES §3); the
+        // Flow: about 0.5 m³/min for 3.6 kW (specific power ~7 kW/(m³/min), an assumption: the upper
+        // end of what small lubricated screws draw near 7 bar, common practice); the
         // unit unloads at about 10 bar(g) in the data.
         &json!({"tag": "APU", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
                 "rated_power_kw": RATED_KW, "rated_flow_m3_min": 0.5, "rated_pressure_bar_g": 10.0,
@@ -650,7 +653,7 @@ fn metropt3_states_and_decay_follow_the_datasets_own_signals() {
     // with COMP already 0, which the server reads as unloaded; the motor is at ~0.04 A before it.)
     // Its leak flow against the receiver equation evaluated here on the raw rows of the window:
     // Q(p0) = V p0,abs k / p_atm with k the least-squares slope of -ln p_abs against t (the flow of
-    // choked leaks ∝ p_abs, FIELD-NOTES §5), with the same assumed volume. 5 %: the server fits its
+    // choked leaks ∝ p_abs, API 520 Part I's gas sizing equation), with the same assumed volume. 5 %: the server fits its
     // own bins of the same readings (2 mbar resolution on a 1.3 bar fall).
     let atm_bar = 1.01325;
     let win: Vec<(f64, f64)> = rows
