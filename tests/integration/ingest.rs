@@ -151,8 +151,11 @@ fn assert_unprocessable(
     );
 }
 
+/// Every class of bad input is refused whole (422, the database unchanged), naming the line and
+/// column where the fault has one; the mapping's faults (a missing column, an unknown unit or
+/// compressor) have neither.
 #[test]
-fn each_bad_input_class_names_its_line_and_column_and_stores_nothing() {
+fn each_bad_input_class_is_refused_whole_naming_its_line_and_column_if_any() {
     let s = Server::start();
     let id = s.audit_with_compressor("C1");
     let m = cycling_mapping();
