@@ -2,14 +2,23 @@
 
 use crate::support::*;
 
+/// Every page of an audit (the routes of `src/web/mod.rs` that answer GET with HTML), for audit 1.
+const DEMO_PAGES: [&str; 7] = [
+    "/",
+    "/audits/1",
+    "/audits/1/upload",
+    "/audits/1/report",
+    "/audits/1/findings",
+    "/audits/1/tests",
+    "/audits/1/scenarios",
+];
+
 #[test]
 fn the_demo_serves_every_page_and_lists_its_audit() {
     // Arrange
     let s = Server::demo();
     // Act + Assert: every page answers 200 with HTML.
-    for p in
-        ["/", "/audits/1", "/audits/1/report", "/audits/1/findings", "/audits/1/upload", "/audits/1/tests"]
-    {
+    for p in DEMO_PAGES {
         let r = s.get(p);
         assert_eq!(r.status, 200, "{p}: {}", r.text);
         assert!(r.content_type.starts_with("text/html"), "{p}: {}", r.content_type);
@@ -49,7 +58,8 @@ fn an_audit_takes_documented_site_defaults_and_the_iso_2533_atmosphere() {
     assert_eq!(r.status, 201);
     let id = r.json()["id"].as_i64().unwrap();
     let a = s.get(&format!("/api/v1/audits/{id}")).json();
-    // ASHRAE Fundamentals ch. 1 eq. 3 (ISO 2533): 1000 m -> 89.875 kPa (FIELD-NOTES §11).
+    // ASHRAE Handbook Fundamentals ch. 1 eq. 3 (the ISO 2533 standard atmosphere):
+    // p = 101.325 (1 - 2.25577e-5 Z)^5.2559 kPa, 1000 m -> 89.875 kPa.
     let p = a["site"]["atmospheric_pressure_kpa_abs"].as_f64().unwrap();
     assert!((p - 89.875).abs() < 0.01, "{p}");
     assert_eq!(a["site"]["inlet_temperature_c"], 20.0);
@@ -164,7 +174,8 @@ fn pages_edit_the_site_and_equipment_and_escape_what_people_type() {
     assert_eq!(a["storage"]["system_volume_m3"], 3.0);
     assert_eq!(a["compressors"][0]["power_curve"], json!([[5.0, 35.0], [10.0, 60.0], [15.0, 90.0]]));
     let page = s.get(&format!("/audits/{id}")).text;
-    // 15 m³/min = 529.7 cfm, shown to three figures (1 m³/min = 35.3147 cfm, FIELD-NOTES §2).
+    // 15 m³/min = 529.7 cfm, shown to three figures (1 ft = 0.3048 m exactly, NIST SP 811:
+    // 1 m³/min = 35.3147 ft³/min).
     assert!(page.contains("530 cfm free air"), "US units on the page");
     // A bad form value re-shows the page with the reason, 422.
     let r = agent
@@ -296,10 +307,60 @@ fn a_token_guards_every_page_and_endpoint_and_a_cookie_signs_in() {
     let r = s.get("/api/v1/audits");
     assert_eq!(r.status, 401);
     assert!(r.json()["error"]["message"].as_str().unwrap().contains("token"));
-    assert_eq!(s.get("/").status, 401);
     assert_eq!(s.get("/static/css/app.css").status, 200);
     let agent: ureq::Agent =
         ureq::Agent::config_builder().http_status_as_error(false).max_redirects(0).build().into();
+    // Every route of `src/web/mod.rs` with each of its methods, without the token: 401 (before any
+    // 404 or 422 of its own), and nothing is stored.
+    let mut routes: Vec<(&str, String)> = DEMO_PAGES.iter().map(|p| ("GET", p.to_string())).collect();
+    for p in ["/audits", "/audits/1/site", "/audits/1/compressors", "/audits/1/compressors/1/delete"] {
+        routes.push(("POST", p.into()));
+    }
+    for p in ["/audits/1/receivers", "/audits/1/receivers/1/delete"] {
+        routes.push(("POST", p.into()));
+    }
+    let api = [
+        ("GET", "/audits"),
+        ("POST", "/audits"),
+        ("GET", "/audits/1"),
+        ("PATCH", "/audits/1"),
+        ("POST", "/audits/1/compressors"),
+        ("PUT", "/audits/1/compressors/1"),
+        ("DELETE", "/audits/1/compressors/1"),
+        ("POST", "/audits/1/receivers"),
+        ("DELETE", "/audits/1/receivers/1"),
+        ("GET", "/audits/1/uploads"),
+        ("POST", "/audits/1/uploads"),
+        ("POST", "/audits/1/sniff"),
+        ("GET", "/imports/some-token"),
+        ("GET", "/audits/1/summary"),
+        ("GET", "/audits/1/channels"),
+        ("GET", "/audits/1/series"),
+        ("GET", "/audits/1/field-tests"),
+        ("POST", "/audits/1/field-tests"),
+        ("DELETE", "/audits/1/field-tests/1"),
+        ("GET", "/audits/1/decay-events"),
+        ("PUT", "/audits/1/costs/repair_leaks"),
+        ("GET", "/audits/1/scenarios"),
+        ("POST", "/audits/1/scenarios"),
+        ("POST", "/calc/orifice-leak"),
+        ("POST", "/calc/compression"),
+        ("GET", "/no-such-endpoint"),
+    ];
+    routes.extend(api.iter().map(|(m, p)| (*m, format!("/api/v1{p}"))));
+    for (method, path) in &routes {
+        let url = s.url(path);
+        let r = match *method {
+            "GET" => agent.get(&url).call(),
+            "DELETE" => agent.delete(&url).header("Origin", &s.base).call(),
+            "POST" => agent.post(&url).header("Origin", &s.base).send_json(json!({"name": "planted"})),
+            "PUT" => agent.put(&url).header("Origin", &s.base).send_json(json!({"implementation_cost": 1})),
+            "PATCH" => agent.patch(&url).header("Origin", &s.base).send_json(json!({"name": "planted"})),
+            m => unreachable!("{m}"),
+        };
+        let status = r.unwrap_or_else(|e| panic!("{method} {path}: {e}")).status().as_u16();
+        assert_eq!(status, 401, "{method} {path} without the token");
+    }
     // A bearer token opens the API; a wrong one does not.
     let ok =
         agent.get(&s.url("/api/v1/audits")).header("Authorization", "Bearer plant-floor-7").call().unwrap();
@@ -320,6 +381,10 @@ fn a_token_guards_every_page_and_endpoint_and_a_cookie_signs_in() {
     let pair = cookie.split(';').next().unwrap();
     let page = agent.get(&s.url("/")).header("Cookie", pair).call().unwrap();
     assert_eq!(page.status().as_u16(), 200);
+    // Nothing of the refused writes above was stored.
+    let list = agent.get(&s.url("/api/v1/audits")).header("Cookie", pair).call().unwrap();
+    let list: Value = serde_json::from_str(&list.into_body().read_to_string().unwrap()).unwrap();
+    assert_eq!(list["audits"].as_array().map(Vec::len), Some(0), "{list}");
     let r = agent.post(&s.url("/login")).header("Origin", &s.base).send_form([("token", "guess")]).unwrap();
     assert_eq!(r.status().as_u16(), 401);
 }

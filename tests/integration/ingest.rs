@@ -151,8 +151,11 @@ fn assert_unprocessable(
     );
 }
 
+/// Every class of bad input is refused whole (422, the database unchanged), naming the line and
+/// column where the fault has one; the mapping's faults (a missing column, an unknown unit or
+/// compressor) have neither.
 #[test]
-fn each_bad_input_class_names_its_line_and_column_and_stores_nothing() {
+fn each_bad_input_class_is_refused_whole_naming_its_line_and_column_if_any() {
     let s = Server::start();
     let id = s.audit_with_compressor("C1");
     let m = cycling_mapping();
@@ -291,8 +294,59 @@ fn the_cli_imports_through_the_same_path() {
     assert!(text.contains("360 rows, 1080 readings"), "{text}");
     let again = run();
     assert!(String::from_utf8_lossy(&again.stdout).contains("already imported"));
+    // The same path as an upload: the server sees the CLI's readings, and the same bytes sent over
+    // HTTP are the duplicate of the CLI's upload.
+    let s = Server::start_on(TempDir::new("cli-srv2"), db.clone(), &["serve"], &[]);
+    assert_eq!(readings(&s, 1), 360 * 3);
+    let r = s.upload(1, "c.csv", cycling_csv(1).as_bytes(), &cycling_mapping(), "");
+    assert_eq!(r.status, 200, "{}", r.text);
+    assert_eq!(r.json()["duplicate"], true, "{}", r.text);
+    assert_eq!(readings(&s, 1), 360 * 3);
 }
 
+/// One answer of `GET /api/v1/imports/{token}`: the state, and whether the import is still
+/// parsing (`bytes_done < bytes_total`; the parser reports the file's full length when it reaches
+/// the end, and the import holds its slot and commits nothing until after that).
+struct Progress {
+    state: String,
+    done: f64,
+    total: f64,
+}
+
+impl Progress {
+    fn of(s: &Server, token: &str) -> Self {
+        let p = s.get(&format!("/api/v1/imports/{token}")).json();
+        Self {
+            state: p["state"].as_str().unwrap_or("").to_string(),
+            done: p["bytes_done"].as_f64().unwrap_or(0.0),
+            total: p["bytes_total"].as_f64().unwrap_or(0.0),
+        }
+    }
+    fn parsing(&self) -> bool {
+        self.state == "importing" && self.done < self.total
+    }
+}
+
+/// Poll `f` every 5 ms until it answers `Some`, for at most `secs` seconds.
+fn poll<T>(secs: u64, mut f: impl FnMut() -> Option<T>) -> Option<T> {
+    let end = std::time::Instant::now() + std::time::Duration::from_secs(secs);
+    while std::time::Instant::now() < end {
+        if let Some(v) = f() {
+            return Some(v);
+        }
+        std::thread::sleep(std::time::Duration::from_millis(5));
+    }
+    None
+}
+
+/// The server is killed while an import is writing; restarted on the same file it shows no part of
+/// that upload, and the file then imports whole.
+///
+/// That the kill lands mid-import is checked, not hoped for: the test kills only after seeing the
+/// import a quarter to three quarters through the file and still parsing (it commits nothing before
+/// the end of the file), and then requires that the upload never got its answer. If the import
+/// finished first (a machine much faster than this file is long), the test fails saying so; it
+/// never passes without having killed an import in flight.
 #[test]
 fn a_server_killed_during_an_import_leaves_no_partial_upload() {
     let dir = TempDir::new("kill");
@@ -311,20 +365,27 @@ fn a_server_killed_during_an_import_leaves_no_partial_upload() {
         body.extend_from_slice(&bytes);
         body.extend_from_slice(format!("\r\n--{boundary}--\r\n").as_bytes());
         let agent: ureq::Agent = ureq::Agent::config_builder().http_status_as_error(false).build().into();
-        let _ = agent
+        agent
             .post(&format!("{base}/api/v1/audits/{id}/uploads?token=killtest"))
             .header("Content-Type", &format!("multipart/form-data; boundary={boundary}"))
-            .send(&body[..]);
+            .send(&body[..])
+            .map(|r| r.status().as_u16())
     });
     // Wait until the import is under way (a quarter of the file parsed), then SIGKILL.
-    let started = wait_until(std::time::Duration::from_secs(120), || {
-        let p = s.get("/api/v1/imports/killtest").json();
-        p["state"] == "importing"
-            && p["bytes_done"].as_f64().unwrap_or(0.0) > 0.25 * p["bytes_total"].as_f64().unwrap_or(1.0)
+    let seen = poll(120, || {
+        let p = Progress::of(&s, "killtest");
+        (p.parsing() && p.done >= 0.25 * p.total).then_some(p)
     });
-    assert!(started, "the import never started writing");
+    let seen = seen.unwrap_or_else(|| panic!("the import was never seen a quarter through the file"));
     s.kill();
-    let _ = uploader.join();
+    assert!(
+        seen.done <= 0.75 * seen.total,
+        "the import was first seen {:.0} % through: make the file longer so that the kill lands well \
+         before its end",
+        100.0 * seen.done / seen.total
+    );
+    let answer = uploader.join().expect("uploader thread");
+    assert!(answer.is_err(), "the upload was answered ({answer:?}): the import ended before the kill");
     // Restart on the same file: integrity ok, no partial upload, and the file imports whole.
     let dir2 = TempDir::new("kill2");
     let s2 = Server::start_on(dir2, db.clone(), &["serve"], &[]);
@@ -398,67 +459,78 @@ fn concurrent_uploads_to_one_audit_neither_interleave_nor_double() {
     assert!((e / hours - 22.4).abs() < 0.2, "{e} kWh over {hours} h");
 }
 
+/// The server runs at most two imports at once: a third waits for a slot, and the report of another
+/// audit is answered while imports write.
+///
+/// Observed by construction rather than by a race. Two big files (A, B) are sent first and each is
+/// seen parsing; only then is a small third file (C) sent. C is seen `waiting` between two readings
+/// of A and of B that both say "still parsing": an import holds its slot from its first byte to past
+/// its last, so A and B held both slots throughout, and C's `waiting` is the queue, not a slot taken
+/// but not yet begun. The same bracket (parsing before the request, parsing after its answer) proves
+/// each report counted was answered while an import ran. If A or B ends before the observations are
+/// made, the test fails asking for bigger files; it cannot pass without having seen them.
 #[test]
 fn big_imports_queue_past_the_cap_and_reports_are_answered_meanwhile() {
     let s = Server::demo();
     let ids: Vec<i64> = (0..3).map(|_| s.audit_with_compressor("C1")).collect();
-    let rows = 400_000i64;
-    let csv = big_csv(rows);
+    let rows = 600_000i64;
+    let big = big_csv(rows);
+    let small = cycling_csv(1);
     let report_before = s.get("/audits/1/report");
     assert_eq!(report_before.status, 200);
-    let mut seen_waiting = false;
-    let mut answered_while_importing = 0;
-    let mut errors = 0;
-    let results = std::thread::scope(|sc| {
-        let handles: Vec<_> = ids
-            .iter()
-            .map(|&id| {
-                let s = &s;
-                let csv = &csv;
-                sc.spawn(move || {
-                    s.upload(id, "big.csv", csv.as_bytes(), &cycling_mapping(), &format!("?token=cap{id}"))
-                })
-            })
-            .collect();
-        let states = |s: &Server| -> Vec<String> {
-            ids.iter()
-                .map(|id| {
-                    s.get(&format!("/api/v1/imports/cap{id}")).json()["state"]
-                        .as_str()
-                        .unwrap_or("")
-                        .to_string()
-                })
-                .collect()
-        };
-        loop {
-            let st = states(&s);
-            if st.iter().all(|x| x == "unknown") && handles.iter().all(|h| h.is_finished()) {
-                break;
+    let token = |i: usize| format!("cap{}", ids[i]);
+    let send = |i: usize, file: &str| {
+        s.upload(
+            ids[i],
+            &format!("file{i}.csv"),
+            file.as_bytes(),
+            &cycling_mapping(),
+            &format!("?token={}", token(i)),
+        )
+    };
+    let parsing = |i: usize| Progress::of(&s, &token(i)).parsing();
+    let (results, c_waited, answered_while_importing) = std::thread::scope(|sc| {
+        let a = sc.spawn(|| send(0, &big));
+        let b = sc.spawn(|| send(1, &big));
+        for i in [0, 1] {
+            let seen = poll(120, || parsing(i).then_some(()));
+            assert!(seen.is_some(), "big import {i} was never seen parsing");
+        }
+        let c = sc.spawn(|| send(2, &small));
+        let c_waited = poll(120, || {
+            let c_state = Progress::of(&s, &token(2)).state;
+            match c_state.as_str() {
+                "waiting" => Some(parsing(0) && parsing(1)),
+                "unknown" if !c.is_finished() => None, // still being sent
+                _ => Some(false),                      // C got a slot or ended: A or B was over
             }
-            let importing = st.iter().filter(|x| *x == "importing").count();
-            assert!(importing <= 2, "at most two imports run at once: {st:?}");
-            if importing == 2 && st.iter().any(|x| x == "waiting") {
-                seen_waiting = true;
-            }
-            // The report of another audit, asked for while the imports write.
+        });
+        let mut answered = 0;
+        while answered < 5 && (parsing(0) || parsing(1)) {
+            let i = if parsing(0) { 0 } else { 1 };
             let r = s.get("/audits/1/report");
-            if r.status != 200 {
-                errors += 1;
-            } else if states(&s).iter().any(|x| x == "importing") {
-                answered_while_importing += 1;
+            assert_eq!(r.status, 200, "the report while importing: {}", r.text);
+            if parsing(i) {
+                answered += 1;
             }
         }
-        handles.into_iter().map(|h| h.join().unwrap()).collect::<Vec<_>>()
+        let results: Vec<_> = [a, b, c].into_iter().map(|h| h.join().unwrap()).collect();
+        (results, c_waited, answered)
     });
-    for r in &results {
-        assert_eq!(r.status, 201, "{}", r.text);
-        assert_eq!(r.json()["readings"], rows * 3);
+    for (i, r) in results.iter().enumerate() {
+        assert_eq!(r.status, 201, "import {i}: {}", r.text);
+        let want = if i < 2 { rows * 3 } else { 360 * 3 };
+        assert_eq!(r.json()["readings"], want, "import {i}");
     }
-    assert_eq!(errors, 0);
-    assert!(seen_waiting, "the third import was never seen waiting for a slot");
+    assert_eq!(
+        c_waited,
+        Some(true),
+        "the third import was not seen waiting while both big ones parsed (None: never seen at all): \
+         make the big files bigger"
+    );
     assert!(
         answered_while_importing >= 3,
-        "only {answered_while_importing} reports answered during the imports"
+        "only {answered_while_importing} reports seen answered while an import parsed: make the big files bigger"
     );
 }
 

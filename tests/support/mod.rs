@@ -285,3 +285,23 @@ pub fn cycling_mapping() -> Value {
                        {"column": "header bar", "quantity": "pressure", "unit": "bar_g"},
                        {"column": "flow m3/min", "quantity": "flow", "unit": "m3_min"}]})
 }
+
+/// The bytes of `name` in the folder of real logger files named by `AIRLEDGER_REAL_DATA` (read at
+/// run time, else the value it had when the tests were built). Such files are other people's data
+/// and never part of this repository; the tests that read them are `#[ignore]`d unless the variable
+/// was set at build time (`build.rs`), and fail here, naming the path, when the file is not there.
+pub fn real_data_file(name: &str) -> Vec<u8> {
+    let dir = std::env::var_os("AIRLEDGER_REAL_DATA")
+        .filter(|v| !v.is_empty())
+        .map(PathBuf::from)
+        .or_else(|| option_env!("AIRLEDGER_REAL_DATA").filter(|v| !v.is_empty()).map(PathBuf::from))
+        .unwrap_or_else(|| {
+            panic!(
+                "AIRLEDGER_REAL_DATA is not set: set it to the folder of real logger files (../shared/data)"
+            )
+        });
+    let path = dir.join(name);
+    std::fs::read(&path).unwrap_or_else(|e| {
+        panic!("cannot read {} (AIRLEDGER_REAL_DATA={}): {e}", path.display(), dir.display())
+    })
+}
