@@ -343,6 +343,31 @@ mod tests {
     }
 
     #[test]
+    fn known_chunks_encode_to_the_bytes_of_the_documented_layout() {
+        // By hand from the layout in the module doc. Regular times, decimal values at f32:
+        // version 1, flags 0 (deflate would not be shorter), n = 3, t0 = 1000 (zigzag 2000 =
+        // d0 0f), mode 0, step 1000 (e8 07), precision 0, coding 0, d = 1, deltas of 15, 25, -5:
+        // 15, 10, -30 (zigzag 30, 20, 59).
+        let blob = encode(&[1000, 2000, 3000], &[1.5, 2.5, -0.5], Precision::F32);
+        assert_eq!(
+            blob,
+            [0x01, 0x00, 0x03, 0xd0, 0x0f, 0x00, 0xe8, 0x07, 0x00, 0x00, 0x01, 0x1e, 0x14, 0x3b]
+        );
+        // Irregular times (delta-of-delta 10, 10: zigzag 20, 20) and a value with no short decimal
+        // form, 2^-20, whose f32 bits are 0x3580_0000 (IEEE 754 binary32: exponent 127 - 20 = 0x6b,
+        // mantissa 0): ordered-bits coding, the first delta zigzag 0x6b00_0000 (80 80 80 d8 06),
+        // then 0, 0.
+        let v = 2f64.powi(-20);
+        let blob = encode(&[0, 10, 30], &[v, v, v], Precision::F32);
+        assert_eq!(
+            blob,
+            [0x01, 0x00, 0x03, 0x00, 0x01, 0x14, 0x14, 0x00, 0x01, 0x80, 0x80, 0x80, 0xd8, 0x06, 0x00, 0x00]
+        );
+        let (t, back) = round_trip(&[0, 10, 30], &[v, v, v], Precision::F32);
+        assert_eq!((t, back), (vec![0, 10, 30], vec![v, v, v]));
+    }
+
+    #[test]
     fn a_damaged_blob_is_an_error_not_a_panic() {
         let blob = encode(&[1, 2, 3], &[1.0, 2.0, 3.0], Precision::F32);
         for cut in 0..blob.len() {

@@ -174,6 +174,22 @@ mod tests {
     use super::*;
 
     #[test]
+    fn a_known_day_encodes_to_the_bytes_of_the_documented_layout() {
+        // By hand from the layout in the module doc: count 1; minute 1 of the day, a delta of 2
+        // from the start value -1; n = 2; min 1.0 and max 3.0 as little-endian IEEE 754 binary32
+        // (3f800000, 40400000); sum 4.0 as binary64 (4010000000000000).
+        let day =
+            MinuteDay { day_ms: 0, minutes: vec![(60_000, Acc { n: 2, min: 1.0, max: 3.0, sum: 4.0 })] };
+        let blob = encode_day(&day);
+        let mut want = vec![0x01, 0x02, 0x02, 0x00, 0x00, 0x80, 0x3f, 0x00, 0x00, 0x40, 0x40];
+        want.extend_from_slice(&[0, 0, 0, 0, 0, 0, 0x10, 0x40]);
+        assert_eq!(blob, want);
+        let mut back = vec![];
+        decode_day(0, &blob, |m, a| back.push((m, a))).unwrap();
+        assert_eq!(back, day.minutes);
+    }
+
+    #[test]
     fn minute_and_hour_buckets_hold_exact_counts_and_means_across_midnight() {
         // 1 s readings from 23:30 to 00:30 UTC: 3600 readings, 60 minutes, 2 hours, 2 days.
         let start = 1_772_407_800_000i64; // 2026-03-01T23:30:00Z
