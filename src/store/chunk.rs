@@ -24,6 +24,8 @@ or two bytes; deflate then takes out what repeats.
 use miniz_oxide::deflate::compress_to_vec;
 use miniz_oxide::inflate::decompress_to_vec_with_limit;
 
+use super::varint::{self, VarintError};
+
 /// Readings per chunk: large enough that per-row overhead vanishes, small enough to decode fast.
 pub const CHUNK_READINGS: usize = 8192;
 
@@ -41,25 +43,16 @@ pub enum ChunkError {
     Corrupt(&'static str),
 }
 
-fn put_varint(out: &mut Vec<u8>, mut v: u64) {
-    while v >= 0x80 {
-        out.push((v as u8) | 0x80);
-        v >>= 7;
-    }
-    out.push(v as u8);
-}
-
-fn zigzag(v: i64) -> u64 {
-    ((v << 1) ^ (v >> 63)) as u64
-}
-
-fn unzigzag(v: u64) -> i64 {
-    ((v >> 1) as i64) ^ -((v & 1) as i64)
-}
-
 struct Reader<'a> {
     buf: &'a [u8],
     pos: usize,
+}
+
+fn corrupt(e: VarintError) -> ChunkError {
+    match e {
+        VarintError::Truncated => ChunkError::Corrupt("truncated"),
+        VarintError::TooLong => ChunkError::Corrupt("varint too long"),
+    }
 }
 
 impl Reader<'_> {
@@ -69,22 +62,10 @@ impl Reader<'_> {
         Ok(b)
     }
     fn varint(&mut self) -> Result<u64, ChunkError> {
-        let mut v = 0u64;
-        let mut shift = 0;
-        loop {
-            let b = self.u8()?;
-            if shift > 63 {
-                return Err(ChunkError::Corrupt("varint too long"));
-            }
-            v |= u64::from(b & 0x7f) << shift;
-            if b & 0x80 == 0 {
-                return Ok(v);
-            }
-            shift += 7;
-        }
+        varint::get(self.buf, &mut self.pos).map_err(corrupt)
     }
     fn svarint(&mut self) -> Result<i64, ChunkError> {
-        self.varint().map(unzigzag)
+        varint::get_signed(self.buf, &mut self.pos).map_err(corrupt)
     }
 }
 
@@ -136,17 +117,17 @@ fn decimal_scale(values: &[f64], precision: Precision) -> Option<u32> {
 }
 
 fn encode_times(out: &mut Vec<u8>, times: &[i64]) {
-    put_varint(out, zigzag(times[0]));
+    varint::put_signed(out, times[0]);
     let step = if times.len() > 1 { times[1] - times[0] } else { 0 };
     if step >= 0 && times.windows(2).all(|w| w[1] - w[0] == step) {
         out.push(0);
-        put_varint(out, step as u64);
+        varint::put(out, step as u64);
     } else {
         out.push(1);
         let mut prev_delta = 0i64;
         for w in times.windows(2) {
             let delta = w[1] - w[0];
-            put_varint(out, zigzag(delta - prev_delta));
+            varint::put_signed(out, delta - prev_delta);
             prev_delta = delta;
         }
     }
@@ -157,7 +138,7 @@ pub fn encode(times: &[i64], values: &[f64], precision: Precision) -> Vec<u8> {
     assert_eq!(times.len(), values.len(), "a chunk needs one time per value");
     assert!(!times.is_empty(), "a chunk holds at least one reading");
     let mut body = Vec::with_capacity(times.len() * 3 + 16);
-    put_varint(&mut body, times.len() as u64);
+    varint::put(&mut body, times.len() as u64);
     encode_times(&mut body, times);
     body.push(match precision {
         Precision::F32 => 0,
@@ -170,7 +151,7 @@ pub fn encode(times: &[i64], values: &[f64], precision: Precision) -> Vec<u8> {
         let mut prev = 0i64;
         for &v in values {
             let s = (v * k).round() as i64;
-            put_varint(&mut body, zigzag(s.wrapping_sub(prev)));
+            varint::put_signed(&mut body, s.wrapping_sub(prev));
             prev = s;
         }
     } else {
@@ -181,7 +162,7 @@ pub fn encode(times: &[i64], values: &[f64], precision: Precision) -> Vec<u8> {
                 Precision::F32 => ordered_f32(v as f32),
                 Precision::F64 => ordered_f64(v),
             };
-            put_varint(&mut body, zigzag(o.wrapping_sub(prev)));
+            varint::put_signed(&mut body, o.wrapping_sub(prev));
             prev = o;
         }
     }
