@@ -12,10 +12,10 @@ channel's readings, flat lines, values out of physical range, and counter resets
 Rules (common practice in reviewing logger data; the thresholds are ours, documented here):
 - **Gap**: a spacing longer than 3x the median interval. The median comes from a histogram of the
   distinct intervals (capped at 4096 distinct values; beyond that rare values are left out of the
-  median). The longest gap is exact, and so is the gap count while the file has fewer distinct
-  spacings than the cap (always, for a logger with a fixed interval); the listed examples are the
-  first gaps in file order, from candidates kept while reading (spacings above 2x the running
-  typical interval).
+  median). The gap count and the longest gap are exact whatever the number of distinct spacings:
+  the spacings left out of the histogram are counted between the possible thresholds (see
+  [`gaps`]). The listed examples are the first gaps in file order, from candidates kept while
+  reading (spacings above 2x the running typical interval).
 - **Flat line**: the same value for at least 30 min and at least 30 readings in a row (a stuck
   sensor, or a compressor that is off: both worth a look).
 - **Out of range** (kept, reported): power below -0.5 kW, flow below -0.05 m³/min (negative
@@ -88,6 +88,9 @@ pub struct Gap {
 #[derive(Debug, Clone, PartialEq, Serialize, Default)]
 pub struct GapReport {
     pub count: u64,
+    /// True when `count` is a lower bound: see [`gaps`]. Left out of the JSON when false.
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    pub count_at_least: bool,
     /// The threshold used: 3x the median interval.
     pub threshold_s: Option<f64>,
     pub longest_s: Option<f64>,

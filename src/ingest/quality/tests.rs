@@ -119,8 +119,47 @@ fn the_median_interval_survives_clock_jitter_and_many_distinct_spacings() {
     }
     assert_eq!(iv.median_ms(), Some(1000));
     let r = iv.report(Some(1000));
-    // Every spacing above 3 s is a gap, the capped ones included in the count only if they
-    // made it into the histogram: 4096 - 3 regular values fit, the longest is counted too.
+    // Every event spacing (5.000 to 14.999 s) is longer than 3 s: 10,000 gaps, although only
+    // 4096 - 3 of them fit in the histogram of distinct spacings.
     assert_eq!(r.longest_s, Some(14.999));
-    assert_eq!(r.count, (MAX_DISTINCT_INTERVALS - 3) as u64 + 1);
+    assert_eq!(r.count, 10_000);
+    assert!(!r.count_at_least);
+    assert_eq!(r.examples.len(), MAX_EXAMPLES);
+}
+
+#[test]
+fn a_threshold_between_left_out_spacings_gives_a_lower_bound() {
+    let mut iv = Intervals::default();
+    let mut t = 0;
+    // 1 s spacings, then distinct spacings from 10 s up until the histogram is full.
+    for _ in 0..100 {
+        t += 1000;
+        iv.observe(t);
+    }
+    for k in 0..(MAX_DISTINCT_INTERVALS as i64 - 1) {
+        t += 10_000 + k;
+        iv.observe(t);
+    }
+    // Two spacings with no room left: 2 s and 5 s.
+    for dt in [2000, 5000] {
+        t += dt;
+        iv.observe(t);
+    }
+    // Against 3x a spacing of this series (3 s) the count is exact: the 4095 long ones and 5 s.
+    let r = iv.report(Some(1000));
+    assert_eq!((r.count, r.count_at_least), (MAX_DISTINCT_INTERVALS as u64, false));
+    // Against 4.5 s (3x another series' median), 5 s lies between the possible thresholds 3 s
+    // and 30 s with nothing to tell it from a 4 s spacing: at least the 4095 long ones.
+    let r = iv.report(Some(1500));
+    assert_eq!((r.count, r.count_at_least), (MAX_DISTINCT_INTERVALS as u64 - 1, true));
+    let mut report = QualityReport::default();
+    report.file.gaps = r;
+    report.file.median_interval_s = Some(1.5);
+    let w = report.warnings();
+    assert!(w[0].starts_with("at least 4095 gaps longer than 3x the 1.5 s logging interval"), "{w:?}");
+    // The JSON names the lower bound only when there is one.
+    let json = serde_json::to_value(&report.file.gaps).unwrap();
+    assert_eq!(json["count_at_least"], true);
+    let exact = serde_json::to_value(iv.report(Some(1000))).unwrap();
+    assert!(exact.get("count_at_least").is_none());
 }

@@ -38,6 +38,14 @@ fn plural(n: u64, one: &str, many: &str) -> String {
     }
 }
 
+fn at_least(lower_bound: bool) -> &'static str {
+    if lower_bound {
+        "at least "
+    } else {
+        ""
+    }
+}
+
 impl QualityReport {
     /// Short sentences (with units) for the API's `warnings` list.
     pub fn warnings(&self) -> Vec<String> {
@@ -45,7 +53,8 @@ impl QualityReport {
         let f = &self.file;
         if f.gaps.count > 0 {
             let mut s = format!(
-                "{} longer than 3x the {} logging interval",
+                "{}{} longer than 3x the {} logging interval",
+                at_least(f.gaps.count_at_least),
                 plural(f.gaps.count, "gap", "gaps"),
                 human_duration(f.median_interval_s.unwrap_or(0.0))
             );
@@ -101,7 +110,8 @@ impl QualityReport {
             }
             if c.gaps.count > 0 && c.gaps.count > f.gaps.count {
                 w.push(format!(
-                    "{name}: {} in its readings; the longest is {}",
+                    "{name}: {}{} in its readings; the longest is {}",
+                    at_least(c.gaps.count_at_least),
                     plural(c.gaps.count, "gap", "gaps"),
                     human_duration(c.gaps.longest_s.unwrap_or(0.0))
                 ));
