@@ -2,18 +2,10 @@
 The mapping of a logger file (which column is which quantity, in which unit) and its validation
 against the file's header into a [`Plan`].
 
-Unit spellings and the conversions ingest needs live here, so that every logged value becomes
-canonical SI on the way in (see `core::units`):
-
-| quantity      | units (case-insensitive; `/` or `_`, `3` or `³`)                        | to            |
-|---------------|-------------------------------------------------------------------------|---------------|
-| `pressure`    | `bar_g` `bar_a` `psig` `psia` `kPa_g` `kPa_a` `MPa_g` `MPa_a` `mbar_g` `mbar_a` | Pa absolute |
-| `flow`        | free air: `m3_min` `m3_h` `m3_s` `l_s` `l_min` `cfm` (`acfm`)           | m³/s free air |
-|               | reference: `scfm` `Nm3_h` `Nm3_min` `Sm3_h` `Sm3_min` `Nl_min` `Nl_s`    | m³/s free air |
-| `power`       | `W` `kW` `MW`                                                           | W             |
-| `current`     | `A` (with `volts`, `power_factor`, `phases` 3 or 1)                     | W             |
-| `energy`      | `Wh` `kWh` `MWh` `J` `kJ` `MJ` (a counter)                              | J             |
-| `temperature` | `C` `F` `K`                                                             | K             |
+Every logged value becomes canonical SI on the way in (see `core::units`): pressure in Pa absolute,
+flow in m³/s of free air at the site inlet, power in W (current becomes power), energy counters in J,
+temperature in K. The units a mapping may name, their spellings and their factors are the one table
+of [`crate::core::unit_table`]; [`rules`] turns a column's unit into its conversion:
 
 - Gauge pressure is made absolute with the site's atmosphere. A bare `bar` or `psi` is refused: the
   mapping must say gauge or absolute (the sniffer proposes gauge, common shop practice).
@@ -21,9 +13,11 @@ canonical SI on the way in (see `core::units`):
   (dry ideal gas, `SiteAir::free_air_from_reference`). Defaults when `reference` is absent:
   `Nm3` DIN 1343 (101.325 kPa, 0 °C), `Sm3` ISO 1217 standard inlet (100 kPa, 20 °C), `scfm` ASME
   (14.696 psia, 68 °F). A `reference` on a free-air unit is refused rather than guessed at.
-- Current to power: P = sqrt(3) V_LL I PF for three phases, V I PF for one (FIELD-NOTES §8);
-  `phases` defaults to 3. With `unloaded_power_factor` and `unloaded_below_a`, a current below that
-  threshold uses the unloaded power factor (PF falls steeply at no load).
+- Current to power: P = sqrt(3) V_LL I PF for three phases, V I PF for one (the active power of a
+  balanced load, IEC 60050; reading power from logged amps so is common practice); `phases`
+  defaults to 3. With
+  `unloaded_power_factor` and `unloaded_below_a`, a current below that threshold uses the unloaded
+  power factor (PF falls steeply at no load).
 - Power, energy and current columns must name their `compressor`.
 */
 
@@ -31,10 +25,9 @@ mod rules;
 #[cfg(test)]
 mod tests;
 
-pub use rules::{
-    energy_unit, flow_unit, normalize_unit, power_unit, pressure_unit, temperature_unit, Converter, UnitRule,
-};
+pub use rules::{Converter, UnitRule};
 
+use crate::core::unit_table::{self, LoggedQuantity};
 use crate::core::units::{ReferenceConditions, SiteAir};
 use crate::ingest::text::Encoding;
 use crate::ingest::timestamp::TimestampParser;
@@ -245,16 +238,15 @@ pub fn channel_defs(mapping: &Mapping) -> Result<Vec<ChannelDef>, IngestError> {
         .collect()
 }
 
-/// The units the mapping form offers for each quantity (API.md spellings).
+/// The unit codes the mapping form offers for each quantity (API.md spellings), from
+/// [`unit_table::choices`]: `{"power": ["kW", "W"], ..., "temperature": ["C", "F", "K"]}`.
 pub fn units_by_quantity() -> serde_json::Value {
-    serde_json::json!({
-        "power": ["kW", "W"],
-        "energy": ["kWh", "Wh", "MWh"],
-        "current": ["A"],
-        "pressure": ["bar_g", "psig", "kPa_g", "MPa_g", "bar_a", "psia", "kPa_a"],
-        "flow": ["m3_min", "m3_h", "l_s", "cfm", "scfm", "Nm3_h", "Nm3_min", "Sm3_h", "Sm3_min"],
-        "temperature": ["C", "F", "K"],
-    })
+    let mut by_quantity = serde_json::Map::new();
+    for q in LoggedQuantity::ALL {
+        let codes: Vec<serde_json::Value> = unit_table::choices(q).map(|u| u.code.into()).collect();
+        by_quantity.insert(q.as_str().into(), codes.into());
+    }
+    serde_json::Value::Object(by_quantity)
 }
 
 /// Validate a mapping against a header and resolve it.

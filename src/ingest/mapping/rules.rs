@@ -1,12 +1,11 @@
 /*!
-A column's unit into its conversion to SI, and the checks of the column's other fields (compressor,
-reference conditions, volts and power factors).
+A column's unit into its conversion to SI, read from [`crate::core::unit_table`], and the checks of
+the column's other fields (compressor, reference conditions, volts and power factors).
 */
 
 use super::{ColumnMap, Quantity};
-use crate::core::units::{
-    ReferenceConditions, SiteAir, J_PER_KWH, M3_PER_FT3, PA_PER_BAR, PA_PER_PSI, T_ZERO_C,
-};
+use crate::core::unit_table::{self, LoggedQuantity, ToSi};
+use crate::core::units::{ReferenceConditions, SiteAir, T_ZERO_C};
 use crate::ingest::IngestError;
 
 /// A unit's conversion rule, independent of the site.
@@ -78,116 +77,6 @@ impl UnitRule {
     }
 }
 
-/// A unit spelling in a normal form: lower case, `³` -> `3`, `/`, ` `, `-`, `(`, `)`, `.` -> `_`,
-/// `°` dropped, runs of `_` collapsed, no leading/trailing `_`.
-pub fn normalize_unit(unit: &str) -> String {
-    let mut out = String::with_capacity(unit.len());
-    for ch in unit.trim().chars() {
-        let c = match ch {
-            '³' => '3',
-            '/' | ' ' | '-' | '(' | ')' | '.' | '[' | ']' => '_',
-            '°' | 'º' => continue,
-            c => c.to_ascii_lowercase(),
-        };
-        if c == '_' && (out.is_empty() || out.ends_with('_')) {
-            continue;
-        }
-        out.push(c);
-    }
-    while out.ends_with('_') {
-        out.pop();
-    }
-    out
-}
-
-/// Pressure unit: (Pa per unit, gauge).
-pub fn pressure_unit(unit: &str) -> Option<(f64, bool)> {
-    let n = normalize_unit(unit);
-    let (base, gauge) = if let Some(b) = n.strip_suffix("_g").or_else(|| n.strip_suffix("g")) {
-        (b, true)
-    } else if let Some(b) = n.strip_suffix("_a").or_else(|| n.strip_suffix("a")) {
-        (b, false)
-    } else if let Some(b) = n.strip_suffix("_abs") {
-        (b, false)
-    } else {
-        return None;
-    };
-    let base = base.trim_end_matches('_');
-    let pa = match base {
-        "bar" => PA_PER_BAR,
-        "mbar" => PA_PER_BAR / 1000.0,
-        "psi" => PA_PER_PSI,
-        "kpa" => 1000.0,
-        "mpa" => 1.0e6,
-        "pa" => 1.0,
-        _ => return None,
-    };
-    Some((pa, gauge))
-}
-
-/// Flow unit: (m³/s per unit, default reference conditions if it is a standard/normal unit).
-/// Returns `Some((scale, None))` for free air units.
-pub fn flow_unit(unit: &str) -> Option<(f64, Option<ReferenceConditions>)> {
-    let n = normalize_unit(unit);
-    let n = n.replace("per_", "");
-    const MIN: f64 = 60.0;
-    const H: f64 = 3600.0;
-    let r = match n.as_str() {
-        "m3_min" | "m3min" => (1.0 / MIN, None),
-        "m3_h" | "m3h" | "m3_hr" => (1.0 / H, None),
-        "m3_s" => (1.0, None),
-        "l_s" | "ls" => (1e-3, None),
-        "l_min" | "lpm" => (1e-3 / MIN, None),
-        "cfm" | "acfm" | "ft3_min" => (M3_PER_FT3 / MIN, None),
-        "scfm" => (M3_PER_FT3 / MIN, Some(ReferenceConditions::STANDARD_ASME_SCFM)),
-        "nm3_h" | "nm3h" => (1.0 / H, Some(ReferenceConditions::NORMAL_DIN_1343)),
-        "nm3_min" => (1.0 / MIN, Some(ReferenceConditions::NORMAL_DIN_1343)),
-        "nl_min" => (1e-3 / MIN, Some(ReferenceConditions::NORMAL_DIN_1343)),
-        "nl_s" => (1e-3, Some(ReferenceConditions::NORMAL_DIN_1343)),
-        "sm3_h" | "sm3h" => (1.0 / H, Some(ReferenceConditions::STANDARD_ISO_1217)),
-        "sm3_min" => (1.0 / MIN, Some(ReferenceConditions::STANDARD_ISO_1217)),
-        _ => return None,
-    };
-    Some(r)
-}
-
-/// Power unit: W per unit.
-pub fn power_unit(unit: &str) -> Option<f64> {
-    match normalize_unit(unit).as_str() {
-        "w" => Some(1.0),
-        "kw" => Some(1e3),
-        "mw" => Some(1e6),
-        _ => None,
-    }
-}
-
-/// Energy unit: J per unit.
-pub fn energy_unit(unit: &str) -> Option<f64> {
-    match normalize_unit(unit).as_str() {
-        "wh" => Some(J_PER_KWH / 1000.0),
-        "kwh" => Some(J_PER_KWH),
-        "mwh" => Some(J_PER_KWH * 1000.0),
-        "j" => Some(1.0),
-        "kj" => Some(1e3),
-        "mj" => Some(1e6),
-        _ => None,
-    }
-}
-
-/// Temperature unit: (scale, offset) with K = v * scale + offset.
-pub fn temperature_unit(unit: &str) -> Option<(f64, f64)> {
-    match normalize_unit(unit).as_str() {
-        "c" | "degc" | "celsius" => Some((1.0, T_ZERO_C)),
-        "f" | "degf" | "fahrenheit" => Some((5.0 / 9.0, T_ZERO_C - 32.0 * 5.0 / 9.0)),
-        "k" | "kelvin" => Some((1.0, 0.0)),
-        _ => None,
-    }
-}
-
-fn is_current_unit(unit: &str) -> bool {
-    matches!(normalize_unit(unit).as_str(), "a" | "amp" | "amps" | "ampere" | "amperes")
-}
-
 fn positive(v: Option<f64>, field: &str, what: &str) -> Result<f64, IngestError> {
     match v {
         Some(x) if x.is_finite() && x > 0.0 => Ok(x),
@@ -204,6 +93,15 @@ fn power_factor(v: f64, field: &str) -> Result<f64, IngestError> {
     }
 }
 
+/// A power or energy unit's factor.
+fn scale(to_si: ToSi) -> UnitRule {
+    match to_si {
+        ToSi::Scale(k) => UnitRule::Scale(k),
+        other => unreachable!("the unit table lists power and energy units with factors, not {other:?}"),
+    }
+}
+
+/// A column's quantity and conversion rule; `i` is its index in the mapping, for messages.
 pub(super) fn column_rule(c: &ColumnMap, i: usize) -> Result<(Quantity, UnitRule), IngestError> {
     let f = |name: &str| format!("columns[{i}].{name}");
     let unit_err = |q: &str| {
@@ -221,14 +119,13 @@ pub(super) fn column_rule(c: &ColumnMap, i: usize) -> Result<(Quantity, UnitRule
     if c.reference.is_some() && quantity != "flow" {
         return Err(IngestError::field(f("reference"), "reference conditions apply to flow only"));
     }
+    let table =
+        |q: LoggedQuantity| unit_table::find(q, &c.unit).map(|u| u.to_si).ok_or_else(|| unit_err(q.as_str()));
     Ok(match quantity.as_str() {
-        "power" => (Quantity::Power, UnitRule::Scale(power_unit(&c.unit).ok_or_else(|| unit_err("power"))?)),
-        "energy" => {
-            (Quantity::Energy, UnitRule::Scale(energy_unit(&c.unit).ok_or_else(|| unit_err("energy"))?))
-        }
+        "power" => (Quantity::Power, scale(table(LoggedQuantity::Power)?)),
+        "energy" => (Quantity::Energy, scale(table(LoggedQuantity::Energy)?)),
         "pressure" => {
-            let n = normalize_unit(&c.unit);
-            if n == "bar" || n == "psi" || n == "kpa" || n == "mpa" {
+            if unit_table::is_unqualified_pressure(&c.unit) {
                 return Err(IngestError::field(
                     f("unit"),
                     format!(
@@ -238,11 +135,15 @@ pub(super) fn column_rule(c: &ColumnMap, i: usize) -> Result<(Quantity, UnitRule
                 )
                 .with_column(c.column.clone()));
             }
-            let (pa_per_unit, gauge) = pressure_unit(&c.unit).ok_or_else(|| unit_err("pressure"))?;
+            let ToSi::Pressure { pa_per_unit, gauge } = table(LoggedQuantity::Pressure)? else {
+                unreachable!("the unit table lists pressure units with pressure factors")
+            };
             (Quantity::Pressure, UnitRule::Pressure { pa_per_unit, gauge })
         }
         "flow" => {
-            let (m3_s_per_unit, default_ref) = flow_unit(&c.unit).ok_or_else(|| unit_err("flow"))?;
+            let ToSi::Flow { m3_s_per_unit, reference: default_ref } = table(LoggedQuantity::Flow)? else {
+                unreachable!("the unit table lists flow units with flow factors")
+            };
             let reference = match (default_ref, c.reference) {
                 (None, Some(_)) => {
                     return Err(IngestError::field(
@@ -275,13 +176,13 @@ pub(super) fn column_rule(c: &ColumnMap, i: usize) -> Result<(Quantity, UnitRule
             (Quantity::Flow, UnitRule::Flow { m3_s_per_unit, reference })
         }
         "temperature" => {
-            let (scale, offset) = temperature_unit(&c.unit).ok_or_else(|| unit_err("temperature"))?;
+            let ToSi::Temperature { scale, offset } = table(LoggedQuantity::Temperature)? else {
+                unreachable!("the unit table lists temperature units with temperature factors")
+            };
             (Quantity::Temperature, UnitRule::Temperature { scale, offset })
         }
         "current" => {
-            if !is_current_unit(&c.unit) {
-                return Err(unit_err("current"));
-            }
+            table(LoggedQuantity::Current)?;
             let volts = positive(c.volts, &f("volts"), "volts")?;
             let pf = power_factor(
                 c.power_factor.ok_or_else(|| {

@@ -1,7 +1,6 @@
 use super::rules::column_rule;
 use super::*;
-use crate::core::units::PressureAbs;
-use crate::core::units::{M3_PER_FT3, PA_PER_BAR, PA_PER_PSI};
+use crate::core::units::{PressureAbs, M3_PER_FT3, PA_PER_PSI};
 
 const API_EXAMPLE: &str = r#"{"delimiter": ",", "decimal": ".", "header_line": 1,
  "timestamp": {"column": "Time", "format": "%Y-%m-%d %H:%M:%S", "timezone": "UTC"},
@@ -79,7 +78,7 @@ fn plan_errors_name_the_field() {
 
 #[test]
 fn amps_to_kilowatts_three_phase_and_unloaded() {
-    // sqrt(3) V I PF (IEC 60050 three-phase active power; FIELD-NOTES §8):
+    // sqrt(3) V I PF (IEC 60050 three-phase active power):
     // sqrt(3) x 400 V x 50 A x 0.85 = 29,444.9 W (hand calculation).
     let site = SiteAir::new(101.325, 20.0);
     let mut c = ColumnMap::new("C1 A", "current", "A", Some("C1"));
@@ -153,13 +152,31 @@ fn power_energy_temperature_units() {
 }
 
 #[test]
-fn unit_spellings_normalize() {
-    assert_eq!(normalize_unit(" Nm³/h "), "nm3_h");
-    assert_eq!(normalize_unit("bar(g)"), "bar_g");
-    assert_eq!(pressure_unit("barg"), Some((PA_PER_BAR, true)));
-    assert_eq!(pressure_unit("psia"), Some((PA_PER_PSI, false)));
-    assert_eq!(pressure_unit("MPa_g"), Some((1e6, true)));
-    assert_eq!(pressure_unit("kPa_a"), Some((1e3, false)));
-    assert!(flow_unit("m3/min").is_some());
-    assert!(flow_unit("furlongs/fortnight").is_none());
+fn unit_spellings_read_through_the_unit_table() {
+    let site = SiteAir::new(100.0, 20.0);
+    let p = |unit: &str| convert(ColumnMap::new("P", "pressure", unit, None), &site, 1.0);
+    // Gauge adds the site's 100 kPa, absolute does not (factors: NIST SP 811 B.8).
+    assert_eq!(p("barg"), 200_000.0);
+    assert_eq!(p("bar(g)"), 200_000.0);
+    assert_eq!(p("psia"), PA_PER_PSI);
+    assert_eq!(p("MPa_g"), 1_100_000.0);
+    assert_eq!(p("kPa abs"), 1_000.0);
+    let q = convert(ColumnMap::new("F", "flow", "m3 per min", None), &site, 60.0);
+    assert!((q - 1.0).abs() < 1e-15);
+    let bad = ColumnMap::new("F", "flow", "furlongs/fortnight", None);
+    assert_eq!(column_rule(&bad, 0).unwrap_err().message, "unknown flow unit \"furlongs/fortnight\"");
+}
+
+#[test]
+fn the_form_gets_the_api_units_by_quantity() {
+    // The form's list as it was before it was read from the unit table.
+    let want = serde_json::json!({
+        "power": ["kW", "W"],
+        "energy": ["kWh", "Wh", "MWh"],
+        "current": ["A"],
+        "pressure": ["bar_g", "psig", "kPa_g", "MPa_g", "bar_a", "psia", "kPa_a"],
+        "flow": ["m3_min", "m3_h", "l_s", "cfm", "scfm", "Nm3_h", "Nm3_min", "Sm3_h", "Sm3_min"],
+        "temperature": ["C", "F", "K"],
+    });
+    assert_eq!(units_by_quantity(), want);
 }
