@@ -33,4 +33,5 @@ pub mod series;
 pub mod simulate;
 pub mod states;
 pub mod thermo;
+pub mod unit_table;
 pub mod units;

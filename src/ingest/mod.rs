@@ -62,12 +62,6 @@ impl IngestError {
         Self { message: message.into(), line: Some(line), column: column.map(str::to_string), field: None }
     }
 
-    /// The same error with the mapping field set.
-    pub fn with_field(mut self, field: impl Into<String>) -> Self {
-        self.field = Some(field.into());
-        self
-    }
-
     /// The same error with the column set.
     pub fn with_column(mut self, column: impl Into<String>) -> Self {
         self.column = Some(column.into());

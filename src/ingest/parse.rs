@@ -582,7 +582,8 @@ mod tests {
 
     #[test]
     fn psig_scfm_and_nm3h_at_a_1000_m_site() {
-        // ISO 2533 / ASHRAE eq. 3: 1000 m -> 89.875 kPa (FIELD-NOTES §2, §11).
+        // ASHRAE Handbook Fundamentals ch. 1 eq. 3 (the ISO 2533 standard atmosphere): 1000 m ->
+        // 89.875 kPa.
         let site = SiteAir::new(89.875, 20.0);
         let file = b"Time,Header,Flow A,Flow B\n2026-03-02 06:00:00,100,100,600\n";
         let mut m = preamble_mapping_at(1);
@@ -595,13 +596,15 @@ mod tests {
         ];
         let (_, got) = parse(file, &m, &site).unwrap();
         assert_eq!(got[0].2, PressureAbs::from_psig(100.0, site.atmosphere).0);
-        assert!((got[0].2 - 779_350.73).abs() < 0.01); // 689,475.73 + 89,875 Pa (hand calculation)
-                                                       // V_FAD = V_ref (p_ref/p_in)(T_in/T_ref), FIELD-NOTES §2; ASME scfm 14.696 psia, 68 F.
+        // 689,475.73 + 89,875 Pa (hand calculation).
+        assert!((got[0].2 - 779_350.73).abs() < 0.01);
+        // V_FAD = V_ref (p_ref/p_in)(T_in/T_ref) (dry air as an ideal gas); ASME standard air for
+        // scfm: 14.696 psia, 68 F.
         let scfm = 100.0 * M3_PER_FT3 / 60.0 * (14.696 * PA_PER_PSI / 89_875.0);
         assert!((got[1].2 - scfm).abs() < 1e-12);
         let nm3 = site.free_air_from_reference(600.0 / 3600.0, ReferenceConditions::NORMAL_DIN_1343);
         assert!((got[2].2 - nm3).abs() < 1e-15);
-        // 600 Nm3/h -> 11.885 m3/min free air at 1000 m, 20 C (hand calculation:
+        // 600 Nm3/h -> 12.10 m3/min free air at 1000 m, 20 C (hand calculation:
         // 10 x 101.325/89.875 x 293.15/273.15).
         assert!((got[2].2 * 60.0 - 12.0996).abs() < 1e-3);
     }

@@ -28,6 +28,7 @@ must come from the auditor). [`layout_key`] fingerprints a header so a mapping c
 per logger layout.
 */
 
+use crate::core::unit_table;
 use crate::ingest::mapping::{ColumnMap, Mapping, TimestampSpec};
 use crate::ingest::number::{is_missing_marker, parse_cell, trim, Cell};
 use crate::ingest::text::{decode_line, detect, strip_bom};
@@ -179,41 +180,11 @@ fn mostly_data(fields: &[String]) -> bool {
     n * 2 > fields.len() && fields.iter().any(|f| !f.trim().is_empty())
 }
 
-/// A unit hint: (quantity, unit as the mapping spells it, note).
+/// A unit hint from [`unit_table::in_header`]: (quantity, unit as the mapping spells it, note).
 fn unit_hint(token: &str) -> Option<(&'static str, &'static str, Option<&'static str>)> {
-    let t = crate::ingest::mapping::normalize_unit(token);
-    let gauge_note = Some("read as gauge pressure; say _a if the logger records absolute");
-    Some(match t.as_str() {
-        "kw" => ("power", "kW", None),
-        "w" | "watt" | "watts" => ("power", "W", None),
-        "kwh" => ("energy", "kWh", None),
-        "wh" => ("energy", "Wh", None),
-        "mwh" => ("energy", "MWh", None),
-        "a" | "amp" | "amps" | "ampere" | "amperes" => ("current", "A", None),
-        "psig" | "psi_g" => ("pressure", "psig", None),
-        "psia" | "psi_a" => ("pressure", "psia", None),
-        "psi" => ("pressure", "psig", gauge_note),
-        "barg" | "bar_g" | "bar_ü" | "barü" => ("pressure", "bar_g", None),
-        "bara" | "bar_a" | "bar_abs" => ("pressure", "bar_a", None),
-        "bar" => ("pressure", "bar_g", gauge_note),
-        "kpa" => ("pressure", "kPa_g", gauge_note),
-        "kpa_g" | "kpag" => ("pressure", "kPa_g", None),
-        "kpa_a" | "kpaa" => ("pressure", "kPa_a", None),
-        "mpa" => ("pressure", "MPa_g", gauge_note),
-        "cfm" | "acfm" => ("flow", "cfm", None),
-        "scfm" => ("flow", "scfm", None),
-        "m3_min" | "m3min" => ("flow", "m3_min", None),
-        "m3_h" | "m3h" => ("flow", "m3_h", None),
-        "nm3_h" | "nm3h" => ("flow", "Nm3_h", None),
-        "nm3_min" => ("flow", "Nm3_min", None),
-        "sm3_h" => ("flow", "Sm3_h", None),
-        "sm3_min" => ("flow", "Sm3_min", None),
-        "l_s" => ("flow", "l_s", None),
-        "l_min" => ("flow", "l_min", None),
-        "c" | "degc" => ("temperature", "C", None),
-        "f" | "degf" => ("temperature", "F", None),
-        _ => return None,
-    })
+    let (unit, unqualified) = unit_table::in_header(token)?;
+    let note = unqualified.then_some("read as gauge pressure; say _a if the logger records absolute");
+    Some((unit.quantity.as_str(), unit.code, note))
 }
 
 /// Tokens of a header name: bracketed parts first (`[kW]`, `(m³/min)`), then words.

@@ -24,6 +24,8 @@ or two bytes; deflate then takes out what repeats.
 use miniz_oxide::deflate::compress_to_vec;
 use miniz_oxide::inflate::decompress_to_vec_with_limit;
 
+use super::varint::{self, VarintError};
+
 /// Readings per chunk: large enough that per-row overhead vanishes, small enough to decode fast.
 pub const CHUNK_READINGS: usize = 8192;
 
@@ -41,25 +43,16 @@ pub enum ChunkError {
     Corrupt(&'static str),
 }
 
-fn put_varint(out: &mut Vec<u8>, mut v: u64) {
-    while v >= 0x80 {
-        out.push((v as u8) | 0x80);
-        v >>= 7;
-    }
-    out.push(v as u8);
-}
-
-fn zigzag(v: i64) -> u64 {
-    ((v << 1) ^ (v >> 63)) as u64
-}
-
-fn unzigzag(v: u64) -> i64 {
-    ((v >> 1) as i64) ^ -((v & 1) as i64)
-}
-
 struct Reader<'a> {
     buf: &'a [u8],
     pos: usize,
+}
+
+fn corrupt(e: VarintError) -> ChunkError {
+    match e {
+        VarintError::Truncated => ChunkError::Corrupt("truncated"),
+        VarintError::TooLong => ChunkError::Corrupt("varint too long"),
+    }
 }
 
 impl Reader<'_> {
@@ -69,22 +62,10 @@ impl Reader<'_> {
         Ok(b)
     }
     fn varint(&mut self) -> Result<u64, ChunkError> {
-        let mut v = 0u64;
-        let mut shift = 0;
-        loop {
-            let b = self.u8()?;
-            if shift > 63 {
-                return Err(ChunkError::Corrupt("varint too long"));
-            }
-            v |= u64::from(b & 0x7f) << shift;
-            if b & 0x80 == 0 {
-                return Ok(v);
-            }
-            shift += 7;
-        }
+        varint::get(self.buf, &mut self.pos).map_err(corrupt)
     }
     fn svarint(&mut self) -> Result<i64, ChunkError> {
-        self.varint().map(unzigzag)
+        varint::get_signed(self.buf, &mut self.pos).map_err(corrupt)
     }
 }
 
@@ -136,17 +117,17 @@ fn decimal_scale(values: &[f64], precision: Precision) -> Option<u32> {
 }
 
 fn encode_times(out: &mut Vec<u8>, times: &[i64]) {
-    put_varint(out, zigzag(times[0]));
+    varint::put_signed(out, times[0]);
     let step = if times.len() > 1 { times[1] - times[0] } else { 0 };
     if step >= 0 && times.windows(2).all(|w| w[1] - w[0] == step) {
         out.push(0);
-        put_varint(out, step as u64);
+        varint::put(out, step as u64);
     } else {
         out.push(1);
         let mut prev_delta = 0i64;
         for w in times.windows(2) {
             let delta = w[1] - w[0];
-            put_varint(out, zigzag(delta - prev_delta));
+            varint::put_signed(out, delta - prev_delta);
             prev_delta = delta;
         }
     }
@@ -157,7 +138,7 @@ pub fn encode(times: &[i64], values: &[f64], precision: Precision) -> Vec<u8> {
     assert_eq!(times.len(), values.len(), "a chunk needs one time per value");
     assert!(!times.is_empty(), "a chunk holds at least one reading");
     let mut body = Vec::with_capacity(times.len() * 3 + 16);
-    put_varint(&mut body, times.len() as u64);
+    varint::put(&mut body, times.len() as u64);
     encode_times(&mut body, times);
     body.push(match precision {
         Precision::F32 => 0,
@@ -170,7 +151,7 @@ pub fn encode(times: &[i64], values: &[f64], precision: Precision) -> Vec<u8> {
         let mut prev = 0i64;
         for &v in values {
             let s = (v * k).round() as i64;
-            put_varint(&mut body, zigzag(s.wrapping_sub(prev)));
+            varint::put_signed(&mut body, s.wrapping_sub(prev));
             prev = s;
         }
     } else {
@@ -181,7 +162,7 @@ pub fn encode(times: &[i64], values: &[f64], precision: Precision) -> Vec<u8> {
                 Precision::F32 => ordered_f32(v as f32),
                 Precision::F64 => ordered_f64(v),
             };
-            put_varint(&mut body, zigzag(o.wrapping_sub(prev)));
+            varint::put_signed(&mut body, o.wrapping_sub(prev));
             prev = o;
         }
     }
@@ -340,6 +321,31 @@ mod tests {
                 prop_assert_eq!(a.to_bits(), b.to_bits());
             }
         }
+    }
+
+    #[test]
+    fn known_chunks_encode_to_the_bytes_of_the_documented_layout() {
+        // By hand from the layout in the module doc. Regular times, decimal values at f32:
+        // version 1, flags 0 (deflate would not be shorter), n = 3, t0 = 1000 (zigzag 2000 =
+        // d0 0f), mode 0, step 1000 (e8 07), precision 0, coding 0, d = 1, deltas of 15, 25, -5:
+        // 15, 10, -30 (zigzag 30, 20, 59).
+        let blob = encode(&[1000, 2000, 3000], &[1.5, 2.5, -0.5], Precision::F32);
+        assert_eq!(
+            blob,
+            [0x01, 0x00, 0x03, 0xd0, 0x0f, 0x00, 0xe8, 0x07, 0x00, 0x00, 0x01, 0x1e, 0x14, 0x3b]
+        );
+        // Irregular times (delta-of-delta 10, 10: zigzag 20, 20) and a value with no short decimal
+        // form, 2^-20, whose f32 bits are 0x3580_0000 (IEEE 754 binary32: exponent 127 - 20 = 0x6b,
+        // mantissa 0): ordered-bits coding, the first delta zigzag 0x6b00_0000 (80 80 80 d8 06),
+        // then 0, 0.
+        let v = 2f64.powi(-20);
+        let blob = encode(&[0, 10, 30], &[v, v, v], Precision::F32);
+        assert_eq!(
+            blob,
+            [0x01, 0x00, 0x03, 0x00, 0x01, 0x14, 0x14, 0x00, 0x01, 0x80, 0x80, 0x80, 0xd8, 0x06, 0x00, 0x00]
+        );
+        let (t, back) = round_trip(&[0, 10, 30], &[v, v, v], Precision::F32);
+        assert_eq!((t, back), (vec![0, 10, 30], vec![v, v, v]));
     }
 
     #[test]

@@ -15,6 +15,7 @@ pub mod chunk;
 pub mod import;
 pub mod read;
 pub mod rollup;
+mod varint;
 
 use std::path::Path;
 use std::str::FromStr;

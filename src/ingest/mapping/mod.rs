@@ -1,0 +1,318 @@
+/*!
+The mapping of a logger file (which column is which quantity, in which unit) and its validation
+against the file's header into a [`Plan`].
+
+Every logged value becomes canonical SI on the way in (see `core::units`): pressure in Pa absolute,
+flow in m³/s of free air at the site inlet, power in W (current becomes power), energy counters in J,
+temperature in K. The units a mapping may name, their spellings and their factors are the one table
+of [`crate::core::unit_table`]; [`rules`] turns a column's unit into its conversion:
+
+- Gauge pressure is made absolute with the site's atmosphere. A bare `bar` or `psi` is refused: the
+  mapping must say gauge or absolute (the sniffer proposes gauge, common shop practice).
+- Reference-condition flows are converted to free air at the site inlet with their `reference`
+  (dry ideal gas, `SiteAir::free_air_from_reference`). Defaults when `reference` is absent:
+  `Nm3` DIN 1343 (101.325 kPa, 0 °C), `Sm3` ISO 1217 standard inlet (100 kPa, 20 °C), `scfm` ASME
+  (14.696 psia, 68 °F). A `reference` on a free-air unit is refused rather than guessed at.
+- Current to power: P = sqrt(3) V_LL I PF for three phases, V I PF for one (the active power of a
+  balanced load, IEC 60050; reading power from logged amps so is common practice); `phases`
+  defaults to 3. With
+  `unloaded_power_factor` and `unloaded_below_a`, a current below that threshold uses the unloaded
+  power factor (PF falls steeply at no load).
+- Power, energy and current columns must name their `compressor`.
+*/
+
+mod rules;
+#[cfg(test)]
+mod tests;
+
+pub use rules::{Converter, UnitRule};
+
+use crate::core::unit_table::{self, LoggedQuantity};
+use crate::core::units::{ReferenceConditions, SiteAir};
+use crate::ingest::text::Encoding;
+use crate::ingest::timestamp::TimestampParser;
+use crate::ingest::IngestError;
+use rules::column_rule;
+use serde::{Deserialize, Serialize};
+
+fn default_delimiter() -> String {
+    ",".into()
+}
+fn default_decimal() -> String {
+    ".".into()
+}
+fn default_header_line() -> u32 {
+    1
+}
+fn default_timezone() -> String {
+    "UTC".into()
+}
+
+/// How a logger file is read. Serde shape as in API.md (`Logger files`).
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Mapping {
+    #[serde(default = "default_delimiter")]
+    pub delimiter: String,
+    #[serde(default = "default_decimal")]
+    pub decimal: String,
+    #[serde(default = "default_header_line")]
+    pub header_line: u32,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub encoding: Option<String>,
+    pub timestamp: TimestampSpec,
+    pub columns: Vec<ColumnMap>,
+    #[serde(default)]
+    pub clock_offset_s: f64,
+}
+
+/// Where the timestamp is and how it is written.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct TimestampSpec {
+    pub column: String,
+    pub format: String,
+    #[serde(default = "default_timezone")]
+    pub timezone: String,
+    /// Date and time in two columns: `column` holds the date, this the time; `format` covers
+    /// both joined by one space.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub time_column: Option<String>,
+}
+
+/// One mapped column.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct ColumnMap {
+    pub column: String,
+    pub quantity: String,
+    pub unit: String,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub compressor: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub reference: Option<ReferenceConditions>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub volts: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub power_factor: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub unloaded_power_factor: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub unloaded_below_a: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub phases: Option<u8>,
+}
+
+impl ColumnMap {
+    /// A column with just quantity and unit (and compressor), the rest unset.
+    pub fn new(column: &str, quantity: &str, unit: &str, compressor: Option<&str>) -> Self {
+        Self {
+            column: column.into(),
+            quantity: quantity.into(),
+            unit: unit.into(),
+            compressor: compressor.map(str::to_string),
+            reference: None,
+            volts: None,
+            power_factor: None,
+            unloaded_power_factor: None,
+            unloaded_below_a: None,
+            phases: None,
+        }
+    }
+}
+
+/// What a channel measures, in canonical SI: power W (current becomes power), energy J (a
+/// counter), pressure Pa absolute, flow m³/s free air, temperature K.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Quantity {
+    Power,
+    Energy,
+    Pressure,
+    Flow,
+    Temperature,
+}
+
+impl Quantity {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Self::Power => "power",
+            Self::Energy => "energy",
+            Self::Pressure => "pressure",
+            Self::Flow => "flow",
+            Self::Temperature => "temperature",
+        }
+    }
+}
+
+/// One channel of a plan.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ChannelDef {
+    pub quantity: Quantity,
+    pub compressor: Option<String>,
+    /// The column's header name.
+    pub label: String,
+    /// The unit as logged (`kW`, `psig`, `A`...).
+    pub unit: String,
+    /// 0-based field index in the row.
+    pub column_index: usize,
+}
+
+/// A mapping resolved against a header.
+#[derive(Debug, Clone)]
+pub struct Plan {
+    pub channels: Vec<ChannelDef>,
+    /// Conversion rule per channel (same order as `channels`).
+    pub rules: Vec<UnitRule>,
+    pub delimiter: u8,
+    pub decimal: u8,
+    pub header_line: u32,
+    pub encoding: Option<Encoding>,
+    /// 0-based index of the timestamp (or date) column, and of the time column if separate.
+    pub timestamp_index: usize,
+    pub time_index: Option<usize>,
+    pub timestamp_label: String,
+    /// The mapping's timestamp format as written (for messages).
+    pub timestamp_format: String,
+    /// The ready timestamp reader (format, zone, clock offset).
+    pub timestamps: TimestampParser,
+}
+
+impl Plan {
+    /// The converters for a site, one per channel.
+    pub fn converters(&self, site: &SiteAir) -> Vec<Converter> {
+        self.rules.iter().map(|r| r.converter(site)).collect()
+    }
+}
+
+/// Parse a delimiter spelling: `,` `;` `\t` (or `tab`) `|`.
+pub fn delimiter_byte(d: &str) -> Option<u8> {
+    match d {
+        "," => Some(b','),
+        ";" => Some(b';'),
+        "\t" | "tab" | "\\t" | "TAB" => Some(b'\t'),
+        "|" => Some(b'|'),
+        _ => None,
+    }
+}
+
+fn find_column(header: &[String], name: &str) -> Result<usize, String> {
+    let want = name.trim();
+    let exact: Vec<usize> =
+        header.iter().enumerate().filter(|(_, h)| h.trim() == want).map(|(i, _)| i).collect();
+    let hits = if exact.is_empty() {
+        header
+            .iter()
+            .enumerate()
+            .filter(|(_, h)| h.trim().eq_ignore_ascii_case(want))
+            .map(|(i, _)| i)
+            .collect()
+    } else {
+        exact
+    };
+    match hits.as_slice() {
+        [i] => Ok(*i),
+        [] => Err(format!("column {name:?} is not in the header")),
+        _ => Err(format!("column {name:?} appears more than once in the header")),
+    }
+}
+
+/// The channels a mapping writes, in the order the sink receives them (the order of
+/// `mapping.columns`), before the file's header is read: the importer creates its channel rows
+/// from these. Labels are the mapping's column names.
+pub fn channel_defs(mapping: &Mapping) -> Result<Vec<ChannelDef>, IngestError> {
+    if mapping.columns.is_empty() {
+        return Err(IngestError::field("columns", "the mapping names no columns to read"));
+    }
+    mapping
+        .columns
+        .iter()
+        .enumerate()
+        .map(|(i, c)| {
+            let (quantity, _) = column_rule(c, i)?;
+            Ok(ChannelDef {
+                quantity,
+                compressor: c.compressor.as_ref().map(|s| s.trim().to_string()).filter(|s| !s.is_empty()),
+                label: c.column.trim().to_string(),
+                unit: c.unit.clone(),
+                column_index: i,
+            })
+        })
+        .collect()
+}
+
+/// The unit codes the mapping form offers for each quantity (API.md spellings), from
+/// [`unit_table::choices`]: `{"power": ["kW", "W"], ..., "temperature": ["C", "F", "K"]}`.
+pub fn units_by_quantity() -> serde_json::Value {
+    let mut by_quantity = serde_json::Map::new();
+    for q in LoggedQuantity::ALL {
+        let codes: Vec<serde_json::Value> = unit_table::choices(q).map(|u| u.code.into()).collect();
+        by_quantity.insert(q.as_str().into(), codes.into());
+    }
+    serde_json::Value::Object(by_quantity)
+}
+
+/// Validate a mapping against a header and resolve it.
+pub fn plan(mapping: &Mapping, header: &[String]) -> Result<Plan, IngestError> {
+    let delimiter = delimiter_byte(&mapping.delimiter).ok_or_else(|| {
+        IngestError::field("delimiter", format!("unknown delimiter {:?}", mapping.delimiter))
+    })?;
+    let decimal = match mapping.decimal.as_str() {
+        "." => b'.',
+        "," => b',',
+        d => return Err(IngestError::field("decimal", format!("decimal mark must be . or , got {d:?}"))),
+    };
+    if decimal == delimiter {
+        return Err(IngestError::field("decimal", "decimal mark and delimiter are both \",\""));
+    }
+    if mapping.header_line == 0 {
+        return Err(IngestError::field("header_line", "header_line is 1-based, got 0"));
+    }
+    let encoding = match &mapping.encoding {
+        None => None,
+        Some(e) => Some(
+            Encoding::parse(e)
+                .ok_or_else(|| IngestError::field("encoding", format!("unknown encoding {e:?}")))?,
+        ),
+    };
+    let ts = &mapping.timestamp;
+    let timestamp_index = find_column(header, &ts.column)
+        .map_err(|m| IngestError::field("timestamp.column", m).with_column(ts.column.clone()))?;
+    let time_index = match &ts.time_column {
+        None => None,
+        Some(t) => Some(
+            find_column(header, t)
+                .map_err(|m| IngestError::field("timestamp.time_column", m).with_column(t.clone()))?,
+        ),
+    };
+    let timestamps = TimestampParser::new(&ts.format, &ts.timezone, mapping.clock_offset_s)?;
+    let mut channels = Vec::with_capacity(mapping.columns.len());
+    let mut rules = Vec::with_capacity(mapping.columns.len());
+    for (i, c) in mapping.columns.iter().enumerate() {
+        let column_index = find_column(header, &c.column).map_err(|m| {
+            IngestError::field(format!("columns[{i}].column"), m).with_column(c.column.clone())
+        })?;
+        let (quantity, rule) = column_rule(c, i)?;
+        channels.push(ChannelDef {
+            quantity,
+            compressor: c.compressor.as_ref().map(|s| s.trim().to_string()),
+            label: header[column_index].trim().to_string(),
+            unit: c.unit.clone(),
+            column_index,
+        });
+        rules.push(rule);
+    }
+    if channels.is_empty() {
+        return Err(IngestError::field("columns", "the mapping names no columns to read"));
+    }
+    Ok(Plan {
+        channels,
+        rules,
+        delimiter,
+        decimal,
+        header_line: mapping.header_line,
+        encoding,
+        timestamp_index,
+        time_index,
+        timestamp_label: header[timestamp_index].trim().to_string(),
+        timestamp_format: ts.format.clone(),
+        timestamps,
+    })
+}

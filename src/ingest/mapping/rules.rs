@@ -1,0 +1,243 @@
+/*!
+A column's unit into its conversion to SI, read from [`crate::core::unit_table`], and the checks of
+the column's other fields (compressor, reference conditions, volts and power factors).
+*/
+
+use super::{ColumnMap, Quantity};
+use crate::core::unit_table::{self, LoggedQuantity, ToSi};
+use crate::core::units::{ReferenceConditions, SiteAir, T_ZERO_C};
+use crate::ingest::IngestError;
+
+/// A unit's conversion rule, independent of the site.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum UnitRule {
+    /// value * scale (power, energy).
+    Scale(f64),
+    /// Pressure: Pa per unit, gauge or absolute.
+    Pressure { pa_per_unit: f64, gauge: bool },
+    /// Flow: m³/s per unit of volume flow, at the reference conditions if any (else free air).
+    Flow { m3_s_per_unit: f64, reference: Option<ReferenceConditions> },
+    /// Temperature: K = value * scale + offset.
+    Temperature { scale: f64, offset: f64 },
+    /// Current to power: W = I * k, with k_unloaded below the threshold.
+    Current { w_per_a: f64, w_per_a_unloaded: f64, unloaded_below_a: f64 },
+}
+
+/// A conversion to SI with the site applied.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Converter {
+    Linear { scale: f64, offset: f64 },
+    Current { w_per_a: f64, w_per_a_unloaded: f64, unloaded_below_a: f64 },
+}
+
+impl Converter {
+    #[inline]
+    pub fn apply(&self, v: f64) -> f64 {
+        match *self {
+            Self::Linear { scale, offset } => v * scale + offset,
+            Self::Current { w_per_a, w_per_a_unloaded, unloaded_below_a } => {
+                if v < unloaded_below_a {
+                    v * w_per_a_unloaded
+                } else {
+                    v * w_per_a
+                }
+            }
+        }
+    }
+
+    /// The inverse (SI back to the logged unit), for messages. For current, SI back to kW.
+    pub fn to_logged(&self, si: f64) -> f64 {
+        match *self {
+            Self::Linear { scale, offset } => (si - offset) / scale,
+            Self::Current { .. } => si / 1000.0,
+        }
+    }
+}
+
+impl UnitRule {
+    /// The converter for a site.
+    pub fn converter(&self, site: &SiteAir) -> Converter {
+        match *self {
+            Self::Scale(scale) => Converter::Linear { scale, offset: 0.0 },
+            Self::Pressure { pa_per_unit, gauge } => {
+                Converter::Linear { scale: pa_per_unit, offset: if gauge { site.atmosphere.0 } else { 0.0 } }
+            }
+            Self::Flow { m3_s_per_unit, reference } => Converter::Linear {
+                scale: match reference {
+                    Some(r) => site.free_air_from_reference(m3_s_per_unit, r),
+                    None => m3_s_per_unit,
+                },
+                offset: 0.0,
+            },
+            Self::Temperature { scale, offset } => Converter::Linear { scale, offset },
+            Self::Current { w_per_a, w_per_a_unloaded, unloaded_below_a } => {
+                Converter::Current { w_per_a, w_per_a_unloaded, unloaded_below_a }
+            }
+        }
+    }
+}
+
+fn positive(v: Option<f64>, field: &str, what: &str) -> Result<f64, IngestError> {
+    match v {
+        Some(x) if x.is_finite() && x > 0.0 => Ok(x),
+        Some(x) => Err(IngestError::field(field, format!("{what} must be positive, got {x}"))),
+        None => Err(IngestError::field(field, format!("a current column needs {what}"))),
+    }
+}
+
+fn power_factor(v: f64, field: &str) -> Result<f64, IngestError> {
+    if v.is_finite() && v > 0.0 && v <= 1.0 {
+        Ok(v)
+    } else {
+        Err(IngestError::field(field, format!("power factor must be in (0, 1], got {v}")))
+    }
+}
+
+/// A power or energy unit's factor.
+fn scale(to_si: ToSi) -> UnitRule {
+    match to_si {
+        ToSi::Scale(k) => UnitRule::Scale(k),
+        other => unreachable!("the unit table lists power and energy units with factors, not {other:?}"),
+    }
+}
+
+/// A column's quantity and conversion rule; `i` is its index in the mapping, for messages.
+pub(super) fn column_rule(c: &ColumnMap, i: usize) -> Result<(Quantity, UnitRule), IngestError> {
+    let f = |name: &str| format!("columns[{i}].{name}");
+    let unit_err = |q: &str| {
+        IngestError::field(f("unit"), format!("unknown {q} unit {:?}", c.unit)).with_column(c.column.clone())
+    };
+    let quantity = c.quantity.trim().to_ascii_lowercase();
+    let needs_compressor = matches!(quantity.as_str(), "power" | "energy" | "current");
+    if needs_compressor && c.compressor.as_deref().is_none_or(|s| s.trim().is_empty()) {
+        return Err(IngestError::field(
+            f("compressor"),
+            format!("a {quantity} column needs its compressor (column {:?})", c.column),
+        )
+        .with_column(c.column.clone()));
+    }
+    if c.reference.is_some() && quantity != "flow" {
+        return Err(IngestError::field(f("reference"), "reference conditions apply to flow only"));
+    }
+    let table =
+        |q: LoggedQuantity| unit_table::find(q, &c.unit).map(|u| u.to_si).ok_or_else(|| unit_err(q.as_str()));
+    Ok(match quantity.as_str() {
+        "power" => (Quantity::Power, scale(table(LoggedQuantity::Power)?)),
+        "energy" => (Quantity::Energy, scale(table(LoggedQuantity::Energy)?)),
+        "pressure" => {
+            if unit_table::is_unqualified_pressure(&c.unit) {
+                return Err(IngestError::field(
+                    f("unit"),
+                    format!(
+                        "pressure unit {:?} does not say gauge or absolute (use {}_g or {}_a)",
+                        c.unit, c.unit, c.unit
+                    ),
+                )
+                .with_column(c.column.clone()));
+            }
+            let ToSi::Pressure { pa_per_unit, gauge } = table(LoggedQuantity::Pressure)? else {
+                unreachable!("the unit table lists pressure units with pressure factors")
+            };
+            (Quantity::Pressure, UnitRule::Pressure { pa_per_unit, gauge })
+        }
+        "flow" => {
+            let ToSi::Flow { m3_s_per_unit, reference: default_ref } = table(LoggedQuantity::Flow)? else {
+                unreachable!("the unit table lists flow units with flow factors")
+            };
+            let reference = match (default_ref, c.reference) {
+                (None, Some(_)) => {
+                    return Err(IngestError::field(
+                        f("reference"),
+                        format!(
+                            "flow unit {:?} is free air and takes no reference conditions (use a \
+                             standard or normal unit such as scfm or Nm3_h)",
+                            c.unit
+                        ),
+                    ))
+                }
+                (None, None) => None,
+                (Some(d), r) => Some(r.unwrap_or(d)),
+            };
+            if let Some(r) = reference {
+                let physical = r.pressure_kpa_abs > 0.0
+                    && r.pressure_kpa_abs.is_finite()
+                    && r.temperature_c > -T_ZERO_C
+                    && r.temperature_c.is_finite();
+                if !physical {
+                    return Err(IngestError::field(
+                        f("reference"),
+                        format!(
+                            "reference conditions {} kPa, {} c are not physical",
+                            r.pressure_kpa_abs, r.temperature_c
+                        ),
+                    ));
+                }
+            }
+            (Quantity::Flow, UnitRule::Flow { m3_s_per_unit, reference })
+        }
+        "temperature" => {
+            let ToSi::Temperature { scale, offset } = table(LoggedQuantity::Temperature)? else {
+                unreachable!("the unit table lists temperature units with temperature factors")
+            };
+            (Quantity::Temperature, UnitRule::Temperature { scale, offset })
+        }
+        "current" => {
+            table(LoggedQuantity::Current)?;
+            let volts = positive(c.volts, &f("volts"), "volts")?;
+            let pf = power_factor(
+                c.power_factor.ok_or_else(|| {
+                    IngestError::field(f("power_factor"), "a current column needs power_factor")
+                })?,
+                &f("power_factor"),
+            )?;
+            let phases = c.phases.unwrap_or(3);
+            let k = match phases {
+                3 => 3f64.sqrt() * volts,
+                1 => volts,
+                p => return Err(IngestError::field(f("phases"), format!("phases must be 1 or 3, got {p}"))),
+            };
+            let (pf_unloaded, below) = match (c.unloaded_power_factor, c.unloaded_below_a) {
+                (None, None) => (pf, f64::NEG_INFINITY),
+                (Some(u), Some(b)) if b.is_finite() && b >= 0.0 => {
+                    (power_factor(u, &f("unloaded_power_factor"))?, b)
+                }
+                (Some(_), Some(b)) => {
+                    return Err(IngestError::field(
+                        f("unloaded_below_a"),
+                        format!("unloaded_below_a must be a current >= 0, got {b}"),
+                    ))
+                }
+                (Some(_), None) => {
+                    return Err(IngestError::field(
+                        f("unloaded_below_a"),
+                        "unloaded_power_factor needs unloaded_below_a (the current below which \
+                         the compressor runs unloaded)",
+                    ))
+                }
+                (None, Some(_)) => {
+                    return Err(IngestError::field(
+                        f("unloaded_power_factor"),
+                        "unloaded_below_a needs unloaded_power_factor",
+                    ))
+                }
+            };
+            (
+                Quantity::Power,
+                UnitRule::Current {
+                    w_per_a: k * pf,
+                    w_per_a_unloaded: k * pf_unloaded,
+                    unloaded_below_a: below,
+                },
+            )
+        }
+        other => {
+            return Err(IngestError::field(
+                f("quantity"),
+                format!(
+                    "unknown quantity {other:?} (power, energy, current, pressure, flow, \
+                     temperature)"
+                ),
+            ))
+        }
+    })
+}

@@ -1,0 +1,187 @@
+/*!
+Data-quality findings collected in the one pass over a logger file.
+
+Memory is bounded whatever the file's length: counts, and at most [`MAX_EXAMPLES`] examples of
+each finding. Findings never reject a file (only unreadable input does, in `parse`); they are
+reported, and summarised by [`QualityReport::warnings`] into the API's `warnings` list.
+
+Per file: the median logging interval, gaps, duplicate and out-of-order timestamps, blank lines and
+daylight-saving cases with how each was resolved. Per channel: missing cells, gaps in that
+channel's readings, flat lines, values out of physical range, and counter resets/roll-overs.
+
+Rules (common practice in reviewing logger data; the thresholds are ours, documented here):
+- **Gap**: a spacing longer than 3x the median interval. The median comes from a histogram of the
+  distinct intervals (capped at 4096 distinct values; beyond that rare values are left out of the
+  median). The gap count and the longest gap are exact whatever the number of distinct spacings:
+  the spacings left out of the histogram are counted between the possible thresholds (see
+  [`gaps`]). The listed examples are the first gaps in file order, from candidates kept while
+  reading (spacings above 2x the running typical interval).
+- **Flat line**: the same value for at least 30 min and at least 30 readings in a row (a stuck
+  sensor, or a compressor that is off: both worth a look).
+- **Out of range** (kept, reported): power below -0.5 kW, flow below -0.05 m³/min (negative
+  beyond noise), pressure above 100 bar g, temperature outside -50..200 °C, a negative counter.
+- **Counter decrease**: an energy counter that goes down. A *roll-over* when the previous value was
+  at least 90 % of the next power of ten (in the logged unit) and the new one below 10 % of it
+  (a register wrapping at 99999 kWh, say); any other decrease is a *reset*.
+*/
+
+mod gaps;
+#[cfg(test)]
+mod tests;
+mod tracker;
+mod warnings;
+
+pub use tracker::QualityTracker;
+pub use warnings::human_duration;
+
+use crate::ingest::mapping::Quantity;
+use serde::Serialize;
+
+/// Examples kept per finding.
+pub const MAX_EXAMPLES: usize = 20;
+
+/// A count and the first few examples.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Findings<T> {
+    pub count: u64,
+    pub examples: Vec<T>,
+}
+
+impl<T> Default for Findings<T> {
+    fn default() -> Self {
+        Self { count: 0, examples: Vec::new() }
+    }
+}
+
+impl<T> Findings<T> {
+    fn push(&mut self, t: T) {
+        self.push_with(|| t);
+    }
+
+    /// Count one, and build the example only while there is room (formatting times per row
+    /// would cost more than the parse on a file full of one finding).
+    #[inline]
+    fn push_with(&mut self, f: impl FnOnce() -> T) {
+        self.count += 1;
+        if self.examples.len() < MAX_EXAMPLES {
+            self.examples.push(f());
+        }
+    }
+}
+
+/// A place in the file.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct At {
+    pub line: u64,
+    pub time: String,
+}
+
+/// One gap.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Gap {
+    pub start: String,
+    pub end: String,
+    pub duration_s: f64,
+}
+
+/// Gaps in a time series.
+#[derive(Debug, Clone, PartialEq, Serialize, Default)]
+pub struct GapReport {
+    pub count: u64,
+    /// True when `count` is a lower bound: see [`gaps`]. Left out of the JSON when false.
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    pub count_at_least: bool,
+    /// The threshold used: 3x the median interval.
+    pub threshold_s: Option<f64>,
+    pub longest_s: Option<f64>,
+    pub examples: Vec<Gap>,
+}
+
+/// A stretch of one repeated value.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FlatLine {
+    pub start: String,
+    pub end: String,
+    pub duration_s: f64,
+    pub readings: u64,
+    /// In the logged unit (`unit`).
+    pub value: f64,
+    pub unit: String,
+}
+
+/// A reading outside its physical range.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct OutOfRange {
+    pub line: u64,
+    pub time: String,
+    pub value: f64,
+    pub unit: String,
+    pub reason: String,
+}
+
+/// An energy counter going down.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CounterDrop {
+    pub line: u64,
+    pub time: String,
+    pub previous: f64,
+    pub value: f64,
+    pub unit: String,
+    /// `reset` or `rollover`.
+    pub kind: String,
+}
+
+/// A daylight-saving case and its resolution.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DstFinding {
+    pub line: u64,
+    pub local_time: String,
+    pub utc: String,
+    pub utc_offset_s: i32,
+    /// `ambiguous_earlier_offset`, `ambiguous_later_offset` or `gap_shifted_forward`.
+    pub resolution: String,
+}
+
+/// Daylight-saving cases met.
+#[derive(Debug, Clone, PartialEq, Serialize, Default)]
+pub struct DstReport {
+    pub ambiguous_earlier: u64,
+    pub ambiguous_later: u64,
+    pub gap_shifted: u64,
+    pub examples: Vec<DstFinding>,
+}
+
+/// Per-file findings.
+#[derive(Debug, Clone, PartialEq, Serialize, Default)]
+pub struct FileQuality {
+    pub rows: u64,
+    pub blank_lines: u64,
+    pub median_interval_s: Option<f64>,
+    pub gaps: GapReport,
+    pub duplicate_timestamps: Findings<At>,
+    pub out_of_order: Findings<At>,
+    pub dst: DstReport,
+}
+
+/// Per-channel findings.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ChannelQuality {
+    pub label: String,
+    pub quantity: Quantity,
+    pub compressor: Option<String>,
+    pub unit: String,
+    pub readings: u64,
+    /// Lines with a missing-value cell.
+    pub missing: Findings<u64>,
+    pub gaps: GapReport,
+    pub flat_lines: Findings<FlatLine>,
+    pub out_of_range: Findings<OutOfRange>,
+    pub counter_drops: Findings<CounterDrop>,
+}
+
+/// Everything found.
+#[derive(Debug, Clone, PartialEq, Serialize, Default)]
+pub struct QualityReport {
+    pub file: FileQuality,
+    pub channels: Vec<ChannelQuality>,
+}

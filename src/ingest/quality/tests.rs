@@ -1,0 +1,165 @@
+use super::gaps::{Intervals, MAX_DISTINCT_INTERVALS};
+use super::*;
+use crate::core::units::T_ZERO_C;
+use crate::ingest::mapping::{ChannelDef, Converter};
+
+fn chan(q: Quantity, unit: &str) -> ChannelDef {
+    ChannelDef {
+        quantity: q,
+        compressor: Some("C1".into()),
+        label: format!("C1 {unit}"),
+        unit: unit.into(),
+        column_index: 1,
+    }
+}
+
+#[test]
+fn gaps_duplicates_and_out_of_order_at_one_second() {
+    let ch = [chan(Quantity::Power, "kW")];
+    let conv = [Converter::Linear { scale: 1000.0, offset: 0.0 }];
+    let mut q = QualityTracker::new(&ch, &conv, 101_325.0);
+    let mut t = 0i64;
+    let mut line = 1;
+    let mut step = |q: &mut QualityTracker, t: i64| {
+        line += 1;
+        q.row(line, t);
+        q.reading(0, line, t, 5000.0 + (t % 7) as f64);
+    };
+    for _ in 0..100 {
+        t += 1000;
+        step(&mut q, t);
+    }
+    t += 60_000; // a one-minute gap: > 3 x 1 s
+    step(&mut q, t);
+    step(&mut q, t); // duplicate
+    step(&mut q, t - 500); // out of order
+    for _ in 0..10 {
+        t += 1000;
+        step(&mut q, t);
+    }
+    let r = q.finish();
+    assert_eq!(r.file.median_interval_s, Some(1.0));
+    assert_eq!(r.file.gaps.count, 1);
+    assert_eq!(r.file.gaps.longest_s, Some(60.0));
+    assert_eq!(r.file.gaps.examples[0].start, "1970-01-01T00:01:40Z");
+    assert_eq!(r.file.duplicate_timestamps.count, 1);
+    assert_eq!(r.file.out_of_order.count, 1);
+    let w = r.warnings();
+    assert!(w[0].starts_with("1 gap longer than 3x the 1 s logging interval; the longest is 60 s"), "{w:?}");
+    assert!(w.iter().any(|s| s.starts_with("1 duplicate timestamp (first at line 103")), "{w:?}");
+}
+
+#[test]
+fn flat_line_needs_thirty_minutes_and_thirty_readings() {
+    let ch = [chan(Quantity::Pressure, "bar_g")];
+    let conv = [Converter::Linear { scale: 1e5, offset: 101_325.0 }];
+    let mut q = QualityTracker::new(&ch, &conv, 101_325.0);
+    // 40 readings 1 min apart at 7 bar g: 39 min, flat. Then 20 readings at 6 bar g 2 min apart
+    // (38 min but only 20 readings): not flat.
+    for i in 0..40 {
+        q.reading(0, i + 2, i as i64 * 60_000, 7e5 + 101_325.0);
+    }
+    for i in 40..60 {
+        q.reading(0, i + 2, (40 + (i as i64 - 40) * 2) * 60_000, 6e5 + 101_325.0);
+    }
+    let r = q.finish();
+    let f = &r.channels[0].flat_lines;
+    assert_eq!(f.count, 1);
+    assert_eq!(f.examples[0].readings, 40);
+    assert!((f.examples[0].value - 7.0).abs() < 1e-12);
+    assert_eq!(f.examples[0].duration_s, 39.0 * 60.0);
+    assert!(r.warnings()[0].contains("the longest is 7 bar_g for 39 min"), "{:?}", r.warnings());
+}
+
+#[test]
+fn counter_reset_and_rollover_are_told_apart() {
+    let ch = [chan(Quantity::Energy, "kWh")];
+    let conv = [Converter::Linear { scale: 3.6e6, offset: 0.0 }];
+    let mut q = QualityTracker::new(&ch, &conv, 101_325.0);
+    for (i, kwh) in [99_990.0, 99_998.0, 3.0, 10.0, 5.0].iter().enumerate() {
+        q.reading(0, i as u64 + 2, i as i64 * 1000, kwh * 3.6e6);
+    }
+    let r = q.finish();
+    let d = &r.channels[0].counter_drops;
+    assert_eq!(d.count, 2);
+    assert_eq!((d.examples[0].kind.as_str(), d.examples[0].line), ("rollover", 4));
+    assert_eq!((d.examples[1].kind.as_str(), d.examples[1].previous), ("reset", 10.0));
+}
+
+#[test]
+fn out_of_range_values_are_reported_in_the_logged_unit() {
+    let ch = [chan(Quantity::Temperature, "C"), chan(Quantity::Pressure, "psig")];
+    let conv = [
+        Converter::Linear { scale: 1.0, offset: T_ZERO_C },
+        Converter::Linear { scale: 6894.757293168, offset: 101_325.0 },
+    ];
+    let mut q = QualityTracker::new(&ch, &conv, 101_325.0);
+    q.reading(0, 2, 0, T_ZERO_C + 250.0);
+    q.reading(0, 3, 1000, T_ZERO_C + 20.0);
+    q.reading(1, 2, 0, 2000.0 * 6894.757293168 + 101_325.0); // 2000 psig > 100 bar g
+    let r = q.finish();
+    assert_eq!(r.channels[0].out_of_range.count, 1);
+    assert!((r.channels[0].out_of_range.examples[0].value - 250.0).abs() < 1e-9);
+    assert_eq!(r.channels[1].out_of_range.examples[0].reason, "above 100 bar g");
+}
+
+#[test]
+fn the_median_interval_survives_clock_jitter_and_many_distinct_spacings() {
+    let mut iv = Intervals::default();
+    let mut t = 0;
+    // 999/1000/1000/1001 ms repeating (median 1000), then 10,000 distinct spacings of an
+    // event logger, fewer than the regular ones.
+    for i in 0..40_000 {
+        t += [999, 1000, 1000, 1001][i % 4];
+        iv.observe(t);
+    }
+    for k in 0..10_000 {
+        t += 5_000 + k;
+        iv.observe(t);
+    }
+    assert_eq!(iv.median_ms(), Some(1000));
+    let r = iv.report(Some(1000));
+    // Every event spacing (5.000 to 14.999 s) is longer than 3 s: 10,000 gaps, although only
+    // 4096 - 3 of them fit in the histogram of distinct spacings.
+    assert_eq!(r.longest_s, Some(14.999));
+    assert_eq!(r.count, 10_000);
+    assert!(!r.count_at_least);
+    assert_eq!(r.examples.len(), MAX_EXAMPLES);
+}
+
+#[test]
+fn a_threshold_between_left_out_spacings_gives_a_lower_bound() {
+    let mut iv = Intervals::default();
+    let mut t = 0;
+    // 1 s spacings, then distinct spacings from 10 s up until the histogram is full.
+    for _ in 0..100 {
+        t += 1000;
+        iv.observe(t);
+    }
+    for k in 0..(MAX_DISTINCT_INTERVALS as i64 - 1) {
+        t += 10_000 + k;
+        iv.observe(t);
+    }
+    // Two spacings with no room left: 2 s and 5 s.
+    for dt in [2000, 5000] {
+        t += dt;
+        iv.observe(t);
+    }
+    // Against 3x a spacing of this series (3 s) the count is exact: the 4095 long ones and 5 s.
+    let r = iv.report(Some(1000));
+    assert_eq!((r.count, r.count_at_least), (MAX_DISTINCT_INTERVALS as u64, false));
+    // Against 4.5 s (3x another series' median), 5 s lies between the possible thresholds 3 s
+    // and 30 s with nothing to tell it from a 4 s spacing: at least the 4095 long ones.
+    let r = iv.report(Some(1500));
+    assert_eq!((r.count, r.count_at_least), (MAX_DISTINCT_INTERVALS as u64 - 1, true));
+    let mut report = QualityReport::default();
+    report.file.gaps = r;
+    report.file.median_interval_s = Some(1.5);
+    let w = report.warnings();
+    assert!(w[0].starts_with("at least 4095 gaps longer than 3x the 1.5 s logging interval"), "{w:?}");
+    // The JSON names the lower bound only when there is one.
+    let json = serde_json::to_value(&report.file.gaps).unwrap();
+    assert_eq!(json["count_at_least"], true);
+    let exact = serde_json::to_value(iv.report(Some(1000))).unwrap();
+    assert!(exact.get("count_at_least").is_none());
+}

@@ -1,0 +1,255 @@
+/*!
+The tracker the parser feeds, row by row and reading by reading: duplicates, out-of-order times,
+daylight-saving cases, missing cells, flat lines, ranges and counter drops.
+*/
+
+use super::gaps::Intervals;
+use super::{
+    At, ChannelQuality, CounterDrop, DstFinding, FileQuality, Findings, FlatLine, GapReport, OutOfRange,
+    QualityReport, MAX_EXAMPLES,
+};
+use crate::core::units::{PA_PER_BAR, T_ZERO_C};
+use crate::ingest::mapping::{ChannelDef, Converter, Quantity};
+use crate::ingest::timestamp::{format_local_ms, format_utc_ms, DstCase, DstResolution};
+
+const FLAT_MIN_MS: i64 = 30 * 60 * 1000;
+const FLAT_MIN_READINGS: u64 = 30;
+
+#[derive(Debug, Clone)]
+struct Run {
+    value: f64,
+    start_t: i64,
+    last_t: i64,
+    count: u64,
+}
+
+#[derive(Debug, Clone)]
+struct ChannelTracker {
+    q: ChannelQuality,
+    conv: Converter,
+    display_unit: String,
+    intervals: Intervals,
+    run: Option<Run>,
+    prev_counter: Option<f64>,
+    range: Range,
+}
+
+#[derive(Debug, Clone, Copy)]
+struct Range {
+    min_si: f64,
+    max_si: f64,
+    below: &'static str,
+    above: &'static str,
+}
+
+fn range_for(q: Quantity, atmosphere_pa: f64) -> Range {
+    let none = f64::INFINITY;
+    match q {
+        Quantity::Power => Range { min_si: -500.0, max_si: none, below: "negative power", above: "" },
+        Quantity::Flow => Range { min_si: -0.05 / 60.0, max_si: none, below: "negative flow", above: "" },
+        Quantity::Pressure => Range {
+            min_si: -none,
+            max_si: 100.0 * PA_PER_BAR + atmosphere_pa,
+            below: "",
+            above: "above 100 bar g",
+        },
+        Quantity::Temperature => Range {
+            min_si: T_ZERO_C - 50.0,
+            max_si: T_ZERO_C + 200.0,
+            below: "below -50 c",
+            above: "above 200 c",
+        },
+        Quantity::Energy => Range { min_si: 0.0, max_si: none, below: "negative counter", above: "" },
+    }
+}
+
+/// Collects findings while a file is parsed.
+#[derive(Debug, Clone)]
+pub struct QualityTracker {
+    file: FileQuality,
+    intervals: Intervals,
+    last_t: Option<i64>,
+    channels: Vec<ChannelTracker>,
+}
+
+impl QualityTracker {
+    /// A tracker for the plan's channels with their converters (`atmosphere_pa` for the 100 bar g
+    /// limit).
+    pub fn new(channels: &[ChannelDef], converters: &[Converter], atmosphere_pa: f64) -> Self {
+        let channels = channels
+            .iter()
+            .zip(converters)
+            .map(|(c, conv)| {
+                let display_unit = match conv {
+                    Converter::Current { .. } => "kW".to_string(),
+                    Converter::Linear { .. } => c.unit.clone(),
+                };
+                ChannelTracker {
+                    q: ChannelQuality {
+                        label: c.label.clone(),
+                        quantity: c.quantity,
+                        compressor: c.compressor.clone(),
+                        unit: c.unit.clone(),
+                        readings: 0,
+                        missing: Findings::default(),
+                        gaps: GapReport::default(),
+                        flat_lines: Findings::default(),
+                        out_of_range: Findings::default(),
+                        counter_drops: Findings::default(),
+                    },
+                    conv: *conv,
+                    display_unit,
+                    intervals: Intervals::default(),
+                    run: None,
+                    prev_counter: None,
+                    range: range_for(c.quantity, atmosphere_pa),
+                }
+            })
+            .collect();
+        Self { file: FileQuality::default(), intervals: Intervals::default(), last_t: None, channels }
+    }
+
+    pub fn blank_line(&mut self) {
+        self.file.blank_lines += 1;
+    }
+
+    /// A data row with its UTC time.
+    #[inline]
+    pub fn row(&mut self, line: u64, t_ms: i64) {
+        self.file.rows += 1;
+        if let Some(prev) = self.last_t {
+            if t_ms == prev {
+                self.file.duplicate_timestamps.push_with(|| At { line, time: format_utc_ms(t_ms) });
+            } else if t_ms < prev {
+                self.file.out_of_order.push_with(|| At { line, time: format_utc_ms(t_ms) });
+            }
+        }
+        self.last_t = Some(t_ms);
+        self.intervals.observe(t_ms);
+    }
+
+    /// A daylight-saving case on a line.
+    pub fn dst(&mut self, line: u64, case: DstCase, utc_ms: i64) {
+        let d = &mut self.file.dst;
+        let resolution = match case.resolution {
+            DstResolution::AmbiguousEarlier => {
+                d.ambiguous_earlier += 1;
+                "ambiguous_earlier_offset"
+            }
+            DstResolution::AmbiguousLater => {
+                d.ambiguous_later += 1;
+                "ambiguous_later_offset"
+            }
+            DstResolution::GapShiftedForward => {
+                d.gap_shifted += 1;
+                "gap_shifted_forward"
+            }
+        };
+        if d.examples.len() < MAX_EXAMPLES {
+            d.examples.push(DstFinding {
+                line,
+                local_time: format_local_ms(case.local_ms),
+                utc: format_utc_ms(utc_ms),
+                utc_offset_s: case.offset_s,
+                resolution: resolution.into(),
+            });
+        }
+    }
+
+    /// A missing-value cell.
+    pub fn missing(&mut self, channel: usize, line: u64) {
+        self.channels[channel].q.missing.push(line);
+    }
+
+    /// A reading in SI.
+    #[inline]
+    pub fn reading(&mut self, channel: usize, line: u64, t_ms: i64, si: f64) {
+        let c = &mut self.channels[channel];
+        c.q.readings += 1;
+        c.intervals.observe(t_ms);
+        // Flat lines.
+        match &mut c.run {
+            Some(r) if r.value == si => {
+                r.count += 1;
+                r.last_t = t_ms;
+            }
+            run => {
+                if let Some(r) = run.take() {
+                    Self::close_run(&mut c.q, &c.conv, &c.display_unit, &r);
+                }
+                *run = Some(Run { value: si, start_t: t_ms, last_t: t_ms, count: 1 });
+            }
+        }
+        // Range.
+        if si < c.range.min_si || si > c.range.max_si {
+            let reason = if si < c.range.min_si { c.range.below } else { c.range.above };
+            let (conv, unit) = (&c.conv, &c.display_unit);
+            c.q.out_of_range.push_with(|| OutOfRange {
+                line,
+                time: format_utc_ms(t_ms),
+                value: conv.to_logged(si),
+                unit: unit.clone(),
+                reason: reason.into(),
+            });
+        }
+        // Counters.
+        if c.q.quantity == Quantity::Energy {
+            if let Some(prev) = c.prev_counter {
+                if si < prev {
+                    let (p, v) = (c.conv.to_logged(prev), c.conv.to_logged(si));
+                    let next_pow = 10f64.powf(p.abs().max(1.0).log10().floor() + 1.0);
+                    let kind = if p >= 0.9 * next_pow && v < 0.1 * next_pow { "rollover" } else { "reset" };
+                    let unit = &c.display_unit;
+                    c.q.counter_drops.push_with(|| CounterDrop {
+                        line,
+                        time: format_utc_ms(t_ms),
+                        previous: p,
+                        value: v,
+                        unit: unit.clone(),
+                        kind: kind.into(),
+                    });
+                }
+            }
+            c.prev_counter = Some(si);
+        }
+    }
+
+    fn close_run(q: &mut ChannelQuality, conv: &Converter, unit: &str, r: &Run) {
+        if r.last_t - r.start_t >= FLAT_MIN_MS && r.count >= FLAT_MIN_READINGS {
+            q.flat_lines.push_with(|| FlatLine {
+                start: format_utc_ms(r.start_t),
+                end: format_utc_ms(r.last_t),
+                duration_s: (r.last_t - r.start_t) as f64 / 1000.0,
+                readings: r.count,
+                value: conv.to_logged(r.value),
+                unit: unit.to_string(),
+            });
+        }
+    }
+
+    /// The median row interval so far, s.
+    pub fn median_interval_s(&self) -> Option<f64> {
+        self.intervals.median_ms().map(|m| m as f64 / 1000.0)
+    }
+
+    /// Close open runs and build the report.
+    pub fn finish(mut self) -> QualityReport {
+        let median = self.intervals.median_ms();
+        self.file.median_interval_s = median.map(|m| m as f64 / 1000.0);
+        self.file.gaps = self.intervals.report(median);
+        let channels = self
+            .channels
+            .into_iter()
+            .map(|mut c| {
+                if let Some(r) = c.run.take() {
+                    Self::close_run(&mut c.q, &c.conv, &c.display_unit, &r);
+                }
+                // A channel's gaps are judged against the file's interval: a channel logged every
+                // row has none beyond the file's own.
+                c.q.gaps = c.intervals.report(median.or_else(|| c.intervals.median_ms()));
+                c.q
+            })
+            .collect();
+        QualityReport { file: self.file, channels }
+    }
+}

@@ -1,0 +1,259 @@
+/*!
+One logger file into the database: streaming, bounded memory, never half-visible.
+
+The path: the file (already on disk, its SHA-256 known) is parsed by `ingest::parse` on a blocking
+thread; readings arrive per channel in a [`ChunkSink`], which cuts them into runs of
+[`CHUNK_READINGS`](super::chunk::CHUNK_READINGS) and hands them through a bounded queue to an encoder
+thread ([`encoder`]), which builds the rollups and encodes the chunks, so that parsing and
+encoding use two cores. Encoded chunks go through a second bounded queue to the writer, which
+commits them in batches of [`BATCH`] ([`writer`]) so that the WAL stays small. The upload row is in state
+`importing` all that time, which every reader ignores; the last transaction checks overlaps, marks
+it `complete` and bumps the audit's revision. A crash before that leaves an `importing` row that the
+next start-up deletes with its chunks ([`remove_unfinished`]). Replacing overlapping readings
+(`replace=true`) re-encodes the other uploads' chunks around the new span ([`replace`]).
+
+Readings of one channel must arrive in time order: a reading not later than the channel's previous one
+(a duplicate or out-of-order timestamp, which the data-quality report lists) is dropped, the first one
+kept.
+*/
+
+mod encoder;
+mod replace;
+mod writer;
+
+use std::path::PathBuf;
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::Arc;
+
+use serde::Serialize;
+use sqlx::{Row, SqlitePool};
+
+use super::{begin_write, now_rfc3339, StoreError};
+use crate::core::units::SiteAir;
+use crate::ingest::{self, IngestError, Mapping};
+use writer::run_import;
+
+/// Chunks (or rollup pieces) committed per write transaction.
+pub const BATCH: usize = 96;
+
+/// What to import.
+pub struct ImportRequest {
+    pub audit_id: i64,
+    pub filename: String,
+    pub path: PathBuf,
+    pub sha256: String,
+    pub bytes: u64,
+    pub mapping: Mapping,
+    /// Replace stored readings of the same channels in the file's span instead of refusing (409).
+    pub replace: bool,
+    pub site: SiteAir,
+    /// Compressor tags of the audit with their ids.
+    pub compressors: Vec<(String, i64)>,
+}
+
+/// The result the API returns for a new upload.
+#[derive(Debug, Clone, Serialize)]
+pub struct ImportSummary {
+    pub upload_id: i64,
+    pub rows: u64,
+    pub readings: u64,
+    pub first: Option<String>,
+    pub last: Option<String>,
+    pub interval_s: Option<f64>,
+    pub warnings: Vec<String>,
+    pub quality: serde_json::Value,
+    pub channels: Vec<ChannelSpan>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct ChannelSpan {
+    pub label: String,
+    pub quantity: String,
+    pub compressor: Option<String>,
+    pub readings: u64,
+    pub first: String,
+    pub last: String,
+}
+
+pub enum ImportOutcome {
+    Created(ImportSummary),
+    /// The same bytes were imported before into this audit: nothing added.
+    Duplicate {
+        upload_id: i64,
+    },
+}
+
+#[derive(Debug, thiserror::Error)]
+pub enum ImportError {
+    /// The file or the mapping is wrong (422, with line and column where known).
+    #[error("{0}")]
+    Bad(IngestError),
+    /// Readings overlap stored readings of the same channel (409).
+    #[error("readings of {channel} from {first} to {last} overlap upload {upload_id} ({other_first} to {other_last}); send replace=true to replace them")]
+    Overlap {
+        channel: String,
+        first: String,
+        last: String,
+        upload_id: i64,
+        other_first: String,
+        other_last: String,
+    },
+    /// The same file is being imported right now (409).
+    #[error("this file is being imported already (upload {0})")]
+    InProgress(i64),
+    #[error(transparent)]
+    Store(#[from] StoreError),
+}
+
+impl From<sqlx::Error> for ImportError {
+    fn from(e: sqlx::Error) -> Self {
+        Self::Store(StoreError::Sqlx(e))
+    }
+}
+
+/// Progress of an import, readable from another task.
+#[derive(Debug, Default)]
+pub struct Progress {
+    pub bytes_total: AtomicU64,
+    pub bytes_done: AtomicU64,
+    pub readings: AtomicU64,
+}
+
+/// A channel this file writes, resolved against the audit.
+struct PlannedChannel {
+    id: i64,
+    label: String,
+    quantity: &'static str,
+    compressor: Option<String>,
+}
+
+fn bad(message: String, field: Option<String>) -> ImportError {
+    ImportError::Bad(IngestError { message, line: None, column: None, field })
+}
+
+/// Import one file. The same bytes twice give [`ImportOutcome::Duplicate`].
+pub async fn import_file(
+    pool: &SqlitePool,
+    req: ImportRequest,
+    progress: Arc<Progress>,
+) -> Result<ImportOutcome, ImportError> {
+    progress.bytes_total.store(req.bytes, Ordering::Relaxed);
+    if let Some(r) = sqlx::query("SELECT id, state FROM upload WHERE audit_id = ? AND sha256 = ?")
+        .bind(req.audit_id)
+        .bind(&req.sha256)
+        .fetch_optional(pool)
+        .await?
+    {
+        let id: i64 = r.get("id");
+        let state: String = r.get("state");
+        return if state == "complete" {
+            Ok(ImportOutcome::Duplicate { upload_id: id })
+        } else {
+            Err(ImportError::InProgress(id))
+        };
+    }
+
+    // Resolve the mapped columns to channels before reading a single row.
+    let defs = ingest::channel_defs(&req.mapping).map_err(ImportError::Bad)?;
+    let mut tx = begin_write(pool).await?;
+    let upload_id = match sqlx::query(
+        "INSERT INTO upload (audit_id, filename, sha256, bytes, state, mapping, created_at) \
+         VALUES (?, ?, ?, ?, 'importing', ?, ?)",
+    )
+    .bind(req.audit_id)
+    .bind(&req.filename)
+    .bind(&req.sha256)
+    .bind(req.bytes as i64)
+    .bind(serde_json::to_string(&req.mapping).unwrap_or_default())
+    .bind(now_rfc3339())
+    .execute(&mut *tx)
+    .await
+    {
+        Ok(r) => r.last_insert_rowid(),
+        Err(e) if e.as_database_error().is_some_and(|d| d.is_unique_violation()) => {
+            return Err(ImportError::InProgress(0));
+        }
+        Err(e) => return Err(e.into()),
+    };
+    let mut planned = Vec::with_capacity(defs.len());
+    for (i, d) in defs.iter().enumerate() {
+        let compressor_id = match &d.compressor {
+            Some(tag) => {
+                Some(req.compressors.iter().find(|(t, _)| t == tag).map(|(_, id)| *id).ok_or_else(|| {
+                    bad(
+                        format!(
+                            "column {:?} names compressor {tag:?}, which this audit does not have",
+                            d.label
+                        ),
+                        Some(format!("columns[{i}].compressor")),
+                    )
+                })?)
+            }
+            None => None,
+        };
+        // A compressor's power is one channel whatever file or column it comes from.
+        let label = if compressor_id.is_some() { String::new() } else { d.label.clone() };
+        let quantity = d.quantity.as_str();
+        sqlx::query(
+            "INSERT INTO channel (audit_id, quantity, compressor_id, label, unit) VALUES (?, ?, ?, ?, ?) \
+             ON CONFLICT DO NOTHING",
+        )
+        .bind(req.audit_id)
+        .bind(quantity)
+        .bind(compressor_id)
+        .bind(&label)
+        .bind(&d.unit)
+        .execute(&mut *tx)
+        .await?;
+        let id: i64 = sqlx::query_scalar(
+            "SELECT id FROM channel WHERE audit_id = ? AND quantity = ? AND compressor_id IS ? AND label = ?",
+        )
+        .bind(req.audit_id)
+        .bind(quantity)
+        .bind(compressor_id)
+        .bind(&label)
+        .fetch_one(&mut *tx)
+        .await?;
+        if planned.iter().any(|p: &PlannedChannel| p.id == id) {
+            return Err(bad(
+                format!(
+                    "two columns map to the same channel ({} {})",
+                    quantity,
+                    d.compressor.as_deref().unwrap_or(&d.label)
+                ),
+                Some(format!("columns[{i}]")),
+            ));
+        }
+        planned.push(PlannedChannel {
+            id,
+            label: d.label.clone(),
+            quantity,
+            compressor: d.compressor.clone(),
+        });
+    }
+    tx.commit().await?;
+
+    let result = run_import(pool, &req, upload_id, &planned, &defs, progress).await;
+    match result {
+        Ok(summary) => Ok(ImportOutcome::Created(summary)),
+        Err(e) => {
+            // Nothing of a failed file stays: the cascade removes its chunks and rollups.
+            let mut tx = begin_write(pool).await?;
+            sqlx::query("DELETE FROM upload WHERE id = ?").bind(upload_id).execute(&mut *tx).await?;
+            tx.commit().await?;
+            Err(e)
+        }
+    }
+}
+
+/// Remove uploads that a crash left unfinished, with everything they wrote.
+pub async fn remove_unfinished(pool: &SqlitePool) -> Result<u64, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n =
+        sqlx::query("DELETE FROM upload WHERE state = 'importing'").execute(&mut *tx).await?.rows_affected();
+    tx.commit().await?;
+    if n > 0 {
+        tracing::warn!(uploads = n, "removed uploads left unfinished by an earlier stop");
+    }
+    Ok(n)
+}

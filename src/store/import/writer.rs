@@ -1,0 +1,267 @@
+/*!
+The writer: runs the parse and encoder threads, commits what they send in batches of [`BATCH`],
+and in a last transaction checks overlaps, records the spans and marks the upload complete.
+*/
+
+use std::sync::atomic::Ordering;
+use std::sync::Arc;
+
+use sqlx::{Row, SqlitePool};
+use tokio::sync::mpsc;
+
+use super::encoder::{encode_runs, ChannelBuf, ChunkSink, Msg, Work, ENCODER_QUEUE};
+use super::replace::cut_out;
+use super::{bad, ChannelSpan, ImportError, ImportRequest, ImportSummary, PlannedChannel, Progress, BATCH};
+use crate::ingest::{self, IngestError};
+use crate::store::audits::{bump, ms_to_rfc3339};
+use crate::store::chunk::{Precision, CHUNK_READINGS};
+use crate::store::{begin_write, now_rfc3339};
+
+pub(super) async fn run_import(
+    pool: &SqlitePool,
+    req: &ImportRequest,
+    upload_id: i64,
+    planned: &[PlannedChannel],
+    defs: &[ingest::ChannelDef],
+    progress: Arc<Progress>,
+) -> Result<ImportSummary, ImportError> {
+    let (tx, mut rx) = mpsc::channel::<Msg>(32);
+    let precisions: Vec<Precision> = defs
+        .iter()
+        .map(|d| if d.quantity == ingest::Quantity::Energy { Precision::F64 } else { Precision::F32 })
+        .collect();
+    let channels = defs
+        .iter()
+        .map(|_| ChannelBuf {
+            times: Vec::with_capacity(CHUNK_READINGS),
+            values: Vec::with_capacity(CHUNK_READINGS),
+            last_t: None,
+            first_t: None,
+            readings: 0,
+            dropped: 0,
+        })
+        .collect();
+    let path = req.path.clone();
+    let mapping = req.mapping.clone();
+    let site = req.site;
+    let prog = progress.clone();
+    let parser = tokio::task::spawn_blocking(move || {
+        let (work_tx, work_rx) = std::sync::mpsc::sync_channel::<Work>(ENCODER_QUEUE);
+        std::thread::scope(|scope| {
+            let encoder = scope.spawn(move || encode_runs(precisions, work_rx, tx));
+            let parsed = (|| {
+                let mut sink = ChunkSink { channels, tx: work_tx, progress: prog.clone() };
+                let file = std::fs::File::open(&path).map_err(|e| IngestError {
+                    message: format!("cannot read the uploaded file: {e}"),
+                    line: None,
+                    column: None,
+                    field: None,
+                })?;
+                let reader = std::io::BufReader::with_capacity(256 * 1024, file);
+                let report = ingest::parse_stream(reader, &mapping, &site, &mut sink, &mut |b| {
+                    prog.bytes_done.store(b, Ordering::Relaxed)
+                })?;
+                sink.finish()?;
+                let spans: Vec<(Option<i64>, Option<i64>, u64, u64)> =
+                    sink.channels.iter().map(|c| (c.first_t, c.last_t, c.readings, c.dropped)).collect();
+                Ok::<_, IngestError>((report, spans))
+            })();
+            // The sink (and with it the encoder's queue) is dropped by now, so the encoder ends.
+            let encoded = encoder.join().unwrap_or_else(|_| {
+                Err(IngestError {
+                    message: "the encoder failed".into(),
+                    line: None,
+                    column: None,
+                    field: None,
+                })
+            });
+            let parsed = parsed?;
+            encoded?;
+            Ok::<_, IngestError>(parsed)
+        })
+    });
+
+    // The writer: batches of chunks and rollups, one short transaction each.
+    let mut batch = Vec::with_capacity(BATCH);
+    let mut write_error = None;
+    while let Some(m) = rx.recv().await {
+        batch.push(m);
+        if batch.len() >= BATCH {
+            if let Err(e) = write_batch(pool, upload_id, planned, &mut batch).await {
+                write_error = Some(e);
+                break;
+            }
+        }
+    }
+    if write_error.is_none() && !batch.is_empty() {
+        if let Err(e) = write_batch(pool, upload_id, planned, &mut batch).await {
+            write_error = Some(e);
+        }
+    }
+    drop(rx);
+    let parsed = parser.await.map_err(|e| bad(format!("the parser failed: {e}"), None))?;
+    if let Some(e) = write_error {
+        return Err(e);
+    }
+    let (report, spans) = parsed.map_err(ImportError::Bad)?;
+
+    // The last transaction: overlap check, spans, completion.
+    let mut tx = begin_write(pool).await?;
+    let mut channel_spans = vec![];
+    let mut readings = 0u64;
+    let mut dropped_total = 0u64;
+    for (p, (first, last, n, dropped)) in planned.iter().zip(&spans) {
+        dropped_total += dropped;
+        let (Some(first), Some(last)) = (*first, *last) else { continue };
+        readings += n;
+        let clash = sqlx::query(
+            "SELECT uc.upload_id, uc.first_ms, uc.last_ms FROM upload_channel uc JOIN upload u ON u.id = uc.upload_id \
+             WHERE uc.channel_id = ? AND u.state = 'complete' AND uc.first_ms <= ? AND uc.last_ms >= ? LIMIT 1",
+        )
+        .bind(p.id)
+        .bind(last)
+        .bind(first)
+        .fetch_optional(&mut *tx)
+        .await?;
+        if let Some(c) = clash {
+            let other: i64 = c.get("upload_id");
+            if !req.replace {
+                return Err(ImportError::Overlap {
+                    channel: channel_name(p),
+                    first: ms_to_rfc3339(first),
+                    last: ms_to_rfc3339(last),
+                    upload_id: other,
+                    other_first: ms_to_rfc3339(c.get("first_ms")),
+                    other_last: ms_to_rfc3339(c.get("last_ms")),
+                });
+            }
+            cut_out(&mut tx, p.id, upload_id, first, last).await?;
+        }
+        sqlx::query("INSERT INTO upload_channel (upload_id, channel_id, first_ms, last_ms, readings) VALUES (?, ?, ?, ?, ?)")
+            .bind(upload_id)
+            .bind(p.id)
+            .bind(first)
+            .bind(last)
+            .bind(*n as i64)
+            .execute(&mut *tx)
+            .await?;
+        channel_spans.push(ChannelSpan {
+            label: p.label.clone(),
+            quantity: p.quantity.to_string(),
+            compressor: p.compressor.clone(),
+            readings: *n,
+            first: ms_to_rfc3339(first),
+            last: ms_to_rfc3339(last),
+        });
+    }
+    if readings == 0 {
+        return Err(bad("the file holds no readings in the mapped columns".into(), None));
+    }
+    let mut warnings = report.quality.warnings();
+    if dropped_total > 0 {
+        warnings.push(format!(
+            "{dropped_total} readings at duplicate or out-of-order timestamps were dropped (the first reading of each time was kept)"
+        ));
+    }
+    let quality = serde_json::to_value(&report.quality).unwrap_or_default();
+    let first = spans.iter().filter_map(|s| s.0).min();
+    let last = spans.iter().filter_map(|s| s.1).max();
+    sqlx::query(
+        "UPDATE upload SET state = 'complete', rows = ?, readings = ?, first_ms = ?, last_ms = ?, quality = ?, warnings = ? \
+         WHERE id = ?",
+    )
+    .bind(report.rows as i64)
+    .bind(readings as i64)
+    .bind(first)
+    .bind(last)
+    .bind(quality.to_string())
+    .bind(serde_json::to_string(&warnings).unwrap_or_default())
+    .bind(upload_id)
+    .execute(&mut *tx)
+    .await?;
+    if let Some(header) = &report.header {
+        sqlx::query(
+            "INSERT INTO remembered_mapping (layout_key, mapping, updated_at) VALUES (?, ?, ?) \
+             ON CONFLICT (layout_key) DO UPDATE SET mapping = excluded.mapping, updated_at = excluded.updated_at",
+        )
+        .bind(ingest::layout_key(header))
+        .bind(serde_json::to_string(&req.mapping).unwrap_or_default())
+        .bind(now_rfc3339())
+        .execute(&mut *tx)
+        .await?;
+    }
+    bump(&mut tx, req.audit_id).await?;
+    tx.commit().await?;
+    progress.readings.store(readings, Ordering::Relaxed);
+    Ok(ImportSummary {
+        upload_id,
+        rows: report.rows,
+        readings,
+        first: first.map(ms_to_rfc3339),
+        last: last.map(ms_to_rfc3339),
+        interval_s: report.median_interval_s,
+        warnings,
+        quality,
+        channels: channel_spans,
+    })
+}
+
+fn channel_name(p: &PlannedChannel) -> String {
+    match &p.compressor {
+        Some(tag) => format!("{} of compressor {tag}", p.quantity),
+        None => format!("{} {:?}", p.quantity, p.label),
+    }
+}
+
+async fn write_batch(
+    pool: &SqlitePool,
+    upload_id: i64,
+    planned: &[PlannedChannel],
+    batch: &mut Vec<Msg>,
+) -> Result<(), ImportError> {
+    let mut tx = begin_write(pool).await?;
+    for m in batch.drain(..) {
+        match m {
+            Msg::Chunk { channel, t0, t1, n, blob } => {
+                sqlx::query("INSERT INTO chunk (channel_id, t_start_ms, upload_id, t_end_ms, n, data) VALUES (?, ?, ?, ?, ?, ?)")
+                    .bind(planned[channel].id)
+                    .bind(t0)
+                    .bind(upload_id)
+                    .bind(t1)
+                    .bind(n as i64)
+                    .bind(blob)
+                    .execute(&mut *tx)
+                    .await?;
+            }
+            Msg::Day { channel, day_ms, blob } => {
+                sqlx::query(
+                    "INSERT INTO rollup_minute (channel_id, day_ms, upload_id, data) VALUES (?, ?, ?, ?)",
+                )
+                .bind(planned[channel].id)
+                .bind(day_ms)
+                .bind(upload_id)
+                .bind(blob)
+                .execute(&mut *tx)
+                .await?;
+            }
+            Msg::Hours { channel, hours } => {
+                for (h, a) in hours {
+                    sqlx::query(
+                        "INSERT INTO rollup_hour (channel_id, hour_ms, upload_id, n, min, max, sum) VALUES (?, ?, ?, ?, ?, ?, ?)",
+                    )
+                    .bind(planned[channel].id)
+                    .bind(h)
+                    .bind(upload_id)
+                    .bind(i64::from(a.n))
+                    .bind(a.min)
+                    .bind(a.max)
+                    .bind(a.sum)
+                    .execute(&mut *tx)
+                    .await?;
+                }
+            }
+        }
+    }
+    tx.commit().await?;
+    Ok(())
+}
