@@ -133,7 +133,7 @@ impl std::error::Error for RecordError {}
 #[derive(Debug, Clone, Copy)]
 pub struct Record<'a> {
     data: &'a [u8],
-    ends: &'a [usize],
+    fields: &'a [(usize, usize)],
     line: u64,
     end_line: u64,
     offset: u64,
@@ -159,13 +159,13 @@ impl<'a> Record<'a> {
 
     /// The number of fields (at least 1: an empty line is one empty field).
     pub fn len(&self) -> usize {
-        self.ends.len()
+        self.fields.len()
     }
 
     /// Never true for a record from [`RecordReader`] (it has at least one field); here because a
     /// `len` asks for it.
     pub fn is_empty(&self) -> bool {
-        self.ends.is_empty()
+        self.fields.is_empty()
     }
 
     /// A line with nothing, or only spaces and tabs, on it (one unquoted field).
@@ -175,8 +175,7 @@ impl<'a> Record<'a> {
 
     /// Field `i` (0-based), unescaped, or `None` past the last field.
     pub fn get(&self, i: usize) -> Option<&'a [u8]> {
-        let end = *self.ends.get(i)?;
-        let start = if i == 0 { 0 } else { self.ends[i - 1] };
+        let &(start, end) = self.fields.get(i)?;
         Some(&self.data[start..end])
     }
 
@@ -190,8 +189,8 @@ impl<'a> Record<'a> {
 
     /// The fields in order.
     pub fn iter(&self) -> impl Iterator<Item = &'a [u8]> + 'a {
-        let (data, ends) = (self.data, self.ends);
-        ends.iter().enumerate().map(move |(i, &e)| &data[if i == 0 { 0 } else { ends[i - 1] }..e])
+        let data = self.data;
+        self.fields.iter().map(move |&(a, b)| &data[a..b])
     }
 }
 
@@ -224,8 +223,12 @@ struct Parser {
     unquoted: [u8; 256],
     /// Classes inside quotes: quote, CR, LF.
     quoted: [u8; 256],
+    /// The record's bytes: unquoted stretches as in the file (delimiters included), quoted
+    /// fields unescaped. Never more than the record's length in the file, so at most
+    /// `max_record_bytes`.
     data: Vec<u8>,
-    ends: Vec<usize>,
+    /// Each field's range in `data`. At most `max_fields`.
+    fields: Vec<(usize, usize)>,
     state: State,
     /// Where the current field starts in `data`.
     field_start: usize,
@@ -253,6 +256,11 @@ enum Step {
     Done(usize),
 }
 
+#[inline(always)]
+fn is_blank(b: u8, delim: u8) -> bool {
+    (b == b' ' || b == b'\t') && b != delim
+}
+
 impl Parser {
     fn new(delim: u8, limits: Limits) -> Self {
         let mut unquoted = [PLAIN; 256];
@@ -269,7 +277,7 @@ impl Parser {
             unquoted,
             quoted,
             data: Vec::new(),
-            ends: Vec::new(),
+            fields: Vec::new(),
             state: State::FieldStart,
             field_start: 0,
             offset: 0,
@@ -287,7 +295,7 @@ impl Parser {
 
     fn begin_record(&mut self) {
         self.data.clear();
-        self.ends.clear();
+        self.fields.clear();
         self.state = State::FieldStart;
         self.field_start = 0;
         self.in_record = true;
@@ -297,33 +305,30 @@ impl Parser {
 
     fn error(&self, kind: RecordErrorKind) -> RecordError {
         let open = self.state == State::Quoted || self.state == State::QuoteInQuoted;
+        let field = self.fields.len() + 1;
         match kind {
             RecordErrorKind::UnclosedQuote => RecordError {
                 kind,
                 line: self.quote_at.0,
                 column: Some(self.quote_at.1),
-                field: self.ends.len() + 1,
+                field,
                 open_quote: None,
             },
-            RecordErrorKind::Io { .. } => RecordError {
-                kind,
-                line: self.line,
-                column: None,
-                field: self.ends.len() + 1,
-                open_quote: None,
-            },
+            RecordErrorKind::Io { .. } => {
+                RecordError { kind, line: self.line, column: None, field, open_quote: None }
+            }
             _ => RecordError {
                 kind,
                 line: self.rec_line,
                 column: None,
-                field: self.ends.len() + 1,
+                field,
                 open_quote: open.then_some(self.quote_at),
             },
         }
     }
 
     /// Is the record longer than the cap once the input up to stream offset `at` is in it?
-    #[inline]
+    #[inline(always)]
     fn check_len(&self, at: u64) -> Result<(), RecordError> {
         if at - self.rec_offset > self.limits.max_record_bytes as u64 {
             Err(self.error(RecordErrorKind::TooLong { limit: self.limits.max_record_bytes }))
@@ -332,19 +337,24 @@ impl Parser {
         }
     }
 
-    /// End the current field; an error when it would start one field too many.
-    #[inline]
-    fn end_field(&mut self) {
-        self.ends.push(self.data.len());
-        self.field_start = self.data.len();
-        self.state = State::FieldStart;
+    /// End the current field at `end` (in `data`) because a delimiter follows: an error when the
+    /// next field would be one too many.
+    #[inline(always)]
+    fn end_field_at_delim(&mut self, end: usize) -> Result<(), RecordError> {
+        self.fields.push((self.field_start, end));
+        self.field_start = end;
+        if self.fields.len() >= self.limits.max_fields {
+            return Err(self.error(RecordErrorKind::TooManyFields { limit: self.limits.max_fields }));
+        }
+        Ok(())
     }
 
-    /// End the record at a line break (`cr` says which) at stream offset `at`.
-    #[inline]
-    fn end_record_at_break(&mut self, cr: bool, at: u64) {
-        self.rec_blank = self.ends.is_empty() && matches!(self.state, State::FieldStart | State::Blanks);
-        self.end_field();
+    /// End the last field at `end` and the record at a line break (`cr` says which) at stream
+    /// offset `at`.
+    #[inline(always)]
+    fn end_record_at_break(&mut self, end: usize, cr: bool, at: u64) {
+        self.rec_blank = self.fields.is_empty() && matches!(self.state, State::FieldStart | State::Blanks);
+        self.fields.push((self.field_start, end));
         self.rec_end_line = self.line;
         self.line += 1;
         self.line_start = at + 1;
@@ -372,86 +382,89 @@ impl Parser {
             self.offset = base + i as u64;
             self.begin_record();
         }
-        let result = self.run(input, i, base);
-        match result {
-            Ok(Step::Done(k)) => {
-                self.offset = base + k as u64;
-                Ok(Step::Done(k))
-            }
-            Ok(Step::More) => {
-                self.offset = base + n as u64;
-                Ok(Step::More)
-            }
-            Err(e) => Err(e),
-        }
+        let step = self.run(input, i, base)?;
+        self.offset = base + if let Step::Done(k) = step { k } else { n } as u64;
+        Ok(step)
     }
 
     #[inline(always)]
     fn run(&mut self, input: &[u8], mut i: usize, base: u64) -> Result<Step, RecordError> {
         let n = input.len();
+        let delim = self.delim;
         while i < n {
             match self.state {
                 State::FieldStart | State::Blanks => {
                     let b = input[i];
-                    match self.unquoted[b as usize] {
-                        DELIM => {
-                            self.check_len(base + i as u64 + 1)?;
-                            self.end_field();
-                            if self.ends.len() >= self.limits.max_fields {
-                                return Err(self.error(RecordErrorKind::TooManyFields {
-                                    limit: self.limits.max_fields,
-                                }));
-                            }
-                            i += 1;
-                        }
-                        CR | LF => {
-                            self.end_record_at_break(b == b'\r', base + i as u64);
-                            return Ok(Step::Done(i + 1));
-                        }
-                        _ if b == b'"' => {
-                            self.check_len(base + i as u64 + 1)?;
-                            self.data.truncate(self.field_start);
-                            self.quote_at = (self.line, base + i as u64 - self.line_start + 1);
-                            self.state = State::Quoted;
-                            i += 1;
-                        }
-                        _ if b == b' ' || b == b'\t' => {
-                            self.check_len(base + i as u64 + 1)?;
-                            self.data.push(b);
-                            self.state = State::Blanks;
-                            i += 1;
-                        }
-                        _ => self.state = State::Unquoted,
+                    if b == delim {
+                        self.check_len(base + i as u64 + 1)?;
+                        self.end_field_at_delim(self.data.len())?;
+                        self.state = State::FieldStart;
+                        i += 1;
+                    } else if b == b'\r' || b == b'\n' {
+                        self.end_record_at_break(self.data.len(), b == b'\r', base + i as u64);
+                        return Ok(Step::Done(i + 1));
+                    } else if b == b'"' {
+                        self.check_len(base + i as u64 + 1)?;
+                        self.data.truncate(self.field_start);
+                        self.quote_at = (self.line, base + i as u64 - self.line_start + 1);
+                        self.state = State::Quoted;
+                        i += 1;
+                    } else if is_blank(b, delim) {
+                        self.check_len(base + i as u64 + 1)?;
+                        self.data.push(b);
+                        self.state = State::Blanks;
+                        i += 1;
+                    } else {
+                        self.state = State::Unquoted;
                     }
                 }
                 State::Unquoted => {
+                    // A stretch of unquoted fields, copied to `data` in one piece (delimiters
+                    // included), until a line break, a field that starts with a quote or a
+                    // blank, or the end of the input.
+                    let tab = &self.unquoted;
                     let start = i;
-                    while i < n && self.unquoted[input[i] as usize] == PLAIN {
+                    let d0 = self.data.len();
+                    let mut brk = None;
+                    loop {
+                        while i < n && tab[input[i] as usize] == PLAIN {
+                            i += 1;
+                        }
+                        if i == n {
+                            break;
+                        }
+                        let b = input[i];
+                        if b != delim {
+                            brk = Some(b == b'\r');
+                            break;
+                        }
+                        // As `end_field_at_delim`, spelt out beside the borrow of `tab`; the
+                        // length is checked first, as at any byte, so that the error does not
+                        // depend on where the input's chunks end.
+                        self.check_len(base + i as u64 + 1)?;
+                        self.fields.push((self.field_start, d0 + (i - start)));
+                        if self.fields.len() >= self.limits.max_fields {
+                            let limit = self.limits.max_fields;
+                            return Err(self.error(RecordErrorKind::TooManyFields { limit }));
+                        }
                         i += 1;
+                        self.field_start = d0 + (i - start);
+                        if i == n || input[i] == b'"' || is_blank(input[i], delim) {
+                            self.state = State::FieldStart;
+                            break;
+                        }
                     }
                     self.check_len(base + i as u64)?;
                     self.data.extend_from_slice(&input[start..i]);
-                    if i == n {
-                        break;
-                    }
-                    let b = input[i];
-                    if b == self.delim {
-                        self.check_len(base + i as u64 + 1)?;
-                        self.end_field();
-                        if self.ends.len() >= self.limits.max_fields {
-                            return Err(
-                                self.error(RecordErrorKind::TooManyFields { limit: self.limits.max_fields })
-                            );
-                        }
-                        i += 1;
-                    } else {
-                        self.end_record_at_break(b == b'\r', base + i as u64);
+                    if let Some(cr) = brk {
+                        self.end_record_at_break(self.data.len(), cr, base + i as u64);
                         return Ok(Step::Done(i + 1));
                     }
                 }
                 State::Quoted => {
+                    let tab = &self.quoted;
                     let start = i;
-                    while i < n && self.quoted[input[i] as usize] == PLAIN {
+                    while i < n && tab[input[i] as usize] == PLAIN {
                         i += 1;
                     }
                     if i > start {
@@ -464,15 +477,38 @@ impl Parser {
                     }
                     let b = input[i];
                     self.check_len(base + i as u64 + 1)?;
+                    i += 1;
                     match b {
                         b'"' => {
                             self.pending_cr = false;
-                            self.state = State::QuoteInQuoted;
+                            if i < n && input[i] == b'"' {
+                                self.check_len(base + i as u64 + 1)?;
+                                self.data.push(b'"');
+                                i += 1;
+                            } else if i < n {
+                                // The closing quote: a delimiter or line break ends the field
+                                // as after an unquoted one; other bytes are kept (lenient).
+                                let c = input[i];
+                                if c == delim {
+                                    self.check_len(base + i as u64 + 1)?;
+                                    self.end_field_at_delim(self.data.len())?;
+                                    self.state = State::FieldStart;
+                                    i += 1;
+                                } else if c == b'\r' || c == b'\n' {
+                                    self.state = State::Unquoted;
+                                    self.end_record_at_break(self.data.len(), c == b'\r', base + i as u64);
+                                    return Ok(Step::Done(i + 1));
+                                } else {
+                                    self.state = State::Unquoted;
+                                }
+                            } else {
+                                self.state = State::QuoteInQuoted;
+                            }
                         }
                         b'\r' => {
                             self.data.push(b);
                             self.line += 1;
-                            self.line_start = base + i as u64 + 1;
+                            self.line_start = base + i as u64;
                             self.pending_cr = true;
                         }
                         _ => {
@@ -481,22 +517,19 @@ impl Parser {
                             if !self.pending_cr {
                                 self.line += 1;
                             }
-                            self.line_start = base + i as u64 + 1;
+                            self.line_start = base + i as u64;
                             self.pending_cr = false;
                         }
                     }
-                    i += 1;
                 }
                 State::QuoteInQuoted => {
-                    let b = input[i];
-                    if b == b'"' {
+                    // A quote ended the previous input: the first of `""`, or the closing one.
+                    if input[i] == b'"' {
                         self.check_len(base + i as u64 + 1)?;
                         self.data.push(b'"');
                         self.state = State::Quoted;
                         i += 1;
                     } else {
-                        // The quote closed the field: a delimiter or line break ends it as after
-                        // an unquoted field; any other byte is kept as data (lenient).
                         self.state = State::Unquoted;
                     }
                 }
@@ -514,8 +547,8 @@ impl Parser {
         if self.state == State::Quoted {
             return Err(self.error(RecordErrorKind::UnclosedQuote));
         }
-        self.rec_blank = self.ends.is_empty() && matches!(self.state, State::FieldStart | State::Blanks);
-        self.end_field();
+        self.rec_blank = self.fields.is_empty() && matches!(self.state, State::FieldStart | State::Blanks);
+        self.fields.push((self.field_start, self.data.len()));
         self.rec_end_line = self.line;
         self.in_record = false;
         Ok(true)
@@ -524,7 +557,7 @@ impl Parser {
     fn record(&self) -> Record<'_> {
         Record {
             data: &self.data,
-            ends: &self.ends,
+            fields: &self.fields,
             line: self.rec_line,
             end_line: self.rec_end_line,
             offset: self.rec_offset,
@@ -1121,6 +1154,209 @@ mod tests {
             for w in recs.windows(2) {
                 prop_assert!(w[0].1 < w[1].0, "lines go forward");
             }
+        }
+    }
+    // ---- benchmark ----
+
+    /// What a reader saw: records, fields, bytes of field data. The readers compared must agree.
+    type Tally = (u64, u64, u64);
+
+    fn ours(data: &[u8], delim: u8) -> Tally {
+        let mut r = RecordReader::new(BufReader::with_capacity(64 << 10, data), delim, Limits::DEFAULT);
+        let mut t = (0, 0, 0);
+        while let Some(rec) = r.next().expect("valid file") {
+            t.0 += 1;
+            t.1 += rec.len() as u64;
+            t.2 += rec.iter().map(|f| f.len() as u64).sum::<u64>();
+        }
+        t
+    }
+
+    /// `csv-core`'s bare parse into reused buffers of the same caps: no line numbers, no blank
+    /// lines, no unclosed-quote check (what a `csv-core`-based reader would start from).
+    fn csv_core_bare(data: &[u8], delim: u8) -> Tally {
+        use csv_core::{ReadRecordResult, ReaderBuilder};
+        let mut rdr = ReaderBuilder::new().delimiter(delim).build();
+        let mut src = BufReader::with_capacity(64 << 10, data);
+        let (mut out, mut ends) = (vec![0u8; Limits::DEFAULT.max_record_bytes], vec![0usize; 4096]);
+        let (mut nout, mut nend) = (0, 0);
+        let mut t = (0, 0, 0);
+        loop {
+            let input = src.fill_buf().unwrap();
+            let (res, nin, o, e) = rdr.read_record(input, &mut out[nout..], &mut ends[nend..]);
+            src.consume(nin);
+            (nout, nend) = (nout + o, nend + e);
+            match res {
+                ReadRecordResult::Record => {
+                    t.0 += 1;
+                    t.1 += nend as u64;
+                    t.2 += ends[nend - 1] as u64;
+                    (nout, nend) = (0, 0);
+                }
+                ReadRecordResult::InputEmpty => {}
+                ReadRecordResult::End => return t,
+                r => panic!("over the caps: {r:?}"),
+            }
+        }
+    }
+
+    /// Today's `parse.rs` record finding and splitting (`Lines::next_record` and `split` at
+    /// commit cd9a181, errors reduced to panics), as the baseline.
+    fn before(data: &[u8], delim: u8) -> Tally {
+        fn read_physical<R: BufRead>(r: &mut R, buf: &mut Vec<u8>) -> bool {
+            let start = buf.len();
+            if r.read_until(b'\n', buf).unwrap() == 0 {
+                return false;
+            }
+            if buf.last() == Some(&b'\n') {
+                buf.pop();
+            }
+            if buf.len() > start && buf.last() == Some(&b'\r') {
+                buf.pop();
+            }
+            true
+        }
+        fn split(line: &[u8], delim: u8, out: &mut Vec<(u32, u32)>, scratch: &mut Vec<u8>) -> bool {
+            out.clear();
+            if !line.contains(&b'"') {
+                let mut start = 0usize;
+                for (i, &b) in line.iter().enumerate() {
+                    if b == delim {
+                        out.push((start as u32, i as u32));
+                        start = i + 1;
+                    }
+                }
+                out.push((start as u32, line.len() as u32));
+                return false;
+            }
+            scratch.clear();
+            let mut i = 0usize;
+            loop {
+                let fstart = scratch.len();
+                let mut j = i;
+                while j < line.len() && (line[j] == b' ' || line[j] == b'\t') && line[j] != delim {
+                    j += 1;
+                }
+                if j < line.len() && line[j] == b'"' {
+                    i = j + 1;
+                    while i < line.len() {
+                        if line[i] == b'"' {
+                            if line.get(i + 1) == Some(&b'"') {
+                                scratch.push(b'"');
+                                i += 2;
+                            } else {
+                                i += 1;
+                                break;
+                            }
+                        } else {
+                            scratch.push(line[i]);
+                            i += 1;
+                        }
+                    }
+                    while i < line.len() && line[i] != delim {
+                        scratch.push(line[i]);
+                        i += 1;
+                    }
+                } else {
+                    while i < line.len() && line[i] != delim {
+                        scratch.push(line[i]);
+                        i += 1;
+                    }
+                }
+                out.push((fstart as u32, scratch.len() as u32));
+                if i >= line.len() {
+                    break;
+                }
+                i += 1;
+            }
+            true
+        }
+        let mut r = BufReader::with_capacity(64 << 10, data);
+        let (mut buf, mut ranges, mut scratch) = (Vec::with_capacity(512), Vec::new(), Vec::new());
+        let mut t = (0, 0, 0);
+        loop {
+            buf.clear();
+            if !read_physical(&mut r, &mut buf) {
+                return t;
+            }
+            if buf.contains(&b'"') {
+                while buf.iter().filter(|&&b| b == b'"').count() % 2 == 1 {
+                    buf.push(b'\n');
+                    assert!(read_physical(&mut r, &mut buf), "a quoted field never closes");
+                }
+            }
+            split(&buf, delim, &mut ranges, &mut scratch);
+            t.0 += 1;
+            t.1 += ranges.len() as u64;
+            t.2 += ranges.iter().map(|&(a, b)| (b - a) as u64).sum::<u64>();
+        }
+    }
+
+    /// A logger file of about `mb` MB: `2026-05-04T08:00:00Z,56,7.21,9.50` rows at 1 s; with
+    /// `quoted`, every field quoted, `;` between them, decimal commas, CRLF and a note with an
+    /// inch mark written as `""`.
+    fn logger_file(mb: usize, quoted: bool) -> Vec<u8> {
+        use std::io::Write;
+        let mut f = Vec::with_capacity(mb * 1_000_000 + 100);
+        let mut i = 0u64;
+        while f.len() < mb * 1_000_000 {
+            let (h, m, s) = (8 + i / 3600 % 16, i / 60 % 60, i % 60);
+            let (kw, bar, flow) =
+                (40 + i * 7 % 30, 7.0 + (i % 50) as f64 / 100.0, 9.0 + (i % 97) as f64 / 100.0);
+            if quoted {
+                let note = if i % 10 == 0 { "12\"\" main" } else { "" };
+                write!(
+                    f,
+                    "\"2026-05-04 {h:02}:{m:02}:{s:02}\";\"{kw}\";\"{bar:.2}\";\"{flow:.2}\";\"{note}\"\r\n"
+                )
+                .unwrap();
+                let n = f.len();
+                // Decimal commas.
+                for b in &mut f[n - 30..n] {
+                    if *b == b'.' {
+                        *b = b',';
+                    }
+                }
+            } else {
+                writeln!(f, "2026-05-04T{h:02}:{m:02}:{s:02}Z,{kw},{bar:.2},{flow:.2}").unwrap();
+            }
+            i += 1;
+        }
+        f
+    }
+
+    fn best_of_3(data: &[u8], f: impl Fn(&[u8]) -> Tally) -> (f64, Tally) {
+        let mut best = f64::INFINITY;
+        let mut tally = (0, 0, 0);
+        for _ in 0..3 {
+            let t0 = std::time::Instant::now();
+            tally = std::hint::black_box(f(std::hint::black_box(data)));
+            best = best.min(t0.elapsed().as_secs_f64());
+        }
+        (data.len() as f64 / 1e6 / best, tally)
+    }
+
+    /// Throughput on a 50 MB logger file, plain and quoted: this reader, `csv-core`'s bare
+    /// parse and the splitting of `parse.rs` before this reader. Prints MB/s (best of 3);
+    /// asserts only that the three agree on what they read. Run with
+    /// `cargo test --release --lib record::tests::bench_50_mb -- --ignored --nocapture`.
+    #[test]
+    #[ignore]
+    fn bench_50_mb() {
+        for (quoted, delim) in [(false, b','), (true, b';')] {
+            let data = logger_file(50, quoted);
+            let (a, ta) = best_of_3(&data, |d| ours(d, delim));
+            let (b, tb) = best_of_3(&data, |d| csv_core_bare(d, delim));
+            let (c, tc) = best_of_3(&data, |d| before(d, delim));
+            assert_eq!(ta, tb, "csv-core reads the same");
+            assert_eq!(ta, tc, "the old splitting reads the same");
+            println!(
+                "{} file, {:.1} MB, {} records: record reader {a:.0} MB/s, csv-core bare {b:.0} MB/s, \
+                 parse.rs before {c:.0} MB/s",
+                if quoted { "quoted" } else { "plain" },
+                data.len() as f64 / 1e6,
+                ta.0
+            );
         }
     }
 }
