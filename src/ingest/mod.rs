@@ -26,6 +26,7 @@ pub mod mapping;
 pub mod number;
 pub mod parse;
 pub mod quality;
+pub mod record;
 pub mod sniff;
 pub mod text;
 pub mod timestamp;
