@@ -1,12 +1,15 @@
 /*!
 The streaming parse of a logger file: one pass, bounded memory, readings straight to a sink.
 
-- Lines are read with `BufRead::read_until` into one reused buffer and split at the byte level;
-  fields are byte slices, never `String`s. Numbers and timestamps are ASCII in every supported
-  encoding, so only the header (and values quoted in errors) is decoded (see `text`).
-- Quoted fields (`"…"`, with `""` for a quote) work; a quoted field may even hold a line break (the
-  record then spans lines and is reported at its first line). Lines before `header_line` are the
-  preamble and are skipped unread.
+- Records come from the shared [`record`](crate::ingest::record) reader, the one the sniffer
+  uses too: RFC 4180 quoting (a quote opens a field only at its start, so an inch mark in a note
+  is a character), `\n`, `\r\n` and bare `\r` line ends, one pass in linear time, and a cap on a
+  record's bytes and fields (a 422 naming the line). Fields are byte slices, never `String`s.
+  Numbers and timestamps are ASCII in every supported encoding, so only the header (and values
+  quoted in errors) is decoded (see `text`).
+- A quoted field may hold a line break (the record then spans lines and is reported at its first
+  line). Records before `header_line` are the preamble and are skipped; a quote in the preamble
+  that runs into the header line is an error naming both lines.
 - Blank lines (and rows whose timestamp and mapped cells are all empty) are skipped and counted.
 - Errors name the 1-based line of the file (preamble included) and the column's header name: a
   row too short for a mapped column, a timestamp that does not match the format, a number that
@@ -20,7 +23,8 @@ use crate::core::units::SiteAir;
 use crate::ingest::mapping::{plan, Mapping, Plan, Quantity};
 use crate::ingest::number::{parse_cell, trim, Cell};
 use crate::ingest::quality::{QualityReport, QualityTracker};
-use crate::ingest::text::{decode_line, strip_bom, Encoding};
+use crate::ingest::record::{Limits, RecordError, RecordReader};
+use crate::ingest::text::{decode_line, Encoding};
 use crate::ingest::IngestError;
 use serde::Serialize;
 use std::io::BufRead;
@@ -51,176 +55,49 @@ pub struct ParseReport {
     pub header: Option<Vec<String>>,
 }
 
-/// A record longer than this (a quote that never closes) is an error, not a memory hog.
-const MAX_RECORD_BYTES: usize = 1 << 20;
 const PROGRESS_EVERY_BYTES: u64 = 1 << 20;
 
-struct Lines<R> {
-    r: R,
-    buf: Vec<u8>,
-    /// Line number of the record in `buf` (its first line).
-    line: u64,
-    /// Lines consumed so far.
-    consumed: u64,
-    bytes: u64,
+/// A reader error as the import reports it: a 422 naming the line.
+fn record_error(e: RecordError) -> IngestError {
+    IngestError::at(e.line, None, e.to_string())
 }
 
-impl<R: BufRead> Lines<R> {
-    fn io_err(&self, e: std::io::Error) -> IngestError {
-        IngestError::new(format!("cannot read the file after line {}: {e}", self.consumed))
-    }
-
-    /// Read one physical line into `buf` (appending), without its line break. `false` at the end.
-    fn read_physical(&mut self) -> Result<bool, IngestError> {
-        let start = self.buf.len();
-        let n = self.r.read_until(b'\n', &mut self.buf).map_err(|e| self.io_err(e))?;
-        if n == 0 {
-            return Ok(false);
-        }
-        self.bytes += n as u64;
-        self.consumed += 1;
-        if self.buf.last() == Some(&b'\n') {
-            self.buf.pop();
-        }
-        if self.buf.len() > start && self.buf.last() == Some(&b'\r') {
-            self.buf.pop();
-        }
-        Ok(true)
-    }
-
-    /// The next line, raw (preamble).
-    fn next_raw(&mut self) -> Result<bool, IngestError> {
-        self.buf.clear();
-        let ok = self.read_physical()?;
-        self.line = self.consumed;
-        Ok(ok)
-    }
-
-    /// The next record: a line, plus following lines while a quoted field is open.
-    fn next_record(&mut self) -> Result<bool, IngestError> {
-        if !self.next_raw()? {
-            return Ok(false);
-        }
-        if !self.buf.contains(&b'"') {
-            return Ok(true);
-        }
-        while self.buf.iter().filter(|&&b| b == b'"').count() % 2 == 1 {
-            if self.buf.len() > MAX_RECORD_BYTES {
-                return Err(IngestError::at(self.line, None, "a quoted field never closes"));
-            }
-            self.buf.push(b'\n');
-            if !self.read_physical()? {
-                return Err(IngestError::at(self.line, None, "a quoted field never closes"));
-            }
-        }
-        Ok(true)
-    }
-}
-
-/// Split a record into fields. Ranges index `line`, or `scratch` when the record has quotes
-/// (then returns `true`): quoted fields are unescaped into `scratch`.
-fn split(line: &[u8], delim: u8, out: &mut Vec<(u32, u32)>, scratch: &mut Vec<u8>) -> bool {
-    out.clear();
-    if !line.contains(&b'"') {
-        let mut start = 0usize;
-        for (i, &b) in line.iter().enumerate() {
-            if b == delim {
-                out.push((start as u32, i as u32));
-                start = i + 1;
-            }
-        }
-        out.push((start as u32, line.len() as u32));
-        return false;
-    }
-    scratch.clear();
-    let mut i = 0usize;
-    loop {
-        let fstart = scratch.len();
-        // Leading blanks before an opening quote are dropped.
-        let mut j = i;
-        while j < line.len() && (line[j] == b' ' || line[j] == b'\t') && line[j] != delim {
-            j += 1;
-        }
-        if j < line.len() && line[j] == b'"' {
-            i = j + 1;
-            while i < line.len() {
-                if line[i] == b'"' {
-                    if line.get(i + 1) == Some(&b'"') {
-                        scratch.push(b'"');
-                        i += 2;
-                    } else {
-                        i += 1;
-                        break;
-                    }
-                } else {
-                    scratch.push(line[i]);
-                    i += 1;
-                }
-            }
-            // Anything between the closing quote and the delimiter is kept (lenient).
-            while i < line.len() && line[i] != delim {
-                scratch.push(line[i]);
-                i += 1;
-            }
-        } else {
-            while i < line.len() && line[i] != delim {
-                scratch.push(line[i]);
-                i += 1;
-            }
-        }
-        out.push((fstart as u32, scratch.len() as u32));
-        if i >= line.len() {
-            break;
-        }
-        i += 1; // the delimiter
-    }
-    true
-}
-
-/// Split a header line into names (decoded, trimmed).
+/// Split a header line into names (decoded, trimmed), as the record reader splits it.
 pub fn split_header(line: &[u8], delim: u8, encoding: Option<Encoding>) -> Vec<String> {
-    let mut ranges = Vec::new();
-    let mut scratch = Vec::new();
-    let quoted = split(line, delim, &mut ranges, &mut scratch);
-    let src: &[u8] = if quoted { &scratch } else { line };
-    ranges
-        .iter()
-        .map(|&(a, b)| decode_line(&src[a as usize..b as usize], encoding).trim().to_string())
-        .collect()
+    let mut reader = RecordReader::new(line, delim, Limits::DEFAULT);
+    match reader.next() {
+        Ok(Some(rec)) => rec.iter().map(|f| decode_line(f, encoding).trim().to_string()).collect(),
+        _ => vec![decode_line(line, encoding).trim().to_string()],
+    }
 }
 
 /// Read the header of a file for a mapping: skip the preamble, return the header's names.
 fn read_header<R: BufRead>(
-    lines: &mut Lines<R>,
+    records: &mut RecordReader<R>,
     mapping: &Mapping,
-    delim: u8,
     encoding: Option<Encoding>,
 ) -> Result<Vec<String>, IngestError> {
-    for _ in 1..mapping.header_line {
-        if !lines.next_raw()? {
+    let header_line = u64::from(mapping.header_line.max(1));
+    loop {
+        let Some(rec) = records.next().map_err(record_error)? else {
             return Err(IngestError::field(
                 "header_line",
+                format!("the file ends at line {} before the header line {header_line}", records.line()),
+            ));
+        };
+        if rec.line() == header_line {
+            return Ok(rec.iter().map(|f| decode_line(f, encoding).trim().to_string()).collect());
+        }
+        if rec.line() > header_line || rec.end_line() >= header_line {
+            return Err(IngestError::at(
+                rec.line(),
+                None,
                 format!(
-                    "the file ends at line {} before the header line {}",
-                    lines.consumed, mapping.header_line
+                    "a quoted field opened in the preamble at line {} runs into the header line {header_line}",
+                    rec.line()
                 ),
             ));
         }
-    }
-    if !lines.next_record()? {
-        return Err(IngestError::field(
-            "header_line",
-            format!("the file ends before the header line {}", mapping.header_line),
-        ));
-    }
-    Ok(split_header(strip_bom_if_first(&lines.buf, lines.line), delim, encoding))
-}
-
-fn strip_bom_if_first(buf: &[u8], line: u64) -> &[u8] {
-    if line == 1 {
-        strip_bom(buf)
-    } else {
-        buf
     }
 }
 
@@ -241,16 +118,21 @@ pub fn parse_stream<R: BufRead>(
         IngestError::field("delimiter", format!("unknown delimiter {:?}", mapping.delimiter))
     })?;
     let encoding = mapping.encoding.as_deref().and_then(Encoding::parse);
-    let mut lines = Lines { r: reader, buf: Vec::with_capacity(512), line: 0, consumed: 0, bytes: 0 };
-    let header = read_header(&mut lines, mapping, delim, encoding)?;
+    let mut reader = reader;
+    // A byte-order mark belongs to the file, not to the first column's name.
+    let bom = reader.fill_buf().map_err(|e| IngestError::new(format!("cannot read the file: {e}")))?;
+    let bom_bytes = if bom.starts_with(b"\xef\xbb\xbf") { 3 } else { 0 };
+    reader.consume(bom_bytes);
+    let mut records = RecordReader::new(reader, delim, Limits::DEFAULT);
+    let header = read_header(&mut records, mapping, encoding)?;
     let mut plan: Plan = plan(mapping, &header)?;
-    let mut report = run(&mut lines, &mut plan, site, sink, progress)?;
+    let mut report = run(&mut records, &mut plan, site, sink, &mut |b| progress(b + bom_bytes as u64))?;
     report.header = Some(header);
     Ok(report)
 }
 
 fn run<R: BufRead>(
-    lines: &mut Lines<R>,
+    records: &mut RecordReader<R>,
     plan: &mut Plan,
     site: &SiteAir,
     sink: &mut dyn ReadingSink,
@@ -267,31 +149,26 @@ fn run<R: BufRead>(
         .chain(plan.time_index)
         .max()
         .unwrap_or(0);
-    let (delim, decimal) = (plan.delimiter, plan.decimal);
-    let mut ranges: Vec<(u32, u32)> = Vec::with_capacity(16);
-    let mut scratch: Vec<u8> = Vec::new();
+    let decimal = plan.decimal;
     let mut joined: Vec<u8> = Vec::with_capacity(64);
     let (mut rows, mut readings) = (0u64, 0u64);
     let (mut first, mut last): (Option<i64>, Option<i64>) = (None, None);
     let mut next_progress = PROGRESS_EVERY_BYTES;
 
-    while lines.next_record()? {
-        if lines.bytes >= next_progress {
-            progress(lines.bytes);
-            next_progress = lines.bytes + PROGRESS_EVERY_BYTES;
+    while let Some(rec) = records.next().map_err(record_error)? {
+        if rec.offset() >= next_progress {
+            progress(rec.offset());
+            next_progress = rec.offset() + PROGRESS_EVERY_BYTES;
         }
-        let line_no = lines.line;
-        let line: &[u8] = &lines.buf;
-        if trim(line).is_empty() {
+        let line_no = rec.line();
+        if rec.is_blank() {
             quality.blank_line();
             continue;
         }
-        let quoted = split(line, delim, &mut ranges, &mut scratch);
-        let src: &[u8] = if quoted { &scratch } else { line };
-        let field = |i: usize| ranges.get(i).map(|&(a, b)| &src[a as usize..b as usize]);
-        if ranges.len() <= needed {
+        let field = |i: usize| rec.get(i);
+        if rec.len() <= needed {
             // Rows of empty cells only (",,,,") are blank; otherwise too short.
-            if ranges.iter().all(|&(a, b)| trim(&src[a as usize..b as usize]).is_empty()) {
+            if rec.iter().all(|f| trim(f).is_empty()) {
                 quality.blank_line();
                 continue;
             }
@@ -300,13 +177,13 @@ fn run<R: BufRead>(
                 .map(|c| c.0)
                 .chain(std::iter::once(plan.timestamp_index))
                 .chain(plan.time_index)
-                .find(|&i| i >= ranges.len())
+                .find(|&i| i >= rec.len())
                 .unwrap_or(needed);
             let label = header_label(plan, missing);
             return Err(IngestError::at(
                 line_no,
                 Some(&label),
-                format!("row has {} fields; column {:?} is field {}", ranges.len(), label, missing + 1),
+                format!("row has {} fields; column {:?} is field {}", rec.len(), label, missing + 1),
             ));
         }
         let ts_raw = field(plan.timestamp_index).unwrap_or_default();
@@ -368,7 +245,7 @@ fn run<R: BufRead>(
             }
         }
     }
-    progress(lines.bytes);
+    progress(records.bytes_read());
     let quality = quality.finish();
     Ok(ParseReport {
         rows,
@@ -519,6 +396,35 @@ mod tests {
         assert_eq!(got[0].2, 50_500.0);
         assert!((got[1].2 - 1234.5 / 60.0).abs() < 1e-12);
         assert_eq!(got[3].2, 7.0 / 60.0);
+    }
+
+    #[test]
+    fn an_inch_mark_in_an_unmapped_last_column_loses_no_row() {
+        // Every 100th row carries `12" main` in its note: a quote inside an unquoted field is a
+        // character (RFC 4180, section 2), so all 1,000 rows are read.
+        let mut file = String::from("Time,C1 kW,Flow,Note\n");
+        for i in 0..1000 {
+            let note = if i % 100 == 0 { "12\" main" } else { "" };
+            file.push_str(&format!(
+                "2026-03-02 {:02}:{:02}:00,{},8,{note}\n",
+                6 + i / 60,
+                i % 60,
+                50 + i % 7
+            ));
+        }
+        let (r, got) = parse(file.as_bytes(), &preamble_mapping_at(1), &sea_level()).unwrap();
+        assert_eq!((r.rows, got.len()), (1000, 2000));
+    }
+
+    #[test]
+    fn cr_only_line_ends_read_row_by_row_and_an_unclosed_quote_names_its_line() {
+        let file = b"Time,C1 kW,Flow\r2026-03-02 06:00:00,50,8\r2026-03-02 06:01:00,51,9\r";
+        let (r, got) = parse(file, &preamble_mapping_at(1), &sea_level()).unwrap();
+        assert_eq!((r.rows, got[2].2), (2, 51_000.0));
+        let bad = b"Time,C1 kW,Flow\n2026-03-02 06:00:00,50,\"8\n2026-03-02 06:01:00,51,9\n";
+        let e = parse(bad, &preamble_mapping_at(1), &sea_level()).unwrap_err();
+        assert_eq!(e.line, Some(2), "{}", e.message);
+        assert!(e.message.contains("never closes"), "{}", e.message);
     }
 
     #[test]
