@@ -154,9 +154,10 @@ pub fn default_cost(changes: &[Change], leak_flow_m3_min: Option<f64>) -> (f64, 
                 let cost = costs::STORAGE_FIXED + costs::STORAGE_PER_M3 * volume_m3.max(0.0);
                 (cost, format!("add {volume_m3:.2} m³ of storage: {cost:.0}"))
             }
-            Change::SetPressure { target_bar_g } => {
-                (costs::SET_PRESSURE, format!("set-point {target_bar_g:.2} bar(g): {:.0}", costs::SET_PRESSURE))
-            }
+            Change::SetPressure { target_bar_g } => (
+                costs::SET_PRESSURE,
+                format!("set-point {target_bar_g:.2} bar(g): {:.0}", costs::SET_PRESSURE),
+            ),
             Change::ReduceLeaks { fraction } => {
                 leak_share = 1.0 - (1.0 - leak_share) * (1.0 - fraction.clamp(0.0, 1.0));
                 continue;

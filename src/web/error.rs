@@ -9,6 +9,7 @@ use axum::response::{IntoResponse, Response};
 use axum::Json;
 use serde::Serialize;
 
+use crate::app;
 use crate::ingest::IngestError;
 use crate::records::FieldError;
 use crate::store::import::ImportError;
@@ -127,6 +128,23 @@ impl From<ImportError> for AppError {
             other @ (ImportError::Overlap { .. } | ImportError::InProgress(_)) => {
                 Self::Conflict(other.to_string())
             }
+        }
+    }
+}
+
+/// The application's errors at the edge: the same statuses and JSON bodies as ever.
+impl From<app::Error> for AppError {
+    fn from(e: app::Error) -> Self {
+        match e {
+            app::Error::NotFound(m) => Self::NotFound(m),
+            app::Error::Field { field, message } => {
+                Self::Unprocessable { message, line: None, column: None, field: Some(field) }
+            }
+            app::Error::Unprocessable { message, line, column, field } => {
+                Self::Unprocessable { message, line, column, field }
+            }
+            app::Error::Conflict(m) => Self::Conflict(m),
+            app::Error::Internal(e) => Self::Internal(e),
         }
     }
 }

@@ -11,17 +11,16 @@ use axum::extract::{Path, State};
 use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Redirect, Response};
 use axum::Form;
-use sqlx::SqlitePool;
 
 use super::error::AppError;
 use super::AppState;
+use crate::app::{App, AuditBundle};
 use crate::core::display::Fmt;
 use crate::core::model::{CompressorKind, Control};
 use crate::records::{
     CompressorInput, CompressorRecord, FieldError, ReceiverInput, ReceiverRecord, SitePatch,
 };
-use crate::service::{self, AuditBundle};
-use crate::store::audits::{self, Audit, AuditListItem, UploadRecord};
+use crate::store::audits::{Audit, AuditListItem, UploadRecord};
 
 /// A page-side error: the same [`AppError`], shown as HTML.
 pub struct PageError(AppError);
@@ -77,7 +76,7 @@ struct IndexPage {
 }
 
 pub async fn index(State(st): State<AppState>) -> PageResult {
-    Ok(render(&IndexPage { audits: audits::list_audits(&st.db).await? }))
+    Ok(render(&IndexPage { audits: st.app.list_audits().await? }))
 }
 
 fn opt_num(form: &HashMap<String, String>, key: &str) -> Result<Option<f64>, FieldError> {
@@ -147,7 +146,7 @@ pub async fn create_audit(
 ) -> PageResult {
     let name = opt_text(&form, "name").ok_or_else(|| FieldError::new("name", "the audit needs a name"))?;
     let patch = site_patch(&form)?;
-    let id = service::create_audit(&st.db, &name, &patch).await?;
+    let id = st.app.create_audit(&name, &patch).await?;
     Ok(Redirect::to(&format!("/audits/{id}")).into_response())
 }
 
@@ -195,15 +194,15 @@ fn audit_page(b: AuditBundle, error: Option<String>) -> AuditPage {
 }
 
 pub async fn audit(State(st): State<AppState>, Path(id): Path<i64>) -> PageResult {
-    let b = service::bundle(&st.db, id).await?;
+    let b = st.app.bundle(id).await?;
     Ok(render(&audit_page(b, None)))
 }
 
 /// Re-show the audit page with the error that stopped a form (422).
-async fn audit_with_error(db: &SqlitePool, id: i64, e: AppError) -> PageResult {
+async fn audit_with_error(app: &App, id: i64, e: AppError) -> PageResult {
     match e {
         AppError::Unprocessable { message, .. } | AppError::Conflict(message) => {
-            let b = service::bundle(db, id).await?;
+            let b = app.bundle(id).await?;
             let mut res = render(&audit_page(b, Some(message)));
             *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
             Ok(res)
@@ -220,23 +219,24 @@ pub async fn save_site(
     let result = async {
         let patch = site_patch(&form)?;
         let name = opt_text(&form, "name");
-        service::update_audit(
-            &st.db,
-            id,
-            name.as_deref(),
-            form.get("auditor").map(|s| s.as_str()),
-            form.get("notes").map(|s| s.as_str()),
-            &patch,
-        )
-        .await
+        st.app
+            .update_audit(
+                id,
+                name.as_deref(),
+                form.get("auditor").map(|s| s.as_str()),
+                form.get("notes").map(|s| s.as_str()),
+                &patch,
+            )
+            .await
+            .map_err(AppError::from)
     }
     .await;
     match result {
         Ok(()) => {
-            service::refresh_summary_in_background(&st.db, id, "site edit");
+            st.app.refresh_summary_in_background(id, "site edit");
             Ok(Redirect::to(&format!("/audits/{id}")).into_response())
         }
-        Err(e) => audit_with_error(&st.db, id, e).await,
+        Err(e) => audit_with_error(&st.app, id, e).await,
     }
 }
 
@@ -279,22 +279,21 @@ pub async fn add_compressor(
             year: opt_num(&form, "year")?.map(|y| y as i32),
             notes: form.get("notes").cloned().unwrap_or_default(),
         };
-        service::save_compressor(&st.db, id, 0, &input).await
+        st.app.save_compressor(id, 0, &input).await.map_err(AppError::from)
     }
     .await;
     match result {
         Ok(_) => {
-            service::refresh_summary_in_background(&st.db, id, "compressor added");
+            st.app.refresh_summary_in_background(id, "compressor added");
             Ok(Redirect::to(&format!("/audits/{id}")).into_response())
         }
-        Err(e) => audit_with_error(&st.db, id, e).await,
+        Err(e) => audit_with_error(&st.app, id, e).await,
     }
 }
 
 pub async fn delete_compressor(State(st): State<AppState>, Path((id, cid)): Path<(i64, i64)>) -> PageResult {
-    service::bundle(&st.db, id).await?;
-    audits::delete_compressor(&st.db, id, cid).await?;
-    service::refresh_summary_in_background(&st.db, id, "compressor deleted");
+    st.app.delete_compressor(id, cid).await?;
+    st.app.refresh_summary_in_background(id, "compressor deleted");
     Ok(Redirect::to(&format!("/audits/{id}")).into_response())
 }
 
@@ -309,18 +308,17 @@ pub async fn add_receiver(
             volume_m3: opt_num(&form, "volume_m3")?.unwrap_or(f64::NAN),
             notes: form.get("notes").cloned().unwrap_or_default(),
         };
-        service::add_receiver(&st.db, id, &input).await
+        st.app.add_receiver(id, &input).await.map_err(AppError::from)
     }
     .await;
     match result {
         Ok(_) => Ok(Redirect::to(&format!("/audits/{id}")).into_response()),
-        Err(e) => audit_with_error(&st.db, id, e).await,
+        Err(e) => audit_with_error(&st.app, id, e).await,
     }
 }
 
 pub async fn delete_receiver(State(st): State<AppState>, Path((id, rid)): Path<(i64, i64)>) -> PageResult {
-    service::bundle(&st.db, id).await?;
-    audits::delete_receiver(&st.db, id, rid).await?;
+    st.app.delete_receiver(id, rid).await?;
     Ok(Redirect::to(&format!("/audits/{id}")).into_response())
 }
 
@@ -334,7 +332,7 @@ struct UploadPage {
 }
 
 pub async fn upload(State(st): State<AppState>, Path(id): Path<i64>) -> PageResult {
-    let b = service::bundle(&st.db, id).await?;
+    let b = st.app.bundle(id).await?;
     let page_data = serde_json::json!({
         "audit_id": id,
         "compressors": b.compressors.iter().map(|c| c.tag.clone()).collect::<Vec<_>>(),

@@ -9,16 +9,15 @@ use axum::extract::{Path, Query, State};
 use axum::response::Response;
 use serde::Deserialize;
 use serde_json::Value;
-use sqlx::SqlitePool;
 
 use super::error::AppError;
 use super::pages::{render, PageError};
 use super::AppState;
+use crate::app::{App, AuditBundle};
 use crate::core::display::{num, Fmt};
 use crate::core::model::human_label;
 use crate::core::recommend::{self, Text};
 use crate::core::units::{UnitSystem, M3_PER_FT3, PA_PER_PSI};
-use crate::service::{self, AuditBundle};
 use crate::store::audits::Audit;
 
 #[derive(Deserialize, Default)]
@@ -593,8 +592,8 @@ pub async fn report(
     Path(id): Path<i64>,
     Query(q): Query<ViewQuery>,
 ) -> Result<Response, PageError> {
-    let b = service::bundle(&st.db, id).await?;
-    let sm = service::summary_json(&st.db, id, None).await?;
+    let b = st.app.bundle(id).await?;
+    let sm = st.app.summary_json(id, None).await?;
     let fmt = reader_fmt(&b, &q);
     let view = report_view(&b, &fmt, &sm);
     let (other_units, other_units_label) = if fmt.is_us() {
@@ -619,9 +618,9 @@ struct FindingsPage {
     printed: String,
 }
 
-async fn findings_page(db: &SqlitePool, id: i64, q: &ViewQuery) -> Result<FindingsPage, AppError> {
-    let b = service::bundle(db, id).await?;
-    let sm = service::summary_json(db, id, None).await?;
+async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage, AppError> {
+    let b = app.bundle(id).await?;
+    let sm = app.summary_json(id, None).await?;
     let fmt = reader_fmt(&b, q);
     let view = report_view(&b, &fmt, &sm);
     Ok(FindingsPage {
@@ -642,12 +641,12 @@ pub async fn findings(
     Path(id): Path<i64>,
     Query(q): Query<ViewQuery>,
 ) -> Result<Response, PageError> {
-    Ok(render(&findings_page(&st.db, id, &q).await?))
+    Ok(render(&findings_page(&st.app, id, &q).await?))
 }
 
 /// The findings page as a file (`airledger report --format html`).
-pub async fn findings_html(db: &SqlitePool, id: i64) -> anyhow::Result<String> {
-    let page = findings_page(db, id, &ViewQuery::default()).await.map_err(|e| anyhow::anyhow!("{e}"))?;
+pub async fn findings_html(app: &App, id: i64) -> anyhow::Result<String> {
+    let page = findings_page(app, id, &ViewQuery::default()).await.map_err(|e| anyhow::anyhow!("{e}"))?;
     Ok(page.render()?)
 }
 
@@ -671,7 +670,7 @@ struct TestsPage {
 }
 
 pub async fn tests(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, PageError> {
-    let b = service::bundle(&st.db, id).await?;
+    let b = st.app.bundle(id).await?;
     let fmt = b.fmt();
     let tests = b
         .field_tests
@@ -730,12 +729,12 @@ struct ScenariosPage {
 }
 
 pub async fn scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, PageError> {
-    let b = service::bundle(&st.db, id).await?;
+    let b = st.app.bundle(id).await?;
     let fmt = b.fmt();
-    let list = crate::store::audits::scenarios(&st.db, id).await?;
+    let list = st.app.scenarios(id).await?;
     let cur = b.audit.site.currency.clone();
     let price = b.audit.site.electricity_price_per_kwh;
-    let sm = service::summary_json(&st.db, id, None).await?;
+    let sm = st.app.summary_json(id, None).await?;
     // The replayed period's saving, scaled to the year like the audit's baseline.
     let scale = g(&sm, "baseline.annual_energy_kwh") / g(&sm, "system.energy_kwh");
     let offered_id =
