@@ -205,7 +205,7 @@ async fn run(command: Command) -> anyhow::Result<()> {
             let app = open(&db).await?;
             let text = match format.as_str() {
                 "json" => serde_json::to_string_pretty(&app.summary_json(audit, None).await?)?,
-                "html" => crate::web::report::findings_html(&app, audit).await?,
+                "html" => crate::web::pages::findings::findings_html(&app, audit).await?,
                 other => anyhow::bail!("unknown format {other:?}: use json or html"),
             };
             match out {

@@ -9,7 +9,6 @@ pub mod api;
 pub mod assets;
 pub mod error;
 pub mod pages;
-pub mod report;
 pub mod upload;
 
 use std::net::SocketAddr;
@@ -102,20 +101,20 @@ pub fn build_app(state: AppState) -> Router {
         .route("/calc/compression", post(api::calc_compression))
         .fallback(api::not_found);
     Router::new()
-        .route("/", get(pages::index))
+        .route("/", get(pages::index::index))
         .route("/login", get(access::login_page).post(access::login))
-        .route("/audits", post(pages::create_audit))
-        .route("/audits/{id}", get(pages::audit))
-        .route("/audits/{id}/site", post(pages::save_site))
-        .route("/audits/{id}/compressors", post(pages::add_compressor))
-        .route("/audits/{id}/compressors/{cid}/delete", post(pages::delete_compressor))
-        .route("/audits/{id}/receivers", post(pages::add_receiver))
-        .route("/audits/{id}/receivers/{rid}/delete", post(pages::delete_receiver))
-        .route("/audits/{id}/upload", get(pages::upload))
-        .route("/audits/{id}/report", get(report::report))
-        .route("/audits/{id}/findings", get(report::findings))
-        .route("/audits/{id}/tests", get(report::tests))
-        .route("/audits/{id}/scenarios", get(report::scenarios))
+        .route("/audits", post(pages::index::create_audit))
+        .route("/audits/{id}", get(pages::audit::audit))
+        .route("/audits/{id}/site", post(pages::audit::save_site))
+        .route("/audits/{id}/compressors", post(pages::audit::add_compressor))
+        .route("/audits/{id}/compressors/{cid}/delete", post(pages::audit::delete_compressor))
+        .route("/audits/{id}/receivers", post(pages::audit::add_receiver))
+        .route("/audits/{id}/receivers/{rid}/delete", post(pages::audit::delete_receiver))
+        .route("/audits/{id}/upload", get(pages::upload::upload))
+        .route("/audits/{id}/report", get(pages::report::report))
+        .route("/audits/{id}/findings", get(pages::findings::findings))
+        .route("/audits/{id}/tests", get(pages::tests::tests))
+        .route("/audits/{id}/scenarios", get(pages::scenarios::scenarios))
         .route("/static/{*path}", get(assets::serve))
         .route("/favicon.ico", get(assets::favicon))
         .nest("/api/v1", api)
