@@ -166,7 +166,7 @@ impl App {
     /// Set (or with `None` clear) the implementation cost an auditor gave for a kind of measure.
     pub async fn set_cost(&self, audit_id: i64, kind: &str, cost: Option<f64>) -> Result<()> {
         self.audit(audit_id).await?;
-        if !crate::core::recommend::KINDS.contains(&kind) {
+        if crate::core::recommend::MeasureKind::parse(kind).is_none() {
             return Err(Error::field("kind", format!("unknown recommendation kind {kind:?}")));
         }
         if let Some(c) = cost {

@@ -140,7 +140,36 @@ pub struct AuditInput<'a> {
     pub scenarios: &'a [recommend::ScenarioCase],
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+/// Where the system flow comes from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum FlowSource {
+    /// The system flow meters.
+    Measured,
+    /// Each machine's states and rated flow (`estimated: true` wherever shown).
+    EstimatedFromCompressorStates,
+}
+
+/// How a compressor's power was logged.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PowerSource {
+    TruePower,
+    /// From current with an assumed power factor.
+    CurrentDerived,
+}
+
+/// Where the production hours come from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ProductionSource {
+    /// The site's weekly schedule.
+    Schedule,
+    /// Detected from the logged demand (module doc).
+    Detected,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Period {
     pub start: String,
     pub end: String,
@@ -150,7 +179,7 @@ pub struct Period {
 }
 
 /// Share of bins with each signal.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Coverage {
     /// Bins where every compressor with a power column has power.
     pub power: f64,
@@ -159,14 +188,14 @@ pub struct Coverage {
     pub pressure: f64,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PartLoadPoint {
     pub flow_m3_min: f64,
     pub specific_power_kw_per_m3_min: f64,
     pub share_of_time: f64,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SystemFigures {
     pub energy_kwh: f64,
     pub energy_kwh_low: f64,
@@ -184,7 +213,7 @@ pub struct SystemFigures {
     pub mean_flow_m3_min_high: f64,
     pub peak_flow_m3_min: f64,
     pub peak_flow_window_s: f64,
-    pub flow_source: &'static str,
+    pub flow_source: FlowSource,
     pub estimated: bool,
     pub specific_power_kw_per_m3_min: Option<f64>,
     pub specific_power_kw_per_m3_min_low: Option<f64>,
@@ -201,7 +230,7 @@ pub struct SystemFigures {
     pub compressors_without_power: Vec<String>,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PressureFigures {
     pub logged: bool,
     pub mean_bar_g: Option<f64>,
@@ -218,13 +247,12 @@ pub struct PressureFigures {
     pub share_above_highest_rated: Option<f64>,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct CompressorFigures {
     pub tag: String,
-    pub control: &'static str,
+    pub control: Control,
     pub power_logged: bool,
-    /// "true_power" or "current_derived".
-    pub power_source: &'static str,
+    pub power_source: PowerSource,
     pub energy_kwh: f64,
     pub energy_kwh_low: f64,
     pub energy_kwh_high: f64,
@@ -259,13 +287,13 @@ pub struct CompressorFigures {
     pub annual_recoverable_kwh: f64,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct DurationPoint {
     pub share_of_time: f64,
     pub flow_m3_min: f64,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Demand {
     pub estimated: bool,
     pub timezone: String,
@@ -273,8 +301,7 @@ pub struct Demand {
     /// `[weekday 0 = Monday][hour]`, local time; `null` where never logged.
     pub weekday_hour_mean_flow_m3_min: Vec<Vec<Option<f64>>>,
     pub weekday_hour_mean_power_kw: Vec<Vec<Option<f64>>>,
-    /// "schedule" or "detected".
-    pub production_source: &'static str,
+    pub production_source: ProductionSource,
     pub production_rule: String,
     pub production_share_of_time: f64,
     pub production_mean_flow_m3_min: Option<f64>,
@@ -284,7 +311,7 @@ pub struct Demand {
     pub peak_flow_m3_min: f64,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Baseline {
     pub rule: String,
     /// Hours of the operating year the annual figures cover.
@@ -306,7 +333,7 @@ pub struct Baseline {
     pub currency: String,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct LeakEstimateFigure {
     pub test_id: Option<i64>,
     pub method: String,
@@ -319,7 +346,7 @@ pub struct LeakEstimateFigure {
     pub estimated: bool,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct LeakFigures {
     pub estimates: Vec<LeakEstimateFigure>,
     pub adopted_leak_flow_m3_min: Option<f64>,
@@ -331,8 +358,8 @@ pub struct LeakFigures {
     pub share_of_mean_demand_high: Option<f64>,
     pub share_of_production_demand: Option<f64>,
     pub share_of_non_production_demand: Option<f64>,
-    pub band: Option<&'static str>,
-    pub band_description: Option<&'static str>,
+    pub band: Option<leaks::LeakShareBand>,
+    pub band_description: Option<String>,
     pub target_share: f64,
     pub marginal_machine: Option<String>,
     pub marginal_kw_per_m3_min: f64,
@@ -342,35 +369,34 @@ pub struct LeakFigures {
     pub annual_leak_cost_high: Option<f64>,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct HeatFigures {
     pub heat_rejected_kwh: f64,
     pub recoverable_kwh: f64,
     pub annual_heat_rejected_kwh: f64,
     pub annual_recoverable_kwh: f64,
     pub recoverable_kw_at_full_load: f64,
-    /// "space_heating" or "process_water".
-    pub use_kind: &'static str,
+    pub use_kind: heat::HeatUseKind,
     pub useful_heat_kwh_per_year: f64,
     pub displaced_fuel_kwh_per_year: f64,
     pub annual_value: f64,
     /// The same heat all year as process or boiler make-up water, for comparison.
     pub process_water_annual_value: f64,
-    pub cautions: Vec<&'static str>,
+    pub cautions: Vec<String>,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Method {
     pub figure: String,
     pub formula: String,
     pub source: String,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Summary {
     pub period: Period,
     pub coverage: Coverage,
-    pub flow_source: &'static str,
+    pub flow_source: FlowSource,
     pub system: SystemFigures,
     pub pressure: PressureFigures,
     pub compressors: Vec<CompressorFigures>,
@@ -601,7 +627,7 @@ pub struct DataFigures {
     comp_sp: Vec<(Option<f64>, bool, Option<f64>)>,
     machines: Vec<MachineCells>,
     without_power: Vec<String>,
-    flow_source: &'static str,
+    flow_source: FlowSource,
     flow_estimated: bool,
     air_m3: f64,
     mean_flow: f64,
@@ -672,10 +698,10 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
 
     // The metered system flow when there is one (taken, not copied), else the compressors' estimate.
     let (flow, flow_source, flow_estimated) = match frame.system_flow() {
-        Some(q) => (Some(q), "measured", false),
+        Some(q) => (Some(q), FlowSource::Measured, false),
         None => (
             sum_columns(n, est_flow.iter().flatten().map(|v| v.as_slice())),
-            "estimated_from_compressor_states",
+            FlowSource::EstimatedFromCompressorStates,
             true,
         ),
     };
@@ -810,12 +836,12 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
     );
 
     // Production hours.
-    let (is_prod, production_source, production_rule): (Vec<bool>, &'static str, String) = match &spec
+    let (is_prod, production_source, production_rule): (Vec<bool>, ProductionSource, String) = match &spec
         .production
     {
         Some(s) => (
             cells.iter().map(|&c| c != NO_CELL && s.hours[c as usize / 24][c as usize % 24]).collect(),
-            "schedule",
+            ProductionSource::Schedule,
             "the site's weekly production schedule".into(),
         ),
         None => {
@@ -831,7 +857,7 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
                 .collect();
             (
                 cells.iter().map(|&c| c == NO_CELL || prod_cell[c as usize]).collect(),
-                "detected",
+                ProductionSource::Detected,
                 format!(
                     "a weekday-hour is production when its mean {} is at least {:.0} % of the highest weekday-hour mean",
                     if flow.is_some() { "flow" } else { "power" },
@@ -1263,12 +1289,12 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         });
         comp_fig.push(CompressorFigures {
             tag: c.tag.clone(),
-            control: c.control.as_str(),
+            control: c.control,
             power_logged: d.power_logged[i],
             power_source: if acc.current_derived_power.contains(&c.tag) {
-                "current_derived"
+                PowerSource::CurrentDerived
             } else {
-                "true_power"
+                PowerSource::TruePower
             },
             energy_kwh: energy_kwh[i],
             energy_kwh_low: lo,
@@ -1333,8 +1359,11 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     let (u_p, f_p, v_p) =
         heat::recovered_value(&monthly, &process, site.heater_efficiency, site.heating_fuel_price_per_kwh);
     let space_ok = !site.heating_months.is_empty();
-    let (use_kind, useful, fuel, value) =
-        if space_ok { ("space_heating", u_s, f_s, v_s) } else { ("process_water", u_p, f_p, v_p) };
+    let (use_kind, useful, fuel, value) = if space_ok {
+        (heat::HeatUseKind::SpaceHeating, u_s, f_s, v_s)
+    } else {
+        (heat::HeatUseKind::ProcessWater, u_p, f_p, v_p)
+    };
     if !space_ok {
         assumptions.push("no heating months given: recovered heat valued as year-round process water".into());
     }
@@ -1533,8 +1562,8 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
                 .zip(q_nonprod)
                 .filter(|(_, q)| *q > 0.0)
                 .map(|(l, q)| l / q),
-            band: leak_band.map(|b| b.as_str()),
-            band_description: leak_band.map(|b| b.describe()),
+            band: leak_band,
+            band_description: leak_band.map(|b| b.describe().to_string()),
             target_share: 0.10,
             marginal_machine: trim.map(|t| cs[t].tag.clone()),
             marginal_kw_per_m3_min: marginal,
@@ -1554,7 +1583,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             displaced_fuel_kwh_per_year: fuel,
             annual_value: value,
             process_water_annual_value: v_p,
-            cautions: heat::HEAT_RECOVERY_CAUTIONS.to_vec(),
+            cautions: heat::HEAT_RECOVERY_CAUTIONS.iter().map(|c| c.to_string()).collect(),
         },
         recommendations: recs,
         methods,
@@ -1563,7 +1592,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
 }
 
 /// A stretch of the logs where pressure decays with every logged compressor off or unloaded.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct DecayEvent {
     pub start_ms: i64,
     pub end_ms: i64,
@@ -1666,6 +1695,7 @@ mod tests {
     use super::*;
     use crate::core::fieldtest::bar_g_to_pa_abs;
     use crate::core::recommend::tests::site;
+    use crate::core::recommend::MeasureKind;
     use crate::core::series::{FrameColumn, Signal};
     use crate::core::states::tests::spec;
 
@@ -1679,7 +1709,7 @@ mod tests {
     fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame, leaks: Vec<LeakEstimate>) -> Summary {
         let costs = CostOverrides::default();
         let acc = Accuracy::default();
-        summarize(
+        let summary = summarize(
             frame,
             &AuditInput {
                 site: s,
@@ -1689,7 +1719,61 @@ mod tests {
                 scenarios: &[],
                 accuracy: &acc,
             },
-        )
+        );
+        // Every summary a test builds reads back from its JSON unchanged.
+        assert_json_round_trip(&summary);
+        summary
+    }
+
+    /// `to_value(from_value(to_value(s))) == to_value(s)`: the cached summary read back typed
+    /// writes the same JSON, name for name and number for number.
+    fn assert_json_round_trip(s: &Summary) {
+        let json = serde_json::to_value(s).unwrap();
+        let back: Summary = serde_json::from_value(json.clone()).unwrap();
+        assert_eq!(serde_json::to_value(&back).unwrap(), json);
+    }
+
+    #[test]
+    fn a_summary_reads_back_from_its_json_with_the_same_names_and_spellings() {
+        // The week with a leak test and a schedule: every enum of the summary is spelled in the JSON
+        // as the API names it (API.md), and the summary reads back from that JSON unchanged.
+        let mut s = site();
+        let (cs, frame) = week();
+        let r = run(
+            &s,
+            &cs,
+            &frame,
+            vec![LeakEstimate { test_id: 3, method: "bleed_down".into(), leak_flow_m3_min: 1.5 }],
+        );
+        let j = serde_json::to_value(&r).unwrap();
+        assert_eq!(j["flow_source"], "measured");
+        assert_eq!(j["system"]["flow_source"], "measured");
+        assert_eq!(j["compressors"][0]["control"], "load_unload");
+        assert_eq!(j["compressors"][0]["power_source"], "true_power");
+        assert_eq!(j["demand"]["production_source"], "detected");
+        assert_eq!(j["heat"]["use_kind"], "space_heating");
+        // 1.5 of a mean (80 x 10 + 88 x 2) / 168 = 5.81 m³/min is 26 %: poorly maintained.
+        assert_eq!(j["leaks"]["band"], "poorly_maintained");
+        assert_eq!(j["leaks"]["band_description"], leaks::LeakShareBand::PoorlyMaintained.describe());
+        assert_eq!(j["heat"]["cautions"].as_array().unwrap().len(), heat::HEAT_RECOVERY_CAUTIONS.len());
+        let kinds: Vec<&str> =
+            j["recommendations"].as_array().unwrap().iter().map(|m| m["kind"].as_str().unwrap()).collect();
+        assert!(kinds.contains(&"repair_leaks") && kinds.contains(&"shut_off_idle"), "{kinds:?}");
+        assert!(j["recommendations"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .all(|m| m["implementation_cost_source"] == "default_estimate"));
+        // Estimated flow and a schedule spell the other variants.
+        s.heating_months.clear();
+        let mut week_hours = [[false; 24]; 7];
+        week_hours[0][8] = true;
+        s.production = Some(WeeklySchedule { hours: week_hours });
+        let no_flow = Frame { grid: frame.grid, columns: frame.columns[..1].to_vec() };
+        let j = serde_json::to_value(run(&s, &cs, &no_flow, vec![])).unwrap();
+        assert_eq!(j["flow_source"], "estimated_from_compressor_states");
+        assert_eq!(j["demand"]["production_source"], "schedule");
+        assert_eq!(j["heat"]["use_kind"], "process_water");
     }
 
     #[test]
@@ -1717,7 +1801,7 @@ mod tests {
         let atm = s.air.atmosphere.0;
         let iso = atm * (8.0 / 60.0) * (p_abs / atm).ln() / 50_000.0;
         assert!((r.system.isothermal_efficiency.unwrap() - iso).abs() < 1e-5);
-        assert_eq!(r.flow_source, "measured");
+        assert_eq!(r.flow_source, FlowSource::Measured);
         assert!((r.pressure.mean_bar_g.unwrap() - 7.0).abs() < 1e-4);
         assert_eq!(r.coverage.power, 1.0);
         // Cost of air (FIELD-NOTES §9): kW/100 cfm / 6 x price per 1000 ft³.
@@ -1816,7 +1900,7 @@ mod tests {
         assert!((r.system.energy_kwh - 20.0).abs() < 1e-6); // 40 kW over the logged half hour
         assert!((r.system.mean_power_kw - 40.0).abs() < 1e-6); // the gap is not counted as zero
         assert_eq!(r.coverage.flow, 0.0);
-        assert_eq!(r.flow_source, "estimated_from_compressor_states");
+        assert_eq!(r.flow_source, FlowSource::EstimatedFromCompressorStates);
         assert!(r.system.estimated);
         // 40 kW is loaded for this machine: estimated flow is its rated 9.5 m³/min.
         assert!((r.system.mean_flow_m3_min - 9.5).abs() < 1e-5);
@@ -1861,7 +1945,7 @@ mod tests {
         assert!((r.baseline.annual_cost - annual * 0.15).abs() < 1e-3);
         assert!((r.baseline.annual_co2_t - annual * 0.4 / 1000.0).abs() < 1e-6);
         // Detected production: 2 m³/min is 20 % of the 10 m³/min peak hour, below 35 %.
-        assert_eq!(r.demand.production_source, "detected");
+        assert_eq!(r.demand.production_source, ProductionSource::Detected);
         assert!((r.demand.production_share_of_time - 80.0 / 168.0).abs() < 1e-12);
         assert!((r.demand.non_production_mean_flow_m3_min.unwrap() - 2.0).abs() < 1e-5);
         // Leaks: the test is adopted; leak energy at the load/unload marginal power (FIELD-NOTES §5)
@@ -1875,8 +1959,8 @@ mod tests {
         assert!((r.leaks.share_of_mean_demand.unwrap() - 1.5 / mean_q).abs() < 1e-5);
         assert_eq!(r.leaks.estimates.len(), 2); // the test and the automatic non-production flow
                                                 // The week's unloaded time out of production shows up as a shut-off measure.
-        assert!(r.recommendations.iter().any(|x| x.kind == "shut_off_idle"));
-        assert!(r.recommendations.iter().any(|x| x.kind == "repair_leaks"));
+        assert!(r.recommendations.iter().any(|x| x.kind == MeasureKind::ShutOffIdle));
+        assert!(r.recommendations.iter().any(|x| x.kind == MeasureKind::RepairLeaks));
         for w in r.recommendations.windows(2) {
             assert!(w[0].simple_payback_years <= w[1].simple_payback_years);
         }
@@ -1960,6 +2044,10 @@ mod tests {
         assert!(r.compressors[1].trim && !r.compressors[0].trim);
         assert!((r.compressors[1].loaded_fraction - 0.2).abs() < 1e-12);
         // Load/unload trim at 20 % load: a VSD trim is proposed.
-        assert!(r.recommendations.iter().any(|x| x.kind == "improve_control"), "{:?}", r.recommendations);
+        assert!(
+            r.recommendations.iter().any(|x| x.kind == MeasureKind::ImproveControl),
+            "{:?}",
+            r.recommendations
+        );
     }
 }

@@ -118,7 +118,26 @@ impl From<leaks::LeakError> for FieldError {
     }
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+/// Where a test's system volume comes from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum VolumeSource {
+    /// Entered with the test.
+    Given,
+    /// The audit's system volume (receivers + piping and vessels).
+    SystemVolume,
+}
+
+impl VolumeSource {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Self::Given => "given",
+            Self::SystemVolume => "system_volume",
+        }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct BleedDownOutcome {
     pub mean_leak_flow_m3_min: f64,
     pub leak_flow_at_operating_pressure_m3_min: f64,
@@ -130,11 +149,10 @@ pub struct BleedDownOutcome {
     pub mean_pressure_bar_g: f64,
     pub operating_pressure_bar_g: f64,
     pub volume_m3: f64,
-    /// "given" or "system_volume".
-    pub volume_source: &'static str,
+    pub volume_source: VolumeSource,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct LoadUnloadOutcome {
     pub compressor: String,
     pub leak_fraction: f64,
@@ -144,7 +162,7 @@ pub struct LoadUnloadOutcome {
     pub rated_flow_m3_min: f64,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct IdleFlowOutcome {
     pub leak_flow_m3_min: f64,
     pub leak_flow_m3_min_low: f64,
@@ -157,7 +175,7 @@ pub struct IdleFlowOutcome {
     pub coverage: f64,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PressureDecayOutcome {
     pub leak_flow_at_start_pressure_m3_min: f64,
     pub fit_r2: f64,
@@ -169,13 +187,13 @@ pub struct PressureDecayOutcome {
     pub operating_pressure_bar_g: f64,
     pub duration_s: f64,
     pub volume_m3: f64,
-    pub volume_source: &'static str,
+    pub volume_source: VolumeSource,
     /// Compressors without a logged power column: their state in the window could not be checked.
     pub unchecked_compressors: Vec<String>,
 }
 
 /// A test's result, serialized flat (the API's `result` object).
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(untagged)]
 pub enum FieldTestResult {
     BleedDown(BleedDownOutcome),
@@ -228,13 +246,13 @@ fn pressure(field: &str, bar_g: f64, site: &SiteAir) -> Result<PressureAbs, Fiel
     Ok(p)
 }
 
-fn volume(field: &str, given: Option<f64>, storage: &StorageSpec) -> Result<(f64, &'static str), FieldError> {
+fn volume(field: &str, given: Option<f64>, storage: &StorageSpec) -> Result<(f64, VolumeSource), FieldError> {
     let (v, src) = match given {
-        Some(v) => (v, "given"),
-        None => (storage.system_volume_m3(), "system_volume"),
+        Some(v) => (v, VolumeSource::Given),
+        None => (storage.system_volume_m3(), VolumeSource::SystemVolume),
     };
     if !(v.is_finite() && v > 0.0) {
-        return Err(err(field, format!("volume must be above 0 m3, got {v} ({src})")));
+        return Err(err(field, format!("volume must be above 0 m3, got {v} ({})", src.as_str())));
     }
     Ok((v, src))
 }
@@ -476,6 +494,15 @@ mod tests {
         SiteAir::new(101.325, 20.0)
     }
 
+    /// A result reads back from its JSON as the same variant with the same figures, and writes the
+    /// same JSON again (the application stores results typed).
+    fn assert_json_round_trip(r: &FieldTestResult) {
+        let json = serde_json::to_value(r).unwrap();
+        let back: FieldTestResult = serde_json::from_value(json.clone()).unwrap();
+        assert_eq!(&back, r);
+        assert_eq!(serde_json::to_value(&back).unwrap(), json);
+    }
+
     #[test]
     fn bleed_down_matches_the_doe_worked_example() {
         // FIELD-NOTES §11 (DOE sourcebook formula): V = 5 ft³, 100 -> 50 psig in 60 min -> 0.354 cfm
@@ -499,7 +526,9 @@ mod tests {
         assert!((cfm(r.mean_leak_flow_m3_min) - mean).abs() < 1e-4);
         assert!((cfm(r.leak_flow_m3_min) - mean * 114.7 / 89.7).abs() < 1e-4);
         assert!(r.leak_flow_m3_min_low < r.leak_flow_m3_min && r.leak_flow_m3_min < r.leak_flow_m3_min_high);
+        assert_json_round_trip(&FieldTestResult::BleedDown(r.clone()));
         let json = serde_json::to_value(FieldTestResult::BleedDown(r)).unwrap();
+        assert_eq!(json["volume_source"], "given");
         assert!(json.get("mean_leak_flow_m3_min").is_some());
         assert!(json.get("leak_flow_at_operating_pressure_m3_min").is_some());
     }
@@ -516,6 +545,7 @@ mod tests {
         )
         .unwrap();
         let r = evaluate(&input, &ctx).unwrap();
+        assert_json_round_trip(&r);
         let json = serde_json::to_value(&r).unwrap();
         assert!((json["leak_fraction"].as_f64().unwrap() - 0.25).abs() < 1e-12);
         assert!((r.leak_flow_m3_min() - 0.25 * 9.5).abs() < 1e-12);
@@ -540,7 +570,7 @@ mod tests {
         assert_eq!(evaluate(&bd(7.0, 5.0, 0.0), &ctx).unwrap_err().field, "duration_s");
         // The default volume is the system volume, 2.5 m³.
         let FieldTestResult::BleedDown(r) = evaluate(&bd(7.0, 5.5, 95.0), &ctx).unwrap() else { panic!() };
-        assert_eq!((r.volume_m3, r.volume_source), (2.5, "system_volume"));
+        assert_eq!((r.volume_m3, r.volume_source), (2.5, VolumeSource::SystemVolume));
         let w = FieldTestInput::IdleFlow {
             start: "2026-03-02T06:00:00Z".into(),
             end: "2026-03-02T05:00:00Z".into(),
@@ -596,6 +626,7 @@ mod tests {
         assert!((r.leak_flow_at_start_pressure_m3_min - expect).abs() / expect < 1e-3, "{r:?}");
         assert!(r.fit_r2 > 0.999);
         assert!(r.unchecked_compressors.is_empty());
+        assert_json_round_trip(&FieldTestResult::PressureDecay(r.clone()));
         // The same window with C1 loaded is refused.
         let frame = decay_frame(&s, 1200.0, 0.0, 55.0);
         let ctx = FieldTestContext { frame: Some(&frame), ..ctx };
@@ -617,6 +648,7 @@ mod tests {
         };
         let FieldTestResult::IdleFlow(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
         assert!((r.mean_flow_m3_min - 1.2).abs() < 1e-6);
+        assert_json_round_trip(&FieldTestResult::IdleFlow(r.clone()));
         let expect = 1.2 * bar_g_to_pa_abs(6.0, &s) / bar_g_to_pa_abs(7.0, &s);
         assert!((r.leak_flow_m3_min - expect).abs() < 1e-5, "{r:?}");
         assert_eq!(r.coverage, 1.0);

@@ -104,13 +104,23 @@ pub fn recoverable_fraction(kind: CompressorKind, cooling: Cooling) -> f64 {
     }
 }
 
-/// What the recovered heat would serve.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+/// What the recovered heat would serve (JSON `space_heating`, `process_water`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
 pub enum HeatUseKind {
     /// Space heating: useful only in the heating months.
     SpaceHeating,
     /// Process or boiler make-up water: useful all year.
     ProcessWater,
+}
+
+impl HeatUseKind {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Self::SpaceHeating => "space_heating",
+            Self::ProcessWater => "process_water",
+        }
+    }
 }
 
 /// A use for recovered heat.

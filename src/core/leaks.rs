@@ -318,7 +318,8 @@ pub fn fit_pressure_decay(
 }
 
 /// How a system's leak share compares with the DOE sourcebook's benchmarks (FIELD-NOTES §5).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
 pub enum LeakShareBand {
     /// Below 10 % of demand: a well-maintained system.
     WellMaintained,

@@ -37,15 +37,54 @@ use super::display::Fmt;
 use super::model::{CompressorSpec, Control, SiteSpec};
 use super::units::UnitSystem;
 
-/// Every kind of measure this module proposes (API.md names).
-pub const KINDS: &[&str] = &[
-    "repair_leaks",
-    "lower_pressure",
-    "recover_heat",
-    "shut_off_idle",
-    "improve_control",
-    "replace_compressor",
-];
+/// Every kind of measure this module proposes (API.md names, the JSON spelling of each).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum MeasureKind {
+    RepairLeaks,
+    LowerPressure,
+    RecoverHeat,
+    ShutOffIdle,
+    ImproveControl,
+    ReplaceCompressor,
+}
+
+impl MeasureKind {
+    pub const ALL: &'static [Self] = &[
+        Self::RepairLeaks,
+        Self::LowerPressure,
+        Self::RecoverHeat,
+        Self::ShutOffIdle,
+        Self::ImproveControl,
+        Self::ReplaceCompressor,
+    ];
+
+    /// The API name (`repair_leaks`, ...), the same as the JSON spelling.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Self::RepairLeaks => "repair_leaks",
+            Self::LowerPressure => "lower_pressure",
+            Self::RecoverHeat => "recover_heat",
+            Self::ShutOffIdle => "shut_off_idle",
+            Self::ImproveControl => "improve_control",
+            Self::ReplaceCompressor => "replace_compressor",
+        }
+    }
+
+    pub fn parse(s: &str) -> Option<Self> {
+        Self::ALL.iter().copied().find(|k| k.as_str() == s)
+    }
+}
+
+/// Where a measure's implementation cost comes from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum CostSource {
+    /// The documented default rates (module doc table).
+    DefaultEstimate,
+    /// Set per audit.
+    Edited,
+}
 
 /// Rank by simple payback, shortest first (measures without one last).
 pub fn rank(recs: &mut [Recommendation]) {
@@ -60,10 +99,10 @@ pub fn rank(recs: &mut [Recommendation]) {
 /// paybacks and rank again.
 pub fn apply_implementation_costs(recs: &mut [Recommendation], edited: &BTreeMap<String, f64>) {
     for r in recs.iter_mut() {
-        if let Some(&c) = edited.get(r.kind) {
+        if let Some(&c) = edited.get(r.kind.as_str()) {
             r.implementation_cost = c;
             r.simple_payback_years = Some(c / r.annual_cost_saving);
-            r.implementation_cost_source = "edited";
+            r.implementation_cost_source = CostSource::Edited;
         }
     }
     rank(recs);
@@ -123,41 +162,40 @@ pub struct CostContext {
 }
 
 /// Default rate of a kind (module doc table), common practice, from memory.
-pub fn default_rate(kind: &str, ctx: &CostContext) -> f64 {
+pub fn default_rate(kind: MeasureKind, ctx: &CostContext) -> f64 {
     match kind {
-        "repair_leaks" => costs::LEAK_PER_M3_MIN,
-        "lower_pressure" => costs::SET_PRESSURE,
-        "recover_heat" => costs::HEAT_RECOVERY_PER_KW,
-        "shut_off_idle" => costs::SHUT_OFF_PER_COMPRESSOR,
-        "improve_control" if ctx.has_vsd => costs::SEQUENCER,
-        "improve_control" => costs::VSD_TRIM_PER_KW,
-        "replace_compressor" => costs::PER_KW_FIXED_SPEED,
-        _ => 0.0,
+        MeasureKind::RepairLeaks => costs::LEAK_PER_M3_MIN,
+        MeasureKind::LowerPressure => costs::SET_PRESSURE,
+        MeasureKind::RecoverHeat => costs::HEAT_RECOVERY_PER_KW,
+        MeasureKind::ShutOffIdle => costs::SHUT_OFF_PER_COMPRESSOR,
+        MeasureKind::ImproveControl if ctx.has_vsd => costs::SEQUENCER,
+        MeasureKind::ImproveControl => costs::VSD_TRIM_PER_KW,
+        MeasureKind::ReplaceCompressor => costs::PER_KW_FIXED_SPEED,
     }
 }
 
 /// Default implementation cost of a measure (module doc table).
-pub fn default_cost(kind: &str, ctx: &CostContext) -> f64 {
+pub fn default_cost(kind: MeasureKind, ctx: &CostContext) -> f64 {
     cost_with_rate(kind, ctx, default_rate(kind, ctx))
 }
 
-fn cost_with_rate(kind: &str, ctx: &CostContext, rate: f64) -> f64 {
+fn cost_with_rate(kind: MeasureKind, ctx: &CostContext, rate: f64) -> f64 {
     match kind {
-        "repair_leaks" => costs::LEAK_SURVEY + rate * ctx.leak_repaired_m3_min,
-        "recover_heat" => rate * ctx.recoverable_heat_kw,
-        "shut_off_idle" => rate * ctx.compressors.max(1.0),
-        "improve_control" if ctx.has_vsd => rate,
-        "improve_control" | "replace_compressor" => rate * ctx.rated_kw,
-        _ => rate,
+        MeasureKind::RepairLeaks => costs::LEAK_SURVEY + rate * ctx.leak_repaired_m3_min,
+        MeasureKind::RecoverHeat => rate * ctx.recoverable_heat_kw,
+        MeasureKind::ShutOffIdle => rate * ctx.compressors.max(1.0),
+        MeasureKind::ImproveControl if ctx.has_vsd => rate,
+        MeasureKind::ImproveControl | MeasureKind::ReplaceCompressor => rate * ctx.rated_kw,
+        MeasureKind::LowerPressure => rate,
     }
 }
 
 /// Implementation cost with the audit's override of the rate, if any.
-pub fn cost(kind: &str, ctx: &CostContext, overrides: &CostOverrides) -> f64 {
+pub fn cost(kind: MeasureKind, ctx: &CostContext, overrides: &CostOverrides) -> f64 {
     if let Some(c) = ctx.scenario_cost {
         return c;
     }
-    let rate = overrides.per_kind.get(kind).copied().unwrap_or_else(|| default_rate(kind, ctx));
+    let rate = overrides.per_kind.get(kind.as_str()).copied().unwrap_or_else(|| default_rate(kind, ctx));
     cost_with_rate(kind, ctx, rate)
 }
 
@@ -234,9 +272,9 @@ macro_rules! text {
     ($($p:expr),* $(,)?) => { vec![$(Part::from($p)),*] };
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Recommendation {
-    pub kind: &'static str,
+    pub kind: MeasureKind,
     pub title: String,
     pub description: String,
     pub annual_energy_saving_kwh: f64,
@@ -244,7 +282,7 @@ pub struct Recommendation {
     pub implementation_cost: f64,
     pub simple_payback_years: Option<f64>,
     /// `default_estimate` (the documented rates above) or `edited` (set per audit).
-    pub implementation_cost_source: &'static str,
+    pub implementation_cost_source: CostSource,
     pub annual_co2_saving_t: f64,
     /// The saving is electricity (`false` for `recover_heat`, whose kWh are fuel displaced).
     pub electricity: bool,
@@ -255,7 +293,7 @@ pub struct Recommendation {
     pub source: String,
     pub caution: Option<String>,
     /// The replayed scenario this measure rests on (`improve_control` only).
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub scenario_id: Option<i64>,
 }
 
@@ -326,7 +364,7 @@ pub struct HeatCase {
     pub fuel_kwh_per_year: f64,
     pub value_per_year: f64,
     pub recoverable_kw: f64,
-    pub use_kind: &'static str,
+    pub use_kind: super::heat::HeatUseKind,
 }
 
 /// Everything the measures are computed from.
@@ -351,7 +389,7 @@ pub struct RecommendInput<'a> {
 
 /// A measure before its cost and payback are worked out.
 struct Draft {
-    kind: &'static str,
+    kind: MeasureKind,
     title: Vec<Part>,
     description: Vec<Part>,
     saving_kwh: f64,
@@ -386,7 +424,7 @@ fn finish(r: &RecommendInput, d: Draft) -> Option<Recommendation> {
         annual_cost_saving,
         implementation_cost,
         simple_payback_years: Some(implementation_cost / annual_cost_saving),
-        implementation_cost_source: "default_estimate",
+        implementation_cost_source: CostSource::DefaultEstimate,
         annual_co2_saving_t: saving_kwh * co2_kg / 1000.0,
         electricity,
         basis: basis.iter().map(|b| render(b, &si)).collect(),
@@ -411,7 +449,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
     if let Some(leak) = r.leak_flow_m3_min.filter(|q| *q > 0.0) {
         let dq = opts.leak_repair_fraction.clamp(0.0, 1.0) * leak;
         let kwh = capped(dq * r.marginal_kw_per_m3_min * r.annual_running_hours);
-        out.extend(finish(r, Draft { kind: "repair_leaks", title: text!["Repair leaks: about ", flow(dq)], description: text![
+        out.extend(finish(r, Draft { kind: MeasureKind::RepairLeaks, title: text!["Repair leaks: about ", flow(dq)], description: text![
                 format!("Find and repair {:.0} % of the estimated ", opts.leak_repair_fraction * 100.0),
                 flow(leak),
                 format!(" of leaks; the trim compressor {trim_tag} then delivers less air."),
@@ -436,7 +474,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
             let q_unreg = opts.unregulated_flow_m3_min.unwrap_or(0.0) + r.leak_flow_m3_min.unwrap_or(0.0);
             let dq = q_unreg * dp / p_abs_bar;
             let artificial = capped(dq * r.marginal_kw_per_m3_min * r.annual_running_hours);
-            out.extend(finish(r, Draft { kind: "lower_pressure", title: text!["Lower the header pressure from ", bar_g(p_now), " to ", bar_g(target)], description: text!["Lower the compressors' set points in steps while watching the pressure at the farthest point of use."], saving_kwh: direct + artificial, money: None, cost_ctx: CostContext::default(), basis: vec![
+            out.extend(finish(r, Draft { kind: MeasureKind::LowerPressure, title: text!["Lower the header pressure from ", bar_g(p_now), " to ", bar_g(target)], description: text!["Lower the compressors' set points in steps while watching the pressure at the farthest point of use."], saving_kwh: direct + artificial, money: None, cost_ctx: CostContext::default(), basis: vec![
                     text!["mean header pressure ", bar_g(p_now)],
                     text!["target ", bar_g(target)],
                     text![format!("annual compressor energy {:.0} kWh", r.annual_energy_kwh)],
@@ -448,7 +486,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
 
     // Heat recovery.
     if let Some(h) = &r.heat {
-        out.extend(finish(r, Draft { kind: "recover_heat", title: text![format!("Recover compressor heat for {}", h.use_kind.replace('_', " "))], description: text![format!(
+        out.extend(finish(r, Draft { kind: MeasureKind::RecoverHeat, title: text![format!("Recover compressor heat for {}", h.use_kind.as_str().replace('_', " "))], description: text![format!(
                 "Use about {:.0} kWh/yr of the compressors' heat in place of fuel ({:.0} kWh/yr of fuel).",
                 h.useful_kwh_per_year, h.fuel_kwh_per_year
             )], saving_kwh: h.fuel_kwh_per_year, money: Some(h.value_per_year), cost_ctx: CostContext { recoverable_heat_kw: h.recoverable_kw, ..Default::default() }, basis: vec![
@@ -474,7 +512,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
     if !idle.is_empty() {
         let kwh: f64 = idle.iter().map(|x| x.1).sum();
         let tags: Vec<String> = idle.iter().map(|(i, _)| r.compressors[*i].tag.clone()).collect();
-        out.extend(finish(r, Draft { kind: "shut_off_idle", title: text![format!("Switch off idling compressors out of production ({})", tags.join(", "))], description: text!["Outside production hours these machines run unloaded; a timer or sequencer rule stops them."], saving_kwh: kwh, money: None, cost_ctx: CostContext { compressors: idle.len() as f64, ..Default::default() }, basis: idle.iter()
+        out.extend(finish(r, Draft { kind: MeasureKind::ShutOffIdle, title: text![format!("Switch off idling compressors out of production ({})", tags.join(", "))], description: text!["Outside production hours these machines run unloaded; a timer or sequencer rule stops them."], saving_kwh: kwh, money: None, cost_ctx: CostContext { compressors: idle.len() as f64, ..Default::default() }, basis: idle.iter()
                 .map(|(i, k)| text![format!("{} unloaded out of production {k:.0} kWh/yr", r.compressors[*i].tag)])
                 .collect(), formula: "saving = Σ energy spent unloaded in non-production hours (annualised)", source: "US DOE sourcebook (unloaded power 15-35 % of full load); common practice", caution: Some(
                 "only where nothing needs air at those hours; leaks and dryers still draw while pressurized"
@@ -499,7 +537,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
         out.extend(finish_scenario(
             r,
             Draft {
-                kind: "improve_control",
+                kind: MeasureKind::ImproveControl,
                 title: text![format!("Change the compressor room as in scenario \u{201c}{}\u{201d}", s.name)],
                 description: text![format!(
                     "The logged demand replayed through the changed room (scenario {}) takes {:.1} % less \
@@ -534,7 +572,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
         out.extend(finish(
             r,
             Draft {
-                kind: "improve_control",
+                kind: MeasureKind::ImproveControl,
                 title: text![if has_vsd {
                     format!("Sequence the variable-speed machine as trim instead of {}", spec.tag)
                 } else {
@@ -582,7 +620,7 @@ pub fn recommend(r: &RecommendInput) -> Vec<Recommendation> {
             Some(sp) if sp_high => p_meas - p_meas * spec.rated_specific_power_kw_per_m3_min() / sp,
             _ => p_meas - spec.rated_power_kw,
         };
-        out.extend(finish(r, Draft { kind: "replace_compressor", title: text![format!("Overhaul or replace {}", spec.tag)], description: text![format!(
+        out.extend(finish(r, Draft { kind: MeasureKind::ReplaceCompressor, title: text![format!("Overhaul or replace {}", spec.tag)], description: text![format!(
                 "{} draws {p_meas:.1} kW loaded against {:.1} kW on its data sheet.",
                 spec.tag, spec.rated_power_kw
             )], saving_kwh: excess_kw * m.annual_loaded_hours, money: None, cost_ctx: CostContext { rated_kw: spec.rated_power_kw, ..Default::default() }, basis: vec![
@@ -691,7 +729,7 @@ pub(crate) mod tests {
         let costs = CostOverrides::default();
         let recs = recommend(&input(&s, &cs, &ms, &costs));
         let us = Fmt::new(UnitSystem::Us, s.air.atmosphere);
-        let leak = recs.iter().find(|r| r.kind == "repair_leaks").expect("leak measure");
+        let leak = recs.iter().find(|r| r.kind == MeasureKind::RepairLeaks).expect("leak measure");
         // Half of the 2 m³/min leak repaired.
         assert_eq!(leak.title, "Repair leaks: about 1.00 m³/min free air");
         assert_eq!(render(&leak.text.title, &us), "Repair leaks: about 35.3 cfm free air");
@@ -699,7 +737,7 @@ pub(crate) mod tests {
         assert_eq!(render(&leak.text.basis[0], &us), "leak flow 70.6 cfm free air");
         assert!(render(&leak.text.basis[2], &us).contains(" kW/100 cfm"), "{:?}", leak.text.basis[2]);
         // 7.0 and 6.5 bar(g) = 101.5 and 94.3 psig.
-        let p = recs.iter().find(|r| r.kind == "lower_pressure").expect("pressure measure");
+        let p = recs.iter().find(|r| r.kind == MeasureKind::LowerPressure).expect("pressure measure");
         assert_eq!(p.title, "Lower the header pressure from 7.00 bar(g) to 6.50 bar(g)");
         assert_eq!(render(&p.text.title, &us), "Lower the header pressure from 101.5 psig to 94.3 psig");
         // No SI unit is left in any US rendering of these measures.
@@ -733,7 +771,7 @@ pub(crate) mod tests {
         let mut inp = input(&s, &cs, &ms, &costs);
         inp.scenarios = &cases;
         let recs = recommend(&inp);
-        let ctl: Vec<_> = recs.iter().filter(|r| r.kind == "improve_control").collect();
+        let ctl: Vec<_> = recs.iter().filter(|r| r.kind == MeasureKind::ImproveControl).collect();
         assert_eq!(ctl.len(), 1);
         // 5 % of 300 000 kWh/yr.
         assert!((ctl[0].annual_energy_saving_kwh - 15_000.0).abs() < 1e-6);
@@ -745,12 +783,12 @@ pub(crate) mod tests {
         // With none qualifying there is no scenario measure.
         let cases = [cases[2].clone(), cases[3].clone(), cases[4].clone()];
         inp.scenarios = &cases;
-        assert!(recommend(&inp).iter().all(|r| r.kind != "improve_control"));
+        assert!(recommend(&inp).iter().all(|r| r.kind != MeasureKind::ImproveControl));
     }
 
     #[test]
     fn an_edited_implementation_cost_changes_payback_and_rank() {
-        let mk = |kind: &'static str, cost: f64, saving: f64| Recommendation {
+        let mk = |kind: MeasureKind, cost: f64, saving: f64| Recommendation {
             kind,
             title: String::new(),
             description: String::new(),
@@ -758,7 +796,7 @@ pub(crate) mod tests {
             annual_cost_saving: saving,
             implementation_cost: cost,
             simple_payback_years: Some(cost / saving),
-            implementation_cost_source: "default_estimate",
+            implementation_cost_source: CostSource::DefaultEstimate,
             annual_co2_saving_t: 0.0,
             electricity: true,
             basis: vec![],
@@ -768,12 +806,13 @@ pub(crate) mod tests {
             caution: None,
             scenario_id: None,
         };
-        let mut recs = vec![mk("repair_leaks", 1000.0, 1000.0), mk("recover_heat", 3000.0, 1000.0)];
+        let mut recs =
+            vec![mk(MeasureKind::RepairLeaks, 1000.0, 1000.0), mk(MeasureKind::RecoverHeat, 3000.0, 1000.0)];
         let edited = BTreeMap::from([("recover_heat".to_string(), 500.0)]);
         apply_implementation_costs(&mut recs, &edited);
-        assert_eq!(recs[0].kind, "recover_heat");
+        assert_eq!(recs[0].kind, MeasureKind::RecoverHeat);
         assert_eq!(recs[0].simple_payback_years, Some(0.5));
-        assert_eq!(recs[0].implementation_cost_source, "edited");
+        assert_eq!(recs[0].implementation_cost_source, CostSource::Edited);
         assert_eq!(recs[1].simple_payback_years, Some(1.0));
     }
 
@@ -785,7 +824,7 @@ pub(crate) mod tests {
         let ms = vec![MachineUse { annual_above_idle_kwh: 1e9, ..Default::default() }];
         let costs = CostOverrides::default();
         let r = recommend(&input(&s, &cs, &ms, &costs));
-        let leak = r.iter().find(|x| x.kind == "repair_leaks").unwrap();
+        let leak = r.iter().find(|x| x.kind == MeasureKind::RepairLeaks).unwrap();
         let expect = 0.5 * 2.0 * (55.0 - 13.75) / 9.5 * 8000.0;
         assert!((leak.annual_energy_saving_kwh - expect).abs() < 1e-6);
         assert!((leak.annual_cost_saving - expect * 0.15).abs() < 1e-6);
@@ -794,7 +833,7 @@ pub(crate) mod tests {
         // Capped at the trim's energy above idle.
         let ms = vec![MachineUse { annual_above_idle_kwh: 1000.0, ..Default::default() }];
         let r = recommend(&input(&s, &cs, &ms, &costs));
-        let leak = r.iter().find(|x| x.kind == "repair_leaks").unwrap();
+        let leak = r.iter().find(|x| x.kind == MeasureKind::RepairLeaks).unwrap();
         assert_eq!(leak.annual_energy_saving_kwh, 1000.0);
     }
 
@@ -808,13 +847,13 @@ pub(crate) mod tests {
         let mut inp = input(&s, &cs, &ms, &costs);
         inp.leak_flow_m3_min = None;
         let r = recommend(&inp);
-        let lp = r.iter().find(|x| x.kind == "lower_pressure").unwrap();
+        let lp = r.iter().find(|x| x.kind == MeasureKind::LowerPressure).unwrap();
         assert!((BAR_PER_2_PSI - 0.137_895).abs() < 1e-5);
         assert!((lp.annual_energy_saving_kwh - 300_000.0 * 0.01 * 0.5 / BAR_PER_2_PSI).abs() < 1e-6);
         // With leaks, artificial demand Q (p_now - p_target)/p_now,abs at the marginal curve is added.
         let inp = input(&s, &cs, &ms, &costs);
         let r = recommend(&inp);
-        let lp2 = r.iter().find(|x| x.kind == "lower_pressure").unwrap();
+        let lp2 = r.iter().find(|x| x.kind == MeasureKind::LowerPressure).unwrap();
         let dq = 2.0 * 0.5 / (7.0 + 1.01325);
         let extra = dq * marginal_kw_per_m3_min(&cs[0]) * 8000.0;
         assert!((lp2.annual_energy_saving_kwh - lp.annual_energy_saving_kwh - extra).abs() < 1e-6);
@@ -822,7 +861,7 @@ pub(crate) mod tests {
         let mut costs = CostOverrides::default();
         costs.options.needed_pressure_bar_g = Some(7.0);
         let r = recommend(&input(&s, &cs, &ms, &costs));
-        assert!(r.iter().all(|x| x.kind != "lower_pressure"));
+        assert!(r.iter().all(|x| x.kind != MeasureKind::LowerPressure));
     }
 
     #[test]
@@ -842,20 +881,20 @@ pub(crate) mod tests {
             fuel_kwh_per_year: 100_000.0,
             value_per_year: 8_000.0,
             recoverable_kw: 44.0,
-            use_kind: "space_heating",
+            use_kind: crate::core::heat::HeatUseKind::SpaceHeating,
         });
         let r = recommend(&inp);
         assert!(r.len() >= 4);
         for w in r.windows(2) {
             assert!(w[0].simple_payback_years.unwrap() <= w[1].simple_payback_years.unwrap());
         }
-        let h = r.iter().find(|x| x.kind == "recover_heat").unwrap();
+        let h = r.iter().find(|x| x.kind == MeasureKind::RecoverHeat).unwrap();
         assert_eq!(h.implementation_cost, 4400.0); // overridden rate 100 per kW
         assert_eq!(h.annual_cost_saving, 8000.0);
         assert!(!h.electricity);
         assert!((h.annual_co2_saving_t - 20.0).abs() < 1e-9);
         assert!(h.caution.as_deref().unwrap().contains("60 °C"));
-        let idle = r.iter().find(|x| x.kind == "shut_off_idle").unwrap();
+        let idle = r.iter().find(|x| x.kind == MeasureKind::ShutOffIdle).unwrap();
         assert_eq!(idle.annual_energy_saving_kwh, 20_000.0);
         let json = serde_json::to_value(&r[0]).unwrap();
         assert!(json["simple_payback_years"].is_number());
@@ -877,7 +916,7 @@ pub(crate) mod tests {
         inp.mean_pressure_bar_g = None;
         let r = recommend(&inp);
         assert_eq!(r.len(), 1);
-        assert_eq!(r[0].kind, "replace_compressor");
+        assert_eq!(r[0].kind, MeasureKind::ReplaceCompressor);
         assert!((r[0].annual_energy_saving_kwh - 7.0 * 4000.0).abs() < 1e-9);
         assert_eq!(r[0].implementation_cost, 400.0 * 55.0);
     }
