@@ -491,14 +491,14 @@ fn library_import(dir: &Path, csv: &Path) -> LibraryRun {
         let bins = frame.as_ref().map(|f| f.columns.first().map_or(0, |c| c.values.len())).unwrap_or(0);
         drop(frame);
         let t = Instant::now();
-        app.summary_json(audit, None).await.expect("summary");
+        app.summary(audit, None).await.expect("summary");
         let summary_took = t.elapsed();
         // A price edit bumps the revision; the summary is priced again from the kept data figures.
         let price: airledger::records::SitePatch =
             serde_json::from_value(json!({"electricity_price_per_kwh": 0.19})).expect("site");
         app.update_audit(audit, None, None, None, &price).await.expect("edit");
         let t = Instant::now();
-        app.summary_json(audit, None).await.expect("summary");
+        app.summary(audit, None).await.expect("summary");
         let analysis = t.elapsed();
         app.close().await;
         LibraryRun {
@@ -958,7 +958,7 @@ fn main() {
         "",
     );
     table.add(
-        "summary cold, library: summary_json total (frame + analysis + cache)",
+        "summary cold, library: App::summary total (frame + analysis + cache)",
         format!("{:.1} ms", lib.summary.as_secs_f64() * 1000.0),
         "",
     );

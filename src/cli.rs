@@ -198,13 +198,13 @@ async fn run(command: Command) -> anyhow::Result<()> {
                 }
             }
             // The summary now, so that the server's first report reads it from the cache.
-            app.summary_json(audit, None).await?;
+            app.summary(audit, None).await?;
             Ok(())
         }
         Command::Report { db, audit, format, out } => {
             let app = open(&db).await?;
             let text = match format.as_str() {
-                "json" => serde_json::to_string_pretty(&app.summary_json(audit, None).await?)?,
+                "json" => serde_json::to_string_pretty(&app.summary(audit, None).await?.to_json()?)?,
                 "html" => crate::web::pages::findings::findings_html(&app, audit).await?,
                 other => anyhow::bail!("unknown format {other:?}: use json or html"),
             };

@@ -58,8 +58,13 @@ impl AuditBundle {
         self.field_tests
             .iter()
             .filter_map(|t| {
-                let q = t.result.get("leak_flow_m3_min")?.as_f64()?;
-                Some(LeakEstimate { test_id: t.id, method: t.kind.clone(), leak_flow_m3_min: q })
+                let q = super::fieldtests::result_of(t)?.leak_flow_m3_min();
+                // A flow that was not finite is stored as null: no estimate, as it always was.
+                q.is_finite().then(|| LeakEstimate {
+                    test_id: t.id,
+                    method: t.kind.clone(),
+                    leak_flow_m3_min: q,
+                })
             })
             .collect()
     }

@@ -71,7 +71,7 @@ impl App {
             let _ = std::fs::remove_file(&path);
             outcome?;
         }
-        self.summary_json(id, None).await?;
+        self.summary(id, None).await?;
         Ok(id)
     }
 }

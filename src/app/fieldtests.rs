@@ -3,11 +3,19 @@ Field tests (bleed-down, load/unload, idle flow, pressure decay) evaluated by `c
 stored with their result, and the windows of pressure decay in the logs proposed as tests.
 */
 
+use serde::Deserialize;
+
 use crate::core::analysis::{self, DecayEvent};
-use crate::core::fieldtest::{self, FieldTestContext, FieldTestInput};
+use crate::core::fieldtest::{self, FieldTestContext, FieldTestInput, FieldTestResult};
 use crate::store::audits::{self, FieldTestRecord};
 
 use super::{App, Error, Result};
+
+/// A stored test's result, typed; `None` if it cannot be read as one (not written by this build's
+/// rules).
+pub fn result_of(t: &FieldTestRecord) -> Option<FieldTestResult> {
+    FieldTestResult::deserialize(&t.result).ok()
+}
 
 fn test_error(e: fieldtest::FieldError) -> Error {
     Error::field(&e.field, e.message)

@@ -27,7 +27,7 @@ use sqlx::SqlitePool;
 
 pub use audits::AuditBundle;
 pub use error::{Error, Result};
-pub use summary::build_id;
+pub use summary::{build_id, AuditSummary};
 
 use crate::store;
 

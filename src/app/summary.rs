@@ -11,12 +11,15 @@ frame (one at a time, so its memory is bounded) and the data figures of up to 16
 use std::collections::{HashMap, VecDeque};
 use std::sync::{Arc, Mutex, Weak};
 
-use crate::core::analysis::{self, AuditInput, DataFigures, DataSpec, Summary};
+use serde::{Deserialize, Serialize};
+
+use crate::core::analysis::{self, AuditInput, DataFigures, DataSpec, LeakEstimate, Summary};
 use crate::core::recommend::{self, CostOverrides, ScenarioCase};
 use crate::core::series::Frame;
 use crate::store::audits;
 use crate::store::read;
 
+use super::scenarios::ScenarioOutcome;
 use super::{App, AuditBundle, Error, Result};
 
 /// What an audit's whole-log frame is made of: the audit, its complete uploads, its channels (with
@@ -215,21 +218,24 @@ impl App {
 
     /// The stored scenarios replayed on the audit's present data, as the recommendations read them.
     async fn scenario_cases(&self, b: &AuditBundle) -> Result<Vec<ScenarioCase>> {
-        let f = |v: &serde_json::Value, k: &str| v[k].as_f64().unwrap_or(f64::NAN);
+        let nan = |v: Option<f64>| v.unwrap_or(f64::NAN);
         Ok(audits::scenarios(self.db(), b.audit.id)
             .await?
             .into_iter()
             .filter(|s| s.revision == b.audit.revision)
-            .map(|s| ScenarioCase {
-                id: s.id,
-                energy_saving_kwh: f(&s.result, "energy_saving_kwh"),
-                baseline_energy_kwh: f(&s.result, "baseline_energy_kwh"),
-                validation_error: f(&s.result, "validation_error"),
-                feasible: s.result["feasible"].as_bool().unwrap_or(false),
-                supply_side_only: s.result["supply_side_only"].as_bool().unwrap_or(false),
-                implementation_cost: f(&s.result, "implementation_cost"),
-                simulated_hours: f(&s.result, "simulated_hours"),
-                name: s.name,
+            .map(|s| {
+                let r = ScenarioOutcome::of(&s);
+                ScenarioCase {
+                    id: s.id,
+                    energy_saving_kwh: nan(r.energy_saving_kwh),
+                    baseline_energy_kwh: nan(r.baseline_energy_kwh),
+                    validation_error: nan(r.validation_error),
+                    feasible: r.feasible.unwrap_or(false),
+                    supply_side_only: r.supply_side_only.unwrap_or(false),
+                    implementation_cost: nan(r.implementation_cost),
+                    simulated_hours: nan(r.simulated_hours),
+                    name: s.name,
+                }
             })
             .collect())
     }
@@ -251,15 +257,15 @@ impl App {
                     return;
                 }
             }
-            if let Err(e) = app.summary_json(audit_id, None).await {
+            if let Err(e) = app.summary(audit_id, None).await {
                 tracing::warn!(audit_id, after, error = %e, "summary worked out in the background failed");
             }
         });
     }
 
-    /// The summary as JSON: from the cache when the audit has not changed, else computed and
+    /// The audit's summary: from the cache when the audit has not changed, else computed and
     /// cached. A window (`from`/`to`) is always computed fresh.
-    pub async fn summary_json(&self, id: i64, window: Option<(i64, i64)>) -> Result<serde_json::Value> {
+    pub async fn summary(&self, id: i64, window: Option<(i64, i64)>) -> Result<AuditSummary> {
         // One computation per audit at a time: a request that arrives while the summary is being
         // worked out (after an import, say) waits for it and reads the cache instead of repeating it.
         let _turn =
@@ -267,24 +273,96 @@ impl App {
         let db = self.db();
         let b = self.bundle(id).await?;
         if window.is_none() {
-            if let Some(json) = audits::cached_summary(db, id, b.audit.revision, build_id()).await? {
-                return serde_json::from_str(&json).map_err(Error::internal);
+            if let Some(text) = audits::cached_summary(db, id, b.audit.revision, build_id()).await? {
+                match serde_json::from_str::<AuditSummary>(&text) {
+                    Ok(s) => return Ok(s),
+                    // Worked out again (and stored again) rather than served wrong or not at all.
+                    Err(e) => tracing::warn!(audit_id = id, error = %e, "the cached summary cannot be read"),
+                }
             }
         }
-        let value = match self.compute_summary(&b, window).await? {
-            Some(s) => serde_json::to_value(&s).map_err(Error::internal)?,
-            None => serde_json::json!({
-                "no_data": true,
-                "message": "no logger data yet: upload a file to compute the audit's figures",
-                "period": null,
-                "recommendations": [],
-                "leaks": {"estimates": b.leak_estimates()},
-            }),
+        let summary = match self.compute_summary(&b, window).await? {
+            Some(s) => AuditSummary::Figures(Box::new(s)),
+            None => AuditSummary::NoData { leak_estimates: b.leak_estimates() },
         };
         if window.is_none() {
-            audits::put_summary(db, id, b.audit.revision, build_id(), &value.to_string()).await?;
+            audits::put_summary(db, id, b.audit.revision, build_id(), &summary.to_json()?.to_string())
+                .await?;
         }
-        Ok(value)
+        Ok(summary)
+    }
+}
+
+/// An audit's figures, or the answer that there are none yet.
+#[derive(Debug, Clone, PartialEq)]
+pub enum AuditSummary {
+    Figures(Box<Summary>),
+    /// No logger data yet; the field tests' leak estimates are known all the same.
+    NoData {
+        leak_estimates: Vec<LeakEstimate>,
+    },
+}
+
+impl AuditSummary {
+    /// The figures, if the audit has logger data.
+    pub fn figures(&self) -> Option<&Summary> {
+        match self {
+            Self::Figures(s) => Some(s),
+            Self::NoData { .. } => None,
+        }
+    }
+
+    /// The API's JSON, as it is also stored in the cache (a JSON value: its keys in order).
+    pub fn to_json(&self) -> Result<serde_json::Value> {
+        serde_json::to_value(self).map_err(Error::internal)
+    }
+}
+
+/// The no-data answer as the API shows it.
+#[derive(Serialize, Deserialize)]
+struct NoDataJson {
+    no_data: bool,
+    message: String,
+    period: Option<()>,
+    recommendations: Vec<()>,
+    leaks: NoDataLeaks,
+}
+
+#[derive(Serialize, Deserialize)]
+struct NoDataLeaks {
+    estimates: Vec<LeakEstimate>,
+}
+
+const NO_DATA_MESSAGE: &str = "no logger data yet: upload a file to compute the audit's figures";
+
+impl Serialize for AuditSummary {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        match self {
+            Self::Figures(f) => f.serialize(s),
+            Self::NoData { leak_estimates } => NoDataJson {
+                no_data: true,
+                message: NO_DATA_MESSAGE.into(),
+                period: None,
+                recommendations: vec![],
+                leaks: NoDataLeaks { estimates: leak_estimates.clone() },
+            }
+            .serialize(s),
+        }
+    }
+}
+
+impl<'de> Deserialize<'de> for AuditSummary {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> std::result::Result<Self, D::Error> {
+        #[derive(Deserialize)]
+        #[serde(untagged)]
+        enum Stored {
+            NoData(NoDataJson),
+            Figures(Box<Summary>),
+        }
+        Ok(match Stored::deserialize(d)? {
+            Stored::NoData(n) => Self::NoData { leak_estimates: n.leaks.estimates },
+            Stored::Figures(f) => Self::Figures(f),
+        })
     }
 }
 
@@ -304,6 +382,24 @@ mod tests {
         // Handing out another lock drops the entries nobody holds.
         let _c = locks.get(3);
         assert_eq!(locks.len(), 2, "audit 1's lock is gone, 2 and 3 remain");
+    }
+
+    #[test]
+    fn the_no_data_answer_keeps_its_json() {
+        let estimates =
+            vec![LeakEstimate { test_id: 3, method: "bleed_down".into(), leak_flow_m3_min: 1.25 }];
+        // The shape the API and the cache have always had for an audit without readings.
+        let before = serde_json::json!({
+            "no_data": true,
+            "message": NO_DATA_MESSAGE,
+            "period": null,
+            "recommendations": [],
+            "leaks": {"estimates": estimates},
+        });
+        let s = AuditSummary::NoData { leak_estimates: estimates };
+        assert_eq!(s.to_json().unwrap().to_string(), before.to_string());
+        let back: AuditSummary = serde_json::from_str(&before.to_string()).unwrap();
+        assert_eq!(back, s);
     }
 
     #[test]

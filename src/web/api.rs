@@ -254,7 +254,7 @@ pub async fn summary(
     Query(w): Query<Window>,
 ) -> Result<Response, AppError> {
     let win = window(&w)?;
-    Ok(json(StatusCode::OK, &st.app.summary_json(id, win).await?))
+    Ok(json(StatusCode::OK, &st.app.summary(id, win).await?.to_json()?))
 }
 
 #[derive(Deserialize)]
@@ -508,6 +508,7 @@ pub async fn add_scenario(
     ApiJson(body): ApiJson<serde_json::Value>,
 ) -> Result<Response, AppError> {
     let (sid, result) = st.app.add_scenario(id, body).await?;
+    let result = serde_json::to_value(&result).map_err(|e| AppError::Internal(e.into()))?;
     Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": sid, "result": result })))
 }
 

@@ -29,9 +29,9 @@ struct FindingsPage {
 
 async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage, AppError> {
     let b = app.bundle(id).await?;
-    let sm = app.summary_json(id, None).await?;
+    let sm = app.summary(id, None).await?;
     let fmt = reader_fmt(&b, q);
-    let view = report_view(&b, &fmt, &sm);
+    let view = report_view(&b, &fmt, sm.figures());
     Ok(FindingsPage {
         system_volume_m3: b.storage().system_volume_m3(),
         atmosphere: format!("{:.2} kPa abs", b.audit.site.atmospheric_pressure_kpa_abs()),

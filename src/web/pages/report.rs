@@ -26,9 +26,9 @@ pub async fn report(
     Query(q): Query<ViewQuery>,
 ) -> Result<Response, PageError> {
     let b = st.app.bundle(id).await?;
-    let sm = st.app.summary_json(id, None).await?;
+    let sm = st.app.summary(id, None).await?;
     let fmt = reader_fmt(&b, &q);
-    let view = report_view(&b, &fmt, &sm);
+    let view = report_view(&b, &fmt, sm.figures());
     let (other_units, other_units_label) = if fmt.is_us() {
         ("si", "Show SI units (bar, m³/min)")
     } else {

@@ -7,6 +7,7 @@ use axum::response::Response;
 use serde_json::Value;
 
 use super::{render, PageError};
+use crate::app::fieldtests::result_of;
 use crate::core::display::Fmt;
 use crate::store::audits::Audit;
 use crate::web::AppState;
@@ -46,9 +47,7 @@ pub async fn tests(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Re
                 method: t.kind.clone(),
                 input: input.to_string(),
                 result: t.result.to_string(),
-                leak_flow: fmt.flow_m3_min(
-                    t.result.get("leak_flow_m3_min").and_then(|x| x.as_f64()).unwrap_or(f64::NAN),
-                ),
+                leak_flow: fmt.flow_m3_min(result_of(t).map_or(f64::NAN, |r| r.leak_flow_m3_min())),
             }
         })
         .collect();

@@ -1,37 +1,22 @@
 /*!
-What the report and the findings share: the cached summary turned into a view of formatted strings,
-each with its unit, in the reader's unit system, and the chart data in the reader's units.
+What the report and the findings share: the summary turned into a view of formatted strings, each
+with its unit, in the reader's unit system, and the chart data in the reader's units. Every figure
+is read from a field of [`Summary`], so a renamed field fails to compile; a figure the summary does
+not have (`None`) shows as not available, as a NaN does.
 */
 
 use serde_json::Value;
 
 use crate::app::AuditBundle;
+use crate::core::analysis::Summary;
 use crate::core::display::{num, Fmt};
 use crate::core::model::human_label;
-use crate::core::recommend::{self, Text};
+use crate::core::recommend::{self, CostSource};
 use crate::core::units::{M3_PER_FT3, PA_PER_PSI};
 
-/// `path` like `system.energy_kwh` in the summary; NaN when missing or null.
-pub(super) fn g(v: &Value, path: &str) -> f64 {
-    let mut cur = v;
-    for k in path.split('.') {
-        cur = match cur.get(k) {
-            Some(x) => x,
-            None => return f64::NAN,
-        };
-    }
-    cur.as_f64().unwrap_or(f64::NAN)
-}
-
-fn s<'a>(v: &'a Value, path: &str) -> &'a str {
-    let mut cur = v;
-    for k in path.split('.') {
-        cur = match cur.get(k) {
-            Some(x) => x,
-            None => return "",
-        };
-    }
-    cur.as_str().unwrap_or("")
+/// A figure the summary may not have, as the formatter takes it (NaN shows as not available).
+pub(super) fn nan(v: Option<f64>) -> f64 {
+    v.unwrap_or(f64::NAN)
 }
 
 /// One headline figure.
@@ -133,160 +118,44 @@ fn range(fmt_one: impl Fn(f64) -> String, v: f64, lo: f64, hi: f64) -> String {
     }
 }
 
-pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
-    let cur = b.audit.site.currency.clone();
-    let has_data = sm.get("no_data").is_none() && sm.get("system").is_some();
-    if !has_data {
-        return ReportView {
-            has_data,
-            period: String::new(),
-            coverage: String::new(),
-            flow_note: String::new(),
-            figures: vec![],
-            recs: vec![],
-            total_saving: String::new(),
-            total_payback: String::new(),
-            compressors: vec![],
-            leaks: vec![],
-            leak_note: String::new(),
-            pressure: vec![],
-            demand: vec![],
-            heat: vec![],
-            methods: vec![],
-            assumptions: vec![],
-            baseline_rule: String::new(),
-            chart_data: Value::Null,
-        };
+/// The view of an audit without logger data: nothing but the notice.
+fn empty_view() -> ReportView {
+    ReportView {
+        has_data: false,
+        period: String::new(),
+        coverage: String::new(),
+        flow_note: String::new(),
+        figures: vec![],
+        recs: vec![],
+        total_saving: String::new(),
+        total_payback: String::new(),
+        compressors: vec![],
+        leaks: vec![],
+        leak_note: String::new(),
+        pressure: vec![],
+        demand: vec![],
+        heat: vec![],
+        methods: vec![],
+        assumptions: vec![],
+        baseline_rule: String::new(),
+        chart_data: Value::Null,
     }
-    let estimated = sm["system"]["estimated"].as_bool().unwrap_or(false);
+}
+
+/// The report's view of the summary (`None`: the audit has no logger data yet).
+pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportView {
+    let Some(sm) = sm else { return empty_view() };
+    let cur = &b.audit.site.currency;
+    let estimated = sm.system.estimated;
     let flow_note = if estimated {
         "No flow meter was logged: flows are ESTIMATED from compressor states and rated free air delivery."
             .to_string()
     } else {
         "Flows are measured (free air at the site's inlet conditions).".to_string()
     };
-    let money = |v: f64| fmt.money(v, &cur);
-    let mut figures = vec![];
-    figures.push(FigureView {
-        label: "Annual energy of the compressors".into(),
-        value: fmt.energy_kwh(g(sm, "baseline.annual_energy_kwh")),
-        note: format!(
-            "range {} to {}; logged {}",
-            fmt.energy_kwh(g(sm, "baseline.annual_energy_kwh_low")),
-            fmt.energy_kwh(g(sm, "baseline.annual_energy_kwh_high")),
-            fmt.energy_kwh(g(sm, "system.energy_kwh"))
-        ),
-        estimated: false,
-    });
-    figures.push(FigureView {
-        label: "Annual cost of compressed air".into(),
-        value: money(g(sm, "baseline.annual_cost")),
-        note: format!(
-            "range {} to {}; energy {} + demand charge {}",
-            money(g(sm, "baseline.annual_cost_low")),
-            money(g(sm, "baseline.annual_cost_high")),
-            money(g(sm, "baseline.annual_energy_cost")),
-            money(g(sm, "baseline.annual_demand_charge"))
-        ),
-        estimated: false,
-    });
-    let sp = g(sm, "system.specific_power_kw_per_m3_min");
-    let rated = g(sm, "system.rated_specific_power_kw_per_m3_min");
-    figures.push(FigureView {
-        label: "System specific power".into(),
-        value: fmt.specific_power(sp),
-        note: format!(
-            "range {} to {}; data sheet {} ({} %)",
-            fmt.specific_power(g(sm, "system.specific_power_kw_per_m3_min_low")),
-            fmt.specific_power(g(sm, "system.specific_power_kw_per_m3_min_high")),
-            fmt.specific_power(rated),
-            num(g(sm, "system.specific_power_degradation_percent"), 1)
-        ),
-        estimated,
-    });
-    figures.push(FigureView {
-        label: "Cost of air".into(),
-        value: fmt.air_cost(g(sm, "baseline.cost_per_1000_m3"), &cur),
-        note: format!("at {} per kWh", fmt.money(g(sm, "baseline.electricity_price_per_kwh"), &cur)),
-        estimated,
-    });
-    let leak_share = g(sm, "leaks.share_of_mean_demand");
-    figures.push(FigureView {
-        label: "Leaks, share of demand".into(),
-        value: format!(
-            "{} ({})",
-            fmt.percent(leak_share),
-            fmt.flow_m3_min(g(sm, "leaks.adopted_leak_flow_m3_min"))
-        ),
-        note: format!(
-            "{}; annual leak cost {} at the trim machine's marginal specific power",
-            s(sm, "leaks.band_description"),
-            money(g(sm, "leaks.annual_leak_cost"))
-        ),
-        estimated,
-    });
-    figures.push(FigureView {
-        label: "Heat discarded per year".into(),
-        value: fmt.energy_kwh(g(sm, "heat.annual_heat_rejected_kwh")),
-        note: format!(
-            "recoverable {}; worth {} a year as displaced fuel",
-            fmt.energy_kwh(g(sm, "heat.annual_recoverable_kwh")),
-            money(g(sm, "heat.annual_value"))
-        ),
-        estimated: false,
-    });
-    figures.push(FigureView {
-        label: "Isothermal efficiency".into(),
-        value: fmt.percent(g(sm, "system.isothermal_efficiency")),
-        note: format!(
-            "range {} to {}: the share of input power the ideal isothermal compression needs",
-            fmt.percent(g(sm, "system.isothermal_efficiency_low")),
-            fmt.percent(g(sm, "system.isothermal_efficiency_high"))
-        ),
-        estimated,
-    });
-    let recs_v = sm["recommendations"].as_array().cloned().unwrap_or_default();
-    let (mut tot_save, mut tot_cost) = (0.0, 0.0);
-    let recs: Vec<RecView> = recs_v
-        .iter()
-        .enumerate()
-        .map(|(i, r)| {
-            tot_save += g(r, "annual_cost_saving");
-            tot_cost += g(r, "implementation_cost");
-            let electricity = r["electricity"].as_bool().unwrap_or(true);
-            // The words in parts, each figure in the reader's units (every cached summary has
-            // them: summaries are cached per build, `service::build_id`).
-            let t: Text = serde_json::from_value(r["text"].clone()).unwrap_or_default();
-            let (title, description) =
-                (recommend::render(&t.title, fmt), recommend::render(&t.description, fmt));
-            let basis = t.basis.iter().map(|b| recommend::render(b, fmt)).collect();
-            RecView {
-                rank: i + 1,
-                kind: s(r, "kind").into(),
-                title,
-                description,
-                energy: format!(
-                    "{}{}",
-                    fmt.energy_kwh(g(r, "annual_energy_saving_kwh")),
-                    if electricity { " electricity" } else { " fuel" }
-                ),
-                saving: money(g(r, "annual_cost_saving")),
-                cost: money(g(r, "implementation_cost")),
-                cost_value: g(r, "implementation_cost"),
-                cost_source: if s(r, "implementation_cost_source") == "edited" {
-                    "edited for this audit".into()
-                } else {
-                    "default estimate".into()
-                },
-                payback: fmt.years(g(r, "simple_payback_years")),
-                co2: fmt.co2_t(g(r, "annual_co2_saving_t")),
-                basis,
-                formula: s(r, "formula").into(),
-                source: s(r, "source").into(),
-                caution: s(r, "caution").into(),
-            }
-        })
-        .collect();
+    let money = |v: f64| fmt.money(v, cur);
+    let mut figures = headline_figures(sm, fmt, cur);
+    let (recs, tot_save, tot_cost) = measures(sm, fmt, cur);
     if !recs.is_empty() {
         figures.push(FigureView {
             label: "Savings of all measures".into(),
@@ -299,182 +168,317 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
             estimated: false,
         });
     }
-    let compressors = sm["compressors"]
-        .as_array()
-        .map(|a| {
-            a.iter()
-                .map(|c| CompressorRow {
-                    tag: s(c, "tag").into(),
-                    control: human_label(s(c, "control")),
-                    energy: fmt.energy_kwh(g(c, "energy_kwh")),
-                    mean_power: fmt.power_kw(g(c, "mean_power_kw")),
-                    loaded: fmt.percent(g(c, "loaded_fraction") + g(c, "part_load_fraction").max(0.0)),
-                    unloaded: fmt.percent(g(c, "unloaded_fraction")),
-                    off: fmt.percent(g(c, "off_fraction")),
-                    cycles: format!("{} /h", num(g(c, "cycles_per_hour"), 1)),
-                    specific_power: fmt.specific_power(g(c, "specific_power_kw_per_m3_min")),
-                    rated_specific_power: fmt.specific_power(g(c, "rated_specific_power_kw_per_m3_min")),
-                    degradation: format!("{} %", num(g(c, "specific_power_degradation_percent"), 1)),
-                    estimated: c["estimated"].as_bool().unwrap_or(false),
-                })
-                .collect()
+    let p = &sm.period;
+    let period = format!(
+        "{} to {} ({} h logged, {} s analysis step)",
+        p.start,
+        p.end,
+        num(p.hours, 1),
+        num(p.step_s, 0)
+    );
+    let c = &sm.coverage;
+    let coverage = format!(
+        "power in {} of the time, flow in {}, pressure in {}",
+        fmt.percent(c.power),
+        fmt.percent(c.flow),
+        fmt.percent(c.pressure)
+    );
+    ReportView {
+        has_data: true,
+        period,
+        coverage,
+        flow_note,
+        figures,
+        recs,
+        total_saving: money(tot_save),
+        total_payback: fmt.years(tot_cost / tot_save),
+        compressors: compressor_rows(sm, fmt),
+        leaks: leak_rows(sm, fmt),
+        leak_note: sm.leaks.adopted_rule.clone(),
+        pressure: pressure_rows(sm, fmt),
+        demand: demand_rows(sm, fmt),
+        heat: heat_rows(sm, fmt, cur),
+        methods: sm
+            .methods
+            .iter()
+            .map(|m| (figure_label(&m.figure), m.formula.clone(), m.source.clone()))
+            .collect(),
+        assumptions: sm.assumptions.clone(),
+        baseline_rule: sm.baseline.rule.clone(),
+        chart_data: chart_data(b, fmt, sm),
+    }
+}
+
+/// The headline figures above the measures.
+fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
+    let (sys, base, leaks, heat) = (&sm.system, &sm.baseline, &sm.leaks, &sm.heat);
+    let estimated = sys.estimated;
+    let money = |v: f64| fmt.money(v, cur);
+    vec![
+        FigureView {
+            label: "Annual energy of the compressors".into(),
+            value: fmt.energy_kwh(base.annual_energy_kwh),
+            note: format!(
+                "range {} to {}; logged {}",
+                fmt.energy_kwh(base.annual_energy_kwh_low),
+                fmt.energy_kwh(base.annual_energy_kwh_high),
+                fmt.energy_kwh(sys.energy_kwh)
+            ),
+            estimated: false,
+        },
+        FigureView {
+            label: "Annual cost of compressed air".into(),
+            value: money(base.annual_cost),
+            note: format!(
+                "range {} to {}; energy {} + demand charge {}",
+                money(base.annual_cost_low),
+                money(base.annual_cost_high),
+                money(base.annual_energy_cost),
+                money(base.annual_demand_charge)
+            ),
+            estimated: false,
+        },
+        FigureView {
+            label: "System specific power".into(),
+            value: fmt.specific_power(nan(sys.specific_power_kw_per_m3_min)),
+            note: format!(
+                "range {} to {}; data sheet {} ({} %)",
+                fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_low)),
+                fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_high)),
+                fmt.specific_power(nan(sys.rated_specific_power_kw_per_m3_min)),
+                num(nan(sys.specific_power_degradation_percent), 1)
+            ),
+            estimated,
+        },
+        FigureView {
+            label: "Cost of air".into(),
+            value: fmt.air_cost(nan(base.cost_per_1000_m3), cur),
+            note: format!("at {} per kWh", fmt.money(base.electricity_price_per_kwh, cur)),
+            estimated,
+        },
+        FigureView {
+            label: "Leaks, share of demand".into(),
+            value: format!(
+                "{} ({})",
+                fmt.percent(nan(leaks.share_of_mean_demand)),
+                fmt.flow_m3_min(nan(leaks.adopted_leak_flow_m3_min))
+            ),
+            note: format!(
+                "{}; annual leak cost {} at the trim machine's marginal specific power",
+                leaks.band_description.as_deref().unwrap_or(""),
+                money(nan(leaks.annual_leak_cost))
+            ),
+            estimated,
+        },
+        FigureView {
+            label: "Heat discarded per year".into(),
+            value: fmt.energy_kwh(heat.annual_heat_rejected_kwh),
+            note: format!(
+                "recoverable {}; worth {} a year as displaced fuel",
+                fmt.energy_kwh(heat.annual_recoverable_kwh),
+                money(heat.annual_value)
+            ),
+            estimated: false,
+        },
+        FigureView {
+            label: "Isothermal efficiency".into(),
+            value: fmt.percent(nan(sys.isothermal_efficiency)),
+            note: format!(
+                "range {} to {}: the share of input power the ideal isothermal compression needs",
+                fmt.percent(nan(sys.isothermal_efficiency_low)),
+                fmt.percent(nan(sys.isothermal_efficiency_high))
+            ),
+            estimated,
+        },
+    ]
+}
+
+/// The measures, ranked as the summary ranks them, with the sums of their savings and costs.
+fn measures(sm: &Summary, fmt: &Fmt, cur: &str) -> (Vec<RecView>, f64, f64) {
+    let (mut tot_save, mut tot_cost) = (0.0, 0.0);
+    let recs = sm
+        .recommendations
+        .iter()
+        .enumerate()
+        .map(|(i, r)| {
+            tot_save += r.annual_cost_saving;
+            tot_cost += r.implementation_cost;
+            // The words in parts, each figure in the reader's units.
+            let t = &r.text;
+            RecView {
+                rank: i + 1,
+                kind: r.kind.as_str().into(),
+                title: recommend::render(&t.title, fmt),
+                description: recommend::render(&t.description, fmt),
+                energy: format!(
+                    "{}{}",
+                    fmt.energy_kwh(r.annual_energy_saving_kwh),
+                    if r.electricity { " electricity" } else { " fuel" }
+                ),
+                saving: fmt.money(r.annual_cost_saving, cur),
+                cost: fmt.money(r.implementation_cost, cur),
+                cost_value: r.implementation_cost,
+                cost_source: if r.implementation_cost_source == CostSource::Edited {
+                    "edited for this audit".into()
+                } else {
+                    "default estimate".into()
+                },
+                payback: fmt.years(nan(r.simple_payback_years)),
+                co2: fmt.co2_t(r.annual_co2_saving_t),
+                basis: t.basis.iter().map(|b| recommend::render(b, fmt)).collect(),
+                formula: r.formula.clone(),
+                source: r.source.clone(),
+                caution: r.caution.clone().unwrap_or_default(),
+            }
         })
-        .unwrap_or_default();
-    let leak_est = sm["leaks"]["estimates"].as_array().cloned().unwrap_or_default();
-    let leaks = leak_est
+        .collect();
+    (recs, tot_save, tot_cost)
+}
+
+fn compressor_rows(sm: &Summary, fmt: &Fmt) -> Vec<CompressorRow> {
+    sm.compressors
+        .iter()
+        .map(|c| CompressorRow {
+            tag: c.tag.clone(),
+            control: human_label(c.control.as_str()),
+            energy: fmt.energy_kwh(c.energy_kwh),
+            mean_power: fmt.power_kw(c.mean_power_kw),
+            loaded: fmt.percent(c.loaded_fraction + c.part_load_fraction.max(0.0)),
+            unloaded: fmt.percent(c.unloaded_fraction),
+            off: fmt.percent(c.off_fraction),
+            cycles: format!("{} /h", num(c.cycles_per_hour, 1)),
+            specific_power: fmt.specific_power(nan(c.specific_power_kw_per_m3_min)),
+            rated_specific_power: fmt.specific_power(c.rated_specific_power_kw_per_m3_min),
+            degradation: format!("{} %", num(nan(c.specific_power_degradation_percent), 1)),
+            estimated: c.estimated,
+        })
+        .collect()
+}
+
+fn leak_rows(sm: &Summary, fmt: &Fmt) -> Vec<LeakRow> {
+    sm.leaks
+        .estimates
         .iter()
         .map(|e| LeakRow {
-            method: match e["test_id"].as_i64() {
-                Some(id) => format!("{} (test {id})", human_label(s(e, "method"))),
-                None => human_label(s(e, "method")),
+            method: match e.test_id {
+                Some(id) => format!("{} (test {id})", human_label(&e.method)),
+                None => human_label(&e.method),
             },
             flow: range(
                 |x| fmt.flow_m3_min(x),
-                g(e, "leak_flow_m3_min"),
-                g(e, "leak_flow_m3_min_low"),
-                g(e, "leak_flow_m3_min_high"),
+                e.leak_flow_m3_min,
+                e.leak_flow_m3_min_low,
+                e.leak_flow_m3_min_high,
             ),
-            share: fmt.percent(g(e, "share_of_mean_demand")),
-            automatic: e["automatic"].as_bool().unwrap_or(false),
+            share: fmt.percent(nan(e.share_of_mean_demand)),
+            automatic: e.automatic,
         })
-        .collect();
-    let pressure = vec![
-        ("Mean".into(), fmt.pressure_bar_g(g(sm, "pressure.mean_bar_g"))),
-        (
-            "Minimum / maximum".into(),
-            format!(
-                "{} / {}",
-                fmt.pressure_bar_g(g(sm, "pressure.min_bar_g")),
-                fmt.pressure_bar_g(g(sm, "pressure.max_bar_g"))
-            ),
-        ),
+        .collect()
+}
+
+fn pressure_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
+    let p = &sm.pressure;
+    let bar_g = |v: Option<f64>| fmt.pressure_bar_g(nan(v));
+    vec![
+        ("Mean".into(), bar_g(p.mean_bar_g)),
+        ("Minimum / maximum".into(), format!("{} / {}", bar_g(p.min_bar_g), bar_g(p.max_bar_g))),
         (
             "5 % / 50 % / 95 % of time below".into(),
-            format!(
-                "{} / {} / {}",
-                fmt.pressure_bar_g(g(sm, "pressure.p5_bar_g")),
-                fmt.pressure_bar_g(g(sm, "pressure.p50_bar_g")),
-                fmt.pressure_bar_g(g(sm, "pressure.p95_bar_g"))
-            ),
+            format!("{} / {} / {}", bar_g(p.p5_bar_g), bar_g(p.p50_bar_g), bar_g(p.p95_bar_g)),
         ),
-        (
-            "Uncertainty of the transmitter".into(),
-            format!("± {}", fmt.pressure_delta_bar(g(sm, "pressure.uncertainty_bar"))),
-        ),
+        ("Uncertainty of the transmitter".into(), format!("± {}", fmt.pressure_delta_bar(p.uncertainty_bar))),
         (
             "Time below the low limit".into(),
-            format!(
-                "{} (limit {})",
-                fmt.percent(g(sm, "pressure.share_below_low_limit")),
-                fmt.pressure_bar_g(g(sm, "pressure.low_limit_bar_g"))
-            ),
+            format!("{} (limit {})", fmt.percent(nan(p.share_below_low_limit)), bar_g(p.low_limit_bar_g)),
         ),
-    ];
-    let demand = vec![
+    ]
+}
+
+fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
+    let (sys, d) = (&sm.system, &sm.demand);
+    vec![
         (
             "Mean flow".into(),
             range(
                 |x| fmt.flow_m3_min(x),
-                g(sm, "system.mean_flow_m3_min"),
-                g(sm, "system.mean_flow_m3_min_low"),
-                g(sm, "system.mean_flow_m3_min_high"),
+                sys.mean_flow_m3_min,
+                sys.mean_flow_m3_min_low,
+                sys.mean_flow_m3_min_high,
             ),
         ),
         (
             "Peak flow".into(),
             format!(
                 "{} (mean over {} s)",
-                fmt.flow_m3_min(g(sm, "system.peak_flow_m3_min")),
-                num(g(sm, "system.peak_flow_window_s"), 0)
+                fmt.flow_m3_min(sys.peak_flow_m3_min),
+                num(sys.peak_flow_window_s, 0)
             ),
         ),
         (
             "Production / non-production mean flow".into(),
             format!(
                 "{} / {}",
-                fmt.flow_m3_min(g(sm, "demand.production_mean_flow_m3_min")),
-                fmt.flow_m3_min(g(sm, "demand.non_production_mean_flow_m3_min"))
+                fmt.flow_m3_min(nan(d.production_mean_flow_m3_min)),
+                fmt.flow_m3_min(nan(d.non_production_mean_flow_m3_min))
             ),
         ),
         (
             "Production share of time".into(),
-            format!(
-                "{} ({})",
-                fmt.percent(g(sm, "demand.production_share_of_time")),
-                s(sm, "demand.production_rule")
-            ),
+            format!("{} ({})", fmt.percent(d.production_share_of_time), d.production_rule),
         ),
         (
             "Mean and peak power".into(),
-            format!(
-                "{} / {}",
-                fmt.power_kw(g(sm, "system.mean_power_kw")),
-                fmt.power_kw(g(sm, "system.peak_power_kw"))
-            ),
+            format!("{} / {}", fmt.power_kw(sys.mean_power_kw), fmt.power_kw(sys.peak_power_kw)),
         ),
-    ];
-    let heat = vec![
-        ("Heat rejected in the logged period".into(), fmt.energy_kwh(g(sm, "heat.heat_rejected_kwh"))),
-        ("Recoverable in the logged period".into(), fmt.energy_kwh(g(sm, "heat.recoverable_kwh"))),
-        ("Recoverable at full load".into(), fmt.power_kw(g(sm, "heat.recoverable_kw_at_full_load"))),
+    ]
+}
+
+fn heat_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
+    let h = &sm.heat;
+    vec![
+        ("Heat rejected in the logged period".into(), fmt.energy_kwh(h.heat_rejected_kwh)),
+        ("Recoverable in the logged period".into(), fmt.energy_kwh(h.recoverable_kwh)),
+        ("Recoverable at full load".into(), fmt.power_kw(h.recoverable_kw_at_full_load)),
         (
             "Useful heat per year".into(),
             format!(
                 "{} ({})",
-                fmt.energy_kwh(g(sm, "heat.useful_heat_kwh_per_year")),
-                s(sm, "heat.use_kind").replace('_', " ")
+                fmt.energy_kwh(h.useful_heat_kwh_per_year),
+                h.use_kind.as_str().replace('_', " ")
             ),
         ),
-        ("Fuel displaced per year".into(), fmt.energy_kwh(g(sm, "heat.displaced_fuel_kwh_per_year"))),
+        ("Fuel displaced per year".into(), fmt.energy_kwh(h.displaced_fuel_kwh_per_year)),
         (
             "Value per year / as process water all year".into(),
-            format!(
-                "{} / {}",
-                money(g(sm, "heat.annual_value")),
-                money(g(sm, "heat.process_water_annual_value"))
-            ),
+            format!("{} / {}", fmt.money(h.annual_value, cur), fmt.money(h.process_water_annual_value, cur)),
         ),
-    ];
-    let methods = sm["methods"]
-        .as_array()
-        .map(|a| {
-            a.iter()
-                .map(|m| {
-                    (figure_label(s(m, "figure")), s(m, "formula").to_string(), s(m, "source").to_string())
-                })
-                .collect()
-        })
-        .unwrap_or_default();
-    let assumptions = sm["assumptions"]
-        .as_array()
-        .map(|a| a.iter().filter_map(|x| x.as_str().map(String::from)).collect())
-        .unwrap_or_default();
+    ]
+}
 
-    // Chart data: converted to the reader's units here, so the page only draws.
+/// Chart data: converted to the reader's units here, so the page only draws.
+fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
     let us = fmt.is_us();
     let atm = b.audit.site.atmospheric_pressure_kpa_abs() * 1000.0;
     let flow_k = if us { 1.0 / M3_PER_FT3 } else { 1.0 }; // m³/min -> cfm
     let sp_k = if us { 100.0 * M3_PER_FT3 } else { 1.0 };
-    let part_load: Vec<Value> = sm["system"]["part_load_curve"]
-        .as_array()
-        .map(|a| a.iter().map(|p| serde_json::json!({"x": g(p, "flow_m3_min") * flow_k, "y": g(p, "specific_power_kw_per_m3_min") * sp_k})).collect())
-        .unwrap_or_default();
-    let duration: Vec<Value> = sm["demand"]["flow_duration_curve"]
-        .as_array()
-        .map(|a| a.iter().map(|p| serde_json::json!({"x": g(p, "share_of_time") * 100.0, "y": g(p, "flow_m3_min") * flow_k})).collect())
-        .unwrap_or_default();
-    let heatmap: Vec<Vec<Option<f64>>> = sm["demand"]["weekday_hour_mean_flow_m3_min"]
-        .as_array()
-        .map(|d| {
-            d.iter()
-                .map(|h| {
-                    h.as_array()
-                        .map(|hs| hs.iter().map(|x| x.as_f64().map(|v| v * flow_k)).collect())
-                        .unwrap_or_default()
-                })
-                .collect()
-        })
-        .unwrap_or_default();
+    let part_load: Vec<Value> = sm
+        .system
+        .part_load_curve
+        .iter()
+        .map(|p| serde_json::json!({"x": p.flow_m3_min * flow_k, "y": p.specific_power_kw_per_m3_min * sp_k}))
+        .collect();
+    let duration: Vec<Value> = sm
+        .demand
+        .flow_duration_curve
+        .iter()
+        .map(|p| serde_json::json!({"x": p.share_of_time * 100.0, "y": p.flow_m3_min * flow_k}))
+        .collect();
+    let heatmap: Vec<Vec<Option<f64>>> = sm
+        .demand
+        .weekday_hour_mean_flow_m3_min
+        .iter()
+        .map(|hours| hours.iter().map(|x| x.map(|v| v * flow_k)).collect())
+        .collect();
     let rated_points: Vec<Value> = b
         .compressors
         .iter()
@@ -493,8 +497,19 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
             serde_json::json!({"id": c.id, "quantity": if c.quantity == "energy" { "power" } else { c.quantity.as_str() }, "name": name, "counter": c.quantity == "energy"})
         })
         .collect();
-    let input_kwh = g(sm, "baseline.annual_energy_kwh");
-    let chart_data = serde_json::json!({
+    let leaks: Vec<Value> = sm
+        .leaks
+        .estimates
+        .iter()
+        .map(|e| {
+            serde_json::json!({
+                "label": e.method, "y": e.leak_flow_m3_min * flow_k,
+                "low": e.leak_flow_m3_min_low * flow_k, "high": e.leak_flow_m3_min_high * flow_k})
+        })
+        .collect();
+    let input_kwh = sm.baseline.annual_energy_kwh;
+    let h = &sm.heat;
+    serde_json::json!({
         "audit_id": b.audit.id,
         "timezone": b.audit.site.timezone,
         "first_ms": b.channels.iter().map(|c| c.first_ms).min(),
@@ -510,50 +525,15 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: &Value) -> ReportView {
             "pressure_scale": if us { 1.0 / PA_PER_PSI } else { 1.0e-5 },
             "flow_scale": 60.0 * flow_k,
         },
-        "estimated_flow": estimated,
+        "estimated_flow": sm.system.estimated,
         "part_load": part_load,
         "rated_points": rated_points,
         "duration": duration,
         "heatmap": heatmap,
-        "leaks": leak_est.iter().map(|e| serde_json::json!({
-            "label": s(e, "method"), "y": g(e, "leak_flow_m3_min") * flow_k,
-            "low": g(e, "leak_flow_m3_min_low") * flow_k, "high": g(e, "leak_flow_m3_min_high") * flow_k})).collect::<Vec<_>>(),
+        "leaks": leaks,
         "heat_balance": {
             "labels": ["electrical input", "heat rejected", "recoverable", "used (displaces fuel)"],
-            "mwh": [input_kwh / 1000.0, g(sm, "heat.annual_heat_rejected_kwh") / 1000.0, g(sm, "heat.annual_recoverable_kwh") / 1000.0, g(sm, "heat.useful_heat_kwh_per_year") / 1000.0],
+            "mwh": [input_kwh / 1000.0, h.annual_heat_rejected_kwh / 1000.0, h.annual_recoverable_kwh / 1000.0, h.useful_heat_kwh_per_year / 1000.0],
         },
-    });
-    let period = format!(
-        "{} to {} ({} h logged, {} s analysis step)",
-        s(sm, "period.start"),
-        s(sm, "period.end"),
-        num(g(sm, "period.hours"), 1),
-        num(g(sm, "period.step_s"), 0)
-    );
-    let coverage = format!(
-        "power in {} of the time, flow in {}, pressure in {}",
-        fmt.percent(g(sm, "coverage.power")),
-        fmt.percent(g(sm, "coverage.flow")),
-        fmt.percent(g(sm, "coverage.pressure"))
-    );
-    ReportView {
-        has_data,
-        period,
-        coverage,
-        flow_note,
-        figures,
-        recs,
-        total_saving: money(tot_save),
-        total_payback: fmt.years(tot_cost / tot_save),
-        compressors,
-        leaks,
-        leak_note: s(sm, "leaks.adopted_rule").into(),
-        pressure,
-        demand,
-        heat,
-        methods,
-        assumptions,
-        baseline_rule: s(sm, "baseline.rule").into(),
-        chart_data,
-    }
+    })
 }
