@@ -215,11 +215,11 @@ async fn run(command: Command) -> anyhow::Result<()> {
             Ok(())
         }
         Command::Backup { db, out } => {
-            let pool = store::open(&db).await?;
+            let app = open(&db).await?;
             if out.exists() {
                 anyhow::bail!("{} exists already; choose a new file", out.display());
             }
-            store::backup(&pool, &out).await?;
+            app.backup(&out).await?;
             println!("backup written to {}", out.display());
             Ok(())
         }

@@ -104,6 +104,11 @@ impl App {
         &self.inner.config
     }
 
+    /// Write a consistent copy of the database to `out`, also while the server runs.
+    pub async fn backup(&self, out: &Path) -> Result<()> {
+        Ok(store::backup(&self.inner.db, out).await?)
+    }
+
     /// Close the pool (the benches reopen the file afterwards).
     pub async fn close(&self) {
         self.inner.db.close().await;

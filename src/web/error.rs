@@ -12,8 +12,6 @@ use serde::Serialize;
 use crate::app;
 use crate::ingest::IngestError;
 use crate::records::FieldError;
-use crate::store::import::ImportError;
-use crate::store::StoreError;
 
 #[derive(Debug, thiserror::Error)]
 pub enum AppError {
@@ -96,18 +94,6 @@ impl IntoResponse for AppError {
     }
 }
 
-impl From<StoreError> for AppError {
-    fn from(e: StoreError) -> Self {
-        Self::Internal(anyhow::Error::new(e))
-    }
-}
-
-impl From<sqlx::Error> for AppError {
-    fn from(e: sqlx::Error) -> Self {
-        Self::Internal(anyhow::Error::new(e))
-    }
-}
-
 impl From<FieldError> for AppError {
     fn from(e: FieldError) -> Self {
         Self::Unprocessable { message: e.message, line: None, column: None, field: Some(e.field) }
@@ -117,18 +103,6 @@ impl From<FieldError> for AppError {
 impl From<IngestError> for AppError {
     fn from(e: IngestError) -> Self {
         Self::Unprocessable { message: e.message, line: e.line, column: e.column, field: e.field }
-    }
-}
-
-impl From<ImportError> for AppError {
-    fn from(e: ImportError) -> Self {
-        match e {
-            ImportError::Bad(i) => i.into(),
-            ImportError::Store(s) => s.into(),
-            other @ (ImportError::Overlap { .. } | ImportError::InProgress(_)) => {
-                Self::Conflict(other.to_string())
-            }
-        }
     }
 }
 
