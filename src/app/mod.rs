@@ -114,3 +114,81 @@ impl App {
         self.inner.db.close().await;
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::records::{CompressorInput, SitePatch};
+    use serde_json::json;
+
+    /// Two hours at 10 s of one compressor drawing a constant `kw`, with flow and pressure.
+    fn logger_file(path: &Path, kw: f64) {
+        let mut csv = String::from("Time,C1 kW,Flow m3/min,Header bar\n");
+        let t0 = jiff::Timestamp::from_second(1_767_571_200).unwrap(); // 2026-01-05 00:00 UTC
+        for i in 0..=720 {
+            let t = t0 + jiff::SignedDuration::from_secs(10 * i);
+            csv.push_str(&format!("{t},{kw},6,7\n"));
+        }
+        std::fs::write(path, csv).unwrap();
+    }
+
+    /// Each application keeps its own frame and data figures: two databases whose audit, upload,
+    /// channel ids and spans are all equal, but whose readings differ, never serve each other's
+    /// figures, also after an edit that re-prices the kept figures (the statics this replaced
+    /// needed the database file's name in their keys for that).
+    #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+    async fn two_applications_keep_their_own_figures() {
+        let dir = std::env::temp_dir().join(format!("airledger-app-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let mapping: crate::ingest::Mapping = serde_json::from_value(json!({
+            "delimiter": ",", "decimal": ".", "header_line": 1,
+            "timestamp": {"column": "Time", "format": "rfc3339", "timezone": "UTC"},
+            "columns": [
+                {"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"},
+                {"column": "Flow m3/min", "quantity": "flow", "unit": "m3_min"},
+                {"column": "Header bar", "quantity": "pressure", "unit": "bar_g"}]
+        }))
+        .unwrap();
+        let c1: CompressorInput = serde_json::from_value(json!({
+            "tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+            "rated_power_kw": 75, "rated_flow_m3_min": 12, "rated_pressure_bar_g": 7.5}))
+        .unwrap();
+        let mut plants = vec![];
+        for (i, kw) in [40.0, 60.0].into_iter().enumerate() {
+            let db = dir.join(format!("plant{i}.sqlite"));
+            let app = App::open(&db, Config::beside(&db)).await.unwrap();
+            let id = app.create_audit("plant", &SitePatch::default()).await.unwrap();
+            app.save_compressor(id, 0, &c1).await.unwrap();
+            let file = dir.join(format!("plant{i}.csv"));
+            logger_file(&file, kw);
+            app.import_path(id, &file, mapping.clone(), false, Arc::default()).await.unwrap();
+            plants.push((app, id, kw));
+        }
+        let price: SitePatch = serde_json::from_value(json!({"electricity_price_per_kwh": 0.2})).unwrap();
+        for round in 0..2 {
+            for (app, id, kw) in &plants {
+                if round == 1 {
+                    // A price edit: the summary is priced again from the kept data figures.
+                    app.update_audit(*id, None, None, None, &price).await.unwrap();
+                }
+                let s = app.summary(*id, None).await.unwrap();
+                let s = s.figures().expect("the plant has readings");
+                // Constant power over the file's two hours, within one logging interval.
+                assert!(
+                    (s.system.energy_kwh - kw * 2.0).abs() <= kw * 10.0 / 3600.0 + 1e-9,
+                    "round {round}: {} kWh logged for {kw} kW over 2 h",
+                    s.system.energy_kwh
+                );
+                assert!(
+                    (s.system.mean_power_kw - kw).abs() < 1e-6,
+                    "round {round}: {}",
+                    s.system.mean_power_kw
+                );
+            }
+        }
+        for (app, _, _) in &plants {
+            app.close().await;
+        }
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+}
