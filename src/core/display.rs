@@ -5,6 +5,7 @@ format through [`Fmt`]; the JSON API never does (it is SI-canonical with units i
 Flows always say what they are: free air (volume at the site's inlet conditions, ISO 1217).
 */
 
+use super::recommend::{Part, Quantity};
 use super::units::{
     kw_per_100cfm, FreeAirFlow, PressureAbs, Temperature, UnitSystem, Volume, M3_PER_FT3, PA_PER_BAR,
 };
@@ -153,15 +154,6 @@ impl Fmt {
             "kW/(m³/min)"
         }
     }
-    /// Specific power in the reader's unit, as a bare number (for chart axes).
-    pub fn specific_power_value(&self, kw_per_m3_min: impl Num) -> f64 {
-        let kw_per_m3_min = kw_per_m3_min.f();
-        if self.is_us() {
-            kw_per_100cfm(kw_per_m3_min)
-        } else {
-            kw_per_m3_min
-        }
-    }
     pub fn volume_m3(&self, v: impl Num) -> String {
         let v = v.f();
         match self.units {
@@ -214,6 +206,19 @@ impl Fmt {
     }
 }
 
+/// The words of a measure's `parts` (`core::recommend::Part`) with every figure in `fmt`'s units.
+pub fn render_parts(parts: &[Part], fmt: &Fmt) -> String {
+    parts
+        .iter()
+        .map(|p| match p {
+            Part::Words(w) => w.clone(),
+            Part::Figure { quantity: Quantity::FlowM3Min, value } => fmt.flow_m3_min(*value),
+            Part::Figure { quantity: Quantity::PressureBarG, value } => fmt.pressure_bar_g(*value),
+            Part::Figure { quantity: Quantity::SpecificPowerKwPerM3Min, value } => fmt.specific_power(*value),
+        })
+        .collect()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -235,9 +240,9 @@ mod tests {
         // 7 bar = 101.5 psi (hand calculation: 700 kPa / 6.894757 kPa/psi).
         assert_eq!(us.pressure_bar_g(7.0), "101.5 psig");
         assert_eq!(si.flow_m3_min(10.0), "10.0 m³/min free air");
-        // 10 m³/min = 353.1 cfm (FIELD-NOTES §2), shown to three significant figures.
+        // 10 m³/min = 353.1 cfm (NIST SP 811 conversions), shown to three significant figures.
         assert_eq!(us.flow_m3_min(10.0), "353 cfm free air");
-        // FIELD-NOTES §2: 6.357 kW/(m³/min) = 18 kW/100 cfm.
+        // NIST SP 811 conversions: 6.357 kW/(m³/min) = 18 kW/100 cfm.
         assert_eq!(us.specific_power(6.357), "18.0 kW/100 cfm");
         assert_eq!(si.temperature_c(20.0), "20.0 °C");
         assert_eq!(us.temperature_c(20.0), "68 °F");

@@ -1,5 +1,5 @@
 /*!
-Field tests: the leak measurements an auditor runs or reads from the logs (FIELD-NOTES §5, API.md
+Field tests: the leak measurements an auditor runs or reads from the logs (US DOE compressed-air sourcebook, leaks fact sheet; API.md
 "Field tests"), validated and evaluated into results the API returns as they are.
 
 Every result carries `leak_flow_m3_min`: the leak flow (free air) at the operating or production
@@ -15,25 +15,18 @@ default instrument accuracies ([`Accuracy`]).
 - `pressure_decay`: logged pressure falling while every logged compressor is off or unloaded, fitted
   by `leaks::fit_pressure_decay`.
 
-Safety: these tests can hurt people. [`TEST_CAUTIONS`] are the cautions the pages show wherever a test
-is planned.
+Safety: these tests can hurt people. `core::safety::PRESSURE_TEST_CAUTIONS` are the cautions the
+pages show wherever a test is planned.
 */
 
 use serde::{Deserialize, Serialize};
 
-use super::analysis::Accuracy;
+use super::analysis::uncertainty::{quad, Accuracy};
 use super::leaks;
 use super::model::{CompressorSpec, StorageSpec};
 use super::series::{Frame, Signal};
 use super::states::classify;
-use super::units::{FreeAirFlow, PressureAbs, SiteAir, Volume, PA_PER_BAR};
-
-/// Shown wherever a bleed-down or decay test is planned (FIELD-NOTES §10).
-pub const TEST_CAUTIONS: &[&str] = &[
-    "isolate and lock out the compressors as the site's procedures require before a bleed-down test",
-    "never exceed a receiver's or any vessel's rated pressure; keep clear of drains and relief valves",
-    "defer to local pressure-equipment codes and licensed practice",
-];
+use super::units::{FreeAirFlow, PressureAbs, SiteAir, Volume};
 
 /// A field test as the API receives it.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
@@ -212,27 +205,6 @@ impl FieldTestResult {
             Self::PressureDecay(r) => r.leak_flow_m3_min,
         }
     }
-}
-
-/// Default relative uncertainty (1 standard uncertainty, as a fraction) of a leak estimate by method,
-/// for estimates whose inputs are no longer at hand: bleed-down and pressure decay the volume (±20 %)
-/// with the pressure readings for a 1.5 bar fall; load/unload the rated FAD (±5 %, ISO 1217 capacity
-/// tolerance, from memory) with ±2 s timing on a 200 s cycle (common practice); idle flow the meter.
-pub fn default_relative_uncertainty(method: &str, acc: &Accuracy) -> f64 {
-    match method {
-        "bleed_down" | "pressure_decay" => {
-            let dp = std::f64::consts::SQRT_2 * acc.pressure_abs_bar() / 1.5;
-            quad(&[acc.volume_rel, dp])
-        }
-        "load_unload" => quad(&[0.05, 2.0 / 40.0]),
-        "idle_flow" => acc.flow_rel,
-        _ => quad(&[acc.volume_rel, acc.flow_rel]),
-    }
-}
-
-/// Root sum of squares.
-pub fn quad(parts: &[f64]) -> f64 {
-    parts.iter().map(|x| x * x).sum::<f64>().sqrt()
 }
 
 fn pressure(field: &str, bar_g: f64, site: &SiteAir) -> Result<PressureAbs, FieldError> {
@@ -479,10 +451,6 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
 }
 
 /// Gauge pressure in bar from Pa absolute (a helper for callers building frames in tests and demos).
-pub fn bar_g_to_pa_abs(bar_g: f64, site: &SiteAir) -> f64 {
-    bar_g * PA_PER_BAR + site.atmosphere.0
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -505,7 +473,7 @@ mod tests {
 
     #[test]
     fn bleed_down_matches_the_doe_worked_example() {
-        // FIELD-NOTES §11 (DOE sourcebook formula): V = 5 ft³, 100 -> 50 psig in 60 min -> 0.354 cfm
+        // US DOE compressed-air sourcebook, leaks fact sheet (worked bleed-down formula): V = 5 ft³, 100 -> 50 psig in 60 min -> 0.354 cfm
         // with the 1.25 factor. The site is at 14.7 psia as the US formula assumes.
         let s = SiteAir::new(14.7 * 6.894_757_293_168, 20.0);
         let psi_in_bar = 6.894_757_293_168 / 100.0;
@@ -521,7 +489,8 @@ mod tests {
         let FieldTestResult::BleedDown(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
         let cfm = |m3_min: f64| m3_min * 35.314_666_7;
         assert!((cfm(r.doe_rule_of_thumb_flow_m3_min) - 0.354).abs() < 0.001, "{r:?}");
-        // Mean flow 5 x 50 / (60 x 14.7) cfm; at the start pressure scaled by 114.7 / 89.7 (FIELD-NOTES §5).
+        // Mean flow 5 x 50 / (60 x 14.7) cfm; at the start pressure scaled by 114.7 / 89.7
+        // (choked leak flow proportional to absolute pressure).
         let mean = 5.0 * 50.0 / (60.0 * 14.7);
         assert!((cfm(r.mean_leak_flow_m3_min) - mean).abs() < 1e-4);
         assert!((cfm(r.leak_flow_m3_min) - mean * 114.7 / 89.7).abs() < 1e-4);
@@ -535,7 +504,7 @@ mod tests {
 
     #[test]
     fn load_unload_7_5_of_30_min_is_25_percent() {
-        // FIELD-NOTES §11 (DOE sourcebook): 7.5 min on-load in 30 min -> 25 % leakage.
+        // US DOE compressed-air sourcebook, leaks fact sheet: 7.5 min on-load in 30 min -> 25 % leakage.
         let cs = vec![spec("C2", Control::LoadUnload, 55.0, 9.5)];
         let storage = StorageSpec::default();
         let s = site();
@@ -590,7 +559,7 @@ mod tests {
     pub(crate) fn decay_frame(s: &SiteAir, tau_s: f64, flow_m3_min: f64, c1_kw: f32) -> Frame {
         let start_ms = 1_772_409_600_000; // 2026-03-02T00:00:00Z
         let grid = Grid { start_ms, step_ms: 10_000, len: 360 };
-        let p0 = bar_g_to_pa_abs(7.0, s);
+        let p0 = PressureAbs::from_bar_g(7.0, s.atmosphere).0;
         let pressure: Vec<f32> =
             (0..360).map(|i| (p0 * (-(i as f64 * 10.0 + 5.0) / tau_s).exp()) as f32).collect();
         let col =
@@ -607,7 +576,7 @@ mod tests {
 
     #[test]
     fn pressure_decay_recovers_the_leak_of_an_exponential_fall() {
-        // Choked leaks flow in proportion to absolute pressure (FIELD-NOTES §5), so p = p0 e^(-t/tau)
+        // Choked leaks flow in proportion to absolute pressure (ideal-gas choked flow), so p = p0 e^(-t/tau)
         // and Q_FAD = V p / (p_atm tau): at 7 bar(g), V = 3 m³, tau = 1200 s -> 3 x 8.01325 / 1200 m³/s.
         let s = site();
         let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
@@ -621,7 +590,7 @@ mod tests {
             operating_pressure_bar_g: None,
         };
         let FieldTestResult::PressureDecay(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
-        let p_start = bar_g_to_pa_abs(7.0, &s) * (-5.0f64 / 1200.0).exp();
+        let p_start = PressureAbs::from_bar_g(7.0, s.atmosphere).0 * (-5.0f64 / 1200.0).exp();
         let expect = 3.0 * p_start / (s.atmosphere.0 * 1200.0) * 60.0;
         assert!((r.leak_flow_at_start_pressure_m3_min - expect).abs() / expect < 1e-3, "{r:?}");
         assert!(r.fit_r2 > 0.999);
@@ -635,7 +604,7 @@ mod tests {
 
     #[test]
     fn idle_flow_scales_to_the_production_pressure() {
-        // Choked leaks scale with absolute pressure (FIELD-NOTES §5): a flat 1.2 m³/min at the logged
+        // Choked leaks scale with absolute pressure (ideal-gas choked flow): a flat 1.2 m³/min at the logged
         // mean pressure, reported at 7 bar(g).
         let s = site();
         let storage = StorageSpec::default();
@@ -649,7 +618,8 @@ mod tests {
         let FieldTestResult::IdleFlow(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
         assert!((r.mean_flow_m3_min - 1.2).abs() < 1e-6);
         assert_json_round_trip(&FieldTestResult::IdleFlow(r.clone()));
-        let expect = 1.2 * bar_g_to_pa_abs(6.0, &s) / bar_g_to_pa_abs(7.0, &s);
+        let expect =
+            1.2 * PressureAbs::from_bar_g(6.0, s.atmosphere).0 / PressureAbs::from_bar_g(7.0, s.atmosphere).0;
         assert!((r.leak_flow_m3_min - expect).abs() < 1e-5, "{r:?}");
         assert_eq!(r.coverage, 1.0);
     }

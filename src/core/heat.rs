@@ -1,6 +1,6 @@
 /*!
 Heat of compression: where a compressor's input goes, how much of it a heat-recovery system could
-deliver, and what that heat is worth (FIELD-NOTES §7; US DOE heat-recovery fact sheet in the
+deliver, and what that heat is worth (US DOE heat-recovery fact sheet in the
 "Improving Compressed Air System Performance" sourcebook).
 
 Nearly all electrical input ends as heat. What does not leave through the coolers, the motor and the
@@ -10,7 +10,7 @@ that can be recovered depends on the machine and its cooling; it counts only whe
 site can use it (the heating months for space heat, all year for process or boiler make-up water).
 
 Safety: heat recovery handles hot oil, hot ducts and water above 60 °C, and a blocked recovery
-circuit must never stop the compressor's own cooling; see [`HEAT_RECOVERY_CAUTIONS`].
+circuit must never stop the compressor's own cooling; see `core::safety::HEAT_RECOVERY_CAUTIONS`.
 */
 
 use super::model::{CompressorKind, Cooling};
@@ -19,15 +19,6 @@ use super::units::Energy;
 
 /// Delivery-air temperature rise over the inlet for an aftercooled package, K (common practice).
 pub const DEFAULT_DELIVERY_TEMPERATURE_RISE_K: f64 = 10.0;
-
-/// The cautions to show wherever a user plans a heat-recovery measure (FIELD-NOTES §10).
-pub const HEAT_RECOVERY_CAUTIONS: &[&str] = &[
-    "hot oil, hot ducts and water above 60 °C can burn: guard and insulate them",
-    "interlock the recovery circuit so that a blocked or failed circuit never stops the \
-     compressor's own cooling",
-    "follow local codes and licensed practice for pressure equipment, potable water and \
-     ventilation",
-];
 
 /// Where the electrical input of a compressor package leaves, as fractions of the input (they sum
 /// to 1).
@@ -52,7 +43,7 @@ impl HeatSplit {
 /// Typical split of the input by compressor kind.
 ///
 /// - Oil-injected (lubricated screw, vane): 76 % oil cooler, 13 % aftercooler, 7 % motor and
-///   casing, 4 % in the air: the middle of FIELD-NOTES §7's 72-80 / 10-15 / 4-9 % (marked there as
+///   casing, 4 % in the air: the middle of the usual 72-80 / 10-15 / 4-9 % (common practice,
 ///   from memory), the rest in the delivered air (about 3 % for 10 K at 18 kW/100 cfm, see the
 ///   tests).
 /// - Oil-free screw, centrifugal, reciprocating: intercoolers (with the oil cooler of gears and
@@ -86,7 +77,7 @@ pub fn heat_rejected(input: Energy, air_mass_kg: f64, delivery_temperature_rise_
 ///
 /// - Lubricated screw and vane (oil-injected): 0.80 air-cooled (ducted cooling air), 0.90
 ///   water-cooled (the oil cooler's heat into water), inside the DOE heat-recovery fact sheet's
-///   80-93 % (FIELD-NOTES §7).
+///   80-93 % (US DOE heat-recovery fact sheet).
 /// - The others are common practice, estimates: oil-free screw 0.70 / 0.85 (hot intercooler and
 ///   aftercooler), centrifugal 0.60 / 0.80, reciprocating 0.50 / 0.70, scroll 0.55 / 0.60.
 pub fn recoverable_fraction(kind: CompressorKind, cooling: Cooling) -> f64 {
@@ -123,6 +114,17 @@ impl HeatUseKind {
     }
 }
 
+/// What recovered heat is worth in a year.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RecoveredHeat {
+    /// Heat used, kWh.
+    pub useful_kwh: f64,
+    /// Fuel the heater no longer burns, kWh.
+    pub fuel_kwh: f64,
+    /// That fuel's price, in the audit's currency.
+    pub money: f64,
+}
+
 /// A use for recovered heat.
 #[derive(Debug, Clone, PartialEq)]
 pub struct HeatUse {
@@ -132,16 +134,16 @@ pub struct HeatUse {
     pub heating_months: Vec<u8>,
 }
 
-/// The worth of recovered heat (FIELD-NOTES §7): `recoverable_by_month_kwh[0]` is January. Counts
+/// The worth of recovered heat (US DOE heat-recovery fact sheet): `recoverable_by_month_kwh[0]` is January. Counts
 /// the months in which the heat is used, and values it as the fuel the heater no longer burns:
-/// fuel = useful / heater efficiency, money = fuel x price. Returns (useful kWh, fuel kWh
-/// displaced, money). A heater efficiency that is not positive displaces nothing (0 fuel, 0 money).
+/// fuel = useful / heater efficiency, money = fuel x price. A heater efficiency that is not positive
+/// displaces nothing (0 fuel, 0 money).
 pub fn recovered_value(
     recoverable_by_month_kwh: &[f64; 12],
     use_: &HeatUse,
     heater_efficiency: f64,
     fuel_price_per_kwh: f64,
-) -> (f64, f64, f64) {
+) -> RecoveredHeat {
     let mut used = [false; 12];
     match use_.kind {
         HeatUseKind::ProcessWater => used = [true; 12],
@@ -156,7 +158,7 @@ pub fn recovered_value(
     let useful_kwh: f64 =
         recoverable_by_month_kwh.iter().zip(used).filter(|(_, u)| *u).map(|(kwh, _)| kwh).sum();
     let fuel_kwh = if heater_efficiency > 0.0 { useful_kwh / heater_efficiency } else { 0.0 };
-    (useful_kwh, fuel_kwh, fuel_kwh * fuel_price_per_kwh)
+    RecoveredHeat { useful_kwh, fuel_kwh, money: fuel_kwh * fuel_price_per_kwh }
 }
 
 #[cfg(test)]
@@ -196,7 +198,7 @@ mod tests {
 
     #[test]
     fn oil_injected_screw_split_lies_in_the_field_notes_ranges() {
-        // FIELD-NOTES §7 (from memory there): 72-80 % oil cooler, 10-15 % aftercooler, 4-9 % motor.
+        // Common practice, from memory: 72-80 % oil cooler, 10-15 % aftercooler, 4-9 % motor.
         let s = heat_split(CompressorKind::LubricatedScrew, Cooling::Air);
         assert!((0.72..=0.80).contains(&s.oil_or_intercooler));
         assert!((0.10..=0.15).contains(&s.aftercooler));
@@ -205,7 +207,7 @@ mod tests {
 
     #[test]
     fn the_split_left_in_the_air_agrees_with_the_energy_balance() {
-        // 18 kW/100 cfm (FIELD-NOTES §2/§3 typical lubricated screw), one hour at full load,
+        // 18 kW/100 cfm (a typical lubricated screw, common practice), one hour at full load,
         // delivered 10 K above the inlet (common practice): m cp dT = 0.0568 x 1004.5 x 10 = 571 W,
         // 3.2 % of the input; the split's 4 % is within one percentage point of it.
         let input = Energy::from_kwh(18.0);
@@ -236,9 +238,9 @@ mod tests {
 
     #[test]
     fn recoverable_heat_agrees_with_the_doe_50000_btu_per_100_cfm_rule() {
-        // DOE heat-recovery fact sheet (FIELD-NOTES §7): "about 50,000 Btu/h per 100 cfm of
+        // US DOE heat-recovery fact sheet: "about 50,000 Btu/h per 100 cfm of
         // capacity at full load". fixture: pint 0.25.3, 50 000 Btu/h = 14.654 kW. The rule is a
-        // rounded figure for a typical lubricated screw; ours for 18 kW/100 cfm (FIELD-NOTES §2),
+        // rounded figure for a typical lubricated screw; ours for 18 kW/100 cfm (NIST SP 811 conversions),
         // air cooled: 0.80 x 18 kW = 14.4 kW, 1.7 % below the rule. Tolerance stated: 5 %.
         let rule_w = reference("heat.doe_rule_50000_btu_h_in_w");
         assert!((rule_w - 14_654.0).abs() < 1.0);
@@ -254,7 +256,7 @@ mod tests {
 
     #[test]
     fn lubricated_screw_recovery_lies_in_the_doe_range() {
-        // FIELD-NOTES §7 (DOE heat-recovery fact sheet): 80-93 %.
+        // US DOE heat-recovery fact sheet: 80-93 %.
         for c in [Cooling::Air, Cooling::Water] {
             let f = recoverable_fraction(CompressorKind::LubricatedScrew, c);
             assert!((0.80..=0.93).contains(&f));
@@ -270,26 +272,31 @@ mod tests {
         // Months 1..12 recover 100, 200, ... 1200 kWh.
         let by_month: [f64; 12] = std::array::from_fn(|i| 100.0 * (i as f64 + 1.0));
         let winter = HeatUse { kind: HeatUseKind::SpaceHeating, heating_months: vec![1, 2, 3, 11, 12] };
-        let (useful, fuel, money) = recovered_value(&by_month, &winter, 0.9, 0.08);
+        let RecoveredHeat { useful_kwh: useful, fuel_kwh: fuel, money } =
+            recovered_value(&by_month, &winter, 0.9, 0.08);
         // By hand: 100 + 200 + 300 + 1100 + 1200 = 2900 kWh; / 0.9 = 3222.2 kWh; x 0.08 = 257.78.
         assert!((useful - 2900.0).abs() < 1e-9);
         assert!((fuel - 2900.0 / 0.9).abs() < 1e-9);
         assert!((money - 2900.0 / 0.9 * 0.08).abs() < 1e-9);
         // Repeats and impossible months are ignored.
         let odd = HeatUse { kind: HeatUseKind::SpaceHeating, heating_months: vec![1, 1, 0, 13] };
-        assert!((recovered_value(&by_month, &odd, 0.9, 0.08).0 - 100.0).abs() < 1e-9);
+        assert!((recovered_value(&by_month, &odd, 0.9, 0.08).useful_kwh - 100.0).abs() < 1e-9);
     }
 
     #[test]
     fn process_water_counts_all_year() {
         let by_month = [500.0; 12];
         let water = HeatUse { kind: HeatUseKind::ProcessWater, heating_months: vec![1] };
-        let (useful, fuel, money) = recovered_value(&by_month, &water, 0.8, 0.10);
+        let RecoveredHeat { useful_kwh: useful, fuel_kwh: fuel, money } =
+            recovered_value(&by_month, &water, 0.8, 0.10);
         // By hand: 6000 kWh; / 0.8 = 7500 kWh of fuel; x 0.10 = 750.
         assert!((useful - 6000.0).abs() < 1e-9);
         assert!((fuel - 7500.0).abs() < 1e-9);
         assert!((money - 750.0).abs() < 1e-9);
         // A heater efficiency that is not positive displaces nothing.
-        assert_eq!(recovered_value(&by_month, &water, 0.0, 0.10), (6000.0, 0.0, 0.0));
+        assert_eq!(
+            recovered_value(&by_month, &water, 0.0, 0.10),
+            RecoveredHeat { useful_kwh: 6000.0, fuel_kwh: 0.0, money: 0.0 }
+        );
     }
 }

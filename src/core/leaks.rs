@@ -1,6 +1,6 @@
 /*!
 Leak estimates: the field tests of the US DOE sourcebook ("Improving Compressed Air System
-Performance: A Sourcebook for Industry", leaks fact sheet; FIELD-NOTES §5), the flow through an
+Performance: A Sourcebook for Industry", leaks fact sheet), the flow through an
 orifice, and the fit of a pressure decay found in the logs.
 
 The physics that ties them together: a leak is a small orifice, and at shop pressures its flow is
@@ -12,7 +12,7 @@ exponential in time. The assumptions: the air in the system stays at the inlet t
 i.e. above about 0.9 bar(g) at sea level).
 
 Safety: a bleed-down or decay test means isolating compressors and holding a pressurised system; see
-[`TEST_CAUTIONS`].
+`core::safety::PRESSURE_TEST_CAUTIONS`.
 */
 
 use std::fmt;
@@ -21,17 +21,8 @@ use super::thermo::{K_AIR, R_AIR};
 use super::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature, Volume};
 
 /// The DOE sourcebook's rule-of-thumb factor from the mean bleed-down flow to the flow at operating
-/// pressure (FIELD-NOTES §5).
+/// pressure (US DOE compressed-air sourcebook, leaks fact sheet).
 pub const DOE_BLEED_DOWN_FACTOR: f64 = 1.25;
-
-/// The cautions to show wherever a user plans a bleed-down or pressure-decay test (FIELD-NOTES
-/// §10).
-pub const TEST_CAUTIONS: &[&str] = &[
-    "isolate and lock out the compressors as the site's procedures require before the test",
-    "never exceed the rated pressure of any receiver or vessel in the system",
-    "keep clear of drains and relief valves while the system is under pressure",
-    "follow local pressure-equipment codes and licensed practice; this tool does not replace them",
-];
 
 /// A leak-test input that cannot be used, naming the API field at fault.
 #[derive(Debug, Clone, PartialEq)]
@@ -71,7 +62,7 @@ fn check_absolute(p: PressureAbs, field: &'static str, site: &SiteAir) -> Result
 }
 
 /// A free-air leak flow measured at one absolute pressure, scaled to another: choked leaks flow in
-/// proportion to absolute pressure (FIELD-NOTES §5). For the idle-flow test (logged flow when nothing
+/// proportion to absolute pressure (ideal-gas choked flow). For the idle-flow test (logged flow when nothing
 /// but leaks draws air, corrected to production pressure) and for comparing tests made at different
 /// pressures. `measured_at` must be positive.
 pub fn scale_leak_flow(flow: FreeAirFlow, measured_at: PressureAbs, to: PressureAbs) -> FreeAirFlow {
@@ -195,7 +186,7 @@ pub fn orifice_mass_flow_kg_s(
 /// Free-air leak flow through a round orifice of `diameter_m` (the orifice-leak calculator of
 /// API.md): the mass flow of [`orifice_mass_flow_kg_s`] into the site
 /// atmosphere, as free air m R T_in / p_atm. Cd 1 for the ideal nozzle of the published tables,
-/// about 0.97 for a well-rounded entrance and 0.61-0.65 for a sharp edge (FIELD-NOTES §5).
+/// about 0.97 for a well-rounded entrance and 0.61-0.65 for a sharp edge (common practice, from memory).
 pub fn orifice_leak(
     diameter_m: f64,
     upstream: PressureAbs,
@@ -252,7 +243,7 @@ pub struct DecayFit {
 }
 
 /// Fits a pressure decay logged while every compressor was off (a bleed-down that happened anyway,
-/// FIELD-NOTES §5). With choked leaks Q_FAD = c p_abs and V dp/dt = -p_atm Q_FAD, so
+/// ideal-gas choked flow). With choked leaks Q_FAD = c p_abs and V dp/dt = -p_atm Q_FAD, so
 /// p = p0 exp(-c p_atm t / V): ln p is fitted against t by least squares and c = -slope V / p_atm.
 /// `samples` are (seconds, absolute pressure) in increasing time; at least 3 are needed and the
 /// pressure must fall.
@@ -317,7 +308,7 @@ pub fn fit_pressure_decay(
     })
 }
 
-/// How a system's leak share compares with the DOE sourcebook's benchmarks (FIELD-NOTES §5).
+/// How a system's leak share compares with the DOE sourcebook's benchmarks.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum LeakShareBand {
@@ -401,7 +392,7 @@ mod tests {
 
     #[test]
     fn bleed_down_matches_the_doe_worked_check() {
-        // FIELD-NOTES §11 (DOE sourcebook formula): V = 5 ft³, 100 -> 50 psig in 60 min, at
+        // US DOE compressed-air sourcebook, leaks fact sheet (bleed-down formula): V = 5 ft³, 100 -> 50 psig in 60 min, at
         // 14.7 psia: 5 x 50 / (60 x 14.7) x 1.25 = 0.354 cfm.
         let site = us_site();
         let atm = site.atmosphere;
@@ -417,14 +408,14 @@ mod tests {
         assert!((r.doe_rule_of_thumb_flow.cfm() - 0.354).abs() < 0.0005);
         // fixture: pint 0.25.3 evaluation of the DOE formula.
         assert!(rel(r.doe_rule_of_thumb_flow.cfm(), reference("leaks.doe_bleed_down_cfm")) < 1e-9);
-        // FIELD-NOTES §5: for 100 -> 50 psig the physical scaling is 1.28 (114.7 / 89.7 = 1.2787).
+        // Choked leak flow is proportional to absolute pressure: for 100 -> 50 psig the physical scaling is 1.28 (114.7 / 89.7 = 1.2787).
         let scale = r.leak_flow_at_operating_pressure.0 / r.mean_leak_flow.0;
         assert!((scale - 1.28).abs() < 0.005);
     }
 
     #[test]
     fn a_narrow_bleed_down_scales_by_only_1_05() {
-        // FIELD-NOTES §5: 100 -> 90 psig scales by 1.05 (114.7 / 109.7 = 1.0456), not 1.25.
+        // Choked leak flow is proportional to absolute pressure: 100 -> 90 psig scales by 1.05 (114.7 / 109.7 = 1.0456), not 1.25.
         let site = us_site();
         let atm = site.atmosphere;
         let p100 = PressureAbs::from_psig(100.0, atm);
@@ -435,7 +426,7 @@ mod tests {
 
     #[test]
     fn idle_flow_scales_to_production_pressure_with_absolute_pressure() {
-        // FIELD-NOTES §5: correct idle flow to production pressure like the bleed-down. By hand:
+        // Choked leak flow is proportional to absolute pressure: correct idle flow to production pressure like the bleed-down. By hand:
         // 1.0 m³/min at 5 bar(g) (601.325 kPa) is 1.0 x 801.325 / 601.325 = 1.3326 at 7 bar(g).
         let atm = PressureAbs::from_kpa_abs(101.325);
         let q = scale_leak_flow(
@@ -488,7 +479,7 @@ mod tests {
 
     #[test]
     fn load_unload_matches_the_doe_example() {
-        // FIELD-NOTES §11 (DOE sourcebook): 7.5 min on-load in a 30 min cycle -> 25 % leakage.
+        // US DOE compressed-air sourcebook, leaks fact sheet: 7.5 min on-load in a 30 min cycle -> 25 % leakage.
         let rated = FreeAirFlow::from_m3_min(9.5);
         let (fraction, flow) = load_unload(7.5 * 60.0, 22.5 * 60.0, rated).unwrap();
         assert!((fraction - 0.25).abs() < 1e-12);
@@ -502,7 +493,8 @@ mod tests {
 
     #[test]
     fn orifice_flow_reproduces_the_published_table() {
-        // FIELD-NOTES §5/§11, the published "discharge of air through an orifice" table,
+        // The published "discharge of air through an orifice" table (as quoted in the US DOE
+        // compressed-air sourcebook's leaks fact sheet, from memory),
         // coefficient 1.0, free air at 14.7 psia, reproduced with T0 = 20 °C: within 1 %.
         let site = us_site();
         let atm = site.atmosphere;
@@ -514,7 +506,7 @@ mod tests {
             let q = orifice_leak(d_in * INCH_M, p100, t0, 1.0, &site).unwrap();
             assert!(rel(q.cfm(), cfm) < 0.01, "{d_in} in: {} cfm", q.cfm());
         }
-        // FIELD-NOTES §5: at 70 psig a 1/16" hole gives 4.79 cfm.
+        // The same orifice table: at 70 psig a 1/16" hole gives 4.79 cfm.
         let p70 = PressureAbs::from_psig(70.0, atm);
         let q70 = orifice_leak(INCH_M / 16.0, p70, t0, 1.0, &site).unwrap();
         assert!(rel(q70.cfm(), 4.79) < 0.01, "{}", q70.cfm());
@@ -638,7 +630,7 @@ mod tests {
 
     #[test]
     fn leak_share_bands_follow_the_doe_benchmarks() {
-        // FIELD-NOTES §5 (DOE sourcebook): well maintained < 10 %, poorly maintained 20-30 %.
+        // US DOE compressed-air sourcebook, leaks fact sheet: well maintained < 10 %, poorly maintained 20-30 %.
         assert_eq!(leak_share_band(0.05), LeakShareBand::WellMaintained);
         assert_eq!(leak_share_band(0.10), LeakShareBand::Moderate);
         assert_eq!(leak_share_band(0.20), LeakShareBand::Moderate);

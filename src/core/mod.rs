@@ -9,10 +9,13 @@ Architecture invariant: `core` imports nothing from `store`, `ingest` or `web`.
 - [`series`]: one timeline: alignment of channels into equal bins, integration.
 - [`states`]: compressor states from power, loaded fractions, cycles, flow from states.
 - [`leaks`]: bleed-down, load/unload, orifice, decay fits; [`fieldtest`]: the API's field tests.
+- [`safety`]: the cautions shown wherever a test or a measure touches pressure equipment or heat.
 - [`heat`]: heat of compression rejected and recoverable, and its value.
-- [`analysis`]: the audit summary (baseline, specific power, demand, pressure, leaks, heat,
-  uncertainty) and decay-event detection; [`recommend`]: measures with savings and payback.
-- [`display`]: formatting every figure a person sees with its unit, SI or US customary.
+- [`analysis`]: the audit summary, one room per topic (uncertainty, calendar, machines, specific
+  power, production, control, pressure, demand, baseline, leaks, heat, decay) and decay-event
+  detection; [`recommend`]: measures with savings and payback, their words in parts.
+- [`display`]: formatting every figure a person sees with its unit, SI or US customary, and the
+  measures' parts in a reader's units.
 - [`model`]: the plain description of a site, its compressors and storage.
 */
 
@@ -25,6 +28,7 @@ pub mod heat;
 pub mod leaks;
 pub mod model;
 pub mod recommend;
+pub mod safety;
 pub mod series;
 pub mod simulate;
 pub mod states;

@@ -85,7 +85,7 @@ str_enum!(Cooling { Air => "air", Water => "water" });
 
 impl CompressorKind {
     /// Default unloaded power as a fraction of full-load power when the data sheet gives none.
-    /// Lubricated screws 15-35 % (FIELD-NOTES §4, DOE sourcebook, from memory): we take 0.25; the
+    /// Lubricated screws 15-35 % (US DOE compressed-air sourcebook, from memory): we take 0.25; the
     /// others are common practice.
     pub fn default_unloaded_power_fraction(self) -> f64 {
         match self {

@@ -1,7 +1,7 @@
 /*!
 One timeline for every logged channel.
 
-Loggers have their own clocks, intervals and start times (FIELD-NOTES §8). The storage layer streams
+Loggers have their own clocks, intervals and start times (common practice of logger audits). The storage layer streams
 each channel's readings, time-sorted and already in SI units, into an [`Aligner`] (or a
 [`CounterAligner`] for energy counters); the analysis then works on a [`Frame`]: equal bins on one
 [`Grid`], one `Vec<f32>` per channel, `NaN` where a bin is missing.
@@ -19,14 +19,12 @@ each channel's readings, time-sorted and already in SI units, into an [`Aligner`
   time between them, spread evenly over that interval (a step, not a line). A decrease (reset or
   roll-over) breaks the series there: no negative power is ever produced.
 
-Integration helpers ([`integrate`], [`energy_from_power`], [`air_from_flow`]) skip missing bins and
-report the coverage, so a gap never counts as zero.
+The integration helper ([`integrate`]) skips missing bins and
+reports the coverage, so a gap never counts as zero.
 
 Memory: a column is a `Vec<f32>` (4 bytes a bin); an aligner keeps two `f64` per bin while it runs.
 Grids of about 1.5 M bins (a month at 2 s) are the design size.
 */
-
-use super::units::{Energy, FreeAirFlow};
 
 /// Bin steps [`Grid::choose`] picks from, ms: steps that divide minutes, hours and days, so bins line
 /// up with the clock.
@@ -333,24 +331,6 @@ pub fn integrate(grid: &Grid, values: &[f32]) -> Integral {
     }
 }
 
-/// Energy from power bins (W), skipping missing bins; with the coverage (0-1).
-pub fn energy_from_power(grid: &Grid, power_w: &[f32]) -> (Energy, f64) {
-    let i = integrate(grid, power_w);
-    (Energy(i.total), i.coverage)
-}
-
-/// Free air volume (m³) from flow bins (m³/s), skipping missing bins; with the coverage (0-1).
-pub fn air_from_flow(grid: &Grid, flow: &[f32]) -> (f64, f64) {
-    let i = integrate(grid, flow);
-    (i.total, i.coverage)
-}
-
-/// Mean flow over the present bins.
-pub fn mean_flow(grid: &Grid, flow: &[f32]) -> Option<FreeAirFlow> {
-    let i = integrate(grid, flow);
-    i.mean.is_finite().then_some(FreeAirFlow(i.mean))
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -472,9 +452,9 @@ mod tests {
         for x in &v {
             assert!(close(*x as f64, w, 1e-2), "{x}");
         }
-        let (e, cov) = energy_from_power(&g, &v);
-        assert_eq!(cov, 1.0);
-        assert!(close(e.0, w * 120.0, 1.0));
+        let e = integrate(&g, &v);
+        assert_eq!(e.coverage, 1.0);
+        assert!(close(e.total, w * 120.0, 1.0));
     }
 
     #[test]
@@ -500,8 +480,8 @@ mod tests {
         let q = f.system_flow().unwrap();
         assert!(close(q[0] as f64, 0.25, 1e-6));
         assert!(q[1].is_nan());
-        let (air, cov) = air_from_flow(&g, &q);
-        assert!(close(air, 0.25, 1e-6));
-        assert_eq!(cov, 0.5);
+        let air = integrate(&g, &q);
+        assert!(close(air.total, 0.25, 1e-6));
+        assert_eq!(air.coverage, 0.5);
     }
 }

@@ -1,7 +1,7 @@
 /*!
 Compressor states read from a logged power column, and the part-load models that go with them.
 
-FIELD-NOTES §4: a kW log shows each machine off (near 0), unloaded (near its unloaded power), loaded
+Common practice of logger audits: a kW log shows each machine off (near 0), unloaded (near its unloaded power), loaded
 (near full) and, for modulation and variable speed, in between. From the states follow the loaded
 fraction, load cycles, mean loaded and unloaded times (the load/unload leak test read from the logs) and,
 where no flow meter exists, an estimate of the free air each machine delivered.
@@ -22,15 +22,15 @@ unload period.
 
 # Part-load models (power at a given free air delivery Q)
 - Load/unload: `P = P_unl + (P_full - P_unl) Q/Q_rated` (the time-average of loaded and unloaded,
-  FIELD-NOTES §4, ideal: storage is large enough).
-- Modulation: `P/P_full = 0.70 + 0.30 Q/Q_full` (common practice, FIELD-NOTES §4).
+  US DOE compressed-air sourcebook, ideal: storage is large enough).
+- Modulation: `P/P_full = 0.70 + 0.30 Q/Q_full` (common practice).
 - Variable speed: the data-sheet curve, linear between its points; without one, the typical curve
   `P/P_full = 0.12 + 0.88 Q/Q_full` for Q from 20 % to 100 % (common practice, approximate: a VSD screw's
   specific power rises only slightly towards minimum speed; from memory).
 - Start/stop: full specific power, `P = P_full Q/Q_rated` in the time average.
 
 The **marginal** specific power (kW per extra m³/min) is the slope of that model: the figure that prices
-a change of demand when this machine trims (FIELD-NOTES §5, §6).
+a change of demand when this machine trims (US DOE compressed-air sourcebook).
 */
 
 use serde::Serialize;
@@ -38,7 +38,7 @@ use serde::Serialize;
 use super::model::{CompressorSpec, Control};
 use super::series::Grid;
 
-/// Modulation: share of full power drawn at zero capacity (FIELD-NOTES §4, common practice).
+/// Modulation: share of full power drawn at zero capacity (common practice).
 pub const MODULATION_POWER_AT_ZERO_FLOW: f64 = 0.70;
 /// Typical variable-speed curve: P/P_full = VSD_TYPICAL_A + VSD_TYPICAL_B Q/Q_full (common practice,
 /// approximate, from memory).
@@ -398,7 +398,7 @@ pub(crate) mod tests {
 
     #[test]
     fn load_unload_40_160_gives_loaded_fraction_0_2_and_18_cycles_per_hour() {
-        // DOE sourcebook load/unload timing (FIELD-NOTES §5): T/(T+t) = 40/200 = 0.2; 3600/200 = 18/h.
+        // US DOE compressed-air sourcebook, leaks fact sheet, load/unload timing: T/(T+t) = 40/200 = 0.2; 3600/200 = 18/h.
         let c = spec("C2", Control::LoadUnload, 55.0, 9.5);
         let grid = Grid { start_ms: 0, step_ms: 10_000, len: 3 * 360 };
         let p = cycling_power(55.0, 40, 160, 3);
@@ -433,7 +433,7 @@ pub(crate) mod tests {
 
     #[test]
     fn modulation_flow_inverts_0_70_plus_0_30_q() {
-        // FIELD-NOTES §4 (common practice): P/P_full = 0.70 + 0.30 Q/Q_full; at 85 % power Q = 50 %.
+        // Common practice: P/P_full = 0.70 + 0.30 Q/Q_full; at 85 % power Q = 50 %.
         let c = spec("M", Control::Modulation, 90.0, 15.0);
         assert!((flow_at_power_m3_min(&c, 76.5) - 7.5).abs() < 1e-9);
         assert!((power_at_flow_kw(&c, 7.5) - 76.5).abs() < 1e-9);
@@ -457,16 +457,16 @@ pub(crate) mod tests {
 
     #[test]
     fn marginal_specific_power_per_control() {
-        // Load/unload (FIELD-NOTES §4 ideal load/unload): (P_full - P_unl)/Q = 55 x 0.75 / 9.5.
+        // Load/unload (US DOE compressed-air sourcebook, ideal load/unload): (P_full - P_unl)/Q = 55 x 0.75 / 9.5.
         let lu = spec("L", Control::LoadUnload, 55.0, 9.5);
         assert!((marginal_kw_per_m3_min(&lu) - 55.0 * 0.75 / 9.5).abs() < 1e-12);
         // Modulation (common practice 0.70 + 0.30 Q): 0.30 P/Q.
         let m = spec("M", Control::Modulation, 55.0, 9.5);
         assert!((marginal_kw_per_m3_min(&m) - 0.30 * 55.0 / 9.5).abs() < 1e-12);
-        // Start/stop (FIELD-NOTES §4): full specific power.
+        // Start/stop (US DOE compressed-air sourcebook): full specific power.
         let s = spec("S", Control::StartStop, 55.0, 9.5);
         assert!((marginal_kw_per_m3_min(&s) - 55.0 / 9.5).abs() < 1e-12);
-        // The load/unload model's power at a mean flow is the loaded-fraction average (FIELD-NOTES §4):
+        // The load/unload model's power at a mean flow is the loaded-fraction average (US DOE compressed-air sourcebook):
         // f = 0.4 -> 0.4 + 0.6 x 0.25 of full.
         assert!((power_at_flow_kw(&lu, 0.4 * 9.5) - 55.0 * (0.4 + 0.6 * 0.25)).abs() < 1e-9);
     }

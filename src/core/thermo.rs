@@ -2,7 +2,7 @@
 Compression of air: the ideal limits a plant is measured against, and the staged-compression
 calculator of API.md `POST /api/v1/calc/compression`.
 
-Air is an ideal gas here with R = 287.0 J/(kg K) (the value FIELD-NOTES §7 uses; the molar mass it
+Air is an ideal gas here with R = 287.0 J/(kg K) (a common rounded value for dry air; the molar mass it
 implies is M = 8.314462618 / 287 = 0.028970 kg/mol) and k = cp/cv = 1.4, so cp = k R / (k - 1) =
 1004.5 J/(kg K). Pressure ratios r = p2/p1 are always of absolute pressures.
 
@@ -20,7 +20,7 @@ use std::fmt;
 
 use super::units::{FreeAirFlow, Power, PressureAbs, Temperature};
 
-/// Specific gas constant of dry air, J/(kg K), as FIELD-NOTES §7 uses it.
+/// Specific gas constant of dry air, J/(kg K), the common rounded value.
 pub const R_AIR: f64 = 287.0;
 /// Ratio of specific heats of air.
 pub const K_AIR: f64 = 1.4;
@@ -189,7 +189,7 @@ fn validate(input: &CompressionInput) -> Result<(), ThermoError> {
 }
 
 /// Staged compression as API.md fixes it: the stages share the overall pressure ratio equally (the
-/// optimum for equal inlet temperatures, FIELD-NOTES §7); every stage after the first starts at
+/// optimum for equal inlet temperatures, textbook thermodynamics); every stage after the first starts at
 /// `intercooled_to`, and the last cooler (the aftercooler) brings the air to `intercooled_to` too.
 /// `isentropic_power` is that staging at efficiency 1, `shaft_power` = isentropic / eta, each
 /// stage's discharge temperature follows from eta, and a cooler removes m cp (T_discharge -
@@ -261,12 +261,12 @@ mod tests {
     const M_AIR_KG_MOL: f64 = 8.314_462_618 / R_AIR;
 
     const T1: Temperature = Temperature(293.15);
-    // FIELD-NOTES §11: p1 = 101325 Pa, p2 = 790801.08 Pa.
+    // The reference case of the fluids 1.3.1 checks below: p1 = 101325 Pa, p2 = 790801.08 Pa.
     const R_11: f64 = 790_801.08 / 101_325.0;
 
     #[test]
     fn the_air_constants_are_those_of_the_field_notes() {
-        // FIELD-NOTES §7: R = 287, k = 1.4; cp = k R/(k-1) = 1004.5 by hand.
+        // Ideal-gas air, R = 287, k = 1.4: cp = k R/(k-1) = 1004.5 by hand.
         assert!((CP_AIR - 1004.5).abs() < 1e-9);
         // fixture: the molar mass the script used is the one these tests use.
         assert!(rel(M_AIR_KG_MOL, reference("thermo.molar_mass_kg_mol")) < 1e-12);
@@ -275,7 +275,7 @@ mod tests {
     #[test]
     fn isothermal_work_matches_fluids_and_the_field_notes() {
         let w = isothermal_work_per_kg(T1, R_11);
-        // FIELD-NOTES §11, fluids 1.3.1 isothermal_work_compression: 5008.13 J/mol.
+        // Python library fluids 1.3.1, isothermal_work_compression: 5008.13 J/mol.
         assert!((w * M_AIR_KG_MOL - 5008.13).abs() < 0.01);
         // fixture: fluids 1.3.1 isothermal_work_compression.
         assert!(rel(w * M_AIR_KG_MOL, reference("thermo.isothermal_work_j_mol")) < 1e-9);
@@ -283,7 +283,7 @@ mod tests {
 
     #[test]
     fn ideal_gas_isothermal_work_is_within_half_a_percent_of_coolprop_real_air() {
-        // fixture: CoolProp 8.0.0 real air, w = dh - T ds = 172.69 kJ/kg (FIELD-NOTES §11 too). Our
+        // fixture: CoolProp 8.0.0 real air, w = dh - T ds = 172.69 kJ/kg. Our
         // ideal gas gives 172.87 kJ/kg: +0.10 %. Tolerance stated: 0.5 %.
         let w = isothermal_work_per_kg(T1, R_11);
         let real = reference("thermo.coolprop_isothermal_work_j_kg");
@@ -294,7 +294,7 @@ mod tests {
     #[test]
     fn isentropic_work_and_discharge_temperature_match_fluids() {
         let w = isentropic_work_per_kg(T1, R_11);
-        // FIELD-NOTES §11, fluids 1.3.1 isentropic_work_compression: 6813.54 J/mol.
+        // Python library fluids 1.3.1, isentropic_work_compression: 6813.54 J/mol.
         assert!((w * M_AIR_KG_MOL - 6813.54).abs() < 0.01);
         // fixture: fluids 1.3.1 isentropic_work_compression, eta 1.
         assert!(rel(w * M_AIR_KG_MOL, reference("thermo.isentropic_work_j_mol")) < 1e-9);
@@ -302,7 +302,7 @@ mod tests {
         let w08 = reference("thermo.isentropic_work_eta_0_8_j_mol");
         assert!(rel(w / 0.8 * M_AIR_KG_MOL, w08) < 1e-9);
 
-        // FIELD-NOTES §11, fluids 1.3.1 isentropic_T_rise_compression: 527.29 K (the function
+        // Python library fluids 1.3.1, isentropic_T_rise_compression: 527.29 K (the function
         // returns the discharge temperature).
         let t2 = isentropic_discharge_temperature(T1, R_11, 1.0);
         assert!((t2.0 - 527.29).abs() < 0.005);

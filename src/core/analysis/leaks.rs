@@ -1,0 +1,110 @@
+/*!
+Leaks: all estimates side by side; the adopted figure is the median of the field tests; without tests,
+the mean flow in non-production hours (an upper bound: fixed users such as dryer purge are in it). Leak
+energy is priced at the **marginal** specific power of the trim machine, not the plant's average (US
+DOE compressed-air sourcebook, leaks fact sheet); the share of demand is banded by the same source's
+benchmarks (`leaks::leak_share_band`).
+*/
+
+use crate::core::leaks::leak_share_band;
+
+use super::figures::{LeakEstimateFigure, LeakFigures};
+use super::stats::percentile;
+use super::uncertainty::{band, default_relative_uncertainty, quad, Accuracy};
+use super::LeakEstimate;
+
+/// What the leak figures are computed from besides the estimates.
+#[derive(Debug, Clone, Copy)]
+pub(super) struct LeakContext<'a> {
+    pub acc: &'a Accuracy,
+    /// Mean system flow and the flows in and out of production, m³/min.
+    pub mean_flow: f64,
+    pub q_prod: Option<f64>,
+    pub q_nonprod: Option<f64>,
+    pub production_share: f64,
+    pub flow_estimated: bool,
+    /// Relative uncertainty of the flow.
+    pub u_flow: f64,
+    pub marginal_kw_per_m3_min: f64,
+    pub marginal_machine: Option<&'a str>,
+    pub annual_running_hours: f64,
+    pub electricity_price_per_kwh: f64,
+}
+
+/// The leak figures (module doc).
+pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> LeakFigures {
+    let (acc, mean_flow, q_prod, q_nonprod, u_flow) = (x.acc, x.mean_flow, x.q_prod, x.q_nonprod, x.u_flow);
+    let mut estimates: Vec<LeakEstimateFigure> = leak_estimates
+        .iter()
+        .map(|e| {
+            let rel = default_relative_uncertainty(&e.method, acc);
+            let (lo, hi) = band(e.leak_flow_m3_min, rel);
+            LeakEstimateFigure {
+                test_id: Some(e.test_id),
+                method: e.method.clone(),
+                leak_flow_m3_min: e.leak_flow_m3_min,
+                leak_flow_m3_min_low: lo,
+                leak_flow_m3_min_high: hi,
+                share_of_mean_demand: (mean_flow > 0.0).then(|| e.leak_flow_m3_min / mean_flow),
+                automatic: false,
+                estimated: false,
+            }
+        })
+        .collect();
+    let mut tests: Vec<f64> = leak_estimates.iter().map(|e| e.leak_flow_m3_min).collect();
+    tests.sort_by(f64::total_cmp);
+    let (adopted, adopted_rel, adopted_rule) = if !tests.is_empty() {
+        let med = percentile(&tests, 0.5);
+        let rel =
+            leak_estimates.iter().map(|e| default_relative_uncertainty(&e.method, acc)).fold(0.0, f64::max);
+        (Some(med), rel, "median of the accepted field tests".to_string())
+    } else if let (Some(q), true) = (q_nonprod, x.production_share < 1.0) {
+        (
+            Some(q),
+            u_flow,
+            "mean flow in non-production hours (an upper bound: includes fixed users)".to_string(),
+        )
+    } else {
+        (None, 0.0, "no leak estimate: run a bleed-down or load/unload test".to_string())
+    };
+    if let Some(q) = q_nonprod.filter(|_| x.production_share < 1.0) {
+        let (lo, hi) = band(q, u_flow);
+        estimates.push(LeakEstimateFigure {
+            test_id: None,
+            method: "non_production_flow".into(),
+            leak_flow_m3_min: q,
+            leak_flow_m3_min_low: lo,
+            leak_flow_m3_min_high: hi,
+            share_of_mean_demand: (mean_flow > 0.0).then(|| q / mean_flow),
+            automatic: true,
+            estimated: x.flow_estimated,
+        });
+    }
+    let share = adopted.filter(|_| mean_flow > 0.0).map(|q| q / mean_flow);
+    let u_share = quad(&[adopted_rel, u_flow]);
+    let leak_kwh = adopted.map(|q| q * x.marginal_kw_per_m3_min * x.annual_running_hours);
+    let u_leak_cost = quad(&[adopted_rel, 0.05]);
+    let leak_band = share.map(leak_share_band);
+    let price = x.electricity_price_per_kwh;
+    LeakFigures {
+        estimates,
+        adopted_leak_flow_m3_min: adopted,
+        adopted_leak_flow_m3_min_low: adopted.map(|q| q * (1.0 - adopted_rel)),
+        adopted_leak_flow_m3_min_high: adopted.map(|q| q * (1.0 + adopted_rel)),
+        adopted_rule,
+        share_of_mean_demand: share,
+        share_of_mean_demand_low: share.map(|s| s * (1.0 - u_share)),
+        share_of_mean_demand_high: share.map(|s| s * (1.0 + u_share)),
+        share_of_production_demand: adopted.zip(q_prod).filter(|(_, q)| *q > 0.0).map(|(l, q)| l / q),
+        share_of_non_production_demand: adopted.zip(q_nonprod).filter(|(_, q)| *q > 0.0).map(|(l, q)| l / q),
+        band: leak_band,
+        band_description: leak_band.map(|b| b.describe().to_string()),
+        target_share: 0.10,
+        marginal_machine: x.marginal_machine.map(str::to_string),
+        marginal_kw_per_m3_min: x.marginal_kw_per_m3_min,
+        annual_leak_energy_kwh: leak_kwh,
+        annual_leak_cost: leak_kwh.map(|k| k * price),
+        annual_leak_cost_low: leak_kwh.map(|k| k * price * (1.0 - u_leak_cost)),
+        annual_leak_cost_high: leak_kwh.map(|k| k * price * (1.0 + u_leak_cost)),
+    }
+}

@@ -1,0 +1,282 @@
+/*!
+The compressors one by one: each machine's logged power, its states and the flow they imply, its
+energy, the trim machine and its marginal specific power, what the measures need of each machine, and
+the per-compressor figures of the summary.
+
+- **Energy and mean power**: each compressor's power column is integrated over its logged bins
+  (`series::integrate`); system energy and mean power are the sums over compressors, so a gap in one
+  logger does not drop the others.
+- **Trim machine**: a running variable-speed machine if there is one (a sequencer trims with it);
+  otherwise the machine with the largest share of its running time unloaded or at part load.
+*/
+
+use crate::core::model::{CompressorSpec, Control};
+use crate::core::recommend::MachineUse;
+use crate::core::series::{integrate, sum_columns, Frame, Integral};
+use crate::core::states::{self, State, StateStats};
+use crate::core::units::kw_per_100cfm;
+
+use super::baseline::{AnnualRule, CellSums};
+use super::calendar::Calendar;
+use super::figures::{CompressorFigures, PowerSource};
+use super::heat::CompressorHeat;
+use super::specific_power::CompressorAir;
+use super::uncertainty::{band, power_rel, Accuracy};
+use super::DataFigures;
+
+/// Each compressor's logged power, its states and the flow they imply (`None`: no power logged).
+pub(super) struct Logged<'f> {
+    pub powers: Vec<Option<&'f [f32]>>,
+    pub states: Vec<Option<Vec<State>>>,
+    pub est_flow: Vec<Option<Vec<f32>>>,
+    pub stats: Vec<Option<StateStats>>,
+    /// Tags of the compressors without a power column.
+    pub without_power: Vec<String>,
+    /// Σ power of the compressors with a power column, W.
+    pub total_power: Option<Vec<f32>>,
+}
+
+/// Per-compressor power, states and flow.
+pub(super) fn logged<'f>(frame: &'f Frame, cs: &[CompressorSpec]) -> Logged<'f> {
+    let grid = frame.grid;
+    let n = grid.len;
+    let powers: Vec<Option<&[f32]>> =
+        (0..cs.len()).map(|i| frame.power_of(i).map(|c| c.values.as_slice())).collect();
+    let st: Vec<Option<Vec<State>>> =
+        cs.iter().zip(&powers).map(|(c, p)| p.map(|p| states::classify(c, p))).collect();
+    let est_flow: Vec<Option<Vec<f32>>> = cs
+        .iter()
+        .zip(&powers)
+        .zip(&st)
+        .map(|((c, p), s)| match (p, s) {
+            (Some(p), Some(s)) => Some(states::estimated_flow(c, s, p)),
+            _ => None,
+        })
+        .collect();
+    let stats: Vec<Option<StateStats>> = st
+        .iter()
+        .zip(&powers)
+        .map(|(s, p)| match (s, p) {
+            (Some(s), Some(p)) => Some(states::state_stats(&grid, s, p)),
+            _ => None,
+        })
+        .collect();
+    let without_power: Vec<String> =
+        cs.iter().zip(&powers).filter(|(_, p)| p.is_none()).map(|(c, _)| c.tag.clone()).collect();
+    let total_power: Option<Vec<f32>> = sum_columns(n, powers.iter().flatten().copied());
+    Logged { powers, states: st, est_flow, stats, without_power, total_power }
+}
+
+/// Energy (kWh) and mean power (kW) of each compressor over its logged bins (0 without power).
+#[derive(Debug, Clone, PartialEq)]
+pub(super) struct MachineEnergy {
+    pub energy_kwh: Vec<f64>,
+    pub mean_kw: Vec<f64>,
+}
+
+/// Energy per compressor.
+pub(super) fn energy(frame: &Frame, logged: &Logged) -> MachineEnergy {
+    let integ: Vec<Option<Integral>> =
+        logged.powers.iter().map(|p| p.map(|p| integrate(&frame.grid, p))).collect();
+    let energy_kwh: Vec<f64> = integ.iter().map(|i| i.map_or(0.0, |i| i.total / 3.6e6)).collect();
+    let mean_kw: Vec<f64> = integ
+        .iter()
+        .map(|i| i.map_or(0.0, |i| if i.mean.is_finite() { i.mean / 1000.0 } else { 0.0 }))
+        .collect();
+    MachineEnergy { energy_kwh, mean_kw }
+}
+
+/// The trim machine (module doc).
+pub(super) fn trim(cs: &[CompressorSpec], stats: &[Option<StateStats>]) -> Option<usize> {
+    let running_vsd = cs.iter().enumerate().find(|(i, c)| {
+        c.control == Control::VariableSpeed && stats[*i].as_ref().is_some_and(|s| s.running_hours > 0.0)
+    });
+    running_vsd.map(|(i, _)| i).or_else(|| {
+        let score = |i: usize| {
+            stats[i].as_ref().map_or(-1.0, |s| {
+                let run = 1.0 - s.off_fraction;
+                if run <= 0.0 {
+                    -1.0
+                } else {
+                    (s.unloaded_fraction + s.part_load_fraction) / run
+                }
+            })
+        };
+        (0..cs.len()).filter(|&i| score(i) >= 0.0).max_by(|&a, &b| score(a).total_cmp(&score(b)))
+    })
+}
+
+/// The marginal specific power of the trim machine (of the first compressor without one).
+pub(super) fn marginal(cs: &[CompressorSpec], trim: Option<usize>) -> f64 {
+    trim.map_or_else(
+        || cs.first().map_or(0.0, states::marginal_kw_per_m3_min),
+        |t| states::marginal_kw_per_m3_min(&cs[t]),
+    )
+}
+
+/// What the measures need from one compressor, with its annual figures as cell sums.
+#[derive(Debug, Clone, PartialEq)]
+pub(super) struct MachineCells {
+    /// Unloaded power out of production, W.
+    idle: Option<CellSums>,
+    /// Power above unloaded power, W.
+    above: Option<CellSums>,
+    /// 1 while loaded.
+    loaded: Option<CellSums>,
+    loaded_fraction: f64,
+    cycles_per_hour: f64,
+    mean_loaded_power_kw: Option<f64>,
+    full_load_specific_power_kw_per_m3_min: Option<f64>,
+}
+
+/// Per compressor: the annualised figures the measures need.
+pub(super) fn machine_cells(
+    cs: &[CompressorSpec],
+    logged: &Logged,
+    cal: &Calendar,
+    is_prod: &[bool],
+    air: &[CompressorAir],
+) -> Vec<MachineCells> {
+    let cells = &cal.cells;
+    let mut machines = Vec::new();
+    for (i, c) in cs.iter().enumerate() {
+        let s = logged.stats[i].as_ref();
+        // Masked series for the measures: unloaded out of production, and power above idle.
+        let unl_w = c.unloaded_power_fraction * c.rated_power_kw * 1000.0;
+        let (idle_np, above) = match (logged.powers[i], &logged.states[i]) {
+            (Some(p), Some(sv)) => {
+                let idle = |k: usize| match sv[k] {
+                    State::Unknown => f32::NAN,
+                    State::Unloaded if !is_prod[k] => p[k],
+                    _ => 0.0,
+                };
+                let above = |k: usize| {
+                    if sv[k].running() {
+                        (p[k] - unl_w as f32).max(0.0)
+                    } else if p[k].is_finite() {
+                        0.0
+                    } else {
+                        f32::NAN
+                    }
+                };
+                (Some(CellSums::of(cells, idle)), Some(CellSums::of(cells, above)))
+            }
+            _ => (None, None),
+        };
+        let loaded = logged.states[i].as_ref().map(|sv| {
+            CellSums::of(cells, |k| match sv[k] {
+                State::Unknown => f32::NAN,
+                State::Loaded => 1.0,
+                _ => 0.0,
+            })
+        });
+        let a = &air[i];
+        machines.push(MachineCells {
+            idle: idle_np,
+            above,
+            loaded,
+            loaded_fraction: s.map_or(0.0, |s| s.loaded_fraction),
+            cycles_per_hour: s.map_or(0.0, |s| s.cycles_per_hour),
+            mean_loaded_power_kw: s.and_then(|s| s.mean_loaded_power_kw),
+            full_load_specific_power_kw_per_m3_min: if a.estimated { None } else { a.full_load },
+        });
+    }
+    machines
+}
+
+/// The machines as the measures see them, annualised by `rule`.
+pub(super) fn machine_uses(d: &DataFigures, rule: AnnualRule, annual_kwh_c: &[f64]) -> Vec<MachineUse> {
+    d.machines
+        .iter()
+        .enumerate()
+        .map(|(i, m)| MachineUse {
+            annual_energy_kwh: annual_kwh_c[i],
+            annual_above_idle_kwh: m.above.as_ref().map_or(0.0, |c| c.annual(rule) / 1000.0),
+            annual_unloaded_non_production_kwh: m.idle.as_ref().map_or(0.0, |c| c.annual(rule) / 1000.0),
+            annual_loaded_hours: m.loaded.as_ref().map_or(0.0, |c| c.annual(rule)),
+            loaded_fraction: m.loaded_fraction,
+            cycles_per_hour: m.cycles_per_hour,
+            mean_loaded_power_kw: m.mean_loaded_power_kw,
+            full_load_specific_power_kw_per_m3_min: m.full_load_specific_power_kw_per_m3_min,
+            power_logged: d.power_logged[i],
+        })
+        .collect()
+}
+
+/// The summary's figures of each compressor.
+pub(super) fn compressor_figures(
+    d: &DataFigures,
+    acc: &Accuracy,
+    annual_kwh_c: &[f64],
+    heat: &[CompressorHeat],
+) -> Vec<CompressorFigures> {
+    let cs = d.spec.compressors.as_slice();
+    let energy_kwh = &d.energy.energy_kwh;
+    let mut comp_fig = Vec::new();
+    for (i, c) in cs.iter().enumerate() {
+        let h = &heat[i];
+        let a = &d.air[i];
+        let (sp_c, estimated, full) = (a.specific_power, a.estimated, a.full_load);
+        let rated = c.rated_specific_power_kw_per_m3_min();
+        let (lo, hi) = band(energy_kwh[i], power_rel(acc, c));
+        let s0 = d.stats[i].clone().unwrap_or(StateStats {
+            logged_hours: 0.0,
+            loaded_fraction: 0.0,
+            part_load_fraction: 0.0,
+            unloaded_fraction: 0.0,
+            off_fraction: 0.0,
+            running_hours: 0.0,
+            loaded_hours: 0.0,
+            load_cycles: 0,
+            cycles_per_hour: 0.0,
+            mean_loaded_power_kw: None,
+            mean_unloaded_power_kw: None,
+            mean_loaded_time_s: None,
+            mean_unloaded_time_s: None,
+        });
+        comp_fig.push(CompressorFigures {
+            tag: c.tag.clone(),
+            control: c.control,
+            power_logged: d.power_logged[i],
+            power_source: if acc.current_derived_power.contains(&c.tag) {
+                PowerSource::CurrentDerived
+            } else {
+                PowerSource::TruePower
+            },
+            energy_kwh: energy_kwh[i],
+            energy_kwh_low: lo,
+            energy_kwh_high: hi,
+            mean_power_kw: d.energy.mean_kw[i],
+            annual_energy_kwh: annual_kwh_c[i],
+            loaded_fraction: s0.loaded_fraction,
+            part_load_fraction: s0.part_load_fraction,
+            unloaded_fraction: s0.unloaded_fraction,
+            off_fraction: s0.off_fraction,
+            cycles_per_hour: s0.cycles_per_hour,
+            logged_hours: s0.logged_hours,
+            running_hours: s0.running_hours,
+            loaded_hours: s0.loaded_hours,
+            mean_loaded_power_kw: s0.mean_loaded_power_kw,
+            mean_unloaded_power_kw: s0.mean_unloaded_power_kw,
+            mean_loaded_time_s: s0.mean_loaded_time_s,
+            mean_unloaded_time_s: s0.mean_unloaded_time_s,
+            air_m3: a.air_m3,
+            specific_power_kw_per_m3_min: sp_c,
+            specific_power_kw_per_100cfm: sp_c.map(kw_per_100cfm),
+            estimated,
+            full_load_specific_power_kw_per_m3_min: full,
+            rated_specific_power_kw_per_m3_min: rated,
+            specific_power_degradation_percent: full.map(|f| (f / rated - 1.0) * 100.0),
+            loaded_power_vs_rated_percent: s0
+                .mean_loaded_power_kw
+                .map(|p| (p / c.rated_power_kw - 1.0) * 100.0),
+            marginal_kw_per_m3_min: states::marginal_kw_per_m3_min(c),
+            trim: d.trim == Some(i),
+            heat_rejected_kwh: h.rejected_kwh,
+            recoverable_kwh: h.recoverable_kwh,
+            annual_heat_rejected_kwh: h.annual_rejected_kwh,
+            annual_recoverable_kwh: h.annual_recoverable_kwh,
+        });
+    }
+    comp_fig
+}

@@ -1,0 +1,427 @@
+/*!
+The audit's figures: one pass over the logged [`Frame`] that yields the [`Summary`] the summary page and
+`GET /api/v1/audits/{id}/summary` show (API.md "The audit's figures"), plus the decay events proposed as
+pressure-decay tests.
+
+[`data_figures`] makes every pass over the bins and keeps small per-room results ([`DataFigures`]);
+[`summary_of`] prices them, weighs their uncertainties, reads the field tests and proposes the measures,
+without touching a bin. Each rule is documented in its room and listed in [`Summary::methods`] /
+[`Summary::assumptions`]:
+
+- [`uncertainty`]: instrument accuracies ([`Accuracy`]) and their combination in quadrature;
+- `calendar`: weekday-hour cells in the site's time zone (`site.timezone`, IANA; UTC if unknown);
+- `machines`: per-compressor power, states, energy, the trim machine and the measures' inputs;
+- `specific_power`: system flow, interval-synchronous specific power, isothermal efficiency;
+- `production`: production hours from the schedule or detected from the demand;
+- `control`: the trim machine on a variable-speed curve;
+- `pressure`: pressure bands; `demand`: peaks, duration curve, weekday × hour profiles;
+- `baseline`: annualisation, cost and CO₂; `leaks`: the estimates and the adopted leak flow;
+- `heat`: heat rejected and recoverable and its value; `decay`: decay events in the logs;
+- `figures`: the summary's shape (serialised and read back typed).
+*/
+
+mod baseline;
+mod calendar;
+mod control;
+mod decay;
+mod demand;
+mod figures;
+mod heat;
+mod leaks;
+mod machines;
+mod pressure;
+mod production;
+mod specific_power;
+mod stats;
+#[cfg(test)]
+mod tests;
+pub mod uncertainty;
+
+use serde::{Deserialize, Serialize};
+
+pub use decay::{
+    decay_events, DecayEvent, DECAY_MAX_EVENTS, DECAY_MIN_DURATION_S, DECAY_MIN_FALL_BAR, DECAY_NOISE_BAR,
+};
+pub use figures::{
+    Baseline, CompressorFigures, Coverage, Demand, DurationPoint, FlowSource, HeatFigures,
+    LeakEstimateFigure, LeakFigures, Method, PartLoadPoint, Period, PowerSource, PressureFigures,
+    ProductionSource, Summary, SystemFigures,
+};
+pub use production::NON_PRODUCTION_SHARE_OF_PEAK;
+pub use uncertainty::Accuracy;
+
+use super::display::{self, Fmt};
+use super::model::{CompressorSpec, SiteSpec, WeeklySchedule};
+use super::recommend::{self, ControlCase, CostOverrides, RecommendInput};
+use super::series::{integrate, Frame};
+use super::units::{kw_per_100cfm, SiteAir, UnitSystem};
+
+use baseline::CellSums;
+use calendar::ts_string;
+use control::ControlCells;
+use demand::FlowTotals;
+use machines::{MachineCells, MachineEnergy};
+use specific_power::{CompressorAir, SystemSpecificPower};
+use uncertainty::{band, power_rel, quad};
+
+/// A leak estimate from an accepted field test.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LeakEstimate {
+    pub test_id: i64,
+    pub method: String,
+    /// At the operating or production pressure, m³/min free air.
+    pub leak_flow_m3_min: f64,
+}
+
+/// What the passes over the bins read besides the frame: the compressors and the site's air, clock
+/// and production schedule (the operating year is applied afterwards, to per-cell sums). [`data_figures`] is given nothing else, so an equal `DataSpec` over an equal frame
+/// gives an equal [`DataFigures`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct DataSpec {
+    pub compressors: Vec<CompressorSpec>,
+    pub air: SiteAir,
+    pub timezone: String,
+    pub production: Option<WeeklySchedule>,
+}
+
+impl DataSpec {
+    pub fn of(site: &SiteSpec, compressors: &[CompressorSpec]) -> Self {
+        Self {
+            compressors: compressors.to_vec(),
+            air: site.air,
+            timezone: site.timezone.clone(),
+            production: site.production.clone(),
+        }
+    }
+}
+
+/// Everything the summary is computed from besides the logged frame.
+#[derive(Debug, Clone)]
+pub struct AuditInput<'a> {
+    pub site: &'a SiteSpec,
+    pub compressors: &'a [CompressorSpec],
+    pub leak_estimates: Vec<LeakEstimate>,
+    pub costs: &'a CostOverrides,
+    pub accuracy: &'a Accuracy,
+    /// Stored what-if results of the present data (`recommend::ScenarioCase`).
+    pub scenarios: &'a [recommend::ScenarioCase],
+}
+
+/// The data-heavy half of the summary: every pass over the frame's bins, and nothing that prices,
+/// weighs an uncertainty or reads a field test. Small (a few kB whatever the log's length), so the
+/// service keeps it beside the frame: an edit of prices, costs, tests, scenarios or accuracies then
+/// re-runs only [`summary_of`], which never touches a bin.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DataFigures {
+    /// What it was computed from besides the frame.
+    pub spec: DataSpec,
+    period: Period,
+    tz_ok: bool,
+    /// Per compressor.
+    stats: Vec<Option<crate::core::states::StateStats>>,
+    power_logged: Vec<bool>,
+    energy: MachineEnergy,
+    /// Power, W, per compressor (`None`: not logged).
+    power_cells: Vec<Option<CellSums>>,
+    air: Vec<CompressorAir>,
+    machines: Vec<MachineCells>,
+    without_power: Vec<String>,
+    flow_source: FlowSource,
+    flow_estimated: bool,
+    totals: FlowTotals,
+    system: SystemSpecificPower,
+    rated_sp: Option<f64>,
+    trim: Option<usize>,
+    marginal: f64,
+    prod_share: f64,
+    q_prod: Option<f64>,
+    q_nonprod: Option<f64>,
+    /// 1 while some compressor runs (`None`: no states, every hour counts).
+    running_cells: Option<CellSums>,
+    control: Option<ControlCells>,
+    /// `uncertainty_bar` is set by [`summary_of`].
+    pressure: PressureFigures,
+    demand: Demand,
+    coverage: Coverage,
+}
+
+/// Every pass over the bins (the rooms' docs: energy, flow, specific power, states, production hours,
+/// annualisation, the control case, pressure and demand).
+pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
+    let cs = spec.compressors.as_slice();
+    let grid = frame.grid;
+    let n = grid.len;
+    let atm = spec.air.atmosphere;
+
+    let cal = calendar::calendar(&grid, &spec.timezone);
+    let logged = machines::logged(frame, cs);
+    let total_power = logged.total_power.as_deref();
+    let flow = specific_power::system_flow(frame, &logged);
+    let q = flow.values.as_deref();
+    let pressure = frame.header_pressure().map(|c| c.values.as_slice());
+
+    let energy = machines::energy(frame, &logged);
+    let totals = demand::flow_totals(&grid, q, total_power);
+    let system = specific_power::system_specific_power(n, total_power, q, pressure, atm);
+    let air = specific_power::compressor_air(frame, cs, &logged);
+    let rated_sp = specific_power::rated_specific_power(cs, &air);
+    let trim = machines::trim(cs, &logged.stats);
+    let marginal = machines::marginal(cs, trim);
+    let production = production::production(spec.production.as_ref(), &cal, q, total_power, n);
+    let running_cells = baseline::running_cells(&cal, &logged);
+    let power_cells = baseline::power_cells(&cal, &logged);
+    let machines = machines::machine_cells(cs, &logged, &cal, &production.is_prod, &air);
+    let control = control::control_case(&grid, cs, &logged, &cal, trim);
+    let pressure_fig = pressure::pressure_figures(pressure, atm, cs);
+    let timezone = if cal.tz_ok { spec.timezone.clone() } else { "UTC".into() };
+    let demand =
+        demand::demand(&cal, timezone, q, flow.estimated, total_power, &production, totals.peak_flow);
+    let coverage = Coverage {
+        power: total_power.map_or(0.0, |p| integrate(&grid, p).coverage),
+        flow: if flow.estimated { 0.0 } else { q.map_or(0.0, |q| integrate(&grid, q).coverage) },
+        pressure: pressure.map_or(0.0, |p| integrate(&grid, p).coverage),
+    };
+
+    DataFigures {
+        spec: spec.clone(),
+        period: Period {
+            start: ts_string(grid.start_ms),
+            end: ts_string(grid.end_ms()),
+            hours: grid.hours(),
+            step_s: grid.step_s(),
+            bins: n,
+        },
+        tz_ok: cal.tz_ok,
+        power_logged: logged.powers.iter().map(Option::is_some).collect(),
+        stats: logged.stats,
+        energy,
+        power_cells,
+        air,
+        machines,
+        without_power: logged.without_power,
+        flow_source: flow.source,
+        flow_estimated: flow.estimated,
+        totals,
+        system,
+        rated_sp,
+        trim,
+        marginal,
+        prod_share: production.share,
+        q_prod: production.q_prod,
+        q_nonprod: production.q_nonprod,
+        running_cells,
+        control,
+        pressure: pressure_fig,
+        demand,
+        coverage,
+    }
+}
+
+/// A method line of the summary.
+fn method(figure: &str, formula: &str, source: &str) -> Method {
+    Method { figure: figure.into(), formula: formula.into(), source: source.into() }
+}
+
+/// The summary from a [`DataFigures`] of the audit's frame: prices, costs, uncertainties, heat value,
+/// leaks (field tests and logs side by side) and the recommendations. Reads no bin, so it costs
+/// well under a millisecond whatever the log's length. `d` must be the data figures of the audit's frame
+/// under `DataSpec::of(input.site, input.compressors)`; the compressors and the site's air are
+/// taken from `d.spec`.
+pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
+    debug_assert!(d.spec == DataSpec::of(input.site, input.compressors), "data figures of other specs");
+    let (site, cs, acc) = (input.site, d.spec.compressors.as_slice(), input.accuracy);
+    let atm = d.spec.air.atmosphere;
+    let mut methods: Vec<Method> = Vec::new();
+    let mut assumptions: Vec<String> = Vec::new();
+    if !d.tz_ok {
+        assumptions
+            .push(format!("time zone {:?} unknown: weekday and hour profiles use UTC", d.spec.timezone));
+    }
+    if !d.without_power.is_empty() {
+        assumptions
+            .push(format!("no power logged for {}: left out of energy and cost", d.without_power.join(", ")));
+    }
+    let (flow_estimated, mean_flow) = (d.flow_estimated, d.totals.mean_flow);
+    if flow_estimated {
+        assumptions.push(
+            "no flow meter: flow estimated from compressor states and rated FAD (states module)".into(),
+        );
+    }
+    let u_flow = if flow_estimated { acc.flow_estimated_rel } else { acc.flow_rel };
+    let energy_kwh = &d.energy.energy_kwh;
+    let sys_energy: f64 = energy_kwh.iter().sum();
+    let sys_mean_kw: f64 = d.energy.mean_kw.iter().sum();
+    let u_power = if sys_energy > 0.0 {
+        cs.iter().zip(energy_kwh).map(|(c, e)| (power_rel(acc, c) * e).powi(2)).sum::<f64>().sqrt()
+            / sys_energy
+    } else {
+        acc.power_true_rel
+    };
+    methods.push(method(
+        "energy_kwh",
+        "Σ over compressors of ∫ P dt over logged bins",
+        "time-weighted integration of synchronised logger intervals (ISO 11011 measurement practice)",
+    ));
+    let (sp, iso) = (d.system.sp, d.system.iso);
+    let u_sp = quad(&[u_power, u_flow]);
+    let u_iso = {
+        let pm = d.system.iso_mean_pa;
+        let ln_r = (pm / atm.0).ln().max(1e-6);
+        quad(&[u_power, u_flow, acc.pressure_abs_bar() * 1e5 / pm / ln_r])
+    };
+    methods.push(method(
+        "specific_power_kw_per_m3_min",
+        "Σ P / Σ Q over bins where both power and flow exist (interval-synchronous)",
+        "ISO 1217 specific package input power, computed interval by interval",
+    ));
+    methods.push(method(
+        "isothermal_efficiency",
+        "Σ p_atm Q ln(p_header / p_atm) / Σ P over bins with power, flow and pressure",
+        "ideal-gas isothermal compression work (checked against the Python library fluids)",
+    ));
+    let (trim, marginal) = (d.trim, d.marginal);
+    methods.push(method(
+        "marginal_kw_per_m3_min",
+        "trim machine's part-load slope: load/unload (P_full - P_unl)/Q; modulation 0.30 P/Q; VSD curve slope; start/stop P/Q",
+        "US DOE compressed-air sourcebook: part-load behaviour by control",
+    ));
+
+    let annual = baseline::annual(site, d);
+    methods.extend(baseline::methods(&annual));
+    let baseline = baseline::baseline(site, &annual, d.totals.peak_kw, sp, u_power);
+
+    let heat_c = heat::compressor_heat(d, &annual.per_compressor_kwh);
+    let comp_fig = machines::compressor_figures(d, acc, &annual.per_compressor_kwh, &heat_c);
+    let machines = machines::machine_uses(d, annual.rule, &annual.per_compressor_kwh);
+    let heat = heat::heat_value(site, &heat_c);
+    if heat.as_process_water {
+        assumptions.push("no heating months given: recovered heat valued as year-round process water".into());
+    }
+    methods.push(method(
+        "recoverable_kwh",
+        "recoverable fraction (kind, cooling) × input energy; valued as fuel displaced in the months of use",
+        "US DOE heat-recovery fact sheet",
+    ));
+
+    let leaks = leaks::leak_figures(
+        &input.leak_estimates,
+        &leaks::LeakContext {
+            acc,
+            mean_flow,
+            q_prod: d.q_prod,
+            q_nonprod: d.q_nonprod,
+            production_share: d.prod_share,
+            flow_estimated,
+            u_flow,
+            marginal_kw_per_m3_min: marginal,
+            marginal_machine: trim.map(|t| cs[t].tag.as_str()),
+            annual_running_hours: annual.running_hours,
+            electricity_price_per_kwh: site.electricity_price_per_kwh,
+        },
+    );
+    methods.push(method(
+        "annual_leak_cost",
+        "leak flow × marginal kW/(m³/min) × annual running hours × price",
+        "US DOE sourcebook, leaks fact sheet; priced at the marginal (trim) specific power, not the average",
+    ));
+
+    let mut pressure_fig = d.pressure.clone();
+    pressure_fig.uncertainty_bar = acc.pressure_abs_bar();
+    methods.push(method(
+        "pressure bands",
+        "p5/p50/p95 of header pressure; low limit = lowest rated pressure - 1 bar",
+        "common practice",
+    ));
+
+    // The measures' words in SI for the JSON's strings (pages render the parts in their own units).
+    let si = Fmt::new(UnitSystem::Si, site.air.atmosphere);
+    let recs = recommend::recommend(
+        &RecommendInput {
+            site,
+            compressors: cs,
+            machines: &machines,
+            trim,
+            marginal_kw_per_m3_min: marginal,
+            annual_running_hours: annual.running_hours,
+            annual_energy_kwh: annual.kwh,
+            leak_flow_m3_min: leaks.adopted_leak_flow_m3_min,
+            mean_pressure_bar_g: pressure_fig.mean_bar_g,
+            control: d.control.as_ref().map(|c| ControlCase {
+                logged_annual_kwh: c.logged.annual(annual.rule) / 1000.0,
+                modelled_annual_kwh: c.modelled.annual(annual.rule) / 1000.0,
+                curve: c.curve.clone(),
+                simultaneous_cycling_share: c.simultaneous_cycling_share,
+            }),
+            heat: heat.case,
+            costs: input.costs,
+            scenarios: input.scenarios,
+        },
+        &|p| display::render_parts(p, &si),
+    );
+
+    assumptions.push(format!(
+        "instrument accuracy: true power ±{:.0} %, current-derived power ±{:.0} %, flow ±{:.0} % of reading, \
+         pressure ±{:.1} % of a {} bar span, system volume ±{:.0} %; combined in quadrature",
+        acc.power_true_rel * 100.0,
+        acc.power_current_rel * 100.0,
+        acc.flow_rel * 100.0,
+        acc.pressure_rel_of_span * 100.0,
+        acc.pressure_span_bar,
+        acc.volume_rel * 100.0
+    ));
+    assumptions.push(format!(
+        "delivery air {} K above inlet for the heat balance (common practice)",
+        crate::core::heat::DEFAULT_DELIVERY_TEMPERATURE_RISE_K
+    ));
+
+    let (e_lo, e_hi) = band(sys_energy, u_power);
+    let (p_lo, p_hi) = band(sys_mean_kw, u_power);
+    let (a_lo, a_hi) = band(d.totals.air_m3, u_flow);
+    let (q_lo, q_hi) = band(mean_flow, u_flow);
+    Summary {
+        period: d.period.clone(),
+        coverage: d.coverage.clone(),
+        flow_source: d.flow_source,
+        system: SystemFigures {
+            energy_kwh: sys_energy,
+            energy_kwh_low: e_lo,
+            energy_kwh_high: e_hi,
+            mean_power_kw: sys_mean_kw,
+            mean_power_kw_low: p_lo,
+            mean_power_kw_high: p_hi,
+            peak_power_kw: d.totals.peak_kw,
+            peak_power_window_s: d.totals.peak_kw_window,
+            air_m3: d.totals.air_m3,
+            air_m3_low: a_lo,
+            air_m3_high: a_hi,
+            mean_flow_m3_min: mean_flow,
+            mean_flow_m3_min_low: q_lo,
+            mean_flow_m3_min_high: q_hi,
+            peak_flow_m3_min: d.totals.peak_flow,
+            peak_flow_window_s: d.totals.peak_flow_window,
+            flow_source: d.flow_source,
+            estimated: flow_estimated,
+            specific_power_kw_per_m3_min: sp,
+            specific_power_kw_per_m3_min_low: sp.map(|s| s * (1.0 - u_sp)),
+            specific_power_kw_per_m3_min_high: sp.map(|s| s * (1.0 + u_sp)),
+            specific_power_kw_per_100cfm: sp.map(kw_per_100cfm),
+            specific_power_kwh_per_m3: sp.map(|s| s / 60.0),
+            rated_specific_power_kw_per_m3_min: d.rated_sp,
+            specific_power_degradation_percent: sp.zip(d.rated_sp).map(|(s, r)| (s / r - 1.0) * 100.0),
+            isothermal_efficiency: iso,
+            isothermal_efficiency_low: iso.map(|x| x * (1.0 - u_iso)),
+            isothermal_efficiency_high: iso.map(|x| x * (1.0 + u_iso)),
+            part_load_curve: d.system.part_load_curve.clone(),
+            compressors_without_power: d.without_power.clone(),
+        },
+        pressure: pressure_fig,
+        compressors: comp_fig,
+        demand: d.demand.clone(),
+        baseline,
+        leaks,
+        heat: heat.figures,
+        recommendations: recs,
+        methods,
+        assumptions,
+    }
+}

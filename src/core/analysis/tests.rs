@@ -1,0 +1,374 @@
+//! The audit's figures checked against hand calculations and published rules.
+
+use super::*;
+use crate::core::leaks::LeakShareBand;
+use crate::core::model::{Control, StorageSpec};
+use crate::core::recommend::tests::site;
+use crate::core::recommend::MeasureKind;
+use crate::core::safety::HEAT_RECOVERY_CAUTIONS;
+use crate::core::series::{FrameColumn, Grid, Signal};
+use crate::core::states::tests::spec;
+use crate::core::units::PressureAbs;
+
+/// A gauge pressure at the site as Pa(abs).
+fn bar_g_to_pa_abs(bar_g: f64, air: &SiteAir) -> f64 {
+    PressureAbs::from_bar_g(bar_g, air.atmosphere).0
+}
+
+/// The summary of a frame: [`data_figures`] then [`summary_of`], as the application runs them.
+fn summarize(frame: &Frame, input: &AuditInput) -> Summary {
+    summary_of(&data_figures(frame, &DataSpec::of(input.site, input.compressors)), input)
+}
+
+/// 2026-03-02T00:00:00Z, a Monday.
+const MONDAY_MS: i64 = 1_772_409_600_000;
+
+fn col(signal: Signal, compressor: Option<usize>, values: Vec<f32>) -> FrameColumn {
+    FrameColumn { signal, compressor, label: String::new(), values }
+}
+
+fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame, leaks: Vec<LeakEstimate>) -> Summary {
+    let costs = CostOverrides::default();
+    let acc = Accuracy::default();
+    let summary = summarize(
+        frame,
+        &AuditInput {
+            site: s,
+            compressors: cs,
+            leak_estimates: leaks,
+            costs: &costs,
+            scenarios: &[],
+            accuracy: &acc,
+        },
+    );
+    // Every summary a test builds reads back from its JSON unchanged.
+    assert_json_round_trip(&summary);
+    summary
+}
+
+/// `to_value(from_value(to_value(s))) == to_value(s)`: the cached summary read back typed
+/// writes the same JSON, name for name and number for number.
+fn assert_json_round_trip(s: &Summary) {
+    let json = serde_json::to_value(s).unwrap();
+    let back: Summary = serde_json::from_value(json.clone()).unwrap();
+    assert_eq!(serde_json::to_value(&back).unwrap(), json);
+}
+
+#[test]
+fn a_summary_reads_back_from_its_json_with_the_same_names_and_spellings() {
+    // The week with a leak test and a schedule: every enum of the summary is spelled in the JSON
+    // as the API names it (API.md), and the summary reads back from that JSON unchanged.
+    let mut s = site();
+    let (cs, frame) = week();
+    let r = run(
+        &s,
+        &cs,
+        &frame,
+        vec![LeakEstimate { test_id: 3, method: "bleed_down".into(), leak_flow_m3_min: 1.5 }],
+    );
+    let j = serde_json::to_value(&r).unwrap();
+    assert_eq!(j["flow_source"], "measured");
+    assert_eq!(j["system"]["flow_source"], "measured");
+    assert_eq!(j["compressors"][0]["control"], "load_unload");
+    assert_eq!(j["compressors"][0]["power_source"], "true_power");
+    assert_eq!(j["demand"]["production_source"], "detected");
+    assert_eq!(j["heat"]["use_kind"], "space_heating");
+    // 1.5 of a mean (80 x 10 + 88 x 2) / 168 = 5.81 m³/min is 26 %: poorly maintained.
+    assert_eq!(j["leaks"]["band"], "poorly_maintained");
+    assert_eq!(j["leaks"]["band_description"], LeakShareBand::PoorlyMaintained.describe());
+    assert_eq!(j["heat"]["cautions"].as_array().unwrap().len(), HEAT_RECOVERY_CAUTIONS.len());
+    let kinds: Vec<&str> =
+        j["recommendations"].as_array().unwrap().iter().map(|m| m["kind"].as_str().unwrap()).collect();
+    assert!(kinds.contains(&"repair_leaks") && kinds.contains(&"shut_off_idle"), "{kinds:?}");
+    assert!(j["recommendations"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .all(|m| m["implementation_cost_source"] == "default_estimate"));
+    // Estimated flow and a schedule spell the other variants.
+    s.heating_months.clear();
+    let mut week_hours = [[false; 24]; 7];
+    week_hours[0][8] = true;
+    s.production = Some(WeeklySchedule { hours: week_hours });
+    let no_flow = Frame { grid: frame.grid, columns: frame.columns[..1].to_vec() };
+    let j = serde_json::to_value(run(&s, &cs, &no_flow, vec![])).unwrap();
+    assert_eq!(j["flow_source"], "estimated_from_compressor_states");
+    assert_eq!(j["demand"]["production_source"], "schedule");
+    assert_eq!(j["heat"]["use_kind"], "process_water");
+}
+
+#[test]
+fn constant_power_and_flow_give_specific_power_p_over_q_and_isothermal_efficiency() {
+    // Specific power = P/Q (ISO 1217 specific package input power); isothermal power p1 V1 ln(p2/p1)
+    // (ideal-gas isothermal compression).
+    let s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let n = 360;
+    let p_abs = bar_g_to_pa_abs(7.0, &s.air);
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![
+            col(Signal::Power, Some(0), vec![50_000.0; n]),
+            col(Signal::Flow, None, vec![(8.0f64 / 60.0) as f32; n]),
+            col(Signal::Pressure, None, vec![p_abs as f32; n]),
+        ],
+    };
+    let r = run(&s, &cs, &frame, vec![]);
+    let sp = r.system.specific_power_kw_per_m3_min.unwrap();
+    assert!((sp - 50.0 / 8.0).abs() < 1e-5, "{sp}");
+    assert!((r.system.specific_power_kw_per_100cfm.unwrap() - 6.25 * 2.831_684_659_2).abs() < 1e-4);
+    assert!((r.system.energy_kwh - 50.0).abs() < 1e-6);
+    assert!((r.system.air_m3 - 480.0).abs() < 1e-3);
+    assert!((r.system.mean_flow_m3_min - 8.0).abs() < 1e-5);
+    let atm = s.air.atmosphere.0;
+    let iso = atm * (8.0 / 60.0) * (p_abs / atm).ln() / 50_000.0;
+    assert!((r.system.isothermal_efficiency.unwrap() - iso).abs() < 1e-5);
+    assert_eq!(r.flow_source, FlowSource::Measured);
+    assert!((r.pressure.mean_bar_g.unwrap() - 7.0).abs() < 1e-4);
+    assert_eq!(r.coverage.power, 1.0);
+    // Cost of air (US DOE compressed-air tip sheet 1): kW/100 cfm / 6 x price per 1000 ft³.
+    let per_kft3 = r.system.specific_power_kw_per_100cfm.unwrap() / 6.0 * 0.15;
+    assert!((r.baseline.cost_per_1000_ft3.unwrap() - per_kft3).abs() < 1e-4);
+    // Uncertainty: power ±1 % and flow ±3 % in quadrature on the ratio.
+    let u = (0.01f64.powi(2) + 0.03f64.powi(2)).sqrt();
+    assert!((r.system.specific_power_kw_per_m3_min_high.unwrap() / sp - 1.0 - u).abs() < 1e-9);
+    // The API's names hold.
+    let j = serde_json::to_value(&r).unwrap();
+    for path in [
+        "/period/start",
+        "/period/end",
+        "/period/hours",
+        "/system/energy_kwh",
+        "/system/mean_power_kw",
+        "/system/air_m3",
+        "/system/mean_flow_m3_min",
+        "/system/peak_flow_m3_min",
+        "/system/specific_power_kw_per_m3_min",
+        "/system/isothermal_efficiency",
+        "/pressure/mean_bar_g",
+        "/pressure/min_bar_g",
+        "/pressure/max_bar_g",
+        "/compressors/0/tag",
+        "/compressors/0/energy_kwh",
+        "/compressors/0/mean_power_kw",
+        "/compressors/0/loaded_fraction",
+        "/compressors/0/unloaded_fraction",
+        "/compressors/0/off_fraction",
+        "/compressors/0/cycles_per_hour",
+        "/leaks/estimates",
+        "/heat/heat_rejected_kwh",
+        "/heat/recoverable_kwh",
+        "/recommendations",
+    ] {
+        assert!(j.pointer(path).is_some(), "missing {path}");
+    }
+    assert_eq!(j["period"]["start"], "2026-03-02T00:00:00Z");
+}
+
+#[test]
+fn pressure_bands_and_the_duration_curve_come_from_the_sorted_bins() {
+    // 201 pressures 6.00..8.00 bar(g) in steps of 0.01, logged out of order, plus missing bins:
+    // p5/p50/p95 of an evenly spaced set are its values at 5/50/95 % of the range (the
+    // percentile's linear interpolation, common practice).
+    let s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)]; // rated 7.5 bar(g): low limit 6.5
+    let n = 210;
+    let mut pressure = vec![f32::NAN; n];
+    let mut flow = vec![f32::NAN; n];
+    for k in 0..201usize {
+        let i = (k * 37) % 201; // every index once, shuffled
+        pressure[i] = bar_g_to_pa_abs(6.0 + 0.01 * k as f64, &s.air) as f32;
+        flow[i] = (k as f32 / 10.0) / 60.0; // 0.0..20.0 m³/min free air
+    }
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![
+            col(Signal::Power, Some(0), vec![40_000.0; n]),
+            col(Signal::Flow, None, flow),
+            col(Signal::Pressure, None, pressure),
+        ],
+    };
+    let r = run(&s, &cs, &frame, vec![]);
+    let p = &r.pressure;
+    let close = |a: Option<f64>, b: f64| (a.unwrap() - b).abs() < 1e-4;
+    assert!(close(p.min_bar_g, 6.0) && close(p.max_bar_g, 8.0), "{p:?}");
+    assert!(close(p.p5_bar_g, 6.1) && close(p.p50_bar_g, 7.0) && close(p.p95_bar_g, 7.9), "{p:?}");
+    assert!(close(p.mean_bar_g, 7.0), "{p:?}");
+    // Population standard deviation of 201 evenly spaced values: 0.01 × sqrt((201² - 1) / 12).
+    assert!(close(p.std_dev_bar, 0.01 * ((201.0f64 * 201.0 - 1.0) / 12.0).sqrt()), "{p:?}");
+    // Below 6.5: 6.00..6.49 (50 values); above 7.5: 7.51..8.00 (50 values).
+    assert!(close(p.share_below_low_limit, 50.0 / 201.0), "{p:?}");
+    assert!(close(p.share_above_highest_rated, 50.0 / 201.0), "{p:?}");
+    let d = &r.demand.flow_duration_curve;
+    assert_eq!(d.len(), 50);
+    assert!((d[0].flow_m3_min - 20.0).abs() < 1e-4 && d[49].flow_m3_min.abs() < 1e-6, "{d:?}");
+    assert!(d.windows(2).all(|w| w[0].flow_m3_min >= w[1].flow_m3_min), "falls with the share of time");
+    // Halfway through the time the flow is the median, 10 m³/min.
+    assert!((d[24].flow_m3_min - 10.0).abs() < 0.25, "{:?}", d[24]);
+}
+
+#[test]
+fn gaps_are_skipped_and_reported_in_the_coverage() {
+    let s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let n = 360;
+    let power: Vec<f32> = (0..n).map(|i| if i < 180 { 40_000.0 } else { f32::NAN }).collect();
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![col(Signal::Power, Some(0), power)],
+    };
+    let r = run(&s, &cs, &frame, vec![]);
+    assert_eq!(r.coverage.power, 0.5);
+    assert!((r.system.energy_kwh - 20.0).abs() < 1e-6); // 40 kW over the logged half hour
+    assert!((r.system.mean_power_kw - 40.0).abs() < 1e-6); // the gap is not counted as zero
+    assert_eq!(r.coverage.flow, 0.0);
+    assert_eq!(r.flow_source, FlowSource::EstimatedFromCompressorStates);
+    assert!(r.system.estimated);
+    // 40 kW is loaded for this machine: estimated flow is its rated 9.5 m³/min.
+    assert!((r.system.mean_flow_m3_min - 9.5).abs() < 1e-5);
+    assert!(!r.pressure.logged);
+}
+
+/// A week from Monday 00:00 UTC on 5-min bins: weekdays 06-22 h 60 kW / 10 m³/min, otherwise
+/// 20 kW / 2 m³/min.
+fn week() -> (Vec<CompressorSpec>, Frame) {
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let n = 7 * 24 * 12;
+    let prod = |i: usize| {
+        let (d, h) = (i / 288, (i % 288) / 12);
+        d < 5 && (6..22).contains(&h)
+    };
+    let power = (0..n).map(|i| if prod(i) { 60_000.0 } else { 20_000.0 }).collect();
+    let flow = (0..n).map(|i| if prod(i) { 10.0f32 / 60.0 } else { 2.0 / 60.0 }).collect();
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 300_000, len: n },
+        columns: vec![col(Signal::Power, Some(0), power), col(Signal::Flow, None, flow)],
+    };
+    (cs, frame)
+}
+
+#[test]
+fn a_logged_week_is_profiled_by_weekday_and_hour_and_annualised_over_52_weeks() {
+    let s = site();
+    let (cs, frame) = week();
+    let r = run(
+        &s,
+        &cs,
+        &frame,
+        vec![LeakEstimate { test_id: 3, method: "bleed_down".into(), leak_flow_m3_min: 1.5 }],
+    );
+    let wh = &r.demand.weekday_hour_mean_flow_m3_min;
+    assert!((wh[0][10].unwrap() - 10.0).abs() < 1e-5);
+    assert!((wh[0][3].unwrap() - 2.0).abs() < 1e-5);
+    assert!((wh[5][10].unwrap() - 2.0).abs() < 1e-5);
+    // API.md: the logged pattern over 52 weeks: (80 h x 60 kW + 88 h x 20 kW) x 52.
+    let annual = (80.0 * 60.0 + 88.0 * 20.0) * 52.0;
+    assert!((r.baseline.annual_energy_kwh - annual).abs() < 1e-3, "{}", r.baseline.annual_energy_kwh);
+    assert!((r.baseline.annual_cost - annual * 0.15).abs() < 1e-3);
+    assert!((r.baseline.annual_co2_t - annual * 0.4 / 1000.0).abs() < 1e-6);
+    // Detected production: 2 m³/min is 20 % of the 10 m³/min peak hour, below 35 %.
+    assert_eq!(r.demand.production_source, ProductionSource::Detected);
+    assert!((r.demand.production_share_of_time - 80.0 / 168.0).abs() < 1e-12);
+    assert!((r.demand.non_production_mean_flow_m3_min.unwrap() - 2.0).abs() < 1e-5);
+    // Leaks: the test is adopted; leak energy at the load/unload marginal power (US DOE sourcebook, leaks fact sheet)
+    // over the hours the machine runs (all 168 h a week).
+    assert_eq!(r.leaks.adopted_leak_flow_m3_min, Some(1.5));
+    let marginal = 55.0 * 0.75 / 9.5;
+    assert!((r.leaks.marginal_kw_per_m3_min - marginal).abs() < 1e-12);
+    assert!((r.baseline.annual_running_hours - 168.0 * 52.0).abs() < 1e-6);
+    assert!((r.leaks.annual_leak_energy_kwh.unwrap() - 1.5 * marginal * 168.0 * 52.0).abs() < 1e-3);
+    let mean_q = (80.0 * 10.0 + 88.0 * 2.0) / 168.0;
+    assert!((r.leaks.share_of_mean_demand.unwrap() - 1.5 / mean_q).abs() < 1e-5);
+    assert_eq!(r.leaks.estimates.len(), 2); // the test and the automatic non-production flow
+                                            // The week's unloaded time out of production shows up as a shut-off measure.
+    assert!(r.recommendations.iter().any(|x| x.kind == MeasureKind::ShutOffIdle));
+    assert!(r.recommendations.iter().any(|x| x.kind == MeasureKind::RepairLeaks));
+    for w in r.recommendations.windows(2) {
+        assert!(w[0].simple_payback_years <= w[1].simple_payback_years);
+    }
+}
+
+#[test]
+fn weekday_hours_follow_the_site_time_zone() {
+    // Vienna is UTC+1 in early March (before the end-of-March change): UTC 06:00 is 07:00 local.
+    let mut s = site();
+    s.timezone = "Europe/Vienna".into();
+    let (cs, frame) = week();
+    let r = run(&s, &cs, &frame, vec![]);
+    let wh = &r.demand.weekday_hour_mean_flow_m3_min;
+    assert!((wh[0][6].unwrap() - 2.0).abs() < 1e-5);
+    assert!((wh[0][7].unwrap() - 10.0).abs() < 1e-5);
+    assert!((wh[0][22].unwrap() - 10.0).abs() < 1e-5);
+    assert!((wh[0][23].unwrap() - 2.0).abs() < 1e-5);
+}
+
+#[test]
+fn operating_hours_override_scales_the_mean_power() {
+    let mut s = site();
+    s.operating_hours_per_year = Some(4000.0);
+    let (cs, frame) = week();
+    let r = run(&s, &cs, &frame, vec![]);
+    let mean_kw = (80.0 * 60.0 + 88.0 * 20.0) / 168.0;
+    assert!((r.baseline.annual_energy_kwh - mean_kw * 4000.0).abs() < 1e-3);
+}
+
+#[test]
+fn a_decay_with_every_compressor_off_is_found_and_its_leak_recovered() {
+    // Choked leaks: p = p0 e^(-t/tau), Q_FAD = V p / (p_atm tau) (ideal-gas choked flow).
+    let s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let storage = StorageSpec { receivers_m3: vec![3.0], other_volume_m3: 0.0 };
+    let n = 360; // 1 h at 10 s
+    let p0 = bar_g_to_pa_abs(7.0, &s.air);
+    let tau = 1800.0;
+    let off = |i: usize| (120..240).contains(&i); // 20 min off
+    let power = (0..n).map(|i| if off(i) { 0.0 } else { 55_000.0 }).collect();
+    let pressure = (0..n)
+        .map(|i| if off(i) { (p0 * (-((i - 120) as f64 * 10.0) / tau).exp()) as f32 } else { p0 as f32 })
+        .collect();
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![col(Signal::Power, Some(0), power), col(Signal::Pressure, None, pressure)],
+    };
+    let ev = decay_events(&frame, &cs, &storage, &s.air);
+    assert_eq!(ev.len(), 1, "{ev:?}");
+    let e = &ev[0];
+    assert!(e.all_off);
+    assert!((e.duration_s - 1190.0).abs() < 1e-9);
+    assert!((e.start_pressure_bar_g - 7.0).abs() < 1e-3);
+    let expect = 3.0 * p0 / (s.air.atmosphere.0 * tau) * 60.0;
+    assert!((e.leak_flow_at_start_pressure_m3_min - expect).abs() / expect < 1e-3, "{e:?}");
+    assert!(e.fit_r2 > 0.999);
+    assert_eq!(e.start, "2026-03-02T00:20:00Z");
+}
+
+#[test]
+fn marginal_power_is_the_trim_machine_not_the_plant_average() {
+    // A base-loaded machine (always loaded) and a load/unload trim: the trim's part-load slope
+    // prices leaks (US DOE compressed-air sourcebook, leaks fact sheet).
+    let s = site();
+    let cs =
+        vec![spec("BASE", Control::LoadUnload, 90.0, 16.0), spec("TRIM", Control::LoadUnload, 37.0, 6.0)];
+    let n = 1080;
+    let trim: Vec<f32> = (0..n).map(|i| if i % 20 < 4 { 37_000.0 } else { 9_250.0 }).collect();
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![col(Signal::Power, Some(0), vec![90_000.0; n]), col(Signal::Power, Some(1), trim)],
+    };
+    let r = run(
+        &s,
+        &cs,
+        &frame,
+        vec![LeakEstimate { test_id: 1, method: "load_unload".into(), leak_flow_m3_min: 1.2 }],
+    );
+    assert_eq!(r.leaks.marginal_machine.as_deref(), Some("TRIM"));
+    assert!((r.leaks.marginal_kw_per_m3_min - 37.0 * 0.75 / 6.0).abs() < 1e-12);
+    assert!(r.compressors[1].trim && !r.compressors[0].trim);
+    assert!((r.compressors[1].loaded_fraction - 0.2).abs() < 1e-12);
+    // Load/unload trim at 20 % load: a VSD trim is proposed.
+    assert!(
+        r.recommendations.iter().any(|x| x.kind == MeasureKind::ImproveControl),
+        "{:?}",
+        r.recommendations
+    );
+}

@@ -1,0 +1,90 @@
+/*!
+Instrument accuracy and how the summary's uncertainties combine: each headline figure has `_low` /
+`_high` at ± one combined standard uncertainty, the relative uncertainties of a product or ratio
+combined in quadrature (root sum of squares, the JCGM 100:2008 "GUM" law of propagation for
+uncorrelated inputs). The field tests (`core::fieldtest`) read the same accuracies, so this room is the
+one place both depend on.
+*/
+
+use serde::{Deserialize, Serialize};
+
+use crate::core::model::CompressorSpec;
+
+/// Default instrument accuracies (fractions of reading unless named otherwise).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
+pub struct Accuracy {
+    /// True-power logger (common practice: class 1 meters).
+    pub power_true_rel: f64,
+    /// Power from current with an assumed power factor.
+    pub power_current_rel: f64,
+    /// Flow meter, of reading.
+    pub flow_rel: f64,
+    /// Flow estimated from compressor states and rated FAD (our assumption: rated FAD of a worn
+    /// machine and the state reading together).
+    pub flow_estimated_rel: f64,
+    /// Pressure transmitter span, bar, and accuracy as a fraction of span.
+    pub pressure_span_bar: f64,
+    pub pressure_rel_of_span: f64,
+    /// System volume for bleed-down and decay tests.
+    pub volume_rel: f64,
+    /// Tags of compressors whose power is derived from current.
+    pub current_derived_power: Vec<String>,
+}
+
+impl Default for Accuracy {
+    fn default() -> Self {
+        Self {
+            power_true_rel: 0.01,
+            power_current_rel: 0.05,
+            flow_rel: 0.03,
+            flow_estimated_rel: 0.10,
+            pressure_span_bar: 16.0,
+            pressure_rel_of_span: 0.005,
+            volume_rel: 0.20,
+            current_derived_power: Vec::new(),
+        }
+    }
+}
+
+impl Accuracy {
+    /// Pressure uncertainty, bar (0.5 % of a 16 bar span = 0.08 bar by default).
+    pub fn pressure_abs_bar(&self) -> f64 {
+        self.pressure_span_bar * self.pressure_rel_of_span
+    }
+}
+
+/// Default relative uncertainty (1 standard uncertainty, as a fraction) of a leak estimate by method,
+/// for estimates whose inputs are no longer at hand: bleed-down and pressure decay the volume (±20 %)
+/// with the pressure readings for a 1.5 bar fall; load/unload the rated FAD (±5 %, ISO 1217 capacity
+/// tolerance, from memory) with ±2 s timing on a 200 s cycle (common practice); idle flow the meter.
+pub fn default_relative_uncertainty(method: &str, acc: &Accuracy) -> f64 {
+    match method {
+        "bleed_down" | "pressure_decay" => {
+            let dp = std::f64::consts::SQRT_2 * acc.pressure_abs_bar() / 1.5;
+            quad(&[acc.volume_rel, dp])
+        }
+        "load_unload" => quad(&[0.05, 2.0 / 40.0]),
+        "idle_flow" => acc.flow_rel,
+        _ => quad(&[acc.volume_rel, acc.flow_rel]),
+    }
+}
+
+/// Root sum of squares.
+pub fn quad(parts: &[f64]) -> f64 {
+    parts.iter().map(|x| x * x).sum::<f64>().sqrt()
+}
+
+/// `v` ± the relative uncertainty `rel`: (low, high).
+pub(super) fn band(v: f64, rel: f64) -> (f64, f64) {
+    (v * (1.0 - rel), v * (1.0 + rel))
+}
+
+/// Relative uncertainty of a compressor's logged power (current-derived or true power).
+pub(super) fn power_rel(acc: &Accuracy, c: &CompressorSpec) -> f64 {
+    if acc.current_derived_power.contains(&c.tag) {
+        acc.power_current_rel
+    } else {
+        acc.power_true_rel
+    }
+}

@@ -1,0 +1,55 @@
+/*!
+The safety cautions, in one place: shown wherever a user plans a test or a measure that touches
+pressure equipment or heat. The wording is common practice (isolation and lockout, vessel ratings,
+drains and relief valves, hot surfaces, interlocks) and always defers to local codes and licensed
+practice; it is not taken from any one standard.
+
+- [`PRESSURE_TEST_CAUTIONS`]: before a bleed-down or pressure-decay test (`core::leaks`,
+  `core::fieldtest`), and on the field-test page.
+- [`HEAT_RECOVERY_CAUTIONS`]: wherever heat recovery is proposed (the summary's `heat.cautions`), and
+  [`HEAT_RECOVERY_MEASURE_CAUTION`] as the one-line caution of the `recover_heat` measure.
+*/
+
+/// Shown wherever a user plans a bleed-down or pressure-decay test.
+pub const PRESSURE_TEST_CAUTIONS: &[&str] = &[
+    "isolate and lock out the compressors as the site's procedures require before the test",
+    "never exceed the rated pressure of any receiver or vessel in the system",
+    "keep clear of drains and relief valves while the system is under pressure",
+    "follow local pressure-equipment codes and licensed practice; this tool does not replace them",
+];
+
+/// Shown wherever a user plans a heat-recovery measure (the summary's `heat.cautions`).
+pub const HEAT_RECOVERY_CAUTIONS: &[&str] = &[
+    "hot oil, hot ducts and water above 60 °C can burn: guard and insulate them",
+    "interlock the recovery circuit so that a blocked or failed circuit never stops the \
+     compressor's own cooling",
+    "follow local codes and licensed practice for pressure equipment, potable water and \
+     ventilation",
+];
+
+/// The `recover_heat` measure's caution, in one line.
+pub const HEAT_RECOVERY_MEASURE_CAUTION: &str =
+    "hot oil, hot ducts and water above 60 °C; interlock the recovery \
+     circuit so a blocked circuit never stops the compressor's own cooling; defer to local codes and \
+     licensed practice";
+
+/// [`HEAT_RECOVERY_CAUTIONS`] as owned strings, as the summary carries them.
+pub fn heat_recovery_cautions() -> Vec<String> {
+    HEAT_RECOVERY_CAUTIONS.iter().map(|c| c.to_string()).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn every_caution_list_defers_to_local_codes() {
+        // The rule of the project: cautions defer to local codes and licensed practice.
+        for list in [PRESSURE_TEST_CAUTIONS, HEAT_RECOVERY_CAUTIONS] {
+            assert!(list.iter().any(|c| c.contains("local") && c.contains("licensed practice")), "{list:?}");
+        }
+        assert!(HEAT_RECOVERY_MEASURE_CAUTION.contains("local codes and licensed practice"));
+        assert!(HEAT_RECOVERY_MEASURE_CAUTION.contains("60 °C"));
+        assert_eq!(heat_recovery_cautions().len(), HEAT_RECOVERY_CAUTIONS.len());
+    }
+}
