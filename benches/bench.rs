@@ -465,18 +465,17 @@ fn library_import(dir: &Path, csv: &Path) -> LibraryRun {
     let rt = tokio::runtime::Builder::new_multi_thread().enable_all().build().expect("runtime");
     rt.block_on(async {
         let db = dir.join("library.sqlite");
-        let pool = airledger::store::open(&db).await.expect("open db");
+        let app = airledger::app::App::open(&db, airledger::app::Config::beside(&db)).await.expect("open db");
         let patch: airledger::records::SitePatch = serde_json::from_value(json!({})).expect("site");
-        let audit = airledger::service::create_audit(&pool, "bench plant", &patch).await.expect("audit");
+        let audit = app.create_audit("bench plant", &patch).await.expect("audit");
         for c in compressors() {
             let input: airledger::records::CompressorInput = serde_json::from_value(c).expect("compressor");
-            airledger::service::save_compressor(&pool, audit, 0, &input).await.expect("compressor");
+            app.save_compressor(audit, 0, &input).await.expect("compressor");
         }
         let m: Mapping = serde_json::from_value(mapping()).expect("mapping");
         let progress = Arc::new(airledger::store::import::Progress::default());
         let t = Instant::now();
-        let out =
-            airledger::service::import_path(&pool, audit, csv, m, false, progress).await.expect("import");
+        let out = app.import_path(audit, csv, m, false, progress).await.expect("import");
         let took = t.elapsed();
         let readings = match out {
             airledger::store::import::ImportOutcome::Created(s) => s.readings,
@@ -484,23 +483,24 @@ fn library_import(dir: &Path, csv: &Path) -> LibraryRun {
         };
         // The cold summary's parts: the frame (chunks decoded and aligned), then everything.
         let t = Instant::now();
-        let b = airledger::service::bundle(&pool, audit).await.expect("bundle");
+        let b = app.bundle(audit).await.expect("bundle");
         let ids: Vec<i64> = b.compressors.iter().map(|c| c.id).collect();
-        let frame = airledger::store::read::load_frame(&pool, &b.channels, &ids, None).await.expect("frame");
+        let frame =
+            airledger::store::read::load_frame(app.db(), &b.channels, &ids, None).await.expect("frame");
         let frame_took = t.elapsed();
         let bins = frame.as_ref().map(|f| f.columns.first().map_or(0, |c| c.values.len())).unwrap_or(0);
         drop(frame);
         let t = Instant::now();
-        airledger::service::summary_json(&pool, audit, None).await.expect("summary");
+        app.summary(audit, None).await.expect("summary");
         let summary_took = t.elapsed();
         // A price edit bumps the revision; the summary is priced again from the kept data figures.
         let price: airledger::records::SitePatch =
             serde_json::from_value(json!({"electricity_price_per_kwh": 0.19})).expect("site");
-        airledger::service::update_audit(&pool, audit, None, None, None, &price).await.expect("edit");
+        app.update_audit(audit, None, None, None, &price).await.expect("edit");
         let t = Instant::now();
-        airledger::service::summary_json(&pool, audit, None).await.expect("summary");
+        app.summary(audit, None).await.expect("summary");
         let analysis = t.elapsed();
-        pool.close().await;
+        app.close().await;
         LibraryRun {
             import: took,
             readings,
@@ -958,7 +958,7 @@ fn main() {
         "",
     );
     table.add(
-        "summary cold, library: summary_json total (frame + analysis + cache)",
+        "summary cold, library: App::summary total (frame + analysis + cache)",
         format!("{:.1} ms", lib.summary.as_secs_f64() * 1000.0),
         "",
     );

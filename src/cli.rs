@@ -12,9 +12,9 @@ use std::sync::Arc;
 
 use clap::{Parser, Subcommand};
 
-use crate::service;
+use crate::app::{self, App};
 use crate::store;
-use crate::web::{self, AppState, Config};
+use crate::web::{self, AppState};
 
 #[derive(Parser)]
 #[command(name = "airledger", version, about = "Local dashboard for compressed-air system audits")]
@@ -125,35 +125,37 @@ fn check_access(bind: &SocketAddr, token: &Option<String>) -> anyhow::Result<()>
     Ok(())
 }
 
-fn config(db: &Path, max_upload_mb: u64, token: Option<String>) -> Config {
-    let spool_dir =
-        db.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new(".")).join(".airledger-spool");
-    Config { db_path: db.to_path_buf(), max_upload_bytes: max_upload_mb * 1024 * 1024, spool_dir, token }
+/// The application over the database file, its spool folder beside it.
+async fn open(db: &Path) -> anyhow::Result<App> {
+    Ok(App::open(db, app::Config::beside(db)).await?)
+}
+
+fn web_config(max_upload_mb: u64, token: Option<String>) -> web::Config {
+    web::Config { max_upload_bytes: max_upload_mb * 1024 * 1024, token }
 }
 
 async fn run(command: Command) -> anyhow::Result<()> {
     match command {
         Command::Serve { db, bind, max_upload_mb, token } => {
             check_access(&bind, &token)?;
-            let pool = store::open(&db).await?;
-            web::run_server(AppState::new(pool, config(&db, max_upload_mb, token)), bind).await
+            let app = open(&db).await?;
+            web::run_server(AppState::new(app, web_config(max_upload_mb, token)), bind).await
         }
         Command::Demo { db, bind, token, build_only } => {
             if !build_only {
                 check_access(&bind, &token)?;
             }
-            let pool = store::open(&db).await?;
-            let cfg = config(&db, 1024, token);
-            let id = service::ensure_demo(&pool, &cfg.spool_dir).await?;
+            let app = open(&db).await?;
+            let id = app.ensure_demo().await?;
             println!("demo plant: audit {id} in {}", db.display());
             if build_only {
                 return Ok(());
             }
             println!("report: http://{bind}/audits/{id}/report");
-            web::run_server(AppState::new(pool, cfg), bind).await
+            web::run_server(AppState::new(app, web_config(1024, token)), bind).await
         }
         Command::Import { db, audit, mapping, replace, files } => {
-            let pool = store::open(&db).await?;
+            let app = open(&db).await?;
             let text = std::fs::read_to_string(&mapping)?;
             let mapping: crate::ingest::Mapping = serde_json::from_str(&text)
                 .map_err(|e| anyhow::anyhow!("the mapping {} is not valid: {e}", mapping.display()))?;
@@ -172,8 +174,7 @@ async fn run(command: Command) -> anyhow::Result<()> {
                         let _ = std::io::stderr().flush();
                     }
                 });
-                let outcome =
-                    service::import_path(&pool, audit, &f, mapping.clone(), replace, progress).await;
+                let outcome = app.import_path(audit, &f, mapping.clone(), replace, progress).await;
                 ticker.abort();
                 eprintln!();
                 match outcome? {
@@ -197,14 +198,14 @@ async fn run(command: Command) -> anyhow::Result<()> {
                 }
             }
             // The summary now, so that the server's first report reads it from the cache.
-            service::summary_json(&pool, audit, None).await.map_err(|e| anyhow::anyhow!("{e}"))?;
+            app.summary(audit, None).await?;
             Ok(())
         }
         Command::Report { db, audit, format, out } => {
-            let pool = store::open(&db).await?;
+            let app = open(&db).await?;
             let text = match format.as_str() {
-                "json" => serde_json::to_string_pretty(&service::summary_json(&pool, audit, None).await?)?,
-                "html" => crate::web::report::findings_html(&pool, audit).await?,
+                "json" => serde_json::to_string_pretty(&app.summary(audit, None).await?.to_json()?)?,
+                "html" => crate::web::pages::findings::findings_html(&app, audit).await?,
                 other => anyhow::bail!("unknown format {other:?}: use json or html"),
             };
             match out {
@@ -214,11 +215,11 @@ async fn run(command: Command) -> anyhow::Result<()> {
             Ok(())
         }
         Command::Backup { db, out } => {
-            let pool = store::open(&db).await?;
+            let app = open(&db).await?;
             if out.exists() {
                 anyhow::bail!("{} exists already; choose a new file", out.display());
             }
-            store::backup(&pool, &out).await?;
+            app.backup(&out).await?;
             println!("backup written to {}", out.display());
             Ok(())
         }

@@ -9,17 +9,18 @@ The module map (data takes one way: file -> `ingest` -> `store` -> `core` -> `we
   readings, the data-quality report.
 - [`store`]: SQLite through sqlx: audits, chunked readings, rollups, field tests, caches.
 - [`records`]: the editable records (site, compressors, receivers) and their validation.
-- [`service`]: the few async operations that join store and core (the summary, field tests).
+- [`app`]: the application object, [`app::App`]: the database and everything kept in memory around
+  it (the summary and its caches, imports, field tests, scenarios, the demo install).
 - [`web`]: axum router, pages (askama) and the JSON API.
 - [`demo`]: the invented demo plant, simulated and written as logger files.
 - [`cli`]: the command line.
 */
 
+pub mod app;
 pub mod cli;
 pub mod core;
 pub mod demo;
 pub mod ingest;
 pub mod records;
-pub mod service;
 pub mod store;
 pub mod web;

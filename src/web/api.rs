@@ -15,9 +15,6 @@ use crate::core::fieldtest::parse_time_ms;
 use crate::core::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature};
 use crate::core::{leaks, thermo};
 use crate::records::{CompressorInput, ReceiverInput, SitePatch};
-use crate::service;
-use crate::store::audits;
-use crate::store::read;
 
 /// `Json` whose rejection is our error shape: unreadable JSON is 400, wrong types or missing fields 422.
 pub struct ApiJson<T>(pub T);
@@ -58,7 +55,7 @@ pub async fn not_found() -> AppError {
 }
 
 pub async fn list_audits(State(st): State<AppState>) -> Result<Response, AppError> {
-    let list = audits::list_audits(&st.db).await?;
+    let list = st.app.list_audits().await?;
     Ok(json(StatusCode::OK, &serde_json::json!({ "audits": list })))
 }
 
@@ -78,24 +75,18 @@ pub async fn create_audit(
     State(st): State<AppState>,
     ApiJson(body): ApiJson<NewAudit>,
 ) -> Result<Response, AppError> {
-    let id = service::create_audit(&st.db, &body.name, &body.site).await?;
+    let id = st.app.create_audit(&body.name, &body.site).await?;
     if body.auditor.is_some() || body.notes.is_some() {
-        service::update_audit(
-            &st.db,
-            id,
-            None,
-            body.auditor.as_deref(),
-            body.notes.as_deref(),
-            &SitePatch::default(),
-        )
-        .await?;
+        st.app
+            .update_audit(id, None, body.auditor.as_deref(), body.notes.as_deref(), &SitePatch::default())
+            .await?;
     }
     Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": id })))
 }
 
 /// The audit as the API shows it: site (with the atmosphere that follows from it), equipment, files.
 pub async fn get_audit(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
-    let b = service::bundle(&st.db, id).await?;
+    let b = st.app.bundle(id).await?;
     let site = &b.audit.site;
     let storage = b.storage();
     Ok(json(
@@ -153,9 +144,8 @@ pub async fn patch_audit(
     Path(id): Path<i64>,
     ApiJson(p): ApiJson<AuditPatch>,
 ) -> Result<Response, AppError> {
-    service::update_audit(&st.db, id, p.name.as_deref(), p.auditor.as_deref(), p.notes.as_deref(), &p.site)
-        .await?;
-    service::refresh_summary_in_background(&st.db, id, "site edit");
+    st.app.update_audit(id, p.name.as_deref(), p.auditor.as_deref(), p.notes.as_deref(), &p.site).await?;
+    st.app.refresh_summary_in_background(id, "site edit");
     get_audit(State(st), Path(id)).await
 }
 
@@ -164,8 +154,8 @@ pub async fn add_compressor(
     Path(id): Path<i64>,
     ApiJson(c): ApiJson<CompressorInput>,
 ) -> Result<Response, AppError> {
-    let cid = service::save_compressor(&st.db, id, 0, &c).await?;
-    service::refresh_summary_in_background(&st.db, id, "compressor added");
+    let cid = st.app.save_compressor(id, 0, &c).await?;
+    st.app.refresh_summary_in_background(id, "compressor added");
     Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": cid })))
 }
 
@@ -174,12 +164,12 @@ pub async fn update_compressor(
     Path((id, cid)): Path<(i64, i64)>,
     ApiJson(c): ApiJson<CompressorInput>,
 ) -> Result<Response, AppError> {
-    let b = service::bundle(&st.db, id).await?;
+    let b = st.app.bundle(id).await?;
     if !b.compressors.iter().any(|x| x.id == cid) {
         return Err(AppError::NotFound(format!("audit {id} has no compressor {cid}")));
     }
-    service::save_compressor(&st.db, id, cid, &c).await?;
-    service::refresh_summary_in_background(&st.db, id, "compressor edit");
+    st.app.save_compressor(id, cid, &c).await?;
+    st.app.refresh_summary_in_background(id, "compressor edit");
     Ok(json(StatusCode::OK, &serde_json::json!({ "id": cid })))
 }
 
@@ -187,11 +177,10 @@ pub async fn delete_compressor(
     State(st): State<AppState>,
     Path((id, cid)): Path<(i64, i64)>,
 ) -> Result<Response, AppError> {
-    service::bundle(&st.db, id).await?;
-    if !audits::delete_compressor(&st.db, id, cid).await? {
+    if !st.app.delete_compressor(id, cid).await? {
         return Err(AppError::NotFound(format!("audit {id} has no compressor {cid}")));
     }
-    service::refresh_summary_in_background(&st.db, id, "compressor deleted");
+    st.app.refresh_summary_in_background(id, "compressor deleted");
     Ok(StatusCode::NO_CONTENT.into_response())
 }
 
@@ -200,7 +189,7 @@ pub async fn add_receiver(
     Path(id): Path<i64>,
     ApiJson(r): ApiJson<ReceiverInput>,
 ) -> Result<Response, AppError> {
-    let rid = service::add_receiver(&st.db, id, &r).await?;
+    let rid = st.app.add_receiver(id, &r).await?;
     Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": rid })))
 }
 
@@ -208,15 +197,14 @@ pub async fn delete_receiver(
     State(st): State<AppState>,
     Path((id, rid)): Path<(i64, i64)>,
 ) -> Result<Response, AppError> {
-    service::bundle(&st.db, id).await?;
-    if !audits::delete_receiver(&st.db, id, rid).await? {
+    if !st.app.delete_receiver(id, rid).await? {
         return Err(AppError::NotFound(format!("audit {id} has no receiver {rid}")));
     }
     Ok(StatusCode::NO_CONTENT.into_response())
 }
 
 pub async fn list_uploads(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
-    let b = service::bundle(&st.db, id).await?;
+    let b = st.app.bundle(id).await?;
     let uploads: Vec<serde_json::Value> = b
         .uploads
         .iter()
@@ -230,7 +218,7 @@ pub async fn list_uploads(State(st): State<AppState>, Path(id): Path<i64>) -> Re
 }
 
 pub async fn channels(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
-    let b = service::bundle(&st.db, id).await?;
+    let b = st.app.bundle(id).await?;
     Ok(json(StatusCode::OK, &serde_json::json!({ "channels": b.channels })))
 }
 
@@ -266,7 +254,7 @@ pub async fn summary(
     Query(w): Query<Window>,
 ) -> Result<Response, AppError> {
     let win = window(&w)?;
-    Ok(json(StatusCode::OK, &service::summary_json(&st.db, id, win).await?))
+    Ok(json(StatusCode::OK, &st.app.summary(id, win).await?.to_json()?))
 }
 
 #[derive(Deserialize)]
@@ -283,7 +271,7 @@ pub async fn series(
     Path(id): Path<i64>,
     Query(q): Query<SeriesQuery>,
 ) -> Result<Response, AppError> {
-    let b = service::bundle(&st.db, id).await?;
+    let b = st.app.bundle(id).await?;
     let c = b
         .channels
         .iter()
@@ -291,7 +279,7 @@ pub async fn series(
         .ok_or_else(|| AppError::NotFound(format!("audit {id} has no channel {}", q.channel)))?;
     let w = window(&Window { from: q.from.clone(), to: q.to.clone() })?.unwrap_or((c.first_ms, c.last_ms));
     let points = q.points.unwrap_or(600).clamp(10, 2000);
-    let pts = read::chart_series(&st.db, c.id, w.0.max(c.first_ms), w.1.min(c.last_ms), points).await?;
+    let pts = st.app.chart_series(c.id, w.0.max(c.first_ms), w.1.min(c.last_ms), points).await?;
     let unit = match c.quantity.as_str() {
         "power" => "W",
         "energy" => "J",
@@ -312,7 +300,7 @@ pub async fn series(
 }
 
 pub async fn list_field_tests(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
-    let b = service::bundle(&st.db, id).await?;
+    let b = st.app.bundle(id).await?;
     Ok(json(StatusCode::OK, &serde_json::json!({ "field_tests": b.field_tests })))
 }
 
@@ -321,7 +309,7 @@ pub async fn add_field_test(
     Path(id): Path<i64>,
     ApiJson(body): ApiJson<serde_json::Value>,
 ) -> Result<Response, AppError> {
-    let rec = service::add_field_test(&st.db, id, body).await?;
+    let rec = st.app.add_field_test(id, body).await?;
     Ok(json(StatusCode::CREATED, &rec))
 }
 
@@ -329,15 +317,14 @@ pub async fn delete_field_test(
     State(st): State<AppState>,
     Path((id, tid)): Path<(i64, i64)>,
 ) -> Result<Response, AppError> {
-    service::bundle(&st.db, id).await?;
-    if !audits::delete_field_test(&st.db, id, tid).await? {
+    if !st.app.delete_field_test(id, tid).await? {
         return Err(AppError::NotFound(format!("audit {id} has no field test {tid}")));
     }
     Ok(StatusCode::NO_CONTENT.into_response())
 }
 
 pub async fn decay_events(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
-    let ev = service::decay_events(&st.db, id).await?;
+    let ev = st.app.decay_events(id).await?;
     Ok(json(StatusCode::OK, &serde_json::json!({ "events": ev })))
 }
 
@@ -353,19 +340,7 @@ pub async fn put_cost(
     Path((id, kind)): Path<(i64, String)>,
     ApiJson(body): ApiJson<CostBody>,
 ) -> Result<Response, AppError> {
-    service::bundle(&st.db, id).await?;
-    if crate::core::recommend::MeasureKind::parse(&kind).is_none() {
-        return Err(AppError::field("kind", format!("unknown recommendation kind {kind:?}")));
-    }
-    if let Some(c) = body.implementation_cost {
-        if !(c.is_finite() && c >= 0.0) {
-            return Err(AppError::field(
-                "implementation_cost",
-                format!("the cost must be 0 or more, got {c}"),
-            ));
-        }
-    }
-    audits::set_cost_override(&st.db, id, &kind, body.implementation_cost).await?;
+    st.app.set_cost(id, &kind, body.implementation_cost).await?;
     Ok(json(
         StatusCode::OK,
         &serde_json::json!({ "kind": kind, "implementation_cost": body.implementation_cost }),
@@ -381,9 +356,7 @@ async fn calc_site(
 ) -> Result<SiteAir, AppError> {
     let (mut pk, mut tc) = (101.325, 20.0);
     if let Some(id) = audit_id {
-        let a = audits::get_audit(&st.db, id)
-            .await?
-            .ok_or_else(|| AppError::NotFound(format!("there is no audit {id}")))?;
+        let a = st.app.audit(id).await?;
         pk = a.site.atmospheric_pressure_kpa_abs();
         tc = a.site.inlet_temperature_c;
     }
@@ -534,12 +507,12 @@ pub async fn add_scenario(
     Path(id): Path<i64>,
     ApiJson(body): ApiJson<serde_json::Value>,
 ) -> Result<Response, AppError> {
-    let (sid, result) = service::add_scenario(&st.db, id, body).await?;
+    let (sid, result) = st.app.add_scenario(id, body).await?;
+    let result = serde_json::to_value(&result).map_err(|e| AppError::Internal(e.into()))?;
     Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": sid, "result": result })))
 }
 
 pub async fn list_scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
-    service::bundle(&st.db, id).await?;
-    let list = audits::scenarios(&st.db, id).await?;
+    let list = st.app.scenarios(id).await?;
     Ok(json(StatusCode::OK, &serde_json::json!({ "scenarios": list })))
 }

@@ -9,10 +9,9 @@ use axum::response::{IntoResponse, Response};
 use axum::Json;
 use serde::Serialize;
 
+use crate::app;
 use crate::ingest::IngestError;
 use crate::records::FieldError;
-use crate::store::import::ImportError;
-use crate::store::StoreError;
 
 #[derive(Debug, thiserror::Error)]
 pub enum AppError {
@@ -95,18 +94,6 @@ impl IntoResponse for AppError {
     }
 }
 
-impl From<StoreError> for AppError {
-    fn from(e: StoreError) -> Self {
-        Self::Internal(anyhow::Error::new(e))
-    }
-}
-
-impl From<sqlx::Error> for AppError {
-    fn from(e: sqlx::Error) -> Self {
-        Self::Internal(anyhow::Error::new(e))
-    }
-}
-
 impl From<FieldError> for AppError {
     fn from(e: FieldError) -> Self {
         Self::Unprocessable { message: e.message, line: None, column: None, field: Some(e.field) }
@@ -119,14 +106,19 @@ impl From<IngestError> for AppError {
     }
 }
 
-impl From<ImportError> for AppError {
-    fn from(e: ImportError) -> Self {
+/// The application's errors at the edge: the same statuses and JSON bodies as ever.
+impl From<app::Error> for AppError {
+    fn from(e: app::Error) -> Self {
         match e {
-            ImportError::Bad(i) => i.into(),
-            ImportError::Store(s) => s.into(),
-            other @ (ImportError::Overlap { .. } | ImportError::InProgress(_)) => {
-                Self::Conflict(other.to_string())
+            app::Error::NotFound(m) => Self::NotFound(m),
+            app::Error::Field { field, message } => {
+                Self::Unprocessable { message, line: None, column: None, field: Some(field) }
             }
+            app::Error::Unprocessable { message, line, column, field } => {
+                Self::Unprocessable { message, line, column, field }
+            }
+            app::Error::Conflict(m) => Self::Conflict(m),
+            app::Error::Internal(e) => Self::Internal(e),
         }
     }
 }

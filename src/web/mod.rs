@@ -1,6 +1,7 @@
 /*!
 The web layer: an axum router over one [`AppState`]. Pages (askama templates) and the JSON API are
-two faces of the same services (`crate::service`); handlers only parse, call and render.
+two faces of the same application (`crate::app::App`); handlers only parse, call and render, and
+turn the application's errors into HTTP at the edge (`error`).
 */
 
 pub mod access;
@@ -8,13 +9,10 @@ pub mod api;
 pub mod assets;
 pub mod error;
 pub mod pages;
-pub mod report;
 pub mod upload;
 
-use std::collections::HashMap;
 use std::net::SocketAddr;
-use std::path::PathBuf;
-use std::sync::{Arc, Mutex};
+use std::sync::Arc;
 
 use axum::extract::DefaultBodyLimit;
 use axum::http::{header, HeaderValue, Request};
@@ -22,40 +20,27 @@ use axum::middleware::{self, Next};
 use axum::response::Response;
 use axum::routing::{get, post};
 use axum::Router;
-use sqlx::SqlitePool;
 
-use crate::store::import::Progress;
+use crate::app::App;
 
-/// Settings fixed at start-up.
+/// Settings of the web face fixed at start-up (the application's own are `app::Config`).
 #[derive(Debug, Clone)]
 pub struct Config {
-    pub db_path: PathBuf,
     pub max_upload_bytes: u64,
-    /// Where uploaded files are spooled before import (next to the database by default).
-    pub spool_dir: PathBuf,
     /// Required from every client when set (see `access`).
     pub token: Option<String>,
 }
 
-/// What every handler gets.
+/// What every handler gets: the application and the web's settings.
 #[derive(Clone)]
 pub struct AppState {
-    pub db: SqlitePool,
+    pub app: App,
     pub config: Arc<Config>,
-    /// Imports running now, by the token the client chose, for progress bars.
-    pub imports: Arc<Mutex<HashMap<String, Arc<Progress>>>>,
-    /// At most this many imports parse at once; the others wait (their progress says so).
-    pub import_slots: Arc<tokio::sync::Semaphore>,
 }
 
 impl AppState {
-    pub fn new(db: SqlitePool, config: Config) -> Self {
-        Self {
-            db,
-            config: Arc::new(config),
-            imports: Arc::default(),
-            import_slots: Arc::new(tokio::sync::Semaphore::new(2)),
-        }
+    pub fn new(app: App, config: Config) -> Self {
+        Self { app, config: Arc::new(config) }
     }
 }
 
@@ -116,20 +101,20 @@ pub fn build_app(state: AppState) -> Router {
         .route("/calc/compression", post(api::calc_compression))
         .fallback(api::not_found);
     Router::new()
-        .route("/", get(pages::index))
+        .route("/", get(pages::index::index))
         .route("/login", get(access::login_page).post(access::login))
-        .route("/audits", post(pages::create_audit))
-        .route("/audits/{id}", get(pages::audit))
-        .route("/audits/{id}/site", post(pages::save_site))
-        .route("/audits/{id}/compressors", post(pages::add_compressor))
-        .route("/audits/{id}/compressors/{cid}/delete", post(pages::delete_compressor))
-        .route("/audits/{id}/receivers", post(pages::add_receiver))
-        .route("/audits/{id}/receivers/{rid}/delete", post(pages::delete_receiver))
-        .route("/audits/{id}/upload", get(pages::upload))
-        .route("/audits/{id}/report", get(report::report))
-        .route("/audits/{id}/findings", get(report::findings))
-        .route("/audits/{id}/tests", get(report::tests))
-        .route("/audits/{id}/scenarios", get(report::scenarios))
+        .route("/audits", post(pages::index::create_audit))
+        .route("/audits/{id}", get(pages::audit::audit))
+        .route("/audits/{id}/site", post(pages::audit::save_site))
+        .route("/audits/{id}/compressors", post(pages::audit::add_compressor))
+        .route("/audits/{id}/compressors/{cid}/delete", post(pages::audit::delete_compressor))
+        .route("/audits/{id}/receivers", post(pages::audit::add_receiver))
+        .route("/audits/{id}/receivers/{rid}/delete", post(pages::audit::delete_receiver))
+        .route("/audits/{id}/upload", get(pages::upload::upload))
+        .route("/audits/{id}/report", get(pages::report::report))
+        .route("/audits/{id}/findings", get(pages::findings::findings))
+        .route("/audits/{id}/tests", get(pages::tests::tests))
+        .route("/audits/{id}/scenarios", get(pages::scenarios::scenarios))
         .route("/static/{*path}", get(assets::serve))
         .route("/favicon.ico", get(assets::favicon))
         .nest("/api/v1", api)
@@ -144,7 +129,7 @@ pub fn build_app(state: AppState) -> Router {
 pub async fn run_server(state: AppState, bind: SocketAddr) -> anyhow::Result<()> {
     let listener = tokio::net::TcpListener::bind(bind).await?;
     let addr = listener.local_addr()?;
-    println!("airledger is serving {} at http://{addr}/", state.config.db_path.display());
+    println!("airledger is serving {} at http://{addr}/", state.app.db_path().display());
     let app = build_app(state);
     axum::serve(listener, app)
         .with_graceful_shutdown(async {

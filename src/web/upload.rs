@@ -9,7 +9,6 @@ client poll `GET /api/v1/imports/T` for progress.
 
 use std::path::PathBuf;
 use std::sync::atomic::{AtomicU64, Ordering};
-use std::sync::Arc;
 
 use axum::extract::multipart::Field;
 use axum::extract::{Multipart, Path, Query, State};
@@ -22,9 +21,9 @@ use tokio::io::AsyncWriteExt;
 
 use super::error::AppError;
 use super::AppState;
+use crate::app::imports::SpooledFile;
 use crate::ingest::{self, Mapping};
-use crate::service;
-use crate::store::import::{import_file, ImportOutcome, ImportRequest, Progress};
+use crate::store::import::ImportOutcome;
 
 #[derive(Deserialize)]
 pub struct UploadQuery {
@@ -56,7 +55,7 @@ fn multipart_error(e: axum::extract::multipart::MultipartError) -> AppError {
 }
 
 async fn spool(state: &AppState, mut field: Field<'_>) -> Result<(Spool, String, u64), AppError> {
-    tokio::fs::create_dir_all(&state.config.spool_dir)
+    tokio::fs::create_dir_all(&state.app.config().spool_dir)
         .await
         .map_err(|e| AppError::Internal(anyhow::anyhow!("cannot create the spool folder: {e}")))?;
     let name = format!(
@@ -65,7 +64,7 @@ async fn spool(state: &AppState, mut field: Field<'_>) -> Result<(Spool, String,
         SPOOL_SEQ.fetch_add(1, Ordering::Relaxed),
         jiff::Timestamp::now().as_nanosecond()
     );
-    let spool = Spool { path: state.config.spool_dir.join(name) };
+    let spool = Spool { path: state.app.config().spool_dir.join(name) };
     let mut file = tokio::fs::File::create(&spool.path)
         .await
         .map_err(|e| AppError::Internal(anyhow::anyhow!("cannot create a spool file: {e}")))?;
@@ -106,7 +105,7 @@ pub async fn post_upload(
     Query(q): Query<UploadQuery>,
     mut multipart: Multipart,
 ) -> Result<Response, AppError> {
-    let ctx = service::import_context(&state.db, audit_id).await?;
+    let ctx = state.app.import_context(audit_id).await?;
     let mut mapping: Option<Mapping> = None;
     let mut file: Option<(Spool, String, u64, String)> = None;
     while let Some(field) = multipart.next_field().await.map_err(multipart_error)? {
@@ -129,39 +128,12 @@ pub async fn post_upload(
         file.ok_or_else(|| AppError::field("file", "the upload needs a part named file"))?;
     let replace = matches!(q.replace.as_deref(), Some("true" | "1" | "yes" | "on"));
 
-    let progress = Arc::new(Progress::default());
-    progress.bytes_total.store(bytes, Ordering::Relaxed);
     let token = q.token.filter(|t| !t.is_empty() && t.len() <= 64);
-    if let Some(t) = &token {
-        state.imports.lock().expect("imports lock").insert(t.clone(), progress.clone());
-    }
-    let result = async {
-        let _slot = state.import_slots.acquire().await.map_err(|e| AppError::Internal(e.into()))?;
-        let req = ImportRequest {
-            audit_id,
-            filename,
-            path: spooled.path.clone(),
-            sha256,
-            bytes,
-            mapping,
-            replace,
-            site: ctx.site,
-            compressors: ctx.compressors,
-        };
-        Ok::<_, AppError>(import_file(&state.db, req, progress).await?)
-    }
-    .await;
-    if let Some(t) = &token {
-        state.imports.lock().expect("imports lock").remove(t);
-    }
+    let file = SpooledFile { path: spooled.path.clone(), filename, sha256, bytes };
+    let result = state.app.import_upload(audit_id, ctx, &file, mapping, replace, token).await;
     drop(spooled);
     match result? {
-        ImportOutcome::Created(s) => {
-            // Work out the summary now, off the request, so that the first report after an upload
-            // is read from the cache instead of decoding every reading while the manager waits.
-            service::refresh_summary_in_background(&state.db, audit_id, "import");
-            Ok((StatusCode::CREATED, Json(s)).into_response())
-        }
+        ImportOutcome::Created(s) => Ok((StatusCode::CREATED, Json(s)).into_response()),
         ImportOutcome::Duplicate { upload_id } => Ok((
             StatusCode::OK,
             Json(serde_json::json!({
@@ -182,7 +154,7 @@ pub async fn post_sniff(
     Path(audit_id): Path<i64>,
     mut multipart: Multipart,
 ) -> Result<Response, AppError> {
-    service::import_context(&state.db, audit_id).await?;
+    state.app.import_context(audit_id).await?;
     let mut head = Vec::with_capacity(64 * 1024);
     while let Some(mut field) = multipart.next_field().await.map_err(multipart_error)? {
         if field.name() != Some("file") {
@@ -203,9 +175,8 @@ pub async fn post_sniff(
     let sniffed = ingest::sniff(&head)?;
     let suggested = ingest::suggest_mapping(&sniffed);
     let key = ingest::layout_key(&sniffed.header);
-    let remembered: Option<serde_json::Value> = crate::store::audits::remembered_mapping(&state.db, &key)
-        .await?
-        .and_then(|m| serde_json::from_str(&m).ok());
+    let remembered: Option<serde_json::Value> =
+        state.app.remembered_mapping(&key).await?.and_then(|m| serde_json::from_str(&m).ok());
     Ok(Json(serde_json::json!({
         "sniffed": sniffed,
         "suggested_mapping": suggested,
@@ -220,7 +191,7 @@ pub async fn import_progress(
     State(state): State<AppState>,
     Path(token): Path<String>,
 ) -> Json<serde_json::Value> {
-    let p = state.imports.lock().expect("imports lock").get(&token).cloned();
+    let p = state.app.import_progress(&token);
     Json(match p {
         Some(p) => {
             let done = p.bytes_done.load(Ordering::Relaxed);

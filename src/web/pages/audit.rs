@@ -1,86 +1,25 @@
-/*!
-The HTML pages: one askama template struct and one handler each. Handlers fetch through `store` and
-`service`, format through `core::display::Fmt`, and render; askama escapes every value, so a user's
-text (audit names, column names, notes) can never become markup.
-*/
+//! The audit page: its site, compressors, receivers and files, with the forms that edit them.
 
 use std::collections::HashMap;
 
 use askama::Template;
 use axum::extract::{Path, State};
 use axum::http::StatusCode;
-use axum::response::{Html, IntoResponse, Redirect, Response};
+use axum::response::{IntoResponse, Redirect};
 use axum::Form;
-use sqlx::SqlitePool;
 
-use super::error::AppError;
-use super::AppState;
+use super::{render, PageError, PageResult};
+use crate::app::{App, AuditBundle};
 use crate::core::display::Fmt;
 use crate::core::model::{CompressorKind, Control};
 use crate::records::{
     CompressorInput, CompressorRecord, FieldError, ReceiverInput, ReceiverRecord, SitePatch,
 };
-use crate::service::{self, AuditBundle};
-use crate::store::audits::{self, Audit, AuditListItem, UploadRecord};
+use crate::store::audits::{Audit, UploadRecord};
+use crate::web::error::AppError;
+use crate::web::AppState;
 
-/// A page-side error: the same [`AppError`], shown as HTML.
-pub struct PageError(AppError);
-
-impl<E: Into<AppError>> From<E> for PageError {
-    fn from(e: E) -> Self {
-        Self(e.into())
-    }
-}
-
-#[derive(Template)]
-#[template(path = "error.html")]
-struct ErrorPage {
-    title: String,
-    message: String,
-}
-
-impl IntoResponse for PageError {
-    fn into_response(self) -> Response {
-        self.0.log_if_internal();
-        let status = self.0.status();
-        let title = match status {
-            StatusCode::NOT_FOUND => "Not found".to_string(),
-            StatusCode::INTERNAL_SERVER_ERROR => "Something went wrong".to_string(),
-            _ => "This did not work".to_string(),
-        };
-        let page = ErrorPage { title, message: self.0.to_string() };
-        (status, render(&page)).into_response()
-    }
-}
-
-type PageResult = Result<Response, PageError>;
-
-/// Render a template; a template error is an internal error page.
-pub fn render<T: Template>(t: &T) -> Response {
-    match t.render() {
-        Ok(html) => Html(html).into_response(),
-        Err(e) => {
-            tracing::error!(error = %e, "template failed");
-            (StatusCode::INTERNAL_SERVER_ERROR, "internal error").into_response()
-        }
-    }
-}
-
-pub async fn not_found() -> PageError {
-    PageError(AppError::NotFound("there is no such page".into()))
-}
-
-#[derive(Template)]
-#[template(path = "index.html")]
-struct IndexPage {
-    audits: Vec<AuditListItem>,
-}
-
-pub async fn index(State(st): State<AppState>) -> PageResult {
-    Ok(render(&IndexPage { audits: audits::list_audits(&st.db).await? }))
-}
-
-fn opt_num(form: &HashMap<String, String>, key: &str) -> Result<Option<f64>, FieldError> {
+pub(super) fn opt_num(form: &HashMap<String, String>, key: &str) -> Result<Option<f64>, FieldError> {
     match form.get(key).map(|s| s.trim()) {
         None | Some("") => Ok(None),
         Some(s) => s
@@ -91,11 +30,11 @@ fn opt_num(form: &HashMap<String, String>, key: &str) -> Result<Option<f64>, Fie
     }
 }
 
-fn opt_text(form: &HashMap<String, String>, key: &str) -> Option<String> {
+pub(super) fn opt_text(form: &HashMap<String, String>, key: &str) -> Option<String> {
     form.get(key).map(|s| s.trim().to_string()).filter(|s| !s.is_empty())
 }
 
-fn site_patch(form: &HashMap<String, String>) -> Result<SitePatch, FieldError> {
+pub(super) fn site_patch(form: &HashMap<String, String>) -> Result<SitePatch, FieldError> {
     let months = match form.get("heating_months") {
         Some(s) => Some(
             s.split([',', ' ', ';'])
@@ -139,16 +78,6 @@ fn site_patch(form: &HashMap<String, String>) -> Result<SitePatch, FieldError> {
         fuel_co2_kg_per_kwh: opt_num(form, "fuel_co2_kg_per_kwh")?,
         other_volume_m3: opt_num(form, "other_volume_m3")?,
     })
-}
-
-pub async fn create_audit(
-    State(st): State<AppState>,
-    Form(form): Form<HashMap<String, String>>,
-) -> PageResult {
-    let name = opt_text(&form, "name").ok_or_else(|| FieldError::new("name", "the audit needs a name"))?;
-    let patch = site_patch(&form)?;
-    let id = service::create_audit(&st.db, &name, &patch).await?;
-    Ok(Redirect::to(&format!("/audits/{id}")).into_response())
 }
 
 #[derive(Template)]
@@ -195,15 +124,15 @@ fn audit_page(b: AuditBundle, error: Option<String>) -> AuditPage {
 }
 
 pub async fn audit(State(st): State<AppState>, Path(id): Path<i64>) -> PageResult {
-    let b = service::bundle(&st.db, id).await?;
+    let b = st.app.bundle(id).await?;
     Ok(render(&audit_page(b, None)))
 }
 
 /// Re-show the audit page with the error that stopped a form (422).
-async fn audit_with_error(db: &SqlitePool, id: i64, e: AppError) -> PageResult {
+async fn audit_with_error(app: &App, id: i64, e: AppError) -> PageResult {
     match e {
         AppError::Unprocessable { message, .. } | AppError::Conflict(message) => {
-            let b = service::bundle(db, id).await?;
+            let b = app.bundle(id).await?;
             let mut res = render(&audit_page(b, Some(message)));
             *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
             Ok(res)
@@ -220,23 +149,24 @@ pub async fn save_site(
     let result = async {
         let patch = site_patch(&form)?;
         let name = opt_text(&form, "name");
-        service::update_audit(
-            &st.db,
-            id,
-            name.as_deref(),
-            form.get("auditor").map(|s| s.as_str()),
-            form.get("notes").map(|s| s.as_str()),
-            &patch,
-        )
-        .await
+        st.app
+            .update_audit(
+                id,
+                name.as_deref(),
+                form.get("auditor").map(|s| s.as_str()),
+                form.get("notes").map(|s| s.as_str()),
+                &patch,
+            )
+            .await
+            .map_err(AppError::from)
     }
     .await;
     match result {
         Ok(()) => {
-            service::refresh_summary_in_background(&st.db, id, "site edit");
+            st.app.refresh_summary_in_background(id, "site edit");
             Ok(Redirect::to(&format!("/audits/{id}")).into_response())
         }
-        Err(e) => audit_with_error(&st.db, id, e).await,
+        Err(e) => audit_with_error(&st.app, id, e).await,
     }
 }
 
@@ -279,22 +209,21 @@ pub async fn add_compressor(
             year: opt_num(&form, "year")?.map(|y| y as i32),
             notes: form.get("notes").cloned().unwrap_or_default(),
         };
-        service::save_compressor(&st.db, id, 0, &input).await
+        st.app.save_compressor(id, 0, &input).await.map_err(AppError::from)
     }
     .await;
     match result {
         Ok(_) => {
-            service::refresh_summary_in_background(&st.db, id, "compressor added");
+            st.app.refresh_summary_in_background(id, "compressor added");
             Ok(Redirect::to(&format!("/audits/{id}")).into_response())
         }
-        Err(e) => audit_with_error(&st.db, id, e).await,
+        Err(e) => audit_with_error(&st.app, id, e).await,
     }
 }
 
 pub async fn delete_compressor(State(st): State<AppState>, Path((id, cid)): Path<(i64, i64)>) -> PageResult {
-    service::bundle(&st.db, id).await?;
-    audits::delete_compressor(&st.db, id, cid).await?;
-    service::refresh_summary_in_background(&st.db, id, "compressor deleted");
+    st.app.delete_compressor(id, cid).await?;
+    st.app.refresh_summary_in_background(id, "compressor deleted");
     Ok(Redirect::to(&format!("/audits/{id}")).into_response())
 }
 
@@ -309,41 +238,16 @@ pub async fn add_receiver(
             volume_m3: opt_num(&form, "volume_m3")?.unwrap_or(f64::NAN),
             notes: form.get("notes").cloned().unwrap_or_default(),
         };
-        service::add_receiver(&st.db, id, &input).await
+        st.app.add_receiver(id, &input).await.map_err(AppError::from)
     }
     .await;
     match result {
         Ok(_) => Ok(Redirect::to(&format!("/audits/{id}")).into_response()),
-        Err(e) => audit_with_error(&st.db, id, e).await,
+        Err(e) => audit_with_error(&st.app, id, e).await,
     }
 }
 
 pub async fn delete_receiver(State(st): State<AppState>, Path((id, rid)): Path<(i64, i64)>) -> PageResult {
-    service::bundle(&st.db, id).await?;
-    audits::delete_receiver(&st.db, id, rid).await?;
+    st.app.delete_receiver(id, rid).await?;
     Ok(Redirect::to(&format!("/audits/{id}")).into_response())
-}
-
-#[derive(Template)]
-#[template(path = "upload.html")]
-struct UploadPage {
-    audit: Audit,
-    uploads: Vec<UploadRecord>,
-    max_upload_mb: u64,
-    page_data: serde_json::Value,
-}
-
-pub async fn upload(State(st): State<AppState>, Path(id): Path<i64>) -> PageResult {
-    let b = service::bundle(&st.db, id).await?;
-    let page_data = serde_json::json!({
-        "audit_id": id,
-        "compressors": b.compressors.iter().map(|c| c.tag.clone()).collect::<Vec<_>>(),
-        "units": crate::ingest::units_by_quantity(),
-    });
-    Ok(render(&UploadPage {
-        max_upload_mb: st.config.max_upload_bytes / (1024 * 1024),
-        audit: b.audit,
-        uploads: b.uploads,
-        page_data,
-    }))
 }

@@ -1,0 +1,204 @@
+/*!
+An audit with its records ([`AuditBundle`]), and the edits of the audit, its site and equipment.
+An edit that changes what the passes over the bins read (the site, the compressors) starts the
+summary's computation in the background (`summary`), so the next report reads the cache.
+*/
+
+use crate::core::analysis::{Accuracy, LeakEstimate};
+use crate::core::display::Fmt;
+use crate::core::model::{CompressorSpec, StorageSpec};
+use crate::records::{
+    CompressorInput, CompressorRecord, ReceiverInput, ReceiverRecord, SitePatch, SiteRecord,
+};
+use crate::store::audits::{self, Audit, AuditListItem, CompressorWrite, FieldTestRecord, UploadRecord};
+use crate::store::read::{self, ChannelInfo, ChartPoint};
+
+use super::{App, Error, Result};
+
+/// Everything stored about one audit except its readings.
+pub struct AuditBundle {
+    pub audit: Audit,
+    pub compressors: Vec<CompressorRecord>,
+    pub receivers: Vec<ReceiverRecord>,
+    pub uploads: Vec<UploadRecord>,
+    pub field_tests: Vec<FieldTestRecord>,
+    pub channels: Vec<ChannelInfo>,
+}
+
+impl AuditBundle {
+    pub fn storage(&self) -> StorageSpec {
+        StorageSpec {
+            receivers_m3: self.receivers.iter().map(|r| r.volume_m3).collect(),
+            other_volume_m3: self.audit.site.other_volume_m3,
+        }
+    }
+    pub fn specs(&self) -> Vec<CompressorSpec> {
+        self.compressors.iter().map(|c| c.to_spec()).collect()
+    }
+    pub fn fmt(&self) -> Fmt {
+        Fmt::new(self.audit.site.display_units, self.audit.site.air().atmosphere)
+    }
+    pub(crate) fn compressor_ids(&self) -> Vec<i64> {
+        self.compressors.iter().map(|c| c.id).collect()
+    }
+    /// The instrument accuracies: defaults, with power from current flagged per compressor.
+    pub fn accuracy(&self) -> Accuracy {
+        let mut a = Accuracy::default();
+        for c in &self.channels {
+            if c.quantity == "power" && c.unit.eq_ignore_ascii_case("a") {
+                if let Some(t) = &c.compressor_tag {
+                    a.current_derived_power.push(t.clone());
+                }
+            }
+        }
+        a
+    }
+    /// Leak estimates from the stored field tests, at operating pressure.
+    pub fn leak_estimates(&self) -> Vec<LeakEstimate> {
+        self.field_tests
+            .iter()
+            .filter_map(|t| {
+                let q = super::fieldtests::result_of(t)?.leak_flow_m3_min();
+                // A flow that was not finite is stored as null: no estimate, as it always was.
+                q.is_finite().then(|| LeakEstimate {
+                    test_id: t.id,
+                    method: t.kind.clone(),
+                    leak_flow_m3_min: q,
+                })
+            })
+            .collect()
+    }
+}
+
+fn check_name(name: &str) -> Result<()> {
+    if name.is_empty() || name.chars().count() > 120 {
+        return Err(Error::field("name", "the audit name must be 1 to 120 characters"));
+    }
+    Ok(())
+}
+
+impl App {
+    /// Every audit, newest first.
+    pub async fn list_audits(&self) -> Result<Vec<AuditListItem>> {
+        Ok(audits::list_audits(self.db()).await?)
+    }
+
+    /// The audit alone, or [`Error::NotFound`].
+    pub async fn audit(&self, id: i64) -> Result<Audit> {
+        audits::get_audit(self.db(), id).await?.ok_or_else(|| Error::no_audit(id))
+    }
+
+    /// The audit with all its records, or [`Error::NotFound`].
+    pub async fn bundle(&self, id: i64) -> Result<AuditBundle> {
+        let db = self.db();
+        let audit = self.audit(id).await?;
+        Ok(AuditBundle {
+            compressors: audits::compressors(db, id).await?,
+            receivers: audits::receivers(db, id).await?,
+            uploads: audits::uploads(db, id).await?,
+            field_tests: audits::field_tests(db, id).await?,
+            channels: read::channels(db, id).await?,
+            audit,
+        })
+    }
+
+    pub async fn create_audit(&self, name: &str, patch: &SitePatch) -> Result<i64> {
+        let name = name.trim();
+        check_name(name)?;
+        let mut site = SiteRecord::default();
+        site.apply(patch)?;
+        Ok(audits::create_audit(self.db(), name, &site).await?)
+    }
+
+    /// Edit the audit's name, auditor, notes and site (`None` and empty patches keep what is stored).
+    pub async fn update_audit(
+        &self,
+        id: i64,
+        name: Option<&str>,
+        auditor: Option<&str>,
+        notes: Option<&str>,
+        patch: &SitePatch,
+    ) -> Result<()> {
+        let a = self.audit(id).await?;
+        let mut site = a.site.clone();
+        site.apply(patch)?;
+        let name = name.map(str::trim).unwrap_or(&a.name);
+        check_name(name)?;
+        audits::update_audit(
+            self.db(),
+            id,
+            name,
+            auditor.unwrap_or(&a.auditor),
+            notes.unwrap_or(&a.notes),
+            &site,
+        )
+        .await?;
+        Ok(())
+    }
+
+    /// Store a compressor (`id` 0: a new one); returns its id.
+    pub async fn save_compressor(&self, audit_id: i64, id: i64, input: &CompressorInput) -> Result<i64> {
+        self.audit(audit_id).await?;
+        let mut rec = input.validate()?;
+        rec.id = id;
+        match audits::save_compressor(self.db(), audit_id, &rec).await? {
+            CompressorWrite::Stored(id) => Ok(id),
+            CompressorWrite::TagTaken => {
+                Err(Error::Conflict(format!("this audit has a compressor tagged {:?} already", rec.tag)))
+            }
+        }
+    }
+
+    /// Delete a compressor; `false` if the audit has no such compressor.
+    pub async fn delete_compressor(&self, audit_id: i64, id: i64) -> Result<bool> {
+        self.audit(audit_id).await?;
+        Ok(audits::delete_compressor(self.db(), audit_id, id).await?)
+    }
+
+    pub async fn add_receiver(&self, audit_id: i64, input: &ReceiverInput) -> Result<i64> {
+        self.audit(audit_id).await?;
+        input.validate()?;
+        Ok(audits::add_receiver(self.db(), audit_id, input.name.trim(), input.volume_m3, &input.notes)
+            .await?)
+    }
+
+    /// Delete a receiver; `false` if the audit has no such receiver.
+    pub async fn delete_receiver(&self, audit_id: i64, id: i64) -> Result<bool> {
+        self.audit(audit_id).await?;
+        Ok(audits::delete_receiver(self.db(), audit_id, id).await?)
+    }
+
+    /// Set (or with `None` clear) the implementation cost an auditor gave for a kind of measure.
+    pub async fn set_cost(&self, audit_id: i64, kind: &str, cost: Option<f64>) -> Result<()> {
+        self.audit(audit_id).await?;
+        if crate::core::recommend::MeasureKind::parse(kind).is_none() {
+            return Err(Error::field("kind", format!("unknown recommendation kind {kind:?}")));
+        }
+        if let Some(c) = cost {
+            if !(c.is_finite() && c >= 0.0) {
+                return Err(Error::field(
+                    "implementation_cost",
+                    format!("the cost must be 0 or more, got {c}"),
+                ));
+            }
+        }
+        audits::set_cost_override(self.db(), audit_id, kind, cost).await?;
+        Ok(())
+    }
+
+    /// Min/mean/max buckets of one channel from the rollups, SI.
+    pub async fn chart_series(
+        &self,
+        channel: i64,
+        from_ms: i64,
+        to_ms: i64,
+        points: usize,
+    ) -> Result<Vec<ChartPoint>> {
+        Ok(read::chart_series(self.db(), channel, from_ms, to_ms, points).await?)
+    }
+
+    /// The mapping remembered for a file layout, as stored (JSON text).
+    pub async fn remembered_mapping(&self, layout_key: &str) -> Result<Option<String>> {
+        Ok(audits::remembered_mapping(self.db(), layout_key).await?)
+    }
+}

@@ -1,0 +1,82 @@
+/*!
+Field tests (bleed-down, load/unload, idle flow, pressure decay) evaluated by `core::fieldtest` and
+stored with their result, and the windows of pressure decay in the logs proposed as tests.
+*/
+
+use serde::Deserialize;
+
+use crate::core::analysis::{self, DecayEvent};
+use crate::core::fieldtest::{self, FieldTestContext, FieldTestInput, FieldTestResult};
+use crate::store::audits::{self, FieldTestRecord};
+
+use super::{App, Error, Result};
+
+/// A stored test's result, typed; `None` if it cannot be read as one (not written by this build's
+/// rules).
+pub fn result_of(t: &FieldTestRecord) -> Option<FieldTestResult> {
+    FieldTestResult::deserialize(&t.result).ok()
+}
+
+fn test_error(e: fieldtest::FieldError) -> Error {
+    Error::field(&e.field, e.message)
+}
+
+impl App {
+    /// Evaluate and store a field test; returns the stored record.
+    pub async fn add_field_test(&self, id: i64, body: serde_json::Value) -> Result<FieldTestRecord> {
+        let b = self.bundle(id).await?;
+        let input: FieldTestInput =
+            serde_json::from_value(body.clone()).map_err(|e| Error::Unprocessable {
+                message: format!("this field test cannot be read: {e}"),
+                line: None,
+                column: None,
+                field: Some("kind".into()),
+            })?;
+        let window = match &input {
+            FieldTestInput::IdleFlow { start, end, .. }
+            | FieldTestInput::PressureDecay { start, end, .. } => {
+                let s = fieldtest::parse_time_ms("start", start).map_err(test_error)?;
+                let e = fieldtest::parse_time_ms("end", end).map_err(test_error)?;
+                if e <= s {
+                    return Err(Error::field(
+                        "end",
+                        format!("the end {end} must be after the start {start}"),
+                    ));
+                }
+                Some((s, e))
+            }
+            _ => None,
+        };
+        let frame = match window {
+            Some(w) => self.frame_for(&b, Some(w)).await?,
+            None => None,
+        };
+        let site = b.audit.site.air();
+        let specs = b.specs();
+        let storage = b.storage();
+        let ctx =
+            FieldTestContext { site: &site, compressors: &specs, storage: &storage, frame: frame.as_deref() };
+        let result = fieldtest::evaluate(&input, &ctx).map_err(test_error)?;
+        let result = serde_json::to_value(&result).map_err(Error::internal)?;
+        let tid = audits::add_field_test(self.db(), id, input.method(), &body, &result).await?;
+        let rec = audits::field_tests(self.db(), id).await?.into_iter().find(|t| t.id == tid);
+        rec.ok_or_else(|| Error::Internal(anyhow::anyhow!("field test {tid} vanished")))
+    }
+
+    /// Delete a field test; `false` if the audit has no such test.
+    pub async fn delete_field_test(&self, audit_id: i64, id: i64) -> Result<bool> {
+        self.audit(audit_id).await?;
+        Ok(audits::delete_field_test(self.db(), audit_id, id).await?)
+    }
+
+    /// Windows of pressure decay with every compressor off or unloaded, proposed as tests.
+    pub async fn decay_events(&self, id: i64) -> Result<Vec<DecayEvent>> {
+        let b = self.bundle(id).await?;
+        let Some(frame) = self.frame_for(&b, None).await? else { return Ok(vec![]) };
+        let specs = b.specs();
+        let storage = b.storage();
+        let site = b.audit.site.air();
+        Ok(tokio::task::spawn_blocking(move || analysis::decay_events(&frame, &specs, &storage, &site))
+            .await?)
+    }
+}

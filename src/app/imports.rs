@@ -1,0 +1,135 @@
+/*!
+Logger files in: the import of a spooled upload (in one of the import slots, its progress visible by
+the client's token), and of a file on disk (the command line, the demo). The store's import keeps
+a half-imported file invisible; after a new upload the summary is worked out in the background.
+*/
+
+use std::path::{Path, PathBuf};
+use std::sync::atomic::Ordering;
+use std::sync::Arc;
+
+use sha2::{Digest, Sha256};
+
+use crate::core::units::SiteAir;
+use crate::ingest::Mapping;
+use crate::store::audits;
+use crate::store::import::{self, ImportOutcome, ImportRequest, Progress};
+
+use super::{App, Error, Result};
+
+/// What the importer needs to know of the audit.
+pub struct ImportContext {
+    pub site: SiteAir,
+    pub compressors: Vec<(String, i64)>,
+}
+
+/// A file written to the spool folder, with what the upload said of it.
+pub struct SpooledFile {
+    pub path: PathBuf,
+    pub filename: String,
+    pub sha256: String,
+    pub bytes: u64,
+}
+
+impl App {
+    /// What the importer needs of the audit, or [`Error::NotFound`].
+    pub async fn import_context(&self, audit_id: i64) -> Result<ImportContext> {
+        let a = self.audit(audit_id).await?;
+        let compressors =
+            audits::compressors(self.db(), audit_id).await?.into_iter().map(|c| (c.tag, c.id)).collect();
+        Ok(ImportContext { site: a.site.air(), compressors })
+    }
+
+    /// Import an uploaded file: it waits for an import slot, its progress can be read by `token`
+    /// meanwhile, and a new upload's summary is worked out in the background afterwards.
+    pub async fn import_upload(
+        &self,
+        audit_id: i64,
+        ctx: ImportContext,
+        file: &SpooledFile,
+        mapping: Mapping,
+        replace: bool,
+        token: Option<String>,
+    ) -> Result<ImportOutcome> {
+        let progress = Arc::new(Progress::default());
+        progress.bytes_total.store(file.bytes, Ordering::Relaxed);
+        if let Some(t) = &token {
+            self.inner.imports.lock().expect("imports lock").insert(t.clone(), progress.clone());
+        }
+        let result = async {
+            let _slot = self.inner.import_slots.acquire().await.map_err(Error::internal)?;
+            let req = ImportRequest {
+                audit_id,
+                filename: file.filename.clone(),
+                path: file.path.clone(),
+                sha256: file.sha256.clone(),
+                bytes: file.bytes,
+                mapping,
+                replace,
+                site: ctx.site,
+                compressors: ctx.compressors,
+            };
+            Ok::<_, Error>(import::import_file(self.db(), req, progress).await?)
+        }
+        .await;
+        if let Some(t) = &token {
+            self.inner.imports.lock().expect("imports lock").remove(t);
+        }
+        let outcome = result?;
+        if let ImportOutcome::Created(_) = outcome {
+            // Work out the summary now, off the request, so that the first report after an upload
+            // is read from the cache instead of decoding every reading while the manager waits.
+            self.refresh_summary_in_background(audit_id, "import");
+        }
+        Ok(outcome)
+    }
+
+    /// The progress of the upload sent with `token`, while it runs.
+    pub fn import_progress(&self, token: &str) -> Option<Arc<Progress>> {
+        self.inner.imports.lock().expect("imports lock").get(token).cloned()
+    }
+
+    /// Import a file from disk (the command line and the demo; uploads spool first).
+    pub async fn import_path(
+        &self,
+        audit_id: i64,
+        path: &Path,
+        mapping: Mapping,
+        replace: bool,
+        progress: Arc<Progress>,
+    ) -> anyhow::Result<ImportOutcome> {
+        let ctx = self.import_context(audit_id).await.map_err(|e| anyhow::anyhow!("{e}"))?;
+        let p = path.to_path_buf();
+        let (sha256, bytes) = tokio::task::spawn_blocking(move || -> std::io::Result<(String, u64)> {
+            let mut f = std::fs::File::open(&p)?;
+            let mut h = Sha256::new();
+            let n = std::io::copy(&mut f, &mut h)?;
+            Ok((h.finalize().iter().map(|b| format!("{b:02x}")).collect(), n))
+        })
+        .await??;
+        let req = ImportRequest {
+            audit_id,
+            filename: path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default(),
+            path: path.to_path_buf(),
+            sha256,
+            bytes,
+            mapping,
+            replace,
+            site: ctx.site,
+            compressors: ctx.compressors,
+        };
+        import::import_file(self.db(), req, progress).await.map_err(|e| match e {
+            import::ImportError::Bad(i) => anyhow::anyhow!(
+                "{}{}{}",
+                i.message,
+                i.line.map(|l| format!(" (line {l}")).unwrap_or_default(),
+                i.column.map(|c| format!(", column {c:?})")).unwrap_or_else(|| if i.line.is_some() {
+                    ")".into()
+                } else {
+                    String::new()
+                })
+            ),
+            other => anyhow::anyhow!("{other}"),
+        })
+    }
+}

@@ -1,0 +1,60 @@
+//! The auditor's printed findings (A4 and Letter): the report's view laid out for paper, with the
+//! site, equipment and files it rests on. Also written as a file by `airledger report --format html`.
+
+use askama::Template;
+use axum::extract::{Path, Query, State};
+use axum::response::Response;
+
+use super::view::{report_view, ReportView};
+use super::{reader_fmt, render, PageError, ViewQuery};
+use crate::app::App;
+use crate::core::display::Fmt;
+use crate::store::audits::Audit;
+use crate::web::error::AppError;
+use crate::web::AppState;
+
+#[derive(Template)]
+#[template(path = "findings.html")]
+struct FindingsPage {
+    audit: Audit,
+    fmt: Fmt,
+    view: ReportView,
+    b_compressors: Vec<crate::records::CompressorRecord>,
+    b_receivers: Vec<crate::records::ReceiverRecord>,
+    b_uploads: Vec<crate::store::audits::UploadRecord>,
+    system_volume_m3: f64,
+    atmosphere: String,
+    printed: String,
+}
+
+async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage, AppError> {
+    let b = app.bundle(id).await?;
+    let sm = app.summary(id, None).await?;
+    let fmt = reader_fmt(&b, q);
+    let view = report_view(&b, &fmt, sm.figures());
+    Ok(FindingsPage {
+        system_volume_m3: b.storage().system_volume_m3(),
+        atmosphere: format!("{:.2} kPa abs", b.audit.site.atmospheric_pressure_kpa_abs()),
+        printed: jiff::Zoned::now().date().to_string(),
+        fmt,
+        view,
+        b_compressors: b.compressors,
+        b_receivers: b.receivers,
+        b_uploads: b.uploads,
+        audit: b.audit,
+    })
+}
+
+pub async fn findings(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Query(q): Query<ViewQuery>,
+) -> Result<Response, PageError> {
+    Ok(render(&findings_page(&st.app, id, &q).await?))
+}
+
+/// The findings page as a file (`airledger report --format html`).
+pub async fn findings_html(app: &App, id: i64) -> anyhow::Result<String> {
+    let page = findings_page(app, id, &ViewQuery::default()).await.map_err(|e| anyhow::anyhow!("{e}"))?;
+    Ok(page.render()?)
+}

@@ -1,0 +1,86 @@
+/*!
+The HTML pages, one file each: [`index`] (the list of audits), [`audit`] (the audit with its site
+and equipment forms), [`upload`], [`report`] (the manager's report), [`findings`] (the auditor's
+printed findings), [`tests`] (field tests) and [`scenarios`] (what-if replays); [`view`] holds what
+the report and the findings share. Handlers fetch through the application (`crate::app::App`),
+format through `core::display::Fmt`, and render; askama escapes every value, so a user's text
+(audit names, column names, notes) can never become markup.
+*/
+
+pub mod audit;
+pub mod findings;
+pub mod index;
+pub mod report;
+pub mod scenarios;
+pub mod tests;
+pub mod upload;
+pub mod view;
+
+use askama::Template;
+use axum::http::StatusCode;
+use axum::response::{Html, IntoResponse, Response};
+use serde::Deserialize;
+
+use super::error::AppError;
+use crate::app::AuditBundle;
+use crate::core::display::Fmt;
+use crate::core::units::UnitSystem;
+
+/// A page-side error: the same [`AppError`], shown as HTML.
+pub struct PageError(AppError);
+
+impl<E: Into<AppError>> From<E> for PageError {
+    fn from(e: E) -> Self {
+        Self(e.into())
+    }
+}
+
+#[derive(Template)]
+#[template(path = "error.html")]
+struct ErrorPage {
+    title: String,
+    message: String,
+}
+
+impl IntoResponse for PageError {
+    fn into_response(self) -> Response {
+        self.0.log_if_internal();
+        let status = self.0.status();
+        let title = match status {
+            StatusCode::NOT_FOUND => "Not found".to_string(),
+            StatusCode::INTERNAL_SERVER_ERROR => "Something went wrong".to_string(),
+            _ => "This did not work".to_string(),
+        };
+        let page = ErrorPage { title, message: self.0.to_string() };
+        (status, render(&page)).into_response()
+    }
+}
+
+pub(crate) type PageResult = Result<Response, PageError>;
+
+/// Render a template; a template error is an internal error page.
+pub fn render<T: Template>(t: &T) -> Response {
+    match t.render() {
+        Ok(html) => Html(html).into_response(),
+        Err(e) => {
+            tracing::error!(error = %e, "template failed");
+            (StatusCode::INTERNAL_SERVER_ERROR, "internal error").into_response()
+        }
+    }
+}
+
+pub async fn not_found() -> PageError {
+    PageError(AppError::NotFound("there is no such page".into()))
+}
+
+/// `?units=si|us`: the reader's unit system for one view.
+#[derive(Deserialize, Default)]
+pub struct ViewQuery {
+    units: Option<String>,
+}
+
+/// The reader's formatter: the audit's unit system unless the query names another.
+pub(crate) fn reader_fmt(b: &AuditBundle, q: &ViewQuery) -> Fmt {
+    let units = q.units.as_deref().and_then(UnitSystem::parse).unwrap_or(b.audit.site.display_units);
+    Fmt::new(units, b.audit.site.air().atmosphere)
+}

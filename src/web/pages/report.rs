@@ -1,0 +1,38 @@
+//! The manager's report: the headline figures, the measures, the charts.
+
+use askama::Template;
+use axum::extract::{Path, Query, State};
+use axum::response::Response;
+
+use super::view::{report_view, ReportView};
+use super::{reader_fmt, render, PageError, ViewQuery};
+use crate::core::display::Fmt;
+use crate::store::audits::Audit;
+use crate::web::AppState;
+
+#[derive(Template)]
+#[template(path = "report.html")]
+struct ReportPage {
+    audit: Audit,
+    fmt: Fmt,
+    view: ReportView,
+    other_units: &'static str,
+    other_units_label: &'static str,
+}
+
+pub async fn report(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Query(q): Query<ViewQuery>,
+) -> Result<Response, PageError> {
+    let b = st.app.bundle(id).await?;
+    let sm = st.app.summary(id, None).await?;
+    let fmt = reader_fmt(&b, &q);
+    let view = report_view(&b, &fmt, sm.figures());
+    let (other_units, other_units_label) = if fmt.is_us() {
+        ("si", "Show SI units (bar, m³/min)")
+    } else {
+        ("us", "Show US customary units (psig, cfm)")
+    };
+    Ok(render(&ReportPage { audit: b.audit, fmt, view, other_units, other_units_label }))
+}

@@ -1,0 +1,32 @@
+//! The upload page: the file, the sniffer's preview and the column mapping (`static/js/upload.js`).
+
+use askama::Template;
+use axum::extract::{Path, State};
+
+use super::{render, PageResult};
+use crate::store::audits::{Audit, UploadRecord};
+use crate::web::AppState;
+
+#[derive(Template)]
+#[template(path = "upload.html")]
+struct UploadPage {
+    audit: Audit,
+    uploads: Vec<UploadRecord>,
+    max_upload_mb: u64,
+    page_data: serde_json::Value,
+}
+
+pub async fn upload(State(st): State<AppState>, Path(id): Path<i64>) -> PageResult {
+    let b = st.app.bundle(id).await?;
+    let page_data = serde_json::json!({
+        "audit_id": id,
+        "compressors": b.compressors.iter().map(|c| c.tag.clone()).collect::<Vec<_>>(),
+        "units": crate::ingest::units_by_quantity(),
+    });
+    Ok(render(&UploadPage {
+        max_upload_mb: st.config.max_upload_bytes / (1024 * 1024),
+        audit: b.audit,
+        uploads: b.uploads,
+        page_data,
+    }))
+}

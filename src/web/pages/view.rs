@@ -1,0 +1,539 @@
+/*!
+What the report and the findings share: the summary turned into a view of formatted strings, each
+with its unit, in the reader's unit system, and the chart data in the reader's units. Every figure
+is read from a field of [`Summary`], so a renamed field fails to compile; a figure the summary does
+not have (`None`) shows as not available, as a NaN does.
+*/
+
+use serde_json::Value;
+
+use crate::app::AuditBundle;
+use crate::core::analysis::Summary;
+use crate::core::display::{num, render_parts, Fmt};
+use crate::core::model::human_label;
+use crate::core::recommend::CostSource;
+use crate::core::units::{M3_PER_FT3, PA_PER_PSI};
+
+/// A figure the summary may not have, as the formatter takes it (NaN shows as not available).
+pub(super) fn nan(v: Option<f64>) -> f64 {
+    v.unwrap_or(f64::NAN)
+}
+
+/// One headline figure.
+pub struct FigureView {
+    pub label: String,
+    pub value: String,
+    pub note: String,
+    pub estimated: bool,
+}
+
+/// One measure, formatted.
+pub struct RecView {
+    pub rank: usize,
+    pub kind: String,
+    pub title: String,
+    pub description: String,
+    pub energy: String,
+    pub saving: String,
+    pub cost: String,
+    pub cost_value: f64,
+    pub cost_source: String,
+    pub payback: String,
+    pub co2: String,
+    pub basis: Vec<String>,
+    pub formula: String,
+    pub source: String,
+    pub caution: String,
+}
+
+pub struct CompressorRow {
+    pub tag: String,
+    pub control: String,
+    pub energy: String,
+    pub mean_power: String,
+    pub loaded: String,
+    pub unloaded: String,
+    pub off: String,
+    pub cycles: String,
+    pub specific_power: String,
+    pub rated_specific_power: String,
+    pub degradation: String,
+    pub estimated: bool,
+}
+
+pub struct LeakRow {
+    pub method: String,
+    pub flow: String,
+    pub share: String,
+    pub automatic: bool,
+}
+
+/// Everything both report pages show.
+pub struct ReportView {
+    pub has_data: bool,
+    pub period: String,
+    pub coverage: String,
+    pub flow_note: String,
+    pub figures: Vec<FigureView>,
+    pub recs: Vec<RecView>,
+    pub total_saving: String,
+    pub total_payback: String,
+    pub compressors: Vec<CompressorRow>,
+    pub leaks: Vec<LeakRow>,
+    pub leak_note: String,
+    pub pressure: Vec<(String, String)>,
+    pub demand: Vec<(String, String)>,
+    pub heat: Vec<(String, String)>,
+    pub methods: Vec<(String, String, String)>,
+    pub assumptions: Vec<String>,
+    pub baseline_rule: String,
+    pub chart_data: Value,
+}
+
+/// What a summary field is called on paper.
+fn figure_label(code: &str) -> String {
+    let words = match code {
+        "energy_kwh" => "Energy of the compressors",
+        "specific_power_kw_per_m3_min" => "System specific power",
+        "isothermal_efficiency" => "Isothermal efficiency",
+        "marginal_kw_per_m3_min" => "Marginal specific power (trim machine)",
+        "annual_energy_kwh" => "Annual energy",
+        "annual_cost" => "Annual cost",
+        "cost_per_1000_m3" => "Cost of air",
+        "annual_leak_cost" => "Annual cost of leaks",
+        "air_m3" => "Free air delivered",
+        "loaded_fraction" => "Loaded fraction",
+        "heat_rejected_kwh" => "Heat rejected",
+        "recoverable_kwh" => "Recoverable heat",
+        other => return human_label(other.trim_end_matches("_kwh").trim_end_matches("_m3_min")),
+    };
+    words.to_string()
+}
+
+fn range(fmt_one: impl Fn(f64) -> String, v: f64, lo: f64, hi: f64) -> String {
+    if lo.is_finite() && hi.is_finite() && hi > lo {
+        format!("{} ({} to {})", fmt_one(v), fmt_one(lo), fmt_one(hi))
+    } else {
+        fmt_one(v)
+    }
+}
+
+/// The view of an audit without logger data: nothing but the notice.
+fn empty_view() -> ReportView {
+    ReportView {
+        has_data: false,
+        period: String::new(),
+        coverage: String::new(),
+        flow_note: String::new(),
+        figures: vec![],
+        recs: vec![],
+        total_saving: String::new(),
+        total_payback: String::new(),
+        compressors: vec![],
+        leaks: vec![],
+        leak_note: String::new(),
+        pressure: vec![],
+        demand: vec![],
+        heat: vec![],
+        methods: vec![],
+        assumptions: vec![],
+        baseline_rule: String::new(),
+        chart_data: Value::Null,
+    }
+}
+
+/// The report's view of the summary (`None`: the audit has no logger data yet).
+pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportView {
+    let Some(sm) = sm else { return empty_view() };
+    let cur = &b.audit.site.currency;
+    let estimated = sm.system.estimated;
+    let flow_note = if estimated {
+        "No flow meter was logged: flows are ESTIMATED from compressor states and rated free air delivery."
+            .to_string()
+    } else {
+        "Flows are measured (free air at the site's inlet conditions).".to_string()
+    };
+    let money = |v: f64| fmt.money(v, cur);
+    let mut figures = headline_figures(sm, fmt, cur);
+    let (recs, tot_save, tot_cost) = measures(sm, fmt, cur);
+    if !recs.is_empty() {
+        figures.push(FigureView {
+            label: "Savings of all measures".into(),
+            value: format!("{} a year", money(tot_save)),
+            note: format!(
+                "for {} in all: combined simple payback {} (measures overlap: the sum is an upper bound)",
+                money(tot_cost),
+                fmt.years(tot_cost / tot_save)
+            ),
+            estimated: false,
+        });
+    }
+    let p = &sm.period;
+    let period = format!(
+        "{} to {} ({} h logged, {} s analysis step)",
+        p.start,
+        p.end,
+        num(p.hours, 1),
+        num(p.step_s, 0)
+    );
+    let c = &sm.coverage;
+    let coverage = format!(
+        "power in {} of the time, flow in {}, pressure in {}",
+        fmt.percent(c.power),
+        fmt.percent(c.flow),
+        fmt.percent(c.pressure)
+    );
+    ReportView {
+        has_data: true,
+        period,
+        coverage,
+        flow_note,
+        figures,
+        recs,
+        total_saving: money(tot_save),
+        total_payback: fmt.years(tot_cost / tot_save),
+        compressors: compressor_rows(sm, fmt),
+        leaks: leak_rows(sm, fmt),
+        leak_note: sm.leaks.adopted_rule.clone(),
+        pressure: pressure_rows(sm, fmt),
+        demand: demand_rows(sm, fmt),
+        heat: heat_rows(sm, fmt, cur),
+        methods: sm
+            .methods
+            .iter()
+            .map(|m| (figure_label(&m.figure), m.formula.clone(), m.source.clone()))
+            .collect(),
+        assumptions: sm.assumptions.clone(),
+        baseline_rule: sm.baseline.rule.clone(),
+        chart_data: chart_data(b, fmt, sm),
+    }
+}
+
+/// The headline figures above the measures.
+fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
+    let (sys, base, leaks, heat) = (&sm.system, &sm.baseline, &sm.leaks, &sm.heat);
+    let estimated = sys.estimated;
+    let money = |v: f64| fmt.money(v, cur);
+    vec![
+        FigureView {
+            label: "Annual energy of the compressors".into(),
+            value: fmt.energy_kwh(base.annual_energy_kwh),
+            note: format!(
+                "range {} to {}; logged {}",
+                fmt.energy_kwh(base.annual_energy_kwh_low),
+                fmt.energy_kwh(base.annual_energy_kwh_high),
+                fmt.energy_kwh(sys.energy_kwh)
+            ),
+            estimated: false,
+        },
+        FigureView {
+            label: "Annual cost of compressed air".into(),
+            value: money(base.annual_cost),
+            note: format!(
+                "range {} to {}; energy {} + demand charge {}",
+                money(base.annual_cost_low),
+                money(base.annual_cost_high),
+                money(base.annual_energy_cost),
+                money(base.annual_demand_charge)
+            ),
+            estimated: false,
+        },
+        FigureView {
+            label: "System specific power".into(),
+            value: fmt.specific_power(nan(sys.specific_power_kw_per_m3_min)),
+            note: format!(
+                "range {} to {}; data sheet {} ({} %)",
+                fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_low)),
+                fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_high)),
+                fmt.specific_power(nan(sys.rated_specific_power_kw_per_m3_min)),
+                num(nan(sys.specific_power_degradation_percent), 1)
+            ),
+            estimated,
+        },
+        FigureView {
+            label: "Cost of air".into(),
+            value: fmt.air_cost(nan(base.cost_per_1000_m3), cur),
+            note: format!("at {} per kWh", fmt.money(base.electricity_price_per_kwh, cur)),
+            estimated,
+        },
+        FigureView {
+            label: "Leaks, share of demand".into(),
+            value: format!(
+                "{} ({})",
+                fmt.percent(nan(leaks.share_of_mean_demand)),
+                fmt.flow_m3_min(nan(leaks.adopted_leak_flow_m3_min))
+            ),
+            note: format!(
+                "{}; annual leak cost {} at the trim machine's marginal specific power",
+                leaks.band_description.as_deref().unwrap_or(""),
+                money(nan(leaks.annual_leak_cost))
+            ),
+            estimated,
+        },
+        FigureView {
+            label: "Heat discarded per year".into(),
+            value: fmt.energy_kwh(heat.annual_heat_rejected_kwh),
+            note: format!(
+                "recoverable {}; worth {} a year as displaced fuel",
+                fmt.energy_kwh(heat.annual_recoverable_kwh),
+                money(heat.annual_value)
+            ),
+            estimated: false,
+        },
+        FigureView {
+            label: "Isothermal efficiency".into(),
+            value: fmt.percent(nan(sys.isothermal_efficiency)),
+            note: format!(
+                "range {} to {}: the share of input power the ideal isothermal compression needs",
+                fmt.percent(nan(sys.isothermal_efficiency_low)),
+                fmt.percent(nan(sys.isothermal_efficiency_high))
+            ),
+            estimated,
+        },
+    ]
+}
+
+/// The measures, ranked as the summary ranks them, with the sums of their savings and costs.
+fn measures(sm: &Summary, fmt: &Fmt, cur: &str) -> (Vec<RecView>, f64, f64) {
+    let (mut tot_save, mut tot_cost) = (0.0, 0.0);
+    let recs = sm
+        .recommendations
+        .iter()
+        .enumerate()
+        .map(|(i, r)| {
+            tot_save += r.annual_cost_saving;
+            tot_cost += r.implementation_cost;
+            // The words in parts, each figure in the reader's units.
+            let t = &r.text;
+            RecView {
+                rank: i + 1,
+                kind: r.kind.as_str().into(),
+                title: render_parts(&t.title, fmt),
+                description: render_parts(&t.description, fmt),
+                energy: format!(
+                    "{}{}",
+                    fmt.energy_kwh(r.annual_energy_saving_kwh),
+                    if r.electricity { " electricity" } else { " fuel" }
+                ),
+                saving: fmt.money(r.annual_cost_saving, cur),
+                cost: fmt.money(r.implementation_cost, cur),
+                cost_value: r.implementation_cost,
+                cost_source: if r.implementation_cost_source == CostSource::Edited {
+                    "edited for this audit".into()
+                } else {
+                    "default estimate".into()
+                },
+                payback: fmt.years(nan(r.simple_payback_years)),
+                co2: fmt.co2_t(r.annual_co2_saving_t),
+                basis: t.basis.iter().map(|b| render_parts(b, fmt)).collect(),
+                formula: r.formula.clone(),
+                source: r.source.clone(),
+                caution: r.caution.clone().unwrap_or_default(),
+            }
+        })
+        .collect();
+    (recs, tot_save, tot_cost)
+}
+
+fn compressor_rows(sm: &Summary, fmt: &Fmt) -> Vec<CompressorRow> {
+    sm.compressors
+        .iter()
+        .map(|c| CompressorRow {
+            tag: c.tag.clone(),
+            control: human_label(c.control.as_str()),
+            energy: fmt.energy_kwh(c.energy_kwh),
+            mean_power: fmt.power_kw(c.mean_power_kw),
+            loaded: fmt.percent(c.loaded_fraction + c.part_load_fraction.max(0.0)),
+            unloaded: fmt.percent(c.unloaded_fraction),
+            off: fmt.percent(c.off_fraction),
+            cycles: format!("{} /h", num(c.cycles_per_hour, 1)),
+            specific_power: fmt.specific_power(nan(c.specific_power_kw_per_m3_min)),
+            rated_specific_power: fmt.specific_power(c.rated_specific_power_kw_per_m3_min),
+            degradation: format!("{} %", num(nan(c.specific_power_degradation_percent), 1)),
+            estimated: c.estimated,
+        })
+        .collect()
+}
+
+fn leak_rows(sm: &Summary, fmt: &Fmt) -> Vec<LeakRow> {
+    sm.leaks
+        .estimates
+        .iter()
+        .map(|e| LeakRow {
+            method: match e.test_id {
+                Some(id) => format!("{} (test {id})", human_label(&e.method)),
+                None => human_label(&e.method),
+            },
+            flow: range(
+                |x| fmt.flow_m3_min(x),
+                e.leak_flow_m3_min,
+                e.leak_flow_m3_min_low,
+                e.leak_flow_m3_min_high,
+            ),
+            share: fmt.percent(nan(e.share_of_mean_demand)),
+            automatic: e.automatic,
+        })
+        .collect()
+}
+
+fn pressure_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
+    let p = &sm.pressure;
+    let bar_g = |v: Option<f64>| fmt.pressure_bar_g(nan(v));
+    vec![
+        ("Mean".into(), bar_g(p.mean_bar_g)),
+        ("Minimum / maximum".into(), format!("{} / {}", bar_g(p.min_bar_g), bar_g(p.max_bar_g))),
+        (
+            "5 % / 50 % / 95 % of time below".into(),
+            format!("{} / {} / {}", bar_g(p.p5_bar_g), bar_g(p.p50_bar_g), bar_g(p.p95_bar_g)),
+        ),
+        ("Uncertainty of the transmitter".into(), format!("± {}", fmt.pressure_delta_bar(p.uncertainty_bar))),
+        (
+            "Time below the low limit".into(),
+            format!("{} (limit {})", fmt.percent(nan(p.share_below_low_limit)), bar_g(p.low_limit_bar_g)),
+        ),
+    ]
+}
+
+fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
+    let (sys, d) = (&sm.system, &sm.demand);
+    vec![
+        (
+            "Mean flow".into(),
+            range(
+                |x| fmt.flow_m3_min(x),
+                sys.mean_flow_m3_min,
+                sys.mean_flow_m3_min_low,
+                sys.mean_flow_m3_min_high,
+            ),
+        ),
+        (
+            "Peak flow".into(),
+            format!(
+                "{} (mean over {} s)",
+                fmt.flow_m3_min(sys.peak_flow_m3_min),
+                num(sys.peak_flow_window_s, 0)
+            ),
+        ),
+        (
+            "Production / non-production mean flow".into(),
+            format!(
+                "{} / {}",
+                fmt.flow_m3_min(nan(d.production_mean_flow_m3_min)),
+                fmt.flow_m3_min(nan(d.non_production_mean_flow_m3_min))
+            ),
+        ),
+        (
+            "Production share of time".into(),
+            format!("{} ({})", fmt.percent(d.production_share_of_time), d.production_rule),
+        ),
+        (
+            "Mean and peak power".into(),
+            format!("{} / {}", fmt.power_kw(sys.mean_power_kw), fmt.power_kw(sys.peak_power_kw)),
+        ),
+    ]
+}
+
+fn heat_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
+    let h = &sm.heat;
+    vec![
+        ("Heat rejected in the logged period".into(), fmt.energy_kwh(h.heat_rejected_kwh)),
+        ("Recoverable in the logged period".into(), fmt.energy_kwh(h.recoverable_kwh)),
+        ("Recoverable at full load".into(), fmt.power_kw(h.recoverable_kw_at_full_load)),
+        (
+            "Useful heat per year".into(),
+            format!(
+                "{} ({})",
+                fmt.energy_kwh(h.useful_heat_kwh_per_year),
+                h.use_kind.as_str().replace('_', " ")
+            ),
+        ),
+        ("Fuel displaced per year".into(), fmt.energy_kwh(h.displaced_fuel_kwh_per_year)),
+        (
+            "Value per year / as process water all year".into(),
+            format!("{} / {}", fmt.money(h.annual_value, cur), fmt.money(h.process_water_annual_value, cur)),
+        ),
+    ]
+}
+
+/// Chart data: converted to the reader's units here, so the page only draws.
+fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
+    let us = fmt.is_us();
+    let atm = b.audit.site.atmospheric_pressure_kpa_abs() * 1000.0;
+    let flow_k = if us { 1.0 / M3_PER_FT3 } else { 1.0 }; // m³/min -> cfm
+    let sp_k = if us { 100.0 * M3_PER_FT3 } else { 1.0 };
+    let part_load: Vec<Value> = sm
+        .system
+        .part_load_curve
+        .iter()
+        .map(|p| serde_json::json!({"x": p.flow_m3_min * flow_k, "y": p.specific_power_kw_per_m3_min * sp_k}))
+        .collect();
+    let duration: Vec<Value> = sm
+        .demand
+        .flow_duration_curve
+        .iter()
+        .map(|p| serde_json::json!({"x": p.share_of_time * 100.0, "y": p.flow_m3_min * flow_k}))
+        .collect();
+    let heatmap: Vec<Vec<Option<f64>>> = sm
+        .demand
+        .weekday_hour_mean_flow_m3_min
+        .iter()
+        .map(|hours| hours.iter().map(|x| x.map(|v| v * flow_k)).collect())
+        .collect();
+    let rated_points: Vec<Value> = b
+        .compressors
+        .iter()
+        .map(|c| serde_json::json!({"x": c.rated_flow_m3_min * flow_k, "y": c.to_spec().rated_specific_power_kw_per_m3_min() * sp_k, "label": c.tag}))
+        .collect();
+    let channels: Vec<Value> = b
+        .channels
+        .iter()
+        .filter(|c| c.quantity != "temperature")
+        .map(|c| {
+            let name = match (&c.compressor_tag, c.quantity.as_str()) {
+                (Some(t), _) => t.clone(),
+                (None, "pressure") => format!("pressure at {}", c.label),
+                (None, q) => format!("{q} at {}", c.label),
+            };
+            serde_json::json!({"id": c.id, "quantity": if c.quantity == "energy" { "power" } else { c.quantity.as_str() }, "name": name, "counter": c.quantity == "energy"})
+        })
+        .collect();
+    let leaks: Vec<Value> = sm
+        .leaks
+        .estimates
+        .iter()
+        .map(|e| {
+            serde_json::json!({
+                "label": e.method, "y": e.leak_flow_m3_min * flow_k,
+                "low": e.leak_flow_m3_min_low * flow_k, "high": e.leak_flow_m3_min_high * flow_k})
+        })
+        .collect();
+    let input_kwh = sm.baseline.annual_energy_kwh;
+    let h = &sm.heat;
+    serde_json::json!({
+        "audit_id": b.audit.id,
+        "timezone": b.audit.site.timezone,
+        "first_ms": b.channels.iter().map(|c| c.first_ms).min(),
+        "last_ms": b.channels.iter().map(|c| c.last_ms).max(),
+        "channels": channels,
+        "units": {
+            "system": if us { "us" } else { "si" },
+            "pressure": fmt.pressure_unit(),
+            "flow": fmt.flow_unit(),
+            "specific_power": fmt.specific_power_unit(),
+            // display = (SI value - offset) * scale
+            "pressure_offset_pa": atm,
+            "pressure_scale": if us { 1.0 / PA_PER_PSI } else { 1.0e-5 },
+            "flow_scale": 60.0 * flow_k,
+        },
+        "estimated_flow": sm.system.estimated,
+        "part_load": part_load,
+        "rated_points": rated_points,
+        "duration": duration,
+        "heatmap": heatmap,
+        "leaks": leaks,
+        "heat_balance": {
+            "labels": ["electrical input", "heat rejected", "recoverable", "used (displaces fuel)"],
+            "mwh": [input_kwh / 1000.0, h.annual_heat_rejected_kwh / 1000.0, h.annual_recoverable_kwh / 1000.0, h.useful_heat_kwh_per_year / 1000.0],
+        },
+    })
+}
