@@ -466,10 +466,10 @@ fn library_import(dir: &Path, csv: &Path) -> LibraryRun {
     rt.block_on(async {
         let db = dir.join("library.sqlite");
         let app = airledger::app::App::open(&db, airledger::app::Config::beside(&db)).await.expect("open db");
-        let patch: airledger::records::SitePatch = serde_json::from_value(json!({})).expect("site");
+        let patch: airledger::site::SitePatch = serde_json::from_value(json!({})).expect("site");
         let audit = app.create_audit("bench plant", &patch).await.expect("audit");
         for c in compressors() {
-            let input: airledger::records::CompressorInput = serde_json::from_value(c).expect("compressor");
+            let input: airledger::site::CompressorInput = serde_json::from_value(c).expect("compressor");
             app.save_compressor(audit, 0, &input).await.expect("compressor");
         }
         let m: Mapping = serde_json::from_value(mapping()).expect("mapping");
@@ -494,7 +494,7 @@ fn library_import(dir: &Path, csv: &Path) -> LibraryRun {
         app.summary(audit, None).await.expect("summary");
         let summary_took = t.elapsed();
         // A price edit bumps the revision; the summary is priced again from the kept data figures.
-        let price: airledger::records::SitePatch =
+        let price: airledger::site::SitePatch =
             serde_json::from_value(json!({"electricity_price_per_kwh": 0.19})).expect("site");
         app.update_audit(audit, None, None, None, &price).await.expect("edit");
         let t = Instant::now();

@@ -7,7 +7,7 @@ import as the command line, and its summary worked out so the first report reads
 use std::sync::Arc;
 
 use crate::ingest::Mapping;
-use crate::records::{CompressorInput, ReceiverInput, SitePatch};
+use crate::site::{CompressorInput, ReceiverInput, SitePatch};
 use crate::store::audits;
 use crate::store::import::Progress;
 

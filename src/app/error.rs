@@ -5,7 +5,7 @@ prints it.
 */
 
 use crate::ingest::IngestError;
-use crate::records::FieldError;
+use crate::site::FieldError;
 use crate::store::import::ImportError;
 use crate::store::StoreError;
 

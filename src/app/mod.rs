@@ -118,7 +118,7 @@ impl App {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::records::{CompressorInput, SitePatch};
+    use crate::site::{CompressorInput, SitePatch};
     use serde_json::json;
 
     /// Two hours at 10 s of one compressor drawing a constant `kw`, with flow and pressure.

@@ -4,7 +4,8 @@ it is plain functions over plain data, each module with its unit tests beside it
 
 Architecture invariant: `core` imports nothing from `store`, `ingest` or `web`.
 
-- [`units`]: the canonical SI types and reference conditions; [`air`]: atmosphere and unit parsing.
+- [`units`]: the canonical SI types and reference conditions; [`air`]: the atmosphere (ISO 2533);
+  [`unit_table`]: the one table of unit spellings a logger file may use, with their SI factors.
 - [`thermo`]: isothermal, isentropic and polytropic compression, staging, cooler duties.
 - [`series`]: one timeline: alignment of channels into equal bins, integration.
 - [`states`]: compressor states from power, loaded fractions, cycles, flow from states.
@@ -17,6 +18,8 @@ Architecture invariant: `core` imports nothing from `store`, `ingest` or `web`.
 - [`display`]: formatting every figure a person sees with its unit, SI or US customary, and the
   measures' parts in a reader's units.
 - [`model`]: the plain description of a site, its compressors and storage.
+- [`costs`]: the one table of default implementation costs; [`simulate`]: the what-if replay of
+  the logged demand through a changed compressor room.
 */
 
 pub mod air;

@@ -10,7 +10,7 @@ use sqlx::{Row, SqlitePool};
 use super::{begin_write, now_rfc3339, StoreError};
 use crate::core::model::{CompressorKind, Control, Cooling};
 use crate::core::units::UnitSystem;
-use crate::records::{CompressorRecord, ReceiverRecord, SiteRecord};
+use crate::site::{CompressorRecord, ReceiverRecord, SiteRecord};
 
 /// An audit's header and site.
 #[derive(Debug, Clone, Serialize)]

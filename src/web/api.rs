@@ -14,7 +14,7 @@ use super::AppState;
 use crate::core::fieldtest::parse_time_ms;
 use crate::core::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature};
 use crate::core::{leaks, thermo};
-use crate::records::{CompressorInput, ReceiverInput, SitePatch};
+use crate::site::{CompressorInput, ReceiverInput, SitePatch};
 
 /// `Json` whose rejection is our error shape: unreadable JSON is 400, wrong types or missing fields 422.
 pub struct ApiJson<T>(pub T);
@@ -391,7 +391,7 @@ pub struct OrificeBody {
 }
 
 fn default_cd() -> f64 {
-    // A sharp-edged hole, the usual leak (FIELD-NOTES §5: 0.61-0.65).
+    // A sharp-edged hole, the usual leak: Cd 0.61-0.65 (thin-plate orifice, common practice).
     0.61
 }
 
@@ -425,7 +425,7 @@ pub async fn calc_orifice(
             "inlet_temperature_c": site.inlet_temperature.c(),
             "choked": site.atmosphere.0 / upstream.0 <= leaks::critical_pressure_ratio(),
             "formula": "choked: m = Cd A p0 sqrt(k/(R T0)) (2/(k+1))^((k+1)/(2(k-1))); free air V = m R T_in / p_atm",
-            "source": "isentropic nozzle flow of an ideal gas (k = 1.4, R = 287 J/(kg K)); checked against the published orifice discharge table (FIELD-NOTES §5)",
+            "source": "isentropic nozzle flow of an ideal gas (k = 1.4, R = 287 J/(kg K)); checked against the published orifice discharge table (US DOE compressed-air sourcebook)",
         }),
     ))
 }

@@ -11,7 +11,7 @@ use serde::Serialize;
 
 use crate::app;
 use crate::ingest::IngestError;
-use crate::records::FieldError;
+use crate::site::FieldError;
 
 #[derive(Debug, thiserror::Error)]
 pub enum AppError {

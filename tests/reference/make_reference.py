@@ -10,7 +10,7 @@ Run once by hand (not by CI); the Rust tests only read the fixture:
     python3 -m venv .venv && .venv/bin/pip install fluids==1.3.1 CoolProp==8.0.0 pint==0.25.3
     .venv/bin/python tests/reference/make_reference.py
 
-Conventions shared with the Rust code: ideal-gas air with R = 287.0 J/(kg K) (FIELD-NOTES §7) and
+Conventions shared with the Rust code: ideal-gas air with R = 287.0 J/(kg K) (ideal-gas air, common practice) and
 k = 1.4. fluids works per mole with the universal gas constant, so a J/mol value becomes J/kg by
 dividing by the molar mass that R = 287 implies: M = 8.314462618 / 287 kg/mol.
 """
@@ -37,7 +37,7 @@ from fluids.safety_valve import API520_A_g
 from scipy.optimize import brentq
 
 R_UNIVERSAL = 8.314462618  # J/(mol K), the value fluids uses (fluids.constants.R)
-R_AIR = 287.0  # J/(kg K), FIELD-NOTES §7
+R_AIR = 287.0  # J/(kg K), ideal-gas air (common practice; ISO 2533 uses 287.05287)
 K_AIR = 1.4
 M_AIR = R_UNIVERSAL / R_AIR  # kg/mol implied by R = 287
 P_ATM = 101325.0
@@ -132,7 +132,7 @@ for z in (0.0, 250.0, 1000.0, 1500.0, 3000.0):
 # ---------------------------------------------------------------- thermo.rs: compression
 T1 = 293.15
 P1 = 101325.0
-P2 = 790801.08  # FIELD-NOTES §11
+P2 = 790801.08  # about 100 psig at sea level: 101325 + 689476 Pa (psi to Pa, NIST SP 811)
 R_RATIO = P2 / P1
 base_inputs = {"t1_k": T1, "p1_pa": P1, "p2_pa": P2, "k": K_AIR}
 
@@ -246,7 +246,7 @@ put("compress.shaft_power_w", isentropic_total / ex["isentropic_efficiency"], "W
 # ---------------------------------------------------------------- leaks.rs: orifice flow
 # fluids' API 520 gas relief sizing, A = f(m, T, MW, k, P1, P2, Kd), is the ideal nozzle equation for
 # critical flow and a coefficient form (F2) for subcritical flow. Inverted for the mass flow through a
-# given area with Kd = 1 (the FIELD-NOTES orifice table's coefficient 1.0).
+# given area with Kd = 1 (the published orifice discharge table's coefficient 1.0, US DOE sourcebook).
 MW_G_MOL = M_AIR * 1000.0
 
 

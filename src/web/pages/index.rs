@@ -9,7 +9,7 @@ use axum::Form;
 
 use super::audit::{opt_text, site_patch};
 use super::{render, PageResult};
-use crate::records::FieldError;
+use crate::site::FieldError;
 use crate::store::audits::AuditListItem;
 use crate::web::AppState;
 

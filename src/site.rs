@@ -1,5 +1,6 @@
 /*!
-The audit's records as people edit them (site, compressors, receivers) and their validation.
+The site as people describe it: its air, prices and schedule, its compressors and receivers, and
+their validation.
 
 These are the shapes of the JSON API and of the edit forms. [`SitePatch`] and [`CompressorInput`] are
 parsed and validated here, so an invalid value never reaches storage; the analysis gets the plain
@@ -438,7 +439,7 @@ mod tests {
     fn site_atmosphere_follows_altitude_unless_given() {
         let mut s = SiteRecord::default();
         s.apply(&SitePatch { altitude_m: Some(1000.0), ..Default::default() }).unwrap();
-        // ASHRAE Fundamentals ch. 1 eq. 3: 1000 m -> 89.875 kPa (FIELD-NOTES §11).
+        // ASHRAE Fundamentals ch. 1 eq. 3: 1000 m -> 89.875 kPa.
         assert!((s.atmospheric_pressure_kpa_abs() - 89.875).abs() < 0.01);
         s.apply(&SitePatch { atmospheric_pressure_kpa_abs: Some(95.0), ..Default::default() }).unwrap();
         assert_eq!(s.atmospheric_pressure_kpa_abs(), 95.0);
