@@ -7,9 +7,7 @@ summary's computation in the background (`summary`), so the next report reads th
 use crate::core::analysis::{Accuracy, LeakEstimate};
 use crate::core::display::Fmt;
 use crate::core::model::{CompressorSpec, StorageSpec};
-use crate::site::{
-    CompressorInput, CompressorRecord, ReceiverInput, ReceiverRecord, SitePatch, SiteRecord,
-};
+use crate::site::{CompressorInput, CompressorRecord, ReceiverInput, ReceiverRecord, SitePatch, SiteRecord};
 use crate::store::audits::{self, Audit, AuditListItem, CompressorWrite, FieldTestRecord, UploadRecord};
 use crate::store::read::{self, ChannelInfo, ChartPoint};
 

@@ -12,9 +12,7 @@ use super::{render, PageError, PageResult};
 use crate::app::{App, AuditBundle};
 use crate::core::display::Fmt;
 use crate::core::model::{CompressorKind, Control};
-use crate::site::{
-    CompressorInput, CompressorRecord, FieldError, ReceiverInput, ReceiverRecord, SitePatch,
-};
+use crate::site::{CompressorInput, CompressorRecord, FieldError, ReceiverInput, ReceiverRecord, SitePatch};
 use crate::store::audits::{Audit, UploadRecord};
 use crate::web::error::AppError;
 use crate::web::AppState;
