@@ -5,26 +5,27 @@ drains and relief valves, hot surfaces, interlocks) and always defers to local c
 practice; it is not taken from any one standard.
 
 - [`PRESSURE_TEST_CAUTIONS`]: before a bleed-down or pressure-decay test (`core::leaks`,
-  `core::fieldtest`), and on the field-test page.
+  `core::fieldtest`), on the field-test page and in the findings (`templates/macros.html` reads
+  this list; the pages hold no wording of their own).
 - [`HEAT_RECOVERY_CAUTIONS`]: wherever heat recovery is proposed (the summary's `heat.cautions`), and
   [`HEAT_RECOVERY_MEASURE_CAUTION`] as the one-line caution of the `recover_heat` measure.
 */
 
 /// Shown wherever a user plans a bleed-down or pressure-decay test.
 pub const PRESSURE_TEST_CAUTIONS: &[&str] = &[
-    "isolate and lock out the compressors as the site's procedures require before the test",
-    "never exceed the rated pressure of any receiver or vessel in the system",
-    "keep clear of drains and relief valves while the system is under pressure",
-    "follow local pressure-equipment codes and licensed practice; this tool does not replace them",
+    "Isolate and lock out the compressors as the site's procedures require; tell everyone who uses air.",
+    "Never exceed a receiver's or any vessel's rated pressure; check relief valves are in date.",
+    "Keep clear of drains, relief valves and hoses that may move when pressure changes.",
+    "Follow local pressure-equipment codes and the site's licensed practice; they come first.",
 ];
 
 /// Shown wherever a user plans a heat-recovery measure (the summary's `heat.cautions`).
 pub const HEAT_RECOVERY_CAUTIONS: &[&str] = &[
-    "hot oil, hot ducts and water above 60 °C can burn: guard and insulate them",
-    "interlock the recovery circuit so that a blocked or failed circuit never stops the \
-     compressor's own cooling",
-    "follow local codes and licensed practice for pressure equipment, potable water and \
-     ventilation",
+    "Hot oil, hot ducts and water above 60 °C can burn: insulate, guard and label hot surfaces.",
+    "Interlock the recovery circuit so that a blocked or closed circuit never stops the compressor's \
+     own cooling.",
+    "Design and installation by licensed practice under local codes (pressure equipment, potable \
+     water, ducting, fire).",
 ];
 
 /// The `recover_heat` measure's caution, in one line.
