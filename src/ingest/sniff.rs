@@ -5,11 +5,15 @@ Nothing here is final: the upload page shows the guess and the auditor confirms 
 The guesses, in order:
 
 1. **Encoding**: valid UTF-8 is UTF-8, anything else Windows-1252 (see `text`).
-2. **Delimiter**: `,` `;` or tab, the one whose field count stays constant over the most lines at
-   the end of the head (ties: tab, then `;`, then `,`: a `;` or a tab is rarely anything else).
-3. **Header and preamble**: within that constant block, the header is the last mostly-text line
-   before the first mostly-data line (numbers, timestamps, missing markers); everything above it is
-   preamble.
+2. **Delimiter**: `,` `;` or tab, the one whose field count stays constant over the most records
+   at the end of the head (ties: tab, then `;`, then `,`: a `;` or a tab is rarely anything else).
+   The head is read into records with each candidate by the import's own reader
+   ([`RecordReader`]), so quoted delimiters and line breaks, CR-only line ends and stray quotes
+   preview exactly as they import.
+3. **Header and preamble**: within that constant block, the header is the last mostly-text record
+   before the first mostly-data record (numbers, timestamps, missing markers); everything above it
+   is preamble. `header_line` is the physical line where the header record starts, counted as the
+   reader counts (every line break, quoted ones included).
 4. **Decimal mark**: `.` with `,` as delimiter; otherwise `,` when more cells look like `12,5` than
    `12.5`.
 5. **Timestamp**: the first column (or pair of adjacent date and time columns) whose sampled cells
@@ -30,8 +34,9 @@ per logger layout.
 
 use crate::core::unit_table;
 use crate::ingest::mapping::{ColumnMap, Mapping, TimestampSpec};
-use crate::ingest::number::{is_missing_marker, parse_cell, trim, Cell};
-use crate::ingest::text::{decode_line, detect, strip_bom};
+use crate::ingest::number::{is_missing_marker, parse_cell, Cell};
+use crate::ingest::record::{Limits, RecordReader};
+use crate::ingest::text::{decode_line, detect, strip_bom, Encoding};
 use crate::ingest::timestamp::TimestampParser;
 use crate::ingest::IngestError;
 use serde::Serialize;
@@ -81,41 +86,6 @@ pub struct Sniffed {
     pub timestamp: Option<TimestampGuess>,
     pub columns: Vec<ColumnGuess>,
     pub day_first_ambiguous: bool,
-}
-
-/// Split a decoded line into fields, honouring `"…"` quotes with `""` escapes.
-pub fn split_fields(line: &str, delim: char) -> Vec<String> {
-    let mut out = Vec::new();
-    let mut cur = String::new();
-    let mut chars = line.chars().peekable();
-    let mut in_q = false;
-    let mut at_start = true;
-    while let Some(c) = chars.next() {
-        if in_q {
-            if c == '"' {
-                if chars.peek() == Some(&'"') {
-                    cur.push('"');
-                    chars.next();
-                } else {
-                    in_q = false;
-                }
-            } else {
-                cur.push(c);
-            }
-        } else if c == delim {
-            out.push(std::mem::take(&mut cur));
-            at_start = true;
-            continue;
-        } else if c == '"' && at_start && cur.trim().is_empty() {
-            cur.clear();
-            in_q = true;
-        } else {
-            cur.push(c);
-        }
-        at_start = false;
-    }
-    out.push(cur);
-    out
 }
 
 /// The candidate timestamp formats, in order of preference.
@@ -278,7 +248,7 @@ fn guess_column(name: &str, index: usize, numeric: bool) -> ColumnGuess {
 }
 
 fn block_of(counts: &[usize]) -> (usize, usize) {
-    // (start, field count) of the constant block at the end, skipping trailing blank lines.
+    // (start, field count) of the constant block at the end, skipping trailing blank records.
     let mut end = counts.len();
     while end > 0 && counts[end - 1] == 0 {
         end -= 1;
@@ -294,50 +264,74 @@ fn block_of(counts: &[usize]) -> (usize, usize) {
     (start, c)
 }
 
+/// One record of the head as the sniffer looks at it.
+struct HeadRecord {
+    /// The 1-based physical line where it starts (as the parser counts).
+    line: u64,
+    /// Nothing but spaces and tabs on its line.
+    blank: bool,
+    /// The fields, decoded.
+    fields: Vec<String>,
+}
+
+/// The records of the head with one candidate delimiter, read as the import reads them, and
+/// without trailing blank records. When the head was `cut` at [`SNIFF_BYTES`], a last record not
+/// ended by a line break may be incomplete and is dropped (unless it is all there is); a reader
+/// error (an unclosed quote, most likely one cut off with the head) ends the sample there: the
+/// records before it stand, and the import reports the error with its line.
+fn read_head(body: &[u8], delim: u8, encoding: Encoding, cut: bool) -> Vec<HeadRecord> {
+    let mut reader = RecordReader::new(body, delim, Limits::DEFAULT);
+    let mut out = Vec::new();
+    let complete = loop {
+        match reader.next() {
+            Ok(Some(rec)) => out.push(HeadRecord {
+                line: rec.line(),
+                blank: rec.is_blank(),
+                fields: rec.iter().map(|f| decode_line(f, Some(encoding)).into_owned()).collect(),
+            }),
+            Ok(None) => break true,
+            Err(_) => break false,
+        }
+    };
+    if complete && cut && !body.ends_with(b"\n") && !body.ends_with(b"\r") && out.len() > 1 {
+        out.pop();
+    }
+    while out.last().is_some_and(|r| r.blank) {
+        out.pop();
+    }
+    out
+}
+
 /// Guess the layout of a file from its head (the first ~64 KiB).
 pub fn sniff(head: &[u8]) -> Result<Sniffed, IngestError> {
     let head = &head[..head.len().min(SNIFF_BYTES)];
     let encoding = detect(head);
     let body = strip_bom(head);
-    let mut raw_lines: Vec<&[u8]> = body.split(|&b| b == b'\n').collect();
-    // A head cut mid-line: drop the partial last line (unless it is all we have).
-    if head.len() == SNIFF_BYTES && raw_lines.len() > 2 {
-        raw_lines.pop();
-    }
-    while raw_lines.last().is_some_and(|l| trim(l).is_empty()) {
-        raw_lines.pop();
-    }
-    let lines: Vec<String> = raw_lines
-        .iter()
-        .map(|l| {
-            let l = l.strip_suffix(b"\r").unwrap_or(l);
-            decode_line(l, Some(encoding)).into_owned()
-        })
-        .collect();
-    if lines.is_empty() {
+    if body.iter().all(|b| matches!(b, b' ' | b'\t' | b'\r' | b'\n')) {
         return Err(IngestError::new("the file is empty"));
     }
+    let cut = head.len() == SNIFF_BYTES;
     // Delimiter: the longest constant block with >= 2 fields; ties by preference.
-    let mut best: Option<(char, usize, usize)> = None; // (delim, start, count)
+    let mut best: Option<(char, Vec<HeadRecord>, usize)> = None; // (delim, records, block start)
     for d in ['\t', ';', ','] {
-        let counts: Vec<usize> =
-            lines.iter().map(|l| if l.trim().is_empty() { 0 } else { split_fields(l, d).len() }).collect();
+        let records = read_head(body, d as u8, encoding, cut);
+        let counts: Vec<usize> = records.iter().map(|r| if r.blank { 0 } else { r.fields.len() }).collect();
         let (start, c) = block_of(&counts);
         if c < 2 {
             continue;
         }
-        let len = lines.len() - start;
-        if best.is_none_or(|(_, bs, _)| len > lines.len() - bs) {
-            best = Some((d, start, c));
+        let len = records.len() - start;
+        if best.as_ref().is_none_or(|(_, br, bs)| len > br.len() - bs) {
+            best = Some((d, records, start));
         }
     }
-    let Some((delim, block_start, _)) = best else {
+    let Some((delim, records, block_start)) = best else {
         return Err(IngestError::new(
-            "cannot find a delimiter: no run of lines splits into the same number of fields by \
+            "cannot find a delimiter: no run of records splits into the same number of fields by \
              ',', ';' or tab",
         ));
     };
-    let rows: Vec<Vec<String>> = lines.iter().map(|l| split_fields(l, delim)).collect();
+    let (lines, rows): (Vec<u64>, Vec<Vec<String>>) = records.into_iter().map(|r| (r.line, r.fields)).unzip();
     // Header: the last mostly-text line before the first mostly-data line of the block.
     let first_data = (block_start..rows.len()).find(|&i| mostly_data(&rows[i]));
     let header_ix = match first_data {
@@ -475,7 +469,8 @@ pub fn sniff(head: &[u8]) -> Result<Sniffed, IngestError> {
         encoding: encoding.name().to_string(),
         delimiter: if delim == '\t' { "\t".into() } else { delim.to_string() },
         decimal: decimal.to_string(),
-        header_line: header_ix as u32 + 1,
+        // At most 65,537 lines in a 64 KiB head: no truncation.
+        header_line: lines[header_ix] as u32,
         header,
         preview,
         timestamp,
@@ -657,5 +652,97 @@ mod tests {
     fn a_file_without_a_header_is_refused() {
         let e = sniff(b"2026-03-02 06:00:00,50\n2026-03-02 06:00:01,51\n").unwrap_err();
         assert!(e.message.contains("header"), "{}", e.message);
+    }
+
+    #[test]
+    fn a_cr_only_file_counts_its_lines() {
+        // Line ends of a bare CR (as some older spreadsheet exports write): two preamble lines,
+        // the header on line 3.
+        let file = b"Site;Plant 4\rStart;02.03.2026\rZeit;C1 kW;Druck [bar]\r\
+            02.03.2026 06:00:00;50,5;6,8\r02.03.2026 06:00:10;50,7;6,9\r";
+        let s = sniff(file).unwrap();
+        assert_eq!((s.delimiter.as_str(), s.decimal.as_str(), s.header_line), (";", ",", 3));
+        assert_eq!(s.header, vec!["Zeit", "C1 kW", "Druck [bar]"]);
+        assert_eq!(
+            s.preview,
+            vec![vec!["02.03.2026 06:00:00", "50,5", "6,8"], vec!["02.03.2026 06:00:10", "50,7", "6,9"]]
+        );
+        assert_eq!(s.columns.len(), 2);
+        assert_eq!(s.timestamp.unwrap().format, "%d.%m.%Y %H:%M:%S");
+    }
+
+    #[test]
+    fn quoted_delimiters_and_line_breaks_preview_as_one_field() {
+        // The preamble's second record is a quoted cell over two physical lines (2 and 3), so
+        // the header starts on physical line 5, not on the fifth record.
+        let file = b"Audit,plant 4\n\"Note\",\"first line\nsecond line\"\n\n\
+            time,C1 kW,remark\n\
+            2026-03-02 06:00:00,50.5,\"valve A, closed\"\n\
+            2026-03-02 06:00:10,50.7,\"drain\nopen\"\n\
+            2026-03-02 06:00:20,50.9,ok\n";
+        let s = sniff(file).unwrap();
+        assert_eq!((s.delimiter.as_str(), s.header_line), (",", 5));
+        assert_eq!(s.header, vec!["time", "C1 kW", "remark"]);
+        assert_eq!(s.preview.len(), 3);
+        assert_eq!(s.preview[0], vec!["2026-03-02 06:00:00", "50.5", "valve A, closed"]);
+        assert_eq!(s.preview[1], vec!["2026-03-02 06:00:10", "50.7", "drain\nopen"]);
+        assert_eq!(s.preview[2][2], "ok");
+        assert_eq!(s.timestamp.as_ref().unwrap().column, "time");
+        // The import reads the file with the proposed mapping: the header is where the sniff
+        // says, and all three rows are read.
+        let m = suggest_mapping(&s);
+        let mut sink = Vec::new();
+        let r = parse_stream(&file[..], &m, &SiteAir::new(101.325, 20.0), &mut sink, &mut |_| {}).unwrap();
+        assert_eq!((r.rows, r.readings), (3, 3));
+    }
+
+    #[test]
+    fn a_stray_inch_mark_in_the_last_column_swallows_no_row() {
+        // `12" main` is a pipe size: a quote in the middle of an unquoted field is a literal
+        // (RFC 4180 opens quotes only at the start of a field).
+        let file = b"time,C1 kW,pipe\n2026-03-02 06:00:00,50.5,12\" main\n\
+            2026-03-02 06:00:10,50.7,x\n2026-03-02 06:00:20,50.9,y\n";
+        let s = sniff(file).unwrap();
+        assert_eq!((s.delimiter.as_str(), s.header_line), (",", 1));
+        assert_eq!(s.preview.len(), 3);
+        assert_eq!(s.preview[0][2], "12\" main");
+        assert_eq!(s.preview[1], vec!["2026-03-02 06:00:10", "50.7", "x"]);
+        assert_eq!(s.preview[2], vec!["2026-03-02 06:00:20", "50.9", "y"]);
+    }
+
+    #[test]
+    fn a_head_cut_inside_a_quoted_field_ends_the_sample_there() {
+        // A 64 KiB head that stops inside an open quote: the rows before it are the sample.
+        let mut file = b"time,C1 kW,remark\n".to_vec();
+        let mut rows = 0;
+        while file.len() < SNIFF_BYTES - 100 {
+            file.extend_from_slice(
+                format!("2026-03-02 06:{:02}:00,{}.5,ok\n", rows % 60, 40 + rows % 20).as_bytes(),
+            );
+            rows += 1;
+        }
+        file.extend_from_slice(b"2026-03-02 07:00:00,51.5,\"");
+        file.resize(SNIFF_BYTES, b'x');
+        let s = sniff(&file).unwrap();
+        assert_eq!((s.delimiter.as_str(), s.header_line), (",", 1));
+        assert_eq!(s.header, vec!["time", "C1 kW", "remark"]);
+        assert_eq!(s.preview.len(), 10);
+        // A head cut inside the first field of a row: that partial row (one field) is dropped;
+        // kept, it would end the constant block and no delimiter would be found.
+        let row = b"2026-03-02 06:00:10,50.7,ok\n";
+        let mut file = b"time,C1 kW,remark\n2026-03-02 06:00:00,50.5,".to_vec();
+        let pad = (SNIFF_BYTES - file.len() - 1 - 5) % row.len();
+        file.extend(std::iter::repeat_n(b'o', pad));
+        file.push(b'\n');
+        while file.len() <= SNIFF_BYTES {
+            file.extend_from_slice(row);
+        }
+        let head = &file[..SNIFF_BYTES];
+        let tail = &head[head.iter().rposition(|&b| b == b'\n').unwrap() + 1..];
+        assert_eq!(tail, b"2026-", "the cut lands in a first field");
+        let s = sniff(&file).unwrap();
+        assert_eq!((s.delimiter.as_str(), s.header_line), (",", 1));
+        assert_eq!(s.header, vec!["time", "C1 kW", "remark"]);
+        assert!(s.preview.iter().all(|r| r.len() == 3));
     }
 }
