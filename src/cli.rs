@@ -1,6 +1,10 @@
 /*!
 The command line: `serve`, `demo`, `import`, `report`, `backup`. Each command opens the database
 (migrating it), does its work through the same library code the server uses, and exits.
+
+`serve`, `demo` and `import` write: each owns the database file for as long as it runs (its lock,
+see `store`), and stops at once, naming the file and the pid that holds it, while another process
+owns it. `backup` and `report` only read, and run also beside a running server ([`App::open_shared`]).
 */
 
 use std::io::Write;
@@ -125,9 +129,23 @@ fn check_access(bind: &SocketAddr, token: &Option<String>) -> anyhow::Result<()>
     Ok(())
 }
 
-/// The application over the database file, its spool folder beside it.
+/// The application owning the database file, its spool folder beside it; refused while another
+/// process owns the file.
 async fn open(db: &Path) -> anyhow::Result<App> {
-    Ok(App::open(db, app::Config::beside(db)).await?)
+    App::open(db, app::Config::beside(db)).await.map_err(store_error)
+}
+
+/// The application over the database file to read it, also beside a running server.
+async fn open_shared(db: &Path) -> anyhow::Result<App> {
+    App::open_shared(db, app::Config::beside(db)).await.map_err(store_error)
+}
+
+/// A storage error said as it is (the file in use, the file damaged), not as an internal fault.
+fn store_error(e: app::Error) -> anyhow::Error {
+    match e {
+        app::Error::Internal(e) if e.is::<store::StoreError>() => e,
+        e => e.into(),
+    }
 }
 
 fn web_config(max_upload_mb: u64, token: Option<String>) -> web::Config {
@@ -202,7 +220,7 @@ async fn run(command: Command) -> anyhow::Result<()> {
             Ok(())
         }
         Command::Report { db, audit, format, out } => {
-            let app = open(&db).await?;
+            let app = open_shared(&db).await?;
             let text = match format.as_str() {
                 "json" => serde_json::to_string_pretty(&app.summary(audit, None).await?.to_json()?)?,
                 "html" => crate::web::pages::findings::findings_html(&app, audit).await?,
@@ -215,7 +233,7 @@ async fn run(command: Command) -> anyhow::Result<()> {
             Ok(())
         }
         Command::Backup { db, out } => {
-            let app = open(&db).await?;
+            let app = open_shared(&db).await?;
             if out.exists() {
                 anyhow::bail!("{} exists already; choose a new file", out.display());
             }

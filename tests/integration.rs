@@ -10,5 +10,7 @@ mod api;
 mod browser;
 #[path = "integration/engine.rs"]
 mod engine;
+#[path = "integration/hostile_store.rs"]
+mod hostile_store;
 #[path = "integration/ingest.rs"]
 mod ingest;

@@ -133,3 +133,37 @@ impl App {
         })
     }
 }
+
+/// Remove every file and folder in the spool folder `dir`, logging how many and how much; called
+/// only with the database's lock held, when all of it is a dead process's (an upload's `.part` file
+/// or a demo file that a `kill -9` left). A folder that is missing is already clean; a file that
+/// cannot be removed is logged and left.
+pub(crate) fn clear_spool(dir: &Path) -> (u64, u64) {
+    let Ok(entries) = std::fs::read_dir(dir) else { return (0, 0) };
+    let (mut files, mut bytes) = (0u64, 0u64);
+    for entry in entries.flatten() {
+        let path = entry.path();
+        let Ok(meta) = std::fs::symlink_metadata(&path) else { continue };
+        let removed =
+            if meta.is_dir() { std::fs::remove_dir_all(&path) } else { std::fs::remove_file(&path) };
+        match removed {
+            Ok(()) => {
+                files += 1;
+                bytes += if meta.is_dir() { 0 } else { meta.len() };
+            }
+            Err(e) => {
+                tracing::warn!(path = %path.display(), "cannot remove a spool file left by an earlier stop: {e}")
+            }
+        }
+    }
+    if files > 0 {
+        tracing::warn!(
+            files,
+            bytes,
+            folder = %dir.display(),
+            "removed spool files left by an earlier stop ({:.1} MB)",
+            bytes as f64 / 1e6
+        );
+    }
+    (files, bytes)
+}

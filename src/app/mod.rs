@@ -9,6 +9,15 @@ with progress), [`summary`] (the summary, its cache and what is kept to work it 
 [`fieldtests`] (field tests and the decay events proposed as tests), [`scenarios`] (what-if replays),
 [`demo_install`] (the demo plant through the normal paths) and [`error`]. It returns its own
 [`Error`]; the web layer turns it into HTTP at the edge, and `app` imports nothing from `web`.
+
+One application owns its database file ([`App::open`]): it holds the file's lock
+([`store::DbLock`], `<db>.lock` beside it) for as long as it lives, so a second server, demo or
+import on the same file stops at once, naming the file and the pid that holds it. With the lock
+held, whatever the start-up finds unfinished is a dead process's: the uploads left `importing`
+(removed by [`store::open`]) and every file in the database's spool folder (a `.part` upload or a
+demo file a `kill -9` left behind), which [`App::open`] removes, logging how much. A backup or a
+report opens beside a running owner with [`App::open_shared`], which neither keeps the lock nor
+cleans up what is not its own.
 */
 
 pub mod audits;
@@ -34,17 +43,21 @@ use crate::store;
 /// Settings of the application fixed at start-up.
 #[derive(Debug, Clone)]
 pub struct Config {
-    /// Where files are spooled before import (uploads, the demo's logger files).
+    /// Where files are spooled before import (uploads, the demo's logger files). The folder is this
+    /// database's alone: [`App::open`] empties it, with the database's lock held.
     pub spool_dir: PathBuf,
     /// At most this many uploads parse at once; the others wait (their progress says so).
     pub import_slots: usize,
 }
 
 impl Config {
-    /// The spool folder beside the database file, two import slots.
+    /// The database's own spool folder beside its file (`.airledger-spool/<db file name>/`, so that
+    /// databases in one folder never share one), two import slots.
     pub fn beside(db_path: &Path) -> Self {
-        let dir = db_path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-        Self { spool_dir: dir.join(".airledger-spool"), import_slots: 2 }
+        let db = store::canonical_db_path(db_path);
+        let dir = db.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+        let name = db.file_name().map(|n| n.to_os_string()).unwrap_or_else(|| "airledger.sqlite".into());
+        Self { spool_dir: dir.join(".airledger-spool").join(name), import_slots: 2 }
     }
 }
 
@@ -66,17 +79,40 @@ struct Inner {
     imports: Mutex<HashMap<String, Arc<store::import::Progress>>>,
     /// At most `config.import_slots` uploads parse at once.
     import_slots: tokio::sync::Semaphore,
+    /// The database file's lock, held as long as the application lives (none for a reader beside
+    /// a running owner, or over a pool the caller opened).
+    _lock: Option<store::DbLock>,
 }
 
 impl App {
-    /// Open (creating and migrating if needed) the database at `db_path`.
+    /// Own the database at `db_path` (creating and migrating it if needed): refused at once with
+    /// [`store::StoreError::InUse`] while another process owns it; then what a dead owner left
+    /// unfinished is removed, the spool folder's files included.
     pub async fn open(db_path: &Path, config: Config) -> Result<Self> {
-        let pool = store::open(db_path).await?;
-        Ok(Self::from_pool(pool, db_path, config))
+        let (pool, lock) = store::open(db_path).await?;
+        imports::clear_spool(&config.spool_dir);
+        Ok(Self::with_lock(pool, db_path, config, Some(lock)))
     }
 
-    /// The application over a pool already opened by `store::open` on `db_path`.
+    /// Open the database at `db_path` to read it (a backup, a report), also beside a running owner:
+    /// see [`store::open_shared`]. When no process owns the file, this cleans up as [`App::open`]
+    /// does and then lets go of the lock, so that a server can start meanwhile.
+    pub async fn open_shared(db_path: &Path, config: Config) -> Result<Self> {
+        let (pool, lock) = store::open_shared(db_path).await?;
+        if let Some(lock) = lock {
+            imports::clear_spool(&config.spool_dir);
+            drop(lock);
+        }
+        Ok(Self::with_lock(pool, db_path, config, None))
+    }
+
+    /// The application over a pool already opened on `db_path`; it holds no lock, so the caller
+    /// keeps the file to itself (prefer [`App::open`]).
     pub fn from_pool(db: SqlitePool, db_path: &Path, config: Config) -> Self {
+        Self::with_lock(db, db_path, config, None)
+    }
+
+    fn with_lock(db: SqlitePool, db_path: &Path, config: Config, lock: Option<store::DbLock>) -> Self {
         Self {
             inner: Arc::new(Inner {
                 db,
@@ -86,6 +122,7 @@ impl App {
                 kept: summary::KeptFigures::default(),
                 summary_locks: summary::AuditLocks::default(),
                 imports: Mutex::default(),
+                _lock: lock,
             }),
         }
     }

@@ -4,8 +4,15 @@ Storage: one SQLite file per database, through sqlx.
 - WAL journal, foreign keys on, `synchronous = NORMAL`; every write transaction starts with
   `BEGIN IMMEDIATE` so that two writers queue instead of failing half-way.
 - Migrations are embedded (`sqlx::migrate!()`) and applied at start-up.
+- One process owns a database file at a time ([`open`]): it holds an exclusive lock on the lock file
+  beside it (`<db>.lock`, see [`DbLock`]), which names its pid and start time. A second owner is
+  refused at once with [`StoreError::InUse`], naming the file and that pid; the kernel drops the lock
+  when the owner ends, however it ends (also on `kill -9`), so a stale lock file never blocks.
 - At start-up `PRAGMA quick_check` must say `ok`, and uploads a crash left in state `importing` are
-  removed with everything they wrote: nobody ever sees a partial upload.
+  removed with everything they wrote: nobody ever sees a partial upload. This clean-up runs only with
+  the lock held, so those rows can only be a dead process's, never a live server's import in flight.
+- A reader beside the owner ([`open_shared`], for `backup` and `report`) takes no lock it keeps,
+  and neither migrates nor cleans up while an owner holds the file.
 
 This layer holds no physics: it stores and fetches records, chunks and rollups.
 */
@@ -17,7 +24,9 @@ pub mod read;
 pub mod rollup;
 mod varint;
 
-use std::path::Path;
+use std::fs::{File, TryLockError};
+use std::io::{Read, Seek, SeekFrom, Write};
+use std::path::{Path, PathBuf};
 use std::str::FromStr;
 use std::time::Duration;
 
@@ -39,12 +48,134 @@ pub enum StoreError {
     /// A stored chunk or rollup could not be decoded.
     #[error("{0}")]
     Chunk(#[from] chunk::ChunkError),
+    /// Another live process owns the database file (its lock file is locked).
+    #[error(
+        "the database file {path} is in use by another airledger process ({holder}); stop that \
+         process first, or give another --db file (lock file {lock})"
+    )]
+    InUse { path: String, lock: String, holder: String },
+    /// The lock file beside the database could not be opened or locked.
+    #[error("cannot lock the database file {path} (lock file {lock}): {source}")]
+    Lock { path: String, lock: String, source: std::io::Error },
 }
 
-/// Open (creating if missing) the database at `path`, check it, migrate it, clean it.
-pub async fn open(path: &Path) -> Result<SqlitePool, StoreError> {
+/// The exclusive hold of this process on one database file, for as long as the value lives.
+///
+/// It is an OS file lock (`flock` on Unix, `LockFileEx` on Windows) on `<db>.lock` beside the
+/// database, whose text is the owner's pid and start time, for the message a second owner gets.
+/// The lock, not the file, is what counts: the kernel releases it when the process ends, however it
+/// ends, so the lock file is left in place (removing it would let a third process lock a new file
+/// while a second still waits on the old one).
+#[derive(Debug)]
+pub struct DbLock {
+    _file: File,
+    path: PathBuf,
+}
+
+impl DbLock {
+    /// The lock file.
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+}
+
+/// The database file's path with its folder resolved (symbolic links, `..`), so that two spellings
+/// of one file name one lock file and one spool folder; as given when the folder does not exist.
+pub fn canonical_db_path(db: &Path) -> PathBuf {
+    if let Ok(p) = std::fs::canonicalize(db) {
+        return p;
+    }
+    let parent = db.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    match (std::fs::canonicalize(parent), db.file_name()) {
+        (Ok(dir), Some(name)) => dir.join(name),
+        _ => db.to_path_buf(),
+    }
+}
+
+/// The lock file of the database at `db`: `<db>.lock` beside it.
+pub fn lock_path(db: &Path) -> PathBuf {
+    let mut name = canonical_db_path(db).into_os_string();
+    name.push(".lock");
+    PathBuf::from(name)
+}
+
+/// Take the exclusive lock of the database at `db`, or say at once who holds it.
+pub fn lock(db: &Path) -> Result<DbLock, StoreError> {
+    let lock = lock_path(db);
+    let io = |source: std::io::Error| StoreError::Lock {
+        path: db.display().to_string(),
+        lock: lock.display().to_string(),
+        source,
+    };
+    // Not truncated on open: the text is the holder's until the lock is ours.
+    let mut file =
+        File::options().read(true).write(true).create(true).truncate(false).open(&lock).map_err(io)?;
+    match file.try_lock() {
+        Ok(()) => {}
+        Err(TryLockError::WouldBlock) => {
+            return Err(StoreError::InUse {
+                path: db.display().to_string(),
+                lock: lock.display().to_string(),
+                holder: holder(&mut file),
+            })
+        }
+        Err(TryLockError::Error(e)) => return Err(io(e)),
+    }
+    let text = format!("pid {}\nstarted {}\n", std::process::id(), now_rfc3339());
+    file.set_len(0).map_err(io)?;
+    file.seek(SeekFrom::Start(0)).map_err(io)?;
+    file.write_all(text.as_bytes()).map_err(io)?;
+    file.flush().map_err(io)?;
+    Ok(DbLock { _file: file, path: lock })
+}
+
+/// Who holds a locked lock file, from its text: `pid N, started T`. The holder writes its text just
+/// after it takes the lock, so an empty file is read again for a moment before giving up.
+fn holder(file: &mut File) -> String {
+    for _ in 0..20 {
+        let mut text = String::new();
+        let _ = file.seek(SeekFrom::Start(0));
+        let _ = file.read_to_string(&mut text);
+        let field = |key: &str| text.lines().find_map(|l| l.strip_prefix(key).map(|v| v.trim().to_string()));
+        if let Some(pid) = field("pid ") {
+            return match field("started ") {
+                Some(t) => format!("pid {pid}, started {t}"),
+                None => format!("pid {pid}"),
+            };
+        }
+        std::thread::sleep(Duration::from_millis(10));
+    }
+    "a process whose pid could not be read".to_string()
+}
+
+/// Own the database at `path`: take its lock ([`lock`]; refused at once if another process holds
+/// it), then open it (creating it if missing), check it, migrate it and remove what a dead process
+/// left unfinished. The pool is the caller's for as long as it keeps the returned [`DbLock`].
+pub async fn open(path: &Path) -> Result<(SqlitePool, DbLock), StoreError> {
+    let lock = lock(path)?;
+    let pool = connect(path, true).await?;
+    sqlx::migrate!("./migrations").run(&pool).await?;
+    import::remove_unfinished(&pool).await?;
+    Ok((pool, lock))
+}
+
+/// Open the database at `path` beside an owner that may be running (a backup, a report): when no
+/// process holds the file, as [`open`] does, returning the lock for the caller to release when it
+/// has cleaned up what it owns; when a live process holds it, without the lock, without migrating
+/// and without any clean-up (the `importing` rows are that process's imports in flight), and
+/// without creating the file.
+pub async fn open_shared(path: &Path) -> Result<(SqlitePool, Option<DbLock>), StoreError> {
+    match open(path).await {
+        Ok((pool, lock)) => Ok((pool, Some(lock))),
+        Err(StoreError::InUse { .. }) => Ok((connect(path, false).await?, None)),
+        Err(e) => Err(e),
+    }
+}
+
+/// A pool over the database at `path`, its `PRAGMA quick_check` passed.
+async fn connect(path: &Path, create: bool) -> Result<SqlitePool, StoreError> {
     let opts = SqliteConnectOptions::from_str(&format!("sqlite://{}", path.display()))?
-        .create_if_missing(true)
+        .create_if_missing(create)
         .journal_mode(SqliteJournalMode::Wal)
         .synchronous(SqliteSynchronous::Normal)
         .foreign_keys(true)
@@ -56,8 +187,6 @@ pub async fn open(path: &Path) -> Result<SqlitePool, StoreError> {
     if check != "ok" {
         return Err(StoreError::Damaged { path: path.display().to_string(), detail: check });
     }
-    sqlx::migrate!("./migrations").run(&pool).await?;
-    import::remove_unfinished(&pool).await?;
     Ok(pool)
 }
 
@@ -111,7 +240,7 @@ mod tests {
         .unwrap();
         pool.close().await;
         // Then open as the server does: every later migration applies and the data is there.
-        let pool = open(&path).await.unwrap();
+        let (pool, _lock) = open(&path).await.unwrap();
         let name: String =
             sqlx::query_scalar("SELECT name FROM audit WHERE id = 1").fetch_one(&pool).await.unwrap();
         assert_eq!(name, "kept");
@@ -122,6 +251,33 @@ mod tests {
         assert_eq!(applied as usize, all.migrations.len());
         assert!(all.migrations.len() >= 2, "there is a later migration to apply");
         pool.close().await;
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+
+    /// A second owner of one database file is refused at once, naming the file and the first
+    /// owner's pid (here this very process: two `flock`s on two opens of one file conflict also
+    /// within a process), under another spelling of the path too; once the first lock is dropped,
+    /// the file can be owned again.
+    #[test]
+    fn a_second_owner_of_a_database_file_is_refused_until_the_first_lets_go() {
+        let dir = std::env::temp_dir().join(format!("airledger-lock-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(dir.join("sub")).unwrap();
+        let db = dir.join("a.sqlite");
+        let first = lock(&db).unwrap();
+        assert_eq!(first.path(), lock_path(&db));
+        for spelling in [db.clone(), dir.join("sub").join("..").join("a.sqlite")] {
+            let e = lock(&spelling).unwrap_err();
+            let text = e.to_string();
+            assert!(matches!(e, StoreError::InUse { .. }), "{text}");
+            assert!(text.contains(&spelling.display().to_string()), "{text}");
+            assert!(text.contains(&format!("pid {},", std::process::id())), "{text}");
+        }
+        drop(first);
+        let again = lock(&db).unwrap();
+        let text = std::fs::read_to_string(again.path()).unwrap();
+        assert!(text.starts_with(&format!("pid {}\nstarted ", std::process::id())), "{text}");
+        drop(again);
         let _ = std::fs::remove_dir_all(&dir);
     }
 }

@@ -535,7 +535,7 @@ fn big_imports_queue_past_the_cap_and_reports_are_answered_meanwhile() {
 }
 
 /// `f` on a pool over the database file itself (beside the server, as SQLite's WAL lets it).
-fn on_db<T, F: std::future::Future<Output = T>>(
+pub(crate) fn on_db<T, F: std::future::Future<Output = T>>(
     db: &std::path::Path,
     f: impl FnOnce(sqlx::SqlitePool) -> F,
 ) -> T {

@@ -305,3 +305,26 @@ pub fn real_data_file(name: &str) -> Vec<u8> {
         panic!("cannot read {} (AIRLEDGER_REAL_DATA={}): {e}", path.display(), dir.display())
     })
 }
+
+/// Run `cmd` (its output captured) and wait at most `limit` for it to end: its output and how long
+/// it ran; a command still running at `limit` is killed and the test fails saying so.
+pub fn run_within(cmd: &mut Command, limit: Duration) -> (std::process::Output, Duration) {
+    let start = Instant::now();
+    let mut child =
+        cmd.stdin(Stdio::null()).stdout(Stdio::piped()).stderr(Stdio::piped()).spawn().expect("spawn");
+    while child.try_wait().expect("try_wait").is_none() {
+        if start.elapsed() > limit {
+            let _ = child.kill();
+            let out = child.wait_with_output().expect("output");
+            panic!("{cmd:?} still ran after {limit:?}; it printed {}", String::from_utf8_lossy(&out.stderr));
+        }
+        std::thread::sleep(Duration::from_millis(20));
+    }
+    let took = start.elapsed();
+    (child.wait_with_output().expect("output"), took)
+}
+
+/// A free loopback address to bind a server to.
+pub fn free_bind() -> String {
+    format!("127.0.0.1:{}", free_port())
+}

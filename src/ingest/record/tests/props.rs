@@ -347,7 +347,7 @@ fn logger_file(mb: usize, quoted: bool) -> Vec<u8> {
         let (h, m, s) = (8 + i / 3600 % 16, i / 60 % 60, i % 60);
         let (kw, bar, flow) = (40 + i * 7 % 30, 7.0 + (i % 50) as f64 / 100.0, 9.0 + (i % 97) as f64 / 100.0);
         if quoted {
-            let note = if i % 10 == 0 { "12\"\" main" } else { "" };
+            let note = if i.is_multiple_of(10) { "12\"\" main" } else { "" };
             write!(
                 f,
                 "\"2026-05-04 {h:02}:{m:02}:{s:02}\";\"{kw}\";\"{bar:.2}\";\"{flow:.2}\";\"{note}\"\r\n"
