@@ -55,7 +55,11 @@ pub struct ImportRequest {
 #[derive(Debug, Clone, Serialize)]
 pub struct ImportSummary {
     pub upload_id: i64,
+    /// Data rows read (every line of the file is a data row, a blank line, the header or the
+    /// preamble: nothing is dropped silently).
     pub rows: u64,
+    /// Blank lines (and rows of empty cells only), counted apart from `rows`.
+    pub blank_lines: u64,
     pub readings: u64,
     pub first: Option<String>,
     pub last: Option<String>,
