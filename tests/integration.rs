@@ -10,5 +10,7 @@ mod api;
 mod browser;
 #[path = "integration/engine.rs"]
 mod engine;
+#[path = "integration/hostile_ingest.rs"]
+mod hostile_ingest;
 #[path = "integration/ingest.rs"]
 mod ingest;
