@@ -12,5 +12,7 @@ mod browser;
 mod engine;
 #[path = "integration/hostile_store.rs"]
 mod hostile_store;
+#[path = "integration/hostile_ingest.rs"]
+mod hostile_ingest;
 #[path = "integration/ingest.rs"]
 mod ingest;

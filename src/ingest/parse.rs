@@ -24,10 +24,12 @@ use crate::ingest::mapping::{plan, Mapping, Plan, Quantity};
 use crate::ingest::number::{parse_cell, trim, Cell};
 use crate::ingest::quality::{QualityReport, QualityTracker};
 use crate::ingest::record::{Limits, RecordError, RecordReader};
-use crate::ingest::text::{decode_line, Encoding};
+use crate::ingest::text::{decode_line, not_text, utf16_bom, Encoding, Utf16Reader};
 use crate::ingest::IngestError;
 use serde::Serialize;
-use std::io::BufRead;
+
+use std::io::{BufRead, BufReader};
+use std::rc::Rc;
 
 /// Receives every reading: channel index (into `Plan::channels`), UTC epoch ms, SI value.
 pub trait ReadingSink {
@@ -119,14 +121,43 @@ pub fn parse_stream<R: BufRead>(
     })?;
     let encoding = mapping.encoding.as_deref().and_then(Encoding::parse);
     let mut reader = reader;
+    let head = reader.fill_buf().map_err(|e| IngestError::new(format!("cannot read the file: {e}")))?;
+    let head = &head[..head.len().min(HEAD_BYTES)];
+    // A compressed file, a workbook or an image is refused by name before a record is read.
+    if let Some(what) = not_text(head) {
+        return Err(IngestError::new(what));
+    }
+    if let Some(order) = utf16_bom(head) {
+        // UTF-16 is transcoded to UTF-8 on the way in; progress counts bytes of the file.
+        reader.consume(2);
+        let consumed = Rc::new(std::cell::Cell::new(2u64));
+        let utf8 = BufReader::with_capacity(HEAD_BYTES, Utf16Reader::new(reader, order, consumed.clone()));
+        let records = RecordReader::new(utf8, delim, Limits::DEFAULT);
+        return parse_records(records, mapping, Some(Encoding::Utf8), site, sink, &mut |_| {
+            progress(consumed.get())
+        });
+    }
     // A byte-order mark belongs to the file, not to the first column's name.
-    let bom = reader.fill_buf().map_err(|e| IngestError::new(format!("cannot read the file: {e}")))?;
-    let bom_bytes = if bom.starts_with(b"\xef\xbb\xbf") { 3 } else { 0 };
+    let bom_bytes = if head.starts_with(b"\xef\xbb\xbf") { 3 } else { 0 };
     reader.consume(bom_bytes);
-    let mut records = RecordReader::new(reader, delim, Limits::DEFAULT);
+    let records = RecordReader::new(reader, delim, Limits::DEFAULT);
+    parse_records(records, mapping, encoding, site, sink, &mut |b| progress(b + bom_bytes as u64))
+}
+
+/// The bytes looked at for magic numbers and a UTF-16 byte-order mark (the sniffer's head too).
+const HEAD_BYTES: usize = 64 * 1024;
+
+fn parse_records<R: BufRead>(
+    mut records: RecordReader<R>,
+    mapping: &Mapping,
+    encoding: Option<Encoding>,
+    site: &SiteAir,
+    sink: &mut dyn ReadingSink,
+    progress: &mut dyn FnMut(u64),
+) -> Result<ParseReport, IngestError> {
     let header = read_header(&mut records, mapping, encoding)?;
     let mut plan: Plan = plan(mapping, &header)?;
-    let mut report = run(&mut records, &mut plan, site, sink, &mut |b| progress(b + bom_bytes as u64))?;
+    let mut report = run(&mut records, &mut plan, site, sink, progress)?;
     report.header = Some(header);
     Ok(report)
 }
@@ -316,6 +347,39 @@ mod tests {
         assert_eq!(r.median_interval_s, Some(10.0));
         assert_eq!(r.first_ms, Some(ms("2026-03-02T05:00:00Z")));
         assert_eq!(r.last_ms, Some(ms("2026-03-02T05:00:10Z")));
+    }
+
+    #[test]
+    fn utf16_files_with_a_byte_order_mark_read_as_their_utf8_twin() {
+        let text =
+            "Zeit;Temp °C;Netz bar\r\n02.03.2026 06:00:00;21,5;6,8\r\n02.03.2026 06:00:10;21,75;6,9\r\n";
+        let m = mapping(
+            r#"{"delimiter": ";", "decimal": ",", "encoding": "windows-1252",
+                "timestamp": {"column": "Zeit", "format": "%d.%m.%Y %H:%M:%S", "timezone": "+01:00"},
+                "columns": [{"column": "Temp °C", "quantity": "temperature", "unit": "°C"},
+                            {"column": "Netz bar", "quantity": "pressure", "unit": "bar_g"}]}"#,
+        );
+        // The mapping's single-byte encoding does not apply: UTF-16 is transcoded to UTF-8 first.
+        let mut utf8 = m.clone();
+        utf8.encoding = None;
+        let (want, want_readings) = parse(text.as_bytes(), &utf8, &sea_level()).unwrap();
+        for (bom, be) in [([0xFF, 0xFE], false), ([0xFE, 0xFF], true)] {
+            let mut file = bom.to_vec();
+            for u in text.encode_utf16() {
+                file.extend_from_slice(&if be { u.to_be_bytes() } else { u.to_le_bytes() });
+            }
+            let (r, got) = parse(&file, &m, &sea_level()).unwrap();
+            assert_eq!((r.rows, &got), (2, &want_readings));
+            assert_eq!(r.header, want.header);
+        }
+    }
+
+    #[test]
+    fn a_gzip_file_is_refused_by_name_before_any_record() {
+        let m = mapping(r#"{"timestamp": {"column": "Time", "format": "rfc3339"}, "columns": []}"#);
+        let e = parse_stream(&[0x1F, 0x8B, 8, 0, 0, 0][..], &m, &sea_level(), &mut Vec::new(), &mut |_| {})
+            .unwrap_err();
+        assert!(e.message.contains("gzip-compressed"), "{e}");
     }
 
     #[test]

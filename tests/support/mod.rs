@@ -328,3 +328,14 @@ pub fn run_within(cmd: &mut Command, limit: Duration) -> (std::process::Output, 
 pub fn free_bind() -> String {
     format!("127.0.0.1:{}", free_port())
 }
+
+/// The peak resident set size of process `pid` in MiB (`VmHWM` in `/proc/<pid>/status`, Linux).
+pub fn peak_rss_mib(pid: u32) -> f64 {
+    let status = std::fs::read_to_string(format!("/proc/{pid}/status")).expect("read /proc/<pid>/status");
+    let kb: f64 = status
+        .lines()
+        .find_map(|l| l.strip_prefix("VmHWM:"))
+        .and_then(|v| v.trim().trim_end_matches("kB").trim().parse().ok())
+        .expect("VmHWM in /proc/<pid>/status");
+    kb / 1024.0
+}

@@ -1,6 +1,7 @@
 /*!
 The two threads before the writer: the parse thread's sink, which cuts each channel into runs of
-[`CHUNK_READINGS`], and the encoder, which builds the rollups and encodes the chunks.
+at most [`CHUNK_READINGS`] (fewer when many columns are mapped, see [`run_length`]), and the
+encoder, which builds the rollups and encodes the chunks.
 */
 
 use std::sync::atomic::Ordering;
@@ -35,13 +36,29 @@ pub(super) enum Work {
     Finish,
 }
 
-/// How many runs may wait for the encoder: bounds memory (each run is 8192 × 16 bytes).
+/// How many runs may wait for the encoder: bounds memory (each run is at most 8192 × 16 bytes).
 pub(super) const ENCODER_QUEUE: usize = 8;
 
+/// Readings all the open runs of one import may hold together (16 bytes each: 4 MiB).
+pub(super) const OPEN_RUNS_BUDGET: usize = 1 << 18;
+
+/// Shortest run a channel is cut into: below this the per-chunk overhead (a row, a header, a
+/// deflate stream) outweighs the readings.
+pub(super) const MIN_RUN: usize = 64;
+
+/// The run length for `channels` mapped columns: the open runs share [`OPEN_RUNS_BUDGET`], so
+/// that memory does not grow with the number of columns (8192 readings × 2,000 columns was
+/// 256 MB of buffers), within [`MIN_RUN`]..=[`CHUNK_READINGS`]. A chunk of fewer readings is a
+/// valid chunk (the codec and the rollups take any length from 1): only the row count changes.
+pub(super) fn run_length(channels: usize) -> usize {
+    (OPEN_RUNS_BUDGET / channels.max(1)).clamp(MIN_RUN, CHUNK_READINGS)
+}
+
 /// First stage, on the parse thread: drops readings that are not later than the channel's previous
-/// one, and cuts each channel into runs of [`CHUNK_READINGS`] for the encoder.
+/// one, and cuts each channel into runs of `run_len` readings for the encoder.
 pub(super) struct ChunkSink {
     pub(super) channels: Vec<ChannelBuf>,
+    pub(super) run_len: usize,
     pub(super) tx: std::sync::mpsc::SyncSender<Work>,
     pub(super) progress: Arc<Progress>,
 }
@@ -56,8 +73,8 @@ impl ChunkSink {
         if b.times.is_empty() {
             return Ok(());
         }
-        let times = std::mem::replace(&mut b.times, Vec::with_capacity(CHUNK_READINGS));
-        let values = std::mem::replace(&mut b.values, Vec::with_capacity(CHUNK_READINGS));
+        let times = std::mem::replace(&mut b.times, Vec::with_capacity(self.run_len));
+        let values = std::mem::replace(&mut b.values, Vec::with_capacity(self.run_len));
         self.tx.send(Work::Run { channel: ch, times, values }).map_err(|_| writer_stopped())
     }
 
@@ -81,8 +98,8 @@ impl ReadingSink for ChunkSink {
         b.readings += 1;
         b.times.push(t_ms);
         b.values.push(value_si);
-        if b.times.len() >= CHUNK_READINGS {
-            self.progress.readings.fetch_add(CHUNK_READINGS as u64, Ordering::Relaxed);
+        if b.times.len() >= self.run_len {
+            self.progress.readings.fetch_add(self.run_len as u64, Ordering::Relaxed);
             self.hand_over(channel)?;
         }
         Ok(())
@@ -135,4 +152,23 @@ pub(super) fn encode_runs(
     }
     // The parser stopped without finishing (a bad file): nothing more to write.
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn runs_shrink_as_columns_grow_within_their_bounds() {
+        assert_eq!(run_length(1), CHUNK_READINGS);
+        assert_eq!(run_length(32), CHUNK_READINGS); // 262,144 / 32 = 8192
+        assert_eq!(run_length(33), 7943);
+        assert_eq!(run_length(2000), 131);
+        assert_eq!(run_length(4096), MIN_RUN);
+        assert_eq!(run_length(100_000), MIN_RUN);
+        // Up to the record reader's 4,096 fields the open runs stay within the budget.
+        for n in [1, 10, 100, 512, 1000, 2000, 4096] {
+            assert!(run_length(n) * n <= OPEN_RUNS_BUDGET, "{n} columns");
+        }
+    }
 }

@@ -2,8 +2,9 @@
 One logger file into the database: streaming, bounded memory, never half-visible.
 
 The path: the file (already on disk, its SHA-256 known) is parsed by `ingest::parse` on a blocking
-thread; readings arrive per channel in a [`ChunkSink`], which cuts them into runs of
-[`CHUNK_READINGS`](super::chunk::CHUNK_READINGS) and hands them through a bounded queue to an encoder
+thread; readings arrive per channel in a [`ChunkSink`], which cuts them into runs of at most
+[`CHUNK_READINGS`](super::chunk::CHUNK_READINGS) (shorter when many columns are mapped; at most
+[`MAX_MAPPED_COLUMNS`] per file) and hands them through a bounded queue to an encoder
 thread ([`encoder`]), which builds the rollups and encodes the chunks, so that parsing and
 encoding use two cores. Encoded chunks go through a second bounded queue to the writer, which
 commits them in batches of [`BATCH`] ([`writer`]) so that the WAL stays small. The upload row is in state
@@ -33,6 +34,13 @@ use crate::core::units::SiteAir;
 use crate::ingest::{self, IngestError, Mapping};
 use writer::run_import;
 
+/// The most mapped columns (channels) one file may write. Each channel holds, besides its open run
+/// (which shrinks as channels grow, see `encoder::run_length`), the minute rollups of its open day:
+/// up to 1,440 buckets of 40 bytes, about 57 KB. 512 channels keep that under 30 MB, so that an
+/// import stays within the 64 MB the server allows itself for any file (2,000 channels logged at
+/// 1 min over a day took 116 MB); 512 is far above the channels of one logger file in practice.
+pub const MAX_MAPPED_COLUMNS: usize = 512;
+
 /// Chunks (or rollup pieces) committed per write transaction.
 pub const BATCH: usize = 96;
 
@@ -55,7 +63,11 @@ pub struct ImportRequest {
 #[derive(Debug, Clone, Serialize)]
 pub struct ImportSummary {
     pub upload_id: i64,
+    /// Data rows read (every line of the file is a data row, a blank line, the header or the
+    /// preamble: nothing is dropped silently).
     pub rows: u64,
+    /// Blank lines (and rows of empty cells only), counted apart from `rows`.
+    pub blank_lines: u64,
     pub readings: u64,
     pub first: Option<String>,
     pub last: Option<String>,
@@ -155,6 +167,16 @@ pub async fn import_file(
 
     // Resolve the mapped columns to channels before reading a single row.
     let defs = ingest::channel_defs(&req.mapping).map_err(ImportError::Bad)?;
+    if defs.len() > MAX_MAPPED_COLUMNS {
+        return Err(bad(
+            format!(
+                "the mapping maps {} columns; one file may map at most {MAX_MAPPED_COLUMNS}: \
+                 split the file or map fewer columns",
+                defs.len()
+            ),
+            Some("columns".into()),
+        ));
+    }
     let mut tx = begin_write(pool).await?;
     let upload_id = match sqlx::query(
         "INSERT INTO upload (audit_id, filename, sha256, bytes, state, mapping, created_at) \

@@ -9,12 +9,12 @@ use std::sync::Arc;
 use sqlx::{Row, SqlitePool};
 use tokio::sync::mpsc;
 
-use super::encoder::{encode_runs, ChannelBuf, ChunkSink, Msg, Work, ENCODER_QUEUE};
+use super::encoder::{encode_runs, run_length, ChannelBuf, ChunkSink, Msg, Work, ENCODER_QUEUE};
 use super::replace::cut_out;
 use super::{bad, ChannelSpan, ImportError, ImportRequest, ImportSummary, PlannedChannel, Progress, BATCH};
 use crate::ingest::{self, IngestError};
 use crate::store::audits::{bump, ms_to_rfc3339};
-use crate::store::chunk::{Precision, CHUNK_READINGS};
+use crate::store::chunk::Precision;
 use crate::store::{begin_write, now_rfc3339};
 
 pub(super) async fn run_import(
@@ -30,11 +30,12 @@ pub(super) async fn run_import(
         .iter()
         .map(|d| if d.quantity == ingest::Quantity::Energy { Precision::F64 } else { Precision::F32 })
         .collect();
+    let run_len = run_length(defs.len());
     let channels = defs
         .iter()
         .map(|_| ChannelBuf {
-            times: Vec::with_capacity(CHUNK_READINGS),
-            values: Vec::with_capacity(CHUNK_READINGS),
+            times: Vec::with_capacity(run_len),
+            values: Vec::with_capacity(run_len),
             last_t: None,
             first_t: None,
             readings: 0,
@@ -50,7 +51,7 @@ pub(super) async fn run_import(
         std::thread::scope(|scope| {
             let encoder = scope.spawn(move || encode_runs(precisions, work_rx, tx));
             let parsed = (|| {
-                let mut sink = ChunkSink { channels, tx: work_tx, progress: prog.clone() };
+                let mut sink = ChunkSink { channels, run_len, tx: work_tx, progress: prog.clone() };
                 let file = std::fs::File::open(&path).map_err(|e| IngestError {
                     message: format!("cannot read the uploaded file: {e}"),
                     line: None,
@@ -196,6 +197,7 @@ pub(super) async fn run_import(
     Ok(ImportSummary {
         upload_id,
         rows: report.rows,
+        blank_lines: report.quality.file.blank_lines,
         readings,
         first: first.map(ms_to_rfc3339),
         last: last.map(ms_to_rfc3339),
