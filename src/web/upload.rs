@@ -141,21 +141,26 @@ pub async fn post_upload(
     let ctx = state.app.import_context(audit_id).await?;
     let mut mapping: Option<Mapping> = None;
     let mut file: Option<(Spool, String, u64, String)> = None;
-    while let Some(mut field) = multipart.next_field().await.map_err(multipart_error)? {
-        let refused = match field.name() {
-            Some("mapping") if mapping.is_some() => Err(twice("mapping")),
-            Some("mapping") => match read_mapping(&mut field).await {
-                Ok(text) => parse_mapping(&text).map(|m| mapping = Some(m)),
-                Err(e) => Err(e),
-            },
-            Some("file") if file.is_some() => Err(twice("file")),
-            Some("file") => {
-                let filename = field.file_name().unwrap_or("upload.csv").to_string();
-                let (s, sha, bytes) = spool(&state, field).await?;
-                file = Some((s, sha, bytes, filename));
-                Ok(())
+    while let Some(field) = multipart.next_field().await.map_err(multipart_error)? {
+        // The field is dropped at the end of this block, before any `drain` (multer reads no
+        // further part while one is alive).
+        let refused = {
+            let mut field = field;
+            match field.name() {
+                Some("mapping") if mapping.is_some() => Err(twice("mapping")),
+                Some("mapping") => match read_mapping(&mut field).await {
+                    Ok(text) => parse_mapping(&text).map(|m| mapping = Some(m)),
+                    Err(e) => Err(e),
+                },
+                Some("file") if file.is_some() => Err(twice("file")),
+                Some("file") => {
+                    let filename = field.file_name().unwrap_or("upload.csv").to_string();
+                    let (s, sha, bytes) = spool(&state, field).await?;
+                    file = Some((s, sha, bytes, filename));
+                    Ok(())
+                }
+                _ => Ok(()),
             }
-            _ => Ok(()),
         };
         if let Err(e) = refused {
             drain(&mut multipart).await;
@@ -204,6 +209,7 @@ pub async fn post_sniff(
         }
         files += 1;
         if files > 1 {
+            drop(field);
             drain(&mut multipart).await;
             return Err(twice("file"));
         }
