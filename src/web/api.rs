@@ -28,19 +28,47 @@ where
 {
     type Rejection = AppError;
     async fn from_request(req: Request, state: &S) -> Result<Self, Self::Rejection> {
+        let (parts, body) = req.into_parts();
+        let Some(bytes) = read_limited(body).await? else {
+            return Err(AppError::TooLarge(format!(
+                "the JSON body is larger than the limit of {} KiB",
+                super::JSON_BODY_LIMIT / 1024
+            )));
+        };
+        let req = Request::from_parts(parts, axum::body::Body::from(bytes));
         match axum::Json::<T>::from_request(req, state).await {
             Ok(axum::Json(v)) => Ok(Self(v)),
             Err(JsonRejection::JsonDataError(e)) => {
                 let (message, field) = data_error(&e.body_text());
                 Err(AppError::Unprocessable { message, line: None, column: None, field })
             }
-            Err(e) if e.status() == StatusCode::PAYLOAD_TOO_LARGE => Err(AppError::TooLarge(format!(
-                "the JSON body is larger than the limit of {} KiB",
-                super::JSON_BODY_LIMIT / 1024
-            ))),
             Err(e) => Err(AppError::BadRequest(e.body_text())),
         }
     }
+}
+
+/// What is read of a body past [`super::JSON_BODY_LIMIT`] before the connection is given up.
+const DRAIN_LIMIT: u64 = 64 * 1024 * 1024;
+
+/// The body, or `None` when it is over [`super::JSON_BODY_LIMIT`]. An oversize body is read on
+/// (and dropped) up to [`DRAIN_LIMIT`], so a client still sending gets the 413 rather than a reset
+/// connection; beyond that the connection is closed.
+async fn read_limited(mut body: axum::body::Body) -> Result<Option<Vec<u8>>, AppError> {
+    use axum::body::HttpBody;
+    let mut kept = Vec::new();
+    let mut total = 0u64;
+    while let Some(frame) = std::future::poll_fn(|cx| std::pin::Pin::new(&mut body).poll_frame(cx)).await {
+        let frame = frame.map_err(|e| AppError::BadRequest(format!("the body cannot be read: {e}")))?;
+        let Some(data) = frame.data_ref() else { continue };
+        total += data.len() as u64;
+        if total > DRAIN_LIMIT + super::JSON_BODY_LIMIT as u64 {
+            break;
+        }
+        if total <= super::JSON_BODY_LIMIT as u64 {
+            kept.extend_from_slice(data);
+        }
+    }
+    Ok((total <= super::JSON_BODY_LIMIT as u64).then_some(kept))
 }
 
 /// serde's message without axum's preamble, and the field it is about. `serde_path_to_error` (which
