@@ -10,5 +10,7 @@ mod api;
 mod browser;
 #[path = "integration/engine.rs"]
 mod engine;
+#[path = "integration/hostile_web.rs"]
+mod hostile_web;
 #[path = "integration/ingest.rs"]
 mod ingest;

@@ -305,3 +305,54 @@ pub fn real_data_file(name: &str) -> Vec<u8> {
         panic!("cannot read {} (AIRLEDGER_REAL_DATA={}): {e}", path.display(), dir.display())
     })
 }
+
+/// The server process's peak resident memory (`VmHWM` of `/proc/PID/status`, Linux), in MB.
+pub fn peak_rss_mb(s: &Server) -> f64 {
+    let status = std::fs::read_to_string(format!("/proc/{}/status", s.child.id())).expect("/proc status");
+    let kb: f64 = status
+        .lines()
+        .find_map(|l| l.strip_prefix("VmHWM:"))
+        .and_then(|v| v.trim().trim_end_matches("kB").trim().parse().ok())
+        .expect("VmHWM");
+    kb / 1024.0
+}
+
+/// An HTTP/1.1 request written by hand (for a `Host` of our choosing, or a body streamed in pieces
+/// too large to hold): `head` is the request line and headers without the final blank line; the
+/// body comes from `pieces`. Write errors are ignored (the server may answer before reading it
+/// all). Returns the status, the headers (lower-cased names) and the body.
+pub fn raw_request(
+    s: &Server,
+    head: &str,
+    body_len: u64,
+    pieces: impl Iterator<Item = Vec<u8>>,
+) -> (u16, String, String) {
+    use std::io::{Read, Write};
+    let addr = s.base.strip_prefix("http://").expect("base");
+    let mut stream = std::net::TcpStream::connect(addr).expect("connect");
+    stream.set_read_timeout(Some(Duration::from_secs(300))).expect("timeout");
+    let head = format!("{head}\r\nContent-Length: {body_len}\r\nConnection: close\r\n\r\n");
+    let mut ok = stream.write_all(head.as_bytes()).is_ok();
+    for piece in pieces {
+        if !ok {
+            break;
+        }
+        ok = stream.write_all(&piece).is_ok();
+    }
+    let mut answer = Vec::new();
+    let _ = stream.read_to_end(&mut answer);
+    let text = String::from_utf8_lossy(&answer).to_string();
+    let (headers, body) = text.split_once("\r\n\r\n").unwrap_or((&text, ""));
+    let status = headers.split(' ').nth(1).and_then(|c| c.parse().ok()).unwrap_or(0);
+    (status, headers.to_ascii_lowercase(), body.to_string())
+}
+
+/// One multipart part: its header block for `name` (and a file name if given).
+pub fn multipart_part(boundary: &str, name: &str, filename: Option<&str>) -> String {
+    match filename {
+        Some(f) => format!(
+            "--{boundary}\r\nContent-Disposition: form-data; name=\"{name}\"; filename=\"{f}\"\r\nContent-Type: text/csv\r\n\r\n"
+        ),
+        None => format!("--{boundary}\r\nContent-Disposition: form-data; name=\"{name}\"\r\n\r\n"),
+    }
+}
