@@ -43,6 +43,9 @@ enum Command {
         /// Access token; required when binding to anything but loopback.
         #[arg(long, env = "AIRLEDGER_TOKEN", hide_env_values = true)]
         token: Option<String>,
+        /// A further name the server answers to (repeatable); see `web::access` on the Host check.
+        #[arg(long = "allow-host")]
+        allow_host: Vec<String>,
     },
     /// Build the demo plant's database if it is missing, then serve it.
     Demo {
@@ -53,6 +56,9 @@ enum Command {
         /// Access token; required when binding to anything but loopback.
         #[arg(long, env = "AIRLEDGER_TOKEN", hide_env_values = true)]
         token: Option<String>,
+        /// A further name the server answers to (repeatable); see `web::access` on the Host check.
+        #[arg(long = "allow-host")]
+        allow_host: Vec<String>,
         /// Build the database and exit without serving.
         #[arg(long)]
         build_only: bool,
@@ -148,18 +154,18 @@ fn store_error(e: app::Error) -> anyhow::Error {
     }
 }
 
-fn web_config(max_upload_mb: u64, token: Option<String>) -> web::Config {
-    web::Config { max_upload_bytes: max_upload_mb * 1024 * 1024, token }
+fn web_config(max_upload_mb: u64, token: Option<String>, allow_hosts: Vec<String>) -> web::Config {
+    web::Config { max_upload_bytes: max_upload_mb * 1024 * 1024, token, bound: None, allow_hosts }
 }
 
 async fn run(command: Command) -> anyhow::Result<()> {
     match command {
-        Command::Serve { db, bind, max_upload_mb, token } => {
+        Command::Serve { db, bind, max_upload_mb, token, allow_host } => {
             check_access(&bind, &token)?;
             let app = open(&db).await?;
-            web::run_server(AppState::new(app, web_config(max_upload_mb, token)), bind).await
+            web::run_server(AppState::new(app, web_config(max_upload_mb, token, allow_host)), bind).await
         }
-        Command::Demo { db, bind, token, build_only } => {
+        Command::Demo { db, bind, token, allow_host, build_only } => {
             if !build_only {
                 check_access(&bind, &token)?;
             }
@@ -170,7 +176,7 @@ async fn run(command: Command) -> anyhow::Result<()> {
                 return Ok(());
             }
             println!("report: http://{bind}/audits/{id}/report");
-            web::run_server(AppState::new(app, web_config(1024, token)), bind).await
+            web::run_server(AppState::new(app, web_config(1024, token, allow_host)), bind).await
         }
         Command::Import { db, audit, mapping, replace, files } => {
             let app = open(&db).await?;

@@ -10,9 +10,11 @@ mod api;
 mod browser;
 #[path = "integration/engine.rs"]
 mod engine;
-#[path = "integration/hostile_store.rs"]
-mod hostile_store;
 #[path = "integration/hostile_ingest.rs"]
 mod hostile_ingest;
+#[path = "integration/hostile_store.rs"]
+mod hostile_store;
+#[path = "integration/hostile_web.rs"]
+mod hostile_web;
 #[path = "integration/ingest.rs"]
 mod ingest;

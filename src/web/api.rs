@@ -3,8 +3,9 @@ The JSON API, version 1 (`/api/v1`), as `API.md` fixes it: SI-canonical numbers 
 field names, RFC 3339 times, and the error shape of [`AppError`].
 */
 
-use axum::extract::rejection::JsonRejection;
-use axum::extract::{FromRequest, Path, Query, Request, State};
+use axum::extract::rejection::{JsonRejection, PathRejection};
+use axum::extract::{FromRequest, FromRequestParts, Path, Query, RawPathParams, Request, State};
+use axum::http::request::Parts;
 use axum::http::StatusCode;
 use axum::response::{IntoResponse, Response};
 use serde::{Deserialize, Serialize};
@@ -16,7 +17,8 @@ use crate::core::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature};
 use crate::core::{leaks, thermo};
 use crate::site::{CompressorInput, ReceiverInput, SitePatch};
 
-/// `Json` whose rejection is our error shape: unreadable JSON is 400, wrong types or missing fields 422.
+/// `Json` whose rejection is our error shape: unreadable JSON is 400, wrong types or missing fields
+/// 422 naming the field serde names, a body over [`super::JSON_BODY_LIMIT`] 413.
 pub struct ApiJson<T>(pub T);
 
 impl<T, S> FromRequest<S> for ApiJson<T>
@@ -26,24 +28,115 @@ where
 {
     type Rejection = AppError;
     async fn from_request(req: Request, state: &S) -> Result<Self, Self::Rejection> {
+        let (parts, body) = req.into_parts();
+        let Some(bytes) = read_limited(body).await? else {
+            return Err(AppError::TooLarge(format!(
+                "the JSON body is larger than the limit of {} KiB",
+                super::JSON_BODY_LIMIT / 1024
+            )));
+        };
+        let req = Request::from_parts(parts, axum::body::Body::from(bytes));
         match axum::Json::<T>::from_request(req, state).await {
             Ok(axum::Json(v)) => Ok(Self(v)),
-            Err(JsonRejection::JsonDataError(e)) => Err(AppError::Unprocessable {
-                message: e.body_text(),
-                line: None,
-                column: None,
-                field: field_of(&e.body_text()),
-            }),
+            Err(JsonRejection::JsonDataError(e)) => {
+                let (message, field) = data_error(&e.body_text());
+                Err(AppError::Unprocessable { message, line: None, column: None, field })
+            }
             Err(e) => Err(AppError::BadRequest(e.body_text())),
         }
     }
 }
 
-/// Pull a field name out of serde's message ("missing field `x`", "unknown field `x`", "at `x`").
-fn field_of(msg: &str) -> Option<String> {
-    let start = msg.find('`')? + 1;
-    let end = start + msg[start..].find('`')?;
-    Some(msg[start..end].to_string())
+/// What is read of a body past [`super::JSON_BODY_LIMIT`] before the connection is given up.
+const DRAIN_LIMIT: u64 = 64 * 1024 * 1024;
+
+/// The body, or `None` when it is over [`super::JSON_BODY_LIMIT`]. An oversize body is read on
+/// (and dropped) up to [`DRAIN_LIMIT`], so a client still sending gets the 413 rather than a reset
+/// connection; beyond that the connection is closed.
+async fn read_limited(mut body: axum::body::Body) -> Result<Option<Vec<u8>>, AppError> {
+    use axum::body::HttpBody;
+    let mut kept = Vec::new();
+    let mut total = 0u64;
+    while let Some(frame) = std::future::poll_fn(|cx| std::pin::Pin::new(&mut body).poll_frame(cx)).await {
+        let frame = frame.map_err(|e| AppError::BadRequest(format!("the body cannot be read: {e}")))?;
+        let Some(data) = frame.data_ref() else { continue };
+        total += data.len() as u64;
+        if total > DRAIN_LIMIT + super::JSON_BODY_LIMIT as u64 {
+            break;
+        }
+        if total <= super::JSON_BODY_LIMIT as u64 {
+            kept.extend_from_slice(data);
+        }
+    }
+    Ok((total <= super::JSON_BODY_LIMIT as u64).then_some(kept))
+}
+
+/// serde's message without axum's preamble, and the field it is about. `serde_path_to_error` (which
+/// axum's `Json` uses) puts the path first ("site.elevation_m: invalid type: ..."); a missing or
+/// unknown field names itself in backticks ("missing field `name`"); a missing one is below that
+/// path, an unknown one ends it. A backticked word elsewhere (a value: "invalid type: integer
+/// `5`") is not a field.
+fn data_error(text: &str) -> (String, Option<String>) {
+    let rest = text.split_once("target type: ").map_or(text, |(_, r)| r).to_string();
+    let (path, msg) = match rest.split_once(": ") {
+        Some((p, m)) if !p.is_empty() && !p.contains(' ') => (Some(p), m),
+        _ => (None, rest.as_str()),
+    };
+    let named =
+        if msg.starts_with("missing field `") || (path.is_none() && msg.starts_with("unknown field `")) {
+            msg.split('`').nth(1)
+        } else {
+            None
+        };
+    let field = match (path, named) {
+        (Some(p), Some(n)) => Some(format!("{p}.{n}")),
+        (Some(p), None) => Some(p.to_string()),
+        (None, Some(n)) => Some(n.to_string()),
+        (None, None) => None,
+    };
+    (rest.clone(), field)
+}
+
+/// `Path` whose rejection is our error shape: an id that is not a whole number in range (`1e3`,
+/// `0x10`, twenty digits) is 400 naming the route's parameter (`id`, `cid`, ...).
+pub struct ApiPath<T>(pub T);
+
+impl<T, S> FromRequestParts<S> for ApiPath<T>
+where
+    T: serde::de::DeserializeOwned + Send,
+    S: Send + Sync,
+{
+    type Rejection = AppError;
+    async fn from_request_parts(parts: &mut Parts, state: &S) -> Result<Self, Self::Rejection> {
+        use axum::extract::path::ErrorKind;
+        match Path::<T>::from_request_parts(parts, state).await {
+            Ok(Path(v)) => Ok(Self(v)),
+            Err(PathRejection::FailedToDeserializePathParams(e)) => {
+                let names: Vec<String> = RawPathParams::from_request_parts(parts, state)
+                    .await
+                    .map(|p| p.iter().map(|(k, _)| k.to_string()).collect())
+                    .unwrap_or_default();
+                let (field, value) = match e.kind() {
+                    ErrorKind::ParseErrorAtKey { key, value, .. } => (key.clone(), value.clone()),
+                    ErrorKind::ParseErrorAtIndex { index, value, .. } => {
+                        (names.get(*index).cloned().unwrap_or_else(|| "id".into()), value.clone())
+                    }
+                    ErrorKind::ParseError { value, .. } => {
+                        (names.first().cloned().unwrap_or_else(|| "id".into()), value.clone())
+                    }
+                    other => {
+                        return Err(AppError::BadRequest(format!("the address cannot be read: {other}")))
+                    }
+                };
+                let shown: String = value.chars().take(40).collect();
+                Err(AppError::bad_field(
+                    &field,
+                    format!("{field} must be a whole number (digits only, within 64 bits), not `{shown}`"),
+                ))
+            }
+            Err(e) => Err(AppError::BadRequest(e.body_text())),
+        }
+    }
 }
 
 fn json<T: Serialize>(status: StatusCode, v: &T) -> Response {
@@ -85,7 +178,7 @@ pub async fn create_audit(
 }
 
 /// The audit as the API shows it: site (with the atmosphere that follows from it), equipment, files.
-pub async fn get_audit(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
+pub async fn get_audit(State(st): State<AppState>, ApiPath(id): ApiPath<i64>) -> Result<Response, AppError> {
     let b = st.app.bundle(id).await?;
     let site = &b.audit.site;
     let storage = b.storage();
@@ -141,17 +234,17 @@ pub struct AuditPatch {
 
 pub async fn patch_audit(
     State(st): State<AppState>,
-    Path(id): Path<i64>,
+    ApiPath(id): ApiPath<i64>,
     ApiJson(p): ApiJson<AuditPatch>,
 ) -> Result<Response, AppError> {
     st.app.update_audit(id, p.name.as_deref(), p.auditor.as_deref(), p.notes.as_deref(), &p.site).await?;
     st.app.refresh_summary_in_background(id, "site edit");
-    get_audit(State(st), Path(id)).await
+    get_audit(State(st), ApiPath(id)).await
 }
 
 pub async fn add_compressor(
     State(st): State<AppState>,
-    Path(id): Path<i64>,
+    ApiPath(id): ApiPath<i64>,
     ApiJson(c): ApiJson<CompressorInput>,
 ) -> Result<Response, AppError> {
     let cid = st.app.save_compressor(id, 0, &c).await?;
@@ -161,7 +254,7 @@ pub async fn add_compressor(
 
 pub async fn update_compressor(
     State(st): State<AppState>,
-    Path((id, cid)): Path<(i64, i64)>,
+    ApiPath((id, cid)): ApiPath<(i64, i64)>,
     ApiJson(c): ApiJson<CompressorInput>,
 ) -> Result<Response, AppError> {
     let b = st.app.bundle(id).await?;
@@ -175,7 +268,7 @@ pub async fn update_compressor(
 
 pub async fn delete_compressor(
     State(st): State<AppState>,
-    Path((id, cid)): Path<(i64, i64)>,
+    ApiPath((id, cid)): ApiPath<(i64, i64)>,
 ) -> Result<Response, AppError> {
     if !st.app.delete_compressor(id, cid).await? {
         return Err(AppError::NotFound(format!("audit {id} has no compressor {cid}")));
@@ -186,7 +279,7 @@ pub async fn delete_compressor(
 
 pub async fn add_receiver(
     State(st): State<AppState>,
-    Path(id): Path<i64>,
+    ApiPath(id): ApiPath<i64>,
     ApiJson(r): ApiJson<ReceiverInput>,
 ) -> Result<Response, AppError> {
     let rid = st.app.add_receiver(id, &r).await?;
@@ -195,7 +288,7 @@ pub async fn add_receiver(
 
 pub async fn delete_receiver(
     State(st): State<AppState>,
-    Path((id, rid)): Path<(i64, i64)>,
+    ApiPath((id, rid)): ApiPath<(i64, i64)>,
 ) -> Result<Response, AppError> {
     if !st.app.delete_receiver(id, rid).await? {
         return Err(AppError::NotFound(format!("audit {id} has no receiver {rid}")));
@@ -203,7 +296,10 @@ pub async fn delete_receiver(
     Ok(StatusCode::NO_CONTENT.into_response())
 }
 
-pub async fn list_uploads(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
+pub async fn list_uploads(
+    State(st): State<AppState>,
+    ApiPath(id): ApiPath<i64>,
+) -> Result<Response, AppError> {
     let b = st.app.bundle(id).await?;
     let uploads: Vec<serde_json::Value> = b
         .uploads
@@ -217,7 +313,7 @@ pub async fn list_uploads(State(st): State<AppState>, Path(id): Path<i64>) -> Re
     Ok(json(StatusCode::OK, &serde_json::json!({ "uploads": uploads })))
 }
 
-pub async fn channels(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
+pub async fn channels(State(st): State<AppState>, ApiPath(id): ApiPath<i64>) -> Result<Response, AppError> {
     let b = st.app.bundle(id).await?;
     Ok(json(StatusCode::OK, &serde_json::json!({ "channels": b.channels })))
 }
@@ -250,7 +346,7 @@ fn window(w: &Window) -> Result<Option<(i64, i64)>, AppError> {
 
 pub async fn summary(
     State(st): State<AppState>,
-    Path(id): Path<i64>,
+    ApiPath(id): ApiPath<i64>,
     Query(w): Query<Window>,
 ) -> Result<Response, AppError> {
     let win = window(&w)?;
@@ -268,7 +364,7 @@ pub struct SeriesQuery {
 /// Downsampled min/mean/max of one channel from the rollups (SI units, see `unit_si`).
 pub async fn series(
     State(st): State<AppState>,
-    Path(id): Path<i64>,
+    ApiPath(id): ApiPath<i64>,
     Query(q): Query<SeriesQuery>,
 ) -> Result<Response, AppError> {
     let b = st.app.bundle(id).await?;
@@ -299,14 +395,17 @@ pub async fn series(
     ))
 }
 
-pub async fn list_field_tests(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
+pub async fn list_field_tests(
+    State(st): State<AppState>,
+    ApiPath(id): ApiPath<i64>,
+) -> Result<Response, AppError> {
     let b = st.app.bundle(id).await?;
     Ok(json(StatusCode::OK, &serde_json::json!({ "field_tests": b.field_tests })))
 }
 
 pub async fn add_field_test(
     State(st): State<AppState>,
-    Path(id): Path<i64>,
+    ApiPath(id): ApiPath<i64>,
     ApiJson(body): ApiJson<serde_json::Value>,
 ) -> Result<Response, AppError> {
     let rec = st.app.add_field_test(id, body).await?;
@@ -315,7 +414,7 @@ pub async fn add_field_test(
 
 pub async fn delete_field_test(
     State(st): State<AppState>,
-    Path((id, tid)): Path<(i64, i64)>,
+    ApiPath((id, tid)): ApiPath<(i64, i64)>,
 ) -> Result<Response, AppError> {
     if !st.app.delete_field_test(id, tid).await? {
         return Err(AppError::NotFound(format!("audit {id} has no field test {tid}")));
@@ -323,7 +422,10 @@ pub async fn delete_field_test(
     Ok(StatusCode::NO_CONTENT.into_response())
 }
 
-pub async fn decay_events(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
+pub async fn decay_events(
+    State(st): State<AppState>,
+    ApiPath(id): ApiPath<i64>,
+) -> Result<Response, AppError> {
     let ev = st.app.decay_events(id).await?;
     Ok(json(StatusCode::OK, &serde_json::json!({ "events": ev })))
 }
@@ -337,7 +439,7 @@ pub struct CostBody {
 
 pub async fn put_cost(
     State(st): State<AppState>,
-    Path((id, kind)): Path<(i64, String)>,
+    ApiPath((id, kind)): ApiPath<(i64, String)>,
     ApiJson(body): ApiJson<CostBody>,
 ) -> Result<Response, AppError> {
     st.app.set_cost(id, &kind, body.implementation_cost).await?;
@@ -504,7 +606,7 @@ pub async fn calc_compression(
 
 pub async fn add_scenario(
     State(st): State<AppState>,
-    Path(id): Path<i64>,
+    ApiPath(id): ApiPath<i64>,
     ApiJson(body): ApiJson<serde_json::Value>,
 ) -> Result<Response, AppError> {
     let (sid, result) = st.app.add_scenario(id, body).await?;
@@ -512,7 +614,51 @@ pub async fn add_scenario(
     Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": sid, "result": result })))
 }
 
-pub async fn list_scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, AppError> {
+pub async fn list_scenarios(
+    State(st): State<AppState>,
+    ApiPath(id): ApiPath<i64>,
+) -> Result<Response, AppError> {
     let list = st.app.scenarios(id).await?;
     Ok(json(StatusCode::OK, &serde_json::json!({ "scenarios": list })))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::data_error;
+
+    #[derive(serde::Deserialize, Debug)]
+    #[serde(deny_unknown_fields)]
+    #[allow(dead_code)]
+    struct Inner {
+        elevation_m: f64,
+    }
+
+    #[derive(serde::Deserialize, Debug)]
+    #[serde(deny_unknown_fields)]
+    #[allow(dead_code)]
+    struct Outer {
+        name: String,
+        site: Option<Inner>,
+    }
+
+    /// The field named for axum's own rejection of a body.
+    fn field(body: &str) -> Option<String> {
+        match axum::Json::<Outer>::from_bytes(body.as_bytes()) {
+            Err(axum::extract::rejection::JsonRejection::JsonDataError(e)) => data_error(&e.body_text()).1,
+            other => panic!("not a data error: {:?}", other.map(|j| j.0)),
+        }
+    }
+
+    #[test]
+    fn type_errors_name_the_field_not_the_value() {
+        assert_eq!(field(r#"{"name": 5}"#).as_deref(), Some("name"));
+        assert_eq!(
+            field(r#"{"name": "a", "site": {"elevation_m": "x"}}"#).as_deref(),
+            Some("site.elevation_m")
+        );
+        assert_eq!(field(r#"{"site": null}"#).as_deref(), Some("name"));
+        assert_eq!(field(r#"{"name": "a", "site": {}}"#).as_deref(), Some("site.elevation_m"));
+        assert_eq!(field(r#"{"name": "a", "bogus": 1}"#).as_deref(), Some("bogus"));
+        assert_eq!(field(r#"{"name": "a", "site": {"elevation_m": 1, "x": 2}}"#).as_deref(), Some("site.x"));
+    }
 }

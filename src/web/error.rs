@@ -21,6 +21,10 @@ pub enum AppError {
     /// The request cannot be read at all (400).
     #[error("{0}")]
     BadRequest(String),
+    /// The request cannot be read, and one part of it is to blame (400): a path id that is no
+    /// number, a multipart part given twice or missing.
+    #[error("{message}")]
+    BadField { message: String, field: String },
     /// Well-formed but wrong input (422), with the place it is wrong.
     #[error("{message}")]
     Unprocessable { message: String, line: Option<u64>, column: Option<String>, field: Option<String> },
@@ -58,7 +62,7 @@ impl AppError {
     pub fn status(&self) -> StatusCode {
         match self {
             Self::NotFound(_) => StatusCode::NOT_FOUND,
-            Self::BadRequest(_) => StatusCode::BAD_REQUEST,
+            Self::BadRequest(_) | Self::BadField { .. } => StatusCode::BAD_REQUEST,
             Self::Unprocessable { .. } => StatusCode::UNPROCESSABLE_ENTITY,
             Self::Conflict(_) => StatusCode::CONFLICT,
             Self::TooLarge(_) => StatusCode::PAYLOAD_TOO_LARGE,
@@ -71,6 +75,11 @@ impl AppError {
         Self::Unprocessable { message: message.into(), line: None, column: None, field: Some(field.into()) }
     }
 
+    /// A 400 that names the part of the request to blame.
+    pub fn bad_field(field: &str, message: impl Into<String>) -> Self {
+        Self::BadField { message: message.into(), field: field.into() }
+    }
+
     pub fn log_if_internal(&self) {
         if let Self::Internal(e) = self {
             tracing::error!(error = format!("{e:#}"), "internal error");
@@ -80,6 +89,7 @@ impl AppError {
     pub fn place(&self) -> (Option<u64>, Option<&str>, Option<&str>) {
         match self {
             Self::Unprocessable { line, column, field, .. } => (*line, column.as_deref(), field.as_deref()),
+            Self::BadField { field, .. } => (None, None, Some(field.as_str())),
             _ => (None, None, None),
         }
     }

@@ -29,6 +29,11 @@ pub struct Config {
     pub max_upload_bytes: u64,
     /// Required from every client when set (see `access`).
     pub token: Option<String>,
+    /// The address the server listens on (set by [`run_server`] once bound); its IP is a name
+    /// the Host check accepts (see `access`).
+    pub bound: Option<SocketAddr>,
+    /// Further names the Host check accepts (`--allow-host`).
+    pub allow_hosts: Vec<String>,
 }
 
 /// What every handler gets: the application and the web's settings.
@@ -36,13 +41,18 @@ pub struct Config {
 pub struct AppState {
     pub app: App,
     pub config: Arc<Config>,
+    /// Signed-in sessions and failed sign-ins (see `access`).
+    pub sessions: Arc<access::Sessions>,
 }
 
 impl AppState {
     pub fn new(app: App, config: Config) -> Self {
-        Self { app, config: Arc::new(config) }
+        Self { app, config: Arc::new(config), sessions: Arc::default() }
     }
 }
+
+/// The largest JSON body the API reads (axum's default, named here); beyond it 413.
+pub const JSON_BODY_LIMIT: usize = 2 * 1024 * 1024;
 
 /// Content-Security-Policy: no inline script, nothing from elsewhere.
 const CSP: &str = "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data:; \
@@ -99,7 +109,8 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}/scenarios", get(api::list_scenarios).post(api::add_scenario))
         .route("/calc/orifice-leak", post(api::calc_orifice))
         .route("/calc/compression", post(api::calc_compression))
-        .fallback(api::not_found);
+        .fallback(api::not_found)
+        .layer(DefaultBodyLimit::max(JSON_BODY_LIMIT));
     Router::new()
         .route("/", get(pages::index::index))
         .route("/login", get(access::login_page).post(access::login))
@@ -120,17 +131,21 @@ pub fn build_app(state: AppState) -> Router {
         .nest("/api/v1", api)
         .fallback(pages::not_found)
         .layer(middleware::from_fn_with_state(state.clone(), access::guard))
+        .layer(middleware::from_fn_with_state(state.clone(), access::host_check))
         .layer(middleware::from_fn(timeout))
         .layer(middleware::from_fn(security_headers))
         .with_state(state)
 }
 
 /// Bind and serve until Ctrl-C. Prints the URL.
-pub async fn run_server(state: AppState, bind: SocketAddr) -> anyhow::Result<()> {
+pub async fn run_server(mut state: AppState, bind: SocketAddr) -> anyhow::Result<()> {
     let listener = tokio::net::TcpListener::bind(bind).await?;
     let addr = listener.local_addr()?;
+    let mut config = (*state.config).clone();
+    config.bound = Some(addr);
+    state.config = Arc::new(config);
     println!("airledger is serving {} at http://{addr}/", state.app.db_path().display());
-    let app = build_app(state);
+    let app = build_app(state).into_make_service_with_connect_info::<SocketAddr>();
     axum::serve(listener, app)
         .with_graceful_shutdown(async {
             let _ = tokio::signal::ctrl_c().await;

@@ -12,6 +12,8 @@ use std::sync::atomic::{AtomicU64, Ordering};
 
 use axum::extract::multipart::Field;
 use axum::extract::{Multipart, Path, Query, State};
+
+use super::api::ApiPath;
 use axum::http::StatusCode;
 use axum::response::{IntoResponse, Response};
 use axum::Json;
@@ -89,8 +91,11 @@ async fn spool(state: &AppState, mut field: Field<'_>) -> Result<(Spool, String,
     Ok((spool, hex, bytes))
 }
 
-fn parse_mapping(text: &str) -> Result<Mapping, AppError> {
-    serde_json::from_str(text).map_err(|e| AppError::Unprocessable {
+/// The largest `mapping` part read: a mapping of even a thousand columns is a few hundred KiB.
+pub const MAPPING_LIMIT: usize = 1024 * 1024;
+
+fn parse_mapping(text: &[u8]) -> Result<Mapping, AppError> {
+    serde_json::from_slice(text).map_err(|e| AppError::Unprocessable {
         message: format!("the mapping is not valid: {e}"),
         line: None,
         column: None,
@@ -98,10 +103,38 @@ fn parse_mapping(text: &str) -> Result<Mapping, AppError> {
     })
 }
 
-/// `POST /api/v1/audits/{id}/uploads`: multipart `file` + `mapping`.
+/// The `mapping` part, read piece by piece and never past [`MAPPING_LIMIT`].
+async fn read_mapping(field: &mut Field<'_>) -> Result<Vec<u8>, AppError> {
+    let mut text = Vec::new();
+    while let Some(piece) = field.chunk().await.map_err(multipart_error)? {
+        if text.len() + piece.len() > MAPPING_LIMIT {
+            return Err(AppError::TooLarge(format!(
+                "the mapping part is larger than {} KiB: a mapping is a short JSON object",
+                MAPPING_LIMIT / 1024
+            )));
+        }
+        text.extend_from_slice(&piece);
+    }
+    Ok(text)
+}
+
+/// Read what is left of a refused upload without keeping it, so the client that is still sending
+/// gets the answer instead of a reset connection. The body limit of the route bounds the time.
+async fn drain(multipart: &mut Multipart) {
+    while let Ok(Some(mut field)) = multipart.next_field().await {
+        while let Ok(Some(_)) = field.chunk().await {}
+    }
+}
+
+fn twice(part: &str) -> AppError {
+    AppError::bad_field(part, format!("the upload has more than one part named {part}: send exactly one"))
+}
+
+/// `POST /api/v1/audits/{id}/uploads`: multipart, exactly one `file` and one `mapping` part.
+/// Parts of other names are skipped unread.
 pub async fn post_upload(
     State(state): State<AppState>,
-    Path(audit_id): Path<i64>,
+    ApiPath(audit_id): ApiPath<i64>,
     Query(q): Query<UploadQuery>,
     mut multipart: Multipart,
 ) -> Result<Response, AppError> {
@@ -109,23 +142,35 @@ pub async fn post_upload(
     let mut mapping: Option<Mapping> = None;
     let mut file: Option<(Spool, String, u64, String)> = None;
     while let Some(field) = multipart.next_field().await.map_err(multipart_error)? {
-        match field.name() {
-            Some("mapping") => {
-                let text = field.text().await.map_err(multipart_error)?;
-                mapping = Some(parse_mapping(&text)?);
+        // The field is dropped at the end of this block, before any `drain` (multer reads no
+        // further part while one is alive).
+        let refused = {
+            let mut field = field;
+            match field.name() {
+                Some("mapping") if mapping.is_some() => Err(twice("mapping")),
+                Some("mapping") => match read_mapping(&mut field).await {
+                    Ok(text) => parse_mapping(&text).map(|m| mapping = Some(m)),
+                    Err(e) => Err(e),
+                },
+                Some("file") if file.is_some() => Err(twice("file")),
+                Some("file") => {
+                    let filename = field.file_name().unwrap_or("upload.csv").to_string();
+                    let (s, sha, bytes) = spool(&state, field).await?;
+                    file = Some((s, sha, bytes, filename));
+                    Ok(())
+                }
+                _ => Ok(()),
             }
-            Some("file") => {
-                let filename = field.file_name().unwrap_or("upload.csv").to_string();
-                let (s, sha, bytes) = spool(&state, field).await?;
-                file = Some((s, sha, bytes, filename));
-            }
-            _ => {}
+        };
+        if let Err(e) = refused {
+            drain(&mut multipart).await;
+            return Err(e);
         }
     }
-    let mapping =
-        mapping.ok_or_else(|| AppError::field("mapping", "the upload needs a part named mapping (JSON)"))?;
+    let mapping = mapping
+        .ok_or_else(|| AppError::bad_field("mapping", "the upload needs a part named mapping (JSON)"))?;
     let (spooled, sha256, bytes, filename) =
-        file.ok_or_else(|| AppError::field("file", "the upload needs a part named file"))?;
+        file.ok_or_else(|| AppError::bad_field("file", "the upload needs a part named file"))?;
     let replace = matches!(q.replace.as_deref(), Some("true" | "1" | "yes" | "on"));
 
     let token = q.token.filter(|t| !t.is_empty() && t.len() <= 64);
@@ -148,26 +193,33 @@ pub async fn post_upload(
     }
 }
 
-/// `POST /api/v1/audits/{id}/sniff`: multipart `file`; only its first 64 KiB are read.
+/// `POST /api/v1/audits/{id}/sniff`: multipart, exactly one `file` part; only its first 64 KiB are
+/// kept (the rest is read and dropped, to see that no second `file` part follows).
 pub async fn post_sniff(
     State(state): State<AppState>,
-    Path(audit_id): Path<i64>,
+    ApiPath(audit_id): ApiPath<i64>,
     mut multipart: Multipart,
 ) -> Result<Response, AppError> {
     state.app.import_context(audit_id).await?;
     let mut head = Vec::with_capacity(64 * 1024);
+    let mut files = 0;
     while let Some(mut field) = multipart.next_field().await.map_err(multipart_error)? {
         if field.name() != Some("file") {
             continue;
         }
+        files += 1;
+        if files > 1 {
+            drop(field);
+            drain(&mut multipart).await;
+            return Err(twice("file"));
+        }
         while let Some(piece) = field.chunk().await.map_err(multipart_error)? {
             let room = 64 * 1024 - head.len();
             head.extend_from_slice(&piece[..piece.len().min(room)]);
-            if head.len() >= 64 * 1024 {
-                break;
-            }
         }
-        break;
+    }
+    if files == 0 {
+        return Err(AppError::bad_field("file", "the request needs a part named file"));
     }
     if head.is_empty() {
         return Err(AppError::field("file", "the file is empty"));

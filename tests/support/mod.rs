@@ -339,3 +339,48 @@ pub fn peak_rss_mib(pid: u32) -> f64 {
         .expect("VmHWM in /proc/<pid>/status");
     kb / 1024.0
 }
+
+/// The server process's peak resident memory in MB (MiB): [`peak_rss_mib`] of its process.
+pub fn peak_rss_mb(s: &Server) -> f64 {
+    peak_rss_mib(s.child.id())
+}
+
+/// An HTTP/1.1 request written by hand (for a `Host` of our choosing, or a body streamed in pieces
+/// too large to hold): `head` is the request line and headers without the final blank line; the
+/// body comes from `pieces`. Write errors are ignored (the server may answer before reading it
+/// all). Returns the status, the headers (lower-cased names) and the body.
+pub fn raw_request(
+    s: &Server,
+    head: &str,
+    body_len: u64,
+    pieces: impl Iterator<Item = Vec<u8>>,
+) -> (u16, String, String) {
+    use std::io::{Read, Write};
+    let addr = s.base.strip_prefix("http://").expect("base");
+    let mut stream = std::net::TcpStream::connect(addr).expect("connect");
+    stream.set_read_timeout(Some(Duration::from_secs(300))).expect("timeout");
+    let head = format!("{head}\r\nContent-Length: {body_len}\r\nConnection: close\r\n\r\n");
+    let mut ok = stream.write_all(head.as_bytes()).is_ok();
+    for piece in pieces {
+        if !ok {
+            break;
+        }
+        ok = stream.write_all(&piece).is_ok();
+    }
+    let mut answer = Vec::new();
+    let _ = stream.read_to_end(&mut answer);
+    let text = String::from_utf8_lossy(&answer).to_string();
+    let (headers, body) = text.split_once("\r\n\r\n").unwrap_or((&text, ""));
+    let status = headers.split(' ').nth(1).and_then(|c| c.parse().ok()).unwrap_or(0);
+    (status, headers.to_ascii_lowercase(), body.to_string())
+}
+
+/// One multipart part: its header block for `name` (and a file name if given).
+pub fn multipart_part(boundary: &str, name: &str, filename: Option<&str>) -> String {
+    match filename {
+        Some(f) => format!(
+            "--{boundary}\r\nContent-Disposition: form-data; name=\"{name}\"; filename=\"{f}\"\r\nContent-Type: text/csv\r\n\r\n"
+        ),
+        None => format!("--{boundary}\r\nContent-Disposition: form-data; name=\"{name}\"\r\n\r\n"),
+    }
+}
