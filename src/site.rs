@@ -5,6 +5,35 @@ their validation.
 These are the shapes of the JSON API and of the edit forms. [`SitePatch`] and [`CompressorInput`] are
 parsed and validated here, so an invalid value never reaches storage; the analysis gets the plain
 `core::model` types built from them by [`SiteRecord::to_spec`] and [`CompressorRecord::to_spec`].
+
+# Accepted ranges
+
+Every number must be finite and lie in its range, or the whole input is refused (API 422 naming the
+field). The ranges are wide enough for any factory air system and narrow enough that no figure
+computed from them overflows (a price of 1e308 used to turn every cost into `null`).
+
+| value | range | why |
+|---|---|---|
+| `altitude_m` | -500 ..= 6000 m | Dead Sea shore (about -430 m) to the highest industrial sites (common practice) |
+| `atmospheric_pressure_kpa_abs` | 40 ..= 110 kPa abs | ISO 2533 gives 47.2 kPa at 6000 m; sea-level records stay below 109 kPa |
+| `inlet_temperature_c` | -40 ..= 60 °C | the usual ambient rating range of air compressor packages (common practice) |
+| `electricity_price_per_kwh`, `heating_fuel_price_per_kwh` | 0 ..= 1e6 per kWh | in the audit's currency: room for the weakest currencies, finite costs |
+| `demand_charge_per_kw_month` | 0 ..= 1e8 per kW month | a demand charge is at most a few hundred times the kWh price (common practice) |
+| `operating_weeks_per_year` | above 0 ..= 53 | weeks in a year |
+| `operating_hours_per_year` | 0 ..= 8784 h | hours in a leap year; 0 means "from the weeks" |
+| `heater_efficiency` | above 0 ..= 1.2 | condensing boilers exceed 1 on the net calorific value (EN 15502 ratings up to about 1.09) |
+| `grid_co2_kg_per_kwh` | 0 ..= 2 kg/kWh | the most carbon-intensive grids (lignite) stay near 1.1 (IEA emission factors, from memory) |
+| `fuel_co2_kg_per_kwh` | 0 ..= 1 kg/kWh | lignite 0.36, natural gas 0.20 kg/kWh (IPCC 2006 Guidelines, vol. 2 table 1.4) |
+| `other_volume_m3` | 0 ..= 10 000 m³ | piping and vessels of the largest plants (common practice) |
+| compressor `rated_power_kw` | above 0 ..= 20 000 kW | the largest centrifugal air compressors (common practice) |
+| compressor `rated_flow_m3_min` | above 0 ..= 2000 m³/min | same machines |
+| compressor `rated_pressure_bar_g` | above 0 ..= 50 bar(g) | shop air and boosters (PET blowing at 40 bar(g)); above is not an air audit |
+| compressor `unloaded_power_fraction` | 0 ..= 0.9 | share of full-load power when unloaded (common practice) |
+| compressor `stages` | 1 ..= 6 | compression stages of air compressors (common practice) |
+| compressor `rated_specific_power_kw_per_m3_min` | above 0 ..= 50 kW/(m³/min) | about 6 for a good screw at 7 bar(g); 50 leaves room for small and high-pressure machines |
+| compressor `power_curve` | at most 64 points of flow 0 ..= 2000 m³/min, power 0 ..= 20 000 kW | the rated ranges above |
+| compressor `year` | 1900 ..= 2100 | |
+| receiver `volume_m3` | above 0 ..= 1000 m³ | the largest shop-built air receivers (common practice) |
 */
 
 use serde::{Deserialize, Serialize};
@@ -12,6 +41,28 @@ use serde::{Deserialize, Serialize};
 use crate::core::air::atmosphere_from_altitude;
 use crate::core::model::{CompressorKind, CompressorSpec, Control, Cooling, SiteSpec};
 use crate::core::units::{SiteAir, UnitSystem};
+
+/// Upper bounds of the table in the module doc.
+pub const MAX_ENERGY_PRICE_PER_KWH: f64 = 1e6;
+pub const MAX_DEMAND_CHARGE_PER_KW_MONTH: f64 = 1e8;
+pub const MAX_GRID_CO2_KG_PER_KWH: f64 = 2.0;
+pub const MAX_FUEL_CO2_KG_PER_KWH: f64 = 1.0;
+pub const MAX_OTHER_VOLUME_M3: f64 = 10_000.0;
+pub const MAX_RATED_POWER_KW: f64 = 20_000.0;
+pub const MAX_RATED_FLOW_M3_MIN: f64 = 2_000.0;
+pub const MAX_RATED_PRESSURE_BAR_G: f64 = 50.0;
+pub const MAX_POWER_CURVE_POINTS: usize = 64;
+pub const MAX_RECEIVER_VOLUME_M3: f64 = 1_000.0;
+
+/// `v` if it is finite and within `lo..=hi` (above `lo` when `lo_open`), else the field's error.
+fn within(field: &str, v: f64, lo: f64, lo_open: bool, hi: f64, unit: &str) -> Result<f64, FieldError> {
+    let low_ok = if lo_open { v > lo } else { v >= lo };
+    if v.is_finite() && low_ok && v <= hi {
+        return Ok(v);
+    }
+    let from = if lo_open { format!("above {lo}") } else { format!("{lo}") };
+    Err(FieldError::new(field, format!("{field} must be a number from {from} to {hi}{unit}, got {v}")))
+}
 
 /// A field-level validation failure (API: 422 with `field`).
 #[derive(Debug, Clone, PartialEq)]
@@ -116,12 +167,6 @@ impl SiteRecord {
                 Err(FieldError::new(field, format!("{field} must be a number")))
             }
         }
-        fn non_negative(field: &str, v: f64) -> Result<f64, FieldError> {
-            if finite(field, v)? < 0.0 {
-                return Err(FieldError::new(field, format!("{field} must not be negative, got {v}")));
-            }
-            Ok(v)
-        }
         if let Some(v) = p.altitude_m {
             if !(-500.0..=6000.0).contains(&finite("altitude_m", v)?) {
                 return Err(FieldError::new(
@@ -159,10 +204,18 @@ impl SiteRecord {
             self.timezone = tz.clone();
         }
         if let Some(v) = p.electricity_price_per_kwh {
-            self.electricity_price_per_kwh = non_negative("electricity_price_per_kwh", v)?;
+            self.electricity_price_per_kwh =
+                within("electricity_price_per_kwh", v, 0.0, false, MAX_ENERGY_PRICE_PER_KWH, " per kWh")?;
         }
         if let Some(v) = p.demand_charge_per_kw_month {
-            self.demand_charge_per_kw_month = non_negative("demand_charge_per_kw_month", v)?;
+            self.demand_charge_per_kw_month = within(
+                "demand_charge_per_kw_month",
+                v,
+                0.0,
+                false,
+                MAX_DEMAND_CHARGE_PER_KW_MONTH,
+                " per kW month",
+            )?;
         }
         if let Some(c) = &p.currency {
             let c = c.trim();
@@ -198,7 +251,8 @@ impl SiteRecord {
             })?;
         }
         if let Some(v) = p.heating_fuel_price_per_kwh {
-            self.heating_fuel_price_per_kwh = non_negative("heating_fuel_price_per_kwh", v)?;
+            self.heating_fuel_price_per_kwh =
+                within("heating_fuel_price_per_kwh", v, 0.0, false, MAX_ENERGY_PRICE_PER_KWH, " per kWh")?;
         }
         if let Some(v) = p.heater_efficiency {
             if !(v > 0.0 && v <= 1.2) {
@@ -228,13 +282,15 @@ impl SiteRecord {
             self.heat_use = h.clone();
         }
         if let Some(v) = p.grid_co2_kg_per_kwh {
-            self.grid_co2_kg_per_kwh = non_negative("grid_co2_kg_per_kwh", v)?;
+            self.grid_co2_kg_per_kwh =
+                within("grid_co2_kg_per_kwh", v, 0.0, false, MAX_GRID_CO2_KG_PER_KWH, " kg/kWh")?;
         }
         if let Some(v) = p.fuel_co2_kg_per_kwh {
-            self.fuel_co2_kg_per_kwh = non_negative("fuel_co2_kg_per_kwh", v)?;
+            self.fuel_co2_kg_per_kwh =
+                within("fuel_co2_kg_per_kwh", v, 0.0, false, MAX_FUEL_CO2_KG_PER_KWH, " kg/kWh")?;
         }
         if let Some(v) = p.other_volume_m3 {
-            self.other_volume_m3 = non_negative("other_volume_m3", v)?;
+            self.other_volume_m3 = within("other_volume_m3", v, 0.0, false, MAX_OTHER_VOLUME_M3, " m³")?;
         }
         Ok(())
     }
@@ -340,16 +396,12 @@ impl CompressorInput {
             .ok_or_else(|| FieldError::new("control", format!("unknown control {:?}", self.control)))?;
         let cooling = Cooling::parse(&self.cooling)
             .ok_or_else(|| FieldError::new("cooling", format!("unknown cooling {:?}", self.cooling)))?;
-        let positive = |field: &str, v: f64, max: f64| -> Result<f64, FieldError> {
-            if v.is_finite() && v > 0.0 && v <= max {
-                Ok(v)
-            } else {
-                Err(FieldError::new(field, format!("{field} must be above 0 and at most {max}, got {v}")))
-            }
-        };
-        let rated_power_kw = positive("rated_power_kw", self.rated_power_kw, 20_000.0)?;
-        let rated_flow_m3_min = positive("rated_flow_m3_min", self.rated_flow_m3_min, 2_000.0)?;
-        let rated_pressure_bar_g = positive("rated_pressure_bar_g", self.rated_pressure_bar_g, 100.0)?;
+        let positive = |field: &str, v: f64, max: f64, unit: &str| within(field, v, 0.0, true, max, unit);
+        let rated_power_kw = positive("rated_power_kw", self.rated_power_kw, MAX_RATED_POWER_KW, " kW")?;
+        let rated_flow_m3_min =
+            positive("rated_flow_m3_min", self.rated_flow_m3_min, MAX_RATED_FLOW_M3_MIN, " m³/min")?;
+        let rated_pressure_bar_g =
+            positive("rated_pressure_bar_g", self.rated_pressure_bar_g, MAX_RATED_PRESSURE_BAR_G, " bar(g)")?;
         let unloaded_power_fraction =
             self.unloaded_power_fraction.unwrap_or_else(|| kind.default_unloaded_power_fraction());
         if !(0.0..=0.9).contains(&unloaded_power_fraction) {
@@ -363,13 +415,25 @@ impl CompressorInput {
             return Err(FieldError::new("stages", format!("stages must be 1 to 6, got {stages}")));
         }
         if let Some(sp) = self.rated_specific_power_kw_per_m3_min {
-            positive("rated_specific_power_kw_per_m3_min", sp, 50.0)?;
+            positive("rated_specific_power_kw_per_m3_min", sp, 50.0, " kW/(m³/min)")?;
         }
         let mut curve = self.power_curve.clone();
-        if curve.iter().any(|&(q, p)| !(q.is_finite() && p.is_finite() && q >= 0.0 && p >= 0.0)) {
+        if curve.len() > MAX_POWER_CURVE_POINTS {
             return Err(FieldError::new(
                 "power_curve",
-                "power curve points must be [flow_m3_min, kw] with both >= 0",
+                format!("a power curve has at most {MAX_POWER_CURVE_POINTS} points, got {}", curve.len()),
+            ));
+        }
+        let in_range = |q: f64, p: f64| {
+            (0.0..=MAX_RATED_FLOW_M3_MIN).contains(&q) && (0.0..=MAX_RATED_POWER_KW).contains(&p)
+        };
+        if curve.iter().any(|&(q, p)| !in_range(q, p)) {
+            return Err(FieldError::new(
+                "power_curve",
+                format!(
+                    "power curve points must be [flow_m3_min, kw] with flow 0 to {MAX_RATED_FLOW_M3_MIN} \
+                     and power 0 to {MAX_RATED_POWER_KW}"
+                ),
             ));
         }
         curve.sort_by(|a, b| a.0.total_cmp(&b.0));
@@ -421,12 +485,7 @@ impl ReceiverInput {
         if self.name.trim().is_empty() || self.name.chars().count() > 64 {
             return Err(FieldError::new("name", "receiver name must be 1 to 64 characters"));
         }
-        if !(self.volume_m3.is_finite() && self.volume_m3 > 0.0 && self.volume_m3 <= 1000.0) {
-            return Err(FieldError::new(
-                "volume_m3",
-                format!("receiver volume must be above 0 and at most 1000 m³, got {}", self.volume_m3),
-            ));
-        }
+        within("volume_m3", self.volume_m3, 0.0, true, MAX_RECEIVER_VOLUME_M3, " m³")?;
         Ok(())
     }
 }
