@@ -64,6 +64,152 @@ fn within(field: &str, v: f64, lo: f64, lo_open: bool, hi: f64, unit: &str) -> R
     Err(FieldError::new(field, format!("{field} must be a number from {from} to {hi}{unit}, got {v}")))
 }
 
+/// Read a JSON body into `T`, naming the field at fault: a type error names the field whose value
+/// has the wrong type (`changes[0].target_bar_g`), an unknown or missing field names that field.
+///
+/// `serde_path_to_error` tracks the path; axum's `Json` extractor uses the same crate, so it adds
+/// nothing to the dependency tree. Inside an internally tagged enum (`kind`, `op`) serde buffers the
+/// object and the path stops at it; the field is then the one in that object whose value is the one
+/// the error calls unexpected ([`locate_unexpected`]).
+pub fn read_json<T: serde::de::DeserializeOwned>(
+    body: serde_json::Value,
+    what: &str,
+) -> Result<T, FieldError> {
+    match serde_path_to_error::deserialize::<_, T>(&body) {
+        Ok(v) => Ok(v),
+        Err(e) => {
+            let message = e.inner().to_string();
+            let field = field_of_serde_in(&e.path().to_string(), &message, Some(&body))
+                .unwrap_or_else(|| "body".to_string());
+            Err(FieldError::new(&field, format!("{what} cannot be read: {field}: {message}")))
+        }
+    }
+}
+
+/// The field a serde error is about, from the path where it happened (`.` at the top) and its
+/// message ("unknown field `x`", "missing field `x`" name a field inside the path's object).
+pub fn field_of_serde(path: &str, message: &str) -> Option<String> {
+    field_of_serde_in(path, message, None)
+}
+
+/// [`field_of_serde`], refined with the body the error came from: a type error whose path stops at an
+/// object names the field of that object holding the unexpected value.
+pub fn field_of_serde_in(path: &str, message: &str, body: Option<&serde_json::Value>) -> Option<String> {
+    let path = path.trim_matches('.');
+    let path = (!path.is_empty() && path != "?").then_some(path);
+    let named = ["unknown field `", "missing field `"].iter().find_map(|p| {
+        let start = message.find(p)? + p.len();
+        let end = start + message[start..].find('`')?;
+        Some(&message[start..end])
+    });
+    if let Some(n) = named {
+        // Inside a tagged enum the path stops at the variant's object: find the nested object that
+        // holds the unknown key.
+        let at = body.and_then(|b| value_at(b, path.unwrap_or("")));
+        if let (Some(obj), true) = (at, message.starts_with("unknown field `")) {
+            if obj.get(n).is_none() {
+                if let Some(inner) = locate_key(obj, n) {
+                    return Some(match path {
+                        Some(p) => format!("{p}.{inner}"),
+                        None => inner,
+                    });
+                }
+            }
+        }
+        return Some(match path {
+            Some(p) if p == n || p.ends_with(&format!(".{n}")) => p.to_string(),
+            Some(p) => format!("{p}.{n}"),
+            None => n.to_string(),
+        });
+    }
+    // A type error: if the path stops at an object, find the unexpected value in it.
+    let at = body.and_then(|b| value_at(b, path.unwrap_or("")));
+    if let Some(obj @ serde_json::Value::Object(_)) = at {
+        if let Some(inner) = locate_unexpected(obj, message) {
+            return Some(match path {
+                Some(p) => format!("{p}.{inner}"),
+                None => inner,
+            });
+        }
+    }
+    path.map(str::to_string)
+}
+
+/// The value at a serde path such as `changes[0].compressor` (`""` is the whole body).
+fn value_at<'v>(body: &'v serde_json::Value, path: &str) -> Option<&'v serde_json::Value> {
+    let mut v = body;
+    for seg in path.split('.').filter(|s| !s.is_empty()) {
+        let (key, rest) = seg.split_once('[').map_or((seg, ""), |(k, r)| (k, r));
+        if !key.is_empty() {
+            v = v.get(key)?;
+        }
+        for idx in rest.split('[').filter(|s| !s.is_empty()) {
+            v = v.get(idx.trim_end_matches(']').parse::<usize>().ok()?)?;
+        }
+    }
+    Some(v)
+}
+
+/// The path (inside `v`) of the first object member named `key`, nested at any depth.
+fn locate_key(v: &serde_json::Value, key: &str) -> Option<String> {
+    match v {
+        serde_json::Value::Object(m) => {
+            if m.contains_key(key) {
+                return Some(key.to_string());
+            }
+            m.iter().find_map(|(k, x)| {
+                let inner = locate_key(x, key)?;
+                Some(if inner.starts_with('[') { format!("{k}{inner}") } else { format!("{k}.{inner}") })
+            })
+        }
+        serde_json::Value::Array(a) => {
+            a.iter().enumerate().find_map(|(i, x)| Some(format!("[{i}].{}", locate_key(x, key)?)))
+        }
+        _ => None,
+    }
+}
+
+/// The path (inside `obj`) of the first value that serde's "invalid type: X, expected Y" or
+/// "invalid value: X, expected Y" calls X.
+pub fn locate_unexpected(obj: &serde_json::Value, message: &str) -> Option<String> {
+    let rest = message.strip_prefix("invalid type: ").or_else(|| message.strip_prefix("invalid value: "))?;
+    let unexpected = &rest[..rest.rfind(", expected ")?];
+    fn shown(v: &serde_json::Value) -> String {
+        use serde_json::Value;
+        match v {
+            Value::Null => "null".into(),
+            Value::Bool(b) => format!("boolean `{b}`"),
+            Value::Number(n) if n.is_f64() => format!("floating point `{n}`"),
+            Value::Number(n) => format!("integer `{n}`"),
+            Value::String(s) => format!("string {s:?}"),
+            Value::Array(_) => "sequence".into(),
+            Value::Object(_) => "map".into(),
+        }
+    }
+    fn walk(v: &serde_json::Value, unexpected: &str, at: String) -> Option<String> {
+        match v {
+            serde_json::Value::Object(m) => m.iter().find_map(|(k, x)| {
+                let here = if at.is_empty() { k.clone() } else { format!("{at}.{k}") };
+                if shown(x) == unexpected {
+                    Some(here)
+                } else {
+                    walk(x, unexpected, here)
+                }
+            }),
+            serde_json::Value::Array(a) => a.iter().enumerate().find_map(|(i, x)| {
+                let here = format!("{at}[{i}]");
+                if shown(x) == unexpected {
+                    Some(here)
+                } else {
+                    walk(x, unexpected, here)
+                }
+            }),
+            _ => None,
+        }
+    }
+    walk(obj, unexpected, String::new())
+}
+
 /// A field-level validation failure (API: 422 with `field`).
 #[derive(Debug, Clone, PartialEq)]
 pub struct FieldError {
@@ -537,5 +683,64 @@ mod tests {
         assert_eq!(r.unloaded_power_fraction, 0.25);
         let bad = CompressorInput { kind: "turbo".into(), ..c };
         assert_eq!(bad.validate().unwrap_err().field, "kind");
+    }
+}
+
+#[cfg(test)]
+mod read_json_tests {
+    use super::*;
+    use crate::core::fieldtest::FieldTestInput;
+    use crate::core::simulate::Scenario;
+    use serde_json::json;
+
+    fn test_field(v: serde_json::Value) -> String {
+        read_json::<FieldTestInput>(v, "this field test").unwrap_err().field
+    }
+
+    fn scenario_field(v: serde_json::Value) -> String {
+        read_json::<Scenario>(v, "this scenario").unwrap_err().field
+    }
+
+    #[test]
+    fn field_test_errors_name_their_field_through_the_kind_tag() {
+        let bleed = |extra: serde_json::Value| {
+            let mut v = json!({"kind": "bleed_down", "start_pressure_bar_g": 7, "end_pressure_bar_g": 5,
+                               "duration_s": 90});
+            v.as_object_mut().unwrap().extend(extra.as_object().unwrap().clone());
+            v
+        };
+        assert_eq!(test_field(bleed(json!({"start_pressure_bar_g": "seven"}))), "start_pressure_bar_g");
+        assert_eq!(test_field(bleed(json!({"bogus": "<b>x</b>"}))), "bogus");
+        assert_eq!(
+            test_field(json!({"kind": "bleed_down", "end_pressure_bar_g": 5, "duration_s": 9})),
+            "start_pressure_bar_g"
+        );
+        assert_eq!(test_field(json!({"kind": "teleport"})), "kind");
+        assert_eq!(test_field(json!({"start_pressure_bar_g": 7})), "kind");
+        // The tag itself is not an unknown field.
+        assert!(read_json::<FieldTestInput>(bleed(json!({})), "t").is_ok());
+    }
+
+    #[test]
+    fn scenario_errors_name_the_change_and_its_field() {
+        let set = |c: serde_json::Value| json!({"name": "x", "changes": [c]});
+        assert_eq!(
+            scenario_field(set(json!({"op": "set_pressure", "target_bar_g": "high"}))),
+            "changes[0].target_bar_g"
+        );
+        assert_eq!(
+            scenario_field(set(json!({"op": "set_pressure", "target_bar_g": 6, "bogus": 1}))),
+            "changes[0].bogus"
+        );
+        assert_eq!(scenario_field(set(json!({"op": "fly"}))), "changes[0].op");
+        assert_eq!(scenario_field(json!({"name": "x", "bogus": 1})), "bogus");
+        let add = json!({"op": "add", "compressor": {"tag": "N", "kind": "lubricated_screw",
+            "control": "load_unload", "cooling": "air", "rated_power_kw": "fifty",
+            "rated_flow_m3_min": 1, "rated_pressure_bar_g": 7}});
+        assert_eq!(scenario_field(set(add.clone())), "changes[0].compressor.rated_power_kw");
+        let mut extra = add;
+        extra["compressor"]["rated_power_kw"] = json!(50);
+        extra["compressor"]["colour"] = json!("red");
+        assert_eq!(scenario_field(set(extra)), "changes[0].compressor.colour");
     }
 }
