@@ -10,5 +10,7 @@ mod api;
 mod browser;
 #[path = "integration/engine.rs"]
 mod engine;
+#[path = "integration/hostile_validation.rs"]
+mod hostile_validation;
 #[path = "integration/ingest.rs"]
 mod ingest;
