@@ -5,6 +5,35 @@ their validation.
 These are the shapes of the JSON API and of the edit forms. [`SitePatch`] and [`CompressorInput`] are
 parsed and validated here, so an invalid value never reaches storage; the analysis gets the plain
 `core::model` types built from them by [`SiteRecord::to_spec`] and [`CompressorRecord::to_spec`].
+
+# Accepted ranges
+
+Every number must be finite and lie in its range, or the whole input is refused (API 422 naming the
+field). The ranges are wide enough for any factory air system and narrow enough that no figure
+computed from them overflows (a price of 1e308 used to turn every cost into `null`).
+
+| value | range | why |
+|---|---|---|
+| `altitude_m` | -500 ..= 6000 m | Dead Sea shore (about -430 m) to the highest industrial sites (common practice) |
+| `atmospheric_pressure_kpa_abs` | 40 ..= 110 kPa abs | ISO 2533 gives 47.2 kPa at 6000 m; sea-level records stay below 109 kPa |
+| `inlet_temperature_c` | -40 ..= 60 °C | the usual ambient rating range of air compressor packages (common practice) |
+| `electricity_price_per_kwh`, `heating_fuel_price_per_kwh` | 0 ..= 1e6 per kWh | in the audit's currency: room for the weakest currencies, finite costs |
+| `demand_charge_per_kw_month` | 0 ..= 1e8 per kW month | a demand charge is at most a few hundred times the kWh price (common practice) |
+| `operating_weeks_per_year` | above 0 ..= 53 | weeks in a year |
+| `operating_hours_per_year` | 0 ..= 8784 h | hours in a leap year; 0 means "from the weeks" |
+| `heater_efficiency` | above 0 ..= 1.2 | condensing boilers exceed 1 on the net calorific value (EN 15502 ratings up to about 1.09) |
+| `grid_co2_kg_per_kwh` | 0 ..= 2 kg/kWh | the most carbon-intensive grids (lignite) stay near 1.1 (IEA emission factors, from memory) |
+| `fuel_co2_kg_per_kwh` | 0 ..= 1 kg/kWh | lignite 0.36, natural gas 0.20 kg/kWh (IPCC 2006 Guidelines, vol. 2 table 1.4) |
+| `other_volume_m3` | 0 ..= 10 000 m³ | piping and vessels of the largest plants (common practice) |
+| compressor `rated_power_kw` | above 0 ..= 20 000 kW | the largest centrifugal air compressors (common practice) |
+| compressor `rated_flow_m3_min` | above 0 ..= 2000 m³/min | same machines |
+| compressor `rated_pressure_bar_g` | above 0 ..= 50 bar(g) | shop air and boosters (PET blowing at 40 bar(g)); above is not an air audit |
+| compressor `unloaded_power_fraction` | 0 ..= 0.9 | share of full-load power when unloaded (common practice) |
+| compressor `stages` | 1 ..= 6 | compression stages of air compressors (common practice) |
+| compressor `rated_specific_power_kw_per_m3_min` | above 0 ..= 50 kW/(m³/min) | about 6 for a good screw at 7 bar(g); 50 leaves room for small and high-pressure machines |
+| compressor `power_curve` | at most 64 points of flow 0 ..= 2000 m³/min, power 0 ..= 20 000 kW | the rated ranges above |
+| compressor `year` | 1900 ..= 2100 | |
+| receiver `volume_m3` | above 0 ..= 1000 m³ | the largest shop-built air receivers (common practice) |
 */
 
 use serde::{Deserialize, Serialize};
@@ -12,6 +41,174 @@ use serde::{Deserialize, Serialize};
 use crate::core::air::atmosphere_from_altitude;
 use crate::core::model::{CompressorKind, CompressorSpec, Control, Cooling, SiteSpec};
 use crate::core::units::{SiteAir, UnitSystem};
+
+/// Upper bounds of the table in the module doc.
+pub const MAX_ENERGY_PRICE_PER_KWH: f64 = 1e6;
+pub const MAX_DEMAND_CHARGE_PER_KW_MONTH: f64 = 1e8;
+pub const MAX_GRID_CO2_KG_PER_KWH: f64 = 2.0;
+pub const MAX_FUEL_CO2_KG_PER_KWH: f64 = 1.0;
+pub const MAX_OTHER_VOLUME_M3: f64 = 10_000.0;
+pub const MAX_RATED_POWER_KW: f64 = 20_000.0;
+pub const MAX_RATED_FLOW_M3_MIN: f64 = 2_000.0;
+pub const MAX_RATED_PRESSURE_BAR_G: f64 = 50.0;
+pub const MAX_POWER_CURVE_POINTS: usize = 64;
+pub const MAX_RECEIVER_VOLUME_M3: f64 = 1_000.0;
+
+/// `v` if it is finite and within `lo..=hi` (above `lo` when `lo_open`), else the field's error.
+fn within(field: &str, v: f64, lo: f64, lo_open: bool, hi: f64, unit: &str) -> Result<f64, FieldError> {
+    let low_ok = if lo_open { v > lo } else { v >= lo };
+    if v.is_finite() && low_ok && v <= hi {
+        return Ok(v);
+    }
+    let from = if lo_open { format!("above {lo}") } else { format!("{lo}") };
+    Err(FieldError::new(field, format!("{field} must be a number from {from} to {hi}{unit}, got {v}")))
+}
+
+/// Read a JSON body into `T`, naming the field at fault: a type error names the field whose value
+/// has the wrong type (`changes[0].target_bar_g`), an unknown or missing field names that field.
+///
+/// `serde_path_to_error` tracks the path; axum's `Json` extractor uses the same crate, so it adds
+/// nothing to the dependency tree. Inside an internally tagged enum (`kind`, `op`) serde buffers the
+/// object and the path stops at it; the field is then the one in that object whose value is the one
+/// the error calls unexpected ([`locate_unexpected`]).
+pub fn read_json<T: serde::de::DeserializeOwned>(
+    body: serde_json::Value,
+    what: &str,
+) -> Result<T, FieldError> {
+    match serde_path_to_error::deserialize::<_, T>(&body) {
+        Ok(v) => Ok(v),
+        Err(e) => {
+            let message = e.inner().to_string();
+            let field = field_of_serde_in(&e.path().to_string(), &message, Some(&body))
+                .unwrap_or_else(|| "body".to_string());
+            Err(FieldError::new(&field, format!("{what} cannot be read: {field}: {message}")))
+        }
+    }
+}
+
+/// The field a serde error is about, from the path where it happened (`.` at the top) and its
+/// message ("unknown field `x`", "missing field `x`" name a field inside the path's object).
+pub fn field_of_serde(path: &str, message: &str) -> Option<String> {
+    field_of_serde_in(path, message, None)
+}
+
+/// [`field_of_serde`], refined with the body the error came from: a type error whose path stops at an
+/// object names the field of that object holding the unexpected value.
+pub fn field_of_serde_in(path: &str, message: &str, body: Option<&serde_json::Value>) -> Option<String> {
+    let path = path.trim_matches('.');
+    let path = (!path.is_empty() && path != "?").then_some(path);
+    let named = ["unknown field `", "missing field `"].iter().find_map(|p| {
+        let start = message.find(p)? + p.len();
+        let end = start + message[start..].find('`')?;
+        Some(&message[start..end])
+    });
+    if let Some(n) = named {
+        // Inside a tagged enum the path stops at the variant's object: find the nested object that
+        // holds the unknown key.
+        let at = body.and_then(|b| value_at(b, path.unwrap_or("")));
+        if let (Some(obj), true) = (at, message.starts_with("unknown field `")) {
+            if obj.get(n).is_none() {
+                if let Some(inner) = locate_key(obj, n) {
+                    return Some(match path {
+                        Some(p) => format!("{p}.{inner}"),
+                        None => inner,
+                    });
+                }
+            }
+        }
+        return Some(match path {
+            Some(p) if p == n || p.ends_with(&format!(".{n}")) => p.to_string(),
+            Some(p) => format!("{p}.{n}"),
+            None => n.to_string(),
+        });
+    }
+    // A type error: if the path stops at an object, find the unexpected value in it.
+    let at = body.and_then(|b| value_at(b, path.unwrap_or("")));
+    if let Some(obj @ serde_json::Value::Object(_)) = at {
+        if let Some(inner) = locate_unexpected(obj, message) {
+            return Some(match path {
+                Some(p) => format!("{p}.{inner}"),
+                None => inner,
+            });
+        }
+    }
+    path.map(str::to_string)
+}
+
+/// The value at a serde path such as `changes[0].compressor` (`""` is the whole body).
+fn value_at<'v>(body: &'v serde_json::Value, path: &str) -> Option<&'v serde_json::Value> {
+    let mut v = body;
+    for seg in path.split('.').filter(|s| !s.is_empty()) {
+        let (key, rest) = seg.split_once('[').map_or((seg, ""), |(k, r)| (k, r));
+        if !key.is_empty() {
+            v = v.get(key)?;
+        }
+        for idx in rest.split('[').filter(|s| !s.is_empty()) {
+            v = v.get(idx.trim_end_matches(']').parse::<usize>().ok()?)?;
+        }
+    }
+    Some(v)
+}
+
+/// The path (inside `v`) of the first object member named `key`, nested at any depth.
+fn locate_key(v: &serde_json::Value, key: &str) -> Option<String> {
+    match v {
+        serde_json::Value::Object(m) => {
+            if m.contains_key(key) {
+                return Some(key.to_string());
+            }
+            m.iter().find_map(|(k, x)| {
+                let inner = locate_key(x, key)?;
+                Some(if inner.starts_with('[') { format!("{k}{inner}") } else { format!("{k}.{inner}") })
+            })
+        }
+        serde_json::Value::Array(a) => {
+            a.iter().enumerate().find_map(|(i, x)| Some(format!("[{i}].{}", locate_key(x, key)?)))
+        }
+        _ => None,
+    }
+}
+
+/// The path (inside `obj`) of the first value that serde's "invalid type: X, expected Y" or
+/// "invalid value: X, expected Y" calls X.
+pub fn locate_unexpected(obj: &serde_json::Value, message: &str) -> Option<String> {
+    let rest = message.strip_prefix("invalid type: ").or_else(|| message.strip_prefix("invalid value: "))?;
+    let unexpected = &rest[..rest.rfind(", expected ")?];
+    fn shown(v: &serde_json::Value) -> String {
+        use serde_json::Value;
+        match v {
+            Value::Null => "null".into(),
+            Value::Bool(b) => format!("boolean `{b}`"),
+            Value::Number(n) if n.is_f64() => format!("floating point `{n}`"),
+            Value::Number(n) => format!("integer `{n}`"),
+            Value::String(s) => format!("string {s:?}"),
+            Value::Array(_) => "sequence".into(),
+            Value::Object(_) => "map".into(),
+        }
+    }
+    fn walk(v: &serde_json::Value, unexpected: &str, at: String) -> Option<String> {
+        match v {
+            serde_json::Value::Object(m) => m.iter().find_map(|(k, x)| {
+                let here = if at.is_empty() { k.clone() } else { format!("{at}.{k}") };
+                if shown(x) == unexpected {
+                    Some(here)
+                } else {
+                    walk(x, unexpected, here)
+                }
+            }),
+            serde_json::Value::Array(a) => a.iter().enumerate().find_map(|(i, x)| {
+                let here = format!("{at}[{i}]");
+                if shown(x) == unexpected {
+                    Some(here)
+                } else {
+                    walk(x, unexpected, here)
+                }
+            }),
+            _ => None,
+        }
+    }
+    walk(obj, unexpected, String::new())
+}
 
 /// A field-level validation failure (API: 422 with `field`).
 #[derive(Debug, Clone, PartialEq)]
@@ -116,12 +313,6 @@ impl SiteRecord {
                 Err(FieldError::new(field, format!("{field} must be a number")))
             }
         }
-        fn non_negative(field: &str, v: f64) -> Result<f64, FieldError> {
-            if finite(field, v)? < 0.0 {
-                return Err(FieldError::new(field, format!("{field} must not be negative, got {v}")));
-            }
-            Ok(v)
-        }
         if let Some(v) = p.altitude_m {
             if !(-500.0..=6000.0).contains(&finite("altitude_m", v)?) {
                 return Err(FieldError::new(
@@ -159,10 +350,18 @@ impl SiteRecord {
             self.timezone = tz.clone();
         }
         if let Some(v) = p.electricity_price_per_kwh {
-            self.electricity_price_per_kwh = non_negative("electricity_price_per_kwh", v)?;
+            self.electricity_price_per_kwh =
+                within("electricity_price_per_kwh", v, 0.0, false, MAX_ENERGY_PRICE_PER_KWH, " per kWh")?;
         }
         if let Some(v) = p.demand_charge_per_kw_month {
-            self.demand_charge_per_kw_month = non_negative("demand_charge_per_kw_month", v)?;
+            self.demand_charge_per_kw_month = within(
+                "demand_charge_per_kw_month",
+                v,
+                0.0,
+                false,
+                MAX_DEMAND_CHARGE_PER_KW_MONTH,
+                " per kW month",
+            )?;
         }
         if let Some(c) = &p.currency {
             let c = c.trim();
@@ -198,7 +397,8 @@ impl SiteRecord {
             })?;
         }
         if let Some(v) = p.heating_fuel_price_per_kwh {
-            self.heating_fuel_price_per_kwh = non_negative("heating_fuel_price_per_kwh", v)?;
+            self.heating_fuel_price_per_kwh =
+                within("heating_fuel_price_per_kwh", v, 0.0, false, MAX_ENERGY_PRICE_PER_KWH, " per kWh")?;
         }
         if let Some(v) = p.heater_efficiency {
             if !(v > 0.0 && v <= 1.2) {
@@ -228,13 +428,15 @@ impl SiteRecord {
             self.heat_use = h.clone();
         }
         if let Some(v) = p.grid_co2_kg_per_kwh {
-            self.grid_co2_kg_per_kwh = non_negative("grid_co2_kg_per_kwh", v)?;
+            self.grid_co2_kg_per_kwh =
+                within("grid_co2_kg_per_kwh", v, 0.0, false, MAX_GRID_CO2_KG_PER_KWH, " kg/kWh")?;
         }
         if let Some(v) = p.fuel_co2_kg_per_kwh {
-            self.fuel_co2_kg_per_kwh = non_negative("fuel_co2_kg_per_kwh", v)?;
+            self.fuel_co2_kg_per_kwh =
+                within("fuel_co2_kg_per_kwh", v, 0.0, false, MAX_FUEL_CO2_KG_PER_KWH, " kg/kWh")?;
         }
         if let Some(v) = p.other_volume_m3 {
-            self.other_volume_m3 = non_negative("other_volume_m3", v)?;
+            self.other_volume_m3 = within("other_volume_m3", v, 0.0, false, MAX_OTHER_VOLUME_M3, " m³")?;
         }
         Ok(())
     }
@@ -340,16 +542,12 @@ impl CompressorInput {
             .ok_or_else(|| FieldError::new("control", format!("unknown control {:?}", self.control)))?;
         let cooling = Cooling::parse(&self.cooling)
             .ok_or_else(|| FieldError::new("cooling", format!("unknown cooling {:?}", self.cooling)))?;
-        let positive = |field: &str, v: f64, max: f64| -> Result<f64, FieldError> {
-            if v.is_finite() && v > 0.0 && v <= max {
-                Ok(v)
-            } else {
-                Err(FieldError::new(field, format!("{field} must be above 0 and at most {max}, got {v}")))
-            }
-        };
-        let rated_power_kw = positive("rated_power_kw", self.rated_power_kw, 20_000.0)?;
-        let rated_flow_m3_min = positive("rated_flow_m3_min", self.rated_flow_m3_min, 2_000.0)?;
-        let rated_pressure_bar_g = positive("rated_pressure_bar_g", self.rated_pressure_bar_g, 100.0)?;
+        let positive = |field: &str, v: f64, max: f64, unit: &str| within(field, v, 0.0, true, max, unit);
+        let rated_power_kw = positive("rated_power_kw", self.rated_power_kw, MAX_RATED_POWER_KW, " kW")?;
+        let rated_flow_m3_min =
+            positive("rated_flow_m3_min", self.rated_flow_m3_min, MAX_RATED_FLOW_M3_MIN, " m³/min")?;
+        let rated_pressure_bar_g =
+            positive("rated_pressure_bar_g", self.rated_pressure_bar_g, MAX_RATED_PRESSURE_BAR_G, " bar(g)")?;
         let unloaded_power_fraction =
             self.unloaded_power_fraction.unwrap_or_else(|| kind.default_unloaded_power_fraction());
         if !(0.0..=0.9).contains(&unloaded_power_fraction) {
@@ -363,13 +561,25 @@ impl CompressorInput {
             return Err(FieldError::new("stages", format!("stages must be 1 to 6, got {stages}")));
         }
         if let Some(sp) = self.rated_specific_power_kw_per_m3_min {
-            positive("rated_specific_power_kw_per_m3_min", sp, 50.0)?;
+            positive("rated_specific_power_kw_per_m3_min", sp, 50.0, " kW/(m³/min)")?;
         }
         let mut curve = self.power_curve.clone();
-        if curve.iter().any(|&(q, p)| !(q.is_finite() && p.is_finite() && q >= 0.0 && p >= 0.0)) {
+        if curve.len() > MAX_POWER_CURVE_POINTS {
             return Err(FieldError::new(
                 "power_curve",
-                "power curve points must be [flow_m3_min, kw] with both >= 0",
+                format!("a power curve has at most {MAX_POWER_CURVE_POINTS} points, got {}", curve.len()),
+            ));
+        }
+        let in_range = |q: f64, p: f64| {
+            (0.0..=MAX_RATED_FLOW_M3_MIN).contains(&q) && (0.0..=MAX_RATED_POWER_KW).contains(&p)
+        };
+        if curve.iter().any(|&(q, p)| !in_range(q, p)) {
+            return Err(FieldError::new(
+                "power_curve",
+                format!(
+                    "power curve points must be [flow_m3_min, kw] with flow 0 to {MAX_RATED_FLOW_M3_MIN} \
+                     and power 0 to {MAX_RATED_POWER_KW}"
+                ),
             ));
         }
         curve.sort_by(|a, b| a.0.total_cmp(&b.0));
@@ -421,12 +631,7 @@ impl ReceiverInput {
         if self.name.trim().is_empty() || self.name.chars().count() > 64 {
             return Err(FieldError::new("name", "receiver name must be 1 to 64 characters"));
         }
-        if !(self.volume_m3.is_finite() && self.volume_m3 > 0.0 && self.volume_m3 <= 1000.0) {
-            return Err(FieldError::new(
-                "volume_m3",
-                format!("receiver volume must be above 0 and at most 1000 m³, got {}", self.volume_m3),
-            ));
-        }
+        within("volume_m3", self.volume_m3, 0.0, true, MAX_RECEIVER_VOLUME_M3, " m³")?;
         Ok(())
     }
 }
@@ -478,5 +683,64 @@ mod tests {
         assert_eq!(r.unloaded_power_fraction, 0.25);
         let bad = CompressorInput { kind: "turbo".into(), ..c };
         assert_eq!(bad.validate().unwrap_err().field, "kind");
+    }
+}
+
+#[cfg(test)]
+mod read_json_tests {
+    use super::*;
+    use crate::core::fieldtest::FieldTestInput;
+    use crate::core::simulate::Scenario;
+    use serde_json::json;
+
+    fn test_field(v: serde_json::Value) -> String {
+        read_json::<FieldTestInput>(v, "this field test").unwrap_err().field
+    }
+
+    fn scenario_field(v: serde_json::Value) -> String {
+        read_json::<Scenario>(v, "this scenario").unwrap_err().field
+    }
+
+    #[test]
+    fn field_test_errors_name_their_field_through_the_kind_tag() {
+        let bleed = |extra: serde_json::Value| {
+            let mut v = json!({"kind": "bleed_down", "start_pressure_bar_g": 7, "end_pressure_bar_g": 5,
+                               "duration_s": 90});
+            v.as_object_mut().unwrap().extend(extra.as_object().unwrap().clone());
+            v
+        };
+        assert_eq!(test_field(bleed(json!({"start_pressure_bar_g": "seven"}))), "start_pressure_bar_g");
+        assert_eq!(test_field(bleed(json!({"bogus": "<b>x</b>"}))), "bogus");
+        assert_eq!(
+            test_field(json!({"kind": "bleed_down", "end_pressure_bar_g": 5, "duration_s": 9})),
+            "start_pressure_bar_g"
+        );
+        assert_eq!(test_field(json!({"kind": "teleport"})), "kind");
+        assert_eq!(test_field(json!({"start_pressure_bar_g": 7})), "kind");
+        // The tag itself is not an unknown field.
+        assert!(read_json::<FieldTestInput>(bleed(json!({})), "t").is_ok());
+    }
+
+    #[test]
+    fn scenario_errors_name_the_change_and_its_field() {
+        let set = |c: serde_json::Value| json!({"name": "x", "changes": [c]});
+        assert_eq!(
+            scenario_field(set(json!({"op": "set_pressure", "target_bar_g": "high"}))),
+            "changes[0].target_bar_g"
+        );
+        assert_eq!(
+            scenario_field(set(json!({"op": "set_pressure", "target_bar_g": 6, "bogus": 1}))),
+            "changes[0].bogus"
+        );
+        assert_eq!(scenario_field(set(json!({"op": "fly"}))), "changes[0].op");
+        assert_eq!(scenario_field(json!({"name": "x", "bogus": 1})), "bogus");
+        let add = json!({"op": "add", "compressor": {"tag": "N", "kind": "lubricated_screw",
+            "control": "load_unload", "cooling": "air", "rated_power_kw": "fifty",
+            "rated_flow_m3_min": 1, "rated_pressure_bar_g": 7}});
+        assert_eq!(scenario_field(set(add.clone())), "changes[0].compressor.rated_power_kw");
+        let mut extra = add;
+        extra["compressor"]["rated_power_kw"] = json!(50);
+        extra["compressor"]["colour"] = json!("red");
+        assert_eq!(scenario_field(set(extra)), "changes[0].compressor.colour");
     }
 }

@@ -14,6 +14,8 @@ mod engine;
 mod hostile_ingest;
 #[path = "integration/hostile_store.rs"]
 mod hostile_store;
+#[path = "integration/hostile_validation.rs"]
+mod hostile_validation;
 #[path = "integration/hostile_web.rs"]
 mod hostile_web;
 #[path = "integration/ingest.rs"]

@@ -173,12 +173,8 @@ impl App {
             return Err(Error::field("kind", format!("unknown recommendation kind {kind:?}")));
         }
         if let Some(c) = cost {
-            if !(c.is_finite() && c >= 0.0) {
-                return Err(Error::field(
-                    "implementation_cost",
-                    format!("the cost must be 0 or more, got {c}"),
-                ));
-            }
+            crate::core::recommend::check_implementation_cost(c)
+                .map_err(|m| Error::field("implementation_cost", m))?;
         }
         audits::set_cost_override(self.db(), audit_id, kind, cost).await?;
         Ok(())

@@ -26,12 +26,7 @@ impl App {
     pub async fn add_field_test(&self, id: i64, body: serde_json::Value) -> Result<FieldTestRecord> {
         let b = self.bundle(id).await?;
         let input: FieldTestInput =
-            serde_json::from_value(body.clone()).map_err(|e| Error::Unprocessable {
-                message: format!("this field test cannot be read: {e}"),
-                line: None,
-                column: None,
-                field: Some("kind".into()),
-            })?;
+            crate::site::read_json(body.clone(), "this field test").map_err(Error::from)?;
         let window = match &input {
             FieldTestInput::IdleFlow { start, end, .. }
             | FieldTestInput::PressureDecay { start, end, .. } => {

@@ -53,15 +53,10 @@ impl App {
     /// result.
     pub async fn add_scenario(&self, id: i64, body: serde_json::Value) -> Result<(i64, SimResult)> {
         let b = self.bundle(id).await?;
-        let scenario: Scenario = serde_json::from_value(body.clone()).map_err(|e| Error::Unprocessable {
-            message: format!("this scenario cannot be read: {e}"),
-            line: None,
-            column: None,
-            field: Some("changes".into()),
-        })?;
-        if scenario.name.trim().is_empty() {
-            return Err(Error::field("name", "the scenario needs a name"));
-        }
+        let scenario: Scenario =
+            crate::site::read_json(body.clone(), "this scenario").map_err(Error::from)?;
+        // Checked before anything is read, so a wrong scenario gets its own error first.
+        scenario.check().map_err(|e| Error::field(&e.field, e.message))?;
         let Some(frame) = self.frame_for(&b, None).await? else {
             return Err(Error::field("changes", "the audit has no logger data to replay yet"));
         };

@@ -15,6 +15,19 @@ default instrument accuracies ([`Accuracy`]).
 - `pressure_decay`: logged pressure falling while every logged compressor is off or unloaded, fitted
   by `leaks::fit_pressure_decay`.
 
+# Accepted ranges
+
+Every number must be finite and lie in its range, else the test is refused naming the field (API
+422) and nothing is stored; unknown fields are refused too.
+
+| value | range | why |
+|---|---|---|
+| pressures (`start_pressure_bar_g`, `end_pressure_bar_g`, `operating_pressure_bar_g`, `production_pressure_bar_g`) | above 0 bar absolute ..= [`MAX_PRESSURE_BAR_G`] (50 bar(g)) | shop air and boosters (PET blowing at 40 bar(g)); common practice |
+| `duration_s` (bleed-down) | [`MIN_DURATION_S`] (1 s) ..= [`MAX_DURATION_S`] (7 days) | a stopwatch reads seconds; a bleed-down takes minutes (US DOE sourcebook, leaks fact sheet) |
+| `loaded_s` | [`MIN_DURATION_S`] ..= [`MAX_DURATION_S`] | same timing as above |
+| `unloaded_s` | 0 ..= [`MAX_DURATION_S`] | 0 is a reading: the compressor never unloaded in the spell |
+| `volume_m3` (bleed-down, pressure decay; given or the system volume) | above 0 ..= [`MAX_VOLUME_M3`] (10 000 m³) | the system volume of the largest plants (common practice) |
+
 Safety: these tests can hurt people. `core::safety::PRESSURE_TEST_CAUTIONS` are the cautions the
 pages show wherever a test is planned.
 */
@@ -30,7 +43,7 @@ use super::units::{FreeAirFlow, PressureAbs, SiteAir, Volume};
 
 /// A field test as the API receives it.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
-#[serde(tag = "kind", rename_all = "snake_case")]
+#[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
 pub enum FieldTestInput {
     BleedDown {
         /// Default: the system volume (receivers + piping and vessels).
@@ -207,9 +220,30 @@ impl FieldTestResult {
     }
 }
 
+/// Highest pressure a test may name, bar(g) (module doc table).
+pub const MAX_PRESSURE_BAR_G: f64 = 50.0;
+/// Shortest timed spell, s (module doc table).
+pub const MIN_DURATION_S: f64 = 1.0;
+/// Longest timed spell, s: seven days (module doc table).
+pub const MAX_DURATION_S: f64 = 7.0 * 86_400.0;
+/// Largest system volume, m³ (module doc table).
+pub const MAX_VOLUME_M3: f64 = 10_000.0;
+
+/// `v` if finite and within `lo..=hi`, else the field's error.
+fn within(field: &str, v: f64, lo: f64, hi: f64, unit: &str) -> Result<f64, FieldError> {
+    if v.is_finite() && (lo..=hi).contains(&v) {
+        Ok(v)
+    } else {
+        Err(err(field, format!("{field} must be a number from {lo} to {hi} {unit}, got {v}")))
+    }
+}
+
 fn pressure(field: &str, bar_g: f64, site: &SiteAir) -> Result<PressureAbs, FieldError> {
-    if !bar_g.is_finite() {
-        return Err(err(field, format!("pressure must be a number, got {bar_g}")));
+    if !(bar_g.is_finite() && bar_g <= MAX_PRESSURE_BAR_G) {
+        return Err(err(
+            field,
+            format!("pressure must be a number up to {MAX_PRESSURE_BAR_G} bar(g), got {bar_g}"),
+        ));
     }
     let p = PressureAbs::from_bar_g(bar_g, site.atmosphere);
     if p.0 <= 0.0 {
@@ -223,8 +257,11 @@ fn volume(field: &str, given: Option<f64>, storage: &StorageSpec) -> Result<(f64
         Some(v) => (v, VolumeSource::Given),
         None => (storage.system_volume_m3(), VolumeSource::SystemVolume),
     };
-    if !(v.is_finite() && v > 0.0) {
-        return Err(err(field, format!("volume must be above 0 m3, got {v} ({})", src.as_str())));
+    if !(v.is_finite() && v > 0.0 && v <= MAX_VOLUME_M3) {
+        return Err(err(
+            field,
+            format!("volume must be above 0 and at most {MAX_VOLUME_M3} m3, got {v} ({})", src.as_str()),
+        ));
     }
     Ok((v, src))
 }
@@ -284,9 +321,7 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                     ),
                 ));
             }
-            if !(duration_s.is_finite() && *duration_s > 0.0) {
-                return Err(err("duration_s", format!("duration must be above 0 s, got {duration_s}")));
-            }
+            within("duration_s", *duration_s, MIN_DURATION_S, MAX_DURATION_S, "s")?;
             let op_g = operating_pressure_bar_g.unwrap_or(*start_pressure_bar_g);
             let op = pressure("operating_pressure_bar_g", op_g, site)?;
             let (v, src) = volume("volume_m3", *volume_m3, ctx.storage)?;
@@ -312,15 +347,8 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             let c = ctx.compressors.iter().find(|c| &c.tag == compressor).ok_or_else(|| {
                 err("compressor", format!("no compressor tagged {compressor:?} in this audit"))
             })?;
-            if !(loaded_s.is_finite() && *loaded_s > 0.0) {
-                return Err(err("loaded_s", format!("loaded time must be above 0 s, got {loaded_s}")));
-            }
-            if !(unloaded_s.is_finite() && *unloaded_s >= 0.0) {
-                return Err(err(
-                    "unloaded_s",
-                    format!("unloaded time must not be negative, got {unloaded_s}"),
-                ));
-            }
+            within("loaded_s", *loaded_s, MIN_DURATION_S, MAX_DURATION_S, "s")?;
+            within("unloaded_s", *unloaded_s, 0.0, MAX_DURATION_S, "s")?;
             let (f, q) =
                 leaks::load_unload(*loaded_s, *unloaded_s, FreeAirFlow::from_m3_min(c.rated_flow_m3_min))?;
             let q = q.m3_min();

@@ -40,6 +40,7 @@ where
             Ok(axum::Json(v)) => Ok(Self(v)),
             Err(JsonRejection::JsonDataError(e)) => {
                 let (message, field) = data_error(&e.body_text());
+                let field = field_of_rejection(&e).or(field);
                 Err(AppError::Unprocessable { message, line: None, column: None, field })
             }
             Err(e) => Err(AppError::BadRequest(e.body_text())),
@@ -137,6 +138,20 @@ where
             Err(e) => Err(AppError::BadRequest(e.body_text())),
         }
     }
+}
+
+/// The field a JSON body's data error is about: from the path axum's `Json` tracked (a type error
+/// names the field whose value has the wrong type), else from serde's message.
+fn field_of_rejection(e: &axum::extract::rejection::JsonDataError) -> Option<String> {
+    use std::error::Error as _;
+    let mut src = e.source();
+    while let Some(s) = src {
+        if let Some(p) = s.downcast_ref::<serde_path_to_error::Error<serde_json::Error>>() {
+            return crate::site::field_of_serde(&p.path().to_string(), &p.inner().to_string());
+        }
+        src = s.source();
+    }
+    None
 }
 
 fn json<T: Serialize>(status: StatusCode, v: &T) -> Response {
@@ -449,12 +464,51 @@ pub async fn put_cost(
     ))
 }
 
+/// Ranges of the calculators' inputs (`POST /calc/orifice`, `POST /calc/compression`): a number that
+/// is not finite or lies outside its range is refused naming the field (422), as are unknown fields.
+///
+/// | value | range | why |
+/// |---|---|---|
+/// | `atmospheric_pressure_kpa_abs` | 40 ..= 110 kPa abs | as the site (`site` module: ISO 2533 at 6000 m is 47.2 kPa) |
+/// | `inlet_temperature_c` | -40 ..= 60 °C | as the site (ambient rating range of compressor packages, common practice) |
+/// | orifice `diameter_mm` | above 0 ..= 100 mm | leaks and open blow-offs up to a 4-inch pipe end (common practice) |
+/// | orifice `pressure_bar_g` | atmosphere ..= 50 bar(g) | shop air and boosters (PET blowing at 40 bar(g)); common practice |
+/// | orifice `discharge_coefficient` | above 0 ..= 1 | a flow coefficient (sharp-edged hole 0.61, rounded nozzle near 1) |
+/// | orifice `upstream_temperature_c` | -40 ..= 250 °C | ambient to compressor discharge air (common practice) |
+/// | compression `flow_m3_min` | above 0 ..= 2000 m³/min | the largest air compressors (`site` module) |
+/// | compression `inlet_pressure_kpa_abs` | 10 ..= 5000 kPa abs | vacuum-fed inlets to the inlet of a 50 bar booster |
+/// | compression `discharge_pressure_bar_g` | above the inlet ..= 50 bar(g) | as above |
+/// | compression `stages` | 1 ..= 6 | as the compressors (`site` module) |
+/// | compression `isentropic_efficiency` | above 0 ..= 1 | an efficiency |
+/// | compression `intercooled_to_c` | -40 ..= 250 °C | as the upstream temperature |
+pub mod calc_ranges {
+    pub const ATMOSPHERE_KPA_ABS: (f64, f64) = (40.0, 110.0);
+    pub const INLET_TEMPERATURE_C: (f64, f64) = (-40.0, 60.0);
+    pub const MAX_ORIFICE_DIAMETER_MM: f64 = 100.0;
+    pub const MAX_PRESSURE_BAR_G: f64 = 50.0;
+    pub const AIR_TEMPERATURE_C: (f64, f64) = (-40.0, 250.0);
+    pub const MAX_FLOW_M3_MIN: f64 = 2000.0;
+    pub const INLET_PRESSURE_KPA_ABS: (f64, f64) = (10.0, 5000.0);
+    pub const MAX_STAGES: u32 = 6;
+}
+
+/// `v` if finite and within `lo..=hi` (above `lo` when `lo_open`), else a 422 naming `field`.
+fn calc_within(field: &str, v: f64, lo: f64, lo_open: bool, hi: f64, unit: &str) -> Result<f64, AppError> {
+    let low_ok = if lo_open { v > lo } else { v >= lo };
+    if v.is_finite() && low_ok && v <= hi {
+        return Ok(v);
+    }
+    let from = if lo_open { format!("above {lo}") } else { format!("{lo}") };
+    Err(AppError::field(field, format!("{field} must be a number from {from} to {hi}{unit}, got {v}")))
+}
+
 /// Site air for a calculator: an audit's, or the given (default 101.325 kPa, 20 °C).
 async fn calc_site(
     st: &AppState,
     audit_id: Option<i64>,
     p: Option<f64>,
     t: Option<f64>,
+    (atmosphere_field, (lo_kpa, hi_kpa)): (&str, (f64, f64)),
 ) -> Result<SiteAir, AppError> {
     let (mut pk, mut tc) = (101.325, 20.0);
     if let Some(id) = audit_id {
@@ -462,20 +516,12 @@ async fn calc_site(
         pk = a.site.atmospheric_pressure_kpa_abs();
         tc = a.site.inlet_temperature_c;
     }
+    use calc_ranges::*;
     let pk = p.unwrap_or(pk);
     let tc = t.unwrap_or(tc);
-    if !(pk.is_finite() && pk > 0.0) {
-        return Err(AppError::field(
-            "atmospheric_pressure_kpa_abs",
-            format!("atmospheric pressure must be above 0 kPa abs, got {pk}"),
-        ));
-    }
-    if !(tc.is_finite() && tc > -273.15) {
-        return Err(AppError::field(
-            "inlet_temperature_c",
-            format!("temperature must be above absolute zero, got {tc}"),
-        ));
-    }
+    calc_within(atmosphere_field, pk, lo_kpa, false, hi_kpa, " kPa abs")?;
+    let (lo, hi) = INLET_TEMPERATURE_C;
+    calc_within("inlet_temperature_c", tc, lo, false, hi, " °C")?;
     Ok(SiteAir::new(pk, tc))
 }
 
@@ -501,12 +547,21 @@ pub async fn calc_orifice(
     State(st): State<AppState>,
     ApiJson(b): ApiJson<OrificeBody>,
 ) -> Result<Response, AppError> {
-    let site = calc_site(&st, b.audit_id, b.atmospheric_pressure_kpa_abs, b.inlet_temperature_c).await?;
-    if !(b.diameter_mm.is_finite() && b.diameter_mm > 0.0) {
-        return Err(AppError::field(
-            "diameter_mm",
-            format!("the diameter must be above 0 mm, got {}", b.diameter_mm),
-        ));
+    use calc_ranges::*;
+    let site = calc_site(
+        &st,
+        b.audit_id,
+        b.atmospheric_pressure_kpa_abs,
+        b.inlet_temperature_c,
+        ("atmospheric_pressure_kpa_abs", ATMOSPHERE_KPA_ABS),
+    )
+    .await?;
+    calc_within("diameter_mm", b.diameter_mm, 0.0, true, MAX_ORIFICE_DIAMETER_MM, " mm")?;
+    calc_within("pressure_bar_g", b.pressure_bar_g, f64::MIN, false, MAX_PRESSURE_BAR_G, " bar(g)")?;
+    calc_within("discharge_coefficient", b.discharge_coefficient, 0.0, true, 1.0, "")?;
+    if let Some(t) = b.upstream_temperature_c {
+        let (lo, hi) = AIR_TEMPERATURE_C;
+        calc_within("upstream_temperature_c", t, lo, false, hi, " °C")?;
     }
     let upstream = PressureAbs::from_bar_g(b.pressure_bar_g, site.atmosphere);
     if upstream.0 <= 0.0 {
@@ -559,11 +614,39 @@ pub async fn calc_compression(
     State(st): State<AppState>,
     ApiJson(b): ApiJson<CompressionBody>,
 ) -> Result<Response, AppError> {
+    use calc_ranges::*;
+    if let Some(p) = b.inlet_pressure_kpa_abs {
+        let (lo, hi) = INLET_PRESSURE_KPA_ABS;
+        calc_within("inlet_pressure_kpa_abs", p, lo, false, hi, " kPa abs")?;
+    }
+    calc_within("flow_m3_min", b.flow_m3_min, 0.0, true, MAX_FLOW_M3_MIN, " m³/min")?;
+    calc_within(
+        "discharge_pressure_bar_g",
+        b.discharge_pressure_bar_g,
+        f64::MIN,
+        false,
+        MAX_PRESSURE_BAR_G,
+        " bar(g)",
+    )?;
+    if !(1..=MAX_STAGES).contains(&b.stages) {
+        return Err(AppError::field("stages", format!("stages must be 1 to {MAX_STAGES}, got {}", b.stages)));
+    }
+    calc_within("isentropic_efficiency", b.isentropic_efficiency, 0.0, true, 1.0, "")?;
+    if let Some(t) = b.intercooled_to_c {
+        let (lo, hi) = AIR_TEMPERATURE_C;
+        calc_within("intercooled_to_c", t, lo, false, hi, " °C")?;
+    }
+    // Without an atmosphere the inlet pressure stands for it (as before), within the inlet's range.
+    let atmosphere_range = match (b.atmospheric_pressure_kpa_abs, b.inlet_pressure_kpa_abs) {
+        (None, Some(_)) => ("inlet_pressure_kpa_abs", INLET_PRESSURE_KPA_ABS),
+        _ => ("atmospheric_pressure_kpa_abs", ATMOSPHERE_KPA_ABS),
+    };
     let site = calc_site(
         &st,
         b.audit_id,
         b.atmospheric_pressure_kpa_abs.or(b.inlet_pressure_kpa_abs),
         b.inlet_temperature_c,
+        atmosphere_range,
     )
     .await?;
     let inlet = b.inlet_pressure_kpa_abs.map(PressureAbs::from_kpa_abs).unwrap_or(site.atmosphere);

@@ -27,6 +27,11 @@ number multiplied by the quantity in the table: per m³/min, per kW, per compres
 `simple_payback_years` = implementation cost / annual cost saving; it is `None` (JSON `null`) when the
 saving is not positive, and such a measure is not proposed.
 
+An edited implementation cost (`PUT /costs/{kind}`) and a scenario's quoted cost must be finite and
+within 0 ..= [`MAX_IMPLEMENTATION_COST`] (1e12 in the audit's currency: a plant's whole air system,
+priced in the weakest currency, stays far below it; any larger figure only makes paybacks overflow to
+`null`), checked by [`check_implementation_cost`].
+
 Rooms: `measures` works out each measure from the audit's figures; `text` holds the measures' words
 in parts (words, or a figure in SI), which `core::display` renders in a reader's units.
 */
@@ -34,6 +39,18 @@ in parts (words, or a figure in SI), which `core::display` renders in a reader's
 use std::collections::BTreeMap;
 
 use serde::{Deserialize, Serialize};
+
+/// Largest implementation cost accepted, in the audit's currency (module doc).
+pub const MAX_IMPLEMENTATION_COST: f64 = 1e12;
+
+/// `cost` if it is finite and within 0 ..= [`MAX_IMPLEMENTATION_COST`], else why not.
+pub fn check_implementation_cost(cost: f64) -> Result<f64, String> {
+    if cost.is_finite() && (0.0..=MAX_IMPLEMENTATION_COST).contains(&cost) {
+        Ok(cost)
+    } else {
+        Err(format!("the cost must be a number from 0 to {MAX_IMPLEMENTATION_COST:e}, got {cost}"))
+    }
+}
 
 use super::costs;
 use super::heat::HeatUseKind;

@@ -194,12 +194,12 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
             );
         }
     }
+    scenario.check()?;
     let applied = apply(input, scenario)?;
     let demand = prepare_demand(input)?;
     let (implementation_cost, implementation_cost_source, implementation_cost_basis) =
         match scenario.implementation_cost {
-            Some(c) if c.is_finite() && c >= 0.0 => (c, CostSource::Given, vec![format!("quoted: {c:.0}")]),
-            Some(c) => return fail("implementation_cost", format!("must be 0 or more, not {c}")),
+            Some(c) => (c, CostSource::Given, vec![format!("quoted: {c:.0}")]),
             None => {
                 let (c, lines) = default_cost(&scenario.changes, input.leak_flow_m3_min);
                 (c, CostSource::DefaultEstimate, lines)

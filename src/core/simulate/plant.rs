@@ -1,5 +1,25 @@
 //! The changed compressor room: a scenario's changes, checked and applied, and the plant it gives,
 //! with each machine's control band (the module doc's "Control rules").
+//!
+//! # Accepted ranges
+//!
+//! [`Scenario::check`] refuses, naming the field (`changes[k].target_bar_g`), any number that is not
+//! finite or lies outside its range; unknown fields are refused when the scenario is read.
+//!
+//! | value | range | why |
+//! |---|---|---|
+//! | `name` | 1 ..= 100 characters | a label |
+//! | `changes` | at most [`MAX_CHANGES`] (100) | a scenario is a handful of changes; bounds the replay's set-up |
+//! | `implementation_cost` | 0 ..= 1e12 | `recommend::MAX_IMPLEMENTATION_COST` |
+//! | `set_pressure.target_bar_g` | above 0 ..= [`MAX_PRESSURE_BAR_G`] (50 bar(g)) | shop air and boosters (PET blowing at 40 bar(g)); common practice |
+//! | `add_storage.volume_m3` | 0 ..= [`MAX_ADDED_STORAGE_M3`] (10 000 m³) | the system volume of the largest plants (common practice) |
+//! | `reduce_leaks.fraction` | 0 ..= 1 | a share of the leak flow |
+//! | `add.compressor.rated_power_kw` | above 0 ..= 20 000 kW | as a compressor of the audit (`site` module) |
+//! | `add.compressor.rated_flow_m3_min` | above 0 ..= 2000 m³/min | same |
+//! | `add.compressor.rated_pressure_bar_g` | above 0 ..= 50 bar(g) | same |
+//! | `add.compressor.unloaded_power_fraction` | 0 ..= 0.9 | same |
+//! | `add.compressor.min_speed_fraction` | above 0, below 1 | a share of the rated flow |
+//! | `add.compressor.power_curve` | at most 64 points, flow 0 ..= 2000 m³/min, power 0 ..= 20 000 kW | same |
 
 use serde::{Deserialize, Serialize};
 
@@ -15,9 +35,30 @@ const VSD_KP_PER_BAR: f64 = 20.0 / 7.6;
 const VSD_KI_PER_BAR_S: f64 = 0.3 / 7.6;
 const VSD_RAMP_PER_S: f64 = 0.5 / 7.6;
 
+/// Most changes in one scenario (module doc table).
+pub const MAX_CHANGES: usize = 100;
+/// Highest target or rated pressure, bar(g) (module doc table).
+pub const MAX_PRESSURE_BAR_G: f64 = 50.0;
+/// Most storage one change adds, m³ (module doc table).
+pub const MAX_ADDED_STORAGE_M3: f64 = 10_000.0;
+const MAX_RATED_POWER_KW: f64 = 20_000.0;
+const MAX_RATED_FLOW_M3_MIN: f64 = 2_000.0;
+const MAX_UNLOADED_POWER_FRACTION: f64 = 0.9;
+const MAX_POWER_CURVE_POINTS: usize = 64;
+
+/// `v` if finite and within `lo..=hi` (above `lo` when `lo_open`), else a message saying so.
+fn within(v: f64, lo: f64, lo_open: bool, hi: f64, unit: &str) -> Result<f64, String> {
+    let low_ok = if lo_open { v > lo } else { v >= lo };
+    if v.is_finite() && low_ok && v <= hi {
+        return Ok(v);
+    }
+    let from = if lo_open { format!("above {lo}") } else { format!("{lo}") };
+    Err(format!("must be a number from {from} to {hi}{unit}, not {v}"))
+}
+
 /// One what-if change (API.md).
 #[derive(Deserialize, Serialize, Clone, Debug)]
-#[serde(tag = "op", rename_all = "snake_case")]
+#[serde(tag = "op", rename_all = "snake_case", deny_unknown_fields)]
 pub enum Change {
     Remove { tag: String },
     Add { compressor: AddedCompressor },
@@ -29,6 +70,7 @@ pub enum Change {
 
 /// A compressor added by a scenario: the API.md compressor fields.
 #[derive(Deserialize, Serialize, Clone, Debug)]
+#[serde(deny_unknown_fields)]
 pub struct AddedCompressor {
     pub tag: String,
     pub kind: CompressorKind,
@@ -54,18 +96,30 @@ impl AddedCompressor {
         if self.tag.trim().is_empty() {
             return err("tag", "the tag must not be empty".into());
         }
-        for (name, v) in [
-            ("rated_power_kw", self.rated_power_kw),
-            ("rated_flow_m3_min", self.rated_flow_m3_min),
-            ("rated_pressure_bar_g", self.rated_pressure_bar_g),
+        for (name, v, max, unit) in [
+            ("rated_power_kw", self.rated_power_kw, MAX_RATED_POWER_KW, " kW"),
+            ("rated_flow_m3_min", self.rated_flow_m3_min, MAX_RATED_FLOW_M3_MIN, " m³/min"),
+            ("rated_pressure_bar_g", self.rated_pressure_bar_g, MAX_PRESSURE_BAR_G, " bar(g)"),
         ] {
-            if !(v.is_finite() && v > 0.0) {
-                return err(name, format!("{name} must be a positive number, not {v}"));
+            if let Err(m) = within(v, 0.0, true, max, unit) {
+                return err(name, format!("{name} {m}"));
             }
         }
         let unl = self.unloaded_power_fraction.unwrap_or(self.kind.default_unloaded_power_fraction());
-        if !(0.0..=1.0).contains(&unl) {
-            return err("unloaded_power_fraction", format!("must lie in 0..1, not {unl}"));
+        if let Err(m) = within(unl, 0.0, false, MAX_UNLOADED_POWER_FRACTION, "") {
+            return err("unloaded_power_fraction", m);
+        }
+        if self.power_curve.len() > MAX_POWER_CURVE_POINTS {
+            return err("power_curve", format!("has at most {MAX_POWER_CURVE_POINTS} points"));
+        }
+        let in_range = |q: f64, p: f64| {
+            (0.0..=MAX_RATED_FLOW_M3_MIN).contains(&q) && (0.0..=MAX_RATED_POWER_KW).contains(&p)
+        };
+        if self.power_curve.iter().any(|&(q, p)| !in_range(q, p)) {
+            return err(
+                "power_curve",
+                format!("points need flow 0 to {MAX_RATED_FLOW_M3_MIN} m³/min and power 0 to {MAX_RATED_POWER_KW} kW"),
+            );
         }
         let mut curve = self.power_curve.clone();
         if self.control == Control::VariableSpeed {
@@ -113,6 +167,7 @@ impl AddedCompressor {
 
 /// A named list of changes; no changes is the plant as it is.
 #[derive(Deserialize, Serialize, Clone, Debug)]
+#[serde(deny_unknown_fields)]
 pub struct Scenario {
     pub name: String,
     #[serde(default)]
@@ -123,6 +178,44 @@ pub struct Scenario {
 }
 
 impl Scenario {
+    /// The checks that need no plant: the name, the number of changes, the quoted cost and every
+    /// number of every change within its range (module doc table). [`super::run`] calls it first.
+    pub fn check(&self) -> Result<(), ScenarioError> {
+        let n = self.name.trim().chars().count();
+        if n == 0 || n > 100 {
+            return fail("name", "the scenario needs a name of 1 to 100 characters");
+        }
+        if self.changes.len() > MAX_CHANGES {
+            return fail("changes", format!("at most {MAX_CHANGES} changes, not {}", self.changes.len()));
+        }
+        if let Some(c) = self.implementation_cost {
+            crate::core::recommend::check_implementation_cost(c)
+                .or_else(|m| fail("implementation_cost", m))?;
+        }
+        for (k, c) in self.changes.iter().enumerate() {
+            let field = |f: &str| format!("changes[{k}].{f}");
+            match c {
+                Change::Add { compressor } => {
+                    compressor.to_spec(&field("compressor"))?;
+                }
+                Change::SetPressure { target_bar_g } => {
+                    within(*target_bar_g, 0.0, true, MAX_PRESSURE_BAR_G, " bar(g)")
+                        .or_else(|m| fail(field("target_bar_g"), format!("the target pressure {m}")))?;
+                }
+                Change::AddStorage { volume_m3 } => {
+                    within(*volume_m3, 0.0, false, MAX_ADDED_STORAGE_M3, " m³")
+                        .or_else(|m| fail(field("volume_m3"), format!("the added volume {m}")))?;
+                }
+                Change::ReduceLeaks { fraction } => {
+                    within(*fraction, 0.0, false, 1.0, "")
+                        .or_else(|m| fail(field("fraction"), format!("the fraction {m}")))?;
+                }
+                Change::Remove { .. } | Change::Sequence { .. } => {}
+            }
+        }
+        Ok(())
+    }
+
     /// No set-point change and no leak repair: a change of the supply side alone (module doc).
     pub fn supply_side_only(&self) -> bool {
         !self.changes.iter().any(|c| matches!(c, Change::SetPressure { .. } | Change::ReduceLeaks { .. }))
@@ -253,30 +346,10 @@ pub(super) fn apply(input: &SimInput, scenario: &Scenario) -> Result<Applied, Sc
                 }
                 specs.push(spec);
             }
-            Change::SetPressure { target_bar_g } => {
-                if !(target_bar_g.is_finite() && *target_bar_g > 0.0) {
-                    return fail(
-                        field("target_bar_g"),
-                        format!("the target pressure must be above 0 bar(g), not {target_bar_g}"),
-                    );
-                }
-                target = Some(*target_bar_g);
-            }
-            Change::AddStorage { volume_m3 } => {
-                if !(volume_m3.is_finite() && *volume_m3 >= 0.0) {
-                    return fail(
-                        field("volume_m3"),
-                        format!("the added volume must be 0 or more, not {volume_m3}"),
-                    );
-                }
-                added += volume_m3;
-            }
-            Change::ReduceLeaks { fraction } => {
-                if !(fraction.is_finite() && (0.0..=1.0).contains(fraction)) {
-                    return fail(field("fraction"), format!("the fraction must lie in 0..1, not {fraction}"));
-                }
-                keep *= 1.0 - fraction;
-            }
+            // Their ranges were checked by `Scenario::check`.
+            Change::SetPressure { target_bar_g } => target = Some(*target_bar_g),
+            Change::AddStorage { volume_m3 } => added += volume_m3,
+            Change::ReduceLeaks { fraction } => keep *= 1.0 - fraction,
             Change::Sequence { order: o } => {
                 for (j, t) in o.iter().enumerate() {
                     if !specs.iter().any(|s| &s.tag == t) {
