@@ -305,12 +305,19 @@ fn read_head(body: &[u8], delim: u8, encoding: Encoding, cut: bool) -> Vec<HeadR
 /// Guess the layout of a file from its head (the first ~64 KiB).
 pub fn sniff(head: &[u8]) -> Result<Sniffed, IngestError> {
     let head = &head[..head.len().min(SNIFF_BYTES)];
+    // A compressed, workbook or other binary file is named as what it is, as the import does.
+    if let Some(what) = crate::ingest::text::not_text(head) {
+        return Err(IngestError::new(what));
+    }
+    let cut = head.len() == SNIFF_BYTES;
+    // UTF-16 (with its byte-order mark) is read as the import reads it: transcoded to UTF-8.
+    let utf8 = crate::ingest::text::transcode_utf16_head(head);
+    let head = utf8.as_deref().unwrap_or(head);
     let encoding = detect(head);
     let body = strip_bom(head);
     if body.iter().all(|b| matches!(b, b' ' | b'\t' | b'\r' | b'\n')) {
         return Err(IngestError::new("the file is empty"));
     }
-    let cut = head.len() == SNIFF_BYTES;
     // Delimiter: the longest constant block with >= 2 fields; ties by preference.
     let mut best: Option<(char, Vec<HeadRecord>, usize)> = None; // (delim, records, block start)
     for d in ['\t', ';', ','] {
@@ -533,6 +540,27 @@ pub fn layout_key(header: &[String]) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_utf16_file_sniffs_like_its_utf8_copy_and_a_gzip_file_is_named() {
+        let text = "Time;C1 kW;Flow\n2026-03-02 06:00:00;50,5;8\n2026-03-02 06:01:00;51,5;9\n";
+        let utf8 = sniff(text.as_bytes()).unwrap();
+        for bom in [[0xFF, 0xFE], [0xFE, 0xFF]] {
+            let mut file = bom.to_vec();
+            for u in text.encode_utf16() {
+                let b = if bom[0] == 0xFF { u.to_le_bytes() } else { u.to_be_bytes() };
+                file.extend_from_slice(&b);
+            }
+            let s = sniff(&file).unwrap();
+            assert_eq!(
+                (s.header_line, &s.header, &s.delimiter),
+                (utf8.header_line, &utf8.header, &utf8.delimiter)
+            );
+        }
+        // RFC 1952: a gzip member starts with 1F 8B.
+        let e = sniff(&[0x1F, 0x8B, 0x08, 0, 0, 0, 0, 0]).unwrap_err();
+        assert!(e.message.contains("gzip"), "{}", e.message);
+    }
     use crate::core::units::SiteAir;
     use crate::ingest::parse::parse_stream;
     use crate::ingest::timestamp::TimeFormat;
