@@ -8,6 +8,7 @@ pub mod access;
 pub mod api;
 pub mod assets;
 pub mod error;
+pub mod extract;
 pub mod pages;
 pub mod upload;
 
