@@ -12,6 +12,8 @@ mod browser;
 mod engine;
 #[path = "integration/hostile_ingest.rs"]
 mod hostile_ingest;
+#[path = "integration/hostile_load.rs"]
+mod hostile_load;
 #[path = "integration/hostile_store.rs"]
 mod hostile_store;
 #[path = "integration/hostile_validation.rs"]
