@@ -50,16 +50,9 @@ struct Outcome {
     wrong: String,
 }
 
-/// A multipart body from `(name, filename, content)` parts.
+/// A multipart body from `(name, filename, content)` parts, with this file's boundary.
 fn multipart(parts: &[(&str, Option<&str>, &[u8])]) -> Vec<u8> {
-    let mut body = Vec::new();
-    for (name, filename, content) in parts {
-        body.extend_from_slice(multipart_part(BOUNDARY, name, *filename).as_bytes());
-        body.extend_from_slice(content);
-        body.extend_from_slice(b"\r\n");
-    }
-    body.extend_from_slice(format!("--{BOUNDARY}--\r\n").as_bytes());
-    body
+    multipart_body(BOUNDARY, parts)
 }
 
 /// POST a multipart `body` to the uploads of `audit` with the given `Host`: status and body.

@@ -6,16 +6,9 @@ use crate::support::*;
 
 const BOUNDARY: &str = "hostileWEBboundary5c2e";
 
-/// A multipart body from `(name, filename, content)` parts.
+/// A multipart body from `(name, filename, content)` parts, with this file's boundary.
 fn multipart(parts: &[(&str, Option<&str>, &[u8])]) -> Vec<u8> {
-    let mut body = Vec::new();
-    for (name, filename, content) in parts {
-        body.extend_from_slice(multipart_part(BOUNDARY, name, *filename).as_bytes());
-        body.extend_from_slice(content);
-        body.extend_from_slice(b"\r\n");
-    }
-    body.extend_from_slice(format!("--{BOUNDARY}--\r\n").as_bytes());
-    body
+    multipart_body(BOUNDARY, parts)
 }
 
 fn post_multipart(s: &Server, path: &str, body: Vec<u8>) -> (u16, Value) {

@@ -384,3 +384,15 @@ pub fn multipart_part(boundary: &str, name: &str, filename: Option<&str>) -> Str
         None => format!("--{boundary}\r\nContent-Disposition: form-data; name=\"{name}\"\r\n\r\n"),
     }
 }
+
+/// A multipart body from `(name, filename, content)` parts, closed by `--boundary--`.
+pub fn multipart_body(boundary: &str, parts: &[(&str, Option<&str>, &[u8])]) -> Vec<u8> {
+    let mut body = Vec::new();
+    for (name, filename, content) in parts {
+        body.extend_from_slice(multipart_part(boundary, name, *filename).as_bytes());
+        body.extend_from_slice(content);
+        body.extend_from_slice(b"\r\n");
+    }
+    body.extend_from_slice(format!("--{boundary}--\r\n").as_bytes());
+    body
+}
