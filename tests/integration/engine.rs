@@ -519,7 +519,7 @@ const RESERVOIR_M3: f64 = 0.4;
 #[test]
 #[cfg_attr(
     not(has_real_data),
-    ignore = "set AIRLEDGER_REAL_DATA to the folder of real logger files (../shared/data)"
+    ignore = "set AIRLEDGER_REAL_DATA to a folder of real logger files (with metropt3-sample.csv)"
 )]
 fn metropt3_states_and_decay_follow_the_datasets_own_signals() {
     let file = metropt_file();

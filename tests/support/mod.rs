@@ -297,7 +297,7 @@ pub fn real_data_file(name: &str) -> Vec<u8> {
         .or_else(|| option_env!("AIRLEDGER_REAL_DATA").filter(|v| !v.is_empty()).map(PathBuf::from))
         .unwrap_or_else(|| {
             panic!(
-                "AIRLEDGER_REAL_DATA is not set: set it to the folder of real logger files (../shared/data)"
+                "AIRLEDGER_REAL_DATA is not set: set it to a folder of real logger files (with metropt3-sample.csv)"
             )
         });
     let path = dir.join(name);

@@ -36,7 +36,7 @@ fn kelvin(code: &str, v: f64) -> f64 {
 
 #[test]
 fn the_api_codes_are_in_the_table_and_offered() {
-    // ../shared/API.md, "Logger files": the unit codes a mapping may name.
+    // The JSON API's contract (DEVELOPERS.md, "JSON API"; "Logger files"): the unit codes a mapping may name.
     let api = [
         (Power, &["kW", "W"][..]),
         (Energy, &["kWh"][..]),
