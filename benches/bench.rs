@@ -103,19 +103,6 @@ impl Rng {
     }
 }
 
-/// Civil date from days since 1970-01-01 (H. Hinnant's algorithm).
-fn civil(days: i64) -> (i64, u32, u32) {
-    let z = days + 719_468;
-    let era = z.div_euclid(146_097);
-    let doe = z - era * 146_097;
-    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
-    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
-    let mp = (5 * doy + 2) / 153;
-    let d = (doy - (153 * mp + 2) / 5 + 1) as u32;
-    let m = if mp < 10 { mp + 3 } else { mp - 9 } as u32;
-    (yoe + era * 400 + i64::from(m <= 2), m, d)
-}
-
 /// A compressor under load/unload control with a pressure band and a run-on timer.
 struct Machine {
     loaded_kw: f64,
@@ -197,7 +184,7 @@ fn generate(path: &Path, rows: u64) -> std::io::Result<u64> {
         let d = t.div_euclid(86_400);
         if d != day {
             day = d;
-            let (y, m, dd) = civil(d);
+            let (y, m, dd) = airledger::demo::civil_from_days(d);
             day_text = format!("{y:04}-{m:02}-{dd:02}");
         }
         let sec = t.rem_euclid(86_400);

@@ -56,6 +56,7 @@ mod tests;
 
 use crate::core::model::CompressorSpec;
 
+pub use calendar::civil_from_days;
 pub use physics::simulate;
 
 /// The invented plant with its logger files and the simulation's truth.
