@@ -75,6 +75,9 @@ struct Inner {
     kept: summary::KeptFigures,
     /// One summary computation per audit at a time (`summary`).
     summary_locks: summary::AuditLocks,
+    /// Audits whose background summary refresh is queued and has not started yet: one each, so a
+    /// burst of imports queues one refresh, not one per import (`summary`).
+    refresh_queued: Mutex<std::collections::HashSet<i64>>,
     /// Imports running now, by the token the client chose, for progress bars.
     imports: Mutex<HashMap<String, Arc<store::import::Progress>>>,
     /// At most `config.import_slots` uploads parse at once.
@@ -121,6 +124,7 @@ impl App {
                 config,
                 kept: summary::KeptFigures::default(),
                 summary_locks: summary::AuditLocks::default(),
+                refresh_queued: Mutex::default(),
                 imports: Mutex::default(),
                 _lock: lock,
             }),

@@ -245,8 +245,17 @@ impl App {
     /// instead of waiting on the decoding and analysis. A request that arrives meanwhile waits on
     /// the audit's summary lock and then reads what this stored.
     pub fn refresh_summary_in_background(&self, audit_id: i64, after: &'static str) {
+        // One refresh queued per audit: while one waits for the audit's lock, the imports that
+        // land meanwhile are covered by it (it reads the revision once it holds the lock). Without
+        // this, a burst of imports queued one computation each, and a report asked for meanwhile
+        // waited behind all of them.
+        if !self.inner.refresh_queued.lock().expect("refresh queue").insert(audit_id) {
+            return;
+        }
         let app = self.clone();
         tokio::spawn(async move {
+            let turn = app.inner.summary_locks.get(audit_id).lock_owned().await;
+            app.inner.refresh_queued.lock().expect("refresh queue").remove(&audit_id);
             // Without readings there is nothing worth working out ahead (the no-data answer is
             // immediate), and an audit being set up should not hold connections while it imports.
             match audits::has_complete_upload(app.db(), audit_id).await {
@@ -257,7 +266,7 @@ impl App {
                     return;
                 }
             }
-            if let Err(e) = app.summary(audit_id, None).await {
+            if let Err(e) = app.summary_in_turn(audit_id, None, turn).await {
                 tracing::warn!(audit_id, after, error = %e, "summary worked out in the background failed");
             }
         });
@@ -268,8 +277,26 @@ impl App {
     pub async fn summary(&self, id: i64, window: Option<(i64, i64)>) -> Result<AuditSummary> {
         // One computation per audit at a time: a request that arrives while the summary is being
         // worked out (after an import, say) waits for it and reads the cache instead of repeating it.
-        let _turn =
-            if window.is_none() { Some(self.inner.summary_locks.get(id).lock_owned().await) } else { None };
+        match window {
+            None => {
+                let turn = self.inner.summary_locks.get(id).lock_owned().await;
+                self.summary_in_turn(id, None, turn).await
+            }
+            Some(_) => self.summary_unlocked(id, window).await,
+        }
+    }
+
+    /// [`App::summary`] for the holder of the audit's summary lock (`_turn`, held to the end).
+    async fn summary_in_turn(
+        &self,
+        id: i64,
+        window: Option<(i64, i64)>,
+        _turn: tokio::sync::OwnedMutexGuard<()>,
+    ) -> Result<AuditSummary> {
+        self.summary_unlocked(id, window).await
+    }
+
+    async fn summary_unlocked(&self, id: i64, window: Option<(i64, i64)>) -> Result<AuditSummary> {
         let db = self.db();
         let b = self.bundle(id).await?;
         if window.is_none() {
