@@ -180,7 +180,7 @@ async fn connect(path: &Path, create: bool) -> Result<SqlitePool, StoreError> {
         .synchronous(SqliteSynchronous::Normal)
         .foreign_keys(true)
         .busy_timeout(Duration::from_secs(30))
-        .pragma("cache_size", "-16000")
+        .pragma("cache_size", "-4000")
         .pragma("temp_store", "memory");
     let pool = SqlitePoolOptions::new().max_connections(6).connect_with(opts).await?;
     let check: String = sqlx::query_scalar("PRAGMA quick_check").fetch_one(&pool).await?;

@@ -203,8 +203,6 @@ fn percentiles(mut took: Vec<Duration>) -> (f64, f64) {
 }
 
 #[test]
-#[ignore = "fails: the server's peak RSS reaches 64-66 MiB under this mix (debug build), over the \
-            64 MB bound of issue 15; run with --ignored to see it"]
 fn probe_mix_of_hostile_uploads_leaves_normal_uploads_served() {
     let s = Server::start();
     let audit = s.audit_with_compressor("C1");
