@@ -85,7 +85,7 @@
     const num = (cls, label, value, step) => A.el("label", {}, label + " ",
       A.el("input", { class: cls, type: "number", step: step || "any", value: value === undefined || value === null ? "" : value }));
     function refill() {
-      u.replaceChildren(...(UNITS[q.value] || []).map((x) => option(x, x, x === c.unit)));
+      u.replaceChildren(...(UNITS[q.value] || []).map((x) => option(x.code, x.label, x.code === c.unit)));
       comp.disabled = !["power", "energy", "current"].includes(q.value);
       details.replaceChildren();
       if (q.value === "current") {

@@ -238,12 +238,14 @@ pub fn channel_defs(mapping: &Mapping) -> Result<Vec<ChannelDef>, IngestError> {
         .collect()
 }
 
-/// The unit codes the mapping form offers for each quantity (API.md spellings), from
-/// [`unit_table::choices`]: `{"power": ["kW", "W"], ..., "temperature": ["C", "F", "K"]}`.
+/// The units the mapping form offers for each quantity, from [`unit_table::choices`]: the code
+/// the mapping stores (API.md spellings) and the label a person reads, `{"power": [{"code": "kW",
+/// "label": "kW"}, ...], "pressure": [{"code": "bar_g", "label": "bar(g)"}, ...]}`.
 pub fn units_by_quantity() -> serde_json::Value {
     let mut by_quantity = serde_json::Map::new();
     for q in LoggedQuantity::ALL {
-        let codes: Vec<serde_json::Value> = unit_table::choices(q).map(|u| u.code.into()).collect();
+        let codes: Vec<serde_json::Value> =
+            unit_table::choices(q).map(|u| serde_json::json!({"code": u.code, "label": u.label})).collect();
         by_quantity.insert(q.as_str().into(), codes.into());
     }
     serde_json::Value::Object(by_quantity)
