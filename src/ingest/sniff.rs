@@ -494,12 +494,14 @@ pub fn suggest_mapping(s: &Sniffed) -> Mapping {
             format: t.format.clone(),
             timezone: "UTC".into(),
             time_column: t.time_column.clone(),
+            interval: None,
         },
         None => TimestampSpec {
             column: s.header.first().cloned().unwrap_or_default(),
             format: "%Y-%m-%d %H:%M:%S".into(),
             timezone: "UTC".into(),
             time_column: None,
+            interval: None,
         },
     };
     let columns = s
@@ -518,6 +520,9 @@ pub fn suggest_mapping(s: &Sniffed) -> Mapping {
         delimiter: s.delimiter.clone(),
         decimal: s.decimal.clone(),
         header_line: s.header_line,
+        units_line: None,
+        first_data_line: None,
+        missing_markers: Vec::new(),
         encoding: Some(s.encoding.clone()),
         timestamp,
         columns,
