@@ -118,8 +118,8 @@ fn the_form_offers_the_api_units_in_order() {
     assert_eq!(
         codes(Pressure),
         [
-            "bar_g", "psig", "kPa_g", "MPa_g", "bar_a", "psia", "kPa_a", "mH2O_g", "mH2O_a", "inH2O_g",
-            "inH2O_a", "inHg_g", "inHg_a"
+            "bar_g", "psig", "kPa_g", "MPa_g", "bar_a", "psia", "kPa_a", "mbar_g", "mbar_a", "mH2O_g",
+            "mH2O_a", "inH2O_g", "inH2O_a", "inHg_g", "inHg_a"
         ]
     );
     assert_eq!(
