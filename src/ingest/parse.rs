@@ -11,10 +11,15 @@ The streaming parse of a logger file: one pass, bounded memory, readings straigh
   line). Records before `header_line` are the preamble and are skipped; a quote in the preamble
   that runs into the header line is an error naming both lines.
 - Blank lines (and rows whose timestamp and mapped cells are all empty) are skipped and counted.
+- Records after the header that start before `first_data_line` (or on `units_line`) are
+  skipped: units rows, aggregation rows, second header rows.
 - Errors name the 1-based line of the file (preamble included) and the column's header name: a
-  row too short for a mapped column, a timestamp that does not match the format, a number that
-  cannot be read, a pressure below zero absolute. Missing-value cells (`""`, `NaN`, `---`, ...)
-  are not errors: they give no reading and are counted in the quality report.
+  row too short for a mapped column, a timestamp that does not match the format (or an interval
+  without its two ends), a pressure below zero absolute, and a column with more unreadable text
+  than numbers (a wrong decimal mark). Missing-value cells (`""`, `NaN`, `---`, `#-1`,
+  `1.#QNAN`, the mapping's `missing_markers`...) and other text in a numeric cell are not errors:
+  they give no reading and are counted in the quality report with their line and text. The
+  check for extra markers costs nothing when the mapping names none.
 - `first_ms`/`last_ms` are the earliest and latest timestamps (not the first and last rows: a file
   with a clock stepping back is still reported over its full span).
 */
