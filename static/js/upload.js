@@ -33,7 +33,7 @@
         ? "This logger's layout was mapped before: the earlier mapping is filled in. Check it."
         : "Suggested from the file's header and first rows. Check every column.";
       $("choose-status").textContent = f.name + ": " + sniffed.header.length + " columns, names on line " + sniffed.header_line +
-        (sniffed.units_line ? ", units on line " + sniffed.units_line : "") + ", data from line " + sniffed.first_data_line + ", encoding " + sniffed.encoding + ".";
+        (sniffed.units_line ? ", units on line " + sniffed.units_line : "") + ", data from line " + sniffed.first_data_line + ", encoding " + (sniffed.encoding === "utf-8" ? "UTF-8" : "Windows-1252 / Latin-1") + ".";
       showMapping(mapping);
     } catch (err) {
       $("choose-status").textContent = "This file cannot be read: " + err.message;
