@@ -161,8 +161,11 @@ fn each_bad_input_class_is_refused_whole_naming_its_line_and_column_if_any() {
     let m = cycling_mapping();
     let good = cycling_csv(1);
     let mut lines: Vec<String> = good.lines().map(String::from).collect();
-    // A bad number on line 101 in "header bar".
-    lines[100] = lines[100].replacen(",7.20,", ",7.2x,", 1).replacen(",6.90,", ",6.9x,", 1);
+    // Text in "header bar" from line 101 on, more of it than numbers (a single text cell is a
+    // missing value, counted: issue 14): the column is not numbers as mapped, refused at line 101.
+    for l in &mut lines[100..] {
+        *l = l.replacen(",7.20,", ",7.2x,", 1).replacen(",6.90,", ",6.9x,", 1);
+    }
     assert_unprocessable(&s, id, &(lines.join("\n") + "\n"), &m, Some(101), Some("header bar"));
     // A bad timestamp on line 5.
     let mut l2: Vec<String> = good.lines().map(String::from).collect();
