@@ -391,3 +391,31 @@ proptest! {
         prop_assert_eq!(r.rows, l.rows as u64);
     }
 }
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 120, ..ProptestConfig::default() })]
+
+    /// Dates with every field at most 12, written day-first or month-first over two or three
+    /// days: the row order alone decides, and the proposal reads them as written.
+    #[test]
+    fn the_row_order_decides_day_or_month_first(
+        month in 1u32..=12, day in 1u32..=9, days in 2u32..=3, step in prop_oneof![Just(15u32), Just(30), Just(60)],
+        day_first in any::<bool>(), sep in prop_oneof![Just('/'), Just('-')],
+    ) {
+        let mut file = b"Date;Time;C1 Power [kW]\n".to_vec();
+        for dd in day..day + days {
+            for k in 0..(1440 / step) {
+                let t = k * step;
+                let date = if day_first { format!("{dd}{sep}{month}{sep}2022") } else { format!("{month}{sep}{dd}{sep}2022") };
+                file.extend_from_slice(format!("{date};{}:{:02};5{}\n", t / 60, t % 60, k % 10).as_bytes());
+            }
+        }
+        let s = sniff(&file).unwrap();
+        let t = s.timestamp.as_ref().unwrap();
+        prop_assert!(!s.day_first_ambiguous);
+        prop_assert_eq!(t.date_order.as_deref(), Some(if day_first { "day_first" } else { "month_first" }));
+        let r = import(&file, &s);
+        let first = format!("2022-{month:02}-{day:02}T00:00:00Z").parse::<jiff::Timestamp>().unwrap().as_millisecond();
+        prop_assert_eq!(r.first_ms, Some(first));
+    }
+}
