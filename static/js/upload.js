@@ -71,6 +71,15 @@
     }
   }
 
+  for (const id of ["m-header", "m-units-line", "m-first-data"]) $(id).addEventListener("input", () => { if (sniffed) markPreview(); });
+  // Another names line: its cells become the columns to map (when the preview shows that line).
+  $("m-header").addEventListener("change", () => {
+    const l = sniffed && sniffed.lines.find((x) => x.line === Number($("m-header").value));
+    if (!l) return;
+    sniffed.header = l.fields.map((f) => f.trim());
+    showMapping(readMapping());
+  });
+
   function showMapping(m) {
     $("step-map").classList.remove("hidden");
     const pv = $("preview");
@@ -106,7 +115,6 @@
     const ts = sniffed.timestamp || {};
     $("dayfirst").classList.toggle("hidden", !sniffed.day_first_ambiguous);
     if (ts.date_order && !sniffed.day_first_ambiguous) $("m-dateorder").title = "read from the file: " + ts.date_order.replace("_", " ");
-    for (const id of ["m-header", "m-units-line", "m-first-data"]) $(id).addEventListener("input", markPreview);
     markPreview();
 
     const notes = {};
