@@ -419,3 +419,28 @@ proptest! {
         prop_assert_eq!(r.first_ms, Some(first));
     }
 }
+
+#[test]
+fn latin1_superscript_three_and_degree_signs_in_a_units_row() {
+    // Windows-1252 / Latin-1: 0xB3 is "³", 0xB0 is "°".
+    let mut file = b"Zeit;Verdichter 2;Netz;Menge;Temp\r\n;kW;bar(\xfc);Nm\xb3/h;\xb0C\r\n".to_vec();
+    for i in 0..20 {
+        file.extend_from_slice(
+            format!("02.03.2026 06:{i:02}:00;5{},0;6,{};60{};2{}\r\n", i % 10, i % 10, i % 10, i % 10)
+                .as_bytes(),
+        );
+    }
+    let s = sniff(&file).unwrap();
+    assert_eq!((s.encoding.as_str(), s.header_line, s.units_line), ("windows-1252", 1, Some(2)));
+    let g = |n| {
+        let c = col(&s, n);
+        (c.quantity.as_deref(), c.unit.as_deref(), c.compressor.as_deref())
+    };
+    assert_eq!(g("Verdichter 2"), (Some("power"), Some("kW"), Some("C2")));
+    // "bar(ü)": the German "Überdruck", gauge.
+    assert_eq!(g("Netz"), (Some("pressure"), Some("bar_g"), None));
+    assert_eq!(g("Menge"), (Some("flow"), Some("Nm3_h"), None));
+    assert_eq!(col(&s, "Menge").unit_label.as_deref(), Some("Nm³/h"));
+    assert_eq!(g("Temp"), (Some("temperature"), Some("C"), None));
+    assert_eq!(import(&file, &s).rows, 20);
+}
