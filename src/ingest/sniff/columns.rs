@@ -5,6 +5,9 @@ under the names, the bracketed part of the name (`[kW]`, `(m³/min)`), a unit wo
 write `30,75 <tab> KW`), the upper rows of a multi-row header, and last the quantity's word in the
 name with the unit guessed from the values' range (said in the note).
 
+A name that says reactive or apparent (`reactive`, `apparent`, German `Blind-`, `Schein-`) is
+not proposed as power or energy: a compressor's draw is active power.
+
 Rules for a pressure unit that does not say gauge or absolute (`bar`, `psi`, `mWS`): gauge
 (common shop practice: gauges show gauge pressure), except inches of mercury whose values sit
 near one atmosphere (25 to 32 inHg), which is a barometer's absolute reading (common practice:
@@ -114,7 +117,10 @@ fn unit_word(words: &[String]) -> Option<(usize, &'static unit_table::UnitSpelli
 fn quantity_word(name: &str) -> Option<&'static str> {
     let l = name.to_lowercase();
     let has = |ws: &[&str]| ws.iter().any(|w| l.contains(w));
-    if has(&["energy", "energie", "arbeit", "kwh"]) {
+    if has(&["reactive", "apparent", "blind", "schein"]) {
+        // Reactive and apparent power and energy (kvar, kVA) are not what a compressor draws.
+        None
+    } else if has(&["energy", "energie", "arbeit", "kwh"]) {
         Some("energy")
     } else if has(&["power", "leistung"]) {
         Some("power")

@@ -287,13 +287,15 @@ fn markers_and_repeated_text_in_numeric_columns() {
 
 #[test]
 fn barometric_hectopascals_and_watts_from_the_values_range() {
-    let mut file = b"time,ac_power,pressure\n".to_vec();
+    let mut file = b"time,ac_power,pressure,reactive_power\n".to_vec();
     for i in 0..20 {
         file.extend_from_slice(
-            format!("2022-03-18 04:{i:02}:00,{},101{}.5\n", 3000 + i * 50, i % 10).as_bytes(),
+            format!("2022-03-18 04:{i:02}:00,{},101{}.5,0.4\n", 3000 + i * 50, i % 10).as_bytes(),
         );
     }
     let s = sniff(&file).unwrap();
+    // Reactive power is not a compressor's power draw.
+    assert_eq!(col(&s, "reactive_power").quantity, None);
     assert_eq!(col(&s, "ac_power").unit.as_deref(), Some("W"));
     let p = col(&s, "pressure");
     assert_eq!((p.unit.as_deref(), p.unit_from.as_deref()), (Some("mbar_a"), Some("values")));
