@@ -125,7 +125,7 @@ pub static UNITS: &[UnitSpelling] = &[
     // Power. NIST SP 811 ch. 4 (SI prefixes).
     unit("kW", Power, "kW", &["kw"], &["kw"], ToSi::Scale(1e3), true),
     unit("W", Power, "W", &["w"], &["w", "watt", "watts"], ToSi::Scale(1.0), true),
-    unit("MW", Power, "MW", &["mw"], &[], ToSi::Scale(1e6), false),
+    unit("MW", Power, "MW", &["mw"], &["mw"], ToSi::Scale(1e6), true),
     // Energy counters. NIST SP 811 B.8: kilowatt hour = 3.6 E+06 J.
     unit("kWh", Energy, "kWh", &["kwh"], &["kwh"], ToSi::Scale(J_PER_KWH), true),
     unit("Wh", Energy, "Wh", &["wh"], &["wh"], ToSi::Scale(J_PER_KWH / 1000.0), true),
@@ -213,15 +213,7 @@ pub static UNITS: &[UnitSpelling] = &[
         true,
     ),
     unit("MPa_a", Pressure, "MPa(a)", &["mpa_a", "mpaa", "mpa_abs"], &[], pressure(1.0e6, false), false),
-    unit(
-        "mbar_g",
-        Pressure,
-        "mbar(g)",
-        &["mbar_g", "mbarg"],
-        &[],
-        pressure(PA_PER_BAR / 1000.0, true),
-        false,
-    ),
+    unit("mbar_g", Pressure, "mbar(g)", &["mbar_g", "mbarg"], &[], pressure(PA_PER_BAR / 1000.0, true), true),
     unit(
         "mbar_a",
         Pressure,
@@ -229,7 +221,7 @@ pub static UNITS: &[UnitSpelling] = &[
         &["mbar_a", "mbara", "mbar_abs"],
         &[],
         pressure(PA_PER_BAR / 1000.0, false),
-        false,
+        true,
     ),
     unit("Pa_g", Pressure, "Pa(g)", &["pa_g", "pag"], &[], pressure(1.0, true), false),
     unit("Pa_a", Pressure, "Pa(a)", &["pa_a", "paa", "pa_abs"], &[], pressure(1.0, false), false),
@@ -255,7 +247,7 @@ pub static UNITS: &[UnitSpelling] = &[
     unit("Sm3_h", Flow, "Sm³/h", &["sm3_h", "sm3h"], &["sm3_h"], flow(1.0 / HOUR, STANDARD), true),
     unit("Sm3_min", Flow, "Sm³/min", &["sm3_min"], &["sm3_min"], flow(1.0 / MIN, STANDARD), true),
     unit("m3_s", Flow, "m³/s", &["m3_s"], &[], flow(1.0, None), false),
-    unit("l_min", Flow, "l/min", &["l_min", "lpm"], &["l_min"], flow(1e-3 / MIN, None), false),
+    unit("l_min", Flow, "l/min", &["l_min", "lpm"], &["l_min", "lpm"], flow(1e-3 / MIN, None), true),
     unit("Nl_min", Flow, "Nl/min", &["nl_min"], &[], flow(1e-3 / MIN, NORMAL), false),
     unit("Nl_s", Flow, "Nl/s", &["nl_s"], &[], flow(1e-3, NORMAL), false),
     // Temperature. NIST SP 811 B.9: T/K = t/°C + 273.15 = (t/°F + 459.67)/1.8.
@@ -278,7 +270,87 @@ pub static UNITS: &[UnitSpelling] = &[
         true,
     ),
     unit("K", Temperature, "K", &["k", "kelvin"], &[], ToSi::Temperature { scale: 1.0, offset: 0.0 }, true),
+    // ---- Water and mercury columns (issue 14). -------------------------------------------------
+    // Level and barometric loggers write pressure as a liquid column. NIST SP 811 (2008) B.8:
+    // "meter of water, conventional (mH2O)" = 9.806 65 E+03 Pa (1000 kg/m³ × 9.806 65 m/s²),
+    // "inch of water, conventional (inH2O)" = 2.490 889 E+02 Pa (0.0254 m of it), "inch of
+    // mercury, conventional (inHg)" = 3.386 389 E+03 Pa (13 595.1 kg/m³, mercury at 0 °C, × 0.0254
+    // m × 9.806 65 m/s²). `mWS` is the German "Meter Wassersäule". Each is gauge (`_g`) or absolute
+    // (`_a`); a bare spelling in a header is proposed as gauge, except inches of mercury near one
+    // atmosphere, which the sniffer reads as a barometer's absolute pressure.
+    UnitSpelling {
+        unqualified: &["mh2o", "m_h2o", "mws", "mwc", "m_wc"],
+        ..unit(
+            "mH2O_g",
+            Pressure,
+            "mH₂O(g)",
+            &["mh2o_g", "mh2og", "mws_g", "mwc_g"],
+            &["mh2o_g", "mh2og", "mws_g", "mwc_g", "mws_rel", "mh2o_rel", "mwg"],
+            pressure(PA_PER_M_H2O, true),
+            true,
+        )
+    },
+    unit(
+        "mH2O_a",
+        Pressure,
+        "mH₂O(a)",
+        &["mh2o_a", "mh2oa", "mh2o_abs", "mws_a", "mwc_a"],
+        &["mh2o_a", "mh2o_abs", "mws_a", "mws_abs", "mwc_a"],
+        pressure(PA_PER_M_H2O, false),
+        true,
+    ),
+    UnitSpelling {
+        unqualified: &["inh2o", "in_h2o", "inwc", "in_wc", "iwc", "inches_h2o"],
+        ..unit(
+            "inH2O_g",
+            Pressure,
+            "inH₂O(g)",
+            &["inh2o_g", "inh2og", "inwc_g", "in_h2o_g"],
+            &["inh2o_g", "inh2og", "in_h2o_g", "inwc_g", "inwg", "in_wg"],
+            pressure(PA_PER_IN_H2O, true),
+            true,
+        )
+    },
+    unit(
+        "inH2O_a",
+        Pressure,
+        "inH₂O(a)",
+        &["inh2o_a", "inh2oa", "inh2o_abs", "in_h2o_a"],
+        &["inh2o_a", "inh2o_abs", "in_h2o_a"],
+        pressure(PA_PER_IN_H2O, false),
+        true,
+    ),
+    UnitSpelling {
+        unqualified: &["inhg", "in_hg", "inches_hg"],
+        ..unit(
+            "inHg_g",
+            Pressure,
+            "inHg(g)",
+            &["inhg_g", "inhgg", "in_hg_g"],
+            &["inhg_g", "inhgg", "in_hg_g", "inhgv", "inhg_vac"],
+            pressure(PA_PER_IN_HG, true),
+            true,
+        )
+    },
+    unit(
+        "inHg_a",
+        Pressure,
+        "inHg(a)",
+        &["inhg_a", "inhga", "inhg_abs", "in_hg_a"],
+        &["inhg_a", "inhga", "inhg_abs", "in_hg_a"],
+        pressure(PA_PER_IN_HG, false),
+        true,
+    ),
+    // ---- End of the water and mercury columns. --------------------------------------------------
 ];
+
+/// Pa per conventional metre of water: 1000 kg/m³ × 9.806 65 m/s² (NIST SP 811 B.8, 9.806 65 E+03).
+pub const PA_PER_M_H2O: f64 = 1000.0 * 9.806_65;
+/// Pa per conventional inch of water: 0.0254 m of it (NIST SP 811 B.8, 2.490 889 E+02).
+pub const PA_PER_IN_H2O: f64 = 0.0254 * PA_PER_M_H2O;
+/// Pa per conventional inch of mercury: 13 595.1 kg/m³ × 9.806 65 m/s² × 0.0254 m (NIST SP 811
+/// B.8, 3.386 389 E+03).
+pub const PA_PER_IN_HG: f64 = 13_595.1 * 9.806_65 * 0.0254;
 
 /// A unit spelling in its normal form: lower case, `³` -> `3`, `/`, ` `, `-`, `(`, `)`, `.`, `[`,
 /// `]` -> `_`, `°` and `º` dropped, runs of `_` collapsed, no leading or trailing `_`.

@@ -4,7 +4,8 @@ Ingest: logger CSV files into canonical SI readings.
 A logger file takes one way through this module:
 
 1. [`sniff`] looks at the first ~64 KiB and guesses encoding, delimiter, decimal mark, preamble,
-   header, timestamp format and the quantity/unit/compressor of each column, and proposes a
+   header, units row and first data row, timestamp (columns, interval, day or month first),
+   missing markers and the quantity/unit/compressor of each column, and proposes a
    [`mapping::Mapping`] that the upload page shows for confirmation.
 2. [`mapping::plan`] validates a mapping against the file's header (unknown column, unit or
    quantity, current without volts or power factor...) and resolves it into a [`mapping::Plan`].

@@ -2,8 +2,10 @@
 Numbers as loggers write them.
 
 - The decimal mark is `.` or `,`, as the mapping says. Exponents (`1.5e3`, `1,5E-2`) are accepted.
-- Missing-value markers are not errors: an empty cell, `NaN`, `---`, `--`, `OL`, `-OL` (a meter's
-  over-range), `N/A`, `#N/A`, `null` (case-insensitive) give [`Cell::Missing`].
+- Missing-value markers are not errors: an empty cell, a run of `-`, `NaN`, `OL`, `-OL` (a meter's
+  over-range), `N/A`, `#N/A`, `null`, `Err`, `#-1`, `1.#QNAN`, `#VALUE!`... ([`MARKERS`],
+  case-insensitive) give [`Cell::Missing`]. Other text is an error here; the parser reads it as a
+  missing value too and counts it apart (see `parse`).
 - Thousands separators: accepted only where they cannot be misread, that is when the number also
   carries the mapped decimal mark after them and every group after the first has exactly three
   digits (`1,234.5` with `.`, `1.234,5` or `1 234,5` or `1'234,5` with `,`). A bare `1,234` with
@@ -27,21 +29,49 @@ const POW10: [f64; 23] = [
     1e19, 1e20, 1e21, 1e22,
 ];
 
-/// Whether a trimmed cell is one of the missing-value markers.
+/// The missing-value and error markers loggers and spreadsheets write where a number belongs,
+/// compared ASCII case-insensitively with the trimmed cell (besides the empty cell and runs of
+/// `-`): not-a-number as C runtimes and spreadsheets print it, over-range, device errors.
+pub const MARKERS: &[&[u8]] = &[
+    b"nan",
+    b"-nan",
+    b"n/a",
+    b"#n/a",
+    b"na",
+    b"null",
+    b"none",
+    b"?",
+    b"ol",
+    b"-ol",
+    b"+ol",
+    b"err",
+    b"error",
+    b"#-1",
+    b"1.#qnan",
+    b"-1.#qnan",
+    b"1.#snan",
+    b"1.#ind",
+    b"-1.#ind",
+    b"1.#inf",
+    b"-1.#inf",
+    b"#value!",
+    b"#div/0!",
+    b"#ref!",
+    b"#num!",
+    b"#name?",
+    b"#null!",
+    b"---.-",
+    b"overflow",
+    b"underflow",
+];
+
+/// Whether a trimmed cell is one of the missing-value markers ([`MARKERS`], the empty cell, a run
+/// of `-`).
 pub fn is_missing_marker(s: &[u8]) -> bool {
-    match s.len() {
-        0 => true,
-        2 => s == b"--" || s.eq_ignore_ascii_case(b"ol"),
-        3 => {
-            s == b"---"
-                || s == b"-OL"
-                || s == b"-ol"
-                || s.eq_ignore_ascii_case(b"nan")
-                || s.eq_ignore_ascii_case(b"n/a")
-        }
-        4 => s.eq_ignore_ascii_case(b"null") || s.eq_ignore_ascii_case(b"#n/a"),
-        _ => s.iter().all(|&b| b == b'-'),
+    if s.is_empty() || s.iter().all(|&b| b == b'-') {
+        return true;
     }
+    s.len() <= 9 && MARKERS.iter().any(|m| m.eq_ignore_ascii_case(s))
 }
 
 /// Trim ASCII spaces and tabs.

@@ -11,16 +11,21 @@ The streaming parse of a logger file: one pass, bounded memory, readings straigh
   line). Records before `header_line` are the preamble and are skipped; a quote in the preamble
   that runs into the header line is an error naming both lines.
 - Blank lines (and rows whose timestamp and mapped cells are all empty) are skipped and counted.
+- Records after the header that start before `first_data_line` (or on `units_line`) are
+  skipped: units rows, aggregation rows, second header rows.
 - Errors name the 1-based line of the file (preamble included) and the column's header name: a
-  row too short for a mapped column, a timestamp that does not match the format, a number that
-  cannot be read, a pressure below zero absolute. Missing-value cells (`""`, `NaN`, `---`, ...)
-  are not errors: they give no reading and are counted in the quality report.
+  row too short for a mapped column, a timestamp that does not match the format (or an interval
+  without its two ends), a pressure below zero absolute, and a column with more unreadable text
+  than numbers (a wrong decimal mark). Missing-value cells (`""`, `NaN`, `---`, `#-1`,
+  `1.#QNAN`, the mapping's `missing_markers`...) and other text in a numeric cell are not errors:
+  they give no reading and are counted in the quality report with their line and text. The
+  check for extra markers costs nothing when the mapping names none.
 - `first_ms`/`last_ms` are the earliest and latest timestamps (not the first and last rows: a file
   with a clock stepping back is still reported over its full span).
 */
 
 use crate::core::units::SiteAir;
-use crate::ingest::mapping::{plan, Mapping, Plan, Quantity};
+use crate::ingest::mapping::{plan, IntervalEnd, Mapping, Plan, Quantity};
 use crate::ingest::number::{parse_cell, trim, Cell};
 use crate::ingest::quality::{QualityReport, QualityTracker};
 use crate::ingest::record::{Limits, RecordError, RecordReader};
@@ -181,6 +186,7 @@ fn run<R: BufRead>(
         .max()
         .unwrap_or(0);
     let decimal = plan.decimal;
+    let has_markers = !plan.missing_markers.is_empty();
     let mut joined: Vec<u8> = Vec::with_capacity(64);
     let (mut rows, mut readings) = (0u64, 0u64);
     let (mut first, mut last): (Option<i64>, Option<i64>) = (None, None);
@@ -192,6 +198,10 @@ fn run<R: BufRead>(
             next_progress = rec.offset() + PROGRESS_EVERY_BYTES;
         }
         let line_no = rec.line();
+        if line_no < plan.data_from_line {
+            // The units row, an aggregation row or a second header row between header and data.
+            continue;
+        }
         if rec.is_blank() {
             quality.blank_line();
             continue;
@@ -232,6 +242,16 @@ fn run<R: BufRead>(
             quality.blank_line();
             continue;
         }
+        let ts = match plan.interval {
+            None => ts,
+            Some(end) => interval_end(ts, end).ok_or_else(|| {
+                IngestError::at(
+                    line_no,
+                    Some(&plan.timestamp_label),
+                    format!("cannot find the two ends of the interval {:?} (\"start - end\")", shown(ts)),
+                )
+            })?,
+        };
         let Some((t, dst)) = plan.timestamps.parse(ts) else {
             return Err(IngestError::at(
                 line_no,
@@ -248,6 +268,10 @@ fn run<R: BufRead>(
         last = Some(last.map_or(t, |l| l.max(t)));
         for (ch, &(ci, is_pressure)) in chans.iter().enumerate() {
             let raw = field(ci).unwrap_or_default();
+            if has_markers && plan.missing_markers.iter().any(|m| m.eq_ignore_ascii_case(trim(raw))) {
+                quality.marked(ch, line_no, trim(raw), true);
+                continue;
+            }
             match parse_cell(raw, decimal) {
                 Ok(Cell::Value(v)) => {
                     let si = convs[ch].apply(v);
@@ -271,10 +295,25 @@ fn run<R: BufRead>(
                     })?;
                     readings += 1;
                 }
-                Ok(Cell::Missing) => quality.missing(ch, line_no),
-                Err(reason) => return Err(IngestError::at(line_no, Some(&plan.channels[ch].label), reason)),
+                Ok(Cell::Missing) if trim(raw).is_empty() => quality.missing(ch, line_no),
+                Ok(Cell::Missing) => quality.marked(ch, line_no, trim(raw), true),
+                // Text where a number belongs is a missing value, counted apart (refused below
+                // only when a column holds more of it than numbers).
+                Err(_) => quality.marked(ch, line_no, trim(raw), false),
             }
         }
+    }
+    if let Some((label, count, first)) = quality.mostly_unreadable() {
+        let (line, text) = first.map_or((None, String::new()), |m| (Some(m.line), m.text.clone()));
+        return Err(IngestError {
+            message: format!(
+                "{count} cells of column {label:?} are text, more than its numbers (first {text:?}); \
+                 check the decimal mark, or name the marker in missing_markers"
+            ),
+            line,
+            column: Some(label.to_string()),
+            field: None,
+        });
     }
     progress(records.bytes_read());
     let quality = quality.finish();
@@ -286,6 +325,19 @@ fn run<R: BufRead>(
         median_interval_s: quality.file.median_interval_s,
         quality,
         header: None,
+    })
+}
+
+/// One end of an interval timestamp (`01.01.2021 00:00 - 01.01.2021 00:15`), split at ` - `, an
+/// en dash or ` to `; `None` when the cell holds no such separator.
+pub fn interval_end(ts: &[u8], end: IntervalEnd) -> Option<&[u8]> {
+    const SEPARATORS: [&[u8]; 4] = [b" - ", " \u{2013} ".as_bytes(), b" to ", b" bis "];
+    SEPARATORS.iter().find_map(|sep| {
+        let at = ts.windows(sep.len()).position(|w| w == *sep)?;
+        Some(match end {
+            IntervalEnd::Start => trim(&ts[..at]),
+            IntervalEnd::End => trim(&ts[at + sep.len()..]),
+        })
     })
 }
 
@@ -301,10 +353,14 @@ fn header_label(plan: &Plan, index: usize) -> String {
 }
 
 #[cfg(test)]
+mod layout_tests;
+
+#[cfg(test)]
 mod tests {
     use super::*;
     use crate::core::units::{PressureAbs, ReferenceConditions, M3_PER_FT3, PA_PER_PSI};
     use crate::ingest::mapping::ColumnMap;
+    use crate::ingest::quality::MarkedCell;
 
     type Readings = Vec<(usize, i64, f64)>;
 
@@ -406,16 +462,29 @@ mod tests {
     }
 
     #[test]
-    fn a_five_line_preamble_and_a_bad_number_at_a_known_line_and_column() {
+    fn a_five_line_preamble_and_text_in_a_number_column_at_a_known_line_and_column() {
+        // Text where a number belongs is a missing value, counted with its line and text.
         let mut file = PREAMBLE.to_vec();
         file.extend_from_slice(
-            b"Time,C1 kW,Flow\n2026-03-02 06:00:00,50.0,8.5\n2026-03-02 06:01:00,50.1,8.4x\n",
+            b"Time,C1 kW,Flow\n2026-03-02 06:00:00,50.0,8.5\n2026-03-02 06:01:00,50.1,8.4x\n\
+              2026-03-02 06:02:00,50.2,8.3\n",
+        );
+        let (r, got) = parse(&file, &preamble_mapping(), &sea_level()).unwrap();
+        assert_eq!((r.rows, got.len()), (3, 5));
+        let flow = &r.quality.channels[1];
+        // Line 1-5 preamble, 6 header, 7 first row, 8 the text cell.
+        assert_eq!((flow.missing.count, flow.marked.count, flow.unreadable), (1, 1, 1));
+        assert_eq!(flow.marked.examples[0], MarkedCell { line: 8, text: "8.4x".into() });
+        // A column of more text than numbers is not numbers as mapped: refused at its first text.
+        let mut file = PREAMBLE.to_vec();
+        file.extend_from_slice(
+            b"Time,C1 kW,Flow\n2026-03-02 06:00:00,50.0,8.5\n2026-03-02 06:01:00,50.1,8.4x\n\
+              2026-03-02 06:02:00,50.2,8.3y\n",
         );
         let e = parse(&file, &preamble_mapping(), &sea_level()).unwrap_err();
-        // Line 1-5 preamble, 6 header, 7 first row, 8 the bad cell.
         assert_eq!(e.line, Some(8));
         assert_eq!(e.column.as_deref(), Some("Flow"));
-        assert_eq!(e.message, "cannot read number \"8.4x\"");
+        assert!(e.message.starts_with("2 cells of column \"Flow\" are text"), "{}", e.message);
         let good = {
             let mut f = PREAMBLE.to_vec();
             f.extend_from_slice(b"Time,C1 kW,Flow\n2026-03-02 06:00:00,50.0,6\n");
@@ -451,9 +520,9 @@ mod tests {
             \"2026-03-02 06:01:00\",51,\"two\nlines\",7\n\
             2026-03-02 06:02:00,52,,bad\n";
         let m = preamble_mapping_at(1);
-        let e = parse(file, &m, &sea_level()).unwrap_err();
-        // The quoted line break makes the second record span lines 3-4; the bad one is line 5.
-        assert_eq!((e.line, e.column.as_deref()), (Some(5), Some("Flow")));
+        let (r, _) = parse(file, &m, &sea_level()).unwrap();
+        // The quoted line break makes the second record span lines 3-4; the text is on line 5.
+        assert_eq!(r.quality.channels[1].marked.examples[0], MarkedCell { line: 5, text: "bad".into() });
         let ok = &file[..file.len() - "2026-03-02 06:02:00,52,,bad\n".len()];
         let (r, got) = parse(ok, &m, &sea_level()).unwrap();
         assert_eq!(r.rows, 2);

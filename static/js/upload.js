@@ -32,7 +32,8 @@
       $("map-note").textContent = r.remembered_mapping
         ? "This logger's layout was mapped before: the earlier mapping is filled in. Check it."
         : "Suggested from the file's header and first rows. Check every column.";
-      $("choose-status").textContent = f.name + ": " + sniffed.header.length + " columns, header on line " + sniffed.header_line + ", encoding " + sniffed.encoding + ".";
+      $("choose-status").textContent = f.name + ": " + sniffed.header.length + " columns, names on line " + sniffed.header_line +
+        (sniffed.units_line ? ", units on line " + sniffed.units_line : "") + ", data from line " + sniffed.first_data_line + ", encoding " + (sniffed.encoding === "utf-8" ? "UTF-8" : "Windows-1252 / Latin-1") + ".";
       showMapping(mapping);
     } catch (err) {
       $("choose-status").textContent = "This file cannot be read: " + err.message;
@@ -43,41 +44,93 @@
     return A.el("option", { value: value, selected: selected }, label);
   }
 
+  // Quantities as people say them (the mapping's codes are the option values).
+  const QUANTITY = { power: "power", energy: "energy counter", current: "current", pressure: "pressure", flow: "flow", temperature: "temperature" };
+  const ROLE = { header: "names", units: "units", header_upper: "header", skipped: "skipped", preamble: "", blank: "blank", data: "" };
+
+  // Marks the preview's rows from the layout fields, so a corrected line number shows at once.
+  function markPreview() {
+    const header = Number($("m-header").value);
+    const units = Number($("m-units-line").value) || null;
+    let first = Number($("m-first-data").value) || null;
+    if (!first) {
+      const after = units || header;
+      const next = sniffed.lines.find((l) => l.line > after && l.role !== "blank");
+      first = next ? next.line : after + 1;
+    }
+    for (const tr of $("preview").querySelectorAll("tbody tr")) {
+      const line = Number(tr.getAttribute("data-line"));
+      tr.className = "";
+      let label = "";
+      if (line === header) { tr.classList.add("role-header"); label = "names"; }
+      else if (line === units) { tr.classList.add("role-units"); label = "units"; }
+      else if (line === first) { tr.classList.add("role-first"); label = "first data row"; }
+      else if (line > header && line < first) { tr.classList.add("role-skip"); label = "skipped"; }
+      else if (line < header) { tr.classList.add("role-before"); label = ROLE[tr.getAttribute("data-role")] || ""; }
+      tr.querySelector(".lineno").textContent = "line " + line + (label ? " \u00b7 " + label : "");
+    }
+  }
+
+  for (const id of ["m-header", "m-units-line", "m-first-data"]) $(id).addEventListener("input", () => { if (sniffed) markPreview(); });
+  // Another names line: its cells become the columns to map (when the preview shows that line).
+  $("m-header").addEventListener("change", () => {
+    const l = sniffed && sniffed.lines.find((x) => x.line === Number($("m-header").value));
+    if (!l) return;
+    sniffed.header = l.fields.map((f) => f.trim());
+    showMapping(readMapping());
+  });
+
   function showMapping(m) {
     $("step-map").classList.remove("hidden");
     const pv = $("preview");
     pv.replaceChildren();
-    const head = A.el("tr", {}, ...sniffed.header.map((h) => A.el("th", {}, h)));
+    const width = Math.max(sniffed.header.length, ...sniffed.lines.map((l) => l.fields.length));
+    const head = A.el("tr", {}, A.el("th", {}, "Line"), ...Array.from({ length: width }, (_, i) => A.el("th", {}, String(i + 1))));
     pv.append(A.el("thead", {}, head));
     const body = A.el("tbody");
-    for (const row of sniffed.preview.slice(0, 8)) body.append(A.el("tr", {}, ...row.map((c) => A.el("td", {}, c))));
+    for (const l of sniffed.lines) {
+      const cells = Array.from({ length: width }, (_, i) => A.el("td", {}, l.fields[i] === undefined ? "" : l.fields[i]));
+      body.append(A.el("tr", { "data-line": String(l.line), "data-role": l.role }, A.el("td", { class: "lineno" }, ""), ...cells));
+    }
     pv.append(body);
 
     $("m-delimiter").value = m.delimiter === "tab" ? "\t" : m.delimiter;
     $("m-decimal").value = m.decimal;
     $("m-header").value = m.header_line;
+    $("m-units-line").value = m.units_line || "";
+    $("m-first-data").value = m.first_data_line || "";
     $("m-encoding").value = m.encoding || "";
+    $("m-markers").value = (m.missing_markers || []).join(", ");
+    $("markers-note").textContent = (sniffed.markers_seen && sniffed.markers_seen.length)
+      ? "Seen in this file and always read as missing: " + sniffed.markers_seen.join(", ") + "."
+      : "Empty cells, NaN, N/A, #N/A, #-1, 1.#QNAN, OL, Err, #VALUE! and dashes are always read as missing.";
     const tsCol = $("m-ts-column");
     const tsTime = $("m-ts-time");
     tsCol.replaceChildren(...sniffed.header.map((h) => option(h, h, h === m.timestamp.column)));
     tsTime.replaceChildren(option("", "(none)"), ...sniffed.header.map((h) => option(h, h, h === m.timestamp.time_column)));
     $("m-ts-format").value = m.timestamp.format;
     $("m-ts-zone").value = m.timestamp.timezone || "UTC";
+    $("m-interval").value = m.timestamp.interval || "";
     $("m-offset").value = m.clock_offset_s || 0;
+    const ts = sniffed.timestamp || {};
     $("dayfirst").classList.toggle("hidden", !sniffed.day_first_ambiguous);
+    if (ts.date_order && !sniffed.day_first_ambiguous) $("m-dateorder").title = "read from the file: " + ts.date_order.replace("_", " ");
+    markPreview();
 
+    const notes = {};
+    for (const g of sniffed.columns || []) notes[g.column] = g.note;
     const tbody = $("columns-table").querySelector("tbody");
     tbody.replaceChildren();
     for (const h of sniffed.header) {
       if (h === m.timestamp.column || h === m.timestamp.time_column) continue;
       const c = (m.columns || []).find((x) => x.column === h) || { column: h, quantity: "" };
-      tbody.append(columnRow(c));
+      tbody.append(columnRow(c, notes[h]));
     }
   }
 
-  function columnRow(c) {
+  function columnRow(c, note) {
     const q = A.el("select", { class: "q" }, option("", "ignore", !c.quantity),
-      ...Object.keys(UNITS).map((k) => option(k, k, k === c.quantity)));
+      ...Object.keys(UNITS).map((k) => option(k, QUANTITY[k] || k, k === c.quantity)));
     const u = A.el("select", { class: "u" });
     const comp = A.el("select", { class: "c" }, option("", "\u2014"),
       ...data.compressors.map((t) => option(t, t, t === c.compressor)));
@@ -85,7 +138,7 @@
     const num = (cls, label, value, step) => A.el("label", {}, label + " ",
       A.el("input", { class: cls, type: "number", step: step || "any", value: value === undefined || value === null ? "" : value }));
     function refill() {
-      u.replaceChildren(...(UNITS[q.value] || []).map((x) => option(x, x, x === c.unit)));
+      u.replaceChildren(...(UNITS[q.value] || []).map((x) => option(x.code, x.label, x.code === c.unit)));
       comp.disabled = !["power", "energy", "current"].includes(q.value);
       details.replaceChildren();
       if (q.value === "current") {
@@ -102,7 +155,8 @@
     q.addEventListener("change", refill);
     u.addEventListener("change", () => { c.unit = u.value; refill(); });
     refill();
-    const tr = A.el("tr", { "data-column": c.column }, A.el("td", {}, c.column), A.el("td", {}, q), A.el("td", {}, u), A.el("td", {}, comp), A.el("td", {}, details));
+    const tr = A.el("tr", { "data-column": c.column }, A.el("td", {}, c.column), A.el("td", {}, q), A.el("td", {}, u), A.el("td", {}, comp), A.el("td", {}, details),
+      A.el("td", { class: "hint" }, note || ""));
     return tr;
   }
 
@@ -127,23 +181,28 @@
       columns.push(col);
     }
     let format = $("m-ts-format").value;
-    const df = $("m-dayfirst").value;
-    if (df === "month") format = format.replace("%d/%m", "%m/%d").replace("%d.%m", "%m.%d");
-    if (df === "day") format = format.replace("%m/%d", "%d/%m");
+    const df = $("m-dateorder").value;
+    if (df === "month") format = format.replace("%d/%m", "%m/%d").replace("%d-%m", "%m-%d").replace("%d.%m", "%m.%d");
+    if (df === "day") format = format.replace("%m/%d", "%d/%m").replace("%m-%d", "%d-%m").replace("%m.%d", "%d.%m");
     const m = {
       delimiter: $("m-delimiter").value, decimal: $("m-decimal").value, header_line: Number($("m-header").value),
       timestamp: { column: $("m-ts-column").value, format: format, timezone: $("m-ts-zone").value || "UTC" },
       columns: columns, clock_offset_s: Number($("m-offset").value || 0),
     };
+    if ($("m-units-line").value) m.units_line = Number($("m-units-line").value);
+    if ($("m-first-data").value) m.first_data_line = Number($("m-first-data").value);
+    const markers = $("m-markers").value.split(",").map((x) => x.trim()).filter(Boolean);
+    if (markers.length) m.missing_markers = markers;
     if ($("m-encoding").value) m.encoding = $("m-encoding").value;
     if ($("m-ts-time").value) m.timestamp.time_column = $("m-ts-time").value;
+    if ($("m-interval").value) m.timestamp.interval = $("m-interval").value;
     return m;
   }
 
   $("mapping-form").addEventListener("submit", (e) => {
     e.preventDefault();
     if (!file) return;
-    if (!$("dayfirst").classList.contains("hidden") && !$("m-dayfirst").value) {
+    if (!$("dayfirst").classList.contains("hidden") && !$("m-dateorder").value) {
       $("import-status").textContent = "Choose day-first or month-first dates first.";
       $("step-import").classList.remove("hidden");
       return;

@@ -662,3 +662,84 @@ fn hostile_audit_name_is_escaped() {
     let title = b.js_str("return document.title");
     assert!(title.contains(name), "the audit page title {title:?} lacks the literal name");
 }
+
+/// Issue 14: a file with a preamble, names, units and aggregation rows and error markers, chosen on
+/// the upload page: the preview marks the names, units and first data rows, follows a corrected
+/// line number, shows unit labels rather than codes, and the import lists the markers as missing.
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn the_upload_page_marks_the_layout_and_imports_markers_as_missing() {
+    let server = Server::start();
+    let id = server.audit_with_compressor("C1");
+    let b = Browser::start();
+    b.set_window(1366, 900);
+    b.goto(&server.url(&format!("/audits/{id}/upload")));
+    let mut csv =
+        String::from("Logger;7;;\nTime;C1 Power;Line pressure;Flow\n;[kW];[bar];[m3/min]\n;Avg;Smp;Avg\n");
+    for i in 0..60 {
+        let p = if i % 10 == 3 { "#-1".to_string() } else { format!("4{},5", i % 10) };
+        csv.push_str(&format!("02.03.2026 06:{i:02}:00;{p};6,{};8,{}\n", i % 9, i % 7));
+    }
+    b.js(
+        "const dt = new DataTransfer(); dt.items.add(new File([arguments[0]], 'layout.csv', {type: 'text/csv'}));
+         const input = document.getElementById('file-input'); input.files = dt.files;
+         input.dispatchEvent(new Event('change'));",
+        json!([csv]),
+    );
+    let marked = || {
+        b.js(
+            "return [...document.querySelectorAll('#preview tbody tr')].map(tr => [Number(tr.dataset.line), tr.className])",
+            json!([]),
+        )
+    };
+    assert!(
+        wait_until(Duration::from_secs(10), || marked().as_array().is_some_and(|a| !a.is_empty())),
+        "the preview did not appear: {}",
+        b.js_str("return document.getElementById('choose-status').textContent")
+    );
+    let rows = marked();
+    let class_of = |rows: &serde_json::Value, line: u64| {
+        rows.as_array().unwrap().iter().find(|r| r[0] == line).map(|r| r[1].as_str().unwrap().to_string())
+    };
+    assert_eq!(class_of(&rows, 2).as_deref(), Some("role-header"), "{rows}");
+    assert_eq!(class_of(&rows, 3).as_deref(), Some("role-units"), "{rows}");
+    assert_eq!(class_of(&rows, 4).as_deref(), Some("role-skip"), "{rows}");
+    assert_eq!(class_of(&rows, 5).as_deref(), Some("role-first"), "{rows}");
+    // The form holds the proposal; units show as people write them.
+    assert_eq!(b.js_str("return document.getElementById('m-units-line').value"), "3");
+    assert_eq!(b.js_str("return document.getElementById('m-first-data').value"), "5");
+    let unit = b.js_str(
+        "const tr = document.querySelector('#columns-table tr[data-column=\"Line pressure\"]');
+         const s = tr.querySelector('.u'); return s.options[s.selectedIndex].textContent",
+    );
+    assert_eq!(unit, "bar(g)");
+    // Correcting the first data line moves the marks at once.
+    b.js(
+        "const e = document.getElementById('m-first-data'); e.value = '6'; e.dispatchEvent(new Event('input'));",
+        json!([]),
+    );
+    let rows = marked();
+    assert_eq!(class_of(&rows, 5).as_deref(), Some("role-skip"), "{rows}");
+    assert_eq!(class_of(&rows, 6).as_deref(), Some("role-first"), "{rows}");
+    b.js(
+        "const e = document.getElementById('m-first-data'); e.value = '5'; e.dispatchEvent(new Event('input'));
+         document.getElementById('import-button').click();",
+        json!([]),
+    );
+    let done = wait_until(Duration::from_secs(20), || {
+        b.js_str("return document.getElementById('import-status').textContent").starts_with("Imported")
+    });
+    assert!(
+        done,
+        "not imported: {}",
+        b.js_str("return document.getElementById('import-status').textContent")
+    );
+    let quality = b.js_str("return document.getElementById('result').textContent");
+    assert!(quality.contains("C1 Power: 6 cells with a marker or text read as missing"), "{quality}");
+    b.screenshot("upload-layout-marked");
+    let severe = b.severe_logs("/upload");
+    assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
+}

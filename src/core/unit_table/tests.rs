@@ -115,8 +115,17 @@ fn spellings_normalize_and_find_their_unit() {
 #[test]
 fn the_form_offers_the_api_units_in_order() {
     let codes = |q| choices(q).map(|u| u.code).collect::<Vec<_>>();
-    assert_eq!(codes(Pressure), ["bar_g", "psig", "kPa_g", "MPa_g", "bar_a", "psia", "kPa_a"]);
-    assert_eq!(codes(Flow), ["m3_min", "m3_h", "l_s", "cfm", "scfm", "Nm3_h", "Nm3_min", "Sm3_h", "Sm3_min"]);
+    assert_eq!(
+        codes(Pressure),
+        [
+            "bar_g", "psig", "kPa_g", "MPa_g", "bar_a", "psia", "kPa_a", "mbar_g", "mbar_a", "mH2O_g",
+            "mH2O_a", "inH2O_g", "inH2O_a", "inHg_g", "inHg_a"
+        ]
+    );
+    assert_eq!(
+        codes(Flow),
+        ["m3_min", "m3_h", "l_s", "cfm", "scfm", "Nm3_h", "Nm3_min", "Sm3_h", "Sm3_min", "l_min"]
+    );
     assert_eq!(codes(Current), ["A"]);
     assert_eq!(choices(Flow).nth(5).map(|u| u.label), Some("Nm³/h"));
 }
@@ -181,4 +190,44 @@ fn reference_units_convert_to_free_air_like_pint() {
     assert!((free_air("Sm3_min", 1.0, &site) * 60.0 - 100.0 / 89.875).abs() < 1e-12);
     // Free air passes through: 12 m³/min is 0.2 m³/s whatever the site.
     assert!((free_air("m3_min", 12.0, &site) - 0.2).abs() < 1e-12);
+}
+
+#[test]
+fn water_and_mercury_columns_have_the_nist_sp_811_factors() {
+    // NIST SP 811 (2008) appendix B.8, "Factors for units listed alphabetically":
+    // meter of water, conventional (mH2O) = 9.806 65 E+03 Pa;
+    assert!(rel(scale("mH2O_g"), 9.806_65e3) < 1e-12);
+    assert!(rel(scale("mH2O_a"), 9.806_65e3) < 1e-12);
+    // inch of water, conventional (inH2O) = 2.490 889 E+02 Pa (7 significant digits given);
+    assert!(rel(scale("inH2O_g"), 2.490_889e2) < 5e-7);
+    assert!(rel(scale("inH2O_a"), 2.490_889e2) < 5e-7);
+    // inch of mercury, conventional (inHg) = 3.386 389 E+03 Pa (7 significant digits given).
+    assert!(rel(scale("inHg_g"), 3.386_389e3) < 5e-7);
+    assert!(rel(scale("inHg_a"), 3.386_389e3) < 5e-7);
+    // Gauge adds the site atmosphere, absolute does not.
+    for (g, a) in [("mH2O_g", "mH2O_a"), ("inH2O_g", "inH2O_a"), ("inHg_g", "inHg_a")] {
+        assert!(matches!(unit_of(g).to_si, ToSi::Pressure { gauge: true, .. }), "{g}");
+        assert!(matches!(unit_of(a).to_si, ToSi::Pressure { gauge: false, .. }), "{a}");
+    }
+    // Header spellings: German "mWS" (Meter Wassersäule) and inches of mercury are unqualified.
+    assert_eq!(in_header("[mWS]").map(|(u, a)| (u.code, a)), Some(("mH2O_g", true)));
+    assert_eq!(in_header("inHg").map(|(u, a)| (u.code, a)), Some(("inHg_g", true)));
+    assert_eq!(in_header("inWC").map(|(u, a)| (u.code, a)), Some(("inH2O_g", true)));
+    assert_eq!(find(Pressure, "inHg_a").map(|u| u.code), Some("inHg_a"));
+    assert!(is_unqualified_pressure("mH2O"));
+}
+
+#[test]
+fn watts_megawatts_and_litres_per_minute_have_their_si_factors() {
+    // NIST SP 811 (2008) chapter 4, table 5 (SI prefixes): M = 1e6, k = 1e3; B.8: litre = 1.0 E-03 m³.
+    assert_eq!(scale("W"), 1.0);
+    assert_eq!(scale("MW"), 1.0e6);
+    assert!(rel(scale("l_min"), 1.0e-3 / 60.0) < 1e-15);
+    // B.8: watt hour = 3.6 E+03 J.
+    assert!(rel(scale("Wh"), 3.6e3) < 1e-15);
+    assert!(rel(scale("MWh"), 3.6e9) < 1e-15);
+    assert_eq!(in_header("[MW]").map(|(u, _)| u.code), Some("MW"));
+    assert_eq!(in_header("l/min").map(|(u, _)| u.code), Some("l_min"));
+    // B.9: t/°F = 1.8 t/°C + 32, so 212 °F is 373.15 K.
+    assert!((kelvin("F", 212.0) - 373.15).abs() < 1e-9);
 }

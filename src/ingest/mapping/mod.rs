@@ -57,6 +57,18 @@ pub struct Mapping {
     pub decimal: String,
     #[serde(default = "default_header_line")]
     pub header_line: u32,
+    /// The 1-based line holding each column's unit under the names (`[kW]`, `bar`); it is skipped.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub units_line: Option<u32>,
+    /// The 1-based line of the first data row: lines between the header and it (units,
+    /// aggregation words such as `Avg`, a second header row) are skipped. Absent: the line after
+    /// the header (or after `units_line`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub first_data_line: Option<u32>,
+    /// Cell texts read as missing values besides the built-in markers (compared trimmed, ASCII
+    /// case-insensitive), e.g. `["-9999", "E-11"]`.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub missing_markers: Vec<String>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub encoding: Option<String>,
     pub timestamp: TimestampSpec,
@@ -76,6 +88,18 @@ pub struct TimestampSpec {
     /// both joined by one space.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub time_column: Option<String>,
+    /// The cell is an interval (`01.01.2021 00:00 - 01.01.2021 00:15`): which end stamps the row.
+    /// `format` reads one end; the ends are split at ` - ` (or an en dash, or ` to `).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub interval: Option<IntervalEnd>,
+}
+
+/// Which end of an interval timestamp a row is stamped with.
+#[derive(Debug, Clone, Copy, Serialize, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum IntervalEnd {
+    Start,
+    End,
 }
 
 /// One mapped column.
@@ -164,6 +188,13 @@ pub struct Plan {
     pub delimiter: u8,
     pub decimal: u8,
     pub header_line: u32,
+    /// Records starting before this 1-based line, after the header, are skipped (units row,
+    /// aggregation row); 0 when nothing is skipped.
+    pub data_from_line: u64,
+    /// The mapping's extra missing-value markers, trimmed, as bytes.
+    pub missing_markers: Vec<Vec<u8>>,
+    /// Which end of an interval timestamp stamps the row.
+    pub interval: Option<IntervalEnd>,
     pub encoding: Option<Encoding>,
     /// 0-based index of the timestamp (or date) column, and of the time column if separate.
     pub timestamp_index: usize,
@@ -238,12 +269,14 @@ pub fn channel_defs(mapping: &Mapping) -> Result<Vec<ChannelDef>, IngestError> {
         .collect()
 }
 
-/// The unit codes the mapping form offers for each quantity (API.md spellings), from
-/// [`unit_table::choices`]: `{"power": ["kW", "W"], ..., "temperature": ["C", "F", "K"]}`.
+/// The units the mapping form offers for each quantity, from [`unit_table::choices`]: the code
+/// the mapping stores (API.md spellings) and the label a person reads, `{"power": [{"code": "kW",
+/// "label": "kW"}, ...], "pressure": [{"code": "bar_g", "label": "bar(g)"}, ...]}`.
 pub fn units_by_quantity() -> serde_json::Value {
     let mut by_quantity = serde_json::Map::new();
     for q in LoggedQuantity::ALL {
-        let codes: Vec<serde_json::Value> = unit_table::choices(q).map(|u| u.code.into()).collect();
+        let codes: Vec<serde_json::Value> =
+            unit_table::choices(q).map(|u| serde_json::json!({"code": u.code, "label": u.label})).collect();
         by_quantity.insert(q.as_str().into(), codes.into());
     }
     serde_json::Value::Object(by_quantity)
@@ -265,6 +298,8 @@ pub fn plan(mapping: &Mapping, header: &[String]) -> Result<Plan, IngestError> {
     if mapping.header_line == 0 {
         return Err(IngestError::field("header_line", "header_line is 1-based, got 0"));
     }
+    let data_from_line = data_from_line(mapping)?;
+    let missing_markers = missing_markers(&mapping.missing_markers)?;
     let encoding = match &mapping.encoding {
         None => None,
         Some(e) => Some(
@@ -308,6 +343,9 @@ pub fn plan(mapping: &Mapping, header: &[String]) -> Result<Plan, IngestError> {
         delimiter,
         decimal,
         header_line: mapping.header_line,
+        data_from_line,
+        missing_markers,
+        interval: ts.interval,
         encoding,
         timestamp_index,
         time_index,
@@ -315,4 +353,57 @@ pub fn plan(mapping: &Mapping, header: &[String]) -> Result<Plan, IngestError> {
         timestamp_format: ts.format.clone(),
         timestamps,
     })
+}
+
+/// The first line a data row may start on, from `units_line` and `first_data_line` (0: no skip).
+fn data_from_line(mapping: &Mapping) -> Result<u64, IngestError> {
+    let header = mapping.header_line;
+    if let Some(u) = mapping.units_line {
+        if u <= header {
+            return Err(IngestError::field(
+                "units_line",
+                format!("units_line {u} must be below the header line {header}"),
+            ));
+        }
+    }
+    match (mapping.first_data_line, mapping.units_line) {
+        (Some(f), _) if f <= header => Err(IngestError::field(
+            "first_data_line",
+            format!("first_data_line {f} must be below the header line {header}"),
+        )),
+        (Some(f), Some(u)) if f <= u => Err(IngestError::field(
+            "first_data_line",
+            format!("first_data_line {f} must be below the units line {u}"),
+        )),
+        (Some(f), _) => Ok(u64::from(f)),
+        (None, Some(u)) => Ok(u64::from(u) + 1),
+        (None, None) => Ok(0),
+    }
+}
+
+/// At most this many extra markers, each at most this long (bytes).
+const MAX_MARKERS: usize = 64;
+const MAX_MARKER_BYTES: usize = 64;
+
+fn missing_markers(markers: &[String]) -> Result<Vec<Vec<u8>>, IngestError> {
+    if markers.len() > MAX_MARKERS {
+        return Err(IngestError::field(
+            "missing_markers",
+            format!("at most {MAX_MARKERS} missing-value markers, got {}", markers.len()),
+        ));
+    }
+    markers
+        .iter()
+        .enumerate()
+        .map(|(i, m)| {
+            let t = m.trim();
+            if t.is_empty() || t.len() > MAX_MARKER_BYTES {
+                return Err(IngestError::field(
+                    format!("missing_markers[{i}]"),
+                    format!("a missing-value marker is 1 to {MAX_MARKER_BYTES} bytes, got {m:?}"),
+                ));
+            }
+            Ok(t.as_bytes().to_vec())
+        })
+        .collect()
 }

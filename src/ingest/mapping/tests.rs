@@ -169,14 +169,25 @@ fn unit_spellings_read_through_the_unit_table() {
 
 #[test]
 fn the_form_gets_the_api_units_by_quantity() {
-    // The form's list as it was before it was read from the unit table.
-    let want = serde_json::json!({
-        "power": ["kW", "W"],
-        "energy": ["kWh", "Wh", "MWh"],
-        "current": ["A"],
-        "pressure": ["bar_g", "psig", "kPa_g", "MPa_g", "bar_a", "psia", "kPa_a"],
-        "flow": ["m3_min", "m3_h", "l_s", "cfm", "scfm", "Nm3_h", "Nm3_min", "Sm3_h", "Sm3_min"],
-        "temperature": ["C", "F", "K"],
-    });
-    assert_eq!(units_by_quantity(), want);
+    // The API's codes (API.md, "Logger files") come first within each quantity, in its order.
+    let codes = |q: &str| -> Vec<String> {
+        units_by_quantity()[q]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|u| u["code"].as_str().unwrap().into())
+            .collect()
+    };
+    assert_eq!(codes("power")[..2], ["kW", "W"]);
+    assert_eq!(codes("energy")[..1], ["kWh"]);
+    assert_eq!(codes("current"), ["A"]);
+    assert_eq!(codes("pressure")[..7], ["bar_g", "psig", "kPa_g", "MPa_g", "bar_a", "psia", "kPa_a"]);
+    assert_eq!(
+        codes("flow")[..9],
+        ["m3_min", "m3_h", "l_s", "cfm", "scfm", "Nm3_h", "Nm3_min", "Sm3_h", "Sm3_min"]
+    );
+    assert_eq!(codes("temperature"), ["C", "F", "K"]);
+    // People read labels, not codes.
+    assert_eq!(units_by_quantity()["pressure"][0], serde_json::json!({"code": "bar_g", "label": "bar(g)"}));
+    assert_eq!(units_by_quantity()["flow"][5]["label"], "Nm³/h");
 }

@@ -6,7 +6,8 @@ each finding. Findings never reject a file (only unreadable input does, in `pars
 reported, and summarised by [`QualityReport::warnings`] into the API's `warnings` list.
 
 Per file: the median logging interval, gaps, duplicate and out-of-order timestamps, blank lines and
-daylight-saving cases with how each was resolved. Per channel: missing cells, gaps in that
+daylight-saving cases with how each was resolved. Per channel: missing cells (with the markers and
+text found where a number belongs: `#-1`, `1.#QNAN`, `OL`, `Err`...), gaps in that
 channel's readings, flat lines, values out of physical range, and counter resets/roll-overs.
 
 Rules (common practice in reviewing logger data; the thresholds are ours, documented here):
@@ -109,6 +110,14 @@ pub struct FlatLine {
     pub unit: String,
 }
 
+/// A cell read as missing because it held a marker or text instead of a number.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct MarkedCell {
+    pub line: u64,
+    /// The cell as written (trimmed, at most 40 characters).
+    pub text: String,
+}
+
 /// A reading outside its physical range.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct OutOfRange {
@@ -171,8 +180,14 @@ pub struct ChannelQuality {
     pub compressor: Option<String>,
     pub unit: String,
     pub readings: u64,
-    /// Lines with a missing-value cell.
+    /// Lines with a missing-value cell (empty, a marker such as `#N/A` or `1.#QNAN`, or text).
     pub missing: Findings<u64>,
+    /// The missing cells that held something, with their text: markers and text where a number
+    /// belongs (a meter's `#-1`, `OL`, `Err`...). Counted in `missing` too.
+    pub marked: Findings<MarkedCell>,
+    /// How many of `marked` were text that no marker names (a word, `12..5`): when they outnumber
+    /// the readings, the column is not numbers and the file is refused (a wrong decimal mark).
+    pub unreadable: u64,
     pub gaps: GapReport,
     pub flat_lines: Findings<FlatLine>,
     pub out_of_range: Findings<OutOfRange>,

@@ -5,11 +5,12 @@ daylight-saving cases, missing cells, flat lines, ranges and counter drops.
 
 use super::gaps::Intervals;
 use super::{
-    At, ChannelQuality, CounterDrop, DstFinding, FileQuality, Findings, FlatLine, GapReport, OutOfRange,
-    QualityReport, MAX_EXAMPLES,
+    At, ChannelQuality, CounterDrop, DstFinding, FileQuality, Findings, FlatLine, GapReport, MarkedCell,
+    OutOfRange, QualityReport, MAX_EXAMPLES,
 };
 use crate::core::units::{PA_PER_BAR, T_ZERO_C};
 use crate::ingest::mapping::{ChannelDef, Converter, Quantity};
+use crate::ingest::number::is_missing_marker;
 use crate::ingest::timestamp::{format_local_ms, format_utc_ms, DstCase, DstResolution};
 
 const FLAT_MIN_MS: i64 = 30 * 60 * 1000;
@@ -92,6 +93,8 @@ impl QualityTracker {
                         unit: c.unit.clone(),
                         readings: 0,
                         missing: Findings::default(),
+                        marked: Findings::default(),
+                        unreadable: 0,
                         gaps: GapReport::default(),
                         flat_lines: Findings::default(),
                         out_of_range: Findings::default(),
@@ -159,6 +162,28 @@ impl QualityTracker {
     /// A missing-value cell.
     pub fn missing(&mut self, channel: usize, line: u64) {
         self.channels[channel].q.missing.push(line);
+    }
+
+    /// A missing-value cell that held a marker or text (`known`: a marker, built in or the
+    /// mapping's; otherwise text no marker names). `raw` is the cell, trimmed.
+    pub fn marked(&mut self, channel: usize, line: u64, raw: &[u8], known: bool) {
+        let q = &mut self.channels[channel].q;
+        q.missing.push(line);
+        if !known {
+            q.unreadable += 1;
+        }
+        q.marked.push_with(|| {
+            let text = String::from_utf8_lossy(raw);
+            MarkedCell { line, text: text.chars().take(40).collect() }
+        });
+    }
+
+    /// The first channel whose unreadable text cells outnumber its readings: (label, count,
+    /// first example). Such a column is not numbers as mapped (a wrong decimal mark, a text column).
+    pub fn mostly_unreadable(&self) -> Option<(&str, u64, Option<&MarkedCell>)> {
+        self.channels.iter().map(|c| &c.q).find(|q| q.unreadable > 0 && q.unreadable > q.readings).map(|q| {
+            (q.label.as_str(), q.unreadable, q.marked.examples.iter().find(|m| !is_marker_text(&m.text)))
+        })
     }
 
     /// A reading in SI.
@@ -252,4 +277,8 @@ impl QualityTracker {
             .collect();
         QualityReport { file: self.file, channels }
     }
+}
+
+fn is_marker_text(t: &str) -> bool {
+    is_missing_marker(t.as_bytes())
 }

@@ -108,6 +108,21 @@ impl QualityReport {
                     plural(c.missing.count, "missing value", "missing values")
                 ));
             }
+            if let Some(m) = c.marked.examples.first() {
+                let mut kinds: Vec<&str> = Vec::new();
+                for e in &c.marked.examples {
+                    if !kinds.contains(&e.text.as_str()) && kinds.len() < 3 {
+                        kinds.push(&e.text);
+                    }
+                }
+                let shown: Vec<String> = kinds.iter().map(|k| format!("{k:?}")).collect();
+                w.push(format!(
+                    "{name}: {} read as missing ({}; first at line {})",
+                    plural(c.marked.count, "cell with a marker or text", "cells with a marker or text"),
+                    shown.join(", "),
+                    m.line
+                ));
+            }
             if c.gaps.count > 0 && c.gaps.count > f.gaps.count {
                 w.push(format!(
                     "{name}: {}{} in its readings; the longest is {}",

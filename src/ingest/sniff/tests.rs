@@ -1,3 +1,4 @@
+use super::time::FORMATS;
 use super::*;
 
 #[test]

@@ -1,0 +1,237 @@
+/*!
+Finding the timestamp: one column, a date and a time column in either order, an interval
+(`01.01.2021 00:00 - 01.01.2021 00:15`), or unix / spreadsheet numbers in a column whose name says
+time; and day-first or month-first decided from the whole sample.
+
+Rules:
+- The first column (left to right) that reads with a candidate format wins; then a date column
+  with its time column beside it (right of it or, as some level loggers write, left of it).
+- An interval cell is read by its **start** (the row's period begins there; a mean over 00:00 to
+  00:15 is stamped 00:00, as the analysis treats a reading as holding until the next one). The
+  mapping can say `"interval": "end"`.
+- Day-first or month-first (`03/02/2026`): a format that fails on some cell of the whole sample
+  (a field above 12 anywhere in the head) is out; when both read every cell, the reading whose
+  times run in order with steady steps wins (counting steps backwards or over 40 times the
+  typical step: month-first `1/5 .. 1/11` read day-first jumps a month at every midnight); when
+  both run the same, the sample cannot decide: day-first is proposed and flagged for the page to
+  ask.
+*/
+
+use crate::ingest::mapping::IntervalEnd;
+use crate::ingest::number::{parse_cell, Cell};
+use crate::ingest::parse::interval_end;
+use crate::ingest::timestamp::TimestampParser;
+
+/// The candidate timestamp formats, in order of preference.
+pub const FORMATS: &[&str] = &[
+    "%Y-%m-%d %H:%M:%S",
+    "%Y-%m-%d %H:%M:%S%.f",
+    "%Y-%m-%dT%H:%M:%S",
+    "rfc3339",
+    "%Y-%m-%d %H:%M",
+    "%Y/%m/%d %H:%M:%S",
+    "%Y/%m/%d %H:%M:%S%.f",
+    "%Y/%m/%d %H:%M",
+    "%Y-%m-%d %I:%M:%S %p",
+    "%d.%m.%Y %H:%M:%S",
+    "%d.%m.%Y %H:%M:%S%.f",
+    "%d.%m.%Y %H:%M",
+    "%d.%m.%y %H:%M:%S",
+    "%d.%m.%y %H:%M",
+    "%d/%m/%Y %H:%M:%S",
+    "%m/%d/%Y %H:%M:%S",
+    "%d/%m/%Y %H:%M:%S%.f",
+    "%m/%d/%Y %H:%M:%S%.f",
+    "%d/%m/%Y %H:%M",
+    "%m/%d/%Y %H:%M",
+    "%m/%d/%Y %I:%M:%S %p",
+    "%d/%m/%Y %I:%M:%S %p",
+    "%m/%d/%Y %I:%M %p",
+    "%d/%m/%Y %I:%M %p",
+    "%d/%m/%y %H:%M:%S",
+    "%m/%d/%y %H:%M:%S",
+    "%d/%m/%y %H:%M",
+    "%m/%d/%y %H:%M",
+    "%d-%m-%Y %H:%M:%S",
+    "%m-%d-%Y %H:%M:%S",
+    "%d-%m-%Y %H:%M",
+    "%m-%d-%Y %H:%M",
+    "%d-%b-%Y %H:%M:%S",
+    "%d-%b-%Y %H:%M",
+    "%d %b %Y %H:%M:%S",
+];
+
+/// At most this many cells are tried against every format; the survivors are checked on all.
+const PROBE: usize = 50;
+
+/// What was found.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Found {
+    pub column: usize,
+    pub time_column: Option<usize>,
+    pub format: String,
+    pub candidates: Vec<String>,
+    pub interval: Option<IntervalEnd>,
+    /// `day_first`, `month_first` for formats that have a twin, else `None`.
+    pub date_order: Option<&'static str>,
+    pub ambiguous: bool,
+}
+
+fn parser(format: &str) -> Option<TimestampParser> {
+    TimestampParser::new(format, "UTC", 0.0).ok()
+}
+
+fn reads_all(format: &str, cells: &[&str]) -> bool {
+    let Some(mut p) = parser(format) else { return false };
+    !cells.is_empty() && cells.iter().all(|c| p.parse(c.as_bytes()).is_some())
+}
+
+/// The twin of a day-first format (month-first) and back, if it has one.
+pub fn swap_day_month(f: &str) -> Option<String> {
+    for (a, b) in [("%d/%m/", "%m/%d/"), ("%m/%d/", "%d/%m/"), ("%d-%m-", "%m-%d-"), ("%m-%d-", "%d-%m-")] {
+        if f.starts_with(a) {
+            return Some(f.replacen(a, b, 1));
+        }
+    }
+    None
+}
+
+/// Steps backwards or longer than 40 typical steps, reading the cells with `format`.
+fn odd_steps(format: &str, cells: &[&str]) -> usize {
+    let Some(mut p) = parser(format) else { return usize::MAX };
+    let times: Vec<i64> = cells.iter().filter_map(|c| p.parse(c.as_bytes()).map(|t| t.0)).collect();
+    let mut steps: Vec<i64> = times.windows(2).map(|w| w[1] - w[0]).collect();
+    if steps.is_empty() {
+        return 0;
+    }
+    let mut pos: Vec<i64> = steps.iter().copied().filter(|s| *s > 0).collect();
+    pos.sort_unstable();
+    let typical = pos.get(pos.len() / 2).copied().unwrap_or(1);
+    steps.retain(|s| *s < 0 || *s > typical.saturating_mul(40));
+    steps.len()
+}
+
+/// The formats that read the probe, ordered, with day/month settled over all `cells`.
+fn settle(probe: &[&str], cells: &[&str]) -> Option<(Vec<String>, Option<&'static str>, bool)> {
+    let mut formats: Vec<String> =
+        FORMATS.iter().filter(|f| reads_all(f, probe)).map(|f| f.to_string()).collect();
+    if formats.is_empty() {
+        return None;
+    }
+    formats.retain(|f| reads_all(f, cells));
+    let first = formats.first()?.clone();
+    let Some(twin) = swap_day_month(&first) else {
+        return Some((formats, None, false));
+    };
+    let day_first = if first.starts_with("%d") { first.clone() } else { twin.clone() };
+    let month_first = if first.starts_with("%d") { twin.clone() } else { first.clone() };
+    let (chosen, ambiguous) = if !formats.contains(&twin) {
+        (first, false)
+    } else {
+        let (d, m) = (odd_steps(&day_first, cells), odd_steps(&month_first, cells));
+        match d.cmp(&m) {
+            std::cmp::Ordering::Less => (day_first.clone(), false),
+            std::cmp::Ordering::Greater => (month_first.clone(), false),
+            std::cmp::Ordering::Equal => (day_first.clone(), true),
+        }
+    };
+    formats.retain(|f| f != &chosen);
+    formats.insert(0, chosen.clone());
+    let order = if chosen == day_first { "day_first" } else { "month_first" };
+    Some((formats, Some(order), ambiguous))
+}
+
+/// Find the timestamp among `ncols` columns of the data rows.
+pub fn find(header: &[String], data: &[&Vec<String>], numeric: &[bool], decimal: u8) -> Option<Found> {
+    let ncols = header.len();
+    let cells_of = |i: usize| -> Vec<&str> {
+        data.iter().filter_map(|r| r.get(i)).map(|s| s.trim()).filter(|s| !s.is_empty()).collect()
+    };
+    let joined = |date: usize, time: usize| -> Vec<String> {
+        data.iter()
+            .filter_map(|r| {
+                let (d, t) = (r.get(date)?.trim(), r.get(time)?.trim());
+                (!d.is_empty() || !t.is_empty()).then(|| format!("{d} {t}"))
+            })
+            .collect()
+    };
+    let found =
+        |column, time_column, (candidates, date_order, ambiguous): (Vec<String>, _, bool), interval| {
+            Some(Found {
+                column,
+                time_column,
+                format: candidates[0].clone(),
+                candidates,
+                interval,
+                date_order,
+                ambiguous,
+            })
+        };
+    for i in 0..ncols {
+        let cells = cells_of(i);
+        if cells.is_empty() {
+            continue;
+        }
+        let probe = &cells[..cells.len().min(PROBE)];
+        if let Some(s) = settle(probe, &cells) {
+            return found(i, None, s, None);
+        }
+        // An interval: both ends read with one format; the start stamps the row.
+        let starts: Option<Vec<&str>> = cells
+            .iter()
+            .map(|c| interval_end(c.as_bytes(), IntervalEnd::Start).and_then(|b| std::str::from_utf8(b).ok()))
+            .collect();
+        let ends: Option<Vec<&str>> = cells
+            .iter()
+            .map(|c| interval_end(c.as_bytes(), IntervalEnd::End).and_then(|b| std::str::from_utf8(b).ok()))
+            .collect();
+        if let (Some(starts), Some(ends)) = (starts, ends) {
+            let probe = &starts[..starts.len().min(PROBE)];
+            if let Some(s) = settle(probe, &starts) {
+                if reads_all(&s.0[0], &ends) {
+                    return found(i, None, s, Some(IntervalEnd::Start));
+                }
+            }
+        }
+        // A date column with its time column on either side.
+        for other in [i + 1, i.wrapping_sub(1)] {
+            if other >= ncols {
+                continue;
+            }
+            let j = joined(i, other);
+            let refs: Vec<&str> = j.iter().map(String::as_str).collect();
+            let probe = &refs[..refs.len().min(PROBE)];
+            if let Some(s) = settle(probe, &refs) {
+                return found(i, Some(other), s, None);
+            }
+        }
+        if numeric[i] {
+            let name = header[i].to_lowercase();
+            let timey =
+                ["time", "zeit", "date", "datum", "epoch", "unix", "stamp"].iter().any(|w| name.contains(w));
+            let vals: Vec<f64> = cells
+                .iter()
+                .filter_map(|c| match parse_cell(c.as_bytes(), decimal) {
+                    Ok(Cell::Value(v)) => Some(v),
+                    _ => None,
+                })
+                .collect();
+            let within = |a: f64, b: f64| !vals.is_empty() && vals.iter().all(|v| (a..b).contains(v));
+            let format = if !timey {
+                None
+            } else if within(1e12, 4.2e12) {
+                Some("unix_ms")
+            } else if within(1e9, 4.2e9) {
+                Some("unix_s")
+            } else if within(20_000.0, 80_000.0) {
+                Some("excel_days")
+            } else {
+                None
+            };
+            if let Some(f) = format {
+                return found(i, None, (vec![f.to_string()], None, false), None);
+            }
+        }
+    }
+    None
+}
