@@ -181,14 +181,16 @@ impl App {
     }
 
     /// Min/mean/max buckets of one channel from the rollups, SI.
+    /// The site's air applied as the audit's site has it now (`core::basis`).
     pub async fn chart_series(
         &self,
-        channel: i64,
+        b: &AuditBundle,
+        channel: &read::ChannelInfo,
         from_ms: i64,
         to_ms: i64,
         points: usize,
     ) -> Result<Vec<ChartPoint>> {
-        Ok(read::chart_series(self.db(), channel, from_ms, to_ms, points).await?)
+        Ok(read::chart_series(self.db(), &b.audit.site.air(), channel, from_ms, to_ms, points).await?)
     }
 
     /// The mapping remembered for a file layout, as stored (JSON text).

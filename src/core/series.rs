@@ -163,6 +163,11 @@ impl Aligner {
         Self { acc: BinAccumulator::new(grid), max_gap_ms, prev: None }
     }
 
+    /// The longest step drawn as a line from here on (the next readings' own logging interval × 3).
+    pub fn set_max_gap(&mut self, max_gap_ms: i64) {
+        self.max_gap_ms = max_gap_ms;
+    }
+
     /// One reading, in time order. A reading earlier than the one before is ignored (the storage
     /// layer sorts; this keeps a stray one from producing a negative interval); one at the same time
     /// replaces it.
@@ -197,6 +202,11 @@ pub struct CounterAligner {
 impl CounterAligner {
     pub fn new(grid: Grid, max_gap_ms: i64) -> Self {
         Self { acc: BinAccumulator::new(grid), max_gap_ms, prev: None, breaks: 0 }
+    }
+
+    /// The longest step between counter readings that is spread as power (× 3 the interval).
+    pub fn set_max_gap(&mut self, max_gap_ms: i64) {
+        self.max_gap_ms = max_gap_ms;
     }
 
     /// One counter reading in J, in time order.

@@ -19,8 +19,9 @@ The streaming parse of a logger file: one pass, bounded memory, readings straigh
   with a clock stepping back is still reported over its full span).
 */
 
-use crate::core::units::SiteAir;
-use crate::ingest::mapping::{plan, Mapping, Plan, Quantity};
+use crate::core::basis::line_to_reference;
+use crate::core::units::{ReferenceConditions, SiteAir};
+use crate::ingest::mapping::{plan, Mapping, Plan, Quantity, UnitRule};
 use crate::ingest::number::{parse_cell, trim, Cell};
 use crate::ingest::quality::{QualityReport, QualityTracker};
 use crate::ingest::record::{Limits, RecordError, RecordReader};
@@ -31,7 +32,9 @@ use serde::Serialize;
 use std::io::{BufRead, BufReader};
 use std::rc::Rc;
 
-/// Receives every reading: channel index (into `Plan::channels`), UTC epoch ms, SI value.
+/// Receives every reading: channel index (into `Plan::channels`), UTC epoch ms, value in SI units
+/// on the channel's logged basis (`ChannelDef::basis`: gauge pressure stays gauge, a standard flow
+/// stays at its reference; nothing of the site applied).
 pub trait ReadingSink {
     fn reading(&mut self, channel: usize, t_ms: i64, value_si: f64) -> Result<(), IngestError>;
 }
@@ -169,7 +172,23 @@ fn run<R: BufRead>(
     sink: &mut dyn ReadingSink,
     progress: &mut dyn FnMut(u64),
 ) -> Result<ParseReport, IngestError> {
+    // Readings go to the sink as measured (`stored`); the quality report and the check below judge
+    // them with the site's air as it is now (`convs`).
     let convs = plan.converters(site);
+    let stored: Vec<_> = plan.rules.iter().map(|r| r.stored()).collect();
+    // A line flow against a pressure column: (pressure channel, its site converter, line K).
+    let line: Vec<Option<(usize, usize, f64)>> = plan
+        .line_pressure
+        .iter()
+        .zip(&plan.rules)
+        .map(|(p, r)| match (p, r) {
+            (Some(pc), UnitRule::LineFlow { temperature_k, .. }) => {
+                Some((plan.channels[*pc].column_index, *pc, *temperature_k))
+            }
+            _ => None,
+        })
+        .collect();
+    let normal_to_free_air = site.free_air_from_reference(1.0, ReferenceConditions::NORMAL_DIN_1343);
     let mut quality = QualityTracker::new(&plan.channels, &convs, site.atmosphere.0);
     let chans: Vec<(usize, bool)> =
         plan.channels.iter().map(|c| (c.column_index, c.quantity == Quantity::Pressure)).collect();
@@ -250,7 +269,27 @@ fn run<R: BufRead>(
             let raw = field(ci).unwrap_or_default();
             match parse_cell(raw, decimal) {
                 Ok(Cell::Value(v)) => {
-                    let si = convs[ch].apply(v);
+                    let (value, si) = match line[ch] {
+                        None => (stored[ch].apply(v), convs[ch].apply(v)),
+                        Some((pi, pc, t_line)) => {
+                            // The row's line pressure, absolute with the site's atmosphere.
+                            let raw_p = field(pi).unwrap_or_default();
+                            let p_abs = match parse_cell(raw_p, decimal) {
+                                Ok(Cell::Value(p)) => convs[pc].apply(p),
+                                _ => {
+                                    quality.missing(ch, line_no);
+                                    continue;
+                                }
+                            };
+                            let normal = line_to_reference(
+                                stored[ch].apply(v),
+                                p_abs,
+                                t_line,
+                                ReferenceConditions::NORMAL_DIN_1343,
+                            );
+                            (normal, normal * normal_to_free_air)
+                        }
+                    };
                     if is_pressure && si < 0.0 {
                         let c = &plan.channels[ch];
                         return Err(IngestError::at(
@@ -265,7 +304,7 @@ fn run<R: BufRead>(
                         ));
                     }
                     quality.reading(ch, line_no, t, si);
-                    sink.reading(ch, t, si).map_err(|mut e| {
+                    sink.reading(ch, t, value).map_err(|mut e| {
                         e.line = e.line.or(Some(line_no));
                         e
                     })?;
@@ -341,8 +380,11 @@ mod tests {
         let (r, got) = parse(file, &m, &sea_level()).unwrap();
         assert_eq!((r.rows, r.readings), (2, 4));
         assert_eq!(got[0], (0, ms("2026-03-02T05:00:00Z"), 21.5 + 273.15));
-        // 6.8 bar g + 101.325 kPa = 781,325 Pa abs (hand calculation).
-        assert!((got[1].2 - 781_325.0).abs() < 1e-6);
+        // Stored as logged, gauge: 6.8 bar(g) = 680,000 Pa(g) (NIST SP 811 B.8: bar = 1e5 Pa); the
+        // site's 101.325 kPa makes it 781,325 Pa abs when read.
+        assert!((got[1].2 - 680_000.0).abs() < 1e-6);
+        let (k, o) = crate::core::basis::Basis::Gauge.affine(&sea_level());
+        assert!((got[1].2 * k + o - 781_325.0).abs() < 1e-6);
         assert_eq!(got[2].2, 21.75 + 273.15);
         assert_eq!(r.median_interval_s, Some(10.0));
         assert_eq!(r.first_ms, Some(ms("2026-03-02T05:00:00Z")));
@@ -565,18 +607,29 @@ mod tests {
             b,
         ];
         let (_, got) = parse(file, &m, &site).unwrap();
-        assert_eq!(got[0].2, PressureAbs::from_psig(100.0, site.atmosphere).0);
+        // Stored as measured, nothing of the site applied; the analysis applies the site's air
+        // through each channel's basis (`core::basis`), which must give what the old at-import
+        // conversion gave.
+        let plan = plan(&m, &["Time".into(), "Header".into(), "Flow A".into(), "Flow B".into()]).unwrap();
+        let si = |i: usize| {
+            let (k, o) = plan.channels[i].basis.affine(&site);
+            got[i].2 * k + o
+        };
+        assert_eq!(got[0].2, 100.0 * PA_PER_PSI);
+        assert!((si(0) - PressureAbs::from_psig(100.0, site.atmosphere).0).abs() < 1e-9);
         // 689,475.73 + 89,875 Pa (hand calculation).
-        assert!((got[0].2 - 779_350.73).abs() < 0.01);
+        assert!((si(0) - 779_350.73).abs() < 0.01);
         // V_FAD = V_ref (p_ref/p_in)(T_in/T_ref) (dry air as an ideal gas); ASME standard air for
         // scfm: 14.696 psia, 68 F.
         let scfm = 100.0 * M3_PER_FT3 / 60.0 * (14.696 * PA_PER_PSI / 89_875.0);
-        assert!((got[1].2 - scfm).abs() < 1e-12);
+        assert!((si(1) - scfm).abs() < 1e-12);
         let nm3 = site.free_air_from_reference(600.0 / 3600.0, ReferenceConditions::NORMAL_DIN_1343);
-        assert!((got[2].2 - nm3).abs() < 1e-15);
+        assert!((si(2) - nm3).abs() < 1e-15);
+        // Stored as normal volume: 600 Nm3/h = 1/6 Nm3/s.
+        assert!((got[2].2 - 600.0 / 3600.0).abs() < 1e-15);
         // 600 Nm3/h -> 12.10 m3/min free air at 1000 m, 20 C (hand calculation:
         // 10 x 101.325/89.875 x 293.15/273.15).
-        assert!((got[2].2 * 60.0 - 12.0996).abs() < 1e-3);
+        assert!((si(2) * 60.0 - 12.0996).abs() < 1e-3);
     }
 
     #[test]

@@ -607,3 +607,69 @@ fn the_summary_is_worked_out_in_the_background_after_an_import_and_an_edit_of_th
     // It is the edited site's: Berlin's profile.
     assert_eq!(s.get(&format!("/api/v1/audits/{id}/summary")).json()["demand"]["timezone"], "Europe/Berlin");
 }
+
+/// Issue 14, readings that follow the site: uploaded at sea level, then the site is put at its
+/// real 1000 m. Free air from a normal-flow meter grows by the ratio of the two atmospheres (ISO
+/// 2533 standard atmosphere: 101.325 kPa at 0 m, 89.875 kPa at 1000 m; the server derives the
+/// atmosphere from the altitude with ASHRAE's fit to it, within 6e-6 of the table) and a logged
+/// gauge pressure reads the same gauge pressure.
+#[test]
+fn a_site_edit_after_an_import_re_derives_free_air_and_keeps_gauge_pressure() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let mut mapping = cycling_mapping();
+    mapping["columns"][2]["unit"] = json!("Nm3_min");
+    assert_eq!(s.upload(id, "a.csv", cycling_csv(2).as_bytes(), &mapping, "").status, 201);
+    let summary = || {
+        let r = s.get(&format!("/api/v1/audits/{id}/summary"));
+        assert_eq!(r.status, 200, "{}", r.text);
+        r.json()
+    };
+    let series = |quantity: &str| {
+        let ch = s.get(&format!("/api/v1/audits/{id}/channels")).json();
+        let c = ch["channels"].as_array().unwrap().iter().find(|c| c["quantity"] == quantity).unwrap()["id"]
+            .clone();
+        let r = s.get(&format!("/api/v1/audits/{id}/series?channel={c}&points=10"));
+        assert_eq!(r.status, 200, "{}", r.text);
+        let m = r.json()["mean"].as_array().unwrap().iter().map(|v| v.as_f64().unwrap()).collect::<Vec<_>>();
+        m.iter().sum::<f64>() / m.len() as f64
+    };
+    let before = summary();
+    let (p_series0, q_series0) = (series("pressure"), series("flow"));
+    let r = s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"altitude_m": 1000}}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let after = summary();
+    let flow = |v: &Value| v["system"]["mean_flow_m3_min"].as_f64().unwrap();
+    let gauge = |v: &Value| v["pressure"]["mean_bar_g"].as_f64().unwrap();
+    let ratio = flow(&after) / flow(&before);
+    assert!((ratio - 101.325 / 89.875).abs() < 1e-5, "free air {} -> {} m3/min", flow(&before), flow(&after));
+    // Frames hold f32: 1e-5 bar is 1 Pa in 800 kPa.
+    assert!((gauge(&after) - gauge(&before)).abs() < 1e-5, "{} -> {} bar(g)", gauge(&before), gauge(&after));
+    assert!((gauge(&before) - 6.96).abs() < 0.01, "logged 7.2 bar(g) 4 of 20 readings, else 6.9");
+    // The chart series (rollups, SI: Pa absolute, m³/s free air) follow the same edit.
+    let (p_series1, q_series1) = (series("pressure"), series("flow"));
+    assert!(
+        ((p_series0 - p_series1) - (101_325.0 - 89_875.0)).abs() < 1.0,
+        "{p_series0} -> {p_series1} Pa abs"
+    );
+    assert!((q_series1 / q_series0 - 101.325 / 89.875).abs() < 1e-5);
+}
+
+/// An actual-volume flow without its line conditions is refused naming the column, not read as
+/// free air (issue 14).
+#[test]
+fn an_actual_volume_flow_without_line_conditions_is_refused_naming_its_column() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let mut mapping = cycling_mapping();
+    mapping["columns"][2]["unit"] = json!("am3_min");
+    let r = s.upload(id, "a.csv", cycling_csv(1).as_bytes(), &mapping, "");
+    assert_eq!(r.status, 422, "{}", r.text);
+    let e = &r.json()["error"];
+    assert_eq!(e["column"], "flow m3/min", "{e}");
+    assert_eq!(e["field"], "columns[2].line", "{e}");
+    assert!(e["message"].as_str().unwrap().contains("line conditions"), "{e}");
+    // With them it imports.
+    mapping["columns"][2]["line"] = json!({"pressure_bar_g": 7, "temperature_c": 30});
+    assert_eq!(s.upload(id, "a.csv", cycling_csv(1).as_bytes(), &mapping, "").status, 201);
+}

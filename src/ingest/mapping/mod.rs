@@ -27,6 +27,7 @@ mod tests;
 
 pub use rules::{Converter, UnitRule};
 
+use crate::core::basis::Basis;
 use crate::core::unit_table::{self, LoggedQuantity};
 use crate::core::units::{ReferenceConditions, SiteAir};
 use crate::ingest::text::Encoding;
@@ -98,6 +99,24 @@ pub struct ColumnMap {
     pub unloaded_below_a: Option<f64>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub phases: Option<u8>,
+    /// The line conditions of an actual-volume flow (`acfm`, `am3_min`, `am3_h`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub line: Option<LineConditions>,
+}
+
+/// Where an actual-volume flow meter sits: its line pressure (a fixed value, gauge or absolute, or
+/// a mapped pressure column of the same file) and its line temperature, °C.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, Default)]
+#[serde(deny_unknown_fields)]
+pub struct LineConditions {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub pressure_bar_g: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub pressure_bar_a: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub pressure_column: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub temperature_c: Option<f64>,
 }
 
 impl ColumnMap {
@@ -114,6 +133,7 @@ impl ColumnMap {
             unloaded_power_factor: None,
             unloaded_below_a: None,
             phases: None,
+            line: None,
         }
     }
 }
@@ -153,6 +173,8 @@ pub struct ChannelDef {
     pub unit: String,
     /// 0-based field index in the row.
     pub column_index: usize,
+    /// The basis its readings are stored on (`core::basis`).
+    pub basis: Basis,
 }
 
 /// A mapping resolved against a header.
@@ -161,6 +183,9 @@ pub struct Plan {
     pub channels: Vec<ChannelDef>,
     /// Conversion rule per channel (same order as `channels`).
     pub rules: Vec<UnitRule>,
+    /// Per channel: the channel whose readings are its line pressure (a line flow read against a
+    /// mapped pressure column).
+    pub line_pressure: Vec<Option<usize>>,
     pub delimiter: u8,
     pub decimal: u8,
     pub header_line: u32,
@@ -226,16 +251,41 @@ pub fn channel_defs(mapping: &Mapping) -> Result<Vec<ChannelDef>, IngestError> {
         .iter()
         .enumerate()
         .map(|(i, c)| {
-            let (quantity, _) = column_rule(c, i)?;
+            let (quantity, rule) = column_rule(c, i)?;
+            line_pressure_channel(mapping, c, i)?;
             Ok(ChannelDef {
                 quantity,
                 compressor: c.compressor.as_ref().map(|s| s.trim().to_string()).filter(|s| !s.is_empty()),
                 label: c.column.trim().to_string(),
                 unit: c.unit.clone(),
                 column_index: i,
+                basis: rule.basis(),
             })
         })
         .collect()
+}
+
+/// For a line flow read against `line.pressure_column`: the index (in the mapping's columns, the
+/// order of the channels) of that column, which must be a mapped pressure column.
+fn line_pressure_channel(mapping: &Mapping, c: &ColumnMap, i: usize) -> Result<Option<usize>, IngestError> {
+    let Some(name) = c.line.as_ref().and_then(|l| l.pressure_column.as_deref()) else { return Ok(None) };
+    let name = name.trim();
+    mapping
+        .columns
+        .iter()
+        .position(|p| p.column.trim() == name && p.quantity.trim().eq_ignore_ascii_case("pressure"))
+        .map(Some)
+        .ok_or_else(|| {
+            IngestError::field(
+                format!("columns[{i}].line.pressure_column"),
+                format!(
+                    "line pressure column {name:?} of flow column {:?} is not a mapped pressure column \
+                     (map it with quantity \"pressure\" and its unit)",
+                    c.column
+                ),
+            )
+            .with_column(c.column.clone())
+        })
 }
 
 /// The unit codes the mapping form offers for each quantity (API.md spellings), from
@@ -285,17 +335,20 @@ pub fn plan(mapping: &Mapping, header: &[String]) -> Result<Plan, IngestError> {
     let timestamps = TimestampParser::new(&ts.format, &ts.timezone, mapping.clock_offset_s)?;
     let mut channels = Vec::with_capacity(mapping.columns.len());
     let mut rules = Vec::with_capacity(mapping.columns.len());
+    let mut line_pressure = Vec::with_capacity(mapping.columns.len());
     for (i, c) in mapping.columns.iter().enumerate() {
         let column_index = find_column(header, &c.column).map_err(|m| {
             IngestError::field(format!("columns[{i}].column"), m).with_column(c.column.clone())
         })?;
         let (quantity, rule) = column_rule(c, i)?;
+        line_pressure.push(line_pressure_channel(mapping, c, i)?);
         channels.push(ChannelDef {
             quantity,
             compressor: c.compressor.as_ref().map(|s| s.trim().to_string()),
             label: header[column_index].trim().to_string(),
             unit: c.unit.clone(),
             column_index,
+            basis: rule.basis(),
         });
         rules.push(rule);
     }
@@ -305,6 +358,7 @@ pub fn plan(mapping: &Mapping, header: &[String]) -> Result<Plan, IngestError> {
     Ok(Plan {
         channels,
         rules,
+        line_pressure,
         delimiter,
         decimal,
         header_line: mapping.header_line,

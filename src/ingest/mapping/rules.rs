@@ -4,8 +4,9 @@ the column's other fields (compressor, reference conditions, volts and power fac
 */
 
 use super::{ColumnMap, Quantity};
+use crate::core::basis::{Basis, LinePressure};
 use crate::core::unit_table::{self, LoggedQuantity, ToSi};
-use crate::core::units::{ReferenceConditions, SiteAir, T_ZERO_C};
+use crate::core::units::{ReferenceConditions, SiteAir, Temperature, PA_PER_BAR, T_ZERO_C};
 use crate::ingest::IngestError;
 
 /// A unit's conversion rule, independent of the site.
@@ -17,6 +18,9 @@ pub enum UnitRule {
     Pressure { pa_per_unit: f64, gauge: bool },
     /// Flow: m³/s per unit of volume flow, at the reference conditions if any (else free air).
     Flow { m3_s_per_unit: f64, reference: Option<ReferenceConditions> },
+    /// Actual volume flow at line conditions: m³/s per unit, at a fixed line pressure (`None`: the
+    /// row's value of a mapped pressure column) and line temperature, K.
+    LineFlow { m3_s_per_unit: f64, pressure: Option<LinePressure>, temperature_k: f64 },
     /// Temperature: K = value * scale + offset.
     Temperature { scale: f64, offset: f64 },
     /// Current to power: W = I * k, with k_unloaded below the threshold.
@@ -55,9 +59,49 @@ impl Converter {
 }
 
 impl UnitRule {
-    /// The converter for a site.
+    /// The basis the readings are stored on (`core::basis`): what the meter measured, nothing of the
+    /// site applied. A line flow read against a pressure column is stored as normal volume (DIN
+    /// 1343), made of each row's line pressure on the way in.
+    pub fn basis(&self) -> Basis {
+        match *self {
+            Self::Scale(_) | Self::Temperature { .. } | Self::Current { .. } => Basis::Site,
+            Self::Pressure { gauge: true, .. } => Basis::Gauge,
+            Self::Pressure { gauge: false, .. } => Basis::Site,
+            Self::Flow { reference: Some(reference), .. } => Basis::Reference { reference },
+            Self::Flow { reference: None, .. } => Basis::FreeAir,
+            Self::LineFlow { pressure: Some(pressure), temperature_k, .. } => {
+                Basis::Line { pressure, temperature_k }
+            }
+            Self::LineFlow { pressure: None, .. } => {
+                Basis::Reference { reference: ReferenceConditions::NORMAL_DIN_1343 }
+            }
+        }
+    }
+
+    /// The converter to the stored form: SI units on the logged basis, nothing of the site applied.
+    pub fn stored(&self) -> Converter {
+        match *self {
+            Self::Scale(scale) => Converter::Linear { scale, offset: 0.0 },
+            Self::Pressure { pa_per_unit, .. } => Converter::Linear { scale: pa_per_unit, offset: 0.0 },
+            Self::Flow { m3_s_per_unit, .. } | Self::LineFlow { m3_s_per_unit, .. } => {
+                Converter::Linear { scale: m3_s_per_unit, offset: 0.0 }
+            }
+            Self::Temperature { scale, offset } => Converter::Linear { scale, offset },
+            Self::Current { w_per_a, w_per_a_unloaded, unloaded_below_a } => {
+                Converter::Current { w_per_a, w_per_a_unloaded, unloaded_below_a }
+            }
+        }
+    }
+
+    /// The converter to the analysis' SI with `site` applied (Pa absolute, m³/s free air): what the
+    /// data-quality report judges and quotes. A line flow read against a pressure column gets its
+    /// row's factor apart (`parse`).
     pub fn converter(&self, site: &SiteAir) -> Converter {
         match *self {
+            Self::LineFlow { m3_s_per_unit, .. } => {
+                let (scale, _) = self.basis().affine(site);
+                Converter::Linear { scale: m3_s_per_unit * scale, offset: 0.0 }
+            }
             Self::Scale(scale) => Converter::Linear { scale, offset: 0.0 },
             Self::Pressure { pa_per_unit, gauge } => {
                 Converter::Linear { scale: pa_per_unit, offset: if gauge { site.atmosphere.0 } else { 0.0 } }
@@ -116,6 +160,9 @@ pub(super) fn column_rule(c: &ColumnMap, i: usize) -> Result<(Quantity, UnitRule
         )
         .with_column(c.column.clone()));
     }
+    if c.line.is_some() && quantity != "flow" {
+        return Err(IngestError::field(f("line"), "line conditions apply to flow only"));
+    }
     if c.reference.is_some() && quantity != "flow" {
         return Err(IngestError::field(f("reference"), "reference conditions apply to flow only"));
     }
@@ -140,7 +187,30 @@ pub(super) fn column_rule(c: &ColumnMap, i: usize) -> Result<(Quantity, UnitRule
             };
             (Quantity::Pressure, UnitRule::Pressure { pa_per_unit, gauge })
         }
+        "flow" if matches!(table(LoggedQuantity::Flow)?, ToSi::LineFlow { .. }) => {
+            let ToSi::LineFlow { m3_s_per_unit } = table(LoggedQuantity::Flow)? else {
+                unreachable!("matched as a line flow above")
+            };
+            if c.reference.is_some() {
+                return Err(IngestError::field(
+                    f("reference"),
+                    format!("flow unit {:?} is actual volume at line conditions and takes `line`, not a reference", c.unit),
+                ));
+            }
+            let (pressure, temperature_k) = line_conditions(c, i)?;
+            (Quantity::Flow, UnitRule::LineFlow { m3_s_per_unit, pressure, temperature_k })
+        }
         "flow" => {
+            if c.line.is_some() {
+                return Err(IngestError::field(
+                    f("line"),
+                    format!(
+                        "flow unit {:?} is not an actual volume at line conditions; `line` applies to \
+                         acfm, am3_min and am3_h",
+                        c.unit
+                    ),
+                ));
+            }
             let ToSi::Flow { m3_s_per_unit, reference: default_ref } = table(LoggedQuantity::Flow)? else {
                 unreachable!("the unit table lists flow units with flow factors")
             };
@@ -240,4 +310,57 @@ pub(super) fn column_rule(c: &ColumnMap, i: usize) -> Result<(Quantity, UnitRule
             ))
         }
     })
+}
+
+/// The line conditions of an actual-volume flow column: a fixed pressure (gauge or absolute) or a
+/// mapped pressure column (`None`, resolved by `plan`), and the temperature in K. Refused, naming the
+/// column, when either is missing: an actual volume read as free air would be several times too small.
+fn line_conditions(c: &ColumnMap, i: usize) -> Result<(Option<LinePressure>, f64), IngestError> {
+    let f = |name: &str| format!("columns[{i}].line{name}");
+    let need = |what: &str| {
+        IngestError::field(
+            f(""),
+            format!(
+                "flow unit {:?} of column {:?} is actual volume at line conditions and needs the line's \
+                 {what}: add \"line\": {{\"pressure_bar_g\": 7, \"temperature_c\": 30}} or \
+                 {{\"pressure_column\": \"<a mapped pressure column>\", \"temperature_c\": 30}}",
+                c.unit, c.column
+            ),
+        )
+        .with_column(c.column.clone())
+    };
+    let Some(line) = &c.line else { return Err(need("pressure and temperature")) };
+    let pressure = match (line.pressure_bar_g, line.pressure_bar_a, &line.pressure_column) {
+        (Some(g), None, None) if g.is_finite() && (-1.0..=1000.0).contains(&g) => {
+            Some(LinePressure::GaugePa(g * PA_PER_BAR))
+        }
+        (None, Some(a), None) if a.is_finite() && a > 0.0 && a <= 1000.0 => {
+            Some(LinePressure::AbsolutePa(a * PA_PER_BAR))
+        }
+        (None, None, Some(col)) if !col.trim().is_empty() => None,
+        (None, None, None) => return Err(need("pressure")),
+        (Some(v), None, None) | (None, Some(v), None) => {
+            return Err(IngestError::field(f(".pressure"), format!("line pressure {v} bar is out of range"))
+                .with_column(c.column.clone()))
+        }
+        _ => {
+            return Err(IngestError::field(
+                f(""),
+                "give one of pressure_bar_g, pressure_bar_a and pressure_column",
+            )
+            .with_column(c.column.clone()))
+        }
+    };
+    let t = match line.temperature_c {
+        Some(t) if t.is_finite() && t > -100.0 && t < 500.0 => Temperature::from_c(t).0,
+        Some(t) => {
+            return Err(IngestError::field(
+                f(".temperature_c"),
+                format!("line temperature {t} c is out of range"),
+            )
+            .with_column(c.column.clone()))
+        }
+        None => return Err(need("temperature")),
+    };
+    Ok((pressure, t))
 }
