@@ -10,8 +10,11 @@ use super::chunk;
 use super::rollup::{decode_day, Acc, DAY_MS, HOUR_MS, MINUTE_MS};
 use super::StoreError;
 use crate::core::basis::{Basis, StoredForm};
-use crate::core::series::{Aligner, CounterAligner, Frame, FrameColumn, Grid, Signal};
+use crate::core::series::{Aligner, CounterAligner, Frame, FrameColumn, Grid, Partial, Signal};
 use crate::core::units::SiteAir;
+
+/// A channel on the grid: bin means and the partly covered bins (`core::series::FrameColumn`).
+type Aligned = (Vec<f32>, Vec<Partial>);
 
 /// The most bins an analysis frame has; longer logs get a coarser step (documented in DEVELOPERS.md).
 pub const MAX_FRAME_BINS: usize = 1_200_000;
@@ -185,10 +188,10 @@ pub async fn load_frame(
     // Channels are decoded and aligned side by side, as many at a time as the machine has cores
     // (each holds its chunk blobs and a bin accumulator of 12 bytes a bin while it runs).
     let parallel = std::thread::available_parallelism().map_or(1, |n| n.get()).clamp(1, 4);
-    let mut running: std::collections::VecDeque<tokio::task::JoinHandle<Result<Vec<f32>, StoreError>>> =
+    let mut running: std::collections::VecDeque<tokio::task::JoinHandle<Result<Aligned, StoreError>>> =
         Default::default();
-    let mut aligned: Vec<Vec<f32>> = Vec::with_capacity(chans.len());
-    let joined = |r: Result<Result<Vec<f32>, StoreError>, tokio::task::JoinError>| {
+    let mut aligned: Vec<Aligned> = Vec::with_capacity(chans.len());
+    let joined = |r: Result<Result<Aligned, StoreError>, tokio::task::JoinError>| {
         r.map_err(|e| StoreError::Damaged { path: "frame".into(), detail: e.to_string() })?
     };
     for c in chans {
@@ -205,14 +208,14 @@ pub async fn load_frame(
             .collect();
         let g = grid;
         let energy = c.quantity == "energy";
-        running.push_back(tokio::task::spawn_blocking(move || -> Result<Vec<f32>, StoreError> {
+        running.push_back(tokio::task::spawn_blocking(move || -> Result<Aligned, StoreError> {
             if energy {
                 let mut a = CounterAligner::new(g, 0);
                 for ((k, o), gap, b) in &blobs {
                     a.set_max_gap(*gap);
                     chunk::decode(b, |t, v| a.push(t, v * k + o))?;
                 }
-                Ok(a.finish())
+                Ok(a.finish_with_partial())
             } else {
                 let mut a = Aligner::new(g, 0);
                 for ((k, o), gap, b) in &blobs {
@@ -223,7 +226,7 @@ pub async fn load_frame(
                         chunk::decode(b, |t, v| a.push(t, v * k + o))?;
                     }
                 }
-                Ok(a.finish())
+                Ok(a.finish_with_partial())
             }
         }));
     }
@@ -231,7 +234,7 @@ pub async fn load_frame(
         aligned.push(joined(h.await)?);
     }
     let mut columns = Vec::with_capacity(chans.len());
-    for (c, values) in chans.iter().zip(aligned) {
+    for (c, (values, partial)) in chans.iter().zip(aligned) {
         let signal = match c.quantity.as_str() {
             "power" | "energy" => Signal::Power,
             "pressure" => Signal::Pressure,
@@ -243,6 +246,7 @@ pub async fn load_frame(
             compressor: c.compressor_id.and_then(|id| compressor_ids.iter().position(|&x| x == id)),
             label: c.name(),
             values,
+            partial,
         });
     }
     Ok(Some(Frame { grid, columns }))

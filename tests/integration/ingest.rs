@@ -673,3 +673,37 @@ fn an_actual_volume_flow_without_line_conditions_is_refused_naming_its_column() 
     mapping["columns"][2]["line"] = json!({"pressure_bar_g": 7, "temperature_c": 30});
     assert_eq!(s.upload(id, "a.csv", cycling_csv(1).as_bytes(), &mapping, "").status, 201);
 }
+
+/// Issue 14: a day-shift log with night gaps. The logging interval is the typical step (5 min),
+/// not the span over the readings (which the nights stretch to 11.6 min), and the bins at each
+/// day's ends count for the time they were logged.
+///
+/// Exact mean by hand: each day the power rises in a straight line from 10 kW to 48.4 kW in 96 steps
+/// of 5 min (0.4 kW a step); read as instantaneous values joined by straight lines (the trapezoid
+/// rule, exact for a line), a day's time-weighted mean is (10 + 48.4) / 2 = 29.2 kW, and the three
+/// days are equally long, so the log's time-weighted mean is 29.2 kW.
+#[test]
+fn night_gaps_neither_stretch_the_interval_nor_bias_the_mean_power() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let mut csv = String::from("time,C1 kW\n");
+    let first = 1_777_881_600 + 90; // 2026-05-04T08:01:30Z: the day's ends fall inside 5-min bins
+    for day in 0..3 {
+        for k in 0..=96i64 {
+            let t = first + day * 86_400 + k * 300;
+            csv.push_str(&format!("{},{:.1}\n", jiff_like_rfc3339(t), 10.0 + 0.4 * k as f64));
+        }
+    }
+    let mapping = json!({"timestamp": {"column": "time", "format": "rfc3339"},
+        "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"}]});
+    let r = s.upload(id, "days.csv", csv.as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    assert_eq!(r.json()["interval_s"], 300.0);
+    let j = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(j["period"]["step_s"], 300.0, "bins of the typical interval: {}", j["period"]);
+    let mean = j["system"]["mean_power_kw"].as_f64().unwrap();
+    assert!((mean / 29.2 - 1.0).abs() < 1e-3, "mean power {mean} kW, exact 29.2 kW");
+    // Energy: 29.2 kW over 3 × 8 h logged = 700.8 kWh.
+    let e = j["system"]["energy_kwh"].as_f64().unwrap();
+    assert!((e / 700.8 - 1.0).abs() < 1e-3, "energy {e} kWh, exact 700.8 kWh");
+}
