@@ -43,9 +43,18 @@ impl AuditBundle {
     pub fn accuracy(&self) -> Accuracy {
         let mut a = Accuracy::default();
         for c in &self.channels {
-            if c.quantity == "power" && c.unit.eq_ignore_ascii_case("a") {
-                if let Some(t) = &c.compressor_tag {
-                    a.current_derived_power.push(t.clone());
+            let Some(t) = &c.compressor_tag else { continue };
+            if c.quantity != "power" {
+                continue;
+            }
+            let pfs: Vec<_> = c.parts.iter().filter_map(|p| p.form.current).collect();
+            if c.unit.eq_ignore_ascii_case("a") || !pfs.is_empty() {
+                a.current_derived_power.push(t.clone());
+            }
+            for pf in pfs {
+                a.power_factor_rel.push((t.clone(), pf.pf_rel));
+                if pf.single && !a.single_power_factor.contains(t) {
+                    a.single_power_factor.push(t.clone());
                 }
             }
         }

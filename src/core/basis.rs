@@ -82,6 +82,16 @@ pub fn line_to_reference(q_line: f64, p_line_abs_pa: f64, temperature_k: f64, r:
         * (Temperature::from_c(r.temperature_c).0 / temperature_k)
 }
 
+/// Power made from logged current: how its power factor was known, for the uncertainty of the
+/// compressor's power (`analysis::uncertainty`) and the summary's warnings.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct CurrentPf {
+    /// Relative standard uncertainty of the power factor used (a fraction).
+    pub pf_rel: f64,
+    /// One power factor for loaded and unloaded running (no unloaded one, no spot reading).
+    pub single: bool,
+}
+
 /// How one upload's readings of one channel are stored: the basis, and the affine step already
 /// applied at import (`1`, `0` for readings stored as measured; the import site's step for readings
 /// stored before the basis was kept).
@@ -93,6 +103,9 @@ pub struct StoredForm {
     pub applied_scale: f64,
     #[serde(default, skip_serializing_if = "is_zero")]
     pub applied_offset: f64,
+    /// Power made from current: how its power factor was known.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub current: Option<CurrentPf>,
 }
 
 fn one() -> f64 {
@@ -108,13 +121,13 @@ fn is_zero(x: &f64) -> bool {
 impl StoredForm {
     /// Readings stored as measured.
     pub fn measured(basis: Basis) -> Self {
-        Self { basis, applied_scale: 1.0, applied_offset: 0.0 }
+        Self { basis, applied_scale: 1.0, applied_offset: 0.0, current: None }
     }
 
     /// Readings stored with `site` already applied (written before the basis was kept).
     pub fn applied(basis: Basis, site: &SiteAir) -> Self {
         let (applied_scale, applied_offset) = basis.affine(site);
-        Self { basis, applied_scale, applied_offset }
+        Self { basis, applied_scale, applied_offset, current: None }
     }
 
     /// The affine step stored value → analysis SI with the site as it is now. Exactly `(1, 0)` when

@@ -707,3 +707,52 @@ fn night_gaps_neither_stretch_the_interval_nor_bias_the_mean_power() {
     let e = j["system"]["energy_kwh"].as_f64().unwrap();
     assert!((e / 700.8 - 1.0).abs() < 1e-3, "energy {e} kWh, exact 700.8 kWh");
 }
+
+/// Issue 14, current to power: a compressor logged in amps. With one power factor for both states
+/// the summary warns of it and the energy's range is at least ±15 % of the power factor with ±2 %
+/// of the current logger in quadrature; calibrated from a spot kW reading per state it narrows to
+/// the spot readings' 2 % with the current's 2 %. Relative uncertainties of a product (P = √3 V I PF)
+/// add in quadrature (JCGM 100:2008, the GUM, 5.1.6).
+#[test]
+fn a_power_factor_uncertainty_reaches_the_energy_range_and_one_power_factor_is_flagged() {
+    let s = Server::start();
+    let mut csv = String::from("time,C1 A\n");
+    for i in 0..720i64 {
+        let amps = if i % 20 < 4 { 95.0 } else { 35.0 };
+        csv.push_str(&format!("{},{amps}\n", jiff_like_rfc3339(1_777_881_600 + i * 10)));
+    }
+    let run = |column: Value| {
+        let id = s.audit_with_compressor("C1");
+        let mapping = json!({"timestamp": {"column": "time", "format": "rfc3339"}, "columns": [column]});
+        let r = s.upload(id, "amps.csv", csv.as_bytes(), &mapping, "");
+        assert_eq!(r.status, 201, "{}", r.text);
+        let j = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+        let c = j["compressors"][0].clone();
+        let (e, lo, hi) = (
+            c["energy_kwh"].as_f64().unwrap(),
+            c["energy_kwh_low"].as_f64().unwrap(),
+            c["energy_kwh_high"].as_f64().unwrap(),
+        );
+        (e, (hi - e) / e, (e - lo) / e, j["warnings"].clone())
+    };
+    let single = json!({"column": "C1 A", "quantity": "current", "unit": "A", "compressor": "C1",
+                        "volts": 400, "power_factor": 0.85});
+    let (_, up, down, warnings) = run(single);
+    // By hand: sqrt(0.02² + 0.15²) = 0.151327.
+    assert!((up - 0.151_327).abs() < 1e-5 && (down - 0.151_327).abs() < 1e-5, "±{up} / {down}");
+    assert!(
+        warnings[0].as_str().unwrap().starts_with("C1: power from current with one power factor"),
+        "{warnings}"
+    );
+    // Spot readings: 55 kW at 95 A loaded, 14 kW at 35 A unloaded, 400 V three-phase. By hand,
+    // PF = P / (√3 V I): 55,000 / (1.7320508 × 400 × 95) = 0.835639 and 14,000 / (1.7320508 × 400 ×
+    // 35) = 0.577350, so the power is the spot power wherever the current is the spot current.
+    let spots = json!({"column": "C1 A", "quantity": "current", "unit": "A", "compressor": "C1",
+                       "volts": 400, "loaded_spot": {"a": 95, "kw": 55},
+                       "unloaded_spot": {"a": 35, "kw": 14}, "unloaded_below_a": 60});
+    let (e, up, _, warnings) = run(spots);
+    assert!((up - 0.028_284).abs() < 1e-5, "±{up}: sqrt(0.02² + 0.02²) = 0.028284");
+    assert_eq!(warnings, json!([]));
+    // 4 of 20 readings at 55 kW, 16 at 14 kW: a mean of 22.2 kW over 2 h less one 10 s step.
+    assert!((e - 22.2 * 7190.0 / 3600.0).abs() < 0.05, "energy {e} kWh");
+}

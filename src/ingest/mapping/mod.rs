@@ -27,7 +27,7 @@ mod tests;
 
 pub use rules::{Converter, UnitRule};
 
-use crate::core::basis::Basis;
+use crate::core::basis::{Basis, CurrentPf};
 use crate::core::unit_table::{self, LoggedQuantity};
 use crate::core::units::{ReferenceConditions, SiteAir};
 use crate::ingest::text::Encoding;
@@ -99,9 +99,26 @@ pub struct ColumnMap {
     pub unloaded_below_a: Option<f64>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub phases: Option<u8>,
+    /// ± the power factor(s), absolute (a standard uncertainty: 0.05 for ±0.05).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub power_factor_uncertainty: Option<f64>,
+    /// A spot reading of current and true power while loaded, to calibrate the power factor from.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub loaded_spot: Option<SpotReading>,
+    /// The same while running unloaded (needs `unloaded_below_a`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub unloaded_spot: Option<SpotReading>,
     /// The line conditions of an actual-volume flow (`acfm`, `am3_min`, `am3_h`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub line: Option<LineConditions>,
+}
+
+/// A spot reading taken beside the current logger with a true-power meter: amps and kW.
+#[derive(Debug, Clone, Copy, Serialize, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct SpotReading {
+    pub a: f64,
+    pub kw: f64,
 }
 
 /// Where an actual-volume flow meter sits: its line pressure (a fixed value, gauge or absolute, or
@@ -133,6 +150,9 @@ impl ColumnMap {
             unloaded_power_factor: None,
             unloaded_below_a: None,
             phases: None,
+            power_factor_uncertainty: None,
+            loaded_spot: None,
+            unloaded_spot: None,
             line: None,
         }
     }
@@ -175,6 +195,8 @@ pub struct ChannelDef {
     pub column_index: usize,
     /// The basis its readings are stored on (`core::basis`).
     pub basis: Basis,
+    /// Power made from current: how its power factor was known.
+    pub current: Option<CurrentPf>,
 }
 
 /// A mapping resolved against a header.
@@ -260,6 +282,7 @@ pub fn channel_defs(mapping: &Mapping) -> Result<Vec<ChannelDef>, IngestError> {
                 unit: c.unit.clone(),
                 column_index: i,
                 basis: rule.basis(),
+                current: rule.current_pf(),
             })
         })
         .collect()
@@ -349,6 +372,7 @@ pub fn plan(mapping: &Mapping, header: &[String]) -> Result<Plan, IngestError> {
             unit: c.unit.clone(),
             column_index,
             basis: rule.basis(),
+            current: rule.current_pf(),
         });
         rules.push(rule);
     }

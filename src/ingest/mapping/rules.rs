@@ -4,7 +4,7 @@ the column's other fields (compressor, reference conditions, volts and power fac
 */
 
 use super::{ColumnMap, Quantity};
-use crate::core::basis::{Basis, LinePressure};
+use crate::core::basis::{Basis, CurrentPf, LinePressure};
 use crate::core::unit_table::{self, LoggedQuantity, ToSi};
 use crate::core::units::{ReferenceConditions, SiteAir, Temperature, PA_PER_BAR, T_ZERO_C};
 use crate::ingest::IngestError;
@@ -23,8 +23,9 @@ pub enum UnitRule {
     LineFlow { m3_s_per_unit: f64, pressure: Option<LinePressure>, temperature_k: f64 },
     /// Temperature: K = value * scale + offset.
     Temperature { scale: f64, offset: f64 },
-    /// Current to power: W = I * k, with k_unloaded below the threshold.
-    Current { w_per_a: f64, w_per_a_unloaded: f64, unloaded_below_a: f64 },
+    /// Current to power: W = I * k, with k_unloaded below the threshold; the power factors'
+    /// relative uncertainty and whether one power factor serves both states.
+    Current { w_per_a: f64, w_per_a_unloaded: f64, unloaded_below_a: f64, pf_rel: f64, single: bool },
 }
 
 /// A conversion to SI with the site applied.
@@ -59,6 +60,14 @@ impl Converter {
 }
 
 impl UnitRule {
+    /// For power made from current: how its power factor was known.
+    pub fn current_pf(&self) -> Option<CurrentPf> {
+        match *self {
+            Self::Current { pf_rel, single, .. } => Some(CurrentPf { pf_rel, single }),
+            _ => None,
+        }
+    }
+
     /// The basis the readings are stored on (`core::basis`): what the meter measured, nothing of the
     /// site applied. A line flow read against a pressure column is stored as normal volume (DIN
     /// 1343), made of each row's line pressure on the way in.
@@ -87,7 +96,7 @@ impl UnitRule {
                 Converter::Linear { scale: m3_s_per_unit, offset: 0.0 }
             }
             Self::Temperature { scale, offset } => Converter::Linear { scale, offset },
-            Self::Current { w_per_a, w_per_a_unloaded, unloaded_below_a } => {
+            Self::Current { w_per_a, w_per_a_unloaded, unloaded_below_a, .. } => {
                 Converter::Current { w_per_a, w_per_a_unloaded, unloaded_below_a }
             }
         }
@@ -114,7 +123,7 @@ impl UnitRule {
                 offset: 0.0,
             },
             Self::Temperature { scale, offset } => Converter::Linear { scale, offset },
-            Self::Current { w_per_a, w_per_a_unloaded, unloaded_below_a } => {
+            Self::Current { w_per_a, w_per_a_unloaded, unloaded_below_a, .. } => {
                 Converter::Current { w_per_a, w_per_a_unloaded, unloaded_below_a }
             }
         }
@@ -254,19 +263,53 @@ pub(super) fn column_rule(c: &ColumnMap, i: usize) -> Result<(Quantity, UnitRule
         "current" => {
             table(LoggedQuantity::Current)?;
             let volts = positive(c.volts, &f("volts"), "volts")?;
-            let pf = power_factor(
-                c.power_factor.ok_or_else(|| {
-                    IngestError::field(f("power_factor"), "a current column needs power_factor")
-                })?,
-                &f("power_factor"),
-            )?;
             let phases = c.phases.unwrap_or(3);
             let k = match phases {
                 3 => 3f64.sqrt() * volts,
                 1 => volts,
                 p => return Err(IngestError::field(f("phases"), format!("phases must be 1 or 3, got {p}"))),
             };
-            let (pf_unloaded, below) = match (c.unloaded_power_factor, c.unloaded_below_a) {
+            // A spot reading calibrates a state's power factor: PF = P / (k I).
+            let spot = |s: &Option<super::SpotReading>, name: &str| -> Result<Option<f64>, IngestError> {
+                let Some(s) = s else { return Ok(None) };
+                if !(s.a.is_finite() && s.a > 0.0 && s.kw.is_finite() && s.kw > 0.0) {
+                    return Err(IngestError::field(
+                        f(name),
+                        format!(
+                            "a spot reading needs a current and a power above 0, got {} A, {} kW",
+                            s.a, s.kw
+                        ),
+                    ));
+                }
+                power_factor(s.kw * 1000.0 / (k * s.a), &f(name)).map(Some)
+            };
+            let loaded_spot = spot(&c.loaded_spot, "loaded_spot")?;
+            let unloaded_spot = spot(&c.unloaded_spot, "unloaded_spot")?;
+            let pf =
+                match (loaded_spot, c.power_factor) {
+                    (Some(p), None) => p,
+                    (None, Some(p)) => power_factor(p, &f("power_factor"))?,
+                    (Some(_), Some(_)) => {
+                        return Err(IngestError::field(
+                            f("power_factor"),
+                            "give power_factor or loaded_spot, not both",
+                        ))
+                    }
+                    (None, None) => return Err(IngestError::field(
+                        f("power_factor"),
+                        "a current column needs power_factor (or loaded_spot, a spot reading of amps and kW)",
+                    )),
+                };
+            let unloaded = match (unloaded_spot, c.unloaded_power_factor) {
+                (Some(_), Some(_)) => {
+                    return Err(IngestError::field(
+                        f("unloaded_power_factor"),
+                        "give unloaded_power_factor or unloaded_spot, not both",
+                    ))
+                }
+                (s, p) => s.or(p),
+            };
+            let (pf_unloaded, below) = match (unloaded, c.unloaded_below_a) {
                 (None, None) => (pf, f64::NEG_INFINITY),
                 (Some(u), Some(b)) if b.is_finite() && b >= 0.0 => {
                     (power_factor(u, &f("unloaded_power_factor"))?, b)
@@ -291,12 +334,16 @@ pub(super) fn column_rule(c: &ColumnMap, i: usize) -> Result<(Quantity, UnitRule
                     ))
                 }
             };
+            let pf_rel =
+                pf_uncertainty(c, pf, pf_unloaded, loaded_spot.is_some(), unloaded_spot.is_some(), &f)?;
             (
                 Quantity::Power,
                 UnitRule::Current {
                     w_per_a: k * pf,
                     w_per_a_unloaded: k * pf_unloaded,
                     unloaded_below_a: below,
+                    pf_rel,
+                    single: unloaded.is_none(),
                 },
             )
         }
@@ -363,4 +410,35 @@ fn line_conditions(c: &ColumnMap, i: usize) -> Result<(Option<LinePressure>, f64
         None => return Err(need("temperature")),
     };
     Ok((pressure, t))
+}
+
+/// Relative standard uncertainty of the power factors of a current column, the larger of the two
+/// states'. A spot reading with a true-power meter: 2 % (the meter's class 1 with the power factor's
+/// drift within a state; common practice, from memory). A typed power factor: the mapping's
+/// `power_factor_uncertainty` over it, else 5 % (a nameplate full-load power factor against the
+/// running one, about ±0.04 on 0.85; from memory). One power factor for both states: at least 15 %,
+/// since the power factor falls steeply unloaded (about 0.85 loaded against 0.3-0.6 unloaded, from
+/// memory) and the unloaded power is overstated.
+fn pf_uncertainty(
+    c: &ColumnMap,
+    pf: f64,
+    pf_unloaded: f64,
+    loaded_spot: bool,
+    unloaded_spot: bool,
+    f: &dyn Fn(&str) -> String,
+) -> Result<f64, IngestError> {
+    let typed = match c.power_factor_uncertainty {
+        None => None,
+        Some(u) if (0.0..1.0).contains(&u) => Some(u),
+        Some(u) => {
+            return Err(IngestError::field(
+                f("power_factor_uncertainty"),
+                format!("power_factor_uncertainty must be in [0, 1), got {u}"),
+            ))
+        }
+    };
+    let rel = |spot: bool, p: f64| if spot { 0.02 } else { typed.map_or(0.05, |u| u / p) };
+    let single = c.unloaded_power_factor.is_none() && c.unloaded_spot.is_none();
+    let r = rel(loaded_spot, pf).max(if single { 0.0 } else { rel(unloaded_spot, pf_unloaded) });
+    Ok(if single { r.max(0.15) } else { r })
 }

@@ -11,6 +11,7 @@ fn chan(q: Quantity, unit: &str) -> ChannelDef {
         unit: unit.into(),
         column_index: 1,
         basis: crate::core::basis::Basis::Site,
+        current: None,
     }
 }
 

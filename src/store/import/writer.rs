@@ -140,7 +140,7 @@ pub(super) async fn run_import(
             cut_out(&mut tx, p.id, upload_id, first, last).await?;
         }
         // Stored as measured; the site's air is applied when read (`core::basis`).
-        let form = StoredForm::measured(def.basis);
+        let form = StoredForm { current: def.current, ..StoredForm::measured(def.basis) };
         let interval_ms = report
             .quality
             .channels
