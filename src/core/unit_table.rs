@@ -11,10 +11,12 @@ Spellings are compared in the normal form of [`normalize`]: lower case, `³` as 
 `-`, `(`, `)`, `.`, `[` and `]` as `_`, degree signs dropped (`Nm³/h` -> `nm3_h`, `bar(g)` ->
 `bar_g`, `°C` -> `c`).
 
-SI is: pressure in Pa absolute (gauge units add the site atmosphere), flow in m³/s of free air at
-the site inlet (standard and normal units carry their reference conditions, converted as dry ideal
-gas by `SiteAir::free_air_from_reference`), power in W, energy in J, temperature in K, current in A
-(made into power with the column's volts and power factor by the mapping).
+SI is: pressure in Pa on the logged basis (a gauge unit's readings are gauge; the analysis adds the
+site's atmosphere, `core::basis`), flow in m³/s of free air at the site inlet, at reference
+conditions (standard and normal units, made free air as dry ideal gas by
+`SiteAir::free_air_from_reference`) or at line conditions (`LineFlow`, actual volume), power in W,
+energy in J, temperature in K, current in A (made into power with the column's volts and power
+factor by the mapping).
 
 Sources of the factors: NIST Special Publication 811 (2008 edition), "Guide for the Use of the
 International System of Units", appendix B.8 (bar = 1e5 Pa exactly; psi = 6.894 757 E+03 Pa, exact

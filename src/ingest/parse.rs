@@ -633,6 +633,45 @@ mod tests {
     }
 
     #[test]
+    fn actual_flow_against_a_pressure_column_is_stored_as_normal_volume() {
+        // 1 am³/min at the row's line pressure, 30 °C. By hand, the ideal-gas relation for a fixed
+        // mass of dry air (Boyle and Charles) to DIN 1343 normal conditions (101.325 kPa, 0 °C):
+        // step 1: 6 bar(g) + 101.325 kPa = 701.325 kPa abs;
+        // step 2: pressure ratio 701.325 / 101.325 = 6.921540;
+        // step 3: temperature ratio 273.15 / 303.15 = 0.901039;
+        // step 4: 1/60 m³/s × 6.921540 × 0.901039 = 0.103943 Nm³/s.
+        let file = b"Time,P1,Q\n2026-03-02 06:00:00,6,1\n2026-03-02 06:00:01,,1\n";
+        let m = mapping(
+            r#"{"timestamp": {"column": "Time", "format": "%Y-%m-%d %H:%M:%S"},
+                "columns": [{"column": "P1", "quantity": "pressure", "unit": "bar_g"},
+                            {"column": "Q", "quantity": "flow", "unit": "am3_min",
+                             "line": {"pressure_column": "P1", "temperature_c": 30}}]}"#,
+        );
+        let (r, got) = parse(file, &m, &sea_level()).unwrap();
+        assert!((got[1].2 - 0.103_943).abs() < 1e-6, "{}", got[1].2);
+        // A row without its line pressure gives no flow reading: counted missing.
+        assert_eq!((got.len(), r.quality.channels[1].missing.count), (2, 1));
+        // Fixed line conditions are stored as logged and converted when read (`core::basis`).
+        let fixed = mapping(
+            r#"{"timestamp": {"column": "Time", "format": "%Y-%m-%d %H:%M:%S"},
+                "columns": [{"column": "Q", "quantity": "flow", "unit": "acfm",
+                             "line": {"pressure_bar_a": 8, "temperature_c": 20}}]}"#,
+        );
+        let (_, got) = parse(file, &fixed, &sea_level()).unwrap();
+        assert_eq!(got[0].2, M3_PER_FT3 / 60.0);
+        // Without the line, refused naming the column.
+        let mut bare = fixed.clone();
+        bare.columns[0].line = None;
+        let e = parse(file, &bare, &sea_level()).unwrap_err();
+        assert_eq!((e.field.as_deref(), e.column.as_deref()), (Some("columns[0].line"), Some("Q")));
+        // A pressure column that is not mapped is refused too.
+        let mut unmapped = m.clone();
+        unmapped.columns.remove(0);
+        let e = parse(file, &unmapped, &sea_level()).unwrap_err();
+        assert_eq!(e.field.as_deref(), Some("columns[0].line.pressure_column"), "{}", e.message);
+    }
+
+    #[test]
     fn pressure_below_zero_absolute_is_rejected_at_its_line() {
         let file = b"Time,Header\n2026-03-02 06:00:00,7\n2026-03-02 06:00:01,-2\n";
         let mut m = preamble_mapping_at(1);

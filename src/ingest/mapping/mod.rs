@@ -2,22 +2,30 @@
 The mapping of a logger file (which column is which quantity, in which unit) and its validation
 against the file's header into a [`Plan`].
 
-Every logged value becomes canonical SI on the way in (see `core::units`): pressure in Pa absolute,
-flow in m³/s of free air at the site inlet, power in W (current becomes power), energy counters in J,
-temperature in K. The units a mapping may name, their spellings and their factors are the one table
-of [`crate::core::unit_table`]; [`rules`] turns a column's unit into its conversion:
+Every logged value becomes SI units on the way in, on the basis the meter logged
+(`core::basis`; the site's air is applied when the readings are read): pressure in Pa, gauge or
+absolute as logged, flow in m³/s free air, at reference conditions or at line conditions, power in
+W (current becomes power), energy counters in J, temperature in K. The units a mapping may name,
+their spellings and their factors are the one table of [`crate::core::unit_table`]; [`rules`] turns
+a column's unit into its conversion and basis:
 
-- Gauge pressure is made absolute with the site's atmosphere. A bare `bar` or `psi` is refused: the
-  mapping must say gauge or absolute (the sniffer proposes gauge, common shop practice).
-- Reference-condition flows are converted to free air at the site inlet with their `reference`
-  (dry ideal gas, `SiteAir::free_air_from_reference`). Defaults when `reference` is absent:
+- Gauge pressure stays gauge (absolute with the site's atmosphere when read). A bare `bar` or
+  `psi` is refused: the mapping must say gauge or absolute (the sniffer proposes gauge, common shop
+  practice).
+- Reference-condition flows keep their `reference` (free air at the site inlet when read, dry
+  ideal gas, `SiteAir::free_air_from_reference`). Defaults when `reference` is absent:
   `Nm3` DIN 1343 (101.325 kPa, 0 °C), `Sm3` ISO 1217 standard inlet (100 kPa, 20 °C), `scfm` ASME
   (14.696 psia, 68 °F). A `reference` on a free-air unit is refused rather than guessed at.
+- Actual-volume flows (`acfm`, `am3_min`, `am3_h`) need `line`: a fixed line pressure and
+  temperature (stored as logged, made free air when read), or a mapped pressure column (each row made
+  normal volume with that row's pressure); refused naming the column without them.
 - Current to power: P = sqrt(3) V_LL I PF for three phases, V I PF for one (the active power of a
   balanced load, IEC 60050; reading power from logged amps so is common practice); `phases`
   defaults to 3. With
   `unloaded_power_factor` and `unloaded_below_a`, a current below that threshold uses the unloaded
-  power factor (PF falls steeply at no load).
+  power factor (PF falls steeply at no load). `loaded_spot` / `unloaded_spot` (amps and kW read
+  beside the logger) calibrate a state's power factor instead; the power factors' uncertainty goes
+  with the channel to the power's range (`rules::pf_uncertainty`).
 - Power, energy and current columns must name their `compressor`.
 */
 
