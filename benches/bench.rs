@@ -473,7 +473,9 @@ fn library_import(dir: &Path, csv: &Path) -> LibraryRun {
         let b = app.bundle(audit).await.expect("bundle");
         let ids: Vec<i64> = b.compressors.iter().map(|c| c.id).collect();
         let frame =
-            airledger::store::read::load_frame(app.db(), &b.channels, &ids, None).await.expect("frame");
+            airledger::store::read::load_frame(app.db(), &b.audit.site.air(), &b.channels, &ids, None)
+                .await
+                .expect("frame");
         let frame_took = t.elapsed();
         let bins = frame.as_ref().map(|f| f.columns.first().map_or(0, |c| c.values.len())).unwrap_or(0);
         drop(frame);

@@ -43,9 +43,18 @@ impl AuditBundle {
     pub fn accuracy(&self) -> Accuracy {
         let mut a = Accuracy::default();
         for c in &self.channels {
-            if c.quantity == "power" && c.unit.eq_ignore_ascii_case("a") {
-                if let Some(t) = &c.compressor_tag {
-                    a.current_derived_power.push(t.clone());
+            let Some(t) = &c.compressor_tag else { continue };
+            if c.quantity != "power" {
+                continue;
+            }
+            let pfs: Vec<_> = c.parts.iter().filter_map(|p| p.form.current).collect();
+            if c.unit.eq_ignore_ascii_case("a") || !pfs.is_empty() {
+                a.current_derived_power.push(t.clone());
+            }
+            for pf in pfs {
+                a.power_factor_rel.push((t.clone(), pf.pf_rel));
+                if pf.single && !a.single_power_factor.contains(t) {
+                    a.single_power_factor.push(t.clone());
                 }
             }
         }
@@ -181,14 +190,16 @@ impl App {
     }
 
     /// Min/mean/max buckets of one channel from the rollups, SI.
+    /// The site's air applied as the audit's site has it now (`core::basis`).
     pub async fn chart_series(
         &self,
-        channel: i64,
+        b: &AuditBundle,
+        channel: &read::ChannelInfo,
         from_ms: i64,
         to_ms: i64,
         points: usize,
     ) -> Result<Vec<ChartPoint>> {
-        Ok(read::chart_series(self.db(), channel, from_ms, to_ms, points).await?)
+        Ok(read::chart_series(self.db(), &b.audit.site.air(), channel, from_ms, to_ms, points).await?)
     }
 
     /// The mapping remembered for a file layout, as stored (JSON text).

@@ -23,7 +23,8 @@ use super::scenarios::ScenarioOutcome;
 use super::{App, AuditBundle, Error, Result};
 
 /// What an audit's whole-log frame is made of: the audit, its complete uploads, its channels (with
-/// their compressor and span) and the order of the analysis' compressors. Uploads are never changed
+/// their compressor and span), the order of the analysis' compressors and, when a channel's basis
+/// depends on it, the site's air. Uploads are never changed
 /// once complete except by a later upload's `replace`, which adds its own id, so an equal key means
 /// an equal frame.
 fn frame_key(b: &AuditBundle) -> String {
@@ -36,6 +37,17 @@ fn frame_key(b: &AuditBundle) -> String {
         key.push_str(&format!(" {}:{:?}:{}-{}:{}", c.id, c.compressor_id, c.first_ms, c.last_ms, c.readings));
     }
     key.push_str(&format!(" compressors {:?}", b.compressor_ids()));
+    // Readings on a gauge, reference or line basis are made absolute or free air with the site's
+    // air as it is now (`core::basis`): a frame holding any is the site's too. Frames of site-free
+    // readings (power, absolute pressure, free-air flow) stay kept across an edit of the site.
+    if b.channels.iter().any(|c| c.follows_site()) {
+        let air = b.audit.site.air();
+        key.push_str(&format!(
+            " air {:016x} {:016x}",
+            air.atmosphere.0.to_bits(),
+            air.inlet_temperature.0.to_bits()
+        ));
+    }
     key
 }
 
@@ -156,7 +168,9 @@ impl App {
             return Ok(Some(f));
         }
         let frame =
-            read::load_frame(self.db(), &b.channels, &b.compressor_ids(), window).await?.map(Arc::new);
+            read::load_frame(self.db(), &b.audit.site.air(), &b.channels, &b.compressor_ids(), window)
+                .await?
+                .map(Arc::new);
         if let (Some(key), Some(f)) = (key, &frame) {
             frames.lock().expect("frame cache").put(key.to_string(), f.clone());
         }

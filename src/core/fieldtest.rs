@@ -590,8 +590,13 @@ mod tests {
         let p0 = PressureAbs::from_bar_g(7.0, s.atmosphere).0;
         let pressure: Vec<f32> =
             (0..360).map(|i| (p0 * (-(i as f64 * 10.0 + 5.0) / tau_s).exp()) as f32).collect();
-        let col =
-            |signal, compressor, values| FrameColumn { signal, compressor, label: String::new(), values };
+        let col = |signal, compressor, values| FrameColumn {
+            signal,
+            compressor,
+            label: String::new(),
+            values,
+            partial: vec![],
+        };
         Frame {
             grid,
             columns: vec![

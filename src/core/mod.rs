@@ -5,6 +5,8 @@ it is plain functions over plain data, each module with its unit tests beside it
 Architecture invariant: `core` imports nothing from `store`, `ingest` or `web`.
 
 - [`units`]: the canonical SI types and reference conditions; [`air`]: the atmosphere (ISO 2533);
+  [`basis`]: the basis a reading was logged on (gauge, reference, line) and the site's air applied
+  to it when read;
   [`unit_table`]: the one table of unit spellings a logger file may use, with their SI factors.
 - [`thermo`]: isothermal, isentropic and polytropic compression, staging, cooler duties.
 - [`series`]: one timeline: alignment of channels into equal bins, integration.
@@ -24,6 +26,7 @@ Architecture invariant: `core` imports nothing from `store`, `ingest` or `web`.
 
 pub mod air;
 pub mod analysis;
+pub mod basis;
 pub mod costs;
 pub mod display;
 pub mod fieldtest;

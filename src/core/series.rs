@@ -14,7 +14,11 @@ each channel's readings, time-sorted and already in SI units, into an [`Aligner`
 - Across a longer gap **nothing is filled**: the bins there get no coverage. A reading that is not a
   finite number breaks the series the same way.
 - A bin's value is its **time-weighted mean**: integral / covered time.
-- A bin covered for **less than 50 %** of its length is **missing** (`NaN`).
+- A bin covered for **less than 50 %** of its length is **missing** (`NaN`) for the bin-by-bin
+  passes (states, cycles). Every bin covered but not whole (at the edge of a gap, at the log's
+  ends) is listed in its column's `partial` with its share and its mean, so that time-weighted
+  integrals ([`integrate_weighted`]: energy, mean power) count it for the time it was logged: a
+  half-empty bin at dawn neither counts as a full bin nor vanishes.
 - Energy counters (J): the mean power over the interval between two readings is the difference / the
   time between them, spread evenly over that interval (a step, not a line). A decrease (reset or
   roll-over) breaks the series there: no negative power is ever produced.
@@ -138,15 +142,22 @@ impl BinAccumulator {
         }
     }
 
-    /// The means, written over the coverage (no third buffer of the grid's length at the peak).
-    fn finish(self) -> Vec<f32> {
-        let half = 0.5 * self.grid.step_ms as f64;
+    /// The means, written over the coverage (no third buffer of the grid's length at the peak), and
+    /// the bins covered but not whole with their share and mean.
+    fn finish(self) -> (Vec<f32>, Vec<Partial>) {
+        let step = self.grid.step_ms as f64;
+        let half = 0.5 * step;
         let Self { integral, covered_ms: mut out, .. } = self;
-        for (m, &s) in out.iter_mut().zip(&integral) {
+        let mut partial = Vec::new();
+        for (i, (m, &s)) in out.iter_mut().zip(&integral).enumerate() {
             let c = *m as f64;
-            *m = if c >= half && c > 0.0 { (s / c) as f32 } else { f32::NAN };
+            let mean = if c > 0.0 { (s / c) as f32 } else { f32::NAN };
+            if c > 0.0 && c < step {
+                partial.push(Partial { bin: i as u32, share: (c / step) as f32, mean });
+            }
+            *m = if c >= half { mean } else { f32::NAN };
         }
-        out
+        (out, partial)
     }
 }
 
@@ -161,6 +172,11 @@ pub struct Aligner {
 impl Aligner {
     pub fn new(grid: Grid, max_gap_ms: i64) -> Self {
         Self { acc: BinAccumulator::new(grid), max_gap_ms, prev: None }
+    }
+
+    /// The longest step drawn as a line from here on (the next readings' own logging interval × 3).
+    pub fn set_max_gap(&mut self, max_gap_ms: i64) {
+        self.max_gap_ms = max_gap_ms;
     }
 
     /// One reading, in time order. A reading earlier than the one before is ignored (the storage
@@ -181,6 +197,11 @@ impl Aligner {
 
     /// Time-weighted bin means; `NaN` where a bin is covered < 50 %.
     pub fn finish(self) -> Vec<f32> {
+        self.acc.finish().0
+    }
+
+    /// [`Aligner::finish`] with the present bins not wholly covered and their share.
+    pub fn finish_with_partial(self) -> (Vec<f32>, Vec<Partial>) {
         self.acc.finish()
     }
 }
@@ -197,6 +218,11 @@ pub struct CounterAligner {
 impl CounterAligner {
     pub fn new(grid: Grid, max_gap_ms: i64) -> Self {
         Self { acc: BinAccumulator::new(grid), max_gap_ms, prev: None, breaks: 0 }
+    }
+
+    /// The longest step between counter readings that is spread as power (× 3 the interval).
+    pub fn set_max_gap(&mut self, max_gap_ms: i64) {
+        self.max_gap_ms = max_gap_ms;
     }
 
     /// One counter reading in J, in time order.
@@ -230,6 +256,11 @@ impl CounterAligner {
 
     /// Mean power per bin, W; `NaN` where a bin is covered < 50 %.
     pub fn finish(self) -> Vec<f32> {
+        self.acc.finish().0
+    }
+
+    /// [`CounterAligner::finish`] with the present bins not wholly covered and their share.
+    pub fn finish_with_partial(self) -> (Vec<f32>, Vec<Partial>) {
         self.acc.finish()
     }
 }
@@ -250,6 +281,18 @@ pub struct FrameColumn {
     pub compressor: Option<usize>,
     pub label: String,
     pub values: Vec<f32>,
+    /// Bins covered for part of their length (module doc). Empty when every bin is whole or empty.
+    pub partial: Vec<Partial>,
+}
+
+/// A bin covered for part of its length: a gap's edge, the log's ends.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Partial {
+    pub bin: u32,
+    /// Covered share of the bin, in (0, 1).
+    pub share: f32,
+    /// Time-weighted mean over the covered part.
+    pub mean: f32,
 }
 
 /// Logged data on one grid.
@@ -312,7 +355,41 @@ pub struct Integral {
     pub mean: f64,
 }
 
-/// Integrate a binned signal, skipping missing bins.
+/// Integrate a binned signal over the time it was logged: whole bins for their length, a partly
+/// covered bin (`partial`, as in [`FrameColumn::partial`]) for its covered share, whether or not it
+/// reached the 50 % that makes it present bin by bin. `coverage` is the logged share of the grid.
+pub fn integrate_weighted(grid: &Grid, values: &[f32], partial: &[Partial]) -> Integral {
+    let whole = integrate(grid, values);
+    if partial.is_empty() {
+        return whole;
+    }
+    let step = grid.step_s();
+    let (mut total, mut covered) = (whole.total, whole.covered_s);
+    for p in partial {
+        let (v, m) = (values.get(p.bin as usize).copied().unwrap_or(f32::NAN), p.mean as f64);
+        if !m.is_finite() {
+            continue;
+        }
+        let share = p.share as f64;
+        if v.is_finite() {
+            // Counted whole above: take back the part that was not logged.
+            total -= v as f64 * (1.0 - share) * step;
+            covered -= (1.0 - share) * step;
+        } else if values.get(p.bin as usize).is_some() {
+            // Missing bin by bin (under 50 %), but logged for its share.
+            total += m * share * step;
+            covered += share * step;
+        }
+    }
+    Integral {
+        total,
+        covered_s: covered,
+        coverage: if grid.len == 0 { 0.0 } else { covered / (grid.len as f64 * step) },
+        mean: if covered > 0.0 { total / covered } else { f64::NAN },
+    }
+}
+
+/// Integrate a binned signal, skipping missing bins; every present bin counts whole.
 pub fn integrate(grid: &Grid, values: &[f32]) -> Integral {
     let mut sum = 0.0;
     let mut n = 0usize;
@@ -422,6 +499,37 @@ mod tests {
     }
 
     #[test]
+    fn partly_covered_bins_count_for_the_time_they_were_logged() {
+        // 10 s bins; a ramp v = t/1000 read every second from 3 s to 27 s, then nothing.
+        // By hand: logged 3..27 s (24 s), integral of t over it = (27² - 3²)/2 = 360, mean 15.
+        // Bin 0 is covered 7 s (70 %, mean 6.5), bin 1 whole (mean 15), bin 2 covered 7 s (70 %,
+        // mean 23.5). Counted whole, the bins would give (6.5 + 15 + 23.5)/3 = 15 over 30 s.
+        let g = Grid { start_ms: 0, step_ms: 10_000, len: 3 };
+        let mut a = Aligner::new(g, 3_000);
+        for t in 3..=27 {
+            a.push(t * 1000, t as f64);
+        }
+        let (v, partial) = a.finish_with_partial();
+        assert_eq!(partial.len(), 2);
+        assert!(close(partial[0].share as f64, 0.7, 1e-6) && close(partial[0].mean as f64, 6.5, 1e-5));
+        let i = integrate_weighted(&g, &v, &partial);
+        assert!(close(i.total, 360.0, 1e-3), "{i:?}");
+        assert!(close(i.covered_s, 24.0, 1e-5));
+        assert!(close(i.mean, 15.0, 1e-5));
+        // Bins under half covered are missing bin by bin but still count for their share: a ramp
+        // read 0..13 s leaves bin 1 covered 3 s (30 %, mean 11.5); logged integral 13²/2 = 84.5.
+        let mut a = Aligner::new(g, 3_000);
+        for t in 0..=13 {
+            a.push(t * 1000, t as f64);
+        }
+        let (v, partial) = a.finish_with_partial();
+        assert!(v[1].is_nan());
+        let i = integrate_weighted(&g, &v, &partial);
+        assert!(close(i.total, 84.5, 1e-3) && close(i.covered_s, 13.0, 1e-5), "{i:?}");
+        assert!(close(i.mean, 6.5, 1e-5));
+    }
+
+    #[test]
     fn a_bin_covered_under_half_is_missing() {
         let g = Grid { start_ms: 0, step_ms: 10_000, len: 1 };
         let mut a = Aligner::new(g, 10_000);
@@ -465,6 +573,7 @@ mod tests {
             compressor,
             label: String::new(),
             values: v,
+            partial: vec![],
         };
         let f = Frame {
             grid: g,

@@ -11,10 +11,12 @@ Spellings are compared in the normal form of [`normalize`]: lower case, `³` as 
 `-`, `(`, `)`, `.`, `[` and `]` as `_`, degree signs dropped (`Nm³/h` -> `nm3_h`, `bar(g)` ->
 `bar_g`, `°C` -> `c`).
 
-SI is: pressure in Pa absolute (gauge units add the site atmosphere), flow in m³/s of free air at
-the site inlet (standard and normal units carry their reference conditions, converted as dry ideal
-gas by `SiteAir::free_air_from_reference`), power in W, energy in J, temperature in K, current in A
-(made into power with the column's volts and power factor by the mapping).
+SI is: pressure in Pa on the logged basis (a gauge unit's readings are gauge; the analysis adds the
+site's atmosphere, `core::basis`), flow in m³/s of free air at the site inlet, at reference
+conditions (standard and normal units, made free air as dry ideal gas by
+`SiteAir::free_air_from_reference`) or at line conditions (`LineFlow`, actual volume), power in W,
+energy in J, temperature in K, current in A (made into power with the column's volts and power
+factor by the mapping).
 
 Sources of the factors: NIST Special Publication 811 (2008 edition), "Guide for the Use of the
 International System of Units", appendix B.8 (bar = 1e5 Pa exactly; psi = 6.894 757 E+03 Pa, exact
@@ -66,6 +68,8 @@ pub enum ToSi {
     Pressure { pa_per_unit: f64, gauge: bool },
     /// m³/s per unit of volume flow at `reference` (free air at the site inlet when `None`).
     Flow { m3_s_per_unit: f64, reference: Option<ReferenceConditions> },
+    /// m³/s per unit of actual volume flow at line pressure and temperature (the mapping's `line`).
+    LineFlow { m3_s_per_unit: f64 },
     /// K = value × scale + offset.
     Temperature { scale: f64, offset: f64 },
 }
@@ -112,6 +116,10 @@ const fn pressure(pa_per_unit: f64, gauge: bool) -> ToSi {
 
 const fn flow(m3_s_per_unit: f64, reference: Option<ReferenceConditions>) -> ToSi {
     ToSi::Flow { m3_s_per_unit, reference }
+}
+
+const fn line_flow(m3_s_per_unit: f64) -> ToSi {
+    ToSi::LineFlow { m3_s_per_unit }
 }
 
 use LoggedQuantity::{Current, Energy, Flow, Power, Pressure, Temperature};
@@ -225,20 +233,12 @@ pub static UNITS: &[UnitSpelling] = &[
     ),
     unit("Pa_g", Pressure, "Pa(g)", &["pa_g", "pag"], &[], pressure(1.0, true), false),
     unit("Pa_a", Pressure, "Pa(a)", &["pa_a", "paa", "pa_abs"], &[], pressure(1.0, false), false),
-    // Flow. Free air: volume at the site inlet ("acfm", actual cfm, is free air too). NIST SP 811
-    // B.8: ft³ = 2.831 685 E-02 m³ (0.3048³ exact); litre = 1.0 E-03 m³.
+    // Flow. Free air: volume at the site inlet. NIST SP 811 B.8: ft³ = 2.831 685 E-02 m³ (0.3048³
+    // exact); litre = 1.0 E-03 m³.
     unit("m3_min", Flow, "m³/min", &["m3_min", "m3min"], &["m3_min", "m3min"], flow(1.0 / MIN, None), true),
     unit("m3_h", Flow, "m³/h", &["m3_h", "m3h", "m3_hr"], &["m3_h", "m3h"], flow(1.0 / HOUR, None), true),
     unit("l_s", Flow, "l/s", &["l_s", "ls"], &["l_s"], flow(1e-3, None), true),
-    unit(
-        "cfm",
-        Flow,
-        "cfm",
-        &["cfm", "acfm", "ft3_min"],
-        &["cfm", "acfm"],
-        flow(M3_PER_FT3 / MIN, None),
-        true,
-    ),
+    unit("cfm", Flow, "cfm", &["cfm", "ft3_min"], &["cfm"], flow(M3_PER_FT3 / MIN, None), true),
     // Reference volumes: ASME standard air for scfm, DIN 1343 normal for Nm³ and Nl, ISO 1217
     // standard inlet for Sm³ (the defaults when a mapping gives no `reference`).
     unit("scfm", Flow, "scfm", &["scfm"], &["scfm"], flow(M3_PER_FT3 / MIN, SCFM), true),
@@ -250,6 +250,22 @@ pub static UNITS: &[UnitSpelling] = &[
     unit("l_min", Flow, "l/min", &["l_min", "lpm"], &["l_min", "lpm"], flow(1e-3 / MIN, None), true),
     unit("Nl_min", Flow, "Nl/min", &["nl_min"], &[], flow(1e-3 / MIN, NORMAL), false),
     unit("Nl_s", Flow, "Nl/s", &["nl_s"], &[], flow(1e-3, NORMAL), false),
+    // --- Line-condition flow (issue 14, readings that follow the site) -------------------------
+    // Actual volume at the line's pressure and temperature, which the mapping's `line` gives; the
+    // analysis makes free air of it with the site's air (`core::basis`). NIST SP 811 B.8 factors.
+    // Not offered by the upload form until it can ask for the line: mappings sent to the API.
+    unit("acfm", Flow, "acfm", &["acfm", "actual_cfm"], &["acfm"], line_flow(M3_PER_FT3 / MIN), false),
+    unit(
+        "am3_min",
+        Flow,
+        "am³/min",
+        &["am3_min", "am3min"],
+        &["am3_min", "am3min"],
+        line_flow(1.0 / MIN),
+        false,
+    ),
+    unit("am3_h", Flow, "am³/h", &["am3_h", "am3h"], &["am3_h", "am3h"], line_flow(1.0 / HOUR), false),
+    // --- end of line-condition flow ------------------------------------------------------------
     // Temperature. NIST SP 811 B.9: T/K = t/°C + 273.15 = (t/°F + 459.67)/1.8.
     unit(
         "C",

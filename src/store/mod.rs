@@ -18,6 +18,7 @@ This layer holds no physics: it stores and fetches records, chunks and rollups.
 */
 
 pub mod audits;
+pub mod basis;
 pub mod chunk;
 pub mod import;
 pub mod read;
@@ -156,6 +157,7 @@ pub async fn open(path: &Path) -> Result<(SqlitePool, DbLock), StoreError> {
     let pool = connect(path, true).await?;
     sqlx::migrate!("./migrations").run(&pool).await?;
     import::remove_unfinished(&pool).await?;
+    basis::backfill(&pool).await?;
     Ok((pool, lock))
 }
 
@@ -238,6 +240,38 @@ mod tests {
         .execute(&pool)
         .await
         .unwrap();
+        // An upload of the first schema: a gauge pressure and a normal flow, stored with the site's
+        // air applied (1000 m) and the air not recorded.
+        sqlx::query("UPDATE audit SET altitude_m = 1000 WHERE id = 1").execute(&pool).await.unwrap();
+        let mapping = r#"{"timestamp": {"column": "Time", "format": "rfc3339"}, "columns": [
+            {"column": "Header", "quantity": "pressure", "unit": "bar_g"},
+            {"column": "Flow", "quantity": "flow", "unit": "Nm3_h"},
+            {"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"}]}"#;
+        sqlx::query(
+            "INSERT INTO upload (audit_id, filename, sha256, bytes, state, mapping, quality, created_at) \
+             VALUES (1, 'old.csv', 'x', 1, 'complete', ?, '{\"file\": {\"median_interval_s\": 60.0}}', 'now')",
+        )
+        .bind(mapping)
+        .execute(&pool)
+        .await
+        .unwrap();
+        for (id, q, k, label) in
+            [(1, "pressure", None, "Header"), (2, "flow", None, "Flow"), (3, "power", Some(1), "")]
+        {
+            sqlx::query("INSERT INTO channel (id, audit_id, quantity, compressor_id, label, unit) VALUES (?, 1, ?, ?, ?, '')")
+                .bind(id)
+                .bind(q)
+                .bind(k)
+                .bind(label)
+                .execute(&pool)
+                .await
+                .unwrap();
+            sqlx::query("INSERT INTO upload_channel VALUES (1, ?, 0, 3600000, 61)")
+                .bind(id)
+                .execute(&pool)
+                .await
+                .unwrap();
+        }
         pool.close().await;
         // Then open as the server does: every later migration applies and the data is there.
         let (pool, _lock) = open(&path).await.unwrap();
@@ -250,6 +284,25 @@ mod tests {
             sqlx::query_scalar("SELECT count(*) FROM _sqlx_migrations").fetch_one(&pool).await.unwrap();
         assert_eq!(applied as usize, all.migrations.len());
         assert!(all.migrations.len() >= 2, "there is a later migration to apply");
+        // The old upload's channels got their basis from its mapping and the step its import
+        // applied (the site's air now), so they read exactly as stored; its interval came from
+        // the quality report.
+        let air = audits::get_audit(&pool, 1).await.unwrap().unwrap().site.air();
+        let forms: Vec<(String, i64)> =
+            sqlx::query_as("SELECT stored_form, interval_ms FROM upload_channel ORDER BY channel_id")
+                .fetch_all(&pool)
+                .await
+                .unwrap();
+        let form = |i: usize| serde_json::from_str::<crate::core::basis::StoredForm>(&forms[i].0).unwrap();
+        use crate::core::basis::Basis;
+        assert_eq!(form(0).basis, Basis::Gauge);
+        assert_eq!(form(0).applied_offset, air.atmosphere.0);
+        assert!(matches!(form(1).basis, Basis::Reference { .. }));
+        assert_eq!(form(2).basis, Basis::Site);
+        for (i, (_, interval_ms)) in forms.iter().enumerate() {
+            assert_eq!(form(i).to_site(&air), (1.0, 0.0));
+            assert_eq!(*interval_ms, 60_000);
+        }
         pool.close().await;
         let _ = std::fs::remove_dir_all(&dir);
     }

@@ -9,7 +9,12 @@ use sqlx::{Row, SqlitePool};
 use super::chunk;
 use super::rollup::{decode_day, Acc, DAY_MS, HOUR_MS, MINUTE_MS};
 use super::StoreError;
-use crate::core::series::{Aligner, CounterAligner, Frame, FrameColumn, Grid, Signal};
+use crate::core::basis::{Basis, StoredForm};
+use crate::core::series::{Aligner, CounterAligner, Frame, FrameColumn, Grid, Partial, Signal};
+use crate::core::units::SiteAir;
+
+/// A channel on the grid: bin means and the partly covered bins (`core::series::FrameColumn`).
+type Aligned = (Vec<f32>, Vec<Partial>);
 
 /// The most bins an analysis frame has; longer logs get a coarser step (documented in DEVELOPERS.md).
 pub const MAX_FRAME_BINS: usize = 1_200_000;
@@ -26,16 +31,54 @@ pub struct ChannelInfo {
     pub first_ms: i64,
     pub last_ms: i64,
     pub readings: i64,
+    /// What each complete upload holds of it: how it is stored and its logging interval.
+    #[serde(skip)]
+    pub parts: Vec<UploadPart>,
+}
+
+/// One upload's readings of a channel: how they are stored and their typical logging interval.
+#[derive(Debug, Clone, PartialEq)]
+pub struct UploadPart {
+    pub upload_id: i64,
+    pub form: StoredForm,
+    /// The median step between readings (`None`: unknown, the channel's span is used).
+    pub interval_ms: Option<i64>,
 }
 
 impl ChannelInfo {
-    /// Median-free estimate of the logging interval: span / (readings - 1).
+    /// The channel's typical logging interval: the shortest of its uploads' median steps (robust to
+    /// night gaps, which stretch a span / (readings - 1) estimate); that estimate only when no
+    /// upload knows its interval.
     pub fn interval_ms(&self) -> i64 {
+        if let Some(i) = self.parts.iter().filter_map(|p| p.interval_ms).min() {
+            return i.max(1);
+        }
         if self.readings > 1 {
             ((self.last_ms - self.first_ms) / (self.readings - 1)).max(1)
         } else {
             60_000
         }
+    }
+
+    /// The interval of one upload's readings (the channel's when that upload's is unknown).
+    fn upload_interval_ms(&self, upload_id: i64) -> i64 {
+        self.part(upload_id).and_then(|p| p.interval_ms).unwrap_or_else(|| self.interval_ms()).max(1)
+    }
+
+    fn part(&self, upload_id: i64) -> Option<&UploadPart> {
+        self.parts.iter().find(|p| p.upload_id == upload_id)
+    }
+
+    /// The affine step stored value → SI with the site's air `site` for one upload's readings.
+    pub fn to_site(&self, upload_id: i64, site: &SiteAir) -> (f64, f64) {
+        self.part(upload_id).map_or((1.0, 0.0), |p| p.form.to_site(site))
+    }
+
+    /// Whether the site's air changes how this channel reads.
+    pub fn follows_site(&self) -> bool {
+        self.parts.iter().any(|p| {
+            p.form.basis.follows_site() || p.form.applied_scale != 1.0 || p.form.applied_offset != 0.0
+        })
     }
     pub fn name(&self) -> String {
         match &self.compressor_tag {
@@ -58,9 +101,39 @@ pub async fn channels(pool: &SqlitePool, audit_id: i64) -> Result<Vec<ChannelInf
     .bind(audit_id)
     .fetch_all(pool)
     .await?;
+    let part_rows = sqlx::query(
+        "SELECT uc.channel_id, uc.upload_id, uc.stored_form, uc.interval_ms FROM upload_channel uc \
+         JOIN upload u ON u.id = uc.upload_id AND u.state = 'complete' WHERE u.audit_id = ? \
+         ORDER BY uc.channel_id, uc.upload_id",
+    )
+    .bind(audit_id)
+    .fetch_all(pool)
+    .await?;
+    let mut parts: std::collections::HashMap<i64, Vec<UploadPart>> = Default::default();
+    for r in &part_rows {
+        let form: Option<String> = r.get("stored_form");
+        let upload_id: i64 = r.get("upload_id");
+        // A row the start-up has not filled reads as stored (the step it was stored with).
+        let form = match form.as_deref().map(serde_json::from_str::<StoredForm>) {
+            Some(Ok(f)) => f,
+            Some(Err(e)) => {
+                return Err(StoreError::Damaged {
+                    path: format!("upload {upload_id} stored_form"),
+                    detail: e.to_string(),
+                })
+            }
+            None => StoredForm::measured(Basis::Site),
+        };
+        parts.entry(r.get("channel_id")).or_default().push(UploadPart {
+            upload_id,
+            form,
+            interval_ms: r.get::<Option<i64>, _>("interval_ms").filter(|&i| i > 0),
+        });
+    }
     Ok(rows
         .iter()
         .map(|r| ChannelInfo {
+            parts: parts.remove(&r.get::<i64, _>("id")).unwrap_or_default(),
             id: r.get("id"),
             quantity: r.get("quantity"),
             compressor_id: r.get("compressor_id"),
@@ -79,9 +152,9 @@ async fn chunk_blobs(
     channel_id: i64,
     from_ms: i64,
     to_ms: i64,
-) -> Result<Vec<Vec<u8>>, StoreError> {
-    Ok(sqlx::query_scalar(
-        "SELECT ch.data FROM chunk ch JOIN upload u ON u.id = ch.upload_id AND u.state = 'complete' \
+) -> Result<Vec<(i64, Vec<u8>)>, StoreError> {
+    Ok(sqlx::query_as(
+        "SELECT ch.upload_id, ch.data FROM chunk ch JOIN upload u ON u.id = ch.upload_id AND u.state = 'complete' \
          WHERE ch.channel_id = ? AND ch.t_end_ms >= ? AND ch.t_start_ms <= ? ORDER BY ch.t_start_ms",
     )
     .bind(channel_id)
@@ -91,10 +164,12 @@ async fn chunk_blobs(
     .await?)
 }
 
-/// Build the analysis frame for the audit's channels over `window` (default: all logged time).
+/// Build the analysis frame for the audit's channels over `window` (default: all logged time), with
+/// the site's air `site` applied to each upload's readings as they are stored (`core::basis`).
 /// `compressor_ids` are the ids of the analysis' compressor slice, in its order.
 pub async fn load_frame(
     pool: &SqlitePool,
+    site: &SiteAir,
     chans: &[ChannelInfo],
     compressor_ids: &[i64],
     window: Option<(i64, i64)>,
@@ -113,10 +188,10 @@ pub async fn load_frame(
     // Channels are decoded and aligned side by side, as many at a time as the machine has cores
     // (each holds its chunk blobs and a bin accumulator of 12 bytes a bin while it runs).
     let parallel = std::thread::available_parallelism().map_or(1, |n| n.get()).clamp(1, 4);
-    let mut running: std::collections::VecDeque<tokio::task::JoinHandle<Result<Vec<f32>, StoreError>>> =
+    let mut running: std::collections::VecDeque<tokio::task::JoinHandle<Result<Aligned, StoreError>>> =
         Default::default();
-    let mut aligned: Vec<Vec<f32>> = Vec::with_capacity(chans.len());
-    let joined = |r: Result<Result<Vec<f32>, StoreError>, tokio::task::JoinError>| {
+    let mut aligned: Vec<Aligned> = Vec::with_capacity(chans.len());
+    let joined = |r: Result<Result<Aligned, StoreError>, tokio::task::JoinError>| {
         r.map_err(|e| StoreError::Damaged { path: "frame".into(), detail: e.to_string() })?
     };
     for c in chans {
@@ -124,23 +199,34 @@ pub async fn load_frame(
             let oldest = running.pop_front().expect("running is not empty");
             aligned.push(joined(oldest.await)?);
         }
-        let blobs = chunk_blobs(pool, c.id, from, to).await?;
-        let max_gap = (3 * c.interval_ms()).max(grid.step_ms);
+        // Each chunk with its upload's step to SI and its upload's gap threshold: 3 × that
+        // upload's typical interval (a line is drawn across nothing longer).
+        let blobs: Vec<((f64, f64), i64, Vec<u8>)> = chunk_blobs(pool, c.id, from, to)
+            .await?
+            .into_iter()
+            .map(|(u, b)| (c.to_site(u, site), (3 * c.upload_interval_ms(u)).max(grid.step_ms), b))
+            .collect();
         let g = grid;
         let energy = c.quantity == "energy";
-        running.push_back(tokio::task::spawn_blocking(move || -> Result<Vec<f32>, StoreError> {
+        running.push_back(tokio::task::spawn_blocking(move || -> Result<Aligned, StoreError> {
             if energy {
-                let mut a = CounterAligner::new(g, max_gap);
-                for b in &blobs {
-                    chunk::decode(b, |t, v| a.push(t, v))?;
+                let mut a = CounterAligner::new(g, 0);
+                for ((k, o), gap, b) in &blobs {
+                    a.set_max_gap(*gap);
+                    chunk::decode(b, |t, v| a.push(t, v * k + o))?;
                 }
-                Ok(a.finish())
+                Ok(a.finish_with_partial())
             } else {
-                let mut a = Aligner::new(g, max_gap);
-                for b in &blobs {
-                    chunk::decode(b, |t, v| a.push(t, v))?;
+                let mut a = Aligner::new(g, 0);
+                for ((k, o), gap, b) in &blobs {
+                    a.set_max_gap(*gap);
+                    if (*k, *o) == (1.0, 0.0) {
+                        chunk::decode(b, |t, v| a.push(t, v))?;
+                    } else {
+                        chunk::decode(b, |t, v| a.push(t, v * k + o))?;
+                    }
                 }
-                Ok(a.finish())
+                Ok(a.finish_with_partial())
             }
         }));
     }
@@ -148,7 +234,7 @@ pub async fn load_frame(
         aligned.push(joined(h.await)?);
     }
     let mut columns = Vec::with_capacity(chans.len());
-    for (c, values) in chans.iter().zip(aligned) {
+    for (c, (values, partial)) in chans.iter().zip(aligned) {
         let signal = match c.quantity.as_str() {
             "power" | "energy" => Signal::Power,
             "pressure" => Signal::Pressure,
@@ -160,6 +246,7 @@ pub async fn load_frame(
             compressor: c.compressor_id.and_then(|id| compressor_ids.iter().position(|&x| x == id)),
             label: c.name(),
             values,
+            partial,
         });
     }
     Ok(Some(Frame { grid, columns }))
@@ -175,10 +262,13 @@ pub struct ChartPoint {
 }
 
 /// A channel's readings between `from` and `to`, downsampled to at most `max_points` buckets of
-/// min/mean/max, read from the minute or hour rollups (never from raw chunks).
+/// min/mean/max, read from the minute or hour rollups (never from raw chunks), with the site's air
+/// `site` applied to each upload's rollups as they are stored (an affine step with a positive
+/// scale, so min, max and mean map exactly).
 pub async fn chart_series(
     pool: &SqlitePool,
-    channel_id: i64,
+    site: &SiteAir,
+    channel: &ChannelInfo,
     from_ms: i64,
     to_ms: i64,
     max_points: usize,
@@ -192,6 +282,14 @@ pub async fn chart_series(
         raw_bucket.div_euclid(MINUTE_MS).max(1) * MINUTE_MS
     };
     let mut out: Vec<(i64, Acc)> = vec![];
+    let channel_id = channel.id;
+    let to_site = |upload_id: i64, a: Acc| {
+        let (k, o) = channel.to_site(upload_id, site);
+        if (k, o) == (1.0, 0.0) {
+            return a;
+        }
+        Acc { n: a.n, min: a.min * k + o, max: a.max * k + o, sum: a.sum * k + o * f64::from(a.n) }
+    };
     let mut add = |t: i64, a: Acc| {
         let b = from_ms + (t - from_ms).div_euclid(bucket) * bucket;
         match out.last_mut() {
@@ -201,7 +299,7 @@ pub async fn chart_series(
     };
     if use_hours {
         let rows = sqlx::query(
-            "SELECT r.hour_ms, r.n, r.min, r.max, r.sum FROM rollup_hour r JOIN upload u ON u.id = r.upload_id \
+            "SELECT r.hour_ms, r.upload_id, r.n, r.min, r.max, r.sum FROM rollup_hour r JOIN upload u ON u.id = r.upload_id \
              AND u.state = 'complete' WHERE r.channel_id = ? AND r.hour_ms >= ? AND r.hour_ms <= ? ORDER BY r.hour_ms",
         )
         .bind(channel_id)
@@ -213,12 +311,15 @@ pub async fn chart_series(
             let n: i64 = r.get("n");
             add(
                 r.get("hour_ms"),
-                Acc { n: n as u32, min: r.get("min"), max: r.get("max"), sum: r.get("sum") },
+                to_site(
+                    r.get("upload_id"),
+                    Acc { n: n as u32, min: r.get("min"), max: r.get("max"), sum: r.get("sum") },
+                ),
             );
         }
     } else {
         let rows = sqlx::query(
-            "SELECT r.day_ms, r.data FROM rollup_minute r JOIN upload u ON u.id = r.upload_id AND u.state = 'complete' \
+            "SELECT r.day_ms, r.upload_id, r.data FROM rollup_minute r JOIN upload u ON u.id = r.upload_id AND u.state = 'complete' \
              WHERE r.channel_id = ? AND r.day_ms >= ? AND r.day_ms <= ? ORDER BY r.day_ms",
         )
         .bind(channel_id)
@@ -228,10 +329,11 @@ pub async fn chart_series(
         .await?;
         for r in rows {
             let day: i64 = r.get("day_ms");
+            let upload_id: i64 = r.get("upload_id");
             let blob: Vec<u8> = r.get("data");
             decode_day(day, &blob, |t, a| {
                 if t >= from_ms && t <= to_ms {
-                    add(t, a)
+                    add(t, to_site(upload_id, a))
                 }
             })?;
         }

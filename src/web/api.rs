@@ -252,7 +252,7 @@ pub async fn series(
         .ok_or_else(|| AppError::NotFound(format!("audit {id} has no channel {}", q.channel)))?;
     let w = window(&Window { from: q.from.clone(), to: q.to.clone() })?.unwrap_or((c.first_ms, c.last_ms));
     let points = q.points.unwrap_or(600).clamp(10, 2000);
-    let pts = st.app.chart_series(c.id, w.0.max(c.first_ms), w.1.min(c.last_ms), points).await?;
+    let pts = st.app.chart_series(&b, c, w.0.max(c.first_ms), w.1.min(c.last_ms), points).await?;
     let unit = match c.quantity.as_str() {
         "power" => "W",
         "energy" => "J",

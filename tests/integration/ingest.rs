@@ -676,3 +676,152 @@ fn a_file_with_a_units_row_and_error_markers_imports_with_the_markers_counted() 
     let flow = q.as_array().unwrap().iter().find(|c| c["label"] == "Flow").unwrap();
     assert_eq!(flow["marked"]["examples"][0], json!({"line": 13, "text": "1.#QNAN"}));
 }
+
+/// Issue 14, readings that follow the site: uploaded at sea level, then the site is put at its
+/// real 1000 m. Free air from a normal-flow meter grows by the ratio of the two atmospheres (ISO
+/// 2533 standard atmosphere: 101.325 kPa at 0 m, 89.875 kPa at 1000 m; the server derives the
+/// atmosphere from the altitude with ASHRAE's fit to it, within 6e-6 of the table) and a logged
+/// gauge pressure reads the same gauge pressure.
+#[test]
+fn a_site_edit_after_an_import_re_derives_free_air_and_keeps_gauge_pressure() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let mut mapping = cycling_mapping();
+    mapping["columns"][2]["unit"] = json!("Nm3_min");
+    assert_eq!(s.upload(id, "a.csv", cycling_csv(2).as_bytes(), &mapping, "").status, 201);
+    let summary = || {
+        let r = s.get(&format!("/api/v1/audits/{id}/summary"));
+        assert_eq!(r.status, 200, "{}", r.text);
+        r.json()
+    };
+    let series = |quantity: &str| {
+        let ch = s.get(&format!("/api/v1/audits/{id}/channels")).json();
+        let c = ch["channels"].as_array().unwrap().iter().find(|c| c["quantity"] == quantity).unwrap()["id"]
+            .clone();
+        let r = s.get(&format!("/api/v1/audits/{id}/series?channel={c}&points=10"));
+        assert_eq!(r.status, 200, "{}", r.text);
+        let m = r.json()["mean"].as_array().unwrap().iter().map(|v| v.as_f64().unwrap()).collect::<Vec<_>>();
+        m.iter().sum::<f64>() / m.len() as f64
+    };
+    let before = summary();
+    let (p_series0, q_series0) = (series("pressure"), series("flow"));
+    let r = s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"altitude_m": 1000}}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let after = summary();
+    let flow = |v: &Value| v["system"]["mean_flow_m3_min"].as_f64().unwrap();
+    let gauge = |v: &Value| v["pressure"]["mean_bar_g"].as_f64().unwrap();
+    let ratio = flow(&after) / flow(&before);
+    assert!((ratio - 101.325 / 89.875).abs() < 1e-5, "free air {} -> {} m3/min", flow(&before), flow(&after));
+    // Frames hold f32: 1e-5 bar is 1 Pa in 800 kPa.
+    assert!((gauge(&after) - gauge(&before)).abs() < 1e-5, "{} -> {} bar(g)", gauge(&before), gauge(&after));
+    assert!((gauge(&before) - 6.96).abs() < 0.01, "logged 7.2 bar(g) 4 of 20 readings, else 6.9");
+    // The chart series (rollups, SI: Pa absolute, m³/s free air) follow the same edit.
+    let (p_series1, q_series1) = (series("pressure"), series("flow"));
+    assert!(
+        ((p_series0 - p_series1) - (101_325.0 - 89_875.0)).abs() < 1.0,
+        "{p_series0} -> {p_series1} Pa abs"
+    );
+    assert!((q_series1 / q_series0 - 101.325 / 89.875).abs() < 1e-5);
+}
+
+/// An actual-volume flow without its line conditions is refused naming the column, not read as
+/// free air (issue 14).
+#[test]
+fn an_actual_volume_flow_without_line_conditions_is_refused_naming_its_column() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let mut mapping = cycling_mapping();
+    mapping["columns"][2]["unit"] = json!("am3_min");
+    let r = s.upload(id, "a.csv", cycling_csv(1).as_bytes(), &mapping, "");
+    assert_eq!(r.status, 422, "{}", r.text);
+    let e = &r.json()["error"];
+    assert_eq!(e["column"], "flow m3/min", "{e}");
+    assert_eq!(e["field"], "columns[2].line", "{e}");
+    assert!(e["message"].as_str().unwrap().contains("line conditions"), "{e}");
+    // With them it imports.
+    mapping["columns"][2]["line"] = json!({"pressure_bar_g": 7, "temperature_c": 30});
+    assert_eq!(s.upload(id, "a.csv", cycling_csv(1).as_bytes(), &mapping, "").status, 201);
+}
+
+/// Issue 14: a day-shift log with night gaps. The logging interval is the typical step (5 min),
+/// not the span over the readings (which the nights stretch to 11.6 min), and the bins at each
+/// day's ends count for the time they were logged.
+///
+/// Exact mean by hand: each day the power rises in a straight line from 10 kW to 48.4 kW in 96 steps
+/// of 5 min (0.4 kW a step); read as instantaneous values joined by straight lines (the trapezoid
+/// rule, exact for a line), a day's time-weighted mean is (10 + 48.4) / 2 = 29.2 kW, and the three
+/// days are equally long, so the log's time-weighted mean is 29.2 kW.
+#[test]
+fn night_gaps_neither_stretch_the_interval_nor_bias_the_mean_power() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let mut csv = String::from("time,C1 kW\n");
+    let first = 1_777_881_600 + 90; // 2026-05-04T08:01:30Z: the day's ends fall inside 5-min bins
+    for day in 0..3 {
+        for k in 0..=96i64 {
+            let t = first + day * 86_400 + k * 300;
+            csv.push_str(&format!("{},{:.1}\n", jiff_like_rfc3339(t), 10.0 + 0.4 * k as f64));
+        }
+    }
+    let mapping = json!({"timestamp": {"column": "time", "format": "rfc3339"},
+        "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"}]});
+    let r = s.upload(id, "days.csv", csv.as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    assert_eq!(r.json()["interval_s"], 300.0);
+    let j = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(j["period"]["step_s"], 300.0, "bins of the typical interval: {}", j["period"]);
+    let mean = j["system"]["mean_power_kw"].as_f64().unwrap();
+    assert!((mean / 29.2 - 1.0).abs() < 1e-3, "mean power {mean} kW, exact 29.2 kW");
+    // Energy: 29.2 kW over 3 × 8 h logged = 700.8 kWh.
+    let e = j["system"]["energy_kwh"].as_f64().unwrap();
+    assert!((e / 700.8 - 1.0).abs() < 1e-3, "energy {e} kWh, exact 700.8 kWh");
+}
+
+/// Issue 14, current to power: a compressor logged in amps. With one power factor for both states
+/// the summary warns of it and the energy's range is at least ±15 % of the power factor with ±2 %
+/// of the current logger in quadrature; calibrated from a spot kW reading per state it narrows to
+/// the spot readings' 2 % with the current's 2 %. Relative uncertainties of a product (P = √3 V I PF)
+/// add in quadrature (JCGM 100:2008, the GUM, 5.1.6).
+#[test]
+fn a_power_factor_uncertainty_reaches_the_energy_range_and_one_power_factor_is_flagged() {
+    let s = Server::start();
+    let mut csv = String::from("time,C1 A\n");
+    for i in 0..720i64 {
+        let amps = if i % 20 < 4 { 95.0 } else { 35.0 };
+        csv.push_str(&format!("{},{amps}\n", jiff_like_rfc3339(1_777_881_600 + i * 10)));
+    }
+    let run = |column: Value| {
+        let id = s.audit_with_compressor("C1");
+        let mapping = json!({"timestamp": {"column": "time", "format": "rfc3339"}, "columns": [column]});
+        let r = s.upload(id, "amps.csv", csv.as_bytes(), &mapping, "");
+        assert_eq!(r.status, 201, "{}", r.text);
+        let j = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+        let c = j["compressors"][0].clone();
+        let (e, lo, hi) = (
+            c["energy_kwh"].as_f64().unwrap(),
+            c["energy_kwh_low"].as_f64().unwrap(),
+            c["energy_kwh_high"].as_f64().unwrap(),
+        );
+        (e, (hi - e) / e, (e - lo) / e, j["warnings"].clone())
+    };
+    let single = json!({"column": "C1 A", "quantity": "current", "unit": "A", "compressor": "C1",
+                        "volts": 400, "power_factor": 0.85});
+    let (_, up, down, warnings) = run(single);
+    // By hand: sqrt(0.02² + 0.15²) = 0.151327.
+    assert!((up - 0.151_327).abs() < 1e-5 && (down - 0.151_327).abs() < 1e-5, "±{up} / {down}");
+    assert!(
+        warnings[0].as_str().unwrap().starts_with("C1: power from current with one power factor"),
+        "{warnings}"
+    );
+    // Spot readings: 55 kW at 95 A loaded, 14 kW at 35 A unloaded, 400 V three-phase. By hand,
+    // PF = P / (√3 V I): 55,000 / (1.7320508 × 400 × 95) = 0.835639 and 14,000 / (1.7320508 × 400 ×
+    // 35) = 0.577350, so the power is the spot power wherever the current is the spot current.
+    let spots = json!({"column": "C1 A", "quantity": "current", "unit": "A", "compressor": "C1",
+                       "volts": 400, "loaded_spot": {"a": 95, "kw": 55},
+                       "unloaded_spot": {"a": 35, "kw": 14}, "unloaded_below_a": 60});
+    let (e, up, _, warnings) = run(spots);
+    assert!((up - 0.028_284).abs() < 1e-5, "±{up}: sqrt(0.02² + 0.02²) = 0.028284");
+    assert_eq!(warnings, json!([]));
+    // 4 of 20 readings at 55 kW, 16 at 14 kW: a mean of 22.2 kW over 2 h less one 10 s step.
+    assert!((e - 22.2 * 7190.0 / 3600.0).abs() < 0.05, "energy {e} kWh");
+}

@@ -278,4 +278,7 @@ pub struct Summary {
     pub recommendations: Vec<Recommendation>,
     pub methods: Vec<Method>,
     pub assumptions: Vec<String>,
+    /// Sources of error a reader should know of (one power factor for a machine logged in amps).
+    #[serde(default)]
+    pub warnings: Vec<String>,
 }

@@ -4,7 +4,7 @@ energy, the trim machine and its marginal specific power, what the measures need
 the per-compressor figures of the summary.
 
 - **Energy and mean power**: each compressor's power column is integrated over its logged bins
-  (`series::integrate`); system energy and mean power are the sums over compressors, so a gap in one
+  (`series::integrate_weighted`: a bin at a gap's edge counts for the time it was logged); system energy and mean power are the sums over compressors, so a gap in one
   logger does not drop the others.
 - **Trim machine**: a running variable-speed machine if there is one (a sequencer trims with it);
   otherwise the machine with the largest share of its running time unloaded or at part load.
@@ -12,7 +12,7 @@ the per-compressor figures of the summary.
 
 use crate::core::model::{CompressorSpec, Control};
 use crate::core::recommend::MachineUse;
-use crate::core::series::{integrate, sum_columns, Frame, Integral};
+use crate::core::series::{integrate_weighted, sum_columns, Frame, Integral};
 use crate::core::states::{self, State, StateStats};
 use crate::core::units::kw_per_100cfm;
 
@@ -76,8 +76,18 @@ pub(super) struct MachineEnergy {
 
 /// Energy per compressor.
 pub(super) fn energy(frame: &Frame, logged: &Logged) -> MachineEnergy {
-    let integ: Vec<Option<Integral>> =
-        logged.powers.iter().map(|p| p.map(|p| integrate(&frame.grid, p))).collect();
+    // Partly covered bins (a gap's edges) count for the time they were logged.
+    let integ: Vec<Option<Integral>> = logged
+        .powers
+        .iter()
+        .enumerate()
+        .map(|(i, p)| {
+            p.map(|p| {
+                let partial = frame.power_of(i).map_or(&[][..], |c| c.partial.as_slice());
+                integrate_weighted(&frame.grid, p, partial)
+            })
+        })
+        .collect();
     let energy_kwh: Vec<f64> = integ.iter().map(|i| i.map_or(0.0, |i| i.total / 3.6e6)).collect();
     let mean_kw: Vec<f64> = integ
         .iter()

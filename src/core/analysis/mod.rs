@@ -248,6 +248,19 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         );
     }
     let u_flow = if flow_estimated { acc.flow_estimated_rel } else { acc.flow_rel };
+    let warnings: Vec<String> = cs
+        .iter()
+        .filter(|c| acc.single_power_factor.contains(&c.tag))
+        .map(|c| {
+            format!(
+                "{}: power from current with one power factor for loaded and unloaded running; the power \
+                 factor falls unloaded, so unloaded power is overstated (energy ±{:.0} %): give \
+                 unloaded_power_factor or a spot kW reading per state",
+                c.tag,
+                100.0 * power_rel(acc, c)
+            )
+        })
+        .collect();
     let energy_kwh = &d.energy.energy_kwh;
     let sys_energy: f64 = energy_kwh.iter().sum();
     let sys_mean_kw: f64 = d.energy.mean_kw.iter().sum();
@@ -423,5 +436,6 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         recommendations: recs,
         methods,
         assumptions,
+        warnings,
     }
 }

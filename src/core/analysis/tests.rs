@@ -24,7 +24,7 @@ fn summarize(frame: &Frame, input: &AuditInput) -> Summary {
 const MONDAY_MS: i64 = 1_772_409_600_000;
 
 fn col(signal: Signal, compressor: Option<usize>, values: Vec<f32>) -> FrameColumn {
-    FrameColumn { signal, compressor, label: String::new(), values }
+    FrameColumn { signal, compressor, label: String::new(), values, partial: vec![] }
 }
 
 fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame, leaks: Vec<LeakEstimate>) -> Summary {

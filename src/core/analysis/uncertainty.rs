@@ -30,6 +30,15 @@ pub struct Accuracy {
     pub volume_rel: f64,
     /// Tags of compressors whose power is derived from current.
     pub current_derived_power: Vec<String>,
+    /// Current logger (clamp-on transformer), of reading (common practice: ±2 %, from memory).
+    pub current_clamp_rel: f64,
+    /// Per compressor whose power is made from current with a known power factor: the power
+    /// factor's relative uncertainty (the mapping's, `ingest::mapping` rules). Without an entry,
+    /// `power_current_rel` stands for both.
+    pub power_factor_rel: Vec<(String, f64)>,
+    /// Compressors whose power is made from current with one power factor for loaded and unloaded
+    /// running: a source of error the summary warns of.
+    pub single_power_factor: Vec<String>,
 }
 
 impl Default for Accuracy {
@@ -43,6 +52,9 @@ impl Default for Accuracy {
             pressure_rel_of_span: 0.005,
             volume_rel: 0.20,
             current_derived_power: Vec::new(),
+            current_clamp_rel: 0.02,
+            power_factor_rel: Vec::new(),
+            single_power_factor: Vec::new(),
         }
     }
 }
@@ -80,11 +92,18 @@ pub(super) fn band(v: f64, rel: f64) -> (f64, f64) {
     (v * (1.0 - rel), v * (1.0 + rel))
 }
 
-/// Relative uncertainty of a compressor's logged power (current-derived or true power).
+/// Relative uncertainty of a compressor's logged power: true power's; or, made from current, the
+/// current's and the power factor's in quadrature (P = k I PF, GUM law for a product) when the
+/// power factor's is known, else `power_current_rel`.
 pub(super) fn power_rel(acc: &Accuracy, c: &CompressorSpec) -> f64 {
-    if acc.current_derived_power.contains(&c.tag) {
-        acc.power_current_rel
-    } else {
-        acc.power_true_rel
+    if !acc.current_derived_power.contains(&c.tag) {
+        return acc.power_true_rel;
     }
+    let pf = acc
+        .power_factor_rel
+        .iter()
+        .filter(|(t, _)| *t == c.tag)
+        .map(|(_, r)| *r)
+        .fold(None, |m: Option<f64>, r| Some(m.map_or(r, |m| m.max(r))));
+    pf.map_or(acc.power_current_rel, |pf| quad(&[acc.current_clamp_rel, pf]))
 }

@@ -18,7 +18,13 @@ fn flow_frame(hours: f64, flow_m3_min: impl Fn(usize) -> f64) -> Frame {
     let values = (0..len).map(|i| (flow_m3_min(i) / 60.0) as f32).collect();
     Frame {
         grid,
-        columns: vec![FrameColumn { signal: Signal::Flow, compressor: None, label: "flow".into(), values }],
+        columns: vec![FrameColumn {
+            signal: Signal::Flow,
+            compressor: None,
+            label: "flow".into(),
+            values,
+            partial: vec![],
+        }],
     }
 }
 
@@ -318,6 +324,7 @@ fn demo_frame(plant: &crate::demo::DemoPlant) -> (Frame, SiteAir) {
             compressor: Some(i),
             label: format!("C{} kW", i + 1),
             values: a.finish(),
+            partial: vec![],
         })
         .collect();
     // Header: RFC 3339 stamps 7 s fast (clock_offset_s), pressure instantaneous, flow the 10 s mean.
@@ -340,12 +347,14 @@ fn demo_frame(plant: &crate::demo::DemoPlant) -> (Frame, SiteAir) {
         compressor: None,
         label: "p".into(),
         values: ap.finish(),
+        partial: vec![],
     });
     columns.push(FrameColumn {
         signal: Signal::Flow,
         compressor: None,
         label: "q".into(),
         values: aq.finish(),
+        partial: vec![],
     });
     (Frame { grid, columns }, site)
 }
@@ -431,7 +440,13 @@ fn timing_a_week_at_10_s_and_a_year_at_1_s() {
     let values = (0..len).map(|i| ((12.0 + 6.0 * ((i as f64) / 5000.0).sin()) / 60.0) as f32).collect();
     let year = Frame {
         grid,
-        columns: vec![FrameColumn { signal: Signal::Flow, compressor: None, label: "q".into(), values }],
+        columns: vec![FrameColumn {
+            signal: Signal::Flow,
+            compressor: None,
+            label: "q".into(),
+            values,
+            partial: vec![],
+        }],
     };
     let t = std::time::Instant::now();
     let r = run_plant(&year, &c, 7.5, Some(2.4), &as_is());

@@ -22,7 +22,7 @@ fn scale(code: &str) -> f64 {
     match unit_of(code).to_si {
         ToSi::Scale(k) => k,
         ToSi::Pressure { pa_per_unit, .. } => pa_per_unit,
-        ToSi::Flow { m3_s_per_unit, .. } => m3_s_per_unit,
+        ToSi::Flow { m3_s_per_unit, .. } | ToSi::LineFlow { m3_s_per_unit } => m3_s_per_unit,
         ToSi::Temperature { scale, .. } => scale,
     }
 }

@@ -2,22 +2,30 @@
 The mapping of a logger file (which column is which quantity, in which unit) and its validation
 against the file's header into a [`Plan`].
 
-Every logged value becomes canonical SI on the way in (see `core::units`): pressure in Pa absolute,
-flow in m³/s of free air at the site inlet, power in W (current becomes power), energy counters in J,
-temperature in K. The units a mapping may name, their spellings and their factors are the one table
-of [`crate::core::unit_table`]; [`rules`] turns a column's unit into its conversion:
+Every logged value becomes SI units on the way in, on the basis the meter logged
+(`core::basis`; the site's air is applied when the readings are read): pressure in Pa, gauge or
+absolute as logged, flow in m³/s free air, at reference conditions or at line conditions, power in
+W (current becomes power), energy counters in J, temperature in K. The units a mapping may name,
+their spellings and their factors are the one table of [`crate::core::unit_table`]; [`rules`] turns
+a column's unit into its conversion and basis:
 
-- Gauge pressure is made absolute with the site's atmosphere. A bare `bar` or `psi` is refused: the
-  mapping must say gauge or absolute (the sniffer proposes gauge, common shop practice).
-- Reference-condition flows are converted to free air at the site inlet with their `reference`
-  (dry ideal gas, `SiteAir::free_air_from_reference`). Defaults when `reference` is absent:
+- Gauge pressure stays gauge (absolute with the site's atmosphere when read). A bare `bar` or
+  `psi` is refused: the mapping must say gauge or absolute (the sniffer proposes gauge, common shop
+  practice).
+- Reference-condition flows keep their `reference` (free air at the site inlet when read, dry
+  ideal gas, `SiteAir::free_air_from_reference`). Defaults when `reference` is absent:
   `Nm3` DIN 1343 (101.325 kPa, 0 °C), `Sm3` ISO 1217 standard inlet (100 kPa, 20 °C), `scfm` ASME
   (14.696 psia, 68 °F). A `reference` on a free-air unit is refused rather than guessed at.
+- Actual-volume flows (`acfm`, `am3_min`, `am3_h`) need `line`: a fixed line pressure and
+  temperature (stored as logged, made free air when read), or a mapped pressure column (each row made
+  normal volume with that row's pressure); refused naming the column without them.
 - Current to power: P = sqrt(3) V_LL I PF for three phases, V I PF for one (the active power of a
   balanced load, IEC 60050; reading power from logged amps so is common practice); `phases`
   defaults to 3. With
   `unloaded_power_factor` and `unloaded_below_a`, a current below that threshold uses the unloaded
-  power factor (PF falls steeply at no load).
+  power factor (PF falls steeply at no load). `loaded_spot` / `unloaded_spot` (amps and kW read
+  beside the logger) calibrate a state's power factor instead; the power factors' uncertainty goes
+  with the channel to the power's range (`rules::pf_uncertainty`).
 - Power, energy and current columns must name their `compressor`.
 */
 
@@ -27,6 +35,7 @@ mod tests;
 
 pub use rules::{Converter, UnitRule};
 
+use crate::core::basis::{Basis, CurrentPf};
 use crate::core::unit_table::{self, LoggedQuantity};
 use crate::core::units::{ReferenceConditions, SiteAir};
 use crate::ingest::text::Encoding;
@@ -122,6 +131,41 @@ pub struct ColumnMap {
     pub unloaded_below_a: Option<f64>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub phases: Option<u8>,
+    /// ± the power factor(s), absolute (a standard uncertainty: 0.05 for ±0.05).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub power_factor_uncertainty: Option<f64>,
+    /// A spot reading of current and true power while loaded, to calibrate the power factor from.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub loaded_spot: Option<SpotReading>,
+    /// The same while running unloaded (needs `unloaded_below_a`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub unloaded_spot: Option<SpotReading>,
+    /// The line conditions of an actual-volume flow (`acfm`, `am3_min`, `am3_h`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub line: Option<LineConditions>,
+}
+
+/// A spot reading taken beside the current logger with a true-power meter: amps and kW.
+#[derive(Debug, Clone, Copy, Serialize, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct SpotReading {
+    pub a: f64,
+    pub kw: f64,
+}
+
+/// Where an actual-volume flow meter sits: its line pressure (a fixed value, gauge or absolute, or
+/// a mapped pressure column of the same file) and its line temperature, °C.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, Default)]
+#[serde(deny_unknown_fields)]
+pub struct LineConditions {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub pressure_bar_g: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub pressure_bar_a: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub pressure_column: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub temperature_c: Option<f64>,
 }
 
 impl ColumnMap {
@@ -138,6 +182,10 @@ impl ColumnMap {
             unloaded_power_factor: None,
             unloaded_below_a: None,
             phases: None,
+            power_factor_uncertainty: None,
+            loaded_spot: None,
+            unloaded_spot: None,
+            line: None,
         }
     }
 }
@@ -177,6 +225,10 @@ pub struct ChannelDef {
     pub unit: String,
     /// 0-based field index in the row.
     pub column_index: usize,
+    /// The basis its readings are stored on (`core::basis`).
+    pub basis: Basis,
+    /// Power made from current: how its power factor was known.
+    pub current: Option<CurrentPf>,
 }
 
 /// A mapping resolved against a header.
@@ -185,6 +237,9 @@ pub struct Plan {
     pub channels: Vec<ChannelDef>,
     /// Conversion rule per channel (same order as `channels`).
     pub rules: Vec<UnitRule>,
+    /// Per channel: the channel whose readings are its line pressure (a line flow read against a
+    /// mapped pressure column).
+    pub line_pressure: Vec<Option<usize>>,
     pub delimiter: u8,
     pub decimal: u8,
     pub header_line: u32,
@@ -257,16 +312,42 @@ pub fn channel_defs(mapping: &Mapping) -> Result<Vec<ChannelDef>, IngestError> {
         .iter()
         .enumerate()
         .map(|(i, c)| {
-            let (quantity, _) = column_rule(c, i)?;
+            let (quantity, rule) = column_rule(c, i)?;
+            line_pressure_channel(mapping, c, i)?;
             Ok(ChannelDef {
                 quantity,
                 compressor: c.compressor.as_ref().map(|s| s.trim().to_string()).filter(|s| !s.is_empty()),
                 label: c.column.trim().to_string(),
                 unit: c.unit.clone(),
                 column_index: i,
+                basis: rule.basis(),
+                current: rule.current_pf(),
             })
         })
         .collect()
+}
+
+/// For a line flow read against `line.pressure_column`: the index (in the mapping's columns, the
+/// order of the channels) of that column, which must be a mapped pressure column.
+fn line_pressure_channel(mapping: &Mapping, c: &ColumnMap, i: usize) -> Result<Option<usize>, IngestError> {
+    let Some(name) = c.line.as_ref().and_then(|l| l.pressure_column.as_deref()) else { return Ok(None) };
+    let name = name.trim();
+    mapping
+        .columns
+        .iter()
+        .position(|p| p.column.trim() == name && p.quantity.trim().eq_ignore_ascii_case("pressure"))
+        .map(Some)
+        .ok_or_else(|| {
+            IngestError::field(
+                format!("columns[{i}].line.pressure_column"),
+                format!(
+                    "line pressure column {name:?} of flow column {:?} is not a mapped pressure column \
+                     (map it with quantity \"pressure\" and its unit)",
+                    c.column
+                ),
+            )
+            .with_column(c.column.clone())
+        })
 }
 
 /// The units the mapping form offers for each quantity, from [`unit_table::choices`]: the code
@@ -320,17 +401,21 @@ pub fn plan(mapping: &Mapping, header: &[String]) -> Result<Plan, IngestError> {
     let timestamps = TimestampParser::new(&ts.format, &ts.timezone, mapping.clock_offset_s)?;
     let mut channels = Vec::with_capacity(mapping.columns.len());
     let mut rules = Vec::with_capacity(mapping.columns.len());
+    let mut line_pressure = Vec::with_capacity(mapping.columns.len());
     for (i, c) in mapping.columns.iter().enumerate() {
         let column_index = find_column(header, &c.column).map_err(|m| {
             IngestError::field(format!("columns[{i}].column"), m).with_column(c.column.clone())
         })?;
         let (quantity, rule) = column_rule(c, i)?;
+        line_pressure.push(line_pressure_channel(mapping, c, i)?);
         channels.push(ChannelDef {
             quantity,
             compressor: c.compressor.as_ref().map(|s| s.trim().to_string()),
             label: header[column_index].trim().to_string(),
             unit: c.unit.clone(),
             column_index,
+            basis: rule.basis(),
+            current: rule.current_pf(),
         });
         rules.push(rule);
     }
@@ -340,6 +425,7 @@ pub fn plan(mapping: &Mapping, header: &[String]) -> Result<Plan, IngestError> {
     Ok(Plan {
         channels,
         rules,
+        line_pressure,
         delimiter,
         decimal,
         header_line: mapping.header_line,

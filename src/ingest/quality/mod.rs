@@ -180,6 +180,9 @@ pub struct ChannelQuality {
     pub compressor: Option<String>,
     pub unit: String,
     pub readings: u64,
+    /// The channel's typical logging interval: the median of its steps between readings (a
+    /// bounded histogram, see `gaps`), so night gaps do not stretch it.
+    pub median_interval_s: Option<f64>,
     /// Lines with a missing-value cell (empty, a marker such as `#N/A` or `1.#QNAN`, or text).
     pub missing: Findings<u64>,
     /// The missing cells that held something, with their text: markers and text where a number

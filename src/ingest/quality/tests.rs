@@ -10,6 +10,8 @@ fn chan(q: Quantity, unit: &str) -> ChannelDef {
         label: format!("C1 {unit}"),
         unit: unit.into(),
         column_index: 1,
+        basis: crate::core::basis::Basis::Site,
+        current: None,
     }
 }
 

@@ -92,6 +92,7 @@ impl QualityTracker {
                         compressor: c.compressor.clone(),
                         unit: c.unit.clone(),
                         readings: 0,
+                        median_interval_s: None,
                         missing: Findings::default(),
                         marked: Findings::default(),
                         unreadable: 0,
@@ -272,6 +273,7 @@ impl QualityTracker {
                 // A channel's gaps are judged against the file's interval: a channel logged every
                 // row has none beyond the file's own.
                 c.q.gaps = c.intervals.report(median.or_else(|| c.intervals.median_ms()));
+                c.q.median_interval_s = c.intervals.median_ms().map(|m| m as f64 / 1000.0);
                 c.q
             })
             .collect();

@@ -12,6 +12,7 @@ use tokio::sync::mpsc;
 use super::encoder::{encode_runs, run_length, ChannelBuf, ChunkSink, Msg, Work, ENCODER_QUEUE};
 use super::replace::cut_out;
 use super::{bad, ChannelSpan, ImportError, ImportRequest, ImportSummary, PlannedChannel, Progress, BATCH};
+use crate::core::basis::StoredForm;
 use crate::ingest::{self, IngestError};
 use crate::store::audits::{bump, ms_to_rfc3339};
 use crate::store::chunk::Precision;
@@ -111,7 +112,7 @@ pub(super) async fn run_import(
     let mut channel_spans = vec![];
     let mut readings = 0u64;
     let mut dropped_total = 0u64;
-    for (p, (first, last, n, dropped)) in planned.iter().zip(&spans) {
+    for (i, ((p, def), (first, last, n, dropped))) in planned.iter().zip(defs).zip(&spans).enumerate() {
         dropped_total += dropped;
         let (Some(first), Some(last)) = (*first, *last) else { continue };
         readings += n;
@@ -138,14 +139,28 @@ pub(super) async fn run_import(
             }
             cut_out(&mut tx, p.id, upload_id, first, last).await?;
         }
-        sqlx::query("INSERT INTO upload_channel (upload_id, channel_id, first_ms, last_ms, readings) VALUES (?, ?, ?, ?, ?)")
-            .bind(upload_id)
-            .bind(p.id)
-            .bind(first)
-            .bind(last)
-            .bind(*n as i64)
-            .execute(&mut *tx)
-            .await?;
+        // Stored as measured; the site's air is applied when read (`core::basis`).
+        let form = StoredForm { current: def.current, ..StoredForm::measured(def.basis) };
+        let interval_ms = report
+            .quality
+            .channels
+            .get(i)
+            .and_then(|q| q.median_interval_s)
+            .map(|s| (s * 1000.0).round() as i64)
+            .filter(|&ms| ms > 0);
+        sqlx::query(
+            "INSERT INTO upload_channel (upload_id, channel_id, first_ms, last_ms, readings, stored_form, interval_ms) \
+             VALUES (?, ?, ?, ?, ?, ?, ?)",
+        )
+        .bind(upload_id)
+        .bind(p.id)
+        .bind(first)
+        .bind(last)
+        .bind(*n as i64)
+        .bind(serde_json::to_string(&form).unwrap_or_default())
+        .bind(interval_ms)
+        .execute(&mut *tx)
+        .await?;
         channel_spans.push(ChannelSpan {
             label: p.label.clone(),
             quantity: p.quantity.to_string(),

@@ -86,6 +86,8 @@ pub struct ReportView {
     pub heat: Vec<(String, String)>,
     pub methods: Vec<(String, String, String)>,
     pub assumptions: Vec<String>,
+    /// Sources of error the summary warns of (`Summary::warnings`).
+    pub warnings: Vec<String>,
     pub baseline_rule: String,
     pub chart_data: Value,
 }
@@ -137,6 +139,7 @@ fn empty_view() -> ReportView {
         heat: vec![],
         methods: vec![],
         assumptions: vec![],
+        warnings: vec![],
         baseline_rule: String::new(),
         chart_data: Value::Null,
     }
@@ -204,6 +207,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
             .map(|m| (figure_label(&m.figure), m.formula.clone(), m.source.clone()))
             .collect(),
         assumptions: sm.assumptions.clone(),
+        warnings: sm.warnings.clone(),
         baseline_rule: sm.baseline.rule.clone(),
         chart_data: chart_data(b, fmt, sm),
     }
