@@ -9,7 +9,7 @@ use crate::core::display::Fmt;
 use crate::core::model::{CompressorSpec, StorageSpec};
 use crate::site::{CompressorInput, CompressorRecord, ReceiverInput, ReceiverRecord, SitePatch, SiteRecord};
 use crate::store::audits::{self, Audit, AuditListItem, CompressorWrite, FieldTestRecord, UploadRecord};
-use crate::store::read::{self, ChannelInfo, ChartPoint};
+use crate::store::read::{self, ChannelInfo, ChartPoint, UploadChannelStats};
 
 use super::{App, Error, Result};
 
@@ -189,6 +189,16 @@ impl App {
         points: usize,
     ) -> Result<Vec<ChartPoint>> {
         Ok(read::chart_series(self.db(), channel, from_ms, to_ms, points).await?)
+    }
+
+    /// The channels one complete upload wrote, with the count and mean of their stored readings;
+    /// `None` when the audit has no such upload.
+    pub async fn upload_channel_stats(
+        &self,
+        audit_id: i64,
+        upload_id: i64,
+    ) -> Result<Option<Vec<UploadChannelStats>>> {
+        Ok(read::upload_channel_stats(self.db(), audit_id, upload_id).await?)
     }
 
     /// The mapping remembered for a file layout, as stored (JSON text).
