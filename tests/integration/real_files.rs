@@ -162,7 +162,26 @@ fn score(s: &Server, name: &str, bytes: &[u8], want: &Value) -> Score {
     if mapped.is_empty() {
         wrong.push("maps no column".into());
     }
-    sc.sniffed = if wrong.is_empty() { Ok(()) } else { Err(wrong.join("; ")) };
+    sc.sniffed = if wrong.is_empty() {
+        Ok(())
+    } else {
+        // What was proposed, in short, for whoever mends the sniffer.
+        let ts = &mapping["timestamp"];
+        let cols: Vec<String> =
+            mapped.iter().map(|c| format!("{} {} {}", c["column"], c["quantity"], c["unit"])).collect();
+        Err(format!(
+            "{} [proposed: delimiter {} decimal {} header_line {} timestamp {} + {} {} in {}; columns {}]",
+            wrong.join("; "),
+            mapping["delimiter"],
+            mapping["decimal"],
+            mapping["header_line"],
+            ts["column"],
+            ts["time_column"],
+            ts["format"],
+            ts["timezone"],
+            cols.join(", ")
+        ))
+    };
 
     for tag in &tags {
         let r = s.post_json(
