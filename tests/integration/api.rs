@@ -330,6 +330,7 @@ fn a_token_guards_every_page_and_endpoint_and_a_cookie_signs_in() {
         ("POST", "/audits/1/receivers"),
         ("DELETE", "/audits/1/receivers/1"),
         ("GET", "/audits/1/uploads"),
+        ("GET", "/audits/1/uploads/1"),
         ("POST", "/audits/1/uploads"),
         ("POST", "/audits/1/sniff"),
         ("GET", "/imports/some-token"),
