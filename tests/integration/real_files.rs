@@ -76,14 +76,31 @@ fn message(r: &Resp) -> String {
     format!("{}: {}", r.status, detail.unwrap_or_else(|| r.text.chars().take(300).collect()))
 }
 
-/// The proposal: the suggested mapping, with every power or energy column the sniffer read but
-/// left out for want of a compressor given a tag of its own. Returns the mapping and the tags.
+/// The proposal: the suggested mapping, with a compressor tag of its own for each power, energy or
+/// current column that has none, and for each power or energy column the sniffer read but left
+/// out for want of a compressor. Returns the mapping and the tags.
 fn proposal(sniff: &Value) -> (Value, Vec<String>) {
     let mut mapping = sniff["suggested_mapping"].clone();
     let mut columns = mapping["columns"].as_array().cloned().unwrap_or_default();
     let mut tags: Vec<String> =
         columns.iter().filter_map(|c| c["compressor"].as_str().map(str::to_string)).collect();
     let mut n = 0;
+    let mut new_tag = |tags: &mut Vec<String>| loop {
+        n += 1;
+        let t = format!("RF{n}");
+        if !tags.contains(&t) {
+            tags.push(t.clone());
+            break t;
+        }
+    };
+    // Proposed power, energy or current columns without a compressor get one.
+    for c in columns.iter_mut() {
+        let needs = matches!(c["quantity"].as_str(), Some("power" | "energy" | "current"));
+        if needs && c["compressor"].as_str().is_none() {
+            c["compressor"] = new_tag(&mut tags).into();
+        }
+    }
+    // Power and energy columns the sniffer read but left out for want of a compressor.
     for guess in sniff["sniffed"]["columns"].as_array().into_iter().flatten() {
         let quantity = guess["quantity"].as_str().unwrap_or("");
         if !matches!(quantity, "power" | "energy") || guess["unit"].is_null() {
@@ -92,16 +109,9 @@ fn proposal(sniff: &Value) -> (Value, Vec<String>) {
         if columns.iter().any(|c| c["column"] == guess["column"]) {
             continue;
         }
-        let tag = loop {
-            n += 1;
-            let t = format!("RF{n}");
-            if !tags.contains(&t) {
-                break t;
-            }
-        };
+        let tag = new_tag(&mut tags);
         columns.push(json!({"column": guess["column"], "quantity": quantity, "unit": guess["unit"],
                             "compressor": tag}));
-        tags.push(tag);
     }
     mapping["columns"] = Value::Array(columns);
     tags.sort();
@@ -209,13 +219,27 @@ fn compare(s: &Server, audit: i64, reply: &Value, mapping: &Value, want: &Value)
     if reply["rows"] != want["rows"] {
         wrong.push(format!("rows {} (oracle {})", reply["rows"], want["rows"]));
     }
+    // The upload's span is that of the readings it stored: the oracle's span of the mapped columns'
+    // readings (none when they hold none).
     let ts = &mapping["timestamp"];
-    for end in ["first", "last"] {
+    let mapped_want: Vec<&Value> = mapped
+        .iter()
+        .filter_map(|c| want["columns"].get(c["column"].as_str().unwrap_or("").trim()))
+        .collect();
+    let span = |end: &'static str| -> Vec<i64> {
+        mapped_want.iter().filter_map(|w| w[end].as_str().and_then(ms)).collect()
+    };
+    let spans = [("first", span("first").into_iter().min()), ("last", span("last").into_iter().max())];
+    for (end, want_ms) in spans {
         let got = reply[end].as_str().and_then(ms);
-        if got.is_none() || got != want[end].as_str().and_then(ms) {
+        if got != want_ms {
+            let shown = want_ms.map(|t| jiff::Timestamp::from_millisecond(t).expect("time").to_string());
             wrong.push(format!(
                 "{end} {} (oracle {}; proposed format {} in {})",
-                reply[end], want[end], ts["format"], ts["timezone"]
+                reply[end],
+                shown.as_deref().unwrap_or("none"),
+                ts["format"],
+                ts["timezone"]
             ));
         }
     }

@@ -16,7 +16,8 @@ time and never copied into the repository, and nothing read from them is written
 
 What is computed, and why:
 - `rows`: data records below the header (and its units or aggregation rows), blank lines apart.
-- `first`, `last`: the earliest and latest timestamp of a data row, in UTC. A local time is
+- `first`, `last`: the earliest and latest timestamp of a data row, in UTC; per column, of a row
+  with a reading in that column (an upload reports the span of the readings it stored). A local time is
   converted with the zone SOURCES.md gives (file 12: Europe/Berlin; file 14: its own offsets;
   file 13: its UTC column); where SOURCES.md names no zone the time is read as UTC, as the
   sniffer's proposal and a fresh audit do. An interval `a - b` is stamped at its start `a`
@@ -126,10 +127,13 @@ def summarise(rows, cols):
     for name, col in cols.items():
         pts = [(t.timestamp(), col.to_si(vals[name])) for t, vals in rows if vals.get(name) is not None]
         pts.sort(key=lambda p: p[0])
+        iso = lambda t: datetime.fromtimestamp(t, UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
         entry = {
             "quantity": col.quantity,
             "required": col.required,
             "readings": len(pts),
+            "first": iso(pts[0][0]) if pts else None,
+            "last": iso(pts[-1][0]) if pts else None,
             "mean_si": (sum(v for _, v in pts) / len(pts)) if pts else None,
         }
         if col.basis:
