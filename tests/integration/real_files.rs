@@ -237,7 +237,7 @@ fn compare(s: &Server, audit: i64, reply: &Value, mapping: &Value, want: &Value)
             wrong.push(format!(
                 "{end} {} (oracle {}; proposed format {} in {})",
                 reply[end],
-                shown.as_deref().unwrap_or("none"),
+                shown.as_deref().unwrap_or("none: no mapped column it reads holds a reading"),
                 ts["format"],
                 ts["timezone"]
             ));
