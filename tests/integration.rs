@@ -22,3 +22,5 @@ mod hostile_validation;
 mod hostile_web;
 #[path = "integration/ingest.rs"]
 mod ingest;
+#[path = "integration/real_files.rs"]
+mod real_files;

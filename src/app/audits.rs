@@ -9,7 +9,7 @@ use crate::core::display::Fmt;
 use crate::core::model::{CompressorSpec, StorageSpec};
 use crate::site::{CompressorInput, CompressorRecord, ReceiverInput, ReceiverRecord, SitePatch, SiteRecord};
 use crate::store::audits::{self, Audit, AuditListItem, CompressorWrite, FieldTestRecord, UploadRecord};
-use crate::store::read::{self, ChannelInfo, ChartPoint};
+use crate::store::read::{self, ChannelInfo, ChartPoint, UploadChannelStats};
 
 use super::{App, Error, Result};
 
@@ -200,6 +200,28 @@ impl App {
         points: usize,
     ) -> Result<Vec<ChartPoint>> {
         Ok(read::chart_series(self.db(), &b.audit.site.air(), channel, from_ms, to_ms, points).await?)
+    }
+
+    /// The channels one complete upload wrote, with the count and mean of their readings in SI
+    /// with the site's air applied (Pa absolute, m³/s of free air): stored on the meter's basis,
+    /// converted here as the chart series are. `None` when the audit has no such upload.
+    pub async fn upload_channel_stats(
+        &self,
+        b: &AuditBundle,
+        upload_id: i64,
+    ) -> Result<Option<Vec<UploadChannelStats>>> {
+        let Some(mut stats) = read::upload_channel_stats(self.db(), b.audit.id, upload_id).await? else {
+            return Ok(None);
+        };
+        let site = b.audit.site.air();
+        for s in &mut stats {
+            if let Some(c) = b.channels.iter().find(|c| c.id == s.channel_id) {
+                let (k, o) = c.to_site(upload_id, &site);
+                // k > 0 for every basis: the order of least and greatest holds.
+                (s.mean_si, s.min_si, s.max_si) = (s.mean_si * k + o, s.min_si * k + o, s.max_si * k + o);
+            }
+        }
+        Ok(Some(stats))
     }
 
     /// The mapping remembered for a file layout, as stored (JSON text).

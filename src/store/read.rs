@@ -340,3 +340,64 @@ pub async fn chart_series(
     }
     Ok(out.into_iter().map(|(t, a)| ChartPoint { t_ms: t, min: a.min, mean: a.mean(), max: a.max }).collect())
 }
+
+/// One channel's readings from one upload, from the hourly rollups: how many were stored and the
+/// arithmetic mean, least and greatest of their SI values (what was stored, not a time average).
+#[derive(Debug, Clone, Serialize)]
+pub struct UploadChannelStats {
+    pub channel_id: i64,
+    pub quantity: String,
+    pub compressor_tag: Option<String>,
+    pub label: String,
+    pub unit: String,
+    pub readings: i64,
+    pub mean_si: f64,
+    pub min_si: f64,
+    pub max_si: f64,
+}
+
+/// The channels upload `upload_id` of audit `audit_id` wrote readings to, with their statistics;
+/// `None` when the audit has no such complete upload.
+pub async fn upload_channel_stats(
+    pool: &SqlitePool,
+    audit_id: i64,
+    upload_id: i64,
+) -> Result<Option<Vec<UploadChannelStats>>, StoreError> {
+    let found: Option<i64> =
+        sqlx::query_scalar("SELECT id FROM upload WHERE id = ? AND audit_id = ? AND state = 'complete'")
+            .bind(upload_id)
+            .bind(audit_id)
+            .fetch_optional(pool)
+            .await?;
+    if found.is_none() {
+        return Ok(None);
+    }
+    let rows = sqlx::query(
+        "SELECT c.id, c.quantity, k.tag, c.label, c.unit, sum(r.n) AS n, sum(r.sum) AS total, \
+         min(r.min) AS lo, max(r.max) AS hi FROM rollup_hour r JOIN channel c ON c.id = r.channel_id \
+         LEFT JOIN compressor k ON k.id = c.compressor_id \
+         WHERE r.upload_id = ? GROUP BY c.id ORDER BY c.quantity, k.tag, c.label",
+    )
+    .bind(upload_id)
+    .fetch_all(pool)
+    .await?;
+    Ok(Some(
+        rows.iter()
+            .map(|r| {
+                let n: i64 = r.get("n");
+                let total: f64 = r.get("total");
+                UploadChannelStats {
+                    channel_id: r.get("id"),
+                    quantity: r.get("quantity"),
+                    compressor_tag: r.get("tag"),
+                    label: r.get("label"),
+                    unit: r.get("unit"),
+                    readings: n,
+                    mean_si: if n > 0 { total / n as f64 } else { f64::NAN },
+                    min_si: r.get("lo"),
+                    max_si: r.get("hi"),
+                }
+            })
+            .collect(),
+    ))
+}

@@ -190,6 +190,41 @@ pub async fn list_uploads(
     Ok(json(StatusCode::OK, &serde_json::json!({ "uploads": uploads })))
 }
 
+/// `GET /api/v1/audits/{id}/uploads/{upload_id}`: one upload as the list shows it, with
+/// `channels`: each channel it wrote, its `readings` and the arithmetic `mean_si`, `min_si` and
+/// `max_si` of the stored readings in the SI unit `unit_si` (as `series`).
+pub async fn get_upload(
+    State(st): State<AppState>,
+    ApiPath((id, upload_id)): ApiPath<(i64, i64)>,
+) -> Result<Response, AppError> {
+    let b = st.app.bundle(id).await?;
+    let no_upload = || AppError::NotFound(format!("audit {id} has no upload {upload_id}"));
+    let u = b.uploads.iter().find(|u| u.id == upload_id).ok_or_else(no_upload)?;
+    let stats = st.app.upload_channel_stats(&b, upload_id).await?.ok_or_else(no_upload)?;
+    let mut v = serde_json::to_value(u).unwrap_or_default();
+    v["quality"] = serde_json::from_str(&u.quality_json).unwrap_or_default();
+    v["channels"] = stats
+        .iter()
+        .map(|c| {
+            let mut c_json = serde_json::to_value(c).unwrap_or_default();
+            c_json["unit_si"] = unit_si(&c.quantity).into();
+            c_json
+        })
+        .collect();
+    Ok(json(StatusCode::OK, &v))
+}
+
+/// The SI unit a channel's readings are stored in, as the API names it.
+fn unit_si(quantity: &str) -> &'static str {
+    match quantity {
+        "power" => "W",
+        "energy" => "J",
+        "pressure" => "Pa_abs",
+        "flow" => "m3_s_free_air",
+        _ => "K",
+    }
+}
+
 pub async fn channels(State(st): State<AppState>, ApiPath(id): ApiPath<i64>) -> Result<Response, AppError> {
     let b = st.app.bundle(id).await?;
     Ok(json(StatusCode::OK, &serde_json::json!({ "channels": b.channels })))
@@ -253,13 +288,7 @@ pub async fn series(
     let w = window(&Window { from: q.from.clone(), to: q.to.clone() })?.unwrap_or((c.first_ms, c.last_ms));
     let points = q.points.unwrap_or(600).clamp(10, 2000);
     let pts = st.app.chart_series(&b, c, w.0.max(c.first_ms), w.1.min(c.last_ms), points).await?;
-    let unit = match c.quantity.as_str() {
-        "power" => "W",
-        "energy" => "J",
-        "pressure" => "Pa_abs",
-        "flow" => "m3_s_free_air",
-        _ => "K",
-    };
+    let unit = unit_si(&c.quantity);
     Ok(json(
         StatusCode::OK,
         &serde_json::json!({

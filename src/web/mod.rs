@@ -98,6 +98,7 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}/receivers", post(api::add_receiver))
         .route("/audits/{id}/receivers/{rid}", axum::routing::delete(api::delete_receiver))
         .route("/audits/{id}/uploads", get(api::list_uploads).post(upload::post_upload).layer(upload_limit))
+        .route("/audits/{id}/uploads/{upload_id}", get(api::get_upload))
         .route("/audits/{id}/sniff", post(upload::post_sniff).layer(upload_limit))
         .route("/imports/{token}", get(upload::import_progress))
         .route("/audits/{id}/summary", get(api::summary))

@@ -330,6 +330,7 @@ fn a_token_guards_every_page_and_endpoint_and_a_cookie_signs_in() {
         ("POST", "/audits/1/receivers"),
         ("DELETE", "/audits/1/receivers/1"),
         ("GET", "/audits/1/uploads"),
+        ("GET", "/audits/1/uploads/1"),
         ("POST", "/audits/1/uploads"),
         ("POST", "/audits/1/sniff"),
         ("GET", "/imports/some-token"),
@@ -493,4 +494,50 @@ fn a_scenario_replays_the_demo_and_reports_its_validation_error() {
     let page = s.get("/audits/1/scenarios");
     assert_eq!(page.status, 200);
     assert!(page.text.contains("offered as the control measure"));
+}
+
+/// `GET /api/v1/audits/{id}/uploads/{upload_id}` gives each channel's readings and the arithmetic
+/// mean of what was stored, in SI. Truth: the file's own numbers, averaged here (the test file
+/// holds 4 loaded rows at 56 kW, 7.20 bar(g), 9.50 m³/min for every 16 unloaded at 14 kW,
+/// 6.90 bar(g), 1.90 m³/min), and the ISO 2533 sea-level atmosphere, 101.325 kPa, for gauge.
+#[test]
+fn one_upload_reports_the_mean_of_each_channel_it_wrote() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let csv = cycling_csv(2);
+    let r = s.upload(id, "cycle.csv", csv.as_bytes(), &cycling_mapping(), "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let upload_id = r.json()["upload_id"].as_i64().expect("upload_id");
+    let rows: Vec<Vec<f64>> = csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').skip(1).map(|f| f.parse().expect("number")).collect())
+        .collect();
+    let mean = |i: usize| rows.iter().map(|r| r[i]).sum::<f64>() / rows.len() as f64;
+
+    let r = s.get(&format!("/api/v1/audits/{id}/uploads/{upload_id}"));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let u = r.json();
+    assert_eq!(u["id"], upload_id, "{u}");
+    let channels = u["channels"].as_array().expect("channels");
+    assert_eq!(channels.len(), 3, "{u}");
+    let ch =
+        |q: &str| channels.iter().find(|c| c["quantity"] == q).unwrap_or_else(|| panic!("no {q} in {u}"));
+    for (q, unit_si, want) in [
+        ("power", "W", mean(0) * 1e3),
+        ("pressure", "Pa_abs", mean(1) * 1e5 + 101_325.0),
+        ("flow", "m3_s_free_air", mean(2) / 60.0),
+    ] {
+        let c = ch(q);
+        assert_eq!(c["readings"], rows.len(), "{c}");
+        assert_eq!(c["unit_si"], unit_si, "{c}");
+        let got = c["mean_si"].as_f64().expect("mean_si");
+        assert!((got - want).abs() <= 1e-6 * want, "{q}: mean {got} vs {want} from the file");
+    }
+    assert_eq!(ch("power")["compressor_tag"], "C1");
+
+    // Another audit's upload, or none, is not found.
+    let other = s.audit_with_compressor("C1");
+    assert_eq!(s.get(&format!("/api/v1/audits/{other}/uploads/{upload_id}")).status, 404);
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}/uploads/{}", upload_id + 99)).status, 404);
 }

@@ -144,6 +144,19 @@ impl Server {
         )
     }
 
+    /// `POST /api/v1/audits/{audit}/sniff` with `file` as its one part: the sniffer's proposal.
+    pub fn sniff(&self, audit: i64, name: &str, file: &[u8]) -> Resp {
+        let boundary = "airledgerTESTboundary7d1a";
+        let body = multipart_body(boundary, &[("file", Some(name), file)]);
+        send(
+            ureq_agent()
+                .post(&self.url(&format!("/api/v1/audits/{audit}/sniff")))
+                .header("Origin", &self.base)
+                .header("Content-Type", &format!("multipart/form-data; boundary={boundary}"))
+                .send(&body[..]),
+        )
+    }
+
     /// Create an audit with one load/unload compressor `tag`; returns the audit id.
     pub fn audit_with_compressor(&self, tag: &str) -> i64 {
         let r = self.post_json("/api/v1/audits", &json!({"name": "test plant", "site": {"altitude_m": 0}}));
@@ -291,19 +304,26 @@ pub fn cycling_mapping() -> Value {
 /// and never part of this repository; the tests that read them are `#[ignore]`d unless the variable
 /// was set at build time (`build.rs`), and fail here, naming the path, when the file is not there.
 pub fn real_data_file(name: &str) -> Vec<u8> {
-    let dir = std::env::var_os("AIRLEDGER_REAL_DATA")
+    let dir = real_data_dir();
+    let path = dir.join(name);
+    std::fs::read(&path).unwrap_or_else(|e| {
+        panic!("cannot read {} (AIRLEDGER_REAL_DATA={}): {e}", path.display(), dir.display())
+    })
+}
+
+/// The folder of real logger files named by `AIRLEDGER_REAL_DATA` (at run time, else the value it
+/// had when the tests were built); a failure saying so when neither is set.
+pub fn real_data_dir() -> PathBuf {
+    std::env::var_os("AIRLEDGER_REAL_DATA")
         .filter(|v| !v.is_empty())
         .map(PathBuf::from)
         .or_else(|| option_env!("AIRLEDGER_REAL_DATA").filter(|v| !v.is_empty()).map(PathBuf::from))
         .unwrap_or_else(|| {
             panic!(
-                "AIRLEDGER_REAL_DATA is not set: set it to a folder of real logger files (with metropt3-sample.csv)"
+                "AIRLEDGER_REAL_DATA is not set: set it to a folder of real logger files (with \
+                 metropt3-sample.csv and realfiles/)"
             )
-        });
-    let path = dir.join(name);
-    std::fs::read(&path).unwrap_or_else(|e| {
-        panic!("cannot read {} (AIRLEDGER_REAL_DATA={}): {e}", path.display(), dir.display())
-    })
+        })
 }
 
 /// Run `cmd` (its output captured) and wait at most `limit` for it to end: its output and how long
