@@ -22,3 +22,5 @@ mod hostile_validation;
 mod hostile_web;
 #[path = "integration/ingest.rs"]
 mod ingest;
+#[path = "integration/undo.rs"]
+mod undo;

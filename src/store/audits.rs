@@ -53,6 +53,12 @@ pub struct UploadRecord {
     pub last: Option<String>,
     pub created_at: String,
     pub warnings: Vec<String>,
+    pub sha256: String,
+    /// The mapping it was imported with, as stored.
+    pub mapping: serde_json::Value,
+    /// Bytes its kept original takes in the database (deflated), `None` when it was imported
+    /// before originals were kept (it cannot be imported again without the file).
+    pub original_bytes_stored: Option<i64>,
     #[serde(skip)]
     pub quality_json: String,
 }
@@ -401,7 +407,8 @@ pub async fn delete_receiver(pool: &SqlitePool, audit_id: i64, id: i64) -> Resul
 
 pub async fn uploads(pool: &SqlitePool, audit_id: i64) -> Result<Vec<UploadRecord>, StoreError> {
     let rows = sqlx::query(
-        "SELECT id, filename, bytes, rows, readings, first_ms, last_ms, created_at, warnings, quality \
+        "SELECT id, filename, bytes, rows, readings, first_ms, last_ms, created_at, warnings, quality, sha256, \
+         mapping, (SELECT sum(length(o.data)) FROM upload_original o WHERE o.upload_id = upload.id) AS kept \
          FROM upload WHERE audit_id = ? AND state = 'complete' ORDER BY id",
     )
     .bind(audit_id)
@@ -411,6 +418,7 @@ pub async fn uploads(pool: &SqlitePool, audit_id: i64) -> Result<Vec<UploadRecor
         .iter()
         .map(|r| {
             let w: String = r.get("warnings");
+            let m: String = r.get("mapping");
             UploadRecord {
                 id: r.get("id"),
                 filename: r.get("filename"),
@@ -421,10 +429,31 @@ pub async fn uploads(pool: &SqlitePool, audit_id: i64) -> Result<Vec<UploadRecor
                 last: r.get::<Option<i64>, _>("last_ms").map(ms_to_rfc3339),
                 created_at: r.get("created_at"),
                 warnings: serde_json::from_str(&w).unwrap_or_default(),
+                sha256: r.get("sha256"),
+                mapping: serde_json::from_str(&m).unwrap_or_default(),
+                original_bytes_stored: r.get("kept"),
                 quality_json: r.get("quality"),
             }
         })
         .collect())
+}
+
+/// Delete a complete upload of the audit; the cascade takes its chunks, rollups, spans, kept
+/// original and (a column of the row) its quality report, all in one transaction that also bumps
+/// the revision. `false` if the audit has no such complete upload.
+pub async fn delete_upload(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n = sqlx::query("DELETE FROM upload WHERE id = ? AND audit_id = ? AND state = 'complete'")
+        .bind(id)
+        .bind(audit_id)
+        .execute(&mut *tx)
+        .await?
+        .rows_affected();
+    if n > 0 {
+        bump(&mut tx, audit_id).await?;
+    }
+    tx.commit().await?;
+    Ok(n > 0)
 }
 
 pub async fn field_tests(pool: &SqlitePool, audit_id: i64) -> Result<Vec<FieldTestRecord>, StoreError> {

@@ -75,7 +75,8 @@ const REQUEST_TIMEOUT: std::time::Duration = std::time::Duration::from_secs(120)
 async fn timeout(req: Request<axum::body::Body>, next: Next) -> Response {
     use axum::response::IntoResponse;
     // Uploads stream gigabytes on slow links; they are bounded by size instead.
-    if req.uri().path().ends_with("/uploads") {
+    // A remap imports a kept file again, as long as an upload of it.
+    if req.uri().path().ends_with("/uploads") || req.uri().path().ends_with("/remap") {
         return next.run(req).await;
     }
     match tokio::time::timeout(REQUEST_TIMEOUT, next.run(req)).await {
@@ -98,6 +99,8 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}/receivers", post(api::add_receiver))
         .route("/audits/{id}/receivers/{rid}", axum::routing::delete(api::delete_receiver))
         .route("/audits/{id}/uploads", get(api::list_uploads).post(upload::post_upload).layer(upload_limit))
+        .route("/audits/{id}/uploads/{upload_id}", axum::routing::delete(upload::delete_upload))
+        .route("/audits/{id}/uploads/{upload_id}/remap", post(upload::remap_upload))
         .route("/audits/{id}/sniff", post(upload::post_sniff).layer(upload_limit))
         .route("/imports/{token}", get(upload::import_progress))
         .route("/audits/{id}/summary", get(api::summary))

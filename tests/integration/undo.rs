@@ -1,0 +1,219 @@
+//! Undo and correct (issue 16): delete an upload, import a kept original again with a corrected
+//! mapping, the same bytes with another mapping, edits of equipment, tests and scenarios, and the
+//! scenario marked as the proposal. Every check compares the server with itself on another audit
+//! built from the right data only: an undo must leave exactly what a correct start would have.
+
+use crate::support::*;
+
+/// A logger file of compressor C1 cycling `loaded_kw` / `unloaded_kw` (4 of every 20 readings
+/// loaded) at 10 s for `hours` from `start` (Unix seconds), with header pressure and flow.
+fn plant_csv(start: i64, hours: u32, loaded_kw: f64, unloaded_kw: f64) -> String {
+    let mut s = String::from("time,C1 kW,header bar,flow m3/min\n");
+    for i in 0..(hours as i64 * 360) {
+        let loaded = (i % 20) < 4;
+        s.push_str(&format!(
+            "{},{},{:.2},{:.2}\n",
+            jiff_like_rfc3339(start + i * 10),
+            if loaded { loaded_kw } else { unloaded_kw },
+            if loaded { 7.2 } else { 6.9 },
+            if loaded { 9.5 } else { 1.9 }
+        ));
+    }
+    s
+}
+
+/// 2026-05-04T08:00Z and 2026-05-05T08:00Z.
+const DAY1: i64 = 1_777_881_600;
+const DAY2: i64 = DAY1 + 86_400;
+
+/// [`cycling_mapping`] with C1's power in `unit`.
+fn mapping_with_power_unit(unit: &str) -> Value {
+    let mut m = cycling_mapping();
+    m["columns"][0]["unit"] = json!(unit);
+    m
+}
+
+fn upload_ok(s: &Server, audit: i64, name: &str, csv: &str, mapping: &Value) -> Value {
+    let r = s.upload(audit, name, csv.as_bytes(), mapping, "");
+    assert_eq!(r.status, 201, "{name}: {}", r.text);
+    r.json()
+}
+
+fn system(s: &Server, audit: i64) -> Value {
+    let sm = s.get(&format!("/api/v1/audits/{audit}/summary"));
+    assert_eq!(sm.status, 200, "{}", sm.text);
+    sm.json()["system"].clone()
+}
+
+fn uploads(s: &Server, audit: i64) -> Vec<Value> {
+    s.get(&format!("/api/v1/audits/{audit}/uploads")).json()["uploads"].as_array().expect("uploads").clone()
+}
+
+/// Equal to the last few bits: the same readings through the same analysis.
+fn same(a: &Value, b: &Value, field: &str) {
+    let (x, y) = (a[field].as_f64().expect(field), b[field].as_f64().expect(field));
+    assert!((x - y).abs() <= 1e-9 * x.abs().max(y.abs()), "{field}: {x} against {y}");
+}
+
+#[test]
+fn deleting_an_upload_leaves_the_figures_of_the_remaining_file_and_the_bytes_import_again() {
+    // Arrange: two days of one plant, the second at higher power; and a twin audit holding only
+    // the second day, built the ordinary way.
+    let s = Server::start();
+    let both = s.audit_with_compressor("C1");
+    let only_b = s.audit_with_compressor("C1");
+    let a = plant_csv(DAY1, 3, 56.0, 14.0);
+    let b = plant_csv(DAY2, 3, 70.0, 20.0);
+    let ua = upload_ok(&s, both, "day1.csv", &a, &cycling_mapping());
+    upload_ok(&s, both, "day2.csv", &b, &cycling_mapping());
+    upload_ok(&s, only_b, "day2.csv", &b, &cycling_mapping());
+    let before = system(&s, both);
+    let twin = system(&s, only_b);
+    assert!(
+        (before["mean_power_kw"].as_f64().unwrap() - twin["mean_power_kw"].as_f64().unwrap()).abs() > 1.0,
+        "the two days differ in power: {before} / {twin}"
+    );
+    let revision = s.get(&format!("/api/v1/audits/{both}")).json()["revision"].as_i64().unwrap();
+
+    // Act
+    let id = ua["upload_id"].as_i64().unwrap();
+    let r = s.delete(&format!("/api/v1/audits/{both}/uploads/{id}"));
+
+    // Assert: 204, its readings gone, the revision bumped, the figures those of day 2 alone.
+    assert_eq!(r.status, 204, "{}", r.text);
+    let left = uploads(&s, both);
+    assert_eq!(left.len(), 1);
+    assert_eq!(left[0]["filename"], "day2.csv");
+    let audit = s.get(&format!("/api/v1/audits/{both}")).json();
+    assert!(audit["revision"].as_i64().unwrap() > revision);
+    let power =
+        audit["channels"].as_array().unwrap().iter().find(|c| c["quantity"] == "power").cloned().unwrap();
+    assert_eq!(power["readings"].as_i64(), Some(3 * 360), "only day 2's readings of C1 are left");
+    let after = system(&s, both);
+    for f in ["energy_kwh", "mean_power_kw", "air_m3", "mean_flow_m3_min", "specific_power_kw_per_m3_min"] {
+        same(&after, &twin, f);
+    }
+    // Gone is gone: a second delete is 404, and the same bytes are a new upload again (201).
+    assert_eq!(s.delete(&format!("/api/v1/audits/{both}/uploads/{id}")).status, 404);
+    let again = upload_ok(&s, both, "day1.csv", &a, &cycling_mapping());
+    assert_ne!(again["upload_id"].as_i64(), Some(id));
+    for f in ["energy_kwh", "mean_power_kw"] {
+        same(&system(&s, both), &before, f);
+    }
+    // Another audit's upload is not this audit's to delete.
+    let other = uploads(&s, only_b)[0]["id"].as_i64().unwrap();
+    assert_eq!(s.delete(&format!("/api/v1/audits/{both}/uploads/{other}")).status, 404);
+}
+
+#[test]
+fn a_remap_corrects_a_wrong_unit_to_the_figures_of_a_fresh_import() {
+    // Arrange: kW logged, mapped as W by mistake; a twin audit imported right.
+    let s = Server::start();
+    let wrong = s.audit_with_compressor("C1");
+    let right = s.audit_with_compressor("C1");
+    let csv = plant_csv(DAY1, 3, 56.0, 14.0);
+    let first = upload_ok(&s, wrong, "log.csv", &csv, &mapping_with_power_unit("W"));
+    upload_ok(&s, right, "log.csv", &csv, &mapping_with_power_unit("kW"));
+    let as_w = system(&s, wrong);
+    let twin = system(&s, right);
+    // 1 kW = 1000 W (NIST SP 811, SI prefixes): the mistake is a factor of 1000 in mean power.
+    let ratio = twin["mean_power_kw"].as_f64().unwrap() / as_w["mean_power_kw"].as_f64().unwrap();
+    assert!((ratio - 1000.0).abs() < 1e-6, "mean power {ratio} times off");
+
+    // Act: the kept original imported again with kW, without sending the file.
+    let old = first["upload_id"].as_i64().unwrap();
+    let r =
+        s.post_json(&format!("/api/v1/audits/{wrong}/uploads/{old}/remap"), &mapping_with_power_unit("kW"));
+
+    // Assert: the reply of an upload, one upload left, the figures of the right import.
+    assert_eq!(r.status, 201, "{}", r.text);
+    let reply = r.json();
+    assert_eq!(reply["rows"], 3 * 360);
+    assert_eq!(reply["readings"], 3 * 360 * 3);
+    assert_eq!(reply["replaced_upload_id"].as_i64(), Some(old));
+    let list = uploads(&s, wrong);
+    assert_eq!(list.len(), 1);
+    assert_eq!(list[0]["id"], reply["upload_id"]);
+    assert_eq!(list[0]["mapping"]["columns"][0]["unit"], "kW");
+    let fixed = system(&s, wrong);
+    for f in ["energy_kwh", "mean_power_kw", "specific_power_kw_per_m3_min", "mean_flow_m3_min"] {
+        same(&fixed, &twin, f);
+    }
+    // The channel now says what was logged.
+    let audit = s.get(&format!("/api/v1/audits/{wrong}")).json();
+    let power =
+        audit["channels"].as_array().unwrap().iter().find(|c| c["quantity"] == "power").cloned().unwrap();
+    assert_eq!(power["unit"], "kW");
+    // The same mapping again changes nothing: 200 naming the upload.
+    let new = reply["upload_id"].as_i64().unwrap();
+    let r =
+        s.post_json(&format!("/api/v1/audits/{wrong}/uploads/{new}/remap"), &mapping_with_power_unit("kW"));
+    assert_eq!(r.status, 200, "{}", r.text);
+    assert_eq!(r.json()["upload_id"].as_i64(), Some(new));
+    // The old id is gone.
+    let r =
+        s.post_json(&format!("/api/v1/audits/{wrong}/uploads/{old}/remap"), &mapping_with_power_unit("W"));
+    assert_eq!(r.status, 404, "{}", r.text);
+}
+
+#[test]
+fn the_same_bytes_with_another_mapping_replace_the_earlier_import() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let twin = s.audit_with_compressor("C1");
+    let csv = plant_csv(DAY1, 2, 56.0, 14.0);
+    let first = upload_ok(&s, id, "log.csv", &csv, &mapping_with_power_unit("W"));
+    upload_ok(&s, twin, "log.csv", &csv, &mapping_with_power_unit("kW"));
+    // The same bytes and mapping: 200, nothing added.
+    let r = s.upload(id, "log.csv", csv.as_bytes(), &mapping_with_power_unit("W"), "");
+    assert_eq!(r.status, 200, "{}", r.text);
+    assert_eq!(r.json()["upload_id"], first["upload_id"]);
+    // The same bytes with another mapping: 201, and the earlier import is replaced.
+    let r = s.upload(id, "log.csv", csv.as_bytes(), &mapping_with_power_unit("kW"), "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    assert_eq!(r.json()["replaced_upload_id"], first["upload_id"]);
+    let list = uploads(&s, id);
+    assert_eq!(list.len(), 1, "{list:?}");
+    assert_eq!(list[0]["id"], r.json()["upload_id"]);
+    same(&system(&s, id), &system(&s, twin), "mean_power_kw");
+    same(&system(&s, id), &system(&s, twin), "energy_kwh");
+}
+
+#[test]
+fn a_remap_refused_with_422_leaves_the_earlier_import_as_it_was() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let csv = plant_csv(DAY1, 2, 56.0, 14.0);
+    let first = upload_ok(&s, id, "log.csv", &csv, &cycling_mapping());
+    let old = first["upload_id"].as_i64().unwrap();
+    let before = system(&s, id);
+    let listed = uploads(&s, id);
+    let url = format!("/api/v1/audits/{id}/uploads/{old}/remap");
+
+    // A column the file does not have, a compressor the audit does not have, a unit of no
+    // quantity: each 422 naming what is wrong.
+    let mut no_column = cycling_mapping();
+    no_column["columns"][1]["column"] = json!("header psi");
+    let mut no_compressor = cycling_mapping();
+    no_compressor["columns"][0]["compressor"] = json!("C7");
+    let mut bad_unit = cycling_mapping();
+    bad_unit["columns"][2]["unit"] = json!("gallons");
+    for (what, m) in [("column", no_column), ("compressor", no_compressor), ("unit", bad_unit)] {
+        let r = s.post_json(&url, &m);
+        assert_eq!(r.status, 422, "{what}: {}", r.text);
+        let e = r.json()["error"].clone();
+        assert!(e["field"].is_string() || e["column"].is_string(), "{what}: {e}");
+    }
+    // A body that is no mapping at all.
+    let r = s.post_json(&url, &json!({"columns": "none"}));
+    assert_eq!(r.status, 422, "{}", r.text);
+
+    // Assert: the earlier import is there as it was, and nothing half-imported is listed.
+    assert_eq!(uploads(&s, id), listed);
+    for f in ["energy_kwh", "mean_power_kw", "mean_flow_m3_min"] {
+        same(&system(&s, id), &before, f);
+    }
+    // And a good remap still goes through afterwards (no leftover blocks it).
+    let r = s.post_json(&url, &mapping_with_power_unit("W"));
+    assert_eq!(r.status, 201, "{}", r.text);
+}
