@@ -392,6 +392,33 @@ pub async fn add_receiver(
     Ok(id)
 }
 
+/// Edit a receiver; `false` if the audit has no such receiver.
+pub async fn update_receiver(
+    pool: &SqlitePool,
+    audit_id: i64,
+    id: i64,
+    name: &str,
+    volume_m3: f64,
+    notes: &str,
+) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n =
+        sqlx::query("UPDATE receiver SET name = ?, volume_m3 = ?, notes = ? WHERE id = ? AND audit_id = ?")
+            .bind(name)
+            .bind(volume_m3)
+            .bind(notes)
+            .bind(id)
+            .bind(audit_id)
+            .execute(&mut *tx)
+            .await?
+            .rows_affected();
+    if n > 0 {
+        bump(&mut tx, audit_id).await?;
+    }
+    tx.commit().await?;
+    Ok(n > 0)
+}
+
 pub async fn delete_receiver(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
     let mut tx = begin_write(pool).await?;
     let n = sqlx::query("DELETE FROM receiver WHERE id = ? AND audit_id = ?")
@@ -501,6 +528,33 @@ pub async fn add_field_test(
     bump(&mut tx, audit_id).await?;
     tx.commit().await?;
     Ok(id)
+}
+
+/// Replace a field test's input and result (an edit); `false` if the audit has no such test.
+pub async fn replace_field_test(
+    pool: &SqlitePool,
+    audit_id: i64,
+    id: i64,
+    kind: &str,
+    input: &serde_json::Value,
+    result: &serde_json::Value,
+) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n =
+        sqlx::query("UPDATE field_test SET kind = ?, input = ?, result = ? WHERE id = ? AND audit_id = ?")
+            .bind(kind)
+            .bind(input.to_string())
+            .bind(result.to_string())
+            .bind(id)
+            .bind(audit_id)
+            .execute(&mut *tx)
+            .await?
+            .rows_affected();
+    if n > 0 {
+        bump(&mut tx, audit_id).await?;
+    }
+    tx.commit().await?;
+    Ok(n > 0)
 }
 
 pub async fn delete_field_test(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {

@@ -163,6 +163,18 @@ pub async fn add_receiver(
     Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": rid })))
 }
 
+/// `PUT /audits/{id}/receivers/{rid}`: the body of its `POST`.
+pub async fn update_receiver(
+    State(st): State<AppState>,
+    ApiPath((id, rid)): ApiPath<(i64, i64)>,
+    ApiJson(r): ApiJson<ReceiverInput>,
+) -> Result<Response, AppError> {
+    if !st.app.update_receiver(id, rid, &r).await? {
+        return Err(AppError::NotFound(format!("audit {id} has no receiver {rid}")));
+    }
+    Ok(json(StatusCode::OK, &serde_json::json!({ "id": rid })))
+}
+
 pub async fn delete_receiver(
     State(st): State<AppState>,
     ApiPath((id, rid)): ApiPath<(i64, i64)>,
@@ -287,6 +299,16 @@ pub async fn add_field_test(
 ) -> Result<Response, AppError> {
     let rec = st.app.add_field_test(id, body).await?;
     Ok(json(StatusCode::CREATED, &rec))
+}
+
+/// `PUT /audits/{id}/field-tests/{tid}`: the body of its `POST`, evaluated again.
+pub async fn replace_field_test(
+    State(st): State<AppState>,
+    ApiPath((id, tid)): ApiPath<(i64, i64)>,
+    ApiJson(body): ApiJson<serde_json::Value>,
+) -> Result<Response, AppError> {
+    let rec = st.app.replace_field_test(id, tid, body).await?;
+    Ok(json(StatusCode::OK, &rec))
 }
 
 pub async fn delete_field_test(

@@ -97,7 +97,10 @@ pub fn build_app(state: AppState) -> Router {
             axum::routing::put(api::update_compressor).delete(api::delete_compressor),
         )
         .route("/audits/{id}/receivers", post(api::add_receiver))
-        .route("/audits/{id}/receivers/{rid}", axum::routing::delete(api::delete_receiver))
+        .route(
+            "/audits/{id}/receivers/{rid}",
+            axum::routing::put(api::update_receiver).delete(api::delete_receiver),
+        )
         .route("/audits/{id}/uploads", get(api::list_uploads).post(upload::post_upload).layer(upload_limit))
         .route("/audits/{id}/uploads/{upload_id}", axum::routing::delete(upload::delete_upload))
         .route("/audits/{id}/uploads/{upload_id}/remap", post(upload::remap_upload))
@@ -107,7 +110,10 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}/channels", get(api::channels))
         .route("/audits/{id}/series", get(api::series))
         .route("/audits/{id}/field-tests", get(api::list_field_tests).post(api::add_field_test))
-        .route("/audits/{id}/field-tests/{tid}", axum::routing::delete(api::delete_field_test))
+        .route(
+            "/audits/{id}/field-tests/{tid}",
+            axum::routing::put(api::replace_field_test).delete(api::delete_field_test),
+        )
         .route("/audits/{id}/decay-events", get(api::decay_events))
         .route("/audits/{id}/costs/{kind}", axum::routing::put(api::put_cost))
         .route("/audits/{id}/scenarios", get(api::list_scenarios).post(api::add_scenario))
