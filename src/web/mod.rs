@@ -117,6 +117,13 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}/decay-events", get(api::decay_events))
         .route("/audits/{id}/costs/{kind}", axum::routing::put(api::put_cost))
         .route("/audits/{id}/scenarios", get(api::list_scenarios).post(api::add_scenario))
+        .route(
+            "/audits/{id}/scenarios/{sid}",
+            get(api::get_scenario)
+                .put(api::replace_scenario)
+                .patch(api::patch_scenario)
+                .delete(api::delete_scenario),
+        )
         .route("/calc/orifice-leak", post(api::calc_orifice))
         .route("/calc/compression", post(api::calc_compression))
         .fallback(api::not_found)

@@ -217,3 +217,91 @@ fn a_remap_refused_with_422_leaves_the_earlier_import_as_it_was() {
     let r = s.post_json(&url, &mapping_with_power_unit("W"));
     assert_eq!(r.status, 201, "{}", r.text);
 }
+
+#[test]
+fn put_edits_equipment_tests_and_scenarios_and_names_the_wrong_field() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    upload_ok(&s, id, "log.csv", &plant_csv(DAY1, 3, 56.0, 14.0), &cycling_mapping());
+    let cid = s.get(&format!("/api/v1/audits/{id}")).json()["compressors"][0]["id"].as_i64().unwrap();
+    let compressor = json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+                            "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5});
+
+    // A compressor: a new rated flow is stored; a negative one is 422 naming the field.
+    let mut c = compressor.clone();
+    c["rated_flow_m3_min"] = json!(10.5);
+    let r = s.put_json(&format!("/api/v1/audits/{id}/compressors/{cid}"), &c);
+    assert_eq!(r.status, 200, "{}", r.text);
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}")).json()["compressors"][0]["rated_flow_m3_min"], 10.5);
+    c["rated_flow_m3_min"] = json!(-1);
+    let r = s.put_json(&format!("/api/v1/audits/{id}/compressors/{cid}"), &c);
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert_eq!(r.json()["error"]["field"], "rated_flow_m3_min");
+
+    // A receiver: renamed and resized; the system volume follows; 0 m³ is refused.
+    let r = s.post_json(&format!("/api/v1/audits/{id}/receivers"), &json!({"name": "wet", "volume_m3": 2.0}));
+    let rid = r.json()["id"].as_i64().unwrap();
+    let r = s.put_json(
+        &format!("/api/v1/audits/{id}/receivers/{rid}"),
+        &json!({"name": "wet receiver", "volume_m3": 3.0}),
+    );
+    assert_eq!(r.status, 200, "{}", r.text);
+    let a = s.get(&format!("/api/v1/audits/{id}")).json();
+    assert_eq!(a["receivers"][0]["name"], "wet receiver");
+    assert_eq!(a["storage"]["system_volume_m3"], 3.0);
+    let r =
+        s.put_json(&format!("/api/v1/audits/{id}/receivers/{rid}"), &json!({"name": "wet", "volume_m3": 0}));
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert_eq!(r.json()["error"]["field"], "volume_m3");
+    assert_eq!(
+        s.put_json(&format!("/api/v1/audits/{id}/receivers/999"), &json!({"name": "x", "volume_m3": 1}))
+            .status,
+        404
+    );
+
+    // A bleed-down test: a longer duration gives a proportionally smaller mean leak flow,
+    // V (p1 - p2) / (p_atm t) (US DOE compressed-air sourcebook, bleed-down method).
+    let test = json!({"kind": "bleed_down", "volume_m3": 3.0, "start_pressure_bar_g": 7.0, "end_pressure_bar_g": 5.5, "duration_s": 95});
+    let r = s.post_json(&format!("/api/v1/audits/{id}/field-tests"), &test);
+    assert_eq!(r.status, 201, "{}", r.text);
+    let tid = r.json()["id"].as_i64().unwrap();
+    let q1 = r.json()["result"]["mean_leak_flow_m3_min"].as_f64().unwrap();
+    let mut longer = test.clone();
+    longer["duration_s"] = json!(190);
+    let r = s.put_json(&format!("/api/v1/audits/{id}/field-tests/{tid}"), &longer);
+    assert_eq!(r.status, 200, "{}", r.text);
+    let q2 = r.json()["result"]["mean_leak_flow_m3_min"].as_f64().unwrap();
+    assert!((q1 / q2 - 2.0).abs() < 1e-9, "{q1} / {q2}");
+    let tests = s.get(&format!("/api/v1/audits/{id}/field-tests")).json()["field_tests"].clone();
+    assert_eq!(tests.as_array().unwrap().len(), 1, "edited in place");
+    assert_eq!(tests[0]["input"]["duration_s"], 190);
+    longer["end_pressure_bar_g"] = json!(7.5);
+    let r = s.put_json(&format!("/api/v1/audits/{id}/field-tests/{tid}"), &longer);
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert!(r.json()["error"]["field"].as_str().unwrap().contains("pressure"), "{}", r.text);
+    assert_eq!(
+        s.get(&format!("/api/v1/audits/{id}/field-tests")).json()["field_tests"][0]["input"]["duration_s"],
+        190
+    );
+
+    // A scenario: replayed again with the new changes; a wrong change names its place.
+    let r =
+        s.post_json(&format!("/api/v1/audits/{id}/scenarios"), &json!({"name": "baseline", "changes": []}));
+    assert_eq!(r.status, 201, "{}", r.text);
+    let sid = r.json()["id"].as_i64().unwrap();
+    let r = s.put_json(
+        &format!("/api/v1/audits/{id}/scenarios/{sid}"),
+        &json!({"name": "more storage", "changes": [{"op": "add_storage", "volume_m3": 2.0}]}),
+    );
+    assert_eq!(r.status, 200, "{}", r.text);
+    let stored = s.get(&format!("/api/v1/audits/{id}/scenarios/{sid}")).json();
+    assert_eq!(stored["name"], "more storage");
+    assert_eq!(stored["changes"][0]["op"], "add_storage");
+    let r = s.put_json(
+        &format!("/api/v1/audits/{id}/scenarios/{sid}"),
+        &json!({"name": "x", "changes": [{"op": "add_storage", "volume_m3": -2.0}]}),
+    );
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert!(r.json()["error"]["field"].as_str().unwrap().starts_with("changes[0]"), "{}", r.text);
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}/scenarios/{sid}")).json()["name"], "more storage");
+}
