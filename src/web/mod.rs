@@ -135,9 +135,34 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}", get(pages::audit::audit))
         .route("/audits/{id}/site", post(pages::audit::save_site))
         .route("/audits/{id}/compressors", post(pages::audit::add_compressor))
-        .route("/audits/{id}/compressors/{cid}/delete", post(pages::audit::delete_compressor))
+        .route("/audits/{id}/compressors/{cid}", post(pages::edit::save_compressor))
+        .route("/audits/{id}/compressors/{cid}/edit", get(pages::edit::edit_compressor))
+        .route(
+            "/audits/{id}/compressors/{cid}/delete",
+            get(pages::confirm::ask_compressor).post(pages::confirm::delete_compressor),
+        )
         .route("/audits/{id}/receivers", post(pages::audit::add_receiver))
-        .route("/audits/{id}/receivers/{rid}/delete", post(pages::audit::delete_receiver))
+        .route("/audits/{id}/receivers/{rid}", post(pages::edit::save_receiver))
+        .route("/audits/{id}/receivers/{rid}/edit", get(pages::edit::edit_receiver))
+        .route(
+            "/audits/{id}/receivers/{rid}/delete",
+            get(pages::confirm::ask_receiver).post(pages::confirm::delete_receiver),
+        )
+        .route(
+            "/audits/{id}/uploads/{uid}/delete",
+            get(pages::confirm::ask_upload).post(pages::confirm::delete_upload),
+        )
+        .route("/audits/{id}/uploads/{uid}/remap", get(pages::remap::remap).post(pages::remap::save_remap))
+        .route(
+            "/audits/{id}/tests/{tid}/delete",
+            get(pages::confirm::ask_field_test).post(pages::confirm::delete_field_test),
+        )
+        .route("/audits/{id}/scenarios/{sid}/proposal", post(pages::scenarios::set_proposal))
+        .route("/audits/{id}/scenarios/{sid}/rename", post(pages::scenarios::rename))
+        .route(
+            "/audits/{id}/scenarios/{sid}/delete",
+            get(pages::confirm::ask_scenario).post(pages::confirm::delete_scenario),
+        )
         .route("/audits/{id}/upload", get(pages::upload::upload))
         .route("/audits/{id}/report", get(pages::report::report))
         .route("/audits/{id}/findings", get(pages::findings::findings))

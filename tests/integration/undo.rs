@@ -218,6 +218,68 @@ fn a_remap_refused_with_422_leaves_the_earlier_import_as_it_was() {
     assert_eq!(r.status, 201, "{}", r.text);
 }
 
+/// The control measures of the summary that rest on a replay: `(scenario_id, title)`.
+fn replayed_measures(s: &Server) -> Vec<(i64, String)> {
+    s.get("/api/v1/audits/1/summary").json()["recommendations"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|r| Some((r["scenario_id"].as_i64()?, r["title"].as_str().unwrap_or("").to_string())))
+        .collect()
+}
+
+#[test]
+fn only_the_scenario_marked_as_the_proposal_enters_the_ranking() {
+    // Arrange: the demo plant, and a supply-side replay that saves energy.
+    let s = Server::demo();
+    let body = json!({"name": "more storage", "changes": [{"op": "add_storage", "volume_m3": 4.0}],
+                      "implementation_cost": 5000});
+    let r = s.post_json("/api/v1/audits/1/scenarios", &body);
+    assert_eq!(r.status, 201, "{}", r.text);
+    let sid = r.json()["id"].as_i64().unwrap();
+    assert!(r.json()["result"]["energy_saving_kwh"].as_f64().unwrap() > 0.0);
+    // Not asked for: not in the ranking.
+    assert_eq!(replayed_measures(&s), vec![]);
+    let page = s.get("/audits/1/scenarios").text;
+    assert!(page.contains("not proposed"), "the page says why it is not on the report");
+
+    // Act: marked as the proposal.
+    let r = s.patch_json(&format!("/api/v1/audits/1/scenarios/{sid}"), &json!({"proposal": true}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    assert_eq!(r.json()["proposal"], true);
+    // Assert: it is the control measure now.
+    let m = replayed_measures(&s);
+    assert_eq!(m.len(), 1, "{m:?}");
+    assert_eq!(m[0].0, sid);
+    assert!(m[0].1.contains("more storage"), "{m:?}");
+
+    // A second proposal withdraws the first; renamed, the measure follows the name.
+    let r = s.post_json("/api/v1/audits/1/scenarios", &json!({"name": "storage 6", "changes": [{"op": "add_storage", "volume_m3": 6.0}], "implementation_cost": 7000, "proposal": true}));
+    assert_eq!(r.status, 201, "{}", r.text);
+    let second = r.json()["id"].as_i64().unwrap();
+    assert_eq!(s.get(&format!("/api/v1/audits/1/scenarios/{sid}")).json()["proposal"], false);
+    let r =
+        s.patch_json(&format!("/api/v1/audits/1/scenarios/{second}"), &json!({"name": "six cubic metres"}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let m = replayed_measures(&s);
+    assert_eq!(m.iter().map(|x| x.0).collect::<Vec<_>>(), vec![second]);
+    assert!(m[0].1.contains("six cubic metres"), "{m:?}");
+    // Withdrawn: no replay is in the ranking.
+    let r = s.patch_json(&format!("/api/v1/audits/1/scenarios/{second}"), &json!({"proposal": false}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    assert_eq!(replayed_measures(&s), vec![]);
+    // Wrong input names its field; deleted is gone.
+    let r = s.patch_json(&format!("/api/v1/audits/1/scenarios/{second}"), &json!({"proposal": "yes"}));
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert_eq!(r.json()["error"]["field"], "proposal");
+    let r = s.patch_json(&format!("/api/v1/audits/1/scenarios/{second}"), &json!({"name": ""}));
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert_eq!(r.json()["error"]["field"], "name");
+    assert_eq!(s.delete(&format!("/api/v1/audits/1/scenarios/{second}")).status, 204);
+    assert_eq!(s.get(&format!("/api/v1/audits/1/scenarios/{second}")).status, 404);
+    assert_eq!(s.delete(&format!("/api/v1/audits/1/scenarios/{second}")).status, 404);
+}
+
 #[test]
 fn put_edits_equipment_tests_and_scenarios_and_names_the_wrong_field() {
     let s = Server::start();
@@ -304,4 +366,16 @@ fn put_edits_equipment_tests_and_scenarios_and_names_the_wrong_field() {
     assert_eq!(r.status, 422, "{}", r.text);
     assert!(r.json()["error"]["field"].as_str().unwrap().starts_with("changes[0]"), "{}", r.text);
     assert_eq!(s.get(&format!("/api/v1/audits/{id}/scenarios/{sid}")).json()["name"], "more storage");
+}
+
+#[test]
+fn a_scenario_without_data_says_there_is_no_data_to_replay() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let r =
+        s.post_json(&format!("/api/v1/audits/{id}/scenarios"), &json!({"name": "baseline", "changes": []}));
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert!(r.json()["error"]["message"].as_str().unwrap().starts_with("no data to replay"), "{}", r.text);
+    let page = s.get(&format!("/audits/{id}/scenarios")).text;
+    assert!(page.contains("No data to replay"), "the page says so before anyone tries");
 }
