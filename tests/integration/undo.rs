@@ -379,3 +379,131 @@ fn a_scenario_without_data_says_there_is_no_data_to_replay() {
     let page = s.get(&format!("/audits/{id}/scenarios")).text;
     assert!(page.contains("No data to replay"), "the page says so before anyone tries");
 }
+
+#[test]
+fn a_delete_on_the_pages_asks_first_and_deletes_only_from_its_own_form() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let up = upload_ok(&s, id, "day1.csv", &plant_csv(DAY1, 2, 56.0, 14.0), &cycling_mapping());
+    let uid = up["upload_id"].as_i64().unwrap();
+    let cid = s.get(&format!("/api/v1/audits/{id}")).json()["compressors"][0]["id"].as_i64().unwrap();
+    let audit_page = s.get(&format!("/audits/{id}")).text;
+    assert!(audit_page.contains(&format!("/audits/{id}/uploads/{uid}/delete")), "a delete link per file");
+    assert!(audit_page.contains(&format!("/audits/{id}/uploads/{uid}/remap")), "a remap link per file");
+    for (what, path) in [
+        ("file", format!("/audits/{id}/uploads/{uid}/delete")),
+        ("compressor", format!("/audits/{id}/compressors/{cid}/delete")),
+    ] {
+        // A post without the confirmation (the old one-click form) only shows the question.
+        let r = s.post_form(&path, &[]);
+        assert_eq!(r.status, 303, "{what}: {}", r.text);
+        assert_eq!(r.header("location"), Some(path.as_str()));
+        assert_eq!(uploads(&s, id).len(), 1, "{what}: nothing deleted");
+        let page = s.get(&path);
+        assert_eq!(page.status, 200);
+        assert!(
+            page.text.contains("name=\"confirm\" value=\"yes\""),
+            "{what}: the page carries the confirmation"
+        );
+        assert!(page.text.contains("No, keep it"));
+    }
+    // The compressor's page says its logged readings go with it.
+    assert!(s
+        .get(&format!("/audits/{id}/compressors/{cid}/delete"))
+        .text
+        .contains("720 logged power readings"));
+    // Confirmed: gone, and back to the audit.
+    let r = s.post_form(&format!("/audits/{id}/uploads/{uid}/delete"), &[("confirm", "yes")]);
+    assert_eq!(r.status, 303);
+    assert_eq!(r.header("location"), Some(format!("/audits/{id}").as_str()));
+    assert!(uploads(&s, id).is_empty());
+    assert_eq!(s.get(&format!("/audits/{id}/uploads/{uid}/delete")).status, 404);
+}
+
+#[test]
+fn the_mapping_form_reads_the_kept_file_again_and_a_refusal_keeps_the_import() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let twin = s.audit_with_compressor("C1");
+    let csv = plant_csv(DAY1, 2, 56.0, 14.0);
+    let up = upload_ok(&s, id, "log.csv", &csv, &mapping_with_power_unit("W"));
+    upload_ok(&s, twin, "log.csv", &csv, &mapping_with_power_unit("kW"));
+    let uid = up["upload_id"].as_i64().unwrap();
+    let path = format!("/audits/{id}/uploads/{uid}/remap");
+    let page = s.get(&path).text;
+    // Units as people write them, the stored one selected; no unit codes shown as text.
+    assert!(page.contains("<option value=\"W\" selected>W</option>"), "the stored unit is selected");
+    assert!(page.contains(">bar(g)</option>") && page.contains(">m³/min</option>"), "{page}");
+    assert!(!page.contains(">bar_g<") && !page.contains(">m3_min<"));
+    // A time zone nobody has: 422, the reason on the page, the import as it was.
+    let before = system(&s, id);
+    let r = s.post_form(&path, &[("col0_unit", "kW"), ("timezone", "CST"), ("format", "rfc3339")]);
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert!(r.text.contains("The file was not read again"), "{}", r.text);
+    assert_eq!(uploads(&s, id)[0]["id"].as_i64(), Some(uid));
+    same(&system(&s, id), &before, "mean_power_kw");
+    // kW chosen: read again, back to the audit, the figures of a right import.
+    let r = s.post_form(
+        &path,
+        &[
+            ("col0_quantity", "power"),
+            ("col0_unit", "kW"),
+            ("col0_compressor", "C1"),
+            ("timezone", "UTC"),
+            ("format", "rfc3339"),
+        ],
+    );
+    assert_eq!(r.status, 303, "{}", r.text);
+    let list = uploads(&s, id);
+    assert_eq!(list.len(), 1);
+    assert_eq!(list[0]["mapping"]["columns"][0]["unit"], "kW");
+    same(&system(&s, id), &system(&s, twin), "mean_power_kw");
+    // Leaving a column out drops its channel from the import.
+    let new = list[0]["id"].as_i64().unwrap();
+    let r = s.post_form(
+        &format!("/audits/{id}/uploads/{new}/remap"),
+        &[("col0_unit", "kW"), ("col2_skip", "1"), ("timezone", "UTC"), ("format", "rfc3339")],
+    );
+    assert_eq!(r.status, 303, "{}", r.text);
+    let chans = s.get(&format!("/api/v1/audits/{id}/channels")).json()["channels"].clone();
+    assert!(chans.as_array().unwrap().iter().all(|c| c["quantity"] != "flow"), "{chans}");
+}
+
+#[test]
+fn the_edit_pages_show_what_is_stored_and_refuse_a_wrong_value_with_422() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let cid = s.get(&format!("/api/v1/audits/{id}")).json()["compressors"][0]["id"].as_i64().unwrap();
+    let page = s.get(&format!("/audits/{id}/compressors/{cid}/edit"));
+    assert_eq!(page.status, 200);
+    assert!(page.text.contains("value=\"9.5\""), "the stored flow is in the form");
+    let fields = [
+        ("tag", "C1"),
+        ("kind", "lubricated_screw"),
+        ("control", "load_unload"),
+        ("cooling", "air"),
+        ("rated_power_kw", "55"),
+        ("rated_flow_m3_min", "10.2"),
+        ("rated_pressure_bar_g", "7.5"),
+    ];
+    let r = s.post_form(&format!("/audits/{id}/compressors/{cid}"), &fields);
+    assert_eq!(r.status, 303, "{}", r.text);
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}")).json()["compressors"][0]["rated_flow_m3_min"], 10.2);
+    let mut bad = fields;
+    bad[5] = ("rated_flow_m3_min", "-3");
+    let r = s.post_form(&format!("/audits/{id}/compressors/{cid}"), &bad);
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert!(r.text.contains("role=\"alert\""));
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}")).json()["compressors"][0]["rated_flow_m3_min"], 10.2);
+    // A receiver through its edit page.
+    let rid = s
+        .post_json(&format!("/api/v1/audits/{id}/receivers"), &json!({"name": "wet", "volume_m3": 2.0}))
+        .json()["id"]
+        .as_i64()
+        .unwrap();
+    let r = s.post_form(&format!("/audits/{id}/receivers/{rid}"), &[("name", "dry"), ("volume_m3", "1.5")]);
+    assert_eq!(r.status, 303, "{}", r.text);
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}")).json()["receivers"][0]["volume_m3"], 1.5);
+    let r = s.post_form(&format!("/audits/{id}/receivers/{rid}"), &[("name", "dry"), ("volume_m3", "0")]);
+    assert_eq!(r.status, 422, "{}", r.text);
+}
