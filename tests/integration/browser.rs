@@ -662,3 +662,6 @@ fn hostile_audit_name_is_escaped() {
     let title = b.js_str("return document.title");
     assert!(title.contains(name), "the audit page title {title:?} lacks the literal name");
 }
+
+#[path = "browser_undo.rs"]
+mod undo;
