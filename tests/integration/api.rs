@@ -493,5 +493,5 @@ fn a_scenario_replays_the_demo_and_reports_its_validation_error() {
     assert!((kwh - share * annual).abs() < 1e-6 * annual, "{kwh} vs {}", share * annual);
     let page = s.get("/audits/1/scenarios");
     assert_eq!(page.status, 200);
-    assert!(page.text.contains("offered as the control measure"));
+    assert!(page.text.contains("the proposal: on the report as the control measure"));
 }

@@ -161,18 +161,14 @@ pub(super) struct Replacing {
     pub(super) move_original: bool,
 }
 
-/// Aborts the task keeping the original when the import ends without it.
-pub(super) struct AbortOnDrop<T>(pub(super) tokio::task::JoinHandle<T>);
-
-impl<T> Drop for AbortOnDrop<T> {
-    fn drop(&mut self) {
-        self.0.abort();
-    }
-}
-
 /// The original being kept beside the parse (`original::keep`), awaited before the upload is marked
-/// complete.
-pub(super) type Keeper = AbortOnDrop<Result<(u64, u64), ImportError>>;
+/// complete. An import that fails raises `stop` and waits for it to end before deleting the upload:
+/// the keeper then ends after the piece it is writing, its transaction committed, rather than being
+/// cancelled in the middle of one.
+pub(super) struct Keeper {
+    pub(super) handle: tokio::task::JoinHandle<Result<(u64, u64), ImportError>>,
+    pub(super) stop: Arc<std::sync::atomic::AtomicBool>,
+}
 
 /// Import one file. The same bytes twice with the same mapping give [`ImportOutcome::Duplicate`];
 /// with another mapping, the new import replaces the earlier one (as `req.replaces` asks).
@@ -299,17 +295,24 @@ pub async fn import_file(
     tx.commit().await?;
 
     // The original is deflated and stored beside the parse, unless the one kept moves over.
-    let keeper = match &replacing {
+    let mut keeper = match &replacing {
         Some(r) if r.move_original => None,
         _ => {
             let (pool, path) = (pool.clone(), req.path.clone());
-            Some(AbortOnDrop(tokio::spawn(async move { original::keep(&pool, upload_id, &path).await })))
+            let stop = Arc::new(std::sync::atomic::AtomicBool::new(false));
+            let flag = stop.clone();
+            let handle = tokio::spawn(async move { original::keep(&pool, upload_id, &path, &flag).await });
+            Some(Keeper { handle, stop })
         }
     };
-    let result = run_import(pool, &req, upload_id, &planned, &defs, progress, (keeper, replacing)).await;
+    let result = run_import(pool, &req, upload_id, &planned, &defs, progress, (&mut keeper, replacing)).await;
     match result {
         Ok(summary) => Ok(ImportOutcome::Created(summary)),
         Err(e) => {
+            if let Some(k) = keeper.take() {
+                k.stop.store(true, Ordering::Relaxed);
+                let _ = k.handle.await;
+            }
             // Nothing of a failed file stays: the cascade removes its chunks and rollups.
             let mut tx = begin_write(pool).await?;
             sqlx::query("DELETE FROM upload WHERE id = ?").bind(upload_id).execute(&mut *tx).await?;

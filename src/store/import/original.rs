@@ -11,6 +11,7 @@ inflates the pieces in order into a spool file and checks its SHA-256 against th
 
 use std::io::{Read, Write};
 use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicBool, Ordering};
 
 use miniz_oxide::deflate::compress_to_vec;
 use miniz_oxide::inflate::decompress_to_vec_with_limit;
@@ -32,8 +33,14 @@ const QUEUE: usize = 2;
 
 /// Keep the file at `path` as the original of `upload_id`: its pieces are deflated on a blocking
 /// thread and written in short transactions while the upload is still `importing`, so they vanish
-/// with it if the import fails. Returns the bytes read and the bytes stored.
-pub(super) async fn keep(pool: &SqlitePool, upload_id: i64, path: &Path) -> Result<(u64, u64), ImportError> {
+/// with it if the import fails. It ends early, between two pieces, once `stop` is raised (the
+/// import failed). Returns the bytes read and the bytes stored.
+pub(super) async fn keep(
+    pool: &SqlitePool,
+    upload_id: i64,
+    path: &Path,
+    stop: &AtomicBool,
+) -> Result<(u64, u64), ImportError> {
     let (tx, mut rx) = tokio::sync::mpsc::channel::<std::io::Result<(usize, Vec<u8>)>>(QUEUE);
     let path = path.to_path_buf();
     let reader = tokio::task::spawn_blocking(move || {
@@ -65,6 +72,9 @@ pub(super) async fn keep(pool: &SqlitePool, upload_id: i64, path: &Path) -> Resu
     });
     let (mut raw, mut stored, mut seq) = (0u64, 0u64, 0i64);
     while let Some(piece) = rx.recv().await {
+        if stop.load(Ordering::Relaxed) {
+            break;
+        }
         let (n, packed) = piece.map_err(|e| {
             ImportError::Bad(crate::ingest::IngestError {
                 message: format!("cannot read the uploaded file to keep it: {e}"),
@@ -86,6 +96,8 @@ pub(super) async fn keep(pool: &SqlitePool, upload_id: i64, path: &Path) -> Resu
         raw += n as u64;
         stored += packed.len() as u64;
     }
+    // A closed queue stops the reading thread at its next piece.
+    drop(rx);
     reader.await.map_err(|e| super::bad(format!("the original could not be kept: {e}"), None))?;
     Ok((raw, stored))
 }
@@ -201,7 +213,7 @@ mod tests {
         }
         let src = dir.join("in.csv");
         std::fs::write(&src, &text).unwrap();
-        let (raw, stored) = keep(&pool, 7, &src).await.unwrap();
+        let (raw, stored) = keep(&pool, 7, &src, &AtomicBool::new(false)).await.unwrap();
         assert_eq!(raw, text.len() as u64);
         assert!(stored < raw / 3, "{stored} bytes stored for {raw}");
         assert!(is_kept(&pool, 7).await.unwrap());

@@ -27,7 +27,7 @@ pub(super) async fn run_import(
     planned: &[PlannedChannel],
     defs: &[ingest::ChannelDef],
     progress: Arc<Progress>,
-    (keeper, replacing): (Option<Keeper>, Option<Replacing>),
+    (keeper, replacing): (&mut Option<Keeper>, Option<Replacing>),
 ) -> Result<ImportSummary, ImportError> {
     let (tx, mut rx) = mpsc::channel::<Msg>(32);
     let precisions: Vec<Precision> = defs
@@ -110,8 +110,8 @@ pub(super) async fn run_import(
     }
     let (report, spans) = parsed.map_err(ImportError::Bad)?;
     // The original must be all there before the upload can be complete.
-    if let Some(mut k) = keeper {
-        (&mut k.0).await.map_err(|e| bad(format!("the original could not be kept: {e}"), None))??;
+    if let Some(k) = keeper.take() {
+        k.handle.await.map_err(|e| bad(format!("the original could not be kept: {e}"), None))??;
     }
 
     // The last transaction: the replaced upload out, overlap check, spans, completion.
