@@ -158,6 +158,15 @@ impl App {
         self.import_upload(audit_id, ctx, &file, mapping, replace, token).await
     }
 
+    /// The sniffer's reading of an upload's kept original (its first 64 KiB): the file's columns,
+    /// also those its mapping left out; `None` when no original is kept or it cannot be sniffed.
+    pub async fn sniff_original(&self, upload_id: i64) -> Result<Option<crate::ingest::Sniffed>> {
+        let Some(head) = import::original::head(self.db(), upload_id, 64 * 1024).await? else {
+            return Ok(None);
+        };
+        Ok(crate::ingest::sniff(&head).ok())
+    }
+
     /// The progress of the upload sent with `token`, while it runs.
     pub fn import_progress(&self, token: &str) -> Option<Arc<Progress>> {
         self.inner.imports.lock().expect("imports lock").get(token).cloned()

@@ -507,3 +507,35 @@ fn the_edit_pages_show_what_is_stored_and_refuse_a_wrong_value_with_422() {
     let r = s.post_form(&format!("/audits/{id}/receivers/{rid}"), &[("name", "dry"), ("volume_m3", "0")]);
     assert_eq!(r.status, 422, "{}", r.text);
 }
+
+#[test]
+fn a_column_left_out_at_upload_can_be_read_from_the_kept_file() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let twin = s.audit_with_compressor("C1");
+    let csv = plant_csv(DAY1, 2, 56.0, 14.0);
+    let mut without_flow = cycling_mapping();
+    without_flow["columns"].as_array_mut().unwrap().pop();
+    let up = upload_ok(&s, id, "log.csv", &csv, &without_flow);
+    upload_ok(&s, twin, "log.csv", &csv, &cycling_mapping());
+    let uid = up["upload_id"].as_i64().unwrap();
+    let path = format!("/audits/{id}/uploads/{uid}/remap");
+    let page = s.get(&path).text;
+    assert!(page.contains("Columns of the file not read so far"), "{page}");
+    assert!(page.contains("name=\"extra0_column\" value=\"flow m3/min\""), "the left-out column is offered");
+    let r = s.post_form(
+        &path,
+        &[
+            ("extra0_column", "flow m3/min"),
+            ("extra0_use", "1"),
+            ("extra0_quantity", "flow"),
+            ("extra0_unit", "m3_min"),
+            ("timezone", "UTC"),
+            ("format", "rfc3339"),
+        ],
+    );
+    assert_eq!(r.status, 303, "{}", r.text);
+    for f in ["mean_flow_m3_min", "air_m3", "specific_power_kw_per_m3_min"] {
+        same(&system(&s, id), &system(&s, twin), f);
+    }
+}

@@ -125,6 +125,22 @@ pub async fn is_kept(pool: &SqlitePool, upload_id: i64) -> Result<bool, StoreErr
         != 0)
 }
 
+/// The first `max` bytes of the upload's kept original (its first piece inflated), for the
+/// sniffer; `None` when no original is kept.
+pub async fn head(pool: &SqlitePool, upload_id: i64, max: usize) -> Result<Option<Vec<u8>>, StoreError> {
+    let data: Option<Vec<u8>> =
+        sqlx::query_scalar("SELECT data FROM upload_original WHERE upload_id = ? AND seq = 0")
+            .bind(upload_id)
+            .fetch_optional(pool)
+            .await?;
+    let Some(data) = data else { return Ok(None) };
+    let piece = decompress_to_vec_with_limit(&data, PIECE_BYTES).map_err(|e| StoreError::Damaged {
+        path: format!("upload {upload_id}'s original"),
+        detail: format!("piece 0 does not inflate: {e:?}"),
+    })?;
+    Ok(Some(piece[..piece.len().min(max)].to_vec()))
+}
+
 /// A restored original: where it was written, its SHA-256 (hex) and its length.
 pub struct Restored {
     pub path: PathBuf,
@@ -223,6 +239,7 @@ mod tests {
         let want: String = Sha256::digest(text.as_bytes()).iter().map(|b| format!("{b:02x}")).collect();
         assert_eq!((r.sha256, r.bytes), (want, text.len() as u64));
         assert!(restore(&pool, 8, &out).await.unwrap().is_none(), "no original for another upload");
+        assert_eq!(head(&pool, 7, 100).await.unwrap().unwrap(), text.as_bytes()[..100]);
         pool.close().await;
         let _ = std::fs::remove_dir_all(&dir);
     }

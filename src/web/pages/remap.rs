@@ -27,9 +27,17 @@ struct ColumnRow {
     compressor: Option<String>,
 }
 
+/// A column of the file that the mapping does not read, with the sniffer's guess.
+struct ExtraColumn {
+    column: String,
+    quantity: String,
+    unit: String,
+}
+
 #[derive(Template)]
 #[template(path = "remap.html")]
 struct RemapPage {
+    extra: Vec<ExtraColumn>,
     audit: Audit,
     upload_id: i64,
     filename: String,
@@ -70,7 +78,36 @@ fn stored(b: &AuditBundle, uid: i64) -> Result<(String, Mapping), AppError> {
     Ok((u.filename.clone(), m))
 }
 
-fn page(b: AuditBundle, uid: i64, filename: String, m: &Mapping, error: Option<String>) -> RemapPage {
+/// The file's columns that `m` does not read (nor takes its times from), as the sniffer saw them.
+fn extra_columns(sniffed: Option<&crate::ingest::Sniffed>, m: &Mapping) -> Vec<ExtraColumn> {
+    let Some(sn) = sniffed else { return vec![] };
+    let used = |c: &str| {
+        m.columns.iter().any(|x| x.column == c)
+            || m.timestamp.column == c
+            || m.timestamp.time_column.as_deref() == Some(c)
+    };
+    sn.header
+        .iter()
+        .filter(|h| !h.trim().is_empty() && !used(h))
+        .map(|h| {
+            let guess = sn.columns.iter().find(|g| &g.column == h);
+            ExtraColumn {
+                column: h.clone(),
+                quantity: guess.and_then(|g| g.quantity.clone()).unwrap_or_else(|| "pressure".into()),
+                unit: guess.and_then(|g| g.unit.clone()).unwrap_or_default(),
+            }
+        })
+        .collect()
+}
+
+fn page(
+    b: AuditBundle,
+    uid: i64,
+    filename: String,
+    m: &Mapping,
+    extra: Vec<ExtraColumn>,
+    error: Option<String>,
+) -> RemapPage {
     let columns = m
         .columns
         .iter()
@@ -88,6 +125,7 @@ fn page(b: AuditBundle, uid: i64, filename: String, m: &Mapping, error: Option<S
         })
         .collect();
     RemapPage {
+        extra,
         upload_id: uid,
         filename,
         columns,
@@ -107,12 +145,29 @@ fn page(b: AuditBundle, uid: i64, filename: String, m: &Mapping, error: Option<S
 pub async fn remap(State(st): State<AppState>, Path((id, uid)): Path<(i64, i64)>) -> PageResult {
     let b = st.app.bundle(id).await?;
     let (filename, m) = stored(&b, uid)?;
-    Ok(render(&page(b, uid, filename, &m, None)))
+    let extra = extra_columns(st.app.sniff_original(uid).await?.as_ref(), &m);
+    Ok(render(&page(b, uid, filename, &m, extra, None)))
 }
 
 /// The stored mapping with the form's changes: columns left out are dropped, the others take the
-/// quantity, unit and compressor chosen; everything else of the stored mapping stays.
+/// quantity, unit and compressor chosen, and columns the file has but the mapping did not read are
+/// added where ticked; everything else of the stored mapping stays.
 fn changed(mut m: Mapping, form: &HashMap<String, String>) -> Mapping {
+    let extra = |j: usize, f: &str| form.get(&format!("extra{j}_{f}")).map(|s| s.trim().to_string());
+    let mut added = vec![];
+    for j in 0.. {
+        let Some(column) = form.get(&format!("extra{j}_column")) else { break };
+        if extra(j, "use").is_none() {
+            continue;
+        }
+        let compressor = extra(j, "compressor").filter(|t| !t.is_empty());
+        added.push(crate::ingest::mapping::ColumnMap::new(
+            column,
+            &extra(j, "quantity").unwrap_or_default(),
+            &extra(j, "unit").unwrap_or_default(),
+            compressor.as_deref(),
+        ));
+    }
     let field = |i: usize, f: &str| form.get(&format!("col{i}_{f}")).map(|s| s.trim().to_string());
     let mut kept = Vec::with_capacity(m.columns.len());
     for (i, mut c) in std::mem::take(&mut m.columns).into_iter().enumerate() {
@@ -130,6 +185,7 @@ fn changed(mut m: Mapping, form: &HashMap<String, String>) -> Mapping {
         }
         kept.push(c);
     }
+    kept.extend(added);
     m.columns = kept;
     if let Some(tz) = form.get("timezone").map(|s| s.trim()).filter(|s| !s.is_empty()) {
         m.timestamp.timezone = tz.to_string();
@@ -174,8 +230,9 @@ pub async fn save_remap(
         AppError::Conflict(message) => message.clone(),
         _ => return Err(error.into()),
     };
-    let mut res =
-        render(&page(b, uid, filename, &m, Some(format!("The file was not read again: {message}"))));
+    let extra = extra_columns(st.app.sniff_original(uid).await?.as_ref(), &m);
+    let shown = Some(format!("The file was not read again: {message}"));
+    let mut res = render(&page(b, uid, filename, &m, extra, shown));
     *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
     Ok(res)
 }
