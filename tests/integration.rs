@@ -24,3 +24,5 @@ mod hostile_web;
 mod ingest;
 #[path = "integration/real_files.rs"]
 mod real_files;
+#[path = "integration/undo.rs"]
+mod undo;

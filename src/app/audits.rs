@@ -169,6 +169,14 @@ impl App {
             .await?)
     }
 
+    /// Edit a receiver; `false` if the audit has no such receiver.
+    pub async fn update_receiver(&self, audit_id: i64, id: i64, input: &ReceiverInput) -> Result<bool> {
+        self.audit(audit_id).await?;
+        input.validate()?;
+        Ok(audits::update_receiver(self.db(), audit_id, id, input.name.trim(), input.volume_m3, &input.notes)
+            .await?)
+    }
+
     /// Delete a receiver; `false` if the audit has no such receiver.
     pub async fn delete_receiver(&self, audit_id: i64, id: i64) -> Result<bool> {
         self.audit(audit_id).await?;

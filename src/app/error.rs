@@ -80,9 +80,9 @@ impl From<ImportError> for Error {
         match e {
             ImportError::Bad(i) => i.into(),
             ImportError::Store(s) => s.into(),
-            other @ (ImportError::Overlap { .. } | ImportError::InProgress(_)) => {
-                Self::Conflict(other.to_string())
-            }
+            other @ (ImportError::Overlap { .. }
+            | ImportError::InProgress(_)
+            | ImportError::ReplacedGone(_)) => Self::Conflict(other.to_string()),
         }
     }
 }

@@ -17,6 +17,10 @@ pub fn result_of(t: &FieldTestRecord) -> Option<FieldTestResult> {
     FieldTestResult::deserialize(&t.result).ok()
 }
 
+fn no_test(id: i64, tid: i64) -> Error {
+    Error::NotFound(format!("audit {id} has no field test {tid}"))
+}
+
 fn test_error(e: fieldtest::FieldError) -> Error {
     Error::field(&e.field, e.message)
 }
@@ -24,6 +28,40 @@ fn test_error(e: fieldtest::FieldError) -> Error {
 impl App {
     /// Evaluate and store a field test; returns the stored record.
     pub async fn add_field_test(&self, id: i64, body: serde_json::Value) -> Result<FieldTestRecord> {
+        let (method, result) = self.evaluate_field_test(id, &body).await?;
+        let tid = audits::add_field_test(self.db(), id, method, &body, &result).await?;
+        self.field_test(id, tid).await
+    }
+
+    /// Evaluate a field test again with a new body (`PUT`, the body of its `POST`) in place of the
+    /// stored one; returns the stored record.
+    pub async fn replace_field_test(
+        &self,
+        id: i64,
+        tid: i64,
+        body: serde_json::Value,
+    ) -> Result<FieldTestRecord> {
+        self.field_test(id, tid).await?;
+        let (method, result) = self.evaluate_field_test(id, &body).await?;
+        if !audits::replace_field_test(self.db(), id, tid, method, &body, &result).await? {
+            return Err(no_test(id, tid));
+        }
+        self.field_test(id, tid).await
+    }
+
+    /// One stored field test, or [`Error::NotFound`].
+    pub async fn field_test(&self, id: i64, tid: i64) -> Result<FieldTestRecord> {
+        self.audit(id).await?;
+        let rec = audits::field_tests(self.db(), id).await?.into_iter().find(|t| t.id == tid);
+        rec.ok_or_else(|| no_test(id, tid))
+    }
+
+    /// A field test's method and result, evaluated on the audit's present data.
+    async fn evaluate_field_test(
+        &self,
+        id: i64,
+        body: &serde_json::Value,
+    ) -> Result<(&'static str, serde_json::Value)> {
         let b = self.bundle(id).await?;
         let input: FieldTestInput =
             crate::site::read_json(body.clone(), "this field test").map_err(Error::from)?;
@@ -53,9 +91,7 @@ impl App {
             FieldTestContext { site: &site, compressors: &specs, storage: &storage, frame: frame.as_deref() };
         let result = fieldtest::evaluate(&input, &ctx).map_err(test_error)?;
         let result = serde_json::to_value(&result).map_err(Error::internal)?;
-        let tid = audits::add_field_test(self.db(), id, input.method(), &body, &result).await?;
-        let rec = audits::field_tests(self.db(), id).await?.into_iter().find(|t| t.id == tid);
-        rec.ok_or_else(|| Error::Internal(anyhow::anyhow!("field test {tid} vanished")))
+        Ok((input.method(), result))
     }
 
     /// Delete a field test; `false` if the audit has no such test.

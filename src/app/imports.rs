@@ -29,6 +29,17 @@ pub struct SpooledFile {
     pub filename: String,
     pub sha256: String,
     pub bytes: u64,
+    /// The upload whose import this file replaces (a corrected mapping), if any.
+    pub replaces: Option<i64>,
+}
+
+/// A spool file of this application's, removed when dropped.
+struct SpoolGuard(PathBuf);
+
+impl Drop for SpoolGuard {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_file(&self.0);
+    }
 }
 
 impl App {
@@ -68,6 +79,7 @@ impl App {
                 replace,
                 site: ctx.site,
                 compressors: ctx.compressors,
+                replaces: file.replaces,
             };
             Ok::<_, Error>(import::import_file(self.db(), req, progress).await?)
         }
@@ -77,11 +89,82 @@ impl App {
         }
         let outcome = result?;
         if let ImportOutcome::Created(_) = outcome {
+            // A replacing import changed the figures as much as a new one.
             // Work out the summary now, off the request, so that the first report after an upload
             // is read from the cache instead of decoding every reading while the manager waits.
             self.refresh_summary_in_background(audit_id, "import");
         }
         Ok(outcome)
+    }
+
+    /// Delete an upload with everything it wrote (readings, rollups, spans, quality report, kept
+    /// original) in one transaction, and work the summary out again; `false` if the audit has no
+    /// such complete upload. Readings that the upload replaced in other uploads (`replace=true`)
+    /// do not come back.
+    pub async fn delete_upload(&self, audit_id: i64, upload_id: i64) -> Result<bool> {
+        self.audit(audit_id).await?;
+        let deleted = audits::delete_upload(self.db(), audit_id, upload_id).await?;
+        if deleted {
+            self.refresh_summary_in_background(audit_id, "upload deleted");
+        }
+        Ok(deleted)
+    }
+
+    /// Import an upload's kept original again with `mapping`, replacing the earlier import: the
+    /// earlier one stays as it was unless the new import completes (a 422 leaves it). The same
+    /// mapping as stored gives [`ImportOutcome::Duplicate`] and changes nothing.
+    pub async fn remap_upload(
+        &self,
+        audit_id: i64,
+        upload_id: i64,
+        mapping: Mapping,
+        replace: bool,
+        token: Option<String>,
+    ) -> Result<ImportOutcome> {
+        let ctx = self.import_context(audit_id).await?;
+        let u = audits::uploads(self.db(), audit_id)
+            .await?
+            .into_iter()
+            .find(|u| u.id == upload_id)
+            .ok_or_else(|| Error::NotFound(format!("audit {audit_id} has no upload {upload_id}")))?;
+        let dir = &self.config().spool_dir;
+        std::fs::create_dir_all(dir)
+            .map_err(|e| Error::internal(anyhow::anyhow!("cannot create the spool folder: {e}")))?;
+        let path = dir.join(format!(
+            "remap-{}-{upload_id}-{}.part",
+            std::process::id(),
+            jiff::Timestamp::now().as_nanosecond()
+        ));
+        let _guard = SpoolGuard(path.clone());
+        let Some(restored) = import::original::restore(self.db(), upload_id, &path).await? else {
+            return Err(Error::Conflict(format!(
+                "the file of upload {upload_id} ({}) was imported before airledger kept original files: \
+                 upload the file again with the corrected mapping",
+                u.filename
+            )));
+        };
+        if restored.sha256 != u.sha256 {
+            return Err(Error::internal(anyhow::anyhow!(
+                "the kept original of upload {upload_id} does not match its SHA-256"
+            )));
+        }
+        let file = SpooledFile {
+            path: restored.path,
+            filename: u.filename,
+            sha256: restored.sha256,
+            bytes: restored.bytes,
+            replaces: Some(upload_id),
+        };
+        self.import_upload(audit_id, ctx, &file, mapping, replace, token).await
+    }
+
+    /// The sniffer's reading of an upload's kept original (its first 64 KiB): the file's columns,
+    /// also those its mapping left out; `None` when no original is kept or it cannot be sniffed.
+    pub async fn sniff_original(&self, upload_id: i64) -> Result<Option<crate::ingest::Sniffed>> {
+        let Some(head) = import::original::head(self.db(), upload_id, 64 * 1024).await? else {
+            return Ok(None);
+        };
+        Ok(crate::ingest::sniff(&head).ok())
     }
 
     /// The progress of the upload sent with `token`, while it runs.
@@ -117,6 +200,7 @@ impl App {
             replace,
             site: ctx.site,
             compressors: ctx.compressors,
+            replaces: None,
         };
         import::import_file(self.db(), req, progress).await.map_err(|e| match e {
             import::ImportError::Bad(i) => anyhow::anyhow!(

@@ -248,6 +248,7 @@ impl App {
                     supply_side_only: r.supply_side_only.unwrap_or(false),
                     implementation_cost: nan(r.implementation_cost),
                     simulated_hours: nan(r.simulated_hours),
+                    proposal: s.proposal,
                     name: s.name,
                 }
             })

@@ -53,6 +53,12 @@ pub struct UploadRecord {
     pub last: Option<String>,
     pub created_at: String,
     pub warnings: Vec<String>,
+    pub sha256: String,
+    /// The mapping it was imported with, as stored.
+    pub mapping: serde_json::Value,
+    /// Bytes its kept original takes in the database (deflated), `None` when it was imported
+    /// before originals were kept (it cannot be imported again without the file).
+    pub original_bytes_stored: Option<i64>,
     #[serde(skip)]
     pub quality_json: String,
 }
@@ -386,6 +392,33 @@ pub async fn add_receiver(
     Ok(id)
 }
 
+/// Edit a receiver; `false` if the audit has no such receiver.
+pub async fn update_receiver(
+    pool: &SqlitePool,
+    audit_id: i64,
+    id: i64,
+    name: &str,
+    volume_m3: f64,
+    notes: &str,
+) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n =
+        sqlx::query("UPDATE receiver SET name = ?, volume_m3 = ?, notes = ? WHERE id = ? AND audit_id = ?")
+            .bind(name)
+            .bind(volume_m3)
+            .bind(notes)
+            .bind(id)
+            .bind(audit_id)
+            .execute(&mut *tx)
+            .await?
+            .rows_affected();
+    if n > 0 {
+        bump(&mut tx, audit_id).await?;
+    }
+    tx.commit().await?;
+    Ok(n > 0)
+}
+
 pub async fn delete_receiver(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
     let mut tx = begin_write(pool).await?;
     let n = sqlx::query("DELETE FROM receiver WHERE id = ? AND audit_id = ?")
@@ -401,7 +434,8 @@ pub async fn delete_receiver(pool: &SqlitePool, audit_id: i64, id: i64) -> Resul
 
 pub async fn uploads(pool: &SqlitePool, audit_id: i64) -> Result<Vec<UploadRecord>, StoreError> {
     let rows = sqlx::query(
-        "SELECT id, filename, bytes, rows, readings, first_ms, last_ms, created_at, warnings, quality \
+        "SELECT id, filename, bytes, rows, readings, first_ms, last_ms, created_at, warnings, quality, sha256, \
+         mapping, (SELECT sum(length(o.data)) FROM upload_original o WHERE o.upload_id = upload.id) AS kept \
          FROM upload WHERE audit_id = ? AND state = 'complete' ORDER BY id",
     )
     .bind(audit_id)
@@ -411,6 +445,7 @@ pub async fn uploads(pool: &SqlitePool, audit_id: i64) -> Result<Vec<UploadRecor
         .iter()
         .map(|r| {
             let w: String = r.get("warnings");
+            let m: String = r.get("mapping");
             UploadRecord {
                 id: r.get("id"),
                 filename: r.get("filename"),
@@ -421,10 +456,31 @@ pub async fn uploads(pool: &SqlitePool, audit_id: i64) -> Result<Vec<UploadRecor
                 last: r.get::<Option<i64>, _>("last_ms").map(ms_to_rfc3339),
                 created_at: r.get("created_at"),
                 warnings: serde_json::from_str(&w).unwrap_or_default(),
+                sha256: r.get("sha256"),
+                mapping: serde_json::from_str(&m).unwrap_or_default(),
+                original_bytes_stored: r.get("kept"),
                 quality_json: r.get("quality"),
             }
         })
         .collect())
+}
+
+/// Delete a complete upload of the audit; the cascade takes its chunks, rollups, spans, kept
+/// original and (a column of the row) its quality report, all in one transaction that also bumps
+/// the revision. `false` if the audit has no such complete upload.
+pub async fn delete_upload(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n = sqlx::query("DELETE FROM upload WHERE id = ? AND audit_id = ? AND state = 'complete'")
+        .bind(id)
+        .bind(audit_id)
+        .execute(&mut *tx)
+        .await?
+        .rows_affected();
+    if n > 0 {
+        bump(&mut tx, audit_id).await?;
+    }
+    tx.commit().await?;
+    Ok(n > 0)
 }
 
 pub async fn field_tests(pool: &SqlitePool, audit_id: i64) -> Result<Vec<FieldTestRecord>, StoreError> {
@@ -472,6 +528,33 @@ pub async fn add_field_test(
     bump(&mut tx, audit_id).await?;
     tx.commit().await?;
     Ok(id)
+}
+
+/// Replace a field test's input and result (an edit); `false` if the audit has no such test.
+pub async fn replace_field_test(
+    pool: &SqlitePool,
+    audit_id: i64,
+    id: i64,
+    kind: &str,
+    input: &serde_json::Value,
+    result: &serde_json::Value,
+) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n =
+        sqlx::query("UPDATE field_test SET kind = ?, input = ?, result = ? WHERE id = ? AND audit_id = ?")
+            .bind(kind)
+            .bind(input.to_string())
+            .bind(result.to_string())
+            .bind(id)
+            .bind(audit_id)
+            .execute(&mut *tx)
+            .await?
+            .rows_affected();
+    if n > 0 {
+        bump(&mut tx, audit_id).await?;
+    }
+    tx.commit().await?;
+    Ok(n > 0)
 }
 
 pub async fn delete_field_test(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
@@ -603,11 +686,13 @@ pub struct ScenarioRecord {
     pub result: serde_json::Value,
     pub revision: i64,
     pub created_at: String,
+    /// Marked as the proposal: only this replay may enter the report's ranking.
+    pub proposal: bool,
 }
 
 pub async fn scenarios(pool: &SqlitePool, audit_id: i64) -> Result<Vec<ScenarioRecord>, StoreError> {
     let rows = sqlx::query(
-        "SELECT id, name, changes, result, revision, created_at FROM scenario WHERE audit_id = ? ORDER BY id",
+        "SELECT id, name, changes, result, revision, created_at, proposal FROM scenario WHERE audit_id = ? ORDER BY id",
     )
     .bind(audit_id)
     .fetch_all(pool)
@@ -624,36 +709,142 @@ pub async fn scenarios(pool: &SqlitePool, audit_id: i64) -> Result<Vec<ScenarioR
                 result: serde_json::from_str(&o).unwrap_or_default(),
                 revision: r.get("revision"),
                 created_at: r.get("created_at"),
+                proposal: r.get::<i64, _>("proposal") != 0,
             }
         })
         .collect())
 }
 
+/// A scenario's stored replay, for [`add_scenario`] and [`replace_scenario`].
+pub struct ScenarioWrite<'a> {
+    pub name: &'a str,
+    pub changes: &'a serde_json::Value,
+    pub result: &'a serde_json::Value,
+    /// The audit revision it was replayed on.
+    pub revision: i64,
+    pub proposal: bool,
+}
+
 /// Store a scenario. It does not bump the revision (the audit's data and the other scenarios stay
-/// current), but it drops the cached summary, since the best scenario may become the `improve_control`
-/// measure.
+/// current), but it drops the cached summary, since the proposed scenario may become the
+/// `improve_control` measure. A scenario stored as the proposal withdraws any other.
 pub async fn add_scenario(
     pool: &SqlitePool,
     audit_id: i64,
-    name: &str,
-    changes: &serde_json::Value,
-    result: &serde_json::Value,
-    revision: i64,
+    w: &ScenarioWrite<'_>,
 ) -> Result<i64, StoreError> {
     let mut tx = begin_write(pool).await?;
     let id = sqlx::query(
         "INSERT INTO scenario (audit_id, name, changes, result, revision, created_at) VALUES (?, ?, ?, ?, ?, ?)",
     )
     .bind(audit_id)
-    .bind(name)
-    .bind(changes.to_string())
-    .bind(result.to_string())
-    .bind(revision)
+    .bind(w.name)
+    .bind(w.changes.to_string())
+    .bind(w.result.to_string())
+    .bind(w.revision)
     .bind(now_rfc3339())
     .execute(&mut *tx)
     .await?
     .last_insert_rowid();
-    sqlx::query("DELETE FROM summary_cache WHERE audit_id = ?").bind(audit_id).execute(&mut *tx).await?;
+    set_proposal(&mut tx, audit_id, id, w.proposal).await?;
     tx.commit().await?;
     Ok(id)
+}
+
+/// Replace a scenario's changes and replay (`PUT`); `false` if the audit has no such scenario.
+pub async fn replace_scenario(
+    pool: &SqlitePool,
+    audit_id: i64,
+    id: i64,
+    w: &ScenarioWrite<'_>,
+) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n = sqlx::query(
+        "UPDATE scenario SET name = ?, changes = ?, result = ?, revision = ? WHERE id = ? AND audit_id = ?",
+    )
+    .bind(w.name)
+    .bind(w.changes.to_string())
+    .bind(w.result.to_string())
+    .bind(w.revision)
+    .bind(id)
+    .bind(audit_id)
+    .execute(&mut *tx)
+    .await?
+    .rows_affected();
+    if n > 0 {
+        set_proposal(&mut tx, audit_id, id, w.proposal).await?;
+    }
+    tx.commit().await?;
+    Ok(n > 0)
+}
+
+/// Rename a scenario or mark it as the proposal (or withdraw it) without replaying it; `false` if
+/// the audit has no such scenario.
+pub async fn edit_scenario(
+    pool: &SqlitePool,
+    audit_id: i64,
+    id: i64,
+    name: Option<&str>,
+    proposal: Option<bool>,
+) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let exists: Option<i64> = sqlx::query_scalar("SELECT id FROM scenario WHERE id = ? AND audit_id = ?")
+        .bind(id)
+        .bind(audit_id)
+        .fetch_optional(&mut *tx)
+        .await?;
+    if exists.is_none() {
+        return Ok(false);
+    }
+    if let Some(name) = name {
+        sqlx::query("UPDATE scenario SET name = ? WHERE id = ?")
+            .bind(name)
+            .bind(id)
+            .execute(&mut *tx)
+            .await?;
+    }
+    match proposal {
+        Some(p) => set_proposal(&mut tx, audit_id, id, p).await?,
+        None => drop_summary(&mut tx, audit_id).await?,
+    }
+    tx.commit().await?;
+    Ok(true)
+}
+
+pub async fn delete_scenario(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n = sqlx::query("DELETE FROM scenario WHERE id = ? AND audit_id = ?")
+        .bind(id)
+        .bind(audit_id)
+        .execute(&mut *tx)
+        .await?
+        .rows_affected();
+    drop_summary(&mut tx, audit_id).await?;
+    tx.commit().await?;
+    Ok(n > 0)
+}
+
+/// Mark scenario `id` as the audit's one proposal (withdrawing any other), or withdraw it; the
+/// cached summary goes, as its ranking may change.
+async fn set_proposal(
+    tx: &mut sqlx::SqliteConnection,
+    audit_id: i64,
+    id: i64,
+    proposal: bool,
+) -> Result<(), sqlx::Error> {
+    if proposal {
+        sqlx::query("UPDATE scenario SET proposal = (id = ?) WHERE audit_id = ?")
+            .bind(id)
+            .bind(audit_id)
+            .execute(&mut *tx)
+            .await?;
+    } else {
+        sqlx::query("UPDATE scenario SET proposal = 0 WHERE id = ?").bind(id).execute(&mut *tx).await?;
+    }
+    drop_summary(tx, audit_id).await
+}
+
+async fn drop_summary(tx: &mut sqlx::SqliteConnection, audit_id: i64) -> Result<(), sqlx::Error> {
+    sqlx::query("DELETE FROM summary_cache WHERE audit_id = ?").bind(audit_id).execute(&mut *tx).await?;
+    Ok(())
 }

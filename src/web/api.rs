@@ -163,6 +163,18 @@ pub async fn add_receiver(
     Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": rid })))
 }
 
+/// `PUT /audits/{id}/receivers/{rid}`: the body of its `POST`.
+pub async fn update_receiver(
+    State(st): State<AppState>,
+    ApiPath((id, rid)): ApiPath<(i64, i64)>,
+    ApiJson(r): ApiJson<ReceiverInput>,
+) -> Result<Response, AppError> {
+    if !st.app.update_receiver(id, rid, &r).await? {
+        return Err(AppError::NotFound(format!("audit {id} has no receiver {rid}")));
+    }
+    Ok(json(StatusCode::OK, &serde_json::json!({ "id": rid })))
+}
+
 pub async fn delete_receiver(
     State(st): State<AppState>,
     ApiPath((id, rid)): ApiPath<(i64, i64)>,
@@ -316,6 +328,16 @@ pub async fn add_field_test(
 ) -> Result<Response, AppError> {
     let rec = st.app.add_field_test(id, body).await?;
     Ok(json(StatusCode::CREATED, &rec))
+}
+
+/// `PUT /audits/{id}/field-tests/{tid}`: the body of its `POST`, evaluated again.
+pub async fn replace_field_test(
+    State(st): State<AppState>,
+    ApiPath((id, tid)): ApiPath<(i64, i64)>,
+    ApiJson(body): ApiJson<serde_json::Value>,
+) -> Result<Response, AppError> {
+    let rec = st.app.replace_field_test(id, tid, body).await?;
+    Ok(json(StatusCode::OK, &rec))
 }
 
 pub async fn delete_field_test(
@@ -594,4 +616,50 @@ pub async fn list_scenarios(
 ) -> Result<Response, AppError> {
     let list = st.app.scenarios(id).await?;
     Ok(json(StatusCode::OK, &serde_json::json!({ "scenarios": list })))
+}
+
+/// `PUT /audits/{id}/scenarios/{sid}`: the body of its `POST`, replayed again.
+pub async fn replace_scenario(
+    State(st): State<AppState>,
+    ApiPath((id, sid)): ApiPath<(i64, i64)>,
+    ApiJson(body): ApiJson<serde_json::Value>,
+) -> Result<Response, AppError> {
+    let result = st.app.replace_scenario(id, sid, body).await?;
+    let result = serde_json::to_value(&result).map_err(|e| AppError::Internal(e.into()))?;
+    Ok(json(StatusCode::OK, &serde_json::json!({ "id": sid, "result": result })))
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ScenarioPatch {
+    name: Option<String>,
+    proposal: Option<bool>,
+}
+
+/// `PATCH /audits/{id}/scenarios/{sid}` `{"name": "...", "proposal": true}`: rename, or put it
+/// forward as the control measure (or withdraw it), without replaying.
+pub async fn patch_scenario(
+    State(st): State<AppState>,
+    ApiPath((id, sid)): ApiPath<(i64, i64)>,
+    ApiJson(p): ApiJson<ScenarioPatch>,
+) -> Result<Response, AppError> {
+    st.app.edit_scenario(id, sid, p.name.as_deref(), p.proposal).await?;
+    Ok(json(StatusCode::OK, &st.app.scenario(id, sid).await?))
+}
+
+pub async fn get_scenario(
+    State(st): State<AppState>,
+    ApiPath((id, sid)): ApiPath<(i64, i64)>,
+) -> Result<Response, AppError> {
+    Ok(json(StatusCode::OK, &st.app.scenario(id, sid).await?))
+}
+
+pub async fn delete_scenario(
+    State(st): State<AppState>,
+    ApiPath((id, sid)): ApiPath<(i64, i64)>,
+) -> Result<Response, AppError> {
+    if !st.app.delete_scenario(id, sid).await? {
+        return Err(AppError::NotFound(format!("audit {id} has no scenario {sid}")));
+    }
+    Ok(StatusCode::NO_CONTENT.into_response())
 }

@@ -75,7 +75,8 @@ const REQUEST_TIMEOUT: std::time::Duration = std::time::Duration::from_secs(120)
 async fn timeout(req: Request<axum::body::Body>, next: Next) -> Response {
     use axum::response::IntoResponse;
     // Uploads stream gigabytes on slow links; they are bounded by size instead.
-    if req.uri().path().ends_with("/uploads") {
+    // A remap imports a kept file again, as long as an upload of it.
+    if req.uri().path().ends_with("/uploads") || req.uri().path().ends_with("/remap") {
         return next.run(req).await;
     }
     match tokio::time::timeout(REQUEST_TIMEOUT, next.run(req)).await {
@@ -96,19 +97,33 @@ pub fn build_app(state: AppState) -> Router {
             axum::routing::put(api::update_compressor).delete(api::delete_compressor),
         )
         .route("/audits/{id}/receivers", post(api::add_receiver))
-        .route("/audits/{id}/receivers/{rid}", axum::routing::delete(api::delete_receiver))
+        .route(
+            "/audits/{id}/receivers/{rid}",
+            axum::routing::put(api::update_receiver).delete(api::delete_receiver),
+        )
         .route("/audits/{id}/uploads", get(api::list_uploads).post(upload::post_upload).layer(upload_limit))
-        .route("/audits/{id}/uploads/{upload_id}", get(api::get_upload))
+        .route("/audits/{id}/uploads/{upload_id}", get(api::get_upload).delete(upload::delete_upload))
+        .route("/audits/{id}/uploads/{upload_id}/remap", post(upload::remap_upload))
         .route("/audits/{id}/sniff", post(upload::post_sniff).layer(upload_limit))
         .route("/imports/{token}", get(upload::import_progress))
         .route("/audits/{id}/summary", get(api::summary))
         .route("/audits/{id}/channels", get(api::channels))
         .route("/audits/{id}/series", get(api::series))
         .route("/audits/{id}/field-tests", get(api::list_field_tests).post(api::add_field_test))
-        .route("/audits/{id}/field-tests/{tid}", axum::routing::delete(api::delete_field_test))
+        .route(
+            "/audits/{id}/field-tests/{tid}",
+            axum::routing::put(api::replace_field_test).delete(api::delete_field_test),
+        )
         .route("/audits/{id}/decay-events", get(api::decay_events))
         .route("/audits/{id}/costs/{kind}", axum::routing::put(api::put_cost))
         .route("/audits/{id}/scenarios", get(api::list_scenarios).post(api::add_scenario))
+        .route(
+            "/audits/{id}/scenarios/{sid}",
+            get(api::get_scenario)
+                .put(api::replace_scenario)
+                .patch(api::patch_scenario)
+                .delete(api::delete_scenario),
+        )
         .route("/calc/orifice-leak", post(api::calc_orifice))
         .route("/calc/compression", post(api::calc_compression))
         .fallback(api::not_found)
@@ -120,9 +135,34 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}", get(pages::audit::audit))
         .route("/audits/{id}/site", post(pages::audit::save_site))
         .route("/audits/{id}/compressors", post(pages::audit::add_compressor))
-        .route("/audits/{id}/compressors/{cid}/delete", post(pages::audit::delete_compressor))
+        .route("/audits/{id}/compressors/{cid}", post(pages::edit::save_compressor))
+        .route("/audits/{id}/compressors/{cid}/edit", get(pages::edit::edit_compressor))
+        .route(
+            "/audits/{id}/compressors/{cid}/delete",
+            get(pages::confirm::ask_compressor).post(pages::confirm::delete_compressor),
+        )
         .route("/audits/{id}/receivers", post(pages::audit::add_receiver))
-        .route("/audits/{id}/receivers/{rid}/delete", post(pages::audit::delete_receiver))
+        .route("/audits/{id}/receivers/{rid}", post(pages::edit::save_receiver))
+        .route("/audits/{id}/receivers/{rid}/edit", get(pages::edit::edit_receiver))
+        .route(
+            "/audits/{id}/receivers/{rid}/delete",
+            get(pages::confirm::ask_receiver).post(pages::confirm::delete_receiver),
+        )
+        .route(
+            "/audits/{id}/uploads/{uid}/delete",
+            get(pages::confirm::ask_upload).post(pages::confirm::delete_upload),
+        )
+        .route("/audits/{id}/uploads/{uid}/remap", get(pages::remap::remap).post(pages::remap::save_remap))
+        .route(
+            "/audits/{id}/tests/{tid}/delete",
+            get(pages::confirm::ask_field_test).post(pages::confirm::delete_field_test),
+        )
+        .route("/audits/{id}/scenarios/{sid}/proposal", post(pages::scenarios::set_proposal))
+        .route("/audits/{id}/scenarios/{sid}/rename", post(pages::scenarios::rename))
+        .route(
+            "/audits/{id}/scenarios/{sid}/delete",
+            get(pages::confirm::ask_scenario).post(pages::confirm::delete_scenario),
+        )
         .route("/audits/{id}/upload", get(pages::upload::upload))
         .route("/audits/{id}/report", get(pages::report::report))
         .route("/audits/{id}/findings", get(pages::findings::findings))

@@ -174,23 +174,61 @@ pub async fn post_upload(
     let replace = matches!(q.replace.as_deref(), Some("true" | "1" | "yes" | "on"));
 
     let token = q.token.filter(|t| !t.is_empty() && t.len() <= 64);
-    let file = SpooledFile { path: spooled.path.clone(), filename, sha256, bytes };
+    let file = SpooledFile { path: spooled.path.clone(), filename, sha256, bytes, replaces: None };
     let result = state.app.import_upload(audit_id, ctx, &file, mapping, replace, token).await;
     drop(spooled);
-    match result? {
-        ImportOutcome::Created(s) => Ok((StatusCode::CREATED, Json(s)).into_response()),
-        ImportOutcome::Duplicate { upload_id } => Ok((
+    Ok(upload_reply(result?))
+}
+
+/// The reply of an upload: 201 with what was imported, or 200 naming the earlier upload of the
+/// same bytes and mapping.
+fn upload_reply(outcome: ImportOutcome) -> Response {
+    match outcome {
+        ImportOutcome::Created(s) => (StatusCode::CREATED, Json(s)).into_response(),
+        ImportOutcome::Duplicate { upload_id } => (
             StatusCode::OK,
             Json(serde_json::json!({
                 "upload_id": upload_id,
                 "duplicate": true,
                 "rows": 0,
                 "readings": 0,
-                "warnings": ["this file was imported before (same bytes): nothing was added"],
+                "warnings": ["this file was imported before with the same mapping: nothing was added"],
             })),
         )
-            .into_response()),
+            .into_response(),
     }
+}
+
+/// `DELETE /api/v1/audits/{id}/uploads/{upload_id}`: 204, the upload and everything it wrote gone.
+pub async fn delete_upload(
+    State(state): State<AppState>,
+    ApiPath((audit_id, upload_id)): ApiPath<(i64, i64)>,
+) -> Result<Response, AppError> {
+    if !state.app.delete_upload(audit_id, upload_id).await? {
+        return Err(AppError::NotFound(format!("audit {audit_id} has no upload {upload_id}")));
+    }
+    Ok(StatusCode::NO_CONTENT.into_response())
+}
+
+/// `POST /api/v1/audits/{id}/uploads/{upload_id}/remap` with a mapping as the JSON body: the kept
+/// original imported again with it, replacing the earlier import (201, the reply of an upload;
+/// 200 when the mapping is the stored one). `?replace=true` and `?token=` as for an upload.
+pub async fn remap_upload(
+    State(state): State<AppState>,
+    ApiPath((audit_id, upload_id)): ApiPath<(i64, i64)>,
+    Query(q): Query<UploadQuery>,
+    body: axum::body::Bytes,
+) -> Result<Response, AppError> {
+    if body.len() > MAPPING_LIMIT {
+        return Err(AppError::TooLarge(format!(
+            "the mapping is larger than {} KiB: a mapping is a short JSON object",
+            MAPPING_LIMIT / 1024
+        )));
+    }
+    let mapping = parse_mapping(&body)?;
+    let replace = matches!(q.replace.as_deref(), Some("true" | "1" | "yes" | "on"));
+    let token = q.token.filter(|t| !t.is_empty() && t.len() <= 64);
+    Ok(upload_reply(state.app.remap_upload(audit_id, upload_id, mapping, replace, token).await?))
 }
 
 /// `POST /api/v1/audits/{id}/sniff`: multipart, exactly one `file` part; only its first 64 KiB are

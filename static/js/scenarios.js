@@ -6,6 +6,31 @@
   if (!data) return;
   const form = document.getElementById("scenario-form");
   const status = document.getElementById("scenario-status");
+  const nameKey = "airledger-scenario-name-" + data.audit_id;
+  // The form filled with a stored scenario to edit (?edit=ID): the replay is then saved in its place.
+  const edit = data.edit;
+  if (edit) {
+    const f = form.elements;
+    f.name.value = edit.name;
+    for (const c of edit.changes || []) {
+      if (c.op === "remove") f.remove.value = c.tag;
+      else if (c.op === "set_pressure") f.target_bar_g.value = c.target_bar_g;
+      else if (c.op === "add_storage") f.add_storage_m3.value = c.volume_m3;
+      else if (c.op === "reduce_leaks") f.reduce_leaks.value = c.fraction;
+      else if (c.op === "sequence") f.order.value = (c.order || []).join(" ");
+      else if (c.op === "add" && c.compressor) {
+        f.add_tag.value = c.compressor.tag; f.add_control.value = c.compressor.control;
+        f.add_power.value = c.compressor.rated_power_kw; f.add_flow.value = c.compressor.rated_flow_m3_min;
+        f.add_pressure.value = c.compressor.rated_pressure_bar_g;
+        f.add_curve.value = (c.compressor.power_curve || []).map((p) => p.join(":")).join(" ");
+      }
+    }
+    if (edit.implementation_cost !== null && edit.implementation_cost !== undefined) f.implementation_cost.value = edit.implementation_cost;
+  } else {
+    // The name typed for the last replay stays in the box after the page reloads.
+    const kept = sessionStorage.getItem(nameKey);
+    if (kept) form.elements.name.value = kept;
+  }
   form.addEventListener("submit", async (e) => {
     e.preventDefault();
     const f = form.elements;
@@ -22,11 +47,12 @@
     }
     status.textContent = "Replaying the logged demand\u2026";
     try {
-      await A.json("/api/v1/audits/" + data.audit_id + "/scenarios", {
-        method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(Object.assign({ name: f.name.value, changes: changes },
+      sessionStorage.setItem(nameKey, f.name.value);
+      await A.json("/api/v1/audits/" + data.audit_id + "/scenarios" + (edit ? "/" + edit.id : ""), {
+        method: edit ? "PUT" : "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(Object.assign({ name: f.name.value, changes: changes },
           f.implementation_cost.value ? { implementation_cost: Number(f.implementation_cost.value) } : {})),
       });
-      window.location.reload();
+      window.location.assign("/audits/" + data.audit_id + "/scenarios");
     } catch (err) { status.textContent = "Not replayed: " + err.message; }
   });
   const canvas = document.getElementById("chart-scenarios");

@@ -16,13 +16,26 @@
     return body;
   }
 
-  async function post(body) {
+  // A stored test to edit (?edit=ID): its form is filled with what was recorded and saves in place.
+  const edit = data.edit;
+  const editForm = edit ? document.querySelector("form[data-test-kind=" + edit.kind + "]") : null;
+  if (editForm) {
+    for (const el of editForm.elements) {
+      if (el.name && edit.input[el.name] !== undefined && edit.input[el.name] !== null) el.value = edit.input[el.name];
+    }
+    editForm.setAttribute("data-test-id", edit.id);
+    const b = editForm.querySelector("button[type=submit]");
+    if (b) b.textContent = "Save test " + edit.id;
+    editForm.scrollIntoView({ block: "center" });
+  }
+
+  async function post(body, id) {
     try {
-      const r = await A.json(base + "/field-tests", {
-        method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body),
+      const r = await A.json(base + "/field-tests" + (id ? "/" + id : ""), {
+        method: id ? "PUT" : "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body),
       });
       status.textContent = "Recorded test " + r.id + ".";
-      window.location.reload();
+      window.location.assign("/audits/" + data.audit_id + "/tests");
     } catch (e) {
       status.textContent = "Not recorded: " + e.message;
       status.scrollIntoView({ block: "center" });
@@ -30,13 +43,7 @@
   }
 
   for (const form of document.querySelectorAll("form[data-test-kind]")) {
-    form.addEventListener("submit", (e) => { e.preventDefault(); post(formBody(form)); });
-  }
-  for (const b of document.querySelectorAll("[data-delete-test]")) {
-    b.addEventListener("click", async () => {
-      await fetch(base + "/field-tests/" + b.getAttribute("data-delete-test"), { method: "DELETE" });
-      window.location.reload();
-    });
+    form.addEventListener("submit", (e) => { e.preventDefault(); post(formBody(form), form.getAttribute("data-test-id")); });
   }
 
   const orifice = document.getElementById("orifice-form");

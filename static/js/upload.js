@@ -240,7 +240,9 @@
       try { body = JSON.parse(xhr.responseText); } catch (_) { /* not JSON */ }
       if (xhr.status === 201 || xhr.status === 200) {
         $("import-progress").value = 100;
-        $("import-status").textContent = xhr.status === 200 ? "This file was imported before: nothing was added." : "Imported.";
+        $("import-status").textContent = xhr.status === 200
+          ? "This file was imported before with this same mapping: nothing was added. Change the mapping to read it another way."
+          : body.replaced_upload_id ? "Imported with this mapping, in place of the earlier import of the same file." : "Imported.";
         showResult(body);
       } else {
         const er = body.error || { message: "HTTP " + xhr.status };

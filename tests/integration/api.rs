@@ -463,10 +463,11 @@ fn a_scenario_replays_the_demo_and_reports_its_validation_error() {
     // one cannot hold the pressure, and "as is" saves nothing.
     let recs = s.get("/api/v1/audits/1/summary").json()["recommendations"].clone();
     assert!(recs.as_array().unwrap().iter().all(|r| r.get("scenario_id").is_none()), "{recs}");
-    // More storage calms the load/unload cycling: a supply-side saving, offered with its own cost.
+    // More storage calms the load/unload cycling: a supply-side saving, offered with its own cost
+    // once it is put forward as the proposal.
     let r = s.post_json(
         "/api/v1/audits/1/scenarios",
-        &json!({"name": "more storage", "changes": [{"op": "add_storage", "volume_m3": 4.0}], "implementation_cost": 5000}),
+        &json!({"name": "more storage", "changes": [{"op": "add_storage", "volume_m3": 4.0}], "implementation_cost": 5000, "proposal": true}),
     );
     assert_eq!(r.status, 201, "{}", r.text);
     let res = r.json()["result"].clone();
@@ -493,7 +494,7 @@ fn a_scenario_replays_the_demo_and_reports_its_validation_error() {
     assert!((kwh - share * annual).abs() < 1e-6 * annual, "{kwh} vs {}", share * annual);
     let page = s.get("/audits/1/scenarios");
     assert_eq!(page.status, 200);
-    assert!(page.text.contains("offered as the control measure"));
+    assert!(page.text.contains("the proposal: on the report as the control measure"));
 }
 
 /// `GET /api/v1/audits/{id}/uploads/{upload_id}` gives each channel's readings and the arithmetic

@@ -743,3 +743,6 @@ fn the_upload_page_marks_the_layout_and_imports_markers_as_missing() {
     let severe = b.severe_logs("/upload");
     assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
 }
+
+#[path = "browser_undo.rs"]
+mod undo;

@@ -117,6 +117,18 @@ impl Server {
         send(ureq_agent().put(&self.url(path)).header("Origin", &self.base).send_json(body))
     }
 
+    pub fn delete(&self, path: &str) -> Resp {
+        send(ureq_agent().delete(&self.url(path)).header("Origin", &self.base).call())
+    }
+
+    /// A page form posted as a browser would (`application/x-www-form-urlencoded`), redirects
+    /// not followed.
+    pub fn post_form(&self, path: &str, fields: &[(&str, &str)]) -> Resp {
+        let agent: ureq::Agent =
+            ureq::Agent::config_builder().http_status_as_error(false).max_redirects(0).build().into();
+        send(agent.post(&self.url(path)).header("Origin", &self.base).send_form(fields.iter().copied()))
+    }
+
     pub fn patch_json(&self, path: &str, body: &Value) -> Resp {
         send(ureq_agent().patch(&self.url(path)).header("Origin", &self.base).send_json(body))
     }

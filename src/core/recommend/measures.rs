@@ -189,7 +189,7 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
                 title: text![format!("Change the compressor room as in scenario \u{201c}{}\u{201d}", s.name)],
                 description: text![format!(
                     "The logged demand replayed through the changed room (scenario {}) takes {:.1} % less \
-                     energy than the same replay of the room as it is.",
+                     energy than the baseline, the same replay of the room as it is.",
                     s.id,
                     s.energy_saving_kwh / s.baseline_energy_kwh * 100.0
                 )],

@@ -15,7 +15,8 @@ energy above idle.
 | `improve_control` | the best replayed scenario (below), else the trim's logged energy - the same demand on a variable-speed trim (the audit's own VSD curve, or the typical curve of `states`) | the scenario's cost (quoted, or `simulate::default_cost`); else 350 per kW of trim rating (a VSD trim), 3000 fixed when the audit already has a VSD to sequence as trim |
 | `replace_compressor` | loaded hours × (measured loaded kW - data-sheet kW) | 400 per kW rated |
 
-**Replayed scenarios** (`simulate`) outrank the rule for `improve_control`: a scenario qualifies when it
+**Replayed scenarios** (`simulate`) outrank the rule for `improve_control`: a scenario qualifies when the
+auditor marked it as the proposal (`proposal`: a replay is a question asked, not advice, until then), it
 is feasible, changes only the supply side (`supply_side_only`: pressure and leaks are measures of their
 own), saves energy, and its baseline reproduced the logged energy within [`MAX_SCENARIO_VALIDATION_ERROR`]
 (3 %, the bar of the validation test). Its annual saving is its saved share of the simulated baseline
@@ -262,12 +263,15 @@ pub struct ScenarioCase {
     pub supply_side_only: bool,
     pub implementation_cost: f64,
     pub simulated_hours: f64,
+    /// Marked by the auditor as the proposal: only then may it enter the ranking.
+    pub proposal: bool,
 }
 
 impl ScenarioCase {
     /// Whether this scenario may be offered (module doc).
     pub fn qualifies(&self) -> bool {
-        self.feasible
+        self.proposal
+            && self.feasible
             && self.supply_side_only
             && self.energy_saving_kwh > 0.0
             && self.baseline_energy_kwh > 0.0

@@ -83,6 +83,7 @@ fn case(id: i64, saving: f64, cost: f64) -> ScenarioCase {
         supply_side_only: true,
         implementation_cost: cost,
         simulated_hours: 168.0,
+        proposal: true,
     }
 }
 
@@ -132,8 +133,18 @@ fn the_best_qualifying_scenario_is_the_control_measure() {
     infeasible.feasible = false;
     let mut demand_side = case(6, 300.0, 10.0);
     demand_side.supply_side_only = false;
-    // 1: 10 % for 9000; 2: 5 % for 3000 (shorter payback); the last three do not qualify.
-    let cases = [case(1, 100.0, 9000.0), case(2, 50.0, 3000.0), bad_validation, infeasible, demand_side];
+    // The best payback of all, but nobody proposed it: a replay asked about, not advice.
+    let mut not_proposed = case(7, 300.0, 10.0);
+    not_proposed.proposal = false;
+    // 1: 10 % for 9000; 2: 5 % for 3000 (shorter payback); the last four do not qualify.
+    let cases = [
+        case(1, 100.0, 9000.0),
+        case(2, 50.0, 3000.0),
+        bad_validation,
+        infeasible,
+        demand_side,
+        not_proposed,
+    ];
     let mut inp = input(&s, &cs, &ms, &costs);
     inp.scenarios = &cases;
     let recs = recommend(&inp, &si(&s));
@@ -147,7 +158,7 @@ fn the_best_qualifying_scenario_is_the_control_measure() {
     let p = 3000.0 / (15_000.0 * s.electricity_price_per_kwh);
     assert!((ctl[0].simple_payback_years.unwrap() - p).abs() < 1e-9);
     // With none qualifying there is no scenario measure.
-    let cases = [cases[2].clone(), cases[3].clone(), cases[4].clone()];
+    let cases = [cases[2].clone(), cases[3].clone(), cases[4].clone(), cases[5].clone()];
     inp.scenarios = &cases;
     assert!(recommend(&inp, &si(&s)).iter().all(|r| r.kind != MeasureKind::ImproveControl));
 }

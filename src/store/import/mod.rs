@@ -19,6 +19,7 @@ kept.
 */
 
 mod encoder;
+pub mod original;
 mod replace;
 mod writer;
 
@@ -57,6 +58,10 @@ pub struct ImportRequest {
     pub site: SiteAir,
     /// Compressor tags of the audit with their ids.
     pub compressors: Vec<(String, i64)>,
+    /// The upload this file's import replaces (`remap`: the same bytes with another mapping). The
+    /// earlier upload is deleted in the transaction that completes this one, so a failed import
+    /// leaves it as it was. The same bytes sent again with another mapping set it by themselves.
+    pub replaces: Option<i64>,
 }
 
 /// The result the API returns for a new upload.
@@ -75,6 +80,9 @@ pub struct ImportSummary {
     pub warnings: Vec<String>,
     pub quality: serde_json::Value,
     pub channels: Vec<ChannelSpan>,
+    /// The earlier import of the same bytes that this one replaced (a corrected mapping).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub replaced_upload_id: Option<i64>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -113,6 +121,9 @@ pub enum ImportError {
     /// The same file is being imported right now (409).
     #[error("this file is being imported already (upload {0})")]
     InProgress(i64),
+    /// The upload a corrected mapping was to replace was deleted meanwhile (409).
+    #[error("upload {0} was deleted while its file was being imported again: nothing was changed")]
+    ReplacedGone(i64),
     #[error(transparent)]
     Store(#[from] StoreError),
 }
@@ -143,14 +154,31 @@ fn bad(message: String, field: Option<String>) -> ImportError {
     ImportError::Bad(IngestError { message, line: None, column: None, field })
 }
 
-/// Import one file. The same bytes twice give [`ImportOutcome::Duplicate`].
+/// How a replacing import ends: the earlier upload it replaces, and whether that upload's kept
+/// original moves over to the new one (the same bytes) instead of being kept again.
+pub(super) struct Replacing {
+    pub(super) old: i64,
+    pub(super) move_original: bool,
+}
+
+/// The original being kept beside the parse (`original::keep`), awaited before the upload is marked
+/// complete. An import that fails raises `stop` and waits for it to end before deleting the upload:
+/// the keeper then ends after the piece it is writing, its transaction committed, rather than being
+/// cancelled in the middle of one.
+pub(super) struct Keeper {
+    pub(super) handle: tokio::task::JoinHandle<Result<(u64, u64), ImportError>>,
+    pub(super) stop: Arc<std::sync::atomic::AtomicBool>,
+}
+
+/// Import one file. The same bytes twice with the same mapping give [`ImportOutcome::Duplicate`];
+/// with another mapping, the new import replaces the earlier one (as `req.replaces` asks).
 pub async fn import_file(
     pool: &SqlitePool,
-    req: ImportRequest,
+    mut req: ImportRequest,
     progress: Arc<Progress>,
 ) -> Result<ImportOutcome, ImportError> {
     progress.bytes_total.store(req.bytes, Ordering::Relaxed);
-    if let Some(r) = sqlx::query("SELECT id, state FROM upload WHERE audit_id = ? AND sha256 = ?")
+    if let Some(r) = sqlx::query("SELECT id, state, mapping FROM upload WHERE audit_id = ? AND sha256 = ?")
         .bind(req.audit_id)
         .bind(&req.sha256)
         .fetch_optional(pool)
@@ -158,12 +186,19 @@ pub async fn import_file(
     {
         let id: i64 = r.get("id");
         let state: String = r.get("state");
-        return if state == "complete" {
-            Ok(ImportOutcome::Duplicate { upload_id: id })
-        } else {
-            Err(ImportError::InProgress(id))
-        };
+        if state != "complete" {
+            return Err(ImportError::InProgress(id));
+        }
+        let stored: Option<Mapping> = serde_json::from_str(r.get::<&str, _>("mapping")).ok();
+        if stored.as_ref() == Some(&req.mapping) {
+            return Ok(ImportOutcome::Duplicate { upload_id: id });
+        }
+        req.replaces = Some(id);
     }
+    let replacing = match req.replaces {
+        Some(old) => Some(Replacing { old, move_original: original::is_kept(pool, old).await? }),
+        None => None,
+    };
 
     // Resolve the mapped columns to channels before reading a single row.
     let defs = ingest::channel_defs(&req.mapping).map_err(ImportError::Bad)?;
@@ -184,7 +219,11 @@ pub async fn import_file(
     )
     .bind(req.audit_id)
     .bind(&req.filename)
-    .bind(&req.sha256)
+    // A replacing import holds its row under a name of its own until the earlier one is gone.
+    .bind(match req.replaces {
+        Some(old) => format!("{}~replaces-{old}", req.sha256),
+        None => req.sha256.clone(),
+    })
     .bind(req.bytes as i64)
     .bind(serde_json::to_string(&req.mapping).unwrap_or_default())
     .bind(now_rfc3339())
@@ -255,10 +294,25 @@ pub async fn import_file(
     }
     tx.commit().await?;
 
-    let result = run_import(pool, &req, upload_id, &planned, &defs, progress).await;
+    // The original is deflated and stored beside the parse, unless the one kept moves over.
+    let mut keeper = match &replacing {
+        Some(r) if r.move_original => None,
+        _ => {
+            let (pool, path) = (pool.clone(), req.path.clone());
+            let stop = Arc::new(std::sync::atomic::AtomicBool::new(false));
+            let flag = stop.clone();
+            let handle = tokio::spawn(async move { original::keep(&pool, upload_id, &path, &flag).await });
+            Some(Keeper { handle, stop })
+        }
+    };
+    let result = run_import(pool, &req, upload_id, &planned, &defs, progress, (&mut keeper, replacing)).await;
     match result {
         Ok(summary) => Ok(ImportOutcome::Created(summary)),
         Err(e) => {
+            if let Some(k) = keeper.take() {
+                k.stop.store(true, Ordering::Relaxed);
+                let _ = k.handle.await;
+            }
             // Nothing of a failed file stays: the cascade removes its chunks and rollups.
             let mut tx = begin_write(pool).await?;
             sqlx::query("DELETE FROM upload WHERE id = ?").bind(upload_id).execute(&mut *tx).await?;

@@ -11,7 +11,10 @@ use tokio::sync::mpsc;
 
 use super::encoder::{encode_runs, run_length, ChannelBuf, ChunkSink, Msg, Work, ENCODER_QUEUE};
 use super::replace::cut_out;
-use super::{bad, ChannelSpan, ImportError, ImportRequest, ImportSummary, PlannedChannel, Progress, BATCH};
+use super::{
+    bad, ChannelSpan, ImportError, ImportRequest, ImportSummary, Keeper, PlannedChannel, Progress, Replacing,
+    BATCH,
+};
 use crate::core::basis::StoredForm;
 use crate::ingest::{self, IngestError};
 use crate::store::audits::{bump, ms_to_rfc3339};
@@ -25,6 +28,7 @@ pub(super) async fn run_import(
     planned: &[PlannedChannel],
     defs: &[ingest::ChannelDef],
     progress: Arc<Progress>,
+    (keeper, replacing): (&mut Option<Keeper>, Option<Replacing>),
 ) -> Result<ImportSummary, ImportError> {
     let (tx, mut rx) = mpsc::channel::<Msg>(32);
     let precisions: Vec<Precision> = defs
@@ -106,9 +110,41 @@ pub(super) async fn run_import(
         return Err(e);
     }
     let (report, spans) = parsed.map_err(ImportError::Bad)?;
+    // The original must be all there before the upload can be complete.
+    if let Some(k) = keeper.take() {
+        k.handle.await.map_err(|e| bad(format!("the original could not be kept: {e}"), None))??;
+    }
 
-    // The last transaction: overlap check, spans, completion.
+    // The last transaction: the replaced upload out, overlap check, spans, completion.
     let mut tx = begin_write(pool).await?;
+    if let Some(r) = &replacing {
+        let state: Option<String> =
+            sqlx::query_scalar("SELECT state FROM upload WHERE id = ? AND audit_id = ?")
+                .bind(r.old)
+                .bind(req.audit_id)
+                .fetch_optional(&mut *tx)
+                .await?;
+        if state.as_deref() != Some("complete") {
+            return Err(ImportError::ReplacedGone(r.old));
+        }
+        if r.move_original {
+            sqlx::query("UPDATE upload_original SET upload_id = ? WHERE upload_id = ?")
+                .bind(upload_id)
+                .bind(r.old)
+                .execute(&mut *tx)
+                .await?;
+        }
+        // The cascade takes its chunks, rollups, spans and quality report.
+        sqlx::query("DELETE FROM upload WHERE id = ?").bind(r.old).execute(&mut *tx).await?;
+        // The channels now read as this mapping says (the unit is shown as logged).
+        for (p, d) in planned.iter().zip(defs) {
+            sqlx::query("UPDATE channel SET unit = ? WHERE id = ?")
+                .bind(&d.unit)
+                .bind(p.id)
+                .execute(&mut *tx)
+                .await?;
+        }
+    }
     let mut channel_spans = vec![];
     let mut readings = 0u64;
     let mut dropped_total = 0u64;
@@ -183,9 +219,10 @@ pub(super) async fn run_import(
     let first = spans.iter().filter_map(|s| s.0).min();
     let last = spans.iter().filter_map(|s| s.1).max();
     sqlx::query(
-        "UPDATE upload SET state = 'complete', rows = ?, readings = ?, first_ms = ?, last_ms = ?, quality = ?, warnings = ? \
-         WHERE id = ?",
+        "UPDATE upload SET state = 'complete', sha256 = ?, rows = ?, readings = ?, first_ms = ?, last_ms = ?, \
+         quality = ?, warnings = ? WHERE id = ?",
     )
+    .bind(&req.sha256)
     .bind(report.rows as i64)
     .bind(readings as i64)
     .bind(first)
@@ -220,6 +257,7 @@ pub(super) async fn run_import(
         warnings,
         quality,
         channels: channel_spans,
+        replaced_upload_id: replacing.map(|r| r.old),
     })
 }
 

@@ -127,7 +127,7 @@ pub async fn audit(State(st): State<AppState>, Path(id): Path<i64>) -> PageResul
 }
 
 /// Re-show the audit page with the error that stopped a form (422).
-async fn audit_with_error(app: &App, id: i64, e: AppError) -> PageResult {
+pub(super) async fn audit_with_error(app: &App, id: i64, e: AppError) -> PageResult {
     match e {
         AppError::Unprocessable { message, .. } | AppError::Conflict(message) => {
             let b = app.bundle(id).await?;
@@ -168,7 +168,7 @@ pub async fn save_site(
     }
 }
 
-fn parse_curve(s: &str) -> Result<Vec<(f64, f64)>, FieldError> {
+pub(super) fn parse_curve(s: &str) -> Result<Vec<(f64, f64)>, FieldError> {
     s.split_whitespace()
         .map(|p| {
             let (q, kw) = p.split_once(':').ok_or_else(|| {
@@ -183,30 +183,44 @@ fn parse_curve(s: &str) -> Result<Vec<(f64, f64)>, FieldError> {
         .collect()
 }
 
+/// A compressor as its form posts it (the add form and the edit page share the fields).
+pub(super) fn compressor_input(form: &HashMap<String, String>) -> Result<CompressorInput, FieldError> {
+    let need = |k: &str| -> Result<f64, FieldError> {
+        opt_num(form, k)?.ok_or_else(|| FieldError::new(k, format!("{k} is required")))
+    };
+    Ok(CompressorInput {
+        tag: form.get("tag").cloned().unwrap_or_default(),
+        kind: form.get("kind").cloned().unwrap_or_default(),
+        control: form.get("control").cloned().unwrap_or_default(),
+        cooling: form.get("cooling").cloned().unwrap_or_default(),
+        rated_power_kw: need("rated_power_kw")?,
+        rated_flow_m3_min: need("rated_flow_m3_min")?,
+        rated_pressure_bar_g: need("rated_pressure_bar_g")?,
+        unloaded_power_fraction: opt_num(form, "unloaded_power_fraction")?,
+        stages: opt_num(form, "stages")?.map(|s| s as u32),
+        rated_specific_power_kw_per_m3_min: opt_num(form, "rated_specific_power_kw_per_m3_min")?,
+        power_curve: parse_curve(form.get("power_curve").map(|s| s.as_str()).unwrap_or(""))?,
+        year: opt_num(form, "year")?.map(|y| y as i32),
+        notes: form.get("notes").cloned().unwrap_or_default(),
+    })
+}
+
+/// A receiver as its form posts it.
+pub(super) fn receiver_input(form: &HashMap<String, String>) -> Result<ReceiverInput, FieldError> {
+    Ok(ReceiverInput {
+        name: form.get("name").cloned().unwrap_or_default(),
+        volume_m3: opt_num(form, "volume_m3")?.unwrap_or(f64::NAN),
+        notes: form.get("notes").cloned().unwrap_or_default(),
+    })
+}
+
 pub async fn add_compressor(
     State(st): State<AppState>,
     Path(id): Path<i64>,
     Form(form): Form<HashMap<String, String>>,
 ) -> PageResult {
     let result = async {
-        let need = |k: &str| -> Result<f64, FieldError> {
-            opt_num(&form, k)?.ok_or_else(|| FieldError::new(k, format!("{k} is required")))
-        };
-        let input = CompressorInput {
-            tag: form.get("tag").cloned().unwrap_or_default(),
-            kind: form.get("kind").cloned().unwrap_or_default(),
-            control: form.get("control").cloned().unwrap_or_default(),
-            cooling: form.get("cooling").cloned().unwrap_or_default(),
-            rated_power_kw: need("rated_power_kw")?,
-            rated_flow_m3_min: need("rated_flow_m3_min")?,
-            rated_pressure_bar_g: need("rated_pressure_bar_g")?,
-            unloaded_power_fraction: opt_num(&form, "unloaded_power_fraction")?,
-            stages: opt_num(&form, "stages")?.map(|s| s as u32),
-            rated_specific_power_kw_per_m3_min: opt_num(&form, "rated_specific_power_kw_per_m3_min")?,
-            power_curve: parse_curve(form.get("power_curve").map(|s| s.as_str()).unwrap_or(""))?,
-            year: opt_num(&form, "year")?.map(|y| y as i32),
-            notes: form.get("notes").cloned().unwrap_or_default(),
-        };
+        let input = compressor_input(&form)?;
         st.app.save_compressor(id, 0, &input).await.map_err(AppError::from)
     }
     .await;
@@ -219,23 +233,13 @@ pub async fn add_compressor(
     }
 }
 
-pub async fn delete_compressor(State(st): State<AppState>, Path((id, cid)): Path<(i64, i64)>) -> PageResult {
-    st.app.delete_compressor(id, cid).await?;
-    st.app.refresh_summary_in_background(id, "compressor deleted");
-    Ok(Redirect::to(&format!("/audits/{id}")).into_response())
-}
-
 pub async fn add_receiver(
     State(st): State<AppState>,
     Path(id): Path<i64>,
     Form(form): Form<HashMap<String, String>>,
 ) -> PageResult {
     let result = async {
-        let input = ReceiverInput {
-            name: form.get("name").cloned().unwrap_or_default(),
-            volume_m3: opt_num(&form, "volume_m3")?.unwrap_or(f64::NAN),
-            notes: form.get("notes").cloned().unwrap_or_default(),
-        };
+        let input = receiver_input(&form)?;
         st.app.add_receiver(id, &input).await.map_err(AppError::from)
     }
     .await;
@@ -243,9 +247,4 @@ pub async fn add_receiver(
         Ok(_) => Ok(Redirect::to(&format!("/audits/{id}")).into_response()),
         Err(e) => audit_with_error(&st.app, id, e).await,
     }
-}
-
-pub async fn delete_receiver(State(st): State<AppState>, Path((id, rid)): Path<(i64, i64)>) -> PageResult {
-    st.app.delete_receiver(id, rid).await?;
-    Ok(Redirect::to(&format!("/audits/{id}")).into_response())
 }

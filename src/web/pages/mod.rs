@@ -1,6 +1,7 @@
 /*!
 The HTML pages, one file each: [`index`] (the list of audits), [`audit`] (the audit with its site
-and equipment forms), [`upload`], [`report`] (the manager's report), [`findings`] (the auditor's
+and equipment forms), [`edit`] (a compressor's or receiver's edit form), [`confirm`] (the second
+step of every delete), [`remap`] (an upload's mapping corrected), [`upload`], [`report`] (the manager's report), [`findings`] (the auditor's
 printed findings), [`tests`] (field tests) and [`scenarios`] (what-if replays); [`view`] holds what
 the report and the findings share. Handlers fetch through the application (`crate::app::App`),
 format through `core::display::Fmt`, and render; askama escapes every value, so a user's text
@@ -8,8 +9,11 @@ format through `core::display::Fmt`, and render; askama escapes every value, so 
 */
 
 pub mod audit;
+pub mod confirm;
+pub mod edit;
 pub mod findings;
 pub mod index;
+pub mod remap;
 pub mod report;
 pub mod scenarios;
 pub mod tests;

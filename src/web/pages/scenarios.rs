@@ -1,17 +1,66 @@
-//! The scenarios page: the stored what-if replays, whether each is offered as the control measure,
-//! and the form that adds one (`static/js/scenarios.js`).
+//! The scenarios page: the stored what-if replays against the baseline (the logged plant replayed
+//! with no change), which one is the proposal on the report and why the others are not, the forms
+//! that mark the proposal, rename and delete one (plain forms), and the form that adds or edits one
+//! (`static/js/scenarios.js`, `?edit=ID` fills it with a stored scenario).
+
+use std::collections::HashMap;
 
 use askama::Template;
-use axum::extract::{Path, State};
-use axum::response::Response;
+use axum::extract::{Path, Query, State};
+use axum::response::{IntoResponse, Redirect, Response};
+use axum::Form;
+use serde::Deserialize;
 use serde_json::Value;
 
 use super::view::nan;
-use super::{render, PageError};
+use super::{render, PageError, PageResult};
 use crate::app::scenarios::ScenarioOutcome;
+use crate::core::display::Fmt;
 use crate::core::recommend::MAX_SCENARIO_VALIDATION_ERROR;
 use crate::store::audits::Audit;
+use crate::web::error::AppError;
 use crate::web::AppState;
+
+/// A scenario's changes in words, in the reader's units.
+fn changes_in_words(changes: &Value, fmt: &Fmt) -> String {
+    let Some(list) = changes.as_array().filter(|l| !l.is_empty()) else {
+        return "no change: the baseline".into();
+    };
+    let num = |c: &Value, k: &str| c.get(k).and_then(Value::as_f64).unwrap_or(f64::NAN);
+    let text = |c: &Value, k: &str| c.get(k).and_then(Value::as_str).unwrap_or("").to_string();
+    list.iter()
+        .map(|c| match c.get("op").and_then(Value::as_str).unwrap_or("") {
+            "remove" => format!("without {}", text(c, "tag")),
+            "add" => {
+                let m = c.get("compressor").cloned().unwrap_or_default();
+                format!(
+                    "add {} ({}, {})",
+                    text(&m, "tag"),
+                    text(&m, "control").replace('_', " "),
+                    fmt.power_kw(num(&m, "rated_power_kw"))
+                )
+            }
+            "set_pressure" => format!("header pressure {}", fmt.pressure_bar_g(num(c, "target_bar_g"))),
+            "add_storage" => format!("{} more storage", fmt.volume_m3(num(c, "volume_m3"))),
+            "reduce_leaks" => format!("leaks reduced by {}", fmt.percent(num(c, "fraction"))),
+            "sequence" => {
+                let order: Vec<&str> = c
+                    .get("order")
+                    .and_then(Value::as_array)
+                    .map_or(vec![], |o| o.iter().filter_map(Value::as_str).collect());
+                format!("sequence {}", order.join(" \u{2192} "))
+            }
+            other => other.replace('_', " "),
+        })
+        .collect::<Vec<_>>()
+        .join("; ")
+}
+
+#[derive(Deserialize, Default)]
+pub struct ScenariosQuery {
+    /// A stored scenario to fill the form with.
+    edit: Option<i64>,
+}
 
 pub struct ScenarioRow {
     pub id: i64,
@@ -29,6 +78,7 @@ pub struct ScenarioRow {
     /// Whether it is offered as the `improve_control` measure, and if not, why not.
     pub offer: String,
     pub offered: bool,
+    pub proposal: bool,
 }
 
 #[derive(Template)]
@@ -38,9 +88,15 @@ struct ScenariosPage {
     rows: Vec<ScenarioRow>,
     compressors: Vec<String>,
     page_data: Value,
+    has_data: bool,
+    editing: Option<String>,
 }
 
-pub async fn scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, PageError> {
+pub async fn scenarios(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Query(q): Query<ScenariosQuery>,
+) -> Result<Response, PageError> {
     let b = st.app.bundle(id).await?;
     let fmt = b.fmt();
     let list = st.app.scenarios(id).await?;
@@ -61,24 +117,30 @@ pub async fn scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Resul
             let validation_error = nan(r.validation_error);
             let max_v = MAX_SCENARIO_VALIDATION_ERROR;
             let offer = if offered_id == Some(sc.id) {
-                "offered as the control measure on the report".to_string()
+                "the proposal: on the report as the control measure".to_string()
             } else if sc.revision != rev {
                 "replayed on earlier data: replay it again".into()
+            } else if r.simulated_hours.is_none_or(|h| h.is_nan() || h <= 0.0) {
+                "no data to replay".into()
+            } else if !sc.proposal {
+                "not proposed: mark it as the proposal to put it on the report".into()
             } else if r.feasible != Some(true) {
                 "not offered: the plant does not hold its pressure".into()
             } else if r.supply_side_only != Some(true) {
                 "not offered: set-point and leak changes are measures of their own".into()
-            } else if validation_error.abs().is_nan() || validation_error.abs() > max_v {
+            } else if validation_error.is_nan() {
+                "not offered: no logged power to check the replay against".into()
+            } else if validation_error.abs() > max_v {
                 format!("not offered: validation error above {}", fmt.percent(max_v))
             } else if saving.is_nan() || saving <= 0.0 {
                 "not offered: it saves no energy".into()
             } else {
-                "not offered: another scenario pays back sooner".into()
+                "not offered: the estimate by rule pays back sooner".into()
             };
             ScenarioRow {
                 id: sc.id,
                 name: sc.name.clone(),
-                changes: sc.changes.to_string(),
+                changes: changes_in_words(&sc.changes, &fmt),
                 energy: fmt.energy_kwh(nan(r.energy_kwh)),
                 saving: fmt.energy_kwh(saving),
                 cost_saving: if scale.is_finite() {
@@ -101,6 +163,7 @@ pub async fn scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Resul
                     }
                 ),
                 offered: offered_id == Some(sc.id),
+                proposal: sc.proposal,
                 offer,
             }
         })
@@ -110,10 +173,43 @@ pub async fn scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Resul
         .zip(&outcomes)
         .map(|(sc, r)| serde_json::json!({"name": sc.name, "points": r.pressure_trace}))
         .collect();
+    // The scenario to edit, as the form reads it back.
+    let edit = q.edit.and_then(|e| list.iter().find(|s| s.id == e)).map(|s| {
+        let r = ScenarioOutcome::of(s);
+        let quoted = (r.implementation_cost_source.as_deref() == Some("given"))
+            .then_some(r.implementation_cost)
+            .flatten();
+        serde_json::json!({"id": s.id, "name": s.name, "changes": s.changes, "implementation_cost": quoted})
+    });
+    let editing = q.edit.and_then(|e| list.iter().find(|s| s.id == e)).map(|s| s.name.clone());
     Ok(render(&ScenariosPage {
-        page_data: serde_json::json!({"audit_id": id, "traces": traces}),
+        page_data: serde_json::json!({"audit_id": id, "traces": traces, "edit": edit}),
+        has_data: !b.uploads.is_empty(),
+        editing,
         compressors: b.compressors.iter().map(|c| c.tag.clone()).collect(),
         rows,
         audit: b.audit,
     }))
+}
+
+/// `POST /audits/{id}/scenarios/{sid}/proposal` with `proposal` = `1` (mark it) or `0` (withdraw).
+pub async fn set_proposal(
+    State(st): State<AppState>,
+    Path((id, sid)): Path<(i64, i64)>,
+    Form(form): Form<HashMap<String, String>>,
+) -> PageResult {
+    let on = form.get("proposal").map(String::as_str) == Some("1");
+    st.app.edit_scenario(id, sid, None, Some(on)).await?;
+    Ok(Redirect::to(&format!("/audits/{id}/scenarios")).into_response())
+}
+
+/// `POST /audits/{id}/scenarios/{sid}/rename` with `name`.
+pub async fn rename(
+    State(st): State<AppState>,
+    Path((id, sid)): Path<(i64, i64)>,
+    Form(form): Form<HashMap<String, String>>,
+) -> PageResult {
+    let name = form.get("name").map(String::as_str).unwrap_or("");
+    st.app.edit_scenario(id, sid, Some(name), None).await.map_err(AppError::from)?;
+    Ok(Redirect::to(&format!("/audits/{id}/scenarios")).into_response())
 }

@@ -2,7 +2,7 @@
 //! (`static/js/tests.js`).
 
 use askama::Template;
-use axum::extract::{Path, State};
+use axum::extract::{Path, Query, State};
 use axum::response::Response;
 use serde_json::Value;
 
@@ -29,10 +29,24 @@ struct TestsPage {
     compressors: Vec<String>,
     system_volume_m3: f64,
     page_data: Value,
+    /// The test whose form is filled to be edited (`?edit=ID`).
+    editing: Option<i64>,
 }
 
-pub async fn tests(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, PageError> {
+#[derive(serde::Deserialize, Default)]
+pub struct TestsQuery {
+    edit: Option<i64>,
+}
+
+pub async fn tests(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Query(q): Query<TestsQuery>,
+) -> Result<Response, PageError> {
     let b = st.app.bundle(id).await?;
+    let edit = q.edit.and_then(|e| b.field_tests.iter().find(|t| t.id == e));
+    let editing = edit.map(|t| t.id);
+    let edit = edit.map(|t| serde_json::json!({"id": t.id, "kind": t.kind, "input": t.input}));
     let fmt = b.fmt();
     let tests = b
         .field_tests
@@ -54,7 +68,8 @@ pub async fn tests(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Re
     Ok(render(&TestsPage {
         system_volume_m3: b.storage().system_volume_m3(),
         compressors: b.compressors.iter().map(|c| c.tag.clone()).collect(),
-        page_data: serde_json::json!({"audit_id": id, "atmosphere_pa": b.audit.site.atmospheric_pressure_kpa_abs() * 1000.0}),
+        page_data: serde_json::json!({"audit_id": id, "atmosphere_pa": b.audit.site.atmospheric_pressure_kpa_abs() * 1000.0, "edit": edit}),
+        editing,
         tests,
         fmt,
         audit: b.audit,

@@ -1,0 +1,238 @@
+//! Correct an upload's mapping: its columns as stored, each with its quantity, unit (as people
+//! write it) and compressor to change or leave out, and the logger's time zone; posted, the kept
+//! original is imported again with it (`App::remap_upload`). A refused mapping shows the page
+//! again with the reason, and the earlier import stays.
+
+use std::collections::HashMap;
+
+use askama::Template;
+use axum::extract::{Path, State};
+use axum::http::StatusCode;
+use axum::response::{IntoResponse, Redirect};
+use axum::Form;
+
+use super::{render, PageResult};
+use crate::app::AuditBundle;
+use crate::core::unit_table::{self, LoggedQuantity};
+use crate::ingest::Mapping;
+use crate::store::audits::Audit;
+use crate::web::error::AppError;
+use crate::web::AppState;
+
+/// One mapped column as the form shows it.
+struct ColumnRow {
+    column: String,
+    quantity: String,
+    unit: String,
+    compressor: Option<String>,
+}
+
+/// A column of the file that the mapping does not read, with the sniffer's guess.
+struct ExtraColumn {
+    column: String,
+    quantity: String,
+    unit: String,
+}
+
+#[derive(Template)]
+#[template(path = "remap.html")]
+struct RemapPage {
+    extra: Vec<ExtraColumn>,
+    audit: Audit,
+    upload_id: i64,
+    filename: String,
+    columns: Vec<ColumnRow>,
+    quantities: Vec<(&'static str, &'static str)>,
+    units: Vec<(&'static str, Vec<(&'static str, &'static str)>)>,
+    compressors: Vec<String>,
+    timezone: String,
+    format: String,
+    error: Option<String>,
+}
+
+fn quantity_label(q: LoggedQuantity) -> &'static str {
+    match q {
+        LoggedQuantity::Power => "power",
+        LoggedQuantity::Energy => "energy meter (kWh counter)",
+        LoggedQuantity::Current => "current",
+        LoggedQuantity::Pressure => "pressure",
+        LoggedQuantity::Flow => "flow",
+        LoggedQuantity::Temperature => "temperature",
+    }
+}
+
+fn quantity(s: &str) -> Option<LoggedQuantity> {
+    LoggedQuantity::ALL.into_iter().find(|q| q.as_str() == s)
+}
+
+/// The stored mapping of the upload, or 404.
+fn stored(b: &AuditBundle, uid: i64) -> Result<(String, Mapping), AppError> {
+    let u = b
+        .uploads
+        .iter()
+        .find(|u| u.id == uid)
+        .ok_or_else(|| AppError::NotFound(format!("audit {} has no upload {uid}", b.audit.id)))?;
+    let m: Mapping = serde_json::from_value(u.mapping.clone()).map_err(|e| {
+        AppError::Internal(anyhow::anyhow!("the stored mapping of upload {uid} cannot be read: {e}"))
+    })?;
+    Ok((u.filename.clone(), m))
+}
+
+/// The file's columns that `m` does not read (nor takes its times from), as the sniffer saw them.
+fn extra_columns(sniffed: Option<&crate::ingest::Sniffed>, m: &Mapping) -> Vec<ExtraColumn> {
+    let Some(sn) = sniffed else { return vec![] };
+    let used = |c: &str| {
+        m.columns.iter().any(|x| x.column == c)
+            || m.timestamp.column == c
+            || m.timestamp.time_column.as_deref() == Some(c)
+    };
+    sn.header
+        .iter()
+        .filter(|h| !h.trim().is_empty() && !used(h))
+        .map(|h| {
+            let guess = sn.columns.iter().find(|g| &g.column == h);
+            ExtraColumn {
+                column: h.clone(),
+                quantity: guess.and_then(|g| g.quantity.clone()).unwrap_or_else(|| "pressure".into()),
+                unit: guess.and_then(|g| g.unit.clone()).unwrap_or_default(),
+            }
+        })
+        .collect()
+}
+
+fn page(
+    b: AuditBundle,
+    uid: i64,
+    filename: String,
+    m: &Mapping,
+    extra: Vec<ExtraColumn>,
+    error: Option<String>,
+) -> RemapPage {
+    let columns = m
+        .columns
+        .iter()
+        .map(|c| {
+            // The unit's code as the table spells it, so the list shows it selected.
+            let unit = quantity(&c.quantity)
+                .and_then(|q| unit_table::find(q, &c.unit))
+                .map_or_else(|| c.unit.clone(), |u| u.code.to_string());
+            ColumnRow {
+                column: c.column.clone(),
+                quantity: c.quantity.clone(),
+                unit,
+                compressor: c.compressor.clone(),
+            }
+        })
+        .collect();
+    RemapPage {
+        extra,
+        upload_id: uid,
+        filename,
+        columns,
+        quantities: LoggedQuantity::ALL.iter().map(|q| (q.as_str(), quantity_label(*q))).collect(),
+        units: LoggedQuantity::ALL
+            .iter()
+            .map(|q| (quantity_label(*q), unit_table::choices(*q).map(|u| (u.code, u.label)).collect()))
+            .collect(),
+        compressors: b.compressors.iter().map(|c| c.tag.clone()).collect(),
+        timezone: m.timestamp.timezone.clone(),
+        format: m.timestamp.format.clone(),
+        error,
+        audit: b.audit,
+    }
+}
+
+pub async fn remap(State(st): State<AppState>, Path((id, uid)): Path<(i64, i64)>) -> PageResult {
+    let b = st.app.bundle(id).await?;
+    let (filename, m) = stored(&b, uid)?;
+    let extra = extra_columns(st.app.sniff_original(uid).await?.as_ref(), &m);
+    Ok(render(&page(b, uid, filename, &m, extra, None)))
+}
+
+/// The stored mapping with the form's changes: columns left out are dropped, the others take the
+/// quantity, unit and compressor chosen, and columns the file has but the mapping did not read are
+/// added where ticked; everything else of the stored mapping stays.
+fn changed(mut m: Mapping, form: &HashMap<String, String>) -> Mapping {
+    let extra = |j: usize, f: &str| form.get(&format!("extra{j}_{f}")).map(|s| s.trim().to_string());
+    let mut added = vec![];
+    for j in 0.. {
+        let Some(column) = form.get(&format!("extra{j}_column")) else { break };
+        if extra(j, "use").is_none() {
+            continue;
+        }
+        let compressor = extra(j, "compressor").filter(|t| !t.is_empty());
+        added.push(crate::ingest::mapping::ColumnMap::new(
+            column,
+            &extra(j, "quantity").unwrap_or_default(),
+            &extra(j, "unit").unwrap_or_default(),
+            compressor.as_deref(),
+        ));
+    }
+    let field = |i: usize, f: &str| form.get(&format!("col{i}_{f}")).map(|s| s.trim().to_string());
+    let mut kept = Vec::with_capacity(m.columns.len());
+    for (i, mut c) in std::mem::take(&mut m.columns).into_iter().enumerate() {
+        if field(i, "skip").is_some() {
+            continue;
+        }
+        if let Some(q) = field(i, "quantity") {
+            c.quantity = q;
+        }
+        if let Some(u) = field(i, "unit") {
+            c.unit = u;
+        }
+        if let Some(t) = field(i, "compressor") {
+            c.compressor = (!t.is_empty()).then_some(t);
+        }
+        kept.push(c);
+    }
+    kept.extend(added);
+    m.columns = kept;
+    if let Some(tz) = form.get("timezone").map(|s| s.trim()).filter(|s| !s.is_empty()) {
+        m.timestamp.timezone = tz.to_string();
+    }
+    if let Some(f) = form.get("format").map(|s| s.trim()).filter(|s| !s.is_empty()) {
+        m.timestamp.format = f.to_string();
+    }
+    m
+}
+
+pub async fn save_remap(
+    State(st): State<AppState>,
+    Path((id, uid)): Path<(i64, i64)>,
+    Form(form): Form<HashMap<String, String>>,
+) -> PageResult {
+    let b = st.app.bundle(id).await?;
+    let (filename, m) = stored(&b, uid)?;
+    let m = changed(m, &form);
+    let error = if m.columns.is_empty() {
+        AppError::field("columns", "leave at least one column in: a file of no columns holds no readings")
+    } else {
+        match st.app.remap_upload(id, uid, m.clone(), false, None).await {
+            Ok(_) => return Ok(Redirect::to(&format!("/audits/{id}")).into_response()),
+            Err(e) => AppError::from(e),
+        }
+    };
+    let message = match &error {
+        AppError::Unprocessable { message, line, column, .. } => {
+            let mut place = vec![];
+            if let Some(l) = line {
+                place.push(format!("line {l}"));
+            }
+            if let Some(c) = column {
+                place.push(format!("column \u{201c}{c}\u{201d}"));
+            }
+            if place.is_empty() {
+                message.clone()
+            } else {
+                format!("{message} ({})", place.join(", "))
+            }
+        }
+        AppError::Conflict(message) => message.clone(),
+        _ => return Err(error.into()),
+    };
+    let extra = extra_columns(st.app.sniff_original(uid).await?.as_ref(), &m);
+    let shown = Some(format!("The file was not read again: {message}"));
+    let mut res = render(&page(b, uid, filename, &m, extra, shown));
+    *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
+    Ok(res)
+}
