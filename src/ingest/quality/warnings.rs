@@ -142,6 +142,15 @@ impl QualityReport {
                     o.line
                 ));
             }
+            for i in &c.implausible {
+                w.push(format!(
+                    "{name}: implausible: {}; the highest is {} {} at line {}",
+                    i.reason,
+                    num(i.value),
+                    i.unit,
+                    i.line
+                ));
+            }
             if let Some(d) = c.counter_drops.examples.first() {
                 w.push(format!(
                     "{name}: the counter went down {} (first a {} at line {}, {} {} -> {} {})",

@@ -12,6 +12,7 @@ use tokio::sync::mpsc;
 use super::encoder::{encode_runs, run_length, ChannelBuf, ChunkSink, Msg, Work, ENCODER_QUEUE};
 use super::replace::cut_out;
 use super::{bad, ChannelSpan, ImportError, ImportRequest, ImportSummary, PlannedChannel, Progress, BATCH};
+use crate::ingest::quality::RatedMachine;
 use crate::ingest::{self, IngestError};
 use crate::store::audits::{bump, ms_to_rfc3339};
 use crate::store::chunk::Precision;
@@ -104,7 +105,7 @@ pub(super) async fn run_import(
     if let Some(e) = write_error {
         return Err(e);
     }
-    let (report, spans) = parsed.map_err(ImportError::Bad)?;
+    let (mut report, spans) = parsed.map_err(ImportError::Bad)?;
 
     // The last transaction: overlap check, spans, completion.
     let mut tx = begin_write(pool).await?;
@@ -158,6 +159,22 @@ pub(super) async fn run_import(
     if readings == 0 {
         return Err(bad("the file holds no readings in the mapped columns".into(), None));
     }
+    let first = spans.iter().filter_map(|s| s.0).min();
+    let last = spans.iter().filter_map(|s| s.1).max();
+    // Readings implausible against the audit's data sheets (`ingest::quality`).
+    let rated: Vec<RatedMachine> =
+        sqlx::query("SELECT tag, rated_power_kw, rated_flow_m3_min FROM compressor WHERE audit_id = ?")
+            .bind(req.audit_id)
+            .fetch_all(&mut *tx)
+            .await?
+            .iter()
+            .map(|r| RatedMachine {
+                tag: r.get("tag"),
+                rated_power_kw: r.get("rated_power_kw"),
+                rated_flow_m3_min: r.get("rated_flow_m3_min"),
+            })
+            .collect();
+    report.quality.check_against_rated(&rated);
     let mut warnings = report.quality.warnings();
     if dropped_total > 0 {
         warnings.push(format!(
@@ -165,8 +182,6 @@ pub(super) async fn run_import(
         ));
     }
     let quality = serde_json::to_value(&report.quality).unwrap_or_default();
-    let first = spans.iter().filter_map(|s| s.0).min();
-    let last = spans.iter().filter_map(|s| s.1).max();
     sqlx::query(
         "UPDATE upload SET state = 'complete', rows = ?, readings = ?, first_ms = ?, last_ms = ?, quality = ?, warnings = ? \
          WHERE id = ?",
