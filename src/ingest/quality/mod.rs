@@ -43,7 +43,7 @@ mod tracker;
 mod warnings;
 
 pub use tracker::QualityTracker;
-pub use warnings::human_duration;
+pub use warnings::{human_duration, span_warnings, SMALL_SHARE_OF_PERIOD};
 
 use crate::ingest::mapping::Quantity;
 use serde::Serialize;

@@ -12,7 +12,7 @@ use tokio::sync::mpsc;
 use super::encoder::{encode_runs, run_length, ChannelBuf, ChunkSink, Msg, Work, ENCODER_QUEUE};
 use super::replace::cut_out;
 use super::{bad, ChannelSpan, ImportError, ImportRequest, ImportSummary, PlannedChannel, Progress, BATCH};
-use crate::ingest::quality::RatedMachine;
+use crate::ingest::quality::{self, RatedMachine};
 use crate::ingest::{self, IngestError};
 use crate::store::audits::{bump, ms_to_rfc3339};
 use crate::store::chunk::Precision;
@@ -161,7 +161,8 @@ pub(super) async fn run_import(
     }
     let first = spans.iter().filter_map(|s| s.0).min();
     let last = spans.iter().filter_map(|s| s.1).max();
-    // Readings implausible against the audit's data sheets (`ingest::quality`).
+    // Readings implausible against the audit's data sheets, and how the file sits in time among the
+    // audit's other files (`ingest::quality`).
     let rated: Vec<RatedMachine> =
         sqlx::query("SELECT tag, rated_power_kw, rated_flow_m3_min FROM compressor WHERE audit_id = ?")
             .bind(req.audit_id)
@@ -176,6 +177,20 @@ pub(super) async fn run_import(
             .collect();
     report.quality.check_against_rated(&rated);
     let mut warnings = report.quality.warnings();
+    if let (Some(f), Some(l)) = (first, last) {
+        let others: Vec<(i64, i64)> = sqlx::query(
+            "SELECT first_ms, last_ms FROM upload WHERE audit_id = ? AND id != ? AND state = 'complete' \
+             AND first_ms IS NOT NULL AND last_ms IS NOT NULL",
+        )
+        .bind(req.audit_id)
+        .bind(upload_id)
+        .fetch_all(&mut *tx)
+        .await?
+        .iter()
+        .map(|r| (r.get("first_ms"), r.get("last_ms")))
+        .collect();
+        warnings.extend(quality::span_warnings((f, l), &others));
+    }
     if dropped_total > 0 {
         warnings.push(format!(
             "{dropped_total} readings at duplicate or out-of-order timestamps were dropped (the first reading of each time was kept)"
