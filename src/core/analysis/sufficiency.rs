@@ -247,9 +247,8 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
             ("system.isothermal_efficiency", &mut sys.isothermal_efficiency),
             ("baseline.cost_per_1000_m3", &mut s.baseline.cost_per_1000_m3),
         ] {
-            if v.take().is_some() {
-                withhold(&mut w, f, &why);
-            }
+            *v = None;
+            withhold(&mut w, f, &why);
         }
         sys.specific_power_kw_per_m3_min_low = None;
         sys.specific_power_kw_per_m3_min_high = None;
@@ -264,9 +263,8 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
     if pressure_credible == Some(false) {
         let why = "the pressure log is not credible (sufficiency reasons)";
         let sys = &mut s.system;
-        if sys.isothermal_efficiency.take().is_some() {
-            withhold(&mut w, "system.isothermal_efficiency", why);
-        }
+        sys.isothermal_efficiency = None;
+        withhold(&mut w, "system.isothermal_efficiency", why);
         sys.isothermal_efficiency_low = None;
         sys.isothermal_efficiency_high = None;
         withhold(&mut w, "recommendations[lower_pressure]", why);

@@ -123,13 +123,21 @@ fn figure_label(code: &str) -> String {
 /// Shown in place of a figure the data cannot support.
 pub const NOT_ENOUGH_DATA: &str = "not enough data";
 
-/// The reason a figure was withheld: the first withheld entry whose path starts with `prefix`.
+/// The reason a figure was withheld: the entry for `prefix` itself, else the first whose path
+/// starts with it.
+/// With the verdict "insufficient" the reasons stand in the verdict above the figures, and are
+/// pointed to rather than repeated on every card.
 fn withheld(sm: &Summary, prefix: &str) -> String {
-    sm.sufficiency
-        .withheld
-        .iter()
-        .find(|w| w.figure.starts_with(prefix))
-        .map_or_else(|| "the data cannot support this figure".into(), |w| w.reason.clone())
+    let all = &sm.sufficiency.withheld;
+    let w =
+        all.iter().find(|w| w.figure == prefix).or_else(|| all.iter().find(|w| w.figure.starts_with(prefix)));
+    match w {
+        Some(w) if w.reason.starts_with("not enough data") => {
+            "the logged data are not enough for annual figures (reasons above)".into()
+        }
+        Some(w) => w.reason.clone(),
+        None => "the data cannot support this figure".into(),
+    }
 }
 
 /// The verdict's words.
@@ -353,11 +361,15 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
         FigureView {
             label: "Isothermal efficiency".into(),
             value: or_nd(sys.isothermal_efficiency, |v| fmt.percent(v)),
-            note: format!(
-                "range {} to {}: the share of input power the ideal isothermal compression needs",
-                fmt.percent(nan(sys.isothermal_efficiency_low)),
-                fmt.percent(nan(sys.isothermal_efficiency_high))
-            ),
+            note: if sys.isothermal_efficiency.is_some() {
+                format!(
+                    "range {} to {}: the share of input power the ideal isothermal compression needs",
+                    fmt.percent(nan(sys.isothermal_efficiency_low)),
+                    fmt.percent(nan(sys.isothermal_efficiency_high))
+                )
+            } else {
+                withheld(sm, "system.isothermal_efficiency")
+            },
             estimated,
         },
     ]
