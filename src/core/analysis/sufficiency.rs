@@ -166,9 +166,9 @@ pub(super) fn assess(o: &Overlap, power_logged: bool, pressure: Option<&Result<(
         ));
     } else if share < MIN_PERIOD_COVERAGE {
         insufficient.push(format!(
-            "power covers {:.1} % of the logged period ({:.0} h of {:.0} h, under {:.0} %): the files lie far \
+            "power covers {} % of the logged period ({:.0} h of {:.0} h, under {:.0} %): the files lie far \
              apart in time and one annual figure would mix them; analyse one stretch of logging at a time",
-            share * 100.0,
+            percent(share),
             power_h,
             total_h,
             MIN_PERIOD_COVERAGE * 100.0
@@ -225,8 +225,22 @@ pub(super) fn assess(o: &Overlap, power_logged: bool, pressure: Option<&Result<(
     }
 }
 
+/// Record `figure` as withheld, once (the first rule that withholds it gives its reason).
 fn withhold(w: &mut Vec<Withheld>, figure: &str, reason: &str) {
-    w.push(Withheld { figure: figure.into(), reason: reason.into() });
+    if !w.iter().any(|x| x.figure == figure) {
+        w.push(Withheld { figure: figure.into(), reason: reason.into() });
+    }
+}
+
+/// A share in percent for people: one decimal, and "under 0.1" for a share that is not zero but
+/// would print as 0.0 (the issue's "0.0 % coverage" hid that something was logged).
+pub fn percent(share: f64) -> String {
+    let p = share * 100.0;
+    if p > 0.0 && p < 0.05 {
+        "under 0.1".into()
+    } else {
+        format!("{p:.1}")
+    }
 }
 
 /// Set to `None` every figure of `s` the data cannot support (module doc), recording each with its
@@ -291,7 +305,8 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         }
     }
     if verdict == Verdict::Insufficient {
-        let why = format!("not enough data: {}", s.sufficiency.reasons.join("; "));
+        // The first reason names what is missing; all of them are in `sufficiency.reasons`.
+        let why = format!("not enough data: {}", s.sufficiency.reasons.first().map_or("", String::as_str));
         let b = &mut s.baseline;
         for f in [
             &mut b.annual_energy_kwh,
@@ -336,6 +351,5 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         }
         withhold(&mut w, "recommendations", &why);
     }
-    w.dedup();
     s.sufficiency.withheld = w;
 }

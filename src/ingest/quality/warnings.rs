@@ -200,9 +200,9 @@ pub fn span_warnings(this: (i64, i64), others: &[(i64, i64)]) -> Vec<String> {
         let share = (last - first) as f64 / (end - start) as f64;
         if share < SMALL_SHARE_OF_PERIOD {
             w.push(format!(
-                "this file covers {:.1} % of the audit's logged period ({} to {}), under {:.0} %: \
+                "this file covers {} % of the audit's logged period ({} to {}), under {:.0} %: \
                  its channels are missing from most of the period",
-                share * 100.0,
+                crate::core::analysis::sufficiency::percent(share),
                 t(start),
                 t(end),
                 SMALL_SHARE_OF_PERIOD * 100.0
@@ -238,5 +238,8 @@ mod span_tests {
         let w = span_warnings((0, DAY), &[(0, 7 * DAY)]);
         assert_eq!(w.len(), 1);
         assert!(w[0].starts_with("this file covers 14.3 %"), "{w:?}");
+        // A minute of a year is 0.0002 %: said as under 0.1 %, never as 0.0 %.
+        let w = span_warnings((0, 60_000), &[(0, 365 * DAY)]);
+        assert!(w[0].starts_with("this file covers under 0.1 % of the audit's logged period"), "{w:?}");
     }
 }
