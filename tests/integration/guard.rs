@@ -131,6 +131,9 @@ fn three_files_apart_in_time_give_no_annual_figure_and_say_why() {
     assert!(report.contains("data-verdict=\"insufficient\""));
     assert!(report.contains("not enough data"));
     assert!(report.contains("No measure is proposed: the logged data are not enough"));
+    let findings = s.get(&format!("/audits/{id}/findings")).text;
+    assert!(findings.contains("data-verdict=\"insufficient\""));
+    assert!(findings.contains("not enough data"));
 }
 
 #[test]

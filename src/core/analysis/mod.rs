@@ -349,9 +349,10 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     let credible_mean_pressure = pressure_fig.mean_bar_g.filter(|_| pressure_ok == Some(Ok(())));
     methods.push(method(
         "sufficiency",
-        "verdict from the hours with every compressor's power, their share of the period, the weekdays \
-         logged and the overlap of power with flow and pressure (thresholds in the analysis' \
-         sufficiency rules)",
+        "enough, thin or insufficient from the hours with every compressor's power logged together \
+         (under 1 h: insufficient; under 167 h or fewer than 7 weekdays: thin), their share of the \
+         logged period (under 10 %: insufficient; under 50 %: thin), the overlap of power with flow \
+         and with pressure (under 50 % of the power hours: thin) and a credible pressure log",
         "ISO 11011 (a period representative of operation); one full production week of logging is \
          common practice",
     ));

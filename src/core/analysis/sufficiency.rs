@@ -275,7 +275,7 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         s.baseline.cost_per_1000_ft3 = None;
     }
     if pressure_credible == Some(false) {
-        let why = "the pressure log is not credible (sufficiency reasons)";
+        let why = "the pressure log is not credible: it cannot be this plant's header pressure";
         let sys = &mut s.system;
         sys.isothermal_efficiency = None;
         withhold(&mut w, "system.isothermal_efficiency", why);
