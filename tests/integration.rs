@@ -10,6 +10,8 @@ mod api;
 mod browser;
 #[path = "integration/engine.rs"]
 mod engine;
+#[path = "integration/guard.rs"]
+mod guard;
 #[path = "integration/hostile_ingest.rs"]
 mod hostile_ingest;
 #[path = "integration/hostile_load.rs"]

@@ -746,3 +746,55 @@ fn the_upload_page_marks_the_layout_and_imports_markers_as_missing() {
 
 #[path = "browser_undo.rs"]
 mod undo;
+
+/// The report of an audit built from three files that never overlap in time (issue 16) opens with
+/// the sufficiency verdict and its reasons, above the figures, and shows no annual figure: each
+/// reads "not enough data" with the reason.
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn the_report_of_a_thin_audit_shows_the_verdict_and_no_annual_figure() {
+    let server = Server::start();
+    let (id, _) = crate::guard::thin_audit(&server);
+    let b = Browser::start();
+    let page = format!("/audits/{id}/report");
+    b.goto(&server.url(&page));
+    b.settle();
+    let verdict = b.js_str("return document.getElementById('sufficiency').innerText");
+    assert!(verdict.contains("Is the data enough? not enough"), "{verdict}");
+    assert!(verdict.contains("logged together for 0.0 h"), "{verdict}");
+    // The verdict comes before the headline figures (DOCUMENT_POSITION_FOLLOWING = 4).
+    let order = b.js_f64(
+        "return document.getElementById('sufficiency')\
+         .compareDocumentPosition(document.getElementById('headline'))",
+    );
+    assert_eq!(order as u32 & 4, 4, "the headline figures come after the verdict");
+    let value_of = |label: &str| {
+        b.js(
+            "for (const f of document.querySelectorAll('#headline .figure')) { \
+               if (f.querySelector('.figure-label').innerText.startsWith(arguments[0])) \
+                 return [f.querySelector('.figure-value').innerText, f.querySelector('.figure-note').innerText]; } \
+             return null",
+            json!([label]),
+        )
+    };
+    for label in
+        ["Annual energy of the compressors", "Annual cost of compressed air", "Heat discarded per year"]
+    {
+        let v = value_of(label);
+        assert_eq!(v[0], "not enough data", "{label}: {v}");
+        assert!(
+            v[1].as_str().unwrap().contains("not enough for annual figures (reasons above)"),
+            "{label}: {v}"
+        );
+    }
+    let headline = b.js_str("return document.getElementById('headline').innerText");
+    assert!(!headline.contains("MWh") && !headline.contains(" a year"), "an annual figure shows: {headline}");
+    let measures = b.js_str("return document.body.innerText");
+    assert!(measures.contains("No measure is proposed: the logged data are not enough"));
+    b.screenshot_full("thin-audit-report");
+    let severe = b.severe_logs(&page);
+    assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
+}

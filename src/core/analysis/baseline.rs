@@ -152,29 +152,38 @@ pub(super) fn methods(a: &Annual) -> [Method; 3] {
 }
 
 /// The baseline: annual energy, cost and CO₂, with ± one combined uncertainty of power `u_power`.
-pub(super) fn baseline(site: &SiteSpec, a: &Annual, peak_kw: f64, sp: Option<f64>, u_power: f64) -> Baseline {
+/// Without a peak (`None`) the demand charge, and with it the annual cost, is known only when the
+/// site has no demand charge.
+pub(super) fn baseline(
+    site: &SiteSpec,
+    a: &Annual,
+    peak_kw: Option<f64>,
+    sp: Option<f64>,
+    u_power: f64,
+) -> Baseline {
     let annual_kwh = a.kwh;
     let energy_cost = annual_kwh * site.electricity_price_per_kwh;
-    let demand_charge = site.demand_charge_per_kw_month * peak_kw * 12.0;
-    let annual_cost = energy_cost + demand_charge;
+    let rate = site.demand_charge_per_kw_month;
+    let demand_charge = if rate == 0.0 { Some(0.0) } else { peak_kw.map(|p| rate * p * 12.0) };
+    let annual_cost = demand_charge.map(|d| energy_cost + d);
     let cost_per_1000_m3 = sp.map(|s| s / 60.0 * 1000.0 * site.electricity_price_per_kwh);
     let (ae_lo, ae_hi) = band(annual_kwh, u_power);
-    let (ac_lo, ac_hi) = band(annual_cost, u_power);
+    let ac_band = annual_cost.map(|c| band(c, u_power));
     Baseline {
         rule: a.rule_text.clone(),
         annual_hours: a.rule.hours(),
         annual_running_hours: a.running_hours,
-        annual_energy_kwh: annual_kwh,
-        annual_energy_kwh_low: ae_lo,
-        annual_energy_kwh_high: ae_hi,
-        annual_energy_cost: energy_cost,
+        annual_energy_kwh: Some(annual_kwh),
+        annual_energy_kwh_low: Some(ae_lo),
+        annual_energy_kwh_high: Some(ae_hi),
+        annual_energy_cost: Some(energy_cost),
         annual_demand_charge: demand_charge,
         annual_cost,
-        annual_cost_low: ac_lo,
-        annual_cost_high: ac_hi,
+        annual_cost_low: ac_band.map(|b| b.0),
+        annual_cost_high: ac_band.map(|b| b.1),
         cost_per_1000_m3,
         cost_per_1000_ft3: cost_per_1000_m3.map(|c| c * M3_PER_FT3),
-        annual_co2_t: annual_kwh * site.grid_co2_kg_per_kwh / 1000.0,
+        annual_co2_t: Some(annual_kwh * site.grid_co2_kg_per_kwh / 1000.0),
         electricity_price_per_kwh: site.electricity_price_per_kwh,
         currency: site.currency.clone(),
     }

@@ -24,8 +24,8 @@ pub(super) struct FlowTotals {
     /// m³/min, over `peak_flow_window` s.
     pub peak_flow: f64,
     pub peak_flow_window: f64,
-    /// kW, over `peak_kw_window` s.
-    pub peak_kw: f64,
+    /// kW, over `peak_kw_window` s (`None`: no window with every compressor's power).
+    pub peak_kw: Option<f64>,
     pub peak_kw_window: f64,
 }
 
@@ -34,15 +34,15 @@ pub(super) fn flow_totals(grid: &Grid, flow: Option<&[f32]>, total_power: Option
     let flow_i = flow.map(|q| integrate(grid, q));
     let air_m3 = flow_i.map_or(0.0, |i| i.total);
     let mean_flow = flow_i.map_or(0.0, |i| if i.mean.is_finite() { i.mean * 60.0 } else { 0.0 });
-    let none = |window_s| Peak { mean: 0.0, window_s };
+    let none = |window_s| Peak { mean: None, window_s };
     let flow_peak = flow.map_or(none(60.0), |q| peak_mean(grid, q, 60.0));
     let power_peak = total_power.map_or(none(900.0), |p| peak_mean(grid, p, 900.0));
     FlowTotals {
         air_m3,
         mean_flow,
-        peak_flow: flow_peak.mean * 60.0,
+        peak_flow: flow_peak.mean.unwrap_or(0.0) * 60.0,
         peak_flow_window: flow_peak.window_s,
-        peak_kw: power_peak.mean / 1000.0,
+        peak_kw: power_peak.mean.map(|w| w / 1000.0),
         peak_kw_window: power_peak.window_s,
     }
 }

@@ -74,7 +74,10 @@ pub struct SystemFigures {
     pub mean_power_kw: f64,
     pub mean_power_kw_low: f64,
     pub mean_power_kw_high: f64,
-    pub peak_power_kw: f64,
+    /// The highest 15-minute mean of the compressors' power together (`None`: their logs do not
+    /// overlap enough for a simultaneous peak; `sufficiency.withheld` says why). Never below
+    /// `mean_power_kw`.
+    pub peak_power_kw: Option<f64>,
     pub peak_power_window_s: f64,
     pub air_m3: f64,
     pub air_m3_low: f64,
@@ -128,7 +131,8 @@ pub struct CompressorFigures {
     pub energy_kwh_low: f64,
     pub energy_kwh_high: f64,
     pub mean_power_kw: f64,
-    pub annual_energy_kwh: f64,
+    /// `None` when the data cannot support annual figures (`sufficiency`).
+    pub annual_energy_kwh: Option<f64>,
     pub loaded_fraction: f64,
     pub part_load_fraction: f64,
     pub unloaded_fraction: f64,
@@ -154,8 +158,8 @@ pub struct CompressorFigures {
     pub trim: bool,
     pub heat_rejected_kwh: f64,
     pub recoverable_kwh: f64,
-    pub annual_heat_rejected_kwh: f64,
-    pub annual_recoverable_kwh: f64,
+    pub annual_heat_rejected_kwh: Option<f64>,
+    pub annual_recoverable_kwh: Option<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -189,17 +193,19 @@ pub struct Baseline {
     pub annual_hours: f64,
     /// Annual hours with some compressor running.
     pub annual_running_hours: f64,
-    pub annual_energy_kwh: f64,
-    pub annual_energy_kwh_low: f64,
-    pub annual_energy_kwh_high: f64,
-    pub annual_energy_cost: f64,
-    pub annual_demand_charge: f64,
-    pub annual_cost: f64,
-    pub annual_cost_low: f64,
-    pub annual_cost_high: f64,
+    // The annual figures below are `None` (JSON `null`) when the data cannot support them
+    // (`Summary::sufficiency` says why), never a number.
+    pub annual_energy_kwh: Option<f64>,
+    pub annual_energy_kwh_low: Option<f64>,
+    pub annual_energy_kwh_high: Option<f64>,
+    pub annual_energy_cost: Option<f64>,
+    pub annual_demand_charge: Option<f64>,
+    pub annual_cost: Option<f64>,
+    pub annual_cost_low: Option<f64>,
+    pub annual_cost_high: Option<f64>,
     pub cost_per_1000_m3: Option<f64>,
     pub cost_per_1000_ft3: Option<f64>,
-    pub annual_co2_t: f64,
+    pub annual_co2_t: Option<f64>,
     pub electricity_price_per_kwh: f64,
     pub currency: String,
 }
@@ -244,16 +250,66 @@ pub struct LeakFigures {
 pub struct HeatFigures {
     pub heat_rejected_kwh: f64,
     pub recoverable_kwh: f64,
-    pub annual_heat_rejected_kwh: f64,
-    pub annual_recoverable_kwh: f64,
+    pub annual_heat_rejected_kwh: Option<f64>,
+    pub annual_recoverable_kwh: Option<f64>,
     pub recoverable_kw_at_full_load: f64,
     pub use_kind: HeatUseKind,
-    pub useful_heat_kwh_per_year: f64,
-    pub displaced_fuel_kwh_per_year: f64,
-    pub annual_value: f64,
+    pub useful_heat_kwh_per_year: Option<f64>,
+    pub displaced_fuel_kwh_per_year: Option<f64>,
+    pub annual_value: Option<f64>,
     /// The same heat all year as process or boiler make-up water, for comparison.
-    pub process_water_annual_value: f64,
+    pub process_water_annual_value: Option<f64>,
     pub cautions: Vec<String>,
+}
+
+/// The data-sufficiency verdict (rules in `analysis::sufficiency`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Verdict {
+    /// The data carry every figure.
+    Enough,
+    /// Annual figures are given but rest on less than the rules ask for: read them as indicative.
+    Thin,
+    /// No annual figure and no measure: the data cannot carry them.
+    Insufficient,
+}
+
+impl Verdict {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Self::Enough => "enough",
+            Self::Thin => "thin",
+            Self::Insufficient => "insufficient",
+        }
+    }
+}
+
+/// A figure left out (`null`) because the data cannot support it, and why.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Withheld {
+    /// The summary's field, as a JSON path (`baseline.annual_energy_kwh`).
+    pub figure: String,
+    pub reason: String,
+}
+
+/// `summary.sufficiency` (API.md).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Sufficiency {
+    pub verdict: Verdict,
+    /// Why the verdict is not `enough` (empty when it is).
+    pub reasons: Vec<String>,
+    /// Figures set to `null`, each with its reason.
+    pub withheld: Vec<Withheld>,
+    /// Hours in which every compressor with a power column was logged together.
+    pub power_hours: f64,
+    /// Hours with power and measured flow together (`None`: no flow meter).
+    pub power_flow_hours: Option<f64>,
+    /// Hours with power and header pressure together (`None`: no pressure logged).
+    pub power_pressure_hours: Option<f64>,
+    /// Weekdays (of 7, in the site's time zone) with power logged.
+    pub weekdays_logged: u32,
+    /// The pressure log passed the credibility checks (`None`: no pressure logged).
+    pub pressure_credible: Option<bool>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -276,6 +332,8 @@ pub struct Summary {
     pub leaks: LeakFigures,
     pub heat: HeatFigures,
     pub recommendations: Vec<Recommendation>,
+    /// Whether the data can carry the annual figures, and the figures withheld (`sufficiency`).
+    pub sufficiency: Sufficiency,
     pub methods: Vec<Method>,
     pub assumptions: Vec<String>,
     /// Sources of error a reader should know of (one power factor for a machine logged in amps).

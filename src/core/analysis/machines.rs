@@ -257,7 +257,7 @@ pub(super) fn compressor_figures(
             energy_kwh_low: lo,
             energy_kwh_high: hi,
             mean_power_kw: d.energy.mean_kw[i],
-            annual_energy_kwh: annual_kwh_c[i],
+            annual_energy_kwh: Some(annual_kwh_c[i]),
             loaded_fraction: s0.loaded_fraction,
             part_load_fraction: s0.part_load_fraction,
             unloaded_fraction: s0.unloaded_fraction,
@@ -284,8 +284,8 @@ pub(super) fn compressor_figures(
             trim: d.trim == Some(i),
             heat_rejected_kwh: h.rejected_kwh,
             recoverable_kwh: h.recoverable_kwh,
-            annual_heat_rejected_kwh: h.annual_rejected_kwh,
-            annual_recoverable_kwh: h.annual_recoverable_kwh,
+            annual_heat_rejected_kwh: Some(h.annual_rejected_kwh),
+            annual_recoverable_kwh: Some(h.annual_recoverable_kwh),
         });
     }
     comp_fig

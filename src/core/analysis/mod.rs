@@ -17,7 +17,13 @@ without touching a bin. Each rule is documented in its room and listed in [`Summ
 - `pressure`: pressure bands; `demand`: peaks, duration curve, weekday × hour profiles;
 - `baseline`: annualisation, cost and CO₂; `leaks`: the estimates and the adopted leak flow;
 - `heat`: heat rejected and recoverable and its value; `decay`: decay events in the logs;
+- `sufficiency`: whether the data carry the annual figures (the verdict, before any annual figure),
+  and the figures withheld (`null` with a reason) because the data cannot support them;
 - `figures`: the summary's shape (serialised and read back typed).
+
+Invariants every summary keeps (checked over the demo and randomised plants in `tests`): a peak
+(power or flow) is never below its mean; a target pressure is never below the plant's low limit
+nor below 0 bar(g); a measure never saves more than the energy it acts on.
 */
 
 mod baseline;
@@ -26,6 +32,8 @@ mod control;
 mod decay;
 mod demand;
 mod figures;
+#[cfg(test)]
+mod guard_tests;
 mod heat;
 mod leaks;
 mod machines;
@@ -33,6 +41,7 @@ mod pressure;
 mod production;
 mod specific_power;
 mod stats;
+pub mod sufficiency;
 #[cfg(test)]
 mod tests;
 pub mod uncertainty;
@@ -45,7 +54,7 @@ pub use decay::{
 pub use figures::{
     Baseline, CompressorFigures, Coverage, Demand, DurationPoint, FlowSource, HeatFigures,
     LeakEstimateFigure, LeakFigures, Method, PartLoadPoint, Period, PowerSource, PressureFigures,
-    ProductionSource, Summary, SystemFigures,
+    ProductionSource, Sufficiency, Summary, SystemFigures, Verdict, Withheld,
 };
 pub use production::NON_PRODUCTION_SHARE_OF_PEAK;
 pub use uncertainty::Accuracy;
@@ -143,6 +152,7 @@ pub struct DataFigures {
     pressure: PressureFigures,
     demand: Demand,
     coverage: Coverage,
+    overlap: sufficiency::Overlap,
 }
 
 /// Every pass over the bins (the rooms' docs: energy, flow, specific power, states, production hours,
@@ -176,6 +186,8 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
     let timezone = if cal.tz_ok { spec.timezone.clone() } else { "UTC".into() };
     let demand =
         demand::demand(&cal, timezone, q, flow.estimated, total_power, &production, totals.peak_flow);
+    let overlap =
+        sufficiency::overlap(&grid, &cal.cells, total_power, if flow.estimated { None } else { q }, pressure);
     let coverage = Coverage {
         power: total_power.map_or(0.0, |p| integrate(&grid, p).coverage),
         flow: if flow.estimated { 0.0 } else { q.map_or(0.0, |q| integrate(&grid, q).coverage) },
@@ -214,6 +226,7 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
         pressure: pressure_fig,
         demand,
         coverage,
+        overlap,
     }
 }
 
@@ -340,6 +353,22 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
 
     let mut pressure_fig = d.pressure.clone();
     pressure_fig.uncertainty_bar = acc.pressure_abs_bar();
+    // The verdict comes before any measure: measures rest on annual figures and, for the pressure
+    // measure, on a credible pressure log.
+    let lowest_rated = cs.iter().map(|c| c.rated_pressure_bar_g).reduce(f64::min);
+    let pressure_ok = sufficiency::pressure_credible(&pressure_fig, lowest_rated);
+    let sufficiency =
+        sufficiency::assess(&d.overlap, d.power_logged.iter().any(|&p| p), pressure_ok.as_ref());
+    let credible_mean_pressure = pressure_fig.mean_bar_g.filter(|_| pressure_ok == Some(Ok(())));
+    methods.push(method(
+        "sufficiency",
+        "enough, thin or insufficient from the hours with every compressor's power logged together \
+         (under 1 h: insufficient; under 167 h or fewer than 7 weekdays: thin), their share of the \
+         logged period (under 10 %: insufficient; under 50 %: thin), the overlap of power with flow \
+         and with pressure (under 50 % of the power hours: thin) and a credible pressure log",
+        "ISO 11011 (a period representative of operation); one full production week of logging is \
+         common practice",
+    ));
     methods.push(method(
         "pressure bands",
         "p5/p50/p95 of header pressure; low limit = lowest rated pressure - 1 bar",
@@ -358,7 +387,8 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             annual_running_hours: annual.running_hours,
             annual_energy_kwh: annual.kwh,
             leak_flow_m3_min: leaks.adopted_leak_flow_m3_min,
-            mean_pressure_bar_g: pressure_fig.mean_bar_g,
+            mean_pressure_bar_g: credible_mean_pressure,
+            low_limit_bar_g: pressure_fig.low_limit_bar_g,
             control: d.control.as_ref().map(|c| ControlCase {
                 logged_annual_kwh: c.logged.annual(annual.rule) / 1000.0,
                 modelled_annual_kwh: c.modelled.annual(annual.rule) / 1000.0,
@@ -391,7 +421,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     let (p_lo, p_hi) = band(sys_mean_kw, u_power);
     let (a_lo, a_hi) = band(d.totals.air_m3, u_flow);
     let (q_lo, q_hi) = band(mean_flow, u_flow);
-    Summary {
+    let mut summary = Summary {
         period: d.period.clone(),
         coverage: d.coverage.clone(),
         flow_source: d.flow_source,
@@ -434,8 +464,11 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         leaks,
         heat: heat.figures,
         recommendations: recs,
+        sufficiency,
         methods,
         assumptions,
         warnings,
-    }
+    };
+    sufficiency::apply(&mut summary, site.demand_charge_per_kw_month != 0.0);
+    summary
 }

@@ -7,26 +7,40 @@ use crate::core::series::Grid;
 /// The highest window mean of a series, and the window it was taken over.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(super) struct Peak {
-    /// 0 when no window has enough bins.
-    pub mean: f64,
+    /// `None` when no window has enough bins.
+    pub mean: Option<f64>,
     pub window_s: f64,
 }
 
 /// Highest mean over consecutive non-overlapping windows of `window_s` (at least one bin); windows
 /// with fewer than half their bins present are skipped.
+///
+/// Never below the series' mean over its present bins, by construction: that mean is the
+/// count-weighted mean of all window means, so some window reaches it; when the highest readings
+/// lie in windows skipped for sparseness, the qualifying windows can fall short of it, and the
+/// mean is then the best lower bound of the peak the data allow.
 pub(super) fn peak_mean(grid: &Grid, values: &[f32], window_s: f64) -> Peak {
     let k = ((window_s / grid.step_s()).round() as usize).max(1);
     let mut best = f64::NAN;
+    let (mut sum, mut n) = (0.0, 0usize);
     for chunk in values.chunks(k) {
-        let v: Vec<f64> = chunk.iter().filter(|x| x.is_finite()).map(|&x| x as f64).collect();
-        if v.len() * 2 >= k && !v.is_empty() {
-            let m = v.iter().sum::<f64>() / v.len() as f64;
+        let (mut s, mut c) = (0.0, 0usize);
+        for &x in chunk.iter().filter(|x| x.is_finite()) {
+            s += x as f64;
+            c += 1;
+        }
+        sum += s;
+        n += c;
+        if c * 2 >= k && c > 0 {
+            let m = s / c as f64;
             if best.is_nan() || m > best {
                 best = m;
             }
         }
     }
-    Peak { mean: if best.is_finite() { best } else { 0.0 }, window_s: k as f64 * grid.step_s() }
+    let mean = (n > 0).then(|| sum / n as f64);
+    let peak = best.is_finite().then(|| best.max(mean.unwrap_or(best)));
+    Peak { mean: peak, window_s: k as f64 * grid.step_s() }
 }
 
 /// The `p` quantile (0-1) of sorted values, interpolated linearly between neighbours (common

@@ -21,6 +21,9 @@ struct Draft {
     title: Vec<Part>,
     description: Vec<Part>,
     saving_kwh: f64,
+    /// The annual energy the measure acts on, kWh: the saving never exceeds it (module doc of
+    /// `recommend`).
+    acts_on_kwh: f64,
     /// The money saved when it is not electricity at the site's price (recovered heat).
     money: Option<f64>,
     cost_ctx: CostContext,
@@ -35,7 +38,20 @@ fn finish_scenario(r: &RecommendInput, si: &Words<'_>, d: Draft, id: i64) -> Opt
 }
 
 fn finish(r: &RecommendInput, si: &Words<'_>, d: Draft) -> Option<Recommendation> {
-    let Draft { kind, title, description, saving_kwh, money, cost_ctx, basis, formula, source, caution } = d;
+    let Draft {
+        kind,
+        title,
+        description,
+        saving_kwh,
+        acts_on_kwh,
+        money,
+        cost_ctx,
+        basis,
+        formula,
+        source,
+        caution,
+    } = d;
+    let saving_kwh = saving_kwh.min(acts_on_kwh.max(0.0));
     let electricity = money.is_none();
     let annual_cost_saving = money.unwrap_or(saving_kwh * r.site.electricity_price_per_kwh);
     if !(saving_kwh > 0.0 && annual_cost_saving > 0.0) {
@@ -72,6 +88,8 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
     let trim_cap = r.trim.and_then(|t| r.machines.get(t)).map(|m| m.annual_above_idle_kwh);
     let trim_tag = r.trim.map(|t| r.compressors[t].tag.clone()).unwrap_or_default();
     let capped = |kwh: f64| trim_cap.map_or(kwh, |c| kwh.min(c.max(0.0)));
+    // A demand cut acts on the trim's energy above idle, or on the whole plant without a trim.
+    let demand_acts_on = trim_cap.unwrap_or(r.annual_energy_kwh).min(r.annual_energy_kwh);
     let has_vsd = r.compressors.iter().any(|c| c.control == Control::VariableSpeed);
 
     // Leak repair: demand removed, priced at the trim's part-load curve.
@@ -82,7 +100,7 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
                 format!("Find and repair {:.0} % of the estimated ", opts.leak_repair_fraction * 100.0),
                 flow(leak),
                 format!(" of leaks; the trim compressor {trim_tag} then delivers less air."),
-            ], saving_kwh: kwh, money: None, cost_ctx: CostContext { leak_repaired_m3_min: dq, ..Default::default() }, basis: vec![
+            ], saving_kwh: kwh, acts_on_kwh: demand_acts_on, money: None, cost_ctx: CostContext { leak_repaired_m3_min: dq, ..Default::default() }, basis: vec![
                 text!["leak flow ", flow(leak)],
                 text![format!("repair fraction {:.2}", opts.leak_repair_fraction)],
                 text!["marginal specific power ", specific(r.marginal_kw_per_m3_min), format!(" ({trim_tag})")],
@@ -96,6 +114,8 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
         if let Some(need) = opts.needed_pressure_bar_g {
             target = target.max(need);
         }
+        // Never below the plant's low limit nor below the atmosphere (module doc).
+        target = target.max(r.low_limit_bar_g.unwrap_or(0.0)).max(0.0);
         let dp = p_now - target;
         if dp > 0.0 {
             let direct = r.annual_energy_kwh * 0.01 * dp / BAR_PER_2_PSI;
@@ -103,7 +123,7 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
             let q_unreg = opts.unregulated_flow_m3_min.unwrap_or(0.0) + r.leak_flow_m3_min.unwrap_or(0.0);
             let dq = q_unreg * dp / p_abs_bar;
             let artificial = capped(dq * r.marginal_kw_per_m3_min * r.annual_running_hours);
-            out.extend(finish(r, si, Draft { kind: MeasureKind::LowerPressure, title: text!["Lower the header pressure from ", bar_g(p_now), " to ", bar_g(target)], description: text!["Lower the compressors' set points in steps while watching the pressure at the farthest point of use."], saving_kwh: direct + artificial, money: None, cost_ctx: CostContext::default(), basis: vec![
+            out.extend(finish(r, si, Draft { kind: MeasureKind::LowerPressure, title: text!["Lower the header pressure from ", bar_g(p_now), " to ", bar_g(target)], description: text!["Lower the compressors' set points in steps while watching the pressure at the farthest point of use."], saving_kwh: direct + artificial, acts_on_kwh: r.annual_energy_kwh, money: None, cost_ctx: CostContext::default(), basis: vec![
                     text!["mean header pressure ", bar_g(p_now)],
                     text!["target ", bar_g(target)],
                     text![format!("annual compressor energy {:.0} kWh", r.annual_energy_kwh)],
@@ -129,6 +149,8 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
                 h.useful_kwh_per_year, h.fuel_kwh_per_year
             )],
                 saving_kwh: h.fuel_kwh_per_year,
+                // Fuel displaced, not electricity: bounded by the recoverable heat upstream.
+                acts_on_kwh: h.fuel_kwh_per_year,
                 money: Some(h.value_per_year),
                 cost_ctx: CostContext { recoverable_heat_kw: h.recoverable_kw, ..Default::default() },
                 basis: vec![
@@ -159,7 +181,7 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
     if !idle.is_empty() {
         let kwh: f64 = idle.iter().map(|x| x.1).sum();
         let tags: Vec<String> = idle.iter().map(|(i, _)| r.compressors[*i].tag.clone()).collect();
-        out.extend(finish(r, si, Draft { kind: MeasureKind::ShutOffIdle, title: text![format!("Switch off idling compressors out of production ({})", tags.join(", "))], description: text!["Outside production hours these machines run unloaded; a timer or sequencer rule stops them."], saving_kwh: kwh, money: None, cost_ctx: CostContext { compressors: idle.len() as f64, ..Default::default() }, basis: idle.iter()
+        out.extend(finish(r, si, Draft { kind: MeasureKind::ShutOffIdle, title: text![format!("Switch off idling compressors out of production ({})", tags.join(", "))], description: text!["Outside production hours these machines run unloaded; a timer or sequencer rule stops them."], saving_kwh: kwh, acts_on_kwh: r.annual_energy_kwh, money: None, cost_ctx: CostContext { compressors: idle.len() as f64, ..Default::default() }, basis: idle.iter()
                 .map(|(i, k)| text![format!("{} unloaded out of production {k:.0} kWh/yr", r.compressors[*i].tag)])
                 .collect(), formula: "saving = Σ energy spent unloaded in non-production hours (annualised)", source: "US DOE sourcebook (unloaded power 15-35 % of full load); common practice", caution: Some(
                 "only where nothing needs air at those hours; leaks and dryers still draw while pressurized"
@@ -194,6 +216,7 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
                     s.energy_saving_kwh / s.baseline_energy_kwh * 100.0
                 )],
                 saving_kwh: kwh,
+                acts_on_kwh: r.annual_energy_kwh,
                 money: None,
                 cost_ctx: CostContext { scenario_cost: Some(s.implementation_cost), ..Default::default() },
                 basis: vec![
@@ -242,6 +265,7 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
                     }
                 )],
                 saving_kwh: kwh,
+                acts_on_kwh: c.logged_annual_kwh.min(r.annual_energy_kwh),
                 money: None,
                 cost_ctx: CostContext { rated_kw: spec.rated_power_kw, has_vsd, ..Default::default() },
                 basis: vec![
@@ -272,7 +296,7 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
         out.extend(finish(r, si, Draft { kind: MeasureKind::ReplaceCompressor, title: text![format!("Overhaul or replace {}", spec.tag)], description: text![format!(
                 "{} draws {p_meas:.1} kW loaded against {:.1} kW on its data sheet.",
                 spec.tag, spec.rated_power_kw
-            )], saving_kwh: excess_kw * m.annual_loaded_hours, money: None, cost_ctx: CostContext { rated_kw: spec.rated_power_kw, ..Default::default() }, basis: vec![
+            )], saving_kwh: excess_kw * m.annual_loaded_hours, acts_on_kwh: m.annual_energy_kwh, money: None, cost_ctx: CostContext { rated_kw: spec.rated_power_kw, ..Default::default() }, basis: vec![
                 text![format!("measured loaded power {p_meas:.2} kW")],
                 text![format!("data-sheet power {:.2} kW", spec.rated_power_kw)],
                 text![format!("loaded hours {:.0} h/yr", m.annual_loaded_hours)],

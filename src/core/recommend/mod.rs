@@ -9,11 +9,16 @@ energy above idle.
 | kind | saving | default implementation cost (common practice, from memory; edit per audit) |
 |---|---|---|
 | `repair_leaks` | `f` × leak flow (default `f` = 50 %, [`MeasureOptions::leak_repair_fraction`]) × marginal kW/(m³/min) × the system's running hours, capped at the trim's energy above idle | 1500 (survey) + 1000 per m³/min repaired |
-| `lower_pressure` | 1 % of compressor input per 2 psi (0.138 bar) lower (US DOE compressed-air sourcebook) + the artificial demand `dQ = Q_unreg (p_now - p_target) / p_now,abs` at the marginal curve; target by default 0.5 bar below the mean header pressure, never below the highest pressure the uses need | 2000 fixed (engineering, set-point changes) |
+| `lower_pressure` | 1 % of compressor input per 2 psi (0.138 bar) lower (US DOE compressed-air sourcebook) + the artificial demand `dQ = Q_unreg (p_now - p_target) / p_now,abs` at the marginal curve; target by default 0.5 bar below the mean header pressure, never below the highest pressure the uses need, the plant's low limit (`low_limit_bar_g`) or 0 bar(g) | 2000 fixed (engineering, set-point changes) |
 | `recover_heat` | the displaced fuel (heater efficiency, fuel price) in the months the heat is used | 250 per kW of recoverable heat at full load |
 | `shut_off_idle` | energy spent unloaded in non-production hours | 800 per compressor (timer or sequencer rule) |
 | `improve_control` | the best replayed scenario (below), else the trim's logged energy - the same demand on a variable-speed trim (the audit's own VSD curve, or the typical curve of `states`) | the scenario's cost (quoted, or `simulate::default_cost`); else 350 per kW of trim rating (a VSD trim), 3000 fixed when the audit already has a VSD to sequence as trim |
 | `replace_compressor` | loaded hours × (measured loaded kW - data-sheet kW) | 400 per kW rated |
+
+**Never more than the energy acted on**: each measure's electricity saving is capped by the annual
+energy it acts on (the trim's energy above idle for a demand cut, the system's annual energy for the
+pressure set point, the trim's logged energy for control, the machine's annual energy for a
+replacement), so no measure can save more than exists to save.
 
 **Replayed scenarios** (`simulate`) outrank the rule for `improve_control`: a scenario qualifies when the
 auditor marked it as the proposal (`proposal`: a replay is a question asked, not advice, until then), it
@@ -333,7 +338,10 @@ pub struct RecommendInput<'a> {
     pub annual_running_hours: f64,
     pub annual_energy_kwh: f64,
     pub leak_flow_m3_min: Option<f64>,
+    /// Mean header pressure, only when the pressure log is credible (`analysis::sufficiency`).
     pub mean_pressure_bar_g: Option<f64>,
+    /// The plant's low pressure limit (lowest rated pressure - 1 bar): no target goes below it.
+    pub low_limit_bar_g: Option<f64>,
     pub control: Option<ControlCase>,
     pub heat: Option<HeatCase>,
     pub costs: &'a CostOverrides,

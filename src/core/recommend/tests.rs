@@ -65,6 +65,7 @@ fn input<'a>(
         annual_energy_kwh: 300_000.0,
         leak_flow_m3_min: Some(2.0),
         mean_pressure_bar_g: Some(7.0),
+        low_limit_bar_g: None,
         control: None,
         heat: None,
         costs,
@@ -282,7 +283,9 @@ fn measures_rank_by_payback_and_heat_carries_its_caution() {
 fn a_machine_drawing_more_than_its_data_sheet_is_flagged() {
     let s = site();
     let cs = vec![lu()];
+    // At least its loaded energy, 62 kW x 4000 h: a measure saves no more than the energy it acts on.
     let ms = vec![MachineUse {
+        annual_energy_kwh: 62.0 * 4000.0,
         mean_loaded_power_kw: Some(62.0),
         annual_loaded_hours: 4000.0,
         power_logged: true,
@@ -297,4 +300,53 @@ fn a_machine_drawing_more_than_its_data_sheet_is_flagged() {
     assert_eq!(r[0].kind, MeasureKind::ReplaceCompressor);
     assert!((r[0].annual_energy_saving_kwh - 7.0 * 4000.0).abs() < 1e-9);
     assert_eq!(r[0].implementation_cost, 400.0 * 55.0);
+}
+
+#[test]
+fn a_target_pressure_never_goes_below_the_low_limit_or_the_atmosphere() {
+    // A header log reading 0.11 bar(g) (a mismapped column on a 7.5 bar(g) plant): mean - 0.5 bar
+    // would be -0.39 bar(g); the target is held at the low limit 6.5 bar(g), above the mean, so no
+    // pressure measure is proposed at all.
+    let s = site();
+    let cs = [lu()];
+    let ms = [MachineUse { annual_energy_kwh: 300_000.0, annual_above_idle_kwh: 1e5, ..Default::default() }];
+    let costs = CostOverrides::default();
+    let mut inp = input(&s, &cs, &ms, &costs);
+    inp.mean_pressure_bar_g = Some(0.11);
+    inp.low_limit_bar_g = Some(6.5);
+    let recs = recommend(&inp, &si(&s));
+    assert!(recs.iter().all(|r| r.kind != MeasureKind::LowerPressure), "{recs:?}");
+    // Without a known low limit, never below 0 bar(g): 0.3 - 0.5 is held at 0.
+    inp.mean_pressure_bar_g = Some(0.3);
+    inp.low_limit_bar_g = None;
+    let recs = recommend(&inp, &si(&s));
+    let lp = recs.iter().find(|r| r.kind == MeasureKind::LowerPressure).expect("a 0.3 bar step");
+    assert!(lp.title.ends_with("to 0.00 bar(g)"), "{}", lp.title);
+    // At 7.0 bar(g) with a 6.8 bar(g) low limit the target is 6.8, not 6.5.
+    inp.mean_pressure_bar_g = Some(7.0);
+    inp.low_limit_bar_g = Some(6.8);
+    let recs = recommend(&inp, &si(&s));
+    let lp = recs.iter().find(|r| r.kind == MeasureKind::LowerPressure).expect("a 0.2 bar step");
+    assert!(lp.title.ends_with("to 6.80 bar(g)"), "{}", lp.title);
+}
+
+#[test]
+fn no_measure_saves_more_than_the_energy_it_acts_on() {
+    // A pressure 30 bar above the target would save 1 % per 0.138 bar = 217 % of the energy by the
+    // rule of thumb; the saving is held at the annual energy it acts on.
+    let s = site();
+    let cs = [lu()];
+    let ms = [MachineUse { annual_energy_kwh: 300_000.0, annual_above_idle_kwh: 1e5, ..Default::default() }];
+    let mut costs = CostOverrides::default();
+    costs.options.target_pressure_bar_g = Some(6.5);
+    let mut inp = input(&s, &cs, &ms, &costs);
+    inp.mean_pressure_bar_g = Some(36.5);
+    inp.low_limit_bar_g = Some(6.5);
+    inp.trim = None;
+    let recs = recommend(&inp, &si(&s));
+    let lp = recs.iter().find(|r| r.kind == MeasureKind::LowerPressure).expect("pressure measure");
+    assert_eq!(lp.annual_energy_saving_kwh, 300_000.0);
+    for r in recs.iter().filter(|r| r.electricity) {
+        assert!(r.annual_energy_saving_kwh <= inp.annual_energy_kwh, "{r:?}");
+    }
 }

@@ -20,7 +20,18 @@ Rules (common practice in reviewing logger data; the thresholds are ours, docume
 - **Flat line**: the same value for at least 30 min and at least 30 readings in a row (a stuck
   sensor, or a compressor that is off: both worth a look).
 - **Out of range** (kept, reported): power below -0.5 kW, flow below -0.05 m³/min (negative
-  beyond noise), pressure above 100 bar g, temperature outside -50..200 °C, a negative counter.
+  beyond noise), pressure above 100 bar g or below -0.1 bar g (a compressed-air line never runs
+  below the atmosphere; 0.1 bar allows for a transmitter's zero error, common practice),
+  temperature outside -50..200 °C, a negative counter.
+- **Implausible against the data sheets** ([`QualityReport::check_against_rated`], run when the
+  file is stored, with the audit's compressors): a compressor's power above
+  [`POWER_OVER_RATED`] (1.5) × its rated package power (a screw package draws at most some 10-20 %
+  over its data sheet at raised pressure, common practice: half as much again is a wrong unit,
+  scale, current transformer ratio or compressor); a compressor's own flow above
+  [`FLOW_OVER_RATED`] (1.5) × its rated free air delivery; a system flow above 1.5 × the sum of the
+  compressors' rated free air delivery (a meter downstream of a receiver may briefly read more than
+  the compressors make while the receiver empties, hence the margin). The highest reading of each
+  channel is kept for it; the findings are reported, never dropped.
 - **Counter decrease**: an energy counter that goes down. A *roll-over* when the previous value was
   at least 90 % of the next power of ten (in the logged unit) and the new one below 10 % of it
   (a register wrapping at 99999 kWh, say); any other decrease is a *reset*.
@@ -33,7 +44,7 @@ mod tracker;
 mod warnings;
 
 pub use tracker::QualityTracker;
-pub use warnings::human_duration;
+pub use warnings::{human_duration, span_warnings, SMALL_SHARE_OF_PERIOD};
 
 use crate::ingest::mapping::Quantity;
 use serde::Serialize;
@@ -128,6 +139,42 @@ pub struct OutOfRange {
     pub reason: String,
 }
 
+/// The highest reading of a channel (kept to check it against the data sheets).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Highest {
+    pub line: u64,
+    pub time: String,
+    /// In the logged unit (`unit`).
+    pub value: f64,
+    pub unit: String,
+    /// In SI (W, m³/s free air, Pa abs...).
+    #[serde(skip)]
+    pub si: f64,
+}
+
+/// A value implausible for its quantity against the audit's data sheets.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Implausible {
+    pub reason: String,
+    pub line: u64,
+    pub time: String,
+    pub value: f64,
+    pub unit: String,
+}
+
+/// A compressor's data-sheet figures, as the plausibility checks need them.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RatedMachine {
+    pub tag: String,
+    pub rated_power_kw: f64,
+    pub rated_flow_m3_min: f64,
+}
+
+/// A compressor's power above this multiple of its rated package power is implausible (module doc).
+pub const POWER_OVER_RATED: f64 = 1.5;
+/// A flow above this multiple of the rated free air delivery is implausible (module doc).
+pub const FLOW_OVER_RATED: f64 = 1.5;
+
 /// An energy counter going down.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct CounterDrop {
@@ -195,6 +242,10 @@ pub struct ChannelQuality {
     pub flat_lines: Findings<FlatLine>,
     pub out_of_range: Findings<OutOfRange>,
     pub counter_drops: Findings<CounterDrop>,
+    /// The highest reading (`None`: no reading).
+    pub highest: Option<Highest>,
+    /// Findings against the data sheets ([`QualityReport::check_against_rated`]).
+    pub implausible: Vec<Implausible>,
 }
 
 /// Everything found.
@@ -202,4 +253,46 @@ pub struct ChannelQuality {
 pub struct QualityReport {
     pub file: FileQuality,
     pub channels: Vec<ChannelQuality>,
+}
+
+impl QualityReport {
+    /// Flag readings implausible against the audit's compressors (module doc): a machine's power or
+    /// flow far above its data sheet, a system flow far above all machines together.
+    pub fn check_against_rated(&mut self, machines: &[RatedMachine]) {
+        let total_flow: f64 = machines.iter().map(|m| m.rated_flow_m3_min).sum();
+        for c in &mut self.channels {
+            let Some(h) = &c.highest else { continue };
+            let machine = c.compressor.as_ref().and_then(|t| machines.iter().find(|m| &m.tag == t));
+            let reason = match (c.quantity, machine) {
+                (Quantity::Power, Some(m)) if h.si > POWER_OVER_RATED * m.rated_power_kw * 1000.0 => format!(
+                    "power of {} up to {:.1} kW, above {POWER_OVER_RATED} x its rated {} kW: check the unit, \
+                     the scale or the compressor of the column",
+                    m.tag,
+                    h.si / 1000.0,
+                    m.rated_power_kw
+                ),
+                (Quantity::Flow, Some(m)) if h.si * 60.0 > FLOW_OVER_RATED * m.rated_flow_m3_min => format!(
+                    "flow of {} up to {:.2} m³/min, above {FLOW_OVER_RATED} x its rated {} m³/min",
+                    m.tag,
+                    h.si * 60.0,
+                    m.rated_flow_m3_min
+                ),
+                (Quantity::Flow, None) if total_flow > 0.0 && h.si * 60.0 > FLOW_OVER_RATED * total_flow => {
+                    format!(
+                        "system flow up to {:.2} m³/min, above {FLOW_OVER_RATED} x the {total_flow} m³/min all \
+                         compressors deliver together: check the unit and the reference conditions",
+                        h.si * 60.0
+                    )
+                }
+                _ => continue,
+            };
+            c.implausible.push(Implausible {
+                reason,
+                line: h.line,
+                time: h.time.clone(),
+                value: h.value,
+                unit: h.unit.clone(),
+            });
+        }
+    }
 }

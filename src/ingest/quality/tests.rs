@@ -165,3 +165,58 @@ fn a_threshold_between_left_out_spacings_gives_a_lower_bound() {
     let exact = serde_json::to_value(iv.report(Some(1000))).unwrap();
     assert!(exact.get("count_at_least").is_none());
 }
+
+#[test]
+fn negative_gauge_pressure_on_a_compressed_air_line_is_out_of_range() {
+    // 7.5 bar g, then -0.4 bar g (a mismapped column), then -0.05 bar g: a transmitter's zero error
+    // on a vented line, within the 0.1 bar allowance.
+    let ch = [ChannelDef { compressor: None, ..chan(Quantity::Pressure, "bar_g") }];
+    let conv = [Converter::Linear { scale: 1e5, offset: 101_325.0 }];
+    let mut q = QualityTracker::new(&ch, &conv, 101_325.0);
+    for (i, bar_g) in [7.5, -0.4, -0.05].into_iter().enumerate() {
+        q.reading(0, i as u64 + 2, i as i64 * 60_000, bar_g * 1e5 + 101_325.0);
+    }
+    let r = q.finish();
+    let o = &r.channels[0].out_of_range;
+    assert_eq!(o.count, 1);
+    assert_eq!((o.examples[0].line, o.examples[0].value), (3, -0.4));
+    assert!(o.examples[0].reason.starts_with("negative gauge pressure"));
+    assert!(r.warnings().iter().any(|w| w.contains("negative gauge pressure") && w.contains("line 3")));
+}
+
+#[test]
+fn power_and_flow_far_above_the_data_sheets_are_implausible() {
+    // C1 rated 55 kW and 9.5 m³/min, C2 6 m³/min: 83 kW > 1.5 x 55 = 82.5 kW; a system flow of
+    // 24 m³/min > 1.5 x 15.5 = 23.25 m³/min. 82 kW and 23 m³/min would pass.
+    let ch = [
+        chan(Quantity::Power, "kW"),
+        ChannelDef { compressor: None, label: "Flow".into(), ..chan(Quantity::Flow, "m3_min") },
+    ];
+    let conv = [
+        Converter::Linear { scale: 1000.0, offset: 0.0 },
+        Converter::Linear { scale: 1.0 / 60.0, offset: 0.0 },
+    ];
+    let rated = [
+        RatedMachine { tag: "C1".into(), rated_power_kw: 55.0, rated_flow_m3_min: 9.5 },
+        RatedMachine { tag: "C2".into(), rated_power_kw: 37.0, rated_flow_m3_min: 6.0 },
+    ];
+    let report = |kw: f64, m3_min: f64| {
+        let mut q = QualityTracker::new(&ch, &conv, 101_325.0);
+        q.reading(0, 2, 0, 40_000.0);
+        q.reading(0, 3, 60_000, kw * 1000.0);
+        q.reading(1, 3, 60_000, m3_min / 60.0);
+        let mut r = q.finish();
+        r.check_against_rated(&rated);
+        r
+    };
+    let r = report(83.0, 24.0);
+    assert_eq!(r.channels[0].implausible.len(), 1);
+    assert_eq!((r.channels[0].implausible[0].line, r.channels[0].implausible[0].value), (3, 83.0));
+    assert!(r.channels[0].implausible[0].reason.contains("above 1.5 x its rated 55 kW"));
+    assert!(r.channels[1].implausible[0]
+        .reason
+        .starts_with("system flow up to 24.00 m³/min, above 1.5 x the 15.5"));
+    assert!(r.warnings().iter().any(|w| w.starts_with("C1 kW: implausible: power of C1 up to 83.0 kW")));
+    let r = report(82.0, 23.0);
+    assert!(r.channels.iter().all(|c| c.implausible.is_empty()));
+}

@@ -5,8 +5,8 @@ daylight-saving cases, missing cells, flat lines, ranges and counter drops.
 
 use super::gaps::Intervals;
 use super::{
-    At, ChannelQuality, CounterDrop, DstFinding, FileQuality, Findings, FlatLine, GapReport, MarkedCell,
-    OutOfRange, QualityReport, MAX_EXAMPLES,
+    At, ChannelQuality, CounterDrop, DstFinding, FileQuality, Findings, FlatLine, GapReport, Highest,
+    MarkedCell, OutOfRange, QualityReport, MAX_EXAMPLES,
 };
 use crate::core::units::{PA_PER_BAR, T_ZERO_C};
 use crate::ingest::mapping::{ChannelDef, Converter, Quantity};
@@ -33,6 +33,8 @@ struct ChannelTracker {
     run: Option<Run>,
     prev_counter: Option<f64>,
     range: Range,
+    /// SI value, line and time of the highest reading.
+    highest: Option<(f64, u64, i64)>,
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -49,9 +51,9 @@ fn range_for(q: Quantity, atmosphere_pa: f64) -> Range {
         Quantity::Power => Range { min_si: -500.0, max_si: none, below: "negative power", above: "" },
         Quantity::Flow => Range { min_si: -0.05 / 60.0, max_si: none, below: "negative flow", above: "" },
         Quantity::Pressure => Range {
-            min_si: -none,
+            min_si: atmosphere_pa - 0.1 * PA_PER_BAR,
             max_si: 100.0 * PA_PER_BAR + atmosphere_pa,
-            below: "",
+            below: "negative gauge pressure, below -0.1 bar g: a compressed-air line never runs below the atmosphere",
             above: "above 100 bar g",
         },
         Quantity::Temperature => Range {
@@ -100,6 +102,8 @@ impl QualityTracker {
                         flat_lines: Findings::default(),
                         out_of_range: Findings::default(),
                         counter_drops: Findings::default(),
+                        highest: None,
+                        implausible: Vec::new(),
                     },
                     conv: *conv,
                     display_unit,
@@ -107,6 +111,7 @@ impl QualityTracker {
                     run: None,
                     prev_counter: None,
                     range: range_for(c.quantity, atmosphere_pa),
+                    highest: None,
                 }
             })
             .collect();
@@ -206,6 +211,10 @@ impl QualityTracker {
                 *run = Some(Run { value: si, start_t: t_ms, last_t: t_ms, count: 1 });
             }
         }
+        // The highest reading, for the checks against the data sheets (formatted once, at the end).
+        if c.highest.is_none_or(|(h, _, _)| si > h) {
+            c.highest = Some((si, line, t_ms));
+        }
         // Range.
         if si < c.range.min_si || si > c.range.max_si {
             let reason = if si < c.range.min_si { c.range.below } else { c.range.above };
@@ -274,6 +283,13 @@ impl QualityTracker {
                 // row has none beyond the file's own.
                 c.q.gaps = c.intervals.report(median.or_else(|| c.intervals.median_ms()));
                 c.q.median_interval_s = c.intervals.median_ms().map(|m| m as f64 / 1000.0);
+                c.q.highest = c.highest.map(|(si, line, t)| Highest {
+                    line,
+                    time: format_utc_ms(t),
+                    value: c.conv.to_logged(si),
+                    unit: c.display_unit.clone(),
+                    si,
+                });
                 c.q
             })
             .collect();

@@ -157,6 +157,15 @@ impl QualityReport {
                     o.line
                 ));
             }
+            for i in &c.implausible {
+                w.push(format!(
+                    "{name}: implausible: {}; the highest is {} {} at line {}",
+                    i.reason,
+                    num(i.value),
+                    i.unit,
+                    i.line
+                ));
+            }
             if let Some(d) = c.counter_drops.examples.first() {
                 w.push(format!(
                     "{name}: the counter went down {} (first a {} at line {}, {} {} -> {} {})",
@@ -171,5 +180,81 @@ impl QualityReport {
             }
         }
         w
+    }
+}
+
+/// A file spanning less than this share of the audit's logged period (all its files together,
+/// this one included) is reported: its figures cannot describe the period (common practice; the
+/// threshold is ours).
+pub const SMALL_SHARE_OF_PERIOD: f64 = 0.25;
+
+/// Warnings on how a new file's span `[first, last]` (UTC ms) sits among the spans of the audit's
+/// other files: when it overlaps none of them in time (readings of different times cannot be added
+/// up into one system), and when it covers under [`SMALL_SHARE_OF_PERIOD`] of the logged period.
+pub fn span_warnings(this: (i64, i64), others: &[(i64, i64)]) -> Vec<String> {
+    use crate::ingest::timestamp::format_utc_ms as t;
+    let mut w = Vec::new();
+    if others.is_empty() {
+        return w;
+    }
+    let (first, last) = this;
+    if !others.iter().any(|&(a, b)| a <= last && b >= first) {
+        let (a, b) = others.iter().fold((i64::MAX, i64::MIN), |(a, b), &(x, y)| (a.min(x), b.max(y)));
+        w.push(format!(
+            "this file ({} to {}) does not overlap in time any other file of the audit ({} to {}): \
+             readings of different times cannot be combined into figures of one system",
+            t(first),
+            t(last),
+            t(a),
+            t(b)
+        ));
+    }
+    let start = others.iter().map(|o| o.0).fold(first, i64::min);
+    let end = others.iter().map(|o| o.1).fold(last, i64::max);
+    if end > start {
+        let share = (last - first) as f64 / (end - start) as f64;
+        if share < SMALL_SHARE_OF_PERIOD {
+            w.push(format!(
+                "this file covers {} % of the audit's logged period ({} to {}), under {:.0} %: \
+                 its channels are missing from most of the period",
+                crate::core::analysis::sufficiency::percent(share),
+                t(start),
+                t(end),
+                SMALL_SHARE_OF_PERIOD * 100.0
+            ));
+        }
+    }
+    w
+}
+
+#[cfg(test)]
+mod span_tests {
+    use super::*;
+
+    const DAY: i64 = 86_400_000;
+
+    #[test]
+    fn a_file_beside_the_others_in_time_is_reported_with_its_share() {
+        // Others: days 0-7; this file: day 20 to 21. No overlap; 1 day of a 21-day period is 4.8 %.
+        let w = span_warnings((20 * DAY, 21 * DAY), &[(0, 7 * DAY)]);
+        assert_eq!(w.len(), 2, "{w:?}");
+        assert!(w[0].starts_with("this file (1970-01-21T00:00:00Z to 1970-01-22T00:00:00Z) does not overlap"));
+        assert!(w[1].starts_with("this file covers 4.8 % of the audit's logged period"), "{}", w[1]);
+    }
+
+    #[test]
+    fn an_overlapping_file_of_the_same_week_gives_no_warning() {
+        assert!(span_warnings((DAY, 7 * DAY), &[(0, 7 * DAY)]).is_empty());
+        // The first file of an audit has nothing to be compared with.
+        assert!(span_warnings((0, DAY), &[]).is_empty());
+        // Two days of a week overlap but cover 2/7 = 28.6 %: above the 25 % threshold.
+        assert!(span_warnings((0, 2 * DAY), &[(0, 7 * DAY)]).is_empty());
+        // One day of it: 14.3 %, reported, though it overlaps.
+        let w = span_warnings((0, DAY), &[(0, 7 * DAY)]);
+        assert_eq!(w.len(), 1);
+        assert!(w[0].starts_with("this file covers 14.3 %"), "{w:?}");
+        // A minute of a year is 0.0002 %: said as under 0.1 %, never as 0.0 %.
+        let w = span_warnings((0, 60_000), &[(0, 365 * DAY)]);
+        assert!(w[0].starts_with("this file covers under 0.1 % of the audit's logged period"), "{w:?}");
     }
 }

@@ -16,6 +16,7 @@ use super::{
     BATCH,
 };
 use crate::core::basis::StoredForm;
+use crate::ingest::quality::{self, RatedMachine};
 use crate::ingest::{self, IngestError};
 use crate::store::audits::{bump, ms_to_rfc3339};
 use crate::store::chunk::Precision;
@@ -109,7 +110,7 @@ pub(super) async fn run_import(
     if let Some(e) = write_error {
         return Err(e);
     }
-    let (report, spans) = parsed.map_err(ImportError::Bad)?;
+    let (mut report, spans) = parsed.map_err(ImportError::Bad)?;
     // The original must be all there before the upload can be complete.
     if let Some(k) = keeper.take() {
         k.handle.await.map_err(|e| bad(format!("the original could not be kept: {e}"), None))??;
@@ -209,15 +210,44 @@ pub(super) async fn run_import(
     if readings == 0 {
         return Err(bad("the file holds no readings in the mapped columns".into(), None));
     }
+    let first = spans.iter().filter_map(|s| s.0).min();
+    let last = spans.iter().filter_map(|s| s.1).max();
+    // Readings implausible against the audit's data sheets, and how the file sits in time among the
+    // audit's other files (`ingest::quality`).
+    let rated: Vec<RatedMachine> =
+        sqlx::query("SELECT tag, rated_power_kw, rated_flow_m3_min FROM compressor WHERE audit_id = ?")
+            .bind(req.audit_id)
+            .fetch_all(&mut *tx)
+            .await?
+            .iter()
+            .map(|r| RatedMachine {
+                tag: r.get("tag"),
+                rated_power_kw: r.get("rated_power_kw"),
+                rated_flow_m3_min: r.get("rated_flow_m3_min"),
+            })
+            .collect();
+    report.quality.check_against_rated(&rated);
     let mut warnings = report.quality.warnings();
+    if let (Some(f), Some(l)) = (first, last) {
+        let others: Vec<(i64, i64)> = sqlx::query(
+            "SELECT first_ms, last_ms FROM upload WHERE audit_id = ? AND id != ? AND state = 'complete' \
+             AND first_ms IS NOT NULL AND last_ms IS NOT NULL",
+        )
+        .bind(req.audit_id)
+        .bind(upload_id)
+        .fetch_all(&mut *tx)
+        .await?
+        .iter()
+        .map(|r| (r.get("first_ms"), r.get("last_ms")))
+        .collect();
+        warnings.extend(quality::span_warnings((f, l), &others));
+    }
     if dropped_total > 0 {
         warnings.push(format!(
             "{dropped_total} readings at duplicate or out-of-order timestamps were dropped (the first reading of each time was kept)"
         ));
     }
     let quality = serde_json::to_value(&report.quality).unwrap_or_default();
-    let first = spans.iter().filter_map(|s| s.0).min();
-    let last = spans.iter().filter_map(|s| s.1).max();
     sqlx::query(
         "UPDATE upload SET state = 'complete', sha256 = ?, rows = ?, readings = ?, first_ms = ?, last_ms = ?, \
          quality = ?, warnings = ? WHERE id = ?",

@@ -105,7 +105,7 @@ pub async fn scenarios(
     let sm = st.app.summary(id, None).await?;
     let sm = sm.figures();
     // The replayed period's saving, scaled to the year like the audit's baseline.
-    let scale = sm.map_or(f64::NAN, |s| s.baseline.annual_energy_kwh / s.system.energy_kwh);
+    let scale = sm.map_or(f64::NAN, |s| nan(s.baseline.annual_energy_kwh) / s.system.energy_kwh);
     let offered_id = sm.and_then(|s| s.recommendations.iter().find_map(|r| r.scenario_id));
     let rev = b.audit.revision;
     let outcomes: Vec<ScenarioOutcome> = list.iter().map(ScenarioOutcome::of).collect();

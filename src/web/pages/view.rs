@@ -8,7 +8,7 @@ not have (`None`) shows as not available, as a NaN does.
 use serde_json::Value;
 
 use crate::app::AuditBundle;
-use crate::core::analysis::Summary;
+use crate::core::analysis::{Summary, Verdict};
 use crate::core::display::{num, render_parts, Fmt};
 use crate::core::model::human_label;
 use crate::core::recommend::CostSource;
@@ -68,9 +68,19 @@ pub struct LeakRow {
     pub automatic: bool,
 }
 
+/// The data-sufficiency verdict as the pages show it, before any annual figure.
+pub struct SufficiencyView {
+    /// `enough`, `thin` or `insufficient` (also the CSS class).
+    pub verdict: String,
+    /// One sentence saying what the verdict means for the figures below it.
+    pub headline: String,
+    pub reasons: Vec<String>,
+}
+
 /// Everything both report pages show.
 pub struct ReportView {
     pub has_data: bool,
+    pub sufficiency: SufficiencyView,
     pub period: String,
     pub coverage: String,
     pub flow_note: String,
@@ -112,6 +122,48 @@ fn figure_label(code: &str) -> String {
     words.to_string()
 }
 
+/// Shown in place of a figure the data cannot support.
+pub const NOT_ENOUGH_DATA: &str = "not enough data";
+
+/// The reason a figure was withheld: the entry for `prefix` itself, else the first whose path
+/// starts with it.
+/// With the verdict "insufficient" the reasons stand in the verdict above the figures, and are
+/// pointed to rather than repeated on every card.
+fn withheld(sm: &Summary, prefix: &str) -> String {
+    let all = &sm.sufficiency.withheld;
+    let w =
+        all.iter().find(|w| w.figure == prefix).or_else(|| all.iter().find(|w| w.figure.starts_with(prefix)));
+    match w {
+        Some(w) if w.reason.starts_with("not enough data") => {
+            "the logged data are not enough for annual figures (reasons above)".into()
+        }
+        Some(w) => w.reason.clone(),
+        None => "the data cannot support this figure".into(),
+    }
+}
+
+/// The verdict's words.
+fn sufficiency_view(sm: &Summary) -> SufficiencyView {
+    let s = &sm.sufficiency;
+    let headline = match s.verdict {
+        Verdict::Enough => "The logged data are enough for the annual figures below.",
+        Verdict::Thin => "The logged data are thin: the annual figures below are indicative only.",
+        Verdict::Insufficient => {
+            "The logged data are not enough for annual figures or measures: this report gives none."
+        }
+    };
+    SufficiencyView {
+        verdict: s.verdict.as_str().into(),
+        headline: headline.into(),
+        reasons: s.reasons.clone(),
+    }
+}
+
+/// A figure the data may not support: its formatted value, or "not enough data".
+fn or_nd(v: Option<f64>, f: impl Fn(f64) -> String) -> String {
+    v.map_or_else(|| NOT_ENOUGH_DATA.to_string(), f)
+}
+
 fn range(fmt_one: impl Fn(f64) -> String, v: f64, lo: f64, hi: f64) -> String {
     if lo.is_finite() && hi.is_finite() && hi > lo {
         format!("{} ({} to {})", fmt_one(v), fmt_one(lo), fmt_one(hi))
@@ -124,6 +176,7 @@ fn range(fmt_one: impl Fn(f64) -> String, v: f64, lo: f64, hi: f64) -> String {
 fn empty_view() -> ReportView {
     ReportView {
         has_data: false,
+        sufficiency: SufficiencyView { verdict: String::new(), headline: String::new(), reasons: vec![] },
         period: String::new(),
         coverage: String::new(),
         flow_note: String::new(),
@@ -188,6 +241,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
     );
     ReportView {
         has_data: true,
+        sufficiency: sufficiency_view(sm),
         period,
         coverage,
         flow_note,
@@ -218,80 +272,108 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
     let (sys, base, leaks, heat) = (&sm.system, &sm.baseline, &sm.leaks, &sm.heat);
     let estimated = sys.estimated;
     let money = |v: f64| fmt.money(v, cur);
+    let energy_note = match (base.annual_energy_kwh_low, base.annual_energy_kwh_high) {
+        (Some(lo), Some(hi)) => format!(
+            "range {} to {}; logged {}",
+            fmt.energy_kwh(lo),
+            fmt.energy_kwh(hi),
+            fmt.energy_kwh(sys.energy_kwh)
+        ),
+        _ => format!("{}; logged {}", withheld(sm, "baseline"), fmt.energy_kwh(sys.energy_kwh)),
+    };
+    let cost_note = match (base.annual_cost_low, base.annual_cost_high, base.annual_energy_cost) {
+        (Some(lo), Some(hi), Some(e)) => format!(
+            "range {} to {}; energy {} + demand charge {}",
+            money(lo),
+            money(hi),
+            money(e),
+            or_nd(base.annual_demand_charge, money)
+        ),
+        _ => withheld(sm, "baseline"),
+    };
     vec![
         FigureView {
             label: "Annual energy of the compressors".into(),
-            value: fmt.energy_kwh(base.annual_energy_kwh),
-            note: format!(
-                "range {} to {}; logged {}",
-                fmt.energy_kwh(base.annual_energy_kwh_low),
-                fmt.energy_kwh(base.annual_energy_kwh_high),
-                fmt.energy_kwh(sys.energy_kwh)
-            ),
+            value: or_nd(base.annual_energy_kwh, |v| fmt.energy_kwh(v)),
+            note: energy_note,
             estimated: false,
         },
         FigureView {
             label: "Annual cost of compressed air".into(),
-            value: money(base.annual_cost),
-            note: format!(
-                "range {} to {}; energy {} + demand charge {}",
-                money(base.annual_cost_low),
-                money(base.annual_cost_high),
-                money(base.annual_energy_cost),
-                money(base.annual_demand_charge)
-            ),
+            value: or_nd(base.annual_cost, money),
+            note: cost_note,
             estimated: false,
         },
         FigureView {
             label: "System specific power".into(),
-            value: fmt.specific_power(nan(sys.specific_power_kw_per_m3_min)),
-            note: format!(
-                "range {} to {}; data sheet {} ({} %)",
-                fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_low)),
-                fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_high)),
-                fmt.specific_power(nan(sys.rated_specific_power_kw_per_m3_min)),
-                num(nan(sys.specific_power_degradation_percent), 1)
-            ),
+            value: or_nd(sys.specific_power_kw_per_m3_min, |v| fmt.specific_power(v)),
+            note: if sys.specific_power_kw_per_m3_min.is_some() {
+                format!(
+                    "range {} to {}; data sheet {} ({} %)",
+                    fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_low)),
+                    fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_high)),
+                    fmt.specific_power(nan(sys.rated_specific_power_kw_per_m3_min)),
+                    num(nan(sys.specific_power_degradation_percent), 1)
+                )
+            } else {
+                withheld(sm, "system.specific_power")
+            },
             estimated,
         },
         FigureView {
             label: "Cost of air".into(),
-            value: fmt.air_cost(nan(base.cost_per_1000_m3), cur),
+            value: or_nd(base.cost_per_1000_m3, |v| fmt.air_cost(v, cur)),
             note: format!("at {} per kWh", fmt.money(base.electricity_price_per_kwh, cur)),
             estimated,
         },
         FigureView {
             label: "Leaks, share of demand".into(),
-            value: format!(
-                "{} ({})",
-                fmt.percent(nan(leaks.share_of_mean_demand)),
-                fmt.flow_m3_min(nan(leaks.adopted_leak_flow_m3_min))
-            ),
-            note: format!(
-                "{}; annual leak cost {} at the trim machine's marginal specific power",
-                leaks.band_description.as_deref().unwrap_or(""),
-                money(nan(leaks.annual_leak_cost))
-            ),
+            value: match (leaks.share_of_mean_demand, leaks.adopted_leak_flow_m3_min) {
+                (Some(sh), Some(q)) => format!("{} ({})", fmt.percent(sh), fmt.flow_m3_min(q)),
+                (None, Some(q)) => fmt.flow_m3_min(q),
+                _ => NOT_ENOUGH_DATA.into(),
+            },
+            // The parts that exist, joined: no stray separator when one is missing.
+            note: [
+                leaks.band_description.clone().unwrap_or_default(),
+                if leaks.adopted_leak_flow_m3_min.is_some() && leaks.share_of_mean_demand.is_none() {
+                    "share of demand not known: no mean flow to compare with".into()
+                } else {
+                    String::new()
+                },
+                leaks.annual_leak_cost.map_or_else(String::new, |c| {
+                    format!("annual leak cost {} at the trim machine's marginal specific power", money(c))
+                }),
+            ]
+            .into_iter()
+            .filter(|x| !x.is_empty())
+            .collect::<Vec<_>>()
+            .join("; "),
             estimated,
         },
         FigureView {
             label: "Heat discarded per year".into(),
-            value: fmt.energy_kwh(heat.annual_heat_rejected_kwh),
-            note: format!(
-                "recoverable {}; worth {} a year as displaced fuel",
-                fmt.energy_kwh(heat.annual_recoverable_kwh),
-                money(heat.annual_value)
-            ),
+            value: or_nd(heat.annual_heat_rejected_kwh, |v| fmt.energy_kwh(v)),
+            note: match (heat.annual_recoverable_kwh, heat.annual_value) {
+                (Some(r), Some(v)) => {
+                    format!("recoverable {}; worth {} a year as displaced fuel", fmt.energy_kwh(r), money(v))
+                }
+                _ => withheld(sm, "heat"),
+            },
             estimated: false,
         },
         FigureView {
             label: "Isothermal efficiency".into(),
-            value: fmt.percent(nan(sys.isothermal_efficiency)),
-            note: format!(
-                "range {} to {}: the share of input power the ideal isothermal compression needs",
-                fmt.percent(nan(sys.isothermal_efficiency_low)),
-                fmt.percent(nan(sys.isothermal_efficiency_high))
-            ),
+            value: or_nd(sys.isothermal_efficiency, |v| fmt.percent(v)),
+            note: if sys.isothermal_efficiency.is_some() {
+                format!(
+                    "range {} to {}: the share of input power the ideal isothermal compression needs",
+                    fmt.percent(nan(sys.isothermal_efficiency_low)),
+                    fmt.percent(nan(sys.isothermal_efficiency_high))
+                )
+            } else {
+                withheld(sm, "system.isothermal_efficiency")
+            },
             estimated,
         },
     ]
@@ -432,7 +514,15 @@ fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
         ),
         (
             "Mean and peak power".into(),
-            format!("{} / {}", fmt.power_kw(sys.mean_power_kw), fmt.power_kw(sys.peak_power_kw)),
+            match sys.peak_power_kw {
+                Some(p) => format!("{} / {}", fmt.power_kw(sys.mean_power_kw), fmt.power_kw(p)),
+                None => format!(
+                    "{} / peak: {} ({})",
+                    fmt.power_kw(sys.mean_power_kw),
+                    NOT_ENOUGH_DATA,
+                    withheld(sm, "system.peak_power_kw")
+                ),
+            },
         ),
     ]
 }
@@ -447,14 +537,18 @@ fn heat_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
             "Useful heat per year".into(),
             format!(
                 "{} ({})",
-                fmt.energy_kwh(h.useful_heat_kwh_per_year),
+                or_nd(h.useful_heat_kwh_per_year, |v| fmt.energy_kwh(v)),
                 h.use_kind.as_str().replace('_', " ")
             ),
         ),
-        ("Fuel displaced per year".into(), fmt.energy_kwh(h.displaced_fuel_kwh_per_year)),
+        ("Fuel displaced per year".into(), or_nd(h.displaced_fuel_kwh_per_year, |v| fmt.energy_kwh(v))),
         (
             "Value per year / as process water all year".into(),
-            format!("{} / {}", fmt.money(h.annual_value, cur), fmt.money(h.process_water_annual_value, cur)),
+            format!(
+                "{} / {}",
+                or_nd(h.annual_value, |v| fmt.money(v, cur)),
+                or_nd(h.process_water_annual_value, |v| fmt.money(v, cur))
+            ),
         ),
     ]
 }
@@ -511,6 +605,8 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
                 "low": e.leak_flow_m3_min_low * flow_k, "high": e.leak_flow_m3_min_high * flow_k})
         })
         .collect();
+    // A withheld annual figure is drawn as no bar (null), never as a number.
+    let mwh = |v: Option<f64>| v.map(|x| x / 1000.0);
     let input_kwh = sm.baseline.annual_energy_kwh;
     let h = &sm.heat;
     serde_json::json!({
@@ -537,7 +633,7 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
         "leaks": leaks,
         "heat_balance": {
             "labels": ["electrical input", "heat rejected", "recoverable", "used (displaces fuel)"],
-            "mwh": [input_kwh / 1000.0, h.annual_heat_rejected_kwh / 1000.0, h.annual_recoverable_kwh / 1000.0, h.useful_heat_kwh_per_year / 1000.0],
+            "mwh": [mwh(input_kwh), mwh(h.annual_heat_rejected_kwh), mwh(h.annual_recoverable_kwh), mwh(h.useful_heat_kwh_per_year)],
         },
     })
 }

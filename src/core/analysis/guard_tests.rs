@@ -1,0 +1,277 @@
+//! The data-sufficiency verdict and the invariants every summary keeps, on hand-made thin data and
+//! on randomised plants (proptest).
+
+use proptest::prelude::*;
+
+use super::*;
+use crate::core::model::Control;
+use crate::core::recommend::tests::site;
+use crate::core::recommend::{MeasureKind, Part, Quantity};
+use crate::core::series::{FrameColumn, Grid, Signal};
+use crate::core::states::tests::{cycling_power, spec};
+use crate::core::units::PressureAbs;
+
+/// 2026-03-02T00:00:00Z, a Monday.
+const MONDAY_MS: i64 = 1_772_409_600_000;
+const HOUR_BINS: usize = 360; // 10 s bins
+
+fn col(signal: Signal, compressor: Option<usize>, values: Vec<f32>) -> FrameColumn {
+    FrameColumn { signal, compressor, label: String::new(), values, partial: Vec::new() }
+}
+
+fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame) -> Summary {
+    let (costs, acc) = (CostOverrides::default(), Accuracy::default());
+    let input = AuditInput {
+        site: s,
+        compressors: cs,
+        leak_estimates: vec![LeakEstimate { test_id: 1, method: "bleed_down".into(), leak_flow_m3_min: 1.0 }],
+        costs: &costs,
+        scenarios: &[],
+        accuracy: &acc,
+    };
+    let sm = summary_of(&data_figures(frame, &DataSpec::of(s, cs)), &input);
+    // The verdict and the withheld figures read back from the JSON like every other figure.
+    let json = serde_json::to_value(&sm).unwrap();
+    let back: Summary = serde_json::from_value(json.clone()).unwrap();
+    assert_eq!(serde_json::to_value(&back).unwrap(), json);
+    sm
+}
+
+fn pa(bar_g: f64) -> f32 {
+    PressureAbs::from_bar_g(bar_g, site().air.atmosphere).0 as f32
+}
+
+/// `values` in `[from, to)` of an `n`-bin series, NaN elsewhere.
+fn only(n: usize, from: usize, to: usize, v: impl Fn(usize) -> f32) -> Vec<f32> {
+    (0..n).map(|k| if (from..to).contains(&k) { v(k) } else { f32::NAN }).collect()
+}
+
+/// Every invariant of the module doc, on one summary.
+fn check_invariants(sm: &Summary) -> Result<(), TestCaseError> {
+    let sys = &sm.system;
+    if let Some(peak) = sys.peak_power_kw {
+        prop_assert!(peak + 1e-9 >= sys.mean_power_kw, "peak {peak} kW below mean {} kW", sys.mean_power_kw);
+    }
+    prop_assert!(
+        sys.peak_flow_m3_min + 1e-6 >= sys.mean_flow_m3_min,
+        "peak flow {} below mean {}",
+        sys.peak_flow_m3_min,
+        sys.mean_flow_m3_min
+    );
+    let low = sm.pressure.low_limit_bar_g.unwrap_or(0.0).max(0.0);
+    for r in &sm.recommendations {
+        if r.kind == MeasureKind::LowerPressure {
+            let target = r.text.title.iter().rev().find_map(|p| match p {
+                Part::Figure { quantity: Quantity::PressureBarG, value } => Some(*value),
+                _ => None,
+            });
+            let target = target.expect("the pressure measure names its target");
+            prop_assert!(target >= low - 1e-12, "target {target} bar(g) below {low}");
+        }
+        if r.electricity {
+            let annual = sm.baseline.annual_energy_kwh.expect("a measure only with annual figures");
+            prop_assert!(
+                r.annual_energy_saving_kwh <= annual * (1.0 + 1e-12),
+                "{:?} saves {} of {annual} kWh",
+                r.kind,
+                r.annual_energy_saving_kwh
+            );
+        }
+    }
+    match sm.sufficiency.verdict {
+        Verdict::Insufficient => {
+            prop_assert!(sm.baseline.annual_energy_kwh.is_none() && sm.baseline.annual_cost.is_none());
+            prop_assert!(sm.recommendations.is_empty());
+            prop_assert!(!sm.sufficiency.reasons.is_empty());
+        }
+        Verdict::Thin => prop_assert!(!sm.sufficiency.reasons.is_empty()),
+        Verdict::Enough => prop_assert!(sm.sufficiency.reasons.is_empty()),
+    }
+    Ok(())
+}
+
+#[test]
+fn compressors_logged_at_different_times_are_insufficient_and_give_no_annual_figure() {
+    // C1 logged on Monday 08:00-10:00, C2 on Thursday: their sum, the plant, was never seen.
+    let s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5), spec("C2", Control::LoadUnload, 37.0, 6.0)];
+    let n = 4 * 24 * HOUR_BINS;
+    let c1 = cycling_power(55.0, 40, 160, 96);
+    let c2 = cycling_power(37.0, 60, 140, 96);
+    let (a, b) = (8 * HOUR_BINS, 10 * HOUR_BINS);
+    let (c, d) = (3 * 24 * HOUR_BINS + a, 3 * 24 * HOUR_BINS + b);
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![
+            col(Signal::Power, Some(0), only(n, a, b, |k| c1[k])),
+            col(Signal::Power, Some(1), only(n, c, d, |k| c2[k])),
+            // A pressure log of another system: 0.1 bar(g) with dips below the atmosphere.
+            col(Signal::Pressure, None, only(n, c, d, |k| pa(if k % 50 == 0 { -0.4 } else { 0.1 }))),
+        ],
+    };
+    let sm = run(&s, &cs, &frame);
+    assert_eq!(sm.sufficiency.verdict, Verdict::Insufficient, "{:?}", sm.sufficiency);
+    assert!(sm.sufficiency.reasons[0].contains("logged together for 0.0 h"), "{:?}", sm.sufficiency.reasons);
+    assert_eq!(sm.sufficiency.pressure_credible, Some(false));
+    assert!(sm.sufficiency.reasons.iter().any(|r| r.contains("below the atmosphere")));
+    assert_eq!(sm.baseline.annual_energy_kwh, None);
+    assert_eq!(sm.baseline.annual_cost, None);
+    assert_eq!(sm.heat.annual_value, None);
+    assert!(sm.compressors.iter().all(|c| c.annual_energy_kwh.is_none()));
+    assert_eq!(sm.leaks.annual_leak_cost, None);
+    assert!(sm.recommendations.is_empty());
+    // The mean is the sum of the machines' means; no 15-minute window holds both: no peak.
+    assert!(sm.system.mean_power_kw > 0.0);
+    assert_eq!(sm.system.peak_power_kw, None);
+    let figures: Vec<&str> = sm.sufficiency.withheld.iter().map(|w| w.figure.as_str()).collect();
+    for f in
+        ["baseline", "heat", "recommendations", "system.peak_power_kw", "recommendations[lower_pressure]"]
+    {
+        assert!(figures.contains(&f), "{f} not in {figures:?}");
+    }
+    // The logged energy itself is a measurement and stays.
+    assert!(sm.system.energy_kwh > 0.0);
+}
+
+#[test]
+fn files_far_apart_in_time_are_insufficient() {
+    // Two hours of the same machine on the 1st and the 20th day: power covers 0.9 % of the period.
+    let s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let n = 20 * 24 * HOUR_BINS;
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![col(
+            Signal::Power,
+            Some(0),
+            (0..n).map(|k| if k < HOUR_BINS || k >= n - HOUR_BINS { 40_000.0 } else { f32::NAN }).collect(),
+        )],
+    };
+    let sm = run(&s, &cs, &frame);
+    assert_eq!(sm.sufficiency.verdict, Verdict::Insufficient);
+    assert!(
+        sm.sufficiency.reasons[0].starts_with("power covers 0.4 % of the logged period"),
+        "{:?}",
+        sm.sufficiency
+    );
+    assert_eq!(sm.baseline.annual_energy_kwh, None);
+}
+
+#[test]
+fn a_day_of_coherent_logging_is_thin_and_keeps_its_annual_figures() {
+    // One day of power, flow and pressure together: every figure, with the reason it is thin.
+    let s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let n = 24 * HOUR_BINS;
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![
+            col(Signal::Power, Some(0), cycling_power(55.0, 80, 120, 24)),
+            col(Signal::Flow, None, vec![(5.0f64 / 60.0) as f32; n]),
+            col(Signal::Pressure, None, vec![pa(7.0); n]),
+        ],
+    };
+    let sm = run(&s, &cs, &frame);
+    assert_eq!(sm.sufficiency.verdict, Verdict::Thin, "{:?}", sm.sufficiency);
+    assert_eq!(sm.sufficiency.reasons.len(), 1, "{:?}", sm.sufficiency.reasons);
+    assert!(sm.sufficiency.reasons[0].starts_with("1.0 days of logging on 1 of the 7 weekdays"));
+    assert!(sm.sufficiency.withheld.is_empty(), "{:?}", sm.sufficiency.withheld);
+    assert!(sm.baseline.annual_energy_kwh.is_some() && sm.system.specific_power_kw_per_m3_min.is_some());
+    assert_eq!(sm.sufficiency.pressure_credible, Some(true));
+    assert!(!sm.recommendations.is_empty());
+    check_invariants(&sm).unwrap();
+}
+
+#[test]
+fn flow_logged_at_another_time_than_power_gives_no_specific_power() {
+    // Power on the first day, the flow meter on the second: no ratio of the two is a specific power.
+    let s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let n = 48 * HOUR_BINS;
+    let day = 24 * HOUR_BINS;
+    let p = cycling_power(55.0, 80, 120, 48);
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![
+            col(Signal::Power, Some(0), only(n, 0, day, |k| p[k])),
+            col(Signal::Flow, None, only(n, day, n, |_| (5.0f64 / 60.0) as f32)),
+        ],
+    };
+    let sm = run(&s, &cs, &frame);
+    assert_eq!(sm.sufficiency.power_flow_hours, Some(0.0));
+    assert_eq!(sm.system.specific_power_kw_per_m3_min, None);
+    assert_eq!(sm.baseline.cost_per_1000_m3, None);
+    assert!(sm
+        .sufficiency
+        .reasons
+        .iter()
+        .any(|r| r.starts_with("flow was logged together with power in 0 %")));
+}
+
+/// A randomised plant: 1 to 3 machines with random data sheets, a log of 1 h to 9 days on 60 s bins,
+/// each machine logged in its own window (perhaps not overlapping the others), and a flow meter and a
+/// pressure transmitter that may be missing, offset in time, or reading nonsense.
+fn plant() -> impl Strategy<Value = (Vec<CompressorSpec>, Frame)> {
+    let machine = (10.0f64..250.0, 0.12f64..0.25, 5.5f64..12.0, 0u8..3, 0.1f64..0.9, 60usize..1200);
+    (
+        prop::collection::vec(machine, 1..=3),
+        60usize..(9 * 24 * 60),
+        prop::collection::vec((0.0f64..1.0, 0.0f64..1.0), 3),
+        (any::<bool>(), -1.0f64..12.0, 0.0f64..3.0),
+        (any::<bool>(), 0.0f64..1.0),
+    )
+        .prop_map(|(machines, n, windows, (has_p, p_bar, p_swing), (has_q, q_share))| {
+            let mut cs = Vec::new();
+            let mut columns = Vec::new();
+            let mut rated_flow = 0.0;
+            for (i, &(kw, kw_per_m3, bar, ctl, load, period_s)) in machines.iter().enumerate() {
+                let control = [Control::LoadUnload, Control::Modulation, Control::StartStop][ctl as usize];
+                let mut c = spec(&format!("C{}", i + 1), control, kw, kw / (kw_per_m3 * 60.0));
+                c.rated_pressure_bar_g = bar;
+                rated_flow += c.rated_flow_m3_min;
+                let (w0, w1) = windows[i];
+                let (a, b) = ((w0.min(w1) * n as f64) as usize, (w0.max(w1) * n as f64) as usize + 1);
+                let period = (period_s / 60).max(2);
+                let loaded = ((load * period as f64) as usize).max(1);
+                columns.push(col(
+                    Signal::Power,
+                    Some(i),
+                    only(
+                        n,
+                        a,
+                        b.min(n),
+                        |k| if k % period < loaded { kw * 1000.0 } else { kw * 250.0 } as f32,
+                    ),
+                ));
+                cs.push(c);
+            }
+            if has_q {
+                let q = q_share * rated_flow / 60.0;
+                let start = (windows[2].0 * n as f64) as usize;
+                columns.push(col(
+                    Signal::Flow,
+                    None,
+                    only(n, start, n, |k| (q * (1.0 + 0.3 * ((k % 7) as f64 / 7.0))) as f32),
+                ));
+            }
+            if has_p {
+                let start = (windows[2].1 * n as f64) as usize;
+                columns.push(col(
+                    Signal::Pressure,
+                    None,
+                    only(n, start, n, |k| pa(p_bar + p_swing * ((k % 13) as f64 / 13.0 - 0.5))),
+                ));
+            }
+            (cs, Frame { grid: Grid { start_ms: MONDAY_MS, step_ms: 60_000, len: n }, columns })
+        })
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 48, ..ProptestConfig::default() })]
+
+    #[test]
+    fn every_summary_of_a_random_plant_keeps_the_invariants((cs, frame) in plant()) {
+        let sm = run(&site(), &cs, &frame);
+        check_invariants(&sm)?;
+    }
+}

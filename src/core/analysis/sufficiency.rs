@@ -1,0 +1,355 @@
+/*!
+Data sufficiency: whether the logged data can carry the annual figures, and which figures they
+cannot support at all. The verdict (`summary.sufficiency`, API.md) is worked out before any annual
+figure is priced; a figure the data cannot support is set to `null` with its reason
+([`Withheld`]), never shown as a number.
+
+ISO 11011 (compressed-air energy assessment) asks for measurements over a period representative of
+the plant's operation, without fixing its length. Common practice (not a standard) is to log at
+least one full production week, so that every shift, the weekend and the night are seen. The rules
+below turn that into checks a practitioner can verify from the coverage the report prints. "Power
+hours" are the hours in which every compressor with a power column was logged together: the system
+figures add the machines up, so only those hours show the plant as one system.
+
+**Insufficient** (no annual figure, no measure; the reasons say what is missing):
+- no compressor power was logged: every energy and cost figure rests on power;
+- power hours under [`MIN_POWER_HOURS`] (1 h): not even a few load/unload cycles of a trim machine
+  (common practice) were seen together, so the plant's demand is unknown — this is the case of
+  machines logged at different times, whose sum was never observed;
+- power covering under [`MIN_PERIOD_COVERAGE`] (10 %) of the logged period: the files lie far apart in
+  time (different weeks, seasons or years, or files of another system), and one annual figure would
+  mix them. A window (`?from=&to=`) around one stretch of logging can be analysed on its own.
+
+**Thin** (annual figures given, to be read as indicative; each reason is listed):
+- power hours under [`FULL_WEEK_HOURS`] (167 h: a logger week rarely spans exactly 168 h, the same
+  allowance as the baseline's weekly rule), or fewer than 7 weekdays logged: less than the full
+  production week of common practice; the annual figure repeats what was seen;
+- power covering under [`THIN_PERIOD_COVERAGE`] (50 %) of the logged period: the files leave large
+  gaps or overlap little;
+- flow measured but logged together with power in under [`MIN_OVERLAP_SHARE`] (50 %) of the power
+  hours; the same for the header pressure;
+- a header pressure log that is not credible (below).
+
+**Withheld figures** (whatever the verdict):
+- specific power, its range, the cost of air, the isothermal efficiency and the specific-power
+  degradation when a flow meter was logged but overlaps power for under [`MIN_OVERLAP_HOURS`]
+  (30 min): a ratio of power and flow of different times means nothing;
+- the isothermal efficiency and the pressure measure when the pressure log is not credible: a
+  reading below [`MIN_CREDIBLE_BAR_G`] (-0.1 bar(g): a compressed-air header never runs below the
+  atmosphere; 0.1 bar allows for a transmitter's zero error), or a median below half the lowest
+  rated pressure of the compressors (a header that low is not the header of this plant, or the unit
+  or the zero of the column is wrong; common practice);
+- the peak power when no 15-minute window holds every compressor's power, or when that peak falls
+  below the mean power (the machines' logs do not overlap enough for a simultaneous peak); the
+  demand charge, and with it the annual cost, when a demand charge is set and the peak is withheld;
+- with the verdict insufficient: every annual figure (baseline, heat, compressors, leak cost) and
+  every measure.
+*/
+
+use crate::core::series::Grid;
+
+use super::calendar::NO_CELL;
+use super::figures::{PressureFigures, Sufficiency, Summary, Verdict, Withheld};
+
+/// Below this many power hours the data are insufficient (module doc).
+pub const MIN_POWER_HOURS: f64 = 1.0;
+/// Below this many power hours the data are thin: less than a full week (module doc).
+pub const FULL_WEEK_HOURS: f64 = 167.0;
+/// Below this share of the logged period covered by power the data are insufficient.
+pub const MIN_PERIOD_COVERAGE: f64 = 0.10;
+/// Below this share of the logged period covered by power the data are thin.
+pub const THIN_PERIOD_COVERAGE: f64 = 0.50;
+/// Below this share of the power hours with flow (or pressure) logged too the data are thin.
+pub const MIN_OVERLAP_SHARE: f64 = 0.50;
+/// Below this many hours of power and measured flow together, specific power is withheld.
+pub const MIN_OVERLAP_HOURS: f64 = 0.5;
+/// A header reading below this gauge pressure makes the pressure log not credible, bar(g).
+pub const MIN_CREDIBLE_BAR_G: f64 = -0.1;
+
+/// Bins with the signals together, counted in one pass by [`overlap`].
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub(super) struct Overlap {
+    pub step_s: f64,
+    pub bins: usize,
+    /// Bins with every compressor's power.
+    pub power: usize,
+    /// Bins with power and measured flow (`None`: flow not measured).
+    pub power_flow: Option<usize>,
+    /// Bins with power and header pressure (`None`: no pressure).
+    pub power_pressure: Option<usize>,
+    /// Bit `d` set when weekday `d` (Monday 0, site time) has power.
+    pub weekdays: u8,
+}
+
+impl Overlap {
+    fn hours(&self, bins: usize) -> f64 {
+        bins as f64 * self.step_s / 3600.0
+    }
+}
+
+/// Count the bins with power, flow and pressure together. `measured_flow` is `None` when the flow is
+/// estimated from the compressors' states (it then always overlaps power).
+pub(super) fn overlap(
+    grid: &Grid,
+    cells: &[u8],
+    total_power: Option<&[f32]>,
+    measured_flow: Option<&[f32]>,
+    pressure: Option<&[f32]>,
+) -> Overlap {
+    let mut o = Overlap {
+        step_s: grid.step_s(),
+        bins: grid.len,
+        power_flow: measured_flow.map(|_| 0),
+        power_pressure: pressure.map(|_| 0),
+        ..Default::default()
+    };
+    let Some(p) = total_power else { return o };
+    for (k, v) in p.iter().enumerate() {
+        if !v.is_finite() {
+            continue;
+        }
+        o.power += 1;
+        if let Some(c) = cells.get(k).filter(|&&c| c != NO_CELL) {
+            o.weekdays |= 1 << (c / 24);
+        }
+        if let (Some(n), Some(q)) = (o.power_flow.as_mut(), measured_flow) {
+            *n += usize::from(q[k].is_finite());
+        }
+        if let (Some(n), Some(pr)) = (o.power_pressure.as_mut(), pressure) {
+            *n += usize::from(pr[k].is_finite());
+        }
+    }
+    o
+}
+
+/// Whether the header pressure log is credible, and why not (module doc). `None`: nothing logged.
+pub(super) fn pressure_credible(
+    p: &PressureFigures,
+    lowest_rated_bar_g: Option<f64>,
+) -> Option<Result<(), String>> {
+    if !p.logged {
+        return None;
+    }
+    if let Some(min) = p.min_bar_g.filter(|&m| m < MIN_CREDIBLE_BAR_G) {
+        return Some(Err(format!(
+            "the pressure log goes down to {min:.2} bar(g), below the atmosphere: a compressed-air header \
+             never does, so the column is not a header pressure or its unit or zero is wrong"
+        )));
+    }
+    if let (Some(med), Some(rated)) = (p.p50_bar_g, lowest_rated_bar_g) {
+        if med < 0.5 * rated {
+            return Some(Err(format!(
+                "the median logged pressure {med:.2} bar(g) is under half the lowest rated pressure of \
+                 the compressors ({rated:.2} bar(g)): it is not this plant's header, or its unit or zero \
+                 is wrong"
+            )));
+        }
+    }
+    Some(Ok(()))
+}
+
+/// The verdict and its reasons (module doc), before any figure is withheld.
+pub(super) fn assess(o: &Overlap, power_logged: bool, pressure: Option<&Result<(), String>>) -> Sufficiency {
+    let power_h = o.hours(o.power);
+    let total_h = o.hours(o.bins);
+    let share = if o.bins == 0 { 0.0 } else { o.power as f64 / o.bins as f64 };
+    let weekdays = o.weekdays.count_ones();
+    let mut insufficient = Vec::new();
+    let mut thin = Vec::new();
+    if !power_logged {
+        insufficient
+            .push("no compressor power was logged: energy, cost and every measure rest on it".to_string());
+    } else if power_h < MIN_POWER_HOURS {
+        insufficient.push(format!(
+            "the compressors' power was logged together for {power_h:.1} h (less than {MIN_POWER_HOURS:.0} h): \
+             the plant's demand as one system was never seen"
+        ));
+    } else if share < MIN_PERIOD_COVERAGE {
+        insufficient.push(format!(
+            "power covers {} % of the logged period ({:.0} h of {:.0} h, under {:.0} %): the files lie far \
+             apart in time and one annual figure would mix them; analyse one stretch of logging at a time",
+            percent(share),
+            power_h,
+            total_h,
+            MIN_PERIOD_COVERAGE * 100.0
+        ));
+    }
+    if power_logged && power_h >= MIN_POWER_HOURS {
+        if power_h < FULL_WEEK_HOURS || weekdays < 7 {
+            thin.push(format!(
+                "{:.1} days of logging on {weekdays} of the 7 weekdays; common practice is at least one \
+                 full production week, so that every shift and the weekend are seen",
+                power_h / 24.0
+            ));
+        }
+        if (MIN_PERIOD_COVERAGE..THIN_PERIOD_COVERAGE).contains(&share) {
+            thin.push(format!(
+                "power covers {:.0} % of the logged period (under {:.0} %): the files leave large gaps",
+                share * 100.0,
+                THIN_PERIOD_COVERAGE * 100.0
+            ));
+        }
+        for (what, n) in [("flow", o.power_flow), ("header pressure", o.power_pressure)] {
+            if let Some(n) = n {
+                let s = n as f64 / o.power as f64;
+                if s < MIN_OVERLAP_SHARE {
+                    thin.push(format!(
+                        "{what} was logged together with power in {:.0} % of the power hours (under {:.0} %)",
+                        s * 100.0,
+                        MIN_OVERLAP_SHARE * 100.0
+                    ));
+                }
+            }
+        }
+    }
+    if let Some(Err(why)) = pressure {
+        thin.push(why.clone());
+    }
+    let verdict = if !insufficient.is_empty() {
+        Verdict::Insufficient
+    } else if !thin.is_empty() {
+        Verdict::Thin
+    } else {
+        Verdict::Enough
+    };
+    insufficient.extend(thin);
+    Sufficiency {
+        verdict,
+        reasons: insufficient,
+        withheld: Vec::new(),
+        power_hours: power_h,
+        power_flow_hours: o.power_flow.map(|n| o.hours(n)),
+        power_pressure_hours: o.power_pressure.map(|n| o.hours(n)),
+        weekdays_logged: weekdays,
+        pressure_credible: pressure.map(Result::is_ok),
+    }
+}
+
+/// Record `figure` as withheld, once (the first rule that withholds it gives its reason).
+fn withhold(w: &mut Vec<Withheld>, figure: &str, reason: &str) {
+    if !w.iter().any(|x| x.figure == figure) {
+        w.push(Withheld { figure: figure.into(), reason: reason.into() });
+    }
+}
+
+/// A share in percent for people: one decimal, and "under 0.1" for a share that is not zero but
+/// would print as 0.0 (the issue's "0.0 % coverage" hid that something was logged).
+pub fn percent(share: f64) -> String {
+    let p = share * 100.0;
+    if p > 0.0 && p < 0.05 {
+        "under 0.1".into()
+    } else {
+        format!("{p:.1}")
+    }
+}
+
+/// Set to `None` every figure of `s` the data cannot support (module doc), recording each with its
+/// reason in `s.sufficiency.withheld`. `demand_charge_set`: the site bills peak demand.
+pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
+    let mut w = std::mem::take(&mut s.sufficiency.withheld);
+    let (power_flow_hours, pressure_credible, verdict) =
+        (s.sufficiency.power_flow_hours, s.sufficiency.pressure_credible, s.sufficiency.verdict);
+    // Specific power needs power and measured flow at the same times.
+    if let Some(h) = power_flow_hours.filter(|&h| h < MIN_OVERLAP_HOURS) {
+        let why = format!(
+            "power and measured flow were logged together for {h:.1} h (less than {:.0} min)",
+            MIN_OVERLAP_HOURS * 60.0
+        );
+        let sys = &mut s.system;
+        for (f, v) in [
+            ("system.specific_power_kw_per_m3_min", &mut sys.specific_power_kw_per_m3_min),
+            ("system.isothermal_efficiency", &mut sys.isothermal_efficiency),
+            ("baseline.cost_per_1000_m3", &mut s.baseline.cost_per_1000_m3),
+        ] {
+            *v = None;
+            withhold(&mut w, f, &why);
+        }
+        sys.specific_power_kw_per_m3_min_low = None;
+        sys.specific_power_kw_per_m3_min_high = None;
+        sys.specific_power_kw_per_100cfm = None;
+        sys.specific_power_kwh_per_m3 = None;
+        sys.specific_power_degradation_percent = None;
+        sys.isothermal_efficiency_low = None;
+        sys.isothermal_efficiency_high = None;
+        sys.part_load_curve.clear();
+        s.baseline.cost_per_1000_ft3 = None;
+    }
+    if pressure_credible == Some(false) {
+        let why = "the pressure log is not credible: it cannot be this plant's header pressure";
+        let sys = &mut s.system;
+        sys.isothermal_efficiency = None;
+        withhold(&mut w, "system.isothermal_efficiency", why);
+        sys.isothermal_efficiency_low = None;
+        sys.isothermal_efficiency_high = None;
+        withhold(&mut w, "recommendations[lower_pressure]", why);
+    }
+    // A peak is never below the mean.
+    match s.system.peak_power_kw {
+        Some(p) if p + 1e-9 >= s.system.mean_power_kw => {}
+        Some(_) | None => {
+            s.system.peak_power_kw = None;
+            let why = if s.system.mean_power_kw > 0.0 {
+                "the compressors' power logs do not overlap enough for a simultaneous 15-minute peak"
+            } else {
+                "no compressor power was logged"
+            };
+            withhold(&mut w, "system.peak_power_kw", why);
+            if demand_charge_set {
+                let b = &mut s.baseline;
+                b.annual_demand_charge = None;
+                b.annual_cost = None;
+                b.annual_cost_low = None;
+                b.annual_cost_high = None;
+                withhold(&mut w, "baseline.annual_cost", "the demand charge needs the peak power, withheld");
+            }
+        }
+    }
+    if verdict == Verdict::Insufficient {
+        // The first reason names what is missing; all of them are in `sufficiency.reasons`.
+        let why = format!("not enough data: {}", s.sufficiency.reasons.first().map_or("", String::as_str));
+        let b = &mut s.baseline;
+        for f in [
+            &mut b.annual_energy_kwh,
+            &mut b.annual_energy_kwh_low,
+            &mut b.annual_energy_kwh_high,
+            &mut b.annual_energy_cost,
+            &mut b.annual_demand_charge,
+            &mut b.annual_cost,
+            &mut b.annual_cost_low,
+            &mut b.annual_cost_high,
+            &mut b.annual_co2_t,
+        ] {
+            *f = None;
+        }
+        withhold(&mut w, "baseline", &why);
+        let h = &mut s.heat;
+        for f in [
+            &mut h.annual_heat_rejected_kwh,
+            &mut h.annual_recoverable_kwh,
+            &mut h.useful_heat_kwh_per_year,
+            &mut h.displaced_fuel_kwh_per_year,
+            &mut h.annual_value,
+            &mut h.process_water_annual_value,
+        ] {
+            *f = None;
+        }
+        withhold(&mut w, "heat", &why);
+        for c in &mut s.compressors {
+            c.annual_energy_kwh = None;
+            c.annual_heat_rejected_kwh = None;
+            c.annual_recoverable_kwh = None;
+        }
+        withhold(&mut w, "compressors[].annual_energy_kwh", &why);
+        let l = &mut s.leaks;
+        l.annual_leak_energy_kwh = None;
+        l.annual_leak_cost = None;
+        l.annual_leak_cost_low = None;
+        l.annual_leak_cost_high = None;
+        withhold(&mut w, "leaks.annual_leak_cost", &why);
+        if !s.recommendations.is_empty() {
+            s.recommendations.clear();
+        }
+        withhold(&mut w, "recommendations", &why);
+    }
+    s.sufficiency.withheld = w;
+}
