@@ -25,6 +25,7 @@ Architecture invariant: `core` imports nothing from `store`, `ingest` or `web`.
 pub mod air;
 pub mod analysis;
 pub mod costs;
+pub mod datasheet;
 pub mod display;
 pub mod fieldtest;
 pub mod heat;

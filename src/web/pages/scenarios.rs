@@ -112,7 +112,7 @@ pub async fn scenarios(State(st): State<AppState>, Path(id): Path<i64>) -> Resul
         .collect();
     Ok(render(&ScenariosPage {
         page_data: serde_json::json!({"audit_id": id, "traces": traces}),
-        compressors: b.compressors.iter().map(|c| c.tag.clone()).collect(),
+        compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         rows,
         audit: b.audit,
     }))

@@ -482,7 +482,7 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
     let rated_points: Vec<Value> = b
         .compressors
         .iter()
-        .map(|c| serde_json::json!({"x": c.rated_flow_m3_min * flow_k, "y": c.to_spec().rated_specific_power_kw_per_m3_min() * sp_k, "label": c.tag}))
+        .map(|c| serde_json::json!({"x": c.spec.rated_flow_m3_min * flow_k, "y": c.to_spec().rated_specific_power_kw_per_m3_min() * sp_k, "label": c.spec.tag}))
         .collect();
     let channels: Vec<Value> = b
         .channels
