@@ -30,6 +30,7 @@ pub mod display;
 pub mod fieldtest;
 pub mod heat;
 pub mod leaks;
+pub mod levels;
 pub mod model;
 pub mod recommend;
 pub mod safety;

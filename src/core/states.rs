@@ -122,9 +122,14 @@ pub fn thresholds(spec: &CompressorSpec) -> Thresholds {
     }
 }
 
-/// Classify each bin of a power column (W).
+/// Classify each bin of a power column (W) on the data sheet's thresholds.
 pub fn classify(spec: &CompressorSpec, power_w: &[f32]) -> Vec<State> {
-    let t = thresholds(spec);
+    classify_with(&thresholds(spec), power_w)
+}
+
+/// Classify each bin of a power column (W) on given thresholds (the data sheet's, or those of the
+/// levels found in the data: `core::levels`).
+pub fn classify_with(t: &Thresholds, power_w: &[f32]) -> Vec<State> {
     power_w
         .iter()
         .map(|&p| {
