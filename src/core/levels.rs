@@ -15,11 +15,13 @@ read unloaded running as loaded.
    `top` are not running (a logger's noise floor, common practice).
 2. The running bins are split in two by Otsu's method (N. Otsu, "A threshold selection method from
    gray-level histograms", IEEE Trans. SMC 9(1), 1979: the split that maximises the between-class
-   variance). The two classes are two levels when they are well apart: the between-class share of
-   the variance η ≥ 0.80 (a single normal mode gives 2/π ≈ 0.64, a flat spread 0.75) and the lower
-   mean is at most 85 % of the upper. Then **unloaded** = the lower class's mean, **loaded** = the
-   upper class's mean.
-3. Otherwise the running bins form one level `m`; the data sheet decides which: loaded when `m` is
+   variance). Each class's level is its median, its spread the median absolute deviation (MAD): robust
+   to the few bins that a logger's interval catches between two levels (starts, blow-down). The two
+   classes are two levels when they are well apart (our judgement): the lower median at most 85 %
+   of the upper, and the gap between them above 4 × the sum of their MADs (one normal mode split in
+   two gives about 1.7, a flat spread 1.0). Then **unloaded** = the lower median, **loaded** = the
+   upper median.
+3. Otherwise the running bins form one level `m` (their median); the data sheet decides which: loaded when `m` is
    above the midpoint of the data sheet's unloaded and full-load power, else unloaded. The missing
    level comes from the data sheet: the unloaded fraction × the loaded level found, or the rated
    power.
@@ -39,8 +41,8 @@ use super::states::{self, State, Thresholds};
 
 /// Running below this share of the robust top is not running (step 1).
 const RUNNING_FROM_SHARE_OF_TOP: f64 = 0.03;
-/// Least between-class share of variance for two running levels (step 2).
-const MIN_SEPARABILITY: f64 = 0.80;
+/// Least gap between two running levels, in sums of their MADs (step 2).
+const MIN_GAP_IN_MADS: f64 = 4.0;
 /// Largest lower/upper ratio of two running levels (step 2).
 const MAX_LEVEL_RATIO: f64 = 0.85;
 
@@ -72,18 +74,13 @@ pub struct Found {
     pub thresholds: Thresholds,
 }
 
-/// Otsu's split of sorted values: (lower mean, upper mean, between-class share of variance).
-fn otsu(sorted: &[f64]) -> Option<(f64, f64, f64)> {
+/// Otsu's split of sorted values: the index of the first value of the upper class.
+fn otsu(sorted: &[f64]) -> Option<usize> {
     let n = sorted.len();
     if n < 2 {
         return None;
     }
     let total: f64 = sorted.iter().sum();
-    let mean = total / n as f64;
-    let var_t: f64 = sorted.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / n as f64;
-    if var_t <= 0.0 {
-        return None;
-    }
     let (mut best, mut best_k, mut run) = (-1.0, 0, 0.0);
     for k in 1..n {
         run += sorted[k - 1];
@@ -99,12 +96,33 @@ fn otsu(sorted: &[f64]) -> Option<(f64, f64, f64)> {
             best_k = k;
         }
     }
-    if best_k == 0 {
-        return None;
+    (best_k > 0).then_some(best_k)
+}
+
+/// Median of sorted values.
+fn median(sorted: &[f64]) -> f64 {
+    let n = sorted.len();
+    if n % 2 == 1 {
+        sorted[n / 2]
+    } else {
+        0.5 * (sorted[n / 2 - 1] + sorted[n / 2])
     }
-    let low: f64 = sorted[..best_k].iter().sum::<f64>() / best_k as f64;
-    let high: f64 = sorted[best_k..].iter().sum::<f64>() / (n - best_k) as f64;
-    Some((low, high, best / var_t))
+}
+
+/// Median and median absolute deviation of sorted values.
+fn median_mad(sorted: &[f64]) -> (f64, f64) {
+    let m = median(sorted);
+    let mut dev: Vec<f64> = sorted.iter().map(|x| (x - m).abs()).collect();
+    dev.sort_by(f64::total_cmp);
+    (m, median(&dev))
+}
+
+/// Two running levels (lower, upper) if the split is well apart (module doc, step 2).
+fn two_levels(running: &[f64]) -> Option<(f64, f64)> {
+    let k = otsu(running)?;
+    let ((lo, lo_mad), (hi, hi_mad)) = (median_mad(&running[..k]), median_mad(&running[k..]));
+    (lo > 0.0 && lo <= MAX_LEVEL_RATIO * hi && hi - lo > MIN_GAP_IN_MADS * (lo_mad + hi_mad))
+        .then_some((lo, hi))
 }
 
 /// Find the levels of one compressor's power column (W per bin; NaN where not logged).
@@ -121,15 +139,13 @@ pub fn find(spec: &CompressorSpec, power_w: &[f32]) -> Found {
         let from = v.partition_point(|&x| x < RUNNING_FROM_SHARE_OF_TOP * top);
         &v[from..]
     };
-    let (unloaded_w, loaded_w, us, ls) = match otsu(running) {
-        Some((lo, hi, eta)) if eta >= MIN_SEPARABILITY && lo <= MAX_LEVEL_RATIO * hi && lo > 0.0 => {
-            (lo, hi, LevelSource::Data, LevelSource::Data)
-        }
+    let (unloaded_w, loaded_w, us, ls) = match two_levels(running) {
+        Some((lo, hi)) => (lo, hi, LevelSource::Data, LevelSource::Data),
         _ if running.is_empty() => {
             (sheet.unloaded_w, sheet.full_w, LevelSource::DataSheet, LevelSource::DataSheet)
         }
         _ => {
-            let m = running.iter().sum::<f64>() / running.len() as f64;
+            let m = median(running);
             if m >= 0.5 * (sheet.unloaded_w + sheet.full_w) {
                 (prior_fraction * m, m, LevelSource::DataSheet, LevelSource::Data)
             } else {
