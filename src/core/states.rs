@@ -6,7 +6,13 @@ Common practice of logger audits: a kW log shows each machine off (near 0), unlo
 fraction, load cycles, mean loaded and unloaded times (the load/unload leak test read from the logs) and,
 where no flow meter exists, an estimate of the free air each machine delivered.
 
-# Thresholds (per bin mean power P; P_full = rated package power, P_unl = unloaded fraction × P_full)
+# Thresholds
+The analysis reads load/unload and start/stop machines on the levels found in their own logged power
+(`core::levels`: loaded at or above the midpoint of the unloaded and loaded levels found, off below
+`max(3 % of loaded, unloaded / 2)`). The data sheet's thresholds below are the prior, and what
+modulation and variable speed are read on.
+
+Per bin mean power P; P_full = rated package power, P_unl = unloaded fraction × P_full:
 - **Off** below `max(3 % of P_full, P_unl / 2)` (common practice: above a logger's noise floor, below
   any running state).
 - Load/unload and start/stop: **Loaded** at or above the midpoint `(P_unl + P_full) / 2`; **Unloaded**

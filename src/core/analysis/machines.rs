@@ -6,6 +6,11 @@ the per-compressor figures of the summary.
 - **Energy and mean power**: each compressor's power column is integrated over its logged bins
   (`series::integrate`); system energy and mean power are the sums over compressors, so a gap in one
   logger does not drop the others.
+- **Levels and states**: each machine's off, unloaded and loaded levels are found in its own power
+  (`core::levels`); load/unload and start/stop machines are read on them.
+- **Against the data sheet**: mean power while loaded, beside the data sheet's full-load power corrected
+  to the mean pressure while loaded (its own discharge column, else the header) by the ratio of
+  isentropic work (`thermo::power_at_pressure`); the replacement measure reads only this.
 - **Trim machine**: a running variable-speed machine if there is one (a sequencer trims with it);
   otherwise the machine with the largest share of its running time unloaded or at part load.
 */
