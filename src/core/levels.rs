@@ -205,6 +205,12 @@ pub fn find(spec: &CompressorSpec, power_w: &[f32]) -> Found {
     }
 }
 
+/// The states of a power column read on the levels found in it: the rule of the analysis, also used
+/// by the decay events, the pressure-decay test's check and the replay's demand.
+pub fn classify(spec: &CompressorSpec, power_w: &[f32]) -> Vec<State> {
+    states::classify_with(&find(spec, power_w).thresholds, power_w)
+}
+
 fn sheet_levels(t: &Thresholds, off: Option<f64>) -> Levels {
     Levels {
         off,

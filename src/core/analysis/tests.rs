@@ -482,4 +482,13 @@ fn specific_power_leaves_out_a_compressor_whose_power_is_not_logged() {
     let r = run(&s, &cs, &frame, vec![]);
     let sp = r.system.specific_power_kw_per_m3_min.unwrap();
     assert!((sp - 50.0 / 8.0).abs() < 1e-4, "{sp}");
+    // No system meter, both machines' power logged, only C2 metered: C1's kW has no air of its own.
+    frame.columns = vec![
+        col(Signal::Power, Some(0), vec![50_000.0; n]),
+        col(Signal::Power, Some(1), vec![50_000.0; n]),
+        col(Signal::Flow, Some(1), vec![q; n]),
+    ];
+    let r = run(&s, &cs, &frame, vec![]);
+    assert_eq!(r.system.specific_power_kw_per_m3_min, None);
+    assert!(r.system.specific_power_note.as_deref().unwrap().contains("C1"));
 }
