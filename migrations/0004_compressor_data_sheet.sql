@@ -5,3 +5,6 @@
 ALTER TABLE compressor ADD COLUMN no_load_power_kw REAL;
 ALTER TABLE compressor ADD COLUMN nameplate_motor_kw REAL;
 ALTER TABLE compressor ADD COLUMN max_pressure_bar_g REAL;
+-- The auditor's correction of the unloaded and loaded power levels found in the log (core::levels).
+ALTER TABLE compressor ADD COLUMN unloaded_level_kw REAL;
+ALTER TABLE compressor ADD COLUMN loaded_level_kw REAL;

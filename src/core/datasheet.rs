@@ -48,6 +48,8 @@ Every number must be finite and lie in its range, or the input is refused naming
 | `power_curve` | at most 64 points of flow 0 ..= 2000 m³/min, power 0 ..= 20 000 kW, flows all different | the rated ranges above |
 | `min_speed_fraction` | above 0, below 1 | a share of the rated flow (variable speed without a curve) |
 | `year` | 1900 ..= 2100 | |
+| `loaded_level_kw` | above 0 ..= 20 000 kW | the auditor's correction of the loaded level found in the log (`core::levels`) |
+| `unloaded_level_kw` | above 0, below `loaded_level_kw` (when given) | the same for the unloaded level |
 */
 
 use serde::{Deserialize, Serialize};
@@ -114,6 +116,11 @@ pub struct DataSheetInput {
     /// Variable speed without a curve: minimum flow / rated flow (default 0.20).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub min_speed_fraction: Option<f64>,
+    /// The auditor's correction of the levels found in the log, kW (`core::levels`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub unloaded_level_kw: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub loaded_level_kw: Option<f64>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub year: Option<i32>,
     #[serde(default, skip_serializing_if = "String::is_empty")]
@@ -139,6 +146,8 @@ impl DataSheetInput {
             rated_specific_power_kw_per_m3_min: c.rated_specific_power_kw_per_m3_min,
             power_curve: c.power_curve.clone(),
             min_speed_fraction: None,
+            unloaded_level_kw: c.unloaded_level_kw,
+            loaded_level_kw: c.loaded_level_kw,
             year: c.year,
             notes: String::new(),
         }
@@ -170,6 +179,18 @@ impl DataSheetInput {
         }
         if let Some(kw) = self.nameplate_motor_kw {
             positive("nameplate_motor_kw", kw, MAX_RATED_POWER_KW, " kW")?;
+        }
+        if let Some(kw) = self.loaded_level_kw {
+            positive("loaded_level_kw", kw, MAX_RATED_POWER_KW, " kW")?;
+        }
+        if let Some(kw) = self.unloaded_level_kw {
+            let hi = self.loaded_level_kw.unwrap_or(MAX_RATED_POWER_KW);
+            if !(kw.is_finite() && kw > 0.0 && kw < hi) {
+                return err(
+                    "unloaded_level_kw",
+                    format!("unloaded_level_kw must be above 0 and below the loaded level {hi} kW, got {kw}"),
+                );
+            }
         }
         let stages = self.stages.unwrap_or(1);
         if !(1..=6).contains(&stages) {
@@ -272,6 +293,8 @@ impl DataSheetInput {
             no_load_power_kw: no_load_given,
             nameplate_motor_kw: self.nameplate_motor_kw,
             max_pressure_bar_g: self.max_pressure_bar_g,
+            unloaded_level_kw: self.unloaded_level_kw,
+            loaded_level_kw: self.loaded_level_kw,
             stages,
             rated_specific_power_kw_per_m3_min: self.rated_specific_power_kw_per_m3_min,
             power_curve: curve,

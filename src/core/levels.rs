@@ -25,7 +25,9 @@ read unloaded running as loaded.
    above the midpoint of the data sheet's unloaded and full-load power, else unloaded. The missing
    level comes from the data sheet: the unloaded fraction × the loaded level found, or the rated
    power.
-4. **Off** below `max(3 % of loaded, unloaded / 2)` (the rule of `states`, on the levels found); the
+4. A level the auditor gives (`unloaded_level_kw`, `loaded_level_kw` of the compressor, read off the
+   trace) replaces the one found (source `user`), for load/unload and start/stop machines.
+5. **Off** below `max(3 % of loaded, unloaded / 2)` (the rule of `states`, on the levels found); the
    off level is the mean of the bins below it.
 
 Load/unload and start/stop machines are classified on these levels (loaded at or above the midpoint of
@@ -54,6 +56,8 @@ pub enum LevelSource {
     Data,
     /// Not in the data: from the data sheet (prior).
     DataSheet,
+    /// Given by the auditor (`unloaded_level_kw`, `loaded_level_kw` of the compressor).
+    User,
 }
 
 /// The levels found for one compressor, kW (API.md `levels_kw`).
@@ -152,6 +156,15 @@ pub fn find(spec: &CompressorSpec, power_w: &[f32]) -> Found {
                 (m, sheet.full_w.max(m), LevelSource::Data, LevelSource::DataSheet)
             }
         }
+    };
+    // The auditor's correction replaces what was found.
+    let (loaded_w, ls) = match spec.loaded_level_kw {
+        Some(kw) => (kw * 1000.0, LevelSource::User),
+        None => (loaded_w, ls),
+    };
+    let (unloaded_w, us) = match spec.unloaded_level_kw {
+        Some(kw) => (kw * 1000.0, LevelSource::User),
+        None => (unloaded_w, us),
     };
     let off_below = (0.03 * loaded_w).max(0.5 * unloaded_w);
     let n_off = v.partition_point(|&x| x < off_below);
@@ -268,5 +281,11 @@ mod tests {
         let f = find(&c, &p);
         assert!((f.levels.unloaded - 14.1).abs() < 0.1);
         assert_eq!((f.levels.loaded, f.levels.loaded_source), (55.0, LevelSource::DataSheet));
+        // The auditor says the machine loads at 60 kW: 14 kW then stays unloaded, and 58 kW reads loaded.
+        let corrected = CompressorSpec { loaded_level_kw: Some(60.0), ..c.clone() };
+        let f = find(&corrected, &p);
+        assert_eq!((f.levels.loaded, f.levels.loaded_source), (60.0, LevelSource::User));
+        let s = states::classify_with(&f.thresholds, &[14_000.0, 58_000.0]);
+        assert_eq!(s, vec![State::Unloaded, State::Loaded]);
     }
 }

@@ -126,6 +126,12 @@ pub struct CompressorSpec {
     /// Highest working pressure of the package, bar(g) (`None`: blank, by default).
     #[serde(default)]
     pub max_pressure_bar_g: Option<f64>,
+    /// The auditor's correction of the unloaded and loaded power levels read in the log, kW: used in
+    /// place of the levels found (`core::levels`); not data-sheet values.
+    #[serde(default)]
+    pub unloaded_level_kw: Option<f64>,
+    #[serde(default)]
+    pub loaded_level_kw: Option<f64>,
     pub stages: u32,
     /// Data-sheet specific package input power, kW/(m³/min); `None` means rated power / rated flow.
     pub rated_specific_power_kw_per_m3_min: Option<f64>,
@@ -154,6 +160,8 @@ impl CompressorSpec {
             no_load_power_kw: None,
             nameplate_motor_kw: None,
             max_pressure_bar_g: None,
+            unloaded_level_kw: None,
+            loaded_level_kw: None,
             stages: 1,
             rated_specific_power_kw_per_m3_min: None,
             power_curve: vec![],

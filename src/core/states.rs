@@ -394,6 +394,8 @@ pub(crate) mod tests {
             no_load_power_kw: None,
             nameplate_motor_kw: None,
             max_pressure_bar_g: None,
+            unloaded_level_kw: None,
+            loaded_level_kw: None,
             stages: 1,
             rated_specific_power_kw_per_m3_min: None,
             power_curve: vec![],

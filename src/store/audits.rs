@@ -246,6 +246,8 @@ fn compressor_from_row(r: &sqlx::sqlite::SqliteRow) -> CompressorRecord {
             no_load_power_kw: r.get("no_load_power_kw"),
             nameplate_motor_kw: r.get("nameplate_motor_kw"),
             max_pressure_bar_g: r.get("max_pressure_bar_g"),
+            unloaded_level_kw: r.get("unloaded_level_kw"),
+            loaded_level_kw: r.get("loaded_level_kw"),
             stages: stages as u32,
             rated_specific_power_kw_per_m3_min: r.get("rated_specific_power_kw_per_m3_min"),
             power_curve: serde_json::from_str(&curve).unwrap_or_default(),
@@ -292,8 +294,8 @@ pub async fn save_compressor(
         sqlx::query(
             "INSERT INTO compressor (audit_id, tag, kind, control, cooling, rated_power_kw, rated_flow_m3_min, \
              rated_pressure_bar_g, unloaded_power_fraction, stages, rated_specific_power_kw_per_m3_min, \
-             power_curve, year, notes, no_load_power_kw, nameplate_motor_kw, max_pressure_bar_g) \
-             VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+             power_curve, year, notes, no_load_power_kw, nameplate_motor_kw, max_pressure_bar_g, \
+             unloaded_level_kw, loaded_level_kw) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
         )
         .bind(audit_id)
         .bind(&c.tag)
@@ -312,6 +314,8 @@ pub async fn save_compressor(
         .bind(c.no_load_power_kw)
         .bind(c.nameplate_motor_kw)
         .bind(c.max_pressure_bar_g)
+        .bind(c.unloaded_level_kw)
+        .bind(c.loaded_level_kw)
         .execute(&mut *tx)
         .await?
         .last_insert_rowid()
@@ -320,7 +324,7 @@ pub async fn save_compressor(
             "UPDATE compressor SET tag = ?, kind = ?, control = ?, cooling = ?, rated_power_kw = ?, \
              rated_flow_m3_min = ?, rated_pressure_bar_g = ?, unloaded_power_fraction = ?, stages = ?, \
              rated_specific_power_kw_per_m3_min = ?, power_curve = ?, year = ?, notes = ?, no_load_power_kw = ?, \
-             nameplate_motor_kw = ?, max_pressure_bar_g = ? WHERE id = ? AND audit_id = ?",
+             nameplate_motor_kw = ?, max_pressure_bar_g = ?, unloaded_level_kw = ?, loaded_level_kw = ? WHERE id = ? AND audit_id = ?",
         )
         .bind(&c.tag)
         .bind(c.kind.as_str())
@@ -338,6 +342,8 @@ pub async fn save_compressor(
         .bind(c.no_load_power_kw)
         .bind(c.nameplate_motor_kw)
         .bind(c.max_pressure_bar_g)
+        .bind(c.unloaded_level_kw)
+        .bind(c.loaded_level_kw)
         .bind(rec.id)
         .bind(audit_id)
         .execute(&mut *tx)

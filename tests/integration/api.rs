@@ -504,7 +504,8 @@ fn compressors_take_the_data_sheet_fields_and_refuse_bad_ones_by_name() {
     let url = format!("/api/v1/audits/{id}/compressors");
     let base = json!({"tag": "C3", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
                       "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5,
-                      "no_load_power_kw": 11, "nameplate_motor_kw": 45, "max_pressure_bar_g": 8.0});
+                      "no_load_power_kw": 11, "nameplate_motor_kw": 45, "max_pressure_bar_g": 8.0,
+                      "loaded_level_kw": 57.5});
     for (field, value) in [
         ("no_load_power_kw", json!(60)),
         ("no_load_power_kw", json!(-1)),
@@ -512,6 +513,8 @@ fn compressors_take_the_data_sheet_fields_and_refuse_bad_ones_by_name() {
         ("max_pressure_bar_g", json!(51)),
         ("nameplate_motor_kw", json!(0)),
         ("power_curve", json!([[2, 10], [2, 12]])),
+        ("unloaded_level_kw", json!(70)),
+        ("loaded_level_kw", json!(-5)),
     ] {
         let mut bad = base.clone();
         bad[field] = value.clone();
@@ -526,6 +529,8 @@ fn compressors_take_the_data_sheet_fields_and_refuse_bad_ones_by_name() {
     assert_eq!(c3["no_load_power_kw"], 11.0);
     assert_eq!(c3["nameplate_motor_kw"], 45.0);
     assert_eq!(c3["max_pressure_bar_g"], 8.0);
+    assert_eq!(c3["loaded_level_kw"], 57.5);
+    assert!(c3["unloaded_level_kw"].is_null());
     // 11 kW of 55: the unloaded fraction follows the no-load power.
     assert!((c3["unloaded_power_fraction"].as_f64().unwrap() - 0.2).abs() < 1e-12, "{c3}");
     // A scenario's added machine is posted in the same shape and checked the same way.

@@ -208,6 +208,8 @@ pub async fn add_compressor(
             rated_specific_power_kw_per_m3_min: opt_num(&form, "rated_specific_power_kw_per_m3_min")?,
             power_curve: parse_curve(form.get("power_curve").map(|s| s.as_str()).unwrap_or(""))?,
             min_speed_fraction: None,
+            unloaded_level_kw: opt_num(&form, "unloaded_level_kw")?,
+            loaded_level_kw: opt_num(&form, "loaded_level_kw")?,
             year: opt_num(&form, "year")?.map(|y| y as i32),
             notes: form.get("notes").cloned().unwrap_or_default(),
         };
