@@ -25,21 +25,15 @@ computed from them overflows (a price of 1e308 used to turn every cost into `nul
 | `grid_co2_kg_per_kwh` | 0 ..= 2 kg/kWh | the most carbon-intensive grids (lignite) stay near 1.1 (IEA emission factors, from memory) |
 | `fuel_co2_kg_per_kwh` | 0 ..= 1 kg/kWh | lignite 0.36, natural gas 0.20 kg/kWh (IPCC 2006 Guidelines, vol. 2 table 1.4) |
 | `other_volume_m3` | 0 ..= 10 000 m³ | piping and vessels of the largest plants (common practice) |
-| compressor `rated_power_kw` | above 0 ..= 20 000 kW | the largest centrifugal air compressors (common practice) |
-| compressor `rated_flow_m3_min` | above 0 ..= 2000 m³/min | same machines |
-| compressor `rated_pressure_bar_g` | above 0 ..= 50 bar(g) | shop air and boosters (PET blowing at 40 bar(g)); above is not an air audit |
-| compressor `unloaded_power_fraction` | 0 ..= 0.9 | share of full-load power when unloaded (common practice) |
-| compressor `stages` | 1 ..= 6 | compression stages of air compressors (common practice) |
-| compressor `rated_specific_power_kw_per_m3_min` | above 0 ..= 50 kW/(m³/min) | about 6 for a good screw at 7 bar(g); 50 leaves room for small and high-pressure machines |
-| compressor `power_curve` | at most 64 points of flow 0 ..= 2000 m³/min, power 0 ..= 20 000 kW | the rated ranges above |
-| compressor `year` | 1900 ..= 2100 | |
+| compressor fields | see `core::datasheet` | the one data-sheet shape, shared with the scenarios |
 | receiver `volume_m3` | above 0 ..= 1000 m³ | the largest shop-built air receivers (common practice) |
 */
 
 use serde::{Deserialize, Serialize};
 
 use crate::core::air::atmosphere_from_altitude;
-use crate::core::model::{CompressorKind, CompressorSpec, Control, Cooling, SiteSpec};
+use crate::core::datasheet::SheetError;
+use crate::core::model::{CompressorSpec, SiteSpec};
 use crate::core::units::{SiteAir, UnitSystem};
 
 /// Upper bounds of the table in the module doc.
@@ -48,10 +42,6 @@ pub const MAX_DEMAND_CHARGE_PER_KW_MONTH: f64 = 1e8;
 pub const MAX_GRID_CO2_KG_PER_KWH: f64 = 2.0;
 pub const MAX_FUEL_CO2_KG_PER_KWH: f64 = 1.0;
 pub const MAX_OTHER_VOLUME_M3: f64 = 10_000.0;
-pub const MAX_RATED_POWER_KW: f64 = 20_000.0;
-pub const MAX_RATED_FLOW_M3_MIN: f64 = 2_000.0;
-pub const MAX_RATED_PRESSURE_BAR_G: f64 = 50.0;
-pub const MAX_POWER_CURVE_POINTS: usize = 64;
 pub const MAX_RECEIVER_VOLUME_M3: f64 = 1_000.0;
 
 /// `v` if it is finite and within `lo..=hi` (above `lo` when `lo_open`), else the field's error.
@@ -467,143 +457,34 @@ pub struct SitePatch {
     pub other_volume_m3: Option<f64>,
 }
 
-/// A compressor as posted (API.md fields plus the optional extras).
-#[derive(Debug, Clone, Deserialize)]
-#[serde(deny_unknown_fields)]
-pub struct CompressorInput {
-    pub tag: String,
-    pub kind: String,
-    pub control: String,
-    pub cooling: String,
-    pub rated_power_kw: f64,
-    pub rated_flow_m3_min: f64,
-    pub rated_pressure_bar_g: f64,
-    pub unloaded_power_fraction: Option<f64>,
-    pub stages: Option<u32>,
-    pub rated_specific_power_kw_per_m3_min: Option<f64>,
-    #[serde(default)]
-    pub power_curve: Vec<(f64, f64)>,
-    pub year: Option<i32>,
-    #[serde(default)]
-    pub notes: String,
+/// A compressor as posted: the one data-sheet shape of `core::datasheet` (API.md fields, the
+/// data-sheet additions and `notes`), shared with the scenarios' added machines.
+pub use crate::core::datasheet::DataSheetInput as CompressorInput;
+
+impl From<SheetError> for FieldError {
+    fn from(e: SheetError) -> Self {
+        FieldError { field: e.field, message: e.message }
+    }
 }
 
-/// A stored compressor.
+/// A stored compressor: its data sheet (the analysis' [`CompressorSpec`]) with its id and notes. The
+/// JSON has the spec's fields at the top level beside `id` and `notes`.
 #[derive(Debug, Clone, Serialize, PartialEq)]
 pub struct CompressorRecord {
     pub id: i64,
-    pub tag: String,
-    pub kind: CompressorKind,
-    pub control: Control,
-    pub cooling: Cooling,
-    pub rated_power_kw: f64,
-    pub rated_flow_m3_min: f64,
-    pub rated_pressure_bar_g: f64,
-    pub unloaded_power_fraction: f64,
-    pub stages: u32,
-    pub rated_specific_power_kw_per_m3_min: Option<f64>,
-    pub power_curve: Vec<(f64, f64)>,
-    pub year: Option<i32>,
+    #[serde(flatten)]
+    pub spec: CompressorSpec,
     pub notes: String,
 }
 
 impl CompressorRecord {
-    pub fn to_spec(&self) -> CompressorSpec {
-        CompressorSpec {
-            tag: self.tag.clone(),
-            kind: self.kind,
-            control: self.control,
-            cooling: self.cooling,
-            rated_power_kw: self.rated_power_kw,
-            rated_flow_m3_min: self.rated_flow_m3_min,
-            rated_pressure_bar_g: self.rated_pressure_bar_g,
-            unloaded_power_fraction: self.unloaded_power_fraction,
-            stages: self.stages,
-            rated_specific_power_kw_per_m3_min: self.rated_specific_power_kw_per_m3_min,
-            power_curve: self.power_curve.clone(),
-            year: self.year,
-        }
+    /// Validate a posted compressor into a record (id 0 until stored).
+    pub fn from_input(input: &CompressorInput) -> Result<Self, FieldError> {
+        Ok(Self { id: 0, spec: input.validate()?, notes: input.notes.clone() })
     }
-}
 
-impl CompressorInput {
-    /// Validate into a record (id 0 until stored).
-    pub fn validate(&self) -> Result<CompressorRecord, FieldError> {
-        let tag = self.tag.trim();
-        if tag.is_empty() || tag.chars().count() > 32 {
-            return Err(FieldError::new(
-                "tag",
-                format!("tag must be 1 to 32 characters, got {:?}", self.tag),
-            ));
-        }
-        let kind = CompressorKind::parse(&self.kind)
-            .ok_or_else(|| FieldError::new("kind", format!("unknown compressor kind {:?}", self.kind)))?;
-        let control = Control::parse(&self.control)
-            .ok_or_else(|| FieldError::new("control", format!("unknown control {:?}", self.control)))?;
-        let cooling = Cooling::parse(&self.cooling)
-            .ok_or_else(|| FieldError::new("cooling", format!("unknown cooling {:?}", self.cooling)))?;
-        let positive = |field: &str, v: f64, max: f64, unit: &str| within(field, v, 0.0, true, max, unit);
-        let rated_power_kw = positive("rated_power_kw", self.rated_power_kw, MAX_RATED_POWER_KW, " kW")?;
-        let rated_flow_m3_min =
-            positive("rated_flow_m3_min", self.rated_flow_m3_min, MAX_RATED_FLOW_M3_MIN, " m³/min")?;
-        let rated_pressure_bar_g =
-            positive("rated_pressure_bar_g", self.rated_pressure_bar_g, MAX_RATED_PRESSURE_BAR_G, " bar(g)")?;
-        let unloaded_power_fraction =
-            self.unloaded_power_fraction.unwrap_or_else(|| kind.default_unloaded_power_fraction());
-        if !(0.0..=0.9).contains(&unloaded_power_fraction) {
-            return Err(FieldError::new(
-                "unloaded_power_fraction",
-                format!("unloaded power fraction must be within 0..0.9, got {unloaded_power_fraction}"),
-            ));
-        }
-        let stages = self.stages.unwrap_or(1);
-        if !(1..=6).contains(&stages) {
-            return Err(FieldError::new("stages", format!("stages must be 1 to 6, got {stages}")));
-        }
-        if let Some(sp) = self.rated_specific_power_kw_per_m3_min {
-            positive("rated_specific_power_kw_per_m3_min", sp, 50.0, " kW/(m³/min)")?;
-        }
-        let mut curve = self.power_curve.clone();
-        if curve.len() > MAX_POWER_CURVE_POINTS {
-            return Err(FieldError::new(
-                "power_curve",
-                format!("a power curve has at most {MAX_POWER_CURVE_POINTS} points, got {}", curve.len()),
-            ));
-        }
-        let in_range = |q: f64, p: f64| {
-            (0.0..=MAX_RATED_FLOW_M3_MIN).contains(&q) && (0.0..=MAX_RATED_POWER_KW).contains(&p)
-        };
-        if curve.iter().any(|&(q, p)| !in_range(q, p)) {
-            return Err(FieldError::new(
-                "power_curve",
-                format!(
-                    "power curve points must be [flow_m3_min, kw] with flow 0 to {MAX_RATED_FLOW_M3_MIN} \
-                     and power 0 to {MAX_RATED_POWER_KW}"
-                ),
-            ));
-        }
-        curve.sort_by(|a, b| a.0.total_cmp(&b.0));
-        if let Some(y) = self.year {
-            if !(1900..=2100).contains(&y) {
-                return Err(FieldError::new("year", format!("year must be within 1900..2100, got {y}")));
-            }
-        }
-        Ok(CompressorRecord {
-            id: 0,
-            tag: tag.to_string(),
-            kind,
-            control,
-            cooling,
-            rated_power_kw,
-            rated_flow_m3_min,
-            rated_pressure_bar_g,
-            unloaded_power_fraction,
-            stages,
-            rated_specific_power_kw_per_m3_min: self.rated_specific_power_kw_per_m3_min,
-            power_curve: curve,
-            year: self.year,
-            notes: self.notes.clone(),
-        })
+    pub fn to_spec(&self) -> CompressorSpec {
+        self.spec.clone()
     }
 }
 

@@ -146,12 +146,12 @@ impl App {
     /// Store a compressor (`id` 0: a new one); returns its id.
     pub async fn save_compressor(&self, audit_id: i64, id: i64, input: &CompressorInput) -> Result<i64> {
         self.audit(audit_id).await?;
-        let mut rec = input.validate()?;
+        let mut rec = CompressorRecord::from_input(input)?;
         rec.id = id;
         match audits::save_compressor(self.db(), audit_id, &rec).await? {
             CompressorWrite::Stored(id) => Ok(id),
             CompressorWrite::TagTaken => {
-                Err(Error::Conflict(format!("this audit has a compressor tagged {:?} already", rec.tag)))
+                Err(Error::Conflict(format!("this audit has a compressor tagged {:?} already", rec.spec.tag)))
             }
         }
     }

@@ -40,21 +40,7 @@ impl App {
         let id = self.create_audit(&plant.audit_name, &patch).await?;
         self.update_audit(id, None, Some(&s.auditor), Some(&s.notes), &SitePatch::default()).await?;
         for c in &plant.compressors {
-            let input = CompressorInput {
-                tag: c.tag.clone(),
-                kind: c.kind.as_str().into(),
-                control: c.control.as_str().into(),
-                cooling: c.cooling.as_str().into(),
-                rated_power_kw: c.rated_power_kw,
-                rated_flow_m3_min: c.rated_flow_m3_min,
-                rated_pressure_bar_g: c.rated_pressure_bar_g,
-                unloaded_power_fraction: Some(c.unloaded_power_fraction),
-                stages: Some(c.stages),
-                rated_specific_power_kw_per_m3_min: c.rated_specific_power_kw_per_m3_min,
-                power_curve: c.power_curve.clone(),
-                year: c.year,
-                notes: String::new(),
-            };
+            let input = CompressorInput::of(c);
             self.save_compressor(id, 0, &input).await?;
         }
         for (name, v) in &plant.receivers {

@@ -47,7 +47,7 @@ impl App {
     pub async fn import_context(&self, audit_id: i64) -> Result<ImportContext> {
         let a = self.audit(audit_id).await?;
         let compressors =
-            audits::compressors(self.db(), audit_id).await?.into_iter().map(|c| (c.tag, c.id)).collect();
+            audits::compressors(self.db(), audit_id).await?.into_iter().map(|c| (c.spec.tag, c.id)).collect();
         Ok(ImportContext { site: a.site.air(), compressors })
     }
 

@@ -36,9 +36,9 @@ use serde::{Deserialize, Serialize};
 
 use super::analysis::uncertainty::{quad, Accuracy};
 use super::leaks;
+use super::levels::classify;
 use super::model::{CompressorSpec, StorageSpec};
 use super::series::{Frame, Signal};
-use super::states::classify;
 use super::units::{FreeAirFlow, PressureAbs, SiteAir, Volume};
 
 /// A field test as the API receives it.
@@ -414,7 +414,8 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                     .find(|col| col.signal == Signal::Power && col.compressor == Some(i))
                 {
                     Some(col) => {
-                        let s = classify(c, &col.values[bins.clone()]);
+                        let all = classify(c, &col.values);
+                        let s = &all[bins.clone()];
                         if let Some(k) = s.iter().position(|s| s.delivering()) {
                             let t =
                                 jiff::Timestamp::from_millisecond(frame.grid.bin_start_ms(bins.start + k))

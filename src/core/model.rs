@@ -98,21 +98,40 @@ impl CompressorKind {
     }
 }
 
-/// One compressor with its data-sheet values.
+/// One compressor as its data sheet states it: the one compressor type of the analysis, the replay
+/// and the audit's records (`site::CompressorRecord` wraps it with its id and notes; a scenario's added
+/// machine is posted in the same shape, `core::datasheet::DataSheetInput`, whose module doc gives the
+/// meaning of each field, the defaults for blanks and the accepted ranges).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct CompressorSpec {
     pub tag: String,
     pub kind: CompressorKind,
     pub control: Control,
     pub cooling: Cooling,
-    /// Package input power at full load, kW.
+    /// Package input power at full load and `rated_pressure_bar_g`, kW, as ISO 1217 data sheets state
+    /// it (drive motor, fan and controls; not the motor's nameplate).
     pub rated_power_kw: f64,
     /// Free air delivery at full load, m³/min (ISO 1217).
     pub rated_flow_m3_min: f64,
     /// Full-load operating pressure, bar(g).
     pub rated_pressure_bar_g: f64,
-    /// Unloaded (or minimum-speed idle) power / full-load power.
+    /// Unloaded (or minimum-speed idle) power / full-load power (from `no_load_power_kw` when given).
     pub unloaded_power_fraction: f64,
+    /// Package input running unloaded, kW, as the data sheet gives it (`None`: blank, by default).
+    #[serde(default)]
+    pub no_load_power_kw: Option<f64>,
+    /// The main motor's nameplate, kW: for reference only.
+    #[serde(default)]
+    pub nameplate_motor_kw: Option<f64>,
+    /// Highest working pressure of the package, bar(g) (`None`: blank, by default).
+    #[serde(default)]
+    pub max_pressure_bar_g: Option<f64>,
+    /// The auditor's correction of the unloaded and loaded power levels read in the log, kW: used in
+    /// place of the levels found (`core::levels`); not data-sheet values.
+    #[serde(default)]
+    pub unloaded_level_kw: Option<f64>,
+    #[serde(default)]
+    pub loaded_level_kw: Option<f64>,
     pub stages: u32,
     /// Data-sheet specific package input power, kW/(m³/min); `None` means rated power / rated flow.
     pub rated_specific_power_kw_per_m3_min: Option<f64>,
@@ -122,8 +141,47 @@ pub struct CompressorSpec {
 }
 
 impl CompressorSpec {
+    /// A single-stage machine of this rating with every optional field blank (tests and models).
+    pub fn blank(
+        kind: CompressorKind,
+        control: Control,
+        rated_power_kw: f64,
+        rated_flow_m3_min: f64,
+    ) -> Self {
+        Self {
+            tag: String::new(),
+            kind,
+            control,
+            cooling: Cooling::Air,
+            rated_power_kw,
+            rated_flow_m3_min,
+            rated_pressure_bar_g: 7.5,
+            unloaded_power_fraction: kind.default_unloaded_power_fraction(),
+            no_load_power_kw: None,
+            nameplate_motor_kw: None,
+            max_pressure_bar_g: None,
+            unloaded_level_kw: None,
+            loaded_level_kw: None,
+            stages: 1,
+            rated_specific_power_kw_per_m3_min: None,
+            power_curve: vec![],
+            year: None,
+        }
+    }
+
     pub fn rated_specific_power_kw_per_m3_min(&self) -> f64 {
         self.rated_specific_power_kw_per_m3_min.unwrap_or(self.rated_power_kw / self.rated_flow_m3_min)
+    }
+
+    /// Package input running unloaded, kW: the data sheet's, else the unloaded fraction's.
+    pub fn no_load_kw(&self) -> f64 {
+        self.no_load_power_kw.unwrap_or(self.unloaded_power_fraction * self.rated_power_kw)
+    }
+
+    /// Highest working pressure, bar(g): the data sheet's, else rated + 0.5 bar (`core::datasheet`).
+    pub fn max_pressure_or_default_bar_g(&self) -> f64 {
+        self.max_pressure_bar_g
+            .unwrap_or(self.rated_pressure_bar_g + super::datasheet::DEFAULT_MAX_ABOVE_RATED_BAR)
     }
 }
 

@@ -6,7 +6,13 @@ Common practice of logger audits: a kW log shows each machine off (near 0), unlo
 fraction, load cycles, mean loaded and unloaded times (the load/unload leak test read from the logs) and,
 where no flow meter exists, an estimate of the free air each machine delivered.
 
-# Thresholds (per bin mean power P; P_full = rated package power, P_unl = unloaded fraction × P_full)
+# Thresholds
+The analysis reads load/unload and start/stop machines on the levels found in their own logged power
+(`core::levels`: loaded at or above the midpoint of the unloaded and loaded levels found, off below
+`max(3 % of loaded, unloaded / 2)`). The data sheet's thresholds below are the prior, and what
+modulation and variable speed are read on.
+
+Per bin mean power P; P_full = rated package power, P_unl = unloaded fraction × P_full:
 - **Off** below `max(3 % of P_full, P_unl / 2)` (common practice: above a logger's noise floor, below
   any running state).
 - Load/unload and start/stop: **Loaded** at or above the midpoint `(P_unl + P_full) / 2`; **Unloaded**
@@ -122,9 +128,14 @@ pub fn thresholds(spec: &CompressorSpec) -> Thresholds {
     }
 }
 
-/// Classify each bin of a power column (W).
+/// Classify each bin of a power column (W) on the data sheet's thresholds.
 pub fn classify(spec: &CompressorSpec, power_w: &[f32]) -> Vec<State> {
-    let t = thresholds(spec);
+    classify_with(&thresholds(spec), power_w)
+}
+
+/// Classify each bin of a power column (W) on given thresholds (the data sheet's, or those of the
+/// levels found in the data: `core::levels`).
+pub fn classify_with(t: &Thresholds, power_w: &[f32]) -> Vec<State> {
     power_w
         .iter()
         .map(|&p| {
@@ -380,6 +391,11 @@ pub(crate) mod tests {
             rated_flow_m3_min: q,
             rated_pressure_bar_g: 7.5,
             unloaded_power_fraction: 0.25,
+            no_load_power_kw: None,
+            nameplate_motor_kw: None,
+            max_pressure_bar_g: None,
+            unloaded_level_kw: None,
+            loaded_level_kw: None,
             stages: 1,
             rated_specific_power_kw_per_m3_min: None,
             power_curve: vec![],

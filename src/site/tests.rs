@@ -31,12 +31,7 @@ fn compressor_defaults_its_unloaded_fraction_by_kind() {
         rated_power_kw: 55.0,
         rated_flow_m3_min: 9.5,
         rated_pressure_bar_g: 7.5,
-        unloaded_power_fraction: None,
-        stages: None,
-        rated_specific_power_kw_per_m3_min: None,
-        power_curve: vec![],
-        year: None,
-        notes: String::new(),
+        ..Default::default()
     };
     let r = c.validate().unwrap();
     assert_eq!(r.tag, "C2");

@@ -8,7 +8,7 @@ use serde::Serialize;
 use sqlx::{Row, SqlitePool};
 
 use super::{begin_write, now_rfc3339, StoreError};
-use crate::core::model::{CompressorKind, Control, Cooling};
+use crate::core::model::{CompressorKind, CompressorSpec, Control, Cooling};
 use crate::core::units::UnitSystem;
 use crate::site::{CompressorRecord, ReceiverRecord, SiteRecord};
 
@@ -240,18 +240,25 @@ fn compressor_from_row(r: &sqlx::sqlite::SqliteRow) -> CompressorRecord {
     let stages: i64 = r.get("stages");
     CompressorRecord {
         id: r.get("id"),
-        tag: r.get("tag"),
-        kind: CompressorKind::parse(&kind).unwrap_or(CompressorKind::LubricatedScrew),
-        control: Control::parse(&control).unwrap_or(Control::LoadUnload),
-        cooling: Cooling::parse(&cooling).unwrap_or(Cooling::Air),
-        rated_power_kw: r.get("rated_power_kw"),
-        rated_flow_m3_min: r.get("rated_flow_m3_min"),
-        rated_pressure_bar_g: r.get("rated_pressure_bar_g"),
-        unloaded_power_fraction: r.get("unloaded_power_fraction"),
-        stages: stages as u32,
-        rated_specific_power_kw_per_m3_min: r.get("rated_specific_power_kw_per_m3_min"),
-        power_curve: serde_json::from_str(&curve).unwrap_or_default(),
-        year: r.get::<Option<i64>, _>("year").map(|y| y as i32),
+        spec: CompressorSpec {
+            tag: r.get("tag"),
+            kind: CompressorKind::parse(&kind).unwrap_or(CompressorKind::LubricatedScrew),
+            control: Control::parse(&control).unwrap_or(Control::LoadUnload),
+            cooling: Cooling::parse(&cooling).unwrap_or(Cooling::Air),
+            rated_power_kw: r.get("rated_power_kw"),
+            rated_flow_m3_min: r.get("rated_flow_m3_min"),
+            rated_pressure_bar_g: r.get("rated_pressure_bar_g"),
+            unloaded_power_fraction: r.get("unloaded_power_fraction"),
+            no_load_power_kw: r.get("no_load_power_kw"),
+            nameplate_motor_kw: r.get("nameplate_motor_kw"),
+            max_pressure_bar_g: r.get("max_pressure_bar_g"),
+            unloaded_level_kw: r.get("unloaded_level_kw"),
+            loaded_level_kw: r.get("loaded_level_kw"),
+            stages: stages as u32,
+            rated_specific_power_kw_per_m3_min: r.get("rated_specific_power_kw_per_m3_min"),
+            power_curve: serde_json::from_str(&curve).unwrap_or_default(),
+            year: r.get::<Option<i64>, _>("year").map(|y| y as i32),
+        },
         notes: r.get("notes"),
     }
 }
@@ -274,25 +281,27 @@ pub enum CompressorWrite {
 pub async fn save_compressor(
     pool: &SqlitePool,
     audit_id: i64,
-    c: &CompressorRecord,
+    rec: &CompressorRecord,
 ) -> Result<CompressorWrite, StoreError> {
+    let c = &rec.spec;
     let mut tx = begin_write(pool).await?;
     let clash: Option<i64> =
         sqlx::query_scalar("SELECT id FROM compressor WHERE audit_id = ? AND tag = ? AND id != ?")
             .bind(audit_id)
             .bind(&c.tag)
-            .bind(c.id)
+            .bind(rec.id)
             .fetch_optional(&mut *tx)
             .await?;
     if clash.is_some() {
         return Ok(CompressorWrite::TagTaken);
     }
     let curve = serde_json::to_string(&c.power_curve).unwrap_or_else(|_| "[]".into());
-    let id = if c.id == 0 {
+    let id = if rec.id == 0 {
         sqlx::query(
             "INSERT INTO compressor (audit_id, tag, kind, control, cooling, rated_power_kw, rated_flow_m3_min, \
              rated_pressure_bar_g, unloaded_power_fraction, stages, rated_specific_power_kw_per_m3_min, \
-             power_curve, year, notes) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+             power_curve, year, notes, no_load_power_kw, nameplate_motor_kw, max_pressure_bar_g, \
+             unloaded_level_kw, loaded_level_kw) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
         )
         .bind(audit_id)
         .bind(&c.tag)
@@ -307,7 +316,12 @@ pub async fn save_compressor(
         .bind(c.rated_specific_power_kw_per_m3_min)
         .bind(curve)
         .bind(c.year.map(i64::from))
-        .bind(&c.notes)
+        .bind(&rec.notes)
+        .bind(c.no_load_power_kw)
+        .bind(c.nameplate_motor_kw)
+        .bind(c.max_pressure_bar_g)
+        .bind(c.unloaded_level_kw)
+        .bind(c.loaded_level_kw)
         .execute(&mut *tx)
         .await?
         .last_insert_rowid()
@@ -315,8 +329,8 @@ pub async fn save_compressor(
         sqlx::query(
             "UPDATE compressor SET tag = ?, kind = ?, control = ?, cooling = ?, rated_power_kw = ?, \
              rated_flow_m3_min = ?, rated_pressure_bar_g = ?, unloaded_power_fraction = ?, stages = ?, \
-             rated_specific_power_kw_per_m3_min = ?, power_curve = ?, year = ?, notes = ? \
-             WHERE id = ? AND audit_id = ?",
+             rated_specific_power_kw_per_m3_min = ?, power_curve = ?, year = ?, notes = ?, no_load_power_kw = ?, \
+             nameplate_motor_kw = ?, max_pressure_bar_g = ?, unloaded_level_kw = ?, loaded_level_kw = ? WHERE id = ? AND audit_id = ?",
         )
         .bind(&c.tag)
         .bind(c.kind.as_str())
@@ -330,12 +344,17 @@ pub async fn save_compressor(
         .bind(c.rated_specific_power_kw_per_m3_min)
         .bind(curve)
         .bind(c.year.map(i64::from))
-        .bind(&c.notes)
-        .bind(c.id)
+        .bind(&rec.notes)
+        .bind(c.no_load_power_kw)
+        .bind(c.nameplate_motor_kw)
+        .bind(c.max_pressure_bar_g)
+        .bind(c.unloaded_level_kw)
+        .bind(c.loaded_level_kw)
+        .bind(rec.id)
         .bind(audit_id)
         .execute(&mut *tx)
         .await?;
-        c.id
+        rec.id
     };
     bump(&mut tx, audit_id).await?;
     tx.commit().await?;

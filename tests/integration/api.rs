@@ -542,3 +542,78 @@ fn one_upload_reports_the_mean_of_each_channel_it_wrote() {
     assert_eq!(s.get(&format!("/api/v1/audits/{other}/uploads/{upload_id}")).status, 404);
     assert_eq!(s.get(&format!("/api/v1/audits/{id}/uploads/{}", upload_id + 99)).status, 404);
 }
+
+#[test]
+fn compressors_take_the_data_sheet_fields_and_refuse_bad_ones_by_name() {
+    // Issue 17: the data-sheet fields of API.md "Additions", stored and read back; a value out of
+    // its documented range (core::datasheet) is a 422 naming the field.
+    let s = Server::start();
+    let id = s.audit_with_compressor("C2");
+    let url = format!("/api/v1/audits/{id}/compressors");
+    let base = json!({"tag": "C3", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+                      "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5,
+                      "no_load_power_kw": 11, "nameplate_motor_kw": 45, "max_pressure_bar_g": 8.0,
+                      "loaded_level_kw": 57.5});
+    for (field, value) in [
+        ("no_load_power_kw", json!(60)),
+        ("no_load_power_kw", json!(-1)),
+        ("max_pressure_bar_g", json!(7.0)),
+        ("max_pressure_bar_g", json!(51)),
+        ("nameplate_motor_kw", json!(0)),
+        ("power_curve", json!([[2, 10], [2, 12]])),
+        ("unloaded_level_kw", json!(70)),
+        ("loaded_level_kw", json!(-5)),
+    ] {
+        let mut bad = base.clone();
+        bad[field] = value.clone();
+        let r = s.post_json(&url, &bad);
+        assert_eq!(r.status, 422, "{field} = {value}: {}", r.text);
+        assert_eq!(r.json()["error"]["field"], field, "{field} = {value}: {}", r.text);
+    }
+    let r = s.post_json(&url, &base);
+    assert_eq!(r.status, 201, "{}", r.text);
+    let a = s.get(&format!("/api/v1/audits/{id}")).json();
+    let c3 = a["compressors"].as_array().unwrap().iter().find(|c| c["tag"] == "C3").unwrap().clone();
+    assert_eq!(c3["no_load_power_kw"], 11.0);
+    assert_eq!(c3["nameplate_motor_kw"], 45.0);
+    assert_eq!(c3["max_pressure_bar_g"], 8.0);
+    assert_eq!(c3["loaded_level_kw"], 57.5);
+    assert!(c3["unloaded_level_kw"].is_null());
+    // 11 kW of 55: the unloaded fraction follows the no-load power.
+    assert!((c3["unloaded_power_fraction"].as_f64().unwrap() - 0.2).abs() < 1e-12, "{c3}");
+    // A scenario's added machine is posted in the same shape and checked the same way.
+    let mut added = base.clone();
+    added["tag"] = json!("N1");
+    added["max_pressure_bar_g"] = json!(7.0);
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/scenarios"),
+        &json!({"name": "bad add", "changes": [{"op": "add", "compressor": added}]}),
+    );
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert_eq!(r.json()["error"]["field"], "changes[0].compressor.max_pressure_bar_g", "{}", r.text);
+}
+
+#[test]
+fn the_data_sheet_comparison_and_part_load_penalty_show_in_both_unit_systems() {
+    // Issue 17: the report and the findings show each machine's loaded power at its loaded pressure,
+    // the data sheet at that pressure and the difference, and the system's part-load penalty, in SI
+    // and US units. Truth: the API's own figures, converted here (1 psi = 6894.757 Pa, NIST SP 811).
+    let s = Server::demo();
+    let sum = s.get("/api/v1/audits/1/summary").json();
+    let c1 = sum["compressors"].as_array().unwrap().iter().find(|c| c["tag"] == "C1").unwrap().clone();
+    let p = c1["loaded_pressure_bar_g"].as_f64().expect("C1 loaded pressure");
+    let vs = c1["loaded_power_vs_datasheet_percent"].as_f64().expect("C1 against its data sheet");
+    let pen = sum["system"]["part_load_penalty_percent"].as_f64().expect("part-load penalty");
+    assert!(sum["system"].get("specific_power_degradation_percent").is_none(), "the old figure is gone");
+    for page in ["report", "findings"] {
+        let si = s.get(&format!("/audits/1/{page}?units=si")).text;
+        let us = s.get(&format!("/audits/1/{page}?units=us")).text;
+        assert!(si.contains(&format!("at {:.2} bar(g)", p)), "{page} SI: C1's loaded pressure");
+        let psig = p * 1e5 / 6_894.757;
+        assert!(us.contains(&format!("at {psig:.1} psig")), "{page} US: C1's loaded pressure {psig:.1} psig");
+        for text in [&si, &us] {
+            assert!(text.contains(&format!("{vs:+.1} %")), "{page}: C1 against its data sheet {vs:+.1} %");
+            assert!(text.contains(&format!("part-load penalty {pen:.1} %")), "{page}: penalty {pen:.1} %");
+        }
+    }
+}

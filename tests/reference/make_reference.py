@@ -291,6 +291,60 @@ put(
     {"volume_m3": 3.0, "start_bar_g": 7.0, "end_bar_g": 5.5, "duration_s": 95.0, "atm_kpa_abs": 101.325},
 )
 
+# ---------------------------------------------------------------- thermo.rs: a data sheet at another pressure
+# A data-sheet machine: 55 kW package input at full load and 7.5 bar(g) (an invented data sheet), at
+# a sea-level site (101325 Pa, 20 C inlet). Its full-load power at 6.5, 7.5 and 8.5 bar(g), corrected
+# by the ratio of isentropic work at the two pressures, computed independently twice: ideal-gas air
+# with fluids, and real air (CoolProp, isentropic enthalpy rise h(p2, s1) - h(p1, T1)).
+DS_KW = 55.0
+DS_RATED_BAR_G = 7.5
+DS_T1 = 293.15
+DS_P1 = 101325.0
+
+
+def ds_p_abs(bar_g):
+    return DS_P1 + bar_g * 1e5
+
+
+def fluids_w(bar_g, stages=1):
+    """Isentropic work, J/mol, of equal-ratio stages each starting at T1 (fluids, k = 1.4)."""
+    r = ds_p_abs(bar_g) / DS_P1
+    r_stage = r ** (1.0 / stages)
+    return stages * isentropic_work_compression(T1=DS_T1, k=K_AIR, P1=DS_P1, P2=DS_P1 * r_stage, eta=1.0)
+
+
+def coolprop_w(bar_g):
+    """Real-air isentropic work, J/kg: h(p2, s1) - h(p1, T1)."""
+    h1 = PropsSI("H", "T", DS_T1, "P", DS_P1, "Air")
+    s1 = PropsSI("S", "T", DS_T1, "P", DS_P1, "Air")
+    return PropsSI("H", "P", ds_p_abs(bar_g), "S", s1, "Air") - h1
+
+
+ds_inputs = {"rated_kw": DS_KW, "rated_bar_g": DS_RATED_BAR_G, "t1_k": DS_T1, "p1_pa": DS_P1, "k": K_AIR}
+for bar_g in (6.5, 7.5, 8.5):
+    tag = f"{int(round(bar_g * 10))}"
+    put(
+        f"datasheet.power_at_{tag}_bar_g_kw",
+        DS_KW * fluids_w(bar_g) / fluids_w(DS_RATED_BAR_G),
+        "kW",
+        f"{FLUIDS} rated kW x isentropic_work_compression(T1, k=1.4, P1=, P2=p, eta=1) / the same at the rated pressure",
+        dict(ds_inputs, at_bar_g=bar_g),
+    )
+    put(
+        f"datasheet.coolprop_power_at_{tag}_bar_g_kw",
+        DS_KW * coolprop_w(bar_g) / coolprop_w(DS_RATED_BAR_G),
+        "kW",
+        f"{COOLPROP} real air: rated kW x (h(p, s1) - h1) / the same at the rated pressure",
+        dict(ds_inputs, at_bar_g=bar_g),
+    )
+put(
+    "datasheet.two_stage_power_at_85_bar_g_kw",
+    DS_KW * fluids_w(8.5, 2) / fluids_w(DS_RATED_BAR_G, 2),
+    "kW",
+    f"{FLUIDS} two equal-ratio stages intercooled to T1: 2 x isentropic_work_compression per stage",
+    dict(ds_inputs, at_bar_g=8.5, stages=2),
+)
+
 # ---------------------------------------------------------------- heat.rs
 put(
     "heat.doe_rule_50000_btu_h_in_w",

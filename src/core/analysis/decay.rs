@@ -8,9 +8,10 @@ fact sheet; fitted by `leaks::fit_pressure_decay`).
 use serde::{Deserialize, Serialize};
 
 use crate::core::leaks::fit_pressure_decay;
+use crate::core::levels;
 use crate::core::model::{CompressorSpec, StorageSpec};
 use crate::core::series::Frame;
-use crate::core::states::{self, State};
+use crate::core::states::State;
 use crate::core::units::{PressureAbs, SiteAir, Volume};
 
 use super::calendar::ts_string;
@@ -57,7 +58,7 @@ pub fn decay_events(
     let st: Vec<Vec<State>> = compressors
         .iter()
         .enumerate()
-        .filter_map(|(i, c)| frame.power_of(i).map(|col| states::classify(c, &col.values)))
+        .filter_map(|(i, c)| frame.power_of(i).map(|col| levels::classify(c, &col.values)))
         .collect();
     if st.is_empty() || storage.system_volume_m3() <= 0.0 {
         return Vec::new();

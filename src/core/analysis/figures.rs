@@ -8,6 +8,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::core::heat::HeatUseKind;
 use crate::core::leaks::LeakShareBand;
+use crate::core::levels::Levels;
 use crate::core::model::Control;
 use crate::core::recommend::Recommendation;
 
@@ -96,7 +97,13 @@ pub struct SystemFigures {
     pub specific_power_kwh_per_m3: Option<f64>,
     /// Air-weighted data-sheet specific power of the machines that ran.
     pub rated_specific_power_kw_per_m3_min: Option<f64>,
-    pub specific_power_degradation_percent: Option<f64>,
+    /// Air-weighted specific power the same machines would reach at full load at the pressure they
+    /// ran at (data sheet corrected by the ratio of isentropic work), kW/(m³/min).
+    pub full_load_specific_power_at_pressure_kw_per_m3_min: Option<f64>,
+    /// (specific power / that full-load figure - 1) × 100: the control (part-load) loss (API.md).
+    pub part_load_penalty_percent: Option<f64>,
+    /// Why `specific_power_kw_per_m3_min` is refused, if it is (a compressor without logged power).
+    pub specific_power_note: Option<String>,
     pub isothermal_efficiency: Option<f64>,
     pub isothermal_efficiency_low: Option<f64>,
     pub isothermal_efficiency_high: Option<f64>,
@@ -152,8 +159,17 @@ pub struct CompressorFigures {
     pub estimated: bool,
     pub full_load_specific_power_kw_per_m3_min: Option<f64>,
     pub rated_specific_power_kw_per_m3_min: f64,
-    pub specific_power_degradation_percent: Option<f64>,
-    pub loaded_power_vs_rated_percent: Option<f64>,
+    /// Mean power while loaded, kW (API.md additions).
+    pub loaded_power_kw: Option<f64>,
+    /// Mean discharge pressure (its own column, else the header's) while loaded, bar(g).
+    pub loaded_pressure_bar_g: Option<f64>,
+    /// The data sheet's full-load power corrected to `loaded_pressure_bar_g` by the ratio of
+    /// isentropic work (`thermo::power_at_pressure`), kW.
+    pub datasheet_power_at_pressure_kw: Option<f64>,
+    /// (`loaded_power_kw` / `datasheet_power_at_pressure_kw` - 1) × 100.
+    pub loaded_power_vs_datasheet_percent: Option<f64>,
+    /// The off, unloaded and loaded levels found in the data (`core::levels`).
+    pub levels_kw: Option<Levels>,
     pub marginal_kw_per_m3_min: f64,
     pub trim: bool,
     pub heat_rejected_kwh: f64,

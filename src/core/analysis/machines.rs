@@ -6,21 +6,28 @@ the per-compressor figures of the summary.
 - **Energy and mean power**: each compressor's power column is integrated over its logged bins
   (`series::integrate_weighted`: a bin at a gap's edge counts for the time it was logged); system energy and mean power are the sums over compressors, so a gap in one
   logger does not drop the others.
+- **Levels and states**: each machine's off, unloaded and loaded levels are found in its own power
+  (`core::levels`); load/unload and start/stop machines are read on them.
+- **Against the data sheet**: mean power while loaded, beside the data sheet's full-load power corrected
+  to the mean pressure while loaded (its own discharge column, else the header) by the ratio of
+  isentropic work (`thermo::power_at_pressure`); the replacement measure reads only this.
 - **Trim machine**: a running variable-speed machine if there is one (a sequencer trims with it);
   otherwise the machine with the largest share of its running time unloaded or at part load.
 */
 
+use crate::core::levels::{self, Levels};
 use crate::core::model::{CompressorSpec, Control};
 use crate::core::recommend::MachineUse;
-use crate::core::series::{integrate_weighted, sum_columns, Frame, Integral};
+use crate::core::series::{integrate_weighted, sum_columns, Frame, Integral, Signal};
 use crate::core::states::{self, State, StateStats};
+use crate::core::thermo;
 use crate::core::units::kw_per_100cfm;
+use crate::core::units::{Power, PressureAbs, SiteAir};
 
 use super::baseline::{AnnualRule, CellSums};
 use super::calendar::Calendar;
 use super::figures::{CompressorFigures, PowerSource};
 use super::heat::CompressorHeat;
-use super::specific_power::CompressorAir;
 use super::uncertainty::{band, power_rel, Accuracy};
 use super::DataFigures;
 
@@ -30,6 +37,10 @@ pub(super) struct Logged<'f> {
     pub states: Vec<Option<Vec<State>>>,
     pub est_flow: Vec<Option<Vec<f32>>>,
     pub stats: Vec<Option<StateStats>>,
+    /// The levels found in each machine's own power (`core::levels`).
+    pub levels: Vec<Option<Levels>>,
+    /// The unloaded power the states were read on, W (the level found, `core::levels`).
+    pub unloaded_w: Vec<Option<f64>>,
     /// Tags of the compressors without a power column.
     pub without_power: Vec<String>,
     /// Σ power of the compressors with a power column, W.
@@ -42,8 +53,16 @@ pub(super) fn logged<'f>(frame: &'f Frame, cs: &[CompressorSpec]) -> Logged<'f> 
     let n = grid.len;
     let powers: Vec<Option<&[f32]>> =
         (0..cs.len()).map(|i| frame.power_of(i).map(|c| c.values.as_slice())).collect();
-    let st: Vec<Option<Vec<State>>> =
-        cs.iter().zip(&powers).map(|(c, p)| p.map(|p| states::classify(c, p))).collect();
+    let found: Vec<Option<levels::Found>> =
+        cs.iter().zip(&powers).map(|(c, p)| p.map(|p| levels::find(c, p))).collect();
+    let st: Vec<Option<Vec<State>>> = found
+        .iter()
+        .zip(&powers)
+        .map(|(f, p)| match (f, p) {
+            (Some(f), Some(p)) => Some(states::classify_with(&f.thresholds, p)),
+            _ => None,
+        })
+        .collect();
     let est_flow: Vec<Option<Vec<f32>>> = cs
         .iter()
         .zip(&powers)
@@ -64,7 +83,9 @@ pub(super) fn logged<'f>(frame: &'f Frame, cs: &[CompressorSpec]) -> Logged<'f> 
     let without_power: Vec<String> =
         cs.iter().zip(&powers).filter(|(_, p)| p.is_none()).map(|(c, _)| c.tag.clone()).collect();
     let total_power: Option<Vec<f32>> = sum_columns(n, powers.iter().flatten().copied());
-    Logged { powers, states: st, est_flow, stats, without_power, total_power }
+    let unloaded_w = found.iter().map(|f| f.as_ref().map(|f| f.thresholds.unloaded_w)).collect();
+    let levels = found.into_iter().map(|f| f.map(|f| f.levels)).collect();
+    Logged { powers, states: st, est_flow, stats, levels, unloaded_w, without_power, total_power }
 }
 
 /// Energy (kWh) and mean power (kW) of each compressor over its logged bins (0 without power).
@@ -94,6 +115,42 @@ pub(super) fn energy(frame: &Frame, logged: &Logged) -> MachineEnergy {
         .map(|i| i.map_or(0.0, |i| if i.mean.is_finite() { i.mean / 1000.0 } else { 0.0 }))
         .collect();
     MachineEnergy { energy_kwh, mean_kw }
+}
+
+/// Mean pressure of each compressor while loaded, bar(g): its own discharge pressure column if it
+/// has one, else the header pressure, over its loaded bins (`None`: no loaded bin with pressure).
+pub(super) fn loaded_pressure(frame: &Frame, logged: &Logged, atm: PressureAbs) -> Vec<Option<f64>> {
+    logged
+        .states
+        .iter()
+        .enumerate()
+        .map(|(i, s)| {
+            let s = s.as_ref()?;
+            let own = frame.columns.iter().find(|c| c.signal == Signal::Pressure && c.compressor == Some(i));
+            let p = own.or_else(|| frame.header_pressure())?;
+            let (sum, n) = s
+                .iter()
+                .zip(&p.values)
+                .filter(|(st, v)| **st == State::Loaded && v.is_finite())
+                .fold((0.0, 0usize), |(a, n), (_, &v)| (a + v as f64, n + 1));
+            (n > 0).then(|| PressureAbs(sum / n as f64).bar_g(atm))
+        })
+        .collect()
+}
+
+/// The data sheet's full-load power corrected to a pressure, kW (`thermo::power_at_pressure`, at
+/// the site's inlet conditions).
+pub(super) fn datasheet_power_at(c: &CompressorSpec, bar_g: f64, air: &SiteAir) -> f64 {
+    let atm = air.atmosphere;
+    thermo::power_at_pressure(
+        Power::from_kw(c.rated_power_kw),
+        PressureAbs::from_bar_g(c.rated_pressure_bar_g, atm),
+        PressureAbs::from_bar_g(bar_g, atm),
+        atm,
+        air.inlet_temperature,
+        c.stages,
+    )
+    .kw()
 }
 
 /// The trim machine (module doc).
@@ -136,7 +193,6 @@ pub(super) struct MachineCells {
     loaded_fraction: f64,
     cycles_per_hour: f64,
     mean_loaded_power_kw: Option<f64>,
-    full_load_specific_power_kw_per_m3_min: Option<f64>,
 }
 
 /// Per compressor: the annualised figures the measures need.
@@ -145,14 +201,13 @@ pub(super) fn machine_cells(
     logged: &Logged,
     cal: &Calendar,
     is_prod: &[bool],
-    air: &[CompressorAir],
 ) -> Vec<MachineCells> {
     let cells = &cal.cells;
     let mut machines = Vec::new();
     for (i, c) in cs.iter().enumerate() {
         let s = logged.stats[i].as_ref();
         // Masked series for the measures: unloaded out of production, and power above idle.
-        let unl_w = c.unloaded_power_fraction * c.rated_power_kw * 1000.0;
+        let unl_w = logged.unloaded_w[i].unwrap_or(c.unloaded_power_fraction * c.rated_power_kw * 1000.0);
         let (idle_np, above) = match (logged.powers[i], &logged.states[i]) {
             (Some(p), Some(sv)) => {
                 let idle = |k: usize| match sv[k] {
@@ -180,7 +235,6 @@ pub(super) fn machine_cells(
                 _ => 0.0,
             })
         });
-        let a = &air[i];
         machines.push(MachineCells {
             idle: idle_np,
             above,
@@ -188,7 +242,6 @@ pub(super) fn machine_cells(
             loaded_fraction: s.map_or(0.0, |s| s.loaded_fraction),
             cycles_per_hour: s.map_or(0.0, |s| s.cycles_per_hour),
             mean_loaded_power_kw: s.and_then(|s| s.mean_loaded_power_kw),
-            full_load_specific_power_kw_per_m3_min: if a.estimated { None } else { a.full_load },
         });
     }
     machines
@@ -207,7 +260,9 @@ pub(super) fn machine_uses(d: &DataFigures, rule: AnnualRule, annual_kwh_c: &[f6
             loaded_fraction: m.loaded_fraction,
             cycles_per_hour: m.cycles_per_hour,
             mean_loaded_power_kw: m.mean_loaded_power_kw,
-            full_load_specific_power_kw_per_m3_min: m.full_load_specific_power_kw_per_m3_min,
+            datasheet_power_at_pressure_kw: d.loaded_pressure_bar_g[i]
+                .map(|p| datasheet_power_at(&d.spec.compressors[i], p, &d.spec.air)),
+            loaded_pressure_bar_g: d.loaded_pressure_bar_g[i],
             power_logged: d.power_logged[i],
         })
         .collect()
@@ -228,6 +283,8 @@ pub(super) fn compressor_figures(
         let a = &d.air[i];
         let (sp_c, estimated, full) = (a.specific_power, a.estimated, a.full_load);
         let rated = c.rated_specific_power_kw_per_m3_min();
+        let loaded_p = d.loaded_pressure_bar_g[i];
+        let ds_kw = loaded_p.map(|p| datasheet_power_at(c, p, &d.spec.air));
         let (lo, hi) = band(energy_kwh[i], power_rel(acc, c));
         let s0 = d.stats[i].clone().unwrap_or(StateStats {
             logged_hours: 0.0,
@@ -276,10 +333,14 @@ pub(super) fn compressor_figures(
             estimated,
             full_load_specific_power_kw_per_m3_min: full,
             rated_specific_power_kw_per_m3_min: rated,
-            specific_power_degradation_percent: full.map(|f| (f / rated - 1.0) * 100.0),
-            loaded_power_vs_rated_percent: s0
+            loaded_power_kw: s0.mean_loaded_power_kw,
+            loaded_pressure_bar_g: loaded_p,
+            datasheet_power_at_pressure_kw: ds_kw,
+            loaded_power_vs_datasheet_percent: s0
                 .mean_loaded_power_kw
-                .map(|p| (p / c.rated_power_kw - 1.0) * 100.0),
+                .zip(ds_kw)
+                .map(|(p, ds)| (p / ds - 1.0) * 100.0),
+            levels_kw: d.levels[i].clone(),
             marginal_kw_per_m3_min: states::marginal_kw_per_m3_min(c),
             trim: d.trim == Some(i),
             heat_rejected_kwh: h.rejected_kwh,
@@ -289,4 +350,21 @@ pub(super) fn compressor_figures(
         });
     }
     comp_fig
+}
+
+/// Air-weighted specific power of the machines with logged power at full load, at the pressure each
+/// ran loaded at (else the mean header pressure, else its rating), kW/(m³/min): Σ air_i × P_sheet,i(p_i)
+/// / Q_rated,i over Σ air_i.
+pub(super) fn full_load_specific_power_at_pressure(d: &DataFigures) -> Option<f64> {
+    let (mut num, mut den) = (0.0, 0.0);
+    for (i, c) in d.spec.compressors.iter().enumerate() {
+        let air = d.air[i].air_m3;
+        if !(d.power_logged[i] && air > 0.0 && c.rated_flow_m3_min > 0.0) {
+            continue;
+        }
+        let p = d.loaded_pressure_bar_g[i].or(d.pressure.mean_bar_g).unwrap_or(c.rated_pressure_bar_g);
+        num += air * datasheet_power_at(c, p, &d.spec.air) / c.rated_flow_m3_min;
+        den += air;
+    }
+    (den > 0.0 && num.is_finite()).then(|| num / den)
 }

@@ -128,6 +128,9 @@ pub struct DataFigures {
     tz_ok: bool,
     /// Per compressor.
     stats: Vec<Option<crate::core::states::StateStats>>,
+    /// Per compressor: the levels found in its power, and its mean pressure while loaded, bar(g).
+    levels: Vec<Option<crate::core::levels::Levels>>,
+    loaded_pressure_bar_g: Vec<Option<f64>>,
     power_logged: Vec<bool>,
     energy: MachineEnergy,
     /// Power, W, per compressor (`None`: not logged).
@@ -139,6 +142,8 @@ pub struct DataFigures {
     flow_estimated: bool,
     totals: FlowTotals,
     system: SystemSpecificPower,
+    /// Why the system's specific power is refused, if it is.
+    sp_note: Option<String>,
     rated_sp: Option<f64>,
     trim: Option<usize>,
     marginal: f64,
@@ -172,7 +177,11 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
 
     let energy = machines::energy(frame, &logged);
     let totals = demand::flow_totals(&grid, q, total_power);
-    let system = specific_power::system_specific_power(n, total_power, q, pressure, atm);
+    let (sp_flow, sp_note) = match specific_power::flow_for_specific_power(frame, cs, &logged, &flow) {
+        Ok(f) => (f, None),
+        Err(why) => (None, Some(why)),
+    };
+    let system = specific_power::system_specific_power(n, total_power, sp_flow.as_deref(), pressure, atm);
     let air = specific_power::compressor_air(frame, cs, &logged);
     let rated_sp = specific_power::rated_specific_power(cs, &air);
     let trim = machines::trim(cs, &logged.stats);
@@ -180,7 +189,8 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
     let production = production::production(spec.production.as_ref(), &cal, q, total_power, n);
     let running_cells = baseline::running_cells(&cal, &logged);
     let power_cells = baseline::power_cells(&cal, &logged);
-    let machines = machines::machine_cells(cs, &logged, &cal, &production.is_prod, &air);
+    let machines = machines::machine_cells(cs, &logged, &cal, &production.is_prod);
+    let loaded_pressure_bar_g = machines::loaded_pressure(frame, &logged, atm);
     let control = control::control_case(&grid, cs, &logged, &cal, trim);
     let pressure_fig = pressure::pressure_figures(pressure, atm, cs);
     let timezone = if cal.tz_ok { spec.timezone.clone() } else { "UTC".into() };
@@ -206,6 +216,8 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
         tz_ok: cal.tz_ok,
         power_logged: logged.powers.iter().map(Option::is_some).collect(),
         stats: logged.stats,
+        levels: logged.levels,
+        loaded_pressure_bar_g,
         energy,
         power_cells,
         air,
@@ -215,6 +227,7 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
         flow_estimated: flow.estimated,
         totals,
         system,
+        sp_note,
         rated_sp,
         trim,
         marginal,
@@ -417,6 +430,15 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         crate::core::heat::DEFAULT_DELIVERY_TEMPERATURE_RISE_K
     ));
 
+    let full_load_sp = machines::full_load_specific_power_at_pressure(d);
+    methods.push(method(
+        "part_load_penalty_percent",
+        "(system specific power / Σ air_i × P_sheet,i(p_loaded,i) / Q_rated,i ÷ Σ air_i - 1) × 100, over the machines with logged power",
+        "data-sheet full-load power (ISO 1217) corrected to the logged pressure by the ratio of isentropic work; the rest is control (part-load) loss",
+    ));
+    if let Some(why) = &d.sp_note {
+        assumptions.push(why.clone());
+    }
     let (e_lo, e_hi) = band(sys_energy, u_power);
     let (p_lo, p_hi) = band(sys_mean_kw, u_power);
     let (a_lo, a_hi) = band(d.totals.air_m3, u_flow);
@@ -450,7 +472,9 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             specific_power_kw_per_100cfm: sp.map(kw_per_100cfm),
             specific_power_kwh_per_m3: sp.map(|s| s / 60.0),
             rated_specific_power_kw_per_m3_min: d.rated_sp,
-            specific_power_degradation_percent: sp.zip(d.rated_sp).map(|(s, r)| (s / r - 1.0) * 100.0),
+            full_load_specific_power_at_pressure_kw_per_m3_min: full_load_sp,
+            part_load_penalty_percent: sp.zip(full_load_sp).map(|(s, f)| (s / f - 1.0) * 100.0),
+            specific_power_note: d.sp_note.clone(),
             isothermal_efficiency: iso,
             isothermal_efficiency_low: iso.map(|x| x * (1.0 - u_iso)),
             isothermal_efficiency_high: iso.map(|x| x * (1.0 + u_iso)),

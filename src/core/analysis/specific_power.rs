@@ -8,6 +8,11 @@ power beside its data sheet.
   ratio of averages over different periods (ISO 1217 defines specific package input power as input
   power over free-air delivery at the same operating point; computing it bin by bin is common
   practice, since the product of averages is not the average of products).
+- **Only what was measured**: a compressor whose power is not logged is left out of both sides, its
+  air and its kW: its own flow meter is taken out of a system meter, and where it has none the
+  figure is refused with the reason (`specific_power_note`), never mixed (the air of two machines
+  over the kW of one would read about half the truth). Without a system meter the flow is the
+  machines' own meters: each machine with logged power needs one, or the figure is refused.
 - **Isothermal efficiency**: Σ isothermal power of the logged flow between the site atmosphere and the
   header pressure / Σ logged power, over bins where all three exist (ideal-gas isothermal work).
 */
@@ -40,6 +45,68 @@ pub(super) fn system_flow(frame: &Frame, logged: &Logged) -> SystemFlow {
         ),
     };
     SystemFlow { values, source, estimated }
+}
+
+/// The flow that specific power may divide the logged power by: the air of the compressors whose
+/// power is logged, and only theirs (module doc). With every compressor's power logged, or with the
+/// flow estimated from the states of the logged machines, it is the system flow. Otherwise a metered
+/// flow that holds the air of a machine without logged power has that machine's own meter taken
+/// out, or, where the machine has none, the figure is refused with the reason.
+pub(super) fn flow_for_specific_power<'a>(
+    frame: &Frame,
+    cs: &[CompressorSpec],
+    logged: &Logged,
+    flow: &'a SystemFlow,
+) -> Result<Option<std::borrow::Cow<'a, [f32]>>, String> {
+    use std::borrow::Cow;
+    let Some(q) = flow.values.as_deref() else { return Ok(None) };
+    if flow.estimated {
+        return Ok(Some(Cow::Borrowed(q)));
+    }
+    let has_system_meter =
+        frame.columns.iter().any(|c| c.signal == crate::core::series::Signal::Flow && c.compressor.is_none());
+    let powered = |i: usize| logged.powers[i].is_some();
+    if has_system_meter {
+        if logged.without_power.is_empty() {
+            return Ok(Some(Cow::Borrowed(q)));
+        }
+        // The system meter minus the unpowered machines' own meters.
+        let unpowered: Vec<usize> = (0..cs.len()).filter(|&i| !powered(i)).collect();
+        let missing: Vec<&str> =
+            unpowered.iter().filter(|&&i| frame.flow_of(i).is_none()).map(|&i| cs[i].tag.as_str()).collect();
+        if !missing.is_empty() {
+            return Err(format!(
+                "specific power refused: no power is logged for {} and the metered flow holds their air, \
+                 which cannot be taken out without a meter of their own",
+                missing.join(", ")
+            ));
+        }
+        let mut out = q.to_vec();
+        for &i in &unpowered {
+            let own = &frame.flow_of(i).expect("checked above").values;
+            for (a, &b) in out.iter_mut().zip(own) {
+                *a -= b;
+            }
+        }
+        return Ok(Some(Cow::Owned(out)));
+    }
+    // No system meter: the flow is the machines' own meters summed. Keep the meters of the machines
+    // with logged power; each of them needs one, or its kW would be divided by others' air.
+    let unmetered: Vec<&str> = (0..cs.len())
+        .filter(|&i| powered(i) && frame.flow_of(i).is_none())
+        .map(|i| cs[i].tag.as_str())
+        .collect();
+    if !unmetered.is_empty() {
+        return Err(format!(
+            "specific power refused: {} have logged power but no flow meter, and there is no system meter",
+            unmetered.join(", ")
+        ));
+    }
+    if logged.without_power.is_empty() {
+        return Ok(Some(Cow::Borrowed(q)));
+    }
+    let meters = (0..cs.len()).filter(|&i| powered(i)).filter_map(|i| frame.flow_of(i));
+    Ok(sum_columns(frame.grid.len, meters.map(|c| c.values.as_slice())).map(Cow::Owned))
 }
 
 /// The system's interval-synchronous figures.

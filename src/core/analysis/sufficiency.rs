@@ -268,7 +268,8 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         sys.specific_power_kw_per_m3_min_high = None;
         sys.specific_power_kw_per_100cfm = None;
         sys.specific_power_kwh_per_m3 = None;
-        sys.specific_power_degradation_percent = None;
+        sys.part_load_penalty_percent = None;
+        sys.full_load_specific_power_at_pressure_kw_per_m3_min = None;
         sys.isothermal_efficiency_low = None;
         sys.isothermal_efficiency_high = None;
         sys.part_load_curve.clear();

@@ -13,7 +13,7 @@ energy above idle.
 | `recover_heat` | the displaced fuel (heater efficiency, fuel price) in the months the heat is used | 250 per kW of recoverable heat at full load |
 | `shut_off_idle` | energy spent unloaded in non-production hours | 800 per compressor (timer or sequencer rule) |
 | `improve_control` | the best replayed scenario (below), else the trim's logged energy - the same demand on a variable-speed trim (the audit's own VSD curve, or the typical curve of `states`) | the scenario's cost (quoted, or `simulate::default_cost`); else 350 per kW of trim rating (a VSD trim), 3000 fixed when the audit already has a VSD to sequence as trim |
-| `replace_compressor` | loaded hours × (measured loaded kW - data-sheet kW) | 400 per kW rated |
+| `replace_compressor` | when the mean loaded power is more than 10 % above the data sheet's full-load power corrected to the mean pressure while loaded (ratio of isentropic work, `thermo::power_at_pressure`): loaded hours × (measured loaded kW - that corrected kW); nothing else (no comparison with the uncorrected rated power) | 400 per kW rated |
 
 **Never more than the energy acted on**: each measure's electricity saving is capped by the annual
 energy it acts on (the trim's energy above idle for a demand cut, the system's annual energy for the
@@ -144,6 +144,9 @@ pub fn apply_implementation_costs(recs: &mut [Recommendation], edited: &BTreeMap
 
 /// 2 psi in bar: the step of the "1 % per 2 psi" rule (US DOE compressed-air sourcebook).
 pub const BAR_PER_2_PSI: f64 = 2.0 * 6_894.757_293_168 / 100_000.0;
+/// `replace_compressor` is proposed when the loaded power is this far above the data sheet's
+/// full-load power at the loaded pressure (common practice; module doc table).
+pub const REPLACE_ABOVE_DATASHEET: f64 = 0.10;
 /// Default share of the estimated leak flow a repair campaign removes (common practice).
 pub const DEFAULT_LEAK_REPAIR_FRACTION: f64 = 0.5;
 /// Default pressure reduction below the mean header pressure, bar (common practice).
@@ -301,8 +304,10 @@ pub struct MachineUse {
     pub loaded_fraction: f64,
     pub cycles_per_hour: f64,
     pub mean_loaded_power_kw: Option<f64>,
-    /// Full-load specific power measured (or from rated flow), kW/(m³/min).
-    pub full_load_specific_power_kw_per_m3_min: Option<f64>,
+    /// The data sheet's full-load power at the pressure the machine ran loaded at, kW.
+    pub datasheet_power_at_pressure_kw: Option<f64>,
+    /// Mean pressure while loaded, bar(g).
+    pub loaded_pressure_bar_g: Option<f64>,
     pub power_logged: bool,
 }
 

@@ -36,6 +36,11 @@ fn lu() -> CompressorSpec {
         rated_flow_m3_min: 9.5,
         rated_pressure_bar_g: 7.5,
         unloaded_power_fraction: 0.25,
+        no_load_power_kw: None,
+        nameplate_motor_kw: None,
+        max_pressure_bar_g: None,
+        unloaded_level_kw: None,
+        loaded_level_kw: None,
         stages: 1,
         rated_specific_power_kw_per_m3_min: None,
         power_curve: vec![],
@@ -280,18 +285,27 @@ fn measures_rank_by_payback_and_heat_carries_its_caution() {
 }
 
 #[test]
-fn a_machine_drawing_more_than_its_data_sheet_is_flagged() {
+fn a_machine_is_flagged_only_against_its_data_sheet_at_the_pressure_it_ran_at() {
+    // 62 kW loaded for a 55 kW / 7.5 bar(g) data sheet.
+    let fixture: serde_json::Value =
+        serde_json::from_str(include_str!("../../../tests/reference/fixture.json")).unwrap();
+    // fixture: fluids 1.3.1, that data sheet corrected to 8.5 bar(g) by the ratio of isentropic work.
+    let at_8_5 = fixture["values"]["datasheet.power_at_85_bar_g_kw"]["value"].as_f64().unwrap();
     let s = site();
     let cs = vec![lu()];
     // At least its loaded energy, 62 kW x 4000 h: a measure saves no more than the energy it acts on.
-    let ms = vec![MachineUse {
+    let machine = |bar_g: f64, sheet_kw: f64| MachineUse {
         annual_energy_kwh: 62.0 * 4000.0,
         mean_loaded_power_kw: Some(62.0),
+        datasheet_power_at_pressure_kw: Some(sheet_kw),
+        loaded_pressure_bar_g: Some(bar_g),
         annual_loaded_hours: 4000.0,
         power_logged: true,
         ..Default::default()
-    }];
+    };
     let costs = CostOverrides::default();
+    // At its rated 7.5 bar(g): 12.7 % above 55 kW, flagged; saving 7 kW × 4000 h.
+    let ms = vec![machine(7.5, 55.0)];
     let mut inp = input(&s, &cs, &ms, &costs);
     inp.leak_flow_m3_min = None;
     inp.mean_pressure_bar_g = None;
@@ -300,6 +314,13 @@ fn a_machine_drawing_more_than_its_data_sheet_is_flagged() {
     assert_eq!(r[0].kind, MeasureKind::ReplaceCompressor);
     assert!((r[0].annual_energy_saving_kwh - 7.0 * 4000.0).abs() < 1e-9);
     assert_eq!(r[0].implementation_cost, 400.0 * 55.0);
+    // The same 62 kW at 8.5 bar(g) is 5 % above the corrected data sheet: no saving is priced
+    // (the 28 000 kWh/yr the uncorrected comparison offered is not there).
+    let ms = vec![machine(8.5, at_8_5)];
+    let mut inp = input(&s, &cs, &ms, &costs);
+    inp.leak_flow_m3_min = None;
+    inp.mean_pressure_bar_g = None;
+    assert!(recommend(&inp, &si(&s)).is_empty());
 }
 
 #[test]

@@ -13,7 +13,7 @@ pub fn default_cost(changes: &[Change], leak_flow_m3_min: Option<f64>) -> (f64, 
         let (cost, line) = match c {
             Change::Remove { tag } => (0.0, format!("remove {tag}: 0")),
             Change::Add { compressor: a } => {
-                let rate = if a.control == Control::VariableSpeed {
+                let rate = if Control::parse(&a.control) == Some(Control::VariableSpeed) {
                     costs::PER_KW_VARIABLE_SPEED
                 } else {
                     costs::PER_KW_FIXED_SPEED
@@ -53,26 +53,23 @@ pub fn default_cost(changes: &[Change], leak_flow_m3_min: Option<f64>) -> (f64, 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::core::model::{CompressorKind, Cooling};
     use crate::core::simulate::{AddedCompressor, Scenario};
 
     #[test]
     fn default_cost_adds_up_the_documented_rates() {
         let vsd = AddedCompressor {
             tag: "V".into(),
-            kind: CompressorKind::LubricatedScrew,
-            control: Control::VariableSpeed,
-            cooling: Cooling::Air,
+            kind: "lubricated_screw".into(),
+            control: "variable_speed".into(),
+            cooling: "air".into(),
             rated_power_kw: 30.0,
             rated_flow_m3_min: 5.0,
             rated_pressure_bar_g: 7.5,
-            unloaded_power_fraction: None,
-            power_curve: vec![],
-            min_speed_fraction: None,
+            ..Default::default()
         };
         let changes = vec![
             Change::Remove { tag: "C1".into() },
-            Change::Add { compressor: vsd },
+            Change::Add { compressor: Box::new(vsd) },
             Change::AddStorage { volume_m3: 2.0 },
             Change::ReduceLeaks { fraction: 0.5 },
             Change::ReduceLeaks { fraction: 0.5 },

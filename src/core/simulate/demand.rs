@@ -4,8 +4,8 @@
 
 use super::{fail, ScenarioError, SimInput, BAND_BAR, HOLD_GAP_S, PEAK_WINDOW_S};
 use crate::core::series;
-use crate::core::states;
 use crate::core::units::PA_PER_BAR;
+use crate::core::{levels, states};
 
 pub(super) struct Demand {
     pub(super) step_s: f64,
@@ -47,7 +47,7 @@ pub(super) fn prepare_demand(input: &SimInput) -> Result<Demand, ScenarioError> 
                         ),
                     );
                 };
-                let st = states::classify(spec, &col.values);
+                let st = levels::classify(spec, &col.values);
                 for (s, f) in sum.iter_mut().zip(states::estimated_flow(spec, &st, &col.values)) {
                     *s += f;
                 }

@@ -6,7 +6,8 @@ must reproduce the logged energy: `validation_error`) and the plant with the sce
 
 # Demand
 - From the logged system flow ([`Frame::system_flow`], m³/s free air) if the frame has one; otherwise
-  estimated from each compressor's logged power ([`states::classify`], [`states::estimated_flow`])
+  estimated from each compressor's logged power (states on the levels found in it, [`levels::classify`];
+  [`states::estimated_flow`])
   minus the air stored in the system volume (`V/p_atm dp/dt` from the logged header pressure).
 - A missing bin holds the last demand if the gap is at most [`HOLD_GAP_S`]; a longer gap is skipped:
   it is left out of the simulated energy and of the logged energy alike (the plant's state carries
@@ -79,7 +80,7 @@ A scenario that changes only the supply side (no `set_pressure`, no `reduce_leak
 `supply_side_only`: only such a scenario can be offered as the `improve_control` measure, because
 lower pressure and leak repair are measures of their own and would otherwise be counted twice.
 
-[`states::classify`]: crate::core::states::classify
+[`levels::classify`]: crate::core::levels::classify
 [`states::estimated_flow`]: crate::core::states::estimated_flow
 [`costs::PER_KW_FIXED_SPEED`]: crate::core::costs::PER_KW_FIXED_SPEED
 [`costs::PER_KW_VARIABLE_SPEED`]: crate::core::costs::PER_KW_VARIABLE_SPEED

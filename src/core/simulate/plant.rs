@@ -14,19 +14,14 @@
 //! | `set_pressure.target_bar_g` | above 0 ..= [`MAX_PRESSURE_BAR_G`] (50 bar(g)) | shop air and boosters (PET blowing at 40 bar(g)); common practice |
 //! | `add_storage.volume_m3` | 0 ..= [`MAX_ADDED_STORAGE_M3`] (10 000 m³) | the system volume of the largest plants (common practice) |
 //! | `reduce_leaks.fraction` | 0 ..= 1 | a share of the leak flow |
-//! | `add.compressor.rated_power_kw` | above 0 ..= 20 000 kW | as a compressor of the audit (`site` module) |
-//! | `add.compressor.rated_flow_m3_min` | above 0 ..= 2000 m³/min | same |
-//! | `add.compressor.rated_pressure_bar_g` | above 0 ..= 50 bar(g) | same |
-//! | `add.compressor.unloaded_power_fraction` | 0 ..= 0.9 | same |
-//! | `add.compressor.min_speed_fraction` | above 0, below 1 | a share of the rated flow |
-//! | `add.compressor.power_curve` | at most 64 points, flow 0 ..= 2000 m³/min, power 0 ..= 20 000 kW | same |
+//! | `add.compressor.*` | as a compressor of the audit (`core::datasheet` table: one shape, one check) | same machines |
 
 use serde::{Deserialize, Serialize};
 
 use super::machine::Machine;
 use super::{fail, ScenarioError, SimInput, BAND_BAR, MIN_REQUIRED_MARGIN_BAR, STAGGER_BAR};
 use super::{VSD_ABOVE_LOAD_BAR, VSD_RESTART_BELOW_SETPOINT_BAR, VSD_STOP_ABOVE_SETPOINT_BAR};
-use crate::core::model::{CompressorKind, CompressorSpec, Control, Cooling};
+use crate::core::model::{CompressorSpec, Control};
 use crate::core::states;
 
 // PI law of a variable-speed drive, scaled to its maximum flow (the demo drive's 20 m³/min per bar,
@@ -41,10 +36,6 @@ pub const MAX_CHANGES: usize = 100;
 pub const MAX_PRESSURE_BAR_G: f64 = 50.0;
 /// Most storage one change adds, m³ (module doc table).
 pub const MAX_ADDED_STORAGE_M3: f64 = 10_000.0;
-const MAX_RATED_POWER_KW: f64 = 20_000.0;
-const MAX_RATED_FLOW_M3_MIN: f64 = 2_000.0;
-const MAX_UNLOADED_POWER_FRACTION: f64 = 0.9;
-const MAX_POWER_CURVE_POINTS: usize = 64;
 
 /// `v` if finite and within `lo..=hi` (above `lo` when `lo_open`), else a message saying so.
 fn within(v: f64, lo: f64, lo_open: bool, hi: f64, unit: &str) -> Result<f64, String> {
@@ -61,108 +52,20 @@ fn within(v: f64, lo: f64, lo_open: bool, hi: f64, unit: &str) -> Result<f64, St
 #[serde(tag = "op", rename_all = "snake_case", deny_unknown_fields)]
 pub enum Change {
     Remove { tag: String },
-    Add { compressor: AddedCompressor },
+    Add { compressor: Box<AddedCompressor> },
     SetPressure { target_bar_g: f64 },
     AddStorage { volume_m3: f64 },
     ReduceLeaks { fraction: f64 },
     Sequence { order: Vec<String> },
 }
 
-/// A compressor added by a scenario: the API.md compressor fields.
-#[derive(Deserialize, Serialize, Clone, Debug)]
-#[serde(deny_unknown_fields)]
-pub struct AddedCompressor {
-    pub tag: String,
-    pub kind: CompressorKind,
-    pub control: Control,
-    pub cooling: Cooling,
-    pub rated_power_kw: f64,
-    pub rated_flow_m3_min: f64,
-    pub rated_pressure_bar_g: f64,
-    #[serde(default)]
-    pub unloaded_power_fraction: Option<f64>,
-    /// Variable speed: `[[flow_m3_min, kw], ...]`, ascending in flow.
-    #[serde(default)]
-    pub power_curve: Vec<(f64, f64)>,
-    /// Variable speed without a curve: minimum flow / rated flow (default 0.20).
-    #[serde(default)]
-    pub min_speed_fraction: Option<f64>,
-}
+/// A compressor added by a scenario: the one data-sheet shape of `core::datasheet`, as the audit's
+/// compressors are posted.
+pub use crate::core::datasheet::DataSheetInput as AddedCompressor;
 
-impl AddedCompressor {
-    /// The data-sheet description; `field` prefixes the error's field name.
-    pub fn to_spec(&self, field: &str) -> Result<CompressorSpec, ScenarioError> {
-        let err = |f: &str, m: String| Err(ScenarioError { field: format!("{field}.{f}"), message: m });
-        if self.tag.trim().is_empty() {
-            return err("tag", "the tag must not be empty".into());
-        }
-        for (name, v, max, unit) in [
-            ("rated_power_kw", self.rated_power_kw, MAX_RATED_POWER_KW, " kW"),
-            ("rated_flow_m3_min", self.rated_flow_m3_min, MAX_RATED_FLOW_M3_MIN, " m³/min"),
-            ("rated_pressure_bar_g", self.rated_pressure_bar_g, MAX_PRESSURE_BAR_G, " bar(g)"),
-        ] {
-            if let Err(m) = within(v, 0.0, true, max, unit) {
-                return err(name, format!("{name} {m}"));
-            }
-        }
-        let unl = self.unloaded_power_fraction.unwrap_or(self.kind.default_unloaded_power_fraction());
-        if let Err(m) = within(unl, 0.0, false, MAX_UNLOADED_POWER_FRACTION, "") {
-            return err("unloaded_power_fraction", m);
-        }
-        if self.power_curve.len() > MAX_POWER_CURVE_POINTS {
-            return err("power_curve", format!("has at most {MAX_POWER_CURVE_POINTS} points"));
-        }
-        let in_range = |q: f64, p: f64| {
-            (0.0..=MAX_RATED_FLOW_M3_MIN).contains(&q) && (0.0..=MAX_RATED_POWER_KW).contains(&p)
-        };
-        if self.power_curve.iter().any(|&(q, p)| !in_range(q, p)) {
-            return err(
-                "power_curve",
-                format!("points need flow 0 to {MAX_RATED_FLOW_M3_MIN} m³/min and power 0 to {MAX_RATED_POWER_KW} kW"),
-            );
-        }
-        let mut curve = self.power_curve.clone();
-        if self.control == Control::VariableSpeed {
-            if curve.is_empty() {
-                let f = self.min_speed_fraction.unwrap_or(states::VSD_TYPICAL_MIN_FLOW_FRACTION);
-                if !(f > 0.0 && f < 1.0) {
-                    return err("min_speed_fraction", format!("must lie in 0..1, not {f}"));
-                }
-                let (q, p) = (self.rated_flow_m3_min, self.rated_power_kw);
-                curve = vec![(f * q, p * (states::VSD_TYPICAL_A + states::VSD_TYPICAL_B * f)), (q, p)];
-            }
-            if curve.len() < 2 {
-                return err("power_curve", "needs at least two [flow_m3_min, kw] points".into());
-            }
-            for w in curve.windows(2) {
-                if w[1].0.partial_cmp(&w[0].0) != Some(std::cmp::Ordering::Greater) {
-                    return err("power_curve", "flows must rise strictly from point to point".into());
-                }
-            }
-            if curve.iter().any(|&(q, p)| !(q.is_finite() && p.is_finite() && q >= 0.0 && p >= 0.0)) {
-                return err("power_curve", "flows and powers must be finite and not negative".into());
-            }
-        }
-        let unl = if self.control == Control::VariableSpeed && self.unloaded_power_fraction.is_none() {
-            curve[0].1 / self.rated_power_kw
-        } else {
-            unl
-        };
-        Ok(CompressorSpec {
-            tag: self.tag.clone(),
-            kind: self.kind,
-            control: self.control,
-            cooling: self.cooling,
-            rated_power_kw: self.rated_power_kw,
-            rated_flow_m3_min: self.rated_flow_m3_min,
-            rated_pressure_bar_g: self.rated_pressure_bar_g,
-            unloaded_power_fraction: unl,
-            stages: 1,
-            rated_specific_power_kw_per_m3_min: None,
-            power_curve: curve,
-            year: None,
-        })
-    }
+/// The data-sheet description of an added machine; `field` prefixes the error's field name.
+pub(super) fn added_spec(c: &AddedCompressor, field: &str) -> Result<CompressorSpec, ScenarioError> {
+    c.validate().map_err(|e| ScenarioError { field: format!("{field}.{}", e.field), message: e.message })
 }
 
 /// A named list of changes; no changes is the plant as it is.
@@ -196,7 +99,7 @@ impl Scenario {
             let field = |f: &str| format!("changes[{k}].{f}");
             match c {
                 Change::Add { compressor } => {
-                    compressor.to_spec(&field("compressor"))?;
+                    added_spec(compressor, &field("compressor"))?;
                 }
                 Change::SetPressure { target_bar_g } => {
                     within(*target_bar_g, 0.0, true, MAX_PRESSURE_BAR_G, " bar(g)")
@@ -337,7 +240,7 @@ pub(super) fn apply(input: &SimInput, scenario: &Scenario) -> Result<Applied, Sc
                 }
             }
             Change::Add { compressor } => {
-                let spec = compressor.to_spec(&field("compressor"))?;
+                let spec = added_spec(compressor, &field("compressor"))?;
                 if specs.iter().any(|s| s.tag == spec.tag) {
                     return fail(
                         field("compressor.tag"),

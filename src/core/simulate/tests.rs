@@ -226,7 +226,7 @@ fn a_vsd_trim_added_to_a_load_unload_plant_saves_energy_at_part_load() {
     .unwrap();
     let sc = Scenario {
         name: "vsd".into(),
-        changes: vec![Change::Add { compressor: vsd }],
+        changes: vec![Change::Add { compressor: Box::new(vsd) }],
         implementation_cost: None,
     };
     let r = run_plant(&frame, &c, 3.0, None, &sc);

@@ -77,10 +77,10 @@ async fn describe(
                 b.channels.iter().filter(|ch| ch.compressor_id == Some(item)).map(|ch| ch.readings).sum();
             let mut lines = vec![format!(
                 "{} ({}, {}, {}) is removed from the audit.",
-                c.tag,
-                c.kind.label(),
-                fmt.power_kw(c.rated_power_kw),
-                fmt.flow_m3_min(c.rated_flow_m3_min)
+                c.spec.tag,
+                c.spec.kind.label(),
+                fmt.power_kw(c.spec.rated_power_kw),
+                fmt.flow_m3_min(c.spec.rated_flow_m3_min)
             )];
             if readings > 0 {
                 lines.push(format!(
@@ -88,7 +88,7 @@ async fn describe(
                      out again without them. To correct its data-sheet values instead, edit it."
                 ));
             }
-            (format!("Remove compressor {}?", c.tag), lines, format!("Remove {}", c.tag))
+            (format!("Remove compressor {}?", c.spec.tag), lines, format!("Remove {}", c.spec.tag))
         }
         Kind::Receiver => {
             let r = b.receivers.iter().find(|r| r.id == item).ok_or_else(|| gone("receiver", id, item))?;

@@ -38,13 +38,13 @@ fn page(
     error: Option<String>,
 ) -> EditPage {
     let title = match (&compressor, &receiver) {
-        (Some(c), _) => format!("Edit compressor {}", c.tag),
+        (Some(c), _) => format!("Edit compressor {}", c.spec.tag),
         (_, Some(r)) => format!("Edit receiver {}", r.name),
         _ => "Edit".into(),
     };
     let curve = compressor
         .as_ref()
-        .map(|c| c.power_curve.iter().map(|(q, kw)| format!("{q}:{kw}")).collect::<Vec<_>>().join(" "))
+        .map(|c| c.spec.power_curve.iter().map(|(q, kw)| format!("{q}:{kw}")).collect::<Vec<_>>().join(" "))
         .unwrap_or_default();
     EditPage {
         audit,
@@ -102,7 +102,7 @@ pub async fn save_compressor(
         Err(e) => {
             // What was typed, shown again where it reads back into the record.
             let mut shown = stored;
-            if let Ok(Ok(v)) = compressor_input(&form).map(|i| i.validate()) {
+            if let Ok(Ok(v)) = compressor_input(&form).map(|i| CompressorRecord::from_input(&i)) {
                 shown = CompressorRecord { id: cid, ..v };
             }
             refused(page(b.audit, Some(shown), None, None), e)

@@ -134,7 +134,7 @@ fn page(
             .iter()
             .map(|q| (quantity_label(*q), unit_table::choices(*q).map(|u| (u.code, u.label)).collect()))
             .collect(),
-        compressors: b.compressors.iter().map(|c| c.tag.clone()).collect(),
+        compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         timezone: m.timestamp.timezone.clone(),
         format: m.timestamp.format.clone(),
         error,

@@ -186,7 +186,7 @@ pub async fn scenarios(
         page_data: serde_json::json!({"audit_id": id, "traces": traces, "edit": edit}),
         has_data: !b.uploads.is_empty(),
         editing,
-        compressors: b.compressors.iter().map(|c| c.tag.clone()).collect(),
+        compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         rows,
         audit: b.audit,
     }))

@@ -67,7 +67,7 @@ pub async fn tests(
         .collect();
     Ok(render(&TestsPage {
         system_volume_m3: b.storage().system_volume_m3(),
-        compressors: b.compressors.iter().map(|c| c.tag.clone()).collect(),
+        compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         page_data: serde_json::json!({"audit_id": id, "atmosphere_pa": b.audit.site.atmospheric_pressure_kpa_abs() * 1000.0, "edit": edit}),
         editing,
         tests,

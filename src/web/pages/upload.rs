@@ -20,7 +20,7 @@ pub async fn upload(State(st): State<AppState>, Path(id): Path<i64>) -> PageResu
     let b = st.app.bundle(id).await?;
     let page_data = serde_json::json!({
         "audit_id": id,
-        "compressors": b.compressors.iter().map(|c| c.tag.clone()).collect::<Vec<_>>(),
+        "compressors": b.compressors.iter().map(|c| c.spec.tag.clone()).collect::<Vec<_>>(),
         "units": crate::ingest::units_by_quantity(),
     });
     Ok(render(&UploadPage {

@@ -10,6 +10,7 @@ use serde_json::Value;
 use crate::app::AuditBundle;
 use crate::core::analysis::{Summary, Verdict};
 use crate::core::display::{num, render_parts, Fmt};
+use crate::core::levels::LevelSource;
 use crate::core::model::human_label;
 use crate::core::recommend::CostSource;
 use crate::core::units::{M3_PER_FT3, PA_PER_PSI};
@@ -57,7 +58,14 @@ pub struct CompressorRow {
     pub cycles: String,
     pub specific_power: String,
     pub rated_specific_power: String,
-    pub degradation: String,
+    /// Mean power and pressure while loaded.
+    pub loaded_power: String,
+    /// The data sheet's full-load power corrected to that pressure.
+    pub datasheet_power: String,
+    /// Loaded power against it, %.
+    pub vs_datasheet: String,
+    /// Off / unloaded / loaded levels found in the data.
+    pub levels: String,
     pub estimated: bool,
 }
 
@@ -307,16 +315,17 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
         FigureView {
             label: "System specific power".into(),
             value: or_nd(sys.specific_power_kw_per_m3_min, |v| fmt.specific_power(v)),
-            note: if sys.specific_power_kw_per_m3_min.is_some() {
-                format!(
-                    "range {} to {}; data sheet {} ({} %)",
+            note: match (&sys.specific_power_note, sys.specific_power_kw_per_m3_min) {
+                (Some(why), _) => why.clone(),
+                (None, Some(_)) => format!(
+                    "range {} to {}; the same machines at full load at the logged pressure {}: part-load \
+                     penalty {} % (control loss, not wear)",
                     fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_low)),
                     fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_high)),
-                    fmt.specific_power(nan(sys.rated_specific_power_kw_per_m3_min)),
-                    num(nan(sys.specific_power_degradation_percent), 1)
-                )
-            } else {
-                withheld(sm, "system.specific_power")
+                    fmt.specific_power(nan(sys.full_load_specific_power_at_pressure_kw_per_m3_min)),
+                    num(nan(sys.part_load_penalty_percent), 1)
+                ),
+                (None, None) => withheld(sm, "system.specific_power"),
             },
             estimated,
         },
@@ -435,7 +444,31 @@ fn compressor_rows(sm: &Summary, fmt: &Fmt) -> Vec<CompressorRow> {
             cycles: format!("{} /h", num(c.cycles_per_hour, 1)),
             specific_power: fmt.specific_power(nan(c.specific_power_kw_per_m3_min)),
             rated_specific_power: fmt.specific_power(c.rated_specific_power_kw_per_m3_min),
-            degradation: format!("{} %", num(nan(c.specific_power_degradation_percent), 1)),
+            loaded_power: match (c.loaded_power_kw, c.loaded_pressure_bar_g) {
+                (Some(p), Some(bar)) => format!("{} at {}", fmt.power_kw(p), fmt.pressure_bar_g(bar)),
+                (Some(p), None) => format!("{} (no pressure logged)", fmt.power_kw(p)),
+                _ => fmt.power_kw(f64::NAN),
+            },
+            datasheet_power: fmt.power_kw(nan(c.datasheet_power_at_pressure_kw)),
+            vs_datasheet: match c.loaded_power_vs_datasheet_percent {
+                Some(v) => format!("{:+.1} %", v),
+                None => num(f64::NAN, 1),
+            },
+            levels: match &c.levels_kw {
+                Some(l) => {
+                    let mark =
+                        |s: LevelSource| if s == LevelSource::DataSheet { " (data sheet)" } else { "" };
+                    format!(
+                        "{} / {}{} / {}{}",
+                        fmt.power_kw(nan(l.off)),
+                        fmt.power_kw(l.unloaded),
+                        mark(l.unloaded_source),
+                        fmt.power_kw(l.loaded),
+                        mark(l.loaded_source)
+                    )
+                }
+                None => fmt.power_kw(f64::NAN),
+            },
             estimated: c.estimated,
         })
         .collect()
@@ -580,7 +613,7 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
     let rated_points: Vec<Value> = b
         .compressors
         .iter()
-        .map(|c| serde_json::json!({"x": c.rated_flow_m3_min * flow_k, "y": c.to_spec().rated_specific_power_kw_per_m3_min() * sp_k, "label": c.tag}))
+        .map(|c| serde_json::json!({"x": c.spec.rated_flow_m3_min * flow_k, "y": c.to_spec().rated_specific_power_kw_per_m3_min() * sp_k, "label": c.spec.tag}))
         .collect();
     let channels: Vec<Value> = b
         .channels
