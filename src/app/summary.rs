@@ -87,11 +87,17 @@ pub(super) struct KeptFigures {
     /// `DataSpec` they were made under; after an edit of rated data, site air, time zone or
     /// production schedule they are made again from the (kept) frame.
     figures: Mutex<Kept<DataFigures>>,
+    /// Held while a frame is built (see `frame_keyed`).
+    building: tokio::sync::Mutex<()>,
 }
 
 impl Default for KeptFigures {
     fn default() -> Self {
-        Self { frames: Mutex::new(Kept::new(1)), figures: Mutex::new(Kept::new(16)) }
+        Self {
+            frames: Mutex::new(Kept::new(1)),
+            figures: Mutex::new(Kept::new(16)),
+            building: tokio::sync::Mutex::new(()),
+        }
     }
 }
 
@@ -164,6 +170,13 @@ impl App {
         key: Option<&str>,
     ) -> Result<Option<Arc<Frame>>> {
         let frames = &self.inner.kept.frames;
+        if let Some(f) = key.and_then(|k| frames.lock().expect("frame cache").get(k, |_| true)) {
+            return Ok(Some(f));
+        }
+        // One frame is built at a time, whatever asks for it (a summary, a report's scenarios, a
+        // field test's window): a build holds up to 600,000 bins a column, and two at once put
+        // the server past its memory bound. A caller that waited finds the frame kept meanwhile.
+        let _building = self.inner.kept.building.lock().await;
         if let Some(f) = key.and_then(|k| frames.lock().expect("frame cache").get(k, |_| true)) {
             return Ok(Some(f));
         }

@@ -17,7 +17,11 @@ use crate::core::units::SiteAir;
 type Aligned = (Vec<f32>, Vec<Partial>);
 
 /// The most bins an analysis frame has; longer logs get a coarser step (documented in DEVELOPERS.md).
-pub const MAX_FRAME_BINS: usize = 1_200_000;
+pub const MAX_FRAME_BINS: usize = 600_000;
+
+/// The bin accumulators of a frame being built may hold this much at once (bytes); see
+/// [`load_frame`].
+const ALIGN_BUDGET_BYTES: usize = 16 << 20;
 
 /// A stored channel with the span of its readings.
 #[derive(Debug, Clone, Serialize)]
@@ -186,8 +190,11 @@ pub async fn load_frame(
     let native = chans.iter().map(|c| c.interval_ms()).min().unwrap_or(1000);
     let grid = Grid::choose(from, to, native, MAX_FRAME_BINS);
     // Channels are decoded and aligned side by side, as many at a time as the machine has cores
-    // (each holds its chunk blobs and a bin accumulator of 12 bytes a bin while it runs).
-    let parallel = std::thread::available_parallelism().map_or(1, |n| n.get()).clamp(1, 4);
+    // and the accumulators' budget allows (each holds its chunk blobs and a bin accumulator of 12
+    // bytes a bin while it runs: 7.2 MB at the largest grid, so a long audit at a fine step aligns
+    // no more channels at a time than the budget holds).
+    let cores = std::thread::available_parallelism().map_or(1, |n| n.get()).clamp(1, 4);
+    let parallel = cores.min((ALIGN_BUDGET_BYTES / (12 * grid.len.max(1))).max(1));
     let mut running: std::collections::VecDeque<tokio::task::JoinHandle<Result<Aligned, StoreError>>> =
         Default::default();
     let mut aligned: Vec<Aligned> = Vec::with_capacity(chans.len());
