@@ -37,6 +37,7 @@ use sha2::{Digest, Sha256};
 
 pub mod columns;
 pub mod layout;
+pub mod physics;
 pub mod time;
 
 pub use columns::ColumnGuess;
@@ -269,14 +270,24 @@ pub fn sniff(head: &[u8]) -> Result<Sniffed, IngestError> {
     let mut numeric = Vec::with_capacity(ncols);
     let mut markers_seen: Vec<String> = Vec::new();
     let mut texts: Vec<(String, usize)> = Vec::new();
+    // Each number's data row, for the times.
+    let mut rows_of: Vec<Vec<usize>> = Vec::with_capacity(ncols);
     for i in 0..ncols {
-        let cells = column_cells(i);
         let mut vals = Vec::new();
+        let mut rows = Vec::new();
         let mut other: Vec<&str> = Vec::new();
-        for c in &cells {
+        let mut missing = 0;
+        for (row, c) in data.iter().enumerate().filter_map(|(n, r)| Some((n, r.get(i)?.trim()))) {
+            if c.is_empty() {
+                continue;
+            }
             match parse_cell(c.as_bytes(), dec) {
-                Ok(Cell::Value(v)) => vals.push(v),
+                Ok(Cell::Value(v)) => {
+                    vals.push(v);
+                    rows.push(row);
+                }
                 Ok(Cell::Missing) => {
+                    missing += 1;
                     if markers_seen.len() < 16 && !markers_seen.iter().any(|m| m == c) {
                         markers_seen.push(c.to_string());
                     }
@@ -284,7 +295,8 @@ pub fn sniff(head: &[u8]) -> Result<Sniffed, IngestError> {
                 Err(_) => other.push(c),
             }
         }
-        let is_num = !vals.is_empty() && vals.len() * 2 >= vals.len() + other.len();
+        // A column of nothing but missing markers is a numeric column with no reading.
+        let is_num = (!vals.is_empty() || missing > 0) && vals.len() * 2 >= vals.len() + other.len();
         if is_num {
             for t in other {
                 if let Some(e) = texts.iter_mut().find(|(x, _)| x == t) {
@@ -296,6 +308,7 @@ pub fn sniff(head: &[u8]) -> Result<Sniffed, IngestError> {
         }
         numeric.push(is_num);
         values.push(vals);
+        rows_of.push(rows);
     }
     let missing_markers: Vec<String> = texts
         .into_iter()
@@ -318,7 +331,12 @@ pub fn sniff(head: &[u8]) -> Result<Sniffed, IngestError> {
         let first = *cells.first()?;
         cells.iter().all(|c| *c == first).then_some(first)
     };
-    let columns = (0..ncols)
+    let row_secs = found.as_ref().map(|f| time::row_seconds(f, &data)).unwrap_or_default();
+    let means: Vec<Option<f64>> = values
+        .iter()
+        .map(|v| (!v.is_empty()).then(|| v.iter().map(|x| x.abs()).sum::<f64>() / v.len() as f64))
+        .collect();
+    let mut columns: Vec<ColumnGuess> = (0..ncols)
         .filter(|i| !ts_cols.contains(i))
         .map(|i| {
             let ev = columns::Evidence {
@@ -331,10 +349,12 @@ pub fn sniff(head: &[u8]) -> Result<Sniffed, IngestError> {
                     .map(|s| s.trim())
                     .collect(),
                 values: std::mem::take(&mut values[i]),
+                times: rows_of[i].iter().map(|&r| row_secs.get(r).copied().flatten()).collect(),
             };
             columns::guess(&header[i], i, numeric[i], &ev)
         })
         .collect();
+    physics::settle_flow(&mut columns, &header, &means);
     // The lines for the page.
     let mut lines = Vec::new();
     let from = lay.upper.iter().copied().min().unwrap_or(lay.header).saturating_sub(3);
@@ -471,5 +491,7 @@ pub fn layout_key(header: &[String]) -> String {
 
 #[cfg(test)]
 mod layout_tests;
+#[cfg(test)]
+mod physics_tests;
 #[cfg(test)]
 mod tests;

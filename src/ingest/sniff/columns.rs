@@ -5,8 +5,12 @@ under the names, the bracketed part of the name (`[kW]`, `(m³/min)`), a unit wo
 write `30,75 <tab> KW`), the upper rows of a multi-row header, and last the quantity's word in the
 name with the unit guessed from the values' range (said in the note).
 
-A name that says reactive or apparent (`reactive`, `apparent`, German `Blind-`, `Schein-`) is
-not proposed as power or energy: a compressor's draw is active power.
+A name that says reactive, apparent or non-active (`reactive`, `apparent`, German `Blind-`,
+`Schein-`, the symbols S, Q, N glued to `Power` or beside a sum or phase, `kVA`, `kvar`, power
+factor, fundamental or harmonic parts; IEC 60050-131, IEEE 1459) is not proposed as power or
+energy, even with a power unit: a compressor's draw is active power. A name for active power
+(`PowerP`, `P_total`, `P L1`, `active`, `real`) is power without the word "power"; a bare `P` is not
+(it is as often a pressure).
 
 Rules for a pressure unit that does not say gauge or absolute (`bar`, `psi`, `mWS`): gauge
 (common shop practice: gauges show gauge pressure), except inches of mercury whose values sit
@@ -15,9 +19,9 @@ barometric pressure is reported in inHg absolute).
 
 Value ranges for a quantity named without a unit (common practice for compressed-air plants, to
 be checked by the auditor, which the note asks): pressure up to 25 is bar(g), up to 250 psig, up
-to 2,500 kPa(g); power up to 2,000 is kW, above it W; flow up to 60 is m³/min (no guess above);
-temperature -60 to 200 is °C; an energy counter is kWh. Pressure between 850 and 1,100 is a
-barometer's absolute reading in hPa (= mbar).
+to 2,500 kPa(g); flow up to 60 is m³/min (no guess above); temperature -60 to 200 is °C. Pressure
+between 850 and 1,100 is a barometer's absolute reading in hPa (= mbar). Power, energy counters,
+and flow in a file that logs power: see [`super::physics`].
 */
 
 use crate::core::unit_table;
@@ -49,6 +53,9 @@ pub struct Evidence<'a> {
     pub upper_rows: Vec<&'a str>,
     /// The numbers of the sample (markers left out).
     pub values: Vec<f64>,
+    /// Each number's row time, seconds (`None` where the timestamp did not read), when a
+    /// timestamp was found; empty otherwise.
+    pub times: Vec<Option<f64>>,
 }
 
 /// A unit hint: (unit, unqualified pressure).
@@ -113,31 +120,92 @@ fn unit_word(words: &[String]) -> Option<(usize, &'static unit_table::UnitSpelli
     None
 }
 
-/// The quantity a name's words say, without a unit.
-fn quantity_word(name: &str) -> Option<&'static str> {
+/// What a name says of an electrical power or energy: active (what a compressor draws), or not.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Electrical {
+    /// Active (real) power or energy: `active`, `real`, German `Wirk-`, `PowerP`, `P_total`.
+    Active,
+    /// Apparent (S, VA), reactive (Q, var), non-active (N), fundamental or harmonic parts, and
+    /// power factor: IEC 60050-131 and IEEE 1459 name these apart from active power P.
+    NotActive,
+}
+
+/// Active power or not, from the name's words (`None` when the name says neither).
+pub fn electrical(name: &str) -> Option<Electrical> {
     let l = name.to_lowercase();
-    let has = |ws: &[&str]| ws.iter().any(|w| l.contains(w));
-    if has(&["reactive", "apparent", "blind", "schein"]) {
-        // Reactive and apparent power and energy (kvar, kVA) are not what a compressor draws.
-        None
-    } else if has(&["energy", "energie", "arbeit", "kwh"]) {
-        Some("energy")
-    } else if has(&["power", "leistung"]) {
-        Some("power")
-    } else if has(&["pressure", "druck"]) {
-        Some("pressure")
-    } else if has(&["flow", "durchfluss", "volumenstrom", "fad"]) {
-        Some("flow")
-    } else if has(&["temperature", "temperatur", "temp"]) {
-        Some("temperature")
-    } else if has(&["current", "amps", "strom"]) {
-        Some("current")
+    let words: Vec<&str> = l.split(|c: char| !c.is_alphanumeric()).filter(|w| !w.is_empty()).collect();
+    let has_word = |ws: &[&str]| words.iter().any(|w| ws.contains(w));
+    let sub = |ss: &[&str]| ss.iter().any(|s| l.contains(s));
+    // The symbol glued to `power` (`PowerP_A_avg`, `PowerS_Total`, `PowerQfund_B`).
+    let symbol = words.iter().find_map(|w| w.strip_prefix("power").filter(|r| !r.is_empty()));
+    let not_active = sub(&[
+        "apparent", "reactive", "nonactive", "non-active", "non active", "blind", "schein", "factor",
+        "cosphi", "cos phi", "fundamental", "harmonic",
+    ]) || has_word(&["kva", "va", "mva", "kvar", "var", "mvar", "kvah", "vah", "kvarh", "varh", "pf"])
+        || symbol.is_some_and(|r| r != "p" && r != "kw" && r != "w")
+        // `S` or `Q` beside `power`, a sum or a phase: apparent or reactive power.
+        || (has_word(&["s", "q"]) && has_word(&["power", "total", "tot", "sum", "l1", "l2", "l3"]));
+    // `P` beside a sum or a phase conductor (IEC 60445: L1, L2, L3), not alone: a bare `P` is as
+    // often a pressure in a compressor room.
+    let p_total = (has_word(&["p"]) && has_word(&["total", "tot", "sum", "l1", "l2", "l3"]))
+        || has_word(&["ptot", "psum", "ptotal"]);
+    let active_word = words.iter().any(|w| {
+        ["active", "real", "wirk"].iter().any(|a| {
+            w == a
+                || w.strip_prefix(a).is_some_and(|r| {
+                    ["power", "energy", "leistung", "energie", "arbeit"].iter().any(|q| r.starts_with(q))
+                })
+        })
+    });
+    if not_active {
+        Some(Electrical::NotActive)
+    } else if symbol.is_some() || p_total || active_word {
+        Some(Electrical::Active)
     } else {
         None
     }
 }
 
-fn from_range(quantity: &str, values: &[f64]) -> Option<&'static str> {
+/// The quantity a name's words name, active or not (`PowerP`, `P_total` name power; `real` or
+/// `active` alone only when no other quantity is named).
+fn named_quantity(name: &str) -> Option<&'static str> {
+    let l = name.to_lowercase();
+    let has = |ws: &[&str]| ws.iter().any(|w| l.contains(w));
+    let other = if has(&["pressure", "druck"]) {
+        Some("pressure")
+    } else if has(&["flow", "durchfluss", "volumenstrom", "fad"]) {
+        Some("flow")
+    } else if has(&["temperature", "temperatur", "temp"]) {
+        Some("temperature")
+    } else if has(&["current", "amps", "strom", "irms"]) {
+        Some("current")
+    } else {
+        None
+    };
+    if has(&["energy", "energie", "arbeit", "kwh"]) {
+        Some("energy")
+    } else if has(&["power", "leistung"]) || (other.is_none() && electrical(name) == Some(Electrical::Active))
+    {
+        Some("power")
+    } else {
+        other
+    }
+}
+
+/// The quantity a name's words say, without a unit. Reactive, apparent and other non-active
+/// power and energy (kvar, kVA) are not what a compressor draws: none.
+pub fn quantity_word(name: &str) -> Option<&'static str> {
+    let q = named_quantity(name)?;
+    let electric = q == "power" || q == "energy";
+    (!(electric && electrical(name) == Some(Electrical::NotActive))).then_some(q)
+}
+
+fn from_range(quantity: &str, values: &[f64], times: &[Option<f64>]) -> Option<&'static str> {
+    match quantity {
+        "power" => return Some(super::physics::power_unit(values)),
+        "energy" => return super::physics::energy_unit(values, times),
+        _ => {}
+    }
     let max = values.iter().fold(f64::NEG_INFINITY, |m, v| m.max(v.abs()));
     if !max.is_finite() {
         return None;
@@ -149,11 +217,8 @@ fn from_range(quantity: &str, values: &[f64]) -> Option<&'static str> {
         "pressure" if max <= 25.0 => Some("bar_g"),
         "pressure" if max <= 250.0 => Some("psig"),
         "pressure" if max <= 2500.0 => Some("kPa_g"),
-        "power" if max <= 2000.0 => Some("kW"),
-        "power" => Some("W"),
         "flow" if max <= 60.0 => Some("m3_min"),
         "temperature" if values.iter().all(|v| (-60.0..=200.0).contains(v)) => Some("C"),
-        "energy" => Some("kWh"),
         "current" => Some("A"),
         _ => None,
     }
@@ -179,7 +244,7 @@ pub fn guess(name: &str, index: usize, numeric: bool, ev: &Evidence) -> ColumnGu
             // A lone letter that a quantity word of the name contradicts is a phase or a
             // channel letter (`PowerS_A_avg`), not a unit.
             let letter = words[i].chars().count() == 1;
-            let contradicted = quantity_word(name).is_some_and(|qw| qw != u.quantity.as_str());
+            let contradicted = named_quantity(name).is_some_and(|qw| qw != u.quantity.as_str());
             if !(letter && contradicted) {
                 hint = Some((u, q, "name"));
             }
@@ -216,6 +281,14 @@ pub fn guess(name: &str, index: usize, numeric: bool, ev: &Evidence) -> ColumnGu
     let mut note = None;
     let mut unit: Option<&'static unit_table::UnitSpelling> = None;
     let mut from = None;
+    let electric = |u: &unit_table::UnitSpelling| {
+        matches!(u.quantity, unit_table::LoggedQuantity::Power | unit_table::LoggedQuantity::Energy)
+    };
+    if hint.is_some_and(|(u, _, _)| electric(u)) && electrical(name) == Some(Electrical::NotActive) {
+        // Apparent, reactive or another non-active part: not what a compressor draws.
+        hint = None;
+        note = Some("apparent, reactive or non-active power: not a compressor's draw".into());
+    }
     if let Some((u, unqualified, f)) = hint {
         unit = Some(u);
         from = Some(f);
@@ -233,16 +306,21 @@ pub fn guess(name: &str, index: usize, numeric: bool, ev: &Evidence) -> ColumnGu
             }
         }
     } else if let Some(q) = quantity_word(name) {
-        if let Some(code) = from_range(q, &ev.values) {
+        if let Some(code) = from_range(q, &ev.values, &ev.times) {
             let lq = unit_table::LoggedQuantity::ALL.into_iter().find(|l| l.as_str() == q);
             unit = lq.and_then(|lq| unit_table::find(lq, code));
             from = Some("values");
             let label = unit.map_or(code, |u| u.label);
-            note =
-                Some(format!("no unit in the file: {label} guessed from the name and the values; check it"));
+            note = Some(if ev.values.is_empty() {
+                format!("no unit in the file and no reading in the sample: {label} proposed; check it")
+            } else {
+                format!("no unit in the file: {label} guessed from the name and the values; check it")
+            });
         } else {
             note = Some(format!("looks like {q}, but the file gives no unit: choose it"));
         }
+    } else if named_quantity(name).is_some() && electrical(name) == Some(Electrical::NotActive) {
+        note = Some("apparent, reactive or non-active power: not a compressor's draw".into());
     }
     let (quantity, unit, unit_label) = match unit {
         Some(u) if numeric => {

@@ -235,3 +235,23 @@ pub fn find(header: &[String], data: &[&Vec<String>], numeric: &[bool], decimal:
     }
     None
 }
+
+/// Each data row's time, seconds since the epoch (UTC as read; only steps matter), where the
+/// found timestamp reads.
+pub fn row_seconds(f: &Found, data: &[&Vec<String>]) -> Vec<Option<f64>> {
+    let Some(mut p) = parser(&f.format) else { return vec![None; data.len()] };
+    data.iter()
+        .map(|r| {
+            let d = r.get(f.column)?.trim();
+            let cell = match f.time_column {
+                Some(t) => format!("{d} {}", r.get(t)?.trim()),
+                None => d.to_string(),
+            };
+            let cell = match f.interval {
+                Some(end) => interval_end(cell.as_bytes(), end)?.to_vec(),
+                None => cell.into_bytes(),
+            };
+            p.parse(&cell).map(|(ms, _)| ms as f64 / 1e3)
+        })
+        .collect()
+}

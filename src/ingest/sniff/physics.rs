@@ -1,0 +1,156 @@
+/*!
+Units chosen from physics when a file states none: what one logged machine can draw, and what a
+compressor's flow costs in power. Every limit here is common practice from memory, to be checked
+by the auditor (the column's note asks for it).
+
+- **One machine's draw**: a single logged machine in a shop compressed-air system draws at most
+  [`MAX_MACHINE_KW`] (2,000 kW). A power column without a unit is kW when no reading exceeds it,
+  else W. An energy counter without a unit is kWh unless the mean power its increments imply,
+  read as kWh, exceeds the same limit; then it is Wh. One limit for both, so a logger's power and
+  its counter are read alike.
+- **Specific power**: a compressor delivers one m³/min of free air for roughly 3 to 15 kW
+  ([`SPECIFIC_KW_PER_M3_MIN`]; a loaded screw compressor near 7 bar(g) sits near 6 to 7, part load
+  and small machines higher). A flow column without a unit, in a file that also logs power (or
+  current and voltage), takes the one unit among m³/min, l/min and m³/h that puts the file's power
+  over its flow inside that band; the candidates lie 16.7 to 1,000 times apart and the band is 5
+  wide, so at most one fits. None fitting leaves the unit to the auditor.
+*/
+
+use super::columns::{self, ColumnGuess};
+use crate::core::unit_table::{self, LoggedQuantity};
+
+/// The most one logged machine draws, kW (common practice, from memory).
+pub const MAX_MACHINE_KW: f64 = 2000.0;
+
+/// Plausible specific power of compressed air, kW per m³/min of free air (common practice, from
+/// memory).
+pub const SPECIFIC_KW_PER_M3_MIN: (f64, f64) = (3.0, 15.0);
+
+/// The unit of a power column without one: kW unless a reading exceeds [`MAX_MACHINE_KW`].
+/// With no reading in the sample there is nothing to judge from: kW, the form's first choice
+/// (the column stores nothing from this head; the note asks for a check).
+pub fn power_unit(values: &[f64]) -> &'static str {
+    if values.iter().all(|v| v.abs() <= MAX_MACHINE_KW) {
+        "kW"
+    } else {
+        "W"
+    }
+}
+
+/// The mean power, kW, that a counter's increments imply if it counts kWh: increases between
+/// consecutive timed readings over steps no longer than three median steps (longer gaps are not
+/// logged time), a decrease (a reset) left out with its step. `None` without two such readings.
+pub fn counter_kw_as_kwh(values: &[f64], times: &[Option<f64>]) -> Option<f64> {
+    let pts: Vec<(f64, f64)> = values.iter().zip(times).filter_map(|(v, t)| Some(((*t)?, *v))).collect();
+    let mut steps: Vec<f64> = pts.windows(2).map(|w| w[1].0 - w[0].0).filter(|d| *d > 0.0).collect();
+    if steps.is_empty() {
+        return None;
+    }
+    steps.sort_by(f64::total_cmp);
+    let limit = 3.0 * steps[steps.len() / 2];
+    let (mut kwh, mut seconds) = (0.0, 0.0);
+    for w in pts.windows(2) {
+        let (dt, dv) = (w[1].0 - w[0].0, w[1].1 - w[0].1);
+        if dt > 0.0 && dt <= limit && dv >= 0.0 {
+            kwh += dv;
+            seconds += dt;
+        }
+    }
+    (seconds > 0.0).then(|| kwh / (seconds / 3600.0))
+}
+
+/// The unit of an energy counter without one: kWh, or Wh when kWh would mean more than one
+/// machine draws. `None` when the sample has no two timed readings to judge from.
+pub fn energy_unit(values: &[f64], times: &[Option<f64>]) -> Option<&'static str> {
+    let kw = counter_kw_as_kwh(values, times)?;
+    Some(if kw > MAX_MACHINE_KW { "Wh" } else { "kWh" })
+}
+
+/// A column of volts, by its name (`Voltage`, `Spannung`, `U [V]`, `Volts`).
+fn is_voltage(name: &str) -> bool {
+    let l = name.to_lowercase();
+    let (bracketed, words) = columns::header_tokens(&l);
+    l.contains("voltage")
+        || l.contains("spannung")
+        || bracketed.iter().chain(&words).any(|w| matches!(w.as_str(), "v" | "volt" | "volts"))
+}
+
+/// The electrical power a file logs, kW: the sum of the mean power of its power columns, else the
+/// mean volts of its first voltage column times the summed mean amps of its current columns (a
+/// rough figure: the phase count and power factor are not known; the band is wide for it).
+/// `means` holds each column's mean reading by index.
+pub fn logged_kw(columns: &[ColumnGuess], header: &[String], means: &[Option<f64>]) -> Option<f64> {
+    let mean = |i: usize| means.get(i).copied().flatten();
+    let mut power = None;
+    for c in columns.iter().filter(|c| c.quantity.as_deref() == Some("power")) {
+        let (Some(m), Some(code)) = (mean(c.index), c.unit.as_deref()) else { continue };
+        let Some(u) = unit_table::find(LoggedQuantity::Power, code) else { continue };
+        if let unit_table::ToSi::Scale(w) = u.to_si {
+            *power.get_or_insert(0.0) += m * w / 1e3;
+        }
+    }
+    if power.is_some() {
+        return power;
+    }
+    let volts = header.iter().enumerate().find(|(_, h)| is_voltage(h)).and_then(|(i, _)| mean(i))?;
+    let amps: Vec<f64> = columns
+        .iter()
+        .filter(|c| c.quantity.as_deref() == Some("current"))
+        .filter_map(|c| mean(c.index))
+        .collect();
+    (!amps.is_empty()).then(|| volts * amps.iter().sum::<f64>() / 1e3)
+}
+
+/// A flow column without a unit in the file, given the file's power: the one unit among m³/min,
+/// l/min and m³/h whose specific power falls in the band, with its figure.
+pub fn flow_unit(mean_flow: f64, kw: f64) -> Option<(&'static str, f64)> {
+    if !(mean_flow > 0.0 && kw > 0.0) {
+        return None;
+    }
+    let (lo, hi) = SPECIFIC_KW_PER_M3_MIN;
+    let fits: Vec<(&'static str, f64)> = [("m3_min", 1.0), ("l_min", 1e-3), ("m3_h", 1.0 / 60.0)]
+        .into_iter()
+        .map(|(code, m3_min)| (code, kw / (mean_flow * m3_min)))
+        .filter(|(_, sp)| (lo..=hi).contains(sp))
+        .collect();
+    (fits.len() == 1).then(|| fits[0])
+}
+
+/// Flow columns named as flow with no unit in the file: when the file logs power (or current and
+/// voltage), the unit comes from the specific power, replacing a guess from the values' range;
+/// when no unit fits, none is proposed.
+pub fn settle_flow(columns: &mut [ColumnGuess], header: &[String], means: &[Option<f64>]) {
+    let Some(kw) = logged_kw(columns, header, means) else { return };
+    for c in columns.iter_mut() {
+        let unitless = c.unit_from.is_none() || c.unit_from.as_deref() == Some("values");
+        if !c.numeric || !unitless || columns::quantity_word(&c.column) != Some("flow") {
+            continue;
+        }
+        let Some(mean) = means.get(c.index).copied().flatten() else { continue };
+        match flow_unit(mean, kw)
+            .and_then(|(code, sp)| Some((unit_table::find(LoggedQuantity::Flow, code)?, sp)))
+        {
+            Some((u, sp)) => {
+                c.quantity = Some("flow".into());
+                c.unit = Some(u.code.into());
+                c.unit_label = Some(u.label.into());
+                c.unit_from = Some("values".into());
+                c.note = Some(format!(
+                    "no unit in the file: {} chosen so that the file's power ({kw:.3} kW) over this flow \
+                     is {sp:.1} kW per m³/min, within 3 to 15 for compressed air; check it",
+                    u.label
+                ));
+            }
+            None => {
+                c.quantity = None;
+                c.unit = None;
+                c.unit_label = None;
+                c.unit_from = None;
+                c.note = Some(format!(
+                    "looks like flow, but the file gives no unit and no unit puts its power ({kw:.3} kW) \
+                     at 3 to 15 kW per m³/min: choose it"
+                ));
+            }
+        }
+    }
+}
