@@ -207,8 +207,11 @@ pub(super) async fn run_import(
             last: ms_to_rfc3339(last),
         });
     }
-    if readings == 0 {
-        return Err(bad("the file holds no readings in the mapped columns".into(), None));
+    // A file of rows whose mapped cells are all missing (a meter's error code in every cell) lands
+    // with its quality report and a warning: markers are missing values, never a refusal. A file
+    // with no data row at all is refused.
+    if readings == 0 && report.rows == 0 {
+        return Err(bad("the file holds no data rows below its header".into(), None));
     }
     let first = spans.iter().filter_map(|s| s.0).min();
     let last = spans.iter().filter_map(|s| s.1).max();
@@ -228,6 +231,16 @@ pub(super) async fn run_import(
             .collect();
     report.quality.check_against_rated(&rated);
     let mut warnings = report.quality.warnings();
+    if readings == 0 {
+        warnings.insert(
+            0,
+            format!(
+                "no readings: every cell of the mapped columns in the file's {} rows is missing \
+                 (see the quality report); nothing of this file enters the figures",
+                report.rows
+            ),
+        );
+    }
     if let (Some(f), Some(l)) = (first, last) {
         let others: Vec<(i64, i64)> = sqlx::query(
             "SELECT first_ms, last_ms FROM upload WHERE audit_id = ? AND id != ? AND state = 'complete' \
