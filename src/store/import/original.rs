@@ -24,9 +24,11 @@ use crate::store::{begin_write, StoreError};
 /// Raw bytes per stored piece.
 pub const PIECE_BYTES: usize = 1024 * 1024;
 
-/// Deflate level: 6, zlib's default, packs logger text about 5 to 8 times at some 20 MB/s a core,
-/// which runs beside the parse (measured on the demo's files; see DEVELOPERS.md).
-pub const LEVEL: u8 = 6;
+/// Deflate level: 1, the fastest that still matches repeated strings. Level 6 (zlib's default)
+/// packs logger text tighter but at some 15 MB/s a core it made an 82 MB file's import 5.8 s against
+/// 1.0 s without originals (the bench, 2026-12-04); level 1 makes it 1.24 s, for 23.3 MB kept
+/// against 15.5 MB (see DEVELOPERS.md).
+pub const LEVEL: u8 = 1;
 
 /// Pieces waiting between the compressing thread and the writer.
 const QUEUE: usize = 2;
