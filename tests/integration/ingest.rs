@@ -618,7 +618,7 @@ fn the_summary_is_worked_out_in_the_background_after_an_import_and_an_edit_of_th
 fn a_file_with_a_units_row_and_error_markers_imports_with_the_markers_counted() {
     let s = Server::start();
     let id = s.audit_with_compressor("C1");
-    let mut csv = String::from("Station:;plant 4;;\r\nSerial;2061545;;\r\nTime;C1 Power;Line pressure;Flow\r\n;[kW];[bar];[m3/min]\r\n;Avg;Smp;Avg\r\n");
+    let mut csv = String::from("Station:;plant 4;;\r\nSerial;4410027;;\r\nTime;C1 Power;Line pressure;Flow\r\n;[kW];[bar];[m3/min]\r\n;Avg;Smp;Avg\r\n");
     for i in 0..120 {
         let (p, f) = match i % 10 {
             3 => ("#-1".to_string(), "8,5".to_string()),

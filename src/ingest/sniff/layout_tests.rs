@@ -25,16 +25,16 @@ fn col<'a>(s: &'a Sniffed, name: &str) -> &'a ColumnGuess {
 #[test]
 fn a_preamble_padded_with_delimiters_is_not_data() {
     // Every preamble line padded to the data's five fields, one of them a bare number.
-    let mut file = b"Serial_number:,,,,\n2061545,,,,\nProject:,,,,\nUNIT: ft,,,,\nUNIT: \xb0C,,,,\n\
+    let mut file = b"Serial_number:,,,,\n4410027,,,,\nProject:,,,,\nUNIT: ft,,,,\nUNIT: \xb0C,,,,\n\
         Date,Time,ms,LEVEL,TEMPERATURE\n"
         .to_vec();
     for i in 0..40 {
-        // Hourly rows from 2/11/2022 1:00 PM: the day passes 12 on the third day.
+        // Hourly rows from 3/11/2026 1:00 PM: the day passes 12 on the third day.
         let t = 13 * 60 + i * 60;
         let (d, h, m) = (11 + t / 1440, (t % 1440) / 60, t % 60);
         let (h12, pm) = (if h % 12 == 0 { 12 } else { h % 12 }, if h >= 12 { "PM" } else { "AM" });
         file.extend_from_slice(
-            format!("2/{d}/2022,{h12}:{m:02}:00 {pm},0,-0.2{},21.{}\n", i % 7, i % 9).as_bytes(),
+            format!("3/{d}/2026,{h12}:{m:02}:00 {pm},0,-0.2{},21.{}\n", i % 7, i % 9).as_bytes(),
         );
     }
     let s = sniff(&file).unwrap();
@@ -89,12 +89,12 @@ fn a_units_row_and_an_aggregation_row_under_quoted_names() {
 
 #[test]
 fn a_blank_line_between_header_and_data_is_never_the_header() {
-    let mut file = b"LOGGER\tNEU\r\n\r\nDatum\t17.04.2014\r\n\r\n\
+    let mut file = b"LOGGER\tB7\r\n\r\nDatum\t05.06.2026\r\n\r\n\
         Datum\tUhrzeit\tDurchfluss [l/s]\tT [\xb0C]\t\r\n\r\n"
         .to_vec();
     for i in 0..20 {
         let v = if i % 3 == 0 { "#-1".to_string() } else { format!("{},{}", i, i % 10) };
-        file.extend_from_slice(format!("17.04.2014\t11:{:02}:00\t{v}\t8,{}\t\r\n", i * 2, i % 10).as_bytes());
+        file.extend_from_slice(format!("05.06.2026\t11:{:02}:00\t{v}\t8,{}\t\r\n", i * 2, i % 10).as_bytes());
     }
     let s = sniff(&file).unwrap();
     assert_eq!((s.delimiter.as_str(), s.decimal.as_str()), ("\t", ","));
@@ -145,7 +145,7 @@ fn names_and_bracketed_units_rows_after_a_long_preamble() {
         b"\\DATA\r\n\\*\tDATE_TIME\tMEASURE\tSSPEED\tGAIN\t\r\n\\#\t\t[m3/h]\t[m/s]\t[dB]\t\r\n",
     );
     for i in 0..30 {
-        file.extend_from_slice(format!("A\t09.09.2013 12:25:{i:02}\t122,{i}\t1509,6\t85\t\r\n").as_bytes());
+        file.extend_from_slice(format!("A\t14.05.2026 12:25:{i:02}\t87,{i}\t1482,3\t72\t\r\n").as_bytes());
     }
     let s = sniff(&file).unwrap();
     assert_eq!((s.header_line, s.units_line, s.first_data_line), (38, Some(39), 40));
@@ -186,11 +186,11 @@ fn interval_timestamps_are_proposed_with_their_start_and_the_named_zone() {
 
 #[test]
 fn a_time_column_left_of_the_date_column() {
-    let mut file = b"Identification: H_W1\tSN: 5\r\nMinimum 10.185 mWS\tMaximum 10.191 mWS\t\r\n\
+    let mut file = b"Identification: well 2\tSN: 17\r\nMinimum 7.335 mWS\tMaximum 7.349 mWS\t\r\n\
         Time\tDate\tPressure [mWS]\tTemperature [\xb0C]\t\r\n"
         .to_vec();
     for i in 0..20 {
-        file.extend_from_slice(format!("10:05:{i:02}\t09.09.2013\t10.18{}\t\r\n", i % 10).as_bytes());
+        file.extend_from_slice(format!("08:15:{i:02}\t14.05.2026\t7.34{}\t\r\n", i % 10).as_bytes());
     }
     let s = sniff(&file).unwrap();
     let t = s.timestamp.as_ref().unwrap();
@@ -241,7 +241,7 @@ fn a_value_column_followed_by_a_unit_column_takes_its_unit() {
     let mut file = b"Position\tDate\tTime\tP(SUM)\tUnit\tWH\tUnit\tFREQ\tUnit\r\n".to_vec();
     for i in 0..20 {
         file.extend_from_slice(
-            format!("0\t09.09.2013\t12:30:{:02}\t30,{i}\tKW  \t3,{i}\tKWH   \t50\tHz  \r\n", i * 2)
+            format!("0\t14.05.2026\t12:30:{:02}\t30,{i}\tKW  \t3,{i}\tKWH   \t50\tHz  \r\n", i * 2)
                 .as_bytes(),
         );
     }
