@@ -362,16 +362,7 @@ pub async fn save_compressor(
 }
 
 pub async fn delete_compressor(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
-    let mut tx = begin_write(pool).await?;
-    let n = sqlx::query("DELETE FROM compressor WHERE id = ? AND audit_id = ?")
-        .bind(id)
-        .bind(audit_id)
-        .execute(&mut *tx)
-        .await?
-        .rows_affected();
-    bump(&mut tx, audit_id).await?;
-    tx.commit().await?;
-    Ok(n > 0)
+    delete_owned(pool, "compressor", audit_id, id, After::Revised).await
 }
 
 pub async fn receivers(pool: &SqlitePool, audit_id: i64) -> Result<Vec<ReceiverRecord>, StoreError> {
@@ -439,16 +430,7 @@ pub async fn update_receiver(
 }
 
 pub async fn delete_receiver(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
-    let mut tx = begin_write(pool).await?;
-    let n = sqlx::query("DELETE FROM receiver WHERE id = ? AND audit_id = ?")
-        .bind(id)
-        .bind(audit_id)
-        .execute(&mut *tx)
-        .await?
-        .rows_affected();
-    bump(&mut tx, audit_id).await?;
-    tx.commit().await?;
-    Ok(n > 0)
+    delete_owned(pool, "receiver", audit_id, id, After::Revised).await
 }
 
 pub async fn uploads(pool: &SqlitePool, audit_id: i64) -> Result<Vec<UploadRecord>, StoreError> {
@@ -577,16 +559,7 @@ pub async fn replace_field_test(
 }
 
 pub async fn delete_field_test(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
-    let mut tx = begin_write(pool).await?;
-    let n = sqlx::query("DELETE FROM field_test WHERE id = ? AND audit_id = ?")
-        .bind(id)
-        .bind(audit_id)
-        .execute(&mut *tx)
-        .await?
-        .rows_affected();
-    bump(&mut tx, audit_id).await?;
-    tx.commit().await?;
-    Ok(n > 0)
+    delete_owned(pool, "field_test", audit_id, id, After::Revised).await
 }
 
 pub async fn cost_overrides(pool: &SqlitePool, audit_id: i64) -> Result<Vec<(String, f64)>, StoreError> {
@@ -831,16 +804,7 @@ pub async fn edit_scenario(
 }
 
 pub async fn delete_scenario(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
-    let mut tx = begin_write(pool).await?;
-    let n = sqlx::query("DELETE FROM scenario WHERE id = ? AND audit_id = ?")
-        .bind(id)
-        .bind(audit_id)
-        .execute(&mut *tx)
-        .await?
-        .rows_affected();
-    drop_summary(&mut tx, audit_id).await?;
-    tx.commit().await?;
-    Ok(n > 0)
+    delete_owned(pool, "scenario", audit_id, id, After::Repriced).await
 }
 
 /// Mark scenario `id` as the audit's one proposal (withdrawing any other), or withdraw it; the
@@ -866,4 +830,35 @@ async fn set_proposal(
 async fn drop_summary(tx: &mut sqlx::SqliteConnection, audit_id: i64) -> Result<(), sqlx::Error> {
     sqlx::query("DELETE FROM summary_cache WHERE audit_id = ?").bind(audit_id).execute(&mut *tx).await?;
     Ok(())
+}
+
+/// What a delete of an audit's record does to the audit besides: a new revision (the figures change)
+/// or only the cached summary dropped (a scenario: the ranking may change, the data does not).
+enum After {
+    Revised,
+    Repriced,
+}
+
+/// Delete row `id` of `table` if it belongs to audit `audit_id`, in one transaction with `after`;
+/// whether there was such a row. `table` is one of this module's own table names, never user text.
+async fn delete_owned(
+    pool: &SqlitePool,
+    table: &'static str,
+    audit_id: i64,
+    id: i64,
+    after: After,
+) -> Result<bool, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let n = sqlx::query(&format!("DELETE FROM {table} WHERE id = ? AND audit_id = ?"))
+        .bind(id)
+        .bind(audit_id)
+        .execute(&mut *tx)
+        .await?
+        .rows_affected();
+    match after {
+        After::Revised => bump(&mut tx, audit_id).await?,
+        After::Repriced => drop_summary(&mut tx, audit_id).await?,
+    }
+    tx.commit().await?;
+    Ok(n > 0)
 }
