@@ -336,6 +336,9 @@ pub fn sniff(head: &[u8]) -> Result<Sniffed, IngestError> {
         .iter()
         .map(|v| (!v.is_empty()).then(|| v.iter().map(|x| x.abs()).sum::<f64>() / v.len() as f64))
         .collect();
+    let samples: Vec<Vec<(usize, f64)>> =
+        (0..ncols).map(|i| rows_of[i].iter().copied().zip(values[i].iter().copied()).collect()).collect();
+    let humidity_unit = physics::temperature_from_humidity(&header, &samples);
     let mut columns: Vec<ColumnGuess> = (0..ncols)
         .filter(|i| !ts_cols.contains(i))
         .map(|i| {
@@ -355,6 +358,7 @@ pub fn sniff(head: &[u8]) -> Result<Sniffed, IngestError> {
         })
         .collect();
     physics::settle_flow(&mut columns, &header, &means);
+    physics::settle_temperature(&mut columns, humidity_unit);
     // The lines for the page.
     let mut lines = Vec::new();
     let from = lay.upper.iter().copied().min().unwrap_or(lay.header).saturating_sub(3);

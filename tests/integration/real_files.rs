@@ -366,32 +366,15 @@ fn every_real_file_goes_in_on_the_sniffers_proposal() {
         }
     }
     println!("score: {sniffed}/{n} sniffed right, {imported}/{n} imported, {right}/{n} right within 0.5 %\n");
-    // The one known shortfall, named so that any other failure, and this one's end, are seen.
-    let excused = |sc: &Score| {
-        KNOWN_WRONG.iter().any(|(f, _)| *f == sc.file) && sc.sniffed.is_ok() && sc.imported.is_ok()
-    };
-    let unexcused: Vec<&str> = scores
+    // Every file: sniffed right, imported, and its figures within 0.5 % of the oracle.
+    let failing: Vec<&str> = scores
         .iter()
-        .filter(|sc| !(sc.sniffed.is_ok() && sc.imported.is_ok() && (sc.right.is_ok() || excused(sc))))
-        .map(|sc| sc.file.as_str())
-        .collect();
-    let mended: Vec<&str> = scores
-        .iter()
-        .filter(|sc| sc.right.is_ok() && KNOWN_WRONG.iter().any(|(f, _)| *f == sc.file))
+        .filter(|sc| !(sc.sniffed.is_ok() && sc.imported.is_ok() && sc.right.is_ok()))
         .map(|sc| sc.file.as_str())
         .collect();
     assert!(
-        unexcused.is_empty(),
+        failing.is_empty(),
         "{sniffed}/{n} sniffed right, {imported}/{n} imported, {right}/{n} right within 0.5 % (table above); \
-         failing beyond the known shortfall: {unexcused:?}"
+         failing: {failing:?}"
     );
-    assert!(mended.is_empty(), "now right, take them off KNOWN_WRONG: {mended:?}");
 }
-
-/// Files the sniffer proposes for and imports, but whose figures it gets wrong for a reason the
-/// file does not let it settle (the issue's target is 15 of 15; this list says what is left).
-const KNOWN_WRONG: &[(&str, &str)] = &[(
-    "11-unix-seconds-units-in-brackets.csv",
-    "weather temperatures with no unit anywhere, 20-37: plausible as °C and as °F; the sniffer \
-     proposes °C (compressed-air practice) and the source's unit is °F",
-)];

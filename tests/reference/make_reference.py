@@ -354,6 +354,22 @@ put(
     {"btu_per_h": 50000.0},
 )
 
+# ---------------------------------------------------------------- ingest/sniff/physics.rs: humidity
+# Relative humidity of moist air from dry-bulb temperature and dew point at one atmosphere, by
+# CoolProp's humid-air model (Hyland-Wexler saturation with enhancement factor): the sniffer's
+# Magnus formula must come within 0.01 of it. Dew points at or above 0 °C only: below it CoolProp's
+# saturation is over ice (a frost point), while weather loggers report humidity over water.
+from CoolProp.HumidAirProp import HAPropsSI
+
+for t_c, dew_c in [(20.0, 10.0), (36.0, 24.0), (8.0, 2.0), (45.0, 20.0)]:
+    put(
+        f"humidity.rh_t{t_c:g}_dew{dew_c:g}".replace("-", "m"),
+        HAPropsSI("R", "T", t_c + 273.15, "D", dew_c + 273.15, "P", P_ATM),
+        "1",
+        f"{COOLPROP} HAPropsSI('R', 'T', T, 'D', Tdew, 'P', 101325)",
+        {"t_c": t_c, "dew_c": dew_c, "p_pa": P_ATM},
+    )
+
 fixture = {
     "generated_by": "tests/reference/make_reference.py",
     "versions": {

@@ -175,7 +175,7 @@ fn named_quantity(name: &str) -> Option<&'static str> {
         Some("pressure")
     } else if has(&["flow", "durchfluss", "volumenstrom", "fad"]) {
         Some("flow")
-    } else if has(&["temperature", "temperatur", "temp"]) {
+    } else if has(&["temperature", "temperatur", "temp", "dew", "taupunkt"]) {
         Some("temperature")
     } else if has(&["current", "amps", "strom", "irms"]) {
         Some("current")

@@ -14,6 +14,9 @@ by the auditor (the column's note asks for it).
   current and voltage), takes the one unit among m³/min, l/min and m³/h that puts the file's power
   over its flow inside that band; the candidates lie 16.7 to 1,000 times apart and the band is 5
   wide, so at most one fits. None fitting leaves the unit to the auditor.
+- **Humidity**: temperatures with no unit are °C by their range, unless the file also logs a dew
+  point and a relative humidity; then the unit among °C and °F in which the three agree by the
+  Magnus formula (Alduchov and Eskridge, 1996) is taken ([`temperature_from_humidity`]).
 */
 
 use super::columns::{self, ColumnGuess};
@@ -152,5 +155,107 @@ pub fn settle_flow(columns: &mut [ColumnGuess], header: &[String], means: &[Opti
                 ));
             }
         }
+    }
+}
+
+/// Relative humidity (0 to 1) from air temperature and dew point, °C, by the Magnus formula over
+/// water with Alduchov and Eskridge's coefficients (J. Appl. Meteor. 35, 1996, 601-609:
+/// e_s = 6.1094 exp(17.625 t / (t + 243.04)) hPa); the ratio of the two vapour pressures.
+pub fn relative_humidity(t_c: f64, dew_c: f64) -> f64 {
+    let ln_es = |t: f64| 17.625 * t / (t + 243.04);
+    (ln_es(dew_c) - ln_es(t_c)).exp()
+}
+
+/// Fahrenheit to Celsius (NIST SP 811, B.9: t/°C = (t/°F - 32) / 1.8).
+fn f_to_c(f: f64) -> f64 {
+    (f - 32.0) / 1.8
+}
+
+/// How far the Magnus humidity of (temperature, dew point) read in one unit stays from the logged
+/// humidity: the mean absolute difference over the rows that log all three.
+fn humidity_misfit(rows: &[(f64, f64, f64)], to_c: impl Fn(f64) -> f64) -> f64 {
+    let err: f64 = rows.iter().map(|&(t, d, rh)| (relative_humidity(to_c(t), to_c(d)) - rh).abs()).sum();
+    err / rows.len() as f64
+}
+
+/// The temperature unit of a file whose temperatures carry none, from the humidity it logs: when a
+/// file logs an air temperature, a dew point and a relative humidity (as a fraction or in %), only
+/// one of °C and °F makes the three agree by the Magnus formula. `columns` holds each column's
+/// sample as (row, value). `Some(("C" or "F", misfit of the chosen unit, misfit of the other))`
+/// when one unit fits within 0.05 and the other is at least three times further off (a rule of
+/// our own, wide against the formula's 0.4 % error over -40 to 50 °C).
+pub fn temperature_from_humidity(
+    header: &[String],
+    columns: &[Vec<(usize, f64)>],
+) -> Option<(&'static str, f64, f64)> {
+    let named = |w: &[&str]| -> Vec<usize> {
+        (0..header.len())
+            .filter(|&i| {
+                let l = header[i].to_lowercase();
+                w.iter().any(|x| l.contains(x))
+            })
+            .collect()
+    };
+    let dews = named(&["dew", "taupunkt"]);
+    let humids = named(&["humid", "feuchte"]);
+    let temps: Vec<usize> = (0..header.len())
+        .filter(|i| !dews.contains(i) && columns::quantity_word(&header[*i]) == Some("temperature"))
+        .collect();
+    let at = |i: usize| -> std::collections::HashMap<usize, f64> { columns[i].iter().copied().collect() };
+    let mut best: Option<(&'static str, f64, f64)> = None;
+    for &h in &humids {
+        let rh = at(h);
+        let percent = rh.values().any(|v| *v > 1.0);
+        for &d in &dews {
+            let dew = at(d);
+            for &t in &temps {
+                let rows: Vec<(f64, f64, f64)> = columns[t]
+                    .iter()
+                    .filter_map(|&(r, tv)| {
+                        let (dv, hv) = (*dew.get(&r)?, *rh.get(&r)?);
+                        Some((tv, dv, if percent { hv / 100.0 } else { hv }))
+                    })
+                    .filter(|&(_, _, h)| (0.0..=1.0).contains(&h))
+                    .collect();
+                if rows.len() < 3 {
+                    continue;
+                }
+                let (c, f) = (humidity_misfit(&rows, |x| x), humidity_misfit(&rows, f_to_c));
+                let pick = if c <= 0.05 && f >= 3.0 * c {
+                    Some(("C", c, f))
+                } else if f <= 0.05 && c >= 3.0 * f {
+                    Some(("F", f, c))
+                } else {
+                    None
+                };
+                if let Some(p) = pick {
+                    if best.is_none_or(|b| p.1 < b.1) {
+                        best = Some(p);
+                    }
+                }
+            }
+        }
+    }
+    best
+}
+
+/// Temperature columns with no unit in the file take the unit the logged humidity decided
+/// ([`temperature_from_humidity`]), with a note saying how.
+pub fn settle_temperature(columns: &mut [ColumnGuess], decided: Option<(&'static str, f64, f64)>) {
+    let Some((code, fit, other)) = decided else { return };
+    let Some(u) = unit_table::find(LoggedQuantity::Temperature, code) else { return };
+    for c in columns.iter_mut() {
+        let unitless = c.unit_from.is_none() || c.unit_from.as_deref() == Some("values");
+        if !c.numeric || !unitless || c.quantity.as_deref() != Some("temperature") {
+            continue;
+        }
+        c.unit = Some(u.code.into());
+        c.unit_label = Some(u.label.into());
+        c.unit_from = Some("values".into());
+        c.note = Some(format!(
+            "no unit in the file: {} chosen because the file's temperature, dew point and humidity agree \
+             by the Magnus formula in it (mean misfit {fit:.3} against {other:.3} in the other unit); check it",
+            u.label
+        ));
     }
 }

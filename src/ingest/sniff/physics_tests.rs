@@ -170,3 +170,57 @@ fn a_sniffed_flow_without_a_unit_uses_the_files_power_or_volts_and_amps() {
     let s = sniff(&file("Flow", &rows)).unwrap();
     assert_eq!(q_u(&s, "Flow"), some("flow", "m3_min"));
 }
+
+/// A value of tests/reference/fixture.json (written by make_reference.py).
+fn reference(name: &str) -> f64 {
+    let f: serde_json::Value =
+        serde_json::from_str(include_str!("../../../tests/reference/fixture.json")).unwrap();
+    f["values"][name]["value"].as_f64().unwrap_or_else(|| panic!("fixture has no value {name}"))
+}
+
+#[test]
+fn magnus_humidity_matches_coolprop_humid_air() {
+    // CoolProp 8.0.0 HAPropsSI (Hyland-Wexler with enhancement factor) at 101,325 Pa; the Magnus
+    // form with Alduchov and Eskridge's coefficients stays within 0.01 of it over this range
+    // (dew points above 0 °C: below it CoolProp reads a frost point, over ice).
+    for (t, d, name) in [
+        (20.0, 10.0, "humidity.rh_t20_dew10"),
+        (36.0, 24.0, "humidity.rh_t36_dew24"),
+        (8.0, 2.0, "humidity.rh_t8_dew2"),
+        (45.0, 20.0, "humidity.rh_t45_dew20"),
+    ] {
+        let rh = super::physics::relative_humidity(t, d);
+        assert!((rh - reference(name)).abs() < 0.01, "{t} °C, dew {d} °C: {rh} against {}", reference(name));
+    }
+}
+
+/// Rows of (temperature, dew point, humidity %) logged in `unit`, from air states chosen in °C
+/// with the humidity computed by the formula and rounded as a weather logger rounds.
+fn weather_rows(unit: &str) -> Vec<String> {
+    let states = [(2.0, -4.0), (5.0, 1.0), (9.0, 3.0), (12.0, 2.0), (15.0, 9.0), (18.0, 14.0), (21.0, 10.0)];
+    states
+        .iter()
+        .map(|&(t, d): &(f64, f64)| {
+            let rh = super::physics::relative_humidity(t, d) * 100.0;
+            let show = |c: f64| if unit == "F" { c * 1.8 + 32.0 } else { c };
+            format!("{:.2};{:.2};{:.0}", show(t), show(d), rh)
+        })
+        .collect()
+}
+
+#[test]
+fn temperatures_without_unit_follow_the_logged_humidity() {
+    // The same air logged in °F and in °C, no unit anywhere: only the right unit makes temperature,
+    // dew point and humidity agree (°F readings of 35-70 also sit inside the °C range).
+    for unit in ["F", "C"] {
+        let s = sniff(&file("temperature;dewPoint;humidity", &weather_rows(unit))).unwrap();
+        assert_eq!(q_u(&s, "temperature"), some("temperature", unit), "logged in {unit}");
+        assert_eq!(q_u(&s, "dewPoint"), some("temperature", unit), "logged in {unit}");
+        assert!(col(&s, "temperature").note.as_deref().unwrap_or("").contains("Magnus"));
+    }
+    // Without a humidity column nothing decides: the range rule's °C stays, with no such note.
+    let rows: Vec<String> =
+        weather_rows("F").iter().map(|r| r.rsplit_once(';').unwrap().0.to_string()).collect();
+    let s = sniff(&file("temperature;dewPoint", &rows)).unwrap();
+    assert_eq!(q_u(&s, "temperature"), some("temperature", "C"));
+}
