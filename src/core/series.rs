@@ -323,10 +323,26 @@ impl Frame {
     /// System flow, m³/s free air: the system meters (flow columns not tied to a compressor) summed;
     /// if there are none, the per-compressor meters summed. A bin is missing if any meter summed is.
     pub fn system_flow(&self) -> Option<Vec<f32>> {
+        sum_columns(self.grid.len, self.system_flow_columns().iter().map(|c| c.values.as_slice()))
+    }
+
+    /// The partly covered bins of the system flow when one meter makes it (as [`FrameColumn::partial`]);
+    /// empty when several meters are summed (a sum has no one covered share; its bins count whole).
+    pub fn system_flow_partial(&self) -> &[Partial] {
+        match self.system_flow_columns().as_slice() {
+            [one] => &one.partial,
+            _ => &[],
+        }
+    }
+
+    fn system_flow_columns(&self) -> Vec<&FrameColumn> {
         let flows: Vec<&FrameColumn> = self.columns.iter().filter(|c| c.signal == Signal::Flow).collect();
         let system: Vec<&FrameColumn> = flows.iter().copied().filter(|c| c.compressor.is_none()).collect();
-        let pick = if system.is_empty() { flows } else { system };
-        sum_columns(self.grid.len, pick.iter().map(|c| c.values.as_slice()))
+        if system.is_empty() {
+            flows
+        } else {
+            system
+        }
     }
 }
 

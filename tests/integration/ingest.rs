@@ -777,6 +777,35 @@ fn night_gaps_neither_stretch_the_interval_nor_bias_the_mean_power() {
     assert!((e / 700.8 - 1.0).abs() < 1e-3, "energy {e} kWh, exact 700.8 kWh");
 }
 
+/// The same day-shift log as a system flow meter: air and mean flow count the bins at each day's
+/// ends for the time they were logged, as energy does. By hand (trapezoid rule, exact for a line):
+/// a day's flow rises from 1.0 to 4.84 m³/min, mean (1.0 + 4.84) / 2 = 2.92 m³/min; three 8 h days
+/// give 2.92 × 60 × 24 = 4,204.8 m³ of free air (the meter logs free air: no conversion).
+#[test]
+fn night_gaps_do_not_bias_the_metered_air() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let mut csv = String::from("time,C1 kW,Flow m3/min\n");
+    let first = 1_777_881_600 + 90;
+    for day in 0..3 {
+        for k in 0..=96i64 {
+            let t = first + day * 86_400 + k * 300;
+            let x = k as f64;
+            csv.push_str(&format!("{},{:.1},{:.2}\n", jiff_like_rfc3339(t), 10.0 + 0.4 * x, 1.0 + 0.04 * x));
+        }
+    }
+    let mapping = json!({"timestamp": {"column": "time", "format": "rfc3339"},
+        "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"},
+                    {"column": "Flow m3/min", "quantity": "flow", "unit": "m3_min"}]});
+    let r = s.upload(id, "days.csv", csv.as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let j = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    let q = j["system"]["mean_flow_m3_min"].as_f64().unwrap();
+    assert!((q / 2.92 - 1.0).abs() < 1e-3, "mean flow {q} m³/min, exact 2.92");
+    let air = j["system"]["air_m3"].as_f64().unwrap();
+    assert!((air / 4204.8 - 1.0).abs() < 1e-3, "air {air} m³, exact 4,204.8 m³");
+}
+
 /// Issue 14, current to power: a compressor logged in amps. With one power factor for both states
 /// the summary warns of it and the energy's range is at least ±15 % of the power factor with ±2 %
 /// of the current logger in quadrature; calibrated from a spot kW reading per state it narrows to

@@ -5,9 +5,12 @@ site's local time.
 - **Peak flow**: the highest mean over 1-minute windows (or one bin, if bins are longer); **peak
   power** for the demand charge: the highest 15-minute mean (utilities bill 15- or 30-minute demand;
   common practice).
+- **Air and mean flow** integrate the metered flow over the time it was logged: a bin at a gap's edge
+  counts for its covered share (`series::integrate_weighted`), as compressor energy does. With several
+  meters summed the bins count whole (a sum has no one covered share).
 */
 
-use crate::core::series::{integrate, Grid};
+use crate::core::series::{integrate_weighted, Grid, Partial};
 
 use super::calendar::{weekday_hour, Calendar};
 use super::figures::{Demand, DurationPoint};
@@ -30,8 +33,13 @@ pub(super) struct FlowTotals {
 }
 
 /// Flow figures and peaks (module doc).
-pub(super) fn flow_totals(grid: &Grid, flow: Option<&[f32]>, total_power: Option<&[f32]>) -> FlowTotals {
-    let flow_i = flow.map(|q| integrate(grid, q));
+pub(super) fn flow_totals(
+    grid: &Grid,
+    flow: Option<&[f32]>,
+    partial: &[Partial],
+    total_power: Option<&[f32]>,
+) -> FlowTotals {
+    let flow_i = flow.map(|q| integrate_weighted(grid, q, partial));
     let air_m3 = flow_i.map_or(0.0, |i| i.total);
     let mean_flow = flow_i.map_or(0.0, |i| if i.mean.is_finite() { i.mean * 60.0 } else { 0.0 });
     let none = |window_s| Peak { mean: None, window_s };

@@ -176,7 +176,7 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
     let pressure = frame.header_pressure().map(|c| c.values.as_slice());
 
     let energy = machines::energy(frame, &logged);
-    let totals = demand::flow_totals(&grid, q, total_power);
+    let totals = demand::flow_totals(&grid, q, &flow.partial, total_power);
     let (sp_flow, sp_note) = match specific_power::flow_for_specific_power(frame, cs, &logged, &flow) {
         Ok(f) => (f, None),
         Err(why) => (None, Some(why)),

@@ -18,7 +18,7 @@ power beside its data sheet.
 */
 
 use crate::core::model::CompressorSpec;
-use crate::core::series::{integrate, sum_columns, Frame};
+use crate::core::series::{integrate_weighted, sum_columns, Frame, Partial};
 use crate::core::states::State;
 use crate::core::thermo;
 use crate::core::units::{FreeAirFlow, Power, PressureAbs};
@@ -29,6 +29,8 @@ use super::machines::Logged;
 /// The system flow, m³/s free air per bin, and where it comes from.
 pub(super) struct SystemFlow {
     pub values: Option<Vec<f32>>,
+    /// The metered flow's partly covered bins (one meter only; [`Frame::system_flow_partial`]).
+    pub partial: Vec<Partial>,
     pub source: FlowSource,
     pub estimated: bool,
 }
@@ -36,6 +38,7 @@ pub(super) struct SystemFlow {
 /// The metered system flow when there is one (taken, not copied), else the compressors' estimate.
 pub(super) fn system_flow(frame: &Frame, logged: &Logged) -> SystemFlow {
     let n = frame.grid.len;
+    let partial = frame.system_flow_partial().to_vec();
     let (values, source, estimated) = match frame.system_flow() {
         Some(q) => (Some(q), FlowSource::Measured, false),
         None => (
@@ -44,7 +47,8 @@ pub(super) fn system_flow(frame: &Frame, logged: &Logged) -> SystemFlow {
             true,
         ),
     };
-    SystemFlow { values, source, estimated }
+    let partial = if estimated { Vec::new() } else { partial };
+    SystemFlow { values, partial, source, estimated }
 }
 
 /// The flow that specific power may divide the logged power by: the air of the compressors whose
@@ -214,7 +218,8 @@ pub(super) fn compressor_air(frame: &Frame, cs: &[CompressorSpec], logged: &Logg
                     }
                 }
             }
-            air_m3 = integrate(&grid, q).total;
+            let partial = frame.flow_of(i).map_or(&[][..], |c| c.partial.as_slice());
+            air_m3 = integrate_weighted(&grid, q, partial).total;
         }
         let sp_c = (sp_qq > 0.0).then(|| (sp_pp / 1000.0) / (sp_qq * 60.0));
         let full = (fl_q > 0.0).then(|| (fl_p / 1000.0) / (fl_q * 60.0));
