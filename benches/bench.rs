@@ -21,6 +21,14 @@ It prints figures and asserts nothing about time. What it measures:
 `cargo bench --bench bench` builds the release binary with the bench (the bench profile is the
 release profile) and runs that one; a nested `cargo build` would wait on the build lock.
 Set `AIRLEDGER_BENCH_ROWS` to bench a smaller file while developing.
+
+**Scale mode**: `cargo bench --bench bench -- 8M 64M 126M` takes sizes in readings (`k`, `M`
+suffixes; 4 channels, so rows = readings / 4) and, for each, generates the file, times DuckDB's
+pass, uploads it once into a fresh server and database, and prints one line per size: import
+time, readings per second, the ratio to DuckDB, the server's peak RSS after the import and after
+the first summary, bytes per reading on disk, how long after the import's 201 the summary is
+answered, the report page and a one-day window. The cost per reading growing with the file, or
+the memory growing with it, shows in the table.
 */
 
 use std::fs::File;
@@ -44,6 +52,8 @@ const START_S: i64 = 1_772_431_200;
 
 // Targets printed beside the figures (not asserted).
 const TARGET_IMPORT_VS_DUCKDB: f64 = 2.0;
+/// Issue 20's target for the scale mode.
+const TARGET_SCALE_VS_DUCKDB: f64 = 1.5;
 const TARGET_BYTES_PER_READING: f64 = 3.0;
 const TARGET_PEAK_RSS_MB: f64 = 64.0;
 const TARGET_REPORT_MS: f64 = 150.0;
@@ -545,10 +555,128 @@ fn duckdb_seconds(root: &Path, csv: &Path) -> Option<f64> {
     text.lines().find_map(|l| l.strip_prefix("best_seconds=")).and_then(|v| v.trim().parse().ok())
 }
 
+/// A size in readings: `8M`, `500k`, `64000000`.
+fn parse_size(arg: &str) -> Option<u64> {
+    let a = arg.trim();
+    let (num, mult) = match a.chars().last()? {
+        'M' | 'm' => (&a[..a.len() - 1], 1_000_000.0),
+        'k' | 'K' => (&a[..a.len() - 1], 1_000.0),
+        _ => (a, 1.0),
+    };
+    let v: f64 = num.parse().ok()?;
+    (v > 0.0).then(|| (v * mult).round() as u64)
+}
+
+/// One size of the scale mode, as measured.
+struct ScaleRow {
+    readings: u64,
+    csv_mb: f64,
+    import_s: f64,
+    duck_s: Option<f64>,
+    rss_import_mb: f64,
+    rss_summary_mb: f64,
+    bytes_per_reading: f64,
+    summary_after_s: f64,
+    report_ms: f64,
+    day_ms: f64,
+}
+
+fn scale_one(root: &Path, bin: &Path, readings: u64) -> ScaleRow {
+    let rows = readings.div_ceil(CHANNELS);
+    let dir = std::env::temp_dir().join(format!("airledger-scale-{}-{rows}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).expect("temp dir");
+    let csv = dir.join("logger.csv");
+    let t = Instant::now();
+    let file_bytes = generate(&csv, rows).expect("generate");
+    println!(
+        "\n== {} readings: {rows} rows x {CHANNELS} channels, {:.1} MB of CSV, generated in {:.1} s",
+        rows * CHANNELS,
+        file_bytes as f64 / 1e6,
+        t.elapsed().as_secs_f64()
+    );
+    let duck_s = duckdb_seconds(root, &csv);
+    let db = dir.join("bench.sqlite");
+    let server = Server::start(bin, &db, &dir.join("server.log"));
+    let a = agent();
+    let audit = new_audit(&a, &server, "scale plant");
+    let (import_s, r) = upload(&a, &server, audit, &csv, file_bytes);
+    assert_eq!(r.status, 201, "upload: {}", r.body);
+    let stored = serde_json::from_str::<Value>(&r.body).expect("json")["readings"].as_u64().unwrap_or(0);
+    let rss_import_mb = proc_status_kb(server.pid(), "VmHWM:").unwrap_or(0.0) / 1024.0;
+    let (m, w, sh) = db_bytes(&db);
+    let bytes_per_reading = (m + w + sh) as f64 / stored.max(1) as f64;
+    // The summary is worked out in the background after the 201: time the first answer from then.
+    let t = Instant::now();
+    let r = get(&a, &server, &format!("/api/v1/audits/{audit}/summary"));
+    assert_eq!(r.status, 200, "summary: {}", r.body);
+    let summary_after_s = t.elapsed().as_secs_f64();
+    let rss_summary_mb = proc_status_kb(server.pid(), "VmHWM:").unwrap_or(0.0) / 1024.0;
+    let (rep, _) = time_gets(&a, &server, &format!("/audits/{audit}/report"), 5);
+    let day = format!("/api/v1/audits/{audit}/summary?from=2026-03-03T00:00:00Z&to=2026-03-03T23:59:59Z");
+    let (win, _) = time_gets(&a, &server, &day, 3);
+    drop(server);
+    let _ = std::fs::remove_dir_all(&dir);
+    ScaleRow {
+        readings: stored,
+        csv_mb: file_bytes as f64 / 1e6,
+        import_s,
+        duck_s,
+        rss_import_mb,
+        rss_summary_mb,
+        bytes_per_reading,
+        summary_after_s,
+        report_ms: median(&rep),
+        day_ms: median(&win),
+    }
+}
+
+fn scale_mode(root: &Path, bin: &Path, sizes: &[u64]) {
+    let rows: Vec<ScaleRow> = sizes.iter().map(|&n| scale_one(root, bin, n)).collect();
+    println!(
+        "\n| readings | CSV MB | import s | M readings/s | DuckDB s | x DuckDB | peak RSS import / first summary MB | bytes/reading | summary after 201 s | report ms | one day ms |"
+    );
+    println!("|---|---|---|---|---|---|---|---|---|---|---|");
+    for r in &rows {
+        let duck = r.duck_s.map_or("-".into(), |d| format!("{d:.2}"));
+        let ratio = r.duck_s.map_or("-".into(), |d| format!("{:.2}", r.import_s / d));
+        println!(
+            "| {:.1} M | {:.0} | {:.2} | {:.2} | {duck} | {ratio} | {:.1} / {:.1} | {:.2} | {:.2} | {:.1} | {:.1} |",
+            r.readings as f64 / 1e6,
+            r.csv_mb,
+            r.import_s,
+            r.readings as f64 / r.import_s / 1e6,
+            r.rss_import_mb,
+            r.rss_summary_mb,
+            r.bytes_per_reading,
+            r.summary_after_s,
+            r.report_ms,
+            r.day_ms
+        );
+    }
+    if let (Some(first), Some(last)) = (rows.first(), rows.last()) {
+        if rows.len() > 1 {
+            let rate = |r: &ScaleRow| r.readings as f64 / r.import_s;
+            println!(
+                "\nreadings/s at the largest size are {:.0} % of those at the smallest (target: within 15 %); \
+                 targets: x DuckDB <= {TARGET_SCALE_VS_DUCKDB}, peak RSS <= {TARGET_PEAK_RSS_MB} MB, \
+                 bytes/reading <= {TARGET_BYTES_PER_READING}, summary <= 1 s after the 201",
+                100.0 * rate(last) / rate(first)
+            );
+        }
+    }
+}
+
 fn main() {
-    // `cargo bench` passes `--bench`; nothing here takes arguments.
     let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
     let bin = release_binary();
+    // `cargo bench` passes `--bench`; any other argument is a size for the scale mode.
+    let sizes: Vec<u64> =
+        std::env::args().skip(1).filter(|a| !a.starts_with('-')).filter_map(|a| parse_size(&a)).collect();
+    if !sizes.is_empty() {
+        scale_mode(&root, &bin, &sizes);
+        return;
+    }
     let rows: u64 =
         std::env::var("AIRLEDGER_BENCH_ROWS").ok().and_then(|v| v.parse().ok()).unwrap_or(DEFAULT_ROWS);
     let readings_expected = rows * CHANNELS;
