@@ -27,6 +27,9 @@ struct Cli {
     command: Command,
 }
 
+/// The default upload limit, in MB: a year of 1 s readings on four channels is about 1.6 GB of CSV.
+const DEFAULT_MAX_UPLOAD_MB: u64 = 2048;
+
 #[derive(Subcommand)]
 enum Command {
     /// Serve the dashboard for one database file.
@@ -37,8 +40,9 @@ enum Command {
         /// Address to listen on.
         #[arg(long, default_value = "127.0.0.1:8080")]
         bind: SocketAddr,
-        /// Largest logger file accepted, in MB (bigger uploads get 413).
-        #[arg(long, default_value_t = 1024)]
+        /// Largest logger file accepted, in MB (bigger uploads get 413). The default takes a year
+        /// of 1 s readings on four channels (about 1.6 GB of CSV).
+        #[arg(long, default_value_t = DEFAULT_MAX_UPLOAD_MB)]
         max_upload_mb: u64,
         /// Access token; required when binding to anything but loopback.
         #[arg(long, env = "AIRLEDGER_TOKEN", hide_env_values = true)]
@@ -176,7 +180,8 @@ async fn run(command: Command) -> anyhow::Result<()> {
                 return Ok(());
             }
             println!("report: http://{bind}/audits/{id}/report");
-            web::run_server(AppState::new(app, web_config(1024, token, allow_host)), bind).await
+            web::run_server(AppState::new(app, web_config(DEFAULT_MAX_UPLOAD_MB, token, allow_host)), bind)
+                .await
         }
         Command::Import { db, audit, mapping, replace, files } => {
             let app = open(&db).await?;
