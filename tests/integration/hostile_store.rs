@@ -228,3 +228,58 @@ fn probe_cli_import_while_a_server_holds_the_file_refuses() {
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
     assert!(String::from_utf8_lossy(&out.stdout).contains("360 rows, 1080 readings"));
 }
+
+/// A client that hangs up half-way through an upload (a browser tab closed, a laptop put to sleep)
+/// must leave nothing: no upload row, no readings, no spool file, and the import's progress says it
+/// failed. The request is sent by hand over TCP with the full `Content-Length` and only part of
+/// the body, then the socket is closed.
+#[test]
+fn probe_upload_cut_off_mid_body_leaves_nothing() {
+    use std::io::Write;
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let boundary = "cutOFFboundary";
+    let csv = big_csv(200_000).into_bytes();
+    let mut body = format!(
+        "--{boundary}\r\nContent-Disposition: form-data; name=\"mapping\"\r\n\r\n{}\r\n--{boundary}\r\n\
+         Content-Disposition: form-data; name=\"file\"; filename=\"cut.csv\"\r\n\r\n",
+        cycling_mapping()
+    )
+    .into_bytes();
+    body.extend_from_slice(&csv);
+    body.extend_from_slice(format!("\r\n--{boundary}--\r\n").as_bytes());
+    let host = s.base.trim_start_matches("http://").to_string();
+    let mut tcp = std::net::TcpStream::connect(&host).unwrap();
+    let head = format!(
+        "POST /api/v1/audits/{id}/uploads?token=cut HTTP/1.1\r\nHost: {host}\r\nOrigin: {}\r\n\
+         Content-Type: multipart/form-data; boundary={boundary}\r\nContent-Length: {}\r\n\r\n",
+        s.base,
+        body.len()
+    );
+    tcp.write_all(head.as_bytes()).unwrap();
+    tcp.write_all(&body[..body.len() / 2]).unwrap();
+    tcp.flush().unwrap();
+    std::thread::sleep(Duration::from_millis(300));
+    drop(tcp);
+    // The server notices the hang-up; give it a moment to clean up, then look.
+    let settled = wait_until(Duration::from_secs(30), || {
+        spool_files(&s.db).is_empty() && importing_rows_and_integrity(&s.db).0 == 0
+    });
+    assert!(
+        settled,
+        "spool files {:?}, importing rows {:?}",
+        spool_files(&s.db),
+        importing_rows_and_integrity(&s.db)
+    );
+    let a = s.get(&format!("/api/v1/audits/{id}")).json();
+    assert_eq!(a["uploads"].as_array().unwrap().len(), 0, "no upload is visible: {a}");
+    let readings: i64 = on_db(&s.db, |pool| async move {
+        sqlx::query_scalar("SELECT count(*) FROM chunk").fetch_one(&pool).await.unwrap()
+    });
+    assert_eq!(readings, 0, "no readings were kept");
+    assert_eq!(importing_rows_and_integrity(&s.db).1, "ok");
+    let p = s.get("/api/v1/imports/cut");
+    if p.status == 200 {
+        assert_ne!(p.json()["state"], "done", "the cut-off import is not reported done: {}", p.text);
+    }
+}
