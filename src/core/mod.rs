@@ -41,5 +41,6 @@ pub mod series;
 pub mod simulate;
 pub mod states;
 pub mod thermo;
+pub mod treatment;
 pub mod unit_table;
 pub mod units;

@@ -1,0 +1,498 @@
+/*!
+Transmission and demand beyond the compressors (ISO 11011's scope): dryers, condensate drains,
+the pressure a drop across treatment and piping costs, the end-use inventory and the split of the
+metered demand into what is known to use it.
+
+Pure arithmetic on records the user keeps (no IO). The record names and kinds are those of
+`API.md` ("Additions"): a dryer's `kind` and `control`, a drain's `kind` and orifice, an end use's
+`kind`, `count`, air per use (a rated `flow_m3_min` or an orifice at `pressure_bar_g`) and `duty`.
+
+The physics and the rules used, each with where it comes from:
+- **Purge**: a desiccant or membrane dryer on a fixed cycle purges its `purge_fraction` of rated
+  flow whatever the load; with dew-point control the purge follows the moisture load, taken as
+  proportional to the air flowing through the dryer (common practice). Default purge fractions
+  where the data sheet is not at hand: heatless desiccant 0.15 (the US DOE sourcebook gives 15-20 %,
+  from memory), heated desiccant 0.07, blower purge 0.02 (cooling purge only), membrane 0.15 (all
+  three common practice, from memory); refrigerated dryers purge nothing.
+- **Dryer electricity**: the data sheet's kW; a cycling refrigerated dryer follows the load, a
+  non-cycling one runs at its kW whatever the load (common practice).
+- **Timer drain**: air lost = the orifice's flow at line pressure × open time / interval (a drain
+  blows for its whole open time whether or not there is condensate); the orifice flow is
+  [`leaks::orifice_leak`], the compressible-nozzle equation already used for leaks. Zero-loss
+  (level-sensing) and float drains lose no air; a drain left open manually is a leak at its full
+  orifice flow.
+- **Pressure drop**: the discharge pressure the drop forces, priced like a set-point change: by the
+  US DOE rule of 1 % of the compressor's energy per 2 psi, or by the ratio of isentropic work
+  ([`pressure_drop_energy_share`]).
+- **Demand split**: production uses + inappropriate uses + purge and drains + leaks + unexplained =
+  the metered mean flow; the unexplained part is what is left (negative when the inventory claims
+  more air than was metered: the inventory then overstates some use, and the split says so).
+
+Safety: drains, dryers and filters are pressure equipment: isolate and vent before work on them
+(`core::safety`).
+*/
+
+use std::fmt;
+
+use super::leaks::orifice_leak;
+use super::thermo::isentropic_work_per_kg;
+use super::units::{FreeAirFlow, PressureAbs, SiteAir};
+
+/// A treatment or end-use record that cannot be used, naming the API field at fault.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TreatmentError {
+    pub field: &'static str,
+    pub message: String,
+}
+
+impl TreatmentError {
+    fn new(field: &'static str, message: impl Into<String>) -> Self {
+        TreatmentError { field, message: message.into() }
+    }
+}
+
+impl fmt::Display for TreatmentError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}: {}", self.field, self.message)
+    }
+}
+
+impl std::error::Error for TreatmentError {}
+
+macro_rules! kinds {
+    ($(#[$m:meta])* $name:ident { $($v:ident = $s:literal),+ $(,)? }) => {
+        $(#[$m])*
+        #[derive(Debug, Clone, Copy, PartialEq, Eq)]
+        pub enum $name { $($v),+ }
+        impl $name {
+            pub const ALL: &'static [$name] = &[$($name::$v),+];
+            pub fn as_str(self) -> &'static str {
+                match self { $($name::$v => $s),+ }
+            }
+            /// The kind named `s` (an API.md code), or an error listing the known ones.
+            pub fn parse(s: &str, field: &'static str) -> Result<Self, TreatmentError> {
+                match s {
+                    $($s => Ok($name::$v),)+
+                    other => Err(TreatmentError::new(field, format!(
+                        "unknown {field} {other:?}; known: {}",
+                        [$($s),+].join(", ")
+                    ))),
+                }
+            }
+        }
+    };
+}
+
+kinds!(
+    /// How a dryer dries (API.md `kind`).
+    DryerKind {
+        Refrigerated = "refrigerated",
+        RefrigeratedCycling = "refrigerated_cycling",
+        HeatlessDesiccant = "heatless_desiccant",
+        HeatedDesiccant = "heated_desiccant",
+        BlowerPurge = "blower_purge",
+        Membrane = "membrane",
+    }
+);
+
+kinds!(
+    /// How a desiccant dryer's cycle is timed (API.md `control`).
+    DryerControl { FixedCycle = "fixed_cycle", DewPoint = "dew_point" }
+);
+
+kinds!(
+    /// A condensate drain's kind (API.md `kind`).
+    DrainKind { Timer = "timer", ZeroLoss = "zero_loss", Float = "float", ManualOpen = "manual_open" }
+);
+
+kinds!(
+    /// An end use's kind (API.md `kind`).
+    EndUseKind {
+        Tool = "tool",
+        OpenBlowing = "open_blowing",
+        VortexCooler = "vortex_cooler",
+        CabinetCooler = "cabinet_cooler",
+        AirMotor = "air_motor",
+        DiaphragmPump = "diaphragm_pump",
+        Sparging = "sparging",
+        Process = "process",
+        Other = "other",
+    }
+);
+
+impl DryerKind {
+    /// The purge fraction of rated flow used when the record gives none (see the module's sources).
+    pub fn default_purge_fraction(self) -> f64 {
+        match self {
+            DryerKind::Refrigerated | DryerKind::RefrigeratedCycling => 0.0,
+            DryerKind::HeatlessDesiccant | DryerKind::Membrane => 0.15,
+            DryerKind::HeatedDesiccant => 0.07,
+            DryerKind::BlowerPurge => 0.02,
+        }
+    }
+
+    /// Whether the dryer purges compressed air at all.
+    pub fn purges(self) -> bool {
+        self.default_purge_fraction() > 0.0
+    }
+}
+
+impl EndUseKind {
+    /// The uses the US DOE sourcebook names as often inappropriate: an electric drive, a blower or
+    /// a fan would do the same work for a fraction of the electricity.
+    pub fn inappropriate(self) -> bool {
+        matches!(
+            self,
+            EndUseKind::OpenBlowing
+                | EndUseKind::VortexCooler
+                | EndUseKind::CabinetCooler
+                | EndUseKind::AirMotor
+                | EndUseKind::DiaphragmPump
+                | EndUseKind::Sparging
+        )
+    }
+}
+
+fn fraction(v: f64, field: &'static str) -> Result<f64, TreatmentError> {
+    if v.is_finite() && (0.0..=1.0).contains(&v) {
+        Ok(v)
+    } else {
+        Err(TreatmentError::new(field, format!("must be between 0 and 1 (a share), got {v}")))
+    }
+}
+
+fn non_negative(v: f64, field: &'static str) -> Result<f64, TreatmentError> {
+    if v.is_finite() && v >= 0.0 {
+        Ok(v)
+    } else {
+        Err(TreatmentError::new(field, format!("must be zero or more, got {v}")))
+    }
+}
+
+fn positive(v: f64, field: &'static str) -> Result<f64, TreatmentError> {
+    if v.is_finite() && v > 0.0 {
+        Ok(v)
+    } else {
+        Err(TreatmentError::new(field, format!("must be above zero, got {v}")))
+    }
+}
+
+/// A dryer as the user records it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Dryer {
+    pub tag: String,
+    pub kind: DryerKind,
+    /// Rated flow, free air.
+    pub rated_flow: FreeAirFlow,
+    /// Purge as a share of rated flow; `None`: the kind's default.
+    pub purge_fraction: Option<f64>,
+    /// Electrical input (heaters, blowers, refrigeration), kW.
+    pub power_kw: f64,
+    pub control: DryerControl,
+}
+
+/// What a dryer costs in air and electricity at a given mean flow through it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DryerFigures {
+    pub purge: FreeAirFlow,
+    /// The purge the same dryer would use with dew-point control (equal to `purge` when it has it).
+    pub purge_with_dew_point_control: FreeAirFlow,
+    /// Mean electrical input, kW.
+    pub power_kw: f64,
+    /// Mean flow through the dryer over its rated flow, 0-1.
+    pub load: f64,
+}
+
+impl Dryer {
+    pub fn validate(&self) -> Result<(), TreatmentError> {
+        positive(self.rated_flow.m3_min(), "rated_flow_m3_min")?;
+        if let Some(p) = self.purge_fraction {
+            fraction(p, "purge_fraction")?;
+        }
+        non_negative(self.power_kw, "power_kw")?;
+        if self.tag.trim().is_empty() {
+            return Err(TreatmentError::new("tag", "a dryer needs a tag"));
+        }
+        Ok(())
+    }
+
+    pub fn purge_fraction(&self) -> f64 {
+        if self.kind.purges() {
+            self.purge_fraction.unwrap_or(self.kind.default_purge_fraction())
+        } else {
+            0.0
+        }
+    }
+
+    /// The dryer at a mean flow `through` (free air): purge and electricity.
+    pub fn figures(&self, through: FreeAirFlow) -> DryerFigures {
+        let load = (through.m3_min() / self.rated_flow.m3_min()).clamp(0.0, 1.0);
+        let full = self.rated_flow.m3_min() * self.purge_fraction();
+        let with_control = full * load;
+        let purge = match self.control {
+            DryerControl::FixedCycle => full,
+            DryerControl::DewPoint => with_control,
+        };
+        let power_kw = match self.kind {
+            DryerKind::RefrigeratedCycling => self.power_kw * load,
+            _ => self.power_kw,
+        };
+        DryerFigures {
+            purge: FreeAirFlow::from_m3_min(purge),
+            purge_with_dew_point_control: FreeAirFlow::from_m3_min(with_control),
+            power_kw,
+            load,
+        }
+    }
+}
+
+/// A condensate drain as the user records it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Drain {
+    pub tag: String,
+    pub kind: DrainKind,
+    /// Seconds open per cycle (timer drains).
+    pub open_s: Option<f64>,
+    /// Seconds between openings (timer drains).
+    pub interval_s: Option<f64>,
+    /// Orifice or valve bore, mm.
+    pub orifice_mm: Option<f64>,
+    /// 0.61 for a sharp-edged orifice (common practice) when not given.
+    pub discharge_coefficient: Option<f64>,
+}
+
+/// The discharge coefficient of a sharp-edged orifice (common practice, from memory: 0.61-0.65).
+pub const SHARP_EDGE_CD: f64 = 0.61;
+
+impl Drain {
+    pub fn validate(&self) -> Result<(), TreatmentError> {
+        if self.tag.trim().is_empty() {
+            return Err(TreatmentError::new("tag", "a drain needs a tag"));
+        }
+        if let Some(cd) = self.discharge_coefficient {
+            if !(cd > 0.0 && cd <= 1.0) {
+                return Err(TreatmentError::new(
+                    "discharge_coefficient",
+                    format!("must be in (0, 1], got {cd}"),
+                ));
+            }
+        }
+        match self.kind {
+            DrainKind::Timer => {
+                let open = positive(self.open_s.unwrap_or(f64::NAN), "open_s")?;
+                let every = positive(self.interval_s.unwrap_or(f64::NAN), "interval_s")?;
+                if open > every {
+                    return Err(TreatmentError::new(
+                        "open_s",
+                        format!("the drain cannot be open {open} s in every {every} s"),
+                    ));
+                }
+                positive(self.orifice_mm.unwrap_or(f64::NAN), "orifice_mm")?;
+            }
+            DrainKind::ManualOpen => {
+                positive(self.orifice_mm.unwrap_or(f64::NAN), "orifice_mm")?;
+            }
+            DrainKind::ZeroLoss | DrainKind::Float => {
+                if let Some(d) = self.orifice_mm {
+                    non_negative(d, "orifice_mm")?;
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// Mean free-air loss at line pressure `line` (absolute), inlet air at the site's temperature.
+    pub fn air(&self, line: PressureAbs, site: &SiteAir) -> Result<FreeAirFlow, TreatmentError> {
+        self.validate()?;
+        let share = match self.kind {
+            DrainKind::ZeroLoss | DrainKind::Float => return Ok(FreeAirFlow::from_m3_min(0.0)),
+            DrainKind::ManualOpen => 1.0,
+            DrainKind::Timer => self.open_s.unwrap_or(0.0) / self.interval_s.unwrap_or(1.0),
+        };
+        let d_m = self.orifice_mm.unwrap_or(0.0) / 1000.0;
+        let cd = self.discharge_coefficient.unwrap_or(SHARP_EDGE_CD);
+        let open = orifice_leak(d_m, line, site.inlet_temperature, cd, site)
+            .map_err(|e| TreatmentError::new("orifice_mm", e.to_string()))?;
+        Ok(FreeAirFlow::from_m3_min(open.m3_min() * share))
+    }
+}
+
+/// One line of the end-use inventory.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EndUse {
+    pub name: String,
+    pub kind: EndUseKind,
+    pub count: u32,
+    /// Air per use while it runs, free air (a rated figure); or give `orifice_mm`.
+    pub flow_m3_min: Option<f64>,
+    /// Nozzle or opening bore, mm, blowing at `pressure_bar_g`.
+    pub orifice_mm: Option<f64>,
+    /// The pressure the use needs (or is fed at), bar(g).
+    pub pressure_bar_g: Option<f64>,
+    /// Share of production time the use runs, 0-1.
+    pub duty: f64,
+    pub regulated: bool,
+    /// The electric alternative's input per use while running, kW (blower, fan, motor), if known.
+    pub alternative_kw: Option<f64>,
+}
+
+/// The discharge coefficient taken for an end use's orifice: 1, the ideal nozzle of the published
+/// orifice tables (the same basis as the leak calculator).
+pub const END_USE_CD: f64 = 1.0;
+
+impl EndUse {
+    pub fn validate(&self) -> Result<(), TreatmentError> {
+        if self.name.trim().is_empty() {
+            return Err(TreatmentError::new("name", "an end use needs a name"));
+        }
+        fraction(self.duty, "duty")?;
+        if self.count == 0 {
+            return Err(TreatmentError::new("count", "must be at least 1"));
+        }
+        match (self.flow_m3_min, self.orifice_mm) {
+            (Some(q), None) => {
+                non_negative(q, "flow_m3_min")?;
+            }
+            (None, Some(d)) => {
+                positive(d, "orifice_mm")?;
+                positive(self.pressure_bar_g.unwrap_or(f64::NAN), "pressure_bar_g")?;
+            }
+            (Some(_), Some(_)) => {
+                return Err(TreatmentError::new("flow_m3_min", "give flow_m3_min or orifice_mm, not both"))
+            }
+            (None, None) => {
+                return Err(TreatmentError::new(
+                    "flow_m3_min",
+                    "give the air per use: flow_m3_min or orifice_mm",
+                ))
+            }
+        }
+        if let Some(p) = self.pressure_bar_g {
+            non_negative(p, "pressure_bar_g")?;
+        }
+        if let Some(k) = self.alternative_kw {
+            non_negative(k, "alternative_kw")?;
+        }
+        Ok(())
+    }
+
+    /// Air per use while it runs, free air.
+    pub fn flow_per_use(&self, site: &SiteAir) -> Result<FreeAirFlow, TreatmentError> {
+        self.validate()?;
+        if let Some(q) = self.flow_m3_min {
+            return Ok(FreeAirFlow::from_m3_min(q));
+        }
+        let p = PressureAbs::from_bar_g(self.pressure_bar_g.unwrap_or(0.0), site.atmosphere);
+        orifice_leak(self.orifice_mm.unwrap_or(0.0) / 1000.0, p, site.inlet_temperature, END_USE_CD, site)
+            .map_err(|e| TreatmentError::new("orifice_mm", e.to_string()))
+    }
+
+    /// Mean air over production time: count × air per use × duty.
+    pub fn mean_flow(&self, site: &SiteAir) -> Result<FreeAirFlow, TreatmentError> {
+        Ok(FreeAirFlow::from_m3_min(self.flow_per_use(site)?.m3_min() * self.count as f64 * self.duty))
+    }
+}
+
+/// The share of a compressor's energy a pressure drop of `drop_bar` costs at discharge pressure
+/// `discharge_bar_g` (gauge), by the two rules the trade uses.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DropCost {
+    /// US DOE sourcebook: 1 % of energy per 2 psi.
+    pub doe_rule: f64,
+    /// Ratio of isentropic work at the discharge pressure to that at discharge - drop, minus 1.
+    pub isentropic: f64,
+}
+
+/// 1 psi in bar (NIST SP 811: 1 lbf/in² = 6.894757 kPa).
+pub const BAR_PER_PSI: f64 = 0.068_947_57;
+
+pub fn pressure_drop_energy_share(drop_bar: f64, discharge_bar_g: f64, site: &SiteAir) -> DropCost {
+    let drop = drop_bar.max(0.0);
+    let doe_rule = drop / BAR_PER_PSI / 2.0 * 0.01;
+    let atm = site.atmosphere.0;
+    let r_hi = (discharge_bar_g * 1e5 + atm) / atm;
+    let r_lo = ((discharge_bar_g - drop) * 1e5 + atm).max(atm) / atm;
+    let w = |r: f64| isentropic_work_per_kg(site.inlet_temperature, r);
+    let lo = w(r_lo);
+    let isentropic = if lo > 0.0 { w(r_hi) / lo - 1.0 } else { f64::INFINITY };
+    DropCost { doe_rule, isentropic }
+}
+
+/// The metered mean flow split by what uses it (API.md `summary.demand_split`), free air m³/min.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct DemandSplit {
+    pub production_m3_min: f64,
+    pub inappropriate_m3_min: f64,
+    pub purge_and_drains_m3_min: f64,
+    pub leaks_m3_min: f64,
+    /// The metered mean flow less the rest; negative when the inventory claims more than was metered.
+    pub unexplained_m3_min: f64,
+}
+
+impl DemandSplit {
+    /// Split `metered_mean` into the inventory's parts; the parts sum to it exactly.
+    pub fn new(
+        metered_mean: FreeAirFlow,
+        production: FreeAirFlow,
+        inappropriate: FreeAirFlow,
+        purge_and_drains: FreeAirFlow,
+        leaks: FreeAirFlow,
+    ) -> DemandSplit {
+        let known = production.m3_min() + inappropriate.m3_min() + purge_and_drains.m3_min() + leaks.m3_min();
+        DemandSplit {
+            production_m3_min: production.m3_min(),
+            inappropriate_m3_min: inappropriate.m3_min(),
+            purge_and_drains_m3_min: purge_and_drains.m3_min(),
+            leaks_m3_min: leaks.m3_min(),
+            unexplained_m3_min: metered_mean.m3_min() - known,
+        }
+    }
+
+    pub fn total_m3_min(&self) -> f64 {
+        self.production_m3_min
+            + self.inappropriate_m3_min
+            + self.purge_and_drains_m3_min
+            + self.leaks_m3_min
+            + self.unexplained_m3_min
+    }
+
+    /// Whether the inventory claims more air than was metered (beyond 1 % of it).
+    pub fn over_explained(&self) -> bool {
+        self.unexplained_m3_min < -0.01 * self.total_m3_min().abs()
+    }
+}
+
+/// The end-use inventory's mean flows, split into production and inappropriate uses.
+pub fn end_use_flows(uses: &[EndUse], site: &SiteAir) -> Result<(FreeAirFlow, FreeAirFlow), TreatmentError> {
+    let (mut production, mut inappropriate) = (0.0, 0.0);
+    for u in uses {
+        let q = u.mean_flow(site)?.m3_min();
+        if u.kind.inappropriate() {
+            inappropriate += q;
+        } else {
+            production += q;
+        }
+    }
+    Ok((FreeAirFlow::from_m3_min(production), FreeAirFlow::from_m3_min(inappropriate)))
+}
+
+/// The yearly electricity an inappropriate use would save if an electric alternative took over:
+/// the air's share of the compressors' energy at the marginal specific power, less the
+/// alternative's own electricity; `None` without the alternative's kW.
+pub fn inappropriate_use_saving_kwh(
+    u: &EndUse,
+    site: &SiteAir,
+    marginal_kw_per_m3_min: f64,
+    production_hours: f64,
+) -> Result<Option<f64>, TreatmentError> {
+    let air = u.mean_flow(site)?.m3_min();
+    Ok(u.alternative_kw.map(|kw| {
+        let air_kwh = air * marginal_kw_per_m3_min * production_hours;
+        let alt_kwh = kw * u.count as f64 * u.duty * production_hours;
+        air_kwh - alt_kwh
+    }))
+}
+
+#[cfg(test)]
+#[path = "treatment_tests.rs"]
+mod tests;

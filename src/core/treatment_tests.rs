@@ -1,0 +1,198 @@
+use super::*;
+use crate::core::units::{PressureAbs, Temperature};
+
+fn fixture() -> serde_json::Value {
+    serde_json::from_str(include_str!("../../tests/reference/fixture.json")).unwrap()
+}
+
+/// A reference value from the fixture written by tests/reference/make_reference.py.
+fn reference(name: &str) -> f64 {
+    fixture()["values"][name]["value"].as_f64().unwrap_or_else(|| panic!("fixture has no value {name}"))
+}
+
+fn rel(a: f64, b: f64) -> f64 {
+    ((a - b) / b).abs()
+}
+
+fn sea_level() -> SiteAir {
+    SiteAir { atmosphere: PressureAbs(101_325.0), inlet_temperature: Temperature::from_c(20.0) }
+}
+
+/// The published orifice table's basis: free air at 14.7 psia, 20 °C.
+fn us_site() -> SiteAir {
+    SiteAir {
+        atmosphere: PressureAbs::from_psig(14.7, PressureAbs(0.0)),
+        inlet_temperature: Temperature::from_c(20.0),
+    }
+}
+
+fn timer(orifice_mm: f64, open_s: f64, interval_s: f64, cd: Option<f64>) -> Drain {
+    Drain {
+        tag: "T1".into(),
+        kind: DrainKind::Timer,
+        open_s: Some(open_s),
+        interval_s: Some(interval_s),
+        orifice_mm: Some(orifice_mm),
+        discharge_coefficient: cd,
+    }
+}
+
+#[test]
+fn timer_drain_matches_fluids() {
+    // fixture: fluids 1.3.1 API 520 nozzle (Kd 1) x Cd 0.61 at 7 bar(g), 3 mm, open 5 s in 300 s.
+    let site = sea_level();
+    let line = PressureAbs::from_bar_g(7.0, site.atmosphere);
+    let q = timer(3.0, 5.0, 300.0, None).air(line, &site).unwrap();
+    let want = reference("treatment.timer_drain_3mm_7barg_5s_300s_m3_min");
+    assert!(rel(q.m3_min(), want) < 1e-3, "{} vs {want}", q.m3_min());
+}
+
+#[test]
+fn timer_drain_follows_the_published_orifice_table() {
+    // The orifice discharge table quoted in the US DOE sourcebook's leaks fact sheet (from
+    // memory): a 1/8 in orifice at 100 psig, coefficient 1, passes 26.01 cfm. Open 10 s every
+    // 10 min, the drain loses 1/60 of it.
+    let site = us_site();
+    let line = PressureAbs::from_psig(100.0, site.atmosphere);
+    let q = timer(25.4 / 8.0, 10.0, 600.0, Some(1.0)).air(line, &site).unwrap();
+    assert!(rel(q.cfm(), 26.01 / 60.0) < 0.01, "{} cfm", q.cfm());
+    // A level-sensing drain loses nothing; a drain left open loses the whole orifice flow.
+    let zero = Drain { kind: DrainKind::ZeroLoss, ..timer(3.0, 5.0, 300.0, None) };
+    assert_eq!(zero.air(line, &site).unwrap().m3_min(), 0.0);
+    let open = Drain { kind: DrainKind::ManualOpen, ..timer(25.4 / 8.0, 10.0, 600.0, Some(1.0)) };
+    assert!(rel(open.air(line, &site).unwrap().cfm(), 26.01) < 0.01);
+}
+
+#[test]
+fn heatless_dryer_purge_and_dew_point_saving_by_hand() {
+    // A heatless desiccant dryer rated 10 m³/min purging 15 % on a fixed cycle, 4 m³/min through it.
+    let d = Dryer {
+        tag: "D1".into(),
+        kind: DryerKind::HeatlessDesiccant,
+        rated_flow: FreeAirFlow::from_m3_min(10.0),
+        purge_fraction: Some(0.15),
+        power_kw: 0.3,
+        control: DryerControl::FixedCycle,
+    };
+    let f = d.figures(FreeAirFlow::from_m3_min(4.0));
+    // Written out: purge = 10 x 0.15 = 1.5 m³/min whatever the load; with dew-point control it
+    // follows the load 4/10: 1.5 x 0.4 = 0.6 m³/min; the saving is 0.9 m³/min.
+    assert!((f.purge.m3_min() - 1.5).abs() < 1e-12);
+    assert!((f.purge_with_dew_point_control.m3_min() - 0.6).abs() < 1e-12);
+    assert!((f.load - 0.4).abs() < 1e-12);
+    // Its cost at 6.0 kW per m³/min marginal, 8,760 h, 0.15 per kWh: 1.5 x 6 x 8760 x 0.15 = 11,826.
+    let cost = f.purge.m3_min() * 6.0 * 8760.0 * 0.15;
+    assert!((cost - 11_826.0).abs() < 1e-6);
+    // The same dryer with dew-point control purges 0.6.
+    let dp = Dryer { control: DryerControl::DewPoint, ..d.clone() };
+    assert!((dp.figures(FreeAirFlow::from_m3_min(4.0)).purge.m3_min() - 0.6).abs() < 1e-12);
+    // Defaults by kind where the record gives no purge.
+    let blank = Dryer { purge_fraction: None, ..d.clone() };
+    assert_eq!(blank.purge_fraction(), 0.15);
+    let refrigerated = Dryer { kind: DryerKind::Refrigerated, purge_fraction: Some(0.2), ..d };
+    assert_eq!(refrigerated.figures(FreeAirFlow::from_m3_min(4.0)).purge.m3_min(), 0.0);
+}
+
+#[test]
+fn cycling_refrigerated_dryer_follows_the_load() {
+    let d = Dryer {
+        tag: "D2".into(),
+        kind: DryerKind::RefrigeratedCycling,
+        rated_flow: FreeAirFlow::from_m3_min(20.0),
+        purge_fraction: None,
+        power_kw: 4.0,
+        control: DryerControl::FixedCycle,
+    };
+    assert!((d.figures(FreeAirFlow::from_m3_min(5.0)).power_kw - 1.0).abs() < 1e-12);
+    let fixed = Dryer { kind: DryerKind::Refrigerated, ..d };
+    assert_eq!(fixed.figures(FreeAirFlow::from_m3_min(5.0)).power_kw, 4.0);
+}
+
+#[test]
+fn pressure_drop_cost_by_both_rules() {
+    let site = sea_level();
+    // US DOE sourcebook: 1 % per 2 psi. 1 bar = 14.5038 psi (NIST SP 811) -> 7.25 %.
+    let c = pressure_drop_energy_share(1.0, 8.0, &site);
+    assert!((c.doe_rule - 0.072_519).abs() < 1e-5, "{}", c.doe_rule);
+    let two_psi = pressure_drop_energy_share(2.0 * BAR_PER_PSI, 7.0, &site);
+    assert!((two_psi.doe_rule - 0.01).abs() < 1e-12);
+    // Isentropic ratio against fluids (fixture).
+    for (drop, hi, name) in [
+        (0.5, 7.5, "treatment.drop_0_5bar_at_7_5barg_isentropic_share"),
+        (1.0, 8.0, "treatment.drop_1bar_at_8barg_isentropic_share"),
+    ] {
+        let got = pressure_drop_energy_share(drop, hi, &site).isentropic;
+        assert!(rel(got, reference(name)) < 1e-6, "{name}: {got} vs {}", reference(name));
+    }
+}
+
+#[test]
+fn end_uses_by_orifice_and_by_rated_flow() {
+    let site = us_site();
+    // Four 1/16 in nozzles at 100 psig, blowing half the time: the orifice table's 6.502 cfm each
+    // (US DOE sourcebook, from memory) x 4 x 0.5 = 13.0 cfm.
+    let psig100 = PressureAbs::from_psig(100.0, site.atmosphere).bar_g(site.atmosphere);
+    let nozzles = EndUse {
+        name: "blow-off".into(),
+        kind: EndUseKind::OpenBlowing,
+        count: 4,
+        flow_m3_min: None,
+        orifice_mm: Some(25.4 / 16.0),
+        pressure_bar_g: Some(psig100),
+        duty: 0.5,
+        regulated: false,
+        alternative_kw: Some(0.75),
+    };
+    assert!(rel(nozzles.mean_flow(&site).unwrap().cfm(), 13.004) < 0.01);
+    let tools = EndUse {
+        name: "nutrunners".into(),
+        kind: EndUseKind::Tool,
+        count: 10,
+        flow_m3_min: Some(0.5),
+        orifice_mm: None,
+        pressure_bar_g: Some(6.0),
+        duty: 0.2,
+        regulated: true,
+        alternative_kw: None,
+    };
+    let (production, inappropriate) = end_use_flows(&[nozzles.clone(), tools], &site).unwrap();
+    assert!((production.m3_min() - 1.0).abs() < 1e-12);
+    assert!(rel(inappropriate.m3_min(), nozzles.mean_flow(&site).unwrap().m3_min()) < 1e-12);
+    // The electric alternative, by hand: air q m³/min x 6 kW/(m³/min) x 4000 h, less 0.75 kW x 4
+    // x 0.5 x 4000 h = 6,000 kWh.
+    let q = nozzles.mean_flow(&site).unwrap().m3_min();
+    let saving = inappropriate_use_saving_kwh(&nozzles, &site, 6.0, 4000.0).unwrap().unwrap();
+    assert!((saving - (q * 6.0 * 4000.0 - 6000.0)).abs() < 1e-6);
+}
+
+#[test]
+fn demand_split_sums_to_the_metered_flow() {
+    let f = FreeAirFlow::from_m3_min;
+    let s = DemandSplit::new(f(20.0), f(11.0), f(1.3), f(1.9), f(4.2));
+    assert!((s.total_m3_min() - 20.0).abs() < 1e-12);
+    assert!((s.unexplained_m3_min - 1.6).abs() < 1e-12);
+    assert!(!s.over_explained());
+    let over = DemandSplit::new(f(10.0), f(11.0), f(0.0), f(0.0), f(1.0));
+    assert!((over.total_m3_min() - 10.0).abs() < 1e-12);
+    assert!(over.over_explained());
+}
+
+#[test]
+fn bad_records_name_their_field() {
+    let d = Dryer {
+        tag: "D1".into(),
+        kind: DryerKind::HeatlessDesiccant,
+        rated_flow: FreeAirFlow::from_m3_min(10.0),
+        purge_fraction: Some(1.5),
+        power_kw: 0.3,
+        control: DryerControl::FixedCycle,
+    };
+    assert_eq!(d.validate().unwrap_err().field, "purge_fraction");
+    assert_eq!(timer(-3.0, 5.0, 300.0, None).validate().unwrap_err().field, "orifice_mm");
+    assert_eq!(timer(3.0, 400.0, 300.0, None).validate().unwrap_err().field, "open_s");
+    let e = DryerKind::parse("silica", "kind").unwrap_err();
+    assert_eq!(e.field, "kind");
+    assert!(e.message.contains("heatless_desiccant"), "{}", e.message);
+    assert_eq!(EndUseKind::parse("vortex_cooler", "kind").unwrap(), EndUseKind::VortexCooler);
+    assert_eq!(DrainKind::parse("zero_loss", "kind").unwrap(), DrainKind::ZeroLoss);
+}
