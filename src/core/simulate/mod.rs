@@ -41,9 +41,11 @@ depend on the step.
 - **Load/unload**: starts (star-delta, [`START_DELAY_S`] at unloaded power) when the pressure falls to
   its load pressure, loads, unloads at its unload pressure; after unloading the power decays from
   [`BLOWDOWN_START_FRACTION`] (65 %) of full to the unloaded fraction with a [`BLOWDOWN_TAU_S`] (20 s)
-  time constant (sump blow-down); after [`RUN_ON_S`] (10 min) unloaded it stops.
+  time constant (sump blow-down, `partload::unloaded_energy`: the same blow-down as the part-load
+  model that prices leaks and pressure); after [`RUN_ON_S`] (10 min) unloaded it stops.
 - **Modulation**: delivers `Q_full (p_unload - p) / 0.6 bar` (full at the load pressure, none at the
-  unload pressure), power `P/P_full = 0.70 + 0.30 Q/Q_full` (common practice); after
+  unload pressure), power `P/P_full = 0.70 + 0.30 Q/Q_full` (common practice,
+  `partload::modulation_power_fraction`); after
   10 min at zero delivery it stops, and it starts again at its load pressure.
 - **Variable speed**: a PI law on the setpoint between the curve's minimum and maximum flow, with a
   speed ramp (gains scaled to the machine's maximum flow like the demo's drive: 2.63 Q_max per bar,
@@ -97,6 +99,8 @@ mod demand;
 mod engine;
 mod machine;
 mod plant;
+#[cfg(test)]
+mod plant_b_tests;
 mod result;
 #[cfg(test)]
 mod tests;
@@ -123,10 +127,8 @@ pub const VSD_ABOVE_LOAD_BAR: f64 = 0.1;
 pub const VSD_STOP_ABOVE_SETPOINT_BAR: f64 = 0.6;
 /// ... and restarts below setpoint - this, bar.
 pub const VSD_RESTART_BELOW_SETPOINT_BAR: f64 = 0.1;
-/// Sump blow-down after unloading: power starts at this fraction of full (common practice).
-pub const BLOWDOWN_START_FRACTION: f64 = 0.65;
-/// Blow-down time constant, s (common practice).
-pub const BLOWDOWN_TAU_S: f64 = 20.0;
+/// Sump blow-down after unloading (the one part-load model's, `core::partload`).
+pub use crate::core::partload::{BLOWDOWN_START_FRACTION, BLOWDOWN_TAU_S};
 /// Unloaded run-on before a load/unload machine stops, s (common practice).
 pub const RUN_ON_S: f64 = 600.0;
 /// Star-delta start before a load/unload machine can load, s (common practice).
