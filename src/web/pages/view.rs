@@ -714,3 +714,31 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
         },
     })
 }
+
+#[cfg(test)]
+mod part_load_note_tests {
+    use super::*;
+    use crate::core::model::{CompressorKind, CompressorSpec, Control};
+    use crate::core::partload::{Machine, Storage};
+    use crate::core::units::{PressureAbs, UnitSystem};
+
+    #[test]
+    fn the_note_names_the_curve_and_the_assumed_storage_in_the_readers_units() {
+        let spec = CompressorSpec::blank(CompressorKind::LubricatedScrew, Control::LoadUnload, 37.0, 6.0);
+        let m = Machine {
+            spec: &spec,
+            full_kw: 37.0,
+            unloaded_fraction: 0.25,
+            storage: Storage::of(0.0, 6.0, 1.01325),
+        };
+        let model = PartLoadModel::of(&m, 3.0, ("log", "log"));
+        let atm = PressureAbs::from_kpa_abs(101.325);
+        let si = part_load_note(&model, &Fmt::new(UnitSystem::Si, atm));
+        let us = part_load_note(&model, &Fmt::new(UnitSystem::Us, atm));
+        // 3 US gal/cfm = 3 × 3.785411784 l / 28.316846592 l = 0.40 m³ per m³/min (NIST SP 811 definitions).
+        assert!(si.contains("0.40 m³ per m³/min") && si.contains("assumed"), "{si}");
+        assert!(si.contains("load/unload on its storage") && si.contains("kW/(m³/min)"), "{si}");
+        assert!(us.contains("3.0 US gal/cfm") && us.contains("kW/100 cfm") && us.contains("psi"), "{us}");
+        assert!(!us.contains("m³"), "{us}");
+    }
+}
