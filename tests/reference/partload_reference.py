@@ -95,7 +95,8 @@ def main():
     for g in [1.0, 3.0, 5.0, 10.0]:
         v, per = volume_m3(g)
         points = [[x, cycle_mean_power(x, v)] for x in loads]
-        slope = (cycle_mean_power(0.55, v) - cycle_mean_power(0.45, v)) / 0.10
+        slopes = [[x, (cycle_mean_power(x + 0.05, v) - cycle_mean_power(x - 0.05, v)) / 0.10] for x in (0.2, 0.5, 0.8)]
+        slope = slopes[1][1]
         out["curves"].append(
             {
                 "us_gal_per_cfm": g,
@@ -103,6 +104,7 @@ def main():
                 "m3_per_m3_min": per,
                 "power_share_at_load_share": points,
                 "slope_at_half_load_share_per_share": slope,
+                "slope_at_load_share_per_share": slopes,
             }
         )
         print(g, round(v, 4), [round(p, 4) for _, p in points], round(slope, 4))

@@ -175,21 +175,24 @@ pub(super) fn trim(cs: &[CompressorSpec], stats: &[Option<StateStats>]) -> Optio
 }
 
 /// The part-load model of compressor `i` at its logged operating point (`core::partload`), on the
-/// system volume on record (0: none, the assumed storage stands in). The full-load power is the mean
-/// logged while loaded where the log has it, the unloaded share the level found in the log (or the
-/// auditor's) over it, else the data sheet's.
+/// system volume on record (0: none, the assumed storage stands in). A fixed-speed machine's full-load
+/// power and unloaded share are the levels found in its own log (or the auditor's), else the data
+/// sheet's. Its load share is read from its mean running power by the linear inverse
+/// `x = (P̄/P_full - u) / (1 - u)`, which bins as long as a load cycle do not bias (issue 17); the
+/// states' loaded share stands in where the power is not logged.
 pub(super) fn part_load_model(d: &DataFigures, i: usize, system_volume_m3: f64) -> PartLoadModel {
     let c = &d.spec.compressors[i];
     let stats = d.stats[i].as_ref();
-    let lv = d.levels[i].as_ref();
+    let found = d.levels[i].as_ref().filter(|l| l.loaded > 0.0);
     let fixed_speed = matches!(c.control, Control::LoadUnload | Control::StartStop);
-    let logged_full = stats.and_then(|s| s.mean_loaded_power_kw).filter(|&p| fixed_speed && p > 0.0);
-    let (full_kw, full_src) = match logged_full {
-        Some(p) => (p, "log"),
-        None => (c.rated_power_kw, "data_sheet"),
+    let (full_kw, full_src) = match found {
+        Some(l) if fixed_speed && l.loaded_source != LevelSource::DataSheet => {
+            (l.loaded, if l.loaded_source == LevelSource::User { "user" } else { "log" })
+        }
+        _ => (c.rated_power_kw, "data_sheet"),
     };
-    let (unloaded_fraction, unl_src) = match lv {
-        Some(l) if l.unloaded_source != LevelSource::DataSheet && l.loaded > 0.0 && l.unloaded > 0.0 => (
+    let (unloaded_fraction, unl_src) = match found {
+        Some(l) if l.unloaded_source != LevelSource::DataSheet && l.unloaded > 0.0 => (
             (l.unloaded / l.loaded).clamp(0.0, 1.0),
             if l.unloaded_source == LevelSource::User { "user" } else { "log" },
         ),
@@ -200,9 +203,16 @@ pub(super) fn part_load_model(d: &DataFigures, i: usize, system_volume_m3: f64) 
     let running = stats.filter(|s| s.running_hours > 0.0 && s.off_fraction < 1.0);
     let q = match (c.control, running) {
         (_, None) => 0.5 * c.rated_flow_m3_min,
-        (Control::LoadUnload | Control::StartStop, Some(s)) => {
-            (s.loaded_fraction / (1.0 - s.off_fraction)).clamp(0.0, 1.0) * c.rated_flow_m3_min
+        (Control::LoadUnload, Some(s)) => {
+            let mean_running_kw = d.energy.mean_kw[i] / (1.0 - s.off_fraction);
+            let x = if mean_running_kw > 0.0 && unloaded_fraction < 1.0 {
+                (mean_running_kw / full_kw - unloaded_fraction) / (1.0 - unloaded_fraction)
+            } else {
+                s.loaded_fraction / (1.0 - s.off_fraction)
+            };
+            x.clamp(0.0, 1.0) * c.rated_flow_m3_min
         }
+        (Control::StartStop, Some(s)) => (1.0 - s.off_fraction) * c.rated_flow_m3_min,
         (_, Some(s)) if d.air[i].air_m3 > 0.0 => d.air[i].air_m3 / (s.running_hours * 60.0),
         _ => 0.5 * c.rated_flow_m3_min,
     };
