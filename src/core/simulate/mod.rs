@@ -62,6 +62,13 @@ depend on the step.
   lands on the target (two corrections of the shift).
 - **ReduceLeaks** removes that fraction of the leak flow (two reductions compound).
 
+# Calibration
+A load/unload machine whose log shows it running unloaded more than three blow-down time constants
+after its last loaded bin and before its next (at least 30 such bins) takes the median power of those
+bins as its unloaded
+power, in place of the data sheet's (a blank one is a default by kind); the bins nearer the unloading
+hold blow-down, which the replay adds itself. `calibration` lists each machine so calibrated.
+
 # Figures
 - `validation_error` = (baseline energy - logged energy) / logged energy, over the simulated bins in
   which every machine's power is logged (`NaN`, shown as `null`, if none is).
@@ -94,6 +101,7 @@ lower pressure and leak repair are measures of their own and would otherwise be 
 [`costs::LEAK_PER_M3_MIN`]: crate::core::costs::LEAK_PER_M3_MIN
 */
 
+mod calibrate;
 mod cost;
 mod demand;
 mod engine;
@@ -198,6 +206,8 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
         }
     }
     scenario.check()?;
+    let (calibrated, calibration) = calibrate::calibrated(input);
+    let input = &SimInput { compressors: &calibrated, ..*input };
     let applied = apply(input, scenario)?;
     let demand = prepare_demand(input)?;
     let (implementation_cost, implementation_cost_source, implementation_cost_basis) =
@@ -296,5 +306,6 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
         supply_side_only: scenario.supply_side_only(),
         compressors,
         pressure_trace: out.trace,
+        calibration,
     })
 }

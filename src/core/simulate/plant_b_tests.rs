@@ -232,3 +232,33 @@ fn a_second_invented_plant_is_replayed_within_3_percent_of_its_logged_energy() {
     eprintln!("plant B without a flow meter: validation error {:+.4}", r.validation_error);
     assert!(r.validation_error.abs() < 0.03, "validation error {}", r.validation_error);
 }
+
+#[test]
+fn a_wrong_unloaded_power_on_the_data_sheet_is_calibrated_where_the_log_settles() {
+    // K2's data sheet says 35 % unloaded; plant B runs it unloaded at 22 % of rated (the generator's
+    // constant), in long unloaded runs between the shifts' peaks. Its settled unloaded bins give the
+    // plant's own figure back. K1 cycles in seconds and never settles in 10 s bins: it keeps its sheet.
+    let site = SiteAir::new(96.4, 15.0);
+    let frame = plant_b_frame(&site);
+    let mut specs = plant_b_specs();
+    specs[1].unloaded_power_fraction = 0.35;
+    specs[1].no_load_power_kw = None;
+    let storage = StorageSpec { receivers_m3: vec![2.5], other_volume_m3: 0.7 };
+    let input = SimInput {
+        frame: &frame,
+        compressors: &specs,
+        storage: &storage,
+        site: &site,
+        leak_flow_m3_min: None,
+    };
+    let r =
+        run(&input, &Scenario { name: "as is".into(), changes: vec![], implementation_cost: None }).unwrap();
+    eprintln!("plant B, K2's sheet wrong: validation error {:+.4}; {:?}", r.validation_error, r.calibration);
+    assert_eq!(r.calibration.len(), 1, "{:?}", r.calibration);
+    let line = &r.calibration[0];
+    assert!(line.starts_with("K2"), "{line}");
+    let got: f64 = line.split("unloaded power ").nth(1).unwrap().split(' ').next().unwrap().parse().unwrap();
+    // Within 0.2 kW of 0.22 × 45 kW: the blow-down left after 3 τ is 5 % of (b - u) at most.
+    assert!((got - 0.22 * 45.0).abs() < 0.2, "K2: {got} kW vs {} kW", 0.22 * 45.0);
+    assert!(r.validation_error.abs() < 0.03, "validation error {}", r.validation_error);
+}
