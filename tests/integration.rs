@@ -24,6 +24,8 @@ mod hostile_validation;
 mod hostile_web;
 #[path = "integration/ingest.rs"]
 mod ingest;
+#[path = "integration/partload.rs"]
+mod partload;
 #[path = "integration/real_files.rs"]
 mod real_files;
 #[path = "integration/undo.rs"]

@@ -237,6 +237,7 @@ impl App {
                 costs: &costs,
                 accuracy: &accuracy,
                 scenarios: &scenarios,
+                system_volume_m3: b.storage().system_volume_m3(),
             },
         );
         recommend::apply_implementation_costs(&mut s.recommendations, &edited);

@@ -11,6 +11,8 @@ Architecture invariant: `core` imports nothing from `store`, `ingest` or `web`.
 - [`thermo`]: isothermal, isentropic and polytropic compression, staging, cooler duties.
 - [`series`]: one timeline: alignment of channels into equal bins, integration.
 - [`states`]: compressor states from power, loaded fractions, cycles, flow from states.
+- [`partload`]: the one part-load model (load/unload on storage, modulation, variable speed,
+  start/stop) behind the marginal specific power and the replay's blow-down.
 - [`leaks`]: bleed-down, load/unload, orifice, decay fits; [`fieldtest`]: the API's field tests.
 - [`safety`]: the cautions shown wherever a test or a measure touches pressure equipment or heat.
 - [`heat`]: heat of compression rejected and recoverable, and its value.
@@ -35,6 +37,7 @@ pub mod heat;
 pub mod leaks;
 pub mod levels;
 pub mod model;
+pub mod partload;
 pub mod recommend;
 pub mod safety;
 pub mod series;

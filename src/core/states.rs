@@ -35,8 +35,9 @@ unload period.
   specific power rises only slightly towards minimum speed; from memory).
 - Start/stop: full specific power, `P = P_full Q/Q_rated` in the time average.
 
-The **marginal** specific power (kW per extra m³/min) is the slope of that model: the figure that prices
-a change of demand when this machine trims (US DOE compressed-air sourcebook).
+These are the ideal lines; the figure that prices a change of demand when a machine trims (the
+**marginal** specific power) comes from `core::partload`, which adds the storage a load/unload machine
+cycles on and its sump blow-down, and takes the slope at the machine's logged operating point.
 */
 
 use serde::Serialize;
@@ -337,7 +338,8 @@ pub fn flow_at_power_m3_min(spec: &CompressorSpec, kw: f64) -> f64 {
     }
 }
 
-/// Marginal specific power, kW per m³/min: the slope of the machine's part-load model (module doc).
+/// The ideal line's slope, kW per m³/min (module doc; storage large enough): `core::partload` compares
+/// its marginal with it (`ideal_marginal_kw_per_m3_min`).
 /// Load/unload `(P_full - P_unl)/Q_rated`; modulation `0.30 P_full/Q_full`; variable speed the
 /// curve's slope between its lowest and highest points; start/stop `P_full/Q_rated`.
 pub fn marginal_kw_per_m3_min(spec: &CompressorSpec) -> f64 {

@@ -342,6 +342,10 @@ pub struct Summary {
     pub flow_source: FlowSource,
     pub system: SystemFigures,
     pub pressure: PressureFigures,
+    /// The curve and storage behind the marginal specific power (the trim machine's part-load
+    /// model, `core::partload`): what leaks, artificial demand and the pressure measure are priced at.
+    #[serde(default)]
+    pub part_load_model: Option<crate::core::partload::PartLoadModel>,
     pub compressors: Vec<CompressorFigures>,
     pub demand: Demand,
     pub baseline: Baseline,

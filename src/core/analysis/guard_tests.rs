@@ -28,6 +28,7 @@ fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame) -> Summary {
         costs: &costs,
         scenarios: &[],
         accuracy: &acc,
+        system_volume_m3: 0.0,
     };
     let sm = summary_of(&data_figures(frame, &DataSpec::of(s, cs)), &input);
     // The verdict and the withheld figures read back from the JSON like every other figure.

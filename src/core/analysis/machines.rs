@@ -15,8 +15,9 @@ the per-compressor figures of the summary.
   otherwise the machine with the largest share of its running time unloaded or at part load.
 */
 
-use crate::core::levels::{self, Levels};
+use crate::core::levels::{self, LevelSource, Levels};
 use crate::core::model::{CompressorSpec, Control};
+use crate::core::partload::{self, PartLoadModel, Storage};
 use crate::core::recommend::MachineUse;
 use crate::core::series::{integrate_weighted, sum_columns, Frame, Integral, Signal};
 use crate::core::states::{self, State, StateStats};
@@ -173,12 +174,56 @@ pub(super) fn trim(cs: &[CompressorSpec], stats: &[Option<StateStats>]) -> Optio
     })
 }
 
-/// The marginal specific power of the trim machine (of the first compressor without one).
-pub(super) fn marginal(cs: &[CompressorSpec], trim: Option<usize>) -> f64 {
-    trim.map_or_else(
-        || cs.first().map_or(0.0, states::marginal_kw_per_m3_min),
-        |t| states::marginal_kw_per_m3_min(&cs[t]),
-    )
+/// The part-load model of compressor `i` at its logged operating point (`core::partload`), on the
+/// system volume on record (0: none, the assumed storage stands in). A fixed-speed machine's full-load
+/// power and unloaded share are the levels found in its own log (or the auditor's), else the data
+/// sheet's. Its load share is read from its mean running power by the linear inverse
+/// `x = (P̄/P_full - u) / (1 - u)`, which bins as long as a load cycle do not bias (issue 17); the
+/// states' loaded share stands in where the power is not logged.
+pub(super) fn part_load_model(d: &DataFigures, i: usize, system_volume_m3: f64) -> PartLoadModel {
+    let c = &d.spec.compressors[i];
+    let stats = d.stats[i].as_ref();
+    let found = d.levels[i].as_ref().filter(|l| l.loaded > 0.0);
+    let fixed_speed = matches!(c.control, Control::LoadUnload | Control::StartStop);
+    let (full_kw, full_src) = match found {
+        Some(l) if fixed_speed && l.loaded_source != LevelSource::DataSheet => {
+            (l.loaded, if l.loaded_source == LevelSource::User { "user" } else { "log" })
+        }
+        _ => (c.rated_power_kw, "data_sheet"),
+    };
+    let (unloaded_fraction, unl_src) = match found {
+        Some(l) if l.unloaded_source != LevelSource::DataSheet && l.unloaded > 0.0 => (
+            (l.unloaded / l.loaded).clamp(0.0, 1.0),
+            if l.unloaded_source == LevelSource::User { "user" } else { "log" },
+        ),
+        _ => (c.unloaded_power_fraction, "data_sheet"),
+    };
+    let storage = Storage::of(system_volume_m3, c.rated_flow_m3_min, d.spec.air.atmosphere.bar_abs());
+    let m = partload::Machine { spec: c, full_kw, unloaded_fraction, storage };
+    let running = stats.filter(|s| s.running_hours > 0.0 && s.off_fraction < 1.0);
+    let q = match (c.control, running) {
+        (_, None) => 0.5 * c.rated_flow_m3_min,
+        (Control::LoadUnload, Some(s)) => {
+            let mean_running_kw = d.energy.mean_kw[i] / (1.0 - s.off_fraction);
+            let x = if mean_running_kw > 0.0 && unloaded_fraction < 1.0 {
+                (mean_running_kw / full_kw - unloaded_fraction) / (1.0 - unloaded_fraction)
+            } else {
+                s.loaded_fraction / (1.0 - s.off_fraction)
+            };
+            x.clamp(0.0, 1.0) * c.rated_flow_m3_min
+        }
+        (Control::StartStop, Some(s)) => (1.0 - s.off_fraction) * c.rated_flow_m3_min,
+        (_, Some(s)) if d.air[i].air_m3 > 0.0 => d.air[i].air_m3 / (s.running_hours * 60.0),
+        _ => 0.5 * c.rated_flow_m3_min,
+    };
+    PartLoadModel::of(&m, q, (full_src, unl_src))
+}
+
+/// The part-load model of the trim machine (of the first compressor without one): the curve and
+/// storage behind the marginal specific power that prices leaks, artificial demand and pressure.
+pub(super) fn trim_model(d: &DataFigures, system_volume_m3: f64) -> Option<PartLoadModel> {
+    let i = d.trim.or((!d.spec.compressors.is_empty()).then_some(0))?;
+    Some(part_load_model(d, i, system_volume_m3))
 }
 
 /// What the measures need from one compressor, with its annual figures as cell sums.
@@ -274,6 +319,7 @@ pub(super) fn compressor_figures(
     acc: &Accuracy,
     annual_kwh_c: &[f64],
     heat: &[CompressorHeat],
+    system_volume_m3: f64,
 ) -> Vec<CompressorFigures> {
     let cs = d.spec.compressors.as_slice();
     let energy_kwh = &d.energy.energy_kwh;
@@ -341,7 +387,7 @@ pub(super) fn compressor_figures(
                 .zip(ds_kw)
                 .map(|(p, ds)| (p / ds - 1.0) * 100.0),
             levels_kw: d.levels[i].clone(),
-            marginal_kw_per_m3_min: states::marginal_kw_per_m3_min(c),
+            marginal_kw_per_m3_min: part_load_model(d, i, system_volume_m3).marginal_kw_per_m3_min,
             trim: d.trim == Some(i),
             heat_rejected_kwh: h.rejected_kwh,
             recoverable_kwh: h.recoverable_kwh,

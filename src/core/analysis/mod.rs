@@ -114,6 +114,9 @@ pub struct AuditInput<'a> {
     pub accuracy: &'a Accuracy,
     /// Stored what-if results of the present data (`recommend::ScenarioCase`).
     pub scenarios: &'a [recommend::ScenarioCase],
+    /// System volume on record, m³ (receivers, piping, vessels; 0: none, the part-load model then
+    /// assumes `partload::ASSUMED_STORAGE_US_GAL_PER_CFM` and says so).
+    pub system_volume_m3: f64,
 }
 
 /// The data-heavy half of the summary: every pass over the frame's bins, and nothing that prices,
@@ -146,7 +149,6 @@ pub struct DataFigures {
     sp_note: Option<String>,
     rated_sp: Option<f64>,
     trim: Option<usize>,
-    marginal: f64,
     prod_share: f64,
     q_prod: Option<f64>,
     q_nonprod: Option<f64>,
@@ -185,7 +187,6 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
     let air = specific_power::compressor_air(frame, cs, &logged);
     let rated_sp = specific_power::rated_specific_power(cs, &air);
     let trim = machines::trim(cs, &logged.stats);
-    let marginal = machines::marginal(cs, trim);
     let production = production::production(spec.production.as_ref(), &cal, q, total_power, n);
     let running_cells = baseline::running_cells(&cal, &logged);
     let power_cells = baseline::power_cells(&cal, &logged);
@@ -230,7 +231,6 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
         sp_note,
         rated_sp,
         trim,
-        marginal,
         prod_share: production.share,
         q_prod: production.q_prod,
         q_nonprod: production.q_nonprod,
@@ -318,19 +318,29 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         "Σ p_atm Q ln(p_header / p_atm) / Σ P over bins with power, flow and pressure",
         "ideal-gas isothermal compression work (checked against the Python library fluids)",
     ));
-    let (trim, marginal) = (d.trim, d.marginal);
+    let trim = d.trim;
+    let part_load_model = machines::trim_model(d, input.system_volume_m3);
+    let marginal = part_load_model.as_ref().map_or(0.0, |m| m.marginal_kw_per_m3_min);
     methods.push(method(
         "marginal_kw_per_m3_min",
-        "trim machine's part-load slope: load/unload (P_full - P_unl)/Q; modulation 0.30 P/Q; VSD curve slope; start/stop P/Q",
-        "US DOE compressed-air sourcebook: part-load behaviour by control",
+        "slope dP/dQ of the trim machine's part-load model at its logged operating point: load/unload \
+         on storage (cycle-mean power with the sump blow-down, from system volume per trim capacity \
+         and pressure band); modulation 0.30 P/Q; variable speed the data-sheet curve's local slope; \
+         start/stop P/Q",
+        "US DOE compressed-air sourcebook: part-load behaviour by control, load/unload curves by storage \
+         (checked against a time-domain blow-down cycle, tests/reference/partload_reference.py)",
     ));
+    if let Some(m) = &part_load_model {
+        assumptions.push(format!("part-load model behind the marginal specific power: {}", m.describe()));
+    }
 
     let annual = baseline::annual(site, d);
     methods.extend(baseline::methods(&annual));
     let baseline = baseline::baseline(site, &annual, d.totals.peak_kw, sp, u_power);
 
     let heat_c = heat::compressor_heat(d, &annual.per_compressor_kwh);
-    let comp_fig = machines::compressor_figures(d, acc, &annual.per_compressor_kwh, &heat_c);
+    let comp_fig =
+        machines::compressor_figures(d, acc, &annual.per_compressor_kwh, &heat_c, input.system_volume_m3);
     let machines = machines::machine_uses(d, annual.rule, &annual.per_compressor_kwh);
     let heat = heat::heat_value(site, &heat_c);
     if heat.as_process_water {
@@ -482,6 +492,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             compressors_without_power: d.without_power.clone(),
         },
         pressure: pressure_fig,
+        part_load_model,
         compressors: comp_fig,
         demand: d.demand.clone(),
         baseline,

@@ -46,6 +46,7 @@ fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame, leaks: Vec<LeakEstima
             costs: &costs,
             scenarios: &[],
             accuracy: &acc,
+            system_volume_m3: 0.0,
         },
     );
     // Every summary a test builds reads back from its JSON unchanged.
@@ -281,8 +282,13 @@ fn a_logged_week_is_profiled_by_weekday_and_hour_and_annualised_over_52_weeks() 
     // Leaks: the test is adopted; leak energy at the load/unload marginal power (US DOE sourcebook, leaks fact sheet)
     // over the hours the machine runs (all 168 h a week).
     assert_eq!(r.leaks.adopted_leak_flow_m3_min, Some(1.5));
-    let marginal = 55.0 * 0.75 / 9.5;
-    assert!((r.leaks.marginal_kw_per_m3_min - marginal).abs() < 1e-12);
+    // Priced at the part-load model's slope (checked against a time-domain cycle in
+    // core::partload), the one named on the summary, on the assumed storage (no volume on record).
+    let model = r.part_load_model.as_ref().unwrap();
+    assert_eq!((model.machine.as_str(), model.curve.as_str()), ("C1", "load_unload_with_storage"));
+    assert!(model.storage_assumed && (model.storage_us_gal_per_cfm.unwrap() - 3.0).abs() < 1e-9);
+    let marginal = model.marginal_kw_per_m3_min;
+    assert_eq!(r.leaks.marginal_kw_per_m3_min, marginal);
     assert!((r.baseline.annual_running_hours - 168.0 * 52.0).abs() < 1e-6);
     assert!((r.leaks.annual_leak_energy_kwh.unwrap() - 1.5 * marginal * 168.0 * 52.0).abs() < 1e-3);
     let mean_q = (80.0 * 10.0 + 88.0 * 2.0) / 168.0;
@@ -370,7 +376,14 @@ fn marginal_power_is_the_trim_machine_not_the_plant_average() {
         vec![LeakEstimate { test_id: 1, method: "load_unload".into(), leak_flow_m3_min: 1.2 }],
     );
     assert_eq!(r.leaks.marginal_machine.as_deref(), Some("TRIM"));
-    assert!((r.leaks.marginal_kw_per_m3_min - 37.0 * 0.75 / 6.0).abs() < 1e-12);
+    // At 20 % load the trim's curve on 3 US gal/cfm (assumed: no volume on record) is steeper than
+    // the ideal line (core::partload: the blow-down is paid once a cycle, and cycles grow with load there).
+    let model = r.part_load_model.as_ref().unwrap();
+    assert!((model.load_fraction - 0.2).abs() < 1e-12);
+    assert_eq!(model.unloaded_source, "log");
+    assert!((model.unloaded_power_fraction - 0.25).abs() < 1e-6);
+    assert_eq!(r.leaks.marginal_kw_per_m3_min, model.marginal_kw_per_m3_min);
+    assert!(model.marginal_kw_per_m3_min > 37.0 * 0.75 / 6.0);
     assert!(r.compressors[1].trim && !r.compressors[0].trim);
     assert!((r.compressors[1].loaded_fraction - 0.2).abs() < 1e-12);
     // Load/unload trim at 20 % load: a VSD trim is proposed.
@@ -492,4 +505,42 @@ fn specific_power_leaves_out_a_compressor_whose_power_is_not_logged() {
     let r = run(&s, &cs, &frame, vec![]);
     assert_eq!(r.system.specific_power_kw_per_m3_min, None);
     assert!(r.system.specific_power_note.as_deref().unwrap().contains("C1"));
+}
+
+#[test]
+fn leaks_are_priced_on_the_trims_curve_at_its_storage_as_a_time_domain_cycle_gives() {
+    // A load/unload trim loaded half the time (30 s loaded, 30 s unloaded at 25 % of 37 kW) on the
+    // assumed 3 US gal/cfm: the marginal is the slope at half load of the time-domain blow-down cycle
+    // (tests/reference/partload_reference.py, written to partload_fixture.json), not the ideal 0.75 P/Q.
+    let f: serde_json::Value =
+        serde_json::from_str(include_str!("../../../tests/reference/partload_fixture.json")).unwrap();
+    let curve = f["curves"].as_array().unwrap().iter().find(|c| c["us_gal_per_cfm"] == 3.0).unwrap();
+    let slope = curve["slope_at_half_load_share_per_share"].as_f64().unwrap();
+    let s = site();
+    let cs =
+        vec![spec("BASE", Control::LoadUnload, 90.0, 16.0), spec("TRIM", Control::LoadUnload, 37.0, 6.0)];
+    let n = 1080;
+    let trim: Vec<f32> = (0..n).map(|i| if i % 6 < 3 { 37_000.0 } else { 9_250.0 }).collect();
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![col(Signal::Power, Some(0), vec![90_000.0; n]), col(Signal::Power, Some(1), trim)],
+    };
+    let r = run(
+        &s,
+        &cs,
+        &frame,
+        vec![LeakEstimate { test_id: 1, method: "load_unload".into(), leak_flow_m3_min: 1.2 }],
+    );
+    let model = r.part_load_model.as_ref().unwrap();
+    assert_eq!(model.machine, "TRIM");
+    assert!((model.load_fraction - 0.5).abs() < 1e-12);
+    let want = slope * 37.0 / 6.0;
+    assert!(
+        (r.leaks.marginal_kw_per_m3_min - want).abs() / want < 0.01,
+        "{} vs {want}",
+        r.leaks.marginal_kw_per_m3_min
+    );
+    // About 0.65 against 0.75 P/Q: over 10 % below the ideal line, so leaks cost less than it said.
+    assert!(r.leaks.marginal_kw_per_m3_min < 0.9 * 37.0 * 0.75 / 6.0);
+    assert_eq!(r.compressors[1].marginal_kw_per_m3_min, r.leaks.marginal_kw_per_m3_min);
 }

@@ -2,9 +2,9 @@
 //! state (the module doc's "Control rules").
 
 use super::START_DELAY_S;
-use super::{BAND_BAR, BLOWDOWN_START_FRACTION, BLOWDOWN_TAU_S, MIN_RUN_S, POWER_PER_BAR, RUN_ON_S};
+use super::{BAND_BAR, MIN_RUN_S, POWER_PER_BAR, RUN_ON_S};
 use crate::core::model::Control;
-use crate::core::states;
+use crate::core::partload;
 
 /// Tolerance of a threshold test after an event landed on it, bar.
 const EPS_BAR: f64 = 1e-9;
@@ -164,15 +164,11 @@ impl MState {
                 m.rated_kw * m.pressure_factor(p_mid) * dt
             }
             Mode::Unloaded => {
-                // Exact integral of u + (b - u) exp(-s/τ) from s to s + dt.
-                let u = m.unl_frac;
-                let b = BLOWDOWN_START_FRACTION.max(u);
-                let s = self.timer;
-                let decay =
-                    BLOWDOWN_TAU_S * ((-s / BLOWDOWN_TAU_S).exp() - (-(s + dt) / BLOWDOWN_TAU_S).exp());
+                // The part-load model's blow-down, integrated exactly from s to s + dt.
+                let e = partload::unloaded_energy(m.unl_frac, self.timer, dt);
                 self.timer += dt;
                 st.unloaded_s += dt;
-                m.rated_kw * (u * dt + (b - u) * decay)
+                m.rated_kw * e
             }
             Mode::Running => match m.control {
                 Control::VariableSpeed => {
@@ -187,8 +183,7 @@ impl MState {
                     } else {
                         st.loaded_s += dt;
                     }
-                    let mp = states::MODULATION_POWER_AT_ZERO_FLOW;
-                    m.rated_kw * (mp + (1.0 - mp) * x) * m.pressure_factor(p_mid) * dt
+                    m.rated_kw * partload::modulation_power_fraction(x) * m.pressure_factor(p_mid) * dt
                 }
             },
         };

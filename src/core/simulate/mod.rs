@@ -41,9 +41,11 @@ depend on the step.
 - **Load/unload**: starts (star-delta, [`START_DELAY_S`] at unloaded power) when the pressure falls to
   its load pressure, loads, unloads at its unload pressure; after unloading the power decays from
   [`BLOWDOWN_START_FRACTION`] (65 %) of full to the unloaded fraction with a [`BLOWDOWN_TAU_S`] (20 s)
-  time constant (sump blow-down); after [`RUN_ON_S`] (10 min) unloaded it stops.
+  time constant (sump blow-down, `partload::unloaded_energy`: the same blow-down as the part-load
+  model that prices leaks and pressure); after [`RUN_ON_S`] (10 min) unloaded it stops.
 - **Modulation**: delivers `Q_full (p_unload - p) / 0.6 bar` (full at the load pressure, none at the
-  unload pressure), power `P/P_full = 0.70 + 0.30 Q/Q_full` (common practice); after
+  unload pressure), power `P/P_full = 0.70 + 0.30 Q/Q_full` (common practice,
+  `partload::modulation_power_fraction`); after
   10 min at zero delivery it stops, and it starts again at its load pressure.
 - **Variable speed**: a PI law on the setpoint between the curve's minimum and maximum flow, with a
   speed ramp (gains scaled to the machine's maximum flow like the demo's drive: 2.63 Q_max per bar,
@@ -59,6 +61,13 @@ depend on the step.
 - **SetPressure** shifts every band by the same amount so that the simulated mean header pressure
   lands on the target (two corrections of the shift).
 - **ReduceLeaks** removes that fraction of the leak flow (two reductions compound).
+
+# Calibration
+A load/unload machine whose log shows it running unloaded more than three blow-down time constants
+after its last loaded bin and before its next (at least 30 such bins) takes the median power of those
+bins as its unloaded
+power, in place of the data sheet's (a blank one is a default by kind); the bins nearer the unloading
+hold blow-down, which the replay adds itself. `calibration` lists each machine so calibrated.
 
 # Figures
 - `validation_error` = (baseline energy - logged energy) / logged energy, over the simulated bins in
@@ -92,11 +101,14 @@ lower pressure and leak repair are measures of their own and would otherwise be 
 [`costs::LEAK_PER_M3_MIN`]: crate::core::costs::LEAK_PER_M3_MIN
 */
 
+mod calibrate;
 mod cost;
 mod demand;
 mod engine;
 mod machine;
 mod plant;
+#[cfg(test)]
+mod plant_b_tests;
 mod result;
 #[cfg(test)]
 mod tests;
@@ -123,10 +135,8 @@ pub const VSD_ABOVE_LOAD_BAR: f64 = 0.1;
 pub const VSD_STOP_ABOVE_SETPOINT_BAR: f64 = 0.6;
 /// ... and restarts below setpoint - this, bar.
 pub const VSD_RESTART_BELOW_SETPOINT_BAR: f64 = 0.1;
-/// Sump blow-down after unloading: power starts at this fraction of full (common practice).
-pub const BLOWDOWN_START_FRACTION: f64 = 0.65;
-/// Blow-down time constant, s (common practice).
-pub const BLOWDOWN_TAU_S: f64 = 20.0;
+/// Sump blow-down after unloading (the one part-load model's, `core::partload`).
+pub use crate::core::partload::{BLOWDOWN_START_FRACTION, BLOWDOWN_TAU_S};
 /// Unloaded run-on before a load/unload machine stops, s (common practice).
 pub const RUN_ON_S: f64 = 600.0;
 /// Star-delta start before a load/unload machine can load, s (common practice).
@@ -196,6 +206,8 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
         }
     }
     scenario.check()?;
+    let (calibrated, calibration) = calibrate::calibrated(input);
+    let input = &SimInput { compressors: &calibrated, ..*input };
     let applied = apply(input, scenario)?;
     let demand = prepare_demand(input)?;
     let (implementation_cost, implementation_cost_source, implementation_cost_basis) =
@@ -294,5 +306,6 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
         supply_side_only: scenario.supply_side_only(),
         compressors,
         pressure_trace: out.trace,
+        calibration,
     })
 }

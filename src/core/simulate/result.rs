@@ -66,6 +66,9 @@ pub struct SimResult {
     pub compressors: Vec<SimCompressor>,
     /// (t_ms, bar_g), the minimum of each bucket, at most [`TRACE_POINTS`](super::TRACE_POINTS) points.
     pub pressure_trace: Vec<(i64, f64)>,
+    /// The machines calibrated from the log, one line each (the module doc's "Calibration").
+    #[serde(default)]
+    pub calibration: Vec<String>,
 }
 
 /// Where a scenario's implementation cost comes from; written `given` or `default_estimate`.

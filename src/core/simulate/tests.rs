@@ -172,6 +172,30 @@ fn load_unload_mean_power_approaches_the_ideal_formula_with_blow_down_on_top() {
 }
 
 #[test]
+fn the_replay_and_the_part_load_model_that_prices_leaks_agree_at_1_to_10_us_gal_per_cfm() {
+    // One part-load model: the replay's cycles on V with its blow-down give the mean power of
+    // `partload` (itself checked against a time-domain cycle computed apart, in core::partload), with
+    // the loaded power at the band's mean pressure, 0.3 bar below rated (7 % per bar, US DOE sourcebook).
+    let c = vec![spec("L", Control::LoadUnload, 55.0, 9.5)];
+    let atm = site().atmosphere.bar_abs();
+    for (gal, q) in [(1.0, 5.7), (3.0, 3.8), (5.0, 4.75), (10.0, 6.65)] {
+        let v = gal * crate::core::partload::M3_PER_M3_MIN_PER_US_GAL_PER_CFM * 9.5;
+        let frame = flow_frame(4.0, |_| q);
+        let r = run_plant(&frame, &c, v, None, &as_is());
+        let m = crate::core::partload::Machine {
+            spec: &c[0],
+            full_kw: 55.0,
+            unloaded_fraction: 0.25,
+            storage: crate::core::partload::Storage::of(v, 9.5, atm),
+        };
+        let x = q / 9.5;
+        let want = m.power_at_flow_kw(q) - 55.0 * x * POWER_PER_BAR * 0.5 * BAND_BAR;
+        let err = (r.mean_power_kw - want) / want;
+        assert!(err.abs() < 0.01, "{gal} US gal/cfm at {x}: replay {} kW, model {want} kW", r.mean_power_kw);
+    }
+}
+
+#[test]
 fn a_plant_below_peak_demand_is_infeasible_and_names_the_shortfall() {
     let c = vec![spec("A", Control::LoadUnload, 75.0, 12.5), spec("B", Control::LoadUnload, 55.0, 9.2)];
     // 18 m³/min most of the time, one 10-minute peak of 24 m³/min: 2.3 m³/min short.

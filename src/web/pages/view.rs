@@ -12,6 +12,7 @@ use crate::core::analysis::{Summary, Verdict};
 use crate::core::display::{num, render_parts, Fmt};
 use crate::core::levels::LevelSource;
 use crate::core::model::human_label;
+use crate::core::partload::PartLoadModel;
 use crate::core::recommend::CostSource;
 use crate::core::units::{M3_PER_FT3, PA_PER_PSI};
 
@@ -275,6 +276,39 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
     }
 }
 
+/// Which curve and storage price leaks, artificial demand and pressure, in the reader's units.
+fn part_load_note(m: &PartLoadModel, fmt: &Fmt) -> String {
+    let mut parts = vec![format!(
+        "what a change of demand costs on {}'s part-load curve ({}), at {} load",
+        m.machine,
+        match m.curve.as_str() {
+            "load_unload_with_storage" => "load/unload on its storage",
+            "variable_speed_curve" => "variable speed, the data sheet's curve",
+            "variable_speed_typical" => "variable speed, a typical curve: no data-sheet curve given",
+            "modulation" => "modulation",
+            _ => "start/stop",
+        },
+        fmt.percent(m.load_fraction)
+    )];
+    if let (Some(v), Some(per), Some(gal)) = (m.storage_m3, m.storage_m3_per_m3_min, m.storage_us_gal_per_cfm)
+    {
+        let per = if fmt.is_us() {
+            format!("{} US gal/cfm", num(gal, 1))
+        } else {
+            format!("{} m³ per m³/min", num(per, 2))
+        };
+        parts.push(format!(
+            "storage {} ({per} of trim capacity{}), band {}, sump blow-down over {} s",
+            fmt.volume_m3(v),
+            if m.storage_assumed { ", assumed: no system volume on record, common practice" } else { "" },
+            fmt.pressure_delta_bar(m.pressure_band_bar.unwrap_or(f64::NAN)),
+            num(m.blowdown_tau_s.unwrap_or(f64::NAN), 0)
+        ));
+    }
+    parts.push(format!("the ideal line would give {}", fmt.specific_power(m.ideal_marginal_kw_per_m3_min)));
+    parts.join("; ")
+}
+
 /// The headline figures above the measures.
 fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
     let (sys, base, leaks, heat) = (&sm.system, &sm.baseline, &sm.leaks, &sm.heat);
@@ -359,6 +393,16 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
             .collect::<Vec<_>>()
             .join("; "),
             estimated,
+        },
+        FigureView {
+            label: "Marginal specific power (trim machine)".into(),
+            value: if sm.part_load_model.is_some() {
+                fmt.specific_power(leaks.marginal_kw_per_m3_min)
+            } else {
+                NOT_ENOUGH_DATA.into()
+            },
+            note: sm.part_load_model.as_ref().map_or_else(String::new, |m| part_load_note(m, fmt)),
+            estimated: false,
         },
         FigureView {
             label: "Heat discarded per year".into(),
@@ -669,4 +713,32 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
             "mwh": [mwh(input_kwh), mwh(h.annual_heat_rejected_kwh), mwh(h.annual_recoverable_kwh), mwh(h.useful_heat_kwh_per_year)],
         },
     })
+}
+
+#[cfg(test)]
+mod part_load_note_tests {
+    use super::*;
+    use crate::core::model::{CompressorKind, CompressorSpec, Control};
+    use crate::core::partload::{Machine, Storage};
+    use crate::core::units::{PressureAbs, UnitSystem};
+
+    #[test]
+    fn the_note_names_the_curve_and_the_assumed_storage_in_the_readers_units() {
+        let spec = CompressorSpec::blank(CompressorKind::LubricatedScrew, Control::LoadUnload, 37.0, 6.0);
+        let m = Machine {
+            spec: &spec,
+            full_kw: 37.0,
+            unloaded_fraction: 0.25,
+            storage: Storage::of(0.0, 6.0, 1.01325),
+        };
+        let model = PartLoadModel::of(&m, 3.0, ("log", "log"));
+        let atm = PressureAbs::from_kpa_abs(101.325);
+        let si = part_load_note(&model, &Fmt::new(UnitSystem::Si, atm));
+        let us = part_load_note(&model, &Fmt::new(UnitSystem::Us, atm));
+        // 3 US gal/cfm = 3 × 3.785411784 l / 28.316846592 l = 0.40 m³ per m³/min (NIST SP 811 definitions).
+        assert!(si.contains("0.40 m³ per m³/min") && si.contains("assumed"), "{si}");
+        assert!(si.contains("load/unload on its storage") && si.contains("kW/(m³/min)"), "{si}");
+        assert!(us.contains("3.0 US gal/cfm") && us.contains("kW/100 cfm") && us.contains("psi"), "{us}");
+        assert!(!us.contains("m³"), "{us}");
+    }
 }
