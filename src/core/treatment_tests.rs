@@ -196,3 +196,71 @@ fn bad_records_name_their_field() {
     assert_eq!(EndUseKind::parse("vortex_cooler", "kind").unwrap(), EndUseKind::VortexCooler);
     assert_eq!(DrainKind::parse("zero_loss", "kind").unwrap(), DrainKind::ZeroLoss);
 }
+
+#[test]
+fn plant_figures_by_hand() {
+    // One heatless dryer (10 m³/min, 15 %, fixed cycle), one level-sensing drain, production uses
+    // of 4 m³/min and 1 m³/min of open blowing over a 50 % production share, 3 m³/min of leaks, on a
+    // plant metered at 10 m³/min mean, 6 kW/(m³/min) marginal, 6,000 running h, 0.2 per kWh.
+    let site = sea_level();
+    let records = Records {
+        dryers: vec![Dryer {
+            tag: "D1".into(),
+            kind: DryerKind::HeatlessDesiccant,
+            rated_flow: FreeAirFlow::from_m3_min(10.0),
+            purge_fraction: Some(0.15),
+            power_kw: 0.2,
+            control: DryerControl::FixedCycle,
+        }],
+        drains: vec![Drain { kind: DrainKind::ZeroLoss, ..timer(3.0, 5.0, 300.0, None) }],
+        end_uses: vec![
+            EndUse {
+                name: "tools".into(),
+                kind: EndUseKind::Tool,
+                count: 8,
+                flow_m3_min: Some(1.0),
+                orifice_mm: None,
+                pressure_bar_g: None,
+                duty: 0.5,
+                regulated: true,
+                alternative_kw: None,
+            },
+            EndUse {
+                name: "blow-off".into(),
+                kind: EndUseKind::OpenBlowing,
+                count: 2,
+                flow_m3_min: Some(0.5),
+                orifice_mm: None,
+                pressure_bar_g: None,
+                duty: 1.0,
+                regulated: false,
+                alternative_kw: Some(0.5),
+            },
+        ],
+    };
+    let plant = PlantFigures {
+        mean_flow_m3_min: 10.0,
+        production_share_of_time: 0.5,
+        annual_running_hours: 6000.0,
+        annual_production_hours: 4000.0,
+        marginal_kw_per_m3_min: 6.0,
+        price_per_kwh: 0.2,
+        line_pressure_bar_g: 7.0,
+        leak_flow_m3_min: Some(3.0),
+    };
+    let (t, split) = figures(&records, &plant, &site).unwrap();
+    // Purge 1.5 m³/min x 6 x 6000 = 54,000 kWh, 10,800 a year; the dryer sees 10 of 10 m³/min,
+    // so dew-point control saves nothing at full load.
+    assert!((t.dryers[0].annual_purge_kwh - 54_000.0).abs() < 1e-6);
+    assert!((t.dryers[0].annual_purge_cost - 10_800.0).abs() < 1e-6);
+    assert!(t.dryers[0].dew_point_control_saving_kwh.abs() < 1e-9);
+    assert_eq!(t.drains[0].air_m3_min, 0.0);
+    // Blow-off: 1.0 m³/min over 4000 h x 6 = 24,000 kWh of air, less 0.5 x 2 x 4000 = 4,000 kWh.
+    assert!((t.end_uses[1].alternative_saving_kwh.unwrap() - 20_000.0).abs() < 1e-6);
+    // Split: production 4 x 0.5 = 2, inappropriate 1 x 0.5 = 0.5, purge 1.5, leaks 3, rest 3.
+    assert!((split.production_m3_min - 2.0).abs() < 1e-12);
+    assert!((split.inappropriate_m3_min - 0.5).abs() < 1e-12);
+    assert!((split.purge_and_drains_m3_min - 1.5).abs() < 1e-12);
+    assert!((split.unexplained_m3_min - 3.0).abs() < 1e-12);
+    assert!((split.total_m3_min() - 10.0).abs() < 1e-12);
+}
