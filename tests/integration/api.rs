@@ -355,7 +355,7 @@ fn report_json_from_the_cli_matches_the_api() {
         .output()
         .unwrap();
     let html = String::from_utf8_lossy(&html.stdout);
-    assert!(html.contains("Measures, stacked in order"));
+    assert!(html.contains("Recommendations: measures stacked in order"));
 }
 
 #[test]

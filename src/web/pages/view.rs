@@ -48,8 +48,9 @@ pub struct RecView {
     /// The saving of the measure alone (money and energy).
     pub alone: String,
     pub alone_energy: String,
-    /// The stacked saving's range.
+    /// The stacked saving's range, money and energy.
     pub range: String,
+    pub range_energy: String,
     /// One short line: method and sources.
     pub method: String,
 }
@@ -428,9 +429,12 @@ fn measures(sm: &Summary, fmt: &Fmt, cur: &str) -> (Vec<RecView>, f64, f64) {
                 alone: fmt.money(r.standalone_annual_cost_saving, cur),
                 alone_energy: format!("{}{kind_of}", fmt.energy_kwh(r.standalone_annual_energy_saving_kwh)),
                 range: format!(
-                    "{} to {} ({} to {})",
+                    "{} to {}",
                     fmt.money(r.annual_cost_saving_low, cur),
-                    fmt.money(r.annual_cost_saving_high, cur),
+                    fmt.money(r.annual_cost_saving_high, cur)
+                ),
+                range_energy: format!(
+                    "{} to {}",
                     fmt.energy_kwh(r.annual_energy_saving_kwh_low),
                     fmt.energy_kwh(r.annual_energy_saving_kwh_high)
                 ),
