@@ -155,8 +155,6 @@ pub const BAR_PER_2_PSI: f64 = 2.0 * 6_894.757_293_168 / 100_000.0;
 pub const REPLACE_ABOVE_DATASHEET: f64 = 0.10;
 /// Default share of the estimated leak flow a repair campaign removes (common practice).
 pub const DEFAULT_LEAK_REPAIR_FRACTION: f64 = 0.5;
-/// Default pressure reduction below the mean header pressure, bar (common practice).
-pub const DEFAULT_PRESSURE_REDUCTION_BAR: f64 = 0.5;
 
 /// Default effectiveness of a heat-recovery unit on the heat leaving through the cooling air (ducted
 /// cabinet air) and through the cooling water (oil cooler and aftercooler circuits), inside the US DOE

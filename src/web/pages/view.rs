@@ -106,8 +106,6 @@ pub struct ReportView {
     pub total_payback: String,
     pub total_cost: String,
     pub total_range: String,
-    /// The sum of the savings alone (not a saving: the measures overlap), for comparison.
-    pub total_alone: String,
     pub compressors: Vec<CompressorRow>,
     pub leaks: Vec<LeakRow>,
     pub leak_note: String,
@@ -206,7 +204,6 @@ fn empty_view() -> ReportView {
         total_payback: String::new(),
         total_cost: String::new(),
         total_range: String::new(),
-        total_alone: String::new(),
         compressors: vec![],
         leaks: vec![],
         leak_note: String::new(),
@@ -281,7 +278,6 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
         total_range: sm.measures_total.as_ref().map_or(String::new(), |t| {
             format!("{} to {}", money(t.annual_cost_saving_low), money(t.annual_cost_saving_high))
         }),
-        total_alone: money(sm.recommendations.iter().map(|r| r.standalone_annual_cost_saving).sum()),
         compressors: compressor_rows(sm, fmt),
         leaks: leak_rows(sm, fmt),
         leak_note: sm.leaks.adopted_rule.clone(),
