@@ -288,6 +288,7 @@ impl SiteRecord {
             heating_fuel_price_per_kwh: self.heating_fuel_price_per_kwh,
             heater_efficiency: self.heater_efficiency,
             heating_months: self.heating_months.clone(),
+            heat_use: crate::core::heat::HeatUseKind::parse(&self.heat_use).unwrap_or_default(),
             grid_co2_kg_per_kwh: self.grid_co2_kg_per_kwh,
             fuel_co2_kg_per_kwh: self.fuel_co2_kg_per_kwh,
             production: None,

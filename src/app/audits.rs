@@ -197,6 +197,29 @@ impl App {
         Ok(())
     }
 
+    /// The audit's measure plan: order, kinds left out and options (the defaults when none is stored).
+    pub async fn measure_plan(&self, audit_id: i64) -> Result<crate::core::recommend::MeasureOptions> {
+        self.audit(audit_id).await?;
+        Ok(audits::measure_plan(self.db(), audit_id)
+            .await?
+            .and_then(|t| serde_json::from_str(&t).ok())
+            .unwrap_or_default())
+    }
+
+    /// Store the audit's measure plan after checking it (`MeasureOptions::check`); the stack is
+    /// priced again with the next summary.
+    pub async fn set_measure_plan(
+        &self,
+        audit_id: i64,
+        plan: &crate::core::recommend::MeasureOptions,
+    ) -> Result<()> {
+        self.audit(audit_id).await?;
+        plan.check().map_err(|(field, m)| Error::field(field, m))?;
+        let text = serde_json::to_string(plan).expect("a plan serialises");
+        audits::set_measure_plan(self.db(), audit_id, &text).await?;
+        Ok(())
+    }
+
     /// Min/mean/max buckets of one channel from the rollups, SI.
     /// The site's air applied as the audit's site has it now (`core::basis`).
     pub async fn chart_series(

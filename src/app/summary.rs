@@ -14,7 +14,7 @@ use std::sync::{Arc, Mutex, Weak};
 use serde::{Deserialize, Serialize};
 
 use crate::core::analysis::{self, AuditInput, DataFigures, DataSpec, LeakEstimate, Summary};
-use crate::core::recommend::{self, CostOverrides, ScenarioCase};
+use crate::core::recommend::{CostOverrides, ScenarioCase};
 use crate::core::series::Frame;
 use crate::store::audits;
 use crate::store::read;
@@ -221,14 +221,21 @@ impl App {
         let Some(figures) = self.data_figures_for(b, window, DataSpec::of(&site, &specs)).await? else {
             return Ok(None);
         };
-        // Rates stay the documented defaults; totals an auditor edited replace them afterwards.
-        let costs = CostOverrides::default();
-        let edited: std::collections::BTreeMap<String, f64> =
-            audits::cost_overrides(self.db(), b.audit.id).await?.into_iter().collect();
+        // Rates stay the documented defaults; totals an auditor edited replace them, before the
+        // measures are ranked and stacked; the stored plan gives the order and options.
+        let options = audits::measure_plan(self.db(), b.audit.id)
+            .await?
+            .and_then(|t| serde_json::from_str(&t).ok())
+            .unwrap_or_default();
+        let costs = CostOverrides {
+            edited_totals: audits::cost_overrides(self.db(), b.audit.id).await?.into_iter().collect(),
+            options,
+            ..Default::default()
+        };
         let accuracy = b.accuracy();
         let scenarios = self.scenario_cases(b).await?;
         // No bin is read from here on: well under a millisecond, so it runs in place.
-        let mut s = analysis::summary_of(
+        let s = analysis::summary_of(
             &figures,
             &AuditInput {
                 site: &site,
@@ -240,7 +247,6 @@ impl App {
                 system_volume_m3: b.storage().system_volume_m3(),
             },
         );
-        recommend::apply_implementation_costs(&mut s.recommendations, &edited);
         Ok(Some(s))
     }
 

@@ -211,6 +211,10 @@ pub struct SiteSpec {
     pub heater_efficiency: f64,
     /// Months (1-12) in which the site needs space heat.
     pub heating_months: Vec<u8>,
+    /// What recovered heat would serve (the stored `heat_use`): space heating in the heating
+    /// months, or process water all year.
+    #[serde(default)]
+    pub heat_use: super::heat::HeatUseKind,
     /// Grid emission factor, kg CO2 per kWh of electricity.
     pub grid_co2_kg_per_kwh: f64,
     /// Emission factor of the heating fuel, kg CO2 per kWh of fuel.

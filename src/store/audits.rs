@@ -570,6 +570,31 @@ pub async fn cost_overrides(pool: &SqlitePool, audit_id: i64) -> Result<Vec<(Str
     Ok(rows.iter().map(|r| (r.get("kind"), r.get("implementation_cost"))).collect())
 }
 
+/// The audit's stored measure plan (`core::recommend::MeasureOptions` as JSON), if any.
+pub async fn measure_plan(pool: &SqlitePool, audit_id: i64) -> Result<Option<String>, StoreError> {
+    let row = sqlx::query("SELECT options FROM measure_plan WHERE audit_id = ?")
+        .bind(audit_id)
+        .fetch_optional(pool)
+        .await?;
+    Ok(row.map(|r| r.get("options")))
+}
+
+/// Store the audit's measure plan (JSON) and bump its revision.
+pub async fn set_measure_plan(pool: &SqlitePool, audit_id: i64, options: &str) -> Result<(), StoreError> {
+    let mut tx = begin_write(pool).await?;
+    sqlx::query(
+        "INSERT INTO measure_plan (audit_id, options) VALUES (?, ?) \
+         ON CONFLICT (audit_id) DO UPDATE SET options = excluded.options",
+    )
+    .bind(audit_id)
+    .bind(options)
+    .execute(&mut *tx)
+    .await?;
+    bump(&mut tx, audit_id).await?;
+    tx.commit().await?;
+    Ok(())
+}
+
 pub async fn set_cost_override(
     pool: &SqlitePool,
     audit_id: i64,

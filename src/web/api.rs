@@ -377,6 +377,26 @@ pub async fn put_cost(
     ))
 }
 
+/// `GET /api/v1/audits/{id}/measures`: the audit's measure plan (order, kinds left out, options).
+pub async fn get_measure_plan(
+    State(st): State<AppState>,
+    ApiPath(id): ApiPath<i64>,
+) -> Result<Response, AppError> {
+    let plan = st.app.measure_plan(id).await?;
+    Ok(json(StatusCode::OK, &plan))
+}
+
+/// `PUT /api/v1/audits/{id}/measures` with a `MeasureOptions` body (fields not given take their
+/// defaults): the plan is stored and the stack priced again with the next summary.
+pub async fn put_measure_plan(
+    State(st): State<AppState>,
+    ApiPath(id): ApiPath<i64>,
+    ApiJson(plan): ApiJson<crate::core::recommend::MeasureOptions>,
+) -> Result<Response, AppError> {
+    st.app.set_measure_plan(id, &plan).await?;
+    Ok(json(StatusCode::OK, &plan))
+}
+
 /// Ranges of the calculators' inputs (`POST /calc/orifice`, `POST /calc/compression`): a number that
 /// is not finite or lies outside its range is refused naming the field (422), as are unknown fields.
 ///

@@ -116,6 +116,7 @@ pub fn build_app(state: AppState) -> Router {
         )
         .route("/audits/{id}/decay-events", get(api::decay_events))
         .route("/audits/{id}/costs/{kind}", axum::routing::put(api::put_cost))
+        .route("/audits/{id}/measures", get(api::get_measure_plan).put(api::put_measure_plan))
         .route("/audits/{id}/scenarios", get(api::list_scenarios).post(api::add_scenario))
         .route(
             "/audits/{id}/scenarios/{sid}",

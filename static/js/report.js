@@ -137,6 +137,28 @@
   heatmap();
   window.addEventListener("resize", heatmap);
 
+  // The measure plan: the order in which the measures are stacked and those left out.
+  const plan = document.getElementById("plan-form");
+  if (plan) {
+    const url = "/api/v1/audits/" + d.audit_id + "/measures";
+    const save = async (change) => {
+      const cur = await A.json(url);
+      await A.json(url, {
+        method: "PUT", headers: { "Content-Type": "application/json" }, body: JSON.stringify(Object.assign(cur, change(cur))),
+      });
+      window.location.reload();
+    };
+    plan.addEventListener("submit", (e) => {
+      e.preventDefault();
+      const rows = [...plan.querySelectorAll("input[data-kind]")].map((i) => [Number(i.value), i.getAttribute("data-kind")]);
+      rows.sort((a, b) => a[0] - b[0]);
+      const out = [...plan.querySelectorAll("input[data-exclude]:checked")].map((i) => i.getAttribute("data-exclude"));
+      const order = [];
+      for (const [, k] of rows) if (!order.includes(k) && !out.includes(k)) order.push(k);
+      save((cur) => ({ order, excluded: [...new Set([...(cur.excluded || []), ...out])] })).catch((x) => alert(x.message));
+    });
+    plan.querySelector("[data-reset-plan]").addEventListener("click", () => save(() => ({ order: [], excluded: [] })).catch((x) => alert(x.message)));
+  }
   for (const form of document.querySelectorAll(".cost-form")) {
     const kind = form.getAttribute("data-kind");
     const put = async (value) => {

@@ -215,7 +215,7 @@ fn edited_implementation_costs_change_the_payback() {
     assert!(!recs.is_empty(), "the demo plant has measures");
     let first = &recs[0];
     let kind = first["kind"].as_str().unwrap().to_string();
-    let saving = first["annual_cost_saving"].as_f64().unwrap();
+    let alone = first["standalone_annual_cost_saving"].as_f64().unwrap();
     let r = s.put_json(&format!("/api/v1/audits/1/costs/{kind}"), &json!({"implementation_cost": 12345.0}));
     assert_eq!(r.status, 200, "{}", r.text);
     let sm = s.get("/api/v1/audits/1/summary").json();
@@ -227,19 +227,77 @@ fn edited_implementation_costs_change_the_payback() {
         .unwrap()
         .clone();
     assert_eq!(rec["implementation_cost"], 12345.0);
+    // The saving alone does not change; the payback is on the saving where it now stands.
+    assert_eq!(rec["standalone_annual_cost_saving"].as_f64().unwrap(), alone);
     let payback = rec["simple_payback_years"].as_f64().unwrap();
+    let saving = rec["annual_cost_saving"].as_f64().unwrap();
     assert!((payback - 12345.0 / saving).abs() < 1e-9, "payback = cost / saving (API.md)");
-    // Ranked by payback.
-    let pb: Vec<f64> = sm["recommendations"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|r| r["simple_payback_years"].as_f64().unwrap())
-        .collect();
-    assert!(pb.windows(2).all(|w| w[0] <= w[1]), "{pb:?}");
+    // In the order they are stacked, and the total is their sum.
+    let recs = sm["recommendations"].as_array().unwrap();
+    for (i, r) in recs.iter().enumerate() {
+        assert_eq!(r["stack_position"], i + 1);
+    }
+    let sum: f64 = recs.iter().map(|r| r["annual_cost_saving"].as_f64().unwrap()).sum();
+    let total = sm["measures_total"]["annual_cost_saving"].as_f64().unwrap();
+    assert!((total - sum).abs() < 1e-6 * sum, "{total} {sum}");
     assert_eq!(
         s.put_json("/api/v1/audits/1/costs/paint_pipes", &json!({"implementation_cost": 1})).status,
         422
+    );
+}
+
+#[test]
+fn the_auditor_reorders_and_leaves_out_measures_and_the_stack_is_priced_again() {
+    let s = Server::demo();
+    let sm = s.get("/api/v1/audits/1/summary").json();
+    let kinds = |sm: &Value| -> Vec<String> {
+        sm["recommendations"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|r| r["kind"].as_str().unwrap().to_string())
+            .collect()
+    };
+    let before = kinds(&sm);
+    assert!(before.contains(&"repair_leaks".to_string()) && before.contains(&"lower_pressure".to_string()));
+    assert_eq!(s.get("/api/v1/audits/1/measures").json()["order"], json!([]));
+    // Pressure first, heat recovery left out.
+    let plan = json!({"order": ["lower_pressure", "repair_leaks"], "excluded": ["recover_heat"]});
+    let r = s.put_json("/api/v1/audits/1/measures", &plan);
+    assert_eq!(r.status, 200, "{}", r.text);
+    assert_eq!(s.get("/api/v1/audits/1/measures").json()["order"], plan["order"]);
+    let sm = s.get("/api/v1/audits/1/summary").json();
+    let after = kinds(&sm);
+    assert_eq!(&after[..2], &["lower_pressure".to_string(), "repair_leaks".to_string()]);
+    assert!(!after.contains(&"recover_heat".to_string()));
+    assert_eq!(sm["measures_total"]["excluded"], json!(["recover_heat"]));
+    let recs = sm["recommendations"].as_array().unwrap();
+    let f = |v: &Value| v.as_f64().unwrap();
+    // First in the stack: its saving is its saving alone; below it, never more than alone.
+    assert_eq!(f(&recs[0]["annual_energy_saving_kwh"]), f(&recs[0]["standalone_annual_energy_saving_kwh"]));
+    for r in recs {
+        assert!(
+            f(&r["annual_energy_saving_kwh"]) <= f(&r["standalone_annual_energy_saving_kwh"]) + 1e-6,
+            "{r}"
+        );
+        assert!(f(&r["annual_energy_saving_kwh_low"]) <= f(&r["annual_energy_saving_kwh"]));
+        assert!(f(&r["annual_energy_saving_kwh_high"]) >= f(&r["annual_energy_saving_kwh"]));
+        assert!(!r["method_and_sources"].as_str().unwrap().is_empty());
+    }
+    let sum: f64 = recs.iter().map(|r| f(&r["annual_energy_saving_kwh"])).sum();
+    assert!((f(&sm["measures_total"]["annual_energy_saving_kwh"]) - sum).abs() < 1e-6 * sum);
+    // A bad plan is refused naming its field; an unknown field too.
+    let r = s.put_json("/api/v1/audits/1/measures", &json!({"heat_recovery_effectiveness_air": 2.0}));
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert_eq!(r.json()["error"]["field"], "heat_recovery_effectiveness_air");
+    assert_eq!(s.put_json("/api/v1/audits/1/measures", &json!({"sort": []})).status, 422);
+    assert_eq!(s.put_json("/api/v1/audits/9/measures", &json!({})).status, 404);
+    // The findings page shows both columns and the order.
+    let page = s.get("/audits/1/findings").text;
+    assert!(
+        page.contains("Saving alone")
+            && page.contains("Saving stacked")
+            && page.contains("Method and sources")
     );
 }
 
@@ -297,7 +355,7 @@ fn report_json_from_the_cli_matches_the_api() {
         .output()
         .unwrap();
     let html = String::from_utf8_lossy(&html.stdout);
-    assert!(html.contains("Recommendations, ranked by simple payback"));
+    assert!(html.contains("Recommendations: measures stacked in order"));
 }
 
 #[test]
@@ -487,11 +545,13 @@ fn a_scenario_replays_the_demo_and_reports_its_validation_error() {
     assert_eq!(ctl.len(), 1, "{ctl:?}");
     assert_eq!(ctl[0]["scenario_id"].as_i64(), Some(sid));
     assert_eq!(ctl[0]["implementation_cost"], 5000.0);
-    // Annualised like the baseline: the replayed share of the baseline times the annual energy.
+    // Annualised like the baseline: alone, the replayed share of the baseline times the annual
+    // energy; stacked, the same share of the energy the measures before it leave.
     let share = saved / res["baseline_energy_kwh"].as_f64().unwrap();
     let annual = sm["baseline"]["annual_energy_kwh"].as_f64().unwrap();
-    let kwh = ctl[0]["annual_energy_saving_kwh"].as_f64().unwrap();
+    let kwh = ctl[0]["standalone_annual_energy_saving_kwh"].as_f64().unwrap();
     assert!((kwh - share * annual).abs() < 1e-6 * annual, "{kwh} vs {}", share * annual);
+    assert!(ctl[0]["annual_energy_saving_kwh"].as_f64().unwrap() <= kwh + 1e-6);
     let page = s.get("/audits/1/scenarios");
     assert_eq!(page.status, 200);
     assert!(page.text.contains("the proposal: on the report as the control measure"));

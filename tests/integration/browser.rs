@@ -530,6 +530,48 @@ fn check_pdf(pdf: &Path, paper: &str, expect_pts: (f64, f64), must_contain: &[&s
     }
 }
 
+/// The report's plan form stacks the measures in the order typed and leaves out the one ticked;
+/// the stored plan and the summary follow.
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn the_report_reorders_and_leaves_out_measures() {
+    let server = Server::demo();
+    let b = Browser::start();
+    b.goto(&server.url("/audits/1/report"));
+    b.settle();
+    let kinds = |s: &Value| -> Vec<String> {
+        s["recommendations"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|r| r["kind"].as_str().unwrap().to_string())
+            .collect()
+    };
+    let before = kinds(&server.get("/api/v1/audits/1/summary").json());
+    assert!(before.len() >= 3, "{before:?}");
+    // The last measure first, the first one left out.
+    let (first, last) = (before[0].clone(), before[before.len() - 1].clone());
+    b.js(
+        "const [first, last] = arguments;
+         document.querySelector(`#plan-form input[data-kind='${last}']`).value = '1';
+         document.querySelector(`#plan-form input[data-exclude='${first}']`).checked = true;
+         document.querySelector('#plan-form button[type=submit]').click();",
+        json!([first, last]),
+    );
+    let done = wait_until(Duration::from_secs(15), || {
+        server.get("/api/v1/audits/1/measures").json()["excluded"] == json!([first])
+    });
+    assert!(done, "the plan was not stored: {}", server.get("/api/v1/audits/1/measures").text);
+    let after = kinds(&server.get("/api/v1/audits/1/summary").json());
+    assert_eq!(after[0], last, "{after:?}");
+    assert!(!after.contains(&first), "{after:?}");
+    let severe = b.severe_logs("/audits/1/report");
+    assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
+}
+
 /// The findings print to A4 and Letter with the headline figures and the recommendations, every
 /// page the size of the paper, nothing wider than the window or the printed page.
 #[test]

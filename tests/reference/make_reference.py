@@ -356,6 +356,53 @@ put(
 
 # ---------------------------------------------------------------- ingest/sniff/physics.rs: humidity
 # Relative humidity of moist air from dry-bulb temperature and dew point at one atmosphere, by
+# ------------------------------------------------- recommend: the lower-pressure measure, worked example
+# A plant whose machines deliver (run loaded) for 200 000 kWh of its 300 000 kWh a year (loaded share
+# 2/3); header 7.0 -> 6.5 bar(g), inlet 101.325 kPa and 20 C, single-stage machines. The saving on the
+# loaded energy by the ratio of isentropic work (fluids), and by the US DOE sourcebook's rule of 1 %
+# of input per 2 psi, with the step in psi from pint.
+PR_LOADED_KWH = 200000.0
+pr_inputs = {"loaded_kwh": PR_LOADED_KWH, "from_bar_g": 7.0, "to_bar_g": 6.5, "t1_k": DS_T1, "p1_pa": DS_P1, "k": K_AIR}
+put(
+    "pressure_measure.isentropic_saving_kwh",
+    PR_LOADED_KWH * (1.0 - fluids_w(6.5) / fluids_w(7.0)),
+    "kWh",
+    f"{FLUIDS} loaded kWh x (1 - isentropic_work_compression(P2=6.5 bar(g)) / the same at 7.0 bar(g))",
+    pr_inputs,
+)
+step_psi = Q_(0.5, "bar").to("psi").magnitude
+put(
+    "pressure_measure.doe_rule_saving_kwh",
+    PR_LOADED_KWH * 0.01 * step_psi / 2.0,
+    "kWh",
+    f"US DOE sourcebook rule (1 % per 2 psi), 0.5 bar in psi by {PINT}",
+    pr_inputs,
+)
+
+# -------------------------------------------- cost of air: US DOE tip sheet, kW/100 cfm / 6 x price
+# Cost of 1000 ft3 = (kW per 100 cfm) / 6 x price per kWh (US DOE compressed-air tip sheet #1,
+# "Determine the Cost of Compressed Air for Your Plant"); a plant at 6.25 kW/(m3/min) (50 kW, 8 m3/min).
+sp_kw_per_m3_min = 50.0 / 8.0
+kw_per_100cfm = sp_kw_per_m3_min * Q_(100.0, "ft^3/min").to("m^3/min").magnitude
+ft3_per_1000_m3 = Q_(1000.0, "m^3").to("ft^3").magnitude
+for price in (0.10, 0.20):
+    per_kft3 = kw_per_100cfm / 6.0 * price
+    tag = f"{int(round(price * 100)):02d}"
+    put(
+        f"cost_of_air.per_1000_ft3_at_{tag}",
+        per_kft3,
+        "currency/1000 ft3",
+        f"US DOE tip sheet formula kW/100 cfm / 6 x price; units by {PINT}",
+        {"kw_per_m3_min": sp_kw_per_m3_min, "price_per_kwh": price},
+    )
+    put(
+        f"cost_of_air.per_1000_m3_at_{tag}",
+        per_kft3 * ft3_per_1000_m3 / 1000.0,
+        "currency/1000 m3",
+        f"the same per 1000 m3 ({PINT}: 1000 m3 = {ft3_per_1000_m3:.3f} ft3)",
+        {"kw_per_m3_min": sp_kw_per_m3_min, "price_per_kwh": price},
+    )
+
 # CoolProp's humid-air model (Hyland-Wexler saturation with enhancement factor): the sniffer's
 # Magnus formula must come within 0.01 of it. Dew points at or above 0 °C only: below it CoolProp's
 # saturation is over ice (a frost point), while weather loggers report humidity over water.

@@ -10,7 +10,7 @@ use crate::core::heat::HeatUseKind;
 use crate::core::leaks::LeakShareBand;
 use crate::core::levels::Levels;
 use crate::core::model::Control;
-use crate::core::recommend::Recommendation;
+use crate::core::recommend::{MeasuresTotal, Recommendation};
 
 /// Where the system flow comes from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -351,7 +351,11 @@ pub struct Summary {
     pub baseline: Baseline,
     pub leaks: LeakFigures,
     pub heat: HeatFigures,
+    /// In the order they are stacked (`recommend::stack`).
     pub recommendations: Vec<Recommendation>,
+    /// The sums of the stacked figures (`None`: no measure).
+    #[serde(default)]
+    pub measures_total: Option<MeasuresTotal>,
     /// Whether the data can carry the annual figures, and the figures withheld (`sufficiency`).
     pub sufficiency: Sufficiency,
     pub methods: Vec<Method>,

@@ -50,6 +50,18 @@ fn only(n: usize, from: usize, to: usize, v: impl Fn(usize) -> f32) -> Vec<f32> 
 /// Every invariant of the module doc, on one summary.
 fn check_invariants(sm: &Summary) -> Result<(), TestCaseError> {
     let sys = &sm.system;
+    // The total is the sum of the stacked savings, and the stacked electricity no more than the
+    // annual energy.
+    match &sm.measures_total {
+        Some(t) => {
+            let sum: f64 = sm.recommendations.iter().map(|r| r.annual_energy_saving_kwh).sum();
+            prop_assert!((t.annual_energy_saving_kwh - sum).abs() <= 1e-9 * sum.max(1.0));
+            if let Some(annual) = sm.baseline.annual_energy_kwh {
+                prop_assert!(t.annual_electricity_saving_kwh <= annual * (1.0 + 1e-9));
+            }
+        }
+        None => prop_assert!(sm.recommendations.is_empty()),
+    }
     if let Some(peak) = sys.peak_power_kw {
         prop_assert!(peak + 1e-9 >= sys.mean_power_kw, "peak {peak} kW below mean {} kW", sys.mean_power_kw);
     }
@@ -69,6 +81,12 @@ fn check_invariants(sm: &Summary) -> Result<(), TestCaseError> {
             let target = target.expect("the pressure measure names its target");
             prop_assert!(target >= low - 1e-12, "target {target} bar(g) below {low}");
         }
+        prop_assert!(
+            r.annual_energy_saving_kwh_low <= r.annual_energy_saving_kwh
+                && r.annual_energy_saving_kwh <= r.annual_energy_saving_kwh_high,
+            "{:?}: saving outside its range",
+            r.kind
+        );
         if r.electricity {
             let annual = sm.baseline.annual_energy_kwh.expect("a measure only with annual figures");
             prop_assert!(

@@ -1,13 +1,18 @@
 /*!
 Heat of compression: heat rejected = input - heat carried by the delivered air
-(`heat::heat_rejected`, 10 K delivery rise, common practice); recoverable = `heat::recoverable_fraction`
-× input (US DOE heat-recovery fact sheet); the annual recoverable heat is spread evenly over the months
-and valued in the heating months (or all year for process water).
+(`heat::heat_rejected`, the energy balance with a 10 K delivery rise, common practice); recoverable =
+rejected × the share on the cooling path × the recovery unit's effectiveness on it
+(`heat::heat_recoverable`; defaults 0.80 air, 0.75 water, editable per audit, inside the US DOE
+heat-recovery fact sheet's 50-90 %), for the machines that ran only (a standby machine neither
+delivers heat nor sets the unit's size). The annual recoverable heat is spread evenly over the
+months and valued by the site's stored heat use (`site.heat_use`): space heating in the heating
+months only (none given: worth nothing, said in the assumptions), process or boiler water all year;
+the fuel displaced is the heat over the heater's efficiency.
 */
 
 use crate::core::heat::{self, HeatUse, HeatUseKind};
 use crate::core::model::SiteSpec;
-use crate::core::recommend::HeatCase;
+use crate::core::recommend::{HeatCase, MeasureOptions, RECOVERY_EFFECTIVENESS_SPREAD};
 use crate::core::safety;
 use crate::core::units::Energy;
 
@@ -21,12 +26,30 @@ pub(super) struct CompressorHeat {
     pub recoverable_kwh: f64,
     pub annual_rejected_kwh: f64,
     pub annual_recoverable_kwh: f64,
-    /// Recoverable heat at full load, kW.
+    /// The same at the low and high ends of the effectiveness range.
+    pub annual_recoverable_kwh_low: f64,
+    pub annual_recoverable_kwh_high: f64,
+    /// Recoverable heat at full load, kW (0 for a machine that did not run).
     pub recoverable_kw: f64,
 }
 
+/// The effectiveness for a cooling path, and its range (± the spread, within the DOE's 0.50-0.90).
+fn effectiveness(opts: &MeasureOptions, cooling: crate::core::model::Cooling) -> (f64, f64, f64) {
+    let e = match cooling {
+        crate::core::model::Cooling::Air => opts.heat_recovery_effectiveness_air,
+        crate::core::model::Cooling::Water => opts.heat_recovery_effectiveness_water,
+    };
+    let lo = (e - RECOVERY_EFFECTIVENESS_SPREAD).max(0.50).min(e);
+    let hi = (e + RECOVERY_EFFECTIVENESS_SPREAD).min(0.90).max(e);
+    (e, lo, hi)
+}
+
 /// The heat of each compressor; `annual_kwh_c` its annual energy.
-pub(super) fn compressor_heat(d: &DataFigures, annual_kwh_c: &[f64]) -> Vec<CompressorHeat> {
+pub(super) fn compressor_heat(
+    d: &DataFigures,
+    annual_kwh_c: &[f64],
+    opts: &MeasureOptions,
+) -> Vec<CompressorHeat> {
     let atm = d.spec.air.atmosphere;
     let rho_in = atm.0 / (287.05 * d.spec.air.inlet_temperature.0);
     let energy_kwh = &d.energy.energy_kwh;
@@ -37,17 +60,29 @@ pub(super) fn compressor_heat(d: &DataFigures, annual_kwh_c: &[f64]) -> Vec<Comp
         .map(|(i, c)| {
             let factor = if energy_kwh[i] > 0.0 { annual_kwh_c[i] / energy_kwh[i] } else { 0.0 };
             let e = Energy::from_kwh(energy_kwh[i]);
-            let rej =
-                heat::heat_rejected(e, d.air[i].air_m3 * rho_in, heat::DEFAULT_DELIVERY_TEMPERATURE_RISE_K)
-                    .kwh();
-            let frac = heat::recoverable_fraction(c.kind, c.cooling);
-            let rec = frac * energy_kwh[i];
+            let rejected =
+                heat::heat_rejected(e, d.air[i].air_m3 * rho_in, heat::DEFAULT_DELIVERY_TEMPERATURE_RISE_K);
+            let (eff, lo, hi) = effectiveness(opts, c.cooling);
+            let rec = |x: f64| heat::heat_recoverable(rejected, c.kind, c.cooling, x).kwh();
+            let ran = energy_kwh[i] > 0.0;
+            // At full load: the rated input less what the rated air carries, on the path, × effectiveness.
+            let full_kw = {
+                let air_kg_h = c.rated_flow_m3_min * 60.0 * rho_in;
+                let rej = heat::heat_rejected(
+                    Energy::from_kwh(c.rated_power_kw),
+                    air_kg_h,
+                    heat::DEFAULT_DELIVERY_TEMPERATURE_RISE_K,
+                );
+                heat::heat_recoverable(rej, c.kind, c.cooling, eff).kwh()
+            };
             CompressorHeat {
-                rejected_kwh: rej,
-                recoverable_kwh: rec,
-                annual_rejected_kwh: rej * factor,
-                annual_recoverable_kwh: rec * factor,
-                recoverable_kw: frac * c.rated_power_kw,
+                rejected_kwh: rejected.kwh(),
+                recoverable_kwh: rec(eff),
+                annual_rejected_kwh: rejected.kwh() * factor,
+                annual_recoverable_kwh: rec(eff) * factor,
+                annual_recoverable_kwh_low: rec(lo) * factor,
+                annual_recoverable_kwh_high: rec(hi) * factor,
+                recoverable_kw: if ran { full_kw } else { 0.0 },
             }
         })
         .collect()
@@ -59,8 +94,8 @@ pub(super) struct HeatValue {
     pub figures: HeatFigures,
     /// `None` when the heat is worth nothing.
     pub case: Option<HeatCase>,
-    /// No heating months: valued as year-round process water.
-    pub as_process_water: bool,
+    /// Space heating with no heating months given: worth nothing until they are.
+    pub no_heating_months: bool,
 }
 
 /// Heat value (module doc).
@@ -74,17 +109,13 @@ pub(super) fn heat_value(site: &SiteSpec, per_compressor: &[CompressorHeat]) -> 
         rec_kw += h.recoverable_kw;
     }
     let monthly = [heat_rec_y / 12.0; 12];
-    let space = HeatUse { kind: HeatUseKind::SpaceHeating, heating_months: site.heating_months.clone() };
+    let use_kind = site.heat_use;
+    let use_ = HeatUse { kind: use_kind, heating_months: site.heating_months.clone() };
     let process = HeatUse { kind: HeatUseKind::ProcessWater, heating_months: vec![] };
-    let s = heat::recovered_value(&monthly, &space, site.heater_efficiency, site.heating_fuel_price_per_kwh);
+    let v = heat::recovered_value(&monthly, &use_, site.heater_efficiency, site.heating_fuel_price_per_kwh);
     let p =
         heat::recovered_value(&monthly, &process, site.heater_efficiency, site.heating_fuel_price_per_kwh);
-    let space_ok = !site.heating_months.is_empty();
-    let (use_kind, useful, fuel, value) = if space_ok {
-        (HeatUseKind::SpaceHeating, s.useful_kwh, s.fuel_kwh, s.money)
-    } else {
-        (HeatUseKind::ProcessWater, p.useful_kwh, p.fuel_kwh, p.money)
-    };
+    let used_share = if heat_rec_y > 0.0 { v.useful_kwh / heat_rec_y } else { 0.0 };
     HeatValue {
         figures: HeatFigures {
             heat_rejected_kwh: heat_rej,
@@ -93,19 +124,29 @@ pub(super) fn heat_value(site: &SiteSpec, per_compressor: &[CompressorHeat]) -> 
             annual_recoverable_kwh: Some(heat_rec_y),
             recoverable_kw_at_full_load: rec_kw,
             use_kind,
-            useful_heat_kwh_per_year: Some(useful),
-            displaced_fuel_kwh_per_year: Some(fuel),
-            annual_value: Some(value),
+            useful_heat_kwh_per_year: Some(v.useful_kwh),
+            displaced_fuel_kwh_per_year: Some(v.fuel_kwh),
+            annual_value: Some(v.money),
             process_water_annual_value: Some(p.money),
             cautions: safety::heat_recovery_cautions(),
         },
-        case: (value > 0.0).then_some(HeatCase {
-            useful_kwh_per_year: useful,
-            fuel_kwh_per_year: fuel,
-            value_per_year: value,
+        case: (v.money > 0.0).then(|| HeatCase {
+            useful_kwh_per_year: v.useful_kwh,
+            fuel_kwh_per_year: v.fuel_kwh,
+            value_per_year: v.money,
             recoverable_kw: rec_kw,
             use_kind,
+            per_machine_recoverable_kwh: per_compressor.iter().map(|h| h.annual_recoverable_kwh).collect(),
+            per_machine_recoverable_kwh_low: per_compressor
+                .iter()
+                .map(|h| h.annual_recoverable_kwh_low)
+                .collect(),
+            per_machine_recoverable_kwh_high: per_compressor
+                .iter()
+                .map(|h| h.annual_recoverable_kwh_high)
+                .collect(),
+            used_share,
         }),
-        as_process_water: !space_ok,
+        no_heating_months: use_kind == HeatUseKind::SpaceHeating && site.heating_months.is_empty(),
     }
 }

@@ -235,6 +235,12 @@ pub(super) struct MachineCells {
     above: Option<CellSums>,
     /// 1 while loaded.
     loaded: Option<CellSums>,
+    /// Power while delivering air (loaded or part load), W.
+    delivering: Option<CellSums>,
+    /// 1 while running out of production.
+    running_np: Option<CellSums>,
+    /// Power above unloaded power out of production, W.
+    above_np: Option<CellSums>,
     loaded_fraction: f64,
     cycles_per_hour: f64,
     mean_loaded_power_kw: Option<f64>,
@@ -280,10 +286,37 @@ pub(super) fn machine_cells(
                 _ => 0.0,
             })
         });
+        let delivering = match (logged.powers[i], &logged.states[i]) {
+            (Some(p), Some(sv)) => Some(CellSums::of(cells, |k| match sv[k] {
+                State::Unknown => f32::NAN,
+                State::Loaded | State::PartLoad => p[k],
+                _ => 0.0,
+            })),
+            _ => None,
+        };
+        let above_np = match (logged.powers[i], &logged.states[i]) {
+            (Some(p), Some(sv)) => Some(CellSums::of(cells, |k| match sv[k] {
+                State::Unknown => f32::NAN,
+                x if x.running() && !is_prod[k] => (p[k] - unl_w as f32).max(0.0),
+                _ if p[k].is_finite() => 0.0,
+                _ => f32::NAN,
+            })),
+            _ => None,
+        };
+        let running_np = logged.states[i].as_ref().map(|sv| {
+            CellSums::of(cells, |k| match sv[k] {
+                State::Unknown => f32::NAN,
+                x if x.running() && !is_prod[k] => 1.0,
+                _ => 0.0,
+            })
+        });
         machines.push(MachineCells {
             idle: idle_np,
             above,
             loaded,
+            delivering,
+            running_np,
+            above_np,
             loaded_fraction: s.map_or(0.0, |s| s.loaded_fraction),
             cycles_per_hour: s.map_or(0.0, |s| s.cycles_per_hour),
             mean_loaded_power_kw: s.and_then(|s| s.mean_loaded_power_kw),
@@ -309,6 +342,12 @@ pub(super) fn machine_uses(d: &DataFigures, rule: AnnualRule, annual_kwh_c: &[f6
                 .map(|p| datasheet_power_at(&d.spec.compressors[i], p, &d.spec.air)),
             loaded_pressure_bar_g: d.loaded_pressure_bar_g[i],
             power_logged: d.power_logged[i],
+            annual_delivering_kwh: m.delivering.as_ref().map_or(0.0, |c| c.annual(rule) / 1000.0),
+            annual_running_non_production_hours: m.running_np.as_ref().map_or(0.0, |c| c.annual(rule)),
+            annual_above_idle_non_production_kwh: m
+                .above_np
+                .as_ref()
+                .map_or(0.0, |c| c.annual(rule) / 1000.0),
         })
         .collect()
 }

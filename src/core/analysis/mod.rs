@@ -338,18 +338,33 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     methods.extend(baseline::methods(&annual));
     let baseline = baseline::baseline(site, &annual, d.totals.peak_kw, sp, u_power);
 
-    let heat_c = heat::compressor_heat(d, &annual.per_compressor_kwh);
+    let heat_c = heat::compressor_heat(d, &annual.per_compressor_kwh, &input.costs.options);
     let comp_fig =
         machines::compressor_figures(d, acc, &annual.per_compressor_kwh, &heat_c, input.system_volume_m3);
     let machines = machines::machine_uses(d, annual.rule, &annual.per_compressor_kwh);
     let heat = heat::heat_value(site, &heat_c);
-    if heat.as_process_water {
-        assumptions.push("no heating months given: recovered heat valued as year-round process water".into());
+    if heat.no_heating_months {
+        assumptions.push(
+            "heat use is space heating but no heating months are given: recovered heat is valued at nothing \
+             until they are (or the heat use is set to process water)"
+                .into(),
+        );
     }
     methods.push(method(
+        "heat_rejected_kwh",
+        "input energy - m cp ΔT of the delivered air (ΔT 10 K)",
+        "energy balance of the package (first law); delivery rise common practice",
+    ));
+    methods.push(method(
         "recoverable_kwh",
-        "recoverable fraction (kind, cooling) × input energy; valued as fuel displaced in the months of use",
-        "US DOE heat-recovery fact sheet",
+        &format!(
+            "heat rejected × share on the cooling path × recovery effectiveness ({:.2} air, {:.2} water), \
+             machines that ran; valued as fuel displaced in the months of use ({})",
+            input.costs.options.heat_recovery_effectiveness_air,
+            input.costs.options.heat_recovery_effectiveness_water,
+            site.heat_use.as_str()
+        ),
+        "US DOE heat-recovery fact sheet (a unit recovers 50-90 % of the heat)",
     ));
 
     let leaks = leaks::leak_figures(
@@ -400,6 +415,15 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
 
     // The measures' words in SI for the JSON's strings (pages render the parts in their own units).
     let si = Fmt::new(UnitSystem::Si, site.air.atmosphere);
+    let rel = |x: Option<f64>, base: Option<f64>| match (x, base) {
+        (Some(x), Some(b)) if b > 0.0 => ((x - b) / b).abs(),
+        _ => u_power,
+    };
+    let (energy_rel_low, energy_rel_high) = (
+        rel(baseline.annual_energy_kwh_low, baseline.annual_energy_kwh),
+        rel(baseline.annual_energy_kwh_high, baseline.annual_energy_kwh),
+    );
+    let credible_p5 = pressure_fig.p5_bar_g.filter(|_| credible_mean_pressure.is_some());
     let recs = recommend::recommend(
         &RecommendInput {
             site,
@@ -410,7 +434,13 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             annual_running_hours: annual.running_hours,
             annual_energy_kwh: annual.kwh,
             leak_flow_m3_min: leaks.adopted_leak_flow_m3_min,
+            leak_flow_m3_min_low: leaks.adopted_leak_flow_m3_min_low,
+            leak_flow_m3_min_high: leaks.adopted_leak_flow_m3_min_high,
+            annual_energy_rel_low: energy_rel_low,
+            annual_energy_rel_high: energy_rel_high,
             mean_pressure_bar_g: credible_mean_pressure,
+            p5_pressure_bar_g: credible_p5,
+            pressure_uncertainty_bar: pressure_fig.uncertainty_bar,
             low_limit_bar_g: pressure_fig.low_limit_bar_g,
             control: d.control.as_ref().map(|c| ControlCase {
                 logged_annual_kwh: c.logged.annual(annual.rule) / 1000.0,
@@ -424,6 +454,14 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         },
         &|p| display::render_parts(p, &si),
     );
+    let measures_total = recommend::stack_total(&recs, &input.costs.options.excluded);
+    methods.push(method(
+        "measures_total",
+        "each measure priced on the plant the measures before it leave (leaks repaired, pressure lowered, \
+         idle machines off, trim replaced); heat recovery on the energy left after the electrical \
+         measures; total = Σ stacked savings, its range the sum of the ranges",
+        "US DOE compressed-air sourcebook (interactions of measures); common practice",
+    ));
 
     assumptions.push(format!(
         "instrument accuracy: true power ±{:.0} %, current-derived power ±{:.0} %, flow ±{:.0} % of reading, \
@@ -499,6 +537,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         leaks,
         heat: heat.figures,
         recommendations: recs,
+        measures_total,
         sufficiency,
         methods,
         assumptions,

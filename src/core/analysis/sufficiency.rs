@@ -350,6 +350,7 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         if !s.recommendations.is_empty() {
             s.recommendations.clear();
         }
+        s.measures_total = None;
         withhold(&mut w, "recommendations", &why);
     }
     s.sufficiency.withheld = w;

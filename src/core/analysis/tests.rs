@@ -93,8 +93,8 @@ fn a_summary_reads_back_from_its_json_with_the_same_names_and_spellings() {
         .unwrap()
         .iter()
         .all(|m| m["implementation_cost_source"] == "default_estimate"));
-    // Estimated flow and a schedule spell the other variants.
-    s.heating_months.clear();
+    // Estimated flow and a schedule spell the other variants; the stored heat use reaches the heat.
+    s.heat_use = crate::core::heat::HeatUseKind::ProcessWater;
     let mut week_hours = [[false; 24]; 7];
     week_hours[0][8] = true;
     s.production = Some(WeeklySchedule { hours: week_hours });
@@ -137,6 +137,21 @@ fn constant_power_and_flow_give_specific_power_p_over_q_and_isothermal_efficienc
     // Cost of air (US DOE compressed-air tip sheet 1): kW/100 cfm / 6 x price per 1000 ft³.
     let per_kft3 = r.system.specific_power_kw_per_100cfm.unwrap() / 6.0 * 0.15;
     assert!((r.baseline.cost_per_1000_ft3.unwrap() - per_kft3).abs() < 1e-4);
+    // The same formula at two prices, evaluated apart (fixture: US DOE tip sheet "Determine the Cost
+    // of Compressed Air for Your Plant", kW/100 cfm / 6 × price, units by pint 0.25.3, for this
+    // plant's 6.25 kW/(m³/min)), per 1000 ft³ and per 1000 m³.
+    let fixture: serde_json::Value =
+        serde_json::from_str(include_str!("../../../tests/reference/fixture.json")).unwrap();
+    let reference = |k: &str| fixture["values"][k]["value"].as_f64().unwrap();
+    for (price, tag) in [(0.10, "10"), (0.20, "20")] {
+        let mut s2 = site();
+        s2.electricity_price_per_kwh = price;
+        let r2 = run(&s2, &cs, &frame, vec![]);
+        let ft3 = reference(&format!("cost_of_air.per_1000_ft3_at_{tag}"));
+        let m3 = reference(&format!("cost_of_air.per_1000_m3_at_{tag}"));
+        assert!((r2.baseline.cost_per_1000_ft3.unwrap() - ft3).abs() < 1e-6 * ft3, "{price}");
+        assert!((r2.baseline.cost_per_1000_m3.unwrap() - m3).abs() < 1e-6 * m3, "{price}");
+    }
     // Uncertainty: power ±1 % and flow ±3 % in quadrature on the ratio.
     let u = (0.01f64.powi(2) + 0.03f64.powi(2)).sqrt();
     assert!((r.system.specific_power_kw_per_m3_min_high.unwrap() / sp - 1.0 - u).abs() < 1e-9);
@@ -297,9 +312,15 @@ fn a_logged_week_is_profiled_by_weekday_and_hour_and_annualised_over_52_weeks() 
                                             // The week's unloaded time out of production shows up as a shut-off measure.
     assert!(r.recommendations.iter().any(|x| x.kind == MeasureKind::ShutOffIdle));
     assert!(r.recommendations.iter().any(|x| x.kind == MeasureKind::RepairLeaks));
-    for w in r.recommendations.windows(2) {
-        assert!(w[0].simple_payback_years <= w[1].simple_payback_years);
+    // Stacked in order: each priced on what the ones before it leave, never above its saving alone.
+    for (i, m) in r.recommendations.iter().enumerate() {
+        assert_eq!(m.stack_position, i + 1);
+        assert!(m.annual_energy_saving_kwh <= m.standalone_annual_energy_saving_kwh + 1e-9, "{:?}", m.kind);
     }
+    assert_eq!(
+        r.recommendations[0].annual_energy_saving_kwh,
+        r.recommendations[0].standalone_annual_energy_saving_kwh
+    );
 }
 
 #[test]
@@ -543,4 +564,45 @@ fn leaks_are_priced_on_the_trims_curve_at_its_storage_as_a_time_domain_cycle_giv
     // About 0.65 against 0.75 P/Q: over 10 % below the ideal line, so leaks cost less than it said.
     assert!(r.leaks.marginal_kw_per_m3_min < 0.9 * 37.0 * 0.75 / 6.0);
     assert_eq!(r.compressors[1].marginal_kw_per_m3_min, r.leaks.marginal_kw_per_m3_min);
+}
+
+#[test]
+fn heat_is_valued_by_the_stored_heat_use_on_the_machines_that_ran() {
+    // C1 runs the logged week; C2 (90 kW) stands by, logged at 0 kW: it neither delivers heat nor
+    // sizes the recovery unit. C1 at full load, by the energy balance: 55 kW less the rated air's
+    // m cp ΔT (9.5 m³/min × 60 × 1.2041 kg/m³ × 1004.5 J/(kg K) × 10 K = 1.915 kW), air cooled, all
+    // of it on the path, × 0.80 = 42.47 kW.
+    let mut s = site();
+    let (mut cs, mut frame) = week();
+    cs.push(spec("C2", Control::LoadUnload, 90.0, 15.0));
+    frame.columns.push(col(Signal::Power, Some(1), vec![0.0; frame.grid.len]));
+    let r = run(&s, &cs, &frame, vec![]);
+    let rho = 101_325.0 / (287.05 * 293.15);
+    let in_air_kw = 9.5 * 60.0 * rho * crate::core::thermo::CP_AIR * 10.0 / 3.6e6;
+    let full = (55.0 - in_air_kw) * 0.80;
+    assert!(
+        (r.heat.recoverable_kw_at_full_load - full).abs() < 1e-6,
+        "{}",
+        r.heat.recoverable_kw_at_full_load
+    );
+    // Space heating in 6 of 12 months: half the recoverable heat is used.
+    let rec_y = r.heat.annual_recoverable_kwh.unwrap();
+    assert!((r.heat.useful_heat_kwh_per_year.unwrap() - rec_y * 0.5).abs() < 1e-6 * rec_y);
+    assert!(r.recommendations.iter().any(|m| m.kind == MeasureKind::RecoverHeat));
+    // Space heating with no heating months: worth nothing, and said.
+    s.heating_months.clear();
+    let r = run(&s, &cs, &frame, vec![]);
+    assert!(r.recommendations.iter().all(|m| m.kind != MeasureKind::RecoverHeat));
+    assert!(r.assumptions.iter().any(|a| a.contains("no heating months")), "{:?}", r.assumptions);
+    // Process water, the stored setting: all year.
+    s.heat_use = crate::core::heat::HeatUseKind::ProcessWater;
+    let r = run(&s, &cs, &frame, vec![]);
+    assert!((r.heat.useful_heat_kwh_per_year.unwrap() - rec_y).abs() < 1e-6 * rec_y);
+    let h = r.recommendations.iter().find(|m| m.kind == MeasureKind::RecoverHeat).expect("heat");
+    assert!(!r.heat.cautions.is_empty() && h.caution.is_some());
+    // Valued on the energy the electrical measures leave: no more than alone.
+    assert!(h.annual_energy_saving_kwh <= h.standalone_annual_energy_saving_kwh + 1e-9);
+    let t = r.measures_total.as_ref().unwrap();
+    let sum: f64 = r.recommendations.iter().map(|m| m.annual_energy_saving_kwh).sum();
+    assert!((t.annual_energy_saving_kwh - sum).abs() < 1e-6);
 }

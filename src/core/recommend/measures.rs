@@ -1,196 +1,440 @@
 /*!
-The measures one by one: each is drafted from the audit's figures, then costed, checked for a positive
-saving and given its payback.
+The measures one by one, each priced on a [`Plant`]: the plant as logged (a measure alone), or the
+plant left by the measures stacked before it (`stack`). Each returns its draft and the plant it
+leaves behind; `finish` costs a draft and gives its payback.
 */
 
 use crate::core::model::Control;
 use crate::core::safety;
+use crate::core::thermo;
+use crate::core::units::PressureAbs;
 
 use super::text::{bar_g, flow, specific, Part};
 use super::{
-    cost, CostContext, CostSource, MeasureKind, RecommendInput, Recommendation, Text, BAR_PER_2_PSI,
-    DEFAULT_PRESSURE_REDUCTION_BAR, REPLACE_ABOVE_DATASHEET,
+    CostContext, MeasureKind, PressureRule, RecommendInput, BAR_PER_2_PSI, PART_LOAD_SLOPE_REL,
+    REPLACE_ABOVE_DATASHEET,
 };
 
 /// Writes a measure's parts as words (in SI for the JSON's strings).
 pub type Words<'a> = dyn Fn(&[Part]) -> String + 'a;
 
+/// The plant a measure is priced on (annual figures).
+#[derive(Debug, Clone, PartialEq)]
+pub(super) struct Plant {
+    /// Per compressor: energy left, kWh/yr.
+    pub energy_kwh: Vec<f64>,
+    /// Per compressor: energy while delivering air (loaded or part load), kWh/yr.
+    pub delivering_kwh: Vec<f64>,
+    /// The trim machine's energy above idle left (the whole plant's without a trim), kWh/yr: the
+    /// most a demand cut can still save.
+    pub trim_above_idle_kwh: f64,
+    /// Leak flow at the present pressure, m³/min.
+    pub leak_m3_min: f64,
+    /// Other unregulated demand at the present pressure, m³/min.
+    pub unregulated_m3_min: f64,
+    /// Mean and 5th-percentile header pressure, bar(g).
+    pub pressure_bar_g: Option<f64>,
+    pub p5_bar_g: Option<f64>,
+    /// Loaded power per unit of air against the logged plant (below 1 once pressure is lowered).
+    pub power_factor: f64,
+    /// Hours a year in which a demand cut is priced (the running hours, less the non-production
+    /// hours of a trim that is switched off then).
+    pub demand_hours: f64,
+    /// Of those, the trim's hours out of production (0 once it is switched off then), and its
+    /// energy above idle left in them, kWh/yr.
+    pub night_hours: f64,
+    pub trim_above_idle_np_kwh: f64,
+    /// The trim's unloaded energy out of production already switched off, kWh/yr.
+    pub trim_idle_removed_kwh: f64,
+    pub idle_off: bool,
+    /// The trim was replaced by a variable-speed machine (rule-based control measure).
+    pub trim_replaced: bool,
+    pub scenario_applied: bool,
+}
+
+impl Plant {
+    /// The plant as logged.
+    pub fn of(r: &RecommendInput) -> Self {
+        let energy_kwh: Vec<f64> = r.machines.iter().map(|m| m.annual_energy_kwh).collect();
+        let trim_above_idle_kwh = r
+            .trim
+            .and_then(|t| r.machines.get(t))
+            .map_or(r.annual_energy_kwh, |m| m.annual_above_idle_kwh)
+            .min(r.annual_energy_kwh)
+            .max(0.0);
+        Self {
+            delivering_kwh: r.machines.iter().map(|m| m.annual_delivering_kwh).collect(),
+            energy_kwh,
+            trim_above_idle_kwh,
+            leak_m3_min: r.leak_flow_m3_min.unwrap_or(0.0).max(0.0),
+            unregulated_m3_min: r.costs.options.unregulated_flow_m3_min.unwrap_or(0.0).max(0.0),
+            pressure_bar_g: r.mean_pressure_bar_g,
+            p5_bar_g: r.p5_pressure_bar_g,
+            power_factor: 1.0,
+            demand_hours: r.annual_running_hours,
+            night_hours: r
+                .trim
+                .and_then(|t| r.machines.get(t))
+                .map_or(0.0, |m| m.annual_running_non_production_hours.min(r.annual_running_hours)),
+            trim_above_idle_np_kwh: r
+                .trim
+                .and_then(|t| r.machines.get(t))
+                .map_or(0.0, |m| m.annual_above_idle_non_production_kwh.min(trim_above_idle_kwh)),
+            trim_idle_removed_kwh: 0.0,
+            idle_off: false,
+            trim_replaced: false,
+            scenario_applied: false,
+        }
+    }
+
+    pub fn total_energy_kwh(&self) -> f64 {
+        self.energy_kwh.iter().sum()
+    }
+
+    /// A demand cut of `dq` m³/min at the trim's marginal power: (in production, out of
+    /// production) kWh/yr, each held at the trim's energy above idle left in those hours.
+    fn demand_cut(&self, r: &RecommendInput, dq: f64) -> (f64, f64) {
+        let per = dq * r.marginal_kw_per_m3_min * self.power_factor;
+        let h_n = self.night_hours.min(self.demand_hours);
+        let h_p = self.demand_hours - h_n;
+        let a_n = self.trim_above_idle_np_kwh.min(self.trim_above_idle_kwh);
+        let a_p = (self.trim_above_idle_kwh - a_n).max(0.0);
+        ((per * h_p).min(a_p).max(0.0), (per * h_n).min(a_n).max(0.0))
+    }
+
+    /// Take a demand cut's (in production, out of production) saving off the trim.
+    fn take_demand(&mut self, trim: Option<usize>, (p, n): (f64, f64)) {
+        self.take_from_trim(trim, p + n);
+        self.trim_above_idle_np_kwh = (self.trim_above_idle_np_kwh - n).max(0.0);
+    }
+
+    /// Take a saving off the trim machine (off every machine by its delivering energy without one).
+    fn take_from_trim(&mut self, trim: Option<usize>, kwh: f64) {
+        match trim.filter(|&t| t < self.energy_kwh.len()) {
+            Some(t) => {
+                self.energy_kwh[t] = (self.energy_kwh[t] - kwh).max(0.0);
+                self.delivering_kwh[t] = (self.delivering_kwh[t] - kwh).max(0.0);
+            }
+            None => {
+                let total: f64 = self.delivering_kwh.iter().sum();
+                if total > 0.0 {
+                    for i in 0..self.energy_kwh.len() {
+                        let part = kwh * self.delivering_kwh[i] / total;
+                        self.energy_kwh[i] = (self.energy_kwh[i] - part).max(0.0);
+                        self.delivering_kwh[i] = (self.delivering_kwh[i] - part).max(0.0);
+                    }
+                }
+            }
+        }
+        self.trim_above_idle_kwh = (self.trim_above_idle_kwh - kwh).max(0.0);
+    }
+}
+
 /// A measure before its cost and payback are worked out.
-struct Draft {
-    kind: MeasureKind,
-    title: Vec<Part>,
-    description: Vec<Part>,
-    saving_kwh: f64,
+pub(super) struct Draft {
+    pub kind: MeasureKind,
+    pub title: Vec<Part>,
+    pub description: Vec<Part>,
+    pub saving_kwh: f64,
+    /// The saving's range, kWh/yr.
+    pub low_kwh: f64,
+    pub high_kwh: f64,
     /// The annual energy the measure acts on, kWh: the saving never exceeds it (module doc of
     /// `recommend`).
-    acts_on_kwh: f64,
+    pub acts_on_kwh: f64,
     /// The money saved when it is not electricity at the site's price (recovered heat).
-    money: Option<f64>,
-    cost_ctx: CostContext,
-    basis: Vec<Vec<Part>>,
-    formula: &'static str,
-    source: &'static str,
-    caution: Option<String>,
+    pub money: Option<f64>,
+    pub cost_ctx: CostContext,
+    pub basis: Vec<Vec<Part>>,
+    pub formula: &'static str,
+    pub source: &'static str,
+    pub method: &'static str,
+    pub caution: Option<String>,
+    pub scenario_id: Option<i64>,
 }
 
-fn finish_scenario(r: &RecommendInput, si: &Words<'_>, d: Draft, id: i64) -> Option<Recommendation> {
-    finish(r, si, d).map(|x| Recommendation { scenario_id: Some(id), ..x })
+/// `x` with relative deviations `lo`, `hi` as a (low, high) pair.
+fn band(x: f64, lo: f64, hi: f64) -> (f64, f64) {
+    (x * (1.0 - lo).max(0.0), x * (1.0 + hi))
 }
 
-fn finish(r: &RecommendInput, si: &Words<'_>, d: Draft) -> Option<Recommendation> {
-    let Draft {
-        kind,
-        title,
-        description,
-        saving_kwh,
-        acts_on_kwh,
-        money,
-        cost_ctx,
-        basis,
-        formula,
-        source,
-        caution,
-    } = d;
-    let saving_kwh = saving_kwh.min(acts_on_kwh.max(0.0));
-    let electricity = money.is_none();
-    let annual_cost_saving = money.unwrap_or(saving_kwh * r.site.electricity_price_per_kwh);
-    if !(saving_kwh > 0.0 && annual_cost_saving > 0.0) {
+fn quad(parts: &[f64]) -> f64 {
+    parts.iter().map(|p| p * p).sum::<f64>().sqrt()
+}
+
+/// The leak flow's relative range (adopted estimate's low and high).
+fn leak_rel(r: &RecommendInput) -> (f64, f64) {
+    match r.leak_flow_m3_min.filter(|q| *q > 0.0) {
+        Some(q) => (
+            r.leak_flow_m3_min_low.map_or(0.0, |l| ((q - l) / q).max(0.0)),
+            r.leak_flow_m3_min_high.map_or(0.0, |h| ((h - q) / q).max(0.0)),
+        ),
+        None => (0.0, 0.0),
+    }
+}
+
+/// A demand cut's relative range: leak flow, part-load slope, annual hours.
+fn demand_rel(r: &RecommendInput, with_leak: bool) -> (f64, f64) {
+    let (l_lo, l_hi) = if with_leak { leak_rel(r) } else { (0.0, 0.0) };
+    (
+        quad(&[l_lo, PART_LOAD_SLOPE_REL, r.annual_energy_rel_low]),
+        quad(&[l_hi, PART_LOAD_SLOPE_REL, r.annual_energy_rel_high]),
+    )
+}
+
+pub(super) fn repair_leaks(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
+    let opts = &r.costs.options;
+    let leak = p.leak_m3_min;
+    if leak <= 0.0 {
         return None;
     }
-    let implementation_cost = cost(kind, &cost_ctx, r.costs);
-    let co2_kg = if electricity { r.site.grid_co2_kg_per_kwh } else { r.site.fuel_co2_kg_per_kwh };
-    Some(Recommendation {
-        kind,
-        title: si(&title),
-        description: si(&description),
-        annual_energy_saving_kwh: saving_kwh,
-        annual_cost_saving,
-        implementation_cost,
-        simple_payback_years: Some(implementation_cost / annual_cost_saving),
-        implementation_cost_source: CostSource::DefaultEstimate,
-        annual_co2_saving_t: saving_kwh * co2_kg / 1000.0,
-        electricity,
-        basis: basis.iter().map(|b| si(b)).collect(),
-        text: Text { title, description, basis },
-        formula: formula.into(),
-        source: source.into(),
-        caution,
+    let trim_tag = r.trim.map(|t| r.compressors[t].tag.clone()).unwrap_or_default();
+    let frac = opts.leak_repair_fraction.clamp(0.0, 1.0);
+    let dq = frac * leak;
+    let per = r.marginal_kw_per_m3_min * p.power_factor;
+    let cut = p.demand_cut(r, dq);
+    let kwh = cut.0 + cut.1;
+    let (lo, hi) = demand_rel(r, true);
+    let (low_kwh, high_kwh) = band(kwh, lo, hi);
+    let mut next = p.clone();
+    next.leak_m3_min -= dq;
+    next.take_demand(r.trim, cut);
+    let draft = Draft {
+        kind: MeasureKind::RepairLeaks,
+        title: text!["Repair leaks: about ", flow(dq)],
+        description: text![
+            format!("Find and repair {:.0} % of the estimated ", frac * 100.0),
+            flow(leak),
+            format!(" of leaks; the trim compressor {trim_tag} then delivers less air."),
+        ],
+        saving_kwh: kwh,
+        low_kwh,
+        high_kwh: high_kwh.min(p.trim_above_idle_kwh.max(kwh)),
+        acts_on_kwh: p.trim_above_idle_kwh,
+        money: None,
+        cost_ctx: CostContext { leak_repaired_m3_min: dq, ..Default::default() },
+        basis: vec![
+            text!["leak flow ", flow(leak), " at the pressure of this step"],
+            text![format!("repair fraction {frac:.2}")],
+            text![
+                "marginal specific power ",
+                specific(per),
+                format!(" ({trim_tag}, × {:.3} for the pressure)", p.power_factor)
+            ],
+            text![format!("hours priced {:.0} h/yr", p.demand_hours)],
+        ],
+        formula: "saving = f × Q_leak × marginal kW/(m³/min) × hours (≤ trim energy above idle)",
+        source: "US DOE compressed-air sourcebook (leaks fact sheet); priced at the marginal (trim) specific power",
+        method: "air not made, at the trim's part-load slope, over the hours left; range from the leak estimate, ±15 % slope and the annual hours (US DOE sourcebook, leaks)",
+        caution: None,
         scenario_id: None,
-    })
+    };
+    Some((draft, next))
 }
 
-/// The measures worth proposing, ranked by simple payback (shortest first). `si` writes a measure's
-/// parts in SI units (`core::display::render_parts` with an SI `Fmt`): the `title`, `description` and
-/// `basis` of each [`Recommendation`] (API.md).
-pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
-    let mut out = Vec::new();
+/// The fractional cut of loaded energy for one machine from `p_now` to `p_target` (bar(g)) by each
+/// rule: (1 %/2 psi, isentropic-work ratio).
+pub(super) fn pressure_cut(r: &RecommendInput, stages: u32, p_now: f64, p_target: f64) -> (f64, f64) {
+    let atm = r.site.air.atmosphere;
+    let doe = 0.01 * (p_now - p_target) / BAR_PER_2_PSI;
+    let w = |bar: f64| {
+        thermo::staged_isentropic_work_per_kg(
+            r.site.air.inlet_temperature,
+            PressureAbs::from_bar_g(bar, atm).0 / atm.0,
+            stages,
+        )
+    };
+    let (w_now, w_t) = (w(p_now), w(p_target));
+    let isen = if w_now > 0.0 { 1.0 - w_t / w_now } else { 0.0 };
+    (doe.clamp(0.0, 1.0), isen.clamp(0.0, 1.0))
+}
+
+pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
     let opts = &r.costs.options;
-    let trim_cap = r.trim.and_then(|t| r.machines.get(t)).map(|m| m.annual_above_idle_kwh);
-    let trim_tag = r.trim.map(|t| r.compressors[t].tag.clone()).unwrap_or_default();
-    let capped = |kwh: f64| trim_cap.map_or(kwh, |c| kwh.min(c.max(0.0)));
-    // A demand cut acts on the trim's energy above idle, or on the whole plant without a trim.
-    let demand_acts_on = trim_cap.unwrap_or(r.annual_energy_kwh).min(r.annual_energy_kwh);
-    let has_vsd = r.compressors.iter().any(|c| c.control == Control::VariableSpeed);
-
-    // Leak repair: demand removed, priced at the trim's part-load curve.
-    if let Some(leak) = r.leak_flow_m3_min.filter(|q| *q > 0.0) {
-        let dq = opts.leak_repair_fraction.clamp(0.0, 1.0) * leak;
-        let kwh = capped(dq * r.marginal_kw_per_m3_min * r.annual_running_hours);
-        out.extend(finish(r, si, Draft { kind: MeasureKind::RepairLeaks, title: text!["Repair leaks: about ", flow(dq)], description: text![
-                format!("Find and repair {:.0} % of the estimated ", opts.leak_repair_fraction * 100.0),
-                flow(leak),
-                format!(" of leaks; the trim compressor {trim_tag} then delivers less air."),
-            ], saving_kwh: kwh, acts_on_kwh: demand_acts_on, money: None, cost_ctx: CostContext { leak_repaired_m3_min: dq, ..Default::default() }, basis: vec![
-                text!["leak flow ", flow(leak)],
-                text![format!("repair fraction {:.2}", opts.leak_repair_fraction)],
-                text!["marginal specific power ", specific(r.marginal_kw_per_m3_min), format!(" ({trim_tag})")],
-                text![format!("running hours {:.0} h/yr", r.annual_running_hours)],
-            ], formula: "saving = f × Q_leak × marginal kW/(m³/min) × running hours (≤ trim energy above idle)", source: "US DOE compressed-air sourcebook (leaks fact sheet); priced at the marginal (trim) specific power", caution: None }));
+    let (Some(p_now), Some(p5)) = (p.pressure_bar_g, p.p5_bar_g) else { return None };
+    let critical = opts.critical_pressure().or(r.low_limit_bar_g).unwrap_or(0.0).max(0.0);
+    let margin = r.pressure_uncertainty_bar.max(0.0);
+    // The step keeps the 5th percentile, shifted down by it, above the critical pressure plus the
+    // transmitter's uncertainty; never past an auditor's target, never below the plant's low limit
+    // nor 0 bar(g).
+    let mut step = p5 - (critical + margin);
+    if let Some(t) = opts.target_pressure_bar_g {
+        step = step.min(p_now - t);
     }
-
-    // Lower pressure.
-    if let Some(p_now) = r.mean_pressure_bar_g {
-        let mut target = opts.target_pressure_bar_g.unwrap_or(p_now - DEFAULT_PRESSURE_REDUCTION_BAR);
-        if let Some(need) = opts.needed_pressure_bar_g {
-            target = target.max(need);
+    step = step.min(p_now - r.low_limit_bar_g.unwrap_or(0.0).max(0.0)).min(p_now);
+    if step.is_nan() || step <= 0.0 {
+        return None;
+    }
+    let target = p_now - step;
+    let mut next = p.clone();
+    let (mut chosen, mut other) = (0.0, 0.0);
+    let mut delivering = 0.0;
+    for (i, c) in r.compressors.iter().enumerate() {
+        let d = p.delivering_kwh.get(i).copied().unwrap_or(0.0);
+        let (doe, isen) = pressure_cut(r, c.stages, p_now, target);
+        let (a, b) = match opts.pressure_rule {
+            PressureRule::OnePercentPerTwoPsi => (doe, isen),
+            PressureRule::IsentropicWork => (isen, doe),
+        };
+        chosen += d * a;
+        other += d * b;
+        delivering += d;
+        if i < next.energy_kwh.len() {
+            next.energy_kwh[i] = (next.energy_kwh[i] - d * a).max(0.0);
+            next.delivering_kwh[i] = d * (1.0 - a);
         }
-        // Never below the plant's low limit nor below the atmosphere (module doc).
-        target = target.max(r.low_limit_bar_g.unwrap_or(0.0)).max(0.0);
-        let dp = p_now - target;
-        if dp > 0.0 {
-            let direct = r.annual_energy_kwh * 0.01 * dp / BAR_PER_2_PSI;
-            let p_abs_bar = p_now + r.site.air.atmosphere.0 / 1e5;
-            let q_unreg = opts.unregulated_flow_m3_min.unwrap_or(0.0) + r.leak_flow_m3_min.unwrap_or(0.0);
-            let dq = q_unreg * dp / p_abs_bar;
-            let artificial = capped(dq * r.marginal_kw_per_m3_min * r.annual_running_hours);
-            out.extend(finish(r, si, Draft { kind: MeasureKind::LowerPressure, title: text!["Lower the header pressure from ", bar_g(p_now), " to ", bar_g(target)], description: text!["Lower the compressors' set points in steps while watching the pressure at the farthest point of use."], saving_kwh: direct + artificial, acts_on_kwh: r.annual_energy_kwh, money: None, cost_ctx: CostContext::default(), basis: vec![
-                    text!["mean header pressure ", bar_g(p_now)],
-                    text!["target ", bar_g(target)],
-                    text![format!("annual compressor energy {:.0} kWh", r.annual_energy_kwh)],
-                    text!["unregulated demand incl. leaks ", flow(q_unreg), ": ", flow(dq), " less at the lower pressure"],
-                    text!["marginal specific power ", specific(r.marginal_kw_per_m3_min)],
-                ], formula: "saving = E × 1 % × Δp / 0.138 bar + Q_unreg Δp / p_abs × marginal kW/(m³/min) × hours", source: "US DOE compressed-air sourcebook (1 % of input per 2 psi)", caution: Some("check that every point of use keeps the pressure its tools need; lower in steps".into()) }));
+        if Some(i) == r.trim {
+            next.trim_above_idle_kwh = (next.trim_above_idle_kwh - d * a).max(0.0);
+            next.trim_above_idle_np_kwh *= 1.0 - a;
         }
     }
+    let (doe1, isen1) = pressure_cut(r, 1, p_now, target);
+    let frac = match opts.pressure_rule {
+        PressureRule::OnePercentPerTwoPsi => doe1,
+        PressureRule::IsentropicWork => isen1,
+    };
+    next.power_factor *= 1.0 - frac;
+    // Unregulated demand and leaks fall with the header's absolute pressure.
+    let p_abs = p_now + r.site.air.atmosphere.0 / 1e5;
+    let q_unreg = p.unregulated_m3_min + p.leak_m3_min;
+    let dq = q_unreg * step / p_abs;
+    let cut = next.demand_cut(r, dq);
+    let artificial = cut.0 + cut.1;
+    next.take_demand(r.trim, cut);
+    next.leak_m3_min *= 1.0 - step / p_abs;
+    next.unregulated_m3_min *= 1.0 - step / p_abs;
+    next.pressure_bar_g = Some(target);
+    next.p5_bar_g = Some(p5 - step);
+    let saving = chosen + artificial;
+    let (lo_rule, hi_rule) = if chosen > 0.0 {
+        ((chosen - other).max(0.0) / chosen, (other - chosen).max(0.0) / chosen)
+    } else {
+        (0.0, 0.0)
+    };
+    let (lo, hi) = (quad(&[lo_rule, r.annual_energy_rel_low]), quad(&[hi_rule, r.annual_energy_rel_high]));
+    let (low_kwh, high_kwh) = band(saving, lo, hi);
+    let rule = match opts.pressure_rule {
+        PressureRule::OnePercentPerTwoPsi => "1 % of loaded input per 2 psi",
+        PressureRule::IsentropicWork => "the ratio of isentropic work",
+    };
+    let draft = Draft {
+        kind: MeasureKind::LowerPressure,
+        title: text!["Lower the header pressure from ", bar_g(p_now), " to ", bar_g(target)],
+        description: text![
+            "Lower the compressors' set points in steps while watching the pressure at the farthest point of use; the logged 5th percentile then stays at ",
+            bar_g(p5 - step),
+            ", above the critical end use's ",
+            bar_g(critical),
+            " plus the transmitter's uncertainty."
+        ],
+        saving_kwh: saving,
+        low_kwh,
+        high_kwh,
+        acts_on_kwh: delivering + p.trim_above_idle_kwh.min(p.total_energy_kwh()),
+        money: None,
+        cost_ctx: CostContext::default(),
+        basis: vec![
+            text!["mean header pressure ", bar_g(p_now), ", 5th percentile ", bar_g(p5)],
+            text![
+                "critical end use ",
+                bar_g(critical),
+                format!(" + transmitter uncertainty {margin:.3} bar")
+            ],
+            text![format!("loaded (delivering) energy {delivering:.0} kWh/yr, scaled by {rule}: {chosen:.0} kWh/yr (the other rule {other:.0})")],
+            text!["unregulated demand incl. leaks ", flow(q_unreg), ": ", flow(dq), " less at the lower pressure"],
+            text!["marginal specific power ", specific(r.marginal_kw_per_m3_min * next.power_factor)],
+        ],
+        formula: "saving = Σ loaded energy × (1 % per 2 psi | isentropic-work ratio) + Q_unreg Δp / p_abs × marginal kW/(m³/min) × hours; Δp = p5 - (p_critical + u_p)",
+        source: "US DOE compressed-air sourcebook (1 % of input per 2 psi); isentropic compression work (ideal gas, k = 1.4)",
+        method: "loaded energy of the machines making the air scaled by the rule; range from the other rule and the annual hours (US DOE sourcebook; isentropic work)",
+        caution: Some("check that every point of use keeps the pressure its tools need; lower in steps".into()),
+        scenario_id: None,
+    };
+    Some((draft, next))
+}
 
-    // Heat recovery.
-    if let Some(h) = &r.heat {
-        out.extend(finish(
-            r,
-            si,
-            Draft {
-                kind: MeasureKind::RecoverHeat,
-                title: text![format!(
-                    "Recover compressor heat for {}",
-                    h.use_kind.as_str().replace('_', " ")
-                )],
-                description: text![format!(
-                "Use about {:.0} kWh/yr of the compressors' heat in place of fuel ({:.0} kWh/yr of fuel).",
-                h.useful_kwh_per_year, h.fuel_kwh_per_year
-            )],
-                saving_kwh: h.fuel_kwh_per_year,
-                // Fuel displaced, not electricity: bounded by the recoverable heat upstream.
-                acts_on_kwh: h.fuel_kwh_per_year,
-                money: Some(h.value_per_year),
-                cost_ctx: CostContext { recoverable_heat_kw: h.recoverable_kw, ..Default::default() },
-                basis: vec![
-                    text![format!("useful heat {:.0} kWh/yr", h.useful_kwh_per_year)],
-                    text![format!("heater efficiency {:.2}", r.site.heater_efficiency)],
-                    text![format!(
-                        "fuel price {} {} per kWh",
-                        r.site.heating_fuel_price_per_kwh, r.site.currency
-                    )],
-                    text![format!("recoverable heat {:.1} kW at full load", h.recoverable_kw)],
-                ],
-                formula:
-                    "saving = useful heat / heater efficiency × fuel price, in the months the heat is used",
-                source: "US DOE compressed-air sourcebook, heat-recovery fact sheet",
-                caution: Some(safety::HEAT_RECOVERY_MEASURE_CAUTION.into()),
-            },
-        ));
+pub(super) fn shut_off_idle(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
+    if p.idle_off {
+        return None;
     }
-
-    // Shut off idle machines out of production.
     let idle: Vec<(usize, f64)> = r
         .machines
         .iter()
         .enumerate()
-        .map(|(i, m)| (i, m.annual_unloaded_non_production_kwh))
+        .map(|(i, m)| {
+            (i, m.annual_unloaded_non_production_kwh.min(p.energy_kwh.get(i).copied().unwrap_or(0.0)))
+        })
         .filter(|(_, kwh)| *kwh > 0.0)
         .collect();
-    if !idle.is_empty() {
-        let kwh: f64 = idle.iter().map(|x| x.1).sum();
-        let tags: Vec<String> = idle.iter().map(|(i, _)| r.compressors[*i].tag.clone()).collect();
-        out.extend(finish(r, si, Draft { kind: MeasureKind::ShutOffIdle, title: text![format!("Switch off idling compressors out of production ({})", tags.join(", "))], description: text!["Outside production hours these machines run unloaded; a timer or sequencer rule stops them."], saving_kwh: kwh, acts_on_kwh: r.annual_energy_kwh, money: None, cost_ctx: CostContext { compressors: idle.len() as f64, ..Default::default() }, basis: idle.iter()
-                .map(|(i, k)| text![format!("{} unloaded out of production {k:.0} kWh/yr", r.compressors[*i].tag)])
-                .collect(), formula: "saving = Σ energy spent unloaded in non-production hours (annualised)", source: "US DOE sourcebook (unloaded power 15-35 % of full load); common practice", caution: Some(
-                "only where nothing needs air at those hours; leaks and dryers still draw while pressurized"
-                    .into(),
-            ) }));
+    if idle.is_empty() {
+        return None;
     }
+    let unloaded: f64 = idle.iter().map(|x| x.1).sum();
+    let trim_off = r.trim.filter(|t| idle.iter().any(|(i, _)| i == t));
+    // The trim off out of production: the leaks left draw nothing then (held at its energy above
+    // idle in those hours).
+    let (night_hours, night_leak) = match trim_off {
+        Some(_) => (p.night_hours, p.demand_cut(r, p.leak_m3_min).1),
+        None => (0.0, 0.0),
+    };
+    let mut next = p.clone();
+    for (i, k) in &idle {
+        next.energy_kwh[*i] = (next.energy_kwh[*i] - k).max(0.0);
+    }
+    if let Some(t) = trim_off {
+        next.take_from_trim(Some(t), night_leak);
+        // What the trim spent above idle out of production is gone with it: later demand cuts are
+        // priced in production only.
+        next.trim_above_idle_kwh =
+            (next.trim_above_idle_kwh - (p.trim_above_idle_np_kwh - night_leak)).max(0.0);
+        next.trim_above_idle_np_kwh = 0.0;
+        next.night_hours = 0.0;
+        next.demand_hours = (next.demand_hours - night_hours).max(0.0);
+        next.trim_idle_removed_kwh = idle.iter().find(|(i, _)| *i == t).map_or(0.0, |x| x.1);
+    }
+    next.idle_off = true;
+    let saving = unloaded + night_leak;
+    let (d_lo, d_hi) = demand_rel(r, true);
+    let low = unloaded * (1.0 - r.annual_energy_rel_low) + night_leak * (1.0 - d_lo).max(0.0);
+    let high = unloaded * (1.0 + r.annual_energy_rel_high) + night_leak * (1.0 + d_hi);
+    let tags: Vec<String> = idle.iter().map(|(i, _)| r.compressors[*i].tag.clone()).collect();
+    let mut basis: Vec<Vec<Part>> = idle
+        .iter()
+        .map(|(i, k)| text![format!("{} unloaded out of production {k:.0} kWh/yr", r.compressors[*i].tag)])
+        .collect();
+    if trim_off.is_some() {
+        basis.push(text![
+            format!("the trim is off out of production ({night_hours:.0} h/yr): the leaks left, "),
+            flow(p.leak_m3_min),
+            format!(", draw nothing then: {night_leak:.0} kWh/yr")
+        ]);
+    }
+    let draft = Draft {
+        kind: MeasureKind::ShutOffIdle,
+        title: text![format!("Switch off idling compressors out of production ({})", tags.join(", "))],
+        description: text!["Outside production hours these machines run unloaded; a timer or sequencer rule stops them."],
+        saving_kwh: saving,
+        low_kwh: low,
+        high_kwh: high,
+        acts_on_kwh: p.total_energy_kwh(),
+        money: None,
+        cost_ctx: CostContext { compressors: idle.len() as f64, ..Default::default() },
+        basis,
+        formula: "saving = Σ energy spent unloaded in non-production hours + (trim off) leaks left × marginal kW/(m³/min) × its non-production hours",
+        source: "US DOE sourcebook (unloaded power 15-35 % of full load); common practice",
+        method: "logged unloaded energy out of production, annualised; range from the annual hours (US DOE sourcebook, part load)",
+        caution: Some("only where nothing needs air at those hours; leaks and dryers still draw while pressurized".into()),
+        scenario_id: None,
+    };
+    Some((draft, next))
+}
 
-    // Control: the best replayed scenario, else a variable-speed trim by rule.
+pub(super) fn improve_control(r: &RecommendInput, p: &Plant, first: &Plant) -> Option<(Draft, Plant)> {
     let price = r.site.electricity_price_per_kwh;
+    let has_vsd = r.compressors.iter().any(|c| c.control == Control::VariableSpeed);
+    if p.trim_replaced || p.scenario_applied {
+        return None;
+    }
     let best = r
         .scenarios
         .iter()
@@ -202,114 +446,248 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
                 .total_cmp(&(b.implementation_cost / (kb * price)))
                 .then(kb.total_cmp(ka))
         });
-    if let Some((s, kwh)) = best {
-        out.extend(finish_scenario(
-            r,
-            si,
-            Draft {
-                kind: MeasureKind::ImproveControl,
-                title: text![format!("Change the compressor room as in scenario \u{201c}{}\u{201d}", s.name)],
-                description: text![format!(
-                    "The logged demand replayed through the changed room (scenario {}) takes {:.1} % less \
-                     energy than the baseline, the same replay of the room as it is.",
-                    s.id,
-                    s.energy_saving_kwh / s.baseline_energy_kwh * 100.0
-                )],
-                saving_kwh: kwh,
-                acts_on_kwh: r.annual_energy_kwh,
-                money: None,
-                cost_ctx: CostContext { scenario_cost: Some(s.implementation_cost), ..Default::default() },
-                basis: vec![
-                    text![format!(
-                        "replayed saving {:.0} kWh over {:.0} h against a simulated baseline of {:.0} kWh",
-                        s.energy_saving_kwh, s.simulated_hours, s.baseline_energy_kwh
-                    )],
-                    text![format!("annual energy {:.0} kWh/yr", r.annual_energy_kwh)],
-                    text![format!("validation error of the replay {:+.2} %", s.validation_error * 100.0)],
-                    text![format!("scenario cost {:.0} {}", s.implementation_cost, r.site.currency)],
-                ],
-                formula:
-                    "saving = (replayed baseline - replayed scenario) / replayed baseline × annual energy",
-                source:
-                    "receiver equation V dp/dt = p_atm (Q_supply - Q_demand) with each machine's control \
-                         (part-load behaviour by control: US DOE compressed-air sourcebook); validated against the logged energy",
-                caution: None,
-            },
-            s.id,
-        ));
-    } else if let (Some(c), Some(t)) = (&r.control, r.trim) {
-        let kwh = c.logged_annual_kwh - c.modelled_annual_kwh;
-        let spec = &r.compressors[t];
-        out.extend(finish(
-            r,
-            si,
-            Draft {
-                kind: MeasureKind::ImproveControl,
-                title: text![if has_vsd {
-                    format!("Sequence the variable-speed machine as trim instead of {}", spec.tag)
-                } else {
-                    format!("Trim with a variable-speed compressor instead of {}", spec.tag)
-                }],
-                description: text![format!(
-                    "{} runs loaded {:.0} % of its time and cycles {:.1} times an hour; {}",
-                    spec.tag,
-                    r.machines[t].loaded_fraction * 100.0,
-                    r.machines[t].cycles_per_hour,
-                    if c.simultaneous_cycling_share > 0.1 {
-                        format!(
-                            "two machines part-load at once {:.0} % of the time",
-                            c.simultaneous_cycling_share * 100.0
-                        )
-                    } else {
-                        "its part-load power is high for the air it delivers".into()
-                    }
-                )],
-                saving_kwh: kwh,
-                acts_on_kwh: c.logged_annual_kwh.min(r.annual_energy_kwh),
-                money: None,
-                cost_ctx: CostContext { rated_kw: spec.rated_power_kw, has_vsd, ..Default::default() },
-                basis: vec![
-                    text![format!("logged trim energy {:.0} kWh/yr", c.logged_annual_kwh)],
-                    text![format!("same demand on {}: {:.0} kWh/yr", c.curve, c.modelled_annual_kwh)],
-                ],
-                formula: "saving = logged trim energy - Σ P_vsd(mean trim flow per 5 min) × time",
-                source: "US DOE sourcebook: part-load behaviour by control",
-                caution: None,
-            },
-        ));
-    }
-
-    // Replace (or overhaul) machines far from their data sheet at the pressure they ran at.
-    for (spec, m) in r.compressors.iter().zip(r.machines) {
-        let (Some(p_meas), Some(p_sheet), Some(p_bar_g)) =
-            (m.mean_loaded_power_kw, m.datasheet_power_at_pressure_kw, m.loaded_pressure_bar_g)
-        else {
-            continue;
-        };
-        if !(p_sheet > 0.0 && p_meas > (1.0 + REPLACE_ABOVE_DATASHEET) * p_sheet) {
-            continue;
+    let e_now = p.total_energy_kwh();
+    if let Some((s, _)) = best {
+        let share = s.energy_saving_kwh / s.baseline_energy_kwh;
+        let kwh = share * if r.machines.is_empty() { r.annual_energy_kwh } else { e_now };
+        let mut next = p.clone();
+        for i in 0..next.energy_kwh.len() {
+            next.energy_kwh[i] *= 1.0 - share;
+            next.delivering_kwh[i] *= 1.0 - share;
         }
-        let excess_kw = p_meas - p_sheet;
-        let percent = (p_meas / p_sheet - 1.0) * 100.0;
-        out.extend(finish(r, si, Draft { kind: MeasureKind::ReplaceCompressor, title: text![format!("Overhaul or replace {}", spec.tag)], description: text![
-                format!("{} draws {p_meas:.1} kW loaded at ", spec.tag),
-                bar_g(p_bar_g),
-                format!(", {percent:.0} % above the {p_sheet:.1} kW its data sheet gives at that pressure."),
-            ], saving_kwh: excess_kw * m.annual_loaded_hours, acts_on_kwh: m.annual_energy_kwh, money: None, cost_ctx: CostContext { rated_kw: spec.rated_power_kw, ..Default::default() }, basis: vec![
-                text![format!("measured loaded power {p_meas:.2} kW")],
-                text!["mean pressure while loaded ", bar_g(p_bar_g)],
-                text![format!("data-sheet package power {:.2} kW at ", spec.rated_power_kw), bar_g(spec.rated_pressure_bar_g), format!(", {p_sheet:.2} kW at the logged pressure")],
-                text![format!("loaded hours {:.0} h/yr", m.annual_loaded_hours)],
-            ], formula: "saving = loaded hours × (measured loaded kW - data-sheet full-load kW corrected to the loaded pressure by the ratio of isentropic work)", source: "ISO 1217 data-sheet package input power; correction by isentropic compression work; threshold 10 % above it (common practice: beyond ISO 1217 annex C test tolerances of 4-8 %, from memory, and instrument accuracy)", caution: Some(
-                "check the measurement (power factor, clamp placement) and the discharge pressure first"
-                    .into(),
-            ) }));
+        next.trim_above_idle_kwh *= 1.0 - share;
+        next.scenario_applied = true;
+        let (lo, hi) = (
+            quad(&[s.validation_error.abs(), r.annual_energy_rel_low]),
+            quad(&[s.validation_error.abs(), r.annual_energy_rel_high]),
+        );
+        let (low_kwh, high_kwh) = band(kwh, lo, hi);
+        let draft = Draft {
+            kind: MeasureKind::ImproveControl,
+            title: text![format!("Change the compressor room as in scenario \u{201c}{}\u{201d}", s.name)],
+            description: text![format!(
+                "The logged demand replayed through the changed room (scenario {}) takes {:.1} % less \
+                 energy than the baseline, the same replay of the room as it is.",
+                s.id,
+                share * 100.0
+            )],
+            saving_kwh: kwh,
+            low_kwh,
+            high_kwh,
+            acts_on_kwh: r.annual_energy_kwh,
+            money: None,
+            cost_ctx: CostContext { scenario_cost: Some(s.implementation_cost), ..Default::default() },
+            basis: vec![
+                text![format!(
+                    "replayed saving {:.0} kWh over {:.0} h against a simulated baseline of {:.0} kWh",
+                    s.energy_saving_kwh, s.simulated_hours, s.baseline_energy_kwh
+                )],
+                text![format!("energy of this step {:.0} kWh/yr", if r.machines.is_empty() { r.annual_energy_kwh } else { e_now })],
+                text![format!("validation error of the replay {:+.2} %", s.validation_error * 100.0)],
+                text![format!("scenario cost {:.0} {}", s.implementation_cost, r.site.currency)],
+            ],
+            formula: "saving = (replayed baseline - replayed scenario) / replayed baseline × annual energy left",
+            source: "receiver equation V dp/dt = p_atm (Q_supply - Q_demand) with each machine's control \
+                     (part-load behaviour by control: US DOE compressed-air sourcebook); validated against the logged energy",
+            method: "replayed share of the energy left; range from the replay's validation error and the annual hours (receiver equation; US DOE sourcebook)",
+            caution: None,
+            scenario_id: Some(s.id),
+        };
+        return Some((draft, next));
     }
+    let (Some(c), Some(t)) = (&r.control, r.trim) else { return None };
+    let base = c.logged_annual_kwh - c.modelled_annual_kwh;
+    // The trim's energy above idle left, against the logged: demand cuts and a lower pressure
+    // shrink what a variable-speed trim can save; its unloaded energy out of production, once
+    // switched off, is not saved twice.
+    let ratio =
+        if first.trim_above_idle_kwh > 0.0 { p.trim_above_idle_kwh / first.trim_above_idle_kwh } else { 1.0 };
+    let kwh = (base * ratio - p.trim_idle_removed_kwh).max(0.0);
+    let spec = &r.compressors[t];
+    let mut next = p.clone();
+    next.take_from_trim(Some(t), kwh);
+    next.trim_replaced = true;
+    let (lo, hi) = demand_rel(r, false);
+    let (low_kwh, high_kwh) = band(kwh, lo, hi);
+    let draft = Draft {
+        kind: MeasureKind::ImproveControl,
+        title: text![if has_vsd {
+            format!("Sequence the variable-speed machine as trim instead of {}", spec.tag)
+        } else {
+            format!("Trim with a variable-speed compressor instead of {}", spec.tag)
+        }],
+        description: text![format!(
+            "{} runs loaded {:.0} % of its time and cycles {:.1} times an hour; {}",
+            spec.tag,
+            r.machines[t].loaded_fraction * 100.0,
+            r.machines[t].cycles_per_hour,
+            if c.simultaneous_cycling_share > 0.1 {
+                format!("two machines part-load at once {:.0} % of the time", c.simultaneous_cycling_share * 100.0)
+            } else {
+                "its part-load power is high for the air it delivers".into()
+            }
+        )],
+        saving_kwh: kwh,
+        low_kwh,
+        high_kwh,
+        acts_on_kwh: c.logged_annual_kwh.min(r.annual_energy_kwh),
+        money: None,
+        cost_ctx: CostContext { rated_kw: spec.rated_power_kw, has_vsd, ..Default::default() },
+        basis: vec![
+            text![format!("logged trim energy {:.0} kWh/yr", c.logged_annual_kwh)],
+            text![format!("same demand on {}: {:.0} kWh/yr", c.curve, c.modelled_annual_kwh)],
+            text![format!(
+                "× {ratio:.3} for the trim energy left above idle, less {:.0} kWh/yr already switched off",
+                p.trim_idle_removed_kwh
+            )],
+        ],
+        formula: "saving = (logged trim energy - Σ P_vsd(mean trim flow per 5 min) × time) × trim energy left / logged - unloaded energy already switched off",
+        source: "US DOE sourcebook: part-load behaviour by control",
+        method: "logged trim energy against the same demand on a variable-speed curve; range ±15 % curve and the annual hours (US DOE sourcebook, part load)",
+        caution: None,
+        scenario_id: None,
+    };
+    Some((draft, next))
+}
 
-    out.sort_by(|a, b| {
-        let pa = a.simple_payback_years.unwrap_or(f64::INFINITY);
-        let pb = b.simple_payback_years.unwrap_or(f64::INFINITY);
-        pa.total_cmp(&pb)
-    });
-    out
+/// The machines flagged against their data sheet (indices).
+pub(super) fn replace_candidates(r: &RecommendInput) -> Vec<usize> {
+    r.compressors
+        .iter()
+        .zip(r.machines)
+        .enumerate()
+        .filter(|(_, (_, m))| {
+            match (m.mean_loaded_power_kw, m.datasheet_power_at_pressure_kw, m.loaded_pressure_bar_g) {
+                (Some(p_meas), Some(p_sheet), Some(_)) => {
+                    p_sheet > 0.0 && p_meas > (1.0 + REPLACE_ABOVE_DATASHEET) * p_sheet
+                }
+                _ => false,
+            }
+        })
+        .map(|(i, _)| i)
+        .collect()
+}
+
+pub(super) fn replace_compressor(
+    r: &RecommendInput,
+    p: &Plant,
+    first: &Plant,
+    i: usize,
+) -> Option<(Draft, Plant)> {
+    let (spec, m) = (&r.compressors[i], &r.machines[i]);
+    let (Some(p_meas), Some(p_sheet), Some(p_bar_g)) =
+        (m.mean_loaded_power_kw, m.datasheet_power_at_pressure_kw, m.loaded_pressure_bar_g)
+    else {
+        return None;
+    };
+    if p.trim_replaced && Some(i) == r.trim {
+        return None;
+    }
+    let excess_kw = p_meas - p_sheet;
+    let percent = (p_meas / p_sheet - 1.0) * 100.0;
+    let d0 = first.delivering_kwh.get(i).copied().unwrap_or(0.0);
+    let ratio = if d0 > 0.0 { p.delivering_kwh[i] / d0 } else { 1.0 };
+    let kwh = excess_kw * m.annual_loaded_hours * ratio;
+    let mut next = p.clone();
+    if i < next.energy_kwh.len() {
+        next.energy_kwh[i] = (next.energy_kwh[i] - kwh).max(0.0);
+        next.delivering_kwh[i] = (next.delivering_kwh[i] - kwh).max(0.0);
+    }
+    // The meter's error on the measured power is all in the difference.
+    let amp = if excess_kw > 0.0 { p_meas / excess_kw } else { 1.0 };
+    let (lo, hi) = (
+        quad(&[r.annual_energy_rel_low * amp, r.annual_energy_rel_low]),
+        quad(&[r.annual_energy_rel_high * amp, r.annual_energy_rel_high]),
+    );
+    let (low_kwh, high_kwh) = band(kwh, lo, hi);
+    let draft = Draft {
+        kind: MeasureKind::ReplaceCompressor,
+        title: text![format!("Overhaul or replace {}", spec.tag)],
+        description: text![
+            format!("{} draws {p_meas:.1} kW loaded at ", spec.tag),
+            bar_g(p_bar_g),
+            format!(", {percent:.0} % above the {p_sheet:.1} kW its data sheet gives at that pressure."),
+        ],
+        saving_kwh: kwh,
+        low_kwh,
+        high_kwh,
+        acts_on_kwh: p.energy_kwh.get(i).copied().unwrap_or(m.annual_energy_kwh),
+        money: None,
+        cost_ctx: CostContext { rated_kw: spec.rated_power_kw, ..Default::default() },
+        basis: vec![
+            text![format!("measured loaded power {p_meas:.2} kW")],
+            text!["mean pressure while loaded ", bar_g(p_bar_g)],
+            text![
+                format!("data-sheet package power {:.2} kW at ", spec.rated_power_kw),
+                bar_g(spec.rated_pressure_bar_g),
+                format!(", {p_sheet:.2} kW at the logged pressure")
+            ],
+            text![format!("loaded hours {:.0} h/yr, × {ratio:.3} for the loaded energy left", m.annual_loaded_hours)],
+        ],
+        formula: "saving = loaded hours × (measured loaded kW - data-sheet full-load kW corrected to the loaded pressure by the ratio of isentropic work) × loaded energy left / logged",
+        source: "ISO 1217 data-sheet package input power; correction by isentropic compression work; threshold 10 % above it (common practice: beyond ISO 1217 annex C test tolerances of 4-8 %, from memory, and instrument accuracy)",
+        method: "measured loaded power against the data sheet at the same pressure; range from the power meter's error on the difference (ISO 1217)",
+        caution: Some("check the measurement (power factor, clamp placement) and the discharge pressure first".into()),
+        scenario_id: None,
+    };
+    Some((draft, next))
+}
+
+/// Heat recovery, valued on the energy `p` leaves (the plant after the electrical measures).
+pub(super) fn recover_heat(r: &RecommendInput, p: &Plant, first: &Plant) -> Option<Draft> {
+    let h = r.heat.as_ref()?;
+    let ratio = |i: usize| {
+        let e0 = first.energy_kwh.get(i).copied().unwrap_or(0.0);
+        if e0 > 0.0 {
+            p.energy_kwh[i] / e0
+        } else {
+            1.0
+        }
+    };
+    let left = |v: &[f64]| v.iter().enumerate().map(|(i, x)| x * ratio(i)).sum::<f64>();
+    let (rec, rec_lo, rec_hi) = (
+        left(&h.per_machine_recoverable_kwh),
+        left(&h.per_machine_recoverable_kwh_low),
+        left(&h.per_machine_recoverable_kwh_high),
+    );
+    let eff = r.site.heater_efficiency;
+    if eff.is_nan() || eff <= 0.0 {
+        return None;
+    }
+    let fuel = |rec: f64| rec * h.used_share / eff;
+    let (f, f_lo, f_hi) = (fuel(rec), fuel(rec_lo), fuel(rec_hi));
+    let price = r.site.heating_fuel_price_per_kwh;
+    let (low_kwh, high_kwh) =
+        (f_lo * (1.0 - r.annual_energy_rel_low).max(0.0), f_hi * (1.0 + r.annual_energy_rel_high));
+    Some(Draft {
+        kind: MeasureKind::RecoverHeat,
+        title: text![format!("Recover compressor heat for {}", h.use_kind.as_str().replace('_', " "))],
+        description: text![format!(
+            "Use about {:.0} kWh/yr of the compressors' heat in place of fuel ({f:.0} kWh/yr of fuel).",
+            rec * h.used_share
+        )],
+        saving_kwh: f,
+        low_kwh,
+        high_kwh,
+        // Fuel displaced, not electricity: bounded by the recoverable heat upstream.
+        acts_on_kwh: f,
+        money: Some(f * price),
+        cost_ctx: CostContext { recoverable_heat_kw: h.recoverable_kw, ..Default::default() },
+        basis: vec![
+            text![format!("recoverable heat of the running machines {rec:.0} kWh/yr on the energy left after the electrical measures")],
+            text![format!(
+                "recovery effectiveness {:.2} (air cooling), {:.2} (water cooling)",
+                r.costs.options.heat_recovery_effectiveness_air, r.costs.options.heat_recovery_effectiveness_water
+            )],
+            text![format!("share of the year the heat is used {:.2} ({})", h.used_share, h.use_kind.as_str().replace('_', " "))],
+            text![format!("heater efficiency {:.2}", eff)],
+            text![format!("fuel price {} {} per kWh", price, r.site.currency)],
+            text![format!("recoverable heat {:.1} kW at full load (running machines)", h.recoverable_kw)],
+        ],
+        formula: "saving = (input - m cp ΔT) × effectiveness × share used / heater efficiency × fuel price",
+        source: "US DOE compressed-air sourcebook, heat-recovery fact sheet (a unit recovers 50-90 % of the heat)",
+        method: "heat rejected by the energy balance × the unit's effectiveness, used in the months of use; range from the effectiveness ±0.10 and the annual hours (US DOE heat-recovery fact sheet)",
+        caution: Some(safety::HEAT_RECOVERY_MEASURE_CAUTION.into()),
+        scenario_id: None,
+    })
 }

@@ -8,17 +8,34 @@ energy above idle.
 
 | kind | saving | default implementation cost (common practice, from memory; edit per audit) |
 |---|---|---|
-| `repair_leaks` | `f` × leak flow (default `f` = 50 %, [`MeasureOptions::leak_repair_fraction`]) × marginal kW/(m³/min) × the system's running hours, capped at the trim's energy above idle | 1500 (survey) + 1000 per m³/min repaired |
-| `lower_pressure` | 1 % of compressor input per 2 psi (0.138 bar) lower (US DOE compressed-air sourcebook) + the artificial demand `dQ = Q_unreg (p_now - p_target) / p_now,abs` at the marginal curve; target by default 0.5 bar below the mean header pressure, never below the highest pressure the uses need, the plant's low limit (`low_limit_bar_g`) or 0 bar(g) | 2000 fixed (engineering, set-point changes) |
-| `recover_heat` | the displaced fuel (heater efficiency, fuel price) in the months the heat is used | 250 per kW of recoverable heat at full load |
-| `shut_off_idle` | energy spent unloaded in non-production hours | 800 per compressor (timer or sequencer rule) |
-| `improve_control` | the best replayed scenario (below), else the trim's logged energy - the same demand on a variable-speed trim (the audit's own VSD curve, or the typical curve of `states`) | the scenario's cost (quoted, or `simulate::default_cost`); else 350 per kW of trim rating (a VSD trim), 3000 fixed when the audit already has a VSD to sequence as trim |
-| `replace_compressor` | when the mean loaded power is more than 10 % above the data sheet's full-load power corrected to the mean pressure while loaded (ratio of isentropic work, `thermo::power_at_pressure`): loaded hours × (measured loaded kW - that corrected kW); nothing else (no comparison with the uncorrected rated power) | 400 per kW rated |
+| `repair_leaks` | `f` × leak flow (default `f` = 50 %, [`MeasureOptions::leak_repair_fraction`]) × marginal kW/(m³/min) × the hours left to price, held at the trim's energy above idle in and out of production | 1500 (survey) + 1000 per m³/min repaired |
+| `lower_pressure` | the **loaded** (delivering) energy of the machines making the air × 1 % per 2 psi (0.138 bar) lower (US DOE compressed-air sourcebook), or × the ratio of isentropic work (`pressure_rule`), + the artificial demand `dQ = (Q_unreg + leaks) Δp / p_now,abs` at the marginal curve. The step Δp keeps the logged 5th-percentile pressure, shifted down by it, above the critical end use (`critical_pressure_bar_g`, else the plant's low limit) plus the transmitter's uncertainty; never past `target_pressure_bar_g`, the low limit or 0 bar(g); no room, no measure | 2000 fixed (engineering, set-point changes) |
+| `recover_heat` | heat rejected (energy balance) × share on the cooling path × the unit's effectiveness (0.80 air, 0.75 water; editable; US DOE fact sheet 50-90 %), machines that ran; used in the heating months (space heating) or all year (process water); fuel = heat / heater efficiency × price; on the energy left after the electrical measures | 250 per kW of recoverable heat at full load |
+| `shut_off_idle` | energy spent unloaded in non-production hours; when the trim is among the machines switched off, also the leaks left × marginal power over its non-production hours (held at its energy above idle then), and later demand cuts are priced in production hours only | 800 per compressor (timer or sequencer rule) |
+| `improve_control` | the best replayed scenario (below) on the energy left, else (the trim's logged energy - the same demand on a variable-speed trim) × the trim's energy above idle left / logged - its unloaded energy already switched off | the scenario's cost (quoted, or `simulate::default_cost`); else 350 per kW of trim rating (a VSD trim), 3000 fixed when the audit already has a VSD to sequence as trim |
+| `replace_compressor` | when the mean loaded power is more than 10 % above the data sheet's full-load power corrected to the mean pressure while loaded (ratio of isentropic work, `thermo::power_at_pressure`): loaded hours × (measured loaded kW - that corrected kW) × the machine's loaded energy left / logged; nothing once the trim it is has been replaced by the control measure | 400 per kW rated |
+
+**Stacked** (`stack`): each measure is priced alone (`standalone_*`), ranked by that payback (the
+auditor's `order` first, `excluded` left out), then priced again on the plant the measures before
+it leave; `measures_total` is the sum of the stacked figures.
+
+**Ranges** (`_low` / `_high`), relative parts combined in quadrature: leak repair and other demand
+cuts: the adopted leak flow's range, the part-load slope ±15 % ([`PART_LOAD_SLOPE_REL`], common
+practice, from memory) and the annual energy's range (meters and extrapolation, from `baseline`);
+lower pressure: the other pressure rule and the annual range; heat: the effectiveness ±0.10 (held
+within 0.50-0.90) and the annual range; shut-off: the annual range (and the leak part's); control:
+slope and annual range (a replay: its validation error); replacement: the power meter's error on
+the measured power, carried whole into the difference. Prices are the audit's, taken as exact.
+The total's range is the sum of the measures' (fully correlated).
+
+Plan options ([`MeasureOptions`], `PUT /api/v1/audits/{id}/measures`): `leak_repair_fraction` and the
+effectiveness 0-1, pressures 0-50 bar(g), `unregulated_flow_m3_min` 0-2000, no kind twice in
+`order`.
 
 **Never more than the energy acted on**: each measure's electricity saving is capped by the annual
-energy it acts on (the trim's energy above idle for a demand cut, the system's annual energy for the
-pressure set point, the trim's logged energy for control, the machine's annual energy for a
-replacement), so no measure can save more than exists to save.
+energy it acts on on the plant it is priced on (the trim's energy above idle for a demand cut, the
+delivering energy for the pressure set point, the trim's logged energy for control, the machine's
+energy for a replacement), so no measure can save more than exists to save.
 
 **Replayed scenarios** (`simulate`) outrank the rule for `improve_control`: a scenario qualifies when the
 auditor marked it as the proposal (`proposal`: a replay is a question asked, not advice, until then), it
@@ -65,10 +82,12 @@ use super::model::{CompressorSpec, SiteSpec};
 #[macro_use]
 mod text;
 mod measures;
+mod stack;
 #[cfg(test)]
 pub(crate) mod tests;
 
-pub use measures::recommend;
+pub use measures::Words;
+pub use stack::{recommend, stack_total};
 pub use text::{bar_g, flow, specific, Part, Quantity, Text};
 
 /// Every kind of measure this module proposes (API.md names, the JSON spelling of each).
@@ -129,19 +148,6 @@ pub fn rank(recs: &mut [Recommendation]) {
     });
 }
 
-/// Replace default implementation costs by the totals an auditor entered per kind, recompute the
-/// paybacks and rank again.
-pub fn apply_implementation_costs(recs: &mut [Recommendation], edited: &BTreeMap<String, f64>) {
-    for r in recs.iter_mut() {
-        if let Some(&c) = edited.get(r.kind.as_str()) {
-            r.implementation_cost = c;
-            r.simple_payback_years = Some(c / r.annual_cost_saving);
-            r.implementation_cost_source = CostSource::Edited;
-        }
-    }
-    rank(recs);
-}
-
 /// 2 psi in bar: the step of the "1 % per 2 psi" rule (US DOE compressed-air sourcebook).
 pub const BAR_PER_2_PSI: f64 = 2.0 * 6_894.757_293_168 / 100_000.0;
 /// `replace_compressor` is proposed when the loaded power is this far above the data sheet's
@@ -149,20 +155,57 @@ pub const BAR_PER_2_PSI: f64 = 2.0 * 6_894.757_293_168 / 100_000.0;
 pub const REPLACE_ABOVE_DATASHEET: f64 = 0.10;
 /// Default share of the estimated leak flow a repair campaign removes (common practice).
 pub const DEFAULT_LEAK_REPAIR_FRACTION: f64 = 0.5;
-/// Default pressure reduction below the mean header pressure, bar (common practice).
-pub const DEFAULT_PRESSURE_REDUCTION_BAR: f64 = 0.5;
 
-/// Options of the measures an auditor may change per audit.
+/// Default effectiveness of a heat-recovery unit on the heat leaving through the cooling air (ducted
+/// cabinet air) and through the cooling water (oil cooler and aftercooler circuits), inside the US DOE
+/// heat-recovery fact sheet's "50-90 %" of the heat; the values are common practice, from memory.
+pub const DEFAULT_RECOVERY_EFFECTIVENESS_AIR: f64 = 0.80;
+pub const DEFAULT_RECOVERY_EFFECTIVENESS_WATER: f64 = 0.75;
+/// Spread of the recovery unit's effectiveness taken as its range (± this, held within 0.50-0.90,
+/// the fact sheet's range).
+pub const RECOVERY_EFFECTIVENESS_SPREAD: f64 = 0.10;
+/// Relative uncertainty of the trim machine's part-load slope (data sheet or typical curve; common
+/// practice, from memory): a demand cut's range.
+pub const PART_LOAD_SLOPE_REL: f64 = 0.15;
+
+/// The scaling of loaded energy with discharge pressure used by `lower_pressure` (the other one gives
+/// the far end of its range).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PressureRule {
+    /// 1 % of input per 2 psi (US DOE compressed-air sourcebook).
+    #[default]
+    OnePercentPerTwoPsi,
+    /// The ratio of isentropic compression work at the two pressures (ideal gas, k = 1.4, the
+    /// machine's stages).
+    IsentropicWork,
+}
+
+/// Options of the measures an auditor may change per audit (stored as the audit's measure plan,
+/// `PUT /api/v1/audits/{id}/measures`).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct MeasureOptions {
     pub leak_repair_fraction: f64,
-    /// Target header pressure; default mean - 0.5 bar (not below `needed_pressure_bar_g`).
+    /// Target header pressure, bar(g): the set point comes down no further than this (and never
+    /// further than the 5th-percentile rule allows).
     pub target_pressure_bar_g: Option<f64>,
-    /// The highest pressure any use needs at the header, if known.
+    /// The highest pressure any use needs at the header, if known (the critical end use; an older
+    /// name of `critical_pressure_bar_g`, which wins when both are given).
     pub needed_pressure_bar_g: Option<f64>,
+    /// The pressure the critical end use needs at the header, bar(g); default the plant's low limit.
+    pub critical_pressure_bar_g: Option<f64>,
     /// Unregulated demand that follows header pressure (besides leaks), m³/min.
     pub unregulated_flow_m3_min: Option<f64>,
+    pub pressure_rule: PressureRule,
+    /// Effectiveness of the recovery unit on heat leaving through cooling air / cooling water (0.5-0.9).
+    pub heat_recovery_effectiveness_air: f64,
+    pub heat_recovery_effectiveness_water: f64,
+    /// The auditor's order of the measures: listed kinds are stacked first, in this order; the
+    /// others follow by payback.
+    pub order: Vec<MeasureKind>,
+    /// Kinds left out of the plan (neither priced in the stack nor summed).
+    pub excluded: Vec<MeasureKind>,
 }
 
 impl Default for MeasureOptions {
@@ -171,17 +214,64 @@ impl Default for MeasureOptions {
             leak_repair_fraction: DEFAULT_LEAK_REPAIR_FRACTION,
             target_pressure_bar_g: None,
             needed_pressure_bar_g: None,
+            critical_pressure_bar_g: None,
             unregulated_flow_m3_min: None,
+            pressure_rule: PressureRule::default(),
+            heat_recovery_effectiveness_air: DEFAULT_RECOVERY_EFFECTIVENESS_AIR,
+            heat_recovery_effectiveness_water: DEFAULT_RECOVERY_EFFECTIVENESS_WATER,
+            order: vec![],
+            excluded: vec![],
         }
     }
 }
 
-/// Per-audit cost rates and measure options.
+impl MeasureOptions {
+    /// `Ok` when every number is finite and in its documented range (module doc), else the field
+    /// and why.
+    pub fn check(&self) -> Result<(), (&'static str, String)> {
+        let f = |name: &'static str, v: f64, lo: f64, hi: f64| {
+            if v.is_finite() && (lo..=hi).contains(&v) {
+                Ok(())
+            } else {
+                Err((name, format!("{name} must be a number from {lo} to {hi}, got {v}")))
+            }
+        };
+        f("leak_repair_fraction", self.leak_repair_fraction, 0.0, 1.0)?;
+        f("heat_recovery_effectiveness_air", self.heat_recovery_effectiveness_air, 0.0, 1.0)?;
+        f("heat_recovery_effectiveness_water", self.heat_recovery_effectiveness_water, 0.0, 1.0)?;
+        for (name, v) in [
+            ("target_pressure_bar_g", self.target_pressure_bar_g),
+            ("needed_pressure_bar_g", self.needed_pressure_bar_g),
+            ("critical_pressure_bar_g", self.critical_pressure_bar_g),
+        ] {
+            if let Some(v) = v {
+                f(name, v, 0.0, 50.0)?;
+            }
+        }
+        if let Some(q) = self.unregulated_flow_m3_min {
+            f("unregulated_flow_m3_min", q, 0.0, 2000.0)?;
+        }
+        let mut seen = std::collections::BTreeSet::new();
+        if !self.order.iter().all(|k| seen.insert(*k)) {
+            return Err(("order", "a measure is listed twice in the order".into()));
+        }
+        Ok(())
+    }
+
+    /// The critical end use's pressure at the header, bar(g), if the auditor gave one.
+    pub fn critical_pressure(&self) -> Option<f64> {
+        self.critical_pressure_bar_g.or(self.needed_pressure_bar_g)
+    }
+}
+
+/// Per-audit cost rates, edited totals and measure options.
 #[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
 #[serde(default)]
 pub struct CostOverrides {
     /// kind -> rate (module doc: per m³/min, per kW, per compressor or fixed).
     pub per_kind: BTreeMap<String, f64>,
+    /// kind -> the implementation cost an auditor entered (`PUT /costs/{kind}`), replacing the estimate.
+    pub edited_totals: BTreeMap<String, f64>,
     pub options: MeasureOptions,
 }
 
@@ -254,6 +344,41 @@ pub struct Recommendation {
     /// The replayed scenario this measure rests on (`improve_control` only).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub scenario_id: Option<i64>,
+    /// 1-based place in the stack: `annual_energy_saving_kwh` is the saving on the plant left by
+    /// the measures placed before it.
+    pub stack_position: usize,
+    /// The saving of this measure alone, on the plant as logged (API.md additions).
+    pub standalone_annual_energy_saving_kwh: f64,
+    pub standalone_annual_cost_saving: f64,
+    /// The stacked saving's range from its inputs (leak flow, part-load slope, hours, rule, effectiveness).
+    pub annual_energy_saving_kwh_low: f64,
+    pub annual_energy_saving_kwh_high: f64,
+    pub annual_cost_saving_low: f64,
+    pub annual_cost_saving_high: f64,
+    /// One short line: how the saving is worked out and on what sources it rests.
+    pub method_and_sources: String,
+}
+
+/// `summary.measures_total`: the sums of the stacked figures (API.md additions). Electricity and
+/// displaced fuel are also given apart.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct MeasuresTotal {
+    pub annual_energy_saving_kwh: f64,
+    pub annual_energy_saving_kwh_low: f64,
+    pub annual_energy_saving_kwh_high: f64,
+    pub annual_electricity_saving_kwh: f64,
+    pub annual_fuel_saving_kwh: f64,
+    pub annual_cost_saving: f64,
+    pub annual_cost_saving_low: f64,
+    pub annual_cost_saving_high: f64,
+    pub implementation_cost: f64,
+    /// `None` when the stacked cost saving is not positive.
+    pub simple_payback_years: Option<f64>,
+    /// The kinds in the order they were stacked, and those left out by the auditor.
+    pub order: Vec<MeasureKind>,
+    pub excluded: Vec<MeasureKind>,
+    /// How the ranges are combined.
+    pub range_rule: String,
 }
 
 /// A scenario is offered only if its unchanged plant reproduced the logged energy this closely.
@@ -309,6 +434,12 @@ pub struct MachineUse {
     /// Mean pressure while loaded, bar(g).
     pub loaded_pressure_bar_g: Option<f64>,
     pub power_logged: bool,
+    /// Energy while delivering air (loaded or part load), kWh/yr: what a lower pressure scales.
+    pub annual_delivering_kwh: f64,
+    /// Hours a year it runs out of production.
+    pub annual_running_non_production_hours: f64,
+    /// Energy above its unloaded power out of production, kWh/yr.
+    pub annual_above_idle_non_production_kwh: f64,
 }
 
 /// The trim machine on a variable-speed curve, as the analysis modelled it.
@@ -329,6 +460,14 @@ pub struct HeatCase {
     pub value_per_year: f64,
     pub recoverable_kw: f64,
     pub use_kind: HeatUseKind,
+    /// Per compressor: annual recoverable heat, kWh (running machines only), at the default
+    /// effectiveness; the recovered heat follows each machine's energy left in the stack.
+    pub per_machine_recoverable_kwh: Vec<f64>,
+    /// The same at the low and high ends of the effectiveness range.
+    pub per_machine_recoverable_kwh_low: Vec<f64>,
+    pub per_machine_recoverable_kwh_high: Vec<f64>,
+    /// Share of the recoverable heat the site uses (heating months / 12, or 1 for process water).
+    pub used_share: f64,
 }
 
 /// Everything the measures are computed from.
@@ -343,8 +482,18 @@ pub struct RecommendInput<'a> {
     pub annual_running_hours: f64,
     pub annual_energy_kwh: f64,
     pub leak_flow_m3_min: Option<f64>,
+    pub leak_flow_m3_min_low: Option<f64>,
+    pub leak_flow_m3_min_high: Option<f64>,
+    /// Relative range of the annual energy (meters and extrapolation), below and above: every
+    /// saving priced on annual energy or hours carries it.
+    pub annual_energy_rel_low: f64,
+    pub annual_energy_rel_high: f64,
     /// Mean header pressure, only when the pressure log is credible (`analysis::sufficiency`).
     pub mean_pressure_bar_g: Option<f64>,
+    /// The logged 5th-percentile header pressure, bar(g) (credible logs only).
+    pub p5_pressure_bar_g: Option<f64>,
+    /// The pressure transmitter's uncertainty, bar: the margin kept above the critical pressure.
+    pub pressure_uncertainty_bar: f64,
     /// The plant's low pressure limit (lowest rated pressure - 1 bar): no target goes below it.
     pub low_limit_bar_g: Option<f64>,
     pub control: Option<ControlCase>,

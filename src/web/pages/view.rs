@@ -46,6 +46,14 @@ pub struct RecView {
     pub formula: String,
     pub source: String,
     pub caution: String,
+    /// The saving of the measure alone (money and energy).
+    pub alone: String,
+    pub alone_energy: String,
+    /// The stacked saving's range, money and energy.
+    pub range: String,
+    pub range_energy: String,
+    /// One short line: method and sources.
+    pub method: String,
 }
 
 pub struct CompressorRow {
@@ -97,6 +105,8 @@ pub struct ReportView {
     pub recs: Vec<RecView>,
     pub total_saving: String,
     pub total_payback: String,
+    pub total_cost: String,
+    pub total_range: String,
     pub compressors: Vec<CompressorRow>,
     pub leaks: Vec<LeakRow>,
     pub leak_note: String,
@@ -193,6 +203,8 @@ fn empty_view() -> ReportView {
         recs: vec![],
         total_saving: String::new(),
         total_payback: String::new(),
+        total_cost: String::new(),
+        total_range: String::new(),
         compressors: vec![],
         leaks: vec![],
         leak_note: String::new(),
@@ -223,12 +235,17 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
     let (recs, tot_save, tot_cost) = measures(sm, fmt, cur);
     if !recs.is_empty() {
         figures.push(FigureView {
-            label: "Savings of all measures".into(),
+            label: "Savings of all measures, done in order".into(),
             value: format!("{} a year", money(tot_save)),
             note: format!(
-                "for {} in all: combined simple payback {} (measures overlap: the sum is an upper bound)",
+                "for {} in all: combined simple payback {}; each measure priced on the plant the ones before it leave{}",
                 money(tot_cost),
-                fmt.years(tot_cost / tot_save)
+                fmt.years(tot_cost / tot_save),
+                sm.measures_total.as_ref().map_or(String::new(), |t| format!(
+                    " (range {} to {})",
+                    money(t.annual_cost_saving_low),
+                    money(t.annual_cost_saving_high)
+                ))
             ),
             estimated: false,
         });
@@ -258,6 +275,10 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
         recs,
         total_saving: money(tot_save),
         total_payback: fmt.years(tot_cost / tot_save),
+        total_cost: money(tot_cost),
+        total_range: sm.measures_total.as_ref().map_or(String::new(), |t| {
+            format!("{} to {}", money(t.annual_cost_saving_low), money(t.annual_cost_saving_high))
+        }),
         compressors: compressor_rows(sm, fmt),
         leaks: leak_rows(sm, fmt),
         leak_note: sm.leaks.adopted_rule.clone(),
@@ -432,20 +453,33 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
     ]
 }
 
-/// The measures, ranked as the summary ranks them, with the sums of their savings and costs.
+/// The measures in the order they are stacked, with the sums of their stacked savings and costs.
 fn measures(sm: &Summary, fmt: &Fmt, cur: &str) -> (Vec<RecView>, f64, f64) {
     let (mut tot_save, mut tot_cost) = (0.0, 0.0);
     let recs = sm
         .recommendations
         .iter()
-        .enumerate()
-        .map(|(i, r)| {
+        .map(|r| {
             tot_save += r.annual_cost_saving;
             tot_cost += r.implementation_cost;
+            let kind_of = if r.electricity { " electricity" } else { " fuel" };
             // The words in parts, each figure in the reader's units.
             let t = &r.text;
             RecView {
-                rank: i + 1,
+                alone: fmt.money(r.standalone_annual_cost_saving, cur),
+                alone_energy: format!("{}{kind_of}", fmt.energy_kwh(r.standalone_annual_energy_saving_kwh)),
+                range: format!(
+                    "{} to {}",
+                    fmt.money(r.annual_cost_saving_low, cur),
+                    fmt.money(r.annual_cost_saving_high, cur)
+                ),
+                range_energy: format!(
+                    "{} to {}",
+                    fmt.energy_kwh(r.annual_energy_saving_kwh_low),
+                    fmt.energy_kwh(r.annual_energy_saving_kwh_high)
+                ),
+                method: r.method_and_sources.clone(),
+                rank: r.stack_position,
                 kind: r.kind.as_str().into(),
                 title: render_parts(&t.title, fmt),
                 description: render_parts(&t.description, fmt),
