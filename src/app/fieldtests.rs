@@ -100,14 +100,13 @@ impl App {
         Ok(audits::delete_field_test(self.db(), audit_id, id).await?)
     }
 
-    /// Windows of pressure decay with every compressor off or unloaded, proposed as tests.
+    /// Windows of pressure decay with every compressor off, or off or unloaded outside production,
+    /// proposed as tests.
     pub async fn decay_events(&self, id: i64) -> Result<Vec<DecayEvent>> {
         let b = self.bundle(id).await?;
         let Some(frame) = self.frame_for(&b, None).await? else { return Ok(vec![]) };
-        let specs = b.specs();
+        let spec = analysis::DataSpec::of(&b.audit.site.to_spec(), &b.specs());
         let storage = b.storage();
-        let site = b.audit.site.air();
-        Ok(tokio::task::spawn_blocking(move || analysis::decay_events(&frame, &specs, &storage, &site))
-            .await?)
+        Ok(tokio::task::spawn_blocking(move || analysis::decay_events(&frame, &spec, &storage)).await?)
     }
 }
