@@ -73,6 +73,7 @@ impl AuditBundle {
                     method: t.kind.clone(),
                     leak_flow_m3_min: q,
                     relative_uncertainty: r.relative_uncertainty(),
+                    warnings: r.warnings().to_vec(),
                 })
             })
             .collect()

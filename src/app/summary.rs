@@ -448,6 +448,7 @@ mod tests {
             method: "bleed_down".into(),
             leak_flow_m3_min: 1.25,
             relative_uncertainty: None,
+            warnings: vec![],
         }];
         // The shape the API and the cache have always had for an audit without readings.
         let before = serde_json::json!({

@@ -259,6 +259,14 @@ impl FieldTestResult {
         }
     }
 
+    /// What the evaluation warned of (a bleed-down too fast to be near isothermal).
+    pub fn warnings(&self) -> &[String] {
+        match self {
+            Self::BleedDown(r) => &r.warnings,
+            _ => &[],
+        }
+    }
+
     /// The relative uncertainty of the leak flow (one standard uncertainty) as evaluated with the
     /// test's own inputs: `leak_flow_m3_min_high / leak_flow_m3_min - 1`; `None` for a zero flow.
     pub fn relative_uncertainty(&self) -> Option<f64> {

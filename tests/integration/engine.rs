@@ -804,3 +804,30 @@ fn metropt3_compressor_off_stretches_are_decay_events_before_a_volume_is_on_reco
         assert!(num(ev, "/fit_r2") > 0.9, "{ev}");
     }
 }
+
+#[test]
+fn a_fast_bleed_down_warns_on_its_result_and_in_the_summary() {
+    // API.md's bleed-down example (3 m³, 7.0 -> 5.5 bar(g) in 95 s) on the demo: far too fast to be
+    // near isothermal by the rule of `leaks::non_isothermal_overstatement` (estimated overstatement
+    // above 5 %: here capped at k - 1 = 40 %, the adiabatic limit). The warning is on the stored
+    // result and among the summary's warnings, naming the test.
+    let s = Server::demo();
+    let r = s.post_json(
+        "/api/v1/audits/1/field-tests",
+        &json!({"kind": "bleed_down", "volume_m3": 3.0, "start_pressure_bar_g": 7.0,
+                "end_pressure_bar_g": 5.5, "duration_s": 95}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let rec = r.json();
+    let res = &rec["result"];
+    assert!((num(res, "/non_isothermal_overstatement") - 0.4).abs() < 1e-9, "{res}");
+    let w = res["warnings"][0].as_str().unwrap_or_else(|| panic!("no warning: {res}"));
+    assert!(w.contains("isothermal"), "{w}");
+    let sum = summary(&s, 1, "");
+    let prefix = format!("field test {} (bleed_down)", rec["id"]);
+    assert!(
+        sum["warnings"].as_array().unwrap().iter().any(|x| x.as_str().unwrap().starts_with(&prefix)),
+        "{}",
+        sum["warnings"]
+    );
+}

@@ -30,6 +30,7 @@ fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame) -> Summary {
             method: "bleed_down".into(),
             leak_flow_m3_min: 1.0,
             relative_uncertainty: None,
+            warnings: vec![],
         }],
         costs: &costs,
         scenarios: &[],

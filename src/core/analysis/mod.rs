@@ -87,6 +87,10 @@ pub struct LeakEstimate {
     /// (`uncertainty::default_relative_uncertainty`).
     #[serde(default)]
     pub relative_uncertainty: Option<f64>,
+    /// What its evaluation warned of (a bleed-down too fast to be near isothermal), repeated in the
+    /// summary's `warnings`.
+    #[serde(default)]
+    pub warnings: Vec<String>,
 }
 
 /// What the passes over the bins read besides the frame: the compressors and the site's air, clock
@@ -298,7 +302,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         );
     }
     let u_flow = if flow_estimated { acc.flow_estimated_rel } else { acc.flow_rel };
-    let warnings: Vec<String> = cs
+    let mut warnings: Vec<String> = cs
         .iter()
         .filter(|c| acc.single_power_factor.contains(&c.tag))
         .map(|c| {
@@ -311,6 +315,9 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             )
         })
         .collect();
+    warnings.extend(input.leak_estimates.iter().flat_map(|e| {
+        e.warnings.iter().map(move |w| format!("field test {} ({}): {w}", e.test_id, e.method))
+    }));
     let energy_kwh = &d.energy.energy_kwh;
     let sys_energy: f64 = energy_kwh.iter().sum();
     let sys_mean_kw: f64 = d.energy.mean_kw.iter().sum();

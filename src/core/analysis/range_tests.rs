@@ -141,7 +141,7 @@ fn non_production_flow_is_read_as_leaks_at_production_pressure_less_purge_and_dr
 }
 
 #[test]
-fn a_leak_estimate_keeps_the_uncertainty_its_test_was_evaluated_with() {
+fn a_leak_estimate_keeps_the_uncertainty_and_warnings_its_test_was_evaluated_with() {
     // A load/unload test's band comes from its own times (`fieldtest`); the summary keeps it
     // instead of a method default. ±7 % given -> 0.93 and 1.07 of the flow.
     let s = crate::core::recommend::tests::site();
@@ -151,9 +151,16 @@ fn a_leak_estimate_keeps_the_uncertainty_its_test_was_evaluated_with() {
         method: "load_unload".into(),
         leak_flow_m3_min: 1.0,
         relative_uncertainty: Some(0.07),
+        warnings: vec!["test too short to be near isothermal".into()],
     };
     let r = run(&s, &cs, &frame, vec![est]);
     let e = &r.leaks.estimates[0];
     assert!((e.leak_flow_m3_min_low - 0.93).abs() < 1e-12 && (e.leak_flow_m3_min_high - 1.07).abs() < 1e-12);
     assert!((r.leaks.adopted_leak_flow_m3_min_high.unwrap() - 1.07).abs() < 1e-12);
+    // Its warning reaches the summary's, naming the test.
+    assert!(
+        r.warnings.iter().any(|w| w.starts_with("field test 4 (load_unload): test too short")),
+        "{:?}",
+        r.warnings
+    );
 }

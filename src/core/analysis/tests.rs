@@ -77,6 +77,7 @@ fn a_summary_reads_back_from_its_json_with_the_same_names_and_spellings() {
             method: "bleed_down".into(),
             leak_flow_m3_min: 1.5,
             relative_uncertainty: None,
+            warnings: vec![],
         }],
     );
     let j = serde_json::to_value(&r).unwrap();
@@ -273,6 +274,7 @@ fn a_logged_week_is_profiled_by_weekday_and_hour_and_annualised_over_52_weeks() 
             method: "bleed_down".into(),
             leak_flow_m3_min: 1.5,
             relative_uncertainty: None,
+            warnings: vec![],
         }],
     );
     let wh = &r.demand.weekday_hour_mean_flow_m3_min;
@@ -428,6 +430,7 @@ fn marginal_power_is_the_trim_machine_not_the_plant_average() {
             method: "load_unload".into(),
             leak_flow_m3_min: 1.2,
             relative_uncertainty: None,
+            warnings: vec![],
         }],
     );
     assert_eq!(r.leaks.marginal_machine.as_deref(), Some("TRIM"));
