@@ -87,8 +87,15 @@ impl App {
         let site = b.audit.site.air();
         let specs = b.specs();
         let storage = b.storage();
-        let ctx =
-            FieldTestContext { site: &site, compressors: &specs, storage: &storage, frame: frame.as_deref() };
+        let site_spec = b.audit.site.to_spec();
+        let ctx = FieldTestContext {
+            site: &site,
+            compressors: &specs,
+            storage: &storage,
+            frame: frame.as_deref(),
+            production: site_spec.production.as_ref(),
+            timezone: &site_spec.timezone,
+        };
         let result = fieldtest::evaluate(&input, &ctx).map_err(test_error)?;
         let result = serde_json::to_value(&result).map_err(Error::internal)?;
         Ok((input.method(), result))

@@ -17,7 +17,9 @@ default instrument accuracies ([`Accuracy`]).
 - `idle_flow`: the mean logged flow in a window when nothing but leaks (and fixed users such as dryer
   purge) draw air, less `purge_and_drains_m3_min` (the purge and drain air the auditor knows of,
   default 0), scaled to the production pressure like the bleed-down when one is given.
-- `pressure_decay`: logged pressure falling while every logged compressor is off or unloaded, fitted
+- `pressure_decay`: logged pressure falling while every logged compressor is off, or off or unloaded
+  outside the schedule's production hours (unloaded running in a production hour is refused: the fall
+  is then the whole demand; without a schedule it is not checked), fitted
   by `leaks::fit_pressure_decay`, with the same stored-air temperature as the bleed-down.
 
 # Accepted ranges
@@ -44,8 +46,9 @@ use serde::{Deserialize, Serialize};
 use super::analysis::uncertainty::{load_unload_relative_uncertainty, quad, Accuracy};
 use super::leaks;
 use super::levels::classify;
-use super::model::{CompressorSpec, StorageSpec};
+use super::model::{CompressorSpec, StorageSpec, WeeklySchedule};
 use super::series::{Frame, Signal};
+use super::states::State;
 use super::thermo::K_AIR;
 use super::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature, Volume};
 
@@ -115,6 +118,22 @@ pub struct FieldTestContext<'a> {
     pub storage: &'a StorageSpec,
     /// The logged data (needed by `idle_flow` and `pressure_decay`).
     pub frame: Option<&'a Frame>,
+    /// The site's production schedule and time zone (IANA; UTC if unknown): a `pressure_decay`
+    /// window may hold a compressor running unloaded only outside the schedule's production hours.
+    /// Without a schedule that is not checked (production detected from the demand needs the
+    /// whole log, not the window; the proposed decay events apply it).
+    pub production: Option<&'a WeeklySchedule>,
+    pub timezone: &'a str,
+}
+
+/// Whether the bin starting at `ms` lies in the schedule's production hours, local time.
+fn in_production(schedule: &WeeklySchedule, timezone: &str, ms: i64) -> bool {
+    let tz = jiff::tz::TimeZone::get(timezone).unwrap_or(jiff::tz::TimeZone::UTC);
+    let Ok(ts) = jiff::Timestamp::from_millisecond(ms) else { return false };
+    let local_s = ms.div_euclid(1000) + i64::from(tz.to_offset(ts).seconds());
+    // 1970-01-01 was a Thursday (Monday = 0 -> Thursday = 3).
+    let weekday = (local_s.div_euclid(86_400) + 3).rem_euclid(7) as usize;
+    schedule.hours[weekday][(local_s.rem_euclid(86_400) / 3600) as usize]
 }
 
 /// A test input that is well-formed but wrong (API 422).
@@ -538,15 +557,37 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                     Some(col) => {
                         let all = classify(c, &col.values);
                         let s = &all[bins.clone()];
+                        let at = |k: usize| {
+                            jiff::Timestamp::from_millisecond(frame.grid.bin_start_ms(bins.start + k))
+                                .map(|t| t.to_string())
+                                .unwrap_or_default()
+                        };
                         if let Some(k) = s.iter().position(|s| s.delivering()) {
-                            let t =
-                                jiff::Timestamp::from_millisecond(frame.grid.bin_start_ms(bins.start + k))
-                                    .map(|t| t.to_string())
-                                    .unwrap_or_default();
                             return Err(err(
                                 "start",
-                                format!("compressor {} delivers air at {t}: a pressure-decay window needs every compressor off or unloaded", c.tag),
+                                format!("compressor {} delivers air at {}: a pressure-decay window needs every compressor off or unloaded", c.tag, at(k)),
                             ));
+                        }
+                        if let Some(sched) = ctx.production {
+                            if let Some(k) = s.iter().enumerate().position(|(k, s)| {
+                                *s == State::Unloaded
+                                    && in_production(
+                                        sched,
+                                        ctx.timezone,
+                                        frame.grid.bin_start_ms(bins.start + k),
+                                    )
+                            }) {
+                                return Err(err(
+                                    "start",
+                                    format!(
+                                        "compressor {} runs unloaded at {} in a production hour: while production \
+                                         draws air the fall is the whole demand, not the leaks; choose a window \
+                                         with every compressor off, or outside production",
+                                        c.tag,
+                                        at(k)
+                                    ),
+                                ));
+                            }
                         }
                     }
                     None => unchecked.push(c.tag.clone()),

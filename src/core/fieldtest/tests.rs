@@ -1,7 +1,7 @@
 //! Tests of `core::fieldtest`, against the sources named beside each.
 
 use super::*;
-use crate::core::model::Control;
+use crate::core::model::{Control, WeeklySchedule};
 use crate::core::series::{FrameColumn, Grid};
 use crate::core::states::tests::spec;
 
@@ -25,7 +25,14 @@ fn bleed_down_matches_the_doe_worked_example() {
     let s = SiteAir::new(14.7 * 6.894_757_293_168, 20.0);
     let psi_in_bar = 6.894_757_293_168 / 100.0;
     let storage = StorageSpec::default();
-    let ctx = FieldTestContext { site: &s, compressors: &[], storage: &storage, frame: None };
+    let ctx = FieldTestContext {
+        site: &s,
+        compressors: &[],
+        storage: &storage,
+        frame: None,
+        production: None,
+        timezone: "UTC",
+    };
     let input: FieldTestInput = serde_json::from_str(&format!(
         r#"{{"kind": "bleed_down", "volume_m3": {}, "start_pressure_bar_g": {}, "end_pressure_bar_g": {}, "duration_s": 3600}}"#,
         5.0 * 0.028_316_846_592,
@@ -60,7 +67,14 @@ fn load_unload_7_5_of_30_min_is_25_percent() {
     let cs = vec![spec("C2", Control::LoadUnload, 55.0, 9.5)];
     let storage = StorageSpec::default();
     let s = site();
-    let ctx = FieldTestContext { site: &s, compressors: &cs, storage: &storage, frame: None };
+    let ctx = FieldTestContext {
+        site: &s,
+        compressors: &cs,
+        storage: &storage,
+        frame: None,
+        production: None,
+        timezone: "UTC",
+    };
     let input: FieldTestInput = serde_json::from_str(
         r#"{"kind": "load_unload", "compressor": "C2", "loaded_s": 450, "unloaded_s": 1350}"#,
     )
@@ -78,7 +92,14 @@ fn load_unload_7_5_of_30_min_is_25_percent() {
 fn bad_inputs_are_rejected_with_their_field() {
     let s = site();
     let storage = StorageSpec { receivers_m3: vec![2.0], other_volume_m3: 0.5 };
-    let ctx = FieldTestContext { site: &s, compressors: &[], storage: &storage, frame: None };
+    let ctx = FieldTestContext {
+        site: &s,
+        compressors: &[],
+        storage: &storage,
+        frame: None,
+        production: None,
+        timezone: "UTC",
+    };
     let bd = |p1: f64, p2: f64, t: f64| FieldTestInput::BleedDown {
         volume_m3: None,
         start_pressure_bar_g: p1,
@@ -142,7 +163,14 @@ fn pressure_decay_recovers_the_leak_of_an_exponential_fall() {
     let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
     let storage = StorageSpec { receivers_m3: vec![3.0], other_volume_m3: 0.0 };
     let frame = decay_frame(&s, 1200.0, 0.0, 0.0);
-    let ctx = FieldTestContext { site: &s, compressors: &cs, storage: &storage, frame: Some(&frame) };
+    let ctx = FieldTestContext {
+        site: &s,
+        compressors: &cs,
+        storage: &storage,
+        frame: Some(&frame),
+        production: None,
+        timezone: "UTC",
+    };
     let input = FieldTestInput::PressureDecay {
         start: "2026-03-02T00:00:00Z".into(),
         end: "2026-03-02T00:10:00Z".into(),
@@ -170,7 +198,14 @@ fn idle_flow_scales_to_the_production_pressure() {
     let s = site();
     let storage = StorageSpec::default();
     let frame = decay_frame(&s, 1e12, 1.2, 0.0); // tau huge: pressure flat at 7 bar(g)
-    let ctx = FieldTestContext { site: &s, compressors: &[], storage: &storage, frame: Some(&frame) };
+    let ctx = FieldTestContext {
+        site: &s,
+        compressors: &[],
+        storage: &storage,
+        frame: Some(&frame),
+        production: None,
+        timezone: "UTC",
+    };
     let input = FieldTestInput::IdleFlow {
         start: "2026-03-02T00:00:00Z".into(),
         end: "2026-03-02T00:30:00Z".into(),
@@ -195,7 +230,14 @@ fn load_unload_uncertainty_comes_from_the_tests_own_times() {
     let cs = vec![spec("C2", Control::LoadUnload, 55.0, 9.5)];
     let storage = StorageSpec::default();
     let s = site();
-    let ctx = FieldTestContext { site: &s, compressors: &cs, storage: &storage, frame: None };
+    let ctx = FieldTestContext {
+        site: &s,
+        compressors: &cs,
+        storage: &storage,
+        frame: None,
+        production: None,
+        timezone: "UTC",
+    };
     for (loaded, unloaded, rel) in [(40.0, 160.0, 0.064_81), (450.0, 1350.0, 0.050_12)] {
         let r = evaluate(
             &FieldTestInput::LoadUnload { compressor: "C2".into(), loaded_s: loaded, unloaded_s: unloaded },
@@ -215,7 +257,14 @@ fn a_fast_bleed_down_warns_and_warm_air_is_corrected() {
     // (ideal gas).
     let s = site();
     let storage = StorageSpec::default();
-    let ctx = FieldTestContext { site: &s, compressors: &[], storage: &storage, frame: None };
+    let ctx = FieldTestContext {
+        site: &s,
+        compressors: &[],
+        storage: &storage,
+        frame: None,
+        production: None,
+        timezone: "UTC",
+    };
     let bd = |t_air: Option<f64>| FieldTestInput::BleedDown {
         volume_m3: Some(3.0),
         start_pressure_bar_g: 7.0,
@@ -246,7 +295,14 @@ fn idle_flow_takes_off_the_purge_and_drains_before_the_pressure_correction() {
     let s = site();
     let storage = StorageSpec::default();
     let frame = decay_frame(&s, 1e12, 1.2, 0.0);
-    let ctx = FieldTestContext { site: &s, compressors: &[], storage: &storage, frame: Some(&frame) };
+    let ctx = FieldTestContext {
+        site: &s,
+        compressors: &[],
+        storage: &storage,
+        frame: Some(&frame),
+        production: None,
+        timezone: "UTC",
+    };
     let input = |purge: Option<f64>| FieldTestInput::IdleFlow {
         start: "2026-03-02T00:00:00Z".into(),
         end: "2026-03-02T00:30:00Z".into(),
@@ -274,4 +330,41 @@ fn results_stored_before_the_new_fields_still_read_back() {
     };
     assert_eq!(r.leak_flow_m3_min, 3.1);
     assert!(r.warnings.is_empty() && r.air_temperature_c.is_none());
+}
+
+#[test]
+fn an_unloaded_window_in_a_production_hour_is_refused() {
+    // Issue 18: while production draws air, a fall with a compressor unloaded is the whole demand.
+    // C1 loaded (55 kW) for the first half hour, then unloaded (13.75 kW) while the pressure falls;
+    // a window in the unloaded half is refused when the schedule makes Monday 00 h a production
+    // hour (2026-03-02 is a Monday) and accepted when it does not.
+    let s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let storage = StorageSpec { receivers_m3: vec![3.0], other_volume_m3: 0.0 };
+    let mut frame = decay_frame(&s, 1200.0, 0.0, 0.0);
+    frame.columns[2].values = (0..360).map(|i| if i < 180 { 55_000.0 } else { 13_750.0 }).collect();
+    let mut hours = [[false; 24]; 7];
+    hours[0][0] = true;
+    let busy = WeeklySchedule { hours };
+    let idle = WeeklySchedule { hours: [[false; 24]; 7] };
+    let input = FieldTestInput::PressureDecay {
+        start: "2026-03-02T00:31:00Z".into(),
+        end: "2026-03-02T00:50:00Z".into(),
+        volume_m3: None,
+        operating_pressure_bar_g: None,
+        air_temperature_c: None,
+    };
+    let ctx = |p| FieldTestContext {
+        site: &s,
+        compressors: &cs,
+        storage: &storage,
+        frame: Some(&frame),
+        production: p,
+        timezone: "UTC",
+    };
+    let e = evaluate(&input, &ctx(Some(&busy))).unwrap_err();
+    assert_eq!(e.field, "start");
+    assert!(e.message.contains("unloaded") && e.message.contains("production"), "{e}");
+    assert!(evaluate(&input, &ctx(Some(&idle))).is_ok());
+    assert!(evaluate(&input, &ctx(None)).is_ok());
 }
