@@ -65,12 +65,15 @@ impl AuditBundle {
         self.field_tests
             .iter()
             .filter_map(|t| {
-                let q = super::fieldtests::result_of(t)?.leak_flow_m3_min();
+                let r = super::fieldtests::result_of(t)?;
+                let q = r.leak_flow_m3_min();
                 // A flow that was not finite is stored as null: no estimate, as it always was.
                 q.is_finite().then(|| LeakEstimate {
                     test_id: t.id,
                     method: t.kind.clone(),
                     leak_flow_m3_min: q,
+                    relative_uncertainty: r.relative_uncertainty(),
+                    warnings: r.warnings().to_vec(),
                 })
             })
             .collect()

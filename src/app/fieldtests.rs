@@ -87,8 +87,15 @@ impl App {
         let site = b.audit.site.air();
         let specs = b.specs();
         let storage = b.storage();
-        let ctx =
-            FieldTestContext { site: &site, compressors: &specs, storage: &storage, frame: frame.as_deref() };
+        let site_spec = b.audit.site.to_spec();
+        let ctx = FieldTestContext {
+            site: &site,
+            compressors: &specs,
+            storage: &storage,
+            frame: frame.as_deref(),
+            production: site_spec.production.as_ref(),
+            timezone: &site_spec.timezone,
+        };
         let result = fieldtest::evaluate(&input, &ctx).map_err(test_error)?;
         let result = serde_json::to_value(&result).map_err(Error::internal)?;
         Ok((input.method(), result))
@@ -100,14 +107,13 @@ impl App {
         Ok(audits::delete_field_test(self.db(), audit_id, id).await?)
     }
 
-    /// Windows of pressure decay with every compressor off or unloaded, proposed as tests.
+    /// Windows of pressure decay with every compressor off, or off or unloaded outside production,
+    /// proposed as tests.
     pub async fn decay_events(&self, id: i64) -> Result<Vec<DecayEvent>> {
         let b = self.bundle(id).await?;
         let Some(frame) = self.frame_for(&b, None).await? else { return Ok(vec![]) };
-        let specs = b.specs();
+        let spec = analysis::DataSpec::of(&b.audit.site.to_spec(), &b.specs());
         let storage = b.storage();
-        let site = b.audit.site.air();
-        Ok(tokio::task::spawn_blocking(move || analysis::decay_events(&frame, &specs, &storage, &site))
-            .await?)
+        Ok(tokio::task::spawn_blocking(move || analysis::decay_events(&frame, &spec, &storage)).await?)
     }
 }

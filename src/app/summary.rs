@@ -238,6 +238,8 @@ impl App {
         let s = analysis::summary_of(
             &figures,
             &AuditInput {
+                // No treatment records (dryers, drains) are kept yet: nothing to subtract.
+                purge_and_drains_m3_min: 0.0,
                 site: &site,
                 compressors: &specs,
                 leak_estimates: b.leak_estimates(),
@@ -448,8 +450,13 @@ mod tests {
 
     #[test]
     fn the_no_data_answer_keeps_its_json() {
-        let estimates =
-            vec![LeakEstimate { test_id: 3, method: "bleed_down".into(), leak_flow_m3_min: 1.25 }];
+        let estimates = vec![LeakEstimate {
+            test_id: 3,
+            method: "bleed_down".into(),
+            leak_flow_m3_min: 1.25,
+            relative_uncertainty: None,
+            warnings: vec![],
+        }];
         // The shape the API and the cache have always had for an audit without readings.
         let before = serde_json::json!({
             "no_data": true,

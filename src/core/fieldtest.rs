@@ -6,14 +6,21 @@ Every result carries `leak_flow_m3_min`: the leak flow (free air) at the operati
 pressure, so estimates from different methods compare side by side, with `_low`/`_high` from the
 default instrument accuracies ([`Accuracy`]).
 
-- `bleed_down`: mean flow `V (p1 - p2) / (p_atm t)`, scaled to the operating pressure by
-  `p_op,abs / p_mean,abs` (choked leak flow is proportional to absolute pressure); the DOE rule of
-  thumb (× 1.25) beside it for comparison (US DOE compressed-air sourcebook, leaks fact sheet).
-- `load_unload`: `T / (T + t)` of the compressor's rated FAD (same source).
+- `bleed_down`: mean flow `V (p1 - p2) / (p_atm t) × T_inlet / T_air` (`air_temperature_c`, the
+  stored air's temperature, optional: the inlet's when blank), scaled to the operating pressure by
+  `p_op,abs / p_log-mean,abs` (choked leak flow is proportional to absolute pressure, so the decay is
+  exponential: `leaks::log_mean_pressure`); the DOE rule of thumb (× 1.25) beside it for comparison
+  (US DOE compressed-air sourcebook, leaks fact sheet). A test too fast to be near isothermal carries
+  a warning with the estimated overstatement (`leaks::non_isothermal_overstatement`, the rule there).
+- `load_unload`: `T / (T + t)` of the compressor's rated FAD (same source); its uncertainty from the
+  test's own times (`uncertainty::load_unload_relative_uncertainty`).
 - `idle_flow`: the mean logged flow in a window when nothing but leaks (and fixed users such as dryer
-  purge) draw air; scaled to the production pressure like the bleed-down when one is given.
-- `pressure_decay`: logged pressure falling while every logged compressor is off or unloaded, fitted
-  by `leaks::fit_pressure_decay`.
+  purge) draw air, less `purge_and_drains_m3_min` (the purge and drain air the auditor knows of,
+  default 0), scaled to the production pressure like the bleed-down when one is given.
+- `pressure_decay`: logged pressure falling while every logged compressor is off, or off or unloaded
+  outside the schedule's production hours (unloaded running in a production hour is refused: the fall
+  is then the whole demand; without a schedule it is not checked), fitted
+  by `leaks::fit_pressure_decay`, with the same stored-air temperature as the bleed-down.
 
 # Accepted ranges
 
@@ -27,6 +34,8 @@ Every number must be finite and lie in its range, else the test is refused namin
 | `loaded_s` | [`MIN_DURATION_S`] ..= [`MAX_DURATION_S`] | same timing as above |
 | `unloaded_s` | 0 ..= [`MAX_DURATION_S`] | 0 is a reading: the compressor never unloaded in the spell |
 | `volume_m3` (bleed-down, pressure decay; given or the system volume) | above 0 ..= [`MAX_VOLUME_M3`] (10 000 m³) | the system volume of the largest plants (common practice) |
+| `air_temperature_c` (bleed-down, pressure decay) | [`MIN_AIR_TEMPERATURE_C`] (-40 °C) ..= [`MAX_AIR_TEMPERATURE_C`] (120 °C) | stored air from a cold yard to just after an aftercooler-less discharge (common practice) |
+| `purge_and_drains_m3_min` (idle flow) | 0 ..= [`MAX_PURGE_M3_MIN`] (1 000 m³/min) | at most the largest plants' flow |
 
 Safety: these tests can hurt people. `core::safety::PRESSURE_TEST_CAUTIONS` are the cautions the
 pages show wherever a test is planned.
@@ -34,12 +43,14 @@ pages show wherever a test is planned.
 
 use serde::{Deserialize, Serialize};
 
-use super::analysis::uncertainty::{quad, Accuracy};
+use super::analysis::uncertainty::{load_unload_relative_uncertainty, quad, Accuracy};
 use super::leaks;
 use super::levels::classify;
-use super::model::{CompressorSpec, StorageSpec};
+use super::model::{CompressorSpec, StorageSpec, WeeklySchedule};
 use super::series::{Frame, Signal};
-use super::units::{FreeAirFlow, PressureAbs, SiteAir, Volume};
+use super::states::State;
+use super::thermo::K_AIR;
+use super::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature, Volume};
 
 /// A field test as the API receives it.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
@@ -55,6 +66,9 @@ pub enum FieldTestInput {
         /// Default: the start pressure.
         #[serde(default)]
         operating_pressure_bar_g: Option<f64>,
+        /// The stored air's temperature during the test; default the site's inlet temperature.
+        #[serde(default)]
+        air_temperature_c: Option<f64>,
     },
     LoadUnload {
         compressor: String,
@@ -66,6 +80,10 @@ pub enum FieldTestInput {
         end: String,
         #[serde(default)]
         production_pressure_bar_g: Option<f64>,
+        /// Free air of the fixed users known to draw in the window (dryer purge, timed drains),
+        /// m³/min, subtracted before the pressure correction; default 0.
+        #[serde(default)]
+        purge_and_drains_m3_min: Option<f64>,
     },
     PressureDecay {
         start: String,
@@ -75,6 +93,9 @@ pub enum FieldTestInput {
         /// Pressure to report `leak_flow_m3_min` at; default the start pressure of the fit.
         #[serde(default)]
         operating_pressure_bar_g: Option<f64>,
+        /// The stored air's temperature; default the site's inlet temperature.
+        #[serde(default)]
+        air_temperature_c: Option<f64>,
     },
 }
 
@@ -97,6 +118,22 @@ pub struct FieldTestContext<'a> {
     pub storage: &'a StorageSpec,
     /// The logged data (needed by `idle_flow` and `pressure_decay`).
     pub frame: Option<&'a Frame>,
+    /// The site's production schedule and time zone (IANA; UTC if unknown): a `pressure_decay`
+    /// window may hold a compressor running unloaded only outside the schedule's production hours.
+    /// Without a schedule that is not checked (production detected from the demand needs the
+    /// whole log, not the window; the proposed decay events apply it).
+    pub production: Option<&'a WeeklySchedule>,
+    pub timezone: &'a str,
+}
+
+/// Whether the bin starting at `ms` lies in the schedule's production hours, local time.
+fn in_production(schedule: &WeeklySchedule, timezone: &str, ms: i64) -> bool {
+    let tz = jiff::tz::TimeZone::get(timezone).unwrap_or(jiff::tz::TimeZone::UTC);
+    let Ok(ts) = jiff::Timestamp::from_millisecond(ms) else { return false };
+    let local_s = ms.div_euclid(1000) + i64::from(tz.to_offset(ts).seconds());
+    // 1970-01-01 was a Thursday (Monday = 0 -> Thursday = 3).
+    let weekday = (local_s.div_euclid(86_400) + 3).rem_euclid(7) as usize;
+    schedule.hours[weekday][(local_s.rem_euclid(86_400) / 3600) as usize]
 }
 
 /// A test input that is well-formed but wrong (API 422).
@@ -152,10 +189,26 @@ pub struct BleedDownOutcome {
     pub leak_flow_m3_min: f64,
     pub leak_flow_m3_min_low: f64,
     pub leak_flow_m3_min_high: f64,
-    pub mean_pressure_bar_g: f64,
+    /// Log-mean of the start and end pressures (absolute), as gauge; the mean flow is scaled from it.
+    /// Results stored before it was kept read back as 0 (they hold `mean_pressure_bar_g`, the
+    /// arithmetic mean they were scaled from).
+    #[serde(default)]
+    pub log_mean_pressure_bar_g: f64,
     pub operating_pressure_bar_g: f64,
     pub volume_m3: f64,
     pub volume_source: VolumeSource,
+    /// The stored air's temperature given with the test (`None`: the inlet's).
+    #[serde(default)]
+    pub air_temperature_c: Option<f64>,
+    /// Estimated thermal time constant of the stored air, s, and the overstatement of the leak flow
+    /// it implies for this test's duration (fraction; `leaks::non_isothermal_overstatement`).
+    #[serde(default)]
+    pub thermal_time_constant_s: Option<f64>,
+    #[serde(default)]
+    pub non_isothermal_overstatement: Option<f64>,
+    /// What a reader should know of this test (too fast to be near isothermal).
+    #[serde(default)]
+    pub warnings: Vec<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -179,6 +232,9 @@ pub struct IdleFlowOutcome {
     pub production_pressure_bar_g: Option<f64>,
     /// Share of the window's bins with flow logged.
     pub coverage: f64,
+    /// Purge and drain air subtracted from the mean flow before the pressure correction, m³/min.
+    #[serde(default)]
+    pub purge_and_drains_m3_min: f64,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -196,6 +252,9 @@ pub struct PressureDecayOutcome {
     pub volume_source: VolumeSource,
     /// Compressors without a logged power column: their state in the window could not be checked.
     pub unchecked_compressors: Vec<String>,
+    /// The stored air's temperature given with the test (`None`: the inlet's).
+    #[serde(default)]
+    pub air_temperature_c: Option<f64>,
 }
 
 /// A test's result, serialized flat (the API's `result` object).
@@ -218,6 +277,26 @@ impl FieldTestResult {
             Self::PressureDecay(r) => r.leak_flow_m3_min,
         }
     }
+
+    /// What the evaluation warned of (a bleed-down too fast to be near isothermal).
+    pub fn warnings(&self) -> &[String] {
+        match self {
+            Self::BleedDown(r) => &r.warnings,
+            _ => &[],
+        }
+    }
+
+    /// The relative uncertainty of the leak flow (one standard uncertainty) as evaluated with the
+    /// test's own inputs: `leak_flow_m3_min_high / leak_flow_m3_min - 1`; `None` for a zero flow.
+    pub fn relative_uncertainty(&self) -> Option<f64> {
+        let (q, hi) = match self {
+            Self::BleedDown(r) => (r.leak_flow_m3_min, r.leak_flow_m3_min_high),
+            Self::LoadUnload(r) => (r.leak_flow_m3_min, r.leak_flow_m3_min_high),
+            Self::IdleFlow(r) => (r.leak_flow_m3_min, r.leak_flow_m3_min_high),
+            Self::PressureDecay(r) => (r.leak_flow_m3_min, r.leak_flow_m3_min_high),
+        };
+        (q > 0.0 && hi.is_finite()).then(|| hi / q - 1.0)
+    }
 }
 
 /// Highest pressure a test may name, bar(g) (module doc table).
@@ -228,6 +307,21 @@ pub const MIN_DURATION_S: f64 = 1.0;
 pub const MAX_DURATION_S: f64 = 7.0 * 86_400.0;
 /// Largest system volume, m³ (module doc table).
 pub const MAX_VOLUME_M3: f64 = 10_000.0;
+/// Stored-air temperature range, °C (module doc table).
+pub const MIN_AIR_TEMPERATURE_C: f64 = -40.0;
+pub const MAX_AIR_TEMPERATURE_C: f64 = 120.0;
+/// Largest purge and drain flow, m³/min (module doc table).
+pub const MAX_PURGE_M3_MIN: f64 = 1_000.0;
+
+/// The stored air's temperature, checked (module doc table).
+fn air_temperature(given: Option<f64>) -> Result<Option<Temperature>, FieldError> {
+    given
+        .map(|c| {
+            within("air_temperature_c", c, MIN_AIR_TEMPERATURE_C, MAX_AIR_TEMPERATURE_C, "°C")
+                .map(Temperature::from_c)
+        })
+        .transpose()
+}
 
 /// `v` if finite and within `lo..=hi`, else the field's error.
 fn within(field: &str, v: f64, lo: f64, hi: f64, unit: &str) -> Result<f64, FieldError> {
@@ -310,6 +404,7 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             end_pressure_bar_g,
             duration_s,
             operating_pressure_bar_g,
+            air_temperature_c,
         } => {
             let p1 = pressure("start_pressure_bar_g", *start_pressure_bar_g, site)?;
             let p2 = pressure("end_pressure_bar_g", *end_pressure_bar_g, site)?;
@@ -325,11 +420,30 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             let op_g = operating_pressure_bar_g.unwrap_or(*start_pressure_bar_g);
             let op = pressure("operating_pressure_bar_g", op_g, site)?;
             let (v, src) = volume("volume_m3", *volume_m3, ctx.storage)?;
-            let r = leaks::bleed_down(Volume(v), p1, p2, *duration_s, op, site)?;
+            let t_air = air_temperature(*air_temperature_c)?;
+            let r = leaks::bleed_down(Volume(v), p1, p2, *duration_s, op, t_air, site)?;
             let q = r.leak_flow_at_operating_pressure.m3_min();
             let dp_rel = std::f64::consts::SQRT_2 * acc.pressure_abs_bar()
                 / (start_pressure_bar_g - end_pressure_bar_g);
             let (lo, hi) = band(q, quad(&[acc.volume_rel, dp_rel]));
+            let iso = r.isothermal;
+            let warnings = if iso.too_fast {
+                vec![format!(
+                    "test too short to be near isothermal: over {:.0} s the stored air cools as it \
+                     expands (thermal time constant about {:.0} s for this volume), so the leak flow \
+                     may be overstated by about {:.0} %; time a longer fall (over {:.0} min for this \
+                     volume) or read the pressure again after it settles",
+                    duration_s,
+                    iso.thermal_time_constant_s,
+                    100.0 * iso.overstatement,
+                    ((K_AIR - 1.0) / K_AIR * iso.thermal_time_constant_s
+                        / leaks::ISOTHERMAL_WARNING_FRACTION
+                        / 60.0)
+                        .ceil()
+                )]
+            } else {
+                Vec::new()
+            };
             Ok(FieldTestResult::BleedDown(BleedDownOutcome {
                 mean_leak_flow_m3_min: r.mean_leak_flow.m3_min(),
                 leak_flow_at_operating_pressure_m3_min: q,
@@ -337,10 +451,14 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                 leak_flow_m3_min: q,
                 leak_flow_m3_min_low: lo,
                 leak_flow_m3_min_high: hi,
-                mean_pressure_bar_g: 0.5 * (start_pressure_bar_g + end_pressure_bar_g),
+                log_mean_pressure_bar_g: r.log_mean_pressure.bar_g(atm),
                 operating_pressure_bar_g: op_g,
                 volume_m3: v,
                 volume_source: src,
+                air_temperature_c: *air_temperature_c,
+                thermal_time_constant_s: Some(iso.thermal_time_constant_s),
+                non_isothermal_overstatement: Some(iso.overstatement),
+                warnings,
             }))
         }
         FieldTestInput::LoadUnload { compressor, loaded_s, unloaded_s } => {
@@ -352,8 +470,7 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             let (f, q) =
                 leaks::load_unload(*loaded_s, *unloaded_s, FreeAirFlow::from_m3_min(c.rated_flow_m3_min))?;
             let q = q.m3_min();
-            let timing = 2.0 / loaded_s.min(unloaded_s.max(1.0));
-            let (lo, hi) = band(q, quad(&[0.05, timing]));
+            let (lo, hi) = band(q, load_unload_relative_uncertainty(*loaded_s, *unloaded_s));
             Ok(FieldTestResult::LoadUnload(LoadUnloadOutcome {
                 compressor: compressor.clone(),
                 leak_fraction: f,
@@ -363,7 +480,14 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                 rated_flow_m3_min: c.rated_flow_m3_min,
             }))
         }
-        FieldTestInput::IdleFlow { start, end, production_pressure_bar_g } => {
+        FieldTestInput::IdleFlow { start, end, production_pressure_bar_g, purge_and_drains_m3_min } => {
+            let purge = within(
+                "purge_and_drains_m3_min",
+                purge_and_drains_m3_min.unwrap_or(0.0),
+                0.0,
+                MAX_PURGE_M3_MIN,
+                "m3/min",
+            )?;
             let (frame, bins) = window(ctx.frame, start, end)?;
             let flow = frame.system_flow().ok_or_else(|| {
                 err(
@@ -383,7 +507,16 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                     c.values[bins.clone()].iter().filter(|v| v.is_finite()).map(|&v| v as f64).collect();
                 (!v.is_empty()).then(|| v.iter().sum::<f64>() / v.len() as f64)
             });
-            let mut q = mean_q;
+            if purge / 60.0 >= mean_q {
+                return Err(err(
+                    "purge_and_drains_m3_min",
+                    format!(
+                        "purge and drains {purge} m3/min are not below the mean flow in the window, {:.3} m3/min",
+                        mean_q * 60.0
+                    ),
+                ));
+            }
+            let mut q = mean_q - purge / 60.0;
             if let Some(pp) = production_pressure_bar_g {
                 let prod = pressure("production_pressure_bar_g", *pp, site)?;
                 let pm = mean_p.ok_or_else(|| {
@@ -400,9 +533,17 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                 mean_pressure_bar_g: mean_p.map(|p| PressureAbs(p).bar_g(atm)),
                 production_pressure_bar_g: *production_pressure_bar_g,
                 coverage: vals.len() as f64 / n as f64,
+                purge_and_drains_m3_min: purge,
             }))
         }
-        FieldTestInput::PressureDecay { start, end, volume_m3, operating_pressure_bar_g } => {
+        FieldTestInput::PressureDecay {
+            start,
+            end,
+            volume_m3,
+            operating_pressure_bar_g,
+            air_temperature_c,
+        } => {
+            let k_t = leaks::stored_air_factor(air_temperature(*air_temperature_c)?, site);
             let (frame, bins) = window(ctx.frame, start, end)?;
             let p =
                 frame.header_pressure().ok_or_else(|| err("start", "no pressure logged in this audit"))?;
@@ -416,15 +557,37 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                     Some(col) => {
                         let all = classify(c, &col.values);
                         let s = &all[bins.clone()];
+                        let at = |k: usize| {
+                            jiff::Timestamp::from_millisecond(frame.grid.bin_start_ms(bins.start + k))
+                                .map(|t| t.to_string())
+                                .unwrap_or_default()
+                        };
                         if let Some(k) = s.iter().position(|s| s.delivering()) {
-                            let t =
-                                jiff::Timestamp::from_millisecond(frame.grid.bin_start_ms(bins.start + k))
-                                    .map(|t| t.to_string())
-                                    .unwrap_or_default();
                             return Err(err(
                                 "start",
-                                format!("compressor {} delivers air at {t}: a pressure-decay window needs every compressor off or unloaded", c.tag),
+                                format!("compressor {} delivers air at {}: a pressure-decay window needs every compressor off or unloaded", c.tag, at(k)),
                             ));
+                        }
+                        if let Some(sched) = ctx.production {
+                            if let Some(k) = s.iter().enumerate().position(|(k, s)| {
+                                *s == State::Unloaded
+                                    && in_production(
+                                        sched,
+                                        ctx.timezone,
+                                        frame.grid.bin_start_ms(bins.start + k),
+                                    )
+                            }) {
+                                return Err(err(
+                                    "start",
+                                    format!(
+                                        "compressor {} runs unloaded at {} in a production hour: while production \
+                                         draws air the fall is the whole demand, not the leaks; choose a window \
+                                         with every compressor off, or outside production",
+                                        c.tag,
+                                        at(k)
+                                    ),
+                                ));
+                            }
                         }
                     }
                     None => unchecked.push(c.tag.clone()),
@@ -453,7 +616,7 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                 ));
             }
             let fit = leaks::fit_pressure_decay(&samples, Volume(v), site)?;
-            let q_start = fit.leak_flow_at_start.m3_min();
+            let q_start = fit.leak_flow_at_start.m3_min() * k_t;
             let start_g = fit.start_pressure.bar_g(atm);
             let op_g = operating_pressure_bar_g.unwrap_or(start_g);
             let op = pressure("operating_pressure_bar_g", op_g, site)?;
@@ -474,187 +637,11 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                 volume_m3: v,
                 volume_source: src,
                 unchecked_compressors: unchecked,
+                air_temperature_c: *air_temperature_c,
             }))
         }
     }
 }
 
-/// Gauge pressure in bar from Pa absolute (a helper for callers building frames in tests and demos).
 #[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::core::model::Control;
-    use crate::core::series::{FrameColumn, Grid};
-    use crate::core::states::tests::spec;
-
-    fn site() -> SiteAir {
-        SiteAir::new(101.325, 20.0)
-    }
-
-    /// A result reads back from its JSON as the same variant with the same figures, and writes the
-    /// same JSON again (the application stores results typed).
-    fn assert_json_round_trip(r: &FieldTestResult) {
-        let json = serde_json::to_value(r).unwrap();
-        let back: FieldTestResult = serde_json::from_value(json.clone()).unwrap();
-        assert_eq!(&back, r);
-        assert_eq!(serde_json::to_value(&back).unwrap(), json);
-    }
-
-    #[test]
-    fn bleed_down_matches_the_doe_worked_example() {
-        // US DOE compressed-air sourcebook, leaks fact sheet (worked bleed-down formula): V = 5 ft³, 100 -> 50 psig in 60 min -> 0.354 cfm
-        // with the 1.25 factor. The site is at 14.7 psia as the US formula assumes.
-        let s = SiteAir::new(14.7 * 6.894_757_293_168, 20.0);
-        let psi_in_bar = 6.894_757_293_168 / 100.0;
-        let storage = StorageSpec::default();
-        let ctx = FieldTestContext { site: &s, compressors: &[], storage: &storage, frame: None };
-        let input: FieldTestInput = serde_json::from_str(&format!(
-            r#"{{"kind": "bleed_down", "volume_m3": {}, "start_pressure_bar_g": {}, "end_pressure_bar_g": {}, "duration_s": 3600}}"#,
-            5.0 * 0.028_316_846_592,
-            100.0 * psi_in_bar,
-            50.0 * psi_in_bar
-        ))
-        .unwrap();
-        let FieldTestResult::BleedDown(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
-        let cfm = |m3_min: f64| m3_min * 35.314_666_7;
-        assert!((cfm(r.doe_rule_of_thumb_flow_m3_min) - 0.354).abs() < 0.001, "{r:?}");
-        // Mean flow 5 x 50 / (60 x 14.7) cfm; at the start pressure scaled by 114.7 / 89.7
-        // (choked leak flow proportional to absolute pressure).
-        let mean = 5.0 * 50.0 / (60.0 * 14.7);
-        assert!((cfm(r.mean_leak_flow_m3_min) - mean).abs() < 1e-4);
-        assert!((cfm(r.leak_flow_m3_min) - mean * 114.7 / 89.7).abs() < 1e-4);
-        assert!(r.leak_flow_m3_min_low < r.leak_flow_m3_min && r.leak_flow_m3_min < r.leak_flow_m3_min_high);
-        assert_json_round_trip(&FieldTestResult::BleedDown(r.clone()));
-        let json = serde_json::to_value(FieldTestResult::BleedDown(r)).unwrap();
-        assert_eq!(json["volume_source"], "given");
-        assert!(json.get("mean_leak_flow_m3_min").is_some());
-        assert!(json.get("leak_flow_at_operating_pressure_m3_min").is_some());
-    }
-
-    #[test]
-    fn load_unload_7_5_of_30_min_is_25_percent() {
-        // US DOE compressed-air sourcebook, leaks fact sheet: 7.5 min on-load in 30 min -> 25 % leakage.
-        let cs = vec![spec("C2", Control::LoadUnload, 55.0, 9.5)];
-        let storage = StorageSpec::default();
-        let s = site();
-        let ctx = FieldTestContext { site: &s, compressors: &cs, storage: &storage, frame: None };
-        let input: FieldTestInput = serde_json::from_str(
-            r#"{"kind": "load_unload", "compressor": "C2", "loaded_s": 450, "unloaded_s": 1350}"#,
-        )
-        .unwrap();
-        let r = evaluate(&input, &ctx).unwrap();
-        assert_json_round_trip(&r);
-        let json = serde_json::to_value(&r).unwrap();
-        assert!((json["leak_fraction"].as_f64().unwrap() - 0.25).abs() < 1e-12);
-        assert!((r.leak_flow_m3_min() - 0.25 * 9.5).abs() < 1e-12);
-        let bad = FieldTestInput::LoadUnload { compressor: "C9".into(), loaded_s: 40.0, unloaded_s: 160.0 };
-        assert_eq!(evaluate(&bad, &ctx).unwrap_err().field, "compressor");
-    }
-
-    #[test]
-    fn bad_inputs_are_rejected_with_their_field() {
-        let s = site();
-        let storage = StorageSpec { receivers_m3: vec![2.0], other_volume_m3: 0.5 };
-        let ctx = FieldTestContext { site: &s, compressors: &[], storage: &storage, frame: None };
-        let bd = |p1: f64, p2: f64, t: f64| FieldTestInput::BleedDown {
-            volume_m3: None,
-            start_pressure_bar_g: p1,
-            end_pressure_bar_g: p2,
-            duration_s: t,
-            operating_pressure_bar_g: None,
-        };
-        assert_eq!(evaluate(&bd(7.0, -1.5, 60.0), &ctx).unwrap_err().field, "end_pressure_bar_g");
-        assert_eq!(evaluate(&bd(5.0, 6.0, 60.0), &ctx).unwrap_err().field, "end_pressure_bar_g");
-        assert_eq!(evaluate(&bd(7.0, 5.0, 0.0), &ctx).unwrap_err().field, "duration_s");
-        // The default volume is the system volume, 2.5 m³.
-        let FieldTestResult::BleedDown(r) = evaluate(&bd(7.0, 5.5, 95.0), &ctx).unwrap() else { panic!() };
-        assert_eq!((r.volume_m3, r.volume_source), (2.5, VolumeSource::SystemVolume));
-        let w = FieldTestInput::IdleFlow {
-            start: "2026-03-02T06:00:00Z".into(),
-            end: "2026-03-02T05:00:00Z".into(),
-            production_pressure_bar_g: None,
-        };
-        assert_eq!(evaluate(&w, &ctx).unwrap_err().field, "end");
-        let w = FieldTestInput::IdleFlow {
-            start: "2026-03-02T04:00:00Z".into(),
-            end: "2026-03-02T05:00:00Z".into(),
-            production_pressure_bar_g: None,
-        };
-        assert_eq!(evaluate(&w, &ctx).unwrap_err().field, "start"); // no logged data
-    }
-
-    /// A frame 2026-03-02T00:00Z, 10 s bins, one hour: pressure decaying exponentially from 7 bar(g)
-    /// with time constant `tau_s`, a constant flow of `flow_m3_min`, and C1's power.
-    pub(crate) fn decay_frame(s: &SiteAir, tau_s: f64, flow_m3_min: f64, c1_kw: f32) -> Frame {
-        let start_ms = 1_772_409_600_000; // 2026-03-02T00:00:00Z
-        let grid = Grid { start_ms, step_ms: 10_000, len: 360 };
-        let p0 = PressureAbs::from_bar_g(7.0, s.atmosphere).0;
-        let pressure: Vec<f32> =
-            (0..360).map(|i| (p0 * (-(i as f64 * 10.0 + 5.0) / tau_s).exp()) as f32).collect();
-        let col = |signal, compressor, values| FrameColumn {
-            signal,
-            compressor,
-            label: String::new(),
-            values,
-            partial: vec![],
-        };
-        Frame {
-            grid,
-            columns: vec![
-                col(Signal::Pressure, None, pressure),
-                col(Signal::Flow, None, vec![(flow_m3_min / 60.0) as f32; 360]),
-                col(Signal::Power, Some(0), vec![c1_kw * 1000.0; 360]),
-            ],
-        }
-    }
-
-    #[test]
-    fn pressure_decay_recovers_the_leak_of_an_exponential_fall() {
-        // Choked leaks flow in proportion to absolute pressure (ideal-gas choked flow), so p = p0 e^(-t/tau)
-        // and Q_FAD = V p / (p_atm tau): at 7 bar(g), V = 3 m³, tau = 1200 s -> 3 x 8.01325 / 1200 m³/s.
-        let s = site();
-        let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
-        let storage = StorageSpec { receivers_m3: vec![3.0], other_volume_m3: 0.0 };
-        let frame = decay_frame(&s, 1200.0, 0.0, 0.0);
-        let ctx = FieldTestContext { site: &s, compressors: &cs, storage: &storage, frame: Some(&frame) };
-        let input = FieldTestInput::PressureDecay {
-            start: "2026-03-02T00:00:00Z".into(),
-            end: "2026-03-02T00:10:00Z".into(),
-            volume_m3: None,
-            operating_pressure_bar_g: None,
-        };
-        let FieldTestResult::PressureDecay(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
-        let p_start = PressureAbs::from_bar_g(7.0, s.atmosphere).0 * (-5.0f64 / 1200.0).exp();
-        let expect = 3.0 * p_start / (s.atmosphere.0 * 1200.0) * 60.0;
-        assert!((r.leak_flow_at_start_pressure_m3_min - expect).abs() / expect < 1e-3, "{r:?}");
-        assert!(r.fit_r2 > 0.999);
-        assert!(r.unchecked_compressors.is_empty());
-        assert_json_round_trip(&FieldTestResult::PressureDecay(r.clone()));
-        // The same window with C1 loaded is refused.
-        let frame = decay_frame(&s, 1200.0, 0.0, 55.0);
-        let ctx = FieldTestContext { frame: Some(&frame), ..ctx };
-        assert_eq!(evaluate(&input, &ctx).unwrap_err().field, "start");
-    }
-
-    #[test]
-    fn idle_flow_scales_to_the_production_pressure() {
-        // Choked leaks scale with absolute pressure (ideal-gas choked flow): a flat 1.2 m³/min at the logged
-        // mean pressure, reported at 7 bar(g).
-        let s = site();
-        let storage = StorageSpec::default();
-        let frame = decay_frame(&s, 1e12, 1.2, 0.0); // tau huge: pressure flat at 7 bar(g)
-        let ctx = FieldTestContext { site: &s, compressors: &[], storage: &storage, frame: Some(&frame) };
-        let input = FieldTestInput::IdleFlow {
-            start: "2026-03-02T00:00:00Z".into(),
-            end: "2026-03-02T00:30:00Z".into(),
-            production_pressure_bar_g: Some(6.0),
-        };
-        let FieldTestResult::IdleFlow(r) = evaluate(&input, &ctx).unwrap() else { panic!() };
-        assert!((r.mean_flow_m3_min - 1.2).abs() < 1e-6);
-        assert_json_round_trip(&FieldTestResult::IdleFlow(r.clone()));
-        let expect =
-            1.2 * PressureAbs::from_bar_g(6.0, s.atmosphere).0 / PressureAbs::from_bar_g(7.0, s.atmosphere).0;
-        assert!((r.leak_flow_m3_min - expect).abs() < 1e-5, "{r:?}");
-        assert_eq!(r.coverage, 1.0);
-    }
-}
+mod tests;

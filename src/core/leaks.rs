@@ -5,11 +5,13 @@ orifice, and the fit of a pressure decay found in the logs.
 
 The physics that ties them together: a leak is a small orifice, and at shop pressures its flow is
 choked, so its mass flow (and its free-air flow) is proportional to the absolute pressure upstream.
-That is why a bleed-down's mean flow is scaled to the operating pressure by p_operating,abs /
-p_mean,abs rather than by the DOE's fixed 1.25, and why a decay with every compressor off is an
-exponential in time. The assumptions: the air in the system stays at the inlet temperature
-(isothermal, slow tests), and the leaks stay choked (upstream above about 1.9 times the atmosphere,
-i.e. above about 0.9 bar(g) at sea level).
+That is why a decay with every compressor off is an exponential in time, and why a bleed-down's
+mean flow is scaled to the operating pressure by p_operating,abs / p_log-mean,abs (the log-mean of
+the start and end pressures, [`log_mean_pressure`]) rather than by the DOE's fixed 1.25 or the
+arithmetic mean. The assumptions: the stored air keeps one temperature (the inlet's, or the
+`air_temperature_c` given, [`stored_air_factor`]) through the test (isothermal: slow tests; a fast
+one is flagged by [`non_isothermal_overstatement`]), and the leaks stay choked (upstream above about
+1.9 times the atmosphere, i.e. above about 0.9 bar(g) at sea level).
 
 Safety: a bleed-down or decay test means isolating compressors and holding a pressurised system; see
 `core::safety::PRESSURE_TEST_CAUTIONS`.
@@ -72,25 +74,106 @@ pub fn scale_leak_flow(flow: FreeAirFlow, measured_at: PressureAbs, to: Pressure
 /// Result of a bleed-down test.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct BleedDownResult {
-    /// Mean leak flow over the test, V (p1 - p2) / (p_atm t).
+    /// Mean leak flow over the test, V (p1 - p2) / (p_atm t) × T_inlet / T_air (free air).
     pub mean_leak_flow: FreeAirFlow,
-    /// The mean scaled to the operating pressure by p_operating,abs / p_mean,abs.
+    /// The leak flow at the operating pressure: the mean × p_operating,abs / p_log-mean,abs.
     pub leak_flow_at_operating_pressure: FreeAirFlow,
-    /// The mean times the DOE's 1.25, shown beside the physical scaling for comparison.
+    /// The DOE formula as printed, V (p1 - p2) / (p_atm t) × 1.25, beside the physical scaling for
+    /// comparison (no temperature correction).
     pub doe_rule_of_thumb_flow: FreeAirFlow,
+    /// Log-mean absolute pressure of the test, (p1 - p2) / ln(p1 / p2).
+    pub log_mean_pressure: PressureAbs,
+    /// T_inlet / T_air: the stored air's mass per volume relative to free air at the inlet (1 when
+    /// the stored air's temperature is not given).
+    pub temperature_factor: f64,
+    /// The estimate of how far the test was from isothermal ([`non_isothermal_overstatement`]).
+    pub isothermal: IsothermalCheck,
+}
+
+/// Log-mean absolute pressure of a decay from `p1` to `p2` (both absolute, p1 > p2 > 0):
+/// (p1 - p2) / ln(p1 / p2). With choked leaks (Q = c p) the decay is exponential and the leak
+/// coefficient is c = V ln(p1 / p2) / (p_atm t), so the leak flow at any pressure p is the mean flow
+/// V (p1 - p2) / (p_atm t) × p / p_log-mean. The arithmetic mean is always above it (2.7 % for
+/// 100 -> 50 psig, 7.9 % for 7 -> 2 bar(g) at sea level), so scaling by it understates the leak.
+pub fn log_mean_pressure(p1: PressureAbs, p2: PressureAbs) -> PressureAbs {
+    let r = p1.0 / p2.0;
+    if (r - 1.0).abs() < 1e-9 {
+        return PressureAbs(0.5 * (p1.0 + p2.0));
+    }
+    PressureAbs((p1.0 - p2.0) / r.ln())
+}
+
+/// T_inlet / T_air: stored air warmer than the inlet holds less mass per volume (ideal gas, m = pV /
+/// (R T)), so the free air that leaked while the pressure fell by dp is V dp / p_atm × T_inlet / T_air.
+/// `None` (not measured): the stored air is taken at the inlet temperature, factor 1.
+pub fn stored_air_factor(air_temperature: Option<Temperature>, site: &SiteAir) -> f64 {
+    air_temperature.map_or(1.0, |t| site.inlet_temperature.0 / t.0)
+}
+
+/// Heat-transfer coefficient between the stored air and the vessel's wall, W/(m² K): natural
+/// convection of a gas in a closed vessel, of the order of a few W/(m² K) (textbook order of
+/// magnitude, from memory). A low value: it makes the thermal time constant long, so the warning
+/// errs on the side of warning.
+pub const VESSEL_HEAT_TRANSFER_W_M2_K: f64 = 5.0;
+/// Overstatement of the leak flow above which a bleed-down is flagged as too fast to be near
+/// isothermal (our choice: the size of the test's other uncertainties).
+pub const ISOTHERMAL_WARNING_FRACTION: f64 = 0.05;
+
+/// How far a bleed-down was from isothermal.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct IsothermalCheck {
+    /// Thermal time constant of the stored air, m c_p / (h A), s.
+    pub thermal_time_constant_s: f64,
+    /// Estimated overstatement of the leak flow, a fraction (0.05 = 5 %).
+    pub overstatement: f64,
+    /// The overstatement is above [`ISOTHERMAL_WARNING_FRACTION`].
+    pub too_fast: bool,
+}
+
+/// The rule for a bleed-down too fast to be near isothermal (our first-order model, stated on the
+/// page). Air that flows out expands, and the air left behind cools unless the wall warms it; the
+/// wall does so with the thermal time constant tau_th = m c_p / (h A). After a start-up transient the
+/// air settles at a deficit dT / T = (k - 1) / k × tau_th / tau (tau the decay's time constant), so the
+/// pressure falls by that share more than the mass does: the leak read from the pressure is
+/// overstated by about (k - 1) / k × tau_th / t, capped at k - 1 (a fully adiabatic test, dp / p = k
+/// dm / m). tau_th is estimated for the whole volume as one receiver, a cylinder twice as long as
+/// wide, with m at the start pressure and h = [`VESSEL_HEAT_TRANSFER_W_M2_K`]; pipework exchanges
+/// heat faster, so this is an upper estimate. Flagged when the overstatement exceeds
+/// [`ISOTHERMAL_WARNING_FRACTION`]: for 3 m³ at 7 bar(g) (tau_th about 8 min) a test under about
+/// 45 min.
+pub fn non_isothermal_overstatement(
+    volume: Volume,
+    p_start: PressureAbs,
+    duration_s: f64,
+    air_temperature: Temperature,
+) -> IsothermalCheck {
+    // Cylinder with L = 2 D: V = pi D^3 / 2, A = pi D L + 2 pi D^2 / 4 = 2.5 pi D^2.
+    let d = (2.0 * volume.0 / std::f64::consts::PI).cbrt();
+    let area = 2.5 * std::f64::consts::PI * d * d;
+    let mass = p_start.0 * volume.0 / (R_AIR * air_temperature.0);
+    let cp = K_AIR / (K_AIR - 1.0) * R_AIR;
+    let tau_th = mass * cp / (VESSEL_HEAT_TRANSFER_W_M2_K * area);
+    let overstatement = ((K_AIR - 1.0) / K_AIR * tau_th / duration_s).min(K_AIR - 1.0);
+    IsothermalCheck {
+        thermal_time_constant_s: tau_th,
+        overstatement,
+        too_fast: overstatement > ISOTHERMAL_WARNING_FRACTION,
+    }
 }
 
 /// Bleed-down test (DOE sourcebook, leaks fact sheet): with the compressors off and no production,
 /// the header falls from `p_start` to `p_end` in `duration_s`. Mean free-air leak flow
-/// Q = V (p1 - p2) / (p_atm t); at `operating` pressure it is scaled by p_operating,abs /
-/// p_mean,abs, p_mean the mean of start and end (choked leaks flow in proportion to absolute
-/// pressure).
+/// Q = V (p1 - p2) / (p_atm t) × T_inlet / T_air ([`stored_air_factor`]); at `operating` pressure it
+/// is scaled by p_operating,abs / p_log-mean,abs ([`log_mean_pressure`]: choked leaks flow in
+/// proportion to absolute pressure, so the decay is exponential). `air_temperature` is the stored
+/// air's, `None` for the inlet's.
 pub fn bleed_down(
     volume: Volume,
     p_start: PressureAbs,
     p_end: PressureAbs,
     duration_s: f64,
     operating: PressureAbs,
+    air_temperature: Option<Temperature>,
     site: &SiteAir,
 ) -> Result<BleedDownResult, LeakError> {
     if !positive(volume.0) {
@@ -102,22 +185,36 @@ pub fn bleed_down(
     check_absolute(p_start, "start_pressure_bar_g", site)?;
     check_absolute(p_end, "end_pressure_bar_g", site)?;
     check_absolute(operating, "operating_pressure_bar_g", site)?;
-    if p_end.0 >= p_start.0 {
+    if let Some(t) = air_temperature {
+        if !positive(t.0) {
+            return Err(LeakError::new(
+                "air_temperature_c",
+                format!("temperature must be above absolute zero, got {} °C", t.c()),
+            ));
+        }
+    }
+    if p_end.0 >= p_start.0 || p_end.0 <= 0.0 {
         return Err(LeakError::new(
             "end_pressure_bar_g",
             format!(
-                "end pressure {:.3} bar(g) must be below the start pressure {:.3} bar(g)",
+                "end pressure {:.3} bar(g) must be below the start pressure {:.3} bar(g) and above zero absolute",
                 p_end.bar_g(site.atmosphere),
                 p_start.bar_g(site.atmosphere)
             ),
         ));
     }
-    let mean = volume.0 * (p_start.0 - p_end.0) / (site.atmosphere.0 * duration_s);
-    let p_mean = PressureAbs(0.5 * (p_start.0 + p_end.0));
+    let k_t = stored_air_factor(air_temperature, site);
+    let raw = volume.0 * (p_start.0 - p_end.0) / (site.atmosphere.0 * duration_s);
+    let mean = raw * k_t;
+    let p_lm = log_mean_pressure(p_start, p_end);
+    let t_air = air_temperature.unwrap_or(site.inlet_temperature);
     Ok(BleedDownResult {
         mean_leak_flow: FreeAirFlow(mean),
-        leak_flow_at_operating_pressure: scale_leak_flow(FreeAirFlow(mean), p_mean, operating),
-        doe_rule_of_thumb_flow: FreeAirFlow(mean * DOE_BLEED_DOWN_FACTOR),
+        leak_flow_at_operating_pressure: scale_leak_flow(FreeAirFlow(mean), p_lm, operating),
+        doe_rule_of_thumb_flow: FreeAirFlow(raw * DOE_BLEED_DOWN_FACTOR),
+        log_mean_pressure: p_lm,
+        temperature_factor: k_t,
+        isothermal: non_isothermal_overstatement(volume, p_start, duration_s, t_air),
     })
 }
 
@@ -359,283 +456,4 @@ impl LeakShareBand {
 }
 
 #[cfg(test)]
-mod tests {
-    use super::*;
-    use std::f64::consts::PI;
-
-    fn fixture() -> serde_json::Value {
-        serde_json::from_str(include_str!("../../tests/reference/fixture.json")).unwrap()
-    }
-
-    /// A reference value from the fixture written by tests/reference/make_reference.py.
-    fn reference(name: &str) -> f64 {
-        fixture()["values"][name]["value"].as_f64().unwrap_or_else(|| panic!("fixture has no value {name}"))
-    }
-
-    fn input(name: &str, key: &str) -> f64 {
-        fixture()["values"][name]["inputs"][key].as_f64().unwrap()
-    }
-
-    fn rel(a: f64, b: f64) -> f64 {
-        ((a - b) / b).abs()
-    }
-
-    const INCH_M: f64 = 0.0254;
-
-    /// The US table's site: free air at 14.7 psia and 20 °C.
-    fn us_site() -> SiteAir {
-        SiteAir {
-            atmosphere: PressureAbs::from_psig(14.7, PressureAbs(0.0)),
-            inlet_temperature: Temperature::from_c(20.0),
-        }
-    }
-
-    #[test]
-    fn bleed_down_matches_the_doe_worked_check() {
-        // US DOE compressed-air sourcebook, leaks fact sheet (bleed-down formula): V = 5 ft³, 100 -> 50 psig in 60 min, at
-        // 14.7 psia: 5 x 50 / (60 x 14.7) x 1.25 = 0.354 cfm.
-        let site = us_site();
-        let atm = site.atmosphere;
-        let r = bleed_down(
-            Volume::from_ft3(5.0),
-            PressureAbs::from_psig(100.0, atm),
-            PressureAbs::from_psig(50.0, atm),
-            3600.0,
-            PressureAbs::from_psig(100.0, atm),
-            &site,
-        )
-        .unwrap();
-        assert!((r.doe_rule_of_thumb_flow.cfm() - 0.354).abs() < 0.0005);
-        // fixture: pint 0.25.3 evaluation of the DOE formula.
-        assert!(rel(r.doe_rule_of_thumb_flow.cfm(), reference("leaks.doe_bleed_down_cfm")) < 1e-9);
-        // Choked leak flow is proportional to absolute pressure: for 100 -> 50 psig the physical scaling is 1.28 (114.7 / 89.7 = 1.2787).
-        let scale = r.leak_flow_at_operating_pressure.0 / r.mean_leak_flow.0;
-        assert!((scale - 1.28).abs() < 0.005);
-    }
-
-    #[test]
-    fn a_narrow_bleed_down_scales_by_only_1_05() {
-        // Choked leak flow is proportional to absolute pressure: 100 -> 90 psig scales by 1.05 (114.7 / 109.7 = 1.0456), not 1.25.
-        let site = us_site();
-        let atm = site.atmosphere;
-        let p100 = PressureAbs::from_psig(100.0, atm);
-        let r = bleed_down(Volume(1.0), p100, PressureAbs::from_psig(90.0, atm), 60.0, p100, &site).unwrap();
-        let scale = r.leak_flow_at_operating_pressure.0 / r.mean_leak_flow.0;
-        assert!((scale - 1.05).abs() < 0.005);
-    }
-
-    #[test]
-    fn idle_flow_scales_to_production_pressure_with_absolute_pressure() {
-        // Choked leak flow is proportional to absolute pressure: correct idle flow to production pressure like the bleed-down. By hand:
-        // 1.0 m³/min at 5 bar(g) (601.325 kPa) is 1.0 x 801.325 / 601.325 = 1.3326 at 7 bar(g).
-        let atm = PressureAbs::from_kpa_abs(101.325);
-        let q = scale_leak_flow(
-            FreeAirFlow::from_m3_min(1.0),
-            PressureAbs::from_bar_g(5.0, atm),
-            PressureAbs::from_bar_g(7.0, atm),
-        );
-        assert!((q.m3_min() - 801.325 / 601.325).abs() < 1e-12);
-    }
-
-    #[test]
-    fn si_bleed_down_matches_pint() {
-        // API.md example: 3 m³, 7.0 -> 5.5 bar(g) in 95 s at 101.325 kPa.
-        // fixture: pint 0.25.3, V dp / (p_atm t) = 2.805 m³/min.
-        let name = "leaks.si_bleed_down_mean_m3_min";
-        let site = SiteAir::new(input(name, "atm_kpa_abs"), 20.0);
-        let atm = site.atmosphere;
-        let start = PressureAbs::from_bar_g(input(name, "start_bar_g"), atm);
-        let r = bleed_down(
-            Volume(input(name, "volume_m3")),
-            start,
-            PressureAbs::from_bar_g(input(name, "end_bar_g"), atm),
-            input(name, "duration_s"),
-            start,
-            &site,
-        )
-        .unwrap();
-        assert!(rel(r.mean_leak_flow.m3_min(), reference(name)) < 1e-9);
-        // By hand: scaled to 7 bar(g) by 801.325 / 726.325.
-        let expected = reference(name) * 801.325 / 726.325;
-        assert!(rel(r.leak_flow_at_operating_pressure.m3_min(), expected) < 1e-9);
-    }
-
-    #[test]
-    fn bleed_down_refuses_bad_inputs_by_field() {
-        let site = SiteAir::new(101.325, 20.0);
-        let atm = site.atmosphere;
-        let p7 = PressureAbs::from_bar_g(7.0, atm);
-        let p5 = PressureAbs::from_bar_g(5.0, atm);
-        let f = |v: f64, a: PressureAbs, b: PressureAbs, t: f64| {
-            bleed_down(Volume(v), a, b, t, p7, &site).unwrap_err().field
-        };
-        assert_eq!(f(3.0, p5, p7, 60.0), "end_pressure_bar_g");
-        assert_eq!(f(3.0, p7, p7, 60.0), "end_pressure_bar_g");
-        assert_eq!(f(3.0, p7, p5, 0.0), "duration_s");
-        assert_eq!(f(0.0, p7, p5, 60.0), "volume_m3");
-        assert_eq!(f(3.0, PressureAbs(-1.0), p5, 60.0), "start_pressure_bar_g");
-        assert_eq!(f(3.0, p7, PressureAbs(-1.0), 60.0), "end_pressure_bar_g");
-    }
-
-    #[test]
-    fn load_unload_matches_the_doe_example() {
-        // US DOE compressed-air sourcebook, leaks fact sheet: 7.5 min on-load in a 30 min cycle -> 25 % leakage.
-        let rated = FreeAirFlow::from_m3_min(9.5);
-        let (fraction, flow) = load_unload(7.5 * 60.0, 22.5 * 60.0, rated).unwrap();
-        assert!((fraction - 0.25).abs() < 1e-12);
-        assert!((flow.m3_min() - 2.375).abs() < 1e-12);
-        // API.md example: 40 s loaded, 160 s unloaded -> 0.2.
-        assert!((load_unload(40.0, 160.0, rated).unwrap().0 - 0.2).abs() < 1e-12);
-        assert_eq!(load_unload(-1.0, 10.0, rated).unwrap_err().field, "loaded_s");
-        assert_eq!(load_unload(10.0, f64::NAN, rated).unwrap_err().field, "unloaded_s");
-        assert_eq!(load_unload(0.0, 0.0, rated).unwrap_err().field, "loaded_s");
-    }
-
-    #[test]
-    fn orifice_flow_reproduces_the_published_table() {
-        // The published "discharge of air through an orifice" table (as quoted in the US DOE
-        // compressed-air sourcebook's leaks fact sheet, from memory),
-        // coefficient 1.0, free air at 14.7 psia, reproduced with T0 = 20 °C: within 1 %.
-        let site = us_site();
-        let atm = site.atmosphere;
-        let t0 = Temperature::from_c(20.0);
-        let p100 = PressureAbs::from_psig(100.0, atm);
-        for (d_in, cfm) in
-            [(1.0 / 64.0, 0.406), (1.0 / 32.0, 1.625), (1.0 / 16.0, 6.502), (0.125, 26.01), (0.25, 104.0)]
-        {
-            let q = orifice_leak(d_in * INCH_M, p100, t0, 1.0, &site).unwrap();
-            assert!(rel(q.cfm(), cfm) < 0.01, "{d_in} in: {} cfm", q.cfm());
-        }
-        // The same orifice table: at 70 psig a 1/16" hole gives 4.79 cfm.
-        let p70 = PressureAbs::from_psig(70.0, atm);
-        let q70 = orifice_leak(INCH_M / 16.0, p70, t0, 1.0, &site).unwrap();
-        assert!(rel(q70.cfm(), 4.79) < 0.01, "{}", q70.cfm());
-    }
-
-    #[test]
-    fn orifice_mass_flow_matches_fluids_api520() {
-        // fixture: fluids 1.3.1 API520_A_g (Kd 1) inverted for the mass flow. Its critical branch
-        // is the same ideal nozzle equation (agreement to 1e-4, its constants are given to 4
-        // digits); its subcritical branch uses a rounded coefficient form (agreement to 0.5 %).
-        for (name, tolerance) in [
-            ("orifice.api520_choked_100psig_1_16in_kg_s", 1e-4),
-            ("orifice.api520_choked_70psig_1_16in_kg_s", 1e-4),
-            ("orifice.api520_choked_100psig_1_4in_kg_s", 1e-4),
-            ("orifice.api520_subsonic_5psig_1_8in_kg_s", 5e-3),
-        ] {
-            let d = input(name, "diameter_m");
-            let m = orifice_mass_flow_kg_s(
-                PI / 4.0 * d * d,
-                PressureAbs(input(name, "upstream_pa_abs")),
-                Temperature(input(name, "t0_k")),
-                PressureAbs(input(name, "back_pressure_pa_abs")),
-                1.0,
-            );
-            assert!(rel(m, reference(name)) < tolerance, "{name}: {m} vs {}", reference(name));
-        }
-    }
-
-    #[test]
-    fn orifice_flow_is_continuous_at_the_critical_ratio() {
-        // The choked and subsonic branches meet at x = 0.5283 (textbook gas dynamics).
-        assert!((critical_pressure_ratio() - 0.528_28).abs() < 1e-5);
-        let t0 = Temperature(293.15);
-        let back = PressureAbs(100_000.0);
-        let p_crit = back.0 / critical_pressure_ratio();
-        let below = orifice_mass_flow_kg_s(1e-6, PressureAbs(p_crit * (1.0 - 1e-9)), t0, back, 1.0);
-        let above = orifice_mass_flow_kg_s(1e-6, PressureAbs(p_crit * (1.0 + 1e-9)), t0, back, 1.0);
-        assert!(rel(below, above) < 1e-6);
-        // No flow without a pressure difference, and subsonic flow rises with pressure.
-        assert_eq!(orifice_mass_flow_kg_s(1e-6, back, t0, back, 1.0), 0.0);
-        let m1 = orifice_mass_flow_kg_s(1e-6, PressureAbs(120_000.0), t0, back, 1.0);
-        let m2 = orifice_mass_flow_kg_s(1e-6, PressureAbs(150_000.0), t0, back, 1.0);
-        assert!(0.0 < m1 && m1 < m2);
-    }
-
-    #[test]
-    fn orifice_flow_scales_with_the_discharge_coefficient_and_refuses_bad_inputs() {
-        // API.md example: 1.6 mm at 6.9 bar(g), Cd 0.61, at 101.325 kPa and 20 °C.
-        let site = SiteAir::new(101.325, 20.0);
-        let p = PressureAbs::from_bar_g(6.9, site.atmosphere);
-        let t0 = Temperature::from_c(20.0);
-        let ideal = orifice_leak(1.6e-3, p, t0, 1.0, &site).unwrap();
-        let sharp = orifice_leak(1.6e-3, p, t0, 0.61, &site).unwrap();
-        assert!(rel(sharp.0, 0.61 * ideal.0) < 1e-12);
-        // By hand (choked): 0.61 x 2.0106e-6 m² x 791 325 Pa x 4.0792e-3 x 0.57870 = 2.2911e-3
-        // kg/s; x 287 x 293.15 / 101 325 = 1.9024e-3 m³/s = 0.1141 m³/min.
-        assert!((sharp.m3_min() - 0.1141).abs() < 0.0005, "{}", sharp.m3_min());
-        let err = |d: f64, p: PressureAbs, cd: f64| orifice_leak(d, p, t0, cd, &site).unwrap_err().field;
-        assert_eq!(err(0.0, p, 0.61), "diameter_mm");
-        assert_eq!(err(1e-3, PressureAbs(50_000.0), 0.61), "pressure_bar_g");
-        assert_eq!(err(1e-3, p, 0.0), "discharge_coefficient");
-        assert_eq!(err(1e-3, p, 1.2), "discharge_coefficient");
-    }
-
-    /// An exponential decay with leak coefficient `c`, as the model of [`fit_pressure_decay`]
-    /// predicts it.
-    fn synthetic_decay(c: f64, v: f64, site: &SiteAir, noise_pa: f64) -> Vec<(f64, PressureAbs)> {
-        let p0 = PressureAbs::from_bar_g(7.0, site.atmosphere).0;
-        // A fixed linear congruential sequence: deterministic "noise" in [-1, 1).
-        let mut state: u64 = 0x2545_f491_4f6c_dd1d;
-        (0..=120)
-            .map(|i| {
-                state = state.wrapping_mul(6_364_136_223_846_793_005).wrapping_add(1_442_695_040_888_963_407);
-                let u = (state >> 11) as f64 / (1u64 << 53) as f64 * 2.0 - 1.0;
-                let t = f64::from(i) * 5.0;
-                (t, PressureAbs(p0 * (-c * site.atmosphere.0 * t / v).exp() + noise_pa * u))
-            })
-            .collect()
-    }
-
-    #[test]
-    fn decay_fit_recovers_a_known_leak_coefficient() {
-        let site = SiteAir::new(101.325, 20.0);
-        let v = 3.0;
-        // c chosen so that 1 m³/min free air leaks at 7 bar(g).
-        let p0 = PressureAbs::from_bar_g(7.0, site.atmosphere);
-        let c = (1.0 / 60.0) / p0.0;
-        let fit = fit_pressure_decay(&synthetic_decay(c, v, &site, 0.0), Volume(v), &site).unwrap();
-        assert!(rel(fit.leak_coefficient_m3_s_per_pa, c) < 1e-6);
-        assert!((fit.leak_flow_at_start.m3_min() - 1.0).abs() < 1e-6);
-        assert!((fit.fit_r2 - 1.0).abs() < 1e-9);
-        assert!((fit.duration_s - 600.0).abs() < 1e-12);
-        assert!(fit.end_pressure.0 < fit.start_pressure.0);
-    }
-
-    #[test]
-    fn decay_fit_tolerates_logger_noise() {
-        // ±2 kPa of noise (a 0.25 % class 10 bar transmitter) on the same decay: c within 1 %.
-        let site = SiteAir::new(101.325, 20.0);
-        let v = 3.0;
-        let c = (1.0 / 60.0) / PressureAbs::from_bar_g(7.0, site.atmosphere).0;
-        let fit = fit_pressure_decay(&synthetic_decay(c, v, &site, 2_000.0), Volume(v), &site).unwrap();
-        assert!(rel(fit.leak_coefficient_m3_s_per_pa, c) < 0.01, "{}", fit.leak_coefficient_m3_s_per_pa / c);
-        assert!(fit.fit_r2 > 0.99 && fit.fit_r2 < 1.0);
-    }
-
-    #[test]
-    fn decay_fit_refuses_short_rising_or_unordered_windows() {
-        let site = SiteAir::new(101.325, 20.0);
-        let p = |bar_g: f64| PressureAbs::from_bar_g(bar_g, site.atmosphere);
-        let v = Volume(3.0);
-        let two = [(0.0, p(7.0)), (10.0, p(6.9))];
-        assert_eq!(fit_pressure_decay(&two, v, &site).unwrap_err().field, "start");
-        let rising = [(0.0, p(6.0)), (10.0, p(6.5)), (20.0, p(7.0))];
-        assert_eq!(fit_pressure_decay(&rising, v, &site).unwrap_err().field, "end");
-        let unordered = [(0.0, p(7.0)), (20.0, p(6.9)), (10.0, p(6.8))];
-        assert_eq!(fit_pressure_decay(&unordered, v, &site).unwrap_err().field, "start");
-        let falling = [(0.0, p(7.0)), (10.0, p(6.9)), (20.0, p(6.8))];
-        assert_eq!(fit_pressure_decay(&falling, Volume(0.0), &site).unwrap_err().field, "volume_m3");
-    }
-
-    #[test]
-    fn leak_share_bands_follow_the_doe_benchmarks() {
-        // US DOE compressed-air sourcebook, leaks fact sheet: well maintained < 10 %, poorly maintained 20-30 %.
-        assert_eq!(leak_share_band(0.05), LeakShareBand::WellMaintained);
-        assert_eq!(leak_share_band(0.10), LeakShareBand::Moderate);
-        assert_eq!(leak_share_band(0.20), LeakShareBand::Moderate);
-        assert_eq!(leak_share_band(0.25), LeakShareBand::PoorlyMaintained);
-        assert!(LeakShareBand::WellMaintained.describe().contains("10 %"));
-        assert!(LeakShareBand::PoorlyMaintained.describe().contains("20-30 %"));
-    }
-}
+mod tests;

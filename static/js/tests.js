@@ -66,7 +66,7 @@
       const r = await A.json(base + "/decay-events");
       if (!r.events.length) { box.replaceChildren(A.el("p", { class: "muted" }, "No decay events found in the logs.")); return; }
       const t = A.el("table", { class: "data" }, A.el("thead", {}, A.el("tr", {},
-        ...["Start", "End", "Pressure", "Duration", "Proposed leak flow", "Fit r\u00b2", ""].map((h) => A.el("th", {}, h)))));
+        ...["Start", "End", "Pressure", "Duration", "Compressors", "Proposed leak flow", "Fit r\u00b2", ""].map((h) => A.el("th", {}, h)))));
       const tb = A.el("tbody");
       for (const ev of r.events) {
         const accept = A.el("button", { type: "button" }, "accept as test");
@@ -76,7 +76,9 @@
         tb.append(A.el("tr", {}, A.el("td", {}, start), A.el("td", {}, end),
           A.el("td", {}, ev.start_pressure_bar_g.toFixed(2) + " \u2192 " + ev.end_pressure_bar_g.toFixed(2) + " bar(g)"),
           A.el("td", { class: "num" }, (ev.duration_s / 60).toFixed(1) + " min"),
-          A.el("td", { class: "num" }, ev.leak_flow_at_start_pressure_m3_min.toFixed(2) + " m\u00b3/min free air"),
+          A.el("td", {}, ev.all_off ? "all off" : "off or unloaded, outside production"),
+          A.el("td", { class: "num" }, ev.leak_flow_at_start_pressure_m3_min === null
+            ? "waits for the system volume" : ev.leak_flow_at_start_pressure_m3_min.toFixed(2) + " m\u00b3/min free air"),
           A.el("td", { class: "num" }, ev.fit_r2.toFixed(3)), A.el("td", {}, accept)));
       }
       t.append(tb);

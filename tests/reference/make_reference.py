@@ -291,6 +291,65 @@ put(
     {"volume_m3": 3.0, "start_bar_g": 7.0, "end_bar_g": 5.5, "duration_s": 95.0, "atm_kpa_abs": 101.325},
 )
 
+# ---------------------------------------------------------------- leaks.rs: bleed-down by the log-mean pressure
+# A bleed-down of choked leaks (free-air flow c p_abs) in an isothermal volume V: V dp/dt = -p_atm c p.
+# Integrated numerically (scipy solve_ivp, RK45, tight tolerances, with an event at the end pressure)
+# rather than by the closed form, so the test checks the log-mean scaling against the decay itself:
+# the "true" leak flow at the operating pressure is c p_op; the test's inputs are V, p1, p2 and the
+# integrated duration.
+from scipy.integrate import solve_ivp
+
+
+def integrated_bleed_down(volume_m3, p1, p2, p_atm, c):
+    def rhs(_t, y):
+        return [-p_atm * c * y[0] / volume_m3]
+
+    def reach_end(_t, y):
+        return y[0] - p2
+
+    reach_end.terminal = True
+    reach_end.direction = -1
+    sol = solve_ivp(rhs, (0.0, 1e7), [p1], method="RK45", rtol=1e-12, atol=1e-6, events=reach_end)
+    return float(sol.t_events[0][0])
+
+
+psi_pa = Q_(1.0, "psi").to("Pa").magnitude
+for label, volume_m3, p_atm, p1, p2, q_start_m3_min in [
+    # The DOE sourcebook's bleed-down case (5 ft3, 100 -> 50 psig, 14.7 psia); c set so 0.4 cfm leaks at 100 psig.
+    ("doe_100_50_psig", Q_(5.0, "ft^3").to("m^3").magnitude, 14.7 * psi_pa, 114.7 * psi_pa, 64.7 * psi_pa,
+     Q_(0.4, "ft^3/min").to("m^3/min").magnitude),
+    # A wide SI test: 3 m3, 7 -> 2 bar(g) at 101.325 kPa, 1 m3/min free air at 7 bar(g).
+    ("si_7_2_bar_g", 3.0, 101325.0, 801325.0, 301325.0, 1.0),
+]:
+    c = q_start_m3_min / 60.0 / p1  # m3/s free air per Pa absolute
+    t = integrated_bleed_down(volume_m3, p1, p2, p_atm, c)
+    put(
+        f"leaks.log_mean_{label}_duration_s",
+        t,
+        "s",
+        f"scipy {scipy.__version__} solve_ivp (RK45, rtol 1e-12) of V dp/dt = -p_atm c p to the end pressure",
+        {"volume_m3": volume_m3, "atm_pa": p_atm, "start_pa_abs": p1, "end_pa_abs": p2, "c_m3_s_per_pa": c,
+         "leak_at_start_m3_min": q_start_m3_min},
+        note="the leak flow at the start (operating) pressure is c x start_pa_abs = leak_at_start_m3_min",
+    )
+
+# ---------------------------------------------------------------- leaks.rs: idle flow to production pressure
+# Non-production flow is leaks through orifices; at another header pressure a choked orifice passes a
+# mass flow proportional to its absolute upstream pressure. fluids' API 520 gas sizing (ideal nozzle,
+# Kd = 1), inverted for the mass flow, at the non-production and production pressures: the ratio is
+# what the summary's correction must reproduce. 2 mm, 20 C, 101.325 kPa.
+for label, p_np_bar_g, p_prod_bar_g in [("5_5_to_7_bar_g", 5.5, 7.0), ("6_8_to_6_2_bar_g", 6.8, 6.2)]:
+    area = math.pi / 4.0 * 0.002**2
+    m_np = api520_mass_flow(area, p_np_bar_g * 1e5 + P_ATM, 293.15, P_ATM)
+    m_prod = api520_mass_flow(area, p_prod_bar_g * 1e5 + P_ATM, 293.15, P_ATM)
+    put(
+        f"leaks.orifice_flow_ratio_{label}",
+        m_prod / m_np,
+        "1",
+        f"{FLUIDS} fluids.safety_valve.API520_A_g inverted (scipy brentq) at both pressures: m(p_prod) / m(p_nonprod)",
+        {"diameter_m": 0.002, "nonproduction_bar_g": p_np_bar_g, "production_bar_g": p_prod_bar_g, "atm_pa": P_ATM, "t0_k": 293.15},
+    )
+
 # ---------------------------------------------------------------- thermo.rs: a data sheet at another pressure
 # A data-sheet machine: 55 kW package input at full load and 7.5 bar(g) (an invented data sheet), at
 # a sea-level site (101325 Pa, 20 C inlet). Its full-load power at 6.5, 7.5 and 8.5 bar(g), corrected

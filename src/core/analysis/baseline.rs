@@ -4,8 +4,15 @@ The baseline: the logged figures annualised and priced.
 - **Annualisation**: if `operating_hours_per_year` is set, mean × those hours; else, for a log of at
   least a week, the logged weekly pattern (mean of each weekday-hour cell; a cell never logged takes the
   overall mean) repeated over `operating_weeks_per_year`; for a shorter log, the mean × 168 h ×
-  weeks. Annual cost = energy × price + demand charge × peak 15-min kW × 12 (US DOE compressed-air
-  tip sheet 1, annual energy cost).
+  weeks. A log's length is counted on the site's clock, so a week over a daylight-saving change (167
+  or 169 h elapsed) is a whole week. Annual cost = energy × price + demand charge × peak 15-min kW × 12
+  (US DOE compressed-air tip sheet 1, annual energy cost).
+- **Ranges**: annual energy carries the meters' uncertainty and the extrapolation's, in quadrature
+  (JCGM 100:2008, uncorrelated inputs). The extrapolation's: with two or more whole weeks logged, the
+  standard error of their mean power, s / (mean √N) (a Type A evaluation, GUM 4.2; the logged weeks
+  taken as a sample of the operating year's); with one week, [`ONE_WEEK_EXTRAPOLATION_REL`]; with less,
+  [`PART_WEEK_EXTRAPOLATION_REL`] (our stated defaults, module constants). The annual cost carries the
+  same on its energy part and the meters' on the demand charge.
 */
 
 use crate::core::model::SiteSpec;
@@ -15,8 +22,40 @@ use crate::core::units::M3_PER_FT3;
 use super::calendar::{Calendar, NO_CELL};
 use super::figures::{Baseline, Method};
 use super::machines::Logged;
-use super::uncertainty::band;
+use super::uncertainty::{band, quad};
 use super::{method, DataFigures};
+
+/// Relative standard uncertainty of a year extrapolated from one logged week: 10 %. Our stated
+/// default, not a published figure: the week-to-week and seasonal swing of a plant's compressed-air
+/// energy (order books, holidays, heating and cooling of the plant) is commonly of this order (from
+/// memory); logging several weeks replaces it with their measured spread.
+pub const ONE_WEEK_EXTRAPOLATION_REL: f64 = 0.10;
+/// The same for a log shorter than a week (weekdays unseen): 20 %, our stated default.
+pub const PART_WEEK_EXTRAPOLATION_REL: f64 = 0.20;
+
+/// The extrapolation's relative uncertainty from the mean power of each whole logged week, and its
+/// words (module doc).
+pub(super) fn extrapolation(weekly_mean_kw: &[f64], local_hours: f64) -> (f64, String) {
+    let n = weekly_mean_kw.len();
+    if n >= 2 {
+        let mean = weekly_mean_kw.iter().sum::<f64>() / n as f64;
+        let var = weekly_mean_kw.iter().map(|w| (w - mean).powi(2)).sum::<f64>() / (n - 1) as f64;
+        let u = if mean > 0.0 { var.sqrt() / (mean * (n as f64).sqrt()) } else { 0.0 };
+        (u, format!("the spread of the {n} whole weeks logged: s / (mean √{n}) = ±{:.1} %", 100.0 * u))
+    } else if n == 1 || local_hours >= 167.0 {
+        let u = ONE_WEEK_EXTRAPOLATION_REL;
+        (u, format!("one week logged: a stated default of ±{:.0} % for the weeks not logged", 100.0 * u))
+    } else {
+        let u = PART_WEEK_EXTRAPOLATION_REL;
+        (
+            u,
+            format!(
+                "less than a week logged: a stated default of ±{:.0} % for the time not logged",
+                100.0 * u
+            ),
+        )
+    }
+}
 
 /// How logged means become annual figures (module doc).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -112,11 +151,16 @@ pub(super) struct Annual {
     pub kwh: f64,
     /// Hours a year with some compressor running (every hour without states).
     pub running_hours: f64,
+    /// Relative standard uncertainty of extrapolating the log to the year, and its words.
+    pub extrapolation_rel: f64,
+    pub extrapolation_text: String,
+    pub weeks_logged: usize,
 }
 
 /// Annual figures.
 pub(super) fn annual(site: &SiteSpec, d: &DataFigures) -> Annual {
-    let (rule, rule_text) = annual_rule(site, d.period.hours);
+    let (rule, rule_text) = annual_rule(site, d.local_hours);
+    let (extrapolation_rel, extrapolation_text) = extrapolation(&d.weekly_mean_kw, d.local_hours);
     let annual_kwh_c: Vec<f64> =
         d.power_cells.iter().map(|c| c.as_ref().map_or(0.0, |c| c.annual(rule) / 1000.0)).collect();
     let annual_kwh: f64 = annual_kwh_c.iter().sum();
@@ -127,6 +171,9 @@ pub(super) fn annual(site: &SiteSpec, d: &DataFigures) -> Annual {
         per_compressor_kwh: annual_kwh_c,
         kwh: annual_kwh,
         running_hours: annual_running_hours,
+        extrapolation_rel,
+        extrapolation_text,
+        weeks_logged: d.weekly_mean_kw.len(),
     }
 }
 
@@ -151,7 +198,8 @@ pub(super) fn methods(a: &Annual) -> [Method; 3] {
     ]
 }
 
-/// The baseline: annual energy, cost and CO₂, with ± one combined uncertainty of power `u_power`.
+/// The baseline: annual energy, cost and CO₂, with ± one combined uncertainty of the meters (power,
+/// `u_power`) and of the extrapolation (module doc).
 /// Without a peak (`None`) the demand charge, and with it the annual cost, is known only when the
 /// site has no demand charge.
 pub(super) fn baseline(
@@ -167,8 +215,12 @@ pub(super) fn baseline(
     let demand_charge = if rate == 0.0 { Some(0.0) } else { peak_kw.map(|p| rate * p * 12.0) };
     let annual_cost = demand_charge.map(|d| energy_cost + d);
     let cost_per_1000_m3 = sp.map(|s| s / 60.0 * 1000.0 * site.electricity_price_per_kwh);
-    let (ae_lo, ae_hi) = band(annual_kwh, u_power);
-    let ac_band = annual_cost.map(|c| band(c, u_power));
+    let u_energy = quad(&[u_power, a.extrapolation_rel]);
+    let (ae_lo, ae_hi) = band(annual_kwh, u_energy);
+    let ac_band = demand_charge.zip(annual_cost).map(|(dc, c)| {
+        let u = (energy_cost * u_energy).hypot(dc * u_power);
+        (c - u, c + u)
+    });
     Baseline {
         rule: a.rule_text.clone(),
         annual_hours: a.rule.hours(),
@@ -176,6 +228,10 @@ pub(super) fn baseline(
         annual_energy_kwh: Some(annual_kwh),
         annual_energy_kwh_low: Some(ae_lo),
         annual_energy_kwh_high: Some(ae_hi),
+        meter_relative_uncertainty: u_power,
+        extrapolation_relative_uncertainty: a.extrapolation_rel,
+        extrapolation_rule: a.extrapolation_text.clone(),
+        weeks_logged: a.weeks_logged,
         annual_energy_cost: Some(energy_cost),
         annual_demand_charge: demand_charge,
         annual_cost,

@@ -1,22 +1,28 @@
 /*!
-Decay events: stretches of the logs where the header pressure falls with every logged compressor off
-or unloaded, bleed-down tests that happened anyway, proposed to the auditor as `pressure_decay` field
-tests (choked leak flow proportional to absolute pressure, US DOE compressed-air sourcebook, leaks
-fact sheet; fitted by `leaks::fit_pressure_decay`).
+Decay events: stretches of the logs where the header pressure falls with every logged compressor off,
+or, outside production hours, with every logged compressor off or unloaded: bleed-down tests that
+happened anyway, proposed to the auditor as `pressure_decay` field tests (choked leak flow proportional
+to absolute pressure, US DOE compressed-air sourcebook, leaks fact sheet; fitted by
+`leaks::fit_pressure_decay`). An unloaded stretch during production is not proposed: while
+production draws air, the fall is the whole demand, not the leaks. Production hours are the summary's
+(`production`: the site's schedule, else detected from the demand). Without a system volume on
+record the events are still proposed, with their fit and without a flow (`null`: the flow waits for
+the volume).
 */
 
 use serde::{Deserialize, Serialize};
 
 use crate::core::leaks::fit_pressure_decay;
-use crate::core::levels;
-use crate::core::model::{CompressorSpec, StorageSpec};
+use crate::core::model::StorageSpec;
 use crate::core::series::Frame;
 use crate::core::states::State;
-use crate::core::units::{PressureAbs, SiteAir, Volume};
+use crate::core::units::{PressureAbs, Volume};
 
-use super::calendar::ts_string;
+use super::calendar::{calendar, ts_string};
+use super::{machines, production, specific_power, DataSpec};
 
-/// A stretch of the logs where pressure decays with every logged compressor off or unloaded.
+/// A stretch of the logs where pressure decays with every logged compressor off, or outside
+/// production with every logged compressor off or unloaded.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct DecayEvent {
     pub start_ms: i64,
@@ -26,9 +32,14 @@ pub struct DecayEvent {
     pub start_pressure_bar_g: f64,
     pub end_pressure_bar_g: f64,
     pub duration_s: f64,
-    /// Every logged compressor off (not merely unloaded).
+    /// Every logged compressor off (not merely unloaded) throughout.
     pub all_off: bool,
-    pub leak_flow_at_start_pressure_m3_min: f64,
+    /// Every bin outside production hours.
+    pub outside_production: bool,
+    /// The system volume the flow was computed with, m³ (`None`: none on record).
+    pub volume_m3: Option<f64>,
+    /// Leak flow at the start pressure, m³/min free air; `None` until a system volume is on record.
+    pub leak_flow_at_start_pressure_m3_min: Option<f64>,
     pub fit_r2: f64,
 }
 
@@ -42,28 +53,39 @@ pub const DECAY_NOISE_BAR: f64 = 0.02;
 /// At most this many events are proposed (the longest).
 pub const DECAY_MAX_EVENTS: usize = 100;
 
-/// Decay windows proposed as `pressure_decay` tests: runs of bins where every compressor with a
-/// power column is off or unloaded (at least one must be logged) and the header pressure falls,
-/// allowing rises of [`DECAY_NOISE_BAR`]; at least [`DECAY_MIN_DURATION_S`] long and
-/// [`DECAY_MIN_FALL_BAR`] deep; fitted with `leaks::fit_pressure_decay`. Longest first.
-pub fn decay_events(
-    frame: &Frame,
-    compressors: &[CompressorSpec],
-    storage: &StorageSpec,
-    site: &SiteAir,
-) -> Vec<DecayEvent> {
+/// Decay windows proposed as `pressure_decay` tests: runs of bins where the header pressure falls
+/// and every compressor with a power column (at least one must have one) is off, or, in a bin
+/// outside production, off or unloaded; falls allowing rises of [`DECAY_NOISE_BAR`], at least
+/// [`DECAY_MIN_DURATION_S`] long and [`DECAY_MIN_FALL_BAR`] deep, fitted with
+/// `leaks::fit_pressure_decay` (the flow only with a system volume on record). Longest first.
+pub fn decay_events(frame: &Frame, spec: &DataSpec, storage: &StorageSpec) -> Vec<DecayEvent> {
     let grid = frame.grid;
+    let site = &spec.air;
     let Some(p) = frame.header_pressure() else { return Vec::new() };
     let p = &p.values;
-    let st: Vec<Vec<State>> = compressors
-        .iter()
-        .enumerate()
-        .filter_map(|(i, c)| frame.power_of(i).map(|col| levels::classify(c, &col.values)))
-        .collect();
-    if st.is_empty() || storage.system_volume_m3() <= 0.0 {
+    let logged = machines::logged(frame, &spec.compressors);
+    let st: Vec<&Vec<State>> = logged.states.iter().flatten().collect();
+    if st.is_empty() {
         return Vec::new();
     }
-    let ok = |k: usize| p[k].is_finite() && st.iter().all(|s| matches!(s[k], State::Off | State::Unloaded));
+    let cal = calendar(&grid, &spec.timezone);
+    let flow = specific_power::system_flow(frame, &logged);
+    let is_prod = production::production(
+        spec.production.as_ref(),
+        &cal,
+        flow.values.as_deref(),
+        logged.total_power.as_deref(),
+        None,
+        grid.len,
+    )
+    .is_prod;
+    let volume = Some(storage.system_volume_m3()).filter(|v| *v > 0.0 && v.is_finite());
+    let all_off = |k: usize| st.iter().all(|s| s[k] == State::Off);
+    let ok = |k: usize| {
+        p[k].is_finite()
+            && (all_off(k)
+                || (!is_prod[k] && st.iter().all(|s| matches!(s[k], State::Off | State::Unloaded))))
+    };
     let noise = DECAY_NOISE_BAR * 1e5;
     let mut events = Vec::new();
     let mut k = 0;
@@ -90,7 +112,8 @@ pub fn decay_events(
             let samples: Vec<(f64, PressureAbs)> = (start..=end)
                 .map(|i| ((i - start) as f64 * grid.step_s(), PressureAbs(p[i] as f64)))
                 .collect();
-            if let Ok(fit) = fit_pressure_decay(&samples, Volume(storage.system_volume_m3()), site) {
+            // The fit's shape (r², the pressures) needs no volume; its flow scales with it.
+            if let Ok(fit) = fit_pressure_decay(&samples, Volume(volume.unwrap_or(1.0)), site) {
                 let (s_ms, e_ms) = (grid.bin_start_ms(start), grid.bin_start_ms(end));
                 events.push(DecayEvent {
                     start_ms: s_ms,
@@ -100,8 +123,10 @@ pub fn decay_events(
                     start_pressure_bar_g: fit.start_pressure.bar_g(site.atmosphere),
                     end_pressure_bar_g: fit.end_pressure.bar_g(site.atmosphere),
                     duration_s: dur,
-                    all_off: (start..=end).all(|i| st.iter().all(|s| s[i] == State::Off)),
-                    leak_flow_at_start_pressure_m3_min: fit.leak_flow_at_start.m3_min(),
+                    all_off: (start..=end).all(all_off),
+                    outside_production: (start..=end).all(|i| !is_prod[i]),
+                    volume_m3: volume,
+                    leak_flow_at_start_pressure_m3_min: volume.map(|_| fit.leak_flow_at_start.m3_min()),
                     fit_r2: fit.fit_r2,
                 });
             }

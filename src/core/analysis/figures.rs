@@ -214,6 +214,13 @@ pub struct Baseline {
     pub annual_energy_kwh: Option<f64>,
     pub annual_energy_kwh_low: Option<f64>,
     pub annual_energy_kwh_high: Option<f64>,
+    /// The relative standard uncertainties the range combines: the meters' (power) and the
+    /// extrapolation's from the logged weeks to the year (`baseline` module doc), with its words and
+    /// the whole weeks logged (on the site's clock).
+    pub meter_relative_uncertainty: f64,
+    pub extrapolation_relative_uncertainty: f64,
+    pub extrapolation_rule: String,
+    pub weeks_logged: usize,
     pub annual_energy_cost: Option<f64>,
     pub annual_demand_charge: Option<f64>,
     pub annual_cost: Option<f64>,
@@ -239,9 +246,30 @@ pub struct LeakEstimateFigure {
     pub estimated: bool,
 }
 
+/// The flow out of production read as leaks: what was logged, what was taken off and the pressure
+/// correction (`analysis::leaks`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct NonProductionLeak {
+    /// Mean logged flow out of production, m³/min free air.
+    pub mean_flow_m3_min: f64,
+    /// Purge and drain air on record, subtracted, m³/min free air.
+    pub purge_and_drains_m3_min: f64,
+    /// Mean header pressure out of production and in production, bar(g) (`None`: not logged).
+    pub mean_pressure_bar_g: Option<f64>,
+    pub production_pressure_bar_g: Option<f64>,
+    /// Corrected to the production pressure (`false`: no pressure logged in or out of production,
+    /// or the non-production pressure too low for choked leaks).
+    pub pressure_corrected: bool,
+    /// The leak flow at the production pressure, m³/min free air (`None`: purge and drains take the
+    /// whole flow).
+    pub leak_flow_m3_min: Option<f64>,
+}
+
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct LeakFigures {
     pub estimates: Vec<LeakEstimateFigure>,
+    /// The non-production flow and its corrections (`None`: no flow out of production).
+    pub non_production: Option<NonProductionLeak>,
     pub adopted_leak_flow_m3_min: Option<f64>,
     pub adopted_leak_flow_m3_min_low: Option<f64>,
     pub adopted_leak_flow_m3_min_high: Option<f64>,

@@ -22,9 +22,16 @@ fn col(signal: Signal, compressor: Option<usize>, values: Vec<f32>) -> FrameColu
 fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame) -> Summary {
     let (costs, acc) = (CostOverrides::default(), Accuracy::default());
     let input = AuditInput {
+        purge_and_drains_m3_min: 0.0,
         site: s,
         compressors: cs,
-        leak_estimates: vec![LeakEstimate { test_id: 1, method: "bleed_down".into(), leak_flow_m3_min: 1.0 }],
+        leak_estimates: vec![LeakEstimate {
+            test_id: 1,
+            method: "bleed_down".into(),
+            leak_flow_m3_min: 1.0,
+            relative_uncertainty: None,
+            warnings: vec![],
+        }],
         costs: &costs,
         scenarios: &[],
         accuracy: &acc,

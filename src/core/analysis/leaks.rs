@@ -1,14 +1,21 @@
 /*!
 Leaks: all estimates side by side; the adopted figure is the median of the field tests; without tests,
-the mean flow in non-production hours (an upper bound: fixed users such as dryer purge are in it). Leak
+the flow in non-production hours read as leaks: its mean, less the purge and drain air on record
+(`AuditInput::purge_and_drains_m3_min`, 0 until treatment records are kept: then an upper bound, as
+any other fixed user is in it), corrected to the production pressure by p_production,abs /
+p_non-production,abs (choked leak flow is proportional to absolute upstream pressure; the mean header
+pressures in and out of production; not corrected when either is not logged, or when the
+non-production pressure is below 1 / `leaks::critical_pressure_ratio()` = 1.893 × the atmosphere,
+where leaks are no longer choked). Leak
 energy is priced at the **marginal** specific power of the trim machine, not the plant's average (US
 DOE compressed-air sourcebook, leaks fact sheet); the share of demand is banded by the same source's
 benchmarks (`leaks::leak_share_band`).
 */
 
-use crate::core::leaks::leak_share_band;
+use crate::core::leaks::{critical_pressure_ratio, leak_share_band};
+use crate::core::units::PressureAbs;
 
-use super::figures::{LeakEstimateFigure, LeakFigures};
+use super::figures::{LeakEstimateFigure, LeakFigures, NonProductionLeak};
 use super::stats::percentile;
 use super::uncertainty::{band, default_relative_uncertainty, quad, Accuracy};
 use super::LeakEstimate;
@@ -21,6 +28,12 @@ pub(super) struct LeakContext<'a> {
     pub mean_flow: f64,
     pub q_prod: Option<f64>,
     pub q_nonprod: Option<f64>,
+    /// Mean header pressure in and out of production, Pa absolute.
+    pub p_prod: Option<f64>,
+    pub p_nonprod: Option<f64>,
+    pub atmosphere_pa: f64,
+    /// Purge and drain air on record, m³/min (`AuditInput::purge_and_drains_m3_min`).
+    pub purge_and_drains_m3_min: f64,
     pub production_share: f64,
     pub flow_estimated: bool,
     /// Relative uncertainty of the flow.
@@ -31,13 +44,41 @@ pub(super) struct LeakContext<'a> {
     pub electricity_price_per_kwh: f64,
 }
 
+/// The non-production flow read as leaks (module doc).
+fn non_production_leak(x: &LeakContext) -> Option<NonProductionLeak> {
+    let q = x.q_nonprod.filter(|_| x.production_share < 1.0)?;
+    let purge = x.purge_and_drains_m3_min.max(0.0);
+    let atm = PressureAbs(x.atmosphere_pa);
+    let choked = 1.0 / critical_pressure_ratio();
+    let ratio = match (x.p_prod, x.p_nonprod) {
+        (Some(pp), Some(pn)) if pn >= choked * x.atmosphere_pa && pp > 0.0 => Some(pp / pn),
+        _ => None,
+    };
+    let left = q - purge;
+    Some(NonProductionLeak {
+        mean_flow_m3_min: q,
+        purge_and_drains_m3_min: purge,
+        mean_pressure_bar_g: x.p_nonprod.map(|p| PressureAbs(p).bar_g(atm)),
+        production_pressure_bar_g: x.p_prod.map(|p| PressureAbs(p).bar_g(atm)),
+        pressure_corrected: ratio.is_some(),
+        leak_flow_m3_min: (left > 0.0).then(|| left * ratio.unwrap_or(1.0)),
+    })
+}
+
+/// An estimate's relative uncertainty: its own, else its method's default.
+fn estimate_rel(e: &LeakEstimate, acc: &Accuracy) -> f64 {
+    e.relative_uncertainty
+        .filter(|r| r.is_finite() && *r >= 0.0)
+        .unwrap_or_else(|| default_relative_uncertainty(&e.method, acc))
+}
+
 /// The leak figures (module doc).
 pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> LeakFigures {
     let (acc, mean_flow, q_prod, q_nonprod, u_flow) = (x.acc, x.mean_flow, x.q_prod, x.q_nonprod, x.u_flow);
     let mut estimates: Vec<LeakEstimateFigure> = leak_estimates
         .iter()
         .map(|e| {
-            let rel = default_relative_uncertainty(&e.method, acc);
+            let rel = estimate_rel(e, acc);
             let (lo, hi) = band(e.leak_flow_m3_min, rel);
             LeakEstimateFigure {
                 test_id: Some(e.test_id),
@@ -51,23 +92,32 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
             }
         })
         .collect();
+    let non_production = non_production_leak(x);
+    let q_leak_np = non_production.as_ref().and_then(|n| n.leak_flow_m3_min);
     let mut tests: Vec<f64> = leak_estimates.iter().map(|e| e.leak_flow_m3_min).collect();
     tests.sort_by(f64::total_cmp);
     let (adopted, adopted_rel, adopted_rule) = if !tests.is_empty() {
         let med = percentile(&tests, 0.5);
-        let rel =
-            leak_estimates.iter().map(|e| default_relative_uncertainty(&e.method, acc)).fold(0.0, f64::max);
+        let rel = leak_estimates.iter().map(|e| estimate_rel(e, acc)).fold(0.0, f64::max);
         (Some(med), rel, "median of the accepted field tests".to_string())
-    } else if let (Some(q), true) = (q_nonprod, x.production_share < 1.0) {
-        (
-            Some(q),
-            u_flow,
-            "mean flow in non-production hours (an upper bound: includes fixed users)".to_string(),
-        )
+    } else if let Some(q) = q_leak_np {
+        let np = non_production.as_ref().expect("a leak flow comes with its record");
+        let purge = if np.purge_and_drains_m3_min > 0.0 {
+            "less the purge and drain air on record"
+        } else {
+            "with no purge or drain air on record (an upper bound: fixed users are in it)"
+        };
+        let corrected = if np.pressure_corrected {
+            "corrected to the production pressure (choked leak flow ∝ absolute pressure)"
+        } else {
+            "not corrected to the production pressure (no pressure logged in and out of production, \
+             or too low out of it for choked leaks)"
+        };
+        (Some(q), u_flow, format!("mean flow in non-production hours, {purge}, {corrected}"))
     } else {
         (None, 0.0, "no leak estimate: run a bleed-down or load/unload test".to_string())
     };
-    if let Some(q) = q_nonprod.filter(|_| x.production_share < 1.0) {
+    if let Some(q) = q_leak_np {
         let (lo, hi) = band(q, u_flow);
         estimates.push(LeakEstimateFigure {
             test_id: None,
@@ -88,6 +138,7 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
     let price = x.electricity_price_per_kwh;
     LeakFigures {
         estimates,
+        non_production,
         adopted_leak_flow_m3_min: adopted,
         adopted_leak_flow_m3_min_low: adopted.map(|q| q * (1.0 - adopted_rel)),
         adopted_leak_flow_m3_min_high: adopted.map(|q| q * (1.0 + adopted_rel)),

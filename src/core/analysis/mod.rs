@@ -39,6 +39,8 @@ mod leaks;
 mod machines;
 mod pressure;
 mod production;
+#[cfg(test)]
+mod range_tests;
 mod specific_power;
 mod stats;
 pub mod sufficiency;
@@ -53,8 +55,8 @@ pub use decay::{
 };
 pub use figures::{
     Baseline, CompressorFigures, Coverage, Demand, DurationPoint, FlowSource, HeatFigures,
-    LeakEstimateFigure, LeakFigures, Method, PartLoadPoint, Period, PowerSource, PressureFigures,
-    ProductionSource, Sufficiency, Summary, SystemFigures, Verdict, Withheld,
+    LeakEstimateFigure, LeakFigures, Method, NonProductionLeak, PartLoadPoint, Period, PowerSource,
+    PressureFigures, ProductionSource, Sufficiency, Summary, SystemFigures, Verdict, Withheld,
 };
 pub use production::NON_PRODUCTION_SHARE_OF_PEAK;
 pub use uncertainty::Accuracy;
@@ -80,6 +82,15 @@ pub struct LeakEstimate {
     pub method: String,
     /// At the operating or production pressure, m³/min free air.
     pub leak_flow_m3_min: f64,
+    /// Its relative uncertainty as the test was evaluated (from its own inputs: a load/unload test's
+    /// times, a bleed-down's fall); `None`: the method's default
+    /// (`uncertainty::default_relative_uncertainty`).
+    #[serde(default)]
+    pub relative_uncertainty: Option<f64>,
+    /// What its evaluation warned of (a bleed-down too fast to be near isothermal), repeated in the
+    /// summary's `warnings`.
+    #[serde(default)]
+    pub warnings: Vec<String>,
 }
 
 /// What the passes over the bins read besides the frame: the compressors and the site's air, clock
@@ -117,6 +128,10 @@ pub struct AuditInput<'a> {
     /// System volume on record, m³ (receivers, piping, vessels; 0: none, the part-load model then
     /// assumes `partload::ASSUMED_STORAGE_US_GAL_PER_CFM` and says so).
     pub system_volume_m3: f64,
+    /// Free air drawn out of production by fixed users on record (dryer purge, timed drains),
+    /// m³/min, subtracted from the non-production flow before it is read as leaks. The hook for the
+    /// treatment records (dryers, drains: not kept yet); 0 until they are.
+    pub purge_and_drains_m3_min: f64,
 }
 
 /// The data-heavy half of the summary: every pass over the frame's bins, and nothing that prices,
@@ -128,6 +143,10 @@ pub struct DataFigures {
     /// What it was computed from besides the frame.
     pub spec: DataSpec,
     period: Period,
+    /// The log's span on the site's clock, h, and the mean power of each whole week logged, kW
+    /// (`calendar::local_weeks`).
+    local_hours: f64,
+    weekly_mean_kw: Vec<f64>,
     tz_ok: bool,
     /// Per compressor.
     stats: Vec<Option<crate::core::states::StateStats>>,
@@ -152,6 +171,9 @@ pub struct DataFigures {
     prod_share: f64,
     q_prod: Option<f64>,
     q_nonprod: Option<f64>,
+    /// Mean header pressure in and out of production, Pa absolute.
+    p_prod: Option<f64>,
+    p_nonprod: Option<f64>,
     /// 1 while some compressor runs (`None`: no states, every hour counts).
     running_cells: Option<CellSums>,
     control: Option<ControlCells>,
@@ -178,6 +200,7 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
     let pressure = frame.header_pressure().map(|c| c.values.as_slice());
 
     let energy = machines::energy(frame, &logged);
+    let (local_hours, weekly_mean_w) = calendar::local_weeks(&grid, &spec.timezone, total_power);
     let totals = demand::flow_totals(&grid, q, &flow.partial, total_power);
     let (sp_flow, sp_note) = match specific_power::flow_for_specific_power(frame, cs, &logged, &flow) {
         Ok(f) => (f, None),
@@ -187,7 +210,7 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
     let air = specific_power::compressor_air(frame, cs, &logged);
     let rated_sp = specific_power::rated_specific_power(cs, &air);
     let trim = machines::trim(cs, &logged.stats);
-    let production = production::production(spec.production.as_ref(), &cal, q, total_power, n);
+    let production = production::production(spec.production.as_ref(), &cal, q, total_power, pressure, n);
     let running_cells = baseline::running_cells(&cal, &logged);
     let power_cells = baseline::power_cells(&cal, &logged);
     let machines = machines::machine_cells(cs, &logged, &cal, &production.is_prod);
@@ -197,8 +220,9 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
     let timezone = if cal.tz_ok { spec.timezone.clone() } else { "UTC".into() };
     let demand =
         demand::demand(&cal, timezone, q, flow.estimated, total_power, &production, totals.peak_flow);
-    let overlap =
+    let mut overlap =
         sufficiency::overlap(&grid, &cal.cells, total_power, if flow.estimated { None } else { q }, pressure);
+    overlap.clock_gain_h = (local_hours - grid.hours()).max(0.0);
     let coverage = Coverage {
         power: total_power.map_or(0.0, |p| integrate(&grid, p).coverage),
         flow: if flow.estimated { 0.0 } else { q.map_or(0.0, |q| integrate(&grid, q).coverage) },
@@ -214,6 +238,8 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
             step_s: grid.step_s(),
             bins: n,
         },
+        local_hours,
+        weekly_mean_kw: weekly_mean_w.iter().map(|w| w / 1000.0).collect(),
         tz_ok: cal.tz_ok,
         power_logged: logged.powers.iter().map(Option::is_some).collect(),
         stats: logged.stats,
@@ -234,6 +260,8 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
         prod_share: production.share,
         q_prod: production.q_prod,
         q_nonprod: production.q_nonprod,
+        p_prod: production.p_prod,
+        p_nonprod: production.p_nonprod,
         running_cells,
         control,
         pressure: pressure_fig,
@@ -274,7 +302,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         );
     }
     let u_flow = if flow_estimated { acc.flow_estimated_rel } else { acc.flow_rel };
-    let warnings: Vec<String> = cs
+    let mut warnings: Vec<String> = cs
         .iter()
         .filter(|c| acc.single_power_factor.contains(&c.tag))
         .map(|c| {
@@ -287,6 +315,9 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             )
         })
         .collect();
+    warnings.extend(input.leak_estimates.iter().flat_map(|e| {
+        e.warnings.iter().map(move |w| format!("field test {} ({}): {w}", e.test_id, e.method))
+    }));
     let energy_kwh = &d.energy.energy_kwh;
     let sys_energy: f64 = energy_kwh.iter().sum();
     let sys_mean_kw: f64 = d.energy.mean_kw.iter().sum();
@@ -374,6 +405,10 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             mean_flow,
             q_prod: d.q_prod,
             q_nonprod: d.q_nonprod,
+            p_prod: d.p_prod,
+            p_nonprod: d.p_nonprod,
+            atmosphere_pa: atm.0,
+            purge_and_drains_m3_min: input.purge_and_drains_m3_min,
             production_share: d.prod_share,
             flow_estimated,
             u_flow,
@@ -383,6 +418,12 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             electricity_price_per_kwh: site.electricity_price_per_kwh,
         },
     );
+    methods.push(method(
+        "non_production_leak_flow_m3_min",
+        "(mean flow out of production - purge and drains on record) × p_production,abs / p_non-production,abs",
+        "choked leak flow is proportional to absolute upstream pressure (ideal-gas choked orifice flow, \
+         API 520 Part I gas sizing; checked against fluids); US DOE sourcebook, leaks fact sheet",
+    ));
     methods.push(method(
         "annual_leak_cost",
         "leak flow × marginal kW/(m³/min) × annual running hours × price",

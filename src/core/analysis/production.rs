@@ -24,6 +24,9 @@ pub(super) struct Production {
     pub q_prod: Option<f64>,
     /// Mean flow out of production, m³/min.
     pub q_nonprod: Option<f64>,
+    /// Mean header pressure in and out of production, Pa absolute (`None`: no pressure logged there).
+    pub p_prod: Option<f64>,
+    pub p_nonprod: Option<f64>,
 }
 
 /// Production hours (module doc).
@@ -32,6 +35,7 @@ pub(super) fn production(
     cal: &Calendar,
     flow: Option<&[f32]>,
     total_power: Option<&[f32]>,
+    pressure: Option<&[f32]>,
     n: usize,
 ) -> Production {
     let cells = &cal.cells;
@@ -66,5 +70,7 @@ pub(super) fn production(
     let share = if n > 0 { is_prod.iter().filter(|&&b| b).count() as f64 / n as f64 } else { 0.0 };
     let q_prod = flow.and_then(|q| mean_where(q, |i| is_prod[i])).map(|q| q * 60.0);
     let q_nonprod = flow.and_then(|q| mean_where(q, |i| !is_prod[i])).map(|q| q * 60.0);
-    Production { is_prod, source, rule, share, q_prod, q_nonprod }
+    let p_prod = pressure.and_then(|p| mean_where(p, |i| is_prod[i]));
+    let p_nonprod = pressure.and_then(|p| mean_where(p, |i| !is_prod[i]));
+    Production { is_prod, source, rule, share, q_prod, q_nonprod, p_prod, p_nonprod }
 }

@@ -22,7 +22,8 @@ figures add the machines up, so only those hours show the plant as one system.
 
 **Thin** (annual figures given, to be read as indicative; each reason is listed):
 - power hours under [`FULL_WEEK_HOURS`] (167 h: a logger week rarely spans exactly 168 h, the same
-  allowance as the baseline's weekly rule), or fewer than 7 weekdays logged: less than the full
+  allowance as the baseline's weekly rule; counted on the site's clock, so a week over a spring
+  daylight-saving change, 167 h elapsed, is a whole week), or fewer than 7 weekdays logged: less than the full
   production week of common practice; the annual figure repeats what was seen;
 - power covering under [`THIN_PERIOD_COVERAGE`] (50 %) of the logged period: the files leave large
   gaps or overlap little;
@@ -79,6 +80,9 @@ pub(super) struct Overlap {
     pub power_pressure: Option<usize>,
     /// Bit `d` set when weekday `d` (Monday 0, site time) has power.
     pub weekdays: u8,
+    /// Hours the site's clock gained over the log (1 over a spring daylight-saving change, else 0):
+    /// a week over the change is a whole week on the clock (`calendar::local_weeks`).
+    pub clock_gain_h: f64,
 }
 
 impl Overlap {
@@ -175,7 +179,7 @@ pub(super) fn assess(o: &Overlap, power_logged: bool, pressure: Option<&Result<(
         ));
     }
     if power_logged && power_h >= MIN_POWER_HOURS {
-        if power_h < FULL_WEEK_HOURS || weekdays < 7 {
+        if power_h + o.clock_gain_h < FULL_WEEK_HOURS || weekdays < 7 {
             thin.push(format!(
                 "{:.1} days of logging on {weekdays} of the 7 weekdays; common practice is at least one \
                  full production week, so that every shift and the weekend are seen",

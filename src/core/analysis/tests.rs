@@ -11,7 +11,7 @@ use crate::core::states::tests::spec;
 use crate::core::units::PressureAbs;
 
 /// A gauge pressure at the site as Pa(abs).
-fn bar_g_to_pa_abs(bar_g: f64, air: &SiteAir) -> f64 {
+pub(super) fn bar_g_to_pa_abs(bar_g: f64, air: &SiteAir) -> f64 {
     PressureAbs::from_bar_g(bar_g, air.atmosphere).0
 }
 
@@ -28,18 +28,19 @@ fn reference_value(name: &str) -> f64 {
 }
 
 /// 2026-03-02T00:00:00Z, a Monday.
-const MONDAY_MS: i64 = 1_772_409_600_000;
+pub(super) const MONDAY_MS: i64 = 1_772_409_600_000;
 
-fn col(signal: Signal, compressor: Option<usize>, values: Vec<f32>) -> FrameColumn {
+pub(super) fn col(signal: Signal, compressor: Option<usize>, values: Vec<f32>) -> FrameColumn {
     FrameColumn { signal, compressor, label: String::new(), values, partial: vec![] }
 }
 
-fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame, leaks: Vec<LeakEstimate>) -> Summary {
+pub(super) fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame, leaks: Vec<LeakEstimate>) -> Summary {
     let costs = CostOverrides::default();
     let acc = Accuracy::default();
     let summary = summarize(
         frame,
         &AuditInput {
+            purge_and_drains_m3_min: 0.0,
             site: s,
             compressors: cs,
             leak_estimates: leaks,
@@ -72,7 +73,13 @@ fn a_summary_reads_back_from_its_json_with_the_same_names_and_spellings() {
         &s,
         &cs,
         &frame,
-        vec![LeakEstimate { test_id: 3, method: "bleed_down".into(), leak_flow_m3_min: 1.5 }],
+        vec![LeakEstimate {
+            test_id: 3,
+            method: "bleed_down".into(),
+            leak_flow_m3_min: 1.5,
+            relative_uncertainty: None,
+            warnings: vec![],
+        }],
     );
     let j = serde_json::to_value(&r).unwrap();
     assert_eq!(j["flow_source"], "measured");
@@ -254,7 +261,7 @@ fn gaps_are_skipped_and_reported_in_the_coverage() {
 
 /// A week from Monday 00:00 UTC on 5-min bins: weekdays 06-22 h 60 kW / 10 m³/min, otherwise
 /// 20 kW / 2 m³/min.
-fn week() -> (Vec<CompressorSpec>, Frame) {
+pub(super) fn week() -> (Vec<CompressorSpec>, Frame) {
     let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
     let n = 7 * 24 * 12;
     let prod = |i: usize| {
@@ -278,7 +285,13 @@ fn a_logged_week_is_profiled_by_weekday_and_hour_and_annualised_over_52_weeks() 
         &s,
         &cs,
         &frame,
-        vec![LeakEstimate { test_id: 3, method: "bleed_down".into(), leak_flow_m3_min: 1.5 }],
+        vec![LeakEstimate {
+            test_id: 3,
+            method: "bleed_down".into(),
+            leak_flow_m3_min: 1.5,
+            relative_uncertainty: None,
+            warnings: vec![],
+        }],
     );
     let wh = &r.demand.weekday_hour_mean_flow_m3_min;
     assert!((wh[0][10].unwrap() - 10.0).abs() < 1e-5);
@@ -365,16 +378,61 @@ fn a_decay_with_every_compressor_off_is_found_and_its_leak_recovered() {
         grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
         columns: vec![col(Signal::Power, Some(0), power), col(Signal::Pressure, None, pressure)],
     };
-    let ev = decay_events(&frame, &cs, &storage, &s.air);
+    let ev = decay_events(&frame, &DataSpec::of(&s, &cs), &storage);
     assert_eq!(ev.len(), 1, "{ev:?}");
     let e = &ev[0];
     assert!(e.all_off);
     assert!((e.duration_s - 1190.0).abs() < 1e-9);
     assert!((e.start_pressure_bar_g - 7.0).abs() < 1e-3);
     let expect = 3.0 * p0 / (s.air.atmosphere.0 * tau) * 60.0;
-    assert!((e.leak_flow_at_start_pressure_m3_min - expect).abs() / expect < 1e-3, "{e:?}");
+    let q = e.leak_flow_at_start_pressure_m3_min.unwrap();
+    assert!((q - expect).abs() / expect < 1e-3, "{e:?}");
     assert!(e.fit_r2 > 0.999);
     assert_eq!(e.start, "2026-03-02T00:20:00Z");
+    assert_eq!(e.volume_m3, Some(3.0));
+    // Before a system volume is on record the event is proposed all the same, its flow waiting
+    // for the volume.
+    let ev = decay_events(&frame, &DataSpec::of(&s, &cs), &StorageSpec::default());
+    assert_eq!(ev.len(), 1, "{ev:?}");
+    assert_eq!((ev[0].leak_flow_at_start_pressure_m3_min, ev[0].volume_m3), (None, None));
+    assert!((ev[0].fit_r2 - e.fit_r2).abs() < 1e-12 && ev[0].start == e.start);
+}
+
+#[test]
+fn an_unloaded_fall_is_a_decay_event_only_outside_production() {
+    // Issue 18: while production draws air an unloaded stretch's fall is the whole demand, not the
+    // leaks, so it is proposed only in hours the schedule marks as non-production. The same 20 min
+    // unloaded fall at 00:20 on a Monday, once with 00 h a production hour and once without.
+    let mut s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let storage = StorageSpec { receivers_m3: vec![3.0], other_volume_m3: 0.0 };
+    let n = 360;
+    let p0 = bar_g_to_pa_abs(7.0, &s.air);
+    let unloaded = |i: usize| (120..240).contains(&i);
+    let power = (0..n).map(|i| if unloaded(i) { 13_750.0 } else { 55_000.0 }).collect();
+    let pressure =
+        (0..n)
+            .map(|i| {
+                if unloaded(i) {
+                    (p0 * (-((i - 120) as f64 * 10.0) / 1800.0).exp()) as f32
+                } else {
+                    p0 as f32
+                }
+            })
+            .collect();
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![col(Signal::Power, Some(0), power), col(Signal::Pressure, None, pressure)],
+    };
+    s.timezone = "UTC".into();
+    let mut hours = [[false; 24]; 7];
+    hours[0][0] = true;
+    s.production = Some(WeeklySchedule { hours });
+    assert!(decay_events(&frame, &DataSpec::of(&s, &cs), &storage).is_empty());
+    s.production = Some(WeeklySchedule { hours: [[false; 24]; 7] });
+    let ev = decay_events(&frame, &DataSpec::of(&s, &cs), &storage);
+    assert_eq!(ev.len(), 1, "{ev:?}");
+    assert!(ev[0].outside_production && !ev[0].all_off, "{:?}", ev[0]);
 }
 
 #[test]
@@ -394,7 +452,13 @@ fn marginal_power_is_the_trim_machine_not_the_plant_average() {
         &s,
         &cs,
         &frame,
-        vec![LeakEstimate { test_id: 1, method: "load_unload".into(), leak_flow_m3_min: 1.2 }],
+        vec![LeakEstimate {
+            test_id: 1,
+            method: "load_unload".into(),
+            leak_flow_m3_min: 1.2,
+            relative_uncertainty: None,
+            warnings: vec![],
+        }],
     );
     assert_eq!(r.leaks.marginal_machine.as_deref(), Some("TRIM"));
     // At 20 % load the trim's curve on 3 US gal/cfm (assumed: no volume on record) is steeper than
@@ -550,7 +614,13 @@ fn leaks_are_priced_on_the_trims_curve_at_its_storage_as_a_time_domain_cycle_giv
         &s,
         &cs,
         &frame,
-        vec![LeakEstimate { test_id: 1, method: "load_unload".into(), leak_flow_m3_min: 1.2 }],
+        vec![LeakEstimate {
+            test_id: 1,
+            method: "load_unload".into(),
+            leak_flow_m3_min: 1.2,
+            relative_uncertainty: None,
+            warnings: vec![],
+        }],
     );
     let model = r.part_load_model.as_ref().unwrap();
     assert_eq!(model.machine, "TRIM");

@@ -67,19 +67,38 @@ impl Accuracy {
 }
 
 /// Default relative uncertainty (1 standard uncertainty, as a fraction) of a leak estimate by method,
-/// for estimates whose inputs are no longer at hand: bleed-down and pressure decay the volume (±20 %)
-/// with the pressure readings for a 1.5 bar fall; load/unload the rated FAD (±5 %, ISO 1217 capacity
-/// tolerance, from memory) with ±2 s timing on a 200 s cycle (common practice); idle flow the meter.
+/// for estimates that carry none of their own (an estimate from a stored field test carries the one
+/// its test was evaluated with, from its own inputs): bleed-down and pressure decay the volume
+/// (±20 %) with the pressure readings for a 1.5 bar fall; load/unload the rated FAD's ±5 % (ISO 1217
+/// capacity tolerance, from memory) with an assumed ±5 % for timing whose times are unknown; idle
+/// flow the meter.
 pub fn default_relative_uncertainty(method: &str, acc: &Accuracy) -> f64 {
     match method {
         "bleed_down" | "pressure_decay" => {
             let dp = std::f64::consts::SQRT_2 * acc.pressure_abs_bar() / 1.5;
             quad(&[acc.volume_rel, dp])
         }
-        "load_unload" => quad(&[0.05, 2.0 / 40.0]),
+        "load_unload" => quad(&[LOAD_UNLOAD_RATED_FLOW_REL, 0.05]),
         "idle_flow" => acc.flow_rel,
         _ => quad(&[acc.volume_rel, acc.flow_rel]),
     }
+}
+
+/// The rated FAD's relative uncertainty in a load/unload test (ISO 1217 capacity tolerance, about
+/// ±5 % near full load, from memory).
+pub const LOAD_UNLOAD_RATED_FLOW_REL: f64 = 0.05;
+/// Timing uncertainty of each of a load/unload test's mean times, s (a stopwatch, or the logging
+/// interval of a state read from a log; common practice).
+pub const LOAD_UNLOAD_TIMING_S: f64 = 2.0;
+
+/// Relative uncertainty of a load/unload test's leak flow from its own times: the fraction
+/// f = T / (T + t) with ±[`LOAD_UNLOAD_TIMING_S`] on each of T and t (GUM law of propagation:
+/// df/dT = t / (T + t)², df/dt = -T / (T + t)², so u_f / f = u_t sqrt(T² + t²) / (T (T + t))), and the
+/// rated FAD's [`LOAD_UNLOAD_RATED_FLOW_REL`], in quadrature. 40 s / 160 s: timing 4.1 %.
+pub fn load_unload_relative_uncertainty(loaded_s: f64, unloaded_s: f64) -> f64 {
+    let (lt, ut) = (loaded_s.max(1e-9), unloaded_s.max(0.0));
+    let timing = LOAD_UNLOAD_TIMING_S * (lt * lt + ut * ut).sqrt() / (lt * (lt + ut));
+    quad(&[LOAD_UNLOAD_RATED_FLOW_REL, timing])
 }
 
 /// Root sum of squares.

@@ -281,7 +281,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
         }),
         compressors: compressor_rows(sm, fmt),
         leaks: leak_rows(sm, fmt),
-        leak_note: sm.leaks.adopted_rule.clone(),
+        leak_note: leak_note(sm, fmt),
         pressure: pressure_rows(sm, fmt),
         demand: demand_rows(sm, fmt),
         heat: heat_rows(sm, fmt, cur),
@@ -337,9 +337,12 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
     let money = |v: f64| fmt.money(v, cur);
     let energy_note = match (base.annual_energy_kwh_low, base.annual_energy_kwh_high) {
         (Some(lo), Some(hi)) => format!(
-            "range {} to {}; logged {}",
+            "range {} to {} (meters ±{}, extrapolation to the year ±{}: {}); logged {}",
             fmt.energy_kwh(lo),
             fmt.energy_kwh(hi),
+            fmt.percent(base.meter_relative_uncertainty),
+            fmt.percent(base.extrapolation_relative_uncertainty),
+            base.extrapolation_rule,
             fmt.energy_kwh(sys.energy_kwh)
         ),
         _ => format!("{}; logged {}", withheld(sm, "baseline"), fmt.energy_kwh(sys.energy_kwh)),
@@ -550,6 +553,28 @@ fn compressor_rows(sm: &Summary, fmt: &Fmt) -> Vec<CompressorRow> {
             estimated: c.estimated,
         })
         .collect()
+}
+
+/// How the leak figure was adopted, and the non-production flow's corrections in the reader's units.
+fn leak_note(sm: &Summary, fmt: &Fmt) -> String {
+    let l = &sm.leaks;
+    let Some(np) = &l.non_production else { return l.adopted_rule.clone() };
+    let pressure = match (np.mean_pressure_bar_g, np.production_pressure_bar_g, np.pressure_corrected) {
+        (Some(a), Some(b), true) => format!(
+            ", scaled from {} out of production to {} in it (choked leak flow ∝ absolute pressure)",
+            fmt.pressure_bar_g(a),
+            fmt.pressure_bar_g(b)
+        ),
+        _ => ", not corrected for pressure".to_string(),
+    };
+    format!(
+        "{}. Non-production flow: {} logged, less {} of purge and drains on record{}: {} of leaks.",
+        l.adopted_rule,
+        fmt.flow_m3_min(np.mean_flow_m3_min),
+        fmt.flow_m3_min(np.purge_and_drains_m3_min),
+        pressure,
+        np.leak_flow_m3_min.map_or_else(|| "none left".to_string(), |q| fmt.flow_m3_min(q))
+    )
 }
 
 fn leak_rows(sm: &Summary, fmt: &Fmt) -> Vec<LeakRow> {
