@@ -28,5 +28,7 @@ mod ingest;
 mod partload;
 #[path = "integration/real_files.rs"]
 mod real_files;
+#[path = "integration/treatment.rs"]
+mod treatment;
 #[path = "integration/undo.rs"]
 mod undo;

@@ -27,6 +27,7 @@ pub mod fieldtests;
 pub mod imports;
 pub mod scenarios;
 pub mod summary;
+pub mod treatment;
 
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};

@@ -234,21 +234,32 @@ impl App {
         };
         let accuracy = b.accuracy();
         let scenarios = self.scenario_cases(b).await?;
-        // No bin is read from here on: well under a millisecond, so it runs in place.
-        let s = analysis::summary_of(
-            &figures,
-            &AuditInput {
-                // No treatment records (dryers, drains) are kept yet: nothing to subtract.
-                purge_and_drains_m3_min: 0.0,
-                site: &site,
-                compressors: &specs,
-                leak_estimates: b.leak_estimates(),
-                costs: &costs,
-                accuracy: &accuracy,
-                scenarios: &scenarios,
-                system_volume_m3: b.storage().system_volume_m3(),
-            },
-        );
+        let records = super::treatment::records(&audits::treatment_items(self.db(), b.audit.id).await?);
+        let air = b.audit.site.air();
+        // No bin is read from here on: well under a millisecond, so it runs in place. With purging
+        // dryers or drains on record the summary is priced twice: their air depends on the plant's
+        // figures, and the leaks read from the non-production flow are what is left after it.
+        let price = |purge_and_drains_m3_min: f64| {
+            analysis::summary_of(
+                &figures,
+                &AuditInput {
+                    purge_and_drains_m3_min,
+                    site: &site,
+                    compressors: &specs,
+                    leak_estimates: b.leak_estimates(),
+                    costs: &costs,
+                    accuracy: &accuracy,
+                    scenarios: &scenarios,
+                    system_volume_m3: b.storage().system_volume_m3(),
+                },
+            )
+        };
+        let mut s = price(0.0);
+        let purge = analysis::transmission::purge_and_drains_m3_min(&s, &records, &air);
+        if purge > 0.0 {
+            s = price(purge);
+        }
+        analysis::transmission::apply(&mut s, &records, &air);
         Ok(Some(s))
     }
 

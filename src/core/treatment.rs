@@ -419,7 +419,7 @@ pub fn pressure_drop_energy_share(drop_bar: f64, discharge_bar_g: f64, site: &Si
 }
 
 /// The metered mean flow split by what uses it (API.md `summary.demand_split`), free air m³/min.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct DemandSplit {
     pub production_m3_min: f64,
     pub inappropriate_m3_min: f64,

@@ -115,6 +115,15 @@ pub fn build_app(state: AppState) -> Router {
             axum::routing::put(api::replace_field_test).delete(api::delete_field_test),
         )
         .route("/audits/{id}/decay-events", get(api::decay_events))
+        .route("/audits/{id}/dryers", get(api::list_dryers).post(api::add_dryer))
+        .route("/audits/{id}/dryers/{iid}", axum::routing::put(api::update_dryer).delete(api::delete_dryer))
+        .route("/audits/{id}/drains", get(api::list_drains).post(api::add_drain))
+        .route("/audits/{id}/drains/{iid}", axum::routing::put(api::update_drain).delete(api::delete_drain))
+        .route("/audits/{id}/end-uses", get(api::list_end_uses).post(api::add_end_use))
+        .route(
+            "/audits/{id}/end-uses/{iid}",
+            axum::routing::put(api::update_end_use).delete(api::delete_end_use),
+        )
         .route("/audits/{id}/costs/{kind}", axum::routing::put(api::put_cost))
         .route("/audits/{id}/measures", get(api::get_measure_plan).put(api::put_measure_plan))
         .route("/audits/{id}/scenarios", get(api::list_scenarios).post(api::add_scenario))

@@ -384,6 +384,12 @@ pub struct Summary {
     /// The sums of the stacked figures (`None`: no measure).
     #[serde(default)]
     pub measures_total: Option<MeasuresTotal>,
+    /// Dryers, drains and end uses on record, priced (`core::treatment`, `analysis::transmission`).
+    #[serde(default)]
+    pub transmission: crate::core::treatment::Transmission,
+    /// The mean flow split by what uses it; `None` without treatment or end-use records.
+    #[serde(default)]
+    pub demand_split: Option<crate::core::treatment::DemandSplit>,
     /// Whether the data can carry the annual figures, and the figures withheld (`sufficiency`).
     pub sufficiency: Sufficiency,
     pub methods: Vec<Method>,

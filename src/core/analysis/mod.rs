@@ -46,6 +46,7 @@ mod stats;
 pub mod sufficiency;
 #[cfg(test)]
 mod tests;
+pub mod transmission;
 pub mod uncertainty;
 
 use serde::{Deserialize, Serialize};
@@ -579,6 +580,8 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         heat: heat.figures,
         recommendations: recs,
         measures_total,
+        transmission: Default::default(),
+        demand_split: None,
         sufficiency,
         methods,
         assumptions,

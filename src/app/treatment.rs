@@ -1,0 +1,286 @@
+//! Dryers, condensate drains and the end-use inventory of an audit (API.md "Additions"): the JSON
+//! records as posted, checked by `core::treatment` before they are stored, and read back into the
+//! core's types for the summary.
+
+use serde::{Deserialize, Serialize};
+
+use super::{App, Error, Result};
+use crate::core::treatment::{
+    Drain, DrainKind, Dryer, DryerControl, DryerKind, EndUse, EndUseKind, Records, TreatmentError,
+};
+use crate::core::units::FreeAirFlow;
+use crate::store::audits;
+
+/// Which list a record belongs to: its table kind and its API path segment.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ItemKind {
+    Dryer,
+    Drain,
+    EndUse,
+}
+
+impl ItemKind {
+    /// The path segment (`dryers`, `drains`, `end-uses`), or `None`.
+    pub fn from_segment(s: &str) -> Option<ItemKind> {
+        match s {
+            "dryers" => Some(ItemKind::Dryer),
+            "drains" => Some(ItemKind::Drain),
+            "end-uses" => Some(ItemKind::EndUse),
+            _ => None,
+        }
+    }
+    pub fn stored(self) -> &'static str {
+        match self {
+            ItemKind::Dryer => "dryer",
+            ItemKind::Drain => "drain",
+            ItemKind::EndUse => "end_use",
+        }
+    }
+    pub fn plural(self) -> &'static str {
+        match self {
+            ItemKind::Dryer => "dryers",
+            ItemKind::Drain => "drains",
+            ItemKind::EndUse => "end_uses",
+        }
+    }
+}
+
+fn default_control() -> String {
+    "fixed_cycle".into()
+}
+fn one() -> u32 {
+    1
+}
+fn full_duty() -> f64 {
+    1.0
+}
+
+/// `POST /api/v1/audits/{id}/dryers`.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DryerInput {
+    pub tag: String,
+    pub kind: String,
+    pub rated_flow_m3_min: f64,
+    #[serde(default)]
+    pub purge_fraction: Option<f64>,
+    #[serde(default)]
+    pub power_kw: f64,
+    #[serde(default = "default_control")]
+    pub control: String,
+}
+
+impl DryerInput {
+    pub fn to_core(&self) -> std::result::Result<Dryer, TreatmentError> {
+        let d = Dryer {
+            tag: self.tag.trim().to_string(),
+            kind: DryerKind::parse(&self.kind, "kind")?,
+            rated_flow: FreeAirFlow::from_m3_min(self.rated_flow_m3_min),
+            purge_fraction: self.purge_fraction,
+            power_kw: self.power_kw,
+            control: DryerControl::parse(&self.control, "control")?,
+        };
+        d.validate()?;
+        Ok(d)
+    }
+}
+
+/// `POST /api/v1/audits/{id}/drains`.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DrainInput {
+    pub tag: String,
+    pub kind: String,
+    #[serde(default)]
+    pub open_s: Option<f64>,
+    #[serde(default)]
+    pub interval_s: Option<f64>,
+    #[serde(default)]
+    pub orifice_mm: Option<f64>,
+    #[serde(default)]
+    pub discharge_coefficient: Option<f64>,
+}
+
+impl DrainInput {
+    pub fn to_core(&self) -> std::result::Result<Drain, TreatmentError> {
+        let d = Drain {
+            tag: self.tag.trim().to_string(),
+            kind: DrainKind::parse(&self.kind, "kind")?,
+            open_s: self.open_s,
+            interval_s: self.interval_s,
+            orifice_mm: self.orifice_mm,
+            discharge_coefficient: self.discharge_coefficient,
+        };
+        d.validate()?;
+        Ok(d)
+    }
+}
+
+/// `POST /api/v1/audits/{id}/end-uses`.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct EndUseInput {
+    pub name: String,
+    pub kind: String,
+    #[serde(default = "one")]
+    pub count: u32,
+    #[serde(default)]
+    pub orifice_mm: Option<f64>,
+    #[serde(default)]
+    pub flow_m3_min: Option<f64>,
+    #[serde(default)]
+    pub pressure_bar_g: Option<f64>,
+    #[serde(default = "full_duty")]
+    pub duty: f64,
+    #[serde(default)]
+    pub regulated: bool,
+    #[serde(default)]
+    pub alternative_kw: Option<f64>,
+}
+
+impl EndUseInput {
+    pub fn to_core(&self) -> std::result::Result<EndUse, TreatmentError> {
+        let u = EndUse {
+            name: self.name.trim().to_string(),
+            kind: EndUseKind::parse(&self.kind, "kind")?,
+            count: self.count,
+            flow_m3_min: self.flow_m3_min,
+            orifice_mm: self.orifice_mm,
+            pressure_bar_g: self.pressure_bar_g,
+            duty: self.duty,
+            regulated: self.regulated,
+            alternative_kw: self.alternative_kw,
+        };
+        u.validate()?;
+        Ok(u)
+    }
+}
+
+const MAX_TEXT: usize = 64;
+
+fn field(e: TreatmentError) -> Error {
+    Error::field(e.field, e.message)
+}
+
+fn text_ok(name: &str, v: &str) -> Result<()> {
+    if v.chars().count() > MAX_TEXT {
+        return Err(Error::field(name, format!("at most {MAX_TEXT} characters")));
+    }
+    Ok(())
+}
+
+/// The body checked and put in its stored form (the input as parsed, its text trimmed).
+fn checked(kind: ItemKind, body: serde_json::Value) -> Result<String> {
+    let bad = |e: serde_json::Error| {
+        let msg = e.to_string();
+        let f = msg.split('`').nth(1).unwrap_or("body").to_string();
+        Error::field(&f, msg)
+    };
+    let v = match kind {
+        ItemKind::Dryer => {
+            let mut i: DryerInput = serde_json::from_value(body).map_err(bad)?;
+            text_ok("tag", &i.tag)?;
+            i.tag = i.to_core().map_err(field)?.tag;
+            serde_json::to_value(i)
+        }
+        ItemKind::Drain => {
+            let mut i: DrainInput = serde_json::from_value(body).map_err(bad)?;
+            text_ok("tag", &i.tag)?;
+            i.tag = i.to_core().map_err(field)?.tag;
+            serde_json::to_value(i)
+        }
+        ItemKind::EndUse => {
+            let mut i: EndUseInput = serde_json::from_value(body).map_err(bad)?;
+            text_ok("name", &i.name)?;
+            i.name = i.to_core().map_err(field)?.name;
+            serde_json::to_value(i)
+        }
+    };
+    Ok(v.expect("a parsed record serialises").to_string())
+}
+
+/// A stored record as the API lists it: its fields and `id`.
+fn listed(r: &audits::TreatmentItemRecord) -> serde_json::Value {
+    let mut v: serde_json::Value = serde_json::from_str(&r.body).unwrap_or_default();
+    if let Some(o) = v.as_object_mut() {
+        o.insert("id".into(), r.id.into());
+    }
+    v
+}
+
+/// The stored records read into the core's types; a record that no longer reads (it cannot, as
+/// every one was checked before it was stored) is skipped.
+pub fn records(items: &[audits::TreatmentItemRecord]) -> Records {
+    let mut out = Records::default();
+    for r in items {
+        match r.kind.as_str() {
+            "dryer" => {
+                if let Some(d) =
+                    serde_json::from_str::<DryerInput>(&r.body).ok().and_then(|i| i.to_core().ok())
+                {
+                    out.dryers.push(d);
+                }
+            }
+            "drain" => {
+                if let Some(d) =
+                    serde_json::from_str::<DrainInput>(&r.body).ok().and_then(|i| i.to_core().ok())
+                {
+                    out.drains.push(d);
+                }
+            }
+            "end_use" => {
+                if let Some(u) =
+                    serde_json::from_str::<EndUseInput>(&r.body).ok().and_then(|i| i.to_core().ok())
+                {
+                    out.end_uses.push(u);
+                }
+            }
+            _ => {}
+        }
+    }
+    out
+}
+
+impl App {
+    /// Add a dryer, drain or end use; its id.
+    pub async fn add_treatment_item(
+        &self,
+        audit_id: i64,
+        kind: ItemKind,
+        body: serde_json::Value,
+    ) -> Result<i64> {
+        self.audit(audit_id).await?;
+        let stored = checked(kind, body)?;
+        Ok(audits::add_treatment_item(self.db(), audit_id, kind.stored(), &stored).await?)
+    }
+
+    /// Replace a record; `false` if the audit has no such record of that kind.
+    pub async fn update_treatment_item(
+        &self,
+        audit_id: i64,
+        kind: ItemKind,
+        id: i64,
+        body: serde_json::Value,
+    ) -> Result<bool> {
+        self.audit(audit_id).await?;
+        let stored = checked(kind, body)?;
+        Ok(audits::update_treatment_item(self.db(), audit_id, kind.stored(), id, &stored).await?)
+    }
+
+    /// Delete a record; `false` if the audit has no such record of that kind.
+    pub async fn delete_treatment_item(&self, audit_id: i64, kind: ItemKind, id: i64) -> Result<bool> {
+        self.audit(audit_id).await?;
+        Ok(audits::delete_treatment_item(self.db(), audit_id, kind.stored(), id).await?)
+    }
+
+    /// The records of one kind, as the API lists them.
+    pub async fn treatment_items(&self, audit_id: i64, kind: ItemKind) -> Result<Vec<serde_json::Value>> {
+        self.audit(audit_id).await?;
+        Ok(audits::treatment_items(self.db(), audit_id)
+            .await?
+            .iter()
+            .filter(|r| r.kind == kind.stored())
+            .map(listed)
+            .collect())
+    }
+}

@@ -1,0 +1,105 @@
+//! Dryers, drains and end uses over HTTP (API.md "Additions"): stored, priced into the summary's
+//! `transmission` and `demand_split`, refused with the field named, deleted.
+
+use crate::support::*;
+
+fn fixture_value(name: &str) -> f64 {
+    let f: Value = serde_json::from_str(include_str!("../reference/fixture.json")).unwrap();
+    f["values"][name]["value"].as_f64().unwrap_or_else(|| panic!("fixture has no {name}"))
+}
+
+#[test]
+fn treatment_records_are_priced_into_the_summary_and_split_the_demand() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let r = s.upload(id, "cycle.csv", cycling_csv(24).as_bytes(), &cycling_mapping(), "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let post = |list: &str, body: Value| s.post_json(&format!("/api/v1/audits/{id}/{list}"), &body);
+    let r = post(
+        "dryers",
+        json!({"tag": "D1", "kind": "heatless_desiccant", "rated_flow_m3_min": 10, "purge_fraction": 0.15,
+               "power_kw": 0.3, "control": "fixed_cycle"}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let dryer = r.json()["id"].as_i64().unwrap();
+    let r = post(
+        "drains",
+        json!({"tag": "T1", "kind": "timer", "open_s": 5, "interval_s": 300, "orifice_mm": 3.0,
+               "discharge_coefficient": 0.61}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let r = post(
+        "end-uses",
+        json!({"name": "nutrunners <b>", "kind": "tool", "count": 2, "flow_m3_min": 0.5, "pressure_bar_g": 6.0,
+               "duty": 0.5, "regulated": true}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let list = s.get(&format!("/api/v1/audits/{id}/end-uses")).json();
+    assert_eq!(list["end_uses"][0]["name"], "nutrunners <b>", "{list}");
+
+    // Refusals name the field, and add nothing.
+    for (list, body, field) in [
+        (
+            "dryers",
+            json!({"tag": "D2", "kind": "heatless_desiccant", "rated_flow_m3_min": 10, "purge_fraction": 1.5}),
+            "purge_fraction",
+        ),
+        ("dryers", json!({"tag": "D2", "kind": "silica_gel", "rated_flow_m3_min": 10}), "kind"),
+        (
+            "drains",
+            json!({"tag": "T2", "kind": "timer", "open_s": 5, "interval_s": 300, "orifice_mm": -1}),
+            "orifice_mm",
+        ),
+        ("end-uses", json!({"name": "x", "kind": "tool", "duty": 0.5}), "flow_m3_min"),
+    ] {
+        let r = post(list, body);
+        assert_eq!(r.status, 422, "{list}: {}", r.text);
+        assert_eq!(r.json()["error"]["field"], field, "{list}: {}", r.text);
+    }
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}/dryers")).json()["dryers"].as_array().unwrap().len(), 1);
+
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    let t = &sm["transmission"];
+    // Purge: 10 m³/min x 0.15 on a fixed cycle, whatever the load (worked by hand).
+    let purge = t["dryers"][0]["purge_m3_min"].as_f64().unwrap();
+    assert!((purge - 1.5).abs() < 1e-12, "{t}");
+    // The drain's orifice is choked, so its flow scales with the absolute line pressure: the
+    // fluids value at 7.0 bar(g) (fixture) x p_line,abs / p_7,abs, the line at the logged mean.
+    let p_mean = sm["pressure"]["mean_bar_g"].as_f64().unwrap();
+    let want = fixture_value("treatment.timer_drain_3mm_7barg_5s_300s_m3_min") * (p_mean * 1e5 + 101_325.0)
+        / (7.0e5 + 101_325.0);
+    let drain = t["drains"][0]["air_m3_min"].as_f64().unwrap();
+    assert!((drain - want).abs() < 1e-3 * want, "drain {drain} vs {want}");
+    // The split sums to the logged mean flow, and the production uses are count x air x duty x
+    // the production share.
+    let split = &sm["demand_split"];
+    let parts: f64 = [
+        "production_m3_min",
+        "inappropriate_m3_min",
+        "purge_and_drains_m3_min",
+        "leaks_m3_min",
+        "unexplained_m3_min",
+    ]
+    .iter()
+    .map(|k| split[k].as_f64().unwrap())
+    .sum();
+    let mean = sm["system"]["mean_flow_m3_min"].as_f64().unwrap();
+    assert!((parts - mean).abs() < 1e-9, "{split} vs {mean}");
+    let share = sm["demand"]["production_share_of_time"].as_f64().unwrap();
+    assert!((split["production_m3_min"].as_f64().unwrap() - 0.5 * share).abs() < 1e-9, "{split}");
+    assert!((split["purge_and_drains_m3_min"].as_f64().unwrap() - (purge + drain)).abs() < 1e-9);
+    // The cost is that air at the marginal specific power over the running hours.
+    let cost = t["dryers"][0]["annual_purge_cost"].as_f64().unwrap();
+    let by_hand = 1.5
+        * sm["leaks"]["marginal_kw_per_m3_min"].as_f64().unwrap()
+        * sm["baseline"]["annual_running_hours"].as_f64().unwrap()
+        * sm["baseline"]["electricity_price_per_kwh"].as_f64().unwrap();
+    assert!((cost - by_hand).abs() < 1e-6 * by_hand.max(1.0), "{cost} vs {by_hand}");
+
+    // Deleted: gone from the list and from the figures.
+    let r = s.delete(&format!("/api/v1/audits/{id}/dryers/{dryer}"));
+    assert_eq!(r.status, 204, "{}", r.text);
+    assert_eq!(s.delete(&format!("/api/v1/audits/{id}/dryers/{dryer}")).status, 404);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(sm["transmission"]["dryers"].as_array().unwrap().len(), 0, "{}", sm["transmission"]);
+}
