@@ -14,7 +14,7 @@ use std::sync::{Arc, Mutex, Weak};
 use serde::{Deserialize, Serialize};
 
 use crate::core::analysis::{self, AuditInput, DataFigures, DataSpec, LeakEstimate, Summary};
-use crate::core::recommend::{CostOverrides, ScenarioCase};
+use crate::core::recommend::{self, CostOverrides, ScenarioCase};
 use crate::core::series::Frame;
 use crate::store::audits;
 use crate::store::read;
@@ -239,11 +239,12 @@ impl App {
         // No bin is read from here on: well under a millisecond, so it runs in place. With purging
         // dryers or drains on record the summary is priced twice: their air depends on the plant's
         // figures, and the leaks read from the non-production flow are what is left after it.
-        let price = |purge_and_drains_m3_min: f64| {
+        let price = |purge_and_drains_m3_min: f64, treatment: recommend::TreatmentCuts| {
             analysis::summary_of(
                 &figures,
                 &AuditInput {
                     purge_and_drains_m3_min,
+                    treatment,
                     site: &site,
                     compressors: &specs,
                     leak_estimates: b.leak_estimates(),
@@ -254,10 +255,10 @@ impl App {
                 },
             )
         };
-        let mut s = price(0.0);
-        let purge = analysis::transmission::purge_and_drains_m3_min(&s, &records, &air);
-        if purge > 0.0 {
-            s = price(purge);
+        let mut s = price(0.0, Default::default());
+        if !records.is_empty() {
+            let (purge, cuts) = analysis::transmission::first_pass(&s, &records, &air);
+            s = price(purge, cuts);
         }
         analysis::transmission::apply(&mut s, &records, &air);
         Ok(Some(s))

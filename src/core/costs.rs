@@ -25,3 +25,9 @@ pub const LEAK_PER_M3_MIN: f64 = 1000.0;
 pub const HEAT_RECOVERY_PER_KW: f64 = 250.0;
 /// Shutting idle machines off out of production (a timer or sequencer rule), per compressor.
 pub const SHUT_OFF_PER_COMPRESSOR: f64 = 800.0;
+/// Dew-point dependent switching retrofitted to a desiccant dryer (sensor and controller), per dryer.
+pub const DEW_POINT_CONTROL_PER_DRYER: f64 = 2500.0;
+/// A level-sensing (zero-loss) drain in place of a timer drain, installed, per drain.
+pub const ZERO_LOSS_DRAIN: f64 = 500.0;
+/// An electric alternative (blower, fan, motor) for one inappropriate use, installed, per use line.
+pub const ALTERNATIVE_PER_USE: f64 = 1500.0;

@@ -34,6 +34,13 @@ pub const HEAT_RECOVERY_MEASURE_CAUTION: &str =
      circuit so a blocked circuit never stops the compressor's own cooling; defer to local codes and \
      licensed practice";
 
+/// The caution of a measure on dryers, drains or the air supply to end uses (`dew_point_control`,
+/// `zero_loss_drains`, `replace_inappropriate_uses`), in one line.
+pub const TREATMENT_MEASURE_CAUTION: &str =
+    "dryers, drains and their piping hold pressure: isolate, lock out and vent them before work; \
+     condensate is oily waste to be collected and disposed of as local rules require; defer to local \
+     codes and licensed practice";
+
 /// [`HEAT_RECOVERY_CAUTIONS`] as owned strings, as the summary carries them.
 pub fn heat_recovery_cautions() -> Vec<String> {
     HEAT_RECOVERY_CAUTIONS.iter().map(|c| c.to_string()).collect()

@@ -536,7 +536,8 @@ pub struct DryerFigure {
     pub annual_purge_cost: f64,
     pub power_kw: f64,
     pub annual_power_kwh: f64,
-    /// What dew-point control would save a year on a fixed-cycle purging dryer (0 otherwise).
+    /// What dew-point control would save on a fixed-cycle purging dryer (0 otherwise): air and a year's energy.
+    pub dew_point_control_saving_m3_min: f64,
     pub dew_point_control_saving_kwh: f64,
 }
 
@@ -570,6 +571,8 @@ pub struct EndUseFigure {
     pub production_mean_flow_m3_min: f64,
     /// The same air's energy a year at the marginal specific power.
     pub annual_air_kwh: f64,
+    /// The electric alternative's mean input over production time (kW × count × duty), when given.
+    pub alternative_mean_kw: Option<f64>,
     /// Net saving of the electric alternative, when its kW is given.
     pub alternative_saving_kwh: Option<f64>,
 }
@@ -613,6 +616,7 @@ pub fn figures(
             annual_purge_cost: purge_kwh * plant.price_per_kwh,
             power_kw: f.power_kw,
             annual_power_kwh: f.power_kw * run_h,
+            dew_point_control_saving_m3_min: purge - f.purge_with_dew_point_control.m3_min(),
             dew_point_control_saving_kwh: kwh(purge - f.purge_with_dew_point_control.m3_min(), run_h),
         });
     }
@@ -643,6 +647,7 @@ pub fn figures(
             inappropriate: u.kind.inappropriate(),
             production_mean_flow_m3_min: q,
             annual_air_kwh: kwh(q, plant.annual_production_hours),
+            alternative_mean_kw: u.alternative_kw.map(|k| k * u.count as f64 * u.duty),
             alternative_saving_kwh: if u.kind.inappropriate() {
                 inappropriate_use_saving_kwh(u, site, marginal, plant.annual_production_hours)?
             } else {

@@ -96,6 +96,21 @@ fn treatment_records_are_priced_into_the_summary_and_split_the_demand() {
         * sm["baseline"]["electricity_price_per_kwh"].as_f64().unwrap();
     assert!((cost - by_hand).abs() < 1e-6 * by_hand.max(1.0), "{cost} vs {by_hand}");
 
+    // The records offer measures, stacked with the rest; the total is the sum of the stacked savings.
+    let recs = sm["recommendations"].as_array().unwrap();
+    for kind in ["dew_point_control", "zero_loss_drains"] {
+        let m = recs.iter().find(|m| m["kind"] == kind).unwrap_or_else(|| panic!("no {kind}: {recs:?}"));
+        assert!(m["caution"].as_str().unwrap().contains("isolate"), "{m}");
+    }
+    let dew = recs.iter().find(|m| m["kind"] == "dew_point_control").unwrap();
+    let saved_m3_min = t["dryers"][0]["dew_point_control_saving_m3_min"].as_f64().unwrap();
+    let load = mean / 10.0;
+    assert!((saved_m3_min - 1.5 * (1.0 - load)).abs() < 1e-9, "{saved_m3_min} at load {load}");
+    assert!(dew["standalone_annual_energy_saving_kwh"].as_f64().unwrap() > 0.0);
+    let stacked: f64 = recs.iter().map(|m| m["annual_energy_saving_kwh"].as_f64().unwrap()).sum();
+    let total = sm["measures_total"]["annual_energy_saving_kwh"].as_f64().unwrap();
+    assert!((stacked - total).abs() < 1e-6 * total.max(1.0), "{stacked} vs {total}");
+
     // Deleted: gone from the list and from the figures.
     let r = s.delete(&format!("/api/v1/audits/{id}/dryers/{dryer}"));
     assert_eq!(r.status, 204, "{}", r.text);

@@ -23,6 +23,7 @@ fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame) -> Summary {
     let (costs, acc) = (CostOverrides::default(), Accuracy::default());
     let input = AuditInput {
         purge_and_drains_m3_min: 0.0,
+        treatment: Default::default(),
         site: s,
         compressors: cs,
         leak_estimates: vec![LeakEstimate {

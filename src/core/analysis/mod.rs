@@ -133,6 +133,8 @@ pub struct AuditInput<'a> {
     /// m³/min, subtracted from the non-production flow before it is read as leaks. The hook for the
     /// treatment records (dryers, drains: not kept yet); 0 until they are.
     pub purge_and_drains_m3_min: f64,
+    /// What the dryers, drains and end uses on record offer the measures (`analysis::transmission::cuts`).
+    pub treatment: recommend::TreatmentCuts,
 }
 
 /// The data-heavy half of the summary: every pass over the frame's bins, and nothing that prices,
@@ -493,6 +495,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             heat: heat.case,
             costs: input.costs,
             scenarios: input.scenarios,
+            treatment: input.treatment,
         },
         &|p| display::render_parts(p, &si),
     );

@@ -123,6 +123,7 @@ fn non_production_flow_is_read_as_leaks_at_production_pressure_less_purge_and_dr
         accuracy: &acc,
         scenarios: &[],
         purge_and_drains_m3_min: 0.5,
+        treatment: Default::default(),
         system_volume_m3: 0.0,
     };
     let r = summary_of(&data_figures(&frame, &DataSpec::of(&s, &cs)), &input);

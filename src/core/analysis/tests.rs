@@ -41,6 +41,7 @@ pub(super) fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame, leaks: Vec
         frame,
         &AuditInput {
             purge_and_drains_m3_min: 0.0,
+            treatment: Default::default(),
             site: s,
             compressors: cs,
             leak_estimates: leaks,

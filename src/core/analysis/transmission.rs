@@ -3,7 +3,8 @@
 //! line pressure, the adopted leak flow) applied to the records on file.
 
 use super::figures::{Method, Summary};
-use crate::core::treatment::{self, PlantFigures, Records};
+use crate::core::recommend::TreatmentCuts;
+use crate::core::treatment::{self, PlantFigures, Records, Transmission};
 use crate::core::units::SiteAir;
 
 /// Line pressure taken when neither a header pressure is logged nor a rated pressure is known,
@@ -31,15 +32,6 @@ pub fn plant_of(s: &Summary) -> (PlantFigures, bool) {
         },
         assumed,
     )
-}
-
-/// The purge and drain air on record at this summary's plant, m³/min (0 without records).
-pub fn purge_and_drains_m3_min(s: &Summary, records: &Records, site: &SiteAir) -> f64 {
-    if records.dryers.is_empty() && records.drains.is_empty() {
-        return 0.0;
-    }
-    let (plant, _) = plant_of(s);
-    treatment::figures(records, &plant, site).map(|(_, split)| split.purge_and_drains_m3_min).unwrap_or(0.0)
 }
 
 /// Put the transmission figures and the demand split on the summary, with their methods.
@@ -89,4 +81,42 @@ pub fn apply(s: &mut Summary, records: &Records, site: &SiteAir) {
          adopted leaks + unexplained = mean flow",
         "ISO 11011 demand side; inappropriate uses as the US DOE sourcebook names them",
     ));
+}
+
+/// What the priced records offer the measures: the purge dew-point control would save, the drains'
+/// air, and the inappropriate uses that have an electric alternative on record.
+pub fn cuts(t: &Transmission) -> TreatmentCuts {
+    let mut c = TreatmentCuts::default();
+    for d in &t.dryers {
+        if d.dew_point_control_saving_m3_min > 0.0 {
+            c.dew_point_m3_min += d.dew_point_control_saving_m3_min;
+            c.dew_point_dryers += 1;
+        }
+    }
+    for d in &t.drains {
+        if d.air_m3_min > 0.0 {
+            c.drains_m3_min += d.air_m3_min;
+            c.lossy_drains += 1;
+        }
+    }
+    for u in t.end_uses.iter().filter(|u| u.inappropriate) {
+        if let Some(kw) = u.alternative_mean_kw {
+            c.inappropriate_m3_min += u.production_mean_flow_m3_min;
+            c.alternative_kw += kw;
+            c.inappropriate_uses += 1;
+        }
+    }
+    c
+}
+
+/// The records priced on a first summary, for the second pricing: (purge and drains m³/min, cuts).
+pub fn first_pass(s: &Summary, records: &Records, site: &SiteAir) -> (f64, TreatmentCuts) {
+    if records.is_empty() {
+        return (0.0, TreatmentCuts::default());
+    }
+    let (plant, _) = plant_of(s);
+    match treatment::figures(records, &plant, site) {
+        Ok((t, split)) => (split.purge_and_drains_m3_min, cuts(&t)),
+        Err(_) => (0.0, TreatmentCuts::default()),
+    }
 }

@@ -691,3 +691,142 @@ pub(super) fn recover_heat(r: &RecommendInput, p: &Plant, first: &Plant) -> Opti
         scenario_id: None,
     })
 }
+
+/// A measure on the treatment or end-use records: `dq` m³/min less demand (in production only
+/// when `production_only`), less `alt_kw` of new electricity over the production hours.
+struct TreatmentStep {
+    kind: MeasureKind,
+    dq: f64,
+    production_only: bool,
+    alt_kw: f64,
+    items: usize,
+    title: Vec<Part>,
+    description: Vec<Part>,
+    formula: &'static str,
+    source: &'static str,
+    method: &'static str,
+}
+
+fn treatment_measure(r: &RecommendInput, p: &Plant, t: TreatmentStep) -> Option<(Draft, Plant)> {
+    if t.dq <= 0.0 || t.items == 0 {
+        return None;
+    }
+    let per = r.marginal_kw_per_m3_min * p.power_factor;
+    let mut cut = p.demand_cut(r, t.dq);
+    if t.production_only {
+        cut.1 = 0.0;
+    }
+    let production_hours = (p.demand_hours - p.night_hours.min(p.demand_hours)).max(0.0);
+    let alt_kwh = t.alt_kw.max(0.0) * production_hours;
+    let air_kwh = cut.0 + cut.1;
+    let kwh = air_kwh - alt_kwh;
+    if kwh <= 0.0 {
+        return None;
+    }
+    let (lo, hi) = demand_rel(r, false);
+    let (low_kwh, high_kwh) = band(air_kwh, lo, hi);
+    let mut next = p.clone();
+    next.take_demand(r.trim, cut);
+    let mut basis = vec![
+        text!["air given back ", flow(t.dq)],
+        text!["marginal specific power ", specific(per)],
+        text![format!(
+            "hours priced {:.0} h/yr{}",
+            if t.production_only { production_hours } else { p.demand_hours },
+            if t.production_only { " (production)" } else { "" }
+        )],
+    ];
+    if alt_kwh > 0.0 {
+        basis.push(text![format!("the electric alternatives' own use {:.0} kWh/yr", alt_kwh)]);
+    }
+    let draft = Draft {
+        kind: t.kind,
+        title: t.title,
+        description: t.description,
+        saving_kwh: kwh,
+        low_kwh: (low_kwh - alt_kwh).max(0.0),
+        high_kwh: (high_kwh - alt_kwh).min(p.trim_above_idle_kwh.max(kwh)),
+        acts_on_kwh: p.trim_above_idle_kwh,
+        money: None,
+        cost_ctx: CostContext { items: t.items as f64, ..Default::default() },
+        basis,
+        formula: t.formula,
+        source: t.source,
+        method: t.method,
+        caution: Some(safety::TREATMENT_MEASURE_CAUTION.to_string()),
+        scenario_id: None,
+    };
+    Some((draft, next))
+}
+
+pub(super) fn dew_point_control(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
+    let c = &r.treatment;
+    treatment_measure(
+        r,
+        p,
+        TreatmentStep {
+            kind: MeasureKind::DewPointControl,
+            dq: c.dew_point_m3_min,
+            production_only: false,
+            alt_kw: 0.0,
+            items: c.dew_point_dryers,
+            title: text!["Switch desiccant dryers by dew point: about ", flow(c.dew_point_m3_min), " less purge"],
+            description: text![format!(
+                "Let the {} desiccant dryer(s) on a fixed cycle switch towers by the outlet dew point, so that \
+                 the purge follows the moisture load instead of running at its full share all day.",
+                c.dew_point_dryers
+            )],
+            formula: "saving = (purge on a fixed cycle - purge × load) × marginal kW/(m³/min) × hours",
+            source: "purge of heatless dryers 15-20 % of rated flow: US DOE compressed-air sourcebook; purge following the load: common practice",
+            method: "purge air not made, at the trim's part-load slope over the running hours; range from the slope and the annual hours",
+        },
+    )
+}
+
+pub(super) fn zero_loss_drains(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
+    let c = &r.treatment;
+    treatment_measure(
+        r,
+        p,
+        TreatmentStep {
+            kind: MeasureKind::ZeroLossDrains,
+            dq: c.drains_m3_min,
+            production_only: false,
+            alt_kw: 0.0,
+            items: c.lossy_drains,
+            title: text!["Fit zero-loss drains: about ", flow(c.drains_m3_min), " less air blown"],
+            description: text![format!(
+                "Replace the {} timer or open drain(s) with level-sensing drains that open only when there \
+                 is condensate.",
+                c.lossy_drains
+            )],
+            formula: "saving = orifice flow × open time / interval × marginal kW/(m³/min) × hours",
+            source: "orifice discharge of air (compressible nozzle); timer drains blow whether or not there is condensate: common practice",
+            method: "drain air not made, at the trim's part-load slope over the running hours; range from the slope and the annual hours",
+        },
+    )
+}
+
+pub(super) fn replace_inappropriate_uses(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
+    let c = &r.treatment;
+    treatment_measure(
+        r,
+        p,
+        TreatmentStep {
+            kind: MeasureKind::ReplaceInappropriateUses,
+            dq: c.inappropriate_m3_min,
+            production_only: true,
+            alt_kw: c.alternative_kw,
+            items: c.inappropriate_uses,
+            title: text!["Use electric drives, blowers or fans where air is used inappropriately: about ", flow(c.inappropriate_m3_min)],
+            description: text![format!(
+                "Give the {} use line(s) recorded as open blowing, cooling, air motors, diaphragm pumps or \
+                 sparging an electric alternative; the saving is the air's energy less the alternative's own.",
+                c.inappropriate_uses
+            )],
+            formula: "saving = air of the uses × marginal kW/(m³/min) × production hours - alternative kW × production hours",
+            source: "inappropriate uses as the US DOE compressed-air sourcebook names them; alternative's kW as recorded",
+            method: "air not made in production at the trim's part-load slope, less the alternatives' electricity; range from the slope and the annual hours",
+        },
+    )
+}

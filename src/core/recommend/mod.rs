@@ -14,6 +14,9 @@ energy above idle.
 | `shut_off_idle` | energy spent unloaded in non-production hours; when the trim is among the machines switched off, also the leaks left × marginal power over its non-production hours (held at its energy above idle then), and later demand cuts are priced in production hours only | 800 per compressor (timer or sequencer rule) |
 | `improve_control` | the best replayed scenario (below) on the energy left, else (the trim's logged energy - the same demand on a variable-speed trim) × the trim's energy above idle left / logged - its unloaded energy already switched off | the scenario's cost (quoted, or `simulate::default_cost`); else 350 per kW of trim rating (a VSD trim), 3000 fixed when the audit already has a VSD to sequence as trim |
 | `replace_compressor` | when the mean loaded power is more than 10 % above the data sheet's full-load power corrected to the mean pressure while loaded (ratio of isentropic work, `thermo::power_at_pressure`): loaded hours × (measured loaded kW - that corrected kW) × the machine's loaded energy left / logged; nothing once the trim it is has been replaced by the control measure | 400 per kW rated |
+| `dew_point_control` | purge a fixed-cycle desiccant dryer would not blow with dew-point switching (its purge × (1 - load through it), `core::treatment`) × marginal kW/(m³/min) × the hours left, held at the trim's energy above idle | 2500 per dryer |
+| `zero_loss_drains` | the timer and open drains' air (orifice flow × open time / interval) × marginal kW/(m³/min) × the hours left | 500 per drain |
+| `replace_inappropriate_uses` | the air of inappropriate uses that have an electric alternative on record × marginal kW/(m³/min) × the production hours left, less the alternatives' kW × those hours; none when that is not positive | 1500 per use line |
 
 **Stacked** (`stack`): each measure is priced alone (`standalone_*`), ranked by that payback (the
 auditor's `order` first, `excluded` left out), then priced again on the plant the measures before
@@ -100,6 +103,9 @@ pub enum MeasureKind {
     ShutOffIdle,
     ImproveControl,
     ReplaceCompressor,
+    DewPointControl,
+    ZeroLossDrains,
+    ReplaceInappropriateUses,
 }
 
 impl MeasureKind {
@@ -110,6 +116,9 @@ impl MeasureKind {
         Self::ShutOffIdle,
         Self::ImproveControl,
         Self::ReplaceCompressor,
+        Self::DewPointControl,
+        Self::ZeroLossDrains,
+        Self::ReplaceInappropriateUses,
     ];
 
     /// The API name (`repair_leaks`, ...), the same as the JSON spelling.
@@ -121,12 +130,31 @@ impl MeasureKind {
             Self::ShutOffIdle => "shut_off_idle",
             Self::ImproveControl => "improve_control",
             Self::ReplaceCompressor => "replace_compressor",
+            Self::DewPointControl => "dew_point_control",
+            Self::ZeroLossDrains => "zero_loss_drains",
+            Self::ReplaceInappropriateUses => "replace_inappropriate_uses",
         }
     }
 
     pub fn parse(s: &str) -> Option<Self> {
         Self::ALL.iter().copied().find(|k| k.as_str() == s)
     }
+}
+
+/// What the treatment and end-use records offer the measures (free air, m³/min).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct TreatmentCuts {
+    /// Purge that dew-point control would save on the fixed-cycle desiccant dryers, and how many.
+    pub dew_point_m3_min: f64,
+    pub dew_point_dryers: usize,
+    /// Air the timer (and open) drains lose, and how many.
+    pub drains_m3_min: f64,
+    pub lossy_drains: usize,
+    /// Inappropriate uses with an electric alternative on record: their air while production runs,
+    /// the alternatives' mean input then, kW, and how many use lines.
+    pub inappropriate_m3_min: f64,
+    pub alternative_kw: f64,
+    pub inappropriate_uses: usize,
 }
 
 /// Where a measure's implementation cost comes from.
@@ -286,6 +314,8 @@ pub struct CostContext {
     pub has_vsd: bool,
     /// The cost of a replayed scenario (quoted or estimated by `simulate`); replaces the rate.
     pub scenario_cost: Option<f64>,
+    /// Dryers, drains or end-use lines a treatment measure changes.
+    pub items: f64,
 }
 
 /// Default rate of a kind (module doc table), common practice, from memory.
@@ -298,6 +328,9 @@ pub fn default_rate(kind: MeasureKind, ctx: &CostContext) -> f64 {
         MeasureKind::ImproveControl if ctx.has_vsd => costs::SEQUENCER,
         MeasureKind::ImproveControl => costs::VSD_TRIM_PER_KW,
         MeasureKind::ReplaceCompressor => costs::PER_KW_FIXED_SPEED,
+        MeasureKind::DewPointControl => costs::DEW_POINT_CONTROL_PER_DRYER,
+        MeasureKind::ZeroLossDrains => costs::ZERO_LOSS_DRAIN,
+        MeasureKind::ReplaceInappropriateUses => costs::ALTERNATIVE_PER_USE,
     }
 }
 
@@ -309,6 +342,9 @@ fn cost_with_rate(kind: MeasureKind, ctx: &CostContext, rate: f64) -> f64 {
         MeasureKind::ImproveControl if ctx.has_vsd => rate,
         MeasureKind::ImproveControl | MeasureKind::ReplaceCompressor => rate * ctx.rated_kw,
         MeasureKind::LowerPressure => rate,
+        MeasureKind::DewPointControl
+        | MeasureKind::ZeroLossDrains
+        | MeasureKind::ReplaceInappropriateUses => rate * ctx.items.max(1.0),
     }
 }
 
@@ -499,6 +535,9 @@ pub struct RecommendInput<'a> {
     pub control: Option<ControlCase>,
     pub heat: Option<HeatCase>,
     pub costs: &'a CostOverrides,
+    /// The air the dryers, drains and inappropriate uses on record could give back
+    /// (`core::treatment`, `analysis::transmission`); zero without records.
+    pub treatment: TreatmentCuts,
     /// Stored what-if results of the audit's present data (may be empty).
     pub scenarios: &'a [ScenarioCase],
 }

@@ -41,6 +41,9 @@ fn price(r: &RecommendInput, slot: Slot, p: &Plant, first: &Plant) -> Option<(Dr
         Slot::Kind(MeasureKind::ImproveControl) => measures::improve_control(r, p, first),
         Slot::Kind(MeasureKind::RecoverHeat) => measures::recover_heat(r, p, first).map(|d| (d, p.clone())),
         Slot::Replace(i) => measures::replace_compressor(r, p, first, i),
+        Slot::Kind(MeasureKind::DewPointControl) => measures::dew_point_control(r, p),
+        Slot::Kind(MeasureKind::ZeroLossDrains) => measures::zero_loss_drains(r, p),
+        Slot::Kind(MeasureKind::ReplaceInappropriateUses) => measures::replace_inappropriate_uses(r, p),
         Slot::Kind(MeasureKind::ReplaceCompressor) => None,
     }
 }
@@ -57,6 +60,9 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
         MeasureKind::RecoverHeat,
         MeasureKind::ShutOffIdle,
         MeasureKind::ImproveControl,
+        MeasureKind::DewPointControl,
+        MeasureKind::ZeroLossDrains,
+        MeasureKind::ReplaceInappropriateUses,
     ]
     .into_iter()
     .map(Slot::Kind)

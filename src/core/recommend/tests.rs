@@ -82,6 +82,7 @@ fn input<'a>(
         heat: None,
         costs,
         scenarios: &[],
+        treatment: Default::default(),
     }
 }
 
@@ -534,4 +535,77 @@ fn a_plan_is_checked_and_reads_back() {
     assert_eq!(back, o);
     // Unknown fields are refused.
     assert!(serde_json::from_str::<MeasureOptions>(r#"{"ordre": []}"#).is_err());
+}
+
+#[test]
+fn treatment_measures_are_priced_and_stacked_as_computed_by_hand() {
+    // The invented plant of `savings_stack_in_order_as_computed_by_hand`: marginal m = 55 × 0.75 /
+    // 9.5 = 4.342105 kW/(m³/min), 8000 running h/yr of which 3000 out of production (5000 in), 150 000
+    // kWh/yr above idle (40 000 out of production): no cap binds. Records on file offer 1.0 m³/min of
+    // purge (one fixed-cycle dryer), 0.2 m³/min of drain air (two timer drains), and 0.5 m³/min of
+    // open blowing in production whose blower would draw 0.5 kW then.
+    let s = site();
+    let cs = [lu()];
+    let ms = [MachineUse {
+        annual_running_non_production_hours: 3000.0,
+        annual_above_idle_non_production_kwh: 40_000.0,
+        ..trim_use()
+    }];
+    let mut costs = CostOverrides::default();
+    costs.options.excluded = vec![
+        MeasureKind::RepairLeaks,
+        MeasureKind::LowerPressure,
+        MeasureKind::ShutOffIdle,
+        MeasureKind::ImproveControl,
+        MeasureKind::RecoverHeat,
+    ];
+    costs.options.order = vec![
+        MeasureKind::DewPointControl,
+        MeasureKind::ZeroLossDrains,
+        MeasureKind::ReplaceInappropriateUses,
+    ];
+    let mut inp = input(&s, &cs, &ms, &costs);
+    inp.treatment = TreatmentCuts {
+        dew_point_m3_min: 1.0,
+        dew_point_dryers: 1,
+        drains_m3_min: 0.2,
+        lossy_drains: 2,
+        inappropriate_m3_min: 0.5,
+        alternative_kw: 0.5,
+        inappropriate_uses: 1,
+    };
+    let m = 55.0 * 0.75 / 9.5;
+    let r = recommend(&inp, &si(&s));
+    let kinds: Vec<MeasureKind> = r.iter().map(|x| x.kind).collect();
+    assert_eq!(
+        kinds,
+        vec![
+            MeasureKind::DewPointControl,
+            MeasureKind::ZeroLossDrains,
+            MeasureKind::ReplaceInappropriateUses
+        ]
+    );
+    // Dew point: 1.0 × m × 8000 h (in and out of production) = 34 736.8 kWh; 2 500 for one dryer.
+    let dew = 1.0 * m * 8000.0;
+    assert!((r[0].annual_energy_saving_kwh - dew).abs() < 1e-6, "{}", r[0].annual_energy_saving_kwh);
+    assert_eq!(r[0].implementation_cost, 2500.0);
+    // Drains: 0.2 × m × 8000 = 6 947.4 kWh; 500 each for two.
+    let drains = 0.2 * m * 8000.0;
+    assert!((r[1].annual_energy_saving_kwh - drains).abs() < 1e-6);
+    assert_eq!(r[1].implementation_cost, 1000.0);
+    // Open blowing: in production only, 0.5 × m × 5000 - 0.5 kW × 5000 h = 10 855.3 - 2 500.
+    let blow = 0.5 * m * 5000.0 - 0.5 * 5000.0;
+    assert!((r[2].annual_energy_saving_kwh - blow).abs() < 1e-6, "{}", r[2].annual_energy_saving_kwh);
+    // No cap binds, so each stacked saving is its saving alone; each carries the caution.
+    for x in &r {
+        assert!((x.annual_energy_saving_kwh - x.standalone_annual_energy_saving_kwh).abs() < 1e-6);
+        assert!(x.caution.as_deref().is_some_and(|c| c.contains("isolate")), "{:?}", x.caution);
+        assert!(x.annual_energy_saving_kwh_low <= x.annual_energy_saving_kwh);
+        assert!(x.annual_energy_saving_kwh_high >= x.annual_energy_saving_kwh);
+    }
+    let total = stack_total(&r, &costs.options.excluded).unwrap();
+    assert!((total.annual_energy_saving_kwh - (dew + drains + blow)).abs() < 1e-6);
+    // An electric alternative that draws more than the air it saves is no measure.
+    inp.treatment.alternative_kw = 5.0;
+    assert!(recommend(&inp, &si(&s)).iter().all(|x| x.kind != MeasureKind::ReplaceInappropriateUses));
 }
