@@ -24,6 +24,8 @@ mod hostile_validation;
 mod hostile_web;
 #[path = "integration/ingest.rs"]
 mod ingest;
+#[path = "integration/reader_units.rs"]
+mod reader_units;
 #[path = "integration/real_files.rs"]
 mod real_files;
 #[path = "integration/undo.rs"]

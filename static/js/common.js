@@ -16,6 +16,59 @@ window.airledger = {
     for (const c of children) e.append(c instanceof Node ? c : document.createTextNode(String(c)));
     return e;
   },
+  // Inputs in the reader's units: a field with data-entry="<kind>" is typed in the unit the page
+  // data's `entry` table names for that kind (core::entry, NIST SP 811 factors) and posted as the
+  // stored value, stored = typed × factor + offset. A field filled from a stored value keeps that
+  // value exactly while its text is left as shown, so saving an unchanged form moves nothing.
+  entry: {
+    unit(table, el) {
+      const k = el.getAttribute("data-entry");
+      return k && table && table.fields[k] ? table.fields[k] : null;
+    },
+    stored(table, el) {
+      const u = this.unit(table, el);
+      if (el.dataset.shown !== undefined && el.value === el.dataset.shown) return Number(el.dataset.stored);
+      const v = Number(String(el.value).replace(",", "."));
+      return u ? v * u.factor + u.offset : v;
+    },
+    fill(table, el, stored) {
+      const u = this.unit(table, el);
+      const v = u ? (Number(stored) - u.offset) / u.factor : Number(stored);
+      const text = String(Number(v.toPrecision(9)));
+      el.value = text;
+      el.dataset.shown = el.value;
+      el.dataset.stored = String(stored);
+    },
+  },
+  // Times as the site's clocks show them (IANA zone `tz`), with the zone named.
+  wall(ms, tz) {
+    const f = new Intl.DateTimeFormat("en-GB", { timeZone: tz || "UTC", year: "numeric", month: "2-digit", day: "2-digit",
+      hour: "2-digit", minute: "2-digit", second: "2-digit", hourCycle: "h23" });
+    const p = {};
+    for (const x of f.formatToParts(new Date(ms))) p[x.type] = x.value;
+    return p;
+  },
+  // RFC 3339 with the site's offset: "2026-03-15T02:00:00-06:00".
+  isoLocal(ms, tz) {
+    const p = this.wall(ms, tz);
+    const asUtc = Date.UTC(+p.year, +p.month - 1, +p.day, +p.hour, +p.minute, +p.second);
+    const off = Math.round((asUtc - Math.floor(ms / 1000) * 1000) / 60000);
+    const sign = off < 0 ? "-" : "+", a = Math.abs(off);
+    const pad = (n) => String(n).padStart(2, "0");
+    return p.year + "-" + p.month + "-" + p.day + "T" + p.hour + ":" + p.minute + ":" + p.second +
+      (off === 0 ? "Z" : sign + pad(Math.floor(a / 60)) + ":" + pad(a % 60));
+  },
+  // "Sun 15 Mar 2026 02:00 CST".
+  localTime(ms, tz) {
+    const f = new Intl.DateTimeFormat("en-GB", { timeZone: tz || "UTC", weekday: "short", day: "numeric", month: "short",
+      year: "numeric", hour: "2-digit", minute: "2-digit", hourCycle: "h23", timeZoneName: "short" });
+    return f.format(new Date(ms)).replace(/,/g, "");
+  },
+  // A short tick label in the site's time: "03-15 02:00".
+  tick(ms, tz) {
+    const p = this.wall(ms, tz);
+    return p.month + "-" + p.day + " " + p.hour + ":" + p.minute;
+  },
   async json(url, options) {
     const r = await fetch(url, options);
     const body = await r.json().catch(() => ({}));

@@ -6,6 +6,7 @@ use axum::extract::{Path, Query, State};
 use axum::response::Response;
 
 use super::view::{report_view, ReportView};
+use super::words::{local_time, test_rows, TestRow};
 use super::{reader_fmt, render, PageError, ViewQuery};
 use crate::app::App;
 use crate::core::display::Fmt;
@@ -25,6 +26,11 @@ struct FindingsPage {
     system_volume_m3: f64,
     atmosphere: String,
     printed: String,
+    other_units: &'static str,
+    other_units_label: &'static str,
+    tests: Vec<TestRow>,
+    /// Each file's first and last reading in the site's time.
+    spans: Vec<(String, String)>,
 }
 
 async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage, AppError> {
@@ -32,7 +38,25 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
     let sm = app.summary(id, None).await?;
     let fmt = reader_fmt(&b, q);
     let view = report_view(&b, &fmt, sm.figures());
+    let (other_units, other_units_label) = if fmt.is_us() {
+        ("si", "Show SI units (bar, m³/min)")
+    } else {
+        ("us", "Show US customary units (psig, cfm)")
+    };
+    let tz = b.audit.site.timezone.clone();
+    let spans = b
+        .uploads
+        .iter()
+        .map(|u| {
+            let at = |t: &Option<String>| t.as_deref().map(|t| local_time(t, &tz)).unwrap_or_default();
+            (at(&u.first), at(&u.last))
+        })
+        .collect();
     Ok(FindingsPage {
+        other_units,
+        other_units_label,
+        tests: test_rows(&b.field_tests, &fmt, &tz),
+        spans,
         system_volume_m3: b.storage().system_volume_m3(),
         atmosphere: format!("{:.2} kPa abs", b.audit.site.atmospheric_pressure_kpa_abs()),
         printed: jiff::Zoned::now().date().to_string(),

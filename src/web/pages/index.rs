@@ -28,7 +28,7 @@ pub async fn create_audit(
     Form(form): Form<HashMap<String, String>>,
 ) -> PageResult {
     let name = opt_text(&form, "name").ok_or_else(|| FieldError::new("name", "the audit needs a name"))?;
-    let patch = site_patch(&form)?;
+    let patch = site_patch(&form, None)?;
     let id = st.app.create_audit(&name, &patch).await?;
     Ok(Redirect::to(&format!("/audits/{id}")).into_response())
 }

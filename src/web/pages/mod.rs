@@ -13,12 +13,14 @@ pub mod confirm;
 pub mod edit;
 pub mod findings;
 pub mod index;
+pub mod inputs;
 pub mod remap;
 pub mod report;
 pub mod scenarios;
 pub mod tests;
 pub mod upload;
 pub mod view;
+pub mod words;
 
 use askama::Template;
 use axum::http::StatusCode;
