@@ -69,13 +69,23 @@ window.airledger = {
     const p = this.wall(ms, tz);
     return p.month + "-" + p.day + " " + p.hour + ":" + p.minute;
   },
+  // An API error's field in words for a person; none for a column's own fields (the column is named).
+  fieldWords(field) {
+    if (!field) return null;
+    const words = { "timestamp.timezone": "time zone", "timestamp.format": "how dates are written", "timestamp.column": "timestamp column",
+      delimiter: "delimiter", decimal: "decimal mark", header_line: "line with the column names", units_line: "line with the units",
+      first_data_line: "first data line", columns: "columns" };
+    if (words[field]) return words[field];
+    if (/^columns\[/.test(field)) return null;
+    return field.replace(/_(bar_g|m3_min|m3|kw|s|c|mm)$/, "").replace(/[._]/g, " ");
+  },
   async json(url, options) {
     const r = await fetch(url, options);
     const body = await r.json().catch(() => ({}));
     if (!r.ok) {
       const e = body && body.error ? body.error : { message: "HTTP " + r.status };
       const where = [e.line ? "line " + e.line : null, e.column ? "column \u201c" + e.column + "\u201d" : null,
-        e.field ? "field " + e.field : null].filter(Boolean).join(", ");
+        e.column ? null : window.airledger.fieldWords(e.field)].filter(Boolean).join(", ");
       throw new Error(e.message + (where ? " (" + where + ")" : ""));
     }
     return body;

@@ -203,3 +203,79 @@ fn field_test_and_what_if_pages_label_us_units_and_say_tests_in_words() {
     let si = s.get(&format!("/audits/{id}/findings?units=si")).text;
     assert!(si.contains("Show US customary units"));
 }
+
+/// The JSON inside `<script type="application/json" id="{id}">` of a page.
+fn script_json(html: &str, id: &str) -> Value {
+    let open = format!("id=\"{id}\">");
+    let at = html.find(&open).unwrap_or_else(|| panic!("no {id}")) + open.len();
+    let end = at + html[at..].find("</script>").unwrap();
+    serde_json::from_str(&html[at..end]).unwrap()
+}
+
+#[test]
+fn times_are_the_sites_and_zones_come_from_the_list() {
+    let s = Server::start();
+    // A time zone that is not an IANA name: the form again with the reason, not a bare error page.
+    let r =
+        s.post_form("/audits", &[("name", "Chicago plant"), ("timezone", "CST"), ("display_units", "us")]);
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert!(r.text.contains("id=\"create-error\"") && r.text.contains("unknown time zone"), "{}", r.text);
+    assert!(
+        r.text.contains("<datalist id=\"zones\">") && r.text.contains("<option value=\"America/Chicago\">")
+    );
+    assert_eq!(s.get("/").status, 200);
+
+    let id = us_audit(&s);
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/compressors"),
+        &json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+                "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    // The logger's zone defaults to the audit's on the upload form.
+    let up = s.get(&format!("/audits/{id}/upload")).text;
+    assert!(
+        up.contains("id=\"m-ts-zone\" value=\"America/Chicago\""),
+        "the logger zone defaults to the audit's"
+    );
+    // Actual-volume units are offered, labelled as people write them.
+    let units = &script_json(&up, "page-data")["units"]["flow"];
+    assert!(
+        units.as_array().unwrap().iter().any(|u| u["code"] == "acfm" && u["label"] == "acfm (actual)"),
+        "{units}"
+    );
+
+    // Three hours logged from 2026-03-08 04:00 UTC: Sat 7 Mar 22:00 to Sun 8 Mar 00:59:50 in
+    // Chicago (CST, UTC-6, until 08:00 UTC that day, IANA tz database): two local days.
+    let start = 1_772_942_400; // 2026-03-08T04:00:00Z
+    let r = s.upload(id, "a.csv", cycling_csv_at(start, 3).as_bytes(), &cycling_mapping(), "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let page = s.get(&format!("/audits/{id}")).text;
+    assert!(page.contains("Sat 7 Mar 2026 22:00 CST"), "the file table shows local time with the zone");
+    assert!(!page.contains("2026-03-08T04:00:00Z"));
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    let days = &script_json(&report, "chart-data")["days"];
+    assert_eq!(days.as_array().map(Vec::len), Some(2), "{days}");
+    assert_eq!(days[0]["label"], "Sat 7 Mar 2026");
+    // Sat 7 Mar starts at its local midnight, 06:00 UTC (CST).
+    assert_eq!(days[0]["start_ms"], 1_772_863_200_000_i64);
+    assert_eq!(days[1]["label"], "Sun 8 Mar 2026");
+    // Sun 8 Mar is 23 h long: clocks went forward at 02:00.
+    assert_eq!(days[1]["end_ms"].as_i64().unwrap() - days[1]["start_ms"].as_i64().unwrap(), 23 * 3_600_000);
+}
+
+#[test]
+fn an_actual_volume_flow_without_its_line_is_refused_in_words() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let mut mapping = cycling_mapping();
+    mapping["columns"][2]["unit"] = json!("acfm");
+    let r = s.upload(id, "a.csv", cycling_csv(1).as_bytes(), &mapping, "");
+    assert_eq!(r.status, 422, "{}", r.text);
+    let m = r.json()["error"]["message"].as_str().unwrap().to_string();
+    assert!(m.contains("column \"flow m3/min\" logs actual volume (acfm (actual))"), "{m}");
+    assert!(!m.contains('{') && !m.contains("pressure_bar_g"), "no JSON in the message: {m}");
+    // With a line pressure logged in the file's own pressure column and a fixed temperature it imports.
+    mapping["columns"][2]["line"] = json!({"pressure_column": "header bar", "temperature_c": 30});
+    assert_eq!(s.upload(id, "a.csv", cycling_csv(1).as_bytes(), &mapping, "").status, 201);
+}

@@ -110,6 +110,7 @@ struct AuditPage {
     spans: Vec<(String, String)>,
     fmt: Fmt,
     inp: Inputs,
+    zones: Vec<String>,
     atmosphere: String,
     atmosphere_source: &'static str,
     system_volume_m3: f64,
@@ -143,6 +144,7 @@ fn audit_page(b: AuditBundle, error: Option<String>) -> AuditPage {
             "from the altitude by the ISO 2533 standard atmosphere"
         },
         inp: Inputs::new(fmt.units),
+        zones: super::zone_names(),
         fmt,
         system_volume_m3,
         heating_months,

@@ -46,6 +46,7 @@ struct RemapPage {
     units: Vec<(&'static str, Vec<(&'static str, &'static str)>)>,
     compressors: Vec<String>,
     timezone: String,
+    zones: Vec<String>,
     format: String,
     error: Option<String>,
 }
@@ -136,6 +137,7 @@ fn page(
             .collect(),
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         timezone: m.timestamp.timezone.clone(),
+        zones: super::zone_names(),
         format: m.timestamp.format.clone(),
         error,
         audit: b.audit,

@@ -647,6 +647,12 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
         "timezone": b.audit.site.timezone,
         "first_ms": b.channels.iter().map(|c| c.first_ms).min(),
         "last_ms": b.channels.iter().map(|c| c.last_ms).max(),
+        // The site's local days the channels were logged on (the day selector), at most 1,000.
+        "days": super::words::local_days(
+            &b.channels.iter().map(|c| (c.first_ms, c.last_ms)).collect::<Vec<_>>(),
+            &b.audit.site.timezone,
+            1000,
+        ).into_iter().map(|(a, z, label)| serde_json::json!({"start_ms": a, "end_ms": z, "label": label})).collect::<Vec<_>>(),
         "channels": channels,
         "units": {
             "system": if us { "us" } else { "si" },

@@ -25,6 +25,29 @@ pub fn local_ms(ms: i64, tz: &str) -> String {
     ts.to_zoned(zone).strftime("%a %-d %b %Y %H:%M %Z").to_string()
 }
 
+/// The site's local days that the logged spans `(first_ms, last_ms)` touch, in order, at most `cap`
+/// of them: each as (start, end) in ms UTC, cut at the zone's midnights (a daylight-saving day is
+/// 23 or 25 hours long), and its label ("Sun 8 Mar 2026").
+pub fn local_days(spans: &[(i64, i64)], tz: &str, cap: usize) -> Vec<(i64, i64, String)> {
+    let zone = jiff::tz::TimeZone::get(tz).unwrap_or(jiff::tz::TimeZone::UTC);
+    let mut days = std::collections::BTreeMap::new();
+    let date_of =
+        |ms: i64| jiff::Timestamp::from_millisecond(ms).ok().map(|t| t.to_zoned(zone.clone()).date());
+    let start_of =
+        |d: jiff::civil::Date| d.to_zoned(zone.clone()).ok().map(|z| z.timestamp().as_millisecond());
+    for &(first, last) in spans {
+        let (Some(mut d), Some(end)) = (date_of(first), date_of(last.max(first))) else { continue };
+        while d <= end && days.len() < cap {
+            let Ok(next) = d.tomorrow() else { break };
+            if let (Some(a), Some(b)) = (start_of(d), start_of(next)) {
+                days.entry(a).or_insert_with(|| (b, d.strftime("%a %-d %b %Y").to_string()));
+            }
+            d = next;
+        }
+    }
+    days.into_iter().take(cap).map(|(a, (b, label))| (a, b, label)).collect()
+}
+
 /// A recorded field test as the tests page and the findings show it.
 pub struct TestRow {
     pub id: i64,
@@ -192,6 +215,27 @@ mod tests {
         // In July Chicago keeps CDT = UTC-5.
         assert_eq!(local_time("2020-07-01T12:00:00Z", "America/Chicago"), "Wed 1 Jul 2020 07:00 CDT");
         assert_eq!(local_time("not a time", "America/Chicago"), "not a time");
+    }
+
+    #[test]
+    fn days_are_cut_at_the_sites_midnight_and_daylight_saving_days_are_23_hours() {
+        // US daylight saving began on Sun 8 Mar 2026 at 02:00 local (second Sunday of March,
+        // Energy Policy Act of 2005): Chicago's midnight is 06:00 UTC that day (CST, UTC-6) and
+        // 05:00 UTC the next (CDT, UTC-5).
+        let mar8 = 1_772_949_600_000; // 2026-03-08T06:00:00Z
+        let days = local_days(&[(mar8 + 3_600_000, mar8 + 30 * 3_600_000)], "America/Chicago", 100);
+        assert_eq!(days.len(), 2, "{days:?}");
+        assert_eq!(days[0], (mar8, mar8 + 23 * 3_600_000, "Sun 8 Mar 2026".to_string()));
+        assert_eq!(days[1].0, mar8 + 23 * 3_600_000);
+        assert_eq!(days[1].2, "Mon 9 Mar 2026");
+        // Files years apart give their own days, not every day between them.
+        let apart = local_days(
+            &[(mar8, mar8 + 1000), (mar8 + 3_000 * 86_400_000, mar8 + 3_000 * 86_400_000 + 1000)],
+            "UTC",
+            100,
+        );
+        assert_eq!(apart.len(), 2);
+        assert_eq!(local_days(&[(0, 400 * 86_400_000)], "UTC", 10).len(), 10);
     }
 
     #[test]
