@@ -104,7 +104,8 @@
       const s = await A.json(base + "/series?channel=" + c.id + "&points=600");
       const atm = data.atmosphere_pa;
       const f = c.quantity === "pressure" ? (v) => (v - atm) / 1e5 : (v) => v * 60;
-      datasets.push({ label: c.quantity === "pressure" ? c.label + ", " + unit("gauge_pressure") : c.label + ", " + unit("free_air_flow") + " free air",
+      const what = chans.filter((o) => o.quantity === c.quantity).length > 1 ? c.quantity + " (column \u201c" + c.label + "\u201d)" : c.quantity;
+      datasets.push({ label: c.quantity === "pressure" ? what + ", " + unit("gauge_pressure") : what + ", " + unit("free_air_flow") + " free air",
         data: s.t_ms.map((t, i) => ({ x: t, y: toReader(c.quantity === "pressure" ? "gauge_pressure" : "free_air_flow", f(s.mean[i])) })), yAxisID: c.quantity === "pressure" ? "p" : "q",
         pointRadius: 0, borderWidth: 1.2, borderColor: c.quantity === "pressure" ? "#0f4c5c" : "#f2a541" });
     }

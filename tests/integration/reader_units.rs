@@ -279,3 +279,63 @@ fn an_actual_volume_flow_without_its_line_is_refused_in_words() {
     mapping["columns"][2]["line"] = json!({"pressure_column": "header bar", "temperature_c": 30});
     assert_eq!(s.upload(id, "a.csv", cycling_csv(1).as_bytes(), &mapping, "").status, 201);
 }
+
+/// The text a person reads on a page: the markup without scripts, tags and attributes.
+fn visible_text(html: &str) -> String {
+    let mut out = String::new();
+    let mut rest = html;
+    while let Some(i) = rest.find("<script") {
+        out.push_str(&rest[..i]);
+        rest = rest[i..].find("</script>").map_or("", |j| &rest[i + j + 9..]);
+    }
+    out.push_str(rest);
+    let mut text = String::new();
+    let mut in_tag = false;
+    for ch in out.chars() {
+        match ch {
+            '<' => in_tag = true,
+            '>' => {
+                in_tag = false;
+                text.push(' ');
+            }
+            c if !in_tag => text.push(c),
+            _ => {}
+        }
+    }
+    text
+}
+
+#[test]
+fn no_internal_names_on_the_demo_pages() {
+    let s = Server::demo();
+    let id = 1;
+    for page in ["", "/upload", "/tests", "/scenarios", "/report", "/findings", "/findings?units=us"] {
+        let r = s.get(&format!("/audits/{id}{page}"));
+        assert_eq!(r.status, 200, "{page}");
+        let text = visible_text(&r.text);
+        for internal in [
+            "(states module)",
+            "Python library",
+            "documented rule",
+            "replace=true",
+            "bar_g",
+            "m3_min",
+            "Nm3_h",
+            "columns[",
+            "{\"",
+            "unloaded_power_factor",
+        ] {
+            assert!(!text.contains(internal), "{page} shows {internal:?}");
+        }
+    }
+    // Chart legends say what is measured, not the file's column code.
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    let names: Vec<String> = script_json(&report, "chart-data")["channels"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c["name"].as_str().unwrap().to_string())
+        .collect();
+    assert!(names.iter().all(|n| !n.contains("_bar_g") && !n.contains("_Nm3_h")), "{names:?}");
+    assert!(names.iter().any(|n| n == "pressure"), "{names:?}");
+}

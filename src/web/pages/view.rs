@@ -620,10 +620,14 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
         .iter()
         .filter(|c| c.quantity != "temperature")
         .map(|c| {
-            let name = match (&c.compressor_tag, c.quantity.as_str()) {
-                (Some(t), _) => t.clone(),
-                (None, "pressure") => format!("pressure at {}", c.label),
-                (None, q) => format!("{q} at {}", c.label),
+            // The legend says what is measured; the file's column name (often a code such as
+            // `header_bar_g`) only tells apart two channels of one quantity, quoted as the file has it.
+            let same = b.channels.iter().filter(|o| o.quantity == c.quantity && o.compressor_tag.is_none()).count();
+            let what = if c.quantity == "flow" { "flow" } else { c.quantity.as_str() };
+            let name = match &c.compressor_tag {
+                Some(t) => t.clone(),
+                None if same > 1 => format!("{what} (column \u{201c}{}\u{201d})", c.label),
+                None => what.to_string(),
             };
             serde_json::json!({"id": c.id, "quantity": if c.quantity == "energy" { "power" } else { c.quantity.as_str() }, "name": name, "counter": c.quantity == "energy"})
         })
