@@ -58,11 +58,14 @@ window.airledger = {
     return p.year + "-" + p.month + "-" + p.day + "T" + p.hour + ":" + p.minute + ":" + p.second +
       (off === 0 ? "Z" : sign + pad(Math.floor(a / 60)) + ":" + pad(a % 60));
   },
-  // "Sun 15 Mar 2026 02:00 CST".
+  // "Sun 15 Mar 2026 02:00 CST", as the server writes it (pages/words.rs).
   localTime(ms, tz) {
-    const f = new Intl.DateTimeFormat("en-GB", { timeZone: tz || "UTC", weekday: "short", day: "numeric", month: "short",
-      year: "numeric", hour: "2-digit", minute: "2-digit", hourCycle: "h23", timeZoneName: "short" });
-    return f.format(new Date(ms)).replace(/,/g, "");
+    const p = this.wall(ms, tz), d = new Date(ms), zone = tz || "UTC";
+    const part = (opts, type) => (new Intl.DateTimeFormat("en-US", Object.assign({ timeZone: zone }, opts))
+      .formatToParts(d).find((x) => x.type === type) || {}).value;
+    const name = part({ timeZoneName: "short" }, "timeZoneName") || zone;
+    return part({ weekday: "short" }, "weekday") + " " + Number(p.day) + " " + part({ month: "short" }, "month") + " " +
+      p.year + " " + p.hour + ":" + p.minute + " " + name;
   },
   // A short tick label in the site's time: "03-15 02:00".
   tick(ms, tz) {
