@@ -173,3 +173,52 @@ fn us_units_on_the_field_test_what_if_and_upload_forms() {
     let severe = b.severe_logs("forms in US units");
     assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
 }
+
+/// The printed findings (Chromium's PDF, read with `pdftotext -layout`): the site's name and the
+/// page number on page 2, no table cell holding a unit alone (a number wrapped from its unit), and
+/// the measures not pushed to a page of their own after a mostly blank one.
+#[test]
+#[cfg_attr(
+    not(any(all(has_browser, has_pdftools), ci)),
+    ignore = "needs Debian's chromium, chromium-driver and poppler-utils: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn printed_findings_carry_the_site_and_page_numbers_and_keep_numbers_with_units() {
+    let server = Server::demo();
+    let site = server.get("/api/v1/audits/1").json()["name"].as_str().unwrap().to_string();
+    let dir = TempDir::new("pdf-units");
+    let pdf = dir.path().join("findings.pdf");
+    let profile = TempDir::new("chromium-print-units");
+    let out = Command::new(chromium())
+        .args(QUIET_FLAGS)
+        .arg(format!("--user-data-dir={}", profile.path().display()))
+        .arg(format!("--print-to-pdf={}", pdf.display()))
+        .arg("--no-pdf-header-footer")
+        .arg(server.url("/audits/1/findings"))
+        .output()
+        .expect("run chromium --print-to-pdf");
+    assert!(pdf.exists(), "chromium wrote no PDF: {}", String::from_utf8_lossy(&out.stderr));
+    let p = pdf.to_str().unwrap();
+    let pages: usize = run_tool(pdfinfo(), &[p])
+        .lines()
+        .find_map(|l| l.strip_prefix("Pages:").map(|n| n.trim().parse().unwrap()))
+        .expect("page count");
+    assert!(pages >= 2, "{pages} pages");
+    let page2 = run_tool(pdftotext(), &["-layout", "-f", "2", "-l", "2", p, "-"]);
+    assert!(squash(&page2).contains(&squash(&site)), "no site name on page 2:\n{page2}");
+    assert!(page2.contains(&format!("page 2 of {pages}")), "no page number on page 2:\n{page2}");
+    let all = run_tool(pdftotext(), &["-layout", p, "-"]);
+    let units =
+        ["kWh", "MWh", "kW", "EUR", "bar(g)", "psig", "m³/min free air", "cfm free air", "%", "/h", "h"];
+    for line in all.lines() {
+        for cell in line.split("  ").map(str::trim).filter(|c| !c.is_empty()) {
+            assert!(!units.contains(&cell), "a unit printed apart from its number: {line:?}");
+        }
+    }
+    // The page before the measures is not left mostly blank: it holds at least 25 lines of text.
+    let per_page: Vec<&str> = all.split('\u{c}').collect();
+    let at = per_page.iter().position(|t| t.contains("Recommendations, ranked")).expect("measures printed");
+    if at > 0 {
+        let before = per_page[at - 1].lines().filter(|l| !l.trim().is_empty()).count();
+        assert!(before >= 25, "page {} before the measures holds {before} lines", at);
+    }
+}

@@ -234,9 +234,9 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
     }
     let p = &sm.period;
     let period = format!(
-        "{} to {} ({} h logged, {} s analysis step)",
-        p.start,
-        p.end,
+        "{} to {}, site time ({} h logged, {} s analysis step)",
+        super::words::local_time(&p.start, &b.audit.site.timezone),
+        super::words::local_time(&p.end, &b.audit.site.timezone),
         num(p.hours, 1),
         num(p.step_s, 0)
     );
