@@ -339,3 +339,47 @@ fn no_internal_names_on_the_demo_pages() {
     assert!(names.iter().all(|n| !n.contains("_bar_g") && !n.contains("_Nm3_h")), "{names:?}");
     assert!(names.iter().any(|n| n == "pressure"), "{names:?}");
 }
+
+/// Correcting a flow column to actual volume on the remap page takes its line in the reader's units;
+/// correcting it back drops the line (a line on a free-air unit would be refused).
+#[test]
+fn the_remap_page_takes_an_actual_volume_flows_line() {
+    let s = Server::start();
+    let id = us_audit(&s);
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/compressors"),
+        &json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+                "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let uid = s.upload(id, "a.csv", cycling_csv(1).as_bytes(), &cycling_mapping(), "").json()["upload_id"]
+        .as_i64()
+        .unwrap();
+    let page = s.get(&format!("/audits/{id}/uploads/{uid}/remap")).text;
+    assert!(page.contains("pressure, psig") && page.contains("temperature, °F"), "line fields in US units");
+    let r = s.post_form(
+        &format!("/audits/{id}/uploads/{uid}/remap"),
+        &[
+            ("entry_units", "us"),
+            ("col2_quantity", "flow"),
+            ("col2_unit", "am3_min"),
+            ("col2_line_pressure", "100"),
+            ("col2_line_temperature", "86"),
+        ],
+    );
+    assert_eq!(r.status, 303, "{}", r.text);
+    let uploads = s.get(&format!("/api/v1/audits/{id}")).json()["uploads"].clone();
+    let u = &uploads[0];
+    let line = &u["mapping"]["columns"][2]["line"];
+    // 100 psig = 6.894757 bar(g); 86 °F = 30 °C (NIST SP 811).
+    assert!(close(line["pressure_bar_g"].as_f64().unwrap(), 100.0 * BAR_PER_PSI), "{line}");
+    assert!((line["temperature_c"].as_f64().unwrap() - 30.0).abs() < 1e-9, "{line}");
+    let uid = u["id"].as_i64().unwrap();
+    let r = s.post_form(
+        &format!("/audits/{id}/uploads/{uid}/remap"),
+        &[("entry_units", "us"), ("col2_quantity", "flow"), ("col2_unit", "m3_min")],
+    );
+    assert_eq!(r.status, 303, "{}", r.text);
+    let u = s.get(&format!("/api/v1/audits/{id}")).json()["uploads"][0].clone();
+    assert!(u["mapping"]["columns"][2].get("line").is_none(), "{}", u["mapping"]);
+}
