@@ -7,7 +7,7 @@ kW/(m³/min), °C, m, mm) and, for US customary, the unit a US reader writes (ps
 kW/100 cfm, °F, ft, in). The step between them is affine, `stored = typed × factor + offset`, with
 the exact definitions behind the NIST SP 811 (2008) Appendix B factors:
 1 psi = 6 894.757 Pa, 1 ft³ = 2.831 685 × 10⁻² m³, 1 US gal = 3.785 412 × 10⁻³ m³,
-1 ft = 0.3048 m, 1 in = 25.4 mm, t/°C = (t/°F − 32)/1.8.
+1 ft = 0.3048 m, 1 in = 25.4 mm, t/°C = (t/°F − 32)/1.8; psia to kPa abs by the psi factor.
 
 A gauge pressure stays gauge: psig to bar(g) is the psi factor alone, whatever the site's
 atmosphere, since both count from it.
@@ -37,6 +37,8 @@ pub enum Entry {
     Altitude,
     /// A hole's diameter; stored in mm.
     Diameter,
+    /// The site's atmospheric (absolute) pressure; stored in kPa abs.
+    Atmosphere,
 }
 
 /// The unit a field is typed in and its step to the stored unit.
@@ -50,7 +52,7 @@ pub struct EntryUnit {
 }
 
 impl Entry {
-    pub const ALL: [Entry; 7] = [
+    pub const ALL: [Entry; 8] = [
         Entry::GaugePressure,
         Entry::FreeAirFlow,
         Entry::Volume,
@@ -58,6 +60,7 @@ impl Entry {
         Entry::Temperature,
         Entry::Altitude,
         Entry::Diameter,
+        Entry::Atmosphere,
     ];
 
     /// The field kind's name in page data (`data-entry` attributes of the page scripts).
@@ -70,6 +73,7 @@ impl Entry {
             Entry::Temperature => "temperature",
             Entry::Altitude => "altitude",
             Entry::Diameter => "diameter",
+            Entry::Atmosphere => "atmosphere",
         }
     }
 
@@ -94,6 +98,8 @@ impl Entry {
             (Entry::Altitude, UnitSystem::Us) => linear("ft", 0.3048),
             (Entry::Diameter, UnitSystem::Si) => linear("mm", 1.0),
             (Entry::Diameter, UnitSystem::Us) => linear("in", 25.4),
+            (Entry::Atmosphere, UnitSystem::Si) => linear("kPa abs", 1.0),
+            (Entry::Atmosphere, UnitSystem::Us) => linear("psia", PA_PER_PSI / 1000.0),
         }
     }
 
@@ -185,6 +191,8 @@ mod tests {
         assert_eq!(Entry::Altitude.to_stored(Us, 1000.0), 304.8);
         assert_eq!(Entry::Diameter.to_stored(Us, 0.0625), 1.5875);
         assert!(close(Entry::Temperature.to_stored(Us, 212.0), 100.0, 1e-12));
+        // The standard atmosphere, 101.325 kPa, is 14.696 psia (NIST SP 811 psi factor).
+        assert!(close(Entry::Atmosphere.to_stored(Us, 14.695_95), 101.325, 1e-6));
         assert!(close(Entry::Temperature.to_stored(Us, -40.0), -40.0, 1e-12));
         // 18 kW/100 cfm = 6.357 kW/(m³/min), the same NIST factors (1 m³/min = 35.3147 cfm).
         assert!(close(Entry::SpecificPower.to_stored(Us, 18.0), 6.3566, 1e-4));
@@ -206,9 +214,9 @@ mod tests {
     #[test]
     fn labels_are_units_as_people_write_them() {
         let us: Vec<&str> = Entry::ALL.iter().map(|e| e.unit(Us).label).collect();
-        assert_eq!(us, ["psig", "cfm", "US gal", "kW/100 cfm", "°F", "ft", "in"]);
+        assert_eq!(us, ["psig", "cfm", "US gal", "kW/100 cfm", "°F", "ft", "in", "psia"]);
         let si: Vec<&str> = Entry::ALL.iter().map(|e| e.unit(Si).label).collect();
-        assert_eq!(si, ["bar(g)", "m³/min", "m³", "kW/(m³/min)", "°C", "m", "mm"]);
+        assert_eq!(si, ["bar(g)", "m³/min", "m³", "kW/(m³/min)", "°C", "m", "mm", "kPa abs"]);
     }
 
     #[test]

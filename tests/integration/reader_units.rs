@@ -130,7 +130,7 @@ fn us_forms_take_us_units_and_an_unchanged_save_moves_nothing() {
         );
     }
 
-    // The site in °F and ft: 68 °F = 20 °C, 5280 ft = 1609.344 m.
+    // The site in °F, ft and psia: 68 °F = 20 °C, 5280 ft = 1609.344 m.
     let site = s.get(&format!("/audits/{id}")).text;
     let keep = |n: &str| input_value(&site, n);
     let fields: Vec<(String, String)> = [
@@ -149,6 +149,7 @@ fn us_forms_take_us_units_and_an_unchanged_save_moves_nothing() {
         ("altitude_m".to_string(), "5280".to_string()),
         ("inlet_temperature_c".to_string(), "68".to_string()),
         ("display_units".to_string(), "us".to_string()),
+        ("atmospheric_pressure_kpa_abs".to_string(), "14.5".to_string()),
     ])
     .collect();
     let f: Vec<(&str, &str)> = fields.iter().map(|(k, v)| (k.as_str(), v.as_str())).collect();
@@ -157,6 +158,9 @@ fn us_forms_take_us_units_and_an_unchanged_save_moves_nothing() {
     let a = s.get(&format!("/api/v1/audits/{id}")).json();
     assert!(close(a["site"]["altitude_m"].as_f64().unwrap(), 1609.344), "{}", a["site"]);
     assert!((a["site"]["inlet_temperature_c"].as_f64().unwrap() - 20.0).abs() < 1e-9, "{}", a["site"]);
+    // 14.5 psia = 99.974 kPa abs (NIST SP 811 psi factor).
+    let atm = a["site"]["atmospheric_pressure_kpa_abs"].as_f64().unwrap();
+    assert!(close(atm, 14.5 * BAR_PER_PSI * 100.0), "{}", a["site"]);
 }
 
 #[test]

@@ -62,7 +62,12 @@ pub(super) fn site_patch(
     };
     Ok(SitePatch {
         altitude_m: inputs.opt(form, "altitude_m", Entry::Altitude, previous.map(|s| s.altitude_m))?,
-        atmospheric_pressure_kpa_abs: opt_num(form, "atmospheric_pressure_kpa_abs")?,
+        atmospheric_pressure_kpa_abs: inputs.opt(
+            form,
+            "atmospheric_pressure_kpa_abs",
+            Entry::Atmosphere,
+            previous.and_then(|s| s.atmospheric_pressure_override_kpa_abs),
+        )?,
         atmospheric_from_altitude: form
             .get("atmospheric_pressure_kpa_abs")
             .map(|s| s.trim().is_empty())

@@ -75,6 +75,12 @@ impl Inputs {
     pub fn t(&self, c: impl Num) -> String {
         Entry::Temperature.shown(self.units, c.f())
     }
+    pub fn atm_unit(&self) -> &'static str {
+        Entry::Atmosphere.unit(self.units).label
+    }
+    pub fn atm(&self, kpa_abs: impl Num) -> String {
+        Entry::Atmosphere.shown(self.units, kpa_abs.f())
+    }
     pub fn alt(&self, m: impl Num) -> String {
         Entry::Altitude.shown(self.units, m.f())
     }
@@ -156,6 +162,7 @@ fn label_of(key: &str) -> &'static str {
         "other_volume_m3" => "Piping, dryer and filter volume",
         "inlet_temperature_c" => "Inlet temperature",
         "altitude_m" => "Altitude",
+        "atmospheric_pressure_kpa_abs" => "Atmospheric pressure",
         _ => "This field",
     }
 }
