@@ -96,7 +96,7 @@ window.airledger = {
 };
 // A number stays with its unit when a line wraps (on screen and in print): in figures, the space
 // after a digit that is followed by a unit becomes a no-break space.
-for (const el of document.querySelectorAll("td.num, .figure-value, .nowrap-units")) {
+for (const el of document.querySelectorAll("td.num, .figure-value")) {
   const w = document.createTreeWalker(el, NodeFilter.SHOW_TEXT);
   for (let n = w.nextNode(); n; n = w.nextNode()) n.nodeValue = n.nodeValue.replace(/(\d) (?=[^\s\d(–-])/g, "$1\u00a0");
 }
