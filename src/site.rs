@@ -336,7 +336,7 @@ impl SiteRecord {
         }
         if let Some(tz) = &p.timezone {
             if jiff::tz::TimeZone::get(tz).is_err() {
-                return Err(FieldError::new("timezone", format!("unknown time zone {tz:?}")));
+                return Err(FieldError::new("timezone", format!("unknown time zone {tz:?}: choose an IANA name from the list, such as America/Chicago or Europe/Vienna (an abbreviation such as CST names no rules for daylight saving)")));
             }
             self.timezone = tz.clone();
         }

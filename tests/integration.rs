@@ -26,6 +26,8 @@ mod hostile_web;
 mod ingest;
 #[path = "integration/partload.rs"]
 mod partload;
+#[path = "integration/reader_units.rs"]
+mod reader_units;
 #[path = "integration/real_files.rs"]
 mod real_files;
 #[path = "integration/treatment.rs"]

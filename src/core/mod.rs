@@ -19,6 +19,7 @@ Architecture invariant: `core` imports nothing from `store`, `ingest` or `web`.
 - [`analysis`]: the audit summary, one room per topic (uncertainty, calendar, machines, specific
   power, production, control, pressure, demand, baseline, leaks, heat, decay) and decay-event
   detection; [`recommend`]: measures with savings and payback, their words in parts.
+- [`entry`]: what a person types into a form in the reader's units, and its stored value.
 - [`display`]: formatting every figure a person sees with its unit, SI or US customary, and the
   measures' parts in a reader's units.
 - [`model`]: the plain description of a site, its compressors and storage.
@@ -32,6 +33,7 @@ pub mod basis;
 pub mod costs;
 pub mod datasheet;
 pub mod display;
+pub mod entry;
 pub mod fieldtest;
 pub mod heat;
 pub mod leaks;

@@ -253,18 +253,35 @@ pub static UNITS: &[UnitSpelling] = &[
     // --- Line-condition flow (issue 14, readings that follow the site) -------------------------
     // Actual volume at the line's pressure and temperature, which the mapping's `line` gives; the
     // analysis makes free air of it with the site's air (`core::basis`). NIST SP 811 B.8 factors.
-    // Not offered by the upload form until it can ask for the line: mappings sent to the API.
-    unit("acfm", Flow, "acfm", &["acfm", "actual_cfm"], &["acfm"], line_flow(M3_PER_FT3 / MIN), false),
+    // Offered by the upload form, which asks for the line's pressure (a value or a logged pressure
+    // column) and temperature beside them.
+    unit(
+        "acfm",
+        Flow,
+        "acfm (actual)",
+        &["acfm", "actual_cfm"],
+        &["acfm"],
+        line_flow(M3_PER_FT3 / MIN),
+        true,
+    ),
     unit(
         "am3_min",
         Flow,
-        "am³/min",
+        "am³/min (actual)",
         &["am3_min", "am3min"],
         &["am3_min", "am3min"],
         line_flow(1.0 / MIN),
-        false,
+        true,
     ),
-    unit("am3_h", Flow, "am³/h", &["am3_h", "am3h"], &["am3_h", "am3h"], line_flow(1.0 / HOUR), false),
+    unit(
+        "am3_h",
+        Flow,
+        "am³/h (actual)",
+        &["am3_h", "am3h"],
+        &["am3_h", "am3h"],
+        line_flow(1.0 / HOUR),
+        true,
+    ),
     // --- end of line-condition flow ------------------------------------------------------------
     // Temperature. NIST SP 811 B.9: T/K = t/°C + 273.15 = (t/°F + 459.67)/1.8.
     unit(

@@ -16,18 +16,90 @@ window.airledger = {
     for (const c of children) e.append(c instanceof Node ? c : document.createTextNode(String(c)));
     return e;
   },
+  // Inputs in the reader's units: a field with data-entry="<kind>" is typed in the unit the page
+  // data's `entry` table names for that kind (core::entry, NIST SP 811 factors) and posted as the
+  // stored value, stored = typed × factor + offset. A field filled from a stored value keeps that
+  // value exactly while its text is left as shown, so saving an unchanged form moves nothing.
+  entry: {
+    unit(table, el) {
+      const k = el.getAttribute("data-entry");
+      return k && table && table.fields[k] ? table.fields[k] : null;
+    },
+    stored(table, el) {
+      const u = this.unit(table, el);
+      if (el.dataset.shown !== undefined && el.value === el.dataset.shown) return Number(el.dataset.stored);
+      const v = Number(String(el.value).replace(",", "."));
+      return u ? v * u.factor + u.offset : v;
+    },
+    fill(table, el, stored) {
+      const u = this.unit(table, el);
+      const v = u ? (Number(stored) - u.offset) / u.factor : Number(stored);
+      const text = String(Number(v.toPrecision(9)));
+      el.value = text;
+      el.dataset.shown = el.value;
+      el.dataset.stored = String(stored);
+    },
+  },
+  // Times as the site's clocks show them (IANA zone `tz`), with the zone named.
+  wall(ms, tz) {
+    const f = new Intl.DateTimeFormat("en-GB", { timeZone: tz || "UTC", year: "numeric", month: "2-digit", day: "2-digit",
+      hour: "2-digit", minute: "2-digit", second: "2-digit", hourCycle: "h23" });
+    const p = {};
+    for (const x of f.formatToParts(new Date(ms))) p[x.type] = x.value;
+    return p;
+  },
+  // RFC 3339 with the site's offset: "2026-03-15T02:00:00-06:00".
+  isoLocal(ms, tz) {
+    const p = this.wall(ms, tz);
+    const asUtc = Date.UTC(+p.year, +p.month - 1, +p.day, +p.hour, +p.minute, +p.second);
+    const off = Math.round((asUtc - Math.floor(ms / 1000) * 1000) / 60000);
+    const sign = off < 0 ? "-" : "+", a = Math.abs(off);
+    const pad = (n) => String(n).padStart(2, "0");
+    return p.year + "-" + p.month + "-" + p.day + "T" + p.hour + ":" + p.minute + ":" + p.second +
+      (off === 0 ? "Z" : sign + pad(Math.floor(a / 60)) + ":" + pad(a % 60));
+  },
+  // "Sun 15 Mar 2026 02:00 CST", as the server writes it (pages/words.rs).
+  localTime(ms, tz) {
+    const p = this.wall(ms, tz), d = new Date(ms), zone = tz || "UTC";
+    const part = (opts, type) => (new Intl.DateTimeFormat("en-US", Object.assign({ timeZone: zone }, opts))
+      .formatToParts(d).find((x) => x.type === type) || {}).value;
+    const name = part({ timeZoneName: "short" }, "timeZoneName") || zone;
+    return part({ weekday: "short" }, "weekday") + " " + Number(p.day) + " " + part({ month: "short" }, "month") + " " +
+      p.year + " " + p.hour + ":" + p.minute + " " + name;
+  },
+  // A short tick label in the site's time: "03-15 02:00".
+  tick(ms, tz) {
+    const p = this.wall(ms, tz);
+    return p.month + "-" + p.day + " " + p.hour + ":" + p.minute;
+  },
+  // An API error's field in words for a person; none for a column's own fields (the column is named).
+  fieldWords(field) {
+    if (!field) return null;
+    const words = { "timestamp.timezone": "time zone", "timestamp.format": "how dates are written", "timestamp.column": "timestamp column",
+      delimiter: "delimiter", decimal: "decimal mark", header_line: "line with the column names", units_line: "line with the units",
+      first_data_line: "first data line", columns: "columns" };
+    if (words[field]) return words[field];
+    if (/^columns\[/.test(field)) return null;
+    return field.replace(/_(bar_g|m3_min|m3|kw|s|c|mm)$/, "").replace(/[._]/g, " ");
+  },
   async json(url, options) {
     const r = await fetch(url, options);
     const body = await r.json().catch(() => ({}));
     if (!r.ok) {
       const e = body && body.error ? body.error : { message: "HTTP " + r.status };
       const where = [e.line ? "line " + e.line : null, e.column ? "column \u201c" + e.column + "\u201d" : null,
-        e.field ? "field " + e.field : null].filter(Boolean).join(", ");
+        e.column ? null : window.airledger.fieldWords(e.field)].filter(Boolean).join(", ");
       throw new Error(e.message + (where ? " (" + where + ")" : ""));
     }
     return body;
   },
 };
+// A number stays with its unit when a line wraps (on screen and in print): in figures, the space
+// after a digit that is followed by a unit becomes a no-break space.
+for (const el of document.querySelectorAll("td.num, .figure-value")) {
+  const w = document.createTreeWalker(el, NodeFilter.SHOW_TEXT);
+  for (let n = w.nextNode(); n; n = w.nextNode()) n.nodeValue = n.nodeValue.replace(/(\d) (?=[^\s\d(–-])/g, "$1\u00a0");
+}
 document.addEventListener("click", (ev) => {
   const t = ev.target;
   if (t && t.matches && t.matches("[data-print]")) window.print();

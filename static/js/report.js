@@ -61,14 +61,13 @@
 
   // Period selector: the whole log or one local day of it.
   const sel = document.getElementById("period-select");
-  if (sel && d.first_ms && d.last_ms) {
-    const day = 86400000;
-    for (let t = d.first_ms - (d.first_ms % day); t <= d.last_ms; t += day) {
-      sel.append(A.el("option", { value: String(t) }, new Date(t).toLocaleDateString(undefined, { timeZone: "UTC", weekday: "short", month: "short", day: "numeric" })));
-    }
+  // The days are the site's (cut at its local midnights, from the server) and only those logged.
+  if (sel && d.days && d.days.length) {
+    for (const day of d.days) sel.append(A.el("option", { value: String(day.start_ms), "data-end": String(day.end_ms) }, day.label));
     sel.addEventListener("change", () => {
+      const o = sel.selectedOptions[0];
       const t = Number(sel.value);
-      loadSeries(sel.value ? t : null, sel.value ? t + day : null).catch(showError);
+      loadSeries(sel.value ? t : null, sel.value ? Number(o.getAttribute("data-end")) : null).catch(showError);
     });
   }
   function showError(e) { console.warn("chart data: " + e.message); }

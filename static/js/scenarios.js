@@ -7,6 +7,12 @@
   const form = document.getElementById("scenario-form");
   const status = document.getElementById("scenario-status");
   const nameKey = "airledger-scenario-name-" + data.audit_id;
+  const tz = data.timezone || "UTC";
+  const E = data.entry;
+  // Stored (SI) to the reader's unit and back, through the page data's table (core::entry).
+  const toReader = (kind, v) => (v - E.fields[kind].offset) / E.fields[kind].factor;
+  const toStored = (kind, v) => v * E.fields[kind].factor + E.fields[kind].offset;
+  const short = (v) => String(Number(v.toPrecision(9)));
   // The form filled with a stored scenario to edit (?edit=ID): the replay is then saved in its place.
   const edit = data.edit;
   if (edit) {
@@ -14,15 +20,17 @@
     f.name.value = edit.name;
     for (const c of edit.changes || []) {
       if (c.op === "remove") f.remove.value = c.tag;
-      else if (c.op === "set_pressure") f.target_bar_g.value = c.target_bar_g;
-      else if (c.op === "add_storage") f.add_storage_m3.value = c.volume_m3;
+      else if (c.op === "set_pressure") A.entry.fill(E, f.target_bar_g, c.target_bar_g);
+      else if (c.op === "add_storage") A.entry.fill(E, f.add_storage_m3, c.volume_m3);
       else if (c.op === "reduce_leaks") f.reduce_leaks.value = c.fraction;
       else if (c.op === "sequence") f.order.value = (c.order || []).join(" ");
       else if (c.op === "add" && c.compressor) {
         f.add_tag.value = c.compressor.tag; f.add_control.value = c.compressor.control;
-        f.add_power.value = c.compressor.rated_power_kw; f.add_flow.value = c.compressor.rated_flow_m3_min;
-        f.add_pressure.value = c.compressor.rated_pressure_bar_g;
-        f.add_curve.value = (c.compressor.power_curve || []).map((p) => p.join(":")).join(" ");
+        f.add_power.value = c.compressor.rated_power_kw; A.entry.fill(E, f.add_flow, c.compressor.rated_flow_m3_min);
+        A.entry.fill(E, f.add_pressure, c.compressor.rated_pressure_bar_g);
+        f.add_curve.value = (c.compressor.power_curve || []).map((p) => short(toReader("free_air_flow", p[0])) + ":" + p[1]).join(" ");
+        f.add_curve.dataset.shown = f.add_curve.value;
+        f.add_curve.dataset.stored = JSON.stringify(c.compressor.power_curve || []);
       }
     }
     if (edit.implementation_cost !== null && edit.implementation_cost !== undefined) f.implementation_cost.value = edit.implementation_cost;
@@ -36,14 +44,16 @@
     const f = form.elements;
     const changes = [];
     if (f.remove.value) changes.push({ op: "remove", tag: f.remove.value });
-    if (f.target_bar_g.value) changes.push({ op: "set_pressure", target_bar_g: Number(f.target_bar_g.value) });
-    if (f.add_storage_m3.value) changes.push({ op: "add_storage", volume_m3: Number(f.add_storage_m3.value) });
+    if (f.target_bar_g.value) changes.push({ op: "set_pressure", target_bar_g: A.entry.stored(E, f.target_bar_g) });
+    if (f.add_storage_m3.value) changes.push({ op: "add_storage", volume_m3: A.entry.stored(E, f.add_storage_m3) });
     if (f.reduce_leaks.value) changes.push({ op: "reduce_leaks", fraction: Number(f.reduce_leaks.value) });
     if (f.order.value.trim()) changes.push({ op: "sequence", order: f.order.value.trim().split(/[\s,]+/) });
     if (f.add_tag.value) {
-      const curve = f.add_curve.value.trim() ? f.add_curve.value.trim().split(/\s+/).map((p) => p.split(":").map(Number)) : [];
+      const curve = f.add_curve.dataset.shown !== undefined && f.add_curve.value === f.add_curve.dataset.shown
+        ? JSON.parse(f.add_curve.dataset.stored)
+        : f.add_curve.value.trim() ? f.add_curve.value.trim().split(/\s+/).map((p) => { const [q, kw] = p.split(":").map(Number); return [toStored("free_air_flow", q), kw]; }) : [];
       changes.push({ op: "add", compressor: { tag: f.add_tag.value, kind: "lubricated_screw", control: f.add_control.value, cooling: "air",
-        rated_power_kw: Number(f.add_power.value), rated_flow_m3_min: Number(f.add_flow.value), rated_pressure_bar_g: Number(f.add_pressure.value), power_curve: curve } });
+        rated_power_kw: Number(f.add_power.value), rated_flow_m3_min: A.entry.stored(E, f.add_flow), rated_pressure_bar_g: A.entry.stored(E, f.add_pressure), power_curve: curve } });
     }
     status.textContent = "Replaying the logged demand\u2026";
     try {
@@ -61,9 +71,9 @@
     const xs = data.traces.flatMap((t) => t.points.length ? [t.points[0][0], t.points[t.points.length - 1][0]] : []);
     new Chart(canvas, {
       type: "line",
-      data: { datasets: data.traces.map((t, i) => ({ label: t.name, data: t.points.map((p) => ({ x: p[0], y: p[1] })), borderColor: palette[i % palette.length], pointRadius: 0, borderWidth: 1.2 })) },
+      data: { datasets: data.traces.map((t, i) => ({ label: t.name, data: t.points.map((p) => ({ x: p[0], y: toReader("gauge_pressure", p[1]) })), borderColor: palette[i % palette.length], pointRadius: 0, borderWidth: 1.2 })) },
       options: { animation: false, maintainAspectRatio: false, parsing: false,
-        scales: { x: { type: "linear", min: Math.min(...xs), max: Math.max(...xs), ticks: { maxTicksLimit: 6, maxRotation: 0, callback: (v) => new Date(v).toISOString().slice(5, 16).replace("T", " ") } }, y: { title: { display: true, text: "bar(g)" } } } },
+        scales: { x: { type: "linear", min: Math.min(...xs), max: Math.max(...xs), ticks: { maxTicksLimit: 6, maxRotation: 0, callback: (v) => A.tick(v, tz) }, title: { display: true, text: "site time, " + tz } }, y: { title: { display: true, text: E.fields.gauge_pressure.label } } } },
     });
   }
 })();

@@ -6,12 +6,17 @@
   if (!data) return;
   const base = "/api/v1/audits/" + data.audit_id;
   const status = document.getElementById("test-status");
+  const tz = data.timezone || "UTC";
+  // A stored value in the reader's unit, and that unit's label (core::entry through the page data).
+  const toReader = (kind, v) => { const u = data.entry.fields[kind]; return (v - u.offset) / u.factor; };
+  const shown = (kind, v) => toReader(kind, v).toFixed(kind === "gauge_pressure" && data.entry.system === "us" ? 1 : 2);
+  const unit = (kind) => data.entry.fields[kind].label;
 
   function formBody(form) {
     const body = { kind: form.getAttribute("data-test-kind") };
     for (const el of form.elements) {
       if (!el.name || el.value === "") continue;
-      body[el.name] = el.type === "number" ? Number(el.value) : el.value;
+      body[el.name] = el.hasAttribute("data-entry") ? A.entry.stored(data.entry, el) : el.type === "number" ? Number(el.value) : el.value;
     }
     return body;
   }
@@ -21,7 +26,9 @@
   const editForm = edit ? document.querySelector("form[data-test-kind=" + edit.kind + "]") : null;
   if (editForm) {
     for (const el of editForm.elements) {
-      if (el.name && edit.input[el.name] !== undefined && edit.input[el.name] !== null) el.value = edit.input[el.name];
+      if (!el.name || edit.input[el.name] === undefined || edit.input[el.name] === null) continue;
+      if (el.hasAttribute("data-entry")) A.entry.fill(data.entry, el, edit.input[el.name]);
+      else el.value = edit.input[el.name];
     }
     editForm.setAttribute("data-test-id", edit.id);
     const b = editForm.querySelector("button[type=submit]");
@@ -50,13 +57,15 @@
   orifice.addEventListener("submit", async (e) => {
     e.preventDefault();
     const body = { audit_id: data.audit_id };
-    for (const el of orifice.elements) if (el.name && el.value !== "") body[el.name] = Number(el.value);
+    for (const el of orifice.elements) if (el.name && el.value !== "") body[el.name] = el.hasAttribute("data-entry") ? A.entry.stored(data.entry, el) : Number(el.value);
     const out = document.getElementById("orifice-result");
     try {
       const r = await A.json("/api/v1/calc/orifice-leak", {
         method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body),
       });
-      out.textContent = r.leak_flow_m3_min.toFixed(3) + " m\u00b3/min free air (" + r.leak_flow_cfm_free_air.toFixed(2) + " cfm free air)" + (r.choked ? ", choked flow" : "");
+      out.textContent = (data.entry.system === "us"
+        ? r.leak_flow_cfm_free_air.toFixed(2) + " cfm free air (" + r.leak_flow_m3_min.toFixed(3) + " m\u00b3/min)"
+        : r.leak_flow_m3_min.toFixed(3) + " m\u00b3/min free air (" + r.leak_flow_cfm_free_air.toFixed(2) + " cfm)") + (r.choked ? ", choked flow" : "");
     } catch (err) { out.textContent = err.message; }
   });
 
@@ -70,15 +79,14 @@
       const tb = A.el("tbody");
       for (const ev of r.events) {
         const accept = A.el("button", { type: "button" }, "accept as test");
-        const iso = (ms) => new Date(ms).toISOString().replace(".000Z", "Z");
-        const start = iso(ev.start_ms), end = iso(ev.end_ms);
+        const start = A.isoLocal(ev.start_ms, tz), end = A.isoLocal(ev.end_ms, tz);
         accept.addEventListener("click", () => post({ kind: "pressure_decay", start: start, end: end }));
-        tb.append(A.el("tr", {}, A.el("td", {}, start), A.el("td", {}, end),
-          A.el("td", {}, ev.start_pressure_bar_g.toFixed(2) + " \u2192 " + ev.end_pressure_bar_g.toFixed(2) + " bar(g)"),
+        tb.append(A.el("tr", {}, A.el("td", {}, A.localTime(ev.start_ms, tz)), A.el("td", {}, A.localTime(ev.end_ms, tz)),
+          A.el("td", {}, shown("gauge_pressure", ev.start_pressure_bar_g) + " \u2192 " + shown("gauge_pressure", ev.end_pressure_bar_g) + " " + unit("gauge_pressure")),
           A.el("td", { class: "num" }, (ev.duration_s / 60).toFixed(1) + " min"),
           A.el("td", {}, ev.all_off ? "all off" : "off or unloaded, outside production"),
           A.el("td", { class: "num" }, ev.leak_flow_at_start_pressure_m3_min === null
-            ? "waits for the system volume" : ev.leak_flow_at_start_pressure_m3_min.toFixed(2) + " m\u00b3/min free air"),
+            ? "waits for the system volume" : shown("free_air_flow", ev.leak_flow_at_start_pressure_m3_min) + " " + unit("free_air_flow") + " free air"),
           A.el("td", { class: "num" }, ev.fit_r2.toFixed(3)), A.el("td", {}, accept)));
       }
       t.append(tb);
@@ -98,8 +106,9 @@
       const s = await A.json(base + "/series?channel=" + c.id + "&points=600");
       const atm = data.atmosphere_pa;
       const f = c.quantity === "pressure" ? (v) => (v - atm) / 1e5 : (v) => v * 60;
-      datasets.push({ label: c.quantity === "pressure" ? c.label + ", bar(g)" : c.label + ", m\u00b3/min free air",
-        data: s.t_ms.map((t, i) => ({ x: t, y: f(s.mean[i]) })), yAxisID: c.quantity === "pressure" ? "p" : "q",
+      const what = chans.filter((o) => o.quantity === c.quantity).length > 1 ? c.quantity + " (column \u201c" + c.label + "\u201d)" : c.quantity;
+      datasets.push({ label: c.quantity === "pressure" ? what + ", " + unit("gauge_pressure") : what + ", " + unit("free_air_flow") + " free air",
+        data: s.t_ms.map((t, i) => ({ x: t, y: toReader(c.quantity === "pressure" ? "gauge_pressure" : "free_air_flow", f(s.mean[i])) })), yAxisID: c.quantity === "pressure" ? "p" : "q",
         pointRadius: 0, borderWidth: 1.2, borderColor: c.quantity === "pressure" ? "#0f4c5c" : "#f2a541" });
     }
     const xs = datasets.flatMap((d) => d.data.length ? [d.data[0].x, d.data[d.data.length - 1].x] : []);
@@ -107,21 +116,21 @@
     const chart = new Chart(canvas, {
       type: "line", data: { datasets: datasets },
       options: { animation: false, maintainAspectRatio: false, parsing: false,
-        scales: { x: { type: "linear", min: Math.min(...xs), max: Math.max(...xs), ticks: { maxTicksLimit: 7, callback: (v) => new Date(v).toISOString().slice(5, 16).replace("T", " ") } },
-          p: { position: "left", title: { display: true, text: "bar(g)" } }, q: { position: "right", title: { display: true, text: "m\u00b3/min free air" }, grid: { drawOnChartArea: false } } },
+        scales: { x: { type: "linear", min: Math.min(...xs), max: Math.max(...xs), ticks: { maxTicksLimit: 7, callback: (v) => A.tick(v, tz) }, title: { display: true, text: "site time, " + tz } },
+          p: { position: "left", title: { display: true, text: unit("gauge_pressure") } }, q: { position: "right", title: { display: true, text: unit("free_air_flow") + " free air" }, grid: { drawOnChartArea: false } } },
         onClick: (e) => {
           const t = Math.round(chart.scales.x.getValueForPixel(e.x));
           picks = picks.length >= 2 ? [t] : picks.concat([t]);
           if (picks.length === 2) {
             picks.sort((a, b) => a - b);
-            const [a, b] = picks.map((x) => new Date(x).toISOString().replace(".000Z", "Z"));
+            const [a, b] = picks.map((x) => A.isoLocal(x, tz));
             for (const form of document.querySelectorAll("form[data-test-kind=idle_flow], form[data-test-kind=pressure_decay]")) {
               form.elements.start.value = a;
               form.elements.end.value = b;
             }
-            st.textContent = "Window " + a + " to " + b + " set in the forms below.";
+            st.textContent = "Window " + A.localTime(picks[0], tz) + " to " + A.localTime(picks[1], tz) + " set in the forms below.";
           } else {
-            st.textContent = "Start " + new Date(t).toISOString() + ": click the end.";
+            st.textContent = "Start " + A.localTime(t, tz) + ": click the end.";
           }
         } },
     });

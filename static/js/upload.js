@@ -7,7 +7,14 @@
   if (!data) return;
   const $ = (id) => document.getElementById(id);
   const UNITS = data.units; // quantity -> [unit, ...]
+  const E = data.entry; // the reader's input units (core::entry)
+  const tz = data.timezone || "UTC";
+  const isLineFlow = (unit) => /^a(cfm|m3)/.test(unit || "");
+  const fromStored = (kind, v) => String(Number(((v - E.fields[kind].offset) / E.fields[kind].factor).toPrecision(9)));
+  const toStored = (kind, v) => v * E.fields[kind].factor + E.fields[kind].offset;
   let file = null;
+  const ZONES = new Set(Array.from(document.querySelectorAll("#zones option"), (o) => o.value));
+  const zoneOk = (z) => ZONES.has(z);
   let sniffed = null;
 
   const drop = $("dropzone");
@@ -109,7 +116,8 @@
     tsCol.replaceChildren(...sniffed.header.map((h) => option(h, h, h === m.timestamp.column)));
     tsTime.replaceChildren(option("", "(none)"), ...sniffed.header.map((h) => option(h, h, h === m.timestamp.time_column)));
     $("m-ts-format").value = m.timestamp.format;
-    $("m-ts-zone").value = m.timestamp.timezone || "UTC";
+    // The logger's clock keeps the site's zone unless the mapping (or a remembered one) says otherwise.
+    $("m-ts-zone").value = m.timestamp.timezone && m.timestamp.timezone !== "UTC" ? m.timestamp.timezone : tz;
     $("m-interval").value = m.timestamp.interval || "";
     $("m-offset").value = m.clock_offset_s || 0;
     const ts = sniffed.timestamp || {};
@@ -146,6 +154,21 @@
           num("pf", "PF loaded", c.power_factor || 0.85), num("upf", "PF unloaded", c.unloaded_power_factor),
           num("ubelow", "unloaded below, A", c.unloaded_below_a));
       }
+      if (q.value === "flow" && isLineFlow(u.value)) {
+        // Actual volume: free air only once the line's pressure and temperature are known.
+        const line = c.line || {};
+        const src = A.el("select", { class: "linesrc" }, option("", "a fixed value", !line.pressure_column),
+          ...sniffed.header.filter((h) => h !== c.column).map((h) => option(h, "logged in \u201c" + h + "\u201d", h === line.pressure_column)));
+        const fixed = num("linep", "line pressure, " + E.fields.gauge_pressure.label,
+          line.pressure_bar_g !== undefined && line.pressure_bar_g !== null ? fromStored("gauge_pressure", line.pressure_bar_g) : "");
+        const sync = () => { fixed.hidden = !!src.value; };
+        src.addEventListener("change", sync);
+        details.append(A.el("label", {}, "line pressure ", src), fixed,
+          num("linet", "line temperature, " + E.fields.temperature.label,
+            line.temperature_c !== undefined && line.temperature_c !== null ? fromStored("temperature", line.temperature_c) : ""),
+          A.el("span", { class: "hint" }, "actual volume at the meter: needed to make it free air (a pressure column must be mapped as pressure too)"));
+        sync();
+      }
       if (q.value === "flow" && /^(scfm|Nm3|Sm3)/.test(u.value)) {
         const ref = c.reference || {};
         details.append(num("refp", "reference kPa abs", ref.pressure_kpa_abs), num("reft", "reference \u00b0C", ref.temperature_c));
@@ -175,6 +198,15 @@
       if (quantity === "current") {
         col.volts = numOr(row, "volts"); col.phases = numOr(row, "phases"); col.power_factor = numOr(row, "pf");
         col.unloaded_power_factor = numOr(row, "upf"); col.unloaded_below_a = numOr(row, "ubelow");
+      }
+      if (quantity === "flow" && isLineFlow(col.unit)) {
+        const line = {};
+        const src = row.querySelector(".linesrc");
+        const p = numOr(row, "linep"), t = numOr(row, "linet");
+        if (src && src.value) line.pressure_column = src.value;
+        else if (p !== undefined) line.pressure_bar_g = toStored("gauge_pressure", p);
+        if (t !== undefined) line.temperature_c = toStored("temperature", t);
+        col.line = line;
       }
       const rp = numOr(row, "refp"), rt = numOr(row, "reft");
       if (rp !== undefined && rt !== undefined) col.reference = { pressure_kpa_abs: rp, temperature_c: rt };
@@ -208,6 +240,19 @@
       return;
     }
     const mapping = readMapping();
+    // An actual-volume flow without its line conditions would be read several times too small.
+    const bare = mapping.columns.find((c) => c.line && ((c.line.pressure_bar_g === undefined && !c.line.pressure_column) || c.line.temperature_c === undefined));
+    if (bare) {
+      $("step-import").classList.remove("hidden");
+      $("import-status").textContent = "Not imported: column \u201c" + bare.column + "\u201d logs actual volume; give the line's pressure (a value or a logged pressure column) and its temperature beside it.";
+      return;
+    }
+    if (!zoneOk($("m-ts-zone").value.trim())) {
+      $("step-import").classList.remove("hidden");
+      $("import-status").textContent = "Not imported: \u201c" + $("m-ts-zone").value + "\u201d is not a time zone of the list; choose one such as " + tz + ".";
+      $("m-ts-zone").focus();
+      return;
+    }
     const token = Math.random().toString(36).slice(2) + Date.now().toString(36);
     const fd = new FormData();
     fd.append("mapping", JSON.stringify(mapping));
@@ -246,7 +291,7 @@
         showResult(body);
       } else {
         const er = body.error || { message: "HTTP " + xhr.status };
-        const where = [er.line ? "line " + er.line : null, er.column ? "column \u201c" + er.column + "\u201d" : null, er.field ? "field " + er.field : null].filter(Boolean).join(", ");
+        const where = [er.line ? "line " + er.line : null, er.column ? "column \u201c" + er.column + "\u201d" : null, er.column ? null : A.fieldWords(er.field)].filter(Boolean).join(", ");
         $("import-status").textContent = "Not imported, nothing was stored: " + er.message + (where ? " (" + where + ")" : "");
       }
     });
@@ -263,14 +308,15 @@
     add("Upload", String(r.upload_id));
     add("Rows", (r.rows || 0).toLocaleString());
     add("Readings", (r.readings || 0).toLocaleString());
-    if (r.first) add("From", r.first);
-    if (r.last) add("To", r.last);
+    const at = (t) => { const ms = Date.parse(t); return isNaN(ms) ? t : A.localTime(ms, tz); };
+    if (r.first) add("From", at(r.first));
+    if (r.last) add("To", at(r.last));
     if (r.interval_s) add("Interval", r.interval_s + " s");
     box.append(dl);
     if (r.channels && r.channels.length) {
-      const t = A.el("table", { class: "data" }, A.el("thead", {}, A.el("tr", {}, A.el("th", {}, "Channel"), A.el("th", {}, "Quantity"), A.el("th", {}, "Readings"), A.el("th", {}, "From"), A.el("th", {}, "To"))));
+      const t = A.el("table", { class: "data" }, A.el("thead", {}, A.el("tr", {}, A.el("th", {}, "Channel"), A.el("th", {}, "Quantity"), A.el("th", {}, "Readings"), A.el("th", {}, "From (site time, " + tz + ")"), A.el("th", {}, "To"))));
       const tb = A.el("tbody");
-      for (const c of r.channels) tb.append(A.el("tr", {}, A.el("td", {}, c.compressor ? c.compressor + " (" + c.label + ")" : c.label), A.el("td", {}, c.quantity), A.el("td", { class: "num" }, c.readings.toLocaleString()), A.el("td", {}, c.first), A.el("td", {}, c.last)));
+      for (const c of r.channels) tb.append(A.el("tr", {}, A.el("td", {}, c.compressor ? c.compressor + " (" + c.label + ")" : c.label), A.el("td", {}, c.quantity), A.el("td", { class: "num" }, c.readings.toLocaleString()), A.el("td", {}, at(c.first)), A.el("td", {}, at(c.last))));
       t.append(tb);
       box.append(t);
     }

@@ -789,6 +789,9 @@ fn the_upload_page_marks_the_layout_and_imports_markers_as_missing() {
 #[path = "browser_undo.rs"]
 mod undo;
 
+#[path = "browser_units.rs"]
+mod units;
+
 /// The report of an audit built from three files that never overlap in time (issue 16) opens with
 /// the sufficiency verdict and its reasons, above the figures, and shows no annual figure: each
 /// reads "not enough data" with the reason.

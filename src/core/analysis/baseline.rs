@@ -183,7 +183,7 @@ pub(super) fn methods(a: &Annual) -> [Method; 3] {
         method(
             "annual_energy_kwh",
             &a.rule_text,
-            "the logged weekly pattern repeated over the operating weeks (airledger's documented rule)",
+            "the logged weekly pattern repeated over the operating weeks (common practice for a representative logging period)",
         ),
         method(
             "annual_cost",

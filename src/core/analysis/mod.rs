@@ -300,9 +300,8 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     }
     let (flow_estimated, mean_flow) = (d.flow_estimated, d.totals.mean_flow);
     if flow_estimated {
-        assumptions.push(
-            "no flow meter: flow estimated from compressor states and rated FAD (states module)".into(),
-        );
+        assumptions
+            .push("no flow meter: flow estimated from compressor states and rated free air delivery".into());
     }
     let u_flow = if flow_estimated { acc.flow_estimated_rel } else { acc.flow_rel };
     let mut warnings: Vec<String> = cs
@@ -312,7 +311,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             format!(
                 "{}: power from current with one power factor for loaded and unloaded running; the power \
                  factor falls unloaded, so unloaded power is overstated (energy ±{:.0} %): give \
-                 unloaded_power_factor or a spot kW reading per state",
+                 the power factor when unloaded, or a spot kW reading in each state",
                 c.tag,
                 100.0 * power_rel(acc, c)
             )
@@ -350,7 +349,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     methods.push(method(
         "isothermal_efficiency",
         "Σ p_atm Q ln(p_header / p_atm) / Σ P over bins with power, flow and pressure",
-        "ideal-gas isothermal compression work (checked against the Python library fluids)",
+        "ideal-gas isothermal compression work, W = p₁ V₁ ln(p₂/p₁) (any thermodynamics textbook)",
     ));
     let trim = d.trim;
     let part_load_model = machines::trim_model(d, input.system_volume_m3);

@@ -124,7 +124,10 @@ fn the_form_offers_the_api_units_in_order() {
     );
     assert_eq!(
         codes(Flow),
-        ["m3_min", "m3_h", "l_s", "cfm", "scfm", "Nm3_h", "Nm3_min", "Sm3_h", "Sm3_min", "l_min"]
+        [
+            "m3_min", "m3_h", "l_s", "cfm", "scfm", "Nm3_h", "Nm3_min", "Sm3_h", "Sm3_min", "l_min", "acfm",
+            "am3_min", "am3_h"
+        ]
     );
     assert_eq!(codes(Current), ["A"]);
     assert_eq!(choices(Flow).nth(5).map(|u| u.label), Some("Nm³/h"));

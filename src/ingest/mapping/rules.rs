@@ -368,10 +368,11 @@ fn line_conditions(c: &ColumnMap, i: usize) -> Result<(Option<LinePressure>, f64
         IngestError::field(
             f(""),
             format!(
-                "flow unit {:?} of column {:?} is actual volume at line conditions and needs the line's \
-                 {what}: add \"line\": {{\"pressure_bar_g\": 7, \"temperature_c\": 30}} or \
-                 {{\"pressure_column\": \"<a mapped pressure column>\", \"temperature_c\": 30}}",
-                c.unit, c.column
+                "column {:?} logs actual volume ({}), which is free air only once the line conditions \
+                 are known: give the line's {what} (the pressure as a fixed value or a logged pressure \
+                 column, and the temperature)",
+                c.column,
+                unit_table::find(LoggedQuantity::Flow, &c.unit).map_or(c.unit.as_str(), |u| u.label)
             ),
         )
         .with_column(c.column.clone())

@@ -72,7 +72,7 @@ impl Zone {
         }
         TimeZone::get(n)
             .map(Self::Named)
-            .map_err(|_| format!("unknown time zone {name:?} (use UTC, +01:00 or an IANA name)"))
+            .map_err(|_| format!("unknown time zone {name:?}: choose an IANA name from the list, such as America/Chicago, or UTC or a fixed offset such as +01:00"))
     }
 }
 

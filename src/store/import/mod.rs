@@ -109,7 +109,7 @@ pub enum ImportError {
     #[error("{0}")]
     Bad(IngestError),
     /// Readings overlap stored readings of the same channel (409).
-    #[error("readings of {channel} from {first} to {last} overlap upload {upload_id} ({other_first} to {other_last}); send replace=true to replace them")]
+    #[error("readings of {channel} from {first} to {last} overlap upload {upload_id} ({other_first} to {other_last}); import it again choosing to replace them")]
     Overlap {
         channel: String,
         first: String,

@@ -8,11 +8,16 @@ use axum::http::StatusCode;
 use axum::response::{IntoResponse, Redirect};
 use axum::Form;
 
+use super::inputs::Inputs;
+use super::words::local_time;
 use super::{render, PageError, PageResult};
 use crate::app::{App, AuditBundle};
 use crate::core::display::Fmt;
-use crate::core::model::{CompressorKind, Control};
-use crate::site::{CompressorInput, CompressorRecord, FieldError, ReceiverInput, ReceiverRecord, SitePatch};
+use crate::core::entry::Entry;
+use crate::core::model::{CompressorKind, CompressorSpec, Control};
+use crate::site::{
+    CompressorInput, CompressorRecord, FieldError, ReceiverInput, ReceiverRecord, SitePatch, SiteRecord,
+};
 use crate::store::audits::{Audit, UploadRecord};
 use crate::web::error::AppError;
 use crate::web::AppState;
@@ -32,7 +37,13 @@ pub(super) fn opt_text(form: &HashMap<String, String>, key: &str) -> Option<Stri
     form.get(key).map(|s| s.trim().to_string()).filter(|s| !s.is_empty())
 }
 
-pub(super) fn site_patch(form: &HashMap<String, String>) -> Result<SitePatch, FieldError> {
+/// The site form's fields; altitude, inlet temperature and the piping volume in the units the form
+/// was drawn in, `previous` the stored site (a value shown and posted unchanged is kept as stored).
+pub(super) fn site_patch(
+    form: &HashMap<String, String>,
+    previous: Option<&SiteRecord>,
+) -> Result<SitePatch, FieldError> {
+    let inputs = Inputs::of_form(form);
     let months = match form.get("heating_months") {
         Some(s) => Some(
             s.split([',', ' ', ';'])
@@ -50,13 +61,23 @@ pub(super) fn site_patch(form: &HashMap<String, String>) -> Result<SitePatch, Fi
         None => None,
     };
     Ok(SitePatch {
-        altitude_m: opt_num(form, "altitude_m")?,
-        atmospheric_pressure_kpa_abs: opt_num(form, "atmospheric_pressure_kpa_abs")?,
+        altitude_m: inputs.opt(form, "altitude_m", Entry::Altitude, previous.map(|s| s.altitude_m))?,
+        atmospheric_pressure_kpa_abs: inputs.opt(
+            form,
+            "atmospheric_pressure_kpa_abs",
+            Entry::Atmosphere,
+            previous.and_then(|s| s.atmospheric_pressure_override_kpa_abs),
+        )?,
         atmospheric_from_altitude: form
             .get("atmospheric_pressure_kpa_abs")
             .map(|s| s.trim().is_empty())
             .filter(|&blank| blank),
-        inlet_temperature_c: opt_num(form, "inlet_temperature_c")?,
+        inlet_temperature_c: inputs.opt(
+            form,
+            "inlet_temperature_c",
+            Entry::Temperature,
+            previous.map(|s| s.inlet_temperature_c),
+        )?,
         timezone: opt_text(form, "timezone"),
         electricity_price_per_kwh: opt_num(form, "electricity_price_per_kwh")?,
         demand_charge_per_kw_month: opt_num(form, "demand_charge_per_kw_month")?,
@@ -74,7 +95,12 @@ pub(super) fn site_patch(form: &HashMap<String, String>) -> Result<SitePatch, Fi
         heat_use: opt_text(form, "heat_use"),
         grid_co2_kg_per_kwh: opt_num(form, "grid_co2_kg_per_kwh")?,
         fuel_co2_kg_per_kwh: opt_num(form, "fuel_co2_kg_per_kwh")?,
-        other_volume_m3: opt_num(form, "other_volume_m3")?,
+        other_volume_m3: inputs.opt(
+            form,
+            "other_volume_m3",
+            Entry::Volume,
+            previous.map(|s| s.other_volume_m3),
+        )?,
     })
 }
 
@@ -85,7 +111,11 @@ struct AuditPage {
     compressors: Vec<CompressorRecord>,
     receivers: Vec<ReceiverRecord>,
     uploads: Vec<UploadRecord>,
+    /// Each file's first and last reading in the site's time.
+    spans: Vec<(String, String)>,
     fmt: Fmt,
+    inp: Inputs,
+    zones: Vec<String>,
     atmosphere: String,
     atmosphere_source: &'static str,
     system_volume_m3: f64,
@@ -101,13 +131,25 @@ fn audit_page(b: AuditBundle, error: Option<String>) -> AuditPage {
     let system_volume_m3 = b.storage().system_volume_m3();
     let heating_months =
         b.audit.site.heating_months.iter().map(|m| m.to_string()).collect::<Vec<_>>().join(", ");
+    let tz = &b.audit.site.timezone;
+    let spans = b
+        .uploads
+        .iter()
+        .map(|u| {
+            let at = |t: &Option<String>| t.as_deref().map(|t| local_time(t, tz)).unwrap_or_default();
+            (at(&u.first), at(&u.last))
+        })
+        .collect();
     AuditPage {
+        spans,
         atmosphere: format!("{:.2} kPa abs", atm),
         atmosphere_source: if b.audit.site.atmospheric_pressure_override_kpa_abs.is_some() {
             "as given"
         } else {
             "from the altitude by the ISO 2533 standard atmosphere"
         },
+        inp: Inputs::new(fmt.units),
+        zones: super::zone_names(),
         fmt,
         system_volume_m3,
         heating_months,
@@ -145,7 +187,8 @@ pub async fn save_site(
     Form(form): Form<HashMap<String, String>>,
 ) -> PageResult {
     let result = async {
-        let patch = site_patch(&form)?;
+        let stored = st.app.bundle(id).await?.audit.site;
+        let patch = site_patch(&form, Some(&stored))?;
         let name = opt_text(&form, "name");
         st.app
             .update_audit(
@@ -168,41 +211,58 @@ pub async fn save_site(
     }
 }
 
-pub(super) fn parse_curve(s: &str) -> Result<Vec<(f64, f64)>, FieldError> {
-    s.split_whitespace()
-        .map(|p| {
-            let (q, kw) = p.split_once(':').ok_or_else(|| {
-                FieldError::new("power_curve", format!("write each point as flow:kW, got {p:?}"))
-            })?;
-            let q: f64 =
-                q.parse().map_err(|_| FieldError::new("power_curve", format!("bad flow in {p:?}")))?;
-            let kw: f64 =
-                kw.parse().map_err(|_| FieldError::new("power_curve", format!("bad kW in {p:?}")))?;
-            Ok((q, kw))
-        })
-        .collect()
-}
-
-/// A compressor as its form posts it (the add form and the edit page share the fields).
-pub(super) fn compressor_input(form: &HashMap<String, String>) -> Result<CompressorInput, FieldError> {
-    let need = |k: &str| -> Result<f64, FieldError> {
-        opt_num(form, k)?.ok_or_else(|| FieldError::new(k, format!("{k} is required")))
+/// A compressor as its form posts it (the add form and the edit page share the fields): flows,
+/// pressures and specific power in the units the form was drawn in; `previous` is the stored
+/// compressor, whose values come back exactly when their fields are posted as shown.
+pub(super) fn compressor_input(
+    form: &HashMap<String, String>,
+    previous: Option<&CompressorSpec>,
+) -> Result<CompressorInput, FieldError> {
+    let inputs = Inputs::of_form(form);
+    let need_kw = |k: &str| -> Result<f64, FieldError> {
+        opt_num(form, k)?.ok_or_else(|| FieldError::new(k, format!("{} is required", words(k))))
+    };
+    let need = |k: &str, kind: Entry, prev: Option<f64>| -> Result<f64, FieldError> {
+        inputs
+            .opt(form, k, kind, prev)?
+            .ok_or_else(|| FieldError::new(k, format!("{} is required", words(k))))
     };
     Ok(CompressorInput {
         tag: form.get("tag").cloned().unwrap_or_default(),
         kind: form.get("kind").cloned().unwrap_or_default(),
         control: form.get("control").cloned().unwrap_or_default(),
         cooling: form.get("cooling").cloned().unwrap_or_default(),
-        rated_power_kw: need("rated_power_kw")?,
-        rated_flow_m3_min: need("rated_flow_m3_min")?,
-        rated_pressure_bar_g: need("rated_pressure_bar_g")?,
+        rated_power_kw: need_kw("rated_power_kw")?,
+        rated_flow_m3_min: need(
+            "rated_flow_m3_min",
+            Entry::FreeAirFlow,
+            previous.map(|c| c.rated_flow_m3_min),
+        )?,
+        rated_pressure_bar_g: need(
+            "rated_pressure_bar_g",
+            Entry::GaugePressure,
+            previous.map(|c| c.rated_pressure_bar_g),
+        )?,
         no_load_power_kw: opt_num(form, "no_load_power_kw")?,
         nameplate_motor_kw: opt_num(form, "nameplate_motor_kw")?,
-        max_pressure_bar_g: opt_num(form, "max_pressure_bar_g")?,
+        max_pressure_bar_g: inputs.opt(
+            form,
+            "max_pressure_bar_g",
+            Entry::GaugePressure,
+            previous.and_then(|c| c.max_pressure_bar_g),
+        )?,
         unloaded_power_fraction: opt_num(form, "unloaded_power_fraction")?,
         stages: opt_num(form, "stages")?.map(|s| s as u32),
-        rated_specific_power_kw_per_m3_min: opt_num(form, "rated_specific_power_kw_per_m3_min")?,
-        power_curve: parse_curve(form.get("power_curve").map(|s| s.as_str()).unwrap_or(""))?,
+        rated_specific_power_kw_per_m3_min: inputs.opt(
+            form,
+            "rated_specific_power_kw_per_m3_min",
+            Entry::SpecificPower,
+            previous.and_then(|c| c.rated_specific_power_kw_per_m3_min),
+        )?,
+        power_curve: inputs.read_curve(
+            form.get("power_curve").map(|s| s.as_str()).unwrap_or(""),
+            previous.map(|c| c.power_curve.as_slice()),
+        )?,
         min_speed_fraction: None,
         unloaded_level_kw: opt_num(form, "unloaded_level_kw")?,
         loaded_level_kw: opt_num(form, "loaded_level_kw")?,
@@ -211,11 +271,28 @@ pub(super) fn compressor_input(form: &HashMap<String, String>) -> Result<Compres
     })
 }
 
-/// A receiver as its form posts it.
-pub(super) fn receiver_input(form: &HashMap<String, String>) -> Result<ReceiverInput, FieldError> {
+/// A required field's name in words.
+fn words(key: &str) -> &'static str {
+    match key {
+        "rated_power_kw" => "The package input power",
+        "rated_flow_m3_min" => "The free air delivery",
+        "rated_pressure_bar_g" => "The rated pressure",
+        "volume_m3" => "The volume",
+        _ => "This field",
+    }
+}
+
+/// A receiver as its form posts it, the volume in the units the form was drawn in.
+pub(super) fn receiver_input(
+    form: &HashMap<String, String>,
+    previous: Option<&ReceiverRecord>,
+) -> Result<ReceiverInput, FieldError> {
+    let inputs = Inputs::of_form(form);
     Ok(ReceiverInput {
         name: form.get("name").cloned().unwrap_or_default(),
-        volume_m3: opt_num(form, "volume_m3")?.unwrap_or(f64::NAN),
+        volume_m3: inputs
+            .opt(form, "volume_m3", Entry::Volume, previous.map(|r| r.volume_m3))?
+            .unwrap_or(f64::NAN),
         notes: form.get("notes").cloned().unwrap_or_default(),
     })
 }
@@ -226,7 +303,7 @@ pub async fn add_compressor(
     Form(form): Form<HashMap<String, String>>,
 ) -> PageResult {
     let result = async {
-        let input = compressor_input(&form)?;
+        let input = compressor_input(&form, None)?;
         st.app.save_compressor(id, 0, &input).await.map_err(AppError::from)
     }
     .await;
@@ -245,7 +322,7 @@ pub async fn add_receiver(
     Form(form): Form<HashMap<String, String>>,
 ) -> PageResult {
     let result = async {
-        let input = receiver_input(&form)?;
+        let input = receiver_input(&form, None)?;
         st.app.add_receiver(id, &input).await.map_err(AppError::from)
     }
     .await;

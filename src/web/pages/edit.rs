@@ -11,6 +11,7 @@ use axum::response::{IntoResponse, Redirect};
 use axum::Form;
 
 use super::audit::{compressor_input, receiver_input};
+use super::inputs::Inputs;
 use super::{render, PageResult};
 use crate::core::model::{CompressorKind, Control};
 use crate::site::{CompressorRecord, ReceiverRecord};
@@ -26,12 +27,14 @@ struct EditPage {
     compressor: Option<CompressorRecord>,
     receiver: Option<ReceiverRecord>,
     curve: String,
+    inp: Inputs,
     kinds: Vec<(&'static str, String)>,
     controls: Vec<(&'static str, String)>,
     error: Option<String>,
 }
 
 fn page(
+    inp: Inputs,
     audit: Audit,
     compressor: Option<CompressorRecord>,
     receiver: Option<ReceiverRecord>,
@@ -42,16 +45,14 @@ fn page(
         (_, Some(r)) => format!("Edit receiver {}", r.name),
         _ => "Edit".into(),
     };
-    let curve = compressor
-        .as_ref()
-        .map(|c| c.spec.power_curve.iter().map(|(q, kw)| format!("{q}:{kw}")).collect::<Vec<_>>().join(" "))
-        .unwrap_or_default();
+    let curve = compressor.as_ref().map(|c| inp.curve(&c.spec.power_curve)).unwrap_or_default();
     EditPage {
         audit,
         title,
         compressor,
         receiver,
         curve,
+        inp,
         kinds: CompressorKind::ALL.iter().map(|k| (k.as_str(), k.label())).collect(),
         controls: Control::ALL.iter().map(|k| (k.as_str(), k.label())).collect(),
         error,
@@ -78,7 +79,7 @@ pub async fn edit_compressor(State(st): State<AppState>, Path((id, cid)): Path<(
     let b = st.app.bundle(id).await?;
     let c =
         b.compressors.iter().find(|c| c.id == cid).cloned().ok_or_else(|| missing("compressor", id, cid))?;
-    Ok(render(&page(b.audit, Some(c), None, None)))
+    Ok(render(&page(Inputs::new(b.fmt().units), b.audit, Some(c), None, None)))
 }
 
 pub async fn save_compressor(
@@ -90,7 +91,7 @@ pub async fn save_compressor(
     let stored =
         b.compressors.iter().find(|c| c.id == cid).cloned().ok_or_else(|| missing("compressor", id, cid))?;
     let result = async {
-        let input = compressor_input(&form)?;
+        let input = compressor_input(&form, Some(&stored.spec))?;
         st.app.save_compressor(id, cid, &input).await.map_err(AppError::from)
     }
     .await;
@@ -101,11 +102,12 @@ pub async fn save_compressor(
         }
         Err(e) => {
             // What was typed, shown again where it reads back into the record.
-            let mut shown = stored;
-            if let Ok(Ok(v)) = compressor_input(&form).map(|i| CompressorRecord::from_input(&i)) {
-                shown = CompressorRecord { id: cid, ..v };
-            }
-            refused(page(b.audit, Some(shown), None, None), e)
+            let typed = compressor_input(&form, Some(&stored.spec)).map(|i| CompressorRecord::from_input(&i));
+            let shown = match typed {
+                Ok(Ok(v)) => CompressorRecord { id: cid, ..v },
+                _ => stored,
+            };
+            refused(page(Inputs::new(b.fmt().units), b.audit, Some(shown), None, None), e)
         }
     }
 }
@@ -113,7 +115,7 @@ pub async fn save_compressor(
 pub async fn edit_receiver(State(st): State<AppState>, Path((id, rid)): Path<(i64, i64)>) -> PageResult {
     let b = st.app.bundle(id).await?;
     let r = b.receivers.iter().find(|r| r.id == rid).cloned().ok_or_else(|| missing("receiver", id, rid))?;
-    Ok(render(&page(b.audit, None, Some(r), None)))
+    Ok(render(&page(Inputs::new(b.fmt().units), b.audit, None, Some(r), None)))
 }
 
 pub async fn save_receiver(
@@ -125,7 +127,7 @@ pub async fn save_receiver(
     let stored =
         b.receivers.iter().find(|r| r.id == rid).cloned().ok_or_else(|| missing("receiver", id, rid))?;
     let result = async {
-        let input = receiver_input(&form)?;
+        let input = receiver_input(&form, Some(&stored))?;
         st.app.update_receiver(id, rid, &input).await.map_err(AppError::from)
     }
     .await;
@@ -138,7 +140,7 @@ pub async fn save_receiver(
                 notes: form.get("notes").cloned().unwrap_or_default(),
                 ..stored
             };
-            refused(page(b.audit, None, Some(shown), None), e)
+            refused(page(Inputs::new(b.fmt().units), b.audit, None, Some(shown), None), e)
         }
     }
 }

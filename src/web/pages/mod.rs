@@ -13,12 +13,14 @@ pub mod confirm;
 pub mod edit;
 pub mod findings;
 pub mod index;
+pub mod inputs;
 pub mod remap;
 pub mod report;
 pub mod scenarios;
 pub mod tests;
 pub mod upload;
 pub mod view;
+pub mod words;
 
 use askama::Template;
 use axum::http::StatusCode;
@@ -87,4 +89,37 @@ pub struct ViewQuery {
 pub(crate) fn reader_fmt(b: &AuditBundle, q: &ViewQuery) -> Fmt {
     let units = q.units.as_deref().and_then(UnitSystem::parse).unwrap_or(b.audit.site.display_units);
     Fmt::new(units, b.audit.site.air().atmosphere)
+}
+
+/// The IANA time-zone names a person chooses from (the form's datalist, searched as one types):
+/// the zones of the bundled database that name a place, and UTC; sorted.
+pub(crate) fn zone_names() -> Vec<String> {
+    let mut names: Vec<String> = jiff::tz::db()
+        .available()
+        .map(|n| n.to_string())
+        .filter(|n| {
+            n.contains('/')
+                && !["Etc/", "posix/", "right/", "SystemV/", "US/", "Brazil/", "Canada/", "Chile/", "Mexico/"]
+                    .iter()
+                    .any(|p| n.starts_with(p))
+        })
+        .collect();
+    names.push("UTC".into());
+    names.sort();
+    names.dedup();
+    names
+}
+
+#[cfg(test)]
+mod zone_tests {
+    #[test]
+    fn the_zone_list_holds_the_iana_names_people_use() {
+        let z = super::zone_names();
+        // Names of the IANA time zone database (tzdata), checked by hand against its zone1970.tab.
+        for name in ["America/Chicago", "Europe/Vienna", "Asia/Kolkata", "Australia/Sydney", "UTC"] {
+            assert!(z.iter().any(|n| n == name), "{name} missing");
+        }
+        assert!(!z.iter().any(|n| n == "CST" || n.starts_with("Etc/")));
+        assert!(z.len() > 300, "{} zones", z.len());
+    }
 }

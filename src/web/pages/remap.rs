@@ -11,9 +11,12 @@ use axum::http::StatusCode;
 use axum::response::{IntoResponse, Redirect};
 use axum::Form;
 
+use super::inputs::Inputs;
 use super::{render, PageResult};
 use crate::app::AuditBundle;
-use crate::core::unit_table::{self, LoggedQuantity};
+use crate::core::entry::Entry;
+use crate::core::unit_table::{self, LoggedQuantity, ToSi};
+use crate::ingest::mapping::LineConditions;
 use crate::ingest::Mapping;
 use crate::store::audits::Audit;
 use crate::web::error::AppError;
@@ -25,6 +28,10 @@ struct ColumnRow {
     quantity: String,
     unit: String,
     compressor: Option<String>,
+    /// An actual-volume flow's line, as the fields show it in the reader's units (blank if none).
+    line_pressure: String,
+    line_column: String,
+    line_temperature: String,
 }
 
 /// A column of the file that the mapping does not read, with the sniffer's guess.
@@ -46,6 +53,10 @@ struct RemapPage {
     units: Vec<(&'static str, Vec<(&'static str, &'static str)>)>,
     compressors: Vec<String>,
     timezone: String,
+    zones: Vec<String>,
+    inp: Inputs,
+    /// The file's other columns, for a line pressure logged in one of them.
+    pressure_columns: Vec<String>,
     format: String,
     error: Option<String>,
 }
@@ -59,6 +70,13 @@ fn quantity_label(q: LoggedQuantity) -> &'static str {
         LoggedQuantity::Flow => "flow",
         LoggedQuantity::Temperature => "temperature",
     }
+}
+
+/// Whether a flow unit is actual volume at line conditions (`acfm`, `am3_min`, `am3_h`).
+fn is_line_flow(quantity: &str, unit: &str) -> bool {
+    quantity == "flow"
+        && unit_table::find(LoggedQuantity::Flow, unit)
+            .is_some_and(|u| matches!(u.to_si, ToSi::LineFlow { .. }))
 }
 
 fn quantity(s: &str) -> Option<LoggedQuantity> {
@@ -108,6 +126,7 @@ fn page(
     extra: Vec<ExtraColumn>,
     error: Option<String>,
 ) -> RemapPage {
+    let inp = Inputs::new(b.audit.site.display_units);
     let columns = m
         .columns
         .iter()
@@ -116,11 +135,15 @@ fn page(
             let unit = quantity(&c.quantity)
                 .and_then(|q| unit_table::find(q, &c.unit))
                 .map_or_else(|| c.unit.clone(), |u| u.code.to_string());
+            let line = c.line.clone().unwrap_or_default();
             ColumnRow {
                 column: c.column.clone(),
                 quantity: c.quantity.clone(),
                 unit,
                 compressor: c.compressor.clone(),
+                line_pressure: line.pressure_bar_g.map(|p| inp.p(p)).unwrap_or_default(),
+                line_column: line.pressure_column.unwrap_or_default(),
+                line_temperature: line.temperature_c.map(|t| inp.t(t)).unwrap_or_default(),
             }
         })
         .collect();
@@ -136,6 +159,14 @@ fn page(
             .collect(),
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         timezone: m.timestamp.timezone.clone(),
+        zones: super::zone_names(),
+        inp,
+        pressure_columns: m
+            .columns
+            .iter()
+            .filter(|c| c.quantity == "pressure")
+            .map(|c| c.column.clone())
+            .collect(),
         format: m.timestamp.format.clone(),
         error,
         audit: b.audit,
@@ -153,6 +184,7 @@ pub async fn remap(State(st): State<AppState>, Path((id, uid)): Path<(i64, i64)>
 /// quantity, unit and compressor chosen, and columns the file has but the mapping did not read are
 /// added where ticked; everything else of the stored mapping stays.
 fn changed(mut m: Mapping, form: &HashMap<String, String>) -> Mapping {
+    let inputs = Inputs::of_form(form);
     let extra = |j: usize, f: &str| form.get(&format!("extra{j}_{f}")).map(|s| s.trim().to_string());
     let mut added = vec![];
     for j in 0.. {
@@ -179,6 +211,29 @@ fn changed(mut m: Mapping, form: &HashMap<String, String>) -> Mapping {
         }
         if let Some(u) = field(i, "unit") {
             c.unit = u;
+        }
+        // An actual-volume flow takes its line from the form (in the units it was drawn in); any
+        // other unit has none, or the mapping would be refused for a line it does not use.
+        if is_line_flow(&c.quantity, &c.unit) {
+            let prev = c.line.clone().unwrap_or_default();
+            let column = field(i, "line_column").filter(|s| !s.is_empty());
+            let pressure = field(i, "line_pressure").and_then(|t| {
+                Entry::GaugePressure
+                    .read(inputs.units, &t, prev.pressure_bar_g)
+                    .ok()
+                    .filter(|_| !t.is_empty())
+            });
+            let temperature = field(i, "line_temperature").and_then(|t| {
+                Entry::Temperature.read(inputs.units, &t, prev.temperature_c).ok().filter(|_| !t.is_empty())
+            });
+            c.line = Some(LineConditions {
+                pressure_bar_g: if column.is_some() { None } else { pressure },
+                pressure_bar_a: None,
+                pressure_column: column,
+                temperature_c: temperature,
+            });
+        } else if c.line.is_some() && field(i, "unit").is_some() {
+            c.line = None;
         }
         if let Some(t) = field(i, "compressor") {
             c.compressor = (!t.is_empty()).then_some(t);

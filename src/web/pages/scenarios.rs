@@ -12,6 +12,7 @@ use axum::Form;
 use serde::Deserialize;
 use serde_json::Value;
 
+use super::inputs::Inputs;
 use super::view::nan;
 use super::{render, PageError, PageResult};
 use crate::app::scenarios::ScenarioOutcome;
@@ -34,10 +35,12 @@ fn changes_in_words(changes: &Value, fmt: &Fmt) -> String {
             "add" => {
                 let m = c.get("compressor").cloned().unwrap_or_default();
                 format!(
-                    "add {} ({}, {})",
+                    "add {} ({}, {}, {} at {})",
                     text(&m, "tag"),
                     text(&m, "control").replace('_', " "),
-                    fmt.power_kw(num(&m, "rated_power_kw"))
+                    fmt.power_kw(num(&m, "rated_power_kw")),
+                    fmt.flow_m3_min(num(&m, "rated_flow_m3_min")),
+                    fmt.pressure_bar_g(num(&m, "rated_pressure_bar_g"))
                 )
             }
             "set_pressure" => format!("header pressure {}", fmt.pressure_bar_g(num(c, "target_bar_g"))),
@@ -88,6 +91,7 @@ struct ScenariosPage {
     rows: Vec<ScenarioRow>,
     compressors: Vec<String>,
     page_data: Value,
+    inp: Inputs,
     has_data: bool,
     editing: Option<String>,
 }
@@ -183,7 +187,9 @@ pub async fn scenarios(
     });
     let editing = q.edit.and_then(|e| list.iter().find(|s| s.id == e)).map(|s| s.name.clone());
     Ok(render(&ScenariosPage {
-        page_data: serde_json::json!({"audit_id": id, "traces": traces, "edit": edit}),
+        page_data: serde_json::json!({"audit_id": id, "traces": traces, "edit": edit,
+            "entry": Inputs::new(fmt.units).page_data(), "timezone": b.audit.site.timezone}),
+        inp: Inputs::new(fmt.units),
         has_data: !b.uploads.is_empty(),
         editing,
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),

@@ -3,6 +3,8 @@
 use askama::Template;
 use axum::extract::{Path, State};
 
+use super::inputs::Inputs;
+use super::words::local_time;
 use super::{render, PageResult};
 use crate::store::audits::{Audit, UploadRecord};
 use crate::web::AppState;
@@ -14,6 +16,9 @@ struct UploadPage {
     uploads: Vec<UploadRecord>,
     max_upload_mb: u64,
     page_data: serde_json::Value,
+    zones: Vec<String>,
+    /// Each file's first and last reading in the site's time.
+    spans: Vec<(String, String)>,
 }
 
 pub async fn upload(State(st): State<AppState>, Path(id): Path<i64>) -> PageResult {
@@ -22,11 +27,24 @@ pub async fn upload(State(st): State<AppState>, Path(id): Path<i64>) -> PageResu
         "audit_id": id,
         "compressors": b.compressors.iter().map(|c| c.spec.tag.clone()).collect::<Vec<_>>(),
         "units": crate::ingest::units_by_quantity(),
+        "entry": Inputs::new(b.audit.site.display_units).page_data(),
+        "timezone": b.audit.site.timezone,
     });
+    let tz = b.audit.site.timezone.clone();
+    let spans = b
+        .uploads
+        .iter()
+        .map(|u| {
+            let at = |t: &Option<String>| t.as_deref().map(|t| local_time(t, &tz)).unwrap_or_default();
+            (at(&u.first), at(&u.last))
+        })
+        .collect();
     Ok(render(&UploadPage {
         max_upload_mb: st.config.max_upload_bytes / (1024 * 1024),
         audit: b.audit,
         uploads: b.uploads,
         page_data,
+        zones: super::zone_names(),
+        spans,
     }))
 }

@@ -252,9 +252,9 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
     }
     let p = &sm.period;
     let period = format!(
-        "{} to {} ({} h logged, {} s analysis step)",
-        p.start,
-        p.end,
+        "{} to {}, site time ({} h logged, {} s analysis step)",
+        super::words::local_time(&p.start, &b.audit.site.timezone),
+        super::words::local_time(&p.end, &b.audit.site.timezone),
         num(p.hours, 1),
         num(p.step_s, 0)
     );
@@ -723,10 +723,14 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
         .iter()
         .filter(|c| c.quantity != "temperature")
         .map(|c| {
-            let name = match (&c.compressor_tag, c.quantity.as_str()) {
-                (Some(t), _) => t.clone(),
-                (None, "pressure") => format!("pressure at {}", c.label),
-                (None, q) => format!("{q} at {}", c.label),
+            // The legend says what is measured; the file's column name (often a code such as
+            // `header_bar_g`) only tells apart two channels of one quantity, quoted as the file has it.
+            let same = b.channels.iter().filter(|o| o.quantity == c.quantity && o.compressor_tag.is_none()).count();
+            let what = if c.quantity == "flow" { "flow" } else { c.quantity.as_str() };
+            let name = match &c.compressor_tag {
+                Some(t) => t.clone(),
+                None if same > 1 => format!("{what} (column \u{201c}{}\u{201d})", c.label),
+                None => what.to_string(),
             };
             serde_json::json!({"id": c.id, "quantity": if c.quantity == "energy" { "power" } else { c.quantity.as_str() }, "name": name, "counter": c.quantity == "energy"})
         })
@@ -750,6 +754,12 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
         "timezone": b.audit.site.timezone,
         "first_ms": b.channels.iter().map(|c| c.first_ms).min(),
         "last_ms": b.channels.iter().map(|c| c.last_ms).max(),
+        // The site's local days the channels were logged on (the day selector), at most 1,000.
+        "days": super::words::local_days(
+            &b.channels.iter().map(|c| (c.first_ms, c.last_ms)).collect::<Vec<_>>(),
+            &b.audit.site.timezone,
+            1000,
+        ).into_iter().map(|(a, z, label)| serde_json::json!({"start_ms": a, "end_ms": z, "label": label})).collect::<Vec<_>>(),
         "channels": channels,
         "units": {
             "system": if us { "us" } else { "si" },

@@ -1,0 +1,283 @@
+//! Stored records said in words for a person: field tests and scenario changes with their inputs
+//! in the reader's units, and times in the site's local time with the zone named. Nothing here
+//! prints a field code or JSON.
+
+use crate::app::fieldtests::result_of;
+use crate::core::display::{num, Fmt};
+use crate::core::fieldtest::{FieldTestInput, FieldTestResult, VolumeSource};
+use crate::store::audits::FieldTestRecord;
+
+/// A time as the site's clocks show it, with the zone's abbreviation: "Sat 16 Dec 2006 17:24 CST".
+/// Accepts RFC 3339 text; a text that is not one is given back as it is.
+pub fn local_time(rfc3339: &str, tz: &str) -> String {
+    let Ok(ts) = rfc3339.trim().parse::<jiff::Timestamp>() else {
+        return rfc3339.to_string();
+    };
+    local_ms(ts.as_millisecond(), tz)
+}
+
+/// A time in ms since 1970 UTC as the site's clocks show it, with the zone's abbreviation.
+pub fn local_ms(ms: i64, tz: &str) -> String {
+    let Ok(ts) = jiff::Timestamp::from_millisecond(ms) else {
+        return String::new();
+    };
+    let zone = jiff::tz::TimeZone::get(tz).unwrap_or(jiff::tz::TimeZone::UTC);
+    ts.to_zoned(zone).strftime("%a %-d %b %Y %H:%M %Z").to_string()
+}
+
+/// The site's local days that the logged spans `(first_ms, last_ms)` touch, in order, at most `cap`
+/// of them: each as (start, end) in ms UTC, cut at the zone's midnights (a daylight-saving day is
+/// 23 or 25 hours long), and its label ("Sun 8 Mar 2026").
+pub fn local_days(spans: &[(i64, i64)], tz: &str, cap: usize) -> Vec<(i64, i64, String)> {
+    let zone = jiff::tz::TimeZone::get(tz).unwrap_or(jiff::tz::TimeZone::UTC);
+    let mut days = std::collections::BTreeMap::new();
+    let date_of =
+        |ms: i64| jiff::Timestamp::from_millisecond(ms).ok().map(|t| t.to_zoned(zone.clone()).date());
+    let start_of =
+        |d: jiff::civil::Date| d.to_zoned(zone.clone()).ok().map(|z| z.timestamp().as_millisecond());
+    for &(first, last) in spans {
+        let (Some(mut d), Some(end)) = (date_of(first), date_of(last.max(first))) else { continue };
+        while d <= end && days.len() < cap {
+            let Ok(next) = d.tomorrow() else { break };
+            if let (Some(a), Some(b)) = (start_of(d), start_of(next)) {
+                days.entry(a).or_insert_with(|| (b, d.strftime("%a %-d %b %Y").to_string()));
+            }
+            d = next;
+        }
+    }
+    days.into_iter().take(cap).map(|(a, (b, label))| (a, b, label)).collect()
+}
+
+/// A recorded field test as the tests page and the findings show it.
+pub struct TestRow {
+    pub id: i64,
+    pub method: String,
+    pub input: String,
+    pub result: String,
+    pub leak_flow: String,
+}
+
+/// A method's name in words.
+pub fn method_words(kind: &str) -> &'static str {
+    match kind {
+        "bleed_down" => "Bleed-down",
+        "load_unload" => "Load/unload timing",
+        "idle_flow" => "Idle flow in the logs",
+        "pressure_decay" => "Pressure decay in the logs",
+        _ => "Field test",
+    }
+}
+
+fn seconds(s: f64) -> String {
+    if s >= 120.0 {
+        format!("{} min", num(s / 60.0, 1))
+    } else {
+        format!("{} s", num(s, if s >= 10.0 { 0 } else { 1 }))
+    }
+}
+
+fn volume_words(fmt: &Fmt, v: f64, source: &VolumeSource) -> String {
+    match source {
+        VolumeSource::Given => format!("system volume {} (as measured)", fmt.volume_m3(v)),
+        VolumeSource::SystemVolume => {
+            format!("system volume {} (the receivers and piping on record)", fmt.volume_m3(v))
+        }
+    }
+}
+
+/// The stored air's temperature, when given, as a clause.
+fn stored_air(fmt: &Fmt, c: Option<f64>) -> String {
+    c.map_or(String::new(), |c| format!("; stored air at {}", fmt.temperature_c(c)))
+}
+
+/// What was measured, in words and the reader's units.
+pub fn input_words(input: &FieldTestInput, result: Option<&FieldTestResult>, fmt: &Fmt, tz: &str) -> String {
+    match input {
+        FieldTestInput::BleedDown {
+            volume_m3,
+            start_pressure_bar_g,
+            end_pressure_bar_g,
+            duration_s,
+            operating_pressure_bar_g,
+            air_temperature_c,
+        } => {
+            let volume = match (result, volume_m3) {
+                (Some(FieldTestResult::BleedDown(r)), _) => volume_words(fmt, r.volume_m3, &r.volume_source),
+                (_, Some(v)) => volume_words(fmt, *v, &VolumeSource::Given),
+                _ => "the system volume on record".into(),
+            };
+            let op = operating_pressure_bar_g.unwrap_or(*start_pressure_bar_g);
+            format!(
+                "Pressure fell from {} to {} in {}; {volume}; operating pressure {}{}.",
+                fmt.pressure_bar_g(*start_pressure_bar_g),
+                fmt.pressure_bar_g(*end_pressure_bar_g),
+                seconds(*duration_s),
+                fmt.pressure_bar_g(op),
+                stored_air(fmt, *air_temperature_c),
+            )
+        }
+        FieldTestInput::LoadUnload { compressor, loaded_s, unloaded_s } => format!(
+            "Compressor {compressor}: loaded for {} and unloaded for {} on average, with no production demand.",
+            seconds(*loaded_s),
+            seconds(*unloaded_s)
+        ),
+        FieldTestInput::IdleFlow { start, end, production_pressure_bar_g, purge_and_drains_m3_min } => format!(
+            "Logged window {} to {}; production pressure {}{}.",
+            local_time(start, tz),
+            local_time(end, tz),
+            production_pressure_bar_g.map_or("the logged mean".into(), |p| fmt.pressure_bar_g(p)),
+            match purge_and_drains_m3_min {
+                Some(q) if *q > 0.0 => format!("; purge and drains {} taken off", fmt.flow_m3_min(*q)),
+                _ => String::new(),
+            }
+        ),
+        FieldTestInput::PressureDecay { start, end, volume_m3, operating_pressure_bar_g, air_temperature_c } => {
+            let volume = match (result, volume_m3) {
+                (Some(FieldTestResult::PressureDecay(r)), _) => volume_words(fmt, r.volume_m3, &r.volume_source),
+                (_, Some(v)) => volume_words(fmt, *v, &VolumeSource::Given),
+                _ => "the system volume on record".into(),
+            };
+            format!(
+                "Logged window {} to {}; {volume}; leak flow reported at {}{}.",
+                local_time(start, tz),
+                local_time(end, tz),
+                operating_pressure_bar_g.map_or("the start pressure".into(), |p| fmt.pressure_bar_g(p)),
+                stored_air(fmt, *air_temperature_c),
+            )
+        }
+    }
+}
+
+/// What the test found, in words and the reader's units.
+pub fn result_words(result: &FieldTestResult, fmt: &Fmt) -> String {
+    let range = |lo: f64, hi: f64| format!("{} to {}", fmt.flow_m3_min(lo), fmt.flow_m3_min(hi));
+    match result {
+        FieldTestResult::BleedDown(r) => format!(
+            "Mean leak flow {} at a log-mean {}; {} at the operating pressure (likely {}); the US DOE rule of thumb (mean × 1.25) gives {}.",
+            fmt.flow_m3_min(r.mean_leak_flow_m3_min),
+            fmt.pressure_bar_g(r.log_mean_pressure_bar_g),
+            fmt.flow_m3_min(r.leak_flow_at_operating_pressure_m3_min),
+            range(r.leak_flow_m3_min_low, r.leak_flow_m3_min_high),
+            fmt.flow_m3_min(r.doe_rule_of_thumb_flow_m3_min),
+        ),
+        FieldTestResult::LoadUnload(r) => format!(
+            "Leaks take {} of {}'s rated {} (likely {}).",
+            fmt.percent(r.leak_fraction),
+            r.compressor,
+            fmt.flow_m3_min(r.rated_flow_m3_min),
+            range(r.leak_flow_m3_min_low, r.leak_flow_m3_min_high),
+        ),
+        FieldTestResult::IdleFlow(r) => format!(
+            "Mean logged flow {}{}; {} of the window logged (likely {}).",
+            fmt.flow_m3_min(r.mean_flow_m3_min),
+            r.mean_pressure_bar_g.map_or(String::new(), |p| format!(" at a mean {}", fmt.pressure_bar_g(p))),
+            fmt.percent(r.coverage),
+            range(r.leak_flow_m3_min_low, r.leak_flow_m3_min_high),
+        ),
+        FieldTestResult::PressureDecay(r) => {
+            let mut s = format!(
+                "Pressure fell from {} to {} in {}; leak flow {} at the start pressure; fit r² {} (likely {}).",
+                fmt.pressure_bar_g(r.start_pressure_bar_g),
+                fmt.pressure_bar_g(r.end_pressure_bar_g),
+                seconds(r.duration_s),
+                fmt.flow_m3_min(r.leak_flow_at_start_pressure_m3_min),
+                num(r.fit_r2, 3),
+                range(r.leak_flow_m3_min_low, r.leak_flow_m3_min_high),
+            );
+            if !r.unchecked_compressors.is_empty() {
+                s.push_str(&format!(
+                    " Not checked to be off (no power logged): {}.",
+                    r.unchecked_compressors.join(", ")
+                ));
+            }
+            s
+        }
+    }
+}
+
+/// The recorded tests, in words.
+pub fn test_rows(tests: &[FieldTestRecord], fmt: &Fmt, tz: &str) -> Vec<TestRow> {
+    tests
+        .iter()
+        .map(|t| {
+            let result = result_of(t);
+            let input: Option<FieldTestInput> = serde_json::from_value(t.input.clone()).ok();
+            TestRow {
+                id: t.id,
+                method: method_words(&t.kind).into(),
+                input: input
+                    .map(|i| input_words(&i, result.as_ref(), fmt, tz))
+                    .unwrap_or_else(|| "the inputs could not be read back".into()),
+                result: result.as_ref().map(|r| result_words(r, fmt)).unwrap_or_default(),
+                leak_flow: fmt.flow_m3_min(result.as_ref().map_or(f64::NAN, |r| r.leak_flow_m3_min())),
+            }
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::core::units::{PressureAbs, UnitSystem};
+
+    #[test]
+    fn local_time_names_the_zone_and_follows_its_rules() {
+        // 2006-12-16 23:24 UTC is 17:24 in Chicago (CST = UTC-6 in December, IANA tz database).
+        assert_eq!(local_time("2006-12-16T23:24:00Z", "America/Chicago"), "Sat 16 Dec 2006 17:24 CST");
+        // In July Chicago keeps CDT = UTC-5.
+        assert_eq!(local_time("2020-07-01T12:00:00Z", "America/Chicago"), "Wed 1 Jul 2020 07:00 CDT");
+        assert_eq!(local_time("not a time", "America/Chicago"), "not a time");
+    }
+
+    #[test]
+    fn days_are_cut_at_the_sites_midnight_and_daylight_saving_days_are_23_hours() {
+        // US daylight saving began on Sun 8 Mar 2026 at 02:00 local (second Sunday of March,
+        // Energy Policy Act of 2005): Chicago's midnight is 06:00 UTC that day (CST, UTC-6) and
+        // 05:00 UTC the next (CDT, UTC-5).
+        let mar8 = 1_772_949_600_000; // 2026-03-08T06:00:00Z
+        let days = local_days(&[(mar8 + 3_600_000, mar8 + 30 * 3_600_000)], "America/Chicago", 100);
+        assert_eq!(days.len(), 2, "{days:?}");
+        assert_eq!(days[0], (mar8, mar8 + 23 * 3_600_000, "Sun 8 Mar 2026".to_string()));
+        assert_eq!(days[1].0, mar8 + 23 * 3_600_000);
+        assert_eq!(days[1].2, "Mon 9 Mar 2026");
+        // Files years apart give their own days, not every day between them.
+        let apart = local_days(
+            &[(mar8, mar8 + 1000), (mar8 + 3_000 * 86_400_000, mar8 + 3_000 * 86_400_000 + 1000)],
+            "UTC",
+            100,
+        );
+        assert_eq!(apart.len(), 2);
+        assert_eq!(local_days(&[(0, 400 * 86_400_000)], "UTC", 10).len(), 10);
+    }
+
+    #[test]
+    fn a_bleed_down_reads_in_words_and_us_units() {
+        let fmt = Fmt::new(UnitSystem::Us, PressureAbs(101_325.0));
+        let input = FieldTestInput::BleedDown {
+            volume_m3: Some(2.5),
+            start_pressure_bar_g: 7.0,
+            end_pressure_bar_g: 6.0,
+            duration_s: 90.0,
+            operating_pressure_bar_g: None,
+            air_temperature_c: None,
+        };
+        let s = input_words(&input, None, &fmt, "UTC");
+        // 7 bar = 101.5 psig, 6 bar = 87.0 psig (NIST SP 811 psi factor); 2.5 m³ = 660 US gal.
+        assert_eq!(
+            s,
+            "Pressure fell from 101.5 psig to 87.0 psig in 90 s; system volume 660 US gal (as measured); operating pressure 101.5 psig."
+        );
+        assert!(!s.contains('{') && !s.contains("_bar_g"));
+        // A stored-air temperature reads in °F for a US reader: 35 °C = 95 °F (NIST SP 811).
+        let warm = FieldTestInput::BleedDown {
+            volume_m3: Some(2.5),
+            start_pressure_bar_g: 7.0,
+            end_pressure_bar_g: 6.0,
+            duration_s: 90.0,
+            operating_pressure_bar_g: None,
+            air_temperature_c: Some(35.0),
+        };
+        let w = input_words(&warm, None, &fmt, "UTC");
+        assert!(w.ends_with("; stored air at 95 °F."), "{w}");
+    }
+}
