@@ -47,6 +47,10 @@ impl App {
             self.add_receiver(id, &ReceiverInput { name: name.clone(), volume_m3: *v, notes: String::new() })
                 .await?;
         }
+        for (list, body) in crate::demo::demo_treatment() {
+            let kind = super::treatment::ItemKind::from_segment(list).expect("a demo list");
+            self.add_treatment_item(id, kind, body).await?;
+        }
         let spool_dir = &self.config().spool_dir;
         std::fs::create_dir_all(spool_dir)?;
         for f in &plant.files {

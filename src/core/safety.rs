@@ -7,6 +7,8 @@ practice; it is not taken from any one standard.
 - [`PRESSURE_TEST_CAUTIONS`]: before a bleed-down or pressure-decay test (`core::leaks`,
   `core::fieldtest`), on the field-test page and in the findings (`templates/macros.html` reads
   this list; the pages hold no wording of their own).
+- [`TREATMENT_CAUTIONS`]: wherever dryers, drains and end uses are shown (report and findings), and
+  [`TREATMENT_MEASURE_CAUTION`] as the one-line caution of the measures on them.
 - [`HEAT_RECOVERY_CAUTIONS`]: wherever heat recovery is proposed (the summary's `heat.cautions`), and
   [`HEAT_RECOVERY_MEASURE_CAUTION`] as the one-line caution of the `recover_heat` measure.
 */
@@ -33,6 +35,14 @@ pub const HEAT_RECOVERY_MEASURE_CAUTION: &str =
     "hot oil, hot ducts and water above 60 °C; interlock the recovery \
      circuit so a blocked circuit never stops the compressor's own cooling; defer to local codes and \
      licensed practice";
+
+/// Shown wherever dryers, drains or end uses are recorded or a measure on them is proposed.
+pub const TREATMENT_CAUTIONS: &[&str] = &[
+    "Dryers, filters, drains and their piping hold pressure: isolate, lock out and vent them before any work.",
+    "A heated or heat-of-compression dryer has hot surfaces: let it cool and guard it.",
+    "Condensate is oily waste: collect it and dispose of it as local rules require.",
+    "Follow local pressure-equipment codes and the site's licensed practice; they come first.",
+];
 
 /// The caution of a measure on dryers, drains or the air supply to end uses (`dew_point_control`,
 /// `zero_loss_drains`, `replace_inappropriate_uses`), in one line.

@@ -158,3 +158,35 @@ impl Default for DemoOptions {
 pub fn demo_plant() -> DemoPlant {
     simulate(&DemoOptions::default())
 }
+
+/// The demo plant's treatment equipment and end-use inventory, as the API takes them (list, body).
+/// Invented for the demo scenario. The simulated logs carry no purge or drain air, so the dryer is
+/// a non-cycling refrigerated one and the drains are level-sensing: the records add the demand
+/// split and the end-use measure without changing what the logs say about leaks.
+pub fn demo_treatment() -> Vec<(&'static str, serde_json::Value)> {
+    use serde_json::json;
+    vec![
+        (
+            "dryers",
+            json!({"tag": "RD1", "kind": "refrigerated", "rated_flow_m3_min": 20.0, "power_kw": 3.2,
+                   "control": "fixed_cycle"}),
+        ),
+        ("drains", json!({"tag": "LD1", "kind": "zero_loss"})),
+        ("drains", json!({"tag": "LD2", "kind": "float"})),
+        (
+            "end-uses",
+            json!({"name": "assembly tools", "kind": "tool", "count": 14, "flow_m3_min": 0.45, "pressure_bar_g": 6.0,
+                   "duty": 0.35, "regulated": true}),
+        ),
+        (
+            "end-uses",
+            json!({"name": "blow-off at the fettling line", "kind": "open_blowing", "count": 3, "orifice_mm": 2.0,
+                   "pressure_bar_g": 6.0, "duty": 0.6, "regulated": false, "alternative_kw": 0.37}),
+        ),
+        (
+            "end-uses",
+            json!({"name": "panel cooler, core shop", "kind": "cabinet_cooler", "count": 1, "flow_m3_min": 0.55,
+                   "pressure_bar_g": 6.0, "duty": 0.8, "regulated": true, "alternative_kw": 0.3}),
+        ),
+    ]
+}

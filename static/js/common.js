@@ -95,8 +95,9 @@ window.airledger = {
   },
 };
 // A number stays with its unit when a line wraps (on screen and in print): in figures, the space
-// after a digit that is followed by a unit becomes a no-break space.
-for (const el of document.querySelectorAll("td.num, .figure-value")) {
+// after a digit that is followed by a unit becomes a no-break space (in every table cell: a measure
+// names its flow in its title).
+for (const el of document.querySelectorAll("table.data td, table.data th, .figure-value, dl.facts dd")) {
   const w = document.createTreeWalker(el, NodeFilter.SHOW_TEXT);
   for (let n = w.nextNode(); n; n = w.nextNode()) n.nodeValue = n.nodeValue.replace(/(\d) (?=[^\s\d(–-])/g, "$1\u00a0");
 }

@@ -216,7 +216,10 @@ fn printed_findings_carry_the_site_and_page_numbers_and_keep_numbers_with_units(
     }
     // The page before the measures is not left mostly blank: it holds at least 25 lines of text.
     let per_page: Vec<&str> = all.split('\u{c}').collect();
-    let at = per_page.iter().position(|t| t.contains("Recommendations, ranked")).expect("measures printed");
+    let at = per_page
+        .iter()
+        .position(|t| t.contains("Recommendations: measures stacked"))
+        .expect("measures printed");
     if at > 0 {
         let before = per_page[at - 1].lines().filter(|l| !l.trim().is_empty()).count();
         assert!(before >= 25, "page {} before the measures holds {before} lines", at);

@@ -113,6 +113,9 @@ pub struct ReportView {
     pub pressure: Vec<(String, String)>,
     pub demand: Vec<(String, String)>,
     pub heat: Vec<(String, String)>,
+    /// Dryers, drains, end uses and the demand split (`summary.transmission`, `demand_split`);
+    /// empty without such records.
+    pub transmission: Vec<(String, String)>,
     pub methods: Vec<(String, String, String)>,
     pub assumptions: Vec<String>,
     /// Sources of error the summary warns of (`Summary::warnings`).
@@ -211,6 +214,7 @@ fn empty_view() -> ReportView {
         pressure: vec![],
         demand: vec![],
         heat: vec![],
+        transmission: vec![],
         methods: vec![],
         assumptions: vec![],
         warnings: vec![],
@@ -285,6 +289,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
         pressure: pressure_rows(sm, fmt),
         demand: demand_rows(sm, fmt),
         heat: heat_rows(sm, fmt, cur),
+        transmission: transmission_rows(sm, fmt, cur),
         methods: sm
             .methods
             .iter()
@@ -687,6 +692,79 @@ fn heat_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
             ),
         ),
     ]
+}
+
+/// The treatment and end-use records priced, then the demand split, in the reader's units.
+fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
+    let t = &sm.transmission;
+    let mut rows = vec![];
+    let words = |code: &str| code.replace('_', " ");
+    for d in &t.dryers {
+        rows.push((
+            format!("Dryer {} ({}, {})", d.tag, words(&d.kind), words(&d.control)),
+            format!(
+                "purge {} ({} a year, {}); electricity {}{}",
+                fmt.flow_m3_min(d.purge_m3_min),
+                fmt.energy_kwh(d.annual_purge_kwh),
+                fmt.money(d.annual_purge_cost, cur),
+                fmt.power_kw(d.power_kw),
+                if d.dew_point_control_saving_m3_min > 0.0 {
+                    format!(
+                        "; dew-point control would purge {} less",
+                        fmt.flow_m3_min(d.dew_point_control_saving_m3_min)
+                    )
+                } else {
+                    String::new()
+                }
+            ),
+        ));
+    }
+    for d in &t.drains {
+        rows.push((
+            format!("Drain {} ({})", d.tag, words(&d.kind)),
+            format!(
+                "air lost {} ({} a year, {})",
+                fmt.flow_m3_min(d.air_m3_min),
+                fmt.energy_kwh(d.annual_kwh),
+                fmt.money(d.annual_cost, cur)
+            ),
+        ));
+    }
+    for u in &t.end_uses {
+        rows.push((
+            format!(
+                "End use: {} ({}{})",
+                u.name,
+                words(&u.kind),
+                if u.inappropriate { ", inappropriate" } else { "" }
+            ),
+            format!(
+                "{} in production ({} a year of compressor energy){}",
+                fmt.flow_m3_min(u.production_mean_flow_m3_min),
+                fmt.energy_kwh(u.annual_air_kwh),
+                u.alternative_saving_kwh.map_or(String::new(), |k| format!(
+                    "; an electric alternative saves {} a year",
+                    fmt.energy_kwh(k)
+                ))
+            ),
+        ));
+    }
+    if let Some(s) = &sm.demand_split {
+        let total = s.total_m3_min();
+        let part = |q: f64| {
+            if total > 0.0 {
+                format!("{} ({})", fmt.flow_m3_min(q), fmt.percent(q / total))
+            } else {
+                fmt.flow_m3_min(q)
+            }
+        };
+        rows.push(("Mean demand: production uses".into(), part(s.production_m3_min)));
+        rows.push(("Mean demand: inappropriate uses".into(), part(s.inappropriate_m3_min)));
+        rows.push(("Mean demand: dryer purge and drains".into(), part(s.purge_and_drains_m3_min)));
+        rows.push(("Mean demand: leaks".into(), part(s.leaks_m3_min)));
+        rows.push(("Mean demand: not yet explained".into(), part(s.unexplained_m3_min)));
+    }
+    rows
 }
 
 /// Chart data: converted to the reader's units here, so the page only draws.
