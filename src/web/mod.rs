@@ -174,6 +174,9 @@ pub fn build_app(state: AppState) -> Router {
             get(pages::confirm::ask_scenario).post(pages::confirm::delete_scenario),
         )
         .route("/audits/{id}/upload", get(pages::upload::upload))
+        .route("/audits/{id}/treatment", get(pages::treatment::treatment))
+        .route("/audits/{id}/treatment/{list}", post(pages::treatment::add))
+        .route("/audits/{id}/treatment/{list}/{iid}/delete", post(pages::treatment::remove))
         .route("/audits/{id}/report", get(pages::report::report))
         .route("/audits/{id}/findings", get(pages::findings::findings))
         .route("/audits/{id}/findings.css", get(pages::findings::print_css))

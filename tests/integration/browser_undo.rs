@@ -110,7 +110,8 @@ fn a_file_is_remapped_and_another_deleted_through_the_audit_page() {
     assert!((left - want_day1).abs() <= 1e-9 * want_day1, "{left} against {want_day1}");
     // The report's page shows the figure that followed.
     b.goto(&s.url(&format!("/audits/{id}/report")));
-    let report = b.js_str("return document.body.innerText");
+    // Numbers are bound to their units by a no-break space on the page.
+    let report = b.js_str("return document.body.innerText").replace('\u{a0}', " ");
     let kw = format!("{want_day1:.1} kW");
     assert!(report.contains(&kw), "the report shows {kw}:\n{}", &report[..report.len().min(2000)]);
     b.screenshot("undo-report-after");

@@ -83,7 +83,9 @@ fn us_units_on_the_field_test_what_if_and_upload_forms() {
     wait_for_path(&b, &format!("/audits/{id}/tests"));
     let again = s.get(&format!("/api/v1/audits/{id}")).json()["field_tests"][0]["input"].clone();
     assert_eq!(again, input, "an unchanged save moved the test");
-    let row = b.js_str("return document.querySelector('table.data tbody tr').innerText");
+    // Numbers are bound to their units by a no-break space on the page.
+    let row =
+        b.js_str("return document.querySelector('table.data tbody tr').innerText").replace('\u{a0}', " ");
     assert!(row.contains("100.0 psig") && row.contains("660 US gal"), "{row}");
 
     // A what-if in psig and US gal.

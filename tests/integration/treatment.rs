@@ -165,3 +165,75 @@ fn the_demo_plant_splits_its_demand_and_prices_its_inappropriate_uses() {
     // measure over the trim's running hours in production: the two agree within a few per cent.
     assert!(got > 0.0 && (got - alone).abs() < 0.1 * alone, "measure {got} vs end uses {alone}");
 }
+
+/// The technician's page takes a drain and an end use in US units (in, psig, cfm) and stores them
+/// in SI (NIST SP 811: 1 in = 25.4 mm, 1 ft³ = 0.028316846592 m³, 1 psi = 6.894757 kPa), and a
+/// removal needs its confirmation box.
+#[test]
+fn the_treatment_page_takes_records_in_the_readers_units() {
+    let s = Server::start();
+    let r = s.post_json(
+        "/api/v1/audits",
+        &json!({"name": "us plant", "site": {"altitude_m": 0, "display_units": "us"}}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let id = r.json()["id"].as_i64().unwrap();
+    let page = s.get(&format!("/audits/{id}/treatment"));
+    assert_eq!(page.status, 200);
+    assert!(page.text.contains("Orifice or valve bore, in"), "the form asks in inches");
+    assert!(page.text.contains("Safety at dryers and drains"));
+    let r = s.post_form(
+        &format!("/audits/{id}/treatment/drains"),
+        &[
+            ("entry_units", "us"),
+            ("tag", "T1"),
+            ("kind", "timer"),
+            ("open_s", "5"),
+            ("interval_s", "300"),
+            ("orifice_mm", "0.125"),
+        ],
+    );
+    assert!(r.status == 303 || r.status == 200, "{} {}", r.status, r.text);
+    let r = s.post_form(
+        &format!("/audits/{id}/treatment/end-uses"),
+        &[
+            ("entry_units", "us"),
+            ("name", "blow-off"),
+            ("kind", "open_blowing"),
+            ("count", "2"),
+            ("flow_m3_min", "10"),
+            ("pressure_bar_g", "90"),
+            ("duty_percent", "50"),
+        ],
+    );
+    assert!(r.status == 303 || r.status == 200, "{} {}", r.status, r.text);
+    let drains = s.get(&format!("/api/v1/audits/{id}/drains")).json();
+    let d = drains["drains"][0]["orifice_mm"].as_f64().unwrap();
+    assert!((d - 3.175).abs() < 1e-9, "{drains}");
+    let uses = s.get(&format!("/api/v1/audits/{id}/end-uses")).json();
+    let u = &uses["end_uses"][0];
+    assert!((u["flow_m3_min"].as_f64().unwrap() - 10.0 * 0.028_316_846_592).abs() < 1e-9, "{u}");
+    assert!((u["pressure_bar_g"].as_f64().unwrap() - 90.0 * 0.068_947_572_93).abs() < 1e-6, "{u}");
+    assert_eq!(u["duty"], 0.5);
+    // A bad record re-shows the page with the reason and a 422.
+    let r = s.post_form(
+        &format!("/audits/{id}/treatment/dryers"),
+        &[
+            ("entry_units", "us"),
+            ("tag", "D1"),
+            ("kind", "heatless_desiccant"),
+            ("rated_flow_m3_min", "300"),
+            ("purge_percent", "150"),
+        ],
+    );
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert!(r.text.contains("purge"), "the reason is shown");
+    // Removal needs the box ticked.
+    let did = drains["drains"][0]["id"].as_i64().unwrap();
+    let r = s.post_form(&format!("/audits/{id}/treatment/drains/{did}/delete"), &[]);
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}/drains")).json()["drains"].as_array().unwrap().len(), 1);
+    let r = s.post_form(&format!("/audits/{id}/treatment/drains/{did}/delete"), &[("confirm", "on")]);
+    assert!(r.status == 303 || r.status == 200, "{}", r.status);
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}/drains")).json()["drains"].as_array().unwrap().len(), 0);
+}

@@ -18,6 +18,7 @@ pub mod remap;
 pub mod report;
 pub mod scenarios;
 pub mod tests;
+pub mod treatment;
 pub mod upload;
 pub mod view;
 pub mod words;
