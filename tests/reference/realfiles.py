@@ -8,9 +8,12 @@ prints JSON: for each file, the data rows, the first and last timestamp (UTC, RF
 each physical column the readings, the arithmetic mean of its readings in SI and, for power and
 energy columns, the time-weighted mean power in W.
 
-This is the oracle, so it is written per file: each reader below knows its file's layout from
-`realfiles/SOURCES.md` (encoding, preamble, delimiter, decimal mark, date order, time zone, missing
-markers, units) and imports nothing from airledger. Python's standard library only (CI's Debian
+This is the oracle, so it is written per file: each reader below knows its file's layout, in
+general words, from `realfiles/SOURCES.md` (encoding, preamble, delimiter, decimal mark, date order,
+time zone, missing markers, units) and imports nothing from airledger. It holds none of the files'
+contents: the column names and the header's place are read from each file at run time, by rules
+on the header (a unit in brackets, a units row, a word such as "pressure"), and the files are
+found by the number that starts their name. Python's standard library only (CI's Debian
 has python3, not pandas). The files are other people's data: they are read from the folder at run
 time and never copied into the repository, and nothing read from them is written into it.
 
@@ -173,8 +176,20 @@ def split_rows(lines, start, delim):
     return out
 
 
-def table(lines, header_ix, data_ix, delim, decimal, cols, stamp, missing=()):
+def pick(header, test, make):
+    """The columns of `header` that pass `test` (a rule on the name, in general words), each made by
+    `make(name)`: the names come from the file as it is read, never from this script."""
+    return {h: make(h) for h in header if h and test(h)}
+
+
+def first_line(lines, test):
+    return next(i for i, l in enumerate(lines) if test(l))
+
+
+def table(lines, header_ix, data_ix, delim, decimal, choose, stamp, missing=()):
+    """Rows below `header_ix`; `choose(header)` gives the columns to read ({name: Col})."""
     header = [h.strip() for h in lines[header_ix].split(delim)]
+    cols = choose(header)
     ix = {name: header.index(name) for name in cols}
     rows = []
     for f in split_rows(lines, data_ix, delim):
@@ -183,62 +198,86 @@ def table(lines, header_ix, data_ix, delim, decimal, cols, stamp, missing=()):
             cell = f[i] if i < len(f) else ""
             vals[name] = number(cell, decimal, missing)
         rows.append((stamp(f, header), vals))
-    return rows
+    return rows, cols
+
+
+def read(rows_cols):
+    rows, cols = rows_cols
+    return summarise(rows, cols)
+
+
+# Each reader below describes its file's layout in general words, as SOURCES.md does: where the
+# header is, the delimiter and decimal mark, the date order, the markers, and which columns carry
+# which quantity in which unit, told by a rule on the header read from the file itself.
 
 
 def f01(path):
+    # Day-first date and time columns; the active-power column (not the reactive one) in kW; `?`
+    # marks a missing minute.
     lines = lines_of(path, "utf-8")
-    cols = {"Global_active_power": power(1e3)}
-    rows = table(lines, 0, 1, ";", ".", cols,
-                 lambda f, h: utc(datetime.strptime(f[0] + " " + f[1], "%d/%m/%Y %H:%M:%S")),
-                 missing=("?",))
-    return summarise(rows, cols)
+    active = lambda h: "active_power" in h.lower() and "reactive" not in h.lower()
+    return read(table(lines, 0, 1, ";", ".", lambda hd: pick(hd, active, lambda _: power(1e3)),
+                      lambda f, h: utc(datetime.strptime(f[0] + " " + f[1], "%d/%m/%Y %H:%M:%S")),
+                      missing=("?",)))
 
 
 def f02(path):
+    # A pump rig without units in the header: pressure in bar (gauge), flow in litres per minute,
+    # two temperatures in °C (the source's README).
     lines = lines_of(path, "utf-8")
-    cols = {
-        "Pressure": Col("pressure", lambda v: v * 1e5, True, "gauge"),
-        "Volume Flow RateRMS": Col("flow", lambda v: v * 1e-3 / 60.0, True),
-        "Temperature": Col("temperature", c_to_k, False),
-        "Thermocouple": Col("temperature", c_to_k, False),
-    }
-    rows = table(lines, 0, 1, ";", ".", cols,
-                 lambda f, h: utc(datetime.strptime(f[0], "%Y-%m-%d %H:%M:%S")))
-    return summarise(rows, cols)
+
+    def choose(hd):
+        cols = pick(hd, lambda h: h.lower() == "pressure", lambda _: Col("pressure", lambda v: v * 1e5, True, "gauge"))
+        cols.update(pick(hd, lambda h: "flow" in h.lower(), lambda _: Col("flow", lambda v: v * 1e-3 / 60.0, True)))
+        cols.update(pick(hd, lambda h: h.lower() in ("temperature", "thermocouple"), lambda _: Col("temperature", c_to_k, False)))
+        return cols
+
+    return read(table(lines, 0, 1, ";", ".", choose,
+                      lambda f, h: utc(datetime.strptime(f[0], "%Y-%m-%d %H:%M:%S"))))
 
 
 def f03(path):
+    # A preamble padded with commas, then date and time columns (month first, 12-hour clock); the
+    # temperature in °C and a water level in feet (a head of water, gauge, if a proposal maps it).
     lines = lines_of(path, "latin-1")
-    cols = {
-        "TEMPERATURE": Col("temperature", c_to_k, True),
-        # Water level in feet: a head of water, read as gauge pressure if a proposal maps it.
-        "LEVEL": Col("pressure", lambda v: v * FT_M * M_H2O_PA, False, "gauge"),
-    }
-    rows = table(lines, 11, 12, ",", ".", cols,
-                 lambda f, h: utc(datetime.strptime(f[0] + " " + f[1], "%m/%d/%Y %I:%M:%S %p")))
-    return summarise(rows, cols)
+    h = first_line(lines, lambda l: l.startswith("Date,Time"))
+
+    def choose(hd):
+        cols = pick(hd, lambda x: x.upper() == "TEMPERATURE", lambda _: Col("temperature", c_to_k, True))
+        cols.update(pick(hd, lambda x: x.upper() == "LEVEL", lambda _: Col("pressure", lambda v: v * FT_M * M_H2O_PA, False, "gauge")))
+        return cols
+
+    return read(table(lines, h, h + 1, ",", ".", choose,
+                      lambda f, _: utc(datetime.strptime(f[0] + " " + f[1], "%m/%d/%Y %I:%M:%S %p"))))
 
 
 def f04(path):
+    # Units in brackets; month-first dates without seconds; the inverter's AC power in kW and the
+    # temperatures in °C.
     lines = lines_of(path, "utf-8")
-    cols = {
-        "INV1 AC Power [kW]": power(1e3),
-        "Module Temp [C]": Col("temperature", c_to_k, True),
-        "Ambient Temp [C]": Col("temperature", c_to_k, True),
-    }
-    rows = table(lines, 0, 1, ",", ".", cols,
-                 lambda f, h: utc(datetime.strptime(f[0], "%m/%d/%Y %H:%M")))
-    return summarise(rows, cols)
+
+    def choose(hd):
+        cols = pick(hd, lambda h: h.endswith("AC Power [kW]"), lambda _: power(1e3))
+        cols.update(pick(hd, lambda h: h.endswith("Temp [C]"), lambda _: Col("temperature", c_to_k, True)))
+        return cols
+
+    return read(table(lines, 0, 1, ",", ".", choose,
+                      lambda f, h: utc(datetime.strptime(f[0], "%m/%d/%Y %H:%M"))))
 
 
 def f05(path):
+    # A four-row header (title, names, units, aggregation), every cell quoted: the column whose
+    # unit is inches of mercury (absolute) and every column in °F.
     lines = lines_of(path, "utf-8")
     unq = lambda s: s.strip().strip('"')
     header = [unq(h) for h in lines[1].split(",")]
-    cols = {"BP_inHg_Avg": Col("pressure", lambda v: v * IN_HG_PA, True, "absolute")}
-    for name in ["AirTF_Max", "AirTF_Min", "AirTF_Avg", "WC_F_Avg", "DP_F_Avg", "PanelTemp_F"]:
-        cols[name] = Col("temperature", f_to_k, True)
+    units = [unq(u) for u in lines[2].split(",")]
+    cols = {}
+    for n, u in zip(header, units):
+        if u == "inHg":
+            cols[n] = Col("pressure", lambda v: v * IN_HG_PA, True, "absolute")
+        elif u == "°F":
+            cols[n] = Col("temperature", f_to_k, True)
     ix = {n: header.index(n) for n in cols}
     rows = []
     for line in lines[4:]:
@@ -251,92 +290,114 @@ def f05(path):
 
 
 def f06(path):
+    # Tab-separated, decimal comma; each measured column followed by a cell holding its unit: the
+    # columns whose unit cell says kW (power) and kWh (an energy counter).
     lines = lines_of(path, "utf-8")
     header = lines[0].split("\t")
-    rows = []
-    cols = {"P(SUM)": power(1e3), "WH": Col("energy", lambda v: v * 3.6e6, True)}
+    data = split_rows(lines, 1, "\t")
+    unit_of = {i: data[0][i + 1].strip() for i in range(len(header) - 1) if header[i + 1].strip() == "Unit"}
+    cols = {}
+    for i, u in unit_of.items():
+        if u == "KW":
+            cols[header[i]] = power(1e3)
+        elif u == "KWH":
+            cols[header[i]] = Col("energy", lambda v: v * 3.6e6, True)
     ix = {n: header.index(n) for n in cols}
-    for f in split_rows(lines, 1, "\t"):
-        # Each measured column is followed by its unit cell: check it says what SOURCES.md says.
-        assert f[ix["P(SUM)"] + 1].strip() == "KW" and f[ix["WH"] + 1].strip() == "KWH", f
+    rows = []
+    for f in data:
+        for n, i in ix.items():
+            assert f[i + 1].strip() == unit_of[i], f
         t = utc(datetime.strptime(f[1] + " " + f[2], "%d.%m.%Y %H:%M:%S"))
         rows.append((t, {n: number(f[i], ",") for n, i in ix.items()}))
     return summarise(rows, cols)
 
 
 def f07(path):
+    # A long preamble, then a names row and a units row (both marked in their first cell); the
+    # column whose unit is m³/h; tab-separated, decimal comma, day-first dates.
     lines = lines_of(path, "latin-1")
-    names_ix = next(i for i, l in enumerate(lines) if l.startswith("\\*"))
+    names_ix = first_line(lines, lambda l: l.startswith("\\*"))
     names = [h.strip() for h in lines[names_ix].split("\t")]
     units = [u.strip() for u in lines[names_ix + 1].split("\t")]
-    m = names.index("MEASURE")
-    assert units[m] == "[m3/h]", units
-    cols = {"MEASURE": Col("flow", lambda v: v / 3600.0, True)}
+    m = units.index("[m3/h]")
+    when = next(i for i, n in enumerate(names) if "DATE" in n.upper())
+    cols = {names[m]: Col("flow", lambda v: v / 3600.0, True)}
     rows = []
     for f in split_rows(lines, names_ix + 2, "\t"):
-        t = utc(datetime.strptime(f[names.index("DATE_TIME")], "%d.%m.%Y %H:%M:%S"))
-        rows.append((t, {"MEASURE": number(f[m], ",")}))
+        t = utc(datetime.strptime(f[when], "%d.%m.%Y %H:%M:%S"))
+        rows.append((t, {names[m]: number(f[m], ",")}))
     return summarise(rows, cols)
 
 
 def f08(path):
+    # A preamble with blank lines, then a header with units in brackets (litres per second, °C),
+    # tab-separated, decimal comma; `#-1` where the meter had no value.
     lines = lines_of(path, "latin-1")
-    header_ix = next(i for i, l in enumerate(lines) if l.startswith("Datum\tUhrzeit"))
-    cols = {
-        "Durchfluss [l/s]": Col("flow", lambda v: v * 1e-3, True),
-        "T [°C]": Col("temperature", c_to_k, True),
-    }
-    rows = table(lines, header_ix, header_ix + 1, "\t", ",", cols,
-                 lambda f, h: utc(datetime.strptime(f[0] + " " + f[1], "%d.%m.%Y %H:%M:%S")),
-                 missing=("#-1",))
-    return summarise(rows, cols)
+    h = first_line(lines, lambda l: l.count("\t") >= 4 and "[l/s]" in l)
+
+    def choose(hd):
+        cols = pick(hd, lambda x: x.endswith("[l/s]"), lambda _: Col("flow", lambda v: v * 1e-3, True))
+        cols.update(pick(hd, lambda x: x.startswith("T ") and x.endswith("[°C]"), lambda _: Col("temperature", c_to_k, True)))
+        return cols
+
+    return read(table(lines, h, h + 1, "\t", ",", choose,
+                      lambda f, _: utc(datetime.strptime(f[0] + " " + f[1], "%d.%m.%Y %H:%M:%S")),
+                      missing=("#-1",)))
 
 
 def f09(path):
+    # Time before date; pressure in metres of water column (relative) and a temperature in °C.
     lines = lines_of(path, "latin-1")
-    cols = {
-        "Pressure [mWS]": Col("pressure", lambda v: v * M_H2O_PA, True, "gauge"),
-        "Temperature [°C]": Col("temperature", c_to_k, False),
-    }
-    rows = table(lines, 2, 3, "\t", ".", cols,
-                 lambda f, h: utc(datetime.strptime(f[1] + " " + f[0], "%d.%m.%Y %H:%M:%S")))
-    return summarise(rows, cols)
+
+    def choose(hd):
+        cols = pick(hd, lambda x: x.endswith("[mWS]"), lambda _: Col("pressure", lambda v: v * M_H2O_PA, True, "gauge"))
+        cols.update(pick(hd, lambda x: x.startswith("Temperature") and x.endswith("[°C]"), lambda _: Col("temperature", c_to_k, False)))
+        return cols
+
+    return read(table(lines, 2, 3, "\t", ".", choose,
+                      lambda f, h: utc(datetime.strptime(f[1] + " " + f[0], "%d.%m.%Y %H:%M:%S"))))
 
 
 def f10(path):
+    # Active power per phase and in total, W, as average, minimum and maximum; in these rows every
+    # one is the text `1.#QNAN` (no phase was connected): a right import keeps the rows and stores
+    # no reading. The total's average is the one a proposal must map.
     lines = lines_of(path, "utf-8")
-    # Active power per phase and in total, W; in these rows every one is the text `1.#QNAN` (no
-    # phase was connected): a right import keeps the rows and stores no reading.
-    cols = {}
-    for ph in ["A", "B", "C", "Total"]:
-        for agg in ["avg", "min", "max"]:
-            name = f"PowerP_{ph}_{agg}"
-            cols[name] = power(1.0, required=(ph, agg) == ("Total", "avg"))
-    rows = table(lines, 0, 1, ";", ".", cols,
-                 lambda f, h: utc(datetime.strptime(f[0], "%Y-%m-%d %H:%M:%S")),
-                 missing=("1.#QNAN",))
-    return summarise(rows, cols)
+
+    def choose(hd):
+        cols = {}
+        for h in hd:
+            parts = h.split("_")
+            if len(parts) == 3 and parts[0] == "PowerP" and parts[2] in ("avg", "min", "max"):
+                cols[h] = power(1.0, required=(parts[1], parts[2]) == ("Total", "avg"))
+        return cols
+
+    return read(table(lines, 0, 1, ";", ".", choose,
+                      lambda f, h: utc(datetime.strptime(f[0], "%Y-%m-%d %H:%M:%S")),
+                      missing=("1.#QNAN",)))
 
 
 def f11(path):
+    # Unix seconds; every `[kW]` column; the weather's temperatures in °F and pressure in hPa.
     lines = lines_of(path, "utf-8")
-    header = [h.strip() for h in lines[0].split(",")]
-    cols = {h: power(1e3) for h in header if h.endswith("[kW]")}
-    for name in ["temperature", "apparentTemperature", "dewPoint"]:
-        cols[name] = Col("temperature", f_to_k, False)
-    cols["pressure"] = Col("pressure", lambda v: v * 100.0, False, "absolute")
-    rows = table(lines, 0, 1, ",", ".", cols,
-                 lambda f, h: datetime.fromtimestamp(int(f[0]), UTC))
-    return summarise(rows, cols)
+
+    def choose(hd):
+        cols = pick(hd, lambda h: h.endswith("[kW]"), lambda _: power(1e3))
+        cols.update(pick(hd, lambda h: "temperature" in h.lower() or h.lower() == "dewpoint", lambda _: Col("temperature", f_to_k, False)))
+        cols.update(pick(hd, lambda h: h == "pressure", lambda _: Col("pressure", lambda v: v * 100.0, False, "absolute")))
+        return cols
+
+    return read(table(lines, 0, 1, ",", ".", choose,
+                      lambda f, h: datetime.fromtimestamp(int(f[0]), UTC)))
 
 
 def f12(path):
+    # Quoted interval timestamps in local time (Europe/Berlin), stamped at the interval's start;
+    # two load columns in MW, the actual one required; `-` and `n/e` where there is no value.
     lines = lines_of(path, "utf-8")
     unq = lambda s: s.strip().strip('"')
     header = [unq(h) for h in lines[0].split('","')]
-    actual = "Actual Total Load [MW] - BZN|DE-LU"
-    forecast = "Day-ahead Total Load Forecast [MW] - BZN|DE-LU"
-    cols = {actual: power(1e6), forecast: power(1e6, required=False)}
+    cols = pick(header, lambda h: "[MW]" in h, lambda h: power(1e6, required=h.startswith("Actual")))
     rows = []
     for line in lines[1:]:
         if not line.strip():
@@ -349,47 +410,33 @@ def f12(path):
 
 
 def f13(path):
+    # A UTC time column, then the energy counter (Wh, reset each morning), then a local time.
     lines = lines_of(path, "utf-8")
-    cols = {"ac_energy_inv_16425": Col("energy", lambda v: v * 3600.0, True)}
-    rows = table(lines, 0, 1, ",", ".", cols,
-                 lambda f, h: utc(datetime.strptime(f[0], "%Y-%m-%d %H:%M:%S")))
-    return summarise(rows, cols)
+    return read(table(lines, 0, 1, ",", ".", lambda hd: {hd[1]: Col("energy", lambda v: v * 3600.0, True)},
+                      lambda f, h: utc(datetime.strptime(f[0], "%Y-%m-%d %H:%M:%S"))))
 
 
 def f14(path):
+    # ISO 8601 times with a space and an offset, then AC power in W.
     lines = lines_of(path, "utf-8")
-    cols = {"ac_power__752": power(1.0)}
-    rows = table(lines, 0, 1, ",", ".", cols,
-                 lambda f, h: utc(datetime.strptime(f[0], "%Y-%m-%d %H:%M:%S%z")))
-    return summarise(rows, cols)
+    return read(table(lines, 0, 1, ",", ".", lambda hd: {hd[1]: power(1.0)},
+                      lambda f, h: utc(datetime.strptime(f[0], "%Y-%m-%d %H:%M:%S%z"))))
 
 
 def f15(path):
+    # A report preamble, then a three-row header (`;`, day-first); the temperature in °C.
     lines = lines_of(path, "latin-1")
-    header_ix = next(i for i, l in enumerate(lines) if l.startswith("Date and Time;Seconds"))
-    cols = {"Temperature (C)": Col("temperature", c_to_k, True)}
-    rows = table(lines, header_ix, header_ix + 1, ";", ".", cols,
-                 lambda f, h: utc(datetime.strptime(f[0].strip(), "%d.%m.%Y %H:%M:%S")))
-    return summarise(rows, cols)
+    # The header is the line that starts with the date-and-time column and names the elapsed
+    # seconds beside it (a report section above it also starts with the date).
+    h = first_line(lines, lambda l: l.startswith("Date and Time;") and "seconds" in l.lower())
+    return read(table(lines, h, h + 1, ";", ".",
+                      lambda hd: pick(hd, lambda x: x.startswith("Temperature") and "(C)" in x, lambda _: Col("temperature", c_to_k, True)),
+                      lambda f, _: utc(datetime.strptime(f[0].strip(), "%d.%m.%Y %H:%M:%S"))))
 
 
-READERS = {
-    "01-semicolon-date-time-kw.txt": f01,
-    "02-semicolon-iso-no-units-pump-rig.csv": f02,
-    "03-padded-preamble-latin1-date-time-12h.csv": f03,
-    "04-units-in-brackets-month-first-no-seconds.csv": f04,
-    "05-four-row-header-quoted-units-row.dat": f05,
-    "06-tab-decimal-comma-unit-columns-three-phase.txt": f06,
-    "07-long-preamble-names-and-units-rows-latin1.txt": f07,
-    "08-latin1-preamble-decimal-comma-error-codes.txt": f08,
-    "09-time-before-date-water-column-latin1.txt": f09,
-    "10-semicolon-wide-three-phase-nan-text.txt": f10,
-    "11-unix-seconds-units-in-brackets.csv": f11,
-    "12-quoted-interval-timestamps-mw.csv": f12,
-    "13-energy-counter-daily-reset-two-time-columns.csv": f13,
-    "14-iso-offset-space-power-1min.csv": f14,
-    "15-semicolon-report-preamble-three-row-header.csv": f15,
-}
+# The readers by the number that starts each file's name in the folder (`01-...` to `15-...`).
+READERS = {f"{i:02d}": fn for i, fn in enumerate(
+    [f01, f02, f03, f04, f05, f06, f07, f08, f09, f10, f11, f12, f13, f14, f15], start=1)}
 
 
 def main():
@@ -397,11 +444,12 @@ def main():
         sys.exit("usage: realfiles.py <folder holding realfiles/>")
     folder = os.path.join(sys.argv[1], "realfiles")
     present = sorted(n for n in os.listdir(folder) if n != "SOURCES.md" and not n.startswith("."))
-    out = {"files": {}, "unread": [n for n in present if n not in READERS]}
+    number_of = {n: n[:2] for n in present}
+    out = {"files": {}, "unread": [n for n in present if number_of[n] not in READERS]}
     for name in present:
-        if name in READERS:
-            out["files"][name] = READERS[name](os.path.join(folder, name))
-    missing = [n for n in READERS if n not in present]
+        if number_of[name] in READERS:
+            out["files"][name] = READERS[number_of[name]](os.path.join(folder, name))
+    missing = [k for k in READERS if k not in number_of.values()]
     if missing:
         sys.exit(f"files the oracle reads are not in {folder}: {missing}")
     json.dump(out, sys.stdout, indent=1, sort_keys=True)

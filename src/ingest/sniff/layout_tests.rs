@@ -25,8 +25,8 @@ fn col<'a>(s: &'a Sniffed, name: &str) -> &'a ColumnGuess {
 #[test]
 fn a_preamble_padded_with_delimiters_is_not_data() {
     // Every preamble line padded to the data's five fields, one of them a bare number.
-    let mut file = b"Serial_number:,,,,\n4410027,,,,\nProject:,,,,\nUNIT: ft,,,,\nUNIT: \xb0C,,,,\n\
-        Date,Time,ms,LEVEL,TEMPERATURE\n"
+    let mut file = b"Logger serial:,,,,\n4410027,,,,\nSite:,,,,\nUNIT: ft,,,,\nUNIT: \xb0C,,,,\n\
+        Date,Time,ms,STAGE,WATER_TEMPERATURE\n"
         .to_vec();
     for i in 0..40 {
         // Hourly rows from 3/11/2026 1:00 PM: the day passes 12 on the third day.
@@ -142,14 +142,14 @@ fn names_and_bracketed_units_rows_after_a_long_preamble() {
         file.extend_from_slice(format!("PARAM {i:02}          : {}\r\n", i * 3).as_bytes());
     }
     file.extend_from_slice(
-        b"\\DATA\r\n\\*\tDATE_TIME\tMEASURE\tSSPEED\tGAIN\t\r\n\\#\t\t[m3/h]\t[m/s]\t[dB]\t\r\n",
+        b"\\DATA\r\n\\*\tDATE_TIME\tQ_VOL\tV_SOUND\tSIGNAL\t\r\n\\#\t\t[m3/h]\t[m/s]\t[dB]\t\r\n",
     );
     for i in 0..30 {
         file.extend_from_slice(format!("A\t14.05.2026 12:25:{i:02}\t87,{i}\t1482,3\t72\t\r\n").as_bytes());
     }
     let s = sniff(&file).unwrap();
     assert_eq!((s.header_line, s.units_line, s.first_data_line), (38, Some(39), 40));
-    let m = col(&s, "MEASURE");
+    let m = col(&s, "Q_VOL");
     assert_eq!(
         (m.quantity.as_deref(), m.unit.as_deref(), m.unit_label.as_deref()),
         (Some("flow"), Some("m3_h"), Some("m³/h"))
