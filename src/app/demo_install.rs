@@ -48,8 +48,13 @@ impl App {
                 .await?;
         }
         for (list, body) in crate::demo::demo_treatment() {
-            let kind = super::treatment::ItemKind::from_segment(list).expect("a demo list");
-            self.add_treatment_item(id, kind, body).await?;
+            use super::treatment::TreatmentInput as T;
+            let record = match list {
+                "dryers" => T::Dryer(serde_json::from_value(body)?),
+                "drains" => T::Drain(serde_json::from_value(body)?),
+                _ => T::EndUse(serde_json::from_value(body)?),
+            };
+            self.add_treatment_item(id, record).await?;
         }
         let spool_dir = &self.config().spool_dir;
         std::fs::create_dir_all(spool_dir)?;

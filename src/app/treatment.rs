@@ -158,45 +158,51 @@ impl EndUseInput {
 
 const MAX_TEXT: usize = 64;
 
-fn field(e: TreatmentError) -> Error {
-    Error::field(e.field, e.message)
+/// One record as posted, of any of the three kinds.
+#[derive(Debug, Clone)]
+pub enum TreatmentInput {
+    Dryer(DryerInput),
+    Drain(DrainInput),
+    EndUse(EndUseInput),
 }
 
-fn text_ok(name: &str, v: &str) -> Result<()> {
-    if v.chars().count() > MAX_TEXT {
-        return Err(Error::field(name, format!("at most {MAX_TEXT} characters")));
+impl TreatmentInput {
+    pub fn kind(&self) -> ItemKind {
+        match self {
+            TreatmentInput::Dryer(_) => ItemKind::Dryer,
+            TreatmentInput::Drain(_) => ItemKind::Drain,
+            TreatmentInput::EndUse(_) => ItemKind::EndUse,
+        }
     }
-    Ok(())
-}
 
-/// The body checked and put in its stored form (the input as parsed, its text trimmed).
-fn checked(kind: ItemKind, body: serde_json::Value) -> Result<String> {
-    let bad = |e: serde_json::Error| {
-        let msg = e.to_string();
-        let f = msg.split('`').nth(1).unwrap_or("body").to_string();
-        Error::field(&f, msg)
-    };
-    let v = match kind {
-        ItemKind::Dryer => {
-            let mut i: DryerInput = serde_json::from_value(body).map_err(bad)?;
-            text_ok("tag", &i.tag)?;
-            i.tag = i.to_core().map_err(field)?.tag;
-            serde_json::to_value(i)
+    /// The record checked by `core::treatment` and put in its stored form (its text trimmed).
+    fn checked(mut self) -> Result<String> {
+        let field = |e: TreatmentError| Error::field(e.field, e.message);
+        let (name, text) = match &self {
+            TreatmentInput::EndUse(i) => ("name", i.name.as_str()),
+            TreatmentInput::Dryer(DryerInput { tag, .. }) | TreatmentInput::Drain(DrainInput { tag, .. }) => {
+                ("tag", tag.as_str())
+            }
+        };
+        if text.chars().count() > MAX_TEXT {
+            return Err(Error::field(name, format!("at most {MAX_TEXT} characters")));
         }
-        ItemKind::Drain => {
-            let mut i: DrainInput = serde_json::from_value(body).map_err(bad)?;
-            text_ok("tag", &i.tag)?;
-            i.tag = i.to_core().map_err(field)?.tag;
-            serde_json::to_value(i)
-        }
-        ItemKind::EndUse => {
-            let mut i: EndUseInput = serde_json::from_value(body).map_err(bad)?;
-            text_ok("name", &i.name)?;
-            i.name = i.to_core().map_err(field)?.name;
-            serde_json::to_value(i)
-        }
-    };
-    Ok(v.expect("a parsed record serialises").to_string())
+        let v = match &mut self {
+            TreatmentInput::Dryer(i) => {
+                i.tag = i.to_core().map_err(field)?.tag;
+                serde_json::to_value(&*i)
+            }
+            TreatmentInput::Drain(i) => {
+                i.tag = i.to_core().map_err(field)?.tag;
+                serde_json::to_value(&*i)
+            }
+            TreatmentInput::EndUse(i) => {
+                i.name = i.to_core().map_err(field)?.name;
+                serde_json::to_value(&*i)
+            }
+        };
+        Ok(v.expect("a parsed record serialises").to_string())
+    }
 }
 
 /// A stored record as the API lists it: its fields and `id`.
@@ -243,27 +249,18 @@ pub fn records(items: &[audits::TreatmentItemRecord]) -> Records {
 
 impl App {
     /// Add a dryer, drain or end use; its id.
-    pub async fn add_treatment_item(
-        &self,
-        audit_id: i64,
-        kind: ItemKind,
-        body: serde_json::Value,
-    ) -> Result<i64> {
+    pub async fn add_treatment_item(&self, audit_id: i64, input: TreatmentInput) -> Result<i64> {
         self.audit(audit_id).await?;
-        let stored = checked(kind, body)?;
+        let kind = input.kind();
+        let stored = input.checked()?;
         Ok(audits::add_treatment_item(self.db(), audit_id, kind.stored(), &stored).await?)
     }
 
     /// Replace a record; `false` if the audit has no such record of that kind.
-    pub async fn update_treatment_item(
-        &self,
-        audit_id: i64,
-        kind: ItemKind,
-        id: i64,
-        body: serde_json::Value,
-    ) -> Result<bool> {
+    pub async fn update_treatment_item(&self, audit_id: i64, id: i64, input: TreatmentInput) -> Result<bool> {
         self.audit(audit_id).await?;
-        let stored = checked(kind, body)?;
+        let kind = input.kind();
+        let stored = input.checked()?;
         Ok(audits::update_treatment_item(self.db(), audit_id, kind.stored(), id, &stored).await?)
     }
 

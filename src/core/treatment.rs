@@ -1,6 +1,6 @@
 /*!
 Transmission and demand beyond the compressors (ISO 11011's scope): dryers, condensate drains,
-the pressure a drop across treatment and piping costs, the end-use inventory and the split of the
+the end-use inventory and the split of the
 metered demand into what is known to use it.
 
 Pure arithmetic on records the user keeps (no IO). The record names and kinds are those of
@@ -21,9 +21,9 @@ The physics and the rules used, each with where it comes from:
   [`leaks::orifice_leak`], the compressible-nozzle equation already used for leaks. Zero-loss
   (level-sensing) and float drains lose no air; a drain left open manually is a leak at its full
   orifice flow.
-- **Pressure drop**: the discharge pressure the drop forces, priced like a set-point change: by the
-  US DOE rule of 1 % of the compressor's energy per 2 psi, or by the ratio of isentropic work
-  ([`pressure_drop_energy_share`]).
+- **Pressure drop**: not priced here yet. Once pressure points are mapped, a drop is the discharge
+  pressure it forces, priced like a set-point change by the pressure measure's own rule
+  (`recommend::measures::pressure_cut`: 1 % per 2 psi or the isentropic-work ratio).
 - **Demand split**: production uses + inappropriate uses + purge and drains + leaks + unexplained =
   the metered mean flow; the unexplained part is what is left (negative when the inventory claims
   more air than was metered: the inventory then overstates some use, and the split says so).
@@ -35,7 +35,6 @@ Safety: drains, dryers and filters are pressure equipment: isolate and vent befo
 use std::fmt;
 
 use super::leaks::orifice_leak;
-use super::thermo::isentropic_work_per_kg;
 use super::units::{FreeAirFlow, PressureAbs, SiteAir};
 
 /// A treatment or end-use record that cannot be used, naming the API field at fault.
@@ -393,31 +392,6 @@ impl EndUse {
     }
 }
 
-/// The share of a compressor's energy a pressure drop of `drop_bar` costs at discharge pressure
-/// `discharge_bar_g` (gauge), by the two rules the trade uses.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct DropCost {
-    /// US DOE sourcebook: 1 % of energy per 2 psi.
-    pub doe_rule: f64,
-    /// Ratio of isentropic work at the discharge pressure to that at discharge - drop, minus 1.
-    pub isentropic: f64,
-}
-
-/// 1 psi in bar (NIST SP 811: 1 lbf/in² = 6.894757 kPa).
-pub const BAR_PER_PSI: f64 = 0.068_947_57;
-
-pub fn pressure_drop_energy_share(drop_bar: f64, discharge_bar_g: f64, site: &SiteAir) -> DropCost {
-    let drop = drop_bar.max(0.0);
-    let doe_rule = drop / BAR_PER_PSI / 2.0 * 0.01;
-    let atm = site.atmosphere.0;
-    let r_hi = (discharge_bar_g * 1e5 + atm) / atm;
-    let r_lo = ((discharge_bar_g - drop) * 1e5 + atm).max(atm) / atm;
-    let w = |r: f64| isentropic_work_per_kg(site.inlet_temperature, r);
-    let lo = w(r_lo);
-    let isentropic = if lo > 0.0 { w(r_hi) / lo - 1.0 } else { f64::INFINITY };
-    DropCost { doe_rule, isentropic }
-}
-
 /// The metered mean flow split by what uses it (API.md `summary.demand_split`), free air m³/min.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct DemandSplit {
@@ -460,20 +434,6 @@ impl DemandSplit {
     pub fn over_explained(&self) -> bool {
         self.unexplained_m3_min < -0.01 * self.total_m3_min().abs()
     }
-}
-
-/// The end-use inventory's mean flows, split into production and inappropriate uses.
-pub fn end_use_flows(uses: &[EndUse], site: &SiteAir) -> Result<(FreeAirFlow, FreeAirFlow), TreatmentError> {
-    let (mut production, mut inappropriate) = (0.0, 0.0);
-    for u in uses {
-        let q = u.mean_flow(site)?.m3_min();
-        if u.kind.inappropriate() {
-            inappropriate += q;
-        } else {
-            production += q;
-        }
-    }
-    Ok((FreeAirFlow::from_m3_min(production), FreeAirFlow::from_m3_min(inappropriate)))
 }
 
 /// The yearly electricity an inappropriate use would save if an electric alternative took over:

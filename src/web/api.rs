@@ -688,7 +688,7 @@ pub async fn delete_scenario(
 // route (`/dryers`, `/drains`, `/end-uses`).
 
 macro_rules! treatment_routes {
-    ($kind:expr, $list:ident, $add:ident, $put:ident, $del:ident) => {
+    ($kind:expr, $variant:ident, $input:ident, $list:ident, $add:ident, $put:ident, $del:ident) => {
         pub async fn $list(State(st): State<AppState>, ApiPath(id): ApiPath<i64>) -> Result<Response, AppError> {
             let items = st.app.treatment_items(id, $kind).await?;
             Ok(json(StatusCode::OK, &serde_json::json!({ $kind.plural(): items })))
@@ -696,17 +696,17 @@ macro_rules! treatment_routes {
         pub async fn $add(
             State(st): State<AppState>,
             ApiPath(id): ApiPath<i64>,
-            ApiJson(body): ApiJson<serde_json::Value>,
+            ApiJson(body): ApiJson<treatment::$input>,
         ) -> Result<Response, AppError> {
-            let iid = st.app.add_treatment_item(id, $kind, body).await?;
+            let iid = st.app.add_treatment_item(id, TreatmentInput::$variant(body)).await?;
             Ok(json(StatusCode::CREATED, &serde_json::json!({ "id": iid })))
         }
         pub async fn $put(
             State(st): State<AppState>,
             ApiPath((id, iid)): ApiPath<(i64, i64)>,
-            ApiJson(body): ApiJson<serde_json::Value>,
+            ApiJson(body): ApiJson<treatment::$input>,
         ) -> Result<Response, AppError> {
-            if !st.app.update_treatment_item(id, $kind, iid, body).await? {
+            if !st.app.update_treatment_item(id, iid, TreatmentInput::$variant(body)).await? {
                 return Err(AppError::NotFound(format!("audit {id} has no {} {iid}", $kind.stored())));
             }
             Ok(json(StatusCode::OK, &serde_json::json!({ "id": iid })))
@@ -723,7 +723,15 @@ macro_rules! treatment_routes {
     };
 }
 
-use crate::app::treatment::ItemKind;
-treatment_routes!(ItemKind::Dryer, list_dryers, add_dryer, update_dryer, delete_dryer);
-treatment_routes!(ItemKind::Drain, list_drains, add_drain, update_drain, delete_drain);
-treatment_routes!(ItemKind::EndUse, list_end_uses, add_end_use, update_end_use, delete_end_use);
+use crate::app::treatment::{self, ItemKind, TreatmentInput};
+treatment_routes!(ItemKind::Dryer, Dryer, DryerInput, list_dryers, add_dryer, update_dryer, delete_dryer);
+treatment_routes!(ItemKind::Drain, Drain, DrainInput, list_drains, add_drain, update_drain, delete_drain);
+treatment_routes!(
+    ItemKind::EndUse,
+    EndUse,
+    EndUseInput,
+    list_end_uses,
+    add_end_use,
+    update_end_use,
+    delete_end_use
+);

@@ -51,6 +51,12 @@ fn treatment_records_are_priced_into_the_summary_and_split_the_demand() {
             "orifice_mm",
         ),
         ("end-uses", json!({"name": "x", "kind": "tool", "duty": 0.5}), "flow_m3_min"),
+        (
+            "dryers",
+            json!({"tag": "D2", "kind": "refrigerated", "rated_flow_m3_min": 10, "purge_pct": 3}),
+            "purge_pct",
+        ),
+        ("drains", json!({"tag": "T2", "kind": "timer", "open_s": "five"}), "open_s"),
     ] {
         let r = post(list, body);
         assert_eq!(r.status, 422, "{list}: {}", r.text);

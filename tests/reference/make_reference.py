@@ -476,7 +476,7 @@ for t_c, dew_c in [(20.0, 10.0), (36.0, 24.0), (8.0, 2.0), (45.0, 20.0)]:
         {"t_c": t_c, "dew_c": dew_c, "p_pa": P_ATM},
     )
 
-# ---------------------------------------------------------------- treatment.rs: drains, pressure drop
+# ---------------------------------------------------------------- treatment.rs: drains
 # A timer drain: a 3 mm sharp-edged orifice (Cd 0.61) open 5 s every 300 s at 7 bar(g), sea level,
 # 20 °C: the orifice's mass flow (fluids API 520, Kd 1, x Cd) as free air x the open share.
 d_drain = 0.003
@@ -489,17 +489,6 @@ put(
     f"{FLUIDS} API520_A_g inverted (Kd 1) x Cd 0.61, free air m R T / p_atm, x 5 s / 300 s",
     {"orifice_mm": 3.0, "cd": 0.61, "pressure_bar_g": 7.0, "p_atm_pa": P_ATM, "t_k": 293.15, "open_s": 5.0, "interval_s": 300.0},
 )
-# The energy a 0.5 bar drop costs at 7.5 bar(g) discharge: isentropic work from the atmosphere to
-# 7.5 bar(g) over that to 7.0 bar(g), minus 1 (ideal-gas air).
-for hi, drop in [(7.5, 0.5), (8.0, 1.0)]:
-    w = lambda bar_g: isentropic_work_compression(T1=293.15, k=K_AIR, P1=P_ATM, P2=bar_g * 1e5 + P_ATM, eta=1.0)
-    put(
-        "treatment." + f"drop_{drop:g}bar_at_{hi:g}barg_isentropic_share".replace(".", "_"),
-        w(hi) / w(hi - drop) - 1.0,
-        "1",
-        f"{FLUIDS} isentropic_work_compression(T1=293.15, k, P1=101325, P2, eta=1) at the two pressures",
-        {"discharge_bar_g": hi, "drop_bar": drop, "p_atm_pa": P_ATM, "t1_k": 293.15},
-    )
 
 fixture = {
     "generated_by": "tests/reference/make_reference.py",

@@ -9,11 +9,11 @@ use axum::extract::{Path, State};
 use axum::http::StatusCode;
 use axum::response::{IntoResponse, Redirect};
 use axum::Form;
-use serde_json::{json, Value};
+use serde_json::Value;
 
 use super::inputs::Inputs;
 use super::{render, PageError, PageResult};
-use crate::app::treatment::ItemKind;
+use crate::app::treatment::{DrainInput, DryerInput, EndUseInput, ItemKind, TreatmentInput};
 use crate::core::display::Fmt;
 use crate::core::entry::Entry;
 use crate::core::treatment::{DrainKind, DryerControl, DryerKind, EndUseKind};
@@ -134,8 +134,8 @@ pub async fn treatment(State(st): State<AppState>, Path(id): Path<i64>) -> PageR
     Ok(render(&page(&st, id, None).await?))
 }
 
-/// The posted form as the API's JSON body, numbers read in the units the form was drawn in.
-fn body(kind: ItemKind, form: &HashMap<String, String>) -> Result<Value, AppError> {
+/// The posted form as a record, numbers read in the units the form was drawn in.
+fn input(kind: ItemKind, form: &HashMap<String, String>) -> Result<TreatmentInput, AppError> {
     let inp = Inputs::of_form(form);
     let text = |k: &str| form.get(k).map(|s| s.trim().to_string()).unwrap_or_default();
     let plain = |k: &str| -> Result<Option<f64>, AppError> {
@@ -147,30 +147,35 @@ fn body(kind: ItemKind, form: &HashMap<String, String>) -> Result<Value, AppErro
                 .map_err(|_| AppError::from(crate::app::Error::field(k, format!("{s:?} is not a number")))),
         }
     };
-    let entry =
-        |k: &str, e: Entry| inp.opt(form, k, e, None).map_err(|e| AppError::from(crate::app::Error::from(e)));
+    let entry = |k: &str, e: Entry| inp.opt(form, k, e, None).map_err(AppError::from);
     let share = |k: &str| -> Result<Option<f64>, AppError> { Ok(plain(k)?.map(|p| p / 100.0)) };
     Ok(match kind {
-        ItemKind::Dryer => json!({
-            "tag": text("tag"), "kind": text("kind"), "control": text("control"),
-            "rated_flow_m3_min": entry("rated_flow_m3_min", Entry::FreeAirFlow)?.unwrap_or(f64::NAN),
-            "purge_fraction": share("purge_percent")?,
-            "power_kw": plain("power_kw")?.unwrap_or(0.0),
+        ItemKind::Dryer => TreatmentInput::Dryer(DryerInput {
+            tag: text("tag"),
+            kind: text("kind"),
+            control: text("control"),
+            rated_flow_m3_min: entry("rated_flow_m3_min", Entry::FreeAirFlow)?.unwrap_or(f64::NAN),
+            purge_fraction: share("purge_percent")?,
+            power_kw: plain("power_kw")?.unwrap_or(0.0),
         }),
-        ItemKind::Drain => json!({
-            "tag": text("tag"), "kind": text("kind"),
-            "open_s": plain("open_s")?, "interval_s": plain("interval_s")?,
-            "orifice_mm": entry("orifice_mm", Entry::Diameter)?,
+        ItemKind::Drain => TreatmentInput::Drain(DrainInput {
+            tag: text("tag"),
+            kind: text("kind"),
+            open_s: plain("open_s")?,
+            interval_s: plain("interval_s")?,
+            orifice_mm: entry("orifice_mm", Entry::Diameter)?,
+            discharge_coefficient: None,
         }),
-        ItemKind::EndUse => json!({
-            "name": text("name"), "kind": text("kind"),
-            "count": plain("count")?.unwrap_or(1.0).round().max(0.0) as u32,
-            "flow_m3_min": entry("flow_m3_min", Entry::FreeAirFlow)?,
-            "orifice_mm": entry("orifice_mm", Entry::Diameter)?,
-            "pressure_bar_g": entry("pressure_bar_g", Entry::GaugePressure)?,
-            "duty": share("duty_percent")?.unwrap_or(1.0),
-            "regulated": form.contains_key("regulated"),
-            "alternative_kw": plain("alternative_kw")?,
+        ItemKind::EndUse => TreatmentInput::EndUse(EndUseInput {
+            name: text("name"),
+            kind: text("kind"),
+            count: plain("count")?.unwrap_or(1.0).round().max(0.0) as u32,
+            flow_m3_min: entry("flow_m3_min", Entry::FreeAirFlow)?,
+            orifice_mm: entry("orifice_mm", Entry::Diameter)?,
+            pressure_bar_g: entry("pressure_bar_g", Entry::GaugePressure)?,
+            duty: share("duty_percent")?.unwrap_or(1.0),
+            regulated: form.contains_key("regulated"),
+            alternative_kw: plain("alternative_kw")?,
         }),
     })
 }
@@ -195,8 +200,8 @@ pub async fn add(
         return Err(PageError::from(AppError::NotFound(format!("no list {list:?}"))));
     };
     let result = async {
-        let b = body(kind, &form)?;
-        st.app.add_treatment_item(id, kind, b).await.map_err(AppError::from)
+        let record = input(kind, &form)?;
+        st.app.add_treatment_item(id, record).await.map_err(AppError::from)
     }
     .await;
     match result {
