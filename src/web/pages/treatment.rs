@@ -42,8 +42,9 @@ struct TreatmentPage {
     controls: Vec<(&'static str, String)>,
 }
 
+/// A kind's code in words (`core::model::human_label`), capitalised.
 fn words(code: &str) -> String {
-    let w = code.replace('_', " ");
+    let w = crate::core::model::human_label(code);
     let mut c = w.chars();
     c.next().map(|f| f.to_uppercase().collect::<String>() + c.as_str()).unwrap_or_default()
 }

@@ -698,7 +698,7 @@ fn heat_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
 fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
     let t = &sm.transmission;
     let mut rows = vec![];
-    let words = |code: &str| code.replace('_', " ");
+    let words = crate::core::model::human_label;
     for d in &t.dryers {
         rows.push((
             format!("Dryer {} ({}, {})", d.tag, words(&d.kind), words(&d.control)),
