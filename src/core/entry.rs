@@ -39,6 +39,8 @@ pub enum Entry {
     Diameter,
     /// The site's atmospheric (absolute) pressure; stored in kPa abs.
     Atmosphere,
+    /// Heating degree-days; stored in K·d (°F·d for a US reader: a temperature interval, 1 °F = 1/1.8 K).
+    DegreeDays,
 }
 
 /// The unit a field is typed in and its step to the stored unit.
@@ -52,7 +54,7 @@ pub struct EntryUnit {
 }
 
 impl Entry {
-    pub const ALL: [Entry; 8] = [
+    pub const ALL: [Entry; 9] = [
         Entry::GaugePressure,
         Entry::FreeAirFlow,
         Entry::Volume,
@@ -61,6 +63,7 @@ impl Entry {
         Entry::Altitude,
         Entry::Diameter,
         Entry::Atmosphere,
+        Entry::DegreeDays,
     ];
 
     /// The field kind's name in page data (`data-entry` attributes of the page scripts).
@@ -74,6 +77,7 @@ impl Entry {
             Entry::Altitude => "altitude",
             Entry::Diameter => "diameter",
             Entry::Atmosphere => "atmosphere",
+            Entry::DegreeDays => "degree_days",
         }
     }
 
@@ -100,6 +104,8 @@ impl Entry {
             (Entry::Diameter, UnitSystem::Us) => linear("in", 25.4),
             (Entry::Atmosphere, UnitSystem::Si) => linear("kPa abs", 1.0),
             (Entry::Atmosphere, UnitSystem::Us) => linear("psia", PA_PER_PSI / 1000.0),
+            (Entry::DegreeDays, UnitSystem::Si) => linear("K·d", 1.0),
+            (Entry::DegreeDays, UnitSystem::Us) => linear("°F·d", 1.0 / 1.8),
         }
     }
 
@@ -194,6 +200,9 @@ mod tests {
         // The standard atmosphere, 101.325 kPa, is 14.696 psia (NIST SP 811 psi factor).
         assert!(close(Entry::Atmosphere.to_stored(Us, 14.695_95), 101.325, 1e-6));
         assert!(close(Entry::Temperature.to_stored(Us, -40.0), -40.0, 1e-12));
+        // Degree-days count a temperature interval: 1 °F (interval) = 5/9 K (NIST SP 811 B.9); a
+        // US month of 900 °F·d is 500 K·d.
+        assert!(close(Entry::DegreeDays.to_stored(Us, 900.0), 500.0, 1e-12));
         // 18 kW/100 cfm = 6.357 kW/(m³/min), the same NIST factors (1 m³/min = 35.3147 cfm).
         assert!(close(Entry::SpecificPower.to_stored(Us, 18.0), 6.3566, 1e-4));
         for e in Entry::ALL {
@@ -214,9 +223,9 @@ mod tests {
     #[test]
     fn labels_are_units_as_people_write_them() {
         let us: Vec<&str> = Entry::ALL.iter().map(|e| e.unit(Us).label).collect();
-        assert_eq!(us, ["psig", "cfm", "US gal", "kW/100 cfm", "°F", "ft", "in", "psia"]);
+        assert_eq!(us, ["psig", "cfm", "US gal", "kW/100 cfm", "°F", "ft", "in", "psia", "°F·d"]);
         let si: Vec<&str> = Entry::ALL.iter().map(|e| e.unit(Si).label).collect();
-        assert_eq!(si, ["bar(g)", "m³/min", "m³", "kW/(m³/min)", "°C", "m", "mm", "kPa abs"]);
+        assert_eq!(si, ["bar(g)", "m³/min", "m³", "kW/(m³/min)", "°C", "m", "mm", "kPa abs", "K·d"]);
     }
 
     #[test]

@@ -85,6 +85,8 @@ pub async fn get_audit(State(st): State<AppState>, ApiPath(id): ApiPath<i64>) ->
                 "heater_efficiency": site.heater_efficiency,
                 "heating_months": site.heating_months,
                 "heat_use": site.heat_use,
+                "heating_degree_days_k_day": site.heating_degree_days_k_day,
+                "annual_space_heat_kwh": site.annual_space_heat_kwh,
                 "grid_co2_kg_per_kwh": site.grid_co2_kg_per_kwh,
                 "fuel_co2_kg_per_kwh": site.fuel_co2_kg_per_kwh,
                 "other_volume_m3": site.other_volume_m3,

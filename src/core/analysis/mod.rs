@@ -392,12 +392,19 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         "recoverable_kwh",
         &format!(
             "heat rejected × share on the cooling path × recovery effectiveness ({:.2} air, {:.2} water), \
-             machines that ran; valued as fuel displaced in the months of use ({})",
+             machines that ran; valued as fuel displaced {}",
             input.costs.options.heat_recovery_effectiveness_air,
             input.costs.options.heat_recovery_effectiveness_water,
-            site.heat_use.as_str()
+            heat::use_words(site)
         ),
-        "US DOE heat-recovery fact sheet (a unit recovers 50-90 % of the heat)",
+        if site.heat_use == crate::core::heat::HeatUseKind::SpaceHeating
+            && site.heating_degree_days_k_day.is_some()
+        {
+            "US DOE heat-recovery fact sheet (a unit recovers 50-90 % of the heat); ASHRAE Handbook, \
+             Fundamentals, degree-day method (heating load ∝ heating degree-days)"
+        } else {
+            "US DOE heat-recovery fact sheet (a unit recovers 50-90 % of the heat)"
+        },
     ));
 
     let leaks = leaks::leak_figures(

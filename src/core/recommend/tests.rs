@@ -10,6 +10,8 @@ use crate::core::units::UnitSystem;
 
 pub(crate) fn site() -> SiteSpec {
     SiteSpec {
+        heating_degree_days_k_day: None,
+        annual_space_heat_kwh: None,
         air: SiteAir::new(101.325, 20.0),
         timezone: "UTC".into(),
         electricity_price_per_kwh: 0.15,
