@@ -512,14 +512,22 @@ pub struct DrainFigure {
     pub zero_loss_saving_kwh: f64,
 }
 
-/// The drop from one measuring point to another (API.md); not yet filled (pressure points are not
-/// yet mapped).
+/// The drop from the most upstream pressure point logged to one downstream (API.md; the
+/// analysis' `drops` room): names, the points' kinds, the drop's mean, at peak flow and its
+/// duration curve (exceeded for 0, 5, ..., 100 % of the time), the downstream point's 5th
+/// percentile, and what the drop costs a year at the pressure measure's rule.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct PressureDropFigure {
     pub from: String,
     pub to: String,
     pub mean_bar: f64,
     pub at_peak_flow_bar: Option<f64>,
+    pub from_point: crate::core::series::PressurePoint,
+    pub to_point: crate::core::series::PressurePoint,
+    pub duration_curve_bar: Vec<f64>,
+    pub to_p5_bar_g: f64,
+    pub annual_energy_kwh: f64,
+    pub annual_cost: f64,
 }
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]

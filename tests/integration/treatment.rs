@@ -243,3 +243,91 @@ fn the_treatment_page_takes_records_in_the_readers_units() {
     assert!(r.status == 303 || r.status == 200, "{}", r.status);
     assert_eq!(s.get(&format!("/api/v1/audits/{id}/drains")).json()["drains"].as_array().unwrap().len(), 0);
 }
+
+/// Pressure at several points: a discharge, a header and a named point of use mapped in one file;
+/// the drops, their cost and the pressure measure's critical point over HTTP.
+#[test]
+fn pressure_points_give_drops_their_cost_and_the_critical_point_of_use() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    // A week at 1-minute readings: C1 always loaded at 50 kW; flow 8 m³/min with 9.5 in every
+    // tenth minute; discharge 7.6 bar(g); header and point of use below it by a drop proportional
+    // to the flow (0.02 and 0.05 bar per m³/min: a pipe's drop grows with flow; linear here so that
+    // the bin means keep it exact).
+    let start = 1_777_852_800i64; // 2026-05-04T00:00:00Z
+    let mut csv = String::from("time,C1 kW,flow m3/min,P1,P2,P3\n");
+    for i in 0..7 * 1440 {
+        let q = if i % 10 == 0 { 9.5 } else { 8.0 };
+        csv.push_str(&format!(
+            "{},50,{q},7.6,{:.4},{:.4}\n",
+            jiff_like_rfc3339(start + i * 60),
+            7.6 - 0.02 * q,
+            7.6 - 0.05 * q
+        ));
+    }
+    let mapping = json!({"delimiter": ",", "decimal": ".", "header_line": 1,
+        "timestamp": {"column": "time", "format": "rfc3339", "timezone": "UTC"},
+        "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"},
+                    {"column": "flow m3/min", "quantity": "flow", "unit": "m3_min"},
+                    {"column": "P1", "quantity": "pressure", "unit": "bar_g", "point": "discharge", "label": "compressor room"},
+                    {"column": "P2", "quantity": "pressure", "unit": "bar_g", "point": "header", "label": "main header"},
+                    {"column": "P3", "quantity": "pressure", "unit": "bar_g", "point": "point_of_use", "label": "press line"}]});
+    // A point on a column that is not a pressure, or an unknown point, is refused by name.
+    let mut bad = mapping.clone();
+    bad["columns"][1]["point"] = json!("header");
+    let r = s.upload(id, "week.csv", csv.as_bytes(), &bad, "");
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert_eq!(r.json()["error"]["field"], "columns[1].point");
+    let mut bad = mapping.clone();
+    bad["columns"][4]["point"] = json!("downstream");
+    let r = s.upload(id, "week.csv", csv.as_bytes(), &bad, "");
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert_eq!(r.json()["error"]["field"], "columns[4].point");
+    let r = s.upload(id, "week.csv", csv.as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    let drops = sm["transmission"]["pressure_drops"].as_array().expect("drops");
+    assert_eq!(drops.len(), 2, "{drops:?}");
+    let (h, u) = (&drops[0], &drops[1]);
+    assert_eq!((h["from"].as_str(), h["to"].as_str()), (Some("compressor room"), Some("main header")));
+    assert_eq!((h["from_point"].as_str(), u["to_point"].as_str()), (Some("discharge"), Some("point_of_use")));
+    // Mean drop = 0.02 × the mean flow, (9 × 8 + 9.5) / 10 = 8.15 m³/min: 0.163 bar; the point of use
+    // 0.05 × 8.15 = 0.4075 bar.
+    let near = |v: &Value, want: f64, tol: f64| (v.as_f64().unwrap() - want).abs() < tol;
+    assert!(near(&h["mean_bar"], 0.163, 1e-3), "{h}");
+    assert!(near(&u["mean_bar"], 0.4075, 1e-3), "{u}");
+    // At peak flow: the bins are trapezoid means of the readings (the aligner's rule), so each
+    // 9.5 reading makes two bins of (9.5 + 8) / 2 = 8.75 m³/min, the top 20 % of bins and so the
+    // 95th percentile: the drop there is 0.02 × 8.75 = 0.175 bar.
+    assert!(near(&h["at_peak_flow_bar"], 0.175, 1e-3), "{h}");
+    assert_eq!(h["duration_curve_bar"].as_array().unwrap().len(), 21);
+    // Cost: C1 is always loaded, so all its annual energy is delivering energy, and the drop's
+    // worth of discharge pressure costs 1 % of it per 2 psi (US DOE compressed-air sourcebook;
+    // 2 psi = 0.137895 bar by the NIST SP 811 psi factor).
+    let annual = sm["baseline"]["annual_energy_kwh"].as_f64().unwrap();
+    let want = annual * 0.01 * 0.163 / 0.137_895;
+    assert!(near(&h["annual_energy_kwh"], want, want * 0.01), "{} vs {want}", h["annual_energy_kwh"]);
+    let price = sm["baseline"]["electricity_price_per_kwh"].as_f64().unwrap();
+    assert!(near(&h["annual_cost"], h["annual_energy_kwh"].as_f64().unwrap() * price, 1e-6));
+    // The header figures are the header's, not the point of use's: its 5th percentile is
+    // 7.6 - 0.02 × 8.75 = 7.425 bar(g).
+    assert!(near(&sm["pressure"]["p5_bar_g"], 7.425, 2e-3), "{}", sm["pressure"]);
+    // The pressure measure keeps the point of use's 5th percentile (7.6 - 0.05 × 8.75 = 7.1625)
+    // above the low limit (7.5 - 1 = 6.5 bar(g)) plus the transmitter's uncertainty: that is the
+    // critical point, and the set point comes down by 7.1625 - 6.5 - u from the mean header pressure.
+    let lp = sm["recommendations"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|m| m["kind"] == "lower_pressure")
+        .expect("room");
+    assert!(lp["description"].as_str().unwrap().contains("critical point of use (press line)"), "{lp}");
+    let u_bar = sm["pressure"]["uncertainty_bar"].as_f64().unwrap();
+    let mean = sm["pressure"]["mean_bar_g"].as_f64().unwrap();
+    let target = mean - (7.1625 - 6.5 - u_bar);
+    assert!(
+        lp["title"].as_str().unwrap().ends_with(&format!("to {target:.2} bar(g)")),
+        "{} vs {target}",
+        lp["title"]
+    );
+}

@@ -31,7 +31,14 @@ fn reference_value(name: &str) -> f64 {
 pub(super) const MONDAY_MS: i64 = 1_772_409_600_000;
 
 pub(super) fn col(signal: Signal, compressor: Option<usize>, values: Vec<f32>) -> FrameColumn {
-    FrameColumn { signal, compressor, label: String::new(), values, partial: vec![] }
+    FrameColumn {
+        point: Default::default(),
+        signal,
+        compressor,
+        label: String::new(),
+        values,
+        partial: vec![],
+    }
 }
 
 pub(super) fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame, leaks: Vec<LeakEstimate>) -> Summary {

@@ -42,7 +42,9 @@ pub fn apply(s: &mut Summary, records: &Records, site: &SiteAir) {
     let (plant, assumed) = plant_of(s);
     match treatment::figures(records, &plant, site) {
         Ok((t, split)) => {
+            let drops = std::mem::take(&mut s.transmission.pressure_drops);
             s.transmission = t;
+            s.transmission.pressure_drops = drops;
             if split.over_explained() {
                 s.warnings.push(format!(
                     "the end uses, purge, drains and leaks on record add up to {:.2} m³/min more than the \

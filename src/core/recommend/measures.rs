@@ -4,14 +4,14 @@ plant left by the measures stacked before it (`stack`). Each returns its draft a
 leaves behind; `finish` costs a draft and gives its payback.
 */
 
-use crate::core::model::Control;
+use crate::core::model::{CompressorSpec, Control};
 use crate::core::safety;
 use crate::core::thermo;
-use crate::core::units::PressureAbs;
+use crate::core::units::{PressureAbs, SiteAir};
 
 use super::text::{bar_g, flow, specific, Part};
 use super::{
-    CostContext, MeasureKind, PressureRule, RecommendInput, BAR_PER_2_PSI, PART_LOAD_SLOPE_REL,
+    CostContext, MachineUse, MeasureKind, PressureRule, RecommendInput, BAR_PER_2_PSI, PART_LOAD_SLOPE_REL,
     REPLACE_ABOVE_DATASHEET,
 };
 
@@ -235,11 +235,16 @@ pub(super) fn repair_leaks(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plan
 /// The fractional cut of loaded energy for one machine from `p_now` to `p_target` (bar(g)) by each
 /// rule: (1 %/2 psi, isentropic-work ratio).
 pub(super) fn pressure_cut(r: &RecommendInput, stages: u32, p_now: f64, p_target: f64) -> (f64, f64) {
-    let atm = r.site.air.atmosphere;
+    pressure_cut_at(&r.site.air, stages, p_now, p_target)
+}
+
+/// [`pressure_cut`] at the site's air.
+fn pressure_cut_at(air: &SiteAir, stages: u32, p_now: f64, p_target: f64) -> (f64, f64) {
+    let atm = air.atmosphere;
     let doe = 0.01 * (p_now - p_target) / BAR_PER_2_PSI;
     let w = |bar: f64| {
         thermo::staged_isentropic_work_per_kg(
-            r.site.air.inlet_temperature,
+            air.inlet_temperature,
             PressureAbs::from_bar_g(bar, atm).0 / atm.0,
             stages,
         )
@@ -247,6 +252,35 @@ pub(super) fn pressure_cut(r: &RecommendInput, stages: u32, p_now: f64, p_target
     let (w_now, w_t) = (w(p_now), w(p_target));
     let isen = if w_now > 0.0 { 1.0 - w_t / w_now } else { 0.0 };
     (doe.clamp(0.0, 1.0), isen.clamp(0.0, 1.0))
+}
+
+/// What a pressure drop costs a year, kWh: the compressors make `drop_bar` more discharge pressure
+/// than the point downstream of them holds, on all their loaded (delivering) energy, priced by the
+/// pressure measure's own rule (1 % of input per 2 psi, US DOE sourcebook, or the ratio of
+/// isentropic work) from `p_from_bar_g` down by the drop.
+pub fn pressure_drop_kwh(
+    air: &SiteAir,
+    compressors: &[CompressorSpec],
+    machines: &[MachineUse],
+    rule: PressureRule,
+    p_from_bar_g: f64,
+    drop_bar: f64,
+) -> f64 {
+    if drop_bar.is_nan() || drop_bar <= 0.0 {
+        return 0.0;
+    }
+    compressors
+        .iter()
+        .zip(machines)
+        .map(|(c, m)| {
+            let (doe, isen) = pressure_cut_at(air, c.stages, p_from_bar_g, p_from_bar_g - drop_bar);
+            m.annual_delivering_kwh
+                * match rule {
+                    PressureRule::OnePercentPerTwoPsi => doe,
+                    PressureRule::IsentropicWork => isen,
+                }
+        })
+        .sum()
 }
 
 pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
@@ -258,6 +292,16 @@ pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pl
     // transmitter's uncertainty; never past an auditor's target, never below the plant's low limit
     // nor 0 bar(g).
     let mut step = p5 - (critical + margin);
+    // A logged point of use keeps its own 5th percentile, shifted down by the step, above the same
+    // need: the critical point of use is the one with the least room.
+    let mut binding: Option<(&str, f64)> = None;
+    for (label, p5_use) in &r.points_of_use {
+        let room = p5_use - (critical + margin);
+        if room < step {
+            step = room;
+            binding = Some((label.as_str(), *p5_use));
+        }
+    }
     if let Some(t) = opts.target_pressure_bar_g {
         step = step.min(p_now - t);
     }
@@ -320,13 +364,22 @@ pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pl
     let draft = Draft {
         kind: MeasureKind::LowerPressure,
         title: text!["Lower the header pressure from ", bar_g(p_now), " to ", bar_g(target)],
-        description: text![
-            "Lower the compressors' set points in steps while watching the pressure at the farthest point of use; the logged 5th percentile then stays at ",
-            bar_g(p5 - step),
-            ", above the critical end use's ",
-            bar_g(critical),
-            " plus the transmitter's uncertainty."
-        ],
+        description: match binding {
+            Some((label, p5_use)) => text![
+                format!("Lower the compressors' set points in steps while watching the pressure at the critical point of use ({label}); its logged 5th percentile then stays at "),
+                bar_g(p5_use - step),
+                ", above the critical end use's ",
+                bar_g(critical),
+                " plus the transmitter's uncertainty."
+            ],
+            None => text![
+                "Lower the compressors' set points in steps while watching the pressure at the farthest point of use; the logged 5th percentile then stays at ",
+                bar_g(p5 - step),
+                ", above the critical end use's ",
+                bar_g(critical),
+                " plus the transmitter's uncertainty."
+            ],
+        },
         saving_kwh: saving,
         low_kwh,
         high_kwh,
@@ -335,6 +388,13 @@ pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pl
         cost_ctx: CostContext::default(),
         basis: vec![
             text!["mean header pressure ", bar_g(p_now), ", 5th percentile ", bar_g(p5)],
+            match binding {
+                Some((label, p5_use)) => {
+                    text![format!("critical point of use {label}: 5th percentile "), bar_g(p5_use), " (logged)"]
+                }
+                None if r.points_of_use.is_empty() => text!["no point of use logged: the header's 5th percentile sets the step"],
+                None => text!["the points of use logged keep more room than the header"],
+            },
             text![
                 "critical end use ",
                 bar_g(critical),

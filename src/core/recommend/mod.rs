@@ -89,7 +89,7 @@ mod stack;
 #[cfg(test)]
 pub(crate) mod tests;
 
-pub use measures::Words;
+pub use measures::{pressure_drop_kwh, Words};
 pub use stack::{recommend, stack_total};
 pub use text::{bar_g, flow, specific, Part, Quantity, Text};
 
@@ -532,6 +532,9 @@ pub struct RecommendInput<'a> {
     pub pressure_uncertainty_bar: f64,
     /// The plant's low pressure limit (lowest rated pressure - 1 bar): no target goes below it.
     pub low_limit_bar_g: Option<f64>,
+    /// Each logged point of use's name and 5th-percentile pressure, bar(g) (credible logs only): a
+    /// lower pressure keeps each above the critical need too.
+    pub points_of_use: Vec<(String, f64)>,
     pub control: Option<ControlCase>,
     pub heat: Option<HeatCase>,
     pub costs: &'a CostOverrides,

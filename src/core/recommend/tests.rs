@@ -80,6 +80,7 @@ fn input<'a>(
         p5_pressure_bar_g: Some(6.8),
         pressure_uncertainty_bar: 0.0,
         low_limit_bar_g: Some(6.3),
+        points_of_use: Vec::new(),
         control: None,
         heat: None,
         costs,
@@ -306,6 +307,19 @@ fn the_set_point_comes_down_only_as_far_as_the_fifth_percentile_allows() {
     let recs = recommend(&inp, &si(&s));
     let lp = recs.iter().find(|r| r.kind == MeasureKind::LowerPressure).expect("0.05 bar");
     assert!(lp.title.ends_with("to 6.95 bar(g)"), "{}", lp.title);
+    // A point of use logged at a 5th percentile of 6.45 bar(g) (0.15 bar below the header's): the
+    // critical need of 6.3 bar(g) (the low limit) plus 0.05 leaves it 0.10 bar of room, less than
+    // the header's 0.25: 7.0 - 0.10 = 6.90 bar(g), and the measure names the point.
+    inp.costs = &costs;
+    inp.points_of_use = vec![("press line".into(), 6.45)];
+    let recs = recommend(&inp, &si(&s));
+    let lp = recs.iter().find(|r| r.kind == MeasureKind::LowerPressure).expect("0.10 bar");
+    assert!(lp.title.ends_with("to 6.90 bar(g)"), "{}", lp.title);
+    assert!(lp.description.contains("critical point of use (press line)"), "{}", lp.description);
+    // A point of use at the need already: no room, no measure.
+    inp.points_of_use = vec![("press line".into(), 6.34)];
+    assert!(recommend(&inp, &si(&s)).iter().all(|r| r.kind != MeasureKind::LowerPressure));
+    inp.points_of_use.clear();
     // A mismapped 0.11 bar(g) log on a 7.5 bar(g) plant: never below the low limit nor 0 bar(g).
     let costs = CostOverrides::default();
     let mut inp = input(&s, &cs, &ms, &costs);
