@@ -285,6 +285,11 @@ fn pressure_points_give_drops_their_cost_and_the_critical_point_of_use() {
     assert_eq!(r.json()["error"]["field"], "columns[4].point");
     let r = s.upload(id, "week.csv", csv.as_bytes(), &mapping, "");
     assert_eq!(r.status, 201, "{}", r.text);
+    let uid = r.json()["upload_id"].as_i64().unwrap();
+    // The remap page offers where each pressure was measured, in words, and its name.
+    let page = s.get(&format!("/audits/{id}/uploads/{uid}/remap")).text;
+    assert!(page.contains("name=\"col4_point\"") && page.contains(">point of use</option>"), "remap page");
+    assert!(page.contains("value=\"press line\""));
     let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
     let drops = sm["transmission"]["pressure_drops"].as_array().expect("drops");
     assert_eq!(drops.len(), 2, "{drops:?}");
@@ -330,4 +335,18 @@ fn pressure_points_give_drops_their_cost_and_the_critical_point_of_use() {
         "{} vs {target}",
         lp["title"]
     );
+
+    // Read again with P2 moved to after the treatment under another name, from the page's form:
+    // the header figures then fall back to the nearest point upstream of the header (P2), and the
+    // drops follow.
+    let r = s.post_form(
+        &format!("/audits/{id}/uploads/{uid}/remap"),
+        &[("col3_point", "after_treatment"), ("col3_label", "after the dryer")],
+    );
+    assert_eq!(r.status, 303, "{}", r.text);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    let drops = sm["transmission"]["pressure_drops"].as_array().unwrap();
+    assert_eq!(drops[0]["to"], "after the dryer", "{drops:?}");
+    assert_eq!(drops[0]["to_point"], "after_treatment");
+    assert!(near(&sm["pressure"]["p5_bar_g"], 7.425, 2e-3), "{}", sm["pressure"]);
 }
