@@ -336,6 +336,17 @@ fn pressure_points_give_drops_their_cost_and_the_critical_point_of_use() {
         lp["title"]
     );
 
+    // The report says each drop in words and the reader's units; a US reader sees psi (0.163 bar
+    // = 2.364 psi by the NIST SP 811 psi factor, shown to 0.1 psi).
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    assert!(
+        report.contains("Pressure drop: compressor room (compressor discharge) to main header (header)"),
+        "report rows"
+    );
+    let r = s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"display_units": "us"}}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let report = s.get(&format!("/audits/{id}/report")).text.replace('\u{a0}', " ");
+    assert!(report.contains("mean 2.4 psi"), "US drop");
     // Read again with P2 moved to after the treatment under another name, from the page's form:
     // the header figures then fall back to the nearest point upstream of the header (P2), and the
     // drops follow.

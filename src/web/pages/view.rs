@@ -749,6 +749,31 @@ fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)
             ),
         ));
     }
+    for d in &t.pressure_drops {
+        // The duration curve's 5 % point: the drop exceeded for 5 % of the logged time.
+        let p5_time = d.duration_curve_bar.get(1).copied();
+        rows.push((
+            format!(
+                "Pressure drop: {} ({}) to {} ({})",
+                d.from,
+                d.from_point.label(),
+                d.to,
+                d.to_point.label()
+            ),
+            format!(
+                "mean {}{}{}; costs {} a year ({}) of extra discharge pressure",
+                fmt.pressure_delta_bar(d.mean_bar),
+                d.at_peak_flow_bar
+                    .map_or(String::new(), |x| format!(", at peak flow {}", fmt.pressure_delta_bar(x))),
+                p5_time.map_or(String::new(), |x| format!(
+                    ", exceeded 5 % of the time {}",
+                    fmt.pressure_delta_bar(x)
+                )),
+                fmt.energy_kwh(d.annual_energy_kwh),
+                fmt.money(d.annual_cost, cur)
+            ),
+        ));
+    }
     if let Some(s) = &sm.demand_split {
         let total = s.total_m3_min();
         let part = |q: f64| {
