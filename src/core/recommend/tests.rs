@@ -677,6 +677,15 @@ fn filter_change_and_cycling_dryer_stack_as_computed_by_hand() {
     let doe = reference("filter.excess_doe_rule_kwh");
     assert!((r[0].annual_energy_saving_kwh - doe).abs() < 1e-6 * doe, "{}", r[0].annual_energy_saving_kwh);
     assert_eq!(r[0].implementation_cost, 300.0);
+    // Its words in the reader's units: 0.386 bar = 5.6 psi (NIST SP 811: 1 psi = 6 894.757 Pa).
+    assert_eq!(r[0].title, "Change 1 filter element(s): the discharge pressure comes down by 0.39 bar");
+    let us = Fmt::new(UnitSystem::Us, s.air.atmosphere);
+    assert_eq!(
+        render(&r[0].text.title, &us),
+        "Change 1 filter element(s): the discharge pressure comes down by 5.6 psi"
+    );
+    let back: Text = serde_json::from_value(serde_json::to_value(&r[0].text).unwrap()).unwrap();
+    assert_eq!(back, r[0].text);
     // Dew point after it: air now costs (1 - doe / 200 000) of its marginal power.
     let m = 55.0 * 0.75 / 9.5;
     let dew = 1.0 * m * (1.0 - doe / 200_000.0) * 8000.0;
