@@ -115,8 +115,11 @@ fn price_filters(t: &mut Transmission, s: &Summary, plant: &PlantFigures) {
     }
 }
 
-/// What the priced records offer the measures: the purge dew-point control would save, the drains'
-/// air, and the inappropriate uses that have an electric alternative on record.
+/// What the priced records offer the measures: the purge dew-point control would save, the kW a
+/// cycling unit would save on each non-cycling refrigerated dryer, the filters whose excess drop is
+/// worth an element change, the drains' air, and the inappropriate uses that have an electric
+/// alternative on record. `line_pressure_bar_g` is the filter measure's pressure when no credible
+/// header pressure is logged.
 pub fn cuts(t: &Transmission, line_pressure_bar_g: f64) -> TreatmentCuts {
     let mut c = TreatmentCuts { line_pressure_bar_g, ..Default::default() };
     for d in &t.dryers {
