@@ -686,8 +686,8 @@ pub async fn delete_scenario(
     Ok(StatusCode::NO_CONTENT.into_response())
 }
 
-// Dryers, drains and end uses (API.md "Additions"): one set of handlers, the list named by the
-// route (`/dryers`, `/drains`, `/end-uses`).
+// Dryers, filters, drains and end uses (API.md "Additions"): one set of handlers, the list named by
+// the route (`/dryers`, `/filters`, `/drains`, `/end-uses`).
 
 macro_rules! treatment_routes {
     ($kind:expr, $variant:ident, $input:ident, $list:ident, $add:ident, $put:ident, $del:ident) => {
@@ -728,6 +728,15 @@ macro_rules! treatment_routes {
 use crate::app::treatment::{self, ItemKind, TreatmentInput};
 treatment_routes!(ItemKind::Dryer, Dryer, DryerInput, list_dryers, add_dryer, update_dryer, delete_dryer);
 treatment_routes!(ItemKind::Drain, Drain, DrainInput, list_drains, add_drain, update_drain, delete_drain);
+treatment_routes!(
+    ItemKind::Filter,
+    Filter,
+    FilterInput,
+    list_filters,
+    add_filter,
+    update_filter,
+    delete_filter
+);
 treatment_routes!(
     ItemKind::EndUse,
     EndUse,

@@ -377,6 +377,13 @@ fn a_token_guards_every_page_and_endpoint_and_a_cookie_signs_in() {
     for p in ["/audits/1/receivers", "/audits/1/receivers/1/delete"] {
         routes.push(("POST", p.into()));
     }
+    for p in [
+        "/audits/1/treatment/filters",
+        "/audits/1/treatment/dryers/1",
+        "/audits/1/treatment/filters/1/delete",
+    ] {
+        routes.push(("POST", p.into()));
+    }
     let api = [
         ("GET", "/audits"),
         ("POST", "/audits"),
@@ -399,6 +406,10 @@ fn a_token_guards_every_page_and_endpoint_and_a_cookie_signs_in() {
         ("POST", "/audits/1/field-tests"),
         ("DELETE", "/audits/1/field-tests/1"),
         ("GET", "/audits/1/decay-events"),
+        ("GET", "/audits/1/filters"),
+        ("POST", "/audits/1/filters"),
+        ("PUT", "/audits/1/filters/1"),
+        ("DELETE", "/audits/1/filters/1"),
         ("PUT", "/audits/1/costs/repair_leaks"),
         ("GET", "/audits/1/scenarios"),
         ("POST", "/audits/1/scenarios"),

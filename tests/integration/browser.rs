@@ -47,7 +47,7 @@ fn pdfinfo() -> &'static str {
 
 /// Every page of an audit (the routes of `src/web/mod.rs` that answer GET with HTML), by a short
 /// name used for screenshots.
-const PAGES: [(&str, &str); 7] = [
+const PAGES: [(&str, &str); 8] = [
     ("index", "/"),
     ("audit", "/audits/1"),
     ("upload", "/audits/1/upload"),
@@ -55,6 +55,7 @@ const PAGES: [(&str, &str); 7] = [
     ("report", "/audits/1/report"),
     ("findings", "/audits/1/findings"),
     ("scenarios", "/audits/1/scenarios"),
+    ("treatment", "/audits/1/treatment"),
 ];
 
 /// Flags that keep Chromium from reaching out to the network or doing background work.
@@ -791,6 +792,9 @@ mod undo;
 
 #[path = "browser_units.rs"]
 mod units;
+
+#[path = "browser_treatment.rs"]
+mod treatment;
 
 /// The report of an audit built from three files that never overlap in time (issue 16) opens with
 /// the sufficiency verdict and its reasons, above the figures, and shows no annual figure: each

@@ -638,6 +638,11 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         measures_total,
         transmission: crate::core::treatment::Transmission { pressure_drops, ..Default::default() },
         demand_split: None,
+        discharge: Some(recommend::DischargeBasis {
+            machines: cs.iter().zip(&machines).map(|(c, m)| (c.stages, m.annual_delivering_kwh)).collect(),
+            rule: input.costs.options.pressure_rule,
+            air: site.air,
+        }),
         sufficiency,
         methods,
         assumptions,

@@ -9,7 +9,7 @@ use crate::core::safety;
 use crate::core::thermo;
 use crate::core::units::{PressureAbs, SiteAir};
 
-use super::text::{bar_g, flow, specific, Part};
+use super::text::{bar_g, flow, pressure_drop, specific, Part};
 use super::{
     CostContext, MachineUse, MeasureKind, PressureRule, RecommendInput, BAR_PER_2_PSI, PART_LOAD_SLOPE_REL,
     REPLACE_ABOVE_DATASHEET,
@@ -232,14 +232,11 @@ pub(super) fn repair_leaks(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plan
     Some((draft, next))
 }
 
-/// The fractional cut of loaded energy for one machine from `p_now` to `p_target` (bar(g)) by each
-/// rule: (1 %/2 psi, isentropic-work ratio).
-pub(super) fn pressure_cut(r: &RecommendInput, stages: u32, p_now: f64, p_target: f64) -> (f64, f64) {
-    pressure_cut_at(&r.site.air, stages, p_now, p_target)
-}
-
-/// [`pressure_cut`] at the site's air.
-fn pressure_cut_at(air: &SiteAir, stages: u32, p_now: f64, p_target: f64) -> (f64, f64) {
+/// The fractional cut of loaded energy for one machine of `stages` from `p_now` to `p_target`
+/// (bar(g)) at the site's air, by each rule: (1 % per 2 psi, US DOE sourcebook; the ratio of
+/// isentropic work, ideal gas k = 1.4). The one pressure rule of the pressure measure, the filter
+/// measure and the filters' figures.
+pub fn pressure_cut_fractions(air: &SiteAir, stages: u32, p_now: f64, p_target: f64) -> (f64, f64) {
     let atm = air.atmosphere;
     let doe = 0.01 * (p_now - p_target) / BAR_PER_2_PSI;
     let w = |bar: f64| {
@@ -273,7 +270,7 @@ pub fn pressure_drop_kwh(
         .iter()
         .zip(machines)
         .map(|(c, m)| {
-            let (doe, isen) = pressure_cut_at(air, c.stages, p_from_bar_g, p_from_bar_g - drop_bar);
+            let (doe, isen) = pressure_cut_fractions(air, c.stages, p_from_bar_g, p_from_bar_g - drop_bar);
             m.annual_delivering_kwh
                 * match rule {
                     PressureRule::OnePercentPerTwoPsi => doe,
@@ -281,6 +278,46 @@ pub fn pressure_drop_kwh(
                 }
         })
         .sum()
+}
+
+/// [`pressure_cut_fractions`] at the audit's site.
+pub(super) fn pressure_cut(r: &RecommendInput, stages: u32, p_now: f64, p_target: f64) -> (f64, f64) {
+    pressure_cut_fractions(&r.site.air, stages, p_now, p_target)
+}
+
+/// The loaded energy a discharge pressure from `p_now` to `p_target` saves on `p`, taken off `next`:
+/// (by the plan's rule, by the other rule, the loaded energy it acted on), kWh/yr. `next`'s power
+/// per unit of air falls by the single-stage fraction of the plan's rule.
+fn scale_loaded(
+    r: &RecommendInput,
+    p: &Plant,
+    next: &mut Plant,
+    p_now: f64,
+    p_target: f64,
+) -> (f64, f64, f64) {
+    let rule = r.costs.options.pressure_rule;
+    let pick = |(doe, isen): (f64, f64)| match rule {
+        PressureRule::OnePercentPerTwoPsi => (doe, isen),
+        PressureRule::IsentropicWork => (isen, doe),
+    };
+    let (mut chosen, mut other, mut delivering) = (0.0, 0.0, 0.0);
+    for (i, c) in r.compressors.iter().enumerate() {
+        let d = p.delivering_kwh.get(i).copied().unwrap_or(0.0);
+        let (a, b) = pick(pressure_cut(r, c.stages, p_now, p_target));
+        chosen += d * a;
+        other += d * b;
+        delivering += d;
+        if i < next.energy_kwh.len() {
+            next.energy_kwh[i] = (next.energy_kwh[i] - d * a).max(0.0);
+            next.delivering_kwh[i] = d * (1.0 - a);
+        }
+        if Some(i) == r.trim {
+            next.trim_above_idle_kwh = (next.trim_above_idle_kwh - d * a).max(0.0);
+            next.trim_above_idle_np_kwh *= 1.0 - a;
+        }
+    }
+    next.power_factor *= 1.0 - pick(pressure_cut(r, 1, p_now, p_target)).0;
+    (chosen, other, delivering)
 }
 
 pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
@@ -311,33 +348,7 @@ pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pl
     }
     let target = p_now - step;
     let mut next = p.clone();
-    let (mut chosen, mut other) = (0.0, 0.0);
-    let mut delivering = 0.0;
-    for (i, c) in r.compressors.iter().enumerate() {
-        let d = p.delivering_kwh.get(i).copied().unwrap_or(0.0);
-        let (doe, isen) = pressure_cut(r, c.stages, p_now, target);
-        let (a, b) = match opts.pressure_rule {
-            PressureRule::OnePercentPerTwoPsi => (doe, isen),
-            PressureRule::IsentropicWork => (isen, doe),
-        };
-        chosen += d * a;
-        other += d * b;
-        delivering += d;
-        if i < next.energy_kwh.len() {
-            next.energy_kwh[i] = (next.energy_kwh[i] - d * a).max(0.0);
-            next.delivering_kwh[i] = d * (1.0 - a);
-        }
-        if Some(i) == r.trim {
-            next.trim_above_idle_kwh = (next.trim_above_idle_kwh - d * a).max(0.0);
-            next.trim_above_idle_np_kwh *= 1.0 - a;
-        }
-    }
-    let (doe1, isen1) = pressure_cut(r, 1, p_now, target);
-    let frac = match opts.pressure_rule {
-        PressureRule::OnePercentPerTwoPsi => doe1,
-        PressureRule::IsentropicWork => isen1,
-    };
-    next.power_factor *= 1.0 - frac;
+    let (chosen, other, delivering) = scale_loaded(r, p, &mut next, p_now, target);
     // Unregulated demand and leaks fall with the header's absolute pressure.
     let p_abs = p_now + r.site.air.atmosphere.0 / 1e5;
     let q_unreg = p.unregulated_m3_min + p.leak_m3_min;
@@ -889,4 +900,111 @@ pub(super) fn replace_inappropriate_uses(r: &RecommendInput, p: &Plant) -> Optio
             method: "air not made in production at the trim's part-load slope, less the alternatives' electricity; range from the slope and the annual hours",
         },
     )
+}
+
+pub(super) fn filter_change(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
+    let c = &r.treatment;
+    let step = c.filter_excess_bar;
+    if step.is_nan() || step <= 0.0 || c.filters_to_change == 0 {
+        return None;
+    }
+    // The header keeps its pressure; the discharge comes down by the excess drops.
+    let p_header = p.pressure_bar_g.unwrap_or(c.line_pressure_bar_g);
+    let mut next = p.clone();
+    let (chosen, other, delivering) = scale_loaded(r, p, &mut next, p_header + step, p_header);
+    let (lo_rule, hi_rule) = if chosen > 0.0 {
+        ((chosen - other).max(0.0) / chosen, (other - chosen).max(0.0) / chosen)
+    } else {
+        (0.0, 0.0)
+    };
+    let (lo, hi) = (quad(&[lo_rule, r.annual_energy_rel_low]), quad(&[hi_rule, r.annual_energy_rel_high]));
+    let (low_kwh, high_kwh) = band(chosen, lo, hi);
+    let rule = match r.costs.options.pressure_rule {
+        PressureRule::OnePercentPerTwoPsi => "1 % of loaded input per 2 psi",
+        PressureRule::IsentropicWork => "the ratio of isentropic work",
+    };
+    let draft = Draft {
+        kind: MeasureKind::FilterChange,
+        title: text![
+            format!("Change {} filter element(s): the discharge pressure comes down by ", c.filters_to_change),
+            pressure_drop(step)
+        ],
+        description: text![
+            format!(
+                "{} filter(s) drop more than ",
+                c.filters_to_change
+            ),
+            pressure_drop(crate::core::treatment::FILTER_CHANGE_ABOVE_BAR),
+            " above their clean drop at the mean flow; with new elements the compressors' set points can come down by the excess while the header keeps ",
+            bar_g(p_header),
+            ". Change elements by their differential pressure, not only by the calendar."
+        ],
+        saving_kwh: chosen,
+        low_kwh,
+        high_kwh,
+        acts_on_kwh: delivering,
+        money: None,
+        cost_ctx: CostContext {
+            items: c.filters_without_cost as f64,
+            recorded_cost: c.filter_recorded_cost,
+            ..Default::default()
+        },
+        basis: vec![
+            text!["excess drop over the clean drop at the mean flow (drop ∝ flow²) ", pressure_drop(step)],
+            text!["header pressure ", bar_g(p_header), ", discharge ", bar_g(p_header + step), " before the change"],
+            text![format!(
+                "loaded (delivering) energy {delivering:.0} kWh/yr, scaled by {rule}: {chosen:.0} kWh/yr (the other rule {other:.0})"
+            )],
+        ],
+        formula: "saving = Σ loaded energy × (1 % per 2 psi | isentropic-work ratio) for Δp = Σ (measured drop - clean drop × (Q / Q_rated)²) over the filters above 0.1 bar",
+        source: "US DOE compressed-air sourcebook (1 % of input per 2 psi; pressure drop); drop ∝ flow² and the 0.1 bar threshold: common practice",
+        method: "loaded energy scaled by the pressure rule for the excess drop, header pressure unchanged; range from the other rule and the annual hours (US DOE sourcebook; isentropic work)",
+        caution: Some(safety::TREATMENT_MEASURE_CAUTION.to_string()),
+        scenario_id: None,
+    };
+    Some((draft, next))
+}
+
+pub(super) fn cycling_refrigerated_dryer(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
+    let c = &r.treatment;
+    let kw = c.cycling_saving_kw;
+    if kw.is_nan() || kw <= 0.0 || c.non_cycling_dryers == 0 {
+        return None;
+    }
+    let hours = r.annual_running_hours.max(0.0);
+    let kwh = kw * hours;
+    let (low_kwh, high_kwh) = band(kwh, r.annual_energy_rel_low, r.annual_energy_rel_high);
+    let draft = Draft {
+        kind: MeasureKind::CyclingRefrigeratedDryer,
+        title: text![format!(
+            "Replace {} non-cycling refrigerated dryer(s) with cycling or variable units: about {kw:.2} kW less",
+            c.non_cycling_dryers
+        )],
+        description: text![format!(
+            "The non-cycling dryer(s) draw their full {:.2} kW whatever the air through them; a cycling or \
+             variable unit follows the load down to about {:.0} % of its kW.",
+            c.non_cycling_kw,
+            crate::core::treatment::CYCLING_DRYER_FLOOR * 100.0
+        )],
+        saving_kwh: kwh,
+        low_kwh,
+        high_kwh,
+        acts_on_kwh: c.non_cycling_kw * hours,
+        money: None,
+        cost_ctx: CostContext { rated_m3_min: c.non_cycling_rated_m3_min, ..Default::default() },
+        basis: vec![
+            text![format!("dryer input {:.2} kW, saved {kw:.2} kW at the load through it", c.non_cycling_kw)],
+            text![format!(
+                "floor {:.2} of the kW at light load",
+                crate::core::treatment::CYCLING_DRYER_FLOOR
+            )],
+            text![format!("hours priced {hours:.0} h/yr (the compressors' running hours)")],
+        ],
+        formula: "saving = dryer kW × (1 - max(mean flow through it / rated flow, 0.2)) × running hours",
+        source: "data-sheet kW; cycling units following the load, and the 0.2 floor: common practice, from memory",
+        method: "the dryer's own electricity at its load against full input; range from the annual hours",
+        caution: Some(safety::TREATMENT_MEASURE_CAUTION.to_string()),
+        scenario_id: None,
+    };
+    Some((draft, p.clone()))
 }

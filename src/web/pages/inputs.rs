@@ -58,6 +58,9 @@ impl Inputs {
     pub fn d_unit(&self) -> &'static str {
         Entry::Diameter.unit(self.units).label
     }
+    pub fn dp_unit(&self) -> &'static str {
+        Entry::PressureDrop.unit(self.units).label
+    }
 
     // Stored values as the fields show them.
     pub fn p(&self, bar_g: impl Num) -> String {

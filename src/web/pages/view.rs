@@ -713,6 +713,12 @@ fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)
                         "; dew-point control would purge {} less",
                         fmt.flow_m3_min(d.dew_point_control_saving_m3_min)
                     )
+                } else if d.cycling_saving_kw > 0.0 {
+                    format!(
+                        "; a cycling unit would draw {} less ({} a year)",
+                        fmt.power_kw(d.cycling_saving_kw),
+                        fmt.energy_kwh(d.cycling_saving_kwh)
+                    )
                 } else {
                     String::new()
                 }
@@ -727,6 +733,29 @@ fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)
                 fmt.flow_m3_min(d.air_m3_min),
                 fmt.energy_kwh(d.annual_kwh),
                 fmt.money(d.annual_cost, cur)
+            ),
+        ));
+    }
+    for f in &t.filters {
+        rows.push((
+            format!("Filter {} ({})", f.tag, words(&f.kind)),
+            format!(
+                "drop {} measured against {} clean at {} ({} clean at its rated {}, drop ∝ flow²): {} excess{}{}",
+                fmt.pressure_delta_bar(f.measured_drop_bar),
+                fmt.pressure_delta_bar(f.clean_drop_at_flow_bar),
+                fmt.flow_m3_min(f.flow_m3_min),
+                fmt.pressure_delta_bar(f.clean_drop_bar),
+                fmt.flow_m3_min(f.rated_flow_m3_min),
+                fmt.pressure_delta_bar(f.excess_drop_bar),
+                match (f.annual_kwh, f.annual_cost) {
+                    (Some(k), Some(c)) => format!(
+                        ", costing {} a year of loaded compressor energy ({})",
+                        fmt.energy_kwh(k),
+                        fmt.money(c, cur)
+                    ),
+                    _ => String::new(),
+                },
+                if f.change_recommended { "; change the element" } else { "" }
             ),
         ));
     }
