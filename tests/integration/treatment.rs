@@ -343,6 +343,11 @@ fn pressure_points_give_drops_their_cost_and_the_critical_point_of_use() {
         report.contains("Pressure drop: compressor room (compressor discharge) to main header (header)"),
         "report rows"
     );
+    // The report's pressure chart draws every point together, each named with where it was measured.
+    assert!(
+        report.contains("press line (point of use)")
+            && report.contains("compressor room (compressor discharge)")
+    );
     let r = s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"display_units": "us"}}));
     assert_eq!(r.status, 200, "{}", r.text);
     let report = s.get(&format!("/audits/{id}/report")).text.replace('\u{a0}', " ");

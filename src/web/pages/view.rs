@@ -14,6 +14,7 @@ use crate::core::levels::LevelSource;
 use crate::core::model::human_label;
 use crate::core::partload::PartLoadModel;
 use crate::core::recommend::CostSource;
+use crate::core::series::PressurePoint;
 use crate::core::units::{M3_PER_FT3, PA_PER_PSI};
 
 /// A figure the summary may not have, as the formatter takes it (NaN shows as not available).
@@ -859,10 +860,13 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
             // `header_bar_g`) only tells apart two channels of one quantity, quoted as the file has it.
             let same = b.channels.iter().filter(|o| o.quantity == c.quantity && o.compressor_tag.is_none()).count();
             let what = if c.quantity == "flow" { "flow" } else { c.quantity.as_str() };
-            let name = match &c.compressor_tag {
-                Some(t) => t.clone(),
-                None if same > 1 => format!("{what} (column \u{201c}{}\u{201d})", c.label),
-                None => what.to_string(),
+            // A pressure measured at a named point says where (issue 19: the points on one chart).
+            let point = c.point.as_deref().and_then(PressurePoint::parse).filter(|p| *p != PressurePoint::Header);
+            let name = match (&c.compressor_tag, point) {
+                (Some(t), _) => t.clone(),
+                (None, Some(p)) => format!("{} ({})", c.label, p.label()),
+                (None, None) if same > 1 => format!("{what} (column \u{201c}{}\u{201d})", c.label),
+                (None, None) => what.to_string(),
             };
             serde_json::json!({"id": c.id, "quantity": if c.quantity == "energy" { "power" } else { c.quantity.as_str() }, "name": name, "counter": c.quantity == "energy"})
         })
