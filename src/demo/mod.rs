@@ -39,7 +39,9 @@ with what the simulation did.
 - `header_flow_logger.csv`: `,` and decimal point, RFC 3339 UTC stamps, every 2 intervals (default 10 s);
   header pressure in bar(g) as an **instantaneous** sample, flow from a thermal mass flow meter in the
   main header downstream of the receiver (it sees all demand, leaks included) in Nm³/h at DIN 1343
-  normal conditions (101.325 kPa, 0 °C) as the **mean** over its interval, and the inlet temperature.
+  normal conditions (101.325 kPa, 0 °C) as the **mean** over its interval, the inlet temperature, and
+  the pressure at the press shop at the far end of the main (a point of use: the header's reading
+  less 0.0001 bar per (m³/min)² of system flow, a drop growing with the square of the flow).
   Its clock runs 7 s fast: the mapping says `"clock_offset_s": -7`, meaning true time = stamp + offset.
 
 The default week, 2026-03-09 to 2026-03-16, has no daylight-saving change (Europe/Berlin changes on

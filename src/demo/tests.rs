@@ -34,11 +34,14 @@ fn header_rows(plant: &DemoPlant) -> Vec<(i64, f64, f64, f64)> {
     let file = &plant.files[1];
     let offset = file.mapping["clock_offset_s"].as_i64().unwrap();
     let mut lines = file.csv.lines();
-    assert_eq!(lines.next().unwrap(), "time_utc,header_bar_g,flow_Nm3_h,inlet_temp_C");
+    assert_eq!(lines.next().unwrap(), "time_utc,header_bar_g,flow_Nm3_h,inlet_temp_C,press_shop_bar_g");
     lines
         .map(|l| {
             let f: Vec<&str> = l.split(',').collect();
-            assert_eq!(f.len(), 4, "line {l}");
+            assert_eq!(f.len(), 5, "line {l}");
+            // The press shop reads below the header, by at most the pipe's drop at 60 m³/min.
+            let (header, shop): (f64, f64) = (f[1].parse().unwrap(), f[4].parse().unwrap());
+            assert!(shop <= header + 5e-4 && header - shop <= 0.36 + 5e-4, "line {l}");
             let ts = f[0];
             assert!(ts.ends_with('Z') && ts.len() == 20, "stamp {ts}");
             let num = |a: usize, b: usize| ts[a..b].parse::<i64>().unwrap();
