@@ -113,9 +113,12 @@ pub struct ReportView {
     pub pressure: Vec<(String, String)>,
     pub demand: Vec<(String, String)>,
     pub heat: Vec<(String, String)>,
-    /// Dryers, drains, end uses and the demand split (`summary.transmission`, `demand_split`);
-    /// empty without such records.
+    /// Dryers and drains (`summary.transmission`): the transmission section; empty without such
+    /// records.
     pub transmission: Vec<(String, String)>,
+    /// End uses and the demand split (`summary.transmission.end_uses`, `demand_split`): the demand
+    /// section; empty without such records.
+    pub end_uses: Vec<(String, String)>,
     pub methods: Vec<(String, String, String)>,
     pub assumptions: Vec<String>,
     /// Sources of error the summary warns of (`Summary::warnings`).
@@ -215,6 +218,7 @@ fn empty_view() -> ReportView {
         demand: vec![],
         heat: vec![],
         transmission: vec![],
+        end_uses: vec![],
         methods: vec![],
         assumptions: vec![],
         warnings: vec![],
@@ -290,6 +294,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
         demand: demand_rows(sm, fmt),
         heat: heat_rows(sm, fmt, cur),
         transmission: transmission_rows(sm, fmt, cur),
+        end_uses: end_use_rows(sm, fmt),
         methods: sm
             .methods
             .iter()
@@ -694,7 +699,7 @@ fn heat_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
     ]
 }
 
-/// The treatment and end-use records priced, then the demand split, in the reader's units.
+/// The treatment records (dryers, drains) priced, in the reader's units.
 fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
     let t = &sm.transmission;
     let mut rows = vec![];
@@ -730,7 +735,14 @@ fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)
             ),
         ));
     }
-    for u in &t.end_uses {
+    rows
+}
+
+/// The end uses on record and the mean demand split by what uses it (ISO 11011's demand side).
+fn end_use_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
+    let mut rows = vec![];
+    let words = crate::core::model::human_label;
+    for u in &sm.transmission.end_uses {
         rows.push((
             format!(
                 "End use: {} ({}{})",
