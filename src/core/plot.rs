@@ -229,6 +229,19 @@ fn legend(out: &mut String, items: &[(String, &str, bool)]) {
     }
 }
 
+/// How a tick's label is anchored at `tx`: centred, unless centring would cut it at an edge of
+/// the view box (6.2 units a character at 11 units of type, about).
+fn anchor(tx: f64, label: &str) -> &'static str {
+    let half = 3.1 * label.chars().count() as f64;
+    if tx + half > WIDTH {
+        "end"
+    } else if tx - half < 0.0 {
+        "start"
+    } else {
+        "middle"
+    }
+}
+
 fn axes(out: &mut String, x: &Axis, y: &Axis, b: &PlotBox) {
     let (bottom, right) = (b.top + b.height, b.left + b.width);
     for t in &y.ticks {
@@ -248,9 +261,10 @@ fn axes(out: &mut String, x: &Axis, y: &Axis, b: &PlotBox) {
         let _ = write!(
             out,
             "<line x1=\"{tx:.1}\" y1=\"{bottom:.1}\" x2=\"{tx:.1}\" y2=\"{:.1}\" stroke=\"#888\" stroke-width=\"0.6\"/>\
-             <text x=\"{tx:.1}\" y=\"{:.1}\" text-anchor=\"middle\">{}</text>",
+             <text x=\"{tx:.1}\" y=\"{:.1}\" text-anchor=\"{}\">{}</text>",
             bottom + 4.0,
             bottom + 15.0,
+            anchor(tx, &t.label),
             esc(&t.label)
         );
     }
@@ -370,15 +384,21 @@ pub struct BarChart {
     pub rows: Vec<BarRow>,
 }
 
-/// The bar chart's plot box for `rows` bars: 22 units a bar, labels at the left.
-pub fn bar_box(rows: usize) -> PlotBox {
-    PlotBox { left: 150.0, top: 40.0, width: 330.0, height: 22.0 * rows.max(1) as f64 }
+/// The bar chart's plot box for `rows` bars: 22 units a bar, labels at the left, room above for
+/// a legend when there is one.
+pub fn bar_box(rows: usize, legend: bool) -> PlotBox {
+    PlotBox {
+        left: 150.0,
+        top: if legend { 40.0 } else { 12.0 },
+        width: 330.0,
+        height: 22.0 * rows.max(1) as f64,
+    }
 }
 
 /// The bars as an inline `<svg>` element, as tall as its rows need (same data attributes as
 /// [`line_chart_svg`]; each part's rectangle names its row and part).
 pub fn bar_chart_svg(c: &BarChart) -> String {
-    let b = bar_box(c.rows.len());
+    let b = bar_box(c.rows.len(), c.parts.len() > 1);
     let height = b.top + b.height + 40.0;
     let y = Axis { title: String::new(), min: 0.0, max: c.rows.len() as f64, ticks: vec![] };
     let mut out = String::new();
@@ -552,6 +572,17 @@ mod tests {
         let svg = bar_chart_svg(&c);
         assert!(svg.contains("data-part=\"loaded\" x=\"150.0\" y=\"44.0\" width=\"198.0\""), "{svg}");
         assert!(svg.contains("data-part=\"off\" x=\"348.0\" y=\"44.0\" width=\"132.0\""), "{svg}");
+        // One part, no legend: the bar starts 12 + 4 from the top; a negative part runs left of
+        // zero. x from -50 to 100: zero at 150 + 330/3 = 260, -25 at 150 + 330/6 = 205.
+        let c = BarChart {
+            id: "b".into(),
+            title: "split".into(),
+            x: axis(-50.0, 100.0),
+            parts: vec!["flow".into()],
+            rows: vec![BarRow { label: "rest".into(), parts: vec![-25.0], note: String::new() }],
+        };
+        let svg = bar_chart_svg(&c);
+        assert!(svg.contains("x=\"205.0\" y=\"16.0\" width=\"55.0\""), "{svg}");
     }
 
     #[test]

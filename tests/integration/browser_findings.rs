@@ -8,9 +8,9 @@ use super::*;
 /// NIST SP 811 (2008), Appendix B.8: 1 psi = 6 894.757 Pa (6 894.757 293 168 exactly).
 const PA_PER_PSI: f64 = 6_894.757_293_168;
 
-/// Print `path` of the demo with Chromium's own --print-to-pdf; the text of every page
-/// (`pdftotext -layout`) and the page count.
-fn print_demo(server: &Server, path: &str, name: &str) -> (String, usize) {
+/// Print `path` of the demo with Chromium's own --print-to-pdf; the text of every page as laid out
+/// (`pdftotext -layout`), in reading order (`pdftotext`), and the page count.
+fn print_demo(server: &Server, path: &str, name: &str) -> (String, String, usize) {
     let dir = TempDir::new("pdf-plots");
     let pdf = dir.path().join(format!("{name}.pdf"));
     let profile = TempDir::new("chromium-print-plots");
@@ -29,7 +29,7 @@ fn print_demo(server: &Server, path: &str, name: &str) -> (String, usize) {
         .lines()
         .find_map(|l| l.strip_prefix("Pages:").map(|n| n.trim().parse().unwrap()))
         .expect("page count");
-    (run_tool(pdftotext(), &["-layout", p, "-"]), pages)
+    (run_tool(pdftotext(), &["-layout", p, "-"]), run_tool(pdftotext(), &[p, "-"]), pages)
 }
 
 /// The PDF of the demo's findings holds the charts: their axis titles with the units of the
@@ -48,7 +48,7 @@ fn printed_findings_carry_the_charts_in_the_readers_units() {
         ("si", ["Pressure, bar(g)", "Flow, m³/min free air", "Power, kW"]),
         ("us", ["Pressure, psig", "Flow, cfm free air", "Power, kW"]),
     ] {
-        let (text, pages) = print_demo(
+        let (text, _, pages) = print_demo(
             &server,
             &format!("/audits/1/findings?units={units}"),
             &format!("findings-plots-{units}"),
@@ -247,4 +247,62 @@ fn the_report_and_the_findings_run_supply_transmission_demand() {
     }
     let severe = b.severe_logs("report and findings");
     assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
+}
+
+/// Each recorded field test prints with what was measured (pressures, duration, volume) and what it
+/// found. A bleed-down of 3.0 m³ from 7.0 to 5.5 bar(g) in 95 s: mean leak flow
+/// V (p1 - p2) / (p_atm t), free air (US DOE, Improving Compressed Air System Performance: A
+/// Sourcebook for Industry, 2003, on estimating leakage; cited from memory), with p_atm at the site's altitude by the
+/// ISO 2533 troposphere formula; a load/unload test of 40 s loaded and 160 s unloaded: leaks take
+/// 40 / (40 + 160) = 20 % of the machine's rated flow (same source).
+#[test]
+#[cfg_attr(
+    not(any(all(has_browser, has_pdftools), ci)),
+    ignore = "needs Debian's chromium, chromium-driver and poppler-utils: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn printed_findings_carry_each_field_tests_inputs_and_result() {
+    let server = Server::demo();
+    let r = server.post_json(
+        "/api/v1/audits/1/field-tests",
+        &json!({"kind": "bleed_down", "volume_m3": 3.0, "start_pressure_bar_g": 7.0, "end_pressure_bar_g": 5.5, "duration_s": 95}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let r = server.post_json(
+        "/api/v1/audits/1/field-tests",
+        &json!({"kind": "load_unload", "compressor": "C2", "loaded_s": 40, "unloaded_s": 160}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let site = &server.get("/api/v1/audits/1").json()["site"];
+    let p_atm_kpa = site["atmospheric_pressure_kpa_abs"].as_f64().unwrap_or_else(|| {
+        let h = site["altitude_m"].as_f64().unwrap_or(0.0);
+        101.325 * (1.0 - 2.255_77e-5 * h).powf(5.255_88)
+    });
+    let q = 3.0 * 1.5 / (p_atm_kpa / 100.0 * 95.0 / 60.0);
+    let (_, text, _) = print_demo(&server, "/audits/1/findings?units=si", "findings-field-tests");
+    let flat = squash(&text);
+    // A table's cells side by side interleave their lines in the PDF's text: each piece apart.
+    for want in [
+        "Pressure fell from 7.00 bar(g)",
+        "to 5.50 bar(g) in 95 s",
+        "system volume 3.00 m³ (as measured)",
+        "Compressor C2: loaded for 40 s and unloaded for 2.7 min",
+        "Leaks take 20.0 % of C2",
+    ] {
+        assert!(
+            flat.contains(want),
+            "no {want:?} in the printed findings:\n{}",
+            &flat[..flat.len().min(6000)]
+        );
+    }
+    let printed: f64 = flat
+        .split("Mean leak flow ")
+        .nth(1)
+        .and_then(|t| t.split_whitespace().next())
+        .and_then(|n| n.parse().ok())
+        .unwrap_or_else(|| panic!("no mean leak flow printed"));
+    // Printed to three significant figures or so: half a unit of the last place, and the atmosphere.
+    assert!(
+        (printed - q).abs() <= 0.005 * q + 0.005,
+        "printed mean leak flow {printed} against {q:.4} m³/min"
+    );
 }

@@ -20,7 +20,7 @@ use crate::web::error::AppError;
 /// Buckets of a series over the whole log.
 pub const POINTS: usize = 400;
 /// Buckets the pressure's duration curve is sorted from: per-minute means over two weeks (the
-/// rollups keep nothing finer), coarser beyond.
+/// rollups keep nothing finer); hourly beyond.
 const DURATION_BUCKETS: usize = 20_160;
 
 /// One chart with its heading and a line saying what it is drawn from.
@@ -326,7 +326,10 @@ pub async fn findings_plots(
         // The duration curve from the finest buckets the rollups give, drawn at 101 points.
         let mut marks = vec![];
         for c in b.channels.iter().filter(|c| c.quantity == "pressure") {
-            let pts = app.chart_series(b, c, c.first_ms, c.last_ms, DURATION_BUCKETS).await?;
+            // Beyond two weeks, hourly means: the minute rollups of a year are not read for a page.
+            let span_h = ((c.last_ms - c.first_ms) / 3_600_000).max(1) as usize;
+            let n = if span_h <= 14 * 24 { DURATION_BUCKETS } else { span_h.min(DURATION_BUCKETS) };
+            let pts = app.chart_series(b, c, c.first_ms, c.last_ms, n).await?;
             let means: Vec<f64> = pts.iter().map(|p| conv_p(p.mean)).collect();
             let curve = duration_curve(&means, 101).into_iter().map(|(s, v)| (s * 100.0, v)).collect();
             marks.push(Mark::Line { name: channel_name(c, &b.channels), points: curve });
@@ -343,7 +346,7 @@ pub async fn findings_plots(
             id: "plot-pressure-duration",
             heading: "Pressure duration curve".into(),
             svg: line_chart_svg(&chart),
-            note: format!("Means of the shortest buckets kept (a minute or more), highest first.{off_foot}"),
+            note: format!("One-minute means (hourly beyond two weeks of log), highest first.{off_foot}"),
         });
     }
 
@@ -389,8 +392,8 @@ pub async fn findings_plots(
     if mean.iter().any(|p| p.1.is_finite()) {
         let est = if sm.demand.estimated { " (estimated from the compressors' states)" } else { "" };
         let marks = vec![
-            Mark::Band { name: "mean flow (lowest to highest weekday)".into(), points: spread },
-            Mark::Line { name: "mean flow (mean of the weekdays logged)".into(), points: mean },
+            Mark::Band { name: "mean flow (range over the days of the week)".into(), points: spread },
+            Mark::Line { name: "mean flow (mean over the days of the week)".into(), points: mean },
         ];
         let ticks =
             (0..=8).map(|k| Tick { at: f64::from(k * 3), label: format!("{:02}:00", k * 3) }).collect();
@@ -406,7 +409,7 @@ pub async fn findings_plots(
             heading: "Typical day: mean demand by hour".into(),
             svg: line_chart_svg(&chart),
             note:
-                "Each hour's mean flow on each weekday logged; the line is their mean, the shade their range."
+                "Each hour's mean flow on each day of the week logged (Monday to Sunday); the line is their mean, the shade their range."
                     .into(),
         });
     }
