@@ -306,3 +306,38 @@ fn printed_findings_carry_each_field_tests_inputs_and_result() {
         "printed mean leak flow {printed} against {q:.4} m³/min"
     );
 }
+
+/// A compressor's tag is the user's text: on the findings' charts (legend, bar labels, data
+/// attributes) it is escaped like everywhere else, never markup.
+#[test]
+fn a_hostile_tag_on_the_charts_is_escaped() {
+    let server = Server::demo();
+    let audit = server.get("/api/v1/audits/1").json();
+    let c1 = audit["compressors"]
+        .as_array()
+        .expect("compressors")
+        .iter()
+        .find(|c| c["tag"] == "C1")
+        .expect("C1")
+        .clone();
+    let mut body = c1.clone();
+    let tag = "C1 <b>x</b> & \"q\"";
+    body["tag"] = json!(tag);
+    for k in ["id", "notes_html"] {
+        if let Some(o) = body.as_object_mut() {
+            o.remove(k);
+        }
+    }
+    let r = server.put_json(&format!("/api/v1/audits/1/compressors/{}", c1["id"]), &body);
+    assert_eq!(r.status, 200, "{}", r.text);
+    let html = server.get("/audits/1/findings").text;
+    let svgs: Vec<&str> =
+        html.split("<svg").skip(1).map(|s| s.split("</svg>").next().unwrap_or("")).collect();
+    assert!(svgs.len() >= 6, "{} charts", svgs.len());
+    let load = svgs.iter().find(|s| s.contains("id=\"plot-load\"")).expect("the load chart");
+    assert!(
+        load.contains("C1 &lt;b&gt;x&lt;/b&gt; &amp; &quot;q&quot;"),
+        "the tag is not on the load chart, escaped:\n{load}"
+    );
+    assert!(!html.contains("<b>x</b>"), "the tag became markup");
+}
