@@ -477,3 +477,33 @@ pub async fn findings_plots(
     }
     Ok(out)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::time_axis;
+
+    #[test]
+    fn time_ticks_fall_on_the_sites_midnights_across_a_clock_change() {
+        // Europe/Berlin moves from CET (UTC+1) to CEST (UTC+2) at 01:00 UTC on Sun 29 Mar 2026
+        // (EU summer time: the last Sunday of March). Four days from 2026-03-28T00:00Z: a tick a
+        // day, at local midnight: 28 Mar 23:00Z (CET), then 22:00Z on 29, 30 and 31 Mar (CEST).
+        let h = 3_600_000i64;
+        let from = 1_774_656_000_000i64; // 2026-03-28T00:00:00Z
+        let a = time_axis(from, from + 96 * h, "Europe/Berlin");
+        let got: Vec<(i64, &str)> = a.ticks.iter().map(|t| (t.at as i64, t.label.as_str())).collect();
+        assert_eq!(
+            got,
+            vec![
+                (from + 23 * h, "Sun 29 Mar"),
+                (from + 46 * h, "Mon 30 Mar"),
+                (from + 70 * h, "Tue 31 Mar"),
+                (from + 94 * h, "Wed 1 Apr"),
+            ]
+        );
+        assert_eq!(a.title, "Site time (Europe/Berlin)");
+        // Twelve hours in UTC: a tick every two hours on the hour (12 / 2 = 6 intervals).
+        let a = time_axis(from, from + 12 * h, "UTC");
+        let labels: Vec<&str> = a.ticks.iter().map(|t| t.label.as_str()).collect();
+        assert_eq!(labels, ["Sat 28 Mar", "02:00", "04:00", "06:00", "08:00", "10:00", "12:00"]);
+    }
+}
