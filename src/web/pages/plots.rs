@@ -88,55 +88,58 @@ fn channel_name(c: &ChannelInfo, all: &[ChannelInfo]) -> String {
 /// when the span is short, midnights when it is days long.
 pub fn time_axis(from_ms: i64, to_ms: i64, tz: &str) -> Axis {
     let zone = jiff::tz::TimeZone::get(tz).unwrap_or(jiff::tz::TimeZone::UTC);
-    let span_h = (to_ms - from_ms).max(1) as f64 / 3.6e6;
-    let step_h = [1, 2, 3, 6, 12, 24, 48, 168, 336, 720, 2160]
+    let span_min = (to_ms - from_ms).max(1) as f64 / 60_000.0;
+    // The step in minutes: at most 7 intervals over the span.
+    let step = [5i64, 10, 15, 30, 60, 120, 180, 360, 720, 1440, 2880, 10_080, 20_160, 43_200, 129_600]
         .into_iter()
-        .find(|s| span_h / f64::from(*s) <= 7.0)
-        .unwrap_or(8760);
+        .find(|s| span_min / *s as f64 <= 7.0)
+        .unwrap_or(525_600);
+    // Walk local times a minute step at a time under an hour, an hour at a time above.
+    let walk = step.min(60);
     let mut ticks = vec![];
-    if let Ok(start) = jiff::Timestamp::from_millisecond(from_ms) {
-        let start = start.to_zoned(zone.clone());
-        // Local whole hours from the first, at most a few years of them.
-        let Ok(mut t) = start.with().minute(0).second(0).subsec_nanosecond(0).build() else {
-            return Axis {
-                title: format!("Site time ({tz})"),
-                min: from_ms as f64,
-                max: to_ms as f64,
-                ticks,
-            };
+    let title = format!("Site time ({tz})");
+    let Ok(start) = jiff::Timestamp::from_millisecond(from_ms) else {
+        return Axis { title, min: from_ms as f64, max: to_ms as f64, ticks };
+    };
+    let start = start.to_zoned(zone);
+    let Ok(mut t) = start.with().minute(0).second(0).subsec_nanosecond(0).build() else {
+        return Axis { title, min: from_ms as f64, max: to_ms as f64, ticks };
+    };
+    let mut days = 0i64;
+    // At most a few years of hours.
+    for _ in 0..30_000 {
+        let ms = t.timestamp().as_millisecond();
+        if ms > to_ms {
+            break;
+        }
+        let (hour, minute) = (i64::from(t.hour()), i64::from(t.minute()));
+        let midnight = hour == 0 && minute == 0;
+        if midnight && ms >= from_ms {
+            days += 1;
+        }
+        let on_tick = if step < 60 {
+            minute % step == 0
+        } else if step < 1440 {
+            minute == 0 && hour % (step / 60) == 0
+        } else {
+            midnight && (days - 1).rem_euclid(step / 1440) == 0
         };
-        let mut days = 0i64;
-        for _ in 0..30_000 {
-            let ms = t.timestamp().as_millisecond();
-            if ms > to_ms {
-                break;
-            }
-            let hour = i32::from(t.hour());
-            if hour == 0 && ms >= from_ms {
-                days += 1;
-            }
-            let on_tick = if step_h < 24 {
-                hour % step_h == 0
+        if ms >= from_ms && on_tick {
+            let label = if step >= 10_080 {
+                t.strftime("%-d %b").to_string()
+            } else if midnight {
+                t.strftime("%a %-d %b").to_string()
             } else {
-                hour == 0 && (days - 1).rem_euclid(i64::from(step_h / 24)) == 0
+                t.strftime("%H:%M").to_string()
             };
-            if ms >= from_ms && on_tick {
-                let label = if step_h >= 168 {
-                    t.strftime("%-d %b").to_string()
-                } else if hour == 0 {
-                    t.strftime("%a %-d %b").to_string()
-                } else {
-                    t.strftime("%H:%M").to_string()
-                };
-                ticks.push(Tick { at: ms as f64, label });
-            }
-            match t.checked_add(jiff::Span::new().hours(1)) {
-                Ok(n) => t = n,
-                Err(_) => break,
-            }
+            ticks.push(Tick { at: ms as f64, label });
+        }
+        match t.checked_add(jiff::Span::new().minutes(walk)) {
+            Ok(n) => t = n,
+            Err(_) => break,
         }
     }
-    Axis { title: format!("Site time ({tz})"), min: from_ms as f64, max: to_ms as f64, ticks }
+    Axis { title, min: from_ms as f64, max: to_ms as f64, ticks }
 }
 
 /// A numeric axis fitted to every finite value of the marks (and `floor`, when given: power and
@@ -505,5 +508,9 @@ mod tests {
         let a = time_axis(from, from + 12 * h, "UTC");
         let labels: Vec<&str> = a.ticks.iter().map(|t| t.label.as_str()).collect();
         assert_eq!(labels, ["Sat 28 Mar", "02:00", "04:00", "06:00", "08:00", "10:00", "12:00"]);
+        // Ninety minutes from 00:10: 90 / 15 = 6 intervals, ticks on the quarter hours.
+        let a = time_axis(from + 600_000, from + 600_000 + 90 * 60_000, "UTC");
+        let labels: Vec<&str> = a.ticks.iter().map(|t| t.label.as_str()).collect();
+        assert_eq!(labels, ["00:15", "00:30", "00:45", "01:00", "01:15", "01:30"]);
     }
 }
