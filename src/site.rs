@@ -24,6 +24,8 @@ computed from them overflows (a price of 1e308 used to turn every cost into `nul
 | `heater_efficiency` | above 0 ..= 1.2 | condensing boilers exceed 1 on the net calorific value (EN 15502 ratings up to about 1.09) |
 | `grid_co2_kg_per_kwh` | 0 ..= 2 kg/kWh | the most carbon-intensive grids (lignite) stay near 1.1 (IEA emission factors, from memory) |
 | `fuel_co2_kg_per_kwh` | 0 ..= 1 kg/kWh | lignite 0.36, natural gas 0.20 kg/kWh (IPCC 2006 Guidelines, vol. 2 table 1.4) |
+| `heating_degree_days_k_day` | 12 values, each 0 ..= 2500 K·d, or none | a month of 31 days 80 K below the base temperature; the coldest inhabited places stay near 1,800 (common practice, from memory) |
+| `annual_space_heat_kwh` | 0 ..= 1e10 kWh (0: not known) | 10 TWh, far above any one site's heat need |
 | `other_volume_m3` | 0 ..= 10 000 m³ | piping and vessels of the largest plants (common practice) |
 | compressor fields | see `core::datasheet` | the one data-sheet shape, shared with the scenarios |
 | receiver `volume_m3` | above 0 ..= 1000 m³ | the largest shop-built air receivers (common practice) |
@@ -42,6 +44,8 @@ pub const MAX_DEMAND_CHARGE_PER_KW_MONTH: f64 = 1e8;
 pub const MAX_GRID_CO2_KG_PER_KWH: f64 = 2.0;
 pub const MAX_FUEL_CO2_KG_PER_KWH: f64 = 1.0;
 pub const MAX_OTHER_VOLUME_M3: f64 = 10_000.0;
+pub const MAX_DEGREE_DAYS_K_DAY_PER_MONTH: f64 = 2_500.0;
+pub const MAX_ANNUAL_SPACE_HEAT_KWH: f64 = 1e10;
 pub const MAX_RECEIVER_VOLUME_M3: f64 = 1_000.0;
 
 /// `v` if it is finite and within `lo..=hi` (above `lo` when `lo_open`), else the field's error.
@@ -232,6 +236,11 @@ pub struct SiteRecord {
     pub heating_months: Vec<u8>,
     /// `space_heating` (counted in heating months) or `process_water` (all year).
     pub heat_use: String,
+    /// Heating degree-days of each month, January first, K·d to the building's base temperature;
+    /// empty when not given. Given, they replace the heating months.
+    pub heating_degree_days_k_day: Vec<f64>,
+    /// The space's heat need in a year, kWh of heat (`None`: not known).
+    pub annual_space_heat_kwh: Option<f64>,
     pub grid_co2_kg_per_kwh: f64,
     pub fuel_co2_kg_per_kwh: f64,
     /// Piping, dryer and filter vessel volume, m³ (added to the receivers for bleed-down tests).
@@ -258,6 +267,8 @@ impl Default for SiteRecord {
             heater_efficiency: 0.9,
             heating_months: vec![1, 2, 3, 4, 10, 11, 12],
             heat_use: "space_heating".into(),
+            heating_degree_days_k_day: Vec::new(),
+            annual_space_heat_kwh: None,
             grid_co2_kg_per_kwh: 0.4,
             fuel_co2_kg_per_kwh: 0.2,
             other_volume_m3: 0.0,
@@ -289,6 +300,8 @@ impl SiteRecord {
             heater_efficiency: self.heater_efficiency,
             heating_months: self.heating_months.clone(),
             heat_use: crate::core::heat::HeatUseKind::parse(&self.heat_use).unwrap_or_default(),
+            heating_degree_days_k_day: <[f64; 12]>::try_from(self.heating_degree_days_k_day.as_slice()).ok(),
+            annual_space_heat_kwh: self.annual_space_heat_kwh,
             grid_co2_kg_per_kwh: self.grid_co2_kg_per_kwh,
             fuel_co2_kg_per_kwh: self.fuel_co2_kg_per_kwh,
             production: None,
@@ -418,6 +431,35 @@ impl SiteRecord {
             }
             self.heat_use = h.clone();
         }
+        if let Some(d) = &p.heating_degree_days_k_day {
+            if !(d.is_empty() || d.len() == 12) {
+                return Err(FieldError::new(
+                    "heating_degree_days_k_day",
+                    format!(
+                        "heating degree-days must be given for all 12 months, January first (or none), got {}",
+                        d.len()
+                    ),
+                ));
+            }
+            for (m, &v) in d.iter().enumerate() {
+                within(
+                    &format!("heating_degree_days_k_day[{m}]"),
+                    v,
+                    0.0,
+                    false,
+                    MAX_DEGREE_DAYS_K_DAY_PER_MONTH,
+                    " K·d",
+                )?;
+            }
+            self.heating_degree_days_k_day = d.clone();
+        }
+        if let Some(v) = p.annual_space_heat_kwh {
+            self.annual_space_heat_kwh = if v == 0.0 {
+                None
+            } else {
+                Some(within("annual_space_heat_kwh", v, 0.0, false, MAX_ANNUAL_SPACE_HEAT_KWH, " kWh")?)
+            };
+        }
         if let Some(v) = p.grid_co2_kg_per_kwh {
             self.grid_co2_kg_per_kwh =
                 within("grid_co2_kg_per_kwh", v, 0.0, false, MAX_GRID_CO2_KG_PER_KWH, " kg/kWh")?;
@@ -453,6 +495,10 @@ pub struct SitePatch {
     pub heater_efficiency: Option<f64>,
     pub heating_months: Option<Vec<u8>>,
     pub heat_use: Option<String>,
+    /// 12 values (January first) or none (`[]` clears them).
+    pub heating_degree_days_k_day: Option<Vec<f64>>,
+    /// 0 clears it.
+    pub annual_space_heat_kwh: Option<f64>,
     pub grid_co2_kg_per_kwh: Option<f64>,
     pub fuel_co2_kg_per_kwh: Option<f64>,
     pub other_volume_m3: Option<f64>,

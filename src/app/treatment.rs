@@ -1,4 +1,4 @@
-//! Dryers, condensate drains and the end-use inventory of an audit (API.md "Additions"): the JSON
+//! Dryers, filters, condensate drains and the end-use inventory of an audit (API.md "Additions"): the JSON
 //! records as posted, checked by `core::treatment` before they are stored, and read back into the
 //! core's types for the summary.
 
@@ -6,7 +6,8 @@ use serde::{Deserialize, Serialize};
 
 use super::{App, Error, Result};
 use crate::core::treatment::{
-    Drain, DrainKind, Dryer, DryerControl, DryerKind, EndUse, EndUseKind, Records, TreatmentError,
+    Drain, DrainKind, Dryer, DryerControl, DryerKind, EndUse, EndUseKind, Filter, FilterKind, Records,
+    TreatmentError,
 };
 use crate::core::units::FreeAirFlow;
 use crate::store::audits;
@@ -17,15 +18,17 @@ pub enum ItemKind {
     Dryer,
     Drain,
     EndUse,
+    Filter,
 }
 
 impl ItemKind {
-    /// The path segment (`dryers`, `drains`, `end-uses`), or `None`.
+    /// The path segment (`dryers`, `drains`, `end-uses`, `filters`), or `None`.
     pub fn from_segment(s: &str) -> Option<ItemKind> {
         match s {
             "dryers" => Some(ItemKind::Dryer),
             "drains" => Some(ItemKind::Drain),
             "end-uses" => Some(ItemKind::EndUse),
+            "filters" => Some(ItemKind::Filter),
             _ => None,
         }
     }
@@ -34,6 +37,7 @@ impl ItemKind {
             ItemKind::Dryer => "dryer",
             ItemKind::Drain => "drain",
             ItemKind::EndUse => "end_use",
+            ItemKind::Filter => "filter",
         }
     }
     pub fn plural(self) -> &'static str {
@@ -41,6 +45,7 @@ impl ItemKind {
             ItemKind::Dryer => "dryers",
             ItemKind::Drain => "drains",
             ItemKind::EndUse => "end_uses",
+            ItemKind::Filter => "filters",
         }
     }
 }
@@ -156,14 +161,47 @@ impl EndUseInput {
     }
 }
 
+/// `POST /api/v1/audits/{id}/filters`: the data sheet's clean drop at rated flow and the drop read
+/// across the filter, bar (a difference, not a gauge pressure).
+#[derive(Debug, Clone, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct FilterInput {
+    pub tag: String,
+    pub kind: String,
+    pub rated_flow_m3_min: f64,
+    pub clean_drop_bar: f64,
+    pub measured_drop_bar: f64,
+    #[serde(default)]
+    pub element_change_months: Option<f64>,
+    #[serde(default)]
+    pub element_cost: Option<f64>,
+}
+
+impl FilterInput {
+    pub fn to_core(&self) -> std::result::Result<Filter, TreatmentError> {
+        let f = Filter {
+            tag: self.tag.trim().to_string(),
+            kind: FilterKind::parse(&self.kind, "kind")?,
+            rated_flow: FreeAirFlow::from_m3_min(self.rated_flow_m3_min),
+            clean_drop_bar: self.clean_drop_bar,
+            measured_drop_bar: self.measured_drop_bar,
+            element_change_months: self.element_change_months,
+            element_cost: self.element_cost,
+        };
+        f.validate()?;
+        Ok(f)
+    }
+}
+
 const MAX_TEXT: usize = 64;
 
-/// One record as posted, of any of the three kinds.
+/// One record as posted, of any of the four kinds.
 #[derive(Debug, Clone)]
 pub enum TreatmentInput {
     Dryer(DryerInput),
     Drain(DrainInput),
     EndUse(EndUseInput),
+    Filter(FilterInput),
 }
 
 impl TreatmentInput {
@@ -172,6 +210,7 @@ impl TreatmentInput {
             TreatmentInput::Dryer(_) => ItemKind::Dryer,
             TreatmentInput::Drain(_) => ItemKind::Drain,
             TreatmentInput::EndUse(_) => ItemKind::EndUse,
+            TreatmentInput::Filter(_) => ItemKind::Filter,
         }
     }
 
@@ -180,9 +219,9 @@ impl TreatmentInput {
         let field = |e: TreatmentError| Error::field(e.field, e.message);
         let (name, text) = match &self {
             TreatmentInput::EndUse(i) => ("name", i.name.as_str()),
-            TreatmentInput::Dryer(DryerInput { tag, .. }) | TreatmentInput::Drain(DrainInput { tag, .. }) => {
-                ("tag", tag.as_str())
-            }
+            TreatmentInput::Dryer(DryerInput { tag, .. })
+            | TreatmentInput::Drain(DrainInput { tag, .. })
+            | TreatmentInput::Filter(FilterInput { tag, .. }) => ("tag", tag.as_str()),
         };
         if text.chars().count() > MAX_TEXT {
             return Err(Error::field(name, format!("at most {MAX_TEXT} characters")));
@@ -198,6 +237,10 @@ impl TreatmentInput {
             }
             TreatmentInput::EndUse(i) => {
                 i.name = i.to_core().map_err(field)?.name;
+                serde_json::to_value(&*i)
+            }
+            TreatmentInput::Filter(i) => {
+                i.tag = i.to_core().map_err(field)?.tag;
                 serde_json::to_value(&*i)
             }
         };
@@ -241,6 +284,13 @@ pub fn records(items: &[audits::TreatmentItemRecord]) -> Records {
                     out.end_uses.push(u);
                 }
             }
+            "filter" => {
+                if let Some(f) =
+                    serde_json::from_str::<FilterInput>(&r.body).ok().and_then(|i| i.to_core().ok())
+                {
+                    out.filters.push(f);
+                }
+            }
             _ => {}
         }
     }
@@ -248,7 +298,7 @@ pub fn records(items: &[audits::TreatmentItemRecord]) -> Records {
 }
 
 impl App {
-    /// Add a dryer, drain or end use; its id.
+    /// Add a dryer, filter, drain or end use; its id.
     pub async fn add_treatment_item(&self, audit_id: i64, input: TreatmentInput) -> Result<i64> {
         self.audit(audit_id).await?;
         let kind = input.kind();

@@ -31,3 +31,8 @@ pub const DEW_POINT_CONTROL_PER_DRYER: f64 = 2500.0;
 pub const ZERO_LOSS_DRAIN: f64 = 500.0;
 /// An electric alternative (blower, fan, motor) for one inappropriate use, installed, per use line.
 pub const ALTERNATIVE_PER_USE: f64 = 1500.0;
+/// One filter element changed (element, gaskets and labour), when the record gives no cost.
+pub const FILTER_ELEMENT: f64 = 300.0;
+/// A cycling or variable refrigerated dryer in place of a non-cycling one, installed, per m³/min of
+/// rated flow.
+pub const CYCLING_DRYER_PER_M3_MIN: f64 = 600.0;

@@ -215,6 +215,7 @@ pub fn render_parts(parts: &[Part], fmt: &Fmt) -> String {
             Part::Figure { quantity: Quantity::FlowM3Min, value } => fmt.flow_m3_min(*value),
             Part::Figure { quantity: Quantity::PressureBarG, value } => fmt.pressure_bar_g(*value),
             Part::Figure { quantity: Quantity::SpecificPowerKwPerM3Min, value } => fmt.specific_power(*value),
+            Part::Figure { quantity: Quantity::PressureDropBar, value } => fmt.pressure_delta_bar(*value),
         })
         .collect()
 }

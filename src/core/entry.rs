@@ -3,8 +3,8 @@ What a person types into a form, in the reader's unit system, and the stored val
 
 Every input field of the compressor, receiver, site, field-test and what-if forms is one
 [`Entry`]: the quantity it holds in the unit the records keep (bar(g), m³/min of free air, m³,
-kW/(m³/min), °C, m, mm) and, for US customary, the unit a US reader writes (psig, cfm, US gal,
-kW/100 cfm, °F, ft, in). The step between them is affine, `stored = typed × factor + offset`, with
+kW/(m³/min), °C, m, mm, bar for a pressure difference) and, for US customary, the unit a US reader writes (psig, cfm, US gal,
+kW/100 cfm, °F, ft, in, psi). The step between them is affine, `stored = typed × factor + offset`, with
 the exact definitions behind the NIST SP 811 (2008) Appendix B factors:
 1 psi = 6 894.757 Pa, 1 ft³ = 2.831 685 × 10⁻² m³, 1 US gal = 3.785 412 × 10⁻³ m³,
 1 ft = 0.3048 m, 1 in = 25.4 mm, t/°C = (t/°F − 32)/1.8; psia to kPa abs by the psi factor.
@@ -39,6 +39,10 @@ pub enum Entry {
     Diameter,
     /// The site's atmospheric (absolute) pressure; stored in kPa abs.
     Atmosphere,
+    /// Heating degree-days; stored in K·d (°F·d for a US reader: a temperature interval, 1 °F = 1/1.8 K).
+    DegreeDays,
+    /// A pressure difference (a drop across a filter); stored in bar.
+    PressureDrop,
 }
 
 /// The unit a field is typed in and its step to the stored unit.
@@ -52,7 +56,7 @@ pub struct EntryUnit {
 }
 
 impl Entry {
-    pub const ALL: [Entry; 8] = [
+    pub const ALL: [Entry; 10] = [
         Entry::GaugePressure,
         Entry::FreeAirFlow,
         Entry::Volume,
@@ -61,6 +65,8 @@ impl Entry {
         Entry::Altitude,
         Entry::Diameter,
         Entry::Atmosphere,
+        Entry::DegreeDays,
+        Entry::PressureDrop,
     ];
 
     /// The field kind's name in page data (`data-entry` attributes of the page scripts).
@@ -74,6 +80,8 @@ impl Entry {
             Entry::Altitude => "altitude",
             Entry::Diameter => "diameter",
             Entry::Atmosphere => "atmosphere",
+            Entry::DegreeDays => "degree_days",
+            Entry::PressureDrop => "pressure_drop",
         }
     }
 
@@ -100,6 +108,10 @@ impl Entry {
             (Entry::Diameter, UnitSystem::Us) => linear("in", 25.4),
             (Entry::Atmosphere, UnitSystem::Si) => linear("kPa abs", 1.0),
             (Entry::Atmosphere, UnitSystem::Us) => linear("psia", PA_PER_PSI / 1000.0),
+            (Entry::DegreeDays, UnitSystem::Si) => linear("K·d", 1.0),
+            (Entry::DegreeDays, UnitSystem::Us) => linear("°F·d", 1.0 / 1.8),
+            (Entry::PressureDrop, UnitSystem::Si) => linear("bar", 1.0),
+            (Entry::PressureDrop, UnitSystem::Us) => linear("psi", PA_PER_PSI / PA_PER_BAR),
         }
     }
 
@@ -184,6 +196,8 @@ mod tests {
     #[test]
     fn factors_agree_with_nist_sp_811() {
         assert!(close(Entry::GaugePressure.to_stored(Us, 1.0) * 1e5, 6.894_757e3, 1e-7));
+        // A drop across a filter: 5 psi = 0.344 738 bar (a difference: the psi factor, no atmosphere).
+        assert!(close(Entry::PressureDrop.to_stored(Us, 5.0) * 1e5, 5.0 * 6.894_757e3, 1e-7));
         assert!(close(Entry::FreeAirFlow.to_stored(Us, 1.0), 2.831_685e-2, 1e-6));
         // cfm to m³/s: 4.719 474 E-04.
         assert!(close(Entry::FreeAirFlow.to_stored(Us, 1.0) / 60.0, 4.719_474e-4, 1e-6));
@@ -194,6 +208,9 @@ mod tests {
         // The standard atmosphere, 101.325 kPa, is 14.696 psia (NIST SP 811 psi factor).
         assert!(close(Entry::Atmosphere.to_stored(Us, 14.695_95), 101.325, 1e-6));
         assert!(close(Entry::Temperature.to_stored(Us, -40.0), -40.0, 1e-12));
+        // Degree-days count a temperature interval: 1 °F (interval) = 5/9 K (NIST SP 811 B.9); a
+        // US month of 900 °F·d is 500 K·d.
+        assert!(close(Entry::DegreeDays.to_stored(Us, 900.0), 500.0, 1e-12));
         // 18 kW/100 cfm = 6.357 kW/(m³/min), the same NIST factors (1 m³/min = 35.3147 cfm).
         assert!(close(Entry::SpecificPower.to_stored(Us, 18.0), 6.3566, 1e-4));
         for e in Entry::ALL {
@@ -214,9 +231,9 @@ mod tests {
     #[test]
     fn labels_are_units_as_people_write_them() {
         let us: Vec<&str> = Entry::ALL.iter().map(|e| e.unit(Us).label).collect();
-        assert_eq!(us, ["psig", "cfm", "US gal", "kW/100 cfm", "°F", "ft", "in", "psia"]);
+        assert_eq!(us, ["psig", "cfm", "US gal", "kW/100 cfm", "°F", "ft", "in", "psia", "°F·d", "psi"]);
         let si: Vec<&str> = Entry::ALL.iter().map(|e| e.unit(Si).label).collect();
-        assert_eq!(si, ["bar(g)", "m³/min", "m³", "kW/(m³/min)", "°C", "m", "mm", "kPa abs"]);
+        assert_eq!(si, ["bar(g)", "m³/min", "m³", "kW/(m³/min)", "°C", "m", "mm", "kPa abs", "K·d", "bar"]);
     }
 
     #[test]

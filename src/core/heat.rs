@@ -135,17 +135,73 @@ pub struct RecoveredHeat {
     pub money: f64,
 }
 
+/// Days of the months of a common year, January first: the annual recoverable heat is spread over
+/// the months by their length ([`by_month`]).
+pub const MONTH_DAYS: [f64; 12] = [31.0, 28.0, 31.0, 30.0, 31.0, 30.0, 31.0, 31.0, 30.0, 31.0, 30.0, 31.0];
+
+/// An annual quantity spread over the months of a common year by their days.
+pub fn by_month(annual: f64) -> [f64; 12] {
+    MONTH_DAYS.map(|d| annual * d / 365.0)
+}
+
 /// A use for recovered heat.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct HeatUse {
     pub kind: HeatUseKind,
     /// Months (1 = January ... 12 = December) in which space heat is needed; ignored for process
-    /// water. Values outside 1-12 and repeats are ignored.
+    /// water, and when degree-days are given. Values outside 1-12 and repeats are ignored.
     pub heating_months: Vec<u8>,
+    /// Heating degree-days of each month (January first), K·d to the building's base temperature:
+    /// when given (12 values), they replace the heating months.
+    pub degree_days_k_day: Option<[f64; 12]>,
+    /// The heat the space needs in a year, kWh (the heater's fuel × its efficiency): with degree-days,
+    /// the cap on what can be used each month.
+    pub annual_space_heat_kwh: Option<f64>,
+}
+
+/// Share of each month's recoverable heat that space heating can use, by the degree-day method
+/// (ASHRAE Handbook, Fundamentals, energy estimating: a building's heating load over a period is
+/// proportional to its heating degree-days, Q = UA × HDD × 24 h).
+///
+/// - With the space's annual heat need `H`: the month's need is `H × HDD_m / ΣHDD`, and the heat
+///   used is the recoverable heat up to that need.
+/// - Without it: the recovery unit is taken as sized to the coldest month's mean load (its whole
+///   heat used then), and in any other month the share used is that month's degree-days per day
+///   over the coldest month's (airledger's stated, conservative assumption: the heat a compressor
+///   rejects is steady, the load it meets is not).
+///
+/// Returns the heat used each month, kWh.
+pub fn degree_day_use(
+    recoverable_by_month_kwh: &[f64; 12],
+    degree_days_k_day: &[f64; 12],
+    annual_space_heat_kwh: Option<f64>,
+) -> [f64; 12] {
+    let hdd = degree_days_k_day.map(|d| if d.is_finite() { d.max(0.0) } else { 0.0 });
+    let total: f64 = hdd.iter().sum();
+    let mut used = [0.0; 12];
+    if total <= 0.0 {
+        return used;
+    }
+    match annual_space_heat_kwh {
+        Some(h) if h.is_finite() && h >= 0.0 => {
+            for m in 0..12 {
+                used[m] = recoverable_by_month_kwh[m].min(h * hdd[m] / total);
+            }
+        }
+        _ => {
+            let per_day: Vec<f64> = hdd.iter().zip(MONTH_DAYS).map(|(d, n)| d / n).collect();
+            let coldest = per_day.iter().copied().fold(0.0, f64::max);
+            for m in 0..12 {
+                used[m] = recoverable_by_month_kwh[m] * (per_day[m] / coldest);
+            }
+        }
+    }
+    used
 }
 
 /// The worth of recovered heat (US DOE heat-recovery fact sheet): `recoverable_by_month_kwh[0]` is January. Counts
-/// the months in which the heat is used, and values it as the fuel the heater no longer burns:
+/// the heat used (all of it for process water; for space heating, the heating months' or, with
+/// degree-days, [`degree_day_use`]), and values it as the fuel the heater no longer burns:
 /// fuel = useful / heater efficiency, money = fuel x price. A heater efficiency that is not positive
 /// displaces nothing (0 fuel, 0 money).
 pub fn recovered_value(
@@ -154,19 +210,21 @@ pub fn recovered_value(
     heater_efficiency: f64,
     fuel_price_per_kwh: f64,
 ) -> RecoveredHeat {
-    let mut used = [false; 12];
-    match use_.kind {
-        HeatUseKind::ProcessWater => used = [true; 12],
-        HeatUseKind::SpaceHeating => {
+    let useful_kwh: f64 = match (use_.kind, use_.degree_days_k_day) {
+        (HeatUseKind::ProcessWater, _) => recoverable_by_month_kwh.iter().sum(),
+        (HeatUseKind::SpaceHeating, Some(hdd)) => {
+            degree_day_use(recoverable_by_month_kwh, &hdd, use_.annual_space_heat_kwh).iter().sum()
+        }
+        (HeatUseKind::SpaceHeating, None) => {
+            let mut used = [false; 12];
             for &m in &use_.heating_months {
                 if (1..=12).contains(&m) {
                     used[usize::from(m - 1)] = true;
                 }
             }
+            recoverable_by_month_kwh.iter().zip(used).filter(|(_, u)| *u).map(|(kwh, _)| kwh).sum()
         }
-    }
-    let useful_kwh: f64 =
-        recoverable_by_month_kwh.iter().zip(used).filter(|(_, u)| *u).map(|(kwh, _)| kwh).sum();
+    };
     let fuel_kwh = if heater_efficiency > 0.0 { useful_kwh / heater_efficiency } else { 0.0 };
     RecoveredHeat { useful_kwh, fuel_kwh, money: fuel_kwh * fuel_price_per_kwh }
 }
@@ -309,7 +367,11 @@ mod tests {
     fn space_heat_counts_only_in_the_heating_months() {
         // Months 1..12 recover 100, 200, ... 1200 kWh.
         let by_month: [f64; 12] = std::array::from_fn(|i| 100.0 * (i as f64 + 1.0));
-        let winter = HeatUse { kind: HeatUseKind::SpaceHeating, heating_months: vec![1, 2, 3, 11, 12] };
+        let winter = HeatUse {
+            kind: HeatUseKind::SpaceHeating,
+            heating_months: vec![1, 2, 3, 11, 12],
+            ..Default::default()
+        };
         let RecoveredHeat { useful_kwh: useful, fuel_kwh: fuel, money } =
             recovered_value(&by_month, &winter, 0.9, 0.08);
         // By hand: 100 + 200 + 300 + 1100 + 1200 = 2900 kWh; / 0.9 = 3222.2 kWh; x 0.08 = 257.78.
@@ -317,14 +379,19 @@ mod tests {
         assert!((fuel - 2900.0 / 0.9).abs() < 1e-9);
         assert!((money - 2900.0 / 0.9 * 0.08).abs() < 1e-9);
         // Repeats and impossible months are ignored.
-        let odd = HeatUse { kind: HeatUseKind::SpaceHeating, heating_months: vec![1, 1, 0, 13] };
+        let odd = HeatUse {
+            kind: HeatUseKind::SpaceHeating,
+            heating_months: vec![1, 1, 0, 13],
+            ..Default::default()
+        };
         assert!((recovered_value(&by_month, &odd, 0.9, 0.08).useful_kwh - 100.0).abs() < 1e-9);
     }
 
     #[test]
     fn process_water_counts_all_year() {
         let by_month = [500.0; 12];
-        let water = HeatUse { kind: HeatUseKind::ProcessWater, heating_months: vec![1] };
+        let water =
+            HeatUse { kind: HeatUseKind::ProcessWater, heating_months: vec![1], ..Default::default() };
         let RecoveredHeat { useful_kwh: useful, fuel_kwh: fuel, money } =
             recovered_value(&by_month, &water, 0.8, 0.10);
         // By hand: 6000 kWh; / 0.8 = 7500 kWh of fuel; x 0.10 = 750.
@@ -336,5 +403,66 @@ mod tests {
             recovered_value(&by_month, &water, 0.0, 0.10),
             RecoveredHeat { useful_kwh: 6000.0, fuel_kwh: 0.0, money: 0.0 }
         );
+    }
+
+    #[test]
+    fn degree_days_share_the_heat_as_the_degree_day_method_does() {
+        // ASHRAE Handbook, Fundamentals, energy estimating (degree-day method): a space's heating load
+        // over a period is UA × HDD × 24 h. A hall of UA = 2 kW/K (invented), HDD to its base
+        // temperature: January 500, February 420, March 300, April 150, May 40, summer 0, October 120,
+        // November 300, December 450 K·d (invented, a central European pattern).
+        let hdd = [500.0, 420.0, 300.0, 150.0, 40.0, 0.0, 0.0, 0.0, 0.0, 120.0, 300.0, 450.0];
+        let ua_kw_per_k = 2.0;
+        let need: Vec<f64> = hdd.iter().map(|d| ua_kw_per_k * d * 24.0).collect();
+        let annual_need: f64 = need.iter().sum();
+        // By hand: ΣHDD = 2280 K·d, so the annual need is 2 × 2280 × 24 = 109,440 kWh; January
+        // 24,000, May 1,920 kWh.
+        assert!((annual_need - 109_440.0).abs() < 1e-9);
+        // A compressor whose recoverable heat is 10,000 kWh in each month.
+        let rec = [10_000.0; 12];
+        let used = degree_day_use(&rec, &hdd, Some(annual_need));
+        // Capped by the need: January uses all 10,000; April 7,200 (2 × 150 × 24); May 1,920;
+        // summer nothing.
+        assert!((used[0] - 10_000.0).abs() < 1e-9);
+        assert!((used[3] - 7_200.0).abs() < 1e-9);
+        assert!((used[4] - 1_920.0).abs() < 1e-9);
+        assert_eq!(used[6], 0.0);
+        // By hand, month by month:
+        // Jan 10,000; Feb min(10,000, 20,160) 10,000; Mar min(10,000, 14,400) 10,000; Apr 7,200;
+        // May 1,920; Oct 5,760; Nov 10,000 (14,400 needed); Dec 10,000 (21,600): 64,880 kWh.
+        let total: f64 = used.iter().sum();
+        assert!((total - 64_880.0).abs() < 1e-9, "{total}");
+        let v = recovered_value(
+            &rec,
+            &HeatUse {
+                kind: HeatUseKind::SpaceHeating,
+                heating_months: vec![7],
+                degree_days_k_day: Some(hdd),
+                annual_space_heat_kwh: Some(annual_need),
+            },
+            0.9,
+            0.08,
+        );
+        // The degree-days replace the heating months (July, given above, has none).
+        assert!((v.useful_kwh - 64_880.0).abs() < 1e-9);
+        assert!((v.money - 64_880.0 / 0.9 * 0.08).abs() < 1e-9);
+    }
+
+    #[test]
+    fn without_the_space_need_the_coldest_month_sets_the_share() {
+        // airledger's stated assumption: the unit is sized to the coldest month's mean load. January
+        // 620 K·d over 31 days = 20 K·d per day, the coldest; April 150 / 30 = 5 per day: a quarter.
+        let mut hdd = [0.0; 12];
+        hdd[0] = 620.0;
+        hdd[3] = 150.0;
+        let rec = by_month(36_500.0);
+        // by_month spreads by the days of a common year: 100 kWh a day, January 3,100, April 3,000.
+        assert!((rec[0] - 3_100.0).abs() < 1e-9 && (rec[3] - 3_000.0).abs() < 1e-9);
+        let used = degree_day_use(&rec, &hdd, None);
+        assert!((used[0] - 3_100.0).abs() < 1e-9);
+        assert!((used[3] - 750.0).abs() < 1e-9);
+        assert!(used.iter().enumerate().all(|(m, u)| m == 0 || m == 3 || *u == 0.0));
+        // No degree-days at all: nothing is used.
+        assert_eq!(degree_day_use(&rec, &[0.0; 12], None), [0.0; 12]);
     }
 }

@@ -215,6 +215,13 @@ pub struct SiteSpec {
     /// months, or process water all year.
     #[serde(default)]
     pub heat_use: super::heat::HeatUseKind,
+    /// Heating degree-days of each month, January first, K·d: when given, space heat is counted by
+    /// the degree-day method (`heat::degree_day_use`) instead of the heating months.
+    #[serde(default)]
+    pub heating_degree_days_k_day: Option<[f64; 12]>,
+    /// The space's heat need in a year, kWh of heat: the monthly cap of the degree-day method.
+    #[serde(default)]
+    pub annual_space_heat_kwh: Option<f64>,
     /// Grid emission factor, kg CO2 per kWh of electricity.
     pub grid_co2_kg_per_kwh: f64,
     /// Emission factor of the heating fuel, kg CO2 per kWh of fuel.

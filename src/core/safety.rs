@@ -44,10 +44,12 @@ pub const TREATMENT_CAUTIONS: &[&str] = &[
     "Follow local pressure-equipment codes and the site's licensed practice; they come first.",
 ];
 
-/// The caution of a measure on dryers, drains or the air supply to end uses (`dew_point_control`,
-/// `zero_loss_drains`, `replace_inappropriate_uses`), in one line.
+/// The caution of a measure on dryers, filters, drains or the air supply to end uses
+/// (`dew_point_control`, `zero_loss_drains`, `replace_inappropriate_uses`, `filter_change`,
+/// `cycling_refrigerated_dryer`), in one line.
 pub const TREATMENT_MEASURE_CAUTION: &str =
-    "dryers, drains and their piping hold pressure: isolate, lock out and vent them before work; \
+    "dryers, filters, drains and their piping hold pressure: isolate, lock out and vent them before work, \
+     and depressurise a filter housing before opening it; \
      condensate is oily waste to be collected and disposed of as local rules require; defer to local \
      codes and licensed practice";
 

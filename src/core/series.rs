@@ -274,11 +274,57 @@ pub enum Signal {
     Temperature,
 }
 
+/// Where along the air's way a pressure was measured (ISO 11011's supply, transmission and demand):
+/// at a compressor's discharge, after the treatment (dryers, filters), in the header (the default),
+/// or at a point of use.
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, Hash, Default, PartialOrd, Ord, serde::Serialize, serde::Deserialize,
+)]
+#[serde(rename_all = "snake_case")]
+pub enum PressurePoint {
+    Discharge,
+    AfterTreatment,
+    #[default]
+    Header,
+    PointOfUse,
+}
+
+impl PressurePoint {
+    pub const ALL: [PressurePoint; 4] = [
+        PressurePoint::Discharge,
+        PressurePoint::AfterTreatment,
+        PressurePoint::Header,
+        PressurePoint::PointOfUse,
+    ];
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Self::Discharge => "discharge",
+            Self::AfterTreatment => "after_treatment",
+            Self::Header => "header",
+            Self::PointOfUse => "point_of_use",
+        }
+    }
+    pub fn parse(s: &str) -> Option<Self> {
+        Self::ALL.into_iter().find(|p| p.as_str() == s)
+    }
+    /// In words, for pages.
+    pub fn label(self) -> &'static str {
+        match self {
+            Self::Discharge => "compressor discharge",
+            Self::AfterTreatment => "after treatment",
+            Self::Header => "header",
+            Self::PointOfUse => "point of use",
+        }
+    }
+}
+
 #[derive(Debug, Clone, PartialEq)]
 pub struct FrameColumn {
     pub signal: Signal,
     /// Index into the audit's compressors slice, for a channel that belongs to one machine.
     pub compressor: Option<usize>,
+    /// Where a pressure was measured (the header for every other signal).
+    pub point: PressurePoint,
     pub label: String,
     pub values: Vec<f32>,
     /// Bins covered for part of their length (module doc). Empty when every bin is whole or empty.
@@ -313,11 +359,24 @@ impl Frame {
         self.columns.iter().find(|c| c.signal == Signal::Flow && c.compressor == Some(i))
     }
 
-    /// The header pressure: the first pressure column not tied to a compressor, else the first.
+    /// The header pressure: the first pressure column measured in the header and not tied to a
+    /// compressor; else the nearest point to it upstream (after treatment, then a discharge not tied
+    /// to a compressor, then any); else the first pressure column.
     pub fn header_pressure(&self) -> Option<&FrameColumn> {
-        let mut p = self.columns.iter().filter(|c| c.signal == Signal::Pressure);
-        let first = p.clone().next();
-        p.find(|c| c.compressor.is_none()).or(first)
+        let p = || self.columns.iter().filter(|c| c.signal == Signal::Pressure);
+        let at = |pt: PressurePoint| p().find(|c| c.point == pt && c.compressor.is_none());
+        at(PressurePoint::Header)
+            .or_else(|| at(PressurePoint::AfterTreatment))
+            .or_else(|| at(PressurePoint::Discharge))
+            .or_else(|| p().find(|c| c.point != PressurePoint::PointOfUse))
+            .or_else(|| p().next())
+    }
+
+    /// The pressure columns, in the air's order (discharge first, points of use last).
+    pub fn pressure_points(&self) -> Vec<&FrameColumn> {
+        let mut p: Vec<&FrameColumn> = self.columns.iter().filter(|c| c.signal == Signal::Pressure).collect();
+        p.sort_by_key(|c| c.point);
+        p
     }
 
     /// System flow, m³/s free air: the system meters (flow columns not tied to a compressor) summed;
@@ -585,6 +644,7 @@ mod tests {
     fn frame_sums_system_meters_and_finds_the_header() {
         let g = Grid { start_ms: 0, step_ms: 1_000, len: 2 };
         let col = |signal, compressor, v: Vec<f32>| FrameColumn {
+            point: Default::default(),
             signal,
             compressor,
             label: String::new(),

@@ -21,9 +21,22 @@ The physics and the rules used, each with where it comes from:
   [`leaks::orifice_leak`], the compressible-nozzle equation already used for leaks. Zero-loss
   (level-sensing) and float drains lose no air; a drain left open manually is a leak at its full
   orifice flow.
-- **Pressure drop**: not priced here yet. Once pressure points are mapped, a drop is the discharge
-  pressure it forces, priced like a set-point change by the pressure measure's own rule
-  (`recommend::measures::pressure_cut`: 1 % per 2 psi or the isentropic-work ratio).
+- **Refrigerated dryer electricity saved by cycling**: a non-cycling unit draws its kW whatever the
+  load; a cycling or variable one follows the load down to a floor, [`CYCLING_DRYER_FLOOR`] = 0.2 of
+  its kW (fans, controls and the refrigeration circuit's minimum run; common practice, from memory),
+  so it would save kW × (1 − max(load, floor)) (`cycling_saving_kw`).
+- **Filters**: a filter's pressure drop scales about with the square of the flow through it
+  (turbulent flow through the element and housing; common practice, the usual data-sheet
+  correction): the clean drop at flow Q is the data sheet's clean drop at rated flow × (Q /
+  Q_rated)². The measured drop is taken as read at the mean flow through the filter, so its
+  **excess drop** is measured − clean at that flow (never below 0). Every filter on record is taken
+  to sit on the main line and carry the whole mean flow (a stated simplification: filters in series
+  after the compressors). The excess is discharge pressure the compressors make for nothing; it is
+  priced like a set-point change by the pressure measure's own rule
+  (`recommend::pressure_cut_fractions`: 1 % of loaded input per 2 psi, US DOE sourcebook, or the
+  isentropic-work ratio), only on the loaded energy. An element is worth changing when its excess
+  exceeds [`FILTER_CHANGE_ABOVE_BAR`] = 0.1 bar (common practice).
+- **Pressure drop between points**: not priced here yet (pressure points are mapped elsewhere).
 - **Demand split**: production uses + inappropriate uses + purge and drains + leaks + unexplained =
   the metered mean flow; the unexplained part is what is left (negative when the inventory claims
   more air than was metered: the inventory then overstates some use, and the split says so).
@@ -97,6 +110,17 @@ kinds!(
 kinds!(
     /// How a desiccant dryer's cycle is timed (API.md `control`).
     DryerControl { FixedCycle = "fixed_cycle", DewPoint = "dew_point" }
+);
+
+kinds!(
+    /// What a filter takes out (its `kind`, the trade's names).
+    FilterKind {
+        Particulate = "particulate",
+        Coalescing = "coalescing",
+        ActivatedCarbon = "activated_carbon",
+        WaterSeparator = "water_separator",
+        Other = "other",
+    }
 );
 
 kinds!(
@@ -200,7 +224,14 @@ pub struct DryerFigures {
     pub power_kw: f64,
     /// Mean flow through the dryer over its rated flow, 0-1.
     pub load: f64,
+    /// What a cycling or variable unit in place of this non-cycling refrigerated dryer would save,
+    /// mean kW (0 for every other kind): kW × (1 − max(load, [`CYCLING_DRYER_FLOOR`])).
+    pub cycling_saving_kw: f64,
 }
+
+/// The share of its rated kW a cycling or variable refrigerated dryer still draws at light load
+/// (fans, controls, the refrigeration circuit's minimum run; common practice, from memory).
+pub const CYCLING_DRYER_FLOOR: f64 = 0.2;
 
 impl Dryer {
     pub fn validate(&self) -> Result<(), TreatmentError> {
@@ -232,15 +263,21 @@ impl Dryer {
             DryerControl::FixedCycle => full,
             DryerControl::DewPoint => with_control,
         };
+        let cycling_share = load.max(CYCLING_DRYER_FLOOR);
         let power_kw = match self.kind {
-            DryerKind::RefrigeratedCycling => self.power_kw * load,
+            DryerKind::RefrigeratedCycling => self.power_kw * cycling_share,
             _ => self.power_kw,
+        };
+        let cycling_saving_kw = match self.kind {
+            DryerKind::Refrigerated => self.power_kw * (1.0 - cycling_share),
+            _ => 0.0,
         };
         DryerFigures {
             purge: FreeAirFlow::from_m3_min(purge),
             purge_with_dew_point_control: FreeAirFlow::from_m3_min(with_control),
             power_kw,
             load,
+            cycling_saving_kw,
         }
     }
 }
@@ -313,6 +350,82 @@ impl Drain {
         let open = orifice_leak(d_m, line, site.inlet_temperature, cd, site)
             .map_err(|e| TreatmentError::new("orifice_mm", e.to_string()))?;
         Ok(FreeAirFlow::from_m3_min(open.m3_min() * share))
+    }
+}
+
+/// A filter as the user records it: the data sheet's clean drop at rated flow and the drop read
+/// across it (gauges or a differential indicator).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Filter {
+    pub tag: String,
+    pub kind: FilterKind,
+    /// Rated flow, free air.
+    pub rated_flow: FreeAirFlow,
+    /// The data sheet's pressure drop of a clean element at rated flow, bar.
+    pub clean_drop_bar: f64,
+    /// The drop read across the filter, bar (taken at the mean flow through it).
+    pub measured_drop_bar: f64,
+    /// Months between element changes, if the site has a rule.
+    pub element_change_months: Option<f64>,
+    /// What one element change costs (element and labour), in the audit's currency, if known.
+    pub element_cost: Option<f64>,
+}
+
+/// Excess drop above which an element is worth changing, bar (common practice).
+pub const FILTER_CHANGE_ABOVE_BAR: f64 = 0.1;
+
+/// Highest pressure drop accepted on a filter record, bar: beyond it the reading is not a drop
+/// across a filter in service (a gauge pressure typed in the wrong field, most likely).
+pub const MAX_FILTER_DROP_BAR: f64 = 10.0;
+
+/// A filter at a mean flow through it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FilterFigures {
+    /// The clean drop at that flow: clean drop × (flow / rated flow)², bar.
+    pub clean_drop_at_flow_bar: f64,
+    /// Measured − clean at that flow, never below 0, bar.
+    pub excess_drop_bar: f64,
+}
+
+/// A pressure drop at `flow` when it is `drop_rated` at `rated` (drop ∝ flow², common practice).
+pub fn drop_at_flow(drop_rated: f64, rated: FreeAirFlow, flow: FreeAirFlow) -> f64 {
+    let r = flow.m3_min() / rated.m3_min();
+    drop_rated * r * r
+}
+
+impl Filter {
+    pub fn validate(&self) -> Result<(), TreatmentError> {
+        if self.tag.trim().is_empty() {
+            return Err(TreatmentError::new("tag", "a filter needs a tag"));
+        }
+        positive(self.rated_flow.m3_min(), "rated_flow_m3_min")?;
+        for (v, field) in
+            [(self.clean_drop_bar, "clean_drop_bar"), (self.measured_drop_bar, "measured_drop_bar")]
+        {
+            non_negative(v, field)?;
+            if v > MAX_FILTER_DROP_BAR {
+                return Err(TreatmentError::new(
+                    field,
+                    format!("a drop across a filter is at most {MAX_FILTER_DROP_BAR} bar, got {v}"),
+                ));
+            }
+        }
+        if let Some(m) = self.element_change_months {
+            positive(m, "element_change_months")?;
+        }
+        if let Some(c) = self.element_cost {
+            non_negative(c, "element_cost")?;
+        }
+        Ok(())
+    }
+
+    /// The filter at a mean flow `through` it (free air).
+    pub fn figures(&self, through: FreeAirFlow) -> FilterFigures {
+        let clean = drop_at_flow(self.clean_drop_bar, self.rated_flow, through);
+        FilterFigures {
+            clean_drop_at_flow_bar: clean,
+            excess_drop_bar: (self.measured_drop_bar - clean).max(0.0),
+        }
     }
 }
 
@@ -459,11 +572,15 @@ pub struct Records {
     pub dryers: Vec<Dryer>,
     pub drains: Vec<Drain>,
     pub end_uses: Vec<EndUse>,
+    pub filters: Vec<Filter>,
 }
 
 impl Records {
     pub fn is_empty(&self) -> bool {
-        self.dryers.is_empty() && self.drains.is_empty() && self.end_uses.is_empty()
+        self.dryers.is_empty()
+            && self.drains.is_empty()
+            && self.end_uses.is_empty()
+            && self.filters.is_empty()
     }
 }
 
@@ -499,6 +616,39 @@ pub struct DryerFigure {
     /// What dew-point control would save on a fixed-cycle purging dryer (0 otherwise): air and a year's energy.
     pub dew_point_control_saving_m3_min: f64,
     pub dew_point_control_saving_kwh: f64,
+    /// Rated flow, free air, and the mean flow through it over its rated flow (0-1).
+    #[serde(default)]
+    pub rated_flow_m3_min: f64,
+    #[serde(default)]
+    pub load: f64,
+    /// What a cycling or variable unit would save in place of a non-cycling refrigerated dryer
+    /// (0 otherwise): mean kW and a year's energy.
+    #[serde(default)]
+    pub cycling_saving_kw: f64,
+    #[serde(default)]
+    pub cycling_saving_kwh: f64,
+}
+
+/// A filter priced (`summary.transmission.filters`).
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct FilterFigure {
+    pub tag: String,
+    pub kind: String,
+    pub rated_flow_m3_min: f64,
+    /// The mean flow through it (the plant's, see the module doc), free air.
+    pub flow_m3_min: f64,
+    pub clean_drop_bar: f64,
+    pub clean_drop_at_flow_bar: f64,
+    pub measured_drop_bar: f64,
+    pub excess_drop_bar: f64,
+    /// The loaded energy a year the excess drop costs by the pressure rule (`None` until priced on
+    /// the plant's loaded energy, `analysis::transmission`), and its cost.
+    pub annual_kwh: Option<f64>,
+    pub annual_cost: Option<f64>,
+    /// The excess is above [`FILTER_CHANGE_ABOVE_BAR`]: the element is worth changing.
+    pub change_recommended: bool,
+    pub element_change_months: Option<f64>,
+    pub element_cost: Option<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -512,14 +662,22 @@ pub struct DrainFigure {
     pub zero_loss_saving_kwh: f64,
 }
 
-/// The drop from one measuring point to another (API.md); not yet filled (pressure points are not
-/// yet mapped).
+/// The drop from the most upstream pressure point logged to one downstream (API.md; the
+/// analysis' `drops` room): names, the points' kinds, the drop's mean, at peak flow and its
+/// duration curve (exceeded for 0, 5, ..., 100 % of the time), the downstream point's 5th
+/// percentile, and what the drop costs a year at the pressure measure's rule.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct PressureDropFigure {
     pub from: String,
     pub to: String,
     pub mean_bar: f64,
     pub at_peak_flow_bar: Option<f64>,
+    pub from_point: crate::core::series::PressurePoint,
+    pub to_point: crate::core::series::PressurePoint,
+    pub duration_curve_bar: Vec<f64>,
+    pub to_p5_bar_g: f64,
+    pub annual_energy_kwh: f64,
+    pub annual_cost: f64,
 }
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -544,6 +702,8 @@ pub struct Transmission {
     pub drains: Vec<DrainFigure>,
     pub pressure_drops: Vec<PressureDropFigure>,
     pub end_uses: Vec<EndUseFigure>,
+    #[serde(default)]
+    pub filters: Vec<FilterFigure>,
 }
 
 /// The transmission figures and the demand split of an audit's records on its plant. Each dryer
@@ -578,6 +738,31 @@ pub fn figures(
             annual_power_kwh: f.power_kw * run_h,
             dew_point_control_saving_m3_min: purge - f.purge_with_dew_point_control.m3_min(),
             dew_point_control_saving_kwh: kwh(purge - f.purge_with_dew_point_control.m3_min(), run_h),
+            rated_flow_m3_min: d.rated_flow.m3_min(),
+            load: f.load,
+            cycling_saving_kw: f.cycling_saving_kw,
+            cycling_saving_kwh: f.cycling_saving_kw * run_h,
+        });
+    }
+    // Filters sit on the main line: each carries the whole mean flow (module doc).
+    let whole = FreeAirFlow::from_m3_min(plant.mean_flow_m3_min);
+    for x in &records.filters {
+        x.validate()?;
+        let f = x.figures(whole);
+        t.filters.push(FilterFigure {
+            tag: x.tag.clone(),
+            kind: x.kind.as_str().into(),
+            rated_flow_m3_min: x.rated_flow.m3_min(),
+            flow_m3_min: whole.m3_min(),
+            clean_drop_bar: x.clean_drop_bar,
+            clean_drop_at_flow_bar: f.clean_drop_at_flow_bar,
+            measured_drop_bar: x.measured_drop_bar,
+            excess_drop_bar: f.excess_drop_bar,
+            annual_kwh: None,
+            annual_cost: None,
+            change_recommended: f.excess_drop_bar > FILTER_CHANGE_ABOVE_BAR,
+            element_change_months: x.element_change_months,
+            element_cost: x.element_cost,
         });
     }
     for d in &records.drains {

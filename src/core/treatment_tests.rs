@@ -194,6 +194,7 @@ fn plant_figures_by_hand() {
             control: DryerControl::FixedCycle,
         }],
         drains: vec![Drain { kind: DrainKind::ZeroLoss, ..timer(3.0, 5.0, 300.0, None) }],
+        filters: vec![],
         end_uses: vec![
             EndUse {
                 name: "tools".into(),
@@ -244,4 +245,107 @@ fn plant_figures_by_hand() {
     assert!((split.purge_and_drains_m3_min - 1.5).abs() < 1e-12);
     assert!((split.unexplained_m3_min - 3.0).abs() < 1e-12);
     assert!((split.total_m3_min() - 10.0).abs() < 1e-12);
+}
+
+fn filter(clean: f64, measured: f64) -> Filter {
+    Filter {
+        tag: "F1".into(),
+        kind: FilterKind::Coalescing,
+        rated_flow: FreeAirFlow::from_m3_min(10.0),
+        clean_drop_bar: clean,
+        measured_drop_bar: measured,
+        element_change_months: None,
+        element_cost: None,
+    }
+}
+
+#[test]
+fn filter_excess_drop_follows_the_flow_squared_rule_by_hand() {
+    // Drop ∝ flow² (common practice): a filter rated 10 m³/min, 0.10 bar clean, at 8 m³/min drops
+    // 0.10 × (8/10)² = 0.064 bar clean; read at 0.45 bar, its excess is 0.386 bar.
+    let f = filter(0.10, 0.45).figures(FreeAirFlow::from_m3_min(8.0));
+    assert!((f.clean_drop_at_flow_bar - 0.064).abs() < 1e-12, "{}", f.clean_drop_at_flow_bar);
+    assert!((f.excess_drop_bar - 0.386).abs() < 1e-12, "{}", f.excess_drop_bar);
+    // At 12 m³/min, above rating: 0.10 × 1.44 = 0.144 bar clean; 0.45 - 0.144 = 0.306 bar.
+    let f = filter(0.10, 0.45).figures(FreeAirFlow::from_m3_min(12.0));
+    assert!((f.excess_drop_bar - 0.306).abs() < 1e-12);
+    // A drop read below the clean drop at that flow is no excess (a clean element, lightly loaded).
+    assert_eq!(filter(0.10, 0.05).figures(FreeAirFlow::from_m3_min(10.0)).excess_drop_bar, 0.0);
+    // In the transmission figures: the whole mean flow passes the filter; change above 0.1 bar.
+    let records = Records { filters: vec![filter(0.10, 0.45), filter(0.10, 0.15)], ..Default::default() };
+    let plant = PlantFigures {
+        mean_flow_m3_min: 8.0,
+        production_share_of_time: 1.0,
+        annual_running_hours: 8000.0,
+        annual_production_hours: 8000.0,
+        marginal_kw_per_m3_min: 6.0,
+        price_per_kwh: 0.2,
+        line_pressure_bar_g: 7.0,
+        leak_flow_m3_min: None,
+    };
+    let (t, split) = figures(&records, &plant, &sea_level()).unwrap();
+    assert!((t.filters[0].excess_drop_bar - 0.386).abs() < 1e-12);
+    assert!(t.filters[0].change_recommended);
+    // 0.15 - 0.064 = 0.086 bar: under the 0.1 bar threshold.
+    assert!((t.filters[1].excess_drop_bar - 0.086).abs() < 1e-12);
+    assert!(!t.filters[1].change_recommended);
+    // Filters use no air: the whole mean flow stays unexplained.
+    assert!((split.unexplained_m3_min - 8.0).abs() < 1e-12);
+}
+
+#[test]
+fn bad_filters_name_their_field() {
+    let field = |f: Filter| f.validate().unwrap_err().field;
+    assert_eq!(field(filter(-0.1, 0.3)), "clean_drop_bar");
+    assert_eq!(field(filter(0.1, -0.2)), "measured_drop_bar");
+    assert_eq!(field(filter(0.1, f64::NAN)), "measured_drop_bar");
+    // A gauge pressure typed as a drop.
+    assert_eq!(field(filter(0.1, 70.0)), "measured_drop_bar");
+    assert_eq!(
+        field(Filter { rated_flow: FreeAirFlow::from_m3_min(0.0), ..filter(0.1, 0.3) }),
+        "rated_flow_m3_min"
+    );
+    assert_eq!(field(Filter { element_cost: Some(-5.0), ..filter(0.1, 0.3) }), "element_cost");
+    assert_eq!(
+        field(Filter { element_change_months: Some(0.0), ..filter(0.1, 0.3) }),
+        "element_change_months"
+    );
+    assert_eq!(field(Filter { tag: " ".into(), ..filter(0.1, 0.3) }), "tag");
+    let e = FilterKind::parse("sintered", "kind").unwrap_err();
+    assert_eq!(e.field, "kind");
+    assert!(e.message.contains("coalescing"), "{}", e.message);
+}
+
+#[test]
+fn non_cycling_refrigerated_dryer_saving_by_hand() {
+    // 4 kW non-cycling, rated 20 m³/min. At 5 m³/min through it (load 0.25) a cycling unit draws
+    // 4 × 0.25 = 1 kW: 3 kW saved, 24 000 kWh over 8000 h. At 2 m³/min (load 0.10) the floor of
+    // 0.2 holds: 4 × 0.8 = 3.2 kW saved. (Floor: common practice, from memory.)
+    let d = Dryer {
+        tag: "R1".into(),
+        kind: DryerKind::Refrigerated,
+        rated_flow: FreeAirFlow::from_m3_min(20.0),
+        purge_fraction: None,
+        power_kw: 4.0,
+        control: DryerControl::FixedCycle,
+    };
+    assert!((d.figures(FreeAirFlow::from_m3_min(5.0)).cycling_saving_kw - 3.0).abs() < 1e-12);
+    assert!((d.figures(FreeAirFlow::from_m3_min(2.0)).cycling_saving_kw - 3.2).abs() < 1e-12);
+    // The cycling unit itself draws the floor at light load, and has nothing left to save.
+    let cycling = Dryer { kind: DryerKind::RefrigeratedCycling, ..d.clone() };
+    assert!((cycling.figures(FreeAirFlow::from_m3_min(2.0)).power_kw - 0.8).abs() < 1e-12);
+    assert_eq!(cycling.figures(FreeAirFlow::from_m3_min(5.0)).cycling_saving_kw, 0.0);
+    let plant = PlantFigures {
+        mean_flow_m3_min: 5.0,
+        production_share_of_time: 1.0,
+        annual_running_hours: 8000.0,
+        annual_production_hours: 8000.0,
+        marginal_kw_per_m3_min: 6.0,
+        price_per_kwh: 0.2,
+        line_pressure_bar_g: 7.0,
+        leak_flow_m3_min: None,
+    };
+    let (t, _) = figures(&Records { dryers: vec![d], ..Default::default() }, &plant, &sea_level()).unwrap();
+    assert!((t.dryers[0].cycling_saving_kwh - 24_000.0).abs() < 1e-9);
+    assert!((t.dryers[0].load - 0.25).abs() < 1e-12);
 }

@@ -80,7 +80,8 @@ pub fn ms_to_rfc3339(ms: i64) -> String {
 const SITE_COLUMNS: &str = "altitude_m, atmospheric_pressure_kpa_abs, inlet_temperature_c, timezone, \
     electricity_price_per_kwh, demand_charge_per_kw_month, currency, operating_weeks_per_year, \
     operating_hours_per_year, display_units, heating_fuel_price_per_kwh, heater_efficiency, \
-    heating_months, heat_use, grid_co2_kg_per_kwh, fuel_co2_kg_per_kwh, other_volume_m3";
+    heating_months, heat_use, grid_co2_kg_per_kwh, fuel_co2_kg_per_kwh, other_volume_m3, \
+    heating_degree_days_k_day, annual_space_heat_kwh";
 
 fn site_from_row(r: &sqlx::sqlite::SqliteRow) -> SiteRecord {
     let months: String = r.get("heating_months");
@@ -100,6 +101,11 @@ fn site_from_row(r: &sqlx::sqlite::SqliteRow) -> SiteRecord {
         heater_efficiency: r.get("heater_efficiency"),
         heating_months: months.split(',').filter_map(|m| m.trim().parse().ok()).collect(),
         heat_use: r.get("heat_use"),
+        heating_degree_days_k_day: {
+            let d: String = r.get("heating_degree_days_k_day");
+            d.split(',').filter_map(|x| x.trim().parse().ok()).collect()
+        },
+        annual_space_heat_kwh: r.get("annual_space_heat_kwh"),
         grid_co2_kg_per_kwh: r.get("grid_co2_kg_per_kwh"),
         fuel_co2_kg_per_kwh: r.get("fuel_co2_kg_per_kwh"),
         other_volume_m3: r.get("other_volume_m3"),
@@ -110,11 +116,16 @@ fn months_text(m: &[u8]) -> String {
     m.iter().map(|x| x.to_string()).collect::<Vec<_>>().join(",")
 }
 
+/// Degree-days as stored: Rust's shortest round-trip text of each value, comma separated.
+fn degree_days_text(d: &[f64]) -> String {
+    d.iter().map(|x| x.to_string()).collect::<Vec<_>>().join(",")
+}
+
 pub async fn create_audit(pool: &SqlitePool, name: &str, site: &SiteRecord) -> Result<i64, StoreError> {
     let mut tx = begin_write(pool).await?;
     let id = sqlx::query(&format!(
         "INSERT INTO audit (name, created_at, {SITE_COLUMNS}) \
-         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)"
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)"
     ))
     .bind(name)
     .bind(now_rfc3339())
@@ -135,6 +146,8 @@ pub async fn create_audit(pool: &SqlitePool, name: &str, site: &SiteRecord) -> R
     .bind(site.grid_co2_kg_per_kwh)
     .bind(site.fuel_co2_kg_per_kwh)
     .bind(site.other_volume_m3)
+    .bind(degree_days_text(&site.heating_degree_days_k_day))
+    .bind(site.annual_space_heat_kwh)
     .execute(&mut *tx)
     .await?
     .last_insert_rowid();
@@ -156,7 +169,8 @@ pub async fn update_audit(
          inlet_temperature_c = ?, timezone = ?, electricity_price_per_kwh = ?, demand_charge_per_kw_month = ?, \
          currency = ?, operating_weeks_per_year = ?, operating_hours_per_year = ?, display_units = ?, \
          heating_fuel_price_per_kwh = ?, heater_efficiency = ?, heating_months = ?, heat_use = ?, \
-         grid_co2_kg_per_kwh = ?, fuel_co2_kg_per_kwh = ?, other_volume_m3 = ?, revision = revision + 1 \
+         grid_co2_kg_per_kwh = ?, fuel_co2_kg_per_kwh = ?, other_volume_m3 = ?, \
+         heating_degree_days_k_day = ?, annual_space_heat_kwh = ?, revision = revision + 1 \
          WHERE id = ?",
     )
     .bind(name)
@@ -179,6 +193,8 @@ pub async fn update_audit(
     .bind(site.grid_co2_kg_per_kwh)
     .bind(site.fuel_co2_kg_per_kwh)
     .bind(site.other_volume_m3)
+    .bind(degree_days_text(&site.heating_degree_days_k_day))
+    .bind(site.annual_space_heat_kwh)
     .bind(id)
     .execute(&mut *tx)
     .await?;

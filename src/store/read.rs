@@ -10,7 +10,9 @@ use super::chunk;
 use super::rollup::{decode_day, Acc, DAY_MS, HOUR_MS, MINUTE_MS};
 use super::StoreError;
 use crate::core::basis::{Basis, StoredForm};
-use crate::core::series::{Aligner, CounterAligner, Frame, FrameColumn, Grid, Partial, Signal};
+use crate::core::series::{
+    Aligner, CounterAligner, Frame, FrameColumn, Grid, Partial, PressurePoint, Signal,
+};
 use crate::core::units::SiteAir;
 
 /// A channel on the grid: bin means and the partly covered bins (`core::series::FrameColumn`).
@@ -32,6 +34,8 @@ pub struct ChannelInfo {
     pub compressor_tag: Option<String>,
     pub label: String,
     pub unit: String,
+    /// Where a pressure was measured (`None`: not a pressure, or stored before points: the header).
+    pub point: Option<String>,
     pub first_ms: i64,
     pub last_ms: i64,
     pub readings: i64,
@@ -95,7 +99,7 @@ impl ChannelInfo {
 /// The audit's channels that hold complete readings.
 pub async fn channels(pool: &SqlitePool, audit_id: i64) -> Result<Vec<ChannelInfo>, StoreError> {
     let rows = sqlx::query(
-        "SELECT c.id, c.quantity, c.compressor_id, k.tag, c.label, c.unit, \
+        "SELECT c.id, c.quantity, c.compressor_id, k.tag, c.label, c.unit, c.point, \
          min(uc.first_ms) AS first_ms, max(uc.last_ms) AS last_ms, sum(uc.readings) AS readings \
          FROM channel c JOIN upload_channel uc ON uc.channel_id = c.id \
          JOIN upload u ON u.id = uc.upload_id AND u.state = 'complete' \
@@ -144,6 +148,7 @@ pub async fn channels(pool: &SqlitePool, audit_id: i64) -> Result<Vec<ChannelInf
             compressor_tag: r.get("tag"),
             label: r.get("label"),
             unit: r.get("unit"),
+            point: r.get("point"),
             first_ms: r.get("first_ms"),
             last_ms: r.get("last_ms"),
             readings: r.get("readings"),
@@ -249,6 +254,7 @@ pub async fn load_frame(
             _ => Signal::Temperature,
         };
         columns.push(FrameColumn {
+            point: c.point.as_deref().and_then(PressurePoint::parse).unwrap_or_default(),
             signal,
             compressor: c.compressor_id.and_then(|id| compressor_ids.iter().position(|&x| x == id)),
             label: c.name(),

@@ -85,6 +85,8 @@ pub async fn get_audit(State(st): State<AppState>, ApiPath(id): ApiPath<i64>) ->
                 "heater_efficiency": site.heater_efficiency,
                 "heating_months": site.heating_months,
                 "heat_use": site.heat_use,
+                "heating_degree_days_k_day": site.heating_degree_days_k_day,
+                "annual_space_heat_kwh": site.annual_space_heat_kwh,
                 "grid_co2_kg_per_kwh": site.grid_co2_kg_per_kwh,
                 "fuel_co2_kg_per_kwh": site.fuel_co2_kg_per_kwh,
                 "other_volume_m3": site.other_volume_m3,
@@ -684,8 +686,8 @@ pub async fn delete_scenario(
     Ok(StatusCode::NO_CONTENT.into_response())
 }
 
-// Dryers, drains and end uses (API.md "Additions"): one set of handlers, the list named by the
-// route (`/dryers`, `/drains`, `/end-uses`).
+// Dryers, filters, drains and end uses (API.md "Additions"): one set of handlers, the list named by
+// the route (`/dryers`, `/filters`, `/drains`, `/end-uses`).
 
 macro_rules! treatment_routes {
     ($kind:expr, $variant:ident, $input:ident, $list:ident, $add:ident, $put:ident, $del:ident) => {
@@ -726,6 +728,15 @@ macro_rules! treatment_routes {
 use crate::app::treatment::{self, ItemKind, TreatmentInput};
 treatment_routes!(ItemKind::Dryer, Dryer, DryerInput, list_dryers, add_dryer, update_dryer, delete_dryer);
 treatment_routes!(ItemKind::Drain, Drain, DrainInput, list_drains, add_drain, update_drain, delete_drain);
+treatment_routes!(
+    ItemKind::Filter,
+    Filter,
+    FilterInput,
+    list_filters,
+    add_filter,
+    update_filter,
+    delete_filter
+);
 treatment_routes!(
     ItemKind::EndUse,
     EndUse,

@@ -117,6 +117,11 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}/decay-events", get(api::decay_events))
         .route("/audits/{id}/dryers", get(api::list_dryers).post(api::add_dryer))
         .route("/audits/{id}/dryers/{iid}", axum::routing::put(api::update_dryer).delete(api::delete_dryer))
+        .route("/audits/{id}/filters", get(api::list_filters).post(api::add_filter))
+        .route(
+            "/audits/{id}/filters/{iid}",
+            axum::routing::put(api::update_filter).delete(api::delete_filter),
+        )
         .route("/audits/{id}/drains", get(api::list_drains).post(api::add_drain))
         .route("/audits/{id}/drains/{iid}", axum::routing::put(api::update_drain).delete(api::delete_drain))
         .route("/audits/{id}/end-uses", get(api::list_end_uses).post(api::add_end_use))
@@ -177,6 +182,7 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}/treatment", get(pages::treatment::treatment))
         .route("/audits/{id}/treatment/{list}", post(pages::treatment::add))
         .route("/audits/{id}/treatment/{list}/{iid}/delete", post(pages::treatment::remove))
+        .route("/audits/{id}/treatment/{list}/{iid}", post(pages::treatment::update))
         .route("/audits/{id}/report", get(pages::report::report))
         .route("/audits/{id}/findings", get(pages::findings::findings))
         .route("/audits/{id}/findings.css", get(pages::findings::print_css))

@@ -53,6 +53,7 @@
 
   // Quantities as people say them (the mapping's codes are the option values).
   const QUANTITY = { power: "power", energy: "energy counter", current: "current", pressure: "pressure", flow: "flow", temperature: "temperature" };
+  const POINTS = [["discharge", "compressor discharge"], ["after_treatment", "after treatment"], ["header", "header"], ["point_of_use", "point of use"]];
   const ROLE = { header: "names", units: "units", header_upper: "header", skipped: "skipped", preamble: "", blank: "blank", data: "" };
 
   // Marks the preview's rows from the layout fields, so a corrected line number shows at once.
@@ -169,6 +170,14 @@
           A.el("span", { class: "hint" }, "actual volume at the meter: needed to make it free air (a pressure column must be mapped as pressure too)"));
         sync();
       }
+      if (q.value === "pressure") {
+        // Where along the air's way it was measured, and the point's name (ISO 11011: supply,
+        // transmission, demand); the header unless said otherwise.
+        const pt = A.el("select", { class: "point" },
+          ...POINTS.map(([code, words]) => option(code, words, code === (c.point || "header"))));
+        const name = A.el("input", { class: "plabel", type: "text", maxlength: "80", value: c.label || "", placeholder: c.column });
+        details.append(A.el("label", {}, "measured at ", pt), A.el("label", {}, "point's name ", name));
+      }
       if (q.value === "flow" && /^(scfm|Nm3|Sm3)/.test(u.value)) {
         const ref = c.reference || {};
         details.append(num("refp", "reference kPa abs", ref.pressure_kpa_abs), num("reft", "reference \u00b0C", ref.temperature_c));
@@ -207,6 +216,11 @@
         else if (p !== undefined) line.pressure_bar_g = toStored("gauge_pressure", p);
         if (t !== undefined) line.temperature_c = toStored("temperature", t);
         col.line = line;
+      }
+      if (quantity === "pressure") {
+        const pt = row.querySelector(".point"), name = row.querySelector(".plabel");
+        if (pt && pt.value && pt.value !== "header") col.point = pt.value;
+        if (name && name.value.trim()) col.label = name.value.trim();
       }
       const rp = numOr(row, "refp"), rt = numOr(row, "reft");
       if (rp !== undefined && rt !== undefined) col.reference = { pressure_kpa_abs: rp, temperature_c: rt };

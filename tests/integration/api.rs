@@ -377,6 +377,13 @@ fn a_token_guards_every_page_and_endpoint_and_a_cookie_signs_in() {
     for p in ["/audits/1/receivers", "/audits/1/receivers/1/delete"] {
         routes.push(("POST", p.into()));
     }
+    for p in [
+        "/audits/1/treatment/filters",
+        "/audits/1/treatment/dryers/1",
+        "/audits/1/treatment/filters/1/delete",
+    ] {
+        routes.push(("POST", p.into()));
+    }
     let api = [
         ("GET", "/audits"),
         ("POST", "/audits"),
@@ -399,6 +406,10 @@ fn a_token_guards_every_page_and_endpoint_and_a_cookie_signs_in() {
         ("POST", "/audits/1/field-tests"),
         ("DELETE", "/audits/1/field-tests/1"),
         ("GET", "/audits/1/decay-events"),
+        ("GET", "/audits/1/filters"),
+        ("POST", "/audits/1/filters"),
+        ("PUT", "/audits/1/filters/1"),
+        ("DELETE", "/audits/1/filters/1"),
         ("PUT", "/audits/1/costs/repair_leaks"),
         ("GET", "/audits/1/scenarios"),
         ("POST", "/audits/1/scenarios"),
@@ -676,4 +687,80 @@ fn the_data_sheet_comparison_and_part_load_penalty_show_in_both_unit_systems() {
             assert!(text.contains(&format!("part-load penalty {pen:.1} %")), "{page}: penalty {pen:.1} %");
         }
     }
+}
+
+/// The demand charge at two prices, and heat valued by degree-days, over HTTP on a logged week.
+#[test]
+fn the_demand_charge_bills_the_clock_quarter_hour_peak_and_heat_follows_degree_days() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    // A week at 1-minute readings from Monday 2026-05-04 00:00 UTC: C1 draws 40 kW, and 100 kW for
+    // fifteen minutes from 10:07 to 10:21 on the Wednesday.
+    let start = 1_777_852_800i64; // 2026-05-04T00:00:00Z
+    let burst = start + 2 * 86_400 + 10 * 3600 + 7 * 60;
+    let mut csv = String::from("time,C1 kW\n");
+    for i in 0..7 * 1440 {
+        let t = start + i * 60;
+        let kw = if (burst..burst + 15 * 60).contains(&t) { 100 } else { 40 };
+        csv.push_str(&format!("{},{kw}\n", jiff_like_rfc3339(t)));
+    }
+    let mapping = json!({"delimiter": ",", "decimal": ".", "header_line": 1,
+        "timestamp": {"column": "time", "format": "rfc3339", "timezone": "UTC"},
+        "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"}]});
+    let r = s.upload(id, "week.csv", csv.as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let audit = format!("/api/v1/audits/{id}");
+    let summary = || s.get(&format!("{audit}/summary")).json();
+    // The utility's meter averages the clock's quarter hours (common practice of demand metering).
+    // The readings are samples joined by straight lines (the trapezoid rule), so the power climbs
+    // from 40 to 100 kW between 10:06 and 10:07: 10:00-10:15 holds the equivalent of 8.5 minutes at
+    // 100 kW and 6.5 at 40 kW, (850 + 260) / 15 = 74 kW, the week's highest interval (10:15-10:30:
+    // 66 kW). A sliding 15-minute window would bill nearly 100 kW.
+    for rate in [9.5, 15.0] {
+        let r = s.patch_json(&audit, &json!({"site": {"demand_charge_per_kw_month": rate}}));
+        assert_eq!(r.status, 200, "{}", r.text);
+        let sm = summary();
+        let peak = sm["system"]["peak_power_kw"].as_f64().unwrap();
+        assert!((peak - 74.0).abs() < 1e-6, "peak {peak} kW");
+        // Annual demand charge = peak kW × charge per kW-month × 12 (US DOE compressed-air
+        // sourcebook, the cost of compressed air; annual cost = energy × price + demand charge).
+        let dc = sm["baseline"]["annual_demand_charge"].as_f64().expect("demand charge");
+        assert!((dc - 74.0 * rate * 12.0).abs() < 1e-6, "{dc} at {rate}");
+        let energy = sm["baseline"]["annual_energy_cost"].as_f64().unwrap();
+        let cost = sm["baseline"]["annual_cost"].as_f64().unwrap();
+        assert!((cost - (energy + dc)).abs() < 1e-6);
+    }
+
+    // Degree-days replace the heating months: January 620 K·d is the coldest month per day (20),
+    // February 448 / 28 = 16 per day (0.8 of it), the rest none; without the space's annual need
+    // the unit is sized to the coldest month (airledger's stated assumption), so the heat used is
+    // the year's recoverable heat × (31 + 28 × 0.8) / 365 (the days of a common year).
+    let hdd = [620.0, 448.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0];
+    let r = s.patch_json(&audit, &json!({"site": {"heating_degree_days_k_day": hdd}}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let sm = summary();
+    let rec = sm["heat"]["annual_recoverable_kwh"].as_f64().unwrap();
+    let used = sm["heat"]["useful_heat_kwh_per_year"].as_f64().unwrap();
+    assert!((used - rec * (31.0 + 28.0 * 0.8) / 365.0).abs() < 1e-6 * rec, "{used} of {rec}");
+    // With the space's need (kWh of heat a year) shared by degree-days: January's share is
+    // 620 / 1068 of 12,000 = 6,966 kWh, February's 5,034; each month uses no more than that.
+    let r = s.patch_json(&audit, &json!({"site": {"annual_space_heat_kwh": 12_000.0}}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let sm = summary();
+    let month = |m: usize| rec * [31.0, 28.0][m] / 365.0;
+    let want = month(0).min(12_000.0 * 620.0 / 1068.0) + month(1).min(12_000.0 * 448.0 / 1068.0);
+    let used = sm["heat"]["useful_heat_kwh_per_year"].as_f64().unwrap();
+    assert!((used - want).abs() < 1e-6 * rec, "{used} vs {want}");
+    let a = s.get(&audit).json();
+    assert_eq!(a["site"]["heating_degree_days_k_day"].as_array().unwrap().len(), 12);
+    assert_eq!(a["site"]["annual_space_heat_kwh"], 12_000.0);
+    // Eleven months, or a negative one, are refused naming the field.
+    let r = s.patch_json(&audit, &json!({"site": {"heating_degree_days_k_day": vec![1.0; 11]}}));
+    assert_eq!(r.status, 422);
+    assert_eq!(r.json()["error"]["field"], "heating_degree_days_k_day", "{}", r.text);
+    let mut bad = hdd;
+    bad[3] = -5.0;
+    let r = s.patch_json(&audit, &json!({"site": {"heating_degree_days_k_day": bad}}));
+    assert_eq!(r.status, 422);
+    assert!(r.json()["error"]["field"].as_str().unwrap().contains("heating_degree_days_k_day"), "{}", r.text);
 }

@@ -47,7 +47,7 @@ fn pdfinfo() -> &'static str {
 
 /// Every page of an audit (the routes of `src/web/mod.rs` that answer GET with HTML), by a short
 /// name used for screenshots.
-const PAGES: [(&str, &str); 7] = [
+const PAGES: [(&str, &str); 8] = [
     ("index", "/"),
     ("audit", "/audits/1"),
     ("upload", "/audits/1/upload"),
@@ -55,6 +55,7 @@ const PAGES: [(&str, &str); 7] = [
     ("report", "/audits/1/report"),
     ("findings", "/audits/1/findings"),
     ("scenarios", "/audits/1/scenarios"),
+    ("treatment", "/audits/1/treatment"),
 ];
 
 /// Flags that keep Chromium from reaching out to the network or doing background work.
@@ -766,8 +767,16 @@ fn the_upload_page_marks_the_layout_and_imports_markers_as_missing() {
     let rows = marked();
     assert_eq!(class_of(&rows, 5).as_deref(), Some("role-skip"), "{rows}");
     assert_eq!(class_of(&rows, 6).as_deref(), Some("role-first"), "{rows}");
+    // A pressure says where it was measured, in words, and takes the point's name (issue 19).
+    let points = b.js_str(
+        "const tr = document.querySelector('#columns-table tr[data-column=\"Line pressure\"]');
+         return [...tr.querySelectorAll('.point option')].map(o => o.textContent).join('|')",
+    );
+    assert_eq!(points, "compressor discharge|after treatment|header|point of use");
     b.js(
-        "const e = document.getElementById('m-first-data'); e.value = '5'; e.dispatchEvent(new Event('input'));
+        "const tr = document.querySelector('#columns-table tr[data-column=\"Line pressure\"]');
+         tr.querySelector('.point').value = 'point_of_use'; tr.querySelector('.plabel').value = 'line end';
+         const e = document.getElementById('m-first-data'); e.value = '5'; e.dispatchEvent(new Event('input'));
          document.getElementById('import-button').click();",
         json!([]),
     );
@@ -781,6 +790,14 @@ fn the_upload_page_marks_the_layout_and_imports_markers_as_missing() {
     );
     let quality = b.js_str("return document.getElementById('result').textContent");
     assert!(quality.contains("C1 Power: 6 cells with a marker or text read as missing"), "{quality}");
+    let audit = server.get(&format!("/api/v1/audits/{id}")).json();
+    let ch = audit["channels"].as_array().unwrap().iter().find(|c| c["quantity"] == "pressure").cloned();
+    let ch = ch.expect("a pressure channel");
+    assert_eq!(
+        (ch["label"].as_str(), ch["point"].as_str()),
+        (Some("line end"), Some("point_of_use")),
+        "{ch}"
+    );
     b.screenshot("upload-layout-marked");
     let severe = b.severe_logs("/upload");
     assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
@@ -794,6 +811,9 @@ mod units;
 
 #[path = "browser_findings.rs"]
 mod findings;
+
+#[path = "browser_treatment.rs"]
+mod treatment;
 
 /// The report of an audit built from three files that never overlap in time (issue 16) opens with
 /// the sufficiency verdict and its reasons, above the figures, and shows no annual figure: each

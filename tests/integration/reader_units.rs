@@ -150,6 +150,10 @@ fn us_forms_take_us_units_and_an_unchanged_save_moves_nothing() {
         ("inlet_temperature_c".to_string(), "68".to_string()),
         ("display_units".to_string(), "us".to_string()),
         ("atmospheric_pressure_kpa_abs".to_string(), "14.5".to_string()),
+        (
+            "heating_degree_days_k_day".to_string(),
+            "900, 810, 630, 360, 90, 0, 0, 0, 45, 270, 540, 810".to_string(),
+        ),
     ])
     .collect();
     let f: Vec<(&str, &str)> = fields.iter().map(|(k, v)| (k.as_str(), v.as_str())).collect();
@@ -161,6 +165,12 @@ fn us_forms_take_us_units_and_an_unchanged_save_moves_nothing() {
     // 14.5 psia = 99.974 kPa abs (NIST SP 811 psi factor).
     let atm = a["site"]["atmospheric_pressure_kpa_abs"].as_f64().unwrap();
     assert!(close(atm, 14.5 * BAR_PER_PSI * 100.0), "{}", a["site"]);
+    // Degree-days typed in °F·d are stored in K·d: a temperature interval of 1 °F is 1/1.8 K (NIST
+    // SP 811 B.9), so January's 900 °F·d is 500 K·d and September's 45 is 25.
+    let dd = a["site"]["heating_degree_days_k_day"].as_array().unwrap();
+    assert!(close(dd[0].as_f64().unwrap(), 500.0) && close(dd[8].as_f64().unwrap(), 25.0), "{dd:?}");
+    let page = s.get(&format!("/audits/{id}")).text;
+    assert!(page.contains("°F·d") && input_value(&page, "heating_degree_days_k_day").starts_with("900, 810"));
 }
 
 #[test]

@@ -121,7 +121,7 @@ fn treatment_records_are_priced_into_the_summary_and_split_the_demand() {
     for page in ["findings", "report"] {
         let html = s.get(&format!("/audits/{id}/{page}")).text;
         // Grouped as ISO 11011 does: dryers and drains under transmission, end uses under demand.
-        assert!(html.contains("Treatment: dryers and drains"), "{page}");
+        assert!(html.contains("Treatment and pressure drops"), "{page}");
         assert!(html.contains("End uses and the demand split"), "{page}");
         assert!(html.contains("nutrunners &lt;b&gt;") || html.contains("nutrunners &#60;b&#62;"), "{page}");
         assert!(!html.contains("nutrunners <b>"), "{page}: unescaped user text");
@@ -244,4 +244,305 @@ fn the_treatment_page_takes_records_in_the_readers_units() {
     let r = s.post_form(&format!("/audits/{id}/treatment/drains/{did}/delete"), &[("confirm", "on")]);
     assert!(r.status == 303 || r.status == 200, "{}", r.status);
     assert_eq!(s.get(&format!("/api/v1/audits/{id}/drains")).json()["drains"].as_array().unwrap().len(), 0);
+}
+
+/// Pressure at several points: a discharge, a header and a named point of use mapped in one file;
+/// the drops, their cost and the pressure measure's critical point over HTTP.
+#[test]
+fn pressure_points_give_drops_their_cost_and_the_critical_point_of_use() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    // A week at 1-minute readings: C1 always loaded at 50 kW; flow 8 m³/min with 9.5 in every
+    // tenth minute; discharge 7.6 bar(g); header and point of use below it by a drop proportional
+    // to the flow (0.02 and 0.05 bar per m³/min: a pipe's drop grows with flow; linear here so that
+    // the bin means keep it exact).
+    let start = 1_777_852_800i64; // 2026-05-04T00:00:00Z
+    let mut csv = String::from("time,C1 kW,flow m3/min,P1,P2,P3\n");
+    for i in 0..7 * 1440 {
+        let q = if i % 10 == 0 { 9.5 } else { 8.0 };
+        csv.push_str(&format!(
+            "{},50,{q},7.6,{:.4},{:.4}\n",
+            jiff_like_rfc3339(start + i * 60),
+            7.6 - 0.02 * q,
+            7.6 - 0.05 * q
+        ));
+    }
+    let mapping = json!({"delimiter": ",", "decimal": ".", "header_line": 1,
+        "timestamp": {"column": "time", "format": "rfc3339", "timezone": "UTC"},
+        "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"},
+                    {"column": "flow m3/min", "quantity": "flow", "unit": "m3_min"},
+                    {"column": "P1", "quantity": "pressure", "unit": "bar_g", "point": "discharge", "label": "compressor room"},
+                    {"column": "P2", "quantity": "pressure", "unit": "bar_g", "point": "header", "label": "main header"},
+                    {"column": "P3", "quantity": "pressure", "unit": "bar_g", "point": "point_of_use", "label": "press line"}]});
+    // A point on a column that is not a pressure, or an unknown point, is refused by name.
+    let mut bad = mapping.clone();
+    bad["columns"][1]["point"] = json!("header");
+    let r = s.upload(id, "week.csv", csv.as_bytes(), &bad, "");
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert_eq!(r.json()["error"]["field"], "columns[1].point");
+    let mut bad = mapping.clone();
+    bad["columns"][4]["point"] = json!("downstream");
+    let r = s.upload(id, "week.csv", csv.as_bytes(), &bad, "");
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert_eq!(r.json()["error"]["field"], "columns[4].point");
+    let r = s.upload(id, "week.csv", csv.as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let uid = r.json()["upload_id"].as_i64().unwrap();
+    // The remap page offers where each pressure was measured, in words, and its name.
+    let page = s.get(&format!("/audits/{id}/uploads/{uid}/remap")).text;
+    assert!(page.contains("name=\"col4_point\"") && page.contains(">point of use</option>"), "remap page");
+    assert!(page.contains("value=\"press line\""));
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    let drops = sm["transmission"]["pressure_drops"].as_array().expect("drops");
+    assert_eq!(drops.len(), 2, "{drops:?}");
+    let (h, u) = (&drops[0], &drops[1]);
+    assert_eq!((h["from"].as_str(), h["to"].as_str()), (Some("compressor room"), Some("main header")));
+    assert_eq!((h["from_point"].as_str(), u["to_point"].as_str()), (Some("discharge"), Some("point_of_use")));
+    // Mean drop = 0.02 × the mean flow, (9 × 8 + 9.5) / 10 = 8.15 m³/min: 0.163 bar; the point of use
+    // 0.05 × 8.15 = 0.4075 bar.
+    let near = |v: &Value, want: f64, tol: f64| (v.as_f64().unwrap() - want).abs() < tol;
+    assert!(near(&h["mean_bar"], 0.163, 1e-3), "{h}");
+    assert!(near(&u["mean_bar"], 0.4075, 1e-3), "{u}");
+    // At peak flow: the bins are trapezoid means of the readings (the aligner's rule), so each
+    // 9.5 reading makes two bins of (9.5 + 8) / 2 = 8.75 m³/min, the top 20 % of bins and so the
+    // 95th percentile: the drop there is 0.02 × 8.75 = 0.175 bar.
+    assert!(near(&h["at_peak_flow_bar"], 0.175, 1e-3), "{h}");
+    assert_eq!(h["duration_curve_bar"].as_array().unwrap().len(), 21);
+    // Cost: C1 is always loaded, so all its annual energy is delivering energy, and the drop's
+    // worth of discharge pressure costs 1 % of it per 2 psi (US DOE compressed-air sourcebook;
+    // 2 psi = 0.137895 bar by the NIST SP 811 psi factor).
+    let annual = sm["baseline"]["annual_energy_kwh"].as_f64().unwrap();
+    let want = annual * 0.01 * 0.163 / 0.137_895;
+    assert!(near(&h["annual_energy_kwh"], want, want * 0.01), "{} vs {want}", h["annual_energy_kwh"]);
+    let price = sm["baseline"]["electricity_price_per_kwh"].as_f64().unwrap();
+    assert!(near(&h["annual_cost"], h["annual_energy_kwh"].as_f64().unwrap() * price, 1e-6));
+    // The header figures are the header's, not the point of use's: its 5th percentile is
+    // 7.6 - 0.02 × 8.75 = 7.425 bar(g).
+    assert!(near(&sm["pressure"]["p5_bar_g"], 7.425, 2e-3), "{}", sm["pressure"]);
+    // The pressure measure keeps the point of use's 5th percentile (7.6 - 0.05 × 8.75 = 7.1625)
+    // above the low limit (7.5 - 1 = 6.5 bar(g)) plus the transmitter's uncertainty: that is the
+    // critical point, and the set point comes down by 7.1625 - 6.5 - u from the mean header pressure.
+    let lp = sm["recommendations"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|m| m["kind"] == "lower_pressure")
+        .expect("room");
+    assert!(lp["description"].as_str().unwrap().contains("critical point of use (press line)"), "{lp}");
+    let u_bar = sm["pressure"]["uncertainty_bar"].as_f64().unwrap();
+    let mean = sm["pressure"]["mean_bar_g"].as_f64().unwrap();
+    let target = mean - (7.1625 - 6.5 - u_bar);
+    assert!(
+        lp["title"].as_str().unwrap().ends_with(&format!("to {target:.2} bar(g)")),
+        "{} vs {target}",
+        lp["title"]
+    );
+
+    // The report says each drop in words and the reader's units; a US reader sees psi (0.163 bar
+    // = 2.364 psi by the NIST SP 811 psi factor, shown to 0.1 psi).
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    assert!(
+        report.contains("Pressure drop: compressor room (compressor discharge) to main header (header)"),
+        "report rows"
+    );
+    // The report's pressure chart draws every point together, each named with where it was measured.
+    assert!(
+        report.contains("press line (point of use)")
+            && report.contains("compressor room (compressor discharge)")
+    );
+    let r = s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"display_units": "us"}}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let report = s.get(&format!("/audits/{id}/report")).text.replace('\u{a0}', " ");
+    assert!(report.contains("mean 2.4 psi"), "US drop");
+    // Read again with P2 moved to after the treatment under another name, from the page's form:
+    // the header figures then fall back to the nearest point upstream of the header (P2), and the
+    // drops follow.
+    let r = s.post_form(
+        &format!("/audits/{id}/uploads/{uid}/remap"),
+        &[("col3_point", "after_treatment"), ("col3_label", "after the dryer")],
+    );
+    assert_eq!(r.status, 303, "{}", r.text);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    let drops = sm["transmission"]["pressure_drops"].as_array().unwrap();
+    assert_eq!(drops[0]["to"], "after the dryer", "{drops:?}");
+    assert_eq!(drops[0]["to_point"], "after_treatment");
+    assert!(near(&sm["pressure"]["p5_bar_g"], 7.425, 2e-3), "{}", sm["pressure"]);
+}
+
+/// Filters over HTTP: stored, refused naming the field, priced in `summary.transmission.filters` by
+/// the drop ∝ flow² rule and the pressure rule, offered as `filter_change`, edited and deleted; a
+/// non-cycling refrigerated dryer offers `cycling_refrigerated_dryer`, its saving worked by hand.
+#[test]
+fn filters_and_a_non_cycling_dryer_are_priced_edited_and_deleted() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let r = s.upload(id, "cycle.csv", cycling_csv(24).as_bytes(), &cycling_mapping(), "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let path = format!("/api/v1/audits/{id}/filters");
+    let good = json!({"tag": "F1", "kind": "coalescing", "rated_flow_m3_min": 10, "clean_drop_bar": 0.1,
+                      "measured_drop_bar": 0.6, "element_change_months": 12});
+    let r = s.post_json(&path, &good);
+    assert_eq!(r.status, 201, "{}", r.text);
+    let fid = r.json()["id"].as_i64().unwrap();
+    for (body, field) in [
+        (
+            json!({"tag": "F2", "kind": "coalescing", "rated_flow_m3_min": 10, "clean_drop_bar": -0.1, "measured_drop_bar": 0.3}),
+            "clean_drop_bar",
+        ),
+        (
+            json!({"tag": "F2", "kind": "coalescing", "rated_flow_m3_min": 10, "clean_drop_bar": 0.1, "measured_drop_bar": -0.2}),
+            "measured_drop_bar",
+        ),
+        (
+            json!({"tag": "F2", "kind": "sintered", "rated_flow_m3_min": 10, "clean_drop_bar": 0.1, "measured_drop_bar": 0.3}),
+            "kind",
+        ),
+        (
+            json!({"tag": "F2", "kind": "particulate", "rated_flow_m3_min": 10, "clean_drop_bar": 0.1, "measured_drop_bar": 70}),
+            "measured_drop_bar",
+        ),
+        (
+            json!({"tag": "F2", "kind": "particulate", "rated_flow_m3_min": 10, "clean_drop_bar": 0.1, "measured_drop_psi": 3}),
+            "measured_drop_psi",
+        ),
+        (
+            json!({"tag": "F2", "kind": "particulate", "rated_flow_m3_min": 10, "clean_drop_bar": 0.1, "measured_drop_bar": 0.3, "element_cost": -1}),
+            "element_cost",
+        ),
+    ] {
+        let r = s.post_json(&path, &body);
+        assert_eq!(r.status, 422, "{}", r.text);
+        assert_eq!(r.json()["error"]["field"], field, "{}", r.text);
+    }
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/dryers"),
+        &json!({"tag": "R1", "kind": "refrigerated", "rated_flow_m3_min": 20, "power_kw": 4.0}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let list = s.get(&path).json();
+    assert_eq!(list["filters"].as_array().unwrap().len(), 1, "{list}");
+    assert_eq!(list["filters"][0]["element_change_months"], 12.0);
+
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    let f = &sm["transmission"]["filters"][0];
+    let num = |v: &Value| v.as_f64().unwrap_or_else(|| panic!("not a number: {v}"));
+    // By hand: the whole mean flow passes the filter; clean drop 0.1 × (Q / 10)², excess 0.6 - that.
+    let q = num(&sm["system"]["mean_flow_m3_min"]);
+    let clean = 0.1 * (q / 10.0) * (q / 10.0);
+    assert!((num(&f["flow_m3_min"]) - q).abs() < 1e-12, "{f}");
+    assert!((num(&f["clean_drop_at_flow_bar"]) - clean).abs() < 1e-12, "{f}");
+    assert!((num(&f["excess_drop_bar"]) - (0.6 - clean)).abs() < 1e-12, "{f}");
+    assert_eq!(f["change_recommended"], true);
+    // Its cost and the measure use the one pressure rule on the same loaded energy (US DOE
+    // sourcebook, 1 % per 2 psi): the measure alone saves what the figure says the drop costs.
+    let recs = sm["recommendations"].as_array().unwrap();
+    let fc = recs.iter().find(|m| m["kind"] == "filter_change").unwrap_or_else(|| panic!("{recs:?}"));
+    let kwh = num(&f["annual_kwh"]);
+    assert!(kwh > 0.0);
+    assert!((num(&fc["standalone_annual_energy_saving_kwh"]) - kwh).abs() < 1e-6 * kwh, "{fc} vs {f}");
+    let price = num(&sm["baseline"]["electricity_price_per_kwh"]);
+    assert!((num(&f["annual_cost"]) - kwh * price).abs() < 1e-6 * kwh);
+    // No element cost on record: 300 per element (stated default).
+    assert_eq!(num(&fc["implementation_cost"]), 300.0);
+    assert!(fc["caution"].as_str().unwrap().contains("filter housing"), "{fc}");
+    // The refrigerated dryer: 4 kW × (1 - max(Q / 20, 0.2)) × running hours (floor 0.2).
+    let load = (q / 20.0_f64).max(0.2);
+    let want = 4.0 * (1.0 - load) * num(&sm["baseline"]["annual_running_hours"]);
+    let cyc = recs.iter().find(|m| m["kind"] == "cycling_refrigerated_dryer").expect("cycling dryer measure");
+    assert!((num(&cyc["standalone_annual_energy_saving_kwh"]) - want).abs() < 1e-6 * want, "{cyc}");
+    assert_eq!(num(&cyc["implementation_cost"]), 600.0 * 20.0);
+    let d = &sm["transmission"]["dryers"][0];
+    assert!((num(&d["cycling_saving_kwh"]) - want).abs() < 1e-6 * want, "{d}");
+    for page in ["findings", "report"] {
+        let html = s.get(&format!("/audits/{id}/{page}")).text;
+        assert!(html.contains("Filter F1"), "{page}");
+    }
+
+    // Edited: a drop only 0.05 bar above clean is no measure; a bad edit is refused naming its field.
+    let mut edit = good.clone();
+    edit["measured_drop_bar"] = json!(clean + 0.05);
+    let r = s.put_json(&format!("{path}/{fid}"), &edit);
+    assert_eq!(r.status, 200, "{}", r.text);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(sm["transmission"]["filters"][0]["change_recommended"], false);
+    assert!(sm["recommendations"].as_array().unwrap().iter().all(|m| m["kind"] != "filter_change"));
+    edit["measured_drop_bar"] = json!(-1);
+    let r = s.put_json(&format!("{path}/{fid}"), &edit);
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert_eq!(r.json()["error"]["field"], "measured_drop_bar");
+    assert_eq!(s.put_json(&format!("{path}/{}", fid + 100), &good).status, 404);
+    // Deleted.
+    assert_eq!(s.delete(&format!("{path}/{fid}")).status, 204);
+    assert_eq!(s.delete(&format!("{path}/{fid}")).status, 404);
+    assert!(s.get(&path).json()["filters"].as_array().unwrap().is_empty());
+}
+
+/// The page's edit form of a dryer, drawn in US units, saved unchanged keeps the stored SI value to
+/// the bit; a changed field is read in the form's units (NIST SP 811: 1 ft³ = 0.028316846592 m³),
+/// and a bad edit is a 422 naming what is wrong.
+#[test]
+fn the_treatment_page_edits_a_record_without_drift() {
+    let s = Server::start();
+    let r = s.post_json(
+        "/api/v1/audits",
+        &json!({"name": "us plant", "site": {"altitude_m": 0, "display_units": "us"}}),
+    );
+    let id = r.json()["id"].as_i64().unwrap();
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/dryers"),
+        &json!({"tag": "D1", "kind": "heatless_desiccant", "rated_flow_m3_min": 10.3, "purge_fraction": 0.17,
+                "power_kw": 0.3, "control": "fixed_cycle"}),
+    );
+    let did = r.json()["id"].as_i64().unwrap();
+    let page = s.get(&format!("/audits/{id}/treatment")).text;
+    // 10.3 m³/min in cfm to nine figures (NIST SP 811 factor), the purge as a percentage.
+    let cfm = entry_shown(10.3 / 0.028_316_846_592);
+    assert!(page.contains(&format!("value=\"{cfm}\"")), "the edit form shows {cfm} cfm");
+    let form = |rated: &str, purge: &str| {
+        vec![
+            ("entry_units", "us".to_string()),
+            ("tag", "D1".to_string()),
+            ("kind", "heatless_desiccant".to_string()),
+            ("control", "fixed_cycle".to_string()),
+            ("rated_flow_m3_min", rated.to_string()),
+            ("purge_percent", purge.to_string()),
+            ("power_kw", "0.3".to_string()),
+        ]
+    };
+    let post = |fields: Vec<(&str, String)>| {
+        let pairs: Vec<(&str, &str)> = fields.iter().map(|(k, v)| (*k, v.as_str())).collect();
+        s.post_form(&format!("/audits/{id}/treatment/dryers/{did}"), &pairs)
+    };
+    let before = s.get(&format!("/api/v1/audits/{id}/dryers")).json()["dryers"][0].clone();
+    for _ in 0..3 {
+        let r = post(form(&cfm, "17"));
+        assert!(r.status == 303 || r.status == 200, "{} {}", r.status, r.text);
+    }
+    let after = s.get(&format!("/api/v1/audits/{id}/dryers")).json()["dryers"][0].clone();
+    assert_eq!(after, before, "an unchanged save moved the record");
+    assert_eq!(after["rated_flow_m3_min"].as_f64().unwrap().to_bits(), 10.3f64.to_bits());
+    // 400 cfm typed: 400 × 0.028316846592 m³/min.
+    let r = post(form("400", "17"));
+    assert!(r.status == 303 || r.status == 200, "{} {}", r.status, r.text);
+    let d = s.get(&format!("/api/v1/audits/{id}/dryers")).json()["dryers"][0].clone();
+    assert!((d["rated_flow_m3_min"].as_f64().unwrap() - 400.0 * 0.028_316_846_592).abs() < 1e-12, "{d}");
+    assert_eq!(d["purge_fraction"], 0.17);
+    let r = post(form("400", "170"));
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert!(
+        r.text.contains("Purge (share of rated flow): must be between 0 and 1"),
+        "the reason names the field"
+    );
+    assert_eq!(s.post_form(&format!("/audits/{id}/treatment/dryers/{}", did + 50), &[]).status, 404);
+}
+
+/// A number as a form field shows it: nine significant figures, no trailing zeros (`core::entry`).
+fn entry_shown(v: f64) -> String {
+    let decimals = (8 - v.abs().log10().floor() as i32).clamp(0, 15) as usize;
+    let s = format!("{v:.decimals$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
 }

@@ -438,6 +438,31 @@ put(
     pr_inputs,
 )
 
+# -------------------------------------------- filter excess drop, priced like a set-point change
+# A filter rated 10 m3/min with a clean drop of 0.10 bar (data sheet, at rated flow) reads 0.45 bar at
+# a mean flow of 8 m3/min. Drop ~ flow^2 (common practice): clean at 8 m3/min = 0.10 x (8/10)^2 =
+# 0.064 bar, so the excess is 0.386 bar. The header stays at 7.0 bar(g); the discharge falls from
+# 7.386 to 7.0 bar(g) with a new element. Priced on 200 000 kWh/yr of loaded energy (one stage) by
+# the US DOE sourcebook's 1 % per 2 psi (bar to psi by pint) and by the ratio of isentropic work (fluids).
+FILTER_EXCESS_BAR = 0.45 - 0.10 * (8.0 / 10.0) ** 2
+filter_inputs = {"loaded_kwh": PR_LOADED_KWH, "header_bar_g": 7.0, "excess_bar": FILTER_EXCESS_BAR,
+                 "rated_flow_m3_min": 10.0, "clean_drop_bar": 0.10, "measured_drop_bar": 0.45,
+                 "mean_flow_m3_min": 8.0, "t1_k": DS_T1, "p1_pa": DS_P1, "k": K_AIR}
+put(
+    "filter.excess_doe_rule_kwh",
+    PR_LOADED_KWH * 0.01 * Q_(FILTER_EXCESS_BAR, "bar").to("psi").magnitude / 2.0,
+    "kWh",
+    f"US DOE sourcebook rule (1 % per 2 psi) on the excess drop, bar to psi by {PINT}",
+    filter_inputs,
+)
+put(
+    "filter.excess_isentropic_kwh",
+    PR_LOADED_KWH * (1.0 - fluids_w(7.0) / fluids_w(7.0 + FILTER_EXCESS_BAR)),
+    "kWh",
+    f"{FLUIDS} loaded kWh x (1 - isentropic_work_compression(P2=7.0 bar(g)) / the same at 7.386 bar(g))",
+    filter_inputs,
+)
+
 # -------------------------------------------- cost of air: US DOE tip sheet, kW/100 cfm / 6 x price
 # Cost of 1000 ft3 = (kW per 100 cfm) / 6 x price per kWh (US DOE compressed-air tip sheet #1,
 # "Determine the Cost of Compressed Air for Your Plant"); a plant at 6.25 kW/(m3/min) (50 kW, 8 m3/min).

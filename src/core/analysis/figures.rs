@@ -390,6 +390,11 @@ pub struct Summary {
     /// The mean flow split by what uses it; `None` without treatment or end-use records.
     #[serde(default)]
     pub demand_split: Option<crate::core::treatment::DemandSplit>,
+    /// What a change of discharge pressure acts on (the machines' loaded energy a year and stages,
+    /// the plan's pressure rule): the filters' excess drops are priced on it
+    /// (`analysis::transmission`). Kept in memory only, never in the JSON.
+    #[serde(skip)]
+    pub discharge: Option<crate::core::recommend::DischargeBasis>,
     /// Whether the data can carry the annual figures, and the figures withheld (`sufficiency`).
     pub sufficiency: Sufficiency,
     pub methods: Vec<Method>,

@@ -16,7 +16,14 @@ const MONDAY_MS: i64 = 1_772_409_600_000;
 const HOUR_BINS: usize = 360; // 10 s bins
 
 fn col(signal: Signal, compressor: Option<usize>, values: Vec<f32>) -> FrameColumn {
-    FrameColumn { signal, compressor, label: String::new(), values, partial: Vec::new() }
+    FrameColumn {
+        point: Default::default(),
+        signal,
+        compressor,
+        label: String::new(),
+        values,
+        partial: Vec::new(),
+    }
 }
 
 fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame) -> Summary {

@@ -4,9 +4,11 @@ Heat of compression: heat rejected = input - heat carried by the delivered air
 rejected × the share on the cooling path × the recovery unit's effectiveness on it
 (`heat::heat_recoverable`; defaults 0.80 air, 0.75 water, editable per audit, inside the US DOE
 heat-recovery fact sheet's 50-90 %), for the machines that ran only (a standby machine neither
-delivers heat nor sets the unit's size). The annual recoverable heat is spread evenly over the
-months and valued by the site's stored heat use (`site.heat_use`): space heating in the heating
-months only (none given: worth nothing, said in the assumptions), process or boiler water all year;
+delivers heat nor sets the unit's size). The annual recoverable heat is spread over the months by
+their days (`heat::by_month`) and valued by the site's stored heat use (`site.heat_use`): space
+heating in the heating months only (none given: worth nothing, said in the assumptions) or, when the
+site gives each month's heating degree-days, by the degree-day method (`heat::degree_day_use`:
+capped by the space's need when its annual heat need is given); process or boiler water all year;
 the fuel displaced is the heat over the heater's efficiency.
 */
 
@@ -98,6 +100,21 @@ pub(super) struct HeatValue {
     pub no_heating_months: bool,
 }
 
+/// How the recovered heat is counted, in words for the method line.
+pub(super) fn use_words(site: &SiteSpec) -> String {
+    match (site.heat_use, site.heating_degree_days_k_day, site.annual_space_heat_kwh) {
+        (HeatUseKind::ProcessWater, _, _) => "all year, as process or boiler make-up water".into(),
+        (HeatUseKind::SpaceHeating, Some(_), Some(h)) => format!(
+            "as space heat by the month's heating degree-days, up to the space's need ({h:.0} kWh a year \
+             shared by degree-days)"
+        ),
+        (HeatUseKind::SpaceHeating, Some(_), None) => "as space heat by the month's heating degree-days, \
+             the unit sized to the coldest month's mean load (the space's annual need not given)"
+            .into(),
+        (HeatUseKind::SpaceHeating, None, _) => "as space heat in the heating months".into(),
+    }
+}
+
 /// Heat value (module doc).
 pub(super) fn heat_value(site: &SiteSpec, per_compressor: &[CompressorHeat]) -> HeatValue {
     let (mut heat_rej, mut heat_rec, mut heat_rej_y, mut heat_rec_y, mut rec_kw) = (0.0, 0.0, 0.0, 0.0, 0.0);
@@ -108,10 +125,15 @@ pub(super) fn heat_value(site: &SiteSpec, per_compressor: &[CompressorHeat]) -> 
         heat_rec_y += h.annual_recoverable_kwh;
         rec_kw += h.recoverable_kw;
     }
-    let monthly = [heat_rec_y / 12.0; 12];
+    let monthly = heat::by_month(heat_rec_y);
     let use_kind = site.heat_use;
-    let use_ = HeatUse { kind: use_kind, heating_months: site.heating_months.clone() };
-    let process = HeatUse { kind: HeatUseKind::ProcessWater, heating_months: vec![] };
+    let use_ = HeatUse {
+        kind: use_kind,
+        heating_months: site.heating_months.clone(),
+        degree_days_k_day: site.heating_degree_days_k_day,
+        annual_space_heat_kwh: site.annual_space_heat_kwh,
+    };
+    let process = HeatUse { kind: HeatUseKind::ProcessWater, ..Default::default() };
     let v = heat::recovered_value(&monthly, &use_, site.heater_efficiency, site.heating_fuel_price_per_kwh);
     let p =
         heat::recovered_value(&monthly, &process, site.heater_efficiency, site.heating_fuel_price_per_kwh);
@@ -147,6 +169,8 @@ pub(super) fn heat_value(site: &SiteSpec, per_compressor: &[CompressorHeat]) -> 
                 .collect(),
             used_share,
         }),
-        no_heating_months: use_kind == HeatUseKind::SpaceHeating && site.heating_months.is_empty(),
+        no_heating_months: use_kind == HeatUseKind::SpaceHeating
+            && site.heating_months.is_empty()
+            && site.heating_degree_days_k_day.is_none(),
     }
 }

@@ -31,6 +31,7 @@ mod calendar;
 mod control;
 mod decay;
 mod demand;
+mod drops;
 mod figures;
 #[cfg(test)]
 mod guard_tests;
@@ -65,7 +66,8 @@ pub use uncertainty::Accuracy;
 use super::display::{self, Fmt};
 use super::model::{CompressorSpec, SiteSpec, WeeklySchedule};
 use super::recommend::{self, ControlCase, CostOverrides, RecommendInput};
-use super::series::{integrate, Frame};
+use super::series::{integrate, Frame, PressurePoint};
+use super::treatment::PressureDropFigure;
 use super::units::{kw_per_100cfm, SiteAir, UnitSystem};
 
 use baseline::CellSums;
@@ -182,6 +184,8 @@ pub struct DataFigures {
     control: Option<ControlCells>,
     /// `uncertainty_bar` is set by [`summary_of`].
     pressure: PressureFigures,
+    /// The drops from the most upstream pressure point to each point downstream.
+    drops: Vec<drops::DropStats>,
     demand: Demand,
     coverage: Coverage,
     overlap: sufficiency::Overlap,
@@ -268,6 +272,7 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
         running_cells,
         control,
         pressure: pressure_fig,
+        drops: drops::drops(frame, q, atm),
         demand,
         coverage,
         overlap,
@@ -392,12 +397,19 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         "recoverable_kwh",
         &format!(
             "heat rejected × share on the cooling path × recovery effectiveness ({:.2} air, {:.2} water), \
-             machines that ran; valued as fuel displaced in the months of use ({})",
+             machines that ran; valued as fuel displaced {}",
             input.costs.options.heat_recovery_effectiveness_air,
             input.costs.options.heat_recovery_effectiveness_water,
-            site.heat_use.as_str()
+            heat::use_words(site)
         ),
-        "US DOE heat-recovery fact sheet (a unit recovers 50-90 % of the heat)",
+        if site.heat_use == crate::core::heat::HeatUseKind::SpaceHeating
+            && site.heating_degree_days_k_day.is_some()
+        {
+            "US DOE heat-recovery fact sheet (a unit recovers 50-90 % of the heat); ASHRAE Handbook, \
+             Fundamentals, degree-day method (heating load ∝ heating degree-days)"
+        } else {
+            "US DOE heat-recovery fact sheet (a unit recovers 50-90 % of the heat)"
+        },
     ));
 
     let leaks = leaks::leak_figures(
@@ -467,6 +479,47 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         rel(baseline.annual_energy_kwh_high, baseline.annual_energy_kwh),
     );
     let credible_p5 = pressure_fig.p5_bar_g.filter(|_| credible_mean_pressure.is_some());
+    let points_of_use: Vec<(String, f64)> = d
+        .drops
+        .iter()
+        .filter(|x| x.to_point == PressurePoint::PointOfUse && credible_mean_pressure.is_some())
+        .map(|x| (x.to.clone(), x.to_p5_bar_g))
+        .collect();
+    let pressure_drops: Vec<PressureDropFigure> = d
+        .drops
+        .iter()
+        .map(|x| {
+            let kwh = recommend::pressure_drop_kwh(
+                &site.air,
+                cs,
+                &machines,
+                input.costs.options.pressure_rule,
+                x.from_mean_bar_g,
+                x.mean_bar,
+            );
+            PressureDropFigure {
+                from: x.from.clone(),
+                to: x.to.clone(),
+                mean_bar: x.mean_bar,
+                at_peak_flow_bar: x.at_peak_flow_bar,
+                from_point: x.from_point,
+                to_point: x.to_point,
+                duration_curve_bar: x.duration_bar.clone(),
+                to_p5_bar_g: x.to_p5_bar_g,
+                annual_energy_kwh: kwh,
+                annual_cost: kwh * site.electricity_price_per_kwh,
+            }
+        })
+        .collect();
+    if !pressure_drops.is_empty() {
+        methods.push(method(
+            "transmission.pressure_drops",
+            "drop = upstream − downstream pressure bin by bin; at peak flow: mean over the bins at or above the \
+             95th-percentile flow; cost = loaded energy × (1 % per 2 psi | isentropic-work ratio) for the mean drop",
+            "US DOE compressed-air sourcebook (1 % of input per 2 psi; a well-designed system loses well under 10 % \
+             of the discharge pressure on its way to the points of use)",
+        ));
+    }
     let recs = recommend::recommend(
         &RecommendInput {
             site,
@@ -485,6 +538,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             p5_pressure_bar_g: credible_p5,
             pressure_uncertainty_bar: pressure_fig.uncertainty_bar,
             low_limit_bar_g: pressure_fig.low_limit_bar_g,
+            points_of_use,
             control: d.control.as_ref().map(|c| ControlCase {
                 logged_annual_kwh: c.logged.annual(annual.rule) / 1000.0,
                 modelled_annual_kwh: c.modelled.annual(annual.rule) / 1000.0,
@@ -582,8 +636,13 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         heat: heat.figures,
         recommendations: recs,
         measures_total,
-        transmission: Default::default(),
+        transmission: crate::core::treatment::Transmission { pressure_drops, ..Default::default() },
         demand_split: None,
+        discharge: Some(recommend::DischargeBasis {
+            machines: cs.iter().zip(&machines).map(|(c, m)| (c.stages, m.annual_delivering_kwh)).collect(),
+            rule: input.costs.options.pressure_rule,
+            air: site.air,
+        }),
         sufficiency,
         methods,
         assumptions,

@@ -31,7 +31,14 @@ fn reference_value(name: &str) -> f64 {
 pub(super) const MONDAY_MS: i64 = 1_772_409_600_000;
 
 pub(super) fn col(signal: Signal, compressor: Option<usize>, values: Vec<f32>) -> FrameColumn {
-    FrameColumn { signal, compressor, label: String::new(), values, partial: vec![] }
+    FrameColumn {
+        point: Default::default(),
+        signal,
+        compressor,
+        label: String::new(),
+        values,
+        partial: vec![],
+    }
 }
 
 pub(super) fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame, leaks: Vec<LeakEstimate>) -> Summary {
@@ -656,10 +663,21 @@ fn heat_is_valued_by_the_stored_heat_use_on_the_machines_that_ran() {
         "{}",
         r.heat.recoverable_kw_at_full_load
     );
-    // Space heating in 6 of 12 months: half the recoverable heat is used.
+    // Space heating in January to March and October to December: the heat of those months' days,
+    // 31 + 28 + 31 + 31 + 30 + 31 = 182 of a common year's 365.
     let rec_y = r.heat.annual_recoverable_kwh.unwrap();
-    assert!((r.heat.useful_heat_kwh_per_year.unwrap() - rec_y * 0.5).abs() < 1e-6 * rec_y);
+    assert!((r.heat.useful_heat_kwh_per_year.unwrap() - rec_y * 182.0 / 365.0).abs() < 1e-6 * rec_y);
     assert!(r.recommendations.iter().any(|m| m.kind == MeasureKind::RecoverHeat));
+    // With heating degree-days (K·d, January first) and no annual need: each month's share is its
+    // degree-days per day over the coldest month's (January, 620 / 31 = 20 per day). By hand:
+    // January 1, February 448/28 = 16 → 0.8, November 300/30 = 10 → 0.5, the rest none:
+    // (31 × 1 + 28 × 0.8 + 30 × 0.5) / 365 of the year's heat.
+    let mut dd = s.clone();
+    dd.heating_degree_days_k_day = Some([620.0, 448.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 300.0, 0.0]);
+    let rd = run(&dd, &cs, &frame, vec![]);
+    let share = (31.0 + 28.0 * 0.8 + 30.0 * 0.5) / 365.0;
+    assert!((rd.heat.useful_heat_kwh_per_year.unwrap() - rec_y * share).abs() < 1e-6 * rec_y);
+    assert!(rd.methods.iter().any(|m| m.source.contains("degree-day")), "{:?}", rd.methods);
     // Space heating with no heating months: worth nothing, and said.
     s.heating_months.clear();
     let r = run(&s, &cs, &frame, vec![]);

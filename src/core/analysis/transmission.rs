@@ -1,6 +1,7 @@
 //! The treatment and end-use figures of a priced summary (`core::treatment`): what the plant's
 //! analysis knows (mean flow, production share, running hours, the marginal specific power, the
-//! line pressure, the adopted leak flow) applied to the records on file.
+//! line pressure, the adopted leak flow) applied to the records on file; the filters' excess drops
+//! are priced on the machines' loaded energy by the pressure measure's rule (`Summary::discharge`).
 
 use super::figures::{Method, Summary};
 use crate::core::recommend::TreatmentCuts;
@@ -41,8 +42,11 @@ pub fn apply(s: &mut Summary, records: &Records, site: &SiteAir) {
     }
     let (plant, assumed) = plant_of(s);
     match treatment::figures(records, &plant, site) {
-        Ok((t, split)) => {
+        Ok((mut t, split)) => {
+            price_filters(&mut t, s, &plant);
+            let drops = std::mem::take(&mut s.transmission.pressure_drops);
             s.transmission = t;
+            s.transmission.pressure_drops = drops;
             if split.over_explained() {
                 s.warnings.push(format!(
                     "the end uses, purge, drains and leaks on record add up to {:.2} m³/min more than the \
@@ -75,6 +79,22 @@ pub fn apply(s: &mut Summary, records: &Records, site: &SiteAir) {
         "orifice flow at line pressure (compressible nozzle, sharp edge Cd 0.61) × open time / interval",
         "orifice discharge of air (the leak calculator's equation); timer drains blow whether or not there is condensate: common practice",
     ));
+    if !records.filters.is_empty() {
+        s.methods.push(m(
+            "transmission.filters",
+            "excess drop = measured drop - clean drop × (mean flow / rated flow)² (the measured drop read at the mean flow, \
+             every filter on the main line); its cost = the loaded energy × 1 % per 2 psi of it (or the ratio of isentropic \
+             work, as the plan says), the header pressure unchanged",
+            "US DOE compressed-air sourcebook (1 % of input per 2 psi; pressure drop); drop ∝ flow²: common practice",
+        ));
+    }
+    if records.dryers.iter().any(|d| d.kind == treatment::DryerKind::Refrigerated) {
+        s.methods.push(m(
+            "transmission.dryers.cycling_saving_kwh",
+            "non-cycling refrigerated dryer: kW × (1 - max(mean flow through it / rated flow, 0.2)) × running hours",
+            "data-sheet kW; cycling units following the load down to 0.2 of their kW: common practice, from memory",
+        ));
+    }
     s.methods.push(m(
         "demand_split",
         "production and inappropriate uses (count × air per use × duty × production share) + purge and drains + \
@@ -83,14 +103,45 @@ pub fn apply(s: &mut Summary, records: &Records, site: &SiteAir) {
     ));
 }
 
-/// What the priced records offer the measures: the purge dew-point control would save, the drains'
-/// air, and the inappropriate uses that have an electric alternative on record.
-pub fn cuts(t: &Transmission) -> TreatmentCuts {
-    let mut c = TreatmentCuts::default();
+/// Price each filter's excess drop on the plant's loaded energy by the pressure rule
+/// (`recommend::DischargeBasis`), at the line pressure; left `None` when the summary withholds its
+/// annual figures or has no machine.
+fn price_filters(t: &mut Transmission, s: &Summary, plant: &PlantFigures) {
+    let Some(basis) = s.discharge.as_ref().filter(|_| s.baseline.annual_energy_kwh.is_some()) else {
+        return;
+    };
+    for f in &mut t.filters {
+        let (kwh, _) = basis.drop_kwh(plant.line_pressure_bar_g, f.excess_drop_bar);
+        f.annual_kwh = Some(kwh);
+        f.annual_cost = Some(kwh * plant.price_per_kwh);
+    }
+}
+
+/// What the priced records offer the measures: the purge dew-point control would save, the kW a
+/// cycling unit would save on each non-cycling refrigerated dryer, the filters whose excess drop is
+/// worth an element change, the drains' air, and the inappropriate uses that have an electric
+/// alternative on record. `line_pressure_bar_g` is the filter measure's pressure when no credible
+/// header pressure is logged.
+pub fn cuts(t: &Transmission, line_pressure_bar_g: f64) -> TreatmentCuts {
+    let mut c = TreatmentCuts { line_pressure_bar_g, ..Default::default() };
     for d in &t.dryers {
         if d.dew_point_control_saving_m3_min > 0.0 {
             c.dew_point_m3_min += d.dew_point_control_saving_m3_min;
             c.dew_point_dryers += 1;
+        }
+        if d.cycling_saving_kw > 0.0 {
+            c.cycling_saving_kw += d.cycling_saving_kw;
+            c.non_cycling_kw += d.power_kw;
+            c.non_cycling_rated_m3_min += d.rated_flow_m3_min;
+            c.non_cycling_dryers += 1;
+        }
+    }
+    for f in t.filters.iter().filter(|f| f.change_recommended) {
+        c.filter_excess_bar += f.excess_drop_bar;
+        c.filters_to_change += 1;
+        match f.element_cost {
+            Some(cost) => c.filter_recorded_cost += cost,
+            None => c.filters_without_cost += 1,
         }
     }
     for d in &t.drains {
@@ -116,7 +167,7 @@ pub fn first_pass(s: &Summary, records: &Records, site: &SiteAir) -> (f64, Treat
     }
     let (plant, _) = plant_of(s);
     match treatment::figures(records, &plant, site) {
-        Ok((t, split)) => (split.purge_and_drains_m3_min, cuts(&t)),
+        Ok((t, split)) => (split.purge_and_drains_m3_min, cuts(&t, plant.line_pressure_bar_g)),
         Err(_) => (0.0, TreatmentCuts::default()),
     }
 }

@@ -4,14 +4,14 @@ plant left by the measures stacked before it (`stack`). Each returns its draft a
 leaves behind; `finish` costs a draft and gives its payback.
 */
 
-use crate::core::model::Control;
+use crate::core::model::{CompressorSpec, Control};
 use crate::core::safety;
 use crate::core::thermo;
-use crate::core::units::PressureAbs;
+use crate::core::units::{PressureAbs, SiteAir};
 
-use super::text::{bar_g, flow, specific, Part};
+use super::text::{bar_g, flow, pressure_drop, specific, Part};
 use super::{
-    CostContext, MeasureKind, PressureRule, RecommendInput, BAR_PER_2_PSI, PART_LOAD_SLOPE_REL,
+    CostContext, MachineUse, MeasureKind, PressureRule, RecommendInput, BAR_PER_2_PSI, PART_LOAD_SLOPE_REL,
     REPLACE_ABOVE_DATASHEET,
 };
 
@@ -232,14 +232,16 @@ pub(super) fn repair_leaks(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plan
     Some((draft, next))
 }
 
-/// The fractional cut of loaded energy for one machine from `p_now` to `p_target` (bar(g)) by each
-/// rule: (1 %/2 psi, isentropic-work ratio).
-pub(super) fn pressure_cut(r: &RecommendInput, stages: u32, p_now: f64, p_target: f64) -> (f64, f64) {
-    let atm = r.site.air.atmosphere;
+/// The fractional cut of loaded energy for one machine of `stages` from `p_now` to `p_target`
+/// (bar(g)) at the site's air, by each rule: (1 % per 2 psi, US DOE sourcebook; the ratio of
+/// isentropic work, ideal gas k = 1.4). The one pressure rule of the pressure measure, the filter
+/// measure and the filters' figures.
+pub fn pressure_cut_fractions(air: &SiteAir, stages: u32, p_now: f64, p_target: f64) -> (f64, f64) {
+    let atm = air.atmosphere;
     let doe = 0.01 * (p_now - p_target) / BAR_PER_2_PSI;
     let w = |bar: f64| {
         thermo::staged_isentropic_work_per_kg(
-            r.site.air.inlet_temperature,
+            air.inlet_temperature,
             PressureAbs::from_bar_g(bar, atm).0 / atm.0,
             stages,
         )
@@ -249,33 +251,59 @@ pub(super) fn pressure_cut(r: &RecommendInput, stages: u32, p_now: f64, p_target
     (doe.clamp(0.0, 1.0), isen.clamp(0.0, 1.0))
 }
 
-pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
-    let opts = &r.costs.options;
-    let (Some(p_now), Some(p5)) = (p.pressure_bar_g, p.p5_bar_g) else { return None };
-    let critical = opts.critical_pressure().or(r.low_limit_bar_g).unwrap_or(0.0).max(0.0);
-    let margin = r.pressure_uncertainty_bar.max(0.0);
-    // The step keeps the 5th percentile, shifted down by it, above the critical pressure plus the
-    // transmitter's uncertainty; never past an auditor's target, never below the plant's low limit
-    // nor 0 bar(g).
-    let mut step = p5 - (critical + margin);
-    if let Some(t) = opts.target_pressure_bar_g {
-        step = step.min(p_now - t);
+/// What a pressure drop costs a year, kWh: the compressors make `drop_bar` more discharge pressure
+/// than the point downstream of them holds, on all their loaded (delivering) energy, priced by the
+/// pressure measure's own rule (1 % of input per 2 psi, US DOE sourcebook, or the ratio of
+/// isentropic work) from `p_from_bar_g` down by the drop.
+pub fn pressure_drop_kwh(
+    air: &SiteAir,
+    compressors: &[CompressorSpec],
+    machines: &[MachineUse],
+    rule: PressureRule,
+    p_from_bar_g: f64,
+    drop_bar: f64,
+) -> f64 {
+    if drop_bar.is_nan() || drop_bar <= 0.0 {
+        return 0.0;
     }
-    step = step.min(p_now - r.low_limit_bar_g.unwrap_or(0.0).max(0.0)).min(p_now);
-    if step.is_nan() || step <= 0.0 {
-        return None;
-    }
-    let target = p_now - step;
-    let mut next = p.clone();
-    let (mut chosen, mut other) = (0.0, 0.0);
-    let mut delivering = 0.0;
+    compressors
+        .iter()
+        .zip(machines)
+        .map(|(c, m)| {
+            let (doe, isen) = pressure_cut_fractions(air, c.stages, p_from_bar_g, p_from_bar_g - drop_bar);
+            m.annual_delivering_kwh
+                * match rule {
+                    PressureRule::OnePercentPerTwoPsi => doe,
+                    PressureRule::IsentropicWork => isen,
+                }
+        })
+        .sum()
+}
+
+/// [`pressure_cut_fractions`] at the audit's site.
+pub(super) fn pressure_cut(r: &RecommendInput, stages: u32, p_now: f64, p_target: f64) -> (f64, f64) {
+    pressure_cut_fractions(&r.site.air, stages, p_now, p_target)
+}
+
+/// The loaded energy a discharge pressure from `p_now` to `p_target` saves on `p`, taken off `next`:
+/// (by the plan's rule, by the other rule, the loaded energy it acted on), kWh/yr. `next`'s power
+/// per unit of air falls by the single-stage fraction of the plan's rule.
+fn scale_loaded(
+    r: &RecommendInput,
+    p: &Plant,
+    next: &mut Plant,
+    p_now: f64,
+    p_target: f64,
+) -> (f64, f64, f64) {
+    let rule = r.costs.options.pressure_rule;
+    let pick = |(doe, isen): (f64, f64)| match rule {
+        PressureRule::OnePercentPerTwoPsi => (doe, isen),
+        PressureRule::IsentropicWork => (isen, doe),
+    };
+    let (mut chosen, mut other, mut delivering) = (0.0, 0.0, 0.0);
     for (i, c) in r.compressors.iter().enumerate() {
         let d = p.delivering_kwh.get(i).copied().unwrap_or(0.0);
-        let (doe, isen) = pressure_cut(r, c.stages, p_now, target);
-        let (a, b) = match opts.pressure_rule {
-            PressureRule::OnePercentPerTwoPsi => (doe, isen),
-            PressureRule::IsentropicWork => (isen, doe),
-        };
+        let (a, b) = pick(pressure_cut(r, c.stages, p_now, p_target));
         chosen += d * a;
         other += d * b;
         delivering += d;
@@ -288,12 +316,39 @@ pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pl
             next.trim_above_idle_np_kwh *= 1.0 - a;
         }
     }
-    let (doe1, isen1) = pressure_cut(r, 1, p_now, target);
-    let frac = match opts.pressure_rule {
-        PressureRule::OnePercentPerTwoPsi => doe1,
-        PressureRule::IsentropicWork => isen1,
-    };
-    next.power_factor *= 1.0 - frac;
+    next.power_factor *= 1.0 - pick(pressure_cut(r, 1, p_now, p_target)).0;
+    (chosen, other, delivering)
+}
+
+pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
+    let opts = &r.costs.options;
+    let (Some(p_now), Some(p5)) = (p.pressure_bar_g, p.p5_bar_g) else { return None };
+    let critical = opts.critical_pressure().or(r.low_limit_bar_g).unwrap_or(0.0).max(0.0);
+    let margin = r.pressure_uncertainty_bar.max(0.0);
+    // The step keeps the 5th percentile, shifted down by it, above the critical pressure plus the
+    // transmitter's uncertainty; never past an auditor's target, never below the plant's low limit
+    // nor 0 bar(g).
+    let mut step = p5 - (critical + margin);
+    // A logged point of use keeps its own 5th percentile, shifted down by the step, above the same
+    // need: the critical point of use is the one with the least room.
+    let mut binding: Option<(&str, f64)> = None;
+    for (label, p5_use) in &r.points_of_use {
+        let room = p5_use - (critical + margin);
+        if room < step {
+            step = room;
+            binding = Some((label.as_str(), *p5_use));
+        }
+    }
+    if let Some(t) = opts.target_pressure_bar_g {
+        step = step.min(p_now - t);
+    }
+    step = step.min(p_now - r.low_limit_bar_g.unwrap_or(0.0).max(0.0)).min(p_now);
+    if step.is_nan() || step <= 0.0 {
+        return None;
+    }
+    let target = p_now - step;
+    let mut next = p.clone();
+    let (chosen, other, delivering) = scale_loaded(r, p, &mut next, p_now, target);
     // Unregulated demand and leaks fall with the header's absolute pressure.
     let p_abs = p_now + r.site.air.atmosphere.0 / 1e5;
     let q_unreg = p.unregulated_m3_min + p.leak_m3_min;
@@ -320,13 +375,22 @@ pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pl
     let draft = Draft {
         kind: MeasureKind::LowerPressure,
         title: text!["Lower the header pressure from ", bar_g(p_now), " to ", bar_g(target)],
-        description: text![
-            "Lower the compressors' set points in steps while watching the pressure at the farthest point of use; the logged 5th percentile then stays at ",
-            bar_g(p5 - step),
-            ", above the critical end use's ",
-            bar_g(critical),
-            " plus the transmitter's uncertainty."
-        ],
+        description: match binding {
+            Some((label, p5_use)) => text![
+                format!("Lower the compressors' set points in steps while watching the pressure at the critical point of use ({label}); its logged 5th percentile then stays at "),
+                bar_g(p5_use - step),
+                ", above the critical end use's ",
+                bar_g(critical),
+                " plus the transmitter's uncertainty."
+            ],
+            None => text![
+                "Lower the compressors' set points in steps while watching the pressure at the farthest point of use; the logged 5th percentile then stays at ",
+                bar_g(p5 - step),
+                ", above the critical end use's ",
+                bar_g(critical),
+                " plus the transmitter's uncertainty."
+            ],
+        },
         saving_kwh: saving,
         low_kwh,
         high_kwh,
@@ -335,6 +399,13 @@ pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pl
         cost_ctx: CostContext::default(),
         basis: vec![
             text!["mean header pressure ", bar_g(p_now), ", 5th percentile ", bar_g(p5)],
+            match binding {
+                Some((label, p5_use)) => {
+                    text![format!("critical point of use {label}: 5th percentile "), bar_g(p5_use), " (logged)"]
+                }
+                None if r.points_of_use.is_empty() => text!["no point of use logged: the header's 5th percentile sets the step"],
+                None => text!["the points of use logged keep more room than the header"],
+            },
             text![
                 "critical end use ",
                 bar_g(critical),
@@ -829,4 +900,111 @@ pub(super) fn replace_inappropriate_uses(r: &RecommendInput, p: &Plant) -> Optio
             method: "air not made in production at the trim's part-load slope, less the alternatives' electricity; range from the slope and the annual hours",
         },
     )
+}
+
+pub(super) fn filter_change(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
+    let c = &r.treatment;
+    let step = c.filter_excess_bar;
+    if step.is_nan() || step <= 0.0 || c.filters_to_change == 0 {
+        return None;
+    }
+    // The header keeps its pressure; the discharge comes down by the excess drops.
+    let p_header = p.pressure_bar_g.unwrap_or(c.line_pressure_bar_g);
+    let mut next = p.clone();
+    let (chosen, other, delivering) = scale_loaded(r, p, &mut next, p_header + step, p_header);
+    let (lo_rule, hi_rule) = if chosen > 0.0 {
+        ((chosen - other).max(0.0) / chosen, (other - chosen).max(0.0) / chosen)
+    } else {
+        (0.0, 0.0)
+    };
+    let (lo, hi) = (quad(&[lo_rule, r.annual_energy_rel_low]), quad(&[hi_rule, r.annual_energy_rel_high]));
+    let (low_kwh, high_kwh) = band(chosen, lo, hi);
+    let rule = match r.costs.options.pressure_rule {
+        PressureRule::OnePercentPerTwoPsi => "1 % of loaded input per 2 psi",
+        PressureRule::IsentropicWork => "the ratio of isentropic work",
+    };
+    let draft = Draft {
+        kind: MeasureKind::FilterChange,
+        title: text![
+            format!("Change {} filter element(s): the discharge pressure comes down by ", c.filters_to_change),
+            pressure_drop(step)
+        ],
+        description: text![
+            format!(
+                "{} filter(s) drop more than ",
+                c.filters_to_change
+            ),
+            pressure_drop(crate::core::treatment::FILTER_CHANGE_ABOVE_BAR),
+            " above their clean drop at the mean flow; with new elements the compressors' set points can come down by the excess while the header keeps ",
+            bar_g(p_header),
+            ". Change elements by their differential pressure, not only by the calendar."
+        ],
+        saving_kwh: chosen,
+        low_kwh,
+        high_kwh,
+        acts_on_kwh: delivering,
+        money: None,
+        cost_ctx: CostContext {
+            items: c.filters_without_cost as f64,
+            recorded_cost: c.filter_recorded_cost,
+            ..Default::default()
+        },
+        basis: vec![
+            text!["excess drop over the clean drop at the mean flow (drop ∝ flow²) ", pressure_drop(step)],
+            text!["header pressure ", bar_g(p_header), ", discharge ", bar_g(p_header + step), " before the change"],
+            text![format!(
+                "loaded (delivering) energy {delivering:.0} kWh/yr, scaled by {rule}: {chosen:.0} kWh/yr (the other rule {other:.0})"
+            )],
+        ],
+        formula: "saving = Σ loaded energy × (1 % per 2 psi | isentropic-work ratio) for Δp = Σ (measured drop - clean drop × (Q / Q_rated)²) over the filters above 0.1 bar",
+        source: "US DOE compressed-air sourcebook (1 % of input per 2 psi; pressure drop); drop ∝ flow² and the 0.1 bar threshold: common practice",
+        method: "loaded energy scaled by the pressure rule for the excess drop, header pressure unchanged; range from the other rule and the annual hours (US DOE sourcebook; isentropic work)",
+        caution: Some(safety::TREATMENT_MEASURE_CAUTION.to_string()),
+        scenario_id: None,
+    };
+    Some((draft, next))
+}
+
+pub(super) fn cycling_refrigerated_dryer(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plant)> {
+    let c = &r.treatment;
+    let kw = c.cycling_saving_kw;
+    if kw.is_nan() || kw <= 0.0 || c.non_cycling_dryers == 0 {
+        return None;
+    }
+    let hours = r.annual_running_hours.max(0.0);
+    let kwh = kw * hours;
+    let (low_kwh, high_kwh) = band(kwh, r.annual_energy_rel_low, r.annual_energy_rel_high);
+    let draft = Draft {
+        kind: MeasureKind::CyclingRefrigeratedDryer,
+        title: text![format!(
+            "Replace {} non-cycling refrigerated dryer(s) with cycling or variable units: about {kw:.2} kW less",
+            c.non_cycling_dryers
+        )],
+        description: text![format!(
+            "The non-cycling dryer(s) draw their full {:.2} kW whatever the air through them; a cycling or \
+             variable unit follows the load down to about {:.0} % of its kW.",
+            c.non_cycling_kw,
+            crate::core::treatment::CYCLING_DRYER_FLOOR * 100.0
+        )],
+        saving_kwh: kwh,
+        low_kwh,
+        high_kwh,
+        acts_on_kwh: c.non_cycling_kw * hours,
+        money: None,
+        cost_ctx: CostContext { rated_m3_min: c.non_cycling_rated_m3_min, ..Default::default() },
+        basis: vec![
+            text![format!("dryer input {:.2} kW, saved {kw:.2} kW at the load through it", c.non_cycling_kw)],
+            text![format!(
+                "floor {:.2} of the kW at light load",
+                crate::core::treatment::CYCLING_DRYER_FLOOR
+            )],
+            text![format!("hours priced {hours:.0} h/yr (the compressors' running hours)")],
+        ],
+        formula: "saving = dryer kW × (1 - max(mean flow through it / rated flow, 0.2)) × running hours",
+        source: "data-sheet kW; cycling units following the load, and the 0.2 floor: common practice, from memory",
+        method: "the dryer's own electricity at its load against full input; range from the annual hours",
+        caution: Some(safety::TREATMENT_MEASURE_CAUTION.to_string()),
+        scenario_id: None,
+    };
+    Some((draft, p.clone()))
 }

@@ -17,6 +17,8 @@ energy above idle.
 | `dew_point_control` | purge a fixed-cycle desiccant dryer would not blow with dew-point switching (its purge × (1 - load through it), `core::treatment`) × marginal kW/(m³/min) × the hours left, held at the trim's energy above idle | 2500 per dryer |
 | `zero_loss_drains` | the timer and open drains' air (orifice flow × open time / interval) × marginal kW/(m³/min) × the hours left | 500 per drain |
 | `replace_inappropriate_uses` | the air of inappropriate uses that have an electric alternative on record × marginal kW/(m³/min) × the production hours left, less the alternatives' kW × those hours; none when that is not positive | 1500 per use line |
+| `filter_change` | the filters whose excess drop (measured − clean at the mean flow, drop ∝ flow², `core::treatment`) exceeds 0.1 bar: the discharge pressure comes down by the sum of those excesses, priced like the pressure measure on the **loaded** energy left (1 % per 2 psi, US DOE sourcebook, or the isentropic-work ratio, `pressure_rule`; [`pressure_cut_fractions`]); the header pressure, hence unregulated demand, stays | each element's recorded cost, else 300 per element |
+| `cycling_refrigerated_dryer` | a non-cycling refrigerated dryer replaced by a cycling or variable one: its kW × (1 − max(load through it, 0.2)) × the running hours (`core::treatment::CYCLING_DRYER_FLOOR`, common practice, from memory); the dryer's own electricity, outside the compressors' | 600 per m³/min of the dryer's rated flow |
 
 **Stacked** (`stack`): each measure is priced alone (`standalone_*`), ranked by that payback (the
 auditor's `order` first, `excluded` left out), then priced again on the plant the measures before
@@ -81,6 +83,7 @@ pub fn check_implementation_cost(cost: f64) -> Result<f64, String> {
 use super::costs;
 use super::heat::HeatUseKind;
 use super::model::{CompressorSpec, SiteSpec};
+use super::units::SiteAir;
 
 #[macro_use]
 mod text;
@@ -89,9 +92,9 @@ mod stack;
 #[cfg(test)]
 pub(crate) mod tests;
 
-pub use measures::Words;
+pub use measures::{pressure_cut_fractions, pressure_drop_kwh, Words};
 pub use stack::{recommend, stack_total};
-pub use text::{bar_g, flow, specific, Part, Quantity, Text};
+pub use text::{bar_g, flow, pressure_drop, specific, Part, Quantity, Text};
 
 /// Every kind of measure this module proposes (API.md names, the JSON spelling of each).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
@@ -106,6 +109,8 @@ pub enum MeasureKind {
     DewPointControl,
     ZeroLossDrains,
     ReplaceInappropriateUses,
+    FilterChange,
+    CyclingRefrigeratedDryer,
 }
 
 impl MeasureKind {
@@ -119,6 +124,8 @@ impl MeasureKind {
         Self::DewPointControl,
         Self::ZeroLossDrains,
         Self::ReplaceInappropriateUses,
+        Self::FilterChange,
+        Self::CyclingRefrigeratedDryer,
     ];
 
     /// The API name (`repair_leaks`, ...), the same as the JSON spelling.
@@ -133,6 +140,8 @@ impl MeasureKind {
             Self::DewPointControl => "dew_point_control",
             Self::ZeroLossDrains => "zero_loss_drains",
             Self::ReplaceInappropriateUses => "replace_inappropriate_uses",
+            Self::FilterChange => "filter_change",
+            Self::CyclingRefrigeratedDryer => "cycling_refrigerated_dryer",
         }
     }
 
@@ -155,6 +164,50 @@ pub struct TreatmentCuts {
     pub inappropriate_m3_min: f64,
     pub alternative_kw: f64,
     pub inappropriate_uses: usize,
+    /// Filters whose excess drop is worth an element change: the sum of their excess drops, bar,
+    /// how many, the element costs on record and how many have none.
+    pub filter_excess_bar: f64,
+    pub filters_to_change: usize,
+    pub filter_recorded_cost: f64,
+    pub filters_without_cost: usize,
+    /// The line pressure the records were priced at, bar(g): the filter measure's pressure when no
+    /// credible header pressure is logged.
+    pub line_pressure_bar_g: f64,
+    /// Non-cycling refrigerated dryers: the mean kW a cycling or variable unit would save, their
+    /// whole kW, their rated flow (m³/min) and how many.
+    pub cycling_saving_kw: f64,
+    pub non_cycling_kw: f64,
+    pub non_cycling_rated_m3_min: f64,
+    pub non_cycling_dryers: usize,
+}
+
+/// What a change of discharge pressure acts on: each machine's stages and loaded (delivering)
+/// energy a year, kWh, with the pressure rule of the plan and the site's air. The pressure measure
+/// and the filters' excess drops are priced on it by one rule ([`pressure_cut_fractions`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct DischargeBasis {
+    pub machines: Vec<(u32, f64)>,
+    pub rule: PressureRule,
+    pub air: SiteAir,
+}
+
+impl DischargeBasis {
+    /// The loaded energy a year that `drop_bar` of extra discharge pressure at `p_bar_g` costs:
+    /// (by the plan's rule, by the other rule), kWh.
+    pub fn drop_kwh(&self, p_bar_g: f64, drop_bar: f64) -> (f64, f64) {
+        let mut chosen = 0.0;
+        let mut other = 0.0;
+        for &(stages, kwh) in &self.machines {
+            let (doe, isen) = pressure_cut_fractions(&self.air, stages, p_bar_g + drop_bar, p_bar_g);
+            let (a, b) = match self.rule {
+                PressureRule::OnePercentPerTwoPsi => (doe, isen),
+                PressureRule::IsentropicWork => (isen, doe),
+            };
+            chosen += kwh * a;
+            other += kwh * b;
+        }
+        (chosen, other)
+    }
 }
 
 /// Where a measure's implementation cost comes from.
@@ -314,8 +367,13 @@ pub struct CostContext {
     pub has_vsd: bool,
     /// The cost of a replayed scenario (quoted or estimated by `simulate`); replaces the rate.
     pub scenario_cost: Option<f64>,
-    /// Dryers, drains or end-use lines a treatment measure changes.
+    /// Dryers, drains or end-use lines a treatment measure changes (for `filter_change`: the
+    /// elements without a recorded cost).
     pub items: f64,
+    /// Costs on record that the measure carries whole (filter elements' own costs).
+    pub recorded_cost: f64,
+    /// Rated flow of the equipment replaced, m³/min (refrigerated dryers).
+    pub rated_m3_min: f64,
 }
 
 /// Default rate of a kind (module doc table), common practice, from memory.
@@ -331,6 +389,8 @@ pub fn default_rate(kind: MeasureKind, ctx: &CostContext) -> f64 {
         MeasureKind::DewPointControl => costs::DEW_POINT_CONTROL_PER_DRYER,
         MeasureKind::ZeroLossDrains => costs::ZERO_LOSS_DRAIN,
         MeasureKind::ReplaceInappropriateUses => costs::ALTERNATIVE_PER_USE,
+        MeasureKind::FilterChange => costs::FILTER_ELEMENT,
+        MeasureKind::CyclingRefrigeratedDryer => costs::CYCLING_DRYER_PER_M3_MIN,
     }
 }
 
@@ -345,6 +405,8 @@ fn cost_with_rate(kind: MeasureKind, ctx: &CostContext, rate: f64) -> f64 {
         MeasureKind::DewPointControl
         | MeasureKind::ZeroLossDrains
         | MeasureKind::ReplaceInappropriateUses => rate * ctx.items.max(1.0),
+        MeasureKind::FilterChange => ctx.recorded_cost + rate * ctx.items,
+        MeasureKind::CyclingRefrigeratedDryer => rate * ctx.rated_m3_min,
     }
 }
 
@@ -532,6 +594,9 @@ pub struct RecommendInput<'a> {
     pub pressure_uncertainty_bar: f64,
     /// The plant's low pressure limit (lowest rated pressure - 1 bar): no target goes below it.
     pub low_limit_bar_g: Option<f64>,
+    /// Each logged point of use's name and 5th-percentile pressure, bar(g) (credible logs only): a
+    /// lower pressure keeps each above the critical need too.
+    pub points_of_use: Vec<(String, f64)>,
     pub control: Option<ControlCase>,
     pub heat: Option<HeatCase>,
     pub costs: &'a CostOverrides,

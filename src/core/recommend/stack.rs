@@ -5,7 +5,10 @@ Savings stacked in order. Each measure is first priced alone on the plant as log
 measures are priced one after the other, each on the plant the ones before it leave
 (`measures::Plant`): a leak repair lowers the trim's energy above idle and the leak flow; a lower
 pressure scales the delivering energy of every machine, the marginal power of air and the
-unregulated demand and leaks (by the absolute pressure); switching a trim off out of production
+unregulated demand and leaks (by the absolute pressure); a filter change scales the delivering
+energy and the marginal power of air the same way by the excess drops, the header pressure (and so
+unregulated demand) unchanged; a cycling refrigerated dryer saves its own electricity, outside the
+compressors', and leaves the plant as it was; switching a trim off out of production
 removes its non-production hours from every later demand cut; a variable-speed trim saves on the trim
 energy left. Heat recovery is always valued on the energy left after every electrical measure of the
 plan, whatever its place. The total (`MeasuresTotal`) is the sum of the stacked figures, so it is
@@ -44,6 +47,8 @@ fn price(r: &RecommendInput, slot: Slot, p: &Plant, first: &Plant) -> Option<(Dr
         Slot::Kind(MeasureKind::DewPointControl) => measures::dew_point_control(r, p),
         Slot::Kind(MeasureKind::ZeroLossDrains) => measures::zero_loss_drains(r, p),
         Slot::Kind(MeasureKind::ReplaceInappropriateUses) => measures::replace_inappropriate_uses(r, p),
+        Slot::Kind(MeasureKind::FilterChange) => measures::filter_change(r, p),
+        Slot::Kind(MeasureKind::CyclingRefrigeratedDryer) => measures::cycling_refrigerated_dryer(r, p),
         Slot::Kind(MeasureKind::ReplaceCompressor) => None,
     }
 }
@@ -63,6 +68,8 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
         MeasureKind::DewPointControl,
         MeasureKind::ZeroLossDrains,
         MeasureKind::ReplaceInappropriateUses,
+        MeasureKind::FilterChange,
+        MeasureKind::CyclingRefrigeratedDryer,
     ]
     .into_iter()
     .map(Slot::Kind)

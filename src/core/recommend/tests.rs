@@ -10,6 +10,8 @@ use crate::core::units::UnitSystem;
 
 pub(crate) fn site() -> SiteSpec {
     SiteSpec {
+        heating_degree_days_k_day: None,
+        annual_space_heat_kwh: None,
         air: SiteAir::new(101.325, 20.0),
         timezone: "UTC".into(),
         electricity_price_per_kwh: 0.15,
@@ -78,6 +80,7 @@ fn input<'a>(
         p5_pressure_bar_g: Some(6.8),
         pressure_uncertainty_bar: 0.0,
         low_limit_bar_g: Some(6.3),
+        points_of_use: Vec::new(),
         control: None,
         heat: None,
         costs,
@@ -304,6 +307,19 @@ fn the_set_point_comes_down_only_as_far_as_the_fifth_percentile_allows() {
     let recs = recommend(&inp, &si(&s));
     let lp = recs.iter().find(|r| r.kind == MeasureKind::LowerPressure).expect("0.05 bar");
     assert!(lp.title.ends_with("to 6.95 bar(g)"), "{}", lp.title);
+    // A point of use logged at a 5th percentile of 6.45 bar(g) (0.15 bar below the header's): the
+    // critical need of 6.3 bar(g) (the low limit) plus 0.05 leaves it 0.10 bar of room, less than
+    // the header's 0.25: 7.0 - 0.10 = 6.90 bar(g), and the measure names the point.
+    inp.costs = &costs;
+    inp.points_of_use = vec![("press line".into(), 6.45)];
+    let recs = recommend(&inp, &si(&s));
+    let lp = recs.iter().find(|r| r.kind == MeasureKind::LowerPressure).expect("0.10 bar");
+    assert!(lp.title.ends_with("to 6.90 bar(g)"), "{}", lp.title);
+    assert!(lp.description.contains("critical point of use (press line)"), "{}", lp.description);
+    // A point of use at the need already: no room, no measure.
+    inp.points_of_use = vec![("press line".into(), 6.34)];
+    assert!(recommend(&inp, &si(&s)).iter().all(|r| r.kind != MeasureKind::LowerPressure));
+    inp.points_of_use.clear();
     // A mismapped 0.11 bar(g) log on a 7.5 bar(g) plant: never below the low limit nor 0 bar(g).
     let costs = CostOverrides::default();
     let mut inp = input(&s, &cs, &ms, &costs);
@@ -573,6 +589,7 @@ fn treatment_measures_are_priced_and_stacked_as_computed_by_hand() {
         inappropriate_m3_min: 0.5,
         alternative_kw: 0.5,
         inappropriate_uses: 1,
+        ..Default::default()
     };
     let m = 55.0 * 0.75 / 9.5;
     let r = recommend(&inp, &si(&s));
@@ -608,4 +625,107 @@ fn treatment_measures_are_priced_and_stacked_as_computed_by_hand() {
     // An electric alternative that draws more than the air it saves is no measure.
     inp.treatment.alternative_kw = 5.0;
     assert!(recommend(&inp, &si(&s)).iter().all(|x| x.kind != MeasureKind::ReplaceInappropriateUses));
+}
+
+#[test]
+fn a_filter_excess_drop_costs_the_pressure_rule_against_a_worked_example() {
+    // tests/reference/make_reference.py: a filter rated 10 m³/min, 0.10 bar clean, reads 0.45 bar at
+    // 8 m³/min: 0.386 bar excess (drop ∝ flow²). On 200 000 kWh/yr of loaded energy (one stage),
+    // header 7.0 bar(g): by the US DOE sourcebook's 1 % per 2 psi (pint for psi) and by the ratio
+    // of isentropic work from 7.386 to 7.0 bar(g) (fluids 1.3.1).
+    let doe = reference("filter.excess_doe_rule_kwh");
+    let isen = reference("filter.excess_isentropic_kwh");
+    let mut basis =
+        DischargeBasis { machines: vec![(1, 200_000.0)], rule: PressureRule::default(), air: site().air };
+    let (a, b) = basis.drop_kwh(7.0, 0.386);
+    assert!((a - doe).abs() < 1e-6 * doe, "{a} against {doe}");
+    assert!((b - isen).abs() < 1e-3 * isen, "{b} against {isen}");
+    basis.rule = PressureRule::IsentropicWork;
+    let (a, b) = basis.drop_kwh(7.0, 0.386);
+    assert!((a - isen).abs() < 1e-3 * isen && (b - doe).abs() < 1e-6 * doe);
+}
+
+#[test]
+fn filter_change_and_cycling_dryer_stack_as_computed_by_hand() {
+    // The invented plant of `treatment_measures_are_priced_and_stacked_as_computed_by_hand`: one trim,
+    // 200 000 kWh/yr delivering, marginal m = 55 × 0.75 / 9.5 kW/(m³/min), 8000 running h/yr. On
+    // record: one filter 0.386 bar above its clean drop (no element cost: 300 by default), one
+    // non-cycling refrigerated dryer of 4 kW, 20 m³/min, that would save 3 kW cycling, and a
+    // fixed-cycle dryer whose dew-point control would save 1.0 m³/min of purge.
+    let s = site();
+    let cs = [lu()];
+    let ms = [MachineUse {
+        annual_running_non_production_hours: 3000.0,
+        annual_above_idle_non_production_kwh: 40_000.0,
+        ..trim_use()
+    }];
+    let mut costs = CostOverrides::default();
+    costs.options.excluded = vec![
+        MeasureKind::RepairLeaks,
+        MeasureKind::LowerPressure,
+        MeasureKind::ShutOffIdle,
+        MeasureKind::ImproveControl,
+        MeasureKind::RecoverHeat,
+    ];
+    costs.options.order =
+        vec![MeasureKind::FilterChange, MeasureKind::DewPointControl, MeasureKind::CyclingRefrigeratedDryer];
+    let mut inp = input(&s, &cs, &ms, &costs);
+    inp.treatment = TreatmentCuts {
+        dew_point_m3_min: 1.0,
+        dew_point_dryers: 1,
+        filter_excess_bar: 0.386,
+        filters_to_change: 1,
+        filters_without_cost: 1,
+        line_pressure_bar_g: 7.0,
+        cycling_saving_kw: 3.0,
+        non_cycling_kw: 4.0,
+        non_cycling_rated_m3_min: 20.0,
+        non_cycling_dryers: 1,
+        ..Default::default()
+    };
+    let r = recommend(&inp, &si(&s));
+    let kinds: Vec<MeasureKind> = r.iter().map(|x| x.kind).collect();
+    assert_eq!(
+        kinds,
+        vec![MeasureKind::FilterChange, MeasureKind::DewPointControl, MeasureKind::CyclingRefrigeratedDryer]
+    );
+    // Filter: the worked example's 1 %-per-2-psi figure on the 200 000 kWh/yr delivering.
+    let doe = reference("filter.excess_doe_rule_kwh");
+    assert!((r[0].annual_energy_saving_kwh - doe).abs() < 1e-6 * doe, "{}", r[0].annual_energy_saving_kwh);
+    assert_eq!(r[0].implementation_cost, 300.0);
+    // Its words in the reader's units: 0.386 bar = 5.6 psi (NIST SP 811: 1 psi = 6 894.757 Pa).
+    assert_eq!(r[0].title, "Change 1 filter element(s): the discharge pressure comes down by 0.39 bar");
+    let us = Fmt::new(UnitSystem::Us, s.air.atmosphere);
+    assert_eq!(
+        render(&r[0].text.title, &us),
+        "Change 1 filter element(s): the discharge pressure comes down by 5.6 psi"
+    );
+    let back: Text = serde_json::from_value(serde_json::to_value(&r[0].text).unwrap()).unwrap();
+    assert_eq!(back, r[0].text);
+    // Dew point after it: air now costs (1 - doe / 200 000) of its marginal power.
+    let m = 55.0 * 0.75 / 9.5;
+    let dew = 1.0 * m * (1.0 - doe / 200_000.0) * 8000.0;
+    assert!(
+        (r[1].annual_energy_saving_kwh - dew).abs() < 1e-6,
+        "{} against {dew}",
+        r[1].annual_energy_saving_kwh
+    );
+    assert!(r[1].annual_energy_saving_kwh < r[1].standalone_annual_energy_saving_kwh);
+    // Cycling dryer: 3 kW × 8000 h = 24 000 kWh, 600 per m³/min of its 20 m³/min = 12 000.
+    assert!((r[2].annual_energy_saving_kwh - 24_000.0).abs() < 1e-9);
+    assert_eq!(r[2].implementation_cost, 12_000.0);
+    for x in &r {
+        let c = x.caution.as_deref().unwrap_or("");
+        assert!(c.contains("lock out") && c.contains("filter housing"), "{c}");
+    }
+    let total = stack_total(&r, &costs.options.excluded).unwrap();
+    assert!((total.annual_energy_saving_kwh - (doe + dew + 24_000.0)).abs() < 1e-6);
+    // An element cost on record replaces the default; an excess under the threshold offers nothing.
+    inp.treatment.filter_recorded_cost = 180.0;
+    inp.treatment.filters_without_cost = 0;
+    let r = recommend(&inp, &si(&s));
+    assert_eq!(r[0].implementation_cost, 180.0);
+    inp.treatment.filters_to_change = 0;
+    inp.treatment.filter_excess_bar = 0.0;
+    assert!(recommend(&inp, &si(&s)).iter().all(|x| x.kind != MeasureKind::FilterChange));
 }

@@ -17,6 +17,8 @@ pub enum Quantity {
     PressureBarG,
     /// kW/(m³/min) (kW/100 cfm).
     SpecificPowerKwPerM3Min,
+    /// A pressure difference, bar (psi).
+    PressureDropBar,
 }
 
 /// Words, or a figure the reader's units show (JSON: a string, or `{"quantity", "value"}`).
@@ -45,6 +47,10 @@ pub fn flow(m3_min: f64) -> Part {
 /// A gauge pressure, bar(g).
 pub fn bar_g(bar_g: f64) -> Part {
     Part::Figure { quantity: Quantity::PressureBarG, value: bar_g }
+}
+/// A pressure difference (a drop across equipment), bar.
+pub fn pressure_drop(bar: f64) -> Part {
+    Part::Figure { quantity: Quantity::PressureDropBar, value: bar }
 }
 /// A specific power, kW/(m³/min).
 pub fn specific(kw_per_m3_min: f64) -> Part {

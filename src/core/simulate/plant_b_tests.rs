@@ -161,6 +161,7 @@ fn plant_b_frame(site: &SiteAir) -> Frame {
         cols[3].push((qd / 10.0) as f32);
     }
     let col = |signal, compressor, label: &str, values| FrameColumn {
+        point: Default::default(),
         signal,
         compressor,
         label: label.into(),

@@ -19,6 +19,7 @@ fn flow_frame(hours: f64, flow_m3_min: impl Fn(usize) -> f64) -> Frame {
     Frame {
         grid,
         columns: vec![FrameColumn {
+            point: Default::default(),
             signal: Signal::Flow,
             compressor: None,
             label: "flow".into(),
@@ -344,6 +345,7 @@ fn demo_frame(plant: &crate::demo::DemoPlant) -> (Frame, SiteAir) {
         .into_iter()
         .enumerate()
         .map(|(i, a)| FrameColumn {
+            point: Default::default(),
             signal: Signal::Power,
             compressor: Some(i),
             label: format!("C{} kW", i + 1),
@@ -367,6 +369,7 @@ fn demo_frame(plant: &crate::demo::DemoPlant) -> (Frame, SiteAir) {
         );
     }
     columns.push(FrameColumn {
+        point: Default::default(),
         signal: Signal::Pressure,
         compressor: None,
         label: "p".into(),
@@ -374,6 +377,7 @@ fn demo_frame(plant: &crate::demo::DemoPlant) -> (Frame, SiteAir) {
         partial: vec![],
     });
     columns.push(FrameColumn {
+        point: Default::default(),
         signal: Signal::Flow,
         compressor: None,
         label: "q".into(),
@@ -465,6 +469,7 @@ fn timing_a_week_at_10_s_and_a_year_at_1_s() {
     let year = Frame {
         grid,
         columns: vec![FrameColumn {
+            point: Default::default(),
             signal: Signal::Flow,
             compressor: None,
             label: "q".into(),

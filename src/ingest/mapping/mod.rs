@@ -36,6 +36,7 @@ mod tests;
 pub use rules::{Converter, UnitRule};
 
 use crate::core::basis::{Basis, CurrentPf};
+use crate::core::series::PressurePoint;
 use crate::core::unit_table::{self, LoggedQuantity};
 use crate::core::units::{ReferenceConditions, SiteAir};
 use crate::ingest::text::Encoding;
@@ -143,6 +144,60 @@ pub struct ColumnMap {
     /// The line conditions of an actual-volume flow (`acfm`, `am3_min`, `am3_h`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub line: Option<LineConditions>,
+    /// Where a pressure was measured (`discharge`, `after_treatment`, `header`: the default,
+    /// `point_of_use`); pressure columns only.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub point: Option<String>,
+    /// The measuring point's name (`press shop drop`): the channel's name, so that the same point
+    /// logged in several files is one channel.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub label: Option<String>,
+}
+
+/// The longest measuring point's name a mapping may give.
+pub const MAX_POINT_LABEL_CHARS: usize = 80;
+
+/// A column's measuring point and the channel's name (its `label`, else its header name), checked:
+/// `point` on a pressure column only, one of [`PressurePoint`]'s names; `label` short.
+fn column_point(c: &ColumnMap, i: usize, header_name: &str) -> Result<(PressurePoint, String), IngestError> {
+    let is_pressure = c.quantity.trim().eq_ignore_ascii_case("pressure");
+    let point = match c.point.as_deref().map(str::trim).filter(|s| !s.is_empty()) {
+        None => PressurePoint::Header,
+        Some(_) if !is_pressure => {
+            return Err(IngestError::field(
+                format!("columns[{i}].point"),
+                format!("column {:?} is not a pressure: only a pressure has a measuring point", c.column),
+            )
+            .with_column(c.column.clone()))
+        }
+        Some(p) => PressurePoint::parse(p).ok_or_else(|| {
+            IngestError::field(
+                format!("columns[{i}].point"),
+                format!(
+                    "measuring point {p:?} of column {:?} is not one of compressor discharge (discharge), \
+                     after treatment (after_treatment), header (header) or point of use (point_of_use)",
+                    c.column
+                ),
+            )
+            .with_column(c.column.clone())
+        })?,
+    };
+    let label = match c.label.as_deref().map(str::trim).filter(|s| !s.is_empty()) {
+        None => header_name.to_string(),
+        Some(l) if l.chars().count() > MAX_POINT_LABEL_CHARS || l.chars().any(char::is_control) => {
+            return Err(IngestError::field(
+                format!("columns[{i}].label"),
+                format!(
+                    "the name of column {:?}'s measuring point must be at most {MAX_POINT_LABEL_CHARS} \
+                     characters on one line",
+                    c.column
+                ),
+            )
+            .with_column(c.column.clone()))
+        }
+        Some(l) => l.to_string(),
+    };
+    Ok((point, label))
 }
 
 /// A spot reading taken beside the current logger with a true-power meter: amps and kW.
@@ -186,6 +241,8 @@ impl ColumnMap {
             loaded_spot: None,
             unloaded_spot: None,
             line: None,
+            point: None,
+            label: None,
         }
     }
 }
@@ -219,8 +276,12 @@ impl Quantity {
 pub struct ChannelDef {
     pub quantity: Quantity,
     pub compressor: Option<String>,
-    /// The column's header name.
+    /// The channel's name: the mapping's `label`, else the column's header name.
     pub label: String,
+    /// Where a pressure was measured (the header for every other quantity), and whether the
+    /// mapping said so (else the channel keeps the point an earlier file gave it).
+    pub point: PressurePoint,
+    pub point_stated: bool,
     /// The unit as logged (`kW`, `psig`, `A`...).
     pub unit: String,
     /// 0-based field index in the row.
@@ -314,10 +375,13 @@ pub fn channel_defs(mapping: &Mapping) -> Result<Vec<ChannelDef>, IngestError> {
         .map(|(i, c)| {
             let (quantity, rule) = column_rule(c, i)?;
             line_pressure_channel(mapping, c, i)?;
+            let (point, label) = column_point(c, i, c.column.trim())?;
             Ok(ChannelDef {
                 quantity,
                 compressor: c.compressor.as_ref().map(|s| s.trim().to_string()).filter(|s| !s.is_empty()),
-                label: c.column.trim().to_string(),
+                label,
+                point,
+                point_stated: c.point.is_some(),
                 unit: c.unit.clone(),
                 column_index: i,
                 basis: rule.basis(),
@@ -408,10 +472,13 @@ pub fn plan(mapping: &Mapping, header: &[String]) -> Result<Plan, IngestError> {
         })?;
         let (quantity, rule) = column_rule(c, i)?;
         line_pressure.push(line_pressure_channel(mapping, c, i)?);
+        let (point, label) = column_point(c, i, header[column_index].trim())?;
         channels.push(ChannelDef {
             quantity,
             compressor: c.compressor.as_ref().map(|s| s.trim().to_string()),
-            label: header[column_index].trim().to_string(),
+            label,
+            point,
+            point_stated: c.point.is_some(),
             unit: c.unit.clone(),
             column_index,
             basis: rule.basis(),

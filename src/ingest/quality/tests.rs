@@ -8,6 +8,8 @@ fn chan(q: Quantity, unit: &str) -> ChannelDef {
         quantity: q,
         compressor: Some("C1".into()),
         label: format!("C1 {unit}"),
+        point: Default::default(),
+        point_stated: false,
         unit: unit.into(),
         column_index: 1,
         basis: crate::core::basis::Basis::Site,

@@ -255,8 +255,9 @@ pub async fn import_file(
         // A compressor's power is one channel whatever file or column it comes from.
         let label = if compressor_id.is_some() { String::new() } else { d.label.clone() };
         let quantity = d.quantity.as_str();
+        let point = (quantity == "pressure").then(|| d.point.as_str());
         sqlx::query(
-            "INSERT INTO channel (audit_id, quantity, compressor_id, label, unit) VALUES (?, ?, ?, ?, ?) \
+            "INSERT INTO channel (audit_id, quantity, compressor_id, label, unit, point) VALUES (?, ?, ?, ?, ?, ?) \
              ON CONFLICT DO NOTHING",
         )
         .bind(req.audit_id)
@@ -264,6 +265,7 @@ pub async fn import_file(
         .bind(compressor_id)
         .bind(&label)
         .bind(&d.unit)
+        .bind(point)
         .execute(&mut *tx)
         .await?;
         let id: i64 = sqlx::query_scalar(
@@ -275,6 +277,14 @@ pub async fn import_file(
         .bind(&label)
         .fetch_one(&mut *tx)
         .await?;
+        // A point the mapping states is where the channel was measured, for every file of it.
+        if d.point_stated && point.is_some() {
+            sqlx::query("UPDATE channel SET point = ? WHERE id = ?")
+                .bind(point)
+                .bind(id)
+                .execute(&mut *tx)
+                .await?;
+        }
         if planned.iter().any(|p: &PlannedChannel| p.id == id) {
             return Err(bad(
                 format!(

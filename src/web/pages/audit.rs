@@ -93,6 +93,18 @@ pub(super) fn site_patch(
         heater_efficiency: opt_num(form, "heater_efficiency")?,
         heating_months: months,
         heat_use: opt_text(form, "heat_use"),
+        heating_degree_days_k_day: match form.get("heating_degree_days_k_day") {
+            Some(t) => Some(inputs.read_degree_days(
+                t,
+                previous.map(|s| s.heating_degree_days_k_day.as_slice()).unwrap_or(&[]),
+            )?),
+            None => None,
+        },
+        annual_space_heat_kwh: if form.contains_key("annual_space_heat_kwh") {
+            Some(opt_num(form, "annual_space_heat_kwh")?.unwrap_or(0.0))
+        } else {
+            None
+        },
         grid_co2_kg_per_kwh: opt_num(form, "grid_co2_kg_per_kwh")?,
         fuel_co2_kg_per_kwh: opt_num(form, "fuel_co2_kg_per_kwh")?,
         other_volume_m3: inputs.opt(

@@ -58,6 +58,9 @@ impl Inputs {
     pub fn d_unit(&self) -> &'static str {
         Entry::Diameter.unit(self.units).label
     }
+    pub fn dp_unit(&self) -> &'static str {
+        Entry::PressureDrop.unit(self.units).label
+    }
 
     // Stored values as the fields show them.
     pub fn p(&self, bar_g: impl Num) -> String {
@@ -141,6 +144,34 @@ impl Inputs {
             .collect()
     }
 
+    pub fn dd_unit(&self) -> &'static str {
+        Entry::DegreeDays.unit(self.units).label
+    }
+    /// Monthly heating degree-days as a field shows them: twelve numbers in these units, January
+    /// first, or nothing.
+    pub fn degree_days(&self, k_day: &[f64]) -> String {
+        k_day.iter().map(|d| Entry::DegreeDays.shown(self.units, *d)).collect::<Vec<_>>().join(", ")
+    }
+    /// The degree-days field read back, K·d: blank clears them; `previous` is kept when the text is
+    /// what was shown for it. Twelve values or none (the site's validation says so in words).
+    pub fn read_degree_days(&self, text: &str, previous: &[f64]) -> Result<Vec<f64>, FieldError> {
+        let text = text.trim();
+        if !previous.is_empty() && text == self.degree_days(previous) {
+            return Ok(previous.to_vec());
+        }
+        text.split([',', ';', ' '])
+            .filter(|x| !x.trim().is_empty())
+            .map(|x| {
+                Entry::DegreeDays.read(self.units, x, None).map_err(|e| {
+                    FieldError::new(
+                        "heating_degree_days_k_day",
+                        format!("heating degree-days must be numbers in {}: {e}", self.dd_unit()),
+                    )
+                })
+            })
+            .collect()
+    }
+
     /// The factors the page scripts convert with (`static/js/common.js`, `airledger.entry`).
     pub fn page_data(&self) -> Value {
         let table: serde_json::Map<String, Value> = entry::table(self.units)
@@ -196,6 +227,19 @@ mod tests {
         assert_eq!(i.curve(&c), "100:20 200:35.5");
         assert_eq!(i.read_curve(&i.curve(&c), Some(&c)).unwrap(), c);
         assert!(i.read_curve("100-20", None).is_err());
+    }
+
+    #[test]
+    fn degree_days_in_fahrenheit_read_to_kelvin_days_and_back() {
+        let i = Inputs::new(UnitSystem::Us);
+        let text = "900, 810, 630, 360, 90, 0, 0, 0, 45, 270, 540, 810";
+        let d = i.read_degree_days(text, &[]).unwrap();
+        // NIST SP 811 B.9: a temperature interval of 1 °F is 1/1.8 K: 900 °F·d = 500 K·d.
+        assert!((d[0] - 500.0).abs() < 1e-9 && (d[8] - 25.0).abs() < 1e-9);
+        // Shown again and posted unchanged, it is kept exactly.
+        assert_eq!(i.read_degree_days(&i.degree_days(&d), &d).unwrap(), d);
+        assert!(i.read_degree_days("", &d).unwrap().is_empty());
+        assert_eq!(i.read_degree_days("12, x", &[]).unwrap_err().field, "heating_degree_days_k_day");
     }
 
     #[test]

@@ -13,6 +13,7 @@ use crate::core::display::Fmt;
 use crate::core::plot::{
     bar_chart_svg, duration_curve, line_chart_svg, Axis, BarChart, BarRow, LineChart, Mark, Tick,
 };
+use crate::core::series::PressurePoint;
 use crate::core::units::{M3_PER_FT3, PA_PER_BAR, PA_PER_PSI};
 use crate::store::read::ChannelInfo;
 use crate::web::error::AppError;
@@ -77,10 +78,13 @@ impl Units {
 /// column when two channels of one quantity need telling apart.
 fn channel_name(c: &ChannelInfo, all: &[ChannelInfo]) -> String {
     let same = all.iter().filter(|o| o.quantity == c.quantity && o.compressor_tag.is_none()).count();
-    match &c.compressor_tag {
-        Some(t) => t.clone(),
-        None if same > 1 => format!("{} (column \u{201c}{}\u{201d})", c.quantity, c.label),
-        None => c.quantity.clone(),
+    // A pressure measured at a named point says where (as on the report's chart).
+    let point = c.point.as_deref().and_then(PressurePoint::parse).filter(|p| *p != PressurePoint::Header);
+    match (&c.compressor_tag, point) {
+        (Some(t), _) => t.clone(),
+        (None, Some(p)) => format!("{}: {}", c.label, p.label()),
+        (None, None) if same > 1 => format!("{} in column \u{201c}{}\u{201d}", c.quantity, c.label),
+        (None, None) => c.quantity.clone(),
     }
 }
 
@@ -180,6 +184,7 @@ async fn logged_chart(
     if chans.is_empty() {
         return Ok(None);
     }
+    let single = chans.len() == 1;
     let from = chans.iter().map(|c| c.first_ms).min().unwrap_or(0);
     let to = chans.iter().map(|c| c.last_ms).max().unwrap_or(from);
     let mut marks = vec![];
@@ -200,7 +205,8 @@ async fn logged_chart(
             spread.push((p.t_ms as f64, conv(p.min), conv(p.max)));
             last = Some(p.t_ms);
         }
-        if band {
+        // With several channels (pressure at several points) the lines alone stay readable.
+        if band && single {
             marks.push(Mark::Band { name: format!("{name} (least to greatest)"), points: spread });
         }
         marks.push(Mark::Line { name: format!("{name} (mean)"), points: line });

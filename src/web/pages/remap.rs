@@ -15,6 +15,7 @@ use super::inputs::Inputs;
 use super::{render, PageResult};
 use crate::app::AuditBundle;
 use crate::core::entry::Entry;
+use crate::core::series::PressurePoint;
 use crate::core::unit_table::{self, LoggedQuantity, ToSi};
 use crate::ingest::mapping::LineConditions;
 use crate::ingest::Mapping;
@@ -32,6 +33,9 @@ struct ColumnRow {
     line_pressure: String,
     line_column: String,
     line_temperature: String,
+    /// A pressure's measuring point (its code) and name, as the mapping gives them.
+    point: String,
+    label: String,
 }
 
 /// A column of the file that the mapping does not read, with the sniffer's guess.
@@ -52,6 +56,8 @@ struct RemapPage {
     quantities: Vec<(&'static str, &'static str)>,
     units: Vec<(&'static str, Vec<(&'static str, &'static str)>)>,
     compressors: Vec<String>,
+    /// Pressure measuring points: code and words.
+    points: Vec<(&'static str, &'static str)>,
     timezone: String,
     zones: Vec<String>,
     inp: Inputs,
@@ -144,6 +150,8 @@ fn page(
                 line_pressure: line.pressure_bar_g.map(|p| inp.p(p)).unwrap_or_default(),
                 line_column: line.pressure_column.unwrap_or_default(),
                 line_temperature: line.temperature_c.map(|t| inp.t(t)).unwrap_or_default(),
+                point: c.point.clone().unwrap_or_else(|| "header".into()),
+                label: c.label.clone().unwrap_or_default(),
             }
         })
         .collect();
@@ -158,6 +166,7 @@ fn page(
             .map(|q| (quantity_label(*q), unit_table::choices(*q).map(|u| (u.code, u.label)).collect()))
             .collect(),
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
+        points: PressurePoint::ALL.iter().map(|p| (p.as_str(), p.label())).collect(),
         timezone: m.timestamp.timezone.clone(),
         zones: super::zone_names(),
         inp,
@@ -237,6 +246,17 @@ fn changed(mut m: Mapping, form: &HashMap<String, String>) -> Mapping {
         }
         if let Some(t) = field(i, "compressor") {
             c.compressor = (!t.is_empty()).then_some(t);
+        }
+        // A pressure's point and name; any other quantity has none.
+        if c.quantity == "pressure" {
+            if let Some(p) = field(i, "point") {
+                c.point = (!p.is_empty()).then_some(p);
+            }
+            if let Some(l) = field(i, "label") {
+                c.label = (!l.is_empty()).then_some(l);
+            }
+        } else {
+            (c.point, c.label) = (None, None);
         }
         kept.push(c);
     }

@@ -1,6 +1,7 @@
-//! The technician's page for dryers, drains and end uses (`core::treatment`): what is on record,
-//! a form for each, in the reader's units, and removal behind a confirmation box. The records go
-//! through the same check as the API (`app::treatment`).
+//! The technician's page for dryers, filters, drains and end uses (`core::treatment`): what is on
+//! record, a form to add each kind and one to edit each record, in the reader's units
+//! (`core::entry`: a value shown and posted unchanged keeps its stored bits), and removal behind a
+//! confirmation box. The records go through the same check as the API (`app::treatment`).
 
 use std::collections::HashMap;
 
@@ -13,20 +14,145 @@ use serde_json::Value;
 
 use super::inputs::Inputs;
 use super::{render, PageError, PageResult};
-use crate::app::treatment::{DrainInput, DryerInput, EndUseInput, ItemKind, TreatmentInput};
+use crate::app::treatment::{DrainInput, DryerInput, EndUseInput, FilterInput, ItemKind, TreatmentInput};
 use crate::core::display::Fmt;
-use crate::core::entry::Entry;
-use crate::core::treatment::{DrainKind, DryerControl, DryerKind, EndUseKind};
+use crate::core::entry::{self, Entry};
+use crate::core::treatment::{DrainKind, DryerControl, DryerKind, EndUseKind, FilterKind};
+use crate::core::units::UnitSystem;
 use crate::store::audits::Audit;
 use crate::web::error::AppError;
 use crate::web::AppState;
 
-/// One record as the page lists it.
+/// One record as the page lists it, with its edit form's fields.
 pub struct Row {
     pub list: &'static str,
     pub id: i64,
     pub name: String,
     pub what: String,
+    pub fields: Vec<Field>,
+}
+
+/// One field of a record's edit form, filled with the stored value in the reader's units.
+pub struct Field {
+    pub name: &'static str,
+    pub label: String,
+    pub value: String,
+    /// A choice: (code, words, selected); empty for a number or text field.
+    pub options: Vec<(&'static str, String, bool)>,
+    /// A checkbox (`value` unused) and whether it is ticked.
+    pub check: bool,
+    pub checked: bool,
+    /// A number (else text).
+    pub number: bool,
+}
+
+/// How a stored number is shown in a plain (unit-free) field: nine significant figures, a share as
+/// a percentage.
+fn plain_shown(v: f64, percent: bool) -> String {
+    entry::short(if percent { v * 100.0 } else { v })
+}
+
+/// The edit form's fields of a stored record, in the reader's units.
+fn edit_fields(kind: ItemKind, v: &Value, units: UnitSystem) -> Vec<Field> {
+    let text = |name: &'static str, label: &str| Field {
+        name,
+        label: label.into(),
+        value: v.get(name).and_then(Value::as_str).unwrap_or("").to_string(),
+        options: vec![],
+        check: false,
+        checked: false,
+        number: false,
+    };
+    let choice = |name: &'static str, label: &str, all: Vec<&'static str>| {
+        let now = v.get(name).and_then(Value::as_str).unwrap_or("");
+        Field {
+            name,
+            label: label.into(),
+            value: now.to_string(),
+            options: all.into_iter().map(|k| (k, words(k), k == now)).collect(),
+            check: false,
+            checked: false,
+            number: false,
+        }
+    };
+    let unit = |name: &'static str, label: &str, e: Entry| Field {
+        name,
+        label: format!("{label}, {}", e.unit(units).label),
+        value: num(v, name).map_or(String::new(), |x| e.shown(units, x)),
+        options: vec![],
+        check: false,
+        checked: false,
+        number: true,
+    };
+    let plain = |field: &'static str, stored: &str, label: &str, percent: bool| Field {
+        name: field,
+        label: label.into(),
+        value: num(v, stored).map_or(String::new(), |x| plain_shown(x, percent)),
+        options: vec![],
+        check: false,
+        checked: false,
+        number: true,
+    };
+    let codes = |all: &[&'static str]| all.to_vec();
+    match kind {
+        ItemKind::Dryer => vec![
+            text("tag", "Tag"),
+            choice("kind", "Kind", codes(&DryerKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>())),
+            unit("rated_flow_m3_min", "Rated flow (free air)", Entry::FreeAirFlow),
+            plain(
+                "purge_percent",
+                "purge_fraction",
+                "Purge, % of rated flow (blank: the kind's usual share)",
+                true,
+            ),
+            plain("power_kw", "power_kw", "Electrical input, kW", false),
+            choice(
+                "control",
+                "Cycle",
+                codes(&DryerControl::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>()),
+            ),
+        ],
+        ItemKind::Filter => vec![
+            text("tag", "Tag"),
+            choice("kind", "Kind", codes(&FilterKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>())),
+            unit("rated_flow_m3_min", "Rated flow (free air)", Entry::FreeAirFlow),
+            unit("clean_drop_bar", "Clean drop at rated flow (data sheet)", Entry::PressureDrop),
+            unit("measured_drop_bar", "Drop measured across it", Entry::PressureDrop),
+            plain("element_change_months", "element_change_months", "Element changed every, months", false),
+            plain("element_cost", "element_cost", "One element change costs", false),
+        ],
+        ItemKind::Drain => vec![
+            text("tag", "Tag"),
+            choice("kind", "Kind", codes(&DrainKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>())),
+            plain("open_s", "open_s", "Open, s (timer)", false),
+            plain("interval_s", "interval_s", "Every, s (timer)", false),
+            unit("orifice_mm", "Orifice or valve bore", Entry::Diameter),
+        ],
+        ItemKind::EndUse => vec![
+            text("name", "Name"),
+            choice("kind", "Kind", codes(&EndUseKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>())),
+            plain("count", "count", "How many", false),
+            unit("flow_m3_min", "Air per use while running (free air)", Entry::FreeAirFlow),
+            unit("orifice_mm", "Opening", Entry::Diameter),
+            unit("pressure_bar_g", "Pressure at the use", Entry::GaugePressure),
+            plain("duty_percent", "duty", "Running, % of production time", true),
+            Field {
+                name: "regulated",
+                label: "behind a regulator".into(),
+                value: String::new(),
+                options: vec![],
+                check: true,
+                checked: v.get("regulated").and_then(Value::as_bool).unwrap_or(false),
+                number: false,
+            },
+            plain(
+                "alternative_kw",
+                "alternative_kw",
+                "Electric alternative, kW per use (blank: none known)",
+                false,
+            ),
+        ],
+    }
 }
 
 #[derive(Template)]
@@ -40,6 +166,7 @@ struct TreatmentPage {
     drain_kinds: Vec<(&'static str, String)>,
     use_kinds: Vec<(&'static str, String)>,
     controls: Vec<(&'static str, String)>,
+    filter_kinds: Vec<(&'static str, String)>,
 }
 
 /// A kind's code in words (`core::model::human_label`), capitalised.
@@ -71,6 +198,18 @@ fn describe(kind: ItemKind, v: &Value, fmt: &Fmt) -> (String, String) {
                 fmt.flow_m3_min(num(v, "rated_flow_m3_min").unwrap_or(0.0)),
                 num(v, "purge_fraction").map_or(String::new(), |p| format!(", purge {}", fmt.percent(p))),
                 fmt.power_kw(num(v, "power_kw").unwrap_or(0.0)),
+            ),
+        ),
+        ItemKind::Filter => (
+            format!("Filter {}", s("tag")),
+            format!(
+                "{}; rated {}; clean drop {}, measured {}{}",
+                words(&s("kind")),
+                fmt.flow_m3_min(num(v, "rated_flow_m3_min").unwrap_or(0.0)),
+                fmt.pressure_delta_bar(num(v, "clean_drop_bar").unwrap_or(0.0)),
+                fmt.pressure_delta_bar(num(v, "measured_drop_bar").unwrap_or(0.0)),
+                num(v, "element_change_months")
+                    .map_or(String::new(), |m| format!("; element every {m} months")),
             ),
         ),
         ItemKind::Drain => (
@@ -110,12 +249,16 @@ async fn page(st: &AppState, id: i64, error: Option<String>) -> Result<Treatment
     let b = st.app.bundle(id).await?;
     let fmt = b.fmt();
     let mut rows = vec![];
-    for (kind, list) in
-        [(ItemKind::Dryer, "dryers"), (ItemKind::Drain, "drains"), (ItemKind::EndUse, "end-uses")]
-    {
+    for (kind, list) in [
+        (ItemKind::Dryer, "dryers"),
+        (ItemKind::Filter, "filters"),
+        (ItemKind::Drain, "drains"),
+        (ItemKind::EndUse, "end-uses"),
+    ] {
         for v in st.app.treatment_items(id, kind).await? {
             let (name, what) = describe(kind, &v, &fmt);
-            rows.push(Row { list, id: v["id"].as_i64().unwrap_or(0), name, what });
+            let fields = edit_fields(kind, &v, fmt.units);
+            rows.push(Row { list, id: v["id"].as_i64().unwrap_or(0), name, what, fields });
         }
     }
     let opts = |all: &[&'static str]| all.iter().map(|k| (*k, words(k))).collect::<Vec<_>>();
@@ -128,6 +271,7 @@ async fn page(st: &AppState, id: i64, error: Option<String>) -> Result<Treatment
         drain_kinds: opts(&DrainKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>()),
         use_kinds: opts(&EndUseKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>()),
         controls: opts(&DryerControl::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>()),
+        filter_kinds: opts(&FilterKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>()),
     })
 }
 
@@ -135,29 +279,50 @@ pub async fn treatment(State(st): State<AppState>, Path(id): Path<i64>) -> PageR
     Ok(render(&page(&st, id, None).await?))
 }
 
-/// The posted form as a record, numbers read in the units the form was drawn in.
-fn input(kind: ItemKind, form: &HashMap<String, String>) -> Result<TreatmentInput, AppError> {
+/// The posted form as a record, numbers read in the units the form was drawn in. `previous` is the
+/// stored record an edit form was filled from: a field posted as it was shown keeps its stored value.
+fn input(
+    kind: ItemKind,
+    form: &HashMap<String, String>,
+    previous: Option<&Value>,
+) -> Result<TreatmentInput, AppError> {
     let inp = Inputs::of_form(form);
+    let before = |k: &str| previous.and_then(|v| num(v, k));
     let text = |k: &str| form.get(k).map(|s| s.trim().to_string()).unwrap_or_default();
-    let plain = |k: &str| -> Result<Option<f64>, AppError> {
+    // A unit-free number; `stored` names the record's field, `percent` when the form shows a share.
+    let plain_as = |k: &str, stored: &str, percent: bool| -> Result<Option<f64>, AppError> {
         match form.get(k).map(|s| s.trim()) {
             None | Some("") => Ok(None),
-            Some(s) => s
-                .parse::<f64>()
-                .map(Some)
-                .map_err(|_| AppError::from(crate::app::Error::field(k, format!("{s:?} is not a number")))),
+            Some(s) => {
+                if let Some(p) = before(stored).filter(|p| plain_shown(*p, percent) == s) {
+                    return Ok(Some(p));
+                }
+                let v = s.replace(',', ".").parse::<f64>().map_err(|_| {
+                    AppError::from(crate::app::Error::field(k, format!("{s:?} is not a number")))
+                })?;
+                Ok(Some(if percent { v / 100.0 } else { v }))
+            }
         }
     };
-    let entry = |k: &str, e: Entry| inp.opt(form, k, e, None).map_err(AppError::from);
-    let share = |k: &str| -> Result<Option<f64>, AppError> { Ok(plain(k)?.map(|p| p / 100.0)) };
+    let plain = |k: &str| plain_as(k, k, false);
+    let entry = |k: &str, e: Entry| inp.opt(form, k, e, before(k)).map_err(AppError::from);
     Ok(match kind {
         ItemKind::Dryer => TreatmentInput::Dryer(DryerInput {
             tag: text("tag"),
             kind: text("kind"),
             control: text("control"),
             rated_flow_m3_min: entry("rated_flow_m3_min", Entry::FreeAirFlow)?.unwrap_or(f64::NAN),
-            purge_fraction: share("purge_percent")?,
+            purge_fraction: plain_as("purge_percent", "purge_fraction", true)?,
             power_kw: plain("power_kw")?.unwrap_or(0.0),
+        }),
+        ItemKind::Filter => TreatmentInput::Filter(FilterInput {
+            tag: text("tag"),
+            kind: text("kind"),
+            rated_flow_m3_min: entry("rated_flow_m3_min", Entry::FreeAirFlow)?.unwrap_or(f64::NAN),
+            clean_drop_bar: entry("clean_drop_bar", Entry::PressureDrop)?.unwrap_or(f64::NAN),
+            measured_drop_bar: entry("measured_drop_bar", Entry::PressureDrop)?.unwrap_or(f64::NAN),
+            element_change_months: plain("element_change_months")?,
+            element_cost: plain("element_cost")?,
         }),
         ItemKind::Drain => TreatmentInput::Drain(DrainInput {
             tag: text("tag"),
@@ -165,7 +330,7 @@ fn input(kind: ItemKind, form: &HashMap<String, String>) -> Result<TreatmentInpu
             open_s: plain("open_s")?,
             interval_s: plain("interval_s")?,
             orifice_mm: entry("orifice_mm", Entry::Diameter)?,
-            discharge_coefficient: None,
+            discharge_coefficient: previous.and_then(|v| num(v, "discharge_coefficient")),
         }),
         ItemKind::EndUse => TreatmentInput::EndUse(EndUseInput {
             name: text("name"),
@@ -174,16 +339,35 @@ fn input(kind: ItemKind, form: &HashMap<String, String>) -> Result<TreatmentInpu
             flow_m3_min: entry("flow_m3_min", Entry::FreeAirFlow)?,
             orifice_mm: entry("orifice_mm", Entry::Diameter)?,
             pressure_bar_g: entry("pressure_bar_g", Entry::GaugePressure)?,
-            duty: share("duty_percent")?.unwrap_or(1.0),
+            duty: plain_as("duty_percent", "duty", true)?.unwrap_or(1.0),
             regulated: form.contains_key("regulated"),
             alternative_kw: plain("alternative_kw")?,
         }),
     })
 }
 
+/// A record's field in words, for the page's refusal (the API names the code itself).
+fn field_words(field: &str) -> String {
+    match field {
+        "purge_fraction" => "Purge (share of rated flow)".into(),
+        "rated_flow_m3_min" => "Rated flow".into(),
+        "clean_drop_bar" => "Clean drop".into(),
+        "measured_drop_bar" => "Measured drop".into(),
+        "orifice_mm" => "Orifice or opening".into(),
+        "pressure_bar_g" => "Pressure at the use".into(),
+        "flow_m3_min" => "Air per use".into(),
+        "power_kw" => "Electrical input".into(),
+        other => words(other),
+    }
+}
+
 async fn refused(st: &AppState, id: i64, e: AppError) -> PageResult {
     match e {
-        AppError::Unprocessable { message, .. } => {
+        AppError::Unprocessable { message, field, .. } => {
+            let message = match field {
+                Some(f) => format!("{}: {message}", field_words(&f)),
+                None => message,
+            };
             let mut res = render(&page(st, id, Some(message)).await?);
             *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
             Ok(res)
@@ -201,7 +385,7 @@ pub async fn add(
         return Err(PageError::from(AppError::NotFound(format!("no list {list:?}"))));
     };
     let result = async {
-        let record = input(kind, &form)?;
+        let record = input(kind, &form, None)?;
         st.app.add_treatment_item(id, record).await.map_err(AppError::from)
     }
     .await;
@@ -227,4 +411,30 @@ pub async fn remove(
         return Err(PageError::from(AppError::NotFound(format!("audit {id} has no such record {iid}"))));
     }
     Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response())
+}
+
+/// An edit form posted: the record replaced through the API's check, its unchanged fields kept to
+/// the bit (`input`'s `previous`).
+pub async fn update(
+    State(st): State<AppState>,
+    Path((id, list, iid)): Path<(i64, String, i64)>,
+    Form(form): Form<HashMap<String, String>>,
+) -> PageResult {
+    let Some(kind) = ItemKind::from_segment(&list) else {
+        return Err(PageError::from(AppError::NotFound(format!("no list {list:?}"))));
+    };
+    let Some(stored) =
+        st.app.treatment_items(id, kind).await?.into_iter().find(|v| v["id"].as_i64() == Some(iid))
+    else {
+        return Err(PageError::from(AppError::NotFound(format!("audit {id} has no such record {iid}"))));
+    };
+    let result = async {
+        let record = input(kind, &form, Some(&stored))?;
+        st.app.update_treatment_item(id, iid, record).await.map_err(AppError::from)
+    }
+    .await;
+    match result {
+        Ok(_) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
+        Err(e) => refused(&st, id, e).await,
+    }
 }

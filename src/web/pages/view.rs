@@ -14,6 +14,7 @@ use crate::core::levels::LevelSource;
 use crate::core::model::human_label;
 use crate::core::partload::PartLoadModel;
 use crate::core::recommend::CostSource;
+use crate::core::series::PressurePoint;
 use crate::core::units::{M3_PER_FT3, PA_PER_PSI};
 
 /// A figure the summary may not have, as the formatter takes it (NaN shows as not available).
@@ -699,7 +700,8 @@ fn heat_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
     ]
 }
 
-/// The treatment records (dryers, drains) priced, in the reader's units.
+/// The transmission records priced, in the reader's units: dryers, drains, filters and the
+/// pressure drops between measuring points.
 fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
     let t = &sm.transmission;
     let mut rows = vec![];
@@ -718,6 +720,12 @@ fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)
                         "; dew-point control would purge {} less",
                         fmt.flow_m3_min(d.dew_point_control_saving_m3_min)
                     )
+                } else if d.cycling_saving_kw > 0.0 {
+                    format!(
+                        "; a cycling unit would draw {} less ({} a year)",
+                        fmt.power_kw(d.cycling_saving_kw),
+                        fmt.energy_kwh(d.cycling_saving_kwh)
+                    )
                 } else {
                     String::new()
                 }
@@ -731,6 +739,54 @@ fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)
                 "air lost {} ({} a year, {})",
                 fmt.flow_m3_min(d.air_m3_min),
                 fmt.energy_kwh(d.annual_kwh),
+                fmt.money(d.annual_cost, cur)
+            ),
+        ));
+    }
+    for f in &t.filters {
+        rows.push((
+            format!("Filter {} ({})", f.tag, words(&f.kind)),
+            format!(
+                "drop {} measured against {} clean at {} ({} clean at its rated {}, drop ∝ flow²): {} excess{}{}",
+                fmt.pressure_delta_bar(f.measured_drop_bar),
+                fmt.pressure_delta_bar(f.clean_drop_at_flow_bar),
+                fmt.flow_m3_min(f.flow_m3_min),
+                fmt.pressure_delta_bar(f.clean_drop_bar),
+                fmt.flow_m3_min(f.rated_flow_m3_min),
+                fmt.pressure_delta_bar(f.excess_drop_bar),
+                match (f.annual_kwh, f.annual_cost) {
+                    (Some(k), Some(c)) => format!(
+                        ", costing {} a year of loaded compressor energy ({})",
+                        fmt.energy_kwh(k),
+                        fmt.money(c, cur)
+                    ),
+                    _ => String::new(),
+                },
+                if f.change_recommended { "; change the element" } else { "" }
+            ),
+        ));
+    }
+    for d in &t.pressure_drops {
+        // The duration curve's 5 % point: the drop exceeded for 5 % of the logged time.
+        let p5_time = d.duration_curve_bar.get(1).copied();
+        rows.push((
+            format!(
+                "Pressure drop: {} ({}) to {} ({})",
+                d.from,
+                d.from_point.label(),
+                d.to,
+                d.to_point.label()
+            ),
+            format!(
+                "mean {}{}{}; costs {} a year ({}) of extra discharge pressure",
+                fmt.pressure_delta_bar(d.mean_bar),
+                d.at_peak_flow_bar
+                    .map_or(String::new(), |x| format!(", at peak flow {}", fmt.pressure_delta_bar(x))),
+                p5_time.map_or(String::new(), |x| format!(
+                    ", exceeded 5 % of the time {}",
+                    fmt.pressure_delta_bar(x)
+                )),
+                fmt.energy_kwh(d.annual_energy_kwh),
                 fmt.money(d.annual_cost, cur)
             ),
         ));
@@ -817,10 +873,13 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
             // `header_bar_g`) only tells apart two channels of one quantity, quoted as the file has it.
             let same = b.channels.iter().filter(|o| o.quantity == c.quantity && o.compressor_tag.is_none()).count();
             let what = if c.quantity == "flow" { "flow" } else { c.quantity.as_str() };
-            let name = match &c.compressor_tag {
-                Some(t) => t.clone(),
-                None if same > 1 => format!("{what} (column \u{201c}{}\u{201d})", c.label),
-                None => what.to_string(),
+            // A pressure measured at a named point says where (issue 19: the points on one chart).
+            let point = c.point.as_deref().and_then(PressurePoint::parse).filter(|p| *p != PressurePoint::Header);
+            let name = match (&c.compressor_tag, point) {
+                (Some(t), _) => t.clone(),
+                (None, Some(p)) => format!("{} ({})", c.label, p.label()),
+                (None, None) if same > 1 => format!("{what} (column \u{201c}{}\u{201d})", c.label),
+                (None, None) => what.to_string(),
             };
             serde_json::json!({"id": c.id, "quantity": if c.quantity == "energy" { "power" } else { c.quantity.as_str() }, "name": name, "counter": c.quantity == "energy"})
         })
