@@ -22,6 +22,7 @@ Architecture invariant: `core` imports nothing from `store`, `ingest` or `web`.
 - [`entry`]: what a person types into a form in the reader's units, and its stored value.
 - [`display`]: formatting every figure a person sees with its unit, SI or US customary, and the
   measures' parts in a reader's units.
+- [`plot`]: typed, downsampled figures drawn as inline SVG for paper (path data, axes, escaping).
 - [`model`]: the plain description of a site, its compressors and storage.
 - [`costs`]: the one table of default implementation costs; [`simulate`]: the what-if replay of
   the logged demand through a changed compressor room.
@@ -40,6 +41,7 @@ pub mod leaks;
 pub mod levels;
 pub mod model;
 pub mod partload;
+pub mod plot;
 pub mod recommend;
 pub mod safety;
 pub mod series;

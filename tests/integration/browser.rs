@@ -809,6 +809,9 @@ mod undo;
 #[path = "browser_units.rs"]
 mod units;
 
+#[path = "browser_findings.rs"]
+mod findings;
+
 #[path = "browser_treatment.rs"]
 mod treatment;
 

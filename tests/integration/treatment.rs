@@ -120,7 +120,9 @@ fn treatment_records_are_priced_into_the_summary_and_split_the_demand() {
     // The findings and the report show them, user text escaped.
     for page in ["findings", "report"] {
         let html = s.get(&format!("/audits/{id}/{page}")).text;
-        assert!(html.contains("Treatment, drains and end uses"), "{page}");
+        // Grouped as ISO 11011 does: dryers and drains under transmission, end uses under demand.
+        assert!(html.contains("Treatment and pressure drops"), "{page}");
+        assert!(html.contains("End uses and the demand split"), "{page}");
         assert!(html.contains("nutrunners &lt;b&gt;") || html.contains("nutrunners &#60;b&#62;"), "{page}");
         assert!(!html.contains("nutrunners <b>"), "{page}: unescaped user text");
         assert!(html.contains("Safety at dryers and drains"), "{page}");

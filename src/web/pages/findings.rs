@@ -6,6 +6,7 @@ use axum::extract::{Path, Query, State};
 use axum::http::header;
 use axum::response::{IntoResponse, Response};
 
+use super::plots::{findings_plots, FindingsPlots};
 use super::view::{report_view, ReportView};
 use super::words::{local_time, test_rows, TestRow};
 use super::{reader_fmt, render, PageError, ViewQuery};
@@ -32,6 +33,8 @@ struct FindingsPage {
     tests: Vec<TestRow>,
     /// Each file's first and last reading in the site's time.
     spans: Vec<(String, String)>,
+    /// The charts, by section, drawn as inline SVG.
+    plots: FindingsPlots,
 }
 
 async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage, AppError> {
@@ -39,6 +42,10 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
     let sm = app.summary(id, None).await?;
     let fmt = reader_fmt(&b, q);
     let view = report_view(&b, &fmt, sm.figures());
+    let plots = match sm.figures() {
+        Some(s) => findings_plots(app, &b, &fmt, s).await?,
+        None => FindingsPlots::default(),
+    };
     let (other_units, other_units_label) = if fmt.is_us() {
         ("si", "Show SI units (bar, m³/min)")
     } else {
@@ -58,6 +65,7 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
         other_units_label,
         tests: test_rows(&b.field_tests, &fmt, &tz),
         spans,
+        plots,
         system_volume_m3: b.storage().system_volume_m3(),
         atmosphere: format!("{:.2} kPa abs", b.audit.site.atmospheric_pressure_kpa_abs()),
         printed: jiff::Zoned::now().date().to_string(),

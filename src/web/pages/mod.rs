@@ -14,6 +14,7 @@ pub mod edit;
 pub mod findings;
 pub mod index;
 pub mod inputs;
+pub mod plots;
 pub mod remap;
 pub mod report;
 pub mod scenarios;

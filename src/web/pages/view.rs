@@ -114,9 +114,12 @@ pub struct ReportView {
     pub pressure: Vec<(String, String)>,
     pub demand: Vec<(String, String)>,
     pub heat: Vec<(String, String)>,
-    /// Dryers, drains, end uses and the demand split (`summary.transmission`, `demand_split`);
-    /// empty without such records.
+    /// Dryers and drains (`summary.transmission`): the transmission section; empty without such
+    /// records.
     pub transmission: Vec<(String, String)>,
+    /// End uses and the demand split (`summary.transmission.end_uses`, `demand_split`): the demand
+    /// section; empty without such records.
+    pub end_uses: Vec<(String, String)>,
     pub methods: Vec<(String, String, String)>,
     pub assumptions: Vec<String>,
     /// Sources of error the summary warns of (`Summary::warnings`).
@@ -216,6 +219,7 @@ fn empty_view() -> ReportView {
         demand: vec![],
         heat: vec![],
         transmission: vec![],
+        end_uses: vec![],
         methods: vec![],
         assumptions: vec![],
         warnings: vec![],
@@ -291,6 +295,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
         demand: demand_rows(sm, fmt),
         heat: heat_rows(sm, fmt, cur),
         transmission: transmission_rows(sm, fmt, cur),
+        end_uses: end_use_rows(sm, fmt),
         methods: sm
             .methods
             .iter()
@@ -695,7 +700,8 @@ fn heat_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
     ]
 }
 
-/// The treatment and end-use records priced, then the demand split, in the reader's units.
+/// The transmission records priced, in the reader's units: dryers, drains, filters and the
+/// pressure drops between measuring points.
 fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
     let t = &sm.transmission;
     let mut rows = vec![];
@@ -760,25 +766,6 @@ fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)
             ),
         ));
     }
-    for u in &t.end_uses {
-        rows.push((
-            format!(
-                "End use: {} ({}{})",
-                u.name,
-                words(&u.kind),
-                if u.inappropriate { ", inappropriate" } else { "" }
-            ),
-            format!(
-                "{} in production ({} a year of compressor energy){}",
-                fmt.flow_m3_min(u.production_mean_flow_m3_min),
-                fmt.energy_kwh(u.annual_air_kwh),
-                u.alternative_saving_kwh.map_or(String::new(), |k| format!(
-                    "; an electric alternative saves {} a year",
-                    fmt.energy_kwh(k)
-                ))
-            ),
-        ));
-    }
     for d in &t.pressure_drops {
         // The duration curve's 5 % point: the drop exceeded for 5 % of the logged time.
         let p5_time = d.duration_curve_bar.get(1).copied();
@@ -801,6 +788,32 @@ fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)
                 )),
                 fmt.energy_kwh(d.annual_energy_kwh),
                 fmt.money(d.annual_cost, cur)
+            ),
+        ));
+    }
+    rows
+}
+
+/// The end uses on record and the mean demand split by what uses it (ISO 11011's demand side).
+fn end_use_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
+    let mut rows = vec![];
+    let words = crate::core::model::human_label;
+    for u in &sm.transmission.end_uses {
+        rows.push((
+            format!(
+                "End use: {} ({}{})",
+                u.name,
+                words(&u.kind),
+                if u.inappropriate { ", inappropriate" } else { "" }
+            ),
+            format!(
+                "{} in production ({} a year of compressor energy){}",
+                fmt.flow_m3_min(u.production_mean_flow_m3_min),
+                fmt.energy_kwh(u.annual_air_kwh),
+                u.alternative_saving_kwh.map_or(String::new(), |k| format!(
+                    "; an electric alternative saves {} a year",
+                    fmt.energy_kwh(k)
+                ))
             ),
         ));
     }
