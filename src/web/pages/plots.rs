@@ -13,7 +13,6 @@ use crate::core::display::Fmt;
 use crate::core::plot::{
     bar_chart_svg, duration_curve, line_chart_svg, Axis, BarChart, BarRow, LineChart, Mark, Tick,
 };
-use crate::core::series::PressurePoint;
 use crate::core::units::{M3_PER_FT3, PA_PER_BAR, PA_PER_PSI};
 use crate::store::read::ChannelInfo;
 use crate::web::error::AppError;
@@ -76,17 +75,6 @@ impl Units {
 
 /// What a channel is called on a chart: its compressor's tag, else the quantity, with the file's
 /// column when two channels of one quantity need telling apart.
-fn channel_name(c: &ChannelInfo, all: &[ChannelInfo]) -> String {
-    let same = all.iter().filter(|o| o.quantity == c.quantity && o.compressor_tag.is_none()).count();
-    // A pressure measured at a named point says where (as on the report's chart).
-    let point = c.point.as_deref().and_then(PressurePoint::parse).filter(|p| *p != PressurePoint::Header);
-    match (&c.compressor_tag, point) {
-        (Some(t), _) => t.clone(),
-        (None, Some(p)) => format!("{}: {}", c.label, p.label()),
-        (None, None) if same > 1 => format!("{} in column \u{201c}{}\u{201d}", c.quantity, c.label),
-        (None, None) => c.quantity.clone(),
-    }
-}
 
 /// A time axis over `[from, to]` (ms UTC) with ticks at round local times of the site: hours
 /// when the span is short, midnights when it is days long.
@@ -184,12 +172,19 @@ async fn logged_chart(
     if chans.is_empty() {
         return Ok(None);
     }
-    let single = chans.len() == 1;
+    // The band goes with the channel the summary's figures describe: the header pressure (not tied
+    // to a compressor, measured in the header or at no stated point), else the first; the other
+    // points are lines, so that several stay readable.
+    let banded = chans
+        .iter()
+        .find(|c| c.compressor_tag.is_none() && c.point.as_deref().is_none_or(|p| p == "header"))
+        .or(chans.first())
+        .map(|c| c.id);
     let from = chans.iter().map(|c| c.first_ms).min().unwrap_or(0);
     let to = chans.iter().map(|c| c.last_ms).max().unwrap_or(from);
     let mut marks = vec![];
     for c in chans {
-        let name = channel_name(c, &b.channels);
+        let name = super::words::channel_name(c, &b.channels);
         let pts = app.chart_series(b, c, from, to, POINTS).await?;
         // A bucket that follows a longer silence than two buckets' time is a gap in the log.
         let gap = if pts.len() > 1 { (to - from) / pts.len() as i64 * 3 } else { i64::MAX };
@@ -205,8 +200,7 @@ async fn logged_chart(
             spread.push((p.t_ms as f64, conv(p.min), conv(p.max)));
             last = Some(p.t_ms);
         }
-        // With several channels (pressure at several points) the lines alone stay readable.
-        if band && single {
+        if band && banded == Some(c.id) {
             marks.push(Mark::Band { name: format!("{name} (least to greatest)"), points: spread });
         }
         marks.push(Mark::Line { name: format!("{name} (mean)"), points: line });
@@ -341,7 +335,7 @@ pub async fn findings_plots(
             let pts = app.chart_series(b, c, c.first_ms, c.last_ms, n).await?;
             let means: Vec<f64> = pts.iter().map(|p| conv_p(p.mean)).collect();
             let curve = duration_curve(&means, 101).into_iter().map(|(s, v)| (s * 100.0, v)).collect();
-            marks.push(Mark::Line { name: channel_name(c, &b.channels), points: curve });
+            marks.push(Mark::Line { name: super::words::channel_name(c, &b.channels), points: curve });
         }
         let marks = with_limit(marks);
         let chart = LineChart {

@@ -14,7 +14,6 @@ use crate::core::levels::LevelSource;
 use crate::core::model::human_label;
 use crate::core::partload::PartLoadModel;
 use crate::core::recommend::CostSource;
-use crate::core::series::PressurePoint;
 use crate::core::units::{M3_PER_FT3, PA_PER_PSI};
 
 /// A figure the summary may not have, as the formatter takes it (NaN shows as not available).
@@ -871,16 +870,7 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
         .map(|c| {
             // The legend says what is measured; the file's column name (often a code such as
             // `header_bar_g`) only tells apart two channels of one quantity, quoted as the file has it.
-            let same = b.channels.iter().filter(|o| o.quantity == c.quantity && o.compressor_tag.is_none()).count();
-            let what = if c.quantity == "flow" { "flow" } else { c.quantity.as_str() };
-            // A pressure measured at a named point says where (issue 19: the points on one chart).
-            let point = c.point.as_deref().and_then(PressurePoint::parse).filter(|p| *p != PressurePoint::Header);
-            let name = match (&c.compressor_tag, point) {
-                (Some(t), _) => t.clone(),
-                (None, Some(p)) => format!("{} ({})", c.label, p.label()),
-                (None, None) if same > 1 => format!("{what} (column \u{201c}{}\u{201d})", c.label),
-                (None, None) => what.to_string(),
-            };
+            let name = super::words::channel_name(c, &b.channels);
             serde_json::json!({"id": c.id, "quantity": if c.quantity == "energy" { "power" } else { c.quantity.as_str() }, "name": name, "counter": c.quantity == "energy"})
         })
         .collect();

@@ -5,7 +5,9 @@
 use crate::app::fieldtests::result_of;
 use crate::core::display::{num, Fmt};
 use crate::core::fieldtest::{FieldTestInput, FieldTestResult, VolumeSource};
+use crate::core::series::PressurePoint;
 use crate::store::audits::FieldTestRecord;
+use crate::store::read::ChannelInfo;
 
 /// A time as the site's clocks show it, with the zone's abbreviation: "Sat 16 Dec 2006 17:24 CST".
 /// Accepts RFC 3339 text; a text that is not one is given back as it is.
@@ -279,5 +281,21 @@ mod tests {
         };
         let w = input_words(&warm, None, &fmt, "UTC");
         assert!(w.ends_with("; stored air at 95 °F."), "{w}");
+    }
+}
+
+/// A logged channel's name on the charts (the report's and the findings'): a compressor's tag; a
+/// pressure measured at a named point, its name and where it was measured (the header too when
+/// there are several); else the quantity, with the file's column when there are several of it.
+pub fn channel_name(c: &ChannelInfo, all: &[ChannelInfo]) -> String {
+    let same = all.iter().filter(|o| o.quantity == c.quantity && o.compressor_tag.is_none()).count();
+    let what = if c.quantity == "energy" { "power" } else { c.quantity.as_str() };
+    let point =
+        c.point.as_deref().and_then(PressurePoint::parse).filter(|p| same > 1 || *p != PressurePoint::Header);
+    match (&c.compressor_tag, point) {
+        (Some(t), _) => t.clone(),
+        (None, Some(p)) => format!("{} ({})", c.label, p.label()),
+        (None, None) if same > 1 => format!("{what} (column \u{201c}{}\u{201d})", c.label),
+        (None, None) => what.to_string(),
     }
 }
