@@ -112,7 +112,8 @@ impl App {
     pub async fn decay_events(&self, id: i64) -> Result<Vec<DecayEvent>> {
         let b = self.bundle(id).await?;
         let Some(frame) = self.frame_for(&b, None).await? else { return Ok(vec![]) };
-        let spec = analysis::DataSpec::of(&b.audit.site.to_spec(), &b.specs());
+        let spec = analysis::DataSpec::of(&b.audit.site.to_spec(), &b.specs())
+            .with_system_volume(b.storage().system_volume_m3());
         let storage = b.storage();
         Ok(tokio::task::spawn_blocking(move || analysis::decay_events(&frame, &spec, &storage)).await?)
     }

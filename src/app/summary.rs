@@ -218,7 +218,14 @@ impl App {
     async fn compute_summary(&self, b: &AuditBundle, window: Option<(i64, i64)>) -> Result<Option<Summary>> {
         let site = b.audit.site.to_spec();
         let specs = b.specs();
-        let Some(figures) = self.data_figures_for(b, window, DataSpec::of(&site, &specs)).await? else {
+        let Some(figures) = self
+            .data_figures_for(
+                b,
+                window,
+                DataSpec::of(&site, &specs).with_system_volume(b.storage().system_volume_m3()),
+            )
+            .await?
+        else {
             return Ok(None);
         };
         // Rates stay the documented defaults; totals an auditor edited replace them, before the

@@ -36,6 +36,17 @@ capacity, common practice) is assumed and the model says so (`storage_assumed`).
   zero flow and the curve's lowest point. The marginal is the curve's local slope at the operating flow.
 - Start/stop: full specific power, `P = P_full Q/Q_rated`; storage only sets how often it starts.
 
+# Calibrated from the log
+Where a load/unload machine's log is fine enough, [`fit`] reads its band (from the pressure at its
+load and unload transitions) and its blow-down (start and τ, from the power after each unloading)
+and the model uses them in place of the defaults; `PartLoadModel` says which were fitted and which
+assumed, and why.
+
+# Reading power as air
+[`Machine::flow_at_power_m3_min`] inverts the curve: the mean delivery at which the model draws a
+logged mean power. The operating point and the control measure read the trim's air through it, so
+blow-down energy is not read as air.
+
 # Marginal specific power
 `dP/dQ` at the operating point, by a central difference over ±[`SLOPE_HALF_WIDTH`] of capacity
 (clamped inside 0..1). The operating point is the trim machine's logged one: the loaded share of its
@@ -46,6 +57,8 @@ use serde::{Deserialize, Serialize};
 
 use super::model::{CompressorSpec, Control};
 use super::states;
+
+pub mod fit;
 
 /// Sump blow-down after unloading: the power starts at this fraction of full (common practice).
 pub const BLOWDOWN_START_FRACTION: f64 = 0.65;
@@ -101,11 +114,32 @@ impl Storage {
     }
 }
 
+/// The sump blow-down after an unloading: the power starts at `start_fraction` of full and decays to
+/// the unloaded level with the time constant `tau_s`. The defaults are common practice; `fit` reads
+/// them from a log that shows them.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BlowDown {
+    pub start_fraction: f64,
+    pub tau_s: f64,
+}
+
+impl Default for BlowDown {
+    fn default() -> Self {
+        Self { start_fraction: BLOWDOWN_START_FRACTION, tau_s: BLOWDOWN_TAU_S }
+    }
+}
+
 /// Energy over `[s, s + dt]` after an unloading, as a share of full power × s: the exact integral of
 /// `u + (b - u) exp(-t/τ)`, `b` = max([`BLOWDOWN_START_FRACTION`], u).
 pub fn unloaded_energy(u: f64, s: f64, dt: f64) -> f64 {
-    let b = BLOWDOWN_START_FRACTION.max(u);
-    let decay = BLOWDOWN_TAU_S * ((-s / BLOWDOWN_TAU_S).exp() - (-(s + dt) / BLOWDOWN_TAU_S).exp());
+    unloaded_energy_with(u, s, dt, BlowDown::default())
+}
+
+/// [`unloaded_energy`] with a given blow-down (`b` = max(its start, u)).
+pub fn unloaded_energy_with(u: f64, s: f64, dt: f64, bd: BlowDown) -> f64 {
+    let b = bd.start_fraction.max(u);
+    let tau = bd.tau_s.max(1e-9);
+    let decay = tau * ((-s / tau).exp() - (-(s + dt) / tau).exp());
     u * dt + (b - u) * decay
 }
 
@@ -118,13 +152,18 @@ pub fn modulation_power_fraction(x: f64) -> f64 {
 /// Load/unload with storage: the cycle-mean power share at a load share `x`, with unloaded share `u`
 /// and band time `t0_s` (module doc). `t0_s` infinite gives the ideal line.
 pub fn load_unload_power_fraction(x: f64, u: f64, t0_s: f64) -> f64 {
+    load_unload_power_fraction_with(x, u, t0_s, BlowDown::default())
+}
+
+/// [`load_unload_power_fraction`] with a given blow-down.
+pub fn load_unload_power_fraction_with(x: f64, u: f64, t0_s: f64, bd: BlowDown) -> f64 {
     let x = x.clamp(0.0, 1.0);
     let ideal = x + (1.0 - x) * u;
     if x <= 0.0 || x >= 1.0 || !t0_s.is_finite() {
         return ideal;
     }
-    let b = BLOWDOWN_START_FRACTION.max(u);
-    let tau = BLOWDOWN_TAU_S;
+    let b = bd.start_fraction.max(u);
+    let tau = bd.tau_s.max(1e-9);
     // (b - u) τ (1 - e^{-t_U/τ}) per cycle of T0 / (x (1 - x)).
     ideal + (b - u) * (tau / t0_s.max(1e-9)) * x * (1.0 - x) * (1.0 - (-t0_s / (x * tau)).exp())
 }
@@ -138,6 +177,8 @@ pub struct Machine<'a> {
     /// Unloaded power / full power.
     pub unloaded_fraction: f64,
     pub storage: Storage,
+    /// The sump blow-down (load/unload only): the defaults, or fitted from the log (`fit`).
+    pub blowdown: BlowDown,
 }
 
 impl Machine<'_> {
@@ -149,7 +190,12 @@ impl Machine<'_> {
         match c.control {
             Control::LoadUnload => {
                 self.full_kw
-                    * load_unload_power_fraction(x, self.unloaded_fraction, self.storage.band_time_s(qc))
+                    * load_unload_power_fraction_with(
+                        x,
+                        self.unloaded_fraction,
+                        self.storage.band_time_s(qc),
+                        self.blowdown,
+                    )
             }
             Control::Modulation => self.full_kw * modulation_power_fraction(x),
             Control::StartStop => self.full_kw * x,
@@ -167,11 +213,35 @@ impl Machine<'_> {
     }
 
     /// Flow range of the model, m³/min: the curve's top for variable speed, else rated flow.
-    fn capacity_m3_min(&self) -> f64 {
+    pub fn capacity_m3_min(&self) -> f64 {
         match self.spec.control {
             Control::VariableSpeed => states::vsd_curve(self.spec).last().map_or(0.0, |p| p.0),
             _ => self.spec.rated_flow_m3_min,
         }
+    }
+
+    /// The inverse: the mean delivery, m³/min, at which the model draws `kw` (bisection over the
+    /// model's flow range; a power below the curve's lowest point gives 0, above its top the top).
+    /// The one way a logged mean power becomes the air it stands for (the operating point, the
+    /// control measure's demand).
+    pub fn flow_at_power_m3_min(&self, kw: f64) -> f64 {
+        let cap = self.capacity_m3_min().max(1e-12);
+        let (mut lo, mut hi) = (0.0, cap);
+        if !kw.is_finite() || kw <= self.power_at_flow_kw(lo) {
+            return 0.0;
+        }
+        if kw >= self.power_at_flow_kw(hi) {
+            return hi;
+        }
+        for _ in 0..60 {
+            let mid = 0.5 * (lo + hi);
+            if self.power_at_flow_kw(mid) < kw {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        0.5 * (lo + hi)
     }
 
     /// Marginal specific power at an operating delivery, kW per m³/min (module doc).
@@ -220,6 +290,10 @@ pub struct PartLoadModel {
     /// Operating point: mean delivery while running, m³/min free air, and as a share of capacity.
     pub operating_flow_m3_min: f64,
     pub load_fraction: f64,
+    /// How the operating point was read: `power_through_model` (the mean running power through the
+    /// model's inverse), `states` (start/stop: the running share; load/unload without power), `air`
+    /// (air delivered over running hours) or `assumed_half_load`.
+    pub load_fraction_source: String,
     /// Full-load power used, kW, and where from (`log` or `data_sheet`).
     pub full_power_kw: f64,
     pub full_power_source: String,
@@ -233,8 +307,16 @@ pub struct PartLoadModel {
     /// True when no system volume is on record and 3 US gal/cfm was assumed.
     pub storage_assumed: bool,
     pub pressure_band_bar: Option<f64>,
+    /// Load/unload only: `log` (fitted from the pressure at the transitions, `fit`) or `assumed`.
+    pub pressure_band_source: Option<String>,
     pub blowdown_start_fraction: Option<f64>,
     pub blowdown_tau_s: Option<f64>,
+    /// Load/unload only: `log` (fitted from the power after each unloading, `fit`) or `assumed`.
+    pub blowdown_source: Option<String>,
+    /// The logging interval the fit read, s (load/unload with logged power only).
+    pub logging_interval_s: Option<f64>,
+    /// What was fitted from the log and what assumed, and why (load/unload with logged power only).
+    pub calibration_note: Option<String>,
     /// The slope at the operating point, and the ideal line's for comparison, kW per m³/min.
     pub marginal_kw_per_m3_min: f64,
     pub ideal_marginal_kw_per_m3_min: f64,
@@ -259,6 +341,7 @@ impl PartLoadModel {
             curve: curve.into(),
             operating_flow_m3_min,
             load_fraction: operating_flow_m3_min / m.capacity_m3_min().max(1e-12),
+            load_fraction_source: "power_through_model".into(),
             full_power_kw: m.full_kw,
             full_power_source: sources.0.into(),
             unloaded_power_fraction: m.unloaded_fraction,
@@ -268,11 +351,32 @@ impl PartLoadModel {
             storage_us_gal_per_cfm: lu.then_some(per_cap / M3_PER_M3_MIN_PER_US_GAL_PER_CFM),
             storage_assumed: lu && m.storage.assumed,
             pressure_band_bar: lu.then_some(m.storage.band_bar),
-            blowdown_start_fraction: lu.then_some(BLOWDOWN_START_FRACTION.max(m.unloaded_fraction)),
-            blowdown_tau_s: lu.then_some(BLOWDOWN_TAU_S),
+            pressure_band_source: lu.then(|| "assumed".into()),
+            blowdown_start_fraction: lu.then_some(m.blowdown.start_fraction.max(m.unloaded_fraction)),
+            blowdown_tau_s: lu.then_some(m.blowdown.tau_s),
+            blowdown_source: lu.then(|| "assumed".into()),
+            logging_interval_s: None,
+            calibration_note: None,
             marginal_kw_per_m3_min: m.marginal_kw_per_m3_min(operating_flow_m3_min),
             ideal_marginal_kw_per_m3_min: m.ideal_marginal_kw_per_m3_min(),
         }
+    }
+
+    /// The model with what a log's fit gave it (`fit::calibrate`): the sources of the band and the
+    /// blow-down, the interval and the note. The values themselves are the machine's (the caller
+    /// built it with the fitted ones).
+    pub fn with_calibration(mut self, c: Option<&fit::Calibration>) -> Self {
+        if self.control != Control::LoadUnload {
+            return self;
+        }
+        if let Some(c) = c {
+            let src = |fitted: bool| Some(if fitted { "log" } else { "assumed" }.to_string());
+            self.pressure_band_source = src(c.band.is_some());
+            self.blowdown_source = src(c.blowdown.is_some());
+            self.logging_interval_s = Some(c.interval_s);
+            self.calibration_note = Some(c.note.clone());
+        }
+        self
     }
 
     /// The model in words, SI (the methods' and assumptions' lines).
@@ -285,12 +389,18 @@ impl PartLoadModel {
             self.load_fraction * 100.0
         );
         if let (Some(v), Some(g)) = (self.storage_m3, self.storage_us_gal_per_cfm) {
+            let from = |src: &Option<String>| match src.as_deref() {
+                Some("log") => " (fitted from the log)",
+                _ => " (assumed)",
+            };
             s.push_str(&format!(
-                ", storage {v:.2} m³ ({g:.1} US gal/cfm{}), band {:.1} bar, blow-down from {:.0} % with τ = {:.0} s",
+                ", storage {v:.2} m³ ({g:.1} US gal/cfm{}), band {:.2} bar{}, blow-down from {:.0} % with τ = {:.1} s{}",
                 if self.storage_assumed { ", assumed: no system volume on record (common practice)" } else { "" },
                 self.pressure_band_bar.unwrap_or(DEFAULT_BAND_BAR),
+                from(&self.pressure_band_source),
                 self.blowdown_start_fraction.unwrap_or(BLOWDOWN_START_FRACTION) * 100.0,
-                self.blowdown_tau_s.unwrap_or(BLOWDOWN_TAU_S)
+                self.blowdown_tau_s.unwrap_or(BLOWDOWN_TAU_S),
+                from(&self.blowdown_source)
             ));
         }
         s.push_str(&format!(

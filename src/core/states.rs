@@ -35,9 +35,12 @@ unload period.
   specific power rises only slightly towards minimum speed; from memory).
 - Start/stop: full specific power, `P = P_full Q/Q_rated` in the time average.
 
-These are the ideal lines; the figure that prices a change of demand when a machine trims (the
-**marginal** specific power) comes from `core::partload`, which adds the storage a load/unload machine
-cycles on and its sump blow-down, and takes the slope at the machine's logged operating point.
+These are the ideal lines, kept as the reference the part-load model is compared with
+(`ideal_marginal_kw_per_m3_min`) and for the data sheet's thresholds above. Every price reads
+`core::partload` instead, which adds the storage a load/unload machine cycles on and its sump
+blow-down: the **marginal** specific power behind leaks, pressure and artificial demand (its slope at
+the trim's logged operating point), that operating point itself (its inverse), the control measure's
+air and variable-speed power (`analysis::control`), and the replay's blow-down.
 */
 
 use serde::Serialize;

@@ -9,12 +9,18 @@ constant tau, restarting from b at each unloading). Demand is constant; the mean
 whole load/unload cycles once the cycle repeats. Storage is given in US gal per cfm of capacity and
 converted with pint.
 
+It also logs a trace of its own (`logged_trace`): one load/unload machine with a band, blow-down and
+unloaded level that are not the Rust model's defaults, on storage, under a demand that steps between
+levels, stepped at 0.01 s and logged as 2 s means of power and pressure. The Rust fit
+(src/core/partload/fit.rs) must give back the band and the blow-down from that log alone.
+
 Run once by hand; the Rust test reads partload_fixture.json beside this script:
 
     python3 tests/reference/partload_reference.py
 """
 
 import json
+import math
 import platform
 from pathlib import Path
 
@@ -75,6 +81,63 @@ def cycle_mean_power(x, v_m3):
     return (energy[-1] - energy[1]) / (unloads[-1] - unloads[1])
 
 
+# The logged trace's own machine (invented; not the model's defaults).
+TRACE = {
+    "full_kw": 55.0,
+    "capacity_m3_min": 10.0,
+    "unloaded_fraction": 0.30,
+    "blowdown_start_fraction": 0.70,
+    "blowdown_tau_s": 12.0,
+    "load_bar_g": 6.55,
+    "unload_bar_g": 7.0,
+    "volume_m3": 5.0,
+    "p_atm_bar": 1.01325,
+    "interval_s": 2.0,
+    "dt_s": 0.01,
+    # Demand share of capacity, each held for 5 minutes.
+    "demand_steps": [0.30, 0.45, 0.25, 0.55, 0.35, 0.40, 0.28, 0.50],
+    "step_minutes": 5.0,
+}
+
+
+def logged_trace():
+    """Power (kW) and gauge pressure (bar) logged as interval means, stepping the receiver in time."""
+    c = TRACE
+    q_c = c["capacity_m3_min"] / 60.0
+    k = c["p_atm_bar"] / c["volume_m3"]
+    u, b, tau = c["unloaded_fraction"], c["blowdown_start_fraction"], c["blowdown_tau_s"]
+    dt = c["dt_s"]
+    per_bin = round(c["interval_s"] / dt)
+    per_step = round(c["step_minutes"] * 60.0 / dt)
+    p = 0.5 * (c["load_bar_g"] + c["unload_bar_g"])
+    loaded, s = True, 1e9
+    power, pressure = [], []
+    e_acc, p_acc, n = 0.0, 0.0, 0
+    for x in c["demand_steps"]:
+        for _ in range(per_step):
+            if loaded:
+                share, q = 1.0, q_c
+            else:
+                mid = s + 0.5 * dt
+                share, q = u + (b - u) * math.exp(-mid / tau), 0.0
+            # The pressure over the step: its mean is the average of its two ends.
+            p_next = p + k * (q - x * q_c) * dt
+            e_acc += share * c["full_kw"]
+            p_acc += 0.5 * (p + p_next)
+            p = p_next
+            s += dt
+            n += 1
+            if loaded and p >= c["unload_bar_g"]:
+                loaded, s = False, 0.0
+            elif not loaded and p <= c["load_bar_g"]:
+                loaded = True
+            if n == per_bin:
+                power.append(round(e_acc / n, 5))
+                pressure.append(round(p_acc / n, 6))
+                e_acc, p_acc, n = 0.0, 0.0, 0
+    return power, pressure
+
+
 def main():
     out = {
         "versions": {"pint": pint.__version__, "python": platform.python_version()},
@@ -108,6 +171,15 @@ def main():
             }
         )
         print(g, round(v, 4), [round(p, 4) for _, p in points], round(slope, 4))
+    power, pressure = logged_trace()
+    out["logged_trace"] = {
+        "inputs": TRACE,
+        "source": "time-domain receiver and load/unload controller with its own band and blow-down, "
+        "stepped at 0.01 s and logged as 2 s means (this script)",
+        "power_kw": power,
+        "pressure_bar_g": pressure,
+    }
+    print("trace", len(power), "bins")
     path = Path(__file__).with_name("partload_fixture.json")
     path.write_text(json.dumps(out, indent=1) + "\n")
 

@@ -171,6 +171,11 @@ pub struct CompressorFigures {
     /// The off, unloaded and loaded levels found in the data (`core::levels`).
     pub levels_kw: Option<Levels>,
     pub marginal_kw_per_m3_min: f64,
+    /// Load/unload with logged power (else `null`): the band and blow-down of its own part-load
+    /// model (fitted from its log or assumed, `core::partload::fit`) and what was fitted, in words.
+    pub pressure_band_bar: Option<f64>,
+    pub blowdown_tau_s: Option<f64>,
+    pub calibration_note: Option<String>,
     pub trim: bool,
     pub heat_rejected_kwh: f64,
     pub recoverable_kwh: f64,

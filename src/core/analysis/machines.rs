@@ -174,16 +174,20 @@ pub(super) fn trim(cs: &[CompressorSpec], stats: &[Option<StateStats>]) -> Optio
     })
 }
 
-/// The part-load model of compressor `i` at its logged operating point (`core::partload`), on the
-/// system volume on record (0: none, the assumed storage stands in). A fixed-speed machine's full-load
-/// power and unloaded share are the levels found in its own log (or the auditor's), else the data
-/// sheet's. Its load share is read from its mean running power by the linear inverse
-/// `x = (P̄/P_full - u) / (1 - u)`, which bins as long as a load cycle do not bias (issue 17); the
-/// states' loaded share stands in where the power is not logged.
-pub(super) fn part_load_model(d: &DataFigures, i: usize, system_volume_m3: f64) -> PartLoadModel {
-    let c = &d.spec.compressors[i];
-    let stats = d.stats[i].as_ref();
-    let found = d.levels[i].as_ref().filter(|l| l.loaded > 0.0);
+/// The part-load model's machine for compressor `c` (`core::partload`), on the system volume on
+/// record (0: none, the assumed storage stands in), with the band and blow-down its log showed
+/// (`partload::fit`, else the defaults). A fixed-speed machine's full-load power and unloaded share
+/// are the levels found in its own log (or the auditor's), else the data sheet's; where the fit read
+/// the blow-down, the unloaded share is the level its decays settle to. Returns the sources
+/// of the full power and the unloaded share.
+pub(super) fn model_machine<'a>(
+    c: &'a CompressorSpec,
+    found: Option<&Levels>,
+    fit: Option<&partload::fit::Calibration>,
+    system_volume_m3: f64,
+    atm: PressureAbs,
+) -> (partload::Machine<'a>, (&'static str, &'static str)) {
+    let found = found.filter(|l| l.loaded > 0.0);
     let fixed_speed = matches!(c.control, Control::LoadUnload | Control::StartStop);
     let (full_kw, full_src) = match found {
         Some(l) if fixed_speed && l.loaded_source != LevelSource::DataSheet => {
@@ -191,32 +195,85 @@ pub(super) fn part_load_model(d: &DataFigures, i: usize, system_volume_m3: f64) 
         }
         _ => (c.rated_power_kw, "data_sheet"),
     };
+    let fitted_unloaded = fit.and_then(|f| f.blowdown.as_ref()).map(|b| b.unloaded_w / 1000.0);
     let (unloaded_fraction, unl_src) = match found {
-        Some(l) if l.unloaded_source != LevelSource::DataSheet && l.unloaded > 0.0 => (
-            (l.unloaded / l.loaded).clamp(0.0, 1.0),
-            if l.unloaded_source == LevelSource::User { "user" } else { "log" },
-        ),
+        Some(l) if l.unloaded_source == LevelSource::User && l.unloaded > 0.0 => {
+            ((l.unloaded / l.loaded).clamp(0.0, 1.0), "user")
+        }
+        // The level the fitted decays settle to: the histogram's unloaded mode sits on the
+        // blow-down when the unloaded runs are too short to settle (`partload::fit`).
+        Some(_) if fixed_speed && fitted_unloaded.is_some_and(|u| u > 0.0) => {
+            (fitted_unloaded.map_or(0.0, |u| u / full_kw.max(1e-9)).clamp(0.0, 1.0), "log")
+        }
+        Some(l) if l.unloaded_source != LevelSource::DataSheet && l.unloaded > 0.0 => {
+            ((l.unloaded / l.loaded).clamp(0.0, 1.0), "log")
+        }
         _ => (c.unloaded_power_fraction, "data_sheet"),
     };
-    let storage = Storage::of(system_volume_m3, c.rated_flow_m3_min, d.spec.air.atmosphere.bar_abs());
-    let m = partload::Machine { spec: c, full_kw, unloaded_fraction, storage };
+    let mut storage = Storage::of(system_volume_m3, c.rated_flow_m3_min, atm.bar_abs());
+    let mut blowdown = partload::BlowDown::default();
+    if let Some(f) = fit {
+        if let Some(b) = &f.band {
+            storage.band_bar = b.band_bar;
+        }
+        if let Some(b) = &f.blowdown {
+            blowdown = b.blowdown;
+        }
+    }
+    (partload::Machine { spec: c, full_kw, unloaded_fraction, storage, blowdown }, (full_src, unl_src))
+}
+
+/// The part-load model of compressor `i` at its logged operating point (`model_machine`). A
+/// load/unload machine's load share is read from its mean running power through the inverse of the
+/// same model (`partload::Machine::flow_at_power_m3_min`: its blow-down on its storage counted, so
+/// the blow-down energy is not read as air; with no blow-down in its log, the linear inverse
+/// `(P̄/P_full - u)/(1 - u)`), which bins as long as a load cycle do not bias, nor bins that hold a
+/// transition (issue 17); the states' loaded share stands in where the power is not logged.
+pub(super) fn part_load_model(d: &DataFigures, i: usize, system_volume_m3: f64) -> PartLoadModel {
+    let c = &d.spec.compressors[i];
+    let stats = d.stats[i].as_ref();
+    let fit = d.fits.get(i).and_then(Option::as_ref);
+    let (m, sources) = model_machine(c, d.levels[i].as_ref(), fit, system_volume_m3, d.spec.air.atmosphere);
     let running = stats.filter(|s| s.running_hours > 0.0 && s.off_fraction < 1.0);
-    let q = match (c.control, running) {
-        (_, None) => 0.5 * c.rated_flow_m3_min,
+    let states_share = |s: &StateStats| (s.loaded_fraction / (1.0 - s.off_fraction)).clamp(0.0, 1.0);
+    let (q, src) = match (c.control, running) {
+        (_, None) => (0.5 * c.rated_flow_m3_min, "assumed_half_load"),
         (Control::LoadUnload, Some(s)) => {
             let mean_running_kw = d.energy.mean_kw[i] / (1.0 - s.off_fraction);
-            let x = if mean_running_kw > 0.0 && unloaded_fraction < 1.0 {
-                (mean_running_kw / full_kw - unloaded_fraction) / (1.0 - unloaded_fraction)
+            if mean_running_kw > 0.0 {
+                (m.flow_at_power_m3_min(mean_running_kw), "power_through_model")
             } else {
-                s.loaded_fraction / (1.0 - s.off_fraction)
-            };
-            x.clamp(0.0, 1.0) * c.rated_flow_m3_min
+                (states_share(s) * c.rated_flow_m3_min, "states")
+            }
         }
-        (Control::StartStop, Some(s)) => (1.0 - s.off_fraction) * c.rated_flow_m3_min,
-        (_, Some(s)) if d.air[i].air_m3 > 0.0 => d.air[i].air_m3 / (s.running_hours * 60.0),
-        _ => 0.5 * c.rated_flow_m3_min,
+        (Control::StartStop, Some(s)) => ((1.0 - s.off_fraction) * c.rated_flow_m3_min, "states"),
+        (_, Some(s)) if d.air[i].air_m3 > 0.0 => (d.air[i].air_m3 / (s.running_hours * 60.0), "air"),
+        _ => (0.5 * c.rated_flow_m3_min, "assumed_half_load"),
     };
-    PartLoadModel::of(&m, q, (full_src, unl_src))
+    let mut model = PartLoadModel::of(&m, q, sources).with_calibration(fit);
+    model.load_fraction_source = src.into();
+    model
+}
+
+/// The band and blow-down each load/unload machine's log shows (`partload::fit`): its power on its
+/// states, its own discharge pressure or else the header's (`None`: not load/unload, or no power).
+pub(super) fn fits(
+    frame: &Frame,
+    cs: &[CompressorSpec],
+    logged: &Logged,
+) -> Vec<Option<partload::fit::Calibration>> {
+    cs.iter()
+        .enumerate()
+        .map(|(i, c)| {
+            if c.control != Control::LoadUnload {
+                return None;
+            }
+            let (p, s, l) = (logged.powers[i]?, logged.states[i].as_ref()?, logged.levels[i].as_ref()?);
+            let own = frame.columns.iter().find(|c| c.signal == Signal::Pressure && c.compressor == Some(i));
+            let pressure = own.or_else(|| frame.header_pressure()).map(|c| c.values.as_slice());
+            Some(partload::fit::calibrate(p, s, l.loaded * 1000.0, pressure, frame.grid.step_s()))
+        })
+        .collect()
 }
 
 /// The part-load model of the trim machine (of the first compressor without one): the curve and
@@ -370,6 +427,7 @@ pub(super) fn compressor_figures(
         let rated = c.rated_specific_power_kw_per_m3_min();
         let loaded_p = d.loaded_pressure_bar_g[i];
         let ds_kw = loaded_p.map(|p| datasheet_power_at(c, p, &d.spec.air));
+        let own = part_load_model(d, i, system_volume_m3);
         let (lo, hi) = band(energy_kwh[i], power_rel(acc, c));
         let s0 = d.stats[i].clone().unwrap_or(StateStats {
             logged_hours: 0.0,
@@ -426,7 +484,10 @@ pub(super) fn compressor_figures(
                 .zip(ds_kw)
                 .map(|(p, ds)| (p / ds - 1.0) * 100.0),
             levels_kw: d.levels[i].clone(),
-            marginal_kw_per_m3_min: part_load_model(d, i, system_volume_m3).marginal_kw_per_m3_min,
+            marginal_kw_per_m3_min: own.marginal_kw_per_m3_min,
+            pressure_band_bar: own.calibration_note.as_ref().and(own.pressure_band_bar),
+            blowdown_tau_s: own.calibration_note.as_ref().and(own.blowdown_tau_s),
+            calibration_note: own.calibration_note.clone(),
             trim: d.trim == Some(i),
             heat_rejected_kwh: h.rejected_kwh,
             recoverable_kwh: h.recoverable_kwh,

@@ -29,6 +29,8 @@ nor below 0 bar(g); a measure never saves more than the energy it acts on.
 mod baseline;
 mod calendar;
 mod control;
+#[cfg(test)]
+mod control_tests;
 mod decay;
 mod demand;
 mod drops;
@@ -105,16 +107,27 @@ pub struct DataSpec {
     pub air: SiteAir,
     pub timezone: String,
     pub production: Option<WeeklySchedule>,
+    /// System volume on record, m³ (0: none): the storage of the part-load model that reads the
+    /// trim's air in the control case (`control`), as [`AuditInput::system_volume_m3`].
+    pub system_volume_m3: f64,
 }
 
 impl DataSpec {
+    /// The spec without a system volume on record (see [`DataSpec::with_system_volume`]).
     pub fn of(site: &SiteSpec, compressors: &[CompressorSpec]) -> Self {
         Self {
             compressors: compressors.to_vec(),
             air: site.air,
             timezone: site.timezone.clone(),
             production: site.production.clone(),
+            system_volume_m3: 0.0,
         }
+    }
+
+    /// The same with the system volume on record, m³.
+    pub fn with_system_volume(mut self, system_volume_m3: f64) -> Self {
+        self.system_volume_m3 = system_volume_m3;
+        self
     }
 }
 
@@ -158,6 +171,8 @@ pub struct DataFigures {
     /// Per compressor: the levels found in its power, and its mean pressure while loaded, bar(g).
     levels: Vec<Option<crate::core::levels::Levels>>,
     loaded_pressure_bar_g: Vec<Option<f64>>,
+    /// Per compressor: the band and blow-down its log showed (`partload::fit`; load/unload only).
+    fits: Vec<Option<crate::core::partload::fit::Calibration>>,
     power_logged: Vec<bool>,
     energy: MachineEnergy,
     /// Power, W, per compressor (`None`: not logged).
@@ -222,7 +237,8 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
     let power_cells = baseline::power_cells(&cal, &logged);
     let machines = machines::machine_cells(cs, &logged, &cal, &production.is_prod);
     let loaded_pressure_bar_g = machines::loaded_pressure(frame, &logged, atm);
-    let control = control::control_case(&grid, cs, &logged, &cal, trim);
+    let fits = machines::fits(frame, cs, &logged);
+    let control = control::control_case(&grid, spec, &logged, &cal, trim, &fits);
     let pressure_fig = pressure::pressure_figures(pressure, atm, cs);
     let timezone = if cal.tz_ok { spec.timezone.clone() } else { "UTC".into() };
     let demand =
@@ -252,6 +268,7 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
         stats: logged.stats,
         levels: logged.levels,
         loaded_pressure_bar_g,
+        fits,
         energy,
         power_cells,
         air,
@@ -287,10 +304,13 @@ fn method(figure: &str, formula: &str, source: &str) -> Method {
 /// The summary from a [`DataFigures`] of the audit's frame: prices, costs, uncertainties, heat value,
 /// leaks (field tests and logs side by side) and the recommendations. Reads no bin, so it costs
 /// well under a millisecond whatever the log's length. `d` must be the data figures of the audit's frame
-/// under `DataSpec::of(input.site, input.compressors)`; the compressors and the site's air are
+/// under `DataSpec::of(input.site, input.compressors).with_system_volume(input.system_volume_m3)`; the compressors and the site's air are
 /// taken from `d.spec`.
 pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
-    debug_assert!(d.spec == DataSpec::of(input.site, input.compressors), "data figures of other specs");
+    debug_assert!(
+        d.spec == DataSpec::of(input.site, input.compressors).with_system_volume(input.system_volume_m3),
+        "data figures of other specs"
+    );
     let (site, cs, acc) = (input.site, d.spec.compressors.as_slice(), input.accuracy);
     let atm = d.spec.air.atmosphere;
     let mut methods: Vec<Method> = Vec::new();
@@ -543,6 +563,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
                 logged_annual_kwh: c.logged.annual(annual.rule) / 1000.0,
                 modelled_annual_kwh: c.modelled.annual(annual.rule) / 1000.0,
                 curve: c.curve.clone(),
+                model: c.model.clone(),
                 simultaneous_cycling_share: c.simultaneous_cycling_share,
             }),
             heat: heat.case,

@@ -17,7 +17,13 @@ pub(super) fn bar_g_to_pa_abs(bar_g: f64, air: &SiteAir) -> f64 {
 
 /// The summary of a frame: [`data_figures`] then [`summary_of`], as the application runs them.
 fn summarize(frame: &Frame, input: &AuditInput) -> Summary {
-    summary_of(&data_figures(frame, &DataSpec::of(input.site, input.compressors)), input)
+    summary_of(
+        &data_figures(
+            frame,
+            &DataSpec::of(input.site, input.compressors).with_system_volume(input.system_volume_m3),
+        ),
+        input,
+    )
 }
 
 /// A value of `tests/reference/fixture.json` (made by `tests/reference/make_reference.py`).
@@ -469,14 +475,19 @@ fn marginal_power_is_the_trim_machine_not_the_plant_average() {
         }],
     );
     assert_eq!(r.leaks.marginal_machine.as_deref(), Some("TRIM"));
-    // At 20 % load the trim's curve on 3 US gal/cfm (assumed: no volume on record) is steeper than
-    // the ideal line (core::partload: the blow-down is paid once a cycle, and cycles grow with load there).
+    // The trim's own log (10 s, under τ/2) shows its power falling straight from loaded to a flat
+    // unloaded level: no blow-down (core::partload::fit), so its curve on the assumed 3 US gal/cfm is
+    // the ideal line u + (1 - u) x, its load share the linear inverse of its mean power and its slope
+    // (1 - u) P/Q (US DOE compressed-air sourcebook, ideal load/unload).
     let model = r.part_load_model.as_ref().unwrap();
-    assert!((model.load_fraction - 0.2).abs() < 1e-12);
+    assert_eq!(model.blowdown_source.as_deref(), Some("log"), "{:?}", model.calibration_note);
+    assert!(model.calibration_note.as_deref().unwrap().contains("no blow-down"));
+    assert_eq!(model.load_fraction_source, "power_through_model");
+    assert!((model.load_fraction - 0.2).abs() < 1e-9, "{}", model.load_fraction);
     assert_eq!(model.unloaded_source, "log");
     assert!((model.unloaded_power_fraction - 0.25).abs() < 1e-6);
     assert_eq!(r.leaks.marginal_kw_per_m3_min, model.marginal_kw_per_m3_min);
-    assert!(model.marginal_kw_per_m3_min > 37.0 * 0.75 / 6.0);
+    assert!((model.marginal_kw_per_m3_min - 37.0 * 0.75 / 6.0).abs() < 1e-6);
     assert!(r.compressors[1].trim && !r.compressors[0].trim);
     assert!((r.compressors[1].loaded_fraction - 0.2).abs() < 1e-12);
     // Load/unload trim at 20 % load: a VSD trim is proposed.
@@ -602,8 +613,11 @@ fn specific_power_leaves_out_a_compressor_whose_power_is_not_logged() {
 
 #[test]
 fn leaks_are_priced_on_the_trims_curve_at_its_storage_as_a_time_domain_cycle_gives() {
-    // A load/unload trim loaded half the time (30 s loaded, 30 s unloaded at 25 % of 37 kW) on the
-    // assumed 3 US gal/cfm: the marginal is the slope at half load of the time-domain blow-down cycle
+    // A load/unload trim at half load on the assumed 3 US gal/cfm (no volume on record), logged at
+    // 1 s: its cycle is the receiver's (t_L = t_U = 2 T0, T0 = V Δp / (p_atm Q)) with the sump
+    // blow-down (0.65 -> 0.25 of 37 kW, τ = 20 s) integrated exactly into each 1 s bin. The fit reads
+    // that blow-down back from the log, the operating point comes back at half load through the
+    // model's inverse, and the marginal is the slope at half load of the time-domain blow-down cycle
     // (tests/reference/partload_reference.py, written to partload_fixture.json), not the ideal 0.75 P/Q.
     let f: serde_json::Value =
         serde_json::from_str(include_str!("../../../tests/reference/partload_fixture.json")).unwrap();
@@ -612,10 +626,28 @@ fn leaks_are_priced_on_the_trims_curve_at_its_storage_as_a_time_domain_cycle_giv
     let s = site();
     let cs =
         vec![spec("BASE", Control::LoadUnload, 90.0, 16.0), spec("TRIM", Control::LoadUnload, 37.0, 6.0)];
-    let n = 1080;
-    let trim: Vec<f32> = (0..n).map(|i| if i % 6 < 3 { 37_000.0 } else { 9_250.0 }).collect();
+    let atm_bar = s.air.atmosphere.bar_abs();
+    let v = 3.0 * crate::core::partload::M3_PER_M3_MIN_PER_US_GAL_PER_CFM * 6.0;
+    let t0 = v * 0.6 / (atm_bar * 6.0 / 60.0);
+    let (t_l, period) = (2.0 * t0, 4.0 * t0);
+    let (u, b, tau) = (0.25, 0.65, 20.0);
+    // Energy share × s from the start of a cycle (loaded first) to t.
+    let energy = |t: f64| {
+        let (k, ph) = ((t / period).floor(), t % period);
+        let one = |ph: f64| {
+            if ph <= t_l {
+                ph
+            } else {
+                t_l + u * (ph - t_l) + (b - u) * tau * (1.0 - (-(ph - t_l) / tau).exp())
+            }
+        };
+        k * one(period) + one(ph)
+    };
+    let n = 10_800;
+    let trim: Vec<f32> =
+        (0..n).map(|i| ((energy(i as f64 + 1.0) - energy(i as f64)) * 37_000.0) as f32).collect();
     let frame = Frame {
-        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 1_000, len: n },
         columns: vec![col(Signal::Power, Some(0), vec![90_000.0; n]), col(Signal::Power, Some(1), trim)],
     };
     let r = run(
@@ -632,10 +664,15 @@ fn leaks_are_priced_on_the_trims_curve_at_its_storage_as_a_time_domain_cycle_giv
     );
     let model = r.part_load_model.as_ref().unwrap();
     assert_eq!(model.machine, "TRIM");
-    assert!((model.load_fraction - 0.5).abs() < 1e-12);
+    eprintln!("{}", model.describe());
+    assert_eq!(model.blowdown_source.as_deref(), Some("log"));
+    assert!((model.blowdown_tau_s.unwrap() - tau).abs() < 1.0, "{:?}", model.blowdown_tau_s);
+    assert!((model.blowdown_start_fraction.unwrap() - b).abs() < 0.03, "{:?}", model.blowdown_start_fraction);
+    assert_eq!(model.pressure_band_source.as_deref(), Some("assumed"));
+    assert!((model.load_fraction - 0.5).abs() < 0.02, "{}", model.load_fraction);
     let want = slope * 37.0 / 6.0;
     assert!(
-        (r.leaks.marginal_kw_per_m3_min - want).abs() / want < 0.01,
+        (r.leaks.marginal_kw_per_m3_min - want).abs() / want < 0.03,
         "{} vs {want}",
         r.leaks.marginal_kw_per_m3_min
     );

@@ -14,6 +14,7 @@ fn machine(spec: &CompressorSpec, volume_m3: f64, p_atm_bar: f64) -> Machine<'_>
         full_kw: spec.rated_power_kw,
         unloaded_fraction: spec.unloaded_power_fraction,
         storage: Storage { volume_m3, band_bar: DEFAULT_BAND_BAR, p_atm_bar, assumed: false },
+        blowdown: BlowDown::default(),
     }
 }
 
@@ -100,7 +101,13 @@ fn no_volume_on_record_assumes_3_us_gal_per_cfm_and_says_so() {
     // T0 = V Δp / (p_atm Q): 4.5 m³ × 0.6 bar / (1 bar × 10/60 m³/s) = 16.2 s.
     assert!((r.band_time_s(10.0) - 16.2).abs() < 1e-9);
     let spec = CompressorSpec::blank(CompressorKind::LubricatedScrew, Control::LoadUnload, 55.0, 10.0);
-    let m = Machine { spec: &spec, full_kw: 55.0, unloaded_fraction: 0.25, storage: s };
+    let m = Machine {
+        spec: &spec,
+        full_kw: 55.0,
+        unloaded_fraction: 0.25,
+        storage: s,
+        blowdown: BlowDown::default(),
+    };
     let model = PartLoadModel::of(&m, 5.0, ("data_sheet", "data_sheet"));
     assert!(model.storage_assumed && model.curve == "load_unload_with_storage");
     assert!((model.storage_us_gal_per_cfm.unwrap() - 3.0).abs() < 1e-12);
@@ -137,4 +144,36 @@ fn the_unloaded_integral_is_the_blow_down_exponential_integrated() {
     let whole = unloaded_energy(u, 3.0, 40.0);
     let split = unloaded_energy(u, 3.0, 15.0) + unloaded_energy(u, 18.0, 25.0);
     assert!((whole - split).abs() < 1e-12);
+}
+
+#[test]
+fn the_inverse_reads_a_time_domain_cycles_mean_power_back_as_its_load() {
+    // tests/reference/partload_reference.py: the cycle-mean power share at load shares 0.2 to 0.8 on
+    // 1, 3, 5 and 10 US gal/cfm, stepped in time. The model's inverse (the mean delivery at which it
+    // draws a logged mean power) gives each load share back from its power, within 0.005.
+    let f = fixture();
+    let g = |k: &str| f["inputs"][k].as_f64().unwrap();
+    let mut spec = CompressorSpec::blank(
+        CompressorKind::LubricatedScrew,
+        Control::LoadUnload,
+        55.0,
+        g("capacity_m3_min"),
+    );
+    spec.unloaded_power_fraction = g("unloaded_fraction");
+    for c in f["curves"].as_array().unwrap() {
+        let m = machine(&spec, c["volume_m3"].as_f64().unwrap(), g("p_atm_bar"));
+        for pt in c["power_share_at_load_share"].as_array().unwrap() {
+            let (x, share) = (pt[0].as_f64().unwrap(), pt[1].as_f64().unwrap());
+            let got = m.flow_at_power_m3_min(share * 55.0) / spec.rated_flow_m3_min;
+            assert!(
+                (got - x).abs() < 5e-3,
+                "{} gal/cfm: {share} of full read as {got}, cycle at {x}",
+                c["us_gal_per_cfm"]
+            );
+        }
+    }
+    // Below the curve's lowest point nothing is delivered; above its top, capacity.
+    let m = machine(&spec, 4.0, 1.01325);
+    assert_eq!(m.flow_at_power_m3_min(0.2 * 55.0), 0.0);
+    assert_eq!(m.flow_at_power_m3_min(56.0), spec.rated_flow_m3_min);
 }

@@ -607,14 +607,15 @@ pub(super) fn improve_control(r: &RecommendInput, p: &Plant, first: &Plant) -> O
         basis: vec![
             text![format!("logged trim energy {:.0} kWh/yr", c.logged_annual_kwh)],
             text![format!("same demand on {}: {:.0} kWh/yr", c.curve, c.modelled_annual_kwh)],
+            text![c.model.clone()],
             text![format!(
                 "× {ratio:.3} for the trim energy left above idle, less {:.0} kWh/yr already switched off",
                 p.trim_idle_removed_kwh
             )],
         ],
-        formula: "saving = (logged trim energy - Σ P_vsd(mean trim flow per 5 min) × time) × trim energy left / logged - unloaded energy already switched off",
-        source: "US DOE sourcebook: part-load behaviour by control",
-        method: "logged trim energy against the same demand on a variable-speed curve; range ±15 % curve and the annual hours (US DOE sourcebook, part load)",
+        formula: "saving = (logged trim energy - Σ P_vsd(Q_w) × time) × trim energy left / logged - unloaded energy already switched off; Q_w the trim's air in each 5 min from its mean running power through its part-load model",
+        source: "US DOE sourcebook: part-load behaviour by control, load/unload curves by storage (core::partload)",
+        method: "logged trim energy against the same air on a variable-speed curve, the air read through the trim's part-load model (load/unload on storage with its blow-down); range ±15 % curve and the annual hours (US DOE sourcebook, part load)",
         caution: None,
         scenario_id: None,
     };

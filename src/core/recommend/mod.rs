@@ -2,7 +2,8 @@
 Measures: what to do about what the audit found, with annual savings, cost and simple payback.
 
 Savings show only through the compressors' part-load behaviour (US DOE compressed-air sourcebook): a change of demand is
-priced at the **marginal** specific power of the machine that trims (`states::marginal_kw_per_m3_min`),
+priced at the **marginal** specific power of the machine that trims (the slope of its part-load model
+at its logged operating point, `core::partload`),
 never at the plant's average, and a demand saving is never worth more than the trim machine's present
 energy above idle.
 
@@ -12,7 +13,7 @@ energy above idle.
 | `lower_pressure` | the **loaded** (delivering) energy of the machines making the air × 1 % per 2 psi (0.138 bar) lower (US DOE compressed-air sourcebook), or × the ratio of isentropic work (`pressure_rule`), + the artificial demand `dQ = (Q_unreg + leaks) Δp / p_now,abs` at the marginal curve. The step Δp keeps the logged 5th-percentile pressure, shifted down by it, above the critical end use (`critical_pressure_bar_g`, else the plant's low limit) plus the transmitter's uncertainty; never past `target_pressure_bar_g`, the low limit or 0 bar(g); no room, no measure | 2000 fixed (engineering, set-point changes) |
 | `recover_heat` | heat rejected (energy balance) × share on the cooling path × the unit's effectiveness (0.80 air, 0.75 water; editable; US DOE fact sheet 50-90 %), machines that ran; used in the heating months (space heating) or all year (process water); fuel = heat / heater efficiency × price; on the energy left after the electrical measures | 250 per kW of recoverable heat at full load |
 | `shut_off_idle` | energy spent unloaded in non-production hours; when the trim is among the machines switched off, also the leaks left × marginal power over its non-production hours (held at its energy above idle then), and later demand cuts are priced in production hours only | 800 per compressor (timer or sequencer rule) |
-| `improve_control` | the best replayed scenario (below) on the energy left, else (the trim's logged energy - the same demand on a variable-speed trim) × the trim's energy above idle left / logged - its unloaded energy already switched off | the scenario's cost (quoted, or `simulate::default_cost`); else 350 per kW of trim rating (a VSD trim), 3000 fixed when the audit already has a VSD to sequence as trim |
+| `improve_control` | the best replayed scenario (below) on the energy left, else (the trim's logged energy - the same air on a variable-speed trim, the air read in each 5 minutes from the trim's mean running power through its part-load model, `core::partload`) × the trim's energy above idle left / logged - its unloaded energy already switched off | the scenario's cost (quoted, or `simulate::default_cost`); else 350 per kW of trim rating (a VSD trim), 3000 fixed when the audit already has a VSD to sequence as trim |
 | `replace_compressor` | when the mean loaded power is more than 10 % above the data sheet's full-load power corrected to the mean pressure while loaded (ratio of isentropic work, `thermo::power_at_pressure`): loaded hours × (measured loaded kW - that corrected kW) × the machine's loaded energy left / logged; nothing once the trim it is has been replaced by the control measure | 400 per kW rated |
 | `dew_point_control` | purge a fixed-cycle desiccant dryer would not blow with dew-point switching (its purge × (1 - load through it), `core::treatment`) × marginal kW/(m³/min) × the hours left, held at the trim's energy above idle | 2500 per dryer |
 | `zero_loss_drains` | the timer and open drains' air (orifice flow × open time / interval) × marginal kW/(m³/min) × the hours left | 500 per drain |
@@ -547,6 +548,8 @@ pub struct ControlCase {
     pub modelled_annual_kwh: f64,
     /// Which curve modelled the VSD trim.
     pub curve: String,
+    /// The trim's part-load model that read its air from its logged power (`core::partload`), in words.
+    pub model: String,
     pub simultaneous_cycling_share: f64,
 }
 

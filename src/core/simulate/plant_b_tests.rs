@@ -7,6 +7,7 @@
 //! storage (about 3 US gal/cfm of K2), two shifts on weekdays and leaks at night.
 
 use super::*;
+use crate::core::levels;
 use crate::core::model::Control;
 use crate::core::series::{FrameColumn, Grid, Signal};
 use crate::core::states::tests::spec;
@@ -88,6 +89,11 @@ impl Noise {
 /// Three days (Wednesday to Friday night) logged on 10 s bins: each machine's power, the header
 /// pressure and the demand at the flow meter.
 fn plant_b_frame(site: &SiteAir) -> Frame {
+    plant_b_frame_at(site, 10.0)
+}
+
+/// The same three days logged on bins of `bin_s` (a whole number of the generator's steps).
+fn plant_b_frame_at(site: &SiteAir, bin_s: f64) -> Frame {
     let atm_bar = site.atmosphere.bar_abs();
     let mut k = [
         TrueMachine {
@@ -120,8 +126,8 @@ fn plant_b_frame(site: &SiteAir) -> Frame {
         },
     ];
     let hours = 72.0;
-    let bin_steps = (10.0 / DT_S) as usize;
-    let n = (hours * 360.0) as usize;
+    let bin_steps = (bin_s / DT_S) as usize;
+    let n = (hours * 3600.0 / bin_s) as usize;
     let mut noise = Noise(0x9e37_79b9_7f4a_7c15);
     let mut p = 6.7;
     let mut slow = 0.0;
@@ -129,7 +135,7 @@ fn plant_b_frame(site: &SiteAir) -> Frame {
     let mut cols: [Vec<f32>; 4] = Default::default();
     for i in 0..n {
         let (mut e, mut pp, mut qd) = ([0.0f64; 2], 0.0, 0.0);
-        let hour = (i as f64 * 10.0 / 3600.0) % 24.0;
+        let hour = (i as f64 * bin_s / 3600.0) % 24.0;
         let base = if (6.0..22.0).contains(&hour) {
             if (12.0..12.5).contains(&hour) {
                 9.0
@@ -155,10 +161,10 @@ fn plant_b_frame(site: &SiteAir) -> Frame {
             pp += p * DT_S;
             qd += demand * DT_S;
         }
-        cols[0].push((e[0] / 10.0 * 1000.0) as f32);
-        cols[1].push((e[1] / 10.0 * 1000.0) as f32);
-        cols[2].push(PressureAbs::from_bar_g(pp / 10.0, site.atmosphere).0 as f32);
-        cols[3].push((qd / 10.0) as f32);
+        cols[0].push((e[0] / bin_s * 1000.0) as f32);
+        cols[1].push((e[1] / bin_s * 1000.0) as f32);
+        cols[2].push(PressureAbs::from_bar_g(pp / bin_s, site.atmosphere).0 as f32);
+        cols[3].push((qd / bin_s) as f32);
     }
     let col = |signal, compressor, label: &str, values| FrameColumn {
         point: Default::default(),
@@ -170,7 +176,7 @@ fn plant_b_frame(site: &SiteAir) -> Frame {
     };
     let [k1, k2, pr, q] = cols;
     Frame {
-        grid: Grid { start_ms: 1_789_000_000_000, step_ms: 10_000, len: n },
+        grid: Grid { start_ms: 1_789_000_000_000, step_ms: (bin_s * 1000.0) as i64, len: n },
         columns: vec![
             col(Signal::Power, Some(0), "K1 kW", k1),
             col(Signal::Power, Some(1), "K2 kW", k2),
@@ -262,4 +268,55 @@ fn a_wrong_unloaded_power_on_the_data_sheet_is_calibrated_where_the_log_settles(
     // Within 0.2 kW of 0.22 × 45 kW: the blow-down left after 3 τ is 5 % of (b - u) at most.
     assert!((got - 0.22 * 45.0).abs() < 0.2, "K2: {got} kW vs {} kW", 0.22 * 45.0);
     assert!(r.validation_error.abs() < 0.03, "validation error {}", r.validation_error);
+}
+
+#[test]
+fn plant_bs_own_bands_and_blow_downs_come_back_from_its_2_s_log_and_not_from_its_10_s_one() {
+    // Plant B's generator has its own constants (K1: band 6.45 -> 7.0 bar(g), blow-down from 0.58 of
+    // 90 kW with τ = 26 s; K2: 6.25 -> 6.85 bar(g), from 0.60 of 45 kW with τ = 15 s), none of them
+    // the model's defaults. Logged at 2 s (under τ/2 of both), `partload::fit` reads them back from
+    // each machine's power on its states and the header pressure.
+    let site = SiteAir::new(96.4, 15.0);
+    let frame = plant_b_frame_at(&site, 2.0);
+    let specs = plant_b_specs();
+    let pressure = frame.header_pressure().map(|c| c.values.as_slice());
+    // (kW, start, τ s, band bar) of each machine, as the generator above has them.
+    for (i, (kw, start, tau, band)) in
+        [(90.0, 0.58, 26.0, 0.55), (45.0, 0.60, 15.0, 0.60)].into_iter().enumerate()
+    {
+        let p = &frame.power_of(i).unwrap().values;
+        let found = levels::find(&specs[i], p);
+        let st = crate::core::states::classify_with(&found.thresholds, p);
+        let loaded_w = found.levels.loaded * 1000.0;
+        let c = crate::core::partload::fit::calibrate(p, &st, loaded_w, pressure, 2.0);
+        eprintln!("plant B {}: {}", specs[i].tag, c.note);
+        let bd = c.blowdown.unwrap_or_else(|| panic!("{}: {}", specs[i].tag, c.note));
+        // τ within 10 %; the start, in kW, within 4 % of full power (the loaded level found moves
+        // with pressure, 1 % per 2 psi); the band within 0.05 bar.
+        assert!(
+            (bd.blowdown.tau_s - tau).abs() / tau < 0.10,
+            "{}: τ {} vs {tau}",
+            specs[i].tag,
+            bd.blowdown.tau_s
+        );
+        let start_kw = bd.blowdown.start_fraction * loaded_w / 1000.0;
+        assert!(
+            (start_kw - start * kw).abs() < 0.04 * kw,
+            "{}: start {start_kw} kW vs {}",
+            specs[i].tag,
+            start * kw
+        );
+        let b = c.band.unwrap_or_else(|| panic!("{}: {}", specs[i].tag, c.note));
+        assert!((b.band_bar - band).abs() < 0.05, "{}: band {} vs {band}", specs[i].tag, b.band_bar);
+    }
+    // The 10 s log of the same plant: K2's decay, τ = 15 s, spans under two intervals: the fit is
+    // refused, the blow-down assumed, and said so.
+    let coarse = plant_b_frame(&site);
+    let p = &coarse.power_of(1).unwrap().values;
+    let found = levels::find(&specs[1], p);
+    let st = crate::core::states::classify_with(&found.thresholds, p);
+    let c = crate::core::partload::fit::calibrate(p, &st, found.levels.loaded * 1000.0, None, 10.0);
+    eprintln!("plant B K2 at 10 s: {}", c.note);
+    assert!(c.blowdown.is_none() && c.note.contains("outside 2 intervals"), "{}", c.note);
+    assert!(c.note.contains("band assumed: no pressure logged"), "{}", c.note);
 }

@@ -188,6 +188,7 @@ fn the_replay_and_the_part_load_model_that_prices_leaks_agree_at_1_to_10_us_gal_
             full_kw: 55.0,
             unloaded_fraction: 0.25,
             storage: crate::core::partload::Storage::of(v, 9.5, atm),
+            blowdown: Default::default(),
         };
         let x = q / 9.5;
         let want = m.power_at_flow_kw(q) - 55.0 * x * POWER_PER_BAR * 0.5 * BAND_BAR;

@@ -73,9 +73,6 @@ impl Units {
     }
 }
 
-/// What a channel is called on a chart: its compressor's tag, else the quantity, with the file's
-/// column when two channels of one quantity need telling apart.
-
 /// A time axis over `[from, to]` (ms UTC) with ticks at round local times of the site: hours
 /// when the span is short, midnights when it is days long.
 pub fn time_axis(from_ms: i64, to_ms: i64, tz: &str) -> Axis {

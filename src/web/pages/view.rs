@@ -328,12 +328,19 @@ fn part_load_note(m: &PartLoadModel, fmt: &Fmt) -> String {
         } else {
             format!("{} m³ per m³/min", num(per, 2))
         };
+        let from = |src: &Option<String>| match src.as_deref() {
+            Some("log") => "fitted from the log",
+            _ => "assumed, common practice",
+        };
         parts.push(format!(
-            "storage {} ({per} of trim capacity{}), band {}, sump blow-down over {} s",
+            "storage {} ({per} of trim capacity{}), band {} ({}), sump blow-down from {} of full power over τ = {} s ({})",
             fmt.volume_m3(v),
             if m.storage_assumed { ", assumed: no system volume on record, common practice" } else { "" },
             fmt.pressure_delta_bar(m.pressure_band_bar.unwrap_or(f64::NAN)),
-            num(m.blowdown_tau_s.unwrap_or(f64::NAN), 0)
+            from(&m.pressure_band_source),
+            fmt.percent(m.blowdown_start_fraction.unwrap_or(f64::NAN)),
+            num(m.blowdown_tau_s.unwrap_or(f64::NAN), 1),
+            from(&m.blowdown_source)
         ));
     }
     parts.push(format!("the ideal line would give {}", fmt.specific_power(m.ideal_marginal_kw_per_m3_min)));
@@ -938,6 +945,7 @@ mod part_load_note_tests {
             full_kw: 37.0,
             unloaded_fraction: 0.25,
             storage: Storage::of(0.0, 6.0, 1.01325),
+            blowdown: Default::default(),
         };
         let model = PartLoadModel::of(&m, 3.0, ("log", "log"));
         let atm = PressureAbs::from_kpa_abs(101.325);

@@ -217,6 +217,22 @@ pub fn test_rows(tests: &[FieldTestRecord], fmt: &Fmt, tz: &str) -> Vec<TestRow>
         .collect()
 }
 
+/// A logged channel's name on the charts (the report's and the findings'): a compressor's tag; a
+/// pressure measured at a named point, its name and where it was measured (the header too when
+/// there are several); else the quantity, with the file's column when there are several of it.
+pub fn channel_name(c: &ChannelInfo, all: &[ChannelInfo]) -> String {
+    let same = all.iter().filter(|o| o.quantity == c.quantity && o.compressor_tag.is_none()).count();
+    let what = if c.quantity == "energy" { "power" } else { c.quantity.as_str() };
+    let point =
+        c.point.as_deref().and_then(PressurePoint::parse).filter(|p| same > 1 || *p != PressurePoint::Header);
+    match (&c.compressor_tag, point) {
+        (Some(t), _) => t.clone(),
+        (None, Some(p)) => format!("{} ({})", c.label, p.label()),
+        (None, None) if same > 1 => format!("{what} (column \u{201c}{}\u{201d})", c.label),
+        (None, None) => what.to_string(),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -281,21 +297,5 @@ mod tests {
         };
         let w = input_words(&warm, None, &fmt, "UTC");
         assert!(w.ends_with("; stored air at 95 °F."), "{w}");
-    }
-}
-
-/// A logged channel's name on the charts (the report's and the findings'): a compressor's tag; a
-/// pressure measured at a named point, its name and where it was measured (the header too when
-/// there are several); else the quantity, with the file's column when there are several of it.
-pub fn channel_name(c: &ChannelInfo, all: &[ChannelInfo]) -> String {
-    let same = all.iter().filter(|o| o.quantity == c.quantity && o.compressor_tag.is_none()).count();
-    let what = if c.quantity == "energy" { "power" } else { c.quantity.as_str() };
-    let point =
-        c.point.as_deref().and_then(PressurePoint::parse).filter(|p| same > 1 || *p != PressurePoint::Header);
-    match (&c.compressor_tag, point) {
-        (Some(t), _) => t.clone(),
-        (None, Some(p)) => format!("{} ({})", c.label, p.label()),
-        (None, None) if same > 1 => format!("{what} (column \u{201c}{}\u{201d})", c.label),
-        (None, None) => what.to_string(),
     }
 }
