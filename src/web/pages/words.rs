@@ -3,27 +3,10 @@
 //! prints a field code or JSON.
 
 use crate::app::fieldtests::result_of;
+pub use crate::core::display::{local_ms, local_time};
 use crate::core::display::{num, Fmt};
 use crate::core::fieldtest::{FieldTestInput, FieldTestResult, VolumeSource};
 use crate::store::audits::FieldTestRecord;
-
-/// A time as the site's clocks show it, with the zone's abbreviation: "Sat 16 Dec 2006 17:24 CST".
-/// Accepts RFC 3339 text; a text that is not one is given back as it is.
-pub fn local_time(rfc3339: &str, tz: &str) -> String {
-    let Ok(ts) = rfc3339.trim().parse::<jiff::Timestamp>() else {
-        return rfc3339.to_string();
-    };
-    local_ms(ts.as_millisecond(), tz)
-}
-
-/// A time in ms since 1970 UTC as the site's clocks show it, with the zone's abbreviation.
-pub fn local_ms(ms: i64, tz: &str) -> String {
-    let Ok(ts) = jiff::Timestamp::from_millisecond(ms) else {
-        return String::new();
-    };
-    let zone = jiff::tz::TimeZone::get(tz).unwrap_or(jiff::tz::TimeZone::UTC);
-    ts.to_zoned(zone).strftime("%a %-d %b %Y %H:%M %Z").to_string()
-}
 
 /// The site's local days that the logged spans `(first_ms, last_ms)` touch, in order, at most `cap`
 /// of them: each as (start, end) in ms UTC, cut at the zone's midnights (a daylight-saving day is
@@ -47,6 +30,56 @@ pub fn local_days(spans: &[(i64, i64)], tz: &str, cap: usize) -> Vec<(i64, i64, 
     }
     days.into_iter().take(cap).map(|(a, (b, label))| (a, b, label)).collect()
 }
+
+/// A formula as people write it: a name's subscript (`p_atm`, `p_production,abs`, `Q_rated,i`)
+/// set below the line (`<sub>`), never shown as an underscore; everything else escaped. It writes
+/// itself as HTML (askama's `HtmlSafe`), so a template prints it as it prints text.
+#[derive(Debug, Clone, Default)]
+pub struct Formula(pub String);
+
+impl std::fmt::Display for Formula {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let escape = |c: char, out: &mut String| match c {
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '&' => out.push_str("&amp;"),
+            '"' => out.push_str("&#34;"),
+            '\'' => out.push_str("&#39;"),
+            c => out.push(c),
+        };
+        let chars: Vec<char> = self.0.chars().collect();
+        let mut out = String::with_capacity(self.0.len() + 16);
+        let mut i = 0;
+        while i < chars.len() {
+            let c = chars[i];
+            let after_name = i > 0 && chars[i - 1].is_alphanumeric();
+            let before_sub = chars.get(i + 1).is_some_and(|n| n.is_alphanumeric());
+            if c == '_' && after_name && before_sub {
+                // The subscript: letters and digits, joined by a comma or hyphen between them.
+                let mut j = i + 1;
+                while j < chars.len()
+                    && (chars[j].is_alphanumeric()
+                        || (matches!(chars[j], ',' | '-')
+                            && chars.get(j + 1).is_some_and(|n| n.is_alphanumeric())))
+                {
+                    j += 1;
+                }
+                out.push_str("<sub>");
+                for &s in &chars[i + 1..j] {
+                    escape(s, &mut out);
+                }
+                out.push_str("</sub>");
+                i = j;
+            } else {
+                escape(c, &mut out);
+                i += 1;
+            }
+        }
+        f.write_str(&out)
+    }
+}
+
+impl askama::filters::HtmlSafe for Formula {}
 
 /// A recorded field test as the tests page and the findings show it.
 pub struct TestRow {
@@ -248,6 +281,25 @@ mod tests {
         );
         assert_eq!(apart.len(), 2);
         assert_eq!(local_days(&[(0, 400 * 86_400_000)], "UTC", 10).len(), 10);
+    }
+
+    #[test]
+    fn a_formula_sets_subscripts_below_the_line_and_escapes_the_rest() {
+        let f = Formula(
+            "Σ p_atm Q ln(p_header / p_atm) × p_production,abs / p_non-production,abs; a<b & Q_rated,i"
+                .into(),
+        );
+        assert_eq!(
+            f.to_string(),
+            "Σ p<sub>atm</sub> Q ln(p<sub>header</sub> / p<sub>atm</sub>) × p<sub>production,abs</sub> / \
+             p<sub>non-production,abs</sub>; a&lt;b &amp; Q<sub>rated,i</sub>"
+        );
+        // A subscript ends at a space or bracket, a minus between spaces stays a minus.
+        assert_eq!(
+            Formula("p5 - (p_critical + u_p)".into()).to_string(),
+            "p5 - (p<sub>critical</sub> + u<sub>p</sub>)"
+        );
+        assert_eq!(Formula("<script>_x".into()).to_string(), "&lt;script&gt;_x");
     }
 
     #[test]
