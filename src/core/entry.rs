@@ -126,6 +126,12 @@ impl Entry {
         short(self.from_stored(units, stored))
     }
 
+    /// A stored value as a refusal quotes it to a reader of `units`: the number as the field would
+    /// show it, and the unit ("90 psig", "6.2 bar(g)").
+    pub fn said(self, units: UnitSystem, stored: f64) -> String {
+        format!("{} {}", self.shown(units, stored), self.unit(units).label)
+    }
+
     /// The stored value of a posted text. `previous` is the record's stored value: when the text
     /// is what [`Entry::shown`] gave for it, it is kept exactly. Commas read as decimal points.
     pub fn read(self, units: UnitSystem, text: &str, previous: Option<f64>) -> Result<f64, String> {
@@ -274,6 +280,15 @@ mod tests {
         assert_eq!(short(-0.000_000_000_1), "-0.0000000001");
         assert_eq!(short(1_234_567_890.4), "1234567890");
         assert_eq!(short(f64::NAN), "");
+    }
+
+    #[test]
+    fn a_refusal_quotes_the_value_as_it_was_typed() {
+        // 90 psig typed: stored 90 × 0.06894757 bar(g) (NIST SP 811), said back as 90 psig.
+        let stored = Entry::GaugePressure.read(Us, "90", None).unwrap();
+        assert_eq!(Entry::GaugePressure.said(Us, stored), "90 psig");
+        assert_eq!(Entry::GaugePressure.said(Si, 6.5), "6.5 bar(g)");
+        assert_eq!(Entry::Volume.said(Us, Entry::Volume.read(Us, "660", None).unwrap()), "660 US gal");
     }
 
     #[test]
