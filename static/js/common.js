@@ -82,6 +82,41 @@ window.airledger = {
     if (/^columns\[/.test(field)) return null;
     return field.replace(/_(bar_g|m3_min|m3|kw|s|c|mm)$/, "").replace(/[._]/g, " ");
   },
+  // The mapping form's dates (upload and remap pages): the server reads the first rows' times under
+  // every format that reads them, in the zone given (POST /api/v1/audits/{id}/date-readings); the
+  // readings are offered in words in `o.select`, the chosen one's rows listed in `o.list` as
+  // "16/12/2006 17:24:00 -> Sat 16 Dec 2006 17:24 CST, America/Chicago". Choosing one sets the
+  // advanced format field `o.format`; a change of zone, format or interval reads them again.
+  datePreview(o) {
+    const A = this;
+    let seq = 0;
+    async function refresh() {
+      const cells = o.cells();
+      if (!cells.length) { o.list.replaceChildren(); return; }
+      const body = { cells: cells, format: o.format.value.trim() || null, timezone: o.zone.value.trim() || null };
+      const iv = o.interval ? o.interval() : "";
+      if (iv) body.interval = iv;
+      const mine = ++seq;
+      try {
+        const r = await A.json("/api/v1/audits/" + o.auditId + "/date-readings", {
+          method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body),
+        });
+        if (mine !== seq) return;
+        o.select.replaceChildren(...r.readings.map((x) => A.el("option", { value: x.format, selected: x.format === o.format.value },
+          x.words + (x.reads_all ? "" : " (does not read every row)"))));
+        const chosen = r.readings.find((x) => x.format === o.format.value) || r.readings[0];
+        o.list.replaceChildren(...(chosen ? chosen.rows : []).map((row) =>
+          A.el("li", {}, row.text + " \u2192 " + (row.reads_as || "not read as a date by this format"))));
+      } catch (e) {
+        if (mine === seq) o.list.replaceChildren(A.el("li", { class: "warn" }, e.message));
+      }
+    }
+    o.select.addEventListener("change", () => { o.format.value = o.select.value; o.select.dataset.chosen = "yes"; refresh(); });
+    o.format.addEventListener("change", refresh);
+    o.zone.addEventListener("change", refresh);
+    for (const el of o.also || []) el.addEventListener("change", refresh);
+    return refresh;
+  },
   async json(url, options) {
     const r = await fetch(url, options);
     const body = await r.json().catch(() => ({}));
