@@ -136,6 +136,39 @@ for (const el of document.querySelectorAll("table.data td, table.data th, .figur
   const w = document.createTreeWalker(el, NodeFilter.SHOW_TEXT);
   for (let n = w.nextNode(); n; n = w.nextNode()) n.nodeValue = n.nodeValue.replace(/(\d) (?=[^\s\d(–-])/g, "$1\u00a0");
 }
+// A form with a unit switch (select[data-unit-switch], page data `entry_tables` per system): its
+// fields with data-entry follow the chosen system. Each value is carried across as the same stored
+// quantity (core::entry factors), the labels' units change, and the hidden entry_units field tells
+// the server which units the fields now hold. Without scripts the form posts in the units it was
+// drawn in.
+(function unitSwitch() {
+  const data = window.airledger.pageData();
+  if (!data || !data.entry_tables) return;
+  for (const sel of document.querySelectorAll("select[data-unit-switch]")) {
+    const form = sel.form;
+    const hidden = form.querySelector("[data-entry-units]");
+    for (const h of form.querySelectorAll(".no-script-hint")) h.hidden = true;
+    let now = hidden ? hidden.value : "si";
+    sel.addEventListener("change", () => {
+      const from = data.entry_tables[now], to = data.entry_tables[sel.value];
+      if (!from || !to || sel.value === now) return;
+      for (const el of form.querySelectorAll("[data-entry]")) {
+        const k = el.getAttribute("data-entry"), a = from.fields[k], b = to.fields[k];
+        if (!a || !b) continue;
+        if (el.value.trim() !== "") {
+          const stored = Number(el.value.replace(",", ".")) * a.factor + a.offset;
+          el.value = String(Number(((stored - b.offset) / b.factor).toPrecision(9)));
+        }
+      }
+      for (const span of form.querySelectorAll("[data-unit-of]")) {
+        const b = to.fields[span.getAttribute("data-unit-of")];
+        if (b) span.textContent = b.label;
+      }
+      now = sel.value;
+      if (hidden) hidden.value = now;
+    });
+  }
+})();
 document.addEventListener("click", (ev) => {
   const t = ev.target;
   if (t && t.matches && t.matches("[data-print]")) window.print();
