@@ -792,6 +792,9 @@ mod undo;
 #[path = "browser_units.rs"]
 mod units;
 
+#[path = "browser_forms.rs"]
+mod forms;
+
 /// The report of an audit built from three files that never overlap in time (issue 16) opens with
 /// the sufficiency verdict and its reasons, above the figures, and shows no annual figure: each
 /// reads "not enough data" with the reason.
