@@ -341,10 +341,18 @@ enum Quoted {
 }
 
 impl Quoted {
+    /// A value as typed.
     fn say(self, v: f64) -> String {
         match self {
             Quoted::Entry(e, units) => e.said(units, v),
             Quoted::Seconds => format!("{} s", super::entry::short(v)),
+        }
+    }
+    /// A limit, to four figures.
+    fn limit(self, v: f64) -> String {
+        match self {
+            Quoted::Entry(e, units) => e.limit(units, v),
+            Quoted::Seconds => self.say(v),
         }
     }
 }
@@ -356,7 +364,7 @@ fn within(field: &str, words: &str, v: f64, (lo, hi): (f64, f64), q: Quoted) -> 
         Ok(v)
     } else {
         let got = if v.is_finite() { q.say(v) } else { "no number".into() };
-        Err(err(field, format!("{words} must be from {} to {}, got {got}", q.say(lo), q.say(hi))))
+        Err(err(field, format!("{words} must be from {} to {}, got {got}", q.limit(lo), q.limit(hi))))
     }
 }
 
@@ -366,7 +374,10 @@ fn pressure(field: &str, bar_g: f64, site: &SiteAir, units: UnitSystem) -> Resul
         let got = if bar_g.is_finite() { say(bar_g) } else { "no number".into() };
         return Err(err(
             field,
-            format!("pressure must be a number up to {}, got {got}", say(MAX_PRESSURE_BAR_G)),
+            format!(
+                "pressure must be a number up to {}, got {got}",
+                Entry::GaugePressure.limit(units, MAX_PRESSURE_BAR_G)
+            ),
         ));
     }
     let p = PressureAbs::from_bar_g(bar_g, site.atmosphere);
@@ -397,7 +408,7 @@ fn volume(
             field,
             format!(
                 "the system volume must be above 0 and at most {}, got {got} ({whose})",
-                say(MAX_VOLUME_M3)
+                Entry::Volume.limit(units, MAX_VOLUME_M3)
             ),
         ));
     }

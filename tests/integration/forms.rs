@@ -158,3 +158,54 @@ fn the_html_report_carries_its_styles_and_links_no_server_path() {
     assert!(html.contains("counter(pages)") && html.contains("@top-left"), "no running head or page numbers");
     assert!(html.contains("Recommendations: measures stacked in order"));
 }
+
+#[test]
+fn compressor_receiver_site_and_what_if_refusals_speak_the_audits_units() {
+    let s = Server::start();
+    let id = chicago_audit(&s, "us");
+    // NIST SP 811 (2008) B.8: 1 psi = 6 894.757 Pa; 1 ft = 0.3048 m; 1 US gal = 3.785 412 E-03 m³.
+    // The limits: 50 bar(g) = 725.19 psig; 6,000 m = 19,685 ft and -500 m = -1,640 ft.
+    let bar_per_psi = 6_894.757_293_168 / 1e5;
+    let message = |r: Resp| {
+        assert_eq!(r.status, 422, "{}", r.text);
+        r.json()["error"]["message"].as_str().unwrap().to_string()
+    };
+    let m = message(s.post_json(
+        &format!("/api/v1/audits/{id}/compressors"),
+        &json!({"tag": "C9", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+                "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 800.0 * bar_per_psi}),
+    ));
+    assert_eq!(m, "the rated pressure must be above 0 psig and at most 725.2 psig, got 800 psig");
+    let m = message(
+        s.post_json(&format!("/api/v1/audits/{id}/receivers"), &json!({"name": "wet", "volume_m3": 0.0})),
+    );
+    assert!(m.starts_with("the receiver's volume must be above 0 US gal and at most "), "{m}");
+    assert!(m.ends_with(" US gal, got 0 US gal"), "{m}");
+    let m = message(
+        s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"altitude_m": 30_000.0 * 0.3048}})),
+    );
+    assert_eq!(m, "the altitude must be at least -1640 ft and at most 19685 ft, got 30000 ft");
+    let m = message(s.post_json(
+        &format!("/api/v1/audits/{id}/scenarios"),
+        &json!({"name": "too high", "changes": [{"op": "set_pressure", "target_bar_g": 800.0 * bar_per_psi}]}),
+    ));
+    assert_eq!(m, "the target pressure must be above 0 psig and at most 725.2 psig, got 800 psig");
+    // The new-audit page, US chosen, refuses an altitude in feet, in feet, and keeps the form in US.
+    let r = s.post_form(
+        "/audits",
+        &[
+            ("name", "High"),
+            ("entry_units", "us"),
+            ("display_units", "us"),
+            ("altitude_m", "30000"),
+            ("timezone", "UTC"),
+        ],
+    );
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert!(
+        r.text.contains("the altitude must be at least -1640 ft and at most 19685 ft, got 30000 ft"),
+        "{}",
+        r.text
+    );
+    assert!(r.text.contains("<span data-unit-of=\"altitude\">ft</span>"), "the form is drawn again in SI");
+}
