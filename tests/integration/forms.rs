@@ -190,6 +190,15 @@ fn compressor_receiver_site_and_what_if_refusals_speak_the_audits_units() {
         &json!({"name": "too high", "changes": [{"op": "set_pressure", "target_bar_g": 800.0 * bar_per_psi}]}),
     ));
     assert_eq!(m, "the target pressure must be above 0 psig and at most 725.2 psig, got 800 psig");
+    // The leak calculator of the tests page, asked for this audit: a hole of 0 in.
+    let m = message(s.post_json(
+        "/api/v1/calc/orifice-leak",
+        &json!({"audit_id": id, "diameter_mm": 0.0, "pressure_bar_g": 100.0 * bar_per_psi}),
+    ));
+    assert!(
+        m.starts_with("the hole's diameter must be above 0 in and at most ") && m.ends_with(" in, got 0 in"),
+        "{m}"
+    );
     // The new-audit page, US chosen, refuses an altitude in feet, in feet, and keeps the form in US.
     let r = s.post_form(
         "/audits",
