@@ -60,12 +60,15 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
         spans,
         system_volume_m3: b.storage().system_volume_m3(),
         atmosphere: format!("{:.2} kPa abs", b.audit.site.atmospheric_pressure_kpa_abs()),
-        printed: jiff::Zoned::now().date().to_string(),
+        printed: jiff::Timestamp::now()
+            .to_zoned(jiff::tz::TimeZone::get(&tz).unwrap_or(jiff::tz::TimeZone::UTC))
+            .date()
+            .to_string(),
         fmt,
         view,
         b_compressors: b.compressors,
         b_receivers: b.receivers,
-        b_uploads: b.uploads,
+        b_uploads: super::words::uploads_in_local_time(b.uploads, &tz),
         audit: b.audit,
     })
 }

@@ -8,6 +8,61 @@ use crate::core::display::{num, Fmt};
 use crate::core::fieldtest::{FieldTestInput, FieldTestResult, VolumeSource};
 use crate::store::audits::FieldTestRecord;
 
+/// A stored text with its UTC times (RFC 3339, `2006-12-16T23:24:00Z`, as files imported before
+/// the warnings spoke local time hold them) in the site's local time, through [`local_time`].
+pub fn local_times_in(text: &str, tz: &str) -> String {
+    let b = text.as_bytes();
+    let digits = |r: std::ops::Range<usize>| r.clone().all(|i| b.get(i).is_some_and(u8::is_ascii_digit));
+    let mut out = String::with_capacity(text.len());
+    let (mut i, mut copied) = (0, 0);
+    while i + 20 <= b.len() {
+        let stamp = digits(i..i + 4)
+            && b[i + 4] == b'-'
+            && digits(i + 5..i + 7)
+            && b[i + 7] == b'-'
+            && digits(i + 8..i + 10)
+            && b[i + 10] == b'T'
+            && digits(i + 11..i + 13)
+            && b[i + 13] == b':'
+            && digits(i + 14..i + 16)
+            && b[i + 16] == b':'
+            && digits(i + 17..i + 19);
+        if stamp {
+            let mut end = i + 19;
+            if b.get(end) == Some(&b'.') {
+                end += 1;
+                while b.get(end).is_some_and(u8::is_ascii_digit) {
+                    end += 1;
+                }
+            }
+            if b.get(end) == Some(&b'Z') {
+                out.push_str(&text[copied..i]);
+                out.push_str(&local_time(&text[i..=end], tz));
+                i = end + 1;
+                copied = i;
+                continue;
+            }
+        }
+        i += 1;
+    }
+    out.push_str(&text[copied..]);
+    out
+}
+
+/// The uploads with the UTC times of their stored warnings in the site's local time
+/// ([`local_times_in`]).
+pub fn uploads_in_local_time(
+    mut uploads: Vec<crate::store::audits::UploadRecord>,
+    tz: &str,
+) -> Vec<crate::store::audits::UploadRecord> {
+    for u in &mut uploads {
+        for w in &mut u.warnings {
+            *w = local_times_in(w, tz);
+        }
+    }
+    uploads
+}
+
 /// The site's local days that the logged spans `(first_ms, last_ms)` touch, in order, at most `cap`
 /// of them: each as (start, end) in ms UTC, cut at the zone's midnights (a daylight-saving day is
 /// 23 or 25 hours long), and its label ("Sun 8 Mar 2026").
@@ -260,6 +315,18 @@ mod tests {
         // In July Chicago keeps CDT = UTC-5.
         assert_eq!(local_time("2020-07-01T12:00:00Z", "America/Chicago"), "Wed 1 Jul 2020 07:00 CDT");
         assert_eq!(local_time("not a time", "America/Chicago"), "not a time");
+    }
+
+    #[test]
+    fn utc_times_in_a_stored_warning_read_in_the_sites_time() {
+        // 23:24Z is 17:24 CST in Chicago in December (UTC-6, IANA tz database).
+        let w = "3 gaps; the first starts 2006-12-16T23:24:00Z, the next 2006-12-16T23:30:00.500Z.";
+        assert_eq!(
+            local_times_in(w, "America/Chicago"),
+            "3 gaps; the first starts Sat 16 Dec 2006 17:24 CST, the next Sat 16 Dec 2006 17:30 CST."
+        );
+        assert_eq!(local_times_in("no time here: 2006-12-16", "UTC"), "no time here: 2006-12-16");
+        assert_eq!(local_times_in("Zürich 2006-12-16T23:24:00", "UTC"), "Zürich 2006-12-16T23:24:00");
     }
 
     #[test]
