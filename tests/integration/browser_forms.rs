@@ -131,6 +131,8 @@ fn the_mapping_forms_read_a_day_first_files_times_in_the_loggers_zone() {
         "after the zone: {:?}",
         first_row()
     );
+    b.js("document.getElementById('m-reading').scrollIntoView({block: 'center'})", json!([]));
+    b.screenshot("upload-date-readings");
     let severe = b.severe_logs("/upload");
     assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
 
