@@ -79,7 +79,8 @@ window.airledger = {
       delimiter: "delimiter", decimal: "decimal mark", header_line: "line with the column names", units_line: "line with the units",
       first_data_line: "first data line", columns: "columns" };
     if (words[field]) return words[field];
-    if (/^columns\[/.test(field)) return null;
+    // A column's or a what-if change's own fields: the message names them in words.
+    if (/^(columns|changes)\[/.test(field)) return null;
     return field.replace(/_(bar_g|m3_min|m3|kw|s|c|mm)$/, "").replace(/[._]/g, " ");
   },
   // The mapping form's dates (upload and remap pages): the server reads the first rows' times under

@@ -164,7 +164,7 @@ fn the_mapping_forms_read_a_day_first_files_times_in_the_loggers_zone() {
     not(any(has_browser, ci)),
     ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
 )]
-fn a_bleed_down_typed_in_psig_is_refused_in_psig() {
+fn a_bleed_down_and_a_what_if_typed_in_psig_are_refused_in_psig() {
     let s = Server::start();
     let r = s.post_json("/api/v1/audits", &json!({"name": "US", "site": {"display_units": "us"}}));
     let id = r.json()["id"].as_i64().unwrap();
@@ -187,6 +187,21 @@ fn a_bleed_down_typed_in_psig_is_refused_in_psig() {
         status()
     );
     assert!(!status().contains("bar(g)") && !status().contains("_bar_g"), "{}", status());
+
+    // A what-if target above the 50 bar(g) limit (725.19 psig by the NIST SP 811 psi factor),
+    // typed in psig: refused in psig, the change named in words, not as changes[0].
+    b.goto(&s.url(&format!("/audits/{id}/scenarios")));
+    b.js(
+        "const f = document.getElementById('scenario-form');
+         f.elements.name.value = 'too high'; f.elements.target_bar_g.value = '800'; f.requestSubmit();",
+        json!([]),
+    );
+    let status = || b.js_str("return document.getElementById('scenario-status').textContent");
+    assert!(wait_until(Duration::from_secs(10), || status().starts_with("Not replayed")), "{}", status());
+    assert_eq!(
+        status(),
+        "Not replayed: the target pressure must be above 0 psig and at most 725.2 psig, got 800 psig"
+    );
 }
 
 #[test]
