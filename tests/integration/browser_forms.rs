@@ -39,6 +39,13 @@ fn a_new_audit_in_us_units_stores_the_altitude_typed_in_feet() {
     );
     assert_eq!(units(), "ft °F");
     assert_eq!(
+        b.js_str("return String(document.querySelector('#new-audit .no-script-hint').offsetHeight)"),
+        "0",
+        "the no-script hint shows beside a working switch"
+    );
+    b.js("document.getElementById('new-audit').scrollIntoView()", json!([]));
+    b.screenshot("new-audit-us");
+    assert_eq!(
         b.js_str("return document.getElementById('new-audit').elements.inlet_temperature_c.value"),
         "68"
     );

@@ -216,5 +216,8 @@ fn compressor_receiver_site_and_what_if_refusals_speak_the_audits_units() {
         "{}",
         r.text
     );
-    assert!(r.text.contains("<span data-unit-of=\"altitude\">ft</span>"), "the form is drawn again in SI");
+    assert!(
+        r.text.contains("Altitude, <span data-unit-of=\"altitude\">ft</span>"),
+        "the form is drawn again in SI"
+    );
 }
