@@ -320,7 +320,7 @@ pub fn sniffed_readings(sniffed: &ingest::Sniffed, tz: &str) -> Vec<ingest::snif
             })
         })
         .collect();
-    ingest::sniff::time::date_readings(&cells, tz, Some(&ts.format), ts.interval).unwrap_or_default()
+    ingest::sniff::time::date_readings(&cells, (tz, tz), Some(&ts.format), ts.interval).unwrap_or_default()
 }
 
 /// The body of `POST /api/v1/audits/{id}/date-readings`.
@@ -340,7 +340,8 @@ pub struct DateReadingsRequest {
 }
 
 /// `POST /api/v1/audits/{id}/date-readings`: how the first rows' times read under each format
-/// that reads them, in words, in the zone given: the mapping form's preview.
+/// that reads them, in words, logged in the zone given and shown on the site's clock: the mapping
+/// form's preview.
 pub async fn post_date_readings(
     State(state): State<AppState>,
     ApiPath(audit_id): ApiPath<i64>,
@@ -350,9 +351,12 @@ pub async fn post_date_readings(
     if req.cells.len() > 200 || req.cells.iter().any(|c| c.len() > 200) {
         return Err(AppError::field("cells", "send at most 200 cells of at most 200 bytes each"));
     }
-    let tz = req.timezone.filter(|t| !t.trim().is_empty()).unwrap_or(audit.site.timezone);
+    let site = audit.site.timezone;
+    let tz = req.timezone.filter(|t| !t.trim().is_empty()).unwrap_or_else(|| site.clone());
     let tz = tz.trim().to_string();
-    let readings = ingest::sniff::time::date_readings(&req.cells, &tz, req.format.as_deref(), req.interval)
-        .map_err(|m| AppError::field("timezone", m))?;
-    Ok(Json(serde_json::json!({ "timezone": tz, "readings": readings })).into_response())
+    let readings =
+        ingest::sniff::time::date_readings(&req.cells, (&tz, &site), req.format.as_deref(), req.interval)
+            .map_err(|m| AppError::field("timezone", m))?;
+    Ok(Json(serde_json::json!({ "timezone": tz, "site_timezone": site, "readings": readings }))
+        .into_response())
 }

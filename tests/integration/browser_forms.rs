@@ -127,12 +127,14 @@ fn the_mapping_forms_read_a_day_first_files_times_in_the_loggers_zone() {
     let chosen =
         || b.js_str("const s = document.getElementById('m-reading'); return s.options[s.selectedIndex].text");
     assert_eq!(chosen(), "day/month/year, hh:mm:ss");
-    // Another zone chosen: the same wall-clock time, read in that zone.
+    // The logger's clock said to keep Berlin time: the rows read as Berlin times, shown on the
+    // site's clock, 17:24 CET = 10:24 CST (Python: datetime(2006,12,16,17,24,
+    // tzinfo=ZoneInfo("Europe/Berlin")).astimezone(ZoneInfo("America/Chicago"))).
     b.js(
         "const z = document.getElementById('m-ts-zone'); z.value = 'Europe/Berlin'; z.dispatchEvent(new Event('change'));",
         json!([]),
     );
-    let berlin = "16/12/2006 17:24:00 \u{2192} Sat 16 Dec 2006 17:24 CET, Europe/Berlin";
+    let berlin = "16/12/2006 17:24:00 \u{2192} Sat 16 Dec 2006 10:24 CST, America/Chicago";
     assert!(
         wait_until(Duration::from_secs(10), || first_row() == berlin),
         "after the zone: {:?}",

@@ -126,6 +126,19 @@ fn the_date_readings_say_how_a_day_first_file_reads_in_the_loggers_zone() {
             .any(|x| x["words"].as_str().unwrap().starts_with("month/day")),
         "a 16th month is offered: {j}"
     );
+    // A logger keeping Berlin time on this Chicago site: its rows shown on the site's clock, 17:24
+    // CET = 10:24 CST (zoneinfo: datetime(2006,12,16,17,24,tzinfo=ZoneInfo("Europe/Berlin"))
+    // .astimezone(ZoneInfo("America/Chicago"))).
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/date-readings"),
+        &json!({"cells": cells, "timezone": "Europe/Berlin"}),
+    );
+    let j = r.json();
+    assert_eq!(
+        (j["timezone"].as_str(), j["site_timezone"].as_str()),
+        (Some("Europe/Berlin"), Some("America/Chicago"))
+    );
+    assert_eq!(j["readings"][0]["rows"][0]["reads_as"], "Sat 16 Dec 2006 10:24 CST, America/Chicago");
     // A zone that is not one: 422 naming the field.
     let r = s.post_json(
         &format!("/api/v1/audits/{id}/date-readings"),

@@ -313,11 +313,14 @@ pub fn format_words(format: &str) -> String {
 
 /// How the first rows' times read under every candidate format that reads all of `cells` (the
 /// timestamp column's first cells, a time column's cell joined after a space, as the parser
-/// joins them), `chosen` first (kept even when it does not read them), in zone `timezone` (IANA).
-/// An interval cell is read by `interval`'s end. A zone that is not one is an error in words.
+/// joins them), `chosen` first (kept even when it does not read them), a local time read in the
+/// logger's zone `timezone` (IANA) and shown in the site's, `site` ("Sat 16 Dec 2006 10:24 CST,
+/// America/Chicago" for 17:24 logged in Berlin), so a person sees what each reading will mean on
+/// the site's clock. An interval cell is read by `interval`'s end. A zone that is not one is an
+/// error in words.
 pub fn date_readings(
     cells: &[String],
-    timezone: &str,
+    (timezone, site): (&str, &str),
     chosen: Option<&str>,
     interval: Option<IntervalEnd>,
 ) -> Result<Vec<DateReading>, String> {
@@ -354,9 +357,9 @@ pub fn date_readings(
                 .take(READING_ROWS)
                 .map(|c| ReadRow {
                     text: c.clone(),
-                    reads_as: p.parse(c.as_bytes()).map(|(ms, _)| {
-                        format!("{}, {timezone}", crate::core::display::local_ms(ms, timezone))
-                    }),
+                    reads_as: p
+                        .parse(c.as_bytes())
+                        .map(|(ms, _)| format!("{}, {site}", crate::core::display::local_ms(ms, site))),
                 })
                 .collect();
             Some(DateReading { words: format_words(&format), format, reads_all, rows })
@@ -384,7 +387,7 @@ mod reading_tests {
         // in December the zone is CST (UTC-6, IANA tz database).
         let cells: Vec<String> =
             ["16/12/2006 17:24:00", "16/12/2006 17:25:00", "16/12/2006 17:26:00"].map(String::from).to_vec();
-        let r = date_readings(&cells, "America/Chicago", None, None).unwrap();
+        let r = date_readings(&cells, ("America/Chicago", "America/Chicago"), None, None).unwrap();
         assert_eq!(r[0].format, "%d/%m/%Y %H:%M:%S");
         assert_eq!(r[0].words, "day/month/year, hh:mm:ss");
         assert!(r[0].reads_all);
@@ -393,7 +396,7 @@ mod reading_tests {
         assert!(!r.iter().any(|x| x.format.starts_with("%m/%d")), "{r:?}");
         // A date both ways (3 February or 2 March) offers both readings.
         let both: Vec<String> = ["03/02/2026 08:00:00", "03/02/2026 08:01:00"].map(String::from).to_vec();
-        let r = date_readings(&both, "Europe/Berlin", None, None).unwrap();
+        let r = date_readings(&both, ("Europe/Berlin", "Europe/Berlin"), None, None).unwrap();
         let words: Vec<&str> = r.iter().map(|x| x.words.as_str()).collect();
         assert!(
             words.contains(&"day/month/year, hh:mm:ss") && words.contains(&"month/day/year, hh:mm:ss"),
@@ -406,9 +409,14 @@ mod reading_tests {
         let month_first = r.iter().find(|x| x.format.starts_with("%m/%d")).unwrap();
         assert_eq!(month_first.rows[0].reads_as.as_deref(), Some("Mon 2 Mar 2026 08:00 CET, Europe/Berlin"));
         // A chosen format that does not read the cells is kept first and says so.
-        let r = date_readings(&cells, "UTC", Some("%Y-%m-%d %H:%M:%S"), None).unwrap();
+        let r = date_readings(&cells, ("UTC", "UTC"), Some("%Y-%m-%d %H:%M:%S"), None).unwrap();
         assert_eq!(r[0].rows[0].reads_as, None);
         assert!(!r[0].reads_all);
-        assert!(date_readings(&cells, "CST", None, None).is_err());
+        assert!(date_readings(&cells, ("CST", "UTC"), None, None).is_err());
+        // Logged in Berlin (CET, UTC+1), shown on a Chicago site's clock (CST, UTC-6): 17:24 is
+        // 10:24 there (Python: datetime(2006,12,16,17,24,tzinfo=ZoneInfo("Europe/Berlin"))
+        // .astimezone(ZoneInfo("America/Chicago"))).
+        let r = date_readings(&cells, ("Europe/Berlin", "America/Chicago"), None, None).unwrap();
+        assert_eq!(r[0].rows[0].reads_as.as_deref(), Some("Sat 16 Dec 2006 10:24 CST, America/Chicago"));
     }
 }

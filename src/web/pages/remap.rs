@@ -154,9 +154,13 @@ fn page(
 ) -> RemapPage {
     let extra = extra_columns(sniffed, m);
     let cells = time_cells(sniffed, m);
-    let readings =
-        date_readings(&cells, &m.timestamp.timezone, Some(&m.timestamp.format), m.timestamp.interval)
-            .unwrap_or_default();
+    let readings = date_readings(
+        &cells,
+        (&m.timestamp.timezone, &b.audit.site.timezone),
+        Some(&m.timestamp.format),
+        m.timestamp.interval,
+    )
+    .unwrap_or_default();
     let preview_rows = readings.first().map(|r| r.rows.clone()).unwrap_or_default();
     let page_data = serde_json::json!({
         "audit_id": b.audit.id,
