@@ -35,6 +35,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::core::air::atmosphere_from_altitude;
 use crate::core::datasheet::SheetError;
+use crate::core::entry::Entry;
 use crate::core::model::{CompressorSpec, SiteSpec};
 use crate::core::units::{SiteAir, UnitSystem};
 
@@ -317,20 +318,27 @@ impl SiteRecord {
                 Err(FieldError::new(field, format!("{field} must be a number")))
             }
         }
+        // A refusal quotes altitude, atmosphere, inlet temperature and volume in the units the
+        // site is read in: the patch's, else the site's.
+        let units = p.display_units.as_deref().and_then(UnitSystem::parse).unwrap_or(self.display_units);
+        let refuse = |field: &str, words: &str, kind: Entry, v: f64, lo: f64, hi: f64| {
+            FieldError::new(field, format!("{words} {}", kind.out_of_range(units, v, lo, false, hi)))
+        };
         if let Some(v) = p.altitude_m {
             if !(-500.0..=6000.0).contains(&finite("altitude_m", v)?) {
-                return Err(FieldError::new(
-                    "altitude_m",
-                    format!("altitude must be within -500..6000 m, got {v}"),
-                ));
+                return Err(refuse("altitude_m", "the altitude", Entry::Altitude, v, -500.0, 6000.0));
             }
             self.altitude_m = v;
         }
         if let Some(v) = p.atmospheric_pressure_kpa_abs {
             if !(40.0..=110.0).contains(&finite("atmospheric_pressure_kpa_abs", v)?) {
-                return Err(FieldError::new(
+                return Err(refuse(
                     "atmospheric_pressure_kpa_abs",
-                    format!("atmospheric pressure must be within 40..110 kPa absolute, got {v}"),
+                    "the atmospheric pressure",
+                    Entry::Atmosphere,
+                    v,
+                    40.0,
+                    110.0,
                 ));
             }
             self.atmospheric_pressure_override_kpa_abs = Some(v);
@@ -340,9 +348,13 @@ impl SiteRecord {
         }
         if let Some(v) = p.inlet_temperature_c {
             if !(-40.0..=60.0).contains(&finite("inlet_temperature_c", v)?) {
-                return Err(FieldError::new(
+                return Err(refuse(
                     "inlet_temperature_c",
-                    format!("inlet temperature must be within -40..60 °C, got {v}"),
+                    "the inlet temperature",
+                    Entry::Temperature,
+                    v,
+                    -40.0,
+                    60.0,
                 ));
             }
             self.inlet_temperature_c = v;
@@ -469,7 +481,17 @@ impl SiteRecord {
                 within("fuel_co2_kg_per_kwh", v, 0.0, false, MAX_FUEL_CO2_KG_PER_KWH, " kg/kWh")?;
         }
         if let Some(v) = p.other_volume_m3 {
-            self.other_volume_m3 = within("other_volume_m3", v, 0.0, false, MAX_OTHER_VOLUME_M3, " m³")?;
+            if !(v.is_finite() && (0.0..=MAX_OTHER_VOLUME_M3).contains(&v)) {
+                return Err(refuse(
+                    "other_volume_m3",
+                    "the piping, dryer and filter volume",
+                    Entry::Volume,
+                    v,
+                    0.0,
+                    MAX_OTHER_VOLUME_M3,
+                ));
+            }
+            self.other_volume_m3 = v;
         }
         Ok(())
     }
@@ -527,7 +549,12 @@ pub struct CompressorRecord {
 impl CompressorRecord {
     /// Validate a posted compressor into a record (id 0 until stored).
     pub fn from_input(input: &CompressorInput) -> Result<Self, FieldError> {
-        Ok(Self { id: 0, spec: input.validate()?, notes: input.notes.clone() })
+        Self::from_input_in(input, UnitSystem::Si)
+    }
+
+    /// [`Self::from_input`], a refusal quoting figures in `units` (the audit's).
+    pub fn from_input_in(input: &CompressorInput, units: UnitSystem) -> Result<Self, FieldError> {
+        Ok(Self { id: 0, spec: input.validate_in(units)?, notes: input.notes.clone() })
     }
 
     pub fn to_spec(&self) -> CompressorSpec {
@@ -556,10 +583,19 @@ pub struct ReceiverInput {
 
 impl ReceiverInput {
     pub fn validate(&self) -> Result<(), FieldError> {
+        self.validate_in(UnitSystem::Si)
+    }
+
+    /// [`Self::validate`], a refusal quoting the volume in `units` (the audit's).
+    pub fn validate_in(&self, units: UnitSystem) -> Result<(), FieldError> {
         if self.name.trim().is_empty() || self.name.chars().count() > 64 {
             return Err(FieldError::new("name", "receiver name must be 1 to 64 characters"));
         }
-        within("volume_m3", self.volume_m3, 0.0, true, MAX_RECEIVER_VOLUME_M3, " m³")?;
+        let v = self.volume_m3;
+        if !(v.is_finite() && v > 0.0 && v <= MAX_RECEIVER_VOLUME_M3) {
+            let why = Entry::Volume.out_of_range(units, v, 0.0, true, MAX_RECEIVER_VOLUME_M3);
+            return Err(FieldError::new("volume_m3", format!("the receiver's volume {why}")));
+        }
         Ok(())
     }
 }

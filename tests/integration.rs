@@ -10,6 +10,8 @@ mod api;
 mod browser;
 #[path = "integration/engine.rs"]
 mod engine;
+#[path = "integration/forms.rs"]
+mod forms;
 #[path = "integration/guard.rs"]
 mod guard;
 #[path = "integration/hostile_ingest.rs"]

@@ -148,8 +148,8 @@ impl App {
 
     /// Store a compressor (`id` 0: a new one); returns its id.
     pub async fn save_compressor(&self, audit_id: i64, id: i64, input: &CompressorInput) -> Result<i64> {
-        self.audit(audit_id).await?;
-        let mut rec = CompressorRecord::from_input(input)?;
+        let units = self.audit(audit_id).await?.site.display_units;
+        let mut rec = CompressorRecord::from_input_in(input, units)?;
         rec.id = id;
         match audits::save_compressor(self.db(), audit_id, &rec).await? {
             CompressorWrite::Stored(id) => Ok(id),
@@ -166,16 +166,16 @@ impl App {
     }
 
     pub async fn add_receiver(&self, audit_id: i64, input: &ReceiverInput) -> Result<i64> {
-        self.audit(audit_id).await?;
-        input.validate()?;
+        let units = self.audit(audit_id).await?.site.display_units;
+        input.validate_in(units)?;
         Ok(audits::add_receiver(self.db(), audit_id, input.name.trim(), input.volume_m3, &input.notes)
             .await?)
     }
 
     /// Edit a receiver; `false` if the audit has no such receiver.
     pub async fn update_receiver(&self, audit_id: i64, id: i64, input: &ReceiverInput) -> Result<bool> {
-        self.audit(audit_id).await?;
-        input.validate()?;
+        let units = self.audit(audit_id).await?.site.display_units;
+        input.validate_in(units)?;
         Ok(audits::update_receiver(self.db(), audit_id, id, input.name.trim(), input.volume_m3, &input.notes)
             .await?)
     }

@@ -95,6 +95,7 @@ impl App {
             frame: frame.as_deref(),
             production: site_spec.production.as_ref(),
             timezone: &site_spec.timezone,
+            units: b.audit.site.display_units,
         };
         let result = fieldtest::evaluate(&input, &ctx).map_err(test_error)?;
         let result = serde_json::to_value(&result).map_err(Error::internal)?;

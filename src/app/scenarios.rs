@@ -115,7 +115,7 @@ impl App {
         let scenario: Scenario =
             crate::site::read_json(body.clone(), "this scenario").map_err(Error::from)?;
         // Checked before anything is read, so a wrong scenario gets its own error first.
-        scenario.check().map_err(|e| Error::field(&e.field, e.message))?;
+        scenario.check_in(b.audit.site.display_units).map_err(|e| Error::field(&e.field, e.message))?;
         let Some(frame) = self.frame_for(&b, None).await? else {
             return Err(Error::field(
                 "changes",

@@ -54,8 +54,10 @@ Every number must be finite and lie in its range, or the input is refused naming
 
 use serde::{Deserialize, Serialize};
 
+use super::entry::Entry;
 use super::model::{CompressorKind, CompressorSpec, Control, Cooling};
 use super::states;
+use super::units::UnitSystem;
 
 /// Upper bounds of the table in the module doc.
 pub const MAX_RATED_POWER_KW: f64 = 20_000.0;
@@ -153,8 +155,15 @@ impl DataSheetInput {
         }
     }
 
-    /// Check every field (module doc ranges) and fill the blanks (module doc defaults).
+    /// Check every field (module doc ranges) and fill the blanks (module doc defaults); a
+    /// refusal quotes figures in SI.
     pub fn validate(&self) -> Result<CompressorSpec, SheetError> {
+        self.validate_in(UnitSystem::Si)
+    }
+
+    /// [`Self::validate`], a refusal quoting flows, pressures and specific powers in `units`, as
+    /// the reader's form labelled them (`core::entry`).
+    pub fn validate_in(&self, units: UnitSystem) -> Result<CompressorSpec, SheetError> {
         let tag = self.tag.trim();
         if tag.is_empty() || tag.chars().count() > 32 {
             return err("tag", format!("tag must be 1 to 32 characters, got {:?}", self.tag));
@@ -170,12 +179,40 @@ impl DataSheetInput {
         };
         let positive = |field: &str, v: f64, max: f64, unit: &str| within(field, v, 0.0, true, max, unit);
         let rated_power_kw = positive("rated_power_kw", self.rated_power_kw, MAX_RATED_POWER_KW, " kW")?;
-        let rated_flow_m3_min =
-            positive("rated_flow_m3_min", self.rated_flow_m3_min, MAX_RATED_FLOW_M3_MIN, " m³/min")?;
-        let rated_pressure_bar_g =
-            positive("rated_pressure_bar_g", self.rated_pressure_bar_g, MAX_PRESSURE_BAR_G, " bar(g)")?;
+        // A field typed in the reader's units is refused in them, named in words.
+        let entry = |field: &str, words: &str, kind: Entry, v: f64, (lo, lo_open): (f64, bool), hi: f64| {
+            let low_ok = if lo_open { v > lo } else { v >= lo };
+            if v.is_finite() && low_ok && v <= hi {
+                Ok(v)
+            } else {
+                err(field, format!("{words} {}", kind.out_of_range(units, v, lo, lo_open, hi)))
+            }
+        };
+        let rated_flow_m3_min = entry(
+            "rated_flow_m3_min",
+            "the free air delivery",
+            Entry::FreeAirFlow,
+            self.rated_flow_m3_min,
+            (0.0, true),
+            MAX_RATED_FLOW_M3_MIN,
+        )?;
+        let rated_pressure_bar_g = entry(
+            "rated_pressure_bar_g",
+            "the rated pressure",
+            Entry::GaugePressure,
+            self.rated_pressure_bar_g,
+            (0.0, true),
+            MAX_PRESSURE_BAR_G,
+        )?;
         if let Some(p) = self.max_pressure_bar_g {
-            within("max_pressure_bar_g", p, rated_pressure_bar_g, false, MAX_PRESSURE_BAR_G, " bar(g)")?;
+            entry(
+                "max_pressure_bar_g",
+                "the maximum pressure (not below the rated pressure)",
+                Entry::GaugePressure,
+                p,
+                (rated_pressure_bar_g, false),
+                MAX_PRESSURE_BAR_G,
+            )?;
         }
         if let Some(kw) = self.nameplate_motor_kw {
             positive("nameplate_motor_kw", kw, MAX_RATED_POWER_KW, " kW")?;
@@ -197,7 +234,14 @@ impl DataSheetInput {
             return err("stages", format!("stages must be 1 to 6, got {stages}"));
         }
         if let Some(sp) = self.rated_specific_power_kw_per_m3_min {
-            positive("rated_specific_power_kw_per_m3_min", sp, 50.0, " kW/(m³/min)")?;
+            entry(
+                "rated_specific_power_kw_per_m3_min",
+                "the data-sheet specific power",
+                Entry::SpecificPower,
+                sp,
+                (0.0, true),
+                50.0,
+            )?;
         }
         if let Some(y) = self.year {
             if !(1900..=2100).contains(&y) {

@@ -220,6 +220,25 @@ pub fn render_parts(parts: &[Part], fmt: &Fmt) -> String {
         .collect()
 }
 
+/// A time as the site's clocks show it, with the zone's abbreviation: "Sat 16 Dec 2006 17:24 CST".
+/// The one helper for times a person sees (pages, printed findings, the data-quality warnings).
+/// Accepts RFC 3339 text; a text that is not one is given back as it is.
+pub fn local_time(rfc3339: &str, tz: &str) -> String {
+    let Ok(ts) = rfc3339.trim().parse::<jiff::Timestamp>() else {
+        return rfc3339.to_string();
+    };
+    local_ms(ts.as_millisecond(), tz)
+}
+
+/// A time in ms since 1970 UTC as the site's clocks show it, with the zone's abbreviation.
+pub fn local_ms(ms: i64, tz: &str) -> String {
+    let Ok(ts) = jiff::Timestamp::from_millisecond(ms) else {
+        return String::new();
+    };
+    let zone = jiff::tz::TimeZone::get(tz).unwrap_or(jiff::tz::TimeZone::UTC);
+    ts.to_zoned(zone).strftime("%a %-d %b %Y %H:%M %Z").to_string()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

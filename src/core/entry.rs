@@ -138,6 +138,34 @@ impl Entry {
         short(self.from_stored(units, stored))
     }
 
+    /// A stored value as a refusal quotes it to a reader of `units`: the number as the field would
+    /// show it, and the unit ("90 psig", "6.2 bar(g)").
+    pub fn said(self, units: UnitSystem, stored: f64) -> String {
+        format!("{} {}", self.shown(units, stored), self.unit(units).label)
+    }
+
+    /// A limit as a refusal quotes it to a reader of `units`: four significant figures (a whole
+    /// number keeps its digits), so that 50 bar(g) reads "725.2 psig".
+    pub fn limit(self, units: UnitSystem, stored: f64) -> String {
+        let v = self.from_stored(units, stored);
+        let text = if v == 0.0 || !v.is_finite() {
+            short(v)
+        } else {
+            let decimals = (3 - v.abs().log10().floor() as i32).max(0) as usize;
+            short(format!("{v:.decimals$}").parse().unwrap_or(v))
+        };
+        format!("{text} {}", self.unit(units).label)
+    }
+
+    /// A refusal of `stored` outside `lo..=hi` (`lo` itself refused when `lo_open`), in the
+    /// reader's units: "must be above 0 psig and at most 725.2 psig, got 800 psig". The caller
+    /// names the field in words before it.
+    pub fn out_of_range(self, units: UnitSystem, stored: f64, lo: f64, lo_open: bool, hi: f64) -> String {
+        let got = if stored.is_finite() { self.said(units, stored) } else { "no number".into() };
+        let low = if lo_open { "above" } else { "at least" };
+        format!("must be {low} {} and at most {}, got {got}", self.limit(units, lo), self.limit(units, hi))
+    }
+
     /// The stored value of a posted text. `previous` is the record's stored value: when the text
     /// is what [`Entry::shown`] gave for it, it is kept exactly. Commas read as decimal points.
     pub fn read(self, units: UnitSystem, text: &str, previous: Option<f64>) -> Result<f64, String> {
@@ -291,6 +319,30 @@ mod tests {
         assert_eq!(short(-0.000_000_000_1), "-0.0000000001");
         assert_eq!(short(1_234_567_890.4), "1234567890");
         assert_eq!(short(f64::NAN), "");
+    }
+
+    #[test]
+    fn a_refusal_quotes_the_value_as_it_was_typed() {
+        // 90 psig typed: stored 90 × 0.06894757 bar(g) (NIST SP 811), said back as 90 psig.
+        let stored = Entry::GaugePressure.read(Us, "90", None).unwrap();
+        assert_eq!(Entry::GaugePressure.said(Us, stored), "90 psig");
+        assert_eq!(Entry::GaugePressure.said(Si, 6.5), "6.5 bar(g)");
+        assert_eq!(Entry::Volume.said(Us, Entry::Volume.read(Us, "660", None).unwrap()), "660 US gal");
+    }
+
+    #[test]
+    fn a_range_refusal_speaks_the_readers_units() {
+        // 50 bar(g) = 725.19 psig and 2,000 m³/min = 70,629 cfm (NIST SP 811 psi and ft³ factors).
+        let p = Entry::GaugePressure.read(Us, "800", None).unwrap();
+        assert_eq!(
+            Entry::GaugePressure.out_of_range(Us, p, 0.0, true, 50.0),
+            "must be above 0 psig and at most 725.2 psig, got 800 psig"
+        );
+        assert_eq!(Entry::FreeAirFlow.limit(Us, 2000.0), "70629 cfm");
+        assert_eq!(
+            Entry::Volume.out_of_range(Si, -1.0, 0.0, false, 10_000.0),
+            "must be at least 0 m³ and at most 10000 m³, got -1 m³"
+        );
     }
 
     #[test]

@@ -44,13 +44,14 @@ pages show wherever a test is planned.
 use serde::{Deserialize, Serialize};
 
 use super::analysis::uncertainty::{load_unload_relative_uncertainty, quad, Accuracy};
+use super::entry::Entry;
 use super::leaks;
 use super::levels::classify;
 use super::model::{CompressorSpec, StorageSpec, WeeklySchedule};
 use super::series::{Frame, Signal};
 use super::states::State;
 use super::thermo::K_AIR;
-use super::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature, Volume};
+use super::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature, UnitSystem, Volume};
 
 /// A field test as the API receives it.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
@@ -124,6 +125,9 @@ pub struct FieldTestContext<'a> {
     /// whole log, not the window; the proposed decay events apply it).
     pub production: Option<&'a WeeklySchedule>,
     pub timezone: &'a str,
+    /// The reader's units: a refusal quotes pressures, flows, volumes and temperatures in them,
+    /// as the form's fields were typed (`core::entry`).
+    pub units: UnitSystem,
 }
 
 /// Whether the bin starting at `ms` lies in the schedule's production hours, local time.
@@ -314,47 +318,98 @@ pub const MAX_AIR_TEMPERATURE_C: f64 = 120.0;
 pub const MAX_PURGE_M3_MIN: f64 = 1_000.0;
 
 /// The stored air's temperature, checked (module doc table).
-fn air_temperature(given: Option<f64>) -> Result<Option<Temperature>, FieldError> {
+fn air_temperature(given: Option<f64>, units: UnitSystem) -> Result<Option<Temperature>, FieldError> {
     given
         .map(|c| {
-            within("air_temperature_c", c, MIN_AIR_TEMPERATURE_C, MAX_AIR_TEMPERATURE_C, "°C")
-                .map(Temperature::from_c)
+            within(
+                "air_temperature_c",
+                "the stored air's temperature",
+                c,
+                (MIN_AIR_TEMPERATURE_C, MAX_AIR_TEMPERATURE_C),
+                Quoted::Entry(Entry::Temperature, units),
+            )
+            .map(Temperature::from_c)
         })
         .transpose()
 }
 
-/// `v` if finite and within `lo..=hi`, else the field's error.
-fn within(field: &str, v: f64, lo: f64, hi: f64, unit: &str) -> Result<f64, FieldError> {
-    if v.is_finite() && (lo..=hi).contains(&v) {
-        Ok(v)
-    } else {
-        Err(err(field, format!("{field} must be a number from {lo} to {hi} {unit}, got {v}")))
+/// How a refusal quotes a value: in the reader's units of a form's field, or in seconds.
+#[derive(Clone, Copy)]
+enum Quoted {
+    Entry(Entry, UnitSystem),
+    Seconds,
+}
+
+impl Quoted {
+    /// A value as typed.
+    fn say(self, v: f64) -> String {
+        match self {
+            Quoted::Entry(e, units) => e.said(units, v),
+            Quoted::Seconds => format!("{} s", super::entry::short(v)),
+        }
+    }
+    /// A limit, to four figures.
+    fn limit(self, v: f64) -> String {
+        match self {
+            Quoted::Entry(e, units) => e.limit(units, v),
+            Quoted::Seconds => self.say(v),
+        }
     }
 }
 
-fn pressure(field: &str, bar_g: f64, site: &SiteAir) -> Result<PressureAbs, FieldError> {
+/// `v` if finite and within `lo..=hi`, else the field's error, the field named in `words` and
+/// the values in the reader's units.
+fn within(field: &str, words: &str, v: f64, (lo, hi): (f64, f64), q: Quoted) -> Result<f64, FieldError> {
+    if v.is_finite() && (lo..=hi).contains(&v) {
+        Ok(v)
+    } else {
+        let got = if v.is_finite() { q.say(v) } else { "no number".into() };
+        Err(err(field, format!("{words} must be from {} to {}, got {got}", q.limit(lo), q.limit(hi))))
+    }
+}
+
+fn pressure(field: &str, bar_g: f64, site: &SiteAir, units: UnitSystem) -> Result<PressureAbs, FieldError> {
+    let say = |v: f64| Entry::GaugePressure.said(units, v);
     if !(bar_g.is_finite() && bar_g <= MAX_PRESSURE_BAR_G) {
+        let got = if bar_g.is_finite() { say(bar_g) } else { "no number".into() };
         return Err(err(
             field,
-            format!("pressure must be a number up to {MAX_PRESSURE_BAR_G} bar(g), got {bar_g}"),
+            format!(
+                "pressure must be a number up to {}, got {got}",
+                Entry::GaugePressure.limit(units, MAX_PRESSURE_BAR_G)
+            ),
         ));
     }
     let p = PressureAbs::from_bar_g(bar_g, site.atmosphere);
     if p.0 <= 0.0 {
-        return Err(err(field, format!("{bar_g} bar(g) is below zero absolute at this site's atmosphere")));
+        return Err(err(field, format!("{} is below zero absolute at this site's atmosphere", say(bar_g))));
     }
     Ok(p)
 }
 
-fn volume(field: &str, given: Option<f64>, storage: &StorageSpec) -> Result<(f64, VolumeSource), FieldError> {
+fn volume(
+    field: &str,
+    given: Option<f64>,
+    storage: &StorageSpec,
+    units: UnitSystem,
+) -> Result<(f64, VolumeSource), FieldError> {
     let (v, src) = match given {
         Some(v) => (v, VolumeSource::Given),
         None => (storage.system_volume_m3(), VolumeSource::SystemVolume),
     };
     if !(v.is_finite() && v > 0.0 && v <= MAX_VOLUME_M3) {
+        let say = |v: f64| Entry::Volume.said(units, v);
+        let whose = match src {
+            VolumeSource::Given => "as given",
+            VolumeSource::SystemVolume => "the receivers and piping on record",
+        };
+        let got = if v.is_finite() { say(v) } else { "no number".into() };
         return Err(err(
             field,
-            format!("volume must be above 0 and at most {MAX_VOLUME_M3} m3, got {v} ({})", src.as_str()),
+            format!(
+                "the system volume must be above 0 and at most {}, got {got} ({whose})",
+                Entry::Volume.limit(units, MAX_VOLUME_M3)
+            ),
         ));
     }
     Ok((v, src))
@@ -406,21 +461,30 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             operating_pressure_bar_g,
             air_temperature_c,
         } => {
-            let p1 = pressure("start_pressure_bar_g", *start_pressure_bar_g, site)?;
-            let p2 = pressure("end_pressure_bar_g", *end_pressure_bar_g, site)?;
+            let units = ctx.units;
+            let p1 = pressure("start_pressure_bar_g", *start_pressure_bar_g, site, units)?;
+            let p2 = pressure("end_pressure_bar_g", *end_pressure_bar_g, site, units)?;
             if p2.0 >= p1.0 {
                 return Err(err(
                     "end_pressure_bar_g",
                     format!(
-                        "end pressure {end_pressure_bar_g} bar(g) must be below the start pressure {start_pressure_bar_g} bar(g)"
+                        "the end pressure {} must be below the start pressure {}",
+                        Entry::GaugePressure.said(units, *end_pressure_bar_g),
+                        Entry::GaugePressure.said(units, *start_pressure_bar_g)
                     ),
                 ));
             }
-            within("duration_s", *duration_s, MIN_DURATION_S, MAX_DURATION_S, "s")?;
+            within(
+                "duration_s",
+                "the duration",
+                *duration_s,
+                (MIN_DURATION_S, MAX_DURATION_S),
+                Quoted::Seconds,
+            )?;
             let op_g = operating_pressure_bar_g.unwrap_or(*start_pressure_bar_g);
-            let op = pressure("operating_pressure_bar_g", op_g, site)?;
-            let (v, src) = volume("volume_m3", *volume_m3, ctx.storage)?;
-            let t_air = air_temperature(*air_temperature_c)?;
+            let op = pressure("operating_pressure_bar_g", op_g, site, units)?;
+            let (v, src) = volume("volume_m3", *volume_m3, ctx.storage, units)?;
+            let t_air = air_temperature(*air_temperature_c, units)?;
             let r = leaks::bleed_down(Volume(v), p1, p2, *duration_s, op, t_air, site)?;
             let q = r.leak_flow_at_operating_pressure.m3_min();
             let dp_rel = std::f64::consts::SQRT_2 * acc.pressure_abs_bar()
@@ -465,8 +529,14 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             let c = ctx.compressors.iter().find(|c| &c.tag == compressor).ok_or_else(|| {
                 err("compressor", format!("no compressor tagged {compressor:?} in this audit"))
             })?;
-            within("loaded_s", *loaded_s, MIN_DURATION_S, MAX_DURATION_S, "s")?;
-            within("unloaded_s", *unloaded_s, 0.0, MAX_DURATION_S, "s")?;
+            within(
+                "loaded_s",
+                "the loaded time",
+                *loaded_s,
+                (MIN_DURATION_S, MAX_DURATION_S),
+                Quoted::Seconds,
+            )?;
+            within("unloaded_s", "the unloaded time", *unloaded_s, (0.0, MAX_DURATION_S), Quoted::Seconds)?;
             let (f, q) =
                 leaks::load_unload(*loaded_s, *unloaded_s, FreeAirFlow::from_m3_min(c.rated_flow_m3_min))?;
             let q = q.m3_min();
@@ -481,12 +551,14 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             }))
         }
         FieldTestInput::IdleFlow { start, end, production_pressure_bar_g, purge_and_drains_m3_min } => {
+            let units = ctx.units;
+            let said_flow = |q: f64| Entry::FreeAirFlow.said(units, q);
             let purge = within(
                 "purge_and_drains_m3_min",
+                "the purge and drains flow",
                 purge_and_drains_m3_min.unwrap_or(0.0),
-                0.0,
-                MAX_PURGE_M3_MIN,
-                "m3/min",
+                (0.0, MAX_PURGE_M3_MIN),
+                Quoted::Entry(Entry::FreeAirFlow, units),
             )?;
             let (frame, bins) = window(ctx.frame, start, end)?;
             let flow = frame.system_flow().ok_or_else(|| {
@@ -511,14 +583,16 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                 return Err(err(
                     "purge_and_drains_m3_min",
                     format!(
-                        "purge and drains {purge} m3/min are not below the mean flow in the window, {:.3} m3/min",
-                        mean_q * 60.0
+                        "purge and drains {} are not below the mean flow in the window, {:.3} {}",
+                        said_flow(purge),
+                        Entry::FreeAirFlow.from_stored(units, mean_q * 60.0),
+                        Entry::FreeAirFlow.unit(units).label
                     ),
                 ));
             }
             let mut q = mean_q - purge / 60.0;
             if let Some(pp) = production_pressure_bar_g {
-                let prod = pressure("production_pressure_bar_g", *pp, site)?;
+                let prod = pressure("production_pressure_bar_g", *pp, site, units)?;
                 let pm = mean_p.ok_or_else(|| {
                     err("production_pressure_bar_g", "no pressure logged in the window to scale from")
                 })?;
@@ -543,7 +617,7 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             operating_pressure_bar_g,
             air_temperature_c,
         } => {
-            let k_t = leaks::stored_air_factor(air_temperature(*air_temperature_c)?, site);
+            let k_t = leaks::stored_air_factor(air_temperature(*air_temperature_c, ctx.units)?, site);
             let (frame, bins) = window(ctx.frame, start, end)?;
             let p =
                 frame.header_pressure().ok_or_else(|| err("start", "no pressure logged in this audit"))?;
@@ -593,7 +667,7 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                     None => unchecked.push(c.tag.clone()),
                 }
             }
-            let (v, src) = volume("volume_m3", *volume_m3, ctx.storage)?;
+            let (v, src) = volume("volume_m3", *volume_m3, ctx.storage, ctx.units)?;
             let g = frame.grid;
             let t_first = g.bin_start_ms(bins.start);
             let samples: Vec<(f64, PressureAbs)> = bins
@@ -619,7 +693,7 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             let q_start = fit.leak_flow_at_start.m3_min() * k_t;
             let start_g = fit.start_pressure.bar_g(atm);
             let op_g = operating_pressure_bar_g.unwrap_or(start_g);
-            let op = pressure("operating_pressure_bar_g", op_g, site)?;
+            let op = pressure("operating_pressure_bar_g", op_g, site, ctx.units)?;
             let q = q_start * op.0 / fit.start_pressure.0;
             let fall = (start_g - fit.end_pressure.bar_g(atm)).max(1e-3);
             let rel = quad(&[acc.volume_rel, std::f64::consts::SQRT_2 * acc.pressure_abs_bar() / fall]);

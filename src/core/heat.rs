@@ -115,6 +115,13 @@ impl HeatUseKind {
             Self::ProcessWater => "process_water",
         }
     }
+    /// The use in words.
+    pub fn words(self) -> &'static str {
+        match self {
+            Self::SpaceHeating => "space heating",
+            Self::ProcessWater => "process or boiler make-up water",
+        }
+    }
     pub fn parse(s: &str) -> Option<Self> {
         match s {
             "space_heating" => Some(Self::SpaceHeating),

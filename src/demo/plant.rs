@@ -3,6 +3,10 @@
 
 use super::files::PRESSURE_LOGGER_FAST_S;
 use super::DemoSite;
+use crate::core::display::local_time;
+
+/// The demo site's time zone (IANA).
+pub(super) const TIMEZONE: &str = "Europe/Berlin";
 use crate::core::model::{CompressorKind, CompressorSpec, Control, Cooling};
 
 pub(super) const ALTITUDE_M: f64 = 180.0;
@@ -88,7 +92,7 @@ pub(super) fn site(notes: String) -> DemoSite {
         heating_months: vec![1, 2, 3, 4, 10, 11, 12],
         grid_co2_kg_per_kwh: 0.38,
         fuel_co2_kg_per_kwh: 0.2,
-        timezone: "Europe/Berlin".into(),
+        timezone: TIMEZONE.into(),
         auditor: "R. Tessmer (invented)".into(),
         notes,
     }
@@ -117,11 +121,11 @@ pub(super) fn notes(
          and flow); the header logger's clock was found {} s fast. Maintenance stop with every \
          compressor off from {} to {}.",
         days,
-        period_start,
+        local_time(period_start, TIMEZONE),
         interval_s,
         press_interval_s,
         PRESSURE_LOGGER_FAST_S,
-        shutdown_start,
-        shutdown_end
+        local_time(shutdown_start, TIMEZONE),
+        local_time(shutdown_end, TIMEZONE)
     )
 }

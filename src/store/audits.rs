@@ -32,12 +32,19 @@ pub struct AuditListItem {
     pub created_at: String,
     pub compressors: i64,
     pub uploads: i64,
+    /// The site's time zone (IANA), for the creation date as the site's calendar has it.
+    #[serde(skip)]
+    pub timezone: String,
 }
 
 impl AuditListItem {
-    /// The creation date without the time.
-    pub fn created_date(&self) -> &str {
-        self.created_at.get(..10).unwrap_or(&self.created_at)
+    /// The creation date without the time, on the site's calendar ("4 Dec 2026").
+    pub fn created_date(&self) -> String {
+        let zone = jiff::tz::TimeZone::get(&self.timezone).unwrap_or(jiff::tz::TimeZone::UTC);
+        match self.created_at.parse::<jiff::Timestamp>() {
+            Ok(t) => t.to_zoned(zone).date().strftime("%-d %b %Y").to_string(),
+            Err(_) => self.created_at.get(..10).unwrap_or(&self.created_at).to_string(),
+        }
     }
 }
 
@@ -222,7 +229,7 @@ pub async fn get_audit(pool: &SqlitePool, id: i64) -> Result<Option<Audit>, Stor
 
 pub async fn list_audits(pool: &SqlitePool) -> Result<Vec<AuditListItem>, StoreError> {
     let rows = sqlx::query(
-        "SELECT a.id, a.name, a.created_at, \
+        "SELECT a.id, a.name, a.created_at, a.timezone, \
          (SELECT count(*) FROM compressor c WHERE c.audit_id = a.id) AS compressors, \
          (SELECT count(*) FROM upload u WHERE u.audit_id = a.id AND u.state = 'complete') AS uploads \
          FROM audit a ORDER BY a.id",
@@ -237,6 +244,7 @@ pub async fn list_audits(pool: &SqlitePool) -> Result<Vec<AuditListItem>, StoreE
             created_at: r.get("created_at"),
             compressors: r.get("compressors"),
             uploads: r.get("uploads"),
+            timezone: r.get("timezone"),
         })
         .collect())
 }
@@ -992,4 +1000,24 @@ pub async fn delete_treatment_item(
     }
     tx.commit().await?;
     Ok(n > 0)
+}
+
+#[cfg(test)]
+mod list_tests {
+    use super::AuditListItem;
+
+    #[test]
+    fn an_audit_is_dated_on_the_sites_calendar() {
+        // 2026-12-05T03:00Z is 21:00 on 4 December in Chicago (CST, UTC-6, IANA tz database).
+        let item = |tz: &str| AuditListItem {
+            id: 1,
+            name: "x".into(),
+            created_at: "2026-12-05T03:00:00Z".into(),
+            compressors: 0,
+            uploads: 0,
+            timezone: tz.into(),
+        };
+        assert_eq!(item("America/Chicago").created_date(), "4 Dec 2026");
+        assert_eq!(item("Europe/Berlin").created_date(), "5 Dec 2026");
+    }
 }

@@ -11,8 +11,9 @@ use serde::{Deserialize, Serialize};
 use super::error::AppError;
 pub use super::extract::{ApiJson, ApiPath};
 use super::AppState;
+use crate::core::entry::Entry;
 use crate::core::fieldtest::parse_time_ms;
-use crate::core::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature};
+use crate::core::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature, UnitSystem};
 use crate::core::{leaks, thermo};
 use crate::site::{CompressorInput, ReceiverInput, SitePatch};
 
@@ -491,18 +492,45 @@ pub async fn calc_orifice(
         ("atmospheric_pressure_kpa_abs", ATMOSPHERE_KPA_ABS),
     )
     .await?;
-    calc_within("diameter_mm", b.diameter_mm, 0.0, true, MAX_ORIFICE_DIAMETER_MM, " mm")?;
-    calc_within("pressure_bar_g", b.pressure_bar_g, f64::MIN, false, MAX_PRESSURE_BAR_G, " bar(g)")?;
+    // Typed on an audit's page, the figures are refused in that audit's units (`core::entry`).
+    let units = match b.audit_id {
+        Some(id) => st.app.audit(id).await?.site.display_units,
+        None => UnitSystem::Si,
+    };
+    let entry = |field: &str, words: &str, kind: Entry, v: f64, (lo, lo_open): (f64, bool), hi: f64| {
+        let low_ok = if lo_open { v > lo } else { v >= lo };
+        if v.is_finite() && low_ok && v <= hi {
+            Ok(v)
+        } else {
+            Err(AppError::field(field, format!("{words} {}", kind.out_of_range(units, v, lo, lo_open, hi))))
+        }
+    };
+    entry(
+        "diameter_mm",
+        "the hole's diameter",
+        Entry::Diameter,
+        b.diameter_mm,
+        (0.0, true),
+        MAX_ORIFICE_DIAMETER_MM,
+    )?;
+    if !(b.pressure_bar_g.is_finite() && b.pressure_bar_g <= MAX_PRESSURE_BAR_G) {
+        let most = Entry::GaugePressure.limit(units, MAX_PRESSURE_BAR_G);
+        let got = Entry::GaugePressure.said(units, b.pressure_bar_g);
+        return Err(AppError::field(
+            "pressure_bar_g",
+            format!("the pressure must be at most {most}, got {got}"),
+        ));
+    }
     calc_within("discharge_coefficient", b.discharge_coefficient, 0.0, true, 1.0, "")?;
     if let Some(t) = b.upstream_temperature_c {
         let (lo, hi) = AIR_TEMPERATURE_C;
-        calc_within("upstream_temperature_c", t, lo, false, hi, " °C")?;
+        entry("upstream_temperature_c", "the air's temperature", Entry::Temperature, t, (lo, false), hi)?;
     }
     let upstream = PressureAbs::from_bar_g(b.pressure_bar_g, site.atmosphere);
     if upstream.0 <= 0.0 {
         return Err(AppError::field(
             "pressure_bar_g",
-            format!("{} bar(g) is below zero absolute", b.pressure_bar_g),
+            format!("{} is below zero absolute", Entry::GaugePressure.said(units, b.pressure_bar_g)),
         ));
     }
     let t0 = b.upstream_temperature_c.map(Temperature::from_c).unwrap_or(site.inlet_temperature);

@@ -26,6 +26,7 @@ const ASSETS: &[Asset] = &[
     asset!("js/report.js", "text/javascript; charset=utf-8"),
     asset!("js/tests.js", "text/javascript; charset=utf-8"),
     asset!("js/scenarios.js", "text/javascript; charset=utf-8"),
+    asset!("js/remap.js", "text/javascript; charset=utf-8"),
     asset!("favicon.svg", "image/svg+xml"),
     asset!("vendor/chart.umd.min.js", "text/javascript; charset=utf-8"),
     asset!("vendor/chart.js.LICENSE.md", "text/plain; charset=utf-8"),
@@ -40,6 +41,12 @@ pub async fn serve(Path(path): Path<String>) -> Response {
         }
         None => (StatusCode::NOT_FOUND, "no such file").into_response(),
     }
+}
+
+/// An embedded text file by its path under `static/` (`css/app.css`), for a page written as a
+/// standalone file that must carry its styles and scripts inline.
+pub fn text(path: &str) -> Option<&'static str> {
+    ASSETS.iter().find(|a| a.path == path).and_then(|a| std::str::from_utf8(a.body).ok())
 }
 
 /// `GET /favicon.ico` (browsers ask for it by that name).

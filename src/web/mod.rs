@@ -105,6 +105,7 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}/uploads/{upload_id}", get(api::get_upload).delete(upload::delete_upload))
         .route("/audits/{id}/uploads/{upload_id}/remap", post(upload::remap_upload))
         .route("/audits/{id}/sniff", post(upload::post_sniff).layer(upload_limit))
+        .route("/audits/{id}/date-readings", post(upload::post_date_readings))
         .route("/imports/{token}", get(upload::import_progress))
         .route("/audits/{id}/summary", get(api::summary))
         .route("/audits/{id}/channels", get(api::channels))

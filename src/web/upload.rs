@@ -264,6 +264,9 @@ pub async fn post_sniff(
     }
     let sniffed = ingest::sniff(&head)?;
     let suggested = ingest::suggest_mapping(&sniffed);
+    // How the first rows' times read, in the logger's zone as proposed (the audit's).
+    let timezone = state.app.audit(audit_id).await?.site.timezone;
+    let date_readings = sniffed_readings(&sniffed, &timezone);
     let key = ingest::layout_key(&sniffed.header);
     let remembered: Option<serde_json::Value> =
         state.app.remembered_mapping(&key).await?.and_then(|m| serde_json::from_str(&m).ok());
@@ -272,6 +275,8 @@ pub async fn post_sniff(
         "suggested_mapping": suggested,
         "remembered_mapping": remembered,
         "layout_key": key,
+        "date_readings": date_readings,
+        "timezone": timezone,
     }))
     .into_response())
 }
@@ -295,4 +300,63 @@ pub async fn import_progress(
         }
         None => serde_json::json!({"state": "unknown"}),
     })
+}
+
+/// The readings of the sniffed timestamp column's first rows in zone `tz` (none when the sniffer
+/// found no timestamp or the zone is not one).
+pub fn sniffed_readings(sniffed: &ingest::Sniffed, tz: &str) -> Vec<ingest::sniff::time::DateReading> {
+    let Some(ts) = &sniffed.timestamp else { return vec![] };
+    let col = |name: &str| sniffed.header.iter().position(|h| h == name);
+    let Some(c) = col(&ts.column) else { return vec![] };
+    let t = ts.time_column.as_deref().and_then(col);
+    let cells: Vec<String> = sniffed
+        .preview
+        .iter()
+        .filter_map(|r| {
+            let d = r.get(c)?.trim();
+            Some(match t {
+                Some(t) => format!("{d} {}", r.get(t).map_or("", |s| s.trim())),
+                None => d.to_string(),
+            })
+        })
+        .collect();
+    ingest::sniff::time::date_readings(&cells, (tz, tz), Some(&ts.format), ts.interval).unwrap_or_default()
+}
+
+/// The body of `POST /api/v1/audits/{id}/date-readings`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DateReadingsRequest {
+    /// The timestamp column's first cells (a time column's cell after a space), as written.
+    pub cells: Vec<String>,
+    /// The format chosen now (shown first); absent: only the formats that read the cells.
+    #[serde(default)]
+    pub format: Option<String>,
+    /// The logger's IANA zone; absent: the audit's.
+    #[serde(default)]
+    pub timezone: Option<String>,
+    #[serde(default)]
+    pub interval: Option<ingest::mapping::IntervalEnd>,
+}
+
+/// `POST /api/v1/audits/{id}/date-readings`: how the first rows' times read under each format
+/// that reads them, in words, logged in the zone given and shown on the site's clock: the mapping
+/// form's preview.
+pub async fn post_date_readings(
+    State(state): State<AppState>,
+    ApiPath(audit_id): ApiPath<i64>,
+    super::extract::ApiJson(req): super::extract::ApiJson<DateReadingsRequest>,
+) -> Result<Response, AppError> {
+    let audit = state.app.audit(audit_id).await?;
+    if req.cells.len() > 200 || req.cells.iter().any(|c| c.len() > 200) {
+        return Err(AppError::field("cells", "send at most 200 cells of at most 200 bytes each"));
+    }
+    let site = audit.site.timezone;
+    let tz = req.timezone.filter(|t| !t.trim().is_empty()).unwrap_or_else(|| site.clone());
+    let tz = tz.trim().to_string();
+    let readings =
+        ingest::sniff::time::date_readings(&req.cells, (&tz, &site), req.format.as_deref(), req.interval)
+            .map_err(|m| AppError::field("timezone", m))?;
+    Ok(Json(serde_json::json!({ "timezone": tz, "site_timezone": site, "readings": readings }))
+        .into_response())
 }

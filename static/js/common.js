@@ -79,8 +79,44 @@ window.airledger = {
       delimiter: "delimiter", decimal: "decimal mark", header_line: "line with the column names", units_line: "line with the units",
       first_data_line: "first data line", columns: "columns" };
     if (words[field]) return words[field];
-    if (/^columns\[/.test(field)) return null;
+    // A column's or a what-if change's own fields: the message names them in words.
+    if (/^(columns|changes)\[/.test(field)) return null;
     return field.replace(/_(bar_g|m3_min|m3|kw|s|c|mm)$/, "").replace(/[._]/g, " ");
+  },
+  // The mapping form's dates (upload and remap pages): the server reads the first rows' times under
+  // every format that reads them, in the zone given (POST /api/v1/audits/{id}/date-readings); the
+  // readings are offered in words in `o.select`, the chosen one's rows listed in `o.list` as
+  // "16/12/2006 17:24:00 -> Sat 16 Dec 2006 17:24 CST, America/Chicago". Choosing one sets the
+  // advanced format field `o.format`; a change of zone, format or interval reads them again.
+  datePreview(o) {
+    const A = this;
+    let seq = 0;
+    async function refresh() {
+      const cells = o.cells();
+      if (!cells.length) { o.list.replaceChildren(); return; }
+      const body = { cells: cells, format: o.format.value.trim() || null, timezone: o.zone.value.trim() || null };
+      const iv = o.interval ? o.interval() : "";
+      if (iv) body.interval = iv;
+      const mine = ++seq;
+      try {
+        const r = await A.json("/api/v1/audits/" + o.auditId + "/date-readings", {
+          method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body),
+        });
+        if (mine !== seq) return;
+        o.select.replaceChildren(...r.readings.map((x) => A.el("option", { value: x.format, selected: x.format === o.format.value },
+          x.words + (x.reads_all ? "" : " (does not read every row)"))));
+        const chosen = r.readings.find((x) => x.format === o.format.value) || r.readings[0];
+        o.list.replaceChildren(...(chosen ? chosen.rows : []).map((row) =>
+          A.el("li", {}, row.text + " \u2192 " + (row.reads_as || "not read as a date by this format"))));
+      } catch (e) {
+        if (mine === seq) o.list.replaceChildren(A.el("li", { class: "warn" }, e.message));
+      }
+    }
+    o.select.addEventListener("change", () => { o.format.value = o.select.value; o.select.dataset.chosen = "yes"; refresh(); });
+    o.format.addEventListener("change", refresh);
+    o.zone.addEventListener("change", refresh);
+    for (const el of o.also || []) el.addEventListener("change", refresh);
+    return refresh;
   },
   async json(url, options) {
     const r = await fetch(url, options);
@@ -101,6 +137,39 @@ for (const el of document.querySelectorAll("table.data td, table.data th, .figur
   const w = document.createTreeWalker(el, NodeFilter.SHOW_TEXT);
   for (let n = w.nextNode(); n; n = w.nextNode()) n.nodeValue = n.nodeValue.replace(/(\d) (?=[^\s\d(–-])/g, "$1\u00a0");
 }
+// A form with a unit switch (select[data-unit-switch], page data `entry_tables` per system): its
+// fields with data-entry follow the chosen system. Each value is carried across as the same stored
+// quantity (core::entry factors), the labels' units change, and the hidden entry_units field tells
+// the server which units the fields now hold. Without scripts the form posts in the units it was
+// drawn in.
+(function unitSwitch() {
+  const data = window.airledger.pageData();
+  if (!data || !data.entry_tables) return;
+  for (const sel of document.querySelectorAll("select[data-unit-switch]")) {
+    const form = sel.form;
+    const hidden = form.querySelector("[data-entry-units]");
+    for (const h of form.querySelectorAll(".no-script-hint")) h.hidden = true;
+    let now = hidden ? hidden.value : "si";
+    sel.addEventListener("change", () => {
+      const from = data.entry_tables[now], to = data.entry_tables[sel.value];
+      if (!from || !to || sel.value === now) return;
+      for (const el of form.querySelectorAll("[data-entry]")) {
+        const k = el.getAttribute("data-entry"), a = from.fields[k], b = to.fields[k];
+        if (!a || !b) continue;
+        if (el.value.trim() !== "") {
+          const stored = Number(el.value.replace(",", ".")) * a.factor + a.offset;
+          el.value = String(Number(((stored - b.offset) / b.factor).toPrecision(9)));
+        }
+      }
+      for (const span of form.querySelectorAll("[data-unit-of]")) {
+        const b = to.fields[span.getAttribute("data-unit-of")];
+        if (b) span.textContent = b.label;
+      }
+      now = sel.value;
+      if (hidden) hidden.value = now;
+    });
+  }
+})();
 document.addEventListener("click", (ev) => {
   const t = ev.target;
   if (t && t.matches && t.matches("[data-print]")) window.print();

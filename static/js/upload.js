@@ -16,6 +16,17 @@
   const ZONES = new Set(Array.from(document.querySelectorAll("#zones option"), (o) => o.value));
   const zoneOk = (z) => ZONES.has(z);
   let sniffed = null;
+  // The first data rows' time cells as the mapping reads them (a time column's after a space).
+  const timeCells = () => {
+    if (!sniffed) return [];
+    const c = sniffed.header.indexOf($("m-ts-column").value), t = sniffed.header.indexOf($("m-ts-time").value);
+    if (c < 0) return [];
+    return (sniffed.preview || []).map((r) => (r[c] || "").trim() + (t >= 0 ? " " + (r[t] || "").trim() : "")).filter((x) => x.trim());
+  };
+  const readDates = A.datePreview({
+    auditId: data.audit_id, cells: timeCells, select: $("m-reading"), format: $("m-ts-format"), zone: $("m-ts-zone"),
+    list: $("date-preview"), interval: () => $("m-interval").value, also: [$("m-ts-column"), $("m-ts-time"), $("m-interval")],
+  });
 
   const drop = $("dropzone");
   drop.addEventListener("dragover", (e) => { e.preventDefault(); drop.classList.add("over"); });
@@ -121,9 +132,9 @@
     $("m-ts-zone").value = m.timestamp.timezone && m.timestamp.timezone !== "UTC" ? m.timestamp.timezone : tz;
     $("m-interval").value = m.timestamp.interval || "";
     $("m-offset").value = m.clock_offset_s || 0;
-    const ts = sniffed.timestamp || {};
     $("dayfirst").classList.toggle("hidden", !sniffed.day_first_ambiguous);
-    if (ts.date_order && !sniffed.day_first_ambiguous) $("m-dateorder").title = "read from the file: " + ts.date_order.replace("_", " ");
+    delete $("m-reading").dataset.chosen;
+    readDates();
     markPreview();
 
     const notes = {};
@@ -226,10 +237,7 @@
       if (rp !== undefined && rt !== undefined) col.reference = { pressure_kpa_abs: rp, temperature_c: rt };
       columns.push(col);
     }
-    let format = $("m-ts-format").value;
-    const df = $("m-dateorder").value;
-    if (df === "month") format = format.replace("%d/%m", "%m/%d").replace("%d-%m", "%m-%d").replace("%d.%m", "%m.%d");
-    if (df === "day") format = format.replace("%m/%d", "%d/%m").replace("%m-%d", "%d-%m").replace("%m.%d", "%d.%m");
+    const format = $("m-ts-format").value;
     const m = {
       delimiter: $("m-delimiter").value, decimal: $("m-decimal").value, header_line: Number($("m-header").value),
       timestamp: { column: $("m-ts-column").value, format: format, timezone: $("m-ts-zone").value || "UTC" },
@@ -248,8 +256,8 @@
   $("mapping-form").addEventListener("submit", (e) => {
     e.preventDefault();
     if (!file) return;
-    if (!$("dayfirst").classList.contains("hidden") && !$("m-dateorder").value) {
-      $("import-status").textContent = "Choose day-first or month-first dates first.";
+    if (!$("dayfirst").classList.contains("hidden") && !$("m-reading").dataset.chosen) {
+      $("import-status").textContent = "Choose how the dates are written first (day/month or month/day).";
       $("step-import").classList.remove("hidden");
       return;
     }

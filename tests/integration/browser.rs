@@ -812,6 +812,8 @@ mod units;
 #[path = "browser_findings.rs"]
 mod findings;
 
+#[path = "browser_forms.rs"]
+mod forms;
 #[path = "browser_treatment.rs"]
 mod treatment;
 

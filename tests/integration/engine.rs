@@ -824,7 +824,7 @@ fn a_fast_bleed_down_warns_on_its_result_and_in_the_summary() {
     let w = res["warnings"][0].as_str().unwrap_or_else(|| panic!("no warning: {res}"));
     assert!(w.contains("isothermal"), "{w}");
     let sum = summary(&s, 1, "");
-    let prefix = format!("field test {} (bleed_down)", rec["id"]);
+    let prefix = format!("field test {} (bleed-down test)", rec["id"]);
     assert!(
         sum["warnings"].as_array().unwrap().iter().any(|x| x.as_str().unwrap().starts_with(&prefix)),
         "{}",

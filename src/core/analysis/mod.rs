@@ -343,7 +343,9 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         })
         .collect();
     warnings.extend(input.leak_estimates.iter().flat_map(|e| {
-        e.warnings.iter().map(move |w| format!("field test {} ({}): {w}", e.test_id, e.method))
+        e.warnings
+            .iter()
+            .map(move |w| format!("field test {} ({}): {w}", e.test_id, super::model::human_label(&e.method)))
     }));
     let energy_kwh = &d.energy.energy_kwh;
     let sys_energy: f64 = energy_kwh.iter().sum();
@@ -386,7 +388,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
          and pressure band); modulation 0.30 P/Q; variable speed the data-sheet curve's local slope; \
          start/stop P/Q",
         "US DOE compressed-air sourcebook: part-load behaviour by control, load/unload curves by storage \
-         (checked against a time-domain blow-down cycle, tests/reference/partload_reference.py)",
+         (checked against a time-domain blow-down cycle)",
     ));
     if let Some(m) = &part_load_model {
         assumptions.push(format!("part-load model behind the marginal specific power: {}", m.describe()));
@@ -456,7 +458,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         "non_production_leak_flow_m3_min",
         "(mean flow out of production - purge and drains on record) × p_production,abs / p_non-production,abs",
         "choked leak flow is proportional to absolute upstream pressure (ideal-gas choked orifice flow, \
-         API 520 Part I gas sizing; checked against fluids); US DOE sourcebook, leaks fact sheet",
+         API 520 Part I gas sizing); US DOE sourcebook, leaks fact sheet",
     ));
     methods.push(method(
         "annual_leak_cost",

@@ -161,7 +161,7 @@ fn a_leak_estimate_keeps_the_uncertainty_and_warnings_its_test_was_evaluated_wit
     assert!((r.leaks.adopted_leak_flow_m3_min_high.unwrap() - 1.07).abs() < 1e-12);
     // Its warning reaches the summary's, naming the test.
     assert!(
-        r.warnings.iter().any(|w| w.starts_with("field test 4 (load_unload): test too short")),
+        r.warnings.iter().any(|w| w.starts_with("field test 4 (load/unload): test too short")),
         "{:?}",
         r.warnings
     );

@@ -32,6 +32,7 @@ fn bleed_down_matches_the_doe_worked_example() {
         frame: None,
         production: None,
         timezone: "UTC",
+        units: crate::core::units::UnitSystem::Si,
     };
     let input: FieldTestInput = serde_json::from_str(&format!(
         r#"{{"kind": "bleed_down", "volume_m3": {}, "start_pressure_bar_g": {}, "end_pressure_bar_g": {}, "duration_s": 3600}}"#,
@@ -74,6 +75,7 @@ fn load_unload_7_5_of_30_min_is_25_percent() {
         frame: None,
         production: None,
         timezone: "UTC",
+        units: crate::core::units::UnitSystem::Si,
     };
     let input: FieldTestInput = serde_json::from_str(
         r#"{"kind": "load_unload", "compressor": "C2", "loaded_s": 450, "unloaded_s": 1350}"#,
@@ -99,6 +101,7 @@ fn bad_inputs_are_rejected_with_their_field() {
         frame: None,
         production: None,
         timezone: "UTC",
+        units: crate::core::units::UnitSystem::Si,
     };
     let bd = |p1: f64, p2: f64, t: f64| FieldTestInput::BleedDown {
         volume_m3: None,
@@ -171,6 +174,7 @@ fn pressure_decay_recovers_the_leak_of_an_exponential_fall() {
         frame: Some(&frame),
         production: None,
         timezone: "UTC",
+        units: crate::core::units::UnitSystem::Si,
     };
     let input = FieldTestInput::PressureDecay {
         start: "2026-03-02T00:00:00Z".into(),
@@ -206,6 +210,7 @@ fn idle_flow_scales_to_the_production_pressure() {
         frame: Some(&frame),
         production: None,
         timezone: "UTC",
+        units: crate::core::units::UnitSystem::Si,
     };
     let input = FieldTestInput::IdleFlow {
         start: "2026-03-02T00:00:00Z".into(),
@@ -238,6 +243,7 @@ fn load_unload_uncertainty_comes_from_the_tests_own_times() {
         frame: None,
         production: None,
         timezone: "UTC",
+        units: crate::core::units::UnitSystem::Si,
     };
     for (loaded, unloaded, rel) in [(40.0, 160.0, 0.064_81), (450.0, 1350.0, 0.050_12)] {
         let r = evaluate(
@@ -265,6 +271,7 @@ fn a_fast_bleed_down_warns_and_warm_air_is_corrected() {
         frame: None,
         production: None,
         timezone: "UTC",
+        units: crate::core::units::UnitSystem::Si,
     };
     let bd = |t_air: Option<f64>| FieldTestInput::BleedDown {
         volume_m3: Some(3.0),
@@ -303,6 +310,7 @@ fn idle_flow_takes_off_the_purge_and_drains_before_the_pressure_correction() {
         frame: Some(&frame),
         production: None,
         timezone: "UTC",
+        units: crate::core::units::UnitSystem::Si,
     };
     let input = |purge: Option<f64>| FieldTestInput::IdleFlow {
         start: "2026-03-02T00:00:00Z".into(),
@@ -362,6 +370,7 @@ fn an_unloaded_window_in_a_production_hour_is_refused() {
         frame: Some(&frame),
         production: p,
         timezone: "UTC",
+        units: crate::core::units::UnitSystem::Si,
     };
     let e = evaluate(&input, &ctx(Some(&busy))).unwrap_err();
     assert_eq!(e.field, "start");

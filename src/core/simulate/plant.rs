@@ -21,8 +21,10 @@ use serde::{Deserialize, Serialize};
 use super::machine::Machine;
 use super::{fail, ScenarioError, SimInput, BAND_BAR, MIN_REQUIRED_MARGIN_BAR, STAGGER_BAR};
 use super::{VSD_ABOVE_LOAD_BAR, VSD_RESTART_BELOW_SETPOINT_BAR, VSD_STOP_ABOVE_SETPOINT_BAR};
+use crate::core::entry::Entry;
 use crate::core::model::{CompressorSpec, Control};
 use crate::core::states;
+use crate::core::units::UnitSystem;
 
 // PI law of a variable-speed drive, scaled to its maximum flow (the demo drive's 20 m³/min per bar,
 // 0.3 m³/min per bar s and 0.5 m³/min per s at 7.6 m³/min).
@@ -65,7 +67,17 @@ pub use crate::core::datasheet::DataSheetInput as AddedCompressor;
 
 /// The data-sheet description of an added machine; `field` prefixes the error's field name.
 pub(super) fn added_spec(c: &AddedCompressor, field: &str) -> Result<CompressorSpec, ScenarioError> {
-    c.validate().map_err(|e| ScenarioError { field: format!("{field}.{}", e.field), message: e.message })
+    added_spec_in(c, field, UnitSystem::Si)
+}
+
+/// [`added_spec`], a refusal quoting figures in `units`.
+fn added_spec_in(
+    c: &AddedCompressor,
+    field: &str,
+    units: UnitSystem,
+) -> Result<CompressorSpec, ScenarioError> {
+    c.validate_in(units)
+        .map_err(|e| ScenarioError { field: format!("{field}.{}", e.field), message: e.message })
 }
 
 /// A named list of changes; no changes is the plant as it is.
@@ -84,6 +96,12 @@ impl Scenario {
     /// The checks that need no plant: the name, the number of changes, the quoted cost and every
     /// number of every change within its range (module doc table). [`super::run`] calls it first.
     pub fn check(&self) -> Result<(), ScenarioError> {
+        self.check_in(UnitSystem::Si)
+    }
+
+    /// [`Self::check`], a refusal quoting pressures, volumes and an added machine's figures in
+    /// `units`, as the what-if form labelled them (`core::entry`).
+    pub fn check_in(&self, units: UnitSystem) -> Result<(), ScenarioError> {
         let n = self.name.trim().chars().count();
         if n == 0 || n > 100 {
             return fail("name", "the scenario needs a name of 1 to 100 characters");
@@ -99,15 +117,26 @@ impl Scenario {
             let field = |f: &str| format!("changes[{k}].{f}");
             match c {
                 Change::Add { compressor } => {
-                    added_spec(compressor, &field("compressor"))?;
+                    added_spec_in(compressor, &field("compressor"), units)?;
                 }
                 Change::SetPressure { target_bar_g } => {
-                    within(*target_bar_g, 0.0, true, MAX_PRESSURE_BAR_G, " bar(g)")
-                        .or_else(|m| fail(field("target_bar_g"), format!("the target pressure {m}")))?;
+                    within(*target_bar_g, 0.0, true, MAX_PRESSURE_BAR_G, " bar(g)").or_else(|_| {
+                        let why = Entry::GaugePressure.out_of_range(
+                            units,
+                            *target_bar_g,
+                            0.0,
+                            true,
+                            MAX_PRESSURE_BAR_G,
+                        );
+                        fail(field("target_bar_g"), format!("the target pressure {why}"))
+                    })?;
                 }
                 Change::AddStorage { volume_m3 } => {
-                    within(*volume_m3, 0.0, false, MAX_ADDED_STORAGE_M3, " m³")
-                        .or_else(|m| fail(field("volume_m3"), format!("the added volume {m}")))?;
+                    within(*volume_m3, 0.0, false, MAX_ADDED_STORAGE_M3, " m³").or_else(|_| {
+                        let why =
+                            Entry::Volume.out_of_range(units, *volume_m3, 0.0, false, MAX_ADDED_STORAGE_M3);
+                        fail(field("volume_m3"), format!("the added volume {why}"))
+                    })?;
                 }
                 Change::ReduceLeaks { fraction } => {
                     within(*fraction, 0.0, false, 1.0, "")

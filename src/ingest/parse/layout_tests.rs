@@ -93,7 +93,7 @@ fn error_markers_and_text_are_missing_values_counted_per_column() {
     assert_eq!(texts, [(3, "#-1"), (4, "Err"), (5, "-9999")]);
     let t = &r.quality.channels[1];
     assert_eq!(t.marked.examples[1], MarkedCell { line: 4, text: "#VALUE!".into() });
-    let w = r.quality.warnings();
+    let w = r.quality.warnings("UTC");
     assert!(
         w.contains(&"Flow [l/s]: 3 cells with a marker or text read as missing (\"#-1\", \"Err\", \"-9999\"; first at line 3)".into()),
         "{w:?}"

@@ -214,7 +214,7 @@ fn missing_value_markers_give_no_reading_and_are_counted() {
     assert_eq!(r.quality.channels[1].missing.count, 4);
     assert_eq!(r.quality.channels[0].missing.examples, vec![3, 4, 6, 7]);
     assert_eq!(r.quality.file.blank_lines, 2);
-    assert!(r.quality.warnings().contains(&"C1 kW: 4 missing values (first at line 3)".to_string()));
+    assert!(r.quality.warnings("UTC").contains(&"C1 kW: 4 missing values (first at line 3)".to_string()));
 }
 
 #[test]
@@ -247,7 +247,7 @@ fn a_kwh_counter_with_a_reset_is_kept_exactly_and_reported() {
     assert_eq!(got[0].2, 12345.6 * 3.6e6);
     let d = &r.quality.channels[0].counter_drops;
     assert_eq!((d.count, d.examples[0].kind.as_str(), d.examples[0].line), (1, "reset", 4));
-    let w = r.quality.warnings();
+    let w = r.quality.warnings("UTC");
     assert!(
         w.contains(
             &"C1 kWh: the counter went down 1 time (first a reset at line 4, 12346.5 kWh -> 0.2 kWh)"
@@ -382,7 +382,7 @@ fn a_berlin_fall_back_night_is_read_in_order_and_reported() {
     assert_eq!(r.quality.file.out_of_order.count, 0);
     assert_eq!(r.quality.file.dst.examples[2].local_time, "2026-10-25 02:00:00");
     assert_eq!(r.quality.file.dst.examples[2].utc_offset_s, 3600);
-    assert!(r.quality.warnings().iter().any(|w| w.starts_with("4 local times fell in the repeated")));
+    assert!(r.quality.warnings("UTC").iter().any(|w| w.starts_with("4 local times fell in the repeated")));
 }
 
 #[test]

@@ -48,7 +48,7 @@ fn gaps_duplicates_and_out_of_order_at_one_second() {
     assert_eq!(r.file.gaps.examples[0].start, "1970-01-01T00:01:40Z");
     assert_eq!(r.file.duplicate_timestamps.count, 1);
     assert_eq!(r.file.out_of_order.count, 1);
-    let w = r.warnings();
+    let w = r.warnings("UTC");
     assert!(w[0].starts_with("1 gap longer than 3x the 1 s logging interval; the longest is 60 s"), "{w:?}");
     assert!(w.iter().any(|s| s.starts_with("1 duplicate timestamp (first at line 103")), "{w:?}");
 }
@@ -72,7 +72,7 @@ fn flat_line_needs_thirty_minutes_and_thirty_readings() {
     assert_eq!(f.examples[0].readings, 40);
     assert!((f.examples[0].value - 7.0).abs() < 1e-12);
     assert_eq!(f.examples[0].duration_s, 39.0 * 60.0);
-    assert!(r.warnings()[0].contains("the longest is 7 bar_g for 39 min"), "{:?}", r.warnings());
+    assert!(r.warnings("UTC")[0].contains("the longest is 7 bar_g for 39 min"), "{:?}", r.warnings("UTC"));
 }
 
 #[test]
@@ -159,7 +159,7 @@ fn a_threshold_between_left_out_spacings_gives_a_lower_bound() {
     let mut report = QualityReport::default();
     report.file.gaps = r;
     report.file.median_interval_s = Some(1.5);
-    let w = report.warnings();
+    let w = report.warnings("UTC");
     assert!(w[0].starts_with("at least 4095 gaps longer than 3x the 1.5 s logging interval"), "{w:?}");
     // The JSON names the lower bound only when there is one.
     let json = serde_json::to_value(&report.file.gaps).unwrap();
@@ -183,7 +183,7 @@ fn negative_gauge_pressure_on_a_compressed_air_line_is_out_of_range() {
     assert_eq!(o.count, 1);
     assert_eq!((o.examples[0].line, o.examples[0].value), (3, -0.4));
     assert!(o.examples[0].reason.starts_with("negative gauge pressure"));
-    assert!(r.warnings().iter().any(|w| w.contains("negative gauge pressure") && w.contains("line 3")));
+    assert!(r.warnings("UTC").iter().any(|w| w.contains("negative gauge pressure") && w.contains("line 3")));
 }
 
 #[test]
@@ -218,7 +218,7 @@ fn power_and_flow_far_above_the_data_sheets_are_implausible() {
     assert!(r.channels[1].implausible[0]
         .reason
         .starts_with("system flow up to 24.00 m³/min, above 1.5 x the 15.5"));
-    assert!(r.warnings().iter().any(|w| w.starts_with("C1 kW: implausible: power of C1 up to 83.0 kW")));
+    assert!(r.warnings("UTC").iter().any(|w| w.starts_with("C1 kW: implausible: power of C1 up to 83.0 kW")));
     let r = report(82.0, 23.0);
     assert!(r.channels.iter().all(|c| c.implausible.is_empty()));
 }

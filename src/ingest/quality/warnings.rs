@@ -3,6 +3,7 @@ The findings as the short sentences of the API's `warnings` list.
 */
 
 use super::QualityReport;
+use crate::core::display::{local_ms, local_time};
 
 fn num(v: f64) -> String {
     if v == 0.0 {
@@ -47,8 +48,10 @@ fn at_least(lower_bound: bool) -> &'static str {
 }
 
 impl QualityReport {
-    /// Short sentences (with units) for the API's `warnings` list.
-    pub fn warnings(&self) -> Vec<String> {
+    /// Short sentences (with units) for the API's `warnings` list; every time in them is the
+    /// site's local time in zone `tz`, with the zone named (`core::display::local_time`).
+    pub fn warnings(&self, tz: &str) -> Vec<String> {
+        let at = |t: &str| local_time(t, tz);
         let mut w = Vec::new();
         let f = &self.file;
         if f.gaps.count > 0 {
@@ -62,7 +65,7 @@ impl QualityReport {
                 s += &format!("; the longest is {}", human_duration(l));
             }
             if let Some(g) = f.gaps.examples.first() {
-                s += &format!(", the first starts {}", g.start);
+                s += &format!(", the first starts {}", at(&g.start));
             }
             w.push(s);
         }
@@ -71,7 +74,7 @@ impl QualityReport {
                 "{} (first at line {}, {})",
                 plural(f.duplicate_timestamps.count, "duplicate timestamp", "duplicate timestamps"),
                 a.line,
-                a.time
+                at(&a.time)
             ));
         }
         if let Some(a) = f.out_of_order.examples.first() {
@@ -79,7 +82,7 @@ impl QualityReport {
                 "{} earlier than the row before (first at line {}, {})",
                 plural(f.out_of_order.count, "timestamp is", "timestamps are"),
                 a.line,
-                a.time
+                at(&a.time)
             ));
         }
         if f.dst.gap_shifted > 0 {
@@ -144,7 +147,7 @@ impl QualityReport {
                     num(longest.value),
                     longest.unit,
                     human_duration(longest.duration_s),
-                    longest.start
+                    at(&longest.start)
                 ));
             }
             if let Some(o) = c.out_of_range.examples.first() {
@@ -191,8 +194,9 @@ pub const SMALL_SHARE_OF_PERIOD: f64 = 0.25;
 /// Warnings on how a new file's span `[first, last]` (UTC ms) sits among the spans of the audit's
 /// other files: when it overlaps none of them in time (readings of different times cannot be added
 /// up into one system), and when it covers under [`SMALL_SHARE_OF_PERIOD`] of the logged period.
-pub fn span_warnings(this: (i64, i64), others: &[(i64, i64)]) -> Vec<String> {
-    use crate::ingest::timestamp::format_utc_ms as t;
+/// Times are the site's local time in zone `tz`, the zone named.
+pub fn span_warnings(this: (i64, i64), others: &[(i64, i64)], tz: &str) -> Vec<String> {
+    let t = |ms: i64| local_ms(ms, tz);
     let mut w = Vec::new();
     if others.is_empty() {
         return w;
@@ -236,25 +240,45 @@ mod span_tests {
     #[test]
     fn a_file_beside_the_others_in_time_is_reported_with_its_share() {
         // Others: days 0-7; this file: day 20 to 21. No overlap; 1 day of a 21-day period is 4.8 %.
-        let w = span_warnings((20 * DAY, 21 * DAY), &[(0, 7 * DAY)]);
+        let w = span_warnings((20 * DAY, 21 * DAY), &[(0, 7 * DAY)], "UTC");
         assert_eq!(w.len(), 2, "{w:?}");
-        assert!(w[0].starts_with("this file (1970-01-21T00:00:00Z to 1970-01-22T00:00:00Z) does not overlap"));
+        assert!(
+            w[0].starts_with(
+                "this file (Wed 21 Jan 1970 00:00 UTC to Thu 22 Jan 1970 00:00 UTC) does not overlap"
+            ),
+            "{}",
+            w[0]
+        );
         assert!(w[1].starts_with("this file covers 4.8 % of the audit's logged period"), "{}", w[1]);
     }
 
     #[test]
     fn an_overlapping_file_of_the_same_week_gives_no_warning() {
-        assert!(span_warnings((DAY, 7 * DAY), &[(0, 7 * DAY)]).is_empty());
+        assert!(span_warnings((DAY, 7 * DAY), &[(0, 7 * DAY)], "UTC").is_empty());
         // The first file of an audit has nothing to be compared with.
-        assert!(span_warnings((0, DAY), &[]).is_empty());
+        assert!(span_warnings((0, DAY), &[], "UTC").is_empty());
         // Two days of a week overlap but cover 2/7 = 28.6 %: above the 25 % threshold.
-        assert!(span_warnings((0, 2 * DAY), &[(0, 7 * DAY)]).is_empty());
+        assert!(span_warnings((0, 2 * DAY), &[(0, 7 * DAY)], "UTC").is_empty());
         // One day of it: 14.3 %, reported, though it overlaps.
-        let w = span_warnings((0, DAY), &[(0, 7 * DAY)]);
+        let w = span_warnings((0, DAY), &[(0, 7 * DAY)], "UTC");
         assert_eq!(w.len(), 1);
         assert!(w[0].starts_with("this file covers 14.3 %"), "{w:?}");
         // A minute of a year is 0.0002 %: said as under 0.1 %, never as 0.0 %.
-        let w = span_warnings((0, 60_000), &[(0, 365 * DAY)]);
+        let w = span_warnings((0, 60_000), &[(0, 365 * DAY)], "UTC");
         assert!(w[0].starts_with("this file covers under 0.1 % of the audit's logged period"), "{w:?}");
+    }
+
+    #[test]
+    fn span_times_are_the_sites_local_time_with_the_zone_named() {
+        // 2006-12-16T23:24:00Z is 17:24 CST in Chicago (UTC-6 in winter, IANA tz database), as
+        // Python's zoneinfo gives: datetime(2006,12,16,23,24,tzinfo=UTC).astimezone(ZoneInfo("America/Chicago")).
+        let t = 1_166_311_440_000; // 2006-12-16T23:24:00Z
+        let w = span_warnings((t, t + DAY), &[(t + 10 * DAY, t + 40 * DAY)], "America/Chicago");
+        assert!(
+            w[0].starts_with("this file (Sat 16 Dec 2006 17:24 CST to Sun 17 Dec 2006 17:24 CST)"),
+            "{}",
+            w[0]
+        );
+        assert!(!w.iter().any(|x| x.contains("T23:24") || x.contains('Z')), "{w:?}");
     }
 }

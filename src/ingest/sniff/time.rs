@@ -255,3 +255,168 @@ pub fn row_seconds(f: &Found, data: &[&Vec<String>]) -> Vec<Option<f64>> {
         })
         .collect()
 }
+
+/// The rows a date reading shows: the first few.
+pub const READING_ROWS: usize = 3;
+
+/// One way of reading the dates of a file's first rows: its format, the format in words, and how
+/// each of the first rows reads with it in the site's zone.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct DateReading {
+    pub format: String,
+    /// "day/month/year, hh:mm:ss".
+    pub words: String,
+    /// Whether every cell given reads with this format.
+    pub reads_all: bool,
+    pub rows: Vec<ReadRow>,
+}
+
+/// One row's time as written and as it will be read.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ReadRow {
+    pub text: String,
+    /// "Sat 16 Dec 2006 17:24 CST, America/Chicago"; `None` when the format does not read it.
+    pub reads_as: Option<String>,
+}
+
+/// A timestamp format in words, the date's order first: `%d/%m/%Y %H:%M:%S` is
+/// "day/month/year, hh:mm:ss".
+pub fn format_words(format: &str) -> String {
+    if format == "rfc3339" {
+        return "year-month-day, hh:mm:ss and the UTC offset (ISO 8601)".into();
+    }
+    let split = format.find([' ', 'T']).unwrap_or(format.len());
+    let (date, time) = format.split_at(split);
+    let mut words = date
+        .replace("%d", "day")
+        .replace("%m", "month")
+        .replace("%b", "month name")
+        .replace("%Y", "year")
+        .replace("%y", "two-digit year");
+    let time = time.trim_start_matches(['T', ' ']);
+    if !time.is_empty() {
+        let t = time
+            .replace("%H", "hh")
+            .replace("%I", "hh")
+            .replace("%M", "mm")
+            .replace("%S", "ss")
+            .replace("%.f", ".fff")
+            .replace("%p", "AM/PM");
+        words = format!("{words}, {t}");
+    }
+    if words.contains('%') {
+        format!("as written: {format}")
+    } else {
+        words
+    }
+}
+
+/// How the first rows' times read under every candidate format that reads all of `cells` (the
+/// timestamp column's first cells, a time column's cell joined after a space, as the parser
+/// joins them), `chosen` first (kept even when it does not read them), a local time read in the
+/// logger's zone `timezone` (IANA) and shown in the site's, `site` ("Sat 16 Dec 2006 10:24 CST,
+/// America/Chicago" for 17:24 logged in Berlin), so a person sees what each reading will mean on
+/// the site's clock. An interval cell is read by `interval`'s end. A zone that is not one is an
+/// error in words.
+pub fn date_readings(
+    cells: &[String],
+    (timezone, site): (&str, &str),
+    chosen: Option<&str>,
+    interval: Option<IntervalEnd>,
+) -> Result<Vec<DateReading>, String> {
+    let zone_ok = TimestampParser::new("%Y-%m-%d %H:%M:%S", timezone, 0.0).is_ok();
+    if !zone_ok {
+        return Err(format!("{timezone:?} is not a time zone of the IANA list (such as America/Chicago)"));
+    }
+    let cells: Vec<String> = cells
+        .iter()
+        .map(|c| c.trim())
+        .filter(|c| !c.is_empty())
+        .take(PROBE)
+        .map(|c| match interval {
+            Some(end) => interval_end(c.as_bytes(), end)
+                .map_or_else(|| c.to_string(), |b| String::from_utf8_lossy(b).into_owned()),
+            None => c.to_string(),
+        })
+        .collect();
+    let refs: Vec<&str> = cells.iter().map(String::as_str).collect();
+    let mut formats: Vec<String> =
+        chosen.filter(|c| !c.trim().is_empty()).map(|c| vec![c.to_string()]).unwrap_or_default();
+    if let Some((found, _, _)) = settle(&refs, &refs) {
+        formats.extend(found);
+    }
+    let mut seen = std::collections::HashSet::new();
+    formats.retain(|f| seen.insert(f.clone()));
+    Ok(formats
+        .into_iter()
+        .filter_map(|format| {
+            let mut p = TimestampParser::new(&format, timezone, 0.0).ok()?;
+            let reads_all = reads_all(&format, &refs);
+            let rows = cells
+                .iter()
+                .take(READING_ROWS)
+                .map(|c| ReadRow {
+                    text: c.clone(),
+                    reads_as: p
+                        .parse(c.as_bytes())
+                        .map(|(ms, _)| format!("{}, {site}", crate::core::display::local_ms(ms, site))),
+                })
+                .collect();
+            Some(DateReading { words: format_words(&format), format, reads_all, rows })
+        })
+        .collect())
+}
+
+#[cfg(test)]
+mod reading_tests {
+    use super::*;
+
+    #[test]
+    fn formats_read_in_words() {
+        assert_eq!(format_words("%d/%m/%Y %H:%M:%S"), "day/month/year, hh:mm:ss");
+        assert_eq!(format_words("%m/%d/%Y %I:%M %p"), "month/day/year, hh:mm AM/PM");
+        assert_eq!(format_words("%Y-%m-%dT%H:%M:%S"), "year-month-day, hh:mm:ss");
+        assert_eq!(format_words("%d-%b-%Y %H:%M"), "day-month name-year, hh:mm");
+        assert_eq!(format_words("%s"), "as written: %s");
+    }
+
+    #[test]
+    fn a_day_first_file_offers_its_readings_and_shows_the_first_rows_in_the_sites_zone() {
+        // 16/12/2006 17:24:00 day first is Saturday 16 December 2006 (a Saturday by the Gregorian
+        // calendar: Python's datetime.date(2006, 12, 16).strftime("%a") gives "Sat"); in Chicago
+        // in December the zone is CST (UTC-6, IANA tz database).
+        let cells: Vec<String> =
+            ["16/12/2006 17:24:00", "16/12/2006 17:25:00", "16/12/2006 17:26:00"].map(String::from).to_vec();
+        let r = date_readings(&cells, ("America/Chicago", "America/Chicago"), None, None).unwrap();
+        assert_eq!(r[0].format, "%d/%m/%Y %H:%M:%S");
+        assert_eq!(r[0].words, "day/month/year, hh:mm:ss");
+        assert!(r[0].reads_all);
+        assert_eq!(r[0].rows[0].reads_as.as_deref(), Some("Sat 16 Dec 2006 17:24 CST, America/Chicago"));
+        // Month first cannot read a 16th month: not offered.
+        assert!(!r.iter().any(|x| x.format.starts_with("%m/%d")), "{r:?}");
+        // A date both ways (3 February or 2 March) offers both readings.
+        let both: Vec<String> = ["03/02/2026 08:00:00", "03/02/2026 08:01:00"].map(String::from).to_vec();
+        let r = date_readings(&both, ("Europe/Berlin", "Europe/Berlin"), None, None).unwrap();
+        let words: Vec<&str> = r.iter().map(|x| x.words.as_str()).collect();
+        assert!(
+            words.contains(&"day/month/year, hh:mm:ss") && words.contains(&"month/day/year, hh:mm:ss"),
+            "{words:?}"
+        );
+        // Day first: Tuesday 3 February; month first: Monday 2 March (Python's datetime.date gives
+        // the weekdays); CET (UTC+1) in Berlin in both months (IANA tz database).
+        let day_first = r.iter().find(|x| x.format.starts_with("%d/%m")).unwrap();
+        assert_eq!(day_first.rows[0].reads_as.as_deref(), Some("Tue 3 Feb 2026 08:00 CET, Europe/Berlin"));
+        let month_first = r.iter().find(|x| x.format.starts_with("%m/%d")).unwrap();
+        assert_eq!(month_first.rows[0].reads_as.as_deref(), Some("Mon 2 Mar 2026 08:00 CET, Europe/Berlin"));
+        // A chosen format that does not read the cells is kept first and says so.
+        let r = date_readings(&cells, ("UTC", "UTC"), Some("%Y-%m-%d %H:%M:%S"), None).unwrap();
+        assert_eq!(r[0].rows[0].reads_as, None);
+        assert!(!r[0].reads_all);
+        assert!(date_readings(&cells, ("CST", "UTC"), None, None).is_err());
+        // Logged in Berlin (CET, UTC+1), shown on a Chicago site's clock (CST, UTC-6): 17:24 is
+        // 10:24 there (Python: datetime(2006,12,16,17,24,tzinfo=ZoneInfo("Europe/Berlin"))
+        // .astimezone(ZoneInfo("America/Chicago"))).
+        let r = date_readings(&cells, ("Europe/Berlin", "America/Chicago"), None, None).unwrap();
+        assert_eq!(r[0].rows[0].reads_as.as_deref(), Some("Sat 16 Dec 2006 10:24 CST, America/Chicago"));
+    }
+}

@@ -230,7 +230,13 @@ pub(super) async fn run_import(
             })
             .collect();
     report.quality.check_against_rated(&rated);
-    let mut warnings = report.quality.warnings();
+    // Times in the warnings are the site's, as every time a person sees.
+    let tz: String = sqlx::query_scalar("SELECT timezone FROM audit WHERE id = ?")
+        .bind(req.audit_id)
+        .fetch_optional(&mut *tx)
+        .await?
+        .unwrap_or_else(|| "UTC".into());
+    let mut warnings = report.quality.warnings(&tz);
     if readings == 0 {
         warnings.insert(
             0,
@@ -253,7 +259,7 @@ pub(super) async fn run_import(
         .iter()
         .map(|r| (r.get("first_ms"), r.get("last_ms")))
         .collect();
-        warnings.extend(quality::span_warnings((f, l), &others));
+        warnings.extend(quality::span_warnings((f, l), &others, &tz));
     }
     if dropped_total > 0 {
         warnings.push(format!(

@@ -144,6 +144,7 @@ fn audit_page(b: AuditBundle, error: Option<String>) -> AuditPage {
     let heating_months =
         b.audit.site.heating_months.iter().map(|m| m.to_string()).collect::<Vec<_>>().join(", ");
     let tz = &b.audit.site.timezone;
+    let tz_owned = tz.clone();
     let spans = b
         .uploads
         .iter()
@@ -170,7 +171,7 @@ fn audit_page(b: AuditBundle, error: Option<String>) -> AuditPage {
         audit: b.audit,
         compressors: b.compressors,
         receivers: b.receivers,
-        uploads: b.uploads,
+        uploads: super::words::uploads_in_local_time(b.uploads, &tz_owned),
         error,
     }
 }

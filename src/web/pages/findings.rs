@@ -68,12 +68,15 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
         plots,
         system_volume_m3: b.storage().system_volume_m3(),
         atmosphere: format!("{:.2} kPa abs", b.audit.site.atmospheric_pressure_kpa_abs()),
-        printed: jiff::Zoned::now().date().to_string(),
+        printed: jiff::Timestamp::now()
+            .to_zoned(jiff::tz::TimeZone::get(&tz).unwrap_or(jiff::tz::TimeZone::UTC))
+            .date()
+            .to_string(),
         fmt,
         view,
         b_compressors: b.compressors,
         b_receivers: b.receivers,
-        b_uploads: b.uploads,
+        b_uploads: super::words::uploads_in_local_time(b.uploads, &tz),
         audit: b.audit,
     })
 }
@@ -86,10 +89,66 @@ pub async fn findings(
     Ok(render(&findings_page(&st.app, id, &q).await?))
 }
 
-/// The findings page as a file (`airledger report --format html`).
+/// The findings page as a file (`airledger report --format html`): opened from disk, it has no
+/// server to ask for its styles and scripts, so they are carried inline ([`standalone`]).
 pub async fn findings_html(app: &App, id: i64) -> anyhow::Result<String> {
     let page = findings_page(app, id, &ViewQuery::default()).await.map_err(|e| anyhow::anyhow!("{e}"))?;
-    Ok(page.render()?)
+    let html = page.render()?;
+    Ok(standalone(&html, &print_css_text(&page.audit.name)))
+}
+
+/// A rendered page made to stand alone: every stylesheet and script it links by a server path is
+/// put inline from the embedded files (the findings' print stylesheet from `print_css`), the
+/// favicon link is dropped, and so is the page's top bar, whose links lead to the server.
+pub fn standalone(html: &str, print_css: &str) -> String {
+    let mut out = String::with_capacity(html.len() + 64 * 1024);
+    let mut rest = html;
+    while let Some(i) = rest.find('<') {
+        out.push_str(&rest[..i]);
+        rest = &rest[i..];
+        let end = rest.find('>').map_or(rest.len(), |e| e + 1);
+        let tag = &rest[..end];
+        let attr = |name: &str| {
+            let key = format!("{name}=\"");
+            tag.find(&key).map(|a| {
+                let v = &tag[a + key.len()..];
+                &v[..v.find('"').unwrap_or(v.len())]
+            })
+        };
+        if tag.starts_with("<link") {
+            match (attr("rel"), attr("href")) {
+                (Some("stylesheet"), Some(href)) if href.starts_with('/') => {
+                    let css = match href.strip_prefix("/static/") {
+                        Some(p) => crate::web::assets::text(p).unwrap_or_default().to_string(),
+                        None => print_css.to_string(),
+                    };
+                    match attr("media") {
+                        Some(media) => out.push_str(&format!("<style media=\"{media}\">\n{css}</style>")),
+                        None => out.push_str(&format!("<style>\n{css}</style>")),
+                    }
+                }
+                (_, Some(href)) if href.starts_with('/') => {}
+                _ => out.push_str(tag),
+            }
+            rest = &rest[end..];
+        } else if tag.starts_with("<script") && attr("src").is_some_and(|s| s.starts_with('/')) {
+            let js = attr("src").and_then(|s| s.strip_prefix("/static/")).and_then(crate::web::assets::text);
+            // `</script` inside a script would end it early: written `<\/script` (the same string in JS).
+            out.push_str(&format!(
+                "<script>\n{}</script>",
+                js.unwrap_or_default().replace("</script", "<\\/script")
+            ));
+            rest = &rest[end..];
+            rest = rest.strip_prefix("</script>").unwrap_or(rest);
+        } else if tag.starts_with("<header class=\"topbar") {
+            rest = rest.find("</header>").map_or(&rest[end..], |e| &rest[e + "</header>".len()..]);
+        } else {
+            out.push_str(tag);
+            rest = &rest[end..];
+        }
+    }
+    out.push_str(rest);
+    out
 }
 
 /// A CSS string literal of any text: quotes, backslashes and control characters as CSS escapes
@@ -112,13 +171,18 @@ fn css_string(text: &str) -> String {
 /// allow no inline style), linked by the findings page for print.
 pub async fn print_css(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, PageError> {
     let b = st.app.bundle(id).await?;
-    let head = css_string(&format!("{} \u{b7} compressed-air findings", b.audit.name));
-    let css = format!(
-        "@page {{\n  @top-left {{ content: {head}; font: 8pt system-ui, sans-serif; color: #555; }}\n  \
-         @bottom-right {{ content: \"page \" counter(page) \" of \" counter(pages); font: 8pt system-ui, sans-serif; color: #555; }}\n}}\n"
-    );
+    let css = print_css_text(&b.audit.name);
     Ok(([(header::CONTENT_TYPE, "text/css; charset=utf-8"), (header::CACHE_CONTROL, "no-store")], css)
         .into_response())
+}
+
+/// The print stylesheet's text for a site named `name`.
+fn print_css_text(name: &str) -> String {
+    let head = css_string(&format!("{name} \u{b7} compressed-air findings"));
+    format!(
+        "@page {{\n  @top-left {{ content: {head}; font: 8pt system-ui, sans-serif; color: #555; }}\n  \
+         @bottom-right {{ content: \"page \" counter(page) \" of \" counter(pages); font: 8pt system-ui, sans-serif; color: #555; }}\n}}\n"
+    )
 }
 
 #[cfg(test)]

@@ -18,6 +18,7 @@ use crate::core::entry::Entry;
 use crate::core::series::PressurePoint;
 use crate::core::unit_table::{self, LoggedQuantity, ToSi};
 use crate::ingest::mapping::LineConditions;
+use crate::ingest::sniff::time::{date_readings, DateReading, ReadRow};
 use crate::ingest::Mapping;
 use crate::store::audits::Audit;
 use crate::web::error::AppError;
@@ -64,7 +65,32 @@ struct RemapPage {
     /// The file's other columns, for a line pressure logged in one of them.
     pressure_columns: Vec<String>,
     format: String,
+    /// The readings of the dates that read the file's first rows, in words, the chosen first.
+    readings: Vec<DateReading>,
+    /// The first rows' times as the chosen format reads them.
+    preview_rows: Vec<ReadRow>,
+    /// For `static/js/remap.js`: the audit, the first rows' time cells and the interval end.
+    page_data: serde_json::Value,
     error: Option<String>,
+}
+
+/// The first data rows' time cells as mapping `m` reads them (a time column's after a space).
+fn time_cells(sniffed: Option<&crate::ingest::Sniffed>, m: &Mapping) -> Vec<String> {
+    let Some(sn) = sniffed else { return vec![] };
+    let col = |name: &str| sn.header.iter().position(|h| h == name);
+    let Some(c) = col(&m.timestamp.column) else { return vec![] };
+    let t = m.timestamp.time_column.as_deref().and_then(col);
+    sn.preview
+        .iter()
+        .filter_map(|r| {
+            let d = r.get(c)?.trim();
+            Some(match t {
+                Some(t) => format!("{d} {}", r.get(t).map_or("", |s| s.trim())),
+                None => d.to_string(),
+            })
+        })
+        .filter(|s| !s.trim().is_empty())
+        .collect()
 }
 
 fn quantity_label(q: LoggedQuantity) -> &'static str {
@@ -129,9 +155,24 @@ fn page(
     uid: i64,
     filename: String,
     m: &Mapping,
-    extra: Vec<ExtraColumn>,
+    sniffed: Option<&crate::ingest::Sniffed>,
     error: Option<String>,
 ) -> RemapPage {
+    let extra = extra_columns(sniffed, m);
+    let cells = time_cells(sniffed, m);
+    let readings = date_readings(
+        &cells,
+        (&m.timestamp.timezone, &b.audit.site.timezone),
+        Some(&m.timestamp.format),
+        m.timestamp.interval,
+    )
+    .unwrap_or_default();
+    let preview_rows = readings.first().map(|r| r.rows.clone()).unwrap_or_default();
+    let page_data = serde_json::json!({
+        "audit_id": b.audit.id,
+        "time_cells": cells,
+        "interval": m.timestamp.interval,
+    });
     let inp = Inputs::new(b.audit.site.display_units);
     let columns = m
         .columns
@@ -177,6 +218,9 @@ fn page(
             .map(|c| c.column.clone())
             .collect(),
         format: m.timestamp.format.clone(),
+        readings,
+        preview_rows,
+        page_data,
         error,
         audit: b.audit,
     }
@@ -185,8 +229,8 @@ fn page(
 pub async fn remap(State(st): State<AppState>, Path((id, uid)): Path<(i64, i64)>) -> PageResult {
     let b = st.app.bundle(id).await?;
     let (filename, m) = stored(&b, uid)?;
-    let extra = extra_columns(st.app.sniff_original(uid).await?.as_ref(), &m);
-    Ok(render(&page(b, uid, filename, &m, extra, None)))
+    let sniffed = st.app.sniff_original(uid).await?;
+    Ok(render(&page(b, uid, filename, &m, sniffed.as_ref(), None)))
 }
 
 /// The stored mapping with the form's changes: columns left out are dropped, the others take the
@@ -265,8 +309,13 @@ fn changed(mut m: Mapping, form: &HashMap<String, String>) -> Mapping {
     if let Some(tz) = form.get("timezone").map(|s| s.trim()).filter(|s| !s.is_empty()) {
         m.timestamp.timezone = tz.to_string();
     }
-    if let Some(f) = form.get("format").map(|s| s.trim()).filter(|s| !s.is_empty()) {
-        m.timestamp.format = f.to_string();
+    // The format: the advanced field when it was changed, else the reading chosen in words.
+    let typed = form.get("format").map(|s| s.trim()).filter(|s| !s.is_empty());
+    let reading = form.get("date_reading").map(|s| s.trim()).filter(|s| !s.is_empty());
+    match (typed, reading) {
+        (Some(f), _) if f != m.timestamp.format => m.timestamp.format = f.to_string(),
+        (_, Some(r)) => m.timestamp.format = r.to_string(),
+        _ => {}
     }
     m
 }
@@ -279,6 +328,11 @@ pub async fn save_remap(
     let b = st.app.bundle(id).await?;
     let (filename, m) = stored(&b, uid)?;
     let m = changed(m, &form);
+    // "Show how the times read": the page again with the choices made, nothing imported.
+    if form.contains_key("preview") {
+        let sniffed = st.app.sniff_original(uid).await?;
+        return Ok(render(&page(b, uid, filename, &m, sniffed.as_ref(), None)));
+    }
     let error = if m.columns.is_empty() {
         AppError::field("columns", "leave at least one column in: a file of no columns holds no readings")
     } else {
@@ -305,9 +359,9 @@ pub async fn save_remap(
         AppError::Conflict(message) => message.clone(),
         _ => return Err(error.into()),
     };
-    let extra = extra_columns(st.app.sniff_original(uid).await?.as_ref(), &m);
+    let sniffed = st.app.sniff_original(uid).await?;
     let shown = Some(format!("The file was not read again: {message}"));
-    let mut res = render(&page(b, uid, filename, &m, extra, shown));
+    let mut res = render(&page(b, uid, filename, &m, sniffed.as_ref(), shown));
     *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
     Ok(res)
 }

@@ -42,7 +42,7 @@ pub async fn upload(State(st): State<AppState>, Path(id): Path<i64>) -> PageResu
     Ok(render(&UploadPage {
         max_upload_mb: st.config.max_upload_bytes / (1024 * 1024),
         audit: b.audit,
-        uploads: b.uploads,
+        uploads: super::words::uploads_in_local_time(b.uploads, &tz),
         page_data,
         zones: super::zone_names(),
         spans,

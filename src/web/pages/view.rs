@@ -7,6 +7,7 @@ not have (`None`) shows as not available, as a NaN does.
 
 use serde_json::Value;
 
+use super::words::Formula;
 use crate::app::AuditBundle;
 use crate::core::analysis::{Summary, Verdict};
 use crate::core::display::{num, render_parts, Fmt};
@@ -43,7 +44,7 @@ pub struct RecView {
     pub payback: String,
     pub co2: String,
     pub basis: Vec<String>,
-    pub formula: String,
+    pub formula: Formula,
     pub source: String,
     pub caution: String,
     /// The saving of the measure alone (money and energy).
@@ -119,7 +120,7 @@ pub struct ReportView {
     /// End uses and the demand split (`summary.transmission.end_uses`, `demand_split`): the demand
     /// section; empty without such records.
     pub end_uses: Vec<(String, String)>,
-    pub methods: Vec<(String, String, String)>,
+    pub methods: Vec<(String, Formula, String)>,
     pub assumptions: Vec<String>,
     /// Sources of error the summary warns of (`Summary::warnings`).
     pub warnings: Vec<String>,
@@ -142,6 +143,10 @@ fn figure_label(code: &str) -> String {
         "loaded_fraction" => "Loaded fraction",
         "heat_rejected_kwh" => "Heat rejected",
         "recoverable_kwh" => "Recoverable heat",
+        "part_load_penalty_percent" => "Part-load penalty",
+        "demand_split" => "Where the air goes",
+        "measures_total" => "The measures together",
+        "non_production_leak_flow_m3_min" => "Leak flow out of production",
         other => return human_label(other.trim_end_matches("_kwh").trim_end_matches("_m3_min")),
     };
     words.to_string()
@@ -298,7 +303,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
         methods: sm
             .methods
             .iter()
-            .map(|m| (figure_label(&m.figure), m.formula.clone(), m.source.clone()))
+            .map(|m| (figure_label(&m.figure), Formula(m.formula.clone()), m.source.clone()))
             .collect(),
         assumptions: sm.assumptions.clone(),
         warnings: sm.warnings.clone(),
@@ -519,7 +524,7 @@ fn measures(sm: &Summary, fmt: &Fmt, cur: &str) -> (Vec<RecView>, f64, f64) {
                 payback: fmt.years(nan(r.simple_payback_years)),
                 co2: fmt.co2_t(r.annual_co2_saving_t),
                 basis: t.basis.iter().map(|b| render_parts(b, fmt)).collect(),
-                formula: r.formula.clone(),
+                formula: Formula(r.formula.clone()),
                 source: r.source.clone(),
                 caution: r.caution.clone().unwrap_or_default(),
             }

@@ -3,28 +3,66 @@
 //! prints a field code or JSON.
 
 use crate::app::fieldtests::result_of;
+pub use crate::core::display::{local_ms, local_time};
 use crate::core::display::{num, Fmt};
 use crate::core::fieldtest::{FieldTestInput, FieldTestResult, VolumeSource};
 use crate::core::series::PressurePoint;
 use crate::store::audits::FieldTestRecord;
 use crate::store::read::ChannelInfo;
 
-/// A time as the site's clocks show it, with the zone's abbreviation: "Sat 16 Dec 2006 17:24 CST".
-/// Accepts RFC 3339 text; a text that is not one is given back as it is.
-pub fn local_time(rfc3339: &str, tz: &str) -> String {
-    let Ok(ts) = rfc3339.trim().parse::<jiff::Timestamp>() else {
-        return rfc3339.to_string();
-    };
-    local_ms(ts.as_millisecond(), tz)
+/// A stored text with its UTC times (RFC 3339, `2006-12-16T23:24:00Z`, as files imported before
+/// the warnings spoke local time hold them) in the site's local time, through [`local_time`].
+pub fn local_times_in(text: &str, tz: &str) -> String {
+    let b = text.as_bytes();
+    let digits = |r: std::ops::Range<usize>| r.clone().all(|i| b.get(i).is_some_and(u8::is_ascii_digit));
+    let mut out = String::with_capacity(text.len());
+    let (mut i, mut copied) = (0, 0);
+    while i + 20 <= b.len() {
+        let stamp = digits(i..i + 4)
+            && b[i + 4] == b'-'
+            && digits(i + 5..i + 7)
+            && b[i + 7] == b'-'
+            && digits(i + 8..i + 10)
+            && b[i + 10] == b'T'
+            && digits(i + 11..i + 13)
+            && b[i + 13] == b':'
+            && digits(i + 14..i + 16)
+            && b[i + 16] == b':'
+            && digits(i + 17..i + 19);
+        if stamp {
+            let mut end = i + 19;
+            if b.get(end) == Some(&b'.') {
+                end += 1;
+                while b.get(end).is_some_and(u8::is_ascii_digit) {
+                    end += 1;
+                }
+            }
+            if b.get(end) == Some(&b'Z') {
+                out.push_str(&text[copied..i]);
+                out.push_str(&local_time(&text[i..=end], tz));
+                i = end + 1;
+                copied = i;
+                continue;
+            }
+        }
+        i += 1;
+    }
+    out.push_str(&text[copied..]);
+    out
 }
 
-/// A time in ms since 1970 UTC as the site's clocks show it, with the zone's abbreviation.
-pub fn local_ms(ms: i64, tz: &str) -> String {
-    let Ok(ts) = jiff::Timestamp::from_millisecond(ms) else {
-        return String::new();
-    };
-    let zone = jiff::tz::TimeZone::get(tz).unwrap_or(jiff::tz::TimeZone::UTC);
-    ts.to_zoned(zone).strftime("%a %-d %b %Y %H:%M %Z").to_string()
+/// The uploads with the UTC times of their stored warnings in the site's local time
+/// ([`local_times_in`]).
+pub fn uploads_in_local_time(
+    mut uploads: Vec<crate::store::audits::UploadRecord>,
+    tz: &str,
+) -> Vec<crate::store::audits::UploadRecord> {
+    for u in &mut uploads {
+        for w in &mut u.warnings {
+            *w = local_times_in(w, tz);
+        }
+    }
+    uploads
 }
 
 /// The site's local days that the logged spans `(first_ms, last_ms)` touch, in order, at most `cap`
@@ -49,6 +87,56 @@ pub fn local_days(spans: &[(i64, i64)], tz: &str, cap: usize) -> Vec<(i64, i64, 
     }
     days.into_iter().take(cap).map(|(a, (b, label))| (a, b, label)).collect()
 }
+
+/// A formula as people write it: a name's subscript (`p_atm`, `p_production,abs`, `Q_rated,i`)
+/// set below the line (`<sub>`), never shown as an underscore; everything else escaped. It writes
+/// itself as HTML (askama's `HtmlSafe`), so a template prints it as it prints text.
+#[derive(Debug, Clone, Default)]
+pub struct Formula(pub String);
+
+impl std::fmt::Display for Formula {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let escape = |c: char, out: &mut String| match c {
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '&' => out.push_str("&amp;"),
+            '"' => out.push_str("&#34;"),
+            '\'' => out.push_str("&#39;"),
+            c => out.push(c),
+        };
+        let chars: Vec<char> = self.0.chars().collect();
+        let mut out = String::with_capacity(self.0.len() + 16);
+        let mut i = 0;
+        while i < chars.len() {
+            let c = chars[i];
+            let after_name = i > 0 && chars[i - 1].is_alphanumeric();
+            let before_sub = chars.get(i + 1).is_some_and(|n| n.is_alphanumeric());
+            if c == '_' && after_name && before_sub {
+                // The subscript: letters and digits, joined by a comma or hyphen between them.
+                let mut j = i + 1;
+                while j < chars.len()
+                    && (chars[j].is_alphanumeric()
+                        || (matches!(chars[j], ',' | '-')
+                            && chars.get(j + 1).is_some_and(|n| n.is_alphanumeric())))
+                {
+                    j += 1;
+                }
+                out.push_str("<sub>");
+                for &s in &chars[i + 1..j] {
+                    escape(s, &mut out);
+                }
+                out.push_str("</sub>");
+                i = j;
+            } else {
+                escape(c, &mut out);
+                i += 1;
+            }
+        }
+        f.write_str(&out)
+    }
+}
+
+impl askama::filters::HtmlSafe for Formula {}
 
 /// A recorded field test as the tests page and the findings show it.
 pub struct TestRow {
@@ -248,6 +336,18 @@ mod tests {
     }
 
     #[test]
+    fn utc_times_in_a_stored_warning_read_in_the_sites_time() {
+        // 23:24Z is 17:24 CST in Chicago in December (UTC-6, IANA tz database).
+        let w = "3 gaps; the first starts 2006-12-16T23:24:00Z, the next 2006-12-16T23:30:00.500Z.";
+        assert_eq!(
+            local_times_in(w, "America/Chicago"),
+            "3 gaps; the first starts Sat 16 Dec 2006 17:24 CST, the next Sat 16 Dec 2006 17:30 CST."
+        );
+        assert_eq!(local_times_in("no time here: 2006-12-16", "UTC"), "no time here: 2006-12-16");
+        assert_eq!(local_times_in("Zürich 2006-12-16T23:24:00", "UTC"), "Zürich 2006-12-16T23:24:00");
+    }
+
+    #[test]
     fn days_are_cut_at_the_sites_midnight_and_daylight_saving_days_are_23_hours() {
         // US daylight saving began on Sun 8 Mar 2026 at 02:00 local (second Sunday of March,
         // Energy Policy Act of 2005): Chicago's midnight is 06:00 UTC that day (CST, UTC-6) and
@@ -266,6 +366,25 @@ mod tests {
         );
         assert_eq!(apart.len(), 2);
         assert_eq!(local_days(&[(0, 400 * 86_400_000)], "UTC", 10).len(), 10);
+    }
+
+    #[test]
+    fn a_formula_sets_subscripts_below_the_line_and_escapes_the_rest() {
+        let f = Formula(
+            "Σ p_atm Q ln(p_header / p_atm) × p_production,abs / p_non-production,abs; a<b & Q_rated,i"
+                .into(),
+        );
+        assert_eq!(
+            f.to_string(),
+            "Σ p<sub>atm</sub> Q ln(p<sub>header</sub> / p<sub>atm</sub>) × p<sub>production,abs</sub> / \
+             p<sub>non-production,abs</sub>; a&lt;b &amp; Q<sub>rated,i</sub>"
+        );
+        // A subscript ends at a space or bracket, a minus between spaces stays a minus.
+        assert_eq!(
+            Formula("p5 - (p_critical + u_p)".into()).to_string(),
+            "p5 - (p<sub>critical</sub> + u<sub>p</sub>)"
+        );
+        assert_eq!(Formula("<script>_x".into()).to_string(), "&lt;script&gt;_x");
     }
 
     #[test]
