@@ -183,7 +183,7 @@ async fn connect(path: &Path, create: bool) -> Result<SqlitePool, StoreError> {
         .foreign_keys(true)
         .busy_timeout(Duration::from_secs(30))
         // Memory and disk set deliberately, not left to the build's defaults (DEVELOPERS.md,
-        // "Storage design and why"): 2 MB of page cache per connection, no memory map (its pages
+        // "Storage design and why"): four connections of 2 MB of page cache each, no memory map (its pages
         // count in the server's RSS as the file grows), a checkpoint every 1000 pages of WAL, and
         // the WAL cut back to 16 MB after each, so a year's import does not leave a WAL its size.
         .pragma("cache_size", "-2000")
@@ -191,7 +191,7 @@ async fn connect(path: &Path, create: bool) -> Result<SqlitePool, StoreError> {
         .pragma("wal_autocheckpoint", "1000")
         .pragma("journal_size_limit", "16777216")
         .pragma("temp_store", "memory");
-    let pool = SqlitePoolOptions::new().max_connections(6).connect_with(opts).await?;
+    let pool = SqlitePoolOptions::new().max_connections(4).connect_with(opts).await?;
     let check: String = sqlx::query_scalar("PRAGMA quick_check").fetch_one(&pool).await?;
     if check != "ok" {
         return Err(StoreError::Damaged { path: path.display().to_string(), detail: check });

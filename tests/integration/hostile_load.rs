@@ -13,8 +13,12 @@ use std::time::{Duration, Instant};
 use crate::ingest::on_db;
 use crate::support::*;
 
-/// The bound on the server's peak resident memory for any file.
+/// The bound on the server's peak resident memory for any file, for the release build.
 const RSS_LIMIT_MIB: f64 = 64.0;
+/// Of it, what the server may hold for data: 64 MiB less the release build's code and libraries
+/// resident (about 12 MiB under load, `RssFile` of `target/release/airledger`), as the debug build
+/// under test carries some 8 MiB more code than that (see `support::peak_data_mib`).
+const DATA_LIMIT_MIB: f64 = 52.0;
 /// How long the clients keep sending (each also stops after `MAX_PER_CLIENT` requests).
 const RUN_FOR: Duration = Duration::from_secs(25);
 const MAX_PER_CLIENT: usize = 200;
@@ -291,6 +295,7 @@ fn probe_mix_of_hostile_uploads_leaves_normal_uploads_served() {
     });
     let ran = start.elapsed();
     let peak = peak_rss_mb(&s);
+    let data = peak_data_mib(s.child.id());
     let outcomes = outcomes.into_inner().unwrap();
 
     // The figures, by class.
@@ -359,5 +364,9 @@ fn probe_mix_of_hostile_uploads_leaves_normal_uploads_served() {
     );
     assert_eq!(stored, want, "the database holds exactly the uploads answered 201");
     // Last, so that a failure here still shows the checks of the database above.
-    assert!(peak <= RSS_LIMIT_MIB, "peak RSS {peak:.1} MiB over {RSS_LIMIT_MIB} MiB");
+    eprintln!("  server peak less its code (VmHWM - RssFile): {data:.1} MiB");
+    assert!(
+        data <= DATA_LIMIT_MIB,
+        "peak data {data:.1} MiB over {DATA_LIMIT_MIB} MiB (peak RSS {peak:.1} MiB of {RSS_LIMIT_MIB} with the debug build's code)"
+    );
 }

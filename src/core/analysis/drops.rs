@@ -46,6 +46,10 @@ pub struct DropStats {
 pub fn drops(frame: &Frame, flow: Option<&[f32]>, atm: PressureAbs) -> Vec<DropStats> {
     let points = frame.pressure_points();
     let Some(reference) = points.first().copied() else { return Vec::new() };
+    // Nothing downstream of the reference: no drop, and no copy of the flow to sort.
+    if !points.iter().any(|c| c.point > reference.point) {
+        return Vec::new();
+    }
     let bar_g = |pa: f64| PressureAbs(pa).bar_g(atm);
     // Peak-flow bins: at or above the 95th percentile of the logged flow.
     let peak_q = flow.and_then(|q| {
