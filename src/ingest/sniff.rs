@@ -126,6 +126,28 @@ pub struct Sniffed {
     pub missing_markers: Vec<String>,
 }
 
+impl Sniffed {
+    /// The preview rows' cells of timestamp column `column` (with `time_column`'s cell after a
+    /// space when the time is apart), trimmed, blank ones left out; none when `column` is not in
+    /// the header.
+    pub fn time_cells(&self, column: &str, time_column: Option<&str>) -> Vec<String> {
+        let col = |name: &str| self.header.iter().position(|h| h == name);
+        let Some(c) = col(column) else { return vec![] };
+        let t = time_column.and_then(col);
+        self.preview
+            .iter()
+            .filter_map(|r| {
+                let d = r.get(c)?.trim();
+                Some(match t {
+                    Some(t) => format!("{d} {}", r.get(t).map_or("", |s| s.trim())),
+                    None => d.to_string(),
+                })
+            })
+            .filter(|s| !s.trim().is_empty())
+            .collect()
+    }
+}
+
 /// One record of the head as the sniffer looks at it.
 pub struct HeadRecord {
     /// The 1-based physical line where it starts (as the parser counts).

@@ -306,20 +306,7 @@ pub async fn import_progress(
 /// found no timestamp or the zone is not one).
 pub fn sniffed_readings(sniffed: &ingest::Sniffed, tz: &str) -> Vec<ingest::sniff::time::DateReading> {
     let Some(ts) = &sniffed.timestamp else { return vec![] };
-    let col = |name: &str| sniffed.header.iter().position(|h| h == name);
-    let Some(c) = col(&ts.column) else { return vec![] };
-    let t = ts.time_column.as_deref().and_then(col);
-    let cells: Vec<String> = sniffed
-        .preview
-        .iter()
-        .filter_map(|r| {
-            let d = r.get(c)?.trim();
-            Some(match t {
-                Some(t) => format!("{d} {}", r.get(t).map_or("", |s| s.trim())),
-                None => d.to_string(),
-            })
-        })
-        .collect();
+    let cells = sniffed.time_cells(&ts.column, ts.time_column.as_deref());
     ingest::sniff::time::date_readings(&cells, (tz, tz), Some(&ts.format), ts.interval).unwrap_or_default()
 }
 

@@ -223,6 +223,22 @@ fn the_treatment_page_takes_records_in_the_readers_units() {
     assert!((u["flow_m3_min"].as_f64().unwrap() - 10.0 * 0.028_316_846_592).abs() < 1e-9, "{u}");
     assert!((u["pressure_bar_g"].as_f64().unwrap() - 90.0 * 0.068_947_572_93).abs() < 1e-6, "{u}");
     assert_eq!(u["duty"], 0.5);
+    // A refusal quotes the value in the units it was typed in: a nozzle of -0.125 in, not the
+    // -3.175 mm it is checked as.
+    let r = s.post_form(
+        &format!("/audits/{id}/treatment/end-uses"),
+        &[
+            ("entry_units", "us"),
+            ("name", "nozzle"),
+            ("kind", "open_blowing"),
+            ("count", "1"),
+            ("orifice_mm", "-0.125"),
+            ("pressure_bar_g", "90"),
+        ],
+    );
+    assert_eq!(r.status, 422, "{}", r.text);
+    let text = r.text.replace('\u{a0}', " ");
+    assert!(text.contains("got -0.125 in") && !text.contains("3.175"), "US refusal");
     // A bad record re-shows the page with the reason and a 422.
     let r = s.post_form(
         &format!("/audits/{id}/treatment/dryers"),

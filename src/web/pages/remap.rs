@@ -77,20 +77,7 @@ struct RemapPage {
 /// The first data rows' time cells as mapping `m` reads them (a time column's after a space).
 fn time_cells(sniffed: Option<&crate::ingest::Sniffed>, m: &Mapping) -> Vec<String> {
     let Some(sn) = sniffed else { return vec![] };
-    let col = |name: &str| sn.header.iter().position(|h| h == name);
-    let Some(c) = col(&m.timestamp.column) else { return vec![] };
-    let t = m.timestamp.time_column.as_deref().and_then(col);
-    sn.preview
-        .iter()
-        .filter_map(|r| {
-            let d = r.get(c)?.trim();
-            Some(match t {
-                Some(t) => format!("{d} {}", r.get(t).map_or("", |s| s.trim())),
-                None => d.to_string(),
-            })
-        })
-        .filter(|s| !s.trim().is_empty())
-        .collect()
+    sn.time_cells(&m.timestamp.column, m.timestamp.time_column.as_deref())
 }
 
 fn quantity_label(q: LoggedQuantity) -> &'static str {

@@ -361,11 +361,39 @@ fn field_words(field: &str) -> String {
     }
 }
 
-async fn refused(st: &AppState, id: i64, e: AppError) -> PageResult {
+/// The unit a record's field is typed in on the page (`None`: a plain number or a word).
+fn field_entry(field: &str) -> Option<Entry> {
+    match field {
+        "rated_flow_m3_min" | "flow_m3_min" => Some(Entry::FreeAirFlow),
+        "clean_drop_bar" | "measured_drop_bar" => Some(Entry::PressureDrop),
+        "orifice_mm" => Some(Entry::Diameter),
+        "pressure_bar_g" => Some(Entry::GaugePressure),
+        _ => None,
+    }
+}
+
+/// A record's refusal (`core::treatment` speaks SI) in the reader's units: the value it quotes
+/// (`got 3.175`) and a limit in bar (`at most 10 bar`) in the units the form was typed in.
+fn in_reader_units(message: &str, field: &str, units: UnitSystem) -> String {
+    let Some(e) = field_entry(field) else { return message.to_string() };
+    let mut out = message.to_string();
+    if let Some((head, got)) = out.rsplit_once("got ") {
+        if let Ok(v) = got.trim().parse::<f64>() {
+            out = format!("{head}got {}", e.said(units, v));
+        }
+    }
+    if e == Entry::PressureDrop {
+        let max = crate::core::treatment::MAX_FILTER_DROP_BAR;
+        out = out.replace(&format!("at most {max} bar"), &format!("at most {}", e.limit(units, max)));
+    }
+    out
+}
+
+async fn refused(st: &AppState, id: i64, e: AppError, units: UnitSystem) -> PageResult {
     match e {
         AppError::Unprocessable { message, field, .. } => {
             let message = match field {
-                Some(f) => format!("{}: {message}", field_words(&f)),
+                Some(f) => format!("{}: {}", field_words(&f), in_reader_units(&message, &f, units)),
                 None => message,
             };
             let mut res = render(&page(st, id, Some(message)).await?);
@@ -391,7 +419,7 @@ pub async fn add(
     .await;
     match result {
         Ok(_) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
-        Err(e) => refused(&st, id, e).await,
+        Err(e) => refused(&st, id, e, Inputs::of_form(&form).units).await,
     }
 }
 
@@ -405,7 +433,7 @@ pub async fn remove(
     };
     if !form.contains_key("confirm") {
         let e = AppError::from(crate::app::Error::field("confirm", "tick the box beside remove to confirm"));
-        return refused(&st, id, e).await;
+        return refused(&st, id, e, Inputs::of_form(&form).units).await;
     }
     if !st.app.delete_treatment_item(id, kind, iid).await? {
         return Err(PageError::from(AppError::NotFound(format!("audit {id} has no such record {iid}"))));
@@ -435,6 +463,6 @@ pub async fn update(
     .await;
     match result {
         Ok(_) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
-        Err(e) => refused(&st, id, e).await,
+        Err(e) => refused(&st, id, e, Inputs::of_form(&form).units).await,
     }
 }
