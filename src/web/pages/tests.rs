@@ -79,7 +79,7 @@ pub async fn tests(
 }
 
 #[cfg(test)]
-mod tests {
+mod example_tests {
     use super::example_time;
 
     #[test]
