@@ -10,7 +10,7 @@ it, bin by bin where both are logged:
 - each point's 5th-percentile pressure, bar(g), for the pressure measure's critical point of use.
 
 What a drop costs is priced with the pressure measure's own rule
-(`recommend::pressure_drop_kwh`): the compressors make the drop's worth of extra discharge
+(`recommend::DischargeBasis::drop_kwh`, as the filters' excess): the compressors make the drop's worth of extra discharge
 pressure on all their loaded energy.
 */
 

@@ -507,18 +507,22 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         .filter(|x| x.to_point == PressurePoint::PointOfUse && credible_mean_pressure.is_some())
         .map(|x| (x.to.clone(), x.to_p5_bar_g))
         .collect();
+    // The extra discharge pressure's price: the pressure measure's rule on the loaded energy (the
+    // filters' excess is priced the same way, `analysis::transmission`).
+    let discharge = recommend::DischargeBasis {
+        machines: cs.iter().zip(&machines).map(|(c, m)| (c.stages, m.annual_delivering_kwh)).collect(),
+        rule: input.costs.options.pressure_rule,
+        air: site.air,
+    };
     let pressure_drops: Vec<PressureDropFigure> = d
         .drops
         .iter()
         .map(|x| {
-            let kwh = recommend::pressure_drop_kwh(
-                &site.air,
-                cs,
-                &machines,
-                input.costs.options.pressure_rule,
-                x.from_mean_bar_g,
-                x.mean_bar,
-            );
+            let kwh = if x.mean_bar > 0.0 {
+                discharge.drop_kwh(x.from_mean_bar_g - x.mean_bar, x.mean_bar).0
+            } else {
+                0.0
+            };
             PressureDropFigure {
                 from: x.from.clone(),
                 to: x.to.clone(),
@@ -661,11 +665,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         measures_total,
         transmission: crate::core::treatment::Transmission { pressure_drops, ..Default::default() },
         demand_split: None,
-        discharge: Some(recommend::DischargeBasis {
-            machines: cs.iter().zip(&machines).map(|(c, m)| (c.stages, m.annual_delivering_kwh)).collect(),
-            rule: input.costs.options.pressure_rule,
-            air: site.air,
-        }),
+        discharge: Some(discharge),
         sufficiency,
         methods,
         assumptions,

@@ -4,14 +4,14 @@ plant left by the measures stacked before it (`stack`). Each returns its draft a
 leaves behind; `finish` costs a draft and gives its payback.
 */
 
-use crate::core::model::{CompressorSpec, Control};
+use crate::core::model::Control;
 use crate::core::safety;
 use crate::core::thermo;
 use crate::core::units::{PressureAbs, SiteAir};
 
 use super::text::{bar_g, flow, pressure_drop, specific, Part};
 use super::{
-    CostContext, MachineUse, MeasureKind, PressureRule, RecommendInput, BAR_PER_2_PSI, PART_LOAD_SLOPE_REL,
+    CostContext, MeasureKind, PressureRule, RecommendInput, BAR_PER_2_PSI, PART_LOAD_SLOPE_REL,
     REPLACE_ABOVE_DATASHEET,
 };
 
@@ -249,35 +249,6 @@ pub fn pressure_cut_fractions(air: &SiteAir, stages: u32, p_now: f64, p_target: 
     let (w_now, w_t) = (w(p_now), w(p_target));
     let isen = if w_now > 0.0 { 1.0 - w_t / w_now } else { 0.0 };
     (doe.clamp(0.0, 1.0), isen.clamp(0.0, 1.0))
-}
-
-/// What a pressure drop costs a year, kWh: the compressors make `drop_bar` more discharge pressure
-/// than the point downstream of them holds, on all their loaded (delivering) energy, priced by the
-/// pressure measure's own rule (1 % of input per 2 psi, US DOE sourcebook, or the ratio of
-/// isentropic work) from `p_from_bar_g` down by the drop.
-pub fn pressure_drop_kwh(
-    air: &SiteAir,
-    compressors: &[CompressorSpec],
-    machines: &[MachineUse],
-    rule: PressureRule,
-    p_from_bar_g: f64,
-    drop_bar: f64,
-) -> f64 {
-    if drop_bar.is_nan() || drop_bar <= 0.0 {
-        return 0.0;
-    }
-    compressors
-        .iter()
-        .zip(machines)
-        .map(|(c, m)| {
-            let (doe, isen) = pressure_cut_fractions(air, c.stages, p_from_bar_g, p_from_bar_g - drop_bar);
-            m.annual_delivering_kwh
-                * match rule {
-                    PressureRule::OnePercentPerTwoPsi => doe,
-                    PressureRule::IsentropicWork => isen,
-                }
-        })
-        .sum()
 }
 
 /// [`pressure_cut_fractions`] at the audit's site.

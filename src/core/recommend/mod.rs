@@ -93,7 +93,7 @@ mod stack;
 #[cfg(test)]
 pub(crate) mod tests;
 
-pub use measures::{pressure_cut_fractions, pressure_drop_kwh, Words};
+pub use measures::{pressure_cut_fractions, Words};
 pub use stack::{recommend, stack_total};
 pub use text::{bar_g, flow, pressure_drop, specific, Part, Quantity, Text};
 
