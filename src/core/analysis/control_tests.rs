@@ -2,7 +2,7 @@
 //! one part-load model): the trim's air is read from its logged power through its load/unload curve
 //! on the storage on record, and the variable-speed trim is priced at that air.
 
-use super::tests::{col, MONDAY_MS};
+use super::tests::{col, cycle_energy, MONDAY_MS};
 use super::*;
 use crate::core::model::Control;
 use crate::core::recommend::tests::site;
@@ -50,17 +50,7 @@ fn the_control_measure_reads_the_trims_air_through_its_curve_on_the_storage_on_r
 
     // The log: one day at 1 s, each bin the exact mean of the cycle's power over it.
     let period = t_l + t_u;
-    let energy = |t: f64| {
-        let (k, ph) = ((t / period).floor(), t % period);
-        let one = |ph: f64| {
-            if ph <= t_l {
-                ph
-            } else {
-                t_l + u * (ph - t_l) + (b - u) * tau * (1.0 - (-(ph - t_l) / tau).exp())
-            }
-        };
-        k * one(period) + one(ph)
-    };
+    let energy = |t: f64| cycle_energy(t, t_l, period, u, b, tau);
     assert!((want - 53_266.1).abs() < 1.0 && (want_ideal - 16_392.8).abs() < 1.0, "{want} {want_ideal}");
 
     // The summary of one day of that cycle logged at `step_s`, each bin the exact mean of the cycle's

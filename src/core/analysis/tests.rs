@@ -47,6 +47,21 @@ pub(super) fn col(signal: Signal, compressor: Option<usize>, values: Vec<f32>) -
     }
 }
 
+/// Energy, as a share of full power × s, of a load/unload cycle from its start (loaded first for
+/// `t_l` s of each `period`) to `t`: full power loaded, then the sump blow-down from `b` to the
+/// unloaded share `u` with time constant `tau` (the exact integral of `u + (b - u) e^(-t/tau)`).
+pub(super) fn cycle_energy(t: f64, t_l: f64, period: f64, u: f64, b: f64, tau: f64) -> f64 {
+    let (k, ph) = ((t / period).floor(), t % period);
+    let one = |ph: f64| {
+        if ph <= t_l {
+            ph
+        } else {
+            t_l + u * (ph - t_l) + (b - u) * tau * (1.0 - (-(ph - t_l) / tau).exp())
+        }
+    };
+    k * one(period) + one(ph)
+}
+
 pub(super) fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame, leaks: Vec<LeakEstimate>) -> Summary {
     let costs = CostOverrides::default();
     let acc = Accuracy::default();
@@ -632,17 +647,7 @@ fn leaks_are_priced_on_the_trims_curve_at_its_storage_as_a_time_domain_cycle_giv
     let (t_l, period) = (2.0 * t0, 4.0 * t0);
     let (u, b, tau) = (0.25, 0.65, 20.0);
     // Energy share × s from the start of a cycle (loaded first) to t.
-    let energy = |t: f64| {
-        let (k, ph) = ((t / period).floor(), t % period);
-        let one = |ph: f64| {
-            if ph <= t_l {
-                ph
-            } else {
-                t_l + u * (ph - t_l) + (b - u) * tau * (1.0 - (-(ph - t_l) / tau).exp())
-            }
-        };
-        k * one(period) + one(ph)
-    };
+    let energy = |t: f64| cycle_energy(t, t_l, period, u, b, tau);
     let n = 10_800;
     let trim: Vec<f32> =
         (0..n).map(|i| ((energy(i as f64 + 1.0) - energy(i as f64)) * 37_000.0) as f32).collect();
