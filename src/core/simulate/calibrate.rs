@@ -1,10 +1,12 @@
 //! The replay's machines calibrated from the log (the module doc's "Calibration"): a load/unload
-//! machine's unloaded power is read where its log shows it settled, after the blow-down.
+//! machine's unloaded power is read where its log shows it settled, after the blow-down, and its
+//! blow-down is the one the part-load model fitted from the same log (`partload::fit`), where the log
+//! is fine enough to show it.
 
 use super::SimInput;
 use crate::core::levels;
 use crate::core::model::{CompressorSpec, Control};
-use crate::core::partload::BLOWDOWN_TAU_S;
+use crate::core::partload::{fit, BlowDown, BLOWDOWN_TAU_S};
 use crate::core::states::State;
 
 /// Bins after an unloading that still hold blow-down: three time constants (5 % of the decay left).
@@ -17,11 +19,14 @@ pub(super) const MIN_SETTLED_BINS: usize = 30;
 /// Each compressor as the replay runs it: a load/unload machine whose log shows at least
 /// [`MIN_SETTLED_BINS`] unloaded bins more than three blow-down time constants after its last loaded
 /// bin, before its next and within 1 % of rated power of both neighbours (flat), takes their median power as its unloaded power (`unloaded_power_fraction` = that / rated power);
-/// the others keep their data sheet. Returns the specs and one line per calibrated machine.
-pub(super) fn calibrated(input: &SimInput) -> (Vec<CompressorSpec>, Vec<String>) {
+/// the others keep their data sheet. Returns the specs, one line per calibrated machine, and the
+/// blow-down of each load/unload machine whose log showed one (by tag; the others replay the
+/// default, `partload::BlowDown::default`).
+pub(super) fn calibrated(input: &SimInput) -> (Vec<CompressorSpec>, Vec<String>, Vec<(String, BlowDown)>) {
     let step_s = input.frame.grid.step_s();
     let settle_bins = (SETTLED_AFTER_TAUS * BLOWDOWN_TAU_S / step_s).ceil() as usize;
     let mut notes = Vec::new();
+    let mut blowdowns = Vec::new();
     let specs = input
         .compressors
         .iter()
@@ -32,7 +37,19 @@ pub(super) fn calibrated(input: &SimInput) -> (Vec<CompressorSpec>, Vec<String>)
             if c.control != Control::LoadUnload || c.rated_power_kw <= 0.0 {
                 return c;
             }
-            let states = levels::classify(&c, &col.values);
+            let found = levels::find(&c, &col.values);
+            let states = crate::core::states::classify_with(&found.thresholds, &col.values);
+            // The blow-down the part-load model reads from this log (not on a log too coarse).
+            let fitted = fit::calibrate(&col.values, &states, found.levels.loaded * 1000.0, None, step_s);
+            if let Some(f) = fitted.blowdown {
+                notes.push(format!(
+                    "{}: blow-down from its log, from {:.0} % of loaded power with τ = {:.1} s",
+                    c.tag,
+                    f.blowdown.start_fraction * 100.0,
+                    f.blowdown.tau_s
+                ));
+                blowdowns.push((c.tag.clone(), f.blowdown));
+            }
             let mut settled: Vec<f64> = Vec::new();
             let mut since_loaded = None::<usize>;
             for (k, (s, &p)) in states.iter().zip(&col.values).enumerate() {
@@ -71,5 +88,5 @@ pub(super) fn calibrated(input: &SimInput) -> (Vec<CompressorSpec>, Vec<String>)
             c
         })
         .collect();
-    (specs, notes)
+    (specs, notes, blowdowns)
 }

@@ -18,6 +18,9 @@ pub(super) struct Machine {
     pub(super) rated_q: f64,
     pub(super) rated_bar_g: f64,
     pub(super) unl_frac: f64,
+    /// The sump blow-down after unloading: fitted from the log where it shows one, else the
+    /// part-load model's default.
+    pub(super) blowdown: partload::BlowDown,
     pub(super) load_bar_g: f64,
     pub(super) unload_bar_g: f64,
     /// Variable speed: (m³/s, kW).
@@ -165,7 +168,7 @@ impl MState {
             }
             Mode::Unloaded => {
                 // The part-load model's blow-down, integrated exactly from s to s + dt.
-                let e = partload::unloaded_energy(m.unl_frac, self.timer, dt);
+                let e = partload::unloaded_energy_with(m.unl_frac, self.timer, dt, m.blowdown);
                 self.timer += dt;
                 st.unloaded_s += dt;
                 m.rated_kw * e

@@ -67,7 +67,9 @@ A load/unload machine whose log shows it running unloaded more than three blow-d
 after its last loaded bin and before its next (at least 30 such bins) takes the median power of those
 bins as its unloaded
 power, in place of the data sheet's (a blank one is a default by kind); the bins nearer the unloading
-hold blow-down, which the replay adds itself. `calibration` lists each machine so calibrated.
+hold blow-down, which the replay adds itself: the blow-down `partload::fit` reads from the same log
+when it is fine enough to show one (interval ≤ τ/2, at least five unloadings), else the default.
+`calibration` lists each machine so calibrated.
 
 # Figures
 - `validation_error` = (baseline energy - logged energy) / logged energy, over the simulated bins in
@@ -206,7 +208,7 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
         }
     }
     scenario.check()?;
-    let (calibrated, calibration) = calibrate::calibrated(input);
+    let (calibrated, calibration, blowdowns) = calibrate::calibrated(input);
     let input = &SimInput { compressors: &calibrated, ..*input };
     let applied = apply(input, scenario)?;
     let demand = prepare_demand(input)?;
@@ -219,13 +221,15 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
             }
         };
 
-    let base_plant = build_plant(input.compressors, &default_order(input.compressors), 0.0, base_volume, 1.0);
+    let base_plant =
+        build_plant(input.compressors, &default_order(input.compressors), 0.0, base_volume, 1.0, &blowdowns);
     let base_threshold = if base_plant.machines.is_empty() { 0.0 } else { min_required(&base_plant) };
     let base = simulate(&base_plant, &demand, base_threshold, false);
 
     let mean_p = |o: &Outcome| if o.simulated_s > 0.0 { o.p_integral / o.simulated_s } else { f64::NAN };
-    let mk =
-        |shift: f64| build_plant(&applied.specs, &applied.order, shift, applied.volume_m3, applied.leak_keep);
+    let mk = |shift: f64| {
+        build_plant(&applied.specs, &applied.order, shift, applied.volume_m3, applied.leak_keep, &blowdowns)
+    };
     let mut plant = mk(0.0);
     let threshold_of = |pl: &Plant| if pl.machines.is_empty() { base_threshold } else { min_required(pl) };
     let mut out = simulate(&plant, &demand, threshold_of(&plant), true);

@@ -23,6 +23,7 @@ use super::{fail, ScenarioError, SimInput, BAND_BAR, MIN_REQUIRED_MARGIN_BAR, ST
 use super::{VSD_ABOVE_LOAD_BAR, VSD_RESTART_BELOW_SETPOINT_BAR, VSD_STOP_ABOVE_SETPOINT_BAR};
 use crate::core::entry::Entry;
 use crate::core::model::{CompressorSpec, Control};
+use crate::core::partload;
 use crate::core::states;
 use crate::core::units::UnitSystem;
 
@@ -168,6 +169,7 @@ pub(super) fn build_plant(
     shift_bar: f64,
     volume_m3: f64,
     keep: f64,
+    blowdowns: &[(String, partload::BlowDown)],
 ) -> Plant {
     let mut machines = Vec::with_capacity(order.len());
     let mut prev_unload: Option<f64> = None;
@@ -197,6 +199,7 @@ pub(super) fn build_plant(
             rated_q: s.rated_flow_m3_min / 60.0,
             rated_bar_g: s.rated_pressure_bar_g,
             unl_frac: s.unloaded_power_fraction.clamp(0.0, 1.0),
+            blowdown: blowdowns.iter().find(|(t, _)| *t == s.tag).map(|(_, b)| *b).unwrap_or_default(),
             load_bar_g: 0.0,
             unload_bar_g: 0.0,
             curve: vec![],
