@@ -239,6 +239,16 @@ pub fn local_ms(ms: i64, tz: &str) -> String {
     ts.to_zoned(zone).strftime("%a %-d %b %Y %H:%M %Z").to_string()
 }
 
+/// [`local_ms`] to the second: for reading a logger's time stamps back, where rows a second apart
+/// must not look the same.
+pub fn local_ms_seconds(ms: i64, tz: &str) -> String {
+    let Ok(ts) = jiff::Timestamp::from_millisecond(ms) else {
+        return String::new();
+    };
+    let zone = jiff::tz::TimeZone::get(tz).unwrap_or(jiff::tz::TimeZone::UTC);
+    ts.to_zoned(zone).strftime("%a %-d %b %Y %H:%M:%S %Z").to_string()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

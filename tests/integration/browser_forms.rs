@@ -106,7 +106,7 @@ fn the_mapping_forms_read_a_day_first_files_times_in_the_loggers_zone() {
     // 16 December 2006 was a Saturday (Python: datetime.date(2006, 12, 16).strftime("%a")), and
     // Chicago keeps CST, UTC-6, in December (IANA tz database; zoneinfo gives
     // datetime(2006,12,16,17,24,tzinfo=ZoneInfo("America/Chicago")).tzname() == "CST").
-    let chicago = "16/12/2006 17:24:00 \u{2192} Sat 16 Dec 2006 17:24 CST, America/Chicago";
+    let chicago = "16/12/2006 17:24:00 \u{2192} Sat 16 Dec 2006 17:24:00 CST, America/Chicago";
     let b = Browser::start();
 
     // The upload page: the logger's zone defaults to the audit's, the reading is offered in words.
@@ -134,7 +134,7 @@ fn the_mapping_forms_read_a_day_first_files_times_in_the_loggers_zone() {
         "const z = document.getElementById('m-ts-zone'); z.value = 'Europe/Berlin'; z.dispatchEvent(new Event('change'));",
         json!([]),
     );
-    let berlin = "16/12/2006 17:24:00 \u{2192} Sat 16 Dec 2006 10:24 CST, America/Chicago";
+    let berlin = "16/12/2006 17:24:00 \u{2192} Sat 16 Dec 2006 10:24:00 CST, America/Chicago";
     assert!(
         wait_until(Duration::from_secs(10), || first_row() == berlin),
         "after the zone: {:?}",

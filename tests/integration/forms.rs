@@ -117,7 +117,7 @@ fn the_date_readings_say_how_a_day_first_file_reads_in_the_loggers_zone() {
     assert_eq!(j["readings"][0]["words"], "day/month/year, hh:mm:ss");
     // 16 Dec 2006 was a Saturday (Python: date(2006, 12, 16).strftime("%a")); Chicago keeps CST
     // (UTC-6) in December (IANA tz database).
-    assert_eq!(j["readings"][0]["rows"][0]["reads_as"], "Sat 16 Dec 2006 17:24 CST, America/Chicago");
+    assert_eq!(j["readings"][0]["rows"][0]["reads_as"], "Sat 16 Dec 2006 17:24:00 CST, America/Chicago");
     assert!(
         !j["readings"]
             .as_array()
@@ -138,7 +138,7 @@ fn the_date_readings_say_how_a_day_first_file_reads_in_the_loggers_zone() {
         (j["timezone"].as_str(), j["site_timezone"].as_str()),
         (Some("Europe/Berlin"), Some("America/Chicago"))
     );
-    assert_eq!(j["readings"][0]["rows"][0]["reads_as"], "Sat 16 Dec 2006 10:24 CST, America/Chicago");
+    assert_eq!(j["readings"][0]["rows"][0]["reads_as"], "Sat 16 Dec 2006 10:24:00 CST, America/Chicago");
     // A zone that is not one: 422 naming the field.
     let r = s.post_json(
         &format!("/api/v1/audits/{id}/date-readings"),

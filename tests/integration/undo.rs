@@ -74,6 +74,9 @@ fn deleting_an_upload_leaves_the_figures_of_the_remaining_file_and_the_bytes_imp
         "the two days differ in power: {before} / {twin}"
     );
     let revision = s.get(&format!("/api/v1/audits/{both}")).json()["revision"].as_i64().unwrap();
+    // The two days do not overlap: the second file's import warned of it, quoting the first.
+    let page = s.get(&format!("/audits/{both}")).text;
+    assert!(page.contains("does not overlap in time any other file"), "warned while both are there");
 
     // Act
     let id = ua["upload_id"].as_i64().unwrap();
@@ -89,6 +92,9 @@ fn deleting_an_upload_leaves_the_figures_of_the_remaining_file_and_the_bytes_imp
     let power =
         audit["channels"].as_array().unwrap().iter().find(|c| c["quantity"] == "power").cloned().unwrap();
     assert_eq!(power["readings"].as_i64(), Some(3 * 360), "only day 2's readings of C1 are left");
+    // The warning quoted the deleted file: with no other file left it is no longer shown.
+    let page = s.get(&format!("/audits/{both}")).text;
+    assert!(!page.contains("does not overlap in time any other file"), "a deleted file is still quoted");
     let after = system(&s, both);
     for f in ["energy_kwh", "mean_power_kw", "air_m3", "mean_flow_m3_min", "specific_power_kw_per_m3_min"] {
         same(&after, &twin, f);

@@ -251,6 +251,11 @@ pub fn pressure_cut_fractions(air: &SiteAir, stages: u32, p_now: f64, p_target: 
     (doe.clamp(0.0, 1.0), isen.clamp(0.0, 1.0))
 }
 
+/// "1 dryer", "2 dryers": a count with its noun.
+fn counted(n: usize, one: &str, many: &str) -> String {
+    format!("{n} {}", if n == 1 { one } else { many })
+}
+
 /// [`pressure_cut_fractions`] at the audit's site.
 pub(super) fn pressure_cut(r: &RecommendInput, stages: u32, p_now: f64, p_target: f64) -> (f64, f64) {
     pressure_cut_fractions(&r.site.air, stages, p_now, p_target)
@@ -815,9 +820,9 @@ pub(super) fn dew_point_control(r: &RecommendInput, p: &Plant) -> Option<(Draft,
             items: c.dew_point_dryers,
             title: text!["Switch desiccant dryers by dew point: about ", flow(c.dew_point_m3_min), " less purge"],
             description: text![format!(
-                "Let the {} desiccant dryer(s) on a fixed cycle switch towers by the outlet dew point, so that \
+                "Let the {} on a fixed cycle switch towers by the outlet dew point, so that \
                  the purge follows the moisture load instead of running at its full share all day.",
-                c.dew_point_dryers
+                counted(c.dew_point_dryers, "desiccant dryer", "desiccant dryers")
             )],
             formula: "saving = (purge on a fixed cycle - purge × load) × marginal kW/(m³/min) × hours",
             source: "purge of heatless dryers 15-20 % of rated flow: US DOE compressed-air sourcebook; purge following the load: common practice",
@@ -949,13 +954,25 @@ pub(super) fn cycling_refrigerated_dryer(r: &RecommendInput, p: &Plant) -> Optio
     let draft = Draft {
         kind: MeasureKind::CyclingRefrigeratedDryer,
         title: text![format!(
-            "Replace {} non-cycling refrigerated dryer(s) with cycling or variable units: about {kw:.2} kW less",
-            c.non_cycling_dryers
+            "Replace {} with {}: about {kw:.2} kW less",
+            counted(
+                c.non_cycling_dryers,
+                "non-cycling refrigerated dryer",
+                "non-cycling refrigerated dryers"
+            ),
+            if c.non_cycling_dryers == 1 {
+                "a cycling or variable unit"
+            } else {
+                "cycling or variable units"
+            }
         )],
         description: text![format!(
-            "The non-cycling dryer(s) draw their full {:.2} kW whatever the air through them; a cycling or \
-             variable unit follows the load down to about {:.0} % of its kW.",
+            "{} draw{} {:.2} kW whatever the air through {}; a cycling or variable unit follows the load \
+             down to about {:.0} % of its kW.",
+            if c.non_cycling_dryers == 1 { "The non-cycling dryer" } else { "The non-cycling dryers" },
+            if c.non_cycling_dryers == 1 { "s its full" } else { " their full" },
             c.non_cycling_kw,
+            if c.non_cycling_dryers == 1 { "it" } else { "them" },
             crate::core::treatment::CYCLING_DRYER_FLOOR * 100.0
         )],
         saving_kwh: kwh,
@@ -973,7 +990,8 @@ pub(super) fn cycling_refrigerated_dryer(r: &RecommendInput, p: &Plant) -> Optio
             text![format!("hours priced {hours:.0} h/yr (the compressors' running hours)")],
         ],
         formula: "saving = dryer kW × (1 - max(mean flow through it / rated flow, 0.2)) × running hours",
-        source: "data-sheet kW; cycling units following the load, and the 0.2 floor: common practice, from memory",
+        source:
+            "data-sheet kW; cycling units following the load, and the 0.2 floor: common practice, from memory",
         method: "the dryer's own electricity at its load against full input; range from the annual hours",
         caution: Some(safety::TREATMENT_MEASURE_CAUTION.to_string()),
         scenario_id: None,

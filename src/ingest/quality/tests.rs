@@ -72,7 +72,8 @@ fn flat_line_needs_thirty_minutes_and_thirty_readings() {
     assert_eq!(f.examples[0].readings, 40);
     assert!((f.examples[0].value - 7.0).abs() < 1e-12);
     assert_eq!(f.examples[0].duration_s, 39.0 * 60.0);
-    assert!(r.warnings("UTC")[0].contains("the longest is 7 bar_g for 39 min"), "{:?}", r.warnings("UTC"));
+    // Units as people write them (the mapping's bar_g is bar(g)).
+    assert!(r.warnings("UTC")[0].contains("the longest is 7 bar(g) for 39 min"), "{:?}", r.warnings("UTC"));
 }
 
 #[test]
@@ -104,7 +105,7 @@ fn out_of_range_values_are_reported_in_the_logged_unit() {
     let r = q.finish();
     assert_eq!(r.channels[0].out_of_range.count, 1);
     assert!((r.channels[0].out_of_range.examples[0].value - 250.0).abs() < 1e-9);
-    assert_eq!(r.channels[1].out_of_range.examples[0].reason, "above 100 bar g");
+    assert_eq!(r.channels[1].out_of_range.examples[0].reason, "above 100 bar(g)");
 }
 
 #[test]

@@ -53,8 +53,8 @@ fn range_for(q: Quantity, atmosphere_pa: f64) -> Range {
         Quantity::Pressure => Range {
             min_si: atmosphere_pa - 0.1 * PA_PER_BAR,
             max_si: 100.0 * PA_PER_BAR + atmosphere_pa,
-            below: "negative gauge pressure, below -0.1 bar g: a compressed-air line never runs below the atmosphere",
-            above: "above 100 bar g",
+            below: "negative gauge pressure, below -0.1 bar(g): a compressed-air line never runs below the atmosphere",
+            above: "above 100 bar(g)",
         },
         Quantity::Temperature => Range {
             min_si: T_ZERO_C - 50.0,

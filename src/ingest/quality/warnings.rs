@@ -31,6 +31,15 @@ pub fn human_duration(s: f64) -> String {
     }
 }
 
+/// A unit as the mapping spells it (`bar_g`), as people write it (`bar(g)`).
+fn unit_words(spelling: &str) -> String {
+    use crate::core::unit_table::{find, LoggedQuantity};
+    LoggedQuantity::ALL
+        .iter()
+        .find_map(|q| find(*q, spelling))
+        .map_or_else(|| spelling.to_string(), |u| u.label.to_string())
+}
+
 fn plural(n: u64, one: &str, many: &str) -> String {
     if n == 1 {
         format!("1 {one}")
@@ -145,7 +154,7 @@ impl QualityReport {
                     "{name}: {} of one repeated value; the longest is {} {} for {} from {}",
                     plural(c.flat_lines.count, "flat stretch", "flat stretches"),
                     num(longest.value),
-                    longest.unit,
+                    unit_words(&longest.unit),
                     human_duration(longest.duration_s),
                     at(&longest.start)
                 ));
@@ -156,7 +165,7 @@ impl QualityReport {
                     plural(c.out_of_range.count, "reading", "readings"),
                     o.reason,
                     num(o.value),
-                    o.unit,
+                    unit_words(&o.unit),
                     o.line
                 ));
             }
@@ -165,7 +174,7 @@ impl QualityReport {
                     "{name}: implausible: {}; the highest is {} {} at line {}",
                     i.reason,
                     num(i.value),
-                    i.unit,
+                    unit_words(&i.unit),
                     i.line
                 ));
             }

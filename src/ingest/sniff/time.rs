@@ -275,7 +275,7 @@ pub struct DateReading {
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct ReadRow {
     pub text: String,
-    /// "Sat 16 Dec 2006 17:24 CST, America/Chicago"; `None` when the format does not read it.
+    /// "Sat 16 Dec 2006 17:24:00 CST, America/Chicago"; `None` when the format does not read it.
     pub reads_as: Option<String>,
 }
 
@@ -314,7 +314,7 @@ pub fn format_words(format: &str) -> String {
 /// How the first rows' times read under every candidate format that reads all of `cells` (the
 /// timestamp column's first cells, a time column's cell joined after a space, as the parser
 /// joins them), `chosen` first (kept even when it does not read them), a local time read in the
-/// logger's zone `timezone` (IANA) and shown in the site's, `site` ("Sat 16 Dec 2006 10:24 CST,
+/// logger's zone `timezone` (IANA) and shown in the site's, `site` ("Sat 16 Dec 2006 10:24:00 CST,
 /// America/Chicago" for 17:24 logged in Berlin), so a person sees what each reading will mean on
 /// the site's clock. An interval cell is read by `interval`'s end. A zone that is not one is an
 /// error in words.
@@ -357,9 +357,9 @@ pub fn date_readings(
                 .take(READING_ROWS)
                 .map(|c| ReadRow {
                     text: c.clone(),
-                    reads_as: p
-                        .parse(c.as_bytes())
-                        .map(|(ms, _)| format!("{}, {site}", crate::core::display::local_ms(ms, site))),
+                    reads_as: p.parse(c.as_bytes()).map(|(ms, _)| {
+                        format!("{}, {site}", crate::core::display::local_ms_seconds(ms, site))
+                    }),
                 })
                 .collect();
             Some(DateReading { words: format_words(&format), format, reads_all, rows })
@@ -391,7 +391,7 @@ mod reading_tests {
         assert_eq!(r[0].format, "%d/%m/%Y %H:%M:%S");
         assert_eq!(r[0].words, "day/month/year, hh:mm:ss");
         assert!(r[0].reads_all);
-        assert_eq!(r[0].rows[0].reads_as.as_deref(), Some("Sat 16 Dec 2006 17:24 CST, America/Chicago"));
+        assert_eq!(r[0].rows[0].reads_as.as_deref(), Some("Sat 16 Dec 2006 17:24:00 CST, America/Chicago"));
         // Month first cannot read a 16th month: not offered.
         assert!(!r.iter().any(|x| x.format.starts_with("%m/%d")), "{r:?}");
         // A date both ways (3 February or 2 March) offers both readings.
@@ -405,9 +405,12 @@ mod reading_tests {
         // Day first: Tuesday 3 February; month first: Monday 2 March (Python's datetime.date gives
         // the weekdays); CET (UTC+1) in Berlin in both months (IANA tz database).
         let day_first = r.iter().find(|x| x.format.starts_with("%d/%m")).unwrap();
-        assert_eq!(day_first.rows[0].reads_as.as_deref(), Some("Tue 3 Feb 2026 08:00 CET, Europe/Berlin"));
+        assert_eq!(day_first.rows[0].reads_as.as_deref(), Some("Tue 3 Feb 2026 08:00:00 CET, Europe/Berlin"));
         let month_first = r.iter().find(|x| x.format.starts_with("%m/%d")).unwrap();
-        assert_eq!(month_first.rows[0].reads_as.as_deref(), Some("Mon 2 Mar 2026 08:00 CET, Europe/Berlin"));
+        assert_eq!(
+            month_first.rows[0].reads_as.as_deref(),
+            Some("Mon 2 Mar 2026 08:00:00 CET, Europe/Berlin")
+        );
         // A chosen format that does not read the cells is kept first and says so.
         let r = date_readings(&cells, ("UTC", "UTC"), Some("%Y-%m-%d %H:%M:%S"), None).unwrap();
         assert_eq!(r[0].rows[0].reads_as, None);
@@ -417,6 +420,6 @@ mod reading_tests {
         // 10:24 there (Python: datetime(2006,12,16,17,24,tzinfo=ZoneInfo("Europe/Berlin"))
         // .astimezone(ZoneInfo("America/Chicago"))).
         let r = date_readings(&cells, ("Europe/Berlin", "America/Chicago"), None, None).unwrap();
-        assert_eq!(r[0].rows[0].reads_as.as_deref(), Some("Sat 16 Dec 2006 10:24 CST, America/Chicago"));
+        assert_eq!(r[0].rows[0].reads_as.as_deref(), Some("Sat 16 Dec 2006 10:24:00 CST, America/Chicago"));
     }
 }

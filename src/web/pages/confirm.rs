@@ -109,8 +109,12 @@ async fn describe(
                     u.filename,
                     u.rows,
                     u.readings,
-                    u.first.as_deref().unwrap_or("–"),
-                    u.last.as_deref().unwrap_or("–")
+                    u.first
+                        .as_deref()
+                        .map_or_else(|| "–".into(), |t| super::words::local_time(t, &b.audit.site.timezone)),
+                    u.last
+                        .as_deref()
+                        .map_or_else(|| "–".into(), |t| super::words::local_time(t, &b.audit.site.timezone))
                 ),
                 "Its readings, their summaries and its data-quality report are deleted, and the audit's \
                  figures are worked out again from the other files. The same file can be uploaded again \

@@ -147,6 +147,13 @@ fn figure_label(code: &str) -> String {
         "demand_split" => "Where the air goes",
         "measures_total" => "The measures together",
         "non_production_leak_flow_m3_min" => "Leak flow out of production",
+        "sufficiency" => "Whether the data carry the figures",
+        "pressure bands" => "Pressure bands and limits",
+        "transmission.pressure_drops" => "Pressure drops between measuring points",
+        "transmission.dryers" => "Dryers' purge",
+        "transmission.dryers.cycling_saving_kwh" => "A cycling refrigerated dryer's saving",
+        "transmission.drains" => "Condensate drains' air",
+        "transmission.filters" => "Filters' excess pressure drop",
         other => return human_label(other.trim_end_matches("_kwh").trim_end_matches("_m3_min")),
     };
     words.to_string()

@@ -52,14 +52,34 @@ pub fn local_times_in(text: &str, tz: &str) -> String {
 }
 
 /// The uploads with the UTC times of their stored warnings in the site's local time
-/// ([`local_times_in`]).
+/// ([`local_times_in`]), and the warnings about a file's span against the others
+/// (`quality::span_warnings`) worked out again against the files the audit holds now: those stored
+/// at import quote the files there were then, and a file deleted since must not be quoted.
 pub fn uploads_in_local_time(
     mut uploads: Vec<crate::store::audits::UploadRecord>,
     tz: &str,
 ) -> Vec<crate::store::audits::UploadRecord> {
+    let ms = |t: &Option<String>| {
+        t.as_deref().and_then(|t| t.parse::<jiff::Timestamp>().ok()).map(|t| t.as_millisecond())
+    };
+    let spans: Vec<(i64, Option<(i64, i64)>)> =
+        uploads.iter().map(|u| (u.id, ms(&u.first).zip(ms(&u.last)))).collect();
     for u in &mut uploads {
+        let is_span = |w: &String| {
+            w.starts_with("this file (") && w.contains("does not overlap in time any other file")
+                || w.starts_with("this file covers ") && w.contains("of the audit's logged period")
+        };
+        let had = u.warnings.iter().any(is_span);
+        u.warnings.retain(|w| !is_span(w));
         for w in &mut u.warnings {
             *w = local_times_in(w, tz);
+        }
+        if had || spans.len() > 1 {
+            if let Some((_, Some(this))) = spans.iter().find(|(id, _)| *id == u.id) {
+                let others: Vec<(i64, i64)> =
+                    spans.iter().filter(|(id, _)| *id != u.id).filter_map(|(_, s)| *s).collect();
+                u.warnings.extend(crate::ingest::quality::span_warnings(*this, &others, tz));
+            }
         }
     }
     uploads
