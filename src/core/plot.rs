@@ -62,7 +62,13 @@ impl Axis {
     /// as many decimals as the tick step needs.
     pub fn numeric(title: impl Into<String>, lo: f64, hi: f64, target: usize) -> Axis {
         let (min, max, step) = nice_range(lo, hi, target);
-        let decimals = if step >= 1.0 { 0 } else { (-step.log10().floor()) as usize };
+        // The fewest decimals that write the step exactly (0.25 needs two, 0.5 one), at most six.
+        let decimals = (0..=6usize)
+            .find(|&d| {
+                let scaled = step * 10f64.powi(d as i32);
+                (scaled - scaled.round()).abs() < 1e-6 * scaled.max(1.0)
+            })
+            .unwrap_or(6);
         let mut ticks = vec![];
         let n = ((max - min) / step).round() as i64;
         for k in 0..=n {
@@ -589,5 +595,33 @@ mod tests {
     fn a_duration_curve_runs_from_the_highest_to_the_lowest() {
         let c = duration_curve(&[3.0, 1.0, f64::NAN, 2.0, 4.0, 5.0], 5);
         assert_eq!(c, vec![(0.0, 5.0), (0.25, 4.0), (0.5, 3.0), (0.75, 2.0), (1.0, 1.0)]);
+    }
+}
+
+#[cfg(test)]
+mod tick_tests {
+    use super::Axis;
+
+    #[test]
+    fn every_tick_label_reads_back_as_its_tick() {
+        // Ticks 0.25 apart written with one decimal would read 6.2, 6.5, 6.8, 7.0: uneven steps.
+        // Over ranges whose round steps are 0.25, 0.5, 2.5 and 0.025, every label is its tick.
+        let mut quarter = false;
+        for (lo, hi) in [(6.2, 7.8), (6.0, 7.1), (0.0, 13.0), (6.21, 6.34), (5.9, 8.1), (0.0, 1.9)] {
+            let a = Axis::numeric("p", lo, hi, 7);
+            quarter |= a.ticks.len() > 1
+                && ((a.ticks[1].at - a.ticks[0].at) * 4.0).fract().abs() < 1e-9
+                && (a.ticks[1].at - a.ticks[0].at).fract() != 0.0
+                && ((a.ticks[1].at - a.ticks[0].at) * 2.0).fract().abs() > 1e-9;
+            for t in &a.ticks {
+                assert!(
+                    (t.label.parse::<f64>().unwrap() - t.at).abs() < 1e-9,
+                    "{} at {} ({lo}..{hi})",
+                    t.label,
+                    t.at
+                );
+            }
+        }
+        assert!(quarter, "no range above gave a quarter step");
     }
 }

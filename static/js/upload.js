@@ -152,8 +152,10 @@
     const q = A.el("select", { class: "q" }, option("", "ignore", !c.quantity),
       ...Object.keys(UNITS).map((k) => option(k, QUANTITY[k] || k, k === c.quantity)));
     const u = A.el("select", { class: "u" });
+    // An audit with one compressor: its power (or current) is that machine's unless said otherwise.
+    const only = data.compressors.length === 1 && !c.compressor ? data.compressors[0] : null;
     const comp = A.el("select", { class: "c" }, option("", "\u2014"),
-      ...data.compressors.map((t) => option(t, t, t === c.compressor)));
+      ...data.compressors.map((t) => option(t, t, t === c.compressor || t === only)));
     const details = A.el("div", { class: "details" });
     const num = (cls, label, value, step) => A.el("label", {}, label + " ",
       A.el("input", { class: cls, type: "number", step: step || "any", value: value === undefined || value === null ? "" : value }));

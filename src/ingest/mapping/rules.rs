@@ -165,7 +165,7 @@ pub(super) fn column_rule(c: &ColumnMap, i: usize) -> Result<(Quantity, UnitRule
     if needs_compressor && c.compressor.as_deref().is_none_or(|s| s.trim().is_empty()) {
         return Err(IngestError::field(
             f("compressor"),
-            format!("a {quantity} column needs its compressor (column {:?})", c.column),
+            format!("a {quantity} column needs its compressor: choose the machine it was logged on"),
         )
         .with_column(c.column.clone()));
     }
