@@ -676,8 +676,9 @@ pub struct PressureDropFigure {
     pub to_point: crate::core::series::PressurePoint,
     pub duration_curve_bar: Vec<f64>,
     pub to_p5_bar_g: f64,
-    pub annual_energy_kwh: f64,
-    pub annual_cost: f64,
+    /// `None` when the data cannot carry annual figures (`analysis::sufficiency`).
+    pub annual_energy_kwh: Option<f64>,
+    pub annual_cost: Option<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]

@@ -135,6 +135,30 @@ fn three_files_apart_in_time_give_no_annual_figure_and_say_why() {
     let findings = s.get(&format!("/audits/{id}/findings")).text;
     assert!(findings.contains("data-verdict=\"insufficient\""));
     assert!(findings.contains("not enough data"));
+    // A dryer on record and a bleed-down: priced on a mean flow the data cannot carry, they would
+    // give shares of thousands of percent. The dryer stays on record, unpriced; the leak flow stands,
+    // its share of demand does not.
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/dryers"),
+        &json!({"tag": "D1", "kind": "heatless_desiccant", "rated_flow_m3_min": 10, "purge_fraction": 0.15,
+                "power_kw": 0.3, "control": "fixed_cycle"}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/field-tests"),
+        &json!({"kind": "bleed_down", "start_pressure_bar_g": 7.0, "end_pressure_bar_g": 6.0, "duration_s": 60,
+                "volume_m3": 4.0}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert!(sm["leaks"]["adopted_leak_flow_m3_min"].as_f64().is_some(), "{}", sm["leaks"]);
+    assert!(sm["leaks"]["share_of_mean_demand"].is_null(), "{}", sm["leaks"]);
+    assert!(sm["demand_split"].is_null(), "{}", sm["demand_split"]);
+    assert_eq!(sm["transmission"]["dryers"], json!([]));
+    let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
+    assert!(withheld.iter().any(|w| w["figure"] == "transmission"), "{withheld:?}");
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    assert!(!report.contains("Mean demand: not yet explained"), "no demand split on insufficient data");
 }
 
 #[test]

@@ -532,8 +532,8 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
                 to_point: x.to_point,
                 duration_curve_bar: x.duration_bar.clone(),
                 to_p5_bar_g: x.to_p5_bar_g,
-                annual_energy_kwh: kwh,
-                annual_cost: kwh * site.electricity_price_per_kwh,
+                annual_energy_kwh: Some(kwh),
+                annual_cost: Some(kwh * site.electricity_price_per_kwh),
             }
         })
         .collect();

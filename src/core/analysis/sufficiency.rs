@@ -351,6 +351,22 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         l.annual_leak_cost_low = None;
         l.annual_leak_cost_high = None;
         withhold(&mut w, "leaks.annual_leak_cost", &why);
+        // A share of a mean flow the data cannot carry is no share (a leak test against a few
+        // minutes of flow read as 4,500 %).
+        for f in [
+            &mut l.share_of_mean_demand,
+            &mut l.share_of_mean_demand_low,
+            &mut l.share_of_mean_demand_high,
+            &mut l.share_of_production_demand,
+            &mut l.share_of_non_production_demand,
+        ] {
+            *f = None;
+        }
+        withhold(&mut w, "leaks.share_of_mean_demand", &why);
+        for d in &mut s.transmission.pressure_drops {
+            d.annual_energy_kwh = None;
+            d.annual_cost = None;
+        }
         if !s.recommendations.is_empty() {
             s.recommendations.clear();
         }

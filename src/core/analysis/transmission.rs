@@ -40,6 +40,17 @@ pub fn apply(s: &mut Summary, records: &Records, site: &SiteAir) {
     if records.is_empty() {
         return;
     }
+    // Records priced on a mean flow and running hours the data cannot carry would give figures
+    // that mean nothing (a demand split of -6,500 %): they stay on their page, unpriced.
+    if s.sufficiency.verdict == super::figures::Verdict::Insufficient {
+        s.sufficiency.withheld.push(super::figures::Withheld {
+            figure: "transmission".into(),
+            reason: "not enough data: the treatment records and end uses are priced on the logged mean flow \
+                     and running hours, which the data cannot carry"
+                .into(),
+        });
+        return;
+    }
     let (plant, assumed) = plant_of(s);
     match treatment::figures(records, &plant, site) {
         Ok((mut t, split)) => {

@@ -796,7 +796,7 @@ fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)
                 d.to_point.label()
             ),
             format!(
-                "mean {}{}{}; costs {} a year ({}) of extra discharge pressure",
+                "mean {}{}{}; {}",
                 fmt.pressure_delta_bar(d.mean_bar),
                 d.at_peak_flow_bar
                     .map_or(String::new(), |x| format!(", at peak flow {}", fmt.pressure_delta_bar(x))),
@@ -804,8 +804,14 @@ fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)
                     ", exceeded 5 % of the time {}",
                     fmt.pressure_delta_bar(x)
                 )),
-                fmt.energy_kwh(d.annual_energy_kwh),
-                fmt.money(d.annual_cost, cur)
+                match (d.annual_energy_kwh, d.annual_cost) {
+                    (Some(k), Some(c)) => format!(
+                        "costs {} a year ({}) of extra discharge pressure",
+                        fmt.energy_kwh(k),
+                        fmt.money(c, cur)
+                    ),
+                    _ => format!("its annual cost: {NOT_ENOUGH_DATA}"),
+                }
             ),
         ));
     }
