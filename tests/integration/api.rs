@@ -520,6 +520,12 @@ fn a_scenario_replays_the_demo_and_reports_its_validation_error() {
     );
     assert_eq!(r.status, 201, "{}", r.text);
     assert_eq!(r.json()["result"]["feasible"], false);
+    // Short of capacity, its lower energy is air not delivered: the page prices no saving for it.
+    let page = s.get("/audits/1/scenarios").text;
+    assert!(
+        page.contains("none: the plant falls short of its demand"),
+        "an infeasible scenario is not priced"
+    );
     let r = s.post_json(
         "/api/v1/audits/1/scenarios",
         &json!({"name": "typo", "changes": [{"op": "remove", "tag": "C9"}]}),

@@ -147,7 +147,11 @@ pub async fn scenarios(
                 changes: changes_in_words(&sc.changes, &fmt),
                 energy: fmt.energy_kwh(nan(r.energy_kwh)),
                 saving: fmt.energy_kwh(saving),
-                cost_saving: if scale.is_finite() {
+                // A plant that does not hold its pressure delivers less air than the log asked of
+                // it: its lower energy is no saving, and it is not priced as one.
+                cost_saving: if r.feasible == Some(false) {
+                    "none: the plant falls short of its demand".into()
+                } else if scale.is_finite() {
                     fmt.money(saving * scale * price, &cur)
                 } else {
                     "–".into()
