@@ -220,7 +220,7 @@ pub fn render_parts(parts: &[Part], fmt: &Fmt) -> String {
         .collect()
 }
 
-/// A time as the site's clocks show it, with the zone's abbreviation: "Sat 16 Dec 2006 17:24 CST".
+/// A time as the site's clocks show it, with the zone's abbreviation: "Mon 23 Nov 2026 14:05 CST".
 /// The one helper for times a person sees (pages, printed findings, the data-quality warnings).
 /// Accepts RFC 3339 text; a text that is not one is given back as it is.
 pub fn local_time(rfc3339: &str, tz: &str) -> String {

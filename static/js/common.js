@@ -86,7 +86,7 @@ window.airledger = {
   // The mapping form's dates (upload and remap pages): the server reads the first rows' times under
   // every format that reads them, in the zone given (POST /api/v1/audits/{id}/date-readings); the
   // readings are offered in words in `o.select`, the chosen one's rows listed in `o.list` as
-  // "16/12/2006 17:24:00 -> Sat 16 Dec 2006 17:24 CST, America/Chicago". Choosing one sets the
+  // "23/11/2026 14:05:00 -> Mon 23 Nov 2026 14:05 CST, America/Chicago". Choosing one sets the
   // advanced format field `o.format`; a change of zone, format or interval reads them again.
   datePreview(o) {
     const A = this;

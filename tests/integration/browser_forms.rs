@@ -76,12 +76,12 @@ fn a_new_audit_in_us_units_stores_the_altitude_typed_in_feet() {
     assert_eq!(again.to_bits(), alt.to_bits(), "{again} after saving the site form unchanged, was {alt}");
 }
 
-/// A file written day first, logged in Chicago: `rows` rows at 10 s from 16/12/2006 17:24:00.
+/// A file written day first, logged in Chicago: `rows` rows at 10 s from 23/11/2026 14:05:00.
 fn day_first_csv(rows: u32) -> String {
     let mut s = String::from("time,C1 kW,header bar,flow m3/min\n");
     for i in 0..rows {
-        let (m, sec) = (24 + i * 10 / 60, i * 10 % 60);
-        s.push_str(&format!("16/12/2006 17:{m:02}:{sec:02},{},7.1,4.2\n", if i % 6 < 2 { 56 } else { 14 }));
+        let (m, sec) = (5 + i * 10 / 60, i * 10 % 60);
+        s.push_str(&format!("23/11/2026 14:{m:02}:{sec:02},{},7.1,4.2\n", if i % 6 < 2 { 56 } else { 14 }));
     }
     s
 }
@@ -103,10 +103,10 @@ fn the_mapping_forms_read_a_day_first_files_times_in_the_loggers_zone() {
     );
     assert_eq!(r.status, 201, "{}", r.text);
     let csv = day_first_csv(120);
-    // 16 December 2006 was a Saturday (Python: datetime.date(2006, 12, 16).strftime("%a")), and
-    // Chicago keeps CST, UTC-6, in December (IANA tz database; zoneinfo gives
-    // datetime(2006,12,16,17,24,tzinfo=ZoneInfo("America/Chicago")).tzname() == "CST").
-    let chicago = "16/12/2006 17:24:00 \u{2192} Sat 16 Dec 2006 17:24:00 CST, America/Chicago";
+    // 23 November 2026 is a Monday (Python: datetime.date(2026, 11, 23).strftime("%a")), and
+    // Chicago keeps CST, UTC-6, in November (IANA tz database; zoneinfo gives
+    // datetime(2026,11,23,14,5,tzinfo=ZoneInfo("America/Chicago")).tzname() == "CST").
+    let chicago = "23/11/2026 14:05:00 \u{2192} Mon 23 Nov 2026 14:05:00 CST, America/Chicago";
     let b = Browser::start();
 
     // The upload page: the logger's zone defaults to the audit's, the reading is offered in words.
@@ -128,13 +128,13 @@ fn the_mapping_forms_read_a_day_first_files_times_in_the_loggers_zone() {
         || b.js_str("const s = document.getElementById('m-reading'); return s.options[s.selectedIndex].text");
     assert_eq!(chosen(), "day/month/year, hh:mm:ss");
     // The logger's clock said to keep Berlin time: the rows read as Berlin times, shown on the
-    // site's clock, 17:24 CET = 10:24 CST (Python: datetime(2006,12,16,17,24,
+    // site's clock, 14:05 CET = 07:05 CST (Python: datetime(2026,11,23,14,5,
     // tzinfo=ZoneInfo("Europe/Berlin")).astimezone(ZoneInfo("America/Chicago"))).
     b.js(
         "const z = document.getElementById('m-ts-zone'); z.value = 'Europe/Berlin'; z.dispatchEvent(new Event('change'));",
         json!([]),
     );
-    let berlin = "16/12/2006 17:24:00 \u{2192} Sat 16 Dec 2006 10:24:00 CST, America/Chicago";
+    let berlin = "23/11/2026 14:05:00 \u{2192} Mon 23 Nov 2026 07:05:00 CST, America/Chicago";
     assert!(
         wait_until(Duration::from_secs(10), || first_row() == berlin),
         "after the zone: {:?}",

@@ -108,26 +108,26 @@ fn a_field_test_refused_on_a_us_audit_quotes_psig() {
 fn the_date_readings_say_how_a_day_first_file_reads_in_the_loggers_zone() {
     let s = Server::start();
     let id = chicago_audit(&s, "us");
-    let cells = ["16/12/2006 17:24:00", "16/12/2006 17:25:00", "16/12/2006 17:26:00"];
+    let cells = ["23/11/2026 14:05:00", "23/11/2026 14:06:00", "23/11/2026 14:07:00"];
     // The audit's zone when none is given.
     let r = s.post_json(&format!("/api/v1/audits/{id}/date-readings"), &json!({"cells": cells}));
     assert_eq!(r.status, 200, "{}", r.text);
     let j = r.json();
     assert_eq!(j["timezone"], "America/Chicago");
     assert_eq!(j["readings"][0]["words"], "day/month/year, hh:mm:ss");
-    // 16 Dec 2006 was a Saturday (Python: date(2006, 12, 16).strftime("%a")); Chicago keeps CST
-    // (UTC-6) in December (IANA tz database).
-    assert_eq!(j["readings"][0]["rows"][0]["reads_as"], "Sat 16 Dec 2006 17:24:00 CST, America/Chicago");
+    // 23 Nov 2026 is a Monday (Python: date(2026, 11, 23).strftime("%a")); Chicago keeps CST
+    // (UTC-6) in November (IANA tz database).
+    assert_eq!(j["readings"][0]["rows"][0]["reads_as"], "Mon 23 Nov 2026 14:05:00 CST, America/Chicago");
     assert!(
         !j["readings"]
             .as_array()
             .unwrap()
             .iter()
             .any(|x| x["words"].as_str().unwrap().starts_with("month/day")),
-        "a 16th month is offered: {j}"
+        "a 23rd month is offered: {j}"
     );
-    // A logger keeping Berlin time on this Chicago site: its rows shown on the site's clock, 17:24
-    // CET = 10:24 CST (zoneinfo: datetime(2006,12,16,17,24,tzinfo=ZoneInfo("Europe/Berlin"))
+    // A logger keeping Berlin time on this Chicago site: its rows shown on the site's clock, 14:05
+    // CET = 07:05 CST (zoneinfo: datetime(2026,11,23,14,5,tzinfo=ZoneInfo("Europe/Berlin"))
     // .astimezone(ZoneInfo("America/Chicago"))).
     let r = s.post_json(
         &format!("/api/v1/audits/{id}/date-readings"),
@@ -138,7 +138,7 @@ fn the_date_readings_say_how_a_day_first_file_reads_in_the_loggers_zone() {
         (j["timezone"].as_str(), j["site_timezone"].as_str()),
         (Some("Europe/Berlin"), Some("America/Chicago"))
     );
-    assert_eq!(j["readings"][0]["rows"][0]["reads_as"], "Sat 16 Dec 2006 10:24:00 CST, America/Chicago");
+    assert_eq!(j["readings"][0]["rows"][0]["reads_as"], "Mon 23 Nov 2026 07:05:00 CST, America/Chicago");
     // A zone that is not one: 422 naming the field.
     let r = s.post_json(
         &format!("/api/v1/audits/{id}/date-readings"),

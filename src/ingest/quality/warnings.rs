@@ -279,15 +279,15 @@ mod span_tests {
 
     #[test]
     fn span_times_are_the_sites_local_time_with_the_zone_named() {
-        // 2006-12-16T23:24:00Z is 17:24 CST in Chicago (UTC-6 in winter, IANA tz database), as
-        // Python's zoneinfo gives: datetime(2006,12,16,23,24,tzinfo=UTC).astimezone(ZoneInfo("America/Chicago")).
-        let t = 1_166_311_440_000; // 2006-12-16T23:24:00Z
+        // 2026-11-23T20:05:00Z is 14:05 CST in Chicago (UTC-6 in winter, IANA tz database), as
+        // Python's zoneinfo gives: datetime(2026,11,23,20,5,tzinfo=UTC).astimezone(ZoneInfo("America/Chicago")).
+        let t = 1_795_464_300_000; // 2026-11-23T20:05:00Z
         let w = span_warnings((t, t + DAY), &[(t + 10 * DAY, t + 40 * DAY)], "America/Chicago");
         assert!(
-            w[0].starts_with("this file (Sat 16 Dec 2006 17:24 CST to Sun 17 Dec 2006 17:24 CST)"),
+            w[0].starts_with("this file (Mon 23 Nov 2026 14:05 CST to Tue 24 Nov 2026 14:05 CST)"),
             "{}",
             w[0]
         );
-        assert!(!w.iter().any(|x| x.contains("T23:24") || x.contains('Z')), "{w:?}");
+        assert!(!w.iter().any(|x| x.contains("T20:05") || x.contains('Z')), "{w:?}");
     }
 }

@@ -275,7 +275,7 @@ pub struct DateReading {
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct ReadRow {
     pub text: String,
-    /// "Sat 16 Dec 2006 17:24:00 CST, America/Chicago"; `None` when the format does not read it.
+    /// "Mon 23 Nov 2026 14:05:00 CST, America/Chicago"; `None` when the format does not read it.
     pub reads_as: Option<String>,
 }
 
@@ -314,8 +314,8 @@ pub fn format_words(format: &str) -> String {
 /// How the first rows' times read under every candidate format that reads all of `cells` (the
 /// timestamp column's first cells, a time column's cell joined after a space, as the parser
 /// joins them), `chosen` first (kept even when it does not read them), a local time read in the
-/// logger's zone `timezone` (IANA) and shown in the site's, `site` ("Sat 16 Dec 2006 10:24:00 CST,
-/// America/Chicago" for 17:24 logged in Berlin), so a person sees what each reading will mean on
+/// logger's zone `timezone` (IANA) and shown in the site's, `site` ("Mon 23 Nov 2026 07:05:00 CST,
+/// America/Chicago" for 14:05 logged in Berlin), so a person sees what each reading will mean on
 /// the site's clock. An interval cell is read by `interval`'s end. A zone that is not one is an
 /// error in words.
 pub fn date_readings(
@@ -382,17 +382,17 @@ mod reading_tests {
 
     #[test]
     fn a_day_first_file_offers_its_readings_and_shows_the_first_rows_in_the_sites_zone() {
-        // 16/12/2006 17:24:00 day first is Saturday 16 December 2006 (a Saturday by the Gregorian
-        // calendar: Python's datetime.date(2006, 12, 16).strftime("%a") gives "Sat"); in Chicago
-        // in December the zone is CST (UTC-6, IANA tz database).
+        // 23/11/2026 14:05:00 day first is Monday 23 November 2026 (a Monday by the Gregorian
+        // calendar: Python's datetime.date(2026, 11, 23).strftime("%a") gives "Mon"); in Chicago
+        // in November the zone is CST (UTC-6, IANA tz database).
         let cells: Vec<String> =
-            ["16/12/2006 17:24:00", "16/12/2006 17:25:00", "16/12/2006 17:26:00"].map(String::from).to_vec();
+            ["23/11/2026 14:05:00", "23/11/2026 14:06:00", "23/11/2026 14:07:00"].map(String::from).to_vec();
         let r = date_readings(&cells, ("America/Chicago", "America/Chicago"), None, None).unwrap();
         assert_eq!(r[0].format, "%d/%m/%Y %H:%M:%S");
         assert_eq!(r[0].words, "day/month/year, hh:mm:ss");
         assert!(r[0].reads_all);
-        assert_eq!(r[0].rows[0].reads_as.as_deref(), Some("Sat 16 Dec 2006 17:24:00 CST, America/Chicago"));
-        // Month first cannot read a 16th month: not offered.
+        assert_eq!(r[0].rows[0].reads_as.as_deref(), Some("Mon 23 Nov 2026 14:05:00 CST, America/Chicago"));
+        // Month first cannot read a 23rd month: not offered.
         assert!(!r.iter().any(|x| x.format.starts_with("%m/%d")), "{r:?}");
         // A date both ways (3 February or 2 March) offers both readings.
         let both: Vec<String> = ["03/02/2026 08:00:00", "03/02/2026 08:01:00"].map(String::from).to_vec();
@@ -416,10 +416,10 @@ mod reading_tests {
         assert_eq!(r[0].rows[0].reads_as, None);
         assert!(!r[0].reads_all);
         assert!(date_readings(&cells, ("CST", "UTC"), None, None).is_err());
-        // Logged in Berlin (CET, UTC+1), shown on a Chicago site's clock (CST, UTC-6): 17:24 is
-        // 10:24 there (Python: datetime(2006,12,16,17,24,tzinfo=ZoneInfo("Europe/Berlin"))
+        // Logged in Berlin (CET, UTC+1), shown on a Chicago site's clock (CST, UTC-6): 14:05 is
+        // 07:05 there (Python: datetime(2026,11,23,14,5,tzinfo=ZoneInfo("Europe/Berlin"))
         // .astimezone(ZoneInfo("America/Chicago"))).
         let r = date_readings(&cells, ("Europe/Berlin", "America/Chicago"), None, None).unwrap();
-        assert_eq!(r[0].rows[0].reads_as.as_deref(), Some("Sat 16 Dec 2006 10:24:00 CST, America/Chicago"));
+        assert_eq!(r[0].rows[0].reads_as.as_deref(), Some("Mon 23 Nov 2026 07:05:00 CST, America/Chicago"));
     }
 }

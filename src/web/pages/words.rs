@@ -10,7 +10,7 @@ use crate::core::series::PressurePoint;
 use crate::store::audits::FieldTestRecord;
 use crate::store::read::ChannelInfo;
 
-/// A stored text with its UTC times (RFC 3339, `2006-12-16T23:24:00Z`, as files imported before
+/// A stored text with its UTC times (RFC 3339, `2026-11-23T20:05:00Z`, as files imported before
 /// the warnings spoke local time hold them) in the site's local time, through [`local_time`].
 pub fn local_times_in(text: &str, tz: &str) -> String {
     let b = text.as_bytes();
@@ -348,8 +348,8 @@ mod tests {
 
     #[test]
     fn local_time_names_the_zone_and_follows_its_rules() {
-        // 2006-12-16 23:24 UTC is 17:24 in Chicago (CST = UTC-6 in December, IANA tz database).
-        assert_eq!(local_time("2006-12-16T23:24:00Z", "America/Chicago"), "Sat 16 Dec 2006 17:24 CST");
+        // 2026-11-23 20:05 UTC is 14:05 in Chicago (CST = UTC-6 in November, IANA tz database).
+        assert_eq!(local_time("2026-11-23T20:05:00Z", "America/Chicago"), "Mon 23 Nov 2026 14:05 CST");
         // In July Chicago keeps CDT = UTC-5.
         assert_eq!(local_time("2020-07-01T12:00:00Z", "America/Chicago"), "Wed 1 Jul 2020 07:00 CDT");
         assert_eq!(local_time("not a time", "America/Chicago"), "not a time");
@@ -357,14 +357,14 @@ mod tests {
 
     #[test]
     fn utc_times_in_a_stored_warning_read_in_the_sites_time() {
-        // 23:24Z is 17:24 CST in Chicago in December (UTC-6, IANA tz database).
-        let w = "3 gaps; the first starts 2006-12-16T23:24:00Z, the next 2006-12-16T23:30:00.500Z.";
+        // 20:05Z is 14:05 CST in Chicago in November (UTC-6, IANA tz database).
+        let w = "3 gaps; the first starts 2026-11-23T20:05:00Z, the next 2026-11-23T20:11:00.500Z.";
         assert_eq!(
             local_times_in(w, "America/Chicago"),
-            "3 gaps; the first starts Sat 16 Dec 2006 17:24 CST, the next Sat 16 Dec 2006 17:30 CST."
+            "3 gaps; the first starts Mon 23 Nov 2026 14:05 CST, the next Mon 23 Nov 2026 14:11 CST."
         );
-        assert_eq!(local_times_in("no time here: 2006-12-16", "UTC"), "no time here: 2006-12-16");
-        assert_eq!(local_times_in("Zürich 2006-12-16T23:24:00", "UTC"), "Zürich 2006-12-16T23:24:00");
+        assert_eq!(local_times_in("no time here: 2026-11-23", "UTC"), "no time here: 2026-11-23");
+        assert_eq!(local_times_in("Zürich 2026-11-23T20:05:00", "UTC"), "Zürich 2026-11-23T20:05:00");
     }
 
     #[test]
