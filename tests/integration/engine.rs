@@ -11,9 +11,9 @@ the JSON API, checked against truths the code under test does not compute:
   `tests/reference/fixture.json` (fluids 1.3.1, made by `tests/reference/make_reference.py`);
 - a real logger file, the first rows of MetroPT-3 (Veloso, Ribeiro, Gama, Pereira, "The MetroPT dataset
   for predictive maintenance", Scientific Data 9, 764, 2022; UCI ML Repository, CC BY 4.0, licence from
-  memory), whose `COMP` valve signal is an independent record of when the compressor was loaded. It is
-  not in this repository: the test reads `metropt3-sample.csv` from the folder named by
-  `AIRLEDGER_REAL_DATA` and is ignored when that was unset at build time.
+  memory), whose intake-valve signal is an independent record of when the compressor was loaded. It
+  is not in this repository: the test finds the file and its columns through the README of the folder
+  named by `AIRLEDGER_REAL_DATA` and is ignored when that was unset at build time.
 */
 
 use std::sync::OnceLock;
@@ -469,68 +469,114 @@ fn compression_calculator_matches_the_isothermal_formula_and_the_fixture() {
 // -------------------------------------------------------------------------------------------------
 // 5. MetroPT-3: a real compressor's logger file
 
-/// The MetroPT-3 sample's bytes, from `metropt3-sample.csv` in the folder named by
-/// `AIRLEDGER_REAL_DATA` (at run time, else as it was when the tests were built); a failure naming
-/// the path when it is not there. The file is never copied into this repository.
-fn metropt_file() -> Vec<u8> {
-    real_data_file("metropt3-sample.csv")
+/// The MetroPT-3 sample and its columns, found by rule in the folder named by `AIRLEDGER_REAL_DATA`
+/// (at run time, else as it was when the tests were built): the folder's `README.md` names the file
+/// (its first backquoted `.csv` name) and tells, in a table of `| name | meaning |` rows, what each
+/// column holds; the columns are taken by their meaning (the timestamp written `YYYY-MM-DD`, the
+/// pressure downstream of the reservoirs, the current of one phase of the motor, the intake valve's
+/// signal). Neither the file nor any of its names is copied into this repository.
+struct Sample {
+    file_name: String,
+    bytes: Vec<u8>,
+    time: String,
+    reservoir: String,
+    current: String,
+    valve: String,
 }
 
-/// Rows of the sample: (Unix s, Reservoirs bar(g), Motor_current A, COMP).
-fn metropt_rows(file: &[u8]) -> Vec<(f64, f64, f64, u8)> {
-    let text = std::str::from_utf8(file).expect("metropt3-sample.csv is UTF-8");
+fn metropt() -> &'static Sample {
+    static SAMPLE: OnceLock<Sample> = OnceLock::new();
+    SAMPLE.get_or_init(|| {
+        let readme = String::from_utf8(real_data_file("README.md")).expect("the data README is UTF-8");
+        let ticked = |line: &str| line.split('`').nth(1).map(str::to_string);
+        let file_name = readme
+            .lines()
+            .filter(|l| l.starts_with('`'))
+            .find_map(|l| ticked(l).filter(|n| n.ends_with(".csv")))
+            .expect("the data README names a .csv sample at the start of a line");
+        let column = |meaning: &str| {
+            readme
+                .lines()
+                .filter(|l| l.starts_with("| `"))
+                .find(|l| l.splitn(3, '|').nth(2).is_some_and(|m| m.contains(meaning)))
+                .and_then(ticked)
+                .unwrap_or_else(|| panic!("the data README has no column described as '{meaning}'"))
+        };
+        Sample {
+            bytes: real_data_file(&file_name),
+            file_name,
+            time: column("YYYY-MM-DD"),
+            reservoir: column("downstream of the reservoirs"),
+            current: column("current of one phase"),
+            valve: column("intake valve"),
+        }
+    })
+}
+
+/// Rows of the sample: (Unix s, reservoir pressure bar(g), motor current A, intake valve signal).
+fn metropt_rows(sample: &Sample) -> Vec<(f64, f64, f64, u8)> {
+    let text = std::str::from_utf8(&sample.bytes).expect("the sample is UTF-8");
     let mut lines = text.lines();
     let header: Vec<&str> = lines.next().expect("header").split(',').collect();
     let col = |name: &str| header.iter().position(|h| *h == name).expect(name);
-    let (ts, res, cur, comp) = (col("timestamp"), col("Reservoirs"), col("Motor_current"), col("COMP"));
+    let (ts, res, cur, comp) =
+        (col(&sample.time), col(&sample.reservoir), col(&sample.current), col(&sample.valve));
     lines
         .map(|l| {
             let f: Vec<&str> = l.split(',').collect();
             (
                 unix_s(&format!("{}Z", f[ts].replace(' ', "T"))),
-                f[res].parse().expect("Reservoirs"),
-                f[cur].parse().expect("Motor_current"),
-                f[comp].parse::<f64>().expect("COMP") as u8,
+                f[res].parse().expect("reservoir pressure"),
+                f[cur].parse().expect("motor current"),
+                f[comp].parse::<f64>().expect("intake valve signal") as u8,
             )
         })
         .collect()
+}
+
+/// The mapping of the sample's motor current (with `current` extra fields) and reservoir pressure.
+fn metropt_mapping(sample: &Sample, current: Value) -> Value {
+    let mut cur = json!({"column": sample.current, "quantity": "current", "unit": "A", "compressor": "APU"});
+    for (k, v) in current.as_object().expect("an object") {
+        cur[k] = v.clone();
+    }
+    json!({"delimiter": ",", "decimal": ".", "header_line": 1,
+        "timestamp": {"column": sample.time, "format": "%Y-%m-%d %H:%M:%S", "timezone": "UTC"},
+        "columns": [cur, {"column": sample.reservoir, "quantity": "pressure", "unit": "bar_g"}]})
 }
 
 /// Assumed supply of the air production unit: 400 V three-phase (European low voltage; an
 /// assumption, the dataset does not say), power factor 0.85 loaded (common practice for a small
 /// induction motor near full load) and 0.40 below 5 A (common practice: an induction motor's PF falls
 /// steeply towards no load; 0.40 makes the unloaded power about 30 % of loaded, inside the 15-35 % the
-/// US DOE sourcebook gives for lubricated screws, from memory). 5 A lies between the sample's unloaded (3.8-4.1 A in
-/// the first 1,000 rows) and loaded (5.1-6.3 A after the first reading of each start) currents:
-/// checked against the file in the test.
+/// US DOE sourcebook gives for lubricated screws, from memory). 5 A lies between the sample's unloaded and loaded currents
+/// (after the first reading of each start): checked against the file in the test.
 const VOLTS: f64 = 400.0;
 const PF_LOADED: f64 = 0.85;
 const PF_UNLOADED: f64 = 0.40;
 const UNLOADED_BELOW_A: f64 = 5.0;
-/// Rated (loaded) power: the sample's mean loaded current, ~6.1 A, × √3 × 400 V × 0.85 = 3.6 kW
+/// Rated (loaded) power: the sample's mean loaded current × √3 × 400 V × 0.85 = 3.6 kW
 /// (checked against the data in the test). A small machine for a train's air production unit; the
 /// current logger may sit behind a transformer the dataset does not describe, so the true rating can
 /// be larger, but the states only need the ratio of loaded to unloaded power, which the data gives.
 const RATED_KW: f64 = 3.6;
-/// Unloaded power / loaded: 3.9 A × 0.40 / (6.1 A × 0.85) ≈ 0.30.
+/// Unloaded power / loaded: the mean unloaded current × 0.40 over the loaded × 0.85 ≈ 0.30 (checked
+/// against the data in the test).
 const UNLOADED_FRACTION: f64 = 0.30;
 /// Reservoir volume, m³: assumed (a train's main reservoirs hold some hundreds of litres); only
 /// scales the leak flow, checked below against the receiver equation with the same volume.
 const RESERVOIR_M3: f64 = 0.4;
 
 #[test]
-#[cfg_attr(
-    not(has_real_data),
-    ignore = "set AIRLEDGER_REAL_DATA to a folder of real logger files (with metropt3-sample.csv)"
-)]
+#[cfg_attr(not(has_real_data), ignore = "set AIRLEDGER_REAL_DATA to the folder of real logger files")]
 fn metropt3_states_and_decay_follow_the_datasets_own_signals() {
-    let file = metropt_file();
-    let rows = metropt_rows(&file);
+    let sample = metropt();
+    let rows = metropt_rows(sample);
     // A few hours of the dataset: enough for several load cycles and the decay at its start.
-    assert!(rows.len() >= 500, "metropt3-sample.csv has only {} rows", rows.len());
+    assert!(rows.len() >= 500, "the sample has only {} rows", rows.len());
 
-    // The assumptions above follow from the data. The rated power: mean current when COMP says
-    // loaded. The unloaded fraction: mean current running unloaded (COMP 1, above 1 A) at its PF
+    // The assumptions above follow from the data. The rated power: mean current when the valve says
+    // loaded. The unloaded fraction: mean current running unloaded (valve 1, above 1 A) at its PF
     // over the loaded. The 5 A threshold: above every unloaded current, below nearly every loaded
     // one (all but the first reading of each start, while the motor comes up).
     let loaded_i: Vec<f64> = rows.iter().filter(|r| r.3 == 0).map(|r| r.2).collect();
@@ -571,46 +617,44 @@ fn metropt3_states_and_decay_follow_the_datasets_own_signals() {
     );
     assert_eq!(r.status, 201, "{}", r.text);
 
-    let mapping = json!({"delimiter": ",", "decimal": ".", "header_line": 1,
-        "timestamp": {"column": "timestamp", "format": "%Y-%m-%d %H:%M:%S", "timezone": "UTC"},
-        "columns": [
-            {"column": "Motor_current", "quantity": "current", "unit": "A", "compressor": "APU",
-             "volts": VOLTS, "phases": 3, "power_factor": PF_LOADED,
-             "unloaded_power_factor": PF_UNLOADED, "unloaded_below_a": UNLOADED_BELOW_A},
-            {"column": "Reservoirs", "quantity": "pressure", "unit": "bar_g"}]});
-    let r = s.upload(id, "metropt3-sample.csv", &file, &mapping, "");
+    let mapping = metropt_mapping(
+        sample,
+        json!({"volts": VOLTS, "phases": 3, "power_factor": PF_LOADED,
+               "unloaded_power_factor": PF_UNLOADED, "unloaded_below_a": UNLOADED_BELOW_A}),
+    );
+    let r = s.upload(id, &sample.file_name, &sample.bytes, &mapping, "");
     assert_eq!(r.status, 201, "{}", r.text);
     assert_eq!(r.json()["rows"], rows.len(), "{}", r.text);
 
     let sum = summary(&s, id, "");
     let apu = compressor(&sum, "APU");
 
-    // Loaded fraction vs the share of rows with COMP == 0 (the intake valve open: loaded). Truth: the
+    // Loaded fraction vs the share of rows with the valve at 0 (the intake valve open: loaded). Truth: the
     // dataset's own valve signal. 0.05 absolute (the brief's bound) and 20 % relative: the server
     // reads states from the current, on its own time grid, and each of the five loaded periods is
     // only ~10 readings long, so one edge reading each way moves the fraction by ~10 %; the first
-    // reading of a start (4.3 A while the motor comes up) is below the loaded threshold.
+    // reading of a start (while the motor comes up) is below the loaded threshold.
     let comp_loaded = rows.iter().filter(|r| r.3 == 0).count() as f64 / rows.len() as f64;
     let got = num(apu, "/loaded_fraction");
     assert!(
         (got - comp_loaded).abs() < 0.05 && rel_err(got, comp_loaded).abs() < 0.20,
-        "loaded fraction {got} vs COMP {comp_loaded}"
+        "loaded fraction {got} vs the valve {comp_loaded}"
     );
-    // Off most of the time: the current is ~0.04 A between cycles (the dataset's description: ~0 A
+    // Off most of the time: the current is near 0 A between cycles (the dataset's description: ~0 A
     // off). Truth: the share of rows below 1 A, within 0.05.
     let off = rows.iter().filter(|r| r.2 < 1.0).count() as f64 / rows.len() as f64;
     let got_off = num(apu, "/off_fraction");
     assert!((got_off - off).abs() < 0.05, "off fraction {got_off} vs current < 1 A {off}");
 
-    // Load cycles per hour vs COMP 1 -> 0 transitions over the sample's span. 20 %: five cycles in
+    // Load cycles per hour vs the valve's 1 -> 0 transitions over the sample's span. 20 %: five cycles in
     // 2.75 h, and the span the server counts in may differ by a reading at either end.
     let transitions = rows.windows(2).filter(|w| w[0].3 == 1 && w[1].3 == 0).count() as f64;
     let hours = (rows[rows.len() - 1].0 - rows[0].0) / 3600.0;
     let cph_truth = transitions / hours;
     let cph = num(apu, "/cycles_per_hour");
-    assert!(rel_err(cph, cph_truth).abs() < 0.20, "cycles/h {cph} vs COMP {cph_truth}");
+    assert!(rel_err(cph, cph_truth).abs() < 0.20, "cycles/h {cph} vs the valve {cph_truth}");
 
-    // Pressure: the summary's min/max come from the Reservoirs column (bar(g) in and out). The server
+    // Pressure: the summary's min/max come from the reservoir pressure column (bar(g) in and out). The server
     // puts the readings (9-10 s apart) on its own 10 s grid, so a bin may blend neighbouring readings:
     // its extremes lie inside the readings' range, and within the largest step between the extreme
     // reading and its neighbours (the fall right after unloading is 0.05 bar in 9 s).
@@ -626,9 +670,9 @@ fn metropt3_states_and_decay_follow_the_datasets_own_signals() {
     assert!(got_min >= pmin - 1e-3 && got_min <= pmin + tol_min + 1e-3, "min {got_min} vs {pmin}");
     assert!(got_max <= pmax + 1e-3 && got_max >= pmax - tol_max - 1e-3, "max {got_max} vs {pmax}");
 
-    // Decay at the start of the sample: COMP == 1 and ~0.04 A (off) while the reservoir pressure
-    // falls (in the first 1,000 rows: 00:00:00 to 00:22:58, 9.358 -> 8.076 bar(g)). Truth: those
-    // rows of the file. The server must propose a window covering at least the first 10 minutes.
+    // Decay at the start of the sample: the valve at 1 and ~0 A (off) while the reservoir pressure
+    // falls Truth: those rows of
+    // the file. The server must propose a window covering at least the first 10 minutes.
     let off_end = rows.iter().position(|r| r.3 == 0).expect("a loaded row") - 1;
     assert!(
         rows[..=off_end].iter().all(|r| r.2 < 1.0) && rows[off_end].0 - rows[0].0 >= 600.0,
@@ -651,8 +695,8 @@ fn metropt3_states_and_decay_follow_the_datasets_own_signals() {
     assert!((b - rows[off_end].0).abs() <= 20.0, "event ends {b}, last off row {}", rows[off_end].0);
     assert!((num(ev, "/start_pressure_bar_g") - rows[0].1).abs() < 0.03, "{ev}");
     assert!((num(ev, "/end_pressure_bar_g") - rows[off_end].1).abs() < 0.03, "{ev}");
-    // (`all_off` is not asserted: the window's last bin holds the first reading of the start, 4.3 A
-    // with COMP already 0, which the server reads as unloaded; the motor is at ~0.04 A before it.)
+    // (`all_off` is not asserted: the window's last bin holds the first reading of the start, a current
+    // with the valve already at 0, which the server reads as unloaded; the motor is at ~0 A before it.)
     // Its leak flow against the receiver equation evaluated here on the raw rows of the window:
     // Q(p0) = V p0,abs k / p_atm with k the least-squares slope of -ln p_abs against t (the flow of
     // choked leaks ∝ p_abs, API 520 Part I's gas sizing equation), with the same assumed volume. 5 %: the server fits its
@@ -675,23 +719,20 @@ fn metropt3_states_and_decay_follow_the_datasets_own_signals() {
 }
 
 #[test]
-#[cfg_attr(
-    not(has_real_data),
-    ignore = "set AIRLEDGER_REAL_DATA to a folder of real logger files (with metropt3-sample.csv)"
-)]
+#[cfg_attr(not(has_real_data), ignore = "set AIRLEDGER_REAL_DATA to the folder of real logger files")]
 fn metropt3_with_one_power_factor_finds_the_loaded_fraction_of_the_intake_valve() {
     // Issue 17: the current logged with ONE power factor and nothing else (no unloaded power factor,
     // no unloaded fraction, no threshold): power made from current overstates the unloaded level
     // (~0.64 of loaded here), and states read from the data sheet's 25 % took unloaded running for
     // loaded (0.22 against 0.05). The levels found in the data must give the loaded fraction of the
-    // dataset's own intake-valve signal `COMP` (0 = loaded) within 0.02. Truth: MetroPT-3 (Veloso et
-    // al., Scientific Data 9, 764, 2022), its `COMP` column. The rated power posted is a prior only:
+    // dataset's own intake-valve signal (0 = loaded) within 0.02. Truth: MetroPT-3 (Veloso et
+    // al., Scientific Data 9, 764, 2022), its intake-valve column. The rated power posted is a prior only:
     // the test runs with the current-derived loaded power (3.6 kW) and with one 50 % too high.
-    let file = metropt_file();
-    let rows = metropt_rows(&file);
-    assert!(rows.len() >= 500, "metropt3-sample.csv has only {} rows", rows.len());
+    let sample = metropt();
+    let rows = metropt_rows(sample);
+    assert!(rows.len() >= 500, "the sample has only {} rows", rows.len());
     let comp_loaded = rows.iter().filter(|r| r.3 == 0).count() as f64 / rows.len() as f64;
-    // The unloaded level in the data with one power factor: mean current while COMP = 1 and
+    // The unloaded level in the data with one power factor: mean current while the valve is at 1 and
     // running (above 1 A) × √3 × 400 V × 0.85.
     let unl: Vec<f64> = rows.iter().filter(|r| r.3 == 1 && r.2 > 1.0).map(|r| r.2).collect();
     let unl_kw = unl.iter().sum::<f64>() / unl.len() as f64 * 3f64.sqrt() * VOLTS * PF_LOADED / 1000.0;
@@ -710,24 +751,20 @@ fn metropt3_with_one_power_factor_finds_the_loaded_fraction_of_the_intake_valve(
                     "rated_power_kw": rated_kw, "rated_flow_m3_min": 0.5, "rated_pressure_bar_g": 10.0}),
         );
         assert_eq!(r.status, 201, "{}", r.text);
-        let mapping = json!({"delimiter": ",", "decimal": ".", "header_line": 1,
-            "timestamp": {"column": "timestamp", "format": "%Y-%m-%d %H:%M:%S", "timezone": "UTC"},
-            "columns": [
-                {"column": "Motor_current", "quantity": "current", "unit": "A", "compressor": "APU",
-                 "volts": VOLTS, "phases": 3, "power_factor": PF_LOADED},
-                {"column": "Reservoirs", "quantity": "pressure", "unit": "bar_g"}]});
-        let r = s.upload(id, "metropt3-sample.csv", &file, &mapping, "");
+        let mapping =
+            metropt_mapping(sample, json!({"volts": VOLTS, "phases": 3, "power_factor": PF_LOADED}));
+        let r = s.upload(id, &sample.file_name, &sample.bytes, &mapping, "");
         assert_eq!(r.status, 201, "{}", r.text);
         let sum = summary(&s, id, "");
         let apu = compressor(&sum, "APU");
         let got = num(apu, "/loaded_fraction");
         eprintln!(
-            "{rated_kw} kW posted: loaded fraction {got}, COMP {comp_loaded}, levels {}",
+            "{rated_kw} kW posted: loaded fraction {got}, valve {comp_loaded}, levels {}",
             apu["levels_kw"]
         );
         assert!(
             (got - comp_loaded).abs() <= 0.02,
-            "{rated_kw} kW posted: loaded fraction {got} vs COMP {comp_loaded}: {apu}"
+            "{rated_kw} kW posted: loaded fraction {got} vs the valve {comp_loaded}: {apu}"
         );
         // The unloaded level is the data's, not the data sheet's (5 %: the server's 10 s bins
         // blend a reading at each edge of a running stretch).
@@ -738,18 +775,15 @@ fn metropt3_with_one_power_factor_finds_the_loaded_fraction_of_the_intake_valve(
 }
 
 #[test]
-#[cfg_attr(
-    not(has_real_data),
-    ignore = "set AIRLEDGER_REAL_DATA to a folder of real logger files (with metropt3-sample.csv)"
-)]
+#[cfg_attr(not(has_real_data), ignore = "set AIRLEDGER_REAL_DATA to the folder of real logger files")]
 fn metropt3_compressor_off_stretches_are_decay_events_before_a_volume_is_on_record() {
     // Issues 17 and 18: with one power factor and nothing else given (no receiver, no system
     // volume), each stretch of the sample where the compressor is off and the reservoir pressure
     // falls is proposed as a decay event, every compressor off, with its flow waiting for the volume
     // (`null`). Truth: MetroPT-3 (Veloso et al., Scientific Data 9, 764, 2022), the rows whose motor
     // current is under 1 A (the dataset's description: ~0 A when the motor is off): five runs.
-    let file = metropt_file();
-    let rows = metropt_rows(&file);
+    let sample = metropt();
+    let rows = metropt_rows(sample);
     let mut runs: Vec<(usize, usize)> = Vec::new();
     for (i, r) in rows.iter().enumerate() {
         if r.2 < 1.0 {
@@ -772,13 +806,8 @@ fn metropt3_compressor_off_stretches_are_decay_events_before_a_volume_is_on_reco
                 "rated_power_kw": RATED_KW, "rated_flow_m3_min": 0.5, "rated_pressure_bar_g": 10.0}),
     );
     assert_eq!(r.status, 201, "{}", r.text);
-    let mapping = json!({"delimiter": ",", "decimal": ".", "header_line": 1,
-        "timestamp": {"column": "timestamp", "format": "%Y-%m-%d %H:%M:%S", "timezone": "UTC"},
-        "columns": [
-            {"column": "Motor_current", "quantity": "current", "unit": "A", "compressor": "APU",
-             "volts": VOLTS, "phases": 3, "power_factor": PF_LOADED},
-            {"column": "Reservoirs", "quantity": "pressure", "unit": "bar_g"}]});
-    let r = s.upload(id, "metropt3-sample.csv", &file, &mapping, "");
+    let mapping = metropt_mapping(sample, json!({"volts": VOLTS, "phases": 3, "power_factor": PF_LOADED}));
+    let r = s.upload(id, &sample.file_name, &sample.bytes, &mapping, "");
     assert_eq!(r.status, 201, "{}", r.text);
     let r = s.get(&format!("/api/v1/audits/{id}/decay-events"));
     assert_eq!(r.status, 200, "{}", r.text);

@@ -332,8 +332,8 @@ pub fn real_data_dir() -> PathBuf {
         .or_else(|| option_env!("AIRLEDGER_REAL_DATA").filter(|v| !v.is_empty()).map(PathBuf::from))
         .unwrap_or_else(|| {
             panic!(
-                "AIRLEDGER_REAL_DATA is not set: set it to a folder of real logger files (with \
-                 metropt3-sample.csv and realfiles/)"
+                "AIRLEDGER_REAL_DATA is not set: set it to the folder of real logger files (its \
+                 README.md describes them; realfiles/ beside it)"
             )
         })
 }

@@ -1,7 +1,7 @@
 /*!
 A column's quantity, unit and compressor, from everything a person would look at: the units row
 under the names, the bracketed part of the name (`[kW]`, `(m³/min)`), a unit word in the name
-(`C1 kW`, `BP_inHg_Avg`), a neighbouring column that holds the unit in its cells (analysers that
+(`C1 kW`, `Baro_inHg_mean`), a neighbouring column that holds the unit in its cells (analysers that
 write `30,75 <tab> KW`), the upper rows of a multi-row header, and last the quantity's word in the
 name with the unit guessed from the values' range (said in the note).
 
@@ -136,7 +136,7 @@ pub fn electrical(name: &str) -> Option<Electrical> {
     let words: Vec<&str> = l.split(|c: char| !c.is_alphanumeric()).filter(|w| !w.is_empty()).collect();
     let has_word = |ws: &[&str]| words.iter().any(|w| ws.contains(w));
     let sub = |ss: &[&str]| ss.iter().any(|s| l.contains(s));
-    // The symbol glued to `power` (`PowerP_A_avg`, `PowerS_Total`, `PowerQfund_B`).
+    // The symbol glued to `power` (`PowerP_L1_mean`, `PowerS_Sum`, `PowerQfund_L2`).
     let symbol = words.iter().find_map(|w| w.strip_prefix("power").filter(|r| !r.is_empty()));
     let not_active = sub(&[
         "apparent", "reactive", "nonactive", "non-active", "non active", "blind", "schein", "factor",

@@ -52,14 +52,14 @@ fn a_preamble_padded_with_delimiters_is_not_data() {
 #[test]
 fn a_units_row_and_an_aggregation_row_under_quoted_names() {
     let mut file = b"\"TABLE\",\"station\",\"program\"\n\
-        \"TIMESTAMP\",\"RECORD\",\"AirT_Avg\",\"BP_Avg\",\"Flow\"\n\
-        \"TS\",\"RN\",\"\xc2\xb0F\",\"inHg\",\"m3/min\"\n\
-        \"\",\"\",\"Avg\",\"Avg\",\"Smp\"\n"
+        \"Stamp\",\"Row\",\"Hall_T_mean\",\"Baro_mean\",\"Flow\"\n\
+        \"stamp\",\"no.\",\"\xc2\xb0F\",\"inHg\",\"m3/min\"\n\
+        \"\",\"\",\"Mean\",\"Mean\",\"Sample\"\n"
         .to_vec();
     for i in 0..30 {
         file.extend_from_slice(
             format!(
-                "\"2024-04-06 {:02}:{:02}:00\",{i},50.{i},29.7{},12.{}\n",
+                "\"2026-10-06 {:02}:{:02}:00\",{i},50.{i},29.7{},12.{}\n",
                 10 + i / 4,
                 (i % 4) * 15,
                 i % 10,
@@ -78,10 +78,10 @@ fn a_units_row_and_an_aggregation_row_under_quoted_names() {
         let c = col(&s, n);
         (c.quantity.as_deref(), c.unit.as_deref(), c.unit_from.as_deref())
     };
-    assert_eq!(g("AirT_Avg"), (Some("temperature"), Some("F"), Some("units_row")));
-    assert_eq!(g("BP_Avg"), (Some("pressure"), Some("inHg_a"), Some("units_row")));
+    assert_eq!(g("Hall_T_mean"), (Some("temperature"), Some("F"), Some("units_row")));
+    assert_eq!(g("Baro_mean"), (Some("pressure"), Some("inHg_a"), Some("units_row")));
     assert_eq!(g("Flow"), (Some("flow"), Some("m3_min"), Some("units_row")));
-    assert_eq!(col(&s, "AirT_Avg").unit_label.as_deref(), Some("°F"));
+    assert_eq!(col(&s, "Hall_T_mean").unit_label.as_deref(), Some("°F"));
     let m = suggest_mapping(&s);
     assert_eq!((m.units_line, m.first_data_line), (Some(3), Some(5)));
     assert_eq!(import(&file, &s).rows, 30);
@@ -89,8 +89,8 @@ fn a_units_row_and_an_aggregation_row_under_quoted_names() {
 
 #[test]
 fn a_blank_line_between_header_and_data_is_never_the_header() {
-    let mut file = b"LOGGER\tB7\r\n\r\nDatum\t05.06.2026\r\n\r\n\
-        Datum\tUhrzeit\tDurchfluss [l/s]\tT [\xb0C]\t\r\n\r\n"
+    let mut file = b"Messung\tHalle 3\r\n\r\nDatum\t05.06.2026\r\n\r\n\
+        Datum\tZeit\tVolumenstrom [l/s]\tT [\xb0C]\t\r\n\r\n"
         .to_vec();
     for i in 0..20 {
         let v = if i % 3 == 0 { "#-1".to_string() } else { format!("{},{}", i, i % 10) };
@@ -100,7 +100,7 @@ fn a_blank_line_between_header_and_data_is_never_the_header() {
     assert_eq!((s.delimiter.as_str(), s.decimal.as_str()), ("\t", ","));
     assert_eq!((s.header_line, s.first_data_line), (5, 7));
     assert_eq!(s.markers_seen, ["#-1"]);
-    let flow = col(&s, "Durchfluss [l/s]");
+    let flow = col(&s, "Volumenstrom [l/s]");
     assert!(flow.numeric);
     assert_eq!((flow.quantity.as_deref(), flow.unit.as_deref()), (Some("flow"), Some("l_s")));
     let r = import(&file, &s);
@@ -110,14 +110,14 @@ fn a_blank_line_between_header_and_data_is_never_the_header() {
 
 #[test]
 fn a_three_row_header_takes_the_lowest_full_row_for_names() {
-    let mut file = b"Report Date:;08.04.2014\r\nDevice;sonde\r\n\r\nLog Data:\r\nRecord Count;20\r\n\r\n\
-        ;;Sensor: Cond;Sensor: Temp;\r\n;Elapsed Time;SN#: 1927;SN#: 1927;\r\n\
-        Date and Time;Seconds;Actual Conductivity (\xb5S);Temperature (C);\r\n"
+    let mut file = b"Printed on:;02.11.2026\r\nInstrument;probe 4\r\n\r\nLogged values:\r\nCount;20\r\n\r\n\
+        ;;Probe: EC;Probe: T;\r\n;Elapsed;Serial 5501;Serial 5501;\r\n\
+        Date and Time;Seconds;Specific Conductance (\xb5S);Temperature (C);\r\n"
         .to_vec();
     for i in 0..20 {
         file.extend_from_slice(
             format!(
-                "19.03.2014 16:{:02}:22;{:>12};{:>20};{:>12};\r\n",
+                "21.10.2026 16:{:02}:22;{:>12};{:>20};{:>12};\r\n",
                 i,
                 i * 60,
                 590 + i,
@@ -142,14 +142,14 @@ fn names_and_bracketed_units_rows_after_a_long_preamble() {
         file.extend_from_slice(format!("PARAM {i:02}          : {}\r\n", i * 3).as_bytes());
     }
     file.extend_from_slice(
-        b"\\DATA\r\n\\*\tDATE_TIME\tQ_VOL\tV_SOUND\tSIGNAL\t\r\n\\#\t\t[m3/h]\t[m/s]\t[dB]\t\r\n",
+        b"\\DATA\r\n\\*\tDATE_TIME\tFLOW_VOL\tC_SOUND\tGAIN\t\r\n\\#\t\t[m3/h]\t[m/s]\t[dB]\t\r\n",
     );
     for i in 0..30 {
         file.extend_from_slice(format!("A\t14.05.2026 12:25:{i:02}\t87,{i}\t1482,3\t72\t\r\n").as_bytes());
     }
     let s = sniff(&file).unwrap();
     assert_eq!((s.header_line, s.units_line, s.first_data_line), (38, Some(39), 40));
-    let m = col(&s, "Q_VOL");
+    let m = col(&s, "FLOW_VOL");
     assert_eq!(
         (m.quantity.as_deref(), m.unit.as_deref(), m.unit_label.as_deref()),
         (Some("flow"), Some("m3_h"), Some("m³/h"))
@@ -159,12 +159,12 @@ fn names_and_bracketed_units_rows_after_a_long_preamble() {
 
 #[test]
 fn interval_timestamps_are_proposed_with_their_start_and_the_named_zone() {
-    let mut file = b"\"Time (CET/CEST)\",\"Load [MW] - zone\"\n".to_vec();
+    let mut file = b"\"Time (CET/CEST)\",\"Feeder load [MW] - west\"\n".to_vec();
     for i in 0..20 {
         let (a, b) = (i * 15, i * 15 + 15);
         file.extend_from_slice(
             format!(
-                "\"01.01.2021 {:02}:{:02} - 01.01.2021 {:02}:{:02}\",\"{}\"\n",
+                "\"01.01.2026 {:02}:{:02} - 01.01.2026 {:02}:{:02}\",\"{}\"\n",
                 a / 60,
                 a % 60,
                 b / 60,
@@ -178,15 +178,15 @@ fn interval_timestamps_are_proposed_with_their_start_and_the_named_zone() {
     let t = s.timestamp.as_ref().unwrap();
     assert_eq!((t.format.as_str(), t.interval), ("%d.%m.%Y %H:%M", Some(IntervalEnd::Start)));
     assert_eq!(t.timezone.as_deref(), Some("Europe/Berlin"));
-    assert_eq!(col(&s, "Load [MW] - zone").unit.as_deref(), Some("MW"));
+    assert_eq!(col(&s, "Feeder load [MW] - west").unit.as_deref(), Some("MW"));
     let r = import(&file, &s);
     // 00:00 CET is 23:00 UTC on the day before.
-    assert_eq!(r.first_ms, Some("2020-12-31T23:00:00Z".parse::<jiff::Timestamp>().unwrap().as_millisecond()));
+    assert_eq!(r.first_ms, Some("2025-12-31T23:00:00Z".parse::<jiff::Timestamp>().unwrap().as_millisecond()));
 }
 
 #[test]
 fn a_time_column_left_of_the_date_column() {
-    let mut file = b"Identification: well 2\tSN: 17\r\nMinimum 7.335 mWS\tMaximum 7.349 mWS\t\r\n\
+    let mut file = b"Station: bore 2\tserial 17\r\nLowest 7.335 mWS\tHighest 7.349 mWS\t\r\n\
         Time\tDate\tPressure [mWS]\tTemperature [\xb0C]\t\r\n"
         .to_vec();
     for i in 0..20 {
@@ -238,7 +238,7 @@ fn day_or_month_first_is_decided_by_the_whole_sample_and_asked_only_when_it_cann
 
 #[test]
 fn a_value_column_followed_by_a_unit_column_takes_its_unit() {
-    let mut file = b"Position\tDate\tTime\tP(SUM)\tUnit\tWH\tUnit\tFREQ\tUnit\r\n".to_vec();
+    let mut file = b"Slot\tDate\tTime\tP(TOT)\tUnit\tEP\tUnit\tFREQ\tUnit\r\n".to_vec();
     for i in 0..20 {
         file.extend_from_slice(
             format!("0\t14.05.2026\t12:30:{:02}\t30,{i}\tKW  \t3,{i}\tKWH   \t50\tHz  \r\n", i * 2)
@@ -250,31 +250,31 @@ fn a_value_column_followed_by_a_unit_column_takes_its_unit() {
         let c = col(&s, n);
         (c.quantity.as_deref(), c.unit.as_deref(), c.unit_from.as_deref())
     };
-    assert_eq!(g("P(SUM)"), (Some("power"), Some("kW"), Some("unit_column")));
-    assert_eq!(g("WH"), (Some("energy"), Some("kWh"), Some("unit_column")));
+    assert_eq!(g("P(TOT)"), (Some("power"), Some("kW"), Some("unit_column")));
+    assert_eq!(g("EP"), (Some("energy"), Some("kWh"), Some("unit_column")));
     assert_eq!(g("FREQ"), (None, None, None));
     // The repeated "Unit" names cannot be named by a mapping; the mapped ones are unique.
     let m = suggest_mapping(&s);
-    assert_eq!(m.columns.iter().map(|c| c.column.as_str()).collect::<Vec<_>>(), ["P(SUM)", "WH"]);
+    assert_eq!(m.columns.iter().map(|c| c.column.as_str()).collect::<Vec<_>>(), ["P(TOT)", "EP"]);
     assert_eq!(import(&file, &s).rows, 20);
 }
 
 #[test]
 fn markers_and_repeated_text_in_numeric_columns() {
-    let mut file = b"Timestamp_Start;PowerP_Total_avg;Flow [m3/min];Note\n".to_vec();
+    let mut file = b"Interval_Start;PowerP_Sum_mean;Flow [m3/min];Note\n".to_vec();
     for i in 0..20 {
         let (p, f) = match i % 5 {
             0 => ("1.#QNAN", "Err:502"),
             1 => ("#VALUE!", "7,5"),
             _ => ("41,5", "7,9"),
         };
-        file.extend_from_slice(format!("2014-04-14 17:09:{i:02};{p};{f};ok\n").as_bytes());
+        file.extend_from_slice(format!("2026-04-14 17:09:{i:02};{p};{f};ok\n").as_bytes());
     }
     let s = sniff(&file).unwrap();
     assert_eq!(s.decimal, ",");
     assert_eq!(s.markers_seen, ["1.#QNAN", "#VALUE!"]);
     assert_eq!(s.missing_markers, ["Err:502"]);
-    let p = col(&s, "PowerP_Total_avg");
+    let p = col(&s, "PowerP_Sum_mean");
     assert!(p.numeric);
     assert_eq!((p.quantity.as_deref(), p.unit.as_deref()), (Some("power"), Some("kW")));
     assert!(p.note.as_deref().unwrap().contains("no unit in the file"));
@@ -287,16 +287,16 @@ fn markers_and_repeated_text_in_numeric_columns() {
 
 #[test]
 fn barometric_hectopascals_and_watts_from_the_values_range() {
-    let mut file = b"time,ac_power,pressure,reactive_power\n".to_vec();
+    let mut file = b"time,supply_power,pressure,reactive_power\n".to_vec();
     for i in 0..20 {
         file.extend_from_slice(
-            format!("2022-03-18 04:{i:02}:00,{},101{}.5,0.4\n", 3000 + i * 50, i % 10).as_bytes(),
+            format!("2026-03-18 04:{i:02}:00,{},101{}.5,0.4\n", 3000 + i * 50, i % 10).as_bytes(),
         );
     }
     let s = sniff(&file).unwrap();
     // Reactive power is not a compressor's power draw.
     assert_eq!(col(&s, "reactive_power").quantity, None);
-    assert_eq!(col(&s, "ac_power").unit.as_deref(), Some("W"));
+    assert_eq!(col(&s, "supply_power").unit.as_deref(), Some("W"));
     let p = col(&s, "pressure");
     assert_eq!((p.unit.as_deref(), p.unit_from.as_deref()), (Some("mbar_a"), Some("values")));
     assert!(p.note.as_deref().unwrap().contains("mbar(a)"), "{:?}", p.note);

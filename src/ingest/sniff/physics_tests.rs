@@ -32,17 +32,17 @@ fn file(header: &str, rows: &[String]) -> Vec<u8> {
 fn names_of_apparent_reactive_and_active_power() {
     // IEC 60050-131 / IEEE 1459: S apparent (VA), Q reactive (var), N non-active, P active.
     for n in [
-        "PowerS_B_max",
-        "PowerQ_Total_avg",
-        "PowerN_C_min",
-        "PowerSfund_A",
-        "PowerPfund_Total_avg",
+        "PowerS_C_peak",
+        "PowerQ_Sum_mean",
+        "PowerN_A_low",
+        "PowerSfund_B",
+        "PowerPfund_Sum_mean",
         "S_total",
         "Q L2",
         "Apparent power",
         "kVA L1",
         "Line 2 kvar",
-        "NonActiveEnergy_Total",
+        "NonActiveEnergy_Sum",
         "Blindleistung",
         "PowerFactor_L1",
         "PF total",
@@ -50,14 +50,14 @@ fn names_of_apparent_reactive_and_active_power() {
         assert_eq!(electrical(n), Some(Electrical::NotActive), "{n}");
         assert_eq!(quantity_word(n), None, "{n}");
     }
-    for n in ["PowerP_C_min", "P_total", "Ptot", "P L3", "Active power", "real_power", "ActiveEnergy_B"] {
+    for n in ["PowerP_B_low", "P_total", "Ptot", "P L3", "Active power", "real_power", "ActiveEnergy_C"] {
         assert_eq!(electrical(n), Some(Electrical::Active), "{n}");
     }
-    assert_eq!(quantity_word("PowerP_A_avg"), Some("power"));
+    assert_eq!(quantity_word("PowerP_C_mean"), Some("power"));
     assert_eq!(quantity_word("P_sum"), Some("power"));
     // `Irms_C`: an rms current on phase C, not degrees Celsius.
-    assert_eq!(quantity_word("Irms_C_max"), Some("current"));
-    assert_eq!(quantity_word("ActiveEnergy_Total"), Some("energy"));
+    assert_eq!(quantity_word("Irms_C_peak"), Some("current"));
+    assert_eq!(quantity_word("ActiveEnergy_Sum"), Some("energy"));
     // A bare `P` is as often a pressure: no guess. `real` beside another quantity is that one.
     assert_eq!(quantity_word("P1"), None);
     assert_eq!(quantity_word("Real time flow"), Some("flow"));
@@ -68,14 +68,14 @@ fn names_of_apparent_reactive_and_active_power() {
 #[test]
 fn active_power_is_proposed_and_apparent_or_reactive_never() {
     let rows: Vec<String> = (0..12).map(|i| format!("{};{};{};{}", 30 + i, 36 + i, 12, 40 + i)).collect();
-    let s = sniff(&file("PowerP_L1_avg;PowerS_L1_avg;PowerQ_L1_avg;Apparent power [kW]", &rows)).unwrap();
-    assert_eq!(q_u(&s, "PowerP_L1_avg"), some("power", "kW"));
-    for n in ["PowerS_L1_avg", "PowerQ_L1_avg", "Apparent power [kW]"] {
+    let s = sniff(&file("PowerP_L1_mean;PowerS_L1_mean;PowerQ_L1_mean;Apparent power [kW]", &rows)).unwrap();
+    assert_eq!(q_u(&s, "PowerP_L1_mean"), some("power", "kW"));
+    for n in ["PowerS_L1_mean", "PowerQ_L1_mean", "Apparent power [kW]"] {
         assert_eq!(q_u(&s, n), (None, None), "{n}");
         assert!(col(&s, n).note.as_deref().unwrap().contains("apparent"), "{n}");
     }
     let m = suggest_mapping(&s);
-    assert_eq!(m.columns.iter().map(|c| c.column.as_str()).collect::<Vec<_>>(), vec!["PowerP_L1_avg"]);
+    assert_eq!(m.columns.iter().map(|c| c.column.as_str()).collect::<Vec<_>>(), vec!["PowerP_L1_mean"]);
     // The same names with readings in watts: above one machine's kW, so W.
     let rows: Vec<String> = (0..12).map(|i| format!("{};{}", 3_000 + 10 * i, 3_600 + 10 * i)).collect();
     let s = sniff(&file("P_total;S_total", &rows)).unwrap();
@@ -86,17 +86,17 @@ fn active_power_is_proposed_and_apparent_or_reactive_never() {
 #[test]
 fn an_active_power_column_of_nothing_but_markers_is_proposed_with_a_note() {
     let rows: Vec<String> = (0..6).map(|i| format!("1.#QNAN;{};1.#QNAN", 20 + i)).collect();
-    let s = sniff(&file("PowerP_Total_max;PowerS_Total_max;Irms_C_avg", &rows)).unwrap();
+    let s = sniff(&file("PowerP_Sum_peak;PowerS_Sum_peak;Irms_C_mean", &rows)).unwrap();
     // A current on phase C, not a temperature in °C.
-    assert_ne!(col(&s, "Irms_C_avg").quantity.as_deref(), Some("temperature"));
-    let p = col(&s, "PowerP_Total_max");
+    assert_ne!(col(&s, "Irms_C_mean").quantity.as_deref(), Some("temperature"));
+    let p = col(&s, "PowerP_Sum_peak");
     assert!(p.numeric);
-    assert_eq!(q_u(&s, "PowerP_Total_max"), some("power", "kW"));
+    assert_eq!(q_u(&s, "PowerP_Sum_peak"), some("power", "kW"));
     assert!(p.note.as_deref().unwrap().contains("no reading"), "{:?}", p.note);
-    assert_eq!(q_u(&s, "PowerS_Total_max"), (None, None));
+    assert_eq!(q_u(&s, "PowerS_Sum_peak"), (None, None));
     // An energy counter with no reading has nothing to judge its unit from: not proposed.
-    let s = sniff(&file("ActiveEnergy_Total;x;y", &rows)).unwrap();
-    assert_eq!(q_u(&s, "ActiveEnergy_Total"), (None, None));
+    let s = sniff(&file("ActiveEnergy_Sum;x;y", &rows)).unwrap();
+    assert_eq!(q_u(&s, "ActiveEnergy_Sum"), (None, None));
 }
 
 #[test]
