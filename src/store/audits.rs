@@ -495,6 +495,19 @@ pub async fn uploads(pool: &SqlitePool, audit_id: i64) -> Result<Vec<UploadRecor
 /// the revision. `false` if the audit has no such complete upload.
 pub async fn delete_upload(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
     let mut tx = begin_write(pool).await?;
+    // The mapping this import used is remembered for its layout; a person deletes an import most
+    // often because that mapping was wrong, so it is forgotten with the import unless another
+    // import (of any audit) still uses the very same mapping.
+    sqlx::query(
+        "DELETE FROM remembered_mapping WHERE mapping = \
+           (SELECT mapping FROM upload WHERE id = ?1 AND audit_id = ?2 AND state = 'complete') \
+         AND NOT EXISTS (SELECT 1 FROM upload u WHERE u.mapping = remembered_mapping.mapping \
+           AND u.id <> ?1 AND u.state = 'complete')",
+    )
+    .bind(id)
+    .bind(audit_id)
+    .execute(&mut *tx)
+    .await?;
     let n = sqlx::query("DELETE FROM upload WHERE id = ? AND audit_id = ? AND state = 'complete'")
         .bind(id)
         .bind(audit_id)

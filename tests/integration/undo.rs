@@ -112,6 +112,35 @@ fn deleting_an_upload_leaves_the_figures_of_the_remaining_file_and_the_bytes_imp
 }
 
 #[test]
+fn a_deleted_import_takes_its_mapping_out_of_memory_unless_another_import_uses_it() {
+    // A wrong mapping (C1's power said to be in W) is remembered for the file's layout and offered
+    // for the next file of that layout; deleting the import is how a person says it was wrong, so
+    // the sniff must offer it no longer. A mapping another import still uses stays remembered.
+    let s = Server::start();
+    let a = s.audit_with_compressor("C1");
+    let b = s.audit_with_compressor("C1");
+    let csv = plant_csv(DAY1, 1, 56.0, 14.0);
+    let remembered = |audit: i64| {
+        let r = s.sniff(audit, "day1.csv", csv.as_bytes());
+        assert_eq!(r.status, 200, "{}", r.text);
+        r.json()["remembered_mapping"].clone()
+    };
+    assert!(remembered(a).is_null(), "nothing remembered before the first import");
+    let wrong = mapping_with_power_unit("W");
+    let up = upload_ok(&s, a, "day1.csv", &csv, &wrong);
+    assert_eq!(remembered(a)["columns"][0]["unit"], "W", "the import's mapping is remembered");
+    let id = up["upload_id"].as_i64().unwrap();
+    assert_eq!(s.delete(&format!("/api/v1/audits/{a}/uploads/{id}")).status, 204);
+    assert!(remembered(a).is_null(), "a deleted import's mapping is still offered: {}", remembered(a));
+
+    // The same mapping used by imports in two audits: deleting one keeps it for the other.
+    let first = upload_ok(&s, a, "day1.csv", &csv, &wrong)["upload_id"].as_i64().unwrap();
+    upload_ok(&s, b, "day1.csv", &csv, &wrong);
+    assert_eq!(s.delete(&format!("/api/v1/audits/{a}/uploads/{first}")).status, 204);
+    assert_eq!(remembered(a)["columns"][0]["unit"], "W", "still used by audit {b}'s import");
+}
+
+#[test]
 fn a_remap_corrects_a_wrong_unit_to_the_figures_of_a_fresh_import() {
     // Arrange: kW logged, mapped as W by mistake; a twin audit imported right.
     let s = Server::start();
