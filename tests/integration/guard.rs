@@ -135,6 +135,9 @@ fn three_files_apart_in_time_give_no_annual_figure_and_say_why() {
     let findings = s.get(&format!("/audits/{id}/findings")).text;
     assert!(findings.contains("data-verdict=\"insufficient\""));
     assert!(findings.contains("not enough data"));
+    // The printed findings say why there is no measure, not an empty table under its headings.
+    assert!(findings.contains("No measure is proposed: the logged data are not enough"));
+    assert!(!findings.contains("id=\"recommendations\""), "an empty measures table in the findings");
     // A dryer on record and a bleed-down: priced on a mean flow the data cannot carry, they would
     // give shares of thousands of percent. The dryer stays on record, unpriced; the leak flow stands,
     // its share of demand does not.
@@ -188,4 +191,11 @@ fn the_demo_keeps_every_invariant_and_has_enough_data() {
     for r in recs.iter().filter(|r| r["electricity"] == true) {
         assert!(f(&r["annual_energy_saving_kwh"]) <= annual, "{r}");
     }
+    // The printed findings carry each leak estimate under the table's headings, one row each.
+    let findings = s.get("/audits/1/findings").text;
+    let table = findings.split("id=\"leak-estimates\"").nth(1).expect("a leak estimates table");
+    let table = &table[..table.find("</table>").unwrap()];
+    assert!(table.contains("<th>Leak estimate, by method</th>"), "{table}");
+    let estimates = sm["leaks"]["estimates"].as_array().unwrap().len();
+    assert_eq!(table.matches("<tr>").count(), 1 + estimates, "{table}");
 }

@@ -194,6 +194,9 @@ pub(super) fn repair_leaks(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plan
     let per = r.marginal_kw_per_m3_min * p.power_factor;
     let cut = p.demand_cut(r, dq);
     let kwh = cut.0 + cut.1;
+    // The repaired air at the marginal rate over every hour priced: what the Leaks card's cost
+    // says of this share of the leaks. Below it when the trim has less than that above idle.
+    let uncapped = dq * per * p.demand_hours;
     let (lo, hi) = demand_rel(r, true);
     let (low_kwh, high_kwh) = band(kwh, lo, hi);
     let mut next = p.clone();
@@ -222,7 +225,16 @@ pub(super) fn repair_leaks(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plan
                 format!(" ({trim_tag}, × {:.3} for the pressure)", p.power_factor)
             ],
             text![format!("hours priced {:.0} h/yr", p.demand_hours)],
-        ],
+        ]
+        .into_iter()
+        .chain((kwh < 0.99 * uncapped).then(|| {
+            text![format!(
+                "held at what {trim_tag} draws above idle: {kwh:.0} kWh/yr of the {uncapped:.0} kWh/yr \
+                 the repaired air takes at the marginal rate (the Leaks card's rate); below idle the \
+                 trim saves no more, and what the other machines would save depends on their control"
+            )]
+        }))
+        .collect(),
         formula: "saving = f × Q_leak × marginal kW/(m³/min) × hours (≤ trim energy above idle)",
         source: "US DOE compressed-air sourcebook (leaks fact sheet); priced at the marginal (trim) specific power",
         method: "air not made, at the trim's part-load slope, over the hours left; range from the leak estimate, ±15 % slope and the annual hours (US DOE sourcebook, leaks)",

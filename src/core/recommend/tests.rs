@@ -229,13 +229,17 @@ fn leak_repair_is_priced_at_the_load_unload_marginal_curve() {
     let x = leak.annual_energy_saving_kwh;
     assert!((leak.annual_energy_saving_kwh_low - x * (1.0 - lo)).abs() < 1e-6);
     assert!((leak.annual_energy_saving_kwh_high - x * (1.0 + hi)).abs() < 1e-6);
-    // Capped at the trim's energy above idle.
+    assert!(!leak.basis.iter().any(|b| b.contains("held at")), "no cap here: {:?}", leak.basis);
+    // Capped at the trim's energy above idle; the basis says so, with the repaired air's energy
+    // at the marginal rate (the Leaks card's rate) beside it.
     let ms = vec![MachineUse { annual_above_idle_kwh: 1000.0, ..trim_use() }];
     let mut costs = CostOverrides::default();
     costs.options.excluded = vec![MeasureKind::LowerPressure];
     let r = recommend(&input(&s, &cs, &ms, &costs), &si(&s));
     let leak = r.iter().find(|x| x.kind == MeasureKind::RepairLeaks).unwrap();
     assert_eq!(leak.annual_energy_saving_kwh, 1000.0);
+    let held = format!("held at what C1 draws above idle: 1000 kWh/yr of the {expect:.0} kWh/yr");
+    assert!(leak.basis.iter().any(|b| b.contains(&held)), "{held} not in {:?}", leak.basis);
 }
 
 /// Reads a reference value from the fixture written by tests/reference/make_reference.py.

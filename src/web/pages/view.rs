@@ -438,7 +438,11 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
                     String::new()
                 },
                 leaks.annual_leak_cost.map_or_else(String::new, |c| {
-                    format!("annual leak cost {} at the trim machine's marginal specific power", money(c))
+                    format!(
+                        "annual leak cost {}: all of the leaks' air at the trim machine's marginal \
+                         specific power; the repair measure counts only what the trim would stop drawing",
+                        money(c)
+                    )
                 }),
             ]
             .into_iter()
