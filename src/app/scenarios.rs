@@ -116,6 +116,9 @@ impl App {
             crate::site::read_json(body.clone(), "this scenario").map_err(Error::from)?;
         // Checked before anything is read, so a wrong scenario gets its own error first.
         scenario.check_in(b.audit.site.display_units).map_err(|e| Error::field(&e.field, e.message))?;
+        scenario
+            .check_plant_in(&b.specs(), b.audit.site.display_units)
+            .map_err(|e| Error::field(&e.field, e.message))?;
         let Some(frame) = self.frame_for(&b, None).await? else {
             return Err(Error::field(
                 "changes",

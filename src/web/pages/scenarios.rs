@@ -94,6 +94,9 @@ struct ScenariosPage {
     inp: Inputs,
     has_data: bool,
     editing: Option<String>,
+    /// The target pressure's floor in the reader's units: the plant's low limit, else 0 gauge
+    /// (`Scenario::check_plant_in`).
+    target_min: String,
 }
 
 pub async fn scenarios(
@@ -196,6 +199,8 @@ pub async fn scenarios(
         inp: Inputs::new(fmt.units),
         has_data: !b.uploads.is_empty(),
         editing,
+        target_min: Inputs::new(fmt.units)
+            .p(crate::core::model::low_limit_bar_g(&b.specs()).unwrap_or(0.0).max(0.0)),
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         rows,
         audit: b.audit,
