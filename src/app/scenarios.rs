@@ -27,6 +27,9 @@ pub struct ScenarioOutcome {
     pub supply_side_only: Option<bool>,
     #[serde(default)]
     pub problems: Vec<String>,
+    /// `problems` in parts, one for one (none in a result stored before they were kept).
+    #[serde(default)]
+    pub problem_parts: Vec<Vec<crate::core::recommend::Part>>,
     pub implementation_cost: Option<f64>,
     /// `given` or `default_estimate`.
     pub implementation_cost_source: Option<String>,

@@ -163,7 +163,11 @@ pub async fn scenarios(
                 min_pressure: fmt.pressure_bar_g(nan(r.min_pressure_bar_g)),
                 below: fmt.hours(nan(r.time_below_min_required_s) / 3600.0),
                 validation: fmt.percent(validation_error),
-                problems: r.problems.clone(),
+                problems: if r.problem_parts.len() == r.problems.len() {
+                    r.problem_parts.iter().map(|p| crate::core::display::render_parts(p, &fmt)).collect()
+                } else {
+                    r.problems.clone()
+                },
                 cost: format!(
                     "{} ({})",
                     fmt.money(nan(r.implementation_cost), &cur),
