@@ -268,7 +268,7 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
         problem_parts.push(vec![
             Part::from("no compressor is left to meet the peak demand of "),
             recommend::flow(peak),
-            Part::from(" (1-minute mean)"),
+            Part::from(" (the replayed demand's highest mean over any minute)"),
         ]);
     } else if peak > capacity * (1.0 + 1e-9) {
         problem_parts.push(vec![
@@ -276,7 +276,7 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
             recommend::flow(capacity),
             Part::from(" is below the peak demand of "),
             recommend::flow(peak),
-            Part::from(" (1-minute mean), short by "),
+            Part::from(" (the replayed demand's highest mean over any minute), short by "),
             recommend::flow(peak - capacity),
         ]);
     }
