@@ -27,6 +27,9 @@ pub struct ScenarioOutcome {
     pub supply_side_only: Option<bool>,
     #[serde(default)]
     pub problems: Vec<String>,
+    /// `problems` in parts, one for one (none in a result stored before they were kept).
+    #[serde(default)]
+    pub problem_parts: Vec<Vec<crate::core::recommend::Part>>,
     pub implementation_cost: Option<f64>,
     /// `given` or `default_estimate`.
     pub implementation_cost_source: Option<String>,
@@ -116,6 +119,9 @@ impl App {
             crate::site::read_json(body.clone(), "this scenario").map_err(Error::from)?;
         // Checked before anything is read, so a wrong scenario gets its own error first.
         scenario.check_in(b.audit.site.display_units).map_err(|e| Error::field(&e.field, e.message))?;
+        scenario
+            .check_plant_in(&b.specs(), b.audit.site.display_units)
+            .map_err(|e| Error::field(&e.field, e.message))?;
         let Some(frame) = self.frame_for(&b, None).await? else {
             return Err(Error::field(
                 "changes",

@@ -7,7 +7,8 @@ Flows always say what they are: free air (volume at the site's inlet conditions,
 
 use super::recommend::{Part, Quantity};
 use super::units::{
-    kw_per_100cfm, FreeAirFlow, PressureAbs, Temperature, UnitSystem, Volume, M3_PER_FT3, PA_PER_BAR,
+    kw_per_100cfm, FreeAirFlow, PressureAbs, Temperature, UnitSystem, Volume, M3_PER_FT3, M3_PER_US_GAL,
+    PA_PER_BAR,
 };
 
 /// A number with thousands separators and `decimals` decimals; `-` for a missing value.
@@ -100,6 +101,38 @@ impl Fmt {
         match self.units {
             UnitSystem::Si => format!("{} bar", num(bar, 2)),
             UnitSystem::Us => format!("{} psi", num(bar * PA_PER_BAR / super::units::PA_PER_PSI, 1)),
+        }
+    }
+    /// A temperature difference: K (SI), °F (US; NIST SP 811: 1 K = 1.8 °F as an interval).
+    pub fn temperature_difference_k(&self, k: impl Num) -> String {
+        let k = k.f();
+        match self.units {
+            UnitSystem::Si => format!("{} K", num(k, sig(k).min(1))),
+            UnitSystem::Us => format!("{} °F", num(k * 1.8, sig(k * 1.8).min(1))),
+        }
+    }
+    /// An altitude or a length: m (SI), ft (US; NIST SP 811: 1 ft = 0.3048 m exactly).
+    pub fn altitude_m(&self, m: impl Num) -> String {
+        let m = m.f();
+        match self.units {
+            UnitSystem::Si => format!("{} m", num(m, 0)),
+            UnitSystem::Us => format!("{} ft", num(m / 0.3048, 0)),
+        }
+    }
+    /// An absolute pressure given in kPa: kPa abs (SI), psia (US).
+    pub fn pressure_abs_kpa(&self, kpa: impl Num) -> String {
+        let kpa = kpa.f();
+        match self.units {
+            UnitSystem::Si => format!("{} kPa abs", num(kpa, 2)),
+            UnitSystem::Us => format!("{} psia", num(kpa * 1000.0 / super::units::PA_PER_PSI, 2)),
+        }
+    }
+    /// Storage per unit of flow: m³ per m³/min (SI), US gal/cfm (US, the trade's rule-of-thumb unit).
+    pub fn storage_per_flow(&self, m3_per_m3_min: impl Num) -> String {
+        let v = m3_per_m3_min.f();
+        match self.units {
+            UnitSystem::Si => format!("{} m³ per m³/min", num(v, 2)),
+            UnitSystem::Us => format!("{} US gal/cfm", num(v * M3_PER_FT3 / M3_PER_US_GAL, 1)),
         }
     }
     pub fn flow_m3_min(&self, q: impl Num) -> String {
@@ -216,6 +249,12 @@ pub fn render_parts(parts: &[Part], fmt: &Fmt) -> String {
             Part::Figure { quantity: Quantity::PressureBarG, value } => fmt.pressure_bar_g(*value),
             Part::Figure { quantity: Quantity::SpecificPowerKwPerM3Min, value } => fmt.specific_power(*value),
             Part::Figure { quantity: Quantity::PressureDropBar, value } => fmt.pressure_delta_bar(*value),
+            Part::Figure { quantity: Quantity::VolumeM3, value } => fmt.volume_m3(*value),
+            Part::Figure { quantity: Quantity::StorageM3PerM3Min, value } => fmt.storage_per_flow(*value),
+            Part::Figure { quantity: Quantity::TemperatureDifferenceK, value } => {
+                fmt.temperature_difference_k(*value)
+            }
+            Part::Figure { quantity: Quantity::PressureKpaAbs, value } => fmt.pressure_abs_kpa(*value),
         })
         .collect()
 }
@@ -276,5 +315,16 @@ mod tests {
         assert_eq!(us.specific_power(6.357), "18.0 kW/100 cfm");
         assert_eq!(si.temperature_c(20.0), "20.0 °C");
         assert_eq!(us.temperature_c(20.0), "68 °F");
+        // NIST SP 811 B.8: 1 psi = 6.894757 kPa, so 99.18 kPa = 14.385 psia; 1 K = 1.8 °F as an interval.
+        assert_eq!(si.pressure_abs_kpa(99.18), "99.18 kPa abs");
+        assert_eq!(us.pressure_abs_kpa(99.18), "14.38 psia");
+        assert_eq!(si.temperature_difference_k(10.0), "10.0 K");
+        // 180 m / 0.3048 m/ft = 590.55 ft.
+        assert_eq!(us.altitude_m(180.0), "591 ft");
+        assert_eq!(si.altitude_m(180.0), "180 m");
+        assert_eq!(us.temperature_difference_k(10.0), "18.0 °F");
+        // 1 m³ per m³/min = 1 ft³/cfm = 7.48052 US gal/cfm (231 in³ a gallon, 1728 in³ a cubic foot).
+        assert_eq!(us.storage_per_flow(0.5), "3.7 US gal/cfm");
+        assert_eq!(si.storage_per_flow(0.5), "0.50 m³ per m³/min");
     }
 }

@@ -98,6 +98,16 @@ impl CompressorKind {
     }
 }
 
+/// The header's low limit lies this far below the lowest rated pressure, bar (common practice):
+/// the pressure figures' band, and the floor of a what-if's target pressure.
+pub const LOW_LIMIT_BELOW_RATED_BAR: f64 = 1.0;
+
+/// The plant's low limit, bar(g): its lowest rated pressure less [`LOW_LIMIT_BELOW_RATED_BAR`]
+/// (`None`: no compressor on record).
+pub fn low_limit_bar_g(compressors: &[CompressorSpec]) -> Option<f64> {
+    compressors.iter().map(|c| c.rated_pressure_bar_g).reduce(f64::min).map(|p| p - LOW_LIMIT_BELOW_RATED_BAR)
+}
+
 /// One compressor as its data sheet states it: the one compressor type of the analysis, the replay
 /// and the audit's records (`site::CompressorRecord` wraps it with its id and notes; a scenario's added
 /// machine is posted in the same shape, `core::datasheet::DataSheetInput`, whose module doc gives the

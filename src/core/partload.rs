@@ -56,6 +56,7 @@ running time (load/unload), its mean delivery while running (variable speed), el
 use serde::{Deserialize, Serialize};
 
 use super::model::{CompressorSpec, Control};
+use super::recommend::{self as text, Part};
 use super::states;
 
 pub mod fit;
@@ -379,34 +380,59 @@ impl PartLoadModel {
         self
     }
 
-    /// The model in words, SI (the methods' and assumptions' lines).
+    /// The model in words, SI (the JSON's strings): [`Self::describe_parts`] rendered in SI.
     pub fn describe(&self) -> String {
-        let mut s = format!(
+        let si = super::display::Fmt::new(
+            super::units::UnitSystem::Si,
+            super::units::PressureAbs(super::units::P_STD_ATM),
+        );
+        super::display::render_parts(&self.describe_parts(), &si)
+    }
+
+    /// The model in words with its figures as parts (the methods' and assumptions' lines, the
+    /// control measure's basis), so each page renders them in its reader's units.
+    pub fn describe_parts(&self) -> Vec<Part> {
+        let mut s: Vec<Part> = vec![Part::Words(format!(
             "{} ({}): {} at {:.0} % load",
             self.machine,
             self.control.label(),
             self.curve.replace('_', " "),
             self.load_fraction * 100.0
-        );
-        if let (Some(v), Some(g)) = (self.storage_m3, self.storage_us_gal_per_cfm) {
+        ))];
+        if let (Some(v), Some(per)) = (self.storage_m3, self.storage_m3_per_m3_min) {
             let from = |src: &Option<String>| match src.as_deref() {
                 Some("log") => " (fitted from the log)",
                 _ => " (assumed)",
             };
-            s.push_str(&format!(
-                ", storage {v:.2} m³ ({g:.1} US gal/cfm{}), band {:.2} bar{}, blow-down from {:.0} % with τ = {:.1} s{}",
-                if self.storage_assumed { ", assumed: no system volume on record (common practice)" } else { "" },
-                self.pressure_band_bar.unwrap_or(DEFAULT_BAND_BAR),
-                from(&self.pressure_band_source),
-                self.blowdown_start_fraction.unwrap_or(BLOWDOWN_START_FRACTION) * 100.0,
-                self.blowdown_tau_s.unwrap_or(BLOWDOWN_TAU_S),
-                from(&self.blowdown_source)
-            ));
+            s.extend([
+                Part::from(", storage "),
+                text::volume(v),
+                Part::from(" ("),
+                text::storage_per_flow(per),
+                Part::Words(format!(
+                    "{}), band ",
+                    if self.storage_assumed {
+                        ", assumed: no system volume on record (common practice)"
+                    } else {
+                        ""
+                    }
+                )),
+                text::pressure_drop(self.pressure_band_bar.unwrap_or(DEFAULT_BAND_BAR)),
+                Part::Words(format!(
+                    "{}, blow-down from {:.0} % with τ = {:.1} s{}",
+                    from(&self.pressure_band_source),
+                    self.blowdown_start_fraction.unwrap_or(BLOWDOWN_START_FRACTION) * 100.0,
+                    self.blowdown_tau_s.unwrap_or(BLOWDOWN_TAU_S),
+                    from(&self.blowdown_source)
+                )),
+            ]);
         }
-        s.push_str(&format!(
-            "; marginal {:.2} kW/(m³/min) against the ideal line's {:.2}",
-            self.marginal_kw_per_m3_min, self.ideal_marginal_kw_per_m3_min
-        ));
+        s.extend([
+            Part::from("; marginal "),
+            text::specific(self.marginal_kw_per_m3_min),
+            Part::from(" against the ideal line's "),
+            text::specific(self.ideal_marginal_kw_per_m3_min),
+        ]);
         s
     }
 }

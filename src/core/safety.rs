@@ -23,7 +23,7 @@ pub const PRESSURE_TEST_CAUTIONS: &[&str] = &[
 
 /// Shown wherever a user plans a heat-recovery measure (the summary's `heat.cautions`).
 pub const HEAT_RECOVERY_CAUTIONS: &[&str] = &[
-    "Hot oil, hot ducts and water above 60 °C can burn: insulate, guard and label hot surfaces.",
+    "Hot oil, hot ducts and water above 60 °C (140 °F) can burn: insulate, guard and label hot surfaces.",
     "Interlock the recovery circuit so that a blocked or closed circuit never stops the compressor's \
      own cooling.",
     "Design and installation by licensed practice under local codes (pressure equipment, potable \
@@ -32,7 +32,7 @@ pub const HEAT_RECOVERY_CAUTIONS: &[&str] = &[
 
 /// The `recover_heat` measure's caution, in one line.
 pub const HEAT_RECOVERY_MEASURE_CAUTION: &str =
-    "hot oil, hot ducts and water above 60 °C; interlock the recovery \
+    "hot oil, hot ducts and water above 60 °C (140 °F); interlock the recovery \
      circuit so a blocked circuit never stops the compressor's own cooling; defer to local codes and \
      licensed practice";
 

@@ -132,11 +132,30 @@ window.airledger = {
 };
 // A number stays with its unit when a line wraps (on screen and in print): in figures, the space
 // after a digit that is followed by a unit becomes a no-break space (in every table cell: a measure
-// names its flow in its title).
-for (const el of document.querySelectorAll("table.data td, table.data th, .figure-value, dl.facts dd")) {
-  const w = document.createTreeWalker(el, NodeFilter.SHOW_TEXT);
-  for (let n = w.nextNode(); n; n = w.nextNode()) n.nodeValue = n.nodeValue.replace(/(\d) (?=[^\s\d(–-])/g, "$1\u00a0");
-}
+// names its flow in its title), and a unit of several words stays whole ("t CO₂", "US gal"; "free
+// air" is one word, which may go to the next line after its unit: a table's flow column stays as
+// narrow as "12.5 m³/min", so the findings fit an A4 line). The same holds in the page's main text (a figure's note, the verdict, the methods,
+// the field tests in words), but not in its forms, whose texts are read back as typed.
+(function joinNumbersToUnits() {
+  const join = (n) => {
+    n.nodeValue = n.nodeValue
+      .replace(/(\d) (?=[^\s\d(–-])/g, "$1\u00a0")
+      .replace(/(\d\u00a0\S+) (?=CO₂|gal\b|abs\b)/g, "$1\u00a0")
+      .replace(/\bfree air\b/g, "free\u00a0air");
+  };
+  for (const el of document.querySelectorAll("table.data td, table.data th, .figure-value, dl.facts dd")) {
+    const w = document.createTreeWalker(el, NodeFilter.SHOW_TEXT);
+    for (let n = w.nextNode(); n; n = w.nextNode()) join(n);
+  }
+  const outsideForms = {
+    acceptNode: (n) => (n.parentElement && n.parentElement.closest("form, script, style, textarea, select, code, pre")
+      ? NodeFilter.FILTER_REJECT : NodeFilter.FILTER_ACCEPT),
+  };
+  for (const el of document.querySelectorAll("main")) {
+    const w = document.createTreeWalker(el, NodeFilter.SHOW_TEXT, outsideForms);
+    for (let n = w.nextNode(); n; n = w.nextNode()) join(n);
+  }
+})();
 // A form with a unit switch (select[data-unit-switch], page data `entry_tables` per system): its
 // fields with data-entry follow the chosen system. Each value is carried across as the same stored
 // quantity (core::entry factors), the labels' units change, and the hidden entry_units field tells

@@ -131,8 +131,27 @@
     });
     ctx.fillStyle = "#17232b";
     for (let hi = 0; hi < 24; hi += 3) ctx.fillText(String(hi).padStart(2, "0"), left + hi * w, box.height - 6);
-    ctx.fillText("max", box.width - right + 8, top + 12);
-    ctx.fillText(max.toFixed(1), box.width - right + 8, top + 26);
+    // The legend: the darkest cell's value with its unit in the reader's units (the flow's
+    // reference on a line of its own), then the scale from that value down to nothing.
+    const lx = box.width - right + 8;
+    const [unit, ...ref] = u.flow.split(" ");
+    ctx.fillText("max", lx, top + 12);
+    ctx.fillText(max.toFixed(1), lx, top + 26);
+    ctx.fillText(unit, lx, top + 40);
+    if (ref.length) ctx.fillText(ref.join(" "), lx, top + 54);
+    const y0 = top + 62, y1 = box.height - bottom - 12;
+    if (y1 - y0 > 20) {
+      const g = ctx.createLinearGradient(0, y0, 0, y1);
+      g.addColorStop(0, "rgb(15,76,92)");
+      g.addColorStop(1, "rgb(233,245,242)");
+      ctx.fillStyle = g;
+      ctx.fillRect(lx, y0, 12, y1 - y0);
+      ctx.fillStyle = "#17232b";
+      ctx.fillText("0", lx + 16, y1);
+    }
+    canvas.setAttribute("aria-label", "mean demand by weekday and hour, " + u.flow + ": from 0 (lightest) to "
+      + max.toFixed(1) + " " + u.flow + " (darkest)");
+    canvas.dataset.legend = max.toFixed(1) + " " + u.flow;
   }
   heatmap();
   window.addEventListener("resize", heatmap);

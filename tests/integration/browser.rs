@@ -832,7 +832,8 @@ fn the_report_of_a_thin_audit_shows_the_verdict_and_no_annual_figure() {
     let page = format!("/audits/{id}/report");
     b.goto(&server.url(&page));
     b.settle();
-    let verdict = b.js_str("return document.getElementById('sufficiency').innerText");
+    // A figure's number and unit are joined by a no-break space on the page (`common.js`).
+    let verdict = b.js_str("return document.getElementById('sufficiency').innerText").replace('\u{a0}', " ");
     assert!(verdict.contains("Is the data enough? not enough"), "{verdict}");
     assert!(verdict.contains("logged together for 0.0 h"), "{verdict}");
     // The verdict comes before the headline figures (DOCUMENT_POSITION_FOLLOWING = 4).

@@ -86,6 +86,67 @@ fn printed_findings_carry_the_charts_in_the_readers_units() {
     }
 }
 
+/// The places where a printed line ends inside a figure: a number at a line's end whose unit
+/// starts the next line ("168.0" / "h"), or a unit of several words broken between its words
+/// ("14.9 t" / "CO₂", "1,981 US" / "gal", "free" / "air"). A flow's reference, "free air", may
+/// start the next line after its unit ("12.5 m³/min" / "free air"), so that a table's flow column
+/// fits an A4 line.
+fn numbers_split_from_units(text: &str) -> Vec<String> {
+    const UNITS: &[&str] = &[
+        "h", "min", "s", "kW", "kWh", "MWh", "GWh", "%", "bar", "bar(g)", "psi", "psig", "psia", "cfm",
+        "m³/min", "m³", "ft³", "US", "t", "°C", "°F", "K", "kPa", "ft", "m", "EUR", "USD", "years", "months",
+    ];
+    const JOINED: &[(&str, &str)] = &[("t", "CO₂"), ("US", "gal"), ("kPa", "abs"), ("free", "air")];
+    let lines: Vec<&str> = text.lines().map(str::trim).collect();
+    let mut out = Vec::new();
+    for w in lines.windows(2) {
+        let (Some(last), Some(first)) = (w[0].split_whitespace().last(), w[1].split_whitespace().next())
+        else {
+            continue;
+        };
+        let number = last.chars().last().is_some_and(|c| c.is_ascii_digit());
+        let unit = first.trim_end_matches([',', ';', ')', '.', ':']);
+        if (number && UNITS.contains(&unit)) || JOINED.iter().any(|&(a, b)| last == a && first.starts_with(b))
+        {
+            let before = w[0].split_whitespace().collect::<Vec<_>>();
+            let ctx = before[before.len().saturating_sub(3)..].join(" ");
+            out.push(format!("{ctx} / {}", w[1].split_whitespace().take(3).collect::<Vec<_>>().join(" ")));
+        }
+    }
+    out
+}
+
+/// Issue 16: in the printed findings no number is split from its unit, nor a unit of several words
+/// from itself, in SI and in US customary units: every printed line is read in the PDF's reading
+/// order (`pdftotext`), and the figures that used to split (a CO₂ mass, a volume in US gallons)
+/// print whole.
+#[test]
+#[cfg_attr(
+    not(any(all(has_browser, has_pdftools), ci)),
+    ignore = "needs Debian's chromium, chromium-driver and poppler-utils: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn printed_findings_keep_every_number_with_its_unit() {
+    let server = Server::demo();
+    for units in ["si", "us"] {
+        let (_, text, _) = print_demo(
+            &server,
+            &format!("/audits/1/findings?units={units}"),
+            &format!("findings-units-{units}"),
+        );
+        let split = numbers_split_from_units(&text);
+        assert!(
+            split.is_empty(),
+            "{units}: numbers split from their units in the PDF:\n{}",
+            split.join("\n")
+        );
+        // A no-break space joins them (pdftotext writes it as U+00A0 or as a space, never a line end).
+        for whole in ["t CO₂", "free air"] {
+            let found = text.contains(whole) || text.contains(&whole.replace(' ', "\u{a0}"));
+            assert!(found, "{units}: no {whole:?} on one line of the PDF");
+        }
+    }
+}
+
 /// The value a point of a chart stands for: from the SVG's own axis range and plot box
 /// (`data-y-min`, `data-y-max`, `data-plot`) and the drawn geometry Chromium reports
 /// (`getBBox` of the series' path): the top of the path is its greatest value, the bottom its least.
@@ -280,7 +341,27 @@ fn printed_findings_carry_each_field_tests_inputs_and_result() {
     let q = 3.0 * 1.5 / (p_atm_kpa / 100.0 * 95.0 / 60.0);
     let (_, text, _) = print_demo(&server, "/audits/1/findings?units=si", "findings-field-tests");
     let flat = squash(&text);
-    // A table's cells side by side interleave their lines in the PDF's text: each piece apart.
+    // A table's cells side by side interleave their lines in the PDF's text: each piece apart, its
+    // words in order, a cell's line apart from its next by at most a line of the cells beside it.
+    let words: Vec<&str> = flat.split_whitespace().collect();
+    let in_order = |want: &str| {
+        let w: Vec<&str> = want.split_whitespace().collect();
+        (0..words.len()).any(|start| {
+            let mut at = start;
+            w.iter().enumerate().all(|(k, x)| {
+                let reach = if k == 0 { 1 } else { 12 };
+                match words[at..words.len().min(at + reach)].iter().position(|y| {
+                    y.trim_end_matches([';', ',', '.']) == *x || (k + 1 == w.len() && y.starts_with(*x))
+                }) {
+                    Some(i) => {
+                        at += i + 1;
+                        true
+                    }
+                    None => false,
+                }
+            })
+        })
+    };
     for want in [
         "Pressure fell from 7.00 bar(g)",
         "to 5.50 bar(g) in 95 s",
@@ -288,11 +369,7 @@ fn printed_findings_carry_each_field_tests_inputs_and_result() {
         "Compressor C2: loaded for 40 s and unloaded for 2.7 min",
         "Leaks take 20.0 % of C2",
     ] {
-        assert!(
-            flat.contains(want),
-            "no {want:?} in the printed findings:\n{}",
-            &flat[..flat.len().min(6000)]
-        );
+        assert!(in_order(want), "no {want:?} in the printed findings:\n{}", &flat[..flat.len().min(6000)]);
     }
     let printed: f64 = flat
         .split("Mean leak flow ")

@@ -227,3 +227,33 @@ fn printed_findings_carry_the_site_and_page_numbers_and_keep_numbers_with_units(
         assert!(before >= 25, "page {} before the measures holds {before} lines", at);
     }
 }
+
+/// Issue 16: the report's weekday × hour map says its unit in its legend, in the reader's units:
+/// the darkest cell's value is the summary's highest weekday-hour mean flow, turned into cfm with
+/// NIST SP 811 (2008) B.8 (1 ft³ = 0.028 316 846 592 m³) for a US reader.
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn the_heat_maps_legend_names_its_unit() {
+    let server = Server::demo();
+    let sm = server.get("/api/v1/audits/1/summary").json();
+    let max_m3_min = sm["demand"]["weekday_hour_mean_flow_m3_min"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .flat_map(|row| row.as_array().unwrap().iter().filter_map(Value::as_f64))
+        .fold(f64::NEG_INFINITY, f64::max);
+    let b = Browser::start();
+    for (units, max, unit) in
+        [("si", max_m3_min, "m³/min free air"), ("us", max_m3_min / 0.028_316_846_592, "cfm free air")]
+    {
+        b.goto(&server.url(&format!("/audits/1/report?units={units}")));
+        b.settle();
+        let legend = b.js_str("return document.getElementById('chart-heatmap').dataset.legend || ''");
+        assert_eq!(legend, format!("{max:.1} {unit}"), "{units}");
+        let label = b.js_str("return document.getElementById('chart-heatmap').getAttribute('aria-label')");
+        assert!(label.contains(&format!("to {max:.1} {unit} (darkest)")), "{units}: {label}");
+    }
+}

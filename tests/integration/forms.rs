@@ -234,3 +234,66 @@ fn compressor_receiver_site_and_what_if_refusals_speak_the_audits_units() {
         "the form is drawn again in SI"
     );
 }
+
+/// Issue 16: a what-if target below the plant's low limit (its lowest rated pressure less 1 bar,
+/// the floor the pressure measure keeps) is refused in the reader's units, naming the field, and
+/// the what-if form's input starts at that limit in the same units.
+#[test]
+fn a_what_if_target_below_the_low_limit_is_refused_in_the_readers_units() {
+    let s = Server::start();
+    // NIST SP 811 (2008) B.8: 1 psi = 6 894.757 Pa. C1 is rated 7.5 bar(g): the low limit is
+    // 6.5 bar(g) = 650 000 / 6 894.757 = 94.27 psig, and 1 bar = 14.50 psi.
+    let bar_per_psi = 6_894.757_293_168 / 1e5;
+    let low_psig = 6.5 / bar_per_psi;
+    for (units, target, want) in [
+        (
+            "us",
+            80.0 * bar_per_psi,
+            "the target pressure must be at least the plant's low limit of 94.27 psig (its lowest rated \
+             pressure less 14.5 psi), got 80 psig",
+        ),
+        (
+            "si",
+            6.0,
+            "the target pressure must be at least the plant's low limit of 6.5 bar(g) (its lowest rated \
+             pressure less 1 bar), got 6 bar(g)",
+        ),
+    ] {
+        let id = chicago_audit(&s, units);
+        let r = s.post_json(
+            &format!("/api/v1/audits/{id}/scenarios"),
+            &json!({"name": "too low", "changes": [{"op": "reduce_leaks", "fraction": 0.2},
+                                                   {"op": "set_pressure", "target_bar_g": target}]}),
+        );
+        assert_eq!(r.status, 422, "{units}: {}", r.text);
+        let e = &r.json()["error"];
+        assert_eq!(e["field"], "changes[1].target_bar_g", "{units}: {}", r.text);
+        assert_eq!(e["message"], want, "{units}");
+        // At the limit itself the check passes (and the replay asks for data, a refusal of its own).
+        let r = s.post_json(
+            &format!("/api/v1/audits/{id}/scenarios"),
+            &json!({"name": "at the limit", "changes": [{"op": "set_pressure", "target_bar_g": 6.5}]}),
+        );
+        assert_eq!(r.json()["error"]["field"], "changes", "{units}: {}", r.text);
+        // Below 0 gauge: refused by the range check, in the same units.
+        let r = s.post_json(
+            &format!("/api/v1/audits/{id}/scenarios"),
+            &json!({"name": "vacuum", "changes": [{"op": "set_pressure", "target_bar_g": -0.5}]}),
+        );
+        assert_eq!(r.json()["error"]["field"], "changes[0].target_bar_g", "{units}: {}", r.text);
+        let unit = if units == "us" { "psig" } else { "bar(g)" };
+        assert!(r.json()["error"]["message"].as_str().unwrap().contains(&format!("must be above 0 {unit}")));
+        // The form's input starts at the low limit, in the page's units.
+        let page = s.get(&format!("/audits/{id}/scenarios")).text;
+        let at = page.find("name=\"target_bar_g\"").expect("the target input");
+        let tag = &page[at..at + page[at..].find('>').unwrap()];
+        let min: f64 = tag
+            .split("min=\"")
+            .nth(1)
+            .and_then(|t| t.split('"').next())
+            .and_then(|v| v.parse().ok())
+            .unwrap_or_else(|| panic!("{units}: no min on {tag}"));
+        let want_min = if units == "us" { low_psig } else { 6.5 };
+        assert!((min - want_min).abs() < 1e-6, "{units}: min {min} against {want_min}");
+    }
+}

@@ -399,3 +399,149 @@ fn the_remap_page_takes_an_actual_volume_flows_line() {
     let u = s.get(&format!("/api/v1/audits/{id}")).json()["uploads"][0].clone();
     assert!(u["mapping"]["columns"][2].get("line").is_none(), "{}", u["mapping"]);
 }
+
+/// The page's text with its characters unescaped and every tag a mark (U+0001), so that one
+/// element's text reads apart from the next.
+fn readable(html: &str) -> String {
+    let mut out = String::new();
+    let mut rest = html;
+    while let Some(i) = rest.find("<script") {
+        out.push_str(&rest[..i]);
+        rest = rest[i..].find("</script>").map_or("", |j| &rest[i + j + 9..]);
+    }
+    out.push_str(rest);
+    let mut text = String::new();
+    let mut in_tag = false;
+    for ch in out.chars() {
+        match ch {
+            '<' => in_tag = true,
+            '>' => {
+                in_tag = false;
+                text.push('\u{1}');
+            }
+            c if !in_tag => text.push(c),
+            _ => {}
+        }
+    }
+    text.replace("&#x27;", "'")
+        .replace("&#39;", "'")
+        .replace("&quot;", "\"")
+        .replace("&lt;", "<")
+        .replace("&gt;", ">")
+        .replace("&amp;", "&")
+}
+
+/// Issue 16: the texts the analysis writes (the part-load model behind the marginal specific power,
+/// the instrument accuracies, the heat balance's delivery rise, the pressure band's low limit, the
+/// treatment records that explain more air than the plant makes), the rule of thumb for power
+/// against pressure, the data sheet's default maximum pressure and the site's air quote the audit's
+/// units: on a US audit no bar, m³/min, kPa or K where a figure stands. Every expected figure is
+/// worked here from the summary's SI JSON with NIST SP 811 (2008) B.8 factors: 1 psi = 6 894.757 Pa,
+/// 1 ft³ = 0.028 316 846 592 m³, 1 ft = 0.3048 m; a temperature interval of 1 K = 1.8 °F (B.9).
+#[test]
+fn the_texts_of_a_us_audit_quote_us_units() {
+    let s = Server::demo();
+    let r = s.patch_json("/api/v1/audits/1", &json!({"site": {"display_units": "us"}}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    // More end uses on record than the plant makes air: the summary warns of it.
+    let r = s.post_json(
+        "/api/v1/audits/1/end-uses",
+        &json!({"name": "oversized blow-off", "kind": "open_blowing", "count": 1, "flow_m3_min": 30.0,
+                "pressure_bar_g": 6.0, "duty": 1.0, "regulated": false}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let sm = s.get("/api/v1/audits/1/summary").json();
+    let site = s.get("/api/v1/audits/1").json()["site"].clone();
+    let psi = |bar: f64| bar * 1e5 / 6_894.757_293_168;
+    let per_100cfm = |kw_per_m3_min: f64| kw_per_m3_min * 100.0 * M3_PER_FT3;
+    let report = readable(&s.get("/audits/1/report").text);
+    let findings = readable(&s.get("/audits/1/findings").text);
+    let audit = readable(&s.get("/audits/1").text);
+    // One text of a page: from its first words to the end of its element.
+    let line = |text: &str, start: &str| -> String {
+        let at = text.find(start).unwrap_or_else(|| panic!("no {start:?} in:\n{text}"));
+        text[at..].split('\u{1}').next().unwrap().to_string()
+    };
+    for (page, text) in [("report", &report), ("findings", &findings)] {
+        // The part-load model: its marginal and ideal specific powers in kW/100 cfm.
+        let m = &sm["part_load_model"];
+        let part_load = line(text, "part-load model behind the marginal specific power");
+        for k in ["marginal_kw_per_m3_min", "ideal_marginal_kw_per_m3_min"] {
+            let want = format!("{:.1} kW/100 cfm", per_100cfm(m[k].as_f64().unwrap()));
+            assert!(part_load.contains(&want), "{page}: no {want} in {part_load}");
+        }
+        assert!(!part_load.contains("m³"), "{page}: {part_load}");
+        // The instrument accuracies: a 16 bar span is 232.1 psi.
+        let acc = line(text, "instrument accuracy");
+        assert!(acc.contains(&format!("of a {:.1} psi span", psi(16.0))), "{page}: {acc}");
+        // The heat balance: 10 K above inlet is 18 °F.
+        assert!(text.contains("delivery air 18.0 °F above inlet"), "{page}: no delivery rise in °F");
+        assert!(text.contains("ΔT 18.0 °F"), "{page}: no ΔT in °F in the heat method");
+        // The pressure band: the low limit 1 bar below the lowest rated pressure, 14.5 psi.
+        let band = line(text, "p5/p50/p95 of header pressure");
+        assert!(band.contains(&format!("lowest rated pressure - {:.1} psi", psi(1.0))), "{page}: {band}");
+        // The end uses on record against the mean flow, both in cfm of free air.
+        let warn = line(text, "the end uses, purge, drains and leaks on record add up to");
+        let mean_cfm = sm["system"]["mean_flow_m3_min"].as_f64().unwrap() / M3_PER_FT3;
+        assert!(
+            warn.contains(&format!("more than the {mean_cfm:.0} cfm free air mean flow")),
+            "{page}: {warn}"
+        );
+        // The site's air: the atmosphere in psia, the altitude in feet.
+        let psia = site["atmospheric_pressure_kpa_abs"].as_f64().unwrap() * 1e3 / 6_894.757_293_168;
+        if page == "findings" {
+            let ft = site["altitude_m"].as_f64().unwrap() / 0.3048;
+            assert!(
+                text.contains(&format!("altitude {ft:.0} ft, atmosphere {psia:.2} psia")),
+                "{page}: site air"
+            );
+        }
+        for si in ["kW/(m³/min) against", "bar span", "10 K above", "- 1 bar", "m³/min more than", "kPa abs"]
+        {
+            assert!(!text.contains(si), "{page} still says {si:?}");
+        }
+    }
+    // The report's rule of thumb: 1 % per 2 psi (US DOE sourcebook) rather than 7 % per bar.
+    assert!(report.contains("about 1 % per 2 psi near 100 psig"), "no US rule of thumb");
+    assert!(!report.contains("7 % per bar"));
+    // The site page: the atmosphere in psia, the default maximum pressure rated + 0.5 bar = 7.3 psi.
+    let psia = site["atmospheric_pressure_kpa_abs"].as_f64().unwrap() * 1e3 / 6_894.757_293_168;
+    assert!(audit.contains(&format!("Atmospheric pressure {psia:.2} psia")), "site page atmosphere");
+    assert!(audit.contains(&format!("maximum pressure = rated + {:.1} psi", psi(0.5))), "site page maximum");
+    assert!(!audit.contains("kPa abs,") && !audit.contains("rated + 0.5 bar"));
+    // The same audit in SI says it in SI.
+    let si = readable(&s.get("/audits/1/report?units=si").text);
+    assert!(si.contains("delivery air 10.0 K above inlet") && si.contains("of a 16.00 bar span"), "SI texts");
+    assert!(si.contains("about 7 % per bar near 7 bar(g)"));
+}
+
+/// Issue 16: a what-if that cannot meet the demand says so in the reader's units.
+#[test]
+fn a_what_if_problem_quotes_the_readers_units() {
+    let s = Server::demo();
+    let r = s.patch_json("/api/v1/audits/1", &json!({"site": {"display_units": "us"}}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let r = s.post_json(
+        "/api/v1/audits/1/scenarios",
+        &json!({"name": "one machine", "changes": [{"op": "remove", "tag": "C1"}, {"op": "remove", "tag": "C2"}]}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let problems = r.json()["result"]["problems"].clone();
+    let page = readable(&s.get("/audits/1/scenarios").text);
+    // The API keeps its SI words; the page reads the capacity left (C3's rated free air delivery,
+    // from the data sheet on record) in cfm of free air with NIST SP 811 factors.
+    let si = problems[0].as_str().unwrap_or_else(|| panic!("no problem: {problems}"));
+    assert!(si.contains("m³/min free air"), "{si}");
+    let audit = s.get("/api/v1/audits/1").json();
+    let capacity_m3_min: f64 = audit["compressors"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|c| c["tag"] == "C3")
+        .map(|c| c["rated_flow_m3_min"].as_f64().unwrap())
+        .sum();
+    let want = format!("the compressors' total capacity of {:.0} cfm free air", capacity_m3_min / M3_PER_FT3);
+    assert!(page.contains(&want), "no {want:?} on the what-if page:\n{page}");
+    assert!(!page.contains("m³/min free air is below"), "SI on the US what-if page");
+    assert!(page.contains("Peak power (highest single time step)"));
+}

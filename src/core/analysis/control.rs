@@ -16,6 +16,7 @@ point). The logged energy stays the logged energy.
 
 use crate::core::model::{CompressorSpec, Control};
 use crate::core::partload::{self, fit::Calibration, PartLoadModel, Storage};
+use crate::core::recommend::Part;
 use crate::core::series::Grid;
 use crate::core::states::State;
 
@@ -30,8 +31,8 @@ pub(super) struct ControlCells {
     pub logged: CellSums,
     pub modelled: CellSums,
     pub curve: String,
-    /// The trim's own part-load model that read its air from its power, in words.
-    pub model: String,
+    /// The trim's own part-load model that read its air from its power, in words and figures.
+    pub model: Vec<Part>,
     pub simultaneous_cycling_share: f64,
 }
 
@@ -139,11 +140,11 @@ pub(super) fn control_case(
             .collect();
         let modelled = |b: usize| if p[b].is_finite() { window_w[b / k] } else { f32::NAN };
         let mean_air = if air_n > 0 { air_sum / air_n as f64 } else { 0.0 };
-        let model = format!(
-            "{}'s air read from its logged power through its part-load model: {}",
-            c.tag,
-            PartLoadModel::of(&trim_m, mean_air, sources).with_calibration(fit).describe()
-        );
+        let mut model = vec![Part::Words(format!(
+            "{}'s air read from its logged power through its part-load model: ",
+            c.tag
+        ))];
+        model.extend(PartLoadModel::of(&trim_m, mean_air, sources).with_calibration(fit).describe_parts());
         Some(ControlCells {
             logged: CellSums::of(cells, |b| p[b]),
             modelled: CellSums::of(cells, modelled),

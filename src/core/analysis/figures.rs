@@ -10,7 +10,7 @@ use crate::core::heat::HeatUseKind;
 use crate::core::leaks::LeakShareBand;
 use crate::core::levels::Levels;
 use crate::core::model::Control;
-use crate::core::recommend::{MeasuresTotal, Recommendation};
+use crate::core::recommend::{MeasuresTotal, Part, Recommendation};
 
 /// Where the system flow comes from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -345,8 +345,11 @@ pub struct Withheld {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Sufficiency {
     pub verdict: Verdict,
-    /// Why the verdict is not `enough` (empty when it is).
+    /// Why the verdict is not `enough` (empty when it is), in SI words.
     pub reasons: Vec<String>,
+    /// `reasons` in parts, one for one (`recommend::Part`), for a page in the reader's units.
+    #[serde(default)]
+    pub reason_parts: Vec<Vec<Part>>,
     /// Figures set to `null`, each with its reason.
     pub withheld: Vec<Withheld>,
     /// Hours in which every compressor with a power column was logged together.
@@ -364,8 +367,13 @@ pub struct Sufficiency {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Method {
     pub figure: String,
+    /// The formula in SI words (the JSON's).
     pub formula: String,
     pub source: String,
+    /// The formula in parts when it quotes a figure with a unit (`recommend::Part`), so the pages
+    /// render it in the reader's units; empty: `formula` reads the same in both unit systems.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub formula_parts: Vec<Part>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -403,8 +411,38 @@ pub struct Summary {
     /// Whether the data can carry the annual figures, and the figures withheld (`sufficiency`).
     pub sufficiency: Sufficiency,
     pub methods: Vec<Method>,
+    /// The assumptions in SI words (the JSON's); [`Self::assumption_parts`] holds them in parts.
     pub assumptions: Vec<String>,
     /// Sources of error a reader should know of (one power factor for a machine logged in amps).
     #[serde(default)]
     pub warnings: Vec<String>,
+    /// `assumptions`, one for one, in parts (`recommend::Part`): the pages render these in the
+    /// reader's units. Pushed together through [`Self::assume`].
+    #[serde(default)]
+    pub assumption_parts: Vec<Vec<Part>>,
+    /// `warnings`, one for one, in parts; pushed together through [`Self::warn`].
+    #[serde(default)]
+    pub warning_parts: Vec<Vec<Part>>,
+}
+
+impl Summary {
+    /// Adds an assumption: its parts, and their SI rendering to `assumptions`.
+    pub fn assume(&mut self, parts: Vec<Part>) {
+        self.assumptions.push(si_words(&parts));
+        self.assumption_parts.push(parts);
+    }
+    /// Adds a warning: its parts, and their SI rendering to `warnings`.
+    pub fn warn(&mut self, parts: Vec<Part>) {
+        self.warnings.push(si_words(&parts));
+        self.warning_parts.push(parts);
+    }
+}
+
+/// Words in parts rendered in SI for the JSON's strings (the pages render the parts themselves).
+pub fn si_words(parts: &[Part]) -> String {
+    let si = crate::core::display::Fmt::new(
+        crate::core::units::UnitSystem::Si,
+        crate::core::units::PressureAbs(crate::core::units::P_STD_ATM),
+    );
+    crate::core::display::render_parts(parts, &si)
 }

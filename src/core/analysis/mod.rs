@@ -26,6 +26,11 @@ Invariants every summary keeps (checked over the demo and randomised plants in `
 nor below 0 bar(g); a measure never saves more than the energy it acts on.
 */
 
+/// Words and figures as parts: `parts!["about ", recommend::flow(q)]`.
+macro_rules! parts {
+    ($($p:expr),* $(,)?) => { vec![$($crate::core::recommend::Part::from($p)),*] };
+}
+
 mod baseline;
 mod calendar;
 mod control;
@@ -67,7 +72,7 @@ pub use uncertainty::Accuracy;
 
 use super::display::{self, Fmt};
 use super::model::{CompressorSpec, SiteSpec, WeeklySchedule};
-use super::recommend::{self, ControlCase, CostOverrides, RecommendInput};
+use super::recommend::{self, ControlCase, CostOverrides, Part, RecommendInput};
 use super::series::{integrate, Frame, PressurePoint};
 use super::treatment::PressureDropFigure;
 use super::units::{kw_per_100cfm, SiteAir, UnitSystem};
@@ -298,7 +303,12 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
 
 /// A method line of the summary.
 fn method(figure: &str, formula: &str, source: &str) -> Method {
-    Method { figure: figure.into(), formula: formula.into(), source: source.into() }
+    Method { figure: figure.into(), formula: formula.into(), source: source.into(), formula_parts: vec![] }
+}
+
+/// A method whose formula quotes a figure with a unit: its parts, and their SI words.
+fn method_parts(figure: &str, formula: Vec<Part>, source: &str) -> Method {
+    Method { formula: figures::si_words(&formula), formula_parts: formula, ..method(figure, "", source) }
 }
 
 /// The summary from a [`DataFigures`] of the audit's frame: prices, costs, uncertainties, heat value,
@@ -314,38 +324,44 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     let (site, cs, acc) = (input.site, d.spec.compressors.as_slice(), input.accuracy);
     let atm = d.spec.air.atmosphere;
     let mut methods: Vec<Method> = Vec::new();
-    let mut assumptions: Vec<String> = Vec::new();
+    // Assumptions and warnings in parts (`recommend::Part`): the pages render their figures in the
+    // reader's units, the JSON's strings are their SI rendering.
+    let mut assumptions: Vec<Vec<Part>> = Vec::new();
     if !d.tz_ok {
-        assumptions
-            .push(format!("time zone {:?} unknown: weekday and hour profiles use UTC", d.spec.timezone));
+        assumptions.push(parts![format!(
+            "time zone {:?} unknown: weekday and hour profiles use UTC",
+            d.spec.timezone
+        )]);
     }
     if !d.without_power.is_empty() {
-        assumptions
-            .push(format!("no power logged for {}: left out of energy and cost", d.without_power.join(", ")));
+        assumptions.push(parts![format!(
+            "no power logged for {}: left out of energy and cost",
+            d.without_power.join(", ")
+        )]);
     }
     let (flow_estimated, mean_flow) = (d.flow_estimated, d.totals.mean_flow);
     if flow_estimated {
         assumptions
-            .push("no flow meter: flow estimated from compressor states and rated free air delivery".into());
+            .push(parts!["no flow meter: flow estimated from compressor states and rated free air delivery"]);
     }
     let u_flow = if flow_estimated { acc.flow_estimated_rel } else { acc.flow_rel };
-    let mut warnings: Vec<String> = cs
+    let mut warnings: Vec<Vec<Part>> = cs
         .iter()
         .filter(|c| acc.single_power_factor.contains(&c.tag))
         .map(|c| {
-            format!(
+            parts![format!(
                 "{}: power from current with one power factor for loaded and unloaded running; the power \
                  factor falls unloaded, so unloaded power is overstated (energy ±{:.0} %): give \
                  the power factor when unloaded, or a spot kW reading in each state",
                 c.tag,
                 100.0 * power_rel(acc, c)
-            )
+            )]
         })
         .collect();
     warnings.extend(input.leak_estimates.iter().flat_map(|e| {
-        e.warnings
-            .iter()
-            .map(move |w| format!("field test {} ({}): {w}", e.test_id, super::model::human_label(&e.method)))
+        e.warnings.iter().map(move |w| {
+            parts![format!("field test {} ({}): {w}", e.test_id, super::model::human_label(&e.method))]
+        })
     }));
     let energy_kwh = &d.energy.energy_kwh;
     let sys_energy: f64 = energy_kwh.iter().sum();
@@ -391,7 +407,9 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
          (checked against a time-domain blow-down cycle)",
     ));
     if let Some(m) = &part_load_model {
-        assumptions.push(format!("part-load model behind the marginal specific power: {}", m.describe()));
+        let mut line = parts!["part-load model behind the marginal specific power: "];
+        line.extend(m.describe_parts());
+        assumptions.push(line);
     }
 
     let annual = baseline::annual(site, d);
@@ -404,15 +422,18 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     let machines = machines::machine_uses(d, annual.rule, &annual.per_compressor_kwh);
     let heat = heat::heat_value(site, &heat_c);
     if heat.no_heating_months {
-        assumptions.push(
+        assumptions.push(parts![
             "heat use is space heating but no heating months are given: recovered heat is valued at nothing \
              until they are (or the heat use is set to process water)"
-                .into(),
-        );
+        ]);
     }
-    methods.push(method(
+    methods.push(method_parts(
         "heat_rejected_kwh",
-        "input energy - m cp ΔT of the delivered air (ΔT 10 K)",
+        parts![
+            "input energy - m cp ΔT of the delivered air (ΔT ",
+            recommend::temperature_difference(crate::core::heat::DEFAULT_DELIVERY_TEMPERATURE_RISE_K),
+            ")"
+        ],
         "energy balance of the package (first law); delivery rise common practice",
     ));
     methods.push(method(
@@ -462,7 +483,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     ));
     methods.push(method(
         "annual_leak_cost",
-        "leak flow × marginal kW/(m³/min) × annual running hours × price",
+        "leak flow × marginal specific power × annual running hours × price",
         "US DOE sourcebook, leaks fact sheet; priced at the marginal (trim) specific power, not the average",
     ));
 
@@ -484,9 +505,12 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         "ISO 11011 (a period representative of operation); one full production week of logging is \
          common practice",
     ));
-    methods.push(method(
+    methods.push(method_parts(
         "pressure bands",
-        "p5/p50/p95 of header pressure; low limit = lowest rated pressure - 1 bar",
+        parts![
+            "p5/p50/p95 of header pressure; low limit = lowest rated pressure - ",
+            recommend::pressure_drop(super::model::LOW_LIMIT_BELOW_RATED_BAR)
+        ],
         "common practice",
     ));
 
@@ -540,7 +564,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     if !pressure_drops.is_empty() {
         methods.push(method(
             "transmission.pressure_drops",
-            "drop = upstream − downstream pressure bin by bin; at peak flow: mean over the bins at or above the \
+            "drop = upstream − downstream pressure bin by bin; at high flow: mean over the bins at or above the \
              95th-percentile flow; cost = loaded energy × (1 % per 2 psi | isentropic-work ratio) for the mean drop",
             "US DOE compressed-air sourcebook (1 % of input per 2 psi; a well-designed system loses well under 10 % \
              of the discharge pressure on its way to the points of use)",
@@ -588,20 +612,23 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         "US DOE compressed-air sourcebook (interactions of measures); common practice",
     ));
 
-    assumptions.push(format!(
-        "instrument accuracy: true power ±{:.0} %, current-derived power ±{:.0} %, flow ±{:.0} % of reading, \
-         pressure ±{:.1} % of a {} bar span, system volume ±{:.0} %; combined in quadrature",
-        acc.power_true_rel * 100.0,
-        acc.power_current_rel * 100.0,
-        acc.flow_rel * 100.0,
-        acc.pressure_rel_of_span * 100.0,
-        acc.pressure_span_bar,
-        acc.volume_rel * 100.0
-    ));
-    assumptions.push(format!(
-        "delivery air {} K above inlet for the heat balance (common practice)",
-        crate::core::heat::DEFAULT_DELIVERY_TEMPERATURE_RISE_K
-    ));
+    assumptions.push(parts![
+        format!(
+            "instrument accuracy: true power ±{:.0} %, current-derived power ±{:.0} %, flow ±{:.0} % of reading, \
+             pressure ±{:.1} % of a ",
+            acc.power_true_rel * 100.0,
+            acc.power_current_rel * 100.0,
+            acc.flow_rel * 100.0,
+            acc.pressure_rel_of_span * 100.0,
+        ),
+        recommend::pressure_drop(acc.pressure_span_bar),
+        format!(" span, system volume ±{:.0} %; combined in quadrature", acc.volume_rel * 100.0)
+    ]);
+    assumptions.push(parts![
+        "delivery air ",
+        recommend::temperature_difference(crate::core::heat::DEFAULT_DELIVERY_TEMPERATURE_RISE_K),
+        " above inlet for the heat balance (common practice)"
+    ]);
 
     let full_load_sp = machines::full_load_specific_power_at_pressure(d);
     methods.push(method(
@@ -610,7 +637,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         "data-sheet full-load power (ISO 1217) corrected to the logged pressure by the ratio of isentropic work; the rest is control (part-load) loss",
     ));
     if let Some(why) = &d.sp_note {
-        assumptions.push(why.clone());
+        assumptions.push(parts![why.clone()]);
     }
     let (e_lo, e_hi) = band(sys_energy, u_power);
     let (p_lo, p_hi) = band(sys_mean_kw, u_power);
@@ -668,8 +695,10 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         discharge: Some(discharge),
         sufficiency,
         methods,
-        assumptions,
-        warnings,
+        assumptions: assumptions.iter().map(|a| figures::si_words(a)).collect(),
+        warnings: warnings.iter().map(|w| figures::si_words(w)).collect(),
+        assumption_parts: assumptions,
+        warning_parts: warnings,
     };
     sufficiency::apply(&mut summary, site.demand_charge_per_kw_month != 0.0);
     summary

@@ -22,7 +22,7 @@ pub(super) fn pressure_figures(
         pressure.map_or_else(Vec::new, |p| p.iter().copied().filter(|x| x.is_finite()).collect());
     sorted.sort_unstable_by(f32::total_cmp);
     let bar_g = |pa: f64| PressureAbs(pa).bar_g(atm);
-    let low_limit = cs.iter().map(|c| c.rated_pressure_bar_g).reduce(f64::min).map(|x| x - 1.0);
+    let low_limit = crate::core::model::low_limit_bar_g(cs);
     let high = cs.iter().map(|c| c.rated_pressure_bar_g).reduce(f64::max);
     if sorted.is_empty() {
         PressureFigures {

@@ -47,6 +47,7 @@ figures add the machines up, so only those hours show the plant as one system.
   every measure.
 */
 
+use crate::core::recommend::{self, Part};
 use crate::core::series::Grid;
 
 use super::calendar::NO_CELL;
@@ -130,78 +131,87 @@ pub(super) fn overlap(
 pub(super) fn pressure_credible(
     p: &PressureFigures,
     lowest_rated_bar_g: Option<f64>,
-) -> Option<Result<(), String>> {
+) -> Option<Result<(), Vec<Part>>> {
     if !p.logged {
         return None;
     }
     if let Some(min) = p.min_bar_g.filter(|&m| m < MIN_CREDIBLE_BAR_G) {
-        return Some(Err(format!(
-            "the pressure log goes down to {min:.2} bar(g), below the atmosphere: a compressed-air header \
-             never does, so the column is not a header pressure or its unit or zero is wrong"
-        )));
+        return Some(Err(parts![
+            "the pressure log goes down to ",
+            recommend::bar_g(min),
+            ", below the atmosphere: a compressed-air header never does, so the column is not a header \
+             pressure or its unit or zero is wrong"
+        ]));
     }
     if let (Some(med), Some(rated)) = (p.p50_bar_g, lowest_rated_bar_g) {
         if med < 0.5 * rated {
-            return Some(Err(format!(
-                "the median logged pressure {med:.2} bar(g) is under half the lowest rated pressure of \
-                 the compressors ({rated:.2} bar(g)): it is not this plant's header, or its unit or zero \
-                 is wrong"
-            )));
+            return Some(Err(parts![
+                "the median logged pressure ",
+                recommend::bar_g(med),
+                " is under half the lowest rated pressure of the compressors (",
+                recommend::bar_g(rated),
+                "): it is not this plant's header, or its unit or zero is wrong"
+            ]));
         }
     }
     Some(Ok(()))
 }
 
 /// The verdict and its reasons (module doc), before any figure is withheld.
-pub(super) fn assess(o: &Overlap, power_logged: bool, pressure: Option<&Result<(), String>>) -> Sufficiency {
+pub(super) fn assess(
+    o: &Overlap,
+    power_logged: bool,
+    pressure: Option<&Result<(), Vec<Part>>>,
+) -> Sufficiency {
     let power_h = o.hours(o.power);
     let total_h = o.hours(o.bins);
     let share = if o.bins == 0 { 0.0 } else { o.power as f64 / o.bins as f64 };
     let weekdays = o.weekdays.count_ones();
-    let mut insufficient = Vec::new();
-    let mut thin = Vec::new();
+    // In parts (`recommend::Part`): a reason that quotes a pressure is read in the reader's units.
+    let mut insufficient: Vec<Vec<Part>> = Vec::new();
+    let mut thin: Vec<Vec<Part>> = Vec::new();
     if !power_logged {
         insufficient
-            .push("no compressor power was logged: energy, cost and every measure rest on it".to_string());
+            .push(parts!["no compressor power was logged: energy, cost and every measure rest on it"]);
     } else if power_h < MIN_POWER_HOURS {
-        insufficient.push(format!(
+        insufficient.push(parts![format!(
             "the compressors' power was logged together for {power_h:.1} h (less than {MIN_POWER_HOURS:.0} h): \
              the plant's demand as one system was never seen"
-        ));
+        )]);
     } else if share < MIN_PERIOD_COVERAGE {
-        insufficient.push(format!(
+        insufficient.push(parts![format!(
             "power covers {} % of the logged period ({:.0} h of {:.0} h, under {:.0} %): the files lie far \
              apart in time and one annual figure would mix them; analyse one stretch of logging at a time",
             percent(share),
             power_h,
             total_h,
             MIN_PERIOD_COVERAGE * 100.0
-        ));
+        )]);
     }
     if power_logged && power_h >= MIN_POWER_HOURS {
         if power_h + o.clock_gain_h < FULL_WEEK_HOURS || weekdays < 7 {
-            thin.push(format!(
+            thin.push(parts![format!(
                 "{:.1} days of logging on {weekdays} of the 7 weekdays; common practice is at least one \
                  full production week, so that every shift and the weekend are seen",
                 power_h / 24.0
-            ));
+            )]);
         }
         if (MIN_PERIOD_COVERAGE..THIN_PERIOD_COVERAGE).contains(&share) {
-            thin.push(format!(
+            thin.push(parts![format!(
                 "power covers {:.0} % of the logged period (under {:.0} %): the files leave large gaps",
                 share * 100.0,
                 THIN_PERIOD_COVERAGE * 100.0
-            ));
+            )]);
         }
         for (what, n) in [("flow", o.power_flow), ("header pressure", o.power_pressure)] {
             if let Some(n) = n {
                 let s = n as f64 / o.power as f64;
                 if s < MIN_OVERLAP_SHARE {
-                    thin.push(format!(
+                    thin.push(parts![format!(
                         "{what} was logged together with power in {:.0} % of the power hours (under {:.0} %)",
                         s * 100.0,
                         MIN_OVERLAP_SHARE * 100.0
-                    ));
+                    )]);
                 }
             }
         }
@@ -219,7 +229,8 @@ pub(super) fn assess(o: &Overlap, power_logged: bool, pressure: Option<&Result<(
     insufficient.extend(thin);
     Sufficiency {
         verdict,
-        reasons: insufficient,
+        reasons: insufficient.iter().map(|r| super::figures::si_words(r)).collect(),
+        reason_parts: insufficient,
         withheld: Vec::new(),
         power_hours: power_h,
         power_flow_hours: o.power_flow.map(|n| o.hours(n)),
@@ -374,4 +385,41 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         withhold(&mut w, "recommendations", &why);
     }
     s.sufficiency.withheld = w;
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::core::display::{render_parts, Fmt};
+    use crate::core::units::{PressureAbs, UnitSystem};
+
+    /// A pressure log that is not credible says why with its pressures in the reader's units.
+    #[test]
+    fn an_incredible_pressure_log_is_said_in_the_readers_units() {
+        let p = PressureFigures {
+            logged: true,
+            mean_bar_g: Some(1.0),
+            min_bar_g: Some(-0.5),
+            max_bar_g: Some(2.0),
+            p5_bar_g: Some(0.0),
+            p50_bar_g: Some(1.0),
+            p95_bar_g: Some(2.0),
+            std_dev_bar: None,
+            uncertainty_bar: 0.08,
+            low_limit_bar_g: None,
+            share_below_low_limit: None,
+            highest_rated_bar_g: None,
+            share_above_highest_rated: None,
+        };
+        let Some(Err(why)) = pressure_credible(&p, Some(7.5)) else { panic!("credible") };
+        let atm = PressureAbs(101_325.0);
+        // NIST SP 811 (2008) B.8: 1 psi = 6 894.757 Pa, so -0.5 bar = -7.25 psi.
+        let us = render_parts(&why, &Fmt::new(UnitSystem::Us, atm));
+        assert!(us.contains("goes down to -7.3 psig, below the atmosphere"), "{us}");
+        let si = render_parts(&why, &Fmt::new(UnitSystem::Si, atm));
+        assert!(si.contains("goes down to -0.50 bar(g)"), "{si}");
+        let s = assess(&Overlap::default(), true, Some(&Err(why)));
+        assert_eq!(s.reasons.len(), s.reason_parts.len());
+        assert_eq!(s.reasons.last().unwrap(), &si);
+    }
 }

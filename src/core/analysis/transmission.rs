@@ -4,7 +4,7 @@
 //! are priced on the machines' loaded energy by the pressure measure's rule (`Summary::discharge`).
 
 use super::figures::{Method, Summary};
-use crate::core::recommend::TreatmentCuts;
+use crate::core::recommend::{self, TreatmentCuts};
 use crate::core::treatment::{self, PlantFigures, Records, Transmission};
 use crate::core::units::SiteAir;
 
@@ -59,25 +59,29 @@ pub fn apply(s: &mut Summary, records: &Records, site: &SiteAir) {
             s.transmission = t;
             s.transmission.pressure_drops = drops;
             if split.over_explained() {
-                s.warnings.push(format!(
-                    "the end uses, purge, drains and leaks on record add up to {:.2} m³/min more than the \
-                     {:.2} m³/min mean flow: some figure on record is too high",
-                    -split.unexplained_m3_min, plant.mean_flow_m3_min
-                ));
+                s.warn(parts![
+                    "the end uses, purge, drains and leaks on record add up to ",
+                    recommend::flow(-split.unexplained_m3_min),
+                    " more than the ",
+                    recommend::flow(plant.mean_flow_m3_min),
+                    " mean flow: some figure on record is too high"
+                ]);
             }
             s.demand_split = Some(split);
         }
-        Err(e) => s.warnings.push(format!("the treatment records could not be priced: {e}")),
+        Err(e) => s.warn(parts![format!("the treatment records could not be priced: {e}")]),
     }
     if assumed {
-        s.assumptions.push(format!(
-            "no header pressure logged and no rated pressure known: drains priced at {FALLBACK_LINE_PRESSURE_BAR_G} bar(g)"
-        ));
+        s.assume(parts![
+            "no header pressure logged and no rated pressure known: drains priced at ",
+            recommend::bar_g(FALLBACK_LINE_PRESSURE_BAR_G)
+        ]);
     }
     let m = |figure: &str, formula: &str, source: &str| Method {
         figure: figure.into(),
         formula: formula.into(),
         source: source.into(),
+        formula_parts: vec![],
     };
     s.methods.push(m(
         "transmission.dryers",

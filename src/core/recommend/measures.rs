@@ -235,7 +235,7 @@ pub(super) fn repair_leaks(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plan
             )]
         }))
         .collect(),
-        formula: "saving = f × Q_leak × marginal kW/(m³/min) × hours (≤ trim energy above idle)",
+        formula: "saving = f × Q_leak × marginal specific power × hours (≤ trim energy above idle)",
         source: "US DOE compressed-air sourcebook (leaks fact sheet); priced at the marginal (trim) specific power",
         method: "air not made, at the trim's part-load slope, over the hours left; range from the leak estimate, ±15 % slope and the annual hours (US DOE sourcebook, leaks)",
         caution: None,
@@ -397,13 +397,14 @@ pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pl
             text![
                 "critical end use ",
                 bar_g(critical),
-                format!(" + transmitter uncertainty {margin:.3} bar")
+                " + transmitter uncertainty ",
+                pressure_drop(margin)
             ],
             text![format!("loaded (delivering) energy {delivering:.0} kWh/yr, scaled by {rule}: {chosen:.0} kWh/yr (the other rule {other:.0})")],
             text!["unregulated demand incl. leaks ", flow(q_unreg), ": ", flow(dq), " less at the lower pressure"],
             text!["marginal specific power ", specific(r.marginal_kw_per_m3_min * next.power_factor)],
         ],
-        formula: "saving = Σ loaded energy × (1 % per 2 psi | isentropic-work ratio) + Q_unreg Δp / p_abs × marginal kW/(m³/min) × hours; Δp = p5 - (p_critical + u_p)",
+        formula: "saving = Σ loaded energy × (1 % per 2 psi | isentropic-work ratio) + Q_unreg Δp / p_abs × marginal specific power × hours; Δp = p5 - (p_critical + u_p)",
         source: "US DOE compressed-air sourcebook (1 % of input per 2 psi); isentropic compression work (ideal gas, k = 1.4)",
         method: "loaded energy of the machines making the air scaled by the rule; range from the other rule and the annual hours (US DOE sourcebook; isentropic work)",
         caution: Some("check that every point of use keeps the pressure its tools need; lower in steps".into()),
@@ -479,7 +480,7 @@ pub(super) fn shut_off_idle(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pla
         money: None,
         cost_ctx: CostContext { compressors: idle.len() as f64, ..Default::default() },
         basis,
-        formula: "saving = Σ energy spent unloaded in non-production hours + (trim off) leaks left × marginal kW/(m³/min) × its non-production hours",
+        formula: "saving = Σ energy spent unloaded in non-production hours + (trim off) leaks left × marginal specific power × its non-production hours",
         source: "US DOE sourcebook (unloaded power 15-35 % of full load); common practice",
         method: "logged unloaded energy out of production, annualised; range from the annual hours (US DOE sourcebook, part load)",
         caution: Some("only where nothing needs air at those hours; leaks and dryers still draw while pressurized".into()),
@@ -595,14 +596,14 @@ pub(super) fn improve_control(r: &RecommendInput, p: &Plant, first: &Plant) -> O
         basis: vec![
             text![format!("logged trim energy {:.0} kWh/yr", c.logged_annual_kwh)],
             text![format!("same demand on {}: {:.0} kWh/yr", c.curve, c.modelled_annual_kwh)],
-            text![c.model.clone()],
+            c.model.clone(),
             text![format!(
                 "× {ratio:.3} for the trim energy left above idle, less {:.0} kWh/yr already switched off",
                 p.trim_idle_removed_kwh
             )],
         ],
         formula: "saving = (logged trim energy - Σ P_vsd(Q_w) × time) × trim energy left / logged - unloaded energy already switched off; Q_w the trim's air in each 5 min from its mean running power through its part-load model",
-        source: "US DOE sourcebook: part-load behaviour by control, load/unload curves by storage (core::partload)",
+        source: "US DOE sourcebook: part-load behaviour by control, load/unload curves by storage",
         method: "logged trim energy against the same air on a variable-speed curve, the air read through the trim's part-load model (load/unload on storage with its blow-down); range ±15 % curve and the annual hours (US DOE sourcebook, part load)",
         caution: None,
         scenario_id: None,
@@ -836,7 +837,7 @@ pub(super) fn dew_point_control(r: &RecommendInput, p: &Plant) -> Option<(Draft,
                  the purge follows the moisture load instead of running at its full share all day.",
                 counted(c.dew_point_dryers, "desiccant dryer", "desiccant dryers")
             )],
-            formula: "saving = (purge on a fixed cycle - purge × load) × marginal kW/(m³/min) × hours",
+            formula: "saving = (purge on a fixed cycle - purge × load) × marginal specific power × hours",
             source: "purge of heatless dryers 15-20 % of rated flow: US DOE compressed-air sourcebook; purge following the load: common practice",
             method: "purge air not made, at the trim's part-load slope over the running hours; range from the slope and the annual hours",
         },
@@ -860,7 +861,7 @@ pub(super) fn zero_loss_drains(r: &RecommendInput, p: &Plant) -> Option<(Draft, 
                  is condensate.",
                 c.lossy_drains
             )],
-            formula: "saving = orifice flow × open time / interval × marginal kW/(m³/min) × hours",
+            formula: "saving = orifice flow × open time / interval × marginal specific power × hours",
             source: "orifice discharge of air (compressible nozzle); timer drains blow whether or not there is condensate: common practice",
             method: "drain air not made, at the trim's part-load slope over the running hours; range from the slope and the annual hours",
         },
@@ -884,7 +885,7 @@ pub(super) fn replace_inappropriate_uses(r: &RecommendInput, p: &Plant) -> Optio
                  sparging an electric alternative; the saving is the air's energy less the alternative's own.",
                 c.inappropriate_uses
             )],
-            formula: "saving = air of the uses × marginal kW/(m³/min) × production hours - alternative kW × production hours",
+            formula: "saving = air of the uses × marginal specific power × production hours - alternative kW × production hours",
             source: "inappropriate uses as the US DOE compressed-air sourcebook names them; alternative's kW as recorded",
             method: "air not made in production at the trim's part-load slope, less the alternatives' electricity; range from the slope and the annual hours",
         },

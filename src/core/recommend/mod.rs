@@ -95,7 +95,10 @@ pub(crate) mod tests;
 
 pub use measures::{pressure_cut_fractions, Words};
 pub use stack::{recommend, stack_total};
-pub use text::{bar_g, flow, pressure_drop, specific, Part, Quantity, Text};
+pub use text::{
+    bar_g, flow, kpa_abs, pressure_drop, specific, storage_per_flow, temperature_difference, volume, Part,
+    Quantity, Text,
+};
 
 /// Every kind of measure this module proposes (API.md names, the JSON spelling of each).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
@@ -548,8 +551,9 @@ pub struct ControlCase {
     pub modelled_annual_kwh: f64,
     /// Which curve modelled the VSD trim.
     pub curve: String,
-    /// The trim's part-load model that read its air from its logged power (`core::partload`), in words.
-    pub model: String,
+    /// The trim's part-load model that read its air from its logged power (`core::partload`), in
+    /// words and figures.
+    pub model: Vec<Part>,
     pub simultaneous_cycling_share: f64,
 }
 

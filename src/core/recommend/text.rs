@@ -19,6 +19,14 @@ pub enum Quantity {
     SpecificPowerKwPerM3Min,
     /// A pressure difference, bar (psi).
     PressureDropBar,
+    /// A volume, m³ (US gal).
+    VolumeM3,
+    /// Storage per flow, m³ per m³/min (US gal/cfm, the trade's rule-of-thumb unit).
+    StorageM3PerM3Min,
+    /// A temperature difference, K (°F).
+    TemperatureDifferenceK,
+    /// An absolute pressure, kPa abs (psia).
+    PressureKpaAbs,
 }
 
 /// Words, or a figure the reader's units show (JSON: a string, or `{"quantity", "value"}`).
@@ -51,6 +59,22 @@ pub fn bar_g(bar_g: f64) -> Part {
 /// A pressure difference (a drop across equipment), bar.
 pub fn pressure_drop(bar: f64) -> Part {
     Part::Figure { quantity: Quantity::PressureDropBar, value: bar }
+}
+/// A volume, m³.
+pub fn volume(m3: f64) -> Part {
+    Part::Figure { quantity: Quantity::VolumeM3, value: m3 }
+}
+/// Storage per unit of flow, m³ per m³/min.
+pub fn storage_per_flow(m3_per_m3_min: f64) -> Part {
+    Part::Figure { quantity: Quantity::StorageM3PerM3Min, value: m3_per_m3_min }
+}
+/// A temperature difference, K.
+pub fn temperature_difference(k: f64) -> Part {
+    Part::Figure { quantity: Quantity::TemperatureDifferenceK, value: k }
+}
+/// An absolute pressure, kPa abs.
+pub fn kpa_abs(kpa: f64) -> Part {
+    Part::Figure { quantity: Quantity::PressureKpaAbs, value: kpa }
 }
 /// A specific power, kW/(m³/min).
 pub fn specific(kw_per_m3_min: f64) -> Part {

@@ -115,9 +115,11 @@ mod result;
 #[cfg(test)]
 mod tests;
 
+use crate::core::display::{self, Fmt};
 use crate::core::model::{CompressorSpec, StorageSpec};
+use crate::core::recommend::{self, Part};
 use crate::core::series::Frame;
-use crate::core::units::SiteAir;
+use crate::core::units::{SiteAir, UnitSystem};
 
 pub use cost::default_cost;
 pub use plant::{AddedCompressor, Change, Scenario};
@@ -260,22 +262,36 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
     let p_for_leaks = if mp.is_finite() { mp } else { 0.0 };
     let peak =
         (demand.peak_prod + demand.leak_c * applied.leak_keep * (p_for_leaks + demand.p_atm_bar)) * 60.0;
+    // In parts (`recommend::Part`), so the what-if page quotes them in the reader's units.
+    let mut problem_parts: Vec<Vec<Part>> = Vec::new();
     if applied.specs.is_empty() {
-        problems.push(format!("no compressor is left to meet the peak demand of {peak:.1} m³/min free air"));
+        problem_parts.push(vec![
+            Part::from("no compressor is left to meet the peak demand of "),
+            recommend::flow(peak),
+            Part::from(" (the replayed demand's highest mean over any minute)"),
+        ]);
     } else if peak > capacity * (1.0 + 1e-9) {
-        problems.push(format!(
-            "the compressors' total capacity of {capacity:.1} m³/min free air is below the peak demand of \
-             {peak:.1} m³/min free air (1-minute mean), short by {:.1} m³/min",
-            peak - capacity
-        ));
+        problem_parts.push(vec![
+            Part::from("the compressors' total capacity of "),
+            recommend::flow(capacity),
+            Part::from(" is below the peak demand of "),
+            recommend::flow(peak),
+            Part::from(" (the replayed demand's highest mean over any minute), short by "),
+            recommend::flow(peak - capacity),
+        ]);
     }
     if out.below_s > MAX_TIME_BELOW_S {
-        problems.push(format!(
-            "the header pressure was below {threshold:.2} bar(g) for {:.1} min: the plant does not hold its \
-             control band",
-            out.below_s / 60.0
-        ));
+        problem_parts.push(vec![
+            Part::from("the header pressure was below "),
+            recommend::bar_g(threshold),
+            Part::Words(format!(
+                " for {:.1} min: the plant does not hold its control band",
+                out.below_s / 60.0
+            )),
+        ]);
     }
+    let si = Fmt::new(UnitSystem::Si, input.site.atmosphere);
+    problems.extend(problem_parts.iter().map(|p| display::render_parts(p, &si)));
     let compressors = plant
         .machines
         .iter()
@@ -304,6 +320,7 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
         simulated_hours: hours,
         feasible: problems.is_empty(),
         problems,
+        problem_parts,
         implementation_cost,
         implementation_cost_source,
         implementation_cost_basis,

@@ -11,7 +11,7 @@
 //! | `name` | 1 ..= 100 characters | a label |
 //! | `changes` | at most [`MAX_CHANGES`] (100) | a scenario is a handful of changes; bounds the replay's set-up |
 //! | `implementation_cost` | 0 ..= 1e12 | `recommend::MAX_IMPLEMENTATION_COST` |
-//! | `set_pressure.target_bar_g` | above 0 ..= [`MAX_PRESSURE_BAR_G`] (50 bar(g)) | shop air and boosters (PET blowing at 40 bar(g)); common practice |
+//! | `set_pressure.target_bar_g` | above 0 ..= [`MAX_PRESSURE_BAR_G`] (50 bar(g)), and not below the plant's low limit (lowest rated pressure - 1 bar, `Scenario::check_plant_in`) | shop air and boosters (PET blowing at 40 bar(g)); common practice |
 //! | `add_storage.volume_m3` | 0 ..= [`MAX_ADDED_STORAGE_M3`] (10 000 m³) | the system volume of the largest plants (common practice) |
 //! | `reduce_leaks.fraction` | 0 ..= 1 | a share of the leak flow |
 //! | `add.compressor.*` | as a compressor of the audit (`core::datasheet` table: one shape, one check) | same machines |
@@ -22,7 +22,7 @@ use super::machine::Machine;
 use super::{fail, ScenarioError, SimInput, BAND_BAR, MIN_REQUIRED_MARGIN_BAR, STAGGER_BAR};
 use super::{VSD_ABOVE_LOAD_BAR, VSD_RESTART_BELOW_SETPOINT_BAR, VSD_STOP_ABOVE_SETPOINT_BAR};
 use crate::core::entry::Entry;
-use crate::core::model::{CompressorSpec, Control};
+use crate::core::model::{self, CompressorSpec, Control};
 use crate::core::partload;
 use crate::core::states;
 use crate::core::units::UnitSystem;
@@ -144,6 +144,34 @@ impl Scenario {
                         .or_else(|m| fail(field("fraction"), format!("the fraction {m}")))?;
                 }
                 Change::Remove { .. } | Change::Sequence { .. } => {}
+            }
+        }
+        Ok(())
+    }
+
+    /// The checks against the plant on record: a target pressure below the plant's low limit (its
+    /// lowest rated pressure less [`model::LOW_LIMIT_BELOW_RATED_BAR`], the floor the pressure
+    /// measure keeps too) is refused, quoted in `units`.
+    pub fn check_plant_in(
+        &self,
+        compressors: &[CompressorSpec],
+        units: UnitSystem,
+    ) -> Result<(), ScenarioError> {
+        let Some(low) = model::low_limit_bar_g(compressors) else { return Ok(()) };
+        for (k, c) in self.changes.iter().enumerate() {
+            if let Change::SetPressure { target_bar_g } = c {
+                if *target_bar_g < low {
+                    return fail(
+                        format!("changes[{k}].target_bar_g"),
+                        format!(
+                            "the target pressure must be at least the plant's low limit of {} (its lowest rated \
+                             pressure less {}), got {}",
+                            Entry::GaugePressure.limit(units, low),
+                            Entry::PressureDrop.limit(units, model::LOW_LIMIT_BELOW_RATED_BAR),
+                            Entry::GaugePressure.said(units, *target_bar_g)
+                        ),
+                    );
+                }
             }
         }
         Ok(())

@@ -54,7 +54,11 @@ pub struct SimResult {
     #[serde(deserialize_with = "f64_or_nan")]
     pub simulated_hours: f64,
     pub feasible: bool,
+    /// Why the plant falls short, in SI words; `problem_parts` holds them one for one in parts.
     pub problems: Vec<String>,
+    /// `problems` in parts (`recommend::Part`), for a page in the reader's units.
+    #[serde(default)]
+    pub problem_parts: Vec<Vec<crate::core::recommend::Part>>,
     /// The scenario's installed cost: quoted, or estimated by [`default_cost`](super::default_cost).
     #[serde(deserialize_with = "f64_or_nan")]
     pub implementation_cost: f64,

@@ -155,7 +155,7 @@ fn audit_page(b: AuditBundle, error: Option<String>) -> AuditPage {
         .collect();
     AuditPage {
         spans,
-        atmosphere: format!("{:.2} kPa abs", atm),
+        atmosphere: fmt.pressure_abs_kpa(atm),
         atmosphere_source: if b.audit.site.atmospheric_pressure_override_kpa_abs.is_some() {
             "as given"
         } else {

@@ -67,7 +67,7 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
         spans,
         plots,
         system_volume_m3: b.storage().system_volume_m3(),
-        atmosphere: format!("{:.2} kPa abs", b.audit.site.atmospheric_pressure_kpa_abs()),
+        atmosphere: fmt.pressure_abs_kpa(b.audit.site.atmospheric_pressure_kpa_abs()),
         printed: jiff::Timestamp::now()
             .to_zoned(jiff::tz::TimeZone::get(&tz).unwrap_or(jiff::tz::TimeZone::UTC))
             .date()

@@ -319,8 +319,9 @@ pub async fn findings_plots(
             heading: "Pressure over the logged period".into(),
             svg: line_chart_svg(&chart),
             note: format!(
-                "Mean of {} buckets, shaded from the least to the greatest reading in each; site time ({tz}); the low limit is the lowest rated pressure less 1 bar (common practice).{off_foot}",
-                bucket_note(from, to)
+                "Mean of {} buckets, shaded from the least to the greatest reading in each; site time ({tz}); the low limit is the lowest rated pressure less {} (common practice).{off_foot}",
+                bucket_note(from, to),
+                fmt.pressure_delta_bar(1.0)
             ),
         });
         // The duration curve from the finest buckets the rollups give, drawn at 101 points.
@@ -435,7 +436,7 @@ pub async fn findings_plots(
             id: "plot-flow-duration",
             heading: "Flow duration curve".into(),
             svg: line_chart_svg(&chart),
-            note: "From the analysis' own time steps, highest first.".into(),
+            note: super::view::duration_note(sm.period.step_s),
         });
     }
     if let Some(s) = &sm.demand_split {

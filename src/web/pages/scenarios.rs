@@ -94,6 +94,9 @@ struct ScenariosPage {
     inp: Inputs,
     has_data: bool,
     editing: Option<String>,
+    /// The target pressure's floor in the reader's units: the plant's low limit, else 0 gauge
+    /// (`Scenario::check_plant_in`).
+    target_min: String,
 }
 
 pub async fn scenarios(
@@ -160,7 +163,11 @@ pub async fn scenarios(
                 min_pressure: fmt.pressure_bar_g(nan(r.min_pressure_bar_g)),
                 below: fmt.hours(nan(r.time_below_min_required_s) / 3600.0),
                 validation: fmt.percent(validation_error),
-                problems: r.problems.clone(),
+                problems: if r.problem_parts.len() == r.problems.len() {
+                    r.problem_parts.iter().map(|p| crate::core::display::render_parts(p, &fmt)).collect()
+                } else {
+                    r.problems.clone()
+                },
                 cost: format!(
                     "{} ({})",
                     fmt.money(nan(r.implementation_cost), &cur),
@@ -196,6 +203,8 @@ pub async fn scenarios(
         inp: Inputs::new(fmt.units),
         has_data: !b.uploads.is_empty(),
         editing,
+        target_min: Inputs::new(fmt.units)
+            .p(crate::core::model::low_limit_bar_g(&b.specs()).unwrap_or(0.0).max(0.0)),
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         rows,
         audit: b.audit,

@@ -126,6 +126,8 @@ pub struct ReportView {
     pub warnings: Vec<String>,
     pub baseline_rule: String,
     pub chart_data: Value,
+    /// What the flow duration curve's top is, beside the peak flow (a 1-minute mean).
+    pub duration_note: String,
 }
 
 /// What a summary field is called on paper.
@@ -180,7 +182,7 @@ fn withheld(sm: &Summary, prefix: &str) -> String {
 }
 
 /// The verdict's words.
-fn sufficiency_view(sm: &Summary) -> SufficiencyView {
+fn sufficiency_view(sm: &Summary, fmt: &Fmt) -> SufficiencyView {
     let s = &sm.sufficiency;
     let headline = match s.verdict {
         Verdict::Enough => "The logged data are enough for the annual figures below.",
@@ -192,7 +194,7 @@ fn sufficiency_view(sm: &Summary) -> SufficiencyView {
     SufficiencyView {
         verdict: s.verdict.as_str().into(),
         headline: headline.into(),
-        reasons: s.reasons.clone(),
+        reasons: in_parts(&s.reasons, &s.reason_parts, fmt),
     }
 }
 
@@ -236,6 +238,7 @@ fn empty_view() -> ReportView {
         warnings: vec![],
         baseline_rule: String::new(),
         chart_data: Value::Null,
+        duration_note: String::new(),
     }
 }
 
@@ -287,7 +290,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
     );
     ReportView {
         has_data: true,
-        sufficiency: sufficiency_view(sm),
+        sufficiency: sufficiency_view(sm, fmt),
         period,
         coverage,
         flow_note,
@@ -310,12 +313,48 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
         methods: sm
             .methods
             .iter()
-            .map(|m| (figure_label(&m.figure), Formula(m.formula.clone()), m.source.clone()))
+            .map(|m| {
+                let formula = if m.formula_parts.is_empty() {
+                    m.formula.clone()
+                } else {
+                    render_parts(&m.formula_parts, fmt)
+                };
+                (figure_label(&m.figure), Formula(formula), m.source.clone())
+            })
             .collect(),
-        assumptions: sm.assumptions.clone(),
-        warnings: sm.warnings.clone(),
+        assumptions: in_parts(&sm.assumptions, &sm.assumption_parts, fmt),
+        warnings: in_parts(&sm.warnings, &sm.warning_parts, fmt),
         baseline_rule: sm.baseline.rule.clone(),
         chart_data: chart_data(b, fmt, sm),
+        duration_note: duration_note(sm.period.step_s),
+    }
+}
+
+/// What the flow duration curve's top is (the report's chart and the findings' plot).
+pub fn duration_note(step_s: f64) -> String {
+    format!(
+        "From the analysis' own time steps ({}), highest first: its top is the highest single step, above \
+         the peak flow (the highest 1-minute mean on the clock's minutes).",
+        duration_s(step_s)
+    )
+}
+
+/// A window or time step in words: "15 min", "60 s", "5 s".
+fn duration_s(s: f64) -> String {
+    if s >= 120.0 && (s / 60.0).fract() == 0.0 {
+        format!("{} min", num(s / 60.0, 0))
+    } else {
+        format!("{} s", num(s, 0))
+    }
+}
+
+/// Lines in the reader's units: their parts when the summary has them one for one, else their SI
+/// words (a summary cached before the parts existed).
+fn in_parts(si: &[String], parts: &[Vec<crate::core::recommend::Part>], fmt: &Fmt) -> Vec<String> {
+    if parts.len() == si.len() {
+        parts.iter().map(|p| render_parts(p, fmt)).collect()
+    } else {
+        si.to_vec()
     }
 }
 
@@ -662,11 +701,13 @@ fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
             ),
         ),
         (
-            "Peak flow".into(),
+            "Peak flow, highest 1-minute mean".into(),
             format!(
-                "{} (mean over {} s)",
+                "{} (the highest mean over {} s on the clock's minutes; a single {} time step and the \
+                 top of the flow duration curve read higher)",
                 fmt.flow_m3_min(sys.peak_flow_m3_min),
-                num(sys.peak_flow_window_s, 0)
+                num(sys.peak_flow_window_s, 0),
+                duration_s(sm.period.step_s)
             ),
         ),
         (
@@ -682,9 +723,14 @@ fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
             format!("{} ({})", fmt.percent(d.production_share_of_time), d.production_rule),
         ),
         (
-            "Mean and peak power".into(),
+            "Mean power / peak 15-minute demand".into(),
             match sys.peak_power_kw {
-                Some(p) => format!("{} / {}", fmt.power_kw(sys.mean_power_kw), fmt.power_kw(p)),
+                Some(p) => format!(
+                    "{} / {} (the highest mean over {} on the clock's quarter hours, as the demand charge bills it)",
+                    fmt.power_kw(sys.mean_power_kw),
+                    fmt.power_kw(p),
+                    duration_s(sys.peak_power_window_s)
+                ),
                 None => format!(
                     "{} / peak: {} ({})",
                     fmt.power_kw(sys.mean_power_kw),
@@ -802,8 +848,9 @@ fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)
             format!(
                 "mean {}{}{}; {}",
                 fmt.pressure_delta_bar(d.mean_bar),
-                d.at_peak_flow_bar
-                    .map_or(String::new(), |x| format!(", at peak flow {}", fmt.pressure_delta_bar(x))),
+                d.at_peak_flow_bar.map_or(String::new(), |x| {
+                    format!(", at high flow (the 95th percentile and above) {}", fmt.pressure_delta_bar(x))
+                }),
                 p5_time.map_or(String::new(), |x| format!(
                     ", exceeded 5 % of the time {}",
                     fmt.pressure_delta_bar(x)
