@@ -313,6 +313,7 @@
           ? "This file was imported before with this same mapping: nothing was added. Change the mapping to read it another way."
           : body.replaced_upload_id ? "Imported with this mapping, in place of the earlier import of the same file." : "Imported.";
         showResult(body);
+        refreshFiles();
       } else {
         const er = body.error || { message: "HTTP " + xhr.status };
         const where = [er.line ? "line " + er.line : null, er.column ? "column \u201c" + er.column + "\u201d" : null, er.column ? null : A.fieldWords(er.field)].filter(Boolean).join(", ");
@@ -322,6 +323,18 @@
     xhr.open("POST", "/api/v1/audits/" + data.audit_id + "/uploads" + q);
     xhr.send(fd);
   });
+
+  // The list of the audit's files as the server draws it (with its remap and delete links), so
+  // the file just imported shows at once, as it would after a reload.
+  async function refreshFiles() {
+    try {
+      const r = await fetch("/audits/" + data.audit_id + "/upload", { headers: { Accept: "text/html" } });
+      if (!r.ok) return;
+      const doc = new DOMParser().parseFromString(await r.text(), "text/html");
+      const fresh = doc.getElementById("files");
+      if (fresh) $("files").replaceChildren(...Array.from(fresh.childNodes, (n) => document.importNode(n, true)));
+    } catch (_) { /* the list stays as it was; a reload shows it */ }
+  }
 
   function showResult(r) {
     $("step-result").classList.remove("hidden");
