@@ -109,6 +109,14 @@ fn a_variable_speed_trim_reads_alike_in_the_table_and_the_chart_and_is_not_idlin
         "{row}"
     );
     assert!(row.contains(&format!("about {:.1} %", over * 100.0)) && row.contains(&advised), "{row}");
+    // The findings say it too, beneath the tests' table.
+    let findings = s.get("/audits/1/findings").text;
+    let notes =
+        findings.split("id=\"field-test-notes\"").nth(1).and_then(|n| n.split("</ul>").next()).unwrap_or("");
+    assert!(
+        notes.contains(&format!("test {id}: Isothermal assumption")) && notes.contains(&advised),
+        "{notes}"
+    );
     // The cautions stay where the test is planned.
     assert!(page.contains("Isolate and lock out the compressors"), "the pressure-test cautions");
 }

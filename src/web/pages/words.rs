@@ -164,6 +164,8 @@ pub struct TestRow {
     pub method: String,
     pub input: String,
     pub result: String,
+    /// A bleed-down's isothermal assumption in words ([`isothermal_words`]), shown beneath.
+    pub isothermal: Option<String>,
     pub leak_flow: String,
 }
 
@@ -360,16 +362,11 @@ pub fn test_rows(tests: &[FieldTestRecord], fmt: &Fmt, tz: &str) -> Vec<TestRow>
             TestRow {
                 id: t.id,
                 method: method_words(&t.kind).into(),
-                result: result
+                result: result.as_ref().map(|r| result_words(r, fmt)).unwrap_or_default(),
+                isothermal: result
                     .as_ref()
-                    .map(|r| {
-                        let words = result_words(r, fmt);
-                        match input.as_ref().and_then(|i| isothermal_words(i, r, fmt)) {
-                            Some(iso) => format!("{words} {iso}"),
-                            None => words,
-                        }
-                    })
-                    .unwrap_or_default(),
+                    .zip(input.as_ref())
+                    .and_then(|(r, i)| isothermal_words(i, r, fmt)),
                 input: input
                     .map(|i| input_words(&i, result.as_ref(), fmt, tz))
                     .unwrap_or_else(|| "the inputs could not be read back".into()),
