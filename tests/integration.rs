@@ -36,3 +36,5 @@ mod real_files;
 mod treatment;
 #[path = "integration/undo.rs"]
 mod undo;
+#[path = "integration/walk16.rs"]
+mod walk16;

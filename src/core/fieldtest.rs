@@ -50,7 +50,6 @@ use super::levels::classify;
 use super::model::{CompressorSpec, StorageSpec, WeeklySchedule};
 use super::series::{Frame, Signal};
 use super::states::State;
-use super::thermo::K_AIR;
 use super::units::{FreeAirFlow, PressureAbs, SiteAir, Temperature, UnitSystem, Volume};
 
 /// A field test as the API receives it.
@@ -446,6 +445,52 @@ fn window<'f>(
     }
 }
 
+/// What to do after a bleed-down too fast to be near isothermal, in the reader's units: a longer
+/// fall a technician can time (`leaks::longer_fall`: to half the start's gauge pressure, 15 min at
+/// most), or, when none would help, the result read as an upper bound; with the basis.
+pub fn longer_fall_advice(
+    p1: PressureAbs,
+    p2: PressureAbs,
+    duration_s: f64,
+    iso: &leaks::IsothermalCheck,
+    atm: PressureAbs,
+    units: UnitSystem,
+) -> String {
+    let said = |p: PressureAbs| Entry::GaugePressure.said(units, p.bar_g(atm));
+    let max_min = leaks::BLEED_DOWN_MAX_ADVISED_S / 60.0;
+    let basis = format!(
+        "(basis: the overstatement, (k − 1)/k × thermal time constant / duration, \
+         falls as the fall lengthens; the fall is timed to about half the start's gauge pressure, as \
+         in the US DOE sourcebook's test, and for {max_min:.0} min at most, what a stop of production \
+         usually allows: our judgement)"
+    );
+    match leaks::longer_fall(p1, p2, duration_s, iso, atm) {
+        Some(f) if f.limit == leaks::FallLimit::NearIsothermal => format!(
+            "time a longer fall from the same start: about {:.0} min, to about {}, brings it under {:.0} % {basis}",
+            (f.duration_s / 60.0).ceil(),
+            said(f.end_pressure),
+            100.0 * leaks::ISOTHERMAL_WARNING_FRACTION,
+        ),
+        Some(f) => format!(
+            "time a longer fall from the same start, until the pressure reaches about {} or for {max_min:.0} min, \
+             whichever comes first (about {:.0} min at this leak rate): the overstatement falls to about \
+             {:.0} %, so read that result as an upper bound {basis}",
+            said(PressureAbs(
+                (atm.0 + leaks::BLEED_DOWN_END_SHARE_OF_START_GAUGE * (p1.0 - atm.0))
+                    .max(leaks::CHOKED_PRESSURE_RATIO * atm.0)
+            )),
+            (f.duration_s / 60.0).ceil(),
+            100.0 * f.overstatement,
+        ),
+        None => format!(
+            "no longer fall that a technician can time (to about half the start's gauge pressure, \
+             {max_min:.0} min at most) would read closer at this leak rate: read the result as an \
+             upper bound, about {:.0} % high {basis}",
+            100.0 * iso.overstatement
+        ),
+    }
+}
+
 /// Evaluate one field test.
 pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldTestResult, FieldError> {
     let site = ctx.site;
@@ -495,15 +540,11 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                 vec![format!(
                     "test too short to be near isothermal: over {:.0} s the stored air cools as it \
                      expands (thermal time constant about {:.0} s for this volume), so the leak flow \
-                     may be overstated by about {:.0} %; time a longer fall (over {:.0} min for this \
-                     volume) or read the pressure again after it settles",
+                     may be overstated by about {:.0} %; {}",
                     duration_s,
                     iso.thermal_time_constant_s,
                     100.0 * iso.overstatement,
-                    ((K_AIR - 1.0) / K_AIR * iso.thermal_time_constant_s
-                        / leaks::ISOTHERMAL_WARNING_FRACTION
-                        / 60.0)
-                        .ceil()
+                    longer_fall_advice(p1, p2, *duration_s, &iso, atm, units)
                 )]
             } else {
                 Vec::new()

@@ -161,6 +161,76 @@ pub fn non_isothermal_overstatement(
     }
 }
 
+/// The longest bleed-down the advice asks of a technician, s (our judgement: what a stop of
+/// production and a held system usually allow).
+pub const BLEED_DOWN_MAX_ADVISED_S: f64 = 15.0 * 60.0;
+/// The advised fall ends at this share of the start's gauge pressure: the DOE sourcebook's test
+/// times the fall to about half the operating pressure (leaks fact sheet; from memory).
+pub const BLEED_DOWN_END_SHARE_OF_START_GAUGE: f64 = 0.5;
+/// Absolute pressure over the atmosphere above which a leak stays choked, ((k + 1)/2)^(k/(k-1)) =
+/// 1.893 for k = 1.4 (ideal-gas critical pressure ratio, any gas-dynamics text).
+pub const CHOKED_PRESSURE_RATIO: f64 = 1.893;
+
+/// Why the advised longer fall ends where it does.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FallLimit {
+    /// Long enough for the overstatement to fall to [`ISOTHERMAL_WARNING_FRACTION`].
+    NearIsothermal,
+    /// The pressure reaches half the start's gauge pressure (or the choked limit) first.
+    EndPressure,
+    /// [`BLEED_DOWN_MAX_ADVISED_S`] comes first.
+    MaxDuration,
+}
+
+/// A longer bleed-down a technician can time, at the leak rate the test showed.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LongerFall {
+    pub duration_s: f64,
+    /// Where the pressure will be by then (choked leaks: an exponential fall).
+    pub end_pressure: PressureAbs,
+    /// The overstatement [`non_isothermal_overstatement`] estimates for that duration.
+    pub overstatement: f64,
+    pub limit: FallLimit,
+}
+
+/// The longer fall to advise after a bleed-down flagged as too fast (`None`: no longer fall that a
+/// technician can time would bring the overstatement down by a tenth or more, so the result stands
+/// as an upper bound). The test's leak rate sets the decay's time constant, tau = t / ln(p1 / p2) (choked
+/// leaks, as in [`bleed_down`]); the fall is timed from the same start for the shortest of: the
+/// time at which the overstatement falls to [`ISOTHERMAL_WARNING_FRACTION`], (k - 1)/k × tau_th /
+/// 0.05; the time to reach half the start's gauge pressure ([`BLEED_DOWN_END_SHARE_OF_START_GAUGE`],
+/// and never below the choked limit, [`CHOKED_PRESSURE_RATIO`]); and [`BLEED_DOWN_MAX_ADVISED_S`].
+pub fn longer_fall(
+    p_start: PressureAbs,
+    p_end: PressureAbs,
+    duration_s: f64,
+    check: &IsothermalCheck,
+    atmosphere: PressureAbs,
+) -> Option<LongerFall> {
+    let (p1, p2, atm) = (p_start.0, p_end.0, atmosphere.0);
+    if !(p1 > p2 && p2 > 0.0 && duration_s > 0.0 && atm > 0.0) {
+        return None;
+    }
+    let tau = duration_s / (p1 / p2).ln();
+    let floor = (atm + BLEED_DOWN_END_SHARE_OF_START_GAUGE * (p1 - atm)).max(CHOKED_PRESSURE_RATIO * atm);
+    let to_floor = if floor < p1 { tau * (p1 / floor).ln() } else { 0.0 };
+    let needed = (K_AIR - 1.0) / K_AIR * check.thermal_time_constant_s / ISOTHERMAL_WARNING_FRACTION;
+    let (t, limit) = [
+        (needed, FallLimit::NearIsothermal),
+        (to_floor, FallLimit::EndPressure),
+        (BLEED_DOWN_MAX_ADVISED_S, FallLimit::MaxDuration),
+    ]
+    .into_iter()
+    .min_by(|a, b| a.0.total_cmp(&b.0))?;
+    let overstatement = ((K_AIR - 1.0) / K_AIR * check.thermal_time_constant_s / t).min(K_AIR - 1.0);
+    // Worth asking for only when it is longer and reads clearly closer to the truth (by a tenth of
+    // the overstatement at least: our judgement, the rule's own precision).
+    if !(t > duration_s && overstatement < 0.9 * check.overstatement) {
+        return None;
+    }
+    Some(LongerFall { duration_s: t, end_pressure: PressureAbs(p1 * (-t / tau).exp()), overstatement, limit })
+}
+
 /// Bleed-down test (DOE sourcebook, leaks fact sheet): with the compressors off and no production,
 /// the header falls from `p_start` to `p_end` in `duration_s`. Mean free-air leak flow
 /// Q = V (p1 - p2) / (p_atm t) × T_inlet / T_air ([`stored_air_factor`]); at `operating` pressure it

@@ -226,6 +226,27 @@ pub fn state_stats(grid: &Grid, states: &[State], power_w: &[f32]) -> StateStats
     }
 }
 
+/// Which bins lie in a run of `target` at least `min_bins` long (any other state, a gap too, ends a
+/// run).
+pub fn sustained(states: &[State], target: State, min_bins: usize) -> Vec<bool> {
+    let mut out = vec![false; states.len()];
+    let mut i = 0;
+    while i < states.len() {
+        if states[i] != target {
+            i += 1;
+            continue;
+        }
+        let start = i;
+        while i < states.len() && states[i] == target {
+            i += 1;
+        }
+        if i - start >= min_bins {
+            out[start..i].iter_mut().for_each(|b| *b = true);
+        }
+    }
+    out
+}
+
 /// Mean length of runs of `target` that have a different *logged* state on both sides (a run cut by
 /// the log's ends or by a gap is not a whole period and is left out).
 fn mean_run_s(grid: &Grid, states: &[State], target: State) -> Option<f64> {
@@ -385,6 +406,19 @@ pub fn estimated_flow(spec: &CompressorSpec, states: &[State], power_w: &[f32]) 
 pub(crate) mod tests {
     use super::*;
     use crate::core::model::{CompressorKind, Cooling};
+
+    #[test]
+    fn sustained_marks_only_runs_at_least_as_long_as_asked() {
+        // Runs of Unloaded: 1 bin (index 1), 3 bins (4..7), cut by a gap, 2 bins (8..10) after it.
+        use State::*;
+        let s = [Off, Unloaded, Off, PartLoad, Unloaded, Unloaded, Unloaded, Unknown, Unloaded, Unloaded];
+        let got = sustained(&s, Unloaded, 3);
+        let want = [false, false, false, false, true, true, true, false, false, false];
+        assert_eq!(got, want);
+        // A gap ends a run: the two after it are not joined to the three before it.
+        assert_eq!(sustained(&s, Unloaded, 4), [false; 10]);
+        assert_eq!(sustained(&s, Unloaded, 1).iter().filter(|b| **b).count(), 6);
+    }
 
     pub(crate) fn spec(tag: &str, control: Control, kw: f64, q: f64) -> CompressorSpec {
         CompressorSpec {

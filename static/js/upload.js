@@ -16,6 +16,9 @@
   const ZONES = new Set(Array.from(document.querySelectorAll("#zones option"), (o) => o.value));
   const zoneOk = (z) => ZONES.has(z);
   let sniffed = null;
+  // The mapping this layout was imported with before, when the audit holds one: the form is filled
+  // from it, and so are the columns' notes (the header's guess would contradict it).
+  let remembered = null;
   // The first data rows' time cells as the mapping reads them (a time column's after a space).
   const timeCells = () => {
     if (!sniffed) return [];
@@ -46,7 +49,8 @@
     try {
       const r = await A.json("/api/v1/audits/" + data.audit_id + "/sniff", { method: "POST", body: fd });
       sniffed = r.sniffed;
-      const mapping = r.remembered_mapping || r.suggested_mapping;
+      remembered = r.remembered_mapping || null;
+      const mapping = remembered || r.suggested_mapping;
       $("map-note").textContent = r.remembered_mapping
         ? "This logger's layout was mapped before: the earlier mapping is filled in. Check it."
         : "Suggested from the file's header and first rows. Check every column.";
@@ -139,6 +143,15 @@
 
     const notes = {};
     for (const g of sniffed.columns || []) notes[g.column] = g.note;
+    if (remembered) {
+      // A remembered mapping fills the form: the note says so, in the mapping's own terms.
+      for (const h of sniffed.header) notes[h] = "Left out by the remembered mapping of this layout.";
+      for (const c of remembered.columns || []) {
+        const u = (UNITS[c.quantity] || []).find((x) => x.code === c.unit);
+        notes[c.column] = "From the remembered mapping of this layout: " + (QUANTITY[c.quantity] || c.quantity) +
+          (c.unit ? " in " + (u ? u.label : c.unit) : "") + (c.compressor ? ", compressor " + c.compressor : "") + ".";
+      }
+    }
     const tbody = $("columns-table").querySelector("tbody");
     tbody.replaceChildren();
     for (const h of sniffed.header) {
@@ -313,6 +326,7 @@
           ? "This file was imported before with this same mapping: nothing was added. Change the mapping to read it another way."
           : body.replaced_upload_id ? "Imported with this mapping, in place of the earlier import of the same file." : "Imported.";
         showResult(body);
+        refreshFiles();
       } else {
         const er = body.error || { message: "HTTP " + xhr.status };
         const where = [er.line ? "line " + er.line : null, er.column ? "column \u201c" + er.column + "\u201d" : null, er.column ? null : A.fieldWords(er.field)].filter(Boolean).join(", ");
@@ -322,6 +336,18 @@
     xhr.open("POST", "/api/v1/audits/" + data.audit_id + "/uploads" + q);
     xhr.send(fd);
   });
+
+  // The list of the audit's files as the server draws it (with its remap and delete links), so
+  // the file just imported shows at once, as it would after a reload.
+  async function refreshFiles() {
+    try {
+      const r = await fetch("/audits/" + data.audit_id + "/upload", { headers: { Accept: "text/html" } });
+      if (!r.ok) return;
+      const doc = new DOMParser().parseFromString(await r.text(), "text/html");
+      const fresh = doc.getElementById("files");
+      if (fresh) $("files").replaceChildren(...Array.from(fresh.childNodes, (n) => document.importNode(n, true)));
+    } catch (_) { /* the list stays as it was; a reload shows it */ }
+  }
 
   function showResult(r) {
     $("step-result").classList.remove("hidden");

@@ -816,6 +816,8 @@ mod findings;
 mod forms;
 #[path = "browser_treatment.rs"]
 mod treatment;
+#[path = "browser_upload.rs"]
+mod upload;
 
 /// The report of an audit built from three files that never overlap in time (issue 16) opens with
 /// the sufficiency verdict and its reasons, above the figures, and shows no annual figure: each

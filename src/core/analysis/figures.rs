@@ -148,6 +148,12 @@ pub struct CompressorFigures {
     pub logged_hours: f64,
     pub running_hours: f64,
     pub loaded_hours: f64,
+    /// The free air it delivered over its running hours against its rated free air delivery,
+    /// `air_m3 / (rated_flow_m3_min × 60 × running_hours)` (`None`: no power logged, or it never
+    /// ran). For a machine that follows demand by speed or by capacity (variable speed,
+    /// modulation) this, not its time loaded, says how hard it worked (`machines` module doc).
+    #[serde(default)]
+    pub mean_capacity_share: Option<f64>,
     pub mean_loaded_power_kw: Option<f64>,
     pub mean_unloaded_power_kw: Option<f64>,
     pub mean_loaded_time_s: Option<f64>,

@@ -11,6 +11,11 @@ the per-compressor figures of the summary.
 - **Against the data sheet**: mean power while loaded, beside the data sheet's full-load power corrected
   to the mean pressure while loaded (its own discharge column, else the header) by the ratio of
   isentropic work (`thermo::power_at_pressure`); the replacement measure reads only this.
+- **Load of a machine that follows demand by speed or capacity** (variable speed, modulation):
+  its time loaded (at or above 95 % of full power) says little, as it runs at part capacity most of
+  its running time; its figure is the mean capacity share, the free air it delivered (its own
+  meter, else its states through its part-load curve) over its running hours against its rated
+  free air delivery, beside those running hours (`CompressorFigures::mean_capacity_share`).
 - **Trim machine**: a running variable-speed machine if there is one (a sequencer trims with it);
   otherwise the machine with the largest share of its running time unloaded or at part load.
 */
@@ -303,12 +308,25 @@ pub(super) struct MachineCells {
     mean_loaded_power_kw: Option<f64>,
 }
 
-/// Per compressor: the annualised figures the measures need.
+/// The shortest idle run of a variable-speed machine that counts as idling for the shut-off
+/// measure, s (our judgement: longer than the few minutes a drive idles before it stops itself;
+/// module doc of `recommend` on `shut_off_idle`).
+pub const VSD_IDLE_RUN_S: f64 = 600.0;
+
+/// Per compressor: the annualised figures the measures need. `step_s` is the grid's step.
+///
+/// Idling out of production is the power of the bins read as unloaded outside production. A
+/// variable-speed machine has no unload state in normal running: at low demand it slows down
+/// (part load: delivering air, never idling) and below its minimum speed it idles briefly and
+/// stops itself; a bin read as unloaded is then most often a start or a stop inside the bin. Its
+/// idling counts only in runs read as unloaded for at least [`VSD_IDLE_RUN_S`] (a drive held
+/// idling by its settings); stopped with its drive powered, it reads as off and counts nothing.
 pub(super) fn machine_cells(
     cs: &[CompressorSpec],
     logged: &Logged,
     cal: &Calendar,
     is_prod: &[bool],
+    step_s: f64,
 ) -> Vec<MachineCells> {
     let cells = &cal.cells;
     let mut machines = Vec::new();
@@ -318,9 +336,13 @@ pub(super) fn machine_cells(
         let unl_w = logged.unloaded_w[i].unwrap_or(c.unloaded_power_fraction * c.rated_power_kw * 1000.0);
         let (idle_np, above) = match (logged.powers[i], &logged.states[i]) {
             (Some(p), Some(sv)) => {
+                let held: Option<Vec<bool>> = (c.control == Control::VariableSpeed).then(|| {
+                    let min_bins = (VSD_IDLE_RUN_S / step_s.max(1e-9)).ceil().max(1.0) as usize;
+                    states::sustained(sv, State::Unloaded, min_bins)
+                });
                 let idle = |k: usize| match sv[k] {
                     State::Unknown => f32::NAN,
-                    State::Unloaded if !is_prod[k] => p[k],
+                    State::Unloaded if !is_prod[k] && held.as_ref().is_none_or(|h| h[k]) => p[k],
                     _ => 0.0,
                 };
                 let above = |k: usize| {
@@ -466,6 +488,7 @@ pub(super) fn compressor_figures(
             logged_hours: s0.logged_hours,
             running_hours: s0.running_hours,
             loaded_hours: s0.loaded_hours,
+            mean_capacity_share: mean_capacity_share(a.air_m3, c.rated_flow_m3_min, s0.running_hours),
             mean_loaded_power_kw: s0.mean_loaded_power_kw,
             mean_unloaded_power_kw: s0.mean_unloaded_power_kw,
             mean_loaded_time_s: s0.mean_loaded_time_s,
@@ -496,6 +519,13 @@ pub(super) fn compressor_figures(
         });
     }
     comp_fig
+}
+
+/// The free air delivered over the running hours against the rated free air delivery: `air_m3 /
+/// (rated_flow_m3_min × 60 × running_hours)` (`None` when it never ran or has no rating).
+pub(super) fn mean_capacity_share(air_m3: f64, rated_flow_m3_min: f64, running_hours: f64) -> Option<f64> {
+    (running_hours > 0.0 && rated_flow_m3_min > 0.0 && air_m3.is_finite())
+        .then(|| air_m3 / (rated_flow_m3_min * 60.0 * running_hours))
 }
 
 /// Air-weighted specific power of the machines with logged power at full load, at the pressure each

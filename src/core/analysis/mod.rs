@@ -240,7 +240,7 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
     let production = production::production(spec.production.as_ref(), &cal, q, total_power, pressure, n);
     let running_cells = baseline::running_cells(&cal, &logged);
     let power_cells = baseline::power_cells(&cal, &logged);
-    let machines = machines::machine_cells(cs, &logged, &cal, &production.is_prod);
+    let machines = machines::machine_cells(cs, &logged, &cal, &production.is_prod, grid.step_s());
     let loaded_pressure_bar_g = machines::loaded_pressure(frame, &logged, atm);
     let fits = machines::fits(frame, cs, &logged);
     let control = control::control_case(&grid, spec, &logged, &cal, trim, &fits);

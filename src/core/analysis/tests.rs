@@ -737,3 +737,70 @@ fn heat_is_valued_by_the_stored_heat_use_on_the_machines_that_ran() {
     let sum: f64 = r.recommendations.iter().map(|m| m.annual_energy_saving_kwh).sum();
     assert!((t.annual_energy_saving_kwh - sum).abs() < 1e-6);
 }
+
+/// A variable-speed machine (45 kW, 7.6 m³/min, the typical curve of `core::states`) logged for a
+/// week at 1 min: 30 kW through production (weekdays 06-22 h, the schedule on record) and, in each
+/// other hour, 30 kW but for minutes 20-40, where it is at 9 kW (read as unloaded: below the
+/// midpoint of its unloaded 11.25 kW and its lowest running 13.32 kW) for `idle_min` minutes and
+/// then off.
+fn vsd_week(idle_min: usize) -> (SiteSpec, Vec<CompressorSpec>, Frame) {
+    let mut s = site();
+    s.timezone = "UTC".into();
+    let mut hours = [[false; 24]; 7];
+    for d in hours.iter_mut().take(5) {
+        for h in d.iter_mut().take(22).skip(6) {
+            *h = true;
+        }
+    }
+    s.production = Some(WeeklySchedule { hours });
+    let cs = vec![spec("V1", Control::VariableSpeed, 45.0, 7.6)];
+    let n = 7 * 24 * 60;
+    let power = (0..n)
+        .map(|i| {
+            let (d, h, m) = (i / 1440, (i % 1440) / 60, i % 60);
+            let production = d < 5 && (6..22).contains(&h);
+            match m {
+                _ if production => 30_000.0,
+                20..=40 if m < 20 + idle_min => 9_000.0,
+                20..=40 => 0.0,
+                _ => 30_000.0,
+            }
+        })
+        .collect();
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 60_000, len: n },
+        columns: vec![col(Signal::Power, Some(0), power)],
+    };
+    (s, cs, frame)
+}
+
+#[test]
+fn a_variable_speed_machine_reads_as_its_mean_capacity_and_idles_only_when_held_idle() {
+    // Issue 16. Its load is its mean capacity: at 30 kW the typical curve P/P_full = 0.12 + 0.88 x
+    // gives x = (30/45 - 0.12) / 0.88 = 0.621212 of its rated flow; at 9 kW it delivers nothing.
+    // One minute idle before each stop (a stop inside the minute): not idling to switch off.
+    let (s, cs, frame) = vsd_week(1);
+    let r = run(&s, &cs, &frame, vec![]);
+    let c = &r.compressors[0];
+    assert!(c.unloaded_fraction > 0.0, "the 9 kW minutes read as unloaded: {c:?}");
+    // Running: 168 h less 88 non-production hours × 20 min off.
+    let running_h = 168.0 - 88.0 * 20.0 / 60.0;
+    assert!((c.running_hours - running_h).abs() < 1e-9, "{}", c.running_hours);
+    // Air: (running minutes at 30 kW) × 0.621212 × 7.6 m³/min, over running hours × 7.6 m³/min.
+    let at_30_h = running_h - 88.0 / 60.0;
+    let share = at_30_h * 0.621_212_121 / running_h;
+    let got = c.mean_capacity_share.unwrap();
+    assert!((got - share).abs() < 1e-5, "{got} against {share}");
+    assert!(
+        !r.recommendations.iter().any(|m| m.kind == MeasureKind::ShutOffIdle),
+        "a stop inside a minute is not idling: {:?}",
+        r.recommendations.iter().map(|m| &m.kind).collect::<Vec<_>>()
+    );
+    // Held idle 15 min in each non-production hour: idling, priced as the logged pattern over 52
+    // weeks, 88 h × (15/60 × 9 kW) × 52 = 10,296 kWh/yr.
+    let (s, cs, frame) = vsd_week(15);
+    let r = run(&s, &cs, &frame, vec![]);
+    let m = r.recommendations.iter().find(|m| m.kind == MeasureKind::ShutOffIdle).expect("shut-off offered");
+    let basis = serde_json::to_string(&m.basis).unwrap();
+    assert!(basis.contains("V1 unloaded out of production 10296 kWh/yr"), "{basis}");
+}

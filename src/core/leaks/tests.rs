@@ -376,3 +376,40 @@ fn leak_share_bands_follow_the_doe_benchmarks() {
     assert!(LeakShareBand::WellMaintained.describe().contains("10 %"));
     assert!(LeakShareBand::PoorlyMaintained.describe().contains("20-30 %"));
 }
+
+#[test]
+fn the_advised_longer_fall_is_bounded_by_half_the_start_gauge_pressure_and_15_min() {
+    // Hand arithmetic, p in Pa(abs), p_atm 1 bar, k = 1.4 so (k - 1)/k = 2/7. The decay's time
+    // constant from the test, tau = t / ln(p1 / p2) (choked leaks: an exponential fall).
+    let atm = PressureAbs(1e5);
+    let check = |tau_th: f64, t: f64| IsothermalCheck {
+        thermal_time_constant_s: tau_th,
+        overstatement: (2.0 / 7.0 * tau_th / t).min(0.4),
+        too_fast: true,
+    };
+    // 7 -> 6 bar(g) in 120 s, tau_th 600 s: tau = 120 / ln(8/7) = 898.66 s; half the start gauge
+    // is 3.5 bar(g) = 4.5e5 Pa, reached after 898.66 × ln(8/4.5) = 517.06 s, before the 15 min
+    // cap and before the (2/7) × 600 / 0.05 = 3428.6 s the 5 % limit would take; the
+    // overstatement then is (2/7) × 600 / 517.06 = 0.3316.
+    let f = longer_fall(PressureAbs(8e5), PressureAbs(7e5), 120.0, &check(600.0, 120.0), atm).unwrap();
+    assert_eq!(f.limit, FallLimit::EndPressure);
+    assert!((f.duration_s - 517.06).abs() < 0.01, "{f:?}");
+    assert!((f.end_pressure.0 - 4.5e5).abs() < 1.0, "{f:?}");
+    assert!((f.overstatement - 0.33155).abs() < 1e-4, "{f:?}");
+    // A slow leak (7 -> 6.9 bar(g) in 120 s: tau = 120 / ln(8/7.9) = 9539.9 s) and a small vessel
+    // (tau_th 60 s): 5 % is reached after (2/7) × 60 / 0.05 = 342.86 s, at 8e5 × e^(-342.86/9539.9)
+    // = 7.7176e5 Pa.
+    let f = longer_fall(PressureAbs(8e5), PressureAbs(7.9e5), 120.0, &check(60.0, 120.0), atm).unwrap();
+    assert_eq!(f.limit, FallLimit::NearIsothermal);
+    assert!((f.duration_s - 342.857).abs() < 0.01 && (f.overstatement - 0.05).abs() < 1e-9, "{f:?}");
+    assert!((f.end_pressure.0 - 7.7176e5).abs() < 10.0, "{f:?}");
+    // Slow leak, big vessel (tau_th 3000 s): 15 min comes first, overstatement (2/7) × 3000 / 900
+    // = 0.952, capped at k - 1 = 0.4 as the test's own: nothing gained, no advice of a longer fall.
+    assert_eq!(longer_fall(PressureAbs(8e5), PressureAbs(7.9e5), 120.0, &check(3000.0, 120.0), atm), None);
+    // tau_th 240 s: at 900 s, (2/7) × 240 / 900 = 0.0762, below the test's 0.571 -> 0.4.
+    let f = longer_fall(PressureAbs(8e5), PressureAbs(7.9e5), 120.0, &check(240.0, 120.0), atm).unwrap();
+    assert_eq!(f.limit, FallLimit::MaxDuration);
+    assert!((f.duration_s - 900.0).abs() < 1e-9 && (f.overstatement - 0.07619).abs() < 1e-4, "{f:?}");
+    // A test that already fell past half the start gauge pressure (7 -> 3 bar(g)): no longer fall.
+    assert_eq!(longer_fall(PressureAbs(8e5), PressureAbs(4e5), 100.0, &check(600.0, 100.0), atm), None);
+}

@@ -1,11 +1,12 @@
 //! Every delete on the pages takes two steps that work without JavaScript: the "remove…" link
 //! opens a page that says what goes with the record, and only its form (which carries
 //! `confirm=yes`) deletes. A post without it (an old bookmark, a stray form) only shows that page.
+//! A file deleted from the upload page (`?from=upload`, carried by the form) comes back there.
 
 use std::collections::HashMap;
 
 use askama::Template;
-use axum::extract::{Path, State};
+use axum::extract::{Path, Query, State};
 use axum::response::{IntoResponse, Redirect};
 use axum::Form;
 
@@ -24,6 +25,8 @@ struct ConfirmPage {
     action: String,
     back: String,
     button: String,
+    /// The page the delete came from (`from`), carried by the form.
+    from: String,
 }
 
 /// What can be deleted from the pages.
@@ -46,10 +49,11 @@ impl Kind {
             Self::Scenario => "scenarios",
         }
     }
-    /// The page the record is listed on.
-    fn back(self, id: i64) -> String {
+    /// The page the record is listed on (a file is listed on the upload page too: `from`).
+    fn back(self, id: i64, from: Option<&str>) -> String {
         match self {
-            Self::Compressor | Self::Receiver | Self::Upload => format!("/audits/{id}"),
+            Self::Upload => super::files_page(id, from),
+            Self::Compressor | Self::Receiver => format!("/audits/{id}"),
             Self::FieldTest => format!("/audits/{id}/tests"),
             Self::Scenario => format!("/audits/{id}/scenarios"),
         }
@@ -152,7 +156,7 @@ async fn describe(
     })
 }
 
-async fn ask(st: &AppState, kind: Kind, id: i64, item: i64) -> PageResult {
+async fn ask(st: &AppState, kind: Kind, id: i64, item: i64, from: Option<&str>) -> PageResult {
     let b = st.app.bundle(id).await?;
     let (title, lines, button) = describe(st, &b, kind, item).await?;
     Ok(render(&ConfirmPage {
@@ -160,14 +164,18 @@ async fn ask(st: &AppState, kind: Kind, id: i64, item: i64) -> PageResult {
         lines,
         button,
         action: format!("/audits/{id}/{}/{item}/delete", kind.segment()),
-        back: kind.back(id),
+        back: kind.back(id, from),
+        from: from.filter(|f| *f == "upload").unwrap_or_default().to_string(),
         audit: b.audit,
     }))
 }
 
 async fn delete(st: &AppState, kind: Kind, id: i64, item: i64, form: &HashMap<String, String>) -> PageResult {
+    let from = form.get("from").map(String::as_str);
     if form.get("confirm").map(String::as_str) != Some("yes") {
-        return Ok(Redirect::to(&format!("/audits/{id}/{}/{item}/delete", kind.segment())).into_response());
+        let again = format!("/audits/{id}/{}/{item}/delete", kind.segment());
+        let again = if from == Some("upload") { again + "?from=upload" } else { again };
+        return Ok(Redirect::to(&again).into_response());
     }
     let app = &st.app;
     let found = match kind {
@@ -184,13 +192,17 @@ async fn delete(st: &AppState, kind: Kind, id: i64, item: i64, form: &HashMap<St
     if !found {
         return Err(gone(kind.segment().trim_end_matches('s'), id, item));
     }
-    Ok(Redirect::to(&kind.back(id)).into_response())
+    Ok(Redirect::to(&kind.back(id, from)).into_response())
 }
 
 macro_rules! confirm_routes {
     ($($ask:ident, $delete:ident, $kind:expr;)*) => {$(
-        pub async fn $ask(State(st): State<AppState>, Path((id, item)): Path<(i64, i64)>) -> PageResult {
-            ask(&st, $kind, id, item).await
+        pub async fn $ask(
+            State(st): State<AppState>,
+            Path((id, item)): Path<(i64, i64)>,
+            Query(q): Query<HashMap<String, String>>,
+        ) -> PageResult {
+            ask(&st, $kind, id, item, q.get("from").map(String::as_str)).await
         }
         pub async fn $delete(
             State(st): State<AppState>,

@@ -81,6 +81,16 @@ pub async fn not_found() -> PageError {
     PageError(AppError::NotFound("there is no such page".into()))
 }
 
+/// The page an upload's delete or remap comes back to: the upload page when it was started there
+/// (`from=upload`), else the audit's page.
+pub(crate) fn files_page(id: i64, from: Option<&str>) -> String {
+    if from == Some("upload") {
+        format!("/audits/{id}/upload")
+    } else {
+        format!("/audits/{id}")
+    }
+}
+
 /// `?units=si|us`: the reader's unit system for one view.
 #[derive(Deserialize, Default)]
 pub struct ViewQuery {

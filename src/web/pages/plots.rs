@@ -241,31 +241,31 @@ pub async fn findings_plots(
         });
     }
     if !sm.compressors.is_empty() {
-        let has_part = sm.compressors.iter().any(|c| c.part_load_fraction > 0.0);
+        // A machine that follows demand by speed or capacity is running, not loaded, between off
+        // and full power: its bar shows that share, and its note the same words as the table.
+        let variable = super::view::follows_demand;
+        let has_variable = sm.compressors.iter().any(variable);
         let mut parts = vec!["loaded".to_string()];
-        if has_part {
-            parts.push("part load".into());
+        if has_variable {
+            parts.push("running (variable speed or capacity)".into());
         }
         parts.extend(["unloaded".to_string(), "off".to_string()]);
         let rows = sm
             .compressors
             .iter()
             .map(|c| {
-                let mut v = vec![c.loaded_fraction * 100.0];
-                if has_part {
-                    v.push(c.part_load_fraction * 100.0);
+                let running = (c.loaded_fraction + c.part_load_fraction.max(0.0)) * 100.0;
+                let mut v = vec![if variable(c) { 0.0 } else { running }];
+                if has_variable {
+                    v.push(if variable(c) { running } else { 0.0 });
                 }
                 v.extend([c.unloaded_fraction * 100.0, c.off_fraction * 100.0]);
-                BarRow {
-                    label: c.tag.clone(),
-                    parts: v,
-                    note: format!("loaded {}", fmt.percent(c.loaded_fraction)),
-                }
+                BarRow { label: c.tag.clone(), parts: v, note: super::view::load_words(c, fmt) }
             })
             .collect();
         let chart = BarChart {
             id: "plot-load".into(),
-            title: "Each compressor's share of the logged time loaded, unloaded and off".into(),
+            title: "Each compressor's share of the logged time loaded (or running, at variable speed or capacity), unloaded and off".into(),
             x: Axis::numeric("Share of the logged time, %", 0.0, 100.0, 5),
             parts,
             rows,
@@ -274,7 +274,7 @@ pub async fn findings_plots(
             id: "plot-load",
             heading: "Compressor load: share of the logged time".into(),
             svg: bar_chart_svg(&chart),
-            note: "From the states found in each machine's logged power.".into(),
+            note: "From the states found in each machine's logged power. A machine at variable speed or capacity runs between off and full power: its bar shows the time it ran, its note its mean capacity (the free air it delivered over its running hours against its rated free air delivery), as in the compressor table.".into(),
         });
     }
 

@@ -1,12 +1,13 @@
 //! Correct an upload's mapping: its columns as stored, each with its quantity, unit (as people
 //! write it) and compressor to change or leave out, and the logger's time zone; posted, the kept
 //! original is imported again with it (`App::remap_upload`). A refused mapping shows the page
-//! again with the reason, and the earlier import stays.
+//! again with the reason, and the earlier import stays. Opened from the upload page
+//! (`?from=upload`, carried by the form), it comes back there.
 
 use std::collections::HashMap;
 
 use askama::Template;
-use axum::extract::{Path, State};
+use axum::extract::{Path, Query, State};
 use axum::http::StatusCode;
 use axum::response::{IntoResponse, Redirect};
 use axum::Form;
@@ -72,6 +73,9 @@ struct RemapPage {
     /// For `static/js/remap.js`: the audit, the first rows' time cells and the interval end.
     page_data: serde_json::Value,
     error: Option<String>,
+    /// The page it was opened from (`from=upload`, else empty), and the page to come back to.
+    from: String,
+    back: String,
 }
 
 /// The first data rows' time cells as mapping `m` reads them (a time column's after a space).
@@ -144,6 +148,7 @@ fn page(
     m: &Mapping,
     sniffed: Option<&crate::ingest::Sniffed>,
     error: Option<String>,
+    from: Option<&str>,
 ) -> RemapPage {
     let extra = extra_columns(sniffed, m);
     let cells = time_cells(sniffed, m);
@@ -209,15 +214,21 @@ fn page(
         preview_rows,
         page_data,
         error,
+        from: from.filter(|f| *f == "upload").unwrap_or_default().to_string(),
+        back: super::files_page(b.audit.id, from),
         audit: b.audit,
     }
 }
 
-pub async fn remap(State(st): State<AppState>, Path((id, uid)): Path<(i64, i64)>) -> PageResult {
+pub async fn remap(
+    State(st): State<AppState>,
+    Path((id, uid)): Path<(i64, i64)>,
+    Query(q): Query<HashMap<String, String>>,
+) -> PageResult {
     let b = st.app.bundle(id).await?;
     let (filename, m) = stored(&b, uid)?;
     let sniffed = st.app.sniff_original(uid).await?;
-    Ok(render(&page(b, uid, filename, &m, sniffed.as_ref(), None)))
+    Ok(render(&page(b, uid, filename, &m, sniffed.as_ref(), None, q.get("from").map(String::as_str))))
 }
 
 /// The stored mapping with the form's changes: columns left out are dropped, the others take the
@@ -315,16 +326,17 @@ pub async fn save_remap(
     let b = st.app.bundle(id).await?;
     let (filename, m) = stored(&b, uid)?;
     let m = changed(m, &form);
+    let from = form.get("from").map(String::as_str);
     // "Show how the times read": the page again with the choices made, nothing imported.
     if form.contains_key("preview") {
         let sniffed = st.app.sniff_original(uid).await?;
-        return Ok(render(&page(b, uid, filename, &m, sniffed.as_ref(), None)));
+        return Ok(render(&page(b, uid, filename, &m, sniffed.as_ref(), None, from)));
     }
     let error = if m.columns.is_empty() {
         AppError::field("columns", "leave at least one column in: a file of no columns holds no readings")
     } else {
         match st.app.remap_upload(id, uid, m.clone(), false, None).await {
-            Ok(_) => return Ok(Redirect::to(&format!("/audits/{id}")).into_response()),
+            Ok(_) => return Ok(Redirect::to(&super::files_page(id, from)).into_response()),
             Err(e) => AppError::from(e),
         }
     };
@@ -348,7 +360,7 @@ pub async fn save_remap(
     };
     let sniffed = st.app.sniff_original(uid).await?;
     let shown = Some(format!("The file was not read again: {message}"));
-    let mut res = render(&page(b, uid, filename, &m, sniffed.as_ref(), shown));
+    let mut res = render(&page(b, uid, filename, &m, sniffed.as_ref(), shown, from));
     *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
     Ok(res)
 }

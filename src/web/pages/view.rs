@@ -583,6 +583,39 @@ fn measures(sm: &Summary, fmt: &Fmt, cur: &str) -> (Vec<RecView>, f64, f64) {
     (recs, tot_save, tot_cost)
 }
 
+/// A compressor's load in words, the same on the load chart (`plots`, its bar's note) and in the
+/// compressor table ([`load_cell`]): the share of its logged time loaded for a machine that loads
+/// and unloads (or starts and stops); for one that follows demand by speed or by capacity (variable
+/// speed, modulation), whose time "loaded" (at full power) says little, its mean capacity share
+/// (`CompressorFigures::mean_capacity_share`).
+pub fn load_words(c: &crate::core::analysis::CompressorFigures, fmt: &Fmt) -> String {
+    if c.logged_hours <= 0.0 {
+        return "no power logged".into();
+    }
+    if follows_demand(c) {
+        format!("mean capacity {}", fmt.percent(c.mean_capacity_share.unwrap_or(f64::NAN)))
+    } else {
+        format!("loaded {}", fmt.percent(c.loaded_fraction))
+    }
+}
+
+/// A machine that follows demand by speed or by capacity (variable speed, modulation).
+pub fn follows_demand(c: &crate::core::analysis::CompressorFigures) -> bool {
+    use crate::core::model::Control;
+    matches!(c.control, Control::VariableSpeed | Control::Modulation)
+}
+
+/// The compressor table's load cell: [`load_words`], and the running hours of a machine that
+/// follows demand (its mean capacity is over them).
+fn load_cell(c: &crate::core::analysis::CompressorFigures, fmt: &Fmt) -> String {
+    let w = load_words(c, fmt);
+    if follows_demand(c) && c.logged_hours > 0.0 {
+        format!("{w} over {} h running", num(c.running_hours, 1))
+    } else {
+        w
+    }
+}
+
 fn compressor_rows(sm: &Summary, fmt: &Fmt) -> Vec<CompressorRow> {
     sm.compressors
         .iter()
@@ -591,7 +624,7 @@ fn compressor_rows(sm: &Summary, fmt: &Fmt) -> Vec<CompressorRow> {
             control: human_label(c.control.as_str()),
             energy: fmt.energy_kwh(c.energy_kwh),
             mean_power: fmt.power_kw(c.mean_power_kw),
-            loaded: fmt.percent(c.loaded_fraction + c.part_load_fraction.max(0.0)),
+            loaded: load_cell(c, fmt),
             unloaded: fmt.percent(c.unloaded_fraction),
             off: fmt.percent(c.off_fraction),
             cycles: format!("{} /h", num(c.cycles_per_hour, 1)),
