@@ -11,7 +11,7 @@ use super::rollup::{decode_day, Acc, DAY_MS, HOUR_MS, MINUTE_MS};
 use super::StoreError;
 use crate::core::basis::{Basis, StoredForm};
 use crate::core::series::{
-    Aligner, CounterAligner, Frame, FrameColumn, Grid, Partial, PressurePoint, Signal,
+    merge_power, Aligner, CounterAligner, Frame, FrameColumn, Grid, Partial, PressurePoint, Signal,
 };
 use crate::core::units::SiteAir;
 
@@ -245,7 +245,10 @@ pub async fn load_frame(
     for h in running {
         aligned.push(joined(h.await)?);
     }
-    let mut columns = Vec::with_capacity(chans.len());
+    let mut columns: Vec<FrameColumn> = Vec::with_capacity(chans.len());
+    // A compressor's energy counter joins its logged power as one column (`core::series::merge`):
+    // kept aside until every column is built, so the order of the channels does not matter.
+    let mut counters: Vec<FrameColumn> = vec![];
     for (c, (values, partial)) in chans.iter().zip(aligned) {
         let signal = match c.quantity.as_str() {
             "power" | "energy" => Signal::Power,
@@ -253,14 +256,30 @@ pub async fn load_frame(
             "flow" => Signal::Flow,
             _ => Signal::Temperature,
         };
-        columns.push(FrameColumn {
+        let column = FrameColumn {
             point: c.point.as_deref().and_then(PressurePoint::parse).unwrap_or_default(),
             signal,
             compressor: c.compressor_id.and_then(|id| compressor_ids.iter().position(|&x| x == id)),
             label: c.name(),
             values,
             partial,
-        });
+        };
+        if c.quantity == "energy" && column.compressor.is_some() {
+            counters.push(column);
+        } else {
+            columns.push(column);
+        }
+    }
+    for counter in counters {
+        let power =
+            columns.iter().position(|p| p.signal == Signal::Power && p.compressor == counter.compressor);
+        match power {
+            Some(k) => {
+                let p = columns.remove(k);
+                columns.insert(k, merge_power(p, &counter));
+            }
+            None => columns.push(counter),
+        }
     }
     Ok(Some(Frame { grid, columns }))
 }
