@@ -44,7 +44,9 @@ figures add the machines up, so only those hours show the plant as one system.
   below the mean power (the machines' logs do not overlap enough for a simultaneous peak); the
   demand charge, and with it the annual cost, when a demand charge is set and the peak is withheld;
 - with the verdict insufficient: every annual figure (baseline, heat, compressors, leak cost) and
-  every measure.
+  every measure, and every share of demand of the leaks (the adopted one and each estimate's);
+- a leak share above 100 %, the adopted one or an estimate's: a leak flow above the mean demand it
+  is compared with means the test and the flow log describe different conditions, and is no share.
 */
 
 use crate::core::series::Grid;
@@ -363,6 +365,10 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
             *f = None;
         }
         withhold(&mut w, "leaks.share_of_mean_demand", &why);
+        for e in &mut l.estimates {
+            e.share_of_mean_demand = None;
+        }
+        withhold(&mut w, "leaks.estimates[].share_of_mean_demand", &why);
         for d in &mut s.transmission.pressure_drops {
             d.annual_energy_kwh = None;
             d.annual_cost = None;
@@ -373,5 +379,39 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         s.measures_total = None;
         withhold(&mut w, "recommendations", &why);
     }
+    leak_shares_over_whole(s, &mut w);
     s.sufficiency.withheld = w;
+}
+
+/// A leak flow above the mean demand it is compared with is no share of it (a test of one day
+/// against another day's flow log read as 1,883 %): such a share is withheld, the adopted one and
+/// each estimate's alike.
+fn leak_shares_over_whole(s: &mut Summary, w: &mut Vec<Withheld>) {
+    let why = "the leak flow is more than the logged mean demand: the leak test and the flow log do not \
+               describe the plant under the same conditions, so it is no share of that demand";
+    let l = &mut s.leaks;
+    if l.share_of_mean_demand.is_some_and(|x| x > 1.0) {
+        for f in [
+            &mut l.share_of_mean_demand,
+            &mut l.share_of_mean_demand_low,
+            &mut l.share_of_mean_demand_high,
+            &mut l.share_of_production_demand,
+            &mut l.share_of_non_production_demand,
+        ] {
+            *f = None;
+        }
+        withhold(w, "leaks.share_of_mean_demand", why);
+    }
+    for f in [&mut l.share_of_production_demand, &mut l.share_of_non_production_demand] {
+        if f.is_some_and(|x| x > 1.0) {
+            *f = None;
+            withhold(w, "leaks.share_of_mean_demand", why);
+        }
+    }
+    for e in &mut l.estimates {
+        if e.share_of_mean_demand.is_some_and(|x| x > 1.0) {
+            e.share_of_mean_demand = None;
+            withhold(w, "leaks.estimates[].share_of_mean_demand", why);
+        }
+    }
 }
