@@ -402,12 +402,6 @@ fn leak_shares_over_whole(s: &mut Summary, w: &mut Vec<Withheld>) {
         }
         withhold(w, "leaks.share_of_mean_demand", why);
     }
-    for f in [&mut l.share_of_production_demand, &mut l.share_of_non_production_demand] {
-        if f.is_some_and(|x| x > 1.0) {
-            *f = None;
-            withhold(w, "leaks.share_of_mean_demand", why);
-        }
-    }
     for e in &mut l.estimates {
         if e.share_of_mean_demand.is_some_and(|x| x > 1.0) {
             e.share_of_mean_demand = None;
