@@ -184,7 +184,8 @@ fn files_far_apart_in_time_are_insufficient() {
     let sm = run(&s, &cs, &frame);
     assert_eq!(sm.sufficiency.verdict, Verdict::Insufficient);
     assert!(
-        sm.sufficiency.reasons[0].starts_with("power covers 0.4 % of the logged period"),
+        sm.sufficiency.reasons[0]
+            .starts_with("power covers 0.4 % of the span from the first reading to the last"),
         "{:?}",
         sm.sufficiency
     );

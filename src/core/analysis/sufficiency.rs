@@ -16,17 +16,17 @@ figures add the machines up, so only those hours show the plant as one system.
 - power hours under [`MIN_POWER_HOURS`] (1 h): not even a few load/unload cycles of a trim machine
   (common practice) were seen together, so the plant's demand is unknown — this is the case of
   machines logged at different times, whose sum was never observed;
-- power covering under [`MIN_PERIOD_COVERAGE`] (10 %) of the logged period: the files lie far apart in
-  time (different weeks, seasons or years, or files of another system), and one annual figure would
-  mix them. A window (`?from=&to=`) around one stretch of logging can be analysed on its own.
+- power covering under [`MIN_PERIOD_COVERAGE`] (10 %) of the span from the first reading to the
+  last: the files lie far apart in time (different weeks, seasons or years, or files of another
+  system), and one annual figure would mix them. A window (`?from=&to=`) around one stretch of logging can be analysed on its own.
 
 **Thin** (annual figures given, to be read as indicative; each reason is listed):
 - power hours under [`FULL_WEEK_HOURS`] (167 h: a logger week rarely spans exactly 168 h, the same
   allowance as the baseline's weekly rule; counted on the site's clock, so a week over a spring
   daylight-saving change, 167 h elapsed, is a whole week), or fewer than 7 weekdays logged: less than the full
   production week of common practice; the annual figure repeats what was seen;
-- power covering under [`THIN_PERIOD_COVERAGE`] (50 %) of the logged period: the files leave large
-  gaps or overlap little;
+- power covering under [`THIN_PERIOD_COVERAGE`] (50 %) of the span from the first reading to the
+  last: the files leave large gaps or overlap little;
 - flow measured but logged together with power in under [`MIN_OVERLAP_SHARE`] (50 %) of the power
   hours; the same for the header pressure;
 - a header pressure log that is not credible (below).
@@ -58,9 +58,9 @@ use super::figures::{PressureFigures, Sufficiency, Summary, Verdict, Withheld};
 pub const MIN_POWER_HOURS: f64 = 1.0;
 /// Below this many power hours the data are thin: less than a full week (module doc).
 pub const FULL_WEEK_HOURS: f64 = 167.0;
-/// Below this share of the logged period covered by power the data are insufficient.
+/// Below this share of the span (first reading to last) covered by power the data are insufficient.
 pub const MIN_PERIOD_COVERAGE: f64 = 0.10;
-/// Below this share of the logged period covered by power the data are thin.
+/// Below this share of the span (first reading to last) covered by power the data are thin.
 pub const THIN_PERIOD_COVERAGE: f64 = 0.50;
 /// Below this share of the power hours with flow (or pressure) logged too the data are thin.
 pub const MIN_OVERLAP_SHARE: f64 = 0.50;
@@ -172,8 +172,8 @@ pub(super) fn assess(o: &Overlap, power_logged: bool, pressure: Option<&Result<(
         ));
     } else if share < MIN_PERIOD_COVERAGE {
         insufficient.push(format!(
-            "power covers {} % of the logged period ({:.0} h of {:.0} h, under {:.0} %): the files lie far \
-             apart in time and one annual figure would mix them; analyse one stretch of logging at a time",
+            "power covers {} % of the span from the first reading to the last ({:.0} h of {:.0} h, under \
+             {:.0} %): the files lie far apart in time and one annual figure would mix them; analyse one stretch of logging at a time",
             percent(share),
             power_h,
             total_h,
@@ -190,7 +190,8 @@ pub(super) fn assess(o: &Overlap, power_logged: bool, pressure: Option<&Result<(
         }
         if (MIN_PERIOD_COVERAGE..THIN_PERIOD_COVERAGE).contains(&share) {
             thin.push(format!(
-                "power covers {:.0} % of the logged period (under {:.0} %): the files leave large gaps",
+                "power covers {:.0} % of the span from the first reading to the last (under {:.0} %): the \
+                 files leave large gaps",
                 share * 100.0,
                 THIN_PERIOD_COVERAGE * 100.0
             ));
