@@ -32,6 +32,8 @@ mod partload;
 mod reader_units;
 #[path = "integration/real_files.rs"]
 mod real_files;
+#[path = "integration/thin_files.rs"]
+mod thin_files;
 #[path = "integration/treatment.rs"]
 mod treatment;
 #[path = "integration/undo.rs"]

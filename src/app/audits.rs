@@ -13,6 +13,32 @@ use crate::store::read::{self, ChannelInfo, ChartPoint, UploadChannelStats};
 
 use super::{App, Error, Result};
 
+/// What the report reads from the stored readings beside the summary.
+#[derive(Debug, Clone, Default)]
+pub struct ReadFacts {
+    /// The runs of UTC hours that hold readings (`read::logged_hour_spans`): the day selector
+    /// lists the site's days these touch, and no other.
+    pub logged_hours: Vec<(i64, i64)>,
+    /// The least and greatest reading of the header pressure channel, Pa absolute: what the
+    /// pressure chart's band reaches, every reading kept.
+    pub header_extremes_pa: Option<(f64, f64)>,
+}
+
+/// The channel the summary reads as the header pressure, as `core::series::Frame::header_pressure`
+/// picks its column (the frame's columns follow the channels' order): the first pressure measured
+/// in the header and not tied to a compressor, else after treatment, else at a discharge, else
+/// any but a point of use, else the first.
+fn header_channel(chans: &[ChannelInfo]) -> Option<&ChannelInfo> {
+    let p = || chans.iter().filter(|c| c.quantity == "pressure");
+    let point = |c: &ChannelInfo| c.point.clone().unwrap_or_else(|| "header".into());
+    let at = |pt: &str| p().find(|c| c.compressor_id.is_none() && point(c) == pt);
+    at("header")
+        .or_else(|| at("after_treatment"))
+        .or_else(|| at("discharge"))
+        .or_else(|| p().find(|c| point(c) != "point_of_use"))
+        .or_else(|| p().next())
+}
+
 /// Everything stored about one audit except its readings.
 pub struct AuditBundle {
     pub audit: Audit,
@@ -109,6 +135,18 @@ impl App {
             field_tests: audits::field_tests(db, id).await?,
             channels: read::channels(db, id).await?,
             audit,
+        })
+    }
+
+    /// What the report reads from the stored readings beside the summary ([`ReadFacts`]).
+    pub async fn read_facts(&self, b: &AuditBundle) -> Result<ReadFacts> {
+        let header_extremes_pa = match header_channel(&b.channels) {
+            Some(c) => read::reading_extremes(self.db(), &b.audit.site.air(), c).await?,
+            None => None,
+        };
+        Ok(ReadFacts {
+            logged_hours: read::logged_hour_spans(self.db(), b.audit.id).await?,
+            header_extremes_pa,
         })
     }
 

@@ -35,7 +35,7 @@ use std::sync::{Arc, Mutex};
 
 use sqlx::SqlitePool;
 
-pub use audits::AuditBundle;
+pub use audits::{AuditBundle, ReadFacts};
 pub use error::{Error, Result};
 pub use summary::{build_id, AuditSummary};
 

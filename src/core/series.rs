@@ -19,6 +19,8 @@ each channel's readings, time-sorted and already in SI units, into an [`Aligner`
   ends) is listed in its column's `partial` with its share and its mean, so that time-weighted
   integrals ([`integrate_weighted`]: energy, mean power) count it for the time it was logged: a
   half-empty bin at dawn neither counts as a full bin nor vanishes.
+- A compressor's logged power and its energy counter make **one** power column
+  ([`merge_power`]): each bin from the one that logged more of it, so every reading counts once.
 - Energy counters (J): the mean power over the interval between two readings is the difference / the
   time between them, spread evenly over that interval (a step, not a line). A decrease (reset or
   roll-over) breaks the series there: no negative power is ever produced.
@@ -29,6 +31,10 @@ reports the coverage, so a gap never counts as zero.
 Memory: a column is a `Vec<f32>` (4 bytes a bin); an aligner keeps two `f64` per bin while it runs.
 Grids of about 1.5 M bins (a month at 2 s) are the design size.
 */
+
+mod cover;
+mod merge;
+pub use merge::merge_power;
 
 /// Bin steps [`Grid::choose`] picks from, ms: steps that divide minutes, hours and days, so bins line
 /// up with the clock.

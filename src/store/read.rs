@@ -11,7 +11,7 @@ use super::rollup::{decode_day, Acc, DAY_MS, HOUR_MS, MINUTE_MS};
 use super::StoreError;
 use crate::core::basis::{Basis, StoredForm};
 use crate::core::series::{
-    Aligner, CounterAligner, Frame, FrameColumn, Grid, Partial, PressurePoint, Signal,
+    merge_power, Aligner, CounterAligner, Frame, FrameColumn, Grid, Partial, PressurePoint, Signal,
 };
 use crate::core::units::SiteAir;
 
@@ -245,7 +245,10 @@ pub async fn load_frame(
     for h in running {
         aligned.push(joined(h.await)?);
     }
-    let mut columns = Vec::with_capacity(chans.len());
+    let mut columns: Vec<FrameColumn> = Vec::with_capacity(chans.len());
+    // A compressor's energy counter joins its logged power as one column (`core::series::merge`):
+    // kept aside until every column is built, so the order of the channels does not matter.
+    let mut counters: Vec<FrameColumn> = vec![];
     for (c, (values, partial)) in chans.iter().zip(aligned) {
         let signal = match c.quantity.as_str() {
             "power" | "energy" => Signal::Power,
@@ -253,16 +256,100 @@ pub async fn load_frame(
             "flow" => Signal::Flow,
             _ => Signal::Temperature,
         };
-        columns.push(FrameColumn {
+        let column = FrameColumn {
             point: c.point.as_deref().and_then(PressurePoint::parse).unwrap_or_default(),
             signal,
             compressor: c.compressor_id.and_then(|id| compressor_ids.iter().position(|&x| x == id)),
             label: c.name(),
             values,
             partial,
-        });
+        };
+        if c.quantity == "energy" && column.compressor.is_some() {
+            counters.push(column);
+        } else {
+            columns.push(column);
+        }
+    }
+    for counter in counters {
+        let power =
+            columns.iter().position(|p| p.signal == Signal::Power && p.compressor == counter.compressor);
+        match power {
+            Some(k) => {
+                let p = columns.remove(k);
+                columns.insert(k, merge_power(p, &counter));
+            }
+            None => columns.push(counter),
+        }
     }
     Ok(Some(Frame { grid, columns }))
+}
+
+/// The UTC hours in which the audit's channels hold readings (from the hourly rollups), runs of
+/// consecutive hours joined: each run as (first_ms, last_ms) of its hours, in time order. Files
+/// years apart give runs years apart, with nothing between them.
+pub async fn logged_hour_spans(pool: &SqlitePool, audit_id: i64) -> Result<Vec<(i64, i64)>, StoreError> {
+    let hours: Vec<i64> = sqlx::query_scalar(
+        "SELECT DISTINCT r.hour_ms FROM channel c JOIN rollup_hour r ON r.channel_id = c.id \
+         JOIN upload u ON u.id = r.upload_id AND u.state = 'complete' WHERE c.audit_id = ? ORDER BY r.hour_ms",
+    )
+    .bind(audit_id)
+    .fetch_all(pool)
+    .await?;
+    let mut spans: Vec<(i64, i64)> = vec![];
+    for h in hours {
+        match spans.last_mut() {
+            Some((_, last)) if *last + 1 == h => *last = h + HOUR_MS - 1,
+            _ => spans.push((h, h + HOUR_MS - 1)),
+        }
+    }
+    Ok(spans)
+}
+
+/// The least and greatest reading of `channel` (SI, with the site's air `site` applied to each
+/// upload's readings), from the hourly rollups: what the charts' least-to-greatest band reaches.
+/// `None` when it holds no readings.
+pub async fn reading_extremes(
+    pool: &SqlitePool,
+    site: &SiteAir,
+    channel: &ChannelInfo,
+) -> Result<Option<(f64, f64)>, StoreError> {
+    let rows = sqlx::query(
+        "SELECT r.upload_id, min(r.min) AS lo, max(r.max) AS hi FROM rollup_hour r JOIN upload u \
+         ON u.id = r.upload_id AND u.state = 'complete' WHERE r.channel_id = ? GROUP BY r.upload_id",
+    )
+    .bind(channel.id)
+    .fetch_all(pool)
+    .await?;
+    let mut out: Option<(f64, f64)> = None;
+    for r in rows {
+        let (Some(lo), Some(hi)) = (r.get::<Option<f64>, _>("lo"), r.get::<Option<f64>, _>("hi")) else {
+            continue;
+        };
+        // The step to the site is affine with a positive scale: extremes map to extremes.
+        let (k, o) = channel.to_site(r.get("upload_id"), site);
+        let (lo, hi) = (lo * k + o, hi * k + o);
+        out = Some(out.map_or((lo, hi), |(a, b)| (a.min(lo), b.max(hi))));
+    }
+    Ok(out)
+}
+
+/// The bucket length of [`chart_series`] over `from_ms..to_ms` at `max_points`: whole minutes, or
+/// whole hours (read from the hourly rollups) when a bucket is an hour or more.
+pub fn chart_bucket_ms(from_ms: i64, to_ms: i64, max_points: usize) -> i64 {
+    let span = (to_ms - from_ms).max(MINUTE_MS);
+    let raw_bucket = span / max_points.max(1) as i64;
+    if raw_bucket >= HOUR_MS {
+        raw_bucket.div_euclid(HOUR_MS).max(1) * HOUR_MS
+    } else {
+        raw_bucket.div_euclid(MINUTE_MS).max(1) * MINUTE_MS
+    }
+}
+
+/// Two chart points of `channel` further apart than this lie across a gap in the log, and a line
+/// breaks between them: more than one empty bucket, and more than three logging intervals (the
+/// analysis fills no longer gap, `core::series`), so a logger slower than the buckets stays one line.
+pub fn chart_gap_ms(channel: &ChannelInfo, from_ms: i64, to_ms: i64, max_points: usize) -> i64 {
+    (2 * chart_bucket_ms(from_ms, to_ms, max_points)).max(3 * channel.interval_ms())
 }
 
 /// One chart point: the bucket's start and its min, mean and max (SI units).
@@ -286,14 +373,8 @@ pub async fn chart_series(
     to_ms: i64,
     max_points: usize,
 ) -> Result<Vec<ChartPoint>, StoreError> {
-    let span = (to_ms - from_ms).max(MINUTE_MS);
-    let raw_bucket = span / max_points.max(1) as i64;
-    let use_hours = raw_bucket >= HOUR_MS;
-    let bucket = if use_hours {
-        raw_bucket.div_euclid(HOUR_MS).max(1) * HOUR_MS
-    } else {
-        raw_bucket.div_euclid(MINUTE_MS).max(1) * MINUTE_MS
-    };
+    let bucket = chart_bucket_ms(from_ms, to_ms, max_points);
+    let use_hours = bucket >= HOUR_MS;
     let mut out: Vec<(i64, Acc)> = vec![];
     let channel_id = channel.id;
     let to_site = |upload_id: i64, a: Acc| {

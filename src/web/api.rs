@@ -302,12 +302,15 @@ pub async fn series(
         .ok_or_else(|| AppError::NotFound(format!("audit {id} has no channel {}", q.channel)))?;
     let w = window(&Window { from: q.from.clone(), to: q.to.clone() })?.unwrap_or((c.first_ms, c.last_ms));
     let points = q.points.unwrap_or(600).clamp(10, 2000);
-    let pts = st.app.chart_series(&b, c, w.0.max(c.first_ms), w.1.min(c.last_ms), points).await?;
+    let (from, to) = (w.0.max(c.first_ms), w.1.min(c.last_ms));
+    let pts = st.app.chart_series(&b, c, from, to, points).await?;
     let unit = unit_si(&c.quantity);
     Ok(json(
         StatusCode::OK,
         &serde_json::json!({
             "channel": c, "unit_si": unit,
+            // Points further apart than this lie across a gap in the log: a line breaks there.
+            "gap_ms": crate::store::read::chart_gap_ms(c, from, to, points),
             "t_ms": pts.iter().map(|p| p.t_ms).collect::<Vec<_>>(),
             "min": pts.iter().map(|p| p.min).collect::<Vec<_>>(),
             "mean": pts.iter().map(|p| p.mean).collect::<Vec<_>>(),

@@ -10,8 +10,16 @@
   Chart.defaults.font.family = getComputedStyle(document.body).fontFamily;
   const palette = ["#0f4c5c", "#f2a541", "#5b8e7d", "#b3261e", "#7a5195", "#2f6690", "#8a6d3b"];
   const charts = {};
-  // Site time, 24-hour, day before month as the rest of the pages write it ("Tue 10 Mar 06:00").
-  const fmtTime = (ms) => new Date(ms).toLocaleString("en-GB", { timeZone: d.timezone, weekday: "short", day: "numeric", month: "short", hour: "2-digit", minute: "2-digit", hourCycle: "h23" }).replace(",", "");
+  // Site time, 24-hour, day before month as the rest of the pages write it ("Tue 10 Mar 06:00");
+  // with the year when the axis crosses one ("17 Dec 2006"), without the hour when it spans weeks.
+  const yearOf = (ms) => Number(new Date(ms).toLocaleString("en-GB", { timeZone: d.timezone, year: "numeric" }));
+  const fmtTime = (ms, range) => {
+    const o = { timeZone: d.timezone, day: "numeric", month: "short" };
+    const span = range ? range.max - range.min : 0;
+    if (range && yearOf(range.min) !== yearOf(range.max)) o.year = "numeric";
+    if (span < 14 * 86400000) Object.assign(o, { weekday: "short", hour: "2-digit", minute: "2-digit", hourCycle: "h23" });
+    return new Date(ms).toLocaleString("en-GB", o).replace(",", "");
+  };
 
   function make(id, config) {
     const el = document.getElementById(id);
@@ -21,7 +29,8 @@
     return charts[id];
   }
 
-  const timeAxis = { type: "linear", ticks: { maxTicksLimit: window.innerWidth < 640 ? 4 : 7, maxRotation: 0, callback: (v) => fmtTime(v) } };
+  const timeAxis = { type: "linear", ticks: { maxTicksLimit: window.innerWidth < 640 ? 4 : 7, maxRotation: 0 } };
+  const timeTicks = (range) => Object.assign({}, timeAxis.ticks, { callback: (v) => fmtTime(v, range) });
   const u = d.units;
   const convert = {
     power: (v) => v / 1000,
@@ -42,7 +51,14 @@
       const datasets = [];
       list.forEach((item, i) => {
         const color = palette[i % palette.length];
-        const pts = (arr) => item.s.t_ms.map((t, k) => ({ x: t, y: f(arr[k]) }));
+        // A point after a silence longer than the series' gap_ms starts a new line: a null between
+        // them breaks it (Chart.js leaves gaps open, spanGaps false), never a line across the gap.
+        const gap = item.s.gap_ms || Infinity;
+        const pts = (arr) => item.s.t_ms.flatMap((t, k) => {
+          const p = { x: t, y: f(arr[k]) };
+          const prev = item.s.t_ms[k - 1];
+          return k > 0 && t - prev > gap ? [{ x: (prev + t) / 2, y: null }, p] : [p];
+        });
         datasets.push({ label: item.c.name + " (mean)", data: pts(item.s.mean), borderColor: color, backgroundColor: color, pointRadius: 0, borderWidth: 1.5 });
         if (quantity !== "power") {
           datasets.push({ label: item.c.name + " (min)", data: pts(item.s.min), borderColor: "transparent", pointRadius: 0, fill: false });
@@ -51,11 +67,12 @@
       });
       if (!datasets.length) datasets.push({ label: "not logged", data: [] });
       const xs = list.flatMap((it) => [it.s.t_ms[0], it.s.t_ms[it.s.t_ms.length - 1]]).filter((x) => x !== undefined);
-      const x = Object.assign({}, timeAxis, xs.length ? { min: Math.min(...xs), max: Math.max(...xs) } : {});
+      const range = xs.length ? { min: Math.min(...xs), max: Math.max(...xs) } : null;
+      const x = Object.assign({}, timeAxis, range || {}, { ticks: timeTicks(range) });
       make("chart-" + quantity, {
         type: "line",
         data: { datasets: datasets },
-        options: { parsing: false, scales: { x: x }, plugins: { legend: { labels: { filter: (it) => !/\((min|max)\)$/.test(it.text) } } } },
+        options: { parsing: false, spanGaps: false, scales: { x: x }, plugins: { legend: { labels: { filter: (it) => !/\((min|max)\)$/.test(it.text) } } } },
       });
     }
   }

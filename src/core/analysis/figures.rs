@@ -45,9 +45,14 @@ pub enum ProductionSource {
 pub struct Period {
     pub start: String,
     pub end: String,
+    /// The span from `start` to `end`, h: calendar time, logged or not.
     pub hours: f64,
     pub step_s: f64,
     pub bins: usize,
+    /// Hours in which at least one channel was logged (`Frame::logged_hours`): files far apart
+    /// make it a small part of `hours`.
+    #[serde(default)]
+    pub logged_hours: f64,
 }
 
 /// Share of bins with each signal.

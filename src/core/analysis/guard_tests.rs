@@ -184,7 +184,8 @@ fn files_far_apart_in_time_are_insufficient() {
     let sm = run(&s, &cs, &frame);
     assert_eq!(sm.sufficiency.verdict, Verdict::Insufficient);
     assert!(
-        sm.sufficiency.reasons[0].starts_with("power covers 0.4 % of the logged period"),
+        sm.sufficiency.reasons[0]
+            .starts_with("power covers 0.4 % of the span from the first reading to the last"),
         "{:?}",
         sm.sufficiency
     );
@@ -307,5 +308,38 @@ proptest! {
     fn every_summary_of_a_random_plant_keeps_the_invariants((cs, frame) in plant()) {
         let sm = run(&site(), &cs, &frame);
         check_invariants(&sm)?;
+    }
+}
+
+#[test]
+fn a_leak_flow_above_the_mean_demand_is_no_share_of_it() {
+    // The logged week of `tests::week`: 80 production hours at 10 m³/min and 88 others at
+    // 2 m³/min, a mean of (80 × 10 + 88 × 2) / 168 = 5.8095 m³/min.
+    let s = site();
+    let (cs, frame) = super::tests::week();
+    let leak = |q: f64| LeakEstimate {
+        test_id: 3,
+        method: "bleed_down".into(),
+        leak_flow_m3_min: q,
+        relative_uncertainty: None,
+        warnings: vec![],
+    };
+    // 1.5 m³/min is a share: 1.5 / 5.8095 = 25.8 %.
+    let sm = super::tests::run(&s, &cs, &frame, vec![leak(1.5)]);
+    let mean = (80.0 * 10.0 + 88.0 * 2.0) / 168.0;
+    let share = sm.leaks.share_of_mean_demand.expect("a share below 100 % stands");
+    assert!((share - 1.5 / mean).abs() < 1e-4, "{share}");
+    assert!((sm.leaks.estimates[0].share_of_mean_demand.unwrap() - 1.5 / mean).abs() < 1e-4);
+    // 15 m³/min against that mean would read 258 %: no share, the adopted one nor the test's, each
+    // withheld with its reason; the leak flow itself stands.
+    let sm = super::tests::run(&s, &cs, &frame, vec![leak(15.0)]);
+    assert_eq!(sm.leaks.adopted_leak_flow_m3_min, Some(15.0));
+    assert_eq!(sm.leaks.share_of_mean_demand, None);
+    assert_eq!(sm.leaks.share_of_mean_demand_high, None);
+    assert_eq!(sm.leaks.estimates[0].share_of_mean_demand, None);
+    let w = &sm.sufficiency.withheld;
+    for figure in ["leaks.share_of_mean_demand", "leaks.estimates[].share_of_mean_demand"] {
+        let x = w.iter().find(|x| x.figure == figure).unwrap_or_else(|| panic!("{figure} in {w:?}"));
+        assert!(x.reason.starts_with("the leak flow is more than the logged mean demand"), "{}", x.reason);
     }
 }

@@ -265,6 +265,7 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
             hours: grid.hours(),
             step_s: grid.step_s(),
             bins: n,
+            logged_hours: frame.logged_hours(),
         },
         local_hours,
         weekly_mean_kw: weekly_mean_w.iter().map(|w| w / 1000.0).collect(),

@@ -16,17 +16,17 @@ figures add the machines up, so only those hours show the plant as one system.
 - power hours under [`MIN_POWER_HOURS`] (1 h): not even a few load/unload cycles of a trim machine
   (common practice) were seen together, so the plant's demand is unknown — this is the case of
   machines logged at different times, whose sum was never observed;
-- power covering under [`MIN_PERIOD_COVERAGE`] (10 %) of the logged period: the files lie far apart in
-  time (different weeks, seasons or years, or files of another system), and one annual figure would
-  mix them. A window (`?from=&to=`) around one stretch of logging can be analysed on its own.
+- power covering under [`MIN_PERIOD_COVERAGE`] (10 %) of the span from the first reading to the
+  last: the files lie far apart in time (different weeks, seasons or years, or files of another
+  system), and one annual figure would mix them. A window (`?from=&to=`) around one stretch of logging can be analysed on its own.
 
 **Thin** (annual figures given, to be read as indicative; each reason is listed):
 - power hours under [`FULL_WEEK_HOURS`] (167 h: a logger week rarely spans exactly 168 h, the same
   allowance as the baseline's weekly rule; counted on the site's clock, so a week over a spring
   daylight-saving change, 167 h elapsed, is a whole week), or fewer than 7 weekdays logged: less than the full
   production week of common practice; the annual figure repeats what was seen;
-- power covering under [`THIN_PERIOD_COVERAGE`] (50 %) of the logged period: the files leave large
-  gaps or overlap little;
+- power covering under [`THIN_PERIOD_COVERAGE`] (50 %) of the span from the first reading to the
+  last: the files leave large gaps or overlap little;
 - flow measured but logged together with power in under [`MIN_OVERLAP_SHARE`] (50 %) of the power
   hours; the same for the header pressure;
 - a header pressure log that is not credible (below).
@@ -44,7 +44,9 @@ figures add the machines up, so only those hours show the plant as one system.
   below the mean power (the machines' logs do not overlap enough for a simultaneous peak); the
   demand charge, and with it the annual cost, when a demand charge is set and the peak is withheld;
 - with the verdict insufficient: every annual figure (baseline, heat, compressors, leak cost) and
-  every measure.
+  every measure, and every share of demand of the leaks (the adopted one and each estimate's);
+- a leak share above 100 %, the adopted one or an estimate's: a leak flow above the mean demand it
+  is compared with means the test and the flow log describe different conditions, and is no share.
 */
 
 use crate::core::recommend::{self, Part};
@@ -57,9 +59,9 @@ use super::figures::{PressureFigures, Sufficiency, Summary, Verdict, Withheld};
 pub const MIN_POWER_HOURS: f64 = 1.0;
 /// Below this many power hours the data are thin: less than a full week (module doc).
 pub const FULL_WEEK_HOURS: f64 = 167.0;
-/// Below this share of the logged period covered by power the data are insufficient.
+/// Below this share of the span (first reading to last) covered by power the data are insufficient.
 pub const MIN_PERIOD_COVERAGE: f64 = 0.10;
-/// Below this share of the logged period covered by power the data are thin.
+/// Below this share of the span (first reading to last) covered by power the data are thin.
 pub const THIN_PERIOD_COVERAGE: f64 = 0.50;
 /// Below this share of the power hours with flow (or pressure) logged too the data are thin.
 pub const MIN_OVERLAP_SHARE: f64 = 0.50;
@@ -180,8 +182,9 @@ pub(super) fn assess(
         )]);
     } else if share < MIN_PERIOD_COVERAGE {
         insufficient.push(parts![format!(
-            "power covers {} % of the logged period ({:.0} h of {:.0} h, under {:.0} %): the files lie far \
-             apart in time and one annual figure would mix them; analyse one stretch of logging at a time",
+            "power covers {} % of the span from the first reading to the last ({:.0} h of {:.0} h, under \
+             {:.0} %): the files lie far apart in time and one annual figure would mix them; analyse one stretch \
+             of logging at a time",
             percent(share),
             power_h,
             total_h,
@@ -198,7 +201,8 @@ pub(super) fn assess(
         }
         if (MIN_PERIOD_COVERAGE..THIN_PERIOD_COVERAGE).contains(&share) {
             thin.push(parts![format!(
-                "power covers {:.0} % of the logged period (under {:.0} %): the files leave large gaps",
+                "power covers {:.0} % of the span from the first reading to the last (under {:.0} %): the \
+                 files leave large gaps",
                 share * 100.0,
                 THIN_PERIOD_COVERAGE * 100.0
             )]);
@@ -374,6 +378,10 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
             *f = None;
         }
         withhold(&mut w, "leaks.share_of_mean_demand", &why);
+        for e in &mut l.estimates {
+            e.share_of_mean_demand = None;
+        }
+        withhold(&mut w, "leaks.estimates[].share_of_mean_demand", &why);
         for d in &mut s.transmission.pressure_drops {
             d.annual_energy_kwh = None;
             d.annual_cost = None;
@@ -384,7 +392,35 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         s.measures_total = None;
         withhold(&mut w, "recommendations", &why);
     }
+    leak_shares_over_whole(s, &mut w);
     s.sufficiency.withheld = w;
+}
+
+/// A leak flow above the mean demand it is compared with is no share of it (a test of one day
+/// against another day's flow log read as 1,883 %): such a share is withheld, the adopted one and
+/// each estimate's alike.
+fn leak_shares_over_whole(s: &mut Summary, w: &mut Vec<Withheld>) {
+    let why = "the leak flow is more than the logged mean demand: the leak test and the flow log do not \
+               describe the plant under the same conditions, so it is no share of that demand";
+    let l = &mut s.leaks;
+    if l.share_of_mean_demand.is_some_and(|x| x > 1.0) {
+        for f in [
+            &mut l.share_of_mean_demand,
+            &mut l.share_of_mean_demand_low,
+            &mut l.share_of_mean_demand_high,
+            &mut l.share_of_production_demand,
+            &mut l.share_of_non_production_demand,
+        ] {
+            *f = None;
+        }
+        withhold(w, "leaks.share_of_mean_demand", why);
+    }
+    for e in &mut l.estimates {
+        if e.share_of_mean_demand.is_some_and(|x| x > 1.0) {
+            e.share_of_mean_demand = None;
+            withhold(w, "leaks.estimates[].share_of_mean_demand", why);
+        }
+    }
 }
 
 #[cfg(test)]

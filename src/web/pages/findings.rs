@@ -41,7 +41,8 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
     let b = app.bundle(id).await?;
     let sm = app.summary(id, None).await?;
     let fmt = reader_fmt(&b, q);
-    let view = report_view(&b, &fmt, sm.figures());
+    let facts = app.read_facts(&b).await?;
+    let view = report_view(&b, &fmt, sm.figures(), &facts);
     let plots = match sm.figures() {
         Some(s) => findings_plots(app, &b, &fmt, s).await?,
         None => FindingsPlots::default(),

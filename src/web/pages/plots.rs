@@ -74,28 +74,39 @@ impl Units {
 }
 
 /// A time axis over `[from, to]` (ms UTC) with ticks at round local times of the site: hours
-/// when the span is short, midnights when it is days long.
+/// when the span is short, midnights when it is days long (walked a calendar day at a time, so a
+/// span of years gets its ticks to the end), with the year in every label when the span crosses
+/// one ("17 Dec 2006" and "9 Sep 2013", never two bare "17 Dec").
 pub fn time_axis(from_ms: i64, to_ms: i64, tz: &str) -> Axis {
     let zone = jiff::tz::TimeZone::get(tz).unwrap_or(jiff::tz::TimeZone::UTC);
     let span_min = (to_ms - from_ms).max(1) as f64 / 60_000.0;
     // The step in minutes: at most 7 intervals over the span.
-    let step = [5i64, 10, 15, 30, 60, 120, 180, 360, 720, 1440, 2880, 10_080, 20_160, 43_200, 129_600]
-        .into_iter()
-        .find(|s| span_min / *s as f64 <= 7.0)
-        .unwrap_or(525_600);
-    // Walk local times a minute step at a time under an hour, an hour at a time above.
-    let walk = step.min(60);
+    let step = [
+        5i64, 10, 15, 30, 60, 120, 180, 360, 720, 1440, 2880, 10_080, 20_160, 43_200, 129_600, 525_600,
+        1_051_200, 2_628_000,
+    ]
+    .into_iter()
+    .find(|s| span_min / *s as f64 <= 7.0)
+    .unwrap_or(5_256_000);
+    let by_day = step >= 1440;
     let mut ticks = vec![];
     let title = format!("Site time ({tz})");
-    let Ok(start) = jiff::Timestamp::from_millisecond(from_ms) else {
+    let (Ok(start), Ok(end)) =
+        (jiff::Timestamp::from_millisecond(from_ms), jiff::Timestamp::from_millisecond(to_ms))
+    else {
         return Axis { title, min: from_ms as f64, max: to_ms as f64, ticks };
     };
-    let start = start.to_zoned(zone);
-    let Ok(mut t) = start.with().minute(0).second(0).subsec_nanosecond(0).build() else {
+    let start = start.to_zoned(zone.clone());
+    let year = if start.year() != end.to_zoned(zone).year() { " %Y" } else { "" };
+    // Walk local times a minute step at a time under an hour, an hour at a time under a day, a
+    // calendar day at a time above (from the start's midnight).
+    let walk = if by_day { jiff::Span::new().days(1) } else { jiff::Span::new().minutes(step.min(60)) };
+    let first = if by_day { start.with().hour(0) } else { start.with() };
+    let Ok(mut t) = first.minute(0).second(0).subsec_nanosecond(0).build() else {
         return Axis { title, min: from_ms as f64, max: to_ms as f64, ticks };
     };
     let mut days = 0i64;
-    // At most a few years of hours.
+    // At most a few years of hours, or decades of days.
     for _ in 0..30_000 {
         let ms = t.timestamp().as_millisecond();
         if ms > to_ms {
@@ -115,15 +126,15 @@ pub fn time_axis(from_ms: i64, to_ms: i64, tz: &str) -> Axis {
         };
         if ms >= from_ms && on_tick {
             let label = if step >= 10_080 {
-                t.strftime("%-d %b").to_string()
+                t.strftime(&format!("%-d %b{year}")).to_string()
             } else if midnight {
-                t.strftime("%a %-d %b").to_string()
+                t.strftime(&format!("%a %-d %b{year}")).to_string()
             } else {
                 t.strftime("%H:%M").to_string()
             };
             ticks.push(Tick { at: ms as f64, label });
         }
-        match t.checked_add(jiff::Span::new().minutes(walk)) {
+        match t.checked_add(walk) {
             Ok(n) => t = n,
             Err(_) => break,
         }
@@ -183,8 +194,10 @@ async fn logged_chart(
     for c in chans {
         let name = super::words::channel_name(c, &b.channels);
         let pts = app.chart_series(b, c, from, to, POINTS).await?;
-        // A bucket that follows a longer silence than two buckets' time is a gap in the log.
-        let gap = if pts.len() > 1 { (to - from) / pts.len() as i64 * 3 } else { i64::MAX };
+        // A bucket that follows a longer silence than the chart's gap is across a gap in the log
+        // (`read::chart_gap_ms`: by the bucket length and the logging interval, never by the span
+        // over the number of points, which files years apart make years long).
+        let gap = crate::store::read::chart_gap_ms(c, from, to, POINTS);
         let mut line = vec![];
         let mut spread = vec![];
         let mut last: Option<i64> = None;
@@ -510,5 +523,35 @@ mod tests {
         let a = time_axis(from + 600_000, from + 600_000 + 90 * 60_000, "UTC");
         let labels: Vec<&str> = a.ticks.iter().map(|t| t.label.as_str()).collect();
         assert_eq!(labels, ["00:15", "00:30", "00:45", "01:00", "01:15", "01:30"]);
+    }
+
+    #[test]
+    fn a_span_of_years_is_ticked_to_its_end_with_the_year_in_every_label() {
+        // 2006-12-16T23:24Z (17:24 CST) to 2013-09-09T18:24Z: 2,458 days, about 3.5 million
+        // minutes, so the step is 365 days (3.5e6 / 525,600 = 6.7 intervals). Ticks at local
+        // midnights 365 days apart from the first one after the start, 17 Dec 2006; the leap days
+        // of 2008 and 2012 move them a day earlier each: 17 Dec 2007, 16 Dec 2008, 16 Dec 2009,
+        // 16 Dec 2010, 16 Dec 2011, 15 Dec 2012 (the next, 15 Dec 2013, is after the end).
+        let from = 1_166_311_440_000i64; // 2006-12-16T23:24:00Z
+        let to = 1_378_751_040_000i64; // 2013-09-09T18:24:00Z
+        let a = time_axis(from, to, "America/Chicago");
+        let labels: Vec<&str> = a.ticks.iter().map(|t| t.label.as_str()).collect();
+        assert_eq!(
+            labels,
+            [
+                "17 Dec 2006",
+                "17 Dec 2007",
+                "16 Dec 2008",
+                "16 Dec 2009",
+                "16 Dec 2010",
+                "16 Dec 2011",
+                "15 Dec 2012"
+            ]
+        );
+        // The first tick is local midnight, CST (UTC-6): 2006-12-17T06:00Z.
+        assert_eq!(a.ticks[0].at as i64, 1_166_335_200_000);
+        // Within one year the labels carry none.
+        let a = time_axis(from + 20 * 86_400_000, from + 60 * 86_400_000, "America/Chicago");
+        assert!(!a.ticks.is_empty() && a.ticks.iter().all(|t| !t.label.contains("2007")), "{:?}", a.ticks);
     }
 }

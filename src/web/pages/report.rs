@@ -28,7 +28,8 @@ pub async fn report(
     let b = st.app.bundle(id).await?;
     let sm = st.app.summary(id, None).await?;
     let fmt = reader_fmt(&b, &q);
-    let view = report_view(&b, &fmt, sm.figures());
+    let facts = st.app.read_facts(&b).await?;
+    let view = report_view(&b, &fmt, sm.figures(), &facts);
     let (other_units, other_units_label) = if fmt.is_us() {
         ("si", "Show SI units (bar, m³/min)")
     } else {

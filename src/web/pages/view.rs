@@ -8,7 +8,9 @@ not have (`None`) shows as not available, as a NaN does.
 use serde_json::Value;
 
 use super::words::Formula;
-use crate::app::AuditBundle;
+
+mod rows;
+use crate::app::{AuditBundle, ReadFacts};
 use crate::core::analysis::{Summary, Verdict};
 use crate::core::display::{num, render_parts, Fmt};
 use crate::core::levels::LevelSource;
@@ -16,6 +18,7 @@ use crate::core::model::human_label;
 use crate::core::partload::PartLoadModel;
 use crate::core::recommend::CostSource;
 use crate::core::units::{M3_PER_FT3, PA_PER_PSI};
+use rows::{leak_note, leak_rows, leak_share_missing, leak_share_note, pressure_note, pressure_rows};
 
 /// A figure the summary may not have, as the formatter takes it (NaN shows as not available).
 pub(super) fn nan(v: Option<f64>) -> f64 {
@@ -110,7 +113,12 @@ pub struct ReportView {
     pub total_range: String,
     pub compressors: Vec<CompressorRow>,
     pub leaks: Vec<LeakRow>,
+    /// Readings implausible for a compressed-air line, kept in figures and charts alike (empty
+    /// when there are none).
+    pub pressure_note: String,
     pub leak_note: String,
+    /// Why the leak table's shares of demand read "not enough data" (empty when all are given).
+    pub leak_share_note: String,
     pub pressure: Vec<(String, String)>,
     pub demand: Vec<(String, String)>,
     pub heat: Vec<(String, String)>,
@@ -228,6 +236,8 @@ fn empty_view() -> ReportView {
         compressors: vec![],
         leaks: vec![],
         leak_note: String::new(),
+        pressure_note: String::new(),
+        leak_share_note: String::new(),
         pressure: vec![],
         demand: vec![],
         heat: vec![],
@@ -243,7 +253,9 @@ fn empty_view() -> ReportView {
 }
 
 /// The report's view of the summary (`None`: the audit has no logger data yet).
-pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportView {
+/// `facts`: what was read from the stored readings beside the summary (the days logged, the header
+/// pressure's extremes).
+pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>, facts: &ReadFacts) -> ReportView {
     let Some(sm) = sm else { return empty_view() };
     let cur = &b.audit.site.currency;
     let estimated = sm.system.estimated;
@@ -274,19 +286,23 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
         });
     }
     let p = &sm.period;
+    // Logged time and the calendar span apart: files years apart span far more than they log.
     let period = format!(
-        "{} to {}, site time ({} h logged, {} s analysis step)",
+        "{} to {}, site time ({} h logged in a span of {} h, {} s analysis step)",
         super::words::local_time(&p.start, &b.audit.site.timezone),
         super::words::local_time(&p.end, &b.audit.site.timezone),
+        num(p.logged_hours, 1),
         num(p.hours, 1),
         num(p.step_s, 0)
     );
     let c = &sm.coverage;
+    // A share that is not zero never prints as 0.0 % (files years apart log a sliver of the span).
+    let share = |x: f64| format!("{} %", crate::core::analysis::sufficiency::percent(x));
     let coverage = format!(
         "power in {} of the time, flow in {}, pressure in {}",
-        fmt.percent(c.power),
-        fmt.percent(c.flow),
-        fmt.percent(c.pressure)
+        share(c.power),
+        share(c.flow),
+        share(c.pressure)
     );
     ReportView {
         has_data: true,
@@ -305,7 +321,9 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
         compressors: compressor_rows(sm, fmt),
         leaks: leak_rows(sm, fmt),
         leak_note: leak_note(sm, fmt),
-        pressure: pressure_rows(sm, fmt),
+        leak_share_note: leak_share_note(sm),
+        pressure: pressure_rows(sm, fmt, facts.header_extremes_pa),
+        pressure_note: pressure_note(sm, fmt, facts.header_extremes_pa),
         demand: demand_rows(sm, fmt),
         heat: heat_rows(sm, fmt, cur),
         transmission: transmission_rows(sm, fmt, cur),
@@ -325,7 +343,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>) -> ReportVi
         assumptions: in_parts(&sm.assumptions, &sm.assumption_parts, fmt),
         warnings: in_parts(&sm.warnings, &sm.warning_parts, fmt),
         baseline_rule: sm.baseline.rule.clone(),
-        chart_data: chart_data(b, fmt, sm),
+        chart_data: chart_data(b, fmt, sm, &facts.logged_hours),
         duration_note: duration_note(sm.period.step_s),
     }
 }
@@ -472,7 +490,7 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
             note: [
                 leaks.band_description.clone().unwrap_or_default(),
                 if leaks.adopted_leak_flow_m3_min.is_some() && leaks.share_of_mean_demand.is_none() {
-                    "share of demand not known: no mean flow to compare with".into()
+                    leak_share_missing(sm)
                 } else {
                     String::new()
                 },
@@ -658,67 +676,6 @@ fn compressor_rows(sm: &Summary, fmt: &Fmt) -> Vec<CompressorRow> {
             estimated: c.estimated,
         })
         .collect()
-}
-
-/// How the leak figure was adopted, and the non-production flow's corrections in the reader's units.
-fn leak_note(sm: &Summary, fmt: &Fmt) -> String {
-    let l = &sm.leaks;
-    let Some(np) = &l.non_production else { return l.adopted_rule.clone() };
-    let pressure = match (np.mean_pressure_bar_g, np.production_pressure_bar_g, np.pressure_corrected) {
-        (Some(a), Some(b), true) => format!(
-            ", scaled from {} out of production to {} in it (choked leak flow ∝ absolute pressure)",
-            fmt.pressure_bar_g(a),
-            fmt.pressure_bar_g(b)
-        ),
-        _ => ", not corrected for pressure".to_string(),
-    };
-    format!(
-        "{}. Non-production flow: {} logged, less {} of purge and drains on record{}: {} of leaks.",
-        l.adopted_rule,
-        fmt.flow_m3_min(np.mean_flow_m3_min),
-        fmt.flow_m3_min(np.purge_and_drains_m3_min),
-        pressure,
-        np.leak_flow_m3_min.map_or_else(|| "none left".to_string(), |q| fmt.flow_m3_min(q))
-    )
-}
-
-fn leak_rows(sm: &Summary, fmt: &Fmt) -> Vec<LeakRow> {
-    sm.leaks
-        .estimates
-        .iter()
-        .map(|e| LeakRow {
-            method: match e.test_id {
-                Some(id) => format!("{} (test {id})", human_label(&e.method)),
-                None => human_label(&e.method),
-            },
-            flow: range(
-                |x| fmt.flow_m3_min(x),
-                e.leak_flow_m3_min,
-                e.leak_flow_m3_min_low,
-                e.leak_flow_m3_min_high,
-            ),
-            share: fmt.percent(nan(e.share_of_mean_demand)),
-            automatic: e.automatic,
-        })
-        .collect()
-}
-
-fn pressure_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
-    let p = &sm.pressure;
-    let bar_g = |v: Option<f64>| fmt.pressure_bar_g(nan(v));
-    vec![
-        ("Mean".into(), bar_g(p.mean_bar_g)),
-        ("Minimum / maximum".into(), format!("{} / {}", bar_g(p.min_bar_g), bar_g(p.max_bar_g))),
-        (
-            "5 % / 50 % / 95 % of time below".into(),
-            format!("{} / {} / {}", bar_g(p.p5_bar_g), bar_g(p.p50_bar_g), bar_g(p.p95_bar_g)),
-        ),
-        ("Uncertainty of the transmitter".into(), format!("± {}", fmt.pressure_delta_bar(p.uncertainty_bar))),
-        (
-            "Time below the low limit".into(),
-            format!("{} (limit {})", fmt.percent(nan(p.share_below_low_limit)), bar_g(p.low_limit_bar_g)),
-        ),
-    ]
 }
 
 fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
@@ -944,7 +901,7 @@ fn end_use_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
 }
 
 /// Chart data: converted to the reader's units here, so the page only draws.
-fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
+fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary, logged: &[(i64, i64)]) -> Value {
     let us = fmt.is_us();
     let atm = b.audit.site.atmospheric_pressure_kpa_abs() * 1000.0;
     let flow_k = if us { 1.0 / M3_PER_FT3 } else { 1.0 }; // m³/min -> cfm
@@ -1002,12 +959,9 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary) -> Value {
         "timezone": b.audit.site.timezone,
         "first_ms": b.channels.iter().map(|c| c.first_ms).min(),
         "last_ms": b.channels.iter().map(|c| c.last_ms).max(),
-        // The site's local days the channels were logged on (the day selector), at most 1,000.
-        "days": super::words::local_days(
-            &b.channels.iter().map(|c| (c.first_ms, c.last_ms)).collect::<Vec<_>>(),
-            &b.audit.site.timezone,
-            1000,
-        ).into_iter().map(|(a, z, label)| serde_json::json!({"start_ms": a, "end_ms": z, "label": label})).collect::<Vec<_>>(),
+        // The site's local days that hold readings (the day selector), at most 1,000: the hours
+        // logged, never the calendar between files logged years apart.
+        "days": super::words::local_days(logged, &b.audit.site.timezone, 1000).into_iter().map(|(a, z, label)| serde_json::json!({"start_ms": a, "end_ms": z, "label": label})).collect::<Vec<_>>(),
         "channels": channels,
         "units": {
             "system": if us { "us" } else { "si" },
