@@ -67,10 +67,16 @@ window.airledger = {
     return part({ weekday: "short" }, "weekday") + " " + Number(p.day) + " " + part({ month: "short" }, "month") + " " +
       p.year + " " + p.hour + ":" + p.minute + " " + name;
   },
-  // A short tick label in the site's time: "03-15 02:00".
+  // A count as every page writes it, digits grouped by commas ("1,999"), whatever the browser's
+  // language (core::display::num on the server).
+  count(n) {
+    return Number(n).toLocaleString("en-US", { maximumFractionDigits: 0 });
+  },
+  // A chart's tick label in the site's time, 24-hour, day before month as the pages write it
+  // ("Wed 11 Mar 04:33"): one format for every chart (report, field tests, what-if).
   tick(ms, tz) {
-    const p = this.wall(ms, tz);
-    return p.month + "-" + p.day + " " + p.hour + ":" + p.minute;
+    return new Date(ms).toLocaleString("en-GB", { timeZone: tz || "UTC", weekday: "short", day: "numeric", month: "short",
+      hour: "2-digit", minute: "2-digit", hourCycle: "h23" }).replace(",", "");
   },
   // An API error's field in words for a person; none for a column's own fields (the column is named).
   fieldWords(field) {
@@ -161,6 +167,9 @@ for (const el of document.querySelectorAll("table.data td, table.data th, .figur
           el.value = String(Number(((stored - b.offset) / b.factor).toPrecision(9)));
         }
       }
+      // The currency follows the units while it is still the other system's default (EUR, USD).
+      const cur = form.querySelector("[data-currency-default]"), usual = { si: "EUR", us: "USD" };
+      if (cur && cur.value.trim() === usual[now] && usual[sel.value]) cur.value = usual[sel.value];
       for (const span of form.querySelectorAll("[data-unit-of]")) {
         const b = to.fields[span.getAttribute("data-unit-of")];
         if (b) span.textContent = b.label;
@@ -169,6 +178,39 @@ for (const el of document.querySelectorAll("table.data td, table.data th, .figur
       if (hidden) hidden.value = now;
     });
   }
+})();
+// A form the server refused (pages/refusal.rs): what was typed goes back into its fields (in the
+// units it was typed in), the section that holds it opens, and each refusal is set beside its
+// field; the page's alert lists them all.
+(function () {
+  const data = window.airledger.pageData("refused-form");
+  if (!data) return;
+  const form = [...document.querySelectorAll("form[action]")].find((f) => f.getAttribute("action") === data.action);
+  if (!form) return;
+  for (const el of form.elements) {
+    if (!el.name || el.type === "hidden" || el.type === "submit") continue;
+    if (el.type === "checkbox") el.checked = Object.prototype.hasOwnProperty.call(data.values, el.name);
+    else if (Object.prototype.hasOwnProperty.call(data.values, el.name)) {
+      el.value = data.values[el.name];
+      delete el.dataset.shown;
+    }
+  }
+  for (let d = form.closest("details"); d; d = d.parentElement && d.parentElement.closest("details")) d.open = true;
+  let first = null;
+  for (const e of data.errors) {
+    const name = String(e.field || "").split("[")[0].split(".").pop();
+    const el = name && form.elements.namedItem(name);
+    if (!el || !el.insertAdjacentElement) continue;
+    const id = "refused-" + name;
+    if (!document.getElementById(id)) {
+      el.insertAdjacentElement("afterend", window.airledger.el("span", { class: "field-error", id: id, role: "alert" }, e.message));
+    }
+    el.setAttribute("aria-invalid", "true");
+    el.setAttribute("aria-describedby", id);
+    first = first || el;
+  }
+  (first || form).scrollIntoView({ block: "center" });
+  if (first) first.focus({ preventScroll: true });
 })();
 document.addEventListener("click", (ev) => {
   const t = ev.target;

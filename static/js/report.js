@@ -11,7 +11,7 @@
   const palette = ["#0f4c5c", "#f2a541", "#5b8e7d", "#b3261e", "#7a5195", "#2f6690", "#8a6d3b"];
   const charts = {};
   // Site time, 24-hour, day before month as the rest of the pages write it ("Tue 10 Mar 06:00").
-  const fmtTime = (ms) => new Date(ms).toLocaleString("en-GB", { timeZone: d.timezone, weekday: "short", day: "numeric", month: "short", hour: "2-digit", minute: "2-digit", hourCycle: "h23" }).replace(",", "");
+  const fmtTime = (ms) => A.tick(ms, d.timezone);
 
   function make(id, config) {
     const el = document.getElementById(id);

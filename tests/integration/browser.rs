@@ -814,6 +814,8 @@ mod findings;
 
 #[path = "browser_forms.rs"]
 mod forms;
+#[path = "browser_pages.rs"]
+mod pages;
 #[path = "browser_treatment.rs"]
 mod treatment;
 

@@ -13,12 +13,14 @@ use axum::Form;
 use serde_json::Value;
 
 use super::inputs::Inputs;
+use super::refusal::Refusal;
 use super::{render, PageError, PageResult};
 use crate::app::treatment::{DrainInput, DryerInput, EndUseInput, FilterInput, ItemKind, TreatmentInput};
 use crate::core::display::Fmt;
 use crate::core::entry::{self, Entry};
 use crate::core::treatment::{DrainKind, DryerControl, DryerKind, EndUseKind, FilterKind};
 use crate::core::units::UnitSystem;
+use crate::site::FieldError;
 use crate::store::audits::Audit;
 use crate::web::error::AppError;
 use crate::web::AppState;
@@ -161,7 +163,8 @@ struct TreatmentPage {
     audit: Audit,
     inp: Inputs,
     rows: Vec<Row>,
-    error: Option<String>,
+    /// A refused form: its refusal and what was typed (`refusal`).
+    refused: Option<Refusal>,
     dryer_kinds: Vec<(&'static str, String)>,
     drain_kinds: Vec<(&'static str, String)>,
     use_kinds: Vec<(&'static str, String)>,
@@ -245,7 +248,7 @@ fn describe(kind: ItemKind, v: &Value, fmt: &Fmt) -> (String, String) {
     }
 }
 
-async fn page(st: &AppState, id: i64, error: Option<String>) -> Result<TreatmentPage, PageError> {
+async fn page(st: &AppState, id: i64, refused: Option<Refusal>) -> Result<TreatmentPage, PageError> {
     let b = st.app.bundle(id).await?;
     let fmt = b.fmt();
     let mut rows = vec![];
@@ -266,7 +269,7 @@ async fn page(st: &AppState, id: i64, error: Option<String>) -> Result<Treatment
         inp: Inputs::new(fmt.units),
         audit: b.audit,
         rows,
-        error,
+        refused,
         dryer_kinds: opts(&DryerKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>()),
         drain_kinds: opts(&DrainKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>()),
         use_kinds: opts(&EndUseKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>()),
@@ -389,14 +392,36 @@ fn in_reader_units(message: &str, field: &str, units: UnitSystem) -> String {
     out
 }
 
-async fn refused(st: &AppState, id: i64, e: AppError, units: UnitSystem) -> PageResult {
+/// The form field a record's field is typed in (a share is typed as a percentage).
+fn form_field(field: &str) -> &str {
+    match field {
+        "purge_fraction" => "purge_percent",
+        "duty" => "duty_percent",
+        other => other,
+    }
+}
+
+/// The page again with the refusal beside its field and what was typed in the form posted to
+/// `action` (`refusal`), 422; other errors as pages.
+async fn refused(
+    st: &AppState,
+    id: i64,
+    action: &str,
+    form: &HashMap<String, String>,
+    e: AppError,
+) -> PageResult {
+    let units = Inputs::of_form(form).units;
     match e {
         AppError::Unprocessable { message, field, .. } => {
-            let message = match field {
-                Some(f) => format!("{}: {}", field_words(&f), in_reader_units(&message, &f, units)),
-                None => message,
+            let (field, message) = match field {
+                Some(f) => (
+                    form_field(&f).to_string(),
+                    format!("{}: {}", field_words(&f), in_reader_units(&message, &f, units)),
+                ),
+                None => (String::new(), message),
             };
-            let mut res = render(&page(st, id, Some(message)).await?);
+            let r = Refusal::new(action, form, vec![FieldError::new(&field, message)]);
+            let mut res = render(&page(st, id, Some(r)).await?);
             *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
             Ok(res)
         }
@@ -419,7 +444,7 @@ pub async fn add(
     .await;
     match result {
         Ok(_) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
-        Err(e) => refused(&st, id, e, Inputs::of_form(&form).units).await,
+        Err(e) => refused(&st, id, &format!("/audits/{id}/treatment/{list}"), &form, e).await,
     }
 }
 
@@ -433,7 +458,7 @@ pub async fn remove(
     };
     if !form.contains_key("confirm") {
         let e = AppError::from(crate::app::Error::field("confirm", "tick the box beside remove to confirm"));
-        return refused(&st, id, e, Inputs::of_form(&form).units).await;
+        return refused(&st, id, &format!("/audits/{id}/treatment/{list}/{iid}/delete"), &form, e).await;
     }
     if !st.app.delete_treatment_item(id, kind, iid).await? {
         return Err(PageError::from(AppError::NotFound(format!("audit {id} has no such record {iid}"))));
@@ -463,6 +488,6 @@ pub async fn update(
     .await;
     match result {
         Ok(_) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
-        Err(e) => refused(&st, id, e, Inputs::of_form(&form).units).await,
+        Err(e) => refused(&st, id, &format!("/audits/{id}/treatment/{list}/{iid}"), &form, e).await,
     }
 }
