@@ -131,7 +131,9 @@ window.airledger = {
       const e = body && body.error ? body.error : { message: "HTTP " + r.status };
       const where = [e.line ? "line " + e.line : null, e.column ? "column \u201c" + e.column + "\u201d" : null,
         e.column ? null : window.airledger.fieldWords(e.field)].filter(Boolean).join(", ");
-      throw new Error(e.message + (where ? " (" + where + ")" : ""));
+      const err = new Error(e.message + (where ? " (" + where + ")" : ""));
+      err.field = e.field || null;
+      throw err;
     }
     return body;
   },
@@ -179,6 +181,19 @@ for (const el of document.querySelectorAll("table.data td, table.data th, .figur
     });
   }
 })();
+// A refusal set beside the field it names in `form` (an API refusal of a form posted as JSON);
+// the earlier one taken away. Returns whether the field was found.
+window.airledger.besideField = function (form, field, message) {
+  for (const old of form.querySelectorAll(".field-error")) old.remove();
+  for (const el of form.querySelectorAll("[aria-invalid]")) el.removeAttribute("aria-invalid");
+  const name = String(field || "").split("[")[0].split(".").pop();
+  const el = name && form.elements.namedItem(name);
+  if (!el || !el.insertAdjacentElement) return false;
+  el.insertAdjacentElement("afterend", window.airledger.el("span", { class: "field-error", role: "alert" }, message));
+  el.setAttribute("aria-invalid", "true");
+  el.focus({ preventScroll: true });
+  return true;
+};
 // A form the server refused (pages/refusal.rs): what was typed goes back into its fields (in the
 // units it was typed in), the section that holds it opens, and each refusal is set beside its
 // field; the page's alert lists them all.

@@ -160,3 +160,42 @@ fn a_refused_compressor_keeps_what_was_typed_and_shows_every_refusal() {
         b.severe_logs("/audits").into_iter().filter(|l| !l.contains("status of 422")).collect();
     assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
 }
+
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn a_refused_field_test_keeps_its_fields_and_shows_the_refusal_beside_the_field() {
+    let s = Server::start();
+    let r = s.post_json("/api/v1/audits", &json!({"name": "US", "site": {"display_units": "us"}}));
+    let id = r.json()["id"].as_i64().unwrap();
+    let b = Browser::start();
+    b.set_window(1280, 900);
+    b.goto(&s.url(&format!("/audits/{id}/tests")));
+    // The end pressure typed above the start (the form posts JSON and stays on the page).
+    let form = "document.querySelector('form[data-test-kind=bleed_down]')";
+    b.js(
+        &format!(
+            "const f = {form}; f.elements.volume_m3.value = '660'; f.elements.start_pressure_bar_g.value = '90';
+             f.elements.end_pressure_bar_g.value = '100'; f.elements.duration_s.value = '60'; f.requestSubmit();"
+        ),
+        json!([]),
+    );
+    let beside = || {
+        b.js_str(&format!(
+            "const s = {form}.elements.end_pressure_bar_g.nextElementSibling;
+             return s && s.classList.contains('field-error') ? s.textContent : ''"
+        ))
+    };
+    assert!(
+        wait_until(Duration::from_secs(10), || !beside().is_empty()),
+        "no refusal beside the end pressure"
+    );
+    assert!(beside().contains("100 psig") && beside().contains("90 psig"), "{}", beside());
+    let kept = b.js_str(&format!(
+        "const e = {form}.elements; return [e.volume_m3.value, e.start_pressure_bar_g.value, e.end_pressure_bar_g.value, e.duration_s.value].join('|')"
+    ));
+    assert_eq!(kept, "660|90|100|60");
+    b.screenshot("field-test-refused");
+}
