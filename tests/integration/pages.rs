@@ -243,3 +243,28 @@ fn the_remap_page_offers_unread_columns_as_not_read_under_the_logger_files_tab()
     );
     assert_eq!(r.status, 303, "{}", r.text);
 }
+
+#[test]
+fn a_refused_filter_lists_every_field_beside_its_own() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    // A negative rated flow and a measured drop of 12 bar (above the 10 bar of
+    // core::treatment's MAX_FILTER_DROP_BAR) typed together: both refused, nothing stored.
+    let r = s.post_form(
+        &format!("/audits/{id}/treatment/filters"),
+        &[
+            ("entry_units", "si"),
+            ("tag", "F1"),
+            ("kind", "coalescing"),
+            ("rated_flow_m3_min", "-4"),
+            ("clean_drop_bar", "0.1"),
+            ("measured_drop_bar", "12"),
+        ],
+    );
+    assert_eq!(r.status, 422, "{}", r.text);
+    let got = refusals(&r.text);
+    let fields: Vec<&str> = got.iter().map(|(f, _)| f.as_str()).collect();
+    assert_eq!(fields, ["rated_flow_m3_min", "measured_drop_bar"], "{got:?}");
+    assert!(r.text.contains(&format!("\"action\":\"/audits/{id}/treatment/filters\"")));
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}/filters")).json()["filters"], json!([]));
+}

@@ -401,6 +401,29 @@ fn form_field(field: &str) -> &str {
     }
 }
 
+/// Every refusal of a record read from its form, each in words and the units typed, beside the
+/// form field it is typed in; `None` when the record passes its checks.
+fn every_refusal(record: &TreatmentInput, action: &str, form: &HashMap<String, String>) -> Option<Refusal> {
+    let units = Inputs::of_form(form).units;
+    let all: Vec<FieldError> = record
+        .refusals()
+        .into_iter()
+        .map(|e| {
+            let message =
+                format!("{}: {}", field_words(e.field), in_reader_units(&e.message, e.field, units));
+            FieldError::new(form_field(e.field), message)
+        })
+        .collect();
+    (!all.is_empty()).then(|| Refusal::new(action, form, all))
+}
+
+/// The page again with a refused form (every refusal, what was typed), 422.
+async fn show_refused(st: &AppState, id: i64, r: Refusal) -> PageResult {
+    let mut res = render(&page(st, id, Some(r)).await?);
+    *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
+    Ok(res)
+}
+
 /// The page again with the refusal beside its field and what was typed in the form posted to
 /// `action` (`refusal`), 422; other errors as pages.
 async fn refused(
@@ -437,14 +460,19 @@ pub async fn add(
     let Some(kind) = ItemKind::from_segment(&list) else {
         return Err(PageError::from(AppError::NotFound(format!("no list {list:?}"))));
     };
+    let action = format!("/audits/{id}/treatment/{list}");
     let result = async {
         let record = input(kind, &form, None)?;
-        st.app.add_treatment_item(id, record).await.map_err(AppError::from)
+        if let Some(r) = every_refusal(&record, &action, &form) {
+            return Ok(Err(r));
+        }
+        st.app.add_treatment_item(id, record).await.map(Ok).map_err(AppError::from)
     }
     .await;
     match result {
-        Ok(_) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
-        Err(e) => refused(&st, id, &format!("/audits/{id}/treatment/{list}"), &form, e).await,
+        Ok(Ok(_)) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
+        Ok(Err(r)) => show_refused(&st, id, r).await,
+        Err(e) => refused(&st, id, &action, &form, e).await,
     }
 }
 
@@ -481,13 +509,18 @@ pub async fn update(
     else {
         return Err(PageError::from(AppError::NotFound(format!("audit {id} has no such record {iid}"))));
     };
+    let action = format!("/audits/{id}/treatment/{list}/{iid}");
     let result = async {
         let record = input(kind, &form, Some(&stored))?;
-        st.app.update_treatment_item(id, iid, record).await.map_err(AppError::from)
+        if let Some(r) = every_refusal(&record, &action, &form) {
+            return Ok(Err(r));
+        }
+        st.app.update_treatment_item(id, iid, record).await.map(Ok).map_err(AppError::from)
     }
     .await;
     match result {
-        Ok(_) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
-        Err(e) => refused(&st, id, &format!("/audits/{id}/treatment/{list}/{iid}"), &form, e).await,
+        Ok(Ok(_)) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
+        Ok(Err(r)) => show_refused(&st, id, r).await,
+        Err(e) => refused(&st, id, &action, &form, e).await,
     }
 }
