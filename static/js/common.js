@@ -133,6 +133,7 @@ window.airledger = {
         e.column ? null : window.airledger.fieldWords(e.field)].filter(Boolean).join(", ");
       const err = new Error(e.message + (where ? " (" + where + ")" : ""));
       err.field = e.field || null;
+      err.said = e.message; // the refusal alone, for beside its field
       throw err;
     }
     return body;

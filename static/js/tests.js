@@ -46,7 +46,7 @@
       window.location.assign("/audits/" + data.audit_id + "/tests");
     } catch (e) {
       status.textContent = "Not recorded: " + e.message;
-      if (form && A.besideField(form, e.field, e.message)) form.scrollIntoView({ block: "center" });
+      if (form && A.besideField(form, e.field, e.said || e.message)) form.scrollIntoView({ block: "center" });
       else status.scrollIntoView({ block: "center" });
     }
   }
