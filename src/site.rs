@@ -249,7 +249,8 @@ pub struct SiteRecord {
 }
 
 impl Default for SiteRecord {
-    /// The documented defaults: sea level, 20 °C inlet, 0.15/kWh, no demand charge, EUR, 52 weeks,
+    /// The documented defaults: sea level, 20 °C inlet, 0.15/kWh, no demand charge, EUR (USD for
+    /// an audit created in US customary units without a currency, `App::create_audit`), 52 weeks,
     /// SI display, gas at 0.08/kWh in a 90 % heater, heating October to April, 0.4 kg CO2/kWh grid
     /// and 0.2 kg CO2/kWh fuel (natural gas, common practice).
     fn default() -> Self {
