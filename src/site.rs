@@ -249,7 +249,8 @@ pub struct SiteRecord {
 }
 
 impl Default for SiteRecord {
-    /// The documented defaults: sea level, 20 °C inlet, 0.15/kWh, no demand charge, EUR, 52 weeks,
+    /// The documented defaults: sea level, 20 °C inlet, 0.15/kWh, no demand charge, EUR (USD for
+    /// an audit created in US customary units without a currency, `App::create_audit`), 52 weeks,
     /// SI display, gas at 0.08/kWh in a 90 % heater, heating October to April, 0.4 kg CO2/kWh grid
     /// and 0.2 kg CO2/kWh fuel (natural gas, common practice).
     fn default() -> Self {
@@ -307,6 +308,49 @@ impl SiteRecord {
             fuel_co2_kg_per_kwh: self.fuel_co2_kg_per_kwh,
             production: None,
         }
+    }
+
+    /// Every refusal of a patch at once, for a form that shows each one beside its field: each
+    /// field the patch sets is applied alone (with the patch's unit system, in which refusals are
+    /// quoted) to a copy of this site. The fields' checks are independent of one another, so these
+    /// are exactly the refusals [`Self::apply`] would give one after the other.
+    pub fn refusals(&self, p: &SitePatch) -> Vec<FieldError> {
+        let mut errs = Vec::new();
+        macro_rules! alone {
+            ($($f:ident),* $(,)?) => {$(
+                if p.$f.is_some() {
+                    let mut one = SitePatch { display_units: p.display_units.clone(), ..SitePatch::default() };
+                    one.$f = p.$f.clone();
+                    if let Err(e) = self.clone().apply(&one) {
+                        if !errs.contains(&e) {
+                            errs.push(e);
+                        }
+                    }
+                }
+            )*};
+        }
+        alone!(
+            altitude_m,
+            atmospheric_pressure_kpa_abs,
+            inlet_temperature_c,
+            timezone,
+            electricity_price_per_kwh,
+            demand_charge_per_kw_month,
+            currency,
+            operating_weeks_per_year,
+            operating_hours_per_year,
+            display_units,
+            heating_fuel_price_per_kwh,
+            heater_efficiency,
+            heating_months,
+            heat_use,
+            heating_degree_days_k_day,
+            annual_space_heat_kwh,
+            grid_co2_kg_per_kwh,
+            fuel_co2_kg_per_kwh,
+            other_volume_m3,
+        );
+        errs
     }
 
     /// Apply a patch, validating every field it sets.
@@ -588,15 +632,24 @@ impl ReceiverInput {
 
     /// [`Self::validate`], a refusal quoting the volume in `units` (the audit's).
     pub fn validate_in(&self, units: UnitSystem) -> Result<(), FieldError> {
+        match self.refusals_in(units).into_iter().next() {
+            Some(e) => Err(e),
+            None => Ok(()),
+        }
+    }
+
+    /// Every refusal at once (name, then volume), for a form that shows each beside its field.
+    pub fn refusals_in(&self, units: UnitSystem) -> Vec<FieldError> {
+        let mut errs = Vec::new();
         if self.name.trim().is_empty() || self.name.chars().count() > 64 {
-            return Err(FieldError::new("name", "receiver name must be 1 to 64 characters"));
+            errs.push(FieldError::new("name", "receiver name must be 1 to 64 characters"));
         }
         let v = self.volume_m3;
         if !(v.is_finite() && v > 0.0 && v <= MAX_RECEIVER_VOLUME_M3) {
             let why = Entry::Volume.out_of_range(units, v, 0.0, true, MAX_RECEIVER_VOLUME_M3);
-            return Err(FieldError::new("volume_m3", format!("the receiver's volume {why}")));
+            errs.push(FieldError::new("volume_m3", format!("the receiver's volume {why}")));
         }
-        Ok(())
+        errs
     }
 }
 

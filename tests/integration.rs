@@ -26,6 +26,8 @@ mod hostile_validation;
 mod hostile_web;
 #[path = "integration/ingest.rs"]
 mod ingest;
+#[path = "integration/pages.rs"]
+mod pages;
 #[path = "integration/partload.rs"]
 mod partload;
 #[path = "integration/reader_units.rs"]

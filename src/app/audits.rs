@@ -7,6 +7,7 @@ summary's computation in the background (`summary`), so the next report reads th
 use crate::core::analysis::{Accuracy, LeakEstimate};
 use crate::core::display::Fmt;
 use crate::core::model::{CompressorSpec, StorageSpec};
+use crate::core::units::UnitSystem;
 use crate::site::{CompressorInput, CompressorRecord, ReceiverInput, ReceiverRecord, SitePatch, SiteRecord};
 use crate::store::audits::{self, Audit, AuditListItem, CompressorWrite, FieldTestRecord, UploadRecord};
 use crate::store::read::{self, ChannelInfo, ChartPoint, UploadChannelStats};
@@ -154,6 +155,12 @@ impl App {
         let name = name.trim();
         check_name(name)?;
         let mut site = SiteRecord::default();
+        // A new audit in US customary units prices in US dollars unless a currency is given.
+        if patch.currency.is_none()
+            && patch.display_units.as_deref().and_then(UnitSystem::parse) == Some(UnitSystem::Us)
+        {
+            site.currency = "USD".into();
+        }
         site.apply(patch)?;
         Ok(audits::create_audit(self.db(), name, &site).await?)
     }

@@ -77,6 +77,13 @@ pub struct DryerInput {
 
 impl DryerInput {
     pub fn to_core(&self) -> std::result::Result<Dryer, TreatmentError> {
+        let d = self.parsed()?;
+        d.validate()?;
+        Ok(d)
+    }
+
+    /// The record with its words read (kind, control), not yet checked.
+    fn parsed(&self) -> std::result::Result<Dryer, TreatmentError> {
         let d = Dryer {
             tag: self.tag.trim().to_string(),
             kind: DryerKind::parse(&self.kind, "kind")?,
@@ -85,7 +92,6 @@ impl DryerInput {
             power_kw: self.power_kw,
             control: DryerControl::parse(&self.control, "control")?,
         };
-        d.validate()?;
         Ok(d)
     }
 }
@@ -108,6 +114,13 @@ pub struct DrainInput {
 
 impl DrainInput {
     pub fn to_core(&self) -> std::result::Result<Drain, TreatmentError> {
+        let d = self.parsed()?;
+        d.validate()?;
+        Ok(d)
+    }
+
+    /// The record with its words read (kind, control), not yet checked.
+    fn parsed(&self) -> std::result::Result<Drain, TreatmentError> {
         let d = Drain {
             tag: self.tag.trim().to_string(),
             kind: DrainKind::parse(&self.kind, "kind")?,
@@ -116,7 +129,6 @@ impl DrainInput {
             orifice_mm: self.orifice_mm,
             discharge_coefficient: self.discharge_coefficient,
         };
-        d.validate()?;
         Ok(d)
     }
 }
@@ -145,6 +157,13 @@ pub struct EndUseInput {
 
 impl EndUseInput {
     pub fn to_core(&self) -> std::result::Result<EndUse, TreatmentError> {
+        let u = self.parsed()?;
+        u.validate()?;
+        Ok(u)
+    }
+
+    /// The record with its words read (kind, control), not yet checked.
+    fn parsed(&self) -> std::result::Result<EndUse, TreatmentError> {
         let u = EndUse {
             name: self.name.trim().to_string(),
             kind: EndUseKind::parse(&self.kind, "kind")?,
@@ -156,7 +175,6 @@ impl EndUseInput {
             regulated: self.regulated,
             alternative_kw: self.alternative_kw,
         };
-        u.validate()?;
         Ok(u)
     }
 }
@@ -179,6 +197,13 @@ pub struct FilterInput {
 
 impl FilterInput {
     pub fn to_core(&self) -> std::result::Result<Filter, TreatmentError> {
+        let f = self.parsed()?;
+        f.validate()?;
+        Ok(f)
+    }
+
+    /// The record with its words read (kind, control), not yet checked.
+    fn parsed(&self) -> std::result::Result<Filter, TreatmentError> {
         let f = Filter {
             tag: self.tag.trim().to_string(),
             kind: FilterKind::parse(&self.kind, "kind")?,
@@ -188,7 +213,6 @@ impl FilterInput {
             element_change_months: self.element_change_months,
             element_cost: self.element_cost,
         };
-        f.validate()?;
         Ok(f)
     }
 }
@@ -205,6 +229,18 @@ pub enum TreatmentInput {
 }
 
 impl TreatmentInput {
+    /// Every refusal of the record at once (`core::treatment`'s `refusals`), for a form that shows
+    /// each beside its field; a word that cannot be read (kind, control) alone.
+    pub fn refusals(&self) -> Vec<TreatmentError> {
+        let all = match self {
+            TreatmentInput::Dryer(i) => i.parsed().map(|c| c.refusals()),
+            TreatmentInput::Drain(i) => i.parsed().map(|c| c.refusals()),
+            TreatmentInput::EndUse(i) => i.parsed().map(|c| c.refusals()),
+            TreatmentInput::Filter(i) => i.parsed().map(|c| c.refusals()),
+        };
+        all.unwrap_or_else(|e| vec![e])
+    }
+
     pub fn kind(&self) -> ItemKind {
         match self {
             TreatmentInput::Dryer(_) => ItemKind::Dryer,

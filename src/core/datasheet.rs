@@ -162,23 +162,40 @@ impl DataSheetInput {
     }
 
     /// [`Self::validate`], a refusal quoting flows, pressures and specific powers in `units`, as
-    /// the reader's form labelled them (`core::entry`).
+    /// the reader's form labelled them (`core::entry`): the first of [`Self::validate_all_in`]'s
+    /// refusals.
     pub fn validate_in(&self, units: UnitSystem) -> Result<CompressorSpec, SheetError> {
+        self.validate_all_in(units).map_err(|mut all| all.swap_remove(0))
+    }
+
+    /// Every field checked, every refusal returned at once (in the order of the fields), so that a
+    /// form can show each one beside its field. A check that leans on another field (the maximum
+    /// pressure on the rated one, the no-load power on the package power) is made against that
+    /// field only when it passed, so that one wrong value is refused once.
+    pub fn validate_all_in(&self, units: UnitSystem) -> Result<CompressorSpec, Vec<SheetError>> {
+        let mut errs: Vec<SheetError> = Vec::new();
+        fn take<T>(errs: &mut Vec<SheetError>, r: Result<T, SheetError>) -> Option<T> {
+            r.map_err(|e| errs.push(e)).ok()
+        }
         let tag = self.tag.trim();
         if tag.is_empty() || tag.chars().count() > 32 {
-            return err("tag", format!("tag must be 1 to 32 characters, got {:?}", self.tag));
+            take(&mut errs, err::<()>("tag", format!("tag must be 1 to 32 characters, got {:?}", self.tag)));
         }
-        let Some(kind) = CompressorKind::parse(&self.kind) else {
-            return err("kind", format!("unknown compressor kind {:?}", self.kind));
-        };
-        let Some(control) = Control::parse(&self.control) else {
-            return err("control", format!("unknown control {:?}", self.control));
-        };
-        let Some(cooling) = Cooling::parse(&self.cooling) else {
-            return err("cooling", format!("unknown cooling {:?}", self.cooling));
-        };
+        let kind = CompressorKind::parse(&self.kind);
+        if kind.is_none() {
+            take(&mut errs, err::<()>("kind", format!("unknown compressor kind {:?}", self.kind)));
+        }
+        let control = Control::parse(&self.control);
+        if control.is_none() {
+            take(&mut errs, err::<()>("control", format!("unknown control {:?}", self.control)));
+        }
+        let cooling = Cooling::parse(&self.cooling);
+        if cooling.is_none() {
+            take(&mut errs, err::<()>("cooling", format!("unknown cooling {:?}", self.cooling)));
+        }
         let positive = |field: &str, v: f64, max: f64, unit: &str| within(field, v, 0.0, true, max, unit);
-        let rated_power_kw = positive("rated_power_kw", self.rated_power_kw, MAX_RATED_POWER_KW, " kW")?;
+        let rated_power_kw =
+            take(&mut errs, positive("rated_power_kw", self.rated_power_kw, MAX_RATED_POWER_KW, " kW"));
         // A field typed in the reader's units is refused in them, named in words.
         let entry = |field: &str, words: &str, kind: Entry, v: f64, (lo, lo_open): (f64, bool), hi: f64| {
             let low_ok = if lo_open { v > lo } else { v >= lo };
@@ -188,133 +205,181 @@ impl DataSheetInput {
                 err(field, format!("{words} {}", kind.out_of_range(units, v, lo, lo_open, hi)))
             }
         };
-        let rated_flow_m3_min = entry(
-            "rated_flow_m3_min",
-            "the free air delivery",
-            Entry::FreeAirFlow,
-            self.rated_flow_m3_min,
-            (0.0, true),
-            MAX_RATED_FLOW_M3_MIN,
-        )?;
-        let rated_pressure_bar_g = entry(
-            "rated_pressure_bar_g",
-            "the rated pressure",
-            Entry::GaugePressure,
-            self.rated_pressure_bar_g,
-            (0.0, true),
-            MAX_PRESSURE_BAR_G,
-        )?;
-        if let Some(p) = self.max_pressure_bar_g {
+        let rated_flow_m3_min = take(
+            &mut errs,
             entry(
-                "max_pressure_bar_g",
-                "the maximum pressure (not below the rated pressure)",
+                "rated_flow_m3_min",
+                "the free air delivery",
+                Entry::FreeAirFlow,
+                self.rated_flow_m3_min,
+                (0.0, true),
+                MAX_RATED_FLOW_M3_MIN,
+            ),
+        );
+        let rated_pressure_bar_g = take(
+            &mut errs,
+            entry(
+                "rated_pressure_bar_g",
+                "the rated pressure",
                 Entry::GaugePressure,
-                p,
-                (rated_pressure_bar_g, false),
+                self.rated_pressure_bar_g,
+                (0.0, true),
                 MAX_PRESSURE_BAR_G,
-            )?;
+            ),
+        );
+        if let Some(p) = self.max_pressure_bar_g {
+            // Not below the rated pressure when that one is right; else only within the range.
+            let (lo, words) = match rated_pressure_bar_g {
+                Some(r) => (r, "the maximum pressure (not below the rated pressure)"),
+                None => (0.0, "the maximum pressure"),
+            };
+            take(
+                &mut errs,
+                entry("max_pressure_bar_g", words, Entry::GaugePressure, p, (lo, false), MAX_PRESSURE_BAR_G),
+            );
         }
         if let Some(kw) = self.nameplate_motor_kw {
-            positive("nameplate_motor_kw", kw, MAX_RATED_POWER_KW, " kW")?;
+            take(&mut errs, positive("nameplate_motor_kw", kw, MAX_RATED_POWER_KW, " kW"));
         }
-        if let Some(kw) = self.loaded_level_kw {
-            positive("loaded_level_kw", kw, MAX_RATED_POWER_KW, " kW")?;
-        }
+        let loaded_ok = match self.loaded_level_kw {
+            Some(kw) => take(&mut errs, positive("loaded_level_kw", kw, MAX_RATED_POWER_KW, " kW")).is_some(),
+            None => true,
+        };
         if let Some(kw) = self.unloaded_level_kw {
-            let hi = self.loaded_level_kw.unwrap_or(MAX_RATED_POWER_KW);
+            let hi = self.loaded_level_kw.filter(|_| loaded_ok).unwrap_or(MAX_RATED_POWER_KW);
             if !(kw.is_finite() && kw > 0.0 && kw < hi) {
-                return err(
-                    "unloaded_level_kw",
-                    format!("unloaded_level_kw must be above 0 and below the loaded level {hi} kW, got {kw}"),
+                take(
+                    &mut errs,
+                    err::<()>(
+                        "unloaded_level_kw",
+                        format!(
+                            "unloaded_level_kw must be above 0 and below the loaded level {hi} kW, got {kw}"
+                        ),
+                    ),
                 );
             }
         }
         let stages = self.stages.unwrap_or(1);
         if !(1..=6).contains(&stages) {
-            return err("stages", format!("stages must be 1 to 6, got {stages}"));
+            take(&mut errs, err::<()>("stages", format!("stages must be 1 to 6, got {stages}")));
         }
         if let Some(sp) = self.rated_specific_power_kw_per_m3_min {
-            entry(
-                "rated_specific_power_kw_per_m3_min",
-                "the data-sheet specific power",
-                Entry::SpecificPower,
-                sp,
-                (0.0, true),
-                50.0,
-            )?;
-        }
-        if let Some(y) = self.year {
-            if !(1900..=2100).contains(&y) {
-                return err("year", format!("year must be within 1900..2100, got {y}"));
-            }
-        }
-        let mut curve = self.power_curve.clone();
-        if curve.len() > MAX_POWER_CURVE_POINTS {
-            return err(
-                "power_curve",
-                format!("a power curve has at most {MAX_POWER_CURVE_POINTS} points, got {}", curve.len()),
-            );
-        }
-        let in_range = |q: f64, p: f64| {
-            (0.0..=MAX_RATED_FLOW_M3_MIN).contains(&q) && (0.0..=MAX_RATED_POWER_KW).contains(&p)
-        };
-        if curve.iter().any(|&(q, p)| !in_range(q, p)) {
-            return err(
-                "power_curve",
-                format!(
-                    "power curve points must be [flow_m3_min, kw] with flow 0 to {MAX_RATED_FLOW_M3_MIN} \
-                     and power 0 to {MAX_RATED_POWER_KW}"
+            take(
+                &mut errs,
+                entry(
+                    "rated_specific_power_kw_per_m3_min",
+                    "the data-sheet specific power",
+                    Entry::SpecificPower,
+                    sp,
+                    (0.0, true),
+                    50.0,
                 ),
             );
         }
+        if let Some(y) = self.year {
+            if !(1900..=2100).contains(&y) {
+                take(&mut errs, err::<()>("year", format!("year must be within 1900..2100, got {y}")));
+            }
+        }
+        let mut curve = self.power_curve.clone();
+        let in_range = |q: f64, p: f64| {
+            (0.0..=MAX_RATED_FLOW_M3_MIN).contains(&q) && (0.0..=MAX_RATED_POWER_KW).contains(&p)
+        };
         curve.sort_by(|a, b| a.0.total_cmp(&b.0));
-        if curve.windows(2).any(|w| w[1].0 == w[0].0) {
-            return err("power_curve", "the flows of a power curve must all differ".into());
+        if curve.len() > MAX_POWER_CURVE_POINTS {
+            take(
+                &mut errs,
+                err::<()>(
+                    "power_curve",
+                    format!("a power curve has at most {MAX_POWER_CURVE_POINTS} points, got {}", curve.len()),
+                ),
+            );
+        } else if curve.iter().any(|&(q, p)| !in_range(q, p)) {
+            take(
+                &mut errs,
+                err::<()>(
+                    "power_curve",
+                    format!(
+                        "power curve points must be [flow_m3_min, kw] with flow 0 to {MAX_RATED_FLOW_M3_MIN} \
+                         and power 0 to {MAX_RATED_POWER_KW}"
+                    ),
+                ),
+            );
+        } else if curve.windows(2).any(|w| w[1].0 == w[0].0) {
+            take(&mut errs, err::<()>("power_curve", "the flows of a power curve must all differ".into()));
         }
         if let Some(f) = self.min_speed_fraction {
             if !(f.is_finite() && f > 0.0 && f < 1.0) {
-                return err("min_speed_fraction", format!("min_speed_fraction must lie in 0..1, got {f}"));
+                take(
+                    &mut errs,
+                    err::<()>("min_speed_fraction", format!("min_speed_fraction must lie in 0..1, got {f}")),
+                );
             }
         }
+        // No-load power: given as kW, as a fraction, or by default (module doc).
+        let fraction_given = self.unloaded_power_fraction.and_then(|f| {
+            take(&mut errs, within("unloaded_power_fraction", f, 0.0, false, MAX_UNLOADED_POWER_FRACTION, ""))
+        });
+        let no_load_given = match (self.no_load_power_kw, rated_power_kw) {
+            (Some(kw), Some(rated)) => take(
+                &mut errs,
+                within(
+                    "no_load_power_kw",
+                    kw,
+                    0.0,
+                    false,
+                    MAX_UNLOADED_POWER_FRACTION * rated,
+                    " kW (0.9 of the rated power)",
+                ),
+            ),
+            (Some(kw), None) => {
+                take(&mut errs, within("no_load_power_kw", kw, 0.0, false, MAX_RATED_POWER_KW, " kW"))
+            }
+            (None, _) => None,
+        };
+        if let (Some(kw), Some(f), Some(rated)) = (no_load_given, fraction_given, rated_power_kw) {
+            if (kw - f * rated).abs() > 0.005 * rated {
+                take(
+                    &mut errs,
+                    err::<()>(
+                        "no_load_power_kw",
+                        format!(
+                            "no_load_power_kw {kw} kW and unloaded_power_fraction {f} ({:.2} kW) disagree: \
+                             give one of them",
+                            f * rated
+                        ),
+                    ),
+                );
+            }
+        }
+        let (
+            Some(kind),
+            Some(control),
+            Some(cooling),
+            Some(rated_power_kw),
+            Some(rated_flow_m3_min),
+            Some(rated_pressure_bar_g),
+            true,
+        ) = (
+            kind,
+            control,
+            cooling,
+            rated_power_kw,
+            rated_flow_m3_min,
+            rated_pressure_bar_g,
+            errs.is_empty(),
+        )
+        else {
+            return Err(errs);
+        };
         if control == Control::VariableSpeed && curve.is_empty() {
             if let Some(f) = self.min_speed_fraction {
                 let (q, p) = (rated_flow_m3_min, rated_power_kw);
                 curve = vec![(f * q, p * (states::VSD_TYPICAL_A + states::VSD_TYPICAL_B * f)), (q, p)];
             }
         }
-        // No-load power: given as kW, as a fraction, or by default (module doc).
-        let fraction_given = match self.unloaded_power_fraction {
-            Some(f) => {
-                Some(within("unloaded_power_fraction", f, 0.0, false, MAX_UNLOADED_POWER_FRACTION, "")?)
-            }
-            None => None,
-        };
-        let no_load_given = match self.no_load_power_kw {
-            Some(kw) => Some(within(
-                "no_load_power_kw",
-                kw,
-                0.0,
-                false,
-                MAX_UNLOADED_POWER_FRACTION * rated_power_kw,
-                " kW (0.9 of the rated power)",
-            )?),
-            None => None,
-        };
         let unloaded_power_fraction = match (no_load_given, fraction_given) {
-            (Some(kw), Some(f)) => {
-                if (kw - f * rated_power_kw).abs() > 0.005 * rated_power_kw {
-                    return err(
-                        "no_load_power_kw",
-                        format!(
-                            "no_load_power_kw {kw} kW and unloaded_power_fraction {f} ({:.2} kW) disagree: \
-                             give one of them",
-                            f * rated_power_kw
-                        ),
-                    );
-                }
-                kw / rated_power_kw
-            }
-            (Some(kw), None) => kw / rated_power_kw,
+            (Some(kw), _) => kw / rated_power_kw,
             (None, Some(f)) => f,
             (None, None) if control == Control::VariableSpeed => {
                 let spec_curve = CompressorSpec {
@@ -398,5 +463,28 @@ mod tests {
         assert_eq!(field(both), "no_load_power_kw");
         let dup = DataSheetInput { power_curve: vec![(2.0, 14.0), (2.0, 15.0)], ..c2() };
         assert_eq!(field(dup), "power_curve");
+    }
+
+    #[test]
+    fn every_wrong_field_is_refused_at_once() {
+        // -120 cfm and 2000 psig typed together (the form's example): both refused, in the order
+        // of the fields; 2000 psig = 137.9 bar(g) (NIST SP 811: 1 psi = 6.894757 kPa), above the
+        // 50 bar(g) limit; -120 cfm is below zero whatever its factor.
+        let both = DataSheetInput {
+            rated_flow_m3_min: -120.0 * 0.028_316_846_592,
+            rated_pressure_bar_g: 2000.0 * 0.068_947_572_93,
+            ..c2()
+        };
+        let errs = both.validate_all_in(UnitSystem::Us).unwrap_err();
+        let fields: Vec<&str> = errs.iter().map(|e| e.field.as_str()).collect();
+        assert_eq!(fields, ["rated_flow_m3_min", "rated_pressure_bar_g"]);
+        assert!(errs[0].message.contains("cfm") && errs[1].message.contains("psig"), "{errs:?}");
+        // The first of them is what `validate_in` gives (the API's one refusal).
+        assert_eq!(both.validate_in(UnitSystem::Us).unwrap_err().field, "rated_flow_m3_min");
+        // A maximum pressure is not refused again for a rated pressure that was refused itself.
+        let max = DataSheetInput { rated_pressure_bar_g: -1.0, max_pressure_bar_g: Some(8.0), ..c2() };
+        let fields: Vec<String> =
+            max.validate_all_in(UnitSystem::Si).unwrap_err().into_iter().map(|e| e.field).collect();
+        assert_eq!(fields, ["rated_pressure_bar_g"]);
     }
 }

@@ -35,6 +35,47 @@ pub fn num(v: f64, decimals: usize) -> String {
     }
 }
 
+/// One unit for a column of energies, so that a column never mixes kWh and MWh: the unit
+/// [`Fmt::energy_kwh`] would give the column's largest value.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum EnergyUnit {
+    Kwh,
+    Mwh,
+    Gwh,
+}
+
+impl EnergyUnit {
+    /// The unit of a column holding these values (kWh when none is finite).
+    pub fn for_column(values: impl IntoIterator<Item = f64>) -> Self {
+        let max = values.into_iter().filter(|v| v.is_finite()).fold(0.0_f64, |m, v| m.max(v.abs()));
+        if max >= 1.0e6 {
+            Self::Gwh
+        } else if max >= 10_000.0 {
+            Self::Mwh
+        } else {
+            Self::Kwh
+        }
+    }
+
+    pub fn label(self) -> &'static str {
+        match self {
+            Self::Kwh => "kWh",
+            Self::Mwh => "MWh",
+            Self::Gwh => "GWh",
+        }
+    }
+
+    /// The number alone (the column's heading carries the unit), with the decimals of
+    /// [`Fmt::energy_kwh`] for the unit.
+    pub fn number(self, kwh: f64) -> String {
+        match self {
+            Self::Kwh => num(kwh, 0),
+            Self::Mwh => num(kwh / 1000.0, 1),
+            Self::Gwh => num(kwh / 1.0e6, 2),
+        }
+    }
+}
+
 /// Decimals that keep about three significant figures for a value of this size.
 fn sig(v: f64) -> usize {
     let a = v.abs();
@@ -215,6 +256,10 @@ impl Fmt {
             }
         }
     }
+    /// A count (rows, readings), digits grouped as every figure is: "1,999".
+    pub fn count(&self, n: impl std::borrow::Borrow<i64>) -> String {
+        num(*n.borrow() as f64, 0)
+    }
     pub fn percent(&self, fraction: impl Num) -> String {
         let fraction = fraction.f();
         format!("{} %", num(fraction * 100.0, 1))
@@ -298,6 +343,17 @@ mod tests {
         assert_eq!(num(-0.004, 2), "0.00");
         assert_eq!(num(-12.5, 1), "-12.5");
         assert_eq!(num(f64::NAN, 1), "–");
+    }
+
+    #[test]
+    fn a_column_of_energies_takes_one_unit() {
+        // 9,930 kWh and 11,600 kWh in one column: both in MWh (1 MWh = 1,000 kWh), not one of each.
+        let u = EnergyUnit::for_column([9_930.0, 11_600.0, f64::NAN]);
+        assert_eq!(u, EnergyUnit::Mwh);
+        assert_eq!((u.number(9_930.0).as_str(), u.number(11_600.0).as_str()), ("9.9", "11.6"));
+        let small = EnergyUnit::for_column([133.0, 9_797.0]);
+        assert_eq!((small.label(), small.number(9_797.0).as_str()), ("kWh", "9,797"));
+        assert_eq!(EnergyUnit::for_column([]), EnergyUnit::Kwh);
     }
 
     #[test]

@@ -176,6 +176,19 @@ impl EndUseKind {
     }
 }
 
+/// The first of a record's refusals, as `validate` gives it.
+fn first(errs: Vec<TreatmentError>) -> Result<(), TreatmentError> {
+    match errs.into_iter().next() {
+        Some(e) => Err(e),
+        None => Ok(()),
+    }
+}
+
+/// A check's value, its refusal collected.
+fn take<T>(errs: &mut Vec<TreatmentError>, r: Result<T, TreatmentError>) -> Option<T> {
+    r.map_err(|e| errs.push(e)).ok()
+}
+
 fn fraction(v: f64, field: &'static str) -> Result<f64, TreatmentError> {
     if v.is_finite() && (0.0..=1.0).contains(&v) {
         Ok(v)
@@ -235,15 +248,21 @@ pub const CYCLING_DRYER_FLOOR: f64 = 0.2;
 
 impl Dryer {
     pub fn validate(&self) -> Result<(), TreatmentError> {
-        positive(self.rated_flow.m3_min(), "rated_flow_m3_min")?;
+        first(self.refusals())
+    }
+
+    /// Every refusal at once, in the order of [`Self::validate`]'s checks.
+    pub fn refusals(&self) -> Vec<TreatmentError> {
+        let mut errs = Vec::new();
+        take(&mut errs, positive(self.rated_flow.m3_min(), "rated_flow_m3_min"));
         if let Some(p) = self.purge_fraction {
-            fraction(p, "purge_fraction")?;
+            take(&mut errs, fraction(p, "purge_fraction"));
         }
-        non_negative(self.power_kw, "power_kw")?;
+        take(&mut errs, non_negative(self.power_kw, "power_kw"));
         if self.tag.trim().is_empty() {
-            return Err(TreatmentError::new("tag", "a dryer needs a tag"));
+            errs.push(TreatmentError::new("tag", "a dryer needs a tag"));
         }
-        Ok(())
+        errs
     }
 
     pub fn purge_fraction(&self) -> f64 {
@@ -302,12 +321,18 @@ pub const SHARP_EDGE_CD: f64 = 0.61;
 
 impl Drain {
     pub fn validate(&self) -> Result<(), TreatmentError> {
+        first(self.refusals())
+    }
+
+    /// Every refusal at once, in the order of [`Self::validate`]'s checks.
+    pub fn refusals(&self) -> Vec<TreatmentError> {
+        let mut errs = Vec::new();
         if self.tag.trim().is_empty() {
-            return Err(TreatmentError::new("tag", "a drain needs a tag"));
+            errs.push(TreatmentError::new("tag", "a drain needs a tag"));
         }
         if let Some(cd) = self.discharge_coefficient {
             if !(cd > 0.0 && cd <= 1.0) {
-                return Err(TreatmentError::new(
+                errs.push(TreatmentError::new(
                     "discharge_coefficient",
                     format!("must be in (0, 1], got {cd}"),
                 ));
@@ -315,26 +340,28 @@ impl Drain {
         }
         match self.kind {
             DrainKind::Timer => {
-                let open = positive(self.open_s.unwrap_or(f64::NAN), "open_s")?;
-                let every = positive(self.interval_s.unwrap_or(f64::NAN), "interval_s")?;
-                if open > every {
-                    return Err(TreatmentError::new(
-                        "open_s",
-                        format!("the drain cannot be open {open} s in every {every} s"),
-                    ));
+                let open = take(&mut errs, positive(self.open_s.unwrap_or(f64::NAN), "open_s"));
+                let every = take(&mut errs, positive(self.interval_s.unwrap_or(f64::NAN), "interval_s"));
+                if let (Some(open), Some(every)) = (open, every) {
+                    if open > every {
+                        errs.push(TreatmentError::new(
+                            "open_s",
+                            format!("the drain cannot be open {open} s in every {every} s"),
+                        ));
+                    }
                 }
-                positive(self.orifice_mm.unwrap_or(f64::NAN), "orifice_mm")?;
+                take(&mut errs, positive(self.orifice_mm.unwrap_or(f64::NAN), "orifice_mm"));
             }
             DrainKind::ManualOpen => {
-                positive(self.orifice_mm.unwrap_or(f64::NAN), "orifice_mm")?;
+                take(&mut errs, positive(self.orifice_mm.unwrap_or(f64::NAN), "orifice_mm"));
             }
             DrainKind::ZeroLoss | DrainKind::Float => {
                 if let Some(d) = self.orifice_mm {
-                    non_negative(d, "orifice_mm")?;
+                    take(&mut errs, non_negative(d, "orifice_mm"));
                 }
             }
         }
-        Ok(())
+        errs
     }
 
     /// Mean free-air loss at line pressure `line` (absolute), inlet air at the site's temperature.
@@ -395,28 +422,33 @@ pub fn drop_at_flow(drop_rated: f64, rated: FreeAirFlow, flow: FreeAirFlow) -> f
 
 impl Filter {
     pub fn validate(&self) -> Result<(), TreatmentError> {
+        first(self.refusals())
+    }
+
+    /// Every refusal at once, in the order of [`Self::validate`]'s checks.
+    pub fn refusals(&self) -> Vec<TreatmentError> {
+        let mut errs = Vec::new();
         if self.tag.trim().is_empty() {
-            return Err(TreatmentError::new("tag", "a filter needs a tag"));
+            errs.push(TreatmentError::new("tag", "a filter needs a tag"));
         }
-        positive(self.rated_flow.m3_min(), "rated_flow_m3_min")?;
+        take(&mut errs, positive(self.rated_flow.m3_min(), "rated_flow_m3_min"));
         for (v, field) in
             [(self.clean_drop_bar, "clean_drop_bar"), (self.measured_drop_bar, "measured_drop_bar")]
         {
-            non_negative(v, field)?;
-            if v > MAX_FILTER_DROP_BAR {
-                return Err(TreatmentError::new(
+            if take(&mut errs, non_negative(v, field)).is_some() && v > MAX_FILTER_DROP_BAR {
+                errs.push(TreatmentError::new(
                     field,
                     format!("a drop across a filter is at most {MAX_FILTER_DROP_BAR} bar, got {v}"),
                 ));
             }
         }
         if let Some(m) = self.element_change_months {
-            positive(m, "element_change_months")?;
+            take(&mut errs, positive(m, "element_change_months"));
         }
         if let Some(c) = self.element_cost {
-            non_negative(c, "element_cost")?;
+            take(&mut errs, non_negative(c, "element_cost"));
         }
-        Ok(())
+        errs
     }
 
     /// The filter at a mean flow `through` it (free air).
@@ -454,38 +486,42 @@ pub const END_USE_CD: f64 = 1.0;
 
 impl EndUse {
     pub fn validate(&self) -> Result<(), TreatmentError> {
+        first(self.refusals())
+    }
+
+    /// Every refusal at once, in the order of [`Self::validate`]'s checks.
+    pub fn refusals(&self) -> Vec<TreatmentError> {
+        let mut errs = Vec::new();
         if self.name.trim().is_empty() {
-            return Err(TreatmentError::new("name", "an end use needs a name"));
+            errs.push(TreatmentError::new("name", "an end use needs a name"));
         }
-        fraction(self.duty, "duty")?;
+        take(&mut errs, fraction(self.duty, "duty"));
         if self.count == 0 {
-            return Err(TreatmentError::new("count", "must be at least 1"));
+            errs.push(TreatmentError::new("count", "must be at least 1"));
         }
+        let by_orifice = self.flow_m3_min.is_none() && self.orifice_mm.is_some();
         match (self.flow_m3_min, self.orifice_mm) {
             (Some(q), None) => {
-                non_negative(q, "flow_m3_min")?;
+                take(&mut errs, non_negative(q, "flow_m3_min"));
             }
             (None, Some(d)) => {
-                positive(d, "orifice_mm")?;
-                positive(self.pressure_bar_g.unwrap_or(f64::NAN), "pressure_bar_g")?;
+                take(&mut errs, positive(d, "orifice_mm"));
+                // The pressure drives an orifice's flow: above zero.
+                take(&mut errs, positive(self.pressure_bar_g.unwrap_or(f64::NAN), "pressure_bar_g"));
             }
             (Some(_), Some(_)) => {
-                return Err(TreatmentError::new("flow_m3_min", "give flow_m3_min or orifice_mm, not both"))
+                errs.push(TreatmentError::new("flow_m3_min", "give flow_m3_min or orifice_mm, not both"))
             }
-            (None, None) => {
-                return Err(TreatmentError::new(
-                    "flow_m3_min",
-                    "give the air per use: flow_m3_min or orifice_mm",
-                ))
-            }
+            (None, None) => errs
+                .push(TreatmentError::new("flow_m3_min", "give the air per use: flow_m3_min or orifice_mm")),
         }
-        if let Some(p) = self.pressure_bar_g {
-            non_negative(p, "pressure_bar_g")?;
+        if let Some(p) = self.pressure_bar_g.filter(|_| !by_orifice) {
+            take(&mut errs, non_negative(p, "pressure_bar_g"));
         }
         if let Some(k) = self.alternative_kw {
-            non_negative(k, "alternative_kw")?;
+            take(&mut errs, non_negative(k, "alternative_kw"));
         }
-        Ok(())
+        errs
     }
 
     /// Air per use while it runs, free air.

@@ -67,10 +67,24 @@ window.airledger = {
     return part({ weekday: "short" }, "weekday") + " " + Number(p.day) + " " + part({ month: "short" }, "month") + " " +
       p.year + " " + p.hour + ":" + p.minute + " " + name;
   },
-  // A short tick label in the site's time: "03-15 02:00".
-  tick(ms, tz) {
-    const p = this.wall(ms, tz);
-    return p.month + "-" + p.day + " " + p.hour + ":" + p.minute;
+  // A count as every page writes it, digits grouped by commas ("1,999"), whatever the browser's
+  // language (core::display::num on the server).
+  count(n) {
+    return Number(n).toLocaleString("en-US", { maximumFractionDigits: 0 });
+  },
+  // A chart's tick label in the site's time, 24-hour, day before month as the pages write it
+  // ("Wed 11 Mar 04:33"): one format for every chart (report, field tests, what-if). Given the
+  // axis' range: with the year when it crosses one ("17 Dec 2006"), without the hour when it spans
+  // two weeks or more.
+  tick(ms, tz, range) {
+    const zone = tz || "UTC";
+    const year = (t) => new Date(t).toLocaleString("en-GB", { timeZone: zone, year: "numeric" });
+    const o = { timeZone: zone, day: "numeric", month: "short" };
+    if (range && year(range.min) !== year(range.max)) o.year = "numeric";
+    if (!range || range.max - range.min < 14 * 86400000) {
+      Object.assign(o, { weekday: "short", hour: "2-digit", minute: "2-digit", hourCycle: "h23" });
+    }
+    return new Date(ms).toLocaleString("en-GB", o).replace(",", "");
   },
   // An API error's field in words for a person; none for a column's own fields (the column is named).
   fieldWords(field) {
@@ -125,7 +139,10 @@ window.airledger = {
       const e = body && body.error ? body.error : { message: "HTTP " + r.status };
       const where = [e.line ? "line " + e.line : null, e.column ? "column \u201c" + e.column + "\u201d" : null,
         e.column ? null : window.airledger.fieldWords(e.field)].filter(Boolean).join(", ");
-      throw new Error(e.message + (where ? " (" + where + ")" : ""));
+      const err = new Error(e.message + (where ? " (" + where + ")" : ""));
+      err.field = e.field || null;
+      err.said = e.message; // the refusal alone, for beside its field
+      throw err;
     }
     return body;
   },
@@ -180,6 +197,9 @@ window.airledger = {
           el.value = String(Number(((stored - b.offset) / b.factor).toPrecision(9)));
         }
       }
+      // The currency follows the units while it is still the other system's default (EUR, USD).
+      const cur = form.querySelector("[data-currency-default]"), usual = { si: "EUR", us: "USD" };
+      if (cur && cur.value.trim() === usual[now] && usual[sel.value]) cur.value = usual[sel.value];
       for (const span of form.querySelectorAll("[data-unit-of]")) {
         const b = to.fields[span.getAttribute("data-unit-of")];
         if (b) span.textContent = b.label;
@@ -188,6 +208,52 @@ window.airledger = {
       if (hidden) hidden.value = now;
     });
   }
+})();
+// A refusal set beside the field it names in `form` (an API refusal of a form posted as JSON);
+// the earlier one taken away. Returns whether the field was found.
+window.airledger.besideField = function (form, field, message) {
+  for (const old of form.querySelectorAll(".field-error")) old.remove();
+  for (const el of form.querySelectorAll("[aria-invalid]")) el.removeAttribute("aria-invalid");
+  const name = String(field || "").split("[")[0].split(".").pop();
+  const el = name && form.elements.namedItem(name);
+  if (!el || !el.insertAdjacentElement) return false;
+  el.insertAdjacentElement("afterend", window.airledger.el("span", { class: "field-error", role: "alert" }, message));
+  el.setAttribute("aria-invalid", "true");
+  el.focus({ preventScroll: true });
+  return true;
+};
+// A form the server refused (pages/refusal.rs): what was typed goes back into its fields (in the
+// units it was typed in), the section that holds it opens, and each refusal is set beside its
+// field; the page's alert lists them all.
+(function () {
+  const data = window.airledger.pageData("refused-form");
+  if (!data) return;
+  const form = [...document.querySelectorAll("form[action]")].find((f) => f.getAttribute("action") === data.action);
+  if (!form) return;
+  for (const el of form.elements) {
+    if (!el.name || el.type === "hidden" || el.type === "submit") continue;
+    if (el.type === "checkbox") el.checked = Object.prototype.hasOwnProperty.call(data.values, el.name);
+    else if (Object.prototype.hasOwnProperty.call(data.values, el.name)) {
+      el.value = data.values[el.name];
+      delete el.dataset.shown;
+    }
+  }
+  for (let d = form.closest("details"); d; d = d.parentElement && d.parentElement.closest("details")) d.open = true;
+  let first = null;
+  for (const e of data.errors) {
+    const name = String(e.field || "").split("[")[0].split(".").pop();
+    const el = name && form.elements.namedItem(name);
+    if (!el || !el.insertAdjacentElement) continue;
+    const id = "refused-" + name;
+    if (!document.getElementById(id)) {
+      el.insertAdjacentElement("afterend", window.airledger.el("span", { class: "field-error", id: id, role: "alert" }, e.message));
+    }
+    el.setAttribute("aria-invalid", "true");
+    el.setAttribute("aria-describedby", id);
+    first = first || el;
+  }
+  (first || form).scrollIntoView({ block: "center" });
+  if (first) first.focus({ preventScroll: true });
 })();
 document.addEventListener("click", (ev) => {
   const t = ev.target;

@@ -12,14 +12,7 @@
   const charts = {};
   // Site time, 24-hour, day before month as the rest of the pages write it ("Tue 10 Mar 06:00");
   // with the year when the axis crosses one ("17 Dec 2006"), without the hour when it spans weeks.
-  const yearOf = (ms) => Number(new Date(ms).toLocaleString("en-GB", { timeZone: d.timezone, year: "numeric" }));
-  const fmtTime = (ms, range) => {
-    const o = { timeZone: d.timezone, day: "numeric", month: "short" };
-    const span = range ? range.max - range.min : 0;
-    if (range && yearOf(range.min) !== yearOf(range.max)) o.year = "numeric";
-    if (span < 14 * 86400000) Object.assign(o, { weekday: "short", hour: "2-digit", minute: "2-digit", hourCycle: "h23" });
-    return new Date(ms).toLocaleString("en-GB", o).replace(",", "");
-  };
+  const fmtTime = (ms, range) => A.tick(ms, d.timezone, range);
 
   function make(id, config) {
     const el = document.getElementById(id);

@@ -36,7 +36,8 @@
     editForm.scrollIntoView({ block: "center" });
   }
 
-  async function post(body, id) {
+  // `form`: the form posted, whose fields keep what was typed and get the refusal beside its field.
+  async function post(body, id, form) {
     try {
       const r = await A.json(base + "/field-tests" + (id ? "/" + id : ""), {
         method: id ? "PUT" : "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body),
@@ -45,12 +46,13 @@
       window.location.assign("/audits/" + data.audit_id + "/tests");
     } catch (e) {
       status.textContent = "Not recorded: " + e.message;
-      status.scrollIntoView({ block: "center" });
+      if (form && A.besideField(form, e.field, e.said || e.message)) form.scrollIntoView({ block: "center" });
+      else status.scrollIntoView({ block: "center" });
     }
   }
 
   for (const form of document.querySelectorAll("form[data-test-kind]")) {
-    form.addEventListener("submit", (e) => { e.preventDefault(); post(formBody(form), form.getAttribute("data-test-id")); });
+    form.addEventListener("submit", (e) => { e.preventDefault(); post(formBody(form), form.getAttribute("data-test-id"), form); });
   }
 
   const orifice = document.getElementById("orifice-form");

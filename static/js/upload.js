@@ -294,6 +294,7 @@
     const fd = new FormData();
     fd.append("mapping", JSON.stringify(mapping));
     fd.append("file", file, file.name);
+    const sentName = file.name;
     const q = "?token=" + token + ($("m-replace").checked ? "&replace=true" : "");
     const xhr = new XMLHttpRequest();
     $("step-import").classList.remove("hidden");
@@ -310,7 +311,7 @@
           if (p.state === "waiting") $("import-status").textContent = "Waiting for another import to finish\u2026";
           if (p.state === "importing" && p.bytes_total) {
             $("import-progress").value = (p.bytes_done / p.bytes_total) * 100;
-            $("import-status").textContent = "Importing\u2026 " + p.readings.toLocaleString() + " readings so far";
+            $("import-status").textContent = "Importing\u2026 " + A.count(p.readings) + " readings so far";
           }
         } catch (_) { /* the import may just have finished */ }
       }, 400);
@@ -325,7 +326,7 @@
         $("import-status").textContent = xhr.status === 200
           ? "This file was imported before with this same mapping: nothing was added. Change the mapping to read it another way."
           : body.replaced_upload_id ? "Imported with this mapping, in place of the earlier import of the same file." : "Imported.";
-        showResult(body);
+        showResult(body, sentName);
         refreshFiles();
       } else {
         const er = body.error || { message: "HTTP " + xhr.status };
@@ -349,15 +350,16 @@
     } catch (_) { /* the list stays as it was; a reload shows it */ }
   }
 
-  function showResult(r) {
+  // The import's result, the file named as it was chosen (never the upload's internal number).
+  function showResult(r, name) {
     $("step-result").classList.remove("hidden");
     const box = $("result");
     box.replaceChildren();
     const dl = A.el("dl", { class: "facts" });
     const add = (k, v) => { dl.append(A.el("dt", {}, k), A.el("dd", {}, v)); };
-    add("Upload", String(r.upload_id));
-    add("Rows", (r.rows || 0).toLocaleString());
-    add("Readings", (r.readings || 0).toLocaleString());
+    add("File", name);
+    add("Rows", A.count(r.rows || 0));
+    add("Readings", A.count(r.readings || 0));
     const at = (t) => { const ms = Date.parse(t); return isNaN(ms) ? t : A.localTime(ms, tz); };
     if (r.first) add("From", at(r.first));
     if (r.last) add("To", at(r.last));
@@ -366,7 +368,7 @@
     if (r.channels && r.channels.length) {
       const t = A.el("table", { class: "data" }, A.el("thead", {}, A.el("tr", {}, A.el("th", {}, "Channel"), A.el("th", {}, "Quantity"), A.el("th", {}, "Readings"), A.el("th", {}, "From (site time, " + tz + ")"), A.el("th", {}, "To"))));
       const tb = A.el("tbody");
-      for (const c of r.channels) tb.append(A.el("tr", {}, A.el("td", {}, c.compressor ? c.compressor + " (" + c.label + ")" : c.label), A.el("td", {}, c.quantity), A.el("td", { class: "num" }, c.readings.toLocaleString()), A.el("td", {}, at(c.first)), A.el("td", {}, at(c.last))));
+      for (const c of r.channels) tb.append(A.el("tr", {}, A.el("td", {}, c.compressor ? c.compressor + " (" + c.label + ")" : c.label), A.el("td", {}, c.quantity), A.el("td", { class: "num" }, A.count(c.readings)), A.el("td", {}, at(c.first)), A.el("td", {}, at(c.last))));
       t.append(tb);
       box.append(t);
     }

@@ -817,6 +817,8 @@ mod findings;
 
 #[path = "browser_forms.rs"]
 mod forms;
+#[path = "browser_pages.rs"]
+mod pages;
 #[path = "browser_treatment.rs"]
 mod treatment;
 #[path = "browser_upload.rs"]

@@ -442,15 +442,16 @@ fn a_delete_on_the_pages_asks_first_and_deletes_only_from_its_own_form() {
         );
         assert!(page.text.contains("No, keep it"));
     }
-    // The compressor's page says its logged readings go with it.
-    assert!(s
-        .get(&format!("/audits/{id}/compressors/{cid}/delete"))
-        .text
-        .contains("720 logged power readings"));
-    // Confirmed: gone, and back to the audit.
+    // The compressor's page says its logged readings go with it, counted per quantity: two hours
+    // at 10 s are 720 power readings.
+    assert!(s.get(&format!("/audits/{id}/compressors/{cid}/delete")).text.contains("(720 power readings)"));
+    // Confirmed: gone, and back to the audit, which says what was done.
     let r = s.post_form(&format!("/audits/{id}/uploads/{uid}/delete"), &[("confirm", "yes")]);
     assert_eq!(r.status, 303);
-    assert_eq!(r.header("location"), Some(format!("/audits/{id}").as_str()));
+    let back = r.header("location").unwrap_or_default().to_string();
+    assert_eq!(back, format!("/audits/{id}?done=upload-deleted&what=day1.csv"));
+    let page = s.get(&back).text;
+    assert!(page.contains("The file \u{201c}day1.csv\u{201d} was deleted with its readings"), "{page}");
     assert!(uploads(&s, id).is_empty());
     assert_eq!(s.get(&format!("/audits/{id}/uploads/{uid}/delete")).status, 404);
 }

@@ -1,14 +1,17 @@
 //! The audit page: its site, compressors, receivers and files, with the forms that edit them.
 
+use std::cell::RefCell;
 use std::collections::HashMap;
 
 use askama::Template;
-use axum::extract::{Path, State};
+use axum::extract::{Path, Query, State};
 use axum::http::StatusCode;
 use axum::response::{IntoResponse, Redirect};
 use axum::Form;
 
+use super::flash::{Done, DoneQuery};
 use super::inputs::Inputs;
+use super::refusal::Refusal;
 use super::words::local_time;
 use super::{render, PageError, PageResult};
 use crate::app::{App, AuditBundle};
@@ -134,10 +137,13 @@ struct AuditPage {
     heating_months: String,
     kinds: Vec<(&'static str, String)>,
     controls: Vec<(&'static str, String)>,
-    error: Option<String>,
+    /// A refused form: every refusal, and what was typed (`refusal`).
+    refused: Option<Refusal>,
+    /// What was just done (`flash`).
+    done: Option<String>,
 }
 
-fn audit_page(b: AuditBundle, error: Option<String>) -> AuditPage {
+fn audit_page(b: AuditBundle, refused: Option<Refusal>) -> AuditPage {
     let fmt = b.fmt();
     let atm = b.audit.site.atmospheric_pressure_kpa_abs();
     let system_volume_m3 = b.storage().system_volume_m3();
@@ -172,25 +178,40 @@ fn audit_page(b: AuditBundle, error: Option<String>) -> AuditPage {
         compressors: b.compressors,
         receivers: b.receivers,
         uploads: super::words::uploads_in_local_time(b.uploads, &tz_owned),
-        error,
+        refused,
+        done: None,
     }
 }
 
-pub async fn audit(State(st): State<AppState>, Path(id): Path<i64>) -> PageResult {
+pub async fn audit(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Query(q): Query<DoneQuery>,
+) -> PageResult {
     let b = st.app.bundle(id).await?;
-    Ok(render(&audit_page(b, None)))
+    Ok(render(&AuditPage { done: Done::message(&q), ..audit_page(b, None) }))
 }
 
-/// Re-show the audit page with the error that stopped a form (422).
-pub(super) async fn audit_with_error(app: &App, id: i64, e: AppError) -> PageResult {
-    match e {
-        AppError::Unprocessable { message, .. } | AppError::Conflict(message) => {
-            let b = app.bundle(id).await?;
-            let mut res = render(&audit_page(b, Some(message)));
-            *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
-            Ok(res)
-        }
-        other => Err(PageError(other)),
+/// Re-show the audit page with a refused form: every refusal and what was typed (422).
+pub(super) async fn audit_refused(app: &App, id: i64, refusal: Refusal) -> PageResult {
+    let b = app.bundle(id).await?;
+    let mut res = render(&audit_page(b, Some(refusal)));
+    *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
+    Ok(res)
+}
+
+/// Re-show the audit page with the error that stopped a form posted to `action` (422); other
+/// errors as error pages.
+pub(super) async fn audit_with_error(
+    app: &App,
+    id: i64,
+    action: &str,
+    form: &HashMap<String, String>,
+    e: AppError,
+) -> PageResult {
+    match Refusal::of_error(action, form, &e) {
+        Some(r) => audit_refused(app, id, r).await,
+        None => Err(PageError(e)),
     }
 }
 
@@ -199,8 +220,23 @@ pub async fn save_site(
     Path(id): Path<i64>,
     Form(form): Form<HashMap<String, String>>,
 ) -> PageResult {
+    let action = format!("/audits/{id}/site");
+    let stored = st.app.bundle(id).await?.audit.site;
+    // Every field's refusal at once: the fields that cannot be read, else each field's check.
+    let refusals = match site_patch(&form, Some(&stored)) {
+        Err(e) => vec![e],
+        Ok(patch) => {
+            let mut all = stored.refusals(&patch);
+            if opt_text(&form, "name").is_none() && form.contains_key("name") {
+                all.insert(0, FieldError::new("name", "the audit needs a name"));
+            }
+            all
+        }
+    };
+    if !refusals.is_empty() {
+        return audit_refused(&st.app, id, Refusal::new(action, &form, refusals)).await;
+    }
     let result = async {
-        let stored = st.app.bundle(id).await?.audit.site;
         let patch = site_patch(&form, Some(&stored))?;
         let name = opt_text(&form, "name");
         st.app
@@ -220,68 +256,106 @@ pub async fn save_site(
             st.app.refresh_summary_in_background(id, "site edit");
             Ok(Redirect::to(&format!("/audits/{id}")).into_response())
         }
-        Err(e) => audit_with_error(&st.app, id, e).await,
+        Err(e) => audit_with_error(&st.app, id, &action, &form, e).await,
     }
 }
 
 /// A compressor as its form posts it (the add form and the edit page share the fields): flows,
 /// pressures and specific power in the units the form was drawn in; `previous` is the stored
-/// compressor, whose values come back exactly when their fields are posted as shown.
+/// compressor, whose values come back exactly when their fields are posted as shown. Every field
+/// that cannot be read is refused at once.
 pub(super) fn compressor_input(
     form: &HashMap<String, String>,
     previous: Option<&CompressorSpec>,
-) -> Result<CompressorInput, FieldError> {
+) -> Result<CompressorInput, Vec<FieldError>> {
     let inputs = Inputs::of_form(form);
-    let need_kw = |k: &str| -> Result<f64, FieldError> {
-        opt_num(form, k)?.ok_or_else(|| FieldError::new(k, format!("{} is required", words(k))))
+    let errs = RefCell::new(Vec::new());
+    let keep = |r: Result<Option<f64>, FieldError>| {
+        r.unwrap_or_else(|e| {
+            errs.borrow_mut().push(e);
+            None
+        })
     };
-    let need = |k: &str, kind: Entry, prev: Option<f64>| -> Result<f64, FieldError> {
-        inputs
-            .opt(form, k, kind, prev)?
-            .ok_or_else(|| FieldError::new(k, format!("{} is required", words(k))))
-    };
-    Ok(CompressorInput {
+    let need_kw =
+        |k: &str| {
+            keep(opt_num(form, k).and_then(|v| {
+                v.ok_or_else(|| FieldError::new(k, format!("{} is required", words(k)))).map(Some)
+            }))
+            .unwrap_or(f64::NAN)
+        };
+    let need =
+        |k: &str, kind: Entry, prev: Option<f64>| {
+            keep(inputs.opt(form, k, kind, prev).and_then(|v| {
+                v.ok_or_else(|| FieldError::new(k, format!("{} is required", words(k)))).map(Some)
+            }))
+            .unwrap_or(f64::NAN)
+        };
+    let input = CompressorInput {
         tag: form.get("tag").cloned().unwrap_or_default(),
         kind: form.get("kind").cloned().unwrap_or_default(),
         control: form.get("control").cloned().unwrap_or_default(),
         cooling: form.get("cooling").cloned().unwrap_or_default(),
-        rated_power_kw: need_kw("rated_power_kw")?,
+        rated_power_kw: need_kw("rated_power_kw"),
         rated_flow_m3_min: need(
             "rated_flow_m3_min",
             Entry::FreeAirFlow,
             previous.map(|c| c.rated_flow_m3_min),
-        )?,
+        ),
         rated_pressure_bar_g: need(
             "rated_pressure_bar_g",
             Entry::GaugePressure,
             previous.map(|c| c.rated_pressure_bar_g),
-        )?,
-        no_load_power_kw: opt_num(form, "no_load_power_kw")?,
-        nameplate_motor_kw: opt_num(form, "nameplate_motor_kw")?,
-        max_pressure_bar_g: inputs.opt(
+        ),
+        no_load_power_kw: keep(opt_num(form, "no_load_power_kw")),
+        nameplate_motor_kw: keep(opt_num(form, "nameplate_motor_kw")),
+        max_pressure_bar_g: keep(inputs.opt(
             form,
             "max_pressure_bar_g",
             Entry::GaugePressure,
             previous.and_then(|c| c.max_pressure_bar_g),
-        )?,
-        unloaded_power_fraction: opt_num(form, "unloaded_power_fraction")?,
-        stages: opt_num(form, "stages")?.map(|s| s as u32),
-        rated_specific_power_kw_per_m3_min: inputs.opt(
+        )),
+        unloaded_power_fraction: keep(opt_num(form, "unloaded_power_fraction")),
+        stages: keep(opt_num(form, "stages")).map(|s| s as u32),
+        rated_specific_power_kw_per_m3_min: keep(inputs.opt(
             form,
             "rated_specific_power_kw_per_m3_min",
             Entry::SpecificPower,
             previous.and_then(|c| c.rated_specific_power_kw_per_m3_min),
-        )?,
-        power_curve: inputs.read_curve(
-            form.get("power_curve").map(|s| s.as_str()).unwrap_or(""),
-            previous.map(|c| c.power_curve.as_slice()),
-        )?,
+        )),
+        power_curve: inputs
+            .read_curve(
+                form.get("power_curve").map(|s| s.as_str()).unwrap_or(""),
+                previous.map(|c| c.power_curve.as_slice()),
+            )
+            .unwrap_or_else(|e| {
+                errs.borrow_mut().push(e);
+                Vec::new()
+            }),
         min_speed_fraction: None,
-        unloaded_level_kw: opt_num(form, "unloaded_level_kw")?,
-        loaded_level_kw: opt_num(form, "loaded_level_kw")?,
-        year: opt_num(form, "year")?.map(|y| y as i32),
+        unloaded_level_kw: keep(opt_num(form, "unloaded_level_kw")),
+        loaded_level_kw: keep(opt_num(form, "loaded_level_kw")),
+        year: keep(opt_num(form, "year")).map(|y| y as i32),
         notes: form.get("notes").cloned().unwrap_or_default(),
-    })
+    };
+    let errs = errs.into_inner();
+    if errs.is_empty() {
+        Ok(input)
+    } else {
+        Err(errs)
+    }
+}
+
+/// Every refusal of a posted compressor at once: the fields that cannot be read, else every
+/// data-sheet check (`DataSheetInput::validate_all_in`), quoted in the units the form was typed in.
+pub(super) fn compressor_refusals(
+    form: &HashMap<String, String>,
+    previous: Option<&CompressorSpec>,
+) -> Result<CompressorInput, Vec<FieldError>> {
+    let input = compressor_input(form, previous)?;
+    match input.validate_all_in(Inputs::of_form(form).units) {
+        Ok(_) => Ok(input),
+        Err(all) => Err(all.into_iter().map(FieldError::from).collect()),
+    }
 }
 
 /// A required field's name in words.
@@ -292,6 +366,20 @@ fn words(key: &str) -> &'static str {
         "rated_pressure_bar_g" => "The rated pressure",
         "volume_m3" => "The volume",
         _ => "This field",
+    }
+}
+
+/// Every refusal of a posted receiver at once (name and volume), in the units it was typed in.
+pub(super) fn receiver_refusals(
+    form: &HashMap<String, String>,
+    previous: Option<&ReceiverRecord>,
+) -> Result<ReceiverInput, Vec<FieldError>> {
+    let input = receiver_input(form, previous).map_err(|e| vec![e])?;
+    let all = input.refusals_in(Inputs::of_form(form).units);
+    if all.is_empty() {
+        Ok(input)
+    } else {
+        Err(all)
     }
 }
 
@@ -315,17 +403,17 @@ pub async fn add_compressor(
     Path(id): Path<i64>,
     Form(form): Form<HashMap<String, String>>,
 ) -> PageResult {
-    let result = async {
-        let input = compressor_input(&form, None)?;
-        st.app.save_compressor(id, 0, &input).await.map_err(AppError::from)
-    }
-    .await;
-    match result {
+    let action = format!("/audits/{id}/compressors");
+    let input = match compressor_refusals(&form, None) {
+        Ok(i) => i,
+        Err(all) => return audit_refused(&st.app, id, Refusal::new(action, &form, all)).await,
+    };
+    match st.app.save_compressor(id, 0, &input).await.map_err(AppError::from) {
         Ok(_) => {
             st.app.refresh_summary_in_background(id, "compressor added");
             Ok(Redirect::to(&format!("/audits/{id}")).into_response())
         }
-        Err(e) => audit_with_error(&st.app, id, e).await,
+        Err(e) => audit_with_error(&st.app, id, &action, &form, e).await,
     }
 }
 
@@ -334,13 +422,13 @@ pub async fn add_receiver(
     Path(id): Path<i64>,
     Form(form): Form<HashMap<String, String>>,
 ) -> PageResult {
-    let result = async {
-        let input = receiver_input(&form, None)?;
-        st.app.add_receiver(id, &input).await.map_err(AppError::from)
-    }
-    .await;
-    match result {
+    let action = format!("/audits/{id}/receivers");
+    let input = match receiver_refusals(&form, None) {
+        Ok(i) => i,
+        Err(all) => return audit_refused(&st.app, id, Refusal::new(action, &form, all)).await,
+    };
+    match st.app.add_receiver(id, &input).await.map_err(AppError::from) {
         Ok(_) => Ok(Redirect::to(&format!("/audits/{id}")).into_response()),
-        Err(e) => audit_with_error(&st.app, id, e).await,
+        Err(e) => audit_with_error(&st.app, id, &action, &form, e).await,
     }
 }

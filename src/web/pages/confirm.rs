@@ -10,6 +10,7 @@ use axum::extract::{Path, Query, State};
 use axum::response::{IntoResponse, Redirect};
 use axum::Form;
 
+use super::flash::Done;
 use super::{render, PageError, PageResult};
 use crate::app::AuditBundle;
 use crate::store::audits::Audit;
@@ -49,6 +50,16 @@ impl Kind {
             Self::Scenario => "scenarios",
         }
     }
+    /// The message's code once it is deleted (`flash::Done`).
+    fn done(self) -> &'static str {
+        match self {
+            Self::Compressor => "compressor-deleted",
+            Self::Receiver => "receiver-deleted",
+            Self::Upload => "upload-deleted",
+            Self::FieldTest => "test-deleted",
+            Self::Scenario => "scenario-deleted",
+        }
+    }
     /// The page the record is listed on (a file is listed on the upload page too: `from`).
     fn back(self, id: i64, from: Option<&str>) -> String {
         match self {
@@ -77,8 +88,12 @@ async fn describe(
         Kind::Compressor => {
             let c =
                 b.compressors.iter().find(|c| c.id == item).ok_or_else(|| gone("compressor", id, item))?;
-            let readings: i64 =
-                b.channels.iter().filter(|ch| ch.compressor_id == Some(item)).map(|ch| ch.readings).sum();
+            let readings = readings_in_words(
+                b.channels
+                    .iter()
+                    .filter(|ch| ch.compressor_id == Some(item))
+                    .map(|ch| (ch.quantity.as_str(), ch.readings)),
+            );
             let mut lines = vec![format!(
                 "{} ({}, {}, {}) is removed from the audit.",
                 c.spec.tag,
@@ -86,9 +101,9 @@ async fn describe(
                 fmt.power_kw(c.spec.rated_power_kw),
                 fmt.flow_m3_min(c.spec.rated_flow_m3_min)
             )];
-            if readings > 0 {
+            if let Some(readings) = readings {
                 lines.push(format!(
-                    "Its {readings} logged power readings are deleted with it, and the figures are worked \
+                    "Its logged readings ({readings}) are deleted with it, and the figures are worked \
                      out again without them. To correct its data-sheet values instead, edit it."
                 ));
             }
@@ -107,12 +122,15 @@ async fn describe(
         }
         Kind::Upload => {
             let u = b.uploads.iter().find(|u| u.id == item).ok_or_else(|| gone("upload", id, item))?;
+            let stats = st.app.upload_channel_stats(b, item).await?.unwrap_or_default();
+            let per_quantity = readings_in_words(stats.iter().map(|c| (c.quantity.as_str(), c.readings)))
+                .map_or(String::new(), |w| format!(" ({w})"));
             let lines = vec![
                 format!(
-                    "{}: {} rows, {} readings, from {} to {}.",
+                    "{}: {} rows, {} readings{per_quantity}, from {} to {}.",
                     u.filename,
-                    u.rows,
-                    u.readings,
+                    fmt.count(u.rows),
+                    fmt.count(u.readings),
                     u.first
                         .as_deref()
                         .map_or_else(|| "–".into(), |t| super::words::local_time(t, &b.audit.site.timezone)),
@@ -133,13 +151,12 @@ async fn describe(
             let t =
                 b.field_tests.iter().find(|t| t.id == item).ok_or_else(|| gone("field test", id, item))?;
             let q = crate::app::fieldtests::result_of(t).map_or(f64::NAN, |r| r.leak_flow_m3_min());
+            let name = super::words::test_name(t, &b.audit.site.timezone);
             let lines = vec![format!(
-                "Test {} ({}), leak flow {}; the leak estimate of the report no longer counts it.",
-                t.id,
-                t.kind.replace('_', " "),
+                "The {name}, leak flow {}; the leak estimate of the report no longer counts it.",
                 fmt.flow_m3_min(q)
             )];
-            (format!("Delete field test {}?", t.id), lines, "Delete the test".into())
+            (format!("Delete the {name}?"), lines, "Delete the test".into())
         }
         Kind::Scenario => {
             let s = st.app.scenario(id, item).await?;
@@ -178,6 +195,20 @@ async fn delete(st: &AppState, kind: Kind, id: i64, item: i64, form: &HashMap<St
         return Ok(Redirect::to(&again).into_response());
     }
     let app = &st.app;
+    // What was deleted, named for the message on the page it goes back to.
+    let b = app.bundle(id).await?;
+    let what = match kind {
+        Kind::Compressor => b.compressors.iter().find(|c| c.id == item).map(|c| c.spec.tag.clone()),
+        Kind::Receiver => b.receivers.iter().find(|r| r.id == item).map(|r| r.name.clone()),
+        Kind::Upload => b.uploads.iter().find(|u| u.id == item).map(|u| u.filename.clone()),
+        Kind::FieldTest => b
+            .field_tests
+            .iter()
+            .find(|t| t.id == item)
+            .map(|t| super::words::test_name(t, &b.audit.site.timezone)),
+        Kind::Scenario => app.scenario(id, item).await.ok().map(|s| s.name),
+    }
+    .unwrap_or_default();
     let found = match kind {
         Kind::Compressor => {
             let found = app.delete_compressor(id, item).await?;
@@ -192,7 +223,8 @@ async fn delete(st: &AppState, kind: Kind, id: i64, item: i64, form: &HashMap<St
     if !found {
         return Err(gone(kind.segment().trim_end_matches('s'), id, item));
     }
-    Ok(Redirect::to(&kind.back(id, from)).into_response())
+    let done = Done { kind: kind.done(), what };
+    Ok(Redirect::to(&format!("{}?{}", kind.back(id, from), done.query())).into_response())
 }
 
 macro_rules! confirm_routes {
@@ -220,4 +252,48 @@ confirm_routes! {
     ask_upload, delete_upload, Kind::Upload;
     ask_field_test, delete_field_test, Kind::FieldTest;
     ask_scenario, delete_scenario, Kind::Scenario;
+}
+
+/// Readings counted per quantity in words ("5,237 energy-counter readings and 120 power
+/// readings"), the quantities in a fixed order; `None` when there is none.
+pub(super) fn readings_in_words<'a>(counts: impl IntoIterator<Item = (&'a str, i64)>) -> Option<String> {
+    let order = ["power", "energy", "flow", "pressure", "temperature"];
+    let mut per: Vec<(usize, &str, i64)> = Vec::new();
+    for (q, n) in counts {
+        let rank = order.iter().position(|o| *o == q).unwrap_or(order.len());
+        match per.iter_mut().find(|(_, k, _)| *k == q) {
+            Some(p) => p.2 += n,
+            None => per.push((rank, q, n)),
+        }
+    }
+    per.retain(|p| p.2 > 0);
+    per.sort_by_key(|p| (p.0, p.1));
+    let parts: Vec<String> = per
+        .iter()
+        .map(|(_, q, n)| {
+            let words = match *q {
+                "energy" => "energy-counter".to_string(),
+                other => other.replace('_', " "),
+            };
+            let noun = if *n == 1 { "reading" } else { "readings" };
+            format!("{} {words} {noun}", crate::core::display::num(*n as f64, 0))
+        })
+        .collect();
+    match parts.len() {
+        0 => None,
+        1 => Some(parts[0].clone()),
+        n => Some(format!("{} and {}", parts[..n - 1].join(", "), parts[n - 1])),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    #[test]
+    fn readings_are_counted_per_quantity_in_words() {
+        // A compressor logged by an energy counter and by a power meter: each said as what it is.
+        let w = super::readings_in_words([("energy", 5237), ("power", 120), ("energy", 3)]);
+        assert_eq!(w.as_deref(), Some("120 power readings and 5,240 energy-counter readings"));
+        assert_eq!(super::readings_in_words([("pressure", 1)]).as_deref(), Some("1 pressure reading"));
+        assert_eq!(super::readings_in_words([("power", 0)]), None);
+    }
 }

@@ -12,6 +12,7 @@ use axum::http::StatusCode;
 use axum::response::{IntoResponse, Redirect};
 use axum::Form;
 
+use super::flash::Done;
 use super::inputs::Inputs;
 use super::{render, PageResult};
 use crate::app::AuditBundle;
@@ -134,7 +135,8 @@ fn extra_columns(sniffed: Option<&crate::ingest::Sniffed>, m: &Mapping) -> Vec<E
             let guess = sn.columns.iter().find(|g| &g.column == h);
             ExtraColumn {
                 column: h.clone(),
-                quantity: guess.and_then(|g| g.quantity.clone()).unwrap_or_else(|| "pressure".into()),
+                // No guess: "not read" and no unit, never a quantity with another's unit.
+                quantity: guess.and_then(|g| g.quantity.clone()).unwrap_or_default(),
                 unit: guess.and_then(|g| g.unit.clone()).unwrap_or_default(),
             }
         })
@@ -240,7 +242,8 @@ fn changed(mut m: Mapping, form: &HashMap<String, String>) -> Mapping {
     let mut added = vec![];
     for j in 0.. {
         let Some(column) = form.get(&format!("extra{j}_column")) else { break };
-        if extra(j, "use").is_none() {
+        // Read only when ticked with a quantity chosen ("not read" leaves it out).
+        if extra(j, "use").is_none() || extra(j, "quantity").unwrap_or_default().is_empty() {
             continue;
         }
         let compressor = extra(j, "compressor").filter(|t| !t.is_empty());
@@ -336,7 +339,11 @@ pub async fn save_remap(
         AppError::field("columns", "leave at least one column in: a file of no columns holds no readings")
     } else {
         match st.app.remap_upload(id, uid, m.clone(), false, None).await {
-            Ok(_) => return Ok(Redirect::to(&super::files_page(id, from)).into_response()),
+            Ok(_) => {
+                let done = Done { kind: "upload-remapped", what: filename };
+                return Ok(Redirect::to(&format!("{}?{}", super::files_page(id, from), done.query()))
+                    .into_response());
+            }
             Err(e) => AppError::from(e),
         }
     };

@@ -16,7 +16,7 @@ use super::inputs::Inputs;
 use super::view::nan;
 use super::{render, PageError, PageResult};
 use crate::app::scenarios::ScenarioOutcome;
-use crate::core::display::Fmt;
+use crate::core::display::{EnergyUnit, Fmt};
 use crate::core::recommend::MAX_SCENARIO_VALIDATION_ERROR;
 use crate::store::audits::Audit;
 use crate::web::error::AppError;
@@ -78,6 +78,10 @@ pub struct ScenarioRow {
     pub validation: String,
     pub problems: Vec<String>,
     pub cost: String,
+    /// Where the cost is from: "quoted" or "default estimate".
+    pub cost_source: &'static str,
+    /// The cost saving is words ("none: ..."), not a figure.
+    pub cost_saving_is_text: bool,
     /// Whether it is offered as the `improve_control` measure, and if not, why not.
     pub offer: String,
     pub offered: bool,
@@ -97,12 +101,17 @@ struct ScenariosPage {
     /// The target pressure's floor in the reader's units: the plant's low limit, else 0 gauge
     /// (`Scenario::check_plant_in`).
     target_min: String,
+    /// The one unit of the energy columns.
+    energy_unit: &'static str,
+    /// What was just done (`flash`).
+    done: Option<String>,
 }
 
 pub async fn scenarios(
     State(st): State<AppState>,
     Path(id): Path<i64>,
     Query(q): Query<ScenariosQuery>,
+    Query(d): Query<super::flash::DoneQuery>,
 ) -> Result<Response, PageError> {
     let b = st.app.bundle(id).await?;
     let fmt = b.fmt();
@@ -116,6 +125,8 @@ pub async fn scenarios(
     let offered_id = sm.and_then(|s| s.recommendations.iter().find_map(|r| r.scenario_id));
     let rev = b.audit.revision;
     let outcomes: Vec<ScenarioOutcome> = list.iter().map(ScenarioOutcome::of).collect();
+    // One unit for both energy columns, whatever the rows' sizes.
+    let energy_unit = EnergyUnit::for_column(outcomes.iter().map(|r| nan(r.energy_kwh)));
     let rows = list
         .iter()
         .zip(&outcomes)
@@ -148,8 +159,9 @@ pub async fn scenarios(
                 id: sc.id,
                 name: sc.name.clone(),
                 changes: changes_in_words(&sc.changes, &fmt),
-                energy: fmt.energy_kwh(nan(r.energy_kwh)),
-                saving: fmt.energy_kwh(saving),
+                energy: energy_unit.number(nan(r.energy_kwh)),
+                saving: energy_unit.number(saving),
+                cost_saving_is_text: r.feasible == Some(false),
                 // A plant that does not hold its pressure delivers less air than the log asked of
                 // it: its lower energy is no saving, and it is not priced as one.
                 cost_saving: if r.feasible == Some(false) {
@@ -168,15 +180,12 @@ pub async fn scenarios(
                 } else {
                     r.problems.clone()
                 },
-                cost: format!(
-                    "{} ({})",
-                    fmt.money(nan(r.implementation_cost), &cur),
-                    if r.implementation_cost_source.as_deref() == Some("given") {
-                        "quoted"
-                    } else {
-                        "default estimate"
-                    }
-                ),
+                cost: fmt.money(nan(r.implementation_cost), &cur),
+                cost_source: if r.implementation_cost_source.as_deref() == Some("given") {
+                    "quoted"
+                } else {
+                    "default estimate"
+                },
                 offered: offered_id == Some(sc.id),
                 proposal: sc.proposal,
                 offer,
@@ -205,6 +214,8 @@ pub async fn scenarios(
         editing,
         target_min: Inputs::new(fmt.units)
             .p(crate::core::model::low_limit_bar_g(&b.specs()).unwrap_or(0.0).max(0.0)),
+        energy_unit: energy_unit.label(),
+        done: super::flash::Done::message(&d),
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         rows,
         audit: b.audit,

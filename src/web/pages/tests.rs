@@ -25,6 +25,8 @@ struct TestsPage {
     page_data: Value,
     /// The test whose form is filled to be edited (`?edit=ID`).
     editing: Option<i64>,
+    /// What was just done (`flash`).
+    done: Option<String>,
     /// An example time for the window fields: 02:00 on the log's first day (else today) on the
     /// site's clock, in RFC 3339 with the site's offset then.
     example_time: String,
@@ -59,6 +61,7 @@ pub async fn tests(
     State(st): State<AppState>,
     Path(id): Path<i64>,
     Query(q): Query<TestsQuery>,
+    Query(d): Query<super::flash::DoneQuery>,
 ) -> Result<Response, PageError> {
     let b = st.app.bundle(id).await?;
     let edit = q.edit.and_then(|e| b.field_tests.iter().find(|t| t.id == e));
@@ -79,6 +82,7 @@ pub async fn tests(
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         page_data: serde_json::json!({"audit_id": id, "atmosphere_pa": b.audit.site.atmospheric_pressure_kpa_abs() * 1000.0, "edit": edit, "entry": Inputs::new(fmt.units).page_data(), "timezone": b.audit.site.timezone}),
         editing,
+        done: super::flash::Done::message(&d),
         inp: Inputs::new(fmt.units),
         tests,
         fmt,

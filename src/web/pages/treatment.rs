@@ -13,12 +13,14 @@ use axum::Form;
 use serde_json::Value;
 
 use super::inputs::Inputs;
+use super::refusal::Refusal;
 use super::{render, PageError, PageResult};
 use crate::app::treatment::{DrainInput, DryerInput, EndUseInput, FilterInput, ItemKind, TreatmentInput};
 use crate::core::display::Fmt;
 use crate::core::entry::{self, Entry};
 use crate::core::treatment::{DrainKind, DryerControl, DryerKind, EndUseKind, FilterKind};
 use crate::core::units::UnitSystem;
+use crate::site::FieldError;
 use crate::store::audits::Audit;
 use crate::web::error::AppError;
 use crate::web::AppState;
@@ -161,7 +163,8 @@ struct TreatmentPage {
     audit: Audit,
     inp: Inputs,
     rows: Vec<Row>,
-    error: Option<String>,
+    /// A refused form: its refusal and what was typed (`refusal`).
+    refused: Option<Refusal>,
     dryer_kinds: Vec<(&'static str, String)>,
     drain_kinds: Vec<(&'static str, String)>,
     use_kinds: Vec<(&'static str, String)>,
@@ -245,7 +248,7 @@ fn describe(kind: ItemKind, v: &Value, fmt: &Fmt) -> (String, String) {
     }
 }
 
-async fn page(st: &AppState, id: i64, error: Option<String>) -> Result<TreatmentPage, PageError> {
+async fn page(st: &AppState, id: i64, refused: Option<Refusal>) -> Result<TreatmentPage, PageError> {
     let b = st.app.bundle(id).await?;
     let fmt = b.fmt();
     let mut rows = vec![];
@@ -266,7 +269,7 @@ async fn page(st: &AppState, id: i64, error: Option<String>) -> Result<Treatment
         inp: Inputs::new(fmt.units),
         audit: b.audit,
         rows,
-        error,
+        refused,
         dryer_kinds: opts(&DryerKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>()),
         drain_kinds: opts(&DrainKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>()),
         use_kinds: opts(&EndUseKind::ALL.iter().map(|k| k.as_str()).collect::<Vec<_>>()),
@@ -389,14 +392,59 @@ fn in_reader_units(message: &str, field: &str, units: UnitSystem) -> String {
     out
 }
 
-async fn refused(st: &AppState, id: i64, e: AppError, units: UnitSystem) -> PageResult {
+/// The form field a record's field is typed in (a share is typed as a percentage).
+fn form_field(field: &str) -> &str {
+    match field {
+        "purge_fraction" => "purge_percent",
+        "duty" => "duty_percent",
+        other => other,
+    }
+}
+
+/// Every refusal of a record read from its form, each in words and the units typed, beside the
+/// form field it is typed in; `None` when the record passes its checks.
+fn every_refusal(record: &TreatmentInput, action: &str, form: &HashMap<String, String>) -> Option<Refusal> {
+    let units = Inputs::of_form(form).units;
+    let all: Vec<FieldError> = record
+        .refusals()
+        .into_iter()
+        .map(|e| {
+            let message =
+                format!("{}: {}", field_words(e.field), in_reader_units(&e.message, e.field, units));
+            FieldError::new(form_field(e.field), message)
+        })
+        .collect();
+    (!all.is_empty()).then(|| Refusal::new(action, form, all))
+}
+
+/// The page again with a refused form (every refusal, what was typed), 422.
+async fn show_refused(st: &AppState, id: i64, r: Refusal) -> PageResult {
+    let mut res = render(&page(st, id, Some(r)).await?);
+    *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
+    Ok(res)
+}
+
+/// The page again with the refusal beside its field and what was typed in the form posted to
+/// `action` (`refusal`), 422; other errors as pages.
+async fn refused(
+    st: &AppState,
+    id: i64,
+    action: &str,
+    form: &HashMap<String, String>,
+    e: AppError,
+) -> PageResult {
+    let units = Inputs::of_form(form).units;
     match e {
         AppError::Unprocessable { message, field, .. } => {
-            let message = match field {
-                Some(f) => format!("{}: {}", field_words(&f), in_reader_units(&message, &f, units)),
-                None => message,
+            let (field, message) = match field {
+                Some(f) => (
+                    form_field(&f).to_string(),
+                    format!("{}: {}", field_words(&f), in_reader_units(&message, &f, units)),
+                ),
+                None => (String::new(), message),
             };
-            let mut res = render(&page(st, id, Some(message)).await?);
+            let r = Refusal::new(action, form, vec![FieldError::new(&field, message)]);
+            let mut res = render(&page(st, id, Some(r)).await?);
             *res.status_mut() = StatusCode::UNPROCESSABLE_ENTITY;
             Ok(res)
         }
@@ -412,14 +460,19 @@ pub async fn add(
     let Some(kind) = ItemKind::from_segment(&list) else {
         return Err(PageError::from(AppError::NotFound(format!("no list {list:?}"))));
     };
+    let action = format!("/audits/{id}/treatment/{list}");
     let result = async {
         let record = input(kind, &form, None)?;
-        st.app.add_treatment_item(id, record).await.map_err(AppError::from)
+        if let Some(r) = every_refusal(&record, &action, &form) {
+            return Ok(Err(r));
+        }
+        st.app.add_treatment_item(id, record).await.map(Ok).map_err(AppError::from)
     }
     .await;
     match result {
-        Ok(_) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
-        Err(e) => refused(&st, id, e, Inputs::of_form(&form).units).await,
+        Ok(Ok(_)) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
+        Ok(Err(r)) => show_refused(&st, id, r).await,
+        Err(e) => refused(&st, id, &action, &form, e).await,
     }
 }
 
@@ -433,7 +486,7 @@ pub async fn remove(
     };
     if !form.contains_key("confirm") {
         let e = AppError::from(crate::app::Error::field("confirm", "tick the box beside remove to confirm"));
-        return refused(&st, id, e, Inputs::of_form(&form).units).await;
+        return refused(&st, id, &format!("/audits/{id}/treatment/{list}/{iid}/delete"), &form, e).await;
     }
     if !st.app.delete_treatment_item(id, kind, iid).await? {
         return Err(PageError::from(AppError::NotFound(format!("audit {id} has no such record {iid}"))));
@@ -456,13 +509,18 @@ pub async fn update(
     else {
         return Err(PageError::from(AppError::NotFound(format!("audit {id} has no such record {iid}"))));
     };
+    let action = format!("/audits/{id}/treatment/{list}/{iid}");
     let result = async {
         let record = input(kind, &form, Some(&stored))?;
-        st.app.update_treatment_item(id, iid, record).await.map_err(AppError::from)
+        if let Some(r) = every_refusal(&record, &action, &form) {
+            return Ok(Err(r));
+        }
+        st.app.update_treatment_item(id, iid, record).await.map(Ok).map_err(AppError::from)
     }
     .await;
     match result {
-        Ok(_) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
-        Err(e) => refused(&st, id, e, Inputs::of_form(&form).units).await,
+        Ok(Ok(_)) => Ok(Redirect::to(&format!("/audits/{id}/treatment")).into_response()),
+        Ok(Err(r)) => show_refused(&st, id, r).await,
+        Err(e) => refused(&st, id, &action, &form, e).await,
     }
 }

@@ -6,6 +6,7 @@ use axum::extract::{Path, State};
 use super::inputs::Inputs;
 use super::words::local_time;
 use super::{render, PageResult};
+use crate::core::display::Fmt;
 use crate::store::audits::{Audit, UploadRecord};
 use crate::web::AppState;
 
@@ -19,6 +20,8 @@ struct UploadPage {
     zones: Vec<String>,
     /// Each file's first and last reading in the site's time.
     spans: Vec<(String, String)>,
+    /// Counts as every page writes them.
+    fmt: Fmt,
 }
 
 pub async fn upload(State(st): State<AppState>, Path(id): Path<i64>) -> PageResult {
@@ -39,7 +42,9 @@ pub async fn upload(State(st): State<AppState>, Path(id): Path<i64>) -> PageResu
             (at(&u.first), at(&u.last))
         })
         .collect();
+    let fmt = b.fmt();
     Ok(render(&UploadPage {
+        fmt,
         max_upload_mb: st.config.max_upload_bytes / (1024 * 1024),
         audit: b.audit,
         uploads: super::words::uploads_in_local_time(b.uploads, &tz),

@@ -180,6 +180,21 @@ pub fn method_words(kind: &str) -> &'static str {
     }
 }
 
+/// A recorded field test named in words for a sentence: its kind and its time on the site's
+/// clock, the logged window's start for a test read from the logs, else when it was recorded
+/// ("load/unload test of Thu 12 Mar 2026 14:05 CDT").
+pub fn test_name(t: &FieldTestRecord, tz: &str) -> String {
+    let kind = match t.kind.as_str() {
+        "bleed_down" => "bleed-down test",
+        "load_unload" => "load/unload test",
+        "idle_flow" => "idle-flow test in the logs",
+        "pressure_decay" => "pressure-decay test in the logs",
+        _ => "field test",
+    };
+    let at = t.input.get("start").and_then(|v| v.as_str()).unwrap_or(&t.created_at);
+    format!("{kind} of {}", local_time(at, tz))
+}
+
 fn seconds(s: f64) -> String {
     if s >= 120.0 {
         format!("{} min", num(s / 60.0, 1))
