@@ -226,23 +226,27 @@ pub fn state_stats(grid: &Grid, states: &[State], power_w: &[f32]) -> StateStats
     }
 }
 
-/// Which bins lie in a run of `target` at least `min_bins` long (any other state, a gap too, ends a
-/// run).
-pub fn sustained(states: &[State], target: State, min_bins: usize) -> Vec<bool> {
-    let mut out = vec![false; states.len()];
+/// The runs of `target` in `states`, as bin ranges (any other state, a gap too, ends a run).
+fn runs(states: &[State], target: State) -> impl Iterator<Item = std::ops::Range<usize>> + '_ {
     let mut i = 0;
-    while i < states.len() {
-        if states[i] != target {
+    std::iter::from_fn(move || {
+        while i < states.len() && states[i] != target {
             i += 1;
-            continue;
         }
         let start = i;
         while i < states.len() && states[i] == target {
             i += 1;
         }
-        if i - start >= min_bins {
-            out[start..i].iter_mut().for_each(|b| *b = true);
-        }
+        (i > start).then_some(start..i)
+    })
+}
+
+/// Which bins lie in a run of `target` at least `min_bins` long (any other state, a gap too, ends a
+/// run).
+pub fn sustained(states: &[State], target: State, min_bins: usize) -> Vec<bool> {
+    let mut out = vec![false; states.len()];
+    for run in runs(states, target).filter(|r| r.len() >= min_bins) {
+        out[run].iter_mut().for_each(|b| *b = true);
     }
     out
 }
@@ -250,22 +254,12 @@ pub fn sustained(states: &[State], target: State, min_bins: usize) -> Vec<bool> 
 /// Mean length of runs of `target` that have a different *logged* state on both sides (a run cut by
 /// the log's ends or by a gap is not a whole period and is left out).
 fn mean_run_s(grid: &Grid, states: &[State], target: State) -> Option<f64> {
+    let bounded = |s: Option<State>| matches!(s, Some(x) if x != State::Unknown);
     let (mut total, mut count) = (0usize, 0usize);
-    let mut i = 0;
-    while i < states.len() {
-        if states[i] != target {
-            i += 1;
-            continue;
-        }
-        let start = i;
-        while i < states.len() && states[i] == target {
-            i += 1;
-        }
-        let before = start.checked_sub(1).map(|j| states[j]);
-        let after = states.get(i).copied();
-        let bounded = |s: Option<State>| matches!(s, Some(x) if x != State::Unknown);
-        if bounded(before) && bounded(after) {
-            total += i - start;
+    for run in runs(states, target) {
+        let before = run.start.checked_sub(1).map(|j| states[j]);
+        if bounded(before) && bounded(states.get(run.end).copied()) {
+            total += run.len();
             count += 1;
         }
     }

@@ -368,15 +368,7 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         withhold(&mut w, "leaks.annual_leak_cost", &why);
         // A share of a mean flow the data cannot carry is no share (a leak test against a few
         // minutes of flow read as 4,500 %).
-        for f in [
-            &mut l.share_of_mean_demand,
-            &mut l.share_of_mean_demand_low,
-            &mut l.share_of_mean_demand_high,
-            &mut l.share_of_production_demand,
-            &mut l.share_of_non_production_demand,
-        ] {
-            *f = None;
-        }
+        clear_shares(l);
         withhold(&mut w, "leaks.share_of_mean_demand", &why);
         for e in &mut l.estimates {
             e.share_of_mean_demand = None;
@@ -396,6 +388,19 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
     s.sufficiency.withheld = w;
 }
 
+/// The adopted leak flow's shares of demand, withheld.
+fn clear_shares(l: &mut super::figures::LeakFigures) {
+    for f in [
+        &mut l.share_of_mean_demand,
+        &mut l.share_of_mean_demand_low,
+        &mut l.share_of_mean_demand_high,
+        &mut l.share_of_production_demand,
+        &mut l.share_of_non_production_demand,
+    ] {
+        *f = None;
+    }
+}
+
 /// A leak flow above the mean demand it is compared with is no share of it (a test of one day
 /// against another day's flow log read as 1,883 %): such a share is withheld, the adopted one and
 /// each estimate's alike.
@@ -404,15 +409,7 @@ fn leak_shares_over_whole(s: &mut Summary, w: &mut Vec<Withheld>) {
                describe the plant under the same conditions, so it is no share of that demand";
     let l = &mut s.leaks;
     if l.share_of_mean_demand.is_some_and(|x| x > 1.0) {
-        for f in [
-            &mut l.share_of_mean_demand,
-            &mut l.share_of_mean_demand_low,
-            &mut l.share_of_mean_demand_high,
-            &mut l.share_of_production_demand,
-            &mut l.share_of_non_production_demand,
-        ] {
-            *f = None;
-        }
+        clear_shares(l);
         withhold(w, "leaks.share_of_mean_demand", why);
     }
     for e in &mut l.estimates {
