@@ -667,9 +667,65 @@ fn scale_mode(root: &Path, bin: &Path, sizes: &[u64]) {
     }
 }
 
+/// This thread's CPU time (user + system), seconds, from /proc (clock ticks of 10 ms): a loaded
+/// machine stretches the wall time, not this.
+fn thread_cpu_s() -> f64 {
+    let stat = std::fs::read_to_string("/proc/thread-self/stat").unwrap_or_default();
+    let fields: Vec<&str> = stat.rsplit(')').next().unwrap_or("").split_whitespace().collect();
+    let tick = |i: usize| fields.get(i).and_then(|v| v.parse::<f64>().ok()).unwrap_or(0.0);
+    // After the command's closing parenthesis: state is field 0, utime 11, stime 12.
+    (tick(11) + tick(12)) / 100.0
+}
+
+/// The kept original of `file` (pieces of 1 MiB) at deflate levels 1-9: plain deflate of the raw
+/// bytes against deflate of the column streams, sizes and CPU seconds.
+fn pack_levels(file: &Path) {
+    use airledger::store::import::original::{pack_at, PIECE_BYTES};
+    let data = std::fs::read(file).expect("read");
+    println!("{}: {} bytes", file.display(), data.len());
+    for level in [1u8, 2, 3, 4, 6, 9] {
+        let (mut plain, mut cols) = (0usize, 0usize);
+        let t = thread_cpu_s();
+        for p in data.chunks(PIECE_BYTES) {
+            plain += miniz_oxide::deflate::compress_to_vec(p, level).len();
+        }
+        let tp = thread_cpu_s() - t;
+        let t = thread_cpu_s();
+        for p in data.chunks(PIECE_BYTES) {
+            cols += pack_at(p, b',', level).len();
+        }
+        let tc = thread_cpu_s() - t;
+        let readings = (data.iter().filter(|&&b| b == b'\n').count().saturating_sub(1) * 4).max(1);
+        let per = |b: usize| b as f64 / readings as f64;
+        println!(
+            "level {level}: plain {plain} bytes ({:.2} bytes/reading) in {tp:.2} s CPU; \
+             columns {cols} bytes ({:.2} bytes/reading) in {tc:.2} s CPU",
+            per(plain),
+            per(cols)
+        );
+    }
+}
+
 fn main() {
     let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
     let bin = release_binary();
+    // `cargo bench --bench bench -- gen 8M FILE` only writes the file (for a profiler run by hand).
+    let args: Vec<String> = std::env::args().skip(1).filter(|a| !a.starts_with('-')).collect();
+    if let [gen, size, out] = &args[..] {
+        if gen == "gen" {
+            let rows = parse_size(size).expect("a size such as 8M").div_ceil(CHANNELS);
+            let bytes = generate(Path::new(out), rows).expect("generate");
+            println!("{out}: {rows} rows, {bytes} bytes; mapping: {}", mapping());
+            return;
+        }
+    }
+    // `cargo bench --bench bench -- pack FILE`: what the kept original costs, by deflate level.
+    if let [pack, file] = &args[..] {
+        if pack == "pack" {
+            pack_levels(Path::new(file));
+            return;
+        }
+    }
     // `cargo bench` passes `--bench`; any other argument is a size for the scale mode.
     let sizes: Vec<u64> =
         std::env::args().skip(1).filter(|a| !a.starts_with('-')).filter_map(|a| parse_size(&a)).collect();
