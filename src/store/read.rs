@@ -453,3 +453,66 @@ pub async fn upload_channel_stats(
             .collect(),
     ))
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::store::chunk::Precision;
+
+    /// A channel of more chunks than one page (200 chunks of 10 readings, four pages) is aligned
+    /// whole and in order: a ramp of one unit a second, integrated as straight lines between
+    /// readings (`core::series`), has the mean `i + 0.5` in bin `i` of a 1 s grid; a page lost,
+    /// repeated or out of order would leave a gap (missing bins) or a wrong mean.
+    #[tokio::test]
+    async fn a_channel_of_many_pages_is_aligned_whole_and_in_order() {
+        let dir = std::env::temp_dir().join(format!("airledger-pages-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        let (pool, _lock) = crate::store::open(&dir.join("p.sqlite")).await.unwrap();
+        for sql in [
+            "INSERT INTO audit (id, name, created_at) VALUES (1, 'a', '2026-01-01T00:00:00Z')",
+            "INSERT INTO upload (id, audit_id, filename, sha256, bytes, state, mapping, created_at) \
+             VALUES (1, 1, 'f.csv', 'x', 0, 'complete', '{}', '2026-01-01T00:00:00Z')",
+            "INSERT INTO channel (id, audit_id, quantity, label, unit) VALUES (1, 1, 'flow', 'q', 'm3_min')",
+        ] {
+            sqlx::query(sql).execute(&pool).await.unwrap();
+        }
+        let (chunks, per) = (200i64, 10i64);
+        for k in 0..chunks {
+            let times: Vec<i64> = (0..per).map(|j| (k * per + j) * 1000).collect();
+            let values: Vec<f64> = times.iter().map(|&t| (t / 1000) as f64).collect();
+            sqlx::query("INSERT INTO chunk (channel_id, t_start_ms, upload_id, t_end_ms, n, data) VALUES (1, ?, 1, ?, ?, ?)")
+                .bind(times[0])
+                .bind(times[times.len() - 1])
+                .bind(per)
+                .bind(chunk::encode(&times, &values, Precision::F32))
+                .execute(&pool)
+                .await
+                .unwrap();
+        }
+        assert!(chunks > 3 * CHUNK_PAGE, "the channel spans several pages");
+        let n = chunks * per;
+        let info = ChannelInfo {
+            id: 1,
+            quantity: "flow".into(),
+            compressor_id: None,
+            compressor_tag: None,
+            label: "q".into(),
+            unit: "m3_min".into(),
+            point: None,
+            first_ms: 0,
+            last_ms: (n - 1) * 1000,
+            readings: n,
+            parts: vec![],
+        };
+        let site = SiteAir::new(101.325, 20.0);
+        let frame = load_frame(&pool, &site, &[info], &[], None).await.unwrap().expect("a frame");
+        assert_eq!((frame.grid.step_ms, frame.grid.len), (1000, (n - 1) as usize));
+        let values = &frame.columns[0].values;
+        for (i, v) in values.iter().enumerate() {
+            assert!((v - (i as f32 + 0.5)).abs() < 1e-3, "bin {i}: {v}");
+        }
+        pool.close().await;
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+}
