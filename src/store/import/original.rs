@@ -270,6 +270,11 @@ mod tests {
         assert!(packed.len() < compress_to_vec(&text, LEVEL).len());
         assert!(unpack(&packed, text.len() - 1).is_err(), "longer than recorded");
         assert!(unpack(&[COLUMNS_MAGIC, 9, 1, 2], 100).is_err(), "unknown version");
+        // The column streams' largest growth, a whole piece of line breaks (three bytes a line),
+        // and of empty fields still inflate within the limit and come back.
+        for worst in [vec![b'\n'; PIECE_BYTES], b",\n".repeat(PIECE_BYTES / 2)] {
+            assert_eq!(unpack(&pack(&worst, b','), PIECE_BYTES).unwrap(), worst);
+        }
     }
 
     /// Pieces round-trip: a file of two and a half pieces comes back byte for byte, and its SHA-256
