@@ -576,6 +576,8 @@ struct ScaleRow {
     rss_import_mb: f64,
     rss_summary_mb: f64,
     bytes_per_reading: f64,
+    /// After a WAL checkpoint (`None` without the sqlite3 command).
+    checkpointed: Option<f64>,
     summary_after_s: f64,
     report_ms: f64,
     day_ms: f64,
@@ -615,6 +617,12 @@ fn scale_one(root: &Path, bin: &Path, readings: u64) -> ScaleRow {
     let (rep, _) = time_gets(&a, &server, &format!("/audits/{audit}/report"), 5);
     let day = format!("/api/v1/audits/{audit}/summary?from=2026-03-03T00:00:00Z&to=2026-03-03T23:59:59Z");
     let (win, _) = time_gets(&a, &server, &day, 3);
+    // The WAL written back into the database file (the server still runs; nothing writes now).
+    let checkpointed =
+        sqlite3(&db, "PRAGMA busy_timeout = 5000; PRAGMA wal_checkpoint(TRUNCATE);").map(|_| {
+            let (m, w, sh) = db_bytes(&db);
+            (m + w + sh) as f64 / stored.max(1) as f64
+        });
     drop(server);
     let _ = std::fs::remove_dir_all(&dir);
     ScaleRow {
@@ -625,6 +633,7 @@ fn scale_one(root: &Path, bin: &Path, readings: u64) -> ScaleRow {
         rss_import_mb,
         rss_summary_mb,
         bytes_per_reading,
+        checkpointed,
         summary_after_s,
         report_ms: median(&rep),
         day_ms: median(&win),
@@ -634,14 +643,14 @@ fn scale_one(root: &Path, bin: &Path, readings: u64) -> ScaleRow {
 fn scale_mode(root: &Path, bin: &Path, sizes: &[u64]) {
     let rows: Vec<ScaleRow> = sizes.iter().map(|&n| scale_one(root, bin, n)).collect();
     println!(
-        "\n| readings | CSV MB | import s | M readings/s | DuckDB s | x DuckDB | peak RSS import / first summary MB | bytes/reading | summary after 201 s | report ms | one day ms |"
+        "\n| readings | CSV MB | import s | M readings/s | DuckDB s | x DuckDB | peak RSS import / first summary MB | bytes/reading after 201 / checkpoint | summary after 201 s | report ms | one day ms |"
     );
     println!("|---|---|---|---|---|---|---|---|---|---|---|");
     for r in &rows {
         let duck = r.duck_s.map_or("-".into(), |d| format!("{d:.2}"));
         let ratio = r.duck_s.map_or("-".into(), |d| format!("{:.2}", r.import_s / d));
         println!(
-            "| {:.1} M | {:.0} | {:.2} | {:.2} | {duck} | {ratio} | {:.1} / {:.1} | {:.2} | {:.2} | {:.1} | {:.1} |",
+            "| {:.1} M | {:.0} | {:.2} | {:.2} | {duck} | {ratio} | {:.1} / {:.1} | {:.2} / {} | {:.2} | {:.1} | {:.1} |",
             r.readings as f64 / 1e6,
             r.csv_mb,
             r.import_s,
@@ -649,6 +658,7 @@ fn scale_mode(root: &Path, bin: &Path, sizes: &[u64]) {
             r.rss_import_mb,
             r.rss_summary_mb,
             r.bytes_per_reading,
+            r.checkpointed.map_or("-".into(), |b| format!("{b:.2}")),
             r.summary_after_s,
             r.report_ms,
             r.day_ms
@@ -667,9 +677,65 @@ fn scale_mode(root: &Path, bin: &Path, sizes: &[u64]) {
     }
 }
 
+/// This thread's CPU time (user + system), seconds, from /proc (clock ticks of 10 ms): a loaded
+/// machine stretches the wall time, not this.
+fn thread_cpu_s() -> f64 {
+    let stat = std::fs::read_to_string("/proc/thread-self/stat").unwrap_or_default();
+    let fields: Vec<&str> = stat.rsplit(')').next().unwrap_or("").split_whitespace().collect();
+    let tick = |i: usize| fields.get(i).and_then(|v| v.parse::<f64>().ok()).unwrap_or(0.0);
+    // After the command's closing parenthesis: state is field 0, utime 11, stime 12.
+    (tick(11) + tick(12)) / 100.0
+}
+
+/// The kept original of `file` (pieces of 1 MiB) at deflate levels 1-9: plain deflate of the raw
+/// bytes against deflate of the column streams, sizes and CPU seconds.
+fn pack_levels(file: &Path) {
+    use airledger::store::import::original::{pack_at, PIECE_BYTES};
+    let data = std::fs::read(file).expect("read");
+    println!("{}: {} bytes", file.display(), data.len());
+    for level in [1u8, 2, 3, 4, 6, 9] {
+        let (mut plain, mut cols) = (0usize, 0usize);
+        let t = thread_cpu_s();
+        for p in data.chunks(PIECE_BYTES) {
+            plain += miniz_oxide::deflate::compress_to_vec(p, level).len();
+        }
+        let tp = thread_cpu_s() - t;
+        let t = thread_cpu_s();
+        for p in data.chunks(PIECE_BYTES) {
+            cols += pack_at(p, b',', level).len();
+        }
+        let tc = thread_cpu_s() - t;
+        let readings = (data.iter().filter(|&&b| b == b'\n').count().saturating_sub(1) * 4).max(1);
+        let per = |b: usize| b as f64 / readings as f64;
+        println!(
+            "level {level}: plain {plain} bytes ({:.2} bytes/reading) in {tp:.2} s CPU; \
+             columns {cols} bytes ({:.2} bytes/reading) in {tc:.2} s CPU",
+            per(plain),
+            per(cols)
+        );
+    }
+}
+
 fn main() {
     let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
     let bin = release_binary();
+    // `cargo bench --bench bench -- gen 8M FILE` only writes the file (for a profiler run by hand).
+    let args: Vec<String> = std::env::args().skip(1).filter(|a| !a.starts_with('-')).collect();
+    if let [gen, size, out] = &args[..] {
+        if gen == "gen" {
+            let rows = parse_size(size).expect("a size such as 8M").div_ceil(CHANNELS);
+            let bytes = generate(Path::new(out), rows).expect("generate");
+            println!("{out}: {rows} rows, {bytes} bytes; mapping: {}", mapping());
+            return;
+        }
+    }
+    // `cargo bench --bench bench -- pack FILE`: what the kept original costs, by deflate level.
+    if let [pack, file] = &args[..] {
+        if pack == "pack" {
+            pack_levels(Path::new(file));
+            return;
+        }
+    }
     // `cargo bench` passes `--bench`; any other argument is a size for the scale mode.
     let sizes: Vec<u64> =
         std::env::args().skip(1).filter(|a| !a.starts_with('-')).filter_map(|a| parse_size(&a)).collect();

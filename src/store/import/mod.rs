@@ -18,6 +18,7 @@ Readings of one channel must arrive in time order: a reading not later than the 
 kept.
 */
 
+mod columns;
 mod encoder;
 pub mod original;
 mod replace;
@@ -309,9 +310,11 @@ pub async fn import_file(
         Some(r) if r.move_original => None,
         _ => {
             let (pool, path) = (pool.clone(), req.path.clone());
+            let delim = ingest::mapping::delimiter_byte(&req.mapping.delimiter).unwrap_or(b',');
             let stop = Arc::new(std::sync::atomic::AtomicBool::new(false));
             let flag = stop.clone();
-            let handle = tokio::spawn(async move { original::keep(&pool, upload_id, &path, &flag).await });
+            let handle =
+                tokio::spawn(async move { original::keep(&pool, upload_id, &path, delim, &flag).await });
             Some(Keeper { handle, stop })
         }
     };

@@ -2,11 +2,17 @@
 The original bytes of an upload, kept with it so that the file can be imported again with a
 corrected mapping (`remap`) without being sent again.
 
-The file is read in pieces of [`PIECE_BYTES`]; each piece is deflated on its own (level
-[`LEVEL`]) and stored as one row of `upload_original`, so that keeping and restoring a file of any
-size holds at most a couple of pieces in memory. A piece starts a fresh deflate stream, which
-costs next to nothing against a single stream: deflate looks back only 32 KiB anyway. Restoring
-inflates the pieces in order into a spool file and checks its SHA-256 against the upload's.
+The file is read in pieces of [`PIECE_BYTES`]; each piece is cut into column streams
+(`columns`, a reversible transform on bytes), deflated on its own (level [`LEVEL`]) and stored as
+one row of `upload_original`, so that keeping and restoring a file of any size holds at most a
+couple of pieces in memory. A piece starts a fresh deflate stream, which costs next to nothing
+against a single stream: deflate looks back only 32 KiB anyway. Restoring inflates the pieces in
+order into a spool file and checks its SHA-256 against the upload's.
+
+A piece stored with the column streams starts with the byte [`COLUMNS_MAGIC`] and a version byte;
+pieces kept before (plain deflate of the raw bytes) start with a deflate block header, whose first
+byte never has both of its block-type bits set (type 3 is reserved, RFC 1951 3.2.3), so 0xFE
+cannot start one and both kinds read back.
 */
 
 use std::io::{Read, Write};
@@ -24,11 +30,49 @@ use crate::store::{begin_write, StoreError};
 /// Raw bytes per stored piece.
 pub const PIECE_BYTES: usize = 1024 * 1024;
 
-/// Deflate level: 1, the fastest that still matches repeated strings. Level 6 (zlib's default)
-/// packs logger text tighter but at some 15 MB/s a core it made an 82 MB file's import 5.8 s against
-/// 1.0 s without originals (the bench, 2026-12-04); level 1 makes it 1.24 s, for 23.3 MB kept
-/// against 15.5 MB (see DEVELOPERS.md).
-pub const LEVEL: u8 = 1;
+/// Deflate level, of the column streams. On the raw text level 6 (zlib's default) made an 82 MB
+/// file's import 5.8 s against 1.0 s without originals (the bench, 2026-12-04) and level 1 1.24 s,
+/// for 23.3 MB kept. The column streams at level 2 keep the bench's 8 M readings in 9.4 MB (1.18
+/// bytes a reading) for the CPU time plain deflate took at level 1 (0.44 s against 0.37 s at level
+/// 1, 2.90 bytes a reading); level 3 gives 1.03 bytes a reading for 0.69 s, level 6 0.95 for 2.5 s
+/// (`cargo bench --bench bench -- pack FILE`, 2026-12-04).
+pub const LEVEL: u8 = 2;
+
+/// First byte of a piece stored as deflated column streams (an invalid deflate block header).
+pub const COLUMNS_MAGIC: u8 = 0xFE;
+const COLUMNS_VERSION: u8 = 1;
+
+/// The most a piece's column streams can take: the transform adds a byte a line and one a field
+/// (a piece of line breaks only takes three times its length).
+const MAX_PACKED: usize = 4 * PIECE_BYTES + 64;
+
+/// One piece as stored: its column streams (cut at `delim`), deflated, behind the magic bytes.
+pub fn pack(raw: &[u8], delim: u8) -> Vec<u8> {
+    pack_at(raw, delim, LEVEL)
+}
+
+/// [`pack`] at another deflate level (the bench compares them).
+pub fn pack_at(raw: &[u8], delim: u8, level: u8) -> Vec<u8> {
+    let streams = super::columns::split(raw, delim);
+    let deflated = compress_to_vec(&streams, level);
+    let mut out = Vec::with_capacity(deflated.len() + 2);
+    out.extend_from_slice(&[COLUMNS_MAGIC, COLUMNS_VERSION]);
+    out.extend_from_slice(&deflated);
+    out
+}
+
+/// A stored piece back to its raw bytes (either kind, see the module's notes), at most `limit`.
+pub fn unpack(data: &[u8], limit: usize) -> Result<Vec<u8>, String> {
+    match data {
+        [COLUMNS_MAGIC, COLUMNS_VERSION, rest @ ..] => {
+            let streams = decompress_to_vec_with_limit(rest, MAX_PACKED)
+                .map_err(|e| format!("does not inflate: {e:?}"))?;
+            super::columns::join(&streams, limit)
+        }
+        [COLUMNS_MAGIC, v, ..] => Err(format!("column streams of an unknown version {v}")),
+        _ => decompress_to_vec_with_limit(data, limit).map_err(|e| format!("does not inflate: {e:?}")),
+    }
+}
 
 /// Pieces waiting between the compressing thread and the writer.
 const QUEUE: usize = 2;
@@ -41,6 +85,7 @@ pub(super) async fn keep(
     pool: &SqlitePool,
     upload_id: i64,
     path: &Path,
+    delim: u8,
     stop: &AtomicBool,
 ) -> Result<(u64, u64), ImportError> {
     let (tx, mut rx) = tokio::sync::mpsc::channel::<std::io::Result<(usize, Vec<u8>)>>(QUEUE);
@@ -65,7 +110,7 @@ pub(super) async fn keep(
             if n == 0 {
                 return;
             }
-            let packed = compress_to_vec(&buf[..n], LEVEL);
+            let packed = pack(&buf[..n], delim);
             // A closed queue: the import failed and stopped reading; nothing more to do.
             if tx.blocking_send(Ok((n, packed))).is_err() {
                 return;
@@ -136,9 +181,9 @@ pub async fn head(pool: &SqlitePool, upload_id: i64, max: usize) -> Result<Optio
             .fetch_optional(pool)
             .await?;
     let Some(data) = data else { return Ok(None) };
-    let piece = decompress_to_vec_with_limit(&data, PIECE_BYTES).map_err(|e| StoreError::Damaged {
+    let piece = unpack(&data, PIECE_BYTES).map_err(|e| StoreError::Damaged {
         path: format!("upload {upload_id}'s original"),
-        detail: format!("piece 0 does not inflate: {e:?}"),
+        detail: format!("piece 0: {e}"),
     })?;
     Ok(Some(piece[..piece.len().min(max)].to_vec()))
 }
@@ -176,10 +221,10 @@ pub async fn restore(pool: &SqlitePool, upload_id: i64, out: &Path) -> Result<Op
             .ok_or_else(|| damaged(format!("piece {seq} of {pieces} is missing")))?;
         let raw: i64 = row.get("raw_bytes");
         let data: Vec<u8> = row.get("data");
-        let piece = tokio::task::spawn_blocking(move || decompress_to_vec_with_limit(&data, PIECE_BYTES))
+        let piece = tokio::task::spawn_blocking(move || unpack(&data, PIECE_BYTES))
             .await
             .map_err(|e| damaged(format!("piece {seq}: {e}")))?
-            .map_err(|e| damaged(format!("piece {seq} does not inflate: {e:?}")))?;
+            .map_err(|e| damaged(format!("piece {seq}: {e}")))?;
         if piece.len() as i64 != raw {
             return Err(damaged(format!("piece {seq} inflates to {} bytes, not {raw}", piece.len())));
         }
@@ -195,6 +240,42 @@ pub async fn restore(pool: &SqlitePool, upload_id: i64, out: &Path) -> Result<Op
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Pieces kept before the column streams (plain deflate of the raw bytes) still read back, and
+    /// no deflate stream miniz writes starts with the magic byte (its block type would be 3, which
+    /// RFC 1951 section 3.2.3 reserves).
+    #[test]
+    fn both_kinds_of_piece_read_back() {
+        let mut text = b"Time;P bar;Q m3/min\r\n".to_vec();
+        for i in 0..3000u32 {
+            let row = format!(
+                "2026-01-05 {:02}:{:02}:{:02};7,{};{},{}\r\n",
+                i / 3600,
+                i / 60 % 60,
+                i % 60,
+                i % 7,
+                20 + i % 13,
+                i % 10
+            );
+            text.extend_from_slice(row.as_bytes());
+        }
+        for level in 0..=10 {
+            let plain = compress_to_vec(&text, level);
+            assert_ne!(plain[0] & 0b110, 0b110, "level {level} starts a reserved block type");
+            assert_eq!(unpack(&plain, text.len()).unwrap(), text);
+        }
+        let packed = pack(&text, b';');
+        assert_eq!(packed[0], COLUMNS_MAGIC);
+        assert_eq!(unpack(&packed, text.len()).unwrap(), text);
+        assert!(packed.len() < compress_to_vec(&text, LEVEL).len());
+        assert!(unpack(&packed, text.len() - 1).is_err(), "longer than recorded");
+        assert!(unpack(&[COLUMNS_MAGIC, 9, 1, 2], 100).is_err(), "unknown version");
+        // The column streams' largest growth, a whole piece of line breaks (three bytes a line),
+        // and of empty fields still inflate within the limit and come back.
+        for worst in [vec![b'\n'; PIECE_BYTES], b",\n".repeat(PIECE_BYTES / 2)] {
+            assert_eq!(unpack(&pack(&worst, b','), PIECE_BYTES).unwrap(), worst);
+        }
+    }
 
     /// Pieces round-trip: a file of two and a half pieces comes back byte for byte, and its SHA-256
     /// is the one `sha2` gives for the bytes themselves.
@@ -231,7 +312,7 @@ mod tests {
         }
         let src = dir.join("in.csv");
         std::fs::write(&src, &text).unwrap();
-        let (raw, stored) = keep(&pool, 7, &src, &AtomicBool::new(false)).await.unwrap();
+        let (raw, stored) = keep(&pool, 7, &src, b',', &AtomicBool::new(false)).await.unwrap();
         assert_eq!(raw, text.len() as u64);
         assert!(stored < raw / 3, "{stored} bytes stored for {raw}");
         assert!(is_kept(&pool, 7).await.unwrap());
