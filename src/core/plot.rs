@@ -235,6 +235,16 @@ fn legend(out: &mut String, items: &[(String, &str, bool)]) {
     }
 }
 
+/// Where a tick's label runs across, from its left end to its right (as [`anchor`] places it).
+fn label_extent(tx: f64, label: &str) -> (f64, f64) {
+    let w = 6.2 * label.chars().count() as f64;
+    match anchor(tx, label) {
+        "end" => (tx - w, tx),
+        "start" => (tx, tx + w),
+        _ => (tx - w / 2.0, tx + w / 2.0),
+    }
+}
+
 /// How a tick's label is anchored at `tx`: centred, unless centring would cut it at an edge of
 /// the view box (6.2 units a character at 11 units of type, about).
 fn anchor(tx: f64, label: &str) -> &'static str {
@@ -262,13 +272,24 @@ fn axes(out: &mut String, x: &Axis, y: &Axis, b: &PlotBox) {
             esc(&t.label)
         );
     }
+    // A label that would run into the one before it (the last one, pushed left from the edge,
+    // say) is left out; its tick stays.
+    let mut last_right = f64::NEG_INFINITY;
     for t in &x.ticks {
         let tx = b.x(x, t.at);
         let _ = write!(
             out,
-            "<line x1=\"{tx:.1}\" y1=\"{bottom:.1}\" x2=\"{tx:.1}\" y2=\"{:.1}\" stroke=\"#888\" stroke-width=\"0.6\"/>\
-             <text x=\"{tx:.1}\" y=\"{:.1}\" text-anchor=\"{}\">{}</text>",
+            "<line x1=\"{tx:.1}\" y1=\"{bottom:.1}\" x2=\"{tx:.1}\" y2=\"{:.1}\" stroke=\"#888\" stroke-width=\"0.6\"/>",
             bottom + 4.0,
+        );
+        let (from, to) = label_extent(tx, &t.label);
+        if from < last_right + 6.0 {
+            continue;
+        }
+        last_right = to;
+        let _ = write!(
+            out,
+            "<text x=\"{tx:.1}\" y=\"{:.1}\" text-anchor=\"{}\">{}</text>",
             bottom + 15.0,
             anchor(tx, &t.label),
             esc(&t.label)
@@ -280,11 +301,12 @@ fn axes(out: &mut String, x: &Axis, y: &Axis, b: &PlotBox) {
         b.left, b.top
     );
     // Titles level (a turned title prints as scattered letters in a PDF's text): the y axis'
-    // above its ticks, the x axis' below its labels.
+    // above the plot, right of its tick labels (so never on the top one), the x axis' below its
+    // labels.
     let _ = write!(
         out,
         "<text x=\"{:.1}\" y=\"{:.1}\" font-weight=\"600\">{}</text>",
-        4.0,
+        b.left + 4.0,
         b.top - 6.0,
         esc(&y.title)
     );
@@ -563,6 +585,35 @@ mod tests {
         assert!(svg.contains("data-y-min=\"6\" data-y-max=\"8\""), "{svg}");
         assert!(svg.contains("d=\"M52.0 208.0L628.0 40.0\""), "{svg}");
         assert!(svg.contains(">Pressure, bar(g)</text>"), "{svg}");
+    }
+
+    #[test]
+    fn tick_labels_never_run_into_each_other_nor_the_axis_title() {
+        // Ticks 30 units apart (576 / 19.2) with 10-character labels (62 units at 6.2 a
+        // character, 6 between): a label fits at every third tick (0, 3, ..., 18: x = 52 + 90 k),
+        // and the last tick (19, x = 622, its label pushed left from the edge to 560..622) loses
+        // its label to the one at 18 (561..623). Every tick keeps its line.
+        let ticks: Vec<Tick> =
+            (0..=19).map(|i| Tick { at: i as f64, label: format!("Mon {i:02} Mar") }).collect();
+        let x = Axis { title: "time".into(), min: 0.0, max: 19.2, ticks };
+        let c = LineChart {
+            id: "t".into(),
+            title: "t".into(),
+            x,
+            y: Axis::numeric("Power, kW", 0.0, 100.0, 4),
+            marks: vec![],
+        };
+        let svg = line_chart_svg(&c);
+        let labels: Vec<f64> = svg
+            .split("<text x=\"")
+            .skip(1)
+            .filter(|t| t.contains(" Mar<"))
+            .map(|t| t.split('"').next().unwrap().parse().unwrap())
+            .collect();
+        assert_eq!(labels, [52.0, 142.0, 232.0, 322.0, 412.0, 502.0, 592.0]);
+        assert_eq!(svg.matches("stroke=\"#888\"").count(), 20, "a tick line per tick inside the box");
+        // The y title starts right of the tick labels' end (52 - 4): x = 56.
+        assert!(svg.contains("<text x=\"56.0\" y=\"34.0\" font-weight=\"600\">Power, kW</text>"), "{svg}");
     }
 
     #[test]
