@@ -1,8 +1,9 @@
 //! The upload page: the file, the sniffer's preview and the column mapping (`static/js/upload.js`).
 
 use askama::Template;
-use axum::extract::{Path, State};
+use axum::extract::{Path, Query, State};
 
+use super::flash::{Done, DoneQuery};
 use super::inputs::Inputs;
 use super::words::local_time;
 use super::{render, PageResult};
@@ -22,9 +23,15 @@ struct UploadPage {
     spans: Vec<(String, String)>,
     /// Counts as every page writes them.
     fmt: Fmt,
+    /// What was just done (`flash`: a delete or a re-map started from this page comes back here).
+    done: Option<String>,
 }
 
-pub async fn upload(State(st): State<AppState>, Path(id): Path<i64>) -> PageResult {
+pub async fn upload(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Query(q): Query<DoneQuery>,
+) -> PageResult {
     let b = st.app.bundle(id).await?;
     let page_data = serde_json::json!({
         "audit_id": id,
@@ -45,6 +52,7 @@ pub async fn upload(State(st): State<AppState>, Path(id): Path<i64>) -> PageResu
     let fmt = b.fmt();
     Ok(render(&UploadPage {
         fmt,
+        done: Done::message(&q),
         max_upload_mb: st.config.max_upload_bytes / (1024 * 1024),
         audit: b.audit,
         uploads: super::words::uploads_in_local_time(b.uploads, &tz),
