@@ -11,6 +11,16 @@ use super::units::{
     PA_PER_BAR,
 };
 
+/// A number written as [`num`] writes it, digits grouped ("8,375"), to the format's precision
+/// (none: 0 decimals): `format!("{:.0} kWh/yr", Grouped(kwh))` in texts core builds in words.
+pub struct Grouped(pub f64);
+
+impl std::fmt::Display for Grouped {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&num(self.0, f.precision().unwrap_or(0)))
+    }
+}
+
 /// A number with thousands separators and `decimals` decimals; `-` for a missing value.
 pub fn num(v: f64, decimals: usize) -> String {
     if !v.is_finite() {

@@ -457,7 +457,8 @@ fn a_delete_on_the_pages_asks_first_and_deletes_only_from_its_own_form() {
     // Started from the upload page, a delete goes back there, and that page says what was done.
     let up = upload_ok(&s, id, "day2.csv", &plant_csv(DAY2, 1, 56.0, 14.0), &cycling_mapping());
     let uid = up["upload_id"].as_i64().unwrap();
-    let r = s.post_form(&format!("/audits/{id}/uploads/{uid}/delete"), &[("confirm", "yes"), ("from", "upload")]);
+    let r =
+        s.post_form(&format!("/audits/{id}/uploads/{uid}/delete"), &[("confirm", "yes"), ("from", "upload")]);
     assert_eq!(r.status, 303);
     let back = r.header("location").unwrap_or_default().to_string();
     assert_eq!(back, format!("/audits/{id}/upload?done=upload-deleted&what=day2.csv"));

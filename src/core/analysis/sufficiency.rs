@@ -186,8 +186,8 @@ pub(super) fn assess(
              {:.0} %): the files lie far apart in time and one annual figure would mix them; analyse one stretch \
              of logging at a time",
             percent(share),
-            power_h,
-            total_h,
+            crate::core::display::Grouped(power_h),
+            crate::core::display::Grouped(total_h),
             MIN_PERIOD_COVERAGE * 100.0
         )]);
     }

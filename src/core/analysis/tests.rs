@@ -802,5 +802,5 @@ fn a_variable_speed_machine_reads_as_its_mean_capacity_and_idles_only_when_held_
     let r = run(&s, &cs, &frame, vec![]);
     let m = r.recommendations.iter().find(|m| m.kind == MeasureKind::ShutOffIdle).expect("shut-off offered");
     let basis = serde_json::to_string(&m.basis).unwrap();
-    assert!(basis.contains("V1 unloaded out of production 10296 kWh/yr"), "{basis}");
+    assert!(basis.contains("V1 unloaded out of production 10,296 kWh/yr"), "{basis}");
 }

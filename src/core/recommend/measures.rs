@@ -4,6 +4,7 @@ plant left by the measures stacked before it (`stack`). Each returns its draft a
 leaves behind; `finish` costs a draft and gives its payback.
 */
 
+use crate::core::display::Grouped;
 use crate::core::model::Control;
 use crate::core::safety;
 use crate::core::thermo;
@@ -224,14 +225,16 @@ pub(super) fn repair_leaks(r: &RecommendInput, p: &Plant) -> Option<(Draft, Plan
                 specific(per),
                 format!(" ({trim_tag}, × {:.3} for the pressure)", p.power_factor)
             ],
-            text![format!("hours priced {:.0} h/yr", p.demand_hours)],
+            text![format!("hours priced {:.0} h/yr", Grouped(p.demand_hours))],
         ]
         .into_iter()
         .chain((kwh < 0.99 * uncapped).then(|| {
             text![format!(
-                "held at what {trim_tag} draws above idle: {kwh:.0} kWh/yr of the {uncapped:.0} kWh/yr \
+                "held at what {trim_tag} draws above idle: {:.0} kWh/yr of the {:.0} kWh/yr \
                  the repaired air takes at the marginal rate (the Leaks card's rate); below idle the \
-                 trim saves no more, and what the other machines would save depends on their control"
+                 trim saves no more, and what the other machines would save depends on their control",
+                Grouped(kwh),
+                Grouped(uncapped)
             )]
         }))
         .collect(),
@@ -400,7 +403,7 @@ pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pl
                 " + transmitter uncertainty ",
                 pressure_drop(margin)
             ],
-            text![format!("loaded (delivering) energy {delivering:.0} kWh/yr, scaled by {rule}: {chosen:.0} kWh/yr (the other rule {other:.0})")],
+            text![format!("loaded (delivering) energy {:.0} kWh/yr, scaled by {rule}: {:.0} kWh/yr (the other rule {:.0})", Grouped(delivering), Grouped(chosen), Grouped(other))],
             text!["unregulated demand incl. leaks ", flow(q_unreg), ": ", flow(dq), " less at the lower pressure"],
             text!["marginal specific power ", specific(r.marginal_kw_per_m3_min * next.power_factor)],
         ],
@@ -460,13 +463,15 @@ pub(super) fn shut_off_idle(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pla
     let tags: Vec<String> = idle.iter().map(|(i, _)| r.compressors[*i].tag.clone()).collect();
     let mut basis: Vec<Vec<Part>> = idle
         .iter()
-        .map(|(i, k)| text![format!("{} unloaded out of production {k:.0} kWh/yr", r.compressors[*i].tag)])
+        .map(|(i, k)| {
+            text![format!("{} unloaded out of production {:.0} kWh/yr", r.compressors[*i].tag, Grouped(*k))]
+        })
         .collect();
     if trim_off.is_some() {
         basis.push(text![
-            format!("the trim is off out of production ({night_hours:.0} h/yr): the leaks left, "),
+            format!("the trim is off out of production ({:.0} h/yr): the leaks left, ", Grouped(night_hours)),
             flow(p.leak_m3_min),
-            format!(", draw nothing then: {night_leak:.0} kWh/yr")
+            format!(", draw nothing then: {:.0} kWh/yr", Grouped(night_leak))
         ]);
     }
     let draft = Draft {
@@ -540,9 +545,11 @@ pub(super) fn improve_control(r: &RecommendInput, p: &Plant, first: &Plant) -> O
             basis: vec![
                 text![format!(
                     "replayed saving {:.0} kWh over {:.0} h against a simulated baseline of {:.0} kWh",
-                    s.energy_saving_kwh, s.simulated_hours, s.baseline_energy_kwh
+                    Grouped(s.energy_saving_kwh),
+                    Grouped(s.simulated_hours),
+                    Grouped(s.baseline_energy_kwh)
                 )],
-                text![format!("energy of this step {:.0} kWh/yr", if r.machines.is_empty() { r.annual_energy_kwh } else { e_now })],
+                text![format!("energy of this step {:.0} kWh/yr", Grouped(if r.machines.is_empty() { r.annual_energy_kwh } else { e_now }))],
                 text![format!("validation error of the replay {:+.2} %", s.validation_error * 100.0)],
                 text![format!("scenario cost {:.0} {}", s.implementation_cost, r.site.currency)],
             ],
@@ -594,12 +601,12 @@ pub(super) fn improve_control(r: &RecommendInput, p: &Plant, first: &Plant) -> O
         money: None,
         cost_ctx: CostContext { rated_kw: spec.rated_power_kw, has_vsd, ..Default::default() },
         basis: vec![
-            text![format!("logged trim energy {:.0} kWh/yr", c.logged_annual_kwh)],
-            text![format!("same demand on {}: {:.0} kWh/yr", c.curve, c.modelled_annual_kwh)],
+            text![format!("logged trim energy {:.0} kWh/yr", Grouped(c.logged_annual_kwh))],
+            text![format!("same demand on {}: {:.0} kWh/yr", c.curve, Grouped(c.modelled_annual_kwh))],
             c.model.clone(),
             text![format!(
                 "× {ratio:.3} for the trim energy left above idle, less {:.0} kWh/yr already switched off",
-                p.trim_idle_removed_kwh
+                Grouped(p.trim_idle_removed_kwh)
             )],
         ],
         formula: "saving = (logged trim energy - Σ P_vsd(Q_w) × time) × trim energy left / logged - unloaded energy already switched off; Q_w the trim's air in each 5 min from its mean running power through its part-load model",
@@ -683,7 +690,7 @@ pub(super) fn replace_compressor(
                 bar_g(spec.rated_pressure_bar_g),
                 format!(", {p_sheet:.2} kW at the logged pressure")
             ],
-            text![format!("loaded hours {:.0} h/yr, × {ratio:.3} for the loaded energy left", m.annual_loaded_hours)],
+            text![format!("loaded hours {:.0} h/yr, × {ratio:.3} for the loaded energy left", Grouped(m.annual_loaded_hours))],
         ],
         formula: "saving = loaded hours × (measured loaded kW - data-sheet full-load kW corrected to the loaded pressure by the ratio of isentropic work) × loaded energy left / logged",
         source: "ISO 1217 data-sheet package input power; correction by isentropic compression work; threshold 10 % above it (common practice: beyond ISO 1217 annex C test tolerances of 4-8 %, from memory, and instrument accuracy)",
@@ -724,8 +731,9 @@ pub(super) fn recover_heat(r: &RecommendInput, p: &Plant, first: &Plant) -> Opti
         kind: MeasureKind::RecoverHeat,
         title: text![format!("Recover compressor heat for {}", h.use_kind.as_str().replace('_', " "))],
         description: text![format!(
-            "Use about {:.0} kWh/yr of the compressors' heat in place of fuel ({f:.0} kWh/yr of fuel).",
-            rec * h.used_share
+            "Use about {:.0} kWh/yr of the compressors' heat in place of fuel ({:.0} kWh/yr of fuel).",
+            Grouped(rec * h.used_share),
+            Grouped(f)
         )],
         saving_kwh: f,
         low_kwh,
@@ -735,7 +743,7 @@ pub(super) fn recover_heat(r: &RecommendInput, p: &Plant, first: &Plant) -> Opti
         money: Some(f * price),
         cost_ctx: CostContext { recoverable_heat_kw: h.recoverable_kw, ..Default::default() },
         basis: vec![
-            text![format!("recoverable heat of the running machines {rec:.0} kWh/yr on the energy left after the electrical measures")],
+            text![format!("recoverable heat of the running machines {:.0} kWh/yr on the energy left after the electrical measures", Grouped(rec))],
             text![format!(
                 "recovery effectiveness {:.2} (air cooling), {:.2} (water cooling)",
                 r.costs.options.heat_recovery_effectiveness_air, r.costs.options.heat_recovery_effectiveness_water
@@ -793,12 +801,12 @@ fn treatment_measure(r: &RecommendInput, p: &Plant, t: TreatmentStep) -> Option<
         text!["marginal specific power ", specific(per)],
         text![format!(
             "hours priced {:.0} h/yr{}",
-            if t.production_only { production_hours } else { p.demand_hours },
+            Grouped(if t.production_only { production_hours } else { p.demand_hours }),
             if t.production_only { " (production)" } else { "" }
         )],
     ];
     if alt_kwh > 0.0 {
-        basis.push(text![format!("the electric alternatives' own use {:.0} kWh/yr", alt_kwh)]);
+        basis.push(text![format!("the electric alternatives' own use {:.0} kWh/yr", Grouped(alt_kwh))]);
     }
     let draft = Draft {
         kind: t.kind,
@@ -943,7 +951,10 @@ pub(super) fn filter_change(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pla
             text!["excess drop over the clean drop at the mean flow (drop ∝ flow²) ", pressure_drop(step)],
             text!["header pressure ", bar_g(p_header), ", discharge ", bar_g(p_header + step), " before the change"],
             text![format!(
-                "loaded (delivering) energy {delivering:.0} kWh/yr, scaled by {rule}: {chosen:.0} kWh/yr (the other rule {other:.0})"
+                "loaded (delivering) energy {:.0} kWh/yr, scaled by {rule}: {:.0} kWh/yr (the other rule {:.0})",
+                Grouped(delivering),
+                Grouped(chosen),
+                Grouped(other)
             )],
         ],
         formula: "saving = Σ loaded energy × (1 % per 2 psi | isentropic-work ratio) for Δp = Σ (measured drop - clean drop × (Q / Q_rated)²) over the filters above 0.1 bar",
@@ -1000,7 +1011,7 @@ pub(super) fn cycling_refrigerated_dryer(r: &RecommendInput, p: &Plant) -> Optio
                 "floor {:.2} of the kW at light load",
                 crate::core::treatment::CYCLING_DRYER_FLOOR
             )],
-            text![format!("hours priced {hours:.0} h/yr (the compressors' running hours)")],
+            text![format!("hours priced {:.0} h/yr (the compressors' running hours)", Grouped(hours))],
         ],
         formula: "saving = dryer kW × (1 - max(mean flow through it / rated flow, 0.2)) × running hours",
         source:

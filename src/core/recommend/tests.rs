@@ -238,8 +238,10 @@ fn leak_repair_is_priced_at_the_load_unload_marginal_curve() {
     let r = recommend(&input(&s, &cs, &ms, &costs), &si(&s));
     let leak = r.iter().find(|x| x.kind == MeasureKind::RepairLeaks).unwrap();
     assert_eq!(leak.annual_energy_saving_kwh, 1000.0);
-    let held = format!("held at what C1 draws above idle: 1000 kWh/yr of the {expect:.0} kWh/yr");
-    assert!(leak.basis.iter().any(|b| b.contains(&held)), "{held} not in {:?}", leak.basis);
+    // 0.5 × 2.0 × (55 - 13.75) / 9.5 × 8000 = 34,736.8 kWh/yr, written with its digits grouped.
+    assert!((expect - 34_736.84).abs() < 0.01);
+    let held = "held at what C1 draws above idle: 1,000 kWh/yr of the 34,737 kWh/yr";
+    assert!(leak.basis.iter().any(|b| b.contains(held)), "{held} not in {:?}", leak.basis);
 }
 
 /// Reads a reference value from the fixture written by tests/reference/make_reference.py.
