@@ -350,11 +350,27 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>, facts: &Rea
 
 /// What the flow duration curve's top is (the report's chart and the findings' plot).
 pub fn duration_note(step_s: f64) -> String {
+    if step_s >= 60.0 {
+        return format!(
+            "From the analysis' own time steps ({}), highest first: its top is the highest single step, \
+             the peak flow.",
+            duration_s(step_s)
+        );
+    }
     format!(
         "From the analysis' own time steps ({}), highest first: its top is the highest single step, above \
          the peak flow (the highest 1-minute mean on the clock's minutes).",
         duration_s(step_s)
     )
+}
+
+/// A mean's window as an adjective: "1-minute", "15-minute", "30-second".
+fn window_words(s: f64) -> String {
+    if s >= 60.0 && (s / 60.0).fract() == 0.0 {
+        format!("{}-minute", num(s / 60.0, 0))
+    } else {
+        format!("{}-second", num(s, 0))
+    }
 }
 
 /// A window or time step in words: "15 min", "60 s", "5 s".
@@ -691,14 +707,21 @@ fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
             ),
         ),
         (
-            "Peak flow, highest 1-minute mean".into(),
-            format!(
-                "{} (the highest mean over {} s on the clock's minutes; a single {} time step and the \
-                 top of the flow duration curve read higher)",
-                fmt.flow_m3_min(sys.peak_flow_m3_min),
-                num(sys.peak_flow_window_s, 0),
-                duration_s(sm.period.step_s)
-            ),
+            format!("Peak flow, highest {} mean", window_words(sys.peak_flow_window_s)),
+            if sys.peak_flow_window_s > sm.period.step_s {
+                format!(
+                    "{} (on the clock's minutes; a single {} time step and the top of the flow duration \
+                     curve read higher)",
+                    fmt.flow_m3_min(sys.peak_flow_m3_min),
+                    duration_s(sm.period.step_s)
+                )
+            } else {
+                format!(
+                    "{} (one analysis time step: the log's step is a minute or longer, so the top of the \
+                     flow duration curve is this same figure)",
+                    fmt.flow_m3_min(sys.peak_flow_m3_min)
+                )
+            },
         ),
         (
             "Production / non-production mean flow".into(),
@@ -984,6 +1007,22 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary, logged: &[(i64, i64)]) -
             "mwh": [mwh(input_kwh), mwh(h.annual_heat_rejected_kwh), mwh(h.annual_recoverable_kwh), mwh(h.useful_heat_kwh_per_year)],
         },
     })
+}
+
+#[cfg(test)]
+mod peak_words_tests {
+    use super::{duration_note, window_words};
+
+    #[test]
+    fn a_peak_says_its_window_and_the_duration_curve_agrees_with_it() {
+        // One minute of 60 s, a quarter hour of 900 s; a 15 s step leaves the peak a 1-minute mean
+        // under the curve's top, a 900 s step makes them the same figure.
+        assert_eq!(window_words(60.0), "1-minute");
+        assert_eq!(window_words(900.0), "15-minute");
+        assert_eq!(window_words(30.0), "30-second");
+        assert!(duration_note(15.0).contains("above the peak flow (the highest 1-minute mean"));
+        assert!(duration_note(900.0).ends_with("its top is the highest single step, the peak flow."));
+    }
 }
 
 #[cfg(test)]
