@@ -173,6 +173,8 @@ fn every_share_of_demand_reads_not_enough_data_with_the_reason() {
     let l = &sm["leaks"];
     assert!(l["adopted_leak_flow_m3_min"].as_f64().is_some(), "{l}");
     assert!(l["share_of_mean_demand"].is_null(), "{l}");
+    // Nor the band read from a share ("leaks above 20 % of demand ..."): no share, no band.
+    assert!(l["band"].is_null() && l["band_description"].is_null(), "{l}");
     let est = l["estimates"].as_array().unwrap();
     assert!(!est.is_empty() && est.iter().all(|e| e["share_of_mean_demand"].is_null()), "{l}");
     let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
@@ -185,6 +187,7 @@ fn every_share_of_demand_reads_not_enough_data_with_the_reason() {
     // The report: the Leaks card and the table agree, and say why; no share printed as a number.
     let report = s.get(&format!("/audits/{id}/report")).text;
     assert!(!report.contains("no mean flow to compare with"), "the card claims no mean flow");
+    assert!(!report.contains("% of demand, as in"), "the card names a band of a share it withholds");
     assert!(report.contains(
         "share of demand: not enough data (the logged data are not enough for annual figures (reasons above))"
     ));

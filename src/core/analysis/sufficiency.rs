@@ -388,8 +388,11 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
     s.sufficiency.withheld = w;
 }
 
-/// The adopted leak flow's shares of demand, withheld.
+/// The adopted leak flow's shares of demand, withheld, and the band read from them ("leaks above
+/// 20 % of demand ...") with them.
 fn clear_shares(l: &mut super::figures::LeakFigures) {
+    l.band = None;
+    l.band_description = None;
     for f in [
         &mut l.share_of_mean_demand,
         &mut l.share_of_mean_demand_low,
