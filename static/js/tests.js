@@ -65,9 +65,10 @@
       const r = await A.json("/api/v1/calc/orifice-leak", {
         method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body),
       });
+      // In the reader's units only, as every other output of the page.
       out.textContent = (data.entry.system === "us"
-        ? r.leak_flow_cfm_free_air.toFixed(2) + " cfm free air (" + r.leak_flow_m3_min.toFixed(3) + " m\u00b3/min)"
-        : r.leak_flow_m3_min.toFixed(3) + " m\u00b3/min free air (" + r.leak_flow_cfm_free_air.toFixed(2) + " cfm)") + (r.choked ? ", choked flow" : "");
+        ? r.leak_flow_cfm_free_air.toFixed(2) + " cfm free air"
+        : r.leak_flow_m3_min.toFixed(3) + " m\u00b3/min free air") + (r.choked ? ", choked flow" : "");
     } catch (err) { out.textContent = err.message; }
   });
 
