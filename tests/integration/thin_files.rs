@@ -188,6 +188,9 @@ fn every_share_of_demand_reads_not_enough_data_with_the_reason() {
     let report = s.get(&format!("/audits/{id}/report")).text;
     assert!(!report.contains("no mean flow to compare with"), "the card claims no mean flow");
     assert!(!report.contains("% of demand, as in"), "the card names a band of a share it withholds");
+    // Nor a marginal rate read at a load the data cannot carry.
+    let card = &report[report.find("Marginal specific power (trim machine)").unwrap()..];
+    assert!(card[..200].contains("<div class=\"figure-value\">not enough data</div>"), "{}", &card[..200]);
     assert!(report.contains(
         "share of demand: not enough data (the logged data are not enough for annual figures (reasons above))"
     ));

@@ -526,12 +526,20 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
         },
         FigureView {
             label: "Marginal specific power (trim machine)".into(),
-            value: if sm.part_load_model.is_some() {
+            // Read at the logged load on the trim's part-load curve: with the verdict insufficient
+            // that load is not the plant's, and the rate prices nothing on the page.
+            value: if sm.part_load_model.is_some() && sm.sufficiency.verdict != Verdict::Insufficient {
                 fmt.specific_power(leaks.marginal_kw_per_m3_min)
             } else {
                 NOT_ENOUGH_DATA.into()
             },
-            note: sm.part_load_model.as_ref().map_or_else(String::new, |m| part_load_note(m, fmt)),
+            note: match &sm.part_load_model {
+                Some(_) if sm.sufficiency.verdict == Verdict::Insufficient => {
+                    "the logged data are not enough for annual figures (reasons above)".into()
+                }
+                Some(m) => part_load_note(m, fmt),
+                None => String::new(),
+            },
             estimated: false,
         },
         FigureView {
