@@ -46,7 +46,11 @@ figures add the machines up, so only those hours show the plant as one system.
 - with the verdict insufficient: every annual figure (baseline, heat, compressors, leak cost) and
   every measure, and every share of demand of the leaks (the adopted one and each estimate's);
 - a leak share above 100 %, the adopted one or an estimate's: a leak flow above the mean demand it
-  is compared with means the test and the flow log describe different conditions, and is no share.
+  is compared with means the test and the flow log describe different conditions, and is no share;
+- with any share withheld, the leak band read from it ("leaks above 20 % of demand ...").
+The pages also print "not enough data" for the marginal specific power when the verdict is
+insufficient (it is read at the logged load, which such data do not carry); the summary's JSON
+keeps it.
 */
 
 use crate::core::recommend::{self, Part};
