@@ -162,7 +162,7 @@
   }
 
   function columnRow(c, note) {
-    const q = A.el("select", { class: "q" }, option("", "ignore", !c.quantity),
+    const q = A.el("select", { class: "q" }, option("", "not read", !c.quantity),
       ...Object.keys(UNITS).map((k) => option(k, QUANTITY[k] || k, k === c.quantity)));
     const u = A.el("select", { class: "u" });
     // An audit with one compressor: its power (or current) is that machine's unless said otherwise.

@@ -88,7 +88,7 @@ fn time_cells(sniffed: Option<&crate::ingest::Sniffed>, m: &Mapping) -> Vec<Stri
 fn quantity_label(q: LoggedQuantity) -> &'static str {
     match q {
         LoggedQuantity::Power => "power",
-        LoggedQuantity::Energy => "energy meter (kWh counter)",
+        LoggedQuantity::Energy => "energy counter",
         LoggedQuantity::Current => "current",
         LoggedQuantity::Pressure => "pressure",
         LoggedQuantity::Flow => "flow",
