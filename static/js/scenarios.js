@@ -44,9 +44,18 @@
     if (f.reduce_leaks.value) changes.push({ op: "reduce_leaks", fraction: Number(f.reduce_leaks.value) });
     if (f.order.value.trim()) changes.push({ op: "sequence", order: f.order.value.trim().split(/[\s,]+/) });
     if (f.add_tag.value) {
-      const curve = f.add_curve.dataset.shown !== undefined && f.add_curve.value === f.add_curve.dataset.shown
-        ? JSON.parse(f.add_curve.dataset.stored)
-        : f.add_curve.value.trim() ? f.add_curve.value.trim().split(/\s+/).map((p) => { const [q, kw] = p.split(":").map(Number); return [toStored("free_air_flow", q), kw]; }) : [];
+      // Each point of the speed curve is two numbers, "flow:power"; one that is not is refused here,
+      // in words, rather than sent as nulls the server can only name by its path.
+      const typed = f.add_curve.value.trim() ? f.add_curve.value.trim().split(/\s+/) : [];
+      const bad = typed.find((p) => { const parts = p.split(":"); return parts.length !== 2 || parts.some((x) => x.trim() === "" || !Number.isFinite(Number(x))); });
+      const stored = f.add_curve.dataset.shown !== undefined && f.add_curve.value === f.add_curve.dataset.shown;
+      if (!stored && bad !== undefined) {
+        status.textContent = "Not replayed: change " + (changes.length + 1) + ", the added compressor's speed curve: each point is two numbers, flow and power, as \u201c" + f.add_curve.placeholder.split(" ")[0] + "\u201d; got \u201c" + bad + "\u201d.";
+        f.add_curve.focus();
+        return;
+      }
+      const curve = stored ? JSON.parse(f.add_curve.dataset.stored)
+        : typed.map((p) => { const [q, kw] = p.split(":").map(Number); return [toStored("free_air_flow", q), kw]; });
       changes.push({ op: "add", compressor: { tag: f.add_tag.value, kind: "lubricated_screw", control: f.add_control.value, cooling: "air",
         rated_power_kw: Number(f.add_power.value), rated_flow_m3_min: A.entry.stored(E, f.add_flow), rated_pressure_bar_g: A.entry.stored(E, f.add_pressure), power_curve: curve } });
     }
