@@ -42,3 +42,5 @@ mod treatment;
 mod undo;
 #[path = "integration/walk16.rs"]
 mod walk16;
+#[path = "integration/whatif16.rs"]
+mod whatif16;

@@ -115,8 +115,13 @@ impl App {
     /// Check and replay a scenario body against the audit's present data.
     async fn replay(&self, id: i64, body: serde_json::Value) -> Result<Replayed> {
         let b = self.bundle(id).await?;
-        let scenario: Scenario =
-            crate::site::read_json(body.clone(), "this scenario").map_err(Error::from)?;
+        let scenario: Scenario = crate::site::read_json(body.clone(), "this scenario").map_err(|e| {
+            let serde = e.message.split_once(&format!("{}: ", e.field)).map_or("", |(_, m)| m);
+            Error::field(
+                &e.field,
+                format!("this scenario cannot be read: {}", field_in_words(&e.field, &body, serde)),
+            )
+        })?;
         // Checked before anything is read, so a wrong scenario gets its own error first.
         scenario.check_in(b.audit.site.display_units).map_err(|e| Error::field(&e.field, e.message))?;
         scenario
@@ -187,5 +192,124 @@ fn take_proposal(body: &mut serde_json::Value) -> Result<Option<bool>> {
         None | Some(serde_json::Value::Null) => Ok(None),
         Some(serde_json::Value::Bool(b)) => Ok(Some(b)),
         Some(other) => Err(Error::field("proposal", format!("proposal must be true or false, got {other}"))),
+    }
+}
+
+/// A scenario body's field path as serde names it (`changes[2].compressor.power_curve[0][0]`), in
+/// words with what it should hold and what the body holds there: "change 3 (add a compressor), the
+/// added compressor's speed curve, point 1: each point is two numbers, flow and power; got nothing".
+fn field_in_words(path: &str, body: &serde_json::Value, serde: &str) -> String {
+    // The path's steps: object keys and array indexes.
+    let mut steps: Vec<Result<usize, &str>> = Vec::new();
+    for part in path.split('.') {
+        let mut pieces = part.split('[');
+        if let Some(key) = pieces.next().filter(|k| !k.is_empty()) {
+            steps.push(Err(key));
+        }
+        for ix in pieces {
+            match ix.trim_end_matches(']').parse() {
+                Ok(i) => steps.push(Ok(i)),
+                Err(_) => return format!("{path}: {serde}"),
+            }
+        }
+    }
+    let mut at = Some(body);
+    let mut words: Vec<String> = Vec::new();
+    let mut expect: Option<&str> = None;
+    let mut prev: Option<&str> = None;
+    for step in &steps {
+        match *step {
+            Ok(i) if prev == Some("changes") => {
+                let op = at.and_then(|v| v.get(i)).and_then(|c| c.get("op")).and_then(|o| o.as_str());
+                let what = match op {
+                    Some("add") => " (add a compressor)",
+                    Some("remove") => " (remove a compressor)",
+                    Some("set_pressure") => " (target header pressure)",
+                    Some("add_storage") => " (add storage)",
+                    Some("reduce_leaks") => " (reduce leaks)",
+                    Some("sequence") => " (sequence)",
+                    _ => "",
+                };
+                words.push(format!("change {}{what}", i + 1));
+            }
+            Ok(i) if prev == Some("power_curve") => {
+                words.push(format!("point {}", i + 1));
+                expect = Some("each point is two numbers, flow and power");
+            }
+            Ok(i) if prev == Some("order") => words.push(format!("tag {}", i + 1)),
+            Ok(_) => {}
+            Err(key) => {
+                let (w, e) = match key {
+                    "changes" => ("", None),
+                    "compressor" => ("", None),
+                    "name" => ("the name", Some("a name")),
+                    "implementation_cost" => ("the installed cost", Some("a number")),
+                    "op" => ("the kind of change", None),
+                    "tag" => ("the tag", Some("a tag")),
+                    "power_curve" => {
+                        ("speed curve", Some("a list of points, each two numbers, flow and power"))
+                    }
+                    "rated_power_kw" => ("rated power", Some("a number")),
+                    "rated_flow_m3_min" => ("free air delivery", Some("a number")),
+                    "rated_pressure_bar_g" => ("rated pressure", Some("a number")),
+                    "target_bar_g" => ("the target pressure", Some("a number")),
+                    "volume_m3" => ("the added storage", Some("a number")),
+                    "fraction" => ("the leak reduction", Some("a number from 0 to 1")),
+                    "order" => ("the sequence", Some("a list of tags")),
+                    other => (other, None),
+                };
+                if !w.is_empty() {
+                    let inside = prev == Some("compressor") || steps.first() == Some(&Err("compressor"));
+                    words.push(if inside { format!("the added compressor's {w}") } else { w.to_string() });
+                }
+                expect = e;
+            }
+        }
+        prev = (*step).err();
+        at = at.and_then(|v| match *step {
+            Ok(i) => v.get(i),
+            Err(k) => v.get(k),
+        });
+    }
+    let got = match at {
+        None | Some(serde_json::Value::Null) => "nothing (empty, or not a number)".to_string(),
+        Some(serde_json::Value::String(t)) => format!("\u{201c}{t}\u{201d}"),
+        Some(v) => v.to_string(),
+    };
+    let place = if words.is_empty() { path.to_string() } else { words.join(", ") };
+    match expect {
+        Some(e) => format!("{place}: {e}; got {got}"),
+        None => format!("{place}: {serde}"),
+    }
+}
+
+#[cfg(test)]
+mod words_tests {
+    use super::field_in_words;
+    use serde_json::json;
+
+    #[test]
+    fn a_speed_curve_point_is_named_in_words() {
+        let body = json!({"name": "x", "changes": [{"op": "remove", "tag": "C1"}, {"op": "reduce_leaks", "fraction": 0.2},
+            {"op": "add", "compressor": {"tag": "V9", "power_curve": [[null, 15.0]]}}]});
+        let w = field_in_words(
+            "changes[2].compressor.power_curve[0][0]",
+            &body,
+            "invalid type: null, expected f64",
+        );
+        assert_eq!(
+            w,
+            "change 3 (add a compressor), the added compressor's speed curve, point 1: each point is two \
+             numbers, flow and power; got nothing (empty, or not a number)"
+        );
+        let w = field_in_words(
+            "changes[1].fraction",
+            &json!({"changes": [{}, {"op": "reduce_leaks", "fraction": "half"}]}),
+            "",
+        );
+        assert_eq!(
+            w,
+            "change 2 (reduce leaks), the leak reduction: a number from 0 to 1; got \u{201c}half\u{201d}"
+        );
     }
 }

@@ -6,7 +6,6 @@
   if (!data) return;
   const form = document.getElementById("scenario-form");
   const status = document.getElementById("scenario-status");
-  const nameKey = "airledger-scenario-name-" + data.audit_id;
   const tz = data.timezone || "UTC";
   const E = data.entry;
   // Stored (SI) to the reader's unit and back, through the page data's table (core::entry).
@@ -34,10 +33,6 @@
       }
     }
     if (edit.implementation_cost !== null && edit.implementation_cost !== undefined) f.implementation_cost.value = edit.implementation_cost;
-  } else {
-    // The name typed for the last replay stays in the box after the page reloads.
-    const kept = sessionStorage.getItem(nameKey);
-    if (kept) form.elements.name.value = kept;
   }
   form.addEventListener("submit", async (e) => {
     e.preventDefault();
@@ -49,17 +44,29 @@
     if (f.reduce_leaks.value) changes.push({ op: "reduce_leaks", fraction: Number(f.reduce_leaks.value) });
     if (f.order.value.trim()) changes.push({ op: "sequence", order: f.order.value.trim().split(/[\s,]+/) });
     if (f.add_tag.value) {
-      const curve = f.add_curve.dataset.shown !== undefined && f.add_curve.value === f.add_curve.dataset.shown
-        ? JSON.parse(f.add_curve.dataset.stored)
-        : f.add_curve.value.trim() ? f.add_curve.value.trim().split(/\s+/).map((p) => { const [q, kw] = p.split(":").map(Number); return [toStored("free_air_flow", q), kw]; }) : [];
+      // Each point of the speed curve is two numbers, "flow:power"; one that is not is refused here,
+      // in words, rather than sent as nulls the server can only name by its path.
+      const typed = f.add_curve.value.trim() ? f.add_curve.value.trim().split(/\s+/) : [];
+      const bad = typed.find((p) => { const parts = p.split(":"); return parts.length !== 2 || parts.some((x) => x.trim() === "" || !Number.isFinite(Number(x))); });
+      const stored = f.add_curve.dataset.shown !== undefined && f.add_curve.value === f.add_curve.dataset.shown;
+      if (!stored && bad !== undefined) {
+        status.textContent = "Not replayed: change " + (changes.length + 1) + ", the added compressor's speed curve: each point is two numbers, flow and power, as \u201c" + f.add_curve.placeholder.split(" ")[0] + "\u201d; got \u201c" + bad + "\u201d.";
+        f.add_curve.focus();
+        return;
+      }
+      const curve = stored ? JSON.parse(f.add_curve.dataset.stored)
+        : typed.map((p) => { const [q, kw] = p.split(":").map(Number); return [toStored("free_air_flow", q), kw]; });
       changes.push({ op: "add", compressor: { tag: f.add_tag.value, kind: "lubricated_screw", control: f.add_control.value, cooling: "air",
         rated_power_kw: Number(f.add_power.value), rated_flow_m3_min: A.entry.stored(E, f.add_flow), rated_pressure_bar_g: A.entry.stored(E, f.add_pressure), power_curve: curve } });
     }
+    // An empty name is the baseline's when nothing changes (the box only suggests it, so typing
+    // a name never runs into a prefilled one).
+    const name = f.name.value.trim() || (changes.length ? "" : "baseline");
+    if (!name) { status.textContent = "Not replayed: give the scenario a name."; f.name.focus(); return; }
     status.textContent = "Replaying the logged demand\u2026";
     try {
-      sessionStorage.setItem(nameKey, f.name.value);
       await A.json("/api/v1/audits/" + data.audit_id + "/scenarios" + (edit ? "/" + edit.id : ""), {
-        method: edit ? "PUT" : "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(Object.assign({ name: f.name.value, changes: changes },
+        method: edit ? "PUT" : "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(Object.assign({ name: name, changes: changes },
           f.implementation_cost.value ? { implementation_cost: Number(f.implementation_cost.value) } : {})),
       });
       window.location.assign("/audits/" + data.audit_id + "/scenarios");

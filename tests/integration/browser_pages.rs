@@ -199,3 +199,54 @@ fn a_refused_field_test_keeps_its_fields_and_shows_the_refusal_beside_the_field(
     assert_eq!(kept, "660|90|100|60");
     b.screenshot("field-test-refused");
 }
+
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn a_typed_name_is_shown_once_and_a_bad_speed_curve_is_refused_in_words() {
+    let s = Server::demo();
+    let b = Browser::start();
+    b.set_window(1280, 900);
+    b.goto(&s.url("/audits/1/scenarios"));
+    wait_for(&b, "/audits/1/scenarios");
+    // A person types "baseline" at the end of whatever the box holds, and replays no change.
+    b.js(
+        "const f = document.getElementById('scenario-form'); f.elements.name.value += 'baseline'; f.requestSubmit();",
+        json!([]),
+    );
+    let ok = wait_until(Duration::from_secs(60), || {
+        b.js("return document.querySelectorAll('#scenario-table tbody[data-scenario]').length", json!([]))
+            == json!(1)
+    });
+    assert!(
+        ok,
+        "no replay stored: {}",
+        b.js_str("return document.getElementById('scenario-status')?.textContent || ''")
+    );
+    b.settle();
+    let shown = b.js_str(
+        "return document.querySelector('#scenario-table .scenario-name strong').textContent + '|' +
+           Chart.getChart(document.getElementById('chart-scenarios')).data.datasets.map(d => d.label).join(',') + '|' +
+           document.querySelector('#scenario-table tr.scenario-figures').cells[0].textContent",
+    );
+    assert_eq!(shown, "baseline|baseline|1", "table name | legend | row number");
+    // A speed curve typed as "zz" in the third change: refused in the page, in words.
+    b.js(
+        "const e = document.getElementById('scenario-form').elements; e.name.value = 'with a VSD';
+         e.remove.value = 'C1'; e.reduce_leaks.value = '0.2'; e.add_tag.value = 'V9'; e.add_power.value = '45';
+         e.add_flow.value = '8'; e.add_curve.value = '2:15 zz'; document.getElementById('scenario-form').requestSubmit();",
+        json!([]),
+    );
+    b.settle();
+    let status = b.js_str("return document.getElementById('scenario-status').textContent");
+    assert!(
+        status.contains(
+            "change 3, the added compressor's speed curve: each point is two numbers, flow and power"
+        ) && status.contains("got \u{201c}zz\u{201d}"),
+        "{status}"
+    );
+    let stored = s.get("/api/v1/audits/1/scenarios").json();
+    assert_eq!(stored["scenarios"].as_array().map(Vec::len), Some(1), "nothing more stored: {stored}");
+}
