@@ -48,6 +48,7 @@ figures add the machines up, so only those hours show the plant as one system.
 - a leak share above 100 %, the adopted one or an estimate's: a leak flow above the mean demand it
   is compared with means the test and the flow log describe different conditions, and is no share;
 - with any share withheld, the leak band read from it ("leaks above 20 % of demand ...").
+
 The pages also print "not enough data" for the marginal specific power when the verdict is
 insufficient (it is read at the logged load, which such data do not carry); the summary's JSON
 keeps it.
