@@ -102,26 +102,26 @@ fn error_markers_and_text_are_missing_values_counted_per_column() {
 
 #[test]
 fn interval_timestamps_are_stamped_by_the_end_the_mapping_names() {
-    let file = b"\"Time (CET/CEST)\",\"Load [MW]\"\n\"01.01.2021 00:00 - 01.01.2021 00:15\",\"41200\"\n\
-        \"01.01.2021 00:15 - 01.01.2021 00:30\",\"41090\"\n";
+    let file = b"\"Interval (CET/CEST)\",\"Load [MW]\"\n\"01.01.2026 00:00 - 01.01.2026 00:15\",\"41200\"\n\
+        \"01.01.2026 00:15 - 01.01.2026 00:30\",\"41090\"\n";
     let json = |end: &str| {
         format!(
-            r#"{{"timestamp": {{"column": "Time (CET/CEST)", "format": "%d.%m.%Y %H:%M", "timezone": "Europe/Berlin",
+            r#"{{"timestamp": {{"column": "Interval (CET/CEST)", "format": "%d.%m.%Y %H:%M", "timezone": "Europe/Berlin",
                 "interval": "{end}"}},
                 "columns": [{{"column": "Load [MW]", "quantity": "power", "unit": "MW", "compressor": "G"}}]}}"#
         )
     };
     let (r, got) = parse(file, &mapping(&json("start"))).unwrap();
     // 00:00 CET = 23:00 UTC the day before (UTC+1 in winter); MW to W by 1e6 (SI prefix M).
-    assert_eq!(got[0], (0, ms("2020-12-31T23:00:00Z"), 41_200e6));
-    assert_eq!(r.first_ms, Some(ms("2020-12-31T23:00:00Z")));
+    assert_eq!(got[0], (0, ms("2025-12-31T23:00:00Z"), 41_200e6));
+    assert_eq!(r.first_ms, Some(ms("2025-12-31T23:00:00Z")));
     let (_, got) = parse(file, &mapping(&json("end"))).unwrap();
-    assert_eq!(got[0].1, ms("2020-12-31T23:15:00Z"));
-    assert_eq!(got[1].1, ms("2020-12-31T23:30:00Z"));
+    assert_eq!(got[0].1, ms("2025-12-31T23:15:00Z"));
+    assert_eq!(got[1].1, ms("2025-12-31T23:30:00Z"));
     // A cell that is no interval names its line.
-    let bad = b"\"Time (CET/CEST)\",\"Load [MW]\"\n\"01.01.2021 00:00\",\"1\"\n";
+    let bad = b"\"Interval (CET/CEST)\",\"Load [MW]\"\n\"01.01.2026 00:00\",\"1\"\n";
     let e = parse(bad, &mapping(&json("start"))).unwrap_err();
-    assert_eq!((e.line, e.column.as_deref()), (Some(2), Some("Time (CET/CEST)")));
+    assert_eq!((e.line, e.column.as_deref()), (Some(2), Some("Interval (CET/CEST)")));
 }
 
 #[test]

@@ -90,7 +90,7 @@ fn a_units_row_and_an_aggregation_row_under_quoted_names() {
 #[test]
 fn a_blank_line_between_header_and_data_is_never_the_header() {
     let mut file = b"Messung\tHalle 3\r\n\r\nDatum\t05.06.2026\r\n\r\n\
-        Datum\tZeit\tVolumenstrom [l/s]\tT [\xb0C]\t\r\n\r\n"
+        Datum\tZeit\tLuftstrom [l/s]\tT [\xb0C]\t\r\n\r\n"
         .to_vec();
     for i in 0..20 {
         let v = if i % 3 == 0 { "#-1".to_string() } else { format!("{},{}", i, i % 10) };
@@ -100,7 +100,7 @@ fn a_blank_line_between_header_and_data_is_never_the_header() {
     assert_eq!((s.delimiter.as_str(), s.decimal.as_str()), ("\t", ","));
     assert_eq!((s.header_line, s.first_data_line), (5, 7));
     assert_eq!(s.markers_seen, ["#-1"]);
-    let flow = col(&s, "Volumenstrom [l/s]");
+    let flow = col(&s, "Luftstrom [l/s]");
     assert!(flow.numeric);
     assert_eq!((flow.quantity.as_deref(), flow.unit.as_deref()), (Some("flow"), Some("l_s")));
     let r = import(&file, &s);
@@ -112,7 +112,7 @@ fn a_blank_line_between_header_and_data_is_never_the_header() {
 fn a_three_row_header_takes_the_lowest_full_row_for_names() {
     let mut file = b"Printed on:;02.11.2026\r\nInstrument;probe 4\r\n\r\nLogged values:\r\nCount;20\r\n\r\n\
         ;;Probe: EC;Probe: T;\r\n;Elapsed;Serial 5501;Serial 5501;\r\n\
-        Date and Time;Seconds;Specific Conductance (\xb5S);Temperature (C);\r\n"
+        Date & time;Seconds;Specific Conductance (\xb5S);Temperature (C);\r\n"
         .to_vec();
     for i in 0..20 {
         file.extend_from_slice(
@@ -142,7 +142,7 @@ fn names_and_bracketed_units_rows_after_a_long_preamble() {
         file.extend_from_slice(format!("PARAM {i:02}          : {}\r\n", i * 3).as_bytes());
     }
     file.extend_from_slice(
-        b"\\DATA\r\n\\*\tDATE_TIME\tFLOW_VOL\tC_SOUND\tGAIN\t\r\n\\#\t\t[m3/h]\t[m/s]\t[dB]\t\r\n",
+        b"\\DATA\r\n\\*\tSTAMP_AT\tFLOW_VOL\tC_SOUND\tGAIN\t\r\n\\#\t\t[m3/h]\t[m/s]\t[dB]\t\r\n",
     );
     for i in 0..30 {
         file.extend_from_slice(format!("A\t14.05.2026 12:25:{i:02}\t87,{i}\t1482,3\t72\t\r\n").as_bytes());
@@ -159,7 +159,7 @@ fn names_and_bracketed_units_rows_after_a_long_preamble() {
 
 #[test]
 fn interval_timestamps_are_proposed_with_their_start_and_the_named_zone() {
-    let mut file = b"\"Time (CET/CEST)\",\"Feeder load [MW] - west\"\n".to_vec();
+    let mut file = b"\"Interval (CET/CEST)\",\"Feeder load [MW] - west\"\n".to_vec();
     for i in 0..20 {
         let (a, b) = (i * 15, i * 15 + 15);
         file.extend_from_slice(

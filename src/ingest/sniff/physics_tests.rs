@@ -50,7 +50,7 @@ fn names_of_apparent_reactive_and_active_power() {
         assert_eq!(electrical(n), Some(Electrical::NotActive), "{n}");
         assert_eq!(quantity_word(n), None, "{n}");
     }
-    for n in ["PowerP_B_low", "P_total", "Ptot", "P L3", "Active power", "real_power", "ActiveEnergy_C"] {
+    for n in ["PowerP_B_low", "P_total", "Ptot", "P L3", "Active power", "real_power", "ActiveEnergy_L3"] {
         assert_eq!(electrical(n), Some(Electrical::Active), "{n}");
     }
     assert_eq!(quantity_word("PowerP_C_mean"), Some("power"));
