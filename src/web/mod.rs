@@ -147,18 +147,18 @@ pub fn build_app(state: AppState) -> Router {
     Router::new()
         .route("/", get(pages::index::index))
         .route("/login", get(access::login_page).post(access::login))
-        .route("/audits", post(pages::index::create_audit))
+        .route("/audits", get(pages::back_to_form).post(pages::index::create_audit))
         .route("/audits/{id}", get(pages::audit::audit))
-        .route("/audits/{id}/site", post(pages::audit::save_site))
-        .route("/audits/{id}/compressors", post(pages::audit::add_compressor))
-        .route("/audits/{id}/compressors/{cid}", post(pages::edit::save_compressor))
+        .route("/audits/{id}/site", get(pages::back_to_form).post(pages::audit::save_site))
+        .route("/audits/{id}/compressors", get(pages::back_to_form).post(pages::audit::add_compressor))
+        .route("/audits/{id}/compressors/{cid}", get(pages::back_to_form).post(pages::edit::save_compressor))
         .route("/audits/{id}/compressors/{cid}/edit", get(pages::edit::edit_compressor))
         .route(
             "/audits/{id}/compressors/{cid}/delete",
             get(pages::confirm::ask_compressor).post(pages::confirm::delete_compressor),
         )
-        .route("/audits/{id}/receivers", post(pages::audit::add_receiver))
-        .route("/audits/{id}/receivers/{rid}", post(pages::edit::save_receiver))
+        .route("/audits/{id}/receivers", get(pages::back_to_form).post(pages::audit::add_receiver))
+        .route("/audits/{id}/receivers/{rid}", get(pages::back_to_form).post(pages::edit::save_receiver))
         .route("/audits/{id}/receivers/{rid}/edit", get(pages::edit::edit_receiver))
         .route(
             "/audits/{id}/receivers/{rid}/delete",
@@ -173,17 +173,23 @@ pub fn build_app(state: AppState) -> Router {
             "/audits/{id}/tests/{tid}/delete",
             get(pages::confirm::ask_field_test).post(pages::confirm::delete_field_test),
         )
-        .route("/audits/{id}/scenarios/{sid}/proposal", post(pages::scenarios::set_proposal))
-        .route("/audits/{id}/scenarios/{sid}/rename", post(pages::scenarios::rename))
+        .route(
+            "/audits/{id}/scenarios/{sid}/proposal",
+            get(pages::back_to_form).post(pages::scenarios::set_proposal),
+        )
+        .route("/audits/{id}/scenarios/{sid}/rename", get(pages::back_to_form).post(pages::scenarios::rename))
         .route(
             "/audits/{id}/scenarios/{sid}/delete",
             get(pages::confirm::ask_scenario).post(pages::confirm::delete_scenario),
         )
         .route("/audits/{id}/upload", get(pages::upload::upload))
         .route("/audits/{id}/treatment", get(pages::treatment::treatment))
-        .route("/audits/{id}/treatment/{list}", post(pages::treatment::add))
-        .route("/audits/{id}/treatment/{list}/{iid}/delete", post(pages::treatment::remove))
-        .route("/audits/{id}/treatment/{list}/{iid}", post(pages::treatment::update))
+        .route("/audits/{id}/treatment/{list}", get(pages::back_to_form).post(pages::treatment::add))
+        .route(
+            "/audits/{id}/treatment/{list}/{iid}/delete",
+            get(pages::back_to_form).post(pages::treatment::remove),
+        )
+        .route("/audits/{id}/treatment/{list}/{iid}", get(pages::back_to_form).post(pages::treatment::update))
         .route("/audits/{id}/report", get(pages::report::report))
         .route("/audits/{id}/findings", get(pages::findings::findings))
         .route("/audits/{id}/findings.css", get(pages::findings::print_css))

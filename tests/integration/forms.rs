@@ -297,3 +297,63 @@ fn a_what_if_target_below_the_low_limit_is_refused_in_the_readers_units() {
         assert!((min - want_min).abs() < 1e-6, "{units}: min {min} against {want_min}");
     }
 }
+
+/// A refused form answers at the URL it was posted to; opening that address again (Enter in the
+/// address bar, a bookmark) is a GET on a POST-only route. It must lead back to the form's page, not
+/// to a bare 405 with an empty body (found on a walk of the compressor and site forms).
+#[test]
+fn a_refused_forms_address_opened_again_leads_back_to_its_form() {
+    let s = Server::start();
+    let id = chicago_audit(&s, "us");
+    let r = s.post_form(&format!("/audits/{id}/compressors"), &[("tag", "C2"), ("rated_power_kw", "-5")]);
+    assert_eq!(r.status, 422, "{}", r.text);
+    let cid = s.get(&format!("/api/v1/audits/{id}")).json()["compressors"][0]["id"].as_i64().unwrap();
+    for (path, page) in [
+        (format!("/audits/{id}/compressors"), "<h2>Compressors</h2>"),
+        (format!("/audits/{id}/site"), "<h2>Site</h2>"),
+        (format!("/audits/{id}/receivers"), "<h2>Storage</h2>"),
+        (format!("/audits/{id}/compressors/{cid}"), "Edit compressor"),
+        (format!("/audits/{id}/treatment/dryers"), "<h2>Add a dryer</h2>"),
+        (format!("/audits/{id}/scenarios/1/rename"), "<h2>Scenarios</h2>"),
+        ("/audits".to_string(), "<h2>New audit</h2>"),
+    ] {
+        let r = s.get(&path);
+        assert_eq!(r.status, 200, "GET {path}: {}", r.text);
+        assert!(r.text.contains(page), "GET {path} did not lead to the page with {page}");
+    }
+}
+
+/// A refusal is read beside the form's box, so it says the box's meaning in words, never the API's
+/// field name or a code range ("unloaded_power_fraction must be ...", "within 0..53" were found on
+/// a walk); a share typed as a percentage is answered with the form the box wants.
+#[test]
+fn form_refusals_name_their_boxes_in_words() {
+    let s = Server::start();
+    let id = chicago_audit(&s, "si");
+    let r = s.post_form(
+        &format!("/audits/{id}/compressors"),
+        &[
+            ("tag", "C2"),
+            ("kind", "lubricated_screw"),
+            ("control", "load_unload"),
+            ("cooling", "air"),
+            ("rated_power_kw", "55"),
+            ("rated_flow_m3_min", "9.5"),
+            ("rated_pressure_bar_g", "7.5"),
+            ("unloaded_power_fraction", "25"),
+        ],
+    );
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert!(
+        r.text.contains(
+            "the unloaded power, as a fraction of full-load power (0.25 for 25 %), must be a number from 0 to 0.9, got 25"
+        ),
+        "{}",
+        r.text
+    );
+    assert!(!r.text.contains("unloaded_power_fraction must"), "{}", r.text);
+    let r = s.post_form(&format!("/audits/{id}/site"), &[("operating_weeks_per_year", "60")]);
+    assert_eq!(r.status, 422, "{}", r.text);
+    assert!(r.text.contains("the operating weeks per year must be above 0 and at most 53, got 60"), "{}", r.text);
+    assert!(!r.text.contains("0..53"), "{}", r.text);
+}

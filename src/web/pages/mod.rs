@@ -83,6 +83,25 @@ pub async fn not_found() -> PageError {
     PageError(AppError::NotFound("there is no such page".into()))
 }
 
+/// The page that holds the form a URL receives: a refused form answers at the URL it was posted
+/// to, so opening that address again (reload from the address bar, a bookmark) is a GET on a
+/// POST-only route. It goes back to the form's page instead of a bare 405.
+pub(crate) fn form_page_of(path: &str) -> String {
+    let parts: Vec<&str> = path.trim_matches('/').split('/').collect();
+    match parts.as_slice() {
+        ["audits", id, "compressors" | "receivers", item] => format!("/audits/{id}/{}/{item}/edit", parts[2]),
+        ["audits", id, "scenarios", ..] => format!("/audits/{id}/scenarios"),
+        ["audits", id, "treatment", ..] => format!("/audits/{id}/treatment"),
+        ["audits", id, ..] => format!("/audits/{id}"),
+        _ => "/".to_string(),
+    }
+}
+
+/// A GET on a form's POST-only URL: see [`form_page_of`].
+pub async fn back_to_form(uri: axum::http::Uri) -> axum::response::Redirect {
+    axum::response::Redirect::to(&form_page_of(uri.path()))
+}
+
 /// The page an upload's delete or remap comes back to: the upload page when it was started there
 /// (`from=upload`), else the audit's page.
 pub(crate) fn files_page(id: i64, from: Option<&str>) -> String {
