@@ -56,7 +56,15 @@ fn within(field: &str, v: f64, lo: f64, lo_open: bool, hi: f64, unit: &str) -> R
         return Ok(v);
     }
     let from = if lo_open { format!("above {lo}") } else { format!("{lo}") };
-    Err(FieldError::new(field, format!("{field} must be a number from {from} to {hi}{unit}, got {v}")))
+    let words = match field {
+        "electricity_price_per_kwh" => "the electricity price",
+        "heating_fuel_price_per_kwh" => "the heating fuel's price",
+        "annual_space_heat_kwh" => "the space's heat need per year",
+        "grid_co2_kg_per_kwh" => "the grid's CO₂ per kWh",
+        "fuel_co2_kg_per_kwh" => "the fuel's CO₂ per kWh",
+        other => other,
+    };
+    Err(FieldError::new(field, format!("{words} must be a number from {from} to {hi}{unit}, got {v}")))
 }
 
 /// Read a JSON body into `T`, naming the field at fault: a type error names the field whose value
@@ -437,7 +445,7 @@ impl SiteRecord {
             if !(0.0..=53.0).contains(&finite("operating_weeks_per_year", v)?) || v == 0.0 {
                 return Err(FieldError::new(
                     "operating_weeks_per_year",
-                    format!("operating weeks must be within 0..53, got {v}"),
+                    format!("the operating weeks per year must be above 0 and at most 53, got {v}"),
                 ));
             }
             self.operating_weeks_per_year = v;
@@ -446,7 +454,7 @@ impl SiteRecord {
             if !(0.0..=8784.0).contains(&finite("operating_hours_per_year", v)?) {
                 return Err(FieldError::new(
                     "operating_hours_per_year",
-                    format!("operating hours must be within 0..8784 h, got {v}"),
+                    format!("the operating hours per year must be from 0 to 8784 h, got {v} h"),
                 ));
             }
             self.operating_hours_per_year = if v > 0.0 { Some(v) } else { None };
@@ -464,7 +472,7 @@ impl SiteRecord {
             if !(v > 0.0 && v <= 1.2) {
                 return Err(FieldError::new(
                     "heater_efficiency",
-                    format!("heater efficiency must be within 0..1.2, got {v}"),
+                    format!("the heater efficiency must be above 0 and at most 1.2, got {v}"),
                 ));
             }
             self.heater_efficiency = v;

@@ -86,7 +86,30 @@ fn within(field: &str, v: f64, lo: f64, lo_open: bool, hi: f64, unit: &str) -> R
         return Ok(v);
     }
     let from = if lo_open { format!("above {lo}") } else { format!("{lo}") };
-    err(field, format!("{field} must be a number from {from} to {hi}{unit}, got {v}"))
+    let words = field_words(field);
+    err(field, format!("{words} must be a number from {from} to {hi}{unit}, got {v}"))
+}
+
+/// A data-sheet field as the form's label says it: refusals are read beside the form's boxes, so
+/// they never quote the API's field names.
+pub fn field_words(field: &str) -> &str {
+    match field {
+        "tag" => "the tag",
+        "rated_power_kw" => "the package power at rated pressure",
+        "rated_flow_m3_min" => "the free air delivery",
+        "rated_pressure_bar_g" => "the rated pressure",
+        "max_pressure_bar_g" => "the maximum pressure",
+        "nameplate_motor_kw" => "the motor's nameplate power",
+        "loaded_level_kw" => "the loaded power level",
+        "unloaded_level_kw" => "the unloaded power level",
+        "no_load_power_kw" => "the no-load power",
+        "unloaded_power_fraction" => "the unloaded power, as a fraction of full-load power (0.25 for 25 %),",
+        "min_speed_fraction" => "the minimum speed, as a fraction of full speed (0.3 for 30 %),",
+        "stages" => "the number of stages",
+        "year" => "the year",
+        "power_curve" => "the power curve",
+        other => other,
+    }
 }
 
 /// A compressor as posted (module doc): the API.md fields, the data-sheet additions and blanks.
@@ -179,19 +202,31 @@ impl DataSheetInput {
         }
         let tag = self.tag.trim();
         if tag.is_empty() || tag.chars().count() > 32 {
-            take(&mut errs, err::<()>("tag", format!("tag must be 1 to 32 characters, got {:?}", self.tag)));
+            take(
+                &mut errs,
+                err::<()>("tag", format!("the tag must be 1 to 32 characters, got {:?}", self.tag)),
+            );
         }
         let kind = CompressorKind::parse(&self.kind);
         if kind.is_none() {
-            take(&mut errs, err::<()>("kind", format!("unknown compressor kind {:?}", self.kind)));
+            take(
+                &mut errs,
+                err::<()>("kind", format!("the kind {:?} is not one this form offers", self.kind)),
+            );
         }
         let control = Control::parse(&self.control);
         if control.is_none() {
-            take(&mut errs, err::<()>("control", format!("unknown control {:?}", self.control)));
+            take(
+                &mut errs,
+                err::<()>("control", format!("the control {:?} is not one this form offers", self.control)),
+            );
         }
         let cooling = Cooling::parse(&self.cooling);
         if cooling.is_none() {
-            take(&mut errs, err::<()>("cooling", format!("unknown cooling {:?}", self.cooling)));
+            take(
+                &mut errs,
+                err::<()>("cooling", format!("the cooling {:?} is not one this form offers", self.cooling)),
+            );
         }
         let positive = |field: &str, v: f64, max: f64, unit: &str| within(field, v, 0.0, true, max, unit);
         let rated_power_kw =
@@ -253,7 +288,7 @@ impl DataSheetInput {
                     err::<()>(
                         "unloaded_level_kw",
                         format!(
-                            "unloaded_level_kw must be above 0 and below the loaded level {hi} kW, got {kw}"
+                            "the unloaded power level must be above 0 kW and below the loaded level, {hi} kW, got {kw} kW"
                         ),
                     ),
                 );
@@ -261,7 +296,10 @@ impl DataSheetInput {
         }
         let stages = self.stages.unwrap_or(1);
         if !(1..=6).contains(&stages) {
-            take(&mut errs, err::<()>("stages", format!("stages must be 1 to 6, got {stages}")));
+            take(
+                &mut errs,
+                err::<()>("stages", format!("the number of stages must be 1 to 6, got {stages}")),
+            );
         }
         if let Some(sp) = self.rated_specific_power_kw_per_m3_min {
             take(
@@ -278,7 +316,7 @@ impl DataSheetInput {
         }
         if let Some(y) = self.year {
             if !(1900..=2100).contains(&y) {
-                take(&mut errs, err::<()>("year", format!("year must be within 1900..2100, got {y}")));
+                take(&mut errs, err::<()>("year", format!("the year must be from 1900 to 2100, got {y}")));
             }
         }
         let mut curve = self.power_curve.clone();
@@ -300,8 +338,8 @@ impl DataSheetInput {
                 err::<()>(
                     "power_curve",
                     format!(
-                        "power curve points must be [flow_m3_min, kw] with flow 0 to {MAX_RATED_FLOW_M3_MIN} \
-                         and power 0 to {MAX_RATED_POWER_KW}"
+                        "the power curve's points must each have a flow from 0 to {MAX_RATED_FLOW_M3_MIN} m³/min \
+                         and a power from 0 to {MAX_RATED_POWER_KW} kW"
                     ),
                 ),
             );
@@ -312,7 +350,10 @@ impl DataSheetInput {
             if !(f.is_finite() && f > 0.0 && f < 1.0) {
                 take(
                     &mut errs,
-                    err::<()>("min_speed_fraction", format!("min_speed_fraction must lie in 0..1, got {f}")),
+                    err::<()>(
+                        "min_speed_fraction",
+                        format!("{} must be above 0 and below 1, got {f}", field_words("min_speed_fraction")),
+                    ),
                 );
             }
         }
@@ -344,7 +385,7 @@ impl DataSheetInput {
                     err::<()>(
                         "no_load_power_kw",
                         format!(
-                            "no_load_power_kw {kw} kW and unloaded_power_fraction {f} ({:.2} kW) disagree: \
+                            "the no-load power, {kw} kW, and the unloaded fraction, {f} ({:.2} kW), disagree: \
                              give one of them",
                             f * rated
                         ),
@@ -412,6 +453,53 @@ impl DataSheetInput {
     }
 }
 
+/// Where a stored compressor's no-load power comes from, for the words beside it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum NoLoadBasis {
+    /// The data sheet's no-load kW, as typed.
+    Given,
+    /// A fraction of full-load power, as typed.
+    Fraction,
+    /// The kind's typical fraction (the module doc's table), nothing typed.
+    TypicalForKind,
+    /// A variable-speed machine's curve at its minimum speed, nothing typed.
+    CurveAtMinimumSpeed,
+}
+
+impl NoLoadBasis {
+    /// What a blank no-load field of `spec` would have given, against what is stored.
+    pub fn of(spec: &CompressorSpec) -> Self {
+        if spec.no_load_power_kw.is_some() {
+            return Self::Given;
+        }
+        let blank = DataSheetInput {
+            unloaded_power_fraction: None,
+            no_load_power_kw: None,
+            ..DataSheetInput::of(spec)
+        };
+        match blank.validate().map(|s| s.unloaded_power_fraction) {
+            Ok(f) if (f - spec.unloaded_power_fraction).abs() <= 1e-12 => {
+                if spec.control == Control::VariableSpeed {
+                    Self::CurveAtMinimumSpeed
+                } else {
+                    Self::TypicalForKind
+                }
+            }
+            _ => Self::Fraction,
+        }
+    }
+
+    /// The words beside the figure; none when the kW was typed.
+    pub fn words(self) -> &'static str {
+        match self {
+            Self::Given => "",
+            Self::Fraction => "from the fraction",
+            Self::TypicalForKind => "typical for the kind",
+            Self::CurveAtMinimumSpeed => "the curve at minimum speed",
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -427,6 +515,33 @@ mod tests {
             rated_pressure_bar_g: 7.5,
             ..Default::default()
         }
+    }
+
+    #[test]
+    fn the_no_load_basis_names_where_a_blank_field_took_its_power() {
+        let basis = |d: DataSheetInput| NoLoadBasis::of(&d.validate().unwrap());
+        assert_eq!(basis(c2()), NoLoadBasis::TypicalForKind);
+        assert_eq!(
+            basis(DataSheetInput { unloaded_power_fraction: Some(0.3), ..c2() }),
+            NoLoadBasis::Fraction
+        );
+        assert_eq!(basis(DataSheetInput { no_load_power_kw: Some(11.0), ..c2() }), NoLoadBasis::Given);
+        // A variable-speed machine with a curve: the blank takes the curve's lowest point (7 kW of
+        // 22 kW here), which is not "a fraction" anyone typed.
+        let vsd = DataSheetInput {
+            control: "variable_speed".into(),
+            rated_power_kw: 22.0,
+            rated_flow_m3_min: 3.4,
+            power_curve: vec![(0.85, 7.0), (1.7, 11.0), (2.55, 16.0), (3.4, 22.0)],
+            ..c2()
+        };
+        let spec = vsd.clone().validate().unwrap();
+        assert!((spec.no_load_kw() - 7.0).abs() < 1e-9, "{}", spec.no_load_kw());
+        assert_eq!(NoLoadBasis::of(&spec), NoLoadBasis::CurveAtMinimumSpeed);
+        assert_eq!(
+            basis(DataSheetInput { unloaded_power_fraction: Some(0.2), ..vsd }),
+            NoLoadBasis::Fraction
+        );
     }
 
     #[test]

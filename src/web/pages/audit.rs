@@ -15,6 +15,7 @@ use super::refusal::Refusal;
 use super::words::local_time;
 use super::{render, PageError, PageResult};
 use crate::app::{App, AuditBundle};
+use crate::core::datasheet::NoLoadBasis;
 use crate::core::display::Fmt;
 use crate::core::entry::Entry;
 use crate::core::model::{CompressorKind, CompressorSpec, Control};

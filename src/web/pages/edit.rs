@@ -14,7 +14,7 @@ use super::audit::{compressor_refusals, receiver_refusals};
 use super::inputs::Inputs;
 use super::refusal::Refusal;
 use super::{render, PageResult};
-use crate::core::datasheet::DataSheetInput;
+use crate::core::datasheet::{DataSheetInput, NoLoadBasis};
 use crate::core::entry;
 use crate::core::model::{CompressorKind, CompressorSpec, Control};
 use crate::site::{CompressorRecord, ReceiverRecord};
@@ -88,8 +88,7 @@ fn fraction_box(spec: &CompressorSpec) -> (String, String) {
         Some(f) => format!("{} (typical for the kind)", entry::short(f)),
         None => String::new(),
     };
-    let is_default = default.is_some_and(|f| (f - spec.unloaded_power_fraction).abs() <= 1e-12);
-    if spec.no_load_power_kw.is_some() || is_default {
+    if NoLoadBasis::of(spec) != NoLoadBasis::Fraction {
         (String::new(), placeholder)
     } else {
         (spec.unloaded_power_fraction.to_string(), placeholder)
