@@ -174,7 +174,12 @@
       A.el("input", { class: cls, type: "number", step: step || "any", value: value === undefined || value === null ? "" : value }));
     function refill() {
       u.replaceChildren(...(UNITS[q.value] || []).map((x) => option(x.code, x.label, x.code === c.unit)));
-      comp.disabled = !["power", "energy", "current"].includes(q.value);
+      // Only a machine's power, energy or current belongs to a compressor: any other row shows
+      // the dash, so the form never seems to tie a pressure or an unread column to a machine.
+      const machine = ["power", "energy", "current"].includes(q.value);
+      comp.disabled = !machine;
+      if (!machine) comp.value = "";
+      else if (!comp.value) comp.value = c.compressor || only || "";
       details.replaceChildren();
       if (q.value === "current") {
         details.append(num("volts", "V (line)", c.volts || 400), num("phases", "phases", c.phases || 3, "1"),

@@ -83,6 +83,24 @@ fn a_file_is_remapped_and_another_deleted_through_the_audit_page() {
         "const s = document.querySelector('select[name=col0_unit]'); return s.options[s.selectedIndex].text",
     );
     assert_eq!(shown, "W", "the form shows the unit the file was read with");
+    // Each row offers only its quantity's units (a walk found a power column offered psig, then
+    // refused on saving), and a pressure column belongs to no compressor.
+    let offered = |col: usize| {
+        b.js(
+            &format!(
+                "return [...document.querySelectorAll('select[name=col{col}_unit] option')]\
+                 .filter(o => !o.disabled && !o.parentElement.hidden).map(o => o.value)"
+            ),
+            json!([]),
+        )
+    };
+    let power_units = offered(0);
+    let pressure_units = offered(1);
+    assert!(power_units.as_array().unwrap().contains(&json!("kW")), "{power_units}");
+    assert!(!power_units.as_array().unwrap().contains(&json!("psig")), "{power_units}");
+    assert!(pressure_units.as_array().unwrap().contains(&json!("psig")), "{pressure_units}");
+    assert!(!pressure_units.as_array().unwrap().contains(&json!("kW")), "{pressure_units}");
+    assert_eq!(b.js_str("return document.querySelector('select[name=col1_compressor]').value"), "");
     b.screenshot("undo-remap-form");
     b.js("document.querySelector('select[name=col0_unit]').value = 'kW'; document.getElementById('remap-submit').click()", json!([]));
     wait_for_path(&b, &audit_path);

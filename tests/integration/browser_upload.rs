@@ -54,6 +54,15 @@ fn the_upload_pages_file_list_follows_an_import_and_carries_remap_and_delete() {
         "the note names the unit the form shows ({unit}): {note}"
     );
     assert!(!note.contains("bar"), "the note must not contradict the form: {note}");
+    // With one compressor on record, its power row takes it, and the pressure row shows the dash:
+    // a walk found "C1" shown on every row, pressure and unread columns too.
+    let comp = |column: &str| {
+        b.js_str(&format!(
+            "return document.querySelector('#columns-table tr[data-column=\"{column}\"] .c').value"
+        ))
+    };
+    assert_eq!(comp("C1 kW"), "C1");
+    assert_eq!(comp("header bar"), "", "a pressure column belongs to no compressor");
     b.screenshot("upload-remembered-notes");
 
     // Act 2: import through the page.

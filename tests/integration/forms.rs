@@ -354,6 +354,10 @@ fn form_refusals_name_their_boxes_in_words() {
     assert!(!r.text.contains("unloaded_power_fraction must"), "{}", r.text);
     let r = s.post_form(&format!("/audits/{id}/site"), &[("operating_weeks_per_year", "60")]);
     assert_eq!(r.status, 422, "{}", r.text);
-    assert!(r.text.contains("the operating weeks per year must be above 0 and at most 53, got 60"), "{}", r.text);
+    assert!(
+        r.text.contains("the operating weeks per year must be above 0 and at most 53, got 60"),
+        "{}",
+        r.text
+    );
     assert!(!r.text.contains("0..53"), "{}", r.text);
 }

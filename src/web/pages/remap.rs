@@ -48,6 +48,9 @@ struct ExtraColumn {
     unit: String,
 }
 
+/// Per quantity: its code, its name and its units (code, label), an `<optgroup>` of the unit box.
+type UnitGroup = (&'static str, &'static str, Vec<(&'static str, &'static str)>);
+
 #[derive(Template)]
 #[template(path = "remap.html")]
 struct RemapPage {
@@ -57,7 +60,7 @@ struct RemapPage {
     filename: String,
     columns: Vec<ColumnRow>,
     quantities: Vec<(&'static str, &'static str)>,
-    units: Vec<(&'static str, Vec<(&'static str, &'static str)>)>,
+    units: Vec<UnitGroup>,
     compressors: Vec<String>,
     /// Pressure measuring points: code and words.
     points: Vec<(&'static str, &'static str)>,
@@ -198,7 +201,9 @@ fn page(
         quantities: LoggedQuantity::ALL.iter().map(|q| (q.as_str(), quantity_label(*q))).collect(),
         units: LoggedQuantity::ALL
             .iter()
-            .map(|q| (quantity_label(*q), unit_table::choices(*q).map(|u| (u.code, u.label)).collect()))
+            .map(|q| {
+                (q.as_str(), quantity_label(*q), unit_table::choices(*q).map(|u| (u.code, u.label)).collect())
+            })
             .collect(),
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         points: PressurePoint::ALL.iter().map(|p| (p.as_str(), p.label())).collect(),
