@@ -256,6 +256,19 @@ impl Fmt {
         let v = v.f();
         format!("{} {currency}", num(v, if v.abs() >= 100.0 { 0 } else { 2 }))
     }
+    /// A price per unit (per kWh, per kW-month) as typed: at least two decimals and as many more,
+    /// up to four, as the price has, so the printed price is the one the figures used (0.092 was
+    /// printed 0.09).
+    pub fn unit_price(&self, v: impl Num, currency: &str) -> String {
+        let v = v.f();
+        let decimals = (2..=4)
+            .find(|&d| {
+                let scale = 10f64.powi(d as i32);
+                ((v * scale).round() / scale - v).abs() <= 1e-9 * v.abs().max(1e-9)
+            })
+            .unwrap_or(4);
+        format!("{} {currency}", num(v, decimals))
+    }
     /// Cost of compressed air per 1000 m³ (SI) or per 1000 ft³ (US) of free air.
     pub fn air_cost(&self, per_1000_m3: impl Num, currency: &str) -> String {
         let per_1000_m3 = per_1000_m3.f();
@@ -346,6 +359,16 @@ pub fn local_ms_seconds(ms: i64, tz: &str) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_unit_price_keeps_the_digits_it_was_typed_with() {
+        let f = Fmt::new(UnitSystem::Si, PressureAbs(101_325.0));
+        assert_eq!(f.unit_price(0.092, "USD"), "0.092 USD");
+        assert_eq!(f.unit_price(0.15, "EUR"), "0.15 EUR");
+        assert_eq!(f.unit_price(0.12345, "EUR"), "0.1235 EUR");
+        assert_eq!(f.unit_price(12.5, "EUR"), "12.50 EUR");
+        assert_eq!(f.unit_price(1250.0, "EUR"), "1,250.00 EUR");
+    }
 
     #[test]
     fn numbers_group_thousands_and_round() {

@@ -492,7 +492,7 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
         FigureView {
             label: "Cost of air".into(),
             value: or_nd(base.cost_per_1000_m3, |v| fmt.air_cost(v, cur)),
-            note: format!("at {} per kWh", fmt.money(base.electricity_price_per_kwh, cur)),
+            note: format!("at {} per kWh", fmt.unit_price(base.electricity_price_per_kwh, cur)),
             estimated,
         },
         FigureView {
