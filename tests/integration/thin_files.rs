@@ -210,3 +210,19 @@ fn every_share_of_demand_reads_not_enough_data_with_the_reason() {
     assert!(findings.contains("id=\"pressure-note\">"));
     assert!(findings.contains("id=\"leak-share-note\">"));
 }
+
+/// The data-sheet row of a machine whose power was logged when no pressure was (the thin audit's
+/// pressure log is another file, years away) says exactly that, not "no pressure logged": the
+/// audit has pressure readings, just none while it ran loaded.
+#[test]
+fn a_loaded_level_without_pressure_beside_it_says_when_pressure_was_missing() {
+    let s = Server::start();
+    let (id, _) = super::guard::thin_audit(&s);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert!(sm["pressure"]["mean_bar_g"].as_f64().is_some(), "the thin audit logs a pressure");
+    let c = &sm["compressors"][0];
+    assert!(c["loaded_power_kw"].as_f64().is_some() && c["loaded_pressure_bar_g"].is_null(), "{c}");
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    assert!(report.contains("(no pressure logged while it ran loaded)"), "the data-sheet row");
+    assert!(!report.contains("(no pressure logged)"), "the data-sheet row");
+}

@@ -674,6 +674,9 @@ fn compressor_rows(sm: &Summary, fmt: &Fmt) -> Vec<CompressorRow> {
             rated_specific_power: fmt.specific_power(c.rated_specific_power_kw_per_m3_min),
             loaded_power: match (c.loaded_power_kw, c.loaded_pressure_bar_g) {
                 (Some(p), Some(bar)) => format!("{} at {}", fmt.power_kw(p), fmt.pressure_bar_g(bar)),
+                (Some(p), None) if sm.pressure.mean_bar_g.is_some() => {
+                    format!("{} (no pressure logged while it ran loaded)", fmt.power_kw(p))
+                }
                 (Some(p), None) => format!("{} (no pressure logged)", fmt.power_kw(p)),
                 _ => fmt.power_kw(f64::NAN),
             },
