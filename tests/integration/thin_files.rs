@@ -226,3 +226,22 @@ fn a_loaded_level_without_pressure_beside_it_says_when_pressure_was_missing() {
     assert!(report.contains("(no pressure logged while it ran loaded)"), "the data-sheet row");
     assert!(!report.contains("(no pressure logged)"), "the data-sheet row");
 }
+
+/// An audit that logged no pressure at all says so in its verdict, and its pressure table quotes no
+/// transmitter's uncertainty and no time below the limit (a walk found "± 1.2 psi" and "– %" there).
+#[test]
+fn an_audit_without_a_pressure_log_says_so_and_quotes_no_transmitter() {
+    let s = Server::start();
+    let id = audit_years_apart(&s);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert!(sm["pressure"]["mean_bar_g"].is_null(), "no pressure in this audit");
+    let reasons = sm["sufficiency"]["reasons"].as_array().unwrap();
+    assert!(
+        reasons.iter().any(|r| r.as_str().unwrap().starts_with("no header pressure was logged")),
+        "{reasons:?}"
+    );
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    assert!(report.contains("no header pressure was logged"), "the verdict's list");
+    assert!(report.contains("not logged (no pressure column was read)"), "the pressure table");
+    assert!(!report.contains("Uncertainty of the transmitter"), "a transmitter that was never there");
+}

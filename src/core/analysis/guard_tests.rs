@@ -218,6 +218,28 @@ fn a_day_of_coherent_logging_is_thin_and_keeps_its_annual_figures() {
 }
 
 #[test]
+fn a_full_week_without_any_pressure_log_is_thin_and_says_so() {
+    // A week of power and flow, no pressure at all: the verdict names the missing pressure (a walk
+    // found "pressure in 0.0 %" in the coverage with nothing in the list), and the energy stands.
+    let s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let n = 7 * 24 * HOUR_BINS;
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![
+            col(Signal::Power, Some(0), cycling_power(55.0, 80, 120, 7 * 24)),
+            col(Signal::Flow, None, vec![(5.0f64 / 60.0) as f32; n]),
+        ],
+    };
+    let sm = run(&s, &cs, &frame);
+    assert_eq!(sm.sufficiency.verdict, Verdict::Thin, "{:?}", sm.sufficiency);
+    assert_eq!(sm.sufficiency.reasons.len(), 1, "{:?}", sm.sufficiency.reasons);
+    assert!(sm.sufficiency.reasons[0].starts_with("no header pressure was logged"), "{:?}", sm.sufficiency);
+    assert!(sm.baseline.annual_energy_kwh.is_some());
+    check_invariants(&sm).unwrap();
+}
+
+#[test]
 fn flow_logged_at_another_time_than_power_gives_no_specific_power() {
     // Power on the first day, the flow meter on the second: no ratio of the two is a specific power.
     let s = site();

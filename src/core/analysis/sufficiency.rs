@@ -27,6 +27,10 @@ figures add the machines up, so only those hours show the plant as one system.
   production week of common practice; the annual figure repeats what was seen;
 - power covering under [`THIN_PERIOD_COVERAGE`] (50 %) of the span from the first reading to the
   last: the files leave large gaps or overlap little;
+- no header pressure logged at all: the pressure profile, the pressure measure and the isothermal
+  efficiency cannot be worked out (an assessment measures pressure across the system: ISO 11011,
+  from memory); a missing flow meter is no reason, since the air is then read from the machines'
+  states, a stated method;
 - flow measured but logged together with power in under [`MIN_OVERLAP_SHARE`] (50 %) of the power
   hours; the same for the header pressure;
 - a header pressure log that is not credible (below).
@@ -211,6 +215,13 @@ pub(super) fn assess(
                 share * 100.0,
                 THIN_PERIOD_COVERAGE * 100.0
             )]);
+        }
+        if o.power_pressure.is_none() {
+            thin.push(parts![
+                "no header pressure was logged: the pressure profile, the pressure measure and the \
+                 isothermal efficiency rest on it (an assessment measures pressure across the system, \
+                 ISO 11011, from memory)"
+            ]);
         }
         for (what, n) in [("flow", o.power_flow), ("header pressure", o.power_pressure)] {
             if let Some(n) = n {

@@ -85,6 +85,13 @@ pub(super) fn pressure_rows(
 ) -> Vec<(String, String)> {
     let p = &sm.pressure;
     let bar_g = |v: Option<f64>| fmt.pressure_bar_g(nan(v));
+    if p.mean_bar_g.is_none() {
+        // No pressure logged: no transmitter to quote an uncertainty for, no time below the limit.
+        return vec![
+            ("Header pressure".into(), "not logged (no pressure column was read)".into()),
+            ("Low limit".into(), bar_g(p.low_limit_bar_g)),
+        ];
+    }
     let mut rows: Vec<(String, String)> = vec![("Mean".into(), bar_g(p.mean_bar_g))];
     if let Some((lo, hi)) = extremes_pa {
         rows.push(("Least / greatest reading".into(), {
