@@ -105,6 +105,12 @@
     ] },
     options: { scales: { y: { beginAtZero: true, title: { display: true, text: u.flow } } } },
   });
+  // Every annual figure withheld (not enough data): words instead of bare axes.
+  if (d.heat_balance.mwh.every((v) => v === null)) {
+    const box = document.getElementById("chart-heat");
+    if (box) box.parentElement.replaceWith(A.el("p", { class: "note", id: "heat-chart-note" },
+      "No heat balance: its annual figures are not enough data (see \u201cIs the data enough?\u201d)."));
+  }
   make("chart-heat", {
     type: "bar",
     data: { labels: d.heat_balance.labels, datasets: [{ label: "MWh per year", data: d.heat_balance.mwh, backgroundColor: [palette[0], palette[3], palette[1], palette[2]] }] },
