@@ -127,3 +127,67 @@ fn a_counters_power_far_above_its_data_sheet_is_flagged_at_import() {
     // C1's power, 6.5 kW at most, is under 1.5 × 7.5 = 11.25 kW: not flagged.
     assert_eq!(replies[0]["quality"]["channels"][0]["implausible"], json!([]));
 }
+
+#[test]
+fn the_baseline_replay_of_the_thin_audit_meets_the_logged_peak_and_says_what_it_leaves_out() {
+    // Arrange: the thin audit and a bleed-down on the 1 m³ system, 7.0 -> 6.0 bar(g) in 60 s: a
+    // leak estimate of about 1.05 m³/min, far above the 0.12 m³/min logged in all.
+    let s = Server::start();
+    let (id, _) = thin_counter_audit(&s);
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/field-tests"),
+        &json!({"kind": "bleed_down", "start_pressure_bar_g": 7.0, "end_pressure_bar_g": 6.0, "duration_s": 60}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(sm["sufficiency"]["verdict"], "insufficient");
+    assert_eq!(sm["sufficiency"]["pressure_credible"], false);
+    let leak = sm["leaks"]["adopted_leak_flow_m3_min"].as_f64().unwrap();
+    assert!(leak > 1.0, "{leak}");
+
+    // Act: the baseline, and the plant with both machines removed (which must then name the peak).
+    let base =
+        s.post_json(&format!("/api/v1/audits/{id}/scenarios"), &json!({"name": "baseline", "changes": []}));
+    assert_eq!(base.status, 201, "{}", base.text);
+    let none = s.post_json(
+        &format!("/api/v1/audits/{id}/scenarios"),
+        &json!({"name": "none left", "changes": [{"op": "remove", "tag": "C1"}, {"op": "remove", "tag": "C2"}]}),
+    );
+    assert_eq!(none.status, 201, "{}", none.text);
+
+    // Assert: the baseline holds its band (2.2 m³/min of machines on 0.12 m³/min of demand): no
+    // capacity short of a peak made of the leak test's flow.
+    let b = &base.json()["result"];
+    assert_eq!(b["problems"], json!([]), "{b}");
+    assert_eq!(b["feasible"], true);
+    // It says, with both flows, that it leaves the leak estimate out.
+    let note = &b["note_parts"][0];
+    assert!((note[1]["value"].as_f64().unwrap() - leak).abs() < 1e-12, "{note}");
+    assert!((note[3]["value"].as_f64().unwrap() - 0.12).abs() < 1e-6, "{note}");
+    // The peak it would have to meet is the logged flow, 0.12 m³/min, over one 5-minute step (the
+    // analysis step of a span of 3.7 years in at most 600,000 bins: 195 s, the next clock step).
+    let n = &none.json()["result"];
+    let peak = &n["problem_parts"][0];
+    assert!((peak[1]["value"].as_f64().unwrap() - 0.12).abs() < 1e-6, "{n}");
+    assert_eq!(peak[2], " (the replayed demand's highest mean over one 5-minute step of the log)");
+    // Its pressure trace draws the 36 minutes logged: one point a 5-minute bin from 19:30Z (the
+    // bin of the first reading) to 20:00Z, seven points (the last 59 s fill under half a bin,
+    // which the analysis leaves out), none at the epoch.
+    let trace = b["pressure_trace"].as_array().unwrap();
+    let times: Vec<i64> = trace.iter().map(|p| p[0].as_i64().unwrap()).collect();
+    let want: Vec<i64> = (0..7).map(|k| (FEB_4_2023 + k * 300) * 1000).collect();
+    assert_eq!(times, want);
+
+    // The page, in US units: the verdict before the replays, the note in cfm (0.12 m³/min =
+    // 4.238 cfm, "4.2": 1 ft³ = 0.028316846592 m³, NIST SP 811), the chart drawn, and the peak in
+    // cfm.
+    let page = s.get(&format!("/audits/{id}/scenarios")).text;
+    assert!(page.contains("id=\"replay-verdict\">The logged data are not enough for annual figures"));
+    assert!(
+        page.contains("is not below the replayed demand&#39;s mean of 4.2 cfm free air"),
+        "the note in cfm"
+    );
+    assert!(page.contains("id=\"chart-scenarios\"") && !page.contains("id=\"no-trace\""));
+    assert!(page.contains("meet the peak demand of 4.2 cfm free air"), "the peak in cfm");
+    assert!(page.contains("not offered: the logged data are not enough for annual figures"));
+}
