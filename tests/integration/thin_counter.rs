@@ -54,7 +54,7 @@ fn mapping(columns: Value) -> Value {
 
 /// The audit (US units, Chicago), C1 rated 7.5 kW and C2 rated 8 kW, a 1 m³ receiver, and the
 /// three files; the upload replies in file order.
-fn thin_counter_audit(s: &Server) -> (i64, Vec<Value>) {
+pub(crate) fn thin_counter_audit(s: &Server) -> (i64, Vec<Value>) {
     let r = s.post_json(
         "/api/v1/audits",
         &json!({"name": "thin counter", "site": {"altitude_m": 0, "timezone": "America/Chicago",
@@ -126,6 +126,54 @@ fn a_counters_power_far_above_its_data_sheet_is_flagged_at_import() {
     );
     // C1's power, 6.5 kW at most, is under 1.5 × 7.5 = 11.25 kW: not flagged.
     assert_eq!(replies[0]["quality"]["channels"][0]["implausible"], json!([]));
+}
+
+#[test]
+fn the_counter_only_day_has_the_counters_power_and_the_others_say_none() {
+    let s = Server::start();
+    let (id, _) = thin_counter_audit(&s);
+    // The report's day selector: the site's days with readings, one per file.
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    for day in ["Mon 3 Jun 2019", "Mon 13 Sep 2021", "Sat 4 Feb 2023"] {
+        assert!(report.contains(&format!("\"label\":\"{day}\"")), "no day {day}");
+    }
+    assert!(report.contains("id=\"chart-power-empty\""), "the power chart's words for an empty period");
+
+    // The counter's series on its day (Chicago's Mon 13 Sep 2021: 05:00Z to 05:00Z) is power. The
+    // window is cut to the channel's readings, 17:00:00Z to 17:53:58Z: at 500 points, buckets of
+    // 6.5 s, so whole minutes.
+    let channels = s.get(&format!("/api/v1/audits/{id}/channels")).json();
+    let counter =
+        channels["channels"].as_array().unwrap().iter().find(|c| c["quantity"] == "energy").unwrap().clone();
+    let day_start = SEP_13_2021 - 12 * 3600;
+    let url = format!(
+        "/api/v1/audits/{id}/series?channel={}&from={}&to={}&points=500",
+        counter["id"],
+        jiff_like_rfc3339(day_start),
+        jiff_like_rfc3339(day_start + 86_400)
+    );
+    let r = s.get(&url);
+    assert_eq!(r.status, 200, "{}", r.text);
+    let v = r.json();
+    assert_eq!(v["unit_si"], "W");
+    assert_eq!(v["power_from_counter"], true);
+    let t: Vec<i64> = v["t_ms"].as_array().unwrap().iter().map(|x| x.as_i64().unwrap()).collect();
+    let mean: Vec<f64> = v["mean"].as_array().unwrap().iter().map(|x| x.as_f64().unwrap()).collect();
+    // 12:00:00 to 12:53:58 CDT: a bucket a minute from 12:00 to 12:53, 54 of them (the last holds
+    // 58 s).
+    assert_eq!(t.len(), 54, "{v}");
+    assert_eq!(t[0], SEP_13_2021 * 1000);
+    assert_eq!(t[53] - t[0], 53 * 60_000);
+    // Every bucket's mean is 34 kW: the counter's rise over the time it was logged in it.
+    assert!(mean.iter().all(|w| (w - C2_KW * 1000.0).abs() < 1.0), "{mean:?}");
+    // The findings' power chart draws it too, named for what it is.
+    let findings = s.get(&format!("/audits/{id}/findings")).text;
+    let at = findings.find("id=\"plot-power\"").expect("the power chart");
+    let svg = &findings[at..at + findings[at..].find("</svg>").unwrap()];
+    assert!(
+        svg.contains("C2, from its energy counter (mean)"),
+        "no counter line in the findings' power chart"
+    );
 }
 
 #[test]
