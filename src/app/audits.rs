@@ -269,7 +269,8 @@ impl App {
     }
 
     /// Min/mean/max buckets of one channel from the rollups, SI.
-    /// The site's air applied as the audit's site has it now (`core::basis`).
+    /// The site's air applied as the audit's site has it now (`core::basis`). An energy counter's
+    /// buckets are the power it stands for, W (`read::counter_power_series`), as in the figures.
     pub async fn chart_series(
         &self,
         b: &AuditBundle,
@@ -278,7 +279,12 @@ impl App {
         to_ms: i64,
         points: usize,
     ) -> Result<Vec<ChartPoint>> {
-        Ok(read::chart_series(self.db(), &b.audit.site.air(), channel, from_ms, to_ms, points).await?)
+        let site = b.audit.site.air();
+        Ok(if channel.quantity == "energy" {
+            read::counter_power_series(self.db(), &site, channel, from_ms, to_ms, points).await?
+        } else {
+            read::chart_series(self.db(), &site, channel, from_ms, to_ms, points).await?
+        })
     }
 
     /// The channels one complete upload wrote, with the count and mean of their readings in SI

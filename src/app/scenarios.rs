@@ -30,6 +30,9 @@ pub struct ScenarioOutcome {
     /// `problems` in parts, one for one (none in a result stored before they were kept).
     #[serde(default)]
     pub problem_parts: Vec<Vec<crate::core::recommend::Part>>,
+    /// What the replay left out of the logged data and why (`SimResult::note_parts`).
+    #[serde(default)]
+    pub note_parts: Vec<Vec<crate::core::recommend::Part>>,
     pub implementation_cost: Option<f64>,
     /// `given` or `default_estimate`.
     pub implementation_cost_source: Option<String>,
@@ -137,6 +140,9 @@ impl App {
         // pressure. Read from the (cached) summary; a figure that is not finite counts as none.
         let summary = self.summary(id, None).await?;
         let leak = summary.figures().and_then(|s| s.leaks.adopted_leak_flow_m3_min).filter(|q| q.is_finite());
+        // A pressure log the sufficiency verdict found not credible is not replayed against.
+        let pressure_credible =
+            summary.figures().and_then(|s| s.sufficiency.pressure_credible) != Some(false);
         let specs = b.specs();
         let storage = b.storage();
         let site = b.audit.site.air();
@@ -148,6 +154,7 @@ impl App {
                     storage: &storage,
                     site: &site,
                     leak_flow_m3_min: leak,
+                    pressure_credible,
                 },
                 &scenario,
             )

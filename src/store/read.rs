@@ -474,6 +474,67 @@ pub async fn chart_series(
     Ok(out.into_iter().map(|(t, a)| ChartPoint { t_ms: t, min: a.min, mean: a.mean(), max: a.max }).collect())
 }
 
+/// The power an energy counter stands for (W), in the buckets of [`chart_series`] over
+/// `from_ms..=to_ms`: its readings from the chunks (a counter's rollups hold counter values, not
+/// power) through `core::series::CounterAligner`, the frame's rule (a rise over the time between two
+/// readings, nothing across a reset or across a gap over three of its upload's logging intervals).
+/// Each bucket's mean power is its min, mean and max alike (a counter says nothing of the spread
+/// within a bucket); a bucket logged for part of its length keeps its mean over that part, and a
+/// bucket with no rise logged is left out, as a power channel's bucket without readings is.
+pub async fn counter_power_series(
+    pool: &SqlitePool,
+    site: &SiteAir,
+    channel: &ChannelInfo,
+    from_ms: i64,
+    to_ms: i64,
+    max_points: usize,
+) -> Result<Vec<ChartPoint>, StoreError> {
+    let bucket = chart_bucket_ms(from_ms, to_ms, max_points);
+    let len = ((to_ms - from_ms).max(0) / bucket + 1) as usize;
+    let grid = Grid { start_ms: from_ms, step_ms: bucket, len };
+    let mut aligner = CounterAligner::new(grid, 0);
+    let mut after = (i64::MIN, i64::MIN);
+    loop {
+        let page = chunk_page(pool, channel.id, (from_ms, to_ms), after).await?;
+        let Some(&(t, u, _)) = page.last() else { break };
+        after = (t, u);
+        let full = page.len() as i64 == CHUNK_PAGE;
+        let page: Vec<Piece> = page
+            .into_iter()
+            .map(|(_, u, b)| (channel.to_site(u, site), 3 * channel.upload_interval_ms(u), b))
+            .collect();
+        aligner = tokio::task::spawn_blocking(move || -> Result<CounterAligner, StoreError> {
+            for ((k, o), gap, b) in &page {
+                aligner.set_max_gap(*gap);
+                chunk::decode(b, |t, v| aligner.push(t, v * k + o))?;
+            }
+            Ok(aligner)
+        })
+        .await
+        .map_err(|e| StoreError::Damaged { path: "chart".into(), detail: e.to_string() })??;
+        if !full {
+            break;
+        }
+    }
+    let (values, partial) = aligner.finish_with_partial();
+    let mut part = partial.iter().peekable();
+    let mut out = Vec::new();
+    for (i, v) in values.iter().enumerate() {
+        while part.peek().is_some_and(|p| (p.bin as usize) < i) {
+            part.next();
+        }
+        let mean = match part.peek() {
+            Some(p) if p.bin as usize == i => p.mean,
+            _ => *v,
+        };
+        if mean.is_finite() {
+            let w = f64::from(mean);
+            out.push(ChartPoint { t_ms: grid.bin_start_ms(i), min: w, mean: w, max: w });
+        }
+    }
+    Ok(out)
+}
+
 /// One channel's readings from one upload, from the hourly rollups: how many were stored and the
 /// arithmetic mean, least and greatest of their SI values (what was stored, not a time average).
 #[derive(Debug, Clone, Serialize)]

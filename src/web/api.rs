@@ -304,11 +304,13 @@ pub async fn series(
     let points = q.points.unwrap_or(600).clamp(10, 2000);
     let (from, to) = (w.0.max(c.first_ms), w.1.min(c.last_ms));
     let pts = st.app.chart_series(&b, c, from, to, points).await?;
-    let unit = unit_si(&c.quantity);
+    // An energy counter's series is the power it stands for (`App::chart_series`).
+    let counter = c.quantity == "energy";
+    let unit = if counter { "W" } else { unit_si(&c.quantity) };
     Ok(json(
         StatusCode::OK,
         &serde_json::json!({
-            "channel": c, "unit_si": unit,
+            "channel": c, "unit_si": unit, "power_from_counter": counter,
             // Points further apart than this lie across a gap in the log: a line breaks there.
             "gap_ms": crate::store::read::chart_gap_ms(c, from, to, points),
             "t_ms": pts.iter().map(|p| p.t_ms).collect::<Vec<_>>(),

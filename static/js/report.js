@@ -31,11 +31,17 @@
     flow: (v) => v * u.flow_scale,
   };
 
-  async function loadSeries(from, to) {
+  // What a chart with nothing to draw says instead (the axis then spans the period asked for).
+  const nothing = { power: "No compressor power was logged", pressure: "No pressure was logged", flow: "No flow was logged" };
+
+  async function loadSeries(from, to, day) {
     const q = (from ? "&from=" + new Date(from).toISOString() + "&to=" + new Date(to).toISOString() : "") + "&points=500";
     const groups = { power: [], pressure: [], flow: [] };
-    for (const c of d.channels) {
-      if (c.counter || !groups[c.quantity]) continue;
+    // An energy counter's series is the power it stands for (the server's), drawn after the
+    // logged power.
+    const ordered = d.channels.filter((c) => !c.counter).concat(d.channels.filter((c) => c.counter));
+    for (const c of ordered) {
+      if (!groups[c.quantity]) continue;
       const s = await A.json("/api/v1/audits/" + d.audit_id + "/series?channel=" + c.id + q);
       groups[c.quantity].push({ c: c, s: s });
     }
@@ -52,7 +58,7 @@
           const prev = item.s.t_ms[k - 1];
           return k > 0 && t - prev > gap ? [{ x: (prev + t) / 2, y: null }, p] : [p];
         });
-        datasets.push({ label: item.c.name + " (mean)", data: pts(item.s.mean), borderColor: color, backgroundColor: color, pointRadius: 0, borderWidth: 1.5 });
+        datasets.push({ label: item.c.name + (item.c.counter ? ", from its energy counter" : "") + " (mean)", data: pts(item.s.mean), borderColor: color, backgroundColor: color, pointRadius: 0, borderWidth: 1.5 });
         if (quantity !== "power") {
           datasets.push({ label: item.c.name + " (min)", data: pts(item.s.min), borderColor: "transparent", pointRadius: 0, fill: false });
           datasets.push({ label: item.c.name + " (max)", data: pts(item.s.max), borderColor: "transparent", backgroundColor: color + "33", pointRadius: 0, fill: "-1" });
@@ -60,8 +66,16 @@
       });
       if (!datasets.length) datasets.push({ label: "not logged", data: [] });
       const xs = list.flatMap((it) => [it.s.t_ms[0], it.s.t_ms[it.s.t_ms.length - 1]]).filter((x) => x !== undefined);
-      const range = xs.length ? { min: Math.min(...xs), max: Math.max(...xs) } : null;
-      const x = Object.assign({}, timeAxis, range || {}, { ticks: timeTicks(range) });
+      // Nothing logged in the period: the axis spans the period asked for (never the epoch of an
+      // empty scale), and the words under the chart say what is missing.
+      const range = xs.length ? { min: Math.min(...xs), max: Math.max(...xs) }
+        : { min: from ? from : d.first_ms, max: from ? to : d.last_ms };
+      const note = document.getElementById("chart-" + quantity + "-empty");
+      if (note) {
+        note.hidden = xs.length > 0;
+        note.textContent = xs.length ? "" : nothing[quantity] + (day ? " on " + day : "") + ".";
+      }
+      const x = Object.assign({}, timeAxis, range, { ticks: timeTicks(range) });
       make("chart-" + quantity, {
         type: "line",
         data: { datasets: datasets },
@@ -78,7 +92,7 @@
     sel.addEventListener("change", () => {
       const o = sel.selectedOptions[0];
       const t = Number(sel.value);
-      loadSeries(sel.value ? t : null, sel.value ? Number(o.getAttribute("data-end")) : null).catch(showError);
+      loadSeries(sel.value ? t : null, sel.value ? Number(o.getAttribute("data-end")) : null, sel.value ? o.textContent : null).catch(showError);
     });
   }
   function showError(e) { console.warn("chart data: " + e.message); }

@@ -74,3 +74,82 @@ fn the_report_of_files_years_apart_lists_their_days_and_breaks_its_lines() {
     let severe = b.severe_logs(&page);
     assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
 }
+
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn a_day_logged_by_an_energy_counter_alone_draws_its_power_and_a_day_without_power_says_so() {
+    // Arrange: the thin audit of `thin_counter` (C2's power only from its energy counter, 34 kW, on
+    // Mon 13 Sep 2021, 12:00 to 12:53 CDT; a pressure and flow log on Sat 4 Feb 2023).
+    let s = Server::start();
+    let (id, _) = crate::thin_counter::thin_counter_audit(&s);
+    let b = Browser::start();
+    let page = format!("/audits/{id}/report");
+    b.goto(&s.url(&page));
+    let ready = wait_until(Duration::from_secs(20), || {
+        b.js("return !!Chart.getChart(document.getElementById('chart-power'))", json!([])) == json!(true)
+    });
+    assert!(ready, "the power chart was not drawn");
+    let pick = |label: &str| {
+        b.js(
+            "const s = document.getElementById('period-select'); \
+             s.value = [...s.options].find(o => o.textContent === arguments[0]).value; \
+             s.dispatchEvent(new Event('change'))",
+            json!([label]),
+        );
+    };
+    let state = || {
+        b.js(
+            "const c = Chart.getChart(document.getElementById('chart-power')); \
+             const note = document.getElementById('chart-power-empty'); \
+             return {sets: c.data.datasets.map(d => [d.label, d.data.filter(p => p.y !== null).map(p => p.y)]), \
+                     ticks: c.scales.x.ticks.map(t => t.label), note: note.hidden ? null : note.textContent}",
+            json!([]),
+        )
+    };
+
+    // Act + Assert: the counter's day. Its power is drawn, 34 kW a minute, from 12:00 CDT.
+    pick("Mon 13 Sep 2021");
+    let on_the_day = |st: &Value| {
+        let ticks = st["ticks"].as_array().unwrap();
+        !ticks.is_empty() && ticks.iter().all(|t| t.as_str().is_some_and(|t| t.starts_with("Mon 13 Sep")))
+    };
+    let drawn = wait_until(Duration::from_secs(10), || {
+        let st = state();
+        on_the_day(&st)
+            && st["sets"].as_array().unwrap().iter().any(|d| {
+                d[0].as_str().unwrap().contains("from its energy counter")
+                    && !d[1].as_array().unwrap().is_empty()
+            })
+    });
+    assert!(drawn, "no counter power on its day: {}", state());
+    let st = state();
+    let counter =
+        st["sets"].as_array().unwrap().iter().find(|d| d[0].as_str().unwrap().contains("C2")).unwrap();
+    let ys: Vec<f64> = counter[1].as_array().unwrap().iter().map(|y| y.as_f64().unwrap()).collect();
+    assert_eq!(ys.len(), 54, "{st}");
+    assert!(ys.iter().all(|y| (y - 34.0).abs() < 1e-3), "{ys:?}");
+    assert_eq!(st["note"], Value::Null, "{st}");
+    // Every tick on that day's clock, none at the epoch (Wed 31 Dec 1969 18:00 in Chicago); the
+    // browser's British month may read "Sept".
+    let ticks: Vec<&str> = st["ticks"].as_array().unwrap().iter().filter_map(|t| t.as_str()).collect();
+    assert!(ticks.iter().all(|t| t.starts_with("Mon 13 Sep") && t.contains(" 12:")), "{ticks:?}");
+
+    // The pressure log's day has no power: the chart says so in words, its axis on that day.
+    pick("Sat 4 Feb 2023");
+    let said = wait_until(Duration::from_secs(10), || state()["note"].is_string());
+    let st = state();
+    assert!(said, "{st}");
+    assert_eq!(st["note"], "No compressor power was logged on Sat 4 Feb 2023.");
+    let ticks: Vec<&str> = st["ticks"].as_array().unwrap().iter().filter_map(|t| t.as_str()).collect();
+    assert!(
+        !ticks.is_empty() && ticks.iter().all(|t| t.contains("4 Feb") || t.contains("5 Feb")),
+        "{ticks:?}"
+    );
+    assert!(ticks.iter().all(|t| !t.contains("31 Dec") && !t.contains("1 Jan")), "{ticks:?}");
+    b.screenshot("thin-counter-day-report");
+    let severe = b.severe_logs(&page);
+    assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
+}

@@ -378,3 +378,65 @@ fn every_real_file_goes_in_on_the_sniffers_proposal() {
          failing: {failing:?}"
     );
 }
+
+#[test]
+#[cfg_attr(
+    not(has_real_data),
+    ignore = "set AIRLEDGER_REAL_DATA to a folder of real logger files (with realfiles/ and its SOURCES.md)"
+)]
+fn a_real_energy_counter_against_a_data_sheet_far_below_it_is_flagged() {
+    // Issue 16: each real file with an energy column (the oracle's reading says which), its
+    // counter alone mapped to a compressor rated at half the oracle's time-weighted mean power. The
+    // counter's highest power over spans of a minute or more is at least that mean (the mean is a
+    // weighted mean of the rates of those spans, or of a subset of them), so above 1.5 × rated.
+    let dir = real_data_dir();
+    let truth = oracle(&dir);
+    let files = truth["files"].as_object().expect("the oracle's files");
+    let s = Server::start();
+    let mut tried = 0;
+    for (name, want) in files {
+        let Some((col, w)) =
+            want["columns"].as_object().unwrap().iter().find(|(_, c)| c["quantity"] == "energy")
+        else {
+            continue;
+        };
+        tried += 1;
+        let mean_kw = w["time_weighted_w"].as_f64().expect("the oracle's mean power") / 1000.0;
+        let rated_kw = mean_kw / 2.0;
+        let bytes = std::fs::read(dir.join("realfiles").join(name)).expect("read a real file");
+        let r = s.post_json("/api/v1/audits", &json!({"name": name, "site": {"altitude_m": 0}}));
+        let audit = r.json()["id"].as_i64().expect("id");
+        let r = s.post_json(
+            &format!("/api/v1/audits/{audit}/compressors"),
+            &json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+                    "rated_power_kw": rated_kw, "rated_flow_m3_min": 1.0, "rated_pressure_bar_g": 7.5}),
+        );
+        assert_eq!(r.status, 201, "{}", r.text);
+        let r = s.sniff(audit, name, &bytes);
+        assert_eq!(r.status, 200, "{name}: {}", r.text);
+        let mut mapping = r.json()["suggested_mapping"].clone();
+        let counter: Vec<Value> = mapping["columns"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .filter(|c| c["column"].as_str().map(str::trim) == Some(col.as_str()))
+            .map(|c| {
+                let mut c = c.clone();
+                c["compressor"] = json!("C1");
+                c
+            })
+            .collect();
+        assert_eq!(counter.len(), 1, "{name}: the sniffer's proposal has the energy column");
+        mapping["columns"] = json!(counter);
+        let r = s.upload(audit, name, &bytes, &mapping, "");
+        assert_eq!(r.status, 201, "{name}: {}", r.text);
+        let q = &r.json()["quality"]["channels"][0];
+        let p =
+            q["counter_power"]["value"].as_f64().unwrap_or_else(|| panic!("{name}: no counter power: {q}"));
+        assert!(p >= mean_kw * (1.0 - TOLERANCE), "{name}: {p} kW against the oracle's mean {mean_kw} kW");
+        let reason =
+            q["implausible"][0]["reason"].as_str().unwrap_or_else(|| panic!("{name}: not flagged: {q}"));
+        assert!(reason.starts_with("power of C1 from its energy counter"), "{name}: {reason}");
+    }
+    assert!(tried > 0, "no real file with an energy column");
+}

@@ -3,6 +3,7 @@
 //! "Demand").
 
 use super::{fail, ScenarioError, SimInput, BAND_BAR, HOLD_GAP_S, PEAK_WINDOW_S};
+use crate::core::recommend::{self, Part};
 use crate::core::series;
 use crate::core::units::PA_PER_BAR;
 use crate::core::{levels, states};
@@ -21,7 +22,11 @@ pub(super) struct Demand {
     pub(super) first_p_bar_g: Option<f64>,
     /// Highest [`PEAK_WINDOW_S`] mean of the production draw, m³/s.
     pub(super) peak_prod: f64,
+    /// The window of `peak_prod`, s: [`PEAK_WINDOW_S`], or one bin when the bin is longer.
+    pub(super) peak_window_s: f64,
     pub(super) max_prod: f64,
+    /// What the replay left out of the data and why, in parts (the result's `note_parts`).
+    pub(super) notes: Vec<Vec<Part>>,
 }
 
 pub(super) fn prepare_demand(input: &SimInput) -> Result<Demand, ScenarioError> {
@@ -31,8 +36,11 @@ pub(super) fn prepare_demand(input: &SimInput) -> Result<Demand, ScenarioError> 
     let step_s = grid.step_s();
     let atm = input.site.atmosphere.0;
     let p_atm_bar = atm / PA_PER_BAR;
-    let pressure: Option<Vec<f64>> =
-        frame.header_pressure().map(|c| c.values.iter().map(|&v| (v as f64 - atm) / PA_PER_BAR).collect());
+    // A pressure log that is not credible is not read (module doc, "Demand").
+    let pressure: Option<Vec<f64>> = frame
+        .header_pressure()
+        .filter(|_| input.pressure_credible)
+        .map(|c| c.values.iter().map(|&v| (v as f64 - atm) / PA_PER_BAR).collect());
     let mut q: Vec<f32> = match frame.system_flow() {
         Some(q) => q,
         None => {
@@ -92,7 +100,25 @@ pub(super) fn prepare_demand(input: &SimInput) -> Result<Demand, ScenarioError> 
     let p_ref = mean_p.unwrap_or_else(|| {
         input.compressors.iter().map(|c| c.rated_pressure_bar_g).fold(f64::NAN, f64::max) - 0.5 * BAND_BAR
     });
+    // The replayed demand's mean flow, m³/s: a leak estimate at or above it is no part of it.
+    let (sum_q, n_q) =
+        q.iter().filter(|v| v.is_finite()).fold((0.0f64, 0usize), |(s, c), &v| (s + v as f64, c + 1));
+    let mean_q = if n_q > 0 { sum_q / n_q as f64 } else { f64::NAN };
+    let mut notes = Vec::new();
     let leak_c = match input.leak_flow_m3_min {
+        Some(l) if l.is_finite() && l > 0.0 && mean_q.is_finite() && l / 60.0 >= mean_q => {
+            notes.push(vec![
+                Part::from("the leak estimate of "),
+                recommend::flow(l),
+                Part::from(" is not below the replayed demand's mean of "),
+                recommend::flow(mean_q * 60.0),
+                Part::from(
+                    ": the leak test and the log describe different conditions, so the replay leaves the \
+                     leaks out and replays the logged demand as it is",
+                ),
+            ]);
+            0.0
+        }
         Some(l) if l.is_finite() && l > 0.0 && (p_ref + p_atm_bar) > 0.0 => l / 60.0 / (p_ref + p_atm_bar),
         Some(l) if !(l.is_finite() && l >= 0.0) => {
             return fail("leak_flow_m3_min", format!("must be a flow of zero or more, not {l}"))
@@ -149,6 +175,8 @@ pub(super) fn prepare_demand(input: &SimInput) -> Result<Demand, ScenarioError> 
         logged_w,
         first_p_bar_g,
         peak_prod: peak,
+        peak_window_s: w as f64 * step_s,
         max_prod,
+        notes,
     })
 }

@@ -76,7 +76,11 @@ pub(super) fn simulate(plant: &Plant, d: &Demand, threshold_bar_g: f64, trace: b
     let mut p = d.first_p_bar_g.unwrap_or(if top.is_finite() { top } else { 7.0 });
 
     let n = d.prod.len();
-    let bucket = n.div_ceil(TRACE_POINTS).max(1);
+    // The trace's buckets count simulated bins only: a replay of a few bins in a grid of years
+    // (files logged years apart) still draws them, one point a bin.
+    let simulated = d.prod.iter().filter(|v| v.is_finite()).count();
+    let bucket = simulated.div_ceil(TRACE_POINTS).max(1);
+    let (mut in_bucket, mut bucket_t) = (0usize, 0i64);
     let mut out = Outcome {
         machines: vec![],
         energy_kws: 0.0,
@@ -143,6 +147,10 @@ pub(super) fn simulate(plant: &Plant, d: &Demand, threshold_bar_g: f64, trace: b
             out.below_s += sink.below_s;
             out.min_p = out.min_p.min(sink.min_p);
             bucket_min = bucket_min.min(sink.min_p);
+            if in_bucket == 0 {
+                bucket_t = d.start_ms + i as i64 * d.step_ms;
+            }
+            in_bucket += 1;
             if let Some(lw) = &d.logged_w {
                 let l = lw[i];
                 if l.is_finite() {
@@ -151,12 +159,12 @@ pub(super) fn simulate(plant: &Plant, d: &Demand, threshold_bar_g: f64, trace: b
                 }
             }
         }
-        if (i + 1) % bucket == 0 || i + 1 == n {
+        if in_bucket > 0 && (in_bucket == bucket || i + 1 == n) {
             if bucket_min.is_finite() {
-                let b0 = i / bucket * bucket;
-                out.trace.push((d.start_ms + b0 as i64 * d.step_ms, bucket_min));
+                out.trace.push((bucket_t, bucket_min));
             }
             bucket_min = f64::INFINITY;
+            in_bucket = 0;
         }
     }
     if !trace {

@@ -9,6 +9,13 @@ must reproduce the logged energy: `validation_error`) and the plant with the sce
   estimated from each compressor's logged power (states on the levels found in it, [`levels::classify`];
   [`states::estimated_flow`])
   minus the air stored in the system volume (`V/p_atm dp/dt` from the logged header pressure).
+- A header pressure log that is not credible (`SimInput::pressure_credible`, the sufficiency
+  verdict's check: a pressure of another system, or a wrong unit or zero) is not read at all: no
+  stored air from it, no start pressure, no leak coefficient anchored on it; the leaks are then
+  taken at the plant's own pressure (the highest rated pressure less half a band).
+- A leak estimate at or above the replayed demand's mean flow cannot be a part of that demand (the
+  leak test and the log describe different conditions, as with a leak share above 100 %, which
+  the summary withholds): the replay leaves it out, and says so in `note_parts`.
 - A missing bin holds the last demand if the gap is at most [`HOLD_GAP_S`]; a longer gap is skipped:
   it is left out of the simulated energy and of the logged energy alike (the plant's state carries
   over the gap unchanged).
@@ -75,6 +82,11 @@ when it is fine enough to show one (interval ≤ τ/2, at least five unloadings)
 - `validation_error` = (baseline energy - logged energy) / logged energy, over the simulated bins in
   which every machine's power is logged (`NaN`, shown as `null`, if none is).
 - `energy_kwh` over every simulated bin; a 15-minute warm-up on the first bin's demand is not counted.
+- The peak demand is the highest mean of the production draw over [`PEAK_WINDOW_S`] (one bin when
+  the bin is longer; below zero never), plus the leaks the scenario keeps at its mean simulated
+  pressure: with nothing changed, near the logged peak flow.
+- The pressure trace is the lowest pressure of each bucket of simulated bins (at most
+  [`TRACE_POINTS`]), so a replay of a few bins in a span of years still draws its line.
 - `feasible` is false when the 1-minute peak demand exceeds the total rated flow, or when the header
   pressure spends more than [`MAX_TIME_BELOW_S`] below `min_required_pressure_bar_g` (the lowest load
   or restart pressure of the simulated plant - 0.3 bar: the plant must hold its own control band).
@@ -174,6 +186,10 @@ pub struct SimInput<'a> {
     pub site: &'a SiteAir,
     /// Leak flow at the mean header pressure, m³/min free air, if the audit has an estimate.
     pub leak_flow_m3_min: Option<f64>,
+    /// Whether the logged header pressure passed the data-sufficiency checks
+    /// (`analysis::sufficiency`: no reading below -0.1 bar(g), a median at least half the lowest
+    /// rated pressure). When it did not, the replay reads nothing from it (module doc, "Demand").
+    pub pressure_credible: bool,
 }
 
 /// A scenario that cannot be run, with the field at fault.
@@ -264,11 +280,25 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
         (demand.peak_prod + demand.leak_c * applied.leak_keep * (p_for_leaks + demand.p_atm_bar)) * 60.0;
     // In parts (`recommend::Part`), so the what-if page quotes them in the reader's units.
     let mut problem_parts: Vec<Vec<Part>> = Vec::new();
+    // What the peak is: a minute's mean, or one bin's when the log's analysis step is longer.
+    let peak_words = if (demand.peak_window_s - PEAK_WINDOW_S).abs() < 1e-9 {
+        " (the replayed demand's highest mean over any minute)".to_string()
+    } else if demand.peak_window_s % 60.0 == 0.0 {
+        format!(
+            " (the replayed demand's highest mean over one {:.0}-minute step of the log)",
+            demand.peak_window_s / 60.0
+        )
+    } else {
+        format!(
+            " (the replayed demand's highest mean over one {:.0}-second step of the log)",
+            demand.peak_window_s
+        )
+    };
     if applied.specs.is_empty() {
         problem_parts.push(vec![
             Part::from("no compressor is left to meet the peak demand of "),
             recommend::flow(peak),
-            Part::from(" (the replayed demand's highest mean over any minute)"),
+            Part::Words(peak_words.clone()),
         ]);
     } else if peak > capacity * (1.0 + 1e-9) {
         problem_parts.push(vec![
@@ -276,7 +306,7 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
             recommend::flow(capacity),
             Part::from(" is below the peak demand of "),
             recommend::flow(peak),
-            Part::from(" (the replayed demand's highest mean over any minute), short by "),
+            Part::Words(format!("{peak_words}, short by ")),
             recommend::flow(peak - capacity),
         ]);
     }
@@ -321,6 +351,7 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
         feasible: problems.is_empty(),
         problems,
         problem_parts,
+        note_parts: demand.notes,
         implementation_cost,
         implementation_cost_source,
         implementation_cost_basis,

@@ -209,6 +209,7 @@ fn a_second_invented_plant_is_replayed_within_3_percent_of_its_logged_energy() {
         storage: &storage,
         site: &site,
         leak_flow_m3_min: None,
+        pressure_credible: true,
     };
     let r =
         run(&input, &Scenario { name: "as is".into(), changes: vec![], implementation_cost: None }).unwrap();
@@ -257,6 +258,7 @@ fn a_wrong_unloaded_power_on_the_data_sheet_is_calibrated_where_the_log_settles(
         storage: &storage,
         site: &site,
         leak_flow_m3_min: None,
+        pressure_credible: true,
     };
     let r =
         run(&input, &Scenario { name: "as is".into(), changes: vec![], implementation_cost: None }).unwrap();
@@ -337,6 +339,7 @@ fn the_replay_runs_each_machine_on_the_blow_down_its_own_log_shows() {
         storage: &storage,
         site: &site,
         leak_flow_m3_min: None,
+        pressure_credible: true,
     };
     let r =
         run(&input, &Scenario { name: "as is".into(), changes: vec![], implementation_cost: None }).unwrap();

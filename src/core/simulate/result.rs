@@ -59,6 +59,10 @@ pub struct SimResult {
     /// `problems` in parts (`recommend::Part`), for a page in the reader's units.
     #[serde(default)]
     pub problem_parts: Vec<Vec<crate::core::recommend::Part>>,
+    /// What the replay left out of the logged data and why, in parts (the module doc's "Demand"):
+    /// words beside the figures, not problems of the plant.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub note_parts: Vec<Vec<crate::core::recommend::Part>>,
     /// The scenario's installed cost: quoted, or estimated by [`default_cost`](super::default_cost).
     #[serde(deserialize_with = "f64_or_nan")]
     pub implementation_cost: f64,

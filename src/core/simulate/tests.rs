@@ -40,7 +40,14 @@ fn as_is() -> Scenario {
 fn run_plant(frame: &Frame, c: &[CompressorSpec], v: f64, leak: Option<f64>, sc: &Scenario) -> SimResult {
     let st = storage(v);
     let s = site();
-    let input = SimInput { frame, compressors: c, storage: &st, site: &s, leak_flow_m3_min: leak };
+    let input = SimInput {
+        frame,
+        compressors: c,
+        storage: &st,
+        site: &s,
+        leak_flow_m3_min: leak,
+        pressure_credible: true,
+    };
     run(&input, sc).unwrap()
 }
 
@@ -294,7 +301,14 @@ fn bad_changes_are_refused_with_their_field() {
     let frame = flow_frame(1.0, |_| 5.0);
     let st = storage(5.0);
     let s = site();
-    let input = SimInput { frame: &frame, compressors: &c, storage: &st, site: &s, leak_flow_m3_min: None };
+    let input = SimInput {
+        frame: &frame,
+        compressors: &c,
+        storage: &st,
+        site: &s,
+        leak_flow_m3_min: None,
+        pressure_credible: true,
+    };
     let cases = [
         (r#"[{"op": "remove", "tag": "X"}]"#, "changes[0].tag"),
         (r#"[{"op": "sequence", "order": ["A", "Q"]}]"#, "changes[0].order[1]"),
@@ -409,6 +423,7 @@ fn demo_run(sc: &Scenario) -> SimResult {
         storage: &st,
         site,
         leak_flow_m3_min: Some(plant.truth.leak_flow_at_7_bar_g_m3_min),
+        pressure_credible: true,
     };
     run(&input, sc).unwrap()
 }
@@ -481,4 +496,84 @@ fn timing_a_week_at_10_s_and_a_year_at_1_s() {
     let t = std::time::Instant::now();
     let r = run_plant(&year, &c, 7.5, Some(2.4), &as_is());
     eprintln!("year at 1 s ({len} bins, baseline + scenario): {:?}, {} kWh", t.elapsed(), r.energy_kwh);
+}
+
+/// A thin audit's replay (issue 16): two 15-minute bins of flow and of a pressure log of another
+/// system (0.05 bar(g) on a 7.5 bar(g) plant) in a grid of some three years, and a leak estimate
+/// from a bleed-down test, 1.05 m³/min, that is more than the whole logged flow of 0.12 m³/min.
+fn thin_replay(credible: bool, sc: &Scenario) -> SimResult {
+    let len = 100_000;
+    let grid = Grid { start_ms: 1_150_000_000_000, step_ms: 900_000, len };
+    let logged = |v: f32| (0..len).map(|i| if i == 50_000 || i == 50_001 { v } else { f32::NAN }).collect();
+    let column = |signal, values| FrameColumn {
+        point: Default::default(),
+        signal,
+        compressor: None,
+        label: format!("{signal:?}"),
+        values,
+        partial: vec![],
+    };
+    let frame = Frame {
+        grid,
+        columns: vec![
+            column(Signal::Flow, logged((0.12 / 60.0) as f32)),
+            column(Signal::Pressure, logged(101_325.0 + 5_000.0)),
+        ],
+    };
+    let c = vec![spec("C1", Control::LoadUnload, 7.5, 1.0), spec("C2", Control::LoadUnload, 8.0, 1.2)];
+    let (st, s) = (storage(1.0), site());
+    let input = SimInput {
+        frame: &frame,
+        compressors: &c,
+        storage: &st,
+        site: &s,
+        leak_flow_m3_min: Some(1.05),
+        pressure_credible: credible,
+    };
+    run(&input, sc).unwrap()
+}
+
+#[test]
+fn a_thin_replay_meets_its_logged_peak_says_what_it_left_out_and_draws_its_two_bins() {
+    // Arrange
+    let none_left: Scenario = serde_json::from_str(
+        r#"{"name": "none left", "changes": [{"op": "remove", "tag": "C1"}, {"op": "remove", "tag": "C2"}]}"#,
+    )
+    .unwrap();
+
+    // Act
+    let base = thin_replay(false, &as_is());
+    let gone = thin_replay(false, &none_left);
+
+    // Assert: the leak estimate cannot be a part of a demand smaller than itself; it is left out
+    // and said so, with both flows.
+    assert_eq!(base.note_parts.len(), 1, "{:?}", base.note_parts);
+    let figures: Vec<f64> = base.note_parts[0]
+        .iter()
+        .filter_map(|p| match p {
+            Part::Figure { value, .. } => Some(*value),
+            Part::Words(_) => None,
+        })
+        .collect();
+    assert_eq!(figures.len(), 2);
+    assert!((figures[0] - 1.05).abs() < 1e-12 && (figures[1] - 0.12).abs() < 1e-6, "{figures:?}");
+    // The baseline holds its band on 0.12 m³/min with 2.2 m³/min of machines: no problem.
+    assert!(base.feasible && base.problems.is_empty(), "{:?}", base.problems);
+    // The peak demand a plant must meet is the logged one, 0.12 m³/min (a 15-minute bin: the
+    // window says so), not the leak estimate anchored at 0.05 bar(g) and scaled up to the replay's
+    // pressure, which made it several m³/min.
+    assert!(
+        gone.problems[0].starts_with(
+            "no compressor is left to meet the peak demand of 0.120 m³/min free air (the replayed demand's \
+         highest mean over one 15-minute step of the log)"
+        ),
+        "{:?}",
+        gone.problems
+    );
+    // The pressure trace: one point per simulated bin, at the bins' starts (two points: a line).
+    let t0 = 1_150_000_000_000 + 50_000 * 900_000;
+    let times: Vec<i64> = base.pressure_trace.iter().map(|p| p.0).collect();
+    assert_eq!(times, [t0, t0 + 900_000]);
+    // A pressure log of another system is not the plant's start: the replay starts in its band.
+    assert!(base.pressure_trace.iter().all(|p| p.1 > 6.0), "{:?}", base.pressure_trace);
 }

@@ -24,7 +24,9 @@ Rules (common practice in reviewing logger data; the thresholds are ours, docume
   below the atmosphere; 0.1 bar allows for a transmitter's zero error, common practice),
   temperature outside -50..200 °C, a negative counter.
 - **Implausible against the data sheets** ([`QualityReport::check_against_rated`], run when the
-  file is stored, with the audit's compressors): a compressor's power above
+  file is stored, with the audit's compressors): a compressor's power (logged, or the power its
+  energy counter stands for: the counter's rise over each span of a minute or more over the span's
+  time, so that its last digit over a short interval makes no spike) above
   [`POWER_OVER_RATED`] (1.5) × its rated package power (a screw package draws at most some 10-20 %
   over its data sheet at raised pressure, common practice: half as much again is a wrong unit,
   scale, current transformer ratio or compressor); a compressor's own flow above
@@ -244,6 +246,10 @@ pub struct ChannelQuality {
     pub counter_drops: Findings<CounterDrop>,
     /// The highest reading (`None`: no reading).
     pub highest: Option<Highest>,
+    /// An energy counter's highest power, in kW: its rise over a span of a minute or more (the
+    /// readings that close each span) over the span's time (`None`: not a counter, or no such span).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub counter_power: Option<Highest>,
     /// Findings against the data sheets ([`QualityReport::check_against_rated`]).
     pub implausible: Vec<Implausible>,
 }
@@ -261,16 +267,29 @@ impl QualityReport {
     pub fn check_against_rated(&mut self, machines: &[RatedMachine]) {
         let total_flow: f64 = machines.iter().map(|m| m.rated_flow_m3_min).sum();
         for c in &mut self.channels {
-            let Some(h) = &c.highest else { continue };
             let machine = c.compressor.as_ref().and_then(|t| machines.iter().find(|m| &m.tag == t));
+            // An energy counter is checked by the power it stands for, with the same threshold.
+            let (h, counter) = match (c.quantity, &c.counter_power) {
+                (Quantity::Energy, Some(p)) => (p, true),
+                (Quantity::Energy, None) => continue,
+                _ => match &c.highest {
+                    Some(h) => (h, false),
+                    None => continue,
+                },
+            };
             let reason = match (c.quantity, machine) {
-                (Quantity::Power, Some(m)) if h.si > POWER_OVER_RATED * m.rated_power_kw * 1000.0 => format!(
-                    "power of {} up to {:.1} kW, above {POWER_OVER_RATED} x its rated {} kW: check the unit, \
-                     the scale or the compressor of the column",
-                    m.tag,
-                    h.si / 1000.0,
-                    m.rated_power_kw
-                ),
+                (Quantity::Power | Quantity::Energy, Some(m))
+                    if h.si > POWER_OVER_RATED * m.rated_power_kw * 1000.0 =>
+                {
+                    format!(
+                        "power of {}{} up to {:.1} kW, above {POWER_OVER_RATED} x its rated {} kW: check the unit, \
+                         the scale or the compressor of the column",
+                        m.tag,
+                        if counter { " from its energy counter (the mean over a minute or more)" } else { "" },
+                        h.si / 1000.0,
+                        m.rated_power_kw
+                    )
+                }
                 (Quantity::Flow, Some(m)) if h.si * 60.0 > FLOW_OVER_RATED * m.rated_flow_m3_min => format!(
                     "flow of {} up to {:.2} m³/min, above {FLOW_OVER_RATED} x its rated {} m³/min",
                     m.tag,

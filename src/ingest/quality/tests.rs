@@ -223,3 +223,51 @@ fn power_and_flow_far_above_the_data_sheets_are_implausible() {
     let r = report(82.0, 23.0);
     assert!(r.channels.iter().all(|c| c.implausible.is_empty()));
 }
+
+#[test]
+fn a_counters_power_far_above_the_data_sheet_is_implausible_and_its_last_digit_is_not() {
+    // An energy counter in kWh with a resolution of 0.1 kWh, read every 2 s for 10 min while the
+    // machine draws 36 kW: 0.02 kWh a reading, so the register steps 0.1 kWh every 10 s. Between
+    // two readings that is 0.1 kWh in 2 s = 180 kW; over each minute it is 0.6 kWh = 36 kW exactly
+    // (the register is read at whole minutes, a step falls on each). Then a reset to zero and the
+    // same again: no span runs across the reset.
+    let ch = [chan(Quantity::Energy, "kWh")];
+    let conv = [Converter::Linear { scale: 3.6e6, offset: 0.0 }];
+    let report = |rated_kw: f64| {
+        let mut q = QualityTracker::new(&ch, &conv, 101_325.0);
+        let mut line = 1;
+        for (start_kwh, t0) in [(500.0, 0i64), (0.0, 600_000)] {
+            for i in 0..=300i64 {
+                line += 1;
+                let kwh = start_kwh + ((i as f64 * 0.02) * 10.0).floor() / 10.0;
+                q.reading(0, line, t0 + i * 2000, kwh * 3.6e6);
+            }
+        }
+        let mut r = q.finish();
+        r.check_against_rated(&[RatedMachine {
+            tag: "C1".into(),
+            rated_power_kw: rated_kw,
+            rated_flow_m3_min: 3.0,
+        }]);
+        r
+    };
+    // Rated 20 kW: 36 kW > 1.5 x 20 = 30 kW.
+    let r = report(20.0);
+    let c = &r.channels[0];
+    let p = c.counter_power.as_ref().expect("the counter's power");
+    assert!((p.value - 36.0).abs() < 1e-9, "{p:?}");
+    assert_eq!(p.unit, "kW");
+    assert_eq!(c.implausible.len(), 1, "{:?}", c.implausible);
+    assert_eq!(
+        c.implausible[0].reason,
+        "power of C1 from its energy counter (the mean over a minute or more) up to 36.0 kW, above 1.5 x \
+         its rated 20 kW: check the unit, the scale or the compressor of the column"
+    );
+    assert!(r
+        .warnings("UTC")
+        .iter()
+        .any(|w| w.starts_with("C1 kWh: implausible: power of C1 from its energy counter")
+            && w.contains("36 kW")));
+    // Rated 30 kW: 36 kW < 45 kW. Read reading by reading, the last digit's 180 kW would flag it.
+    assert!(report(30.0).channels[0].implausible.is_empty());
+}

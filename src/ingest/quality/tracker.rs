@@ -15,6 +15,11 @@ use crate::ingest::timestamp::{format_local_ms, format_utc_ms, DstCase, DstResol
 
 const FLAT_MIN_MS: i64 = 30 * 60 * 1000;
 const FLAT_MIN_READINGS: u64 = 30;
+/// An energy counter's power is read over spans of at least a minute (the readings that close
+/// each span), so that the counter's last digit over a short interval makes no spike: a counter
+/// in whole Wh read every 2 s steps by 1.8 kW, over a minute by 0.06 kW. The minute is the peak
+/// flow's window too.
+pub(super) const COUNTER_POWER_SPAN_MS: i64 = 60_000;
 
 #[derive(Debug, Clone)]
 struct Run {
@@ -35,6 +40,11 @@ struct ChannelTracker {
     range: Range,
     /// SI value, line and time of the highest reading.
     highest: Option<(f64, u64, i64)>,
+    /// An energy counter's reading (time, J) that opens the span its power is taken over.
+    counter_anchor: Option<(i64, f64)>,
+    /// An energy counter's highest power (W) over a span of at least [`COUNTER_POWER_SPAN_MS`],
+    /// with the line and time that close the span.
+    counter_power: Option<(f64, u64, i64)>,
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -103,6 +113,7 @@ impl QualityTracker {
                         out_of_range: Findings::default(),
                         counter_drops: Findings::default(),
                         highest: None,
+                        counter_power: None,
                         implausible: Vec::new(),
                     },
                     conv: *conv,
@@ -112,6 +123,8 @@ impl QualityTracker {
                     prev_counter: None,
                     range: range_for(c.quantity, atmosphere_pa),
                     highest: None,
+                    counter_anchor: None,
+                    counter_power: None,
                 }
             })
             .collect();
@@ -246,6 +259,20 @@ impl QualityTracker {
                 }
             }
             c.prev_counter = Some(si);
+            // Its power: the rise over each span of a minute or more, from one reading to the
+            // first one a minute later. A decrease (reset, roll-over) starts a new span; a gap
+            // inside a span only lowers its mean, so it can never make power that was not drawn.
+            match c.counter_anchor {
+                Some((t0, c0)) if si >= c0 && t_ms - t0 >= COUNTER_POWER_SPAN_MS => {
+                    let w = (si - c0) / ((t_ms - t0) as f64 / 1000.0);
+                    if c.counter_power.is_none_or(|(p, _, _)| w > p) {
+                        c.counter_power = Some((w, line, t_ms));
+                    }
+                    c.counter_anchor = Some((t_ms, si));
+                }
+                Some((_, c0)) if si >= c0 => {}
+                _ => c.counter_anchor = Some((t_ms, si)),
+            }
         }
     }
 
@@ -289,6 +316,13 @@ impl QualityTracker {
                     value: c.conv.to_logged(si),
                     unit: c.display_unit.clone(),
                     si,
+                });
+                c.q.counter_power = c.counter_power.map(|(w, line, t)| Highest {
+                    line,
+                    time: format_utc_ms(t),
+                    value: w / 1000.0,
+                    unit: "kW".into(),
+                    si: w,
                 });
                 c.q
             })

@@ -176,7 +176,11 @@ async fn logged_chart(
     conv: &(dyn Fn(f64) -> f64 + Sync),
     band: bool,
 ) -> Result<Option<(Vec<Mark>, i64, i64)>, AppError> {
-    let chans: Vec<&ChannelInfo> = b.channels.iter().filter(|c| c.quantity == quantity).collect();
+    // An energy counter is drawn as the power it stands for (`App::chart_series`), after the
+    // logged power.
+    let counters = b.channels.iter().filter(|c| quantity == "power" && c.quantity == "energy");
+    let chans: Vec<&ChannelInfo> =
+        b.channels.iter().filter(|c| c.quantity == quantity).chain(counters).collect();
     if chans.is_empty() {
         return Ok(None);
     }
@@ -192,7 +196,10 @@ async fn logged_chart(
     let to = chans.iter().map(|c| c.last_ms).max().unwrap_or(from);
     let mut marks = vec![];
     for c in chans {
-        let name = super::words::channel_name(c, &b.channels);
+        let mut name = super::words::channel_name(c, &b.channels);
+        if c.quantity == "energy" {
+            name.push_str(", from its energy counter");
+        }
         let pts = app.chart_series(b, c, from, to, POINTS).await?;
         // A bucket that follows a longer silence than the chart's gap is across a gap in the log
         // (`read::chart_gap_ms`: by the bucket length and the logging interval, never by the span

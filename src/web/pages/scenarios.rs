@@ -16,6 +16,7 @@ use super::inputs::Inputs;
 use super::view::nan;
 use super::{render, PageError, PageResult};
 use crate::app::scenarios::ScenarioOutcome;
+use crate::core::analysis::Verdict;
 use crate::core::display::{EnergyUnit, Fmt};
 use crate::core::recommend::MAX_SCENARIO_VALIDATION_ERROR;
 use crate::store::audits::Audit;
@@ -77,6 +78,8 @@ pub struct ScenarioRow {
     pub below: String,
     pub validation: String,
     pub problems: Vec<String>,
+    /// What the replay left out of the logged data and why.
+    pub notes: Vec<String>,
     pub cost: String,
     /// Where the cost is from: "quoted" or "default estimate".
     pub cost_source: &'static str,
@@ -97,6 +100,10 @@ struct ScenariosPage {
     page_data: Value,
     inp: Inputs,
     has_data: bool,
+    /// Said above the table when the logged data are not enough for annual figures.
+    insufficient: Option<String>,
+    /// Said instead of the pressure chart when no replay has two points to draw.
+    no_trace: Option<String>,
     editing: Option<String>,
     /// The target pressure's floor in the reader's units: the plant's low limit, else 0 gauge
     /// (`Scenario::check_plant_in`).
@@ -123,6 +130,8 @@ pub async fn scenarios(
     // The replayed period's saving, scaled to the year like the audit's baseline.
     let scale = sm.map_or(f64::NAN, |s| nan(s.baseline.annual_energy_kwh) / s.system.energy_kwh);
     let offered_id = sm.and_then(|s| s.recommendations.iter().find_map(|r| r.scenario_id));
+    // The verdict stands before the replays as before any annual figure (`analysis::sufficiency`).
+    let insufficient = sm.is_some_and(|s| s.sufficiency.verdict == Verdict::Insufficient);
     let rev = b.audit.revision;
     let outcomes: Vec<ScenarioOutcome> = list.iter().map(ScenarioOutcome::of).collect();
     // One unit for both energy columns, whatever the rows' sizes.
@@ -140,6 +149,8 @@ pub async fn scenarios(
                 "replayed on earlier data: replay it again".into()
             } else if r.simulated_hours.is_none_or(|h| h.is_nan() || h <= 0.0) {
                 "no data to replay".into()
+            } else if insufficient {
+                "not offered: the logged data are not enough for annual figures".into()
             } else if !sc.proposal {
                 "not proposed: mark it as the proposal to put it on the report".into()
             } else if r.feasible != Some(true) {
@@ -180,6 +191,7 @@ pub async fn scenarios(
                 } else {
                     r.problems.clone()
                 },
+                notes: r.note_parts.iter().map(|p| crate::core::display::render_parts(p, &fmt)).collect(),
                 cost: fmt.money(nan(r.implementation_cost), &cur),
                 cost_source: if r.implementation_cost_source.as_deref() == Some("given") {
                     "quoted"
@@ -197,6 +209,16 @@ pub async fn scenarios(
         .zip(&outcomes)
         .map(|(sc, r)| serde_json::json!({"name": sc.name, "points": r.pressure_trace}))
         .collect();
+    // A line needs two points: a replay of one time step (or none) draws nothing, and says so.
+    let drawable = outcomes.iter().any(|r| r.pressure_trace.as_array().is_some_and(|p| p.len() >= 2));
+    let no_trace = (!drawable && !outcomes.is_empty()).then(|| {
+        let hours =
+            outcomes.iter().filter_map(|r| r.simulated_hours).filter(|h| h.is_finite()).fold(0.0, f64::max);
+        format!(
+            "No pressure to draw: no replay covers two time steps of the log (the longest replays {}).",
+            fmt.hours(hours)
+        )
+    });
     // The scenario to edit, as the form reads it back.
     let edit = q.edit.and_then(|e| list.iter().find(|s| s.id == e)).map(|s| {
         let r = ScenarioOutcome::of(s);
@@ -211,6 +233,12 @@ pub async fn scenarios(
             "entry": Inputs::new(fmt.units).page_data(), "timezone": b.audit.site.timezone}),
         inp: Inputs::new(fmt.units),
         has_data: !b.uploads.is_empty(),
+        insufficient: insufficient.then(|| {
+            "The logged data are not enough for annual figures (the report says why): a replay shows how \
+             the plant would run through these readings, and none is offered as a measure."
+                .to_string()
+        }),
+        no_trace,
         editing,
         target_min: Inputs::new(fmt.units)
             .p(crate::core::model::low_limit_bar_g(&b.specs()).unwrap_or(0.0).max(0.0)),
