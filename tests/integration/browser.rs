@@ -819,6 +819,8 @@ mod findings;
 mod forms;
 #[path = "browser_pages.rs"]
 mod pages;
+#[path = "browser_report16.rs"]
+mod report16;
 #[path = "browser_treatment.rs"]
 mod treatment;
 #[path = "browser_upload.rs"]
