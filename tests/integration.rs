@@ -34,6 +34,8 @@ mod partload;
 mod reader_units;
 #[path = "integration/real_files.rs"]
 mod real_files;
+#[path = "integration/refusals16.rs"]
+mod refusals16;
 #[path = "integration/thin_files.rs"]
 mod thin_files;
 #[path = "integration/treatment.rs"]

@@ -142,6 +142,8 @@ window.airledger = {
       const err = new Error(e.message + (where ? " (" + where + ")" : ""));
       err.field = e.field || null;
       err.said = e.message; // the refusal alone, for beside its field
+      // Every field's refusal when several are wrong at once ({field, message} each).
+      err.errors = Array.isArray(e.errors) && e.errors.length ? e.errors : [{ field: err.field, message: e.message }];
       throw err;
     }
     return body;
@@ -221,6 +223,25 @@ window.airledger.besideField = function (form, field, message) {
   el.setAttribute("aria-invalid", "true");
   el.focus({ preventScroll: true });
   return true;
+};
+// Every refusal of an API reply (`errors`, each {field, message}) set beside its field in `form`,
+// the earlier ones taken away; `fieldOf` turns an API field into the form field's name (default:
+// its last part). Returns the refusals no field was found for.
+window.airledger.besideFields = function (form, errors, fieldOf) {
+  for (const old of form.querySelectorAll(".field-error")) old.remove();
+  for (const el of form.querySelectorAll("[aria-invalid]")) el.removeAttribute("aria-invalid");
+  const left = [];
+  let first = null;
+  for (const e of errors) {
+    const name = fieldOf ? fieldOf(e.field) : String(e.field || "").split("[")[0].split(".").pop();
+    const el = name && form.elements.namedItem(name);
+    if (!el || !el.insertAdjacentElement) { left.push(e); continue; }
+    el.insertAdjacentElement("afterend", window.airledger.el("span", { class: "field-error", role: "alert" }, e.message));
+    el.setAttribute("aria-invalid", "true");
+    first = first || el;
+  }
+  if (first) first.focus({ preventScroll: true });
+  return left;
 };
 // A form the server refused (pages/refusal.rs): what was typed goes back into its fields (in the
 // units it was typed in), the section that holds it opens, and each refusal is set beside its

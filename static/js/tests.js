@@ -45,8 +45,13 @@
       status.textContent = "Recorded test " + r.id + ".";
       window.location.assign("/audits/" + data.audit_id + "/tests");
     } catch (e) {
-      status.textContent = "Not recorded: " + e.message;
-      if (form && A.besideField(form, e.field, e.said || e.message)) form.scrollIntoView({ block: "center" });
+      // Every refusal at once: each beside its field, all of them listed in the status line.
+      const all = e.errors || [];
+      status.textContent = all.length > 1
+        ? "Not recorded: " + all.length + " fields to correct: " + all.map((x) => x.message).join("; ") + "."
+        : "Not recorded: " + e.message;
+      const left = form ? A.besideFields(form, all) : all;
+      if (form && left.length < all.length) form.scrollIntoView({ block: "center" });
       else status.scrollIntoView({ block: "center" });
     }
   }

@@ -95,3 +95,92 @@ fn the_printed_report_carries_the_site_and_page_numbers() {
         assert!(split.is_empty(), "{units}: numbers split from their units:\n{}", split.join("\n"));
     }
 }
+
+/// Fills the form matched by `selector` with `values` (name -> text, as a person types them) and
+/// submits it; then waits until `n` refusals stand in it and returns, for each, the field it
+/// stands beside and its text, and the fields' values as they are left.
+fn refused_in(b: &Browser, selector: &str, values: Value, n: usize) -> Value {
+    b.js(
+        "const [sel, values] = arguments; const f = document.querySelector(sel);
+         for (const [k, v] of Object.entries(values)) f.elements.namedItem(k).value = v;
+         f.requestSubmit(); return true;",
+        json!([selector, values]),
+    );
+    let read = "const f = document.querySelector(arguments[0]);
+        return { errors: [...f.querySelectorAll('.field-error')].map((e) => ({ field: e.previousElementSibling.name, text: e.textContent })),
+                 values: Object.fromEntries([...f.elements].filter((e) => e.name).map((e) => [e.name, e.value])) };";
+    let ok = wait_until(Duration::from_secs(20), || {
+        b.js(read, json!([selector]))["errors"].as_array().is_some_and(|a| a.len() >= n)
+    });
+    let got = b.js(read, json!([selector]));
+    assert!(ok, "{selector}: fewer than {n} refusals: {got}");
+    got
+}
+
+/// Issue 16: the field-test and what-if forms of a US audit, posted with several wrong fields,
+/// show every refusal at once, each beside its field and in psig, °F and US gal, and keep what was
+/// typed (the forms post JSON and stay on the page).
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn the_field_test_and_what_if_forms_give_every_refusal_at_once() {
+    let s = Server::start();
+    let r = s.post_json(
+        "/api/v1/audits",
+        &json!({"name": "US plant", "site": {"altitude_m": 0, "display_units": "us", "timezone": "America/Chicago"}}),
+    );
+    let id = r.json()["id"].as_i64().unwrap();
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/compressors"),
+        &json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+                "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let b = Browser::start();
+    b.goto(&s.url(&format!("/audits/{id}/tests")));
+    b.settle();
+    // 800 and 900 psig are above the 725.2 psig (50 bar(g)) limit, 0 s is under 1 s and 300 °F
+    // above 248 °F (120 °C).
+    let typed = json!({"start_pressure_bar_g": "800", "end_pressure_bar_g": "900", "duration_s": "0",
+                       "air_temperature_c": "300", "volume_m3": "500"});
+    let got = refused_in(&b, "form[data-test-kind=bleed_down]", typed.clone(), 4);
+    let errors = got["errors"].as_array().unwrap();
+    let beside: Vec<&str> = errors.iter().map(|e| e["field"].as_str().unwrap()).collect();
+    assert_eq!(beside, ["start_pressure_bar_g", "end_pressure_bar_g", "duration_s", "air_temperature_c"]);
+    let text = |i: usize| errors[i]["text"].as_str().unwrap().to_string();
+    assert!(text(0).contains("800 psig") && text(1).contains("900 psig"), "{got}");
+    assert!(text(3).contains("300 °F"), "{got}");
+    assert!(!errors.iter().any(|e| e["text"].as_str().unwrap().contains("bar")), "{got}");
+    for (k, v) in typed.as_object().unwrap() {
+        assert_eq!(&got["values"][k], v, "{k} not kept as typed");
+    }
+    // The load/unload form: both times wrong at once.
+    let got =
+        refused_in(&b, "form[data-test-kind=load_unload]", json!({"loaded_s": "0", "unloaded_s": "-5"}), 2);
+    let beside: Vec<&str> =
+        got["errors"].as_array().unwrap().iter().map(|e| e["field"].as_str().unwrap()).collect();
+    assert_eq!(beside, ["loaded_s", "unloaded_s"]);
+
+    // The what-if form: no name, a target of 1 psig under the plant's low limit (94.27 psig),
+    // 10 US gal taken away, leaks reduced by 2, a machine added with no power.
+    b.goto(&s.url(&format!("/audits/{id}/scenarios")));
+    b.settle();
+    let typed = json!({"name": "", "target_bar_g": "1", "add_storage_m3": "-10", "reduce_leaks": "2",
+                       "add_tag": "N1", "add_power": "0", "add_flow": "350", "add_pressure": "110"});
+    let got = refused_in(&b, "#scenario-form", typed.clone(), 5);
+    let errors = got["errors"].as_array().unwrap();
+    let beside: Vec<&str> = errors.iter().map(|e| e["field"].as_str().unwrap()).collect();
+    assert_eq!(beside, ["name", "target_bar_g", "add_storage_m3", "reduce_leaks", "add_power"], "{got}");
+    let text = |i: usize| errors[i]["text"].as_str().unwrap().to_string();
+    assert!(text(1).contains("94.27 psig") && text(1).contains("1 psig"), "{got}");
+    assert!(text(2).contains("US gal"), "{got}");
+    for (k, v) in typed.as_object().unwrap() {
+        assert_eq!(&got["values"][k], v, "{k} not kept as typed");
+    }
+    // The refusals themselves are 422 replies, which the console lists as failed loads.
+    let severe: Vec<String> =
+        b.severe_logs("refused forms").into_iter().filter(|m| !m.contains("status of 422")).collect();
+    assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
+}
