@@ -30,6 +30,8 @@ mod ingest;
 mod pages;
 #[path = "integration/partload.rs"]
 mod partload;
+#[path = "integration/quality16.rs"]
+mod quality16;
 #[path = "integration/reader_units.rs"]
 mod reader_units;
 #[path = "integration/real_files.rs"]

@@ -184,3 +184,63 @@ fn the_field_test_and_what_if_forms_give_every_refusal_at_once() {
         b.severe_logs("refused forms").into_iter().filter(|m| !m.contains("status of 422")).collect();
     assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
 }
+
+/// Issue 16: the upload page's reply after an import through the page gives the data-quality
+/// warnings in the reader's units: a negative gauge pressure logged in bar(g) reads, on a US
+/// audit, in psig with its limit (-0.273216 bar = -4.0 psig, -0.1 bar = -1.5 psig, NIST SP 811
+/// B.8), the logged value only beside its line.
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn the_upload_reply_gives_quality_warnings_in_psig() {
+    let s = Server::start();
+    let r = s.post_json(
+        "/api/v1/audits",
+        &json!({"name": "US plant", "site": {"altitude_m": 0, "display_units": "us", "timezone": "America/Chicago"}}),
+    );
+    let id = r.json()["id"].as_i64().unwrap();
+    let file = |start: i64| {
+        let mut s = String::from("time,header bar\n");
+        for i in 0..360 {
+            let p = if i % 30 == 5 {
+                "-0.273216".to_string()
+            } else {
+                format!("{:.3}", 6.9 + (i % 7) as f64 * 0.01)
+            };
+            s.push_str(&format!("{},{p}\n", jiff_like_rfc3339(start + i * 10)));
+        }
+        s
+    };
+    // The layout imported once over the API, so that the page fills its mapping (bar(g)).
+    let mapping = json!({"delimiter": ",", "decimal": ".", "header_line": 1,
+        "timestamp": {"column": "time", "format": "rfc3339", "timezone": "UTC"},
+        "columns": [{"column": "header bar", "quantity": "pressure", "unit": "bar_g"}]});
+    let r = s.upload(id, "day1.csv", file(1_777_881_600).as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let b = Browser::start();
+    b.goto(&s.url(&format!("/audits/{id}/upload")));
+    b.js(
+        "const dt = new DataTransfer(); dt.items.add(new File([arguments[0]], 'day2.csv', {type: 'text/csv'}));
+         const input = document.getElementById('file-input'); input.files = dt.files;
+         input.dispatchEvent(new Event('change'));",
+        json!([file(1_777_968_000)]),
+    );
+    let row = "document.querySelector('#columns-table tr[data-column=\"header bar\"]')";
+    assert!(
+        wait_until(Duration::from_secs(15), || b.js(&format!("return !!{row}"), json!([])) == json!(true)),
+        "the mapping did not appear"
+    );
+    b.js("document.getElementById('import-button').click()", json!([]));
+    let items = "return [...document.querySelectorAll('#result li')].map((l) => l.textContent).join('\\n')";
+    assert!(
+        wait_until(Duration::from_secs(30), || b.js_str(items).contains("out of range")),
+        "no quality warning after the import: {}",
+        b.js_str("return document.getElementById('result').textContent")
+    );
+    let text = b.js_str(items).replace('\u{a0}', " ");
+    assert!(text.contains("below -1.5 psig"), "{text}");
+    assert!(text.contains("the first is -4.0 psig at line 7 (as logged: -0.273216)"), "{text}");
+    assert!(!text.contains("bar(g)"), "bar(g) in a US audit's reply: {text}");
+}

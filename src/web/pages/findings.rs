@@ -77,7 +77,7 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
         view,
         b_compressors: b.compressors,
         b_receivers: b.receivers,
-        b_uploads: super::words::uploads_in_local_time(b.uploads, &tz),
+        b_uploads: super::words::uploads_in_local_time(b.uploads, &tz, &fmt),
         audit: b.audit,
     })
 }
