@@ -26,6 +26,7 @@ fn the_supply_table_fits_1280_px() {
         json!([]),
     );
     let (table, bx) = (fit["table"].as_f64().unwrap(), fit["box"].as_f64().unwrap());
+    eprintln!("the Supply table: {table} px wide in a {bx} px box at 1280 px");
     b.screenshot("report-supply-1280");
     let text = fit["text"].as_str().unwrap();
     // Nothing hidden: the variable-speed machine's load is still its mean capacity.
