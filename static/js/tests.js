@@ -74,7 +74,12 @@
       out.textContent = (data.entry.system === "us"
         ? r.leak_flow_cfm_free_air.toFixed(2) + " cfm free air"
         : r.leak_flow_m3_min.toFixed(3) + " m\u00b3/min free air") + (r.choked ? ", choked flow" : "");
-    } catch (err) { out.textContent = err.message; }
+    } catch (err) {
+      // Every refusal at once, each beside its field, all of them in the result line.
+      const all = err.errors || [];
+      out.textContent = all.length > 1 ? all.map((x) => x.message).join("; ") + "." : err.message;
+      A.besideFields(orifice, all);
+    }
   });
 
   (async function events() {

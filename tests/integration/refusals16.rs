@@ -134,3 +134,18 @@ fn a_scenario_gives_every_refusal_at_once_in_the_audits_units() {
         assert_eq!(list["scenarios"].as_array().unwrap().len(), 0);
     }
 }
+
+#[test]
+fn the_orifice_calculator_gives_every_refusal_at_once_in_the_audits_units() {
+    let s = Server::start();
+    let id = audit(&s, "us");
+    // A hole of 0 in, 900 psig (above 725.2 psig, 50 bar(g)) and a discharge coefficient of 2
+    // (0..1): three refusals at once, the pressure in psig.
+    let r = s.post_json(
+        "/api/v1/calc/orifice-leak",
+        &json!({"audit_id": id, "diameter_mm": 0, "pressure_bar_g": 900.0 * BAR_PER_PSI, "discharge_coefficient": 2}),
+    );
+    let all = refusals(&r);
+    assert_eq!(fields(&all), ["diameter_mm", "pressure_bar_g", "discharge_coefficient"], "{all:?}");
+    assert_eq!(all[1].1, "the pressure must be at most 725.2 psig, got 900 psig");
+}
