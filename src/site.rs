@@ -214,7 +214,7 @@ pub fn locate_unexpected(obj: &serde_json::Value, message: &str) -> Option<Strin
 }
 
 /// A field-level validation failure (API: 422 with `field`).
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct FieldError {
     pub field: String,
     pub message: String,

@@ -30,10 +30,14 @@ mod ingest;
 mod pages;
 #[path = "integration/partload.rs"]
 mod partload;
+#[path = "integration/quality16.rs"]
+mod quality16;
 #[path = "integration/reader_units.rs"]
 mod reader_units;
 #[path = "integration/real_files.rs"]
 mod real_files;
+#[path = "integration/refusals16.rs"]
+mod refusals16;
 #[path = "integration/thin_counter.rs"]
 mod thin_counter;
 #[path = "integration/thin_files.rs"]

@@ -17,6 +17,10 @@ pub enum Error {
     /// One input field is wrong.
     #[error("{message}")]
     Field { field: String, message: String },
+    /// Several input fields are wrong: every refusal at once, each naming its field (never empty;
+    /// the first is the one a single refusal would give).
+    #[error("{}", .0.first().map_or("", |e| e.message.as_str()))]
+    Fields(Vec<FieldError>),
     /// Well-formed but wrong input, with the place it is wrong (a file's line and column).
     #[error("{message}")]
     Unprocessable { message: String, line: Option<u64>, column: Option<String>, field: Option<String> },
@@ -34,6 +38,15 @@ pub type Result<T, E = Error> = std::result::Result<T, E>;
 impl Error {
     pub fn field(field: &str, message: impl Into<String>) -> Self {
         Self::Field { field: field.to_string(), message: message.into() }
+    }
+
+    /// Every refusal at once: [`Error::Fields`], or the one [`Error::Field`] when there is one.
+    pub fn fields(mut all: Vec<FieldError>) -> Self {
+        if all.len() == 1 {
+            let e = all.swap_remove(0);
+            return Self::Field { field: e.field, message: e.message };
+        }
+        Self::Fields(all)
     }
 
     pub fn internal(e: impl Into<anyhow::Error>) -> Self {

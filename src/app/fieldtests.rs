@@ -65,38 +65,40 @@ impl App {
         let b = self.bundle(id).await?;
         let input: FieldTestInput =
             crate::site::read_json(body.clone(), "this field test").map_err(Error::from)?;
+        let site = b.audit.site.air();
+        let specs = b.specs();
+        let storage = b.storage();
+        let site_spec = b.audit.site.to_spec();
+        let mut ctx = FieldTestContext {
+            site: &site,
+            compressors: &specs,
+            storage: &storage,
+            frame: None,
+            production: site_spec.production.as_ref(),
+            timezone: &site_spec.timezone,
+            units: b.audit.site.display_units,
+        };
+        // Every refusal of the test's own fields at once, before any log is read; then the checks
+        // against the logs, one at a time.
+        let all = fieldtest::refusals(&input, &ctx);
+        if !all.is_empty() {
+            return Err(Error::fields(
+                all.into_iter().map(|e| crate::site::FieldError::new(&e.field, e.message)).collect(),
+            ));
+        }
         let window = match &input {
             FieldTestInput::IdleFlow { start, end, .. }
-            | FieldTestInput::PressureDecay { start, end, .. } => {
-                let s = fieldtest::parse_time_ms("start", start).map_err(test_error)?;
-                let e = fieldtest::parse_time_ms("end", end).map_err(test_error)?;
-                if e <= s {
-                    return Err(Error::field(
-                        "end",
-                        format!("the end {end} must be after the start {start}"),
-                    ));
-                }
-                Some((s, e))
-            }
+            | FieldTestInput::PressureDecay { start, end, .. } => Some((
+                fieldtest::parse_time_ms("start", start).map_err(test_error)?,
+                fieldtest::parse_time_ms("end", end).map_err(test_error)?,
+            )),
             _ => None,
         };
         let frame = match window {
             Some(w) => self.frame_for(&b, Some(w)).await?,
             None => None,
         };
-        let site = b.audit.site.air();
-        let specs = b.specs();
-        let storage = b.storage();
-        let site_spec = b.audit.site.to_spec();
-        let ctx = FieldTestContext {
-            site: &site,
-            compressors: &specs,
-            storage: &storage,
-            frame: frame.as_deref(),
-            production: site_spec.production.as_ref(),
-            timezone: &site_spec.timezone,
-            units: b.audit.site.display_units,
-        };
+        ctx.frame = frame.as_deref();
         let result = fieldtest::evaluate(&input, &ctx).map_err(test_error)?;
         let result = serde_json::to_value(&result).map_err(Error::internal)?;
         Ok((input.method(), result))

@@ -126,10 +126,13 @@ impl App {
             )
         })?;
         // Checked before anything is read, so a wrong scenario gets its own error first.
-        scenario.check_in(b.audit.site.display_units).map_err(|e| Error::field(&e.field, e.message))?;
-        scenario
-            .check_plant_in(&b.specs(), b.audit.site.display_units)
-            .map_err(|e| Error::field(&e.field, e.message))?;
+        // Every refusal at once, each naming its field.
+        let all = scenario.refusals_in(&b.specs(), b.audit.site.display_units);
+        if !all.is_empty() {
+            return Err(Error::fields(
+                all.into_iter().map(|e| crate::site::FieldError::new(&e.field, e.message)).collect(),
+            ));
+        }
         let Some(frame) = self.frame_for(&b, None).await? else {
             return Err(Error::field(
                 "changes",

@@ -323,6 +323,7 @@ pub fn render_parts(parts: &[Part], fmt: &Fmt) -> String {
                 fmt.temperature_difference_k(*value)
             }
             Part::Figure { quantity: Quantity::PressureKpaAbs, value } => fmt.pressure_abs_kpa(*value),
+            Part::Figure { quantity: Quantity::TemperatureC, value } => fmt.temperature_c(*value),
         })
         .collect()
 }

@@ -491,6 +491,104 @@ pub fn longer_fall_advice(
     }
 }
 
+/// Every refusal of a test's own fields at once (API 422 `errors`, each beside its field on the
+/// tests page), in the reader's units: each number against its range, and a check that leans on
+/// another field (the end pressure below the start, the end after the start) only when that field
+/// passed. The checks against the logged data (the window, the compressors' states) need the
+/// fields right and stay [`evaluate`]'s, one at a time. Empty when every field is right.
+pub fn refusals(input: &FieldTestInput, ctx: &FieldTestContext) -> Vec<FieldError> {
+    let (site, units) = (ctx.site, ctx.units);
+    let mut errs = Vec::new();
+    fn take<T>(errs: &mut Vec<FieldError>, r: Result<T, FieldError>) -> Option<T> {
+        r.map_err(|e| errs.push(e)).ok()
+    }
+    let seconds = |field: &str, words: &str, v: f64, lo: f64| {
+        within(field, words, v, (lo, MAX_DURATION_S), Quoted::Seconds)
+    };
+    let times = |errs: &mut Vec<FieldError>, start: &str, end: &str| {
+        let s = take(errs, parse_time_ms("start", start));
+        let e = take(errs, parse_time_ms("end", end));
+        if let (Some(s), Some(e)) = (s, e) {
+            if e <= s {
+                errs.push(err("end", format!("the end {end} must be after the start {start}")));
+            }
+        }
+    };
+    match input {
+        FieldTestInput::BleedDown {
+            volume_m3,
+            start_pressure_bar_g,
+            end_pressure_bar_g,
+            duration_s,
+            operating_pressure_bar_g,
+            air_temperature_c,
+        } => {
+            let p1 = take(&mut errs, pressure("start_pressure_bar_g", *start_pressure_bar_g, site, units));
+            let p2 = take(&mut errs, pressure("end_pressure_bar_g", *end_pressure_bar_g, site, units));
+            if let (Some(p1), Some(p2)) = (p1, p2) {
+                if p2.0 >= p1.0 {
+                    errs.push(err(
+                        "end_pressure_bar_g",
+                        format!(
+                            "the end pressure {} must be below the start pressure {}",
+                            Entry::GaugePressure.said(units, *end_pressure_bar_g),
+                            Entry::GaugePressure.said(units, *start_pressure_bar_g)
+                        ),
+                    ));
+                }
+            }
+            take(&mut errs, seconds("duration_s", "the duration", *duration_s, MIN_DURATION_S));
+            if let Some(op) = operating_pressure_bar_g {
+                take(&mut errs, pressure("operating_pressure_bar_g", *op, site, units));
+            }
+            if volume_m3.is_some() {
+                take(&mut errs, volume("volume_m3", *volume_m3, ctx.storage, units));
+            }
+            take(&mut errs, air_temperature(*air_temperature_c, units));
+        }
+        FieldTestInput::LoadUnload { compressor, loaded_s, unloaded_s } => {
+            if !ctx.compressors.iter().any(|c| &c.tag == compressor) {
+                errs.push(err("compressor", format!("no compressor tagged {compressor:?} in this audit")));
+            }
+            take(&mut errs, seconds("loaded_s", "the loaded time", *loaded_s, MIN_DURATION_S));
+            take(&mut errs, seconds("unloaded_s", "the unloaded time", *unloaded_s, 0.0));
+        }
+        FieldTestInput::IdleFlow { start, end, production_pressure_bar_g, purge_and_drains_m3_min } => {
+            times(&mut errs, start, end);
+            if let Some(pp) = production_pressure_bar_g {
+                take(&mut errs, pressure("production_pressure_bar_g", *pp, site, units));
+            }
+            take(
+                &mut errs,
+                within(
+                    "purge_and_drains_m3_min",
+                    "the purge and drains flow",
+                    purge_and_drains_m3_min.unwrap_or(0.0),
+                    (0.0, MAX_PURGE_M3_MIN),
+                    Quoted::Entry(Entry::FreeAirFlow, units),
+                ),
+            );
+        }
+        FieldTestInput::PressureDecay {
+            start,
+            end,
+            volume_m3,
+            operating_pressure_bar_g,
+            air_temperature_c,
+        } => {
+            times(&mut errs, start, end);
+            if volume_m3.is_some() {
+                take(&mut errs, volume("volume_m3", *volume_m3, ctx.storage, units));
+            }
+            if let Some(op) = operating_pressure_bar_g {
+                take(&mut errs, pressure("operating_pressure_bar_g", *op, site, units));
+            }
+            take(&mut errs, air_temperature(*air_temperature_c, units));
+        }
+    }
+    errs
+}
+
 /// Evaluate one field test.
 pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldTestResult, FieldError> {
     let site = ctx.site;

@@ -60,6 +60,8 @@ pub struct UploadRecord {
     pub last: Option<String>,
     pub created_at: String,
     pub warnings: Vec<String>,
+    /// `warnings` in parts, one for one (empty for an upload stored before they were kept).
+    pub warning_parts: Vec<Vec<crate::core::recommend::Part>>,
     pub sha256: String,
     /// The mapping it was imported with, as stored.
     pub mapping: serde_json::Value,
@@ -459,7 +461,8 @@ pub async fn delete_receiver(pool: &SqlitePool, audit_id: i64, id: i64) -> Resul
 
 pub async fn uploads(pool: &SqlitePool, audit_id: i64) -> Result<Vec<UploadRecord>, StoreError> {
     let rows = sqlx::query(
-        "SELECT id, filename, bytes, rows, readings, first_ms, last_ms, created_at, warnings, quality, sha256, \
+        "SELECT id, filename, bytes, rows, readings, first_ms, last_ms, created_at, warnings, warning_parts, \
+         quality, sha256, \
          mapping, (SELECT sum(length(o.data)) FROM upload_original o WHERE o.upload_id = upload.id) AS kept \
          FROM upload WHERE audit_id = ? AND state = 'complete' ORDER BY id",
     )
@@ -481,6 +484,7 @@ pub async fn uploads(pool: &SqlitePool, audit_id: i64) -> Result<Vec<UploadRecor
                 last: r.get::<Option<i64>, _>("last_ms").map(ms_to_rfc3339),
                 created_at: r.get("created_at"),
                 warnings: serde_json::from_str(&w).unwrap_or_default(),
+                warning_parts: serde_json::from_str(&r.get::<String, _>("warning_parts")).unwrap_or_default(),
                 sha256: r.get("sha256"),
                 mapping: serde_json::from_str(&m).unwrap_or_default(),
                 original_bytes_stored: r.get("kept"),

@@ -510,33 +510,51 @@ pub async fn calc_orifice(
             Err(AppError::field(field, format!("{words} {}", kind.out_of_range(units, v, lo, lo_open, hi))))
         }
     };
-    entry(
+    // Every refusal of the hole's figures at once, each naming its field.
+    let mut errs: Vec<crate::site::FieldError> = Vec::new();
+    let mut take = |r: Result<f64, AppError>| {
+        if let Err(AppError::Unprocessable { message, field, .. }) = r {
+            errs.push(crate::site::FieldError::new(field.as_deref().unwrap_or(""), message));
+        }
+    };
+    take(entry(
         "diameter_mm",
         "the hole's diameter",
         Entry::Diameter,
         b.diameter_mm,
         (0.0, true),
         MAX_ORIFICE_DIAMETER_MM,
-    )?;
+    ));
+    let upstream = PressureAbs::from_bar_g(b.pressure_bar_g, site.atmosphere);
     if !(b.pressure_bar_g.is_finite() && b.pressure_bar_g <= MAX_PRESSURE_BAR_G) {
         let most = Entry::GaugePressure.limit(units, MAX_PRESSURE_BAR_G);
         let got = Entry::GaugePressure.said(units, b.pressure_bar_g);
-        return Err(AppError::field(
+        take(Err(AppError::field(
             "pressure_bar_g",
             format!("the pressure must be at most {most}, got {got}"),
-        ));
-    }
-    calc_within("discharge_coefficient", b.discharge_coefficient, 0.0, true, 1.0, "")?;
-    if let Some(t) = b.upstream_temperature_c {
-        let (lo, hi) = AIR_TEMPERATURE_C;
-        entry("upstream_temperature_c", "the air's temperature", Entry::Temperature, t, (lo, false), hi)?;
-    }
-    let upstream = PressureAbs::from_bar_g(b.pressure_bar_g, site.atmosphere);
-    if upstream.0 <= 0.0 {
-        return Err(AppError::field(
+        )));
+    } else if upstream.0 <= 0.0 {
+        take(Err(AppError::field(
             "pressure_bar_g",
             format!("{} is below zero absolute", Entry::GaugePressure.said(units, b.pressure_bar_g)),
+        )));
+    }
+    take(calc_within("discharge_coefficient", b.discharge_coefficient, 0.0, true, 1.0, ""));
+    if let Some(t) = b.upstream_temperature_c {
+        let (lo, hi) = AIR_TEMPERATURE_C;
+        take(entry(
+            "upstream_temperature_c",
+            "the air's temperature",
+            Entry::Temperature,
+            t,
+            (lo, false),
+            hi,
         ));
+    }
+    match errs.len() {
+        0 => {}
+        1 => return Err(AppError::field(&errs[0].field, errs[0].message.clone())),
+        _ => return Err(AppError::Refusals(errs)),
     }
     let t0 = b.upstream_temperature_c.map(Temperature::from_c).unwrap_or(site.inlet_temperature);
     let q = leaks::orifice_leak(b.diameter_mm / 1000.0, upstream, t0, b.discharge_coefficient, &site)

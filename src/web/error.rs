@@ -28,6 +28,10 @@ pub enum AppError {
     /// Well-formed but wrong input (422), with the place it is wrong.
     #[error("{message}")]
     Unprocessable { message: String, line: Option<u64>, column: Option<String>, field: Option<String> },
+    /// Several fields wrong at once (422): the first as `message` and `field`, all of them in
+    /// `errors` (never empty).
+    #[error("{}", .0.first().map_or("", |e| e.message.as_str()))]
+    Refusals(Vec<FieldError>),
     /// Conflicts with stored data (409).
     #[error("{0}")]
     Conflict(String),
@@ -56,6 +60,9 @@ struct ErrorDetail<'a> {
     column: Option<&'a str>,
     #[serde(skip_serializing_if = "Option::is_none")]
     field: Option<&'a str>,
+    /// Every field's refusal, when several fields are wrong at once.
+    #[serde(skip_serializing_if = "<[_]>::is_empty")]
+    errors: &'a [FieldError],
 }
 
 impl AppError {
@@ -63,7 +70,7 @@ impl AppError {
         match self {
             Self::NotFound(_) => StatusCode::NOT_FOUND,
             Self::BadRequest(_) | Self::BadField { .. } => StatusCode::BAD_REQUEST,
-            Self::Unprocessable { .. } => StatusCode::UNPROCESSABLE_ENTITY,
+            Self::Unprocessable { .. } | Self::Refusals(_) => StatusCode::UNPROCESSABLE_ENTITY,
             Self::Conflict(_) => StatusCode::CONFLICT,
             Self::TooLarge(_) => StatusCode::PAYLOAD_TOO_LARGE,
             Self::Unauthorized => StatusCode::UNAUTHORIZED,
@@ -90,6 +97,7 @@ impl AppError {
         match self {
             Self::Unprocessable { line, column, field, .. } => (*line, column.as_deref(), field.as_deref()),
             Self::BadField { field, .. } => (None, None, Some(field.as_str())),
+            Self::Refusals(all) => (None, None, all.first().map(|e| e.field.as_str())),
             _ => (None, None, None),
         }
     }
@@ -99,7 +107,12 @@ impl IntoResponse for AppError {
     fn into_response(self) -> Response {
         self.log_if_internal();
         let (line, column, field) = self.place();
-        let body = ErrorBody { error: ErrorDetail { message: self.to_string(), line, column, field } };
+        let errors = match &self {
+            Self::Refusals(all) => all.as_slice(),
+            _ => &[],
+        };
+        let body =
+            ErrorBody { error: ErrorDetail { message: self.to_string(), line, column, field, errors } };
         (self.status(), Json(body)).into_response()
     }
 }
@@ -124,6 +137,7 @@ impl From<app::Error> for AppError {
             app::Error::Field { field, message } => {
                 Self::Unprocessable { message, line: None, column: None, field: Some(field) }
             }
+            app::Error::Fields(all) => Self::Refusals(all),
             app::Error::Unprocessable { message, line, column, field } => {
                 Self::Unprocessable { message, line, column, field }
             }

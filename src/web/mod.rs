@@ -193,6 +193,7 @@ pub fn build_app(state: AppState) -> Router {
         .route("/audits/{id}/report", get(pages::report::report))
         .route("/audits/{id}/findings", get(pages::findings::findings))
         .route("/audits/{id}/findings.css", get(pages::findings::print_css))
+        .route("/audits/{id}/report.css", get(pages::findings::report_print_css))
         .route("/audits/{id}/tests", get(pages::tests::tests))
         .route("/audits/{id}/scenarios", get(pages::scenarios::scenarios))
         .route("/static/{*path}", get(assets::serve))

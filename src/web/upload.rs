@@ -193,6 +193,7 @@ fn upload_reply(outcome: ImportOutcome) -> Response {
                 "rows": 0,
                 "readings": 0,
                 "warnings": ["this file was imported before with the same mapping: nothing was added"],
+                "warning_parts": [["this file was imported before with the same mapping: nothing was added"]],
             })),
         )
             .into_response(),

@@ -142,6 +142,8 @@ window.airledger = {
       const err = new Error(e.message + (where ? " (" + where + ")" : ""));
       err.field = e.field || null;
       err.said = e.message; // the refusal alone, for beside its field
+      // Every field's refusal when several are wrong at once ({field, message} each).
+      err.errors = Array.isArray(e.errors) && e.errors.length ? e.errors : [{ field: err.field, message: e.message }];
       throw err;
     }
     return body;
@@ -221,6 +223,44 @@ window.airledger.besideField = function (form, field, message) {
   el.setAttribute("aria-invalid", "true");
   el.focus({ preventScroll: true });
   return true;
+};
+// Words in parts (core::recommend::Part in the JSON: a string, or {quantity, value} in canonical
+// units) in the reader's units of the page data's entry table (core::entry), rounded as the
+// server's core::display rounds them: a gauge pressure to 0.01 bar(g) or 0.1 psig, a flow to
+// three figures (one decimal at most in cfm), a temperature to 0.1 °C or 1 °F.
+window.airledger.renderParts = function (parts, entry) {
+  const grouped = (v, d) => Number(v).toLocaleString("en-US", { minimumFractionDigits: d, maximumFractionDigits: d });
+  const sig = (v) => { const a = Math.abs(v); return a >= 100 ? 0 : a >= 10 ? 1 : a >= 1 ? 2 : 3; };
+  const us = entry && entry.system === "us";
+  const kinds = { pressure_bar_g: "gauge_pressure", flow_m3_min: "free_air_flow", temperature_c: "temperature" };
+  return (parts || []).map((p) => {
+    if (typeof p === "string") return p;
+    const kind = kinds[p.quantity];
+    const u = kind && entry && entry.fields[kind];
+    if (!u) return String(p.value);
+    const v = (p.value - u.offset) / u.factor;
+    const d = kind === "gauge_pressure" ? (us ? 1 : 2) : kind === "temperature" ? (us ? 0 : 1) : us ? Math.min(sig(v), 1) : sig(v);
+    return grouped(v, d) + " " + u.label + (kind === "free_air_flow" ? " free air" : "");
+  }).join("");
+};
+// Every refusal of an API reply (`errors`, each {field, message}) set beside its field in `form`,
+// the earlier ones taken away; `fieldOf` turns an API field into the form field's name (default:
+// its last part). Returns the refusals no field was found for.
+window.airledger.besideFields = function (form, errors, fieldOf) {
+  for (const old of form.querySelectorAll(".field-error")) old.remove();
+  for (const el of form.querySelectorAll("[aria-invalid]")) el.removeAttribute("aria-invalid");
+  const left = [];
+  let first = null;
+  for (const e of errors) {
+    const name = fieldOf ? fieldOf(e.field) : String(e.field || "").split("[")[0].split(".").pop();
+    const el = name && form.elements.namedItem(name);
+    if (!el || !el.insertAdjacentElement) { left.push(e); continue; }
+    el.insertAdjacentElement("afterend", window.airledger.el("span", { class: "field-error", role: "alert" }, e.message));
+    el.setAttribute("aria-invalid", "true");
+    first = first || el;
+  }
+  if (first) first.focus({ preventScroll: true });
+  return left;
 };
 // A form the server refused (pages/refusal.rs): what was typed goes back into its fields (in the
 // units it was typed in), the section that holds it opens, and each refusal is set beside its

@@ -38,11 +38,14 @@
     e.preventDefault();
     const f = form.elements;
     const changes = [];
-    if (f.remove.value) changes.push({ op: "remove", tag: f.remove.value });
-    if (f.target_bar_g.value) changes.push({ op: "set_pressure", target_bar_g: A.entry.stored(E, f.target_bar_g) });
-    if (f.add_storage_m3.value) changes.push({ op: "add_storage", volume_m3: A.entry.stored(E, f.add_storage_m3) });
-    if (f.reduce_leaks.value) changes.push({ op: "reduce_leaks", fraction: Number(f.reduce_leaks.value) });
-    if (f.order.value.trim()) changes.push({ op: "sequence", order: f.order.value.trim().split(/[\s,]+/) });
+    // The form field each change came from, so that a refusal naming `changes[k]` is set beside it.
+    const fieldOfChange = [];
+    const push = (c, field) => { changes.push(c); fieldOfChange.push(field); };
+    if (f.remove.value) push({ op: "remove", tag: f.remove.value }, "remove");
+    if (f.target_bar_g.value) push({ op: "set_pressure", target_bar_g: A.entry.stored(E, f.target_bar_g) }, "target_bar_g");
+    if (f.add_storage_m3.value) push({ op: "add_storage", volume_m3: A.entry.stored(E, f.add_storage_m3) }, "add_storage_m3");
+    if (f.reduce_leaks.value) push({ op: "reduce_leaks", fraction: Number(f.reduce_leaks.value) }, "reduce_leaks");
+    if (f.order.value.trim()) push({ op: "sequence", order: f.order.value.trim().split(/[\s,]+/) }, "order");
     if (f.add_tag.value) {
       // Each point of the speed curve is two numbers, "flow:power"; one that is not is refused here,
       // in words, rather than sent as nulls the server can only name by its path.
@@ -56,13 +59,13 @@
       }
       const curve = stored ? JSON.parse(f.add_curve.dataset.stored)
         : typed.map((p) => { const [q, kw] = p.split(":").map(Number); return [toStored("free_air_flow", q), kw]; });
-      changes.push({ op: "add", compressor: { tag: f.add_tag.value, kind: "lubricated_screw", control: f.add_control.value, cooling: "air",
-        rated_power_kw: Number(f.add_power.value), rated_flow_m3_min: A.entry.stored(E, f.add_flow), rated_pressure_bar_g: A.entry.stored(E, f.add_pressure), power_curve: curve } });
+      push({ op: "add", compressor: { tag: f.add_tag.value, kind: "lubricated_screw", control: f.add_control.value, cooling: "air",
+        rated_power_kw: Number(f.add_power.value), rated_flow_m3_min: A.entry.stored(E, f.add_flow), rated_pressure_bar_g: A.entry.stored(E, f.add_pressure), power_curve: curve } }, "add_tag");
     }
     // An empty name is the baseline's when nothing changes (the box only suggests it, so typing
     // a name never runs into a prefilled one).
     const name = f.name.value.trim() || (changes.length ? "" : "baseline");
-    if (!name) { status.textContent = "Not replayed: give the scenario a name."; f.name.focus(); return; }
+    // An empty name goes to the server, which refuses it beside the others at once.
     status.textContent = "Replaying the logged demand\u2026";
     try {
       await A.json("/api/v1/audits/" + data.audit_id + "/scenarios" + (edit ? "/" + edit.id : ""), {
@@ -70,7 +73,22 @@
           f.implementation_cost.value ? { implementation_cost: Number(f.implementation_cost.value) } : {})),
       });
       window.location.assign("/audits/" + data.audit_id + "/scenarios");
-    } catch (err) { status.textContent = "Not replayed: " + err.message; }
+    } catch (err) {
+      // Every refusal at once: each beside the field it names, all of them in the status line.
+      const added = { tag: "add_tag", control: "add_control", rated_power_kw: "add_power", rated_flow_m3_min: "add_flow",
+        rated_pressure_bar_g: "add_pressure", power_curve: "add_curve" };
+      const fieldOf = (api) => {
+        const m = /^changes\[(\d+)\](?:\.compressor\.(\w+))?/.exec(String(api || ""));
+        if (!m) return String(api || "").split(".").pop();
+        const own = fieldOfChange[Number(m[1])];
+        return own === "add_tag" && m[2] ? added[m[2]] || "add_tag" : own;
+      };
+      const all = err.errors || [];
+      status.textContent = all.length > 1
+        ? "Not replayed: " + all.length + " fields to correct: " + all.map((x) => x.message).join("; ") + "."
+        : "Not replayed: " + err.message;
+      A.besideFields(form, all, fieldOf);
+    }
   });
   const canvas = document.getElementById("chart-scenarios");
   if (canvas && typeof Chart !== "undefined" && data.traces.length) {

@@ -45,8 +45,13 @@
       status.textContent = "Recorded test " + r.id + ".";
       window.location.assign("/audits/" + data.audit_id + "/tests");
     } catch (e) {
-      status.textContent = "Not recorded: " + e.message;
-      if (form && A.besideField(form, e.field, e.said || e.message)) form.scrollIntoView({ block: "center" });
+      // Every refusal at once: each beside its field, all of them listed in the status line.
+      const all = e.errors || [];
+      status.textContent = all.length > 1
+        ? "Not recorded: " + all.length + " fields to correct: " + all.map((x) => x.message).join("; ") + "."
+        : "Not recorded: " + e.message;
+      const left = form ? A.besideFields(form, all) : all;
+      if (form && left.length < all.length) form.scrollIntoView({ block: "center" });
       else status.scrollIntoView({ block: "center" });
     }
   }
@@ -69,7 +74,12 @@
       out.textContent = (data.entry.system === "us"
         ? r.leak_flow_cfm_free_air.toFixed(2) + " cfm free air"
         : r.leak_flow_m3_min.toFixed(3) + " m\u00b3/min free air") + (r.choked ? ", choked flow" : "");
-    } catch (err) { out.textContent = err.message; }
+    } catch (err) {
+      // Every refusal at once, each beside its field, all of them in the result line.
+      const all = err.errors || [];
+      out.textContent = all.length > 1 ? all.map((x) => x.message).join("; ") + "." : err.message;
+      A.besideFields(orifice, all);
+    }
   });
 
   (async function events() {

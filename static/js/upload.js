@@ -377,7 +377,9 @@
       t.append(tb);
       box.append(t);
     }
-    const w = r.warnings || [];
+    // In the reader's units where the reply gives the warnings in parts (one for one).
+    const parts = r.warning_parts || [];
+    const w = parts.length && parts.length === (r.warnings || []).length ? parts.map((p) => A.renderParts(p, E)) : r.warnings || [];
     box.append(A.el("h3", {}, "Data quality"));
     if (!w.length) box.append(A.el("p", {}, "No gaps, duplicates, flat lines, out-of-range values, counter resets or daylight-saving problems were found."));
     else box.append(A.el("ul", {}, ...w.map((x) => A.el("li", {}, x))));

@@ -819,6 +819,8 @@ mod findings;
 mod forms;
 #[path = "browser_pages.rs"]
 mod pages;
+#[path = "browser_report16.rs"]
+mod report16;
 #[path = "browser_treatment.rs"]
 mod treatment;
 #[path = "browser_upload.rs"]
@@ -874,7 +876,9 @@ fn the_report_of_a_thin_audit_shows_the_verdict_and_no_annual_figure() {
     assert!(measures.contains("No measure is proposed: the logged data are not enough"));
     // No bare axes where the heat balance would be: its figures are withheld, and it says so.
     assert_eq!(b.js_f64("return document.querySelectorAll('#chart-heat').length"), 0.0);
-    assert!(b.js_str("return document.getElementById('heat-chart-note').innerText").starts_with("No heat balance"));
+    assert!(b
+        .js_str("return document.getElementById('heat-chart-note').innerText")
+        .starts_with("No heat balance"));
     b.screenshot_full("thin-audit-report");
     let severe = b.severe_logs(&page);
     assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));

@@ -91,7 +91,7 @@ fn printed_findings_carry_the_charts_in_the_readers_units() {
 /// ("14.9 t" / "CO₂", "1,981 US" / "gal", "free" / "air"). A flow's reference, "free air", may
 /// start the next line after its unit ("12.5 m³/min" / "free air"), so that a table's flow column
 /// fits an A4 line.
-fn numbers_split_from_units(text: &str) -> Vec<String> {
+pub(super) fn numbers_split_from_units(text: &str) -> Vec<String> {
     const UNITS: &[&str] = &[
         "h", "min", "s", "kW", "kWh", "MWh", "GWh", "%", "bar", "bar(g)", "psi", "psig", "psia", "cfm",
         "m³/min", "m³", "ft³", "US", "t", "°C", "°F", "K", "kPa", "ft", "m", "EUR", "USD", "years", "months",

@@ -96,8 +96,8 @@ pub(crate) mod tests;
 pub use measures::{pressure_cut_fractions, Words};
 pub use stack::{recommend, stack_total};
 pub use text::{
-    bar_g, flow, kpa_abs, pressure_drop, specific, storage_per_flow, temperature_difference, volume, Part,
-    Quantity, Text,
+    bar_g, flow, kpa_abs, pressure_drop, specific, storage_per_flow, temperature_c, temperature_difference,
+    volume, Part, Quantity, Text,
 };
 
 /// Every kind of measure this module proposes (API.md names, the JSON spelling of each).

@@ -27,6 +27,8 @@ pub enum Quantity {
     TemperatureDifferenceK,
     /// An absolute pressure, kPa abs (psia).
     PressureKpaAbs,
+    /// A temperature, °C (°F): a logged reading's.
+    TemperatureC,
 }
 
 /// Words, or a figure the reader's units show (JSON: a string, or `{"quantity", "value"}`).
@@ -75,6 +77,10 @@ pub fn temperature_difference(k: f64) -> Part {
 /// An absolute pressure, kPa abs.
 pub fn kpa_abs(kpa: f64) -> Part {
     Part::Figure { quantity: Quantity::PressureKpaAbs, value: kpa }
+}
+/// A temperature, °C.
+pub fn temperature_c(c: f64) -> Part {
+    Part::Figure { quantity: Quantity::TemperatureC, value: c }
 }
 /// A specific power, kW/(m³/min).
 pub fn specific(kw_per_m3_min: f64) -> Part {

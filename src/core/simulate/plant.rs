@@ -177,6 +177,51 @@ impl Scenario {
         Ok(())
     }
 
+    /// Every refusal of [`Self::check_in`] and [`Self::check_plant_in`] at once, in `units`: the
+    /// name, the number of changes, the quoted cost, every change's numbers (an added machine's
+    /// every data-sheet field, `DataSheetInput::validate_all_in`) and a target pressure against
+    /// the plant's low limit once it is a number in range. Empty when the scenario is right.
+    pub fn refusals_in(&self, compressors: &[CompressorSpec], units: UnitSystem) -> Vec<ScenarioError> {
+        let mut errs = Vec::new();
+        let n = self.name.trim().chars().count();
+        if n == 0 || n > 100 {
+            errs.push(ScenarioError {
+                field: "name".into(),
+                message: "the scenario needs a name of 1 to 100 characters".into(),
+            });
+        }
+        if self.changes.len() > MAX_CHANGES {
+            errs.push(ScenarioError {
+                field: "changes".into(),
+                message: format!("at most {MAX_CHANGES} changes, not {}", self.changes.len()),
+            });
+            return errs;
+        }
+        if let Some(c) = self.implementation_cost {
+            if let Err(m) = crate::core::recommend::check_implementation_cost(c) {
+                errs.push(ScenarioError { field: "implementation_cost".into(), message: m });
+            }
+        }
+        for (k, c) in self.changes.iter().enumerate() {
+            let one = Scenario { name: "-".into(), changes: vec![c.clone()], implementation_cost: None };
+            let prefix = |f: String| f.replacen("changes[0]", &format!("changes[{k}]"), 1);
+            if let Change::Add { compressor } = c {
+                if let Err(all) = compressor.validate_all_in(units) {
+                    errs.extend(all.into_iter().map(|e| ScenarioError {
+                        field: format!("changes[{k}].compressor.{}", e.field),
+                        message: e.message,
+                    }));
+                }
+                continue;
+            }
+            match one.check_in(units).and_then(|()| one.check_plant_in(compressors, units)) {
+                Ok(()) => {}
+                Err(e) => errs.push(ScenarioError { field: prefix(e.field), message: e.message }),
+            }
+        }
+        errs
+    }
+
     /// No set-point change and no leak repair: a change of the supply side alone (module doc).
     pub fn supply_side_only(&self) -> bool {
         !self.changes.iter().any(|c| matches!(c, Change::SetPressure { .. } | Change::ReduceLeaks { .. }))

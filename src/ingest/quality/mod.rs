@@ -48,6 +48,7 @@ mod warnings;
 pub use tracker::QualityTracker;
 pub use warnings::{human_duration, span_warnings, SMALL_SHARE_OF_PERIOD};
 
+use crate::core::recommend::{self as text, Part};
 use crate::ingest::mapping::Quantity;
 use serde::Serialize;
 
@@ -121,6 +122,9 @@ pub struct FlatLine {
     /// In the logged unit (`unit`).
     pub value: f64,
     pub unit: String,
+    /// In SI as the analysis reads it (W, m³/s free air, Pa abs, K, J): for the warnings' figures.
+    #[serde(skip)]
+    pub si: f64,
 }
 
 /// A cell read as missing because it held a marker or text instead of a number.
@@ -139,6 +143,12 @@ pub struct OutOfRange {
     pub value: f64,
     pub unit: String,
     pub reason: String,
+    /// In SI as the analysis reads it, for the warnings' figures.
+    #[serde(skip)]
+    pub si: f64,
+    /// Below the range (else above it).
+    #[serde(skip)]
+    pub below: bool,
 }
 
 /// The highest reading of a channel (kept to check it against the data sheets).
@@ -162,6 +172,9 @@ pub struct Implausible {
     pub time: String,
     pub value: f64,
     pub unit: String,
+    /// The reason in parts, its figures in canonical units (`Part`), for the reader's units.
+    #[serde(skip)]
+    pub reason_parts: Vec<Part>,
 }
 
 /// A compressor's data-sheet figures, as the plausibility checks need them.
@@ -259,6 +272,10 @@ pub struct ChannelQuality {
 pub struct QualityReport {
     pub file: FileQuality,
     pub channels: Vec<ChannelQuality>,
+    /// The atmosphere the readings' absolute pressures were read with, Pa: a gauge figure in the
+    /// warnings is the absolute reading less it.
+    #[serde(skip)]
+    pub atmosphere_pa: f64,
 }
 
 impl QualityReport {
@@ -277,40 +294,56 @@ impl QualityReport {
                     None => continue,
                 },
             };
-            let reason = match (c.quantity, machine) {
+            let check = "check the unit, the scale or the compressor of the column";
+            let reason_parts: Vec<Part> = match (c.quantity, machine) {
                 (Quantity::Power | Quantity::Energy, Some(m))
                     if h.si > POWER_OVER_RATED * m.rated_power_kw * 1000.0 =>
                 {
-                    format!(
-                        "power of {}{} up to {:.1} kW, above {POWER_OVER_RATED} x its rated {} kW: check the unit, \
-                         the scale or the compressor of the column",
+                    vec![format!(
+                        "power of {}{} up to {:.1} kW, above {POWER_OVER_RATED} x its rated {} kW: {check}",
                         m.tag,
-                        if counter { " from its energy counter (the mean over a minute or more)" } else { "" },
+                        if counter {
+                            " from its energy counter (the mean over a minute or more)"
+                        } else {
+                            ""
+                        },
                         h.si / 1000.0,
                         m.rated_power_kw
                     )
+                    .into()]
                 }
-                (Quantity::Flow, Some(m)) if h.si * 60.0 > FLOW_OVER_RATED * m.rated_flow_m3_min => format!(
-                    "flow of {} up to {:.2} m³/min, above {FLOW_OVER_RATED} x its rated {} m³/min",
-                    m.tag,
-                    h.si * 60.0,
-                    m.rated_flow_m3_min
-                ),
+                (Quantity::Flow, Some(m)) if h.si * 60.0 > FLOW_OVER_RATED * m.rated_flow_m3_min => vec![
+                    format!("flow of {} up to ", m.tag).into(),
+                    text::flow(h.si * 60.0),
+                    format!(", above {FLOW_OVER_RATED} x its rated ").into(),
+                    text::flow(m.rated_flow_m3_min),
+                ],
                 (Quantity::Flow, None) if total_flow > 0.0 && h.si * 60.0 > FLOW_OVER_RATED * total_flow => {
-                    format!(
-                        "system flow up to {:.2} m³/min, above {FLOW_OVER_RATED} x the {total_flow} m³/min all \
-                         compressors deliver together: check the unit and the reference conditions",
-                        h.si * 60.0
-                    )
+                    vec![
+                        "system flow up to ".into(),
+                        text::flow(h.si * 60.0),
+                        format!(", above {FLOW_OVER_RATED} x the ").into(),
+                        text::flow(total_flow),
+                        " all compressors deliver together: check the unit and the reference conditions"
+                            .into(),
+                    ]
                 }
                 _ => continue,
             };
+            let reason = crate::core::display::render_parts(
+                &reason_parts,
+                &crate::core::display::Fmt::new(
+                    crate::core::units::UnitSystem::Si,
+                    crate::core::units::PressureAbs(self.atmosphere_pa),
+                ),
+            );
             c.implausible.push(Implausible {
                 reason,
                 line: h.line,
                 time: h.time.clone(),
                 value: h.value,
                 unit: h.unit.clone(),
+                reason_parts,
             });
         }
     }

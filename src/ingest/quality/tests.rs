@@ -73,7 +73,11 @@ fn flat_line_needs_thirty_minutes_and_thirty_readings() {
     assert!((f.examples[0].value - 7.0).abs() < 1e-12);
     assert_eq!(f.examples[0].duration_s, 39.0 * 60.0);
     // Units as people write them (the mapping's bar_g is bar(g)).
-    assert!(r.warnings("UTC")[0].contains("the longest is 7 bar(g) for 39 min"), "{:?}", r.warnings("UTC"));
+    assert!(
+        r.warnings("UTC")[0].contains("the longest is 7.00 bar(g) for 39 min"),
+        "{:?}",
+        r.warnings("UTC")
+    );
 }
 
 #[test]
@@ -218,7 +222,7 @@ fn power_and_flow_far_above_the_data_sheets_are_implausible() {
     assert!(r.channels[0].implausible[0].reason.contains("above 1.5 x its rated 55 kW"));
     assert!(r.channels[1].implausible[0]
         .reason
-        .starts_with("system flow up to 24.00 m³/min, above 1.5 x the 15.5"));
+        .starts_with("system flow up to 24.0 m³/min free air, above 1.5 x the 15.5 m³/min free air"));
     assert!(r.warnings("UTC").iter().any(|w| w.starts_with("C1 kW: implausible: power of C1 up to 83.0 kW")));
     let r = report(82.0, 23.0);
     assert!(r.channels.iter().all(|c| c.implausible.is_empty()));

@@ -8,6 +8,7 @@ use super::{
     At, ChannelQuality, CounterDrop, DstFinding, FileQuality, Findings, FlatLine, GapReport, Highest,
     MarkedCell, OutOfRange, QualityReport, MAX_EXAMPLES,
 };
+use crate::core::recommend::Part;
 use crate::core::units::{PA_PER_BAR, T_ZERO_C};
 use crate::ingest::mapping::{ChannelDef, Converter, Quantity};
 use crate::ingest::number::is_missing_marker;
@@ -69,10 +70,29 @@ fn range_for(q: Quantity, atmosphere_pa: f64) -> Range {
         Quantity::Temperature => Range {
             min_si: T_ZERO_C - 50.0,
             max_si: T_ZERO_C + 200.0,
-            below: "below -50 c",
-            above: "above 200 c",
+            below: "below -50 °C",
+            above: "above 200 °C",
         },
         Quantity::Energy => Range { min_si: 0.0, max_si: none, below: "negative counter", above: "" },
+    }
+}
+
+/// The limit a reading of `q` broke (below it, else above), in parts: figures in canonical units
+/// that the reader's units show (the same limits as [`range_for`]).
+pub(super) fn range_parts(q: Quantity, below: bool) -> Vec<Part> {
+    use crate::core::recommend as text;
+    match (q, below) {
+        (Quantity::Pressure, true) => vec![
+            "negative gauge pressure, below ".into(),
+            text::bar_g(-0.1),
+            ": a compressed-air line never runs below the atmosphere".into(),
+        ],
+        (Quantity::Pressure, false) => vec!["above ".into(), text::bar_g(100.0)],
+        (Quantity::Power, _) => vec!["negative power, below -0.5 kW".into()],
+        (Quantity::Flow, _) => vec!["negative flow, below ".into(), text::flow(-0.05)],
+        (Quantity::Temperature, true) => vec!["below ".into(), text::temperature_c(-50.0)],
+        (Quantity::Temperature, false) => vec!["above ".into(), text::temperature_c(200.0)],
+        (Quantity::Energy, _) => vec!["negative counter".into()],
     }
 }
 
@@ -83,6 +103,7 @@ pub struct QualityTracker {
     intervals: Intervals,
     last_t: Option<i64>,
     channels: Vec<ChannelTracker>,
+    atmosphere_pa: f64,
 }
 
 impl QualityTracker {
@@ -128,7 +149,13 @@ impl QualityTracker {
                 }
             })
             .collect();
-        Self { file: FileQuality::default(), intervals: Intervals::default(), last_t: None, channels }
+        Self {
+            file: FileQuality::default(),
+            intervals: Intervals::default(),
+            last_t: None,
+            channels,
+            atmosphere_pa,
+        }
     }
 
     pub fn blank_line(&mut self) {
@@ -230,7 +257,8 @@ impl QualityTracker {
         }
         // Range.
         if si < c.range.min_si || si > c.range.max_si {
-            let reason = if si < c.range.min_si { c.range.below } else { c.range.above };
+            let below = si < c.range.min_si;
+            let reason = if below { c.range.below } else { c.range.above };
             let (conv, unit) = (&c.conv, &c.display_unit);
             c.q.out_of_range.push_with(|| OutOfRange {
                 line,
@@ -238,6 +266,8 @@ impl QualityTracker {
                 value: conv.to_logged(si),
                 unit: unit.clone(),
                 reason: reason.into(),
+                si,
+                below,
             });
         }
         // Counters.
@@ -285,6 +315,7 @@ impl QualityTracker {
                 readings: r.count,
                 value: conv.to_logged(r.value),
                 unit: unit.to_string(),
+                si: r.value,
             });
         }
     }
@@ -327,7 +358,7 @@ impl QualityTracker {
                 c.q
             })
             .collect();
-        QualityReport { file: self.file, channels }
+        QualityReport { file: self.file, channels, atmosphere_pa: self.atmosphere_pa }
     }
 }
 

@@ -3,7 +3,10 @@ The findings as the short sentences of the API's `warnings` list.
 */
 
 use super::QualityReport;
-use crate::core::display::{local_ms, local_time};
+use crate::core::display::{local_ms, local_time, render_parts, Fmt};
+use crate::core::recommend::Part;
+use crate::core::units::{PressureAbs, UnitSystem};
+use crate::ingest::mapping::Quantity;
 
 fn num(v: f64) -> String {
     if v == 0.0 {
@@ -56,12 +59,37 @@ fn at_least(lower_bound: bool) -> &'static str {
     }
 }
 
+/// A reading of `quantity`, `si` as the analysis reads it (Pa abs with `atmosphere_pa`, m³/s
+/// free air, K, W, J), as a figure the reader's units show (rounded as every page rounds it):
+/// pressure, flow and temperature as figures, power and energy (the same in both systems) in words.
+pub(super) fn reading_part(quantity: Quantity, si: f64, atmosphere_pa: f64) -> Part {
+    use crate::core::recommend as text;
+    match quantity {
+        Quantity::Pressure => text::bar_g((si - atmosphere_pa) / crate::core::units::PA_PER_BAR),
+        Quantity::Flow => text::flow(si * 60.0),
+        Quantity::Temperature => text::temperature_c(si - crate::core::units::T_ZERO_C),
+        Quantity::Power => format!("{} kW", crate::core::display::num(si / 1000.0, 1)).into(),
+        Quantity::Energy => format!("{} kWh", crate::core::display::num(si / 3.6e6, 1)).into(),
+    }
+}
+
 impl QualityReport {
-    /// Short sentences (with units) for the API's `warnings` list; every time in them is the
-    /// site's local time in zone `tz`, with the zone named (`core::display::local_time`).
+    /// Short sentences (with units) for the API's `warnings` list, in SI: [`Self::warning_parts`]
+    /// rendered in SI units.
     pub fn warnings(&self, tz: &str) -> Vec<String> {
+        let fmt = Fmt::new(UnitSystem::Si, PressureAbs(self.atmosphere_pa));
+        self.warning_parts(tz).iter().map(|p| render_parts(p, &fmt)).collect()
+    }
+
+    /// The warnings in parts (`warning_parts` of the API, one for one with `warnings`): a reading
+    /// and the limit it broke are figures, each page shows them in its reader's units rounded as
+    /// every figure; the value as the file logged it stays beside them in words, with its line,
+    /// so that it can be found in the file. Every time in them is the site's local time in zone
+    /// `tz`, with the zone named (`core::display::local_time`).
+    pub fn warning_parts(&self, tz: &str) -> Vec<Vec<Part>> {
         let at = |t: &str| local_time(t, tz);
-        let mut w = Vec::new();
+        let atm = self.atmosphere_pa;
+        let mut w: Vec<Vec<Part>> = Vec::new();
         let f = &self.file;
         if f.gaps.count > 0 {
             let mut s = format!(
@@ -76,49 +104,49 @@ impl QualityReport {
             if let Some(g) = f.gaps.examples.first() {
                 s += &format!(", the first starts {}", at(&g.start));
             }
-            w.push(s);
+            w.push(vec![s.into()]);
         }
         if let Some(a) = f.duplicate_timestamps.examples.first() {
-            w.push(format!(
+            w.push(vec![Part::from(format!(
                 "{} (first at line {}, {})",
                 plural(f.duplicate_timestamps.count, "duplicate timestamp", "duplicate timestamps"),
                 a.line,
                 at(&a.time)
-            ));
+            ))]);
         }
         if let Some(a) = f.out_of_order.examples.first() {
-            w.push(format!(
+            w.push(vec![Part::from(format!(
                 "{} earlier than the row before (first at line {}, {})",
                 plural(f.out_of_order.count, "timestamp is", "timestamps are"),
                 a.line,
                 at(&a.time)
-            ));
+            ))]);
         }
         if f.dst.gap_shifted > 0 {
-            w.push(format!(
+            w.push(vec![Part::from(format!(
                 "{} in the spring-forward gap of daylight saving did not exist and \
                  {} shifted forward by the gap",
                 plural(f.dst.gap_shifted, "local time", "local times"),
                 if f.dst.gap_shifted == 1 { "was" } else { "were" }
-            ));
+            ))]);
         }
         let amb = f.dst.ambiguous_earlier + f.dst.ambiguous_later;
         if amb > 0 {
-            w.push(format!(
+            w.push(vec![Part::from(format!(
                 "{} fell in the repeated fall-back hour: {} read as summer time (the earlier \
                  offset), {} as standard time after the clock stepped back",
                 plural(amb, "local time", "local times"),
                 f.dst.ambiguous_earlier,
                 f.dst.ambiguous_later
-            ));
+            ))]);
         }
         for c in &self.channels {
             let name = &c.label;
             if let Some(line) = c.missing.examples.first() {
-                w.push(format!(
+                w.push(vec![Part::from(format!(
                     "{name}: {} (first at line {line})",
                     plural(c.missing.count, "missing value", "missing values")
-                ));
+                ))]);
             }
             if let Some(m) = c.marked.examples.first() {
                 let mut kinds: Vec<&str> = Vec::new();
@@ -128,20 +156,20 @@ impl QualityReport {
                     }
                 }
                 let shown: Vec<String> = kinds.iter().map(|k| format!("{k:?}")).collect();
-                w.push(format!(
+                w.push(vec![Part::from(format!(
                     "{name}: {} read as missing ({}; first at line {})",
                     plural(c.marked.count, "cell with a marker or text", "cells with a marker or text"),
                     shown.join(", "),
                     m.line
-                ));
+                ))]);
             }
             if c.gaps.count > 0 && c.gaps.count > f.gaps.count {
-                w.push(format!(
+                w.push(vec![Part::from(format!(
                     "{name}: {}{} in its readings; the longest is {}",
                     at_least(c.gaps.count_at_least),
                     plural(c.gaps.count, "gap", "gaps"),
                     human_duration(c.gaps.longest_s.unwrap_or(0.0))
-                ));
+                ))]);
             }
             if let Some(fl) = c.flat_lines.examples.first() {
                 let longest = c
@@ -150,36 +178,41 @@ impl QualityReport {
                     .iter()
                     .max_by(|a, b| a.duration_s.total_cmp(&b.duration_s))
                     .unwrap_or(fl);
-                w.push(format!(
-                    "{name}: {} of one repeated value; the longest is {} {} for {} from {}",
-                    plural(c.flat_lines.count, "flat stretch", "flat stretches"),
-                    num(longest.value),
-                    unit_words(&longest.unit),
-                    human_duration(longest.duration_s),
-                    at(&longest.start)
-                ));
+                w.push(vec![
+                    format!(
+                        "{name}: {} of one repeated value; the longest is ",
+                        plural(c.flat_lines.count, "flat stretch", "flat stretches")
+                    )
+                    .into(),
+                    reading_part(c.quantity, longest.si, atm),
+                    format!(" for {} from {}", human_duration(longest.duration_s), at(&longest.start)).into(),
+                ]);
             }
             if let Some(o) = c.out_of_range.examples.first() {
-                w.push(format!(
-                    "{name}: {} out of range ({}), kept; the first is {} {} at line {}",
-                    plural(c.out_of_range.count, "reading", "readings"),
-                    o.reason,
-                    num(o.value),
-                    unit_words(&o.unit),
-                    o.line
-                ));
+                let mut p: Vec<Part> = vec![format!(
+                    "{name}: {} out of range (",
+                    plural(c.out_of_range.count, "reading", "readings")
+                )
+                .into()];
+                p.extend(super::tracker::range_parts(c.quantity, o.below));
+                p.push("), kept; the first is ".into());
+                p.push(reading_part(c.quantity, o.si, atm));
+                p.push(format!(" at line {} (as logged: {})", o.line, num(o.value)).into());
+                w.push(p);
             }
             for i in &c.implausible {
-                w.push(format!(
-                    "{name}: implausible: {}; the highest is {} {} at line {}",
-                    i.reason,
-                    num(i.value),
-                    unit_words(&i.unit),
-                    i.line
-                ));
+                let mut p: Vec<Part> = vec![format!("{name}: implausible: ").into()];
+                p.extend(i.reason_parts.iter().cloned());
+                p.push("; the highest is ".into());
+                match c.highest.as_ref() {
+                    Some(h) if h.line == i.line => p.push(reading_part(c.quantity, h.si, atm)),
+                    _ => p.push(format!("{} {}", num(i.value), unit_words(&i.unit)).into()),
+                }
+                p.push(format!(" at line {} (as logged: {})", i.line, num(i.value)).into());
+                w.push(p);
             }
             if let Some(d) = c.counter_drops.examples.first() {
-                w.push(format!(
+                w.push(vec![Part::from(format!(
                     "{name}: the counter went down {} (first a {} at line {}, {} {} -> {} {})",
                     plural(c.counter_drops.count, "time", "times"),
                     if d.kind == "rollover" { "roll-over" } else { "reset" },
@@ -188,7 +221,7 @@ impl QualityReport {
                     d.unit,
                     num(d.value),
                     d.unit
-                ));
+                ))]);
             }
         }
         w

@@ -79,6 +79,9 @@ pub struct ImportSummary {
     pub last: Option<String>,
     pub interval_s: Option<f64>,
     pub warnings: Vec<String>,
+    /// `warnings` in parts, one for one: their readings and limits as figures for the reader's
+    /// units (`core::recommend::Part`).
+    pub warning_parts: Vec<Vec<crate::core::recommend::Part>>,
     pub quality: serde_json::Value,
     pub channels: Vec<ChannelSpan>,
     /// The earlier import of the same bytes that this one replaced (a corrected mapping).
@@ -96,6 +99,9 @@ pub struct ChannelSpan {
     pub last: String,
 }
 
+/// An import's outcome: one a file, moved once to its reply, so the size of the summary beside a
+/// duplicate's id costs nothing worth a box.
+#[allow(clippy::large_enum_variant)]
 pub enum ImportOutcome {
     Created(ImportSummary),
     /// The same bytes were imported before into this audit: nothing added.

@@ -236,15 +236,17 @@ pub(super) async fn run_import(
         .fetch_optional(&mut *tx)
         .await?
         .unwrap_or_else(|| "UTC".into());
-    let mut warnings = report.quality.warnings(&tz);
+    // In parts (figures for the reader's units) and in SI words, one for one.
+    let mut parts = report.quality.warning_parts(&tz);
     if readings == 0 {
-        warnings.insert(
+        parts.insert(
             0,
-            format!(
+            vec![format!(
                 "no readings: every cell of the mapped columns in the file's {} rows is missing \
                  (see the quality report); nothing of this file enters the figures",
                 report.rows
-            ),
+            )
+            .into()],
         );
     }
     if let (Some(f), Some(l)) = (first, last) {
@@ -259,17 +261,23 @@ pub(super) async fn run_import(
         .iter()
         .map(|r| (r.get("first_ms"), r.get("last_ms")))
         .collect();
-        warnings.extend(quality::span_warnings((f, l), &others, &tz));
+        parts.extend(quality::span_warnings((f, l), &others, &tz).into_iter().map(|w| vec![w.into()]));
     }
     if dropped_total > 0 {
-        warnings.push(format!(
+        parts.push(vec![format!(
             "{dropped_total} readings at duplicate or out-of-order timestamps were dropped (the first reading of each time was kept)"
-        ));
+        )
+        .into()]);
     }
+    let si = crate::core::display::Fmt::new(
+        crate::core::units::UnitSystem::Si,
+        crate::core::units::PressureAbs(report.quality.atmosphere_pa),
+    );
+    let warnings: Vec<String> = parts.iter().map(|p| crate::core::display::render_parts(p, &si)).collect();
     let quality = serde_json::to_value(&report.quality).unwrap_or_default();
     sqlx::query(
         "UPDATE upload SET state = 'complete', sha256 = ?, rows = ?, readings = ?, first_ms = ?, last_ms = ?, \
-         quality = ?, warnings = ? WHERE id = ?",
+         quality = ?, warnings = ?, warning_parts = ? WHERE id = ?",
     )
     .bind(&req.sha256)
     .bind(report.rows as i64)
@@ -278,6 +286,7 @@ pub(super) async fn run_import(
     .bind(last)
     .bind(quality.to_string())
     .bind(serde_json::to_string(&warnings).unwrap_or_default())
+    .bind(serde_json::to_string(&parts).unwrap_or_else(|_| "[]".into()))
     .bind(upload_id)
     .execute(&mut *tx)
     .await?;
@@ -304,6 +313,7 @@ pub(super) async fn run_import(
         last: last.map(ms_to_rfc3339),
         interval_s: report.median_interval_s,
         warnings,
+        warning_parts: parts,
         quality,
         channels: channel_spans,
         replaced_upload_id: replacing.map(|r| r.old),

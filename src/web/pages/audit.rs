@@ -178,7 +178,7 @@ fn audit_page(b: AuditBundle, refused: Option<Refusal>) -> AuditPage {
         audit: b.audit,
         compressors: b.compressors,
         receivers: b.receivers,
-        uploads: super::words::uploads_in_local_time(b.uploads, &tz_owned),
+        uploads: super::words::uploads_in_local_time(b.uploads, &tz_owned, &fmt),
         refused,
         done: None,
     }

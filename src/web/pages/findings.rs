@@ -77,7 +77,7 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
         view,
         b_compressors: b.compressors,
         b_receivers: b.receivers,
-        b_uploads: super::words::uploads_in_local_time(b.uploads, &tz),
+        b_uploads: super::words::uploads_in_local_time(b.uploads, &tz, &fmt),
         audit: b.audit,
     })
 }
@@ -95,7 +95,7 @@ pub async fn findings(
 pub async fn findings_html(app: &App, id: i64) -> anyhow::Result<String> {
     let page = findings_page(app, id, &ViewQuery::default()).await.map_err(|e| anyhow::anyhow!("{e}"))?;
     let html = page.render()?;
-    Ok(standalone(&html, &print_css_text(&page.audit.name)))
+    Ok(standalone(&html, &print_css_text(&page.audit.name, "compressed-air findings")))
 }
 
 /// A rendered page made to stand alone: every stylesheet and script it links by a server path is
@@ -171,15 +171,28 @@ fn css_string(text: &str) -> String {
 /// and "page n of m" at the foot, as `@page` margin boxes. A stylesheet of its own (the pages
 /// allow no inline style), linked by the findings page for print.
 pub async fn print_css(State(st): State<AppState>, Path(id): Path<i64>) -> Result<Response, PageError> {
+    print_css_of(&st, id, "compressed-air findings").await
+}
+
+/// The printed report's running head and page numbers, as the findings' (`print_css`).
+pub async fn report_print_css(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+) -> Result<Response, PageError> {
+    print_css_of(&st, id, "compressed-air report").await
+}
+
+async fn print_css_of(st: &AppState, id: i64, what: &str) -> Result<Response, PageError> {
     let b = st.app.bundle(id).await?;
-    let css = print_css_text(&b.audit.name);
+    let css = print_css_text(&b.audit.name, what);
     Ok(([(header::CONTENT_TYPE, "text/css; charset=utf-8"), (header::CACHE_CONTROL, "no-store")], css)
         .into_response())
 }
 
-/// The print stylesheet's text for a site named `name`.
-fn print_css_text(name: &str) -> String {
-    let head = css_string(&format!("{name} \u{b7} compressed-air findings"));
+/// The print stylesheet's text for a site named `name`, its running head saying `what` the
+/// printed page is.
+fn print_css_text(name: &str, what: &str) -> String {
+    let head = css_string(&format!("{name} \u{b7} {what}"));
     format!(
         "@page {{\n  @top-left {{ content: {head}; font: 8pt system-ui, sans-serif; color: #555; }}\n  \
          @bottom-right {{ content: \"page \" counter(page) \" of \" counter(pages); font: 8pt system-ui, sans-serif; color: #555; }}\n}}\n"

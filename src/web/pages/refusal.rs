@@ -47,6 +47,7 @@ impl Refusal {
                 form,
                 vec![FieldError::new(field.as_deref().unwrap_or(""), message.clone())],
             )),
+            AppError::Refusals(all) => Some(Self::new(action, form, all.clone())),
             AppError::Conflict(message) => {
                 Some(Self::new(action, form, vec![FieldError::new("", message.clone())]))
             }

@@ -50,12 +50,13 @@ pub async fn upload(
         })
         .collect();
     let fmt = b.fmt();
+    let uploads = super::words::uploads_in_local_time(b.uploads, &tz, &fmt);
     Ok(render(&UploadPage {
         fmt,
         done: Done::message(&q),
         max_upload_mb: st.config.max_upload_bytes / (1024 * 1024),
         audit: b.audit,
-        uploads: super::words::uploads_in_local_time(b.uploads, &tz),
+        uploads,
         page_data,
         zones: super::zone_names(),
         spans,

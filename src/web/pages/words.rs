@@ -51,13 +51,15 @@ pub fn local_times_in(text: &str, tz: &str) -> String {
     out
 }
 
-/// The uploads with the UTC times of their stored warnings in the site's local time
+/// The uploads with their stored warnings in the reader's units (`fmt`: the warnings' parts, where
+/// the upload keeps them, rendered; its words otherwise), their UTC times in the site's local time
 /// ([`local_times_in`]), and the warnings about a file's span against the others
 /// (`quality::span_warnings`) worked out again against the files the audit holds now: those stored
 /// at import quote the files there were then, and a file deleted since must not be quoted.
 pub fn uploads_in_local_time(
     mut uploads: Vec<crate::store::audits::UploadRecord>,
     tz: &str,
+    fmt: &crate::core::display::Fmt,
 ) -> Vec<crate::store::audits::UploadRecord> {
     let ms = |t: &Option<String>| {
         t.as_deref().and_then(|t| t.parse::<jiff::Timestamp>().ok()).map(|t| t.as_millisecond())
@@ -65,6 +67,9 @@ pub fn uploads_in_local_time(
     let spans: Vec<(i64, Option<(i64, i64)>)> =
         uploads.iter().map(|u| (u.id, ms(&u.first).zip(ms(&u.last)))).collect();
     for u in &mut uploads {
+        if !u.warning_parts.is_empty() && u.warning_parts.len() == u.warnings.len() {
+            u.warnings = u.warning_parts.iter().map(|p| crate::core::display::render_parts(p, fmt)).collect();
+        }
         let is_span = |w: &String| {
             w.starts_with("this file (") && w.contains("does not overlap in time any other file")
                 || w.starts_with("this file covers ") && w.contains("of the audit's logged period")
