@@ -378,3 +378,12 @@ fn an_unloaded_window_in_a_production_hour_is_refused() {
     assert!(evaluate(&input, &ctx(Some(&idle))).is_ok());
     assert!(evaluate(&input, &ctx(None)).is_ok());
 }
+
+#[test]
+fn a_duration_refusal_says_its_limits_as_a_person_would() {
+    // A walk found "from 1 s to 604800 s, got -40 s": the week is said as such.
+    let e =
+        super::within("loaded_s", "the loaded time", -40.0, (1.0, MAX_DURATION_S), super::Quoted::Seconds)
+            .unwrap_err();
+    assert_eq!(e.message, "the loaded time must be from 1 s to 7 days, got -40 s");
+}
