@@ -681,8 +681,10 @@ mod tests {
         let site = SiteAir::new(101.325, 20.0);
         for (from_s, to_s) in [(995, 1010), (1505, 1600), (0, 30)] {
             let window = Some((from_s * 1000, to_s * 1000));
-            let frame =
-                load_frame(&pool, &site, &[info.clone()], &[], window).await.unwrap().expect("a frame");
+            let frame = load_frame(&pool, &site, std::slice::from_ref(&info), &[], window)
+                .await
+                .unwrap()
+                .expect("a frame");
             assert_eq!((frame.grid.start_ms, frame.grid.step_ms), (from_s * 1000, 1000));
             assert_eq!(frame.grid.len, (to_s - from_s) as usize);
             for (i, v) in frame.columns[0].values.iter().enumerate() {
