@@ -191,6 +191,31 @@ async fn chunk_page(
     .await?)
 }
 
+/// Where a channel's chunks that may reach `from_ms` begin: within one upload a channel's chunks
+/// are disjoint and in time order (its readings strictly increase, `store::import`), so of each
+/// upload only the last chunk starting at or before `from_ms` and those after it can; the least of
+/// those starts (found in the `chunk_upload` index), so that a window late in a long log does not
+/// read past every chunk before it. `i64::MIN` when an upload of the channel is not known.
+async fn first_chunk_start(pool: &SqlitePool, c: &ChannelInfo, from_ms: i64) -> Result<i64, StoreError> {
+    if c.parts.is_empty() {
+        return Ok(i64::MIN);
+    }
+    let mut first = from_ms;
+    for p in &c.parts {
+        let start: Option<i64> = sqlx::query_scalar(
+            "SELECT t_start_ms FROM chunk WHERE upload_id = ? AND channel_id = ? AND t_start_ms <= ? \
+             ORDER BY t_start_ms DESC LIMIT 1",
+        )
+        .bind(p.upload_id)
+        .bind(c.id)
+        .bind(from_ms)
+        .fetch_optional(pool)
+        .await?;
+        first = first.min(start.unwrap_or(from_ms));
+    }
+    Ok(first)
+}
+
 /// Build the analysis frame for the audit's channels over `window` (default: all logged time), with
 /// the site's air `site` applied to each upload's readings as they are stored (`core::basis`).
 /// `compressor_ids` are the ids of the analysis' compressor slice, in its order.
@@ -261,8 +286,11 @@ pub async fn load_frame(
             }
         });
         let (pool, c, site) = (pool.clone(), c.clone(), *site);
+        let windowed = window.is_some();
         running.push_back(tokio::spawn(async move {
-            let mut after = (i64::MIN, i64::MIN);
+            // The first page's key: every chunk from the first that may reach `from` on.
+            let first = if windowed { first_chunk_start(&pool, &c, from).await? } else { i64::MIN };
+            let mut after = (first, i64::MIN);
             loop {
                 let page = chunk_page(&pool, c.id, (from, to), after).await?;
                 let Some(&(t, u, _)) = page.last() else { break };
@@ -653,6 +681,77 @@ mod tests {
         let values = &frame.columns[0].values;
         for (i, v) in values.iter().enumerate() {
             assert!((v - (i as f32 + 0.5)).abs() < 1e-3, "bin {i}: {v}");
+        }
+        pool.close().await;
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+
+    /// A window reads from the last chunk of each upload that starts before it: a ramp of one unit
+    /// a second logged by two uploads (0-999 s and 1000-1999 s, chunks of 10 readings) has the
+    /// mean `t + 0.5` in the 1 s bin starting at `t` in any window, its first bins too, which only
+    /// the chunk begun before the window holds (a window from 995 s needs upload 1's chunk from
+    /// 990 s; one from 1505 s upload 2's chunk from 1500 s, upload 1 then being all before it).
+    #[tokio::test]
+    async fn a_window_reads_the_chunk_begun_before_it_in_each_upload() {
+        let dir = std::env::temp_dir().join(format!("airledger-window-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        let (pool, _lock) = crate::store::open(&dir.join("w.sqlite")).await.unwrap();
+        for sql in [
+            "INSERT INTO audit (id, name, created_at) VALUES (1, 'a', '2026-01-01T00:00:00Z')",
+            "INSERT INTO upload (id, audit_id, filename, sha256, bytes, state, mapping, created_at) \
+             VALUES (1, 1, 'a.csv', 'x', 0, 'complete', '{}', '2026-01-01T00:00:00Z')",
+            "INSERT INTO upload (id, audit_id, filename, sha256, bytes, state, mapping, created_at) \
+             VALUES (2, 1, 'b.csv', 'y', 0, 'complete', '{}', '2026-01-01T00:00:00Z')",
+            "INSERT INTO channel (id, audit_id, quantity, label, unit) VALUES (1, 1, 'flow', 'q', 'm3_min')",
+        ] {
+            sqlx::query(sql).execute(&pool).await.unwrap();
+        }
+        let per = 10i64;
+        for k in 0..200i64 {
+            let times: Vec<i64> = (0..per).map(|j| (k * per + j) * 1000).collect();
+            let values: Vec<f64> = times.iter().map(|&t| (t / 1000) as f64).collect();
+            sqlx::query("INSERT INTO chunk (channel_id, t_start_ms, upload_id, t_end_ms, n, data) VALUES (1, ?, ?, ?, ?, ?)")
+                .bind(times[0])
+                .bind(if k < 100 { 1 } else { 2 })
+                .bind(times[times.len() - 1])
+                .bind(per)
+                .bind(chunk::encode(&times, &values, Precision::F32))
+                .execute(&pool)
+                .await
+                .unwrap();
+        }
+        let part = |upload_id| UploadPart {
+            upload_id,
+            form: StoredForm::measured(Basis::Site),
+            interval_ms: Some(1000),
+        };
+        let info = ChannelInfo {
+            id: 1,
+            quantity: "flow".into(),
+            compressor_id: None,
+            compressor_tag: None,
+            label: "q".into(),
+            unit: "m3_min".into(),
+            point: None,
+            first_ms: 0,
+            last_ms: 1_999_000,
+            readings: 2000,
+            parts: vec![part(1), part(2)],
+        };
+        let site = SiteAir::new(101.325, 20.0);
+        for (from_s, to_s) in [(995, 1010), (1505, 1600), (0, 30)] {
+            let window = Some((from_s * 1000, to_s * 1000));
+            let frame = load_frame(&pool, &site, std::slice::from_ref(&info), &[], window)
+                .await
+                .unwrap()
+                .expect("a frame");
+            assert_eq!((frame.grid.start_ms, frame.grid.step_ms), (from_s * 1000, 1000));
+            assert_eq!(frame.grid.len, (to_s - from_s) as usize);
+            for (i, v) in frame.columns[0].values.iter().enumerate() {
+                let want = (from_s + i as i64) as f32 + 0.5;
+                assert!((v - want).abs() < 1e-3, "window from {from_s} s, bin {i}: {v} against {want}");
+            }
         }
         pool.close().await;
         let _ = std::fs::remove_dir_all(&dir);

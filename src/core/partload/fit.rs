@@ -174,29 +174,61 @@ fn decays(power_w: &[f32], states: &[State], loaded_w: f64, step_s: f64) -> Vec<
     out
 }
 
-/// Residual and (unloaded level, amplitudes) of the decays at one τ (module doc's closed form).
-fn residual(runs: &[Vec<f64>], step_s: f64, tau: f64) -> (f64, f64, Vec<f64>) {
-    let longest = runs.iter().map(Vec::len).max().unwrap_or(0);
-    let e: Vec<f64> = (0..longest).map(|j| (-(j as f64) * step_s / tau).exp()).collect();
-    let (mut sum_p, mut sum_p2, mut n) = (0.0, 0.0, 0.0);
-    let (mut num, mut den) = (0.0, 0.0);
-    let mut per: Vec<(f64, f64, f64)> = Vec::with_capacity(runs.len());
-    for r in runs {
-        let (mut se, mut ee, mut sp) = (0.0, 0.0, 0.0);
-        for (j, &p) in r.iter().enumerate() {
-            se += e[j];
-            ee += e[j] * e[j];
-            sp += p * e[j];
+/// The decays with what the residual needs of them that τ does not change: the longest run and the
+/// sums of the powers and of their squares over every bin, taken once rather than at each of the
+/// scan's two hundred τ (a day at 1 s holds hundreds of decays).
+struct Decays {
+    runs: Vec<Vec<f64>>,
+    longest: usize,
+    sum_p: f64,
+    sum_p2: f64,
+    n: f64,
+}
+
+impl Decays {
+    fn of(runs: Vec<Vec<f64>>) -> Decays {
+        let longest = runs.iter().map(Vec::len).max().unwrap_or(0);
+        let (mut sum_p, mut sum_p2, mut n) = (0.0, 0.0, 0.0);
+        for &p in runs.iter().flatten() {
             sum_p += p;
             sum_p2 += p * p;
             n += 1.0;
+        }
+        Decays { runs, longest, sum_p, sum_p2, n }
+    }
+}
+
+/// Residual and (unloaded level, amplitudes) of the decays at one τ (module doc's closed form). A
+/// run's sums of `e_j` and `e_j²` depend on its length only: they are the prefix sums of one table,
+/// added in the same order as bin by bin, so only `Σ p_j e_j` is summed per run.
+fn residual(d: &Decays, step_s: f64, tau: f64) -> (f64, f64, Vec<f64>) {
+    let mut e = Vec::with_capacity(d.longest);
+    // prefix[l] = (Σ e_j, Σ e_j²) over j < l.
+    let mut prefix = Vec::with_capacity(d.longest + 1);
+    let (mut se, mut ee) = (0.0, 0.0);
+    prefix.push((se, ee));
+    for j in 0..d.longest {
+        let x = (-(j as f64) * step_s / tau).exp();
+        se += x;
+        ee += x * x;
+        e.push(x);
+        prefix.push((se, ee));
+    }
+    let (sum_p, n) = (d.sum_p, d.n);
+    let (mut num, mut den) = (0.0, 0.0);
+    let mut per: Vec<(f64, f64, f64)> = Vec::with_capacity(d.runs.len());
+    for r in &d.runs {
+        let (se, ee) = prefix[r.len()];
+        let mut sp = 0.0;
+        for (&p, &x) in r.iter().zip(&e) {
+            sp += p * x;
         }
         num += sp * se / ee;
         den += se * se / ee;
         per.push((se, ee, sp));
     }
     let u = if (den - n).abs() > 1e-12 { (num - sum_p) / (den - n) } else { f64::NAN };
-    let mut sse = sum_p2 - 2.0 * u * sum_p + n * u * u;
+    let mut sse = d.sum_p2 - 2.0 * u * sum_p + n * u * u;
     let amps = per
         .iter()
         .map(|&(se, ee, sp)| {
@@ -218,7 +250,8 @@ pub fn fit_blowdown(
     if !(loaded_w > 0.0 && step_s > 0.0) {
         return Err("no loaded level in the log".into());
     }
-    let runs = decays(power_w, states, loaded_w, step_s);
+    let d = Decays::of(decays(power_w, states, loaded_w, step_s));
+    let runs = &d.runs;
     if runs.len() < MIN_RUNS {
         return Err(format!(
             "{} unloadings with at least three bins of decay in the log, {MIN_RUNS} needed",
@@ -229,8 +262,10 @@ pub fn fit_blowdown(
     let (lo_ln, hi_ln) = (1.0f64.ln(), 200.0f64.ln());
     let steps = 80;
     let at = |i: usize| (lo_ln + (hi_ln - lo_ln) * i as f64 / steps as f64).exp();
-    let sse = |tau: f64| residual(&runs, step_s, tau).0;
-    let best = (0..=steps).min_by(|&a, &b| sse(at(a)).total_cmp(&sse(at(b)))).unwrap_or(0);
+    let sse = |tau: f64| residual(&d, step_s, tau).0;
+    // Each τ of the scan once (the first least, as `min_by` keeps it).
+    let scan: Vec<f64> = (0..=steps).map(|i| sse(at(i))).collect();
+    let best = (0..=steps).min_by(|&a, &b| scan[a].total_cmp(&scan[b])).unwrap_or(0);
     let (mut a, mut b) = (at(best.saturating_sub(1)).ln(), at((best + 1).min(steps)).ln());
     let g = 0.5 * (5.0f64.sqrt() - 1.0);
     for _ in 0..60 {
@@ -242,7 +277,7 @@ pub fn fit_blowdown(
         }
     }
     let tau = (0.5 * (a + b)).exp();
-    let (_, u_w, amps) = residual(&runs, step_s, tau);
+    let (_, u_w, amps) = residual(&d, step_s, tau);
     let mean_amp = amps.iter().sum::<f64>() / amps.len() as f64;
     // Power that falls straight to a flat level (within 1 % of full power in every decay bin, or a
     // fitted amplitude that small): the log shows no blow-down over two intervals and more. The
