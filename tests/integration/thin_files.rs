@@ -245,3 +245,23 @@ fn an_audit_without_a_pressure_log_says_so_and_quotes_no_transmitter() {
     assert!(report.contains("not logged (no pressure column was read)"), "the pressure table");
     assert!(!report.contains("Uncertainty of the transmitter"), "a transmitter that was never there");
 }
+
+/// A dryer on record in an audit whose data are not enough is not priced, and the report and the
+/// findings say so: a walk found "No dryer, drain, filter or pressure drop on record" beside the
+/// dryers the technician had just recorded.
+#[test]
+fn records_left_unpriced_on_thin_data_are_not_called_absent() {
+    let s = Server::start();
+    let (id, _) = super::guard::thin_audit(&s);
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/dryers"),
+        &json!({"tag": "D1", "kind": "heatless_desiccant", "rated_flow_m3_min": 10, "purge_fraction": 0.15,
+                "control": "fixed_cycle"}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    for page in ["report", "findings"] {
+        let html = s.get(&format!("/audits/{id}/{page}")).text;
+        assert!(!html.contains("No dryer, drain, filter or pressure drop on record."), "{page}");
+        assert!(html.contains("id=\"transmission-withheld\">Dryers, drains, filters and end uses on record, if any, are not priced: not enough data"), "{page}");
+    }
+}
