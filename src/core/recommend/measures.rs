@@ -550,7 +550,11 @@ pub(super) fn improve_control(r: &RecommendInput, p: &Plant, first: &Plant) -> O
             high_kwh,
             acts_on_kwh: r.annual_energy_kwh,
             money: None,
-            cost_ctx: CostContext { scenario_cost: Some(s.implementation_cost), ..Default::default() },
+            cost_ctx: CostContext {
+                scenario_cost: Some(s.implementation_cost),
+                scenario_cost_quoted: s.cost_quoted,
+                ..Default::default()
+            },
             basis: vec![
                 text![format!(
                     "replayed saving {:.0} kWh over {:.0} h against a simulated baseline of {:.0} kWh",

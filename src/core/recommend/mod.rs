@@ -222,6 +222,8 @@ pub enum CostSource {
     DefaultEstimate,
     /// Set per audit.
     Edited,
+    /// The installed cost quoted for the replayed scenario the measure rests on (`improve_control`).
+    Quoted,
 }
 
 /// Rank by simple payback, shortest first (measures without one last).
@@ -371,6 +373,8 @@ pub struct CostContext {
     pub has_vsd: bool,
     /// The cost of a replayed scenario (quoted or estimated by `simulate`); replaces the rate.
     pub scenario_cost: Option<f64>,
+    /// That cost was quoted for the scenario, not estimated.
+    pub scenario_cost_quoted: bool,
     /// Dryers, drains or end-use lines a treatment measure changes (for `filter_change`: the
     /// elements without a recorded cost).
     pub items: f64,
@@ -432,7 +436,8 @@ pub struct Recommendation {
     pub annual_cost_saving: f64,
     pub implementation_cost: f64,
     pub simple_payback_years: Option<f64>,
-    /// `default_estimate` (the documented rates above) or `edited` (set per audit).
+    /// `default_estimate` (the documented rates above), `edited` (set per audit) or `quoted` (the
+    /// installed cost given with the replayed scenario the measure rests on).
     pub implementation_cost_source: CostSource,
     pub annual_co2_saving_t: f64,
     /// The saving is electricity (`false` for `recover_heat`, whose kWh are fuel displaced).
@@ -497,6 +502,8 @@ pub struct ScenarioCase {
     pub feasible: bool,
     pub supply_side_only: bool,
     pub implementation_cost: f64,
+    /// The cost was quoted with the scenario, not estimated by the default rates.
+    pub cost_quoted: bool,
     pub simulated_hours: f64,
     /// Marked by the auditor as the proposal: only then may it enter the ranking.
     pub proposal: bool,

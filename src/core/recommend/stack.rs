@@ -197,6 +197,9 @@ pub(super) fn finish(r: &RecommendInput, si: &Words<'_>, d: Draft) -> Option<Rec
     }
     let (implementation_cost, source_of_cost) = match r.costs.edited_totals.get(kind.as_str()) {
         Some(&c) => (c, CostSource::Edited),
+        None if cost_ctx.scenario_cost.is_some() && cost_ctx.scenario_cost_quoted => {
+            (cost(kind, &cost_ctx, r.costs), CostSource::Quoted)
+        }
         None => (cost(kind, &cost_ctx, r.costs), CostSource::DefaultEstimate),
     };
     let co2_kg = if electricity { r.site.grid_co2_kg_per_kwh } else { r.site.fuel_co2_kg_per_kwh };

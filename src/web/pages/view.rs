@@ -608,10 +608,10 @@ fn measures(sm: &Summary, fmt: &Fmt, cur: &str) -> (Vec<RecView>, f64, f64) {
                 saving: fmt.money(r.annual_cost_saving, cur),
                 cost: fmt.money(r.implementation_cost, cur),
                 cost_value: r.implementation_cost,
-                cost_source: if r.implementation_cost_source == CostSource::Edited {
-                    "edited for this audit".into()
-                } else {
-                    "default estimate".into()
+                cost_source: match r.implementation_cost_source {
+                    CostSource::Edited => "edited for this audit".into(),
+                    CostSource::Quoted => "quoted".into(),
+                    CostSource::DefaultEstimate => "default estimate".into(),
                 },
                 payback: fmt.years(nan(r.simple_payback_years)),
                 co2: fmt.co2_t(r.annual_co2_saving_t),
