@@ -73,3 +73,57 @@ fn a_quoted_scenario_cost_says_quoted_on_the_report_the_findings_and_in_the_json
     assert!(row.contains("9,500 EUR quoted"), "{row}");
     assert!(!row.contains("default estimate"), "{row}");
 }
+
+/// A payback as the pages write it: months under a year, else years to one decimal.
+fn years(y: f64) -> String {
+    if y < 1.0 {
+        format!("{:.0} months", y * 12.0)
+    } else {
+        format!("{y:.1} years")
+    }
+}
+
+#[test]
+fn the_measures_table_says_which_payback_it_shows_and_gives_the_cost() {
+    let s = Server::demo();
+    let sm = s.get("/api/v1/audits/1/summary").json();
+    let recs = sm["recommendations"].as_array().unwrap().clone();
+    assert!(recs.len() >= 3, "the demo proposes several measures");
+    let report = s.get("/audits/1/report").text;
+    let rule = words_between(&report, "id=\"measures-rule\"", "</p>");
+    assert!(rule.contains("Ranked by each measure's payback alone"), "{rule}");
+    let head = words_between(&report, "id=\"savings-table\"", "</thead>");
+    assert!(head.contains("Payback stacked after the ones above"), "{head}");
+    assert!(head.contains("payback alone, which ranks it"), "{head}");
+    assert!(head.contains("Cost"), "{head}");
+    let body = report.split("id=\"savings-table\"").nth(1).unwrap().split("</tbody>").next().unwrap();
+    let rows: Vec<&str> = body.split("<tr><td>").skip(1).collect();
+    assert_eq!(rows.len(), recs.len());
+    let mut last_alone = 0.0;
+    for (row, rec) in rows.iter().zip(&recs) {
+        let row = words_between(row, "", "</tr>");
+        let cost = rec["implementation_cost"].as_f64().unwrap();
+        let stacked = rec["simple_payback_years"].as_f64().unwrap();
+        // The payback alone is the cost over the saving alone, and ranks the rows.
+        let alone = cost / rec["standalone_annual_cost_saving"].as_f64().unwrap();
+        assert!(
+            (rec["standalone_simple_payback_years"].as_f64().unwrap() - alone).abs() < 1e-9 * alone.max(1.0)
+        );
+        assert!(row.contains(&format!("payback {}", years(alone))), "{row}");
+        assert!(row.ends_with(&years(stacked)), "the last column is the stacked payback: {row}");
+        let grouped = {
+            let digits = format!("{:.0}", cost.round());
+            let mut out = String::new();
+            for (i, ch) in digits.chars().enumerate() {
+                if i > 0 && (digits.len() - i) % 3 == 0 {
+                    out.push(',');
+                }
+                out.push(ch);
+            }
+            out
+        };
+        assert!(row.contains(&format!("{grouped} EUR default estimate")), "the cost column: {row}");
+        assert!(alone >= last_alone, "ranked by payback alone, shortest first: {row}");
+        last_alone = alone;
+    }
+}

@@ -457,6 +457,10 @@ pub struct Recommendation {
     /// The saving of this measure alone, on the plant as logged (API.md additions).
     pub standalone_annual_energy_saving_kwh: f64,
     pub standalone_annual_cost_saving: f64,
+    /// `implementation_cost` / `standalone_annual_cost_saving`: the payback alone, which ranks the
+    /// measures (API.md additions).
+    #[serde(default)]
+    pub standalone_simple_payback_years: Option<f64>,
     /// The stacked saving's range from its inputs (leak flow, part-load slope, hours, rule, effectiveness).
     pub annual_energy_saving_kwh_low: f64,
     pub annual_energy_saving_kwh_high: f64,

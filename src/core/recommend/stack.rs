@@ -121,6 +121,7 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
             stack_position: out.len() + 1,
             standalone_annual_energy_saving_kwh: a.annual_energy_saving_kwh,
             standalone_annual_cost_saving: a.annual_cost_saving,
+            standalone_simple_payback_years: a.simple_payback_years,
             ..rec
         });
     }
@@ -223,6 +224,7 @@ pub(super) fn finish(r: &RecommendInput, si: &Words<'_>, d: Draft) -> Option<Rec
         stack_position: 0,
         standalone_annual_energy_saving_kwh: saving_kwh,
         standalone_annual_cost_saving: annual_cost_saving,
+        standalone_simple_payback_years: Some(implementation_cost / annual_cost_saving),
         annual_energy_saving_kwh_low: low_kwh,
         annual_energy_saving_kwh_high: high_kwh,
         annual_cost_saving_low: low_kwh * annual_cost_saving / saving_kwh,
