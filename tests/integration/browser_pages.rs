@@ -83,7 +83,7 @@ fn the_what_if_table_fits_a_1280_px_window() {
     assert_ne!(colour("#scenario-table a.delete-link"), edit, "delete reads apart");
     // One unit per energy column: the unit in the heading, bare numbers in the cells.
     let heads = b.js_str("return [...document.querySelectorAll('#scenario-table thead th')].slice(2, 4).map(t => t.textContent).join('|')");
-    assert!(heads.contains("Energy, kWh") || heads.contains("Energy, MWh"), "{heads}");
+    assert!(heads.contains("replayed, kWh") || heads.contains("replayed, MWh"), "{heads}");
     let cells = b.js_str(
         "return [...document.querySelectorAll('#scenario-table tr.scenario-figures')].map(r => r.cells[2].textContent + ' ' + r.cells[3].textContent).join(' ')",
     );

@@ -526,8 +526,19 @@ impl ScenarioCase {
     }
     /// The annual saving: the saved share of the simulated baseline times the annual energy.
     pub fn annual_saving_kwh(&self, annual_energy_kwh: f64) -> f64 {
-        self.energy_saving_kwh / self.baseline_energy_kwh * annual_energy_kwh
+        replayed_annual_saving_kwh(self.energy_saving_kwh, self.baseline_energy_kwh, annual_energy_kwh)
     }
+}
+
+/// A replay's saving over a year: the share it saves of the baseline replay (the same demand
+/// through the room as it is, so the replay's own error cancels) times the plant's annual energy.
+/// The what-if page and the report's saving alone use this one rule.
+pub fn replayed_annual_saving_kwh(
+    energy_saving_kwh: f64,
+    baseline_energy_kwh: f64,
+    annual_energy_kwh: f64,
+) -> f64 {
+    energy_saving_kwh / baseline_energy_kwh * annual_energy_kwh
 }
 
 /// What the measures need from one compressor, annualised by the audit's rule.

@@ -17,7 +17,7 @@ use super::view::nan;
 use super::{render, PageError, PageResult};
 use crate::app::scenarios::ScenarioOutcome;
 use crate::core::display::{EnergyUnit, Fmt};
-use crate::core::recommend::MAX_SCENARIO_VALIDATION_ERROR;
+use crate::core::recommend::{replayed_annual_saving_kwh, MAX_SCENARIO_VALIDATION_ERROR};
 use crate::store::audits::Audit;
 use crate::web::error::AppError;
 use crate::web::AppState;
@@ -72,6 +72,8 @@ pub struct ScenarioRow {
     pub energy: String,
     pub saving: String,
     pub cost_saving: String,
+    /// The cost over the cost saving a year (the report's payback alone).
+    pub payback: String,
     pub peak: String,
     pub min_pressure: String,
     pub below: String,
@@ -103,6 +105,10 @@ struct ScenariosPage {
     target_min: String,
     /// The one unit of the energy columns.
     energy_unit: &'static str,
+    /// The replayed period's length (the energy columns' time base), e.g. "168 h".
+    period: String,
+    /// The plant's annual energy the replayed share is applied to.
+    annual_energy: String,
     /// What was just done (`flash`).
     done: Option<String>,
 }
@@ -120,9 +126,11 @@ pub async fn scenarios(
     let price = b.audit.site.electricity_price_per_kwh;
     let sm = st.app.summary(id, None).await?;
     let sm = sm.figures();
-    // The replayed period's saving, scaled to the year like the audit's baseline.
-    let scale = sm.map_or(f64::NAN, |s| nan(s.baseline.annual_energy_kwh) / s.system.energy_kwh);
-    let offered_id = sm.and_then(|s| s.recommendations.iter().find_map(|r| r.scenario_id));
+    // The replayed period's saving over a year: its share of the baseline replay times the
+    // plant's annual energy, the rule of the report's saving alone (`replayed_annual_saving_kwh`).
+    let annual_kwh = sm.map_or(f64::NAN, |s| nan(s.baseline.annual_energy_kwh));
+    let offered = sm.and_then(|s| s.recommendations.iter().find(|r| r.scenario_id.is_some()));
+    let offered_id = offered.and_then(|r| r.scenario_id);
     let rev = b.audit.revision;
     let outcomes: Vec<ScenarioOutcome> = list.iter().map(ScenarioOutcome::of).collect();
     // One unit for both energy columns, whatever the rows' sizes.
@@ -155,6 +163,16 @@ pub async fn scenarios(
             } else {
                 "not offered: the estimate by rule pays back sooner".into()
             };
+            let cost = nan(r.implementation_cost);
+            // The offered row reads the report's own figures, so the two pages agree to the cent.
+            let (year_saving, payback) = match offered.filter(|o| o.scenario_id == Some(sc.id)) {
+                Some(o) => (o.standalone_annual_cost_saving, nan(o.standalone_simple_payback_years)),
+                None => {
+                    let y =
+                        replayed_annual_saving_kwh(saving, nan(r.baseline_energy_kwh), annual_kwh) * price;
+                    (y, if y > 0.0 { cost / y } else { f64::INFINITY })
+                }
+            };
             ScenarioRow {
                 id: sc.id,
                 name: sc.name.clone(),
@@ -166,10 +184,17 @@ pub async fn scenarios(
                 // it: its lower energy is no saving, and it is not priced as one.
                 cost_saving: if r.feasible == Some(false) {
                     "none: the plant falls short of its demand".into()
-                } else if scale.is_finite() {
-                    fmt.money(saving * scale * price, &cur)
+                } else if year_saving.is_finite() {
+                    fmt.money(year_saving, &cur)
                 } else {
                     "–".into()
+                },
+                payback: if r.feasible == Some(false) {
+                    "none".into()
+                } else if payback.is_nan() {
+                    "–".into()
+                } else {
+                    fmt.years(payback)
                 },
                 peak: fmt.power_kw(nan(r.peak_power_kw)),
                 min_pressure: fmt.pressure_bar_g(nan(r.min_pressure_bar_g)),
@@ -180,7 +205,7 @@ pub async fn scenarios(
                 } else {
                     r.problems.clone()
                 },
-                cost: fmt.money(nan(r.implementation_cost), &cur),
+                cost: fmt.money(cost, &cur),
                 cost_source: if r.implementation_cost_source.as_deref() == Some("given") {
                     "quoted"
                 } else {
@@ -215,6 +240,12 @@ pub async fn scenarios(
         target_min: Inputs::new(fmt.units)
             .p(crate::core::model::low_limit_bar_g(&b.specs()).unwrap_or(0.0).max(0.0)),
         energy_unit: energy_unit.label(),
+        period: outcomes
+            .iter()
+            .filter_map(|r| r.simulated_hours)
+            .fold(None, |m: Option<f64>, h| Some(m.map_or(h, |m| m.max(h))))
+            .map_or("–".into(), |h| fmt.hours(h)),
+        annual_energy: fmt.energy_kwh(annual_kwh),
         done: super::flash::Done::message(&d),
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         rows,
