@@ -180,3 +180,31 @@ fn the_what_if_table_says_each_time_base_and_agrees_with_the_report() {
     assert!(detail.contains(&format!("alone {money}")), "{detail}");
     assert!(detail.contains(&format!("({} alone)", years(payback))), "{detail}");
 }
+
+/// Whether `text` holds a run of four or more digits (a number written without grouping).
+fn has_ungrouped_number(text: &str) -> Option<String> {
+    text.split(|c: char| !c.is_ascii_digit()).find(|run| run.len() >= 4).map(str::to_string)
+}
+
+#[test]
+fn the_proposals_detail_reads_in_words_with_grouped_digits() {
+    let (s, _) = demo_with_quoted_proposal();
+    let report = s.get("/audits/1/report").text;
+    // The measure's words, from its description to its cost form (whose input holds a bare number).
+    let detail = words_between(&report, "id=\"rec-improve_control\"", "<form");
+    for internal in ["dp/dt", "p_atm", "Q_supply", "Q_demand", "scenario cost", "energy of this step"] {
+        assert!(!detail.contains(internal), "{internal} in: {detail}");
+    }
+    assert_eq!(has_ungrouped_number(&detail), None, "a number without grouping in: {detail}");
+    assert!(detail.contains("installed cost 9,500 EUR, quoted for the scenario"), "{detail}");
+    assert!(detail.contains("kWh a year"), "{detail}");
+    // The findings' accuracies and the what-if introduction say the flow's source in words.
+    let findings = s.get("/audits/1/findings").text;
+    let scenarios = s.get("/audits/1/scenarios").text;
+    for (name, page) in [("findings", &findings), ("what-if", &scenarios)] {
+        for internal in ["estimated from states", "dp/dt", "Q<sub>supply</sub>", "receiver equation"] {
+            assert!(!page.contains(internal), "{internal} on the {name} page");
+        }
+    }
+    assert!(findings.contains("a flow worked out from the compressors' load states"));
+}
