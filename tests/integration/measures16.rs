@@ -38,7 +38,7 @@ fn scenario_measure(sm: &Value) -> Value {
 /// The text of the element that starts at `start` up to the next `end`, tags taken out.
 fn words_between(page: &str, start: &str, end: &str) -> String {
     let from = page.find(start).unwrap_or_else(|| panic!("{start} not on the page"));
-    let rest = &page[from..];
+    let rest = &page[from + start.len()..];
     let to = rest.find(end).unwrap_or(rest.len());
     let mut out = String::new();
     let mut in_tag = false;
@@ -137,7 +137,7 @@ fn scenario_cells(page: &str, sid: i64) -> Vec<String> {
         .split("</tr>")
         .next()
         .unwrap();
-    row.split("<td").skip(1).map(|c| words_between(&format!("<td{c}"), "<td", "</td>")).collect()
+    row.split("<td").skip(1).map(|c| words_between(&format!("<td{c}"), "", "</td>")).collect()
 }
 
 #[test]
@@ -207,4 +207,76 @@ fn the_proposals_detail_reads_in_words_with_grouped_digits() {
         }
     }
     assert!(findings.contains("a flow worked out from the compressors' load states"));
+}
+
+/// The text of one scenario's whole block (figures, offer, problems, actions), tags taken out.
+fn scenario_block(page: &str, sid: i64) -> String {
+    words_between(page, &format!("<tbody data-scenario=\"{sid}\">"), "</tbody>")
+}
+
+#[test]
+fn the_baseline_and_a_plant_short_of_air_cannot_be_the_proposal() {
+    let s = Server::demo();
+    let mut ids = vec![];
+    for body in [
+        json!({"name": "as is", "changes": []}),
+        json!({"name": "no C1", "changes": [{"op": "remove", "tag": "C1"}]}),
+    ] {
+        let r = s.post_json("/api/v1/audits/1/scenarios", &body);
+        assert_eq!(r.status, 201, "{}", r.text);
+        ids.push(r.json()["id"].as_i64().unwrap());
+    }
+    let (baseline, short) = (ids[0], ids[1]);
+    assert_eq!(s.get(&format!("/api/v1/audits/1/scenarios/{short}")).json()["result"]["feasible"], false);
+    let page = s.get("/audits/1/scenarios").text;
+    // The baseline: no cost, no payback, no action to mark it; it says what it is.
+    let cells = scenario_cells(&page, baseline);
+    assert_eq!(cells[5], "none no change", "{cells:?}");
+    assert_eq!(cells[6], "–", "{cells:?}");
+    let block = scenario_block(&page, baseline);
+    assert!(!block.contains("mark as the proposal"), "{block}");
+    assert!(block.contains("the baseline: every saving here is measured against it"), "{block}");
+    // The plant short of air: refused in words, no action offered.
+    let block = scenario_block(&page, short);
+    assert!(!block.contains("mark as the proposal"), "{block}");
+    assert!(block.contains("the plant does not hold its pressure, so it cannot be the proposal"), "{block}");
+    // Its time below the minimum in one format, the table's and the problem's alike: hours and
+    // minutes as a person writes them, never decimal minutes.
+    let cells = scenario_cells(&page, short);
+    let below = &cells[9];
+    assert!(below.ends_with(" min") || below.ends_with(" h"), "time below: {below}");
+    assert!(!below.contains('.'), "time below: {below}");
+    let problem = block
+        .split("the header pressure was below ")
+        .nth(1)
+        .unwrap_or_else(|| panic!("no pressure problem in: {block}"));
+    assert!(problem.contains(&format!("for {below}: the plant does not hold")), "{below} vs {problem}");
+    // The API refuses both, naming the field in words.
+    for sid in [baseline, short] {
+        let r = s.patch_json(&format!("/api/v1/audits/1/scenarios/{sid}"), &json!({"proposal": true}));
+        assert_eq!(r.status, 422, "{}", r.text);
+        assert_eq!(r.json()["error"]["field"], "proposal");
+        assert!(r.text.contains("cannot be the proposal"), "{}", r.text);
+    }
+    let r = s.post_json(
+        "/api/v1/audits/1/scenarios",
+        &json!({"name": "as is again", "changes": [], "proposal": true}),
+    );
+    assert_eq!(r.status, 422, "{}", r.text);
+}
+
+#[test]
+fn a_rename_says_it_was_done() {
+    let s = Server::demo();
+    let r = s.post_json("/api/v1/audits/1/scenarios", &json!({"name": "as is", "changes": []}));
+    let sid = r.json()["id"].as_i64().unwrap();
+    let r = s.post_form(&format!("/audits/1/scenarios/{sid}/rename"), &[("name", "baseline <week 12>")]);
+    assert_eq!(r.status, 303, "{}", r.text);
+    let to = r.header("location").expect("a redirect").to_string();
+    let page = s.get(&to).text;
+    let msg = words_between(&page, "id=\"done-message\"", "</p>");
+    // The name is the user's text, escaped.
+    assert!(msg.starts_with("Scenario renamed to \u{201c}baseline "), "{msg}");
+    assert!(msg.contains("week 12") && msg.ends_with("\u{201d}."), "{msg}");
+    assert!(!page.contains("<week 12>"), "the name is escaped");
 }

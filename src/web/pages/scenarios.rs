@@ -15,8 +15,8 @@ use serde_json::Value;
 use super::inputs::Inputs;
 use super::view::nan;
 use super::{render, PageError, PageResult};
-use crate::app::scenarios::ScenarioOutcome;
-use crate::core::display::{EnergyUnit, Fmt};
+use crate::app::scenarios::{may_propose, ScenarioOutcome};
+use crate::core::display::{hours_minutes, EnergyUnit, Fmt};
 use crate::core::recommend::{replayed_annual_saving_kwh, MAX_SCENARIO_VALIDATION_ERROR};
 use crate::store::audits::Audit;
 use crate::web::error::AppError;
@@ -88,6 +88,9 @@ pub struct ScenarioRow {
     pub offer: String,
     pub offered: bool,
     pub proposal: bool,
+    /// It may be marked as the proposal (`app::scenarios::may_propose`): not the baseline, not a
+    /// plant short of air.
+    pub may_propose: bool,
 }
 
 #[derive(Template)]
@@ -142,8 +145,14 @@ pub async fn scenarios(
             let saving = nan(r.energy_saving_kwh);
             let validation_error = nan(r.validation_error);
             let max_v = MAX_SCENARIO_VALIDATION_ERROR;
+            let may_propose = may_propose(&sc.changes, r.feasible).is_ok();
+            let baseline = sc.changes.as_array().is_none_or(Vec::is_empty);
             let offer = if offered_id == Some(sc.id) {
                 "the proposal: on the report as the control measure".to_string()
+            } else if baseline {
+                "the baseline: every saving here is measured against it; it is not a measure".into()
+            } else if r.feasible == Some(false) {
+                "not offered: the plant does not hold its pressure, so it cannot be the proposal".into()
             } else if sc.revision != rev {
                 "replayed on earlier data: replay it again".into()
             } else if r.simulated_hours.is_none_or(|h| h.is_nan() || h <= 0.0) {
@@ -151,7 +160,7 @@ pub async fn scenarios(
             } else if !sc.proposal {
                 "not proposed: mark it as the proposal to put it on the report".into()
             } else if r.feasible != Some(true) {
-                "not offered: the plant does not hold its pressure".into()
+                "not offered: the replay does not say whether the plant holds its pressure".into()
             } else if r.supply_side_only != Some(true) {
                 "not offered: set-point and leak changes are measures of their own".into()
             } else if validation_error.is_nan() {
@@ -189,7 +198,9 @@ pub async fn scenarios(
                 } else {
                     "–".into()
                 },
-                payback: if r.feasible == Some(false) {
+                payback: if baseline {
+                    "–".into()
+                } else if r.feasible == Some(false) {
                     "none".into()
                 } else if payback.is_nan() {
                     "–".into()
@@ -198,21 +209,24 @@ pub async fn scenarios(
                 },
                 peak: fmt.power_kw(nan(r.peak_power_kw)),
                 min_pressure: fmt.pressure_bar_g(nan(r.min_pressure_bar_g)),
-                below: fmt.hours(nan(r.time_below_min_required_s) / 3600.0),
+                below: hours_minutes(nan(r.time_below_min_required_s)),
                 validation: fmt.percent(validation_error),
                 problems: if r.problem_parts.len() == r.problems.len() {
                     r.problem_parts.iter().map(|p| crate::core::display::render_parts(p, &fmt)).collect()
                 } else {
                     r.problems.clone()
                 },
-                cost: fmt.money(cost, &cur),
-                cost_source: if r.implementation_cost_source.as_deref() == Some("given") {
+                cost: if baseline { "none".into() } else { fmt.money(cost, &cur) },
+                cost_source: if baseline {
+                    "no change"
+                } else if r.implementation_cost_source.as_deref() == Some("given") {
                     "quoted"
                 } else {
                     "default estimate"
                 },
                 offered: offered_id == Some(sc.id),
                 proposal: sc.proposal,
+                may_propose,
                 offer,
             }
         })
@@ -272,5 +286,6 @@ pub async fn rename(
 ) -> PageResult {
     let name = form.get("name").map(String::as_str).unwrap_or("");
     st.app.edit_scenario(id, sid, Some(name), None).await.map_err(AppError::from)?;
-    Ok(Redirect::to(&format!("/audits/{id}/scenarios")).into_response())
+    let done = super::flash::Done { kind: "scenario-renamed", what: name.trim().to_string() };
+    Ok(Redirect::to(&format!("/audits/{id}/scenarios?{}", done.query())).into_response())
 }
