@@ -280,3 +280,18 @@ fn a_rename_says_it_was_done() {
     assert!(msg.contains("week 12") && msg.ends_with("\u{201d}."), "{msg}");
     assert!(!page.contains("<week 12>"), "the name is escaped");
 }
+
+#[test]
+fn a_leak_estimate_from_the_logs_says_so_once() {
+    let s = Server::demo();
+    let sm = s.get("/api/v1/audits/1/summary").json();
+    let auto = sm["leaks"]["estimates"].as_array().unwrap().iter().filter(|e| e["automatic"] == true).count();
+    assert!(auto >= 1, "the demo has a leak estimate read from the logs");
+    let findings = s.get("/audits/1/findings").text;
+    let table = words_between(&findings, "id=\"leak-estimates\"", "</table>");
+    assert_eq!(table.matches("from the logs").count(), auto, "{table}");
+    assert!(table.contains("mean flow out of production, an upper bound (from the logs)"), "{table}");
+    let report = s.get("/audits/1/report").text;
+    let row = words_between(&report, "mean flow out of production", "</td>");
+    assert_eq!(row.matches("from the logs").count(), 1, "{row}");
+}
