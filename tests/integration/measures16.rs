@@ -231,6 +231,7 @@ fn the_baseline_and_a_plant_short_of_air_cannot_be_the_proposal() {
     let page = s.get("/audits/1/scenarios").text;
     // The baseline: no cost, no payback, no action to mark it; it says what it is.
     let cells = scenario_cells(&page, baseline);
+    assert_eq!(cells[4], "–", "the baseline saves nothing against itself: {cells:?}");
     assert_eq!(cells[5], "none no change", "{cells:?}");
     assert_eq!(cells[6], "–", "{cells:?}");
     let block = scenario_block(&page, baseline);

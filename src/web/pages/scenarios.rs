@@ -191,7 +191,9 @@ pub async fn scenarios(
                 cost_saving_is_text: r.feasible == Some(false),
                 // A plant that does not hold its pressure delivers less air than the log asked of
                 // it: its lower energy is no saving, and it is not priced as one.
-                cost_saving: if r.feasible == Some(false) {
+                cost_saving: if baseline {
+                    "–".into()
+                } else if r.feasible == Some(false) {
                     "none: the plant falls short of its demand".into()
                 } else if year_saving.is_finite() {
                     fmt.money(year_saving, &cur)
