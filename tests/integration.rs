@@ -26,6 +26,8 @@ mod hostile_validation;
 mod hostile_web;
 #[path = "integration/ingest.rs"]
 mod ingest;
+#[path = "integration/measures16.rs"]
+mod measures16;
 #[path = "integration/pages.rs"]
 mod pages;
 #[path = "integration/partload.rs"]

@@ -61,6 +61,9 @@ impl App {
     pub async fn add_scenario(&self, id: i64, mut body: serde_json::Value) -> Result<(i64, SimResult)> {
         let proposal = take_proposal(&mut body)?.unwrap_or(false);
         let r = self.replay(id, body).await?;
+        if proposal {
+            may_propose(&r.changes, Some(r.result.feasible))?;
+        }
         let w = r.write(proposal);
         let sid = audits::add_scenario(self.db(), id, &w).await?;
         Ok((sid, r.result))
@@ -75,8 +78,16 @@ impl App {
         mut body: serde_json::Value,
     ) -> Result<SimResult> {
         let stored = self.scenario(id, sid).await?;
-        let proposal = take_proposal(&mut body)?.unwrap_or(stored.proposal);
+        let asked = take_proposal(&mut body)?;
         let r = self.replay(id, body).await?;
+        let may = may_propose(&r.changes, Some(r.result.feasible));
+        // Asked for, a replay that cannot be the proposal is refused; kept from before, it is
+        // withdrawn (the page says why it is not on the report).
+        let proposal = match asked {
+            Some(true) => may.map(|_| true)?,
+            Some(false) => false,
+            None => stored.proposal && may.is_ok(),
+        };
         if !audits::replace_scenario(self.db(), id, sid, &r.write(proposal)).await? {
             return Err(no_scenario(id, sid));
         }
@@ -97,6 +108,10 @@ impl App {
             if n.is_empty() || n.chars().count() > 100 {
                 return Err(Error::field("name", "the scenario needs a name of 1 to 100 characters"));
             }
+        }
+        if proposal == Some(true) {
+            let stored = self.scenario(id, sid).await?;
+            may_propose(&stored.changes, ScenarioOutcome::of(&stored).feasible)?;
         }
         if !audits::edit_scenario(self.db(), id, sid, name, proposal).await? {
             return Err(no_scenario(id, sid));
@@ -190,6 +205,26 @@ impl Replayed {
             proposal,
         }
     }
+}
+
+/// Whether a replay may be marked as the proposal: not the baseline (no change: it is what every
+/// measure is measured against) and not a plant that falls short of its demand.
+pub fn may_propose(changes: &serde_json::Value, feasible: Option<bool>) -> Result<()> {
+    if changes.as_array().is_none_or(Vec::is_empty) {
+        return Err(Error::field(
+            "proposal",
+            "the baseline replays the plant as it is: every saving is measured against it, so it is not a \
+             measure and cannot be the proposal",
+        ));
+    }
+    if feasible == Some(false) {
+        return Err(Error::field(
+            "proposal",
+            "this replay's plant does not hold its pressure (it falls short of its demand), so it cannot be \
+             the proposal: change the room until it does",
+        ));
+    }
+    Ok(())
 }
 
 fn no_scenario(id: i64, sid: i64) -> Error {

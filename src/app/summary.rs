@@ -288,6 +288,7 @@ impl App {
                     feasible: r.feasible.unwrap_or(false),
                     supply_side_only: r.supply_side_only.unwrap_or(false),
                     implementation_cost: nan(r.implementation_cost),
+                    cost_quoted: r.implementation_cost_source.as_deref() == Some("given"),
                     simulated_hours: nan(r.simulated_hours),
                     proposal: s.proposal,
                     name: s.name,

@@ -21,6 +21,24 @@ impl std::fmt::Display for Grouped {
     }
 }
 
+/// A duration as a person writes it, to the minute: "20 h 44 min", "35 min", "3 h", "under a
+/// minute", "none"; `–` for a missing value.
+pub fn hours_minutes(seconds: f64) -> String {
+    if !seconds.is_finite() || seconds < 0.0 {
+        return "–".into();
+    }
+    let minutes = (seconds / 60.0).round();
+    if minutes == 0.0 {
+        return if seconds > 0.0 { "under a minute".into() } else { "none".into() };
+    }
+    let (h, m) = ((minutes / 60.0).floor(), minutes % 60.0);
+    match (h > 0.0, m > 0.0) {
+        (false, _) => format!("{m:.0} min"),
+        (true, false) => format!("{} h", num(h, 0)),
+        (true, true) => format!("{} h {m:.0} min", num(h, 0)),
+    }
+}
+
 /// A number with thousands separators and `decimals` decimals; `-` for a missing value.
 pub fn num(v: f64, decimals: usize) -> String {
     if !v.is_finite() {
@@ -377,6 +395,18 @@ mod tests {
         assert_eq!(num(-0.004, 2), "0.00");
         assert_eq!(num(-12.5, 1), "-12.5");
         assert_eq!(num(f64::NAN, 1), "–");
+    }
+
+    #[test]
+    fn durations_read_in_hours_and_minutes() {
+        // 1 h = 60 min = 3,600 s (SI Brochure, table 8, units accepted for use with the SI).
+        assert_eq!(hours_minutes(1244.0 * 60.0), "20 h 44 min");
+        assert_eq!(hours_minutes(35.0 * 60.0), "35 min");
+        assert_eq!(hours_minutes(3.0 * 3600.0), "3 h");
+        assert_eq!(hours_minutes(20.0), "under a minute");
+        assert_eq!(hours_minutes(0.0), "none");
+        assert_eq!(hours_minutes(1000.0 * 3600.0), "1,000 h");
+        assert_eq!(hours_minutes(f64::NAN), "–");
     }
 
     #[test]

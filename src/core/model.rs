@@ -62,7 +62,7 @@ pub fn human_label(code: &str) -> String {
         "bleed_down" => "bleed-down test".into(),
         "idle_flow" => "idle flow in a logged window".into(),
         "pressure_decay" => "pressure decay fitted in the logs".into(),
-        "non_production_flow" => "mean flow out of production (from the logs, an upper bound)".into(),
+        "non_production_flow" => "mean flow out of production, an upper bound".into(),
         other => other.replace('_', " "),
     }
 }

@@ -76,6 +76,9 @@ fn printed_findings_carry_the_charts_in_the_readers_units() {
         }
         let per_page: Vec<&str> = text.split('\u{c}').filter(|p| !p.trim().is_empty()).collect();
         assert_eq!(per_page.len(), pages, "{units}: pages of text against pdfinfo");
+        let measures =
+            server.get("/api/v1/audits/1/summary").json()["recommendations"].as_array().unwrap().len();
+        measures_print_in_sensible_columns(&text, units, measures);
         for (i, page) in per_page.iter().enumerate() {
             assert!(
                 page.contains(&format!("page {} of {pages}", i + 1)),
@@ -83,6 +86,34 @@ fn printed_findings_carry_the_charts_in_the_readers_units() {
                 i + 1
             );
         }
+    }
+}
+
+/// The printed measures table gives the measure's title a column it reads in and its method a row
+/// of its own: the demo's measures take at most two pages (seven took three, three rows a page,
+/// with a fifth of the line for the title and the method squeezed under it), each title's first
+/// words share one line (“Lower the header” / “pressure from” was cut), and each method line runs
+/// across the figures' columns.
+fn measures_print_in_sensible_columns(layout: &str, units: &str, measures: usize) {
+    let start = layout.find("Recommendations: measures stacked in order").expect("the measures in the PDF");
+    let end =
+        start + layout[start..].find("Methods and assumptions").expect("the methods after the measures");
+    let table = &layout[start..end];
+    let pages = table.matches('\u{c}').count() + 1;
+    assert!(pages <= 2, "{units}: the measures run over {pages} pages:\n{table}");
+    for title in
+        ["Lower the header pressure from", "Switch off idling compressors", "Recover compressor heat for"]
+    {
+        assert!(squash(table).contains(title), "{units}: {title:?} is cut across lines:\n{table}");
+        assert!(table.lines().any(|l| l.contains(title)), "{units}: {title:?} not on one line:\n{table}");
+    }
+    let methods: Vec<&str> = table.lines().filter(|l| l.contains("Method and sources:")).collect();
+    assert_eq!(methods.len(), measures, "{units}: one method row a measure:\n{table}");
+    for l in methods {
+        // The method row starts under the title and runs on past the title's column: over
+        // 60 characters of its words on the line (the old column held some 25).
+        let words = l.trim();
+        assert!(words.len() > 60, "{units}: a method squeezed into a narrow column: {l:?}");
     }
 }
 

@@ -550,22 +550,46 @@ pub(super) fn improve_control(r: &RecommendInput, p: &Plant, first: &Plant) -> O
             high_kwh,
             acts_on_kwh: r.annual_energy_kwh,
             money: None,
-            cost_ctx: CostContext { scenario_cost: Some(s.implementation_cost), ..Default::default() },
+            cost_ctx: CostContext {
+                scenario_cost: Some(s.implementation_cost),
+                scenario_cost_quoted: s.cost_quoted,
+                ..Default::default()
+            },
             basis: vec![
                 text![format!(
-                    "replayed saving {:.0} kWh over {:.0} h against a simulated baseline of {:.0} kWh",
+                    "the replay saves {:.0} kWh in the {:.0} h of log, against {:.0} kWh for the baseline \
+                     replay (the same demand through the room as it is)",
                     Grouped(s.energy_saving_kwh),
                     Grouped(s.simulated_hours),
                     Grouped(s.baseline_energy_kwh)
                 )],
-                text![format!("energy of this step {:.0} kWh/yr", Grouped(if r.machines.is_empty() { r.annual_energy_kwh } else { e_now }))],
-                text![format!("validation error of the replay {:+.2} %", s.validation_error * 100.0)],
-                text![format!("scenario cost {:.0} {}", s.implementation_cost, r.site.currency)],
+                text![format!(
+                    "{} {:.0} kWh a year",
+                    if e_now < first.total_energy_kwh() * (1.0 - 1e-9) {
+                        "that share of the energy the measures above leave,"
+                    } else {
+                        "that share of the plant's energy,"
+                    },
+                    Grouped(if r.machines.is_empty() { r.annual_energy_kwh } else { e_now })
+                )],
+                text![format!(
+                    "the baseline replay comes within {:.1} % of the logged energy",
+                    s.validation_error.abs() * 100.0
+                )],
+                text![format!(
+                    "installed cost {:.0} {}, {}",
+                    Grouped(s.implementation_cost),
+                    r.site.currency,
+                    if s.cost_quoted { "quoted for the scenario" } else { "a default estimate" }
+                )],
             ],
-            formula: "saving = (replayed baseline - replayed scenario) / replayed baseline × annual energy left",
-            source: "receiver equation V dp/dt = p_atm (Q_supply - Q_demand) with each machine's control \
-                     (part-load behaviour by control: US DOE compressed-air sourcebook); validated against the logged energy",
-            method: "replayed share of the energy left; range from the replay's validation error and the annual hours (receiver equation; US DOE sourcebook)",
+            formula: "saving = (baseline replay − scenario replay) / baseline replay × the year's energy left",
+            source: "the logged demand replayed second by second through the receiver, whose pressure rises and \
+                     falls with the difference between the air supplied and the air used, each machine following \
+                     its control (part-load behaviour by control: US DOE compressed-air sourcebook); checked \
+                     against the logged energy",
+            method: "replayed share of the energy left; range from the replay's validation error and the annual \
+                     hours (receiver pressure replayed; US DOE sourcebook)",
             caution: None,
             scenario_id: Some(s.id),
         };

@@ -222,6 +222,8 @@ pub enum CostSource {
     DefaultEstimate,
     /// Set per audit.
     Edited,
+    /// The installed cost quoted for the replayed scenario the measure rests on (`improve_control`).
+    Quoted,
 }
 
 /// Rank by simple payback, shortest first (measures without one last).
@@ -371,6 +373,8 @@ pub struct CostContext {
     pub has_vsd: bool,
     /// The cost of a replayed scenario (quoted or estimated by `simulate`); replaces the rate.
     pub scenario_cost: Option<f64>,
+    /// That cost was quoted for the scenario, not estimated.
+    pub scenario_cost_quoted: bool,
     /// Dryers, drains or end-use lines a treatment measure changes (for `filter_change`: the
     /// elements without a recorded cost).
     pub items: f64,
@@ -432,7 +436,8 @@ pub struct Recommendation {
     pub annual_cost_saving: f64,
     pub implementation_cost: f64,
     pub simple_payback_years: Option<f64>,
-    /// `default_estimate` (the documented rates above) or `edited` (set per audit).
+    /// `default_estimate` (the documented rates above), `edited` (set per audit) or `quoted` (the
+    /// installed cost given with the replayed scenario the measure rests on).
     pub implementation_cost_source: CostSource,
     pub annual_co2_saving_t: f64,
     /// The saving is electricity (`false` for `recover_heat`, whose kWh are fuel displaced).
@@ -452,6 +457,10 @@ pub struct Recommendation {
     /// The saving of this measure alone, on the plant as logged (API.md additions).
     pub standalone_annual_energy_saving_kwh: f64,
     pub standalone_annual_cost_saving: f64,
+    /// `implementation_cost` / `standalone_annual_cost_saving`: the payback alone, which ranks the
+    /// measures (API.md additions).
+    #[serde(default)]
+    pub standalone_simple_payback_years: Option<f64>,
     /// The stacked saving's range from its inputs (leak flow, part-load slope, hours, rule, effectiveness).
     pub annual_energy_saving_kwh_low: f64,
     pub annual_energy_saving_kwh_high: f64,
@@ -497,6 +506,8 @@ pub struct ScenarioCase {
     pub feasible: bool,
     pub supply_side_only: bool,
     pub implementation_cost: f64,
+    /// The cost was quoted with the scenario, not estimated by the default rates.
+    pub cost_quoted: bool,
     pub simulated_hours: f64,
     /// Marked by the auditor as the proposal: only then may it enter the ranking.
     pub proposal: bool,
@@ -515,8 +526,19 @@ impl ScenarioCase {
     }
     /// The annual saving: the saved share of the simulated baseline times the annual energy.
     pub fn annual_saving_kwh(&self, annual_energy_kwh: f64) -> f64 {
-        self.energy_saving_kwh / self.baseline_energy_kwh * annual_energy_kwh
+        replayed_annual_saving_kwh(self.energy_saving_kwh, self.baseline_energy_kwh, annual_energy_kwh)
     }
+}
+
+/// A replay's saving over a year: the share it saves of the baseline replay (the same demand
+/// through the room as it is, so the replay's own error cancels) times the plant's annual energy.
+/// The what-if page and the report's saving alone use this one rule.
+pub fn replayed_annual_saving_kwh(
+    energy_saving_kwh: f64,
+    baseline_energy_kwh: f64,
+    annual_energy_kwh: f64,
+) -> f64 {
+    energy_saving_kwh / baseline_energy_kwh * annual_energy_kwh
 }
 
 /// What the measures need from one compressor, annualised by the audit's rule.

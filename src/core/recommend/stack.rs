@@ -121,6 +121,7 @@ pub fn recommend(r: &RecommendInput, si: &Words<'_>) -> Vec<Recommendation> {
             stack_position: out.len() + 1,
             standalone_annual_energy_saving_kwh: a.annual_energy_saving_kwh,
             standalone_annual_cost_saving: a.annual_cost_saving,
+            standalone_simple_payback_years: a.simple_payback_years,
             ..rec
         });
     }
@@ -197,6 +198,9 @@ pub(super) fn finish(r: &RecommendInput, si: &Words<'_>, d: Draft) -> Option<Rec
     }
     let (implementation_cost, source_of_cost) = match r.costs.edited_totals.get(kind.as_str()) {
         Some(&c) => (c, CostSource::Edited),
+        None if cost_ctx.scenario_cost.is_some() && cost_ctx.scenario_cost_quoted => {
+            (cost(kind, &cost_ctx, r.costs), CostSource::Quoted)
+        }
         None => (cost(kind, &cost_ctx, r.costs), CostSource::DefaultEstimate),
     };
     let co2_kg = if electricity { r.site.grid_co2_kg_per_kwh } else { r.site.fuel_co2_kg_per_kwh };
@@ -220,6 +224,7 @@ pub(super) fn finish(r: &RecommendInput, si: &Words<'_>, d: Draft) -> Option<Rec
         stack_position: 0,
         standalone_annual_energy_saving_kwh: saving_kwh,
         standalone_annual_cost_saving: annual_cost_saving,
+        standalone_simple_payback_years: Some(implementation_cost / annual_cost_saving),
         annual_energy_saving_kwh_low: low_kwh,
         annual_energy_saving_kwh_high: high_kwh,
         annual_cost_saving_low: low_kwh * annual_cost_saving / saving_kwh,

@@ -111,6 +111,7 @@ fn case(id: i64, saving: f64, cost: f64) -> ScenarioCase {
         feasible: true,
         supply_side_only: true,
         implementation_cost: cost,
+        cost_quoted: true,
         simulated_hours: 168.0,
         proposal: true,
     }

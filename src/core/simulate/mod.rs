@@ -315,8 +315,8 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
             Part::from("the header pressure was below "),
             recommend::bar_g(threshold),
             Part::Words(format!(
-                " for {:.1} min: the plant does not hold its control band",
-                out.below_s / 60.0
+                " for {}: the plant does not hold its control band",
+                display::hours_minutes(out.below_s)
             )),
         ]);
     }

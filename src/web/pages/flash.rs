@@ -46,6 +46,7 @@ impl Done {
             }
             "test-deleted" => "The field test was deleted; the leak estimate no longer counts it.".into(),
             "scenario-deleted" => format!("Scenario{} deleted.", quoted(what)),
+            "scenario-renamed" => format!("Scenario renamed{}.", if what.is_empty() { String::new() } else { format!(" to{}", quoted(what)) }),
             _ => return None,
         })
     }

@@ -15,10 +15,10 @@ use serde_json::Value;
 use super::inputs::Inputs;
 use super::view::nan;
 use super::{render, PageError, PageResult};
-use crate::app::scenarios::ScenarioOutcome;
+use crate::app::scenarios::{may_propose, ScenarioOutcome};
 use crate::core::analysis::Verdict;
-use crate::core::display::{EnergyUnit, Fmt};
-use crate::core::recommend::MAX_SCENARIO_VALIDATION_ERROR;
+use crate::core::display::{hours_minutes, EnergyUnit, Fmt};
+use crate::core::recommend::{replayed_annual_saving_kwh, MAX_SCENARIO_VALIDATION_ERROR};
 use crate::store::audits::Audit;
 use crate::web::error::AppError;
 use crate::web::AppState;
@@ -73,6 +73,8 @@ pub struct ScenarioRow {
     pub energy: String,
     pub saving: String,
     pub cost_saving: String,
+    /// The cost over the cost saving a year (the report's payback alone).
+    pub payback: String,
     pub peak: String,
     pub min_pressure: String,
     pub below: String,
@@ -89,6 +91,9 @@ pub struct ScenarioRow {
     pub offer: String,
     pub offered: bool,
     pub proposal: bool,
+    /// It may be marked as the proposal (`app::scenarios::may_propose`): not the baseline, not a
+    /// plant short of air.
+    pub may_propose: bool,
 }
 
 #[derive(Template)]
@@ -110,6 +115,10 @@ struct ScenariosPage {
     target_min: String,
     /// The one unit of the energy columns.
     energy_unit: &'static str,
+    /// The replayed period's length (the energy columns' time base), e.g. "168 h".
+    period: String,
+    /// The plant's annual energy the replayed share is applied to.
+    annual_energy: String,
     /// What was just done (`flash`).
     done: Option<String>,
 }
@@ -127,9 +136,11 @@ pub async fn scenarios(
     let price = b.audit.site.electricity_price_per_kwh;
     let sm = st.app.summary(id, None).await?;
     let sm = sm.figures();
-    // The replayed period's saving, scaled to the year like the audit's baseline.
-    let scale = sm.map_or(f64::NAN, |s| nan(s.baseline.annual_energy_kwh) / s.system.energy_kwh);
-    let offered_id = sm.and_then(|s| s.recommendations.iter().find_map(|r| r.scenario_id));
+    // The replayed period's saving over a year: its share of the baseline replay times the
+    // plant's annual energy, the rule of the report's saving alone (`replayed_annual_saving_kwh`).
+    let annual_kwh = sm.map_or(f64::NAN, |s| nan(s.baseline.annual_energy_kwh));
+    let offered = sm.and_then(|s| s.recommendations.iter().find(|r| r.scenario_id.is_some()));
+    let offered_id = offered.and_then(|r| r.scenario_id);
     // The verdict stands before the replays as before any annual figure (`analysis::sufficiency`).
     let insufficient = sm.is_some_and(|s| s.sufficiency.verdict == Verdict::Insufficient);
     let rev = b.audit.revision;
@@ -143,18 +154,25 @@ pub async fn scenarios(
             let saving = nan(r.energy_saving_kwh);
             let validation_error = nan(r.validation_error);
             let max_v = MAX_SCENARIO_VALIDATION_ERROR;
+            let may_propose = may_propose(&sc.changes, r.feasible).is_ok();
+            let baseline = sc.changes.as_array().is_none_or(Vec::is_empty);
             let offer = if offered_id == Some(sc.id) {
                 "the proposal: on the report as the control measure".to_string()
+            } else if baseline {
+                "the baseline: every saving here is measured against it; it is not a measure".into()
+            } else if insufficient {
+                // Before any judgement of the replay itself: on such data no replay is a measure.
+                "not offered: the logged data are not enough for annual figures".into()
+            } else if r.feasible == Some(false) {
+                "not offered: the plant does not hold its pressure, so it cannot be the proposal".into()
             } else if sc.revision != rev {
                 "replayed on earlier data: replay it again".into()
             } else if r.simulated_hours.is_none_or(|h| h.is_nan() || h <= 0.0) {
                 "no data to replay".into()
-            } else if insufficient {
-                "not offered: the logged data are not enough for annual figures".into()
             } else if !sc.proposal {
                 "not proposed: mark it as the proposal to put it on the report".into()
             } else if r.feasible != Some(true) {
-                "not offered: the plant does not hold its pressure".into()
+                "not offered: the replay does not say whether the plant holds its pressure".into()
             } else if r.supply_side_only != Some(true) {
                 "not offered: set-point and leak changes are measures of their own".into()
             } else if validation_error.is_nan() {
@@ -166,6 +184,16 @@ pub async fn scenarios(
             } else {
                 "not offered: the estimate by rule pays back sooner".into()
             };
+            let cost = nan(r.implementation_cost);
+            // The offered row reads the report's own figures, so the two pages agree to the cent.
+            let (year_saving, payback) = match offered.filter(|o| o.scenario_id == Some(sc.id)) {
+                Some(o) => (o.standalone_annual_cost_saving, nan(o.standalone_simple_payback_years)),
+                None => {
+                    let y =
+                        replayed_annual_saving_kwh(saving, nan(r.baseline_energy_kwh), annual_kwh) * price;
+                    (y, if y > 0.0 { cost / y } else { f64::INFINITY })
+                }
+            };
             ScenarioRow {
                 id: sc.id,
                 name: sc.name.clone(),
@@ -175,16 +203,27 @@ pub async fn scenarios(
                 cost_saving_is_text: r.feasible == Some(false),
                 // A plant that does not hold its pressure delivers less air than the log asked of
                 // it: its lower energy is no saving, and it is not priced as one.
-                cost_saving: if r.feasible == Some(false) {
+                cost_saving: if baseline {
+                    "–".into()
+                } else if r.feasible == Some(false) {
                     "none: the plant falls short of its demand".into()
-                } else if scale.is_finite() {
-                    fmt.money(saving * scale * price, &cur)
+                } else if year_saving.is_finite() {
+                    fmt.money(year_saving, &cur)
                 } else {
                     "–".into()
                 },
+                payback: if baseline {
+                    "–".into()
+                } else if r.feasible == Some(false) {
+                    "none".into()
+                } else if payback.is_nan() {
+                    "–".into()
+                } else {
+                    fmt.years(payback)
+                },
                 peak: fmt.power_kw(nan(r.peak_power_kw)),
                 min_pressure: fmt.pressure_bar_g(nan(r.min_pressure_bar_g)),
-                below: fmt.hours(nan(r.time_below_min_required_s) / 3600.0),
+                below: hours_minutes(nan(r.time_below_min_required_s)),
                 validation: fmt.percent(validation_error),
                 problems: if r.problem_parts.len() == r.problems.len() {
                     r.problem_parts.iter().map(|p| crate::core::display::render_parts(p, &fmt)).collect()
@@ -192,14 +231,17 @@ pub async fn scenarios(
                     r.problems.clone()
                 },
                 notes: r.note_parts.iter().map(|p| crate::core::display::render_parts(p, &fmt)).collect(),
-                cost: fmt.money(nan(r.implementation_cost), &cur),
-                cost_source: if r.implementation_cost_source.as_deref() == Some("given") {
+                cost: if baseline { "none".into() } else { fmt.money(cost, &cur) },
+                cost_source: if baseline {
+                    "no change"
+                } else if r.implementation_cost_source.as_deref() == Some("given") {
                     "quoted"
                 } else {
                     "default estimate"
                 },
                 offered: offered_id == Some(sc.id),
                 proposal: sc.proposal,
+                may_propose,
                 offer,
             }
         })
@@ -243,6 +285,12 @@ pub async fn scenarios(
         target_min: Inputs::new(fmt.units)
             .p(crate::core::model::low_limit_bar_g(&b.specs()).unwrap_or(0.0).max(0.0)),
         energy_unit: energy_unit.label(),
+        period: outcomes
+            .iter()
+            .filter_map(|r| r.simulated_hours)
+            .fold(None, |m: Option<f64>, h| Some(m.map_or(h, |m| m.max(h))))
+            .map_or("–".into(), |h| fmt.hours(h)),
+        annual_energy: fmt.energy_kwh(annual_kwh),
         done: super::flash::Done::message(&d),
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         rows,
@@ -269,5 +317,6 @@ pub async fn rename(
 ) -> PageResult {
     let name = form.get("name").map(String::as_str).unwrap_or("");
     st.app.edit_scenario(id, sid, Some(name), None).await.map_err(AppError::from)?;
-    Ok(Redirect::to(&format!("/audits/{id}/scenarios")).into_response())
+    let done = super::flash::Done { kind: "scenario-renamed", what: name.trim().to_string() };
+    Ok(Redirect::to(&format!("/audits/{id}/scenarios?{}", done.query())).into_response())
 }

@@ -53,6 +53,8 @@ pub struct RecView {
     /// The saving of the measure alone (money and energy).
     pub alone: String,
     pub alone_energy: String,
+    /// The payback alone (cost / saving alone), which ranks the measures; `payback` is stacked.
+    pub payback_alone: String,
     /// The stacked saving's range, money and energy.
     pub range: String,
     pub range_energy: String,
@@ -584,6 +586,7 @@ fn measures(sm: &Summary, fmt: &Fmt, cur: &str) -> (Vec<RecView>, f64, f64) {
             let t = &r.text;
             RecView {
                 alone: fmt.money(r.standalone_annual_cost_saving, cur),
+                payback_alone: fmt.years(nan(r.standalone_simple_payback_years)),
                 alone_energy: format!("{}{kind_of}", fmt.energy_kwh(r.standalone_annual_energy_saving_kwh)),
                 range: format!(
                     "{} to {}",
@@ -608,10 +611,10 @@ fn measures(sm: &Summary, fmt: &Fmt, cur: &str) -> (Vec<RecView>, f64, f64) {
                 saving: fmt.money(r.annual_cost_saving, cur),
                 cost: fmt.money(r.implementation_cost, cur),
                 cost_value: r.implementation_cost,
-                cost_source: if r.implementation_cost_source == CostSource::Edited {
-                    "edited for this audit".into()
-                } else {
-                    "default estimate".into()
+                cost_source: match r.implementation_cost_source {
+                    CostSource::Edited => "edited for this audit".into(),
+                    CostSource::Quoted => "quoted".into(),
+                    CostSource::DefaultEstimate => "default estimate".into(),
                 },
                 payback: fmt.years(nan(r.simple_payback_years)),
                 co2: fmt.co2_t(r.annual_co2_saving_t),
