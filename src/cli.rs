@@ -47,7 +47,8 @@ enum Command {
         /// Access token; required when binding to anything but loopback.
         #[arg(long, env = "AIRLEDGER_TOKEN", hide_env_values = true)]
         token: Option<String>,
-        /// A further name the server answers to (repeatable); see `web::access` on the Host check.
+        /// A further host name the server answers to (repeatable): requests naming any other host are
+        /// refused, a guard against DNS rebinding.
         #[arg(long = "allow-host")]
         allow_host: Vec<String>,
     },
@@ -60,7 +61,8 @@ enum Command {
         /// Access token; required when binding to anything but loopback.
         #[arg(long, env = "AIRLEDGER_TOKEN", hide_env_values = true)]
         token: Option<String>,
-        /// A further name the server answers to (repeatable); see `web::access` on the Host check.
+        /// A further host name the server answers to (repeatable): requests naming any other host are
+        /// refused, a guard against DNS rebinding.
         #[arg(long = "allow-host")]
         allow_host: Vec<String>,
         /// Build the database and exit without serving.

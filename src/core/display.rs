@@ -21,6 +21,9 @@ impl std::fmt::Display for Grouped {
     }
 }
 
+/// A missing figure, alone: a dash with no unit after it ("– kW/(m³/min)" read as a value).
+pub const MISSING: &str = "–";
+
 /// A duration as a person writes it, to the minute: "20 h 44 min", "35 min", "3 h", "under a
 /// minute", "none"; `–` for a missing value.
 pub fn hours_minutes(seconds: f64) -> String {
@@ -150,6 +153,9 @@ impl Fmt {
 
     pub fn pressure_bar_g(&self, bar_g: impl Num) -> String {
         let bar_g = bar_g.f();
+        if !bar_g.is_finite() {
+            return MISSING.into();
+        }
         match self.units {
             UnitSystem::Si => format!("{} bar(g)", num(bar_g, 2)),
             UnitSystem::Us => {
@@ -167,6 +173,9 @@ impl Fmt {
     }
     pub fn pressure_delta_bar(&self, bar: impl Num) -> String {
         let bar = bar.f();
+        if !bar.is_finite() {
+            return MISSING.into();
+        }
         match self.units {
             UnitSystem::Si => format!("{} bar", num(bar, 2)),
             UnitSystem::Us => format!("{} psi", num(bar * PA_PER_BAR / super::units::PA_PER_PSI, 1)),
@@ -175,6 +184,9 @@ impl Fmt {
     /// A temperature difference: K (SI), °F (US; NIST SP 811: 1 K = 1.8 °F as an interval).
     pub fn temperature_difference_k(&self, k: impl Num) -> String {
         let k = k.f();
+        if !k.is_finite() {
+            return MISSING.into();
+        }
         match self.units {
             UnitSystem::Si => format!("{} K", num(k, sig(k).min(1))),
             UnitSystem::Us => format!("{} °F", num(k * 1.8, sig(k * 1.8).min(1))),
@@ -183,6 +195,9 @@ impl Fmt {
     /// An altitude or a length: m (SI), ft (US; NIST SP 811: 1 ft = 0.3048 m exactly).
     pub fn altitude_m(&self, m: impl Num) -> String {
         let m = m.f();
+        if !m.is_finite() {
+            return MISSING.into();
+        }
         match self.units {
             UnitSystem::Si => format!("{} m", num(m, 0)),
             UnitSystem::Us => format!("{} ft", num(m / 0.3048, 0)),
@@ -191,6 +206,9 @@ impl Fmt {
     /// An absolute pressure given in kPa: kPa abs (SI), psia (US).
     pub fn pressure_abs_kpa(&self, kpa: impl Num) -> String {
         let kpa = kpa.f();
+        if !kpa.is_finite() {
+            return MISSING.into();
+        }
         match self.units {
             UnitSystem::Si => format!("{} kPa abs", num(kpa, 2)),
             UnitSystem::Us => format!("{} psia", num(kpa * 1000.0 / super::units::PA_PER_PSI, 2)),
@@ -199,6 +217,9 @@ impl Fmt {
     /// Storage per unit of flow: m³ per m³/min (SI), US gal/cfm (US, the trade's rule-of-thumb unit).
     pub fn storage_per_flow(&self, m3_per_m3_min: impl Num) -> String {
         let v = m3_per_m3_min.f();
+        if !v.is_finite() {
+            return MISSING.into();
+        }
         match self.units {
             UnitSystem::Si => format!("{} m³ per m³/min", num(v, 2)),
             UnitSystem::Us => format!("{} US gal/cfm", num(v * M3_PER_FT3 / M3_PER_US_GAL, 1)),
@@ -206,6 +227,9 @@ impl Fmt {
     }
     pub fn flow_m3_min(&self, q: impl Num) -> String {
         let q = q.f();
+        if !q.is_finite() {
+            return MISSING.into();
+        }
         match self.units {
             UnitSystem::Si => format!("{} m³/min free air", num(q, sig(q))),
             UnitSystem::Us => {
@@ -223,6 +247,9 @@ impl Fmt {
     }
     pub fn air_m3(&self, v: impl Num) -> String {
         let v = v.f();
+        if !v.is_finite() {
+            return MISSING.into();
+        }
         match self.units {
             UnitSystem::Si => format!("{} m³ free air", num(v, 0)),
             UnitSystem::Us => format!("{} ft³ free air", num(v / M3_PER_FT3, 0)),
@@ -230,10 +257,16 @@ impl Fmt {
     }
     pub fn power_kw(&self, kw: impl Num) -> String {
         let kw = kw.f();
+        if !kw.is_finite() {
+            return MISSING.into();
+        }
         format!("{} kW", num(kw, sig(kw).min(1)))
     }
     pub fn energy_kwh(&self, kwh: impl Num) -> String {
         let kwh = kwh.f();
+        if !kwh.is_finite() {
+            return MISSING.into();
+        }
         if kwh.abs() >= 1.0e6 {
             format!("{} GWh", num(kwh / 1.0e6, 2))
         } else if kwh.abs() >= 10_000.0 {
@@ -244,6 +277,9 @@ impl Fmt {
     }
     pub fn specific_power(&self, kw_per_m3_min: impl Num) -> String {
         let kw_per_m3_min = kw_per_m3_min.f();
+        if !kw_per_m3_min.is_finite() {
+            return MISSING.into();
+        }
         match self.units {
             UnitSystem::Si => format!("{} kW/(m³/min)", num(kw_per_m3_min, 2)),
             UnitSystem::Us => format!("{} kW/100 cfm", num(kw_per_100cfm(kw_per_m3_min), 1)),
@@ -258,6 +294,9 @@ impl Fmt {
     }
     pub fn volume_m3(&self, v: impl Num) -> String {
         let v = v.f();
+        if !v.is_finite() {
+            return MISSING.into();
+        }
         match self.units {
             UnitSystem::Si => format!("{} m³", num(v, sig(v).min(2))),
             UnitSystem::Us => format!("{} US gal", num(Volume(v).us_gal(), 0)),
@@ -265,6 +304,9 @@ impl Fmt {
     }
     pub fn temperature_c(&self, c: impl Num) -> String {
         let c = c.f();
+        if !c.is_finite() {
+            return MISSING.into();
+        }
         match self.units {
             UnitSystem::Si => format!("{} °C", num(c, 1)),
             UnitSystem::Us => format!("{} °F", num(Temperature::from_c(c).f(), 0)),
@@ -272,6 +314,9 @@ impl Fmt {
     }
     pub fn money(&self, v: impl Num, currency: &str) -> String {
         let v = v.f();
+        if !v.is_finite() {
+            return MISSING.into();
+        }
         format!("{} {currency}", num(v, if v.abs() >= 100.0 { 0 } else { 2 }))
     }
     /// A price per unit (per kWh, per kW-month) as typed: at least two decimals and as many more,
@@ -279,6 +324,9 @@ impl Fmt {
     /// printed 0.09).
     pub fn unit_price(&self, v: impl Num, currency: &str) -> String {
         let v = v.f();
+        if !v.is_finite() {
+            return MISSING.into();
+        }
         let decimals = (2..=4)
             .find(|&d| {
                 let scale = 10f64.powi(d as i32);
@@ -290,6 +338,9 @@ impl Fmt {
     /// Cost of compressed air per 1000 m³ (SI) or per 1000 ft³ (US) of free air.
     pub fn air_cost(&self, per_1000_m3: impl Num, currency: &str) -> String {
         let per_1000_m3 = per_1000_m3.f();
+        if !per_1000_m3.is_finite() {
+            return MISSING.into();
+        }
         match self.units {
             UnitSystem::Si => format!("{} {currency} per 1000 m³ free air", num(per_1000_m3, 2)),
             UnitSystem::Us => {
@@ -303,6 +354,9 @@ impl Fmt {
     }
     pub fn percent(&self, fraction: impl Num) -> String {
         let fraction = fraction.f();
+        if !fraction.is_finite() {
+            return MISSING.into();
+        }
         format!("{} %", num(fraction * 100.0, 1))
     }
     pub fn years(&self, y: impl Num) -> String {
@@ -317,10 +371,16 @@ impl Fmt {
     }
     pub fn hours(&self, h: impl Num) -> String {
         let h = h.f();
+        if !h.is_finite() {
+            return MISSING.into();
+        }
         format!("{} h", num(h, if h >= 100.0 { 0 } else { 1 }))
     }
     pub fn co2_t(&self, t: impl Num) -> String {
         let t = t.f();
+        if !t.is_finite() {
+            return MISSING.into();
+        }
         format!("{} t CO₂", num(t, 1))
     }
 }
@@ -378,6 +438,19 @@ pub fn local_ms_seconds(ms: i64, tz: &str) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_missing_figure_is_a_dash_with_no_unit() {
+        // A walk found "– kW/(m³/min)" and "0.000 / – m³/min free air": the unit says a value is there.
+        for units in [UnitSystem::Si, UnitSystem::Us] {
+            let f = Fmt::new(units, PressureAbs(101_325.0));
+            assert_eq!(f.specific_power(f64::NAN), "–");
+            assert_eq!(f.flow_m3_min(f64::NAN), "–");
+            assert_eq!(f.pressure_bar_g(f64::INFINITY), "–");
+            assert_eq!(f.money(f64::NAN, "EUR"), "–");
+            assert_eq!(f.percent(f64::NAN), "–");
+        }
+    }
 
     #[test]
     fn a_unit_price_keeps_the_digits_it_was_typed_with() {

@@ -55,7 +55,7 @@ fn plain_shown(v: f64, percent: bool) -> String {
 }
 
 /// The edit form's fields of a stored record, in the reader's units.
-fn edit_fields(kind: ItemKind, v: &Value, units: UnitSystem) -> Vec<Field> {
+fn edit_fields(kind: ItemKind, v: &Value, units: UnitSystem, currency: &str) -> Vec<Field> {
     let text = |name: &'static str, label: &str| Field {
         name,
         label: label.into(),
@@ -121,7 +121,7 @@ fn edit_fields(kind: ItemKind, v: &Value, units: UnitSystem) -> Vec<Field> {
             unit("clean_drop_bar", "Clean drop at rated flow (data sheet)", Entry::PressureDrop),
             unit("measured_drop_bar", "Drop measured across it", Entry::PressureDrop),
             plain("element_change_months", "element_change_months", "Element changed every, months", false),
-            plain("element_cost", "element_cost", "One element change costs", false),
+            plain("element_cost", "element_cost", &format!("One element change costs, {currency}"), false),
         ],
         ItemKind::Drain => vec![
             text("tag", "Tag"),
@@ -260,7 +260,7 @@ async fn page(st: &AppState, id: i64, refused: Option<Refusal>) -> Result<Treatm
     ] {
         for v in st.app.treatment_items(id, kind).await? {
             let (name, what) = describe(kind, &v, &fmt);
-            let fields = edit_fields(kind, &v, fmt.units);
+            let fields = edit_fields(kind, &v, fmt.units, &b.audit.site.currency);
             rows.push(Row { list, id: v["id"].as_i64().unwrap_or(0), name, what, fields });
         }
     }
