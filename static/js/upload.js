@@ -154,19 +154,25 @@
     }
     const tbody = $("columns-table").querySelector("tbody");
     tbody.replaceChildren();
+    // The audit's one compressor goes to the first power, energy and current column only: two
+    // power columns given the same machine are one channel twice, which the import refuses.
+    const taken = new Set((m.columns || []).filter((x) => x.compressor).map((x) => x.quantity));
     for (const h of sniffed.header) {
       if (h === m.timestamp.column || h === m.timestamp.time_column) continue;
       const c = (m.columns || []).find((x) => x.column === h) || { column: h, quantity: "" };
-      tbody.append(columnRow(c, notes[h]));
+      tbody.append(columnRow(c, notes[h], taken));
     }
   }
 
-  function columnRow(c, note) {
+  function columnRow(c, note, taken) {
     const q = A.el("select", { class: "q" }, option("", "not read", !c.quantity),
       ...Object.keys(UNITS).map((k) => option(k, QUANTITY[k] || k, k === c.quantity)));
     const u = A.el("select", { class: "u" });
     // An audit with one compressor: its power (or current) is that machine's unless said otherwise.
-    const only = data.compressors.length === 1 && !c.compressor ? data.compressors[0] : null;
+    const machineQuantity = ["power", "energy", "current"].includes(c.quantity);
+    const only = data.compressors.length === 1 && !c.compressor && machineQuantity && !(taken && taken.has(c.quantity))
+      ? data.compressors[0] : null;
+    if (only && taken) taken.add(c.quantity);
     const comp = A.el("select", { class: "c" }, option("", "\u2014"),
       ...data.compressors.map((t) => option(t, t, t === c.compressor || t === only)));
     const details = A.el("div", { class: "details" });

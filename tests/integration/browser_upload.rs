@@ -119,3 +119,40 @@ fn the_upload_pages_file_list_follows_an_import_and_carries_remap_and_delete() {
     let severe = b.severe_logs(&page);
     assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
 }
+
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn the_one_compressor_goes_to_the_first_power_column_only() {
+    // Two power columns in a file of an audit with one compressor: giving both to it makes the
+    // same channel twice, which the import refuses ("two columns map to the same channel"), as a
+    // walk found. The first takes it, the second shows the dash for the technician to choose.
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let mut csv = String::from("time,planned kW,actual kW\n");
+    for i in 0..120 {
+        csv.push_str(&format!("{},30.0,12.5\n", jiff_like_rfc3339(1_777_881_600 + i * 60)));
+    }
+    let b = Browser::start();
+    b.set_window(1366, 900);
+    b.goto(&s.url(&format!("/audits/{id}/upload")));
+    b.js(
+        "const dt = new DataTransfer(); dt.items.add(new File([arguments[0]], 'two-meters.csv', {type: 'text/csv'}));
+         const input = document.getElementById('file-input'); input.files = dt.files;
+         input.dispatchEvent(new Event('change'));",
+        json!([csv]),
+    );
+    let row = |c: &str| format!("document.querySelector('#columns-table tr[data-column=\"{c}\"]')");
+    assert!(
+        wait_until(Duration::from_secs(15), || b.js(&format!("return !!{}", row("actual kW")), json!([]))
+            == json!(true)),
+        "the mapping did not appear"
+    );
+    let q = |c: &str| b.js_str(&format!("return {}.querySelector('.q').value", row(c)));
+    let comp = |c: &str| b.js_str(&format!("return {}.querySelector('.c').value", row(c)));
+    assert_eq!((q("planned kW"), q("actual kW")), ("power".to_string(), "power".to_string()), "both power");
+    assert_eq!(comp("planned kW"), "C1");
+    assert_eq!(comp("actual kW"), "", "the second power column is not given the same machine");
+}
