@@ -136,6 +136,9 @@ fn a_day_logged_by_an_energy_counter_alone_draws_its_power_and_a_day_without_pow
     // browser's British month may read "Sept".
     let ticks: Vec<&str> = st["ticks"].as_array().unwrap().iter().filter_map(|t| t.as_str()).collect();
     assert!(ticks.iter().all(|t| t.starts_with("Mon 13 Sep") && t.contains(" 12:")), "{ticks:?}");
+    // At round times, none at the data's own first or last instant (their labels ran into the
+    // round tick beside them): 54 minutes of data take ticks every 10 minutes.
+    assert!(ticks.iter().all(|t| t.ends_with('0')), "{ticks:?}");
 
     // The pressure log's day has no power: the chart says so in words, its axis on that day.
     pick("Sat 4 Feb 2023");
