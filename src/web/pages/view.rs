@@ -420,7 +420,12 @@ fn part_load_note(m: &PartLoadModel, fmt: &Fmt) -> String {
         parts.push(format!(
             "storage {} ({per} of trim capacity{}), band {} ({}), sump blow-down from {} of full power over τ = {} s ({})",
             fmt.volume_m3(v),
-            if m.storage_assumed { ", assumed: no system volume on record, common practice" } else { "" },
+            if m.storage_assumed {
+                ", assumed, common practice: no receiver or other volume on the audit's record; a volume \
+                 given with a field test serves that test only"
+            } else {
+                ""
+            },
             fmt.pressure_delta_bar(m.pressure_band_bar.unwrap_or(f64::NAN)),
             from(&m.pressure_band_source),
             fmt.percent(m.blowdown_start_fraction.unwrap_or(f64::NAN)),
