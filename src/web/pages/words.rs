@@ -279,6 +279,20 @@ pub fn input_words(input: &FieldTestInput, result: Option<&FieldTestResult>, fmt
 pub fn result_words(result: &FieldTestResult, fmt: &Fmt) -> String {
     let range = |lo: f64, hi: f64| format!("{} to {}", fmt.flow_m3_min(lo), fmt.flow_m3_min(hi));
     match result {
+        // A result stored before the correction for the air's cooling holds the reading as its flow.
+        FieldTestResult::BleedDown(r) if r.leak_flow_m3_min < r.leak_flow_at_operating_pressure_m3_min => format!(
+            "Mean leak flow {} at a log-mean {}; at the operating pressure {} as read (the stored air taken at \
+             one temperature: an upper bound), {} corrected for the air's cooling (about {} high as read): \
+             likely {}, from the corrected flow to the flow as read, each widened by the instruments' \
+             uncertainty; the US DOE rule of thumb (mean × 1.25) gives {}.",
+            fmt.flow_m3_min(r.mean_leak_flow_m3_min),
+            fmt.pressure_bar_g(r.log_mean_pressure_bar_g),
+            fmt.flow_m3_min(r.leak_flow_at_operating_pressure_m3_min),
+            fmt.flow_m3_min(r.leak_flow_m3_min),
+            fmt.percent(r.leak_flow_at_operating_pressure_m3_min / r.leak_flow_m3_min - 1.0),
+            range(r.leak_flow_m3_min_low, r.leak_flow_m3_min_high),
+            fmt.flow_m3_min(r.doe_rule_of_thumb_flow_m3_min),
+        ),
         FieldTestResult::BleedDown(r) => format!(
             "Mean leak flow {} at a log-mean {}; {} at the operating pressure (likely {}); the US DOE rule of thumb (mean × 1.25) gives {}.",
             fmt.flow_m3_min(r.mean_leak_flow_m3_min),
@@ -338,7 +352,15 @@ pub fn isothermal_words(input: &FieldTestInput, result: &FieldTestResult, fmt: &
     else {
         return None;
     };
-    let (tau, over) = (r.thermal_time_constant_s?, r.non_isothermal_overstatement?);
+    let atm = fmt.atmosphere;
+    let (p1, p2) = (
+        PressureAbs::from_bar_g(*start_pressure_bar_g, atm),
+        PressureAbs::from_bar_g(*end_pressure_bar_g, atm),
+    );
+    // A result stored before the cap was the fall's own held k - 1 = 40 %: read at that limit.
+    let adiabatic_limit = crate::core::leaks::adiabatic_overstatement(p1, p2);
+    let tau = r.thermal_time_constant_s?;
+    let over = r.non_isothermal_overstatement?.min(adiabatic_limit);
     let limit = fmt.percent(ISOTHERMAL_WARNING_FRACTION);
     if over <= ISOTHERMAL_WARNING_FRACTION {
         return Some(format!(
@@ -348,20 +370,24 @@ pub fn isothermal_words(input: &FieldTestInput, result: &FieldTestResult, fmt: &
             seconds(tau)
         ));
     }
-    let atm = fmt.atmosphere;
-    let check = IsothermalCheck { thermal_time_constant_s: tau, overstatement: over, too_fast: true };
-    let advice = crate::core::fieldtest::longer_fall_advice(
-        PressureAbs::from_bar_g(*start_pressure_bar_g, atm),
-        PressureAbs::from_bar_g(*end_pressure_bar_g, atm),
-        *duration_s,
+    let check = IsothermalCheck {
+        thermal_time_constant_s: tau,
+        overstatement: over,
+        adiabatic_limit,
+        too_fast: true,
+    };
+    let advice = crate::core::fieldtest::longer_fall_advice(p1, p2, *duration_s, &check, atm, fmt.units);
+    let cap = crate::core::fieldtest::adiabatic_cap_words(
         &check,
-        atm,
+        *start_pressure_bar_g,
+        *end_pressure_bar_g,
         fmt.units,
     );
     Some(format!(
         "Isothermal assumption (the stored air at one temperature through the fall): does not hold; the \
          fall was too fast for the vessel's walls to warm the expanding air (thermal time constant about \
-         {}), so the flow may be overstated by about {}, above {limit}: {advice}.",
+         {}), so the flow as read is overstated by about {}{cap}, above {limit}; the estimate is the flow \
+         corrected for it: {advice}.",
         seconds(tau),
         fmt.percent(over)
     ))
@@ -509,7 +535,19 @@ mod tests {
             ),
             "{w}"
         );
-        assert!(w.contains("about 40.0 %") && w.contains("upper bound"), "{w}");
+        // Capped at the fall's adiabatic limit, 36.0 % (scipy's adiabatic vessel, tests/reference),
+        // and said so; the flow as read is the upper bound, the corrected one the estimate.
+        assert!(
+            w.contains("about 36.0 % (the first-order rule") && w.contains("capped at the adiabatic limit"),
+            "{w}"
+        );
+        assert!(w.contains("upper bound") && w.contains("the estimate is the flow corrected for it"), "{w}");
+        let words = result_words(&fast, &fmt);
+        assert!(
+            words.contains("as read (the stored air taken at one temperature: an upper bound)"),
+            "{words}"
+        );
+        assert!(words.contains("corrected for the air's cooling (about 36.0 % high as read)"), "{words}");
         // The advice never asks for more than 15 min, and says its basis.
         assert!(w.contains("15 min at most") && w.contains("basis:") && !w.contains("45 min"), "{w}");
         let slow = evaluate(&bd(3600.0), &ctx).unwrap();
