@@ -873,6 +873,17 @@ fn a_fast_bleed_down_warns_on_its_result_and_in_the_summary() {
     assert!((num(&est, "/leak_flow_m3_min_low") - lo).abs() < 1e-12, "{est}");
     assert!((num(&est, "/leak_flow_m3_min_high") - hi).abs() < 1e-12, "{est}");
     assert!((num(&sum["leaks"], "/adopted_leak_flow_m3_min") - q).abs() < 1e-12, "{}", sum["leaks"]);
+    // The report names the estimate in the trade's words (never the code with its underscores
+    // taken out) and gives the adopted median the Leaks heading speaks of.
+    let page = s.get("/audits/1/report");
+    assert_eq!(page.status, 200);
+    let label = format!("Bleed-down test no. {}", rec["id"]);
+    assert!(page.text.matches(&label).count() >= 2, "table and chart name the test: {label}");
+    assert!(!page.text.contains("bleed down"), "a code on the page");
+    let note = page.text.split("Leak flow adopted: ").nth(1).unwrap_or_else(|| panic!("no adopted flow"));
+    let shown: f64 = note.split(|c: char| !(c.is_ascii_digit() || c == '.')).next().unwrap().parse().unwrap();
+    assert!((shown - q).abs() < 0.006, "adopted {q} m³/min shown as {shown}: {note:.120}");
+    assert!(note[..300.min(note.len())].contains("the median of the accepted field tests"), "{note:.300}");
     let prefix = format!("field test {} (bleed-down test)", rec["id"]);
     assert!(
         sum["warnings"].as_array().unwrap().iter().any(|x| x.as_str().unwrap().starts_with(&prefix)),

@@ -982,7 +982,7 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary, logged: &[(i64, i64)]) -
         .iter()
         .map(|e| {
             serde_json::json!({
-                "label": e.method, "y": e.leak_flow_m3_min * flow_k,
+                "label": super::words::leak_estimate_label(e), "y": e.leak_flow_m3_min * flow_k,
                 "low": e.leak_flow_m3_min_low * flow_k, "high": e.leak_flow_m3_min_high * flow_k})
         })
         .collect();

@@ -180,6 +180,23 @@ pub fn method_words(kind: &str) -> &'static str {
     }
 }
 
+/// A leak estimate named in the trade's words, for the leak table and the chart's categories:
+/// "Bleed-down test no. 3", "Load/unload test no. 4", "Mean flow out of production".
+pub fn leak_estimate_label(e: &crate::core::analysis::LeakEstimateFigure) -> String {
+    let kind = match e.method.as_str() {
+        "bleed_down" => "Bleed-down test",
+        "load_unload" => "Load/unload test",
+        "idle_flow" => "Idle-flow test in the logs",
+        "pressure_decay" => "Pressure-decay test in the logs",
+        "non_production_flow" => "Mean flow out of production (an upper bound)",
+        _ => "Leak estimate",
+    };
+    match e.test_id {
+        Some(id) => format!("{kind} no. {id}"),
+        None => kind.to_string(),
+    }
+}
+
 /// A recorded field test named in words for a sentence: its kind and its time on the site's
 /// clock, the logged window's start for a test read from the logs, else when it was recorded
 /// ("load/unload test of Thu 12 Mar 2026 14:05 CDT").
