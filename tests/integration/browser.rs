@@ -819,6 +819,8 @@ mod findings;
 mod forms;
 #[path = "browser_pages.rs"]
 mod pages;
+#[path = "browser_tests_page.rs"]
+mod tests_page;
 #[path = "browser_treatment.rs"]
 mod treatment;
 #[path = "browser_upload.rs"]
