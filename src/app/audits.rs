@@ -100,6 +100,7 @@ impl AuditBundle {
                     method: t.kind.clone(),
                     leak_flow_m3_min: q,
                     relative_uncertainty: r.relative_uncertainty(),
+                    range_m3_min: Some(r.range_m3_min()),
                     warnings: r.warnings().to_vec(),
                 })
             })

@@ -475,6 +475,7 @@ mod tests {
             method: "bleed_down".into(),
             leak_flow_m3_min: 1.25,
             relative_uncertainty: None,
+            range_m3_min: None,
             warnings: vec![],
         }];
         // The shape the API and the cache have always had for an audit without readings.

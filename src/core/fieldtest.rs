@@ -10,8 +10,12 @@ default instrument accuracies ([`Accuracy`]).
   stored air's temperature, optional: the inlet's when blank), scaled to the operating pressure by
   `p_op,abs / p_log-mean,abs` (choked leak flow is proportional to absolute pressure, so the decay is
   exponential: `leaks::log_mean_pressure`); the DOE rule of thumb (× 1.25) beside it for comparison
-  (US DOE compressed-air sourcebook, leaks fact sheet). A test too fast to be near isothermal carries
-  a warning with the estimated overstatement (`leaks::non_isothermal_overstatement`, the rule there).
+  (US DOE compressed-air sourcebook, leaks fact sheet). That reading takes the stored air at one
+  temperature, so it is an upper bound: `leak_flow_m3_min` is it divided by 1 + the estimated
+  overstatement (`leaks::non_isothermal_overstatement`, the rule there, at most the fall's adiabatic
+  limit `leaks::adiabatic_overstatement`), the conservative side for the savings it carries, and the
+  likely range runs from that less the instruments' uncertainty to the reading plus it. A test too
+  fast to be near isothermal (over 5 %) carries a warning saying so.
 - `load_unload`: `T / (T + t)` of the compressor's rated FAD (same source); its uncertainty from the
   test's own times (`uncertainty::load_unload_relative_uncertainty`).
 - `idle_flow`: the mean logged flow in a window when nothing but leaks (and fixed users such as dryer
@@ -289,16 +293,24 @@ impl FieldTestResult {
         }
     }
 
+    /// The likely range of the leak flow as evaluated with the test's own inputs, m³/min.
+    pub fn range_m3_min(&self) -> (f64, f64) {
+        match self {
+            Self::BleedDown(r) => (r.leak_flow_m3_min_low, r.leak_flow_m3_min_high),
+            Self::LoadUnload(r) => (r.leak_flow_m3_min_low, r.leak_flow_m3_min_high),
+            Self::IdleFlow(r) => (r.leak_flow_m3_min_low, r.leak_flow_m3_min_high),
+            Self::PressureDecay(r) => (r.leak_flow_m3_min_low, r.leak_flow_m3_min_high),
+        }
+    }
+
     /// The relative uncertainty of the leak flow (one standard uncertainty) as evaluated with the
-    /// test's own inputs: `leak_flow_m3_min_high / leak_flow_m3_min - 1`; `None` for a zero flow.
+    /// test's own inputs: the wider side of its range, `high / leak_flow_m3_min - 1` or
+    /// `1 - low / leak_flow_m3_min` (a bleed-down's range reaches up to the flow as read);
+    /// `None` for a zero flow.
     pub fn relative_uncertainty(&self) -> Option<f64> {
-        let (q, hi) = match self {
-            Self::BleedDown(r) => (r.leak_flow_m3_min, r.leak_flow_m3_min_high),
-            Self::LoadUnload(r) => (r.leak_flow_m3_min, r.leak_flow_m3_min_high),
-            Self::IdleFlow(r) => (r.leak_flow_m3_min, r.leak_flow_m3_min_high),
-            Self::PressureDecay(r) => (r.leak_flow_m3_min, r.leak_flow_m3_min_high),
-        };
-        (q > 0.0 && hi.is_finite()).then(|| hi / q - 1.0)
+        let q = self.leak_flow_m3_min();
+        let (lo, hi) = self.range_m3_min();
+        (q > 0.0 && hi.is_finite() && lo.is_finite()).then(|| (hi / q - 1.0).max(1.0 - lo / q))
     }
 }
 
@@ -451,6 +463,27 @@ fn window<'f>(
     }
 }
 
+/// When the first-order rule reached the fall's adiabatic limit, that cap in words, in the
+/// reader's units (a clause to follow the overstatement); else nothing.
+pub fn adiabatic_cap_words(
+    iso: &leaks::IsothermalCheck,
+    start_bar_g: f64,
+    end_bar_g: f64,
+    units: UnitSystem,
+) -> String {
+    if !iso.at_adiabatic_limit() {
+        return String::new();
+    }
+    format!(
+        " (the first-order rule, (k − 1)/k × thermal time constant / duration, would give more, so it is \
+         capped at the adiabatic limit of a fall from {} to {}: the air left behind gaining no heat \
+         from the walls, (1 − p₂/p₁)/(1 − (p₂/p₁)^(1/k)) − 1 absolute, the most such a fall can \
+         overstate)",
+        Entry::GaugePressure.said(units, start_bar_g),
+        Entry::GaugePressure.said(units, end_bar_g),
+    )
+}
+
 /// What to do after a bleed-down too fast to be near isothermal, in the reader's units: a longer
 /// fall a technician can time (`leaks::longer_fall`: to half the start's gauge pressure, 15 min at
 /// most), or, when none would help, the result read as an upper bound; with the basis.
@@ -465,8 +498,8 @@ pub fn longer_fall_advice(
     let said = |p: PressureAbs| Entry::GaugePressure.said(units, p.bar_g(atm));
     let max_min = leaks::BLEED_DOWN_MAX_ADVISED_S / 60.0;
     let basis = format!(
-        "(basis: the overstatement, (k − 1)/k × thermal time constant / duration, \
-         falls as the fall lengthens; the fall is timed to about half the start's gauge pressure, as \
+        "(basis: the overstatement, (k − 1)/k × thermal time constant / duration and at most the \
+         fall's adiabatic limit, falls as the fall lengthens; the fall is timed to about half the start's gauge pressure, as \
          in the US DOE sourcebook's test, and for {max_min:.0} min at most, what a stop of production \
          usually allows: our judgement)"
     );
@@ -490,8 +523,8 @@ pub fn longer_fall_advice(
         ),
         None => format!(
             "no longer fall that a technician can time (to about half the start's gauge pressure, \
-             {max_min:.0} min at most) would read closer at this leak rate: read the result as an \
-             upper bound, about {:.0} % high {basis}",
+             {max_min:.0} min at most) would read closer at this leak rate: the flow as read stays an \
+             upper bound, about {:.0} % high, and the flow corrected for it the estimate {basis}",
             100.0 * iso.overstatement
         ),
     }
@@ -635,19 +668,28 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             let (v, src) = volume("volume_m3", *volume_m3, ctx.storage, units)?;
             let t_air = air_temperature(*air_temperature_c, units)?;
             let r = leaks::bleed_down(Volume(v), p1, p2, *duration_s, op, t_air, site)?;
-            let q = r.leak_flow_at_operating_pressure.m3_min();
+            // The flow as read takes the stored air at one temperature: an upper bound, as the air
+            // that stays behind cools. The estimate is that reading corrected by the estimated
+            // overstatement (at most the fall's adiabatic limit), the conservative side for the
+            // savings it carries; the likely range runs from it, less the instruments'
+            // uncertainty, to the reading, plus it.
+            let read = r.leak_flow_at_operating_pressure.m3_min();
+            let iso = r.isothermal;
+            let q = read / (1.0 + iso.overstatement);
             let dp_rel = std::f64::consts::SQRT_2 * acc.pressure_abs_bar()
                 / (start_pressure_bar_g - end_pressure_bar_g);
-            let (lo, hi) = band(q, quad(&[acc.volume_rel, dp_rel]));
-            let iso = r.isothermal;
+            let u = quad(&[acc.volume_rel, dp_rel]);
+            let (lo, hi) = (q * (1.0 - u).max(0.0), read * (1.0 + u));
             let warnings = if iso.too_fast {
                 vec![format!(
                     "test too short to be near isothermal: over {:.0} s the stored air cools as it \
                      expands (thermal time constant about {:.0} s for this volume), so the leak flow \
-                     may be overstated by about {:.0} %; {}",
+                     as read is overstated by about {:.0} %{}; the estimate is the flow corrected for \
+                     it, the flow as read an upper bound; {}",
                     duration_s,
                     iso.thermal_time_constant_s,
                     100.0 * iso.overstatement,
+                    adiabatic_cap_words(&iso, *start_pressure_bar_g, *end_pressure_bar_g, units),
                     longer_fall_advice(p1, p2, *duration_s, &iso, atm, units)
                 )]
             } else {
@@ -655,7 +697,7 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             };
             Ok(FieldTestResult::BleedDown(BleedDownOutcome {
                 mean_leak_flow_m3_min: r.mean_leak_flow.m3_min(),
-                leak_flow_at_operating_pressure_m3_min: q,
+                leak_flow_at_operating_pressure_m3_min: read,
                 doe_rule_of_thumb_flow_m3_min: r.doe_rule_of_thumb_flow.m3_min(),
                 leak_flow_m3_min: q,
                 leak_flow_m3_min_low: lo,

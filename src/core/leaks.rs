@@ -10,7 +10,8 @@ mean flow is scaled to the operating pressure by p_operating,abs / p_log-mean,ab
 the start and end pressures, [`log_mean_pressure`]) rather than by the DOE's fixed 1.25 or the
 arithmetic mean. The assumptions: the stored air keeps one temperature (the inlet's, or the
 `air_temperature_c` given, [`stored_air_factor`]) through the test (isothermal: slow tests; a fast
-one is flagged by [`non_isothermal_overstatement`]), and the leaks stay choked (upstream above about
+one is flagged by [`non_isothermal_overstatement`], its overstatement never above the fall's
+adiabatic limit, [`adiabatic_overstatement`], so the isothermal reading is an upper bound), and the leaks stay choked (upstream above about
 1.9 times the atmosphere, i.e. above about 0.9 bar(g) at sea level).
 
 Safety: a bleed-down or decay test means isolating compressors and holding a pressurised system; see
@@ -124,10 +125,38 @@ pub const ISOTHERMAL_WARNING_FRACTION: f64 = 0.05;
 pub struct IsothermalCheck {
     /// Thermal time constant of the stored air, m c_p / (h A), s.
     pub thermal_time_constant_s: f64,
-    /// Estimated overstatement of the leak flow, a fraction (0.05 = 5 %).
+    /// Estimated overstatement of the leak flow, a fraction (0.05 = 5 %): the first-order rule,
+    /// never above `adiabatic_limit`.
     pub overstatement: f64,
+    /// The most this fall can overstate ([`adiabatic_overstatement`]).
+    pub adiabatic_limit: f64,
     /// The overstatement is above [`ISOTHERMAL_WARNING_FRACTION`].
     pub too_fast: bool,
+}
+
+impl IsothermalCheck {
+    /// The first-order rule reached the adiabatic limit: the fall was about as fast as the air
+    /// could cool, and the overstatement is that limit.
+    pub fn at_adiabatic_limit(&self) -> bool {
+        self.overstatement >= self.adiabatic_limit * (1.0 - 1e-12)
+    }
+}
+
+/// The most a bleed-down from `p_start` to `p_end` (absolute) can overstate the leak: the stored
+/// air gains no heat from the walls, so what stays behind expands isentropically (ideal gas,
+/// p / rho^k constant, k = 1.4: any thermodynamics text; checked against CoolProp's real air in
+/// `tests/reference`). The mass left is m1 (p2 / p1)^(1/k), while the isothermal reading takes it as
+/// m1 p2 / p1, so the reading is (1 - r) / (1 - r^(1/k)) times the mass that left, r = p2 / p1:
+/// the overstatement is that less 1. It tends to k - 1 = 40 % as the fall vanishes and is smaller
+/// for a wider one (36.7 % for 105 -> 85 psig, 30 % for 100 -> 50 psig at sea level). Any heat the
+/// walls give brings the truth between the two readings, so the isothermal result is an upper bound
+/// and the reading corrected by this limit a lower one.
+pub fn adiabatic_overstatement(p_start: PressureAbs, p_end: PressureAbs) -> f64 {
+    let r = p_end.0 / p_start.0;
+    if !(r > 0.0 && r < 1.0 - 1e-9) {
+        return K_AIR - 1.0;
+    }
+    (1.0 - r) / (1.0 - r.powf(1.0 / K_AIR)) - 1.0
 }
 
 /// The rule for a bleed-down too fast to be near isothermal (our first-order model, stated on the
@@ -135,15 +164,17 @@ pub struct IsothermalCheck {
 /// wall does so with the thermal time constant tau_th = m c_p / (h A). After a start-up transient the
 /// air settles at a deficit dT / T = (k - 1) / k × tau_th / tau (tau the decay's time constant), so the
 /// pressure falls by that share more than the mass does: the leak read from the pressure is
-/// overstated by about (k - 1) / k × tau_th / t, capped at k - 1 (a fully adiabatic test, dp / p = k
-/// dm / m). tau_th is estimated for the whole volume as one receiver, a cylinder twice as long as
-/// wide, with m at the start pressure and h = [`VESSEL_HEAT_TRANSFER_W_M2_K`]; pipework exchanges
-/// heat faster, so this is an upper estimate. Flagged when the overstatement exceeds
-/// [`ISOTHERMAL_WARNING_FRACTION`]: for 3 m³ at 7 bar(g) (tau_th about 8 min) a test under about
-/// 45 min.
+/// overstated by about (k - 1) / k × tau_th / t. The rule holds for t well above tau_th; a faster
+/// fall is capped at the fall's adiabatic limit ([`adiabatic_overstatement`]: no heat from the wall
+/// at all), which it can never pass. tau_th is estimated for the whole volume as one receiver, a
+/// cylinder twice as long as wide, with m at the start pressure and h =
+/// [`VESSEL_HEAT_TRANSFER_W_M2_K`]; pipework exchanges heat faster, so this is an upper estimate.
+/// Flagged when the overstatement exceeds [`ISOTHERMAL_WARNING_FRACTION`]: for 3 m³ at 7 bar(g)
+/// (tau_th about 8 min) a test under about 45 min.
 pub fn non_isothermal_overstatement(
     volume: Volume,
     p_start: PressureAbs,
+    p_end: PressureAbs,
     duration_s: f64,
     air_temperature: Temperature,
 ) -> IsothermalCheck {
@@ -153,10 +184,12 @@ pub fn non_isothermal_overstatement(
     let mass = p_start.0 * volume.0 / (R_AIR * air_temperature.0);
     let cp = K_AIR / (K_AIR - 1.0) * R_AIR;
     let tau_th = mass * cp / (VESSEL_HEAT_TRANSFER_W_M2_K * area);
-    let overstatement = ((K_AIR - 1.0) / K_AIR * tau_th / duration_s).min(K_AIR - 1.0);
+    let limit = adiabatic_overstatement(p_start, p_end);
+    let overstatement = ((K_AIR - 1.0) / K_AIR * tau_th / duration_s).min(limit);
     IsothermalCheck {
         thermal_time_constant_s: tau_th,
         overstatement,
+        adiabatic_limit: limit,
         too_fast: overstatement > ISOTHERMAL_WARNING_FRACTION,
     }
 }
@@ -222,13 +255,15 @@ pub fn longer_fall(
     ]
     .into_iter()
     .min_by(|a, b| a.0.total_cmp(&b.0))?;
-    let overstatement = ((K_AIR - 1.0) / K_AIR * check.thermal_time_constant_s / t).min(K_AIR - 1.0);
+    let end_pressure = PressureAbs(p1 * (-t / tau).exp());
+    let overstatement = ((K_AIR - 1.0) / K_AIR * check.thermal_time_constant_s / t)
+        .min(adiabatic_overstatement(p_start, end_pressure));
     // Worth asking for only when it is longer and reads clearly closer to the truth (by a tenth of
     // the overstatement at least: our judgement, the rule's own precision).
     if !(t > duration_s && overstatement < 0.9 * check.overstatement) {
         return None;
     }
-    Some(LongerFall { duration_s: t, end_pressure: PressureAbs(p1 * (-t / tau).exp()), overstatement, limit })
+    Some(LongerFall { duration_s: t, end_pressure, overstatement, limit })
 }
 
 /// Bleed-down test (DOE sourcebook, leaks fact sheet): with the compressors off and no production,
@@ -284,7 +319,7 @@ pub fn bleed_down(
         doe_rule_of_thumb_flow: FreeAirFlow(raw * DOE_BLEED_DOWN_FACTOR),
         log_mean_pressure: p_lm,
         temperature_factor: k_t,
-        isothermal: non_isothermal_overstatement(volume, p_start, duration_s, t_air),
+        isothermal: non_isothermal_overstatement(volume, p_start, p_end, duration_s, t_air),
     })
 }
 

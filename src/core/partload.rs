@@ -412,7 +412,8 @@ impl PartLoadModel {
                 Part::Words(format!(
                     "{}), band ",
                     if self.storage_assumed {
-                        ", assumed: no system volume on record (common practice)"
+                        ", assumed (common practice): no receiver or other volume on the audit's \
+                         record; a volume given with a field test serves that test only"
                     } else {
                         ""
                     }

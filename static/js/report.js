@@ -129,7 +129,7 @@
   });
   make("chart-leaks", {
     type: "bar",
-    data: { labels: d.leaks.map((l) => l.label.replace(/_/g, " ")), datasets: [
+    data: { labels: d.leaks.map((l) => l.label), datasets: [
       { label: "leak flow at operating pressure", data: d.leaks.map((l) => l.y), backgroundColor: palette[3] },
       { label: "uncertainty range (low to high)", data: d.leaks.map((l) => [l.low, l.high]), backgroundColor: palette[3] + "44" },
     ] },

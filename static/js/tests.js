@@ -12,11 +12,30 @@
   const shown = (kind, v) => toReader(kind, v).toFixed(kind === "gauge_pressure" && data.entry.system === "us" ? 1 : 2);
   const unit = (kind) => data.entry.fields[kind].label;
 
+  // A date-time field holds the site's wall time ("2026-03-15T02:00:00", the zone named in its
+  // label); the API takes RFC 3339 with the offset the site's zone has then.
+  const wallValue = (ms) => { const p = A.wall(ms, tz); return p.year + "-" + p.month + "-" + p.day + "T" + p.hour + ":" + p.minute + ":" + p.second; };
+  function wallToMs(v) {
+    const m = /^(\d{4})-(\d{2})-(\d{2})T(\d{2}):(\d{2})(?::(\d{2}))?/.exec(v);
+    if (!m) return NaN;
+    const asUtc = Date.UTC(+m[1], +m[2] - 1, +m[3], +m[4], +m[5], +(m[6] || 0));
+    let ms = asUtc;
+    // Two steps of "shift by what the zone's clock shows there" find the instant (daylight saving too).
+    for (let i = 0; i < 2; i++) {
+      const p = A.wall(ms, tz);
+      ms += asUtc - Date.UTC(+p.year, +p.month - 1, +p.day, +p.hour, +p.minute, +p.second);
+    }
+    return ms;
+  }
+  const fromApiTime = (s) => { const ms = Date.parse(s); return Number.isNaN(ms) ? s : wallValue(ms); };
+
   function formBody(form) {
     const body = { kind: form.getAttribute("data-test-kind") };
     for (const el of form.elements) {
       if (!el.name || el.value === "") continue;
-      body[el.name] = el.hasAttribute("data-entry") ? A.entry.stored(data.entry, el) : el.type === "number" ? Number(el.value) : el.value;
+      body[el.name] = el.hasAttribute("data-entry") ? A.entry.stored(data.entry, el)
+        : el.type === "number" ? Number(el.value)
+        : el.type === "datetime-local" ? A.isoLocal(wallToMs(el.value), tz) : el.value;
     }
     return body;
   }
@@ -28,6 +47,7 @@
     for (const el of editForm.elements) {
       if (!el.name || edit.input[el.name] === undefined || edit.input[el.name] === null) continue;
       if (el.hasAttribute("data-entry")) A.entry.fill(data.entry, el, edit.input[el.name]);
+      else if (el.type === "datetime-local") el.value = fromApiTime(edit.input[el.name]);
       else el.value = edit.input[el.name];
     }
     editForm.setAttribute("data-test-id", edit.id);
@@ -107,36 +127,53 @@
     } catch (e) { box.replaceChildren(A.el("p", { class: "warn" }, e.message)); }
   })();
 
-  // A chart of pressure and flow to pick a window by two clicks.
+  // A chart of pressure, flow and power to pick a window by two clicks.
   (async function windowChart() {
     const canvas = document.getElementById("chart-window");
     if (!canvas || typeof Chart === "undefined") return;
     const st = document.getElementById("window-status");
-    const chans = (await A.json(base + "/channels")).channels.filter((c) => c.quantity === "pressure" || c.quantity === "flow");
-    if (!chans.length) { st.textContent = "No pressure or flow logged yet."; return; }
+    // Pressure, flow and power, each on its own axis and only when logged; what is not logged is
+    // said in words instead of an empty axis. Every series is drawn to its own end.
+    const kinds = {
+      pressure: { entry: "gauge_pressure", axis: "p", color: "#0f4c5c", f: (v) => (v - data.atmosphere_pa) / 1e5 },
+      flow: { entry: "free_air_flow", axis: "q", color: "#f2a541", f: (v) => v * 60 },
+      power: { axis: "w", color: "#7a3b69", f: (v) => v / 1000 },
+    };
+    const chans = (await A.json(base + "/channels")).channels.filter((c) => kinds[c.quantity]);
+    if (!chans.length) { st.textContent = "No pressure, flow or power logged yet."; return; }
+    const axisTitle = (q) => q === "power" ? "kW" : q === "flow" ? unit("free_air_flow") + " free air" : unit("gauge_pressure");
     const datasets = [];
     for (const c of chans) {
+      const k = kinds[c.quantity];
       const s = await A.json(base + "/series?channel=" + c.id + "&points=600");
-      const atm = data.atmosphere_pa;
-      const f = c.quantity === "pressure" ? (v) => (v - atm) / 1e5 : (v) => v * 60;
-      const what = chans.filter((o) => o.quantity === c.quantity).length > 1 ? c.quantity + " (column \u201c" + c.label + "\u201d)" : c.quantity;
-      datasets.push({ label: c.quantity === "pressure" ? what + ", " + unit("gauge_pressure") : what + ", " + unit("free_air_flow") + " free air",
-        data: s.t_ms.map((t, i) => ({ x: t, y: toReader(c.quantity === "pressure" ? "gauge_pressure" : "free_air_flow", f(s.mean[i])) })), yAxisID: c.quantity === "pressure" ? "p" : "q",
-        pointRadius: 0, borderWidth: 1.2, borderColor: c.quantity === "pressure" ? "#0f4c5c" : "#f2a541" });
+      const same = chans.filter((o) => o.quantity === c.quantity).length > 1;
+      const what = c.compressor_tag ? c.compressor_tag + " power" : same ? c.quantity + " (column \u201c" + c.label + "\u201d)" : c.quantity;
+      const y = (v) => (v === null ? null : k.entry ? toReader(k.entry, k.f(v)) : k.f(v));
+      datasets.push({ label: what + ", " + axisTitle(c.quantity),
+        data: s.t_ms.map((t, i) => ({ x: t, y: y(s.mean[i]) })), yAxisID: k.axis,
+        pointRadius: 0, borderWidth: 1.2, borderColor: k.color });
     }
+    const present = Object.keys(kinds).filter((q) => chans.some((c) => c.quantity === q));
+    const absent = Object.keys(kinds).filter((q) => !present.includes(q));
+    document.getElementById("window-absent").textContent = absent.length
+      ? "Not logged in this audit: " + absent.join(" and ") + "; the chart shows " + present.join(" and ") + "." : "";
+    const scales = {};
+    present.forEach((q, i) => {
+      scales[kinds[q].axis] = { position: i === 0 ? "left" : "right", title: { display: true, text: axisTitle(q) }, grid: { drawOnChartArea: i === 0 } };
+    });
     const xs = datasets.flatMap((d) => d.data.length ? [d.data[0].x, d.data[d.data.length - 1].x] : []);
     let picks = [];
     const chart = new Chart(canvas, {
       type: "line", data: { datasets: datasets },
       options: { animation: false, maintainAspectRatio: false, parsing: false,
         scales: { x: { type: "linear", min: Math.min(...xs), max: Math.max(...xs), ticks: { maxTicksLimit: 7, callback: (v) => A.tick(v, tz) }, title: { display: true, text: "site time, " + tz } },
-          p: { position: "left", title: { display: true, text: unit("gauge_pressure") } }, q: { position: "right", title: { display: true, text: unit("free_air_flow") + " free air" }, grid: { drawOnChartArea: false } } },
+          ...scales },
         onClick: (e) => {
           const t = Math.round(chart.scales.x.getValueForPixel(e.x));
           picks = picks.length >= 2 ? [t] : picks.concat([t]);
           if (picks.length === 2) {
             picks.sort((a, b) => a - b);
-            const [a, b] = picks.map((x) => A.isoLocal(x, tz));
+            const [a, b] = picks.map((x) => wallValue(x));
             for (const form of document.querySelectorAll("form[data-test-kind=idle_flow], form[data-test-kind=pressure_decay]")) {
               form.elements.start.value = a;
               form.elements.end.value = b;

@@ -821,6 +821,8 @@ mod forms;
 mod pages;
 #[path = "browser_report16.rs"]
 mod report16;
+#[path = "browser_tests_page.rs"]
+mod tests_page;
 #[path = "browser_treatment.rs"]
 mod treatment;
 #[path = "browser_upload.rs"]

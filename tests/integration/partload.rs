@@ -118,7 +118,11 @@ fn leaks_are_priced_on_the_storage_on_record_or_on_3_us_gal_per_cfm_said_to_be_a
     let got = sum["leaks"]["marginal_kw_per_m3_min"].as_f64().unwrap();
     let at_3 = got;
     assert!((got - want).abs() / want < 0.03, "marginal {got} vs time-domain slope {want}");
-    assert!(sum["assumptions"].to_string().contains("no system volume on record"), "{}", sum["assumptions"]);
+    assert!(
+        sum["assumptions"].to_string().contains("no receiver or other volume on the audit's record"),
+        "{}",
+        sum["assumptions"]
+    );
 
     // 5 US gal/cfm of C1 posted as a receiver: the price follows the storage on record.
     let v = 5.0 * 3.785_411_784 / 28.316_846_592 * 9.5;

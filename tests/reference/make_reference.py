@@ -333,6 +333,61 @@ for label, volume_m3, p_atm, p1, p2, q_start_m3_min in [
         note="the leak flow at the start (operating) pressure is c x start_pa_abs = leak_at_start_m3_min",
     )
 
+# ---------------------------------------------------------------- leaks.rs: the adiabatic limit of a bleed-down
+# A fall too fast for the walls to warm the air: the vessel gains no heat. Two independent readings of how
+# much the isothermal formula, V (p1 - p2) / (R T1), then overstates the mass that left:
+# 1. ideal gas (R = 287, k = 1.4): the vessel's energy balance d(m cv T) = cp T dm (the outflow carries its
+#    enthalpy) with a choked leak (mass flow proportional to p / sqrt(T)), integrated with scipy solve_ivp
+#    until the pressure reaches p2; no closed form used;
+# 2. real air (CoolProp): the air left behind expands isentropically, so the mass left is V rho(p2, s1) against
+#    V rho(p2, T1) for the isothermal reading.
+def adiabatic_bleed_down_overstatement(p1, p2, t1, volume_m3=1.0):
+    c_leak = 1e-6  # kg/s per Pa/sqrt(K): any value, the ratio does not depend on it
+
+    def rhs(_t, y):
+        m, t = y
+        p = m * R_AIR * t / volume_m3
+        dm = -c_leak * p / math.sqrt(t)
+        return [dm, (K_AIR - 1.0) * t * dm / m]
+
+    def reach_end(_t, y):
+        return y[0] * R_AIR * y[1] / volume_m3 - p2
+
+    reach_end.terminal = True
+    reach_end.direction = -1
+    m1 = p1 * volume_m3 / (R_AIR * t1)
+    sol = solve_ivp(rhs, (0.0, 1e9), [m1, t1], method="RK45", rtol=1e-12, atol=1e-14, events=reach_end)
+    m_end = float(sol.y_events[0][0][0])
+    return (p1 - p2) * volume_m3 / (R_AIR * t1) / (m1 - m_end) - 1.0
+
+
+for label, p_atm, p1_g, p2_g in [
+    # The walk's case: 105 -> 85 psig at 14.696 psia; the API's example 7 -> 5.5 bar(g); the DOE's 100 -> 50 psig.
+    ("105_85_psig", 14.696 * psi_pa, 105.0 * psi_pa, 85.0 * psi_pa),
+    ("7_5_5_bar_g", P_ATM, 7.0e5, 5.5e5),
+    ("100_50_psig", 14.7 * psi_pa, 100.0 * psi_pa, 50.0 * psi_pa),
+]:
+    p1, p2, t1 = p1_g + p_atm, p2_g + p_atm, 293.15
+    inputs = {"start_pa_abs": p1, "end_pa_abs": p2, "t1_k": t1}
+    put(
+        f"leaks.adiabatic_overstatement_{label}",
+        adiabatic_bleed_down_overstatement(p1, p2, t1),
+        "1",
+        f"scipy {scipy.__version__} solve_ivp (RK45, rtol 1e-12) of an adiabatic vessel, d(m cv T) = cp T dm, "
+        "choked leak; ideal gas R = 287, k = 1.4",
+        inputs,
+    )
+    d1 = PropsSI("D", "P", p1, "T", t1, "Air")
+    s1 = PropsSI("S", "P", p1, "T", t1, "Air")
+    put(
+        f"leaks.adiabatic_overstatement_real_air_{label}",
+        (d1 - PropsSI("D", "P", p2, "T", t1, "Air")) / (d1 - PropsSI("D", "P", p2, "S", s1, "Air")) - 1.0,
+        "1",
+        f"{COOLPROP} PropsSI('D', ...) of real air: isentropic rho(p2, s1) against isothermal rho(p2, T1)",
+        inputs,
+        note="real air (pseudo-pure fluid): its heat capacities differ from the ideal gas's k = 1.4 by a few per cent",
+    )
+
 # ---------------------------------------------------------------- leaks.rs: idle flow to production pressure
 # Non-production flow is leaks through orifices; at another header pressure a choked orifice passes a
 # mass flow proportional to its absolute upstream pressure. fluids' API 520 gas sizing (ideal nozzle,

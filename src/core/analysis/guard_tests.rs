@@ -38,6 +38,7 @@ fn run(s: &SiteSpec, cs: &[CompressorSpec], frame: &Frame) -> Summary {
             method: "bleed_down".into(),
             leak_flow_m3_min: 1.0,
             relative_uncertainty: None,
+            range_m3_min: None,
             warnings: vec![],
         }],
         costs: &costs,
@@ -344,6 +345,7 @@ fn a_leak_flow_above_the_mean_demand_is_no_share_of_it() {
         method: "bleed_down".into(),
         leak_flow_m3_min: q,
         relative_uncertainty: None,
+        range_m3_min: None,
         warnings: vec![],
     };
     // 1.5 m³/min is a share: 1.5 / 5.8095 = 25.8 %.

@@ -78,8 +78,10 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
     let mut estimates: Vec<LeakEstimateFigure> = leak_estimates
         .iter()
         .map(|e| {
-            let rel = estimate_rel(e, acc);
-            let (lo, hi) = band(e.leak_flow_m3_min, rel);
+            let (lo, hi) = e
+                .range_m3_min
+                .filter(|(lo, hi)| lo.is_finite() && hi.is_finite() && lo <= hi)
+                .unwrap_or_else(|| band(e.leak_flow_m3_min, estimate_rel(e, acc)));
             LeakEstimateFigure {
                 test_id: Some(e.test_id),
                 method: e.method.clone(),

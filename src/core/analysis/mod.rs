@@ -97,6 +97,11 @@ pub struct LeakEstimate {
     /// (`uncertainty::default_relative_uncertainty`).
     #[serde(default)]
     pub relative_uncertainty: Option<f64>,
+    /// Its likely range as the test was evaluated, m³/min (a bleed-down's runs from the flow
+    /// corrected for the air's cooling to the flow as read, each widened by the instruments);
+    /// `None`: the flow ± its relative uncertainty.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub range_m3_min: Option<(f64, f64)>,
     /// What its evaluation warned of (a bleed-down too fast to be near isothermal), repeated in the
     /// summary's `warnings`.
     #[serde(default)]

@@ -153,6 +153,7 @@ fn a_leak_estimate_keeps_the_uncertainty_and_warnings_its_test_was_evaluated_wit
         method: "load_unload".into(),
         leak_flow_m3_min: 1.0,
         relative_uncertainty: Some(0.07),
+        range_m3_min: None,
         warnings: vec!["test too short to be near isothermal".into()],
     };
     let r = run(&s, &cs, &frame, vec![est]);

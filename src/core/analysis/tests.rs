@@ -107,6 +107,7 @@ fn a_summary_reads_back_from_its_json_with_the_same_names_and_spellings() {
             method: "bleed_down".into(),
             leak_flow_m3_min: 1.5,
             relative_uncertainty: None,
+            range_m3_min: None,
             warnings: vec![],
         }],
     );
@@ -319,6 +320,7 @@ fn a_logged_week_is_profiled_by_weekday_and_hour_and_annualised_over_52_weeks() 
             method: "bleed_down".into(),
             leak_flow_m3_min: 1.5,
             relative_uncertainty: None,
+            range_m3_min: None,
             warnings: vec![],
         }],
     );
@@ -486,6 +488,7 @@ fn marginal_power_is_the_trim_machine_not_the_plant_average() {
             method: "load_unload".into(),
             leak_flow_m3_min: 1.2,
             relative_uncertainty: None,
+            range_m3_min: None,
             warnings: vec![],
         }],
     );
@@ -664,6 +667,7 @@ fn leaks_are_priced_on_the_trims_curve_at_its_storage_as_a_time_domain_cycle_giv
             method: "load_unload".into(),
             leak_flow_m3_min: 1.2,
             relative_uncertainty: None,
+            range_m3_min: None,
             warnings: vec![],
         }],
     );

@@ -422,7 +422,12 @@ fn part_load_note(m: &PartLoadModel, fmt: &Fmt) -> String {
         parts.push(format!(
             "storage {} ({per} of trim capacity{}), band {} ({}), sump blow-down from {} of full power over τ = {} s ({})",
             fmt.volume_m3(v),
-            if m.storage_assumed { ", assumed: no system volume on record, common practice" } else { "" },
+            if m.storage_assumed {
+                ", assumed, common practice: no receiver or other volume on the audit's record; a volume \
+                 given with a field test serves that test only"
+            } else {
+                ""
+            },
             fmt.pressure_delta_bar(m.pressure_band_bar.unwrap_or(f64::NAN)),
             from(&m.pressure_band_source),
             fmt.percent(m.blowdown_start_fraction.unwrap_or(f64::NAN)),
@@ -983,7 +988,7 @@ fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary, logged: &[(i64, i64)]) -
         .iter()
         .map(|e| {
             serde_json::json!({
-                "label": e.method, "y": e.leak_flow_m3_min * flow_k,
+                "label": super::words::leak_estimate_label(e), "y": e.leak_flow_m3_min * flow_k,
                 "low": e.leak_flow_m3_min_low * flow_k, "high": e.leak_flow_m3_min_high * flow_k})
         })
         .collect();

@@ -4,13 +4,24 @@
 use super::{nan, range, withheld, LeakRow, NOT_ENOUGH_DATA};
 use crate::core::analysis::Summary;
 use crate::core::display::{num, Fmt};
-use crate::core::model::human_label;
 use crate::core::units::PressureAbs;
+
+/// The leak flow adopted, with its likely range, and the rule it was adopted by ("the median of
+/// the accepted field tests"), in the reader's units; the rule alone when no flow is adopted.
+fn adopted_leak(sm: &Summary, fmt: &Fmt) -> String {
+    let l = &sm.leaks;
+    let Some(q) = l.adopted_leak_flow_m3_min else { return l.adopted_rule.clone() };
+    let likely = match (l.adopted_leak_flow_m3_min_low, l.adopted_leak_flow_m3_min_high) {
+        (Some(lo), Some(hi)) => format!(" (likely {} to {})", fmt.flow_m3_min(lo), fmt.flow_m3_min(hi)),
+        _ => String::new(),
+    };
+    format!("Leak flow adopted: {}{likely}, the {}", fmt.flow_m3_min(q), l.adopted_rule)
+}
 
 /// How the leak figure was adopted, and the non-production flow's corrections in the reader's units.
 pub(super) fn leak_note(sm: &Summary, fmt: &Fmt) -> String {
     let l = &sm.leaks;
-    let Some(np) = &l.non_production else { return l.adopted_rule.clone() };
+    let Some(np) = &l.non_production else { return adopted_leak(sm, fmt) };
     let pressure = match (np.mean_pressure_bar_g, np.production_pressure_bar_g, np.pressure_corrected) {
         (Some(a), Some(b), true) => format!(
             ", scaled from {} out of production to {} in it (choked leak flow ∝ absolute pressure)",
@@ -21,7 +32,7 @@ pub(super) fn leak_note(sm: &Summary, fmt: &Fmt) -> String {
     };
     format!(
         "{}. Non-production flow: {} logged, less {} of purge and drains on record{}: {} of leaks.",
-        l.adopted_rule,
+        adopted_leak(sm, fmt),
         fmt.flow_m3_min(np.mean_flow_m3_min),
         fmt.flow_m3_min(np.purge_and_drains_m3_min),
         pressure,
@@ -59,10 +70,7 @@ pub(super) fn leak_rows(sm: &Summary, fmt: &Fmt) -> Vec<LeakRow> {
         .estimates
         .iter()
         .map(|e| LeakRow {
-            method: match e.test_id {
-                Some(id) => format!("{} (test {id})", human_label(&e.method)),
-                None => human_label(&e.method),
-            },
+            method: super::super::words::leak_estimate_label(e),
             flow: range(
                 |x| fmt.flow_m3_min(x),
                 e.leak_flow_m3_min,

@@ -1,0 +1,103 @@
+//! Issue 16 on the field-tests page, in the browser: the window chart of an audit that logged flow
+//! and power but no pressure draws both to their ends and says in words that pressure is not
+//! logged (no empty pressure axis); the idle-flow window is typed as a date and time on the site's
+//! clock (the zone named), and the API still receives RFC 3339 with the site's offset.
+
+use super::*;
+
+/// 2 h from 2026-05-04T08:00Z (03:00 CDT in Chicago, UTC-5 in May: IANA tz database), every 10 s:
+/// C1's power all along, the flow only for the first 90 min (its cells blank after), no pressure.
+fn flow_and_power_csv() -> String {
+    let start = 1_777_881_600i64;
+    let mut s = String::from("time,C1 kW,flow m3/min\n");
+    for i in 0..720i64 {
+        let loaded = (i % 20) < 4;
+        let flow = if i < 540 { format!("{:.2}", if loaded { 9.5 } else { 1.9 }) } else { String::new() };
+        s.push_str(&format!(
+            "{},{},{flow}\n",
+            jiff_like_rfc3339(start + i * 10),
+            if loaded { 56.0 } else { 14.0 }
+        ));
+    }
+    s
+}
+
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn the_window_chart_draws_what_is_logged_and_the_idle_window_is_typed_on_the_sites_clock() {
+    let s = Server::start();
+    let r = s.post_json(
+        "/api/v1/audits",
+        &json!({"name": "no pressure", "site": {"altitude_m": 0, "display_units": "us", "timezone": "America/Chicago"}}),
+    );
+    let id = r.json()["id"].as_i64().unwrap();
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/compressors"),
+        &json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+                "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let mapping = json!({"delimiter": ",", "decimal": ".", "header_line": 1,
+        "timestamp": {"column": "time", "format": "rfc3339", "timezone": "UTC"},
+        "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"},
+                    {"column": "flow m3/min", "quantity": "flow", "unit": "m3_min"}]});
+    let r = s.upload(id, "plant.csv", flow_and_power_csv().as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let b = Browser::start();
+    b.goto(&s.url(&format!("/audits/{id}/tests")));
+    let drawn = wait_until(Duration::from_secs(20), || {
+        b.js("const c = Chart.getChart(document.getElementById('chart-window')); return !!c", json!([]))
+            == true
+    });
+    assert!(drawn, "no window chart");
+    // Two series, flow and C1's power; no pressure axis; the x axis reaches the power's last
+    // reading (09:59:50Z), not the flow's (09:29:50Z).
+    let chart = b.js(
+        "const c = Chart.getChart(document.getElementById('chart-window'));
+         return {labels: c.data.datasets.map((d) => d.label), axes: Object.keys(c.options.scales),
+                 max: c.options.scales.x.max,
+                 last: c.data.datasets.map((d) => d.data[d.data.length - 1].x)};",
+        json!([]),
+    );
+    let labels: Vec<&str> = chart["labels"].as_array().unwrap().iter().map(|v| v.as_str().unwrap()).collect();
+    assert_eq!(labels.len(), 2, "{chart}");
+    assert!(
+        labels.iter().any(|l| l.starts_with("C1 power")) && labels.iter().any(|l| l.starts_with("flow")),
+        "{chart}"
+    );
+    assert!(!chart["axes"].as_array().unwrap().iter().any(|a| a == "p"), "an empty pressure axis: {chart}");
+    let power_end = (1_777_881_600i64 + 7_190) * 1000;
+    assert!(chart["max"].as_f64().unwrap() >= (power_end - 600_000) as f64, "the chart stops early: {chart}");
+    let note = b.js_str("return document.getElementById('window-absent').textContent");
+    assert_eq!(note, "Not logged in this audit: pressure; the chart shows flow and power.");
+
+    // The idle-flow window on the site's clock: 03:10 to 03:40 CDT is 08:10Z to 08:40Z.
+    let label = b.js_str("return document.querySelector('form[data-test-kind=idle_flow] input[name=start]').closest('label').textContent");
+    assert!(label.contains("America/Chicago"), "{label}");
+    b.js(
+        "const f = document.querySelector('form[data-test-kind=idle_flow]');
+         if (f.elements.start.type !== 'datetime-local') throw new Error('not a date-time input');
+         f.elements.start.value = '2026-05-04T03:10:00'; f.elements.end.value = '2026-05-04T03:40:00';
+         f.requestSubmit();",
+        json!([]),
+    );
+    let recorded = wait_until(Duration::from_secs(20), || {
+        !s.get(&format!("/api/v1/audits/{id}")).json()["field_tests"].as_array().unwrap().is_empty()
+    });
+    assert!(
+        recorded,
+        "not recorded: {}",
+        b.js_str("return document.getElementById('test-status').textContent")
+    );
+    let t = s.get(&format!("/api/v1/audits/{id}")).json()["field_tests"][0].clone();
+    assert_eq!(t["input"]["start"], "2026-05-04T03:10:00-05:00", "{t}");
+    assert_eq!(t["input"]["end"], "2026-05-04T03:40:00-05:00", "{t}");
+    assert!(t["result"]["leak_flow_m3_min"].as_f64().is_some_and(|q| q > 0.0), "{t}");
+    // Opened to edit, the fields show the site's clock again (the browser drops zero seconds).
+    b.goto(&s.url(&format!("/audits/{id}/tests?edit={}", t["id"])));
+    let shown = b.js_str("const f = document.querySelector('form[data-test-kind=idle_flow]'); return f.elements.start.value + ' ' + f.elements.end.value");
+    assert_eq!(shown, "2026-05-04T03:10 2026-05-04T03:40");
+}
