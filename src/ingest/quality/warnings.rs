@@ -21,17 +21,10 @@ fn num(v: f64) -> String {
     }
 }
 
-/// A duration for people: s, min, h or days.
+/// A duration for people: "45 s", "15 min", "9 h 40 min", "3 days 4 h"
+/// ([`crate::core::display::duration_words`]).
 pub fn human_duration(s: f64) -> String {
-    if s < 120.0 {
-        format!("{} s", num(s))
-    } else if s < 7200.0 {
-        format!("{} min", num(s / 60.0))
-    } else if s < 172_800.0 {
-        format!("{} h", num(s / 3600.0))
-    } else {
-        format!("{} days", num(s / 86_400.0))
-    }
+    crate::core::display::duration_words(s)
 }
 
 /// A unit as the mapping spells it (`bar_g`), as people write it (`bar(g)`).
