@@ -366,14 +366,16 @@
     add("Rows", A.count(r.rows || 0));
     add("Readings", A.count(r.readings || 0));
     const at = (t) => { const ms = Date.parse(t); return isNaN(ms) ? t : A.localTime(ms, tz); };
-    if (r.first) add("From", at(r.first));
-    if (r.last) add("To", at(r.last));
-    if (r.interval_s) add("Interval", r.interval_s + " s");
+    // Times and the interval as the server words them (the zone's abbreviation, as the file
+    // table and preview show it; "15 min"), else formatted here.
+    if (r.first) add("From", r.first_local || at(r.first));
+    if (r.last) add("To", r.last_local || at(r.last));
+    if (r.interval_s) add("Interval", r.interval_words || r.interval_s + " s");
     box.append(dl);
     if (r.channels && r.channels.length) {
       const t = A.el("table", { class: "data" }, A.el("thead", {}, A.el("tr", {}, A.el("th", {}, "Channel"), A.el("th", {}, "Quantity"), A.el("th", {}, "Readings"), A.el("th", {}, "From (site time, " + tz + ")"), A.el("th", {}, "To"))));
       const tb = A.el("tbody");
-      for (const c of r.channels) tb.append(A.el("tr", {}, A.el("td", {}, c.compressor ? c.compressor + " (" + c.label + ")" : c.label), A.el("td", {}, c.quantity), A.el("td", { class: "num" }, A.count(c.readings)), A.el("td", {}, at(c.first)), A.el("td", {}, at(c.last))));
+      for (const c of r.channels) tb.append(A.el("tr", {}, A.el("td", {}, c.compressor ? c.compressor + " (" + c.label + ")" : c.label), A.el("td", {}, c.quantity), A.el("td", { class: "num" }, A.count(c.readings)), A.el("td", {}, c.first_local || at(c.first)), A.el("td", {}, c.last_local || at(c.last))));
       t.append(tb);
       box.append(t);
     }

@@ -61,7 +61,7 @@ pub(super) fn reading_part(quantity: Quantity, si: f64, atmosphere_pa: f64) -> P
         Quantity::Pressure => text::bar_g((si - atmosphere_pa) / crate::core::units::PA_PER_BAR),
         Quantity::Flow => text::flow(si * 60.0),
         Quantity::Temperature => text::temperature_c(si - crate::core::units::T_ZERO_C),
-        Quantity::Power => format!("{} kW", crate::core::display::num(si / 1000.0, 1)).into(),
+        Quantity::Power => crate::core::display::power_words(si).into(),
         Quantity::Energy => format!("{} kWh", crate::core::display::num(si / 3.6e6, 1)).into(),
     }
 }
