@@ -133,7 +133,14 @@
     tsTime.replaceChildren(option("", "(none)"), ...sniffed.header.map((h) => option(h, h, h === m.timestamp.time_column)));
     $("m-ts-format").value = m.timestamp.format;
     // The logger's clock keeps the site's zone unless the mapping (or a remembered one) says otherwise.
-    $("m-ts-zone").value = m.timestamp.timezone && m.timestamp.timezone !== "UTC" ? m.timestamp.timezone : tz;
+    // A column whose name says UTC keeps UTC, and the note says why.
+    const named = sniffed.timestamp && sniffed.timestamp.timezone;
+    const zone = m.timestamp.timezone && (m.timestamp.timezone !== "UTC" || named === "UTC") ? m.timestamp.timezone : tz;
+    $("m-ts-zone").value = zone;
+    $("zone-note").textContent = named && named === zone && zone !== tz
+      ? "The timestamp column\u2019s name \u201c" + m.timestamp.column + "\u201d says " + named + ", so the logger clock is read in " + named + " rather than the site\u2019s " + tz + "."
+      : "";
+    $("zone-note").hidden = !$("zone-note").textContent;
     $("m-interval").value = m.timestamp.interval || "";
     $("m-offset").value = m.clock_offset_s || 0;
     $("dayfirst").classList.toggle("hidden", !sniffed.day_first_ambiguous);
