@@ -24,6 +24,8 @@ mod hostile_store;
 mod hostile_validation;
 #[path = "integration/hostile_web.rs"]
 mod hostile_web;
+#[path = "integration/import_words.rs"]
+mod import_words;
 #[path = "integration/ingest.rs"]
 mod ingest;
 #[path = "integration/measures16.rs"]

@@ -66,6 +66,55 @@ pub fn num(v: f64, decimals: usize) -> String {
     }
 }
 
+/// A duration in words, whole units as people say them: "45 s", "0.5 s", "15 min",
+/// "1 min 30 s", "9 h 40 min", "3 days 4 h". Below a minute it stays in seconds (to three
+/// significant figures); from a minute it is rounded to the whole second, from an hour to the
+/// whole minute, from two days to the whole hour, and a zero second part is left out.
+pub fn duration_words(s: f64) -> String {
+    if !s.is_finite() {
+        return "–".into();
+    }
+    let pair = |big: i64, big_unit: &str, small: i64, small_unit: &str| {
+        if small == 0 {
+            format!("{big} {big_unit}")
+        } else {
+            format!("{big} {big_unit} {small} {small_unit}")
+        }
+    };
+    if s < 60.0 {
+        let d = if s >= 10.0 { 0 } else { 2 };
+        let t = format!("{s:.d$}");
+        let t = if t.contains('.') { t.trim_end_matches('0').trim_end_matches('.').to_string() } else { t };
+        return format!("{t} s");
+    }
+    if s < 3600.0 {
+        let secs = s.round() as i64;
+        if secs < 3600 {
+            return pair(secs / 60, "min", secs % 60, "s");
+        }
+    }
+    if s < 172_800.0 {
+        let mins = (s / 60.0).round() as i64;
+        if mins < 2880 {
+            return pair(mins / 60, "h", mins % 60, "min");
+        }
+    }
+    let hours = (s / 3600.0).round() as i64;
+    pair(hours / 24, "days", hours % 24, "h")
+}
+
+/// A power for a sentence, its digits grouped: kW to one decimal, MW (to three significant
+/// figures, grouped) from 10,000 kW, where a figure in kW is too long to read.
+pub fn power_words(w: f64) -> String {
+    let kw = w / 1000.0;
+    if kw.abs() >= 10_000.0 {
+        let mw = kw / 1000.0;
+        format!("{} MW", num(mw, sig(mw)))
+    } else {
+        format!("{} kW", num(kw, 1))
+    }
+}
+
 /// One unit for a column of energies, so that a column never mixes kWh and MWh: the unit
 /// [`Fmt::energy_kwh`] would give the column's largest value.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -437,6 +486,34 @@ pub fn local_ms_seconds(ms: i64, tz: &str) -> String {
 
 #[cfg(test)]
 mod tests {
+    #[test]
+    fn durations_are_said_in_whole_units_as_people_say_them() {
+        use super::duration_words as d;
+        // 9.66667 h is 9 h 40 min (0.66667 x 60 = 40); 900 s is 15 min; 34,800 s is 9 h 40 min.
+        assert_eq!(d(9.666_67 * 3600.0), "9 h 40 min");
+        assert_eq!(d(34_800.0), "9 h 40 min");
+        assert_eq!(d(900.0), "15 min");
+        assert_eq!(d(60.0), "1 min");
+        assert_eq!(d(90.0), "1 min 30 s");
+        assert_eq!(d(7200.0), "2 h");
+        assert_eq!(d(45.0), "45 s");
+        assert_eq!(d(1.0), "1 s");
+        assert_eq!(d(0.5), "0.5 s");
+        // Rounding never says "60 min" or "24 h": 3599.6 s is 1 h, 2 days less 10 s is 2 days.
+        assert_eq!(d(3599.6), "1 h");
+        assert_eq!(d(172_790.0), "2 days");
+        assert_eq!(d(3.0 * 86_400.0 + 4.0 * 3600.0), "3 days 4 h");
+    }
+
+    #[test]
+    fn a_large_power_is_grouped_and_said_in_mw() {
+        use super::power_words as p;
+        assert_eq!(p(78_899_000.0 * 1000.0), "78,899 MW");
+        assert_eq!(p(12_345_000.0), "12.3 MW");
+        assert_eq!(p(9_876_500.0), "9,876.5 kW");
+        assert_eq!(p(75_000.0), "75.0 kW");
+    }
+
     use super::*;
 
     #[test]

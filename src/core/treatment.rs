@@ -510,10 +510,10 @@ impl EndUse {
                 take(&mut errs, positive(self.pressure_bar_g.unwrap_or(f64::NAN), "pressure_bar_g"));
             }
             (Some(_), Some(_)) => {
-                errs.push(TreatmentError::new("flow_m3_min", "give flow_m3_min or orifice_mm, not both"))
+                errs.push(TreatmentError::new("flow_m3_min", "give a flow per use or an opening, not both"))
             }
             (None, None) => errs
-                .push(TreatmentError::new("flow_m3_min", "give the air per use: flow_m3_min or orifice_mm")),
+                .push(TreatmentError::new("flow_m3_min", "give a flow per use while running or an opening")),
         }
         if let Some(p) = self.pressure_bar_g.filter(|_| !by_orifice) {
             take(&mut errs, non_negative(p, "pressure_bar_g"));

@@ -109,6 +109,29 @@ fn cycling_refrigerated_dryer_follows_the_load() {
 }
 
 #[test]
+fn an_end_use_without_its_air_or_with_both_is_refused_in_the_forms_words() {
+    let use_ = |flow: Option<f64>, orifice: Option<f64>| EndUse {
+        name: "blow-off".into(),
+        kind: EndUseKind::OpenBlowing,
+        count: 1,
+        flow_m3_min: flow,
+        orifice_mm: orifice,
+        pressure_bar_g: Some(6.0),
+        duty: 0.5,
+        regulated: false,
+        alternative_kw: None,
+    };
+    for (flow, orifice, words) in [
+        (None, None, "give a flow per use while running or an opening"),
+        (Some(0.2), Some(2.0), "give a flow per use or an opening, not both"),
+    ] {
+        let e = use_(flow, orifice).validate().unwrap_err();
+        assert_eq!((e.field, e.message.as_str()), ("flow_m3_min", words));
+        assert!(!e.message.contains('_'), "an internal field name: {}", e.message);
+    }
+}
+
+#[test]
 fn end_uses_by_orifice_and_by_rated_flow() {
     let site = us_site();
     // Four 1/16 in nozzles at 100 psig, blowing half the time: the orifice table's 6.502 cfm each

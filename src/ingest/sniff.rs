@@ -69,7 +69,8 @@ pub struct TimestampGuess {
     pub timezone: Option<String>,
 }
 
-/// The zone a timestamp column's name states: `utc`/`gmt` as a word is UTC; `CET`, `CEST`, `MEZ`,
+/// The zone a timestamp column's name states: `utc`/`gmt` as a word, or `utc` run together with a
+/// word at either end (`TimeUTC`, `utc_time`), is UTC; `CET`, `CEST`, `MEZ`,
 /// `MESZ` (central European time with its summer time) is read as `Europe/Berlin`, whose rules
 /// every central European zone has followed since 1980.
 fn zone_in_name(name: &str) -> Option<String> {
@@ -79,12 +80,28 @@ fn zone_in_name(name: &str) -> Option<String> {
         .map(|w| w.to_ascii_lowercase())
         .collect();
     let has = |w: &str| words.iter().any(|x| x == w);
-    if has("utc") || has("gmt") {
+    if has("gmt") || words.iter().any(|w| w.starts_with("utc") || w.ends_with("utc")) {
         Some("UTC".into())
     } else if has("cet") || has("cest") || has("mez") || has("mesz") {
         Some("Europe/Berlin".into())
     } else {
         None
+    }
+}
+
+#[cfg(test)]
+mod zone_name_tests {
+    use super::zone_in_name;
+
+    #[test]
+    fn a_time_columns_name_saying_utc_in_any_case_states_utc() {
+        for name in ["Time (UTC)", "timestamp_utc", "TimeUTC", "UtcTime", "Date/Time [utc]", "GMT"] {
+            assert_eq!(zone_in_name(name).as_deref(), Some("UTC"), "{name}");
+        }
+        assert_eq!(zone_in_name("Zeit (MEZ/MESZ)").as_deref(), Some("Europe/Berlin"));
+        // "utc" inside a longer word is not a zone.
+        assert_eq!(zone_in_name("Outcome time"), None);
+        assert_eq!(zone_in_name("Timestamp"), None);
     }
 }
 

@@ -133,7 +133,14 @@
     tsTime.replaceChildren(option("", "(none)"), ...sniffed.header.map((h) => option(h, h, h === m.timestamp.time_column)));
     $("m-ts-format").value = m.timestamp.format;
     // The logger's clock keeps the site's zone unless the mapping (or a remembered one) says otherwise.
-    $("m-ts-zone").value = m.timestamp.timezone && m.timestamp.timezone !== "UTC" ? m.timestamp.timezone : tz;
+    // A column whose name says UTC keeps UTC, and the note says why.
+    const named = sniffed.timestamp && sniffed.timestamp.timezone;
+    const zone = m.timestamp.timezone && (m.timestamp.timezone !== "UTC" || named === "UTC") ? m.timestamp.timezone : tz;
+    $("m-ts-zone").value = zone;
+    $("zone-note").textContent = named && named === zone && zone !== tz
+      ? "The timestamp column\u2019s name \u201c" + m.timestamp.column + "\u201d says " + named + ", so the logger clock is read in " + named + " rather than the site\u2019s " + tz + "."
+      : "";
+    $("zone-note").hidden = !$("zone-note").textContent;
     $("m-interval").value = m.timestamp.interval || "";
     $("m-offset").value = m.clock_offset_s || 0;
     $("dayfirst").classList.toggle("hidden", !sniffed.day_first_ambiguous);
@@ -372,14 +379,16 @@
     add("Rows", A.count(r.rows || 0));
     add("Readings", A.count(r.readings || 0));
     const at = (t) => { const ms = Date.parse(t); return isNaN(ms) ? t : A.localTime(ms, tz); };
-    if (r.first) add("From", at(r.first));
-    if (r.last) add("To", at(r.last));
-    if (r.interval_s) add("Interval", r.interval_s + " s");
+    // Times and the interval as the server words them (the zone's abbreviation, as the file
+    // table and preview show it; "15 min"), else formatted here.
+    if (r.first) add("From", r.first_local || at(r.first));
+    if (r.last) add("To", r.last_local || at(r.last));
+    if (r.interval_s) add("Interval", r.interval_words || r.interval_s + " s");
     box.append(dl);
     if (r.channels && r.channels.length) {
       const t = A.el("table", { class: "data" }, A.el("thead", {}, A.el("tr", {}, A.el("th", {}, "Channel"), A.el("th", {}, "Quantity"), A.el("th", {}, "Readings"), A.el("th", {}, "From (site time, " + tz + ")"), A.el("th", {}, "To"))));
       const tb = A.el("tbody");
-      for (const c of r.channels) tb.append(A.el("tr", {}, A.el("td", {}, c.compressor ? c.compressor + " (" + c.label + ")" : c.label), A.el("td", {}, c.quantity), A.el("td", { class: "num" }, A.count(c.readings)), A.el("td", {}, at(c.first)), A.el("td", {}, at(c.last))));
+      for (const c of r.channels) tb.append(A.el("tr", {}, A.el("td", {}, c.compressor ? c.compressor + " (" + c.label + ")" : c.label), A.el("td", {}, c.quantity), A.el("td", { class: "num" }, A.count(c.readings)), A.el("td", {}, c.first_local || at(c.first)), A.el("td", {}, c.last_local || at(c.last))));
       t.append(tb);
       box.append(t);
     }

@@ -827,6 +827,8 @@ mod tests_page;
 mod treatment;
 #[path = "browser_upload.rs"]
 mod upload;
+#[path = "browser_words.rs"]
+mod words;
 
 /// The report of an audit built from three files that never overlap in time (issue 16) opens with
 /// the sufficiency verdict and its reasons, above the figures, and shows no annual figure: each

@@ -101,7 +101,7 @@ fn a_power_file_and_a_counter_file_years_apart_count_every_reading_once() {
     assert!((p["hours"].as_f64().unwrap() - 150_008_100.0 / 3600.0).abs() < 1e-9, "{p}");
     assert!((p["logged_hours"].as_f64().unwrap() - logged).abs() < 1e-3, "{p}");
     let report = s.get(&format!("/audits/{id}/report")).text;
-    assert!(report.contains("(10.9 h logged in a span of 41,668.9 h, 300 s analysis step)"), "period line");
+    assert!(report.contains("(10.9 h logged in a span of 41,668.9 h, 5 min analysis step)"), "period line");
 
     // The day selector: the site's days that hold readings, and no other. The first file is 03:00 to
     // 12:59 CDT on Mon 3 Jun 2019, the second 06:00 to 06:53 CST on Mon 4 Mar 2024; the calendar

@@ -215,7 +215,13 @@ fn fail<T>(field: impl Into<String>, message: impl Into<String>) -> Result<T, Sc
 pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioError> {
     let base_volume = input.storage.system_volume_m3();
     if !(base_volume.is_finite() && base_volume > 0.0) {
-        return fail("storage", format!("the system volume must be above 0 m³, not {base_volume}"));
+        // Said without a figure (the reader's units are the page's): an audit with no receiver
+        // has nothing to hold the pressure between the compressors' steps.
+        return fail(
+            "storage",
+            "no receiver or other system volume is on record: add the receivers under Site & equipment, \
+             Storage, to replay the plant",
+        );
     }
     for (i, s) in input.compressors.iter().enumerate() {
         if !(s.rated_flow_m3_min > 0.0 && s.rated_power_kw > 0.0) {

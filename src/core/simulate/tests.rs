@@ -52,6 +52,26 @@ fn run_plant(frame: &Frame, c: &[CompressorSpec], v: f64, leak: Option<f64>, sc:
 }
 
 #[test]
+fn a_plant_with_no_receiver_on_record_is_refused_in_words() {
+    let c = vec![spec("S", Control::StartStop, 60.0, 10.0)];
+    let frame = flow_frame(1.0, |_| 4.0);
+    let (st, s) = (storage(0.0), site());
+    let input = SimInput {
+        frame: &frame,
+        compressors: &c,
+        storage: &st,
+        site: &s,
+        leak_flow_m3_min: None,
+        pressure_credible: true,
+    };
+    let e = run(&input, &as_is()).unwrap_err();
+    assert_eq!(e.field, "storage");
+    assert!(e.message.starts_with("no receiver or other system volume is on record"), "{}", e.message);
+    assert!(e.message.contains("Site & equipment, Storage"), "{}", e.message);
+    assert!(!e.message.contains("m³"), "a figure in SI units: {}", e.message);
+}
+
+#[test]
 fn start_stop_against_constant_demand_cycles_as_the_receiver_equation_says() {
     // Receiver equation (bleed-down form V dp = p_atm Q dt, US DOE, Improving Compressed Air System
     // Performance: A Sourcebook for Industry, leaks fact sheet): one start/stop machine,

@@ -300,14 +300,14 @@ impl QualityReport {
                     if h.si > POWER_OVER_RATED * m.rated_power_kw * 1000.0 =>
                 {
                     vec![format!(
-                        "power of {}{} up to {:.1} kW, above {POWER_OVER_RATED} x its rated {} kW: {check}",
+                        "power of {}{} up to {}, above {POWER_OVER_RATED} x its rated {} kW: {check}",
                         m.tag,
                         if counter {
                             " from its energy counter (the mean over a minute or more)"
                         } else {
                             ""
                         },
-                        h.si / 1000.0,
+                        crate::core::display::power_words(h.si),
                         m.rated_power_kw
                     )
                     .into()]

@@ -49,7 +49,7 @@ fn gaps_duplicates_and_out_of_order_at_one_second() {
     assert_eq!(r.file.duplicate_timestamps.count, 1);
     assert_eq!(r.file.out_of_order.count, 1);
     let w = r.warnings("UTC");
-    assert!(w[0].starts_with("1 gap longer than 3x the 1 s logging interval; the longest is 60 s"), "{w:?}");
+    assert!(w[0].starts_with("1 gap longer than 3x the 1 s logging interval; the longest is 1 min"), "{w:?}");
     assert!(w.iter().any(|s| s.starts_with("1 duplicate timestamp (first at line 103")), "{w:?}");
 }
 
@@ -226,6 +226,15 @@ fn power_and_flow_far_above_the_data_sheets_are_implausible() {
     assert!(r.warnings("UTC").iter().any(|w| w.starts_with("C1 kW: implausible: power of C1 up to 83.0 kW")));
     let r = report(82.0, 23.0);
     assert!(r.channels.iter().all(|c| c.implausible.is_empty()));
+    // A column in W read as kW: 78,899,000 kW is said grouped and in MW (78,899,000 / 1,000).
+    let r = report(78_899_000.0, 1.0);
+    assert!(
+        r.channels[0].implausible[0]
+            .reason
+            .starts_with("power of C1 up to 78,899 MW, above 1.5 x its rated 55 kW"),
+        "{}",
+        r.channels[0].implausible[0].reason
+    );
 }
 
 #[test]

@@ -21,17 +21,10 @@ fn num(v: f64) -> String {
     }
 }
 
-/// A duration for people: s, min, h or days.
+/// A duration for people: "45 s", "15 min", "9 h 40 min", "3 days 4 h"
+/// ([`crate::core::display::duration_words`]).
 pub fn human_duration(s: f64) -> String {
-    if s < 120.0 {
-        format!("{} s", num(s))
-    } else if s < 7200.0 {
-        format!("{} min", num(s / 60.0))
-    } else if s < 172_800.0 {
-        format!("{} h", num(s / 3600.0))
-    } else {
-        format!("{} days", num(s / 86_400.0))
-    }
+    crate::core::display::duration_words(s)
 }
 
 /// A unit as the mapping spells it (`bar_g`), as people write it (`bar(g)`).
@@ -68,7 +61,7 @@ pub(super) fn reading_part(quantity: Quantity, si: f64, atmosphere_pa: f64) -> P
         Quantity::Pressure => text::bar_g((si - atmosphere_pa) / crate::core::units::PA_PER_BAR),
         Quantity::Flow => text::flow(si * 60.0),
         Quantity::Temperature => text::temperature_c(si - crate::core::units::T_ZERO_C),
-        Quantity::Power => format!("{} kW", crate::core::display::num(si / 1000.0, 1)).into(),
+        Quantity::Power => crate::core::display::power_words(si).into(),
         Quantity::Energy => format!("{} kWh", crate::core::display::num(si / 3.6e6, 1)).into(),
     }
 }
@@ -246,13 +239,24 @@ pub fn span_warnings(this: (i64, i64), others: &[(i64, i64)], tz: &str) -> Vec<S
     let (first, last) = this;
     if !others.iter().any(|&(a, b)| a <= last && b >= first) {
         let (a, b) = others.iter().fold((i64::MAX, i64::MIN), |(a, b), &(x, y)| (a.min(x), b.max(y)));
+        // The others' whole period would contain a file that lies between two of them, and the
+        // sentence would contradict itself: such a file is placed between its two neighbours.
+        let where_ = if a < first && b > last {
+            let before = others.iter().map(|o| o.1).filter(|&e| e < first).max().unwrap_or(a);
+            let after = others.iter().map(|o| o.0).filter(|&s| s > last).min().unwrap_or(b);
+            format!(
+                ": it lies in a gap between them, after one that ends {} and before one that starts {};",
+                t(before),
+                t(after)
+            )
+        } else {
+            format!(" ({} to {}):", t(a), t(b))
+        };
         w.push(format!(
-            "this file ({} to {}) does not overlap in time any other file of the audit ({} to {}): \
+            "this file ({} to {}) does not overlap in time any other file of the audit{where_} \
              readings of different times cannot be combined into figures of one system",
             t(first),
             t(last),
-            t(a),
-            t(b)
         ));
     }
     let start = others.iter().map(|o| o.0).fold(first, i64::min);
@@ -292,6 +296,20 @@ mod span_tests {
             w[0]
         );
         assert!(w[1].starts_with("this file covers 4.8 % of the audit's logged period"), "{}", w[1]);
+    }
+
+    #[test]
+    fn a_file_in_a_gap_between_the_others_is_placed_between_them() {
+        // Others: days 0-7 and 30-37; this file: days 10-11. The others' whole period (days 0 to
+        // 37) contains it, so it is placed after the one ending day 7 and before the one starting day 30.
+        let w = span_warnings((10 * DAY, 11 * DAY), &[(0, 7 * DAY), (30 * DAY, 37 * DAY)], "UTC");
+        assert_eq!(
+            w[0],
+            "this file (Sun 11 Jan 1970 00:00 UTC to Mon 12 Jan 1970 00:00 UTC) does not overlap in time any \
+             other file of the audit: it lies in a gap between them, after one that ends Thu 8 Jan 1970 \
+             00:00 UTC and before one that starts Sat 31 Jan 1970 00:00 UTC; readings of different times \
+             cannot be combined into figures of one system"
+        );
     }
 
     #[test]

@@ -78,6 +78,12 @@ pub struct ImportSummary {
     pub first: Option<String>,
     pub last: Option<String>,
     pub interval_s: Option<f64>,
+    /// `first`, `last` and `interval_s` as every page words them: the site's local time with
+    /// the zone's abbreviation ("Mon 4 May 2026 03:00 CDT"), the interval in whole units
+    /// ("15 min"), so that the upload page shows what the file table and preview show.
+    pub first_local: Option<String>,
+    pub last_local: Option<String>,
+    pub interval_words: Option<String>,
     pub warnings: Vec<String>,
     /// `warnings` in parts, one for one: their readings and limits as figures for the reader's
     /// units (`core::recommend::Part`).
@@ -97,6 +103,9 @@ pub struct ChannelSpan {
     pub readings: u64,
     pub first: String,
     pub last: String,
+    /// `first` and `last` in the site's local time, the zone named as the pages name it.
+    pub first_local: String,
+    pub last_local: String,
 }
 
 /// An import's outcome: one a file, moved once to its reply, so the size of the summary beside a

@@ -205,6 +205,8 @@ pub(super) async fn run_import(
             readings: *n,
             first: ms_to_rfc3339(first),
             last: ms_to_rfc3339(last),
+            first_local: String::new(),
+            last_local: String::new(),
         });
     }
     // A file of rows whose mapped cells are all missing (a meter's error code in every cell) lands
@@ -236,6 +238,10 @@ pub(super) async fn run_import(
         .fetch_optional(&mut *tx)
         .await?
         .unwrap_or_else(|| "UTC".into());
+    for c in &mut channel_spans {
+        c.first_local = crate::core::display::local_time(&c.first, &tz);
+        c.last_local = crate::core::display::local_time(&c.last, &tz);
+    }
     // In parts (figures for the reader's units) and in SI words, one for one.
     let mut parts = report.quality.warning_parts(&tz);
     if readings == 0 {
@@ -312,6 +318,9 @@ pub(super) async fn run_import(
         first: first.map(ms_to_rfc3339),
         last: last.map(ms_to_rfc3339),
         interval_s: report.median_interval_s,
+        first_local: first.map(|t| crate::core::display::local_ms(t, &tz)),
+        last_local: last.map(|t| crate::core::display::local_ms(t, &tz)),
+        interval_words: report.median_interval_s.map(crate::core::display::duration_words),
         warnings,
         warning_parts: parts,
         quality,

@@ -290,12 +290,12 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>, facts: &Rea
     let p = &sm.period;
     // Logged time and the calendar span apart: files years apart span far more than they log.
     let period = format!(
-        "{} to {}, site time ({} h logged in a span of {} h, {} s analysis step)",
+        "{} to {}, site time ({} h logged in a span of {} h, {} analysis step)",
         super::words::local_time(&p.start, &b.audit.site.timezone),
         super::words::local_time(&p.end, &b.audit.site.timezone),
         num(p.logged_hours, 1),
         num(p.hours, 1),
-        num(p.step_s, 0)
+        crate::core::display::duration_words(p.step_s)
     );
     let c = &sm.coverage;
     // A share that is not zero never prints as 0.0 % (files years apart log a sliver of the span).
