@@ -245,3 +245,41 @@ fn an_audit_without_a_pressure_log_says_so_and_quotes_no_transmitter() {
     assert!(report.contains("not logged (no pressure column was read)"), "the pressure table");
     assert!(!report.contains("Uncertainty of the transmitter"), "a transmitter that was never there");
 }
+
+/// With the verdict insufficient the plant's demand is unknown: no system specific power, no
+/// part-load penalty and no cost of air, on the API (null, with the reason) and the report (a walk
+/// found "23.30 kW/(m³/min) … part-load penalty 1,371.4 %" on air read from machines' states).
+#[test]
+fn an_insufficient_audit_gives_no_specific_power_nor_cost_of_air() {
+    let s = Server::start();
+    let id = audit_years_apart(&s);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(sm["sufficiency"]["verdict"], "insufficient");
+    for f in ["specific_power_kw_per_m3_min", "specific_power_kw_per_m3_min_low", "part_load_penalty_percent"]
+    {
+        assert!(sm["system"][f].is_null(), "system.{f} = {}", sm["system"][f]);
+    }
+    assert!(sm["baseline"]["cost_per_1000_m3"].is_null(), "{}", sm["baseline"]);
+    let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
+    for f in ["system.specific_power_kw_per_m3_min", "baseline.cost_per_1000_m3"] {
+        let w = withheld.iter().find(|w| w["figure"] == f).unwrap_or_else(|| panic!("{f}: {withheld:?}"));
+        assert!(
+            w["reason"]
+                .as_str()
+                .unwrap()
+                .starts_with("the logged data are not enough to set the plant's power"),
+            "{w}"
+        );
+    }
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    for label in ["figure-label\">System specific power", "figure-label\">Cost of air"] {
+        let card = &report[report.find(label).unwrap_or_else(|| panic!("{label}"))..];
+        assert!(
+            card[..300].contains("<div class=\"figure-value\">not enough data</div>"),
+            "{}",
+            &card[..300]
+        );
+        assert!(card[..600].contains("not enough to set the plant"), "{}", &card[..600]);
+    }
+    assert!(!report.contains("part-load penalty"), "a penalty of a withheld figure");
+}

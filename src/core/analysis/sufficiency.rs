@@ -47,7 +47,9 @@ figures add the machines up, so only those hours show the plant as one system.
 - the peak power when no 15-minute window holds every compressor's power, or when that peak falls
   below the mean power (the machines' logs do not overlap enough for a simultaneous peak); the
   demand charge, and with it the annual cost, when a demand charge is set and the peak is withheld;
-- with the verdict insufficient: every annual figure (baseline, heat, compressors, leak cost) and
+- with the verdict insufficient: the system specific power (its range, the part-load penalty) and
+  the cost of air, since the plant's demand is not known (a flow read from the states of machines
+  logged years apart is no plant's air); every annual figure (baseline, heat, compressors, leak cost) and
   every measure, and every share of demand of the leaks (the adopted one and each estimate's);
 - a leak share above 100 %, the adopted one or an estimate's: a leak flow above the mean demand it
   is compared with means the test and the flow log describe different conditions, and is no share;
@@ -290,25 +292,20 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
             "power and measured flow were logged together for {h:.1} h (less than {:.0} min)",
             MIN_OVERLAP_HOURS * 60.0
         );
-        let sys = &mut s.system;
-        for (f, v) in [
-            ("system.specific_power_kw_per_m3_min", &mut sys.specific_power_kw_per_m3_min),
-            ("system.isothermal_efficiency", &mut sys.isothermal_efficiency),
-            ("baseline.cost_per_1000_m3", &mut s.baseline.cost_per_1000_m3),
-        ] {
-            *v = None;
-            withhold(&mut w, f, &why);
-        }
-        sys.specific_power_kw_per_m3_min_low = None;
-        sys.specific_power_kw_per_m3_min_high = None;
-        sys.specific_power_kw_per_100cfm = None;
-        sys.specific_power_kwh_per_m3 = None;
-        sys.part_load_penalty_percent = None;
-        sys.full_load_specific_power_at_pressure_kw_per_m3_min = None;
-        sys.isothermal_efficiency_low = None;
-        sys.isothermal_efficiency_high = None;
-        sys.part_load_curve.clear();
-        s.baseline.cost_per_1000_ft3 = None;
+        clear_specific_power(s, &mut w, &why);
+        s.system.isothermal_efficiency = None;
+        s.system.isothermal_efficiency_low = None;
+        s.system.isothermal_efficiency_high = None;
+        withhold(&mut w, "system.isothermal_efficiency", &why);
+    }
+    // Power over air of a plant whose demand the data do not carry is no plant's figure (a flow
+    // read from the states of machines logged years apart gave 23.30 kW/(m³/min)).
+    if verdict == Verdict::Insufficient {
+        let why = format!(
+            "the logged data are not enough to set the plant's power against its air: {}",
+            s.sufficiency.reasons.first().map_or("", String::as_str)
+        );
+        clear_specific_power(s, &mut w, &why);
     }
     if pressure_credible == Some(false) {
         let why = "the pressure log is not credible: it cannot be this plant's header pressure";
@@ -402,6 +399,23 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
     }
     leak_shares_over_whole(s, &mut w);
     s.sufficiency.withheld = w;
+}
+
+/// The system specific power, its range and penalty, and the cost of air, withheld for `why`.
+fn clear_specific_power(s: &mut Summary, w: &mut Vec<Withheld>, why: &str) {
+    let sys = &mut s.system;
+    sys.specific_power_kw_per_m3_min = None;
+    sys.specific_power_kw_per_m3_min_low = None;
+    sys.specific_power_kw_per_m3_min_high = None;
+    sys.specific_power_kw_per_100cfm = None;
+    sys.specific_power_kwh_per_m3 = None;
+    sys.part_load_penalty_percent = None;
+    sys.full_load_specific_power_at_pressure_kw_per_m3_min = None;
+    sys.part_load_curve.clear();
+    withhold(w, "system.specific_power_kw_per_m3_min", why);
+    s.baseline.cost_per_1000_m3 = None;
+    s.baseline.cost_per_1000_ft3 = None;
+    withhold(w, "baseline.cost_per_1000_m3", why);
 }
 
 /// The adopted leak flow's shares of demand, withheld, and the band read from them ("leaks above

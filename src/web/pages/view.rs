@@ -476,7 +476,8 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
             label: "System specific power".into(),
             value: or_nd(sys.specific_power_kw_per_m3_min, |v| fmt.specific_power(v)),
             note: match (&sys.specific_power_note, sys.specific_power_kw_per_m3_min) {
-                (Some(why), _) => why.clone(),
+                (_, None) => withheld(sm, "system.specific_power"),
+                (Some(why), Some(_)) => why.clone(),
                 (None, Some(_)) => format!(
                     "range {} to {}; the same machines at full load at the logged pressure {}: part-load \
                      penalty {} % (control loss, not wear)",
@@ -485,14 +486,16 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
                     fmt.specific_power(nan(sys.full_load_specific_power_at_pressure_kw_per_m3_min)),
                     num(nan(sys.part_load_penalty_percent), 1)
                 ),
-                (None, None) => withheld(sm, "system.specific_power"),
             },
             estimated,
         },
         FigureView {
             label: "Cost of air".into(),
             value: or_nd(base.cost_per_1000_m3, |v| fmt.air_cost(v, cur)),
-            note: format!("at {} per kWh", fmt.unit_price(base.electricity_price_per_kwh, cur)),
+            note: match base.cost_per_1000_m3 {
+                Some(_) => format!("at {} per kWh", fmt.unit_price(base.electricity_price_per_kwh, cur)),
+                None => withheld(sm, "baseline.cost_per_1000_m3"),
+            },
             estimated,
         },
         FigureView {
