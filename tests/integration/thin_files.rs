@@ -283,3 +283,28 @@ fn an_insufficient_audit_gives_no_specific_power_nor_cost_of_air() {
     }
     assert!(!report.contains("part-load penalty"), "a penalty of a withheld figure");
 }
+
+/// A pressure log that is not taken as the plant's header (the thin audit's, of another system)
+/// gives no time below the plant's low limit and no pressure bands: null on the API with the reason,
+/// "not enough data" in the report (a walk found "Time below the low limit 100.0 %" there).
+#[test]
+fn a_pressure_log_not_the_plants_header_gives_no_time_below_the_limit() {
+    let s = Server::start();
+    let (id, _) = super::guard::thin_audit(&s);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(sm["sufficiency"]["pressure_credible"], false);
+    assert!(sm["pressure"]["share_below_low_limit"].is_null(), "{}", sm["pressure"]);
+    assert!(sm["pressure"]["share_above_highest_rated"].is_null(), "{}", sm["pressure"]);
+    let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
+    let w = withheld.iter().find(|w| w["figure"] == "pressure.share_below_low_limit").expect("withheld");
+    assert!(w["reason"].as_str().unwrap().starts_with("the pressure log is not credible"), "{w}");
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    for row in ["<dt>Time below the low limit</dt>", "<dt>5 % / 50 % / 95 % of time below</dt>"] {
+        let at = &report[report.find(row).unwrap_or_else(|| panic!("{row}"))..];
+        assert!(
+            at[row.len()..].starts_with("<dd>not enough data (the pressure log is not credible"),
+            "{}",
+            &at[..300]
+        );
+    }
+}

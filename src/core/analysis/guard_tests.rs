@@ -151,6 +151,8 @@ fn compressors_logged_at_different_times_are_insufficient_and_give_no_annual_fig
     assert!(sm.sufficiency.reasons[0].contains("logged together for 0.0 h"), "{:?}", sm.sufficiency.reasons);
     assert_eq!(sm.sufficiency.pressure_credible, Some(false));
     assert!(sm.sufficiency.reasons.iter().any(|r| r.contains("below the atmosphere")));
+    // A log that is not this plant's header spends no time below this plant's limits.
+    assert_eq!((sm.pressure.share_below_low_limit, sm.pressure.share_above_highest_rated), (None, None));
     assert_eq!(sm.baseline.annual_energy_kwh, None);
     assert_eq!(sm.baseline.annual_cost, None);
     assert_eq!(sm.heat.annual_value, None);
@@ -161,9 +163,14 @@ fn compressors_logged_at_different_times_are_insufficient_and_give_no_annual_fig
     assert!(sm.system.mean_power_kw > 0.0);
     assert_eq!(sm.system.peak_power_kw, None);
     let figures: Vec<&str> = sm.sufficiency.withheld.iter().map(|w| w.figure.as_str()).collect();
-    for f in
-        ["baseline", "heat", "recommendations", "system.peak_power_kw", "recommendations[lower_pressure]"]
-    {
+    for f in [
+        "baseline",
+        "heat",
+        "recommendations",
+        "system.peak_power_kw",
+        "recommendations[lower_pressure]",
+        "pressure.share_below_low_limit",
+    ] {
         assert!(figures.contains(&f), "{f} not in {figures:?}");
     }
     // The logged energy itself is a measurement and stays.

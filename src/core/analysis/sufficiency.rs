@@ -44,6 +44,9 @@ figures add the machines up, so only those hours show the plant as one system.
   atmosphere; 0.1 bar allows for a transmitter's zero error), or a median below half the lowest
   rated pressure of the compressors (a header that low is not the header of this plant, or the unit
   or the zero of the column is wrong; common practice);
+- the time below the low limit and above the highest rated pressure when the pressure log is not
+  credible (the pages print "not enough data" for the pressure bands too; the JSON keeps the log's
+  percentiles, a description of the log itself, like its mean);
 - the peak power when no 15-minute window holds every compressor's power, or when that peak falls
   below the mean power (the machines' logs do not overlap enough for a simultaneous peak); the
   demand charge, and with it the annual cost, when a demand charge is set and the peak is withheld;
@@ -315,6 +318,11 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         sys.isothermal_efficiency_low = None;
         sys.isothermal_efficiency_high = None;
         withhold(&mut w, "recommendations[lower_pressure]", why);
+        // Time below the plant's low limit or above its rated pressure, of a log that is not its
+        // header, is no time of this plant (a walk found "100.0 %" below the limit).
+        s.pressure.share_below_low_limit = None;
+        s.pressure.share_above_highest_rated = None;
+        withhold(&mut w, "pressure.share_below_low_limit", why);
     }
     // A peak is never below the mean.
     match s.system.peak_power_kw {
