@@ -151,6 +151,11 @@ fn compressors_logged_at_different_times_are_insufficient_and_give_no_annual_fig
     assert!(sm.sufficiency.reasons[0].contains("logged together for 0.0 h"), "{:?}", sm.sufficiency.reasons);
     assert_eq!(sm.sufficiency.pressure_credible, Some(false));
     assert!(sm.sufficiency.reasons.iter().any(|r| r.contains("below the atmosphere")));
+    // The production split is over other bins than the mean flow: withheld.
+    assert_eq!(
+        (sm.demand.production_mean_flow_m3_min, sm.demand.non_production_mean_flow_m3_min),
+        (None, None)
+    );
     // A log that is not this plant's header spends no time below this plant's limits.
     assert_eq!((sm.pressure.share_below_low_limit, sm.pressure.share_above_highest_rated), (None, None));
     assert_eq!(sm.baseline.annual_energy_kwh, None);
@@ -170,6 +175,7 @@ fn compressors_logged_at_different_times_are_insufficient_and_give_no_annual_fig
         "system.peak_power_kw",
         "recommendations[lower_pressure]",
         "pressure.share_below_low_limit",
+        "demand.production_split",
     ] {
         assert!(figures.contains(&f), "{f} not in {figures:?}");
     }

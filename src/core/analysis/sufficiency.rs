@@ -54,6 +54,10 @@ figures add the machines up, so only those hours show the plant as one system.
   the cost of air, since the plant's demand is not known (a flow read from the states of machines
   logged years apart is no plant's air); every annual figure (baseline, heat, compressors, leak cost) and
   every measure, and every share of demand of the leaks (the adopted one and each estimate's);
+- with the verdict insufficient, the production split (production and non-production mean flow
+  and power): its means are over the production and other bins of the whole span, the mean flow
+  over the bins logged, and on such data they disagree. The pages print "not enough data" for the
+  production share of time beside it; the summary's JSON keeps that share;
 - a leak share above 100 %, the adopted one or an estimate's: a leak flow above the mean demand it
   is compared with means the test and the flow log describe different conditions, and is no share;
 - with any share withheld, the leak band read from it ("leaks above 20 % of demand ...").
@@ -395,6 +399,19 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
             e.share_of_mean_demand = None;
         }
         withhold(&mut w, "leaks.estimates[].share_of_mean_demand", &why);
+        // The split's means are over the production and other bins of the whole span, the mean
+        // flow over the bins logged: on such data they cannot both be true (a walk found a mean of
+        // 0.134 m³/min beside a production mean of 4.57 and a non-production one of 0.000).
+        let d = &mut s.demand;
+        for f in [
+            &mut d.production_mean_flow_m3_min,
+            &mut d.non_production_mean_flow_m3_min,
+            &mut d.production_mean_power_kw,
+            &mut d.non_production_mean_power_kw,
+        ] {
+            *f = None;
+        }
+        withhold(&mut w, "demand.production_split", &why);
         for d in &mut s.transmission.pressure_drops {
             d.annual_energy_kwh = None;
             d.annual_cost = None;

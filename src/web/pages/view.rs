@@ -710,6 +710,7 @@ fn compressor_rows(sm: &Summary, fmt: &Fmt) -> Vec<CompressorRow> {
 
 fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
     let (sys, d) = (&sm.system, &sm.demand);
+    let split_withheld = sm.sufficiency.withheld.iter().any(|w| w.figure == "demand.production_split");
     vec![
         (
             "Mean flow".into(),
@@ -739,15 +740,23 @@ fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
         ),
         (
             "Production / non-production mean flow".into(),
-            format!(
-                "{} / {}",
-                fmt.flow_m3_min(nan(d.production_mean_flow_m3_min)),
-                fmt.flow_m3_min(nan(d.non_production_mean_flow_m3_min))
-            ),
+            if split_withheld {
+                format!("{NOT_ENOUGH_DATA} ({})", withheld(sm, "demand.production_split"))
+            } else {
+                format!(
+                    "{} / {}",
+                    fmt.flow_m3_min(nan(d.production_mean_flow_m3_min)),
+                    fmt.flow_m3_min(nan(d.non_production_mean_flow_m3_min))
+                )
+            },
         ),
         (
             "Production share of time".into(),
-            format!("{} ({})", fmt.percent(d.production_share_of_time), d.production_rule),
+            if split_withheld {
+                format!("{NOT_ENOUGH_DATA} ({})", withheld(sm, "demand.production_split"))
+            } else {
+                format!("{} ({})", fmt.percent(d.production_share_of_time), d.production_rule)
+            },
         ),
         (
             "Mean power / peak 15-minute demand".into(),
