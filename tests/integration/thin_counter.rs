@@ -239,3 +239,29 @@ fn the_baseline_replay_of_the_thin_audit_meets_the_logged_peak_and_says_what_it_
     assert!(page.contains("meet the peak demand of 4.2 cfm free air"), "the peak in cfm");
     assert!(page.contains("not offered: the logged data are not enough for annual figures"));
 }
+
+/// With the verdict insufficient the production split is withheld with its reason, and the page
+/// prints "not enough data" for it and the production share of time beside it (a walk found a mean
+/// flow of 0.134 m³/min beside production / non-production means of 4.57 / 0.000).
+#[test]
+fn an_insufficient_audit_gives_no_production_split() {
+    let s = Server::start();
+    let id = crate::thin_files::audit_years_apart(&s);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(sm["sufficiency"]["verdict"], "insufficient");
+    let d = &sm["demand"];
+    for f in ["production_mean_flow_m3_min", "non_production_mean_flow_m3_min", "production_mean_power_kw"] {
+        assert!(d[f].is_null(), "demand.{f} = {}", d[f]);
+    }
+    let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
+    assert!(withheld.iter().any(|w| w["figure"] == "demand.production_split"), "{withheld:?}");
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    for row in ["<dt>Production / non-production mean flow</dt>", "<dt>Production share of time</dt>"] {
+        let at = &report[report.find(row).unwrap_or_else(|| panic!("{row}"))..];
+        assert!(
+            at[row.len()..].starts_with("<dd>not enough data (the logged data are not enough"),
+            "{}",
+            &at[..300]
+        );
+    }
+}

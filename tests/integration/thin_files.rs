@@ -265,3 +265,66 @@ fn records_left_unpriced_on_thin_data_are_not_called_absent() {
         assert!(html.contains("id=\"transmission-withheld\">Dryers, drains, filters and end uses on record, if any, are not priced: not enough data"), "{page}");
     }
 }
+
+/// With the verdict insufficient the plant's demand is unknown: no system specific power, no
+/// part-load penalty and no cost of air, on the API (null, with the reason) and the report (a walk
+/// found "23.30 kW/(m³/min) … part-load penalty 1,371.4 %" on air read from machines' states).
+#[test]
+fn an_insufficient_audit_gives_no_specific_power_nor_cost_of_air() {
+    let s = Server::start();
+    let id = audit_years_apart(&s);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(sm["sufficiency"]["verdict"], "insufficient");
+    for f in ["specific_power_kw_per_m3_min", "specific_power_kw_per_m3_min_low", "part_load_penalty_percent"]
+    {
+        assert!(sm["system"][f].is_null(), "system.{f} = {}", sm["system"][f]);
+    }
+    assert!(sm["baseline"]["cost_per_1000_m3"].is_null(), "{}", sm["baseline"]);
+    let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
+    for f in ["system.specific_power_kw_per_m3_min", "baseline.cost_per_1000_m3"] {
+        let w = withheld.iter().find(|w| w["figure"] == f).unwrap_or_else(|| panic!("{f}: {withheld:?}"));
+        assert!(
+            w["reason"]
+                .as_str()
+                .unwrap()
+                .starts_with("the logged data are not enough to set the plant's power"),
+            "{w}"
+        );
+    }
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    for label in ["figure-label\">System specific power", "figure-label\">Cost of air"] {
+        let card = &report[report.find(label).unwrap_or_else(|| panic!("{label}"))..];
+        assert!(
+            card[..300].contains("<div class=\"figure-value\">not enough data</div>"),
+            "{}",
+            &card[..300]
+        );
+        assert!(card[..600].contains("not enough to set the plant"), "{}", &card[..600]);
+    }
+    assert!(!report.contains("part-load penalty"), "a penalty of a withheld figure");
+}
+
+/// A pressure log that is not taken as the plant's header (the thin audit's, of another system)
+/// gives no time below the plant's low limit and no pressure bands: null on the API with the reason,
+/// "not enough data" in the report (a walk found "Time below the low limit 100.0 %" there).
+#[test]
+fn a_pressure_log_not_the_plants_header_gives_no_time_below_the_limit() {
+    let s = Server::start();
+    let (id, _) = super::guard::thin_audit(&s);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(sm["sufficiency"]["pressure_credible"], false);
+    assert!(sm["pressure"]["share_below_low_limit"].is_null(), "{}", sm["pressure"]);
+    assert!(sm["pressure"]["share_above_highest_rated"].is_null(), "{}", sm["pressure"]);
+    let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
+    let w = withheld.iter().find(|w| w["figure"] == "pressure.share_below_low_limit").expect("withheld");
+    assert!(w["reason"].as_str().unwrap().starts_with("the pressure log is not credible"), "{w}");
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    for row in ["<dt>Time below the low limit</dt>", "<dt>5 % / 50 % / 95 % of time below</dt>"] {
+        let at = &report[report.find(row).unwrap_or_else(|| panic!("{row}"))..];
+        assert!(
+            at[row.len()..].starts_with("<dd>not enough data (the pressure log is not credible"),
+            "{}",
+            &at[..300]
+        );
+    }
+}

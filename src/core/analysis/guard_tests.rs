@@ -118,6 +118,9 @@ fn check_invariants(sm: &Summary) -> Result<(), TestCaseError> {
             prop_assert!(sm.baseline.annual_energy_kwh.is_none() && sm.baseline.annual_cost.is_none());
             prop_assert!(sm.recommendations.is_empty());
             prop_assert!(!sm.sufficiency.reasons.is_empty());
+            prop_assert!(
+                sys.specific_power_kw_per_m3_min.is_none() && sm.baseline.cost_per_1000_m3.is_none()
+            );
         }
         Verdict::Thin => prop_assert!(!sm.sufficiency.reasons.is_empty()),
         Verdict::Enough => prop_assert!(sm.sufficiency.reasons.is_empty()),
@@ -149,6 +152,13 @@ fn compressors_logged_at_different_times_are_insufficient_and_give_no_annual_fig
     assert!(sm.sufficiency.reasons[0].contains("logged together for 0.0 h"), "{:?}", sm.sufficiency.reasons);
     assert_eq!(sm.sufficiency.pressure_credible, Some(false));
     assert!(sm.sufficiency.reasons.iter().any(|r| r.contains("below the atmosphere")));
+    // The production split is over other bins than the mean flow: withheld.
+    assert_eq!(
+        (sm.demand.production_mean_flow_m3_min, sm.demand.non_production_mean_flow_m3_min),
+        (None, None)
+    );
+    // A log that is not this plant's header spends no time below this plant's limits.
+    assert_eq!((sm.pressure.share_below_low_limit, sm.pressure.share_above_highest_rated), (None, None));
     assert_eq!(sm.baseline.annual_energy_kwh, None);
     assert_eq!(sm.baseline.annual_cost, None);
     assert_eq!(sm.heat.annual_value, None);
@@ -159,9 +169,15 @@ fn compressors_logged_at_different_times_are_insufficient_and_give_no_annual_fig
     assert!(sm.system.mean_power_kw > 0.0);
     assert_eq!(sm.system.peak_power_kw, None);
     let figures: Vec<&str> = sm.sufficiency.withheld.iter().map(|w| w.figure.as_str()).collect();
-    for f in
-        ["baseline", "heat", "recommendations", "system.peak_power_kw", "recommendations[lower_pressure]"]
-    {
+    for f in [
+        "baseline",
+        "heat",
+        "recommendations",
+        "system.peak_power_kw",
+        "recommendations[lower_pressure]",
+        "pressure.share_below_low_limit",
+        "demand.production_split",
+    ] {
         assert!(figures.contains(&f), "{f} not in {figures:?}");
     }
     // The logged energy itself is a measurement and stays.
@@ -191,6 +207,39 @@ fn files_far_apart_in_time_are_insufficient() {
         sm.sufficiency
     );
     assert_eq!(sm.baseline.annual_energy_kwh, None);
+}
+
+#[test]
+fn an_insufficient_audit_gives_no_specific_power_nor_cost_of_air() {
+    // The same machine cycling for two hours on the 1st and the 20th day, no flow meter: the air is
+    // read from its states, but power covers 0.4 % of the span, so the plant's demand is unknown. A
+    // walk found "23.30 kW/(m³/min), part-load penalty 1,371.4 %" and a cost of air on such data.
+    let s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let n = 20 * 24 * HOUR_BINS;
+    let p = cycling_power(55.0, 40, 160, 20 * 24);
+    let logged = |k: usize| k < 2 * HOUR_BINS || k >= n - 2 * HOUR_BINS;
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![col(
+            Signal::Power,
+            Some(0),
+            (0..n).map(|k| if logged(k) { p[k] } else { f32::NAN }).collect(),
+        )],
+    };
+    let sm = run(&s, &cs, &frame);
+    assert_eq!(sm.sufficiency.verdict, Verdict::Insufficient, "{:?}", sm.sufficiency);
+    let sys = &sm.system;
+    assert!(sys.estimated && sys.air_m3 > 0.0, "the air is read from the states");
+    assert_eq!(sys.specific_power_kw_per_m3_min, None);
+    assert_eq!((sys.specific_power_kw_per_m3_min_low, sys.specific_power_kw_per_m3_min_high), (None, None));
+    assert_eq!(sys.part_load_penalty_percent, None);
+    assert_eq!((sm.baseline.cost_per_1000_m3, sm.baseline.cost_per_1000_ft3), (None, None));
+    for f in ["system.specific_power_kw_per_m3_min", "baseline.cost_per_1000_m3"] {
+        let w = sm.sufficiency.withheld.iter().find(|w| w.figure == f).unwrap_or_else(|| panic!("{f}"));
+        assert!(w.reason.contains("power covers 0.8 % of the span"), "{}", w.reason);
+    }
+    check_invariants(&sm).unwrap();
 }
 
 #[test]

@@ -44,11 +44,20 @@ figures add the machines up, so only those hours show the plant as one system.
   atmosphere; 0.1 bar allows for a transmitter's zero error), or a median below half the lowest
   rated pressure of the compressors (a header that low is not the header of this plant, or the unit
   or the zero of the column is wrong; common practice);
+- the time below the low limit and above the highest rated pressure when the pressure log is not
+  credible (the pages print "not enough data" for the pressure bands too; the JSON keeps the log's
+  percentiles, a description of the log itself, like its mean);
 - the peak power when no 15-minute window holds every compressor's power, or when that peak falls
   below the mean power (the machines' logs do not overlap enough for a simultaneous peak); the
   demand charge, and with it the annual cost, when a demand charge is set and the peak is withheld;
-- with the verdict insufficient: every annual figure (baseline, heat, compressors, leak cost) and
+- with the verdict insufficient: the system specific power (its range, the part-load penalty) and
+  the cost of air, since the plant's demand is not known (a flow read from the states of machines
+  logged years apart is no plant's air); every annual figure (baseline, heat, compressors, leak cost) and
   every measure, and every share of demand of the leaks (the adopted one and each estimate's);
+- with the verdict insufficient, the production split (production and non-production mean flow
+  and power): its means are over the production and other bins of the whole span, the mean flow
+  over the bins logged, and on such data they disagree. The pages print "not enough data" for the
+  production share of time beside it; the summary's JSON keeps that share;
 - a leak share above 100 %, the adopted one or an estimate's: a leak flow above the mean demand it
   is compared with means the test and the flow log describe different conditions, and is no share;
 - with any share withheld, the leak band read from it ("leaks above 20 % of demand ...").
@@ -290,25 +299,20 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
             "power and measured flow were logged together for {h:.1} h (less than {:.0} min)",
             MIN_OVERLAP_HOURS * 60.0
         );
-        let sys = &mut s.system;
-        for (f, v) in [
-            ("system.specific_power_kw_per_m3_min", &mut sys.specific_power_kw_per_m3_min),
-            ("system.isothermal_efficiency", &mut sys.isothermal_efficiency),
-            ("baseline.cost_per_1000_m3", &mut s.baseline.cost_per_1000_m3),
-        ] {
-            *v = None;
-            withhold(&mut w, f, &why);
-        }
-        sys.specific_power_kw_per_m3_min_low = None;
-        sys.specific_power_kw_per_m3_min_high = None;
-        sys.specific_power_kw_per_100cfm = None;
-        sys.specific_power_kwh_per_m3 = None;
-        sys.part_load_penalty_percent = None;
-        sys.full_load_specific_power_at_pressure_kw_per_m3_min = None;
-        sys.isothermal_efficiency_low = None;
-        sys.isothermal_efficiency_high = None;
-        sys.part_load_curve.clear();
-        s.baseline.cost_per_1000_ft3 = None;
+        clear_specific_power(s, &mut w, &why);
+        s.system.isothermal_efficiency = None;
+        s.system.isothermal_efficiency_low = None;
+        s.system.isothermal_efficiency_high = None;
+        withhold(&mut w, "system.isothermal_efficiency", &why);
+    }
+    // Power over air of a plant whose demand the data do not carry is no plant's figure (a flow
+    // read from the states of machines logged years apart gave 23.30 kW/(m³/min)).
+    if verdict == Verdict::Insufficient {
+        let why = format!(
+            "the logged data are not enough to set the plant's power against its air: {}",
+            s.sufficiency.reasons.first().map_or("", String::as_str)
+        );
+        clear_specific_power(s, &mut w, &why);
     }
     if pressure_credible == Some(false) {
         let why = "the pressure log is not credible: it cannot be this plant's header pressure";
@@ -318,6 +322,11 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         sys.isothermal_efficiency_low = None;
         sys.isothermal_efficiency_high = None;
         withhold(&mut w, "recommendations[lower_pressure]", why);
+        // Time below the plant's low limit or above its rated pressure, of a log that is not its
+        // header, is no time of this plant (a walk found "100.0 %" below the limit).
+        s.pressure.share_below_low_limit = None;
+        s.pressure.share_above_highest_rated = None;
+        withhold(&mut w, "pressure.share_below_low_limit", why);
     }
     // A peak is never below the mean.
     match s.system.peak_power_kw {
@@ -390,6 +399,19 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
             e.share_of_mean_demand = None;
         }
         withhold(&mut w, "leaks.estimates[].share_of_mean_demand", &why);
+        // The split's means are over the production and other bins of the whole span, the mean
+        // flow over the bins logged: on such data they cannot both be true (a walk found a mean of
+        // 0.134 m³/min beside a production mean of 4.57 and a non-production one of 0.000).
+        let d = &mut s.demand;
+        for f in [
+            &mut d.production_mean_flow_m3_min,
+            &mut d.non_production_mean_flow_m3_min,
+            &mut d.production_mean_power_kw,
+            &mut d.non_production_mean_power_kw,
+        ] {
+            *f = None;
+        }
+        withhold(&mut w, "demand.production_split", &why);
         for d in &mut s.transmission.pressure_drops {
             d.annual_energy_kwh = None;
             d.annual_cost = None;
@@ -402,6 +424,23 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
     }
     leak_shares_over_whole(s, &mut w);
     s.sufficiency.withheld = w;
+}
+
+/// The system specific power, its range and penalty, and the cost of air, withheld for `why`.
+fn clear_specific_power(s: &mut Summary, w: &mut Vec<Withheld>, why: &str) {
+    let sys = &mut s.system;
+    sys.specific_power_kw_per_m3_min = None;
+    sys.specific_power_kw_per_m3_min_low = None;
+    sys.specific_power_kw_per_m3_min_high = None;
+    sys.specific_power_kw_per_100cfm = None;
+    sys.specific_power_kwh_per_m3 = None;
+    sys.part_load_penalty_percent = None;
+    sys.full_load_specific_power_at_pressure_kw_per_m3_min = None;
+    sys.part_load_curve.clear();
+    withhold(w, "system.specific_power_kw_per_m3_min", why);
+    s.baseline.cost_per_1000_m3 = None;
+    s.baseline.cost_per_1000_ft3 = None;
+    withhold(w, "baseline.cost_per_1000_m3", why);
 }
 
 /// The adopted leak flow's shares of demand, withheld, and the band read from them ("leaks above

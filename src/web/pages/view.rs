@@ -483,7 +483,8 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
             label: "System specific power".into(),
             value: or_nd(sys.specific_power_kw_per_m3_min, |v| fmt.specific_power(v)),
             note: match (&sys.specific_power_note, sys.specific_power_kw_per_m3_min) {
-                (Some(why), _) => why.clone(),
+                (_, None) => withheld(sm, "system.specific_power"),
+                (Some(why), Some(_)) => why.clone(),
                 (None, Some(_)) => format!(
                     "range {} to {}; the same machines at full load at the logged pressure {}: part-load \
                      penalty {} % (control loss, not wear)",
@@ -492,14 +493,16 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
                     fmt.specific_power(nan(sys.full_load_specific_power_at_pressure_kw_per_m3_min)),
                     num(nan(sys.part_load_penalty_percent), 1)
                 ),
-                (None, None) => withheld(sm, "system.specific_power"),
             },
             estimated,
         },
         FigureView {
             label: "Cost of air".into(),
             value: or_nd(base.cost_per_1000_m3, |v| fmt.air_cost(v, cur)),
-            note: format!("at {} per kWh", fmt.unit_price(base.electricity_price_per_kwh, cur)),
+            note: match base.cost_per_1000_m3 {
+                Some(_) => format!("at {} per kWh", fmt.unit_price(base.electricity_price_per_kwh, cur)),
+                None => withheld(sm, "baseline.cost_per_1000_m3"),
+            },
             estimated,
         },
         FigureView {
@@ -715,6 +718,7 @@ fn compressor_rows(sm: &Summary, fmt: &Fmt) -> Vec<CompressorRow> {
 
 fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
     let (sys, d) = (&sm.system, &sm.demand);
+    let split_withheld = sm.sufficiency.withheld.iter().any(|w| w.figure == "demand.production_split");
     vec![
         (
             "Mean flow".into(),
@@ -744,15 +748,23 @@ fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
         ),
         (
             "Production / non-production mean flow".into(),
-            format!(
-                "{} / {}",
-                fmt.flow_m3_min(nan(d.production_mean_flow_m3_min)),
-                fmt.flow_m3_min(nan(d.non_production_mean_flow_m3_min))
-            ),
+            if split_withheld {
+                format!("{NOT_ENOUGH_DATA} ({})", withheld(sm, "demand.production_split"))
+            } else {
+                format!(
+                    "{} / {}",
+                    fmt.flow_m3_min(nan(d.production_mean_flow_m3_min)),
+                    fmt.flow_m3_min(nan(d.non_production_mean_flow_m3_min))
+                )
+            },
         ),
         (
             "Production share of time".into(),
-            format!("{} ({})", fmt.percent(d.production_share_of_time), d.production_rule),
+            if split_withheld {
+                format!("{NOT_ENOUGH_DATA} ({})", withheld(sm, "demand.production_split"))
+            } else {
+                format!("{} ({})", fmt.percent(d.production_share_of_time), d.production_rule)
+            },
         ),
         (
             "Mean power / peak 15-minute demand".into(),

@@ -107,6 +107,10 @@ pub(super) fn pressure_rows(
             format!("{} / {}", g(lo), g(hi))
         }));
     }
+    // A log that is not this plant's header: its bands and its time below the plant's limit are
+    // no figures of this plant.
+    let credible = sm.sufficiency.pressure_credible != Some(false);
+    let nd = || format!("{NOT_ENOUGH_DATA} ({})", withheld(sm, "pressure.share_below_low_limit"));
     rows.extend([
         (
             format!("Least / greatest {} s mean", num(sm.period.step_s, 0)),
@@ -114,12 +118,20 @@ pub(super) fn pressure_rows(
         ),
         (
             "5 % / 50 % / 95 % of time below".into(),
-            format!("{} / {} / {}", bar_g(p.p5_bar_g), bar_g(p.p50_bar_g), bar_g(p.p95_bar_g)),
+            if credible {
+                format!("{} / {} / {}", bar_g(p.p5_bar_g), bar_g(p.p50_bar_g), bar_g(p.p95_bar_g))
+            } else {
+                nd()
+            },
         ),
         ("Uncertainty of the transmitter".into(), format!("± {}", fmt.pressure_delta_bar(p.uncertainty_bar))),
         (
             "Time below the low limit".into(),
-            format!("{} (limit {})", fmt.percent(nan(p.share_below_low_limit)), bar_g(p.low_limit_bar_g)),
+            match p.share_below_low_limit {
+                Some(sh) => format!("{} (limit {})", fmt.percent(sh), bar_g(p.low_limit_bar_g)),
+                None if !credible => nd(),
+                None => format!("{} (limit {})", fmt.percent(f64::NAN), bar_g(p.low_limit_bar_g)),
+            },
         ),
     ]);
     rows
