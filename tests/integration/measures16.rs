@@ -291,8 +291,8 @@ fn a_leak_estimate_from_the_logs_says_so_once() {
     let findings = s.get("/audits/1/findings").text;
     let table = words_between(&findings, "id=\"leak-estimates\"", "</table>");
     assert_eq!(table.matches("from the logs").count(), auto, "{table}");
-    assert!(table.contains("mean flow out of production, an upper bound (from the logs)"), "{table}");
+    assert!(table.contains("Mean flow out of production, an upper bound (from the logs)"), "{table}");
     let report = s.get("/audits/1/report").text;
-    let row = words_between(&report, "mean flow out of production", "</td>");
+    let row = words_between(&report, "Mean flow out of production", "</td>");
     assert_eq!(row.matches("from the logs").count(), 1, "{row}");
 }

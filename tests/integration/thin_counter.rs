@@ -191,7 +191,9 @@ fn the_baseline_replay_of_the_thin_audit_meets_the_logged_peak_and_says_what_it_
     assert_eq!(sm["sufficiency"]["verdict"], "insufficient");
     assert_eq!(sm["sufficiency"]["pressure_credible"], false);
     let leak = sm["leaks"]["adopted_leak_flow_m3_min"].as_f64().unwrap();
-    assert!(leak > 1.0, "{leak}");
+    // The reading, 1.05 m³/min, is taken down by the fall's adiabatic limit (a 60 s fall is fast):
+    // 0.77 m³/min, still six times what was logged.
+    assert!(leak > 0.6, "{leak}");
 
     // Act: the baseline, and the plant with both machines removed (which must then name the peak).
     let base =

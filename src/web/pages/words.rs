@@ -193,7 +193,7 @@ pub fn leak_estimate_label(e: &crate::core::analysis::LeakEstimateFigure) -> Str
         "load_unload" => "Load/unload test",
         "idle_flow" => "Idle-flow test in the logs",
         "pressure_decay" => "Pressure-decay test in the logs",
-        "non_production_flow" => "Mean flow out of production (an upper bound)",
+        "non_production_flow" => "Mean flow out of production, an upper bound",
         _ => "Leak estimate",
     };
     match e.test_id {
