@@ -198,16 +198,24 @@ fn substep(
     while left > 1e-12 {
         let supply: f64 = ms.iter().zip(st.iter()).map(|(m, s)| s.flow(m)).sum();
         let demand = (prod + leak_c * (*p + p_atm)).max(0.0);
-        let r = k_v * (supply - demand);
+        let mut r = k_v * (supply - demand);
+        // A header cannot fall below the atmosphere: there the uses take only what is supplied
+        // (they are starved, the plant short of air), so the pressure stays at 0 bar(g).
+        if *p <= 0.0 && r < 0.0 {
+            r = 0.0;
+        }
         let mut tau = left;
         if events < MAX_EVENTS_PER_SUBSTEP {
             for (m, s) in ms.iter().zip(st.iter()) {
                 tau = tau.min(s.event_time(m, *p, r));
             }
         }
+        if r < 0.0 && *p > 0.0 {
+            tau = tau.min(*p / -r);
+        }
         let tau = tau.max(0.0);
         let p0 = *p;
-        let p1 = p0 + r * tau;
+        let p1 = if p0 >= 0.0 { (p0 + r * tau).max(0.0) } else { p0 + r * tau };
         let p_mid = 0.5 * (p0 + p1);
         for ((m, s), stt) in ms.iter().zip(st.iter_mut()).zip(stats.iter_mut()) {
             s.advance(m, p_mid, tau, stt);

@@ -239,6 +239,19 @@ fn a_plant_below_peak_demand_is_infeasible_and_names_the_shortfall() {
 }
 
 #[test]
+fn a_plant_far_short_of_air_empties_its_header_to_the_atmosphere_and_no_further() {
+    // 18 m³/min asked of a 12.5 m³/min machine for hours: the header empties, and a header at the
+    // atmosphere delivers no air to the uses (they are starved), so its pressure stays at 0 bar(g).
+    // The receiver equation alone, with the demand fixed, went on falling (-10 bar(g) on the
+    // demo's "without C1" replay: below vacuum, which no gauge can read).
+    let c = vec![spec("A", Control::LoadUnload, 75.0, 12.5)];
+    let frame = flow_frame(4.0, |_| 18.0);
+    let r = run_plant(&frame, &c, 7.5, None, &as_is());
+    assert!(!r.feasible);
+    assert_eq!(r.min_pressure_bar_g, 0.0, "{}", r.min_pressure_bar_g);
+}
+
+#[test]
 fn removing_a_machine_that_carried_load_raises_the_others_energy() {
     let c = vec![
         spec("A", Control::LoadUnload, 55.0, 10.0),
