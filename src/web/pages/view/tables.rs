@@ -1,0 +1,323 @@
+//! The report's and the findings' tables of facts: the compressors (with their load in words),
+//! the demand, the heat of compression, the treatment records and the end uses, each row a label
+//! and its figures in the reader's units.
+
+use super::*;
+
+/// A compressor's load in words, the same on the load chart (`plots`, its bar's note) and in the
+/// compressor table ([`load_cell`]): the share of its logged time loaded for a machine that loads
+/// and unloads (or starts and stops); for one that follows demand by speed or by capacity (variable
+/// speed, modulation), whose time "loaded" (at full power) says little, its mean capacity share
+/// (`CompressorFigures::mean_capacity_share`).
+pub fn load_words(c: &crate::core::analysis::CompressorFigures, fmt: &Fmt) -> String {
+    if c.logged_hours <= 0.0 {
+        return "no power logged".into();
+    }
+    if follows_demand(c) {
+        format!("mean capacity {}", fmt.percent(c.mean_capacity_share.unwrap_or(f64::NAN)))
+    } else {
+        format!("loaded {}", fmt.percent(c.loaded_fraction))
+    }
+}
+
+/// A machine that follows demand by speed or by capacity (variable speed, modulation).
+pub fn follows_demand(c: &crate::core::analysis::CompressorFigures) -> bool {
+    use crate::core::model::Control;
+    matches!(c.control, Control::VariableSpeed | Control::Modulation)
+}
+
+/// The compressor table's load cell: [`load_words`], and the running hours of a machine that
+/// follows demand (its mean capacity is over them).
+pub(super) fn load_cell(c: &crate::core::analysis::CompressorFigures, fmt: &Fmt) -> String {
+    let w = load_words(c, fmt);
+    if follows_demand(c) && c.logged_hours > 0.0 {
+        format!("{w} over {} h running", num(c.running_hours, 1))
+    } else {
+        w
+    }
+}
+
+pub(super) fn compressor_rows(sm: &Summary, fmt: &Fmt) -> Vec<CompressorRow> {
+    sm.compressors
+        .iter()
+        .map(|c| CompressorRow {
+            tag: c.tag.clone(),
+            control: human_label(c.control.as_str()),
+            energy: fmt.energy_kwh(c.energy_kwh),
+            mean_power: fmt.power_kw(c.mean_power_kw),
+            loaded: load_cell(c, fmt),
+            unloaded: fmt.percent(c.unloaded_fraction),
+            off: fmt.percent(c.off_fraction),
+            cycles: format!("{} /h", num(c.cycles_per_hour, 1)),
+            specific_power: fmt.specific_power(nan(c.specific_power_kw_per_m3_min)),
+            rated_specific_power: fmt.specific_power(c.rated_specific_power_kw_per_m3_min),
+            loaded_power: match (c.loaded_power_kw, c.loaded_pressure_bar_g) {
+                (Some(p), Some(bar)) => format!("{} at {}", fmt.power_kw(p), fmt.pressure_bar_g(bar)),
+                (Some(p), None) if sm.pressure.mean_bar_g.is_some() => {
+                    format!("{} (no pressure logged while it ran loaded)", fmt.power_kw(p))
+                }
+                (Some(p), None) => format!("{} (no pressure logged)", fmt.power_kw(p)),
+                _ => fmt.power_kw(f64::NAN),
+            },
+            datasheet_power: fmt.power_kw(nan(c.datasheet_power_at_pressure_kw)),
+            vs_datasheet: match c.loaded_power_vs_datasheet_percent {
+                Some(v) => format!("{:+.1} %", v),
+                None => num(f64::NAN, 1),
+            },
+            levels: match &c.levels_kw {
+                Some(l) => {
+                    let mark =
+                        |s: LevelSource| if s == LevelSource::DataSheet { " (data sheet)" } else { "" };
+                    format!(
+                        "{} / {}{} / {}{}",
+                        fmt.power_kw(nan(l.off)),
+                        fmt.power_kw(l.unloaded),
+                        mark(l.unloaded_source),
+                        fmt.power_kw(l.loaded),
+                        mark(l.loaded_source)
+                    )
+                }
+                None => fmt.power_kw(f64::NAN),
+            },
+            estimated: c.estimated,
+        })
+        .collect()
+}
+
+pub(super) fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
+    let (sys, d) = (&sm.system, &sm.demand);
+    let split_withheld = sm.sufficiency.withheld.iter().any(|w| w.figure == "demand.production_split");
+    vec![
+        (
+            "Mean flow".into(),
+            range(
+                |x| fmt.flow_m3_min(x),
+                sys.mean_flow_m3_min,
+                sys.mean_flow_m3_min_low,
+                sys.mean_flow_m3_min_high,
+            ),
+        ),
+        (
+            format!("Peak flow, highest {} mean", window_words(sys.peak_flow_window_s)),
+            if sys.peak_flow_window_s > sm.period.step_s {
+                format!(
+                    "{} (on the clock's minutes; a single {} time step and the top of the flow duration \
+                     curve read higher)",
+                    fmt.flow_m3_min(sys.peak_flow_m3_min),
+                    duration_s(sm.period.step_s)
+                )
+            } else {
+                format!(
+                    "{} (one analysis time step: the log's step is a minute or longer, so the top of the \
+                     flow duration curve is this same figure)",
+                    fmt.flow_m3_min(sys.peak_flow_m3_min)
+                )
+            },
+        ),
+        (
+            "Production / non-production mean flow".into(),
+            if split_withheld {
+                format!("{NOT_ENOUGH_DATA} ({})", withheld(sm, "demand.production_split"))
+            } else {
+                format!(
+                    "{} / {}",
+                    fmt.flow_m3_min(nan(d.production_mean_flow_m3_min)),
+                    fmt.flow_m3_min(nan(d.non_production_mean_flow_m3_min))
+                )
+            },
+        ),
+        (
+            "Production share of time".into(),
+            if split_withheld {
+                format!("{NOT_ENOUGH_DATA} ({})", withheld(sm, "demand.production_split"))
+            } else {
+                format!("{} ({})", fmt.percent(d.production_share_of_time), d.production_rule)
+            },
+        ),
+        (
+            "Mean power / peak 15-minute demand".into(),
+            match sys.peak_power_kw {
+                Some(p) => format!(
+                    "{} / {} (the highest mean over {} on the clock's quarter hours, as the demand charge bills it)",
+                    fmt.power_kw(sys.mean_power_kw),
+                    fmt.power_kw(p),
+                    duration_s(sys.peak_power_window_s)
+                ),
+                None => format!(
+                    "{} / peak: {} ({})",
+                    fmt.power_kw(sys.mean_power_kw),
+                    NOT_ENOUGH_DATA,
+                    withheld(sm, "system.peak_power_kw")
+                ),
+            },
+        ),
+    ]
+}
+
+pub(super) fn heat_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
+    let h = &sm.heat;
+    vec![
+        ("Heat rejected in the logged period".into(), fmt.energy_kwh(h.heat_rejected_kwh)),
+        ("Recoverable in the logged period".into(), fmt.energy_kwh(h.recoverable_kwh)),
+        ("Recoverable at full load".into(), fmt.power_kw(h.recoverable_kw_at_full_load)),
+        (
+            "Useful heat per year".into(),
+            format!(
+                "{} ({})",
+                or_nd(h.useful_heat_kwh_per_year, |v| fmt.energy_kwh(v)),
+                h.use_kind.as_str().replace('_', " ")
+            ),
+        ),
+        ("Fuel displaced per year".into(), or_nd(h.displaced_fuel_kwh_per_year, |v| fmt.energy_kwh(v))),
+        (
+            "Value per year / as process water all year".into(),
+            format!(
+                "{} / {}",
+                or_nd(h.annual_value, |v| fmt.money(v, cur)),
+                or_nd(h.process_water_annual_value, |v| fmt.money(v, cur))
+            ),
+        ),
+    ]
+}
+
+/// The transmission records priced, in the reader's units: dryers, drains, filters and the
+/// pressure drops between measuring points.
+pub(super) fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
+    let t = &sm.transmission;
+    let mut rows = vec![];
+    let words = crate::core::model::human_label;
+    for d in &t.dryers {
+        rows.push((
+            format!("Dryer {} ({}, {})", d.tag, words(&d.kind), words(&d.control)),
+            format!(
+                "purge {} ({} a year, {}); electricity {}{}",
+                fmt.flow_m3_min(d.purge_m3_min),
+                fmt.energy_kwh(d.annual_purge_kwh),
+                fmt.money(d.annual_purge_cost, cur),
+                fmt.power_kw(d.power_kw),
+                if d.dew_point_control_saving_m3_min > 0.0 {
+                    format!(
+                        "; dew-point control would purge {} less",
+                        fmt.flow_m3_min(d.dew_point_control_saving_m3_min)
+                    )
+                } else if d.cycling_saving_kw > 0.0 {
+                    format!(
+                        "; a cycling unit would draw {} less ({} a year)",
+                        fmt.power_kw(d.cycling_saving_kw),
+                        fmt.energy_kwh(d.cycling_saving_kwh)
+                    )
+                } else {
+                    String::new()
+                }
+            ),
+        ));
+    }
+    for d in &t.drains {
+        rows.push((
+            format!("Drain {} ({})", d.tag, words(&d.kind)),
+            format!(
+                "air lost {} ({} a year, {})",
+                fmt.flow_m3_min(d.air_m3_min),
+                fmt.energy_kwh(d.annual_kwh),
+                fmt.money(d.annual_cost, cur)
+            ),
+        ));
+    }
+    for f in &t.filters {
+        rows.push((
+            format!("Filter {} ({})", f.tag, words(&f.kind)),
+            format!(
+                "drop {} measured against {} clean at {} ({} clean at its rated {}, drop ∝ flow²): {} excess{}{}",
+                fmt.pressure_delta_bar(f.measured_drop_bar),
+                fmt.pressure_delta_bar(f.clean_drop_at_flow_bar),
+                fmt.flow_m3_min(f.flow_m3_min),
+                fmt.pressure_delta_bar(f.clean_drop_bar),
+                fmt.flow_m3_min(f.rated_flow_m3_min),
+                fmt.pressure_delta_bar(f.excess_drop_bar),
+                match (f.annual_kwh, f.annual_cost) {
+                    (Some(k), Some(c)) => format!(
+                        ", costing {} a year of loaded compressor energy ({})",
+                        fmt.energy_kwh(k),
+                        fmt.money(c, cur)
+                    ),
+                    _ => String::new(),
+                },
+                if f.change_recommended { "; change the element" } else { "" }
+            ),
+        ));
+    }
+    for d in &t.pressure_drops {
+        // The duration curve's 5 % point: the drop exceeded for 5 % of the logged time.
+        let p5_time = d.duration_curve_bar.get(1).copied();
+        rows.push((
+            format!(
+                "Pressure drop: {} ({}) to {} ({})",
+                d.from,
+                d.from_point.label(),
+                d.to,
+                d.to_point.label()
+            ),
+            format!(
+                "mean {}{}{}; {}",
+                fmt.pressure_delta_bar(d.mean_bar),
+                d.at_peak_flow_bar.map_or(String::new(), |x| {
+                    format!(", at high flow (the 95th percentile and above) {}", fmt.pressure_delta_bar(x))
+                }),
+                p5_time.map_or(String::new(), |x| format!(
+                    ", exceeded 5 % of the time {}",
+                    fmt.pressure_delta_bar(x)
+                )),
+                match (d.annual_energy_kwh, d.annual_cost) {
+                    (Some(k), Some(c)) => format!(
+                        "costs {} a year ({}) of extra discharge pressure",
+                        fmt.energy_kwh(k),
+                        fmt.money(c, cur)
+                    ),
+                    _ => format!("its annual cost: {NOT_ENOUGH_DATA}"),
+                }
+            ),
+        ));
+    }
+    rows
+}
+
+/// The end uses on record and the mean demand split by what uses it (ISO 11011's demand side).
+pub(super) fn end_use_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
+    let mut rows = vec![];
+    let words = crate::core::model::human_label;
+    for u in &sm.transmission.end_uses {
+        rows.push((
+            format!(
+                "End use: {} ({}{})",
+                u.name,
+                words(&u.kind),
+                if u.inappropriate { ", inappropriate" } else { "" }
+            ),
+            format!(
+                "{} in production ({} a year of compressor energy){}",
+                fmt.flow_m3_min(u.production_mean_flow_m3_min),
+                fmt.energy_kwh(u.annual_air_kwh),
+                u.alternative_saving_kwh.map_or(String::new(), |k| format!(
+                    "; an electric alternative saves {} a year",
+                    fmt.energy_kwh(k)
+                ))
+            ),
+        ));
+    }
+    if let Some(s) = &sm.demand_split {
+        let total = s.total_m3_min();
+        let part = |q: f64| {
+            if total > 0.0 {
+                format!("{} ({})", fmt.flow_m3_min(q), fmt.percent(q / total))
+            } else {
+                fmt.flow_m3_min(q)
+            }
+        };
+        rows.push(("Mean demand: production uses".into(), part(s.production_m3_min)));
+        rows.push(("Mean demand: inappropriate uses".into(), part(s.inappropriate_m3_min)));
+        rows.push(("Mean demand: dryer purge and drains".into(), part(s.purge_and_drains_m3_min)));
+        rows.push(("Mean demand: leaks".into(), part(s.leaks_m3_min)));
+        rows.push(("Mean demand: not yet explained".into(), part(s.unexplained_m3_min)));
+    }
+    rows
+}
