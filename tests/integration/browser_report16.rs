@@ -128,17 +128,7 @@ fn refused_in(b: &Browser, selector: &str, values: Value, n: usize) -> Value {
 )]
 fn the_field_test_and_what_if_forms_give_every_refusal_at_once() {
     let s = Server::start();
-    let r = s.post_json(
-        "/api/v1/audits",
-        &json!({"name": "US plant", "site": {"altitude_m": 0, "display_units": "us", "timezone": "America/Chicago"}}),
-    );
-    let id = r.json()["id"].as_i64().unwrap();
-    let r = s.post_json(
-        &format!("/api/v1/audits/{id}/compressors"),
-        &json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
-                "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5}),
-    );
-    assert_eq!(r.status, 201, "{}", r.text);
+    let id = s.us_audit_in_chicago("US plant");
     let b = Browser::start();
     b.goto(&s.url(&format!("/audits/{id}/tests")));
     b.settle();

@@ -29,17 +29,7 @@ fn flow_and_power_csv() -> String {
 )]
 fn the_window_chart_draws_what_is_logged_and_the_idle_window_is_typed_on_the_sites_clock() {
     let s = Server::start();
-    let r = s.post_json(
-        "/api/v1/audits",
-        &json!({"name": "no pressure", "site": {"altitude_m": 0, "display_units": "us", "timezone": "America/Chicago"}}),
-    );
-    let id = r.json()["id"].as_i64().unwrap();
-    let r = s.post_json(
-        &format!("/api/v1/audits/{id}/compressors"),
-        &json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
-                "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5}),
-    );
-    assert_eq!(r.status, 201, "{}", r.text);
+    let id = s.us_audit_in_chicago("no pressure");
     let mapping = json!({"delimiter": ",", "decimal": ".", "header_line": 1,
         "timestamp": {"column": "time", "format": "rfc3339", "timezone": "UTC"},
         "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"},

@@ -31,17 +31,7 @@ fn wait_for_path(b: &Browser, path: &str) {
 )]
 fn us_units_on_the_field_test_what_if_and_upload_forms() {
     let s = Server::start();
-    let r = s.post_json(
-        "/api/v1/audits",
-        &json!({"name": "US plant", "site": {"altitude_m": 0, "display_units": "us", "timezone": "America/Chicago"}}),
-    );
-    let id = r.json()["id"].as_i64().unwrap();
-    let r = s.post_json(
-        &format!("/api/v1/audits/{id}/compressors"),
-        &json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
-                "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5}),
-    );
-    assert_eq!(r.status, 201, "{}", r.text);
+    let id = s.us_audit_in_chicago("US plant");
     let r = s.post_json(&format!("/api/v1/audits/{id}/receivers"), &json!({"name": "wet", "volume_m3": 2.0}));
     assert_eq!(r.status, 201, "{}", r.text);
     let r = s.upload(id, "plant.csv", cycling_csv(2).as_bytes(), &cycling_mapping(), "");

@@ -171,7 +171,17 @@ impl Server {
 
     /// Create an audit with one load/unload compressor `tag`; returns the audit id.
     pub fn audit_with_compressor(&self, tag: &str) -> i64 {
-        let r = self.post_json("/api/v1/audits", &json!({"name": "test plant", "site": {"altitude_m": 0}}));
+        self.audit_with_site_and_compressor("test plant", json!({"altitude_m": 0}), tag)
+    }
+
+    /// A US-units audit in Chicago at sea level named `name`, with the load/unload compressor C1.
+    pub fn us_audit_in_chicago(&self, name: &str) -> i64 {
+        let site = json!({"altitude_m": 0, "display_units": "us", "timezone": "America/Chicago"});
+        self.audit_with_site_and_compressor(name, site, "C1")
+    }
+
+    fn audit_with_site_and_compressor(&self, name: &str, site: Value, tag: &str) -> i64 {
+        let r = self.post_json("/api/v1/audits", &json!({"name": name, "site": site}));
         assert_eq!(r.status, 201, "{}", r.text);
         let id = r.json()["id"].as_i64().expect("id");
         let r = self.post_json(
