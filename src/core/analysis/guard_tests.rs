@@ -118,9 +118,11 @@ fn check_invariants(sm: &Summary) -> Result<(), TestCaseError> {
             prop_assert!(sm.baseline.annual_energy_kwh.is_none() && sm.baseline.annual_cost.is_none());
             prop_assert!(sm.recommendations.is_empty());
             prop_assert!(!sm.sufficiency.reasons.is_empty());
-            prop_assert!(
-                sys.specific_power_kw_per_m3_min.is_none() && sm.baseline.cost_per_1000_m3.is_none()
-            );
+            // Power over air read from states goes; a metered ratio stands, never its price.
+            prop_assert!(sm.baseline.cost_per_1000_m3.is_none());
+            if sm.sufficiency.power_flow_hours.is_none() {
+                prop_assert!(sys.specific_power_kw_per_m3_min.is_none());
+            }
         }
         Verdict::Thin => prop_assert!(!sm.sufficiency.reasons.is_empty()),
         Verdict::Enough => prop_assert!(sm.sufficiency.reasons.is_empty()),
@@ -207,6 +209,31 @@ fn files_far_apart_in_time_are_insufficient() {
         sm.sufficiency
     );
     assert_eq!(sm.baseline.annual_energy_kwh, None);
+}
+
+#[test]
+fn a_metered_hour_too_short_for_annual_figures_keeps_its_measured_specific_power() {
+    // 50 minutes of power with a flow meter: too little for any annual figure (under an hour of
+    // power), but the meter measured the ratio of power to air for those minutes; it stands, and
+    // its price, the cost of air, which rests on the annual cost, does not.
+    let s = site();
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let n = 300;
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![
+            col(Signal::Power, Some(0), vec![50_000.0; n]),
+            col(Signal::Flow, None, vec![(8.0f64 / 60.0) as f32; n]),
+            col(Signal::Pressure, None, vec![pa(7.0); n]),
+        ],
+    };
+    let sm = run(&s, &cs, &frame);
+    assert_eq!(sm.sufficiency.verdict, Verdict::Insufficient, "{:?}", sm.sufficiency);
+    // 50 kW over 8 m³/min: 6.25 kW/(m³/min) (the ratio itself).
+    let sp = sm.system.specific_power_kw_per_m3_min.expect("a metered specific power");
+    assert!((sp - 6.25).abs() < 1e-3, "{sp}");
+    assert_eq!(sm.baseline.cost_per_1000_m3, None);
+    check_invariants(&sm).unwrap();
 }
 
 #[test]

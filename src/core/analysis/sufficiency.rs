@@ -50,9 +50,11 @@ figures add the machines up, so only those hours show the plant as one system.
 - the peak power when no 15-minute window holds every compressor's power, or when that peak falls
   below the mean power (the machines' logs do not overlap enough for a simultaneous peak); the
   demand charge, and with it the annual cost, when a demand charge is set and the peak is withheld;
-- with the verdict insufficient: the system specific power (its range, the part-load penalty) and
-  the cost of air, since the plant's demand is not known (a flow read from the states of machines
-  logged years apart is no plant's air); every annual figure (baseline, heat, compressors, leak cost) and
+- with the verdict insufficient: the cost of air, and the system specific power (its range, the
+  part-load penalty) when the air is read from the machines' states, since the plant's demand is
+  not known (a flow read from the states of machines logged years apart is no plant's air); a flow
+  meter logged with power for 30 min or more measures that ratio itself, for the time logged, and
+  it stands; every annual figure (baseline, heat, compressors, leak cost) and
   every measure, and every share of demand of the leaks (the adopted one and each estimate's);
 - with the verdict insufficient, the production split (production and non-production mean flow
   and power): its means are over the production and other bins of the whole span, the mean flow
@@ -305,14 +307,22 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         s.system.isothermal_efficiency_high = None;
         withhold(&mut w, "system.isothermal_efficiency", &why);
     }
-    // Power over air of a plant whose demand the data do not carry is no plant's figure (a flow
-    // read from the states of machines logged years apart gave 23.30 kW/(m³/min)).
+    // Power over air read from the machines' states, on data that do not carry the plant's demand,
+    // is no plant's figure (machines logged years apart gave 23.30 kW/(m³/min)). A flow meter
+    // logged with power for half an hour or more measures the ratio itself, for the time logged:
+    // it stands, but not its price, the cost of air, which rests on the annual cost.
     if verdict == Verdict::Insufficient {
         let why = format!(
             "the logged data are not enough to set the plant's power against its air: {}",
             s.sufficiency.reasons.first().map_or("", String::as_str)
         );
-        clear_specific_power(s, &mut w, &why);
+        if power_flow_hours.is_none() {
+            clear_specific_power(s, &mut w, &why);
+        } else {
+            s.baseline.cost_per_1000_m3 = None;
+            s.baseline.cost_per_1000_ft3 = None;
+            withhold(&mut w, "baseline.cost_per_1000_m3", &why);
+        }
     }
     if pressure_credible == Some(false) {
         let why = "the pressure log is not credible: it cannot be this plant's header pressure";
