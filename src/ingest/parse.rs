@@ -367,7 +367,7 @@ fn run<R: BufRead>(
     })
 }
 
-/// One end of an interval timestamp (`01.01.2021 00:00 - 01.01.2021 00:15`), split at ` - `, an
+/// One end of an interval timestamp (`14.05.2026 08:00 - 14.05.2026 08:15`), split at ` - `, an
 /// en dash or ` to `; `None` when the cell holds no such separator.
 pub fn interval_end(ts: &[u8], end: IntervalEnd) -> Option<&[u8]> {
     const SEPARATORS: [&[u8]; 4] = [b" - ", " \u{2013} ".as_bytes(), b" to ", b" bis "];

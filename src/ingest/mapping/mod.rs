@@ -98,7 +98,7 @@ pub struct TimestampSpec {
     /// both joined by one space.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub time_column: Option<String>,
-    /// The cell is an interval (`01.01.2021 00:00 - 01.01.2021 00:15`): which end stamps the row.
+    /// The cell is an interval (`14.05.2026 08:00 - 14.05.2026 08:15`): which end stamps the row.
     /// `format` reads one end; the ends are split at ` - ` (or an en dash, or ` to `).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub interval: Option<IntervalEnd>,

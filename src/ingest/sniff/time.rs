@@ -1,6 +1,6 @@
 /*!
 Finding the timestamp: one column, a date and a time column in either order, an interval
-(`01.01.2021 00:00 - 01.01.2021 00:15`), or unix / spreadsheet numbers in a column whose name says
+(`14.05.2026 08:00 - 14.05.2026 08:15`), or unix / spreadsheet numbers in a column whose name says
 time; and day-first or month-first decided from the whole sample.
 
 Rules:

@@ -76,7 +76,7 @@ impl Units {
 /// A time axis over `[from, to]` (ms UTC) with ticks at round local times of the site: hours
 /// when the span is short, midnights when it is days long (walked a calendar day at a time, so a
 /// span of years gets its ticks to the end), with the year in every label when the span crosses
-/// one ("17 Dec 2006" and "9 Sep 2013", never two bare "17 Dec").
+/// one ("13 Dec 2006" and "3 Sep 2013", never two bare "13 Dec").
 pub fn time_axis(from_ms: i64, to_ms: i64, tz: &str) -> Axis {
     let zone = jiff::tz::TimeZone::get(tz).unwrap_or(jiff::tz::TimeZone::UTC);
     let span_min = (to_ms - from_ms).max(1) as f64 / 60_000.0;
@@ -534,29 +534,30 @@ mod tests {
 
     #[test]
     fn a_span_of_years_is_ticked_to_its_end_with_the_year_in_every_label() {
-        // 2006-12-16T23:24Z (17:24 CST) to 2013-09-09T18:24Z: 2,458 days, about 3.5 million
-        // minutes, so the step is 365 days (3.5e6 / 525,600 = 6.7 intervals). Ticks at local
-        // midnights 365 days apart from the first one after the start, 17 Dec 2006; the leap days
-        // of 2008 and 2012 move them a day earlier each: 17 Dec 2007, 16 Dec 2008, 16 Dec 2009,
-        // 16 Dec 2010, 16 Dec 2011, 15 Dec 2012 (the next, 15 Dec 2013, is after the end).
-        let from = 1_166_311_440_000i64; // 2006-12-16T23:24:00Z
-        let to = 1_378_751_040_000i64; // 2013-09-09T18:24:00Z
+        // An invented span, 2006-12-12T21:10Z (15:10 CST) to 2013-09-03T16:40Z: 2,456 days, about
+        // 3.5 million minutes, so the step is 365 days (3.5e6 / 525,600 = 6.7 intervals). Ticks at
+        // local midnights 365 days apart from the first one after the start, 13 Dec 2006; the leap
+        // days of 2008 and 2012 move them a day earlier each: 13 Dec 2007, 12 Dec 2008, 12 Dec 2009,
+        // 12 Dec 2010, 12 Dec 2011, 11 Dec 2012 (the next, 11 Dec 2013, is after the end). Worked
+        // with Python's zoneinfo (IANA tz database).
+        let from = 1_165_957_800_000i64; // 2006-12-12T21:10:00Z
+        let to = 1_378_226_400_000i64; // 2013-09-03T16:40:00Z
         let a = time_axis(from, to, "America/Chicago");
         let labels: Vec<&str> = a.ticks.iter().map(|t| t.label.as_str()).collect();
         assert_eq!(
             labels,
             [
-                "17 Dec 2006",
-                "17 Dec 2007",
-                "16 Dec 2008",
-                "16 Dec 2009",
-                "16 Dec 2010",
-                "16 Dec 2011",
-                "15 Dec 2012"
+                "13 Dec 2006",
+                "13 Dec 2007",
+                "12 Dec 2008",
+                "12 Dec 2009",
+                "12 Dec 2010",
+                "12 Dec 2011",
+                "11 Dec 2012"
             ]
         );
-        // The first tick is local midnight, CST (UTC-6): 2006-12-17T06:00Z.
-        assert_eq!(a.ticks[0].at as i64, 1_166_335_200_000);
+        // The first tick is local midnight, CST (UTC-6): 2006-12-13T06:00Z.
+        assert_eq!(a.ticks[0].at as i64, 1_165_989_600_000);
         // Within one year the labels carry none.
         let a = time_axis(from + 20 * 86_400_000, from + 60 * 86_400_000, "America/Chicago");
         assert!(!a.ticks.is_empty() && a.ticks.iter().all(|t| !t.label.contains("2007")), "{:?}", a.ticks);
