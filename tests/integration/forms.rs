@@ -9,19 +9,7 @@ use serde_json::{json, Value};
 const START: i64 = 1_777_881_600;
 
 fn chicago_audit(s: &Server, units: &str) -> i64 {
-    let r = s.post_json(
-        "/api/v1/audits",
-        &json!({"name": "Chicago plant", "site": {"timezone": "America/Chicago", "display_units": units}}),
-    );
-    assert_eq!(r.status, 201, "{}", r.text);
-    let id = r.json()["id"].as_i64().unwrap();
-    let r = s.post_json(
-        &format!("/api/v1/audits/{id}/compressors"),
-        &json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
-                "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5}),
-    );
-    assert_eq!(r.status, 201, "{}", r.text);
-    id
+    s.audit_in_chicago("Chicago plant", units)
 }
 
 fn warnings(reply: &Value) -> Vec<String> {

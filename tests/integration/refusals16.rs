@@ -12,19 +12,7 @@ const BAR_PER_PSI: f64 = 6_894.757_293_168 / 1e5;
 const M3_PER_GAL: f64 = 0.003_785_411_784;
 
 fn audit(s: &Server, units: &str) -> i64 {
-    let r = s.post_json(
-        "/api/v1/audits",
-        &json!({"name": "Refusal plant", "site": {"timezone": "America/Chicago", "display_units": units}}),
-    );
-    assert_eq!(r.status, 201, "{}", r.text);
-    let id = r.json()["id"].as_i64().unwrap();
-    let r = s.post_json(
-        &format!("/api/v1/audits/{id}/compressors"),
-        &json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
-                "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5}),
-    );
-    assert_eq!(r.status, 201, "{}", r.text);
-    id
+    s.audit_in_chicago("Refusal plant", units)
 }
 
 /// The refusals of a 422 reply, field -> message, in order; the first is also the error's own.

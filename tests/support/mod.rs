@@ -176,7 +176,13 @@ impl Server {
 
     /// A US-units audit in Chicago at sea level named `name`, with the load/unload compressor C1.
     pub fn us_audit_in_chicago(&self, name: &str) -> i64 {
-        let site = json!({"altitude_m": 0, "display_units": "us", "timezone": "America/Chicago"});
+        self.audit_in_chicago(name, "us")
+    }
+
+    /// An audit in Chicago at sea level named `name`, read in `units` (`si` or `us`), with the
+    /// load/unload compressor C1.
+    pub fn audit_in_chicago(&self, name: &str, units: &str) -> i64 {
+        let site = json!({"altitude_m": 0, "display_units": units, "timezone": "America/Chicago"});
         self.audit_with_site_and_compressor(name, site, "C1")
     }
 

@@ -57,11 +57,7 @@ impl Quoted {
         match self {
             Quoted::Entry(e, units) => e.limit(units, v),
             // A long limit as a person says it: "7 days", not "604800 s".
-            Quoted::Seconds if v >= 86_400.0 && v % 86_400.0 == 0.0 => {
-                let days = v / 86_400.0;
-                format!("{days} day{}", if days == 1.0 { "" } else { "s" })
-            }
-            Quoted::Seconds if v >= 3_600.0 && v % 3_600.0 == 0.0 => format!("{} h", v / 3_600.0),
+            Quoted::Seconds if v >= 3_600.0 => crate::core::display::duration_words(v),
             Quoted::Seconds => self.say(v),
         }
     }

@@ -46,7 +46,7 @@ mod tracker;
 mod warnings;
 
 pub use tracker::QualityTracker;
-pub use warnings::{human_duration, span_warnings, SMALL_SHARE_OF_PERIOD};
+pub use warnings::{span_warnings, SMALL_SHARE_OF_PERIOD};
 
 use crate::core::recommend::{self as text, Part};
 use crate::ingest::mapping::Quantity;

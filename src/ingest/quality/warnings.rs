@@ -3,7 +3,7 @@ The findings as the short sentences of the API's `warnings` list.
 */
 
 use super::QualityReport;
-use crate::core::display::{local_ms, local_time, render_parts, Fmt};
+use crate::core::display::{duration_words, local_ms, local_time, render_parts, Fmt};
 use crate::core::recommend::Part;
 use crate::core::units::{PressureAbs, UnitSystem};
 use crate::ingest::mapping::Quantity;
@@ -19,12 +19,6 @@ fn num(v: f64) -> String {
     } else {
         s
     }
-}
-
-/// A duration for people: "45 s", "15 min", "9 h 40 min", "3 days 4 h"
-/// ([`crate::core::display::duration_words`]).
-pub fn human_duration(s: f64) -> String {
-    crate::core::display::duration_words(s)
 }
 
 /// A unit as the mapping spells it (`bar_g`), as people write it (`bar(g)`).
@@ -89,10 +83,10 @@ impl QualityReport {
                 "{}{} longer than 3x the {} logging interval",
                 at_least(f.gaps.count_at_least),
                 plural(f.gaps.count, "gap", "gaps"),
-                human_duration(f.median_interval_s.unwrap_or(0.0))
+                duration_words(f.median_interval_s.unwrap_or(0.0))
             );
             if let Some(l) = f.gaps.longest_s {
-                s += &format!("; the longest is {}", human_duration(l));
+                s += &format!("; the longest is {}", duration_words(l));
             }
             if let Some(g) = f.gaps.examples.first() {
                 s += &format!(", the first starts {}", at(&g.start));
@@ -161,7 +155,7 @@ impl QualityReport {
                     "{name}: {}{} in its readings; the longest is {}",
                     at_least(c.gaps.count_at_least),
                     plural(c.gaps.count, "gap", "gaps"),
-                    human_duration(c.gaps.longest_s.unwrap_or(0.0))
+                    duration_words(c.gaps.longest_s.unwrap_or(0.0))
                 ))]);
             }
             if let Some(fl) = c.flat_lines.examples.first() {
@@ -178,7 +172,7 @@ impl QualityReport {
                     )
                     .into(),
                     reading_part(c.quantity, longest.si, atm),
-                    format!(" for {} from {}", human_duration(longest.duration_s), at(&longest.start)).into(),
+                    format!(" for {} from {}", duration_words(longest.duration_s), at(&longest.start)).into(),
                 ]);
             }
             if let Some(o) = c.out_of_range.examples.first() {
