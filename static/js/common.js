@@ -67,6 +67,11 @@ window.airledger = {
     return part({ weekday: "short" }, "weekday") + " " + Number(p.day) + " " + part({ month: "short" }, "month") + " " +
       p.year + " " + p.hour + ":" + p.minute + " " + name;
   },
+  // Whether a mapped quantity is a machine's (its power, energy or current) and so takes a
+  // compressor; any other column belongs to none (the upload and remap pages alike).
+  machineQuantity(q) {
+    return q === "power" || q === "energy" || q === "current";
+  },
   // A count as every page writes it, digits grouped by commas ("1,999"), whatever the browser's
   // language (core::display::num on the server).
   count(n) {

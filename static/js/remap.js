@@ -32,7 +32,7 @@
         if (first) us.value = first.value; else us.value = "";
       }
       // Left enabled, so that the dash is sent and clears a compressor the column had before.
-      if (cs && !["power", "energy", "current"].includes(qs.value)) cs.value = "";
+      if (cs && !A.machineQuantity(qs.value)) cs.value = "";
     };
     qs.addEventListener("change", follow);
     follow();

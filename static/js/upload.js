@@ -176,7 +176,7 @@
       ...Object.keys(UNITS).map((k) => option(k, QUANTITY[k] || k, k === c.quantity)));
     const u = A.el("select", { class: "u" });
     // An audit with one compressor: its power (or current) is that machine's unless said otherwise.
-    const machineQuantity = ["power", "energy", "current"].includes(c.quantity);
+    const machineQuantity = A.machineQuantity(c.quantity);
     const only = data.compressors.length === 1 && !c.compressor && machineQuantity && !(taken && taken.has(c.quantity))
       ? data.compressors[0] : null;
     if (only && taken) taken.add(c.quantity);
@@ -189,7 +189,7 @@
       u.replaceChildren(...(UNITS[q.value] || []).map((x) => option(x.code, x.label, x.code === c.unit)));
       // Only a machine's power, energy or current belongs to a compressor: any other row shows
       // the dash, so the form never seems to tie a pressure or an unread column to a machine.
-      const machine = ["power", "energy", "current"].includes(q.value);
+      const machine = A.machineQuantity(q.value);
       comp.disabled = !machine;
       if (!machine) comp.value = "";
       else if (!comp.value) comp.value = c.compressor || only || "";
@@ -247,7 +247,7 @@
       if (!quantity) continue;
       const col = { column: row.getAttribute("data-column"), quantity: quantity, unit: row.querySelector(".u").value };
       const comp = row.querySelector(".c").value;
-      if (comp && ["power", "energy", "current"].includes(quantity)) col.compressor = comp;
+      if (comp && A.machineQuantity(quantity)) col.compressor = comp;
       if (quantity === "current") {
         col.volts = numOr(row, "volts"); col.phases = numOr(row, "phases"); col.power_factor = numOr(row, "pf");
         col.unloaded_power_factor = numOr(row, "upf"); col.unloaded_below_a = numOr(row, "ubelow");
