@@ -84,7 +84,7 @@ fn three_files_apart_in_time_give_no_annual_figure_and_say_why() {
     let w = warnings(&third);
     assert!(
         w.iter().any(|x| x.starts_with("header bar: 24 readings out of range (negative gauge pressure")
-            && x.contains("the first is -0.30 bar(g) at line 2 (as logged: -0.3)")),
+            && x.contains("the first is -0.30 bar(g) at line 2 (as logged: -0.3 bar(g))")),
         "{w:?}"
     );
     assert!(w.iter().any(|x| x.contains("does not overlap")), "{w:?}");

@@ -1,7 +1,7 @@
 //! Issue 16: an upload's data-quality warnings speak the reader's units. A negative gauge
 //! pressure logged in bar(g) is quoted, with the limit it broke, in psig on a US audit's pages and
 //! in bar(g) on an SI audit's, rounded as every figure; the value as the file logged it stays only
-//! as a reference beside its line ("as logged: -0.273216"). The upload reply carries the warnings
+//! as a reference beside its line ("as logged: -0.273216 bar(g)", in the file's own unit). The upload reply carries the warnings
 //! in parts (`warning_parts`, one for one with `warnings`).
 
 use crate::support::*;
@@ -52,7 +52,7 @@ fn quality_warnings_quote_readings_in_the_readers_units() {
     assert!(
         warnings[i]
             .starts_with("header bar: 12 readings out of range (negative gauge pressure, below -0.10 bar(g)")
-            && warnings[i].ends_with("the first is -0.27 bar(g) at line 7 (as logged: -0.273216)"),
+            && warnings[i].ends_with("the first is -0.27 bar(g) at line 7 (as logged: -0.273216 bar(g))"),
         "{}",
         warnings[i]
     );
@@ -75,11 +75,13 @@ fn quality_warnings_quote_readings_in_the_readers_units() {
         let page = s.get(&path).text;
         assert!(
             page.contains("below -1.5 psig")
-                && page.contains("the first is -4.0 psig at line 7 (as logged: -0.273216)"),
+                && page.contains("the first is -4.0 psig at line 7 (as logged: -0.273216 bar(g))"),
             "{path}: no warning in psig"
         );
+        // The file's own literal keeps the file's unit beside it; no figure is in bar(g).
+        let figures = page.replace("(as logged: -0.273216 bar(g))", "");
         assert!(
-            !page.contains("-0.273216 bar(g)") && !page.contains("-0.1 bar(g)"),
+            !figures.contains("-0.273216") && !figures.contains("-0.1 bar(g)"),
             "{path}: bar(g) in a US audit"
         );
     }

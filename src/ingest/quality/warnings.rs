@@ -184,7 +184,10 @@ impl QualityReport {
                 p.extend(super::tracker::range_parts(c.quantity, o.below));
                 p.push("), kept; the first is ".into());
                 p.push(reading_part(c.quantity, o.si, atm));
-                p.push(format!(" at line {} (as logged: {})", o.line, num(o.value)).into());
+                p.push(
+                    format!(" at line {} (as logged: {} {})", o.line, num(o.value), unit_words(&c.unit))
+                        .into(),
+                );
                 w.push(p);
             }
             for i in &c.implausible {
@@ -195,7 +198,10 @@ impl QualityReport {
                     Some(h) if h.line == i.line => p.push(reading_part(c.quantity, h.si, atm)),
                     _ => p.push(format!("{} {}", num(i.value), unit_words(&i.unit)).into()),
                 }
-                p.push(format!(" at line {} (as logged: {})", i.line, num(i.value)).into());
+                p.push(
+                    format!(" at line {} (as logged: {} {})", i.line, num(i.value), unit_words(&i.unit))
+                        .into(),
+                );
                 w.push(p);
             }
             if let Some(d) = c.counter_drops.examples.first() {
