@@ -240,7 +240,7 @@ def f03(path):
     # A preamble padded with commas, then date and time columns (month first, 12-hour clock); the
     # temperature in °C and a water level in feet (a head of water, gauge, if a proposal maps it).
     lines = lines_of(path, "latin-1")
-    h = first_line(lines, lambda l: l.startswith("Date,Time"))
+    h = first_line(lines, lambda l: l.lower().startswith("date,time"))
 
     def choose(hd):
         cols = pick(hd, lambda x: x.upper() == "TEMPERATURE", lambda _: Col("temperature", c_to_k, True))
@@ -257,8 +257,8 @@ def f04(path):
     lines = lines_of(path, "utf-8")
 
     def choose(hd):
-        cols = pick(hd, lambda h: h.endswith("AC Power [kW]"), lambda _: power(1e3))
-        cols.update(pick(hd, lambda h: h.endswith("Temp [C]"), lambda _: Col("temperature", c_to_k, True)))
+        cols = pick(hd, lambda h: "power" in h.lower() and h.endswith("[kW]"), lambda _: power(1e3))
+        cols.update(pick(hd, lambda h: "temp" in h.lower() and h.endswith("[C]"), lambda _: Col("temperature", c_to_k, True)))
         return cols
 
     return read(table(lines, 0, 1, ",", ".", choose,
@@ -368,8 +368,9 @@ def f10(path):
         cols = {}
         for h in hd:
             parts = h.split("_")
-            if len(parts) == 3 and parts[0] == "PowerP" and parts[2] in ("avg", "min", "max"):
-                cols[h] = power(1.0, required=(parts[1], parts[2]) == ("Total", "avg"))
+            # "power" and P, the symbol of active power (IEC 60050-131; S is apparent, Q reactive).
+            if len(parts) == 3 and parts[0].lower() == "power" + "p" and parts[2].lower() in ("avg", "min", "max"):
+                cols[h] = power(1.0, required=(parts[1].lower(), parts[2].lower()) == ("total", "avg"))
         return cols
 
     return read(table(lines, 0, 1, ";", ".", choose,
@@ -397,7 +398,7 @@ def f12(path):
     lines = lines_of(path, "utf-8")
     unq = lambda s: s.strip().strip('"')
     header = [unq(h) for h in lines[0].split('","')]
-    cols = pick(header, lambda h: "[MW]" in h, lambda h: power(1e6, required=h.startswith("Actual")))
+    cols = pick(header, lambda h: "[MW]" in h, lambda h: power(1e6, required="actual" in h.lower()))
     rows = []
     for line in lines[1:]:
         if not line.strip():
@@ -428,7 +429,8 @@ def f15(path):
     lines = lines_of(path, "latin-1")
     # The header is the line that starts with the date-and-time column and names the elapsed
     # seconds beside it (a report section above it also starts with the date).
-    h = first_line(lines, lambda l: l.startswith("Date and Time;") and "seconds" in l.lower())
+    h = first_line(lines, lambda l: "date" in l.split(";")[0].lower() and "time" in l.split(";")[0].lower()
+                   and "seconds" in l.lower())
     return read(table(lines, h, h + 1, ";", ".",
                       lambda hd: pick(hd, lambda x: x.startswith("Temperature") and "(C)" in x, lambda _: Col("temperature", c_to_k, True)),
                       lambda f, _: utc(datetime.strptime(f[0].strip(), "%d.%m.%Y %H:%M:%S"))))
