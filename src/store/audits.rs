@@ -120,36 +120,44 @@ fn degree_days_text(d: &[f64]) -> String {
     d.iter().map(|x| x.to_string()).collect::<Vec<_>>().join(",")
 }
 
+/// The site's values bound in the order of [`SITE_COLUMNS`], after what `q` has bound already.
+fn bind_site<'q>(q: SqliteQuery<'q>, site: &'q SiteRecord) -> SqliteQuery<'q> {
+    q.bind(site.altitude_m)
+        .bind(site.atmospheric_pressure_override_kpa_abs)
+        .bind(site.inlet_temperature_c)
+        .bind(&site.timezone)
+        .bind(site.electricity_price_per_kwh)
+        .bind(site.demand_charge_per_kw_month)
+        .bind(&site.currency)
+        .bind(site.operating_weeks_per_year)
+        .bind(site.operating_hours_per_year)
+        .bind(site.display_units.as_str())
+        .bind(site.heating_fuel_price_per_kwh)
+        .bind(site.heater_efficiency)
+        .bind(months_text(&site.heating_months))
+        .bind(&site.heat_use)
+        .bind(site.grid_co2_kg_per_kwh)
+        .bind(site.fuel_co2_kg_per_kwh)
+        .bind(site.other_volume_m3)
+        .bind(degree_days_text(&site.heating_degree_days_k_day))
+        .bind(site.annual_space_heat_kwh)
+}
+
+type SqliteQuery<'q> = sqlx::query::Query<'q, sqlx::Sqlite, sqlx::sqlite::SqliteArguments<'q>>;
+
+/// `SITE_COLUMNS` as `a = ?, b = ?, ...` for an UPDATE.
+fn site_assignments() -> String {
+    SITE_COLUMNS.split(',').map(|c| format!("{} = ?", c.trim())).collect::<Vec<_>>().join(", ")
+}
+
 pub async fn create_audit(pool: &SqlitePool, name: &str, site: &SiteRecord) -> Result<i64, StoreError> {
     let mut tx = begin_write(pool).await?;
-    let id = sqlx::query(&format!(
-        "INSERT INTO audit (name, created_at, {SITE_COLUMNS}) \
-         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)"
-    ))
-    .bind(name)
-    .bind(now_rfc3339())
-    .bind(site.altitude_m)
-    .bind(site.atmospheric_pressure_override_kpa_abs)
-    .bind(site.inlet_temperature_c)
-    .bind(&site.timezone)
-    .bind(site.electricity_price_per_kwh)
-    .bind(site.demand_charge_per_kw_month)
-    .bind(&site.currency)
-    .bind(site.operating_weeks_per_year)
-    .bind(site.operating_hours_per_year)
-    .bind(site.display_units.as_str())
-    .bind(site.heating_fuel_price_per_kwh)
-    .bind(site.heater_efficiency)
-    .bind(months_text(&site.heating_months))
-    .bind(&site.heat_use)
-    .bind(site.grid_co2_kg_per_kwh)
-    .bind(site.fuel_co2_kg_per_kwh)
-    .bind(site.other_volume_m3)
-    .bind(degree_days_text(&site.heating_degree_days_k_day))
-    .bind(site.annual_space_heat_kwh)
-    .execute(&mut *tx)
-    .await?
-    .last_insert_rowid();
+    let marks = vec!["?"; SITE_COLUMNS.split(',').count()].join(", ");
+    let sql = format!("INSERT INTO audit (name, created_at, {SITE_COLUMNS}) VALUES (?, ?, {marks})");
+    let id = bind_site(sqlx::query(&sql).bind(name).bind(now_rfc3339()), site)
+        .execute(&mut *tx)
+        .await?
+        .last_insert_rowid();
     tx.commit().await?;
     Ok(id)
 }
@@ -163,40 +171,14 @@ pub async fn update_audit(
     site: &SiteRecord,
 ) -> Result<(), StoreError> {
     let mut tx = begin_write(pool).await?;
-    sqlx::query(
-        "UPDATE audit SET name = ?, auditor = ?, notes = ?, altitude_m = ?, atmospheric_pressure_kpa_abs = ?, \
-         inlet_temperature_c = ?, timezone = ?, electricity_price_per_kwh = ?, demand_charge_per_kw_month = ?, \
-         currency = ?, operating_weeks_per_year = ?, operating_hours_per_year = ?, display_units = ?, \
-         heating_fuel_price_per_kwh = ?, heater_efficiency = ?, heating_months = ?, heat_use = ?, \
-         grid_co2_kg_per_kwh = ?, fuel_co2_kg_per_kwh = ?, other_volume_m3 = ?, \
-         heating_degree_days_k_day = ?, annual_space_heat_kwh = ?, revision = revision + 1 \
-         WHERE id = ?",
-    )
-    .bind(name)
-    .bind(auditor)
-    .bind(notes)
-    .bind(site.altitude_m)
-    .bind(site.atmospheric_pressure_override_kpa_abs)
-    .bind(site.inlet_temperature_c)
-    .bind(&site.timezone)
-    .bind(site.electricity_price_per_kwh)
-    .bind(site.demand_charge_per_kw_month)
-    .bind(&site.currency)
-    .bind(site.operating_weeks_per_year)
-    .bind(site.operating_hours_per_year)
-    .bind(site.display_units.as_str())
-    .bind(site.heating_fuel_price_per_kwh)
-    .bind(site.heater_efficiency)
-    .bind(months_text(&site.heating_months))
-    .bind(&site.heat_use)
-    .bind(site.grid_co2_kg_per_kwh)
-    .bind(site.fuel_co2_kg_per_kwh)
-    .bind(site.other_volume_m3)
-    .bind(degree_days_text(&site.heating_degree_days_k_day))
-    .bind(site.annual_space_heat_kwh)
-    .bind(id)
-    .execute(&mut *tx)
-    .await?;
+    let sql = format!(
+        "UPDATE audit SET name = ?, auditor = ?, notes = ?, {}, revision = revision + 1 WHERE id = ?",
+        site_assignments()
+    );
+    bind_site(sqlx::query(&sql).bind(name).bind(auditor).bind(notes), site)
+        .bind(id)
+        .execute(&mut *tx)
+        .await?;
     tx.commit().await?;
     Ok(())
 }
