@@ -386,18 +386,12 @@ pub async fn add_receiver(
     volume_m3: f64,
     notes: &str,
 ) -> Result<i64, StoreError> {
-    let mut tx = begin_write(pool).await?;
-    let id = sqlx::query("INSERT INTO receiver (audit_id, name, volume_m3, notes) VALUES (?, ?, ?, ?)")
+    let q = sqlx::query("INSERT INTO receiver (audit_id, name, volume_m3, notes) VALUES (?, ?, ?, ?)")
         .bind(audit_id)
         .bind(name)
         .bind(volume_m3)
-        .bind(notes)
-        .execute(&mut *tx)
-        .await?
-        .last_insert_rowid();
-    bump(&mut tx, audit_id).await?;
-    tx.commit().await?;
-    Ok(id)
+        .bind(notes);
+    Ok(revise(pool, audit_id, q).await?.last_insert_rowid())
 }
 
 /// Edit a receiver; `false` if the audit has no such receiver.
@@ -409,22 +403,14 @@ pub async fn update_receiver(
     volume_m3: f64,
     notes: &str,
 ) -> Result<bool, StoreError> {
-    let mut tx = begin_write(pool).await?;
-    let n =
+    let q =
         sqlx::query("UPDATE receiver SET name = ?, volume_m3 = ?, notes = ? WHERE id = ? AND audit_id = ?")
             .bind(name)
             .bind(volume_m3)
             .bind(notes)
             .bind(id)
-            .bind(audit_id)
-            .execute(&mut *tx)
-            .await?
-            .rows_affected();
-    if n > 0 {
-        bump(&mut tx, audit_id).await?;
-    }
-    tx.commit().await?;
-    Ok(n > 0)
+            .bind(audit_id);
+    Ok(revise(pool, audit_id, q).await?.rows_affected() > 0)
 }
 
 pub async fn delete_receiver(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
@@ -621,6 +607,22 @@ pub async fn remembered_mapping(pool: &SqlitePool, layout_key: &str) -> Result<O
 }
 
 /// Mark the audit changed (inside the caller's write transaction).
+/// Run one write of audit `audit_id`'s records in its own transaction, with a new revision of the
+/// audit when it changed a row (every figure that follows the records is then worked out again).
+pub(crate) async fn revise(
+    pool: &SqlitePool,
+    audit_id: i64,
+    q: SqliteQuery<'_>,
+) -> Result<sqlx::sqlite::SqliteQueryResult, StoreError> {
+    let mut tx = begin_write(pool).await?;
+    let done = q.execute(&mut *tx).await?;
+    if done.rows_affected() > 0 {
+        bump(&mut tx, audit_id).await?;
+    }
+    tx.commit().await?;
+    Ok(done)
+}
+
 pub async fn bump(tx: &mut sqlx::SqliteConnection, audit_id: i64) -> Result<(), sqlx::Error> {
     sqlx::query("UPDATE audit SET revision = revision + 1 WHERE id = ?")
         .bind(audit_id)

@@ -43,21 +43,15 @@ pub async fn add_field_test(
     input: &serde_json::Value,
     result: &serde_json::Value,
 ) -> Result<i64, StoreError> {
-    let mut tx = begin_write(pool).await?;
-    let id = sqlx::query(
+    let q = sqlx::query(
         "INSERT INTO field_test (audit_id, kind, input, result, created_at) VALUES (?, ?, ?, ?, ?)",
     )
     .bind(audit_id)
     .bind(kind)
     .bind(input.to_string())
     .bind(result.to_string())
-    .bind(now_rfc3339())
-    .execute(&mut *tx)
-    .await?
-    .last_insert_rowid();
-    bump(&mut tx, audit_id).await?;
-    tx.commit().await?;
-    Ok(id)
+    .bind(now_rfc3339());
+    Ok(revise(pool, audit_id, q).await?.last_insert_rowid())
 }
 
 /// Replace a field test's input and result (an edit); `false` if the audit has no such test.
@@ -69,22 +63,14 @@ pub async fn replace_field_test(
     input: &serde_json::Value,
     result: &serde_json::Value,
 ) -> Result<bool, StoreError> {
-    let mut tx = begin_write(pool).await?;
-    let n =
+    let q =
         sqlx::query("UPDATE field_test SET kind = ?, input = ?, result = ? WHERE id = ? AND audit_id = ?")
             .bind(kind)
             .bind(input.to_string())
             .bind(result.to_string())
             .bind(id)
-            .bind(audit_id)
-            .execute(&mut *tx)
-            .await?
-            .rows_affected();
-    if n > 0 {
-        bump(&mut tx, audit_id).await?;
-    }
-    tx.commit().await?;
-    Ok(n > 0)
+            .bind(audit_id);
+    Ok(revise(pool, audit_id, q).await?.rows_affected() > 0)
 }
 
 pub async fn delete_field_test(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {

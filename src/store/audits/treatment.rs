@@ -33,18 +33,12 @@ pub async fn add_treatment_item(
     kind: &'static str,
     body: &str,
 ) -> Result<i64, StoreError> {
-    let mut tx = begin_write(pool).await?;
-    let id = sqlx::query("INSERT INTO treatment_item (audit_id, kind, body, created_at) VALUES (?, ?, ?, ?)")
+    let q = sqlx::query("INSERT INTO treatment_item (audit_id, kind, body, created_at) VALUES (?, ?, ?, ?)")
         .bind(audit_id)
         .bind(kind)
         .bind(body)
-        .bind(now_rfc3339())
-        .execute(&mut *tx)
-        .await?
-        .last_insert_rowid();
-    bump(&mut tx, audit_id).await?;
-    tx.commit().await?;
-    Ok(id)
+        .bind(now_rfc3339());
+    Ok(revise(pool, audit_id, q).await?.last_insert_rowid())
 }
 
 /// Replace a record's body; `false` if the audit has no such record of that kind.
@@ -55,20 +49,12 @@ pub async fn update_treatment_item(
     id: i64,
     body: &str,
 ) -> Result<bool, StoreError> {
-    let mut tx = begin_write(pool).await?;
-    let n = sqlx::query("UPDATE treatment_item SET body = ? WHERE id = ? AND audit_id = ? AND kind = ?")
+    let q = sqlx::query("UPDATE treatment_item SET body = ? WHERE id = ? AND audit_id = ? AND kind = ?")
         .bind(body)
         .bind(id)
         .bind(audit_id)
-        .bind(kind)
-        .execute(&mut *tx)
-        .await?
-        .rows_affected();
-    if n > 0 {
-        bump(&mut tx, audit_id).await?;
-    }
-    tx.commit().await?;
-    Ok(n > 0)
+        .bind(kind);
+    Ok(revise(pool, audit_id, q).await?.rows_affected() > 0)
 }
 
 /// Delete a record; `false` if the audit has no such record of that kind.
@@ -78,17 +64,9 @@ pub async fn delete_treatment_item(
     kind: &'static str,
     id: i64,
 ) -> Result<bool, StoreError> {
-    let mut tx = begin_write(pool).await?;
-    let n = sqlx::query("DELETE FROM treatment_item WHERE id = ? AND audit_id = ? AND kind = ?")
+    let q = sqlx::query("DELETE FROM treatment_item WHERE id = ? AND audit_id = ? AND kind = ?")
         .bind(id)
         .bind(audit_id)
-        .bind(kind)
-        .execute(&mut *tx)
-        .await?
-        .rows_affected();
-    if n > 0 {
-        bump(&mut tx, audit_id).await?;
-    }
-    tx.commit().await?;
-    Ok(n > 0)
+        .bind(kind);
+    Ok(revise(pool, audit_id, q).await?.rows_affected() > 0)
 }
