@@ -145,15 +145,22 @@ fn bind_site<'q>(q: SqliteQuery<'q>, site: &'q SiteRecord) -> SqliteQuery<'q> {
 
 type SqliteQuery<'q> = sqlx::query::Query<'q, sqlx::Sqlite, sqlx::sqlite::SqliteArguments<'q>>;
 
-/// `SITE_COLUMNS` as `a = ?, b = ?, ...` for an UPDATE.
-fn site_assignments() -> String {
-    SITE_COLUMNS.split(',').map(|c| format!("{} = ?", c.trim())).collect::<Vec<_>>().join(", ")
+/// A column list `a, b, ...` as `a = ?, b = ?, ...` for an UPDATE.
+fn assignments(columns: &str) -> String {
+    columns.split(',').map(|c| format!("{} = ?", c.trim())).collect::<Vec<_>>().join(", ")
+}
+
+/// As many `?` as `columns` names, for an INSERT.
+fn marks(columns: &str) -> String {
+    vec!["?"; columns.split(',').count()].join(", ")
 }
 
 pub async fn create_audit(pool: &SqlitePool, name: &str, site: &SiteRecord) -> Result<i64, StoreError> {
     let mut tx = begin_write(pool).await?;
-    let marks = vec!["?"; SITE_COLUMNS.split(',').count()].join(", ");
-    let sql = format!("INSERT INTO audit (name, created_at, {SITE_COLUMNS}) VALUES (?, ?, {marks})");
+    let sql = format!(
+        "INSERT INTO audit (name, created_at, {SITE_COLUMNS}) VALUES (?, ?, {})",
+        marks(SITE_COLUMNS)
+    );
     let id = bind_site(sqlx::query(&sql).bind(name).bind(now_rfc3339()), site)
         .execute(&mut *tx)
         .await?
@@ -173,7 +180,7 @@ pub async fn update_audit(
     let mut tx = begin_write(pool).await?;
     let sql = format!(
         "UPDATE audit SET name = ?, auditor = ?, notes = ?, {}, revision = revision + 1 WHERE id = ?",
-        site_assignments()
+        assignments(SITE_COLUMNS)
     );
     bind_site(sqlx::query(&sql).bind(name).bind(auditor).bind(notes), site)
         .bind(id)
@@ -275,83 +282,64 @@ pub enum CompressorWrite {
     TagTaken,
 }
 
+/// A compressor's stored columns, in the order [`bind_compressor`] binds them.
+const COMPRESSOR_COLUMNS: &str = "tag, kind, control, cooling, rated_power_kw, rated_flow_m3_min, \
+    rated_pressure_bar_g, unloaded_power_fraction, stages, rated_specific_power_kw_per_m3_min, \
+    power_curve, year, notes, no_load_power_kw, nameplate_motor_kw, max_pressure_bar_g, \
+    unloaded_level_kw, loaded_level_kw";
+
+/// A compressor's values bound in the order of [`COMPRESSOR_COLUMNS`], after what `q` has bound.
+fn bind_compressor<'q>(q: SqliteQuery<'q>, rec: &'q CompressorRecord) -> SqliteQuery<'q> {
+    let c = &rec.spec;
+    q.bind(&c.tag)
+        .bind(c.kind.as_str())
+        .bind(c.control.as_str())
+        .bind(c.cooling.as_str())
+        .bind(c.rated_power_kw)
+        .bind(c.rated_flow_m3_min)
+        .bind(c.rated_pressure_bar_g)
+        .bind(c.unloaded_power_fraction)
+        .bind(c.stages as i64)
+        .bind(c.rated_specific_power_kw_per_m3_min)
+        .bind(serde_json::to_string(&c.power_curve).unwrap_or_else(|_| "[]".into()))
+        .bind(c.year.map(i64::from))
+        .bind(&rec.notes)
+        .bind(c.no_load_power_kw)
+        .bind(c.nameplate_motor_kw)
+        .bind(c.max_pressure_bar_g)
+        .bind(c.unloaded_level_kw)
+        .bind(c.loaded_level_kw)
+}
+
 /// Insert a compressor, or update the one with the same id (`c.id != 0`).
 pub async fn save_compressor(
     pool: &SqlitePool,
     audit_id: i64,
     rec: &CompressorRecord,
 ) -> Result<CompressorWrite, StoreError> {
-    let c = &rec.spec;
     let mut tx = begin_write(pool).await?;
     let clash: Option<i64> =
         sqlx::query_scalar("SELECT id FROM compressor WHERE audit_id = ? AND tag = ? AND id != ?")
             .bind(audit_id)
-            .bind(&c.tag)
+            .bind(&rec.spec.tag)
             .bind(rec.id)
             .fetch_optional(&mut *tx)
             .await?;
     if clash.is_some() {
         return Ok(CompressorWrite::TagTaken);
     }
-    let curve = serde_json::to_string(&c.power_curve).unwrap_or_else(|_| "[]".into());
     let id = if rec.id == 0 {
-        sqlx::query(
-            "INSERT INTO compressor (audit_id, tag, kind, control, cooling, rated_power_kw, rated_flow_m3_min, \
-             rated_pressure_bar_g, unloaded_power_fraction, stages, rated_specific_power_kw_per_m3_min, \
-             power_curve, year, notes, no_load_power_kw, nameplate_motor_kw, max_pressure_bar_g, \
-             unloaded_level_kw, loaded_level_kw) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
-        )
-        .bind(audit_id)
-        .bind(&c.tag)
-        .bind(c.kind.as_str())
-        .bind(c.control.as_str())
-        .bind(c.cooling.as_str())
-        .bind(c.rated_power_kw)
-        .bind(c.rated_flow_m3_min)
-        .bind(c.rated_pressure_bar_g)
-        .bind(c.unloaded_power_fraction)
-        .bind(c.stages as i64)
-        .bind(c.rated_specific_power_kw_per_m3_min)
-        .bind(curve)
-        .bind(c.year.map(i64::from))
-        .bind(&rec.notes)
-        .bind(c.no_load_power_kw)
-        .bind(c.nameplate_motor_kw)
-        .bind(c.max_pressure_bar_g)
-        .bind(c.unloaded_level_kw)
-        .bind(c.loaded_level_kw)
-        .execute(&mut *tx)
-        .await?
-        .last_insert_rowid()
+        let sql = format!(
+            "INSERT INTO compressor (audit_id, {COMPRESSOR_COLUMNS}) VALUES (?, {})",
+            marks(COMPRESSOR_COLUMNS)
+        );
+        bind_compressor(sqlx::query(&sql).bind(audit_id), rec).execute(&mut *tx).await?.last_insert_rowid()
     } else {
-        sqlx::query(
-            "UPDATE compressor SET tag = ?, kind = ?, control = ?, cooling = ?, rated_power_kw = ?, \
-             rated_flow_m3_min = ?, rated_pressure_bar_g = ?, unloaded_power_fraction = ?, stages = ?, \
-             rated_specific_power_kw_per_m3_min = ?, power_curve = ?, year = ?, notes = ?, no_load_power_kw = ?, \
-             nameplate_motor_kw = ?, max_pressure_bar_g = ?, unloaded_level_kw = ?, loaded_level_kw = ? WHERE id = ? AND audit_id = ?",
-        )
-        .bind(&c.tag)
-        .bind(c.kind.as_str())
-        .bind(c.control.as_str())
-        .bind(c.cooling.as_str())
-        .bind(c.rated_power_kw)
-        .bind(c.rated_flow_m3_min)
-        .bind(c.rated_pressure_bar_g)
-        .bind(c.unloaded_power_fraction)
-        .bind(c.stages as i64)
-        .bind(c.rated_specific_power_kw_per_m3_min)
-        .bind(curve)
-        .bind(c.year.map(i64::from))
-        .bind(&rec.notes)
-        .bind(c.no_load_power_kw)
-        .bind(c.nameplate_motor_kw)
-        .bind(c.max_pressure_bar_g)
-        .bind(c.unloaded_level_kw)
-        .bind(c.loaded_level_kw)
-        .bind(rec.id)
-        .bind(audit_id)
-        .execute(&mut *tx)
-        .await?;
+        let sql = format!(
+            "UPDATE compressor SET {} WHERE id = ? AND audit_id = ?",
+            assignments(COMPRESSOR_COLUMNS)
+        );
+        bind_compressor(sqlx::query(&sql), rec).bind(rec.id).bind(audit_id).execute(&mut *tx).await?;
         rec.id
     };
     bump(&mut tx, audit_id).await?;
