@@ -48,11 +48,44 @@ window.airledger = {
     for (const x of f.formatToParts(new Date(ms))) p[x.type] = x.value;
     return p;
   },
+  // The site's offset from UTC at instant `ms`, in ms (+3600000 for CET).
+  offsetMs(ms, tz) {
+    const p = this.wall(ms, tz);
+    return Date.UTC(+p.year, +p.month - 1, +p.day, +p.hour, +p.minute, +p.second) - Math.floor(ms / 1000) * 1000;
+  },
+  // A time axis' afterBuildTicks: within a few days, as many ticks as labels of ~120 px fit its
+  // width (at most `limit`), at round times of the site's clock (a minute to 12 h: the smallest
+  // step that fits; 00:00 and 12:00 in Berlin, not 01:00 and 13:00), never at the data's own first
+  // and last instants, whose labels fell beside a round tick and ran into it ("11:40Fri 24 Jun
+  // 14:26"). Longer spans keep the chart library's own ticks.
+  roundTicks(tz, limit) {
+    const STEPS_MIN = [1, 5, 10, 15, 30, 60, 120, 180, 360, 720];
+    return (scale) => {
+      const fit = Math.max(2, Math.min(limit, Math.floor(scale.width / 120)));
+      const m = STEPS_MIN.find((x) => (scale.max - scale.min) / (x * 60000) <= fit - 1);
+      if (!m || !isFinite(scale.min) || !isFinite(scale.max)) return;
+      const step = m * 60000;
+      // The first round time of the site's clock at or after `t`: rounded on the clock at `t`, then
+      // taken back to UTC with the offset in force at that round time (a change of clocks within
+      // the axis keeps the ticks on round local times: 00:00, 06:00 CEST, 12:00 on 29 Mar in
+      // Berlin). A round time the clocks skip gives way to the step after it.
+      const next = (t) => {
+        const o = this.offsetMs(t, tz), round = Math.ceil((t + o) / step) * step;
+        return round - this.offsetMs(round - o, tz);
+      };
+      const ticks = [];
+      for (let v = next(scale.min); v <= scale.max; ) {
+        ticks.push({ value: v });
+        const w = next(v + 1);
+        v = w > v ? w : next(v + step);
+      }
+      if (ticks.length >= 2) scale.ticks = ticks;
+    };
+  },
   // RFC 3339 with the site's offset: "2026-03-15T02:00:00-06:00".
   isoLocal(ms, tz) {
+    const off = Math.round(this.offsetMs(ms, tz) / 60000);
     const p = this.wall(ms, tz);
-    const asUtc = Date.UTC(+p.year, +p.month - 1, +p.day, +p.hour, +p.minute, +p.second);
-    const off = Math.round((asUtc - Math.floor(ms / 1000) * 1000) / 60000);
     const sign = off < 0 ? "-" : "+", a = Math.abs(off);
     const pad = (n) => String(n).padStart(2, "0");
     return p.year + "-" + p.month + "-" + p.day + "T" + p.hour + ":" + p.minute + ":" + p.second +

@@ -23,23 +23,7 @@
   }
 
   const timeAxis = { type: "linear", ticks: { maxTicksLimit: window.innerWidth < 640 ? 4 : 7, maxRotation: 0 } };
-  // Within a few days, ticks at round times (a minute to 12 h, the smallest step giving at most the
-  // tick limit; multiples of the step from the epoch, so round hours of the site for a zone a whole
-  // number of hours from UTC), and not at the data's own first and last instants: those fell
-  // beside a round tick and their labels ran into it ("11:40Fri 24 Jun 14:26"). Longer spans keep
-  // the chart library's own ticks.
-  const STEPS_MIN = [1, 5, 10, 15, 30, 60, 120, 180, 360, 720];
   const timeTicks = (range) => Object.assign({}, timeAxis.ticks, { callback: (v) => fmtTime(v, range) });
-  // Set as the axis' afterBuildTicks: as many round ticks as labels of ~120 px fit its width.
-  const roundTicks = (scale) => {
-    const fit = Math.max(2, Math.min(timeAxis.ticks.maxTicksLimit, Math.floor(scale.width / 120)));
-    const m = STEPS_MIN.find((x) => (scale.max - scale.min) / (x * 60000) <= fit - 1);
-    if (!m || !isFinite(scale.min) || !isFinite(scale.max)) return;
-    const step = m * 60000;
-    const ticks = [];
-    for (let v = Math.ceil(scale.min / step) * step; v <= scale.max; v += step) ticks.push({ value: v });
-    if (ticks.length >= 2) scale.ticks = ticks;
-  };
   const u = d.units;
   const convert = {
     power: (v) => v / 1000,
@@ -91,7 +75,7 @@
         note.hidden = xs.length > 0;
         note.textContent = xs.length ? "" : nothing[quantity] + (day ? " on " + day : "") + ".";
       }
-      const x = Object.assign({}, timeAxis, range, { ticks: timeTicks(range), afterBuildTicks: roundTicks });
+      const x = Object.assign({}, timeAxis, range, { ticks: timeTicks(range), afterBuildTicks: A.roundTicks(d.timezone, timeAxis.ticks.maxTicksLimit) });
       make("chart-" + quantity, {
         type: "line",
         data: { datasets: datasets },

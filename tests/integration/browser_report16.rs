@@ -36,6 +36,44 @@ fn the_supply_table_fits_1280_px() {
     assert!(page <= 1280.0, "the page is {page} px wide at 1280 px");
 }
 
+/// The report's day charts tick at round times of the site's clock, not of UTC: a Berlin day
+/// (CET = UTC+1 on 15 Mar 2026, CEST = UTC+2 from 02:00 on 29 Mar 2026, the last Sunday of March:
+/// IANA tz database, EU summer-time rule) ticks at 00:00, 06:00, 12:00 and 18:00 local, where
+/// multiples of six hours from the epoch fell at 01:00, 07:00... (walk16e, "Sun 15 Mar 01:00").
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn day_charts_tick_at_round_times_of_the_sites_clock() {
+    let server = Server::demo();
+    let b = Browser::start();
+    b.goto(&server.url("/audits/1/report"));
+    b.settle();
+    // The chart's own afterBuildTicks on an axis 1000 px wide over one local day, read back as the
+    // site's wall-clock hour and minute of each tick.
+    let hours = |from: (i32, i32, i32, i32), to: (i32, i32, i32, i32)| {
+        b.js(
+            "const A = window.airledger, tz = 'Europe/Berlin';
+             const [f, t] = arguments;
+             const s = { min: Date.UTC(f[0], f[1] - 1, f[2], f[3]), max: Date.UTC(t[0], t[1] - 1, t[2], t[3]), width: 1000 };
+             A.roundTicks(tz, 7)(s);
+             return (s.ticks || []).map(k => { const w = A.wall(k.value, tz); return w.hour + ':' + w.minute; });",
+            json!([[from.0, from.1, from.2, from.3], [to.0, to.1, to.2, to.3]]),
+        )
+    };
+    // 15 Mar 2026 in Berlin: 14 Mar 23:00 UTC to 15 Mar 23:00 UTC.
+    assert_eq!(
+        hours((2026, 3, 14, 23), (2026, 3, 15, 23)),
+        json!(["00:00", "06:00", "12:00", "18:00", "00:00"])
+    );
+    // 29 Mar 2026, a 23-hour day (28 Mar 23:00 UTC to 29 Mar 22:00 UTC): still round local hours.
+    assert_eq!(
+        hours((2026, 3, 28, 23), (2026, 3, 29, 22)),
+        json!(["00:00", "06:00", "12:00", "18:00", "00:00"])
+    );
+}
+
 /// The demo's report printed by Chromium (A4, its own --print-to-pdf, no header or footer of its
 /// own): page 2 carries the site's name and "page 2 of n", and no table cell holds a unit alone
 /// (a number wrapped from its unit), in SI and US customary units.

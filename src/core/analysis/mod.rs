@@ -380,7 +380,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     };
     methods.push(method(
         "energy_kwh",
-        "Σ over compressors of ∫ P dt over logged bins",
+        "Σ over compressors of ∫ P dt over the analysis steps logged",
         "time-weighted integration of synchronised logger intervals (ISO 11011 measurement practice)",
     ));
     let (sp, iso) = (d.system.sp, d.system.iso);
@@ -392,12 +392,12 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     };
     methods.push(method(
         "specific_power_kw_per_m3_min",
-        "Σ P / Σ Q over bins where both power and flow exist (interval-synchronous)",
+        "Σ P / Σ Q over the analysis steps where both power and flow were logged (interval-synchronous)",
         "ISO 1217 specific package input power, computed interval by interval",
     ));
     methods.push(method(
         "isothermal_efficiency",
-        "Σ p_atm Q ln(p_header / p_atm) / Σ P over bins with power, flow and pressure",
+        "Σ p_atm Q ln(p_header / p_atm) / Σ P over the analysis steps with power, flow and pressure logged",
         "ideal-gas isothermal compression work, W = p₁ V₁ ln(p₂/p₁) (any thermodynamics textbook)",
     ));
     let trim = d.trim;
@@ -570,8 +570,8 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     if !pressure_drops.is_empty() {
         methods.push(method(
             "transmission.pressure_drops",
-            "drop = upstream − downstream pressure bin by bin; at high flow: mean over the bins at or above the \
-             95th-percentile flow; cost = loaded energy × (1 % per 2 psi | isentropic-work ratio) for the mean drop",
+            "drop = upstream − downstream pressure step by step; at high flow: mean over the steps at or above the \
+             95th-percentile flow; cost = loaded energy × (1 % per 2 psi, or the isentropic-work ratio) for the mean drop",
             "US DOE compressed-air sourcebook (1 % of input per 2 psi; a well-designed system loses well under 10 % \
              of the discharge pressure on its way to the points of use)",
         ));

@@ -254,7 +254,7 @@ pub fn fit_blowdown(
     let runs = &d.runs;
     if runs.len() < MIN_RUNS {
         return Err(format!(
-            "{} unloadings with at least three bins of decay in the log, {MIN_RUNS} needed",
+            "{} unloadings with at least three analysis steps of decay in the log, {MIN_RUNS} needed",
             runs.len()
         ));
     }

@@ -416,7 +416,7 @@ pub(super) fn lower_pressure(r: &RecommendInput, p: &Plant) -> Option<(Draft, Pl
             text!["unregulated demand incl. leaks ", flow(q_unreg), ": ", flow(dq), " less at the lower pressure"],
             text!["marginal specific power ", specific(r.marginal_kw_per_m3_min * next.power_factor)],
         ],
-        formula: "saving = Σ loaded energy × (1 % per 2 psi | isentropic-work ratio) + Q_unreg Δp / p_abs × marginal specific power × hours; Δp = p5 - (p_critical + u_p)",
+        formula: "saving = Σ loaded energy × (1 % per 2 psi, or the isentropic-work ratio) + Q_unreg Δp / p_abs × marginal specific power × hours; Δp = p5 - (p_critical + u_p)",
         source: "US DOE compressed-air sourcebook (1 % of input per 2 psi); isentropic compression work (ideal gas, k = 1.4)",
         method: "loaded energy of the machines making the air scaled by the rule; range from the other rule and the annual hours (US DOE sourcebook; isentropic work)",
         caution: Some("check that every point of use keeps the pressure its tools need; lower in steps".into()),

@@ -78,7 +78,7 @@ pub(super) fn calibrated(input: &SimInput) -> (Vec<CompressorSpec>, Vec<String>,
                 let kw = settled[n / 2] / 1000.0;
                 let u = (kw / c.rated_power_kw).clamp(0.0, 1.0);
                 notes.push(format!(
-                    "{}: unloaded power {kw:.1} kW from {n} settled unloaded bins of its log ({:.0} % of rated, data sheet {:.0} %)",
+                    "{}: unloaded power {kw:.1} kW from {n} settled unloaded analysis steps of its log ({:.0} % of rated, data sheet {:.0} %)",
                     c.tag,
                     u * 100.0,
                     c.unloaded_power_fraction * 100.0

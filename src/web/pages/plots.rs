@@ -218,7 +218,7 @@ async fn logged_chart(
             last = Some(p.t_ms);
         }
         if band && banded == Some(c.id) {
-            marks.push(Mark::Band { name: format!("{name} (least to greatest)"), points: spread });
+            marks.push(Mark::Band { name: format!("{name} (lowest to highest)"), points: spread });
         }
         marks.push(Mark::Line { name: format!("{name} (mean)"), points: line });
     }

@@ -205,7 +205,7 @@ pub(in crate::core::recommend) fn filter_change(r: &RecommendInput, p: &Plant) -
                 Grouped(other)
             )],
         ],
-        formula: "saving = Σ loaded energy × (1 % per 2 psi | isentropic-work ratio) for Δp = Σ (measured drop - clean drop × (Q / Q_rated)²) over the filters above 0.1 bar",
+        formula: "saving = Σ loaded energy × (1 % per 2 psi, or the isentropic-work ratio) for Δp = Σ (measured drop - clean drop × (Q / Q_rated)²) over the filters above 0.1 bar",
         source: "US DOE compressed-air sourcebook (1 % of input per 2 psi; pressure drop); drop ∝ flow² and the 0.1 bar threshold: common practice",
         method: "loaded energy scaled by the pressure rule for the excess drop, header pressure unchanged; range from the other rule and the annual hours (US DOE sourcebook; isentropic work)",
         caution: Some(safety::TREATMENT_MEASURE_CAUTION.to_string()),
