@@ -98,7 +98,7 @@
       type: "line",
       data: { datasets: data.traces.map((t, i) => ({ label: t.name, data: t.points.map((p) => ({ x: p[0], y: toReader("gauge_pressure", p[1]) })), borderColor: palette[i % palette.length], pointRadius: 0, borderWidth: 1.2 })) },
       options: { animation: false, maintainAspectRatio: false, parsing: false,
-        scales: { x: { type: "linear", min: Math.min(...xs), max: Math.max(...xs), ticks: { maxTicksLimit: 6, maxRotation: 0, callback: (v) => A.tick(v, tz) }, title: { display: true, text: "site time, " + tz } }, y: { title: { display: true, text: E.fields.gauge_pressure.label } } } },
+        scales: { x: { type: "linear", min: Math.min(...xs), max: Math.max(...xs), ticks: { maxTicksLimit: 6, maxRotation: 0, callback: (v) => A.tick(v, tz) }, afterBuildTicks: A.roundTicks(tz, 6), title: { display: true, text: "site time, " + tz } }, y: { title: { display: true, text: E.fields.gauge_pressure.label } } } },
     });
   }
 })();
