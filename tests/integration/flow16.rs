@@ -88,6 +88,9 @@ fn a_counter_that_hides_the_loading_leaves_no_demand_to_replay_and_the_page_says
     assert!(!page.contains("-100"), "a -100 % on the page");
     assert!(!page.contains("<td class=\"num\">0</td>"), "a 0 kWh on the page");
     assert!(page.contains("not offered: there is no demand to replay"));
+    assert!(page.contains(
+        "id=\"no-trace\">No pressure to draw: there is no demand to replay (why is said under each replay)."
+    ));
     assert!(!page.contains("mark as the proposal"), "a replay of nothing offered as the proposal");
 
     // It cannot be the proposal, and the refusal says why.

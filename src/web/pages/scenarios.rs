@@ -268,6 +268,10 @@ pub async fn scenarios(
     // A line needs two points: a replay of one time step (or none) draws nothing, and says so.
     let drawable = outcomes.iter().any(|r| r.pressure_trace.as_array().is_some_and(|p| p.len() >= 2));
     let no_trace = (!drawable && !outcomes.is_empty()).then(|| {
+        if outcomes.iter().all(|r| r.no_demand_reason.is_some()) {
+            return "No pressure to draw: there is no demand to replay (why is said under each replay)."
+                .into();
+        }
         let hours =
             outcomes.iter().filter_map(|r| r.simulated_hours).filter(|h| h.is_finite()).fold(0.0, f64::max);
         format!(
@@ -301,6 +305,7 @@ pub async fn scenarios(
         energy_unit: energy_unit.label(),
         period: outcomes
             .iter()
+            .filter(|r| r.no_demand_reason.is_none())
             .filter_map(|r| r.simulated_hours)
             .fold(None, |m: Option<f64>, h| Some(m.map_or(h, |m| m.max(h))))
             .map_or("–".into(), |h| fmt.hours(h)),
