@@ -182,3 +182,61 @@ fn machines_logged_apart_without_a_meter_give_no_flow_and_the_pages_say_not_enou
     row(&findings, "<th>Mean flow</th>", "</th>", "<td>");
     row(&findings, "<th>Peak flow, highest", "</th>", "<td>");
 }
+
+#[test]
+fn a_window_with_power_and_no_flow_leaves_the_treatment_records_unpriced_and_says_why() {
+    // C1 (55 kW) cycling every 200 s, 40 s loaded at 56 kW, else 14 kW, for two days at 10 s; the
+    // flow meter logged the second day only (9.5 m³/min loaded, 0 unloaded). A purging dryer on
+    // record. The first day alone: a day of power is thin data, and no flow is known in it.
+    let s = Server::start();
+    let id = s.audit_in_chicago("meter on day 2", "si");
+    let mut file = String::from("time,C1 kW,flow m3/min\n");
+    for i in 0..17_280i64 {
+        let loaded = i % 20 < 4;
+        let flow = if i >= 8_640 {
+            if loaded {
+                "9.5"
+            } else {
+                "0"
+            }
+        } else {
+            ""
+        };
+        file.push_str(&format!(
+            "{},{},{flow}\n",
+            jiff_like_rfc3339(NOV_13_2023 + i * 10),
+            if loaded { 56 } else { 14 }
+        ));
+    }
+    let columns = json!([{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"},
+                         {"column": "flow m3/min", "quantity": "flow", "unit": "m3_min"}]);
+    let r = s.upload(id, "plant.csv", file.as_bytes(), &mapping(columns), "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/dryers"),
+        &json!({"tag": "D1", "kind": "heatless_desiccant", "rated_flow_m3_min": 10, "purge_fraction": 0.15,
+                "power_kw": 0.3, "control": "fixed_cycle"}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+
+    let day =
+        format!("from={}&to={}", jiff_like_rfc3339(NOV_13_2023), jiff_like_rfc3339(NOV_13_2023 + 86_400));
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary?{day}")).json();
+    assert_eq!(sm["sufficiency"]["verdict"], "thin");
+    assert!(sm["system"]["mean_flow_m3_min"].is_null());
+    assert_eq!(sm["transmission"]["dryers"], json!([]));
+    assert!(sm["demand_split"].is_null());
+    let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
+    let t = withheld.iter().find(|w| w["figure"] == "transmission").expect("the records withheld");
+    assert_eq!(
+        t["reason"],
+        "the treatment records and end uses are priced on the mean flow, which is not known (no flow is known: \
+         the flow meters on record logged no reading in the period analysed, and with a flow meter on record \
+         the air is not read from the compressors' states)"
+    );
+    // The whole log prices them on the metered day's mean, 9.5 × 40 / 200 = 1.9 m³/min: the fixed
+    // cycle purges 0.15 × 10 = 1.5 m³/min of it.
+    let whole = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert!((whole["system"]["mean_flow_m3_min"].as_f64().unwrap() - 1.9).abs() < 0.01);
+    assert!((whole["transmission"]["dryers"][0]["purge_m3_min"].as_f64().unwrap() - 1.5).abs() < 1e-9);
+}
