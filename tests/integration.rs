@@ -10,6 +10,8 @@ mod api;
 mod browser;
 #[path = "integration/engine.rs"]
 mod engine;
+#[path = "integration/flow16.rs"]
+mod flow16;
 #[path = "integration/forms.rs"]
 mod forms;
 #[path = "integration/guard.rs"]

@@ -39,6 +39,9 @@ pub struct ScenarioOutcome {
     /// `[t_ms, bar_g]` pairs, passed on to the page's chart as they are.
     #[serde(default)]
     pub pressure_trace: serde_json::Value,
+    /// Why there was no demand to replay (`SimResult::no_demand_reason`): the figures are `null`.
+    #[serde(default)]
+    pub no_demand_reason: Option<String>,
 }
 
 impl ScenarioOutcome {
@@ -62,7 +65,7 @@ impl App {
         let proposal = take_proposal(&mut body)?.unwrap_or(false);
         let r = self.replay(id, body).await?;
         if proposal {
-            may_propose(&r.changes, Some(r.result.feasible))?;
+            may_propose(&r.changes, Some(r.result.feasible), r.result.no_demand_reason.as_deref())?;
         }
         let w = r.write(proposal);
         let sid = audits::add_scenario(self.db(), id, &w).await?;
@@ -80,7 +83,7 @@ impl App {
         let stored = self.scenario(id, sid).await?;
         let asked = take_proposal(&mut body)?;
         let r = self.replay(id, body).await?;
-        let may = may_propose(&r.changes, Some(r.result.feasible));
+        let may = may_propose(&r.changes, Some(r.result.feasible), r.result.no_demand_reason.as_deref());
         // Asked for, a replay that cannot be the proposal is refused; kept from before, it is
         // withdrawn (the page says why it is not on the report).
         let proposal = match asked {
@@ -111,7 +114,8 @@ impl App {
         }
         if proposal == Some(true) {
             let stored = self.scenario(id, sid).await?;
-            may_propose(&stored.changes, ScenarioOutcome::of(&stored).feasible)?;
+            let r = ScenarioOutcome::of(&stored);
+            may_propose(&stored.changes, r.feasible, r.no_demand_reason.as_deref())?;
         }
         if !audits::edit_scenario(self.db(), id, sid, name, proposal).await? {
             return Err(no_scenario(id, sid));
@@ -208,13 +212,24 @@ impl Replayed {
 }
 
 /// Whether a replay may be marked as the proposal: not the baseline (no change: it is what every
-/// measure is measured against) and not a plant that falls short of its demand.
-pub fn may_propose(changes: &serde_json::Value, feasible: Option<bool>) -> Result<()> {
+/// measure is measured against), not a replay without demand (`no_demand`: why there was none)
+/// and not a plant that falls short of its demand.
+pub fn may_propose(
+    changes: &serde_json::Value,
+    feasible: Option<bool>,
+    no_demand: Option<&str>,
+) -> Result<()> {
     if changes.as_array().is_none_or(Vec::is_empty) {
         return Err(Error::field(
             "proposal",
             "the baseline replays the plant as it is: every saving is measured against it, so it is not a \
              measure and cannot be the proposal",
+        ));
+    }
+    if let Some(why) = no_demand {
+        return Err(Error::field(
+            "proposal",
+            format!("{why}: this replay shows nothing of the plant, so it cannot be the proposal"),
         ));
     }
     if feasible == Some(false) {

@@ -139,21 +139,37 @@
       flow: { entry: "free_air_flow", axis: "q", color: "#f2a541", f: (v) => v * 60 },
       power: { axis: "w", color: "#7a3b69", f: (v) => v / 1000 },
     };
-    const chans = (await A.json(base + "/channels")).channels.filter((c) => kinds[c.quantity]);
+    // A compressor's energy counter is the power it stands for (the series API's
+    // power_from_counter, in W), drawn on the power axis after the logged power, as the report's
+    // charts do.
+    const kindOf = (c) => (c.quantity === "energy" && c.compressor_tag ? "power" : c.quantity);
+    const all = (await A.json(base + "/channels")).channels.filter((c) => kinds[kindOf(c)]);
+    const chans = all.filter((c) => c.quantity !== "energy").concat(all.filter((c) => c.quantity === "energy"));
     if (!chans.length) { st.textContent = "No pressure, flow or power logged yet."; return; }
     const axisTitle = (q) => q === "power" ? "kW" : q === "flow" ? unit("free_air_flow") + " free air" : unit("gauge_pressure");
     const datasets = [];
+    const drawn = [];
     for (const c of chans) {
-      const k = kinds[c.quantity];
+      const q = kindOf(c);
+      const k = kinds[q];
       const s = await A.json(base + "/series?channel=" + c.id + "&points=600");
-      const same = chans.filter((o) => o.quantity === c.quantity).length > 1;
-      const what = c.compressor_tag ? c.compressor_tag + " power" : same ? c.quantity + " (column \u201c" + c.label + "\u201d)" : c.quantity;
+      // A counter the server does not give as power (no compressor) is not drawn.
+      if (c.quantity === "energy" && !s.power_from_counter) continue;
+      drawn.push(q);
+      const same = chans.filter((o) => kindOf(o) === q).length > 1;
+      const what = c.compressor_tag ? c.compressor_tag + " " + q + (c.quantity === "energy" ? ", from its energy counter" : "")
+        : same ? q + " (column \u201c" + c.label + "\u201d)" : q;
       const y = (v) => (v === null ? null : k.entry ? toReader(k.entry, k.f(v)) : k.f(v));
-      datasets.push({ label: what + ", " + axisTitle(c.quantity),
-        data: s.t_ms.map((t, i) => ({ x: t, y: y(s.mean[i]) })), yAxisID: k.axis,
+      // A point after a silence longer than the series' gap_ms starts a new line (a null between).
+      const gap = s.gap_ms || Infinity;
+      const data = s.t_ms.flatMap((t, i) => {
+        const p = { x: t, y: y(s.mean[i]) };
+        return i > 0 && t - s.t_ms[i - 1] > gap ? [{ x: (s.t_ms[i - 1] + t) / 2, y: null }, p] : [p];
+      });
+      datasets.push({ label: what + ", " + axisTitle(q), data: data, yAxisID: k.axis,
         pointRadius: 0, borderWidth: 1.2, borderColor: k.color });
     }
-    const present = Object.keys(kinds).filter((q) => chans.some((c) => c.quantity === q));
+    const present = Object.keys(kinds).filter((q) => drawn.includes(q));
     const absent = Object.keys(kinds).filter((q) => !present.includes(q));
     document.getElementById("window-absent").textContent = absent.length
       ? "Not logged in this audit: " + absent.join(" and ") + "; the chart shows " + present.join(" and ") + "." : "";

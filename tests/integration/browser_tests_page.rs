@@ -91,3 +91,59 @@ fn the_window_chart_draws_what_is_logged_and_the_idle_window_is_typed_on_the_sit
     let shown = b.js_str("const f = document.querySelector('form[data-test-kind=idle_flow]'); return f.elements.start.value + ' ' + f.elements.end.value");
     assert_eq!(shown, "2026-05-04T03:10 2026-05-04T03:40");
 }
+
+/// 1 h from 2026-05-04T08:00Z, every 10 s: C1's energy counter alone (kWh, 30 kW: 30 × 10 / 3600
+/// = 0.083333 kWh a step) and the header pressure at 6.5 bar(g); no power column, no flow.
+fn counter_and_pressure_csv() -> String {
+    let start = 1_777_881_600i64;
+    let mut s = String::from("time,E kWh,header bar\n");
+    for i in 0..360i64 {
+        s.push_str(&format!(
+            "{},{:.6},6.5\n",
+            jiff_like_rfc3339(start + i * 10),
+            500.0 + i as f64 * 30.0 * 10.0 / 3600.0
+        ));
+    }
+    s
+}
+
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn the_window_chart_draws_a_machine_whose_power_comes_only_from_its_energy_counter() {
+    let s = Server::start();
+    let id = s.audit_in_chicago("counter only", "si");
+    let mapping = json!({"delimiter": ",", "decimal": ".", "header_line": 1,
+        "timestamp": {"column": "time", "format": "rfc3339", "timezone": "UTC"},
+        "columns": [{"column": "E kWh", "quantity": "energy", "unit": "kWh", "compressor": "C1"},
+                    {"column": "header bar", "quantity": "pressure", "unit": "bar_g"}]});
+    let r = s.upload(id, "plant.csv", counter_and_pressure_csv().as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let b = Browser::start();
+    b.goto(&s.url(&format!("/audits/{id}/tests")));
+    let drawn = wait_until(Duration::from_secs(20), || {
+        b.js("const c = Chart.getChart(document.getElementById('chart-window')); return !!c", json!([]))
+            == true
+    });
+    assert!(drawn, "no window chart");
+    let chart = b.js(
+        "const c = Chart.getChart(document.getElementById('chart-window'));
+         return {labels: c.data.datasets.map((d) => d.label), axes: Object.keys(c.options.scales),
+                 ys: c.data.datasets.map((d) => d.data.map((p) => p.y).filter((y) => y !== null))};",
+        json!([]),
+    );
+    let labels: Vec<&str> = chart["labels"].as_array().unwrap().iter().map(|v| v.as_str().unwrap()).collect();
+    assert_eq!(labels.len(), 2, "{chart}");
+    let k = labels
+        .iter()
+        .position(|l| *l == "C1 power, from its energy counter, kW")
+        .expect("the counter's power");
+    assert!(chart["axes"].as_array().unwrap().iter().any(|a| a == "w"), "no power axis: {chart}");
+    // The counter's rise stands for 30 kW all along (the series API's power_from_counter).
+    let ys: Vec<f64> = chart["ys"][k].as_array().unwrap().iter().map(|y| y.as_f64().unwrap()).collect();
+    assert!(ys.len() > 10 && ys.iter().all(|y| (y - 30.0).abs() < 0.01), "{ys:?}");
+    let note = b.js_str("return document.getElementById('window-absent').textContent");
+    assert_eq!(note, "Not logged in this audit: flow; the chart shows pressure and power.");
+}

@@ -20,12 +20,12 @@ use super::stats::{mean_where, peak_mean, Peak};
 /// The system's delivered air and peaks over the log.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(super) struct FlowTotals {
-    /// m³ free air.
-    pub air_m3: f64,
-    /// m³/min.
-    pub mean_flow: f64,
-    /// m³/min, over `peak_flow_window` s.
-    pub peak_flow: f64,
+    /// m³ free air (`None`: no bin of the period holds a flow, logged or read from the states).
+    pub air_m3: Option<f64>,
+    /// m³/min (`None`: as `air_m3`).
+    pub mean_flow: Option<f64>,
+    /// m³/min, over `peak_flow_window` s (`None`: as `air_m3`).
+    pub peak_flow: Option<f64>,
     pub peak_flow_window: f64,
     /// kW, over `peak_kw_window` s (`None`: no window with every compressor's power).
     pub peak_kw: Option<f64>,
@@ -39,16 +39,18 @@ pub(super) fn flow_totals(
     partial: &[Partial],
     total_power: Option<&[f32]>,
 ) -> FlowTotals {
-    let flow_i = flow.map(|q| integrate_weighted(grid, q, partial));
-    let air_m3 = flow_i.map_or(0.0, |i| i.total);
-    let mean_flow = flow_i.map_or(0.0, |i| if i.mean.is_finite() { i.mean * 60.0 } else { 0.0 });
+    // A flow is known where some bin holds one: an integral over no logged bin is no figure (a
+    // window on a day logged by an energy counter alone read 0.000 m³/min).
+    let flow_i = flow.map(|q| integrate_weighted(grid, q, partial)).filter(|i| i.mean.is_finite());
+    let air_m3 = flow_i.map(|i| i.total);
+    let mean_flow = flow_i.map(|i| i.mean * 60.0);
     let none = |window_s| Peak { mean: None, window_s };
     let flow_peak = flow.map_or(none(60.0), |q| peak_mean(grid, q, 60.0));
     let power_peak = total_power.map_or(none(900.0), |p| peak_mean(grid, p, 900.0));
     FlowTotals {
         air_m3,
         mean_flow,
-        peak_flow: flow_peak.mean.unwrap_or(0.0) * 60.0,
+        peak_flow: flow_peak.mean.filter(|_| mean_flow.is_some()).map(|q| q * 60.0),
         peak_flow_window: flow_peak.window_s,
         peak_kw: power_peak.mean.map(|w| w / 1000.0),
         peak_kw_window: power_peak.window_s,
@@ -63,7 +65,7 @@ pub(super) fn demand(
     flow_estimated: bool,
     total_power: Option<&[f32]>,
     production: &Production,
-    peak_flow: f64,
+    peak_flow: Option<f64>,
 ) -> Demand {
     let cells = &cal.cells;
     let is_prod = &production.is_prod;
@@ -100,4 +102,23 @@ pub(super) fn demand(
             .map(|x| x / 1000.0),
         peak_flow_m3_min: peak_flow,
     }
+}
+
+/// Why no flow can be known in the period, if none can (`DataFigures::totals`): no flow logged in
+/// it and none read from the compressors' states.
+pub(super) fn flow_unknown(d: &super::DataFigures) -> Option<String> {
+    if d.totals.mean_flow.is_some() {
+        return None;
+    }
+    Some(if !d.flow_estimated {
+        "the flow meters on record logged no reading in the period analysed, and with a flow meter on \
+         record the air is not read from the compressors' states"
+            .into()
+    } else if d.power_logged.iter().any(|&p| p) {
+        "no flow meter was logged, and the air read from the compressors' states needs a state for every \
+         compressor with a power log in the same time step, which no time step of the period analysed has"
+            .into()
+    } else {
+        "no flow meter was logged, and no compressor's power from whose states the air could be read".into()
+    })
 }

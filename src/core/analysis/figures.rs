@@ -85,13 +85,17 @@ pub struct SystemFigures {
     /// `mean_power_kw`.
     pub peak_power_kw: Option<f64>,
     pub peak_power_window_s: f64,
-    pub air_m3: f64,
-    pub air_m3_low: f64,
-    pub air_m3_high: f64,
-    pub mean_flow_m3_min: f64,
-    pub mean_flow_m3_min_low: f64,
-    pub mean_flow_m3_min_high: f64,
-    pub peak_flow_m3_min: f64,
+    // The air and the flow are `None` (JSON `null`) when no flow can be known in the period: no
+    // flow logged in it and none read from the machines' states (`sufficiency.withheld` says why),
+    // never 0.
+    pub air_m3: Option<f64>,
+    pub air_m3_low: Option<f64>,
+    pub air_m3_high: Option<f64>,
+    pub mean_flow_m3_min: Option<f64>,
+    pub mean_flow_m3_min_low: Option<f64>,
+    pub mean_flow_m3_min_high: Option<f64>,
+    /// The highest 1-minute mean on the clock's minutes (`None`: as the mean flow).
+    pub peak_flow_m3_min: Option<f64>,
     pub peak_flow_window_s: f64,
     pub flow_source: FlowSource,
     pub estimated: bool,
@@ -215,7 +219,8 @@ pub struct Demand {
     pub non_production_mean_flow_m3_min: Option<f64>,
     pub production_mean_power_kw: Option<f64>,
     pub non_production_mean_power_kw: Option<f64>,
-    pub peak_flow_m3_min: f64,
+    /// As `system.peak_flow_m3_min` (`None`: no flow known in the period).
+    pub peak_flow_m3_min: Option<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

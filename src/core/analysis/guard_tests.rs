@@ -81,12 +81,18 @@ fn check_invariants(sm: &Summary) -> Result<(), TestCaseError> {
     if let Some(peak) = sys.peak_power_kw {
         prop_assert!(peak + 1e-9 >= sys.mean_power_kw, "peak {peak} kW below mean {} kW", sys.mean_power_kw);
     }
-    prop_assert!(
-        sys.peak_flow_m3_min + 1e-6 >= sys.mean_flow_m3_min,
-        "peak flow {} below mean {}",
-        sys.peak_flow_m3_min,
-        sys.mean_flow_m3_min
-    );
+    if let (Some(peak), Some(mean)) = (sys.peak_flow_m3_min, sys.mean_flow_m3_min) {
+        prop_assert!(peak + 1e-6 >= mean, "peak flow {peak} below mean {mean}");
+    }
+    // A flow figure that is not given is withheld with its reason, never a silent gap.
+    for (v, f) in
+        [(sys.mean_flow_m3_min, "system.mean_flow_m3_min"), (sys.peak_flow_m3_min, "system.peak_flow_m3_min")]
+    {
+        prop_assert!(
+            v.is_some() || sm.sufficiency.withheld.iter().any(|w| w.figure == f),
+            "{f} null without a reason"
+        );
+    }
     let low = sm.pressure.low_limit_bar_g.unwrap_or(0.0).max(0.0);
     for r in &sm.recommendations {
         if r.kind == MeasureKind::LowerPressure {
@@ -257,7 +263,7 @@ fn an_insufficient_audit_gives_no_specific_power_nor_cost_of_air() {
     let sm = run(&s, &cs, &frame);
     assert_eq!(sm.sufficiency.verdict, Verdict::Insufficient, "{:?}", sm.sufficiency);
     let sys = &sm.system;
-    assert!(sys.estimated && sys.air_m3 > 0.0, "the air is read from the states");
+    assert!(sys.estimated && sys.air_m3.is_some_and(|a| a > 0.0), "the air is read from the states");
     assert_eq!(sys.specific_power_kw_per_m3_min, None);
     assert_eq!((sys.specific_power_kw_per_m3_min_low, sys.specific_power_kw_per_m3_min_high), (None, None));
     assert_eq!(sys.part_load_penalty_percent, None);
@@ -340,6 +346,73 @@ fn flow_logged_at_another_time_than_power_gives_no_specific_power() {
         .reasons
         .iter()
         .any(|r| r.starts_with("flow was logged together with power in 0 %")));
+}
+
+/// A day on which no flow can be known gives no air, mean or peak flow (a window on a day logged
+/// by an energy counter alone read 0.000 m³/min): `null`, each with the reason, whether the audit's
+/// flow meter logged on other days or the states of machines logged apart give no air.
+#[test]
+fn no_flow_known_gives_no_flow_figure_and_says_why() {
+    let s = site();
+    let n = 24 * HOUR_BINS;
+    let p = cycling_power(55.0, 80, 120, 24);
+    let withheld = |sm: &Summary, f: &str| {
+        sm.sufficiency.withheld.iter().find(|w| w.figure == f).map(|w| w.reason.clone()).unwrap_or_default()
+    };
+    // A meter on record that logged nothing this day, beside a day of power.
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![col(Signal::Power, Some(0), p.clone()), col(Signal::Flow, None, vec![f32::NAN; n])],
+    };
+    let sm = run(&s, &cs, &frame);
+    assert!(sm.system.energy_kwh > 0.0, "the power is there");
+    let sys = &sm.system;
+    for v in
+        [sys.air_m3, sys.air_m3_low, sys.mean_flow_m3_min, sys.mean_flow_m3_min_low, sys.peak_flow_m3_min]
+    {
+        assert_eq!(v, None);
+    }
+    assert_eq!(sm.demand.peak_flow_m3_min, None);
+    for f in ["system.mean_flow_m3_min", "system.peak_flow_m3_min", "system.air_m3"] {
+        assert!(
+            withheld(&sm, f).starts_with("no flow is known: the flow meters on record logged no reading"),
+            "{f}"
+        );
+    }
+    let j = serde_json::to_value(&sm).unwrap();
+    assert!(j["system"]["mean_flow_m3_min"].is_null() && j["system"]["peak_flow_m3_min"].is_null());
+
+    // No meter, two machines logged on different halves of the day: no bin has both states.
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5), spec("C2", Control::LoadUnload, 55.0, 9.5)];
+    let half = n / 2;
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![
+            col(Signal::Power, Some(0), only(n, 0, half, |k| p[k])),
+            col(Signal::Power, Some(1), only(n, half, n, |k| p[k])),
+        ],
+    };
+    let sm = run(&s, &cs, &frame);
+    assert_eq!(sm.system.mean_flow_m3_min, None);
+    assert!(
+        withheld(&sm, "system.mean_flow_m3_min").starts_with(
+            "no flow is known: no flow meter was logged, and the air read from the compressors' states"
+        ),
+        "{:?}",
+        sm.sufficiency.withheld
+    );
+    // With one machine's states the air is known: the same day, C1 alone.
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![col(Signal::Power, Some(0), p)],
+    };
+    let sm = run(&s, &cs, &frame);
+    let (mean, peak) = (sm.system.mean_flow_m3_min.unwrap(), sm.system.peak_flow_m3_min.unwrap());
+    // 80 s loaded in each 200 s cycle at 9.5 m³/min: 3.8 m³/min, and a whole minute loaded at the peak.
+    assert!((mean - 3.8).abs() < 0.05, "{mean}");
+    assert!((peak - 9.5).abs() < 1e-3, "{peak}");
 }
 
 /// A randomised plant: 1 to 3 machines with random data sheets, a log of 1 h to 9 days on 60 s bins,

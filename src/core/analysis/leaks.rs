@@ -24,8 +24,9 @@ use super::LeakEstimate;
 #[derive(Debug, Clone, Copy)]
 pub(super) struct LeakContext<'a> {
     pub acc: &'a Accuracy,
-    /// Mean system flow and the flows in and out of production, m³/min.
-    pub mean_flow: f64,
+    /// Mean system flow (`None`: no flow known, no share of it) and the flows in and out of
+    /// production, m³/min.
+    pub mean_flow: Option<f64>,
     pub q_prod: Option<f64>,
     pub q_nonprod: Option<f64>,
     /// Mean header pressure in and out of production, Pa absolute.
@@ -74,7 +75,9 @@ fn estimate_rel(e: &LeakEstimate, acc: &Accuracy) -> f64 {
 
 /// The leak figures (module doc).
 pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> LeakFigures {
-    let (acc, mean_flow, q_prod, q_nonprod, u_flow) = (x.acc, x.mean_flow, x.q_prod, x.q_nonprod, x.u_flow);
+    let (acc, q_prod, q_nonprod, u_flow) = (x.acc, x.q_prod, x.q_nonprod, x.u_flow);
+    // A share of demand needs a mean demand above nothing.
+    let mean_flow = x.mean_flow.filter(|&q| q > 0.0);
     let mut estimates: Vec<LeakEstimateFigure> = leak_estimates
         .iter()
         .map(|e| {
@@ -88,7 +91,7 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
                 leak_flow_m3_min: e.leak_flow_m3_min,
                 leak_flow_m3_min_low: lo,
                 leak_flow_m3_min_high: hi,
-                share_of_mean_demand: (mean_flow > 0.0).then(|| e.leak_flow_m3_min / mean_flow),
+                share_of_mean_demand: mean_flow.map(|q| e.leak_flow_m3_min / q),
                 automatic: false,
                 estimated: false,
             }
@@ -127,12 +130,12 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
             leak_flow_m3_min: q,
             leak_flow_m3_min_low: lo,
             leak_flow_m3_min_high: hi,
-            share_of_mean_demand: (mean_flow > 0.0).then(|| q / mean_flow),
+            share_of_mean_demand: mean_flow.map(|m| q / m),
             automatic: true,
             estimated: x.flow_estimated,
         });
     }
-    let share = adopted.filter(|_| mean_flow > 0.0).map(|q| q / mean_flow);
+    let share = adopted.zip(mean_flow).map(|(q, m)| q / m);
     let u_share = quad(&[adopted_rel, u_flow]);
     let leak_kwh = adopted.map(|q| q * x.marginal_kw_per_m3_min * x.annual_running_hours);
     let u_leak_cost = quad(&[adopted_rel, 0.05]);

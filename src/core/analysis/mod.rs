@@ -647,8 +647,8 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     }
     let (e_lo, e_hi) = band(sys_energy, u_power);
     let (p_lo, p_hi) = band(sys_mean_kw, u_power);
-    let (a_lo, a_hi) = band(d.totals.air_m3, u_flow);
-    let (q_lo, q_hi) = band(mean_flow, u_flow);
+    let (a_lo, a_hi) = d.totals.air_m3.map(|a| band(a, u_flow)).unzip();
+    let (q_lo, q_hi) = mean_flow.map(|q| band(q, u_flow)).unzip();
     let mut summary = Summary {
         period: d.period.clone(),
         coverage: d.coverage.clone(),
@@ -706,6 +706,9 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
         assumption_parts: assumptions,
         warning_parts: warnings,
     };
+    if let Some(why) = demand::flow_unknown(d) {
+        sufficiency::withhold_flow(&mut summary.sufficiency.withheld, &why);
+    }
     sufficiency::apply(&mut summary, site.demand_charge_per_kw_month != 0.0);
     summary
 }

@@ -47,6 +47,11 @@ figures add the machines up, so only those hours show the plant as one system.
 - the time below the low limit and above the highest rated pressure when the pressure log is not
   credible (the pages print "not enough data" for the pressure bands too; the JSON keeps the log's
   percentiles, a description of the log itself, like its mean);
+- the air, the mean flow (its range) and the peak flow when no flow can be known in the period
+  (a window on a day that only an energy counter logged, with the flow meter logged on other
+  days): no flow logged in it and none read from the compressors' states; the peak flow alone
+  when no minute holds enough flow readings. Never 0: the reason says which is missing. The
+  treatment records, priced on the mean flow, are then withheld too (`transmission`);
 - the peak power when no 15-minute window holds every compressor's power, or when that peak falls
   below the mean power (the machines' logs do not overlap enough for a simultaneous peak); the
   demand charge, and with it the annual cost, when a demand charge is set and the peak is withheld;
@@ -278,6 +283,15 @@ fn withhold(w: &mut Vec<Withheld>, figure: &str, reason: &str) {
     }
 }
 
+/// The air and the flow (mean, its range, peak) recorded as withheld for `why`: no flow can be
+/// known in the period (`summary_of` leaves them `None`).
+pub(super) fn withhold_flow(w: &mut Vec<Withheld>, why: &str) {
+    let why = format!("no flow is known: {why}");
+    for f in ["system.mean_flow_m3_min", "system.peak_flow_m3_min", "system.air_m3"] {
+        withhold(w, f, &why);
+    }
+}
+
 /// A share in percent for people: one decimal, and "under 0.1" for a share that is not zero but
 /// would print as 0.0 (the "0.0 % coverage" hid that something was logged).
 pub fn percent(share: f64) -> String {
@@ -338,7 +352,19 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         s.pressure.share_above_highest_rated = None;
         withhold(&mut w, "pressure.share_below_low_limit", why);
     }
-    // A peak is never below the mean.
+    // A peak is never below the mean: a flow known over bins too few for any whole minute has a
+    // mean and no peak.
+    if s.system.mean_flow_m3_min.is_some()
+        && s.system.peak_flow_m3_min.is_none_or(|p| p + 1e-9 < s.system.mean_flow_m3_min.unwrap_or(0.0))
+    {
+        s.system.peak_flow_m3_min = None;
+        s.demand.peak_flow_m3_min = None;
+        withhold(
+            &mut w,
+            "system.peak_flow_m3_min",
+            "no minute of the period holds enough flow readings for a peak",
+        );
+    }
     match s.system.peak_power_kw {
         Some(p) if p + 1e-9 >= s.system.mean_power_kw => {}
         Some(_) | None => {

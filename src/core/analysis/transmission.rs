@@ -12,17 +12,20 @@ use crate::core::units::SiteAir;
 /// bar(g) (common practice for shop air, stated in the assumptions when used).
 pub const FALLBACK_LINE_PRESSURE_BAR_G: f64 = 7.0;
 
-/// What the summary says that the treatment figures need, and whether the line pressure is assumed.
-pub fn plant_of(s: &Summary) -> (PlantFigures, bool) {
+/// What the summary says that the treatment figures need, and whether the line pressure is assumed
+/// (`None`: no mean flow is known, and every record is priced on it: a purge following the load,
+/// a filter's drop at the flow, the demand split).
+pub fn plant_of(s: &Summary) -> Option<(PlantFigures, bool)> {
+    let mean_flow_m3_min = s.system.mean_flow_m3_min?;
     let (line, assumed) = match (s.pressure.mean_bar_g, s.pressure.highest_rated_bar_g) {
         (Some(p), _) => (p, false),
         (None, Some(p)) => (p, false),
         (None, None) => (FALLBACK_LINE_PRESSURE_BAR_G, true),
     };
     let share = s.demand.production_share_of_time.clamp(0.0, 1.0);
-    (
+    Some((
         PlantFigures {
-            mean_flow_m3_min: s.system.mean_flow_m3_min,
+            mean_flow_m3_min,
             production_share_of_time: share,
             annual_running_hours: s.baseline.annual_running_hours,
             annual_production_hours: s.baseline.annual_hours * share,
@@ -32,7 +35,7 @@ pub fn plant_of(s: &Summary) -> (PlantFigures, bool) {
             leak_flow_m3_min: s.leaks.adopted_leak_flow_m3_min,
         },
         assumed,
-    )
+    ))
 }
 
 /// Put the transmission figures and the demand split on the summary, with their methods.
@@ -51,7 +54,15 @@ pub fn apply(s: &mut Summary, records: &Records, site: &SiteAir) {
         });
         return;
     }
-    let (plant, assumed) = plant_of(s);
+    let Some((plant, assumed)) = plant_of(s) else {
+        let why = s.sufficiency.withheld.iter().find(|w| w.figure == "system.mean_flow_m3_min");
+        let reason = format!(
+            "the treatment records and end uses are priced on the mean flow, which is not known ({})",
+            why.map_or("no flow logged", |w| w.reason.as_str())
+        );
+        s.sufficiency.withheld.push(super::figures::Withheld { figure: "transmission".into(), reason });
+        return;
+    };
     match treatment::figures(records, &plant, site) {
         Ok((mut t, split)) => {
             price_filters(&mut t, s, &plant);
@@ -180,7 +191,7 @@ pub fn first_pass(s: &Summary, records: &Records, site: &SiteAir) -> (f64, Treat
     if records.is_empty() {
         return (0.0, TreatmentCuts::default());
     }
-    let (plant, _) = plant_of(s);
+    let Some((plant, _)) = plant_of(s) else { return (0.0, TreatmentCuts::default()) };
     match treatment::figures(records, &plant, site) {
         Ok((t, split)) => (split.purge_and_drains_m3_min, cuts(&t, plant.line_pressure_bar_g)),
         Err(_) => (0.0, TreatmentCuts::default()),

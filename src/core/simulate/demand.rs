@@ -27,6 +27,39 @@ pub(super) struct Demand {
     pub(super) max_prod: f64,
     /// What the replay left out of the data and why, in parts (the result's `note_parts`).
     pub(super) notes: Vec<Vec<Part>>,
+    /// Why there is no demand to replay, when there is none (the module doc's "Demand").
+    pub(super) no_demand: Option<String>,
+}
+
+/// Why the demand `q` (m³/s free air a bin, after the short gaps are held) gives nothing to replay:
+/// no bin holds a demand, or none holds one above nothing. A plant replayed on no demand never
+/// loads, and its energy against the logged energy would read -100 %.
+fn no_demand(q: &[f32], metered: bool, drew_power: bool, step_s: f64) -> Option<String> {
+    let known = q.iter().filter(|v| v.is_finite());
+    if known.clone().any(|&v| v > 0.0) {
+        return None;
+    }
+    let any = known.count() > 0;
+    let why = match (metered, any) {
+        (true, false) => "the flow meters logged no reading that the replay can use".to_string(),
+        (true, true) => "the flow logged is nil in every time step".to_string(),
+        (false, true) if !drew_power => "no flow was logged, and the compressors' logged power shows them \
+                                         off throughout"
+            .to_string(),
+        (false, false) => "no flow was logged, and the compressors' load states, read from their power, are \
+                           known for every compressor at once in no time step (their power logs do not \
+                           overlap)"
+            .to_string(),
+        (false, true) => format!(
+            "no flow was logged, and the compressors' load states, read from their logged power on the \
+             log's {} time step, show none of them loaded at any time although they drew power: a power \
+             averaged over long intervals, as an energy counter's between its readings, lies between the \
+             loaded and unloaded levels and hides the loading. Log the flow, or the power every few \
+             seconds, to replay the plant",
+            crate::core::display::duration_words(step_s)
+        ),
+    };
+    Some(format!("no demand to replay: {why}"))
 }
 
 pub(super) fn prepare_demand(input: &SimInput) -> Result<Demand, ScenarioError> {
@@ -41,7 +74,9 @@ pub(super) fn prepare_demand(input: &SimInput) -> Result<Demand, ScenarioError> 
         .header_pressure()
         .filter(|_| input.pressure_credible)
         .map(|c| c.values.iter().map(|&v| (v as f64 - atm) / PA_PER_BAR).collect());
-    let mut q: Vec<f32> = match frame.system_flow() {
+    let metered_q = frame.system_flow();
+    let metered = metered_q.is_some();
+    let mut q: Vec<f32> = match metered_q {
         Some(q) => q,
         None => {
             let mut sum = vec![0.0f32; n];
@@ -93,6 +128,10 @@ pub(super) fn prepare_demand(input: &SimInput) -> Result<Demand, ScenarioError> 
             q[start..i].iter_mut().for_each(|x| *x = v);
         }
     }
+    let drew_power = (0..input.compressors.len())
+        .filter_map(|i| frame.power_of(i))
+        .any(|c| c.values.iter().any(|&w| w.is_finite() && w > 0.0));
+    let no_demand = no_demand(&q, metered, drew_power, step_s);
     let mean_p = pressure.as_ref().and_then(|p| {
         let (s, c) = p.iter().filter(|v| v.is_finite()).fold((0.0, 0usize), |(s, c), v| (s + v, c + 1));
         (c > 0).then(|| s / c as f64)
@@ -178,5 +217,6 @@ pub(super) fn prepare_demand(input: &SimInput) -> Result<Demand, ScenarioError> 
         peak_window_s: w as f64 * step_s,
         max_prod,
         notes,
+        no_demand,
     })
 }

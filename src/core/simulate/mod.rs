@@ -16,6 +16,11 @@ must reproduce the logged energy: `validation_error`) and the plant with the sce
 - A leak estimate at or above the replayed demand's mean flow cannot be a part of that demand (the
   leak test and the log describe different conditions, as with a leak share above 100 %, which
   the summary withholds): the replay leaves it out, and says so in `note_parts`.
+- **No demand to replay**: when no time step holds a demand above nothing (no flow logged and the
+  states of the compressors' power show none of them loaded, as a power averaged between an
+  energy counter's quarter-hourly readings does; or a flow log that is nil), the replay is not run:
+  its figures are `null` and `no_demand_reason` says why in words, never a plant that never loads
+  read as 0 kWh against the logged energy (-100 %).
 - A missing bin holds the last demand if the gap is at most [`HOLD_GAP_S`]; a longer gap is skipped:
   it is left out of the simulated energy and of the logged energy alike (the plant's state carries
   over the gap unchanged).
@@ -244,6 +249,10 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
                 (c, CostSource::DefaultEstimate, lines)
             }
         };
+    if let Some(why) = demand.no_demand.clone() {
+        let cost = (implementation_cost, implementation_cost_source, implementation_cost_basis);
+        return Ok(no_demand_result(&demand, why, cost, scenario.supply_side_only(), calibration));
+    }
 
     let base_plant =
         build_plant(input.compressors, &default_order(input.compressors), 0.0, base_volume, 1.0, &blowdowns);
@@ -365,5 +374,52 @@ pub fn run(input: &SimInput, scenario: &Scenario) -> Result<SimResult, ScenarioE
         compressors,
         pressure_trace: out.trace,
         calibration,
+        no_demand_reason: None,
     })
+}
+
+/// The result of a replay with no demand to replay (the module doc's "Demand"): every figure of
+/// the replay `NaN` (`null`), never a plant that never loads read as 0 kWh and a -100 %
+/// validation error; the logged energy, the cost of the changes and the reason stay.
+fn no_demand_result(
+    demand: &demand::Demand,
+    why: String,
+    (implementation_cost, implementation_cost_source, implementation_cost_basis): (
+        f64,
+        CostSource,
+        Vec<String>,
+    ),
+    supply_side_only: bool,
+    calibration: Vec<String>,
+) -> SimResult {
+    let logged_kws: f64 =
+        demand.logged_w.iter().flatten().filter(|w| w.is_finite()).map(|&w| w as f64 / 1000.0).sum();
+    SimResult {
+        energy_kwh: f64::NAN,
+        mean_power_kw: f64::NAN,
+        peak_power_kw: f64::NAN,
+        min_pressure_bar_g: f64::NAN,
+        mean_pressure_bar_g: f64::NAN,
+        time_below_min_required_s: f64::NAN,
+        min_required_pressure_bar_g: f64::NAN,
+        validation_error: f64::NAN,
+        logged_energy_kwh: logged_kws * demand.step_s / 3600.0,
+        baseline_energy_kwh: f64::NAN,
+        energy_saving_kwh: f64::NAN,
+        simulated_hours: 0.0,
+        // Nothing shows that the plant holds its pressure: no replay of this can be the proposal.
+        feasible: false,
+        problems: vec![],
+        problem_parts: vec![],
+        // The reason says it all (a leak note would compare the leaks with a demand of nothing).
+        note_parts: vec![],
+        implementation_cost,
+        implementation_cost_source,
+        implementation_cost_basis,
+        supply_side_only,
+        compressors: vec![],
+        pressure_trace: vec![],
+        calibration,
+        no_demand_reason: Some(why),
+    }
 }

@@ -77,6 +77,10 @@ pub struct SimResult {
     /// The machines calibrated from the log, one line each (the module doc's "Calibration").
     #[serde(default)]
     pub calibration: Vec<String>,
+    /// Why there is no demand to replay, in words ("no demand to replay: ..."), when there is none:
+    /// the replay's figures are then `null` (the module doc's "Demand"). Absent otherwise.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub no_demand_reason: Option<String>,
 }
 
 /// Where a scenario's implementation cost comes from; written `given` or `default_estimate`.

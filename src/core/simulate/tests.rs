@@ -610,3 +610,59 @@ fn a_thin_replay_meets_its_logged_peak_says_what_it_left_out_and_draws_its_two_b
     // A pressure log of another system is not the plant's start: the replay starts in its band.
     assert!(base.pressure_trace.iter().all(|p| p.1 > 6.0), "{:?}", base.pressure_trace);
 }
+
+/// A 55 kW load/unload machine whose power comes from an energy counter read every 15 minutes:
+/// 26 kW in every reading, the mean of its loading and unloading, which the states read as
+/// unloaded throughout (under the midpoint of its 25 % unloaded and full levels). No flow meter.
+fn quarter_hour_counter_frame(kw: f32) -> Frame {
+    let len = 4 * 24;
+    Frame {
+        grid: Grid { start_ms: 1_700_000_100_000 / 900_000 * 900_000, step_ms: 900_000, len },
+        columns: vec![FrameColumn {
+            point: Default::default(),
+            signal: Signal::Power,
+            compressor: Some(0),
+            label: "C1 energy".into(),
+            values: vec![kw * 1000.0; len],
+            partial: vec![],
+        }],
+    }
+}
+
+#[test]
+fn a_counter_that_hides_the_loading_leaves_no_demand_to_replay_and_says_why() {
+    let c = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let r = run_plant(&quarter_hour_counter_frame(26.0), &c, 1.0, None, &as_is());
+    let why = r.no_demand_reason.clone().expect("no demand to replay");
+    assert!(
+        why.starts_with(
+            "no demand to replay: no flow was logged, and the compressors' load states, read from their \
+             logged power on the log's 15 min time step, show none of them loaded"
+        ),
+        "{why}"
+    );
+    // No replay figure: no 0 kWh, no -100 % (a plant that never loads against 624 kWh logged).
+    for v in [r.energy_kwh, r.baseline_energy_kwh, r.validation_error, r.mean_power_kw, r.peak_power_kw] {
+        assert!(v.is_nan(), "{v}");
+    }
+    // The logged energy stays: 26 kW × 24 h = 624 kWh.
+    assert!((r.logged_energy_kwh - 624.0).abs() < 1e-6, "{}", r.logged_energy_kwh);
+    assert!(!r.feasible && r.compressors.is_empty() && r.pressure_trace.is_empty());
+    let j = serde_json::to_value(&r).unwrap();
+    for f in ["energy_kwh", "validation_error", "baseline_energy_kwh", "energy_saving_kwh"] {
+        assert!(j[f].is_null(), "{f}: {}", j[f]);
+    }
+    assert_eq!(j["no_demand_reason"], serde_json::json!(why));
+    // Off throughout: said so, without a word of loading hidden.
+    let r = run_plant(&quarter_hour_counter_frame(0.0), &c, 1.0, None, &as_is());
+    assert_eq!(
+        r.no_demand_reason.as_deref(),
+        Some("no demand to replay: no flow was logged, and the compressors' logged power shows them off throughout")
+    );
+    // A counter at a level the states read as loaded replays: 50 kW is loaded, 9.5 m³/min a step.
+    let r = run_plant(&quarter_hour_counter_frame(50.0), &c, 1.0, None, &as_is());
+    assert_eq!(r.no_demand_reason, None);
+    assert!(r.energy_kwh > 0.0 && r.validation_error.is_finite());
+    let j = serde_json::to_value(&r).unwrap();
+    assert!(j.get("no_demand_reason").is_none(), "absent when there is demand");
+}

@@ -82,6 +82,8 @@ pub struct ScenarioRow {
     pub problems: Vec<String>,
     /// What the replay left out of the logged data and why.
     pub notes: Vec<String>,
+    /// Why there was no demand to replay ("no demand to replay: ..."): its figures are dashes.
+    pub no_demand: Option<String>,
     pub cost: String,
     /// Where the cost is from: "quoted" or "default estimate".
     pub cost_source: &'static str,
@@ -154,12 +156,15 @@ pub async fn scenarios(
             let saving = nan(r.energy_saving_kwh);
             let validation_error = nan(r.validation_error);
             let max_v = MAX_SCENARIO_VALIDATION_ERROR;
-            let may_propose = may_propose(&sc.changes, r.feasible).is_ok();
+            let may_propose = may_propose(&sc.changes, r.feasible, r.no_demand_reason.as_deref()).is_ok();
             let baseline = sc.changes.as_array().is_none_or(Vec::is_empty);
+            let no_demand = r.no_demand_reason.clone();
             let offer = if offered_id == Some(sc.id) {
                 "the proposal: on the report as the control measure".to_string()
             } else if baseline {
                 "the baseline: every saving here is measured against it; it is not a measure".into()
+            } else if no_demand.is_some() {
+                "not offered: there is no demand to replay".into()
             } else if insufficient {
                 // Before any judgement of the replay itself: on such data no replay is a measure.
                 "not offered: the logged data are not enough for annual figures".into()
@@ -198,12 +203,16 @@ pub async fn scenarios(
                 id: sc.id,
                 name: sc.name.clone(),
                 changes: changes_in_words(&sc.changes, &fmt),
-                energy: energy_unit.number(nan(r.energy_kwh)),
+                // No demand to replay: said in words, never a plant that never loaded (0 kWh).
+                energy: match &no_demand {
+                    Some(_) => "no demand to replay".into(),
+                    None => energy_unit.number(nan(r.energy_kwh)),
+                },
                 saving: energy_unit.number(saving),
-                cost_saving_is_text: r.feasible == Some(false),
+                cost_saving_is_text: r.feasible == Some(false) && no_demand.is_none(),
                 // A plant that does not hold its pressure delivers less air than the log asked of
                 // it: its lower energy is no saving, and it is not priced as one.
-                cost_saving: if baseline {
+                cost_saving: if baseline || no_demand.is_some() {
                     "–".into()
                 } else if r.feasible == Some(false) {
                     "none: the plant falls short of its demand".into()
@@ -212,7 +221,7 @@ pub async fn scenarios(
                 } else {
                     "–".into()
                 },
-                payback: if baseline {
+                payback: if baseline || no_demand.is_some() {
                     "–".into()
                 } else if r.feasible == Some(false) {
                     "none".into()
@@ -239,6 +248,11 @@ pub async fn scenarios(
                 } else {
                     "default estimate"
                 },
+                // As a sentence: "No demand to replay: ...".
+                no_demand: no_demand.map(|w| {
+                    let mut c = w.chars();
+                    c.next().map_or(String::new(), |f| f.to_uppercase().chain(c).collect::<String>() + ".")
+                }),
                 offered: offered_id == Some(sc.id),
                 proposal: sc.proposal,
                 may_propose,
@@ -254,6 +268,10 @@ pub async fn scenarios(
     // A line needs two points: a replay of one time step (or none) draws nothing, and says so.
     let drawable = outcomes.iter().any(|r| r.pressure_trace.as_array().is_some_and(|p| p.len() >= 2));
     let no_trace = (!drawable && !outcomes.is_empty()).then(|| {
+        if outcomes.iter().all(|r| r.no_demand_reason.is_some()) {
+            return "No pressure to draw: there is no demand to replay (why is said under each replay)."
+                .into();
+        }
         let hours =
             outcomes.iter().filter_map(|r| r.simulated_hours).filter(|h| h.is_finite()).fold(0.0, f64::max);
         format!(
@@ -287,6 +305,7 @@ pub async fn scenarios(
         energy_unit: energy_unit.label(),
         period: outcomes
             .iter()
+            .filter(|r| r.no_demand_reason.is_none())
             .filter_map(|r| r.simulated_hours)
             .fold(None, |m: Option<f64>, h| Some(m.map_or(h, |m| m.max(h))))
             .map_or("–".into(), |h| fmt.hours(h)),

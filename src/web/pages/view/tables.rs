@@ -90,28 +90,31 @@ pub(super) fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
     vec![
         (
             "Mean flow".into(),
-            range(
-                |x| fmt.flow_m3_min(x),
-                sys.mean_flow_m3_min,
-                sys.mean_flow_m3_min_low,
-                sys.mean_flow_m3_min_high,
-            ),
+            match sys.mean_flow_m3_min {
+                Some(q) => range(
+                    |x| fmt.flow_m3_min(x),
+                    q,
+                    nan(sys.mean_flow_m3_min_low),
+                    nan(sys.mean_flow_m3_min_high),
+                ),
+                None => format!("{NOT_ENOUGH_DATA} ({})", withheld(sm, "system.mean_flow_m3_min")),
+            },
         ),
         (
             format!("Peak flow, highest {} mean", window_words(sys.peak_flow_window_s)),
-            if sys.peak_flow_window_s > sm.period.step_s {
-                format!(
+            match sys.peak_flow_m3_min {
+                None => format!("{NOT_ENOUGH_DATA} ({})", withheld(sm, "system.peak_flow_m3_min")),
+                Some(peak) if sys.peak_flow_window_s > sm.period.step_s => format!(
                     "{} (on the clock's minutes; a single {} time step and the top of the flow duration \
                      curve read higher)",
-                    fmt.flow_m3_min(sys.peak_flow_m3_min),
+                    fmt.flow_m3_min(peak),
                     duration_s(sm.period.step_s)
-                )
-            } else {
-                format!(
+                ),
+                Some(peak) => format!(
                     "{} (one analysis time step: the log's step is a minute or longer, so the top of the \
                      flow duration curve is this same figure)",
-                    fmt.flow_m3_min(sys.peak_flow_m3_min)
-                )
+                    fmt.flow_m3_min(peak)
+                ),
             },
         ),
         (
@@ -185,6 +188,16 @@ pub(super) fn heat_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, Stri
 pub(super) fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
     let t = &sm.transmission;
     let mut rows = vec![];
+    // Records left unpriced for a reason of their own (no mean flow known); on insufficient data
+    // the section says so in its own words.
+    if sm.sufficiency.verdict != Verdict::Insufficient
+        && sm.sufficiency.withheld.iter().any(|w| w.figure == "transmission")
+    {
+        rows.push((
+            "Dryers, drains, filters and end uses on record".into(),
+            format!("not priced: {NOT_ENOUGH_DATA} ({})", withheld(sm, "transmission")),
+        ));
+    }
     let words = crate::core::model::human_label;
     for d in &t.dryers {
         rows.push((
