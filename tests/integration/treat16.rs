@@ -173,3 +173,61 @@ fn bores_shares_and_times_beyond_the_trades_are_refused_in_words_all_at_once() {
     );
     assert_eq!(r.status, 201, "{}", r.text);
 }
+
+/// What the meter measured is stored, and what depends on the site is derived again when the site
+/// changes: a bleed-down recorded at sea level reads more free air once the site is set at 1000 m
+/// and a warmer inlet, as V Δp / p_atm × T_inlet / T_air says (US DOE sourcebook, leaks fact
+/// sheet); a load/unload test follows its compressor's rated flow.
+#[test]
+fn a_site_edit_derives_stored_field_tests_again() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let tests = format!("/api/v1/audits/{id}/field-tests");
+    let r = s.post_json(
+        &tests,
+        &json!({"kind": "bleed_down", "volume_m3": 2.0, "start_pressure_bar_g": 7.0,
+                "end_pressure_bar_g": 5.0, "duration_s": 120.0, "air_temperature_c": 20.0}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let r = s.post_json(
+        &tests,
+        &json!({"kind": "load_unload", "compressor": "C1", "loaded_s": 30.0, "unloaded_s": 90.0}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let results = || {
+        let a = s.get(&format!("/api/v1/audits/{id}")).json();
+        let t = a["field_tests"].as_array().unwrap().clone();
+        (t[0]["result"].clone(), t[1]["result"].clone())
+    };
+    let mean = |r: &serde_json::Value| r["mean_leak_flow_m3_min"].as_f64().unwrap();
+    // Sea level (101.325 kPa), inlet 20 °C = the stored air's: 2 m³ × 2 bar / 1.01325 bar / 2 min.
+    let (bleed, load) = results();
+    let before = bleed.clone();
+    let at_sea = 2.0 * 2.0e5 / 101_325.0 / 2.0;
+    assert!((mean(&bleed) - at_sea).abs() < 1e-9 * at_sea, "{bleed}");
+    // T / (T + t) × 9.5 m³/min = 2.375 m³/min (US DOE sourcebook, leaks fact sheet).
+    assert!((load["leak_flow_m3_min"].as_f64().unwrap() - 2.375).abs() < 1e-9, "{load}");
+
+    // The site at 1000 m (89.875 kPa: ASHRAE Fundamentals, chapter 1, eq. 3) and a 35 °C inlet.
+    let r = s.patch_json(
+        &format!("/api/v1/audits/{id}"),
+        &json!({"site": {"altitude_m": 1000, "inlet_temperature_c": 35}}),
+    );
+    assert_eq!(r.status, 200, "{}", r.text);
+    let (bleed, _) = results();
+    let up_hill = 2.0 * 2.0e5 / 89_875.0 / 2.0 * (308.15 / 293.15);
+    let got = mean(&bleed);
+    assert!((got - up_hill).abs() < 1e-4 * up_hill, "{got} against {up_hill}: {bleed}");
+    assert!((got / at_sea - 1.185).abs() < 0.001, "the flow follows the site: {got} against {at_sea}");
+    // The flow at operating pressure, read from the same stored figures, moved with it.
+    let op = |r: &serde_json::Value| r["leak_flow_at_operating_pressure_m3_min"].as_f64().unwrap();
+    assert!(op(&bleed) > 1.1 * op(&before), "{bleed} against {before}");
+
+    // A compressor's rated flow edited: the load/unload test reads the new one, 30/120 × 12.
+    let cid = s.get(&format!("/api/v1/audits/{id}")).json()["compressors"][0]["id"].as_i64().unwrap();
+    let c1 = json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+                    "rated_power_kw": 55, "rated_flow_m3_min": 12.0, "rated_pressure_bar_g": 7.5});
+    assert_eq!(s.put_json(&format!("/api/v1/audits/{id}/compressors/{cid}"), &c1).status, 200);
+    let (_, load) = results();
+    assert!((load["leak_flow_m3_min"].as_f64().unwrap() - 3.0).abs() < 1e-9, "{load}");
+}
