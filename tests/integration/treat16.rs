@@ -231,3 +231,34 @@ fn a_site_edit_derives_stored_field_tests_again() {
     let (_, load) = results();
     assert!((load["leak_flow_m3_min"].as_f64().unwrap() - 3.0).abs() < 1e-9, "{load}");
 }
+
+/// The findings say a flow's range with its unit once ("2.72–2.89 m³/min free air"), in both unit
+/// systems: the leak note's likely range and the leak table's, from the summary's own low and high
+/// figures (1 ft³ = 0.028 316 846 592 m³, NIST SP 811).
+#[test]
+fn the_findings_say_a_ranges_unit_once() {
+    let s = Server::demo();
+    let sm = s.get("/api/v1/audits/1/summary").json();
+    let l = &sm["leaks"];
+    let (lo, hi) = (
+        l["adopted_leak_flow_m3_min_low"].as_f64().unwrap(),
+        l["adopted_leak_flow_m3_min_high"].as_f64().unwrap(),
+    );
+    // Three significant figures, as every figure prints; cfm with at most one decimal.
+    let cfm = |q: f64| {
+        let v = q / 0.028_316_846_592;
+        if v >= 100.0 {
+            format!("{v:.0}")
+        } else {
+            format!("{v:.1}")
+        }
+    };
+    for (units, want) in [
+        ("si", format!("(likely {lo:.2}–{hi:.2} m³/min free air)")),
+        ("us", format!("(likely {}–{} cfm free air)", cfm(lo), cfm(hi))),
+    ] {
+        let page = s.get(&format!("/audits/1/findings?units={units}")).text.replace('\u{a0}', " ");
+        assert!(page.contains(&want), "{units}: no {want:?} in the leak note");
+        assert!(!page.contains("free air to "), "{units}: a range repeats its unit");
+    }
+}
