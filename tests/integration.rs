@@ -48,6 +48,8 @@ mod refusals16;
 mod thin_counter;
 #[path = "integration/thin_files.rs"]
 mod thin_files;
+#[path = "integration/treat16.rs"]
+mod treat16;
 #[path = "integration/treatment.rs"]
 mod treatment;
 #[path = "integration/undo.rs"]

@@ -189,6 +189,10 @@ impl App {
             &site,
         )
         .await?;
+        // What the meter measured is stored: the tests read on the site's air as it is now.
+        if site != a.site {
+            self.rederive_field_tests(id).await?;
+        }
         Ok(())
     }
 
@@ -198,7 +202,11 @@ impl App {
         let mut rec = CompressorRecord::from_input_in(input, units)?;
         rec.id = id;
         match audits::save_compressor(self.db(), audit_id, &rec).await? {
-            CompressorWrite::Stored(id) => Ok(id),
+            CompressorWrite::Stored(id) => {
+                // A load/unload test reads its compressor's rated free air delivery.
+                self.rederive_field_tests(audit_id).await?;
+                Ok(id)
+            }
             CompressorWrite::TagTaken => {
                 Err(Error::Conflict(format!("this audit has a compressor tagged {:?} already", rec.spec.tag)))
             }
@@ -208,28 +216,44 @@ impl App {
     /// Delete a compressor; `false` if the audit has no such compressor.
     pub async fn delete_compressor(&self, audit_id: i64, id: i64) -> Result<bool> {
         self.audit(audit_id).await?;
-        Ok(audits::delete_compressor(self.db(), audit_id, id).await?)
+        let gone = audits::delete_compressor(self.db(), audit_id, id).await?;
+        self.rederive_field_tests(audit_id).await?;
+        Ok(gone)
     }
 
     pub async fn add_receiver(&self, audit_id: i64, input: &ReceiverInput) -> Result<i64> {
         let units = self.audit(audit_id).await?.site.display_units;
         input.validate_in(units)?;
-        Ok(audits::add_receiver(self.db(), audit_id, input.name.trim(), input.volume_m3, &input.notes)
-            .await?)
+        let rid = audits::add_receiver(self.db(), audit_id, input.name.trim(), input.volume_m3, &input.notes)
+            .await?;
+        // A bleed-down without its own volume reads the system volume.
+        self.rederive_field_tests(audit_id).await?;
+        Ok(rid)
     }
 
     /// Edit a receiver; `false` if the audit has no such receiver.
     pub async fn update_receiver(&self, audit_id: i64, id: i64, input: &ReceiverInput) -> Result<bool> {
         let units = self.audit(audit_id).await?.site.display_units;
         input.validate_in(units)?;
-        Ok(audits::update_receiver(self.db(), audit_id, id, input.name.trim(), input.volume_m3, &input.notes)
-            .await?)
+        let found = audits::update_receiver(
+            self.db(),
+            audit_id,
+            id,
+            input.name.trim(),
+            input.volume_m3,
+            &input.notes,
+        )
+        .await?;
+        self.rederive_field_tests(audit_id).await?;
+        Ok(found)
     }
 
     /// Delete a receiver; `false` if the audit has no such receiver.
     pub async fn delete_receiver(&self, audit_id: i64, id: i64) -> Result<bool> {
         self.audit(audit_id).await?;
-        Ok(audits::delete_receiver(self.db(), audit_id, id).await?)
+        let gone = audits::delete_receiver(self.db(), audit_id, id).await?;
+        self.rederive_field_tests(audit_id).await?;
+        Ok(gone)
     }
 
     /// Set (or with `None` clear) the implementation cost an auditor gave for a kind of measure.

@@ -63,6 +63,36 @@ impl App {
         body: &serde_json::Value,
     ) -> Result<(&'static str, serde_json::Value)> {
         let b = self.bundle(id).await?;
+        self.evaluate_on(&b, body).await
+    }
+
+    /// Every stored test evaluated again from its stored input (what was measured) on the audit as
+    /// it is now, after an edit of what a test reads (the site's air, the compressors, the system
+    /// volume): a bleed-down's free air follows the site's atmosphere and inlet temperature. The
+    /// results that changed are stored in one transaction; a test that no longer evaluates (its
+    /// compressor removed) keeps the result it had.
+    pub(crate) async fn rederive_field_tests(&self, id: i64) -> Result<usize> {
+        let b = self.bundle(id).await?;
+        let mut changed = Vec::new();
+        for t in &b.field_tests {
+            match self.evaluate_on(&b, &t.input).await {
+                Ok((_, result)) if result != t.result => changed.push((t.id, result)),
+                Ok(_) => {}
+                Err(e) => tracing::info!(audit_id = id, test = t.id, error = %e, "field test kept as stored"),
+            }
+        }
+        if !changed.is_empty() {
+            audits::set_field_test_results(self.db(), id, &changed).await?;
+        }
+        Ok(changed.len())
+    }
+
+    /// A field test's method and result on the audit `b`.
+    async fn evaluate_on(
+        &self,
+        b: &super::audits::AuditBundle,
+        body: &serde_json::Value,
+    ) -> Result<(&'static str, serde_json::Value)> {
         let input: FieldTestInput =
             crate::site::read_json(body.clone(), "this field test").map_err(Error::from)?;
         let site = b.audit.site.air();
@@ -95,7 +125,7 @@ impl App {
             _ => None,
         };
         let frame = match window {
-            Some(w) => self.frame_for(&b, Some(w)).await?,
+            Some(w) => self.frame_for(b, Some(w)).await?,
             None => None,
         };
         ctx.frame = frame.as_deref();

@@ -5,11 +5,12 @@
 use serde::{Deserialize, Serialize};
 
 use super::{App, Error, Result};
+use crate::core::treatment::bounds;
 use crate::core::treatment::{
     Drain, DrainKind, Dryer, DryerControl, DryerKind, EndUse, EndUseKind, Filter, FilterKind, Records,
     TreatmentError,
 };
-use crate::core::units::FreeAirFlow;
+use crate::core::units::{FreeAirFlow, UnitSystem};
 use crate::store::audits;
 
 /// Which list a record belongs to: its table kind and its API path segment.
@@ -153,6 +154,9 @@ pub struct EndUseInput {
     pub regulated: bool,
     #[serde(default)]
     pub alternative_kw: Option<f64>,
+    /// Fed through a booster: its pressure may then be above what the plant's compressors make.
+    #[serde(default)]
+    pub boosted: bool,
 }
 
 impl EndUseInput {
@@ -228,15 +232,32 @@ pub enum TreatmentInput {
     Filter(FilterInput),
 }
 
+/// What a record is checked against beyond itself: the units its refusals quote and the highest
+/// pressure the plant's compressors make (`bounds::plant_pressure`: bar(g) and the machine's tag).
+#[derive(Debug, Clone)]
+pub struct Plant {
+    pub units: UnitSystem,
+    pub pressure: Option<(f64, String)>,
+}
+
 impl TreatmentInput {
-    /// Every refusal of the record at once (`core::treatment`'s `refusals`), for a form that shows
-    /// each beside its field; a word that cannot be read (kind, control) alone.
-    pub fn refusals(&self) -> Vec<TreatmentError> {
+    /// Every refusal of the record at once (`core::treatment`'s `refusals_in`, then an end use's
+    /// pressure against the plant's), in `plant.units`, for a form that shows each beside its
+    /// field; a word that cannot be read (kind, control) alone.
+    pub fn refusals(&self, plant: &Plant) -> Vec<TreatmentError> {
+        let units = plant.units;
         let all = match self {
-            TreatmentInput::Dryer(i) => i.parsed().map(|c| c.refusals()),
-            TreatmentInput::Drain(i) => i.parsed().map(|c| c.refusals()),
-            TreatmentInput::EndUse(i) => i.parsed().map(|c| c.refusals()),
-            TreatmentInput::Filter(i) => i.parsed().map(|c| c.refusals()),
+            TreatmentInput::Dryer(i) => i.parsed().map(|c| c.refusals_in(units)),
+            TreatmentInput::Drain(i) => i.parsed().map(|c| c.refusals_in(units)),
+            TreatmentInput::EndUse(i) => i.parsed().map(|c| {
+                let mut all = c.refusals_in(units);
+                let at_plant = plant.pressure.as_ref().map(|(p, tag)| (*p, tag.as_str()));
+                if !all.iter().any(|e| e.field == "pressure_bar_g") {
+                    all.extend(bounds::end_use_pressure(i.pressure_bar_g, i.boosted, at_plant, units));
+                }
+                all
+            }),
+            TreatmentInput::Filter(i) => i.parsed().map(|c| c.refusals_in(units)),
         };
         all.unwrap_or_else(|e| vec![e])
     }
@@ -250,9 +271,9 @@ impl TreatmentInput {
         }
     }
 
-    /// The record checked by `core::treatment` and put in its stored form (its text trimmed).
-    fn checked(mut self) -> Result<String> {
-        let field = |e: TreatmentError| Error::field(e.field, e.message);
+    /// The record checked (every refusal at once, [`Self::refusals`]) and put in its stored form
+    /// (its text trimmed).
+    fn checked(mut self, plant: &Plant) -> Result<String> {
         let (name, text) = match &self {
             TreatmentInput::EndUse(i) => ("name", i.name.as_str()),
             TreatmentInput::Dryer(DryerInput { tag, .. })
@@ -262,6 +283,13 @@ impl TreatmentInput {
         if text.chars().count() > MAX_TEXT {
             return Err(Error::field(name, format!("at most {MAX_TEXT} characters")));
         }
+        let all = self.refusals(plant);
+        if !all.is_empty() {
+            return Err(Error::fields(
+                all.into_iter().map(|e| crate::site::FieldError::new(e.field, e.message)).collect(),
+            ));
+        }
+        let field = |e: TreatmentError| Error::field(e.field, e.message);
         let v = match &mut self {
             TreatmentInput::Dryer(i) => {
                 i.tag = i.to_core().map_err(field)?.tag;
@@ -334,19 +362,32 @@ pub fn records(items: &[audits::TreatmentItemRecord]) -> Records {
 }
 
 impl App {
+    /// What an audit's records are checked against: its units and its plant's highest pressure.
+    pub async fn treatment_plant(&self, audit_id: i64) -> Result<Plant> {
+        let units = self.audit(audit_id).await?.site.display_units;
+        let compressors = audits::compressors(self.db(), audit_id).await?;
+        let pressure = bounds::plant_pressure(
+            compressors
+                .iter()
+                .map(|c| (c.spec.tag.as_str(), c.spec.rated_pressure_bar_g, c.spec.max_pressure_bar_g)),
+        )
+        .map(|(p, tag)| (p, tag.to_string()));
+        Ok(Plant { units, pressure })
+    }
+
     /// Add a dryer, filter, drain or end use; its id.
     pub async fn add_treatment_item(&self, audit_id: i64, input: TreatmentInput) -> Result<i64> {
-        self.audit(audit_id).await?;
+        let plant = self.treatment_plant(audit_id).await?;
         let kind = input.kind();
-        let stored = input.checked()?;
+        let stored = input.checked(&plant)?;
         Ok(audits::add_treatment_item(self.db(), audit_id, kind.stored(), &stored).await?)
     }
 
     /// Replace a record; `false` if the audit has no such record of that kind.
     pub async fn update_treatment_item(&self, audit_id: i64, id: i64, input: TreatmentInput) -> Result<bool> {
-        self.audit(audit_id).await?;
+        let plant = self.treatment_plant(audit_id).await?;
         let kind = input.kind();
-        let stored = input.checked()?;
+        let stored = input.checked(&plant)?;
         Ok(audits::update_treatment_item(self.db(), audit_id, kind.stored(), id, &stored).await?)
     }
 

@@ -66,6 +66,28 @@ pub fn num(v: f64, decimals: usize) -> String {
     }
 }
 
+/// A range of two figures said with its unit once: "2.72–2.89 m³/min free air", "1,200–3,400 EUR",
+/// "12.0–14.5 %"; "-5 to 3 °C" when a figure is negative (a dash beside a minus misreads), and
+/// "a to b" whole when the two are not a number and the same unit.
+pub fn span(lo: &str, hi: &str) -> String {
+    fn split(s: &str) -> Option<(&str, &str)> {
+        s.split_once(' ').filter(|(n, _)| {
+            n.chars().any(|c| c.is_ascii_digit())
+                && n.chars().all(|c| c.is_ascii_digit() || ",.-".contains(c))
+        })
+    }
+    match (split(lo), split(hi)) {
+        (Some((a, u)), Some((b, v))) if u == v => {
+            if a.starts_with('-') || b.starts_with('-') {
+                format!("{a} to {b} {u}")
+            } else {
+                format!("{a}–{b} {u}")
+            }
+        }
+        _ => format!("{lo} to {hi}"),
+    }
+}
+
 /// A duration in words, whole units as people say them: "45 s", "0.5 s", "15 min",
 /// "1 min 30 s", "9 h 40 min", "3 days 4 h". Below a minute it stays in seconds (to three
 /// significant figures); from a minute it is rounded to the whole second, from an hour to the
@@ -486,6 +508,21 @@ pub fn local_ms_seconds(ms: i64, tz: &str) -> String {
 
 #[cfg(test)]
 mod tests {
+    #[test]
+    fn a_range_says_its_unit_once() {
+        use super::{span, Fmt, UnitSystem};
+        let (si, us) = (
+            Fmt::new(UnitSystem::Si, super::PressureAbs(101_325.0)),
+            Fmt::new(UnitSystem::Us, super::PressureAbs(101_325.0)),
+        );
+        let r = |f: &Fmt| span(&f.flow_m3_min(2.72), &f.flow_m3_min(2.89));
+        assert_eq!(r(&si), "2.72–2.89 m³/min free air");
+        // 2.72 and 2.89 m³/min are 96.06 and 102.06 cfm (1 ft³ = 0.028 316 846 592 m³, NIST SP 811).
+        assert_eq!(r(&us), "96.1–102 cfm free air");
+        assert_eq!(span("-5 °C", "3 °C"), "-5 to 3 °C");
+        assert_eq!(span("not enough data", "3 °C"), "not enough data to 3 °C");
+    }
+
     #[test]
     fn durations_are_said_in_whole_units_as_people_say_them() {
         use super::duration_words as d;

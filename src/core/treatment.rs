@@ -48,7 +48,7 @@ Safety: drains, dryers and filters are pressure equipment: isolate and vent befo
 use std::fmt;
 
 use super::leaks::orifice_leak;
-use super::units::{FreeAirFlow, PressureAbs, SiteAir};
+use super::units::{FreeAirFlow, PressureAbs, SiteAir, UnitSystem};
 
 /// A treatment or end-use record that cannot be used, naming the API field at fault.
 #[derive(Debug, Clone, PartialEq)]
@@ -58,7 +58,7 @@ pub struct TreatmentError {
 }
 
 impl TreatmentError {
-    fn new(field: &'static str, message: impl Into<String>) -> Self {
+    pub(crate) fn new(field: &'static str, message: impl Into<String>) -> Self {
         TreatmentError { field, message: message.into() }
     }
 }
@@ -189,11 +189,11 @@ fn take<T>(errs: &mut Vec<TreatmentError>, r: Result<T, TreatmentError>) -> Opti
     r.map_err(|e| errs.push(e)).ok()
 }
 
+/// A share, 0 to 1; refused in the pages' words, as a percentage ("must be from 0 % to 100 %").
 fn fraction(v: f64, field: &'static str) -> Result<f64, TreatmentError> {
-    if v.is_finite() && (0.0..=1.0).contains(&v) {
-        Ok(v)
-    } else {
-        Err(TreatmentError::new(field, format!("must be between 0 and 1 (a share), got {v}")))
+    match bounds::share(v, 1.0, "") {
+        None => Ok(v),
+        Some(m) => Err(TreatmentError::new(field, m)),
     }
 }
 
@@ -247,12 +247,27 @@ pub struct DryerFigures {
 pub const CYCLING_DRYER_FLOOR: f64 = 0.2;
 
 impl Dryer {
+    /// The record's first fault (what [`Self::sound`] lists): a stored record that passes it is
+    /// priced, even one typed before the bounds of [`bounds`].
     pub fn validate(&self) -> Result<(), TreatmentError> {
-        first(self.refusals())
+        first(self.sound())
     }
 
-    /// Every refusal at once, in the order of [`Self::validate`]'s checks.
+    /// Every refusal at once, refusals quoting SI (as [`Self::refusals_in`]).
     pub fn refusals(&self) -> Vec<TreatmentError> {
+        self.refusals_in(UnitSystem::Si)
+    }
+
+    /// Every refusal at once: the record's faults, then the values beyond the trade's
+    /// ([`bounds`]) in the reader's `units`.
+    pub fn refusals_in(&self, units: UnitSystem) -> Vec<TreatmentError> {
+        let mut all = self.sound();
+        all.extend(bounds::dryer(self, units));
+        all
+    }
+
+    /// The record's faults (a value that makes no sense), every one at once.
+    pub fn sound(&self) -> Vec<TreatmentError> {
         let mut errs = Vec::new();
         take(&mut errs, positive(self.rated_flow.m3_min(), "rated_flow_m3_min"));
         if let Some(p) = self.purge_fraction {
@@ -320,12 +335,27 @@ pub struct Drain {
 pub const SHARP_EDGE_CD: f64 = 0.61;
 
 impl Drain {
+    /// The record's first fault (what [`Self::sound`] lists): a stored record that passes it is
+    /// priced, even one typed before the bounds of [`bounds`].
     pub fn validate(&self) -> Result<(), TreatmentError> {
-        first(self.refusals())
+        first(self.sound())
     }
 
-    /// Every refusal at once, in the order of [`Self::validate`]'s checks.
+    /// Every refusal at once, refusals quoting SI (as [`Self::refusals_in`]).
     pub fn refusals(&self) -> Vec<TreatmentError> {
+        self.refusals_in(UnitSystem::Si)
+    }
+
+    /// Every refusal at once: the record's faults, then the values beyond the trade's
+    /// ([`bounds`]) in the reader's `units`.
+    pub fn refusals_in(&self, units: UnitSystem) -> Vec<TreatmentError> {
+        let mut all = self.sound();
+        all.extend(bounds::drain(self, units));
+        all
+    }
+
+    /// The record's faults (a value that makes no sense), every one at once.
+    pub fn sound(&self) -> Vec<TreatmentError> {
         let mut errs = Vec::new();
         if self.tag.trim().is_empty() {
             errs.push(TreatmentError::new("tag", "a drain needs a tag"));
@@ -421,12 +451,27 @@ pub fn drop_at_flow(drop_rated: f64, rated: FreeAirFlow, flow: FreeAirFlow) -> f
 }
 
 impl Filter {
+    /// The record's first fault (what [`Self::sound`] lists): a stored record that passes it is
+    /// priced, even one typed before the bounds of [`bounds`].
     pub fn validate(&self) -> Result<(), TreatmentError> {
-        first(self.refusals())
+        first(self.sound())
     }
 
-    /// Every refusal at once, in the order of [`Self::validate`]'s checks.
+    /// Every refusal at once, refusals quoting SI (as [`Self::refusals_in`]).
     pub fn refusals(&self) -> Vec<TreatmentError> {
+        self.refusals_in(UnitSystem::Si)
+    }
+
+    /// Every refusal at once: the record's faults, then the values beyond the trade's
+    /// ([`bounds`]) in the reader's `units`.
+    pub fn refusals_in(&self, units: UnitSystem) -> Vec<TreatmentError> {
+        let mut all = self.sound();
+        all.extend(bounds::filter(self, units));
+        all
+    }
+
+    /// The record's faults (a value that makes no sense), every one at once.
+    pub fn sound(&self) -> Vec<TreatmentError> {
         let mut errs = Vec::new();
         if self.tag.trim().is_empty() {
             errs.push(TreatmentError::new("tag", "a filter needs a tag"));
@@ -485,12 +530,27 @@ pub struct EndUse {
 pub const END_USE_CD: f64 = 1.0;
 
 impl EndUse {
+    /// The record's first fault (what [`Self::sound`] lists): a stored record that passes it is
+    /// priced, even one typed before the bounds of [`bounds`].
     pub fn validate(&self) -> Result<(), TreatmentError> {
-        first(self.refusals())
+        first(self.sound())
     }
 
-    /// Every refusal at once, in the order of [`Self::validate`]'s checks.
+    /// Every refusal at once, refusals quoting SI (as [`Self::refusals_in`]).
     pub fn refusals(&self) -> Vec<TreatmentError> {
+        self.refusals_in(UnitSystem::Si)
+    }
+
+    /// Every refusal at once: the record's faults, then the values beyond the trade's
+    /// ([`bounds`]) in the reader's `units`.
+    pub fn refusals_in(&self, units: UnitSystem) -> Vec<TreatmentError> {
+        let mut all = self.sound();
+        all.extend(bounds::end_use(self, units));
+        all
+    }
+
+    /// The record's faults (a value that makes no sense), every one at once.
+    pub fn sound(&self) -> Vec<TreatmentError> {
         let mut errs = Vec::new();
         if self.name.trim().is_empty() {
             errs.push(TreatmentError::new("name", "an end use needs a name"));
@@ -602,6 +662,7 @@ pub fn inappropriate_use_saving_kwh(
     }))
 }
 
+pub mod bounds;
 mod figures;
 pub use figures::*;
 

@@ -102,6 +102,44 @@
     }
   });
 
+  // The compression calculator: typed in the reader's units, the result in them (kW for power
+  // and heat in both systems, as every page), every refusal at once beside its field.
+  const compression = document.getElementById("compression-form");
+  compression.addEventListener("submit", async (e) => {
+    e.preventDefault();
+    const body = { audit_id: data.audit_id };
+    for (const el of compression.elements) if (el.name && el.value !== "") body[el.name] = el.hasAttribute("data-entry") ? A.entry.stored(data.entry, el) : Number(el.value);
+    // A typed inlet pressure is the suction's; the discharge's gauge stays on the site's atmosphere.
+    if (body.inlet_pressure_kpa_abs !== undefined) body.atmospheric_pressure_kpa_abs = data.atmosphere_pa / 1000;
+    const out = document.getElementById("compression-result");
+    const kw = (v) => v.toLocaleString("en-US", { minimumFractionDigits: 1, maximumFractionDigits: 1 }) + " kW";
+    const temp = (c) => toReader("temperature", c).toFixed(data.entry.system === "us" ? 0 : 1) + " " + unit("temperature");
+    try {
+      const r = await A.json("/api/v1/calc/compression", {
+        method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body),
+      });
+      A.besideFields(compression, []);
+      const head = A.el("p", { class: "status", id: "compression-powers" },
+        "Isothermal power " + kw(r.isothermal_power_kw) + "; isentropic power at these stages " + kw(r.isentropic_power_kw) +
+        "; shaft power " + kw(r.shaft_power_kw) + " (the isothermal power is " + (100 * r.isothermal_efficiency_of_shaft).toFixed(0) + " % of it).");
+      const rows = r.stages.map((st, i) => A.el("tr", {}, A.el("td", {}, String(i + 1)),
+        A.el("td", { class: "num" }, st.pressure_ratio.toFixed(3)),
+        A.el("td", { class: "num" }, temp(st.discharge_temperature_c)),
+        A.el("td", { class: "num" }, kw(st.shaft_power_kw)),
+        A.el("td", { class: "num" }, kw(st.cooler_heat_kw))));
+      const table = A.el("table", { class: "data", id: "compression-stages" },
+        A.el("thead", {}, A.el("tr", {}, ...["Stage", "Pressure ratio", "Discharge temperature", "Shaft power", "Heat its cooler removes"].map((h) => A.el("th", {}, h)))),
+        A.el("tbody", {}, ...rows));
+      out.replaceChildren(head, A.el("div", { class: "scroll" }, table));
+    } catch (err) {
+      // Every refusal at once, each beside its field, all of them in the result line.
+      const all = err.errors || [];
+      out.replaceChildren(A.el("p", { class: "status", id: "compression-powers" },
+        "Not calculated: " + (all.length > 1 ? all.map((x) => x.message).join("; ") + "." : err.message)));
+      A.besideFields(compression, all);
+    }
+  });
+
   (async function events() {
     const box = document.getElementById("decay-events");
     try {

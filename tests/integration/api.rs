@@ -295,8 +295,8 @@ fn the_auditor_reorders_and_leaves_out_measures_and_the_stack_is_priced_again() 
     // The findings page shows both columns and the order.
     let page = s.get("/audits/1/findings").text;
     assert!(
-        page.contains("Saving alone")
-            && page.contains("Saving stacked")
+        page.contains("Saving a year")
+            && page.contains("<th class=\"num\">alone</th><th class=\"num\">stacked</th>")
             && page.contains("Method and sources")
     );
 }

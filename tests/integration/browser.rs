@@ -812,6 +812,8 @@ mod thin;
 #[path = "browser_units.rs"]
 mod units;
 
+#[path = "browser_calc16.rs"]
+mod calc16;
 #[path = "browser_findings.rs"]
 mod findings;
 

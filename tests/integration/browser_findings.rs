@@ -107,6 +107,31 @@ fn measures_print_in_sensible_columns(layout: &str, units: &str, measures: usize
         assert!(squash(table).contains(title), "{units}: {title:?} is cut across lines:\n{table}");
         assert!(table.lines().any(|l| l.contains(title)), "{units}: {title:?} not on one line:\n{table}");
     }
+    // The headings fit their columns: the savings' group heading whole on one line, every
+    // column's heading on one line with the others (a sub-label may sit above or below), the whole
+    // head in at most four lines ("Payback stacked after the ones above" took five, a word a line).
+    let head_start = table.find("done in this order").expect("the rule above the table");
+    let head: Vec<&str> = table[head_start..]
+        .lines()
+        .skip(1)
+        .take_while(|l| !l.trim_start().starts_with("1 "))
+        .filter(|l| !l.trim().is_empty())
+        .collect();
+    assert!(head.len() <= 4, "{units}: the headings take {} lines:\n{}", head.len(), head.join("\n"));
+    assert!(
+        head.iter().any(|l| l.contains("Saving a year")),
+        "{units}: the group heading is cut:\n{}",
+        head.join("\n")
+    );
+    let words = ["Order", "Measure", "alone", "stacked", "Cost", "CO₂"];
+    assert!(
+        head.iter().any(|l| {
+            let mut at = 0;
+            words.iter().all(|w| l[at..].find(w).map(|i| at += i + w.len()).is_some())
+        }),
+        "{units}: the column headings do not share a line:\n{}",
+        head.join("\n")
+    );
     let methods: Vec<&str> = table.lines().filter(|l| l.contains("Method and sources:")).collect();
     assert_eq!(methods.len(), measures, "{units}: one method row a measure:\n{table}");
     for l in methods {

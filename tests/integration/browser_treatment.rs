@@ -94,3 +94,62 @@ fn a_dryer_edited_in_us_units_keeps_its_si_value() {
     let severe = b.severe_logs(&page);
     assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
 }
+
+/// Issue 16: an end use at 300 psig on a plant whose compressor makes 7.5 bar(g) (108.8 psig) and
+/// a 5 in opening are refused beside their fields, in psig and inches, with what was typed kept
+/// in the form; ticking "fed through a booster" then stores it.
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn an_implausible_end_use_is_refused_beside_its_fields_keeping_what_was_typed() {
+    let s = Server::start();
+    let id = s.us_audit_in_chicago("guardrails");
+    let b = Browser::start();
+    let page = format!("/audits/{id}/treatment");
+    b.goto(&s.url(&page));
+    let fill = "const f = document.querySelector('form[action$=\"/treatment/end-uses\"]');
+         f.elements.name.value = 'blow-off'; f.elements.kind.value = 'open_blowing';
+         f.elements.orifice_mm.value = arguments[0]; f.elements.pressure_bar_g.value = '300';
+         f.elements.boosted.checked = arguments[1]; f.requestSubmit();";
+    b.js(fill, json!(["5", false]));
+    let refused = wait_until(Duration::from_secs(30), || {
+        b.js(
+            "return document.readyState === 'complete' && document.querySelectorAll('.field-error').length",
+            json!([]),
+        ) == 2
+    });
+    assert!(refused, "no refusals beside the fields");
+    let beside = b.js(
+        "const f = document.querySelector('form[action$=\"/treatment/end-uses\"]');
+         return [...f.querySelectorAll('.field-error')].map((e) => [e.previousElementSibling.name, e.textContent,
+                 e.previousElementSibling.value]);",
+        json!([]),
+    );
+    let rows = beside.as_array().unwrap();
+    let by = |name: &str| {
+        rows.iter().find(|r| r[0] == name).unwrap_or_else(|| panic!("nothing beside {name}: {beside}"))
+    };
+    let opening = by("orifice_mm");
+    assert!(
+        opening[1].as_str().unwrap().contains("must be at most 1 in")
+            && opening[1].as_str().unwrap().ends_with("got 5 in"),
+        "{beside}"
+    );
+    assert_eq!(opening[2], "5", "the typed bore is kept");
+    let pressure = by("pressure_bar_g");
+    assert!(pressure[1].as_str().unwrap().contains("300 psig is above the 108.8 psig"), "{beside}");
+    assert_eq!(pressure[2], "300", "the typed pressure is kept");
+    assert!(s.get(&format!("/api/v1/audits/{id}/end-uses")).json()["end_uses"]
+        .as_array()
+        .unwrap()
+        .is_empty());
+    // A plausible opening through a booster is taken.
+    b.js(fill, json!(["0.0625", true]));
+    back_on(&b, &page);
+    let uses = s.get(&format!("/api/v1/audits/{id}/end-uses")).json();
+    assert_eq!(uses["end_uses"][0]["boosted"], true, "{uses}");
+    let rows = b.js_str("return document.getElementById('treatment-items').innerText");
+    assert!(rows.contains("through a booster"), "{rows}");
+}

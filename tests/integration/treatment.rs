@@ -546,8 +546,8 @@ fn the_treatment_page_edits_a_record_without_drift() {
     let r = post(form("400", "170"));
     assert_eq!(r.status, 422, "{}", r.text);
     assert!(
-        r.text.contains("Purge (share of rated flow): must be between 0 and 1"),
-        "the reason names the field"
+        r.text.contains("Purge (share of rated flow): must be from 0 % to 100 %, got 170 %"),
+        "the reason names the field, as a percentage as typed"
     );
     assert_eq!(s.post_form(&format!("/audits/{id}/treatment/dryers/{}", did + 50), &[]).status, 404);
 }

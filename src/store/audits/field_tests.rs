@@ -73,6 +73,27 @@ pub async fn replace_field_test(
     Ok(revise(pool, audit_id, q).await?.rows_affected() > 0)
 }
 
+/// Store field tests' results evaluated again (`(id, result)`), in one transaction that bumps the
+/// audit's revision once.
+pub async fn set_field_test_results(
+    pool: &SqlitePool,
+    audit_id: i64,
+    results: &[(i64, serde_json::Value)],
+) -> Result<(), StoreError> {
+    let mut tx = begin_write(pool).await?;
+    for (id, result) in results {
+        sqlx::query("UPDATE field_test SET result = ? WHERE id = ? AND audit_id = ?")
+            .bind(result.to_string())
+            .bind(id)
+            .bind(audit_id)
+            .execute(&mut *tx)
+            .await?;
+    }
+    bump(&mut tx, audit_id).await?;
+    tx.commit().await?;
+    Ok(())
+}
+
 pub async fn delete_field_test(pool: &SqlitePool, audit_id: i64, id: i64) -> Result<bool, StoreError> {
     delete_owned(pool, "field_test", audit_id, id, After::Revised).await
 }

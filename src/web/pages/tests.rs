@@ -22,6 +22,9 @@ struct TestsPage {
     tests: Vec<TestRow>,
     compressors: Vec<String>,
     system_volume_m3: f64,
+    /// The site's air, which the compression calculator's blank inlet fields take.
+    atmosphere_kpa: f64,
+    inlet_c: f64,
     page_data: Value,
     /// The test whose form is filled to be edited (`?edit=ID`).
     editing: Option<i64>,
@@ -48,6 +51,8 @@ pub async fn tests(
     let tests = test_rows(&b.field_tests, &fmt, &b.audit.site.timezone);
     Ok(render(&TestsPage {
         system_volume_m3: b.storage().system_volume_m3(),
+        atmosphere_kpa: b.audit.site.atmospheric_pressure_kpa_abs(),
+        inlet_c: b.audit.site.inlet_temperature_c,
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         page_data: serde_json::json!({"audit_id": id, "atmosphere_pa": b.audit.site.atmospheric_pressure_kpa_abs() * 1000.0, "edit": edit, "entry": Inputs::new(fmt.units).page_data(), "timezone": b.audit.site.timezone}),
         editing,

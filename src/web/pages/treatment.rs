@@ -15,7 +15,9 @@ use serde_json::Value;
 use super::inputs::Inputs;
 use super::refusal::Refusal;
 use super::{render, PageError, PageResult};
-use crate::app::treatment::{DrainInput, DryerInput, EndUseInput, FilterInput, ItemKind, TreatmentInput};
+use crate::app::treatment::{
+    DrainInput, DryerInput, EndUseInput, FilterInput, ItemKind, Plant, TreatmentInput,
+};
 use crate::core::display::Fmt;
 use crate::core::entry::{self, Entry};
 use crate::core::treatment::{DrainKind, DryerControl, DryerKind, EndUseKind, FilterKind};
@@ -96,6 +98,15 @@ fn edit_fields(kind: ItemKind, v: &Value, units: UnitSystem, currency: &str) -> 
         number: true,
     };
     let codes = |all: &[&'static str]| all.to_vec();
+    let check = |name: &'static str, label: &str| Field {
+        name,
+        label: label.into(),
+        value: String::new(),
+        options: vec![],
+        check: true,
+        checked: v.get(name).and_then(Value::as_bool).unwrap_or(false),
+        number: false,
+    };
     match kind {
         ItemKind::Dryer => vec![
             text("tag", "Tag"),
@@ -138,15 +149,8 @@ fn edit_fields(kind: ItemKind, v: &Value, units: UnitSystem, currency: &str) -> 
             unit("orifice_mm", "Opening", Entry::Diameter),
             unit("pressure_bar_g", "Pressure at the use", Entry::GaugePressure),
             plain("duty_percent", "duty", "Running, % of production time", true),
-            Field {
-                name: "regulated",
-                label: "behind a regulator".into(),
-                value: String::new(),
-                options: vec![],
-                check: true,
-                checked: v.get("regulated").and_then(Value::as_bool).unwrap_or(false),
-                number: false,
-            },
+            check("regulated", "behind a regulator"),
+            check("boosted", "fed through a booster"),
             plain(
                 "alternative_kw",
                 "alternative_kw",
@@ -170,6 +174,9 @@ struct TreatmentPage {
     use_kinds: Vec<(&'static str, String)>,
     controls: Vec<(&'static str, String)>,
     filter_kinds: Vec<(&'static str, String)>,
+    /// The plant's highest pressure in words ("125 psig, C1's highest"), for the end use's
+    /// pressure label; `None` without a compressor.
+    plant_pressure: Option<String>,
 }
 
 /// A kind's code in words (`core::model::human_label`), capitalised.
@@ -228,7 +235,7 @@ fn describe(kind: ItemKind, v: &Value, fmt: &Fmt) -> (String, String) {
         ItemKind::EndUse => (
             s("name"),
             format!(
-                "{} × {}, {}, {} of production time{}",
+                "{} × {}, {}{}, {} of production time{}",
                 num(v, "count").unwrap_or(1.0),
                 words(&s("kind")).to_lowercase(),
                 match (num(v, "flow_m3_min"), num(v, "orifice_mm")) {
@@ -239,6 +246,11 @@ fn describe(kind: ItemKind, v: &Value, fmt: &Fmt) -> (String, String) {
                         fmt.pressure_bar_g(num(v, "pressure_bar_g").unwrap_or(0.0))
                     ),
                     _ => String::new(),
+                },
+                if v.get("boosted").and_then(Value::as_bool) == Some(true) {
+                    " through a booster"
+                } else {
+                    ""
                 },
                 fmt.percent(num(v, "duty").unwrap_or(1.0)),
                 num(v, "alternative_kw")
@@ -265,7 +277,14 @@ async fn page(st: &AppState, id: i64, refused: Option<Refusal>) -> Result<Treatm
         }
     }
     let opts = |all: &[&'static str]| all.iter().map(|k| (*k, words(k))).collect::<Vec<_>>();
+    let plant_pressure = st
+        .app
+        .treatment_plant(id)
+        .await?
+        .pressure
+        .map(|(p, tag)| format!("{}, {tag}'s highest", Entry::GaugePressure.limit(fmt.units, p)));
     Ok(TreatmentPage {
+        plant_pressure,
         inp: Inputs::new(fmt.units),
         audit: b.audit,
         rows,
@@ -344,6 +363,7 @@ fn input(
             pressure_bar_g: entry("pressure_bar_g", Entry::GaugePressure)?,
             duty: plain_as("duty_percent", "duty", true)?.unwrap_or(1.0),
             regulated: form.contains_key("regulated"),
+            boosted: form.contains_key("boosted"),
             alternative_kw: plain("alternative_kw")?,
         }),
     })
@@ -360,6 +380,12 @@ fn field_words(field: &str) -> String {
         "pressure_bar_g" => "Pressure at the use".into(),
         "flow_m3_min" => "Air per use".into(),
         "power_kw" => "Electrical input".into(),
+        "duty" => "Running share of production time".into(),
+        "count" => "How many".into(),
+        "open_s" => "Open time".into(),
+        "interval_s" => "Time between openings".into(),
+        "alternative_kw" => "Electric alternative".into(),
+        "element_change_months" => "Element change interval".into(),
         other => words(other),
     }
 }
@@ -403,10 +429,15 @@ fn form_field(field: &str) -> &str {
 
 /// Every refusal of a record read from its form, each in words and the units typed, beside the
 /// form field it is typed in; `None` when the record passes its checks.
-fn every_refusal(record: &TreatmentInput, action: &str, form: &HashMap<String, String>) -> Option<Refusal> {
-    let units = Inputs::of_form(form).units;
+fn every_refusal(
+    record: &TreatmentInput,
+    plant: &Plant,
+    action: &str,
+    form: &HashMap<String, String>,
+) -> Option<Refusal> {
+    let units = plant.units;
     let all: Vec<FieldError> = record
-        .refusals()
+        .refusals(plant)
         .into_iter()
         .map(|e| {
             let message =
@@ -415,6 +446,13 @@ fn every_refusal(record: &TreatmentInput, action: &str, form: &HashMap<String, S
         })
         .collect();
     (!all.is_empty()).then(|| Refusal::new(action, form, all))
+}
+
+/// What a posted record is checked against: the plant's highest pressure, the refusals in the units
+/// the form was typed in.
+async fn form_plant(st: &AppState, id: i64, form: &HashMap<String, String>) -> Result<Plant, AppError> {
+    let plant = st.app.treatment_plant(id).await?;
+    Ok(Plant { units: Inputs::of_form(form).units, ..plant })
 }
 
 /// The page again with a refused form (every refusal, what was typed), 422.
@@ -463,7 +501,8 @@ pub async fn add(
     let action = format!("/audits/{id}/treatment/{list}");
     let result = async {
         let record = input(kind, &form, None)?;
-        if let Some(r) = every_refusal(&record, &action, &form) {
+        let plant = form_plant(&st, id, &form).await?;
+        if let Some(r) = every_refusal(&record, &plant, &action, &form) {
             return Ok(Err(r));
         }
         st.app.add_treatment_item(id, record).await.map(Ok).map_err(AppError::from)
@@ -512,7 +551,8 @@ pub async fn update(
     let action = format!("/audits/{id}/treatment/{list}/{iid}");
     let result = async {
         let record = input(kind, &form, Some(&stored))?;
-        if let Some(r) = every_refusal(&record, &action, &form) {
+        let plant = form_plant(&st, id, &form).await?;
+        if let Some(r) = every_refusal(&record, &plant, &action, &form) {
             return Ok(Err(r));
         }
         st.app.update_treatment_item(id, iid, record).await.map(Ok).map_err(AppError::from)

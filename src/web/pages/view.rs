@@ -14,7 +14,7 @@ mod rows;
 mod tables;
 use crate::app::{AuditBundle, ReadFacts};
 use crate::core::analysis::{Summary, Verdict};
-use crate::core::display::{num, render_parts, Fmt};
+use crate::core::display::{num, render_parts, span, Fmt};
 use crate::core::levels::LevelSource;
 use crate::core::model::human_label;
 use crate::core::partload::PartLoadModel;
@@ -220,7 +220,7 @@ fn or_nd(v: Option<f64>, f: impl Fn(f64) -> String) -> String {
 
 fn range(fmt_one: impl Fn(f64) -> String, v: f64, lo: f64, hi: f64) -> String {
     if lo.is_finite() && hi.is_finite() && hi > lo {
-        format!("{} ({} to {})", fmt_one(v), fmt_one(lo), fmt_one(hi))
+        format!("{} ({})", fmt_one(v), span(&fmt_one(lo), &fmt_one(hi)))
     } else {
         fmt_one(v)
     }
@@ -284,9 +284,8 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>, facts: &Rea
                 money(tot_cost),
                 fmt.years(tot_cost / tot_save),
                 sm.measures_total.as_ref().map_or(String::new(), |t| format!(
-                    " (range {} to {})",
-                    money(t.annual_cost_saving_low),
-                    money(t.annual_cost_saving_high)
+                    " (range {})",
+                    span(&money(t.annual_cost_saving_low), &money(t.annual_cost_saving_high))
                 ))
             ),
             estimated: false,
@@ -323,7 +322,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>, facts: &Rea
         total_payback: fmt.years(tot_cost / tot_save),
         total_cost: money(tot_cost),
         total_range: sm.measures_total.as_ref().map_or(String::new(), |t| {
-            format!("{} to {}", money(t.annual_cost_saving_low), money(t.annual_cost_saving_high))
+            span(&money(t.annual_cost_saving_low), &money(t.annual_cost_saving_high))
         }),
         compressors: compressor_rows(sm, fmt),
         leaks: leak_rows(sm, fmt),
@@ -451,9 +450,8 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
     let money = |v: f64| fmt.money(v, cur);
     let energy_note = match (base.annual_energy_kwh_low, base.annual_energy_kwh_high) {
         (Some(lo), Some(hi)) => format!(
-            "range {} to {} (meters ±{}, extrapolation to the year ±{}: {}); logged {}",
-            fmt.energy_kwh(lo),
-            fmt.energy_kwh(hi),
+            "range {} (meters ±{}, extrapolation to the year ±{}: {}); logged {}",
+            span(&fmt.energy_kwh(lo), &fmt.energy_kwh(hi)),
             fmt.percent(base.meter_relative_uncertainty),
             fmt.percent(base.extrapolation_relative_uncertainty),
             base.extrapolation_rule,
@@ -463,9 +461,8 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
     };
     let cost_note = match (base.annual_cost_low, base.annual_cost_high, base.annual_energy_cost) {
         (Some(lo), Some(hi), Some(e)) => format!(
-            "range {} to {}; energy {} + demand charge {}",
-            money(lo),
-            money(hi),
+            "range {}; energy {} + demand charge {}",
+            span(&money(lo), &money(hi)),
             money(e),
             or_nd(base.annual_demand_charge, money)
         ),
@@ -491,10 +488,12 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
                 (_, None) => withheld(sm, "system.specific_power"),
                 (Some(why), Some(_)) => why.clone(),
                 (None, Some(_)) => format!(
-                    "range {} to {}; the same machines at full load at the logged pressure {}: part-load \
+                    "range {}; the same machines at full load at the logged pressure {}: part-load \
                      penalty {} % (control loss, not wear)",
-                    fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_low)),
-                    fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_high)),
+                    span(
+                        &fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_low)),
+                        &fmt.specific_power(nan(sys.specific_power_kw_per_m3_min_high))
+                    ),
                     fmt.specific_power(nan(sys.full_load_specific_power_at_pressure_kw_per_m3_min)),
                     num(nan(sys.part_load_penalty_percent), 1)
                 ),
@@ -573,9 +572,11 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
             value: or_nd(sys.isothermal_efficiency, |v| fmt.percent(v)),
             note: if sys.isothermal_efficiency.is_some() {
                 format!(
-                    "range {} to {}: the share of input power the ideal isothermal compression needs",
-                    fmt.percent(nan(sys.isothermal_efficiency_low)),
-                    fmt.percent(nan(sys.isothermal_efficiency_high))
+                    "range {}: the share of input power the ideal isothermal compression needs",
+                    span(
+                        &fmt.percent(nan(sys.isothermal_efficiency_low)),
+                        &fmt.percent(nan(sys.isothermal_efficiency_high))
+                    )
                 )
             } else {
                 withheld(sm, "system.isothermal_efficiency")
@@ -601,15 +602,13 @@ fn measures(sm: &Summary, fmt: &Fmt, cur: &str) -> (Vec<RecView>, f64, f64) {
                 alone: fmt.money(r.standalone_annual_cost_saving, cur),
                 payback_alone: fmt.years(nan(r.standalone_simple_payback_years)),
                 alone_energy: format!("{}{kind_of}", fmt.energy_kwh(r.standalone_annual_energy_saving_kwh)),
-                range: format!(
-                    "{} to {}",
-                    fmt.money(r.annual_cost_saving_low, cur),
-                    fmt.money(r.annual_cost_saving_high, cur)
+                range: span(
+                    &fmt.money(r.annual_cost_saving_low, cur),
+                    &fmt.money(r.annual_cost_saving_high, cur),
                 ),
-                range_energy: format!(
-                    "{} to {}",
-                    fmt.energy_kwh(r.annual_energy_saving_kwh_low),
-                    fmt.energy_kwh(r.annual_energy_saving_kwh_high)
+                range_energy: span(
+                    &fmt.energy_kwh(r.annual_energy_saving_kwh_low),
+                    &fmt.energy_kwh(r.annual_energy_saving_kwh_high),
                 ),
                 method: r.method_and_sources.clone(),
                 rank: r.stack_position,

@@ -299,7 +299,7 @@ pub fn input_words(input: &FieldTestInput, result: Option<&FieldTestResult>, fmt
 
 /// What the test found, in words and the reader's units.
 pub fn result_words(result: &FieldTestResult, fmt: &Fmt) -> String {
-    let range = |lo: f64, hi: f64| format!("{} to {}", fmt.flow_m3_min(lo), fmt.flow_m3_min(hi));
+    let range = |lo: f64, hi: f64| crate::core::display::span(&fmt.flow_m3_min(lo), &fmt.flow_m3_min(hi));
     match result {
         FieldTestResult::BleedDown(r) => format!(
             "Mean leak flow {} at a log-mean {}; {} at the operating pressure (likely {}); the US DOE rule of thumb (mean × 1.25) gives {}.",

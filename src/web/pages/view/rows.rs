@@ -3,7 +3,7 @@
 
 use super::{nan, range, withheld, LeakRow, NOT_ENOUGH_DATA};
 use crate::core::analysis::Summary;
-use crate::core::display::{num, Fmt};
+use crate::core::display::{num, span, Fmt};
 use crate::core::units::PressureAbs;
 
 /// The leak flow adopted, with its likely range, and the rule it was adopted by ("the median of
@@ -12,7 +12,7 @@ fn adopted_leak(sm: &Summary, fmt: &Fmt) -> String {
     let l = &sm.leaks;
     let Some(q) = l.adopted_leak_flow_m3_min else { return l.adopted_rule.clone() };
     let likely = match (l.adopted_leak_flow_m3_min_low, l.adopted_leak_flow_m3_min_high) {
-        (Some(lo), Some(hi)) => format!(" (likely {} to {})", fmt.flow_m3_min(lo), fmt.flow_m3_min(hi)),
+        (Some(lo), Some(hi)) => format!(" (likely {})", span(&fmt.flow_m3_min(lo), &fmt.flow_m3_min(hi))),
         _ => String::new(),
     };
     format!("Leak flow adopted: {}{likely}, the {}", fmt.flow_m3_min(q), l.adopted_rule)
