@@ -1,0 +1,128 @@
+//! Issue 16, a technician corrects any mistake from the pages and reads every figure in words and
+//! in the reader's units: a whole audit deleted (page and API), each file's mapping said in the
+//! files table, values put back into forms at their unit's resolution, the flow unit's note true
+//! and in the audit's units, a dryer without purge said so, and the report's days.
+
+use crate::ingest::on_db;
+use crate::support::*;
+
+/// Rows of `table` whose `column` is `id`.
+fn rows(db: &std::path::Path, table: &str, column: &str, id: i64) -> i64 {
+    let sql = format!("SELECT COUNT(*) FROM {table} WHERE {column} = ?");
+    on_db(
+        db,
+        |pool| async move { sqlx::query_scalar::<_, i64>(&sql).bind(id).fetch_one(&pool).await.unwrap() },
+    )
+}
+
+/// Every row an audit holds, by table: its own tables by `audit_id`, its uploads' by `upload_id`.
+fn held(db: &std::path::Path, audit: i64, uploads: &[i64]) -> Vec<(String, i64)> {
+    let mut out = vec![];
+    for t in [
+        "audit",
+        "compressor",
+        "receiver",
+        "upload",
+        "channel",
+        "field_test",
+        "cost_override",
+        "summary_cache",
+        "scenario",
+        "measure_plan",
+        "treatment_item",
+    ] {
+        let col = if t == "audit" { "id" } else { "audit_id" };
+        out.push((t.to_string(), rows(db, t, col, audit)));
+    }
+    for t in ["upload_channel", "chunk", "rollup_minute", "rollup_hour", "upload_original"] {
+        out.push((t.to_string(), uploads.iter().map(|u| rows(db, t, "upload_id", *u)).sum()));
+    }
+    out
+}
+
+#[test]
+fn deleting_an_audit_takes_all_it_holds_after_a_confirmation_and_leaves_the_others() {
+    let s = Server::start();
+    let doomed = s.audit_with_compressor("C1");
+    let kept = s.audit_with_compressor("C1");
+    let csv = cycling_csv(3);
+    let mut uploads = vec![];
+    for id in [doomed, kept] {
+        let r = s.upload(id, "plant.csv", csv.as_bytes(), &cycling_mapping(), "");
+        assert_eq!(r.status, 201, "{}", r.text);
+        uploads.push(r.json()["upload_id"].as_i64().unwrap());
+    }
+    // Everything else an audit can hold, on the one to delete.
+    let a = format!("/api/v1/audits/{doomed}");
+    assert_eq!(s.post_json(&format!("{a}/receivers"), &json!({"name": "R1", "volume_m3": 2})).status, 201);
+    let r = s.post_json(
+        &format!("{a}/dryers"),
+        &json!({"tag": "D1", "kind": "refrigerated", "rated_flow_m3_min": 10, "power_kw": 1.5}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    assert_eq!(
+        s.put_json(&format!("{a}/costs/repair_leaks"), &json!({"implementation_cost": 900})).status,
+        200
+    );
+    let r = s.post_json(
+        &format!("{a}/scenarios"),
+        &json!({"name": "more storage", "changes": [{"op": "add_storage", "volume_m3": 3.0}]}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let kept_before = s.get(&format!("/api/v1/audits/{kept}/summary")).json()["system"].clone();
+    let before = held(&s.db, doomed, &uploads[..1]);
+    for t in [
+        "audit",
+        "compressor",
+        "receiver",
+        "upload",
+        "channel",
+        "cost_override",
+        "scenario",
+        "treatment_item",
+        "upload_channel",
+        "chunk",
+        "rollup_minute",
+        "rollup_hour",
+        "upload_original",
+    ] {
+        let n = before.iter().find(|(k, _)| k == t).unwrap().1;
+        assert!(n > 0, "the audit holds no {t} to delete: {before:?}");
+    }
+
+    // The page asks first, saying what goes, and a post without the confirmation only asks again.
+    let ask = s.get(&format!("/audits/{doomed}/delete"));
+    assert_eq!(ask.status, 200);
+    assert!(ask.text.contains("1 logger file with"), "{}", ask.text);
+    assert!(ask.text.contains("1 what-if scenario"), "{}", ask.text);
+    assert!(ask.text.contains("1 treatment record"), "{}", ask.text);
+    let r = s.post_form(&format!("/audits/{doomed}/delete"), &[]);
+    assert_eq!(r.status, 303);
+    assert_eq!(r.header("location"), Some(format!("/audits/{doomed}/delete").as_str()));
+    assert_eq!(
+        s.get(&format!("/api/v1/audits/{doomed}")).status,
+        200,
+        "not deleted without the confirmation"
+    );
+    // Confirmed: gone, and the list of audits says so.
+    let r = s.post_form(&format!("/audits/{doomed}/delete"), &[("confirm", "yes")]);
+    assert_eq!(r.status, 303, "{}", r.text);
+    let to = r.header("location").unwrap().to_string();
+    assert!(to.starts_with("/?done=audit-deleted"), "{to}");
+    let index = s.get(&to).text;
+    assert!(index.contains("The audit \u{201c}test plant\u{201d} was deleted"), "{index}");
+    assert_eq!(s.get(&format!("/api/v1/audits/{doomed}")).status, 404);
+    let after = held(&s.db, doomed, &uploads[..1]);
+    assert!(after.iter().all(|(_, n)| *n == 0), "left behind: {after:?}");
+    // The other audit keeps its rows and its figures.
+    assert!(held(&s.db, kept, &uploads[1..]).iter().filter(|(t, _)| t == "chunk").all(|(_, n)| *n > 0));
+    assert_eq!(s.get(&format!("/api/v1/audits/{kept}/summary")).json()["system"], kept_before);
+    // The same file imports again into a new audit: nothing of the deleted one is in its way.
+    let again = s.audit_with_compressor("C1");
+    assert_eq!(s.upload(again, "plant.csv", csv.as_bytes(), &cycling_mapping(), "").status, 201);
+
+    // The API deletes the same way: 204, then 404.
+    assert_eq!(s.delete(&format!("/api/v1/audits/{kept}")).status, 204);
+    assert_eq!(s.delete(&format!("/api/v1/audits/{kept}")).status, 404);
+    assert!(held(&s.db, kept, &uploads[1..]).iter().all(|(_, n)| *n == 0));
+}
