@@ -267,6 +267,16 @@ window.airledger.besideFields = function (form, errors, fieldOf) {
   if (first) first.focus({ preventScroll: true });
   return left;
 };
+// A new audit's time zone (input[data-zone-default], drawn as UTC): the browser's own zone when
+// the form's list of IANA names offers it; without scripts, or a zone not in the list, UTC stays.
+(function zoneDefault() {
+  let zone = "";
+  try { zone = Intl.DateTimeFormat().resolvedOptions().timeZone || ""; } catch (e) { return; }
+  for (const el of document.querySelectorAll("input[data-zone-default]")) {
+    if (el.value !== "UTC" || !zone || !el.list) continue;
+    if ([...el.list.options].some((o) => o.value === zone)) el.value = zone;
+  }
+})();
 // A form the server refused (pages/refusal.rs): what was typed goes back into its fields (in the
 // units it was typed in), the section that holds it opens, and each refusal is set beside its
 // field; the page's alert lists them all.

@@ -126,3 +126,11 @@ fn deleting_an_audit_takes_all_it_holds_after_a_confirmation_and_leaves_the_othe
     assert_eq!(s.delete(&format!("/api/v1/audits/{kept}")).status, 404);
     assert!(held(&s.db, kept, &uploads[1..]).iter().all(|(_, n)| *n == 0));
 }
+
+#[test]
+fn a_new_audits_zone_is_utc_without_scripts_and_marked_for_the_browsers() {
+    let s = Server::start();
+    let html = s.get("/").text;
+    let input = html.split("name=\"timezone\"").nth(1).unwrap().split('>').next().unwrap();
+    assert!(input.contains("value=\"UTC\"") && input.contains("data-zone-default"), "{input}");
+}
