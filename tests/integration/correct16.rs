@@ -128,6 +128,26 @@ fn deleting_an_audit_takes_all_it_holds_after_a_confirmation_and_leaves_the_othe
 }
 
 #[test]
+fn the_files_table_says_how_each_file_was_read() {
+    let s = Server::start();
+    let id = s.us_audit_in_chicago("words");
+    let r = s.upload(id, "plant.csv", cycling_csv(2).as_bytes(), &cycling_mapping(), "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    for page in [format!("/audits/{id}"), format!("/audits/{id}/upload")] {
+        let html = s.get(&page).text;
+        let table = html.split("id=\"files-table\"").nth(1).expect("files table");
+        for said in [
+            "<div>C1 power in kW</div>",
+            "<div>header pressure in bar(g)</div>",
+            "<div>flow in m³/min</div>",
+            "times read on a UTC clock, shown in the site&#39;s (America/Chicago)",
+        ] {
+            assert!(table.contains(said), "{page}: {said} not in the files table");
+        }
+    }
+}
+
+#[test]
 fn a_new_audits_zone_is_utc_without_scripts_and_marked_for_the_browsers() {
     let s = Server::start();
     let html = s.get("/").text;
