@@ -154,3 +154,55 @@ fn a_new_audits_zone_is_utc_without_scripts_and_marked_for_the_browsers() {
     let input = html.split("name=\"timezone\"").nth(1).unwrap().split('>').next().unwrap();
     assert!(input.contains("value=\"UTC\"") && input.contains("data-zone-default"), "{input}");
 }
+
+#[test]
+fn values_in_forms_and_limits_read_at_their_units_resolution() {
+    let s = Server::start();
+    let id = s.us_audit_in_chicago("rounding");
+    // 75 °F typed in a US audit, then the audit switched to SI: (75 - 32) / 1.8 = 23.9 °C
+    // (NIST SP 811 B.9), not 23.8888889.
+    let r = s.patch_json(
+        &format!("/api/v1/audits/{id}"),
+        &json!({"site": {"inlet_temperature_c": (75.0 - 32.0) / 1.8}}),
+    );
+    assert_eq!(r.status, 200, "{}", r.text);
+    let r = s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"display_units": "si"}}));
+    assert_eq!(r.status, 200, "{}", r.text);
+    let page = s.get(&format!("/audits/{id}")).text;
+    assert!(
+        page.contains("name=\"inlet_temperature_c\" type=\"number\" step=\"any\" value=\"23.9\""),
+        "not 23.9"
+    );
+    assert!(!page.contains("23.8888"), "a raw conversion in the form");
+    // Saved unchanged, the stored value keeps its bits.
+    let stored =
+        s.get(&format!("/api/v1/audits/{id}")).json()["site"]["inlet_temperature_c"].as_f64().unwrap();
+    assert_eq!(stored, (75.0 - 32.0) / 1.8);
+
+    // Back in US units: the what-if target's min is the plant's low limit, C1's 7.5 bar(g) less
+    // 1 bar = 6.5 bar(g) = 94.27 psig (psi = 6 894.757 Pa, NIST SP 811), rounded up to 0.1 psig.
+    s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"display_units": "us"}}));
+    let csv = cycling_csv(3);
+    assert_eq!(s.upload(id, "plant.csv", csv.as_bytes(), &cycling_mapping(), "").status, 201);
+    let page = s.get(&format!("/audits/{id}/scenarios")).text;
+    let psig: f64 = 6.5e5 / 6_894.757_293_168;
+    let min = (psig * 10.0).ceil() / 10.0;
+    assert!(
+        page.contains(&format!("name=\"target_bar_g\" type=\"number\" step=\"any\" min=\"{min}\"")),
+        "min {min}"
+    );
+
+    // The orifice calculator's upper limit, 100 mm, is 3.937 in (1 in = 25.4 mm exactly): quoted
+    // as 3.93 in, which is itself accepted.
+    let r = s.post_json(
+        "/api/v1/calc/orifice-leak",
+        &json!({"diameter_mm": 150.0, "pressure_bar_g": 6.0, "audit_id": id}),
+    );
+    assert_eq!(r.status, 422);
+    assert!(r.text.contains("at most 3.93 in"), "{}", r.text);
+    let r = s.post_json(
+        "/api/v1/calc/orifice-leak",
+        &json!({"diameter_mm": 3.93 * 25.4, "pressure_bar_g": 6.0, "audit_id": id}),
+    );
+    assert_eq!(r.status, 200, "the limit quoted is accepted: {}", r.text);
+}

@@ -282,8 +282,8 @@ pub async fn scenarios(
         }),
         no_trace,
         editing,
-        target_min: Inputs::new(fmt.units)
-            .p(crate::core::model::low_limit_bar_g(&b.specs()).unwrap_or(0.0).max(0.0)),
+        target_min: crate::core::entry::Entry::GaugePressure
+            .min_text(fmt.units, crate::core::model::low_limit_bar_g(&b.specs()).unwrap_or(0.0).max(0.0)),
         energy_unit: energy_unit.label(),
         period: outcomes
             .iter()
