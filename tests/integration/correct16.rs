@@ -206,3 +206,22 @@ fn values_in_forms_and_limits_read_at_their_units_resolution() {
     );
     assert_eq!(r.status, 200, "the limit quoted is accepted: {}", r.text);
 }
+
+#[test]
+fn a_flow_units_note_quotes_no_power_the_file_does_not_log_and_speaks_the_audits_units() {
+    let s = Server::start();
+    let id = s.us_audit_in_chicago("notes");
+    // Volts and amps, no power column; 400 V × 20 A = 8 kW over 1,300 l/min = 1.3 m³/min.
+    let mut csv = String::from("time;Voltage;Current;Flow rate\n");
+    for i in 0..40 {
+        csv.push_str(&format!("2026-05-04 08:{:02}:00;{};20;{}\n", i, 400 + i % 2, 1_300 + i % 3));
+    }
+    let r = s.sniff(id, "rig.csv", csv.as_bytes());
+    assert_eq!(r.status, 200, "{}", r.text);
+    let cols = r.json()["sniffed"]["columns"].as_array().unwrap().clone();
+    let flow = cols.iter().find(|c| c["column"] == "Flow rate").unwrap();
+    assert_eq!(flow["unit"], "l_min");
+    let note = flow["note"].as_str().unwrap();
+    assert!(note.contains("volts times amps") && !note.contains(" kW)"), "{note}");
+    assert!(note.contains("kW/100 cfm") && !note.contains("m³"), "a US audit's note: {note}");
+}
