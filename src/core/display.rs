@@ -391,9 +391,16 @@ impl Fmt {
             return MISSING.into();
         }
         match self.units {
-            UnitSystem::Si => format!("{} {currency} per 1000 m³ free air", num(per_1000_m3, 2)),
+            // No-break spaces hold the price with its unit on one line in print ("16.61 EUR per
+            // 1000 m³"); "free air" may go to the next line, as after every flow.
+            UnitSystem::Si => {
+                format!("{}\u{a0}{currency}\u{a0}per\u{a0}1000\u{a0}m³ free air", num(per_1000_m3, 2))
+            }
             UnitSystem::Us => {
-                format!("{} {currency} per 1000 ft³ free air", num(per_1000_m3 * M3_PER_FT3, 3))
+                format!(
+                    "{}\u{a0}{currency}\u{a0}per\u{a0}1000\u{a0}ft³ free air",
+                    num(per_1000_m3 * M3_PER_FT3, 3)
+                )
             }
         }
     }
