@@ -420,7 +420,12 @@ impl Fmt {
         if !y.is_finite() {
             "no payback".into()
         } else if y < 1.0 {
-            format!("{} months", num(y * 12.0, 0))
+            // Whole months, said as a person says them: "under 1 month", "1 month", "5 months".
+            match (y * 12.0).round() {
+                m if m < 1.0 => "under 1 month".into(),
+                1.0 => "1 month".into(),
+                m => format!("{} months", num(m, 0)),
+            }
         } else {
             format!("{} years", num(y, 1))
         }
@@ -493,6 +498,16 @@ pub fn local_ms_seconds(ms: i64, tz: &str) -> String {
 
 #[cfg(test)]
 mod tests {
+    #[test]
+    fn a_payback_under_a_year_is_said_in_whole_months_with_its_number() {
+        let f = super::Fmt::new(super::UnitSystem::Si, crate::core::units::PressureAbs(101_325.0));
+        // 0.09 years is 1.08 months: one month, singular.
+        assert_eq!(f.years(0.09), "1 month");
+        assert_eq!(f.years(0.5), "6 months");
+        assert_eq!(f.years(0.01), "under 1 month");
+        assert_eq!(f.years(2.4), "2.4 years");
+    }
+
     #[test]
     fn durations_are_said_in_whole_units_as_people_say_them() {
         use super::duration_words as d;

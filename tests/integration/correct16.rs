@@ -225,3 +225,48 @@ fn a_flow_units_note_quotes_no_power_the_file_does_not_log_and_speaks_the_audits
     assert!(note.contains("volts times amps") && !note.contains(" kW)"), "{note}");
     assert!(note.contains("kW/100 cfm") && !note.contains("m³"), "a US audit's note: {note}");
 }
+
+#[test]
+fn a_dryer_without_purge_says_so_in_words() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    assert_eq!(s.upload(id, "plant.csv", cycling_csv(3).as_bytes(), &cycling_mapping(), "").status, 201);
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/dryers"),
+        &json!({"tag": "D1", "kind": "refrigerated", "rated_flow_m3_min": 10, "power_kw": 1.5}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(
+        sm["transmission"]["dryers"][0]["purge_m3_min"].as_f64(),
+        Some(0.0),
+        "a refrigerated dryer purges no air"
+    );
+    for page in ["report", "findings"] {
+        let html = s.get(&format!("/audits/{id}/{page}")).text;
+        let row = html.split("Dryer D1").nth(1).unwrap_or_else(|| panic!("{page}: no dryer row"));
+        let row = &row[..row.find("</tr>").unwrap_or(row.len())];
+        assert!(row.contains("no purge air") && !row.contains("purge 0"), "{page}: {row}");
+    }
+}
+
+#[test]
+fn a_compressors_confirmation_keeps_a_space_between_its_sentences() {
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    assert_eq!(s.upload(id, "plant.csv", cycling_csv(2).as_bytes(), &cycling_mapping(), "").status, 201);
+    let cid = s.get(&format!("/api/v1/audits/{id}")).json()["compressors"][0]["id"].as_i64().unwrap();
+    let page = s.get(&format!("/audits/{id}/compressors/{cid}/delete")).text;
+    // The whole text of the page, tags taken out (as a reader of its text content sees it).
+    let mut text = String::new();
+    let mut in_tag = false;
+    for ch in page.chars() {
+        match ch {
+            '<' => in_tag = true,
+            '>' => in_tag = false,
+            c if !in_tag => text.push(c),
+            _ => {}
+        }
+    }
+    assert!(text.contains("is removed from the audit. Its logged readings ("), "{text}");
+}

@@ -101,9 +101,11 @@ async fn describe(
                 fmt.power_kw(c.spec.rated_power_kw),
                 fmt.flow_m3_min(c.spec.rated_flow_m3_min)
             )];
+            // One paragraph: the sentences follow each other with their space, in any reading of
+            // the page's text.
             if let Some(readings) = readings {
-                lines.push(format!(
-                    "Its logged readings ({readings}) are deleted with it, and the figures are worked \
+                lines[0].push_str(&format!(
+                    " Its logged readings ({readings}) are deleted with it, and the figures are worked \
                      out again without them. To correct its data-sheet values instead, edit it."
                 ));
             }
