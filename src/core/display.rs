@@ -137,6 +137,17 @@ impl EnergyUnit {
         }
     }
 
+    /// The unit of a column of differences (savings against a baseline): chosen by the smallest
+    /// one that is not zero, so that a saving of 72 kWh beside one of 40 MWh still reads "72", not
+    /// "0.1" (kWh numbers are grouped, so a large one stays readable).
+    pub fn for_differences(values: impl IntoIterator<Item = f64>) -> Self {
+        let least = values
+            .into_iter()
+            .filter(|v| v.is_finite() && *v != 0.0)
+            .fold(f64::INFINITY, |m, v| m.min(v.abs()));
+        Self::for_column([if least.is_finite() { least } else { 0.0 }])
+    }
+
     pub fn label(self) -> &'static str {
         match self {
             Self::Kwh => "kWh",
@@ -506,6 +517,18 @@ mod tests {
         assert_eq!(f.years(0.5), "6 months");
         assert_eq!(f.years(0.01), "under 1 month");
         assert_eq!(f.years(2.4), "2.4 years");
+    }
+
+    #[test]
+    fn savings_keep_their_kwh_beside_a_large_one() {
+        use super::EnergyUnit;
+        // Savings of -72, 484 and 15,230 kWh: the least sets kWh, each reads whole.
+        let u = EnergyUnit::for_differences([-72.0, 484.0, 15_230.0, 0.0, f64::NAN]);
+        assert_eq!(u, EnergyUnit::Kwh);
+        assert_eq!(u.number(-72.0), "-72");
+        assert_eq!(u.number(15_230.0), "15,230");
+        // Only large savings: MWh as before.
+        assert_eq!(EnergyUnit::for_differences([42_000.0, 15_230.0]), EnergyUnit::Mwh);
     }
 
     #[test]
