@@ -270,3 +270,20 @@ fn a_compressors_confirmation_keeps_a_space_between_its_sentences() {
     }
     assert!(text.contains("is removed from the audit. Its logged readings ("), "{text}");
 }
+
+#[test]
+fn the_demos_day_selector_offers_only_days_that_hold_readings() {
+    let s = Server::demo();
+    let html = s.get("/audits/1/report").text;
+    let data =
+        html.split("id=\"chart-data\">").nth(1).and_then(|d| d.split("</script>").next()).expect("page data");
+    let d: Value = serde_json::from_str(data).expect("page data JSON");
+    let last = d["last_ms"].as_i64().unwrap();
+    let days = d["days"].as_array().unwrap();
+    assert!(!days.is_empty());
+    for day in days {
+        assert!(day["start_ms"].as_i64().unwrap() < last, "a day after the last reading: {day}");
+    }
+    // The demo's log ends at midnight on Mon 16 Mar 2026 (its period), a day with nothing to draw.
+    assert!(days.iter().all(|day| day["label"] != "Mon 16 Mar 2026"), "{days:?}");
+}
