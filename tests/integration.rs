@@ -8,6 +8,8 @@ mod support;
 mod api;
 #[path = "integration/browser.rs"]
 mod browser;
+#[path = "integration/correct16.rs"]
+mod correct16;
 #[path = "integration/engine.rs"]
 mod engine;
 #[path = "integration/flow16.rs"]

@@ -213,6 +213,12 @@ impl App {
         }
     }
 
+    /// What goes with the audit if it is deleted: its files, readings, tests, scenarios and
+    /// treatment records, counted.
+    pub async fn audit_contents(&self, id: i64) -> Result<audits::AuditContents> {
+        Ok(audits::audit_contents(self.db(), id).await?)
+    }
+
     /// Delete a compressor; `false` if the audit has no such compressor.
     pub async fn delete_compressor(&self, audit_id: i64, id: i64) -> Result<bool> {
         self.audit(audit_id).await?;

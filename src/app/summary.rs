@@ -61,6 +61,11 @@ impl<T> Kept<T> {
     fn new(cap: usize) -> Self {
         Self { cap, items: VecDeque::new() }
     }
+    /// Drop everything kept of audit `id` (its keys start with [`frame_key`]'s `audit {id} `).
+    fn forget(&mut self, id: i64) {
+        let prefix = format!("audit {id} ");
+        self.items.retain(|(k, _)| !k.starts_with(&prefix));
+    }
     fn get(&self, key: &str, fits: impl Fn(&T) -> bool) -> Option<Arc<T>> {
         self.items.iter().find(|(k, v)| k == key && fits(v)).map(|(_, v)| v.clone())
     }
@@ -151,6 +156,17 @@ pub fn build_id() -> &'static str {
 }
 
 impl App {
+    /// Delete the audit with everything it holds in one transaction (`store::audits::delete_audit`),
+    /// once no summary of it is being worked out, and drop what memory kept of it; `false` if there
+    /// is no such audit.
+    pub async fn delete_audit(&self, id: i64) -> Result<bool> {
+        let _turn = self.inner.summary_locks.get(id).lock_owned().await;
+        let deleted = audits::delete_audit(self.db(), id).await?;
+        self.inner.kept.frames.lock().expect("kept frames").forget(id);
+        self.inner.kept.figures.lock().expect("kept figures").forget(id);
+        Ok(deleted)
+    }
+
     /// The audit's frame over `window`; the whole-log frame may be the kept one.
     pub(super) async fn frame_for(
         &self,

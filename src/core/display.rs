@@ -159,6 +159,17 @@ impl EnergyUnit {
         }
     }
 
+    /// The unit of a column of differences (savings against a baseline): chosen by the smallest
+    /// one that is not zero, so that a saving of 72 kWh beside one of 40 MWh still reads "72", not
+    /// "0.1" (kWh numbers are grouped, so a large one stays readable).
+    pub fn for_differences(values: impl IntoIterator<Item = f64>) -> Self {
+        let least = values
+            .into_iter()
+            .filter(|v| v.is_finite() && *v != 0.0)
+            .fold(f64::INFINITY, |m, v| m.min(v.abs()));
+        Self::for_column([if least.is_finite() { least } else { 0.0 }])
+    }
+
     pub fn label(self) -> &'static str {
         match self {
             Self::Kwh => "kWh",
@@ -413,9 +424,16 @@ impl Fmt {
             return MISSING.into();
         }
         match self.units {
-            UnitSystem::Si => format!("{} {currency} per 1000 m³ free air", num(per_1000_m3, 2)),
+            // No-break spaces hold the price with its unit on one line in print ("16.61 EUR per
+            // 1000 m³"); "free air" may go to the next line, as after every flow.
+            UnitSystem::Si => {
+                format!("{}\u{a0}{currency}\u{a0}per\u{a0}1000\u{a0}m³ free air", num(per_1000_m3, 2))
+            }
             UnitSystem::Us => {
-                format!("{} {currency} per 1000 ft³ free air", num(per_1000_m3 * M3_PER_FT3, 3))
+                format!(
+                    "{}\u{a0}{currency}\u{a0}per\u{a0}1000\u{a0}ft³ free air",
+                    num(per_1000_m3 * M3_PER_FT3, 3)
+                )
             }
         }
     }
@@ -435,7 +453,12 @@ impl Fmt {
         if !y.is_finite() {
             "no payback".into()
         } else if y < 1.0 {
-            format!("{} months", num(y * 12.0, 0))
+            // Whole months, said as a person says them: "under 1 month", "1 month", "5 months".
+            match (y * 12.0).round() {
+                m if m < 1.0 => "under 1 month".into(),
+                1.0 => "1 month".into(),
+                m => format!("{} months", num(m, 0)),
+            }
         } else {
             format!("{} years", num(y, 1))
         }
@@ -521,6 +544,28 @@ mod tests {
         assert_eq!(r(&us), "96.1–102 cfm free air");
         assert_eq!(span("-5 °C", "3 °C"), "-5 to 3 °C");
         assert_eq!(span("not enough data", "3 °C"), "not enough data to 3 °C");
+    }
+
+    #[test]
+    fn a_payback_under_a_year_is_said_in_whole_months_with_its_number() {
+        let f = super::Fmt::new(super::UnitSystem::Si, crate::core::units::PressureAbs(101_325.0));
+        // 0.09 years is 1.08 months: one month, singular.
+        assert_eq!(f.years(0.09), "1 month");
+        assert_eq!(f.years(0.5), "6 months");
+        assert_eq!(f.years(0.01), "under 1 month");
+        assert_eq!(f.years(2.4), "2.4 years");
+    }
+
+    #[test]
+    fn savings_keep_their_kwh_beside_a_large_one() {
+        use super::EnergyUnit;
+        // Savings of -72, 484 and 15,230 kWh: the least sets kWh, each reads whole.
+        let u = EnergyUnit::for_differences([-72.0, 484.0, 15_230.0, 0.0, f64::NAN]);
+        assert_eq!(u, EnergyUnit::Kwh);
+        assert_eq!(u.number(-72.0), "-72");
+        assert_eq!(u.number(15_230.0), "15,230");
+        // Only large savings: MWh as before.
+        assert_eq!(EnergyUnit::for_differences([42_000.0, 15_230.0]), EnergyUnit::Mwh);
     }
 
     #[test]

@@ -12,10 +12,14 @@ the exact definitions behind the NIST SP 811 (2008) Appendix B factors:
 A gauge pressure stays gauge: psig to bar(g) is the psi factor alone, whatever the site's
 atmosphere, since both count from it.
 
-A value shown in a form is written with nine significant figures ([`shown`]), so that a value typed
-in either unit reads back as typed; and [`read`] keeps the stored value itself when the text posted
-is the text that was shown, so that saving an unchanged form never moves a record, however many
-times it is saved or whichever unit system it is shown in.
+A value shown in a form is rounded to its unit's resolution ([`Entry::decimals`]: 0.001 bar(g),
+0.1 psig, 0.1 °C or °F...), with at least three significant figures for a small value, so that a
+value converted from the other unit system reads as people write it (75 °F is 23.9 °C, not
+23.8888889); and [`read`] keeps the stored value itself when the text posted is the text that was
+shown, so that saving an unchanged form never moves a record, however many times it is saved or
+whichever unit system it is shown in. A limit (a refusal's, an input's `min`) is rounded inward at
+that resolution and to four figures ([`Entry::limit`], [`Entry::lower_limit`]), so that the value it
+quotes is itself accepted: 50 bar(g) is "at most 725.1 psig", since 725.2 psig is above it.
 */
 
 use super::units::{UnitSystem, M3_PER_FT3, M3_PER_US_GAL, PA_PER_BAR, PA_PER_PSI};
@@ -133,9 +137,71 @@ impl Entry {
         (stored - u.offset) / u.factor
     }
 
-    /// The stored value as a form field shows it: nine significant figures, no trailing zeros.
+    /// The decimals this field is typed to in `units`: finer than any reading of the quantity
+    /// and no finer (common practice: gauges read to 0.01 bar or 0.1 psi, thermometers to 0.1°).
+    pub fn decimals(self, units: UnitSystem) -> i32 {
+        let us = units == UnitSystem::Us;
+        match self {
+            Entry::GaugePressure | Entry::PressureDrop => {
+                if us {
+                    1
+                } else {
+                    3
+                }
+            }
+            Entry::FreeAirFlow | Entry::Volume => {
+                if us {
+                    1
+                } else {
+                    3
+                }
+            }
+            Entry::SpecificPower | Entry::Atmosphere | Entry::Diameter => 2,
+            Entry::Temperature | Entry::DegreeDays => 1,
+            Entry::Altitude => 0,
+        }
+    }
+
+    /// The stored value as a form field shows it: rounded to [`Entry::decimals`], or to three
+    /// significant figures when that is finer, no trailing zeros.
     pub fn shown(self, units: UnitSystem, stored: f64) -> String {
-        short(self.from_stored(units, stored))
+        let v = self.from_stored(units, stored);
+        if !v.is_finite() || v == 0.0 {
+            return short(v);
+        }
+        let d = self.decimals(units).max(2 - v.abs().log10().floor() as i32).clamp(0, 15) as usize;
+        trimmed(format!("{v:.d$}"))
+    }
+
+    /// A limit in the reader's unit rounded inward (`up`: a lower limit, rounded up) to the
+    /// field's decimals and four figures, so that the number quoted is itself within the limit.
+    fn limit_value(self, units: UnitSystem, stored: f64, up: bool) -> f64 {
+        let v = self.from_stored(units, stored);
+        if v == 0.0 || !v.is_finite() {
+            return v;
+        }
+        let d = self.decimals(units).min((3 - v.abs().log10().floor() as i32).max(0));
+        let scale = 10f64.powi(d);
+        let x = v * scale;
+        // A value already on the grid but for the conversion's last bits stays where it is.
+        let x = if (x - x.round()).abs() <= 1e-9 * x.abs().max(1.0) {
+            x.round()
+        } else if up {
+            x.ceil()
+        } else {
+            x.floor()
+        };
+        x / scale
+    }
+
+    /// A lower limit as a form's `min` holds it (the number alone), rounded up.
+    pub fn min_text(self, units: UnitSystem, stored: f64) -> String {
+        short(self.limit_value(units, stored, true))
+    }
+
+    /// A lower limit as a refusal quotes it, rounded up: "at least 110.5 psig".
+    pub fn lower_limit(self, units: UnitSystem, stored: f64) -> String {
+        format!("{} {}", short(self.limit_value(units, stored, true)), self.unit(units).label)
     }
 
     /// A stored value as a refusal quotes it to a reader of `units`: the number as the field would
@@ -144,17 +210,11 @@ impl Entry {
         format!("{} {}", self.shown(units, stored), self.unit(units).label)
     }
 
-    /// A limit as a refusal quotes it to a reader of `units`: four significant figures (a whole
-    /// number keeps its digits), so that 50 bar(g) reads "725.2 psig".
+    /// An upper limit as a refusal quotes it to a reader of `units`: at the field's decimals and
+    /// four significant figures at most (a whole number keeps its digits), rounded down, so that
+    /// 50 bar(g) reads "725.1 psig" (725.19 psig) and 100 mm "3.93 in".
     pub fn limit(self, units: UnitSystem, stored: f64) -> String {
-        let v = self.from_stored(units, stored);
-        let text = if v == 0.0 || !v.is_finite() {
-            short(v)
-        } else {
-            let decimals = (3 - v.abs().log10().floor() as i32).max(0) as usize;
-            short(format!("{v:.decimals$}").parse().unwrap_or(v))
-        };
-        format!("{text} {}", self.unit(units).label)
+        format!("{} {}", short(self.limit_value(units, stored, false)), self.unit(units).label)
     }
 
     /// A refusal of `stored` outside `lo..=hi` (`lo` itself refused when `lo_open`), in the
@@ -163,7 +223,8 @@ impl Entry {
     pub fn out_of_range(self, units: UnitSystem, stored: f64, lo: f64, lo_open: bool, hi: f64) -> String {
         let got = if stored.is_finite() { self.said(units, stored) } else { "no number".into() };
         let low = if lo_open { "above" } else { "at least" };
-        format!("must be {low} {} and at most {}, got {got}", self.limit(units, lo), self.limit(units, hi))
+        let lo = if lo_open { self.limit(units, lo) } else { self.lower_limit(units, lo) };
+        format!("must be {low} {lo} and at most {}, got {got}", self.limit(units, hi))
     }
 
     /// The stored value of a posted text. `previous` is the record's stored value: when the text
@@ -183,7 +244,17 @@ impl Entry {
     }
 }
 
-/// A number with nine significant figures and no trailing zeros, as a form field holds it.
+/// A number's decimal text without trailing zeros ("-0" is "0").
+fn trimmed(s: String) -> String {
+    let s = if s.contains('.') { s.trim_end_matches('0').trim_end_matches('.').to_string() } else { s };
+    if s == "-0" {
+        "0".into()
+    } else {
+        s
+    }
+}
+
+/// A number with nine significant figures and no trailing zeros.
 pub fn short(v: f64) -> String {
     if !v.is_finite() {
         return String::new();
@@ -193,13 +264,7 @@ pub fn short(v: f64) -> String {
     }
     let magnitude = v.abs().log10().floor() as i32;
     let decimals = (8 - magnitude).clamp(0, 15) as usize;
-    let s = format!("{v:.decimals$}");
-    let s = if s.contains('.') { s.trim_end_matches('0').trim_end_matches('.').to_string() } else { s };
-    if s == "-0" {
-        "0".into()
-    } else {
-        s
-    }
+    trimmed(format!("{v:.decimals$}"))
 }
 
 /// The table the page scripts convert with: for each field kind, its label, factor and offset in
@@ -336,13 +401,32 @@ mod tests {
         let p = Entry::GaugePressure.read(Us, "800", None).unwrap();
         assert_eq!(
             Entry::GaugePressure.out_of_range(Us, p, 0.0, true, 50.0),
-            "must be above 0 psig and at most 725.2 psig, got 800 psig"
+            "must be above 0 psig and at most 725.1 psig, got 800 psig"
         );
         assert_eq!(Entry::FreeAirFlow.limit(Us, 2000.0), "70629 cfm");
         assert_eq!(
             Entry::Volume.out_of_range(Si, -1.0, 0.0, false, 10_000.0),
             "must be at least 0 m³ and at most 10000 m³, got -1 m³"
         );
+    }
+
+    #[test]
+    fn converted_values_and_limits_read_as_people_write_them() {
+        // 75 °F = (75 - 32) / 1.8 = 23.888... °C (NIST SP 811 B.9): shown to 0.1 °C.
+        let t = Entry::Temperature.read(Us, "75", None).unwrap();
+        assert_eq!(Entry::Temperature.shown(Si, t), "23.9");
+        // Saved unchanged, the record keeps its bits.
+        assert_eq!(Entry::Temperature.read(Si, "23.9", Some(t)).unwrap().to_bits(), t.to_bits());
+        // A plant low limit of 7.62 bar(g) is 110.5187 psig (psi factor 6.894757 kPa): the
+        // input's min, rounded up to 0.1 psig, lets no lower value through.
+        assert_eq!(Entry::GaugePressure.min_text(Us, 7.62), "110.6");
+        assert_eq!(Entry::GaugePressure.lower_limit(Si, 6.8999999999999995), "6.9 bar(g)");
+        // 100 mm = 3.937 in (1 in = 25.4 mm, exact): at most 3.93 in, which is itself below it.
+        assert_eq!(Entry::Diameter.limit(Us, 100.0), "3.93 in");
+        assert!(Entry::Diameter.to_stored(Us, 3.93) <= 100.0);
+        // A small value keeps three figures: a 1/16 in hole.
+        assert_eq!(Entry::Diameter.shown(Us, 1.5875), "0.0625");
+        assert_eq!(Entry::Altitude.shown(Us, 100.0), "328");
     }
 
     #[test]

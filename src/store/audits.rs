@@ -658,10 +658,12 @@ async fn delete_owned(
 mod field_tests;
 mod scenarios;
 mod treatment;
+mod whole;
 
 pub use field_tests::*;
 pub use scenarios::*;
 pub use treatment::*;
+pub use whole::*;
 
 #[cfg(test)]
 mod list_tests {

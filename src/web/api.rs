@@ -119,6 +119,17 @@ pub async fn patch_audit(
     get_audit(State(st), ApiPath(id)).await
 }
 
+/// `DELETE /api/v1/audits/{id}`: the audit with everything it holds, in one transaction -> 204.
+pub async fn delete_audit(
+    State(st): State<AppState>,
+    ApiPath(id): ApiPath<i64>,
+) -> Result<Response, AppError> {
+    if !st.app.delete_audit(id).await? {
+        return Err(AppError::NotFound(format!("no audit {id}")));
+    }
+    Ok(StatusCode::NO_CONTENT.into_response())
+}
+
 pub async fn add_compressor(
     State(st): State<AppState>,
     ApiPath(id): ApiPath<i64>,

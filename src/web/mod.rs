@@ -90,7 +90,7 @@ pub fn build_app(state: AppState) -> Router {
     let upload_limit = DefaultBodyLimit::max(state.config.max_upload_bytes as usize + 64 * 1024);
     let api = Router::new()
         .route("/audits", get(api::list_audits).post(api::create_audit))
-        .route("/audits/{id}", get(api::get_audit).patch(api::patch_audit))
+        .route("/audits/{id}", get(api::get_audit).patch(api::patch_audit).delete(api::delete_audit))
         .route("/audits/{id}/compressors", post(api::add_compressor))
         .route(
             "/audits/{id}/compressors/{cid}",
@@ -149,6 +149,7 @@ pub fn build_app(state: AppState) -> Router {
         .route("/login", get(access::login_page).post(access::login))
         .route("/audits", get(pages::back_to_form).post(pages::index::create_audit))
         .route("/audits/{id}", get(pages::audit::audit))
+        .route("/audits/{id}/delete", get(pages::confirm::ask_audit).post(pages::confirm::delete_audit))
         .route("/audits/{id}/site", get(pages::back_to_form).post(pages::audit::save_site))
         .route("/audits/{id}/compressors", get(pages::back_to_form).post(pages::audit::add_compressor))
         .route("/audits/{id}/compressors/{cid}", get(pages::back_to_form).post(pages::edit::save_compressor))

@@ -263,10 +263,16 @@ pub async fn post_sniff(
     if head.is_empty() {
         return Err(AppError::field("file", "the file is empty"));
     }
-    let sniffed = ingest::sniff(&head)?;
+    let mut sniffed = ingest::sniff(&head)?;
     let suggested = ingest::suggest_mapping(&sniffed);
+    let audit = state.app.audit(audit_id).await?;
+    // A note that quotes a specific power says it in the audit's units.
+    let fmt = crate::core::display::Fmt::new(audit.site.display_units, audit.site.air().atmosphere);
+    for c in sniffed.columns.iter_mut().filter(|c| !c.note_parts.is_empty()) {
+        c.note = Some(crate::core::display::render_parts(&c.note_parts, &fmt));
+    }
     // How the first rows' times read, in the logger's zone as proposed (the audit's).
-    let timezone = state.app.audit(audit_id).await?.site.timezone;
+    let timezone = audit.site.timezone;
     let date_readings = sniffed_readings(&sniffed, &timezone);
     let key = ingest::layout_key(&sniffed.header);
     let remembered: Option<serde_json::Value> =

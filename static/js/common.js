@@ -31,10 +31,18 @@ window.airledger = {
       const v = Number(String(el.value).replace(",", "."));
       return u ? v * u.factor + u.offset : v;
     },
+    // A value in the reader's unit `u` as a field shows it (core::entry::Entry::shown): at the
+    // unit's decimals, or three significant figures when finer, no trailing zeros.
+    text(u, v) {
+      if (!Number.isFinite(v)) return "";
+      if (!u || u.decimals === undefined || v === 0) return String(Number(v.toPrecision(9)));
+      const d = Math.min(15, Math.max(0, u.decimals, 2 - Math.floor(Math.log10(Math.abs(v)))));
+      return String(Number(v.toFixed(d)));
+    },
     fill(table, el, stored) {
       const u = this.unit(table, el);
       const v = u ? (Number(stored) - u.offset) / u.factor : Number(stored);
-      const text = String(Number(v.toPrecision(9)));
+      const text = this.text(u, v);
       el.value = text;
       el.dataset.shown = el.value;
       el.dataset.stored = String(stored);
@@ -234,7 +242,7 @@ window.airledger = {
         if (!a || !b) continue;
         if (el.value.trim() !== "") {
           const stored = Number(el.value.replace(",", ".")) * a.factor + a.offset;
-          el.value = String(Number(((stored - b.offset) / b.factor).toPrecision(9)));
+          el.value = window.airledger.entry.text(b, (stored - b.offset) / b.factor);
         }
       }
       // The currency follows the units while it is still the other system's default (EUR, USD).
@@ -300,6 +308,16 @@ window.airledger.besideFields = function (form, errors, fieldOf) {
   if (first) first.focus({ preventScroll: true });
   return left;
 };
+// A new audit's time zone (input[data-zone-default], drawn as UTC): the browser's own zone when
+// the form's list of IANA names offers it; without scripts, or a zone not in the list, UTC stays.
+(function zoneDefault() {
+  let zone = "";
+  try { zone = Intl.DateTimeFormat().resolvedOptions().timeZone || ""; } catch (e) { return; }
+  for (const el of document.querySelectorAll("input[data-zone-default]")) {
+    if (el.value !== "UTC" || !zone || !el.list) continue;
+    if ([...el.list.options].some((o) => o.value === zone)) el.value = zone;
+  }
+})();
 // A form the server refused (pages/refusal.rs): what was typed goes back into its fields (in the
 // units it was typed in), the section that holds it opens, and each refusal is set beside its
 // field; the page's alert lists them all.

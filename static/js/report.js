@@ -68,12 +68,15 @@
       const xs = list.flatMap((it) => [it.s.t_ms[0], it.s.t_ms[it.s.t_ms.length - 1]]).filter((x) => x !== undefined);
       // Nothing logged in the period: the axis spans the period asked for (never the epoch of an
       // empty scale), and the words under the chart say what is missing.
-      const range = xs.length ? { min: Math.min(...xs), max: Math.max(...xs) }
+      // A single instant (one reading, or readings at one time) draws no line: it is said so too.
+      const drawn = xs.length > 0 && Math.max(...xs) > Math.min(...xs);
+      const range = drawn ? { min: Math.min(...xs), max: Math.max(...xs) }
         : { min: from ? from : d.first_ms, max: from ? to : d.last_ms };
       const note = document.getElementById("chart-" + quantity + "-empty");
       if (note) {
-        note.hidden = xs.length > 0;
-        note.textContent = xs.length ? "" : nothing[quantity] + (day ? " on " + day : "") + ".";
+        note.hidden = drawn;
+        note.textContent = drawn ? "" : nothing[quantity] + (day ? " on " + day : "") +
+          (xs.length ? " apart from one instant, which draws no line" : "") + ".";
       }
       const x = Object.assign({}, timeAxis, range, { ticks: timeTicks(range), afterBuildTicks: A.roundTicks(d.timezone, timeAxis.ticks.maxTicksLimit) });
       make("chart-" + quantity, {

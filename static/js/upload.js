@@ -10,7 +10,7 @@
   const E = data.entry; // the reader's input units (core::entry)
   const tz = data.timezone || "UTC";
   const isLineFlow = (unit) => /^a(cfm|m3)/.test(unit || "");
-  const fromStored = (kind, v) => String(Number(((v - E.fields[kind].offset) / E.fields[kind].factor).toPrecision(9)));
+  const fromStored = (kind, v) => A.entry.text(E.fields[kind], (v - E.fields[kind].offset) / E.fields[kind].factor);
   const toStored = (kind, v) => v * E.fields[kind].factor + E.fields[kind].offset;
   let file = null;
   const ZONES = new Set(Array.from(document.querySelectorAll("#zones option"), (o) => o.value));

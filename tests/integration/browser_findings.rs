@@ -152,7 +152,16 @@ pub(super) fn numbers_split_from_units(text: &str) -> Vec<String> {
         "h", "min", "s", "kW", "kWh", "MWh", "GWh", "%", "bar", "bar(g)", "psi", "psig", "psia", "cfm",
         "m³/min", "m³", "ft³", "US", "t", "°C", "°F", "K", "kPa", "ft", "m", "EUR", "USD", "years", "months",
     ];
-    const JOINED: &[(&str, &str)] = &[("t", "CO₂"), ("US", "gal"), ("kPa", "abs"), ("free", "air")];
+    // A price per a quantity of air is one unit too: "16.61 EUR per 1000 m³" stays on one line.
+    const JOINED: &[(&str, &str)] = &[
+        ("t", "CO₂"),
+        ("US", "gal"),
+        ("kPa", "abs"),
+        ("free", "air"),
+        ("EUR", "per"),
+        ("USD", "per"),
+        ("per", "1000"),
+    ];
     let lines: Vec<&str> = text.lines().map(str::trim).collect();
     let mut out = Vec::new();
     for w in lines.windows(2) {

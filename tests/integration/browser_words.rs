@@ -59,3 +59,42 @@ fn a_utc_time_column_is_read_in_utc_and_the_result_names_the_sites_zone() {
     assert!(!r.contains("GMT"), "{r}");
     assert!(r.contains("Interval10 s"), "{r}");
 }
+
+/// Issue 16: a new audit's time zone is the browser's own when the list of IANA names offers it
+/// (Chromium told its zone through the DevTools protocol's `Emulation.setTimezoneOverride`); the
+/// page as served, without scripts, says UTC (`correct16`).
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn a_new_audits_zone_is_the_browsers_own() {
+    let s = Server::start();
+    let b = Browser::start();
+    let zone_of = |tz: &str| {
+        b.post(
+            "/goog/cdp/execute",
+            &json!({"cmd": "Emulation.setTimezoneOverride", "params": {"timezoneId": tz}}),
+        );
+        b.goto(&s.url("/"));
+        let seen = b.js_str("return Intl.DateTimeFormat().resolvedOptions().timeZone");
+        (seen, b.js_str("return document.querySelector('#new-audit [name=timezone]').value"))
+    };
+    let (seen, value) = zone_of("Asia/Tokyo");
+    assert_eq!(seen, "Asia/Tokyo", "the browser was not told its zone");
+    assert_eq!(value, "Asia/Tokyo");
+    let (_, value) = zone_of("America/Chicago");
+    assert_eq!(value, "America/Chicago");
+    // Created with it, the audit keeps the zone (the form posts as typed).
+    b.js(
+        "document.querySelector('#new-audit [name=name]').value = 'zone plant'; \
+          document.querySelector('#new-audit').submit();",
+        json!([]),
+    );
+    b.settle();
+    let audits = s.get("/api/v1/audits").json();
+    let id = audits["audits"][0]["id"].as_i64().expect("the audit was created");
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}")).json()["site"]["timezone"], "America/Chicago");
+    let severe = b.severe_logs("new audit");
+    assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
+}

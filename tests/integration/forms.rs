@@ -176,7 +176,7 @@ fn compressor_receiver_site_and_what_if_refusals_speak_the_audits_units() {
         &json!({"tag": "C9", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
                 "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 800.0 * bar_per_psi}),
     ));
-    assert_eq!(m, "the rated pressure must be above 0 psig and at most 725.2 psig, got 800 psig");
+    assert_eq!(m, "the rated pressure must be above 0 psig and at most 725.1 psig, got 800 psig");
     let m = message(
         s.post_json(&format!("/api/v1/audits/{id}/receivers"), &json!({"name": "wet", "volume_m3": 0.0})),
     );
@@ -190,7 +190,7 @@ fn compressor_receiver_site_and_what_if_refusals_speak_the_audits_units() {
         &format!("/api/v1/audits/{id}/scenarios"),
         &json!({"name": "too high", "changes": [{"op": "set_pressure", "target_bar_g": 800.0 * bar_per_psi}]}),
     ));
-    assert_eq!(m, "the target pressure must be above 0 psig and at most 725.2 psig, got 800 psig");
+    assert_eq!(m, "the target pressure must be above 0 psig and at most 725.1 psig, got 800 psig");
     // The leak calculator of the tests page, asked for this audit: a hole of 0 in.
     let m = message(s.post_json(
         "/api/v1/calc/orifice-leak",
@@ -230,14 +230,15 @@ fn compressor_receiver_site_and_what_if_refusals_speak_the_audits_units() {
 fn a_what_if_target_below_the_low_limit_is_refused_in_the_readers_units() {
     let s = Server::start();
     // NIST SP 811 (2008) B.8: 1 psi = 6 894.757 Pa. C1 is rated 7.5 bar(g): the low limit is
-    // 6.5 bar(g) = 650 000 / 6 894.757 = 94.27 psig, and 1 bar = 14.50 psi.
+    // 6.5 bar(g) = 650 000 / 6 894.757 = 94.27 psig, quoted rounded up to 94.3 psig (a value typed
+    // as quoted is accepted), and 1 bar = 14.50 psi.
     let bar_per_psi = 6_894.757_293_168 / 1e5;
     let low_psig = 6.5 / bar_per_psi;
     for (units, target, want) in [
         (
             "us",
             80.0 * bar_per_psi,
-            "the target pressure must be at least the plant's low limit of 94.27 psig (its lowest rated \
+            "the target pressure must be at least the plant's low limit of 94.3 psig (its lowest rated \
              pressure less 14.5 psi), got 80 psig",
         ),
         (
@@ -281,8 +282,10 @@ fn a_what_if_target_below_the_low_limit_is_refused_in_the_readers_units() {
             .and_then(|t| t.split('"').next())
             .and_then(|v| v.parse().ok())
             .unwrap_or_else(|| panic!("{units}: no min on {tag}"));
-        let want_min = if units == "us" { low_psig } else { 6.5 };
-        assert!((min - want_min).abs() < 1e-6, "{units}: min {min} against {want_min}");
+        // Rounded up to the field's 0.1 psig, so that no value below the limit passes the input.
+        let want_min = if units == "us" { (low_psig * 10.0_f64).ceil() / 10.0 } else { 6.5 };
+        assert!((min - want_min).abs() < 1e-9, "{units}: min {min} against {want_min}");
+        assert!(units != "us" || min >= low_psig, "{units}: min {min} below the limit {low_psig}");
     }
 }
 

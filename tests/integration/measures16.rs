@@ -74,10 +74,15 @@ fn a_quoted_scenario_cost_says_quoted_on_the_report_the_findings_and_in_the_json
     assert!(!row.contains("default estimate"), "{row}");
 }
 
-/// A payback as the pages write it: months under a year, else years to one decimal.
+/// A payback as the pages write it: whole months under a year ("1 month", "under 1 month"),
+/// else years to one decimal.
 fn years(y: f64) -> String {
     if y < 1.0 {
-        format!("{:.0} months", y * 12.0)
+        match (y * 12.0).round() {
+            m if m < 1.0 => "under 1 month".into(),
+            1.0 => "1 month".into(),
+            m => format!("{m:.0} months"),
+        }
     } else {
         format!("{y:.1} years")
     }

@@ -511,8 +511,10 @@ fn the_treatment_page_edits_a_record_without_drift() {
     );
     let did = r.json()["id"].as_i64().unwrap();
     let page = s.get(&format!("/audits/{id}/treatment")).text;
-    // 10.3 m³/min in cfm to nine figures (NIST SP 811 factor), the purge as a percentage.
+    // 10.3 m³/min in cfm to 0.1 cfm, the field's resolution (NIST SP 811 factor), the purge as a
+    // percentage.
     let cfm = entry_shown(10.3 / 0.028_316_846_592);
+    assert_eq!(cfm, "363.7");
     assert!(page.contains(&format!("value=\"{cfm}\"")), "the edit form shows {cfm} cfm");
     let form = |rated: &str, purge: &str| {
         vec![
@@ -554,11 +556,7 @@ fn the_treatment_page_edits_a_record_without_drift() {
 
 /// A number as a form field shows it: nine significant figures, no trailing zeros (`core::entry`).
 fn entry_shown(v: f64) -> String {
-    let decimals = (8 - v.abs().log10().floor() as i32).clamp(0, 15) as usize;
-    let s = format!("{v:.decimals$}");
-    if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s
-    }
+    // A flow in cfm is shown to 0.1 cfm (`core::entry::Entry::decimals`).
+    let s = format!("{v:.1}");
+    s.trim_end_matches('0').trim_end_matches('.').to_string()
 }

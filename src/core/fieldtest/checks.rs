@@ -52,9 +52,10 @@ impl Quoted {
             Quoted::Seconds => format!("{} s", crate::core::entry::short(v)),
         }
     }
-    /// A limit, to four figures.
-    fn limit(self, v: f64) -> String {
+    /// A limit, to four figures, rounded inward (`lower`: up).
+    fn limit(self, v: f64, lower: bool) -> String {
         match self {
+            Quoted::Entry(e, units) if lower => e.lower_limit(units, v),
             Quoted::Entry(e, units) => e.limit(units, v),
             // A long limit as a person says it: "7 days", not "604800 s".
             Quoted::Seconds if v >= 3_600.0 => crate::core::display::duration_words(v),
@@ -76,7 +77,10 @@ pub(super) fn within(
         Ok(v)
     } else {
         let got = if v.is_finite() { q.say(v) } else { "no number".into() };
-        Err(err(field, format!("{words} must be from {} to {}, got {got}", q.limit(lo), q.limit(hi))))
+        Err(err(
+            field,
+            format!("{words} must be from {} to {}, got {got}", q.limit(lo, true), q.limit(hi, false)),
+        ))
     }
 }
 

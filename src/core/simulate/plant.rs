@@ -166,7 +166,7 @@ impl Scenario {
                         format!(
                             "the target pressure must be at least the plant's low limit of {} (its lowest rated \
                              pressure less {}), got {}",
-                            Entry::GaugePressure.limit(units, low),
+                            Entry::GaugePressure.lower_limit(units, low),
                             Entry::PressureDrop.limit(units, model::LOW_LIMIT_BELOW_RATED_BAR),
                             Entry::GaugePressure.said(units, *target_bar_g)
                         ),

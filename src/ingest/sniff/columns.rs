@@ -44,6 +44,10 @@ pub struct ColumnGuess {
     pub unit_from: Option<String>,
     /// Why a guess needs a look (`"bar" read as gauge`...).
     pub note: Option<String>,
+    /// The note in parts when it quotes a figure whose unit differs between SI and US customary
+    /// (a specific power), so that the server says it in the audit's units; `note` is its SI words.
+    #[serde(skip)]
+    pub note_parts: Vec<crate::core::recommend::Part>,
 }
 
 /// What the sniffer knows about a column besides its name.
@@ -348,5 +352,6 @@ pub fn guess(name: &str, index: usize, numeric: bool, ev: &Evidence) -> ColumnGu
         compressor,
         unit_from: from.map(str::to_string),
         note,
+        note_parts: Vec::new(),
     }
 }

@@ -20,7 +20,10 @@ by the auditor (the column's note asks for it).
 */
 
 use super::columns::{self, ColumnGuess};
+use crate::core::display::{render_parts, Fmt};
+use crate::core::recommend::{self as text, Part};
 use crate::core::unit_table::{self, LoggedQuantity};
+use crate::core::units::{PressureAbs, UnitSystem, P_STD_ATM};
 
 /// The most one logged machine draws, kW (common practice, from memory).
 pub const MAX_MACHINE_KW: f64 = 2000.0;
@@ -78,11 +81,28 @@ fn is_voltage(name: &str) -> bool {
         || bracketed.iter().chain(&words).any(|w| matches!(w.as_str(), "v" | "volt" | "volts"))
 }
 
+/// Where [`logged_kw`] found the file's electrical power.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum PowerFrom {
+    /// Its power columns (which the proposed mapping reads).
+    Power,
+    /// Its volts times its amps: no power the mapping reads, only a rough electrical figure.
+    VoltsAmps,
+}
+
 /// The electrical power a file logs, kW: the sum of the mean power of its power columns, else the
 /// mean volts of its first voltage column times the summed mean amps of its current columns (a
 /// rough figure: the phase count and power factor are not known; the band is wide for it).
 /// `means` holds each column's mean reading by index.
 pub fn logged_kw(columns: &[ColumnGuess], header: &[String], means: &[Option<f64>]) -> Option<f64> {
+    logged_kw_from(columns, header, means).map(|(kw, _)| kw)
+}
+
+fn logged_kw_from(
+    columns: &[ColumnGuess],
+    header: &[String],
+    means: &[Option<f64>],
+) -> Option<(f64, PowerFrom)> {
     let mean = |i: usize| means.get(i).copied().flatten();
     let mut power = None;
     for c in columns.iter().filter(|c| c.quantity.as_deref() == Some("power")) {
@@ -92,8 +112,8 @@ pub fn logged_kw(columns: &[ColumnGuess], header: &[String], means: &[Option<f64
             *power.get_or_insert(0.0) += m * w / 1e3;
         }
     }
-    if power.is_some() {
-        return power;
+    if let Some(kw) = power {
+        return Some((kw, PowerFrom::Power));
     }
     let volts = header.iter().enumerate().find(|(_, h)| is_voltage(h)).and_then(|(i, _)| mean(i))?;
     let amps: Vec<f64> = columns
@@ -101,7 +121,7 @@ pub fn logged_kw(columns: &[ColumnGuess], header: &[String], means: &[Option<f64
         .filter(|c| c.quantity.as_deref() == Some("current"))
         .filter_map(|c| mean(c.index))
         .collect();
-    (!amps.is_empty()).then(|| volts * amps.iter().sum::<f64>() / 1e3)
+    (!amps.is_empty()).then(|| (volts * amps.iter().sum::<f64>() / 1e3, PowerFrom::VoltsAmps))
 }
 
 /// A flow column without a unit in the file, given the file's power: the one unit among m³/min,
@@ -123,7 +143,17 @@ pub fn flow_unit(mean_flow: f64, kw: f64) -> Option<(&'static str, f64)> {
 /// voltage), the unit comes from the specific power, replacing a guess from the values' range;
 /// when no unit fits, none is proposed.
 pub fn settle_flow(columns: &mut [ColumnGuess], header: &[String], means: &[Option<f64>]) {
-    let Some(kw) = logged_kw(columns, header, means) else { return };
+    let Some((kw, from)) = logged_kw_from(columns, header, means) else { return };
+    let (lo, hi) = SPECIFIC_KW_PER_M3_MIN;
+    let si = Fmt::new(UnitSystem::Si, PressureAbs(P_STD_ATM));
+    // Only a power the file logs in a power column (one the mapping reads) is quoted as power;
+    // volts times amps is not one (phases and power factor unknown), and is said as what it is.
+    let source = match from {
+        PowerFrom::Power => format!("the file's power ({kw:.3} kW)"),
+        PowerFrom::VoltsAmps => {
+            "the file's volts times amps (taken as power, no power column logged)".to_string()
+        }
+    };
     for c in columns.iter_mut() {
         let unitless = c.unit_from.is_none() || c.unit_from.as_deref() == Some("values");
         if !c.numeric || !unitless || columns::quantity_word(&c.column) != Some("flow") {
@@ -138,21 +168,37 @@ pub fn settle_flow(columns: &mut [ColumnGuess], header: &[String], means: &[Opti
                 c.unit = Some(u.code.into());
                 c.unit_label = Some(u.label.into());
                 c.unit_from = Some("values".into());
-                c.note = Some(format!(
-                    "no unit in the file: {} chosen so that the file's power ({kw:.3} kW) over this flow \
-                     is {sp:.1} kW per m³/min, within 3 to 15 for compressed air; check it",
-                    u.label
-                ));
+                let parts = vec![
+                    Part::from(format!(
+                        "no unit in the file: {} chosen so that {source} over this flow is ",
+                        u.label
+                    )),
+                    text::specific(sp),
+                    Part::from(", within "),
+                    text::specific(lo),
+                    Part::from(" to "),
+                    text::specific(hi),
+                    Part::from(" as compressed air usually is; check it"),
+                ];
+                c.note = Some(render_parts(&parts, &si));
+                c.note_parts = parts;
             }
             None => {
                 c.quantity = None;
                 c.unit = None;
                 c.unit_label = None;
                 c.unit_from = None;
-                c.note = Some(format!(
-                    "looks like flow, but the file gives no unit and no unit puts its power ({kw:.3} kW) \
-                     at 3 to 15 kW per m³/min: choose it"
-                ));
+                let parts = vec![
+                    Part::from(format!(
+                        "looks like flow, but the file gives no unit and no unit puts {source} at "
+                    )),
+                    text::specific(lo),
+                    Part::from(" to "),
+                    text::specific(hi),
+                    Part::from(": choose it"),
+                ];
+                c.note = Some(render_parts(&parts, &si));
+                c.note_parts = parts;
             }
         }
     }

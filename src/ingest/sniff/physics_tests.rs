@@ -152,11 +152,26 @@ fn a_sniffed_flow_without_a_unit_uses_the_files_power_or_volts_and_amps() {
     let rows: Vec<String> = (0..10).map(|i| format!("{};{}", 44 + i % 3, 440 + i * 2)).collect();
     let s = sniff(&file("Power;Flow", &rows)).unwrap();
     assert_eq!(q_u(&s, "Flow"), some("flow", "m3_h"));
-    assert!(col(&s, "Flow").note.as_deref().unwrap().contains("kW per m³/min"));
+    assert!(
+        col(&s, "Flow").note.as_deref().unwrap().contains("the file's power (44.9"),
+        "{:?}",
+        col(&s, "Flow").note
+    );
     // 400 V × 20 A = 8 kW over 1,300 l/min = 1.3 m³/min: 6.2 kW per m³/min.
     let rows: Vec<String> = (0..10).map(|i| format!("{};{};{}", 400 + i % 2, 20, 1_300 + i)).collect();
     let s = sniff(&file("Voltage;Current;Flow rate", &rows)).unwrap();
     assert_eq!(q_u(&s, "Flow rate"), some("flow", "l_min"));
+    // No power column: the note quotes no power figure, only what the unit was judged by.
+    let note = col(&s, "Flow rate").note.clone().unwrap();
+    assert!(note.contains("volts times amps") && !note.contains(" kW)"), "{note}");
+    // Its specific power in US units: 6.15 kW per m³/min is 6.15 / 35.3147 × 100 = 17.4 kW/100 cfm
+    // (NIST SP 811 ft³ factor).
+    let us = crate::core::display::Fmt::new(
+        crate::core::units::UnitSystem::Us,
+        crate::core::units::PressureAbs(crate::core::units::P_STD_ATM),
+    );
+    let said = crate::core::display::render_parts(&col(&s, "Flow rate").note_parts, &us);
+    assert!(said.contains("17.4 kW/100 cfm") && !said.contains("m³"), "{said}");
     // A flow no unit makes plausible stays for the auditor.
     let rows: Vec<String> = (0..10).map(|i| format!("{};{}", 45, 100 + i)).collect();
     let s = sniff(&file("Power;Flow", &rows)).unwrap();

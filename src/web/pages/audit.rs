@@ -128,7 +128,7 @@ struct AuditPage {
     receivers: Vec<ReceiverRecord>,
     uploads: Vec<UploadRecord>,
     /// Each file's first and last reading in the site's time.
-    spans: Vec<(String, String)>,
+    spans: Vec<(String, String, Vec<String>)>,
     fmt: Fmt,
     inp: Inputs,
     zones: Vec<String>,
@@ -157,7 +157,7 @@ fn audit_page(b: AuditBundle, refused: Option<Refusal>) -> AuditPage {
         .iter()
         .map(|u| {
             let at = |t: &Option<String>| t.as_deref().map(|t| local_time(t, tz)).unwrap_or_default();
-            (at(&u.first), at(&u.last))
+            (at(&u.first), at(&u.last), super::read_as::mapping_in_words(&u.mapping, tz))
         })
         .collect();
     AuditPage {

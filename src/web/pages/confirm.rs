@@ -101,9 +101,11 @@ async fn describe(
                 fmt.power_kw(c.spec.rated_power_kw),
                 fmt.flow_m3_min(c.spec.rated_flow_m3_min)
             )];
+            // One paragraph: the sentences follow each other with their space, in any reading of
+            // the page's text.
             if let Some(readings) = readings {
-                lines.push(format!(
-                    "Its logged readings ({readings}) are deleted with it, and the figures are worked \
+                lines[0].push_str(&format!(
+                    " Its logged readings ({readings}) are deleted with it, and the figures are worked \
                      out again without them. To correct its data-sheet values instead, edit it."
                 ));
             }
@@ -252,6 +254,57 @@ confirm_routes! {
     ask_upload, delete_upload, Kind::Upload;
     ask_field_test, delete_field_test, Kind::FieldTest;
     ask_scenario, delete_scenario, Kind::Scenario;
+}
+
+/// The page that asks before a whole audit is deleted: what goes with it, counted in words.
+pub async fn ask_audit(State(st): State<AppState>, Path(id): Path<i64>) -> PageResult {
+    let b = st.app.bundle(id).await?;
+    let c = st.app.audit_contents(id).await?;
+    let fmt = b.fmt();
+    let counted =
+        |n: i64, one: &str, many: &str| format!("{} {}", fmt.count(n), if n == 1 { one } else { many });
+    let lines = vec![
+        format!(
+            "\u{201c}{}\u{201d} is deleted with everything it holds: {}, {}, {} with {}, {}, {}, {} \
+             (dryers, filters, drains and end uses), the edited costs and the plan of measures.",
+            b.audit.name,
+            counted(b.compressors.len() as i64, "compressor", "compressors"),
+            counted(b.receivers.len() as i64, "receiver", "receivers"),
+            counted(c.uploads, "logger file", "logger files"),
+            counted(c.readings, "reading", "readings"),
+            counted(c.field_tests, "field test", "field tests"),
+            counted(c.scenarios, "what-if scenario", "what-if scenarios"),
+            counted(c.treatment_items, "treatment record", "treatment records"),
+        ),
+        "Nothing of it can be brought back afterwards. To keep a copy, back up the database first.".into(),
+    ];
+    Ok(render(&ConfirmPage {
+        title: format!("Delete the audit \u{201c}{}\u{201d}?", b.audit.name),
+        lines,
+        button: "Delete the audit".into(),
+        action: format!("/audits/{id}/delete"),
+        back: format!("/audits/{id}"),
+        from: String::new(),
+        audit: b.audit,
+    }))
+}
+
+/// Delete a whole audit, only from its confirmation page's form (`confirm=yes`); then the list of
+/// audits says what was deleted.
+pub async fn delete_audit(
+    State(st): State<AppState>,
+    Path(id): Path<i64>,
+    Form(form): Form<HashMap<String, String>>,
+) -> PageResult {
+    if form.get("confirm").map(String::as_str) != Some("yes") {
+        return Ok(Redirect::to(&format!("/audits/{id}/delete")).into_response());
+    }
+    let name = st.app.audit(id).await?.name;
+    if !st.app.delete_audit(id).await? {
+        return Err(PageError::from(AppError::NotFound(format!("no audit {id}"))));
+    }
+    let done = Done { kind: "audit-deleted", what: name };
+    Ok(Redirect::to(&format!("/?{}", done.query())).into_response())
 }
 
 /// Readings counted per quantity in words ("5,237 energy-counter readings and 120 power

@@ -45,6 +45,10 @@ impl Done {
                 format!("The {what} was deleted; the leak estimate no longer counts it.")
             }
             "test-deleted" => "The field test was deleted; the leak estimate no longer counts it.".into(),
+            "audit-deleted" => format!(
+                "The audit{} was deleted with its files, readings, tests, scenarios and records.",
+                quoted(what)
+            ),
             "scenario-deleted" => format!("Scenario{} deleted.", quoted(what)),
             "scenario-renamed" => format!("Scenario renamed{}.", if what.is_empty() { String::new() } else { format!(" to{}", quoted(what)) }),
             _ => return None,

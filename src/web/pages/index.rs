@@ -9,6 +9,7 @@ use axum::response::{IntoResponse, Redirect};
 use axum::Form;
 
 use super::audit::{opt_text, site_patch};
+use super::flash::{Done, DoneQuery};
 use super::inputs::Inputs;
 use super::refusal::Refusal;
 use super::{render, PageResult, ViewQuery};
@@ -22,6 +23,8 @@ use crate::web::AppState;
 #[template(path = "index.html")]
 struct IndexPage {
     audits: Vec<AuditListItem>,
+    /// What was just done (an audit deleted), in words.
+    done: Option<String>,
     zones: Vec<String>,
     /// A refused form: every refusal and what was typed (`refusal`).
     refused: Option<Refusal>,
@@ -40,13 +43,18 @@ impl IndexPage {
                 "us": Inputs::new(UnitSystem::Us).page_data(),
             },
         });
-        Self { audits, zones: super::zone_names(), refused, inp, page_data }
+        Self { audits, done: None, zones: super::zone_names(), refused, inp, page_data }
     }
 }
 
-pub async fn index(State(st): State<AppState>, Query(q): Query<ViewQuery>) -> PageResult {
+pub async fn index(
+    State(st): State<AppState>,
+    Query(q): Query<ViewQuery>,
+    Query(done): Query<DoneQuery>,
+) -> PageResult {
     let units = q.units.as_deref().and_then(UnitSystem::parse).unwrap_or(UnitSystem::Si);
-    Ok(render(&IndexPage::new(st.app.list_audits().await?, Inputs::new(units), None)))
+    let page = IndexPage::new(st.app.list_audits().await?, Inputs::new(units), None);
+    Ok(render(&IndexPage { done: Done::message(&done), ..page }))
 }
 
 pub async fn create_audit(

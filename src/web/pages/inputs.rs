@@ -174,9 +174,16 @@ impl Inputs {
 
     /// The factors the page scripts convert with (`static/js/common.js`, `airledger.entry`).
     pub fn page_data(&self) -> Value {
-        let table: serde_json::Map<String, Value> = entry::table(self.units)
-            .into_iter()
-            .map(|(k, u)| (k.to_string(), json!({"label": u.label, "factor": u.factor, "offset": u.offset})))
+        let table: serde_json::Map<String, Value> = Entry::ALL
+            .iter()
+            .map(|e| {
+                let u = e.unit(self.units);
+                let d = e.decimals(self.units);
+                (
+                    e.as_str().to_string(),
+                    json!({"label": u.label, "factor": u.factor, "offset": u.offset, "decimals": d}),
+                )
+            })
             .collect();
         json!({"system": self.system(), "fields": table})
     }

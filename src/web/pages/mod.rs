@@ -16,6 +16,7 @@ pub mod flash;
 pub mod index;
 pub mod inputs;
 pub mod plots;
+pub mod read_as;
 pub mod refusal;
 pub mod remap;
 pub mod report;

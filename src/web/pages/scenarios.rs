@@ -115,8 +115,10 @@ struct ScenariosPage {
     /// The target pressure's floor in the reader's units: the plant's low limit, else 0 gauge
     /// (`Scenario::check_plant_in`).
     target_min: String,
-    /// The one unit of the energy columns.
+    /// The one unit of the energy column.
     energy_unit: &'static str,
+    /// The one unit of the saving column, set by its least saving (`EnergyUnit::for_differences`).
+    saving_unit: &'static str,
     /// The replayed period's length (the energy columns' time base), e.g. "168 h".
     period: String,
     /// The plant's annual energy the replayed share is applied to.
@@ -147,8 +149,10 @@ pub async fn scenarios(
     let insufficient = sm.is_some_and(|s| s.sufficiency.verdict == Verdict::Insufficient);
     let rev = b.audit.revision;
     let outcomes: Vec<ScenarioOutcome> = list.iter().map(ScenarioOutcome::of).collect();
-    // One unit for both energy columns, whatever the rows' sizes.
+    // One unit for each energy column, whatever the rows' sizes: the savings' by the least of them
+    // (a difference of 72 kWh must not read "0.1" because another replay's energy passed 10 MWh).
     let energy_unit = EnergyUnit::for_column(outcomes.iter().map(|r| nan(r.energy_kwh)));
+    let saving_unit = EnergyUnit::for_differences(outcomes.iter().map(|r| nan(r.energy_saving_kwh)));
     let rows = list
         .iter()
         .zip(&outcomes)
@@ -208,7 +212,7 @@ pub async fn scenarios(
                     Some(_) => "no demand to replay".into(),
                     None => energy_unit.number(nan(r.energy_kwh)),
                 },
-                saving: energy_unit.number(saving),
+                saving: saving_unit.number(saving),
                 cost_saving_is_text: r.feasible == Some(false) && no_demand.is_none(),
                 // A plant that does not hold its pressure delivers less air than the log asked of
                 // it: its lower energy is no saving, and it is not priced as one.
@@ -300,9 +304,10 @@ pub async fn scenarios(
         }),
         no_trace,
         editing,
-        target_min: Inputs::new(fmt.units)
-            .p(crate::core::model::low_limit_bar_g(&b.specs()).unwrap_or(0.0).max(0.0)),
+        target_min: crate::core::entry::Entry::GaugePressure
+            .min_text(fmt.units, crate::core::model::low_limit_bar_g(&b.specs()).unwrap_or(0.0).max(0.0)),
         energy_unit: energy_unit.label(),
+        saving_unit: saving_unit.label(),
         period: outcomes
             .iter()
             .filter(|r| r.no_demand_reason.is_none())

@@ -20,7 +20,7 @@ struct UploadPage {
     page_data: serde_json::Value,
     zones: Vec<String>,
     /// Each file's first and last reading in the site's time.
-    spans: Vec<(String, String)>,
+    spans: Vec<(String, String, Vec<String>)>,
     /// Counts as every page writes them.
     fmt: Fmt,
     /// What was just done (`flash`: a delete or a re-map started from this page comes back here).
@@ -46,7 +46,7 @@ pub async fn upload(
         .iter()
         .map(|u| {
             let at = |t: &Option<String>| t.as_deref().map(|t| local_time(t, &tz)).unwrap_or_default();
-            (at(&u.first), at(&u.last))
+            (at(&u.first), at(&u.last), super::read_as::mapping_in_words(&u.mapping, &tz))
         })
         .collect();
     let fmt = b.fmt();

@@ -101,7 +101,12 @@ pub fn local_days(spans: &[(i64, i64)], tz: &str, cap: usize) -> Vec<(i64, i64, 
     let start_of =
         |d: jiff::civil::Date| d.to_zoned(zone.clone()).ok().map(|z| z.timestamp().as_millisecond());
     for &(first, last) in spans {
-        let (Some(mut d), Some(end)) = (date_of(first), date_of(last.max(first))) else { continue };
+        let (Some(mut d), Some(mut end)) = (date_of(first), date_of(last.max(first))) else { continue };
+        // A log that ends exactly at a midnight ends the day before: the day it opens holds
+        // nothing but that instant, and would draw an empty chart.
+        if last > first && start_of(end) == Some(last) {
+            end = end.yesterday().unwrap_or(end);
+        }
         while d <= end && days.len() < cap {
             let Ok(next) = d.tomorrow() else { break };
             if let (Some(a), Some(b)) = (start_of(d), start_of(next)) {
@@ -503,6 +508,10 @@ mod tests {
         );
         assert_eq!(apart.len(), 2);
         assert_eq!(local_days(&[(0, 400 * 86_400_000)], "UTC", 10).len(), 10);
+        // A log from Sun 8 Mar 01:00 to Mon 9 Mar 00:00 exactly (Chicago) is Sunday's alone.
+        let to_midnight = local_days(&[(mar8 + 3_600_000, mar8 + 23 * 3_600_000)], "America/Chicago", 100);
+        assert_eq!(to_midnight.len(), 1, "{to_midnight:?}");
+        assert_eq!(to_midnight[0].2, "Sun 8 Mar 2026");
     }
 
     #[test]

@@ -64,7 +64,7 @@ pub(super) fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary, logged: &[(i6
         "last_ms": b.channels.iter().map(|c| c.last_ms).max(),
         // The site's local days that hold readings (the day selector), at most 1,000: the hours
         // logged, never the calendar between files logged years apart.
-        "days": crate::web::pages::words::local_days(logged, &b.audit.site.timezone, 1000).into_iter().map(|(a, z, label)| serde_json::json!({"start_ms": a, "end_ms": z, "label": label})).collect::<Vec<_>>(),
+        "days": crate::web::pages::words::local_days(&within_readings(b, logged), &b.audit.site.timezone, 1000).into_iter().map(|(a, z, label)| serde_json::json!({"start_ms": a, "end_ms": z, "label": label})).collect::<Vec<_>>(),
         "channels": channels,
         "units": {
             "system": if us { "us" } else { "si" },
@@ -87,4 +87,13 @@ pub(super) fn chart_data(b: &AuditBundle, fmt: &Fmt, sm: &Summary, logged: &[(i6
             "mwh": [mwh(input_kwh), mwh(h.annual_heat_rejected_kwh), mwh(h.annual_recoverable_kwh), mwh(h.useful_heat_kwh_per_year)],
         },
     })
+}
+
+/// The logged hours' runs cut to the first and last reading of any channel: the last hour's run
+/// ends at the last reading, not at the end of its hour, so a log that stops at a midnight opens
+/// no day after it (`words::local_days`).
+fn within_readings(b: &AuditBundle, logged: &[(i64, i64)]) -> Vec<(i64, i64)> {
+    let first = b.channels.iter().map(|c| c.first_ms).min().unwrap_or(i64::MIN);
+    let last = b.channels.iter().map(|c| c.last_ms).max().unwrap_or(i64::MAX);
+    logged.iter().map(|&(a, z)| (a.max(first), z.min(last))).filter(|(a, z)| a <= z).collect()
 }

@@ -203,10 +203,18 @@ pub(super) fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(Stri
         rows.push((
             format!("Dryer {} ({}, {})", d.tag, words(&d.kind), words(&d.control)),
             format!(
-                "purge {} ({} a year, {}); electricity {}{}",
-                fmt.flow_m3_min(d.purge_m3_min),
-                fmt.energy_kwh(d.annual_purge_kwh),
-                fmt.money(d.annual_purge_cost, cur),
+                "{}; electricity {}{}",
+                // A dryer that purges no air (refrigerated, or a purge of 0) says so, not zeros.
+                if d.purge_m3_min > 0.0 {
+                    format!(
+                        "purge {} ({} a year, {})",
+                        fmt.flow_m3_min(d.purge_m3_min),
+                        fmt.energy_kwh(d.annual_purge_kwh),
+                        fmt.money(d.annual_purge_cost, cur)
+                    )
+                } else {
+                    "no purge air".to_string()
+                },
                 fmt.power_kw(d.power_kw),
                 if d.dew_point_control_saving_m3_min > 0.0 {
                     format!(
