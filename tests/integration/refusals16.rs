@@ -38,7 +38,7 @@ fn fields(all: &[(String, String)]) -> Vec<&str> {
 #[test]
 fn a_field_test_gives_every_refusal_at_once_in_the_audits_units() {
     let s = Server::start();
-    // Start and end above the 50 bar(g) limit (725.2 psig), a duration of 0 s (1 s at least) and
+    // Start and end above the 50 bar(g) limit (725.2 psig), a duration of 0 s (30 s at least) and
     // stored air above 120 °C (248 °F): four refusals, none hiding another.
     for (units, p1, p2, t_air, unit) in [
         ("us", 800.0 * BAR_PER_PSI, 900.0 * BAR_PER_PSI, (300.0 - 32.0) / 1.8, "psig"),
@@ -58,7 +58,8 @@ fn a_field_test_gives_every_refusal_at_once_in_the_audits_units() {
         );
         assert!(all[0].1.contains(unit) && all[1].1.contains(unit), "{units}: {all:?}");
         if units == "us" {
-            assert_eq!(all[0].1, "pressure must be a number up to 725.2 psig, got 800 psig");
+            assert_eq!(all[0].1, "the start pressure must be a number up to 725.2 psig, got 800 psig");
+            assert_eq!(all[1].1, "the end pressure must be a number up to 725.2 psig, got 900 psig");
             assert_eq!(all[3].1, "the stored air's temperature must be from -40 °F to 248 °F, got 300 °F");
         } else {
             assert!(!all.iter().any(|(_, m)| m.contains("psig") || m.contains("°F")), "{all:?}");
