@@ -91,6 +91,24 @@ window.airledger = {
     }
     return new Date(ms).toLocaleString("en-GB", o).replace(",", "");
   },
+  // The charts' colours, in order: the report gives the i-th series of a quantity the i-th, so a
+  // machine keeps its colour from chart to chart (report, field tests).
+  palette: ["#0f4c5c", "#f2a541", "#5b8e7d", "#b3261e", "#7a5195", "#2f6690", "#8a6d3b"],
+  // Set as a time axis' afterBuildTicks (`(s) => A.roundTicks(s, limit)`): within a few days,
+  // ticks at round times (a minute to 12 h, the smallest step giving at most as many ticks as
+  // labels of ~120 px fit the axis, and at most `limit`; multiples of the step from the epoch, so
+  // round hours of the site for a zone a whole number of hours from UTC), never at the data's own
+  // first and last instants ("Wed 11 Mar 04:33"). Longer spans keep the chart library's own ticks.
+  roundTicks(scale, limit) {
+    const STEPS_MIN = [1, 5, 10, 15, 30, 60, 120, 180, 360, 720];
+    const fit = Math.max(2, Math.min(limit, Math.floor(scale.width / 120)));
+    const m = STEPS_MIN.find((x) => (scale.max - scale.min) / (x * 60000) <= fit - 1);
+    if (!m || !isFinite(scale.min) || !isFinite(scale.max)) return;
+    const step = m * 60000;
+    const ticks = [];
+    for (let v = Math.ceil(scale.min / step) * step; v <= scale.max; v += step) ticks.push({ value: v });
+    if (ticks.length >= 2) scale.ticks = ticks;
+  },
   // An API error's field in words for a person; none for a column's own fields (the column is named).
   fieldWords(field) {
     if (!field) return null;

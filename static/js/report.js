@@ -8,7 +8,7 @@
   Chart.defaults.animation = false;
   Chart.defaults.maintainAspectRatio = false;
   Chart.defaults.font.family = getComputedStyle(document.body).fontFamily;
-  const palette = ["#0f4c5c", "#f2a541", "#5b8e7d", "#b3261e", "#7a5195", "#2f6690", "#8a6d3b"];
+  const palette = A.palette;
   const charts = {};
   // Site time, 24-hour, day before month as the rest of the pages write it ("Tue 10 Mar 06:00");
   // with the year when the axis crosses one ("17 Dec 2006"), without the hour when it spans weeks.
@@ -23,23 +23,9 @@
   }
 
   const timeAxis = { type: "linear", ticks: { maxTicksLimit: window.innerWidth < 640 ? 4 : 7, maxRotation: 0 } };
-  // Within a few days, ticks at round times (a minute to 12 h, the smallest step giving at most the
-  // tick limit; multiples of the step from the epoch, so round hours of the site for a zone a whole
-  // number of hours from UTC), and not at the data's own first and last instants: those fell
-  // beside a round tick and their labels ran into it ("11:40Fri 24 Jun 14:26"). Longer spans keep
-  // the chart library's own ticks.
-  const STEPS_MIN = [1, 5, 10, 15, 30, 60, 120, 180, 360, 720];
   const timeTicks = (range) => Object.assign({}, timeAxis.ticks, { callback: (v) => fmtTime(v, range) });
-  // Set as the axis' afterBuildTicks: as many round ticks as labels of ~120 px fit its width.
-  const roundTicks = (scale) => {
-    const fit = Math.max(2, Math.min(timeAxis.ticks.maxTicksLimit, Math.floor(scale.width / 120)));
-    const m = STEPS_MIN.find((x) => (scale.max - scale.min) / (x * 60000) <= fit - 1);
-    if (!m || !isFinite(scale.min) || !isFinite(scale.max)) return;
-    const step = m * 60000;
-    const ticks = [];
-    for (let v = Math.ceil(scale.min / step) * step; v <= scale.max; v += step) ticks.push({ value: v });
-    if (ticks.length >= 2) scale.ticks = ticks;
-  };
+  // Round ticks within a few days (common.js `roundTicks`, shared with the field-tests chart).
+  const roundTicks = (scale) => A.roundTicks(scale, timeAxis.ticks.maxTicksLimit);
   const u = d.units;
   const convert = {
     power: (v) => v / 1000,

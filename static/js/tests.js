@@ -134,10 +134,12 @@
     const st = document.getElementById("window-status");
     // Pressure, flow and power, each on its own axis and only when logged; what is not logged is
     // said in words instead of an empty axis. Every series is drawn to its own end.
+    // Each machine's power in the colour the report's power chart gives it (the i-th power channel
+    // the i-th of `A.palette`); pressure in greys and flow dashed, so that neither takes a machine's.
     const kinds = {
-      pressure: { entry: "gauge_pressure", axis: "p", color: "#0f4c5c", f: (v) => (v - data.atmosphere_pa) / 1e5 },
-      flow: { entry: "free_air_flow", axis: "q", color: "#f2a541", f: (v) => v * 60 },
-      power: { axis: "w", color: "#7a3b69", f: (v) => v / 1000 },
+      pressure: { entry: "gauge_pressure", axis: "p", colors: ["#222222", "#6b6b6b", "#a3a3a3"], f: (v) => (v - data.atmosphere_pa) / 1e5 },
+      flow: { entry: "free_air_flow", axis: "q", colors: ["#8a6d3b", "#2f6690", "#7a5195"], dash: [6, 3], f: (v) => v * 60 },
+      power: { axis: "w", colors: A.palette, f: (v) => v / 1000 },
     };
     const chans = (await A.json(base + "/channels")).channels.filter((c) => kinds[c.quantity]);
     if (!chans.length) { st.textContent = "No pressure, flow or power logged yet."; return; }
@@ -146,12 +148,15 @@
     for (const c of chans) {
       const k = kinds[c.quantity];
       const s = await A.json(base + "/series?channel=" + c.id + "&points=600");
-      const same = chans.filter((o) => o.quantity === c.quantity).length > 1;
-      const what = c.compressor_tag ? c.compressor_tag + " power" : same ? c.quantity + " (column \u201c" + c.label + "\u201d)" : c.quantity;
+      const same = chans.filter((o) => o.quantity === c.quantity);
+      // Named in words: a machine's power by its tag; a second pressure or flow by the name it was
+      // given ("pressure, press shop"), never a quoted column.
+      const what = c.compressor_tag ? c.compressor_tag + " power" : same.length > 1 ? c.quantity + ", " + c.label.replace(/["\u201c\u201d]/g, "") : c.quantity;
+      const color = k.colors[same.indexOf(c) % k.colors.length];
       const y = (v) => (v === null ? null : k.entry ? toReader(k.entry, k.f(v)) : k.f(v));
       datasets.push({ label: what + ", " + axisTitle(c.quantity),
         data: s.t_ms.map((t, i) => ({ x: t, y: y(s.mean[i]) })), yAxisID: k.axis,
-        pointRadius: 0, borderWidth: 1.2, borderColor: k.color });
+        pointRadius: 0, borderWidth: 1.2, borderColor: color, backgroundColor: color, borderDash: k.dash || [] });
     }
     const present = Object.keys(kinds).filter((q) => chans.some((c) => c.quantity === q));
     const absent = Object.keys(kinds).filter((q) => !present.includes(q));
@@ -162,11 +167,13 @@
       scales[kinds[q].axis] = { position: i === 0 ? "left" : "right", title: { display: true, text: axisTitle(q) }, grid: { drawOnChartArea: i === 0 } };
     });
     const xs = datasets.flatMap((d) => d.data.length ? [d.data[0].x, d.data[d.data.length - 1].x] : []);
+    const range = { min: Math.min(...xs), max: Math.max(...xs) };
     let picks = [];
     const chart = new Chart(canvas, {
       type: "line", data: { datasets: datasets },
       options: { animation: false, maintainAspectRatio: false, parsing: false,
-        scales: { x: { type: "linear", min: Math.min(...xs), max: Math.max(...xs), ticks: { maxTicksLimit: 7, callback: (v) => A.tick(v, tz) }, title: { display: true, text: "site time, " + tz } },
+        scales: { x: { type: "linear", min: range.min, max: range.max, afterBuildTicks: (sc) => A.roundTicks(sc, 7),
+          ticks: { maxTicksLimit: 7, maxRotation: 0, callback: (v) => A.tick(v, tz, range) }, title: { display: true, text: "site time, " + tz } },
           ...scales },
         onClick: (e) => {
           const t = Math.round(chart.scales.x.getValueForPixel(e.x));
