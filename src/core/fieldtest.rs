@@ -29,14 +29,18 @@ default instrument accuracies ([`Accuracy`]).
 # Accepted ranges
 
 Every number must be finite and lie in its range, else the test is refused naming the field (API
-422) and nothing is stored; unknown fields are refused too.
+422) and nothing is stored; unknown fields are refused too. Results no plant can give are refused
+as well (`checks`): a bleed-down whose leak flow, even at the lowest the reading allows, exceeds
+what the compressors on record deliver together; a load/unload test of a variable-speed machine; an
+idle-flow or pressure-decay window whose header pressure is under half the compressors' lowest
+rated pressure (the report's credibility rule) or under the choked limit.
 
 | value | range | why |
 |---|---|---|
 | pressures (`start_pressure_bar_g`, `end_pressure_bar_g`, `operating_pressure_bar_g`, `production_pressure_bar_g`) | above 0 bar absolute ..= [`MAX_PRESSURE_BAR_G`] (50 bar(g)) | shop air and boosters (PET blowing at 40 bar(g)); common practice |
-| `duration_s` (bleed-down) | [`MIN_DURATION_S`] (1 s) ..= [`MAX_DURATION_S`] (7 days) | a stopwatch reads seconds; a bleed-down takes minutes (US DOE sourcebook, leaks fact sheet) |
-| `loaded_s` | [`MIN_DURATION_S`] ..= [`MAX_DURATION_S`] | same timing as above |
-| `unloaded_s` | 0 ..= [`MAX_DURATION_S`] | 0 is a reading: the compressor never unloaded in the spell |
+| `duration_s` (bleed-down) | [`MIN_BLEED_DOWN_S`] (30 s) ..= [`MAX_DURATION_S`] (7 days) | timed by hand, a second off at each end; a bleed-down takes minutes (US DOE sourcebook, leaks fact sheet; the 30 s common practice) |
+| `loaded_s` | [`MIN_DURATION_S`] (1 s) ..= [`MAX_DURATION_S`] | a stopwatch reads seconds |
+| `unloaded_s` | [`MIN_DURATION_S`] ..= [`MAX_DURATION_S`] | 0 s unloaded is no measured cycle (T / (T + t) would read 100 %) |
 | `volume_m3` (bleed-down, pressure decay; given or the system volume) | above 0 ..= [`MAX_VOLUME_M3`] (10 000 m³) | the system volume of the largest plants (common practice) |
 | `air_temperature_c` (bleed-down, pressure decay) | [`MIN_AIR_TEMPERATURE_C`] (-40 °C) ..= [`MAX_AIR_TEMPERATURE_C`] (120 °C) | stored air from a cold yard to just after an aftercooler-less discharge (common practice) |
 | `purge_and_drains_m3_min` (idle flow) | 0 ..= [`MAX_PURGE_M3_MIN`] (1 000 m³/min) | at most the largest plants' flow |
@@ -314,7 +318,9 @@ impl FieldTestResult {
     }
 }
 
+mod advice;
 mod checks;
+pub use advice::*;
 pub use checks::*;
 
 /// Parse an RFC 3339 time into ms since the epoch.
@@ -329,10 +335,14 @@ fn window<'f>(
     frame: Option<&'f Frame>,
     start: &str,
     end: &str,
+    tz: &str,
 ) -> Result<(&'f Frame, std::ops::Range<usize>), FieldError> {
     let (t0, t1) = (parse_time_ms("start", start)?, parse_time_ms("end", end)?);
     if t1 <= t0 {
-        return Err(err("end", format!("end {end} must be after start {start}")));
+        return Err(err(
+            "end",
+            format!("the end must be after the start ({})", window_words(start, end, tz)),
+        ));
     }
     let frame = frame.ok_or_else(|| err("start", "no logged data in this audit"))?;
     let g = frame.grid;
@@ -344,74 +354,10 @@ fn window<'f>(
     };
     match last {
         Some(l) if first <= l && first < g.len => Ok((frame, first..l + 1)),
-        _ => Err(err("start", format!("the window {start} .. {end} lies outside the logged period"))),
-    }
-}
-
-/// When the first-order rule reached the fall's adiabatic limit, that cap in words, in the
-/// reader's units (a clause to follow the overstatement); else nothing.
-pub fn adiabatic_cap_words(
-    iso: &leaks::IsothermalCheck,
-    start_bar_g: f64,
-    end_bar_g: f64,
-    units: UnitSystem,
-) -> String {
-    if !iso.at_adiabatic_limit() {
-        return String::new();
-    }
-    format!(
-        " (the first-order rule, (k − 1)/k × thermal time constant / duration, would give more, so it is \
-         capped at the adiabatic limit of a fall from {} to {}: the air left behind gaining no heat \
-         from the walls, (1 − p₂/p₁)/(1 − (p₂/p₁)^(1/k)) − 1 absolute, the most such a fall can \
-         overstate)",
-        Entry::GaugePressure.said(units, start_bar_g),
-        Entry::GaugePressure.said(units, end_bar_g),
-    )
-}
-
-/// What to do after a bleed-down too fast to be near isothermal, in the reader's units: a longer
-/// fall a technician can time (`leaks::longer_fall`: to half the start's gauge pressure, 15 min at
-/// most), or, when none would help, the result read as an upper bound; with the basis.
-pub fn longer_fall_advice(
-    p1: PressureAbs,
-    p2: PressureAbs,
-    duration_s: f64,
-    iso: &leaks::IsothermalCheck,
-    atm: PressureAbs,
-    units: UnitSystem,
-) -> String {
-    let said = |p: PressureAbs| Entry::GaugePressure.said(units, p.bar_g(atm));
-    let max_min = leaks::BLEED_DOWN_MAX_ADVISED_S / 60.0;
-    let basis = format!(
-        "(basis: the overstatement, (k − 1)/k × thermal time constant / duration and at most the \
-         fall's adiabatic limit, falls as the fall lengthens; the fall is timed to about half the start's gauge pressure, as \
-         in the US DOE sourcebook's test, and for {max_min:.0} min at most, what a stop of production \
-         usually allows: our judgement)"
-    );
-    match leaks::longer_fall(p1, p2, duration_s, iso, atm) {
-        Some(f) if f.limit == leaks::FallLimit::NearIsothermal => format!(
-            "time a longer fall from the same start: about {:.0} min, to about {}, brings it under {:.0} % {basis}",
-            (f.duration_s / 60.0).ceil(),
-            said(f.end_pressure),
-            100.0 * leaks::ISOTHERMAL_WARNING_FRACTION,
-        ),
-        Some(f) => format!(
-            "time a longer fall from the same start, until the pressure reaches about {} or for {max_min:.0} min, \
-             whichever comes first (about {:.0} min at this leak rate): the overstatement falls to about \
-             {:.0} %, so read that result as an upper bound {basis}",
-            said(PressureAbs(
-                (atm.0 + leaks::BLEED_DOWN_END_SHARE_OF_START_GAUGE * (p1.0 - atm.0))
-                    .max(leaks::CHOKED_PRESSURE_RATIO * atm.0)
-            )),
-            (f.duration_s / 60.0).ceil(),
-            100.0 * f.overstatement,
-        ),
-        None => format!(
-            "no longer fall that a technician can time (to about half the start's gauge pressure, \
-             {max_min:.0} min at most) would read closer at this leak rate: the flow as read stays an \
-             upper bound, about {:.0} % high, and the flow corrected for it the estimate {basis}",
-            100.0 * iso.overstatement
-        ),
+        _ => Err(err(
+            "start",
+            format!("the window {} lies outside the logged period", window_words(start, end, tz)),
+        )),
     }
 }
 
@@ -443,13 +389,7 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                     ),
                 ));
             }
-            within(
-                "duration_s",
-                "the duration",
-                *duration_s,
-                (MIN_DURATION_S, MAX_DURATION_S),
-                Quoted::Seconds,
-            )?;
+            bleed_down_duration(*duration_s)?;
             let op_g = operating_pressure_bar_g.unwrap_or(*start_pressure_bar_g);
             let op = pressure("operating_pressure_bar_g", op_g, site, units)?;
             let (v, src) = volume("volume_m3", *volume_m3, ctx.storage, units)?;
@@ -463,6 +403,8 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             let read = r.leak_flow_at_operating_pressure.m3_min();
             let iso = r.isothermal;
             let q = read / (1.0 + iso.overstatement);
+            let fall = (*start_pressure_bar_g, *end_pressure_bar_g, *duration_s, v);
+            within_capacity(read / (1.0 + iso.adiabatic_limit), ctx.compressors, units, fall)?;
             let dp_rel = std::f64::consts::SQRT_2 * acc.pressure_abs_bar()
                 / (start_pressure_bar_g - end_pressure_bar_g);
             let u = quad(&[acc.volume_rel, dp_rel]);
@@ -472,7 +414,8 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                     "test too short to be near isothermal: over {:.0} s the stored air cools as it \
                      expands (thermal time constant about {:.0} s for this volume), so the leak flow \
                      as read is overstated by about {:.0} %{}; the estimate is the flow corrected for \
-                     it, the flow as read an upper bound; {}",
+                     it, its likely range running up to the flow as read plus the instruments' \
+                     uncertainty; {}",
                     duration_s,
                     iso.thermal_time_constant_s,
                     100.0 * iso.overstatement,
@@ -503,6 +446,9 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             let c = ctx.compressors.iter().find(|c| &c.tag == compressor).ok_or_else(|| {
                 err("compressor", format!("no compressor tagged {compressor:?} in this audit"))
             })?;
+            if let Some(why) = load_unload_applies(c) {
+                return Err(err("compressor", why));
+            }
             within(
                 "loaded_s",
                 "the loaded time",
@@ -510,7 +456,7 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                 (MIN_DURATION_S, MAX_DURATION_S),
                 Quoted::Seconds,
             )?;
-            within("unloaded_s", "the unloaded time", *unloaded_s, (0.0, MAX_DURATION_S), Quoted::Seconds)?;
+            unloaded_time(*unloaded_s)?;
             let (f, q) =
                 leaks::load_unload(*loaded_s, *unloaded_s, FreeAirFlow::from_m3_min(c.rated_flow_m3_min))?;
             let q = q.m3_min();
@@ -534,7 +480,7 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                 (0.0, MAX_PURGE_M3_MIN),
                 Quoted::Entry(Entry::FreeAirFlow, units),
             )?;
-            let (frame, bins) = window(ctx.frame, start, end)?;
+            let (frame, bins) = window(ctx.frame, start, end, ctx.timezone)?;
             let flow = frame.system_flow().ok_or_else(|| {
                 err(
                     "start",
@@ -544,8 +490,9 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             let n = bins.len();
             let vals: Vec<f64> =
                 flow[bins.clone()].iter().filter(|v| v.is_finite()).map(|&v| v as f64).collect();
+            let when = window_words(start, end, ctx.timezone);
             if vals.is_empty() {
-                return Err(err("start", format!("no flow logged between {start} and {end}")));
+                return Err(err("start", format!("no flow logged {when}")));
             }
             let mean_q = vals.iter().sum::<f64>() / vals.len() as f64;
             let mean_p = frame.header_pressure().and_then(|c| {
@@ -553,6 +500,9 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                     c.values[bins.clone()].iter().filter(|v| v.is_finite()).map(|&v| v as f64).collect();
                 (!v.is_empty()).then(|| v.iter().sum::<f64>() / v.len() as f64)
             });
+            if let Some(p) = mean_p {
+                held_at_pressure(PressureAbs(p), ctx, "averaged", &when)?;
+            }
             if purge / 60.0 >= mean_q {
                 return Err(err(
                     "purge_and_drains_m3_min",
@@ -592,7 +542,7 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             air_temperature_c,
         } => {
             let k_t = leaks::stored_air_factor(air_temperature(*air_temperature_c, ctx.units)?, site);
-            let (frame, bins) = window(ctx.frame, start, end)?;
+            let (frame, bins) = window(ctx.frame, start, end, ctx.timezone)?;
             let p =
                 frame.header_pressure().ok_or_else(|| err("start", "no pressure logged in this audit"))?;
             let mut unchecked = Vec::new();
@@ -606,9 +556,10 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                         let all = classify(c, &col.values);
                         let s = &all[bins.clone()];
                         let at = |k: usize| {
-                            jiff::Timestamp::from_millisecond(frame.grid.bin_start_ms(bins.start + k))
-                                .map(|t| t.to_string())
-                                .unwrap_or_default()
+                            crate::core::display::local_ms(
+                                frame.grid.bin_start_ms(bins.start + k),
+                                ctx.timezone,
+                            )
                         };
                         if let Some(k) = s.iter().position(|s| s.delivering()) {
                             return Err(err(
@@ -654,16 +605,33 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
                     )
                 })
                 .collect();
+            let when = window_words(start, end, ctx.timezone);
             if samples.len() < 3 {
+                let n = samples.len();
+                let got =
+                    if n == 0 { "no pressure reading".to_string() } else { format!("only {n} of them") };
                 return Err(err(
                     "start",
-                    format!(
-                        "only {} pressure bins logged between {start} and {end}; at least 3 are needed",
-                        samples.len()
-                    ),
+                    format!("{got} logged {when}; a fit needs pressure in at least 3 of the log's intervals"),
                 ));
             }
-            let fit = leaks::fit_pressure_decay(&samples, Volume(v), site)?;
+            held_at_pressure(samples[0].1, ctx, "started at", &when)?;
+            let fit = leaks::fit_pressure_decay(&samples, Volume(v), site).map_err(|e| {
+                let fmt = crate::core::display::Fmt::new(ctx.units, atm);
+                let said = |p: PressureAbs| fmt.pressure_bar_g(p.bar_g(atm));
+                match e.field {
+                    "end" => err(
+                        "end",
+                        format!(
+                            "the pressure does not fall {when} (from {} to {}): a decay needs a falling \
+                             pressure with every compressor off",
+                            said(samples[0].1),
+                            said(samples[samples.len() - 1].1)
+                        ),
+                    ),
+                    _ => e.into(),
+                }
+            })?;
             let q_start = fit.leak_flow_at_start.m3_min() * k_t;
             let start_g = fit.start_pressure.bar_g(atm);
             let op_g = operating_pressure_bar_g.unwrap_or(start_g);

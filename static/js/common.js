@@ -132,6 +132,9 @@ window.airledger = {
     }
     return new Date(ms).toLocaleString("en-GB", o).replace(",", "");
   },
+  // The charts' colours, in order: the report gives the i-th series of a quantity the i-th, so a
+  // machine keeps its colour from chart to chart (report, field tests).
+  palette: ["#0f4c5c", "#f2a541", "#5b8e7d", "#b3261e", "#7a5195", "#2f6690", "#8a6d3b"],
   // An API error's field in words for a person; none for a column's own fields (the column is named).
   fieldWords(field) {
     if (!field) return null;

@@ -8,7 +8,7 @@
   Chart.defaults.animation = false;
   Chart.defaults.maintainAspectRatio = false;
   Chart.defaults.font.family = getComputedStyle(document.body).fontFamily;
-  const palette = ["#0f4c5c", "#f2a541", "#5b8e7d", "#b3261e", "#7a5195", "#2f6690", "#8a6d3b"];
+  const palette = A.palette;
   const charts = {};
   // Site time, 24-hour, day before month as the rest of the pages write it ("Tue 10 Mar 06:00");
   // with the year when the axis crosses one ("17 Dec 2006"), without the hour when it spans weeks.

@@ -172,10 +172,12 @@
     const st = document.getElementById("window-status");
     // Pressure, flow and power, each on its own axis and only when logged; what is not logged is
     // said in words instead of an empty axis. Every series is drawn to its own end.
+    // Each machine's power in the colour the report's power chart gives it (the i-th power channel
+    // the i-th of `A.palette`); pressure in greys and flow dashed, so that neither takes a machine's.
     const kinds = {
-      pressure: { entry: "gauge_pressure", axis: "p", color: "#0f4c5c", f: (v) => (v - data.atmosphere_pa) / 1e5 },
-      flow: { entry: "free_air_flow", axis: "q", color: "#f2a541", f: (v) => v * 60 },
-      power: { axis: "w", color: "#7a3b69", f: (v) => v / 1000 },
+      pressure: { entry: "gauge_pressure", axis: "p", colors: ["#222222", "#6b6b6b", "#a3a3a3"], f: (v) => (v - data.atmosphere_pa) / 1e5 },
+      flow: { entry: "free_air_flow", axis: "q", colors: ["#8a6d3b", "#2f6690", "#7a5195"], dash: [6, 3], f: (v) => v * 60 },
+      power: { axis: "w", colors: A.palette, f: (v) => v / 1000 },
     };
     // A compressor's energy counter is the power it stands for (the series API's
     // power_from_counter, in W), drawn on the power axis after the logged power, as the report's
@@ -194,9 +196,12 @@
       // A counter the server does not give as power (no compressor) is not drawn.
       if (c.quantity === "energy" && !s.power_from_counter) continue;
       drawn.push(q);
-      const same = chans.filter((o) => kindOf(o) === q).length > 1;
+      const same = chans.filter((o) => kindOf(o) === q);
+      // Named in words: a machine's power by its tag (from its energy counter, if so); a second
+      // pressure or flow by the name it was given ("pressure, press shop"), never a quoted column.
       const what = c.compressor_tag ? c.compressor_tag + " " + q + (c.quantity === "energy" ? ", from its energy counter" : "")
-        : same ? q + " (column \u201c" + c.label + "\u201d)" : q;
+        : same.length > 1 ? q + ", " + c.label.replace(/["\u201c\u201d]/g, "") : q;
+      const color = k.colors[same.indexOf(c) % k.colors.length];
       const y = (v) => (v === null ? null : k.entry ? toReader(k.entry, k.f(v)) : k.f(v));
       // A point after a silence longer than the series' gap_ms starts a new line (a null between).
       const gap = s.gap_ms || Infinity;
@@ -205,7 +210,7 @@
         return i > 0 && t - s.t_ms[i - 1] > gap ? [{ x: (s.t_ms[i - 1] + t) / 2, y: null }, p] : [p];
       });
       datasets.push({ label: what + ", " + axisTitle(q), data: data, yAxisID: k.axis,
-        pointRadius: 0, borderWidth: 1.2, borderColor: k.color });
+        pointRadius: 0, borderWidth: 1.2, borderColor: color, backgroundColor: color, borderDash: k.dash || [] });
     }
     const present = Object.keys(kinds).filter((q) => drawn.includes(q));
     const absent = Object.keys(kinds).filter((q) => !present.includes(q));
@@ -216,11 +221,13 @@
       scales[kinds[q].axis] = { position: i === 0 ? "left" : "right", title: { display: true, text: axisTitle(q) }, grid: { drawOnChartArea: i === 0 } };
     });
     const xs = datasets.flatMap((d) => d.data.length ? [d.data[0].x, d.data[d.data.length - 1].x] : []);
+    const range = { min: Math.min(...xs), max: Math.max(...xs) };
     let picks = [];
     const chart = new Chart(canvas, {
       type: "line", data: { datasets: datasets },
       options: { animation: false, maintainAspectRatio: false, parsing: false,
-        scales: { x: { type: "linear", min: Math.min(...xs), max: Math.max(...xs), ticks: { maxTicksLimit: 7, callback: (v) => A.tick(v, tz) }, title: { display: true, text: "site time, " + tz } },
+        scales: { x: { type: "linear", min: range.min, max: range.max, afterBuildTicks: A.roundTicks(tz, 7),
+          ticks: { maxTicksLimit: 7, maxRotation: 0, callback: (v) => A.tick(v, tz, range) }, title: { display: true, text: "site time, " + tz } },
           ...scales },
         onClick: (e) => {
           const t = Math.round(chart.scales.x.getValueForPixel(e.x));

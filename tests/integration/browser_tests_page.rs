@@ -147,3 +147,94 @@ fn the_window_chart_draws_a_machine_whose_power_comes_only_from_its_energy_count
     let note = b.js_str("return document.getElementById('window-absent').textContent");
     assert_eq!(note, "Not logged in this audit: flow; the chart shows pressure and power.");
 }
+
+
+/// 2 h from 2026-03-11T09:33:20Z (04:33:20 CDT in Chicago, UTC-5 after the change of 8 March: IANA
+/// tz database), every 10 s: C1, C2 and C3's power and two header pressures.
+fn three_machines_two_pressures_csv() -> String {
+    let start = 1_773_221_600i64;
+    let mut s = String::from("time,C1 kW,C2 kW,C3 kW,main header,press shop\n");
+    for i in 0..720i64 {
+        let on = |k: i64| if (i + k) % 20 < 4 { 56.0 } else { 14.0 };
+        s.push_str(&format!(
+            "{},{},{},{},{:.2},{:.2}\n",
+            jiff_like_rfc3339(start + i * 10),
+            on(0),
+            on(5),
+            on(10),
+            7.0 - 0.001 * (i % 30) as f64,
+            6.6 - 0.001 * (i % 30) as f64
+        ));
+    }
+    s
+}
+
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn the_window_chart_names_its_series_in_words_gives_each_machine_its_colour_and_ticks_at_round_times() {
+    // Issue 16's walk: legends quoted column names with mixed quotes, C1, C2 and C3 shared a colour,
+    // and the first tick sat at the data's own odd start ("Wed 11 Mar 04:33"). Each machine now
+    // takes the colour the report's power chart gives it (the i-th power channel the i-th of
+    // `A.palette`); ticks fall on whole multiples of a round step (the report's rule, common
+    // practice for a time axis).
+    let s = Server::start();
+    let id = s.us_audit_in_chicago("three machines");
+    for tag in ["C2", "C3"] {
+        let r = s.post_json(
+            &format!("/api/v1/audits/{id}/compressors"),
+            &json!({"tag": tag, "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+                    "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5}),
+        );
+        assert_eq!(r.status, 201, "{}", r.text);
+    }
+    let mapping = json!({"delimiter": ",", "decimal": ".", "header_line": 1,
+        "timestamp": {"column": "time", "format": "rfc3339", "timezone": "UTC"},
+        "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"},
+                    {"column": "C2 kW", "quantity": "power", "unit": "kW", "compressor": "C2"},
+                    {"column": "C3 kW", "quantity": "power", "unit": "kW", "compressor": "C3"},
+                    {"column": "main header", "quantity": "pressure", "unit": "bar_g"},
+                    {"column": "press shop", "quantity": "pressure", "unit": "bar_g"}]});
+    let r = s.upload(id, "plant.csv", three_machines_two_pressures_csv().as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let b = Browser::start();
+    b.goto(&s.url(&format!("/audits/{id}/tests")));
+    let drawn = wait_until(Duration::from_secs(20), || {
+        b.js("const c = Chart.getChart(document.getElementById('chart-window')); return !!c", json!([]))
+            == true
+    });
+    assert!(drawn, "no window chart");
+    let chart = b.js(
+        "const c = Chart.getChart(document.getElementById('chart-window'));
+         return {labels: c.data.datasets.map((d) => d.label), colors: c.data.datasets.map((d) => d.borderColor),
+                 palette: window.airledger.palette, ticks: c.scales.x.ticks.map((t) => t.value),
+                 first: Math.min(...c.data.datasets.map((d) => d.data[0].x))};",
+        json!([]),
+    );
+    let labels: Vec<&str> = chart["labels"].as_array().unwrap().iter().map(|v| v.as_str().unwrap()).collect();
+    let colors: Vec<&str> = chart["colors"].as_array().unwrap().iter().map(|v| v.as_str().unwrap()).collect();
+    let palette: Vec<&str> =
+        chart["palette"].as_array().unwrap().iter().map(|v| v.as_str().unwrap()).collect();
+    assert_eq!(labels.len(), 5, "{chart}");
+    for l in &labels {
+        assert!(!l.contains("column") && !l.contains('"') && !l.contains('\u{201c}'), "{chart}");
+    }
+    assert!(
+        labels.contains(&"pressure, main header, psig") && labels.contains(&"pressure, press shop, psig"),
+        "{chart}"
+    );
+    let power = |tag: &str| labels.iter().position(|l| l.starts_with(&format!("{tag} power"))).unwrap();
+    let (c1, c2, c3) = (colors[power("C1")], colors[power("C2")], colors[power("C3")]);
+    assert_eq!([c1, c2, c3], [palette[0], palette[1], palette[2]], "{chart}");
+    // No other series takes a machine's colour.
+    let others: Vec<&str> =
+        labels.iter().zip(&colors).filter(|(l, _)| !l.contains(" power")).map(|(_, c)| *c).collect();
+    assert!(others.iter().all(|c| ![c1, c2, c3].contains(c)), "{chart}");
+    // Round ticks: whole minutes, none at the data's first instant (04:33:20 CDT).
+    let ticks: Vec<f64> = chart["ticks"].as_array().unwrap().iter().map(|v| v.as_f64().unwrap()).collect();
+    assert!(ticks.len() >= 2, "{chart}");
+    assert!(ticks.iter().all(|t| t % 300_000.0 == 0.0), "ticks off a 5-minute multiple: {chart}");
+    assert!(!ticks.contains(&chart["first"].as_f64().unwrap()), "{chart}");
+}

@@ -286,6 +286,20 @@ pub struct NonProductionLeak {
     pub leak_flow_m3_min: Option<f64>,
 }
 
+/// Two accepted field tests whose likely ranges do not meet: the one whose range tops out lowest
+/// and the one whose range starts highest, m³/min free air at the operating pressure.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LeakDisagreement {
+    pub low_test_id: i64,
+    pub low_leak_flow_m3_min: f64,
+    /// The top of the low test's likely range.
+    pub low_range_high_m3_min: f64,
+    pub high_test_id: i64,
+    pub high_leak_flow_m3_min: f64,
+    /// The bottom of the high test's likely range.
+    pub high_range_low_m3_min: f64,
+}
+
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct LeakFigures {
     pub estimates: Vec<LeakEstimateFigure>,
@@ -295,6 +309,10 @@ pub struct LeakFigures {
     pub adopted_leak_flow_m3_min_low: Option<f64>,
     pub adopted_leak_flow_m3_min_high: Option<f64>,
     pub adopted_rule: String,
+    /// The accepted field tests disagree beyond their stated ranges (`None`: their ranges share a
+    /// flow, or fewer than two tests); the adopted range then spans theirs (`analysis::leaks`).
+    #[serde(default)]
+    pub disagreement: Option<LeakDisagreement>,
     pub share_of_mean_demand: Option<f64>,
     pub share_of_mean_demand_low: Option<f64>,
     pub share_of_mean_demand_high: Option<f64>,

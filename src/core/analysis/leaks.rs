@@ -1,5 +1,8 @@
 /*!
-Leaks: all estimates side by side; the adopted figure is the median of the field tests; without tests,
+Leaks: all estimates side by side; the adopted figure is the median of the field tests (when their
+likely ranges do not all meet, [`disagreement`], the median still stands, as the middle test is
+not moved by one test gone wrong, but the adopted range is widened to span the tests' ranges and
+the figures say the tests disagree: repeat the tests that stand apart); without tests,
 the flow in non-production hours read as leaks: its mean, less the purge and drain air on record
 (`AuditInput::purge_and_drains_m3_min`, 0 until treatment records are kept: then an upper bound, as
 any other fixed user is in it), corrected to the production pressure by p_production,abs /
@@ -15,10 +18,11 @@ benchmarks (`leaks::leak_share_band`).
 use crate::core::leaks::{critical_pressure_ratio, leak_share_band};
 use crate::core::units::PressureAbs;
 
-use super::figures::{LeakEstimateFigure, LeakFigures, NonProductionLeak};
+use super::figures::{LeakDisagreement, LeakEstimateFigure, LeakFigures, NonProductionLeak};
 use super::stats::percentile;
 use super::uncertainty::{band, default_relative_uncertainty, quad, Accuracy};
 use super::LeakEstimate;
+use crate::core::recommend::{flow, Part};
 
 /// What the leak figures are computed from besides the estimates.
 #[derive(Debug, Clone, Copy)]
@@ -73,6 +77,57 @@ fn estimate_rel(e: &LeakEstimate, acc: &Accuracy) -> f64 {
         .unwrap_or_else(|| default_relative_uncertainty(&e.method, acc))
 }
 
+/// The likely ranges of the accepted tests, (test id, flow, low, high), m³/min: as evaluated, else
+/// the flow ± its relative uncertainty.
+fn test_ranges(leak_estimates: &[LeakEstimate], acc: &Accuracy) -> Vec<(i64, f64, f64, f64)> {
+    leak_estimates
+        .iter()
+        .map(|e| {
+            let (lo, hi) = e
+                .range_m3_min
+                .filter(|(lo, hi)| lo.is_finite() && hi.is_finite() && lo <= hi)
+                .unwrap_or_else(|| band(e.leak_flow_m3_min, estimate_rel(e, acc)));
+            (e.test_id, e.leak_flow_m3_min, lo, hi)
+        })
+        .collect()
+}
+
+/// Whether the accepted tests disagree beyond their stated ranges: no flow lies in every test's
+/// likely range (the highest bottom above the lowest top). `None` with fewer than two tests.
+pub fn disagreement(leak_estimates: &[LeakEstimate], acc: &Accuracy) -> Option<LeakDisagreement> {
+    let r = test_ranges(leak_estimates, acc);
+    let low = r.iter().min_by(|a, b| a.3.total_cmp(&b.3))?;
+    let high = r.iter().max_by(|a, b| a.2.total_cmp(&b.2))?;
+    (high.2 > low.3).then_some(LeakDisagreement {
+        low_test_id: low.0,
+        low_leak_flow_m3_min: low.1,
+        low_range_high_m3_min: low.3,
+        high_test_id: high.0,
+        high_leak_flow_m3_min: high.1,
+        high_range_low_m3_min: high.2,
+    })
+}
+
+/// The summary's warning when the accepted tests disagree ([`disagreement`]), its flows as figures.
+pub fn disagreement_warning(leak_estimates: &[LeakEstimate], acc: &Accuracy) -> Option<Vec<Part>> {
+    let d = disagreement(leak_estimates, acc)?;
+    Some(parts![
+        format!(
+            "the accepted field tests disagree beyond their stated ranges: test no. {} gives ",
+            d.low_test_id
+        ),
+        flow(d.low_leak_flow_m3_min),
+        " (likely at most ",
+        flow(d.low_range_high_m3_min),
+        format!("), test no. {} gives ", d.high_test_id),
+        flow(d.high_leak_flow_m3_min),
+        " (likely at least ",
+        flow(d.high_range_low_m3_min),
+        "); the leak adopted is still their median, with its range spanning theirs: repeat the tests that \
+         stand apart, or remove the one found wrong"
+    ])
+}
+
 /// The leak figures (module doc).
 pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> LeakFigures {
     let (acc, q_prod, q_nonprod, u_flow) = (x.acc, x.q_prod, x.q_nonprod, x.u_flow);
@@ -103,7 +158,15 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
     tests.sort_by(f64::total_cmp);
     let (adopted, adopted_rel, adopted_rule) = if !tests.is_empty() {
         let med = percentile(&tests, 0.5);
-        let rel = leak_estimates.iter().map(|e| estimate_rel(e, acc)).fold(0.0, f64::max);
+        let mut rel = leak_estimates.iter().map(|e| estimate_rel(e, acc)).fold(0.0, f64::max);
+        // Tests that disagree: the adopted range spans every test's range (module doc); the
+        // wider side sets the relative uncertainty carried to the share and the cost, whose
+        // bottoms stop at zero.
+        if disagreement(leak_estimates, acc).is_some() && med > 0.0 {
+            for (_, _, lo, hi) in test_ranges(leak_estimates, acc) {
+                rel = rel.max(1.0 - lo / med).max(hi / med - 1.0);
+            }
+        }
         (Some(med), rel, "median of the accepted field tests".to_string())
     } else if let Some(q) = q_leak_np {
         let np = non_production.as_ref().expect("a leak flow comes with its record");
@@ -135,6 +198,12 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
             estimated: x.flow_estimated,
         });
     }
+    // Tests that disagree: the adopted range runs from the lowest test's bottom to the highest's top.
+    let spread = disagreement(leak_estimates, acc).map(|_| {
+        let r = test_ranges(leak_estimates, acc);
+        let lo = r.iter().map(|t| t.2).fold(f64::INFINITY, f64::min);
+        (lo, r.iter().map(|t| t.3).fold(f64::NEG_INFINITY, f64::max))
+    });
     let share = adopted.zip(mean_flow).map(|(q, m)| q / m);
     let u_share = quad(&[adopted_rel, u_flow]);
     let leak_kwh = adopted.map(|q| q * x.marginal_kw_per_m3_min * x.annual_running_hours);
@@ -145,11 +214,18 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
         estimates,
         non_production,
         adopted_leak_flow_m3_min: adopted,
-        adopted_leak_flow_m3_min_low: adopted.map(|q| q * (1.0 - adopted_rel)),
-        adopted_leak_flow_m3_min_high: adopted.map(|q| q * (1.0 + adopted_rel)),
+        adopted_leak_flow_m3_min_low: adopted.map(|q| match &spread {
+            Some((lo, _)) => *lo,
+            None => q * (1.0 - adopted_rel),
+        }),
+        adopted_leak_flow_m3_min_high: adopted.map(|q| match &spread {
+            Some((_, hi)) => *hi,
+            None => q * (1.0 + adopted_rel),
+        }),
         adopted_rule,
+        disagreement: disagreement(leak_estimates, acc),
         share_of_mean_demand: share,
-        share_of_mean_demand_low: share.map(|s| s * (1.0 - u_share)),
+        share_of_mean_demand_low: share.map(|s| s * (1.0 - u_share).max(0.0)),
         share_of_mean_demand_high: share.map(|s| s * (1.0 + u_share)),
         share_of_production_demand: adopted.zip(q_prod).filter(|(_, q)| *q > 0.0).map(|(l, q)| l / q),
         share_of_non_production_demand: adopted.zip(q_nonprod).filter(|(_, q)| *q > 0.0).map(|(l, q)| l / q),
@@ -160,7 +236,7 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
         marginal_kw_per_m3_min: x.marginal_kw_per_m3_min,
         annual_leak_energy_kwh: leak_kwh,
         annual_leak_cost: leak_kwh.map(|k| k * price),
-        annual_leak_cost_low: leak_kwh.map(|k| k * price * (1.0 - u_leak_cost)),
+        annual_leak_cost_low: leak_kwh.map(|k| k * price * (1.0 - u_leak_cost).max(0.0)),
         annual_leak_cost_high: leak_kwh.map(|k| k * price * (1.0 + u_leak_cost)),
     }
 }

@@ -63,7 +63,7 @@ pub use decay::{
     decay_events, DecayEvent, DECAY_MAX_EVENTS, DECAY_MIN_DURATION_S, DECAY_MIN_FALL_BAR, DECAY_NOISE_BAR,
 };
 pub use figures::{
-    Baseline, CompressorFigures, Coverage, Demand, DurationPoint, FlowSource, HeatFigures,
+    Baseline, CompressorFigures, Coverage, Demand, DurationPoint, FlowSource, HeatFigures, LeakDisagreement,
     LeakEstimateFigure, LeakFigures, Method, NonProductionLeak, PartLoadPoint, Period, PowerSource,
     PressureFigures, ProductionSource, Sufficiency, Summary, SystemFigures, Verdict, Withheld,
 };
@@ -369,6 +369,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
             parts![format!("field test {} ({}): {w}", e.test_id, super::model::human_label(&e.method))]
         })
     }));
+    warnings.extend(leaks::disagreement_warning(&input.leak_estimates, acc));
     let energy_kwh = &d.energy.energy_kwh;
     let sys_energy: f64 = energy_kwh.iter().sum();
     let sys_mean_kw: f64 = d.energy.mean_kw.iter().sum();

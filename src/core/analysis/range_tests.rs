@@ -167,3 +167,46 @@ fn a_leak_estimate_keeps_the_uncertainty_and_warnings_its_test_was_evaluated_wit
         r.warnings
     );
 }
+
+#[test]
+fn tests_that_disagree_beyond_their_ranges_are_said_and_widen_the_adopted_range() {
+    // Issue 16's walk: tests of 4.3, 107 and 250 cfm (0.1218, 3.030 and 7.079 m³/min at 35.3147
+    // cfm per m³/min, NIST SP 811), each ±20 %: 0.146 at most against 5.66 at least, so no flow lies
+    // in every range. The median of three is the middle one (definition), 3.030; the adopted range
+    // spans theirs, 0.0974 to 8.49 m³/min; the summary says which tests stand apart.
+    let s = crate::core::recommend::tests::site();
+    let (cs, frame) = week();
+    let est = |id: i64, q: f64| LeakEstimate {
+        test_id: id,
+        method: "bleed_down".into(),
+        leak_flow_m3_min: q,
+        relative_uncertainty: Some(0.2),
+        range_m3_min: Some((0.8 * q, 1.2 * q)),
+        warnings: vec![],
+    };
+    let (a, b, c) = (4.3 / 35.3147, 107.0 / 35.3147, 250.0 / 35.3147);
+    let r = run(&s, &cs, &frame, vec![est(2, a), est(3, b), est(5, c)]);
+    let l = &r.leaks;
+    assert!((l.adopted_leak_flow_m3_min.unwrap() - b).abs() < 1e-12);
+    let d = l.disagreement.as_ref().expect("the tests disagree");
+    assert_eq!((d.low_test_id, d.high_test_id), (2, 5));
+    assert!(
+        (d.low_range_high_m3_min - 1.2 * a).abs() < 1e-12
+            && (d.high_range_low_m3_min - 0.8 * c).abs() < 1e-12
+    );
+    assert!((l.adopted_leak_flow_m3_min_low.unwrap() - 0.8 * a).abs() < 1e-9, "{l:?}");
+    assert!((l.adopted_leak_flow_m3_min_high.unwrap() - 1.2 * c).abs() < 1e-9, "{l:?}");
+    assert!(
+        r.warnings.iter().any(
+            |w| w.starts_with("the accepted field tests disagree beyond their stated ranges: test no. 2")
+        ),
+        "{:?}",
+        r.warnings
+    );
+    // Tests whose ranges meet (3.0 ± 20 % and 3.5 ± 20 %: 3.6 above 2.8) agree: nothing said, the
+    // adopted range the widest test's band around the median, 3.25 ± 20 %.
+    let r = run(&s, &cs, &frame, vec![est(2, 3.0), est(3, 3.5)]);
+    assert!(r.leaks.disagreement.is_none());
+    assert!((r.leaks.adopted_leak_flow_m3_min_high.unwrap() - 1.2 * 3.25).abs() < 1e-9);
+    assert!(!r.warnings.iter().any(|w| w.contains("disagree")));
+}

@@ -15,7 +15,20 @@ fn adopted_leak(sm: &Summary, fmt: &Fmt) -> String {
         (Some(lo), Some(hi)) => format!(" (likely {})", span(&fmt.flow_m3_min(lo), &fmt.flow_m3_min(hi))),
         _ => String::new(),
     };
-    format!("Leak flow adopted: {}{likely}, the {}", fmt.flow_m3_min(q), l.adopted_rule)
+    let disagree = l.disagreement.as_ref().map_or(String::new(), |d| {
+        format!(
+            "; the tests disagree beyond their stated ranges (test no. {} gives {}, at most {}; test no. {} \
+             gives {}, at least {}), so the median stands with its range spanning theirs: repeat the tests \
+             that stand apart, or remove the one found wrong",
+            d.low_test_id,
+            fmt.flow_m3_min(d.low_leak_flow_m3_min),
+            fmt.flow_m3_min(d.low_range_high_m3_min),
+            d.high_test_id,
+            fmt.flow_m3_min(d.high_leak_flow_m3_min),
+            fmt.flow_m3_min(d.high_range_low_m3_min)
+        )
+    });
+    format!("Leak flow adopted: {}{likely}, the {}{disagree}", fmt.flow_m3_min(q), l.adopted_rule)
 }
 
 /// How the leak figure was adopted, and the non-production flow's corrections in the reader's units.
