@@ -46,6 +46,8 @@ mod reader_units;
 mod real_files;
 #[path = "integration/refusals16.rs"]
 mod refusals16;
+#[path = "integration/thin_advice.rs"]
+mod thin_advice;
 #[path = "integration/thin_counter.rs"]
 mod thin_counter;
 #[path = "integration/thin_files.rs"]

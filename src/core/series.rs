@@ -335,6 +335,9 @@ pub struct FrameColumn {
     pub values: Vec<f32>,
     /// Bins covered for part of their length (module doc). Empty when every bin is whole or empty.
     pub partial: Vec<Partial>,
+    /// A compressor's power known only from its energy counter: the mean over each reading
+    /// interval, from which the machine's states (loaded, unloaded, off) cannot be read.
+    pub from_counter: bool,
 }
 
 /// A bin covered for part of its length: a gap's edge, the log's ends.
@@ -650,6 +653,7 @@ mod tests {
     fn frame_sums_system_meters_and_finds_the_header() {
         let g = Grid { start_ms: 0, step_ms: 1_000, len: 2 };
         let col = |signal, compressor, v: Vec<f32>| FrameColumn {
+            from_counter: false,
             point: Default::default(),
             signal,
             compressor,

@@ -324,6 +324,7 @@ pub async fn load_frame(
             _ => Signal::Temperature,
         };
         let column = FrameColumn {
+            from_counter: c.quantity == "energy",
             point: c.point.as_deref().and_then(PressurePoint::parse).unwrap_or_default(),
             signal,
             compressor: c.compressor_id.and_then(|id| compressor_ids.iter().position(|&x| x == id)),

@@ -148,7 +148,6 @@ fn the_window_chart_draws_a_machine_whose_power_comes_only_from_its_energy_count
     assert_eq!(note, "Not logged in this audit: flow; the chart shows pressure and power.");
 }
 
-
 /// 2 h from 2026-03-11T09:33:20Z (04:33:20 CDT in Chicago, UTC-5 after the change of 8 March: IANA
 /// tz database), every 10 s: C1, C2 and C3's power and two header pressures.
 fn three_machines_two_pressures_csv() -> String {

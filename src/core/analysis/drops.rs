@@ -129,6 +129,7 @@ mod tests {
 
     fn col(point: PressurePoint, label: &str, bar_g: Vec<f64>) -> FrameColumn {
         FrameColumn {
+            from_counter: false,
             signal: Signal::Pressure,
             compressor: None,
             point,

@@ -142,6 +142,11 @@ pub struct CompressorFigures {
     pub tag: String,
     pub control: Control,
     pub power_logged: bool,
+    /// Its power known only from an energy counter: the mean over each reading interval, from which
+    /// its states (loaded, unloaded, off, cycles, running hours) cannot be read; they are withheld
+    /// (`sufficiency.withheld`: `compressors[].states`) and the pages print "not enough data".
+    #[serde(default)]
+    pub power_from_counter: bool,
     pub power_source: PowerSource,
     pub energy_kwh: f64,
     pub energy_kwh_low: f64,

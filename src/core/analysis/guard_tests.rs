@@ -17,6 +17,7 @@ const HOUR_BINS: usize = 360; // 10 s bins
 
 fn col(signal: Signal, compressor: Option<usize>, values: Vec<f32>) -> FrameColumn {
     FrameColumn {
+        from_counter: false,
         point: Default::default(),
         signal,
         compressor,

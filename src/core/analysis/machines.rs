@@ -470,6 +470,7 @@ pub(super) fn compressor_figures(
             tag: c.tag.clone(),
             control: c.control,
             power_logged: d.power_logged[i],
+            power_from_counter: d.power_from_counter.get(i).copied().unwrap_or(false),
             power_source: if acc.current_derived_power.contains(&c.tag) {
                 PowerSource::CurrentDerived
             } else {

@@ -184,6 +184,8 @@ pub struct DataFigures {
     /// Per compressor: the band and blow-down its log showed (`partload::fit`; load/unload only).
     fits: Vec<Option<crate::core::partload::fit::Calibration>>,
     power_logged: Vec<bool>,
+    /// Per compressor: its power known only from an energy counter (`FrameColumn::from_counter`).
+    power_from_counter: Vec<bool>,
     energy: MachineEnergy,
     /// Power, W, per compressor (`None`: not logged).
     power_cells: Vec<Option<CellSums>>,
@@ -276,6 +278,9 @@ pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
         weekly_mean_kw: weekly_mean_w.iter().map(|w| w / 1000.0).collect(),
         tz_ok: cal.tz_ok,
         power_logged: logged.powers.iter().map(Option::is_some).collect(),
+        power_from_counter: (0..spec.compressors.len())
+            .map(|i| frame.power_of(i).is_some_and(|c| c.from_counter))
+            .collect(),
         stats: logged.stats,
         levels: logged.levels,
         loaded_pressure_bar_g,

@@ -69,6 +69,13 @@ figures add the machines up, so only those hours show the plant as one system.
   is compared with means the test and the flow log describe different conditions, and is no share;
 - with any share withheld, the leak band read from it ("leaks above 20 % of demand ...").
 
+- a compressor's states when its power is only an energy counter, and what rests on them
+  ([`counter_only`]: the system specific power read from states, the marginal specific power of
+  such a trim, every measure);
+- the plant's mean power when the machines' power was logged together under [`MIN_POWER_HOURS`]:
+  the sum of each machine's mean over its own log is no time of the plant (the JSON keeps the sum;
+  the pages print "not enough data").
+
 The pages also print "not enough data" for the marginal specific power when the verdict is
 insufficient (it is read at the logged load, which such data do not carry); the summary's JSON
 keeps it.
@@ -458,8 +465,92 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         s.measures_total = None;
         withhold(&mut w, "recommendations", &why);
     }
+    counter_only(s, &mut w);
+    // A plant's mean power is over the time its power is known, every machine's together: the sum
+    // of the machines' means over logs that never overlap (a walk found 33.5 kW from two files
+    // years apart) describes no time of the plant.
+    let with_power = s.compressors.iter().filter(|c| c.power_logged).count();
+    if with_power > 1 && s.sufficiency.power_hours < MIN_POWER_HOURS {
+        withhold(
+            &mut w,
+            "system.mean_power_kw",
+            &format!(
+                "the compressors' power was logged together for {:.1} h (less than {MIN_POWER_HOURS:.0} h): a \
+                 plant's mean power is over the time every machine's power is known, and the sum of each \
+                 machine's mean over its own log describes no time of the plant",
+                s.sufficiency.power_hours
+            ),
+        );
+    }
     leak_shares_over_whole(s, &mut w);
     s.sufficiency.withheld = w;
+}
+
+/// The figures that need a machine's states, withheld when its power is known only from an energy
+/// counter (`CompressorFigures::power_from_counter`). A counter gives the energy, and so the mean
+/// power over each reading interval, but not when the machine loaded, unloaded or stopped: its
+/// loaded, unloaded and off shares, cycles and running hours cannot be read from it (nor the air
+/// read from its states), whatever the verdict. What rests on those:
+/// - the system specific power and the cost of air when the air is read from the machines' states
+///   (no flow meter): the air of that machine is unknown;
+/// - the marginal specific power (the pages print "not enough data"; the JSON keeps it) and the
+///   annual cost of leaks priced at it, when that machine is the trim: it is read at the trim's
+///   load, which is its running power over its running time;
+/// - every measure: they are priced on the machines' states (idling, control, loaded power) or at
+///   the marginal rate, and heat recovery's unit is sized on the full-load heat of the machines that
+///   run; a payback on them would be advice the data do not carry. The energy and the heat rejected
+///   stand: a counter gives them.
+fn counter_only(s: &mut Summary, w: &mut Vec<Withheld>) {
+    let tags: Vec<String> =
+        s.compressors.iter().filter(|c| c.power_from_counter).map(|c| c.tag.clone()).collect();
+    if tags.is_empty() {
+        return;
+    }
+    let names = tags.join(", ");
+    let whose = format!("{names}'s");
+    let verb = if tags.len() == 1 { "was" } else { "were" };
+    let states = format!(
+        "{whose} power {verb} logged only as an energy counter, which gives the mean power over each reading \
+         interval, not when the machine loaded, unloaded or stopped: its states cannot be read from it"
+    );
+    withhold(w, "compressors[].states", &states);
+    if s.system.flow_source == super::figures::FlowSource::EstimatedFromCompressorStates {
+        let why = format!(
+            "no flow meter was logged and the air would be read from the machines' states, which cannot be \
+             read from an energy counter ({whose} power)"
+        );
+        clear_specific_power(s, w, &why);
+    }
+    let trim = s.part_load_model.as_ref().map(|m| m.machine.clone());
+    if let Some(t) = trim.filter(|t| tags.contains(t)) {
+        let why = format!(
+            "it is read at the trim machine's load, its running power over its running time, and {t}'s \
+             running time cannot be read from an energy counter"
+        );
+        withhold(w, "leaks.marginal_kw_per_m3_min", &why);
+        let l = &mut s.leaks;
+        if l.annual_leak_cost.is_some() {
+            l.annual_leak_energy_kwh = None;
+            l.annual_leak_cost = None;
+            l.annual_leak_cost_low = None;
+            l.annual_leak_cost_high = None;
+            withhold(w, "leaks.annual_leak_cost", &format!("priced at the marginal specific power: {why}"));
+        }
+    }
+    if !s.recommendations.is_empty() || s.measures_total.is_some() {
+        s.recommendations.clear();
+        s.measures_total = None;
+        withhold(
+            w,
+            "recommendations",
+            &format!(
+                "the measures are priced on the machines' states (idling, control, loaded power) or at the trim \
+                 machine's marginal specific power, and a heat-recovery unit is sized on the full-load heat of \
+                 the machines that run: {states}. Log {names}'s power (kW, or current) at a minute or finer to \
+                 price them"
+            ),
+        );
+    }
 }
 
 /// The system specific power, its range and penalty, and the cost of air, withheld for `why`.

@@ -38,6 +38,7 @@ pub(super) const MONDAY_MS: i64 = 1_772_409_600_000;
 
 pub(super) fn col(signal: Signal, compressor: Option<usize>, values: Vec<f32>) -> FrameColumn {
     FrameColumn {
+        from_counter: false,
         point: Default::default(),
         signal,
         compressor,

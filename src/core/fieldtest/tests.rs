@@ -149,6 +149,7 @@ pub(crate) fn decay_frame(s: &SiteAir, tau_s: f64, flow_m3_min: f64, c1_kw: f32)
     let pressure: Vec<f32> =
         (0..360).map(|i| (p0 * (-(i as f64 * 10.0 + 5.0) / tau_s).exp()) as f32).collect();
     let col = |signal, compressor, values| FrameColumn {
+        from_counter: false,
         point: Default::default(),
         signal,
         compressor,

@@ -44,6 +44,7 @@ mod tests {
     fn logged_hours_count_bins_any_column_holds_once() {
         let nan = f32::NAN;
         let col = |signal, values: Vec<f32>, partial| FrameColumn {
+            from_counter: false,
             signal,
             compressor: None,
             point: PressurePoint::Header,

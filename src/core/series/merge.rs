@@ -15,7 +15,8 @@ use super::{FrameColumn, Partial};
 
 /// `power` and `counter` (one compressor's logged power and energy counter on one grid) as one
 /// column: each bin from the one that covers more of it, ties to `power` (module doc). The
-/// result keeps `power`'s signal, compressor, point and label.
+/// result keeps `power`'s signal, compressor, point and label, and is not `from_counter`: the
+/// logged power shows the machine's states.
 pub fn merge_power(power: FrameColumn, counter: &FrameColumn) -> FrameColumn {
     let len = power.values.len();
     let mut values = Vec::with_capacity(len);
@@ -38,6 +39,7 @@ mod tests {
 
     fn col(label: &str, values: Vec<f32>, partial: Vec<Partial>) -> FrameColumn {
         FrameColumn {
+            from_counter: false,
             signal: Signal::Power,
             compressor: Some(0),
             point: PressurePoint::Header,

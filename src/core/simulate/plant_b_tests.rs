@@ -167,6 +167,7 @@ fn plant_b_frame_at(site: &SiteAir, bin_s: f64) -> Frame {
         cols[3].push((qd / bin_s) as f32);
     }
     let col = |signal, compressor, label: &str, values| FrameColumn {
+        from_counter: false,
         point: Default::default(),
         signal,
         compressor,

@@ -19,6 +19,7 @@ fn flow_frame(hours: f64, flow_m3_min: impl Fn(usize) -> f64) -> Frame {
     Frame {
         grid,
         columns: vec![FrameColumn {
+            from_counter: false,
             point: Default::default(),
             signal: Signal::Flow,
             compressor: None,
@@ -393,6 +394,7 @@ fn demo_frame(plant: &crate::demo::DemoPlant) -> (Frame, SiteAir) {
         .into_iter()
         .enumerate()
         .map(|(i, a)| FrameColumn {
+            from_counter: false,
             point: Default::default(),
             signal: Signal::Power,
             compressor: Some(i),
@@ -417,6 +419,7 @@ fn demo_frame(plant: &crate::demo::DemoPlant) -> (Frame, SiteAir) {
         );
     }
     columns.push(FrameColumn {
+        from_counter: false,
         point: Default::default(),
         signal: Signal::Pressure,
         compressor: None,
@@ -425,6 +428,7 @@ fn demo_frame(plant: &crate::demo::DemoPlant) -> (Frame, SiteAir) {
         partial: vec![],
     });
     columns.push(FrameColumn {
+        from_counter: false,
         point: Default::default(),
         signal: Signal::Flow,
         compressor: None,
@@ -518,6 +522,7 @@ fn timing_a_week_at_10_s_and_a_year_at_1_s() {
     let year = Frame {
         grid,
         columns: vec![FrameColumn {
+            from_counter: false,
             point: Default::default(),
             signal: Signal::Flow,
             compressor: None,
@@ -539,6 +544,7 @@ fn thin_replay(credible: bool, sc: &Scenario) -> SimResult {
     let grid = Grid { start_ms: 1_150_000_000_000, step_ms: 900_000, len };
     let logged = |v: f32| (0..len).map(|i| if i == 50_000 || i == 50_001 { v } else { f32::NAN }).collect();
     let column = |signal, values| FrameColumn {
+        from_counter: false,
         point: Default::default(),
         signal,
         compressor: None,
@@ -625,6 +631,7 @@ fn quarter_hour_counter_frame(kw: f32) -> Frame {
             label: "C1 energy".into(),
             values: vec![kw * 1000.0; len],
             partial: vec![],
+            from_counter: true,
         }],
     }
 }

@@ -46,6 +46,12 @@ struct ChannelTracker {
     /// An energy counter's highest power (W) over a span of at least [`COUNTER_POWER_SPAN_MS`],
     /// with the line and time that close the span.
     counter_power: Option<(f64, u64, i64)>,
+    /// A power column's open span: its first reading's time and line, the sum and count of its
+    /// readings.
+    power_span: Option<(i64, u64, f64, u32)>,
+    /// A power column's highest mean (W) over a span of at least [`COUNTER_POWER_SPAN_MS`], with
+    /// the line and time of the reading that opens the span.
+    power_sustained: Option<(f64, u64, i64)>,
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -135,6 +141,7 @@ impl QualityTracker {
                         counter_drops: Findings::default(),
                         highest: None,
                         counter_power: None,
+                        sustained_power: None,
                         implausible: Vec::new(),
                     },
                     conv: *conv,
@@ -146,6 +153,8 @@ impl QualityTracker {
                     highest: None,
                     counter_anchor: None,
                     counter_power: None,
+                    power_span: None,
+                    power_sustained: None,
                 }
             })
             .collect();
@@ -270,6 +279,25 @@ impl QualityTracker {
                 below,
             });
         }
+        // A power column's mean over each span of a minute or more (the readings from the one that
+        // opens it to the one a minute later, which opens the next), as a counter's power is taken:
+        // a start's inrush over a second or two is no draw above the data sheet.
+        if c.q.quantity == Quantity::Power {
+            match &mut c.power_span {
+                Some((t0, line0, sum, n)) if t_ms - *t0 >= COUNTER_POWER_SPAN_MS => {
+                    let w = *sum / f64::from(*n);
+                    if c.power_sustained.is_none_or(|(p, _, _)| w > p) {
+                        c.power_sustained = Some((w, *line0, *t0));
+                    }
+                    c.power_span = Some((t_ms, line, si, 1));
+                }
+                Some((_, _, sum, n)) => {
+                    *sum += si;
+                    *n += 1;
+                }
+                None => c.power_span = Some((t_ms, line, si, 1)),
+            }
+        }
         // Counters.
         if c.q.quantity == Quantity::Energy {
             if let Some(prev) = c.prev_counter {
@@ -347,6 +375,23 @@ impl QualityTracker {
                     value: c.conv.to_logged(si),
                     unit: c.display_unit.clone(),
                     si,
+                });
+                // The open span at the end counts when its readings stand for a minute or more (a
+                // log at a minute or longer: each reading is a span of its own).
+                if let (Some((t0, line0, sum, n)), Some(step)) = (c.power_span, c.intervals.median_ms()) {
+                    let w = sum / f64::from(n);
+                    let whole = i64::from(n) * step >= COUNTER_POWER_SPAN_MS;
+                    if whole && c.power_sustained.is_none_or(|(p, _, _)| w > p) {
+                        c.power_sustained = Some((w, line0, t0));
+                    }
+                }
+                let (conv, unit) = (&c.conv, &c.display_unit);
+                c.q.sustained_power = c.power_sustained.map(|(w, line, t)| Highest {
+                    line,
+                    time: format_utc_ms(t),
+                    value: conv.to_logged(w),
+                    unit: unit.clone(),
+                    si: w,
                 });
                 c.q.counter_power = c.counter_power.map(|(w, line, t)| Highest {
                     line,

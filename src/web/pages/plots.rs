@@ -280,6 +280,10 @@ pub async fn findings_plots(
                     v.push(if variable(c) { running } else { 0.0 });
                 }
                 v.extend([c.unloaded_fraction * 100.0, c.off_fraction * 100.0]);
+                // No bar for states not read (no power, or only an energy counter): its note says why.
+                if !c.power_logged || c.power_from_counter {
+                    v.iter_mut().for_each(|x| *x = 0.0);
+                }
                 BarRow { label: c.tag.clone(), parts: v, note: super::view::load_words(c, fmt) }
             })
             .collect();

@@ -121,8 +121,9 @@ struct ScenariosPage {
     saving_unit: &'static str,
     /// The replayed period's length (the energy columns' time base), e.g. "168 h".
     period: String,
-    /// The plant's annual energy the replayed share is applied to.
-    annual_energy: String,
+    /// What the yearly columns are: the replayed share applied to the plant's annual energy, or why
+    /// they are not given (the annual energy withheld).
+    annual_basis: String,
     /// What was just done (`flash`).
     done: Option<String>,
 }
@@ -314,7 +315,23 @@ pub async fn scenarios(
             .filter_map(|r| r.simulated_hours)
             .fold(None, |m: Option<f64>, h| Some(m.map_or(h, |m| m.max(h))))
             .map_or("–".into(), |h| fmt.hours(h)),
-        annual_energy: fmt.energy_kwh(annual_kwh),
+        annual_basis: if annual_kwh.is_finite() {
+            format!(
+                "The cost saving and payback are a year's: the share a replay saves of the baseline replay, \
+                 applied to the plant's {} a year, as the report's saving alone.",
+                fmt.energy_kwh(annual_kwh)
+            )
+        } else {
+            format!(
+                "The cost saving and payback would be a year's, the share a replay saves applied to the plant's \
+                 annual energy; {}, so they are not given.",
+                sm.and_then(|s| s.sufficiency.withheld.iter().find(|w| w.figure == "baseline"))
+                    .map_or("the plant's annual energy is not known yet".to_string(), |w| format!(
+                        "the logged data cannot support the annual energy ({})",
+                        w.reason.trim_start_matches("not enough data: ")
+                    ))
+            )
+        },
         done: super::flash::Done::message(&d),
         compressors: b.compressors.iter().map(|c| c.spec.tag.clone()).collect(),
         rows,

@@ -22,7 +22,9 @@ use crate::core::recommend::CostSource;
 use crate::core::units::{M3_PER_FT3, PA_PER_PSI};
 use charts::chart_data;
 use rows::{leak_note, leak_rows, leak_share_missing, leak_share_note, pressure_note, pressure_rows};
-use tables::{compressor_rows, demand_rows, end_use_rows, heat_rows, transmission_rows};
+use tables::{
+    compressor_rows, demand_rows, end_use_rows, heat_rows, isothermal_missing, no_measures, transmission_rows,
+};
 pub use tables::{follows_demand, load_words};
 
 /// A figure the summary may not have, as the formatter takes it (NaN shows as not available).
@@ -143,6 +145,8 @@ pub struct ReportView {
     pub chart_data: Value,
     /// What the flow duration curve's top is, beside the peak flow (a 1-minute mean).
     pub duration_note: String,
+    /// Why no measure is listed, when none is.
+    pub no_measures: String,
 }
 
 /// What a summary field is called on paper.
@@ -194,6 +198,11 @@ fn withheld(sm: &Summary, prefix: &str) -> String {
         Some(w) => w.reason.clone(),
         None => "the data cannot support this figure".into(),
     }
+}
+
+/// Whether a figure under `prefix` was withheld (`withheld` gives its reason).
+fn has_withheld(sm: &Summary, prefix: &str) -> bool {
+    sm.sufficiency.withheld.iter().any(|w| w.figure.starts_with(prefix))
 }
 
 /// The verdict's words.
@@ -256,6 +265,7 @@ fn empty_view() -> ReportView {
         baseline_rule: String::new(),
         chart_data: Value::Null,
         duration_note: String::new(),
+        no_measures: String::new(),
     }
 }
 
@@ -351,6 +361,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>, facts: &Rea
         baseline_rule: sm.baseline.rule.clone(),
         chart_data: chart_data(b, fmt, sm, &facts.logged_hours),
         duration_note: duration_note(sm.period.step_s),
+        no_measures: no_measures(sm),
     }
 }
 
@@ -485,6 +496,7 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
             label: "System specific power".into(),
             value: or_nd(sys.specific_power_kw_per_m3_min, |v| fmt.specific_power(v)),
             note: match (&sys.specific_power_note, sys.specific_power_kw_per_m3_min) {
+                (Some(why), None) if !has_withheld(sm, "system.specific_power") => why.clone(),
                 (_, None) => withheld(sm, "system.specific_power"),
                 (Some(why), Some(_)) => why.clone(),
                 (None, Some(_)) => format!(
@@ -542,7 +554,10 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
             label: "Marginal specific power (trim machine)".into(),
             // Read at the logged load on the trim's part-load curve: with the verdict insufficient
             // that load is not the plant's, and the rate prices nothing on the page.
-            value: if sm.part_load_model.is_some() && sm.sufficiency.verdict != Verdict::Insufficient {
+            value: if sm.part_load_model.is_some()
+                && sm.sufficiency.verdict != Verdict::Insufficient
+                && !has_withheld(sm, "leaks.marginal_kw_per_m3_min")
+            {
                 fmt.specific_power(leaks.marginal_kw_per_m3_min)
             } else {
                 NOT_ENOUGH_DATA.into()
@@ -550,6 +565,9 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
             note: match &sm.part_load_model {
                 Some(_) if sm.sufficiency.verdict == Verdict::Insufficient => {
                     "the logged data are not enough for annual figures (reasons above)".into()
+                }
+                Some(_) if has_withheld(sm, "leaks.marginal_kw_per_m3_min") => {
+                    withheld(sm, "leaks.marginal_kw_per_m3_min")
                 }
                 Some(m) => part_load_note(m, fmt),
                 None => String::new(),
@@ -578,8 +596,10 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
                         &fmt.percent(nan(sys.isothermal_efficiency_high))
                     )
                 )
-            } else {
+            } else if has_withheld(sm, "system.isothermal_efficiency") {
                 withheld(sm, "system.isothermal_efficiency")
+            } else {
+                isothermal_missing(sm)
             },
             estimated,
         },

@@ -84,7 +84,7 @@ fn a_bleed_down_too_short_to_time_by_hand_is_refused_with_the_reason() {
 #[test]
 fn a_pressure_refusal_names_which_pressure() {
     // The walk typed 1500 psig for both: each refusal says which one (the limit, 50 bar(g) =
-    // 725.2 psig, NIST SP 811).
+    // 725.19 psig, NIST SP 811, quoted rounded inward to 725.1 so that it is itself accepted).
     let s = SiteAir::new(101.325, 20.0);
     let storage = StorageSpec::default();
     let errs = refusals(&bleed_down(35.0, 1500.0, 1500.0, 300.0), &us_ctx(&s, &[], &storage, None));
@@ -92,8 +92,8 @@ fn a_pressure_refusal_names_which_pressure() {
     assert_eq!(
         said,
         [
-            ("start_pressure_bar_g", "the start pressure must be a number up to 725.2 psig, got 1500 psig"),
-            ("end_pressure_bar_g", "the end pressure must be a number up to 725.2 psig, got 1500 psig"),
+            ("start_pressure_bar_g", "the start pressure must be a number up to 725.1 psig, got 1500 psig"),
+            ("end_pressure_bar_g", "the end pressure must be a number up to 725.1 psig, got 1500 psig"),
         ]
     );
 }

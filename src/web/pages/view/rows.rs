@@ -1,9 +1,9 @@
 //! The pressure and leak tables of the report and the findings, and the notes that say what their
 //! figures hold: the readings kept (implausible ones too) and why a share of demand is not given.
 
-use super::{nan, range, withheld, LeakRow, NOT_ENOUGH_DATA};
+use super::{nan, range, window_words, withheld, LeakRow, NOT_ENOUGH_DATA};
 use crate::core::analysis::Summary;
-use crate::core::display::{num, span, Fmt};
+use crate::core::display::{span, Fmt};
 use crate::core::units::PressureAbs;
 
 /// The leak flow adopted, with its likely range, and the rule it was adopted by ("the median of
@@ -126,7 +126,7 @@ pub(super) fn pressure_rows(
     let nd = || format!("{NOT_ENOUGH_DATA} ({})", withheld(sm, "pressure.share_below_low_limit"));
     rows.extend([
         (
-            format!("Least / greatest {} s mean", num(sm.period.step_s, 0)),
+            format!("Least / greatest {} mean", window_words(sm.period.step_s)),
             format!("{} / {}", bar_g(p.min_bar_g), bar_g(p.max_bar_g)),
         ),
         (

@@ -10,8 +10,13 @@ use super::*;
 /// speed, modulation), whose time "loaded" (at full power) says little, its mean capacity share
 /// (`CompressorFigures::mean_capacity_share`).
 pub fn load_words(c: &crate::core::analysis::CompressorFigures, fmt: &Fmt) -> String {
-    if c.logged_hours <= 0.0 {
+    if !c.power_logged || c.logged_hours <= 0.0 {
         return "no power logged".into();
+    }
+    if c.power_from_counter {
+        return format!(
+            "{NOT_ENOUGH_DATA} (only an energy counter was logged: its states cannot be read from it)"
+        );
     }
     if follows_demand(c) {
         format!("mean capacity {}", fmt.percent(c.mean_capacity_share.unwrap_or(f64::NAN)))
@@ -30,58 +35,95 @@ pub fn follows_demand(c: &crate::core::analysis::CompressorFigures) -> bool {
 /// follows demand (its mean capacity is over them).
 pub(super) fn load_cell(c: &crate::core::analysis::CompressorFigures, fmt: &Fmt) -> String {
     let w = load_words(c, fmt);
-    if follows_demand(c) && c.logged_hours > 0.0 {
+    if follows_demand(c) && c.logged_hours > 0.0 && !c.power_from_counter {
         format!("{w} over {} h running", num(c.running_hours, 1))
     } else {
         w
     }
 }
 
+/// The compressor table: a machine without logged power has no figure of its own (a dash, never a
+/// zero); one whose power is only an energy counter has its energy and mean power, and "not enough
+/// data" for what its states would give (`sufficiency::counter_only`).
 pub(super) fn compressor_rows(sm: &Summary, fmt: &Fmt) -> Vec<CompressorRow> {
     sm.compressors
         .iter()
-        .map(|c| CompressorRow {
-            tag: c.tag.clone(),
-            control: human_label(c.control.as_str()),
-            energy: fmt.energy_kwh(c.energy_kwh),
-            mean_power: fmt.power_kw(c.mean_power_kw),
-            loaded: load_cell(c, fmt),
-            unloaded: fmt.percent(c.unloaded_fraction),
-            off: fmt.percent(c.off_fraction),
-            cycles: format!("{} /h", num(c.cycles_per_hour, 1)),
-            specific_power: fmt.specific_power(nan(c.specific_power_kw_per_m3_min)),
-            rated_specific_power: fmt.specific_power(c.rated_specific_power_kw_per_m3_min),
-            loaded_power: match (c.loaded_power_kw, c.loaded_pressure_bar_g) {
-                (Some(p), Some(bar)) => format!("{} at {}", fmt.power_kw(p), fmt.pressure_bar_g(bar)),
-                (Some(p), None) if sm.pressure.mean_bar_g.is_some() => {
-                    format!("{} (no pressure logged while it ran loaded)", fmt.power_kw(p))
+        .map(|c| {
+            let logged = c.power_logged && c.logged_hours > 0.0;
+            let states = logged && !c.power_from_counter;
+            let share = |x: f64| {
+                if states {
+                    fmt.percent(x)
+                } else if logged {
+                    NOT_ENOUGH_DATA.into()
+                } else {
+                    "–".into()
                 }
-                (Some(p), None) => format!("{} (no pressure logged)", fmt.power_kw(p)),
-                _ => fmt.power_kw(f64::NAN),
-            },
-            datasheet_power: fmt.power_kw(nan(c.datasheet_power_at_pressure_kw)),
-            vs_datasheet: match c.loaded_power_vs_datasheet_percent {
-                Some(v) => format!("{:+.1} %", v),
-                None => num(f64::NAN, 1),
-            },
-            levels: match &c.levels_kw {
-                Some(l) => {
-                    let mark =
-                        |s: LevelSource| if s == LevelSource::DataSheet { " (data sheet)" } else { "" };
-                    format!(
-                        "{} / {}{} / {}{}",
-                        fmt.power_kw(nan(l.off)),
-                        fmt.power_kw(l.unloaded),
-                        mark(l.unloaded_source),
-                        fmt.power_kw(l.loaded),
-                        mark(l.loaded_source)
-                    )
+            };
+            let mut row = compressor_row(sm, c, fmt);
+            if !logged {
+                row.energy = "–".into();
+                row.mean_power = "–".into();
+            }
+            row.unloaded = share(c.unloaded_fraction);
+            row.off = share(c.off_fraction);
+            row.cycles = if states { format!("{} /h", num(c.cycles_per_hour, 1)) } else { share(0.0) };
+            if !states {
+                // Its air would be read from its states.
+                if c.estimated {
+                    row.specific_power = share(0.0);
+                    row.estimated = false;
                 }
-                None => fmt.power_kw(f64::NAN),
-            },
-            estimated: c.estimated,
+                row.loaded_power = fmt.power_kw(f64::NAN);
+                row.vs_datasheet = num(f64::NAN, 1);
+                row.levels = fmt.power_kw(f64::NAN);
+            }
+            row
         })
         .collect()
+}
+
+fn compressor_row(sm: &Summary, c: &crate::core::analysis::CompressorFigures, fmt: &Fmt) -> CompressorRow {
+    CompressorRow {
+        tag: c.tag.clone(),
+        control: human_label(c.control.as_str()),
+        energy: fmt.energy_kwh(c.energy_kwh),
+        mean_power: fmt.power_kw(c.mean_power_kw),
+        loaded: load_cell(c, fmt),
+        unloaded: fmt.percent(c.unloaded_fraction),
+        off: fmt.percent(c.off_fraction),
+        cycles: format!("{} /h", num(c.cycles_per_hour, 1)),
+        specific_power: fmt.specific_power(nan(c.specific_power_kw_per_m3_min)),
+        rated_specific_power: fmt.specific_power(c.rated_specific_power_kw_per_m3_min),
+        loaded_power: match (c.loaded_power_kw, c.loaded_pressure_bar_g) {
+            (Some(p), Some(bar)) => format!("{} at {}", fmt.power_kw(p), fmt.pressure_bar_g(bar)),
+            (Some(p), None) if sm.pressure.mean_bar_g.is_some() => {
+                format!("{} (no pressure logged while it ran loaded)", fmt.power_kw(p))
+            }
+            (Some(p), None) => format!("{} (no pressure logged)", fmt.power_kw(p)),
+            _ => fmt.power_kw(f64::NAN),
+        },
+        datasheet_power: fmt.power_kw(nan(c.datasheet_power_at_pressure_kw)),
+        vs_datasheet: match c.loaded_power_vs_datasheet_percent {
+            Some(v) => format!("{:+.1} %", v),
+            None => num(f64::NAN, 1),
+        },
+        levels: match &c.levels_kw {
+            Some(l) => {
+                let mark = |s: LevelSource| if s == LevelSource::DataSheet { " (data sheet)" } else { "" };
+                format!(
+                    "{} / {}{} / {}{}",
+                    fmt.power_kw(nan(l.off)),
+                    fmt.power_kw(l.unloaded),
+                    mark(l.unloaded_source),
+                    fmt.power_kw(l.loaded),
+                    mark(l.loaded_source)
+                )
+            }
+            None => fmt.power_kw(f64::NAN),
+        },
+        estimated: c.estimated,
+    }
 }
 
 pub(super) fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
@@ -111,8 +153,8 @@ pub(super) fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
                     duration_s(sm.period.step_s)
                 ),
                 Some(peak) => format!(
-                    "{} (one analysis time step: the log's step is a minute or longer, so the top of the \
-                     flow duration curve is this same figure)",
+                    "{} (one analysis time step: the analysis' steps are a minute or longer, so the top of \
+                     the flow duration curve is this same figure)",
                     fmt.flow_m3_min(peak)
                 ),
             },
@@ -137,24 +179,38 @@ pub(super) fn demand_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
                 format!("{} ({})", fmt.percent(d.production_share_of_time), d.production_rule)
             },
         ),
-        (
-            "Mean power / peak 15-minute demand".into(),
+        (format!("Mean power / peak {} demand", window_words(sys.peak_power_window_s)), {
+            // A mean over logs that never overlap describes no time of the plant.
+            let mean = if has_withheld(sm, "system.mean_power_kw") {
+                format!("{NOT_ENOUGH_DATA} ({})", withheld(sm, "system.mean_power_kw"))
+            } else {
+                fmt.power_kw(sys.mean_power_kw)
+            };
             match sys.peak_power_kw {
-                Some(p) => format!(
-                    "{} / {} (the highest mean over {} on the clock's quarter hours, as the demand charge bills it)",
-                    fmt.power_kw(sys.mean_power_kw),
-                    fmt.power_kw(p),
-                    duration_s(sys.peak_power_window_s)
-                ),
-                None => format!(
-                    "{} / peak: {} ({})",
-                    fmt.power_kw(sys.mean_power_kw),
-                    NOT_ENOUGH_DATA,
-                    withheld(sm, "system.peak_power_kw")
-                ),
-            },
-        ),
+                Some(p) => format!("{mean} / {} ({})", fmt.power_kw(p), peak_power_words(sm)),
+                None => {
+                    format!("{mean} / peak: {NOT_ENOUGH_DATA} ({})", withheld(sm, "system.peak_power_kw"))
+                }
+            }
+        }),
     ]
+}
+
+/// What the peak power is: the highest mean over the clock's quarter hours, as the demand charge
+/// bills it; when the analysis' steps do not fit 15 minutes, the window they allow, said as such.
+fn peak_power_words(sm: &Summary) -> String {
+    let w = sm.system.peak_power_window_s;
+    if (w - 900.0).abs() < 0.5 {
+        "the highest mean over 15 min on the clock's quarter hours, as the demand charge bills it".into()
+    } else {
+        format!(
+            "the highest mean over {} on the clock's {} marks: the analysis step of {} does not fit the \
+             demand charge's 15 minutes, so this is the nearest window it allows",
+            duration_s(w),
+            duration_s(w),
+            duration_s(sm.period.step_s)
+        )
+    }
 }
 
 pub(super) fn heat_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
@@ -341,4 +397,35 @@ pub(super) fn end_use_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
         rows.push(("Mean demand: not yet explained".into(), part(s.unexplained_m3_min)));
     }
     rows
+}
+
+/// Why no measure is listed: the data are not enough, a measure's basis was withheld (its reason),
+/// or nothing saves.
+pub(super) fn no_measures(sm: &Summary) -> String {
+    if sm.sufficiency.verdict == Verdict::Insufficient {
+        "No measure is proposed: the logged data are not enough (see the data sufficiency verdict).".into()
+    } else if has_withheld(sm, "recommendations") {
+        format!("No measure is proposed: {}.", withheld(sm, "recommendations"))
+    } else {
+        "No measure with a positive saving was found in this data.".into()
+    }
+}
+
+/// Why the isothermal efficiency is not given when no rule withheld it: it needs the header
+/// pressure, a flow meter and the compressors' power logged together, and says which is missing.
+pub(super) fn isothermal_missing(sm: &Summary) -> String {
+    let mut missing = vec![];
+    if sm.pressure.mean_bar_g.is_none() {
+        missing.push("no header pressure was logged");
+    }
+    if sm.system.estimated {
+        missing.push("no flow meter was logged");
+    }
+    if missing.is_empty() {
+        missing.push("the header pressure, the flow and the power were never logged together");
+    }
+    format!(
+        "it needs the header pressure, a flow meter and the compressors' power logged together: {}",
+        missing.join(" and ")
+    )
 }
