@@ -32,8 +32,10 @@ Memory: a column is a `Vec<f32>` (4 bytes a bin); an aligner keeps two `f64` per
 Grids of about 1.5 M bins (a month at 2 s) are the design size.
 */
 
+mod align;
 mod cover;
 mod merge;
+pub use align::{Aligner, CounterAligner};
 pub use merge::merge_power;
 
 /// Bin steps [`Grid::choose`] picks from, ms: steps that divide minutes, hours and days, so bins line
@@ -107,167 +109,6 @@ impl Grid {
     /// Hours the grid spans.
     pub fn hours(&self) -> f64 {
         self.len as f64 * self.step_ms as f64 / 3.6e6
-    }
-}
-
-/// The part both aligners share: integral and covered time per bin.
-#[derive(Debug, Clone)]
-struct BinAccumulator {
-    grid: Grid,
-    /// Integral of the signal over the covered part of each bin (value × ms).
-    integral: Vec<f64>,
-    /// Covered time of each bin, ms. Sums of whole milliseconds are exact in `f32` up to 2^24 ms
-    /// (4.6 h) a bin and within 1e-7 beyond; half the memory of `f64` for a coverage share.
-    covered_ms: Vec<f32>,
-}
-
-impl BinAccumulator {
-    fn new(grid: Grid) -> Self {
-        Self { grid, integral: vec![0.0; grid.len], covered_ms: vec![0.0f32; grid.len] }
-    }
-
-    /// Add the straight line from `(t0, v0)` to `(t1, v1)`, cut at bin edges and at the grid's ends.
-    fn add_line(&mut self, t0: i64, v0: f64, t1: i64, v1: f64) {
-        let (g0, g1) = (self.grid.start_ms, self.grid.end_ms());
-        let (a, b) = (t0.max(g0), t1.min(g1));
-        if b <= a {
-            return;
-        }
-        let slope = (v1 - v0) / (t1 - t0) as f64;
-        let value_at = |t: i64| v0 + slope * (t - t0) as f64;
-        let step = self.grid.step_ms;
-        let mut i = ((a - g0) / step) as usize;
-        let mut lo = a;
-        while lo < b && i < self.grid.len {
-            let hi = b.min(self.grid.bin_start_ms(i + 1));
-            let dt = (hi - lo) as f64;
-            self.integral[i] += 0.5 * (value_at(lo) + value_at(hi)) * dt;
-            self.covered_ms[i] += dt as f32;
-            lo = hi;
-            i += 1;
-        }
-    }
-
-    /// The means, written over the coverage (no third buffer of the grid's length at the peak), and
-    /// the bins covered but not whole with their share and mean.
-    fn finish(self) -> (Vec<f32>, Vec<Partial>) {
-        let step = self.grid.step_ms as f64;
-        let half = 0.5 * step;
-        let Self { integral, covered_ms: mut out, .. } = self;
-        let mut partial = Vec::new();
-        for (i, (m, &s)) in out.iter_mut().zip(&integral).enumerate() {
-            let c = *m as f64;
-            let mean = if c > 0.0 { (s / c) as f32 } else { f32::NAN };
-            if c > 0.0 && c < step {
-                partial.push(Partial { bin: i as u32, share: (c / step) as f32, mean });
-            }
-            *m = if c >= half { mean } else { f32::NAN };
-        }
-        (out, partial)
-    }
-}
-
-/// Streams one channel's instantaneous readings onto a grid (rules in the module doc).
-#[derive(Debug, Clone)]
-pub struct Aligner {
-    acc: BinAccumulator,
-    max_gap_ms: i64,
-    prev: Option<(i64, f64)>,
-}
-
-impl Aligner {
-    pub fn new(grid: Grid, max_gap_ms: i64) -> Self {
-        Self { acc: BinAccumulator::new(grid), max_gap_ms, prev: None }
-    }
-
-    /// The longest step drawn as a line from here on (the next readings' own logging interval × 3).
-    pub fn set_max_gap(&mut self, max_gap_ms: i64) {
-        self.max_gap_ms = max_gap_ms;
-    }
-
-    /// One reading, in time order. A reading earlier than the one before is ignored (the storage
-    /// layer sorts; this keeps a stray one from producing a negative interval); one at the same time
-    /// replaces it.
-    pub fn push(&mut self, t_ms: i64, v: f64) {
-        if !v.is_finite() {
-            self.prev = None;
-            return;
-        }
-        match self.prev {
-            Some((t0, _)) if t_ms < t0 => return,
-            Some((t0, v0)) if t_ms > t0 && t_ms - t0 <= self.max_gap_ms => self.acc.add_line(t0, v0, t_ms, v),
-            _ => {}
-        }
-        self.prev = Some((t_ms, v));
-    }
-
-    /// Time-weighted bin means; `NaN` where a bin is covered < 50 %.
-    pub fn finish(self) -> Vec<f32> {
-        self.acc.finish().0
-    }
-
-    /// [`Aligner::finish`] with the present bins not wholly covered and their share.
-    pub fn finish_with_partial(self) -> (Vec<f32>, Vec<Partial>) {
-        self.acc.finish()
-    }
-}
-
-/// Streams an energy counter (J, rising) onto a grid as mean power per bin (W).
-#[derive(Debug, Clone)]
-pub struct CounterAligner {
-    acc: BinAccumulator,
-    max_gap_ms: i64,
-    prev: Option<(i64, f64)>,
-    breaks: usize,
-}
-
-impl CounterAligner {
-    pub fn new(grid: Grid, max_gap_ms: i64) -> Self {
-        Self { acc: BinAccumulator::new(grid), max_gap_ms, prev: None, breaks: 0 }
-    }
-
-    /// The longest step between counter readings that is spread as power (× 3 the interval).
-    pub fn set_max_gap(&mut self, max_gap_ms: i64) {
-        self.max_gap_ms = max_gap_ms;
-    }
-
-    /// One counter reading in J, in time order.
-    pub fn push(&mut self, t_ms: i64, counter_j: f64) {
-        if !counter_j.is_finite() {
-            self.prev = None;
-            return;
-        }
-        match self.prev {
-            Some((t0, _)) if t_ms <= t0 => {
-                if t_ms == t0 {
-                    self.prev = Some((t_ms, counter_j));
-                }
-                return;
-            }
-            // A reset or roll-over: start again from this reading, produce nothing for the interval.
-            Some((_, c0)) if counter_j < c0 => self.breaks += 1,
-            Some((t0, c0)) if t_ms - t0 <= self.max_gap_ms => {
-                let w = (counter_j - c0) / ((t_ms - t0) as f64 / 1000.0);
-                self.acc.add_line(t0, w, t_ms, w);
-            }
-            _ => {}
-        }
-        self.prev = Some((t_ms, counter_j));
-    }
-
-    /// How many times the counter went down (resets, roll-overs) so far.
-    pub fn breaks(&self) -> usize {
-        self.breaks
-    }
-
-    /// Mean power per bin, W; `NaN` where a bin is covered < 50 %.
-    pub fn finish(self) -> Vec<f32> {
-        self.acc.finish().0
-    }
-
-    /// [`CounterAligner::finish`] with the present bins not wholly covered and their share.
-    pub fn finish_with_partial(self) -> (Vec<f32>, Vec<Partial>) {
-        self.acc.finish()
     }
 }
 

@@ -243,16 +243,18 @@ pub async fn load_frame(
     // no more channels at a time than the budget holds).
     let cores = std::thread::available_parallelism().map_or(1, |n| n.get()).clamp(1, 4);
     let parallel = cores.min((ALIGN_BUDGET_BYTES / (12 * grid.len.max(1))).max(1));
-    let mut running: std::collections::VecDeque<tokio::task::JoinHandle<Result<Aligned, StoreError>>> =
-        Default::default();
-    let mut aligned: Vec<Aligned> = Vec::with_capacity(chans.len());
-    let joined = |r: Result<Result<Aligned, StoreError>, tokio::task::JoinError>| {
-        r.map_err(|e| StoreError::Damaged { path: "frame".into(), detail: e.to_string() })?
+    // The next channel starts as soon as any running one is done (not the oldest: channels cost
+    // unequal times, their codings differ, and waiting on the oldest left a core idle).
+    let mut running: tokio::task::JoinSet<Result<(usize, Aligned), StoreError>> = Default::default();
+    let mut aligned: Vec<Option<Aligned>> = chans.iter().map(|_| None).collect();
+    let mut join = |r: Result<Result<(usize, Aligned), StoreError>, tokio::task::JoinError>| {
+        let (i, a) = r.map_err(|e| StoreError::Damaged { path: "frame".into(), detail: e.to_string() })??;
+        aligned[i] = Some(a);
+        Ok::<(), StoreError>(())
     };
-    for c in chans {
+    for (index, c) in chans.iter().enumerate() {
         if running.len() >= parallel {
-            let oldest = running.pop_front().expect("running is not empty");
-            aligned.push(joined(oldest.await)?);
+            join(running.join_next().await.expect("running is not empty"))?;
         }
         // Each chunk with its upload's step to SI and its upload's gap threshold: 3 × that
         // upload's typical interval (a line is drawn across nothing longer). The blobs come in
@@ -261,12 +263,16 @@ pub async fn load_frame(
         let g = grid;
         let energy = c.quantity == "energy";
         let align = tokio::task::spawn_blocking(move || -> Result<Aligned, StoreError> {
+            let mut decoder = chunk::Decoder::default();
             if energy {
                 let mut a = CounterAligner::new(g, 0);
                 while let Some(page) = page_rx.blocking_recv() {
                     for ((k, o), gap, b) in &page {
                         a.set_max_gap(*gap);
-                        chunk::decode(b, |t, v| a.push(t, v * k + o))?;
+                        let (times, values) = decoder.decode(b)?;
+                        for (&t, &v) in times.iter().zip(values.iter()) {
+                            a.push(t, v * k + o);
+                        }
                     }
                 }
                 Ok(a.finish_with_partial())
@@ -275,11 +281,13 @@ pub async fn load_frame(
                 while let Some(page) = page_rx.blocking_recv() {
                     for ((k, o), gap, b) in &page {
                         a.set_max_gap(*gap);
-                        if (*k, *o) == (1.0, 0.0) {
-                            chunk::decode(b, |t, v| a.push(t, v))?;
-                        } else {
-                            chunk::decode(b, |t, v| a.push(t, v * k + o))?;
+                        let (times, values) = decoder.decode(b)?;
+                        if (*k, *o) != (1.0, 0.0) {
+                            for v in values.iter_mut() {
+                                *v = *v * k + o;
+                            }
                         }
+                        a.push_run(times, values);
                     }
                 }
                 Ok(a.finish_with_partial())
@@ -287,7 +295,7 @@ pub async fn load_frame(
         });
         let (pool, c, site) = (pool.clone(), c.clone(), *site);
         let windowed = window.is_some();
-        running.push_back(tokio::spawn(async move {
+        running.spawn(async move {
             // The first page's key: every chunk from the first that may reach `from` on.
             let first = if windowed { first_chunk_start(&pool, &c, from).await? } else { i64::MIN };
             let mut after = (first, i64::MIN);
@@ -306,12 +314,16 @@ pub async fn load_frame(
                 }
             }
             drop(page_tx);
-            align.await.map_err(|e| StoreError::Damaged { path: "frame".into(), detail: e.to_string() })?
-        }));
+            let a = align
+                .await
+                .map_err(|e| StoreError::Damaged { path: "frame".into(), detail: e.to_string() })?;
+            Ok((index, a?))
+        });
     }
-    for h in running {
-        aligned.push(joined(h.await)?);
+    while let Some(r) = running.join_next().await {
+        join(r)?;
     }
+    let aligned = aligned.into_iter().map(|a| a.expect("every channel aligned"));
     let mut columns: Vec<FrameColumn> = Vec::with_capacity(chans.len());
     // A compressor's energy counter joins its logged power as one column (`core::series::merge`):
     // kept aside until every column is built, so the order of the channels does not matter.
@@ -533,9 +545,13 @@ pub async fn counter_power_series(
             .map(|(_, u, b)| (channel.to_site(u, site), 3 * channel.upload_interval_ms(u), b))
             .collect();
         aligner = tokio::task::spawn_blocking(move || -> Result<CounterAligner, StoreError> {
+            let mut decoder = chunk::Decoder::default();
             for ((k, o), gap, b) in &page {
                 aligner.set_max_gap(*gap);
-                chunk::decode(b, |t, v| aligner.push(t, v * k + o))?;
+                let (times, values) = decoder.decode(b)?;
+                for (&t, &v) in times.iter().zip(values.iter()) {
+                    aligner.push(t, v * k + o);
+                }
             }
             Ok(aligner)
         })

@@ -48,6 +48,18 @@ pub fn unzigzag(v: u64) -> i64 {
 /// Read an unsigned varint at `*pos`, moving `*pos` past it.
 #[inline]
 pub fn get(buf: &[u8], pos: &mut usize) -> Result<u64, VarintError> {
+    // One byte, the most common length (small deltas of slowly changing readings), in place.
+    if let Some(&b) = buf.get(*pos) {
+        if b < 0x80 {
+            *pos += 1;
+            return Ok(u64::from(b));
+        }
+    }
+    get_long(buf, pos)
+}
+
+/// [`get`] for a varint of any length.
+fn get_long(buf: &[u8], pos: &mut usize) -> Result<u64, VarintError> {
     let mut v = 0u64;
     let mut shift = 0;
     loop {

@@ -40,13 +40,16 @@ pub(super) async fn cut_out(
             .await?;
         let precision = if precision == "energy" { Precision::F64 } else { Precision::F32 };
         let mut kept: Vec<(i64, f64)> = vec![];
+        let mut decoder = chunk::Decoder::default();
         for b in &blobs {
-            chunk::decode(b, |t, v| {
-                if t < first || t > last {
-                    kept.push((t, v));
-                }
-            })
-            .map_err(StoreError::from)?;
+            let (times, values) = decoder.decode(b).map_err(StoreError::from)?;
+            kept.extend(
+                times
+                    .iter()
+                    .zip(values.iter())
+                    .filter(|(&t, _)| t < first || t > last)
+                    .map(|(&t, &v)| (t, v)),
+            );
         }
         for table in ["chunk", "rollup_minute", "rollup_hour"] {
             sqlx::query(&format!("DELETE FROM {table} WHERE channel_id = ? AND upload_id = ?"))
