@@ -218,7 +218,7 @@ impl Entry {
     }
 
     /// A refusal of `stored` outside `lo..=hi` (`lo` itself refused when `lo_open`), in the
-    /// reader's units: "must be above 0 psig and at most 725.2 psig, got 800 psig". The caller
+    /// reader's units: "must be above 0 psig and at most 725.1 psig, got 800 psig". The caller
     /// names the field in words before it.
     pub fn out_of_range(self, units: UnitSystem, stored: f64, lo: f64, lo_open: bool, hi: f64) -> String {
         let got = if stored.is_finite() { self.said(units, stored) } else { "no number".into() };

@@ -170,7 +170,7 @@ fn the_field_test_and_what_if_forms_give_every_refusal_at_once() {
     let b = Browser::start();
     b.goto(&s.url(&format!("/audits/{id}/tests")));
     b.settle();
-    // 800 and 900 psig are above the 725.2 psig (50 bar(g)) limit, 0 s is under 1 s and 300 °F
+    // 800 and 900 psig are above the 725.1 psig (50 bar(g), quoted inward) limit, 0 s is under 1 s and 300 °F
     // above 248 °F (120 °C).
     let typed = json!({"start_pressure_bar_g": "800", "end_pressure_bar_g": "900", "duration_s": "0",
                        "air_temperature_c": "300", "volume_m3": "500"});

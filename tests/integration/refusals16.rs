@@ -38,7 +38,7 @@ fn fields(all: &[(String, String)]) -> Vec<&str> {
 #[test]
 fn a_field_test_gives_every_refusal_at_once_in_the_audits_units() {
     let s = Server::start();
-    // Start and end above the 50 bar(g) limit (725.2 psig), a duration of 0 s (30 s at least) and
+    // Start and end above the 50 bar(g) limit (725.19 psig, quoted 725.1), a duration of 0 s (30 s at least) and
     // stored air above 120 °C (248 °F): four refusals, none hiding another.
     for (units, p1, p2, t_air, unit) in [
         ("us", 800.0 * BAR_PER_PSI, 900.0 * BAR_PER_PSI, (300.0 - 32.0) / 1.8, "psig"),
@@ -128,7 +128,7 @@ fn a_scenario_gives_every_refusal_at_once_in_the_audits_units() {
 fn the_orifice_calculator_gives_every_refusal_at_once_in_the_audits_units() {
     let s = Server::start();
     let id = audit(&s, "us");
-    // A hole of 0 in, 900 psig (above 725.2 psig, 50 bar(g)) and a discharge coefficient of 2
+    // A hole of 0 in, 900 psig (above 725.19 psig, 50 bar(g)) and a discharge coefficient of 2
     // (0..1): three refusals at once, the pressure in psig.
     let r = s.post_json(
         "/api/v1/calc/orifice-leak",

@@ -192,7 +192,7 @@ pub(super) fn methods(a: &Annual) -> [Method; 3] {
         ),
         method(
             "cost_per_1000_m3",
-            "specific power / 60 (kWh/m³) × 1000 × price; per 1000 ft³ = kW/100 cfm / 6 × price",
+            "specific power / 60 (kWh/m³) × 1000 × price; per\u{a0}1000\u{a0}ft³ = kW/100\u{a0}cfm / 6 × price",
             "kW/(m³/min) = kW/100 cfm × 0.353147; US DOE tip sheet 1",
         ),
     ]
