@@ -34,15 +34,7 @@ fn the_window_chart_draws_what_is_logged_and_the_idle_window_is_typed_on_the_sit
         "timestamp": {"column": "time", "format": "rfc3339", "timezone": "UTC"},
         "columns": [{"column": "C1 kW", "quantity": "power", "unit": "kW", "compressor": "C1"},
                     {"column": "flow m3/min", "quantity": "flow", "unit": "m3_min"}]});
-    let r = s.upload(id, "plant.csv", flow_and_power_csv().as_bytes(), &mapping, "");
-    assert_eq!(r.status, 201, "{}", r.text);
-    let b = Browser::start();
-    b.goto(&s.url(&format!("/audits/{id}/tests")));
-    let drawn = wait_until(Duration::from_secs(20), || {
-        b.js("const c = Chart.getChart(document.getElementById('chart-window')); return !!c", json!([]))
-            == true
-    });
-    assert!(drawn, "no window chart");
+    let b = window_chart(&s, id, &flow_and_power_csv(), &mapping);
     // Two series, flow and C1's power; no pressure axis; the x axis reaches the power's last
     // reading (09:59:50Z), not the flow's (09:29:50Z).
     let chart = b.js(
@@ -119,15 +111,7 @@ fn the_window_chart_draws_a_machine_whose_power_comes_only_from_its_energy_count
         "timestamp": {"column": "time", "format": "rfc3339", "timezone": "UTC"},
         "columns": [{"column": "E kWh", "quantity": "energy", "unit": "kWh", "compressor": "C1"},
                     {"column": "header bar", "quantity": "pressure", "unit": "bar_g"}]});
-    let r = s.upload(id, "plant.csv", counter_and_pressure_csv().as_bytes(), &mapping, "");
-    assert_eq!(r.status, 201, "{}", r.text);
-    let b = Browser::start();
-    b.goto(&s.url(&format!("/audits/{id}/tests")));
-    let drawn = wait_until(Duration::from_secs(20), || {
-        b.js("const c = Chart.getChart(document.getElementById('chart-window')); return !!c", json!([]))
-            == true
-    });
-    assert!(drawn, "no window chart");
+    let b = window_chart(&s, id, &counter_and_pressure_csv(), &mapping);
     let chart = b.js(
         "const c = Chart.getChart(document.getElementById('chart-window'));
          return {labels: c.data.datasets.map((d) => d.label), axes: Object.keys(c.options.scales),
@@ -196,15 +180,7 @@ fn the_window_chart_names_its_series_in_words_gives_each_machine_its_colour_and_
                     {"column": "C3 kW", "quantity": "power", "unit": "kW", "compressor": "C3"},
                     {"column": "main header", "quantity": "pressure", "unit": "bar_g"},
                     {"column": "press shop", "quantity": "pressure", "unit": "bar_g"}]});
-    let r = s.upload(id, "plant.csv", three_machines_two_pressures_csv().as_bytes(), &mapping, "");
-    assert_eq!(r.status, 201, "{}", r.text);
-    let b = Browser::start();
-    b.goto(&s.url(&format!("/audits/{id}/tests")));
-    let drawn = wait_until(Duration::from_secs(20), || {
-        b.js("const c = Chart.getChart(document.getElementById('chart-window')); return !!c", json!([]))
-            == true
-    });
-    assert!(drawn, "no window chart");
+    let b = window_chart(&s, id, &three_machines_two_pressures_csv(), &mapping);
     let chart = b.js(
         "const c = Chart.getChart(document.getElementById('chart-window'));
          return {labels: c.data.datasets.map((d) => d.label), colors: c.data.datasets.map((d) => d.borderColor),
@@ -236,4 +212,19 @@ fn the_window_chart_names_its_series_in_words_gives_each_machine_its_colour_and_
     assert!(ticks.len() >= 2, "{chart}");
     assert!(ticks.iter().all(|t| t % 300_000.0 == 0.0), "ticks off a 5-minute multiple: {chart}");
     assert!(!ticks.contains(&chart["first"].as_f64().unwrap()), "{chart}");
+}
+
+/// Uploads `csv` with `mapping` into audit `id` and opens its field-tests page until the window
+/// chart is drawn.
+fn window_chart(s: &Server, id: i64, csv: &str, mapping: &serde_json::Value) -> Browser {
+    let r = s.upload(id, "plant.csv", csv.as_bytes(), mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let b = Browser::start();
+    b.goto(&s.url(&format!("/audits/{id}/tests")));
+    let drawn = wait_until(Duration::from_secs(20), || {
+        b.js("const c = Chart.getChart(document.getElementById('chart-window')); return !!c", json!([]))
+            == true
+    });
+    assert!(drawn, "no window chart");
+    b
 }

@@ -83,13 +83,18 @@ fn test_ranges(leak_estimates: &[LeakEstimate], acc: &Accuracy) -> Vec<(i64, f64
     leak_estimates
         .iter()
         .map(|e| {
-            let (lo, hi) = e
-                .range_m3_min
-                .filter(|(lo, hi)| lo.is_finite() && hi.is_finite() && lo <= hi)
-                .unwrap_or_else(|| band(e.leak_flow_m3_min, estimate_rel(e, acc)));
+            let (lo, hi) = likely_range(e, acc);
             (e.test_id, e.leak_flow_m3_min, lo, hi)
         })
         .collect()
+}
+
+/// One accepted test's likely range, m³/min: as evaluated when it is a range, else the flow ± its
+/// relative uncertainty.
+fn likely_range(e: &LeakEstimate, acc: &Accuracy) -> (f64, f64) {
+    e.range_m3_min
+        .filter(|(lo, hi)| lo.is_finite() && hi.is_finite() && lo <= hi)
+        .unwrap_or_else(|| band(e.leak_flow_m3_min, estimate_rel(e, acc)))
 }
 
 /// Whether the accepted tests disagree beyond their stated ranges: no flow lies in every test's
@@ -136,10 +141,7 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
     let mut estimates: Vec<LeakEstimateFigure> = leak_estimates
         .iter()
         .map(|e| {
-            let (lo, hi) = e
-                .range_m3_min
-                .filter(|(lo, hi)| lo.is_finite() && hi.is_finite() && lo <= hi)
-                .unwrap_or_else(|| band(e.leak_flow_m3_min, estimate_rel(e, acc)));
+            let (lo, hi) = likely_range(e, acc);
             LeakEstimateFigure {
                 test_id: Some(e.test_id),
                 method: e.method.clone(),
