@@ -2,7 +2,9 @@
 Leaks: all estimates side by side; the adopted figure is the median of the field tests (when their
 likely ranges do not all meet, [`disagreement`], the median still stands, as the middle test is
 not moved by one test gone wrong, but the adopted range is widened to span the tests' ranges and
-the figures say the tests disagree: repeat the tests that stand apart); without tests,
+the figures say the tests disagree: repeat the tests that stand apart; tests that agree give the
+widest test's band around the median, cut to the span of their ranges, so that it never reaches
+below or above every test); without tests,
 the flow in non-production hours read as leaks: its mean, less the purge and drain air on record
 (`AuditInput::purge_and_drains_m3_min`, 0 until treatment records are kept: then an upper bound, as
 any other fixed user is in it), corrected to the production pressure by p_production,abs /
@@ -158,18 +160,27 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
     let q_leak_np = non_production.as_ref().and_then(|n| n.leak_flow_m3_min);
     let mut tests: Vec<f64> = leak_estimates.iter().map(|e| e.leak_flow_m3_min).collect();
     tests.sort_by(f64::total_cmp);
-    let (adopted, adopted_rel, adopted_rule) = if !tests.is_empty() {
+    let (adopted, adopted_rel, adopted_rule, adopted_range) = if !tests.is_empty() {
         let med = percentile(&tests, 0.5);
         let mut rel = leak_estimates.iter().map(|e| estimate_rel(e, acc)).fold(0.0, f64::max);
-        // Tests that disagree: the adopted range spans every test's range (module doc); the
-        // wider side sets the relative uncertainty carried to the share and the cost, whose
-        // bottoms stop at zero.
+        let ranges = test_ranges(leak_estimates, acc);
+        // Tests that disagree: the adopted range spans every test's range (module doc).
         if disagreement(leak_estimates, acc).is_some() && med > 0.0 {
-            for (_, _, lo, hi) in test_ranges(leak_estimates, acc) {
+            for (_, _, lo, hi) in &ranges {
                 rel = rel.max(1.0 - lo / med).max(hi / med - 1.0);
             }
         }
-        (Some(med), rel, "median of the accepted field tests".to_string())
+        // Never beyond what the tests themselves allow: the widest test's band around the median
+        // is cut to the span of the tests' ranges (a median of 77.2 cfm ± 68 % reached 24.3 cfm,
+        // below both tests' bottoms, 55.5 and 74.8 cfm). The range's wider side sets the relative
+        // uncertainty carried to the share and the cost, whose bottoms stop at zero.
+        let env_lo = ranges.iter().map(|t| t.2).fold(f64::INFINITY, f64::min);
+        let env_hi = ranges.iter().map(|t| t.3).fold(f64::NEG_INFINITY, f64::max);
+        let (lo, hi) = ((med * (1.0 - rel)).max(env_lo), (med * (1.0 + rel)).min(env_hi));
+        if med > 0.0 {
+            rel = (1.0 - lo / med).max(hi / med - 1.0).max(0.0);
+        }
+        (Some(med), rel, "median of the accepted field tests".to_string(), Some((lo, hi)))
     } else if let Some(q) = q_leak_np {
         let np = non_production.as_ref().expect("a leak flow comes with its record");
         let purge = if np.purge_and_drains_m3_min > 0.0 {
@@ -183,9 +194,10 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
             "not corrected to the production pressure (no pressure logged in and out of production, \
              or too low out of it for choked leaks)"
         };
-        (Some(q), u_flow, format!("mean flow in non-production hours, {purge}, {corrected}"))
+        let text = format!("mean flow in non-production hours, {purge}, {corrected}");
+        (Some(q), u_flow, text, Some(band(q, u_flow)))
     } else {
-        (None, 0.0, "no leak estimate: run a bleed-down or load/unload test".to_string())
+        (None, 0.0, "no leak estimate: run a bleed-down or load/unload test".to_string(), None)
     };
     if let Some(q) = q_leak_np {
         let (lo, hi) = band(q, u_flow);
@@ -200,12 +212,6 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
             estimated: x.flow_estimated,
         });
     }
-    // Tests that disagree: the adopted range runs from the lowest test's bottom to the highest's top.
-    let spread = disagreement(leak_estimates, acc).map(|_| {
-        let r = test_ranges(leak_estimates, acc);
-        let lo = r.iter().map(|t| t.2).fold(f64::INFINITY, f64::min);
-        (lo, r.iter().map(|t| t.3).fold(f64::NEG_INFINITY, f64::max))
-    });
     let share = adopted.zip(mean_flow).map(|(q, m)| q / m);
     let u_share = quad(&[adopted_rel, u_flow]);
     let leak_kwh = adopted.map(|q| q * x.marginal_kw_per_m3_min * x.annual_running_hours);
@@ -216,14 +222,8 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
         estimates,
         non_production,
         adopted_leak_flow_m3_min: adopted,
-        adopted_leak_flow_m3_min_low: adopted.map(|q| match &spread {
-            Some((lo, _)) => *lo,
-            None => q * (1.0 - adopted_rel),
-        }),
-        adopted_leak_flow_m3_min_high: adopted.map(|q| match &spread {
-            Some((_, hi)) => *hi,
-            None => q * (1.0 + adopted_rel),
-        }),
+        adopted_leak_flow_m3_min_low: adopted_range.map(|r| r.0),
+        adopted_leak_flow_m3_min_high: adopted_range.map(|r| r.1),
         adopted_rule,
         disagreement: disagreement(leak_estimates, acc),
         share_of_mean_demand: share,

@@ -210,3 +210,38 @@ fn tests_that_disagree_beyond_their_ranges_are_said_and_widen_the_adopted_range(
     assert!((r.leaks.adopted_leak_flow_m3_min_high.unwrap() - 1.2 * 3.25).abs() < 1e-9);
     assert!(!r.warnings.iter().any(|w| w.contains("disagree")));
 }
+
+#[test]
+fn an_adopted_leak_range_never_reaches_beyond_every_test() {
+    // Issue 16's second walk: a bleed-down of 71.9 cfm, likely 55.5 to 121 cfm (±68 % on its wider
+    // side), and a load/unload test of 82.5 cfm, likely 74.8 to 90.2 cfm. Their ranges meet, so
+    // they agree; the median of two is their mean, 77.2 cfm, and ±68 % around it read 24.3 to
+    // 130 cfm, below both tests' bottoms. The adopted range is cut to the tests' span, 55.5 to
+    // 121 cfm; its wider side (121 / 77.2 - 1 = 57 %) is what the cost's band carries.
+    let s = crate::core::recommend::tests::site();
+    let (cs, frame) = week();
+    let cfm = |v: f64| v / 35.3147;
+    let est = |id: i64, method: &str, q: f64, lo: f64, hi: f64| LeakEstimate {
+        test_id: id,
+        method: method.into(),
+        leak_flow_m3_min: cfm(q),
+        relative_uncertainty: Some((1.0 - lo / q).max(hi / q - 1.0)),
+        range_m3_min: Some((cfm(lo), cfm(hi))),
+        warnings: vec![],
+    };
+    let r = run(
+        &s,
+        &cs,
+        &frame,
+        vec![est(1, "bleed_down", 71.9, 55.5, 121.0), est(2, "load_unload", 82.5, 74.8, 90.2)],
+    );
+    let l = &r.leaks;
+    assert!(l.disagreement.is_none());
+    assert!((l.adopted_leak_flow_m3_min.unwrap() - cfm(77.2)).abs() < 1e-9);
+    assert!((l.adopted_leak_flow_m3_min_low.unwrap() - cfm(55.5)).abs() < 1e-12, "{l:?}");
+    assert!((l.adopted_leak_flow_m3_min_high.unwrap() - cfm(121.0)).abs() < 1e-12, "{l:?}");
+    let (cost, low) = (l.annual_leak_cost.unwrap(), l.annual_leak_cost_low.unwrap());
+    let rel: f64 = 121.0 / 77.2 - 1.0;
+    // The cost's band: the leak's 57 % and the price's 5 % in quadrature.
+    assert!((low - cost * (1.0 - (rel * rel + 0.05 * 0.05).sqrt())).abs() < 1e-6 * cost, "{l:?}");
+}
