@@ -94,6 +94,10 @@ fn check_invariants(sm: &Summary) -> Result<(), TestCaseError> {
             "{f} null without a reason"
         );
     }
+    // The leaks' annual energy is a part of the plant's (definition).
+    if let (Some(leak), Some(whole)) = (sm.leaks.annual_leak_energy_kwh, sm.baseline.annual_energy_kwh) {
+        prop_assert!(leak <= whole * (1.0 + 1e-12), "leaks take {leak} of {whole} kWh");
+    }
     let low = sm.pressure.low_limit_bar_g.unwrap_or(0.0).max(0.0);
     for r in &sm.recommendations {
         if r.kind == MeasureKind::LowerPressure {
@@ -516,4 +520,60 @@ fn a_leak_flow_above_the_mean_demand_is_no_share_of_it() {
         let x = w.iter().find(|x| x.figure == figure).unwrap_or_else(|| panic!("{figure} in {w:?}"));
         assert!(x.reason.starts_with("the leak flow is more than the logged mean demand"), "{}", x.reason);
     }
+}
+
+#[test]
+fn a_log_in_which_no_machine_ran_is_insufficient_and_says_why() {
+    // Issue 16's second walk: a 55 kW load/unload machine whose power column was read in the wrong
+    // unit. The week's 60 kW and 20 kW, read as W, are 0.060 and 0.020 kW: under 5 % of the
+    // data sheet's 55 kW (an unloaded screw draws 20 to 35 % of its full-load power, common
+    // practice), so no machine ran in such a log and no annual figure or measure is given.
+    let s = site();
+    let (cs, mut frame) = super::tests::week();
+    for v in &mut frame.columns[0].values {
+        *v /= 1000.0;
+    }
+    let sm = super::tests::run(&s, &cs, &frame, vec![]);
+    assert_eq!(sm.sufficiency.verdict, Verdict::Insufficient);
+    let why = sm.sufficiency.reasons.iter().find(|r| r.contains("never rose above")).expect("the reason");
+    assert!(
+        why.starts_with("the compressors' logged power never rose above 0.060 kW, 0.1 % of the 55 kW"),
+        "{why}"
+    );
+    assert!(sm.baseline.annual_energy_kwh.is_none() && sm.recommendations.is_empty());
+    // The same week in kW: the machine ran, and the reason is not given.
+    let (cs, frame) = super::tests::week();
+    let sm = super::tests::run(&s, &cs, &frame, vec![]);
+    assert!(!sm.sufficiency.reasons.iter().any(|r| r.contains("never rose above")), "{:?}", sm.sufficiency);
+}
+
+#[test]
+fn a_leak_cost_above_the_plants_whole_energy_is_withheld() {
+    // A part is never more than the whole (definition): a bleed-down read as 50 m³/min of leaks on
+    // a plant whose one 55 kW machine delivers 10 m³/min at most would, priced at the trim's
+    // marginal rate over the year, take more energy than the plant's annual energy. The leak's
+    // annual energy and cost are withheld with the reason; the plant's own figures stand.
+    let s = site();
+    let (cs, frame) = super::tests::week();
+    let test = |q: f64| LeakEstimate {
+        test_id: 7,
+        method: "bleed_down".into(),
+        leak_flow_m3_min: q,
+        relative_uncertainty: None,
+        range_m3_min: None,
+        warnings: vec![],
+    };
+    let sm = super::tests::run(&s, &cs, &frame, vec![test(50.0)]);
+    let whole = sm.baseline.annual_energy_kwh.expect("the plant's annual energy");
+    assert!(sm.leaks.annual_leak_energy_kwh.is_none() && sm.leaks.annual_leak_cost.is_none());
+    let w = sm.sufficiency.withheld.iter().find(|w| w.figure == "leaks.annual_leak_cost").expect("withheld");
+    assert!(
+        w.reason.starts_with("the leak flow priced at the trim machine's marginal specific power"),
+        "{w:?}"
+    );
+    assert!(w.reason.contains(&crate::core::display::Grouped(whole).to_string()), "{w:?}");
+    // A leak the plant can carry is priced, and below the whole.
+    let sm = super::tests::run(&s, &cs, &frame, vec![test(1.0)]);
+    let leak = sm.leaks.annual_leak_energy_kwh.expect("priced");
+    assert!(leak > 0.0 && leak < sm.baseline.annual_energy_kwh.unwrap());
 }

@@ -505,15 +505,23 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
     // measure, on a credible pressure log.
     let lowest_rated = cs.iter().map(|c| c.rated_pressure_bar_g).reduce(f64::min);
     let pressure_ok = sufficiency::pressure_credible(&pressure_fig, lowest_rated);
-    let sufficiency =
-        sufficiency::assess(&d.overlap, d.power_logged.iter().any(|&p| p), pressure_ok.as_ref());
+    let rated_kw_logged =
+        cs.iter().zip(&d.power_logged).filter(|(_, &p)| p).map(|(c, _)| c.rated_power_kw).sum();
+    let sufficiency = sufficiency::assess(
+        &d.overlap,
+        d.power_logged.iter().any(|&p| p),
+        rated_kw_logged,
+        pressure_ok.as_ref(),
+    );
     let credible_mean_pressure = pressure_fig.mean_bar_g.filter(|_| pressure_ok == Some(Ok(())));
     methods.push(method(
         "sufficiency",
         "enough, thin or insufficient from the hours with every compressor's power logged together \
          (under 1 h: insufficient; under 167 h or fewer than 7 weekdays: thin), their share of the \
          logged period (under 10 %: insufficient; under 50 %: thin), the overlap of power with flow \
-         and with pressure (under 50 % of the power hours: thin) and a credible pressure log",
+         and with pressure (under 50 % of the power hours: thin), a credible pressure log, and the \
+         machines' logged power reaching 5 % of their rated power together (else no machine ran: \
+         insufficient)",
         "ISO 11011 (a period representative of operation); one full production week of logging is \
          common practice",
     ));

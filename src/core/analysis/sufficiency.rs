@@ -19,6 +19,11 @@ figures add the machines up, so only those hours show the plant as one system.
 - power covering under [`MIN_PERIOD_COVERAGE`] (10 %) of the span from the first reading to the
   last: the files lie far apart in time (different weeks, seasons or years, or files of another
   system), and one annual figure would mix them. A window (`?from=&to=`) around one stretch of logging can be analysed on its own.
+- the compressors' logged power (every machine's together, over one analysis step) never rising
+  above [`MIN_RUNNING_SHARE`] (5 %) of their data sheets' rated power together: a screw compressor
+  running unloaded draws 20-35 % of its full-load power (common practice, the US DOE sourcebook's
+  part-load curves from memory), so no machine ran in the log, or the column is in another unit (W
+  read as kW) or of another machine; an annual cost of such a log is no plant's.
 
 **Thin** (annual figures given, to be read as indicative; each reason is listed):
 - power hours under [`FULL_WEEK_HOURS`] (167 h: a logger week rarely spans exactly 168 h, the same
@@ -101,6 +106,9 @@ pub const MIN_OVERLAP_SHARE: f64 = 0.50;
 pub const MIN_OVERLAP_HOURS: f64 = 0.5;
 /// A header reading below this gauge pressure makes the pressure log not credible, bar(g).
 pub const MIN_CREDIBLE_BAR_G: f64 = -0.1;
+/// Below this share of the rated power of the machines with power logged, their highest logged power
+/// together says that no machine ran (module doc).
+pub const MIN_RUNNING_SHARE: f64 = 0.05;
 
 /// Bins with the signals together, counted in one pass by [`overlap`].
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
@@ -118,6 +126,8 @@ pub(super) struct Overlap {
     /// Hours the site's clock gained over the log (1 over a spring daylight-saving change, else 0):
     /// a week over the change is a whole week on the clock (`calendar::local_weeks`).
     pub clock_gain_h: f64,
+    /// The highest of the compressors' power together over one bin, W (0 with none logged).
+    pub highest_power_w: f64,
 }
 
 impl Overlap {
@@ -148,6 +158,7 @@ pub(super) fn overlap(
             continue;
         }
         o.power += 1;
+        o.highest_power_w = o.highest_power_w.max(f64::from(*v));
         if let Some(c) = cells.get(k).filter(|&&c| c != NO_CELL) {
             o.weekdays |= 1 << (c / 24);
         }
@@ -192,9 +203,12 @@ pub(super) fn pressure_credible(
 }
 
 /// The verdict and its reasons (module doc), before any figure is withheld.
+/// The verdict and its reasons. `rated_kw` is the data sheets' rated power of the machines whose
+/// power was logged, together (0: none known).
 pub(super) fn assess(
     o: &Overlap,
     power_logged: bool,
+    rated_kw: f64,
     pressure: Option<&Result<(), Vec<Part>>>,
 ) -> Sufficiency {
     let power_h = o.hours(o.power);
@@ -221,6 +235,17 @@ pub(super) fn assess(
             crate::core::display::Grouped(power_h),
             crate::core::display::Grouped(total_h),
             MIN_PERIOD_COVERAGE * 100.0
+        )]);
+    }
+    let highest_kw = o.highest_power_w / 1000.0;
+    if power_logged && o.power > 0 && rated_kw > 0.0 && highest_kw < MIN_RUNNING_SHARE * rated_kw {
+        insufficient.push(parts![format!(
+            "the compressors' logged power never rose above {} kW, {} % of the {} kW on their data sheets \
+             (a screw compressor running unloaded draws 20 to 35 % of its full-load power): no machine ran in \
+             the log, or the power column is in another unit (W read as kW) or of another machine",
+            crate::core::display::num(highest_kw, if highest_kw < 1.0 { 3 } else { 1 }),
+            percent(highest_kw / rated_kw),
+            crate::core::display::Grouped(rated_kw)
         )]);
     }
     if power_logged && power_h >= MIN_POWER_HOURS {
@@ -483,6 +508,7 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
         );
     }
     leak_shares_over_whole(s, &mut w);
+    leak_cost_over_whole(s, &mut w);
     s.sufficiency.withheld = w;
 }
 
@@ -605,6 +631,33 @@ fn leak_shares_over_whole(s: &mut Summary, w: &mut Vec<Withheld>) {
     }
 }
 
+/// The leaks priced at the trim's marginal specific power over the year cannot take more energy
+/// than the whole plant's annual energy: when they would, the leak test and the power log describe
+/// different plants (or the marginal rate is read at a load too low to carry it), and the leak's
+/// annual energy and cost are withheld. The leak measure is held at the trim's energy above idle
+/// (`recommend`) and stands.
+fn leak_cost_over_whole(s: &mut Summary, w: &mut Vec<Withheld>) {
+    let (Some(leak), Some(whole)) = (s.leaks.annual_leak_energy_kwh, s.baseline.annual_energy_kwh) else {
+        return;
+    };
+    if leak <= whole {
+        return;
+    }
+    let why = format!(
+        "the leak flow priced at the trim machine's marginal specific power would take {} kWh a year, more \
+         than the plant's whole {} kWh: the leak test and the power log do not describe the same plant, or \
+         the marginal rate is read at a load too low to carry it",
+        crate::core::display::Grouped(leak),
+        crate::core::display::Grouped(whole)
+    );
+    let l = &mut s.leaks;
+    l.annual_leak_energy_kwh = None;
+    l.annual_leak_cost = None;
+    l.annual_leak_cost_low = None;
+    l.annual_leak_cost_high = None;
+    withhold(w, "leaks.annual_leak_cost", &why);
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -636,7 +689,7 @@ mod tests {
         assert!(us.contains("goes down to -7.3 psig, below the atmosphere"), "{us}");
         let si = render_parts(&why, &Fmt::new(UnitSystem::Si, atm));
         assert!(si.contains("goes down to -0.50 bar(g)"), "{si}");
-        let s = assess(&Overlap::default(), true, Some(&Err(why)));
+        let s = assess(&Overlap::default(), true, 0.0, Some(&Err(why)));
         assert_eq!(s.reasons.len(), s.reason_parts.len());
         assert_eq!(s.reasons.last().unwrap(), &si);
     }
