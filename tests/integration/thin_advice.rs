@@ -151,6 +151,17 @@ fn machines_never_logged_together_have_no_plant_mean_power_and_the_replays_no_ye
         mean.contains("not enough data (the compressors' power was logged together for 0.0 h (less than 1 h): a plant's mean power is over the time every machine's power is known"),
         "{mean}"
     );
+    // With no annual figure, neither a rule of extrapolation nor the part-load model behind a
+    // marginal rate the page does not give (issue 16's second walk), on the report and in print.
+    let kept = sm["assumptions"].as_array().unwrap().iter();
+    assert!(
+        kept.filter_map(|a| a.as_str()).any(|a| a.starts_with("part-load model behind the marginal")),
+        "{sm}"
+    );
+    for page in [report.clone(), s.get(&format!("/audits/{id}/findings")).text] {
+        assert!(page.contains("Annual figures: none, the logged data are not enough (the verdict above)."));
+        assert!(!page.contains("part-load model behind the marginal specific power"));
+    }
     // C2's only log is its counter: its states are not read.
     let c2 = row_text(&report, "<tr><td>C2</td>");
     assert!(c2.contains("not enough data (only an energy counter was logged"), "{c2}");

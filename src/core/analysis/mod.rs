@@ -218,6 +218,10 @@ pub struct DataFigures {
     overlap: sufficiency::Overlap,
 }
 
+/// The start of the assumption that states the trim's part-load model (the pages leave it out when
+/// they do not give the marginal specific power it prices).
+pub const PART_LOAD_ASSUMPTION: &str = "part-load model behind the marginal specific power: ";
+
 /// Every pass over the bins (the rooms' docs: energy, flow, specific power, states, production hours,
 /// annualisation, the control case, pressure and demand).
 pub fn data_figures(frame: &Frame, spec: &DataSpec) -> DataFigures {
@@ -419,7 +423,7 @@ pub fn summary_of(d: &DataFigures, input: &AuditInput) -> Summary {
          (checked against a time-domain blow-down cycle)",
     ));
     if let Some(m) = &part_load_model {
-        let mut line = parts!["part-load model behind the marginal specific power: "];
+        let mut line = parts![PART_LOAD_ASSUMPTION];
         line.extend(m.describe_parts());
         assumptions.push(line);
     }

@@ -356,9 +356,14 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>, facts: &Rea
                 (figure_label(&m.figure), Formula(formula), m.source.clone())
             })
             .collect(),
-        assumptions: in_parts(&sm.assumptions, &sm.assumption_parts, fmt),
+        assumptions: assumptions(sm, fmt),
         warnings: in_parts(&sm.warnings, &sm.warning_parts, fmt),
-        baseline_rule: sm.baseline.rule.clone(),
+        // No annual figure is given on such data: no rule of extrapolation is said either.
+        baseline_rule: if sm.sufficiency.verdict == Verdict::Insufficient {
+            "none, the logged data are not enough (the verdict above)".into()
+        } else {
+            sm.baseline.rule.clone()
+        },
         chart_data: chart_data(b, fmt, sm, &facts.logged_hours),
         duration_note: duration_note(sm.period.step_s),
         no_measures: no_measures(sm),
@@ -401,6 +406,28 @@ fn duration_s(s: f64) -> String {
 
 /// Lines in the reader's units: their parts when the summary has them one for one, else their SI
 /// words (a summary cached before the parts existed).
+/// Whether the pages give the marginal specific power: read at the logged load on the trim's
+/// part-load curve, it is not given with the verdict insufficient (that load is not the plant's)
+/// nor when a rule withheld it.
+fn marginal_shown(sm: &Summary) -> bool {
+    sm.part_load_model.is_some()
+        && sm.sufficiency.verdict != Verdict::Insufficient
+        && !has_withheld(sm, "leaks.marginal_kw_per_m3_min")
+}
+
+/// The assumptions in the reader's units, less the part-load model behind a marginal specific power
+/// the page does not give (an assumption printing "marginal 34.2 kW/100 cfm" beside a figure that
+/// reads "not enough data").
+fn assumptions(sm: &Summary, fmt: &Fmt) -> Vec<String> {
+    let shown = marginal_shown(sm);
+    in_parts(&sm.assumptions, &sm.assumption_parts, fmt)
+        .into_iter()
+        .zip(&sm.assumptions)
+        .filter(|(_, si)| shown || !si.starts_with(crate::core::analysis::PART_LOAD_ASSUMPTION))
+        .map(|(line, _)| line)
+        .collect()
+}
+
 fn in_parts(si: &[String], parts: &[Vec<crate::core::recommend::Part>], fmt: &Fmt) -> Vec<String> {
     if parts.len() == si.len() {
         parts.iter().map(|p| render_parts(p, fmt)).collect()
@@ -554,10 +581,7 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
             label: "Marginal specific power (trim machine)".into(),
             // Read at the logged load on the trim's part-load curve: with the verdict insufficient
             // that load is not the plant's, and the rate prices nothing on the page.
-            value: if sm.part_load_model.is_some()
-                && sm.sufficiency.verdict != Verdict::Insufficient
-                && !has_withheld(sm, "leaks.marginal_kw_per_m3_min")
-            {
+            value: if marginal_shown(sm) {
                 fmt.specific_power(leaks.marginal_kw_per_m3_min)
             } else {
                 NOT_ENOUGH_DATA.into()
