@@ -129,6 +129,17 @@ impl App {
         Ok(audits::delete_scenario(self.db(), id, sid).await?)
     }
 
+    /// The name of the proposal when it was replayed before the audit's last change: it is left out
+    /// of the report's ranking (`scenario_cases`) until it is replayed, and the pages say so.
+    pub async fn stale_proposal(&self, id: i64, revision: i64) -> Result<Option<String>> {
+        Ok(self
+            .scenarios(id)
+            .await?
+            .into_iter()
+            .find(|s| s.proposal && s.revision != revision)
+            .map(|s| s.name))
+    }
+
     /// One stored scenario, or [`Error::NotFound`].
     pub async fn scenario(&self, id: i64, sid: i64) -> Result<ScenarioRecord> {
         self.scenarios(id).await?.into_iter().find(|s| s.id == sid).ok_or_else(|| no_scenario(id, sid))

@@ -179,6 +179,7 @@ pub fn build_app(state: AppState) -> Router {
             get(pages::back_to_form).post(pages::scenarios::set_proposal),
         )
         .route("/audits/{id}/scenarios/{sid}/rename", get(pages::back_to_form).post(pages::scenarios::rename))
+        .route("/audits/{id}/scenarios/{sid}/replay", get(pages::back_to_form).post(pages::scenarios::replay))
         .route(
             "/audits/{id}/scenarios/{sid}/delete",
             get(pages::confirm::ask_scenario).post(pages::confirm::delete_scenario),

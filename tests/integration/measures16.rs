@@ -301,3 +301,42 @@ fn a_leak_estimate_from_the_logs_says_so_once() {
     let row = words_between(&report, "Mean flow out of production", "</td>");
     assert_eq!(row.matches("from the logs").count(), 1, "{row}");
 }
+
+/// Issue 16's second walk: recording a field test after marking a proposal dropped the proposal
+/// from the report without a word (it had been replayed on the audit's earlier revision). The
+/// report and the findings now say so and point to the what-if page, whose row offers a replay as
+/// it stands; replayed, the proposal is back on the report.
+#[test]
+fn a_proposal_replayed_on_earlier_data_is_said_and_replayed_in_one_click() {
+    let (s, sid) = demo_with_quoted_proposal();
+    let replay =
+        || s.get(&format!("/api/v1/audits/1/scenarios/{sid}")).json()["result"]["energy_saving_kwh"].clone();
+    let before = replay();
+    assert!(before.as_f64().unwrap() > 0.0);
+    scenario_measure(&s.get("/api/v1/audits/1/summary").json());
+    let r = s.post_json(
+        "/api/v1/audits/1/field-tests",
+        &json!({"kind": "bleed_down", "volume_m3": 4.0, "start_pressure_bar_g": 7.0,
+                "end_pressure_bar_g": 5.0, "duration_s": 120}),
+    );
+    assert_eq!(r.status, 201, "{}", r.text);
+    let sm = s.get("/api/v1/audits/1/summary").json();
+    assert!(!sm["recommendations"].as_array().unwrap().iter().any(|r| r["scenario_id"].is_i64()));
+    for page in ["/audits/1/report", "/audits/1/findings"] {
+        let text = s.get(page).text;
+        assert!(
+            text.contains("id=\"stale-proposal\">The what-if proposal “more storage” was replayed before the audit&#39;s last change")
+                || text.contains("id=\"stale-proposal\">The what-if proposal “more storage” was replayed before the audit's last change"),
+            "{page}"
+        );
+    }
+    let whatif = s.get("/audits/1/scenarios").text;
+    assert!(whatif.contains(&format!("action=\"/audits/1/scenarios/{sid}/replay\"")), "no replay button");
+    let r = s.post_form(&format!("/audits/1/scenarios/{sid}/replay"), &[]);
+    assert!(matches!(r.status, 200 | 303), "{} {}", r.status, r.text);
+    // Replayed on the present data, on the report again.
+    assert!(replay().as_f64().unwrap() > 0.0);
+    scenario_measure(&s.get("/api/v1/audits/1/summary").json());
+    assert!(!s.get("/audits/1/report").text.contains("id=\"stale-proposal\""));
+    assert!(!s.get("/audits/1/scenarios").text.contains(&format!("/scenarios/{sid}/replay\"")));
+}

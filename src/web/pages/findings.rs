@@ -35,6 +35,8 @@ struct FindingsPage {
     spans: Vec<(String, String)>,
     /// The charts, by section, drawn as inline SVG.
     plots: FindingsPlots,
+    /// The proposal's name when it was replayed on earlier data and is left out of the measures.
+    stale_proposal: Option<String>,
 }
 
 async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage, AppError> {
@@ -62,6 +64,7 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
         })
         .collect();
     Ok(FindingsPage {
+        stale_proposal: app.stale_proposal(id, b.audit.revision).await?,
         other_units,
         other_units_label,
         tests: test_rows(&b.field_tests, &fmt, &tz),

@@ -18,6 +18,8 @@ struct ReportPage {
     view: ReportView,
     other_units: &'static str,
     other_units_label: &'static str,
+    /// The proposal's name when it was replayed on earlier data and is left out of the measures.
+    stale_proposal: Option<String>,
 }
 
 pub async fn report(
@@ -30,10 +32,11 @@ pub async fn report(
     let fmt = reader_fmt(&b, &q);
     let facts = st.app.read_facts(&b).await?;
     let view = report_view(&b, &fmt, sm.figures(), &facts);
+    let stale_proposal = st.app.stale_proposal(id, b.audit.revision).await?;
     let (other_units, other_units_label) = if fmt.is_us() {
         ("si", "Show SI units (bar, m³/min)")
     } else {
         ("us", "Show US customary units (psig, cfm)")
     };
-    Ok(render(&ReportPage { audit: b.audit, fmt, view, other_units, other_units_label }))
+    Ok(render(&ReportPage { audit: b.audit, fmt, view, other_units, other_units_label, stale_proposal }))
 }

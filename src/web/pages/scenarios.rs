@@ -96,6 +96,8 @@ pub struct ScenarioRow {
     /// It may be marked as the proposal (`app::scenarios::may_propose`): not the baseline, not a
     /// plant short of air.
     pub may_propose: bool,
+    /// Replayed on earlier data (the audit changed since): offered a replay as it stands.
+    pub stale: bool,
 }
 
 #[derive(Template)]
@@ -261,6 +263,7 @@ pub async fn scenarios(
                 offered: offered_id == Some(sc.id),
                 proposal: sc.proposal,
                 may_propose,
+                stale: sc.revision != rev,
                 offer,
             }
         })
@@ -348,6 +351,16 @@ pub async fn set_proposal(
     let on = form.get("proposal").map(String::as_str) == Some("1");
     st.app.edit_scenario(id, sid, None, Some(on)).await?;
     Ok(Redirect::to(&format!("/audits/{id}/scenarios")).into_response())
+}
+
+/// `POST /audits/{id}/scenarios/{sid}/replay`: replay a stored scenario again, as it stands, on the
+/// audit's present data (after any later change made it a replay of earlier data); a proposal
+/// stays the proposal when it still may be one.
+pub async fn replay(State(st): State<AppState>, Path((id, sid)): Path<(i64, i64)>) -> PageResult {
+    let sc = st.app.scenario(id, sid).await?;
+    let body = serde_json::json!({"name": sc.name, "changes": sc.changes});
+    st.app.replace_scenario(id, sid, body).await?;
+    Ok(Redirect::to(&format!("/audits/{id}/scenarios#scenario-table")).into_response())
 }
 
 /// `POST /audits/{id}/scenarios/{sid}/rename` with `name`.
