@@ -43,6 +43,32 @@ fn a_counter_that_hides_the_loading_leaves_no_demand_to_replay_and_the_page_says
     let r = s.upload(id, "counter.csv", file.as_bytes(), &mapping(counter_columns("C1")), "");
     assert_eq!(r.status, 201, "{}", r.text);
 
+    // The summary: no air read from the states of a machine known only through its counter (a
+    // walk found a mean flow of 0.000 m³/min (estimated) beside 26 kW), with the reason, and the
+    // report says "not enough data" with it.
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert!((sm["system"]["mean_power_kw"].as_f64().unwrap() - 26.0).abs() < 1e-6, "{}", sm["system"]);
+    for f in ["air_m3", "mean_flow_m3_min", "peak_flow_m3_min"] {
+        assert!(sm["system"][f].is_null(), "system.{f} = {}", sm["system"][f]);
+    }
+    let why = "no flow is known: no flow meter was logged, and the air cannot be read from the compressors' \
+               states: C1's power was logged only as an energy counter, whose readings are means over each \
+               interval and do not show when a machine loaded or unloaded";
+    let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
+    assert!(
+        withheld.iter().any(|w| w["figure"] == "system.mean_flow_m3_min" && w["reason"] == why),
+        "{withheld:?}"
+    );
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    let at = report.find("<dt>Mean flow</dt>").expect("the mean flow");
+    let cell = &report[at + report[at..].find("<dd>").unwrap() + 4..];
+    assert!(
+        cell.starts_with(&format!("not enough data ({})", why.replace('\'', "&#39;"))),
+        "{}",
+        &cell[..300]
+    );
+    assert!(!report.contains("0.000 m³/min"), "a zero flow on the page");
+
     // Act: the baseline and one change.
     let base =
         s.post_json(&format!("/api/v1/audits/{id}/scenarios"), &json!({"name": "baseline", "changes": []}));
@@ -141,10 +167,10 @@ fn a_window_on_the_counter_only_day_gives_no_flow_and_says_why() {
 
 #[test]
 fn machines_logged_apart_without_a_meter_give_no_flow_and_the_pages_say_not_enough_data() {
-    // C1's counter on Monday from 06:00Z, C2's on Tuesday, a day apart, no flow meter: the air
-    // read from the states needs both machines' states in one time step, which none has. Each
-    // counter rises 40 kW a quarter hour for 8 h, which reads loaded (above the midpoint of 25 %
-    // and 100 % of 55 kW), so each machine alone would give its air.
+    // C1's counter on Monday from 06:00Z, C2's on Tuesday, a day apart, no flow meter: a counter's
+    // readings are means over each quarter hour, so no machine's states, and no air, can be read
+    // from them (each rises 40 kW a quarter hour for 8 h, which would read loaded: above the
+    // midpoint of 25 % and 100 % of 55 kW).
     let s = Server::start();
     let id = s.audit_in_chicago("apart", "us");
     let r = s.post_json(
@@ -161,9 +187,9 @@ fn machines_logged_apart_without_a_meter_give_no_flow_and_the_pages_say_not_enou
     let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
     assert_eq!(sm["system"]["flow_source"], "estimated_from_compressor_states");
     assert!(sm["system"]["mean_flow_m3_min"].is_null() && sm["system"]["peak_flow_m3_min"].is_null());
-    let why = "no flow is known: no flow meter was logged, and the air read from the compressors' states \
-               needs a state for every compressor with a power log in the same time step, which no time \
-               step of the period analysed has";
+    let why = "no flow is known: no flow meter was logged, and the air cannot be read from the compressors' \
+               states: the power of C1, C2 was logged only as energy counters, whose readings are means over \
+               each interval and do not show when a machine loaded or unloaded";
     let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
     assert!(withheld.iter().any(|w| w["figure"] == "system.mean_flow_m3_min" && w["reason"] == why));
 

@@ -54,6 +54,8 @@ mod stats;
 pub mod sufficiency;
 #[cfg(test)]
 mod tests;
+#[cfg(test)]
+mod thin_tests;
 pub mod transmission;
 pub mod uncertainty;
 

@@ -49,7 +49,8 @@ figures add the machines up, so only those hours show the plant as one system.
   percentiles, a description of the log itself, like its mean);
 - the air, the mean flow (its range) and the peak flow when no flow can be known in the period
   (a window on a day that only an energy counter logged, with the flow meter logged on other
-  days): no flow logged in it and none read from the compressors' states; the peak flow alone
+  days): no flow logged in it and none read from the compressors' states (none is read when a
+  machine's power is only an energy counter, whose states are unknown); the peak flow alone
   when no minute holds enough flow readings. Never 0: the reason says which is missing. The
   treatment records, priced on the mean flow, are then withheld too (`transmission`);
 - the peak power when no 15-minute window holds every compressor's power, or when that peak falls
