@@ -1,5 +1,6 @@
 //! Figures that cannot be worked out on thin data say why, each from what is missing (issue 16):
-//! no air read from the states of a machine known only through an energy counter. Hand-made frames; the expected words and
+//! no air read from the states of a machine known only through an energy counter, a specific power
+//! of machines that never loaded, and no leak estimate. Hand-made frames; the expected words and
 //! values are worked by hand below.
 
 use super::*;
@@ -69,4 +70,34 @@ fn a_counter_only_machine_gives_no_air_read_from_states_and_says_why() {
              interval and do not show when a machine loaded or unloaded"
         );
     }
+    // No leak estimate either: no test, and no flow out of production hours.
+    assert_eq!(sm.leaks.adopted_leak_flow_m3_min, None);
+    assert_eq!(
+        sm.leaks.adopted_rule,
+        "no leak estimate: no field test on record gives a leak flow, and no flow is known out of production \
+         hours to read leaks from; run a bleed-down or load/unload test"
+    );
+}
+
+#[test]
+fn machines_that_never_loaded_give_no_specific_power_and_say_why() {
+    // C1 logged every 10 s for a day at 26 kW, under the midpoint of its unloaded (25 % of 55 kW,
+    // the data sheet's default) and full levels: unloaded throughout, so the air read from its
+    // states is none, and power over none is no specific power. No rule withholds it; the reason
+    // says what is missing rather than "the data cannot support this figure".
+    let cs = vec![spec("C1", Control::LoadUnload, 55.0, 9.5)];
+    let n = 24 * 360;
+    let frame = Frame {
+        grid: Grid { start_ms: MONDAY_MS, step_ms: 10_000, len: n },
+        columns: vec![power(vec![26_000.0; n], false)],
+    };
+    let sm = run(&cs, &frame);
+    assert_eq!(sm.system.air_m3, Some(0.0), "an unloaded machine delivers no air");
+    assert_eq!(sm.system.specific_power_kw_per_m3_min, None);
+    assert_eq!(sm.system.specific_power_note, None);
+    assert_eq!(
+        reason(&sm, "system.specific_power_kw_per_m3_min"),
+        "no flow meter was logged, and the compressors' states show no air delivered in the time steps with \
+         their power (none of them loaded)"
+    );
 }
