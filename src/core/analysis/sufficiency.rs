@@ -51,8 +51,9 @@ figures add the machines up, so only those hours show the plant as one system.
   (a window on a day that only an energy counter logged, with the flow meter logged on other
   days): no flow logged in it and none read from the compressors' states (none is read when a
   machine's power is only an energy counter, whose states are unknown); the peak flow alone
-  when no minute holds enough flow readings. Never 0: the reason says which is missing. The
-  treatment records, priced on the mean flow, are then withheld too (`transmission`);
+  when no minute holds enough flow readings. Never 0: the reason says which is missing. What of
+  the treatment records needs the mean flow is then withheld too, the rest priced
+  (`analysis::transmission`);
 - the peak power when no 15-minute window holds every compressor's power, or when that peak falls
   below the mean power (the machines' logs do not overlap enough for a simultaneous peak); the
   demand charge, and with it the annual cost, when a demand charge is set and the peak is withheld;
