@@ -4,8 +4,10 @@
 //! values are worked by hand below.
 
 use super::*;
+use crate::core::model::CompressorSpec;
 use crate::core::model::Control;
 use crate::core::recommend::tests::site;
+use crate::core::recommend::CostOverrides;
 use crate::core::series::{FrameColumn, Grid, Signal};
 use crate::core::states::tests::spec;
 
