@@ -35,6 +35,8 @@ struct FindingsPage {
     spans: Vec<(String, String)>,
     /// The charts, by section, drawn as inline SVG.
     plots: FindingsPlots,
+    /// Treatment records stored before the checks of today and outside them, in words.
+    outside_bounds: Vec<String>,
 }
 
 async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage, AppError> {
@@ -61,7 +63,14 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
             (at(&u.first), at(&u.last))
         })
         .collect();
+    let outside_bounds = app
+        .treatment_outside_bounds(id, fmt.units)
+        .await?
+        .iter()
+        .map(|o| super::treatment::outside_line(o, fmt.units))
+        .collect();
     Ok(FindingsPage {
+        outside_bounds,
         other_units,
         other_units_label,
         tests: test_rows(&b.field_tests, &fmt, &tz),
