@@ -361,7 +361,57 @@ pub fn records(items: &[audits::TreatmentItemRecord]) -> Records {
     out
 }
 
+/// A stored record that the checks of today refuse: stored before them (`core::treatment::bounds`,
+/// or an end use above a plant's pressure since lowered), it still reads and is priced, and the
+/// pages flag it so that the user edits it.
+#[derive(Debug, Clone)]
+pub struct OutsideBounds {
+    pub kind: ItemKind,
+    pub id: i64,
+    /// Its tag, or an end use's name.
+    pub name: String,
+    /// Every refusal its values would get now, in the units asked for.
+    pub refusals: Vec<TreatmentError>,
+}
+
+/// A stored record read back as the input it was posted as.
+fn stored_input(r: &audits::TreatmentItemRecord) -> Option<TreatmentInput> {
+    let body = r.body.as_str();
+    match r.kind.as_str() {
+        "dryer" => serde_json::from_str(body).ok().map(TreatmentInput::Dryer),
+        "drain" => serde_json::from_str(body).ok().map(TreatmentInput::Drain),
+        "end_use" => serde_json::from_str(body).ok().map(TreatmentInput::EndUse),
+        "filter" => serde_json::from_str(body).ok().map(TreatmentInput::Filter),
+        _ => None,
+    }
+}
+
 impl App {
+    /// The audit's stored records outside the checks of today ([`OutsideBounds`]), their refusals
+    /// in `units`, in the order they are stored.
+    pub async fn treatment_outside_bounds(
+        &self,
+        audit_id: i64,
+        units: UnitSystem,
+    ) -> Result<Vec<OutsideBounds>> {
+        let plant = Plant { units, ..self.treatment_plant(audit_id).await? };
+        let items = audits::treatment_items(self.db(), audit_id).await?;
+        Ok(items
+            .iter()
+            .filter_map(|r| {
+                let input = stored_input(r)?;
+                let refusals = input.refusals(&plant);
+                let name = match &input {
+                    TreatmentInput::EndUse(i) => i.name.clone(),
+                    TreatmentInput::Dryer(DryerInput { tag, .. })
+                    | TreatmentInput::Drain(DrainInput { tag, .. })
+                    | TreatmentInput::Filter(FilterInput { tag, .. }) => tag.clone(),
+                };
+                (!refusals.is_empty()).then(|| OutsideBounds { kind: input.kind(), id: r.id, name, refusals })
+            })
+            .collect())
+    }
+
     /// What an audit's records are checked against: its units and its plant's highest pressure.
     pub async fn treatment_plant(&self, audit_id: i64) -> Result<Plant> {
         let units = self.audit(audit_id).await?.site.display_units;

@@ -280,6 +280,13 @@ impl Dryer {
         errs
     }
 
+    /// Whether its purge or its electricity follows the air through it: a purging dryer under
+    /// dew-point control, or a cycling refrigerated one. Such a dryer needs the plant's mean flow.
+    pub fn follows_load(&self) -> bool {
+        (self.control == DryerControl::DewPoint && self.purge_fraction() > 0.0)
+            || self.kind == DryerKind::RefrigeratedCycling
+    }
+
     pub fn purge_fraction(&self) -> f64 {
         if self.kind.purges() {
             self.purge_fraction.unwrap_or(self.kind.default_purge_fraction())

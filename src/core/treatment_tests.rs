@@ -244,7 +244,7 @@ fn plant_figures_by_hand() {
         ],
     };
     let plant = PlantFigures {
-        mean_flow_m3_min: 10.0,
+        mean_flow_m3_min: Some(10.0),
         production_share_of_time: 0.5,
         annual_running_hours: 6000.0,
         annual_production_hours: 4000.0,
@@ -254,11 +254,12 @@ fn plant_figures_by_hand() {
         leak_flow_m3_min: Some(3.0),
     };
     let (t, split) = figures(&records, &plant, &site).unwrap();
+    let split = split.expect("a split of the known mean flow");
     // Purge 1.5 m³/min x 6 x 6000 = 54,000 kWh, 10,800 a year; the dryer sees 10 of 10 m³/min,
     // so dew-point control saves nothing at full load.
     assert!((t.dryers[0].annual_purge_kwh - 54_000.0).abs() < 1e-6);
     assert!((t.dryers[0].annual_purge_cost - 10_800.0).abs() < 1e-6);
-    assert!(t.dryers[0].dew_point_control_saving_kwh.abs() < 1e-9);
+    assert!(t.dryers[0].dew_point_control_saving_kwh.unwrap().abs() < 1e-9);
     assert_eq!(t.drains[0].air_m3_min, 0.0);
     // Blow-off: 1.0 m³/min over 4000 h x 6 = 24,000 kWh of air, less 0.5 x 2 x 4000 = 4,000 kWh.
     assert!((t.end_uses[1].alternative_saving_kwh.unwrap() - 20_000.0).abs() < 1e-6);
@@ -297,7 +298,7 @@ fn filter_excess_drop_follows_the_flow_squared_rule_by_hand() {
     // In the transmission figures: the whole mean flow passes the filter; change above 0.1 bar.
     let records = Records { filters: vec![filter(0.10, 0.45), filter(0.10, 0.15)], ..Default::default() };
     let plant = PlantFigures {
-        mean_flow_m3_min: 8.0,
+        mean_flow_m3_min: Some(8.0),
         production_share_of_time: 1.0,
         annual_running_hours: 8000.0,
         annual_production_hours: 8000.0,
@@ -307,6 +308,7 @@ fn filter_excess_drop_follows_the_flow_squared_rule_by_hand() {
         leak_flow_m3_min: None,
     };
     let (t, split) = figures(&records, &plant, &sea_level()).unwrap();
+    let split = split.expect("a split of the known mean flow");
     assert!((t.filters[0].excess_drop_bar - 0.386).abs() < 1e-12);
     assert!(t.filters[0].change_recommended);
     // 0.15 - 0.064 = 0.086 bar: under the 0.1 bar threshold.
@@ -359,7 +361,7 @@ fn non_cycling_refrigerated_dryer_saving_by_hand() {
     assert!((cycling.figures(FreeAirFlow::from_m3_min(2.0)).power_kw - 0.8).abs() < 1e-12);
     assert_eq!(cycling.figures(FreeAirFlow::from_m3_min(5.0)).cycling_saving_kw, 0.0);
     let plant = PlantFigures {
-        mean_flow_m3_min: 5.0,
+        mean_flow_m3_min: Some(5.0),
         production_share_of_time: 1.0,
         annual_running_hours: 8000.0,
         annual_production_hours: 8000.0,
@@ -369,6 +371,71 @@ fn non_cycling_refrigerated_dryer_saving_by_hand() {
         leak_flow_m3_min: None,
     };
     let (t, _) = figures(&Records { dryers: vec![d], ..Default::default() }, &plant, &sea_level()).unwrap();
-    assert!((t.dryers[0].cycling_saving_kwh - 24_000.0).abs() < 1e-9);
-    assert!((t.dryers[0].load - 0.25).abs() < 1e-12);
+    assert!((t.dryers[0].cycling_saving_kwh.unwrap() - 24_000.0).abs() < 1e-9);
+    assert!((t.dryers[0].load.unwrap() - 0.25).abs() < 1e-12);
+}
+
+#[test]
+fn without_a_mean_flow_only_what_needs_it_is_left_out() {
+    // A fixed-cycle heatless dryer (10 m³/min, 15 %), the same under dew-point control, a timer
+    // drain, 8 tools of 1 m³/min at a duty of 0.5, a filter; 6 kW/(m³/min) marginal, 6,000 running
+    // h. No mean flow known: the fixed cycle purges 10 × 0.15 = 1.5 m³/min at any flow (1.5 × 6 ×
+    // 6,000 = 54,000 kWh a year), the drain loses what its orifice and line pressure give, the
+    // tools use 8 × 1 × 0.5 = 4 m³/min in production; the dew-point dryer's purge, the filter's
+    // drop at the flow, the fixed cycle's saving by dew-point control and the split need the flow.
+    let site = sea_level();
+    let dryer = Dryer {
+        tag: "D1".into(),
+        kind: DryerKind::HeatlessDesiccant,
+        rated_flow: FreeAirFlow::from_m3_min(10.0),
+        purge_fraction: Some(0.15),
+        power_kw: 0.2,
+        control: DryerControl::FixedCycle,
+    };
+    let records = Records {
+        dryers: vec![dryer.clone(), Dryer { tag: "D2".into(), control: DryerControl::DewPoint, ..dryer }],
+        drains: vec![timer(3.0, 5.0, 300.0, None)],
+        filters: vec![filter(0.10, 0.45)],
+        end_uses: vec![EndUse {
+            name: "tools".into(),
+            kind: EndUseKind::Tool,
+            count: 8,
+            flow_m3_min: Some(1.0),
+            orifice_mm: None,
+            pressure_bar_g: None,
+            duty: 0.5,
+            regulated: true,
+            alternative_kw: None,
+        }],
+    };
+    let known = PlantFigures {
+        mean_flow_m3_min: Some(8.0),
+        production_share_of_time: 0.5,
+        annual_running_hours: 6000.0,
+        annual_production_hours: 4000.0,
+        marginal_kw_per_m3_min: 6.0,
+        price_per_kwh: 0.2,
+        line_pressure_bar_g: 7.0,
+        leak_flow_m3_min: None,
+    };
+    let (t, split) = figures(&records, &PlantFigures { mean_flow_m3_min: None, ..known }, &site).unwrap();
+    assert!(split.is_none(), "no split of an unknown flow");
+    assert_eq!(t.dryers.len(), 1, "the dew-point dryer's purge follows the flow");
+    let d = &t.dryers[0];
+    assert_eq!(d.tag, "D1");
+    assert!((d.purge_m3_min - 1.5).abs() < 1e-12);
+    assert!((d.annual_purge_kwh - 54_000.0).abs() < 1e-6);
+    assert_eq!(
+        (d.load, d.dew_point_control_saving_m3_min, d.dew_point_control_saving_kwh),
+        (None, None, None)
+    );
+    assert_eq!(d.cycling_saving_kw, Some(0.0), "no cycling saving on a desiccant dryer at any flow");
+    assert!(t.filters.is_empty());
+    assert!((t.end_uses[0].production_mean_flow_m3_min - 4.0).abs() < 1e-12);
+    // The drain's loss and the tools' air are those of the same records with the flow known.
+    let (with, _) = figures(&records, &known, &site).unwrap();
+    assert!(t.drains[0].air_m3_min > 0.0);
+    assert_eq!(t.drains, with.drains);
+    assert_eq!(t.end_uses, with.end_uses);
+    assert_eq!(with.dryers.len(), 2);
 }

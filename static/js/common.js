@@ -200,16 +200,22 @@ window.airledger = {
 };
 // A number stays with its unit when a line wraps (on screen and in print): in figures, the space
 // after a digit that is followed by a unit becomes a no-break space (in every table cell: a measure
-// names its flow in its title), and a unit of several words stays whole ("t CO₂", "US gal"; "free
+// names its flow in its title; a price "per 1000 m³" too), a range stays whole (a word joiner after its en dash: "2.72–2.89
+// m³/min" never ends a line at "–"), and a unit of several words stays whole ("t CO₂", "US gal"; "free
 // air" is one word, which may go to the next line after its unit: a table's flow column stays as
 // narrow as "12.5 m³/min", so the findings fit an A4 line). The same holds in the page's main text (a figure's note, the verdict, the methods,
 // the field tests in words), but not in its forms, whose texts are read back as typed.
 (function joinNumbersToUnits() {
   const join = (n) => {
-    n.nodeValue = n.nodeValue
+    // A column too narrow for a range whole (the printed measures' range, td.range) says it
+    // "11,482 to 18,127 EUR", which may wrap after "to".
+    const narrow = n.parentElement && n.parentElement.closest("td.range");
+    n.nodeValue = (narrow ? n.nodeValue.replace(/(\d)–(?=\d)/g, "$1 to ") : n.nodeValue)
       .replace(/(\d) (?=[^\s\d(–-])/g, "$1\u00a0")
+      .replace(/(\d)–(?=\d)/g, "$1–\u2060")
       .replace(/(\d\u00a0\S+) (?=CO₂|gal\b|abs\b)/g, "$1\u00a0")
-      .replace(/\bfree air\b/g, "free\u00a0air");
+      .replace(/\bfree air\b/g, "free\u00a0air")
+      .replace(/\bper (?=1000\b)/g, "per\u00a0");
   };
   for (const el of document.querySelectorAll("table.data td, table.data th, .figure-value, dl.facts dd")) {
     const w = document.createTreeWalker(el, NodeFilter.SHOW_TEXT);

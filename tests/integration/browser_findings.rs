@@ -146,7 +146,7 @@ fn measures_print_in_sensible_columns(layout: &str, units: &str, measures: usize
 /// starts the next line ("168.0" / "h"), or a unit of several words broken between its words
 /// ("14.9 t" / "CO₂", "1,981 US" / "gal", "free" / "air"). A flow's reference, "free air", may
 /// start the next line after its unit ("12.5 m³/min" / "free air"), so that a table's flow column
-/// fits an A4 line.
+/// fits an A4 line. A range ends no line at its en dash ("2.72–" / "2.89 m³/min").
 pub(super) fn numbers_split_from_units(text: &str) -> Vec<String> {
     const UNITS: &[&str] = &[
         "h", "min", "s", "kW", "kWh", "MWh", "GWh", "%", "bar", "bar(g)", "psi", "psig", "psia", "cfm",
@@ -171,7 +171,12 @@ pub(super) fn numbers_split_from_units(text: &str) -> Vec<String> {
         };
         let number = last.chars().last().is_some_and(|c| c.is_ascii_digit());
         let unit = first.trim_end_matches([',', ';', ')', '.', ':']);
-        if (number && UNITS.contains(&unit)) || JOINED.iter().any(|&(a, b)| last == a && first.starts_with(b))
+        let range = last.ends_with('–')
+            && last.chars().any(|c| c.is_ascii_digit())
+            && first.chars().next().is_some_and(|c| c.is_ascii_digit());
+        if (number && UNITS.contains(&unit))
+            || range
+            || JOINED.iter().any(|&(a, b)| last == a && first.starts_with(b))
         {
             let before = w[0].split_whitespace().collect::<Vec<_>>();
             let ctx = before[before.len().saturating_sub(3)..].join(" ");
@@ -208,6 +213,18 @@ fn printed_findings_keep_every_number_with_its_unit() {
         for whole in ["t CO₂", "free air"] {
             let found = text.contains(whole) || text.contains(&whole.replace(' ', "\u{a0}"));
             assert!(found, "{units}: no {whole:?} on one line of the PDF");
+        }
+        // The leak's likely range prints on one line with its unit (the word joiner after the en
+        // dash is invisible; pdftotext may write it), from the summary's own low and high.
+        if units == "si" {
+            let l = &server.get("/api/v1/audits/1/summary").json()["leaks"];
+            let range = format!(
+                "{:.2}–{:.2} m³/min",
+                l["adopted_leak_flow_m3_min_low"].as_f64().unwrap(),
+                l["adopted_leak_flow_m3_min_high"].as_f64().unwrap()
+            );
+            let mut whole = text.lines().map(|x| x.replace(['\u{2060}'], "").replace('\u{a0}', " "));
+            assert!(whole.any(|x| x.contains(&range)), "{units}: {range:?} is not on one line of the PDF");
         }
     }
 }

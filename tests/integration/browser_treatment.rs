@@ -96,7 +96,7 @@ fn a_dryer_edited_in_us_units_keeps_its_si_value() {
     assert!(severe.is_empty(), "console errors (SEVERE):\n{}", severe.join("\n"));
 }
 
-/// Issue 16: an end use at 300 psig on a plant whose compressor makes 7.5 bar(g) (108.78 psig, quoted 108.7) and
+/// Issue 16: an end use at 300 psig on a plant whose compressor makes 7.5 bar(g) (108.78 psig, quoted 108.7 inward) and
 /// a 5 in opening are refused beside their fields, in psig and inches, with what was typed kept
 /// in the form; ticking "fed through a booster" then stores it.
 #[test]
@@ -153,4 +153,49 @@ fn an_implausible_end_use_is_refused_beside_its_fields_keeping_what_was_typed() 
     assert_eq!(uses["end_uses"][0]["boosted"], true, "{uses}");
     let rows = b.js_str("return document.getElementById('treatment-items').innerText");
     assert!(rows.contains("through a booster"), "{rows}");
+
+    // A duty of 150 % and a dryer's purge of 150 %: the forms are `novalidate`, so the browser's
+    // own bubble (the inputs' max of 100) does not stop the post one field at a time, and our
+    // refusal stands beside the field, the typed value kept.
+    for (list, fill, field) in [
+        (
+            "end-uses",
+            "f.elements.name.value = 'nozzles'; f.elements.kind.value = 'tool'; f.elements.flow_m3_min.value = '10'; \
+             f.elements.duty_percent.value = '150';",
+            "duty_percent",
+        ),
+        (
+            "dryers",
+            "f.elements.tag.value = 'D9'; f.elements.kind.value = 'heatless_desiccant'; \
+             f.elements.rated_flow_m3_min.value = '350'; f.elements.purge_percent.value = '150';",
+            "purge_percent",
+        ),
+    ] {
+        b.goto(&s.url(&page));
+        let form = format!("form[action$=\"/treatment/{list}\"]");
+        let valid = b.js(
+            &format!("const f = document.querySelector(arguments[0]); {fill} return [f.noValidate, f.checkValidity()];"),
+            json!([form]),
+        );
+        assert_eq!(valid[0], true, "{list}: the form is not novalidate");
+        assert_eq!(valid[1], false, "{list}: the browser's own limits would have stopped the post");
+        b.js("document.querySelector(arguments[0]).requestSubmit()", json!([form]));
+        let refused = wait_until(Duration::from_secs(30), || {
+            b.js(
+                "return document.readyState === 'complete' && document.querySelectorAll('.field-error').length > 0",
+                json!([]),
+            ) == true
+        });
+        assert!(refused, "{list}: no refusal beside the field");
+        let beside = b.js(
+            "const f = document.querySelector(arguments[0]);
+             return [...f.querySelectorAll('.field-error')].map((e) => [e.previousElementSibling.name,
+                     e.textContent, e.previousElementSibling.value]);",
+            json!([form]),
+        );
+        let row = beside.as_array().unwrap().iter().find(|r| r[0] == field).cloned();
+        let row = row.unwrap_or_else(|| panic!("{list}: nothing beside {field}: {beside}"));
+        assert!(row[1].as_str().unwrap().contains("150"), "{beside}");
+        assert_eq!(row[2], "150", "the typed value is kept");
+    }
 }

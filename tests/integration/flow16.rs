@@ -43,6 +43,32 @@ fn a_counter_that_hides_the_loading_leaves_no_demand_to_replay_and_the_page_says
     let r = s.upload(id, "counter.csv", file.as_bytes(), &mapping(counter_columns("C1")), "");
     assert_eq!(r.status, 201, "{}", r.text);
 
+    // The summary: no air read from the states of a machine known only through its counter (a
+    // walk found a mean flow of 0.000 m³/min (estimated) beside 26 kW), with the reason, and the
+    // report says "not enough data" with it.
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert!((sm["system"]["mean_power_kw"].as_f64().unwrap() - 26.0).abs() < 1e-6, "{}", sm["system"]);
+    for f in ["air_m3", "mean_flow_m3_min", "peak_flow_m3_min"] {
+        assert!(sm["system"][f].is_null(), "system.{f} = {}", sm["system"][f]);
+    }
+    let why = "no flow is known: no flow meter was logged, and the air cannot be read from the compressors' \
+               states: C1's power was logged only as an energy counter, whose readings are means over each \
+               interval and do not show when a machine loaded or unloaded";
+    let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
+    assert!(
+        withheld.iter().any(|w| w["figure"] == "system.mean_flow_m3_min" && w["reason"] == why),
+        "{withheld:?}"
+    );
+    let report = s.get(&format!("/audits/{id}/report")).text;
+    let at = report.find("<dt>Mean flow</dt>").expect("the mean flow");
+    let cell = &report[at + report[at..].find("<dd>").unwrap() + 4..];
+    assert!(
+        cell.starts_with(&format!("not enough data ({})", why.replace('\'', "&#39;"))),
+        "{}",
+        &cell[..300]
+    );
+    assert!(!report.contains("0.000 m³/min"), "a zero flow on the page");
+
     // Act: the baseline and one change.
     let base =
         s.post_json(&format!("/api/v1/audits/{id}/scenarios"), &json!({"name": "baseline", "changes": []}));
@@ -141,10 +167,10 @@ fn a_window_on_the_counter_only_day_gives_no_flow_and_says_why() {
 
 #[test]
 fn machines_logged_apart_without_a_meter_give_no_flow_and_the_pages_say_not_enough_data() {
-    // C1's counter on Monday from 06:00Z, C2's on Tuesday, a day apart, no flow meter: the air
-    // read from the states needs both machines' states in one time step, which none has. Each
-    // counter rises 40 kW a quarter hour for 8 h, which reads loaded (above the midpoint of 25 %
-    // and 100 % of 55 kW), so each machine alone would give its air.
+    // C1's counter on Monday from 06:00Z, C2's on Tuesday, a day apart, no flow meter: a counter's
+    // readings are means over each quarter hour, so no machine's states, and no air, can be read
+    // from them (each rises 40 kW a quarter hour for 8 h, which would read loaded: above the
+    // midpoint of 25 % and 100 % of 55 kW).
     let s = Server::start();
     let id = s.audit_in_chicago("apart", "us");
     let r = s.post_json(
@@ -161,9 +187,9 @@ fn machines_logged_apart_without_a_meter_give_no_flow_and_the_pages_say_not_enou
     let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
     assert_eq!(sm["system"]["flow_source"], "estimated_from_compressor_states");
     assert!(sm["system"]["mean_flow_m3_min"].is_null() && sm["system"]["peak_flow_m3_min"].is_null());
-    let why = "no flow is known: no flow meter was logged, and the air read from the compressors' states \
-               needs a state for every compressor with a power log in the same time step, which no time \
-               step of the period analysed has";
+    let why = "no flow is known: no flow meter was logged, and the air cannot be read from the compressors' \
+               states: the power of C1, C2 was logged only as energy counters, whose readings are means over \
+               each interval and do not show when a machine loaded or unloaded";
     let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
     assert!(withheld.iter().any(|w| w["figure"] == "system.mean_flow_m3_min" && w["reason"] == why));
 
@@ -183,11 +209,47 @@ fn machines_logged_apart_without_a_meter_give_no_flow_and_the_pages_say_not_enou
     row(&findings, "<th>Peak flow, highest", "</th>", "<td>");
 }
 
+/// A purging dryer on a fixed cycle, another under dew-point control, a timer drain, a filter and
+/// an end use rated on its own.
+fn post_records(s: &Server, id: i64) {
+    let post = |list: &str, body: Value| {
+        let r = s.post_json(&format!("/api/v1/audits/{id}/{list}"), &body);
+        assert_eq!(r.status, 201, "{list}: {}", r.text);
+    };
+    post(
+        "dryers",
+        json!({"tag": "D1", "kind": "heatless_desiccant", "rated_flow_m3_min": 10, "purge_fraction": 0.15,
+                "power_kw": 0.3, "control": "fixed_cycle"}),
+    );
+    post(
+        "dryers",
+        json!({"tag": "D2", "kind": "heatless_desiccant", "rated_flow_m3_min": 10, "purge_fraction": 0.15,
+                "power_kw": 0.3, "control": "dew_point"}),
+    );
+    post(
+        "drains",
+        json!({"tag": "T1", "kind": "timer", "open_s": 5, "interval_s": 300, "orifice_mm": 3.0,
+               "discharge_coefficient": 0.61}),
+    );
+    post(
+        "filters",
+        json!({"tag": "F1", "kind": "coalescing", "rated_flow_m3_min": 10, "clean_drop_bar": 0.1,
+               "measured_drop_bar": 0.6}),
+    );
+    post(
+        "end-uses",
+        json!({"name": "nutrunners", "kind": "tool", "count": 2, "flow_m3_min": 0.5, "duty": 0.5,
+               "regulated": true}),
+    );
+}
+
 #[test]
-fn a_window_with_power_and_no_flow_leaves_the_treatment_records_unpriced_and_says_why() {
+fn a_window_with_power_and_no_flow_prices_only_the_records_that_do_not_need_it() {
     // C1 (55 kW) cycling every 200 s, 40 s loaded at 56 kW, else 14 kW, for two days at 10 s; the
-    // flow meter logged the second day only (9.5 m³/min loaded, 0 unloaded). A purging dryer on
-    // record. The first day alone: a day of power is thin data, and no flow is known in it.
+    // flow meter logged the second day only (9.5 m³/min loaded, 0 unloaded). On record: a purging
+    // dryer on a fixed cycle, another under dew-point control, a timer drain, a filter and an end
+    // use rated on its own. The first day alone: a day of power is thin data, and no flow is known
+    // in it.
     let s = Server::start();
     let id = s.audit_in_chicago("meter on day 2", "si");
     let mut file = String::from("time,C1 kW,flow m3/min\n");
@@ -212,31 +274,75 @@ fn a_window_with_power_and_no_flow_leaves_the_treatment_records_unpriced_and_say
                          {"column": "flow m3/min", "quantity": "flow", "unit": "m3_min"}]);
     let r = s.upload(id, "plant.csv", file.as_bytes(), &mapping(columns), "");
     assert_eq!(r.status, 201, "{}", r.text);
-    let r = s.post_json(
-        &format!("/api/v1/audits/{id}/dryers"),
-        &json!({"tag": "D1", "kind": "heatless_desiccant", "rated_flow_m3_min": 10, "purge_fraction": 0.15,
-                "power_kw": 0.3, "control": "fixed_cycle"}),
-    );
-    assert_eq!(r.status, 201, "{}", r.text);
+    post_records(&s, id);
 
     let day =
         format!("from={}&to={}", jiff_like_rfc3339(NOV_13_2023), jiff_like_rfc3339(NOV_13_2023 + 86_400));
     let sm = s.get(&format!("/api/v1/audits/{id}/summary?{day}")).json();
     assert_eq!(sm["sufficiency"]["verdict"], "thin");
     assert!(sm["system"]["mean_flow_m3_min"].is_null());
-    assert_eq!(sm["transmission"]["dryers"], json!([]));
+    let t = &sm["transmission"];
+    // D1 purges 0.15 x 10 = 1.5 m³/min on its fixed cycle at any flow; what dew-point control
+    // would save of it, and its load, follow the air through it.
+    let dryers = t["dryers"].as_array().unwrap();
+    assert_eq!(dryers.len(), 1, "{t}");
+    assert_eq!(dryers[0]["tag"], "D1");
+    assert!((dryers[0]["purge_m3_min"].as_f64().unwrap() - 1.5).abs() < 1e-9, "{t}");
+    assert!(dryers[0]["annual_purge_kwh"].as_f64().unwrap() > 0.0);
+    assert!(dryers[0]["load"].is_null() && dryers[0]["dew_point_control_saving_m3_min"].is_null());
+    // The tools: 2 x 0.5 x 0.5 = 0.5 m³/min in production, their own rating.
+    assert!((t["end_uses"][0]["production_mean_flow_m3_min"].as_f64().unwrap() - 0.5).abs() < 1e-9, "{t}");
+    assert_eq!(t["filters"], json!([]));
     assert!(sm["demand_split"].is_null());
     let withheld = sm["sufficiency"]["withheld"].as_array().unwrap();
-    let t = withheld.iter().find(|w| w["figure"] == "transmission").expect("the records withheld");
+    let reason = |f: &str| {
+        withheld.iter().find(|w| w["figure"] == f).unwrap_or_else(|| panic!("{f} not withheld: {withheld:?}"))
+            ["reason"]
+            .as_str()
+            .unwrap()
+            .to_string()
+    };
+    let why = "(no flow is known: the flow meters on record logged no reading in the period analysed, and \
+               with a flow meter on record the air is not read from the compressors' states)";
     assert_eq!(
-        t["reason"],
-        "the treatment records and end uses are priced on the mean flow, which is not known (no flow is known: \
-         the flow meters on record logged no reading in the period analysed, and with a flow meter on record \
-         the air is not read from the compressors' states)"
+        reason("transmission.dryers[]"),
+        format!(
+            "D2: the purge under dew-point control, or a cycling unit's electricity, follows the air through \
+             the dryer, a share of the plant's mean flow {why}"
+        )
     );
-    // The whole log prices them on the metered day's mean, 9.5 × 40 / 200 = 1.9 m³/min: the fixed
-    // cycle purges 0.15 × 10 = 1.5 m³/min of it.
+    assert!(reason("transmission.dryers[].savings").starts_with("D1: what dew-point control"));
+    assert!(reason("transmission.filters[]")
+        .starts_with("F1: a filter's clean drop is read at the plant's mean flow"));
+    assert_eq!(reason("demand_split"), format!("the split is of the plant's mean flow {why}"));
+    assert!(!withheld.iter().any(|w| w["figure"] == "transmission"), "the records as a whole withheld");
+    // The whole log prices every record on the metered day's mean, 9.5 × 40 / 200 = 1.9 m³/min:
+    // the fixed cycle purges 1.5 m³/min of it; the drain loses what it loses in the window (no
+    // pressure logged: both at C1's rated pressure), and the filter is read at that flow.
     let whole = s.get(&format!("/api/v1/audits/{id}/summary")).json();
     assert!((whole["system"]["mean_flow_m3_min"].as_f64().unwrap() - 1.9).abs() < 0.01);
-    assert!((whole["transmission"]["dryers"][0]["purge_m3_min"].as_f64().unwrap() - 1.5).abs() < 1e-9);
+    let wt = &whole["transmission"];
+    assert!((wt["dryers"][0]["purge_m3_min"].as_f64().unwrap() - 1.5).abs() < 1e-9);
+    assert_eq!(wt["dryers"].as_array().unwrap().len(), 2);
+    assert_eq!(wt["filters"].as_array().unwrap().len(), 1);
+    let drain = t["drains"][0]["air_m3_min"].as_f64().unwrap();
+    assert!(drain > 0.0 && drain == wt["drains"][0]["air_m3_min"].as_f64().unwrap(), "{t} {wt}");
+    assert!(whole["demand_split"].is_object());
+
+    // The report of an audit whose whole log knows no flow (a quarter-hour counter, no meter)
+    // says each in words beside the records it prices.
+    let id = s.audit_in_chicago("counter and records", "si");
+    let file = quarter_hour_counter(NOV_13_2023, 288, 26.0);
+    let r = s.upload(id, "counter.csv", file.as_bytes(), &mapping(counter_columns("C1")), "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    post_records(&s, id);
+    let report = s.get(&format!("/audits/{id}/report")).text.replace("&#39;", "'");
+    assert!(report.contains("Dryer D1 (heatless desiccant"), "D1 priced");
+    assert!(report.contains("Dryers not priced"), "no row for D2");
+    assert!(report.contains("not enough data (D2: the purge under dew-point control"));
+    assert!(
+        report.contains("what a change of control would save: not enough data (D1: what dew-point control")
+    );
+    assert!(report.contains("not enough data (F1: a filter's clean drop"));
+    assert!(report.contains("Mean demand split"));
 }

@@ -121,6 +121,13 @@ fn a_counter_only_audit_gives_its_energy_but_no_states_rate_or_measure() {
         ),
         "{iso}"
     );
+    // No leak estimate, said from what is missing: no test on record, and no flow is known (the
+    // counter shows no states to read the air from), the words of the leaks table's note.
+    let why = "no leak estimate: no field test on record gives a leak flow, and no flow is known out of \
+               production hours to read leaks from; run a bleed-down or load/unload test";
+    assert_eq!(sm["leaks"]["adopted_rule"], why);
+    let leaks = row_text(&report, "Leaks, share of demand");
+    assert!(leaks.ends_with(&format!("not enough data {why}")), "{leaks}");
     let marginal = row_text(&report, "Marginal specific power (trim machine)");
     assert!(marginal.contains("not enough data it is read at the trim machine's load"), "{marginal}");
     let c1 = row_text(&report, "<tr><td>C1</td>");
@@ -131,6 +138,14 @@ fn a_counter_only_audit_gives_its_energy_but_no_states_rate_or_measure() {
     );
     let c2 = row_text(&report, "<tr><td>C2</td>");
     assert_eq!(c2, "C2 load/unload – – no power logged – – – – 17.0 kW/100 cfm");
+    // The findings, the same view for print: no measure, and no load bar for C1, its note instead.
+    let findings = s.get(&format!("/audits/{id}/findings")).text;
+    assert!(!findings.contains("Recover compressor heat"));
+    assert!(findings.contains("No measure is proposed: the measures are priced on the machines&#39; states"));
+    let at = findings.find("id=\"plot-load\"").expect("the load chart");
+    let svg = &findings[at..at + findings[at..].find("</svg>").unwrap()];
+    assert!(!svg.contains("data-row=\"C1\""), "a load bar for a counter");
+    assert!(svg.contains("not enough data (only an energy counter was logged"));
     // The peak power over the only window a 10-minute step allows, said as such (the counter read
     // every 10 min, 72 h over 600,000 bins needs no coarser step).
     let peak = row_text(&report, "Mean power / peak");

@@ -31,10 +31,9 @@ fn page_text(r: &Resp) -> String {
 fn an_end_use_above_the_plants_pressure_needs_a_booster() {
     let s = Server::start();
     // C1 is rated 7.5 bar(g) with no highest working pressure on its data sheet: the plant's
-    // highest is 7.5 bar(g) = 750 000 / 6 894.757 = 108.78 psig.
+    // highest is 7.5 bar(g) = 750 000 / 6 894.757 = 108.78 psig, quoted rounded inward to the
+    // field's 0.1 psig so that the value quoted is itself accepted: 108.7 psig.
     let id = s.us_audit_in_chicago("boosted");
-    // The limit is quoted rounded inward to the input's 0.1 psig (108.7), so that the figure quoted
-    // is itself accepted.
     let limit_psig = 7.5e5 / PA_PER_PSI;
     assert_eq!(format!("{:.1}", (limit_psig * 10.0).floor() / 10.0), "108.7");
     let page = s.get(&format!("/audits/{id}/treatment"));
@@ -77,7 +76,7 @@ fn an_end_use_above_the_plants_pressure_needs_a_booster() {
     assert_eq!(uses[1]["boosted"], true);
     let bar_g = uses[1]["pressure_bar_g"].as_f64().unwrap();
     assert!((bar_g - 300.0 * PA_PER_PSI / 1e5).abs() < 1e-9, "{bar_g}");
-    // A booster's highest, 50 bar(g) = 725.19 psig (quoted inward, 725.1), bounds every use.
+    // A booster's highest, 50 bar(g) = 725.19 psig (725.1 inward), bounds every use.
     let r = form("900", true);
     assert!(page_text(&r).contains("must be at most 725.1 psig"), "{}", r.text);
 
@@ -87,7 +86,7 @@ fn an_end_use_above_the_plants_pressure_needs_a_booster() {
     let body = json!({"name": "n", "kind": "open_blowing", "orifice_mm": 1.6, "pressure_bar_g": 8.0});
     let all = refusals(&s.post_json(&api, &body));
     assert_eq!(all[0].0, "pressure_bar_g");
-    // 8 bar(g) = 116.03 psig, said at the input's 0.1 psig with no trailing zero.
+    // 8 bar(g) = 116.03 psig, said rounded as every figure is.
     assert!(all[0].1.starts_with("116 psig is above the 108.7 psig"), "{}", all[0].1);
     let c1 = json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
                     "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5,
@@ -264,4 +263,81 @@ fn the_findings_say_a_ranges_unit_once() {
         assert!(page.contains(&want), "{units}: no {want:?} in the leak note");
         assert!(!page.contains("free air to "), "{units}: a range repeats its unit");
     }
+}
+
+/// Issue 16: a record stored before today's checks (a purge of 60 % of rated flow, written into
+/// the database as an older version would have kept it) and an end use above a plant's pressure
+/// since lowered (C1's highest working pressure removed from its data sheet) still read and are
+/// priced as stored, and the treatment page and the findings flag each with the bound it breaks,
+/// in the reader's units, so that the user edits it; a record within them is not flagged.
+#[test]
+fn records_stored_before_the_bounds_are_flagged_with_the_bound() {
+    let s = Server::start();
+    let id = s.us_audit_in_chicago("old records");
+    let cid = s.get(&format!("/api/v1/audits/{id}")).json()["compressors"][0]["id"].as_i64().unwrap();
+    let c1 = |max: Option<f64>| {
+        json!({"tag": "C1", "kind": "lubricated_screw", "control": "load_unload", "cooling": "air",
+               "rated_power_kw": 55, "rated_flow_m3_min": 9.5, "rated_pressure_bar_g": 7.5,
+               "max_pressure_bar_g": max})
+    };
+    assert_eq!(s.put_json(&format!("/api/v1/audits/{id}/compressors/{cid}"), &c1(Some(8.5))).status, 200);
+    let post = |list: &str, body: Value| {
+        let r = s.post_json(&format!("/api/v1/audits/{id}/{list}"), &body);
+        assert_eq!(r.status, 201, "{list}: {}", r.text);
+    };
+    post(
+        "dryers",
+        json!({"tag": "D1", "kind": "heatless_desiccant", "rated_flow_m3_min": 10, "purge_fraction": 0.15,
+               "power_kw": 0.3, "control": "fixed_cycle"}),
+    );
+    post(
+        "end-uses",
+        json!({"name": "blow-off", "kind": "open_blowing", "orifice_mm": 1.6, "pressure_bar_g": 8.0}),
+    );
+    post("drains", json!({"tag": "T1", "kind": "timer", "open_s": 5, "interval_s": 300, "orifice_mm": 3.0}));
+    // The dryer as an older version stored it: a purge of 60 %, refused today.
+    let db = s.db.clone();
+    crate::ingest::on_db(&db, |pool| async move {
+        let body: String = sqlx::query_scalar("SELECT body FROM treatment_item WHERE kind = 'dryer'")
+            .fetch_one(&pool)
+            .await
+            .unwrap();
+        let mut v: Value = serde_json::from_str(&body).unwrap();
+        v["purge_fraction"] = json!(0.6);
+        sqlx::query("UPDATE treatment_item SET body = ? WHERE kind = 'dryer'")
+            .bind(v.to_string())
+            .execute(&pool)
+            .await
+            .unwrap();
+    });
+    assert_eq!(s.put_json(&format!("/api/v1/audits/{id}/compressors/{cid}"), &c1(None)).status, 200);
+    assert_eq!(s.get(&format!("/api/v1/audits/{id}/dryers")).json()["dryers"][0]["purge_fraction"], 0.6);
+    // A day of C1 cycling with a flow meter: the records are priced, the dryer as stored, 0.6 × 10
+    // = 6 m³/min of purge on its fixed cycle.
+    let r = s.upload(id, "cycle.csv", cycling_csv(24).as_bytes(), &cycling_mapping(), "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let sm = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    let purged = sm["transmission"]["dryers"][0]["purge_m3_min"].as_f64().unwrap();
+    assert!((purged - 6.0).abs() < 1e-9, "{}", sm["transmission"]);
+
+    // The bounds, from `core::treatment::bounds`: a purge at most 50 % of rated flow; a use at most
+    // the plant's 7.5 bar(g) = 108.78 psig, quoted 108.7 (inward); 8 bar(g) = 116.03 psig said 116.
+    let purge = "Purge (share of rated flow): must be from 0 % to 50 % of rated flow (a heatless desiccant \
+                 dryer purges 15–20 %; one purging more than half is not drying air), got 60 %";
+    let pressure = "Pressure at the use: 116 psig is above the 108.7 psig the plant's compressors can make";
+    let page = s.get(&format!("/audits/{id}/treatment"));
+    let text = page_text(&page);
+    assert_eq!(
+        text.matches("class=\"warn outside-bounds\"").count(),
+        2,
+        "the drain within the bounds flagged"
+    );
+    assert!(text.contains(&format!("Outside the bounds checked now (stored before them, it is still priced as stored): {purge}. Edit it")), "{text}");
+    assert!(text.contains(pressure), "{text}");
+    let findings = page_text(&s.get(&format!("/audits/{id}/findings")));
+    let at = findings.find("id=\"outside-bounds\"").expect("the findings flag the records");
+    let list = &findings[at..at + findings[at..].find("</div>").unwrap()];
+    assert!(list.contains(&format!("<li>Dryer D1: {purge}</li>")), "{list}");
+    assert!(list.contains(&format!("<li>End use blow-off: {pressure}")), "{list}");
+    assert!(!list.contains("T1"), "{list}");
 }

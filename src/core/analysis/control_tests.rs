@@ -6,6 +6,7 @@ use super::tests::{col, cycle_energy, MONDAY_MS};
 use super::*;
 use crate::core::model::Control;
 use crate::core::recommend::tests::site;
+use crate::core::recommend::CostOverrides;
 use crate::core::recommend::MeasureKind;
 use crate::core::series::{Grid, Signal};
 use crate::core::states::tests::spec;

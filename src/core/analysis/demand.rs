@@ -114,6 +114,23 @@ pub(super) fn flow_unknown(d: &super::DataFigures) -> Option<String> {
         "the flow meters on record logged no reading in the period analysed, and with a flow meter on \
          record the air is not read from the compressors' states"
             .into()
+    } else if d.power_from_counter.iter().any(|&c| c) {
+        let tags: Vec<&str> = d
+            .spec
+            .compressors
+            .iter()
+            .zip(&d.power_from_counter)
+            .filter(|(_, &c)| c)
+            .map(|(c, _)| c.tag.as_str())
+            .collect();
+        let whose = match tags.as_slice() {
+            [one] => format!("{one}'s power was logged only as an energy counter"),
+            _ => format!("the power of {} was logged only as energy counters", tags.join(", ")),
+        };
+        format!(
+            "no flow meter was logged, and the air cannot be read from the compressors' states: {whose}, \
+             whose readings are means over each interval and do not show when a machine loaded or unloaded"
+        )
     } else if d.power_logged.iter().any(|&p| p) {
         "no flow meter was logged, and the air read from the compressors' states needs a state for every \
          compressor with a power log in the same time step, which no time step of the period analysed has"

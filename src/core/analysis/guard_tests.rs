@@ -5,7 +5,9 @@ use proptest::prelude::*;
 
 use super::*;
 use crate::core::model::Control;
+use crate::core::model::{CompressorSpec, SiteSpec};
 use crate::core::recommend::tests::site;
+use crate::core::recommend::CostOverrides;
 use crate::core::recommend::{MeasureKind, Part, Quantity};
 use crate::core::series::{FrameColumn, Grid, Signal};
 use crate::core::states::tests::{cycling_power, spec};

@@ -135,6 +135,21 @@ pub fn disagreement_warning(leak_estimates: &[LeakEstimate], acc: &Accuracy) -> 
     ])
 }
 
+/// Why there is no leak estimate, said from what is missing: no field test on record gives a leak
+/// flow, and the flow out of production hours is not known, or there are no such hours, or it is
+/// no more than the purge and drain air on record (`with_non_production`: that flow is known).
+fn no_estimate(x: &LeakContext, with_non_production: bool) -> String {
+    let logs = if with_non_production {
+        "the mean flow out of production hours is no more than the purge and drain air on record"
+    } else if x.mean_flow.is_some() && x.production_share >= 1.0 {
+        "every time step analysed is a production hour, so no flow out of production hours is there to read \
+         leaks from"
+    } else {
+        "no flow is known out of production hours to read leaks from"
+    };
+    format!("no leak estimate: no field test on record gives a leak flow, and {logs}; run a bleed-down or load/unload test")
+}
+
 /// The leak figures (module doc).
 pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> LeakFigures {
     let (acc, q_prod, q_nonprod, u_flow) = (x.acc, x.q_prod, x.q_nonprod, x.u_flow);
@@ -197,7 +212,7 @@ pub(super) fn leak_figures(leak_estimates: &[LeakEstimate], x: &LeakContext) -> 
         let text = format!("mean flow in non-production hours, {purge}, {corrected}");
         (Some(q), u_flow, text, Some(band(q, u_flow)))
     } else {
-        (None, 0.0, "no leak estimate: run a bleed-down or load/unload test".to_string(), None)
+        (None, 0.0, no_estimate(x, non_production.is_some()), None)
     };
     if let Some(q) = q_leak_np {
         let (lo, hi) = band(q, u_flow);

@@ -4,6 +4,7 @@
 
 use super::tests::{col, run, week, MONDAY_MS};
 use super::*;
+use crate::core::model::CompressorSpec;
 use crate::core::series::{Grid, Signal};
 use crate::core::units::PressureAbs;
 

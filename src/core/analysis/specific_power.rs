@@ -35,20 +35,31 @@ pub(super) struct SystemFlow {
     pub estimated: bool,
 }
 
-/// The metered system flow when there is one (taken, not copied), else the compressors' estimate.
+/// The metered system flow when there is one (taken, not copied), else the compressors' estimate:
+/// none when a machine's power is known only from an energy counter (`FrameColumn::from_counter`),
+/// whose readings are means over each interval and show no loading or unloading, so that machine's
+/// air cannot be read from its states (a quarter-hour counter at 26 kW read 0.000 m³/min).
 pub(super) fn system_flow(frame: &Frame, logged: &Logged) -> SystemFlow {
     let n = frame.grid.len;
     let partial = frame.system_flow_partial().to_vec();
     let (values, source, estimated) = match frame.system_flow() {
         Some(q) => (Some(q), FlowSource::Measured, false),
         None => (
-            sum_columns(n, logged.est_flow.iter().flatten().map(|v| v.as_slice())),
+            (!counter_logged(frame, logged))
+                .then(|| sum_columns(n, logged.est_flow.iter().flatten().map(|v| v.as_slice())))
+                .flatten(),
             FlowSource::EstimatedFromCompressorStates,
             true,
         ),
     };
     let partial = if estimated { Vec::new() } else { partial };
     SystemFlow { values, partial, source, estimated }
+}
+
+/// Whether some compressor's logged power is only an energy counter (its states unknown).
+pub(super) fn counter_logged(frame: &Frame, logged: &Logged) -> bool {
+    (0..logged.powers.len())
+        .any(|i| logged.powers[i].is_some() && frame.power_of(i).is_some_and(|c| c.from_counter))
 }
 
 /// The flow that specific power may divide the logged power by: the air of the compressors whose

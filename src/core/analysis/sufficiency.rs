@@ -54,9 +54,11 @@ figures add the machines up, so only those hours show the plant as one system.
   percentiles, a description of the log itself, like its mean);
 - the air, the mean flow (its range) and the peak flow when no flow can be known in the period
   (a window on a day that only an energy counter logged, with the flow meter logged on other
-  days): no flow logged in it and none read from the compressors' states; the peak flow alone
-  when no minute holds enough flow readings. Never 0: the reason says which is missing. The
-  treatment records, priced on the mean flow, are then withheld too (`transmission`);
+  days): no flow logged in it and none read from the compressors' states (none is read when a
+  machine's power is only an energy counter, whose states are unknown); the peak flow alone
+  when no minute holds enough flow readings. Never 0: the reason says which is missing. What of
+  the treatment records needs the mean flow is then withheld too, the rest priced
+  (`analysis::transmission`);
 - the peak power when no 15-minute window holds every compressor's power, or when that peak falls
   below the mean power (the machines' logs do not overlap enough for a simultaneous peak); the
   demand charge, and with it the annual cost, when a demand charge is set and the peak is withheld;
@@ -77,6 +79,9 @@ figures add the machines up, so only those hours show the plant as one system.
 - a compressor's states when its power is only an energy counter, and what rests on them
   ([`counter_only`]: the system specific power read from states, the marginal specific power of
   such a trim, every measure);
+- the system specific power, with what is missing, when no rule above withholds it and it still
+  cannot be worked out (no flow known, or none in the time steps with power: machines that never
+  loaded, a meter that read nothing) ([`specific_power_unknown`]);
 - the plant's mean power when the machines' power was logged together under [`MIN_POWER_HOURS`]:
   the sum of each machine's mean over its own log is no time of the plant (the JSON keeps the sum;
   the pages print "not enough data").
@@ -509,7 +514,36 @@ pub(super) fn apply(s: &mut Summary, demand_charge_set: bool) {
     }
     leak_shares_over_whole(s, &mut w);
     leak_cost_over_whole(s, &mut w);
+    specific_power_unknown(s, &mut w);
     s.sufficiency.withheld = w;
+}
+
+/// The system specific power when it is `None` and neither a rule above nor its note
+/// (`specific_power_note`) says why: recorded with the reason read from what is missing, so that
+/// the pages never fall back on "the data cannot support this figure".
+fn specific_power_unknown(s: &Summary, w: &mut Vec<Withheld>) {
+    let (sys, figure) = (&s.system, "system.specific_power_kw_per_m3_min");
+    if sys.specific_power_kw_per_m3_min.is_some()
+        || sys.specific_power_note.is_some()
+        || w.iter().any(|x| x.figure == figure)
+    {
+        return;
+    }
+    let why = if let Some(air) = w.iter().find(|x| x.figure == "system.air_m3") {
+        format!(
+            "it needs the compressors' power and the air they delivered at the same times, and {}",
+            air.reason
+        )
+    } else if !s.compressors.iter().any(|c| c.power_logged) {
+        "no compressor power was logged".to_string()
+    } else if sys.estimated {
+        "no flow meter was logged, and the compressors' states show no air delivered in the time steps with \
+         their power (none of them loaded)"
+            .to_string()
+    } else {
+        "the flow meter read no flow in the time steps with the compressors' power".to_string()
+    };
+    withhold(w, figure, &why);
 }
 
 /// The figures that need a machine's states, withheld when its power is known only from an energy

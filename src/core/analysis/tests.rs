@@ -2,13 +2,16 @@
 
 use super::*;
 use crate::core::leaks::LeakShareBand;
+use crate::core::model::{CompressorSpec, SiteSpec, WeeklySchedule};
 use crate::core::model::{Control, StorageSpec};
 use crate::core::recommend::tests::site;
+use crate::core::recommend::CostOverrides;
 use crate::core::recommend::MeasureKind;
 use crate::core::safety::HEAT_RECOVERY_CAUTIONS;
 use crate::core::series::{FrameColumn, Grid, Signal};
 use crate::core::states::tests::spec;
 use crate::core::units::PressureAbs;
+use crate::core::units::SiteAir;
 
 /// A gauge pressure at the site as Pa(abs).
 pub(super) fn bar_g_to_pa_abs(bar_g: f64, air: &SiteAir) -> f64 {

@@ -13,17 +13,17 @@ use crate::core::units::SiteAir;
 pub const FALLBACK_LINE_PRESSURE_BAR_G: f64 = 7.0;
 
 /// What the summary says that the treatment figures need, and whether the line pressure is assumed
-/// (`None`: no mean flow is known, and every record is priced on it: a purge following the load,
-/// a filter's drop at the flow, the demand split).
-pub fn plant_of(s: &Summary) -> Option<(PlantFigures, bool)> {
-    let mean_flow_m3_min = s.system.mean_flow_m3_min?;
+/// (the mean flow `None` when none is known: then only what does not need it is priced,
+/// `treatment::figures`).
+pub fn plant_of(s: &Summary) -> (PlantFigures, bool) {
+    let mean_flow_m3_min = s.system.mean_flow_m3_min;
     let (line, assumed) = match (s.pressure.mean_bar_g, s.pressure.highest_rated_bar_g) {
         (Some(p), _) => (p, false),
         (None, Some(p)) => (p, false),
         (None, None) => (FALLBACK_LINE_PRESSURE_BAR_G, true),
     };
     let share = s.demand.production_share_of_time.clamp(0.0, 1.0);
-    Some((
+    (
         PlantFigures {
             mean_flow_m3_min,
             production_share_of_time: share,
@@ -35,7 +35,7 @@ pub fn plant_of(s: &Summary) -> Option<(PlantFigures, bool)> {
             leak_flow_m3_min: s.leaks.adopted_leak_flow_m3_min,
         },
         assumed,
-    ))
+    )
 }
 
 /// Put the transmission figures and the demand split on the summary, with their methods.
@@ -54,31 +54,26 @@ pub fn apply(s: &mut Summary, records: &Records, site: &SiteAir) {
         });
         return;
     }
-    let Some((plant, assumed)) = plant_of(s) else {
-        let why = s.sufficiency.withheld.iter().find(|w| w.figure == "system.mean_flow_m3_min");
-        let reason = format!(
-            "the treatment records and end uses are priced on the mean flow, which is not known ({})",
-            why.map_or("no flow logged", |w| w.reason.as_str())
-        );
-        s.sufficiency.withheld.push(super::figures::Withheld { figure: "transmission".into(), reason });
-        return;
-    };
+    let (plant, assumed) = plant_of(s);
+    if plant.mean_flow_m3_min.is_none() {
+        withhold_without_flow(s, records);
+    }
     match treatment::figures(records, &plant, site) {
         Ok((mut t, split)) => {
             price_filters(&mut t, s, &plant);
             let drops = std::mem::take(&mut s.transmission.pressure_drops);
             s.transmission = t;
             s.transmission.pressure_drops = drops;
-            if split.over_explained() {
+            if let Some(split) = split.filter(|x| x.over_explained()) {
                 s.warn(parts![
                     "the end uses, purge, drains and leaks on record add up to ",
                     recommend::flow(-split.unexplained_m3_min),
                     " more than the ",
-                    recommend::flow(plant.mean_flow_m3_min),
+                    recommend::flow(split.total_m3_min()),
                     " mean flow: some figure on record is too high"
                 ]);
             }
-            s.demand_split = Some(split);
+            s.demand_split = split;
         }
         Err(e) => s.warn(parts![format!("the treatment records could not be priced: {e}")]),
     }
@@ -151,12 +146,12 @@ fn price_filters(t: &mut Transmission, s: &Summary, plant: &PlantFigures) {
 pub fn cuts(t: &Transmission, line_pressure_bar_g: f64) -> TreatmentCuts {
     let mut c = TreatmentCuts { line_pressure_bar_g, ..Default::default() };
     for d in &t.dryers {
-        if d.dew_point_control_saving_m3_min > 0.0 {
-            c.dew_point_m3_min += d.dew_point_control_saving_m3_min;
+        if let Some(q) = d.dew_point_control_saving_m3_min.filter(|&q| q > 0.0) {
+            c.dew_point_m3_min += q;
             c.dew_point_dryers += 1;
         }
-        if d.cycling_saving_kw > 0.0 {
-            c.cycling_saving_kw += d.cycling_saving_kw;
+        if let Some(kw) = d.cycling_saving_kw.filter(|&kw| kw > 0.0) {
+            c.cycling_saving_kw += kw;
             c.non_cycling_kw += d.power_kw;
             c.non_cycling_rated_m3_min += d.rated_flow_m3_min;
             c.non_cycling_dryers += 1;
@@ -191,9 +186,63 @@ pub fn first_pass(s: &Summary, records: &Records, site: &SiteAir) -> (f64, Treat
     if records.is_empty() {
         return (0.0, TreatmentCuts::default());
     }
-    let Some((plant, _)) = plant_of(s) else { return (0.0, TreatmentCuts::default()) };
+    let (plant, _) = plant_of(s);
     match treatment::figures(records, &plant, site) {
-        Ok((t, split)) => (split.purge_and_drains_m3_min, cuts(&t, plant.line_pressure_bar_g)),
+        Ok((t, _)) => {
+            let purge_and_drains = t.dryers.iter().map(|d| d.purge_m3_min).sum::<f64>()
+                + t.drains.iter().map(|d| d.air_m3_min).sum::<f64>();
+            (purge_and_drains, cuts(&t, plant.line_pressure_bar_g))
+        }
         Err(_) => (0.0, TreatmentCuts::default()),
+    }
+}
+
+/// With no mean flow known, what of the records needs it is withheld, each with its reason (the
+/// rest is priced: `treatment::figures`): the dryers whose purge or electricity follows the air
+/// through them, the load and savings of the others, the filters, and the demand split.
+fn withhold_without_flow(s: &mut Summary, records: &Records) {
+    let why = s
+        .sufficiency
+        .withheld
+        .iter()
+        .find(|w| w.figure == "system.mean_flow_m3_min")
+        .map_or_else(|| "no flow is known".to_string(), |w| w.reason.clone());
+    let tags = |it: &mut dyn Iterator<Item = &str>| it.collect::<Vec<_>>().join(", ");
+    let mut out: Vec<(&str, String)> = Vec::new();
+    let following = tags(&mut records.dryers.iter().filter(|d| d.follows_load()).map(|d| d.tag.as_str()));
+    if !following.is_empty() {
+        out.push((
+            "transmission.dryers[]",
+            format!(
+                "{following}: the purge under dew-point control, or a cycling unit's electricity, follows the air \
+                 through the dryer, a share of the plant's mean flow ({why})"
+            ),
+        ));
+    }
+    let saving = |d: &&treatment::Dryer| {
+        !d.follows_load()
+            && ((d.control == treatment::DryerControl::FixedCycle && d.purge_fraction() > 0.0)
+                || d.kind == treatment::DryerKind::Refrigerated)
+    };
+    let priced = tags(&mut records.dryers.iter().filter(saving).map(|d| d.tag.as_str()));
+    if !priced.is_empty() {
+        out.push((
+            "transmission.dryers[].savings",
+            format!(
+                "{priced}: what dew-point control or a cycling unit would save follows the air through the \
+                 dryer, a share of the plant's mean flow ({why})"
+            ),
+        ));
+    }
+    let filters = tags(&mut records.filters.iter().map(|f| f.tag.as_str()));
+    if !filters.is_empty() {
+        out.push((
+            "transmission.filters[]",
+            format!("{filters}: a filter's clean drop is read at the plant's mean flow through it ({why})"),
+        ));
+    }
+    out.push(("demand_split", format!("the split is of the plant's mean flow ({why})")));
+    for (figure, reason) in out {
+        s.sufficiency.withheld.push(super::figures::Withheld { figure: figure.into(), reason });
     }
 }

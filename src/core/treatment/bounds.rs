@@ -4,7 +4,8 @@ What a technician may type for a dryer, drain, filter or end use beyond the reco
 values the trade never sees, refused with the reason in words and the limit in the reader's units
 (`core::entry`), so that a bore of 5 in or an end use at 300 psig on a 110 psig plant is caught
 where it is typed. Records stored before these bounds still read and are priced; an edit then
-asks for a plausible value.
+asks for a plausible value, and the treatment page and the findings flag such a record with the
+bound it breaks (`App::treatment_outside_bounds`).
 
 | value | bound | why |
 |---|---|---|

@@ -26,8 +26,9 @@ impl Records {
 /// What the plant's analysis says that the treatment figures need.
 #[derive(Debug, Clone, Copy)]
 pub struct PlantFigures {
-    /// Metered (or estimated) mean flow over the logged time, free air.
-    pub mean_flow_m3_min: f64,
+    /// Metered (or estimated) mean flow over the logged time, free air (`None`: no flow is known;
+    /// only what does not need it is priced, [`figures`]).
+    pub mean_flow_m3_min: Option<f64>,
     /// Share of the logged time in production.
     pub production_share_of_time: f64,
     /// Hours a year the compressors run, and hours a year of production.
@@ -52,20 +53,22 @@ pub struct DryerFigure {
     pub annual_purge_cost: f64,
     pub power_kw: f64,
     pub annual_power_kwh: f64,
-    /// What dew-point control would save on a fixed-cycle purging dryer (0 otherwise): air and a year's energy.
-    pub dew_point_control_saving_m3_min: f64,
-    pub dew_point_control_saving_kwh: f64,
+    /// What dew-point control would save on a fixed-cycle purging dryer (0 otherwise): air and a
+    /// year's energy. Like the load and the cycling saving, `None` when no mean flow is known: it
+    /// follows the air through the dryer (`sufficiency.withheld`'s `transmission.dryers[].savings`).
+    pub dew_point_control_saving_m3_min: Option<f64>,
+    pub dew_point_control_saving_kwh: Option<f64>,
     /// Rated flow, free air, and the mean flow through it over its rated flow (0-1).
     #[serde(default)]
     pub rated_flow_m3_min: f64,
     #[serde(default)]
-    pub load: f64,
+    pub load: Option<f64>,
     /// What a cycling or variable unit would save in place of a non-cycling refrigerated dryer
     /// (0 otherwise): mean kW and a year's energy.
     #[serde(default)]
-    pub cycling_saving_kw: f64,
+    pub cycling_saving_kw: Option<f64>,
     #[serde(default)]
-    pub cycling_saving_kwh: f64,
+    pub cycling_saving_kwh: Option<f64>,
 }
 
 /// A filter priced (`summary.transmission.filters`).
@@ -149,21 +152,38 @@ pub struct Transmission {
 /// The transmission figures and the demand split of an audit's records on its plant. Each dryer
 /// is taken to carry an equal share of the mean flow (a stated simplification); purge and drains
 /// blow while the compressors run; end uses run their duty over production time.
+///
+/// With no mean flow known only what does not need it is priced: a drain's loss (its orifice at the
+/// line pressure), an end use's air (its own rating), a dryer whose purge and electricity do not
+/// follow the air through it (without its load and the savings read from it). A dryer that follows
+/// it ([`Dryer::follows_load`]), the filters (their clean drop is read at the flow) and the split
+/// of the mean flow are left out, `None` for the split.
 pub fn figures(
     records: &Records,
     plant: &PlantFigures,
     site: &SiteAir,
-) -> Result<(Transmission, DemandSplit), TreatmentError> {
+) -> Result<(Transmission, Option<DemandSplit>), TreatmentError> {
     let marginal = plant.marginal_kw_per_m3_min;
     let run_h = plant.annual_running_hours;
     let kwh = |q: f64, hours: f64| q * marginal * hours;
     let line = PressureAbs::from_bar_g(plant.line_pressure_bar_g, site.atmosphere);
-    let through = FreeAirFlow::from_m3_min(plant.mean_flow_m3_min / records.dryers.len().max(1) as f64);
+    let mean = plant.mean_flow_m3_min;
+    let through = mean.map(|q| FreeAirFlow::from_m3_min(q / records.dryers.len().max(1) as f64));
     let mut t = Transmission::default();
     let mut purge_and_drains = 0.0;
     for d in &records.dryers {
         d.validate()?;
-        let f = d.figures(through);
+        if through.is_none() && d.follows_load() {
+            continue;
+        }
+        // Without a flow the figures at none through it: the purge and electricity of a dryer
+        // that does not follow the load are the same at any flow; what follows it is `None`.
+        let f = d.figures(through.unwrap_or(FreeAirFlow(0.0)));
+        let known = |x: f64, follows: bool| (through.is_some() || !follows).then_some(x);
+        // The savings that follow the load: dew-point control on a fixed-cycle purge, a cycling
+        // unit in place of a non-cycling refrigerated dryer (every other dryer's are 0 at any flow).
+        let dew_point = d.control == DryerControl::FixedCycle && d.purge_fraction() > 0.0;
+        let cycling = d.kind == DryerKind::Refrigerated;
         let purge = f.purge.m3_min();
         purge_and_drains += purge;
         let purge_kwh = kwh(purge, run_h);
@@ -176,18 +196,24 @@ pub fn figures(
             annual_purge_cost: purge_kwh * plant.price_per_kwh,
             power_kw: f.power_kw,
             annual_power_kwh: f.power_kw * run_h,
-            dew_point_control_saving_m3_min: purge - f.purge_with_dew_point_control.m3_min(),
-            dew_point_control_saving_kwh: kwh(purge - f.purge_with_dew_point_control.m3_min(), run_h),
+            dew_point_control_saving_m3_min: known(
+                purge - f.purge_with_dew_point_control.m3_min(),
+                dew_point,
+            ),
+            dew_point_control_saving_kwh: known(
+                kwh(purge - f.purge_with_dew_point_control.m3_min(), run_h),
+                dew_point,
+            ),
             rated_flow_m3_min: d.rated_flow.m3_min(),
-            load: f.load,
-            cycling_saving_kw: f.cycling_saving_kw,
-            cycling_saving_kwh: f.cycling_saving_kw * run_h,
+            load: known(f.load, true),
+            cycling_saving_kw: known(f.cycling_saving_kw, cycling),
+            cycling_saving_kwh: known(f.cycling_saving_kw * run_h, cycling),
         });
     }
     // Filters sit on the main line: each carries the whole mean flow (module doc).
-    let whole = FreeAirFlow::from_m3_min(plant.mean_flow_m3_min);
     for x in &records.filters {
         x.validate()?;
+        let Some(whole) = mean.map(FreeAirFlow::from_m3_min) else { continue };
         let f = x.figures(whole);
         t.filters.push(FilterFigure {
             tag: x.tag.clone(),
@@ -243,12 +269,14 @@ pub fn figures(
     // End uses run over production time: their share of the logged mean.
     let share = plant.production_share_of_time.clamp(0.0, 1.0);
     let f = FreeAirFlow::from_m3_min;
-    let split = DemandSplit::new(
-        f(plant.mean_flow_m3_min),
-        f(production * share),
-        f(inappropriate * share),
-        f(purge_and_drains),
-        f(plant.leak_flow_m3_min.unwrap_or(0.0)),
-    );
+    let split = mean.map(|q| {
+        DemandSplit::new(
+            f(q),
+            f(production * share),
+            f(inappropriate * share),
+            f(purge_and_drains),
+            f(plant.leak_flow_m3_min.unwrap_or(0.0)),
+        )
+    });
     Ok((t, split))
 }

@@ -37,6 +37,8 @@ struct FindingsPage {
     plots: FindingsPlots,
     /// The proposal's name when it was replayed on earlier data and is left out of the measures.
     stale_proposal: Option<String>,
+    /// Treatment records stored before the checks of today and outside them, in words.
+    outside_bounds: Vec<String>,
 }
 
 async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage, AppError> {
@@ -63,8 +65,15 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
             (at(&u.first), at(&u.last))
         })
         .collect();
+    let outside_bounds = app
+        .treatment_outside_bounds(id, fmt.units)
+        .await?
+        .iter()
+        .map(|o| super::treatment::outside_line(o, fmt.units))
+        .collect();
     Ok(FindingsPage {
         stale_proposal: app.stale_proposal(id, b.audit.revision).await?,
+        outside_bounds,
         other_units,
         other_units_label,
         tests: test_rows(&b.field_tests, &fmt, &tz),

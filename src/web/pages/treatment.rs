@@ -16,7 +16,7 @@ use super::inputs::Inputs;
 use super::refusal::Refusal;
 use super::{render, PageError, PageResult};
 use crate::app::treatment::{
-    DrainInput, DryerInput, EndUseInput, FilterInput, ItemKind, Plant, TreatmentInput,
+    DrainInput, DryerInput, EndUseInput, FilterInput, ItemKind, OutsideBounds, Plant, TreatmentInput,
 };
 use crate::core::display::Fmt;
 use crate::core::entry::{self, Entry};
@@ -34,6 +34,8 @@ pub struct Row {
     pub name: String,
     pub what: String,
     pub fields: Vec<Field>,
+    /// Stored before the checks of today and outside them: each refusal in words (empty: none).
+    pub outside: Vec<String>,
 }
 
 /// One field of a record's edit form, filled with the stored value in the reader's units.
@@ -263,6 +265,7 @@ fn describe(kind: ItemKind, v: &Value, fmt: &Fmt) -> (String, String) {
 async fn page(st: &AppState, id: i64, refused: Option<Refusal>) -> Result<TreatmentPage, PageError> {
     let b = st.app.bundle(id).await?;
     let fmt = b.fmt();
+    let outside = st.app.treatment_outside_bounds(id, fmt.units).await?;
     let mut rows = vec![];
     for (kind, list) in [
         (ItemKind::Dryer, "dryers"),
@@ -273,7 +276,12 @@ async fn page(st: &AppState, id: i64, refused: Option<Refusal>) -> Result<Treatm
         for v in st.app.treatment_items(id, kind).await? {
             let (name, what) = describe(kind, &v, &fmt);
             let fields = edit_fields(kind, &v, fmt.units, &b.audit.site.currency);
-            rows.push(Row { list, id: v["id"].as_i64().unwrap_or(0), name, what, fields });
+            let id = v["id"].as_i64().unwrap_or(0);
+            let outside = outside
+                .iter()
+                .find(|o| o.kind == kind && o.id == id)
+                .map_or_else(Vec::new, |o| outside_words(o, fmt.units));
+            rows.push(Row { list, id, name, what, fields, outside });
         }
     }
     let opts = |all: &[&'static str]| all.iter().map(|k| (*k, words(k))).collect::<Vec<_>>();
@@ -367,6 +375,26 @@ fn input(
             alternative_kw: plain("alternative_kw")?,
         }),
     })
+}
+
+/// A stored record's refusals of today ([`OutsideBounds`]), each as the page's refusal says it:
+/// the field in words, the value and the bound in the reader's `units`.
+pub(super) fn outside_words(o: &OutsideBounds, units: UnitSystem) -> Vec<String> {
+    o.refusals
+        .iter()
+        .map(|e| format!("{}: {}", field_words(e.field), in_reader_units(&e.message, e.field, units)))
+        .collect()
+}
+
+/// A stored record outside the checks of today in one line for the findings: "Dryer D1: ...".
+pub(super) fn outside_line(o: &OutsideBounds, units: UnitSystem) -> String {
+    let kind = match o.kind {
+        ItemKind::Dryer => "Dryer",
+        ItemKind::Drain => "Drain",
+        ItemKind::EndUse => "End use",
+        ItemKind::Filter => "Filter",
+    };
+    format!("{kind} {}: {}", o.name, outside_words(o, units).join("; "))
 }
 
 /// A record's field in words, for the page's refusal (the API names the code itself).

@@ -558,10 +558,11 @@ fn headline_figures(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<FigureView> {
             // The parts that exist, joined: no stray separator when one is missing.
             note: [
                 leaks.band_description.clone().unwrap_or_default(),
-                if leaks.adopted_leak_flow_m3_min.is_some() && leaks.share_of_mean_demand.is_none() {
-                    leak_share_missing(sm)
-                } else {
-                    String::new()
+                match (leaks.adopted_leak_flow_m3_min, leaks.share_of_mean_demand) {
+                    (Some(_), None) => leak_share_missing(sm),
+                    // Why there is no estimate, as the leaks table's note says it.
+                    (None, _) => leaks.adopted_rule.clone(),
+                    _ => String::new(),
                 },
                 leaks.annual_leak_cost.map_or_else(String::new, |c| {
                     format!(

@@ -63,6 +63,8 @@ pub(super) fn leak_share_missing(sm: &Summary) -> String {
             "leaks.estimates[].share_of_mean_demand"
         };
         format!("share of demand: {NOT_ENOUGH_DATA} ({})", withheld(sm, prefix))
+    } else if w.iter().any(|x| x.figure == "system.mean_flow_m3_min") {
+        format!("share of demand: {NOT_ENOUGH_DATA} ({})", withheld(sm, "system.mean_flow_m3_min"))
     } else {
         format!("share of demand: {NOT_ENOUGH_DATA} (no mean flow was logged to compare with)")
     }

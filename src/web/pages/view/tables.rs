@@ -244,16 +244,19 @@ pub(super) fn heat_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, Stri
 pub(super) fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(String, String)> {
     let t = &sm.transmission;
     let mut rows = vec![];
-    // Records left unpriced for a reason of their own (no mean flow known); on insufficient data
-    // the section says so in its own words.
-    if sm.sufficiency.verdict != Verdict::Insufficient
-        && sm.sufficiency.withheld.iter().any(|w| w.figure == "transmission")
-    {
-        rows.push((
-            "Dryers, drains, filters and end uses on record".into(),
-            format!("not priced: {NOT_ENOUGH_DATA} ({})", withheld(sm, "transmission")),
-        ));
+    // Records left unpriced for a reason of their own (no mean flow known: those that need it,
+    // their reason naming them); on insufficient data the section says so in its own words.
+    if sm.sufficiency.verdict != Verdict::Insufficient {
+        for (figure, label) in
+            [("transmission.dryers[]", "Dryers not priced"), ("transmission.filters[]", "Filters not priced")]
+        {
+            if let Some(w) = sm.sufficiency.withheld.iter().find(|w| w.figure == figure) {
+                rows.push((label.into(), format!("{NOT_ENOUGH_DATA} ({})", w.reason)));
+            }
+        }
     }
+    let savings_withheld =
+        sm.sufficiency.withheld.iter().find(|w| w.figure == "transmission.dryers[].savings");
     let words = crate::core::model::human_label;
     for d in &t.dryers {
         rows.push((
@@ -272,19 +275,19 @@ pub(super) fn transmission_rows(sm: &Summary, fmt: &Fmt, cur: &str) -> Vec<(Stri
                     "no purge air".to_string()
                 },
                 fmt.power_kw(d.power_kw),
-                if d.dew_point_control_saving_m3_min > 0.0 {
-                    format!(
-                        "; dew-point control would purge {} less",
-                        fmt.flow_m3_min(d.dew_point_control_saving_m3_min)
-                    )
-                } else if d.cycling_saving_kw > 0.0 {
-                    format!(
+                match (d.dew_point_control_saving_m3_min, d.cycling_saving_kw, d.cycling_saving_kwh) {
+                    (None, _, _) | (_, None, _) => savings_withheld.map_or(String::new(), |w| {
+                        format!("; what a change of control would save: {NOT_ENOUGH_DATA} ({})", w.reason)
+                    }),
+                    (Some(q), _, _) if q > 0.0 => {
+                        format!("; dew-point control would purge {} less", fmt.flow_m3_min(q))
+                    }
+                    (_, Some(kw), Some(kwh)) if kw > 0.0 => format!(
                         "; a cycling unit would draw {} less ({} a year)",
-                        fmt.power_kw(d.cycling_saving_kw),
-                        fmt.energy_kwh(d.cycling_saving_kwh)
-                    )
-                } else {
-                    String::new()
+                        fmt.power_kw(kw),
+                        fmt.energy_kwh(kwh)
+                    ),
+                    _ => String::new(),
                 }
             ),
         ));
@@ -380,6 +383,9 @@ pub(super) fn end_use_rows(sm: &Summary, fmt: &Fmt) -> Vec<(String, String)> {
                 ))
             ),
         ));
+    }
+    if let Some(w) = sm.sufficiency.withheld.iter().find(|w| w.figure == "demand_split") {
+        rows.push(("Mean demand split".into(), format!("{NOT_ENOUGH_DATA} ({})", w.reason)));
     }
     if let Some(s) = &sm.demand_split {
         let total = s.total_m3_min();
