@@ -319,12 +319,21 @@ window.airledger.besideFields = function (form, errors, fieldOf) {
 };
 // A new audit's time zone (input[data-zone-default], drawn as UTC): the browser's own zone when
 // the form's list of IANA names offers it; without scripts, or a zone not in the list, UTC stays.
+// A zone of the United States also draws the form in US customary units and USD, while the form is
+// still as served (SI, EUR): the unit switch's own change converts the values and the currency.
 (function zoneDefault() {
   let zone = "";
   try { zone = Intl.DateTimeFormat().resolvedOptions().timeZone || ""; } catch (e) { return; }
+  const us = /^(America\/(New_York|Chicago|Denver|Phoenix|Los_Angeles|Anchorage|Adak|Boise|Detroit|Juneau|Sitka|Metlakatla|Yakutat|Nome|Menominee|Indiana\/.+|Kentucky\/.+|North_Dakota\/.+)|Pacific\/Honolulu)$/;
   for (const el of document.querySelectorAll("input[data-zone-default]")) {
     if (el.value !== "UTC" || !zone || !el.list) continue;
-    if ([...el.list.options].some((o) => o.value === zone)) el.value = zone;
+    if (![...el.list.options].some((o) => o.value === zone)) continue;
+    el.value = zone;
+    const sel = el.form && el.form.querySelector("select[data-unit-switch]");
+    if (us.test(zone) && sel && sel.value === "si") {
+      sel.value = "us";
+      sel.dispatchEvent(new Event("change"));
+    }
   }
 })();
 // A form the server refused (pages/refusal.rs): what was typed goes back into its fields (in the

@@ -83,8 +83,16 @@ fn a_new_audits_zone_is_the_browsers_own() {
     let (seen, value) = zone_of("Asia/Tokyo");
     assert_eq!(seen, "Asia/Tokyo", "the browser was not told its zone");
     assert_eq!(value, "Asia/Tokyo");
+    // Tokyo keeps SI and EUR.
+    let form = |q: &str| b.js_str(&format!("return document.querySelector('#new-audit {q}').value"));
+    assert_eq!((form("[name=display_units]"), form("[name=currency]")), ("si".into(), "EUR".into()));
     let (_, value) = zone_of("America/Chicago");
     assert_eq!(value, "America/Chicago");
+    // A zone of the United States draws the form in US customary units and USD: the inlet
+    // temperature's 20 °C reads 68 °F (9/5 × 20 + 32, NIST SP 811).
+    assert_eq!((form("[name=display_units]"), form("[name=currency]")), ("us".into(), "USD".into()));
+    assert_eq!(form("[name=inlet_temperature_c]"), "68");
+    assert_eq!(form("[name=entry_units]"), "us");
     // Created with it, the audit keeps the zone (the form posts as typed).
     b.js(
         "document.querySelector('#new-audit [name=name]').value = 'zone plant'; \
