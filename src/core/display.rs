@@ -43,6 +43,16 @@ pub fn hours_minutes(seconds: f64) -> String {
 }
 
 /// A number with thousands separators and `decimals` decimals; `-` for a missing value.
+/// A duration in seconds as people say it: whole seconds (a tenth under 10 s), minutes to a tenth
+/// from 2 min ("7.3 min", not "440 s").
+pub fn seconds(s: f64) -> String {
+    if s >= 120.0 {
+        format!("{} min", num(s / 60.0, 1))
+    } else {
+        format!("{} s", num(s, if s >= 10.0 { 0 } else { 1 }))
+    }
+}
+
 pub fn num(v: f64, decimals: usize) -> String {
     if !v.is_finite() {
         return "–".into();

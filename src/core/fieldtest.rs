@@ -411,14 +411,14 @@ pub fn evaluate(input: &FieldTestInput, ctx: &FieldTestContext) -> Result<FieldT
             let (lo, hi) = (q * (1.0 - u).max(0.0), read * (1.0 + u));
             let warnings = if iso.too_fast {
                 vec![format!(
-                    "test too short to be near isothermal: over {:.0} s the stored air cools as it \
-                     expands (thermal time constant about {:.0} s for this volume), so the leak flow \
-                     as read is overstated by about {:.0} %{}; the estimate is the flow corrected for \
+                    "test too short to be near isothermal: over {} the stored air cools as it \
+                     expands (thermal time constant about {} for this volume), so the leak flow \
+                     as read is overstated by about {} %{}; the estimate is the flow corrected for \
                      it, its likely range running up to the flow as read plus the instruments' \
                      uncertainty; {}",
-                    duration_s,
-                    iso.thermal_time_constant_s,
-                    100.0 * iso.overstatement,
+                    crate::core::display::seconds(*duration_s),
+                    crate::core::display::seconds(iso.thermal_time_constant_s),
+                    crate::core::display::num(100.0 * iso.overstatement, 1),
                     adiabatic_cap_words(&iso, *start_pressure_bar_g, *end_pressure_bar_g, units),
                     longer_fall_advice(p1, p2, *duration_s, &iso, atm, units)
                 )]

@@ -222,13 +222,7 @@ pub fn test_name(t: &FieldTestRecord, tz: &str) -> String {
     format!("{kind} of {}", local_time(at, tz))
 }
 
-fn seconds(s: f64) -> String {
-    if s >= 120.0 {
-        format!("{} min", num(s / 60.0, 1))
-    } else {
-        format!("{} s", num(s, if s >= 10.0 { 0 } else { 1 }))
-    }
-}
+use crate::core::display::seconds;
 
 fn volume_words(fmt: &Fmt, v: f64, source: &VolumeSource) -> String {
     match source {
