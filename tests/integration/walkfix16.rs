@@ -1,0 +1,106 @@
+//! Issue 16's walk (walk16f): what the files table and the upload form say about a current column
+//! and a renamed compressor, and the quality report's word on a power far below the data sheet.
+
+use crate::support::{jiff_like_rfc3339, Server};
+use serde_json::{json, Value};
+
+/// Two hours of a compressor's current at 10 s, cycling between 95 A and 35 A.
+fn amps_csv() -> String {
+    let mut csv = String::from("time,C1 A\n");
+    for i in 0..720i64 {
+        let amps = if i % 20 < 4 { 95.0 } else { 35.0 };
+        csv.push_str(&format!("{},{amps}\n", jiff_like_rfc3339(1_777_881_600 + i * 10)));
+    }
+    csv
+}
+
+fn page_data(html: &str) -> Value {
+    let start = html.find("id=\"page-data\">").expect("the page data") + "id=\"page-data\">".len();
+    let end = start + html[start..].find("</script>").expect("its end");
+    serde_json::from_str(&html[start..end]).expect("JSON")
+}
+
+#[test]
+fn a_current_column_says_its_voltage_and_the_form_assumes_the_audits_own() {
+    let s = Server::start();
+    // The form's defaults follow the audit's unit system: 460 V in a US audit (the motor rating for
+    // 480 V systems, common practice), 400 V in an SI one (IEC 60038), said as assumptions.
+    for (units, volts) in [("us", 460.0), ("si", 400.0)] {
+        let id = s.audit_in_chicago(&format!("plant {units}"), units);
+        let html = s.get(&format!("/audits/{id}/upload")).text;
+        let d = &page_data(&html)["current_defaults"];
+        assert_eq!(d["volts"].as_f64(), Some(volts), "{units}: {d}");
+        assert_eq!((d["phases"].as_i64(), d["power_factor"].as_f64()), (Some(3), Some(0.85)), "{d}");
+        let note = d["note"].as_str().unwrap();
+        assert!(note.starts_with(&format!("Assumed, not read from the file: {volts} V")), "{note}");
+        assert!(note.contains("nameplate"), "{note}");
+    }
+    // The files table says what the current was read with, not only "read as power".
+    let id = s.us_audit_in_chicago("amps");
+    let mapping = json!({"timestamp": {"column": "time", "format": "rfc3339"}, "columns": [
+        {"column": "C1 A", "quantity": "current", "unit": "A", "compressor": "C1", "volts": 460, "power_factor": 0.85}]});
+    let r = s.upload(id, "amps.csv", amps_csv().as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let html = s.get(&format!("/audits/{id}/upload")).text;
+    assert!(html.contains("C1 current in A, read as power at 460 V, 3 phases, PF 0.85"), "{html}");
+    assert!(!html.contains("(read as power)"));
+}
+
+#[test]
+fn a_renamed_compressor_is_named_by_its_new_tag_in_the_files_table() {
+    // A walk renamed C1 to K1 and the files table still said "C1 current ... in A".
+    let s = Server::start();
+    let id = s.us_audit_in_chicago("rename");
+    let mapping = json!({"timestamp": {"column": "time", "format": "rfc3339"}, "columns": [
+        {"column": "C1 A", "quantity": "current", "unit": "A", "compressor": "C1", "volts": 460, "power_factor": 0.85}]});
+    let r = s.upload(id, "amps.csv", amps_csv().as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "{}", r.text);
+    let audit = s.get(&format!("/api/v1/audits/{id}")).json();
+    let c = audit["compressors"][0].clone();
+    let cid = c["id"].as_i64().expect("the compressor's id");
+    let put = json!({"tag": "K1", "kind": c["kind"], "control": c["control"], "cooling": c["cooling"],
+                     "rated_power_kw": c["rated_power_kw"], "rated_flow_m3_min": c["rated_flow_m3_min"],
+                     "rated_pressure_bar_g": c["rated_pressure_bar_g"]});
+    let r = s.put_json(&format!("/api/v1/audits/{id}/compressors/{cid}"), &put);
+    assert!(r.status == 200 || r.status == 204, "{}: {}", r.status, r.text);
+    let html = s.get(&format!("/audits/{id}/upload")).text;
+    assert!(html.contains("K1 current in A, read as power at 460 V"), "{html}");
+    assert!(!html.contains("C1 current"), "the old tag is gone");
+    // The stored mapping follows, so a correction of the mapping finds the machine.
+    let uploads = s.get(&format!("/api/v1/audits/{id}/uploads")).json();
+    let list = uploads.as_array().or_else(|| uploads["uploads"].as_array()).expect("the uploads");
+    assert_eq!(list[0]["mapping"]["columns"][0]["compressor"], "K1", "{uploads}");
+    // The readings stay the machine's: its energy is unchanged by the rename.
+    let j = s.get(&format!("/api/v1/audits/{id}/summary")).json();
+    assert_eq!(j["compressors"][0]["tag"], "K1");
+    assert!(j["compressors"][0]["energy_kwh"].as_f64().unwrap() > 0.0, "{}", j["compressors"][0]);
+}
+
+#[test]
+fn a_power_in_kw_mapped_as_w_is_a_finding_at_upload() {
+    // A walk mapped a column logged in kW as W on a 55 kW machine: the reply said nothing was wrong.
+    // 40 kW read as W is 40 W, under 5 % of 55 kW (2.75 kW): an unloaded screw draws 20-35 % of its
+    // full load (common practice).
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let mut csv = String::from("time,P\n");
+    for i in 0..120i64 {
+        let kw = if i % 4 == 0 { -0.2 } else { 40.0 };
+        csv.push_str(&format!("{},{kw}\n", jiff_like_rfc3339(1_777_881_600 + i * 60)));
+    }
+    let mapping = json!({"timestamp": {"column": "time", "format": "rfc3339"}, "columns": [
+        {"column": "P", "quantity": "power", "unit": "W", "compressor": "C1"}]});
+    let r = s.upload(id, "w.csv", csv.as_bytes(), &mapping, "");
+    assert_eq!(r.status, 201, "kept, never refused: {}", r.text);
+    let warnings: Vec<String> =
+        r.json()["warnings"].as_array().unwrap().iter().map(|w| w.as_str().unwrap().to_string()).collect();
+    assert!(
+        warnings.iter().any(|w| w.starts_with("P: implausible: power of C1 (the mean over a minute or more) never above 40.0 W, under 5 % of its rated 55 kW")
+            && w.contains("a power logged in kW read as W")),
+        "{warnings:?}"
+    );
+    assert!(
+        warnings.iter().any(|w| w.starts_with("P: 30 readings out of range (negative power")),
+        "{warnings:?}"
+    );
+}
