@@ -104,3 +104,46 @@ fn a_power_in_kw_mapped_as_w_is_a_finding_at_upload() {
         "{warnings:?}"
     );
 }
+
+#[test]
+fn two_columns_read_as_one_machines_power_are_named_in_the_refusal() {
+    // A walk was told "two columns map to the same channel (power C1)": neither column was named.
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let mut csv = String::from("time,planned kW,actual kW\n");
+    for i in 0..60 {
+        csv.push_str(&format!("{},30.0,12.5\n", jiff_like_rfc3339(1_777_881_600 + i * 60)));
+    }
+    let mapping = json!({"timestamp": {"column": "time", "format": "rfc3339"}, "columns": [
+        {"column": "planned kW", "quantity": "power", "unit": "kW", "compressor": "C1"},
+        {"column": "actual kW", "quantity": "power", "unit": "kW", "compressor": "C1"}]});
+    let r = s.upload(id, "two.csv", csv.as_bytes(), &mapping, "");
+    assert_eq!(r.status, 422, "{}", r.text);
+    let e = &r.json()["error"];
+    assert_eq!(
+        e["message"],
+        "the columns \u{201c}planned kW\u{201d} and \u{201c}actual kW\u{201d} are both read as the power of C1 \
+         (a current is read as power): leave one out, or give it another compressor or measuring point's name"
+    );
+    assert_eq!(e["field"], "columns[1]");
+    assert!(!e["message"].as_str().unwrap().contains("channel"));
+}
+
+#[test]
+fn a_letter_typed_for_a_digit_in_a_field_test_is_refused_in_words() {
+    // A walk got "this field test cannot be read: duration_s: invalid type: string \"6O\", expected f64".
+    let s = Server::start();
+    let id = s.audit_with_compressor("C1");
+    let r = s.post_json(
+        &format!("/api/v1/audits/{id}/field-tests"),
+        &json!({"kind": "bleed_down", "volume_m3": 2.5, "start_pressure_bar_g": 7.0, "end_pressure_bar_g": 5.5,
+                "duration_s": "6O"}),
+    );
+    assert_eq!(r.status, 422, "{}", r.text);
+    let e = &r.json()["error"];
+    assert_eq!(e["field"], "duration_s");
+    assert_eq!(
+        e["message"],
+        "this field test cannot be read: the duration must be a number, got \u{201c}6O\u{201d}"
+    );
+}
