@@ -140,8 +140,11 @@ window.airledger = {
     if (!field) return null;
     const words = { "timestamp.timezone": "time zone", "timestamp.format": "how dates are written", "timestamp.column": "timestamp column",
       delimiter: "delimiter", decimal: "decimal mark", header_line: "line with the column names", units_line: "line with the units",
-      first_data_line: "first data line", columns: "columns" };
+      first_data_line: "first data line" };
     if (words[field]) return words[field];
+    // The mapping's columns as a whole, or the logged data (a what-if's "frame"): the message says
+    // what is wrong in words, and a code in brackets after it would say nothing more.
+    if (field === "columns" || field === "frame") return null;
     // A column's or a what-if change's own fields: the message names them in words.
     if (/^(columns|changes)\[/.test(field)) return null;
     return field.replace(/_(bar_g|m3_min|m3|kw|s|c|mm)$/, "").replace(/[._]/g, " ");
