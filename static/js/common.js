@@ -104,7 +104,14 @@ window.airledger = {
     const p = this.wall(ms, tz), d = new Date(ms), zone = tz || "UTC";
     const part = (opts, type) => (new Intl.DateTimeFormat("en-US", Object.assign({ timeZone: zone }, opts))
       .formatToParts(d).find((x) => x.type === type) || {}).value;
-    const name = part({ timeZoneName: "short" }, "timeZoneName") || zone;
+    // The zone's abbreviation as the server's tz database says it ("CET"): en-US knows the
+    // American ones only and says "GMT+1" for Berlin, where en-GB says "CET".
+    let name = part({ timeZoneName: "short" }, "timeZoneName") || zone;
+    if (/^GMT[+-]/.test(name)) {
+      const gb = (new Intl.DateTimeFormat("en-GB", { timeZone: zone, timeZoneName: "short" }).formatToParts(d)
+        .find((x) => x.type === "timeZoneName") || {}).value;
+      if (gb && !/^(GMT|UTC)[+-]/.test(gb)) name = gb;
+    }
     return part({ weekday: "short" }, "weekday") + " " + Number(p.day) + " " + part({ month: "short" }, "month") + " " +
       p.year + " " + p.hour + ":" + p.minute + " " + name;
   },

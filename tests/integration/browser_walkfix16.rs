@@ -56,3 +56,21 @@ fn the_current_details_follow_a_us_audit_and_a_refusal_names_no_code() {
     assert!(st.contains("the mapping names no columns to read"), "{st}");
     assert!(!st.contains("(columns)"), "{st}");
 }
+
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn the_decay_table_names_the_zone_as_every_page_does() {
+    // A walk saw "Sun 15 Mar 2026 10:00 GMT+1" in the decay table, "CET" everywhere else.
+    let s = Server::demo();
+    let b = Browser::start();
+    b.goto(&s.url("/audits/1/tests"));
+    let cells =
+        || b.js_str("const t = document.querySelector('#decay-events table'); return t ? t.textContent : ''");
+    assert!(wait_until(Duration::from_secs(30), || !cells().is_empty()), "no decay table");
+    let text = cells();
+    assert!(text.contains(" CET") || text.contains(" CEST"), "{text}");
+    assert!(!text.contains("GMT"), "{text}");
+}

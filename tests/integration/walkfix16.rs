@@ -147,3 +147,30 @@ fn a_letter_typed_for_a_digit_in_a_field_test_is_refused_in_words() {
         "this field test cannot be read: the duration must be a number, got \u{201c}6O\u{201d}"
     );
 }
+
+#[test]
+fn a_decay_events_times_are_said_on_the_sites_clock_with_its_zones_abbreviation() {
+    // The field-tests page's decay table said "Sun 15 Mar 2026 10:00 GMT+1" (the browser's en-US
+    // name for Berlin's winter offset) where every other time says CET, as the tz database does.
+    let s = Server::demo();
+    let audit = s.get("/api/v1/audits/1").json();
+    let tz = audit["site"]["timezone"].as_str().expect("the demo's zone").to_string();
+    let r = s.get("/api/v1/audits/1/decay-events");
+    assert_eq!(r.status, 200, "{}", r.text);
+    let events = r.json()["events"].as_array().expect("events").clone();
+    assert!(!events.is_empty());
+    for e in &events {
+        for (ms, local) in [("start_ms", "start_local"), ("end_ms", "end_local")] {
+            let t = e[ms].as_i64().unwrap();
+            let said = e[local].as_str().unwrap_or_else(|| panic!("no {local}: {e}"));
+            // The zone's offset then, from the tz database through jiff (an independent reading
+            // of the same instant), and the abbreviation every page uses for it.
+            let zoned =
+                jiff::Timestamp::from_millisecond(t).unwrap().to_zoned(jiff::tz::TimeZone::get(&tz).unwrap());
+            assert_eq!(said, zoned.strftime("%a %-d %b %Y %H:%M %Z").to_string());
+            assert!(!said.contains("GMT"), "{said}");
+            // The demo plant's clock is Central European (its scenario).
+            assert!(said.ends_with(" CET") || said.ends_with(" CEST"), "{said}");
+        }
+    }
+}
