@@ -174,3 +174,35 @@ fn a_decay_events_times_are_said_on_the_sites_clock_with_its_zones_abbreviation(
         }
     }
 }
+
+#[test]
+fn the_units_read_carry_from_the_report_to_the_findings_and_the_print_date_reads_as_every_date() {
+    // A walk switched the report to US units and the nav's "Findings" went back to SI; the
+    // findings said "Printed 2026-12-05" where every other date reads "Sat 5 Dec 2026".
+    let s = Server::demo();
+    let report = s.get("/audits/1/report?units=us").text;
+    assert!(
+        report.contains("href=\"/audits/1/findings?units=us\""),
+        "the nav's findings link keeps US units"
+    );
+    assert!(report.contains("href=\"/audits/1/report?units=us\""));
+    let findings = s.get("/audits/1/findings?units=us").text;
+    assert!(findings.contains("href=\"/audits/1/report?units=us\""), "and back");
+    // The demo is read in SI: its own units need no query.
+    let plain = s.get("/audits/1/report").text;
+    assert!(plain.contains("href=\"/audits/1/findings\""));
+    assert!(s.get("/audits/1/report?units=si").text.contains("href=\"/audits/1/findings\""));
+    let start = findings.find("<dt>Printed</dt><dd>").expect("the print date") + "<dt>Printed</dt><dd>".len();
+    let printed = &findings[start..start + findings[start..].find("</dd>").unwrap()];
+    // "Sat 5 Dec 2026": a weekday, the day, the month's name, the year.
+    let parts: Vec<&str> = printed.split(' ').collect();
+    assert_eq!(parts.len(), 4, "{printed}");
+    assert!(["Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun"].contains(&parts[0]), "{printed}");
+    assert!(parts[1].parse::<u8>().is_ok_and(|d| (1..=31).contains(&d)), "{printed}");
+    assert!(
+        ["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"]
+            .contains(&parts[2]),
+        "{printed}"
+    );
+    assert!(parts[3].len() == 4 && parts[3].parse::<u16>().is_ok(), "{printed}");
+}

@@ -18,6 +18,8 @@ struct ReportPage {
     view: ReportView,
     other_units: &'static str,
     other_units_label: &'static str,
+    /// The reader's unit choice for the nav's report and findings links (`units_query`).
+    units_query: String,
 }
 
 pub async fn report(
@@ -35,5 +37,6 @@ pub async fn report(
     } else {
         ("us", "Show US customary units (psig, cfm)")
     };
-    Ok(render(&ReportPage { audit: b.audit, fmt, view, other_units, other_units_label }))
+    let units_query = super::units_query(&b, &q);
+    Ok(render(&ReportPage { audit: b.audit, fmt, view, other_units, other_units_label, units_query }))
 }
