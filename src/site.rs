@@ -55,7 +55,9 @@ fn within(field: &str, v: f64, lo: f64, lo_open: bool, hi: f64, unit: &str) -> R
     if v.is_finite() && low_ok && v <= hi {
         return Ok(v);
     }
-    let from = if lo_open { format!("above {lo}") } else { format!("{lo}") };
+    let g = |x: f64| crate::core::entry::grouped(x.to_string());
+    let from = if lo_open { format!("above {}", g(lo)) } else { g(lo) };
+    let hi = g(hi);
     let words = match field {
         "electricity_price_per_kwh" => "the electricity price",
         "heating_fuel_price_per_kwh" => "the heating fuel's price",
@@ -454,7 +456,7 @@ impl SiteRecord {
             if !(0.0..=8784.0).contains(&finite("operating_hours_per_year", v)?) {
                 return Err(FieldError::new(
                     "operating_hours_per_year",
-                    format!("the operating hours per year must be from 0 to 8784 h, got {v} h"),
+                    format!("the operating hours per year must be from 0 to 8,784 h, got {v} h"),
                 ));
             }
             self.operating_hours_per_year = if v > 0.0 { Some(v) } else { None };

@@ -60,5 +60,7 @@ mod treatment;
 mod undo;
 #[path = "integration/walk16.rs"]
 mod walk16;
+#[path = "integration/walkfix16.rs"]
+mod walkfix16;
 #[path = "integration/whatif16.rs"]
 mod whatif16;

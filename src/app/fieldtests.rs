@@ -93,8 +93,8 @@ impl App {
         b: &super::audits::AuditBundle,
         body: &serde_json::Value,
     ) -> Result<(&'static str, serde_json::Value)> {
-        let input: FieldTestInput =
-            crate::site::read_json(body.clone(), "this field test").map_err(Error::from)?;
+        let input: FieldTestInput = crate::site::read_json(body.clone(), "this field test")
+            .map_err(|e| Error::from(unreadable_in_words(e, body)))?;
         let site = b.audit.site.air();
         let specs = b.specs();
         let storage = b.storage();
@@ -149,5 +149,44 @@ impl App {
             .with_system_volume(b.storage().system_volume_m3());
         let storage = b.storage();
         Ok(tokio::task::spawn_blocking(move || analysis::decay_events(&frame, &spec, &storage)).await?)
+    }
+}
+
+/// A field of a field test in the form's words ("the duration"), `None` for one the form does not have.
+fn field_words(field: &str) -> Option<&'static str> {
+    Some(match field {
+        "volume_m3" => "the volume",
+        "start_pressure_bar_g" => "the start pressure",
+        "end_pressure_bar_g" => "the end pressure",
+        "duration_s" => "the duration",
+        "operating_pressure_bar_g" => "the operating pressure",
+        "air_temperature_c" => "the stored air's temperature",
+        "compressor" => "the compressor",
+        "loaded_s" => "the loaded time",
+        "unloaded_s" => "the unloaded time",
+        "start" => "the start",
+        "end" => "the end",
+        "production_pressure_bar_g" => "the production pressure",
+        "purge_and_drains_m3_min" => "the purge and drains flow",
+        _ => return None,
+    })
+}
+
+/// A field test whose field holds text where a number belongs (a letter typed for a digit, "6O"),
+/// said in words with the field's name and what was typed, never serde's "invalid type: string
+/// \"6O\", expected f64"; any other error as `read_json` said it.
+fn unreadable_in_words(e: crate::site::FieldError, body: &serde_json::Value) -> crate::site::FieldError {
+    let Some(words) = field_words(&e.field) else { return e };
+    let expected_number = e.message.contains("expected f64") || e.message.contains("expected a number");
+    match body.get(&e.field) {
+        Some(serde_json::Value::String(t)) if expected_number => crate::site::FieldError::new(
+            &e.field,
+            format!("this field test cannot be read: {words} must be a number, got \u{201c}{t}\u{201d}"),
+        ),
+        Some(v) if expected_number => crate::site::FieldError::new(
+            &e.field,
+            format!("this field test cannot be read: {words} must be a number, got {v}"),
+        ),
+        _ => e,
     }
 }

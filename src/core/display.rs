@@ -136,10 +136,13 @@ pub fn duration_words(s: f64) -> String {
 }
 
 /// A power for a sentence, its digits grouped: kW to one decimal, MW (to three significant
-/// figures, grouped) from 10,000 kW, where a figure in kW is too long to read.
+/// figures, grouped) from 10,000 kW, where a figure in kW is too long to read, W to one decimal
+/// under 0.1 kW, where a figure in kW would read 0.0 (a column in W read as kW on a machine).
 pub fn power_words(w: f64) -> String {
     let kw = w / 1000.0;
-    if kw.abs() >= 10_000.0 {
+    if w != 0.0 && kw.abs() < 0.1 {
+        format!("{} W", num(w, 1))
+    } else if kw.abs() >= 10_000.0 {
         let mw = kw / 1000.0;
         format!("{} MW", num(mw, sig(mw)))
     } else {
@@ -604,6 +607,12 @@ mod tests {
         assert_eq!(p(12_345_000.0), "12.3 MW");
         assert_eq!(p(9_876_500.0), "9,876.5 kW");
         assert_eq!(p(75_000.0), "75.0 kW");
+        // Under 0.1 kW in W, so a power logged in kW read as W does not read "0.0 kW".
+        assert_eq!(p(4.2), "4.2 W");
+        assert_eq!(p(-2.7), "-2.7 W");
+        assert_eq!(p(99.9), "99.9 W");
+        assert_eq!(p(100.0), "0.1 kW");
+        assert_eq!(p(0.0), "0.0 kW");
     }
 
     use super::*;

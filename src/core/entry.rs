@@ -201,7 +201,7 @@ impl Entry {
 
     /// A lower limit as a refusal quotes it, rounded up: "at least 110.5 psig".
     pub fn lower_limit(self, units: UnitSystem, stored: f64) -> String {
-        format!("{} {}", short(self.limit_value(units, stored, true)), self.unit(units).label)
+        format!("{} {}", grouped(short(self.limit_value(units, stored, true))), self.unit(units).label)
     }
 
     /// A stored value as a refusal quotes it to a reader of `units`: the number as the field would
@@ -214,7 +214,7 @@ impl Entry {
     /// four significant figures at most (a whole number keeps its digits), rounded down, so that
     /// 50 bar(g) reads "725.1 psig" (725.19 psig) and 100 mm "3.93 in".
     pub fn limit(self, units: UnitSystem, stored: f64) -> String {
-        format!("{} {}", short(self.limit_value(units, stored, false)), self.unit(units).label)
+        format!("{} {}", grouped(short(self.limit_value(units, stored, false))), self.unit(units).label)
     }
 
     /// A refusal of `stored` outside `lo..=hi` (`lo` itself refused when `lo_open`), in the
@@ -242,6 +242,28 @@ impl Entry {
         }
         Ok(self.to_stored(units, v))
     }
+}
+
+/// A number's text with its whole part's digits grouped in threes by commas, as every figure on the
+/// pages ("2,641,720"; "725.1" stays): for limits quoted in words, never a form's `min` or value.
+pub fn grouped(s: String) -> String {
+    let (sign, rest) = s.strip_prefix('-').map_or(("", s.as_str()), |r| ("-", r));
+    let (int, frac) = rest.split_once('.').map_or((rest, None), |(i, f)| (i, Some(f)));
+    if int.len() <= 3 || !int.bytes().all(|b| b.is_ascii_digit()) {
+        return s;
+    }
+    let mut out = String::from(sign);
+    for (i, c) in int.chars().enumerate() {
+        if i > 0 && (int.len() - i) % 3 == 0 {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    if let Some(f) = frac {
+        out.push('.');
+        out.push_str(f);
+    }
+    out
 }
 
 /// A number's decimal text without trailing zeros ("-0" is "0").
@@ -284,6 +306,21 @@ mod tests {
     // inch -> m 2.54 E-02 (exact); °F: t/°C = (t/°F - 32)/1.8 (B.9).
     fn close(a: f64, b: f64, rel: f64) -> bool {
         (a - b).abs() <= rel * b.abs().max(1e-300)
+    }
+
+    #[test]
+    fn a_limit_groups_its_digits_as_every_figure() {
+        // A walk read "at most 2641720 US gal" and "at most 70629 cfm free air".
+        assert_eq!(grouped("2641720".into()), "2,641,720");
+        assert_eq!(grouped("-1640".into()), "-1,640");
+        assert_eq!(grouped("725.1".into()), "725.1");
+        assert_eq!(grouped("12345.67".into()), "12,345.67");
+        assert_eq!(grouped("1000000".into()), "1,000,000");
+        // 10,000 m³ = 2,641,720.5 US gal (NIST SP 811: 1 US gal = 3.785 412 E-03 m³), rounded down.
+        assert_eq!(Entry::Volume.limit(Us, 10_000.0), "2,641,720 US gal");
+        // The form's `min` stays a plain number the browser can read.
+        assert_eq!(Entry::Altitude.min_text(Us, -500.0), "-1640");
+        assert_eq!(Entry::Altitude.lower_limit(Us, -500.0), "-1,640 ft");
     }
 
     #[test]
@@ -403,10 +440,10 @@ mod tests {
             Entry::GaugePressure.out_of_range(Us, p, 0.0, true, 50.0),
             "must be above 0 psig and at most 725.1 psig, got 800 psig"
         );
-        assert_eq!(Entry::FreeAirFlow.limit(Us, 2000.0), "70629 cfm");
+        assert_eq!(Entry::FreeAirFlow.limit(Us, 2000.0), "70,629 cfm");
         assert_eq!(
             Entry::Volume.out_of_range(Si, -1.0, 0.0, false, 10_000.0),
-            "must be at least 0 m³ and at most 10000 m³, got -1 m³"
+            "must be at least 0 m³ and at most 10,000 m³, got -1 m³"
         );
     }
 

@@ -389,6 +389,17 @@ impl PartLoadModel {
         super::display::render_parts(&self.describe_parts(), &si)
     }
 
+    /// The curve in words, as every page names it (never its code, `load_unload_with_storage`).
+    pub fn curve_words(&self) -> &'static str {
+        match self.curve.as_str() {
+            "load_unload_with_storage" => "load/unload on its storage",
+            "variable_speed_curve" => "variable speed, the data sheet's curve",
+            "variable_speed_typical" => "variable speed, a typical curve: no data-sheet curve given",
+            "modulation" => "modulation",
+            _ => "start/stop",
+        }
+    }
+
     /// The model in words with its figures as parts (the methods' and assumptions' lines, the
     /// control measure's basis), so each page renders them in its reader's units.
     pub fn describe_parts(&self) -> Vec<Part> {
@@ -396,7 +407,7 @@ impl PartLoadModel {
             "{} ({}): {} at {:.0} % load",
             self.machine,
             self.control.label(),
-            self.curve.replace('_', " "),
+            self.curve_words(),
             self.load_fraction * 100.0
         ))];
         if let (Some(v), Some(per)) = (self.storage_m3, self.storage_m3_per_m3_min) {

@@ -335,11 +335,20 @@ pub async fn save_compressor(
         );
         bind_compressor(sqlx::query(&sql).bind(audit_id), rec).execute(&mut *tx).await?.last_insert_rowid()
     } else {
+        let old_tag: Option<String> =
+            sqlx::query_scalar("SELECT tag FROM compressor WHERE id = ? AND audit_id = ?")
+                .bind(rec.id)
+                .bind(audit_id)
+                .fetch_optional(&mut *tx)
+                .await?;
         let sql = format!(
             "UPDATE compressor SET {} WHERE id = ? AND audit_id = ?",
             assignments(COMPRESSOR_COLUMNS)
         );
         bind_compressor(sqlx::query(&sql), rec).bind(rec.id).bind(audit_id).execute(&mut *tx).await?;
+        if let Some(old) = old_tag.filter(|t| *t != rec.spec.tag) {
+            retag::retag_mappings(&mut tx, rec.id, &old, &rec.spec.tag).await?;
+        }
         rec.id
     };
     bump(&mut tx, audit_id).await?;
@@ -656,6 +665,7 @@ async fn delete_owned(
 }
 
 mod field_tests;
+mod retag;
 mod scenarios;
 mod treatment;
 mod whole;

@@ -371,7 +371,18 @@ pub async fn decay_events(
     ApiPath(id): ApiPath<i64>,
 ) -> Result<Response, AppError> {
     let ev = st.app.decay_events(id).await?;
-    Ok(json(StatusCode::OK, &serde_json::json!({ "events": ev })))
+    // Each window's ends on the site's clock as every page says a time (`core::display::local_ms`:
+    // "CET", never the browser's "GMT+1").
+    let tz = st.app.bundle(id).await?.audit.site.timezone;
+    let mut events = serde_json::to_value(&ev).map_err(|e| AppError::Internal(e.into()))?;
+    for e in events.as_array_mut().into_iter().flatten() {
+        for (ms, local) in [("start_ms", "start_local"), ("end_ms", "end_local")] {
+            if let Some(t) = e.get(ms).and_then(serde_json::Value::as_i64) {
+                e[local] = crate::core::display::local_ms(t, &tz).into();
+            }
+        }
+    }
+    Ok(json(StatusCode::OK, &serde_json::json!({ "events": events })))
 }
 
 #[derive(Deserialize)]

@@ -104,7 +104,14 @@ window.airledger = {
     const p = this.wall(ms, tz), d = new Date(ms), zone = tz || "UTC";
     const part = (opts, type) => (new Intl.DateTimeFormat("en-US", Object.assign({ timeZone: zone }, opts))
       .formatToParts(d).find((x) => x.type === type) || {}).value;
-    const name = part({ timeZoneName: "short" }, "timeZoneName") || zone;
+    // The zone's abbreviation as the server's tz database says it ("CET"): en-US knows the
+    // American ones only and says "GMT+1" for Berlin, where en-GB says "CET".
+    let name = part({ timeZoneName: "short" }, "timeZoneName") || zone;
+    if (/^GMT[+-]/.test(name)) {
+      const gb = (new Intl.DateTimeFormat("en-GB", { timeZone: zone, timeZoneName: "short" }).formatToParts(d)
+        .find((x) => x.type === "timeZoneName") || {}).value;
+      if (gb && !/^(GMT|UTC)[+-]/.test(gb)) name = gb;
+    }
     return part({ weekday: "short" }, "weekday") + " " + Number(p.day) + " " + part({ month: "short" }, "month") + " " +
       p.year + " " + p.hour + ":" + p.minute + " " + name;
   },
@@ -140,8 +147,11 @@ window.airledger = {
     if (!field) return null;
     const words = { "timestamp.timezone": "time zone", "timestamp.format": "how dates are written", "timestamp.column": "timestamp column",
       delimiter: "delimiter", decimal: "decimal mark", header_line: "line with the column names", units_line: "line with the units",
-      first_data_line: "first data line", columns: "columns" };
+      first_data_line: "first data line" };
     if (words[field]) return words[field];
+    // The mapping's columns as a whole, or the logged data (a what-if's "frame"): the message says
+    // what is wrong in words, and a code in brackets after it would say nothing more.
+    if (field === "columns" || field === "frame") return null;
     // A column's or a what-if change's own fields: the message names them in words.
     if (/^(columns|changes)\[/.test(field)) return null;
     return field.replace(/_(bar_g|m3_min|m3|kw|s|c|mm)$/, "").replace(/[._]/g, " ");

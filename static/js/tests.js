@@ -152,7 +152,7 @@
         const accept = A.el("button", { type: "button" }, "accept as test");
         const start = A.isoLocal(ev.start_ms, tz), end = A.isoLocal(ev.end_ms, tz);
         accept.addEventListener("click", () => post({ kind: "pressure_decay", start: start, end: end }));
-        tb.append(A.el("tr", {}, A.el("td", {}, A.localTime(ev.start_ms, tz)), A.el("td", {}, A.localTime(ev.end_ms, tz)),
+        tb.append(A.el("tr", {}, A.el("td", {}, ev.start_local || A.localTime(ev.start_ms, tz)), A.el("td", {}, ev.end_local || A.localTime(ev.end_ms, tz)),
           A.el("td", {}, shown("gauge_pressure", ev.start_pressure_bar_g) + " \u2192 " + shown("gauge_pressure", ev.end_pressure_bar_g) + " " + unit("gauge_pressure")),
           A.el("td", { class: "num" }, (ev.duration_s / 60).toFixed(1) + " min"),
           A.el("td", {}, ev.all_off ? "all off" : "off or unloaded, outside production"),

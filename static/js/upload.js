@@ -195,9 +195,13 @@
       else if (!comp.value) comp.value = c.compressor || only || "";
       details.replaceChildren();
       if (q.value === "current") {
-        details.append(num("volts", "V (line)", c.volts || 400), num("phases", "phases", c.phases || 3, "1"),
-          num("pf", "PF loaded", c.power_factor || 0.85), num("upf", "PF unloaded", c.unloaded_power_factor),
+        // Defaults that follow the audit's unit system (ingest::mapping::current_defaults), said
+        // as assumptions until someone gives the motor's own figures.
+        const D = data.current_defaults;
+        details.append(num("volts", "V (line)", c.volts || D.volts), num("phases", "phases", c.phases || D.phases, "1"),
+          num("pf", "PF loaded", c.power_factor || D.power_factor), num("upf", "PF unloaded", c.unloaded_power_factor),
           num("ubelow", "unloaded below, A", c.unloaded_below_a));
+        if (!c.volts && !c.power_factor) details.append(A.el("span", { class: "hint current-assumed" }, D.note));
       }
       if (q.value === "flow" && isLineFlow(u.value)) {
         // Actual volume: free air only once the line's pressure and temperature are known.

@@ -806,6 +806,9 @@ fn the_upload_page_marks_the_layout_and_imports_markers_as_missing() {
 #[path = "browser_undo.rs"]
 mod undo;
 
+#[path = "browser_walkfix16.rs"]
+mod walkfix16;
+
 #[path = "browser_thin.rs"]
 mod thin;
 

@@ -118,6 +118,10 @@ fn a_counter_that_hides_the_loading_leaves_no_demand_to_replay_and_the_page_says
         "id=\"no-trace\">No pressure to draw: there is no demand to replay (why is said under each replay)."
     ));
     assert!(!page.contains("mark as the proposal"), "a replay of nothing offered as the proposal");
+    // No replayed length to quote: the headings say "the period", never "the – replayed" (a walk).
+    assert!(!page.contains("– of log") && !page.contains("the – "), "a dash for the period");
+    assert!(page.contains("over the replayed period. "), "the time bases");
+    assert!(page.contains("Energy over the period replayed,"), "the energy heading");
 
     // It cannot be the proposal, and the refusal says why.
     let sid = more.json()["id"].as_i64().unwrap();

@@ -185,7 +185,7 @@ fn compressor_receiver_site_and_what_if_refusals_speak_the_audits_units() {
     let m = message(
         s.patch_json(&format!("/api/v1/audits/{id}"), &json!({"site": {"altitude_m": 30_000.0 * 0.3048}})),
     );
-    assert_eq!(m, "the altitude must be at least -1640 ft and at most 19685 ft, got 30000 ft");
+    assert_eq!(m, "the altitude must be at least -1,640 ft and at most 19,685 ft, got 30000 ft");
     let m = message(s.post_json(
         &format!("/api/v1/audits/{id}/scenarios"),
         &json!({"name": "too high", "changes": [{"op": "set_pressure", "target_bar_g": 800.0 * bar_per_psi}]}),
@@ -213,7 +213,7 @@ fn compressor_receiver_site_and_what_if_refusals_speak_the_audits_units() {
     );
     assert_eq!(r.status, 422, "{}", r.text);
     assert!(
-        r.text.contains("the altitude must be at least -1640 ft and at most 19685 ft, got 30000 ft"),
+        r.text.contains("the altitude must be at least -1,640 ft and at most 19,685 ft, got 30000 ft"),
         "{}",
         r.text
     );

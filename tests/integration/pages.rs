@@ -177,7 +177,8 @@ fn confirmations_and_messages_say_what_in_words() {
         ),
         "{page}"
     );
-    // A load/unload test, named by its kind and its time on the site's clock.
+    // A load/unload test, named by its kind, its number in the table and its inputs as the table
+    // says them (a walk was shown a recording time the table never shows).
     let t = s.post_json(
         &format!("/api/v1/audits/{id}/field-tests"),
         &json!({"kind": "load_unload", "compressor": "C1", "loaded_s": 20, "unloaded_s": 80}),
@@ -185,13 +186,20 @@ fn confirmations_and_messages_say_what_in_words() {
     assert_eq!(t.status, 201, "{}", t.text);
     let tid = t.json()["id"].as_i64().unwrap();
     let page = s.get(&format!("/audits/{id}/tests/{tid}/delete")).text;
-    assert!(page.contains("Delete the load/unload test of "), "{page}");
-    assert!(page.contains(" CST") || page.contains(" CDT"), "the time on Chicago's clock: {page}");
+    assert!(page.contains(&format!("Delete the load/unload test no. {tid}?")), "{page}");
+    assert!(
+        page.contains("Load/unload timing: Compressor C1: loaded for 20 s and unloaded for 80 s on average"),
+        "{page}"
+    );
+    assert!(!page.contains(" CST") && !page.contains(" CDT"), "no recording time: {page}");
     assert!(!page.contains("load unload"), "{page}");
     let r = s.post_form(&format!("/audits/{id}/tests/{tid}/delete"), &[("confirm", "yes")]);
     assert_eq!(r.status, 303);
     let page = s.get(r.header("location").unwrap()).text;
-    assert!(page.contains("id=\"done-message\"") && page.contains("The load/unload test of "), "{page}");
+    assert!(
+        page.contains("id=\"done-message\"") && page.contains(&format!("The load/unload test no. {tid} ")),
+        "{page}"
+    );
     // A re-map says it was done, naming the file.
     let r = s.post_form(
         &format!("/audits/{id}/uploads/{uid}/remap"),

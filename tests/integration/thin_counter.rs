@@ -117,7 +117,8 @@ fn a_counters_power_far_above_its_data_sheet_is_flagged_at_import() {
         flag["reason"],
         "power of C2 from its energy counter (the mean over a minute or more) up to 34.0 kW, above 1.25 x its \
          rated 8 kW (a motor's service factor of 1.15 and the fan's share allow some 25 % over the data sheet \
-         at raised pressure, common practice): check the unit, the scale or the compressor of the column"
+         at raised pressure, common practice): an energy logged in Wh read as kWh? check the unit, the scale \
+         or the compressor of the column"
     );
     let warnings: Vec<&str> =
         counter["warnings"].as_array().unwrap().iter().map(|w| w.as_str().unwrap()).collect();

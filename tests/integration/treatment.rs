@@ -252,7 +252,10 @@ fn the_treatment_page_takes_records_in_the_readers_units() {
     );
     assert_eq!(r.status, 422, "{}", r.text);
     assert!(r.text.contains("purge"), "the reason is shown");
-    // Removal needs the box ticked.
+    // Removal needs the box ticked, and the box says what goes (a walk found it labelled "sure").
+    let page = s.get(&format!("/audits/{id}/treatment")).text;
+    assert!(page.contains("> yes, remove Drain T1 and what the report reads from it</label>"), "{page}");
+    assert!(!page.contains("> sure</label>"));
     let did = drains["drains"][0]["id"].as_i64().unwrap();
     let r = s.post_form(&format!("/audits/{id}/treatment/drains/{did}/delete"), &[]);
     assert_eq!(r.status, 422, "{}", r.text);

@@ -112,6 +112,12 @@ fn no_volume_on_record_assumes_3_us_gal_per_cfm_and_says_so() {
     assert!(model.storage_assumed && model.curve == "load_unload_with_storage");
     assert!((model.storage_us_gal_per_cfm.unwrap() - 3.0).abs() < 1e-12);
     assert!(model.describe().contains("assumed"), "{}", model.describe());
+    // Said in words, never the code with its underscores replaced ("load unload with storage").
+    assert!(
+        model.describe().starts_with(" (load/unload): load/unload on its storage at 50 % load"),
+        "{}",
+        model.describe()
+    );
     // On small storage the slope is below the ideal line's.
     assert!(model.marginal_kw_per_m3_min < model.ideal_marginal_kw_per_m3_min);
 }
@@ -126,6 +132,11 @@ fn variable_speed_prices_at_the_data_sheets_local_slope_modulation_and_start_sto
     assert!((m.marginal_kw_per_m3_min(6.5) - 6.5).abs() < 1e-9);
     let model = PartLoadModel::of(&m, 3.0, ("data_sheet", "data_sheet"));
     assert_eq!(model.curve, "variable_speed_curve");
+    assert!(
+        model.describe().contains("): variable speed, the data sheet's curve at "),
+        "{}",
+        model.describe()
+    );
     assert!(model.storage_m3.is_none() && !model.storage_assumed);
     let modu = CompressorSpec::blank(CompressorKind::LubricatedScrew, Control::Modulation, 55.0, 9.5);
     assert!((machine(&modu, 5.0, 1.0).marginal_kw_per_m3_min(4.0) - 0.30 * 55.0 / 9.5).abs() < 1e-9);

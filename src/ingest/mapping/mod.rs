@@ -427,6 +427,30 @@ pub fn units_by_quantity() -> serde_json::Value {
     serde_json::Value::Object(by_quantity)
 }
 
+/// What the mapping form puts in a current column's details before anyone types: assumptions, said
+/// beside the fields as such, for the auditor to check against the motor's nameplate. Three phases
+/// and a loaded power factor of 0.85 (a screw compressor's induction motor near full load, common
+/// practice); the line voltage follows the audit's unit system: 400 V in an SI audit (IEC 60038's
+/// low-voltage network), 460 V in a US audit (the motor rating for 480 V three-phase systems,
+/// NEMA MG 1, from memory; common practice for US industrial plants). A wrong guess moves every kW
+/// read from the column in proportion, hence the note.
+pub fn current_defaults(units: crate::core::units::UnitSystem) -> serde_json::Value {
+    let volts = match units {
+        crate::core::units::UnitSystem::Si => 400.0,
+        crate::core::units::UnitSystem::Us => 460.0,
+    };
+    serde_json::json!({
+        "volts": volts,
+        "phases": 3,
+        "power_factor": 0.85,
+        "note": format!(
+            "Assumed, not read from the file: {volts} V between lines, 3 phases, power factor 0.85 loaded. \
+             Check them against the motor's nameplate (or measure a spot reading of amps and kW): every kW \
+             read from this column moves in proportion."
+        ),
+    })
+}
+
 /// Validate a mapping against a header and resolve it.
 pub fn plan(mapping: &Mapping, header: &[String]) -> Result<Plan, IngestError> {
     let delimiter = delimiter_byte(&mapping.delimiter).ok_or_else(|| {

@@ -19,7 +19,8 @@ Rules (common practice in reviewing logger data; the thresholds are ours, docume
   reading (spacings above 2x the running typical interval).
 - **Flat line**: the same value for at least 30 min and at least 30 readings in a row (a stuck
   sensor, or a compressor that is off: both worth a look).
-- **Out of range** (kept, reported): power below -0.5 kW, flow below -0.05 m³/min (negative
+- **Out of range** (kept, reported): power below zero (a motor's active power never is: a
+  current transformer turned round, a meter's zero offset or the wrong column), flow below -0.05 m³/min (negative
   beyond noise), pressure above 100 bar g or below -0.1 bar g (a compressed-air line never runs
   below the atmosphere; 0.1 bar allows for a transmitter's zero error, common practice),
   temperature outside -50..200 °C, a negative counter.
@@ -33,7 +34,12 @@ Rules (common practice in reviewing logger data; the thresholds are ours, docume
   run continuously at its service factor, 1.15 of its nameplate (NEMA MG 1 for motors with that
   service factor, from memory), and the fan and the motor's losses add a few per cent more (common
   practice): above 1.25, the column's unit, scale, current transformer ratio or compressor is
-  wrong, or the machine is overloaded; a compressor's own flow above
+  wrong, or the machine is overloaded; a compressor whose power never reaches
+  [`POWER_UNDER_RATED`] (5 %) of its rated package power over the whole file (its highest mean over
+  a minute or more): a screw compressor running unloaded draws some 20-35 % of its full-load power
+  (common practice), so a machine that ran reads more; below 5 %, the column is in kW read as W (a
+  thousand times too low), the wrong column or compressor, or the machine did not run while the
+  file was logged (said as a question, for the auditor to settle); a compressor's own flow above
   [`FLOW_OVER_RATED`] (1.5) × its rated free air delivery; a system flow above 1.5 × the sum of the
   compressors' rated free air delivery (a meter downstream of a receiver may briefly read more than
   the compressors make while the receiver empties, hence the margin). The highest reading of each
@@ -195,6 +201,12 @@ pub const POWER_OVER_RATED: f64 = 1.25;
 pub const POWER_OVER_RATED_BASIS: &str =
     "a motor's service factor of 1.15 and the fan's share allow some 25 % \
      over the data sheet at raised pressure, common practice";
+/// A compressor whose power never reaches this share of its rated package power over the whole
+/// file (its highest mean over a minute or more) did not run as logged (module doc).
+pub const POWER_UNDER_RATED: f64 = 0.05;
+/// Why [`POWER_UNDER_RATED`], in the words of the quality report.
+pub const POWER_UNDER_RATED_BASIS: &str =
+    "a screw compressor running unloaded draws some 20-35 % of its full-load power, common practice";
 /// A flow above this multiple of the rated free air delivery is implausible (module doc).
 pub const FLOW_OVER_RATED: f64 = 1.5;
 
@@ -310,22 +322,39 @@ impl QualityReport {
                 },
             };
             let check = "check the unit, the scale or the compressor of the column";
+            let over = if counter {
+                " from its energy counter (the mean over a minute or more)"
+            } else if c.sustained_power.is_some() {
+                " (the mean over a minute or more)"
+            } else {
+                ""
+            };
+            // The unit mistake each direction points to: a thousand times too high or too low.
+            let (logged, big, small) =
+                if counter { ("an energy", "kWh", "Wh") } else { ("a power", "kW", "W") };
             let reason_parts: Vec<Part> = match (c.quantity, machine) {
                 (Quantity::Power | Quantity::Energy, Some(m))
                     if h.si > POWER_OVER_RATED * m.rated_power_kw * 1000.0 =>
                 {
                     vec![format!(
-                        "power of {}{} up to {}, above {POWER_OVER_RATED} x its rated {} kW ({POWER_OVER_RATED_BASIS}): \
-                         {check}",
+                        "power of {}{over} up to {}, above {POWER_OVER_RATED} x its rated {} kW ({POWER_OVER_RATED_BASIS}): \
+                         {logged} logged in {small} read as {big}? {check}",
                         m.tag,
-                        if counter {
-                            " from its energy counter (the mean over a minute or more)"
-                        } else if c.sustained_power.is_some() {
-                            " (the mean over a minute or more)"
-                        } else {
-                            ""
-                        },
                         crate::core::display::power_words(h.si),
+                        m.rated_power_kw
+                    )
+                    .into()]
+                }
+                (Quantity::Power | Quantity::Energy, Some(m))
+                    if m.rated_power_kw > 0.0 && h.si < POWER_UNDER_RATED * m.rated_power_kw * 1000.0 =>
+                {
+                    vec![format!(
+                        "power of {}{over} never above {}, under {} % of its rated {} kW ({POWER_UNDER_RATED_BASIS}): \
+                         {logged} logged in {big} read as {small}, the wrong column or compressor, or a machine \
+                         that did not run while the file was logged? {check}",
+                        m.tag,
+                        crate::core::display::power_words(h.si),
+                        POWER_UNDER_RATED * 100.0,
                         m.rated_power_kw
                     )
                     .into()]

@@ -280,7 +280,8 @@ fn a_counters_power_far_above_the_data_sheet_is_implausible_and_its_last_digit_i
         c.implausible[0].reason,
         "power of C1 from its energy counter (the mean over a minute or more) up to 36.0 kW, above 1.25 x \
          its rated 20 kW (a motor's service factor of 1.15 and the fan's share allow some 25 % over the data \
-         sheet at raised pressure, common practice): check the unit, the scale or the compressor of the column"
+         sheet at raised pressure, common practice): an energy logged in Wh read as kWh? check the unit, the \
+         scale or the compressor of the column"
     );
     assert!(r
         .warnings("UTC")
@@ -328,4 +329,74 @@ fn a_power_column_is_checked_by_its_mean_over_a_minute_so_a_start_is_not_flagged
     assert!(f.reason.starts_with(
         "power of C1 (the mean over a minute or more) up to 84.3 kW, above 1.25 x its rated 62 kW"
     ));
+}
+
+/// A 55 kW machine at one reading a minute for an hour, each reading `kw(i)`, checked against its
+/// data sheet, the column mapped in W.
+fn a_55_kw_machine_in_w(kw: impl Fn(i64) -> f64) -> QualityReport {
+    let ch = [chan(Quantity::Power, "W")];
+    let conv = [Converter::Linear { scale: 1.0, offset: 0.0 }];
+    let mut q = QualityTracker::new(&ch, &conv, 101_325.0);
+    for i in 0..60i64 {
+        q.reading(0, i as u64 + 2, i * 60_000, kw(i) * 1000.0);
+    }
+    let mut r = q.finish();
+    r.check_against_rated(&[RatedMachine { tag: "C1".into(), rated_power_kw: 55.0, rated_flow_m3_min: 9.5 }]);
+    r
+}
+
+#[test]
+fn a_power_that_never_reaches_a_twentieth_of_the_data_sheet_is_implausible() {
+    // A walk mapped a column logged in kW (up to about 4 kW) as W on a 55 kW machine: it read at
+    // most 4 W and the quality report found nothing. An unloaded screw draws some 20-35 % of its
+    // full-load power (common practice), so a machine that ran reads more than 5 % of its data
+    // sheet: 5 % of 55 kW is 2.75 kW.
+    let r = a_55_kw_machine_in_w(|i| if i == 30 { 0.0042 } else { 0.001 });
+    let c = &r.channels[0];
+    assert_eq!(c.implausible.len(), 1, "{:?}", c.implausible);
+    let f = &c.implausible[0];
+    assert_eq!((f.line, f.value), (32, 4.2));
+    assert_eq!(
+        f.reason,
+        "power of C1 (the mean over a minute or more) never above 4.2 W, under 5 % of its rated 55 kW (a \
+         screw compressor running unloaded draws some 20-35 % of its full-load power, common practice): a \
+         power logged in kW read as W, the wrong column or compressor, or a machine that did not run while \
+         the file was logged? check the unit, the scale or the compressor of the column"
+    );
+    let w = r.warnings("UTC");
+    assert!(
+        w.iter().any(|w| w.starts_with("C1 W: implausible: power of C1")
+            && w.contains("at line 32 (as logged: 4.2 W)")),
+        "{w:?}"
+    );
+    // An unloaded machine at 20 % of its data sheet, loaded once at 100 %: no finding; nor one
+    // that only ever ran unloaded (11 kW, above 2.75 kW).
+    assert!(a_55_kw_machine_in_w(|i| if i == 10 { 55.0 } else { 11.0 }).channels[0].implausible.is_empty());
+    assert!(a_55_kw_machine_in_w(|_| 11.0).channels[0].implausible.is_empty());
+    // Just above and just below the line.
+    assert!(a_55_kw_machine_in_w(|i| if i == 5 { 2.76 } else { 0.0 }).channels[0].implausible.is_empty());
+    assert_eq!(a_55_kw_machine_in_w(|i| if i == 5 { 2.74 } else { 0.0 }).channels[0].implausible.len(), 1);
+}
+
+#[test]
+fn a_negative_power_is_out_of_range() {
+    // A walk's file logged -2.7 W on a compressor and nothing said so: a motor's active power is
+    // never below zero, so any negative reading is a finding (kept, as every finding).
+    let r = a_55_kw_machine_in_w(|i| match i {
+        3 => -0.0027,
+        4 => -0.0001,
+        _ => 40.0,
+    });
+    let o = &r.channels[0].out_of_range;
+    assert_eq!(o.count, 2);
+    assert_eq!((o.examples[0].line, o.examples[0].value), (5, -2.7));
+    assert!(o.examples[0].reason.starts_with("negative power"));
+    let w = r.warnings("UTC");
+    assert!(
+        w.iter().any(|w| w.starts_with("C1 W: 2 readings out of range (negative power")
+            && w.contains("the first is -2.7 W at line 5 (as logged: -2.7 W)")),
+        "{w:?}"
+    );
+    // Zero is no finding: a machine that is off.
+    assert!(a_55_kw_machine_in_w(|i| if i < 30 { 0.0 } else { 40.0 }).channels[0].out_of_range.count == 0);
 }

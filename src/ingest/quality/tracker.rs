@@ -62,10 +62,15 @@ struct Range {
     above: &'static str,
 }
 
+/// Why a negative power is out of range, in the quality report's words.
+const NEGATIVE_POWER: &str = "negative power: a compressor's motor never draws less than nothing; \
+     a current transformer turned round, a meter's zero offset or the wrong column";
+
 fn range_for(q: Quantity, atmosphere_pa: f64) -> Range {
     let none = f64::INFINITY;
     match q {
-        Quantity::Power => Range { min_si: -500.0, max_si: none, below: "negative power", above: "" },
+        // Below zero at all: a motor's active power is never negative (module doc).
+        Quantity::Power => Range { min_si: 0.0, max_si: none, below: NEGATIVE_POWER, above: "" },
         Quantity::Flow => Range { min_si: -0.05 / 60.0, max_si: none, below: "negative flow", above: "" },
         Quantity::Pressure => Range {
             min_si: atmosphere_pa - 0.1 * PA_PER_BAR,
@@ -94,7 +99,7 @@ pub(super) fn range_parts(q: Quantity, below: bool) -> Vec<Part> {
             ": a compressed-air line never runs below the atmosphere".into(),
         ],
         (Quantity::Pressure, false) => vec!["above ".into(), text::bar_g(100.0)],
-        (Quantity::Power, _) => vec!["negative power, below -0.5 kW".into()],
+        (Quantity::Power, _) => vec![NEGATIVE_POWER.into()],
         (Quantity::Flow, _) => vec!["negative flow, below ".into(), text::flow(-0.05)],
         (Quantity::Temperature, true) => vec!["below ".into(), text::temperature_c(-50.0)],
         (Quantity::Temperature, false) => vec!["above ".into(), text::temperature_c(200.0)],

@@ -282,8 +282,13 @@ pub struct ReadRow {
 /// A timestamp format in words, the date's order first: `%d/%m/%Y %H:%M:%S` is
 /// "day/month/year, hh:mm:ss".
 pub fn format_words(format: &str) -> String {
-    if format == "rfc3339" {
-        return "year-month-day, hh:mm:ss and the UTC offset (ISO 8601)".into();
+    match format {
+        "rfc3339" => return "year-month-day, hh:mm:ss and the UTC offset (ISO 8601)".into(),
+        "unix_s" | "unix" | "epoch" | "epoch_s" => {
+            return "seconds since 1970-01-01 00:00 UTC (Unix time)".into()
+        }
+        "unix_ms" | "epoch_ms" => return "milliseconds since 1970-01-01 00:00 UTC (Unix time)".into(),
+        _ => {}
     }
     let split = format.find([' ', 'T']).unwrap_or(format.len());
     let (date, time) = format.split_at(split);
@@ -378,6 +383,9 @@ mod reading_tests {
         assert_eq!(format_words("%Y-%m-%dT%H:%M:%S"), "year-month-day, hh:mm:ss");
         assert_eq!(format_words("%d-%b-%Y %H:%M"), "day-month name-year, hh:mm");
         assert_eq!(format_words("%s"), "as written: %s");
+        // A walk saw the option "unix_s" in the list of how the dates are written.
+        assert_eq!(format_words("unix_s"), "seconds since 1970-01-01 00:00 UTC (Unix time)");
+        assert_eq!(format_words("unix_ms"), "milliseconds since 1970-01-01 00:00 UTC (Unix time)");
     }
 
     #[test]

@@ -161,9 +161,26 @@ pub struct Progress {
 /// A channel this file writes, resolved against the audit.
 struct PlannedChannel {
     id: i64,
+    /// The file's column it is read from, for a refusal in words.
+    column: String,
     label: String,
     quantity: &'static str,
     compressor: Option<String>,
+}
+
+/// Two columns of one file read as the same thing (one machine's power, one measuring point), said
+/// with both columns' names: one of them is to be left out, or given another machine or point.
+fn same_reading_twice(first: &str, second: &str, quantity: &str, d: &ingest::ChannelDef) -> String {
+    let what = match (quantity, d.compressor.as_deref()) {
+        ("power", Some(tag)) => format!("the power of {tag} (a current is read as power)"),
+        ("energy", Some(tag)) => format!("the energy counter of {tag}"),
+        (q, Some(tag)) => format!("the {q} of {tag}"),
+        (q, None) => format!("the {q} \u{201c}{}\u{201d}", d.label),
+    };
+    format!(
+        "the columns \u{201c}{first}\u{201d} and \u{201c}{second}\u{201d} are both read as {what}: leave one \
+         out, or give it another compressor or measuring point's name"
+    )
 }
 
 fn bad(message: String, field: Option<String>) -> ImportError {
@@ -301,18 +318,16 @@ pub async fn import_file(
                 .execute(&mut *tx)
                 .await?;
         }
-        if planned.iter().any(|p: &PlannedChannel| p.id == id) {
+        let column = req.mapping.columns.get(i).map_or_else(|| d.label.clone(), |c| c.column.clone());
+        if let Some(first) = planned.iter().find(|p: &&PlannedChannel| p.id == id) {
             return Err(bad(
-                format!(
-                    "two columns map to the same channel ({} {})",
-                    quantity,
-                    d.compressor.as_deref().unwrap_or(&d.label)
-                ),
+                same_reading_twice(&first.column, &column, quantity, d),
                 Some(format!("columns[{i}]")),
             ));
         }
         planned.push(PlannedChannel {
             id,
+            column,
             label: d.label.clone(),
             quantity,
             compressor: d.compressor.clone(),

@@ -153,11 +153,17 @@ async fn describe(
             let t =
                 b.field_tests.iter().find(|t| t.id == item).ok_or_else(|| gone("field test", id, item))?;
             let q = crate::app::fieldtests::result_of(t).map_or(f64::NAN, |r| r.leak_flow_m3_min());
-            let name = super::words::test_name(t, &b.audit.site.timezone);
-            let lines = vec![format!(
-                "The {name}, leak flow {}; the leak estimate of the report no longer counts it.",
-                fmt.flow_m3_min(q)
-            )];
+            let name = super::words::test_name(t);
+            // As the table of recorded tests shows it: its method and what was measured.
+            let row =
+                super::words::test_rows(std::slice::from_ref(t), &fmt, &b.audit.site.timezone).remove(0);
+            let lines = vec![
+                format!("{}: {}", row.method, row.input),
+                format!(
+                    "The {name}, leak flow {}; the leak estimate of the report no longer counts it.",
+                    fmt.flow_m3_min(q)
+                ),
+            ];
             (format!("Delete the {name}?"), lines, "Delete the test".into())
         }
         Kind::Scenario => {
@@ -203,11 +209,7 @@ async fn delete(st: &AppState, kind: Kind, id: i64, item: i64, form: &HashMap<St
         Kind::Compressor => b.compressors.iter().find(|c| c.id == item).map(|c| c.spec.tag.clone()),
         Kind::Receiver => b.receivers.iter().find(|r| r.id == item).map(|r| r.name.clone()),
         Kind::Upload => b.uploads.iter().find(|u| u.id == item).map(|u| u.filename.clone()),
-        Kind::FieldTest => b
-            .field_tests
-            .iter()
-            .find(|t| t.id == item)
-            .map(|t| super::words::test_name(t, &b.audit.site.timezone)),
+        Kind::FieldTest => b.field_tests.iter().find(|t| t.id == item).map(super::words::test_name),
         Kind::Scenario => app.scenario(id, item).await.ok().map(|s| s.name),
     }
     .unwrap_or_default();

@@ -28,6 +28,8 @@ struct FindingsPage {
     system_volume_m3: f64,
     atmosphere: String,
     printed: String,
+    /// The reader's unit choice for the nav's report and findings links (`units_query`).
+    units_query: String,
     other_units: &'static str,
     other_units_label: &'static str,
     tests: Vec<TestRow>,
@@ -74,6 +76,7 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
     Ok(FindingsPage {
         stale_proposal: app.stale_proposal(id, b.audit.revision).await?,
         outside_bounds,
+        units_query: super::units_query(&b, q),
         other_units,
         other_units_label,
         tests: test_rows(&b.field_tests, &fmt, &tz),
@@ -83,7 +86,7 @@ async fn findings_page(app: &App, id: i64, q: &ViewQuery) -> Result<FindingsPage
         atmosphere: fmt.pressure_abs_kpa(b.audit.site.atmospheric_pressure_kpa_abs()),
         printed: jiff::Timestamp::now()
             .to_zoned(jiff::tz::TimeZone::get(&tz).unwrap_or(jiff::tz::TimeZone::UTC))
-            .date()
+            .strftime("%a %-d %b %Y")
             .to_string(),
         fmt,
         view,

@@ -125,6 +125,15 @@ pub(crate) fn reader_fmt(b: &AuditBundle, q: &ViewQuery) -> Fmt {
     Fmt::new(units, b.audit.site.air().atmosphere)
 }
 
+/// The reader's unit choice for the links between the report and the findings (`?units=us`), so
+/// that following one keeps the units read; empty when the reader reads the audit's own units.
+pub(crate) fn units_query(b: &AuditBundle, q: &ViewQuery) -> String {
+    match q.units.as_deref().and_then(UnitSystem::parse) {
+        Some(u) if u != b.audit.site.display_units => format!("?units={}", u.as_str()),
+        _ => String::new(),
+    }
+}
+
 /// The IANA time-zone names a person chooses from (the form's datalist, searched as one types):
 /// the zones of the bundled database that name a place, and UTC; sorted.
 pub(crate) fn zone_names() -> Vec<String> {

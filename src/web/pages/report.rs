@@ -20,6 +20,8 @@ struct ReportPage {
     other_units_label: &'static str,
     /// The proposal's name when it was replayed on earlier data and is left out of the measures.
     stale_proposal: Option<String>,
+    /// The reader's unit choice for the nav's report and findings links (`units_query`).
+    units_query: String,
 }
 
 pub async fn report(
@@ -38,5 +40,14 @@ pub async fn report(
     } else {
         ("us", "Show US customary units (psig, cfm)")
     };
-    Ok(render(&ReportPage { audit: b.audit, fmt, view, other_units, other_units_label, stale_proposal }))
+    let units_query = super::units_query(&b, &q);
+    Ok(render(&ReportPage {
+        audit: b.audit,
+        fmt,
+        view,
+        other_units,
+        other_units_label,
+        stale_proposal,
+        units_query,
+    }))
 }

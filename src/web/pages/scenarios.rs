@@ -121,8 +121,11 @@ struct ScenariosPage {
     energy_unit: &'static str,
     /// The one unit of the saving column, set by its least saving (`EnergyUnit::for_differences`).
     saving_unit: &'static str,
-    /// The replayed period's length (the energy columns' time base), e.g. "168 h".
+    /// The replayed period's length (the energy columns' time base), e.g. "168 h"; "period" when
+    /// no replay has demand, so that no heading reads "over the – replayed".
     period: String,
+    /// Whether `period` is a length (a replay with demand exists).
+    period_known: bool,
     /// What the yearly columns are: the replayed share applied to the plant's annual energy, or why
     /// they are not given (the annual energy withheld).
     annual_basis: String,
@@ -296,6 +299,12 @@ pub async fn scenarios(
         serde_json::json!({"id": s.id, "name": s.name, "changes": s.changes, "implementation_cost": quoted})
     });
     let editing = q.edit.and_then(|e| list.iter().find(|s| s.id == e)).map(|s| s.name.clone());
+    // The longest replay with demand: the energy columns' time base.
+    let period_hours = outcomes
+        .iter()
+        .filter(|r| r.no_demand_reason.is_none())
+        .filter_map(|r| r.simulated_hours)
+        .fold(None, |m: Option<f64>, h| Some(m.map_or(h, |m| m.max(h))));
     Ok(render(&ScenariosPage {
         page_data: serde_json::json!({"audit_id": id, "traces": traces, "edit": edit,
             "entry": Inputs::new(fmt.units).page_data(), "timezone": b.audit.site.timezone}),
@@ -312,12 +321,8 @@ pub async fn scenarios(
             .min_text(fmt.units, crate::core::model::low_limit_bar_g(&b.specs()).unwrap_or(0.0).max(0.0)),
         energy_unit: energy_unit.label(),
         saving_unit: saving_unit.label(),
-        period: outcomes
-            .iter()
-            .filter(|r| r.no_demand_reason.is_none())
-            .filter_map(|r| r.simulated_hours)
-            .fold(None, |m: Option<f64>, h| Some(m.map_or(h, |m| m.max(h))))
-            .map_or("–".into(), |h| fmt.hours(h)),
+        period_known: period_hours.is_some(),
+        period: period_hours.map_or("period".into(), |h| fmt.hours(h)),
         annual_basis: if annual_kwh.is_finite() {
             format!(
                 "The cost saving and payback are a year's: the share a replay saves of the baseline replay, \

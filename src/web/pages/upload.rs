@@ -39,6 +39,7 @@ pub async fn upload(
         "units": crate::ingest::units_by_quantity(),
         "entry": Inputs::new(b.audit.site.display_units).page_data(),
         "timezone": b.audit.site.timezone,
+        "current_defaults": crate::ingest::mapping::current_defaults(b.audit.site.display_units),
     });
     let tz = b.audit.site.timezone.clone();
     let spans = b

@@ -443,13 +443,7 @@ fn part_load_note(m: &PartLoadModel, fmt: &Fmt) -> String {
     let mut parts = vec![format!(
         "what a change of demand costs on {}'s part-load curve ({}), at {} load",
         m.machine,
-        match m.curve.as_str() {
-            "load_unload_with_storage" => "load/unload on its storage",
-            "variable_speed_curve" => "variable speed, the data sheet's curve",
-            "variable_speed_typical" => "variable speed, a typical curve: no data-sheet curve given",
-            "modulation" => "modulation",
-            _ => "start/stop",
-        },
+        m.curve_words(),
         fmt.percent(m.load_fraction)
     )];
     if let (Some(v), Some(per), Some(gal)) = (m.storage_m3, m.storage_m3_per_m3_min, m.storage_us_gal_per_cfm)

@@ -207,10 +207,10 @@ pub fn leak_estimate_label(e: &crate::core::analysis::LeakEstimateFigure) -> Str
     }
 }
 
-/// A recorded field test named in words for a sentence: its kind and its time on the site's
-/// clock, the logged window's start for a test read from the logs, else when it was recorded
-/// ("load/unload test of Thu 12 Mar 2026 14:05 CDT").
-pub fn test_name(t: &FieldTestRecord, tz: &str) -> String {
+/// A recorded field test named in words for a sentence: its kind and its number in the table of
+/// recorded tests ("load/unload test no. 3"), never the time it was recorded, which the table does
+/// not show; the confirmation adds its inputs as the table says them ([`test_rows`]).
+pub fn test_name(t: &FieldTestRecord) -> String {
     let kind = match t.kind.as_str() {
         "bleed_down" => "bleed-down test",
         "load_unload" => "load/unload test",
@@ -218,8 +218,7 @@ pub fn test_name(t: &FieldTestRecord, tz: &str) -> String {
         "pressure_decay" => "pressure-decay test in the logs",
         _ => "field test",
     };
-    let at = t.input.get("start").and_then(|v| v.as_str()).unwrap_or(&t.created_at);
-    format!("{kind} of {}", local_time(at, tz))
+    format!("{kind} no. {}", t.id)
 }
 
 use crate::core::display::seconds;
