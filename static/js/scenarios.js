@@ -44,7 +44,7 @@
     if (f.remove.value) push({ op: "remove", tag: f.remove.value }, "remove");
     if (f.target_bar_g.value) push({ op: "set_pressure", target_bar_g: A.entry.stored(E, f.target_bar_g) }, "target_bar_g");
     if (f.add_storage_m3.value) push({ op: "add_storage", volume_m3: A.entry.stored(E, f.add_storage_m3) }, "add_storage_m3");
-    if (f.reduce_leaks.value) push({ op: "reduce_leaks", fraction: Number(f.reduce_leaks.value) }, "reduce_leaks");
+    if (f.reduce_leaks.value) push({ op: "reduce_leaks", fraction: A.number(f.reduce_leaks.value) }, "reduce_leaks");
     if (f.order.value.trim()) push({ op: "sequence", order: f.order.value.trim().split(/[\s,]+/) }, "order");
     if (f.add_tag.value) {
       // Each point of the speed curve is two numbers, "flow:power"; one that is not is refused here,
@@ -60,7 +60,7 @@
       const curve = stored ? JSON.parse(f.add_curve.dataset.stored)
         : typed.map((p) => { const [q, kw] = p.split(":").map(Number); return [toStored("free_air_flow", q), kw]; });
       push({ op: "add", compressor: { tag: f.add_tag.value, kind: "lubricated_screw", control: f.add_control.value, cooling: "air",
-        rated_power_kw: Number(f.add_power.value), rated_flow_m3_min: A.entry.stored(E, f.add_flow), rated_pressure_bar_g: A.entry.stored(E, f.add_pressure), power_curve: curve } }, "add_tag");
+        rated_power_kw: A.number(f.add_power.value), rated_flow_m3_min: A.entry.stored(E, f.add_flow), rated_pressure_bar_g: A.entry.stored(E, f.add_pressure), power_curve: curve } }, "add_tag");
     }
     // An empty name is the baseline's when nothing changes (the box only suggests it, so typing
     // a name never runs into a prefilled one).
@@ -70,7 +70,7 @@
     try {
       await A.json("/api/v1/audits/" + data.audit_id + "/scenarios" + (edit ? "/" + edit.id : ""), {
         method: edit ? "PUT" : "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(Object.assign({ name: name, changes: changes },
-          f.implementation_cost.value ? { implementation_cost: Number(f.implementation_cost.value) } : {})),
+          f.implementation_cost.value ? { implementation_cost: A.number(f.implementation_cost.value) } : {})),
       });
       window.location.assign("/audits/" + data.audit_id + "/scenarios");
     } catch (err) {

@@ -34,7 +34,7 @@
     for (const el of form.elements) {
       if (!el.name || el.value === "") continue;
       body[el.name] = el.hasAttribute("data-entry") ? A.entry.stored(data.entry, el)
-        : el.type === "number" ? Number(el.value)
+        : el.inputMode === "decimal" ? A.number(el.value)
         : el.type === "datetime-local" ? A.isoLocal(wallToMs(el.value), tz) : el.value;
     }
     return body;
@@ -84,7 +84,7 @@
   orifice.addEventListener("submit", async (e) => {
     e.preventDefault();
     const body = { audit_id: data.audit_id };
-    for (const el of orifice.elements) if (el.name && el.value !== "") body[el.name] = el.hasAttribute("data-entry") ? A.entry.stored(data.entry, el) : Number(el.value);
+    for (const el of orifice.elements) if (el.name && el.value !== "") body[el.name] = el.hasAttribute("data-entry") ? A.entry.stored(data.entry, el) : A.number(el.value);
     const out = document.getElementById("orifice-result");
     try {
       const r = await A.json("/api/v1/calc/orifice-leak", {
@@ -108,7 +108,7 @@
   compression.addEventListener("submit", async (e) => {
     e.preventDefault();
     const body = { audit_id: data.audit_id };
-    for (const el of compression.elements) if (el.name && el.value !== "") body[el.name] = el.hasAttribute("data-entry") ? A.entry.stored(data.entry, el) : Number(el.value);
+    for (const el of compression.elements) if (el.name && el.value !== "") body[el.name] = el.hasAttribute("data-entry") ? A.entry.stored(data.entry, el) : A.number(el.value);
     // A typed inlet pressure is the suction's; the discharge's gauge stays on the site's atmosphere.
     if (body.inlet_pressure_kpa_abs !== undefined) body.atmospheric_pressure_kpa_abs = data.atmosphere_pa / 1000;
     const out = document.getElementById("compression-result");

@@ -170,7 +170,9 @@ fn values_in_forms_and_limits_read_at_their_units_resolution() {
     assert_eq!(r.status, 200, "{}", r.text);
     let page = s.get(&format!("/audits/{id}")).text;
     assert!(
-        page.contains("name=\"inlet_temperature_c\" type=\"number\" step=\"any\" value=\"23.9\""),
+        page.contains(
+            "name=\"inlet_temperature_c\" type=\"text\" inputmode=\"decimal\" step=\"any\" value=\"23.9\""
+        ),
         "not 23.9"
     );
     assert!(!page.contains("23.8888"), "a raw conversion in the form");
@@ -188,7 +190,9 @@ fn values_in_forms_and_limits_read_at_their_units_resolution() {
     let psig: f64 = 6.5e5 / 6_894.757_293_168;
     let min = (psig * 10.0).ceil() / 10.0;
     assert!(
-        page.contains(&format!("name=\"target_bar_g\" type=\"number\" step=\"any\" min=\"{min}\"")),
+        page.contains(&format!(
+            "name=\"target_bar_g\" type=\"text\" inputmode=\"decimal\" step=\"any\" min=\"{min}\""
+        )),
         "min {min}"
     );
 

@@ -126,7 +126,7 @@ fn an_unloaded_fraction_left_blank_stays_a_default_through_the_edit_page() {
     let page = s.get(&format!("/audits/{id}/compressors/{cid}/edit")).text;
     // The lubricated screw's 0.25 (core::datasheet's table) is the placeholder, not a value.
     assert!(
-        page.contains("name=\"unloaded_power_fraction\" type=\"number\" step=\"any\" value=\"\" placeholder=\"0.25 (typical for the kind)\""),
+        page.contains("name=\"unloaded_power_fraction\" type=\"text\" inputmode=\"decimal\" step=\"any\" value=\"\" placeholder=\"0.25 (typical for the kind)\""),
         "{page}"
     );
     // Saved as shown with another kind, the fraction follows the new kind: oil-free screw 0.20.
@@ -150,7 +150,9 @@ fn an_unloaded_fraction_left_blank_stays_a_default_through_the_edit_page() {
     assert_eq!(s.post_form(&format!("/audits/{id}/compressors/{cid}"), &typed).status, 303);
     let page = s.get(&format!("/audits/{id}/compressors/{cid}/edit")).text;
     assert!(
-        page.contains("name=\"unloaded_power_fraction\" type=\"number\" step=\"any\" value=\"0.3\""),
+        page.contains(
+            "name=\"unloaded_power_fraction\" type=\"text\" inputmode=\"decimal\" step=\"any\" value=\"0.3\""
+        ),
         "{page}"
     );
 }

@@ -29,11 +29,26 @@ use crate::web::AppState;
 pub(super) fn opt_num(form: &HashMap<String, String>, key: &str) -> Result<Option<f64>, FieldError> {
     match form.get(key).map(|s| s.trim()) {
         None | Some("") => Ok(None),
-        Some(s) => s
-            .replace(',', ".")
-            .parse::<f64>()
-            .map(Some)
-            .map_err(|_| FieldError::new(key, format!("{key} must be a number, got {s:?}"))),
+        Some(s) => {
+            s.replace(',', ".").parse::<f64>().map(Some).map_err(|_| {
+                FieldError::new(key, format!("{} must be a number, got “{s}”", number_words(key)))
+            })
+        }
+    }
+}
+
+/// A numeric field of the site and compressor forms in words, as its label says it (a refusal is
+/// read beside the box, never with the form's field name).
+fn number_words(key: &str) -> &str {
+    match key {
+        "electricity_price_per_kwh" => "the electricity price",
+        "demand_charge_per_kw_month" => "the demand charge",
+        "heater_efficiency" => "the heater's efficiency",
+        "heating_fuel_price_per_kwh" => "the heating fuel's price",
+        "annual_space_heat_kwh" => "the space heat a year",
+        "operating_hours_per_year" => "the operating hours a year",
+        "operating_weeks_per_year" => "the operating weeks a year",
+        other => crate::core::datasheet::field_words(other),
     }
 }
 
