@@ -219,17 +219,7 @@ fn plant_figures_by_hand() {
         drains: vec![Drain { kind: DrainKind::ZeroLoss, ..timer(3.0, 5.0, 300.0, None) }],
         filters: vec![],
         end_uses: vec![
-            EndUse {
-                name: "tools".into(),
-                kind: EndUseKind::Tool,
-                count: 8,
-                flow_m3_min: Some(1.0),
-                orifice_mm: None,
-                pressure_bar_g: None,
-                duty: 0.5,
-                regulated: true,
-                alternative_kw: None,
-            },
+            tools(),
             EndUse {
                 name: "blow-off".into(),
                 kind: EndUseKind::OpenBlowing,
@@ -396,17 +386,7 @@ fn without_a_mean_flow_only_what_needs_it_is_left_out() {
         dryers: vec![dryer.clone(), Dryer { tag: "D2".into(), control: DryerControl::DewPoint, ..dryer }],
         drains: vec![timer(3.0, 5.0, 300.0, None)],
         filters: vec![filter(0.10, 0.45)],
-        end_uses: vec![EndUse {
-            name: "tools".into(),
-            kind: EndUseKind::Tool,
-            count: 8,
-            flow_m3_min: Some(1.0),
-            orifice_mm: None,
-            pressure_bar_g: None,
-            duty: 0.5,
-            regulated: true,
-            alternative_kw: None,
-        }],
+        end_uses: vec![tools()],
     };
     let known = PlantFigures {
         mean_flow_m3_min: Some(8.0),
@@ -438,4 +418,19 @@ fn without_a_mean_flow_only_what_needs_it_is_left_out() {
     assert_eq!(t.drains, with.drains);
     assert_eq!(t.end_uses, with.end_uses);
     assert_eq!(with.dryers.len(), 2);
+}
+
+/// Eight regulated tools of 1 m³/min each at a 50 % duty.
+fn tools() -> EndUse {
+    EndUse {
+        name: "tools".into(),
+        kind: EndUseKind::Tool,
+        count: 8,
+        flow_m3_min: Some(1.0),
+        orifice_mm: None,
+        pressure_bar_g: None,
+        duty: 0.5,
+        regulated: true,
+        alternative_kw: None,
+    }
 }
