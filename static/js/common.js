@@ -30,7 +30,7 @@ window.airledger = {
       if (el.dataset.shown !== undefined && el.value === el.dataset.shown) return Number(el.dataset.stored);
       // A text that is no number goes as typed, for the server to refuse in words.
       const v = window.airledger.number(el.value);
-      if (typeof v === "string") return v;
+      if (v === null || typeof v === "string") return v;
       return u ? v * u.factor + u.offset : v;
     },
     // A value in the reader's unit `u` as a field shows it (core::entry::Entry::shown): at the
@@ -146,11 +146,13 @@ window.airledger = {
   palette: ["#0f4c5c", "#f2a541", "#5b8e7d", "#b3261e", "#7a5195", "#2f6690", "#8a6d3b"],
   // A number as typed in a form's text box (inputmode decimal): a decimal point or a decimal comma
   // ("6,5" is 6.5, never the 65 a browser's number box makes of it in an English locale); any other
-  // text is given back as typed, for the server to refuse beside its field.
+  // text is given back as typed, for the server to refuse beside its field; an empty box is null
+  // (the server says "nothing", never the 0 that Number("") is).
   number(text) {
-    const t = String(text).trim();
+    const t = String(text === null || text === undefined ? "" : text).trim();
+    if (t === "") return null;
     const n = Number(t.replace(",", "."));
-    return t !== "" && Number.isFinite(n) && (t.match(/[.,]/g) || []).length <= 1 ? n : t;
+    return Number.isFinite(n) && (t.match(/[.,]/g) || []).length <= 1 ? n : t;
   },
   // An API error's field in words for a person; none for a column's own fields (the column is named).
   fieldWords(field) {

@@ -336,3 +336,27 @@ fn a_decimal_comma_is_read_and_a_letter_refused_never_another_number() {
     assert!(page.contains("the electricity price must be a number, got “0.l5”"), "{page}");
     assert!(!page.contains("electricity_price_per_kwh"), "{page}");
 }
+
+/// Issue 16's second walk: a blank free air delivery for a compressor added in a what-if was
+/// refused as "got 0 cfm" (an empty box read as the number 0). It is now said as nothing typed.
+#[test]
+#[cfg_attr(
+    not(any(has_browser, ci)),
+    ignore = "needs Debian's chromium and chromium-driver: apt-get install chromium chromium-driver poppler-utils"
+)]
+fn a_blank_box_is_refused_as_nothing_typed_never_as_zero() {
+    let s = Server::demo();
+    let b = Browser::start();
+    b.goto(&s.url("/audits/1/scenarios"));
+    b.js(
+        "const f = document.getElementById('scenario-form');
+         f.elements.name.value = 'one more'; f.elements.add_tag.value = 'C9';
+         f.elements.add_control.value = 'load_unload'; f.elements.add_power.value = '55';
+         f.elements.add_flow.value = ''; f.requestSubmit();",
+        json!([]),
+    );
+    let status = || b.js_str("return document.getElementById('scenario-status').textContent");
+    assert!(wait_until(Duration::from_secs(20), || status().starts_with("Not replayed")), "{}", status());
+    assert!(status().contains("got nothing"), "{}", status());
+    assert!(!status().contains("got 0"), "{}", status());
+}
