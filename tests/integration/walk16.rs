@@ -117,6 +117,13 @@ fn a_variable_speed_trim_reads_alike_in_the_table_and_the_chart_and_is_not_idlin
         notes.contains(&format!("test {id}: Isothermal assumption")) && notes.contains(&advised),
         "{notes}"
     );
+    // Said in full once in the findings, in the notes: its source of error is one line.
+    let short = format!(
+        "field test {id} (bleed-down test): too short to be near isothermal; its flow is corrected for the air&#39;s \
+         cooling, and the field test&#39;s own notes say by how much and which longer fall to time"
+    );
+    assert!(findings.contains(&short), "the one-line source of error");
+    assert_eq!(findings.matches(&advised).count(), 1, "the advice said once");
     // The cautions stay where the test is planned.
     assert!(page.contains("Isolate and lock out the compressors"), "the pressure-test cautions");
 }

@@ -359,7 +359,7 @@ pub fn report_view(b: &AuditBundle, fmt: &Fmt, sm: Option<&Summary>, facts: &Rea
             })
             .collect(),
         assumptions: assumptions(sm, fmt),
-        warnings: in_parts(&sm.warnings, &sm.warning_parts, fmt),
+        warnings: warnings(sm, fmt),
         // No annual figure is given on such data: no rule of extrapolation is said either.
         baseline_rule: if sm.sufficiency.verdict == Verdict::Insufficient {
             "none, the logged data are not enough (the verdict above)".into()
@@ -427,6 +427,26 @@ fn assumptions(sm: &Summary, fmt: &Fmt) -> Vec<String> {
         .zip(&sm.assumptions)
         .filter(|(_, si)| shown || !si.starts_with(crate::core::analysis::PART_LOAD_ASSUMPTION))
         .map(|(line, _)| line)
+        .collect()
+}
+
+/// The summary's warnings in the reader's units, a fast bleed-down's said in one line: its whole
+/// paragraph (the air's cooling, the correction, the longer fall to time) stands once, in the
+/// field test's own result on the tests page and in the findings' field-test notes, not again in
+/// the report's verdict and the findings' sources of error.
+fn warnings(sm: &Summary, fmt: &Fmt) -> Vec<String> {
+    const FAST: &str = "): test too short to be near isothermal";
+    in_parts(&sm.warnings, &sm.warning_parts, fmt)
+        .into_iter()
+        .zip(&sm.warnings)
+        .map(|(line, si)| match si.find(FAST) {
+            Some(at) if si.starts_with("field test ") => format!(
+                "{}): too short to be near isothermal; its flow is corrected for the air's cooling, and \
+                 the field test's own notes say by how much and which longer fall to time",
+                &si[..at]
+            ),
+            _ => line,
+        })
         .collect()
 }
 
